@@ -1,0 +1,28 @@
+import { sql } from "drizzle-orm";
+import { check, integer, pgTable, text, timestamp } from "drizzle-orm/pg-core";
+
+/** The practice's own details and policies; a single row (id = 1). */
+export const practiceSettings = pgTable(
+  "practice_settings",
+  {
+    id: integer().primaryKey().default(1),
+    name: text().notNull(),
+    addressLine1: text().notNull().default(""),
+    addressLine2: text().notNull().default(""),
+    city: text().notNull().default(""),
+    postcode: text().notNull().default(""),
+    phone: text().notNull().default(""),
+    email: text().notNull().default(""),
+    timeZone: text().notNull().default("Europe/London"),
+    /** ISO 4217 code; amounts are stored in its minor unit. */
+    currency: text().notNull().default("GBP"),
+    /** Validity of a spectacle prescription, months; local law governs. */
+    spectacleRxValidityMonths: integer().notNull().default(24),
+    contactLensRxValidityMonths: integer().notNull().default(12),
+    updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [
+    check("practice_settings_single_row", sql`${t.id} = 1`),
+    check("practice_settings_rx_validity", sql`${t.spectacleRxValidityMonths} between 1 and 120 and ${t.contactLensRxValidityMonths} between 1 and 120`),
+  ],
+);

@@ -1,0 +1,22 @@
+#!/usr/bin/env bash
+# npm start: everything from a fresh machine to the app on http://127.0.0.1:3000.
+set -euo pipefail
+source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
+cd "$ROOT"
+
+ensure_deps
+bash app/ops/db.sh start
+"$BIN/tsx" app/ops/migrate.ts
+"$BIN/tsx" seeds/seed.ts
+
+export SMTP_PORT="${SMTP_PORT:-2525}" MAILBOX_API_PORT="${MAILBOX_API_PORT:-2526}"
+export MAILBOX_API_URL="http://127.0.0.1:$MAILBOX_API_PORT"
+start_bg mail "$SMTP_PORT" env MAILBOX_DIR="$ROOT/.data/mail" "$BIN/tsx" app/standins/mail-server.ts
+
+log "building"
+"$BIN/react-router" build >"$RUN_DIR/build.log" 2>&1 || { cat "$RUN_DIR/build.log"; exit 1; }
+
+export NODE_ENV=production DIOPTRA_DEMO="${DIOPTRA_DEMO:-1}" HOST=127.0.0.1 PORT="${PORT:-3000}"
+export APP_URL="${APP_URL:-http://127.0.0.1:$PORT}"
+log "Dioptra on $APP_URL  (demo sign-ins in README.md; mailbox at $APP_URL/dev/mailbox; Ctrl-C stops the app, npm run stop stops the services)"
+exec "$BIN/react-router-serve" build/server/index.js

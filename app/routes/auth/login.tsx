@@ -1,0 +1,82 @@
+import { getFormProps, getInputProps, useForm } from "@conform-to/react";
+import { parseWithZod } from "@conform-to/zod/v4";
+import { data, Form, Link, redirect, useNavigation } from "react-router";
+import type { Route } from "./+types/login";
+import { Field } from "~/components/forms";
+import { Button } from "~/components/ui/button";
+import { Notice } from "~/components/ui/notice";
+import { signInSchema } from "~/utils/auth-schemas";
+import { authenticator, homeFor, SignInError } from "~/utils/auth.server";
+import { createUserSession, getSessionUser } from "~/utils/session.server";
+
+/** Only a same-site path may be a redirect target. */
+function safeRedirect(to: unknown, fallback: string) {
+  return typeof to === "string" && to.startsWith("/") && !to.startsWith("//") && !to.startsWith("/\\") ? to : fallback;
+}
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const user = await getSessionUser(request);
+  if (user) throw redirect(homeFor(user.role));
+  return null;
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  const submission = parseWithZod(await request.clone().formData(), { schema: signInSchema });
+  if (submission.status !== "success") {
+    return data(submission.reply({ hideFields: ["password"] }), { status: 400 });
+  }
+  try {
+    const user = await authenticator.authenticate("form", request);
+    return await createUserSession(request, user.id, safeRedirect(submission.value.redirectTo, homeFor(user.role)));
+  } catch (error) {
+    if (error instanceof SignInError) {
+      return data(submission.reply({ formErrors: [error.message], hideFields: ["password"] }), { status: error.status });
+    }
+    throw error;
+  }
+}
+
+export default function Login({ actionData }: Route.ComponentProps) {
+  const navigation = useNavigation();
+  const redirectTo = typeof window === "undefined" ? undefined : (new URLSearchParams(window.location.search).get("redirectTo") ?? undefined);
+  const [form, fields] = useForm({
+    id: "sign-in",
+    lastResult: actionData,
+    onValidate: ({ formData }) => parseWithZod(formData, { schema: signInSchema }),
+    shouldValidate: "onBlur",
+    shouldRevalidate: "onInput",
+  });
+  return (
+    <main id="main" className="flex min-h-screen items-center justify-center px-4 py-12">
+      <div className="w-full max-w-md">
+        <p className="mb-6 flex items-center justify-center gap-2 text-2xl font-bold text-accent-800">
+          <img src="/favicon.svg" alt="" className="size-8" /> Dioptra
+        </p>
+        <div className="rounded-lg border border-line bg-white p-8 shadow-sm">
+          <h1 className="text-2xl">Sign in</h1>
+          <p className="mt-1 text-sm text-muted">For the practice team and patients with an account.</p>
+          <Form method="post" {...getFormProps(form)} className="mt-6 space-y-4">
+            {form.errors?.length ? (
+              <Notice tone="error" title="Could not sign you in" id={form.errorId}>
+                {form.errors.join(" ")}
+              </Notice>
+            ) : null}
+            <input type="hidden" name="redirectTo" value={redirectTo ?? ""} />
+            <Field label="E-mail" errors={fields.email.errors} inputProps={{ ...getInputProps(fields.email, { type: "email" }), autoComplete: "username", autoFocus: true }} />
+            <Field label="Password" errors={fields.password.errors} inputProps={{ ...getInputProps(fields.password, { type: "password" }), autoComplete: "current-password" }} />
+            <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
+              Sign in
+            </Button>
+          </Form>
+          <p className="mt-6 text-sm">
+            <Link to="/forgot-password" className="font-semibold text-accent-700 underline underline-offset-4">
+              Forgotten your password?
+            </Link>
+          </p>
+        </div>
+      </div>
+    </main>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Sign in · Dioptra" }];

@@ -1,0 +1,96 @@
+import { getFormProps, getInputProps, useForm } from "@conform-to/react";
+import { parseWithZod } from "@conform-to/zod/v4";
+import { eq } from "drizzle-orm";
+import { data, Form, Link, useNavigation } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/reset-password";
+import { Field } from "~/components/forms";
+import { Button } from "~/components/ui/button";
+import { Notice } from "~/components/ui/notice";
+import { sessions, users } from "~/db/schema";
+import { audit } from "~/utils/audit.server";
+import { hashPassword } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+import { redirectWithToast } from "~/utils/toast.server";
+import { consumeUserToken, peekUserToken } from "~/utils/tokens.server";
+
+export const passwordSchema = z
+  .string({ error: "Choose a password." })
+  .min(10, "Use at least 10 characters.")
+  .max(200, "Use at most 200 characters.");
+
+const schema = z
+  .object({ token: z.string().min(1), password: passwordSchema, confirm: z.string({ error: "Type the password again." }) })
+  .refine((v) => v.password === v.confirm, { message: "The two passwords differ.", path: ["confirm"] });
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const token = new URL(request.url).searchParams.get("token") ?? "";
+  const live = await peekUserToken(token);
+  return { token, valid: Boolean(live), purpose: live?.purpose ?? null, email: live?.email ?? null };
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  const submission = parseWithZod(await request.formData(), { schema });
+  if (submission.status !== "success") {
+    return data(submission.reply({ hideFields: ["password", "confirm"] }), { status: 400 });
+  }
+  const passwordHash = await hashPassword(submission.value.password);
+  const done = await db.transaction(async (tx) => {
+    const token = await consumeUserToken(submission.value.token, tx);
+    if (!token) return null;
+    await tx.update(users).set({ passwordHash, updatedAt: new Date() }).where(eq(users.id, token.userId));
+    // A new password ends every existing session of the account.
+    await tx.delete(sessions).where(eq(sessions.userId, token.userId));
+    await audit({ action: token.purpose === "invite" ? "auth.invite_accepted" : "auth.password_reset", actorUserId: token.userId, request }, tx);
+    return token;
+  });
+  if (!done) {
+    return data(submission.reply({ formErrors: ["This link has expired or has already been used. Ask for a new one."], hideFields: ["password", "confirm"] }), { status: 400 });
+  }
+  return redirectWithToast("/login", { kind: "success", title: "Password saved", description: "Sign in with your new password." });
+}
+
+export default function ResetPassword({ loaderData, actionData }: Route.ComponentProps) {
+  const navigation = useNavigation();
+  const [form, fields] = useForm({
+    id: "reset-password",
+    lastResult: actionData,
+    onValidate: ({ formData }) => parseWithZod(formData, { schema }),
+    shouldValidate: "onBlur",
+  });
+  const title = loaderData.purpose === "invite" ? "Set your password" : "Choose a new password";
+  return (
+    <main id="main" className="flex min-h-screen items-center justify-center px-4 py-12">
+      <div className="w-full max-w-md rounded-lg border border-line bg-white p-8 shadow-sm">
+        <h1 className="text-2xl">{loaderData.valid ? title : "This link no longer works"}</h1>
+        {loaderData.valid ? (
+          <Form method="post" {...getFormProps(form)} className="mt-6 space-y-4">
+            <p className="text-sm text-muted">For {loaderData.email}</p>
+            {form.errors?.length ? (
+              <Notice tone="error" title="Password not saved" id={form.errorId}>
+                {form.errors.join(" ")}
+              </Notice>
+            ) : null}
+            <input type="hidden" name="token" value={loaderData.token} />
+            <Field label="New password" hint="At least 10 characters." errors={fields.password.errors} inputProps={{ ...getInputProps(fields.password, { type: "password" }), autoComplete: "new-password" }} />
+            <Field label="Type it again" errors={fields.confirm.errors} inputProps={{ ...getInputProps(fields.confirm, { type: "password" }), autoComplete: "new-password" }} />
+            <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
+              Save password
+            </Button>
+          </Form>
+        ) : (
+          <div className="mt-4 space-y-4">
+            <Notice tone="error" title="Expired or already used">
+              Reset and invitation links work once and for a limited time. Ask for a new one.
+            </Notice>
+            <Link to="/forgot-password" className="font-semibold text-accent-700 underline underline-offset-4">
+              Send me a new reset link
+            </Link>
+          </div>
+        )}
+      </div>
+    </main>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Choose a password · Dioptra" }];

@@ -1,0 +1,117 @@
+import { getFormProps, getInputProps, useForm } from "@conform-to/react";
+import { parseWithZod } from "@conform-to/zod/v4";
+import { eq } from "drizzle-orm";
+import { data, Form, useNavigation } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/practice";
+import { Field } from "~/components/forms";
+import { PageHeader } from "~/components/page-header";
+import { Button } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Notice } from "~/components/ui/notice";
+import { practiceSettings } from "~/db/schema";
+import { audit } from "~/utils/audit.server";
+import { requireRole } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+import { redirectWithToast } from "~/utils/toast.server";
+
+const timeZoneSchema = z.string().refine((tz) => {
+  try {
+    new Intl.DateTimeFormat("en-GB", { timeZone: tz });
+    return true;
+  } catch {
+    return false;
+  }
+}, "Use an IANA time zone such as Europe/London or America/Chicago.");
+
+export const practiceSchema = z.object({
+  name: z.string({ error: "Give the practice's name." }).trim().min(2, "Give the practice's name.").max(120),
+  addressLine1: z.string().trim().max(200).default(""),
+  addressLine2: z.string().trim().max(200).default(""),
+  city: z.string().trim().max(100).default(""),
+  postcode: z.string().trim().max(20).default(""),
+  phone: z.string().trim().max(40).default(""),
+  email: z.union([z.literal(""), z.email({ error: "Enter a valid e-mail address." })]).default(""),
+  timeZone: timeZoneSchema,
+  currency: z
+    .string()
+    .trim()
+    .toUpperCase()
+    .regex(/^[A-Z]{3}$/, "Use a three-letter ISO 4217 code such as GBP, EUR or USD."),
+  spectacleRxValidityMonths: z.coerce.number({ error: "Give a number of months." }).int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months."),
+  contactLensRxValidityMonths: z.coerce.number({ error: "Give a number of months." }).int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months."),
+});
+
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireRole(request, ["owner"]);
+  const [settings] = await db.select().from(practiceSettings).where(eq(practiceSettings.id, 1));
+  if (!settings) throw data({ error: "Practice settings are missing; run the seed." }, { status: 500 });
+  const { updatedAt: _u, id: _id, ...values } = settings;
+  return {
+    values: { ...values, spectacleRxValidityMonths: String(values.spectacleRxValidityMonths), contactLensRxValidityMonths: String(values.contactLensRxValidityMonths) },
+  };
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  const user = await requireRole(request, ["owner"]);
+  const submission = parseWithZod(await request.formData(), { schema: practiceSchema });
+  if (submission.status !== "success") return data(submission.reply(), { status: 400 });
+  await db.transaction(async (tx) => {
+    await tx.update(practiceSettings).set({ ...submission.value, updatedAt: new Date() }).where(eq(practiceSettings.id, 1));
+    await audit({ action: "practice.settings_changed", actorUserId: user.id, detail: submission.value, request }, tx);
+  });
+  return redirectWithToast("/settings", { kind: "success", title: "Practice details saved" });
+}
+
+export default function PracticeSettings({ loaderData, actionData }: Route.ComponentProps) {
+  const navigation = useNavigation();
+  const [form, fields] = useForm({
+    id: "practice",
+    lastResult: actionData,
+    defaultValue: loaderData.values,
+    onValidate: ({ formData }) => parseWithZod(formData, { schema: practiceSchema }),
+    shouldValidate: "onBlur",
+  });
+  return (
+    <>
+      <PageHeader title="Practice details" description="Shown on prescriptions, letters and invoices." />
+      <Form method="post" {...getFormProps(form)} className="space-y-6">
+        {form.errors?.length ? <Notice tone="error" title="Not saved">{form.errors.join(" ")}</Notice> : null}
+        <Card title="Letterhead">
+          <div className="grid gap-4 sm:grid-cols-2">
+            <Field label="Practice name" errors={fields.name.errors} inputProps={getInputProps(fields.name, { type: "text" })} />
+            <Field label="Phone" errors={fields.phone.errors} inputProps={getInputProps(fields.phone, { type: "tel" })} />
+            <Field label="Address" errors={fields.addressLine1.errors} inputProps={getInputProps(fields.addressLine1, { type: "text" })} />
+            <Field label="Address (second line)" errors={fields.addressLine2.errors} inputProps={getInputProps(fields.addressLine2, { type: "text" })} />
+            <Field label="Town or city" errors={fields.city.errors} inputProps={getInputProps(fields.city, { type: "text" })} />
+            <Field label="Postcode" errors={fields.postcode.errors} inputProps={getInputProps(fields.postcode, { type: "text" })} />
+            <Field label="Practice e-mail" errors={fields.email.errors} inputProps={getInputProps(fields.email, { type: "email" })} />
+          </div>
+        </Card>
+        <Card title="Policies">
+          <div className="grid gap-4 sm:grid-cols-2">
+            <Field label="Time zone" hint="IANA name, e.g. Europe/London." errors={fields.timeZone.errors} inputProps={getInputProps(fields.timeZone, { type: "text" })} />
+            <Field label="Currency" hint="ISO 4217 code." errors={fields.currency.errors} inputProps={getInputProps(fields.currency, { type: "text" })} />
+            <Field
+              label="Spectacle prescription valid for (months)"
+              hint="Local law and licensed practice govern this period."
+              errors={fields.spectacleRxValidityMonths.errors}
+              inputProps={getInputProps(fields.spectacleRxValidityMonths, { type: "number" })}
+            />
+            <Field
+              label="Contact-lens prescription valid for (months)"
+              hint="Local law and licensed practice govern this period."
+              errors={fields.contactLensRxValidityMonths.errors}
+              inputProps={getInputProps(fields.contactLensRxValidityMonths, { type: "number" })}
+            />
+          </div>
+        </Card>
+        <Button type="submit" pending={navigation.state === "submitting"}>
+          Save practice details
+        </Button>
+      </Form>
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Practice details · Dioptra" }];

@@ -1,0 +1,50 @@
+import { z } from "zod";
+import { databaseUrl } from "./db-url";
+
+const schema = z.object({
+  NODE_ENV: z.enum(["development", "production", "test"]).default("development"),
+  DATABASE_URL: z.string().url(),
+  /** Comma-separated; the first signs new cookies, all verify (rotation). */
+  SESSION_SECRET: z.string().min(16),
+  /** Public base URL used in e-mailed links. */
+  APP_URL: z.string().url().default("http://127.0.0.1:3000"),
+  SMTP_HOST: z.string().default("127.0.0.1"),
+  SMTP_PORT: z.coerce.number().int().positive().default(2525),
+  SMTP_USER: z.string().optional(),
+  SMTP_PASSWORD: z.string().optional(),
+  MAIL_FROM: z.string().default("Dioptra <no-reply@dioptra-demo.test>"),
+  /** Demo mode: the mailbox page and demo helpers. Never set in production. */
+  DIOPTRA_DEMO: z
+    .enum(["0", "1"])
+    .default("0")
+    .transform((v) => v === "1"),
+  /** HTTP API of the local mail stand-in, read by /dev/mailbox in demo mode. */
+  MAILBOX_API_URL: z.string().url().default("http://127.0.0.1:2526"),
+  /** Failed sign-ins allowed per e-mail address within the window before it is throttled. */
+  SIGN_IN_MAX_FAILURES: z.coerce.number().int().positive().default(5),
+  SIGN_IN_WINDOW_MINUTES: z.coerce.number().int().positive().default(15),
+});
+
+export type Env = z.infer<typeof schema>;
+
+function load(): Env {
+  const parsed = schema.safeParse({
+    ...process.env,
+    DATABASE_URL: databaseUrl(),
+    SESSION_SECRET:
+      process.env.SESSION_SECRET ??
+      (process.env.NODE_ENV === "production" && process.env.DIOPTRA_DEMO !== "1" ? undefined : "dioptra-local-development-secret"),
+  });
+  if (!parsed.success) {
+    const problems = parsed.error.issues.map((i) => `${i.path.join(".")}: ${i.message}`).join("; ");
+    throw new Error(`Invalid environment: ${problems}`);
+  }
+  return parsed.data;
+}
+
+export const env = load();
+
+/** The only values that reach the browser. */
+export function publicEnv() {
+  return { demo: env.DIOPTRA_DEMO };
+}

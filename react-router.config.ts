@@ -1,0 +1,9 @@
+import type { Config } from "@react-router/dev/config";
+
+export default {
+  appDirectory: "app",
+  ssr: true,
+  future: {
+    v8_middleware: true,
+  },
+} satisfies Config;
