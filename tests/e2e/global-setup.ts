@@ -1,0 +1,42 @@
+import { existsSync } from "node:fs";
+import { join } from "node:path";
+import type { TestProject } from "vitest/node";
+import { E2E } from "../support/ports";
+import { freshDatabase, ROOT, startMailStandIn, startProcess, stopProcess, waitForPort } from "../support/services";
+
+/**
+ * Browser tests run against the production build served by react-router-serve, with a fresh
+ * seeded database and the real mail stand-in, all on test ports.
+ */
+export default async function setup(project: TestProject) {
+  if (!existsSync(join(ROOT, "build/server/index.js"))) throw new Error("No build found: run `npm test` (it builds first) or `npm run build`.");
+  const databaseUrl = await freshDatabase(E2E.db);
+  const mail = await startMailStandIn(E2E.smtp, E2E.mailApi);
+  const baseUrl = `http://127.0.0.1:${E2E.app}`;
+  const app = startProcess("app", join(ROOT, "node_modules/.bin/react-router-serve"), ["build/server/index.js"], {
+    NODE_ENV: "production",
+    HOST: "127.0.0.1",
+    PORT: String(E2E.app),
+    APP_URL: baseUrl,
+    DATABASE_URL: databaseUrl,
+    SMTP_PORT: String(E2E.smtp),
+    MAILBOX_API_URL: `http://127.0.0.1:${E2E.mailApi}`,
+    DIOPTRA_DEMO: "1",
+  });
+  await waitForPort(E2E.app, 60_000);
+  project.provide("baseUrl", baseUrl);
+  project.provide("mailApiPort", E2E.mailApi);
+  project.provide("e2eDatabaseUrl", databaseUrl);
+  return async () => {
+    await stopProcess(app);
+    await stopProcess(mail);
+  };
+}
+
+declare module "vitest" {
+  export interface ProvidedContext {
+    baseUrl: string;
+    mailApiPort: number;
+    e2eDatabaseUrl: string;
+  }
+}

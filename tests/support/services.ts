@@ -1,0 +1,90 @@
+/**
+ * Test services: a fresh PostgreSQL database per run (created from the committed migrations),
+ * and the real local stand-ins started as child processes. Used by the global setups.
+ */
+import { spawn, type ChildProcess } from "node:child_process";
+import { mkdirSync, rmSync } from "node:fs";
+import { createConnection } from "node:net";
+import { join } from "node:path";
+import pg from "pg";
+import { runMigrations } from "../../app/ops/migrate";
+import { databaseUrl } from "../../app/utils/db-url";
+import { seed } from "../../seeds/seed";
+
+export const ROOT = new URL("../..", import.meta.url).pathname.replace(/\/$/, "");
+
+/** URL of a database called `name` on the same server as the app's database. */
+export function testDatabaseUrl(name: string) {
+  const url = new URL(databaseUrl());
+  url.pathname = `/${name}`;
+  return url.toString();
+}
+
+/** Drops and re-creates `name`, applies the migrations and seeds the demo practice. */
+export async function freshDatabase(name: string) {
+  const admin = new URL(databaseUrl());
+  admin.pathname = "/postgres";
+  const client = new pg.Client({ connectionString: admin.toString() });
+  await client.connect();
+  try {
+    await client.query(`DROP DATABASE IF EXISTS "${name}" WITH (FORCE)`);
+    await client.query(`CREATE DATABASE "${name}"`);
+  } finally {
+    await client.end();
+  }
+  const url = testDatabaseUrl(name);
+  await runMigrations(url);
+  await seed(url);
+  return url;
+}
+
+export function waitForPort(port: number, timeoutMs = 30_000): Promise<void> {
+  const deadline = Date.now() + timeoutMs;
+  return new Promise((resolve, reject) => {
+    const attempt = () => {
+      const socket = createConnection({ host: "127.0.0.1", port });
+      socket.once("connect", () => {
+        socket.end();
+        resolve();
+      });
+      socket.once("error", () => {
+        socket.destroy();
+        if (Date.now() > deadline) reject(new Error(`nothing listens on 127.0.0.1:${port}`));
+        else setTimeout(attempt, 100);
+      });
+    };
+    attempt();
+  });
+}
+
+export function startProcess(name: string, command: string, args: string[], env: Record<string, string>): ChildProcess {
+  const child = spawn(command, args, { cwd: ROOT, env: { ...process.env, ...env }, stdio: ["ignore", "pipe", "pipe"] });
+  const tag = `[${name}] `;
+  child.stdout?.on("data", (d: Buffer) => process.env.TEST_VERBOSE && process.stdout.write(tag + d.toString()));
+  child.stderr?.on("data", (d: Buffer) => process.stderr.write(tag + d.toString()));
+  return child;
+}
+
+export async function stopProcess(child: ChildProcess | undefined) {
+  if (!child || child.exitCode !== null) return;
+  await new Promise<void>((resolve) => {
+    child.once("exit", () => resolve());
+    child.kill("SIGTERM");
+    setTimeout(() => child.kill("SIGKILL"), 3000).unref();
+  });
+}
+
+/** The mail stand-in on its own ports with an empty mailbox folder. */
+export async function startMailStandIn(smtpPort: number, apiPort: number) {
+  const dir = join(ROOT, ".data", `test-mail-${smtpPort}`);
+  rmSync(dir, { recursive: true, force: true });
+  mkdirSync(dir, { recursive: true });
+  const child = startProcess("mail", join(ROOT, "node_modules/.bin/tsx"), ["app/standins/mail-server.ts"], {
+    SMTP_PORT: String(smtpPort),
+    MAILBOX_API_PORT: String(apiPort),
+    MAILBOX_DIR: dir,
+  });
+  await waitForPort(smtpPort);
+  await waitForPort(apiPort);
+  return child;
+}

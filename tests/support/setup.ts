@@ -1,0 +1,11 @@
+import { inject } from "vitest";
+import { UNIT } from "./ports";
+
+// Runs in every test worker before any app module is imported, so env.server.ts and
+// db.server.ts see the test database and the test mail stand-in.
+process.env.DATABASE_URL = inject("databaseUrl");
+process.env.SMTP_PORT = String(UNIT.smtp);
+process.env.MAILBOX_API_URL = `http://127.0.0.1:${UNIT.mailApi}`;
+process.env.APP_URL = "http://127.0.0.1:3000";
+process.env.DIOPTRA_DEMO = "1";
+process.env.DIOPTRA_PG_POOL = "60";
