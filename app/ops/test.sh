@@ -20,25 +20,31 @@ fi
 
 bash app/ops/db.sh start
 
-log "type-checking"
 "$BIN/react-router" typegen >/dev/null
-"$BIN/tsc"
+if [[ -z "${DIOPTRA_SKIP_TYPECHECK:-}" ]]; then
+  log "type-checking"
+  "$BIN/tsc"
+fi
 
 log "building"
-"$BIN/react-router" build >"$RUN_DIR/test-build.log" 2>&1 || { cat "$RUN_DIR/test-build.log"; exit 1; }
+# DIOPTRA_TEST_SLOT=N runs beside other test runs: own ports, databases and build folder.
+if [[ -n "${DIOPTRA_TEST_SLOT:-}" ]]; then export DIOPTRA_BUILD_DIR="${DIOPTRA_BUILD_DIR:-.tmp/build-$DIOPTRA_TEST_SLOT}"; fi
+"$BIN/react-router" build >"$RUN_DIR/test-build${DIOPTRA_TEST_SLOT:-}.log" 2>&1 || { cat "$RUN_DIR/test-build${DIOPTRA_TEST_SLOT:-}.log"; exit 1; }
 
 mkdir -p .tmp
+results=".tmp/test-results${DIOPTRA_TEST_SLOT:+-$DIOPTRA_TEST_SLOT}.json"
+rm -f "$results"
 set +e
-"$BIN/vitest" run --reporter=default --reporter=json --outputFile.json=.tmp/test-results.json "$@"
+"$BIN/vitest" run --reporter=default --reporter=json --outputFile.json="$results" "$@"
 status=$?
 set -e
 
 # One closing line with the real counts, read from Vitest's own JSON report.
-if [[ -f .tmp/test-results.json ]]; then
+if [[ -f "$results" ]]; then
   node -e '
     const r = require(process.argv[1]);
     const skipped = (r.numPendingTests || 0) + (r.numTodoTests || 0);
     console.log(`tests: ${r.numPassedTests} passed, ${r.numFailedTests} failed` + (skipped ? `, ${skipped} skipped` : ""));
-  ' "$ROOT/.tmp/test-results.json"
+  ' "$ROOT/$results"
 fi
 exit $status

@@ -1,7 +1,7 @@
 import { existsSync } from "node:fs";
 import { join } from "node:path";
 import type { TestProject } from "vitest/node";
-import { E2E } from "../support/ports";
+import { BUILD_DIR, E2E } from "../support/ports";
 import { freshDatabase, ROOT, startMailStandIn, startProcess, stopProcess, waitForPort } from "../support/services";
 
 /**
@@ -9,11 +9,11 @@ import { freshDatabase, ROOT, startMailStandIn, startProcess, stopProcess, waitF
  * seeded database and the real mail stand-in, all on test ports.
  */
 export default async function setup(project: TestProject) {
-  if (!existsSync(join(ROOT, "build/server/index.js"))) throw new Error("No build found: run `npm test` (it builds first) or `npm run build`.");
+  if (!existsSync(join(ROOT, BUILD_DIR, "server/index.js"))) throw new Error("No build found: run `npm test` (it builds first) or `npm run build`.");
   const databaseUrl = await freshDatabase(E2E.db);
   const mail = await startMailStandIn(E2E.smtp, E2E.mailApi);
   const baseUrl = `http://127.0.0.1:${E2E.app}`;
-  const app = startProcess("app", join(ROOT, "node_modules/.bin/react-router-serve"), ["build/server/index.js"], {
+  const app = startProcess("app", join(ROOT, "node_modules/.bin/react-router-serve"), [`${BUILD_DIR}/server/index.js`], {
     NODE_ENV: "production",
     HOST: "127.0.0.1",
     PORT: String(E2E.app),
