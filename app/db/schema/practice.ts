@@ -19,10 +19,13 @@ export const practiceSettings = pgTable(
     /** Validity of a spectacle prescription, months; local law governs. */
     spectacleRxValidityMonths: integer().notNull().default(24),
     contactLensRxValidityMonths: integer().notNull().default(12),
+    /** Tax on standard-rated invoice lines, basis points (2000 = 20 %); 0 = no tax. */
+    taxRateBp: integer().notNull().default(0),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [
     check("practice_settings_single_row", sql`${t.id} = 1`),
+    check("practice_settings_tax_rate", sql`${t.taxRateBp} between 0 and 10000`),
     check("practice_settings_rx_validity", sql`${t.spectacleRxValidityMonths} between 1 and 120 and ${t.contactLensRxValidityMonths} between 1 and 120`),
   ],
 );
