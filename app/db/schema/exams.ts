@@ -1,4 +1,5 @@
-import { index, pgEnum, pgTable, timestamp, uuid } from "drizzle-orm/pg-core";
+import { sql } from "drizzle-orm";
+import { boolean, check, doublePrecision, index, integer, jsonb, pgEnum, pgTable, primaryKey, text, time, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
 import { users } from "./auth";
 import { patients } from "./patients";
 import { appointments } from "./schedule";
@@ -25,5 +26,214 @@ export const exams = pgTable(
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
-  (t) => [index("exams_patient_examined_idx").on(t.patientId, t.examinedAt), index("exams_appointment_idx").on(t.appointmentId)],
+  (t) => [
+    index("exams_patient_examined_idx").on(t.patientId, t.examinedAt),
+    index("exams_appointment_idx").on(t.appointmentId),
+    check("exams_signed_consistent", sql`(${t.status} = 'signed') = (${t.signedAt} is not null and ${t.signedById} is not null)`),
+  ],
+);
+
+const examRef = () =>
+  uuid()
+    .notNull()
+    .references(() => exams.id, { onDelete: "cascade" });
+
+export const eyeEnum = pgEnum("eye", ["right", "left"]);
+export const eyeOrBothEnum = pgEnum("eye_or_both", ["right", "left", "both"]);
+
+/** Case history. */
+export const examHistory = pgTable("exam_history", {
+  examId: examRef().primaryKey(),
+  reason: text().notNull().default(""),
+  symptoms: text().notNull().default(""),
+  ocularHistory: text().notNull().default(""),
+  generalHistory: text().notNull().default(""),
+  medications: text().notNull().default(""),
+  familyHistory: text().notNull().default(""),
+  updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+});
+
+export const acuityDistanceEnum = pgEnum("acuity_distance", ["distance", "near"]);
+export const acuityCorrectionEnum = pgEnum("acuity_correction", ["unaided", "habitual", "best"]);
+
+/** Visual acuity: one row per eye (or both) × distance × correction, as typed and as logMAR. */
+export const examAcuity = pgTable(
+  "exam_acuity",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    examId: examRef(),
+    eye: eyeOrBothEnum().notNull(),
+    distance: acuityDistanceEnum().notNull(),
+    correction: acuityCorrectionEnum().notNull(),
+    notation: text().notNull(),
+    logMar: doublePrecision().notNull(),
+  },
+  (t) => [uniqueIndex("exam_acuity_uq").on(t.examId, t.eye, t.distance, t.correction), check("exam_acuity_range", sql`${t.logMar} between -0.5 and 3`)],
+);
+
+export const refractionKindEnum = pgEnum("refraction_kind", ["habitual", "autorefraction", "retinoscopy", "subjective", "cycloplegic", "final"]);
+export const prismBaseEnum = pgEnum("prism_base", ["up", "down", "in", "out"]);
+
+/**
+ * One refraction row: one eye, one kind (habitual spectacles by lensometry, autorefraction,
+ * retinoscopy, subjective, cycloplegic, final). The text as typed is kept beside the parsed values.
+ */
+export const examRefractions = pgTable(
+  "exam_refractions",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    examId: examRef(),
+    kind: refractionKindEnum().notNull(),
+    eye: eyeEnum().notNull(),
+    rawText: text().notNull(),
+    sphere: doublePrecision().notNull(),
+    cylinder: doublePrecision().notNull(),
+    axis: integer().notNull(),
+    addPower: doublePrecision(),
+    prismDioptres: doublePrecision(),
+    prismBase: prismBaseEnum(),
+    vertexMm: doublePrecision(),
+    vaNotation: text(),
+    vaLogMar: doublePrecision(),
+  },
+  (t) => [
+    uniqueIndex("exam_refractions_uq").on(t.examId, t.kind, t.eye),
+    check("exam_refractions_axis", sql`${t.axis} between 1 and 180`),
+    check("exam_refractions_powers", sql`abs(${t.sphere}) <= 30 and abs(${t.cylinder}) <= 30`),
+    check("exam_refractions_add", sql`${t.addPower} is null or ${t.addPower} between 0.25 and 4`),
+    check("exam_refractions_prism", sql`(${t.prismDioptres} is null) = (${t.prismBase} is null) and (${t.prismDioptres} is null or ${t.prismDioptres} between 0.25 and 20)`),
+    check("exam_refractions_vertex", sql`${t.vertexMm} is null or ${t.vertexMm} between 0 and 25`),
+  ],
+);
+
+/** Binocular vision: cover test, near point of convergence, stereo. */
+export const examBinocular = pgTable("exam_binocular", {
+  examId: examRef().primaryKey(),
+  coverTestDistance: text().notNull().default(""),
+  coverTestNear: text().notNull().default(""),
+  npcCm: doublePrecision(),
+  stereoTest: text().notNull().default(""),
+  stereoArcSec: integer(),
+  notes: text().notNull().default(""),
+  updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+});
+
+export const iopMethodEnum = pgEnum("iop_method", ["goldmann", "non_contact", "rebound", "handheld_applanation", "other"]);
+
+/** Intraocular pressure per eye with the method and the time of day. */
+export const examIop = pgTable(
+  "exam_iop",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    examId: examRef(),
+    eye: eyeEnum().notNull(),
+    mmHg: doublePrecision().notNull(),
+    method: iopMethodEnum().notNull(),
+    measuredTime: time().notNull(),
+  },
+  (t) => [uniqueIndex("exam_iop_uq").on(t.examId, t.eye), check("exam_iop_range", sql`${t.mmHg} between 1 and 80`)],
+);
+
+export const colourTestEnum = pgEnum("colour_test", ["plates_38", "plates_24", "plates_other", "arrangement", "other"]);
+export const colourResultEnum = pgEnum("colour_result", ["normal", "red_green", "blue_yellow", "inconclusive"]);
+
+/** Colour vision per eye. */
+export const examColourVision = pgTable(
+  "exam_colour_vision",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    examId: examRef(),
+    eye: eyeEnum().notNull(),
+    test: colourTestEnum().notNull(),
+    platesCorrect: integer(),
+    platesShown: integer(),
+    result: colourResultEnum().notNull(),
+    notes: text().notNull().default(""),
+  },
+  (t) => [
+    uniqueIndex("exam_colour_vision_uq").on(t.examId, t.eye),
+    check("exam_colour_plates", sql`${t.platesCorrect} is null or (${t.platesShown} is not null and ${t.platesCorrect} between 0 and ${t.platesShown})`),
+  ],
+);
+
+export const fieldMethodEnum = pgEnum("field_method", ["confrontation", "amsler", "automated"]);
+export const reliabilityEnum = pgEnum("reliability", ["good", "fair", "poor"]);
+
+/** Visual field and blind spot per eye (degrees from fixation; x positive temporally). */
+export const examVisualFields = pgTable(
+  "exam_visual_fields",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    examId: examRef(),
+    eye: eyeEnum().notNull(),
+    method: fieldMethodEnum().notNull(),
+    blindSpotXDeg: doublePrecision(),
+    blindSpotYDeg: doublePrecision(),
+    blindSpotWidthDeg: doublePrecision(),
+    blindSpotHeightDeg: doublePrecision(),
+    defectPresent: boolean().notNull().default(false),
+    defects: text().notNull().default(""),
+    reliability: reliabilityEnum(),
+  },
+  (t) => [
+    uniqueIndex("exam_visual_fields_uq").on(t.examId, t.eye),
+    check(
+      "exam_visual_fields_blind_spot",
+      sql`(${t.blindSpotXDeg} is null and ${t.blindSpotYDeg} is null and ${t.blindSpotWidthDeg} is null and ${t.blindSpotHeightDeg} is null) or (${t.blindSpotXDeg} is not null and ${t.blindSpotYDeg} is not null and ${t.blindSpotWidthDeg} > 0 and ${t.blindSpotHeightDeg} > 0)`,
+    ),
+  ],
+);
+
+export const segmentEnum = pgEnum("segment", ["anterior", "posterior"]);
+
+/** Anterior or posterior segment findings per eye: ticked structures with findings plus free text. */
+export const examSegments = pgTable(
+  "exam_segments",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    examId: examRef(),
+    eye: eyeEnum().notNull(),
+    segment: segmentEnum().notNull(),
+    /** Keys of the structures marked normal, from the list in app/lib/exam/sections.ts. */
+    normal: jsonb().$type<string[]>().notNull().default([]),
+    notes: text().notNull().default(""),
+  },
+  (t) => [uniqueIndex("exam_segments_uq").on(t.examId, t.eye, t.segment)],
+);
+
+/** Assessment and plan. */
+export const examAssessment = pgTable("exam_assessment", {
+  examId: examRef().primaryKey(),
+  assessment: text().notNull().default(""),
+  plan: text().notNull().default(""),
+  recallMonths: integer(),
+  updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+});
+
+/** Diagnoses, ICD-10 coded. */
+export const examDiagnoses = pgTable(
+  "exam_diagnoses",
+  {
+    examId: examRef(),
+    code: text().notNull(),
+    label: text().notNull(),
+    eye: eyeOrBothEnum().notNull().default("both"),
+  },
+  (t) => [primaryKey({ columns: [t.examId, t.code, t.eye] }), check("exam_diagnoses_code", sql`${t.code} ~ '^[A-Z][0-9]{2}(\\.[0-9A-Z]{1,4})?$'`)],
+);
+
+/** Corrections to a signed exam: never edited, each with its author and time. */
+export const examAddenda = pgTable(
+  "exam_addenda",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    examId: examRef(),
+    authorId: uuid()
+      .notNull()
+      .references(() => users.id, { onDelete: "restrict" }),
+    section: text().notNull(),
+    body: text().notNull(),
+    createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [index("exam_addenda_exam_idx").on(t.examId, t.createdAt), check("exam_addenda_body", sql`length(${t.body}) > 0`)],
 );

@@ -1,3 +1,4 @@
+import { sql, type SQL } from "drizzle-orm";
 import { boolean, date, index, pgEnum, pgTable, text, timestamp, uuid } from "drizzle-orm/pg-core";
 
 export const sexEnum = pgEnum("sex", ["female", "male", "other", "unknown"]);
@@ -19,8 +20,26 @@ export const patients = pgTable(
     allergies: text().notNull().default(""),
     medications: text().notNull().default(""),
     remindersByEmail: boolean().notNull().default(true),
+    /**
+     * Lower-cased name, e-mail and the phone's digits in one string, kept by the database, so
+     * one trigram index answers "any part of the name, phone or e-mail" searches.
+     */
+    searchText: text()
+      .notNull()
+      .generatedAlwaysAs(
+        (): SQL =>
+          sql`lower(${patients.firstName} || ' ' || ${patients.lastName} || ' ' || coalesce(${patients.email}, '') || ' ' || regexp_replace(coalesce(${patients.phone}, ''), '[^0-9]', '', 'g'))`,
+      ),
+    /** When the latest exam took place; kept by the exam actions for the table's sort and the recall filter. */
+    lastExamAt: timestamp({ withTimezone: true }),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
-  (t) => [index("patients_name_dob_idx").on(t.lastName, t.firstName, t.dateOfBirth)],
+  (t) => [
+    index("patients_name_dob_idx").on(t.lastName, t.firstName, t.dateOfBirth),
+    index("patients_search_trgm_idx").using("gin", sql`${t.searchText} gin_trgm_ops`),
+    index("patients_dob_idx").on(t.dateOfBirth),
+    index("patients_last_exam_idx").on(t.lastExamAt, t.id),
+    index("patients_created_idx").on(t.createdAt, t.id),
+  ],
 );

@@ -1,0 +1,73 @@
+import { sql } from "drizzle-orm";
+import { check, date, doublePrecision, index, integer, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import { users } from "./auth";
+import { eyeEnum, exams, prismBaseEnum } from "./exams";
+import { patients } from "./patients";
+
+export const prescriptionKindEnum = pgEnum("prescription_kind", ["spectacle", "contact_lens"]);
+
+/**
+ * A prescription issued (and so signed) by its prescriber from a signed exam's final refraction.
+ * Never edited: a new one is issued instead.
+ */
+export const prescriptions = pgTable(
+  "prescriptions",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    patientId: uuid()
+      .notNull()
+      .references(() => patients.id, { onDelete: "restrict" }),
+    examId: uuid()
+      .notNull()
+      .references(() => exams.id, { onDelete: "restrict" }),
+    kind: prescriptionKindEnum().notNull(),
+    issuedById: uuid()
+      .notNull()
+      .references(() => users.id, { onDelete: "restrict" }),
+    issuedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+    expiresOn: date({ mode: "string" }).notNull(),
+    /** Prescriber's name and licence number as they were at issue. */
+    prescriberName: text().notNull(),
+    prescriberLicence: text().notNull(),
+    notes: text().notNull().default(""),
+    /** Contact lenses: the lens the powers are for. */
+    lensName: text(),
+  },
+  (t) => [index("prescriptions_patient_idx").on(t.patientId, t.issuedAt), index("prescriptions_exam_idx").on(t.examId)],
+);
+
+/**
+ * One eye of a prescription. For contact lenses the spectacle-plane refraction and the exact
+ * corneal-plane power are kept beside the rounded powers that are ordered.
+ */
+export const prescriptionEyes = pgTable(
+  "prescription_eyes",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    prescriptionId: uuid()
+      .notNull()
+      .references(() => prescriptions.id, { onDelete: "cascade" }),
+    eye: eyeEnum().notNull(),
+    sphere: doublePrecision().notNull(),
+    cylinder: doublePrecision().notNull(),
+    axis: integer().notNull(),
+    addPower: doublePrecision(),
+    prismDioptres: doublePrecision(),
+    prismBase: prismBaseEnum(),
+    vertexMm: doublePrecision(),
+    /** Contact lenses: the vertex-converted power before rounding. */
+    exactSphere: doublePrecision(),
+    exactCylinder: doublePrecision(),
+    exactAxis: integer(),
+    /** Contact lenses: the spectacle refraction it came from. */
+    spectacleSphere: doublePrecision(),
+    spectacleCylinder: doublePrecision(),
+    spectacleAxis: integer(),
+    baseCurveMm: doublePrecision(),
+    diameterMm: doublePrecision(),
+  },
+  (t) => [
+    uniqueIndex("prescription_eyes_uq").on(t.prescriptionId, t.eye),
+    check("prescription_eyes_axis", sql`${t.axis} between 1 and 180`),
+  ],
+);
