@@ -16,7 +16,7 @@ export default [
   layout("routes/layout.tsx", [
     index("routes/home.tsx"),
     route("account", "routes/auth/account.tsx"),
-    // route("tools/rx", "routes/tools/rx.tsx"),
+    route("tools/rx", "routes/tools/rx.tsx"),
     ...prefix("settings", [
       layout("routes/settings/layout.tsx", [
         index("routes/settings/practice.tsx"),

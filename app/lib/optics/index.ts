@@ -1,0 +1,93 @@
+/**
+ * Dioptra refraction and visual-function engine — the one public entry.
+ *
+ * Plain TypeScript with no framework, database or Node dependency; it runs
+ * unchanged on the server and in the browser. Units: dioptres (D), degrees,
+ * millimetres, prism dioptres (Δ).
+ */
+export { RxError, type CylinderForm, type SphCyl } from "./core";
+export {
+  MAX_PARSED_POWER_D,
+  formatRx,
+  intermediateRx,
+  meridianPower,
+  nearRx,
+  parseRx,
+  roundRx,
+  sphericalEquivalent,
+  toCylinderForm,
+  transpose,
+} from "./rx";
+export {
+  MEANINGFUL_CHANGE_D,
+  MEANINGFUL_CHANGE_RULE,
+  blurStrength,
+  combine,
+  compareRx,
+  fromPowerVector,
+  isMeaningfulChange,
+  toPowerVector,
+  type PowerVector,
+  type RxComparison,
+} from "./power-vector";
+export { vertexConvert } from "./vertex";
+export {
+  decentrationPrism,
+  inducedPrism,
+  prenticePrism,
+  verticalImbalance,
+  type DecentrationPrism,
+  type Eye,
+  type InducedPrism,
+  type PrismBase,
+  type VerticalImbalance,
+} from "./prism";
+export {
+  AcuityError,
+  LOGMAR_PER_LETTER,
+  LOGMAR_RANGE,
+  LOW_VISION_LOGMAR,
+  fromLogMAR,
+  toLogMAR,
+  type LowVisionCategory,
+} from "./acuity";
+export {
+  checkDispensing,
+  checkDispensingReport,
+  type DispensingCheck,
+  type DispensingElement,
+  type DispensingFailure,
+  type DispensingReport,
+  type LensRx,
+  type LensType,
+} from "./dispensing";
+export {
+  BLIND_SPOT_TOLERANCE,
+  FAST_MYOPIA_PROGRESSION_D_PER_YEAR,
+  NORMAL_BLIND_SPOT,
+  PLATE_CRITERIA,
+  checkBlindSpot,
+  myopiaProgression,
+  screenColourVision,
+  type BlindSpotMeasurement,
+  type BlindSpotResult,
+  type ColourVisionInput,
+  type ColourVisionResult,
+  type DatedRx,
+  type MyopiaProgression,
+  type PlateCriterion,
+  type PlateTest,
+} from "./vision";
+export {
+  ACUITY_DROP_LOGMAR,
+  ACUITY_REDUCED_LOGMAR,
+  IOP_ASYMMETRY_MMHG,
+  IOP_UPPER_NORMAL_MMHG,
+  PROMPT_NOTE,
+  referralPrompts,
+  type EyeSide,
+  type PerEye,
+  type ReferralCode,
+  type ReferralFindings,
+  type ReferralPrompt,
+} from "./referral";

@@ -1,0 +1,146 @@
+import { describe, expect, it } from "vitest";
+import {
+  FAST_MYOPIA_PROGRESSION_D_PER_YEAR,
+  NORMAL_BLIND_SPOT,
+  RxError,
+  checkBlindSpot,
+  myopiaProgression,
+  screenColourVision,
+  type SphCyl,
+} from "./index";
+
+const rx = (sphere: number, cylinder = 0, axis = 180): SphCyl => ({ sphere, cylinder, axis });
+
+describe("checkBlindSpot", () => {
+  // Typical blind spot: ~15° temporal, ~1.5° below, ~5.5° × 7.5° (textbook values; from memory / encyclopaedia summary).
+  it("a typical blind spot is within normal", () => {
+    const r = checkBlindSpot({ ...NORMAL_BLIND_SPOT });
+    expect(r.status).toBe("within normal");
+    expect(r.rule).toMatch(/Enlarged if wider than 7\.5° or taller than 9\.5°/);
+    expect(r.source).toMatch(/15° temporal/);
+  });
+
+  it("small variations are within normal", () => {
+    expect(checkBlindSpot({ centreXDeg: 13, centreYDeg: -3, widthDeg: 6.5, heightDeg: 8.5 }).status).toBe("within normal");
+  });
+
+  it("reports enlargement", () => {
+    const r = checkBlindSpot({ centreXDeg: 15, centreYDeg: -1.5, widthDeg: 9, heightDeg: 7.5 });
+    expect(r.status).toBe("enlarged");
+    expect(r.reasons).toEqual(["width 9° exceeds 7.5°"]);
+  });
+
+  it("reports displacement", () => {
+    const r = checkBlindSpot({ centreXDeg: 20, centreYDeg: 3, widthDeg: 5.5, heightDeg: 7.5 });
+    expect(r.status).toBe("displaced");
+    expect(r.reasons).toEqual([
+      "centre 5° further temporal than 15° temporal",
+      "centre 4.5° higher than 1.5° below the horizontal",
+    ]);
+  });
+
+  it("enlarged takes precedence but both reasons are listed", () => {
+    const r = checkBlindSpot({ centreXDeg: 10, centreYDeg: -1.5, widthDeg: 5.5, heightDeg: 12 });
+    expect(r.status).toBe("enlarged");
+    expect(r.reasons).toHaveLength(2);
+  });
+
+  it("accepts custom margins", () => {
+    expect(checkBlindSpot({ centreXDeg: 15, centreYDeg: -1.5, widthDeg: 7, heightDeg: 7.5 }, { sizeDeg: 1 }).status).toBe("enlarged");
+  });
+
+  it("rejects impossible measurements", () => {
+    expect(() => checkBlindSpot({ centreXDeg: 15, centreYDeg: -1.5, widthDeg: 0, heightDeg: 7 })).toThrow(/must be positive/);
+    expect(() => checkBlindSpot({ centreXDeg: Number.NaN, centreYDeg: 0, widthDeg: 5, heightDeg: 7 })).toThrow(RxError);
+  });
+});
+
+describe("screenColourVision — Ishihara 38-plate edition", () => {
+  // Manual criterion (from memory): of plates 1–15, 13+ read normally = normal, 9 or fewer = red-green deficiency.
+  it.each([
+    [15, 15, "normal"],
+    [13, 15, "normal"],
+    [12, 15, "inconclusive"],
+    [10, 15, "inconclusive"],
+    [9, 15, "deficiency suspected"],
+    [0, 15, "deficiency suspected"],
+    [13, 13, "normal"], // already 13 read normally
+    [4, 10, "deficiency suspected"], // even if the 5 unseen were read, at most 9
+    [5, 10, "inconclusive"], // the 5 unseen plates could change the result
+  ] as const)("%s of %s shown → %s", (platesCorrect, platesShown, result) => {
+    const r = screenColourVision({ test: "ishihara-38", platesCorrect, platesShown });
+    expect(r.result).toBe(result);
+    expect(r.source).toMatch(/Ishihara S\. Tests for Colour-Deficiency, 38 plates edition/);
+  });
+
+  it("needs a criterion for editions without a built-in one", () => {
+    const r = screenColourVision({ test: "ishihara-24", platesCorrect: 20, platesShown: 24 });
+    expect(r.result).toBe("inconclusive");
+    expect(r.reasons[0]).toMatch(/No pass criterion is built in for "ishihara-24"/);
+    const withCriterion = screenColourVision({
+      test: "ishihara-24",
+      platesCorrect: 11,
+      platesShown: 11,
+      criterion: { platesAssessed: 11, normalMin: 10, deficientMax: 7, source: "edition manual" },
+    });
+    expect(withCriterion.result).toBe("normal");
+    expect(withCriterion.source).toBe("edition manual");
+  });
+
+  it("does not mistake object keys for test names", () => {
+    expect(screenColourVision({ test: "toString", platesCorrect: 1, platesShown: 1 }).result).toBe("inconclusive");
+  });
+
+  it("rejects inconsistent counts", () => {
+    expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 16, platesShown: 15 })).toThrow(/cannot exceed/);
+    expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 10, platesShown: 20 })).toThrow(/exceeds the 15 plates/);
+    expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 1.5, platesShown: 15 })).toThrow(/whole number/);
+    expect(() =>
+      screenColourVision({
+        test: "x",
+        platesCorrect: 1,
+        platesShown: 2,
+        criterion: { platesAssessed: 5, normalMin: 3, deficientMax: 4, source: "" },
+      }),
+    ).toThrow(/deficientMax < normalMin/);
+  });
+});
+
+describe("myopiaProgression", () => {
+  it("annualises the spherical-equivalent change and flags ≥ 0.50 D/year (common practice)", () => {
+    const r = myopiaProgression(
+      { date: "2023-01-01", rx: rx(-2, -0.5, 180) },
+      { date: "2024-01-01", rx: rx(-2.75, -0.5, 180) },
+    );
+    expect(r.changeD).toBe(-0.75);
+    expect(r.years).toBeCloseTo(1, 2);
+    expect(r.ratePerYear).toBeCloseTo(-0.75, 2);
+    expect(r.fast).toBe(true);
+    expect(r.thresholdPerYear).toBe(FAST_MYOPIA_PROGRESSION_D_PER_YEAR);
+    expect(r.warnings).toEqual([]);
+  });
+
+  it("does not flag slow progression or hyperopic shifts", () => {
+    const slow = myopiaProgression({ date: "2022-06-01", rx: rx(-1) }, { date: "2024-06-01", rx: rx(-1.5) });
+    expect(slow.ratePerYear).toBeCloseTo(-0.25, 2);
+    expect(slow.fast).toBe(false);
+    expect(myopiaProgression({ date: "2022-06-01", rx: rx(1) }, { date: "2023-06-01", rx: rx(2) }).fast).toBe(false);
+  });
+
+  it("uses the spherical equivalent, so cylinder change counts half", () => {
+    const r = myopiaProgression({ date: "2023-01-01", rx: rx(-2) }, { date: "2025-01-01", rx: rx(-2, -1, 90) });
+    expect(r.changeD).toBe(-0.5);
+  });
+
+  it("warns about short intervals", () => {
+    const r = myopiaProgression({ date: "2024-01-01", rx: rx(-2) }, { date: "2024-03-01", rx: rx(-2.25) });
+    expect(r.warnings[0]).toMatch(/under six months is unreliable/);
+  });
+
+  it("rejects bad dates", () => {
+    expect(() => myopiaProgression({ date: "01/02/2024", rx: rx(-1) }, { date: "2024-06-01", rx: rx(-1) })).toThrow(/ISO 8601/);
+    expect(() => myopiaProgression({ date: "2024-06-01", rx: rx(-1) }, { date: "2024-06-01", rx: rx(-1) })).toThrow(/must be after/);
+    expect(() => myopiaProgression({ date: "2024-02-30", rx: rx(-1) }, { date: "2024-06-01", rx: rx(-1) })).toThrow(/ISO 8601/);
+    expect(() => myopiaProgression({ date: "2024-02-29", rx: rx(-1) }, { date: "2024-06-01T09:30:00Z", rx: rx(-1) })).not.toThrow();
+  });
+});

@@ -1,0 +1,263 @@
+/**
+ * Screening helpers for visual function: blind spot, colour-vision plates and
+ * myopia progression. Each result carries the rule it applied and its source;
+ * all are aids to the optometrist's judgement, never diagnoses.
+ */
+import { assertFinite, clean, RxError, type SphCyl } from "./core";
+import { sphericalEquivalent } from "./rx";
+
+// ---------------------------------------------------------------- blind spot
+
+/**
+ * A mapped blind spot, in degrees from fixation. `centreXDeg` is positive
+ * temporally (the same sign for either eye); `centreYDeg` is positive above
+ * the horizontal meridian.
+ */
+export type BlindSpotMeasurement = { centreXDeg: number; centreYDeg: number; widthDeg: number; heightDeg: number };
+
+/** Result of {@link checkBlindSpot}. */
+export type BlindSpotResult = {
+  status: "within normal" | "enlarged" | "displaced";
+  reasons: string[];
+  rule: string;
+  source: string;
+};
+
+/** Typical physiological blind spot (see BLIND_SPOT_SOURCE). */
+export const NORMAL_BLIND_SPOT = { centreXDeg: 15, centreYDeg: -1.5, widthDeg: 5.5, heightDeg: 7.5 } as const;
+
+/** Default margins (degrees) beyond the typical blind spot before it is reported. */
+export const BLIND_SPOT_TOLERANCE = { centreDeg: 3, sizeDeg: 2 } as const;
+
+const BLIND_SPOT_SOURCE =
+  "Typical blind spot: centre about 15° temporal and 1.5° below the horizontal, about 5.5° wide × 7.5° high, " +
+  "as commonly quoted in textbooks (attributed to Traquair's clinical perimetry — from memory) and summarised in " +
+  "the encyclopaedia article “Blind spot (vision)” (12–15° temporal). Margins are engine defaults (common practice), " +
+  "not a published norm.";
+
+/**
+ * Compares a mapped blind spot with the typical physiological blind spot.
+ * "enlarged" when either dimension exceeds the typical size by more than
+ * `sizeDeg` (default 2°); "displaced" when the centre is more than
+ * `centreDeg` (default 3°) from the typical position horizontally or
+ * vertically. When both apply the status is "enlarged" and both reasons are
+ * listed.
+ */
+export function checkBlindSpot(
+  m: BlindSpotMeasurement,
+  tolerance: { centreDeg?: number; sizeDeg?: number } = {},
+): BlindSpotResult {
+  for (const key of ["centreXDeg", "centreYDeg", "widthDeg", "heightDeg"] as const) {
+    assertFinite(m?.[key], key, "checkBlindSpot");
+  }
+  if (m.widthDeg <= 0 || m.heightDeg <= 0) {
+    throw new RxError(`Blind spot size must be positive (got ${m.widthDeg}° × ${m.heightDeg}°) in checkBlindSpot`);
+  }
+  const centreTol = tolerance.centreDeg ?? BLIND_SPOT_TOLERANCE.centreDeg;
+  const sizeTol = tolerance.sizeDeg ?? BLIND_SPOT_TOLERANCE.sizeDeg;
+  assertFinite(centreTol, "Centre tolerance", "checkBlindSpot");
+  assertFinite(sizeTol, "Size tolerance", "checkBlindSpot");
+  const n = NORMAL_BLIND_SPOT;
+
+  const enlarged: string[] = [];
+  if (m.widthDeg > n.widthDeg + sizeTol) enlarged.push(`width ${m.widthDeg}° exceeds ${n.widthDeg + sizeTol}°`);
+  if (m.heightDeg > n.heightDeg + sizeTol) enlarged.push(`height ${m.heightDeg}° exceeds ${n.heightDeg + sizeTol}°`);
+  const displaced: string[] = [];
+  const dx = clean(m.centreXDeg - n.centreXDeg);
+  const dy = clean(m.centreYDeg - n.centreYDeg);
+  if (Math.abs(dx) > centreTol) {
+    displaced.push(`centre ${Math.abs(dx)}° ${dx > 0 ? "further temporal" : "nearer fixation"} than ${n.centreXDeg}° temporal`);
+  }
+  if (Math.abs(dy) > centreTol) {
+    displaced.push(`centre ${Math.abs(dy)}° ${dy > 0 ? "higher" : "lower"} than ${Math.abs(n.centreYDeg)}° below the horizontal`);
+  }
+
+  const rule =
+    `Enlarged if wider than ${n.widthDeg + sizeTol}° or taller than ${n.heightDeg + sizeTol}°; ` +
+    `displaced if the centre is more than ${centreTol}° from (${n.centreXDeg}° temporal, ${Math.abs(n.centreYDeg)}° below)`;
+  const status = enlarged.length > 0 ? "enlarged" : displaced.length > 0 ? "displaced" : "within normal";
+  const reasons = [...enlarged, ...displaced];
+  if (status === "within normal") reasons.push("size and position within the typical range");
+  return { status, reasons, rule, source: BLIND_SPOT_SOURCE };
+}
+
+// ------------------------------------------------------------- colour vision
+
+/** Plate tests the engine knows by name; any other name needs a supplied criterion. */
+export type PlateTest = "ishihara-38" | "ishihara-24" | "ishihara-14" | (string & {});
+
+/**
+ * A pass criterion from a plate test's manual: of the first `platesAssessed`
+ * plates, `normalMin` or more read normally means normal, `deficientMax` or
+ * fewer means a red-green deficiency is suspected; between is inconclusive.
+ */
+export type PlateCriterion = { platesAssessed: number; normalMin: number; deficientMax: number; source: string };
+
+/** Input to {@link screenColourVision}. */
+export type ColourVisionInput = {
+  test: PlateTest;
+  /** Plates among the assessed ones that were read normally. */
+  platesCorrect: number;
+  /** Plates among the assessed ones that were shown. */
+  platesShown: number;
+  /** Criterion from the test's manual; required for tests without a built-in one. */
+  criterion?: PlateCriterion;
+};
+
+/** Result of {@link screenColourVision}. */
+export type ColourVisionResult = {
+  result: "normal" | "deficiency suspected" | "inconclusive";
+  reasons: string[];
+  rule: string;
+  source: string;
+};
+
+/** Built-in criteria. Only the 38-plate edition is encoded; see ISHIHARA_38. */
+export const PLATE_CRITERIA: Readonly<Record<string, PlateCriterion>> = {
+  "ishihara-38": {
+    platesAssessed: 15,
+    normalMin: 13,
+    deficientMax: 9,
+    source:
+      "Ishihara S. Tests for Colour-Deficiency, 38 plates edition, Kanehara: assessment of plates 1–15; " +
+      "13 or more read normally = normal, 9 or fewer = red-green deficiency (from memory)",
+  },
+};
+
+/**
+ * Scores a pseudo-isochromatic plate screening with the manual's criterion
+ * (built in for the Ishihara 38-plate edition; other editions need
+ * `criterion` from their manual, otherwise the result is inconclusive).
+ * When fewer than all assessed plates were shown, a result is given only if
+ * the unseen plates could not change it.
+ */
+export function screenColourVision(input: ColourVisionInput): ColourVisionResult {
+  if (input === null || typeof input !== "object") throw new RxError("Colour-vision input is required");
+  const { test, platesCorrect, platesShown } = input;
+  const criterion =
+    input.criterion ?? (typeof test === "string" && Object.hasOwn(PLATE_CRITERIA, test) ? PLATE_CRITERIA[test] : undefined);
+  for (const [name, value] of [["platesCorrect", platesCorrect], ["platesShown", platesShown]] as const) {
+    if (!Number.isInteger(value) || value < 0) {
+      throw new RxError(`${name} must be a whole number of plates (got ${String(value)}) in screenColourVision`);
+    }
+  }
+  if (platesCorrect > platesShown) {
+    throw new RxError(`platesCorrect (${platesCorrect}) cannot exceed platesShown (${platesShown})`);
+  }
+  if (!criterion) {
+    return {
+      result: "inconclusive",
+      reasons: [`No pass criterion is built in for "${String(test)}"; supply the one from the test's manual`],
+      rule: "No criterion",
+      source: "—",
+    };
+  }
+  const { platesAssessed, normalMin, deficientMax } = criterion;
+  if (
+    ![platesAssessed, normalMin, deficientMax].every(Number.isInteger) ||
+    !(deficientMax >= 0 && deficientMax < normalMin && normalMin <= platesAssessed)
+  ) {
+    throw new RxError(
+      `Criterion for "${String(test)}" must satisfy 0 ≤ deficientMax < normalMin ≤ platesAssessed (whole numbers)`,
+    );
+  }
+  if (platesShown > platesAssessed) {
+    throw new RxError(
+      `platesShown (${platesShown}) exceeds the ${platesAssessed} plates the ${String(test)} criterion assesses; ` +
+        "count only those plates",
+    );
+  }
+  const rule =
+    `Of plates 1–${platesAssessed}: ${normalMin} or more read normally = normal; ` +
+    `${deficientMax} or fewer = red-green deficiency suspected; otherwise inconclusive`;
+  const unseen = platesAssessed - platesShown;
+  const base = { rule, source: criterion.source };
+  if (platesCorrect >= normalMin) {
+    return { ...base, result: "normal", reasons: [`${platesCorrect} of ${platesAssessed} plates read normally`] };
+  }
+  if (platesCorrect + unseen <= deficientMax) {
+    return {
+      ...base,
+      result: "deficiency suspected",
+      reasons: [`at most ${platesCorrect + unseen} of ${platesAssessed} plates read normally`],
+    };
+  }
+  const reasons =
+    unseen > 0
+      ? [`only ${platesShown} of ${platesAssessed} plates shown; the remaining ${unseen} could change the result`]
+      : [`${platesCorrect} of ${platesAssessed} plates read normally, between the normal and deficient limits`];
+  return { ...base, result: "inconclusive", reasons };
+}
+
+// --------------------------------------------------------- myopia progression
+
+/** A dated refraction for one eye. `date` is an ISO 8601 date or date-time. */
+export type DatedRx = { date: string; rx: SphCyl };
+
+/** Result of {@link myopiaProgression}. */
+export type MyopiaProgression = {
+  /** Change in spherical equivalent, later − earlier, D (negative = more myopic). */
+  changeD: number;
+  years: number;
+  /** Annualised change in spherical equivalent, D/year. */
+  ratePerYear: number;
+  /** True when the myopic shift is at least 0.50 D/year. */
+  fast: boolean;
+  thresholdPerYear: number;
+  warnings: string[];
+  rule: string;
+  source: string;
+};
+
+/** Myopic shift (D/year, as a negative rate) at or beyond which progression is flagged as fast. */
+export const FAST_MYOPIA_PROGRESSION_D_PER_YEAR = -0.5;
+
+const MS_PER_YEAR = 365.2425 * 24 * 60 * 60 * 1000;
+const ISO_DATE = /^\d{4}-\d{2}-\d{2}(?:T\d{2}:\d{2}(?::\d{2}(?:\.\d+)?)?(?:Z|[+-]\d{2}:\d{2})?)?$/;
+
+function parseDate(text: string, which: string): number {
+  const ms = typeof text === "string" && ISO_DATE.test(text) ? Date.parse(text) : Number.NaN;
+  // Date.parse rolls impossible days over ("2024-02-30" → 1 March); reject them instead.
+  const [year, month, day] = typeof text === "string" ? text.slice(0, 10).split("-").map(Number) : [];
+  const calendar = new Date(Date.UTC(year ?? Number.NaN, (month ?? Number.NaN) - 1, day ?? Number.NaN));
+  if (!Number.isFinite(ms) || calendar.getUTCDate() !== day || calendar.getUTCMonth() + 1 !== month) {
+    throw new RxError(`The ${which} date must be an ISO 8601 date such as "2024-03-15" (got "${String(text)}")`);
+  }
+  return ms;
+}
+
+/**
+ * Rate of change of spherical equivalent between two refractions of the same
+ * eye, in D/year, flagged as fast when the myopic shift is 0.50 D/year or
+ * more (a threshold used in myopia-management practice — common practice;
+ * the International Myopia Institute white papers, Invest Ophthalmol Vis Sci
+ * 2019, discuss progression rates — from memory). Intervals under six months
+ * are reported with a warning, because refraction repeatability (±0.25–0.50 D)
+ * dominates short-interval rates.
+ */
+export function myopiaProgression(earlier: DatedRx, later: DatedRx): MyopiaProgression {
+  const t0 = parseDate(earlier?.date, "earlier");
+  const t1 = parseDate(later?.date, "later");
+  if (t1 <= t0) throw new RxError(`The later date (${later.date}) must be after the earlier date (${earlier.date})`);
+  const years = (t1 - t0) / MS_PER_YEAR;
+  const changeD = clean(sphericalEquivalent(later.rx) - sphericalEquivalent(earlier.rx));
+  const ratePerYear = clean(changeD / years);
+  const warnings: string[] = [];
+  if (years < 0.5) {
+    warnings.push(
+      `Interval of ${(years * 12).toFixed(1)} months: an annualised rate over under six months is unreliable`,
+    );
+  }
+  return {
+    changeD,
+    years: clean(years),
+    ratePerYear,
+    fast: ratePerYear <= FAST_MYOPIA_PROGRESSION_D_PER_YEAR + 1e-9,
+    thresholdPerYear: FAST_MYOPIA_PROGRESSION_D_PER_YEAR,
+    warnings,
+    rule: "Fast progression: spherical-equivalent myopic shift of 0.50 D/year or more",
+    source:
+      "Common practice in myopia management; see the International Myopia Institute white papers " +
+      "(Invest Ophthalmol Vis Sci 2019) — threshold from memory",
+  };
+}
