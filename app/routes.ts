@@ -13,14 +13,28 @@ export default [
     route(":messageId/attachments/:index", "routes/dev/mailbox-attachment.ts"),
   ]),
 
+  route("api/webhooks/stripe", "routes/api/webhooks/stripe.ts"),
+  route("pay/:token", "routes/pay/pay.tsx"),
+  route("pay/:token/invoice.pdf", "routes/pay/invoice-pdf.ts"),
+  route("billing/invoices/:invoiceId/invoice.pdf", "routes/billing/invoice-pdf.ts"),
+  route("billing/payments/:paymentId/receipt.pdf", "routes/billing/receipt-pdf.ts"),
+  route("billing/takings.csv", "routes/billing/takings-csv.ts"),
+
   layout("routes/layout.tsx", [
     index("routes/home.tsx"),
+    ...prefix("billing", [
+      index("routes/billing/index.tsx"),
+      route("invoices/new", "routes/billing/invoice-new.tsx"),
+      route("invoices/:invoiceId", "routes/billing/invoice.tsx"),
+      route("takings", "routes/billing/takings.tsx"),
+    ]),
     route("account", "routes/auth/account.tsx"),
     route("tools/rx", "routes/tools/rx.tsx"),
     ...prefix("settings", [
       layout("routes/settings/layout.tsx", [
         index("routes/settings/practice.tsx"),
         route("users", "routes/settings/users.tsx"),
+        route("fees", "routes/settings/fees.tsx"),
       ]),
     ]),
     ...prefix("portal", [index("routes/portal/home.tsx")]),

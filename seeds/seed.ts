@@ -4,6 +4,7 @@ import { drizzle } from "drizzle-orm/node-postgres";
 import pg from "pg";
 import * as schema from "../app/db/schema";
 import { databaseUrl } from "../app/utils/db-url";
+import { seedBilling } from "./billing";
 import { DEMO_PASSWORD, DEMO_PATIENT, DEMO_PRACTICE, DEMO_USERS } from "./demo-practice";
 
 const { patients, practiceSettings, users } = schema;
@@ -15,6 +16,7 @@ export async function seed(url = databaseUrl()) {
   try {
     await db.transaction(async (tx) => {
       await tx.insert(practiceSettings).values({ id: 1, ...DEMO_PRACTICE }).onConflictDoNothing();
+      await seedBilling(tx);
 
       let [patient] = await tx
         .select({ id: patients.id })

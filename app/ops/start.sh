@@ -12,6 +12,11 @@ bash app/ops/db.sh start
 export SMTP_PORT="${SMTP_PORT:-2525}" MAILBOX_API_PORT="${MAILBOX_API_PORT:-2526}"
 export MAILBOX_API_URL="http://127.0.0.1:$MAILBOX_API_PORT"
 start_bg mail "$SMTP_PORT" env MAILBOX_DIR="$ROOT/.data/mail" "$BIN/tsx" app/standins/mail-server.ts
+# The local Stripe stand-in, unless real Stripe keys are configured (STRIPE_SECRET_KEY set).
+if [[ -z "${STRIPE_SECRET_KEY:-}" ]]; then
+  export STRIPE_API_HOST=127.0.0.1 STRIPE_API_PORT="${STRIPE_API_PORT:-12111}" STRIPE_API_PROTOCOL=http
+  start_bg stripe "$STRIPE_API_PORT" env STRIPE_STANDIN_PORT="$STRIPE_API_PORT" APP_URL="${APP_URL:-http://127.0.0.1:${PORT:-3000}}" "$BIN/tsx" app/standins/stripe-server.ts
+fi
 
 log "building"
 "$BIN/react-router" build >"$RUN_DIR/build.log" 2>&1 || { cat "$RUN_DIR/build.log"; exit 1; }

@@ -23,6 +23,13 @@ const schema = z.object({
   /** Failed sign-ins allowed per e-mail address within the window before it is throttled. */
   SIGN_IN_MAX_FAILURES: z.coerce.number().int().positive().default(5),
   SIGN_IN_WINDOW_MINUTES: z.coerce.number().int().positive().default(15),
+  /** Stripe: secret key and webhook signing secret. Locally both are the stand-in's test values. */
+  STRIPE_SECRET_KEY: z.string().min(8).default("sk_test_dioptra_local_standin"),
+  STRIPE_WEBHOOK_SECRET: z.string().min(8).default("whsec_dioptra_local_standin"),
+  /** Where the Stripe SDK sends its calls; all three unset in production (real Stripe). */
+  STRIPE_API_HOST: z.string().optional(),
+  STRIPE_API_PORT: z.coerce.number().int().positive().optional(),
+  STRIPE_API_PROTOCOL: z.enum(["http", "https"]).optional(),
 });
 
 export type Env = z.infer<typeof schema>;

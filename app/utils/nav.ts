@@ -6,6 +6,7 @@ export type NavItem = { to: string; label: string; roles: readonly Role[] };
 export const NAV: readonly NavItem[] = [
   { to: "/", label: "Today", roles: ["owner", "optometrist", "receptionist"] },
   { to: "/tools/rx", label: "Rx calculator", roles: ["owner", "optometrist", "receptionist"] },
+  { to: "/billing", label: "Billing", roles: ["owner", "receptionist"] },
   { to: "/settings", label: "Practice settings", roles: ["owner"] },
   { to: "/portal", label: "My visits", roles: ["patient"] },
 ];

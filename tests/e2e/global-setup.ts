@@ -2,7 +2,7 @@ import { existsSync } from "node:fs";
 import { join } from "node:path";
 import type { TestProject } from "vitest/node";
 import { BUILD_DIR, E2E } from "../support/ports";
-import { freshDatabase, ROOT, startMailStandIn, startProcess, stopProcess, waitForPort } from "../support/services";
+import { freshDatabase, ROOT, startMailStandIn, startProcess, startStripeStandIn, stopProcess, waitForPort } from "../support/services";
 
 /**
  * Browser tests run against the production build served by react-router-serve, with a fresh
@@ -13,6 +13,7 @@ export default async function setup(project: TestProject) {
   const databaseUrl = await freshDatabase(E2E.db);
   const mail = await startMailStandIn(E2E.smtp, E2E.mailApi);
   const baseUrl = `http://127.0.0.1:${E2E.app}`;
+  const stripe = await startStripeStandIn(E2E.stripe, `${baseUrl}/api/webhooks/stripe`);
   const app = startProcess("app", join(ROOT, "node_modules/.bin/react-router-serve"), [`${BUILD_DIR}/server/index.js`], {
     NODE_ENV: "production",
     HOST: "127.0.0.1",
@@ -22,14 +23,19 @@ export default async function setup(project: TestProject) {
     SMTP_PORT: String(E2E.smtp),
     MAILBOX_API_URL: `http://127.0.0.1:${E2E.mailApi}`,
     DIOPTRA_DEMO: "1",
+    STRIPE_API_HOST: "127.0.0.1",
+    STRIPE_API_PORT: String(E2E.stripe),
+    STRIPE_API_PROTOCOL: "http",
   });
   await waitForPort(E2E.app, 60_000);
   project.provide("baseUrl", baseUrl);
   project.provide("mailApiPort", E2E.mailApi);
   project.provide("e2eDatabaseUrl", databaseUrl);
+  project.provide("stripePort", E2E.stripe);
   return async () => {
     await stopProcess(app);
     await stopProcess(mail);
+    await stopProcess(stripe);
   };
 }
 
@@ -38,5 +44,6 @@ declare module "vitest" {
     baseUrl: string;
     mailApiPort: number;
     e2eDatabaseUrl: string;
+    stripePort: number;
   }
 }

@@ -74,6 +74,21 @@ export async function stopProcess(child: ChildProcess | undefined) {
   });
 }
 
+/**
+ * The Stripe stand-in on its own port. `webhookUrl` "" keeps events without sending them (the
+ * integration tests read them from /_standin/events and post them to the webhook action).
+ */
+export async function startStripeStandIn(port: number, webhookUrl: string) {
+  const child = startProcess("stripe", join(ROOT, "node_modules/.bin/tsx"), ["app/standins/stripe-server.ts"], {
+    STRIPE_STANDIN_PORT: String(port),
+    STRIPE_WEBHOOK_URL: webhookUrl,
+    STRIPE_SECRET_KEY: "sk_test_dioptra_local_standin",
+    STRIPE_WEBHOOK_SECRET: "whsec_dioptra_local_standin",
+  });
+  await waitForPort(port);
+  return child;
+}
+
 /** The mail stand-in on its own ports with an empty mailbox folder. */
 export async function startMailStandIn(smtpPort: number, apiPort: number) {
   const dir = join(ROOT, ".data", `test-mail-${smtpPort}`);

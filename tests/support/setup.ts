@@ -9,3 +9,6 @@ process.env.MAILBOX_API_URL = `http://127.0.0.1:${UNIT.mailApi}`;
 process.env.APP_URL = "http://127.0.0.1:3000";
 process.env.DIOPTRA_DEMO = "1";
 process.env.DIOPTRA_PG_POOL = "60";
+process.env.STRIPE_API_HOST = "127.0.0.1";
+process.env.STRIPE_API_PORT = String(UNIT.stripe);
+process.env.STRIPE_API_PROTOCOL = "http";

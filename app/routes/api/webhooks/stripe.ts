@@ -1,0 +1,27 @@
+import type { Route } from "./+types/stripe";
+import { processStripeEvent } from "~/routes/billing/checkout.server";
+import { emailReceiptQuietly } from "~/routes/billing/documents.server";
+import { verifyWebhook } from "~/utils/payments.server";
+
+/**
+ * Stripe's webhooks. No session: the signature (Stripe-Signature, checked against
+ * STRIPE_WEBHOOK_SECRET over the raw body) is the guard. A bad signature answers 400 and changes
+ * nothing; a verified event is applied at most once (see processStripeEvent).
+ */
+export async function action({ request }: Route.ActionArgs) {
+  if (request.method !== "POST") return Response.json({ error: "Use POST." }, { status: 405 });
+  const payload = await request.text();
+  let event;
+  try {
+    event = verifyWebhook(payload, request.headers.get("stripe-signature"));
+  } catch (error) {
+    return Response.json({ error: `Webhook refused: ${(error as Error).message}` }, { status: 400 });
+  }
+  const result = await processStripeEvent(event);
+  if (result.receiptPaymentId) await emailReceiptQuietly(result.receiptPaymentId);
+  return Response.json({ received: true, id: event.id, outcome: result.outcome });
+}
+
+export async function loader() {
+  return Response.json({ error: "Stripe webhooks are POSTed here." }, { status: 405 });
+}

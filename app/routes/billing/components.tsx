@@ -1,0 +1,52 @@
+import { NavLink } from "react-router";
+import { StatusBadge } from "~/components/ui/notice";
+
+const STATUS: Record<string, { tone: "info" | "success" | "warning" | "error"; word: string }> = {
+  draft: { tone: "info", word: "Draft" },
+  open: { tone: "warning", word: "Open" },
+  partially_paid: { tone: "warning", word: "Part paid" },
+  paid: { tone: "success", word: "Paid" },
+  void: { tone: "error", word: "Void" },
+};
+
+export function InvoiceStatusBadge({ status }: { status: string }) {
+  const s = STATUS[status] ?? { tone: "info" as const, word: status };
+  return <StatusBadge tone={s.tone}>{s.word}</StatusBadge>;
+}
+
+const PAYMENT: Record<string, { tone: "info" | "success" | "warning" | "error"; word: string }> = {
+  pending: { tone: "info", word: "Waiting for Stripe" },
+  succeeded: { tone: "success", word: "Received" },
+  failed: { tone: "error", word: "Not completed" },
+  flagged: { tone: "error", word: "Flagged — not accepted" },
+};
+
+export function PaymentStatusBadge({ status }: { status: string }) {
+  const s = PAYMENT[status] ?? { tone: "info" as const, word: status };
+  return <StatusBadge tone={s.tone}>{s.word}</StatusBadge>;
+}
+
+export function BillingNav() {
+  const tabs = [
+    { to: "/billing", label: "Invoices", end: true },
+    { to: "/billing/invoices/new", label: "New invoice", end: true },
+    { to: "/billing/takings", label: "Takings", end: false },
+  ];
+  return (
+    <nav aria-label="Billing" className="mb-6">
+      <ul className="flex flex-wrap gap-2 border-b border-line">
+        {tabs.map((t) => (
+          <li key={t.to}>
+            <NavLink
+              to={t.to}
+              end={t.end}
+              className={({ isActive }) => `-mb-px block border-b-2 px-3 py-2 text-sm font-semibold ${isActive ? "border-accent-700 text-accent-800" : "border-transparent text-muted hover:text-ink"}`}
+            >
+              {t.label}
+            </NavLink>
+          </li>
+        ))}
+      </ul>
+    </nav>
+  );
+}

@@ -1,0 +1,200 @@
+import { createColumnHelper, flexRender, getCoreRowModel, useReactTable } from "@tanstack/react-table";
+import { and, count, desc, eq, ilike, or, sql, type SQL } from "drizzle-orm";
+import { Form, Link, useSearchParams } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/index";
+import { BillingNav, InvoiceStatusBadge } from "./components";
+import { PageHeader } from "~/components/page-header";
+import { buttonClass } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Input, Select } from "~/components/ui/input";
+import { invoices, invoiceStatusEnum, patients, practiceSettings } from "~/db/schema";
+import { formatMoney } from "~/lib/money";
+import { requireRole } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+import { BILLING_ROLES, invoiceLabel } from "./invoices.server";
+
+const PAGE_SIZE = 25;
+const filterSchema = z.object({
+  status: z.enum([...invoiceStatusEnum.enumValues, "due", "all"]).catch("all"),
+  q: z.string().trim().max(80).catch(""),
+  page: z.coerce.number().int().min(1).max(100_000).catch(1),
+});
+
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireRole(request, BILLING_ROLES);
+  const url = new URL(request.url);
+  const f = filterSchema.parse(Object.fromEntries(url.searchParams));
+  const where: SQL[] = [];
+  if (f.status === "due") where.push(sql`${invoices.status} in ('open', 'partially_paid')`);
+  else if (f.status !== "all") where.push(eq(invoices.status, f.status));
+  if (f.q) {
+    const n = /^(?:inv-?)?0*(\d{1,9})$/i.exec(f.q);
+    const term = `%${f.q.replace(/[%_\\]/g, "\\$&")}%`;
+    where.push(or(ilike(sql`${patients.firstName} || ' ' || ${patients.lastName}`, term), ...(n ? [eq(invoices.number, Number(n[1]))] : []))!);
+  }
+  const cond = where.length ? and(...where) : undefined;
+  const [rows, [{ total } = { total: 0 }], [settings]] = await Promise.all([
+    db
+      .select({
+        id: invoices.id,
+        number: invoices.number,
+        status: invoices.status,
+        totalMinor: invoices.totalMinor,
+        paidMinor: invoices.paidMinor,
+        currency: invoices.currency,
+        issuedAt: invoices.issuedAt,
+        createdAt: invoices.createdAt,
+        patient: sql<string>`${patients.firstName} || ' ' || ${patients.lastName}`,
+      })
+      .from(invoices)
+      .innerJoin(patients, eq(patients.id, invoices.patientId))
+      .where(cond)
+      .orderBy(desc(invoices.createdAt), desc(invoices.id))
+      .limit(PAGE_SIZE)
+      .offset((f.page - 1) * PAGE_SIZE),
+    db.select({ total: count() }).from(invoices).innerJoin(patients, eq(patients.id, invoices.patientId)).where(cond),
+    db.select({ timeZone: practiceSettings.timeZone }).from(practiceSettings).where(eq(practiceSettings.id, 1)),
+  ]);
+  const tz = settings?.timeZone ?? "Europe/London";
+  const fmt = new Intl.DateTimeFormat("en-GB", { timeZone: tz, day: "numeric", month: "short", year: "numeric" });
+  return {
+    filter: f,
+    total,
+    pageCount: Math.max(1, Math.ceil(total / PAGE_SIZE)),
+    rows: rows.map((r) => ({
+      id: r.id,
+      label: invoiceLabel(r.number),
+      status: r.status,
+      patient: r.patient,
+      date: fmt.format(r.issuedAt ?? r.createdAt),
+      total: formatMoney(r.totalMinor, r.currency),
+      due: formatMoney(r.totalMinor - r.paidMinor, r.currency),
+    })),
+  };
+}
+
+type Row = Awaited<ReturnType<typeof loader>>["rows"][number];
+const col = createColumnHelper<Row>();
+const columns = [
+  col.accessor("label", {
+    header: "Invoice",
+    cell: (c) => (
+      <Link to={`/billing/invoices/${c.row.original.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
+        {c.getValue()}
+      </Link>
+    ),
+  }),
+  col.accessor("patient", { header: "Patient" }),
+  col.accessor("date", { header: "Date" }),
+  col.accessor("status", { header: "Status", cell: (c) => <InvoiceStatusBadge status={c.getValue()} /> }),
+  col.accessor("total", { header: "Total", meta: { right: true } }),
+  col.accessor("due", { header: "Due", meta: { right: true } }),
+];
+
+const STATUS_FILTERS = [
+  ["all", "All"],
+  ["due", "Awaiting payment"],
+  ["draft", "Drafts"],
+  ["open", "Open"],
+  ["partially_paid", "Part paid"],
+  ["paid", "Paid"],
+  ["void", "Void"],
+] as const;
+
+export default function Invoices({ loaderData }: Route.ComponentProps) {
+  const { rows, filter, pageCount, total } = loaderData;
+  const [params] = useSearchParams();
+  const table = useReactTable({ data: rows, columns, getCoreRowModel: getCoreRowModel(), manualPagination: true, pageCount });
+  const pageLink = (page: number) => {
+    const p = new URLSearchParams(params);
+    p.set("page", String(page));
+    return `?${p.toString()}`;
+  };
+  return (
+    <>
+      <PageHeader
+        title="Billing"
+        description="Invoices, payments and takings."
+        actions={
+          <Link to="/billing/invoices/new" className={buttonClass("primary")}>
+            New invoice
+          </Link>
+        }
+      />
+      <BillingNav />
+      <Card>
+        <Form method="get" className="mb-4 flex flex-wrap items-end gap-3" role="search" aria-label="Filter invoices">
+          <div>
+            <label htmlFor="status" className="mb-1 block text-sm font-semibold">
+              Status
+            </label>
+            <Select id="status" name="status" defaultValue={filter.status} className="w-52">
+              {STATUS_FILTERS.map(([v, l]) => (
+                <option key={v} value={v}>
+                  {l}
+                </option>
+              ))}
+            </Select>
+          </div>
+          <div className="min-w-56 flex-1">
+            <label htmlFor="q" className="mb-1 block text-sm font-semibold">
+              Patient or invoice number
+            </label>
+            <Input id="q" name="q" type="search" defaultValue={filter.q} />
+          </div>
+          <button type="submit" className={buttonClass("secondary")}>
+            Show
+          </button>
+        </Form>
+        <div className="overflow-x-auto">
+          <table className="w-full text-left text-sm">
+            <caption className="sr-only">Invoices, newest first</caption>
+            <thead className="border-b border-line text-muted">
+              {table.getHeaderGroups().map((hg) => (
+                <tr key={hg.id}>
+                  {hg.headers.map((h) => (
+                    <th key={h.id} scope="col" className={`py-2 pr-4 font-semibold ${(h.column.columnDef.meta as { right?: boolean } | undefined)?.right ? "text-right" : ""}`}>
+                      {flexRender(h.column.columnDef.header, h.getContext())}
+                    </th>
+                  ))}
+                </tr>
+              ))}
+            </thead>
+            <tbody className="divide-y divide-line">
+              {table.getRowModel().rows.map((r) => (
+                <tr key={r.id}>
+                  {r.getVisibleCells().map((c) => (
+                    <td key={c.id} className={`py-3 pr-4 ${(c.column.columnDef.meta as { right?: boolean } | undefined)?.right ? "text-right tabular-nums" : ""}`}>
+                      {flexRender(c.column.columnDef.cell, c.getContext())}
+                    </td>
+                  ))}
+                </tr>
+              ))}
+            </tbody>
+          </table>
+          {rows.length === 0 ? <p className="py-6 text-center text-muted">No invoices match.</p> : null}
+        </div>
+        <nav aria-label="Pages" className="mt-4 flex items-center justify-between text-sm">
+          <span className="text-muted">
+            {total} invoice{total === 1 ? "" : "s"} · page {filter.page} of {pageCount}
+          </span>
+          <span className="flex gap-2">
+            {filter.page > 1 ? (
+              <Link to={pageLink(filter.page - 1)} className={buttonClass("secondary", "px-3 py-1")}>
+                Previous page
+              </Link>
+            ) : null}
+            {filter.page < pageCount ? (
+              <Link to={pageLink(filter.page + 1)} className={buttonClass("secondary", "px-3 py-1")}>
+                Next page
+              </Link>
+            ) : null}
+          </span>
+        </nav>
+      </Card>
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Billing · Dioptra" }];

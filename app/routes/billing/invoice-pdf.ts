@@ -1,0 +1,19 @@
+import { data } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/invoice-pdf";
+import { billingPdf } from "./documents.server";
+import { BILLING_ROLES, invoiceDetail, invoiceLabel } from "./invoices.server";
+import { audit } from "~/utils/audit.server";
+import { requireRole } from "~/utils/auth.server";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const user = await requireRole(request, BILLING_ROLES);
+  if (!z.uuid().safeParse(params.invoiceId).success) throw data({ error: "There is no such invoice." }, { status: 404 });
+  const d = await invoiceDetail(params.invoiceId);
+  if (!d || d.invoice.status === "draft") throw data({ error: "There is no such invoice (a draft has no PDF until it is issued)." }, { status: 404 });
+  const pdf = await billingPdf(d, "invoice");
+  await audit({ action: "billing.invoice_pdf", actorUserId: user.id, entityType: "invoice", entityId: d.invoice.id, patientId: d.patient.id, request });
+  return new Response(Buffer.from(pdf), {
+    headers: { "content-type": "application/pdf", "content-disposition": `inline; filename="invoice-${invoiceLabel(d.invoice.number)}.pdf"`, "cache-control": "private, no-store" },
+  });
+}

@@ -1,0 +1,23 @@
+import { eq } from "drizzle-orm";
+import { data } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/receipt-pdf";
+import { billingPdf } from "./documents.server";
+import { BILLING_ROLES, invoiceDetail, invoiceLabel } from "./invoices.server";
+import { payments } from "~/db/schema";
+import { audit } from "~/utils/audit.server";
+import { requireRole } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const user = await requireRole(request, BILLING_ROLES);
+  if (!z.uuid().safeParse(params.paymentId).success) throw data({ error: "There is no such payment." }, { status: 404 });
+  const [p] = await db.select({ invoiceId: payments.invoiceId, status: payments.status }).from(payments).where(eq(payments.id, params.paymentId));
+  if (!p || p.status !== "succeeded") throw data({ error: "There is no receipt for this payment." }, { status: 404 });
+  const d = (await invoiceDetail(p.invoiceId))!;
+  const pdf = await billingPdf(d, "receipt", params.paymentId);
+  await audit({ action: "billing.receipt_pdf", actorUserId: user.id, entityType: "payment", entityId: params.paymentId, patientId: d.patient.id, request });
+  return new Response(Buffer.from(pdf), {
+    headers: { "content-type": "application/pdf", "content-disposition": `inline; filename="receipt-${invoiceLabel(d.invoice.number)}.pdf"`, "cache-control": "private, no-store" },
+  });
+}

@@ -1,0 +1,177 @@
+import { Form, Link } from "react-router";
+import type { Route } from "./+types/takings";
+import { BillingNav } from "./components";
+import { METHOD_LABEL } from "./documents.server";
+import { BILLING_ROLES, invoiceLabel, practiceBilling } from "./invoices.server";
+import { parsePeriod, takings, todayIn } from "./takings.server";
+import { PageHeader } from "~/components/page-header";
+import { buttonClass } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Input } from "~/components/ui/input";
+import { Notice, StatusBadge } from "~/components/ui/notice";
+import { formatMoney } from "~/lib/money";
+import { requireRole } from "~/utils/auth.server";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireRole(request, BILLING_ROLES);
+  const practice = await practiceBilling();
+  const url = new URL(request.url);
+  const today = todayIn(practice.timeZone);
+  const period = parsePeriod(url.searchParams, today);
+  const t = await takings(period);
+  const cur = t.currency;
+  const time = new Intl.DateTimeFormat("en-GB", { timeZone: t.timeZone, day: "numeric", month: "short", hour: "2-digit", minute: "2-digit" });
+  const title =
+    period.kind === "day"
+      ? new Intl.DateTimeFormat("en-GB", { timeZone: "UTC", weekday: "long", day: "numeric", month: "long", year: "numeric" }).format(new Date(`${period.day}T12:00:00Z`))
+      : new Intl.DateTimeFormat("en-GB", { timeZone: "UTC", month: "long", year: "numeric" }).format(new Date(`${period.month}-15T12:00:00Z`));
+  return {
+    period,
+    title,
+    today,
+    csvHref: `/billing/takings.csv?${period.kind === "day" ? `day=${period.day}` : `month=${period.month}`}`,
+    byMethod: t.byMethod.map((m) => ({ label: METHOD_LABEL[m.method], count: m.count, received: formatMoney(m.receivedMinor, cur), refunded: formatMoney(m.refundedMinor, cur), net: formatMoney(m.netMinor, cur) })),
+    totals: { received: formatMoney(t.totals.receivedMinor, cur), refunded: formatMoney(t.totals.refundedMinor, cur), net: formatMoney(t.totals.netMinor, cur) },
+    entries: t.entries.map((e) => ({ key: `${e.kind}-${e.id}`, when: time.format(e.at), kind: e.kind, status: e.status, method: METHOD_LABEL[e.method], amount: formatMoney(e.amountMinor, cur), invoiceId: e.invoiceId, invoice: invoiceLabel(e.invoiceNumber), patient: e.patient, note: e.reference })),
+    flagged: t.flagged.length,
+    invoicesTouched: t.invoicesTouched,
+    mismatches: t.mismatches.map((m) => ({ ...m, paid: formatMoney(m.paidMinor, cur), payments: formatMoney(m.paymentsMinor, cur) })),
+  };
+}
+
+export default function Takings({ loaderData: d }: Route.ComponentProps) {
+  return (
+    <>
+      <PageHeader
+        title="Takings"
+        description={d.title}
+        actions={
+          <a href={d.csvHref} className={buttonClass("secondary")} download>
+            Download CSV
+          </a>
+        }
+      />
+      <BillingNav />
+      <Card className="mb-6">
+        <div className="flex flex-wrap items-end gap-6">
+          <Form method="get" className="flex items-end gap-2">
+            <div>
+              <label htmlFor="day" className="mb-1 block text-sm font-semibold">
+                Day
+              </label>
+              <Input id="day" name="day" type="date" defaultValue={d.period.kind === "day" ? d.period.day : d.today} />
+            </div>
+            <button type="submit" className={buttonClass("secondary")}>
+              Show day
+            </button>
+          </Form>
+          <Form method="get" className="flex items-end gap-2">
+            <div>
+              <label htmlFor="month" className="mb-1 block text-sm font-semibold">
+                Month
+              </label>
+              <Input id="month" name="month" type="month" defaultValue={d.period.kind === "month" ? d.period.month : d.today.slice(0, 7)} />
+            </div>
+            <button type="submit" className={buttonClass("secondary")}>
+              Show month
+            </button>
+          </Form>
+        </div>
+      </Card>
+      <div className="mb-6">
+        {d.mismatches.length ? (
+          <Notice tone="error" title="Does not reconcile">
+            {d.mismatches.map((m) => `${m.label}: the invoice shows ${m.paid} paid, its payments less refunds come to ${m.payments}.`).join(" ")}
+          </Notice>
+        ) : (
+          <Notice tone="success" title="Reconciles with the invoices">
+            {d.invoicesTouched} invoice{d.invoicesTouched === 1 ? "" : "s"} had money in or out in this period; each one's paid amount equals its payments less refunds.
+          </Notice>
+        )}
+        {d.flagged ? (
+          <div className="mt-3">
+            <Notice tone="warning" title={`${d.flagged} flagged online payment${d.flagged === 1 ? "" : "s"}`}>
+              Not counted in the takings: the amount did not match the invoice. Check them in Stripe.
+            </Notice>
+          </div>
+        ) : null}
+      </div>
+      <Card title="By method" className="mb-6">
+        <table className="w-full text-left text-sm" data-testid="takings-by-method">
+          <thead className="border-b border-line text-muted">
+            <tr>
+              <th className="py-2 pr-4 font-semibold">Method</th>
+              <th className="py-2 pr-4 text-right font-semibold">Payments</th>
+              <th className="py-2 pr-4 text-right font-semibold">Received</th>
+              <th className="py-2 pr-4 text-right font-semibold">Refunded</th>
+              <th className="py-2 text-right font-semibold">Net</th>
+            </tr>
+          </thead>
+          <tbody className="divide-y divide-line">
+            {d.byMethod.map((m) => (
+              <tr key={m.label}>
+                <th scope="row" className="py-2 pr-4 font-semibold">
+                  {m.label}
+                </th>
+                <td className="py-2 pr-4 text-right tabular-nums">{m.count}</td>
+                <td className="py-2 pr-4 text-right tabular-nums">{m.received}</td>
+                <td className="py-2 pr-4 text-right tabular-nums">{m.refunded}</td>
+                <td className="py-2 text-right tabular-nums">{m.net}</td>
+              </tr>
+            ))}
+            <tr className="font-semibold">
+              <th scope="row" className="py-2 pr-4">
+                Total
+              </th>
+              <td />
+              <td className="py-2 pr-4 text-right tabular-nums">{d.totals.received}</td>
+              <td className="py-2 pr-4 text-right tabular-nums">{d.totals.refunded}</td>
+              <td className="py-2 text-right tabular-nums" data-testid="takings-net">
+                {d.totals.net}
+              </td>
+            </tr>
+          </tbody>
+        </table>
+      </Card>
+      <Card title="Every payment and refund">
+        {d.entries.length === 0 ? <p className="text-muted">Nothing received or refunded in this period.</p> : null}
+        {d.entries.length ? (
+          <div className="overflow-x-auto">
+            <table className="w-full text-left text-sm">
+              <thead className="border-b border-line text-muted">
+                <tr>
+                  <th className="py-2 pr-4 font-semibold">When</th>
+                  <th className="py-2 pr-4 font-semibold">Invoice</th>
+                  <th className="py-2 pr-4 font-semibold">Patient</th>
+                  <th className="py-2 pr-4 font-semibold">Method</th>
+                  <th className="py-2 pr-4 font-semibold">Kind</th>
+                  <th className="py-2 text-right font-semibold">Amount</th>
+                </tr>
+              </thead>
+              <tbody className="divide-y divide-line">
+                {d.entries.map((e) => (
+                  <tr key={e.key}>
+                    <td className="py-2 pr-4">{e.when}</td>
+                    <td className="py-2 pr-4">
+                      <Link to={`/billing/invoices/${e.invoiceId}`} className="font-semibold text-accent-700 underline underline-offset-4">
+                        {e.invoice}
+                      </Link>
+                    </td>
+                    <td className="py-2 pr-4">{e.patient}</td>
+                    <td className="py-2 pr-4">{e.method}</td>
+                    <td className="py-2 pr-4">
+                      {e.status === "flagged" ? <StatusBadge tone="error">Flagged</StatusBadge> : e.kind === "refund" ? <StatusBadge tone="warning">Refund</StatusBadge> : <StatusBadge tone="success">Payment</StatusBadge>}
+                    </td>
+                    <td className="py-2 text-right tabular-nums">{e.amount}</td>
+                  </tr>
+                ))}
+              </tbody>
+            </table>
+          </div>
+        ) : null}
+      </Card>
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Takings · Dioptra" }];

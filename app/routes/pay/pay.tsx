@@ -1,0 +1,180 @@
+import { useEffect } from "react";
+import { data, Form, redirect, useNavigation, useRevalidator } from "react-router";
+import type { Route } from "./+types/pay";
+import { invoiceForToken } from "./pay.server";
+import { GeneralErrorBoundary } from "~/components/error-boundary";
+import { Button } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Notice } from "~/components/ui/notice";
+import { InvoiceStatusBadge } from "~/routes/billing/components";
+import { latestOnlineAttempt, startCheckout } from "~/routes/billing/checkout.server";
+import { formatDate } from "~/routes/billing/documents.server";
+import { BillingError, invoiceLabel, practiceBilling } from "~/routes/billing/invoices.server";
+import { formatMoney } from "~/lib/money";
+import { audit } from "~/utils/audit.server";
+
+/**
+ * The patient's pay-by-link page: no sign-in; the signed, expiring token in the address is the
+ * guard and reveals this one invoice only. The patient portal links here too.
+ */
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const { detail: d, expiresAt } = await invoiceForToken(params.token);
+  const practice = await practiceBilling();
+  const url = new URL(request.url);
+  const attempt = await latestOnlineAttempt(d.invoice.id);
+  await audit({ action: "billing.pay_link_opened", entityType: "invoice", entityId: d.invoice.id, patientId: d.patient.id, request });
+  const cur = d.invoice.currency;
+  return {
+    practice: { name: practice.name, phone: practice.phone, email: practice.email },
+    firstName: d.patient.firstName,
+    invoice: {
+      label: invoiceLabel(d.invoice.number),
+      status: d.invoice.status,
+      issuedAt: d.invoice.issuedAt ? formatDate(d.invoice.issuedAt, practice.timeZone) : "",
+      total: formatMoney(d.invoice.totalMinor, cur),
+      paid: formatMoney(d.invoice.paidMinor, cur),
+      dueMinor: d.invoice.totalMinor - d.invoice.paidMinor,
+      due: formatMoney(d.invoice.totalMinor - d.invoice.paidMinor, cur),
+      tax: d.invoice.taxMinor ? formatMoney(d.invoice.taxMinor, cur) : null,
+      discount: d.invoice.discountMinor ? formatMoney(-d.invoice.discountMinor, cur) : null,
+    },
+    lines: d.lines.map((l) => ({ id: l.id, description: l.description, quantity: l.quantity, amount: formatMoney(l.grossMinor, cur) })),
+    checkout: url.searchParams.get("checkout"),
+    attempt: attempt ? { status: attempt.status, problem: attempt.problem } : null,
+    linkExpires: formatDate(expiresAt, practice.timeZone),
+    pdfHref: `/pay/${params.token}/invoice.pdf`,
+  };
+}
+
+export async function action({ request, params }: Route.ActionArgs) {
+  const { detail } = await invoiceForToken(params.token);
+  const form = await request.formData();
+  if (form.get("intent") !== "pay") return data({ error: "Use the Pay button." }, { status: 400 });
+  try {
+    const url = await startCheckout(detail.invoice.id, `/pay/${params.token}`);
+    return redirect(url);
+  } catch (error) {
+    if (error instanceof BillingError) return data({ error: error.message }, { status: error.status });
+    throw error;
+  }
+}
+
+export default function PayPage({ loaderData: d, actionData }: Route.ComponentProps) {
+  const navigation = useNavigation();
+  const revalidator = useRevalidator();
+  const paid = d.invoice.status === "paid";
+  const confirming = d.checkout === "done" && !paid && d.attempt?.status === "pending";
+  useEffect(() => {
+    // Back from the checkout before Stripe's webhook has arrived: look again every 2 seconds.
+    if (!confirming) return;
+    const t = setInterval(() => revalidator.state === "idle" && void revalidator.revalidate(), 2000);
+    return () => clearInterval(t);
+  }, [confirming, revalidator]);
+  const declined = d.checkout === "cancelled" && d.attempt?.status === "pending" && d.attempt.problem;
+  return (
+    <main id="main" className="mx-auto max-w-2xl px-4 py-10 sm:px-6">
+      <p className="text-sm font-semibold text-accent-800">{d.practice.name}</p>
+      <h1 className="mt-1 flex flex-wrap items-center gap-3 text-2xl sm:text-3xl">
+        Invoice {d.invoice.label} <InvoiceStatusBadge status={d.invoice.status} />
+      </h1>
+      <p className="mt-1 text-muted">
+        For {d.firstName}, issued {d.invoice.issuedAt}.
+      </p>
+      <div className="mt-6 space-y-4">
+        {actionData && "error" in actionData ? (
+          <Notice tone="error" title="Payment not started">
+            {actionData.error}
+          </Notice>
+        ) : null}
+        {paid ? (
+          <Notice tone="success" title="Paid — thank you">
+            {d.checkout === "done" ? "Your payment has been received. A receipt is on its way by e-mail." : "This invoice has been paid in full."}
+          </Notice>
+        ) : null}
+        {confirming ? (
+          <Notice tone="info" title="Confirming your payment">
+            The payment service is confirming your payment. This page updates by itself in a few seconds.
+          </Notice>
+        ) : null}
+        {declined ? (
+          <Notice tone="error" title="Your card was not charged">
+            {d.attempt!.problem} The invoice is still open; you can try again with another card, or pay at the practice.
+          </Notice>
+        ) : d.checkout === "cancelled" && !paid ? (
+          <Notice tone="warning" title="Payment not completed">
+            Nothing was charged and the invoice is still open.
+          </Notice>
+        ) : null}
+        {d.invoice.status === "void" ? (
+          <Notice tone="warning" title="Cancelled">
+            This invoice has been cancelled by the practice; there is nothing to pay.
+          </Notice>
+        ) : null}
+      </div>
+      <Card className="mt-6">
+        <table className="w-full text-left text-sm">
+          <caption className="sr-only">Invoice lines</caption>
+          <thead className="border-b border-line text-muted">
+            <tr>
+              <th className="py-2 pr-4 font-semibold">Description</th>
+              <th className="py-2 pr-4 text-right font-semibold">Qty</th>
+              <th className="py-2 text-right font-semibold">Amount</th>
+            </tr>
+          </thead>
+          <tbody className="divide-y divide-line">
+            {d.lines.map((l) => (
+              <tr key={l.id}>
+                <td className="py-2 pr-4">{l.description}</td>
+                <td className="py-2 pr-4 text-right tabular-nums">{l.quantity}</td>
+                <td className="py-2 text-right tabular-nums">{l.amount}</td>
+              </tr>
+            ))}
+          </tbody>
+        </table>
+        <dl className="mt-4 ml-auto grid max-w-xs grid-cols-2 gap-y-1 text-sm">
+          {d.invoice.discount ? (
+            <>
+              <dt className="text-muted">Discount</dt>
+              <dd className="text-right tabular-nums">{d.invoice.discount}</dd>
+            </>
+          ) : null}
+          {d.invoice.tax ? (
+            <>
+              <dt className="text-muted">Tax</dt>
+              <dd className="text-right tabular-nums">{d.invoice.tax}</dd>
+            </>
+          ) : null}
+          <dt className="font-semibold">Total</dt>
+          <dd className="text-right font-semibold tabular-nums">{d.invoice.total}</dd>
+          <dt className="text-muted">Paid</dt>
+          <dd className="text-right tabular-nums">{d.invoice.paid}</dd>
+          <dt className="font-semibold">Amount due</dt>
+          <dd className="text-right font-semibold tabular-nums" data-testid="amount-due">
+            {d.invoice.due}
+          </dd>
+        </dl>
+      </Card>
+      {(d.invoice.status === "open" || d.invoice.status === "partially_paid") && !confirming ? (
+        <Form method="post" className="mt-6">
+          <input type="hidden" name="intent" value="pay" />
+          <Button type="submit" pending={navigation.state !== "idle"} className="px-6 py-3 text-base">
+            Pay {d.invoice.due} by card
+          </Button>
+          <p className="mt-2 text-sm text-muted">You will be taken to our card payment provider's secure page, then brought back here.</p>
+        </Form>
+      ) : null}
+      <p className="mt-8 text-sm text-muted">
+        <a href={d.pdfHref} className="font-semibold text-accent-700 underline underline-offset-4">
+          Download the invoice (PDF)
+        </a>{" "}
+        · This link works until {d.linkExpires}. Questions: {[d.practice.phone, d.practice.email].filter(Boolean).join(" · ")}
+      </p>
+    </main>
+  );
+}
+
+export const meta: Route.MetaFunction = ({ data }) => [{ title: `Invoice ${data?.invoice.label ?? ""} · ${data?.practice.name ?? "Dioptra"}` }];
+
+export function ErrorBoundary() {
+  return <GeneralErrorBoundary />;
+}

@@ -1,0 +1,216 @@
+import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
+import { parseWithZod } from "@conform-to/zod/v4";
+import { asc, eq, sql } from "drizzle-orm";
+import { data, Form, Link, useNavigation } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/fees";
+import { Field, SelectField } from "~/components/forms";
+import { PageHeader } from "~/components/page-header";
+import { Button } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Notice, StatusBadge } from "~/components/ui/notice";
+import { feeItems, practiceSettings } from "~/db/schema";
+import { formatMoney, formatRate, minorToDecimal, parseMoney } from "~/lib/money";
+import { audit } from "~/utils/audit.server";
+import { requireRole } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+import { redirectWithToast } from "~/utils/toast.server";
+
+const feeSchema = z.object({
+  intent: z.literal("save"),
+  id: z.uuid().optional(),
+  code: z
+    .string({ error: "Give a code." })
+    .trim()
+    .min(1, "Give a code.")
+    .max(20, "At most 20 characters.")
+    .regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, "Letters, digits, dot, dash or underscore; no spaces."),
+  description: z.string({ error: "Describe the service or item." }).trim().min(2, "Describe the service or item.").max(120),
+  price: z.string({ error: "Give a price." }).trim().min(1, "Give a price."),
+  kind: z.enum(["service", "item"], { error: "Choose service or item." }),
+  taxCategory: z.enum(["standard", "exempt"], { error: "Choose how it is taxed." }),
+});
+const toggleSchema = z.object({ intent: z.enum(["withdraw", "restore"]), id: z.uuid() });
+const taxSchema = z.object({
+  intent: z.literal("tax"),
+  taxRate: z.coerce.number({ error: "Give a rate in per cent, e.g. 20 or 0." }).min(0, "At least 0 %.").max(100, "At most 100 %."),
+});
+const schema = z.discriminatedUnion("intent", [feeSchema, toggleSchema, taxSchema]);
+
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireRole(request, ["owner"]);
+  const [settings] = await db.select({ currency: practiceSettings.currency, taxRateBp: practiceSettings.taxRateBp }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const fees = await db.select().from(feeItems).orderBy(sql`${feeItems.active} desc`, asc(feeItems.code));
+  const editId = new URL(request.url).searchParams.get("edit");
+  const editing = fees.find((f) => f.id === editId) ?? null;
+  return { currency: settings?.currency ?? "GBP", taxRateBp: settings?.taxRateBp ?? 0, fees, editing };
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  const user = await requireRole(request, ["owner"]);
+  const [settings] = await db.select({ currency: practiceSettings.currency }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const currency = settings?.currency ?? "GBP";
+  const submission = parseWithZod(await request.formData(), {
+    schema: schema.superRefine((v, ctx) => {
+      if (v.intent === "save" && parseMoney(v.price, currency) === null) ctx.addIssue({ code: "custom", path: ["price"], message: `Give the price in ${currency}, e.g. 65 or 65.00 (no more than two decimals).` });
+      if (v.intent === "tax" && Math.round(v.taxRate * 100) !== v.taxRate * 100) ctx.addIssue({ code: "custom", path: ["taxRate"], message: "At most two decimals, e.g. 17.5." });
+    }),
+  });
+  if (submission.status !== "success") return data(submission.reply(), { status: 400 });
+  const v = submission.value;
+  if (v.intent === "tax") {
+    const taxRateBp = Math.round(v.taxRate * 100);
+    await db.transaction(async (tx) => {
+      await tx.update(practiceSettings).set({ taxRateBp, updatedAt: new Date() }).where(eq(practiceSettings.id, 1));
+      await audit({ action: "billing.tax_rate_changed", actorUserId: user.id, detail: { taxRateBp }, request }, tx);
+    });
+    return redirectWithToast("/settings/fees", { kind: "success", title: `Tax rate set to ${formatRate(taxRateBp)}` });
+  }
+  if (v.intent === "save") {
+    const values = { code: v.code.toUpperCase(), description: v.description, priceMinor: parseMoney(v.price, currency)!, kind: v.kind, taxCategory: v.taxCategory };
+    const clash = await db.select({ id: feeItems.id }).from(feeItems).where(sql`lower(${feeItems.code}) = lower(${values.code})`);
+    if (clash.some((c) => c.id !== v.id)) return data(submission.reply({ fieldErrors: { code: [`The code ${values.code} is already in the fee schedule.`] } }), { status: 400 });
+    await db.transaction(async (tx) => {
+      if (v.id) {
+        const done = await tx.update(feeItems).set(values).where(eq(feeItems.id, v.id)).returning({ id: feeItems.id });
+        if (!done.length) throw data({ error: "There is no such fee." }, { status: 404 });
+      } else await tx.insert(feeItems).values(values);
+      await audit({ action: v.id ? "billing.fee_changed" : "billing.fee_added", actorUserId: user.id, entityType: "fee_item", entityId: v.id, detail: values, request }, tx);
+    });
+    return redirectWithToast("/settings/fees", { kind: "success", title: `${values.code} saved` });
+  }
+  await db.transaction(async (tx) => {
+    const done = await tx.update(feeItems).set({ active: v.intent === "restore" }).where(eq(feeItems.id, v.id)).returning({ code: feeItems.code });
+    if (!done.length) throw data({ error: "There is no such fee." }, { status: 404 });
+    await audit({ action: `billing.fee_${v.intent === "restore" ? "restored" : "withdrawn"}`, actorUserId: user.id, entityType: "fee_item", entityId: v.id, request }, tx);
+  });
+  return redirectWithToast("/settings/fees", { kind: "success", title: v.intent === "restore" ? "Fee restored" : "Fee withdrawn: it can no longer be added to invoices" });
+}
+
+export default function FeeSchedule({ loaderData, actionData }: Route.ComponentProps) {
+  const { fees, currency, editing, taxRateBp } = loaderData;
+  const navigation = useNavigation();
+  const intent = navigation.formData?.get("intent");
+  const last = navigation.state === "idle" ? actionData : null;
+  const [form, fields] = useForm({
+    id: editing ? `fee-${editing.id}` : "fee-new",
+    lastResult: last && (last as { initialValue?: { intent?: string } }).initialValue?.intent === "save" ? last : null,
+    defaultValue: editing
+      ? { code: editing.code, description: editing.description, price: minorToDecimal(editing.priceMinor, currency), kind: editing.kind, taxCategory: editing.taxCategory }
+      : { kind: "service", taxCategory: "exempt" },
+    onValidate: ({ formData }) => parseWithZod(formData, { schema: feeSchema }),
+    shouldValidate: "onBlur",
+  });
+  const [taxForm, taxFields] = useForm({
+    id: "tax",
+    lastResult: last && (last as { initialValue?: { intent?: string } }).initialValue?.intent === "tax" ? last : null,
+    defaultValue: { taxRate: String(taxRateBp / 100) },
+    onValidate: ({ formData }) => parseWithZod(formData, { schema: taxSchema }),
+    shouldValidate: "onBlur",
+  });
+  return (
+    <>
+      <PageHeader title="Fee schedule" description={`Codes, descriptions and prices used on invoices. Prices are before tax, in ${currency}.`} />
+      <Card title="Fees" className="mb-6">
+        {fees.length === 0 ? <p className="text-muted">No fees yet. Add the first one below.</p> : null}
+        <div className="overflow-x-auto">
+          <table className="w-full text-left text-sm">
+            <thead className="border-b border-line text-muted">
+              <tr>
+                <th className="py-2 pr-4 font-semibold">Code</th>
+                <th className="py-2 pr-4 font-semibold">Description</th>
+                <th className="py-2 pr-4 font-semibold">Kind</th>
+                <th className="py-2 pr-4 font-semibold">Tax</th>
+                <th className="py-2 pr-4 text-right font-semibold">Price</th>
+                <th className="py-2 pr-4 font-semibold">Status</th>
+                <th className="py-2 font-semibold">
+                  <span className="sr-only">Actions</span>
+                </th>
+              </tr>
+            </thead>
+            <tbody className="divide-y divide-line">
+              {fees.map((f) => (
+                <tr key={f.id}>
+                  <td className="py-3 pr-4 font-mono font-semibold">{f.code}</td>
+                  <td className="py-3 pr-4">{f.description}</td>
+                  <td className="py-3 pr-4">{f.kind === "service" ? "Service" : "Item"}</td>
+                  <td className="py-3 pr-4">{f.taxCategory === "standard" ? "Standard rate" : "Exempt"}</td>
+                  <td className="py-3 pr-4 text-right tabular-nums">{formatMoney(f.priceMinor, currency)}</td>
+                  <td className="py-3 pr-4">{f.active ? <StatusBadge tone="success">In use</StatusBadge> : <StatusBadge tone="warning">Withdrawn</StatusBadge>}</td>
+                  <td className="py-3">
+                    <div className="flex gap-2">
+                      <Link to={`?edit=${f.id}`} className="rounded-md border border-line px-3 py-1 text-sm font-semibold hover:bg-canvas">
+                        Edit<span className="sr-only"> {f.code}</span>
+                      </Link>
+                      <Form method="post">
+                        <input type="hidden" name="id" value={f.id} />
+                        <Button type="submit" name="intent" value={f.active ? "withdraw" : "restore"} variant="secondary" className="px-3 py-1">
+                          {f.active ? "Withdraw" : "Restore"}
+                          <span className="sr-only"> {f.code}</span>
+                        </Button>
+                      </Form>
+                    </div>
+                  </td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        </div>
+      </Card>
+      <div className="grid gap-6 lg:grid-cols-[2fr_1fr]">
+        <Card title={editing ? `Edit ${editing.code}` : "Add a fee"}>
+          <Form method="post" {...getFormProps(form)} className="grid gap-4 sm:grid-cols-2" key={editing?.id ?? "new"}>
+            {form.errors?.length ? (
+              <div className="sm:col-span-2">
+                <Notice tone="error" title="Not saved">
+                  {form.errors.join(" ")}
+                </Notice>
+              </div>
+            ) : null}
+            <input type="hidden" name="intent" value="save" />
+            {editing ? <input type="hidden" name="id" value={editing.id} /> : null}
+            <Field label="Code" hint="Your own code or a procedure code." errors={fields.code.errors} inputProps={getInputProps(fields.code, { type: "text" })} />
+            <Field label={`Price (${currency}, before tax)`} errors={fields.price.errors} inputProps={{ ...getInputProps(fields.price, { type: "text" }), inputMode: "decimal" }} />
+            <div className="sm:col-span-2">
+              <Field label="Description" errors={fields.description.errors} inputProps={getInputProps(fields.description, { type: "text" })} />
+            </div>
+            <SelectField label="Kind" errors={fields.kind.errors} selectProps={getSelectProps(fields.kind)}>
+              <option value="service">Service (exam, fitting, consultation)</option>
+              <option value="item">Item (frames, lenses, solutions)</option>
+            </SelectField>
+            <SelectField label="Tax" errors={fields.taxCategory.errors} selectProps={getSelectProps(fields.taxCategory)}>
+              <option value="exempt">Exempt (no tax)</option>
+              <option value="standard">Standard rate</option>
+            </SelectField>
+            <div className="flex gap-3 sm:col-span-2">
+              <Button type="submit" pending={navigation.state === "submitting" && intent === "save"}>
+                {editing ? "Save changes" : "Add fee"}
+              </Button>
+              {editing ? (
+                <Link to="/settings/fees" className="self-center font-semibold text-accent-700 underline underline-offset-4">
+                  Cancel
+                </Link>
+              ) : null}
+            </div>
+          </Form>
+        </Card>
+        <Card title="Tax rate">
+          <Form method="post" {...getFormProps(taxForm)} className="space-y-4">
+            <input type="hidden" name="intent" value="tax" />
+            <Field
+              label="Rate on standard-rated lines (%)"
+              hint="Applied to drafts and newly issued invoices; issued invoices keep theirs. In the UK, eye examinations are usually exempt and dispensed goods standard-rated (common practice); local tax law governs."
+              errors={taxFields.taxRate.errors}
+              inputProps={{ ...getInputProps(taxFields.taxRate, { type: "text" }), inputMode: "decimal" }}
+            />
+            <Button type="submit" variant="secondary" pending={navigation.state === "submitting" && intent === "tax"}>
+              Save tax rate
+            </Button>
+          </Form>
+        </Card>
+      </div>
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Fee schedule · Dioptra" }];

@@ -1,0 +1,43 @@
+import Stripe from "stripe";
+import { env } from "./env.server";
+
+/** Port of the local Stripe stand-in (app/standins/stripe-server.ts) when nothing else is set. */
+export const STRIPE_STANDIN_DEFAULT = { host: "127.0.0.1", port: 12111, protocol: "http" as const };
+
+/**
+ * Where the SDK talks to: STRIPE_API_HOST/PORT/PROTOCOL when set; otherwise the local stand-in
+ * outside production (development, tests, demo mode); otherwise real Stripe.
+ */
+export function stripeEndpoint(): { host: string; port: number; protocol: "http" | "https" } | null {
+  if (env.STRIPE_API_HOST) return { host: env.STRIPE_API_HOST, port: env.STRIPE_API_PORT ?? (env.STRIPE_API_PROTOCOL === "http" ? 80 : 443), protocol: env.STRIPE_API_PROTOCOL ?? "https" };
+  if (env.NODE_ENV !== "production" || env.DIOPTRA_DEMO) return STRIPE_STANDIN_DEFAULT;
+  return null;
+}
+
+let client: Stripe | null = null;
+
+/** The one Stripe SDK client of this process. Short timeout: a patient is waiting on the other end. */
+export function stripe(): Stripe {
+  if (client) return client;
+  const endpoint = stripeEndpoint();
+  client = new Stripe(env.STRIPE_SECRET_KEY, {
+    maxNetworkRetries: 1,
+    timeout: 10_000,
+    telemetry: false,
+    ...(endpoint ? { host: endpoint.host, port: endpoint.port, protocol: endpoint.protocol } : {}),
+  });
+  return client;
+}
+
+/** Verifies a webhook's signature against STRIPE_WEBHOOK_SECRET; throws when it does not match. */
+export function verifyWebhook(payload: string, signature: string | null): Stripe.Event {
+  if (!signature) throw new Error("The Stripe-Signature header is missing.");
+  return stripe().webhooks.constructEvent(payload, signature, env.STRIPE_WEBHOOK_SECRET);
+}
+
+/** A failure to reach Stripe at all (down, refused, timed out), as opposed to Stripe refusing the request. */
+export function isStripeUnreachable(error: unknown): boolean {
+  return error instanceof Stripe.errors.StripeConnectionError || (error instanceof Error && /ECONNREFUSED|ETIMEDOUT|socket hang up/i.test(error.message));
+}
+
+export { Stripe };
