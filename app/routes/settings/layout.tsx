@@ -11,10 +11,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 const tabs = [
   { to: "/settings", label: "Practice details", end: true },
   { to: "/settings/users", label: "Team and accounts", end: false },
-  { to: "/settings/appointment-types", label: "Appointment types", end: false },
-  { to: "/settings/hours", label: "Working hours", end: false },
   { to: "/settings/fees", label: "Fee schedule", end: false },
-  { to: "/settings/recipients", label: "Referral recipients", end: false },
 ];
 
 export default function SettingsLayout() {
