@@ -20,8 +20,20 @@ export default [
   route("billing/payments/:paymentId/receipt.pdf", "routes/billing/receipt-pdf.ts"),
   route("billing/takings.csv", "routes/billing/takings-csv.ts"),
 
+  route("api/patients", "routes/api/patients.ts"),
+  route("api/uploads", "routes/api/uploads.ts"),
+  route("patients/:patientId/prescriptions/:prescriptionId/pdf", "routes/patients/prescription-pdf.ts"),
+  route("patients/:patientId/documents/:documentId/:variant", "routes/patients/document-file.ts"),
+
   layout("routes/layout.tsx", [
     index("routes/home.tsx"),
+    ...prefix("patients", [
+      index("routes/patients/index.tsx"),
+      route("new", "routes/patients/new.tsx"),
+      route(":patientId", "routes/patients/chart.tsx"),
+      route(":patientId/edit", "routes/patients/edit.tsx"),
+      route(":patientId/exams/:examId", "routes/exams/exam.tsx"),
+    ]),
     ...prefix("billing", [
       index("routes/billing/index.tsx"),
       route("invoices/new", "routes/billing/invoice-new.tsx"),

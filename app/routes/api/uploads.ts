@@ -1,0 +1,51 @@
+import { and, eq } from "drizzle-orm";
+import type { Route } from "./+types/uploads";
+import { exams, patients } from "~/db/schema";
+import { DOCUMENT_KINDS, MAX_UPLOAD_BYTES, saveUpload, UploadError, type DocumentKind } from "~/routes/patients/documents.server";
+import { isUuid } from "~/routes/patients/patient-schema";
+import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+
+const fail = (status: number, message: string, field?: string) => Response.json({ ok: false, message, field }, { status });
+
+/** POST /api/uploads (multipart: patientId, examId?, kind, description, file) — clinical roles only. */
+export async function action({ request }: Route.ActionArgs) {
+  const user = await requireRole(request, CLINICAL_ROLES);
+  if (request.method !== "POST") return fail(405, "Use POST.");
+  const declared = Number(request.headers.get("content-length") ?? "0");
+  if (declared > MAX_UPLOAD_BYTES + 64 * 1024) return fail(413, `The file is larger than the ${MAX_UPLOAD_BYTES / 1024 / 1024} MB limit.`, "file");
+  let form: FormData;
+  try {
+    form = await request.formData();
+  } catch {
+    return fail(400, "Send the file as multipart/form-data.", "file");
+  }
+  const patientId = String(form.get("patientId") ?? "");
+  const examIdRaw = String(form.get("examId") ?? "");
+  const kind = String(form.get("kind") ?? "") as DocumentKind;
+  const description = String(form.get("description") ?? "").trim().slice(0, 500);
+  const file = form.get("file");
+  if (!isUuid(patientId)) return fail(404, "Not found.");
+  const [patient] = await db.select({ id: patients.id }).from(patients).where(eq(patients.id, patientId));
+  if (!patient) return fail(404, "Not found.");
+  let examId: string | null = null;
+  if (examIdRaw) {
+    if (!isUuid(examIdRaw)) return fail(404, "Not found.");
+    const [exam] = await db.select({ id: exams.id }).from(exams).where(and(eq(exams.id, examIdRaw), eq(exams.patientId, patientId)));
+    if (!exam) return fail(404, "Not found.");
+    examId = exam.id;
+  }
+  if (!Object.hasOwn(DOCUMENT_KINDS, kind)) return fail(400, "Choose what kind of document this is.", "kind");
+  if (!(file instanceof File)) return fail(400, "Choose a file to attach.", "file");
+  try {
+    const id = await saveUpload(user, { patientId, examId, kind, description, file }, request);
+    return Response.json({ ok: true, id }, { status: 201 });
+  } catch (e) {
+    if (e instanceof UploadError) return fail(e.status, e.message, "file");
+    throw e;
+  }
+}
+
+export async function loader() {
+  return fail(405, "Use POST.");
+}

@@ -1,0 +1,91 @@
+import { and, asc, desc, eq, inArray } from "drizzle-orm";
+import { appointments, appointmentTypes, examAssessment, examRefractions, exams, invoices, users } from "~/db/schema";
+import { myopiaProgression, toPowerVector, type MyopiaProgression } from "~/lib/optics";
+import { db } from "~/utils/db.server";
+import { ageOn } from "./patient-schema";
+import { DEFAULT_RECALL_MONTHS } from "./patients.server";
+
+export async function appointmentsOf(patientId: string) {
+  const rows = await db
+    .select({ id: appointments.id, startsAt: appointments.startsAt, status: appointments.status, type: appointmentTypes.name, provider: users.name })
+    .from(appointments)
+    .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
+    .innerJoin(users, eq(users.id, appointments.providerId))
+    .where(eq(appointments.patientId, patientId))
+    .orderBy(desc(appointments.startsAt))
+    .limit(20);
+  return rows.map((r) => ({ ...r, startsAt: r.startsAt.toISOString() }));
+}
+
+export async function invoicesOf(patientId: string) {
+  const rows = await db
+    .select({ id: invoices.id, number: invoices.number, status: invoices.status, totalMinor: invoices.totalMinor, paidMinor: invoices.paidMinor, currency: invoices.currency, issuedAt: invoices.issuedAt, createdAt: invoices.createdAt })
+    .from(invoices)
+    .where(eq(invoices.patientId, patientId))
+    .orderBy(desc(invoices.createdAt))
+    .limit(30);
+  return rows.map((r) => ({ ...r, at: (r.issuedAt ?? r.createdAt).toISOString(), issuedAt: undefined, createdAt: undefined }));
+}
+
+export async function examsOf(patientId: string) {
+  const rows = await db
+    .select({ id: exams.id, examinedAt: exams.examinedAt, status: exams.status, optometrist: users.name, recallMonths: examAssessment.recallMonths })
+    .from(exams)
+    .innerJoin(users, eq(users.id, exams.optometristId))
+    .leftJoin(examAssessment, eq(examAssessment.examId, exams.id))
+    .where(eq(exams.patientId, patientId))
+    .orderBy(desc(exams.examinedAt))
+    .limit(100);
+  return rows.map((r) => ({ ...r, examinedAt: r.examinedAt.toISOString() }));
+}
+
+export type RefractionPoint = { examId: string; date: string; kind: string; eye: "right" | "left"; sphere: number; cylinder: number; axis: number; M: number; J0: number; J45: number };
+
+/** Every refraction row of the patient with its power vector (Thibos et al. 1997), oldest first. */
+export async function refractionHistory(examIds: string[], examDates: Map<string, string>): Promise<RefractionPoint[]> {
+  if (!examIds.length) return [];
+  const rows = await db
+    .select({ examId: examRefractions.examId, kind: examRefractions.kind, eye: examRefractions.eye, sphere: examRefractions.sphere, cylinder: examRefractions.cylinder, axis: examRefractions.axis })
+    .from(examRefractions)
+    .where(inArray(examRefractions.examId, examIds))
+    .orderBy(asc(examRefractions.examId));
+  return rows
+    .map((r) => {
+      const pv = toPowerVector(r);
+      const round = (x: number) => Math.round(x * 1000) / 1000;
+      return { ...r, date: examDates.get(r.examId)!, M: round(pv.M), J0: round(pv.J0), J45: round(pv.J45) };
+    })
+    .sort((a, b) => a.date.localeCompare(b.date));
+}
+
+/** For a child (under 18 at the last exam): progression of spherical equivalent per eye between the first and last final refraction. */
+export function childProgression(dateOfBirth: string, points: RefractionPoint[]) {
+  const finals = points.filter((p) => p.kind === "final");
+  if (!finals.length) return null;
+  const lastDate = finals[finals.length - 1]!.date.slice(0, 10);
+  if (ageOn(dateOfBirth, lastDate) >= 18) return null;
+  const out: Partial<Record<"right" | "left", MyopiaProgression & { from: string; to: string }>> = {};
+  for (const eye of ["right", "left"] as const) {
+    const rows = finals.filter((p) => p.eye === eye);
+    if (rows.length < 2) continue;
+    const a = rows[0]!;
+    const b = rows[rows.length - 1]!;
+    try {
+      out[eye] = { ...myopiaProgression({ date: a.date, rx: a }, { date: b.date, rx: b }), from: a.date, to: b.date };
+    } catch {
+      /* same-day exams: no rate */
+    }
+  }
+  return Object.keys(out).length ? out : null;
+}
+
+/** Recall: due when the last exam is older than its recorded recall interval (else the default). */
+export function recallDue(examList: { examinedAt: string; recallMonths: number | null }[], now = new Date()) {
+  const last = examList[0];
+  if (!last) return { due: true, months: DEFAULT_RECALL_MONTHS, since: null as string | null };
+  const months = last.recallMonths ?? DEFAULT_RECALL_MONTHS;
+  const dueAt = new Date(last.examinedAt);
+  dueAt.setUTCMonth(dueAt.getUTCMonth() + months);
+  return { due: dueAt <= now, months, since: last.examinedAt, dueAt: dueAt.toISOString() };
+}
+

@@ -1,0 +1,258 @@
+import { eq } from "drizzle-orm";
+import { data, Form, Link, useNavigation } from "react-router";
+import type { Route } from "./+types/chart";
+import { GeneralErrorBoundary } from "~/components/error-boundary";
+import { PageHeader } from "~/components/page-header";
+import { Button, buttonClass } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Notice, StatusBadge } from "~/components/ui/notice";
+import { patients } from "~/db/schema";
+import { formatRx } from "~/lib/optics";
+import { examFor, loadExam, promptsFor } from "~/routes/exams/exam.server";
+import { startExam } from "~/routes/exams/exam.server";
+import { audit } from "~/utils/audit.server";
+import { CLINICAL_ROLES, requireRole, STAFF_ROLES } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+import { redirectWithToast } from "~/utils/toast.server";
+import { appointmentsOf, childProgression, examsOf, invoicesOf, recallDue, refractionHistory } from "./chart.server";
+import { documentsOf } from "./documents.server";
+import { ageOn, formatDate, isUuid } from "./patient-schema";
+import { prescriptionsOf } from "./prescriptions.server";
+import { RefractionHistory } from "./refraction-plot";
+import { DocumentList, UploadForm } from "./uploads-ui";
+
+async function patientOr404(id: string | undefined) {
+  if (!isUuid(id)) throw data({ error: "Not found." }, { status: 404 });
+  const [p] = await db.select().from(patients).where(eq(patients.id, id));
+  if (!p) throw data({ error: "Not found." }, { status: 404 });
+  return p;
+}
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const user = await requireRole(request, STAFF_ROLES);
+  const p = await patientOr404(params.patientId);
+  const clinical = (CLINICAL_ROLES as readonly string[]).includes(user.role);
+  const [appointments, invoices, prescriptions] = await Promise.all([appointmentsOf(p.id), invoicesOf(p.id), prescriptionsOf(p.id)]);
+  const demographics = {
+    id: p.id,
+    firstName: p.firstName,
+    lastName: p.lastName,
+    dateOfBirth: p.dateOfBirth,
+    age: ageOn(p.dateOfBirth),
+    sex: p.sex,
+    email: p.email,
+    phone: p.phone,
+    address: [p.addressLine1, p.city, p.postcode].filter(Boolean).join(", "),
+  };
+  const today = new Date().toISOString().slice(0, 10);
+  const rx = prescriptions.map((r) => ({ ...r, current: r.expiresOn >= today }));
+  if (!clinical) {
+    await audit({ action: "chart.read", actorUserId: user.id, entityType: "patient", entityId: p.id, patientId: p.id, detail: { view: "front desk" }, request });
+    return { clinical: false as const, patient: demographics, appointments, invoices, prescriptions: rx };
+  }
+  const exams = await examsOf(p.id);
+  const examDates = new Map(exams.map((e) => [e.id, e.examinedAt]));
+  const [documents, history] = await Promise.all([documentsOf(p.id), refractionHistory(exams.map((e) => e.id), examDates)]);
+  const last = exams[0];
+  const prompts = last ? await promptsFor(p.id, { id: last.id, examinedAt: new Date(last.examinedAt) }, await loadExam(last.id)) : [];
+  await audit({ action: "chart.read", actorUserId: user.id, entityType: "patient", entityId: p.id, patientId: p.id, detail: { view: "clinical" }, request });
+  return {
+    clinical: true as const,
+    patient: { ...demographics, allergies: p.allergies, medications: p.medications },
+    appointments,
+    invoices,
+    prescriptions: rx,
+    exams,
+    documents,
+    history,
+    progression: childProgression(p.dateOfBirth, history),
+    recall: recallDue(exams),
+    prompts,
+  };
+}
+
+export async function action({ request, params }: Route.ActionArgs) {
+  const user = await requireRole(request, CLINICAL_ROLES);
+  const p = await patientOr404(params.patientId);
+  const form = await request.formData();
+  if (form.get("intent") !== "start-exam") return data({ error: "Unknown action." }, { status: 400 });
+  const examId = await startExam(user, p.id, request);
+  await examFor(p.id, examId);
+  return redirectWithToast(`/patients/${p.id}/exams/${examId}`, { kind: "success", title: "Exam started" });
+}
+
+type LD = Route.ComponentProps["loaderData"];
+const money = (minor: number, currency: string) => new Intl.NumberFormat("en-GB", { style: "currency", currency }).format(minor / 100);
+
+export default function Chart({ loaderData: d }: Route.ComponentProps) {
+  const p = d.patient;
+  const navigation = useNavigation();
+  const currentRx = d.prescriptions.filter((r) => r.current);
+  return (
+    <>
+      <PageHeader
+        title={`${p.lastName}, ${p.firstName}`}
+        description={
+          <>
+            Age {p.age} · born {formatDate(p.dateOfBirth)} · {p.phone ?? "no phone"} · {p.email ?? "no e-mail"}
+          </>
+        }
+        actions={
+          <>
+            <Link to={`/patients/${p.id}/edit`} className={buttonClass("secondary")}>
+              Edit details
+            </Link>
+            {d.clinical ? (
+              <Form method="post">
+                <input type="hidden" name="intent" value="start-exam" />
+                <Button type="submit" pending={navigation.state === "submitting"}>
+                  Start a new exam
+                </Button>
+              </Form>
+            ) : null}
+          </>
+        }
+      />
+      <div className="grid gap-6 lg:grid-cols-3">
+        {d.clinical ? <ClinicalSummary d={d} /> : null}
+        <Card title="Current prescriptions" className={d.clinical ? "" : "lg:col-span-2"}>
+          {currentRx.length ? (
+            <ul className="space-y-3">
+              {currentRx.map((r) => (
+                <li key={r.id} className="rounded-md border border-line p-3 text-sm">
+                  <p className="font-semibold">
+                    {r.kind === "spectacle" ? "Spectacles" : `Contact lenses${r.lensName ? ` · ${r.lensName}` : ""}`} · expires {formatDate(r.expiresOn)}
+                  </p>
+                  {r.eyes.map((e) => (
+                    <p key={e.eye} className="font-mono">
+                      {e.eye === "right" ? "R" : "L"} {formatRx(e)}
+                      {e.addPower ? ` add +${e.addPower.toFixed(2)}` : ""}
+                    </p>
+                  ))}
+                  <a href={`/patients/${p.id}/prescriptions/${r.id}/pdf`} className="mt-1 inline-block font-semibold text-accent-800 underline">
+                    Print (PDF)
+                  </a>
+                </li>
+              ))}
+            </ul>
+          ) : (
+            <p className="text-muted">No current prescription.</p>
+          )}
+        </Card>
+        <Card title="Contact">
+          <dl className="space-y-1 text-sm">
+            <dt className="text-muted">Address</dt>
+            <dd>{p.address || "—"}</dd>
+            <dt className="text-muted">Sex</dt>
+            <dd>{p.sex === "unknown" ? "Not recorded" : p.sex}</dd>
+          </dl>
+        </Card>
+      </div>
+      {d.clinical ? (
+        <div className="mt-6 space-y-6">
+          <RefractionHistory points={d.history} progression={d.progression} />
+          <Card title="Documents">
+            <DocumentList patientId={p.id} documents={d.documents} />
+            <div className="mt-4">
+              <UploadForm patientId={p.id} />
+            </div>
+          </Card>
+        </div>
+      ) : null}
+      <div className="mt-6">
+        <Timeline d={d} />
+      </div>
+    </>
+  );
+}
+
+function ClinicalSummary({ d }: { d: Extract<LD, { clinical: true }> }) {
+  const last = d.exams[0];
+  return (
+    <Card title="At a glance" className="lg:col-span-1">
+      <dl className="space-y-3 text-sm">
+        <div>
+          <dt className="text-muted">Last exam</dt>
+          <dd className="font-semibold">
+            {last ? (
+              <Link to={`/patients/${d.patient.id}/exams/${last.id}`} className="underline">
+                {formatDate(last.examinedAt)} · {last.optometrist} · {last.status === "signed" ? "signed" : "in progress"}
+              </Link>
+            ) : (
+              "Never examined"
+            )}
+          </dd>
+        </div>
+        <div>
+          <dt className="text-muted">Allergies</dt>
+          <dd className="font-semibold">{d.patient.allergies || "None recorded"}</dd>
+        </div>
+        <div>
+          <dt className="text-muted">Medications</dt>
+          <dd className="font-semibold">{d.patient.medications || "None recorded"}</dd>
+        </div>
+        <div>
+          <dt className="text-muted">Alerts</dt>
+          <dd className="mt-1 space-y-2">
+            {d.recall.due ? (
+              <StatusBadge tone="warning">Recall due{d.recall.since ? ` (last exam over ${d.recall.months} months ago)` : " (never examined)"}</StatusBadge>
+            ) : null}
+            {d.prompts.map((pr) => (
+              <div key={`${pr.code}-${pr.eye}`}>
+                <StatusBadge tone="warning">Referral prompt: {pr.message}</StatusBadge>
+              </div>
+            ))}
+            {!d.recall.due && !d.prompts.length ? <StatusBadge tone="success">No alerts</StatusBadge> : null}
+            {d.prompts.length ? <p className="text-xs text-muted">Prompts from the last exam's findings; check them before referring.</p> : null}
+          </dd>
+        </div>
+      </dl>
+    </Card>
+  );
+}
+
+type Item = { at: string; kind: string; label: string; href?: string; status?: string };
+
+function Timeline({ d }: { d: LD }) {
+  const items: Item[] = [
+    ...d.appointments.map((a) => ({ at: a.startsAt, kind: "Appointment", label: `${a.type} with ${a.provider}`, status: a.status.replace("_", " ") })),
+    ...d.invoices.map((i) => ({ at: i.at, kind: "Invoice", label: `${i.number ? `No. ${i.number}` : "Draft"} · ${money(i.totalMinor, i.currency)}`, status: i.status.replace("_", " "), href: `/billing` })),
+    ...d.prescriptions.map((r) => ({ at: r.issuedAt, kind: "Prescription", label: `${r.kind === "spectacle" ? "Spectacles" : "Contact lenses"} by ${r.prescriberName}`, status: r.current ? "current" : "expired", href: `/patients/${d.patient.id}/prescriptions/${r.id}/pdf` })),
+    ...(d.clinical
+      ? [
+          ...d.exams.map((e) => ({ at: e.examinedAt, kind: "Exam", label: `Exam by ${e.optometrist}`, status: e.status === "signed" ? "signed" : "in progress", href: `/patients/${d.patient.id}/exams/${e.id}` })),
+          ...d.documents.map((doc) => ({ at: doc.createdAt, kind: "Document", label: doc.originalName, href: `/patients/${d.patient.id}/documents/${doc.id}/file` })),
+        ]
+      : []),
+  ].sort((a, b) => b.at.localeCompare(a.at));
+  return (
+    <Card title="Timeline">
+      {items.length ? (
+        <ol className="divide-y divide-line">
+          {items.map((it, i) => (
+            <li key={`${it.kind}-${it.at}-${i}`} className="flex flex-wrap items-baseline gap-x-4 gap-y-1 py-2 text-sm">
+              <span className="w-28 shrink-0 text-muted">{formatDate(it.at)}</span>
+              <span className="w-28 shrink-0 font-semibold">{it.kind}</span>
+              {it.href ? (
+                <a href={it.href} className="text-accent-800 underline">
+                  {it.label}
+                </a>
+              ) : (
+                <span>{it.label}</span>
+              )}
+              {it.status ? <span className="text-muted">· {it.status}</span> : null}
+            </li>
+          ))}
+        </ol>
+      ) : (
+        <p className="text-muted">Nothing recorded yet.</p>
+      )}
+    </Card>
+  );
+}
+
+export const meta: Route.MetaFunction = ({ data: d }) => [{ title: d ? `${d.patient.lastName}, ${d.patient.firstName} · Dioptra` : "Chart · Dioptra" }];
+
+export function ErrorBoundary() {
+  return <GeneralErrorBoundary />;
+}

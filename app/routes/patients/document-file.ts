@@ -1,0 +1,37 @@
+import { and, eq } from "drizzle-orm";
+import { data } from "react-router";
+import type { Route } from "./+types/document-file";
+import { documents } from "~/db/schema";
+import { audit } from "~/utils/audit.server";
+import { assertPatientAccess, CLINICAL_ROLES, requireUser } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+import { storage } from "~/utils/storage.server";
+import { isUuid } from "./patient-schema";
+
+/** GET /patients/:patientId/documents/:documentId/(file|thumbnail) — clinical roles only. */
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const user = await requireUser(request);
+  assertPatientAccess(user, params.patientId);
+  if (!(CLINICAL_ROLES as readonly string[]).includes(user.role)) throw data({ error: "Your role does not give access to clinical documents." }, { status: 403 });
+  if (!isUuid(params.patientId) || !isUuid(params.documentId) || !["file", "thumbnail"].includes(params.variant)) throw data({ error: "Not found." }, { status: 404 });
+  const [doc] = await db
+    .select()
+    .from(documents)
+    .where(and(eq(documents.id, params.documentId), eq(documents.patientId, params.patientId)));
+  if (!doc) throw data({ error: "Not found." }, { status: 404 });
+  const thumb = params.variant === "thumbnail";
+  const key = thumb ? doc.thumbnailKey : doc.storageKey;
+  const bytes = key ? await storage.get(key) : null;
+  if (!bytes) throw data({ error: "Not found." }, { status: 404 });
+  if (!thumb) await audit({ action: "document.read", actorUserId: user.id, entityType: "document", entityId: doc.id, patientId: doc.patientId, request });
+  const safeName = doc.originalName.replace(/[^\w.\- ]+/g, "_");
+  return new Response(new Uint8Array(bytes), {
+    headers: {
+      "content-type": thumb ? "image/jpeg" : doc.contentType,
+      "content-length": String(bytes.length),
+      "content-disposition": `${doc.contentType === "application/pdf" || thumb ? "inline" : "inline"}; filename="${safeName}"`,
+      "cache-control": "private, no-store",
+      "x-content-type-options": "nosniff",
+    },
+  });
+}

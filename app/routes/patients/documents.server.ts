@@ -1,0 +1,101 @@
+import { and, desc, eq } from "drizzle-orm";
+import sharp from "sharp";
+import { documents, users } from "~/db/schema";
+import { audit } from "~/utils/audit.server";
+import { db } from "~/utils/db.server";
+import type { SessionUser } from "~/utils/session.server";
+import { storage } from "~/utils/storage.server";
+
+/** Largest upload accepted, bytes. */
+export const MAX_UPLOAD_BYTES = 15 * 1024 * 1024;
+export const DOCUMENT_KINDS = { fundus_photo: "Fundus photograph", field_printout: "Visual field printout", outside_record: "Outside record", other: "Other" } as const;
+export type DocumentKind = keyof typeof DOCUMENT_KINDS;
+
+type Sniffed = { contentType: "image/jpeg" | "image/png" | "image/webp" | "application/pdf"; extension: string };
+
+/** The file's type from its first bytes (magic numbers), whatever its name says. */
+export function sniffType(bytes: Uint8Array): Sniffed | null {
+  const starts = (sig: number[], at = 0) => sig.every((b, i) => bytes[at + i] === b);
+  if (starts([0xff, 0xd8, 0xff])) return { contentType: "image/jpeg", extension: "jpg" };
+  if (starts([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a])) return { contentType: "image/png", extension: "png" };
+  if (starts([0x52, 0x49, 0x46, 0x46]) && starts([0x57, 0x45, 0x42, 0x50], 8)) return { contentType: "image/webp", extension: "webp" };
+  if (starts([0x25, 0x50, 0x44, 0x46, 0x2d])) return { contentType: "application/pdf", extension: "pdf" };
+  return null;
+}
+
+export class UploadError extends Error {
+  constructor(
+    message: string,
+    readonly status: 400 | 413 | 415 = 400,
+  ) {
+    super(message);
+  }
+}
+
+/** Checks, stores (with a thumbnail for images) and records one upload. */
+export async function saveUpload(user: SessionUser, input: { patientId: string; examId: string | null; kind: DocumentKind; description: string; file: File }, request: Request) {
+  const { file } = input;
+  if (file.size === 0) throw new UploadError("The file is empty.");
+  if (file.size > MAX_UPLOAD_BYTES) throw new UploadError(`The file is ${(file.size / 1024 / 1024).toFixed(1)} MB; the limit is ${MAX_UPLOAD_BYTES / 1024 / 1024} MB.`, 413);
+  const bytes = new Uint8Array(await file.arrayBuffer());
+  const type = sniffType(bytes);
+  if (!type) throw new UploadError("Only JPEG, PNG or WebP images and PDF documents can be attached (checked from the file's content, not its name).", 415);
+  let thumbnail: Buffer | null = null;
+  if (type.contentType !== "application/pdf") {
+    try {
+      thumbnail = await sharp(bytes).rotate().resize(320, 320, { fit: "inside", withoutEnlargement: true }).jpeg({ quality: 78 }).toBuffer();
+    } catch {
+      throw new UploadError("The image could not be read; it may be damaged.", 415);
+    }
+  }
+  const key = await storage.put(bytes, { prefix: "documents", extension: type.extension });
+  const thumbnailKey = thumbnail ? await storage.put(thumbnail, { prefix: "thumbnails", extension: "jpg" }) : null;
+  try {
+    return await db.transaction(async (tx) => {
+      const [row] = await tx
+        .insert(documents)
+        .values({
+          patientId: input.patientId,
+          examId: input.examId,
+          kind: input.kind,
+          description: input.description,
+          originalName: file.name.slice(0, 200) || "upload",
+          contentType: type.contentType,
+          sizeBytes: file.size,
+          storageKey: key,
+          thumbnailKey,
+          uploadedById: user.id,
+        })
+        .returning({ id: documents.id });
+      await audit({ action: "document.uploaded", actorUserId: user.id, entityType: "document", entityId: row!.id, patientId: input.patientId, detail: { examId: input.examId, kind: input.kind, contentType: type.contentType, sizeBytes: file.size }, request }, tx);
+      return row!.id;
+    });
+  } catch (e) {
+    await storage.delete(key);
+    if (thumbnailKey) await storage.delete(thumbnailKey);
+    throw e;
+  }
+}
+
+export async function documentsOf(patientId: string, examId?: string) {
+  const rows = await db
+    .select({
+      id: documents.id,
+      examId: documents.examId,
+      kind: documents.kind,
+      description: documents.description,
+      originalName: documents.originalName,
+      contentType: documents.contentType,
+      sizeBytes: documents.sizeBytes,
+      hasThumbnail: documents.thumbnailKey,
+      createdAt: documents.createdAt,
+      uploadedBy: users.name,
+    })
+    .from(documents)
+    .innerJoin(users, eq(users.id, documents.uploadedById))
+    .where(and(eq(documents.patientId, patientId), examId ? eq(documents.examId, examId) : undefined))
+    .orderBy(desc(documents.createdAt))
+    .limit(200);
+  return rows.map((r) => ({ ...r, hasThumbnail: !!r.hasThumbnail, createdAt: r.createdAt.toISOString() }));
+}
+export type DocumentView = Awaited<ReturnType<typeof documentsOf>>[number];

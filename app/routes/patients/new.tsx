@@ -1,0 +1,57 @@
+import { parseWithZod } from "@conform-to/zod/v4";
+import { data } from "react-router";
+import type { Route } from "./+types/new";
+import { PageHeader } from "~/components/page-header";
+import { patients } from "~/db/schema";
+import { audit } from "~/utils/audit.server";
+import { CLINICAL_ROLES, requireRole, STAFF_ROLES } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+import { redirectWithToast } from "~/utils/toast.server";
+import { PatientForm, type PatientActionData } from "./patient-form";
+import { patientSchema } from "./patient-schema";
+import { findDuplicates } from "./patients.server";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const user = await requireRole(request, STAFF_ROLES);
+  return { clinical: (CLINICAL_ROLES as readonly string[]).includes(user.role) };
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  const user = await requireRole(request, STAFF_ROLES);
+  const submission = parseWithZod(await request.formData(), { schema: patientSchema });
+  if (submission.status !== "success") return data(submission.reply(), { status: 400 });
+  const { confirmDuplicate, allergies, medications, ...demographics } = submission.value;
+  const clinical = (CLINICAL_ROLES as readonly string[]).includes(user.role);
+  if (confirmDuplicate !== "yes") {
+    const duplicates = await findDuplicates(demographics);
+    if (duplicates.length) {
+      return data(
+        { ...submission.reply({ formErrors: ["A patient with this name and date of birth is already registered."] }), duplicates },
+        { status: 409 },
+      );
+    }
+  }
+  const id = await db.transaction(async (tx) => {
+    const [row] = await tx
+      .insert(patients)
+      .values({ ...demographics, email: demographics.email || null, phone: demographics.phone || null, ...(clinical ? { allergies, medications } : {}) })
+      .returning({ id: patients.id });
+    await audit(
+      { action: "patient.created", actorUserId: user.id, entityType: "patient", entityId: row!.id, patientId: row!.id, detail: { duplicateConfirmed: confirmDuplicate === "yes" }, request },
+      tx,
+    );
+    return row!.id;
+  });
+  return redirectWithToast(`/patients/${id}`, { kind: "success", title: `${demographics.firstName} ${demographics.lastName} registered` });
+}
+
+export default function NewPatient({ loaderData, actionData }: Route.ComponentProps) {
+  return (
+    <>
+      <PageHeader title="Register a patient" description="Name and date of birth are required; the rest can follow." />
+      <PatientForm id="new-patient" lastResult={actionData as PatientActionData} clinical={loaderData.clinical} submitLabel="Register patient" defaultValue={{ remindersByEmail: "on" }} />
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Register a patient · Dioptra" }];

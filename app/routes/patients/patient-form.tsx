@@ -1,0 +1,119 @@
+import { getFormProps, getInputProps, getSelectProps, getTextareaProps, useForm, type SubmissionResult } from "@conform-to/react";
+import { parseWithZod } from "@conform-to/zod/v4";
+import { Form, Link, useNavigation } from "react-router";
+import { ErrorList, Field, SelectField } from "~/components/forms";
+import { Button } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Textarea } from "~/components/ui/input";
+import { Notice } from "~/components/ui/notice";
+import type { z } from "zod";
+import { formatDate, patientSchema } from "./patient-schema";
+
+export type Duplicate = { id: string; firstName: string; lastName: string; dateOfBirth: string; phone: string | null; email: string | null };
+export type PatientActionData = (SubmissionResult<string[]> & { duplicates?: Duplicate[] }) | undefined;
+
+/** Registration and demographics; clinical fields only for clinical roles. */
+export function PatientForm({
+  id,
+  defaultValue,
+  lastResult,
+  clinical,
+  submitLabel,
+}: {
+  id: string;
+  defaultValue?: Record<string, unknown>;
+  lastResult: PatientActionData;
+  clinical: boolean;
+  submitLabel: string;
+}) {
+  const navigation = useNavigation();
+  const [form, fields] = useForm<z.input<typeof patientSchema>>({
+    id,
+    lastResult,
+    defaultValue: defaultValue as never,
+    onValidate: ({ formData }) => parseWithZod(formData, { schema: patientSchema }),
+    shouldValidate: "onBlur",
+    shouldRevalidate: "onInput",
+  });
+  const duplicates = lastResult?.duplicates ?? [];
+  return (
+    <Form method="post" {...getFormProps(form)} className="space-y-6">
+      {duplicates.length ? (
+        <Notice tone="warning" title="This may be a patient who is already registered">
+          <p>
+            {duplicates.length === 1 ? "A patient" : `${duplicates.length} patients`} with the same name and date of birth {duplicates.length === 1 ? "is" : "are"} already registered:
+          </p>
+          <ul className="mt-2 list-disc pl-5">
+            {duplicates.map((d) => (
+              <li key={d.id}>
+                <Link to={`/patients/${d.id}`} className="font-semibold underline">
+                  {d.lastName}, {d.firstName}
+                </Link>{" "}
+                born {formatDate(d.dateOfBirth)}
+                {d.phone ? ` · ${d.phone}` : ""}
+                {d.email ? ` · ${d.email}` : ""}
+              </li>
+            ))}
+          </ul>
+          <label className="mt-3 flex items-center gap-2 font-semibold">
+            <input type="checkbox" name="confirmDuplicate" value="yes" className="size-4" />
+            This is a different person: save anyway
+          </label>
+        </Notice>
+      ) : form.errors?.length ? (
+        <Notice tone="error" title="Not saved">
+          {form.errors.join(" ")}
+        </Notice>
+      ) : null}
+      <Card title="Identity">
+        <div className="grid gap-4 sm:grid-cols-2">
+          <Field label="First name" errors={fields.firstName.errors} inputProps={{ ...getInputProps(fields.firstName, { type: "text" }), autoComplete: "off" }} />
+          <Field label="Last name" errors={fields.lastName.errors} inputProps={{ ...getInputProps(fields.lastName, { type: "text" }), autoComplete: "off" }} />
+          <Field label="Date of birth" errors={fields.dateOfBirth.errors} inputProps={getInputProps(fields.dateOfBirth, { type: "date" })} />
+          <SelectField label="Sex" errors={fields.sex.errors} selectProps={getSelectProps(fields.sex)}>
+            <option value="unknown">Not recorded</option>
+            <option value="female">Female</option>
+            <option value="male">Male</option>
+            <option value="other">Other</option>
+          </SelectField>
+        </div>
+      </Card>
+      <Card title="Contact">
+        <div className="grid gap-4 sm:grid-cols-2">
+          <Field label="E-mail" errors={fields.email.errors} inputProps={getInputProps(fields.email, { type: "email" })} />
+          <Field label="Phone" errors={fields.phone.errors} inputProps={getInputProps(fields.phone, { type: "tel" })} />
+          <Field label="Address" errors={fields.addressLine1.errors} inputProps={getInputProps(fields.addressLine1, { type: "text" })} />
+          <Field label="Town or city" errors={fields.city.errors} inputProps={getInputProps(fields.city, { type: "text" })} />
+          <Field label="Postcode" errors={fields.postcode.errors} inputProps={getInputProps(fields.postcode, { type: "text" })} />
+          <label className="flex items-center gap-2 self-end pb-2 text-sm font-semibold">
+            <input {...getInputProps(fields.remindersByEmail, { type: "checkbox" })} className="size-4" />
+            Send reminders by e-mail
+          </label>
+        </div>
+      </Card>
+      {clinical ? (
+        <Card title="Allergies and medications">
+          <div className="grid gap-4 sm:grid-cols-2">
+            <div>
+              <label htmlFor={fields.allergies.id} className="mb-1 block text-sm font-semibold">
+                Allergies
+              </label>
+              <Textarea {...getTextareaProps(fields.allergies)} rows={3} />
+              <ErrorList errors={fields.allergies.errors} />
+            </div>
+            <div>
+              <label htmlFor={fields.medications.id} className="mb-1 block text-sm font-semibold">
+                Current medications
+              </label>
+              <Textarea {...getTextareaProps(fields.medications)} rows={3} />
+              <ErrorList errors={fields.medications.errors} />
+            </div>
+          </div>
+        </Card>
+      ) : null}
+      <Button type="submit" pending={navigation.state === "submitting"}>
+        {submitLabel}
+      </Button>
+    </Form>
+  );
+}

@@ -1,0 +1,113 @@
+import { and, asc, count, desc, eq, isNull, lt, ne, sql, type SQL } from "drizzle-orm";
+import { patients } from "~/db/schema";
+import { db } from "~/utils/db.server";
+import type { ListQuery } from "./patient-schema";
+
+/** Months without an exam after which a patient counts as due (common practice: a two-yearly routine exam for adults). */
+export const DEFAULT_RECALL_MONTHS = 24;
+
+const DATE_PATTERNS: [RegExp, (m: RegExpMatchArray) => string][] = [
+  [/^(\d{4})-(\d{1,2})-(\d{1,2})$/, (m) => `${m[1]}-${m[2]!.padStart(2, "0")}-${m[3]!.padStart(2, "0")}`],
+  [/^(\d{1,2})[/.-](\d{1,2})[/.-](\d{4})$/, (m) => `${m[3]}-${m[2]!.padStart(2, "0")}-${m[1]!.padStart(2, "0")}`],
+];
+
+/** A typed date of birth (2011-03-09, 9/3/2011, 09.03.2011; day before month) as ISO, or null. */
+export function parseDobQuery(q: string): string | null {
+  for (const [re, toIso] of DATE_PATTERNS) {
+    const m = q.match(re);
+    if (m) {
+      const iso = toIso(m);
+      const d = new Date(`${iso}T00:00:00Z`);
+      if (!Number.isNaN(d.getTime()) && d.toISOString().slice(0, 10) === iso) return iso;
+    }
+  }
+  return null;
+}
+
+const escapeLike = (s: string) => s.replace(/[\\%_]/g, (c) => `\\${c}`);
+
+/**
+ * The WHERE clause of a patient search: a date of birth, or every word found somewhere in the
+ * name, e-mail or phone digits (answered by the trigram index on search_text).
+ */
+export function searchCondition(q: string): SQL | undefined {
+  const text = q.trim();
+  if (!text) return undefined;
+  const dob = parseDobQuery(text);
+  if (dob) return eq(patients.dateOfBirth, dob);
+  const words = text
+    .toLowerCase()
+    .split(/\s+/)
+    .map((w) => (/^[+\d()\-.]+$/.test(w) ? w.replace(/\D/g, "") : w))
+    .filter(Boolean)
+    .slice(0, 5);
+  if (!words.length) return undefined;
+  return and(...words.map((w) => sql`${patients.searchText} like ${`%${escapeLike(w)}%`}`));
+}
+
+export type PatientHit = { id: string; firstName: string; lastName: string; dateOfBirth: string; phone: string | null; email: string | null };
+
+export async function searchPatients(q: string, limit = 8): Promise<PatientHit[]> {
+  const where = searchCondition(q);
+  if (!where) return [];
+  return db
+    .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth, phone: patients.phone, email: patients.email })
+    .from(patients)
+    .where(where)
+    .orderBy(asc(patients.lastName), asc(patients.firstName), asc(patients.dateOfBirth), asc(patients.id))
+    .limit(limit);
+}
+
+function filterCondition(filter: ListQuery["filter"]): SQL | undefined {
+  if (filter === "never") return isNull(patients.lastExamAt);
+  if (filter === "due") return lt(patients.lastExamAt, sql`now() - make_interval(months => ${DEFAULT_RECALL_MONTHS})`);
+  return undefined;
+}
+
+export async function listPatients(query: ListQuery) {
+  const where = and(searchCondition(query.q), filterCondition(query.filter));
+  const d = query.dir === "desc" ? desc : asc;
+  const order =
+    query.sort === "dob"
+      ? [d(patients.dateOfBirth), d(patients.id)]
+      : query.sort === "lastExam"
+        ? [query.dir === "desc" ? sql`${patients.lastExamAt} desc nulls last` : sql`${patients.lastExamAt} asc nulls first`, d(patients.id)]
+        : query.sort === "created"
+          ? [d(patients.createdAt), d(patients.id)]
+          : [d(patients.lastName), d(patients.firstName), d(patients.dateOfBirth), d(patients.id)];
+  const [rows, [total]] = await Promise.all([
+    db
+      .select({
+        id: patients.id,
+        firstName: patients.firstName,
+        lastName: patients.lastName,
+        dateOfBirth: patients.dateOfBirth,
+        phone: patients.phone,
+        email: patients.email,
+        lastExamAt: patients.lastExamAt,
+      })
+      .from(patients)
+      .where(where)
+      .orderBy(...order)
+      .limit(query.size)
+      .offset((query.page - 1) * query.size),
+    db.select({ n: count() }).from(patients).where(where),
+  ]);
+  return { rows, total: total?.n ?? 0 };
+}
+
+/** Patients with the same name (case-insensitive) and date of birth: likely the same person. */
+export async function findDuplicates(input: { firstName: string; lastName: string; dateOfBirth: string }, excludeId?: string) {
+  return db
+    .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth, phone: patients.phone, email: patients.email })
+    .from(patients)
+    .where(
+      and(
+        eq(patients.dateOfBirth, input.dateOfBirth),
+        sql`lower(${patients.lastName}) = ${input.lastName.toLowerCase()}`,
+        sql`lower(${patients.firstName}) = ${input.firstName.toLowerCase()}`,
+        excludeId ? ne(patients.id, excludeId) : undefined,
+      ),
+    )
+    .limit(5);
+}

@@ -1,0 +1,128 @@
+import { useEffect, useState } from "react";
+import { CartesianGrid, Legend, Line, LineChart, ResponsiveContainer, Scatter, ScatterChart, Tooltip, XAxis, YAxis, ZAxis } from "recharts";
+import { Card } from "~/components/ui/card";
+import { StatusBadge } from "~/components/ui/notice";
+import { formatDate } from "./patient-schema";
+
+type Point = { examId: string; date: string; kind: string; eye: "right" | "left"; M: number; J0: number; J45: number; sphere: number; cylinder: number; axis: number };
+type Progression = Partial<Record<"right" | "left", { ratePerYear: number; changeD: number; years: number; fast: boolean; rule: string; source: string; warnings: string[] }>> | null;
+
+const COLOURS = { right: "#0d5c62", left: "#b45309" } as const;
+
+/** Refractions over time in power-vector space (M against date; J0/J45 scatter), with a table of the same data. */
+export function RefractionHistory({ points, progression }: { points: Point[]; progression: Progression }) {
+  const [eye, setEye] = useState<"both" | "right" | "left">("both");
+  const [kind, setKind] = useState<"final" | "all">("final");
+  const [mounted, setMounted] = useState(false);
+  useEffect(() => setMounted(true), []);
+  const shown = points.filter((p) => (kind === "all" || p.kind === "final") && (eye === "both" || p.eye === eye));
+  const byEye = (e: "right" | "left") => shown.filter((p) => p.eye === e).map((p) => ({ ...p, t: Date.parse(p.date) }));
+  const eyes = eye === "both" ? (["right", "left"] as const) : ([eye] as const);
+  return (
+    <Card title="Refraction history (power vectors)">
+      <div className="mb-4 flex flex-wrap gap-6 text-sm">
+        <fieldset className="flex gap-3">
+          <legend className="mr-2 font-semibold">Eye</legend>
+          {(["both", "right", "left"] as const).map((e) => (
+            <label key={e} className="flex items-center gap-1">
+              <input type="radio" name="plot-eye" checked={eye === e} onChange={() => setEye(e)} /> {e === "both" ? "Both" : e === "right" ? "Right" : "Left"}
+            </label>
+          ))}
+        </fieldset>
+        <fieldset className="flex gap-3">
+          <legend className="mr-2 font-semibold">Refractions</legend>
+          <label className="flex items-center gap-1">
+            <input type="radio" name="plot-kind" checked={kind === "final"} onChange={() => setKind("final")} /> Final only
+          </label>
+          <label className="flex items-center gap-1">
+            <input type="radio" name="plot-kind" checked={kind === "all"} onChange={() => setKind("all")} /> All kinds
+          </label>
+        </fieldset>
+      </div>
+      {progression ? (
+        <div className="mb-4 space-y-1 text-sm" data-testid="myopia-progression">
+          <p className="font-semibold">Myopia progression (child):</p>
+          {(["right", "left"] as const).map((e) =>
+            progression[e] ? (
+              <p key={e}>
+                {e === "right" ? "Right" : "Left"}: {progression[e]!.ratePerYear.toFixed(2)} D per year ({progression[e]!.changeD.toFixed(2)} D over {progression[e]!.years.toFixed(1)} years){" "}
+                {progression[e]!.fast ? <StatusBadge tone="warning">Fast progression</StatusBadge> : <StatusBadge tone="success">Under 0.50 D per year</StatusBadge>}
+              </p>
+            ) : null,
+          )}
+          <p className="text-xs text-muted">
+            Rule: {progression.right?.rule ?? progression.left?.rule}. Source: {progression.right?.source ?? progression.left?.source}. Check before changing management.
+          </p>
+        </div>
+      ) : null}
+      {shown.length === 0 ? (
+        <p className="text-muted">No refractions recorded yet.</p>
+      ) : mounted ? (
+        <div className="grid gap-6 lg:grid-cols-2" aria-hidden="true">
+          <div>
+            <p className="mb-1 text-sm font-semibold">Spherical equivalent M (D) over time</p>
+            <ResponsiveContainer width="100%" height={260}>
+              <LineChart margin={{ top: 8, right: 16, bottom: 8, left: 0 }}>
+                <CartesianGrid strokeDasharray="3 3" />
+                <XAxis dataKey="t" type="number" domain={["dataMin", "dataMax"]} scale="time" tickFormatter={(t: number) => new Date(t).getUTCFullYear().toString()} />
+                <YAxis dataKey="M" type="number" unit=" D" width={64} />
+                <Tooltip labelFormatter={(t) => formatDate(new Date(Number(t)).toISOString())} formatter={(v) => [`${Number(v).toFixed(2)} D`, "M"]} />
+                <Legend />
+                {eyes.map((e) => (
+                  <Line key={e} data={byEye(e)} dataKey="M" name={e === "right" ? "Right" : "Left"} stroke={COLOURS[e]} strokeDasharray={e === "left" ? "5 3" : undefined} dot={{ r: 3 }} isAnimationActive={false} />
+                ))}
+              </LineChart>
+            </ResponsiveContainer>
+          </div>
+          <div>
+            <p className="mb-1 text-sm font-semibold">Astigmatism J0 against J45 (D)</p>
+            <ResponsiveContainer width="100%" height={260}>
+              <ScatterChart margin={{ top: 8, right: 16, bottom: 8, left: 0 }}>
+                <CartesianGrid strokeDasharray="3 3" />
+                <XAxis dataKey="J0" type="number" name="J0" unit=" D" />
+                <YAxis dataKey="J45" type="number" name="J45" unit=" D" width={64} />
+                <ZAxis range={[40, 40]} />
+                <Tooltip />
+                <Legend />
+                {eyes.map((e) => (
+                  <Scatter key={e} data={byEye(e)} name={e === "right" ? "Right" : "Left"} fill={COLOURS[e]} shape={e === "left" ? "triangle" : "circle"} isAnimationActive={false} />
+                ))}
+              </ScatterChart>
+            </ResponsiveContainer>
+          </div>
+        </div>
+      ) : null}
+      {shown.length ? (
+        <details className="mt-4 text-sm">
+          <summary className="cursor-pointer font-semibold">The same data as a table</summary>
+          <table className="mt-2 min-w-full">
+            <caption className="sr-only">Refractions and their power vectors</caption>
+            <thead>
+              <tr className="text-left">
+                <th scope="col" className="p-1">Date</th>
+                <th scope="col" className="p-1">Kind</th>
+                <th scope="col" className="p-1">Eye</th>
+                <th scope="col" className="p-1">M</th>
+                <th scope="col" className="p-1">J0</th>
+                <th scope="col" className="p-1">J45</th>
+              </tr>
+            </thead>
+            <tbody>
+              {shown.map((p, i) => (
+                <tr key={i} className="border-t border-line">
+                  <td className="p-1">{formatDate(p.date)}</td>
+                  <td className="p-1">{p.kind}</td>
+                  <td className="p-1">{p.eye}</td>
+                  <td className="p-1 font-mono">{p.M.toFixed(2)}</td>
+                  <td className="p-1 font-mono">{p.J0.toFixed(2)}</td>
+                  <td className="p-1 font-mono">{p.J45.toFixed(2)}</td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+          <p className="mt-1 text-xs text-muted">Power vectors M, J0, J45: Thibos, Wheeler &amp; Horner, Optom Vis Sci 1997;74:367–375.</p>
+        </details>
+      ) : null}
+    </Card>
+  );
+}

@@ -1,0 +1,128 @@
+import { useRef, useState } from "react";
+import { useRevalidator } from "react-router";
+import { Button } from "~/components/ui/button";
+import { Icon } from "~/components/ui/icon";
+import { Notice } from "~/components/ui/notice";
+import { formatDate } from "./patient-schema";
+
+type Doc = { id: string; kind: string; description: string; originalName: string; contentType: string; sizeBytes: number; hasThumbnail: boolean; createdAt: string; uploadedBy: string };
+const KIND_LABEL: Record<string, string> = { fundus_photo: "Fundus photograph", field_printout: "Visual field printout", outside_record: "Outside record", other: "Other" };
+
+export function DocumentList({ patientId, documents }: { patientId: string; documents: Doc[] }) {
+  if (!documents.length) return <p className="text-muted">No files attached.</p>;
+  return (
+    <ul className="grid gap-3 sm:grid-cols-2 lg:grid-cols-3">
+      {documents.map((d) => (
+        <li key={d.id} className="flex gap-3 rounded-md border border-line p-3">
+          {d.hasThumbnail ? (
+            <img src={`/patients/${patientId}/documents/${d.id}/thumbnail`} alt={`Thumbnail of ${d.originalName}`} className="size-20 rounded object-cover" loading="lazy" />
+          ) : (
+            <span className="flex size-20 items-center justify-center rounded bg-canvas text-xs font-bold text-muted">PDF</span>
+          )}
+          <div className="min-w-0 text-sm">
+            <a href={`/patients/${patientId}/documents/${d.id}/file`} target="_blank" rel="noreferrer" className="block truncate font-semibold text-accent-800 underline">
+              {d.originalName}
+            </a>
+            <p className="text-muted">
+              {KIND_LABEL[d.kind] ?? d.kind} · {(d.sizeBytes / 1024).toFixed(0)} KB
+            </p>
+            <p className="text-muted">
+              {formatDate(d.createdAt)} · {d.uploadedBy}
+            </p>
+            {d.description ? <p>{d.description}</p> : null}
+          </div>
+        </li>
+      ))}
+    </ul>
+  );
+}
+
+/** Uploads one file with a progress bar (XMLHttpRequest reports upload progress; fetch does not). */
+export function UploadForm({ patientId, examId }: { patientId: string; examId?: string }) {
+  const [progress, setProgress] = useState<number | null>(null);
+  const [message, setMessage] = useState<{ tone: "error" | "success"; text: string } | null>(null);
+  const formRef = useRef<HTMLFormElement>(null);
+  const revalidator = useRevalidator();
+  const idp = examId ? `up-${examId}` : `up-${patientId}`;
+
+  function submit(e: React.FormEvent<HTMLFormElement>) {
+    e.preventDefault();
+    const form = new FormData(e.currentTarget);
+    const file = form.get("file");
+    if (!(file instanceof File) || !file.size) {
+      setMessage({ tone: "error", text: "Choose a file to attach." });
+      return;
+    }
+    setMessage(null);
+    setProgress(0);
+    const xhr = new XMLHttpRequest();
+    xhr.open("POST", "/api/uploads");
+    xhr.upload.onprogress = (ev) => ev.lengthComputable && setProgress(Math.round((ev.loaded / ev.total) * 100));
+    xhr.onload = () => {
+      setProgress(null);
+      let body: { ok?: boolean; message?: string } = {};
+      try {
+        body = JSON.parse(xhr.responseText);
+      } catch {
+        /* not JSON */
+      }
+      if (xhr.status === 201) {
+        setMessage({ tone: "success", text: `${file.name} attached.` });
+        formRef.current?.reset();
+        revalidator.revalidate();
+      } else setMessage({ tone: "error", text: body.message ?? `Upload refused (${xhr.status}).` });
+    };
+    xhr.onerror = () => {
+      setProgress(null);
+      setMessage({ tone: "error", text: "The upload failed: the connection was lost. Try again." });
+    };
+    xhr.send(form);
+  }
+
+  return (
+    <form ref={formRef} onSubmit={submit} className="grid gap-3 sm:grid-cols-[1fr_12rem_1fr_auto] sm:items-end" aria-label="Attach a file">
+      <input type="hidden" name="patientId" value={patientId} />
+      {examId ? <input type="hidden" name="examId" value={examId} /> : null}
+      <div>
+        <label htmlFor={`${idp}-file`} className="mb-1 block text-sm font-semibold">
+          File (JPEG, PNG, WebP or PDF, up to 15 MB)
+        </label>
+        <input id={`${idp}-file`} name="file" type="file" accept="image/jpeg,image/png,image/webp,application/pdf" className="block w-full text-sm" />
+      </div>
+      <div>
+        <label htmlFor={`${idp}-kind`} className="mb-1 block text-sm font-semibold">
+          Kind
+        </label>
+        <select id={`${idp}-kind`} name="kind" defaultValue="fundus_photo" className="block w-full rounded-md border border-line bg-white px-2 py-2 text-sm">
+          {Object.entries(KIND_LABEL).map(([k, v]) => (
+            <option key={k} value={k}>
+              {v}
+            </option>
+          ))}
+        </select>
+      </div>
+      <div>
+        <label htmlFor={`${idp}-desc`} className="mb-1 block text-sm font-semibold">
+          Description (optional)
+        </label>
+        <input id={`${idp}-desc`} name="description" className="block w-full rounded-md border border-line px-3 py-2 text-sm" />
+      </div>
+      <Button type="submit" variant="secondary" pending={progress !== null}>
+        <Icon name="check" /> Attach
+      </Button>
+      {progress !== null ? (
+        <div className="sm:col-span-4">
+          <label htmlFor={`${idp}-progress`} className="text-sm font-semibold">
+            Uploading… {progress}%
+          </label>
+          <progress id={`${idp}-progress`} max={100} value={progress} className="block h-2 w-full" />
+        </div>
+      ) : null}
+      {message ? (
+        <div className="sm:col-span-4">
+          <Notice tone={message.tone} title={message.text} />
+        </div>
+      ) : null}
+    </form>
+  );
+}

@@ -1,0 +1,151 @@
+import { and, eq } from "drizzle-orm";
+import { describe, expect, it } from "vitest";
+import { action as examAction, loader as examLoader } from "~/routes/exams/exam";
+import { auditLog, examAcuity, examAddenda, examIop, examRefractions, exams, patients } from "~/db/schema";
+import { db } from "~/utils/db.server";
+import { cookieFor, dataOf, makeRequest, run, statusOf, userByEmail } from "#tests/support/helpers";
+
+const uniq = () => Math.random().toString(36).slice(2, 8);
+
+async function setup(opts: { previousFinal?: boolean } = {}) {
+  const optom = await userByEmail("optometrist@dioptra-demo.test");
+  const [p] = await db.insert(patients).values({ firstName: "Exam", lastName: `Case${uniq()}`, dateOfBirth: "1988-03-04" }).returning();
+  if (opts.previousFinal) {
+    const [old] = await db
+      .insert(exams)
+      .values({ patientId: p!.id, optometristId: optom.id, examinedAt: new Date(Date.now() - 365 * 864e5), status: "signed", signedAt: new Date(Date.now() - 365 * 864e5), signedById: optom.id })
+      .returning();
+    await db.insert(examRefractions).values([
+      { examId: old!.id, kind: "final", eye: "right", rawText: "-2.00 -0.50 x 180", sphere: -2, cylinder: -0.5, axis: 180 },
+      { examId: old!.id, kind: "final", eye: "left", rawText: "-1.75 DS", sphere: -1.75, cylinder: 0, axis: 180 },
+    ]);
+  }
+  const [exam] = await db.insert(exams).values({ patientId: p!.id, optometristId: optom.id }).returning();
+  return { patient: p!, exam: exam!, params: { patientId: p!.id, examId: exam!.id } };
+}
+
+const post = async (role: string, params: { patientId: string; examId: string }, form: Record<string, string>) =>
+  run(examAction, makeRequest(`/patients/${params.patientId}/exams/${params.examId}`, { cookie: await cookieFor(role), form }), params);
+
+describe("exam access", () => {
+  it("gives the front desk 403 on read and on every write, and writes nothing", async () => {
+    const { params, exam } = await setup();
+    expect(statusOf(await run(examLoader, makeRequest("/x", { cookie: await cookieFor("receptionist") }), params))).toBe(403);
+    for (const form of <Record<string, string>[]>[
+      { intent: "save", section: "refraction:final", right_rx: "-1.00 DS" },
+      { intent: "save", section: "iop", right_mmHg: "30", right_method: "goldmann", right_time: "10:00" },
+      { intent: "sign" },
+    ]) {
+      expect(statusOf(await post("receptionist", params, form))).toBe(403);
+    }
+    expect(await db.select().from(examRefractions).where(eq(examRefractions.examId, exam.id))).toHaveLength(0);
+    expect(await db.select().from(examIop).where(eq(examIop.examId, exam.id))).toHaveLength(0);
+    const [after] = await db.select().from(exams).where(eq(exams.id, exam.id));
+    expect(after!.status).toBe("in_progress");
+  });
+
+  it("gives a patient 403 and answers 404 for an exam under another patient's id or a guessed id", async () => {
+    const a = await setup();
+    const b = await setup();
+    expect(statusOf(await run(examLoader, makeRequest("/x", { cookie: await cookieFor("patient") }), a.params))).toBe(403);
+    const owner = await cookieFor("owner");
+    expect(statusOf(await run(examLoader, makeRequest("/x", { cookie: owner }), { patientId: b.patient.id, examId: a.exam.id }))).toBe(404);
+    expect(statusOf(await run(examLoader, makeRequest("/x", { cookie: owner }), { patientId: a.patient.id, examId: "00000000-0000-4000-8000-000000000000" }))).toBe(404);
+    expect(statusOf(await run(examAction, makeRequest("/x", { cookie: owner, form: { intent: "save", section: "history", reason: "x" } }), { patientId: b.patient.id, examId: a.exam.id }))).toBe(404);
+  });
+});
+
+describe("saving sections", () => {
+  it("parses a refraction with the engine, keeps the typed text, and audits the write", async () => {
+    const { params, exam } = await setup();
+    const res = await post("optometrist", params, { intent: "save", section: "refraction:subjective", right_rx: "-2.25 -0.75 x 175", right_add: "1.50", right_va: "6/6", left_rx: "pl", left_prism: "1", left_base: "in", left_vertex: "12" });
+    expect(statusOf(res)).toBe(200);
+    const rows = await db.select().from(examRefractions).where(eq(examRefractions.examId, exam.id));
+    const right = rows.find((r) => r.eye === "right")!;
+    const left = rows.find((r) => r.eye === "left")!;
+    expect(right).toMatchObject({ rawText: "-2.25 -0.75 x 175", sphere: -2.25, cylinder: -0.75, axis: 175, addPower: 1.5, vaNotation: "6/6", vaLogMar: 0 });
+    expect(left).toMatchObject({ sphere: 0, cylinder: 0, axis: 180, prismDioptres: 1, prismBase: "in", vertexMm: 12 });
+    const audits = await db.select().from(auditLog).where(and(eq(auditLog.action, "exam.section_saved"), eq(auditLog.entityId, exam.id)));
+    expect(audits[0]?.detail).toEqual({ section: "refraction:subjective" });
+  });
+
+  it("refuses an invalid field with 400 naming the field, and keeps what was saved before", async () => {
+    const { params, exam } = await setup();
+    await post("optometrist", params, { intent: "save", section: "refraction:final", right_rx: "-1.00 DS" });
+    const res = await post("optometrist", params, { intent: "save", section: "refraction:final", right_rx: "-1.25 -0.50 x 195", left_rx: "-1.00", left_va: "6/banana" });
+    expect(statusOf(res)).toBe(400);
+    const reply = dataOf<{ ok: boolean; errors: Record<string, string[]> }>(res);
+    expect(reply.ok).toBe(false);
+    expect(Object.keys(reply.errors).sort()).toEqual(["left_va", "right_rx"]);
+    expect(reply.errors.right_rx![0]).toMatch(/^Right final/);
+    expect(reply.errors.right_rx![0]).toMatch(/195/);
+    const rows = await db.select().from(examRefractions).where(eq(examRefractions.examId, exam.id));
+    expect(rows.map((r) => [r.eye, r.sphere])).toEqual([["right", -1]]);
+  });
+
+  it("validates acuity, IOP, colour vision and blind spot, and rejects unknown sections", async () => {
+    const { params, exam } = await setup();
+    expect(statusOf(await post("optometrist", params, { intent: "save", section: "acuity", va_right_distance_unaided: "20/40-2", va_left_near_best: "N-what" }))).toBe(400);
+    expect(await db.select().from(examAcuity).where(eq(examAcuity.examId, exam.id))).toHaveLength(0);
+    expect(statusOf(await post("optometrist", params, { intent: "save", section: "acuity", va_right_distance_unaided: "20/40-2", va_both_distance_best: "6/5" }))).toBe(200);
+    const va = await db.select().from(examAcuity).where(eq(examAcuity.examId, exam.id));
+    // 20/40 is logMAR 0.301, two letters missed add 0.02 each (Bailey & Lovie 1976 letter scoring).
+    expect(va.find((r) => r.eye === "right")!.logMar).toBeCloseTo(0.341, 3);
+    const iop = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "iop", right_mmHg: "19" }));
+    expect(Object.keys(iop.errors).sort()).toEqual(["right_method", "right_time"]);
+    const cv = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "colour", right_test: "plates_38", right_result: "normal", right_correct: "16", right_shown: "15" }));
+    expect(cv.errors.right_correct![0]).toMatch(/cannot exceed/);
+    const vf = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "fields", right_fmethod: "automated", right_bsX: "15" }));
+    expect(Object.keys(vf.errors).sort()).toEqual(["right_bsH", "right_bsW", "right_bsY"]);
+    expect(statusOf(await post("optometrist", params, { intent: "save", section: "drop table" }))).toBe(400);
+  });
+
+  it("shows last visit's final refraction and the engine's referral prompts beside the findings", async () => {
+    const { params } = await setup({ previousFinal: true });
+    await post("optometrist", params, { intent: "save", section: "iop", right_mmHg: "27", right_method: "goldmann", right_time: "09:40", left_mmHg: "18", left_method: "goldmann", left_time: "09:41" });
+    await post("optometrist", params, { intent: "save", section: "fields", right_fmethod: "automated", right_bsX: "15", right_bsY: "-1.5", right_bsW: "10", right_bsH: "12" });
+    const d = dataOf<{ previous: { rows: Record<string, { sphere: number }> }; prompts: { code: string; eye: string; rule: string; source: string }[] }>(
+      await run(examLoader, makeRequest("/x", { cookie: await cookieFor("optometrist") }), params),
+    );
+    expect(d.previous.rows.right!.sphere).toBe(-2);
+    const codes = d.prompts.map((p) => `${p.code}:${p.eye}`).sort();
+    expect(codes).toEqual(["BLIND_SPOT_ENLARGED:right", "IOP_ABOVE_NORMAL:right", "IOP_ASYMMETRY:both"]);
+    expect(d.prompts.every((p) => p.rule && p.source)).toBe(true);
+  });
+});
+
+describe("signing and addenda", () => {
+  it("locks a signed exam, takes addenda with author and time, and audits each step", async () => {
+    const { params, exam } = await setup();
+    expect(statusOf(await post("optometrist", params, { intent: "addendum", section: "Final", body: "Too early" }))).toBe(409);
+    const signed = (await post("optometrist", params, { intent: "sign" })) as Response;
+    expect(signed.status).toBe(302);
+    const [row] = await db.select().from(exams).where(eq(exams.id, exam.id));
+    const optom = await userByEmail("optometrist@dioptra-demo.test");
+    expect(row).toMatchObject({ status: "signed", signedById: optom.id });
+    expect(statusOf(await post("optometrist", params, { intent: "sign" }))).toBe(409);
+    const late = await post("owner", params, { intent: "save", section: "history", reason: "changed after signing" });
+    expect(statusOf(late)).toBe(409);
+    expect(statusOf(await post("owner", params, { intent: "addendum", section: "", body: "" }))).toBe(400);
+    expect(statusOf(await post("owner", params, { intent: "addendum", section: "Case history", body: "Patient also reports glare at night." }))).toBe(302);
+    const owner = await userByEmail("owner@dioptra-demo.test");
+    const [ad] = await db.select().from(examAddenda).where(eq(examAddenda.examId, exam.id));
+    expect(ad).toMatchObject({ authorId: owner.id, section: "Case history" });
+    expect(ad!.createdAt).toBeInstanceOf(Date);
+    const actions = (await db.select().from(auditLog).where(eq(auditLog.entityId, exam.id))).map((a) => a.action);
+    expect(actions).toContain("exam.signed");
+  });
+
+  it("lets exactly one of two simultaneous signatures win", async () => {
+    const { params, exam } = await setup();
+    const results = await Promise.all([post("optometrist", params, { intent: "sign" }), post("owner", params, { intent: "sign" })]);
+    expect(results.map(statusOf).sort()).toEqual([302, 409]);
+    expect((await db.select().from(auditLog).where(and(eq(auditLog.action, "exam.signed"), eq(auditLog.entityId, exam.id))))).toHaveLength(1);
+  });
+
+  it("audits every exam read", async () => {
+    const { params, exam } = await setup();
+    await run(examLoader, makeRequest("/x", { cookie: await cookieFor("owner") }), params);
+    expect(await db.select().from(auditLog).where(and(eq(auditLog.action, "exam.read"), eq(auditLog.entityId, exam.id)))).toHaveLength(1);
+  });
+});
