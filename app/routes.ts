@@ -13,6 +13,11 @@ export default [
     route(":messageId/attachments/:index", "routes/dev/mailbox-attachment.ts"),
   ]),
 
+  route("api/appointments", "routes/api/appointments.ts"),
+  route("api/appointments/:appointmentId", "routes/api/appointments-item.ts"),
+  route("api/schedule-patients", "routes/api/schedule-patients.ts"),
+  route("schedule/recalls/batches/:batchId", "routes/schedule/recall-progress.ts"),
+
   route("api/webhooks/stripe", "routes/api/webhooks/stripe.ts"),
   route("pay/:token", "routes/pay/pay.tsx"),
   route("pay/:token/invoice.pdf", "routes/pay/invoice-pdf.ts"),
@@ -40,12 +45,22 @@ export default [
       route("invoices/:invoiceId", "routes/billing/invoice.tsx"),
       route("takings", "routes/billing/takings.tsx"),
     ]),
+    ...prefix("schedule", [
+      index("routes/schedule/index.tsx"),
+      route("day", "routes/schedule/day.tsx"),
+      route("book", "routes/schedule/book.tsx"),
+      route("appointments/:appointmentId", "routes/schedule/appointment.tsx"),
+      route("messages", "routes/schedule/messages.tsx"),
+      route("recalls", "routes/schedule/recalls.tsx"),
+    ]),
     route("account", "routes/auth/account.tsx"),
     route("tools/rx", "routes/tools/rx.tsx"),
     ...prefix("settings", [
       layout("routes/settings/layout.tsx", [
         index("routes/settings/practice.tsx"),
         route("users", "routes/settings/users.tsx"),
+        route("appointment-types", "routes/settings/appointment-types.tsx"),
+        route("hours", "routes/settings/hours.tsx"),
         route("fees", "routes/settings/fees.tsx"),
       ]),
     ]),

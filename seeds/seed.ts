@@ -5,6 +5,7 @@ import pg from "pg";
 import * as schema from "../app/db/schema";
 import { databaseUrl } from "../app/utils/db-url";
 import { seedBilling } from "./billing";
+import { seedCaseload } from "./caseload";
 import { DEMO_PASSWORD, DEMO_PATIENT, DEMO_PRACTICE, DEMO_USERS } from "./demo-practice";
 
 const { patients, practiceSettings, users } = schema;
@@ -31,6 +32,7 @@ export async function seed(url = databaseUrl()) {
         if (existing) continue;
         await tx.insert(users).values({ ...u, passwordHash, patientId: u.role === "patient" ? patient!.id : null });
       }
+      await seedCaseload(tx);
     });
   } finally {
     await pool.end();

@@ -5,6 +5,7 @@ export type NavItem = { to: string; label: string; roles: readonly Role[] };
 /** The navigation, one list for every role: each sees only the areas its role may use. */
 export const NAV: readonly NavItem[] = [
   { to: "/", label: "Today", roles: ["owner", "optometrist", "receptionist"] },
+  { to: "/schedule", label: "Schedule", roles: ["owner", "optometrist", "receptionist"] },
   { to: "/patients", label: "Patients", roles: ["owner", "optometrist", "receptionist"] },
   { to: "/tools/rx", label: "Rx calculator", roles: ["owner", "optometrist", "receptionist"] },
   { to: "/billing", label: "Billing", roles: ["owner", "receptionist"] },

@@ -19,6 +19,13 @@ export const practiceSettings = pgTable(
     /** Validity of a spectacle prescription, months; local law governs. */
     spectacleRxValidityMonths: integer().notNull().default(24),
     contactLensRxValidityMonths: integer().notNull().default(12),
+    /** Recall interval after a routine exam when the visit type sets none, months (common practice: 12 for children, 24 for adults). */
+    recallMonthsChild: integer().notNull().default(12),
+    recallMonthsAdult: integer().notNull().default(24),
+    /** A patient younger than this, in whole years, on the day of the exam counts as a child for recalls (common practice: 16). */
+    childUnderYears: integer().notNull().default(16),
+    /** How long before an appointment its reminder e-mail goes out, hours. */
+    reminderHoursBefore: integer().notNull().default(24),
     /** Tax on standard-rated invoice lines, basis points (2000 = 20 %); 0 = no tax. */
     taxRateBp: integer().notNull().default(0),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),

@@ -1,6 +1,6 @@
 import { sql } from "drizzle-orm";
-import { boolean, check, index, integer, pgEnum, pgTable, text, timestamp, uuid } from "drizzle-orm/pg-core";
-import { users } from "./auth";
+import { bigint, boolean, check, date, index, integer, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import { roleEnum, users } from "./auth";
 import { feeItems } from "./billing";
 import { patients } from "./patients";
 
@@ -12,15 +12,26 @@ export const appointmentTypes = pgTable(
     name: text().notNull(),
     durationMinutes: integer().notNull(),
     defaultFeeItemId: uuid().references(() => feeItems.id, { onDelete: "set null" }),
-    /** Months until the patient is due again after this kind of visit (null: no recall). */
+    /** Months until the patient is due again after this kind of visit (null: the practice's default by age). */
     recallMonths: integer(),
+    /** Roles whose members may be booked as the provider of this kind of visit. */
+    performerRoles: roleEnum()
+      .array()
+      .notNull()
+      .default(sql`'{owner,optometrist}'::role[]`),
+    /** Counts as a routine exam for recalls (a completed visit of this type resets the recall clock). */
+    routineExam: boolean().notNull().default(true),
     active: boolean().notNull().default(true),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
-  (t) => [check("appointment_types_duration", sql`${t.durationMinutes} between 5 and 480`)],
+  (t) => [
+    check("appointment_types_duration", sql`${t.durationMinutes} between 5 and 480`),
+    check("appointment_types_recall_months", sql`${t.recallMonths} is null or ${t.recallMonths} between 1 and 120`),
+  ],
 );
 
 export const appointmentStatusEnum = pgEnum("appointment_status", ["booked", "confirmed", "arrived", "in_exam", "completed", "cancelled", "no_show"]);
+export type AppointmentStatus = (typeof appointmentStatusEnum.enumValues)[number];
 
 /**
  * One booked visit. No double booking of a provider is enforced by an exclusion constraint over
@@ -46,11 +57,136 @@ export const appointments = pgTable(
     createdById: uuid().references(() => users.id, { onDelete: "set null" }),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+    /** Who last changed the status, and when (the full trail is in appointment_status_changes). */
+    statusChangedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+    statusChangedById: uuid().references(() => users.id, { onDelete: "set null" }),
+    /** Bumped on every move or resize; the .ics SEQUENCE. */
+    revision: integer().notNull().default(0),
   },
   (t) => [
     check("appointments_end_after_start", sql`${t.endsAt} > ${t.startsAt}`),
+    // Calendar queries bound their index scan by the longest possible appointment.
+    check("appointments_at_most_8_hours", sql`${t.endsAt} - ${t.startsAt} <= interval '8 hours'`),
     index("appointments_provider_start_idx").on(t.providerId, t.startsAt),
     index("appointments_start_idx").on(t.startsAt),
     index("appointments_patient_idx").on(t.patientId, t.startsAt),
   ],
+);
+
+/** Every status change of an appointment: from, to, who and when. Append-only. */
+export const appointmentStatusChanges = pgTable(
+  "appointment_status_changes",
+  {
+    id: bigint({ mode: "number" }).primaryKey().generatedAlwaysAsIdentity(),
+    appointmentId: uuid()
+      .notNull()
+      .references(() => appointments.id, { onDelete: "cascade" }),
+    fromStatus: appointmentStatusEnum(),
+    toStatus: appointmentStatusEnum().notNull(),
+    changedById: uuid().references(() => users.id, { onDelete: "set null" }),
+    changedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [index("appointment_status_changes_appt_idx").on(t.appointmentId, t.changedAt)],
+);
+
+/**
+ * A provider's working hours: one span per weekday (ISO weekday 1 = Monday … 7 = Sunday),
+ * in minutes after local midnight in the practice's time zone. No row: not working that day.
+ */
+export const workingHours = pgTable(
+  "working_hours",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    providerId: uuid()
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    weekday: integer().notNull(),
+    startMinute: integer().notNull(),
+    endMinute: integer().notNull(),
+  },
+  (t) => [
+    uniqueIndex("working_hours_provider_day_uq").on(t.providerId, t.weekday),
+    check("working_hours_weekday", sql`${t.weekday} between 1 and 7`),
+    check("working_hours_span", sql`${t.startMinute} >= 0 and ${t.endMinute} <= 1440 and ${t.endMinute} > ${t.startMinute}`),
+  ],
+);
+
+/** Breaks inside a provider's working day (lunch, admin), same units as working_hours. */
+export const providerBreaks = pgTable(
+  "provider_breaks",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    providerId: uuid()
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    weekday: integer().notNull(),
+    startMinute: integer().notNull(),
+    endMinute: integer().notNull(),
+    label: text().notNull().default("Break"),
+  },
+  (t) => [
+    index("provider_breaks_provider_idx").on(t.providerId, t.weekday),
+    check("provider_breaks_weekday", sql`${t.weekday} between 1 and 7`),
+    check("provider_breaks_span", sql`${t.startMinute} >= 0 and ${t.endMinute} <= 1440 and ${t.endMinute} > ${t.startMinute}`),
+  ],
+);
+
+export const messageStatusEnum = pgEnum("message_status", ["queued", "sent", "skipped", "failed"]);
+export const appointmentMessageKindEnum = pgEnum("appointment_message_kind", ["confirmation", "reminder", "cancellation"]);
+
+/**
+ * The e-mails about an appointment: one row per (appointment, kind), so a message is never sent
+ * twice; the row is locked and marked sent in the same transaction as the send.
+ */
+export const appointmentMessages = pgTable(
+  "appointment_messages",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    appointmentId: uuid()
+      .notNull()
+      .references(() => appointments.id, { onDelete: "cascade" }),
+    kind: appointmentMessageKindEnum().notNull(),
+    status: messageStatusEnum().notNull().default("queued"),
+    recipient: text(),
+    /** When the message is due to go (the reminder's time; now for the others). */
+    dueAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+    attempts: integer().notNull().default(0),
+    lastError: text(),
+    /** Why a message was not sent (opted out, no address, cancelled). */
+    skippedReason: text(),
+    sentAt: timestamp({ withTimezone: true }),
+    createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [uniqueIndex("appointment_messages_appt_kind_uq").on(t.appointmentId, t.kind), index("appointment_messages_created_idx").on(t.createdAt)],
+);
+
+/** One bulk send of recall e-mails started by the front desk; progress is counted from its messages. */
+export const recallBatches = pgTable("recall_batches", {
+  id: uuid().primaryKey().defaultRandom(),
+  createdById: uuid().references(() => users.id, { onDelete: "set null" }),
+  createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  total: integer().notNull().default(0),
+});
+
+/** One recall e-mail to a patient for one due date: never two for the same due date. */
+export const recallMessages = pgTable(
+  "recall_messages",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    batchId: uuid()
+      .notNull()
+      .references(() => recallBatches.id, { onDelete: "cascade" }),
+    patientId: uuid()
+      .notNull()
+      .references(() => patients.id, { onDelete: "cascade" }),
+    dueDate: date({ mode: "string" }).notNull(),
+    status: messageStatusEnum().notNull().default("queued"),
+    recipient: text(),
+    attempts: integer().notNull().default(0),
+    lastError: text(),
+    skippedReason: text(),
+    sentAt: timestamp({ withTimezone: true }),
+    createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [uniqueIndex("recall_messages_patient_due_uq").on(t.patientId, t.dueDate), index("recall_messages_batch_idx").on(t.batchId)],
 );

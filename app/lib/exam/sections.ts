@@ -156,3 +156,10 @@ export function rxText(rx: SphCyl) {
 }
 
 export const acuityField = (eye: string, distance: string, correction: string) => `va_${eye}_${distance}_${correction}`;
+
+/** Printed on every prescription and beside the issue form. */
+export const RX_CAUTIONS = [
+  "Check every value against the signed exam before ordering lenses.",
+  "Contact-lens powers are converted from the spectacle plane to the cornea (effective power, F/(1 - dF)) and rounded to 0.25 D steps; both values are shown. Check them before ordering.",
+  "Validity is the practice's setting; local law and licensed practice govern prescriptions.",
+] as const;

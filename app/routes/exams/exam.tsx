@@ -29,6 +29,7 @@ import {
   REFRACTION_KINDS,
   REFRACTION_LABEL,
   RELIABILITY,
+  RX_CAUTIONS,
   SEGMENT_STRUCTURES,
   type EyeKey,
   type RefractionKind,
@@ -36,7 +37,7 @@ import {
 } from "~/lib/exam/sections";
 import { compareRx, formatRx, isMeaningfulChange, MEANINGFUL_CHANGE_RULE, type ReferralPrompt, type SphCyl } from "~/lib/optics";
 import { ageOn, formatDate } from "~/routes/patients/patient-schema";
-import { issuePrescription, prescriptionsOf, RX_CAUTIONS } from "~/routes/patients/prescriptions.server";
+import { issuePrescription, prescriptionsOf } from "~/routes/patients/prescriptions.server";
 import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";

@@ -11,11 +11,7 @@ export const DEFAULT_VERTEX_MM = 12;
 /** Contact-lens powers are ordered in 0.25 D steps (common practice). */
 export const CONTACT_LENS_STEP_D = 0.25;
 
-export const RX_CAUTIONS = [
-  "Check every value against the signed exam before ordering lenses.",
-  "Contact-lens powers are converted from the spectacle plane to the cornea (effective power, F/(1 − dF)) and rounded to 0.25 D steps; both values are shown. Check them before ordering.",
-  "Validity is the practice's setting; local law and licensed practice govern prescriptions.",
-] as const;
+export { RX_CAUTIONS } from "~/lib/exam/sections";
 
 /** ISO date `months` after `from`, in UTC (day clamped to the month's end). */
 export function addMonths(from: Date, months: number) {

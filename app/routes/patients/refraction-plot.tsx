@@ -58,9 +58,9 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
       {shown.length === 0 ? (
         <p className="text-muted">No refractions recorded yet.</p>
       ) : mounted ? (
-        <div className="grid gap-6 lg:grid-cols-2" aria-hidden="true">
-          <div>
-            <p className="mb-1 text-sm font-semibold">Spherical equivalent M (D) over time</p>
+        <div className="grid gap-6 lg:grid-cols-2">
+          <figure>
+            <figcaption className="mb-1 text-sm font-semibold">Spherical equivalent M (D) over time; right eye solid line, left eye dashed</figcaption>
             <ResponsiveContainer width="100%" height={260}>
               <LineChart margin={{ top: 8, right: 16, bottom: 8, left: 0 }}>
                 <CartesianGrid strokeDasharray="3 3" />
@@ -73,9 +73,9 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
                 ))}
               </LineChart>
             </ResponsiveContainer>
-          </div>
-          <div>
-            <p className="mb-1 text-sm font-semibold">Astigmatism J0 against J45 (D)</p>
+          </figure>
+          <figure>
+            <figcaption className="mb-1 text-sm font-semibold">Astigmatism J0 against J45 (D); right eye circles, left eye triangles</figcaption>
             <ResponsiveContainer width="100%" height={260}>
               <ScatterChart margin={{ top: 8, right: 16, bottom: 8, left: 0 }}>
                 <CartesianGrid strokeDasharray="3 3" />
@@ -89,7 +89,7 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
                 ))}
               </ScatterChart>
             </ResponsiveContainer>
-          </div>
+          </figure>
         </div>
       ) : null}
       {shown.length ? (

@@ -11,6 +11,8 @@ export async function loader({ request }: Route.LoaderArgs) {
 const tabs = [
   { to: "/settings", label: "Practice details", end: true },
   { to: "/settings/users", label: "Team and accounts", end: false },
+  { to: "/settings/appointment-types", label: "Appointment types", end: false },
+  { to: "/settings/hours", label: "Working hours", end: false },
   { to: "/settings/fees", label: "Fee schedule", end: false },
 ];
 

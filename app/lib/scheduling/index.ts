@@ -1,0 +1,4 @@
+export * from "./hours";
+export * from "./recall";
+export * from "./status";
+export * from "./time";

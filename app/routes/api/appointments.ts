@@ -1,0 +1,53 @@
+import { data } from "react-router";
+import type { Route } from "./+types/appointments";
+import { bookingErrorJson, bookingSchema, errorJson, eventJson, isoTime, readBody, zodFieldErrors } from "~/routes/schedule/schedule-api.server";
+import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
+import { appointmentsBetween, bookAppointment, BookingError, practiceSchedule } from "~/utils/schedule.server";
+import { z } from "zod";
+
+/**
+ * GET /api/appointments?start=&end=&provider= — the calendar's events, times as ISO 8601 with
+ * the practice zone's offset. `start`/`end` with an offset are instants; without one they are
+ * wall times in the practice's zone (as the calendar sends them). `provider` is a user id or "all".
+ */
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireRole(request, STAFF_ROLES);
+  const { timeZone } = await practiceSchedule();
+  const url = new URL(request.url);
+  const parsed = z
+    .object({
+      start: isoTime(timeZone, "start"),
+      end: isoTime(timeZone, "end"),
+      provider: z.union([z.literal("all"), z.uuid({ error: "provider must be a user id or all." })]).default("all"),
+      includeCancelled: z.enum(["0", "1"]).default("0"),
+    })
+    .refine((v) => v.end > v.start, { message: "end must be after start.", path: ["end"] })
+    .refine((v) => v.end.getTime() - v.start.getTime() <= 62 * 86_400_000, { message: "Ask for at most 62 days at a time.", path: ["end"] })
+    .safeParse(Object.fromEntries([...url.searchParams.entries()].filter(([k]) => k !== "timeZone" && k !== "_")));
+  if (!parsed.success) return errorJson(400, "Check the query.", zodFieldErrors(parsed.error));
+  const { start, end, provider, includeCancelled } = parsed.data;
+  const events = await appointmentsBetween(start, end, { providerId: provider === "all" ? undefined : provider, includeCancelled: includeCancelled === "1" });
+  return Response.json(events.map((e) => eventJson(e, timeZone)));
+}
+
+/**
+ * POST /api/appointments — book: JSON `{ patientId, providerId, appointmentTypeId, start, end? }`.
+ * 201 with the appointment; 409 naming the clash; 400 for a malformed body; 422 or 404 with field
+ * errors for a booking the rules refuse (past, outside hours, unknown patient or provider…).
+ */
+export async function action({ request }: Route.ActionArgs) {
+  if (request.method !== "POST") throw data({ error: "Use POST to book; PATCH /api/appointments/:id to change." }, { status: 405 });
+  const user = await requireRole(request, STAFF_ROLES);
+  const { timeZone } = await practiceSchedule();
+  const body = await readBody(request);
+  const parsed = bookingSchema(timeZone).safeParse(body);
+  if (!parsed.success) return errorJson(400, "Check the fields.", zodFieldErrors(parsed.error));
+  try {
+    const appt = await bookAppointment(user, parsed.data, request);
+    const [event] = await appointmentsBetween(appt.startsAt, appt.endsAt, { providerId: appt.providerId });
+    return Response.json({ appointment: eventJson(event!, timeZone) }, { status: 201, headers: { location: `/api/appointments/${appt.id}` } });
+  } catch (error) {
+    if (error instanceof BookingError) return bookingErrorJson(error);
+    throw error;
+  }
+}

@@ -1,0 +1,235 @@
+import { getFormProps, useForm } from "@conform-to/react";
+import { parseWithZod } from "@conform-to/zod/v4";
+import { asc, desc, eq } from "drizzle-orm";
+import { data, Form, Link, useNavigation } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/appointment";
+import { StatusCommands, statusAction, usePolling } from "./day";
+import { isoTime } from "./schedule-api.server";
+import { scheduleReferenceData } from "./schedule-data.server";
+import { AppointmentStatus } from "./status-ui";
+import { ErrorList } from "~/components/forms";
+import { GeneralErrorBoundary } from "~/components/error-boundary";
+import { PageHeader } from "~/components/page-header";
+import { Button } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Input, Select } from "~/components/ui/input";
+import { Notice } from "~/components/ui/notice";
+import { appointmentMessages, appointments, appointmentStatusChanges, appointmentTypes, exams, patients, users } from "~/db/schema";
+import { isMovable, STATUS_LABEL } from "~/lib/scheduling/status";
+import { formatLocal, localParts, toZonedIso } from "~/lib/scheduling/time";
+import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+import { BookingError, moveAppointment, practiceSchedule } from "~/utils/schedule.server";
+import { redirectWithToast } from "~/utils/toast.server";
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const user = await requireRole(request, STAFF_ROLES);
+  if (!z.uuid().safeParse(params.appointmentId).success) throw data({ error: "No such appointment." }, { status: 404 });
+  const { timeZone } = await practiceSchedule();
+  const [a] = await db
+    .select({
+      id: appointments.id,
+      start: appointments.startsAt,
+      end: appointments.endsAt,
+      status: appointments.status,
+      notes: appointments.notes,
+      providerId: appointments.providerId,
+      providerName: users.name,
+      patientId: appointments.patientId,
+      first: patients.firstName,
+      last: patients.lastName,
+      typeName: appointmentTypes.name,
+    })
+    .from(appointments)
+    .innerJoin(users, eq(users.id, appointments.providerId))
+    .innerJoin(patients, eq(patients.id, appointments.patientId))
+    .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
+    .where(eq(appointments.id, params.appointmentId));
+  if (!a) throw data({ error: "No such appointment." }, { status: 404 });
+  const history = await db
+    .select({ from: appointmentStatusChanges.fromStatus, to: appointmentStatusChanges.toStatus, at: appointmentStatusChanges.changedAt, by: users.name })
+    .from(appointmentStatusChanges)
+    .leftJoin(users, eq(users.id, appointmentStatusChanges.changedById))
+    .where(eq(appointmentStatusChanges.appointmentId, a.id))
+    .orderBy(asc(appointmentStatusChanges.changedAt), asc(appointmentStatusChanges.id));
+  const messages = await db.select().from(appointmentMessages).where(eq(appointmentMessages.appointmentId, a.id)).orderBy(asc(appointmentMessages.createdAt));
+  const [exam] = await db.select({ id: exams.id }).from(exams).where(eq(exams.appointmentId, a.id)).orderBy(desc(exams.createdAt)).limit(1);
+  const { providers } = await scheduleReferenceData();
+  const local = localParts(a.start, timeZone);
+  return {
+    role: user.role,
+    timeZone,
+    appointment: {
+      id: a.id,
+      status: a.status,
+      when: `${formatLocal(a.start, timeZone)}–${formatLocal(a.end, timeZone, { withDate: false })}`,
+      startIso: toZonedIso(a.start, timeZone),
+      date: local.date,
+      time: formatLocal(a.start, timeZone, { withDate: false }),
+      notes: a.notes,
+      providerId: a.providerId,
+      providerName: a.providerName,
+      patientId: a.patientId,
+      patientName: `${a.first} ${a.last}`,
+      typeName: a.typeName,
+      movable: isMovable(a.status),
+      examUrl: exam ? `/patients/${a.patientId}/exams/${exam.id}` : null,
+    },
+    history: history.map((h) => ({ ...h, at: formatLocal(h.at, timeZone) })),
+    messages: messages.map((m) => ({ kind: m.kind, status: m.status, dueAt: formatLocal(m.dueAt, timeZone), sentAt: m.sentAt ? formatLocal(m.sentAt, timeZone) : null, reason: m.skippedReason, error: m.lastError })),
+    providers: providers.map(({ id, name }) => ({ id, name })),
+  };
+}
+
+function moveSchema(timeZone: string) {
+  return z.object({
+    intent: z.literal("move"),
+    date: z.iso.date({ error: "Give the day." }),
+    time: z.string({ error: "Give the time." }).regex(/^\d{2}:\d{2}$/, "Give the time as HH:MM."),
+    providerId: z.uuid({ error: "Choose a provider." }),
+  }).transform((v, ctx) => {
+    const start = isoTime(timeZone, "start").safeParse(`${v.date}T${v.time}`);
+    if (!start.success) {
+      ctx.addIssue({ code: "custom", path: ["time"], message: `That time does not exist in ${timeZone} on that day (the clocks change).` });
+      return z.NEVER;
+    }
+    return { ...v, start: start.data };
+  });
+}
+
+export async function action({ request, params }: Route.ActionArgs) {
+  const user = await requireRole(request, STAFF_ROLES);
+  const formData = await request.clone().formData();
+  if (formData.get("intent") === "status") return statusAction(request);
+  const { timeZone } = await practiceSchedule();
+  const submission = parseWithZod(formData, { schema: moveSchema(timeZone) });
+  if (submission.status !== "success") return data(submission.reply(), { status: 400 });
+  try {
+    await moveAppointment(user, params.appointmentId, { start: submission.value.start, providerId: submission.value.providerId }, request);
+  } catch (error) {
+    if (error instanceof BookingError) return data(submission.reply({ formErrors: [error.message], fieldErrors: error.fieldErrors.start ? { time: error.fieldErrors.start } : {} }), { status: error.status });
+    throw error;
+  }
+  return redirectWithToast(`/schedule/appointments/${params.appointmentId}`, { kind: "success", title: "Appointment moved", description: `Now ${formatLocal(submission.value.start, timeZone)}.` });
+}
+
+const KIND_LABEL = { confirmation: "Confirmation", reminder: "Reminder", cancellation: "Cancellation notice" } as const;
+const MSG_LABEL = { queued: "Waiting to send", sent: "Sent", skipped: "Not sent", failed: "Failed" } as const;
+
+export default function AppointmentPage({ loaderData, actionData }: Route.ComponentProps) {
+  const { appointment: a, history, messages, providers, role, timeZone } = loaderData;
+  const navigation = useNavigation();
+  usePolling(10);
+  const [form, fields] = useForm({ id: "move", lastResult: navigation.state === "idle" ? (actionData as never) : null, defaultValue: { date: a.date, time: a.time, providerId: a.providerId } });
+  return (
+    <>
+      <PageHeader
+        title={`${a.patientName} · ${a.typeName}`}
+        description={`${a.when} with ${a.providerName} (practice time, ${timeZone})`}
+        actions={
+          <>
+            <Link to={`/schedule?date=${a.date}`} className="font-semibold text-accent-700 underline underline-offset-4">
+              Back to the calendar
+            </Link>
+          </>
+        }
+      />
+      <div className="grid gap-6 lg:grid-cols-2">
+        <Card title="Status">
+          <p className="mb-3 flex items-center gap-2">
+            <AppointmentStatus status={a.status} />
+          </p>
+          <StatusCommands id={a.id} status={a.status} role={role} name={a.patientName} />
+          {a.examUrl ? (
+            <p className="mt-4">
+              <Link to={a.examUrl} className="font-semibold text-accent-700 underline underline-offset-4">
+                Open the exam
+              </Link>
+            </p>
+          ) : null}
+          <p className="mt-4">
+            <Link to={`/patients/${a.patientId}`} className="font-semibold text-accent-700 underline underline-offset-4">
+              Patient&apos;s chart
+            </Link>
+          </p>
+          {a.notes ? <p className="mt-4 text-sm">Note: {a.notes}</p> : null}
+          <h3 className="mt-6 mb-2 font-semibold">History</h3>
+          <ol className="space-y-1 text-sm">
+            {history.map((h, i) => (
+              <li key={i}>
+                {h.at}: {h.from ? `${STATUS_LABEL[h.from]} → ` : ""}
+                {STATUS_LABEL[h.to]} by {h.by ?? "a former account"}
+              </li>
+            ))}
+          </ol>
+        </Card>
+        <Card title="Move">
+          {a.movable ? (
+            <Form method="post" {...getFormProps(form)} className="space-y-4">
+              <input type="hidden" name="intent" value="move" />
+              {form.errors?.length ? (
+                <Notice tone="error" title="Not moved">
+                  {form.errors.join(" ")}
+                </Notice>
+              ) : null}
+              <div className="grid gap-4 sm:grid-cols-3">
+                <div>
+                  <label htmlFor={fields.date.id} className="mb-1 block text-sm font-semibold">
+                    Day
+                  </label>
+                  <Input id={fields.date.id} name={fields.date.name} type="date" defaultValue={a.date} aria-invalid={fields.date.errors ? true : undefined} />
+                  <ErrorList errors={fields.date.errors} />
+                </div>
+                <div>
+                  <label htmlFor={fields.time.id} className="mb-1 block text-sm font-semibold">
+                    Time
+                  </label>
+                  <Input id={fields.time.id} name={fields.time.name} type="time" step={300} defaultValue={a.time} aria-invalid={fields.time.errors ? true : undefined} />
+                  <ErrorList errors={fields.time.errors} />
+                </div>
+                <div>
+                  <label htmlFor={fields.providerId.id} className="mb-1 block text-sm font-semibold">
+                    With
+                  </label>
+                  <Select id={fields.providerId.id} name={fields.providerId.name} defaultValue={a.providerId}>
+                    {providers.map((p) => (
+                      <option key={p.id} value={p.id}>
+                        {p.name}
+                      </option>
+                    ))}
+                  </Select>
+                  <ErrorList errors={fields.providerId.errors} />
+                </div>
+              </div>
+              <Button type="submit" pending={navigation.state === "submitting"}>
+                Move appointment
+              </Button>
+            </Form>
+          ) : (
+            <p className="text-muted">A {STATUS_LABEL[a.status].toLowerCase()} appointment is not moved.</p>
+          )}
+        </Card>
+        <Card title="E-mails to the patient" className="lg:col-span-2">
+          {messages.length === 0 ? <p className="text-muted">None.</p> : null}
+          <ul className="space-y-2 text-sm">
+            {messages.map((m) => (
+              <li key={m.kind}>
+                <span className="font-semibold">{KIND_LABEL[m.kind]}</span>: {MSG_LABEL[m.status]}
+                {m.sentAt ? ` ${m.sentAt}` : m.status === "queued" ? ` (due ${m.dueAt})` : ""}
+                {m.reason ? ` (${m.reason})` : ""}
+                {m.error ? ` · last error: ${m.error}` : ""}
+              </li>
+            ))}
+          </ul>
+        </Card>
+      </div>
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Appointment · Dioptra" }];
+
+export function ErrorBoundary() {
+  return <GeneralErrorBoundary />;
+}

@@ -1,0 +1,205 @@
+import { useEffect, useId, useState } from "react";
+import { useFetcher } from "react-router";
+import { ErrorList } from "~/components/forms";
+import { Button } from "~/components/ui/button";
+import { Input, Select, Textarea } from "~/components/ui/input";
+import { Notice } from "~/components/ui/notice";
+
+export type PatientOption = { id: string; name: string; dateOfBirth: string; email: string | null };
+export type BookingDefaults = { start?: string; providerId?: string; appointmentTypeId?: string; patient?: PatientOption | null };
+type Reply = { status?: string; error?: Record<string, string[] | null> | null } | undefined;
+
+function errorsOf(reply: Reply, field: string) {
+  return reply?.error?.[field] ?? undefined;
+}
+
+/** "29 Mar 1979" from "1979-03-29" (dates of birth have no time zone). */
+export function formatDob(d: string) {
+  return new Intl.DateTimeFormat("en-GB", { day: "numeric", month: "short", year: "numeric", timeZone: "UTC" }).format(new Date(`${d}T00:00:00Z`));
+}
+
+function PatientPicker({ initial, errors }: { initial: PatientOption | null; errors?: string[] }) {
+  const search = useFetcher<{ results: PatientOption[] }>();
+  const register = useFetcher<{ patient?: PatientOption; error?: string; fieldErrors?: Record<string, string[]> }>();
+  const [q, setQ] = useState("");
+  const [chosen, setChosen] = useState<PatientOption | null>(initial);
+  const [extra, setExtra] = useState<PatientOption[]>(initial ? [initial] : []);
+  const [newPatient, setNewPatient] = useState({ firstName: "", lastName: "", dateOfBirth: "", email: "", phone: "" });
+  const id = useId();
+
+  useEffect(() => {
+    if (q.trim().length < 2) return;
+    const t = setTimeout(() => search.load(`/api/schedule-patients?q=${encodeURIComponent(q.trim())}`), 200);
+    return () => clearTimeout(t);
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [q]);
+
+  useEffect(() => {
+    const p = register.data?.patient;
+    if (p) {
+      setExtra((list) => [p, ...list.filter((x) => x.id !== p.id)]);
+      setChosen(p);
+      setNewPatient({ firstName: "", lastName: "", dateOfBirth: "", email: "", phone: "" });
+    }
+  }, [register.data]);
+
+  const found = q.trim().length >= 2 ? (search.data?.results ?? []) : [];
+  const options = [...extra, ...found.filter((f) => !extra.some((e) => e.id === f.id))];
+  const regErrors = register.data?.fieldErrors ?? {};
+
+  return (
+    <fieldset className="space-y-3" aria-describedby={errors?.length ? `${id}-err` : undefined}>
+      <legend className="mb-1 text-sm font-semibold">Patient</legend>
+      <div>
+        <label htmlFor={`${id}-q`} className="mb-1 block text-sm text-muted">
+          Find by name, date of birth, phone or e-mail
+        </label>
+        <Input id={`${id}-q`} type="search" value={q} onChange={(e) => setQ(e.target.value)} autoComplete="off" placeholder="e.g. Achterberg or 17/04/1979" />
+      </div>
+      <div aria-live="polite" className="text-sm text-muted">
+        {search.state === "loading" ? "Searching…" : q.trim().length >= 2 && found.length === 0 && search.data ? "No patient matches; register them below." : null}
+      </div>
+      {options.length ? (
+        <ul className="max-h-56 space-y-1 overflow-y-auto rounded-md border border-line p-2">
+          {options.map((p) => (
+            <li key={p.id}>
+              <label className="flex cursor-pointer items-center gap-3 rounded px-2 py-1.5 hover:bg-canvas">
+                <input type="radio" name="patientId" value={p.id} checked={chosen?.id === p.id} onChange={() => setChosen(p)} className="size-4 accent-accent-700" />
+                <span>
+                  <span className="font-semibold">{p.name}</span>
+                  <span className="text-sm text-muted"> · born {formatDob(p.dateOfBirth)}{p.email ? ` · ${p.email}` : ""}</span>
+                </span>
+              </label>
+            </li>
+          ))}
+        </ul>
+      ) : null}
+      <ErrorList id={`${id}-err`} errors={errors} />
+      <details className="rounded-md border border-line p-3">
+        <summary className="cursor-pointer text-sm font-semibold text-accent-700">Register a new patient</summary>
+        <div className="mt-3 grid gap-3 sm:grid-cols-2">
+          {(
+            [
+              ["firstName", "First name", "text"],
+              ["lastName", "Last name", "text"],
+              ["dateOfBirth", "Date of birth", "date"],
+              ["email", "E-mail (optional)", "email"],
+              ["phone", "Phone (optional)", "tel"],
+            ] as const
+          ).map(([key, label, type]) => (
+            <div key={key}>
+              <label htmlFor={`${id}-new-${key}`} className="mb-1 block text-sm font-semibold">
+                {label}
+              </label>
+              <Input
+                id={`${id}-new-${key}`}
+                type={type}
+                value={newPatient[key]}
+                onChange={(e) => setNewPatient((v) => ({ ...v, [key]: e.target.value }))}
+                aria-invalid={regErrors[key]?.length ? true : undefined}
+                aria-describedby={regErrors[key]?.length ? `${id}-new-${key}-err` : undefined}
+              />
+              <ErrorList id={`${id}-new-${key}-err`} errors={regErrors[key]} />
+            </div>
+          ))}
+        </div>
+        <Button
+          type="button"
+          variant="secondary"
+          className="mt-3"
+          pending={register.state !== "idle"}
+          onClick={() => register.submit(newPatient, { method: "post", action: "/api/schedule-patients", encType: "application/json" })}
+        >
+          Register and choose
+        </Button>
+      </details>
+    </fieldset>
+  );
+}
+
+/** The booking form, used in the calendar's dialog and on the booking page. */
+export function BookingForm({
+  providers,
+  types,
+  defaults,
+  returnTo,
+  onCancel,
+}: {
+  providers: { id: string; name: string }[];
+  types: { id: string; name: string; durationMinutes: number }[];
+  defaults: BookingDefaults;
+  returnTo?: string;
+  onCancel?: () => void;
+}) {
+  const fetcher = useFetcher<Reply>();
+  const reply = fetcher.data;
+  const formErrors = errorsOf(reply, "");
+  const id = useId();
+  return (
+    <fetcher.Form method="post" action="/schedule/book" className="space-y-4" aria-label="Book an appointment">
+      {returnTo ? <input type="hidden" name="returnTo" value={returnTo} /> : null}
+      {formErrors?.length ? (
+        <Notice tone="error" title="Not booked">
+          {formErrors.join(" ")}
+        </Notice>
+      ) : null}
+      <PatientPicker key={defaults.patient?.id ?? "none"} initial={defaults.patient ?? null} errors={errorsOf(reply, "patientId")} />
+      <div className="grid gap-4 sm:grid-cols-2">
+        <div>
+          <label htmlFor={`${id}-type`} className="mb-1 block text-sm font-semibold">
+            Appointment type
+          </label>
+          <Select id={`${id}-type`} name="appointmentTypeId" defaultValue={defaults.appointmentTypeId ?? types[0]?.id} aria-invalid={errorsOf(reply, "appointmentTypeId") ? true : undefined}>
+            {types.map((t) => (
+              <option key={t.id} value={t.id}>
+                {t.name} ({t.durationMinutes} min)
+              </option>
+            ))}
+          </Select>
+          <ErrorList errors={errorsOf(reply, "appointmentTypeId")} />
+        </div>
+        <div>
+          <label htmlFor={`${id}-provider`} className="mb-1 block text-sm font-semibold">
+            With
+          </label>
+          <Select id={`${id}-provider`} name="providerId" defaultValue={defaults.providerId ?? ""} aria-invalid={errorsOf(reply, "providerId") ? true : undefined}>
+            <option value="">Choose…</option>
+            {providers.map((p) => (
+              <option key={p.id} value={p.id}>
+                {p.name}
+              </option>
+            ))}
+          </Select>
+          <ErrorList errors={errorsOf(reply, "providerId")} />
+        </div>
+        <div>
+          <label htmlFor={`${id}-start`} className="mb-1 block text-sm font-semibold">
+            Starts
+          </label>
+          <Input id={`${id}-start`} type="datetime-local" name="start" step={300} defaultValue={defaults.start} aria-invalid={errorsOf(reply, "start") ? true : undefined} aria-describedby={`${id}-start-hint`} />
+          <p id={`${id}-start-hint`} className="mt-1 text-sm text-muted">
+            Practice time. The end follows from the type&apos;s length.
+          </p>
+          <ErrorList errors={errorsOf(reply, "start")} />
+        </div>
+        <div>
+          <label htmlFor={`${id}-notes`} className="mb-1 block text-sm font-semibold">
+            Note for the day list (optional)
+          </label>
+          <Textarea id={`${id}-notes`} name="notes" rows={2} />
+          <ErrorList errors={errorsOf(reply, "notes")} />
+        </div>
+      </div>
+      <div className="flex gap-3">
+        <Button type="submit" pending={fetcher.state !== "idle"}>
+          Book appointment
+        </Button>
+        {onCancel ? (
+          <Button type="button" variant="secondary" onClick={onCancel}>
+            Close
+          </Button>
+        ) : null}
+      </div>
+    </fetcher.Form>
+  );
+}

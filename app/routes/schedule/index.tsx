@@ -1,0 +1,140 @@
+import { lazy, Suspense, useEffect, useRef, useState } from "react";
+import { Form, Link, useLocation, useNavigate, useSearchParams } from "react-router";
+import type { Route } from "./+types/index";
+import { BookingForm } from "./booking-form";
+import { scheduleReferenceData } from "./schedule-data.server";
+import { ScheduleNav } from "./schedule-nav";
+import { PageHeader } from "~/components/page-header";
+import { buttonClass } from "~/components/ui/button";
+import { Select } from "~/components/ui/input";
+import { Notice } from "~/components/ui/notice";
+import { minutesToHhmm, localParts } from "~/lib/scheduling/time";
+import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
+import { practiceSchedule } from "~/utils/schedule.server";
+
+const CalendarView = lazy(() => import("./calendar-view"));
+const VIEWS = ["timeGridDay", "timeGridWeek", "dayGridMonth"] as const;
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const user = await requireRole(request, STAFF_ROLES);
+  const url = new URL(request.url);
+  const { timeZone } = await practiceSchedule();
+  const { providers, types, hours, breaks } = await scheduleReferenceData();
+  const asked = url.searchParams.get("provider");
+  // An optometrist starts on their own column; the front desk on the whole practice.
+  const provider = asked === "all" || providers.some((p) => p.id === asked) ? asked! : providers.some((p) => p.id === user.id) && user.role === "optometrist" ? user.id : "all";
+  const view = (VIEWS as readonly string[]).includes(url.searchParams.get("view") ?? "") ? (url.searchParams.get("view") as (typeof VIEWS)[number]) : "timeGridWeek";
+  const date = /^\d{4}-\d{2}-\d{2}$/.test(url.searchParams.get("date") ?? "") ? url.searchParams.get("date")! : localParts(new Date(), timeZone).date;
+  // Business hours shown shaded in the calendar: the chosen provider's (or everyone's) working spans less breaks.
+  const spans = hours
+    .filter((h) => provider === "all" || h.providerId === provider)
+    .flatMap((h) => {
+      const own = breaks.filter((b) => b.providerId === h.providerId && b.weekday === h.weekday).sort((a, b) => a.startMinute - b.startMinute);
+      const out: { daysOfWeek: number[]; startTime: string; endTime: string }[] = [];
+      let from = h.startMinute;
+      for (const b of own) {
+        if (b.startMinute > from) out.push({ daysOfWeek: [h.weekday % 7], startTime: minutesToHhmm(from), endTime: minutesToHhmm(b.startMinute) });
+        from = Math.max(from, b.endMinute);
+      }
+      if (from < h.endMinute) out.push({ daysOfWeek: [h.weekday % 7], startTime: minutesToHhmm(from), endTime: minutesToHhmm(h.endMinute) });
+      return out;
+    });
+  return { timeZone, providers: providers.map(({ id, name }) => ({ id, name })), types, provider, view, date, businessHours: spans };
+}
+
+export default function Schedule({ loaderData }: Route.ComponentProps) {
+  const { timeZone, providers, types, provider, view, date, businessHours } = loaderData;
+  const [hydrated, setHydrated] = useState(false);
+  const [message, setMessage] = useState<{ tone: "success" | "error"; text: string } | null>(null);
+  const [booking, setBooking] = useState<{ start: string } | null>(null);
+  const dialog = useRef<HTMLDialogElement>(null);
+  const navigate = useNavigate();
+  const location = useLocation();
+  const [params] = useSearchParams();
+  useEffect(() => setHydrated(true), []);
+  useEffect(() => {
+    if (booking) dialog.current?.showModal();
+    else dialog.current?.close();
+  }, [booking]);
+  // A booking redirects back here: close the dialog.
+  useEffect(() => setBooking(null), [location.key]);
+
+  const calendarKey = `${provider}|${params.get("date") ?? ""}|${location.key}`;
+  return (
+    <>
+      <PageHeader
+        title="Schedule"
+        description={`Times are the practice's (${timeZone}). Select an empty time to book; drag to move; drag the lower edge to lengthen.`}
+        actions={
+          <Link to="/schedule/book" className={buttonClass("primary")}>
+            Book without the calendar
+          </Link>
+        }
+      />
+      <ScheduleNav />
+      <Form method="get" className="mb-4 flex flex-wrap items-end gap-3">
+        <div>
+          <label htmlFor="provider" className="mb-1 block text-sm font-semibold">
+            Whose diary
+          </label>
+          <Select id="provider" name="provider" defaultValue={provider} className="w-64" onChange={(e) => e.currentTarget.form?.requestSubmit()}>
+            <option value="all">Whole practice</option>
+            {providers.map((p) => (
+              <option key={p.id} value={p.id}>
+                {p.name}
+              </option>
+            ))}
+          </Select>
+        </div>
+        <input type="hidden" name="view" value={view} />
+        <input type="hidden" name="date" value={date} />
+        <noscript>
+          <button type="submit" className={buttonClass("secondary")}>
+            Show
+          </button>
+        </noscript>
+      </Form>
+      <div role="status" aria-live="polite" className="mb-3 min-h-6">
+        {message ? <Notice tone={message.tone} title={message.text} /> : null}
+      </div>
+      <div className="schedule-calendar rounded-lg border border-line bg-white p-3 shadow-sm">
+        {hydrated ? (
+          <Suspense fallback={<p className="p-6 text-muted">Loading the calendar…</p>}>
+            <CalendarView
+              key={calendarKey}
+              timeZone={timeZone}
+              provider={provider}
+              initialDate={date}
+              initialView={view}
+              businessHours={businessHours}
+              onSelectSlot={(start) => setBooking({ start })}
+              onOpen={(id) => navigate(`/schedule/appointments/${id}`)}
+              onMessage={(tone, text) => setMessage({ tone, text })}
+            />
+          </Suspense>
+        ) : (
+          <p className="p-6 text-muted">Loading the calendar…</p>
+        )}
+      </div>
+      <dialog ref={dialog} aria-labelledby="book-title" className="m-auto w-[min(44rem,calc(100vw-2rem))] rounded-lg border border-line p-0 shadow-xl backdrop:bg-ink/40" onClose={() => setBooking(null)}>
+        <div className="p-6">
+          <h2 id="book-title" className="mb-4 text-xl">
+            Book an appointment
+          </h2>
+          {booking ? (
+            <BookingForm
+              key={booking.start}
+              providers={providers}
+              types={types}
+              defaults={{ start: booking.start, providerId: provider === "all" ? undefined : provider }}
+              returnTo={`/schedule?provider=${provider}&view=${view}&date=${booking.start.slice(0, 10)}`}
+              onCancel={() => setBooking(null)}
+            />
+          ) : null}
+        </div>
+      </dialog>
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Schedule · Dioptra" }];

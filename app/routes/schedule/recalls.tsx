@@ -1,0 +1,230 @@
+import { useEffect, useState } from "react";
+import { data, Form, useFetcher, useRevalidator } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/recalls";
+import { formatDob } from "./booking-form";
+import { ScheduleNav } from "./schedule-nav";
+import { PageHeader } from "~/components/page-header";
+import { Button } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Input, Select } from "~/components/ui/input";
+import { Notice, StatusBadge } from "~/components/ui/notice";
+import { addDays, localParts } from "~/lib/scheduling/time";
+import { practiceSchedule } from "~/utils/schedule-settings.server";
+import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
+import { recallList, startRecallBatch } from "~/utils/recalls.server";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireRole(request, STAFF_ROLES);
+  const url = new URL(request.url);
+  const dueByParam = url.searchParams.get("dueBy");
+  const group = url.searchParams.get("group");
+  const { timeZone } = await practiceSchedule();
+  const today = localParts(new Date(), timeZone).date;
+  const filters = {
+    dueBy: dueByParam && /^\d{4}-\d{2}-\d{2}$/.test(dueByParam) ? dueByParam : addDays(today, 30),
+    group: (group === "child" || group === "adult" ? group : "all") as "all" | "child" | "adult",
+    includeBooked: url.searchParams.get("booked") === "1",
+    includeRecalled: url.searchParams.get("recalled") === "1",
+  };
+  const list = await recallList(filters);
+  const { rows, dueBy } = list;
+  return { rows, today: list.today, dueBy, filters, settings: { child: list.settings.recallMonthsChild, adult: list.settings.recallMonthsAdult, under: list.settings.childUnderYears } };
+}
+
+const sendSchema = z.object({ intent: z.literal("send"), patientId: z.array(z.uuid()).min(1, "Choose at least one patient.").max(2000) });
+
+export async function action({ request }: Route.ActionArgs) {
+  const user = await requireRole(request, STAFF_ROLES);
+  const form = await request.formData();
+  const parsed = sendSchema.safeParse({ intent: form.get("intent"), patientId: form.getAll("patientId") });
+  if (!parsed.success) return data({ error: parsed.error.issues[0]?.message ?? "Choose patients.", batch: null }, { status: 400 });
+  const batch = await startRecallBatch(user, parsed.data.patientId, request);
+  return { error: null, batch };
+}
+
+type Progress = { total: number; sent: number; skipped: number; failed: number; queued: number; done: number; finished: boolean };
+
+function BatchProgress({ batchId, total, onFinished }: { batchId: string; total: number; onFinished: () => void }) {
+  const poll = useFetcher<Progress>();
+  useEffect(() => {
+    if (poll.data?.finished) {
+      onFinished();
+      return;
+    }
+    const t = setTimeout(() => poll.load(`/schedule/recalls/batches/${batchId}`), poll.data ? 700 : 100);
+    return () => clearTimeout(t);
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, [poll.data, batchId]);
+  const p = poll.data ?? { total, sent: 0, skipped: 0, failed: 0, queued: total, done: 0, finished: total === 0 };
+  return (
+    <div className="space-y-2" data-testid="recall-progress">
+      <label htmlFor="recall-progress" className="block text-sm font-semibold">
+        Sending recall e-mails: {p.done} of {p.total} done
+      </label>
+      <progress id="recall-progress" max={Math.max(p.total, 1)} value={p.done} className="h-3 w-full accent-accent-700" />
+      <p className="text-sm" aria-live="polite">
+        {p.sent} sent · {p.skipped} not sent (opted out, no address or already booked) · {p.failed} failed{p.finished ? " · finished" : ""}
+      </p>
+    </div>
+  );
+}
+
+export default function Recalls({ loaderData }: Route.ComponentProps) {
+  const { rows, dueBy, filters, settings, today } = loaderData;
+  const send = useFetcher<typeof action>();
+  const revalidator = useRevalidator();
+  const [selected, setSelected] = useState<Set<string>>(new Set());
+  const emailable = rows.filter((r) => r.email && r.remindersByEmail);
+  useEffect(() => setSelected(new Set()), [rows]);
+  const allChecked = emailable.length > 0 && emailable.every((r) => selected.has(r.patientId));
+  const batch = send.data?.batch;
+  return (
+    <>
+      <PageHeader
+        title="Recalls"
+        description={`Patients due for their routine exam. Interval: the visit type's, or ${settings.child} months under ${settings.under} and ${settings.adult} months from ${settings.under} (practice settings; common practice).`}
+      />
+      <ScheduleNav />
+      <Form method="get" className="mb-4 flex flex-wrap items-end gap-3">
+        <div>
+          <label htmlFor="dueBy" className="mb-1 block text-sm font-semibold">
+            Due on or before
+          </label>
+          <Input id="dueBy" type="date" name="dueBy" defaultValue={dueBy} className="w-44" />
+        </div>
+        <div>
+          <label htmlFor="group" className="mb-1 block text-sm font-semibold">
+            Age group
+          </label>
+          <Select id="group" name="group" defaultValue={filters.group} className="w-40">
+            <option value="all">All</option>
+            <option value="child">Children</option>
+            <option value="adult">Adults</option>
+          </Select>
+        </div>
+        <label className="flex items-center gap-2 pb-2 text-sm">
+          <input type="checkbox" name="booked" value="1" defaultChecked={filters.includeBooked} className="size-4 accent-accent-700" /> Include patients already booked
+        </label>
+        <label className="flex items-center gap-2 pb-2 text-sm">
+          <input type="checkbox" name="recalled" value="1" defaultChecked={filters.includeRecalled} className="size-4 accent-accent-700" /> Include patients already recalled
+        </label>
+        <Button type="submit" variant="secondary">
+          Filter
+        </Button>
+      </Form>
+      {batch ? (
+        <div className="mb-4 rounded-lg border border-line bg-white p-4">
+          <BatchProgress key={batch.batchId} batchId={batch.batchId} total={batch.total} onFinished={() => revalidator.revalidate()} />
+          {batch.alreadyRecalled ? <p className="mt-2 text-sm text-muted">{batch.alreadyRecalled} already had a recall for this due date and were left out.</p> : null}
+        </div>
+      ) : null}
+      {send.data?.error ? (
+        <div className="mb-4">
+          <Notice tone="error" title="Not sent">
+            {send.data.error}
+          </Notice>
+        </div>
+      ) : null}
+      <send.Form method="post">
+        <input type="hidden" name="intent" value="send" />
+        <Card
+          title={`${rows.length} patient${rows.length === 1 ? "" : "s"} due by ${dueBy}`}
+          actions={
+            <Button type="submit" pending={send.state !== "idle"} disabled={selected.size === 0}>
+              Send recall e-mails ({selected.size})
+            </Button>
+          }
+        >
+          {rows.length === 0 ? (
+            <p className="text-muted">Nobody is due in this range.</p>
+          ) : (
+            <div className="overflow-x-auto">
+              <table className="w-full text-left text-sm">
+                <thead className="border-b border-line text-muted">
+                  <tr>
+                    <th className="py-2 pr-3">
+                      <label className="flex items-center gap-2 font-semibold">
+                        <input
+                          type="checkbox"
+                          className="size-4 accent-accent-700"
+                          checked={allChecked}
+                          onChange={(e) => setSelected(e.target.checked ? new Set(emailable.map((r) => r.patientId)) : new Set())}
+                        />
+                        <span className="sr-only">Choose all who can be e-mailed</span>
+                      </label>
+                    </th>
+                    <th className="py-2 pr-4 font-semibold">Patient</th>
+                    <th className="py-2 pr-4 font-semibold">Last routine exam</th>
+                    <th className="py-2 pr-4 font-semibold">Due</th>
+                    <th className="py-2 font-semibold">Recall</th>
+                  </tr>
+                </thead>
+                <tbody className="divide-y divide-line">
+                  {rows.map((r) => {
+                    const canEmail = Boolean(r.email && r.remindersByEmail);
+                    return (
+                      <tr key={r.patientId}>
+                        <td className="py-2 pr-3">
+                          <input
+                            type="checkbox"
+                            name="patientId"
+                            value={r.patientId}
+                            disabled={!canEmail}
+                            checked={selected.has(r.patientId)}
+                            onChange={(e) =>
+                              setSelected((s) => {
+                                const next = new Set(s);
+                                if (e.target.checked) next.add(r.patientId);
+                                else next.delete(r.patientId);
+                                return next;
+                              })
+                            }
+                            aria-label={`Choose ${r.name}`}
+                            className="size-4 accent-accent-700"
+                          />
+                        </td>
+                        <td className="py-2 pr-4">
+                          <span className="font-semibold">{r.name}</span>
+                          <span className="block text-muted">
+                            born {formatDob(r.dateOfBirth)} · age {r.age}
+                          </span>
+                        </td>
+                        <td className="py-2 pr-4">
+                          {formatDob(r.lastVisit)}
+                          <span className="block text-muted">{r.lastVisitType}</span>
+                        </td>
+                        <td className="py-2 pr-4">
+                          <span className="font-semibold">{formatDob(r.dueDate)}</span>
+                          {r.dueDate < today ? <span className="ml-2"><StatusBadge tone="warning">Overdue</StatusBadge></span> : null}
+                          <span className="block text-muted">
+                            {r.months} months ({r.rule})
+                          </span>
+                        </td>
+                        <td className="py-2">
+                          {!canEmail ? (
+                            <StatusBadge tone="warning">{r.email ? "Opted out of e-mail" : "No e-mail address"}</StatusBadge>
+                          ) : r.lastRecall ? (
+                            <StatusBadge tone={r.lastRecall.status === "sent" ? "success" : r.lastRecall.status === "failed" ? "error" : "info"}>
+                              {r.lastRecall.status === "sent" ? "Recall sent" : r.lastRecall.status === "failed" ? "Recall failed" : r.lastRecall.status === "skipped" ? "Recall not sent" : "Recall waiting"}
+                            </StatusBadge>
+                          ) : r.nextBooked ? (
+                            <span className="text-muted">Booked {r.nextBooked}</span>
+                          ) : (
+                            <span className="text-muted">Not yet recalled</span>
+                          )}
+                        </td>
+                      </tr>
+                    );
+                  })}
+                </tbody>
+              </table>
+            </div>
+          )}
+        </Card>
+      </send.Form>
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Recalls · Dioptra" }];

@@ -1,0 +1,215 @@
+import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
+import { parseWithZod } from "@conform-to/zod/v4";
+import { asc, eq } from "drizzle-orm";
+import { data, Form, Link, useNavigation } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/appointment-types";
+import { ErrorList, Field, SelectField } from "~/components/forms";
+import { PageHeader } from "~/components/page-header";
+import { Button } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Notice, StatusBadge } from "~/components/ui/notice";
+import { appointmentTypes, feeItems, practiceSettings } from "~/db/schema";
+import { audit } from "~/utils/audit.server";
+import { requireRole } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+import { ROLE_LABEL } from "~/utils/nav";
+import { redirectWithToast } from "~/utils/toast.server";
+
+const ROLES = ["owner", "optometrist", "receptionist"] as const;
+
+const typeSchema = z.object({
+  intent: z.literal("save"),
+  id: z.uuid().optional(),
+  name: z.string({ error: "Give the type a name." }).trim().min(2, "Give the type a name.").max(80),
+  durationMinutes: z.coerce.number({ error: "Give the length in minutes." }).int("Whole minutes.").min(5, "At least 5 minutes.").max(480, "At most 480 minutes (8 hours)."),
+  defaultFeeItemId: z.union([z.literal(""), z.uuid()]).default(""),
+  recallMonths: z.union([z.literal(""), z.coerce.number().int("Whole months.").min(1, "At least 1 month.").max(120, "At most 120 months.")]).default(""),
+  performerRoles: z.array(z.enum(ROLES), { error: "Choose who may perform it." }).min(1, "Choose who may perform it."),
+  routineExam: z.literal("on").optional(),
+  active: z.literal("on").optional(),
+});
+
+const reminderSchema = z.object({
+  intent: z.literal("reminder"),
+  reminderHoursBefore: z.coerce.number({ error: "Give a number of hours." }).int("Whole hours.").min(1, "At least 1 hour.").max(168, "At most 168 hours (a week)."),
+});
+
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireRole(request, ["owner"]);
+  const types = await db.select().from(appointmentTypes).orderBy(asc(appointmentTypes.name));
+  const fees = await db.select({ id: feeItems.id, code: feeItems.code, description: feeItems.description, priceMinor: feeItems.priceMinor }).from(feeItems).where(eq(feeItems.active, true)).orderBy(asc(feeItems.code));
+  const [settings] = await db.select({ reminderHoursBefore: practiceSettings.reminderHoursBefore, currency: practiceSettings.currency }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const edit = new URL(request.url).searchParams.get("edit");
+  return { types, fees, editing: types.find((t) => t.id === edit) ?? null, reminderHoursBefore: settings?.reminderHoursBefore ?? 24, currency: settings?.currency ?? "GBP" };
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  const user = await requireRole(request, ["owner"]);
+  const formData = await request.formData();
+  if (formData.get("intent") === "reminder") {
+    const submission = parseWithZod(formData, { schema: reminderSchema });
+    if (submission.status !== "success") return data(submission.reply(), { status: 400 });
+    await db.transaction(async (tx) => {
+      await tx.update(practiceSettings).set({ reminderHoursBefore: submission.value.reminderHoursBefore, updatedAt: new Date() }).where(eq(practiceSettings.id, 1));
+      await audit({ action: "practice.reminder_time_changed", actorUserId: user.id, detail: { hours: submission.value.reminderHoursBefore }, request }, tx);
+    });
+    return redirectWithToast("/settings/appointment-types", { kind: "success", title: `Reminders go out ${submission.value.reminderHoursBefore} hours before` });
+  }
+  const submission = parseWithZod(formData, { schema: typeSchema });
+  if (submission.status !== "success") return data(submission.reply(), { status: 400 });
+  const v = submission.value;
+  const values = {
+    name: v.name,
+    durationMinutes: v.durationMinutes,
+    defaultFeeItemId: v.defaultFeeItemId || null,
+    recallMonths: v.recallMonths === "" ? null : v.recallMonths,
+    performerRoles: v.performerRoles,
+    routineExam: v.routineExam === "on",
+    active: v.active === "on",
+  };
+  const saved = await db.transaction(async (tx) => {
+    if (v.id) {
+      const [row] = await tx.update(appointmentTypes).set(values).where(eq(appointmentTypes.id, v.id)).returning({ id: appointmentTypes.id });
+      if (!row) return null;
+    } else {
+      await tx.insert(appointmentTypes).values(values);
+    }
+    await audit({ action: v.id ? "appointment_type.changed" : "appointment_type.created", actorUserId: user.id, entityType: "appointment_type", entityId: v.id, detail: values, request }, tx);
+    return true;
+  });
+  if (!saved) return data(submission.reply({ formErrors: ["That appointment type no longer exists."] }), { status: 404 });
+  return redirectWithToast("/settings/appointment-types", { kind: "success", title: `${v.name} saved` });
+}
+
+function money(minor: number, currency: string) {
+  return new Intl.NumberFormat("en-GB", { style: "currency", currency }).format(minor / 100);
+}
+
+export default function AppointmentTypes({ loaderData, actionData }: Route.ComponentProps) {
+  const { types, fees, editing, reminderHoursBefore, currency } = loaderData;
+  const navigation = useNavigation();
+  const isReminder = (actionData as { initialValue?: { intent?: string } } | undefined)?.initialValue?.intent === "reminder";
+  const [form, fields] = useForm({
+    id: `type-${editing?.id ?? "new"}`,
+    lastResult: navigation.state === "idle" && !isReminder ? (actionData as never) : null,
+    defaultValue: editing
+      ? { ...editing, durationMinutes: String(editing.durationMinutes), recallMonths: editing.recallMonths ? String(editing.recallMonths) : "", defaultFeeItemId: editing.defaultFeeItemId ?? "", routineExam: editing.routineExam ? "on" : undefined, active: editing.active ? "on" : undefined }
+      : { durationMinutes: "30", performerRoles: ["owner", "optometrist"], routineExam: "on", active: "on" },
+    onValidate: ({ formData }) => parseWithZod(formData, { schema: typeSchema }),
+    shouldValidate: "onBlur",
+  });
+  const [rForm, rFields] = useForm({ id: "reminder", lastResult: navigation.state === "idle" && isReminder ? (actionData as never) : null, defaultValue: { reminderHoursBefore: String(reminderHoursBefore) } });
+  const feeName = (id: string | null) => {
+    const f = fees.find((x) => x.id === id);
+    return f ? `${f.code} · ${f.description} (${money(f.priceMinor, currency)})` : "None";
+  };
+  return (
+    <>
+      <PageHeader title="Appointment types" description="The kinds of visit the practice books: length, default fee line, who may perform them and the recall interval." />
+      <Card title="Types" className="mb-6">
+        <div className="overflow-x-auto">
+          <table className="w-full text-left text-sm">
+            <thead className="border-b border-line text-muted">
+              <tr>
+                <th className="py-2 pr-4 font-semibold">Name</th>
+                <th className="py-2 pr-4 font-semibold">Length</th>
+                <th className="py-2 pr-4 font-semibold">Default fee line</th>
+                <th className="py-2 pr-4 font-semibold">Performed by</th>
+                <th className="py-2 pr-4 font-semibold">Recall</th>
+                <th className="py-2 pr-4 font-semibold">Offered</th>
+                <th className="py-2 font-semibold">
+                  <span className="sr-only">Edit</span>
+                </th>
+              </tr>
+            </thead>
+            <tbody className="divide-y divide-line">
+              {types.map((t) => (
+                <tr key={t.id}>
+                  <td className="py-2 pr-4 font-semibold">{t.name}</td>
+                  <td className="py-2 pr-4">{t.durationMinutes} min</td>
+                  <td className="py-2 pr-4">{feeName(t.defaultFeeItemId)}</td>
+                  <td className="py-2 pr-4">{t.performerRoles.map((r) => ROLE_LABEL[r]).join(", ")}</td>
+                  <td className="py-2 pr-4">{!t.routineExam ? "Not a routine exam" : t.recallMonths ? `${t.recallMonths} months` : "Practice default by age"}</td>
+                  <td className="py-2 pr-4">{t.active ? <StatusBadge tone="success">Offered</StatusBadge> : <StatusBadge tone="warning">Withdrawn</StatusBadge>}</td>
+                  <td className="py-2">
+                    <Link to={`?edit=${t.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
+                      Edit<span className="sr-only"> {t.name}</span>
+                    </Link>
+                  </td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        </div>
+      </Card>
+      <Card title={editing ? `Edit ${editing.name}` : "Add a type"} className="mb-6">
+        <Form method="post" {...getFormProps(form)} className="grid gap-4 sm:grid-cols-2" key={editing?.id ?? "new"}>
+          <input type="hidden" name="intent" value="save" />
+          {editing ? <input type="hidden" name="id" value={editing.id} /> : null}
+          {form.errors?.length ? (
+            <div className="sm:col-span-2">
+              <Notice tone="error" title="Not saved">
+                {form.errors.join(" ")}
+              </Notice>
+            </div>
+          ) : null}
+          <Field label="Name" errors={fields.name.errors} inputProps={getInputProps(fields.name, { type: "text" })} />
+          <Field label="Length (minutes)" errors={fields.durationMinutes.errors} inputProps={getInputProps(fields.durationMinutes, { type: "number" })} />
+          <SelectField label="Default fee line" errors={fields.defaultFeeItemId.errors} selectProps={getSelectProps(fields.defaultFeeItemId)}>
+            <option value="">None</option>
+            {fees.map((f) => (
+              <option key={f.id} value={f.id}>
+                {f.code} · {f.description} ({money(f.priceMinor, currency)})
+              </option>
+            ))}
+          </SelectField>
+          <Field label="Recall after (months)" hint="Leave empty for the practice default by age." errors={fields.recallMonths.errors} inputProps={getInputProps(fields.recallMonths, { type: "number" })} />
+          <fieldset className="sm:col-span-2">
+            <legend className="mb-1 text-sm font-semibold">Who may perform it</legend>
+            <div className="flex flex-wrap gap-4">
+              {ROLES.map((r) => (
+                <label key={r} className="flex items-center gap-2 text-sm">
+                  <input type="checkbox" name="performerRoles" value={r} defaultChecked={(editing?.performerRoles ?? ["owner", "optometrist"]).includes(r)} className="size-4 accent-accent-700" />
+                  {ROLE_LABEL[r]}
+                </label>
+              ))}
+            </div>
+            <ErrorList errors={fields.performerRoles.errors} />
+          </fieldset>
+          <label className="flex items-center gap-2 text-sm">
+            <input type="checkbox" name="routineExam" defaultChecked={editing ? editing.routineExam : true} className="size-4 accent-accent-700" />
+            A routine exam (restarts the patient&apos;s recall clock)
+          </label>
+          <label className="flex items-center gap-2 text-sm">
+            <input type="checkbox" name="active" defaultChecked={editing ? editing.active : true} className="size-4 accent-accent-700" />
+            Offered for booking
+          </label>
+          <div className="flex gap-3 sm:col-span-2">
+            <Button type="submit" pending={navigation.state === "submitting"}>
+              {editing ? "Save changes" : "Add type"}
+            </Button>
+            {editing ? (
+              <Link to="/settings/appointment-types" className="self-center font-semibold text-accent-700 underline underline-offset-4">
+                Cancel editing
+              </Link>
+            ) : null}
+          </div>
+        </Form>
+      </Card>
+      <Card title="Reminder e-mails">
+        <Form method="post" {...getFormProps(rForm)} className="flex flex-wrap items-end gap-4">
+          <input type="hidden" name="intent" value="reminder" />
+          <div className="w-64">
+            <Field label="Send the reminder this many hours before" errors={rFields.reminderHoursBefore.errors} inputProps={getInputProps(rFields.reminderHoursBefore, { type: "number" })} />
+          </div>
+          <Button type="submit" variant="secondary">
+            Save reminder time
+          </Button>
+        </Form>
+      </Card>
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Appointment types · Dioptra" }];

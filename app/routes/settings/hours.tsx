@@ -1,0 +1,178 @@
+import { and, eq } from "drizzle-orm";
+import { data, Form, useNavigation } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/hours";
+import { ErrorList } from "~/components/forms";
+import { PageHeader } from "~/components/page-header";
+import { Button } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Input, Select } from "~/components/ui/input";
+import { Notice } from "~/components/ui/notice";
+import { providerBreaks, users, workingHours } from "~/db/schema";
+import { WEEKDAY_NAMES } from "~/lib/scheduling/hours";
+import { hhmmToMinutes, minutesToHhmm } from "~/lib/scheduling/time";
+import { audit } from "~/utils/audit.server";
+import { requireRole } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+import { bookableProviders, practiceSchedule } from "~/utils/schedule.server";
+import { redirectWithToast } from "~/utils/toast.server";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireRole(request, ["owner"]);
+  const providers = await bookableProviders();
+  const asked = new URL(request.url).searchParams.get("provider");
+  const provider = providers.find((p) => p.id === asked) ?? providers[0] ?? null;
+  const { timeZone } = await practiceSchedule();
+  if (!provider) return { providers: [], provider: null, days: [], timeZone };
+  const hours = await db.select().from(workingHours).where(eq(workingHours.providerId, provider.id));
+  const breaks = await db.select().from(providerBreaks).where(eq(providerBreaks.providerId, provider.id));
+  const days = WEEKDAY_NAMES.map((name, i) => {
+    const weekday = i + 1;
+    const h = hours.find((x) => x.weekday === weekday);
+    const b = breaks.find((x) => x.weekday === weekday);
+    return {
+      weekday,
+      name,
+      start: h ? minutesToHhmm(h.startMinute) : "",
+      end: h ? minutesToHhmm(h.endMinute) : "",
+      breakStart: b ? minutesToHhmm(b.startMinute) : "",
+      breakEnd: b ? minutesToHhmm(b.endMinute) : "",
+      breakLabel: b?.label ?? "Lunch",
+    };
+  });
+  return { providers: providers.map(({ id, name }) => ({ id, name })), provider: { id: provider.id, name: provider.name }, days, timeZone };
+}
+
+type DayErrors = Record<string, string[]>;
+
+export async function action({ request }: Route.ActionArgs) {
+  const user = await requireRole(request, ["owner"]);
+  const form = await request.formData();
+  const providerId = z.uuid().safeParse(form.get("providerId"));
+  if (!providerId.success) return data({ errors: { "": ["Choose a provider."] } as DayErrors }, { status: 400 });
+  const [provider] = await db.select({ id: users.id, name: users.name }).from(users).where(and(eq(users.id, providerId.data), eq(users.active, true)));
+  if (!provider) return data({ errors: { "": ["No such provider."] } as DayErrors }, { status: 404 });
+  const errors: DayErrors = {};
+  const hours: { weekday: number; startMinute: number; endMinute: number }[] = [];
+  const breaks: { weekday: number; startMinute: number; endMinute: number; label: string }[] = [];
+  for (let weekday = 1; weekday <= 7; weekday++) {
+    const get = (k: string) => String(form.get(`${k}-${weekday}`) ?? "").trim();
+    const [start, end, bs, be] = [get("start"), get("end"), get("breakStart"), get("breakEnd")];
+    const label = get("breakLabel").slice(0, 40) || "Break";
+    if (!start && !end) {
+      if (bs || be) errors[`break-${weekday}`] = ["A break needs working hours on that day."];
+      continue;
+    }
+    const s = hhmmToMinutes(start);
+    const e = hhmmToMinutes(end);
+    if (s === null || e === null) {
+      errors[`hours-${weekday}`] = ["Give both times as HH:MM, or leave both empty for a day off."];
+      continue;
+    }
+    if (e <= s) {
+      errors[`hours-${weekday}`] = ["The day must end after it starts."];
+      continue;
+    }
+    hours.push({ weekday, startMinute: s, endMinute: e });
+    if (bs || be) {
+      const b1 = hhmmToMinutes(bs);
+      const b2 = hhmmToMinutes(be);
+      if (b1 === null || b2 === null || b2 <= b1) errors[`break-${weekday}`] = ["Give the break's start and end as HH:MM, end after start."];
+      else if (b1 < s || b2 > e) errors[`break-${weekday}`] = ["The break must lie inside the working hours."];
+      else breaks.push({ weekday, startMinute: b1, endMinute: b2, label });
+    }
+  }
+  if (Object.keys(errors).length) return data({ errors }, { status: 400 });
+  await db.transaction(async (tx) => {
+    await tx.delete(workingHours).where(eq(workingHours.providerId, provider.id));
+    await tx.delete(providerBreaks).where(eq(providerBreaks.providerId, provider.id));
+    if (hours.length) await tx.insert(workingHours).values(hours.map((h) => ({ ...h, providerId: provider.id })));
+    if (breaks.length) await tx.insert(providerBreaks).values(breaks.map((b) => ({ ...b, providerId: provider.id })));
+    await audit({ action: "schedule.hours_changed", actorUserId: user.id, entityType: "user", entityId: provider.id, detail: { hours, breaks }, request }, tx);
+  });
+  return redirectWithToast(`/settings/hours?provider=${provider.id}`, { kind: "success", title: `Working hours of ${provider.name} saved`, description: "Existing appointments are kept; new bookings follow the new hours." });
+}
+
+export default function Hours({ loaderData, actionData }: Route.ComponentProps) {
+  const { providers, provider, days, timeZone } = loaderData;
+  const navigation = useNavigation();
+  const errors = navigation.state === "idle" ? ((actionData as { errors?: DayErrors } | undefined)?.errors ?? {}) : {};
+  if (!provider) return <Notice tone="info" title="No optometrist or owner accounts to set hours for." />;
+  return (
+    <>
+      <PageHeader title="Working hours" description={`When each provider can be booked, in the practice's time (${timeZone}). Leave a day empty for a day off.`} />
+      <Form method="get" className="mb-4 flex items-end gap-3">
+        <div>
+          <label htmlFor="hours-provider" className="mb-1 block text-sm font-semibold">
+            Provider
+          </label>
+          <Select id="hours-provider" name="provider" defaultValue={provider.id} className="w-64">
+            {providers.map((p) => (
+              <option key={p.id} value={p.id}>
+                {p.name}
+              </option>
+            ))}
+          </Select>
+        </div>
+        <Button type="submit" variant="secondary">
+          Show
+        </Button>
+      </Form>
+      {errors[""]?.length ? <Notice tone="error" title="Not saved">{errors[""].join(" ")}</Notice> : null}
+      {Object.keys(errors).length && !errors[""] ? <Notice tone="error" title="Not saved: check the days marked below." /> : null}
+      <Form method="post" key={provider.id}>
+        <input type="hidden" name="providerId" value={provider.id} />
+        <Card title={`Week of ${provider.name}`}>
+          <div className="overflow-x-auto">
+            <table className="w-full text-left text-sm">
+              <thead className="border-b border-line text-muted">
+                <tr>
+                  <th className="py-2 pr-4 font-semibold">Day</th>
+                  <th className="py-2 pr-4 font-semibold">Starts</th>
+                  <th className="py-2 pr-4 font-semibold">Ends</th>
+                  <th className="py-2 pr-4 font-semibold">Break from</th>
+                  <th className="py-2 pr-4 font-semibold">Break to</th>
+                  <th className="py-2 font-semibold">Break name</th>
+                </tr>
+              </thead>
+              <tbody className="divide-y divide-line">
+                {days.map((d) => (
+                  <tr key={d.weekday}>
+                    <th scope="row" className="py-2 pr-4 font-semibold">
+                      {d.name}
+                      <ErrorList id={`hours-${d.weekday}-err`} errors={errors[`hours-${d.weekday}`]} />
+                      <ErrorList id={`break-${d.weekday}-err`} errors={errors[`break-${d.weekday}`]} />
+                    </th>
+                    {(["start", "end", "breakStart", "breakEnd"] as const).map((k) => {
+                      const group = k === "start" || k === "end" ? "hours" : "break";
+                      const bad = Boolean(errors[`${group}-${d.weekday}`]);
+                      return (
+                        <td key={k} className="py-2 pr-4">
+                          <label className="sr-only" htmlFor={`${k}-${d.weekday}`}>
+                            {d.name} {k === "start" ? "starts" : k === "end" ? "ends" : k === "breakStart" ? "break from" : "break to"}
+                          </label>
+                          <Input id={`${k}-${d.weekday}`} name={`${k}-${d.weekday}`} type="time" step={300} defaultValue={d[k]} className="w-32" aria-invalid={bad || undefined} aria-describedby={bad ? `${group}-${d.weekday}-err` : undefined} />
+                        </td>
+                      );
+                    })}
+                    <td className="py-2">
+                      <label className="sr-only" htmlFor={`breakLabel-${d.weekday}`}>
+                        {d.name} break name
+                      </label>
+                      <Input id={`breakLabel-${d.weekday}`} name={`breakLabel-${d.weekday}`} type="text" defaultValue={d.breakLabel} className="w-32" />
+                    </td>
+                  </tr>
+                ))}
+              </tbody>
+            </table>
+          </div>
+          <Button type="submit" className="mt-4" pending={navigation.state === "submitting"}>
+            Save working hours
+          </Button>
+        </Card>
+      </Form>
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Working hours · Dioptra" }];

@@ -1,0 +1,196 @@
+/**
+ * Recalls: patients due for their routine exam, and the bulk recall e-mails the front desk sends.
+ * Due dates come from app/lib/scheduling/recall.ts (visit type's interval, else the practice's
+ * default by age). One recall_messages row per patient and due date: never two for the same date.
+ */
+import { and, count, eq, gt, inArray, sql } from "drizzle-orm";
+import { appointments, patients, recallBatches, recallMessages } from "~/db/schema";
+import { recallDueDate, ageOn, type RecallRule } from "~/lib/scheduling/recall";
+import { formatLocal, localParts } from "~/lib/scheduling/time";
+import { audit } from "./audit.server";
+import { db } from "./db.server";
+import { defineJob } from "./jobs.server";
+import { sendMail, type Mail } from "./mail.server";
+import { mailRetryOptions } from "./reminders.server";
+import { practiceSchedule } from "./schedule-settings.server";
+import type { SessionUser } from "./session.server";
+
+export const RECALL_MAIL_QUEUE = "recall-mail";
+
+export type RecallRow = {
+  patientId: string;
+  name: string;
+  dateOfBirth: string;
+  age: number;
+  email: string | null;
+  remindersByEmail: boolean;
+  lastVisit: string;
+  lastVisitType: string;
+  dueDate: string;
+  months: number;
+  rule: RecallRule;
+  nextBooked: string | null;
+  lastRecall: { status: string; at: string } | null;
+};
+
+export type RecallFilters = { dueBy?: string; group?: "all" | "child" | "adult"; includeBooked?: boolean; includeRecalled?: boolean };
+
+/** Every patient seen for a routine exam, with the due date of their next one. */
+async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
+  const settings = await practiceSchedule();
+  const today = localParts(new Date(), settings.timeZone).date;
+  const idFilter = patientIds?.length ? sql`and p.id in (${sql.join(patientIds.map((id) => sql`${id}::uuid`), sql`, `)})` : sql``;
+  const result = await db.execute<{
+    patient_id: string;
+    first_name: string;
+    last_name: string;
+    date_of_birth: string;
+    email: string | null;
+    reminders_by_email: boolean;
+    last_visit: Date;
+    type_name: string;
+    recall_months: number | null;
+    next_booked: Date | null;
+    recall_status: string | null;
+    recall_at: Date | null;
+    recall_due: string | null;
+  }>(sql`
+    select p.id as patient_id, p.first_name, p.last_name, p.date_of_birth::text as date_of_birth, p.email, p.reminders_by_email,
+           lv.starts_at as last_visit, lv.type_name, lv.recall_months,
+           (select min(a2.starts_at) from appointments a2
+             where a2.patient_id = p.id and a2.starts_at > now() and a2.status in ('booked', 'confirmed')) as next_booked,
+           rm.status::text as recall_status, coalesce(rm.sent_at, rm.created_at) as recall_at, rm.due_date::text as recall_due
+      from patients p
+      join lateral (
+        select a.starts_at, t.name as type_name, t.recall_months
+          from appointments a join appointment_types t on t.id = a.appointment_type_id
+         where a.patient_id = p.id and a.status = 'completed' and t.routine_exam
+         order by a.starts_at desc limit 1) lv on true
+      left join lateral (
+        select r.status, r.sent_at, r.created_at, r.due_date from recall_messages r
+         where r.patient_id = p.id order by r.created_at desc limit 1) rm on true
+     where true ${idFilter}`);
+  return result.rows.map((r) => {
+    const examDate = localParts(new Date(r.last_visit), settings.timeZone).date;
+    const due = recallDueDate({ typeRecallMonths: r.recall_months, dateOfBirth: r.date_of_birth, examDate }, settings);
+    const recalledForThisDue = r.recall_due === due.dueDate;
+    return {
+      patientId: r.patient_id,
+      name: `${r.first_name} ${r.last_name}`,
+      dateOfBirth: r.date_of_birth,
+      age: ageOn(r.date_of_birth, today),
+      email: r.email,
+      remindersByEmail: r.reminders_by_email,
+      lastVisit: examDate,
+      lastVisitType: r.type_name,
+      dueDate: due.dueDate,
+      months: due.months,
+      rule: due.rule,
+      nextBooked: r.next_booked ? formatLocal(new Date(r.next_booked), settings.timeZone) : null,
+      lastRecall: recalledForThisDue && r.recall_status ? { status: r.recall_status, at: new Date(r.recall_at!).toISOString() } : null,
+    };
+  });
+}
+
+/** The recall list: due on or before `dueBy` (default: today plus 30 days), filtered, soonest first. */
+export async function recallList(filters: RecallFilters = {}) {
+  const settings = await practiceSchedule();
+  const today = localParts(new Date(), settings.timeZone).date;
+  const dueBy = filters.dueBy ?? today;
+  const rows = (await allRecalls()).filter((r) => {
+    if (r.dueDate > dueBy) return false;
+    if (!filters.includeBooked && r.nextBooked) return false;
+    if (!filters.includeRecalled && r.lastRecall) return false;
+    const child = r.age < settings.childUnderYears;
+    if (filters.group === "child" && !child) return false;
+    if (filters.group === "adult" && child) return false;
+    return true;
+  });
+  rows.sort((a, b) => a.dueDate.localeCompare(b.dueDate) || a.name.localeCompare(b.name));
+  return { rows, today, dueBy, settings };
+}
+
+/** Starts a bulk send: one recall row and one job per patient not yet recalled for this due date. */
+export async function startRecallBatch(actor: SessionUser, patientIds: string[], request?: Request) {
+  const due = await allRecalls(patientIds);
+  return db.transaction(async (tx) => {
+    const [batch] = await tx.insert(recallBatches).values({ createdById: actor.id }).returning();
+    const inserted = due.length
+      ? await tx
+          .insert(recallMessages)
+          .values(due.map((r) => ({ batchId: batch!.id, patientId: r.patientId, dueDate: r.dueDate })))
+          .onConflictDoNothing()
+          .returning({ id: recallMessages.id })
+      : [];
+    await tx.update(recallBatches).set({ total: inserted.length }).where(eq(recallBatches.id, batch!.id));
+    for (const m of inserted) await recallMail.enqueue({ recallId: m.id }, { tx, singletonKey: m.id, ...mailRetryOptions() });
+    await audit({ action: "recall.batch_started", actorUserId: actor.id, entityType: "recall_batch", entityId: batch!.id, detail: { requested: patientIds.length, queued: inserted.length }, request }, tx);
+    return { batchId: batch!.id, total: inserted.length, alreadyRecalled: due.length - inserted.length, notDue: patientIds.length - due.length };
+  });
+}
+
+/** Progress of a batch: how many of its recalls are sent, skipped, failed or still queued. */
+export async function batchProgress(batchId: string) {
+  const [batch] = await db.select().from(recallBatches).where(eq(recallBatches.id, batchId));
+  if (!batch) return null;
+  const rows = await db.select({ status: recallMessages.status, n: count() }).from(recallMessages).where(eq(recallMessages.batchId, batchId)).groupBy(recallMessages.status);
+  const by = Object.fromEntries(rows.map((r) => [r.status, r.n])) as Record<string, number>;
+  const done = (by.sent ?? 0) + (by.skipped ?? 0) + (by.failed ?? 0);
+  return { batchId, total: batch.total, sent: by.sent ?? 0, skipped: by.skipped ?? 0, failed: by.failed ?? 0, queued: by.queued ?? 0, done, finished: done >= batch.total };
+}
+
+type Sender = (mail: Mail) => Promise<unknown>;
+let sender: Sender = sendMail;
+export function useRecallMailSender(next: Sender | null) {
+  sender = next ?? sendMail;
+}
+
+/** The job: send one recall e-mail at most once. */
+export async function deliverRecall(recallId: string, job: { retryCount: number; retryLimit: number } = { retryCount: 0, retryLimit: 0 }) {
+  const settings = await practiceSchedule();
+  try {
+    return await db.transaction(async (tx) => {
+      const [row] = await tx
+        .select({ recall: recallMessages, firstName: patients.firstName, lastName: patients.lastName, email: patients.email, remindersByEmail: patients.remindersByEmail })
+        .from(recallMessages)
+        .innerJoin(patients, eq(patients.id, recallMessages.patientId))
+        .where(eq(recallMessages.id, recallId))
+        .for("update", { of: recallMessages });
+      if (!row || row.recall.status === "sent" || row.recall.status === "skipped") return "already done" as const;
+      const skip = !row.remindersByEmail ? "patient opted out of e-mail" : !row.email ? "no e-mail address on record" : null;
+      if (skip) {
+        await tx.update(recallMessages).set({ status: "skipped", skippedReason: skip }).where(eq(recallMessages.id, recallId));
+        return "skipped" as const;
+      }
+      const [booked] = await tx
+        .select({ id: appointments.id })
+        .from(appointments)
+        .where(and(eq(appointments.patientId, row.recall.patientId), gt(appointments.startsAt, new Date()), inArray(appointments.status, ["booked", "confirmed"])))
+        .limit(1);
+      if (booked) {
+        await tx.update(recallMessages).set({ status: "skipped", skippedReason: "already booked" }).where(eq(recallMessages.id, recallId));
+        return "skipped" as const;
+      }
+      const due = new Intl.DateTimeFormat("en-GB", { dateStyle: "long", timeZone: "UTC" }).format(new Date(`${row.recall.dueDate}T00:00:00Z`));
+      const phone = settings.phone ? ` on ${settings.phone}` : "";
+      await sender({
+        to: row.email!,
+        subject: `Your eye examination is due (${due})`,
+        text: `Dear ${row.firstName} ${row.lastName},\n\nOur records show that your routine eye examination is due on ${due}. Regular exams check your sight and the health of your eyes, even when you notice no change.\n\nTo book, call us${phone} or reply to this e-mail.\n\nIf you would rather not receive these e-mails, tell us and we will stop.\n\n${settings.name}\n`,
+      });
+      await tx.update(recallMessages).set({ status: "sent", sentAt: new Date(), recipient: row.email, attempts: row.recall.attempts + 1, lastError: null }).where(eq(recallMessages.id, recallId));
+      return "sent" as const;
+    });
+  } catch (error) {
+    const last = job.retryCount >= job.retryLimit;
+    await db
+      .update(recallMessages)
+      .set({ attempts: job.retryCount + 1, lastError: (error as Error).message.slice(0, 500), status: last ? "failed" : "queued" })
+      .where(and(eq(recallMessages.id, recallId), eq(recallMessages.status, "queued")));
+    throw error;
+  }
+}
+
+export const recallMail = defineJob<{ recallId: string }>(RECALL_MAIL_QUEUE, async (data, job) => {
+  await deliverRecall(data.recallId, job);
+}, { retryLimit: 10, retryDelay: 30, retryBackoff: true, expireInSeconds: 120 });

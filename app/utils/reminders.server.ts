@@ -1,0 +1,195 @@
+/**
+ * E-mails about appointments: confirmation on booking, a reminder a set time before, and a
+ * cancellation notice, each with an .ics attachment. Each is one row of appointment_messages
+ * (unique per appointment and kind) and one pg-boss job. The job locks the row, sends, and marks
+ * it sent in the same transaction, so a message is never sent twice; a failed send is retried
+ * with back-off and the row keeps the last error for the front desk's log.
+ */
+import { and, eq } from "drizzle-orm";
+import { createEvent, type DateArray } from "ics";
+import { appointmentMessages, appointments, appointmentTypes, patients, users } from "~/db/schema";
+import { formatLocal } from "~/lib/scheduling/time";
+import { db, type Tx } from "./db.server";
+import { defineJob } from "./jobs.server";
+import { sendMail, type Mail } from "./mail.server";
+import { practiceSchedule } from "./schedule-settings.server";
+
+export type MessageKind = "confirmation" | "reminder" | "cancellation";
+type Appointment = typeof appointments.$inferSelect;
+type Settings = { timeZone: string; reminderHoursBefore: number; name: string; phone: string; addressLine1: string; city: string };
+
+export const APPOINTMENT_MAIL_QUEUE = "appointment-mail";
+
+// Retries: 10 attempts after the first, 30 s doubling (about 8.5 hours in all), then the row shows "failed".
+// MAIL_RETRY_DELAY_SECONDS shortens the first delay (the tests use 1 s).
+const QUEUE_DEFAULTS = { retryLimit: 10, retryDelay: 30, retryBackoff: true, expireInSeconds: 120 };
+export function mailRetryOptions() {
+  return { retryLimit: QUEUE_DEFAULTS.retryLimit, retryBackoff: true, retryDelay: Number(process.env.MAIL_RETRY_DELAY_SECONDS ?? QUEUE_DEFAULTS.retryDelay) };
+}
+
+/** Writes the message row and queues its job in the caller's transaction. */
+export async function queueAppointmentMessage(tx: Tx, appt: Appointment, kind: MessageKind, settings: Settings) {
+  const dueAt = kind === "reminder" ? new Date(appt.startsAt.getTime() - settings.reminderHoursBefore * 3_600_000) : new Date();
+  const tooLate = kind === "reminder" && dueAt.getTime() < Date.now();
+  const [row] = await tx
+    .insert(appointmentMessages)
+    .values({ appointmentId: appt.id, kind, dueAt, status: tooLate ? "skipped" : "queued", skippedReason: tooLate ? `booked less than ${settings.reminderHoursBefore} h ahead; the confirmation serves` : null })
+    .onConflictDoNothing()
+    .returning({ id: appointmentMessages.id });
+  if (!row || tooLate) return;
+  await appointmentMail.enqueue({ messageId: row.id }, { tx, startAfter: kind === "reminder" ? dueAt : undefined, singletonKey: `${row.id}:${appt.revision}`, ...mailRetryOptions() });
+}
+
+/** After a move: the reminder goes out the set time before the new start (if not already sent). */
+export async function rescheduleReminder(tx: Tx, appt: Appointment, settings: Settings) {
+  const dueAt = new Date(appt.startsAt.getTime() - settings.reminderHoursBefore * 3_600_000);
+  const [existing] = await tx.select().from(appointmentMessages).where(and(eq(appointmentMessages.appointmentId, appt.id), eq(appointmentMessages.kind, "reminder")));
+  if (!existing) return queueAppointmentMessage(tx, appt, "reminder", settings);
+  if (existing.status === "sent") return;
+  const tooLate = dueAt.getTime() < Date.now();
+  await tx
+    .update(appointmentMessages)
+    .set({ dueAt, status: tooLate ? "skipped" : "queued", skippedReason: tooLate ? `moved to less than ${settings.reminderHoursBefore} h ahead` : null, lastError: null })
+    .where(eq(appointmentMessages.id, existing.id));
+  if (!tooLate) await appointmentMail.enqueue({ messageId: existing.id }, { tx, startAfter: dueAt, singletonKey: `${existing.id}:${appt.revision}`, ...mailRetryOptions() });
+}
+
+function utcArray(d: Date): DateArray {
+  return [d.getUTCFullYear(), d.getUTCMonth() + 1, d.getUTCDate(), d.getUTCHours(), d.getUTCMinutes()];
+}
+
+/** The calendar file for the appointment: REQUEST for bookings and reminders, CANCEL for cancellations. */
+export function appointmentIcs(input: { id: string; revision: number; start: Date; end: Date; title: string; description: string; location: string; cancelled: boolean; organizerEmail: string; organizerName: string }) {
+  const { error, value } = createEvent({
+    uid: `appointment-${input.id}@dioptra`,
+    // The sequence rises with every move, and once more for the cancellation.
+    sequence: input.revision + (input.cancelled ? 1 : 0),
+    method: input.cancelled ? "CANCEL" : "REQUEST",
+    status: input.cancelled ? "CANCELLED" : "CONFIRMED",
+    start: utcArray(input.start),
+    startInputType: "utc",
+    startOutputType: "utc",
+    end: utcArray(input.end),
+    endInputType: "utc",
+    endOutputType: "utc",
+    title: input.title,
+    description: input.description,
+    location: input.location,
+    organizer: { name: input.organizerName, email: input.organizerEmail },
+    productId: "dioptra/schedule",
+  });
+  if (error || !value) throw error ?? new Error("Could not build the calendar file.");
+  return value;
+}
+
+type Loaded = {
+  message: typeof appointmentMessages.$inferSelect;
+  appt: Appointment;
+  patient: { firstName: string; lastName: string; email: string | null; remindersByEmail: boolean };
+  typeName: string;
+  providerName: string;
+};
+
+export function composeAppointmentMail(l: Loaded, settings: Settings): Mail {
+  const when = formatLocal(l.appt.startsAt, settings.timeZone);
+  const place = [settings.name, settings.addressLine1, settings.city].filter(Boolean).join(", ");
+  const phone = settings.phone ? ` on ${settings.phone}` : "";
+  const hello = `Dear ${l.patient.firstName} ${l.patient.lastName},`;
+  const what = `${l.typeName} with ${l.providerName}`;
+  const kind = l.message.kind;
+  const subject =
+    kind === "confirmation" ? `Appointment booked: ${when}` : kind === "reminder" ? `Reminder: your appointment on ${when}` : `Appointment cancelled: ${when}`;
+  const body =
+    kind === "confirmation"
+      ? `${hello}\n\nYour appointment is booked:\n\n  ${what}\n  ${when} (${settings.timeZone} time)\n  ${place}\n\nThe attached calendar file adds it to your calendar. To change or cancel it, call us${phone}.\n`
+      : kind === "reminder"
+        ? `${hello}\n\nThis is a reminder of your appointment:\n\n  ${what}\n  ${when} (${settings.timeZone} time)\n  ${place}\n\nPlease bring your current glasses or contact lenses. To change or cancel, call us${phone}.\n`
+        : `${hello}\n\nYour appointment has been cancelled:\n\n  ${what}\n  ${when}\n\nThe attached calendar file removes it from your calendar. To book another time, call us${phone}.\n`;
+  const ics = appointmentIcs({
+    id: l.appt.id,
+    revision: l.appt.revision,
+    start: l.appt.startsAt,
+    end: l.appt.endsAt,
+    title: `${l.typeName} at ${settings.name}`,
+    description: `${what}.`,
+    location: place,
+    cancelled: kind === "cancellation",
+    organizerEmail: "no-reply@dioptra-demo.test",
+    organizerName: settings.name,
+  });
+  return {
+    to: l.patient.email!,
+    subject,
+    text: `${body}\n${settings.name}\n`,
+    attachments: [{ filename: kind === "cancellation" ? "cancelled-appointment.ics" : "appointment.ics", content: ics, contentType: `text/calendar; charset=utf-8; method=${kind === "cancellation" ? "CANCEL" : "REQUEST"}` }],
+  };
+}
+
+type Sender = (mail: Mail) => Promise<unknown>;
+let sender: Sender = sendMail;
+/** Points the appointment e-mails at another SMTP transport (tests use a second stand-in). */
+export function useAppointmentMailSender(next: Sender | null) {
+  sender = next ?? sendMail;
+}
+
+/** Why a message should not be sent now, or null to send it. */
+function reasonToSkip(l: Loaded): string | null {
+  const { kind } = l.message;
+  if (kind !== "cancellation" && (l.appt.status === "cancelled" || l.appt.status === "no_show")) return `appointment ${l.appt.status === "cancelled" ? "cancelled" : "missed"}`;
+  if (kind === "reminder" && l.appt.startsAt.getTime() < Date.now()) return "appointment already started";
+  if (!l.patient.remindersByEmail) return "patient opted out of e-mail";
+  if (!l.patient.email) return "no e-mail address on record";
+  return null;
+}
+
+export type DeliveryResult = "sent" | "skipped" | "already done" | "not due";
+
+/** The job: send one message at most once. Throws on a failed send so the queue retries it. */
+export async function deliverAppointmentMessage(messageId: string, job: { retryCount: number; retryLimit: number } = { retryCount: 0, retryLimit: 0 }): Promise<DeliveryResult> {
+  const settings = await practiceSchedule();
+  try {
+    return await db.transaction(async (tx) => {
+      const [row] = await tx
+        .select({
+          message: appointmentMessages,
+          appt: appointments,
+          patient: { firstName: patients.firstName, lastName: patients.lastName, email: patients.email, remindersByEmail: patients.remindersByEmail },
+          typeName: appointmentTypes.name,
+          providerName: users.name,
+        })
+        .from(appointmentMessages)
+        .innerJoin(appointments, eq(appointments.id, appointmentMessages.appointmentId))
+        .innerJoin(patients, eq(patients.id, appointments.patientId))
+        .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
+        .innerJoin(users, eq(users.id, appointments.providerId))
+        .where(eq(appointmentMessages.id, messageId))
+        .for("update", { of: appointmentMessages });
+      if (!row || row.message.status === "sent" || row.message.status === "skipped") return "already done";
+      // A reminder job queued before the appointment was moved later: the newer job will send it.
+      if (row.message.kind === "reminder" && row.message.dueAt.getTime() > Date.now() + 60_000) return "not due";
+      const skip = reasonToSkip(row);
+      if (skip) {
+        await tx.update(appointmentMessages).set({ status: "skipped", skippedReason: skip }).where(eq(appointmentMessages.id, messageId));
+        return "skipped";
+      }
+      const mail = composeAppointmentMail(row, settings);
+      await sender(mail);
+      await tx
+        .update(appointmentMessages)
+        .set({ status: "sent", sentAt: new Date(), recipient: mail.to, attempts: row.message.attempts + 1, lastError: null })
+        .where(eq(appointmentMessages.id, messageId));
+      return "sent";
+    });
+  } catch (error) {
+    const last = job.retryCount >= job.retryLimit;
+    await db
+      .update(appointmentMessages)
+      .set({ attempts: job.retryCount + 1, lastError: (error as Error).message.slice(0, 500), status: last ? "failed" : "queued" })
+      .where(and(eq(appointmentMessages.id, messageId), eq(appointmentMessages.status, "queued")));
+    throw error;
+  }
+}
+
+export const appointmentMail = defineJob<{ messageId: string }>(APPOINTMENT_MAIL_QUEUE, async (data, job) => {
+  await deliverAppointmentMessage(data.messageId, job);
+}, QUEUE_DEFAULTS);

@@ -1,0 +1,283 @@
+/**
+ * Booking rules on the server: validate a booking or a change, write it in a transaction, and
+ * turn the database's refusal (the exclusion constraint against double booking) into a 409 that
+ * names the clashing appointment. Used by the schedule pages and by the JSON API alike.
+ */
+import { and, asc, eq, gt, inArray, lt, ne, sql } from "drizzle-orm";
+import { appointmentMessages, appointments, appointmentStatusChanges, appointmentTypes, exams, patients, providerBreaks, users, workingHours } from "~/db/schema";
+import { checkWorkingHours } from "~/lib/scheduling/hours";
+import { canChangeStatus, isMovable, LIVE_STATUSES, STATUS_LABEL, type Status } from "~/lib/scheduling/status";
+import { formatLocal } from "~/lib/scheduling/time";
+import { audit } from "./audit.server";
+import { db, type Tx } from "./db.server";
+import { queueAppointmentMessage, rescheduleReminder } from "./reminders.server";
+import { practiceSchedule } from "./schedule-settings.server";
+
+export { practiceSchedule };
+import type { SessionUser } from "./session.server";
+
+export type FieldErrors = Record<string, string[]>;
+
+/** A refused booking or change: the status to answer with, a message, and errors by field. */
+export class BookingError extends Error {
+  constructor(
+    readonly status: 400 | 403 | 404 | 409 | 422,
+    message: string,
+    readonly fieldErrors: FieldErrors = {},
+    readonly clash?: ClashInfo,
+  ) {
+    super(message);
+  }
+}
+
+export type ClashInfo = { id: string; start: string; end: string; patientName: string; typeName: string; providerName: string };
+
+/** Staff who can be booked: active owners and optometrists (and anyone an appointment type names). */
+export async function bookableProviders() {
+  return db
+    .select({ id: users.id, name: users.name, role: users.role })
+    .from(users)
+    .where(and(eq(users.active, true), inArray(users.role, ["owner", "optometrist"])))
+    .orderBy(asc(users.name));
+}
+
+const PG_EXCLUSION_VIOLATION = "23P01";
+const PG_CHECK_VIOLATION = "23514";
+
+function pgCode(error: unknown): { code?: string; constraint?: string } {
+  let e = error as { code?: string; constraint?: string; cause?: unknown } | undefined;
+  for (let i = 0; i < 3 && e; i++) {
+    if (e.code) return e;
+    e = e.cause as typeof e;
+  }
+  return {};
+}
+
+/** The live appointment of `providerId` that overlaps [start, end), if any (for the 409 message). */
+export async function findClash(providerId: string, start: Date, end: Date, excludeId?: string): Promise<ClashInfo | undefined> {
+  const [row] = await db
+    .select({ id: appointments.id, start: appointments.startsAt, end: appointments.endsAt, first: patients.firstName, last: patients.lastName, typeName: appointmentTypes.name, providerName: users.name })
+    .from(appointments)
+    .innerJoin(patients, eq(patients.id, appointments.patientId))
+    .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
+    .innerJoin(users, eq(users.id, appointments.providerId))
+    .where(
+      and(
+        eq(appointments.providerId, providerId),
+        inArray(appointments.status, [...LIVE_STATUSES]),
+        lt(appointments.startsAt, end),
+        gt(appointments.endsAt, start),
+        excludeId ? ne(appointments.id, excludeId) : undefined,
+      ),
+    )
+    .orderBy(asc(appointments.startsAt))
+    .limit(1);
+  if (!row) return undefined;
+  return { id: row.id, start: row.start.toISOString(), end: row.end.toISOString(), patientName: `${row.first} ${row.last}`, typeName: row.typeName, providerName: row.providerName };
+}
+
+async function clashError(providerId: string, start: Date, end: Date, timeZone: string, excludeId?: string): Promise<BookingError> {
+  const clash = await findClash(providerId, start, end, excludeId);
+  const what = clash
+    ? `${clash.providerName} already has ${clash.patientName} (${clash.typeName}) from ${formatLocal(new Date(clash.start), timeZone)} to ${formatLocal(new Date(clash.end), timeZone, { withDate: false })}.`
+    : "The provider already has an appointment at that time.";
+  return new BookingError(409, `Not booked: ${what} Choose another time or provider.`, { start: [what] }, clash);
+}
+
+type SlotInput = { providerId: string; appointmentTypeId: string; start: Date; end?: Date };
+
+/** Checks everything except overlap (the database enforces that); answers the end time to use. */
+async function validateSlot(tx: Tx, input: SlotInput, timeZone: string, opts: { allowPast?: boolean } = {}) {
+  const errors: FieldErrors = {};
+  const [type] = await tx.select().from(appointmentTypes).where(eq(appointmentTypes.id, input.appointmentTypeId));
+  if (!type || !type.active) errors.appointmentTypeId = ["No such appointment type (or it is no longer offered)."];
+  const [provider] = await tx.select({ id: users.id, name: users.name, role: users.role, active: users.active }).from(users).where(eq(users.id, input.providerId));
+  if (!provider || !provider.active || provider.role === "patient") errors.providerId = ["No such provider."];
+  else if (type && !type.performerRoles.includes(provider.role)) errors.providerId = [`${provider.name} may not perform ${type.name} (the owner sets who may, under appointment types).`];
+  if (Object.keys(errors).length) throw new BookingError(errors.appointmentTypeId || errors.providerId?.[0] === "No such provider." ? 404 : 422, Object.values(errors).flat().join(" "), errors);
+  const end = input.end ?? new Date(input.start.getTime() + type!.durationMinutes * 60_000);
+  if (end <= input.start) throw new BookingError(422, "The end must be after the start.", { end: ["The end must be after the start."] });
+  if (end.getTime() - input.start.getTime() > 8 * 60 * 60_000) throw new BookingError(422, "An appointment can last at most 8 hours.", { end: ["An appointment can last at most 8 hours."] });
+  if (!opts.allowPast && input.start.getTime() < Date.now() - 60_000) {
+    throw new BookingError(422, "That time is in the past; choose a time from now on.", { start: ["That time is in the past; choose a time from now on."] });
+  }
+  const hours = await tx.select().from(workingHours).where(eq(workingHours.providerId, input.providerId));
+  if (!hours.length) {
+    const msg = `${provider!.name} has no working hours set yet; the practice owner sets them under Settings → Working hours.`;
+    throw new BookingError(422, msg, { start: [msg] });
+  }
+  const breaks = await tx.select().from(providerBreaks).where(eq(providerBreaks.providerId, input.providerId));
+  const check = checkWorkingHours(input.start, end, timeZone, hours, breaks);
+  if (!check.ok) throw new BookingError(422, check.reason, { start: [check.reason] });
+  return { type: type!, provider: provider!, end };
+}
+
+export type BookingInput = { patientId: string; providerId: string; appointmentTypeId: string; start: Date; end?: Date; notes?: string };
+
+/** Books an appointment, queues its confirmation and reminder e-mails, all in one transaction. */
+export async function bookAppointment(actor: SessionUser, input: BookingInput, request?: Request) {
+  const settings = await practiceSchedule();
+  let end = input.end ?? input.start;
+  try {
+    return await db.transaction(async (tx) => {
+      const [patient] = await tx.select({ id: patients.id }).from(patients).where(eq(patients.id, input.patientId));
+      if (!patient) throw new BookingError(404, "No such patient.", { patientId: ["No such patient."] });
+      ({ end } = await validateSlot(tx, input, settings.timeZone));
+      const [row] = await tx
+        .insert(appointments)
+        .values({ patientId: input.patientId, providerId: input.providerId, appointmentTypeId: input.appointmentTypeId, startsAt: input.start, endsAt: end, notes: input.notes ?? "", createdById: actor.id, statusChangedById: actor.id })
+        .returning();
+      await tx.insert(appointmentStatusChanges).values({ appointmentId: row!.id, fromStatus: null, toStatus: "booked", changedById: actor.id });
+      await queueAppointmentMessage(tx, row!, "confirmation", settings);
+      await queueAppointmentMessage(tx, row!, "reminder", settings);
+      await audit({ action: "appointment.booked", actorUserId: actor.id, entityType: "appointment", entityId: row!.id, patientId: input.patientId, detail: { start: input.start.toISOString(), end: end.toISOString(), providerId: input.providerId }, request }, tx);
+      return row!;
+    });
+  } catch (error) {
+    const { code, constraint } = pgCode(error);
+    if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_provider_overlap") throw await clashError(input.providerId, input.start, end, settings.timeZone);
+    if (code === PG_CHECK_VIOLATION) throw new BookingError(422, "The end must be after the start.", { end: ["The end must be after the start."] });
+    throw error;
+  }
+}
+
+async function loadForUpdate(tx: Tx, id: string) {
+  const [row] = await tx.select().from(appointments).where(eq(appointments.id, id)).for("update");
+  if (!row) throw new BookingError(404, "No such appointment.");
+  return row;
+}
+
+/** Moves and/or resizes an appointment (drag, resize, or a new provider), re-checking every rule. */
+export async function moveAppointment(actor: SessionUser, id: string, change: { start: Date; end?: Date; providerId?: string }, request?: Request) {
+  const settings = await practiceSchedule();
+  let providerId = change.providerId;
+  let end = change.end;
+  try {
+    return await db.transaction(async (tx) => {
+      const current = await loadForUpdate(tx, id);
+      if (!isMovable(current.status)) throw new BookingError(409, `A ${STATUS_LABEL[current.status].toLowerCase()} appointment cannot be moved.`);
+      providerId ??= current.providerId;
+      const duration = current.endsAt.getTime() - current.startsAt.getTime();
+      end ??= new Date(change.start.getTime() + duration);
+      await validateSlot(tx, { providerId, appointmentTypeId: current.appointmentTypeId, start: change.start, end }, settings.timeZone);
+      const [row] = await tx
+        .update(appointments)
+        .set({ startsAt: change.start, endsAt: end, providerId, updatedAt: new Date(), revision: sql`${appointments.revision} + 1` })
+        .where(eq(appointments.id, id))
+        .returning();
+      await rescheduleReminder(tx, row!, settings);
+      await audit(
+        {
+          action: "appointment.moved",
+          actorUserId: actor.id,
+          entityType: "appointment",
+          entityId: id,
+          patientId: current.patientId,
+          detail: { from: { start: current.startsAt.toISOString(), end: current.endsAt.toISOString(), providerId: current.providerId }, to: { start: change.start.toISOString(), end: end.toISOString(), providerId } },
+          request,
+        },
+        tx,
+      );
+      return row!;
+    });
+  } catch (error) {
+    const { code, constraint } = pgCode(error);
+    if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_provider_overlap") throw await clashError(providerId!, change.start, end!, settings.timeZone, id);
+    if (code === PG_CHECK_VIOLATION) throw new BookingError(422, "The end must be after the start.", { end: ["The end must be after the start."] });
+    throw error;
+  }
+}
+
+/**
+ * Changes the status (day flow), stamping who and when; a cancellation queues its notice.
+ * Starting the exam also opens an exam row linked to the appointment, in the same transaction.
+ */
+export async function changeStatus(actor: SessionUser, id: string, to: Status, request?: Request): Promise<{ appointment: typeof appointments.$inferSelect; examId?: string }> {
+  const settings = await practiceSchedule();
+  try {
+    return await db.transaction(async (tx) => {
+      const current = await loadForUpdate(tx, id);
+      if (current.status === to) return { appointment: current };
+      if (!canChangeStatus(current.status, to)) {
+        throw new BookingError(409, `An appointment that is ${STATUS_LABEL[current.status].toLowerCase()} cannot be marked ${STATUS_LABEL[to].toLowerCase()}.`);
+      }
+      if (to === "in_exam" && actor.role !== "owner" && actor.role !== "optometrist") throw new BookingError(403, "Only an optometrist or the owner starts an exam.");
+      const now = new Date();
+      const [row] = await tx.update(appointments).set({ status: to, statusChangedAt: now, statusChangedById: actor.id, updatedAt: now }).where(eq(appointments.id, id)).returning();
+      await tx.insert(appointmentStatusChanges).values({ appointmentId: id, fromStatus: current.status, toStatus: to, changedById: actor.id, changedAt: now });
+      let examId: string | undefined;
+      if (to === "in_exam") {
+        const [existing] = await tx.select({ id: exams.id }).from(exams).where(eq(exams.appointmentId, id)).limit(1);
+        examId = existing?.id;
+        if (!examId) {
+          const [exam] = await tx.insert(exams).values({ patientId: current.patientId, optometristId: actor.id, appointmentId: id, examinedAt: now, status: "in_progress" }).returning({ id: exams.id });
+          examId = exam!.id;
+          await audit({ action: "exam.started", actorUserId: actor.id, entityType: "exam", entityId: examId, patientId: current.patientId, detail: { appointmentId: id }, request }, tx);
+        }
+      }
+      if (to === "cancelled") await queueAppointmentMessage(tx, row!, "cancellation", settings);
+      if (to === "cancelled" || to === "no_show") {
+        // The reminder of a visit that will not happen is not sent.
+        await tx
+          .update(appointmentMessages)
+          .set({ status: "skipped", skippedReason: `appointment ${STATUS_LABEL[to].toLowerCase()}` })
+          .where(and(eq(appointmentMessages.appointmentId, id), eq(appointmentMessages.kind, "reminder"), eq(appointmentMessages.status, "queued")));
+      }
+      await audit({ action: "appointment.status_changed", actorUserId: actor.id, entityType: "appointment", entityId: id, patientId: current.patientId, detail: { from: current.status, to }, request }, tx);
+      return { appointment: row!, examId };
+    });
+  } catch (error) {
+    const { code, constraint } = pgCode(error);
+    // Reinstating a missed visit whose time has since been given away.
+    if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_provider_overlap") {
+      const [a] = await db.select().from(appointments).where(eq(appointments.id, id));
+      throw await clashError(a!.providerId, a!.startsAt, a!.endsAt, settings.timeZone, id);
+    }
+    throw error;
+  }
+}
+
+export type CalendarEvent = {
+  id: string;
+  start: Date;
+  end: Date;
+  status: Status;
+  providerId: string;
+  providerName: string;
+  patientId: string;
+  patientName: string;
+  typeName: string;
+};
+
+/** Appointments overlapping [start, end), optionally of one provider; cancelled ones only on request. */
+export async function appointmentsBetween(start: Date, end: Date, opts: { providerId?: string; includeCancelled?: boolean } = {}): Promise<CalendarEvent[]> {
+  const rows = await db
+    .select({
+      id: appointments.id,
+      start: appointments.startsAt,
+      end: appointments.endsAt,
+      status: appointments.status,
+      providerId: appointments.providerId,
+      providerName: users.name,
+      patientId: appointments.patientId,
+      first: patients.firstName,
+      last: patients.lastName,
+      typeName: appointmentTypes.name,
+    })
+    .from(appointments)
+    .innerJoin(patients, eq(patients.id, appointments.patientId))
+    .innerJoin(users, eq(users.id, appointments.providerId))
+    .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
+    .where(
+      and(
+        lt(appointments.startsAt, end),
+        gt(appointments.endsAt, start),
+        // Appointments never exceed 8 hours, so the start index bounds the scan from below.
+        gt(appointments.startsAt, new Date(start.getTime() - 8 * 3_600_000)),
+        opts.providerId ? eq(appointments.providerId, opts.providerId) : undefined,
+        opts.includeCancelled ? undefined : inArray(appointments.status, [...LIVE_STATUSES, "no_show"]),
+      ),
+    )
+    .orderBy(asc(appointments.startsAt));
+  return rows.map(({ first, last, ...r }) => ({ ...r, patientName: `${first} ${last}` }));
+}

@@ -1,0 +1,1 @@
+ALTER TABLE "appointments" ADD CONSTRAINT "appointments_at_most_8_hours" CHECK ("appointments"."ends_at" - "appointments"."starts_at" <= interval '8 hours');

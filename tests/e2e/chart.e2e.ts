@@ -1,0 +1,142 @@
+import { execFileSync } from "node:child_process";
+import { mkdtempSync, readFileSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
+import sharp from "sharp";
+import { describe, expect, it } from "vitest";
+import { DEMO, expectAccessible, screenshot, signIn, useBrowser } from "./fixtures";
+
+const browser = useBrowser();
+
+describe("the optometrist's day: patients, chart, exam, prescription, upload", () => {
+  it("registers a patient and finds them by search; warns about a duplicate", async () => {
+    const page = await browser.newPage();
+    await signIn(page, DEMO.receptionist);
+    await page.waitForURL("**/");
+    await page.getByRole("navigation", { name: "Main" }).getByRole("link", { name: "Patients" }).click();
+    await page.waitForURL("**/patients");
+    await expectAccessible(page);
+    await screenshot(page, "patients-table");
+    await page.getByRole("link", { name: "Register a patient" }).click();
+    const last = `Quarrendon${Date.now().toString(36)}`;
+    await page.getByLabel("First name").fill("Ottoline");
+    await page.getByLabel("Last name").fill(last);
+    await page.getByLabel("Date of birth").fill("1983-02-14");
+    await page.getByLabel("Phone").fill("07700 900 284");
+    await expectAccessible(page);
+    await page.getByRole("button", { name: "Register patient" }).click();
+    await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
+    await expect.poll(() => page.getByRole("heading", { level: 1 }).textContent()).toBe(`${last}, Ottoline`);
+    await expectAccessible(page);
+    await screenshot(page, "chart-front-desk");
+
+    await page.goto("/patients/new");
+    await page.getByLabel("First name").fill("ottoline");
+    await page.getByLabel("Last name").fill(last);
+    await page.getByLabel("Date of birth").fill("1983-02-14");
+    await page.getByRole("button", { name: "Register patient" }).click();
+    await expect.poll(() => page.getByText("This may be a patient who is already registered").count()).toBe(1);
+    await expectAccessible(page);
+
+    await page.goto("/patients");
+    const search = page.getByRole("combobox", { name: "Find a patient" });
+    await search.fill(last.slice(2, 12).toLowerCase());
+    await expect.poll(() => page.getByRole("option").first().textContent()).toContain(`${last}, Ottoline`);
+    await search.press("ArrowDown");
+    await search.press("Enter");
+    await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
+    await expect.poll(() => page.getByRole("heading", { level: 1 }).textContent()).toBe(`${last}, Ottoline`);
+  });
+
+  it("runs an exam: typo with inline error, change from last year, sign, prescription PDF, upload", async () => {
+    const page = await browser.newPage({ viewport: { width: 1280, height: 1000 } });
+    await signIn(page, DEMO.optometrist);
+    await page.waitForURL("**/");
+    await page.goto("/patients");
+    const search = page.getByRole("combobox", { name: "Find a patient" });
+    await search.fill("sorrell-am");
+    await expect.poll(() => page.getByRole("option").first().textContent()).toContain("Sorrell-Amadi, Benedikt");
+    await search.press("ArrowDown");
+    await search.press("Enter");
+    await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
+    await expectAccessible(page);
+    await screenshot(page, "chart-clinical");
+    await page.getByRole("button", { name: "Start a new exam" }).click();
+    await page.waitForURL(/\/exams\/[0-9a-f-]{36}$/);
+    await expect.poll(() => page.getByTestId("previous-final-left").textContent()).toContain("-3.50 -0.75 x 170");
+
+    const right = page.getByLabel("Right final sphere, cylinder and axis", { exact: true });
+    await right.fill("+0.75 -0.50 x 195");
+    await expect.poll(() => page.locator("[data-inline-error]").first().textContent()).toMatch(/195/);
+    await expect.poll(() => page.locator('[data-section-status="refraction:final"]').textContent()).toContain("Not saved");
+    await screenshot(page, "exam-typo");
+    await right.fill("+0.75 -0.50 x 175");
+    await page.getByLabel("Left final sphere, cylinder and axis", { exact: true }).fill("-4.50 -0.75 x 170");
+    await page.getByLabel("Left final VA", { exact: true }).fill("6/6");
+    await expect.poll(() => page.locator("[data-inline-error]").count()).toBe(0);
+    await expect.poll(() => page.getByTestId("change-left").textContent()).toContain("Meaningful change: 1.00 D");
+    await expect.poll(() => page.getByTestId("change-left").textContent()).toContain("ΔM −1.00");
+    await expect.poll(() => page.locator('[data-section-status="refraction:final"]').textContent(), { timeout: 10_000 }).toMatch(/Saved \d\d:\d\d/);
+
+    await page.getByLabel("Right IOP (mmHg)").fill("27");
+    await page.getByLabel("Right IOP method").selectOption("goldmann");
+    await page.getByLabel("Right IOP time of day").fill("10:20");
+    await expect.poll(() => page.locator('[data-section-status="iop"]').textContent(), { timeout: 10_000 }).toMatch(/Saved/);
+    await page.reload();
+    await expect.poll(() => page.getByTestId("referral-prompts").textContent()).toContain("Right IOP 27 mmHg is above 21 mmHg");
+    await expect.poll(() => page.getByLabel("Left final sphere, cylinder and axis", { exact: true }).inputValue()).toBe("-4.50 -0.75 x 170");
+
+    const png = await sharp({ create: { width: 500, height: 400, channels: 3, background: { r: 150, g: 70, b: 40 } } }).png().toBuffer();
+    await page.getByLabel("File (JPEG, PNG, WebP or PDF, up to 15 MB)").setInputFiles({ name: "right-fundus.png", mimeType: "image/png", buffer: png });
+    await page.getByRole("button", { name: "Attach" }).click();
+    await expect.poll(() => page.getByText("right-fundus.png attached.").count()).toBe(1);
+    await expect.poll(() => page.getByRole("img", { name: "Thumbnail of right-fundus.png" }).count()).toBe(1);
+    await expectAccessible(page);
+    await screenshot(page, "exam-entry");
+
+    await page.getByRole("button", { name: "Sign exam" }).click();
+    await expect.poll(() => page.getByText(/^Signed by Tobias Wren/).count()).toBe(1);
+    await expect.poll(() => page.getByLabel("Left final sphere, cylinder and axis", { exact: true }).isDisabled()).toBe(true);
+    await page.getByLabel("Part of the exam").fill("Case history");
+    await page.getByLabel("Correction", { exact: true }).fill("Also reports eye strain after screen work.");
+    await page.getByRole("button", { name: "Add addendum" }).click();
+    await expect.poll(() => page.getByText("Also reports eye strain after screen work.").count()).toBe(1);
+
+    await page.getByRole("button", { name: "Issue prescription" }).click();
+    const link = page.getByRole("link", { name: "Download PDF" });
+    await expect.poll(() => link.count()).toBe(1);
+    await expectAccessible(page);
+    await screenshot(page, "exam-signed");
+    const [download] = await Promise.all([page.waitForEvent("download"), link.click()]);
+    const file = join(mkdtempSync(join(tmpdir(), "rx-e2e-")), "rx.pdf");
+    await download.saveAs(file);
+    expect(readFileSync(file).subarray(0, 5).toString()).toBe("%PDF-");
+    const text = execFileSync("pdftotext", ["-layout", file, "-"]).toString();
+    expect(text).toContain("Spectacle prescription");
+    expect(text).toContain("Benedikt Sorrell-Amadi");
+    expect(text).toContain("-4.50");
+    expect(text).toContain("Tobias Wren");
+    expect(text).toContain("01-31982");
+    expect(text).toContain("Check every value against the signed exam before ordering lenses.");
+  });
+
+  it("gives the front desk a 403 on an exam page", async () => {
+    const page = await browser.newPage();
+    await signIn(page, DEMO.optometrist);
+    await page.waitForURL("**/");
+    await page.goto("/patients?q=Strand-Achebe");
+    await page.getByRole("link", { name: "Strand-Achebe, Wilhelmina" }).click();
+    await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
+    await expect.poll(() => page.getByText(/Referral prompt: Right IOP 26 mmHg/).count()).toBeGreaterThan(0);
+    await page.getByRole("link", { name: /signed$/ }).first().click();
+    await page.waitForURL(/\/exams\//);
+    const examUrl = page.url();
+    await expectAccessible(page);
+    await screenshot(page, "exam-referral-candidate");
+    const desk = await browser.newPage();
+    await signIn(desk, DEMO.receptionist);
+    await desk.waitForURL("**/");
+    const res = await desk.goto(examUrl);
+    expect(res?.status()).toBe(403);
+  });
+});
