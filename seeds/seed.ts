@@ -7,6 +7,7 @@ import { databaseUrl } from "../app/utils/db-url";
 import { seedBilling } from "./billing";
 import { seedCaseload } from "./caseload";
 import { DEMO_PASSWORD, DEMO_PATIENT, DEMO_PRACTICE, DEMO_USERS } from "./demo-practice";
+import { seedSchedule } from "./schedule";
 
 const { patients, practiceSettings, users } = schema;
 
@@ -32,6 +33,7 @@ export async function seed(url = databaseUrl()) {
         if (existing) continue;
         await tx.insert(users).values({ ...u, passwordHash, patientId: u.role === "patient" ? patient!.id : null });
       }
+      await seedSchedule(tx);
       await seedCaseload(tx);
     });
   } finally {

@@ -4,4 +4,3 @@
  */
 import "./reminders.server";
 import "./recalls.server";
-import "~/routes/referrals/referrals.server";
