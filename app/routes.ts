@@ -30,8 +30,14 @@ export default [
   route("patients/:patientId/prescriptions/:prescriptionId/pdf", "routes/patients/prescription-pdf.ts"),
   route("patients/:patientId/documents/:documentId/:variant", "routes/patients/document-file.ts"),
 
+  route("referrals/:referralId/letter.pdf", "routes/referrals/letter-pdf.ts"),
+  route("referrals/:referralId/replies/:replyId/file", "routes/referrals/reply-file.ts"),
+  route("r/:token", "routes/referrals/reply.tsx"),
+  route("r/:token/letter.pdf", "routes/referrals/reply-letter.ts"),
+
   layout("routes/layout.tsx", [
     index("routes/home.tsx"),
+    ...prefix("referrals", [index("routes/referrals/index.tsx"), route("new", "routes/referrals/new.tsx"), route(":referralId", "routes/referrals/referral.tsx")]),
     ...prefix("patients", [
       index("routes/patients/index.tsx"),
       route("new", "routes/patients/new.tsx"),
@@ -59,6 +65,7 @@ export default [
       layout("routes/settings/layout.tsx", [
         index("routes/settings/practice.tsx"),
         route("users", "routes/settings/users.tsx"),
+        route("recipients", "routes/settings/recipients.tsx"),
         route("appointment-types", "routes/settings/appointment-types.tsx"),
         route("hours", "routes/settings/hours.tsx"),
         route("fees", "routes/settings/fees.tsx"),

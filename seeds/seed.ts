@@ -7,6 +7,7 @@ import { databaseUrl } from "../app/utils/db-url";
 import { seedBilling } from "./billing";
 import { seedCaseload } from "./caseload";
 import { DEMO_PASSWORD, DEMO_PATIENT, DEMO_PRACTICE, DEMO_USERS } from "./demo-practice";
+import { seedReferrals } from "./referrals";
 import { seedSchedule } from "./schedule";
 
 const { patients, practiceSettings, users } = schema;
@@ -35,6 +36,7 @@ export async function seed(url = databaseUrl()) {
       }
       await seedSchedule(tx);
       await seedCaseload(tx);
+      await seedReferrals(tx);
     });
   } finally {
     await pool.end();

@@ -8,6 +8,7 @@ export const NAV: readonly NavItem[] = [
   { to: "/schedule", label: "Schedule", roles: ["owner", "optometrist", "receptionist"] },
   { to: "/patients", label: "Patients", roles: ["owner", "optometrist", "receptionist"] },
   { to: "/tools/rx", label: "Rx calculator", roles: ["owner", "optometrist", "receptionist"] },
+  { to: "/referrals", label: "Referrals", roles: ["owner", "optometrist", "receptionist"] },
   { to: "/billing", label: "Billing", roles: ["owner", "receptionist"] },
   { to: "/settings", label: "Practice settings", roles: ["owner"] },
   { to: "/portal", label: "My visits", roles: ["patient"] },

@@ -6,5 +6,6 @@ export * from "./exams";
 export * from "./patients";
 export * from "./practice";
 export * from "./prescriptions";
+export * from "./referrals";
 export * from "./relations";
 export * from "./schedule";

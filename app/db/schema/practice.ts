@@ -28,6 +28,15 @@ export const practiceSettings = pgTable(
     reminderHoursBefore: integer().notNull().default(24),
     /** Tax on standard-rated invoice lines, basis points (2000 = 20 %); 0 = no tax. */
     taxRateBp: integer().notNull().default(0),
+    /**
+     * Days within which a referred patient should be seen, per urgency; past it the referral is
+     * overdue. Defaults are common practice (same day, a week, four weeks, thirteen weeks); local
+     * pathways govern.
+     */
+    referralDaysSameDay: integer().notNull().default(1),
+    referralDaysUrgent: integer().notNull().default(7),
+    referralDaysSoon: integer().notNull().default(28),
+    referralDaysRoutine: integer().notNull().default(91),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [

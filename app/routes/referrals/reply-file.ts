@@ -1,0 +1,32 @@
+import { and, eq } from "drizzle-orm";
+import { data } from "react-router";
+import type { Route } from "./+types/reply-file";
+import { isUuid } from "./referrals.server";
+import { referralReplies } from "~/db/schema";
+import { audit } from "~/utils/audit.server";
+import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+import { storage } from "~/utils/storage.server";
+
+/** A consult letter uploaded by the recipient, for the practice's clinicians. */
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const user = await requireRole(request, CLINICAL_ROLES);
+  if (!isUuid(params.referralId) || !isUuid(params.replyId)) throw data({ error: "Not found." }, { status: 404 });
+  const [reply] = await db
+    .select()
+    .from(referralReplies)
+    .where(and(eq(referralReplies.id, params.replyId), eq(referralReplies.referralId, params.referralId)));
+  if (!reply?.fileKey || !reply.fileType) throw data({ error: "Not found." }, { status: 404 });
+  const bytes = await storage.get(reply.fileKey);
+  if (!bytes) throw data({ error: "The file is missing from storage." }, { status: 404 });
+  await audit({ action: "referral.reply_file_viewed", actorUserId: user.id, entityType: "referral_reply", entityId: reply.id, patientId: reply.patientId, request });
+  const safeName = (reply.fileName ?? "consult-letter").replace(/[^\w.\- ]+/g, "_");
+  return new Response(new Uint8Array(bytes), {
+    headers: {
+      "content-type": reply.fileType,
+      "content-disposition": `inline; filename="${safeName}"`,
+      "cache-control": "private, no-store",
+      "x-content-type-options": "nosniff",
+    },
+  });
+}

@@ -1,0 +1,274 @@
+import { getFormProps, getInputProps, getTextareaProps, useForm, type SubmissionResult } from "@conform-to/react";
+import { parseWithZod } from "@conform-to/zod/v4";
+import { data, Form, useNavigation } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/reply";
+import { linkAccess, linkRefusal } from "./public.server";
+import { acknowledge, loadReferral, publicSummary, reply, ReferralError, REPLY_FILE_MAX_BYTES, setAppointment, sniffType } from "./referrals.server";
+import { verifyLink } from "./links.server";
+import { ErrorList, Field } from "~/components/forms";
+import { Button } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Textarea } from "~/components/ui/input";
+import { Notice, StatusBadge } from "~/components/ui/notice";
+
+const name = z.string({ error: "Give your name." }).trim().min(2, "Give your name.").max(120, "At most 120 characters.");
+const isoDate = z
+  .string({ error: "Give the appointment date." })
+  .regex(/^\d{4}-\d{2}-\d{2}$/, "Give the date as YYYY-MM-DD.")
+  .refine((d) => !Number.isNaN(Date.parse(`${d}T00:00:00Z`)) && new Date(`${d}T00:00:00Z`).toISOString().startsWith(d), "That date does not exist.")
+  .refine((d) => {
+    const t = Date.parse(`${d}T00:00:00Z`);
+    return t > Date.now() - 365 * 86_400_000 && t < Date.now() + 730 * 86_400_000;
+  }, "Give a date within a year before or two years after today.");
+
+const ackSchema = z.object({ intent: z.literal("acknowledge"), name });
+const apptSchema = z.object({ intent: z.literal("appointment"), name, date: isoDate });
+const replySchema = z.object({ intent: z.literal("reply"), name, body: z.string().trim().max(4000, "Keep the reply under 4,000 characters.").default("") });
+
+/** Every visit to the link is audited, accepted or not; a refused link shows nothing of the referral. */
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const check = await verifyLink(params.token);
+  if (!check.ok) {
+    await linkRefusal(check, request, "page");
+    const expired = check.reason === "expired" || check.reason === "revoked";
+    return data({ state: "refused" as const, expired }, { status: expired ? 410 : 404, headers: { "referrer-policy": "no-referrer", "cache-control": "no-store" } });
+  }
+  const { referral, patient } = await loadReferral(check.referralId);
+  if (referral.status === "withdrawn" || referral.status === "draft" || referral.status === "queued") {
+    await linkRefusal({ ok: false, reason: "revoked", linkId: check.linkId, referralId: check.referralId }, request, "page (referral not open)");
+    return data({ state: "refused" as const, expired: true }, { status: 410, headers: { "referrer-policy": "no-referrer", "cache-control": "no-store" } });
+  }
+  await linkAccess(check, patient.id, request, "page");
+  return data({ state: "ok" as const, summary: await publicSummary(check.referralId) }, { headers: { "referrer-policy": "no-referrer", "cache-control": "no-store" } });
+}
+
+export async function action({ request, params }: Route.ActionArgs) {
+  const check = await verifyLink(params.token);
+  if (!check.ok) {
+    await linkRefusal(check, request, "action");
+    throw data({ error: "This link is not valid any more." }, { status: check.reason === "expired" || check.reason === "revoked" ? 410 : 404 });
+  }
+  const length = Number(request.headers.get("content-length") ?? 0);
+  if (length > REPLY_FILE_MAX_BYTES + 64 * 1024) return data({ intent: "reply", result: { status: "error", error: { file: ["The file is larger than 10 MB. Send a smaller PDF or image."] } } as SubmissionResult<string[]> }, { status: 413 });
+  const formData = await request.formData();
+  const intent = String(formData.get("intent") ?? "");
+  try {
+    if (intent === "acknowledge") {
+      const s = parseWithZod(formData, { schema: ackSchema });
+      if (s.status !== "success") return data({ intent, result: s.reply() }, { status: 400 });
+      await acknowledge(check.referralId, check.linkId, s.value.name, request);
+      return data({ intent, result: s.reply({ resetForm: true }), done: "Thank you: receipt acknowledged. The practice can see it now." });
+    }
+    if (intent === "appointment") {
+      const s = parseWithZod(formData, { schema: apptSchema });
+      if (s.status !== "success") return data({ intent, result: s.reply() }, { status: 400 });
+      await setAppointment(check.referralId, check.linkId, s.value.name, s.value.date, request);
+      return data({ intent, result: s.reply({ resetForm: true }), done: `Appointment date ${s.value.date} recorded.` });
+    }
+    if (intent === "reply") {
+      const s = parseWithZod(formData, { schema: replySchema });
+      if (s.status !== "success") return data({ intent, result: s.reply() }, { status: 400 });
+      const raw = formData.get("file");
+      let file: { name: string; bytes: Uint8Array; type: NonNullable<ReturnType<typeof sniffType>> } | null = null;
+      if (raw && typeof raw === "object" && raw.size > 0) {
+        if (raw.size > REPLY_FILE_MAX_BYTES) return data({ intent, result: s.reply({ fieldErrors: { file: ["The file is larger than 10 MB."] } }) }, { status: 400 });
+        const bytes = new Uint8Array(await raw.arrayBuffer());
+        const type = sniffType(bytes);
+        if (!type) return data({ intent, result: s.reply({ fieldErrors: { file: ["Upload a PDF, JPEG or PNG file."] } }) }, { status: 400 });
+        file = { name: raw.name.slice(0, 200) || "consult-letter", bytes, type };
+      }
+      if (!s.value.body && !file) return data({ intent, result: s.reply({ fieldErrors: { body: ["Write a short reply or attach your consult letter."] } }) }, { status: 400 });
+      await reply(check.referralId, check.linkId, { name: s.value.name, body: s.value.body, file }, request);
+      return data({ intent, result: s.reply({ resetForm: true }), done: "Thank you: your reply has been sent to the practice and added to the patient's record." });
+    }
+  } catch (error) {
+    if (error instanceof ReferralError) return data({ intent, result: { status: "error", error: { "": Object.values(error.errors).flat() } } as SubmissionResult<string[]> }, { status: error.status });
+    throw error;
+  }
+  return data({ intent, result: { status: "error", error: { "": ["Unknown request."] } } as SubmissionResult<string[]> }, { status: 400 });
+}
+
+type ActionData = { intent: string; result: SubmissionResult<string[]>; done?: string } | undefined;
+
+function Shell({ practice, children }: { practice?: string; children: React.ReactNode }) {
+  return (
+    <div className="min-h-screen">
+      <header className="border-b border-line bg-white">
+        <div className="mx-auto flex max-w-4xl items-center gap-2 px-4 py-3 text-lg font-bold text-accent-800 sm:px-6">
+          <img src="/favicon.svg" alt="" className="size-7" /> {practice ?? "Referral"}
+        </div>
+      </header>
+      <main id="main" className="mx-auto max-w-4xl px-4 py-8 sm:px-6">
+        {children}
+      </main>
+    </div>
+  );
+}
+
+function Done({ a, intent }: { a: ActionData; intent: string }) {
+  if (a?.intent !== intent || !a.done) return null;
+  return (
+    <div className="mb-4">
+      <Notice tone="success" title="Done">
+        {a.done}
+      </Notice>
+    </div>
+  );
+}
+
+function useLast(id: string, a: ActionData) {
+  const navigation = useNavigation();
+  return navigation.state === "idle" && a?.intent === id ? a.result : null;
+}
+
+export default function ReplyPage({ loaderData, actionData, params }: Route.ComponentProps) {
+  const navigation = useNavigation();
+  const a = actionData as ActionData;
+  const [ackForm, ack] = useForm({ id: "acknowledge", lastResult: useLast("acknowledge", a), onValidate: ({ formData }) => parseWithZod(formData, { schema: ackSchema }), shouldValidate: "onBlur" });
+  const [apptForm, appt] = useForm({ id: "appointment", lastResult: useLast("appointment", a), onValidate: ({ formData }) => parseWithZod(formData, { schema: apptSchema }), shouldValidate: "onBlur" });
+  const [replyForm, rep] = useForm({ id: "reply", lastResult: useLast("reply", a), onValidate: ({ formData }) => parseWithZod(formData, { schema: replySchema }), shouldValidate: "onBlur" });
+  if (loaderData.state !== "ok") {
+    return (
+      <Shell>
+        <h1 className="text-2xl">{loaderData.expired ? "This link has expired" : "This link is not valid"}</h1>
+        <p className="mt-3 max-w-prose text-muted">
+          {loaderData.expired
+            ? "Referral links work for a limited time and stop working when a referral is withdrawn. Ask the practice that sent the referral for a new link."
+            : "The address may be incomplete or mistyped. Copy the whole link from the e-mail, or ask the practice that sent the referral for a new one."}
+        </p>
+      </Shell>
+    );
+  }
+  const s = loaderData.summary;
+  const busy = navigation.state === "submitting" ? String(navigation.formData?.get("intent") ?? "") : "";
+  const replyErrors = (a?.intent === "reply" ? (a.result.error as Record<string, string[]> | undefined) : undefined) ?? {};
+  return (
+    <Shell practice={s.practice.name}>
+      <h1 className="text-2xl sm:text-3xl">Referral {s.reference}</h1>
+      <p className="mt-1 text-muted">
+        From {s.optometrist.name}
+        {s.optometrist.licence ? ` (registration ${s.optometrist.licence})` : ""}, {s.practice.name}
+        {s.sentOn ? ` · sent ${s.sentOn}` : ""}
+      </p>
+      {a?.intent && !a.done && a.result.error?.[""] ? (
+        <div className="mt-4">
+          <Notice tone="error" title="Not done">
+            {(a.result.error[""] ?? []).join(" ")}
+          </Notice>
+        </div>
+      ) : null}
+      <div className="mt-6 grid gap-6">
+        <Card title="Summary">
+          <dl className="grid gap-x-6 gap-y-2 text-sm sm:grid-cols-[10rem_1fr]">
+            <dt className="text-muted">Patient</dt>
+            <dd className="font-semibold">
+              {s.patient.name}, born {s.patient.dateOfBirth}
+            </dd>
+            <dt className="text-muted">Urgency</dt>
+            <dd>
+              {s.urgency} ({s.timeFrame})
+            </dd>
+            <dt className="text-muted">Reason</dt>
+            <dd className="whitespace-pre-wrap">{s.reason}</dd>
+            <dt className="text-muted">Findings</dt>
+            <dd>
+              <ul className="list-disc pl-5">
+                {s.findings.map((f) => (
+                  <li key={f.message}>
+                    {f.message} <span className="text-muted">({f.value})</span>
+                  </li>
+                ))}
+              </ul>
+              {s.additionalFindings ? <p className="mt-1 whitespace-pre-wrap">{s.additionalFindings}</p> : null}
+            </dd>
+            <dt className="text-muted">Status</dt>
+            <dd className="flex flex-wrap gap-2">
+              {s.acknowledgedAt ? <StatusBadge tone="success">Acknowledged {s.acknowledgedAt}{s.acknowledgedBy ? ` by ${s.acknowledgedBy}` : ""}</StatusBadge> : <StatusBadge tone="warning">Not yet acknowledged</StatusBadge>}
+              {s.appointmentOn ? <StatusBadge tone="success">Appointment {s.appointmentOn}</StatusBadge> : null}
+              {s.replies.length ? <StatusBadge tone="success">Reply sent</StatusBadge> : null}
+            </dd>
+          </dl>
+          <p className="mt-4">
+            <a href={`/r/${params.token}/letter.pdf`} className="font-semibold text-accent-700 underline underline-offset-4" rel="noreferrer">
+              Open the full letter (PDF)
+            </a>
+          </p>
+        </Card>
+
+        <Card title="Acknowledge receipt">
+          <Done a={a} intent="acknowledge" />
+          <Form method="post" {...getFormProps(ackForm)} className="grid gap-4 sm:grid-cols-[1fr_auto] sm:items-end">
+            <input type="hidden" name="intent" value="acknowledge" />
+            <Field label="Your name" errors={ack.name.errors} inputProps={{ ...getInputProps(ack.name, { type: "text" }), autoComplete: "name" }} />
+            <Button type="submit" pending={busy === "acknowledge"}>
+              Acknowledge receipt
+            </Button>
+          </Form>
+        </Card>
+
+        <Card title="Appointment">
+          <Done a={a} intent="appointment" />
+          <Form method="post" {...getFormProps(apptForm)} className="grid gap-4 sm:grid-cols-[1fr_1fr_auto] sm:items-end">
+            <input type="hidden" name="intent" value="appointment" />
+            <Field label="Your name" errors={appt.name.errors} inputProps={{ ...getInputProps(appt.name, { type: "text" }), autoComplete: "name" }} />
+            <Field label="Appointment date" errors={appt.date.errors} inputProps={getInputProps(appt.date, { type: "date" })} />
+            <Button type="submit" variant="secondary" pending={busy === "appointment"}>
+              Save the date
+            </Button>
+          </Form>
+        </Card>
+
+        <Card title="Reply to the practice">
+          <Done a={a} intent="reply" />
+          <Form method="post" encType="multipart/form-data" {...getFormProps(replyForm)} className="grid gap-4">
+            <input type="hidden" name="intent" value="reply" />
+            <Field label="Your name" errors={rep.name.errors} inputProps={{ ...getInputProps(rep.name, { type: "text" }), autoComplete: "name" }} />
+            <div>
+              <label htmlFor={rep.body.id} className="mb-1 block text-sm font-semibold">
+                Short reply
+              </label>
+              <Textarea {...getTextareaProps(rep.body)} rows={5} aria-invalid={rep.body.errors?.length ? true : undefined} aria-describedby={rep.body.errors?.length ? `${rep.body.id}-error` : undefined} />
+              <ErrorList id={`${rep.body.id}-error`} errors={rep.body.errors} />
+            </div>
+            <div>
+              <label htmlFor="reply-file" className="mb-1 block text-sm font-semibold">
+                Consult letter (optional: PDF, JPEG or PNG, up to 10 MB)
+              </label>
+              <input id="reply-file" name="file" type="file" accept="application/pdf,image/jpeg,image/png" className="block text-sm" aria-invalid={replyErrors.file?.length ? true : undefined} aria-describedby={replyErrors.file?.length ? "reply-file-error" : undefined} />
+              <ErrorList id="reply-file-error" errors={replyErrors.file} />
+            </div>
+            <div>
+              <Button type="submit" pending={busy === "reply"}>
+                Send reply
+              </Button>
+            </div>
+          </Form>
+          {s.replies.length ? (
+            <div className="mt-6">
+              <h3 className="font-semibold">Sent so far</h3>
+              <ul className="mt-2 space-y-2 text-sm">
+                {s.replies.map((x) => (
+                  <li key={x.id} className="rounded-md border border-line p-3">
+                    <span className="text-muted">
+                      {x.authorName} · {x.createdAt}
+                    </span>
+                    {x.body ? <p className="mt-1 whitespace-pre-wrap">{x.body}</p> : null}
+                    {x.fileName ? <p className="mt-1">Attached: {x.fileName}</p> : null}
+                  </li>
+                ))}
+              </ul>
+            </div>
+          ) : null}
+        </Card>
+        <p className="text-sm text-muted">
+          Confidential patient information for the named recipient only. Every visit to this page is recorded. Questions: {s.practice.name}
+          {s.practice.phone ? `, ${s.practice.phone}` : ""}
+          {s.practice.email ? `, ${s.practice.email}` : ""}.
+        </p>
+      </div>
+    </Shell>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Referral · Dioptra" }, { name: "robots", content: "noindex, nofollow" }, { name: "referrer", content: "no-referrer" }];
