@@ -4,3 +4,4 @@
  */
 import "./reminders.server";
 import "./recalls.server";
+import "~/routes/referrals/referrals.server";
