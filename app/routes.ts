@@ -2,11 +2,14 @@ import { type RouteConfig, index, layout, prefix, route } from "@react-router/de
 
 export default [
   route("healthz", "routes/api/healthz.ts"),
+  route("api/portal-invite", "routes/api/portal-invite.ts"),
 
   route("login", "routes/auth/login.tsx"),
   route("logout", "routes/auth/logout.ts"),
   route("forgot-password", "routes/auth/forgot-password.tsx"),
   route("reset-password", "routes/auth/reset-password.tsx"),
+  route("sign-in-link", "routes/auth/sign-in-link.tsx"),
+  route("sign-in-link/verify", "routes/auth/sign-in-link-verify.tsx"),
 
   ...prefix("dev/mailbox", [
     index("routes/dev/mailbox.tsx"),
@@ -71,7 +74,7 @@ export default [
         route("fees", "routes/settings/fees.tsx"),
       ]),
     ]),
-    ...prefix("portal", [index("routes/portal/home.tsx")]),
+    ...prefix("portal", [index("routes/portal/home.tsx"), route("reminders", "routes/portal/reminders.tsx")]),
     route("*", "routes/not-found.tsx"),
   ]),
 ] satisfies RouteConfig;

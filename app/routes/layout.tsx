@@ -25,7 +25,7 @@ function Shell({ user, children }: { user: { name: string; email: string; role: 
                   <li key={item.to}>
                     <NavLink
                       to={item.to}
-                      end={item.to === "/"}
+                      end={item.to === "/" || item.to === "/portal"}
                       className={({ isActive }) =>
                         `block rounded-md px-3 py-2 text-sm font-semibold ${isActive ? "bg-accent-50 text-accent-800 underline decoration-2 underline-offset-[6px]" : "text-muted hover:bg-canvas hover:text-ink"}`
                       }

@@ -1,10 +1,10 @@
 import { createHash, randomBytes } from "node:crypto";
-import { and, eq, gt, isNull } from "drizzle-orm";
+import { and, eq, gt, inArray, isNull } from "drizzle-orm";
 import { userTokens, users } from "~/db/schema";
 import { db, type Tx } from "./db.server";
 
-export type TokenPurpose = "reset" | "invite";
-export const TOKEN_TTL_MS: Record<TokenPurpose, number> = { reset: 60 * 60 * 1000, invite: 7 * 24 * 60 * 60 * 1000 };
+export type TokenPurpose = "reset" | "invite" | "sign_in";
+export const TOKEN_TTL_MS: Record<TokenPurpose, number> = { reset: 60 * 60 * 1000, invite: 7 * 24 * 60 * 60 * 1000, sign_in: 15 * 60 * 1000 };
 
 const hash = (raw: string) => createHash("sha256").update(raw).digest("hex");
 
@@ -20,24 +20,24 @@ export async function issueUserToken(userId: string, purpose: TokenPurpose, tx: 
 }
 
 /** The live token's user without using it up (to show the form), or null. */
-export async function peekUserToken(raw: string) {
+export async function peekUserToken(raw: string, purposes: TokenPurpose[] = ["reset", "invite"]) {
   if (!raw || raw.length > 100) return null;
   const [row] = await db
     .select({ userId: userTokens.userId, purpose: userTokens.purpose, email: users.email, name: users.name })
     .from(userTokens)
     .innerJoin(users, eq(users.id, userTokens.userId))
-    .where(and(eq(userTokens.tokenHash, hash(raw)), isNull(userTokens.usedAt), gt(userTokens.expiresAt, new Date())))
+    .where(and(eq(userTokens.tokenHash, hash(raw)), isNull(userTokens.usedAt), gt(userTokens.expiresAt, new Date()), inArray(userTokens.purpose, purposes)))
     .limit(1);
   return row ?? null;
 }
 
-/** Uses the token up inside `tx`; null when unknown, used or expired. Row-locked so it is used once. */
-export async function consumeUserToken(raw: string, tx: Tx) {
+/** Uses the token up inside `tx`; null when unknown, used, expired or of another purpose. Row-locked so it is used once. */
+export async function consumeUserToken(raw: string, tx: Tx, purposes: TokenPurpose[] = ["reset", "invite"]) {
   if (!raw || raw.length > 100) return null;
   const [row] = await tx
     .select({ id: userTokens.id, userId: userTokens.userId, purpose: userTokens.purpose })
     .from(userTokens)
-    .where(and(eq(userTokens.tokenHash, hash(raw)), isNull(userTokens.usedAt), gt(userTokens.expiresAt, new Date())))
+    .where(and(eq(userTokens.tokenHash, hash(raw)), isNull(userTokens.usedAt), gt(userTokens.expiresAt, new Date()), inArray(userTokens.purpose, purposes)))
     .for("update")
     .limit(1);
   if (!row) return null;

@@ -43,9 +43,9 @@ export const sessions = pgTable(
   (t) => [index("sessions_user_idx").on(t.userId)],
 );
 
-export const tokenPurposeEnum = pgEnum("token_purpose", ["reset", "invite"]);
+export const tokenPurposeEnum = pgEnum("token_purpose", ["reset", "invite", "sign_in"]);
 
-/** Single-use, expiring tokens for password reset and invitations; only a hash is stored. */
+/** Single-use, expiring tokens for password reset, invitations and e-mailed sign-in links; only a hash is stored. */
 export const userTokens = pgTable(
   "user_tokens",
   {

@@ -4,6 +4,7 @@ export * from "./billing";
 export * from "./documents";
 export * from "./exams";
 export * from "./patients";
+export * from "./portal";
 export * from "./practice";
 export * from "./prescriptions";
 export * from "./referrals";

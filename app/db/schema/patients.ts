@@ -20,6 +20,8 @@ export const patients = pgTable(
     allergies: text().notNull().default(""),
     medications: text().notNull().default(""),
     remindersByEmail: boolean().notNull().default(true),
+    /** Recall e-mails ("your yearly exam is due"), chosen apart from appointment reminders. */
+    recallsByEmail: boolean().notNull().default(true),
     /**
      * Lower-cased name, e-mail and the phone's digits in one string, kept by the database, so
      * one trigram index answers "any part of the name, phone or e-mail" searches.

@@ -19,6 +19,8 @@ export const practiceSettings = pgTable(
     /** Validity of a spectacle prescription, months; local law governs. */
     spectacleRxValidityMonths: integer().notNull().default(24),
     contactLensRxValidityMonths: integer().notNull().default(12),
+    /** Patients may cancel a visit from the portal until this many hours before it starts. */
+    portalCancelCutoffHours: integer().notNull().default(24),
     /** Recall interval after a routine exam when the visit type sets none, months (common practice: 12 for children, 24 for adults). */
     recallMonthsChild: integer().notNull().default(12),
     recallMonthsAdult: integer().notNull().default(24),

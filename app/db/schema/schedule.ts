@@ -21,6 +21,8 @@ export const appointmentTypes = pgTable(
       .default(sql`'{owner,optometrist}'::role[]`),
     /** Counts as a routine exam for recalls (a completed visit of this type resets the recall clock). */
     routineExam: boolean().notNull().default(true),
+    /** Patients may book this kind of visit themselves from the portal, into free slots. */
+    onlineBooking: boolean().notNull().default(false),
     active: boolean().notNull().default(true),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },

@@ -68,11 +68,18 @@ export default function Login({ actionData }: Route.ComponentProps) {
               Sign in
             </Button>
           </Form>
-          <p className="mt-6 text-sm">
-            <Link to="/forgot-password" className="font-semibold text-accent-700 underline underline-offset-4">
-              Forgotten your password?
-            </Link>
-          </p>
+          <ul className="mt-6 space-y-2 text-sm">
+            <li>
+              <Link to="/forgot-password" className="font-semibold text-accent-700 underline underline-offset-4">
+                Forgotten your password?
+              </Link>
+            </li>
+            <li>
+              <Link to="/sign-in-link" className="font-semibold text-accent-700 underline underline-offset-4">
+                Patients: e-mail me a sign-in link
+              </Link>
+            </li>
+          </ul>
         </div>
       </div>
     </main>

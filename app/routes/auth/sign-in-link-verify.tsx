@@ -1,0 +1,59 @@
+import { data, Form, Link, useNavigation } from "react-router";
+import type { Route } from "./+types/sign-in-link-verify";
+import { Button } from "~/components/ui/button";
+import { Notice } from "~/components/ui/notice";
+import { audit } from "~/utils/audit.server";
+import { db } from "~/utils/db.server";
+import { createUserSession } from "~/utils/session.server";
+import { consumeUserToken, peekUserToken } from "~/utils/tokens.server";
+
+// Opening the link only shows a button: mail scanners that fetch links must not use it up.
+export async function loader({ request }: Route.LoaderArgs) {
+  const token = new URL(request.url).searchParams.get("token") ?? "";
+  const live = await peekUserToken(token, ["sign_in"]);
+  return { token, valid: Boolean(live), email: live?.email ?? null };
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  const form = await request.formData();
+  const raw = String(form.get("token") ?? "");
+  const used = await db.transaction(async (tx) => {
+    const token = await consumeUserToken(raw, tx, ["sign_in"]);
+    if (token) await audit({ action: "auth.sign_in", actorUserId: token.userId, detail: { method: "e-mailed link" }, request }, tx);
+    return token;
+  });
+  if (!used) return data({ error: "This sign-in link has expired or has already been used. Ask for a new one." }, { status: 400 });
+  return createUserSession(request, used.userId, "/portal");
+}
+
+export default function VerifySignInLink({ loaderData, actionData }: Route.ComponentProps) {
+  const navigation = useNavigation();
+  const valid = loaderData.valid && !actionData?.error;
+  return (
+    <main id="main" className="flex min-h-screen items-center justify-center px-4 py-12">
+      <div className="w-full max-w-md rounded-lg border border-line bg-white p-8 shadow-sm">
+        <h1 className="text-2xl">{valid ? "Sign in" : "This link no longer works"}</h1>
+        {valid ? (
+          <Form method="post" className="mt-6 space-y-4">
+            <p className="text-sm text-muted">Signing in as {loaderData.email}</p>
+            <input type="hidden" name="token" value={loaderData.token} />
+            <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
+              Continue to my page
+            </Button>
+          </Form>
+        ) : (
+          <div className="mt-4 space-y-4">
+            <Notice tone="error" title="Expired or already used">
+              {actionData?.error ?? "Sign-in links work once and for 15 minutes."}
+            </Notice>
+            <Link to="/sign-in-link" className="font-semibold text-accent-700 underline underline-offset-4">
+              Send me a new link
+            </Link>
+          </div>
+        )}
+      </div>
+    </main>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Sign in · Dioptra" }];

@@ -1,0 +1,85 @@
+import { getFormProps, getInputProps, useForm } from "@conform-to/react";
+import { parseWithZod } from "@conform-to/zod/v4";
+import { sql } from "drizzle-orm";
+import { data, Form, Link, useNavigation } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/sign-in-link";
+import { Field } from "~/components/forms";
+import { Button } from "~/components/ui/button";
+import { Notice } from "~/components/ui/notice";
+import { users } from "~/db/schema";
+import { audit } from "~/utils/audit.server";
+import { db } from "~/utils/db.server";
+import { absoluteUrl, sendMail } from "~/utils/mail.server";
+import { issueUserToken } from "~/utils/tokens.server";
+
+const schema = z.object({
+  email: z.string({ error: "Enter your e-mail address." }).trim().toLowerCase().pipe(z.email({ error: "Enter a valid e-mail address, like name@example.com." })),
+});
+
+/**
+ * Patients may ask for a one-time sign-in link instead of typing a password. Staff accounts
+ * always sign in with their password; the answer is the same either way, so accounts cannot be
+ * discovered through this form.
+ */
+export async function action({ request }: Route.ActionArgs) {
+  const submission = parseWithZod(await request.formData(), { schema });
+  if (submission.status !== "success") return data({ result: submission.reply(), sent: false }, { status: 400 });
+  const [user] = await db
+    .select({ id: users.id, name: users.name, email: users.email, role: users.role, active: users.active })
+    .from(users)
+    .where(sql`lower(${users.email}) = ${submission.value.email}`)
+    .limit(1);
+  if (user?.active && user.role === "patient") {
+    const token = await issueUserToken(user.id, "sign_in");
+    try {
+      await sendMail({
+        to: user.email,
+        subject: "Your sign-in link",
+        text: `Hello ${user.name},\n\nOpen this link within 15 minutes to sign in to your page at the practice:\n\n${absoluteUrl(`/sign-in-link/verify?token=${token}`)}\n\nThe link works once. If you did not ask for it, ignore this e-mail.\n`,
+      });
+      await audit({ action: "auth.sign_in_link_sent", actorUserId: user.id, request });
+    } catch (error) {
+      console.error("[mail] sign-in link failed:", (error as Error).message);
+    }
+  }
+  return { result: submission.reply({ resetForm: true }), sent: true };
+}
+
+export default function SignInLink({ actionData }: Route.ComponentProps) {
+  const navigation = useNavigation();
+  const [form, fields] = useForm({
+    id: "sign-in-link",
+    lastResult: actionData?.result,
+    onValidate: ({ formData }) => parseWithZod(formData, { schema }),
+    shouldValidate: "onBlur",
+  });
+  return (
+    <main id="main" className="flex min-h-screen items-center justify-center px-4 py-12">
+      <div className="w-full max-w-md rounded-lg border border-line bg-white p-8 shadow-sm">
+        <h1 className="text-2xl">E-mail me a sign-in link</h1>
+        <p className="mt-1 text-sm text-muted">For patients with an online account. The link works once, for 15 minutes.</p>
+        {actionData?.sent ? (
+          <div className="mt-6">
+            <Notice tone="success" title="Check your e-mail">
+              If a patient account exists for that address, a sign-in link is on its way.
+            </Notice>
+          </div>
+        ) : null}
+        <Form method="post" {...getFormProps(form)} className="mt-6 space-y-4">
+          <Field label="E-mail" errors={fields.email.errors} inputProps={{ ...getInputProps(fields.email, { type: "email" }), autoComplete: "email" }} />
+          <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
+            Send sign-in link
+          </Button>
+        </Form>
+        <p className="mt-6 text-sm">
+          <Link to="/login" className="font-semibold text-accent-700 underline underline-offset-4">
+            Sign in with a password instead
+          </Link>
+        </p>
+      </div>
+    </main>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Sign-in link · Dioptra" }];

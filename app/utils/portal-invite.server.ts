@@ -1,0 +1,53 @@
+import { eq, sql } from "drizzle-orm";
+import { data } from "react-router";
+import { patients, practiceSettings, users } from "~/db/schema";
+import { audit } from "./audit.server";
+import { db } from "./db.server";
+import { absoluteUrl, sendMail } from "./mail.server";
+import type { SessionUser } from "./session.server";
+import { issueUserToken } from "./tokens.server";
+
+export class PortalInviteError extends Error {}
+
+/**
+ * Invites a patient to their online page: creates (or reuses) the patient's account, linked to
+ * the one patient record it may reach, and e-mails a single-use link to set a password.
+ */
+export async function invitePatientToPortal(actor: SessionUser, patientId: string, request: Request) {
+  const [patient] = await db
+    .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, email: patients.email })
+    .from(patients)
+    .where(eq(patients.id, patientId));
+  if (!patient) throw data({ error: "No such patient." }, { status: 404 });
+  const email = patient.email?.trim().toLowerCase();
+  if (!email) throw new PortalInviteError("Add the patient's e-mail address first: the invitation goes there.");
+
+  const token = await db.transaction(async (tx) => {
+    const [linked] = await tx.select({ id: users.id, hasPassword: users.passwordHash, active: users.active }).from(users).where(eq(users.patientId, patient.id));
+    let userId = linked?.id;
+    if (linked?.hasPassword && linked.active) throw new PortalInviteError("This patient already has an active online account. They can reset their password from the sign-in page.");
+    if (!userId) {
+      const [clash] = await tx.select({ id: users.id }).from(users).where(sql`lower(${users.email}) = ${email}`);
+      if (clash) throw new PortalInviteError(`The address ${email} already belongs to another account.`);
+      const [created] = await tx
+        .insert(users)
+        .values({ email, name: `${patient.firstName} ${patient.lastName}`, role: "patient", patientId: patient.id })
+        .returning({ id: users.id });
+      userId = created!.id;
+    } else if (!linked?.active) {
+      await tx.update(users).set({ active: true, updatedAt: new Date() }).where(eq(users.id, userId));
+    }
+    await audit({ action: "portal.invited", actorUserId: actor.id, patientId: patient.id, entityType: "user", entityId: userId, request }, tx);
+    return issueUserToken(userId, "invite", tx);
+  });
+
+  const [practice] = await db.select({ name: practiceSettings.name }).from(practiceSettings).limit(1);
+  await sendMail({
+    to: email,
+    subject: `Your online page at ${practice?.name ?? "the practice"}`,
+    text:
+      `Hello ${patient.firstName},\n\n${practice?.name ?? "The practice"} has set up an online page for you: your appointments, invoices, prescriptions and reminder choices.\n\n` +
+      `Open this link within 7 days to choose your password:\n\n${absoluteUrl(`/reset-password?token=${token}`)}\n\nThe link works once.\n`,
+  });
+  return { email };
+}
