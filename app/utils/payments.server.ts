@@ -29,8 +29,14 @@ export function stripe(): Stripe {
   return client;
 }
 
+const STANDIN_WEBHOOK_SECRET = "whsec_dioptra_local_standin";
+
 /** Verifies a webhook's signature against STRIPE_WEBHOOK_SECRET; throws when it does not match. */
 export function verifyWebhook(payload: string, signature: string | null): Stripe.Event {
+  // The stand-in's secret is public: in production it would let anyone forge a payment.
+  if (env.NODE_ENV === "production" && !env.DIOPTRA_DEMO && env.STRIPE_WEBHOOK_SECRET === STANDIN_WEBHOOK_SECRET) {
+    throw new Error("STRIPE_WEBHOOK_SECRET is not configured, so no webhook can be trusted.");
+  }
   if (!signature) throw new Error("The Stripe-Signature header is missing.");
   return stripe().webhooks.constructEvent(payload, signature, env.STRIPE_WEBHOOK_SECRET);
 }

@@ -42,9 +42,11 @@ export function verifyPayLink(token: string, now = Date.now()): PayLinkCheck {
   const m = /^([0-9a-f-]{36})\.(\d{1,12})\.([\w-]{43})$/.exec(token);
   if (!m) return { ok: false, reason: "invalid" };
   const [, invoiceId, exp, sig] = m;
-  const given = Buffer.from(sig!, "base64url");
+  // Compared as text, not decoded bytes: base64url's last character carries spare bits, and a
+  // link must not stay valid when any character of it is changed.
+  const given = Buffer.from(sig!, "utf8");
   const valid = env.SESSION_SECRET.split(",").some((secret) => {
-    const want = Buffer.from(payLinkSignature(secret, invoiceId!, Number(exp)), "base64url");
+    const want = Buffer.from(payLinkSignature(secret, invoiceId!, Number(exp)), "utf8");
     return want.length === given.length && timingSafeEqual(want, given);
   });
   if (!valid) return { ok: false, reason: "invalid" };

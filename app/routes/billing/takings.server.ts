@@ -52,7 +52,7 @@ export async function takings(period: Period) {
   const methods = ["cash", "card_desk", "card_online"] as const;
   const byMethod = methods.map((m) => {
     const received = entries.filter((e) => e.kind === "payment" && e.status === "succeeded" && e.method === m).reduce((a, e) => a + e.amountMinor, 0);
-    const refunded = -entries.filter((e) => e.kind === "refund" && e.method === m).reduce((a, e) => a + e.amountMinor, 0);
+    const refunded = entries.filter((e) => e.kind === "refund" && e.method === m).reduce((a, e) => a - e.amountMinor, 0);
     const count = entries.filter((e) => e.kind === "payment" && e.status === "succeeded" && e.method === m).length;
     return { method: m, count, receivedMinor: received, refundedMinor: refunded, netMinor: received - refunded };
   });

@@ -98,15 +98,12 @@ export default function FeeSchedule({ loaderData, actionData }: Route.ComponentP
     defaultValue: editing
       ? { code: editing.code, description: editing.description, price: minorToDecimal(editing.priceMinor, currency), kind: editing.kind, taxCategory: editing.taxCategory }
       : { kind: "service", taxCategory: "exempt" },
-    onValidate: ({ formData }) => parseWithZod(formData, { schema: feeSchema }),
-    shouldValidate: "onBlur",
+    // Validated on the server only: the price needs the practice's currency.
   });
   const [taxForm, taxFields] = useForm({
     id: "tax",
     lastResult: last && (last as { initialValue?: { intent?: string } }).initialValue?.intent === "tax" ? last : null,
     defaultValue: { taxRate: String(taxRateBp / 100) },
-    onValidate: ({ formData }) => parseWithZod(formData, { schema: taxSchema }),
-    shouldValidate: "onBlur",
   });
   return (
     <>

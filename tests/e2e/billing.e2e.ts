@@ -1,0 +1,163 @@
+import pg from "pg";
+import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
+import { DEMO, expectAccessible, mailTo, screenshot, signIn, useBrowser } from "./fixtures";
+
+const browser = useBrowser();
+let client: pg.Client;
+let examId: string;
+
+/** A finished visit of the demo patient: a completed appointment of a type whose fee is EXAM-A, and its signed exam. */
+beforeAll(async () => {
+  client = new pg.Client({ connectionString: inject("e2eDatabaseUrl") });
+  await client.connect();
+  const q = async <T extends pg.QueryResultRow>(text: string, values: unknown[] = []) => (await client.query<T>(text, values)).rows;
+  const [fee] = await q<{ id: string }>("select id from fee_items where code = 'EXAM-A'");
+  const [optom] = await q<{ id: string }>("select id from users where email = $1", [DEMO.optometrist]);
+  const [patient] = await q<{ id: string }>("select patient_id as id from users where email = $1", [DEMO.patient]);
+  const [type] = await q<{ id: string }>("insert into appointment_types (name, duration_minutes, default_fee_item_id) values ('Routine eye exam (billing test)', 30, $1) returning id", [fee!.id]);
+  const start = new Date(Date.UTC(2026, 10, 3, 9, 0));
+  const [appt] = await q<{ id: string }>("insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status) values ($1, $2, $3, $4, $5, 'completed') returning id", [
+    patient!.id,
+    optom!.id,
+    type!.id,
+    start,
+    new Date(start.getTime() + 30 * 60_000),
+  ]);
+  const [exam] = await q<{ id: string }>("insert into exams (patient_id, optometrist_id, appointment_id, status, signed_at, signed_by_id, examined_at) values ($1, $2, $3, 'signed', now(), $2, $4) returning id", [patient!.id, optom!.id, appt!.id, start]);
+  examId = exam!.id;
+});
+afterAll(async () => {
+  await client?.end();
+});
+
+describe("billing in the browser", () => {
+  it("raises an invoice from a finished exam, e-mails it; the patient pays by card on the checkout page and gets a receipt; takings show it", async () => {
+    const desk = await browser.newPage();
+    await signIn(desk, DEMO.receptionist);
+    await desk.waitForURL((u) => u.pathname === "/");
+    await desk.getByRole("navigation", { name: "Main" }).getByRole("link", { name: "Billing" }).click();
+    await desk.waitForURL("**/billing");
+    await expectAccessible(desk);
+
+    await desk.goto(`/billing/invoices/new?exam=${examId}`);
+    await expect.poll(() => desk.getByRole("heading", { level: 1 }).textContent()).toBe("New invoice");
+    // The exam's visit fee is already on; the receptionist adds a dispensed item.
+    expect(await desk.getByLabel("Quantity of Eye examination, adult").inputValue()).toBe("1");
+    await desk.getByLabel("Quantity of Contact lens solution, 360 ml").fill("2");
+    await expectAccessible(desk);
+    await screenshot(desk, "billing-new-from-exam");
+    await desk.getByRole("button", { name: "Create draft invoice" }).click();
+    await expect.poll(() => desk.getByTestId("toast").textContent()).toContain("Draft invoice created");
+    // £65.00 exempt + 2 × £8.99 at 20 % (£3.60 tax, rounded per line) = £86.58
+    await expect.poll(() => desk.getByTestId("amount-due").textContent()).toBe("£86.58");
+    await expectAccessible(desk);
+    await desk.getByRole("button", { name: "Issue invoice" }).click();
+    await expect.poll(() => desk.getByTestId("toast").textContent()).toMatch(/Issued as INV-\d{6}/);
+    const label = (await desk.getByRole("heading", { level: 1 }).textContent())!.match(/INV-\d{6}/)![0];
+    await desk.getByRole("button", { name: "E-mail invoice with payment link" }).click();
+    await expect.poll(() => desk.getByTestId("toast").textContent()).toContain(`Invoice e-mailed to ${DEMO.patient}`);
+    await expectAccessible(desk);
+    await screenshot(desk, "billing-invoice-open");
+
+    // The patient, not signed in, opens the link from the e-mail in the mailbox page.
+    const patient = await browser.newPage();
+    await patient.goto("/dev/mailbox");
+    await patient.getByRole("link", { name: new RegExp(`Invoice ${label} from Larkspur Lane Eye Care`) }).first().click();
+    await patient.getByRole("link", { name: /\/pay\// }).click();
+    await patient.waitForURL("**/pay/**");
+    await expect.poll(() => patient.getByRole("heading", { level: 1 }).textContent()).toContain(`Invoice ${label}`);
+    await expectAccessible(patient);
+    await screenshot(patient, "pay-link-page");
+    await patient.getByRole("button", { name: "Pay £86.58 by card" }).click();
+
+    // The stand-in's hosted checkout page.
+    await patient.waitForURL((u) => u.port === String(inject("stripePort")) && u.pathname.startsWith("/checkout/"));
+    await expect.poll(() => patient.getByRole("heading", { level: 1 }).textContent()).toContain("Pay invoice");
+    await expectAccessible(patient);
+    await patient.getByLabel("Card number").fill("4242 4242 4242 4242");
+    await screenshot(patient, "standin-checkout");
+    await patient.getByRole("button", { name: /^Pay £86.58/ }).click();
+    await patient.waitForURL((u) => u.pathname.startsWith("/pay/") && u.searchParams.get("checkout") === "done");
+    await expect.poll(() => patient.getByRole("status").filter({ hasText: "Paid — thank you" }).count(), { timeout: 15_000 }).toBe(1);
+    expect(await patient.getByTestId("amount-due").textContent()).toBe("£0.00");
+    await expectAccessible(patient);
+    await screenshot(patient, "pay-link-paid");
+
+    // The receipt is in the mailbox page.
+    await expect.poll(async () => (await mailTo(DEMO.patient)).some((m) => m.subject.startsWith("Receipt for your payment"))).toBe(true);
+    await patient.goto("/dev/mailbox");
+    await patient.getByRole("link", { name: /Receipt for your payment to Larkspur Lane Eye Care/ }).first().click();
+    await expect.poll(() => patient.getByRole("link", { name: /^receipt-INV-\d{6}\.pdf$/ }).count()).toBe(1);
+    expect(await patient.locator("pre").textContent()).toContain(`We have received £86.58 (card online) for invoice ${label}`);
+
+    // The takings page shows it under card online, and it reconciles.
+    await desk.goto("/billing/takings");
+    await expect.poll(() => desk.getByRole("link", { name: label }).count()).toBeGreaterThan(0);
+    const row = desk.getByTestId("takings-by-method").getByRole("row", { name: /Card online/ });
+    expect(await row.textContent()).toContain("£86.58");
+    expect(await desk.getByRole("status").filter({ hasText: "Reconciles with the invoices" }).count()).toBe(1);
+    await expectAccessible(desk);
+    await screenshot(desk, "billing-takings");
+    await desk.goto("/billing?status=paid");
+    await expect.poll(() => desk.getByRole("row", { name: new RegExp(label) }).textContent()).toContain("Paid");
+  });
+
+  it("leaves the invoice open with a clear message when the card is declined", async () => {
+    const desk = await browser.newPage();
+    await signIn(desk, DEMO.receptionist);
+    await desk.waitForURL((u) => u.pathname === "/");
+    await desk.goto("/billing/invoices/new");
+    await desk.getByLabel("Patient").selectOption({ label: "Achterberg, Rosalind (born 1979-04-17)" });
+    await desk.getByLabel("Quantity of Contact lens aftercare check").fill("1");
+    await desk.getByRole("button", { name: "Create draft invoice" }).click();
+    await expect.poll(() => desk.getByTestId("toast").textContent()).toContain("Draft invoice created");
+    await desk.getByRole("button", { name: "Issue invoice" }).click();
+    await expect.poll(() => desk.getByTestId("toast").textContent()).toMatch(/Issued as/);
+    const label = (await desk.getByRole("heading", { level: 1 }).textContent())!.match(/INV-\d{6}/)![0];
+    await desk.getByRole("button", { name: "E-mail invoice with payment link" }).click();
+    await expect.poll(() => desk.getByTestId("toast").textContent()).toContain("Invoice e-mailed");
+
+    const mail = (await mailTo(DEMO.patient)).find((m) => m.subject.startsWith(`Invoice ${label}`))!;
+    const link = mail.text.match(/https?:\/\/\S+\/pay\/\S+/)![0];
+    const patient = await browser.newPage();
+    await patient.goto(link);
+    await patient.getByRole("button", { name: "Pay £30.00 by card" }).click();
+    await patient.waitForURL((u) => u.pathname.startsWith("/checkout/"));
+    await patient.getByLabel("Card number").fill("4000 0000 0000 0002");
+    await patient.getByRole("button", { name: /^Pay £30.00/ }).click();
+    await expect.poll(() => patient.getByRole("alert").textContent()).toContain("Your card was declined.");
+    await expectAccessible(patient);
+    await screenshot(patient, "standin-declined");
+    await patient.getByRole("link", { name: "Cancel and return to the practice" }).click();
+    await patient.waitForURL((u) => u.pathname.startsWith("/pay/") && u.searchParams.get("checkout") === "cancelled");
+    await expect.poll(() => patient.getByRole("alert").textContent()).toContain("Your card was declined.");
+    expect(await patient.getByRole("alert").textContent()).toContain("The invoice is still open");
+    expect(await patient.getByTestId("amount-due").textContent()).toBe("£30.00");
+    expect(await patient.getByRole("heading", { level: 1 }).textContent()).toContain("Open");
+    await expectAccessible(patient);
+    await screenshot(patient, "pay-link-declined");
+
+    await desk.reload();
+    await expect.poll(() => desk.getByText("Your card was declined.").count()).toBe(1);
+    expect(await desk.getByTestId("amount-due").textContent()).toBe("£30.00");
+  });
+
+  it("lets the owner keep the fee schedule, with errors next to the field", async () => {
+    const owner = await browser.newPage();
+    await signIn(owner, DEMO.owner);
+    await owner.waitForURL((u) => u.pathname === "/");
+    await owner.goto("/settings/fees");
+    await expectAccessible(owner);
+    await owner.getByLabel("Code").fill("BV-ASSESS");
+    await owner.getByLabel("Price (GBP, before tax)").fill("45.999");
+    await owner.getByLabel("Description").fill("Binocular vision assessment");
+    await owner.getByRole("button", { name: "Add fee" }).click();
+    await expect.poll(() => owner.getByText(/no more than two decimals/).count()).toBe(1);
+    await owner.getByLabel("Price (GBP, before tax)").fill("45.00");
+    await owner.getByRole("button", { name: "Add fee" }).click();
+    await expect.poll(() => owner.getByTestId("toast").textContent()).toContain("BV-ASSESS saved");
+    expect(await owner.getByRole("row", { name: /BV-ASSESS/ }).textContent()).toContain("£45.00");
+    await expectAccessible(owner);
+    await screenshot(owner, "settings-fees");
+  });
+});
