@@ -18,6 +18,10 @@ if [[ -z "${STRIPE_SECRET_KEY:-}" ]]; then
   start_bg stripe "$STRIPE_API_PORT" env STRIPE_STANDIN_PORT="$STRIPE_API_PORT" APP_URL="${APP_URL:-http://127.0.0.1:${PORT:-3000}}" "$BIN/tsx" app/standins/stripe-server.ts
 fi
 
+# The job worker: sends the queued e-mails (reminders, recalls and others); jobs wait in PostgreSQL while it is down.
+export WORKER_PORT="${WORKER_PORT:-2527}"
+start_bg worker "$WORKER_PORT" env APP_URL="${APP_URL:-http://127.0.0.1:${PORT:-3000}}" "$BIN/tsx" app/ops/worker.ts
+
 log "building"
 "$BIN/react-router" build >"$RUN_DIR/build.log" 2>&1 || { cat "$RUN_DIR/build.log"; exit 1; }
 

@@ -3,5 +3,5 @@
 set -euo pipefail
 source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
 cd "$ROOT"
-for name in mail stripe app; do stop_bg "$name"; done
+for name in mail stripe worker app; do stop_bg "$name"; done
 bash app/ops/db.sh stop

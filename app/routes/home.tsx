@@ -2,6 +2,8 @@ import { count, eq } from "drizzle-orm";
 import { Link, redirect } from "react-router";
 import type { Route } from "./+types/home";
 import { PageHeader } from "~/components/page-header";
+import { TodayCard } from "~/routes/schedule/today-card";
+import { todaySummary } from "~/routes/schedule/today.server";
 import { Card } from "~/components/ui/card";
 import { patients, practiceSettings, users } from "~/db/schema";
 import { homeFor, requireUser } from "~/utils/auth.server";
@@ -18,15 +20,17 @@ export async function loader({ request }: Route.LoaderArgs) {
     user: { name: user.name, role: user.role },
     practice: practice ?? { name: "Your practice", timeZone: "Europe/London" },
     counts: { patients: patientCount?.n ?? 0, accounts: staffCount?.n ?? 0 },
+    today: await todaySummary(user),
   };
 }
 
 export default function Home({ loaderData }: Route.ComponentProps) {
-  const { user, practice, counts } = loaderData;
+  const { user, practice, counts, today: diary } = loaderData;
   const today = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: practice.timeZone }).format(new Date());
   return (
     <>
       <PageHeader title={`Today at ${practice.name}`} description={`${today} · signed in as ${ROLE_LABEL[user.role].toLowerCase()}`} />
+      <TodayCard today={diary} />
       <div className="grid gap-4 md:grid-cols-3">
         <Card title="Patients on record">
           <p className="text-4xl font-bold">{counts.patients.toLocaleString("en-GB")}</p>

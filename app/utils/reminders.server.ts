@@ -193,3 +193,25 @@ export async function deliverAppointmentMessage(messageId: string, job: { retryC
 export const appointmentMail = defineJob<{ messageId: string }>(APPOINTMENT_MAIL_QUEUE, async (data, job) => {
   await deliverAppointmentMessage(data.messageId, job);
 }, QUEUE_DEFAULTS);
+
+/**
+ * The front desk's "send the reminder now": the appointment's one reminder goes out at once
+ * instead of at its set time. Refused when it has already been sent (never twice) or the visit is over.
+ */
+export async function sendReminderNow(actorId: string, appointmentId: string, request?: Request): Promise<{ ok: true } | { ok: false; error: string }> {
+  const { audit } = await import("./audit.server");
+  const settings = await practiceSchedule();
+  return db.transaction(async (tx) => {
+    const [appt] = await tx.select().from(appointments).where(eq(appointments.id, appointmentId)).for("update");
+    if (!appt) return { ok: false as const, error: "No such appointment." };
+    if (!["booked", "confirmed"].includes(appt.status) || appt.startsAt.getTime() < Date.now()) return { ok: false as const, error: "Reminders are sent only for appointments still to come." };
+    let [m] = await tx.select().from(appointmentMessages).where(and(eq(appointmentMessages.appointmentId, appointmentId), eq(appointmentMessages.kind, "reminder"))).for("update");
+    if (m?.status === "sent") return { ok: false as const, error: `The reminder was already sent (${formatLocal(m.sentAt!, settings.timeZone)}); it is not sent twice.` };
+    const now = new Date();
+    if (!m) [m] = await tx.insert(appointmentMessages).values({ appointmentId, kind: "reminder", dueAt: now }).returning();
+    else await tx.update(appointmentMessages).set({ dueAt: now, status: "queued", skippedReason: null }).where(eq(appointmentMessages.id, m.id));
+    await appointmentMail.enqueue({ messageId: m!.id }, { tx, singletonKey: `${m!.id}:now:${now.getTime()}`, ...mailRetryOptions() });
+    await audit({ action: "appointment.reminder_sent_now", actorUserId: actorId, entityType: "appointment", entityId: appointmentId, patientId: appt.patientId, request }, tx);
+    return { ok: true as const };
+  });
+}

@@ -27,13 +27,24 @@ export default async function setup(project: TestProject) {
     STRIPE_API_PORT: String(E2E.stripe),
     STRIPE_API_PROTOCOL: "http",
   });
+  // The job worker (reminder and other e-mails), as npm start runs it beside the app.
+  const workerPort = E2E.smtp + 3;
+  const worker = startProcess("worker", join(ROOT, "node_modules/.bin/tsx"), ["app/ops/worker.ts"], {
+    DATABASE_URL: databaseUrl,
+    SMTP_PORT: String(E2E.smtp),
+    APP_URL: baseUrl,
+    WORKER_PORT: String(workerPort),
+    WORKER_POLL_SECONDS: "0.5",
+  });
   await waitForPort(E2E.app, 60_000);
+  await waitForPort(workerPort, 60_000);
   project.provide("baseUrl", baseUrl);
   project.provide("mailApiPort", E2E.mailApi);
   project.provide("e2eDatabaseUrl", databaseUrl);
   project.provide("stripePort", E2E.stripe);
   return async () => {
     await stopProcess(app);
+    await stopProcess(worker);
     await stopProcess(mail);
     await stopProcess(stripe);
   };

@@ -4,7 +4,8 @@ import { asc, desc, eq } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/appointment";
-import { StatusCommands, statusAction, usePolling } from "./day";
+import { StatusCommands, usePolling } from "./day-ui";
+import { statusAction } from "./day.server";
 import { isoTime } from "./schedule-api.server";
 import { scheduleReferenceData } from "./schedule-data.server";
 import { AppointmentStatus } from "./status-ui";
@@ -20,6 +21,7 @@ import { isMovable, STATUS_LABEL } from "~/lib/scheduling/status";
 import { formatLocal, localParts, toZonedIso } from "~/lib/scheduling/time";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
+import { sendReminderNow } from "~/utils/reminders.server";
 import { BookingError, moveAppointment, practiceSchedule } from "~/utils/schedule.server";
 import { redirectWithToast } from "~/utils/toast.server";
 
@@ -102,6 +104,11 @@ export async function action({ request, params }: Route.ActionArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   const formData = await request.clone().formData();
   if (formData.get("intent") === "status") return statusAction(request);
+  if (formData.get("intent") === "remind") {
+    const result = await sendReminderNow(user.id, params.appointmentId, request);
+    if (!result.ok) return data({ remindError: result.error }, { status: 409 });
+    return redirectWithToast(`/schedule/appointments/${params.appointmentId}`, { kind: "success", title: "Reminder on its way", description: "It appears in the e-mail log once sent." });
+  }
   const { timeZone } = await practiceSchedule();
   const submission = parseWithZod(formData, { schema: moveSchema(timeZone) });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
@@ -121,7 +128,8 @@ export default function AppointmentPage({ loaderData, actionData }: Route.Compon
   const { appointment: a, history, messages, providers, role, timeZone } = loaderData;
   const navigation = useNavigation();
   usePolling(10);
-  const [form, fields] = useForm({ id: "move", lastResult: navigation.state === "idle" ? (actionData as never) : null, defaultValue: { date: a.date, time: a.time, providerId: a.providerId } });
+  const remindError = (actionData as { remindError?: string } | undefined)?.remindError;
+  const [form, fields] = useForm({ id: "move", lastResult: navigation.state === "idle" && !remindError ? (actionData as never) : null, defaultValue: { date: a.date, time: a.time, providerId: a.providerId } });
   return (
     <>
       <PageHeader
@@ -212,6 +220,19 @@ export default function AppointmentPage({ loaderData, actionData }: Route.Compon
         </Card>
         <Card title="E-mails to the patient" className="lg:col-span-2">
           {messages.length === 0 ? <p className="text-muted">None.</p> : null}
+          {a.movable ? (
+            <Form method="post" className="mb-4">
+              <input type="hidden" name="intent" value="remind" />
+              <Button type="submit" variant="secondary" pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "remind"}>
+                Send the reminder now
+              </Button>
+              {remindError ? (
+                <p role="alert" className="mt-1 text-sm font-semibold text-red-800">
+                  ✕ {remindError}
+                </p>
+              ) : null}
+            </Form>
+          ) : null}
           <ul className="space-y-2 text-sm">
             {messages.map((m) => (
               <li key={m.kind}>

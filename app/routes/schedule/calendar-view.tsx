@@ -87,7 +87,8 @@ export default function CalendarView(props: CalendarProps) {
       initialView={props.initialView}
       initialDate={props.initialDate}
       headerToolbar={{ left: "prev,next today", center: "title", right: "timeGridDay,timeGridWeek,dayGridMonth" }}
-      buttonText={{ today: "Today", day: "Day", week: "Week", month: "Month" }}
+      buttonIcons={false}
+      buttonText={{ today: "Today", day: "Day", week: "Week", month: "Month", prev: "‹ Previous", next: "Next ›" }}
       slotMinTime="08:00:00"
       slotMaxTime="19:00:00"
       slotDuration="00:15:00"

@@ -1,113 +1,22 @@
-import { useEffect } from "react";
-import { data, Form, Link, redirect, useFetcher, useRevalidator } from "react-router";
-import { z } from "zod";
+import { Form, Link } from "react-router";
 import type { Route } from "./+types/day";
 import { AppointmentStatus } from "./status-ui";
 import { ScheduleNav } from "./schedule-nav";
-import { scheduleReferenceData } from "./schedule-data.server";
+import { StatusCommands, usePolling } from "./day-ui";
+import { loadDayList, statusAction } from "./day.server";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
-import { APPOINTMENT_STATUSES, NEXT_STATUSES, STATUS_COMMAND, type Status } from "~/lib/scheduling/status";
-import { addDays, formatLocal, localDayRange, localParts } from "~/lib/scheduling/time";
-import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { appointmentsBetween, BookingError, changeStatus, practiceSchedule } from "~/utils/schedule.server";
-
-/** The day's appointments for the front desk (everyone) or one optometrist; `date` and `provider` in the query. */
-export async function loadDayList(request: Request) {
-  const user = await requireRole(request, STAFF_ROLES);
-  const url = new URL(request.url);
-  const { timeZone } = await practiceSchedule();
-  const { providers } = await scheduleReferenceData();
-  const today = localParts(new Date(), timeZone).date;
-  const date = /^\d{4}-\d{2}-\d{2}$/.test(url.searchParams.get("date") ?? "") ? url.searchParams.get("date")! : today;
-  const asked = url.searchParams.get("provider");
-  const provider = asked === "all" || providers.some((p) => p.id === asked) ? asked! : user.role === "optometrist" ? user.id : "all";
-  const { start, end } = localDayRange(date, timeZone);
-  const rows = await appointmentsBetween(start, end, { providerId: provider === "all" ? undefined : provider, includeCancelled: true });
-  return {
-    user: { id: user.id, role: user.role },
-    timeZone,
-    date,
-    today,
-    provider,
-    providers: providers.map(({ id, name }) => ({ id, name })),
-    checkedAt: formatLocal(new Date(), timeZone, { withDate: false }),
-    appointments: rows.map((r) => ({
-      id: r.id,
-      time: `${formatLocal(r.start, timeZone, { withDate: false })}–${formatLocal(r.end, timeZone, { withDate: false })}`,
-      status: r.status,
-      patientId: r.patientId,
-      patientName: r.patientName,
-      typeName: r.typeName,
-      providerName: r.providerName,
-      providerId: r.providerId,
-    })),
-  };
-}
+import { addDays } from "~/lib/scheduling/time";
 
 export async function loader({ request }: Route.LoaderArgs) {
   return loadDayList(request);
 }
 
-const statusSchema = z.object({ intent: z.literal("status"), appointmentId: z.uuid(), status: z.enum(APPOINTMENT_STATUSES) });
-
-/** Shared by the day list and the appointment page: change a status, open the exam when it starts. */
-export async function statusAction(request: Request) {
-  const user = await requireRole(request, STAFF_ROLES);
-  const parsed = statusSchema.safeParse(Object.fromEntries(await request.formData()));
-  if (!parsed.success) return data({ ok: false, error: "Choose an appointment and a status." }, { status: 400 });
-  try {
-    const { appointment, examId } = await changeStatus(user, parsed.data.appointmentId, parsed.data.status, request);
-    if (examId) throw redirect(`/patients/${appointment.patientId}/exams/${examId}`);
-    return { ok: true, error: null };
-  } catch (error) {
-    if (error instanceof BookingError) return data({ ok: false, error: error.message }, { status: error.status });
-    throw error;
-  }
-}
-
 export async function action({ request }: Route.ActionArgs) {
   return statusAction(request);
-}
-
-/** Commands of a row; "start exam" only for clinicians (the server checks it too). */
-export function StatusCommands({ id, status, role, name }: { id: string; status: Status; role: string; name: string }) {
-  const fetcher = useFetcher<{ ok: boolean; error: string | null }>();
-  const next = NEXT_STATUSES[status].filter((s) => s !== "in_exam" || role !== "receptionist");
-  const busy = fetcher.state !== "idle";
-  return (
-    <div>
-      <fetcher.Form method="post" className="flex flex-wrap gap-2">
-        <input type="hidden" name="intent" value="status" />
-        <input type="hidden" name="appointmentId" value={id} />
-        {next.map((s) => (
-          <Button key={s} type="submit" name="status" value={s} variant={s === "cancelled" || s === "no_show" ? "danger" : s === "arrived" || s === "in_exam" ? "primary" : "secondary"} className="px-3 py-1" disabled={busy}>
-            {STATUS_COMMAND[s]}
-            <span className="sr-only"> for {name}</span>
-          </Button>
-        ))}
-      </fetcher.Form>
-      {fetcher.data?.error ? (
-        <p role="alert" className="mt-1 text-sm font-semibold text-red-800">
-          ✕ {fetcher.data.error}
-        </p>
-      ) : null}
-    </div>
-  );
-}
-
-/** Re-reads the page's data every `seconds` while the tab is visible: the list moves without a reload. */
-export function usePolling(seconds: number) {
-  const revalidator = useRevalidator();
-  useEffect(() => {
-    const t = setInterval(() => {
-      if (document.visibilityState === "visible" && revalidator.state === "idle") revalidator.revalidate();
-    }, seconds * 1000);
-    return () => clearInterval(t);
-  }, [revalidator, seconds]);
 }
 
 export default function DayList({ loaderData }: Route.ComponentProps) {

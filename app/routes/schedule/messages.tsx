@@ -2,7 +2,7 @@ import { desc, eq } from "drizzle-orm";
 import { Form } from "react-router";
 import type { Route } from "./+types/messages";
 import { ScheduleNav } from "./schedule-nav";
-import { usePolling } from "./day";
+import { usePolling } from "./day-ui";
 import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";

@@ -1,0 +1,139 @@
+import pg from "pg";
+import { describe, expect, inject, it } from "vitest";
+import { addDays, localParts, startOfWeek } from "~/lib/scheduling/time";
+import { DEMO, expectAccessible, mailTo, screenshot, signIn, useBrowser } from "./fixtures";
+
+const browser = useBrowser();
+
+async function query<T>(sql: string, params: unknown[] = []): Promise<T[]> {
+  const client = new pg.Client({ connectionString: inject("e2eDatabaseUrl") });
+  await client.connect();
+  try {
+    return (await client.query(sql, params)).rows as T[];
+  } finally {
+    await client.end();
+  }
+}
+
+describe("the schedule in the browser", () => {
+  it("receptionist books in week view, drags to another day, marks arrived; the optometrist's list moves; the reminder reaches the mailbox with its .ics", async () => {
+    // A week two weeks ahead, so the slots are free and in the future whatever today is.
+    const monday = startOfWeek(addDays(localParts(new Date(), "Europe/London").date, 14));
+    const tuesday = addDays(monday, 1);
+    const wednesday = addDays(monday, 2);
+
+    const desk = await browser.newPage({ viewport: { width: 1400, height: 1000 } });
+    await signIn(desk, DEMO.receptionist);
+    await desk.waitForURL((u) => u.pathname === "/");
+    await desk.goto(`/schedule?date=${monday}`);
+    await desk.locator(".fc-timegrid-slot-lane").first().waitFor();
+    await expectAccessible(desk);
+
+    // Select 10:00 on Tuesday by clicking the empty slot.
+    const col = desk.locator(`td.fc-timegrid-col[data-date="${tuesday}"]`);
+    const row = desk.locator(`td.fc-timegrid-slot-lane[data-time="10:00:00"]`);
+    const colBox = (await col.boundingBox())!;
+    const rowBox = (await row.boundingBox())!;
+    await desk.mouse.click(colBox.x + colBox.width / 2, rowBox.y + rowBox.height / 2);
+    const dialog = desk.getByRole("dialog", { name: "Book an appointment" });
+    await dialog.waitFor();
+    expect(await dialog.getByLabel("Starts").inputValue()).toBe(`${tuesday}T10:00`);
+    await dialog.getByLabel(/Find by name/).fill("Achterberg");
+    await dialog.getByRole("radio", { name: /Rosalind Achterberg/ }).check();
+    await dialog.getByLabel("Appointment type").selectOption({ label: "Comprehensive eye exam (30 min)" });
+    await dialog.getByLabel("With").selectOption({ label: "Tobias Wren" });
+    await expectAccessible(desk);
+    await screenshot(desk, "schedule-booking-dialog");
+    await dialog.getByRole("button", { name: "Book appointment" }).click();
+    await expect.poll(() => desk.getByTestId("toast").textContent()).toContain("Appointment booked");
+
+    const [appt] = await query<{ id: string; starts_at: Date }>(
+      `select a.id, a.starts_at from appointments a join patients p on p.id = a.patient_id where p.last_name = 'Achterberg' and a.starts_at >= $1 order by a.created_at desc limit 1`,
+      [new Date(`${monday}T00:00:00Z`)],
+    );
+    expect(localParts(new Date(appt!.starts_at), "Europe/London")).toMatchObject({ date: tuesday, minute: 600 });
+
+    // Drag it from Tuesday to Wednesday, same time.
+    const event = desk.locator(`[data-appointment-id="${appt!.id}"]`);
+    await event.waitFor();
+    await screenshot(desk, "schedule-week");
+    const eventBox = (await event.boundingBox())!;
+    const wedBox = (await desk.locator(`td.fc-timegrid-col[data-date="${wednesday}"]`).boundingBox())!;
+    await desk.mouse.move(eventBox.x + eventBox.width / 2, eventBox.y + 8);
+    await desk.mouse.down();
+    await desk.mouse.move(eventBox.x + eventBox.width / 2 + 20, eventBox.y + 8, { steps: 4 });
+    await desk.mouse.move(wedBox.x + wedBox.width / 2, eventBox.y + 8, { steps: 10 });
+    await desk.mouse.up();
+    await expect.poll(() => desk.getByRole("status").first().textContent()).toMatch(/moved to/);
+    await expect
+      .poll(async () => {
+        const [row] = await query<{ starts_at: Date }>(`select starts_at from appointments where id = $1`, [appt!.id]);
+        return localParts(new Date(row!.starts_at), "Europe/London");
+      })
+      .toMatchObject({ date: wednesday, minute: 600 });
+
+    // The front desk sends the reminder now (it would otherwise go 24 hours before).
+    await desk.goto(`/schedule/appointments/${appt!.id}`);
+    await expectAccessible(desk);
+    await desk.getByRole("button", { name: "Send the reminder now" }).click();
+    await expect.poll(() => desk.getByTestId("toast").textContent()).toContain("Reminder on its way");
+    await screenshot(desk, "schedule-appointment");
+
+    // The optometrist's own day list, open before the patient arrives.
+    const optom = await browser.newPage();
+    await signIn(optom, DEMO.optometrist);
+    await optom.waitForURL((u) => u.pathname === "/");
+    await optom.goto(`/schedule/day?date=${wednesday}`);
+    const optomRow = optom.locator(`tr[data-appointment-id="${appt!.id}"]`);
+    await expect.poll(() => optomRow.textContent()).toContain("Booked");
+    await expectAccessible(optom);
+
+    // The front desk marks the patient arrived from the day list.
+    await desk.goto(`/schedule/day?date=${wednesday}&provider=all`);
+    await expectAccessible(desk);
+    await desk.getByRole("button", { name: "Mark arrived for Rosalind Achterberg" }).click();
+    await expect.poll(() => desk.locator(`tr[data-appointment-id="${appt!.id}"]`).textContent()).toContain("Arrived");
+    await screenshot(desk, "schedule-day-list");
+
+    // Without a reload, the optometrist's list shows the arrival.
+    await expect.poll(() => optomRow.textContent(), { timeout: 15_000 }).toContain("Arrived");
+    await screenshot(optom, "schedule-optometrist-day");
+
+    // Confirmation (on booking) and reminder reached the mailbox, each with an .ics.
+    await expect.poll(async () => (await mailTo(DEMO.patient)).map((m) => m.subject).join("|"), { timeout: 15_000 }).toMatch(/Appointment booked/);
+    await expect.poll(async () => (await mailTo(DEMO.patient)).map((m) => m.subject).join("|"), { timeout: 15_000 }).toMatch(/Reminder: your appointment/);
+    await desk.goto("/schedule/messages");
+    await expectAccessible(desk);
+    await screenshot(desk, "schedule-email-log");
+    await desk.goto("/dev/mailbox");
+    await desk.getByRole("link", { name: /Reminder: your appointment/ }).first().click();
+    const attachment = desk.getByRole("link", { name: "appointment.ics" });
+    await attachment.waitFor();
+    const res = await desk.request.get((await attachment.getAttribute("href"))!);
+    const ics = await res.text();
+    expect(ics).toContain("BEGIN:VEVENT");
+    expect(ics).toContain(`UID:appointment-${appt!.id}@dioptra`);
+    await screenshot(desk, "schedule-mailbox-reminder");
+  });
+
+  it("shows the recall list and the owner's schedule settings, accessible", async () => {
+    const desk = await browser.newPage();
+    await signIn(desk, DEMO.receptionist);
+    await desk.waitForURL((u) => u.pathname === "/");
+    await desk.goto("/schedule/recalls");
+    await expect.poll(() => desk.getByRole("heading", { level: 1 }).textContent()).toBe("Recalls");
+    await expectAccessible(desk);
+    await screenshot(desk, "schedule-recalls");
+    const owner = await browser.newPage();
+    await signIn(owner, DEMO.owner);
+    await owner.waitForURL((u) => u.pathname === "/");
+    for (const path of ["/settings/appointment-types", "/settings/hours"]) {
+      await owner.goto(path);
+      await expectAccessible(owner);
+      await screenshot(owner, `settings-${path.split("/").pop()}`);
+    }
+    // A receptionist cannot reach them.
+    const res = await desk.goto("/settings/hours");
+    expect(res?.status()).toBe(403);
+  });
+});
