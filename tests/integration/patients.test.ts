@@ -162,4 +162,24 @@ describe("chart", () => {
     const [after] = await db.select().from(patients).where(eq(patients.id, p.id));
     expect(after!.lastExamAt?.toISOString()).toBe(exam!.examinedAt.toISOString());
   });
+
+  it("raises the engine's referral prompts and a child's myopia progression from the demo caseload", async () => {
+    const cookie = await cookieFor("optometrist");
+    const chartOf = async (lastName: string) => {
+      const [p] = await db.select().from(patients).where(eq(patients.lastName, lastName));
+      return dataOf<{ prompts: { code: string; eye: string }[]; progression: Record<string, { ratePerYear: number; fast: boolean }> | null; history: { M: number; kind: string }[] }>(
+        await run(chartLoader, makeRequest(`/patients/${p!.id}`, { cookie }), { patientId: p!.id }),
+      );
+    };
+    const referral = await chartOf("Strand-Achebe");
+    expect(referral.prompts.map((p) => `${p.code}:${p.eye}`).sort()).toEqual(["BLIND_SPOT_ENLARGED:right", "FIELD_DEFECT:right", "IOP_ABOVE_NORMAL:right", "IOP_ASYMMETRY:both"]);
+    const child = await chartOf("Okafor-Lindqvist");
+    // Seeded at -0.75 D a year: spherical equivalent of -0.75 -0.25 x 180 falls by 0.75 D per yearly exam.
+    expect(child.progression!.right!.ratePerYear).toBeCloseTo(-0.75, 1);
+    expect(child.progression!.right!.fast).toBe(true);
+    expect(child.history.filter((h) => h.kind === "final")).toHaveLength(10);
+    const adult = await chartOf("Sorrell-Amadi");
+    expect(adult.progression).toBeNull();
+  });
 });
+

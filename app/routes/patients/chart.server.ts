@@ -1,4 +1,4 @@
-import { and, asc, desc, eq, inArray } from "drizzle-orm";
+import { asc, desc, eq } from "drizzle-orm";
 import { appointments, appointmentTypes, examAssessment, examRefractions, exams, invoices, users } from "~/db/schema";
 import { myopiaProgression, toPowerVector, type MyopiaProgression } from "~/lib/optics";
 import { db } from "~/utils/db.server";
@@ -42,20 +42,19 @@ export async function examsOf(patientId: string) {
 export type RefractionPoint = { examId: string; date: string; kind: string; eye: "right" | "left"; sphere: number; cylinder: number; axis: number; M: number; J0: number; J45: number };
 
 /** Every refraction row of the patient with its power vector (Thibos et al. 1997), oldest first. */
-export async function refractionHistory(examIds: string[], examDates: Map<string, string>): Promise<RefractionPoint[]> {
-  if (!examIds.length) return [];
+export async function refractionHistory(patientId: string): Promise<RefractionPoint[]> {
   const rows = await db
-    .select({ examId: examRefractions.examId, kind: examRefractions.kind, eye: examRefractions.eye, sphere: examRefractions.sphere, cylinder: examRefractions.cylinder, axis: examRefractions.axis })
+    .select({ examId: examRefractions.examId, at: exams.examinedAt, kind: examRefractions.kind, eye: examRefractions.eye, sphere: examRefractions.sphere, cylinder: examRefractions.cylinder, axis: examRefractions.axis })
     .from(examRefractions)
-    .where(inArray(examRefractions.examId, examIds))
-    .orderBy(asc(examRefractions.examId));
-  return rows
-    .map((r) => {
-      const pv = toPowerVector(r);
-      const round = (x: number) => Math.round(x * 1000) / 1000;
-      return { ...r, date: examDates.get(r.examId)!, M: round(pv.M), J0: round(pv.J0), J45: round(pv.J45) };
-    })
-    .sort((a, b) => a.date.localeCompare(b.date));
+    .innerJoin(exams, eq(exams.id, examRefractions.examId))
+    .where(eq(exams.patientId, patientId))
+    .orderBy(asc(exams.examinedAt))
+    .limit(2000);
+  const round = (x: number) => Math.round(x * 1000) / 1000;
+  return rows.map(({ at, ...r }) => {
+    const pv = toPowerVector(r);
+    return { ...r, date: at.toISOString(), M: round(pv.M), J0: round(pv.J0), J45: round(pv.J45) };
+  });
 }
 
 /** For a child (under 18 at the last exam): progression of spherical equivalent per eye between the first and last final refraction. */

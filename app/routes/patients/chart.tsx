@@ -8,8 +8,7 @@ import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { patients } from "~/db/schema";
 import { formatRx } from "~/lib/optics";
-import { examFor, loadExam, promptsFor } from "~/routes/exams/exam.server";
-import { startExam } from "~/routes/exams/exam.server";
+import { examFor, latestPrompts, startExam } from "~/routes/exams/exam.server";
 import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
@@ -32,6 +31,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   const p = await patientOr404(params.patientId);
   const clinical = (CLINICAL_ROLES as readonly string[]).includes(user.role);
+  const clinicalData = clinical ? Promise.all([examsOf(p.id), documentsOf(p.id), refractionHistory(p.id), latestPrompts(p.id)]) : null;
+  clinicalData?.catch(() => undefined); // awaited below; this keeps an early failure elsewhere from leaving it unobserved
   const [appointments, invoices, prescriptions] = await Promise.all([appointmentsOf(p.id), invoicesOf(p.id), prescriptionsOf(p.id)]);
   const demographics = {
     id: p.id,
@@ -50,11 +51,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     await audit({ action: "chart.read", actorUserId: user.id, entityType: "patient", entityId: p.id, patientId: p.id, detail: { view: "front desk" }, request });
     return { clinical: false as const, patient: demographics, appointments, invoices, prescriptions: rx };
   }
-  const exams = await examsOf(p.id);
-  const examDates = new Map(exams.map((e) => [e.id, e.examinedAt]));
-  const [documents, history] = await Promise.all([documentsOf(p.id), refractionHistory(exams.map((e) => e.id), examDates)]);
-  const last = exams[0];
-  const prompts = last ? await promptsFor(p.id, { id: last.id, examinedAt: new Date(last.examinedAt) }, await loadExam(last.id)) : [];
+  const [exams, documents, history, prompts] = await clinicalData!;
   await audit({ action: "chart.read", actorUserId: user.id, entityType: "patient", entityId: p.id, patientId: p.id, detail: { view: "clinical" }, request });
   return {
     clinical: true as const,

@@ -65,7 +65,7 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
               <LineChart margin={{ top: 8, right: 16, bottom: 8, left: 0 }}>
                 <CartesianGrid strokeDasharray="3 3" />
                 <XAxis dataKey="t" type="number" domain={["dataMin", "dataMax"]} scale="time" tickFormatter={(t: number) => new Date(t).getUTCFullYear().toString()} />
-                <YAxis dataKey="M" type="number" unit=" D" width={64} />
+                <YAxis dataKey="M" type="number" width={56} tickFormatter={(v: number) => v.toFixed(1)} label={{ value: "M (D)", angle: -90, position: "insideLeft" }} />
                 <Tooltip labelFormatter={(t) => formatDate(new Date(Number(t)).toISOString())} formatter={(v) => [`${Number(v).toFixed(2)} D`, "M"]} />
                 <Legend />
                 {eyes.map((e) => (
@@ -79,8 +79,8 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
             <ResponsiveContainer width="100%" height={260}>
               <ScatterChart margin={{ top: 8, right: 16, bottom: 8, left: 0 }}>
                 <CartesianGrid strokeDasharray="3 3" />
-                <XAxis dataKey="J0" type="number" name="J0" unit=" D" />
-                <YAxis dataKey="J45" type="number" name="J45" unit=" D" width={64} />
+                <XAxis dataKey="J0" type="number" name="J0" tickFormatter={(v: number) => v.toFixed(2)} label={{ value: "J0 (D)", position: "insideBottom", offset: -4 }} />
+                <YAxis dataKey="J45" type="number" name="J45" width={56} tickFormatter={(v: number) => v.toFixed(2)} label={{ value: "J45 (D)", angle: -90, position: "insideLeft" }} />
                 <ZAxis range={[40, 40]} />
                 <Tooltip />
                 <Legend />

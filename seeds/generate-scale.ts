@@ -1,0 +1,114 @@
+/**
+ * Fills a separate database (default `dioptra_bench`, never the demo database) with a large
+ * fictional practice for the benchmark: 100,000 patients and 1,000,000 signed exams with final
+ * refractions, generated inside PostgreSQL with INSERT … SELECT generate_series.
+ *
+ *   tsx seeds/generate-scale.ts                       # 100,000 patients, 10 exams each
+ *   SCALE_PATIENTS=5000 tsx seeds/generate-scale.ts   # smaller
+ *   SCALE_DB=other_name tsx seeds/generate-scale.ts
+ *
+ * The database is dropped and re-created, migrated and given the demo seed first, so it holds
+ * the same users and settings as the demo.
+ */
+import pg from "pg";
+import { runMigrations } from "../app/ops/migrate";
+import { databaseUrl } from "../app/utils/db-url";
+import { seed } from "./seed";
+
+const DB = process.env.SCALE_DB ?? "dioptra_bench";
+const PATIENTS = Number(process.env.SCALE_PATIENTS ?? 100_000);
+const EXAMS_PER_PATIENT = Number(process.env.SCALE_EXAMS_PER_PATIENT ?? 10);
+if (!/^[a-z_][a-z0-9_]*$/.test(DB) || DB === "dioptra") throw new Error(`Refusing to generate into database "${DB}"`);
+
+export function benchDatabaseUrl() {
+  const u = new URL(databaseUrl());
+  u.pathname = `/${DB}`;
+  return u.toString();
+}
+
+async function main() {
+  const admin = new URL(databaseUrl());
+  admin.pathname = "/postgres";
+  const a = new pg.Client({ connectionString: admin.toString() });
+  await a.connect();
+  await a.query(`DROP DATABASE IF EXISTS "${DB}" WITH (FORCE)`);
+  await a.query(`CREATE DATABASE "${DB}"`);
+  await a.end();
+  const url = benchDatabaseUrl();
+  await runMigrations(url);
+  await seed(url);
+  const c = new pg.Client({ connectionString: url });
+  await c.connect();
+  const step = async (label: string, sql: string, params: unknown[] = []) => {
+    const t = Date.now();
+    const r = await c.query(sql, params);
+    console.log(`[scale] ${label}: ${r.rowCount ?? ""} rows in ${((Date.now() - t) / 1000).toFixed(1)} s`);
+  };
+  const firsts = ["Ada", "Bram", "Celestine", "Dorian", "Edda", "Fenwick", "Greer", "Hollis", "Ilse", "Jory", "Kestrel", "Linnea", "Marek", "Nell", "Oswin", "Petra", "Quill", "Rowena", "Sander", "Tova", "Ulric", "Vesna", "Wynn", "Xanthe", "Yorick", "Zelda", "Anouk", "Bastian", "Coralie", "Dashiell", "Elowen", "Florian", "Gisela", "Horatio", "Imke", "Jasper", "Katya", "Leopold", "Mireille", "Niamh"];
+  const lastStems = ["Aber", "Black", "Carra", "Dun", "Ever", "Foth", "Green", "Harti", "Illing", "Jess", "Kil", "Low", "Merri", "Nettle", "Oaken", "Pendle", "Quarr", "Rush", "Salton", "Thistle", "Under", "Vex", "Wether", "Yarrow", "Ash", "Birch", "Cold", "Dew", "East", "Farr"];
+  const lastEnds = ["nethy", "thorn", "way", "more", "leigh", "gill", "halgh", "gan", "worth", "op", "bride", "ther", "weather", "fold", "shaw", "ford", "ington", "by", "stall", "wood"];
+  await c.query("SET synchronous_commit = off");
+  await step(
+    "patients",
+    `insert into patients (first_name, last_name, date_of_birth, sex, email, phone, address_line1, city, postcode, last_exam_at, created_at)
+     select ($1::text[])[1 + (g % array_length($1, 1))],
+            ($2::text[])[1 + ((g / 7) % array_length($2, 1))] || ($3::text[])[1 + ((g / 211) % array_length($3, 1))] || case when g % 3 = 0 then '-' || ($2::text[])[1 + ((g / 13) % array_length($2, 1))] || 'er' else '' end,
+            date '1935-01-01' + ((g::bigint * 7919) % 31000)::int,
+            (array['female','male','other','unknown']::sex[])[1 + (g % 4)],
+            'p' || g || '@scale.dioptra-demo.test',
+            '07700 ' || lpad(((g::bigint * 104729) % 1000000)::text, 6, '0'),
+            (g % 200 + 1) || ' Scale Street', 'Brackenford', 'BF' || (g % 9 + 1) || ' ' || (g % 8 + 1) || 'QT',
+            timestamptz '2026-11-20 10:00+00' - make_interval(days => (g % 300)),
+            timestamptz '2020-01-01 00:00+00' + make_interval(mins => g)
+     from generate_series(1, $4::int) g`,
+    [firsts, lastStems, lastEnds, PATIENTS],
+  );
+  await step(
+    "exams",
+    `insert into exams (patient_id, optometrist_id, examined_at, status, signed_at, signed_by_id, created_at, updated_at)
+     select p.id, u.id, t, 'signed', t + interval '40 minutes', u.id, t, t
+     from (select id, last_exam_at from patients where email like '%@scale.dioptra-demo.test') p
+     cross join generate_series(0, $1::int - 1) k
+     cross join lateral (select p.last_exam_at - make_interval(days => 365 * k) as t) tt
+     cross join (select id from users where role = 'optometrist' order by email limit 1) u`,
+    [EXAMS_PER_PATIENT],
+  );
+  await step(
+    "final refractions",
+    `insert into exam_refractions (exam_id, kind, eye, raw_text, sphere, cylinder, axis, add_power, vertex_mm, va_notation, va_log_mar)
+     select e.id, 'final', eye::eye, '', s, c, case when c = 0 then 180 else 1 + (abs(hashtext(e.id::text)) % 180) end, null, 12, '6/6', 0
+     from exams e
+     join patients p on p.id = e.patient_id and p.email like '%@scale.dioptra-demo.test'
+     cross join (values ('right'), ('left')) v(eye)
+     cross join lateral (select round(((abs(hashtext(p.id::text)) % 41) - 28) / 4.0, 2)::float8 as s,
+                                -round((abs(hashtext(p.id::text || eye)) % 9) / 4.0, 2)::float8 as c) x`,
+  );
+  await step(
+    "spectacle prescriptions",
+    `with latest as (
+       select distinct on (e.patient_id) e.id as exam_id, e.patient_id, e.examined_at
+       from exams e join patients p on p.id = e.patient_id and p.email like '%@scale.dioptra-demo.test'
+       order by e.patient_id, e.examined_at desc)
+     insert into prescriptions (patient_id, exam_id, kind, issued_by_id, issued_at, expires_on, prescriber_name, prescriber_licence)
+     select l.patient_id, l.exam_id, 'spectacle', u.id, l.examined_at + interval '50 minutes', (l.examined_at + interval '24 months')::date, u.name, coalesce(u.licence_number, '')
+     from latest l cross join (select id, name, licence_number from users where role = 'optometrist' order by email limit 1) u`,
+  );
+  await step(
+    "prescription eyes",
+    `insert into prescription_eyes (prescription_id, eye, sphere, cylinder, axis, vertex_mm)
+     select rx.id, r.eye, r.sphere, r.cylinder, r.axis, 12
+     from prescriptions rx join exam_refractions r on r.exam_id = rx.exam_id and r.kind = 'final'
+     join patients p on p.id = rx.patient_id and p.email like '%@scale.dioptra-demo.test'`,
+  );
+  await step("analyze", "analyze");
+  const counts = await c.query("select (select count(*) from patients) as patients, (select count(*) from exams) as exams, (select count(*) from exam_refractions) as refractions");
+  console.log("[scale] totals", counts.rows[0]);
+  await c.end();
+}
+
+if (import.meta.url === `file://${process.argv[1]}`) {
+  main().catch((e) => {
+    console.error(e);
+    process.exit(1);
+  });
+}
