@@ -1,8 +1,11 @@
 import pg from "pg";
+import type { Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
 import { DEMO, expectAccessible, mailTo, screenshot, signIn, useBrowser } from "./fixtures";
 
 const browser = useBrowser();
+/** Waits until the page's scripts have loaded (hydrated), so typing is not undone and clicks are handled by the app. */
+const ready = (page: Page) => page.waitForLoadState("networkidle");
 let client: pg.Client;
 let examId: string;
 
@@ -40,6 +43,7 @@ describe("billing in the browser", () => {
     await expectAccessible(desk);
 
     await desk.goto(`/billing/invoices/new?exam=${examId}`);
+    await ready(desk);
     await expect.poll(() => desk.getByRole("heading", { level: 1 }).textContent()).toBe("New invoice");
     // The exam's visit fee is already on; the receptionist adds a dispensed item.
     expect(await desk.getByLabel("Quantity of Eye examination, adult").inputValue()).toBe("1");
@@ -65,6 +69,7 @@ describe("billing in the browser", () => {
     await patient.getByRole("link", { name: new RegExp(`Invoice ${label} from Larkspur Lane Eye Care`) }).first().click();
     await patient.getByRole("link", { name: /\/pay\// }).click();
     await patient.waitForURL("**/pay/**");
+    await ready(patient);
     await expect.poll(() => patient.getByRole("heading", { level: 1 }).textContent()).toContain(`Invoice ${label}`);
     await expectAccessible(patient);
     await screenshot(patient, "pay-link-page");
@@ -100,6 +105,8 @@ describe("billing in the browser", () => {
     await screenshot(desk, "billing-takings");
     await desk.goto("/billing?status=paid");
     await expect.poll(() => desk.getByRole("row", { name: new RegExp(label) }).textContent()).toContain("Paid");
+    await expectAccessible(desk);
+    await screenshot(desk, "billing-list");
   });
 
   it("leaves the invoice open with a clear message when the card is declined", async () => {
@@ -107,6 +114,7 @@ describe("billing in the browser", () => {
     await signIn(desk, DEMO.receptionist);
     await desk.waitForURL((u) => u.pathname === "/");
     await desk.goto("/billing/invoices/new");
+    await ready(desk);
     await desk.getByLabel("Patient").selectOption({ label: "Achterberg, Rosalind (born 1979-04-17)" });
     await desk.getByLabel("Quantity of Contact lens aftercare check").fill("1");
     await desk.getByRole("button", { name: "Create draft invoice" }).click();
@@ -121,6 +129,7 @@ describe("billing in the browser", () => {
     const link = mail.text.match(/https?:\/\/\S+\/pay\/\S+/)![0];
     const patient = await browser.newPage();
     await patient.goto(link);
+    await ready(patient);
     await patient.getByRole("button", { name: "Pay £30.00 by card" }).click();
     await patient.waitForURL((u) => u.pathname.startsWith("/checkout/"));
     await patient.getByLabel("Card number").fill("4000 0000 0000 0002");
@@ -130,6 +139,7 @@ describe("billing in the browser", () => {
     await screenshot(patient, "standin-declined");
     await patient.getByRole("link", { name: "Cancel and return to the practice" }).click();
     await patient.waitForURL((u) => u.pathname.startsWith("/pay/") && u.searchParams.get("checkout") === "cancelled");
+    await ready(patient);
     await expect.poll(() => patient.getByRole("alert").textContent()).toContain("Your card was declined.");
     expect(await patient.getByRole("alert").textContent()).toContain("The invoice is still open");
     expect(await patient.getByTestId("amount-due").textContent()).toBe("£30.00");
@@ -138,8 +148,21 @@ describe("billing in the browser", () => {
     await screenshot(patient, "pay-link-declined");
 
     await desk.reload();
+    await ready(desk);
     await expect.poll(() => desk.getByText("Your card was declined.").count()).toBe(1);
     expect(await desk.getByTestId("amount-due").textContent()).toBe("£30.00");
+
+    // Another card, with the stand-in's webhook held back 3 seconds: the page waits for it.
+    await patient.getByRole("button", { name: "Pay £30.00 by card" }).click();
+    await patient.waitForURL((u) => u.pathname.startsWith("/checkout/"));
+    await patient.getByLabel("Card number").fill("4242 4242 4242 4242");
+    await patient.getByText("Webhook delivery (stand-in options)").click();
+    await patient.getByLabel("Delay a delivery by 3 seconds").check();
+    await patient.getByRole("button", { name: /^Pay £30.00/ }).click();
+    await patient.waitForURL((u) => u.pathname.startsWith("/pay/") && u.searchParams.get("checkout") === "done");
+    await expect.poll(() => patient.getByRole("status").filter({ hasText: "Confirming your payment" }).count()).toBe(1);
+    expect(await patient.getByRole("heading", { level: 1 }).textContent()).toContain("Open");
+    await expect.poll(() => patient.getByRole("status").filter({ hasText: "Paid — thank you" }).count(), { timeout: 15_000 }).toBe(1);
   });
 
   it("lets the owner keep the fee schedule, with errors next to the field", async () => {
@@ -147,6 +170,7 @@ describe("billing in the browser", () => {
     await signIn(owner, DEMO.owner);
     await owner.waitForURL((u) => u.pathname === "/");
     await owner.goto("/settings/fees");
+    await ready(owner);
     await expectAccessible(owner);
     await owner.getByLabel("Code").fill("BV-ASSESS");
     await owner.getByLabel("Price (GBP, before tax)").fill("45.999");
