@@ -1,7 +1,7 @@
 /**
  * Recalls: patients due for their routine exam, and the bulk recall e-mails the front desk sends.
- * Due dates come from app/lib/scheduling/recall.ts (visit type's interval, else the practice's
- * default by age). One recall_messages row per patient and due date: never two for the same date.
+ * Due dates come from app/lib/scheduling/recall.ts (the exam's planned interval, the visit
+ * type's, else the practice's default by age). One recall_messages row per patient and due date: never two for the same date.
  */
 import { and, count, eq, gt, inArray, sql } from "drizzle-orm";
 import { appointments, patients, recallBatches, recallMessages } from "~/db/schema";
@@ -50,29 +50,40 @@ async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
     last_visit: Date;
     type_name: string;
     recall_months: number | null;
+    plan_months: number | null;
     next_booked: Date | null;
     recall_status: string | null;
     recall_at: Date | null;
     recall_due: string | null;
   }>(sql`
     select p.id as patient_id, p.first_name, p.last_name, p.date_of_birth::text as date_of_birth, p.email, p.reminders_by_email,
-           lv.starts_at as last_visit, lv.type_name, lv.recall_months,
+           lv.starts_at as last_visit, lv.type_name, lv.recall_months, lv.plan_months,
            (select min(a2.starts_at) from appointments a2
              where a2.patient_id = p.id and a2.starts_at > now() and a2.status in ('booked', 'confirmed')) as next_booked,
            rm.status::text as recall_status, coalesce(rm.sent_at, rm.created_at) as recall_at, rm.due_date::text as recall_due
       from patients p
       join lateral (
-        select a.starts_at, t.name as type_name, t.recall_months
-          from appointments a join appointment_types t on t.id = a.appointment_type_id
-         where a.patient_id = p.id and a.status = 'completed' and t.routine_exam
-         order by a.starts_at desc limit 1) lv on true
+        -- The latest routine visit: a completed appointment of a routine type, or an exam
+        -- (recorded with or without an appointment); the exam's plan may set the interval.
+        select v.starts_at, v.type_name, v.recall_months, v.plan_months from (
+          select a.starts_at, t.name as type_name, t.recall_months, ea.recall_months as plan_months
+            from appointments a
+            join appointment_types t on t.id = a.appointment_type_id
+            left join exams e on e.appointment_id = a.id
+            left join exam_assessment ea on ea.exam_id = e.id
+           where a.patient_id = p.id and a.status = 'completed' and t.routine_exam
+          union all
+          select e.examined_at, 'Eye exam', null, ea.recall_months
+            from exams e left join exam_assessment ea on ea.exam_id = e.id
+           where e.patient_id = p.id and e.appointment_id is null
+        ) v order by v.starts_at desc limit 1) lv on true
       left join lateral (
         select r.status, r.sent_at, r.created_at, r.due_date from recall_messages r
          where r.patient_id = p.id order by r.created_at desc limit 1) rm on true
      where true ${idFilter}`);
   return result.rows.map((r) => {
     const examDate = localParts(new Date(r.last_visit), settings.timeZone).date;
-    const due = recallDueDate({ typeRecallMonths: r.recall_months, dateOfBirth: r.date_of_birth, examDate }, settings);
+    const due = recallDueDate({ planRecallMonths: r.plan_months, typeRecallMonths: r.recall_months, dateOfBirth: r.date_of_birth, examDate }, settings);
     const recalledForThisDue = r.recall_due === due.dueDate;
     return {
       patientId: r.patient_id,

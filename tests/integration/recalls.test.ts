@@ -2,7 +2,7 @@ import { eq } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { action as recallsAction, loader as recallsLoader } from "~/routes/schedule/recalls";
 import { loader as progressLoader } from "~/routes/schedule/recall-progress";
-import { recallMessages } from "~/db/schema";
+import { examAssessment, exams, recallMessages } from "~/db/schema";
 import { addMonths } from "~/lib/scheduling/recall";
 import { localParts, wallTimeToInstant } from "~/lib/scheduling/time";
 import { db } from "~/utils/db.server";
@@ -72,6 +72,17 @@ describe("recall list", () => {
     // Recalled patients leave the default list.
     const after = await recallList({ dueBy: today });
     expect(after.rows.map((r) => r.patientId)).not.toContain(a.id);
+  });
+
+  it("counts an exam recorded without an appointment, and the optometrist's planned interval wins", async () => {
+    const p = await newPatient({ dateOfBirth: "1950-02-02" });
+    const [exam] = await db
+      .insert(exams)
+      .values({ patientId: p.id, optometristId: ids.optometrist.id, examinedAt: wallTimeToInstant(addMonths(today, -7), 10 * 60, "Europe/London")!, status: "in_progress" })
+      .returning();
+    await db.insert(examAssessment).values({ examId: exam!.id, recallMonths: 6 });
+    const { rows } = await recallList({ dueBy: today });
+    expect(rows.find((r) => r.patientId === p.id)).toMatchObject({ months: 6, rule: "optometrist's plan", lastVisitType: "Eye exam", dueDate: addMonths(addMonths(today, -7), 6) });
   });
 
   it("refuses an empty selection with 400", async () => {

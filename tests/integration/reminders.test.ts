@@ -8,7 +8,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { appointmentMessages } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { startWorkers, stopJobs } from "~/utils/jobs.server";
-import { APPOINTMENT_MAIL_QUEUE, deliverAppointmentMessage, useAppointmentMailSender } from "~/utils/reminders.server";
+import { APPOINTMENT_MAIL_QUEUE, deliverAppointmentMessage, sendReminderNow, useAppointmentMailSender } from "~/utils/reminders.server";
 import { cookieFor, makeRequest, mailTo, run } from "#tests/support/helpers";
 import { UNIT } from "#tests/support/ports";
 import { startMailStandIn, stopProcess } from "#tests/support/services";
@@ -104,6 +104,22 @@ describe("appointment e-mails", () => {
     expect(ics).toContain("METHOD:CANCEL");
     expect(ics).toContain("STATUS:CANCELLED");
     expect(await message(id, "reminder")).toMatchObject({ status: "skipped" });
+  });
+
+  it("lets the front desk send the reminder early, once: a second request is refused", async () => {
+    const p = await newPatient();
+    const id = await bookFor(p.id, "2027-04-08T10:00:00+01:00");
+    expect(await sendReminderNow(ids.receptionist.id, id)).toEqual({ ok: true });
+    const reminder = await message(id, "reminder");
+    expect(reminder.dueAt.getTime()).toBeLessThanOrEqual(Date.now());
+    expect(await deliverAppointmentMessage(reminder.id)).toBe("sent");
+    const [mail] = await mailTo(p.email!);
+    expect(mail!.subject).toBe("Reminder: your appointment on Thu 8 Apr 2027, 10:00");
+    const again = await sendReminderNow(ids.receptionist.id, id);
+    expect(again).toMatchObject({ ok: false, error: expect.stringContaining("not sent twice") });
+    // The original job, due a day before, finds it done.
+    expect(await deliverAppointmentMessage(reminder.id)).toBe("already done");
+    expect(await mailTo(p.email!)).toHaveLength(1);
   });
 
   it("keeps a reminder waiting while the SMTP server is down and sends it once it is back", async () => {

@@ -145,6 +145,14 @@ describe("events for the calendar (GET /api/appointments)", () => {
     expect(events.map((e) => e.start)).toEqual(["2027-10-29T09:00:00+01:00", "2027-11-01T09:00:00+00:00"]);
   });
 
+  it("lists each event in the same shape as the booking answer gives it", async () => {
+    const p = await newPatient();
+    const booked = (await (await book(p.id, "2027-05-03T09:30:00+01:00")).json()) as { appointment: Record<string, unknown> };
+    const res = (await run(eventsLoader, makeRequest(`/api/appointments?start=2027-05-03T00:00:00%2B01:00&end=2027-05-04T00:00:00%2B01:00&provider=${ids.optometrist.id}`, { cookie: await cookieFor("receptionist") }))) as Response;
+    const listed = ((await res.json()) as { id: string }[]).find((e) => e.id === booked.appointment.id);
+    expect(listed).toEqual(booked.appointment);
+  });
+
   it("rejects a bad range with 400", async () => {
     const cookie = await cookieFor("receptionist");
     for (const q of ["", "?start=2027-01-01&end=2026-01-01", "?start=x&end=y", "?start=2027-01-01&end=2027-06-01", "?start=2027-01-01&end=2027-01-08&provider=nobody"]) {

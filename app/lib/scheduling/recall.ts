@@ -1,10 +1,11 @@
 /**
  * Recall due dates: when a patient is due for their next routine exam.
- * The interval comes from the visit type when it sets one, otherwise from the practice's
+ * The interval comes from the optometrist's plan on the exam when it sets one, then from the
+ * visit type, otherwise from the practice's
  * defaults by age (common practice: 12 months for children, 24 for adults; children are under 16).
  */
 export type RecallSettings = { recallMonthsChild: number; recallMonthsAdult: number; childUnderYears: number };
-export type RecallRule = "visit type" | "child default" | "adult default";
+export type RecallRule = "optometrist's plan" | "visit type" | "child default" | "adult default";
 
 const pad = (n: number) => String(n).padStart(2, "0");
 
@@ -33,15 +34,19 @@ export function addMonths(date: string, months: number): string {
   return `${ty}-${pad(tm)}-${pad(Math.min(d, last))}`;
 }
 
+/** What the interval is chosen from: the exam's own plan first, then the visit type, then age. */
+export type RecallInput = { planRecallMonths?: number | null; typeRecallMonths: number | null; dateOfBirth: string; examDate: string };
+
 /** The recall interval after an exam on `examDate`, and which rule gave it. */
-export function recallInterval(input: { typeRecallMonths: number | null; dateOfBirth: string; examDate: string }, settings: RecallSettings): { months: number; rule: RecallRule } {
+export function recallInterval(input: RecallInput, settings: RecallSettings): { months: number; rule: RecallRule } {
+  if (input.planRecallMonths) return { months: input.planRecallMonths, rule: "optometrist's plan" };
   if (input.typeRecallMonths) return { months: input.typeRecallMonths, rule: "visit type" };
   const child = ageOn(input.dateOfBirth, input.examDate) < settings.childUnderYears;
   return child ? { months: settings.recallMonthsChild, rule: "child default" } : { months: settings.recallMonthsAdult, rule: "adult default" };
 }
 
 /** The day the patient is due again after a routine exam on `examDate`. */
-export function recallDueDate(input: { typeRecallMonths: number | null; dateOfBirth: string; examDate: string }, settings: RecallSettings): { dueDate: string; months: number; rule: RecallRule } {
+export function recallDueDate(input: RecallInput, settings: RecallSettings): { dueDate: string; months: number; rule: RecallRule } {
   const { months, rule } = recallInterval(input, settings);
   return { dueDate: addMonths(input.examDate, months), months, rule };
 }

@@ -84,6 +84,7 @@ describe("recall due dates", () => {
     expect(recallDueDate({ typeRecallMonths: null, dateOfBirth: "2015-06-01", examDate: "2026-05-10" }, settings)).toEqual({ dueDate: "2027-05-10", months: 12, rule: "child default" });
     expect(recallDueDate({ typeRecallMonths: null, dateOfBirth: "1979-04-17", examDate: "2026-05-10" }, settings)).toEqual({ dueDate: "2028-05-10", months: 24, rule: "adult default" });
     expect(recallDueDate({ typeRecallMonths: 6, dateOfBirth: "1979-04-17", examDate: "2026-05-10" }, settings)).toEqual({ dueDate: "2026-11-10", months: 6, rule: "visit type" });
+    expect(recallDueDate({ planRecallMonths: 3, typeRecallMonths: 6, dateOfBirth: "1979-04-17", examDate: "2026-05-10" }, settings)).toEqual({ dueDate: "2026-08-10", months: 3, rule: "optometrist's plan" });
   });
   it("counts age in whole years on the exam day; a 16th birthday makes an adult", () => {
     expect(ageOn("2010-05-10", "2026-05-09")).toBe(15);

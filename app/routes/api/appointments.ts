@@ -2,7 +2,7 @@ import { data } from "react-router";
 import type { Route } from "./+types/appointments";
 import { bookingErrorJson, bookingSchema, errorJson, eventJson, isoTime, readBody, zodFieldErrors } from "~/routes/schedule/schedule-api.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { appointmentsBetween, bookAppointment, BookingError, practiceSchedule } from "~/utils/schedule.server";
+import { appointmentsBetween, bookAppointment, BookingError, calendarEventsJson, practiceSchedule } from "~/utils/schedule.server";
 import { z } from "zod";
 
 /**
@@ -26,8 +26,8 @@ export async function loader({ request }: Route.LoaderArgs) {
     .safeParse(Object.fromEntries([...url.searchParams.entries()].filter(([k]) => k !== "timeZone" && k !== "_")));
   if (!parsed.success) return errorJson(400, "Check the query.", zodFieldErrors(parsed.error));
   const { start, end, provider, includeCancelled } = parsed.data;
-  const events = await appointmentsBetween(start, end, { providerId: provider === "all" ? undefined : provider, includeCancelled: includeCancelled === "1" });
-  return Response.json(events.map((e) => eventJson(e, timeZone)));
+  const events = await calendarEventsJson(start, end, timeZone, { providerId: provider === "all" ? undefined : provider, includeCancelled: includeCancelled === "1" });
+  return new Response(events, { headers: { "content-type": "application/json; charset=utf-8" } });
 }
 
 /**

@@ -106,6 +106,7 @@ export default function CalendarView(props: CalendarProps) {
       eventDurationEditable
       eventStartEditable
       events={source}
+      eventColor="#0d5c62"
       eventContent={(arg) => <EventBody arg={arg} />}
       select={(info) => {
         info.view.calendar.unselect();

@@ -97,7 +97,22 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
       <div role="status" aria-live="polite" className="mb-3 min-h-6">
         {message ? <Notice tone={message.tone} title={message.text} /> : null}
       </div>
-      <div className="schedule-calendar rounded-lg border border-line bg-white p-3 shadow-sm">
+      <div
+        className="schedule-calendar rounded-lg border border-line bg-white p-3 shadow-sm"
+        style={
+          {
+            "--fc-button-bg-color": "#0d5c62",
+            "--fc-button-text-color": "#ffffff",
+            "--fc-button-border-color": "#0d5c62",
+            "--fc-button-hover-bg-color": "#0a474c",
+            "--fc-button-hover-border-color": "#0a474c",
+            "--fc-button-active-bg-color": "#052a2d",
+            "--fc-button-active-border-color": "#052a2d",
+            "--fc-today-bg-color": "#eef8f8",
+            "--fc-non-business-color": "rgba(213, 221, 228, 0.45)",
+          } as React.CSSProperties
+        }
+      >
         {hydrated ? (
           <Suspense fallback={<p className="p-6 text-muted">Loading the calendar…</p>}>
             <CalendarView

@@ -83,7 +83,7 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
     <>
       <PageHeader
         title="Recalls"
-        description={`Patients due for their routine exam. Interval: the visit type's, or ${settings.child} months under ${settings.under} and ${settings.adult} months from ${settings.under} (practice settings; common practice).`}
+        description={`Patients due for their routine exam. Interval: the optometrist's plan on the last exam, else the visit type's, else ${settings.child} months under ${settings.under} and ${settings.adult} months from ${settings.under} (practice settings; common practice).`}
       />
       <ScheduleNav />
       <Form method="get" className="mb-4 flex flex-wrap items-end gap-3">
