@@ -236,6 +236,18 @@ describe("roles", () => {
   });
 });
 
+describe("candidates", () => {
+  it("lists a signed exam with flagged findings until it has a referral", async () => {
+    const { exam } = await fixtureExam();
+    const cookie = await cookieFor("optometrist");
+    const list = async () => dataOf<{ candidates: { id: string; prompts: string[] }[] }>(await run(newLoader, makeRequest("/referrals/new", { cookie }))).candidates;
+    const found = (await list()).find((c) => c.id === exam.id);
+    expect(found?.prompts).toContain("Right IOP 27.5 mmHg is above 21 mmHg");
+    await draft(exam.id, null);
+    expect((await list()).some((c) => c.id === exam.id)).toBe(false);
+  });
+});
+
 describe("bad input", () => {
   it("will not draft from an unsigned exam; the compose page says to sign it", async () => {
     const { exam } = await fixtureExam({ signed: false });

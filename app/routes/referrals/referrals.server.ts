@@ -22,7 +22,7 @@ import {
   type ReferralSnapshot,
 } from "~/db/schema";
 import { ACUITY_CORRECTION_LABEL, COLOUR_RESULTS, COLOUR_TESTS, FIELD_METHODS, IOP_METHODS, REFRACTION_LABEL, RELIABILITY, type RefractionKind } from "~/lib/exam/sections";
-import { formatRx } from "~/lib/optics";
+import { ACUITY_REDUCED_LOGMAR, BLIND_SPOT_TOLERANCE, formatRx, IOP_ASYMMETRY_MMHG, IOP_UPPER_NORMAL_MMHG, NORMAL_BLIND_SPOT } from "~/lib/optics";
 import { canChase, describeTimeFrame, displayStatus, dueBy, findingKey, localDate, promptValue, sendProblems, timeFramesOf, URGENCY_LABEL, type Urgency } from "~/lib/referrals";
 import { loadExam, promptsFor } from "~/routes/exams/exam.server";
 import { audit } from "~/utils/audit.server";
@@ -144,15 +144,36 @@ export function prefill(snapshot: ReferralSnapshot, patient: { firstName: string
   return { history, reason, body, urgency, selectedFindings: snapshot.prompts.map(findingKey) };
 }
 
-/** Signed exams with referral prompts that have no referral yet: the candidates on /referrals/new. */
+/**
+ * Signed exams with referral prompts that have no referral yet: the candidates on /referrals/new.
+ * A query with the engine's thresholds narrows the exams; the engine then decides, so the list
+ * shows exactly its prompts. (A drop in acuity since the previous visit is not looked for here:
+ * refer those from the exam itself.)
+ */
 export async function candidateExams(limit = 20) {
+  const n = NORMAL_BLIND_SPOT;
+  const tol = BLIND_SPOT_TOLERANCE;
   const rows = await db
     .select({ id: exams.id, patientId: exams.patientId, examinedAt: exams.examinedAt, signedAt: exams.signedAt, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth })
     .from(exams)
     .innerJoin(patients, eq(patients.id, exams.patientId))
-    .where(and(eq(exams.status, "signed"), sql`not exists (select 1 from ${referrals} r where r.exam_id = ${exams.id} and r.status <> 'withdrawn')`))
+    .where(
+      and(
+        eq(exams.status, "signed"),
+        sql`not exists (select 1 from ${referrals} r where r.exam_id = ${exams.id} and r.status <> 'withdrawn')`,
+        sql`(
+          exists (select 1 from exam_iop i where i.exam_id = ${exams.id} and i.mm_hg > ${IOP_UPPER_NORMAL_MMHG})
+          or (select max(i.mm_hg) - min(i.mm_hg) from exam_iop i where i.exam_id = ${exams.id}) >= ${IOP_ASYMMETRY_MMHG}
+          or exists (select 1 from exam_visual_fields f where f.exam_id = ${exams.id} and (f.defect_present
+               or f.blind_spot_width_deg > ${n.widthDeg + tol.sizeDeg} or f.blind_spot_height_deg > ${n.heightDeg + tol.sizeDeg}
+               or abs(f.blind_spot_x_deg - ${n.centreXDeg}) > ${tol.centreDeg} or abs(f.blind_spot_y_deg - ${n.centreYDeg}) > ${tol.centreDeg}))
+          or exists (select 1 from exam_colour_vision c where c.exam_id = ${exams.id} and c.result <> 'normal')
+          or exists (select 1 from exam_acuity a where a.exam_id = ${exams.id} and a.distance = 'distance' and a.correction = 'best' and a.eye <> 'both' and a.log_mar > ${ACUITY_REDUCED_LOGMAR - 0.02})
+        )`,
+      ),
+    )
     .orderBy(desc(exams.signedAt))
-    .limit(100);
+    .limit(limit * 3);
   const out: ((typeof rows)[number] & { prompts: string[] })[] = [];
   for (const row of rows) {
     if (out.length >= limit) break;
