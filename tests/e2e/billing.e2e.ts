@@ -6,6 +6,8 @@ import { DEMO, expectAccessible, mailTo, screenshot, signIn, useBrowser } from "
 const browser = useBrowser();
 /** Waits until the page's scripts have loaded (hydrated), so typing is not undone and clicks are handled by the app. */
 const ready = (page: Page) => page.waitForLoadState("networkidle");
+/** Actions that render a PDF or send mail can take a few seconds on a loaded machine. */
+const SLOW = { timeout: 15_000 };
 let client: pg.Client;
 let examId: string;
 
@@ -51,15 +53,15 @@ describe("billing in the browser", () => {
     await expectAccessible(desk);
     await screenshot(desk, "billing-new-from-exam");
     await desk.getByRole("button", { name: "Create draft invoice" }).click();
-    await expect.poll(() => desk.getByTestId("toast").textContent()).toContain("Draft invoice created");
+    await expect.poll(() => desk.getByTestId("toast").textContent(), SLOW).toContain("Draft invoice created");
     // £65.00 exempt + 2 × £8.99 at 20 % (£3.60 tax, rounded per line) = £86.58
     await expect.poll(() => desk.getByTestId("amount-due").textContent()).toBe("£86.58");
     await expectAccessible(desk);
     await desk.getByRole("button", { name: "Issue invoice" }).click();
-    await expect.poll(() => desk.getByTestId("toast").textContent()).toMatch(/Issued as INV-\d{6}/);
+    await expect.poll(() => desk.getByTestId("toast").textContent(), SLOW).toMatch(/Issued as INV-\d{6}/);
     const label = (await desk.getByRole("heading", { level: 1 }).textContent())!.match(/INV-\d{6}/)![0];
     await desk.getByRole("button", { name: "E-mail invoice with payment link" }).click();
-    await expect.poll(() => desk.getByTestId("toast").textContent()).toContain(`Invoice e-mailed to ${DEMO.patient}`);
+    await expect.poll(() => desk.getByTestId("toast").textContent(), SLOW).toContain(`Invoice e-mailed to ${DEMO.patient}`);
     await expectAccessible(desk);
     await screenshot(desk, "billing-invoice-open");
 
@@ -89,7 +91,7 @@ describe("billing in the browser", () => {
     await screenshot(patient, "pay-link-paid");
 
     // The receipt is in the mailbox page.
-    await expect.poll(async () => (await mailTo(DEMO.patient)).some((m) => m.subject.startsWith("Receipt for your payment"))).toBe(true);
+    await expect.poll(async () => (await mailTo(DEMO.patient)).some((m) => m.subject.startsWith("Receipt for your payment")), SLOW).toBe(true);
     await patient.goto("/dev/mailbox");
     await patient.getByRole("link", { name: /Receipt for your payment to Larkspur Lane Eye Care/ }).first().click();
     await expect.poll(() => patient.getByRole("link", { name: /^receipt-INV-\d{6}\.pdf$/ }).count()).toBe(1);
@@ -118,12 +120,12 @@ describe("billing in the browser", () => {
     await desk.getByLabel("Patient").selectOption({ label: "Achterberg, Rosalind (born 1979-04-17)" });
     await desk.getByLabel("Quantity of Contact lens aftercare check").fill("1");
     await desk.getByRole("button", { name: "Create draft invoice" }).click();
-    await expect.poll(() => desk.getByTestId("toast").textContent()).toContain("Draft invoice created");
+    await expect.poll(() => desk.getByTestId("toast").textContent(), SLOW).toContain("Draft invoice created");
     await desk.getByRole("button", { name: "Issue invoice" }).click();
-    await expect.poll(() => desk.getByTestId("toast").textContent()).toMatch(/Issued as/);
+    await expect.poll(() => desk.getByTestId("toast").textContent(), SLOW).toMatch(/Issued as/);
     const label = (await desk.getByRole("heading", { level: 1 }).textContent())!.match(/INV-\d{6}/)![0];
     await desk.getByRole("button", { name: "E-mail invoice with payment link" }).click();
-    await expect.poll(() => desk.getByTestId("toast").textContent()).toContain("Invoice e-mailed");
+    await expect.poll(() => desk.getByTestId("toast").textContent(), SLOW).toContain("Invoice e-mailed");
 
     const mail = (await mailTo(DEMO.patient)).find((m) => m.subject.startsWith(`Invoice ${label}`))!;
     const link = mail.text.match(/https?:\/\/\S+\/pay\/\S+/)![0];
@@ -134,7 +136,7 @@ describe("billing in the browser", () => {
     await patient.waitForURL((u) => u.pathname.startsWith("/checkout/"));
     await patient.getByLabel("Card number").fill("4000 0000 0000 0002");
     await patient.getByRole("button", { name: /^Pay £30.00/ }).click();
-    await expect.poll(() => patient.getByRole("alert").textContent()).toContain("Your card was declined.");
+    await expect.poll(() => patient.getByRole("alert").textContent(), SLOW).toContain("Your card was declined.");
     await expectAccessible(patient);
     await screenshot(patient, "standin-declined");
     await patient.getByRole("link", { name: "Cancel and return to the practice" }).click();
@@ -179,7 +181,7 @@ describe("billing in the browser", () => {
     await expect.poll(() => owner.getByText(/no more than two decimals/).count()).toBe(1);
     await owner.getByLabel("Price (GBP, before tax)").fill("45.00");
     await owner.getByRole("button", { name: "Add fee" }).click();
-    await expect.poll(() => owner.getByTestId("toast").textContent()).toContain("BV-ASSESS saved");
+    await expect.poll(() => owner.getByTestId("toast").textContent(), SLOW).toContain("BV-ASSESS saved");
     expect(await owner.getByRole("row", { name: /BV-ASSESS/ }).textContent()).toContain("£45.00");
     await expectAccessible(owner);
     await screenshot(owner, "settings-fees");
