@@ -4,8 +4,10 @@ import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { and, desc, eq } from "drizzle-orm";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { PDFDocument } from "pdf-lib";
 import {
   auditLog,
+  documents,
   examAcuity,
   examColourVision,
   examHistory,
@@ -32,6 +34,7 @@ import { loader as replyLetterLoader } from "~/routes/referrals/reply-letter";
 import { action as recipientsAction } from "~/routes/settings/recipients";
 import { db } from "~/utils/db.server";
 import { stopJobs } from "~/utils/jobs.server";
+import { storage } from "~/utils/storage.server";
 import { BASE, cookieFor, dataOf, linkIn, mailTo, makeRequest, run, statusOf, uniqueEmail, userByEmail } from "#tests/support/helpers";
 
 const OPTOM = "optometrist@dioptra-demo.test";
@@ -193,6 +196,57 @@ describe("the letter", () => {
     expect(pages).toBeGreaterThan(1);
     for (let i = 1; i <= pages; i++) expect(t).toContain(`Page ${i} of ${pages}`);
     expect(t).toContain("Line 120 of a long clinical history.");
+  });
+});
+
+describe("enclosures", () => {
+  it("appends a chosen PDF upload to the letter and lists every enclosure", async () => {
+    const { exam, patient } = await fixtureExam();
+    const optom = await userByEmail(OPTOM);
+    // A two-page field printout, stored behind the storage interface like any upload.
+    const printout = await PDFDocument.create();
+    printout.addPage([595, 842]);
+    printout.addPage([595, 842]);
+    const key = await storage.put(await printout.save(), { prefix: "documents", extension: "pdf" });
+    const [doc] = await db
+      .insert(documents)
+      .values({ patientId: patient.id, examId: exam.id, kind: "field_printout", description: "Threshold 24-2, right eye", originalName: "fields-right.pdf", contentType: "application/pdf", sizeBytes: 1000, storageKey: key, uploadedById: optom.id })
+      .returning();
+    const { id } = await draft(exam.id, null, [["attachmentIds", doc!.id]]);
+    const res = (await run(pdfLoader, makeRequest(`/referrals/${id}/letter.pdf`, { cookie: await cookieFor("optometrist") }), { referralId: id })) as Response;
+    const bytes = await res.arrayBuffer();
+    const letter = await PDFDocument.load(bytes);
+    const t = pdfText(bytes);
+    const pages = Number(t.match(/Page 1 of (\d+)/)![1]);
+    expect(letter.getPageCount()).toBe(pages);
+    expect(t).toContain("fields-right.pdf — Threshold 24-2, right eye (appended)");
+    // The letter's own pages plus the printout's two, each numbered.
+    expect(t).toContain(`Page ${pages - 1} of ${pages}`);
+    expect(pages).toBeGreaterThanOrEqual(4);
+    // Another patient's upload cannot be enclosed.
+    const other = await fixtureExam();
+    const [foreign] = await db
+      .insert(documents)
+      .values({ patientId: other.patient.id, kind: "other", originalName: "x.pdf", contentType: "application/pdf", sizeBytes: 10, storageKey: key, uploadedById: optom.id })
+      .returning();
+    const cookie = await cookieFor("optometrist");
+    const bad = await run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "save"], ["urgency", "routine"], ["attachmentIds", foreign!.id]]), { referralId: id });
+    expect(statusOf(bad)).toBe(400);
+    expect(dataOf<{ error: Record<string, string[]> }>(bad).error.attachmentIds?.[0]).toMatch(/not one of this patient's uploads/);
+  });
+});
+
+describe("concurrency", () => {
+  it("queues a letter once when two sends of the same draft race", async () => {
+    const { exam } = await fixtureExam();
+    const rec = await recipient();
+    const { id, cookie } = await draft(exam.id, rec.id);
+    const send = () => run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "send"], ["urgency", "urgent"], ["reason", "Raised IOP"], ["recipientId", rec.id], ["selectedFindings", "IOP_ABOVE_NORMAL:right"]]), { referralId: id });
+    const results = (await Promise.all([send(), send(), send()])).map(statusOf).sort();
+    expect(results).toEqual([302, 409, 409]);
+    expect(await db.select().from(referralMessages).where(eq(referralMessages.referralId, id))).toHaveLength(1);
+    expect(await db.select().from(referralLinks).where(eq(referralLinks.referralId, id))).toHaveLength(1);
+    expect(await mailTo(rec.email!)).toHaveLength(1);
   });
 });
 
