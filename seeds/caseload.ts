@@ -51,7 +51,9 @@ type Case = {
 
 function examDates(rand: () => number, n: number) {
   const dates: Date[] = [];
-  let t = ANCHOR.getTime() - Math.floor(rand() * 200) * DAY;
+  // About a third of patients were last seen one to three years ago, so recalls fall due.
+  const away = rand() < 0.3 ? 365 * (1 + Math.floor(rand() * 2)) : 0;
+  let t = ANCHOR.getTime() - (Math.floor(rand() * 200) + away) * DAY;
   for (let i = 0; i < n; i++) {
     dates.unshift(new Date(t + Math.floor(rand() * 8) * 3600e3));
     t -= (330 + Math.floor(rand() * 70)) * DAY;
@@ -63,7 +65,8 @@ const ageAt = (dob: string, at: Date) => (at.getTime() - Date.parse(dob)) / (365
 
 function generalCase(rand: () => number, i: number): Case {
   const first = FIRST[i % FIRST.length]!;
-  const last = LAST[Math.floor(i / FIRST.length) % LAST.length]!;
+  // (7a + b) mod 40 is distinct for each of the ten b per a, so the 400 names are unique.
+  const last = LAST[(7 * (i % FIRST.length) + Math.floor(i / FIRST.length)) % LAST.length]!;
   const year = 1938 + Math.floor(rand() * 82);
   const dob = `${year}-${String(1 + Math.floor(rand() * 12)).padStart(2, "0")}-${String(1 + Math.floor(rand() * 28)).padStart(2, "0")}`;
   const n = Math.floor(rand() * 6);

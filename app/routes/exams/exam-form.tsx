@@ -26,6 +26,9 @@ const ReadOnlyContext = createContext(false);
 
 const AUTOSAVE_MS = 900;
 
+/** The page anchor of a section ("refraction:final" → "section-refraction-final"). */
+export const sectionAnchor = (section: string) => `section-${section.replace(/[^a-z0-9]+/gi, "-")}`;
+
 /**
  * One exam section: a fetcher form posting `intent=save` and `section`, saved automatically a
  * moment after typing stops and when focus leaves the section. Typed text stays in the fields
@@ -88,6 +91,7 @@ export function SectionForm({
   return (
     <ErrorsContext.Provider value={reply && !reply.ok ? (reply.errors ?? {}) : {}}>
       <ReadOnlyContext.Provider value={readOnly}>
+        <div id={sectionAnchor(section)} className="scroll-mt-4">
         <Card
           title={title}
           actions={
@@ -140,6 +144,7 @@ export function SectionForm({
           ) : null}
           {prompts?.length ? <PromptList prompts={prompts} /> : null}
         </Card>
+        </div>
       </ReadOnlyContext.Provider>
     </ErrorsContext.Provider>
   );

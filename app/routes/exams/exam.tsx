@@ -43,7 +43,7 @@ import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { examAddenda, exams } from "~/db/schema";
-import { DirtyContext, ExamInput, ExamSelect, ExamTextarea, SectionForm, useDirtyTracker, type SaveReply } from "./exam-form";
+import { DirtyContext, ExamInput, ExamSelect, ExamTextarea, SectionForm, sectionAnchor, useDirtyTracker, type SaveReply } from "./exam-form";
 import { examFor, formValues, loadExam, previousFinal, promptsFor, saveSection, SectionError, SECTIONS, type Section } from "./exam.server";
 import { DocumentList, UploadForm } from "~/routes/patients/uploads-ui";
 import { documentsOf } from "~/routes/patients/documents.server";
@@ -186,6 +186,28 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
         }
         actions={readOnly ? <StatusBadge tone="success">Signed by {exam.signedBy} on {new Date(exam.signedAt!).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}</StatusBadge> : <StatusBadge tone="warning">In progress</StatusBadge>}
       />
+      <nav aria-label="Exam sections" className="mb-6 rounded-lg border border-line bg-white px-4 py-3 text-sm">
+        <ul className="flex flex-wrap gap-x-4 gap-y-1">
+          {[
+            ["history", "History"],
+            ["acuity", "Acuity"],
+            ...REFRACTION_KINDS.map((k) => [`refraction:${k}`, REFRACTION_LABEL[k].split(" (")[0]!]),
+            ["binocular", "Binocular"],
+            ["iop", "IOP"],
+            ["colour", "Colour"],
+            ["fields", "Fields"],
+            ["segments", "Segments"],
+            ["assessment", "Assessment"],
+          ].map(([k, label]) => (
+            <li key={k}>
+              <a href={`#${sectionAnchor(k!)}`} className="font-semibold text-accent-800 underline-offset-4 hover:underline">
+                {label}
+              </a>
+              {tracker.states[k!] && tracker.states[k!] !== "saved" ? <span className="ml-1 text-xs text-amber-900">({tracker.states[k!] === "failed" ? "not saved" : tracker.states[k!]})</span> : null}
+            </li>
+          ))}
+        </ul>
+      </nav>
       <div className="space-y-6">
         <Notice tone="info" title="Entry">
           Type refractions in the usual notation (<code>-2.25 -0.75 x 175</code>, <code>pl</code>, <code>+1.00 DS</code>) and acuity as 6/6, 20/25-2, decimal or logMAR. Each section saves on its own a moment
@@ -400,7 +422,6 @@ function RefractionSection({ kind, values, readOnly, previous }: V & { kind: Ref
                       name={`${eye}_rx`}
                       label={`${E} ${short} sphere, cylinder and axis`}
                       hideLabel
-                      placeholder="-2.25 -0.75 x 175"
                       defaultValue={v(eye, "rx")}
                       validate={(t) => parseRxText(t, `${E} ${short}`).error}
                       onValue={(t) => setCurrent((c) => ({ ...c, [eye]: parseRxText(t, "").value }))}
