@@ -44,6 +44,19 @@ describe("fee schedule", () => {
     expect(dataOf<{ error: Record<string, string[]> }>(dup).error.code?.[0]).toMatch(/already in the fee schedule/);
   });
 
+  it("keeps the tax rate as basis points, refusing rates outside 0–100 % or with more than two decimals", async () => {
+    const ok = await run(feesAction, post("/settings/fees", { intent: "tax", taxRate: "17.5" }, owner));
+    expect(statusOf(ok)).toBe(302);
+    const [row] = await db.select({ taxRateBp: practiceSettings.taxRateBp }).from(practiceSettings);
+    expect(row!.taxRateBp).toBe(1750);
+    for (const bad of ["abc", "101", "-1", "12.345"]) {
+      const res = await run(feesAction, post("/settings/fees", { intent: "tax", taxRate: bad }, owner));
+      expect(statusOf(res)).toBe(400);
+      expect(dataOf<{ error: Record<string, string[]> }>(res).error.taxRate?.length).toBeGreaterThan(0);
+    }
+    await setTaxRate(2000);
+  });
+
   it("is the owner's alone", async () => {
     const res = await run(feesAction, post("/settings/fees", { intent: "save", code: "NOPE", description: "x", price: "1", kind: "item", taxCategory: "standard" }, reception));
     expect(statusOf(res)).toBe(403);
@@ -206,6 +219,24 @@ describe("desk payments, refunds, receipts", () => {
     [inv] = await db.select().from(invoices).where(eq(invoices.id, id));
     expect(inv).toMatchObject({ status: "open", paidMinor: 0 });
     await expect(refundPayment({ paymentId, amountMinor: 1, reason: "again", actorUserId: r.id })).rejects.toThrow(/At most £0.00/);
+  });
+});
+
+describe("voiding", () => {
+  it("voids an unpaid invoice with a reason and keeps its number; refuses one with money on it", async () => {
+    const { id, number } = await issuedInvoice([{ priceMinor: 2000 }]);
+    const noReason = await run(invoiceAction, post(`/billing/invoices/${id}`, { intent: "void", reason: "" }), { invoiceId: id });
+    expect(statusOf(noReason)).toBe(400);
+    const ok = await run(invoiceAction, post(`/billing/invoices/${id}`, { intent: "void", reason: "Raised for the wrong patient" }), { invoiceId: id });
+    expect(statusOf(ok)).toBe(302);
+    const [inv] = await db.select().from(invoices).where(eq(invoices.id, id));
+    expect(inv).toMatchObject({ status: "void", number, voidReason: "Raised for the wrong patient" });
+
+    const paid = await issuedInvoice([{ priceMinor: 2000 }]);
+    await recordDeskPayment({ invoiceId: paid.id, method: "cash", amountMinor: 500, reference: "", actorUserId: paid.reception.id });
+    const refused = await run(invoiceAction, post(`/billing/invoices/${paid.id}`, { intent: "void", reason: "Changed mind" }), { invoiceId: paid.id });
+    expect(statusOf(refused)).toBe(409);
+    expect(JSON.stringify(dataOf(refused))).toContain("Refund them first");
   });
 });
 

@@ -96,6 +96,17 @@ describe("starting a card payment", () => {
     expect(pending[0]!.amountMinor).toBe(4000);
   });
 
+  it("is served by a stand-in that honours idempotency keys and refuses a wrong API key, as Stripe does", async () => {
+    const { stripe } = await import("~/utils/payments.server");
+    const params = { mode: "payment" as const, success_url: "http://127.0.0.1:3000/ok", cancel_url: "http://127.0.0.1:3000/no", line_items: [{ quantity: 1, price_data: { currency: "gbp", unit_amount: 1234, product_data: { name: "Test" } } }] };
+    const a = await stripe().checkout.sessions.create(params, { idempotencyKey: "same-key-test" });
+    const b = await stripe().checkout.sessions.create(params, { idempotencyKey: "same-key-test" });
+    expect(b.id).toBe(a.id);
+    expect(a.amount_total).toBe(1234);
+    const res = await fetch(`${STANDIN()}/v1/checkout/sessions/${a.id}`, { headers: { authorization: "Bearer sk_test_wrong" } });
+    expect(res.status).toBe(401);
+  });
+
   it("refuses to start a payment on a paid or void invoice", async () => {
     const { id, reception } = await issuedInvoice([{ priceMinor: 500 }]);
     await db.update(invoices).set({ status: "void", voidedAt: new Date(), voidReason: "test" }).where(eq(invoices.id, id));

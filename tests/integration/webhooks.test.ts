@@ -5,7 +5,7 @@
  */
 import { and, eq } from "drizzle-orm";
 import Stripe from "stripe";
-import { beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { action as webhookAction } from "~/routes/api/webhooks/stripe";
 import { action as payAction, loader as payLoader } from "~/routes/pay/pay";
 import { signPayLink } from "~/routes/billing/checkout.server";
@@ -13,14 +13,12 @@ import { refundPayment } from "~/routes/billing/invoices.server";
 import { invoices, payments, stripeEvents } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { dataOf, mailTo, makeRequest, run, statusOf } from "#tests/support/helpers";
-import { issuedInvoice, setTaxRate, STANDIN } from "./billing-support";
+import { issuedInvoice, STANDIN } from "./billing-support";
 
 const SECRET = "whsec_dioptra_local_standin";
 const signer = new Stripe("sk_test_dioptra_local_standin");
 const CARD_OK = "4242 4242 4242 4242";
 const CARD_DECLINED = "4000 0000 0000 0002";
-
-beforeAll(() => setTaxRate(0));
 
 type StandInEvent = { id: string; type: string; payload: string };
 
