@@ -231,6 +231,18 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
             <UploadForm patientId={patient.id} examId={exam.id} />
           </div>
         </Card>
+        {prompts.length ? (
+          <Notice tone="warning" title={`${prompts.length} referral ${prompts.length === 1 ? "prompt" : "prompts"} on this exam`}>
+            {readOnly ? (
+              <Link to={`/referrals/new?exam=${exam.id}`} className="font-semibold underline">
+                Draft a referral letter pre-filled with these measurements
+              </Link>
+            ) : (
+              "Sign the exam to draft a referral letter from it."
+            )}{" "}
+            Prompts are for your judgement, not referral decisions.
+          </Notice>
+        ) : null}
         {readOnly ? <Addenda addenda={loaderData.addenda} /> : <SignCard states={tracker.states} />}
         {readOnly ? <Prescriptions data={loaderData} /> : null}
       </div>

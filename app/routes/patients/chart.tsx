@@ -17,6 +17,8 @@ import { appointmentsOf, childProgression, examsOf, invoicesOf, recallDue, refra
 import { documentsOf } from "./documents.server";
 import { ageOn, formatDate, isUuid } from "./patient-schema";
 import { prescriptionsOf } from "./prescriptions.server";
+import { ChartReferrals } from "~/routes/referrals/chart-referrals";
+import { referralsForChart } from "~/routes/referrals/referrals.server";
 import { RefractionHistory } from "./refraction-plot";
 import { DocumentList, UploadForm } from "./uploads-ui";
 
@@ -31,7 +33,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   const p = await patientOr404(params.patientId);
   const clinical = (CLINICAL_ROLES as readonly string[]).includes(user.role);
-  const clinicalData = clinical ? Promise.all([examsOf(p.id), documentsOf(p.id), refractionHistory(p.id), latestPrompts(p.id)]) : null;
+  const clinicalData = clinical ? Promise.all([examsOf(p.id), documentsOf(p.id), refractionHistory(p.id), latestPrompts(p.id), referralsForChart(p.id, { clinical: true })]) : null;
   clinicalData?.catch(() => undefined); // awaited below; this keeps an early failure elsewhere from leaving it unobserved
   const [appointments, invoices, prescriptions] = await Promise.all([appointmentsOf(p.id), invoicesOf(p.id), prescriptionsOf(p.id)]);
   const demographics = {
@@ -51,7 +53,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     await audit({ action: "chart.read", actorUserId: user.id, entityType: "patient", entityId: p.id, patientId: p.id, detail: { view: "front desk" }, request });
     return { clinical: false as const, patient: demographics, appointments, invoices, prescriptions: rx };
   }
-  const [exams, documents, history, prompts] = await clinicalData!;
+  const [exams, documents, history, prompts, referrals] = await clinicalData!;
   await audit({ action: "chart.read", actorUserId: user.id, entityType: "patient", entityId: p.id, patientId: p.id, detail: { view: "clinical" }, request });
   return {
     clinical: true as const,
@@ -65,6 +67,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     progression: childProgression(p.dateOfBirth, history),
     recall: recallDue(exams),
     prompts,
+    referrals,
   };
 }
 
@@ -148,6 +151,7 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
       {d.clinical ? (
         <div className="mt-6 space-y-6">
           <RefractionHistory points={d.history} progression={d.progression} />
+          <ChartReferrals referrals={d.referrals} />
           <Card title="Documents">
             <DocumentList patientId={p.id} documents={d.documents} />
             <div className="mt-4">
@@ -194,12 +198,21 @@ function ClinicalSummary({ d }: { d: Extract<LD, { clinical: true }> }) {
             {d.recall.due ? (
               <StatusBadge tone="warning">Recall due{d.recall.since ? ` (last exam over ${d.recall.months} months ago)` : " (never examined)"}</StatusBadge>
             ) : null}
+            {d.referrals
+              .filter((r) => ["draft", "queued", "sent", "overdue"].includes(r.status))
+              .map((r) => (
+                <div key={r.id}>
+                  <StatusBadge tone={r.status === "overdue" ? "error" : "warning"}>
+                    Referral {r.status === "draft" ? "drafted, not sent" : r.status === "overdue" ? "overdue" : "pending"}: {r.reference}
+                  </StatusBadge>
+                </div>
+              ))}
             {d.prompts.map((pr) => (
               <div key={`${pr.code}-${pr.eye}`}>
                 <StatusBadge tone="warning">Referral prompt: {pr.message}</StatusBadge>
               </div>
             ))}
-            {!d.recall.due && !d.prompts.length ? <StatusBadge tone="success">No alerts</StatusBadge> : null}
+            {!d.recall.due && !d.prompts.length && !d.referrals.some((r) => ["draft", "queued", "sent", "overdue"].includes(r.status)) ? <StatusBadge tone="success">No alerts</StatusBadge> : null}
             {d.prompts.length ? <p className="text-xs text-muted">Prompts from the last exam's findings; check them before referring.</p> : null}
           </dd>
         </div>
@@ -213,12 +226,13 @@ type Item = { at: string; kind: string; label: string; href?: string; status?: s
 function Timeline({ d }: { d: LD }) {
   const items: Item[] = [
     ...d.appointments.map((a) => ({ at: a.startsAt, kind: "Appointment", label: `${a.type} with ${a.provider}`, status: a.status.replace("_", " ") })),
-    ...d.invoices.map((i) => ({ at: i.at, kind: "Invoice", label: `${i.number ? `No. ${i.number}` : "Draft"} · ${money(i.totalMinor, i.currency)}`, status: i.status.replace("_", " "), href: `/billing` })),
+    ...d.invoices.map((i) => ({ at: i.at, kind: "Invoice", label: `${i.number ? `No. ${i.number}` : "Draft"} · ${money(i.totalMinor, i.currency)}`, status: i.status.replace("_", " "), href: `/billing/invoices/${i.id}` })),
     ...d.prescriptions.map((r) => ({ at: r.issuedAt, kind: "Prescription", label: `${r.kind === "spectacle" ? "Spectacles" : "Contact lenses"} by ${r.prescriberName}`, status: r.current ? "current" : "expired", href: `/patients/${d.patient.id}/prescriptions/${r.id}/pdf` })),
     ...(d.clinical
       ? [
           ...d.exams.map((e) => ({ at: e.examinedAt, kind: "Exam", label: `Exam by ${e.optometrist}`, status: e.status === "signed" ? "signed" : "in progress", href: `/patients/${d.patient.id}/exams/${e.id}` })),
           ...d.documents.map((doc) => ({ at: doc.createdAt, kind: "Document", label: doc.originalName, href: `/patients/${d.patient.id}/documents/${doc.id}/file` })),
+          ...d.referrals.map((r) => ({ at: r.sentAt ?? r.createdAt, kind: "Referral", label: `${r.reference}${r.recipient ? ` to ${r.recipient}` : ""}`, status: r.status, href: `/referrals/${r.id}` })),
         ]
       : []),
   ].sort((a, b) => b.at.localeCompare(a.at));
