@@ -3,6 +3,8 @@ import { type RouteConfig, index, layout, prefix, route } from "@react-router/de
 export default [
   route("healthz", "routes/api/healthz.ts"),
   route("api/portal-invite", "routes/api/portal-invite.ts"),
+  route("portal/invoices/:id/invoice.pdf", "routes/portal/documents.ts", { id: "portal-invoice-pdf" }),
+  route("portal/payments/:id/receipt.pdf", "routes/portal/documents.ts", { id: "portal-receipt-pdf" }),
 
   route("login", "routes/auth/login.tsx"),
   route("logout", "routes/auth/logout.ts"),
@@ -16,6 +18,11 @@ export default [
     route(":messageId/attachments/:index", "routes/dev/mailbox-attachment.ts"),
   ]),
 
+  route("api/patients", "routes/api/patients.ts"),
+  route("api/uploads", "routes/api/uploads.ts"),
+  route("patients/:patientId/prescriptions/:prescriptionId/pdf", "routes/patients/prescription-pdf.ts"),
+  route("patients/:patientId/documents/:documentId/:variant", "routes/patients/document-file.ts"),
+
   route("api/appointments", "routes/api/appointments.ts"),
   route("api/appointments/:appointmentId", "routes/api/appointments-item.ts"),
   route("api/schedule-patients", "routes/api/schedule-patients.ts"),
@@ -28,11 +35,6 @@ export default [
   route("billing/payments/:paymentId/receipt.pdf", "routes/billing/receipt-pdf.ts"),
   route("billing/takings.csv", "routes/billing/takings-csv.ts"),
 
-  route("api/patients", "routes/api/patients.ts"),
-  route("api/uploads", "routes/api/uploads.ts"),
-  route("patients/:patientId/prescriptions/:prescriptionId/pdf", "routes/patients/prescription-pdf.ts"),
-  route("patients/:patientId/documents/:documentId/:variant", "routes/patients/document-file.ts"),
-
   route("referrals/:referralId/letter.pdf", "routes/referrals/letter-pdf.ts"),
   route("referrals/:referralId/replies/:replyId/file", "routes/referrals/reply-file.ts"),
   route("r/:token", "routes/referrals/reply.tsx"),
@@ -41,18 +43,18 @@ export default [
   layout("routes/layout.tsx", [
     index("routes/home.tsx"),
     ...prefix("referrals", [index("routes/referrals/index.tsx"), route("new", "routes/referrals/new.tsx"), route(":referralId", "routes/referrals/referral.tsx")]),
+    ...prefix("billing", [
+      index("routes/billing/index.tsx"),
+      route("invoices/new", "routes/billing/invoice-new.tsx"),
+      route("invoices/:invoiceId", "routes/billing/invoice.tsx"),
+      route("takings", "routes/billing/takings.tsx"),
+    ]),
     ...prefix("patients", [
       index("routes/patients/index.tsx"),
       route("new", "routes/patients/new.tsx"),
       route(":patientId", "routes/patients/chart.tsx"),
       route(":patientId/edit", "routes/patients/edit.tsx"),
       route(":patientId/exams/:examId", "routes/exams/exam.tsx"),
-    ]),
-    ...prefix("billing", [
-      index("routes/billing/index.tsx"),
-      route("invoices/new", "routes/billing/invoice-new.tsx"),
-      route("invoices/:invoiceId", "routes/billing/invoice.tsx"),
-      route("takings", "routes/billing/takings.tsx"),
     ]),
     ...prefix("schedule", [
       index("routes/schedule/index.tsx"),
@@ -74,7 +76,13 @@ export default [
         route("fees", "routes/settings/fees.tsx"),
       ]),
     ]),
-    ...prefix("portal", [index("routes/portal/home.tsx"), route("reminders", "routes/portal/reminders.tsx")]),
+    ...prefix("portal", [
+      index("routes/portal/home.tsx"),
+      route("book", "routes/portal/book.tsx"),
+      route("invoices", "routes/portal/invoices.tsx"),
+      route("prescriptions", "routes/portal/prescriptions.tsx"),
+      route("reminders", "routes/portal/reminders.tsx"),
+    ]),
     route("*", "routes/not-found.tsx"),
   ]),
 ] satisfies RouteConfig;

@@ -7,6 +7,7 @@ import { databaseUrl } from "../app/utils/db-url";
 import { seedBilling } from "./billing";
 import { seedCaseload } from "./caseload";
 import { DEMO_PASSWORD, DEMO_PATIENT, DEMO_PRACTICE, DEMO_USERS } from "./demo-practice";
+import { seedPortal } from "./portal";
 import { seedReferrals } from "./referrals";
 import { seedSchedule } from "./schedule";
 
@@ -34,9 +35,10 @@ export async function seed(url = databaseUrl()) {
         if (existing) continue;
         await tx.insert(users).values({ ...u, passwordHash, patientId: u.role === "patient" ? patient!.id : null });
       }
-      await seedSchedule(tx);
       await seedCaseload(tx);
+      await seedSchedule(tx);
       await seedReferrals(tx);
+      await seedPortal(tx);
     });
   } finally {
     await pool.end();

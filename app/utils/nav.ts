@@ -12,6 +12,8 @@ export const NAV: readonly NavItem[] = [
   { to: "/billing", label: "Billing", roles: ["owner", "receptionist"] },
   { to: "/settings", label: "Practice settings", roles: ["owner"] },
   { to: "/portal", label: "My visits", roles: ["patient"] },
+  { to: "/portal/invoices", label: "Invoices", roles: ["patient"] },
+  { to: "/portal/prescriptions", label: "Prescriptions", roles: ["patient"] },
   { to: "/portal/reminders", label: "Reminders", roles: ["patient"] },
 ];
 

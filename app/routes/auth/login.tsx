@@ -43,7 +43,9 @@ export default function Login({ actionData }: Route.ComponentProps) {
     id: "sign-in",
     lastResult: actionData,
     onValidate: ({ formData }) => parseWithZod(formData, { schema: signInSchema }),
-    shouldValidate: "onBlur",
+    // Validate on submit: the e-mail field has focus on arrival, and an error appearing on blur
+    // would shift the links below it away from under a click that is under way.
+    shouldValidate: "onSubmit",
     shouldRevalidate: "onInput",
   });
   return (

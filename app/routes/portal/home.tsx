@@ -1,54 +1,181 @@
-import { eq } from "drizzle-orm";
-import { data } from "react-router";
+import { parseWithZod } from "@conform-to/zod/v4";
+import { and, eq } from "drizzle-orm";
+import { useState } from "react";
+import { data, Link, useFetcher } from "react-router";
+import { z } from "zod";
 import type { Route } from "./+types/home";
+import { cancellable, ownAppointment, patientName, portalSettings, requirePortalPatient, visitsOf } from "./portal.server";
+import { ErrorList } from "~/components/forms";
 import { PageHeader } from "~/components/page-header";
+import { Button, buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
-import { patients, practiceSettings } from "~/db/schema";
+import { Textarea } from "~/components/ui/input";
+import { Notice, StatusBadge } from "~/components/ui/notice";
+import { appointmentChangeRequests } from "~/db/schema";
+import { STATUS_LABEL, type Status } from "~/lib/scheduling";
 import { audit } from "~/utils/audit.server";
-import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
+import { BookingError, changeStatus } from "~/utils/schedule.server";
+import { redirectWithToast } from "~/utils/toast.server";
+
+const schema = z.discriminatedUnion("intent", [
+  z.object({ intent: z.literal("cancel"), appointmentId: z.uuid() }),
+  z.object({
+    intent: z.literal("move"),
+    appointmentId: z.uuid(),
+    message: z.string({ error: "Say when would suit you instead." }).trim().min(3, "Say when would suit you instead.").max(500, "Keep it under 500 characters."),
+  }),
+]);
 
 export async function loader({ request }: Route.LoaderArgs) {
-  const user = await requireRole(request, ["patient"]);
-  if (!user.patientId) throw data({ error: "This account is not linked to a patient record. Please contact the practice." }, { status: 404 });
-  const [patient] = await db
-    .select({ firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth, email: patients.email, phone: patients.phone, remindersByEmail: patients.remindersByEmail })
-    .from(patients)
-    .where(eq(patients.id, user.patientId));
-  if (!patient) throw data({ error: "Not found." }, { status: 404 });
-  const [practice] = await db.select({ name: practiceSettings.name, phone: practiceSettings.phone, email: practiceSettings.email }).from(practiceSettings).limit(1);
-  await audit({ action: "portal.read", actorUserId: user.id, patientId: user.patientId, entityType: "patient", entityId: user.patientId, request });
-  return { patient, practice };
+  const { user, patientId } = await requirePortalPatient(request);
+  const [settings, visits, name] = await Promise.all([portalSettings(), visitsOf(patientId), patientName(patientId)]);
+  await audit({ action: "portal.visits_read", actorUserId: user.id, patientId, entityType: "patient", entityId: patientId, request });
+  const now = Date.now();
+  const withRights = visits.map((v) => ({ ...v, canCancel: cancellable(v, settings.cancelCutoffHours, now) }));
+  return {
+    firstName: name?.firstName ?? user.name,
+    practice: settings,
+    upcoming: withRights.filter((v) => new Date(v.end).getTime() >= now && v.status !== "cancelled" && v.status !== "no_show").reverse(),
+    past: withRights.filter((v) => new Date(v.end).getTime() < now || v.status === "cancelled" || v.status === "no_show").slice(0, 12),
+  };
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  const { user, patientId } = await requirePortalPatient(request);
+  const submission = parseWithZod(await request.formData(), { schema });
+  if (submission.status !== "success") return data(submission.reply(), { status: 400 });
+  const v = submission.value;
+  const visit = await ownAppointment(patientId, v.appointmentId);
+  const settings = await portalSettings();
+  if (v.intent === "cancel") {
+    if (!cancellable({ start: visit.startsAt, status: visit.status }, settings.cancelCutoffHours)) {
+      return data(submission.reply({ formErrors: [`Visits can be cancelled online until ${settings.cancelCutoffHours} hours before they start. Please phone ${settings.name}${settings.phone ? ` on ${settings.phone}` : ""}.`] }), { status: 409 });
+    }
+    try {
+      await changeStatus(user, visit.id, "cancelled", request);
+    } catch (error) {
+      if (error instanceof BookingError) return data(submission.reply({ formErrors: [error.message] }), { status: error.status });
+      throw error;
+    }
+    return redirectWithToast("/portal", { kind: "success", title: "Your visit is cancelled", description: "A confirmation is on its way by e-mail." });
+  }
+  if (visit.status !== "booked" && visit.status !== "confirmed") return data(submission.reply({ formErrors: ["Only a booked visit that has not started can be moved."] }), { status: 409 });
+  const [open] = await db
+    .select({ id: appointmentChangeRequests.id })
+    .from(appointmentChangeRequests)
+    .where(and(eq(appointmentChangeRequests.appointmentId, visit.id), eq(appointmentChangeRequests.status, "open")));
+  await db.transaction(async (tx) => {
+    if (open) await tx.update(appointmentChangeRequests).set({ message: v.message }).where(eq(appointmentChangeRequests.id, open.id));
+    else await tx.insert(appointmentChangeRequests).values({ appointmentId: visit.id, patientId, message: v.message });
+    await audit({ action: "portal.move_requested", actorUserId: user.id, patientId, entityType: "appointment", entityId: visit.id, detail: { message: v.message }, request }, tx);
+  });
+  return redirectWithToast("/portal", { kind: "success", title: "Request sent to the front desk", description: "They will contact you to agree a new time." });
+}
+
+const tone = (s: Status) => (s === "cancelled" || s === "no_show" ? "error" : s === "completed" ? "success" : "info");
+
+function VisitCard({ visit, timeZone }: { visit: Awaited<ReturnType<typeof loader>>["upcoming"][number]; timeZone: string }) {
+  const fetcher = useFetcher<typeof action>();
+  const [moving, setMoving] = useState(false);
+  const when = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeStyle: "short", timeZone }).format(new Date(visit.start));
+  const errors = fetcher.data?.error;
+  return (
+    <li className="rounded-lg border border-line bg-white p-4">
+      <p className="font-semibold">{when}</p>
+      <p className="text-sm text-muted">
+        {visit.typeName} with {visit.providerName}
+      </p>
+      <p className="mt-2">
+        <StatusBadge tone={tone(visit.status)}>{STATUS_LABEL[visit.status]}</StatusBadge>
+      </p>
+      {visit.moveRequest ? <p className="mt-2 text-sm">You asked to move this visit: “{visit.moveRequest}”. The front desk will be in touch.</p> : null}
+      {errors?.[""]?.length ? (
+        <div className="mt-3">
+          <Notice tone="error" title="Not done">
+            {errors[""].join(" ")}
+          </Notice>
+        </div>
+      ) : null}
+      <div className="mt-3 flex flex-wrap gap-2">
+        {visit.canCancel ? (
+          <fetcher.Form method="post" onSubmit={(e) => !window.confirm("Cancel this visit?") && e.preventDefault()}>
+            <input type="hidden" name="appointmentId" value={visit.id} />
+            <Button type="submit" name="intent" value="cancel" variant="danger" pending={fetcher.state !== "idle" && fetcher.formData?.get("intent") === "cancel"}>
+              Cancel visit
+            </Button>
+          </fetcher.Form>
+        ) : null}
+        {visit.status === "booked" || visit.status === "confirmed" ? (
+          <Button type="button" variant="secondary" onClick={() => setMoving((m) => !m)} aria-expanded={moving}>
+            Ask to move it
+          </Button>
+        ) : null}
+      </div>
+      {moving ? (
+        <fetcher.Form method="post" className="mt-3 space-y-2">
+          <input type="hidden" name="appointmentId" value={visit.id} />
+          <label htmlFor={`move-${visit.id}`} className="block text-sm font-semibold">
+            When would suit you instead?
+          </label>
+          <Textarea id={`move-${visit.id}`} name="message" rows={2} required aria-invalid={errors?.message ? true : undefined} aria-describedby={errors?.message ? `move-${visit.id}-error` : undefined} />
+          <ErrorList id={`move-${visit.id}-error`} errors={errors?.message ?? undefined} />
+          <Button type="submit" name="intent" value="move" pending={fetcher.state !== "idle" && fetcher.formData?.get("intent") === "move"}>
+            Send request
+          </Button>
+        </fetcher.Form>
+      ) : null}
+    </li>
+  );
 }
 
 export default function PortalHome({ loaderData }: Route.ComponentProps) {
-  const { patient, practice } = loaderData;
+  const { firstName, practice, upcoming, past } = loaderData;
   return (
-    <div className="mx-auto max-w-2xl">
-      <PageHeader title={`Hello, ${patient.firstName}`} description={practice ? `Your page at ${practice.name}` : undefined} />
-      <Card title="Your details">
-        <dl className="grid grid-cols-[8rem_1fr] gap-y-2 text-sm">
-          <dt className="text-muted">Name</dt>
-          <dd className="font-semibold">
-            {patient.firstName} {patient.lastName}
-          </dd>
-          <dt className="text-muted">Date of birth</dt>
-          <dd>{new Date(`${patient.dateOfBirth}T12:00:00Z`).toLocaleDateString("en-GB", { dateStyle: "long" })}</dd>
-          <dt className="text-muted">E-mail</dt>
-          <dd>{patient.email ?? "—"}</dd>
-          <dt className="text-muted">Phone</dt>
-          <dd>{patient.phone ?? "—"}</dd>
-          <dt className="text-muted">Reminders</dt>
-          <dd>{patient.remindersByEmail ? "By e-mail" : "Off"}</dd>
-        </dl>
-        {practice ? (
-          <p className="mt-4 text-sm text-muted">
-            To change these details, contact {practice.name}
-            {practice.phone ? ` on ${practice.phone}` : ""}
-            {practice.email ? ` or ${practice.email}` : ""}.
-          </p>
-        ) : null}
+    <div className="mx-auto max-w-2xl space-y-6">
+      <PageHeader title={`Hello, ${firstName}`} description={`Your page at ${practice.name}`} actions={<Link to="/portal/book" className={buttonClass("primary")}>Book an eye exam</Link>} />
+      <Card title="Upcoming visits">
+        {upcoming.length ? (
+          <ul className="space-y-3">
+            {upcoming.map((v) => (
+              <VisitCard key={v.id} visit={v} timeZone={practice.timeZone} />
+            ))}
+          </ul>
+        ) : (
+          <p className="text-muted">No visits booked.</p>
+        )}
+        <p className="mt-4 text-sm text-muted">
+          You can cancel online until {practice.cancelCutoffHours} hours before a visit. After that, please phone {practice.name}
+          {practice.phone ? ` on ${practice.phone}` : ""}.
+        </p>
       </Card>
+      <Card title="Past visits">
+        {past.length ? (
+          <ul className="divide-y divide-line">
+            {past.map((v) => (
+              <li key={v.id} className="flex flex-wrap items-center justify-between gap-2 py-2 text-sm">
+                <span>
+                  {new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeZone: practice.timeZone }).format(new Date(v.start))} · {v.typeName}
+                </span>
+                <StatusBadge tone={tone(v.status)}>{STATUS_LABEL[v.status]}</StatusBadge>
+              </li>
+            ))}
+          </ul>
+        ) : (
+          <p className="text-muted">None yet.</p>
+        )}
+      </Card>
+      <nav aria-label="Your pages" className="grid gap-3 sm:grid-cols-3">
+        <Link to="/portal/invoices" className={buttonClass("secondary")}>
+          Invoices and payments
+        </Link>
+        <Link to="/portal/prescriptions" className={buttonClass("secondary")}>
+          Prescriptions
+        </Link>
+        <Link to="/portal/reminders" className={buttonClass("secondary")}>
+          Reminder choices
+        </Link>
+      </nav>
     </div>
   );
 }

@@ -1,0 +1,137 @@
+import { parseWithZod } from "@conform-to/zod/v4";
+import { data, Form, Link, useNavigation, useSearchParams } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/book";
+import { freeSlots, onlineTypes, portalSettings, requirePortalPatient } from "./portal.server";
+import { PageHeader } from "~/components/page-header";
+import { Button, buttonClass } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Input, Select } from "~/components/ui/input";
+import { Notice } from "~/components/ui/notice";
+import { addDays, localParts } from "~/lib/scheduling";
+import { BookingError, bookAppointment } from "~/utils/schedule.server";
+import { redirectWithToast } from "~/utils/toast.server";
+
+const bookSchema = z.object({
+  appointmentTypeId: z.uuid({ error: "Choose a kind of visit." }),
+  providerId: z.uuid({ error: "Choose a time." }),
+  start: z.iso.datetime({ offset: true, error: "Choose a time." }),
+});
+
+const dateSchema = z.string().regex(/^\d{4}-\d{2}-\d{2}$/);
+
+export async function loader({ request }: Route.LoaderArgs) {
+  await requirePortalPatient(request);
+  const url = new URL(request.url);
+  const settings = await portalSettings();
+  const types = await onlineTypes();
+  const today = localParts(new Date(), settings.timeZone).date;
+  const typeId = url.searchParams.get("type") ?? types[0]?.id ?? "";
+  const wanted = url.searchParams.get("date");
+  const date = wanted && dateSchema.safeParse(wanted).success && wanted >= today ? wanted : addDays(today, 1);
+  const slots = typeId ? await freeSlots(typeId, date, settings.timeZone) : [];
+  return { types: types.map(({ id, name, durationMinutes }) => ({ id, name, durationMinutes })), typeId, date, today, lastDate: addDays(today, 90), slots, timeZone: settings.timeZone, practice: settings.name };
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  const { user, patientId } = await requirePortalPatient(request);
+  const submission = parseWithZod(await request.formData(), { schema: bookSchema });
+  if (submission.status !== "success") return data(submission.reply(), { status: 400 });
+  const v = submission.value;
+  // Only kinds of visit the practice opens to online booking.
+  if (!(await onlineTypes()).some((t) => t.id === v.appointmentTypeId)) {
+    return data(submission.reply({ formErrors: ["That kind of visit cannot be booked online. Please phone the practice."] }), { status: 422 });
+  }
+  try {
+    await bookAppointment(user, { patientId, providerId: v.providerId, appointmentTypeId: v.appointmentTypeId, start: new Date(v.start), notes: "Booked online by the patient." }, request);
+  } catch (error) {
+    if (error instanceof BookingError) {
+      const taken = error.status === 409 ? "Someone has just taken that time. Please choose another." : error.message;
+      return data(submission.reply({ formErrors: [taken] }), { status: error.status });
+    }
+    throw error;
+  }
+  return redirectWithToast("/portal", { kind: "success", title: "Your visit is booked", description: "A confirmation is on its way by e-mail." });
+}
+
+export default function BookOnline({ loaderData, actionData }: Route.ComponentProps) {
+  const { types, typeId, date, today, lastDate, slots, timeZone, practice } = loaderData;
+  const navigation = useNavigation();
+  const [params] = useSearchParams();
+  const time = new Intl.DateTimeFormat("en-GB", { timeStyle: "short", timeZone });
+  const dayLabel = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(new Date(`${date}T12:00:00Z`));
+  const formError = actionData?.error?.[""];
+  return (
+    <div className="mx-auto max-w-2xl space-y-6">
+      <PageHeader title="Book an eye exam" description={`Free times at ${practice}. Times are the practice's local time.`} />
+      {types.length === 0 ? (
+        <Notice tone="info" title="Online booking is not open">
+          Please phone the practice to book.
+        </Notice>
+      ) : (
+        <>
+          <Card title="When">
+            <Form method="get" className="grid gap-4 sm:grid-cols-[1fr_12rem_auto] sm:items-end">
+              <div>
+                <label htmlFor="type" className="mb-1 block text-sm font-semibold">
+                  Kind of visit
+                </label>
+                <Select id="type" name="type" defaultValue={typeId}>
+                  {types.map((t) => (
+                    <option key={t.id} value={t.id}>
+                      {t.name} ({t.durationMinutes} min)
+                    </option>
+                  ))}
+                </Select>
+              </div>
+              <div>
+                <label htmlFor="date" className="mb-1 block text-sm font-semibold">
+                  Day
+                </label>
+                <Input id="date" name="date" type="date" min={today} max={lastDate} defaultValue={params.get("date") ?? date} />
+              </div>
+              <Button type="submit" variant="secondary">
+                Show free times
+              </Button>
+            </Form>
+          </Card>
+          <Card title={`Free times on ${dayLabel}`}>
+            {formError?.length ? (
+              <div className="mb-4">
+                <Notice tone="error" title="Not booked">
+                  {formError.join(" ")}
+                </Notice>
+              </div>
+            ) : null}
+            {slots.length ? (
+              <ul className="grid grid-cols-2 gap-2 sm:grid-cols-3">
+                {slots.map((s) => (
+                  <li key={`${s.providerId}-${s.start}`}>
+                    <Form method="post">
+                      <input type="hidden" name="appointmentTypeId" value={typeId} />
+                      <input type="hidden" name="providerId" value={s.providerId} />
+                      <input type="hidden" name="start" value={s.start} />
+                      <button type="submit" disabled={navigation.state !== "idle"} className={buttonClass("secondary", "w-full flex-col !items-start !gap-0 text-left")}>
+                        <span className="text-base">{time.format(new Date(s.start))}</span>
+                        <span className="text-xs font-normal text-muted">with {s.providerName}</span>
+                      </button>
+                    </Form>
+                  </li>
+                ))}
+              </ul>
+            ) : (
+              <p className="text-muted">No free times that day. Try another day.</p>
+            )}
+            <p className="mt-4 text-sm">
+              <Link to="/portal" className="font-semibold text-accent-700 underline underline-offset-4">
+                Back to my visits
+              </Link>
+            </p>
+          </Card>
+        </>
+      )}
+    </div>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Book an eye exam · Dioptra" }];

@@ -1,0 +1,138 @@
+import { and, asc, desc, eq, gte, inArray, lt, ne, notInArray } from "drizzle-orm";
+import { data } from "react-router";
+import { appointmentChangeRequests, appointments, appointmentTypes, invoices, patients, payments, practiceSettings, providerBreaks, users, workingHours } from "~/db/schema";
+import { addDays, slotsForDay, startOfLocalDay } from "~/lib/scheduling";
+import { requireRole } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+
+/** The signed-in patient and the one patient record they may reach. Anything else is 404. */
+export async function requirePortalPatient(request: Request) {
+  const user = await requireRole(request, ["patient"]);
+  if (!user.patientId) throw data({ error: "This account is not linked to a patient record. Please contact the practice." }, { status: 404 });
+  return { user, patientId: user.patientId };
+}
+
+export async function portalSettings() {
+  const [s] = await db
+    .select({ name: practiceSettings.name, phone: practiceSettings.phone, email: practiceSettings.email, timeZone: practiceSettings.timeZone, currency: practiceSettings.currency, cancelCutoffHours: practiceSettings.portalCancelCutoffHours })
+    .from(practiceSettings)
+    .limit(1);
+  return s ?? { name: "The practice", phone: "", email: "", timeZone: "Europe/London", currency: "GBP", cancelCutoffHours: 24 };
+}
+
+/** One of the patient's own appointments, or 404 (another patient's id reveals nothing). */
+export async function ownAppointment(patientId: string, appointmentId: string) {
+  const [row] = await db.select().from(appointments).where(and(eq(appointments.id, appointmentId), eq(appointments.patientId, patientId)));
+  if (!row) throw data({ error: "Not found." }, { status: 404 });
+  return row;
+}
+
+export async function visitsOf(patientId: string) {
+  const rows = await db
+    .select({
+      id: appointments.id,
+      start: appointments.startsAt,
+      end: appointments.endsAt,
+      status: appointments.status,
+      typeName: appointmentTypes.name,
+      providerName: users.name,
+    })
+    .from(appointments)
+    .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
+    .innerJoin(users, eq(users.id, appointments.providerId))
+    .where(eq(appointments.patientId, patientId))
+    .orderBy(desc(appointments.startsAt))
+    .limit(60);
+  const ids = rows.map((r) => r.id);
+  const open = ids.length
+    ? await db
+        .select({ appointmentId: appointmentChangeRequests.appointmentId, message: appointmentChangeRequests.message })
+        .from(appointmentChangeRequests)
+        .where(and(inArray(appointmentChangeRequests.appointmentId, ids), eq(appointmentChangeRequests.status, "open")))
+    : [];
+  return rows.map((r) => ({ ...r, start: r.start.toISOString(), end: r.end.toISOString(), moveRequest: open.find((o) => o.appointmentId === r.id)?.message ?? null }));
+}
+
+/** Whether the patient may still cancel online: a live, not-yet-started visit before the cut-off. */
+export function cancellable(visit: { start: string | Date; status: string }, cutoffHours: number, now = Date.now()) {
+  const start = new Date(visit.start).getTime();
+  return (visit.status === "booked" || visit.status === "confirmed") && start - now >= cutoffHours * 3_600_000;
+}
+
+export async function invoicesOf(patientId: string) {
+  const list = await db
+    .select({ id: invoices.id, number: invoices.number, status: invoices.status, totalMinor: invoices.totalMinor, paidMinor: invoices.paidMinor, currency: invoices.currency, issuedAt: invoices.issuedAt })
+    .from(invoices)
+    .where(and(eq(invoices.patientId, patientId), ne(invoices.status, "draft")))
+    .orderBy(desc(invoices.issuedAt));
+  const pays = list.length
+    ? await db
+        .select({ id: payments.id, invoiceId: payments.invoiceId, amountMinor: payments.amountMinor, method: payments.method, receivedAt: payments.receivedAt })
+        .from(payments)
+        .where(and(inArray(payments.invoiceId, list.map((i) => i.id)), eq(payments.status, "succeeded")))
+        .orderBy(asc(payments.receivedAt))
+    : [];
+  return list.map((i) => ({ ...i, issuedAt: i.issuedAt?.toISOString() ?? null, payments: pays.filter((p) => p.invoiceId === i.id).map((p) => ({ ...p, receivedAt: p.receivedAt?.toISOString() ?? null })) }));
+}
+
+export async function ownInvoice(patientId: string, invoiceId: string) {
+  const [row] = await db.select({ id: invoices.id, status: invoices.status }).from(invoices).where(and(eq(invoices.id, invoiceId), eq(invoices.patientId, patientId), ne(invoices.status, "draft")));
+  if (!row) throw data({ error: "Not found." }, { status: 404 });
+  return row;
+}
+
+export async function onlineTypes() {
+  return db
+    .select({ id: appointmentTypes.id, name: appointmentTypes.name, durationMinutes: appointmentTypes.durationMinutes, performerRoles: appointmentTypes.performerRoles })
+    .from(appointmentTypes)
+    .where(and(eq(appointmentTypes.active, true), eq(appointmentTypes.onlineBooking, true)))
+    .orderBy(asc(appointmentTypes.name));
+}
+
+export type FreeSlot = { start: string; providerId: string; providerName: string };
+
+/**
+ * Free slots of an online-bookable visit type on one local date: each provider who performs it,
+ * within their working hours and outside breaks, minus live appointments, from an hour from now.
+ * A slot shown here can still be taken by someone else first; the booking itself is guarded by
+ * the database's exclusion constraint.
+ */
+export async function freeSlots(typeId: string, date: string, timeZone: string, now = new Date()): Promise<FreeSlot[]> {
+  const [type] = (await onlineTypes()).filter((t) => t.id === typeId);
+  if (!type) return [];
+  const providers = await db
+    .select({ id: users.id, name: users.name })
+    .from(users)
+    .where(and(eq(users.active, true), inArray(users.role, type.performerRoles)))
+    .orderBy(asc(users.name));
+  if (!providers.length) return [];
+  const ids = providers.map((p) => p.id);
+  const [hours, breaks] = await Promise.all([
+    db.select().from(workingHours).where(inArray(workingHours.providerId, ids)),
+    db.select().from(providerBreaks).where(inArray(providerBreaks.providerId, ids)),
+  ]);
+  const dayStart = startOfLocalDay(date, timeZone);
+  const dayEnd = startOfLocalDay(addDays(date, 1), timeZone);
+  const taken = await db
+    .select({ providerId: appointments.providerId, start: appointments.startsAt, end: appointments.endsAt })
+    .from(appointments)
+    .where(and(inArray(appointments.providerId, ids), lt(appointments.startsAt, dayEnd), gte(appointments.endsAt, dayStart), notInArray(appointments.status, ["cancelled", "no_show"])));
+  const earliest = now.getTime() + 60 * 60_000;
+  const slots: FreeSlot[] = [];
+  for (const p of providers) {
+    const own = <T extends { providerId: string }>(rows: T[]) => rows.filter((r) => r.providerId === p.id);
+    const starts = slotsForDay(date, timeZone, own(hours), own(breaks), type.durationMinutes);
+    for (const s of starts) {
+      const e = s.getTime() + type.durationMinutes * 60_000;
+      if (s.getTime() < earliest) continue;
+      if (own(taken).some((t) => t.start.getTime() < e && t.end.getTime() > s.getTime())) continue;
+      slots.push({ start: s.toISOString(), providerId: p.id, providerName: p.name });
+    }
+  }
+  return slots.sort((a, b) => a.start.localeCompare(b.start) || a.providerName.localeCompare(b.providerName));
+}
+
+export async function patientName(patientId: string) {
+  const [p] = await db.select({ firstName: patients.firstName, lastName: patients.lastName }).from(patients).where(eq(patients.id, patientId));
+  return p ?? null;
+}
