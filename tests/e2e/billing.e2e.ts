@@ -186,4 +186,21 @@ describe("billing in the browser", () => {
     await expectAccessible(owner);
     await screenshot(owner, "settings-fees");
   });
+
+  it("fits a tablet held upright without sideways scrolling", async () => {
+    const tablet = await browser.newPage({ viewport: { width: 810, height: 1080 } });
+    await signIn(tablet, DEMO.receptionist);
+    await tablet.waitForURL((u) => u.pathname === "/");
+    for (const path of ["/billing", "/billing/takings", "/billing/invoices/new"]) {
+      await tablet.goto(path);
+      await ready(tablet);
+      expect(await tablet.evaluate(() => document.documentElement.scrollWidth <= window.innerWidth)).toBe(true);
+    }
+    await tablet.goto("/billing");
+    await tablet.getByRole("link", { name: /^INV-\d{6}$/ }).first().click();
+    await tablet.waitForURL("**/billing/invoices/**");
+    await ready(tablet);
+    expect(await tablet.evaluate(() => document.documentElement.scrollWidth <= window.innerWidth)).toBe(true);
+    await screenshot(tablet, "billing-invoice-tablet");
+  });
 });

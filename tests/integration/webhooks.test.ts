@@ -135,7 +135,7 @@ describe("paying online", () => {
 
   it("flags a payment for the wrong amount instead of accepting it", async () => {
     const { id } = await issuedInvoice([{ priceMinor: 9900 }]);
-    const { sessionId } = await openCheckout(id);
+    const { sessionId, token } = await openCheckout(id);
     const paid = await payOnStandIn(sessionId, { card: CARD_OK, amountTotal: 9800 });
     const completed = await eventOfType(paid.events, "checkout.session.completed");
     expect(await outcome(await deliver(completed.payload))).toMatch(/^flagged: Stripe reports £98.00 paid, but this checkout was for £99.00/);
@@ -144,6 +144,10 @@ describe("paying online", () => {
     const [p] = await db.select().from(payments).where(eq(payments.invoiceId, id));
     expect(p!.status).toBe("flagged");
     expect(p!.problem).toContain("Not accepted");
+    // The patient coming back is told it is being checked, and the invoice still shows the amount due.
+    const page = dataOf<{ attempt: { status: string }; invoice: { due: string } }>(await run(payLoader, makeRequest(`/pay/${token}?checkout=done`), { token }));
+    expect(page.attempt.status).toBe("flagged");
+    expect(page.invoice.due).toBe("£99.00");
   });
 
   it("refuses a bad signature with 400 and changes nothing", async () => {

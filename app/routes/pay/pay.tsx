@@ -105,6 +105,11 @@ export default function PayPage({ loaderData: d, actionData }: Route.ComponentPr
             Nothing was charged and the invoice is still open.
           </Notice>
         ) : null}
+        {d.attempt?.status === "flagged" && !paid ? (
+          <Notice tone="warning" title="Your payment is being checked">
+            The payment service reported an amount that does not match this invoice, so it has not been counted yet. The practice will check it and contact you; please do not pay again meanwhile.
+          </Notice>
+        ) : null}
         {d.invoice.status === "void" ? (
           <Notice tone="warning" title="Cancelled">
             This invoice has been cancelled by the practice; there is nothing to pay.
