@@ -7,6 +7,7 @@ import { beforeAll, describe, expect, it } from "vitest";
 import { action as invoiceAction, loader as invoiceLoader } from "~/routes/billing/invoice";
 import { action as newInvoiceAction, loader as newInvoiceLoader } from "~/routes/billing/invoice-new";
 import { loader as invoicePdfLoader } from "~/routes/billing/invoice-pdf";
+import { loader as receiptPdfLoader } from "~/routes/billing/receipt-pdf";
 import { loader as listLoader } from "~/routes/billing/index";
 import { loader as takingsLoader } from "~/routes/billing/takings";
 import { loader as takingsCsvLoader } from "~/routes/billing/takings-csv";
@@ -256,6 +257,23 @@ describe("PDF", () => {
     expect(text).toContain("£86.58");
     const fonts = execFileSync("pdffonts", [file]).toString();
     expect(fonts).toMatch(/NunitoSans/i);
+  });
+
+  it("renders a receipt for one payment, and none for a payment that has not succeeded", async () => {
+    const { id, number, reception: r } = await issuedInvoice([{ priceMinor: 6500 }]);
+    const { paymentId } = await recordDeskPayment({ invoiceId: id, method: "cash", amountMinor: 2500, reference: "", actorUserId: r.id });
+    const res = (await run(receiptPdfLoader, makeRequest(`/billing/payments/${paymentId}/receipt.pdf`, { cookie: reception }), { paymentId })) as Response;
+    const file = join(mkdtempSync(join(tmpdir(), "rcpt-")), "receipt.pdf");
+    writeFileSync(file, Buffer.from(await res.arrayBuffer()));
+    const text = execFileSync("pdftotext", ["-layout", file, "-"]).toString();
+    expect(text).toContain("RECEIPT");
+    expect(text).toContain("£25.00");
+    expect(text).toContain("Cash");
+    expect(text).toContain(`INV-${String(number).padStart(6, "0")}`);
+    expect(text).toMatch(/Still due on the invoice\s+£40.00/);
+    const patientCookie = await cookieFor("patient");
+    expect(statusOf(await run(receiptPdfLoader, makeRequest(`/billing/payments/${paymentId}/receipt.pdf`, { cookie: patientCookie }), { paymentId }))).toBe(403);
+    expect(statusOf(await run(receiptPdfLoader, makeRequest("/", { cookie: reception }), { paymentId: "00000000-0000-4000-8000-000000000000" }))).toBe(404);
   });
 });
 
