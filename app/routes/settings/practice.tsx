@@ -40,6 +40,7 @@ export const practiceSchema = z.object({
     .regex(/^[A-Z]{3}$/, "Use a three-letter ISO 4217 code such as GBP, EUR or USD."),
   spectacleRxValidityMonths: z.coerce.number({ error: "Give a number of months." }).int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months."),
   contactLensRxValidityMonths: z.coerce.number({ error: "Give a number of months." }).int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months."),
+  portalCancelCutoffHours: z.coerce.number({ error: "Give a number of hours." }).int("Whole hours only.").min(0, "Zero or more hours.").max(336, "At most 336 hours (two weeks)."),
 });
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -48,7 +49,12 @@ export async function loader({ request }: Route.LoaderArgs) {
   if (!settings) throw data({ error: "Practice settings are missing; run the seed." }, { status: 500 });
   const { updatedAt: _u, id: _id, ...values } = settings;
   return {
-    values: { ...values, spectacleRxValidityMonths: String(values.spectacleRxValidityMonths), contactLensRxValidityMonths: String(values.contactLensRxValidityMonths) },
+    values: {
+      ...values,
+      spectacleRxValidityMonths: String(values.spectacleRxValidityMonths),
+      contactLensRxValidityMonths: String(values.contactLensRxValidityMonths),
+      portalCancelCutoffHours: String(values.portalCancelCutoffHours),
+    },
   };
 }
 
@@ -103,6 +109,12 @@ export default function PracticeSettings({ loaderData, actionData }: Route.Compo
               hint="Local law and licensed practice govern this period."
               errors={fields.contactLensRxValidityMonths.errors}
               inputProps={getInputProps(fields.contactLensRxValidityMonths, { type: "number" })}
+            />
+            <Field
+              label="Patients may cancel online until (hours before the visit)"
+              hint="After this, the patient portal asks them to phone."
+              errors={fields.portalCancelCutoffHours.errors}
+              inputProps={getInputProps(fields.portalCancelCutoffHours, { type: "number" })}
             />
           </div>
         </Card>
