@@ -24,7 +24,7 @@ export const DEMO_SCHEDULE_PATIENTS = [
   { firstName: "Osric", lastName: "Pellinore", dateOfBirth: "1962-11-03", sex: "male" as const, email: "osric.pellinore@dioptra-demo.test", phone: "07700 900 418" },
   { firstName: "Marisol", lastName: "Quenby", dateOfBirth: "1988-02-29", sex: "female" as const, email: "marisol.quenby@dioptra-demo.test", phone: "07700 900 527" },
   { firstName: "Tamsin", lastName: "Hollowell", dateOfBirth: "2016-07-21", sex: "female" as const, email: "hollowell.family@dioptra-demo.test", phone: "07700 900 633" },
-  { firstName: "Emeric", lastName: "Vantongeren", dateOfBirth: "1975-09-12", sex: "male" as const, email: "emeric.v@dioptra-demo.test", phone: "07700 900 741", remindersByEmail: false },
+  { firstName: "Emeric", lastName: "Vantongeren", dateOfBirth: "1975-09-12", sex: "male" as const, email: "emeric.v@dioptra-demo.test", phone: "07700 900 741", remindersByEmail: false, recallsByEmail: false },
   { firstName: "Ngozi", lastName: "Farrowdale", dateOfBirth: "1993-05-06", sex: "female" as const, email: "ngozi.farrowdale@dioptra-demo.test", phone: "07700 900 852" },
   { firstName: "Caspian", lastName: "Thornbury", dateOfBirth: "2012-01-30", sex: "male" as const, email: null, phone: "07700 900 963" },
 ];

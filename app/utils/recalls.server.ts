@@ -23,7 +23,8 @@ export type RecallRow = {
   dateOfBirth: string;
   age: number;
   email: string | null;
-  remindersByEmail: boolean;
+  /** The patient accepts recall e-mails (their own choice, apart from appointment reminders). */
+  recallsByEmail: boolean;
   lastVisit: string;
   lastVisitType: string;
   dueDate: string;
@@ -46,7 +47,7 @@ async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
     last_name: string;
     date_of_birth: string;
     email: string | null;
-    reminders_by_email: boolean;
+    recalls_by_email: boolean;
     last_visit: Date;
     type_name: string;
     recall_months: number | null;
@@ -56,7 +57,7 @@ async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
     recall_at: Date | null;
     recall_due: string | null;
   }>(sql`
-    select p.id as patient_id, p.first_name, p.last_name, p.date_of_birth::text as date_of_birth, p.email, p.reminders_by_email,
+    select p.id as patient_id, p.first_name, p.last_name, p.date_of_birth::text as date_of_birth, p.email, p.recalls_by_email,
            lv.starts_at as last_visit, lv.type_name, lv.recall_months, lv.plan_months,
            (select min(a2.starts_at) from appointments a2
              where a2.patient_id = p.id and a2.starts_at > now() and a2.status in ('booked', 'confirmed')) as next_booked,
@@ -91,7 +92,7 @@ async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
       dateOfBirth: r.date_of_birth,
       age: ageOn(r.date_of_birth, today),
       email: r.email,
-      remindersByEmail: r.reminders_by_email,
+      recallsByEmail: r.recalls_by_email,
       lastVisit: examDate,
       lastVisitType: r.type_name,
       dueDate: due.dueDate,
@@ -162,13 +163,13 @@ export async function deliverRecall(recallId: string, job: { retryCount: number;
   try {
     return await db.transaction(async (tx) => {
       const [row] = await tx
-        .select({ recall: recallMessages, firstName: patients.firstName, lastName: patients.lastName, email: patients.email, remindersByEmail: patients.remindersByEmail })
+        .select({ recall: recallMessages, firstName: patients.firstName, lastName: patients.lastName, email: patients.email, recallsByEmail: patients.recallsByEmail })
         .from(recallMessages)
         .innerJoin(patients, eq(patients.id, recallMessages.patientId))
         .where(eq(recallMessages.id, recallId))
         .for("update", { of: recallMessages });
       if (!row || row.recall.status === "sent" || row.recall.status === "skipped") return "already done" as const;
-      const skip = !row.remindersByEmail ? "patient opted out of e-mail" : !row.email ? "no e-mail address on record" : null;
+      const skip = !row.recallsByEmail ? "patient opted out of recall e-mails" : !row.email ? "no e-mail address on record" : null;
       if (skip) {
         await tx.update(recallMessages).set({ status: "skipped", skippedReason: skip }).where(eq(recallMessages.id, recallId));
         return "skipped" as const;

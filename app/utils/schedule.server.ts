@@ -7,9 +7,9 @@ import { and, asc, eq, gt, inArray, lt, ne, sql } from "drizzle-orm";
 import { appointmentMessages, appointments, appointmentStatusChanges, appointmentTypes, exams, patients, providerBreaks, users, workingHours } from "~/db/schema";
 import { checkWorkingHours } from "~/lib/scheduling/hours";
 import { canChangeStatus, isMovable, LIVE_STATUSES, STATUS_LABEL, type Status } from "~/lib/scheduling/status";
-import { formatLocal } from "~/lib/scheduling/time";
+import { formatLocal, zonedIsoFormatter } from "~/lib/scheduling/time";
 import { audit } from "./audit.server";
-import { db, type Tx } from "./db.server";
+import { db, pool, type Tx } from "./db.server";
 import { queueAppointmentMessage, rescheduleReminder } from "./reminders.server";
 import { practiceSchedule } from "./schedule-settings.server";
 
@@ -283,43 +283,40 @@ export async function appointmentsBetween(start: Date, end: Date, opts: { provid
 }
 
 /**
- * The calendar's events as one JSON array built by PostgreSQL (the same shape as `eventJson`):
- * a week of a busy practice is thousands of rows, and building the JSON in the database keeps the
- * API well under its time budget. Times are ISO 8601 with the practice zone's offset.
+ * The calendar's events as one JSON text (the same shape as `eventJson`). A week of a busy
+ * practice is a thousand rows or more, so this reads plain arrays (no ORM mapping, times as epoch
+ * milliseconds) and formats offsets with a per-quarter-hour cache: measured twice as fast as
+ * building the JSON in PostgreSQL or mapping rows through the ORM (tests/bench/appointments.bench.ts).
  */
 export async function calendarEventsJson(start: Date, end: Date, timeZone: string, opts: { providerId?: string; includeCancelled?: boolean } = {}): Promise<string> {
-  const statuses = opts.includeCancelled ? [...LIVE_STATUSES, "no_show", "cancelled"] : [...LIVE_STATUSES, "no_show"];
-  const iso = (col: ReturnType<typeof sql>) => sql`(
-    to_char(${col} at time zone ${timeZone}, 'YYYY-MM-DD"T"HH24:MI:SS') ||
-    (case when (${col} at time zone ${timeZone}) >= (${col} at time zone 'UTC') then '+' else '-' end) ||
-    to_char(abs(extract(epoch from (${col} at time zone ${timeZone}) - (${col} at time zone 'UTC')))::int / 3600, 'FM00') || ':' ||
-    to_char((abs(extract(epoch from (${col} at time zone ${timeZone}) - (${col} at time zone 'UTC')))::int % 3600) / 60, 'FM00'))`;
-  const result = await db.execute<{ events: string }>(sql`
-    select coalesce(json_agg(json_build_object(
-        'id', a.id,
-        'title', p.first_name || ' ' || p.last_name || ' · ' || t.name,
-        'start', ${iso(sql`a.starts_at`)},
-        'end', ${iso(sql`a.ends_at`)},
-        'editable', a.status in ('booked', 'confirmed'),
-        'classNames', json_build_array('appt-' || a.status),
-        'extendedProps', json_build_object(
-          'status', a.status,
-          'statusLabel', ${JSON.stringify(STATUS_LABEL)}::jsonb ->> a.status::text,
-          'providerId', a.provider_id,
-          'providerName', u.name,
-          'patientId', a.patient_id,
-          'patientName', p.first_name || ' ' || p.last_name,
-          'typeName', t.name,
-          'localDate', to_char(a.starts_at at time zone ${timeZone}, 'YYYY-MM-DD'))
-      ) order by a.starts_at, a.id), '[]')::text as events
-      from appointments a
-      join patients p on p.id = a.patient_id
-      join users u on u.id = a.provider_id
-      join appointment_types t on t.id = a.appointment_type_id
-     where a.starts_at < ${end.toISOString()}::timestamptz
-       and a.ends_at > ${start.toISOString()}::timestamptz
-       and a.starts_at > ${new Date(start.getTime() - 8 * 3_600_000).toISOString()}::timestamptz
-       and a.status::text in (${sql.join(statuses.map((s) => sql`${s}`), sql`, `)})
-       ${opts.providerId ? sql`and a.provider_id = ${opts.providerId}::uuid` : sql``}`);
-  return result.rows[0]?.events ?? "[]";
+  const statuses: string[] = opts.includeCancelled ? [...LIVE_STATUSES, "no_show", "cancelled"] : [...LIVE_STATUSES, "no_show"];
+  const values: unknown[] = [end.toISOString(), start.toISOString(), new Date(start.getTime() - 8 * 3_600_000).toISOString(), statuses];
+  if (opts.providerId) values.push(opts.providerId);
+  const result = await pool.query<string[]>({
+    text: `select a.id, (extract(epoch from a.starts_at) * 1000)::bigint::text, (extract(epoch from a.ends_at) * 1000)::bigint::text,
+                  a.status::text, a.provider_id, u.name, a.patient_id, p.first_name || ' ' || p.last_name, t.name
+             from appointments a
+             join patients p on p.id = a.patient_id
+             join users u on u.id = a.provider_id
+             join appointment_types t on t.id = a.appointment_type_id
+            where a.starts_at < $1 and a.ends_at > $2 and a.starts_at > $3 and a.status::text = any($4)
+              ${opts.providerId ? "and a.provider_id = $5" : ""}
+            order by a.starts_at, a.id`,
+    values,
+    rowMode: "array",
+  });
+  const iso = zonedIsoFormatter(timeZone);
+  const events = result.rows.map(([id, s, e, status, providerId, providerName, patientId, patientName, typeName]) => {
+    const startIso = iso(Number(s));
+    return {
+      id,
+      title: `${patientName} · ${typeName}`,
+      start: startIso,
+      end: iso(Number(e)),
+      editable: status === "booked" || status === "confirmed",
+      classNames: [`appt-${status}`],
+      extendedProps: { status, statusLabel: STATUS_LABEL[status as Status], providerId, providerName, patientId, patientName, typeName, localDate: startIso.slice(0, 10) },
+    };
+  });
+  return JSON.stringify(events);
 }

@@ -123,7 +123,13 @@ describe("the schedule in the browser", () => {
     await desk.goto("/schedule/recalls");
     await expect.poll(() => desk.getByRole("heading", { level: 1 }).textContent()).toBe("Recalls");
     await expectAccessible(desk);
+    // Bulk send to one demo patient who is due: the progress bar fills and the recall is e-mailed.
+    await desk.getByRole("checkbox", { name: "Choose Osric Pellinore" }).check();
+    await desk.getByRole("button", { name: "Send recall e-mails (1)" }).click();
+    await expect.poll(() => desk.getByTestId("recall-progress").textContent(), { timeout: 20_000 }).toMatch(/1 of 1 done.*1 sent.*finished/);
+    await expectAccessible(desk);
     await screenshot(desk, "schedule-recalls");
+    await expect.poll(async () => (await mailTo("osric.pellinore@dioptra-demo.test")).map((m) => m.subject).join("|")).toMatch(/Your eye examination is due/);
     const owner = await browser.newPage();
     await signIn(owner, DEMO.owner);
     await owner.waitForURL((u) => u.pathname === "/");

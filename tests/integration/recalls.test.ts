@@ -44,7 +44,8 @@ describe("recall list", () => {
   it("sends recalls in bulk with progress, records each, never twice for the same due date, and skips opted-out patients", async () => {
     const a = await newPatient({ dateOfBirth: "1965-01-01" });
     const b = await newPatient({ dateOfBirth: "1966-01-01" });
-    const out = await newPatient({ dateOfBirth: "1967-01-01", remindersByEmail: false });
+    // Takes appointment reminders but not recalls: the two choices are apart.
+    const out = await newPatient({ dateOfBirth: "1967-01-01", recallsByEmail: false });
     for (const [i, p] of [a, b, out].entries()) await examAgo(p.id, 30, 10 + i);
     const cookie = await cookieFor("receptionist");
     const page = dataOf<{ rows: { patientId: string }[] }>(await run(recallsLoader, makeRequest(`/schedule/recalls?dueBy=${today}`, { cookie })));

@@ -37,6 +37,15 @@ describe("wall-clock times in Europe/London across daylight-saving changes", () 
     expect(toZonedIso(new Date("2027-01-04T09:00:00Z"), LONDON)).toBe("2027-01-04T09:00:00+00:00");
   });
 
+  it("formats many instants fast with the same result as the exact formatter, across both changes and other zones", async () => {
+    const { zonedIsoFormatter } = await import("./time");
+    for (const tz of [LONDON, "America/New_York", "Asia/Kolkata", "Australia/Lord_Howe", "UTC"]) {
+      const fast = zonedIsoFormatter(tz);
+      for (let t = Date.UTC(2027, 2, 27); t < Date.UTC(2027, 2, 29); t += 7 * 60_000) expect(fast(t)).toBe(toZonedIso(new Date(t), tz));
+      for (let t = Date.UTC(2027, 9, 30); t < Date.UTC(2027, 10, 1); t += 7 * 60_000) expect(fast(t)).toBe(toZonedIso(new Date(t), tz));
+    }
+  });
+
   it("reads local day, weekday and minute of an instant", () => {
     expect(localParts(new Date("2027-03-28T23:30:00Z"), LONDON)).toEqual({ date: "2027-03-29", weekday: 1, minute: 30 });
     expect(localParts(new Date("2027-10-31T23:30:00Z"), LONDON)).toEqual({ date: "2027-10-31", weekday: 7, minute: 23 * 60 + 30 });

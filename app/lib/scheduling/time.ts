@@ -106,3 +106,29 @@ export function isValidTimeZone(tz: string): boolean {
     return false;
   }
 }
+
+/**
+ * A fast `toZonedIso` for many instants: the zone's offset is looked up once per quarter hour of
+ * UTC (offsets only change on quarter hours), so a week of events costs a few hundred look-ups.
+ */
+export function zonedIsoFormatter(timeZone: string): (ms: number) => string {
+  const fmt = new Intl.DateTimeFormat("en-GB", { timeZone, year: "numeric", month: "2-digit", day: "2-digit", hour: "2-digit", minute: "2-digit", hourCycle: "h23" });
+  const cache = new Map<number, number>();
+  const offsetMinutes = (ms: number) => {
+    // Offsets change on whole quarter hours of UTC; keying by quarter hour is exact for every zone.
+    const q = Math.floor(ms / 900_000);
+    let o = cache.get(q);
+    if (o === undefined) {
+      const p: Record<string, string> = {};
+      for (const part of fmt.formatToParts(new Date(q * 900_000))) p[part.type] = part.value;
+      o = Math.round((Date.UTC(+p.year!, +p.month! - 1, +p.day!, +p.hour! % 24, +p.minute!) - q * 900_000) / 60_000);
+      cache.set(q, o);
+    }
+    return o;
+  };
+  return (ms: number) => {
+    const o = offsetMinutes(ms);
+    const a = Math.abs(o);
+    return `${new Date(ms + o * 60_000).toISOString().slice(0, 19)}${o >= 0 ? "+" : "-"}${pad(Math.floor(a / 60))}:${pad(a % 60)}`;
+  };
+}

@@ -19,7 +19,8 @@ export function formatDob(d: string) {
 }
 
 function PatientPicker({ initial, errors }: { initial: PatientOption | null; errors?: string[] }) {
-  const search = useFetcher<{ results: PatientOption[] }>();
+  // The same search as the patients list (GET /api/patients?q=).
+  const search = useFetcher<{ results: { id: string; firstName: string; lastName: string; dateOfBirth: string; email: string | null }[] }>();
   const register = useFetcher<{ patient?: PatientOption; error?: string; fieldErrors?: Record<string, string[]> }>();
   const [q, setQ] = useState("");
   const [chosen, setChosen] = useState<PatientOption | null>(initial);
@@ -29,7 +30,7 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
 
   useEffect(() => {
     if (q.trim().length < 2) return;
-    const t = setTimeout(() => search.load(`/api/schedule-patients?q=${encodeURIComponent(q.trim())}`), 200);
+    const t = setTimeout(() => search.load(`/api/patients?q=${encodeURIComponent(q.trim())}`), 200);
     return () => clearTimeout(t);
     // eslint-disable-next-line react-hooks/exhaustive-deps
   }, [q]);
@@ -43,7 +44,7 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
     }
   }, [register.data]);
 
-  const found = q.trim().length >= 2 ? (search.data?.results ?? []) : [];
+  const found: PatientOption[] = q.trim().length >= 2 ? (search.data?.results ?? []).map((r) => ({ id: r.id, name: `${r.firstName} ${r.lastName}`, dateOfBirth: r.dateOfBirth, email: r.email })) : [];
   const options = [...extra, ...found.filter((f) => !extra.some((e) => e.id === f.id))];
   const regErrors = register.data?.fieldErrors ?? {};
 

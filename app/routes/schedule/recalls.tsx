@@ -75,7 +75,7 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
   const send = useFetcher<typeof action>();
   const revalidator = useRevalidator();
   const [selected, setSelected] = useState<Set<string>>(new Set());
-  const emailable = rows.filter((r) => r.email && r.remindersByEmail);
+  const emailable = rows.filter((r) => r.email && r.recallsByEmail);
   useEffect(() => setSelected(new Set()), [rows]);
   const allChecked = emailable.length > 0 && emailable.every((r) => selected.has(r.patientId));
   const batch = send.data?.batch;
@@ -162,7 +162,7 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
                 </thead>
                 <tbody className="divide-y divide-line">
                   {rows.map((r) => {
-                    const canEmail = Boolean(r.email && r.remindersByEmail);
+                    const canEmail = Boolean(r.email && r.recallsByEmail);
                     return (
                       <tr key={r.patientId}>
                         <td className="py-2 pr-3">
@@ -203,7 +203,7 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
                         </td>
                         <td className="py-2">
                           {!canEmail ? (
-                            <StatusBadge tone="warning">{r.email ? "Opted out of e-mail" : "No e-mail address"}</StatusBadge>
+                            <StatusBadge tone="warning">{r.email ? "Opted out of recall e-mails" : "No e-mail address"}</StatusBadge>
                           ) : r.lastRecall ? (
                             <StatusBadge tone={r.lastRecall.status === "sent" ? "success" : r.lastRecall.status === "failed" ? "error" : "info"}>
                               {r.lastRecall.status === "sent" ? "Recall sent" : r.lastRecall.status === "failed" ? "Recall failed" : r.lastRecall.status === "skipped" ? "Recall not sent" : "Recall waiting"}
