@@ -475,6 +475,12 @@ describe("sending and the recipient's link", () => {
     expect((await referralsForChart(patient.id, { clinical: false }))[0]!.replies[0]!.body).toBeNull();
     const notices = await mailTo(OPTOM);
     expect(notices.some((m) => m.subject.includes("Reply received") && m.text.includes(`/referrals/${id}`))).toBe(true);
+    // Opening the referral marks the reply read, once.
+    const first = dataOf<{ replies: { isNew: boolean }[] }>(await run(referralLoader, makeRequest(`/referrals/${id}`, { cookie }), { referralId: id }));
+    expect(first.replies.map((x) => x.isNew)).toEqual([true]);
+    const again = dataOf<{ replies: { isNew: boolean }[] }>(await run(referralLoader, makeRequest(`/referrals/${id}`, { cookie }), { referralId: id }));
+    expect(again.replies.map((x) => x.isNew)).toEqual([false]);
+    expect((await db.select().from(referralReplies).where(eq(referralReplies.referralId, id)))[0]!.readById).toBe((await userByEmail(OPTOM)).id);
     const actions = (await db.select({ action: auditLog.action }).from(auditLog).where(eq(auditLog.entityId, id))).map((r) => r.action);
     expect(actions).toEqual(expect.arrayContaining(["referral.link_acknowledged", "referral.link_appointment_set", "referral.link_replied"]));
   });

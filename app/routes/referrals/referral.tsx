@@ -57,7 +57,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       .orderBy(asc(referralEvents.at), asc(referralEvents.id)),
     clinical
       ? db
-          .select({ id: referralReplies.id, authorName: referralReplies.authorName, body: referralReplies.body, fileName: referralReplies.fileName, createdAt: referralReplies.createdAt })
+          .select({ id: referralReplies.id, authorName: referralReplies.authorName, body: referralReplies.body, fileName: referralReplies.fileName, createdAt: referralReplies.createdAt, readAt: referralReplies.readAt })
           .from(referralReplies)
           .where(eq(referralReplies.referralId, r.referral.id))
           .orderBy(asc(referralReplies.createdAt))
@@ -89,13 +89,16 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   if (!clinical) return { clinical: false as const, summary };
 
   await audit({ action: "referral.read", actorUserId: user.id, entityType: "referral", entityId: r.referral.id, patientId: r.patient.id, request });
+  // Replies count as read once a clinician has opened the referral.
+  const unread = new Set(replies.filter((x) => !x.readAt).map((x) => x.id));
+  if (unread.size) await db.update(referralReplies).set({ readAt: now, readById: user.id }).where(and(eq(referralReplies.referralId, r.referral.id), isNull(referralReplies.readAt)));
   const selected = new Set(r.referral.selectedFindings);
   const base = {
     clinical: true as const,
     summary,
     examUrl: `/patients/${r.patient.id}/exams/${r.referral.examId}`,
     examSigned: r.examStatus === "signed",
-    replies: replies.map((x) => ({ ...x, createdAt: when(x.createdAt) })),
+    replies: replies.map(({ readAt: _r, ...x }) => ({ ...x, createdAt: when(x.createdAt), isNew: unread.has(x.id) })),
     preview: new URL(request.url).searchParams.get("preview") === "1",
   };
   if (r.referral.status !== "draft") {
@@ -421,7 +424,8 @@ export default function ReferralPage({ loaderData, actionData }: Route.Component
               <ul className="space-y-4">
                 {loaderData.replies.map((x) => (
                   <li key={x.id} className="rounded-md border border-line p-4">
-                    <p className="text-sm text-muted">
+                    <p className="flex flex-wrap items-center gap-2 text-sm text-muted">
+                      {x.isNew ? <StatusBadge tone="info">New</StatusBadge> : null}
                       From {x.authorName} · {x.createdAt}
                     </p>
                     {x.body ? <p className="mt-2 whitespace-pre-wrap">{x.body}</p> : null}
