@@ -247,6 +247,10 @@ describe("concurrency", () => {
     expect(await db.select().from(referralMessages).where(eq(referralMessages.referralId, id))).toHaveLength(1);
     expect(await db.select().from(referralLinks).where(eq(referralLinks.referralId, id))).toHaveLength(1);
     expect(await mailTo(rec.email!)).toHaveLength(1);
+    // The database holds the line too: one letter per referral, one live link.
+    const refusal = async (write: Promise<unknown>) => write.then(() => "written", (e: { cause?: { constraint?: string } }) => e.cause?.constraint);
+    expect(await refusal(db.insert(referralMessages).values({ referralId: id, kind: "letter", recipient: rec.email! }))).toBe("referral_messages_one_letter_uq");
+    expect(await refusal(db.insert(referralLinks).values({ referralId: id, expiresAt: new Date(Date.now() + 86400_000) }))).toBe("referral_links_one_live_uq");
   });
 });
 

@@ -144,7 +144,11 @@ export const referralLinks = pgTable(
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
     lastOpenedAt: timestamp({ withTimezone: true }),
   },
-  (t) => [index("referral_links_referral_idx").on(t.referralId)],
+  (t) => [
+    index("referral_links_referral_idx").on(t.referralId),
+    // At most one live link per referral: issuing a new one revokes the old in the same transaction.
+    uniqueIndex("referral_links_one_live_uq").on(t.referralId).where(sql`${t.revokedAt} is null`),
+  ],
 );
 
 export const referralMessageKindEnum = pgEnum("referral_message_kind", ["letter", "chase", "reply_notice"]);
@@ -167,7 +171,11 @@ export const referralMessages = pgTable(
     sentAt: timestamp({ withTimezone: true }),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
-  (t) => [index("referral_messages_referral_idx").on(t.referralId, t.createdAt)],
+  (t) => [
+    index("referral_messages_referral_idx").on(t.referralId, t.createdAt),
+    // The letter itself is queued once per referral (a retry reuses its row).
+    uniqueIndex("referral_messages_one_letter_uq").on(t.referralId).where(sql`${t.kind} = 'letter'`),
+  ],
 );
 
 /** The referral's own timeline (drafted, sent, opened, acknowledged, replied, chased…). Append-only. */

@@ -1,0 +1,2 @@
+CREATE UNIQUE INDEX "referral_links_one_live_uq" ON "referral_links" USING btree ("referral_id") WHERE "referral_links"."revoked_at" is null;--> statement-breakpoint
+CREATE UNIQUE INDEX "referral_messages_one_letter_uq" ON "referral_messages" USING btree ("referral_id") WHERE "referral_messages"."kind" = 'letter';
