@@ -4,13 +4,16 @@ import { env } from "./env.server";
 /** Port of the local Stripe stand-in (app/standins/stripe-server.ts) when nothing else is set. */
 export const STRIPE_STANDIN_DEFAULT = { host: "127.0.0.1", port: 12111, protocol: "http" as const };
 
+/** The stand-in's own test key: the default when STRIPE_SECRET_KEY is not set. */
+export const STANDIN_SECRET_KEY = "sk_test_dioptra_local_standin";
+
 /**
  * Where the SDK talks to: STRIPE_API_HOST/PORT/PROTOCOL when set; otherwise the local stand-in
- * outside production (development, tests, demo mode); otherwise real Stripe.
+ * while no real key is configured; otherwise (a real key, no host) real Stripe.
  */
 export function stripeEndpoint(): { host: string; port: number; protocol: "http" | "https" } | null {
   if (env.STRIPE_API_HOST) return { host: env.STRIPE_API_HOST, port: env.STRIPE_API_PORT ?? (env.STRIPE_API_PROTOCOL === "http" ? 80 : 443), protocol: env.STRIPE_API_PROTOCOL ?? "https" };
-  if (env.NODE_ENV !== "production" || env.DIOPTRA_DEMO) return STRIPE_STANDIN_DEFAULT;
+  if (env.STRIPE_SECRET_KEY === STANDIN_SECRET_KEY) return STRIPE_STANDIN_DEFAULT;
   return null;
 }
 
