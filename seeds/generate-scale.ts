@@ -1,5 +1,5 @@
 /**
- * Fills a separate database (default `dioptra_bench`, never the demo database) with a large
+ * Fills a separate database (default `dioptra_bench_chart`, never the demo database) with a large
  * fictional practice for the benchmark: 100,000 patients and 1,000,000 signed exams with final
  * refractions, generated inside PostgreSQL with INSERT … SELECT generate_series.
  *
@@ -15,7 +15,7 @@ import { runMigrations } from "../app/ops/migrate";
 import { databaseUrl } from "../app/utils/db-url";
 import { seed } from "./seed";
 
-const DB = process.env.SCALE_DB ?? "dioptra_bench";
+const DB = process.env.SCALE_DB ?? "dioptra_bench_chart";
 const PATIENTS = Number(process.env.SCALE_PATIENTS ?? 100_000);
 const EXAMS_PER_PATIENT = Number(process.env.SCALE_EXAMS_PER_PATIENT ?? 10);
 if (!/^[a-z_][a-z0-9_]*$/.test(DB) || DB === "dioptra") throw new Error(`Refusing to generate into database "${DB}"`);

@@ -33,6 +33,10 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   const p = await patientOr404(params.patientId);
   const clinical = (CLINICAL_ROLES as readonly string[]).includes(user.role);
+  // The read is recorded while the chart is gathered (the insert's commit overlaps the reads);
+  // the page is answered only once the audit row is written.
+  const audited = audit({ action: "chart.read", actorUserId: user.id, entityType: "patient", entityId: p.id, patientId: p.id, detail: { view: clinical ? "clinical" : "front desk" }, request });
+  audited.catch(() => undefined);
   const clinicalData = clinical ? Promise.all([examsOf(p.id), documentsOf(p.id), refractionHistory(p.id), latestPrompts(p.id), referralsForChart(p.id, { clinical: true })]) : null;
   clinicalData?.catch(() => undefined); // awaited below; this keeps an early failure elsewhere from leaving it unobserved
   const [appointments, invoices, prescriptions] = await Promise.all([appointmentsOf(p.id), invoicesOf(p.id), prescriptionsOf(p.id)]);
@@ -50,11 +54,11 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const today = new Date().toISOString().slice(0, 10);
   const rx = prescriptions.map((r) => ({ ...r, current: r.expiresOn >= today }));
   if (!clinical) {
-    await audit({ action: "chart.read", actorUserId: user.id, entityType: "patient", entityId: p.id, patientId: p.id, detail: { view: "front desk" }, request });
+    await audited;
     return { clinical: false as const, patient: demographics, appointments, invoices, prescriptions: rx };
   }
   const [exams, documents, history, prompts, referrals] = await clinicalData!;
-  await audit({ action: "chart.read", actorUserId: user.id, entityType: "patient", entityId: p.id, patientId: p.id, detail: { view: "clinical" }, request });
+  await audited;
   return {
     clinical: true as const,
     patient: { ...demographics, allergies: p.allergies, medications: p.medications },

@@ -12,8 +12,8 @@ import { listPatients } from "./patients.server";
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, STAFF_ROLES);
   const query = listQuerySchema.parse(Object.fromEntries(new URL(request.url).searchParams));
-  const { rows, total } = await listPatients(query);
-  return { query, total, rows: rows.map((r) => ({ ...r, lastExamAt: r.lastExamAt?.toISOString() ?? null })) };
+  const { rows, total, totalIsExact } = await listPatients(query);
+  return { query, total, totalIsExact, rows: rows.map((r) => ({ ...r, lastExamAt: r.lastExamAt?.toISOString() ?? null })) };
 }
 
 type Row = Awaited<ReturnType<typeof loader>>["rows"][number];
@@ -42,7 +42,7 @@ function hrefWith(params: URLSearchParams, changes: Partial<Record<keyof ListQue
 }
 
 export default function Patients({ loaderData }: Route.ComponentProps) {
-  const { query, rows, total } = loaderData;
+  const { query, rows, total, totalIsExact } = loaderData;
   const [params] = useSearchParams();
   const sorting: SortingState = [{ id: query.sort, desc: query.dir === "desc" }];
   const table = useReactTable({
@@ -55,7 +55,7 @@ export default function Patients({ loaderData }: Route.ComponentProps) {
     rowCount: total,
     state: { sorting, pagination: { pageIndex: query.page - 1, pageSize: query.size } },
   });
-  const pages = Math.max(1, Math.ceil(total / query.size));
+  const pages = Math.max(1, Math.ceil(total / query.size)) + (totalIsExact ? 0 : 1);
   const first = total ? (query.page - 1) * query.size + 1 : 0;
   const last = Math.min(total, query.page * query.size);
 
@@ -156,7 +156,8 @@ export default function Patients({ loaderData }: Route.ComponentProps) {
       </div>
       <nav aria-label="Pages" className="mt-4 flex flex-wrap items-center justify-between gap-4 text-sm">
         <p>
-          {first}–{last} of {total.toLocaleString("en-GB")} · page {query.page} of {pages.toLocaleString("en-GB")}
+          {first}–{last} of {totalIsExact ? total.toLocaleString("en-GB") : `more than ${total.toLocaleString("en-GB")}`} · page {query.page}
+          {totalIsExact ? ` of ${pages.toLocaleString("en-GB")}` : ""}
         </p>
         <div className="flex gap-2">
           {query.page > 1 ? (

@@ -54,7 +54,10 @@ export async function searchPatients(q: string, limit = 8): Promise<PatientHit[]
     .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth, phone: patients.phone, email: patients.email })
     .from(patients)
     .where(where)
-    .orderBy(asc(patients.lastName), asc(patients.firstName), asc(patients.dateOfBirth), asc(patients.id))
+    // Ordered by lower(name), which no index provides: otherwise the planner may walk the whole
+    // name index filtering on search_text (measured 130 ms at 100,000 patients) instead of
+    // taking the trigram index's matches and sorting them (a few ms).
+    .orderBy(sql`lower(${patients.lastName})`, sql`lower(${patients.firstName})`, asc(patients.dateOfBirth), asc(patients.id))
     .limit(limit);
 }
 
@@ -74,7 +77,10 @@ export async function listPatients(query: ListQuery) {
         ? [query.dir === "desc" ? sql`${patients.lastExamAt} desc nulls last` : sql`${patients.lastExamAt} asc nulls first`, d(patients.id)]
         : query.sort === "created"
           ? [d(patients.createdAt), d(patients.id)]
-          : [d(patients.lastName), d(patients.firstName), d(patients.dateOfBirth), d(patients.id)];
+          : query.q
+            ? [d(sql`lower(${patients.lastName})`), d(sql`lower(${patients.firstName})`), d(patients.dateOfBirth), d(patients.id)] // see searchPatients
+            : [d(patients.lastName), d(patients.firstName), d(patients.dateOfBirth), d(patients.id)];
+  const cap = (query.page + 10) * query.size + 1;
   const [rows, [total]] = await Promise.all([
     db
       .select({
@@ -91,9 +97,12 @@ export async function listPatients(query: ListQuery) {
       .orderBy(...order)
       .limit(query.size)
       .offset((query.page - 1) * query.size),
-    db.select({ n: count() }).from(patients).where(where),
+    // Counted only up to ten pages past this one: an exact count of a large table costs more than
+    // the page itself, and "more than 2,750" is all a pager needs.
+    db.select({ n: count() }).from(db.select({ one: sql`1` }).from(patients).where(where).limit(cap).as("capped")),
   ]);
-  return { rows, total: total?.n ?? 0 };
+  const n = total?.n ?? 0;
+  return { rows, total: Math.min(n, cap - 1), totalIsExact: n < cap };
 }
 
 /** Patients with the same name (case-insensitive) and date of birth: likely the same person. */
