@@ -1,7 +1,7 @@
 import pg from "pg";
 import type { Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
-import { DEMO, expectAccessible, mailTo, screenshot, signIn, useBrowser } from "./fixtures";
+import { baseUrl, DEMO, expectAccessible, mailTo, screenshot, signIn, useBrowser } from "./fixtures";
 
 const browser = useBrowser();
 /** Waits until the page's scripts have loaded (hydrated), so typing is not undone and clicks are handled by the app. */
@@ -202,5 +202,32 @@ describe("billing in the browser", () => {
     await ready(tablet);
     expect(await tablet.evaluate(() => document.documentElement.scrollWidth <= window.innerWidth)).toBe(true);
     await screenshot(tablet, "billing-invoice-tablet");
+  });
+});
+
+describe("the webhook endpoint over HTTP", () => {
+  const standIn = () => `http://127.0.0.1:${inject("stripePort")}`;
+
+  it("refuses an unsigned or forged event with 400", async () => {
+    const body = JSON.stringify({ id: "evt_forged", type: "checkout.session.completed", created: Math.floor(Date.now() / 1000), data: { object: {} } });
+    const unsigned = await fetch(`${baseUrl()}/api/webhooks/stripe`, { method: "POST", headers: { "content-type": "application/json" }, body });
+    expect(unsigned.status).toBe(400);
+    const forged = await fetch(`${baseUrl()}/api/webhooks/stripe`, { method: "POST", headers: { "content-type": "application/json", "stripe-signature": `t=${Math.floor(Date.now() / 1000)},v1=${"0".repeat(64)}` }, body });
+    expect(forged.status).toBe(400);
+    expect(((await forged.json()) as { error: string }).error).toMatch(/Webhook refused/);
+    expect((await client.query("select 1 from stripe_events where id = 'evt_forged'")).rowCount).toBe(0);
+  });
+
+  it("answers the stand-in's replay of a delivered payment event as a duplicate, changing nothing", async () => {
+    const events = (await (await fetch(`${standIn()}/_standin/events`)).json()) as { id: string; type: string; deliveries: { status: number }[] }[];
+    const completed = events.find((e) => e.type === "checkout.session.completed" && e.deliveries.some((d) => d.status === 200));
+    expect(completed).toBeTruthy();
+    const before = await client.query("select sum(paid_minor)::int as paid, (select count(*)::int from payments where status = 'succeeded') as n from invoices");
+    const replay = (await (await fetch(`${standIn()}/_standin/events/${completed!.id}/deliver`, { method: "POST" })).json()) as { deliveries: { status: number }[] };
+    expect(replay.deliveries.at(-1)!.status).toBe(200);
+    const after = await client.query("select sum(paid_minor)::int as paid, (select count(*)::int from payments where status = 'succeeded') as n from invoices");
+    expect(after.rows[0]).toEqual(before.rows[0]);
+    const [row] = (await client.query("select outcome from stripe_events where id = $1", [completed!.id])).rows;
+    expect(row.outcome).toBe("payment succeeded");
   });
 });
