@@ -30,6 +30,17 @@ describe("the optometrist's day: patients, chart, exam, prescription, upload", (
     await expectAccessible(page);
     await screenshot(page, "chart-front-desk");
 
+    await page.getByRole("link", { name: "Edit details" }).click();
+    await page.waitForURL(/\/edit$/);
+    await page.getByLabel("Phone").fill("call me maybe");
+    await page.getByRole("button", { name: "Save details" }).click();
+    await expect.poll(() => page.getByText("Use digits, spaces and + ( ) - only.").count()).toBe(1);
+    await expectAccessible(page);
+    await page.getByLabel("Phone").fill("07700 900 285");
+    await page.getByRole("button", { name: "Save details" }).click();
+    await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
+    await expect.poll(() => page.getByText("07700 900 285").count()).toBeGreaterThan(0);
+
     await page.goto("/patients/new");
     await page.getByLabel("First name").fill("ottoline");
     await page.getByLabel("Last name").fill(last);

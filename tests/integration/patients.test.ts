@@ -118,6 +118,12 @@ describe("register and edit", () => {
     expect(res.status).toBe(302);
     const [after] = await db.select().from(patients).where(eq(patients.id, p.id));
     expect(after).toMatchObject({ phone: "07700 900 111", allergies: "Penicillin" });
+    const bad = await run(editAction, makeRequest(`/patients/${p.id}/edit`, { cookie, form: { firstName: "", lastName: p.lastName, dateOfBirth: "1990-02-30" } }), { patientId: p.id });
+    expect(statusOf(bad)).toBe(400);
+    expect(Object.keys(dataOf<{ error: Record<string, string[]> }>(bad).error).sort()).toEqual(["dateOfBirth", "firstName"]);
+    expect(statusOf(await run(editAction, makeRequest(`/patients/${p.id}/edit`, { cookie: await cookieFor("patient"), form: { firstName: "X", lastName: "Y", dateOfBirth: "1990-01-01" } }), { patientId: p.id }))).toBe(403);
+    const [unchanged] = await db.select().from(patients).where(eq(patients.id, p.id));
+    expect(unchanged!.firstName).toBe(p.firstName);
     expect(statusOf(await run(editLoader, makeRequest(`/patients/x/edit`, { cookie }), { patientId: "not-a-uuid" }))).toBe(404);
     expect(statusOf(await run(editLoader, makeRequest(`/patients/x/edit`, { cookie }), { patientId: "00000000-0000-4000-8000-000000000000" }))).toBe(404);
   });
@@ -152,6 +158,11 @@ describe("chart", () => {
     expect(statusOf(await run(chartLoader, makeRequest(`/patients/${other.id}`, { cookie }), { patientId: other.id }))).toBe(403);
     expect(statusOf(await run(chartLoader, makeRequest(`/patients/${me.patientId}`, { cookie }), { patientId: me.patientId! }))).toBe(403);
     expect(statusOf(await run(chartLoader, makeRequest(`/patients/1`, { cookie: await cookieFor("owner") }), { patientId: "00000000-0000-4000-8000-000000000000" }))).toBe(404);
+  });
+
+  it("answers an unknown chart action with 400", async () => {
+    const p = await makePatient();
+    expect(statusOf(await run(chartAction, makeRequest(`/patients/${p.id}`, { cookie: await cookieFor("owner"), form: { intent: "delete-everything" } }), { patientId: p.id }))).toBe(400);
   });
 
   it("lets only clinical roles start an exam", async () => {
