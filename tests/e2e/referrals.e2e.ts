@@ -70,9 +70,14 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
 
     await page.getByLabel("Send to").selectOption({ label: "Mr Lucan Ferreira-Holt, Brackenford Eye Unit" });
     await page.getByLabel("Letter text").fill(`Thank you for seeing ${candidate.name}. Raised pressure and an enlarged blind spot in the right eye; I would value your assessment.`);
-    await page.getByRole("button", { name: "Save draft and preview" }).click();
-    await page.waitForURL(/\?preview=1/);
+    // The address already ends in ?preview=1: wait for the save itself and the page it leads to.
+    await Promise.all([
+      page.waitForResponse((r) => r.request().method() === "POST" && r.url().includes(`/referrals/${referralId}`)),
+      page.getByRole("button", { name: "Save draft and preview" }).click(),
+    ]);
+    await poll(() => page.getByText("Draft saved").count()).toBeGreaterThan(0);
     await poll(() => page.getByTitle("Referral letter preview (PDF)").count()).toBe(1);
+    await poll(() => page.getByLabel("Send to").inputValue()).not.toBe("");
     // The preview is the letter PDF with the exam's values.
     const preview = await page.request.get(`/referrals/${referralId}/letter.pdf`);
     expect(preview.headers()["content-type"]).toBe("application/pdf");

@@ -29,7 +29,10 @@ export async function loader({ request }: Route.LoaderArgs) {
   }
   if (!isUuid(examId)) throw data({ error: "Not found." }, { status: 404 });
   const exam = await referableExam(examId);
-  const [patient] = await db.select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth }).from(patients).where(eq(patients.id, exam.patientId));
+  const [patient] = await db
+    .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth, medications: patients.medications, allergies: patients.allergies })
+    .from(patients)
+    .where(eq(patients.id, exam.patientId));
   await audit({ action: "referral.compose_opened", actorUserId: user.id, entityType: "exam", entityId: exam.id, patientId: exam.patientId, request });
   const examUrl = `/patients/${exam.patientId}/exams/${exam.id}`;
   const patientInfo = { id: patient!.id, name: `${patient!.firstName} ${patient!.lastName}`, dateOfBirth: patient!.dateOfBirth, examinedOn: formatDate(exam.examinedAt, p.timeZone), examUrl };

@@ -124,20 +124,20 @@ export async function snapshotOf(exam: typeof exams.$inferSelect): Promise<Refer
 }
 
 /** The pre-filled letter text from the snapshot. */
-export function prefill(snapshot: ReferralSnapshot, patient: { firstName: string; lastName: string }) {
+export function prefill(snapshot: ReferralSnapshot, patient: { firstName: string; lastName: string; medications?: string; allergies?: string }) {
   const h = snapshot.history;
-  const history = h
-    ? [
-        h.reason && `Reason for visit: ${h.reason}`,
-        h.symptoms && `Symptoms: ${h.symptoms}`,
-        h.ocularHistory && `Ocular history: ${h.ocularHistory}`,
-        h.generalHistory && `General health: ${h.generalHistory}`,
-        h.medications && `Medications: ${h.medications}`,
-        h.familyHistory && `Family history: ${h.familyHistory}`,
-      ]
-        .filter(Boolean)
-        .join("\n")
-    : "";
+  // The exam's history first; the chart's medications and allergies when the exam has none.
+  const history = [
+    h?.reason && `Reason for visit: ${h.reason}`,
+    h?.symptoms && `Symptoms: ${h.symptoms}`,
+    h?.ocularHistory && `Ocular history: ${h.ocularHistory}`,
+    h?.generalHistory && `General health: ${h.generalHistory}`,
+    (h?.medications || patient.medications) && `Medications: ${h?.medications || patient.medications}`,
+    patient.allergies && `Allergies: ${patient.allergies}`,
+    h?.familyHistory && `Family history: ${h.familyHistory}`,
+  ]
+    .filter(Boolean)
+    .join("\n");
   const reason = snapshot.prompts.length ? snapshot.prompts.map((p) => p.message).join("; ") : "";
   const body = `Thank you for seeing ${patient.firstName} ${patient.lastName}, whom I examined on ${formatDate(new Date(snapshot.examinedAt), "UTC")}. The findings that prompted this referral and the measurements of the exam are set out below. I would be grateful for your assessment and advice on management.`;
   const urgency: Urgency = snapshot.prompts.some((p) => p.code === "IOP_ABOVE_NORMAL" && Number(p.value) >= 30) ? "urgent" : snapshot.prompts.length ? "soon" : "routine";
