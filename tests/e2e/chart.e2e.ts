@@ -89,6 +89,18 @@ describe("the optometrist's day: patients, chart, exam, prescription, upload", (
     await expect.poll(() => page.getByTestId("change-left").textContent()).toContain("ΔM −1.00");
     await expect.poll(() => page.locator('[data-section-status="refraction:final"]').textContent(), { timeout: 10_000 }).toMatch(/Saved \d\d:\d\d/);
 
+    // A save that never reaches the server keeps the text and says why; the next change saves it.
+    const offline = /\.data(\?|$)/;
+    await page.route(offline, (route) => (route.request().method() === "POST" ? route.abort("internetdisconnected") : route.continue()));
+    await page.getByLabel("Reason for visit").fill("Blurred distance vision when driving at night");
+    await expect.poll(() => page.locator('[data-section-status="history"]').textContent(), { timeout: 10_000 }).toContain("Not saved");
+    await expect.poll(() => page.getByText(/could not be reached/).count()).toBe(1);
+    expect(await page.getByLabel("Reason for visit").inputValue()).toBe("Blurred distance vision when driving at night");
+    await page.unroute(offline);
+    await page.getByLabel("Reason for visit").press("End");
+    await page.getByLabel("Reason for visit").pressSequentially(".");
+    await expect.poll(() => page.locator('[data-section-status="history"]').textContent(), { timeout: 10_000 }).toMatch(/Saved \d\d:\d\d/);
+
     await page.getByLabel("Right IOP (mmHg)").fill("27");
     await page.getByLabel("Right IOP method").selectOption("goldmann");
     await page.getByLabel("Right IOP time of day").fill("10:20");

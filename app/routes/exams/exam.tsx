@@ -1,6 +1,6 @@
 import { eq } from "drizzle-orm";
 import { useState } from "react";
-import { data, Form, Link, useActionData, useNavigation } from "react-router";
+import { data, Form, isRouteErrorResponse, Link, useActionData, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/exam";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
@@ -159,6 +159,26 @@ export async function action({ request, params }: Route.ActionArgs) {
   }
 
   return data({ intent, ok: false, message: `Unknown action "${intent}".` }, { status: 400 });
+}
+
+/**
+ * In the browser: a section save that the server refuses by throwing (403, 409 signed meanwhile,
+ * 500) or that never reaches it (connection lost) comes back as a failed save of that section,
+ * so the page and what was typed stay, and the section says why.
+ */
+export async function clientAction({ request, serverAction }: Route.ClientActionArgs) {
+  const form = await request.clone().formData();
+  if (form.get("intent") !== "save") return serverAction();
+  const section = String(form.get("section") ?? "");
+  try {
+    return await serverAction();
+  } catch (e) {
+    const body = isRouteErrorResponse(e) ? (e.data as { message?: string; error?: string } | undefined) : undefined;
+    const message = isRouteErrorResponse(e)
+      ? (body?.message ?? body?.error ?? `the server answered ${e.status}`)
+      : "the server could not be reached; check the connection and keep typing, it saves again on the next change";
+    return { ok: false, section, message } satisfies SaveReply;
+  }
 }
 
 type LoaderData = Route.ComponentProps["loaderData"];
