@@ -22,7 +22,8 @@ describe("the schedule in the browser", () => {
     const tuesday = addDays(monday, 1);
     const wednesday = addDays(monday, 2);
 
-    const desk = await browser.newPage({ viewport: { width: 1400, height: 1000 } });
+    // Tall enough that the whole working day is on screen for the drags.
+    const desk = await browser.newPage({ viewport: { width: 1400, height: 1800 } });
     await signIn(desk, DEMO.receptionist);
     await desk.waitForURL((u) => u.pathname === "/");
     await desk.goto(`/schedule?date=${monday}`);
@@ -71,6 +72,21 @@ describe("the schedule in the browser", () => {
         return localParts(new Date(row!.starts_at), "Europe/London");
       })
       .toMatchObject({ date: wednesday, minute: 600 });
+
+    // A drag into the lunch break: the server refuses, the calendar puts the event back and says why.
+    const moved = desk.locator(`[data-appointment-id="${appt!.id}"]`);
+    await expect.poll(async () => (await moved.boundingBox())?.x ?? 0).toBeGreaterThan(wedBox.x - 1);
+    const movedBox = (await moved.boundingBox())!;
+    const lunch = (await desk.locator(`td.fc-timegrid-slot-lane[data-time="13:15:00"]`).boundingBox())!;
+    await desk.mouse.move(movedBox.x + movedBox.width / 2, movedBox.y + 8);
+    await desk.mouse.down();
+    await desk.mouse.move(movedBox.x + movedBox.width / 2, movedBox.y + 30, { steps: 4 });
+    await desk.mouse.move(movedBox.x + movedBox.width / 2, lunch.y + 4, { steps: 10 });
+    await desk.mouse.up();
+    await expect.poll(() => desk.getByRole("status").first().textContent()).toMatch(/Not moved: Overlaps the provider's lunch/);
+    await expect.poll(async () => Math.round((await moved.boundingBox())!.y)).toBe(Math.round(movedBox.y));
+    const [still] = await query<{ starts_at: Date }>(`select starts_at from appointments where id = $1`, [appt!.id]);
+    expect(localParts(new Date(still!.starts_at), "Europe/London")).toMatchObject({ date: wednesday, minute: 600 });
 
     // The front desk sends the reminder now (it would otherwise go 24 hours before).
     await desk.goto(`/schedule/appointments/${appt!.id}`);
