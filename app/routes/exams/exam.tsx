@@ -183,11 +183,43 @@ export async function clientAction({ request, serverAction }: Route.ClientAction
 
 type LoaderData = Route.ComponentProps["loaderData"];
 
+const SECTION_KEYS = ["history", "acuity", ...REFRACTION_KINDS.map((k) => `refraction:${k}`), "binocular", "iop", "colour", "fields", "segments", "assessment"];
+
+/** Whether the saved values (as formValues names them) hold anything for a section. */
+function sectionHasValues(section: string, values: Record<string, string>, diagnoses: string[]) {
+  const keys = Object.keys(values).filter((k) => values[k] !== "");
+  const any = (test: (k: string) => boolean) => keys.some(test);
+  switch (section) {
+    case "history":
+      return any((k) => ["reason", "symptoms", "ocularHistory", "generalHistory", "medications", "familyHistory"].includes(k));
+    case "acuity":
+      return any((k) => k.startsWith("va_"));
+    case "binocular":
+      return any((k) => k.startsWith("bv_"));
+    case "iop":
+      return any((k) => k.endsWith("_mmHg"));
+    case "colour":
+      return any((k) => k.endsWith("_test") || k.endsWith("_result"));
+    case "fields":
+      return any((k) => k.endsWith("_fmethod"));
+    case "segments":
+      return any((k) => /_(anterior|posterior)_/.test(k));
+    case "assessment":
+      return diagnoses.length > 0 || any((k) => ["assessment", "plan", "recallMonths"].includes(k));
+    default:
+      return section.startsWith("refraction:") && any((k) => k.startsWith(`${section.slice("refraction:".length)}.`));
+  }
+}
+
 export default function ExamPage({ loaderData }: Route.ComponentProps) {
   const { patient, exam, values, previous, prompts } = loaderData;
   const readOnly = exam.status === "signed";
   const tracker = useDirtyTracker();
   const promptsOf = (codes: string[]) => prompts.filter((p) => codes.some((c) => p.code.startsWith(c)));
+  const [showEmpty, setShowEmpty] = useState(false);
+  const recorded = (section: string) => sectionHasValues(section, values, loaderData.diagnoses);
+  // A signed exam is read, not filled in: sections with nothing recorded are folded away.
+  const shown = (section: string) => !readOnly || showEmpty || recorded(section);
   return (
     <DirtyContext.Provider value={tracker}>
       <PageHeader
@@ -218,7 +250,9 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
             ["fields", "Fields"],
             ["segments", "Segments"],
             ["assessment", "Assessment"],
-          ].map(([k, label]) => (
+          ]
+            .filter(([k]) => shown(k!))
+            .map(([k, label]) => (
             <li key={k}>
               <a href={`#${sectionAnchor(k!)}`} className="font-semibold text-accent-800 underline-offset-4 hover:underline">
                 {label}
@@ -233,18 +267,24 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
           Type refractions in the usual notation (<code>-2.25 -0.75 x 175</code>, <code>pl</code>, <code>+1.00 DS</code>) and acuity as 6/6, 20/25-2, decimal or logMAR. Each section saves on its own a moment
           after you stop typing; its badge says whether it is saved. Allergies: {patient.allergies || "none recorded"}. Medications: {patient.medications || "none recorded"}.
         </Notice>
-        <HistorySection values={values} readOnly={readOnly} />
-        <AcuitySection values={values} readOnly={readOnly} prompts={promptsOf(["ACUITY"])} />
+        {readOnly ? (
+          <label className="flex items-center gap-2 text-sm font-semibold">
+            <input type="checkbox" checked={showEmpty} onChange={(e) => setShowEmpty(e.target.checked)} className="size-4" />
+            Show sections with nothing recorded ({SECTION_KEYS.filter((k) => !recorded(k)).length} hidden)
+          </label>
+        ) : null}
+        {shown("history") ? <HistorySection values={values} readOnly={readOnly} /> : null}
+        {shown("acuity") ? <AcuitySection values={values} readOnly={readOnly} prompts={promptsOf(["ACUITY"])} /> : null}
         <PreviousFinal previous={previous} />
-        {REFRACTION_KINDS.map((kind) => (
+        {REFRACTION_KINDS.filter((kind) => shown(`refraction:${kind}`)).map((kind) => (
           <RefractionSection key={kind} kind={kind} values={values} readOnly={readOnly} previous={kind === "final" || kind === "subjective" ? previous : null} />
         ))}
-        <BinocularSection values={values} readOnly={readOnly} />
-        <IopSection values={values} readOnly={readOnly} prompts={promptsOf(["IOP"])} />
-        <ColourSection values={values} readOnly={readOnly} prompts={promptsOf(["COLOUR"])} />
-        <FieldsSection values={values} readOnly={readOnly} prompts={promptsOf(["BLIND_SPOT", "FIELD"])} />
-        <SegmentsSection values={values} readOnly={readOnly} />
-        <AssessmentSection values={values} diagnoses={loaderData.diagnoses} readOnly={readOnly} />
+        {shown("binocular") ? <BinocularSection values={values} readOnly={readOnly} /> : null}
+        {shown("iop") ? <IopSection values={values} readOnly={readOnly} prompts={promptsOf(["IOP"])} /> : null}
+        {shown("colour") ? <ColourSection values={values} readOnly={readOnly} prompts={promptsOf(["COLOUR"])} /> : null}
+        {shown("fields") ? <FieldsSection values={values} readOnly={readOnly} prompts={promptsOf(["BLIND_SPOT", "FIELD"])} /> : null}
+        {shown("segments") ? <SegmentsSection values={values} readOnly={readOnly} /> : null}
+        {shown("assessment") ? <AssessmentSection values={values} diagnoses={loaderData.diagnoses} readOnly={readOnly} /> : null}
         <Card title="Attachments">
           <DocumentList patientId={patient.id} documents={loaderData.documents} />
           <div className="mt-4">
