@@ -71,6 +71,15 @@ describe("the patient portal on a phone", () => {
     await expectAccessible(phone);
     await screenshot(phone, "portal-home-phone");
 
+    // Ask to move the visit; the request shows on the front desk's day list.
+    await phone.getByRole("button", { name: "Ask to move it" }).first().click();
+    await phone.getByLabel("When would suit you instead?").fill("Any Thursday afternoon");
+    await phone.getByRole("button", { name: "Send request" }).click();
+    await expect.poll(() => phone.getByTestId("toast").textContent()).toContain("Request sent to the front desk");
+    await desk.goto("/schedule/day");
+    await expect.poll(() => desk.getByRole("region", { name: /Patients asking to move a visit/ }).textContent()).toContain("Any Thursday afternoon");
+    await expectAccessible(desk);
+
     // Pay the open invoice on the stand-in's checkout page.
     await phone.getByRole("link", { name: "Invoices and payments" }).click();
     await phone.waitForURL("**/portal/invoices");

@@ -1,6 +1,7 @@
 import { and, eq, ne } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
 import { action as bookAction, loader as bookLoader } from "~/routes/portal/book";
+import { action as dayAction, loader as dayLoader } from "~/routes/schedule/day";
 import { loader as docLoader } from "~/routes/portal/documents";
 import { action as homeAction, loader as homeLoader } from "~/routes/portal/home";
 import { action as invoicesAction, loader as invoicesLoader } from "~/routes/portal/invoices";
@@ -107,6 +108,17 @@ describe("the patient's own visits", () => {
     const rows = await db.select().from(appointmentChangeRequests).where(and(eq(appointmentChangeRequests.appointmentId, v.id), eq(appointmentChangeRequests.status, "open")));
     expect(rows).toHaveLength(1);
     expect(rows[0]!.message).toBe("Or any Monday");
+
+    // The front desk sees it on the day list and marks it dealt with; a patient cannot.
+    const desk = await cookieFor("receptionist");
+    const list = dataOf<{ moveRequests: { id: string; message: string }[] }>(await run(dayLoader, makeRequest("/schedule/day", { cookie: desk })));
+    expect(list.moveRequests.find((r) => r.id === rows[0]!.id)?.message).toBe("Or any Monday");
+    expect(statusOf(await run(dayAction, makeRequest("/schedule/day", { cookie, form: { intent: "settle-move-request", requestId: rows[0]!.id } })))).toBe(403);
+    expect(statusOf(await run(dayAction, makeRequest("/schedule/day", { cookie: desk, form: { intent: "settle-move-request", requestId: rows[0]!.id } })))).toBe(302);
+    const [settled] = await db.select().from(appointmentChangeRequests).where(eq(appointmentChangeRequests.id, rows[0]!.id));
+    expect(settled).toMatchObject({ status: "done" });
+    expect(settled!.handledById).toBeTruthy();
+    expect(statusOf(await run(dayAction, makeRequest("/schedule/day", { cookie: desk, form: { intent: "settle-move-request", requestId: rows[0]!.id } })))).toBe(409);
   });
 });
 

@@ -4,6 +4,8 @@ import { AppointmentStatus } from "./status-ui";
 import { ScheduleNav } from "./schedule-nav";
 import { StatusCommands, usePolling } from "./day-ui";
 import { loadDayList, statusAction } from "./day.server";
+import { MoveRequests } from "./move-requests";
+import { openMoveRequests, settleMoveRequest } from "./move-requests.server";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
@@ -12,15 +14,18 @@ import { Notice } from "~/components/ui/notice";
 import { addDays } from "~/lib/scheduling/time";
 
 export async function loader({ request }: Route.LoaderArgs) {
-  return loadDayList(request);
+  const day = await loadDayList(request);
+  return { ...day, moveRequests: await openMoveRequests(day.timeZone) };
 }
 
 export async function action({ request }: Route.ActionArgs) {
+  const form = await request.clone().formData();
+  if (form.get("intent") === "settle-move-request") return settleMoveRequest(request, form);
   return statusAction(request);
 }
 
 export default function DayList({ loaderData }: Route.ComponentProps) {
-  const { appointments, date, today, provider, providers, timeZone, user, checkedAt } = loaderData;
+  const { appointments, date, today, provider, providers, timeZone, user, checkedAt, moveRequests } = loaderData;
   usePolling(5);
   const dayTitle = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(new Date(`${date}T12:00:00Z`));
   const live = appointments.filter((a) => a.status !== "cancelled");
@@ -29,6 +34,7 @@ export default function DayList({ loaderData }: Route.ComponentProps) {
     <>
       <PageHeader title="Day list" description={`${dayTitle}${date === today ? " (today)" : ""} · practice time ${timeZone}`} />
       <ScheduleNav />
+      <MoveRequests requests={moveRequests} />
       <Form method="get" className="mb-4 flex flex-wrap items-end gap-3">
         <div>
           <label htmlFor="day-provider" className="mb-1 block text-sm font-semibold">
