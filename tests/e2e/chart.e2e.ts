@@ -156,6 +156,13 @@ describe("the optometrist's day: patients, chart, exam, prescription, upload", (
     const examUrl = page.url();
     await expectAccessible(page);
     await screenshot(page, "exam-referral-candidate");
+    await page.goto("/patients?q=Maddox-Ferreira");
+    await page.getByRole("link", { name: "Maddox-Ferreira, Corentin" }).click();
+    await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
+    await page.getByRole("link", { name: /signed$/ }).first().click();
+    await page.waitForURL(/\/exams\//);
+    // 6 of plates 1–15 read normally: the 38-plate criterion (9 or fewer) reads as deficiency suspected.
+    await expect.poll(() => page.getByTestId("plate-screening").first().textContent()).toContain("deficiency suspected");
     const desk = await browser.newPage();
     await signIn(desk, DEMO.receptionist);
     await desk.waitForURL("**/");

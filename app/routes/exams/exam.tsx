@@ -35,7 +35,7 @@ import {
   type RefractionKind,
   type SegmentKey,
 } from "~/lib/exam/sections";
-import { compareRx, formatRx, isMeaningfulChange, MEANINGFUL_CHANGE_RULE, type ReferralPrompt, type SphCyl } from "~/lib/optics";
+import { compareRx, formatRx, isMeaningfulChange, MEANINGFUL_CHANGE_RULE, screenColourVision, type ReferralPrompt, type SphCyl } from "~/lib/optics";
 import { ageOn, formatDate } from "~/routes/patients/patient-schema";
 import { issuePrescription, prescriptionsOf } from "~/routes/patients/prescriptions.server";
 import { audit } from "~/utils/audit.server";
@@ -584,10 +584,33 @@ function ColourSection({ values, readOnly, prompts }: V & { prompts: ReferralPro
             <ExamInput id={`cv-${eye}-correct`} name={`${eye}_correct`} label={`${E} plates read`} inputMode="numeric" defaultValue={values[`${eye}_correct`]} />
             <ExamInput id={`cv-${eye}-shown`} name={`${eye}_shown`} label={`${E} plates shown`} inputMode="numeric" defaultValue={values[`${eye}_shown`]} />
             <ExamInput id={`cv-${eye}-notes`} name={`${eye}_cvnotes`} label={`${E} colour notes`} defaultValue={values[`${eye}_cvnotes`]} />
+            <PlateScreening test={values[`${eye}_test`]} correct={values[`${eye}_correct`]} shown={values[`${eye}_shown`]} />
           </>
         )}
       </PerEyeGrid>
     </SectionForm>
+  );
+}
+
+/** The engine's reading of a saved plate score (38-plate edition only has a built-in criterion). */
+function PlateScreening({ test, correct, shown }: { test?: string; correct?: string; shown?: string }) {
+  if (test !== "plates_38" || correct === undefined || shown === undefined) return null;
+  let text: string;
+  let tone: "success" | "warning" | "info" = "info";
+  let rule = "";
+  try {
+    const r = screenColourVision({ test: "ishihara-38", platesCorrect: Number(correct), platesShown: Number(shown) });
+    text = `Plate score reads as: ${r.result} (${r.reasons.join("; ")})`;
+    tone = r.result === "normal" ? "success" : r.result === "deficiency suspected" ? "warning" : "info";
+    rule = `${r.rule}. Source: ${r.source}.`;
+  } catch (e) {
+    text = e instanceof Error ? e.message : String(e);
+  }
+  return (
+    <div className="text-xs sm:col-span-2" data-testid="plate-screening">
+      <StatusBadge tone={tone}>{text}</StatusBadge>
+      {rule ? <p className="mt-1 text-muted">{rule} Check before recording the result.</p> : null}
+    </div>
   );
 }
 
