@@ -50,8 +50,11 @@ describe("the patient portal on a phone", () => {
     await expect.poll(() => desk.getByTestId("toast").textContent()).toContain("Draft invoice created");
     await desk.getByRole("button", { name: "Issue invoice" }).click();
     await expect.poll(() => desk.getByTestId("toast").textContent()).toMatch(/Issued as/);
-    const invite = await desk.request.post("/api/portal-invite", { data: { patientId: patient.id } });
-    expect(invite.status()).toBe(200);
+    await desk.goto(`/patients/${patient.id}`);
+    await ready(desk);
+    await desk.getByRole("button", { name: "Invite to the patient portal" }).click();
+    await expect.poll(() => desk.getByRole("status").filter({ hasText: "Invitation sent to" }).count()).toBe(1);
+    await expectAccessible(desk);
 
     // On the phone: the invitation from the mailbox page, then a password.
     const phone = await browser.newPage({ viewport: PHONE });

@@ -17,6 +17,7 @@ import { appointmentsOf, childProgression, examsOf, invoicesOf, recallDue, refra
 import { documentsOf } from "./documents.server";
 import { ageOn, formatDate, isUuid } from "./patient-schema";
 import { prescriptionsOf } from "./prescriptions.server";
+import { PortalInviteButton } from "~/components/portal-invite-button";
 import { ChartReferrals } from "~/routes/referrals/chart-referrals";
 import { referralsForChart } from "~/routes/referrals/referrals.server";
 import { RefractionHistory } from "./refraction-plot";
@@ -103,6 +104,10 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
         }
         actions={
           <>
+            <PortalInviteButton patientId={p.id} />
+            <Link to={`/schedule/book?patientId=${p.id}`} className={buttonClass("secondary")}>
+              Book a visit
+            </Link>
             <Link to={`/patients/${p.id}/edit`} className={buttonClass("secondary")}>
               Edit details
             </Link>
