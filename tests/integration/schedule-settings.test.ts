@@ -21,7 +21,11 @@ describe("appointment types (owner)", () => {
     const good = await run(typesAction, post("/settings/appointment-types", owner, [["intent", "save"], ["name", "Dry eye review"], ["durationMinutes", "20"], ["recallMonths", "6"], ["performerRoles", "optometrist"], ["active", "on"]]));
     expect(statusOf(good)).toBe(302);
     const [row] = await db.select().from(appointmentTypes).where(eq(appointmentTypes.name, "Dry eye review"));
-    expect(row).toMatchObject({ durationMinutes: 20, recallMonths: 6, performerRoles: ["optometrist"], routineExam: false, active: true });
+    expect(row).toMatchObject({ durationMinutes: 20, recallMonths: 6, performerRoles: ["optometrist"], routineExam: false, onlineBooking: false, active: true });
+    // Opened to online booking from the portal.
+    const online = await run(typesAction, post("/settings/appointment-types", owner, [["intent", "save"], ["id", row!.id], ["name", "Dry eye review"], ["durationMinutes", "20"], ["recallMonths", "6"], ["performerRoles", "optometrist"], ["onlineBooking", "on"], ["active", "on"]]));
+    expect(statusOf(online)).toBe(302);
+    expect((await db.select({ o: appointmentTypes.onlineBooking }).from(appointmentTypes).where(eq(appointmentTypes.id, row!.id)))[0]?.o).toBe(true);
     // The owner is not among its performers any more: booking the owner for it is refused.
     const ownerUser = await userByEmail("owner@dioptra-demo.test");
     const p = await newPatient();

@@ -27,6 +27,7 @@ const typeSchema = z.object({
   recallMonths: z.union([z.literal(""), z.coerce.number().int("Whole months.").min(1, "At least 1 month.").max(120, "At most 120 months.")]).default(""),
   performerRoles: z.array(z.enum(ROLES), { error: "Choose who may perform it." }).min(1, "Choose who may perform it."),
   routineExam: z.literal("on").optional(),
+  onlineBooking: z.literal("on").optional(),
   active: z.literal("on").optional(),
 });
 
@@ -66,6 +67,7 @@ export async function action({ request }: Route.ActionArgs) {
     recallMonths: v.recallMonths === "" ? null : v.recallMonths,
     performerRoles: v.performerRoles,
     routineExam: v.routineExam === "on",
+    onlineBooking: v.onlineBooking === "on",
     active: v.active === "on",
   };
   const saved = await db.transaction(async (tx) => {
@@ -94,7 +96,7 @@ export default function AppointmentTypes({ loaderData, actionData }: Route.Compo
     id: `type-${editing?.id ?? "new"}`,
     lastResult: navigation.state === "idle" && !isReminder ? (actionData as never) : null,
     defaultValue: editing
-      ? { ...editing, durationMinutes: String(editing.durationMinutes), recallMonths: editing.recallMonths ? String(editing.recallMonths) : "", defaultFeeItemId: editing.defaultFeeItemId ?? "", routineExam: editing.routineExam ? "on" : undefined, active: editing.active ? "on" : undefined }
+      ? { ...editing, durationMinutes: String(editing.durationMinutes), recallMonths: editing.recallMonths ? String(editing.recallMonths) : "", defaultFeeItemId: editing.defaultFeeItemId ?? "", routineExam: editing.routineExam ? "on" : undefined, onlineBooking: editing.onlineBooking ? "on" : undefined, active: editing.active ? "on" : undefined }
       : { durationMinutes: "30", performerRoles: ["owner", "optometrist"], routineExam: "on", active: "on" },
     onValidate: ({ formData }) => parseWithZod(formData, { schema: typeSchema }),
     shouldValidate: "onBlur",
@@ -131,7 +133,10 @@ export default function AppointmentTypes({ loaderData, actionData }: Route.Compo
                   <td className="py-2 pr-4">{feeName(t.defaultFeeItemId)}</td>
                   <td className="py-2 pr-4">{t.performerRoles.map((r) => ROLE_LABEL[r]).join(", ")}</td>
                   <td className="py-2 pr-4">{!t.routineExam ? "Not a routine exam" : t.recallMonths ? `${t.recallMonths} months` : "Practice default by age"}</td>
-                  <td className="py-2 pr-4">{t.active ? <StatusBadge tone="success">Offered</StatusBadge> : <StatusBadge tone="warning">Withdrawn</StatusBadge>}</td>
+                  <td className="py-2 pr-4">
+                    {t.active ? <StatusBadge tone="success">Offered</StatusBadge> : <StatusBadge tone="warning">Withdrawn</StatusBadge>}
+                    {t.active && t.onlineBooking ? <span className="mt-1 block text-xs text-muted">also bookable online</span> : null}
+                  </td>
                   <td className="py-2">
                     <Link to={`?edit=${t.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
                       Edit<span className="sr-only"> {t.name}</span>
@@ -184,6 +189,10 @@ export default function AppointmentTypes({ loaderData, actionData }: Route.Compo
           <label className="flex items-center gap-2 text-sm">
             <input type="checkbox" name="active" defaultChecked={editing ? editing.active : true} className="size-4 accent-accent-700" />
             Offered for booking
+          </label>
+          <label className="flex items-center gap-2 text-sm">
+            <input type="checkbox" name="onlineBooking" defaultChecked={editing ? editing.onlineBooking : false} className="size-4 accent-accent-700" />
+            Patients may book it themselves online, in free slots
           </label>
           <div className="flex gap-3 sm:col-span-2">
             <Button type="submit" pending={navigation.state === "submitting"}>
