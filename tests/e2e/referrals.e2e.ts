@@ -133,8 +133,12 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
     expect(await tampered.content()).not.toContain(candidate.name);
     await expectAccessible(tampered);
 
-    // The optometrist is told, and the reply is on the referral, which the chart links to.
+    // The optometrist is told; the reply is in the patient's chart and on the referral.
     await poll(async () => (await mailTo(DEMO.optometrist)).some((m) => m.subject.includes("Reply received"))).toBe(true);
+    await page.goto(`/patients/${candidate.patient_id}`);
+    await poll(() => page.getByText("Reply from Mr Lucan Ferreira-Holt", { exact: false }).count()).toBeGreaterThan(0);
+    await poll(() => page.getByText("Seen in the glaucoma clinic", { exact: false }).count()).toBeGreaterThan(0);
+    await expectAccessible(page);
     await page.goto(`/referrals/${referralId}`);
     await poll(() => page.getByText("Seen in the glaucoma clinic").count()).toBe(1);
     await poll(() => page.getByText("Reply received", { exact: true }).count()).toBeGreaterThan(0);
