@@ -16,6 +16,11 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
   const [mounted, setMounted] = useState(false);
   useEffect(() => setMounted(true), []);
   const shown = points.filter((p) => (kind === "all" || p.kind === "final") && (eye === "both" || p.eye === eye));
+  // The astigmatism plane is drawn square and centred on zero (no astigmatism), at least ±0.50 D,
+  // in 0.25 D steps, so a cluster of equal values does not blow up into a meaningless scale.
+  const jExtent = Math.max(0.5, Math.ceil(Math.max(0, ...shown.flatMap((p) => [Math.abs(p.J0), Math.abs(p.J45)])) / 0.25) * 0.25);
+  const jStep = jExtent > 2 ? 1 : jExtent > 1 ? 0.5 : 0.25;
+  const jTicks = Array.from({ length: Math.round((2 * jExtent) / jStep) + 1 }, (_, i) => -jExtent + i * jStep);
   const byEye = (e: "right" | "left") => shown.filter((p) => p.eye === e).map((p) => ({ ...p, t: Date.parse(p.date) }));
   const eyes = eye === "both" ? (["right", "left"] as const) : ([eye] as const);
   return (
@@ -79,8 +84,8 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
             <ResponsiveContainer width="100%" height={260}>
               <ScatterChart margin={{ top: 8, right: 16, bottom: 8, left: 0 }}>
                 <CartesianGrid strokeDasharray="3 3" />
-                <XAxis dataKey="J0" type="number" name="J0" tickFormatter={(v: number) => v.toFixed(2)} label={{ value: "J0 (D)", position: "insideBottom", offset: -4 }} />
-                <YAxis dataKey="J45" type="number" name="J45" width={56} tickFormatter={(v: number) => v.toFixed(2)} label={{ value: "J45 (D)", angle: -90, position: "insideLeft" }} />
+                <XAxis dataKey="J0" type="number" name="J0" domain={[-jExtent, jExtent]} ticks={jTicks} tickFormatter={(v: number) => v.toFixed(2)} label={{ value: "J0 (D)", position: "insideBottom", offset: -4 }} />
+                <YAxis dataKey="J45" type="number" name="J45" width={56} domain={[-jExtent, jExtent]} ticks={jTicks} tickFormatter={(v: number) => v.toFixed(2)} label={{ value: "J45 (D)", angle: -90, position: "insideLeft" }} />
                 <ZAxis range={[40, 40]} />
                 <Tooltip />
                 <Legend />
