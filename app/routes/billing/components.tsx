@@ -1,4 +1,4 @@
-import { NavLink } from "react-router";
+import { TabNav } from "~/components/tab-nav";
 import { StatusBadge } from "~/components/ui/notice";
 
 const STATUS: Record<string, { tone: "info" | "success" | "warning" | "error"; word: string }> = {
@@ -26,27 +26,12 @@ export function PaymentStatusBadge({ status }: { status: string }) {
   return <StatusBadge tone={s.tone}>{s.word}</StatusBadge>;
 }
 
+const BILLING_TABS = [
+  { to: "/billing", label: "Invoices", end: true },
+  { to: "/billing/invoices/new", label: "New invoice", end: true },
+  { to: "/billing/takings", label: "Takings" },
+];
+
 export function BillingNav() {
-  const tabs = [
-    { to: "/billing", label: "Invoices", end: true },
-    { to: "/billing/invoices/new", label: "New invoice", end: true },
-    { to: "/billing/takings", label: "Takings", end: false },
-  ];
-  return (
-    <nav aria-label="Billing" className="mb-6">
-      <ul className="flex flex-wrap gap-2 border-b border-line">
-        {tabs.map((t) => (
-          <li key={t.to}>
-            <NavLink
-              to={t.to}
-              end={t.end}
-              className={({ isActive }) => `-mb-px block border-b-2 px-3 py-2 text-sm font-semibold ${isActive ? "border-accent-700 text-accent-800" : "border-transparent text-muted hover:text-ink"}`}
-            >
-              {t.label}
-            </NavLink>
-          </li>
-        ))}
-      </ul>
-    </nav>
-  );
+  return <TabNav label="Billing" tabs={BILLING_TABS} />;
 }

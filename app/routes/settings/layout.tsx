@@ -1,6 +1,7 @@
-import { NavLink, Outlet } from "react-router";
+import { Outlet } from "react-router";
 import type { Route } from "./+types/layout";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
+import { TabNav } from "~/components/tab-nav";
 import { requireRole } from "~/utils/auth.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -20,26 +21,7 @@ const tabs = [
 export default function SettingsLayout() {
   return (
     <div className="grid gap-6 md:grid-cols-[14rem_1fr]">
-      <nav aria-label="Settings">
-        <ul className="space-y-1">
-          {tabs.map((t) => (
-            <li key={t.to}>
-              <NavLink
-                to={t.to}
-                end={t.end}
-                className={({ isActive }) => `block rounded-md px-3 py-2 text-sm font-semibold ${isActive ? "bg-white text-accent-800 shadow-sm ring-1 ring-line" : "text-muted hover:text-ink"}`}
-              >
-                {({ isActive }) => (
-                  <>
-                    {isActive ? <span aria-hidden="true">▸ </span> : null}
-                    {t.label}
-                  </>
-                )}
-              </NavLink>
-            </li>
-          ))}
-        </ul>
-      </nav>
+      <TabNav label="Settings" tabs={tabs} orientation="vertical" className="" />
       <div>
         <Outlet />
       </div>
