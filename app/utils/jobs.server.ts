@@ -108,6 +108,11 @@ export function definedJobs(): string[] {
   return [...registry.keys()];
 }
 
+/** Every declared queue with its defaults (for creating the queues ahead of any traffic). */
+export function queueDefinitions(): { name: string; defaults: QueueDefaults }[] {
+  return [...registry.entries()].map(([name, d]) => ({ name, defaults: d.defaults }));
+}
+
 /** Polls the defined queues (all, or the named ones) and runs their handlers, one job at a time per queue. */
 export async function startWorkers(names: string[] = definedJobs(), opts: { pollingIntervalSeconds?: number } = {}) {
   const boss = await getBoss({ supervise: true });

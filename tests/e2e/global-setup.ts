@@ -2,7 +2,7 @@ import { existsSync } from "node:fs";
 import { join } from "node:path";
 import type { TestProject } from "vitest/node";
 import { BUILD_DIR, E2E } from "../support/ports";
-import { freshDatabase, ROOT, startMailStandIn, startProcess, startStripeStandIn, stopProcess, waitForPort } from "../support/services";
+import { freshDatabase, prepareJobQueues, ROOT, startMailStandIn, startProcess, startStripeStandIn, stopProcess, waitForPort } from "../support/services";
 
 /**
  * Browser tests run against the production build served by react-router-serve, with a fresh
@@ -11,6 +11,7 @@ import { freshDatabase, ROOT, startMailStandIn, startProcess, startStripeStandIn
 export default async function setup(project: TestProject) {
   if (!existsSync(join(ROOT, BUILD_DIR, "server/index.js"))) throw new Error("No build found: run `npm test` (it builds first) or `npm run build`.");
   const databaseUrl = await freshDatabase(E2E.db);
+  await prepareJobQueues(databaseUrl);
   const mail = await startMailStandIn(E2E.smtp, E2E.mailApi);
   const baseUrl = `http://127.0.0.1:${E2E.app}`;
   const stripe = await startStripeStandIn(E2E.stripe, `${baseUrl}/api/webhooks/stripe`);

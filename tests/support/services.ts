@@ -6,6 +6,7 @@ import { spawn, type ChildProcess } from "node:child_process";
 import { mkdirSync, rmSync } from "node:fs";
 import { createConnection } from "node:net";
 import { join } from "node:path";
+import PgBoss from "pg-boss";
 import pg from "pg";
 import { runMigrations } from "../../app/ops/migrate";
 import { databaseUrl } from "../../app/utils/db-url";
@@ -102,4 +103,25 @@ export async function startMailStandIn(smtpPort: number, apiPort: number) {
   await waitForPort(smtpPort);
   await waitForPort(apiPort);
   return child;
+}
+
+/**
+ * Creates pg-boss's schema and every declared queue in a fresh database before any test runs.
+ * Creating a queue attaches a partition to pgboss.job, which waits for every transaction that
+ * holds a lock on it; done lazily inside concurrent booking transactions of several test workers,
+ * those waits could form a cycle that PostgreSQL cannot see (it spans two connections).
+ * The worker process does the same at start-up in `npm start`.
+ */
+export async function prepareJobQueues(url: string) {
+  await import("../../app/utils/job-list.server");
+  const { queueDefinitions } = await import("../../app/utils/jobs.server");
+  const boss = new PgBoss({ connectionString: url, max: 2, supervise: false, schedule: false });
+  await boss.start();
+  try {
+    for (const { name, defaults } of queueDefinitions()) {
+      if (!(await boss.getQueue(name))) await boss.createQueue(name, { name, ...defaults });
+    }
+  } finally {
+    await boss.stop({ graceful: false, wait: true });
+  }
 }
