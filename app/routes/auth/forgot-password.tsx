@@ -4,6 +4,7 @@ import { sql } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/forgot-password";
+import { AuthCard } from "~/components/auth-card";
 import { Field } from "~/components/forms";
 import { Button } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
@@ -52,9 +53,7 @@ export default function ForgotPassword({ actionData }: Route.ComponentProps) {
     shouldValidate: "onBlur",
   });
   return (
-    <main id="main" className="flex min-h-screen items-center justify-center px-4 py-12">
-      <div className="w-full max-w-md rounded-lg border border-line bg-white p-8 shadow-sm">
-        <h1 className="text-2xl">Reset your password</h1>
+    <AuthCard title="Reset your password">
         <p className="mt-1 text-sm text-muted">We will e-mail you a link to choose a new one. It works once, for one hour.</p>
         {actionData?.sent ? (
           <div className="mt-6">
@@ -74,8 +73,7 @@ export default function ForgotPassword({ actionData }: Route.ComponentProps) {
             Back to sign in
           </Link>
         </p>
-      </div>
-    </main>
+    </AuthCard>
   );
 }
 

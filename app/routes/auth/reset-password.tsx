@@ -4,6 +4,7 @@ import { eq } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/reset-password";
+import { AuthCard } from "~/components/auth-card";
 import { Field } from "~/components/forms";
 import { Button } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
@@ -60,9 +61,7 @@ export default function ResetPassword({ loaderData, actionData }: Route.Componen
   });
   const title = loaderData.purpose === "invite" ? "Set your password" : "Choose a new password";
   return (
-    <main id="main" className="flex min-h-screen items-center justify-center px-4 py-12">
-      <div className="w-full max-w-md rounded-lg border border-line bg-white p-8 shadow-sm">
-        <h1 className="text-2xl">{loaderData.valid ? title : "This link no longer works"}</h1>
+    <AuthCard title={loaderData.valid ? title : "This link no longer works"}>
         {loaderData.valid ? (
           <Form method="post" {...getFormProps(form)} className="mt-6 space-y-4">
             <p className="text-sm text-muted">For {loaderData.email}</p>
@@ -88,8 +87,7 @@ export default function ResetPassword({ loaderData, actionData }: Route.Componen
             </Link>
           </div>
         )}
-      </div>
-    </main>
+    </AuthCard>
   );
 }
 

@@ -1,5 +1,6 @@
 import { data, Form, Link, useNavigation } from "react-router";
 import type { Route } from "./+types/sign-in-link-verify";
+import { AuthCard } from "~/components/auth-card";
 import { Button } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
 import { audit } from "~/utils/audit.server";
@@ -30,9 +31,7 @@ export default function VerifySignInLink({ loaderData, actionData }: Route.Compo
   const navigation = useNavigation();
   const valid = loaderData.valid && !actionData?.error;
   return (
-    <main id="main" className="flex min-h-screen items-center justify-center px-4 py-12">
-      <div className="w-full max-w-md rounded-lg border border-line bg-white p-8 shadow-sm">
-        <h1 className="text-2xl">{valid ? "Sign in" : "This link no longer works"}</h1>
+    <AuthCard title={valid ? "Sign in" : "This link no longer works"}>
         {valid ? (
           <Form method="post" className="mt-6 space-y-4">
             <p className="text-sm text-muted">Signing in as {loaderData.email}</p>
@@ -51,8 +50,7 @@ export default function VerifySignInLink({ loaderData, actionData }: Route.Compo
             </Link>
           </div>
         )}
-      </div>
-    </main>
+    </AuthCard>
   );
 }
 

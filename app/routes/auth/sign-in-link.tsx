@@ -4,6 +4,7 @@ import { sql } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/sign-in-link";
+import { AuthCard } from "~/components/auth-card";
 import { Field } from "~/components/forms";
 import { Button } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
@@ -55,9 +56,7 @@ export default function SignInLink({ actionData }: Route.ComponentProps) {
     shouldValidate: "onBlur",
   });
   return (
-    <main id="main" className="flex min-h-screen items-center justify-center px-4 py-12">
-      <div className="w-full max-w-md rounded-lg border border-line bg-white p-8 shadow-sm">
-        <h1 className="text-2xl">E-mail me a sign-in link</h1>
+    <AuthCard title="E-mail me a sign-in link">
         <p className="mt-1 text-sm text-muted">For patients with an online account. The link works once, for 15 minutes.</p>
         {actionData?.sent ? (
           <div className="mt-6">
@@ -77,8 +76,7 @@ export default function SignInLink({ actionData }: Route.ComponentProps) {
             Sign in with a password instead
           </Link>
         </p>
-      </div>
-    </main>
+    </AuthCard>
   );
 }
 
