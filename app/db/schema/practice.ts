@@ -1,5 +1,9 @@
 import { sql } from "drizzle-orm";
-import { check, integer, pgTable, text, timestamp } from "drizzle-orm/pg-core";
+import { check, integer, pgEnum, pgTable, text, timestamp } from "drizzle-orm/pg-core";
+
+/** How the practice writes distance acuity: metric Snellen (6/6), feet (20/20), decimal (1.0) or logMAR (0.00). */
+export const acuityNotationEnum = pgEnum("acuity_notation", ["metric", "feet", "decimal", "logmar"]);
+export type AcuityNotation = (typeof acuityNotationEnum.enumValues)[number];
 
 /** The practice's own details and policies; a single row (id = 1). */
 export const practiceSettings = pgTable(
@@ -39,6 +43,8 @@ export const practiceSettings = pgTable(
     referralDaysUrgent: integer().notNull().default(7),
     referralDaysSoon: integer().notNull().default(28),
     referralDaysRoutine: integer().notNull().default(91),
+    /** The notation acuity is typed in unless an entry says otherwise. */
+    acuityNotation: acuityNotationEnum().notNull().default("metric"),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [

@@ -83,6 +83,10 @@ export const referrals = pgTable(
       .references(() => users.id, { onDelete: "restrict" }),
     status: referralStatusEnum().notNull().default("draft"),
     urgency: referralUrgencyEnum().notNull().default("routine"),
+    /** What the exam's triage proposed when the draft was made (null = no referral proposed). */
+    proposedUrgency: referralUrgencyEnum(),
+    /** Why the optometrist chose a lower urgency than proposed; kept with the letter. */
+    urgencyOverrideReason: text(),
     reason: text().notNull().default(""),
     body: text().notNull().default(""),
     relevantHistory: text().notNull().default(""),
