@@ -3,6 +3,25 @@
  * be chased. Plain TypeScript, no framework imports; shared by the server and the pages.
  */
 
+export {
+  CUP_DISC_ASYMMETRY,
+  CUP_DISC_REFER,
+  IOP_EMERGENCY_MMHG,
+  IOP_REFER_MMHG,
+  IOP_URGENT_ABOVE_MMHG,
+  TRIAGE_ORDER,
+  TriageInputError,
+  VA_LOSS_LOGMAR,
+  isBelowProposal,
+  triage,
+  type Eye,
+  type EyeFindings,
+  type TriageInput,
+  type TriageReason,
+  type TriageResult,
+  type TriageUrgency,
+} from "./triage";
+
 export const URGENCIES = ["routine", "soon", "urgent", "same_day"] as const;
 export type Urgency = (typeof URGENCIES)[number];
 
