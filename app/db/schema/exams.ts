@@ -23,6 +23,8 @@ export const exams = pgTable(
     status: examStatusEnum().notNull().default("in_progress"),
     signedAt: timestamp({ withTimezone: true }),
     signedById: uuid().references(() => users.id, { onDelete: "restrict" }),
+    /** The triage proposal as of the last section save (recomputed on every save). */
+    triage: jsonb().$type<{ urgency: "same_day" | "urgent" | "soon" | "routine" | null; reasons: { urgency: string; eye?: string; rule: string; source: string }[] }>(),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
@@ -54,7 +56,9 @@ export const examHistory = pgTable("exam_history", {
 });
 
 export const acuityDistanceEnum = pgEnum("acuity_distance", ["distance", "near"]);
-export const acuityCorrectionEnum = pgEnum("acuity_correction", ["unaided", "habitual", "best"]);
+export const acuityCorrectionEnum = pgEnum("acuity_correction", ["unaided", "habitual", "best", "pinhole"]);
+/** The scale an acuity was typed in: the distance notations of practice settings, near in N-point or M units, or a low-vision category. */
+export const acuityScaleEnum = pgEnum("acuity_scale", ["metric", "feet", "decimal", "logmar", "n_point", "m_units", "low_vision"]);
 
 /** Visual acuity: one row per eye (or both) × distance × correction, as typed and as logMAR. */
 export const examAcuity = pgTable(
@@ -66,6 +70,9 @@ export const examAcuity = pgTable(
     distance: acuityDistanceEnum().notNull(),
     correction: acuityCorrectionEnum().notNull(),
     notation: text().notNull(),
+    /** The scale the notation was read in (null on rows from before the scale was recorded). */
+    scale: acuityScaleEnum(),
+    /** logMAR equivalent (counting fingers, hand movements, light perception and none carry conventional stand-in values). */
     logMar: doublePrecision().notNull(),
   },
   (t) => [uniqueIndex("exam_acuity_uq").on(t.examId, t.eye, t.distance, t.correction), check("exam_acuity_range", sql`${t.logMar} between -0.5 and 3`)],
@@ -120,18 +127,35 @@ export const examBinocular = pgTable("exam_binocular", {
 
 export const iopMethodEnum = pgEnum("iop_method", ["goldmann", "non_contact", "rebound", "handheld_applanation", "other"]);
 
-/** Intraocular pressure per eye with the method and the time of day. */
+/** Intraocular pressure: each reading of each eye with its method and time of day (the mean is used). */
 export const examIop = pgTable(
   "exam_iop",
   {
     id: uuid().primaryKey().defaultRandom(),
     examId: examRef(),
     eye: eyeEnum().notNull(),
+    /** 1, 2, 3… in the order taken. */
+    reading: integer().notNull().default(1),
     mmHg: doublePrecision().notNull(),
     method: iopMethodEnum().notNull(),
     measuredTime: time().notNull(),
   },
-  (t) => [uniqueIndex("exam_iop_uq").on(t.examId, t.eye), check("exam_iop_range", sql`${t.mmHg} between 1 and 80`)],
+  (t) => [
+    uniqueIndex("exam_iop_reading_uq").on(t.examId, t.eye, t.reading),
+    check("exam_iop_range", sql`${t.mmHg} between 1 and 80`),
+    check("exam_iop_reading", sql`${t.reading} between 1 and 6`),
+  ],
+);
+
+/** Central corneal thickness per eye when measured (pachymetry), micrometres. */
+export const examCornealThickness = pgTable(
+  "exam_corneal_thickness",
+  {
+    examId: examRef(),
+    eye: eyeEnum().notNull(),
+    micrometres: integer().notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.examId, t.eye] }), check("exam_corneal_thickness_range", sql`${t.micrometres} between 300 and 800`)],
 );
 
 export const colourTestEnum = pgEnum("colour_test", ["plates_38", "plates_24", "plates_other", "arrangement", "other"]);
@@ -199,6 +223,131 @@ export const examSegments = pgTable(
     notes: text().notNull().default(""),
   },
   (t) => [uniqueIndex("exam_segments_uq").on(t.examId, t.eye, t.segment)],
+);
+
+/**
+ * Red-flag history, asked at this visit. Per-eye symptoms hold the eye(s) affected, null when
+ * the patient denies it; a row means the questions were asked.
+ */
+export const examRedFlags = pgTable("exam_red_flags", {
+  examId: examRef().primaryKey(),
+  flashes: eyeOrBothEnum(),
+  newFloaters: eyeOrBothEnum(),
+  curtain: eyeOrBothEnum(),
+  suddenLoss: eyeOrBothEnum(),
+  severePain: eyeOrBothEnum(),
+  redEye: eyeOrBothEnum(),
+  distortion: eyeOrBothEnum(),
+  newDiplopia: boolean().notNull().default(false),
+  /** Headache with features of giant-cell arteritis (jaw claudication, scalp tenderness, visual symptoms, malaise, age over 50). */
+  gcaSymptoms: boolean().notNull().default(false),
+  /** Onset, duration and anything else the patient said. */
+  notes: text().notNull().default(""),
+  updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+});
+
+/** Pupils per eye. */
+export const examPupils = pgTable(
+  "exam_pupils",
+  {
+    examId: examRef(),
+    eye: eyeEnum().notNull(),
+    /** Round and reacting normally to light (direct and consensual) and near. */
+    equalReactive: boolean().notNull().default(false),
+    /** Relative afferent pupillary defect in this eye. */
+    rapd: boolean().notNull().default(false),
+    /** This pupil is the larger one (anisocoria). */
+    larger: boolean().notNull().default(false),
+    sizeMm: doublePrecision(),
+    notes: text().notNull().default(""),
+  },
+  (t) => [primaryKey({ columns: [t.examId, t.eye] }), check("exam_pupils_size", sql`${t.sizeMm} is null or ${t.sizeMm} between 1 and 10`)],
+);
+
+export const acCellsEnum = pgEnum("ac_cells", ["none", "trace", "1+", "2+", "3+", "4+"]);
+
+/** Anterior chamber per eye: van Herick angle grade, cells, hyphaema, hypopyon. */
+export const examAnteriorChamber = pgTable(
+  "exam_anterior_chamber",
+  {
+    examId: examRef(),
+    eye: eyeEnum().notNull(),
+    /** Van Herick grade 0 to 4 (peripheral chamber depth against corneal thickness). */
+    vanHerick: integer(),
+    cells: acCellsEnum(),
+    hyphaema: boolean().notNull().default(false),
+    hypopyon: boolean().notNull().default(false),
+    notes: text().notNull().default(""),
+  },
+  (t) => [primaryKey({ columns: [t.examId, t.eye] }), check("exam_anterior_chamber_van_herick", sql`${t.vanHerick} is null or ${t.vanHerick} between 0 and 4`)],
+);
+
+export const discMarginsEnum = pgEnum("disc_margins", ["distinct", "blurred"]);
+
+/** Optic disc per eye. */
+export const examDiscs = pgTable(
+  "exam_discs",
+  {
+    examId: examRef(),
+    eye: eyeEnum().notNull(),
+    verticalCd: doublePrecision(),
+    margins: discMarginsEnum(),
+    swelling: boolean().notNull().default(false),
+    haemorrhage: boolean().notNull().default(false),
+    pallor: boolean().notNull().default(false),
+    notes: text().notNull().default(""),
+  },
+  (t) => [primaryKey({ columns: [t.examId, t.eye] }), check("exam_discs_cd", sql`${t.verticalCd} is null or ${t.verticalCd} between 0 and 1`)],
+);
+
+/** Macula, vitreous and periphery findings per eye. */
+export const examFundus = pgTable(
+  "exam_fundus",
+  {
+    examId: examRef(),
+    eye: eyeEnum().notNull(),
+    vitreousDetachment: boolean().notNull().default(false),
+    vitreousPigment: boolean().notNull().default(false),
+    retinalBreak: boolean().notNull().default(false),
+    retinalDetachment: boolean().notNull().default(false),
+    drusen: boolean().notNull().default(false),
+    suspectedWetAmd: boolean().notNull().default(false),
+    maculaNotes: text().notNull().default(""),
+    peripheryNotes: text().notNull().default(""),
+  },
+  (t) => [primaryKey({ columns: [t.examId, t.eye] })],
+);
+
+export const dilatingDrugEnum = pgEnum("dilating_drug", ["tropicamide", "phenylephrine", "cyclopentolate", "other"]);
+
+/** Drops instilled to dilate: drug, strength, eye(s), time. */
+export const examDilations = pgTable(
+  "exam_dilations",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    examId: examRef(),
+    drug: dilatingDrugEnum().notNull(),
+    otherDrug: text().notNull().default(""),
+    strengthPercent: doublePrecision().notNull(),
+    eye: eyeOrBothEnum().notNull(),
+    instilledAt: timestamp({ withTimezone: true }).notNull(),
+    batch: text().notNull().default(""),
+  },
+  (t) => [index("exam_dilations_exam_idx").on(t.examId, t.instilledAt), check("exam_dilations_strength", sql`${t.strengthPercent} > 0 and ${t.strengthPercent} <= 10`)],
+);
+
+/** A second clinician's countersignature of a signed exam. */
+export const examCountersignatures = pgTable(
+  "exam_countersignatures",
+  {
+    examId: examRef(),
+    clinicianId: uuid()
+      .notNull()
+      .references(() => users.id, { onDelete: "restrict" }),
+    note: text().notNull().default(""),
+    signedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [primaryKey({ columns: [t.examId, t.clinicianId] })],
 );
 
 /** Assessment and plan. */

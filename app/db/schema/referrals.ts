@@ -50,9 +50,18 @@ export type ReferralSnapshot = {
   signedAt: string | null;
   examiner: string;
   history: { reason: string; symptoms: string; ocularHistory: string; generalHistory: string; medications: string; familyHistory: string } | null;
-  acuity: { eye: "right" | "left" | "both"; distance: "distance" | "near"; correction: "unaided" | "habitual" | "best"; notation: string; logMar: number }[];
+  acuity: { eye: "right" | "left" | "both"; distance: "distance" | "near"; correction: "unaided" | "habitual" | "best" | "pinhole"; notation: string; logMar: number; scale?: string | null }[];
   refraction: { kind: string; eye: "right" | "left"; text: string; add: number | null; prism: string | null; va: string | null }[];
-  iop: { eye: "right" | "left"; mmHg: number; method: string; time: string }[];
+  iop: { eye: "right" | "left"; mmHg: number; method: string; time: string; reading?: number }[];
+  /** Added with the structured findings; absent on letters drafted before them. */
+  cornealThickness?: { eye: "right" | "left"; micrometres: number }[];
+  redFlags?: { flashes: string | null; newFloaters: string | null; curtain: string | null; suddenLoss: string | null; severePain: string | null; redEye: string | null; distortion: string | null; newDiplopia: boolean; gcaSymptoms: boolean; notes: string } | null;
+  pupils?: { eye: "right" | "left"; equalReactive: boolean; rapd: boolean; larger: boolean; sizeMm: number | null; notes: string }[];
+  anteriorChamber?: { eye: "right" | "left"; vanHerick: number | null; cells: string | null; hyphaema: boolean; hypopyon: boolean; notes: string }[];
+  discs?: { eye: "right" | "left"; verticalCd: number | null; margins: string | null; swelling: boolean; haemorrhage: boolean; pallor: boolean; notes: string }[];
+  fundus?: { eye: "right" | "left"; vitreousDetachment: boolean; vitreousPigment: boolean; retinalBreak: boolean; retinalDetachment: boolean; drusen: boolean; suspectedWetAmd: boolean; maculaNotes: string; peripheryNotes: string }[];
+  dilations?: { drug: string; strengthPercent: number; eye: string; instilledAt: string }[];
+  triage?: { urgency: string | null; reasons: { urgency: string; eye?: string; rule: string; source: string }[] } | null;
   colour: { eye: "right" | "left"; test: string; platesCorrect: number | null; platesShown: number | null; result: string; notes: string }[];
   fields: {
     eye: "right" | "left";

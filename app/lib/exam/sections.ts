@@ -22,8 +22,8 @@ export const REFRACTION_LABEL: Record<RefractionKind, string> = {
 
 export const ACUITY_EYES = ["right", "left", "both"] as const;
 export const ACUITY_DISTANCES = ["distance", "near"] as const;
-export const ACUITY_CORRECTIONS = ["unaided", "habitual", "best"] as const;
-export const ACUITY_CORRECTION_LABEL = { unaided: "Unaided", habitual: "Habitual correction", best: "Best corrected" } as const;
+export const ACUITY_CORRECTIONS = ["unaided", "habitual", "best", "pinhole"] as const;
+export const ACUITY_CORRECTION_LABEL = { unaided: "Unaided", habitual: "Habitual correction", best: "Best corrected", pinhole: "Pinhole" } as const;
 
 export const PRISM_BASES = ["up", "down", "in", "out"] as const;
 export const IOP_METHODS = { goldmann: "Goldmann applanation", non_contact: "Non-contact", rebound: "Rebound", handheld_applanation: "Hand-held applanation", other: "Other" } as const;
