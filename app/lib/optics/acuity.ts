@@ -183,3 +183,199 @@ export function fromLogMAR(logMAR: number, notation: "feet" | "metres" | "decima
   const decimal = 10 ** -logMAR;
   return decimal >= 0.1 ? decimal.toFixed(2) : decimal.toPrecision(2);
 }
+
+// ------------------------------------------------------------ reading typed acuity
+
+/** How a practice writes acuity: Snellen in metres (6/6), Snellen in feet (20/20), decimal (1.0) or logMAR (0.00). */
+export const ACUITY_NOTATIONS = ["metric", "feet", "decimal", "logmar"] as const;
+export type AcuityNotation = (typeof ACUITY_NOTATIONS)[number];
+export const ACUITY_NOTATION_LABEL: Record<AcuityNotation, string> = {
+  metric: "Snellen, metres (6/6)",
+  feet: "Snellen, feet (20/20)",
+  decimal: "Decimal (1.0)",
+  logmar: "logMAR (0.00)",
+};
+
+/** What {@link readAcuity} read. */
+export type AcuityRead = {
+  ok: true;
+  /** logMAR, rounded to 0.01 (a letter is 0.02). */
+  logMAR: number;
+  /** Unambiguous text to store and show: "6/9-2", "logMAR 1.00", "decimal 0.50", "N8", "0.80M", "CF 1m", "PH 6/9". */
+  display: string;
+  /** What was read, for the clinician to confirm before saving: "reads as 6/60, logMAR 1.00". */
+  echo: string;
+  kind: "chart" | "low_vision";
+  pinhole: boolean;
+  /** Letters missed on the line (negative: letters read on the next line). */
+  lettersMissed: number;
+};
+export type AcuityReadError = { ok: false; error: string };
+export type AcuityReadOptions = {
+  /** The practice's notation; decides what a bare number means. Null or absent: a bare number is refused. */
+  notation?: AcuityNotation | null;
+  distance: "distance" | "near";
+  /** Near test distance in centimetres (default 40). */
+  nearDistanceCm?: number;
+};
+
+/** Chart acuities outside this logMAR range are refused: better than 6/3 is not measured, worse than 1/60 is recorded as CF/HM/LP/NLP. */
+export const CHART_LOGMAR_RANGE = { min: -0.3, max: 1.8 } as const;
+/** Most letters that may be recorded as missed (or gained) on a line; a logMAR line has five letters (Bailey & Lovie 1976). */
+export const MAX_LETTERS = 4;
+/**
+ * N-point print size to M units: N = 8 × M (N8 ≈ 1.0M, N6 ≈ 0.8M, N3 ≈ 0.4M), as in the usual
+ * near-acuity equivalence tables at 40 cm (6/15 = 1M = N8; 6/6 = 0.4M = N3) — common practice.
+ */
+export const N_POINTS_PER_M = 8;
+
+const round2 = (x: number) => {
+  const r = Math.round(x * 100) / 100;
+  return r === 0 ? 0 : r;
+};
+const f2 = (x: number) => round2(x).toFixed(2);
+const fail = (error: string): AcuityReadError => ({ ok: false, error });
+const NUMBER = String.raw`(\d+(?:\.\d+)?|\.\d+)`;
+const SIGNED = String.raw`([+-]?(?:\d+(?:\.\d+)?|\.\d+))`;
+
+/**
+ * Reads a typed acuity in the practice's notation and says what it read, or refuses it with a
+ * message. A Snellen fraction is the same in any notation (6/12, 20/40, 3/60; "-2"/"+1" count
+ * letters at 0.02 logMAR each). A bare number is decimal or logMAR only when the practice's
+ * notation says which: "1.0" is 6/6 in decimal but 6/60 in logMAR, so without that it is refused.
+ * A unit typed with the number ("1.0 logMAR", "decimal 0.5") always wins. CF/HM/LP/NLP get the
+ * stand-in values of {@link LOW_VISION_LOGMAR}. "PH" before or after marks pinhole acuity.
+ * Near acuity is read in N-point print sizes (N8) or M units (1.0M) at the test distance.
+ */
+export function readAcuity(text: string, options: AcuityReadOptions): AcuityRead | AcuityReadError {
+  if (typeof text !== "string") return fail("Type the acuity as text.");
+  const notation = options.notation ?? null;
+  if (notation !== null && !(ACUITY_NOTATIONS as readonly string[]).includes(notation)) return fail(`Unknown acuity notation "${String(notation)}".`);
+  const near = options.distance === "near";
+  const cm = options.nearDistanceCm ?? 40;
+  if (!Number.isFinite(cm) || cm < 10 || cm > 100) return fail(`Near test distance ${String(cm)} cm is outside 10–100 cm.`);
+
+  let t = text
+    .replace(/[\u2212\u2012\u2013\uFE63\uFF0D]/g, "-")
+    .toLowerCase()
+    .replace(/\s+/g, " ")
+    .trim();
+  if (!t) return fail("Empty acuity.");
+  let pinhole = false;
+  const ph = /^(?:ph|pinhole)\s*:?\s*(.+)$/.exec(t) ?? /^(.+?)\s*\(?\s*(?:ph|pinhole)\s*\)?$/.exec(t);
+  if (ph) {
+    pinhole = true;
+    t = ph[1]!.trim();
+  }
+  const done = (logMAR: number, display: string, what: string, kind: AcuityRead["kind"] = "chart", lettersMissed = 0): AcuityRead | AcuityReadError => {
+    const v = round2(logMAR);
+    if (kind === "chart" && (v < CHART_LOGMAR_RANGE.min - 1e-9 || v > CHART_LOGMAR_RANGE.max + 1e-9)) {
+      return fail(
+        v < CHART_LOGMAR_RANGE.min
+          ? `"${text.trim()}" reads as logMAR ${f2(v)}, better than ${f2(CHART_LOGMAR_RANGE.min)} (6/3), which charts do not measure. Check the value and its notation.`
+          : `"${text.trim()}" reads as logMAR ${f2(v)}, worse than ${f2(CHART_LOGMAR_RANGE.max)} (about 1/60). Check the value, or record CF, HM, LP or NLP.`,
+      );
+    }
+    return {
+      ok: true,
+      logMAR: v,
+      display: pinhole ? `PH ${display}` : display,
+      echo: `${pinhole ? "pinhole, " : ""}reads as ${what}`,
+      kind,
+      pinhole,
+      lettersMissed,
+    };
+  };
+
+  // Hex, exponents and the like are not acuities.
+  if (/0x|\d\s*e\s*[+-]?\d|infinity|nan/.test(t)) return fail(`"${text.trim()}" is not an acuity: type a chart value such as 6/9, 20/30, 0.66 decimal or 0.18 logMAR.`);
+
+  // Counting fingers, hand movements, light perception.
+  for (const [category, pattern] of LOW_VISION_PATTERNS) {
+    if (!pattern.test(t.replace(/\./g, (dot, i: number, whole: string) => (/\d/.test(whole.charAt(i + 1)) ? dot : "")))) continue;
+    if (near) return fail(`${LOW_VISION_LOGMAR[category].label} is a distance finding; record it in the distance acuity.`);
+    const at = /(\d+(?:\.\d+)?)\s*(cm|m|metres?|meters?|ft|feet|foot|'|′)/.exec(t);
+    const unit = at ? (at[2]!.startsWith("c") ? "cm" : /^(m|met)/.test(at[2]!) ? "m" : "ft") : "";
+    const display = `${category}${at ? ` ${at[1]}${unit}` : ""}`;
+    const lv = LOW_VISION_LOGMAR[category];
+    return done(lv.logMAR, display, `${lv.label}${at ? ` at ${at[1]} ${unit}` : ""}, recorded as logMAR ${f2(lv.logMAR)} (a stand-in value, not a chart measurement)`, "low_vision");
+  }
+
+  // A unit typed with the number.
+  const logmar = new RegExp(String.raw`^(?:logmar\s*:?\s*${SIGNED}|${SIGNED}\s*logmar)$`).exec(t);
+  if (logmar) {
+    const v = Number(logmar[1] ?? logmar[2]);
+    return done(v, `logMAR ${f2(v)}`, `logMAR ${f2(v)} (${equivalent(v)})`);
+  }
+  const dec = new RegExp(String.raw`^(?:dec(?:imal)?\s*:?\s*${NUMBER}|${NUMBER}\s*dec(?:imal)?)$`).exec(t);
+  if (dec) return readDecimal(Number(dec[1] ?? dec[2]), text, done);
+
+  // Near print sizes.
+  const npoint = new RegExp(String.raw`^n\s*${NUMBER}$`).exec(t);
+  const munits = new RegExp(String.raw`^(?:m\s*${NUMBER}|${NUMBER}\s*m)$`).exec(t);
+  if (npoint || munits) {
+    if (!near) return fail(`"${text.trim()}" is a near print size; record it in the near acuity.`);
+    const m = npoint ? Number(npoint[1]) / N_POINTS_PER_M : Number(munits![1] ?? munits![2]);
+    if (npoint && !(Number(npoint[1]) >= 3 && Number(npoint[1]) <= 80)) return fail(`N${npoint[1]} is outside the N3–N80 print sizes of near charts.`);
+    if (munits && !(m >= 0.3 && m <= 10)) return fail(`${munits[1] ?? munits[2]}M is outside the 0.3M–10M print sizes of near charts.`);
+    const v = Math.log10(m / (cm / 100));
+    const display = npoint ? `N${Number(npoint[1])}` : `${m.toFixed(2)}M`;
+    return done(v, display, `${display} at ${cm} cm${npoint ? ` (${m.toFixed(2)}M)` : ""}, logMAR ${f2(v)} (${equivalent(v)})`);
+  }
+
+  // Snellen fractions, with letters missed or gained.
+  const frac = new RegExp(String.raw`^${NUMBER}\s*\/\s*${NUMBER}(?:\s*([+-])\s*(\d+))?$`).exec(t);
+  if (frac) {
+    const d = Number(frac[1]);
+    const size = Number(frac[2]);
+    if (!(d > 0) || !(size > 0)) return fail(`"${text.trim()}" has a zero in its fraction.`);
+    if (d > 20) return fail(`"${text.trim()}": the test distance ${d} is not a chart distance (6 m, 20 ft, or a shorter one such as 3/60).`);
+    let letters = 0;
+    if (frac[3] && frac[4]) {
+      letters = Number(frac[4]) * (frac[3] === "-" ? 1 : -1);
+      if (Math.abs(letters) < 1 || Math.abs(letters) > MAX_LETTERS) {
+        return fail(`"${text.trim()}": record 1 to ${MAX_LETTERS} letters missed or gained; with more, record the line above or below.`);
+      }
+    }
+    const v = Math.log10(size / d) + letters * LOGMAR_PER_LETTER;
+    const base = `${frac[1]}/${frac[2]}`;
+    const display = letters ? `${base}${letters > 0 ? "-" : "+"}${Math.abs(letters)}` : base;
+    const letterWords = letters ? ` ${letters > 0 ? "−" : "+"}${Math.abs(letters)} letter${Math.abs(letters) === 1 ? "" : "s"}` : "";
+    const unitWords = d === 20 ? ` (${fromLogMAR(clampForLabel(Math.log10(size / d)), "metres")})` : "";
+    return done(v, display, `${base}${letterWords}${unitWords}, logMAR ${f2(v)}`, "chart", letters);
+  }
+
+  // A bare number: its meaning depends on the notation.
+  const bare = new RegExp(String.raw`^${SIGNED}$`).exec(t);
+  if (bare) {
+    const v = Number(bare[1]);
+    if (notation === "logmar") return done(v, `logMAR ${f2(v)}`, `logMAR ${f2(v)} (${equivalent(v)})`);
+    if (notation === "decimal") return readDecimal(v, text, done);
+    if (Number.isInteger(v) && v >= 3) {
+      return fail(`"${text.trim()}" looks like the bottom of a Snellen fraction: type the whole fraction (${notation === "feet" ? `20/${v}` : `6/${v}`}).`);
+    }
+    const asDecimal = v > 0 ? ` as decimal it would be ${equivalentSafe(-Math.log10(v))},` : "";
+    const asLogmar = v >= CHART_LOGMAR_RANGE.min && v <= CHART_LOGMAR_RANGE.max ? ` as logMAR ${equivalentSafe(v)},` : "";
+    return fail(
+      `"${text.trim()}" cannot be read unambiguously:${asDecimal}${asLogmar} ` +
+        `so type a Snellen fraction (${notation === "feet" ? "20/20" : "6/6"}) or add the unit ("${bare[1]} decimal" or "${bare[1]} logMAR").`,
+    );
+  }
+  return fail(`"${text.trim()}" is not a recognised acuity: type ${near ? "N8, 1.0M, " : ""}6/9, 20/30, "0.66 decimal", "0.18 logMAR", CF, HM, LP or NLP.`);
+}
+
+function readDecimal(v: number, text: string, done: (l: number, d: string, w: string) => AcuityRead | AcuityReadError): AcuityRead | AcuityReadError {
+  if (!(v > 0)) return fail(`Decimal acuity "${text.trim()}" must be greater than 0; for logMAR 0.0 type "0.0 logMAR".`);
+  if (v > 2) return fail(`"${text.trim()}" is not a decimal acuity (0.02 to 2.0); for a Snellen value type the fraction, for example 6/${text.trim()}.`);
+  const l = -Math.log10(v);
+  return done(l, `decimal ${v.toFixed(2)}`, `decimal ${v.toFixed(2)} (${equivalent(l)}), logMAR ${f2(l)}`);
+}
+
+const clampForLabel = (l: number) => Math.min(LOGMAR_RANGE.max, Math.max(LOGMAR_RANGE.min, l));
+/** "6/60" — the metric Snellen line of a logMAR value. */
+function equivalent(logMAR: number): string {
+  return fromLogMAR(clampForLabel(round2(logMAR)), "metres");
+}
+function equivalentSafe(logMAR: number): string {
+  return logMAR < LOGMAR_RANGE.min || logMAR > LOGMAR_RANGE.max ? "off the chart" : equivalent(logMAR);
+}

@@ -43,7 +43,17 @@ export {
   type VerticalImbalance,
 } from "./prism";
 export {
+  ACUITY_NOTATIONS,
+  ACUITY_NOTATION_LABEL,
   AcuityError,
+  CHART_LOGMAR_RANGE,
+  MAX_LETTERS,
+  N_POINTS_PER_M,
+  readAcuity,
+  type AcuityNotation,
+  type AcuityRead,
+  type AcuityReadError,
+  type AcuityReadOptions,
   LOGMAR_PER_LETTER,
   LOGMAR_RANGE,
   LOW_VISION_LOGMAR,
