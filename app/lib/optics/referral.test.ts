@@ -17,15 +17,36 @@ describe("referralPrompts", () => {
     expect(referralPrompts({})).toEqual([]);
   });
 
-  it("prompts IOP above 21 mmHg (Hollows & Graham 1966 — from memory), not at 21", () => {
-    const prompts = referralPrompts({ iopMmHg: { right: 22, left: 21 } });
+  it("prompts a mean applanation IOP of 24 mmHg or more (NICE NG81 1.1.4), not 23.5", () => {
+    const prompts = referralPrompts({ iop: { right: { readings: [24, 25], method: "applanation" }, left: { readings: [22, 25], method: "applanation" } } });
     expect(codes(prompts)).toEqual(["IOP_ABOVE_NORMAL:right"]);
-    expect(prompts[0]).toMatchObject({ value: 22, message: "Right IOP 22 mmHg is above 21 mmHg" });
-    expect(prompts[0]?.source).toMatch(/Hollows FC, Graham PA/);
+    expect(prompts[0]).toMatchObject({ action: "consider referral", value: 24.5, message: "Right mean IOP 24.5 mmHg by applanation (readings 24, 25): 24 mmHg or more" });
+    expect(prompts[0]?.source).toMatch(/NG81.*1\.1\.4/);
   });
 
-  it("prompts an IOP difference of 5 mmHg or more between the eyes (common practice)", () => {
-    expect(codes(referralPrompts({ iopMmHg: { right: 14, left: 19 } }))).toEqual(["IOP_ASYMMETRY:both"]);
+  it("asks for a repeat by applanation, not a referral, when a raised IOP rests on non-contact tonometry (NICE NG81 1.1.2)", () => {
+    const prompts = referralPrompts({ iop: { right: { readings: [26], method: "non-contact" } } });
+    expect(codes(prompts)).toEqual(["IOP_REPEAT:right"]);
+    expect(prompts[0]).toMatchObject({ action: "repeat measurement", message: "Right IOP 26 mmHg by non-contact tonometry (one reading): 24 mmHg or more — repeat with Goldmann-type applanation before deciding to refer" });
+    expect(prompts[0]?.source).toMatch(/NG81, recommendation 1\.1\.2/);
+    // A single value without a method is treated the same way.
+    expect(codes(referralPrompts({ iopMmHg: { right: 26 } }))).toEqual(["IOP_REPEAT:right"]);
+  });
+
+  it("prompts referral at a mean of 40 mmHg or more by any method (College of Optometrists GPP C205)", () => {
+    const prompts = referralPrompts({ iop: { left: { readings: [41, 43], method: "non-contact" } } });
+    expect(codes(prompts)).toEqual(["IOP_ABOVE_NORMAL:left"]);
+    expect(prompts[0]?.source).toMatch(/C205/);
+  });
+
+  it("uses the mean for asymmetry, and says a single non-contact reading should be repeated (common practice)", () => {
+    expect(codes(referralPrompts({ iop: { right: { readings: [14, 15, 15], method: "applanation" }, left: { readings: [19, 20, 20], method: "applanation" } } }))).toEqual(["IOP_ASYMMETRY:both"]);
+    // Single readings of 14 and 19 differ by 5, but the means of three readings each do not.
+    expect(referralPrompts({ iop: { right: { readings: [14, 16, 17], method: "non-contact" }, left: { readings: [19, 18, 17], method: "non-contact" } } })).toEqual([]);
+    const single = referralPrompts({ iopMmHg: { right: 14, left: 19 } });
+    expect(codes(single)).toEqual(["IOP_REPEAT:both"]);
+    expect(single[0]?.message).toMatch(/on a single reading \(R 14, L 19\) — take several readings per eye, or measure by applanation/);
+    expect(single[0]?.action).toBe("repeat measurement");
     expect(referralPrompts({ iopMmHg: { right: 14, left: 18 } })).toEqual([]);
   });
 
@@ -84,7 +105,7 @@ describe("referralPrompts", () => {
 
   it("marks every prompt as a prompt for the optometrist's judgement, with rule and source", () => {
     const prompts = referralPrompts({
-      iopMmHg: { right: 30, left: 12 },
+      iop: { right: { readings: [30, 31], method: "applanation" }, left: { readings: [12], method: "applanation" } },
       blindSpot: { left: { centreXDeg: 15, centreYDeg: -1.5, widthDeg: 10, heightDeg: 7.5 } },
       colourVision: { left: { result: "deficiency suspected", changedFromPrevious: true } },
       fieldDefect: { right: { present: true } },
@@ -99,7 +120,8 @@ describe("referralPrompts", () => {
   });
 
   it("rejects implausible or unreadable values", () => {
-    expect(() => referralPrompts({ iopMmHg: { right: 120 } })).toThrow(/outside 0–80 mmHg/);
+    expect(() => referralPrompts({ iopMmHg: { right: 120 } })).toThrow(/outside 1–80 mmHg/);
+    expect(() => referralPrompts({ iop: { right: { readings: [0] } } })).toThrow(/outside 1–80 mmHg/);
     expect(() => referralPrompts({ iopMmHg: { right: Number.NaN } })).toThrow(RxError);
     expect(() => referralPrompts({ acuity: { right: { bestCorrected: "six over six" } } })).toThrow(AcuityError);
   });

@@ -139,7 +139,7 @@ export function sendProblems(input: { recipientEmail: string | null | undefined;
 /** A prompt's measured value with its unit, as the letter and the pages show it. */
 export function promptValue(p: { code: string; value: number | string }): string {
   if (typeof p.value !== "number") return p.value;
-  if (p.code === "IOP_ABOVE_NORMAL" || p.code === "IOP_ASYMMETRY") return `${p.value} mmHg`;
+  if (p.code === "IOP_ABOVE_NORMAL" || p.code === "IOP_ASYMMETRY" || p.code === "IOP_REPEAT") return `${p.value} mmHg`;
   if (p.code === "ACUITY_REDUCED") return `${p.value.toFixed(2)} logMAR`;
   if (p.code === "ACUITY_DROP") return `${p.value.toFixed(2)} logMAR lost`;
   return String(p.value);
