@@ -77,6 +77,7 @@ export {
   NORMAL_BLIND_SPOT,
   PLATE_CRITERIA,
   checkBlindSpot,
+  countedPlates,
   myopiaProgression,
   screenColourVision,
   type BlindSpotMeasurement,

@@ -50,6 +50,14 @@ describe("referralPrompts", () => {
     expect(referralPrompts({ iopMmHg: { right: 14, left: 18 } })).toEqual([]);
   });
 
+  it("prompts a blue-yellow defect found for the first time, not one already on record (common practice)", () => {
+    const prompts = referralPrompts({ colourVision: { right: { result: "deficiency suspected", kind: "blue-yellow" }, left: { result: "deficiency suspected", kind: "blue-yellow", blueYellowBefore: true } } });
+    expect(codes(prompts)).toEqual(["COLOUR_VISION_BLUE_YELLOW:right"]);
+    expect(prompts[0]).toMatchObject({ action: "consider referral", message: "Right eye: blue-yellow colour-vision defect found for the first time" });
+    // A red-green defect alike in both eyes and unchanged is congenital-looking: no prompt.
+    expect(referralPrompts({ colourVision: { right: { result: "deficiency suspected", kind: "red-green" }, left: { result: "deficiency suspected", kind: "red-green" } } })).toEqual([]);
+  });
+
   it("prompts an enlarged or displaced blind spot", () => {
     const prompts = referralPrompts({
       blindSpot: {

@@ -27,6 +27,10 @@ export type ReferralFindings = {
     result: ColourVisionResult["result"];
     /** True when this eye's result differs from its previous result (an acquired change). */
     changedFromPrevious?: boolean;
+    /** Which axis the deficiency is on, when known (plates screen red-green only; blue-yellow needs its own test). */
+    kind?: "red-green" | "blue-yellow";
+    /** True when a blue-yellow deficiency of this eye was already on record before this visit. */
+    blueYellowBefore?: boolean;
   }>;
   fieldDefect?: PerEye<{ present: boolean; description?: string }>;
   acuity?: PerEye<{
@@ -48,6 +52,7 @@ export type ReferralCode =
   | "BLIND_SPOT_DISPLACED"
   | "COLOUR_VISION_ACQUIRED"
   | "COLOUR_VISION_ASYMMETRIC"
+  | "COLOUR_VISION_BLUE_YELLOW"
   | "FIELD_DEFECT"
   | "ACUITY_REDUCED"
   | "ACUITY_DROP";
@@ -236,6 +241,21 @@ function colourVisionPrompts(cv: NonNullable<ReferralFindings["colourVision"]>):
         source: `${COMMON_PRACTICE}: congenital red-green deficiency is present from birth and stable, so a change suggests an acquired cause`,
       });
     }
+  }
+  for (const eye of EYES) {
+    const finding = cv[eye];
+    if (finding?.kind !== "blue-yellow" || finding.result !== "deficiency suspected" || finding.blueYellowBefore === true) continue;
+    prompts.push({
+      code: "COLOUR_VISION_BLUE_YELLOW",
+      action: "consider referral",
+      eye,
+      message: `${EYE_NAME[eye]} eye: blue-yellow colour-vision defect found for the first time`,
+      value: "blue-yellow defect",
+      rule: rule("A blue-yellow (tritan) defect not on record before"),
+      source:
+        `${COMMON_PRACTICE}: congenital tritan defects are rare (of the order of 1 in 10,000 or fewer — from memory), so a new ` +
+        "blue-yellow defect is usually acquired (optic nerve or macular disease, cataract, medication) and calls for investigation",
+    });
   }
   const right = cv.right?.result;
   const left = cv.left?.result;

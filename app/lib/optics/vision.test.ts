@@ -55,30 +55,46 @@ describe("checkBlindSpot", () => {
   });
 });
 
-describe("screenColourVision — Ishihara 38-plate edition", () => {
-  // Manual criterion (from memory): of plates 1–15, 13+ read normally = normal, 9 or fewer = red-green deficiency.
+describe("screenColourVision — Ishihara 38- and 24-plate editions", () => {
+  // Instructions of the 38-plate edition (from memory; not found in the reference search): plates 1–21,
+  // 17 or more read normally = normal, 13 or fewer = deficient. Plate 1 (demonstration) is read by everyone,
+  // so over the 20 counted plates 2–21 that is 16 or more = normal, 12 or fewer = deficient.
   it.each([
-    [15, 15, "normal"],
-    [13, 15, "normal"],
-    [12, 15, "inconclusive"],
-    [10, 15, "inconclusive"],
-    [9, 15, "deficiency suspected"],
-    [0, 15, "deficiency suspected"],
-    [13, 13, "normal"], // already 13 read normally
-    [4, 10, "deficiency suspected"], // even if the 5 unseen were read, at most 9
-    [5, 10, "inconclusive"], // the 5 unseen plates could change the result
-  ] as const)("%s of %s shown → %s", (platesCorrect, platesShown, result) => {
+    [20, 20, "normal"],
+    [16, 20, "normal"], // 17 of 1–21 with the demonstration plate
+    [15, 20, "inconclusive"],
+    [13, 20, "inconclusive"],
+    [12, 20, "deficiency suspected"], // 13 of 1–21 with the demonstration plate
+    [0, 20, "deficiency suspected"],
+    [16, 16, "normal"], // already 16 read normally
+    [7, 15, "deficiency suspected"], // even if the 5 unseen were read, at most 12
+    [8, 15, "inconclusive"], // the 5 unseen plates could change the result
+  ] as const)("38-plate: %s of %s counted plates shown → %s", (platesCorrect, platesShown, result) => {
     const r = screenColourVision({ test: "ishihara-38", platesCorrect, platesShown });
     expect(r.result).toBe(result);
     expect(r.source).toMatch(/Ishihara S\. Tests for Colour-Deficiency, 38 plates edition/);
+    expect(r.source).toMatch(/from memory/);
+    expect(r.rule).toMatch(/demonstration plate 1 not counted/);
+  });
+
+  it("does not count the demonstration plate: a count including it is refused as too many plates", () => {
+    expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 21, platesShown: 21 })).toThrow(/exceeds the 20 plates/);
+  });
+
+  it.each([
+    [12, 14, "normal"], // 13 of plates 1–15 with the demonstration plate (24-plate instructions, from memory)
+    [11, 14, "inconclusive"],
+    [8, 14, "deficiency suspected"], // 9 of plates 1–15
+  ] as const)("24-plate: %s of %s counted plates → %s", (platesCorrect, platesShown, result) => {
+    expect(screenColourVision({ test: "ishihara-24", platesCorrect, platesShown }).result).toBe(result);
   });
 
   it("needs a criterion for editions without a built-in one", () => {
-    const r = screenColourVision({ test: "ishihara-24", platesCorrect: 20, platesShown: 24 });
+    const r = screenColourVision({ test: "ishihara-14", platesCorrect: 10, platesShown: 11 });
     expect(r.result).toBe("inconclusive");
-    expect(r.reasons[0]).toMatch(/No pass criterion is built in for "ishihara-24"/);
+    expect(r.reasons[0]).toMatch(/No pass criterion is built in for "ishihara-14"/);
     const withCriterion = screenColourVision({
-      test: "ishihara-24",
+      test: "ishihara-14",
       platesCorrect: 11,
       platesShown: 11,
       criterion: { platesAssessed: 11, normalMin: 10, deficientMax: 7, source: "edition manual" },
@@ -93,7 +109,7 @@ describe("screenColourVision — Ishihara 38-plate edition", () => {
 
   it("rejects inconsistent counts", () => {
     expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 16, platesShown: 15 })).toThrow(/cannot exceed/);
-    expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 10, platesShown: 20 })).toThrow(/exceeds the 15 plates/);
+    expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 10, platesShown: 25 })).toThrow(/exceeds the 20 plates/);
     expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 1.5, platesShown: 15 })).toThrow(/whole number/);
     expect(() =>
       screenColourVision({

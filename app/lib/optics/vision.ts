@@ -112,17 +112,47 @@ export type ColourVisionResult = {
   source: string;
 };
 
-/** Built-in criteria. Only the 38-plate edition is encoded; see ISHIHARA_38. */
+/**
+ * Built-in criteria, with the demonstration plate (plate 1, read by everyone, including people
+ * with a colour-vision deficiency) left out of the count.
+ *
+ * The manufacturer's instructions were not found in the reference search; the criteria below are
+ * the instructions as remembered (from memory) and must be checked against the booklet of the
+ * edition in use:
+ * - 38-plate edition: "an assessment of the readings of plates 1 to 21": 17 or more read normally
+ *   = normal, 13 or fewer = deficient. Plate 1 is the demonstration plate, so of the 20 plates
+ *   2–21 that count, 16 or more = normal and 12 or fewer = red-green deficiency.
+ * - 24-plate edition: plates 1 to 15, 13 or more = normal, 9 or fewer = deficient; without the
+ *   demonstration plate, of plates 2–15: 12 or more = normal, 8 or fewer = deficient.
+ * Only red-green deficiency is screened by these plates; they do not test blue-yellow vision.
+ */
 export const PLATE_CRITERIA: Readonly<Record<string, PlateCriterion>> = {
   "ishihara-38": {
-    platesAssessed: 15,
-    normalMin: 13,
-    deficientMax: 9,
+    platesAssessed: 20,
+    normalMin: 16,
+    deficientMax: 12,
     source:
-      "Ishihara S. Tests for Colour-Deficiency, 38 plates edition, Kanehara: assessment of plates 1–15; " +
-      "13 or more read normally = normal, 9 or fewer = red-green deficiency (from memory)",
+      "Ishihara S. Tests for Colour-Deficiency, 38 plates edition (Kanehara), instructions: assessment of plates 1–21, " +
+      "17 or more read normally = normal, 13 or fewer = deficient; counted here over plates 2–21 without the demonstration " +
+      "plate 1 (from memory: the booklet was not found in the reference search — check it against the booklet in use)",
+  },
+  "ishihara-24": {
+    platesAssessed: 14,
+    normalMin: 12,
+    deficientMax: 8,
+    source:
+      "Ishihara S. Tests for Colour-Deficiency, 24 plates edition (Kanehara), instructions: assessment of plates 1–15, " +
+      "13 or more read normally = normal, 9 or fewer = deficient; counted here over plates 2–15 without the demonstration " +
+      "plate 1 (from memory: check it against the booklet in use)",
   },
 };
+
+/** The plates that count for an edition, in the booklet's numbering ("2–21"). */
+export function countedPlates(test: PlateTest): string | null {
+  if (test === "ishihara-38") return "2–21";
+  if (test === "ishihara-24") return "2–15";
+  return null;
+}
 
 /**
  * Scores a pseudo-isochromatic plate screening with the manual's criterion
@@ -167,8 +197,9 @@ export function screenColourVision(input: ColourVisionInput): ColourVisionResult
         "count only those plates",
     );
   }
+  const plates = countedPlates(test) ?? `1–${platesAssessed}`;
   const rule =
-    `Of plates 1–${platesAssessed}: ${normalMin} or more read normally = normal; ` +
+    `Of the ${platesAssessed} plates ${plates}${countedPlates(test) ? " (demonstration plate 1 not counted)" : ""}: ${normalMin} or more read normally = normal; ` +
     `${deficientMax} or fewer = red-green deficiency suspected; otherwise inconclusive`;
   const unseen = platesAssessed - platesShown;
   const base = { rule, source: criterion.source };
