@@ -182,16 +182,18 @@ describe("chart", () => {
     const cookie = await cookieFor("optometrist");
     const chartOf = async (lastName: string) => {
       const [p] = await db.select().from(patients).where(eq(patients.lastName, lastName));
-      return dataOf<{ prompts: { code: string; eye: string }[]; progression: Record<string, { ratePerYear: number; fast: boolean }> | null; history: { M: number; kind: string }[] }>(
+      return dataOf<{ prompts: { code: string; eye: string }[]; progression: Record<string, { recent: { ratePerYear: number; atOrBeyondThreshold: boolean; label: string }; overall: { ratePerYear: number } | null }> | null; history: { M: number; kind: string }[] }>(
         await run(chartLoader, makeRequest(`/patients/${p!.id}`, { cookie }), { patientId: p!.id }),
       );
     };
     const referral = await chartOf("Strand-Achebe");
-    expect(referral.prompts.map((p) => `${p.code}:${p.eye}`).sort()).toEqual(["BLIND_SPOT_ENLARGED:right", "FIELD_DEFECT:right", "IOP_ABOVE_NORMAL:right", "IOP_ASYMMETRY:both"]);
+    expect(referral.prompts.map((p) => `${p.code}:${p.eye}`).sort()).toEqual(["BLIND_SPOT_ENLARGED:right", "FIELD_DEFECT:right", "IOP_REPEAT:both", "IOP_REPEAT:right"]);
     const child = await chartOf("Okafor-Lindqvist");
     // Seeded at -0.75 D a year: spherical equivalent of -0.75 -0.25 x 180 falls by 0.75 D per yearly exam.
-    expect(child.progression!.right!.ratePerYear).toBeCloseTo(-0.75, 1);
-    expect(child.progression!.right!.fast).toBe(true);
+    expect(child.progression!.right!.recent.ratePerYear).toBeCloseTo(-0.75, 1);
+    expect(child.progression!.right!.overall!.ratePerYear).toBeCloseTo(-0.75, 1);
+    expect(child.progression!.right!.recent.atOrBeyondThreshold).toBe(true);
+    expect(child.progression!.right!.recent.label).toMatch(/^Most recent interval/);
     expect(child.history.filter((h) => h.kind === "final")).toHaveLength(10);
     const adult = await chartOf("Sorrell-Amadi");
     expect(adult.progression).toBeNull();

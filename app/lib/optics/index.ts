@@ -78,7 +78,9 @@ export {
   PLATE_CRITERIA,
   checkBlindSpot,
   countedPlates,
+  MYOPIA_SE_THRESHOLD_D,
   myopiaProgression,
+  myopiaProgressionReport,
   screenColourVision,
   type BlindSpotMeasurement,
   type BlindSpotResult,
@@ -86,6 +88,8 @@ export {
   type ColourVisionResult,
   type DatedRx,
   type MyopiaProgression,
+  type MyopiaProgressionReport,
+  type ProgressionInterval,
   type PlateCriterion,
   type PlateTest,
 } from "./vision";

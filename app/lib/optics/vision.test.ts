@@ -5,6 +5,7 @@ import {
   RxError,
   checkBlindSpot,
   myopiaProgression,
+  myopiaProgressionReport,
   screenColourVision,
   type SphCyl,
 } from "./index";
@@ -158,5 +159,43 @@ describe("myopiaProgression", () => {
     expect(() => myopiaProgression({ date: "2024-06-01", rx: rx(-1) }, { date: "2024-06-01", rx: rx(-1) })).toThrow(/must be after/);
     expect(() => myopiaProgression({ date: "2024-02-30", rx: rx(-1) }, { date: "2024-06-01", rx: rx(-1) })).toThrow(/ISO 8601/);
     expect(() => myopiaProgression({ date: "2024-02-29", rx: rx(-1) }, { date: "2024-06-01T09:30:00Z", rx: rx(-1) })).not.toThrow();
+  });
+});
+
+describe("myopiaProgressionReport", () => {
+  const rx = (sphere: number, cylinder = 0) => ({ sphere, cylinder, axis: 180 });
+
+  it("shows myopic eyes only (IMI: spherical equivalent ≤ −0.50 D, Flitcroft et al. 2019)", () => {
+    // −0.25 −0.50 × 180 has SE −0.50: myopic by the IMI threshold.
+    expect(myopiaProgressionReport([{ date: "2024-01-10", rx: rx(0) }, { date: "2025-01-10", rx: rx(-0.25, -0.5) }])).not.toBeNull();
+    // SE −0.375 is above the threshold, and a hyperope is never reported.
+    expect(myopiaProgressionReport([{ date: "2024-01-10", rx: rx(0) }, { date: "2025-01-10", rx: rx(-0.25, -0.25) }])).toBeNull();
+    expect(myopiaProgressionReport([{ date: "2024-01-10", rx: rx(1) }, { date: "2025-01-10", rx: rx(0.5) }])).toBeNull();
+    expect(myopiaProgressionReport([{ date: "2025-01-10", rx: rx(-2) }])).toBeNull();
+  });
+
+  it("gives the most recent interval as well as the average, and does not call an average fast", () => {
+    // Fast early, slowed recently: −1.00 D/year for two years, then −0.25 D/year (rates by arithmetic).
+    const report = myopiaProgressionReport([
+      { date: "2022-03-01", rx: rx(-1) },
+      { date: "2023-03-01", rx: rx(-2) },
+      { date: "2024-02-29", rx: rx(-3) },
+      { date: "2025-03-01", rx: rx(-3.25) },
+    ])!;
+    expect(report.recent.ratePerYear).toBeCloseTo(-0.25, 2);
+    expect(report.recent.atOrBeyondThreshold).toBe(false);
+    expect(report.recent.label).toMatch(/^Most recent interval \(2024-02-29 to 2025-03-01\): −0\.25 D per year .* below the 0\.50 D per year review threshold$/);
+    expect(report.overall!.ratePerYear).toBeCloseTo(-0.75, 2);
+    expect(report.overall!.label).toMatch(/^Average over all visits .*on average at or beyond the 0\.50 D per year review threshold; see the most recent interval/);
+    for (const l of [report.recent.label, report.overall!.label]) expect(l).not.toMatch(/fast/i);
+    expect(report.thresholdMeaning).toMatch(/prompt for review, not a diagnosis/);
+  });
+
+  it("has no separate average with only two visits, and orders visits by date", () => {
+    const report = myopiaProgressionReport([{ date: "2025-06-01", rx: rx(-2.5) }, { date: "2024-06-01", rx: rx(-1.75) }])!;
+    expect(report.overall).toBeNull();
+    expect(report.recent.ratePerYear).toBeCloseTo(-0.75, 2);
+    expect(report.recent.atOrBeyondThreshold).toBe(true);
+    expect(report.recent.label).toMatch(/at or beyond the 0\.50 D per year review threshold over this interval/);
   });
 });

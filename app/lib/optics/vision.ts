@@ -292,3 +292,79 @@ export function myopiaProgression(earlier: DatedRx, later: DatedRx): MyopiaProgr
       "(Invest Ophthalmol Vis Sci 2019) — threshold from memory",
   };
 }
+
+/** Spherical equivalent (D) at or below which an eye is myopic (IMI consensus threshold). */
+export const MYOPIA_SE_THRESHOLD_D = -0.5;
+
+/** One interval of {@link myopiaProgressionReport}. */
+export type ProgressionInterval = MyopiaProgression & {
+  from: string;
+  to: string;
+  /** True when the myopic shift over this interval is 0.50 D/year or more. */
+  atOrBeyondThreshold: boolean;
+  /** Plain words for the chart: what was measured and what the threshold means. */
+  label: string;
+};
+
+/** Result of {@link myopiaProgressionReport}; null intervals when they cannot be computed. */
+export type MyopiaProgressionReport = {
+  /** The latest spherical equivalent, D. */
+  latestSE: number;
+  /** Rate over the most recent interval (the last two refractions). */
+  recent: ProgressionInterval;
+  /** Average rate from the first to the last refraction; null when there are only two. */
+  overall: ProgressionInterval | null;
+  /** What the 0.50 D/year threshold means, with its source. */
+  thresholdMeaning: string;
+  myopiaDefinition: string;
+};
+
+const THRESHOLD_MEANING =
+  "0.50 D per year is the myopic shift at which myopia-management practice commonly reviews the child and considers " +
+  "myopia control (common practice; International Myopia Institute white papers, Invest Ophthalmol Vis Sci 2019 — from memory). " +
+  "It is a prompt for review, not a diagnosis; refraction repeatability (about ±0.25–0.50 D) limits short intervals.";
+const MYOPIA_DEFINITION =
+  "Myopia: spherical equivalent of −0.50 D or less (Flitcroft DI et al. IMI – Defining and Classifying Myopia. " +
+  "Invest Ophthalmol Vis Sci 2019;60(3):M20–M30)";
+
+const d2 = (x: number) => `${x > 0 ? "+" : x < 0 ? "−" : ""}${Math.abs(x).toFixed(2)}`;
+
+function interval(a: DatedRx, b: DatedRx, kind: "recent" | "overall"): ProgressionInterval {
+  const p = myopiaProgression(a, b);
+  const atOrBeyond = p.ratePerYear <= FAST_MYOPIA_PROGRESSION_D_PER_YEAR + 1e-9;
+  const span = `${a.date.slice(0, 10)} to ${b.date.slice(0, 10)}`;
+  const what =
+    kind === "recent"
+      ? `Most recent interval (${span}): ${d2(p.ratePerYear)} D per year (${d2(p.changeD)} D in ${p.years.toFixed(1)} years)`
+      : `Average over all visits (${span}): ${d2(p.ratePerYear)} D per year (${d2(p.changeD)} D in ${p.years.toFixed(1)} years)`;
+  const verdict = atOrBeyond
+    ? kind === "recent"
+      ? "a myopic shift at or beyond the 0.50 D per year review threshold over this interval"
+      : "on average at or beyond the 0.50 D per year review threshold; see the most recent interval for the current rate"
+    : "below the 0.50 D per year review threshold";
+  return { ...p, from: a.date, to: b.date, atOrBeyondThreshold: atOrBeyond, label: `${what} — ${verdict}` };
+}
+
+/**
+ * Myopia progression of one eye of a child from its dated refractions (any order): the rate over
+ * the most recent interval and the average over all visits, each labelled with what the
+ * 0.50 D/year threshold means. Returns null when the eye is not myopic at the latest visit
+ * (spherical equivalent above −0.50 D, IMI definition) or fewer than two dated refractions exist.
+ */
+export function myopiaProgressionReport(series: DatedRx[]): MyopiaProgressionReport | null {
+  if (!Array.isArray(series)) throw new RxError("myopiaProgressionReport needs a list of dated refractions");
+  const dated = series.map((s) => ({ s, t: parseDate(s?.date, "refraction") })).sort((x, y) => x.t - y.t);
+  // Two refractions on one day (e.g. subjective and final) keep the last one given.
+  const byDay: DatedRx[] = [];
+  for (const { s } of dated) {
+    if (byDay.length && byDay[byDay.length - 1]!.date.slice(0, 10) === s.date.slice(0, 10)) byDay[byDay.length - 1] = s;
+    else byDay.push(s);
+  }
+  if (byDay.length < 2) return null;
+  const last = byDay[byDay.length - 1]!;
+  const latestSE = clean(sphericalEquivalent(last.rx));
+  if (latestSE > MYOPIA_SE_THRESHOLD_D + 1e-9) return null;
+  const recent = interval(byDay[byDay.length - 2]!, last, "recent");
+  const overall = byDay.length > 2 ? interval(byDay[0]!, last, "overall") : null;
+  return { latestSE, recent, overall, thresholdMeaning: THRESHOLD_MEANING, myopiaDefinition: MYOPIA_DEFINITION };
+}

@@ -1,6 +1,6 @@
 import { asc, desc, eq } from "drizzle-orm";
 import { appointments, appointmentTypes, examAssessment, examRefractions, exams, invoices, users } from "~/db/schema";
-import { myopiaProgression, toPowerVector, type MyopiaProgression } from "~/lib/optics";
+import { myopiaProgressionReport, toPowerVector, type MyopiaProgressionReport } from "~/lib/optics";
 import { db } from "~/utils/db.server";
 import { ageOn } from "./patient-schema";
 import { DEFAULT_RECALL_MONTHS } from "./patients.server";
@@ -57,22 +57,22 @@ export async function refractionHistory(patientId: string): Promise<RefractionPo
   });
 }
 
-/** For a child (under 18 at the last exam): progression of spherical equivalent per eye between the first and last final refraction. */
+/**
+ * For a child (under 18 at the last exam): myopia progression per eye from the final refractions,
+ * over the most recent interval and on average; only eyes that are myopic at the last exam.
+ */
 export function childProgression(dateOfBirth: string, points: RefractionPoint[]) {
   const finals = points.filter((p) => p.kind === "final");
   if (!finals.length) return null;
   const lastDate = finals[finals.length - 1]!.date.slice(0, 10);
   if (ageOn(dateOfBirth, lastDate) >= 18) return null;
-  const out: Partial<Record<"right" | "left", MyopiaProgression & { from: string; to: string }>> = {};
+  const out: Partial<Record<"right" | "left", MyopiaProgressionReport>> = {};
   for (const eye of ["right", "left"] as const) {
-    const rows = finals.filter((p) => p.eye === eye);
-    if (rows.length < 2) continue;
-    const a = rows[0]!;
-    const b = rows[rows.length - 1]!;
     try {
-      out[eye] = { ...myopiaProgression({ date: a.date, rx: a }, { date: b.date, rx: b }), from: a.date, to: b.date };
+      const report = myopiaProgressionReport(finals.filter((p) => p.eye === eye).map((p) => ({ date: p.date, rx: p })));
+      if (report) out[eye] = report;
     } catch {
-      /* same-day exams: no rate */
+      /* an unreadable date: no rate */
     }
   }
   return Object.keys(out).length ? out : null;

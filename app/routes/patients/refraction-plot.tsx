@@ -5,7 +5,8 @@ import { StatusBadge } from "~/components/ui/notice";
 import { formatDate } from "./patient-schema";
 
 type Point = { examId: string; date: string; kind: string; eye: "right" | "left"; M: number; J0: number; J45: number; sphere: number; cylinder: number; axis: number };
-type Progression = Partial<Record<"right" | "left", { ratePerYear: number; changeD: number; years: number; fast: boolean; rule: string; source: string; warnings: string[] }>> | null;
+type Interval = { ratePerYear: number; atOrBeyondThreshold: boolean; label: string; warnings: string[] };
+type Progression = Partial<Record<"right" | "left", { latestSE: number; recent: Interval; overall: Interval | null; thresholdMeaning: string; myopiaDefinition: string }>> | null;
 
 const COLOURS = { right: "#0d5c62", left: "#b45309" } as const;
 
@@ -45,18 +46,31 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
         </fieldset>
       </div>
       {progression ? (
-        <div className="mb-4 space-y-1 text-sm" data-testid="myopia-progression">
-          <p className="font-semibold">Myopia progression (child):</p>
-          {(["right", "left"] as const).map((e) =>
-            progression[e] ? (
-              <p key={e}>
-                {e === "right" ? "Right" : "Left"}: {progression[e]!.ratePerYear.toFixed(2)} D per year ({progression[e]!.changeD.toFixed(2)} D over {progression[e]!.years.toFixed(1)} years){" "}
-                {progression[e]!.fast ? <StatusBadge tone="warning">Fast progression</StatusBadge> : <StatusBadge tone="success">Under 0.50 D per year</StatusBadge>}
-              </p>
-            ) : null,
-          )}
+        <div className="mb-4 space-y-2 text-sm" data-testid="myopia-progression">
+          <p className="font-semibold">Myopia progression (child, myopic eyes only)</p>
+          {(["right", "left"] as const).map((e) => {
+            const p = progression[e];
+            if (!p) return null;
+            return (
+              <div key={e} data-testid={`myopia-progression-${e}`}>
+                <p className="font-medium">
+                  {e === "right" ? "Right eye" : "Left eye"} (spherical equivalent now {p.latestSE.toFixed(2)} D)
+                </p>
+                <ul className="ml-4 list-disc">
+                  {[p.recent, p.overall].map((i, k) =>
+                    i ? (
+                      <li key={k}>
+                        {i.atOrBeyondThreshold ? <StatusBadge tone="warning">At or beyond 0.50 D per year</StatusBadge> : <StatusBadge tone="success">Below 0.50 D per year</StatusBadge>} {i.label}
+                        {i.warnings.length ? <span className="text-muted"> ({i.warnings.join("; ")})</span> : null}
+                      </li>
+                    ) : null,
+                  )}
+                </ul>
+              </div>
+            );
+          })}
           <p className="text-xs text-muted">
-            Rule: {progression.right?.rule ?? progression.left?.rule}. Source: {progression.right?.source ?? progression.left?.source}. Check before changing management.
+            {(progression.right ?? progression.left)!.thresholdMeaning} {(progression.right ?? progression.left)!.myopiaDefinition}. Check before changing management.
           </p>
         </div>
       ) : null}
