@@ -53,7 +53,7 @@ async function fixtureExam(opts: { signed?: boolean } = {}) {
   const optom = await userByEmail(OPTOM);
   const [patient] = await db
     .insert(patients)
-    .values({ firstName: "Oriel", lastName: `Fenwick-Test${Math.floor(Math.random() * 1e6)}`, dateOfBirth: "1961-06-02", sex: "female", addressLine1: "9 Quarry Row", city: "Brackenford", postcode: "BF9 2ZZ" })
+    .values({ firstName: "Oriel", lastName: `Fenwick-Test${Math.floor(Math.random() * 1e6)}`, dateOfBirth: "1961-06-02", sex: "female", addressLine1: "9 Quarry Row", city: "Brackenford", postcode: "BF9 2ZZ", phone: "07700 900461", allergies: "Penicillin (rash)" })
     .returning();
   const signed = opts.signed ?? true;
   const at = new Date(Date.now() - 2 * 3600_000);
@@ -148,9 +148,9 @@ describe("the letter", () => {
   });
 
   it("carries exactly the exam's measured IOP, blind spots, acuity and refraction", async () => {
-    // Every IOP row of the exam, and no other, in the IOP table ("Right   27.5 mmHg   Goldmann applanation   09:40").
+    // Every IOP reading of the exam, and no other, in the IOP table ("Right   1   27.5 mmHg   Goldmann applanation   09:40").
     const iopRows = await db.select().from(examIop).where(eq(examIop.examId, examId));
-    const printed = [...text.matchAll(/^\s*(Right|Left)\s+(\d+(?:\.\d+)?) mmHg\s+(.+?)\s{2,}(\d\d:\d\d)\s*$/gm)].map((m) => `${m[1]} ${m[2]} ${m[3]} ${m[4]}`);
+    const printed = [...text.matchAll(/^\s*(Right|Left)\s+\d\s+(\d+(?:\.\d+)?) mmHg\s+(.+?)\s{2,}(\d\d:\d\d)\s*$/gm)].map((m) => `${m[1]} ${m[2]} ${m[3]} ${m[4]}`);
     expect(printed.sort()).toEqual(iopRows.map((r) => `${r.eye === "right" ? "Right" : "Left"} ${r.mmHg} Goldmann applanation ${r.measuredTime.slice(0, 5)}`).sort());
     // Blind spots: centre and size per eye, as measured.
     const fields = await db.select().from(examVisualFields).where(eq(examVisualFields.examId, examId));
@@ -166,12 +166,22 @@ describe("the letter", () => {
     expect(raw).toContain("Left Pseudoisochromatic plates, 38-plate edition 24 of 25 Normal");
   });
 
-  it("lists the flagged findings with their values and the rule that flagged them", () => {
-    // Each row: the finding, the eye, the measured value, the rule (and its source).
-    expect(raw).toContain("Right IOP 27.5 mmHg is above 21 mmHg Right 27.5 mmHg IOP above 21 mmHg.");
-    expect(raw).toMatch(/Right blind spot enlarged: width 9\.5° .* Right 9\.5° × 11° centred 15° temporal, 1\.5° below Enlarged if/);
-    expect(raw).toContain("IOP differs by 9.5 mmHg between the eyes (R 27.5, L 18) Both 9.5 mmHg");
-    expect(raw).toContain("Source: Upper limit of the population normal range");
+  it("lists the flagged findings with their values in plain words, without rule codes or citations", () => {
+    // Each row: the finding, the eye, the measured value (mean of the applanation readings; NICE NG81 1.1.4 threshold 24 mmHg).
+    expect(raw).toContain("Right IOP 27.5 mmHg by applanation (one reading): 24 mmHg or more Right 27.5 mmHg");
+    expect(raw).toMatch(/Right blind spot enlarged: width 9\.5° .* Right 9\.5° × 11° centred 15° temporal, 1\.5° below/);
+    expect(raw).toContain("Mean IOP differs by 9.5 mmHg between the eyes (R 27.5, L 18, applanation) Both 9.5 mmHg");
+    for (const code of ["Source:", "NICE", "College of Optometrists", "NG81", "C205", "IOP_ABOVE_NORMAL", "Rule that flagged"]) expect(raw).not.toContain(code);
+  });
+
+  it("states the urgency with triage's reasons in words, and the patient's telephone, GP, medications and allergies", () => {
+    // Triage: applanation IOP of 24 mmHg or more is a routine referral (NICE NG81 1.1.4); the draft chose urgent (higher, no reason needed).
+    expect(raw).toContain("Urgency: Urgent (to be seen within 7 days).");
+    expect(raw).toContain("The exam findings call for routine because of: • Right eye: IOP 27.5 mmHg by applanation (one reading), 24 mmHg or more (routine)");
+    expect(raw).toContain("Telephone: 07700 900461");
+    expect(raw).toContain("Medications: Amlodipine 5 mg");
+    expect(raw).toContain("Allergies: Penicillin (rash)");
+    expect(raw).toContain("Intraocular pressure at the previous exam");
   });
 
   it("has letterhead, patient identifiers, signature block with licence, page numbers and the confidentiality footer", () => {
@@ -300,7 +310,8 @@ describe("candidates", () => {
     const cookie = await cookieFor("optometrist");
     const list = async () => dataOf<{ candidates: { id: string; prompts: string[] }[] }>(await run(newLoader, makeRequest("/referrals/new", { cookie }))).candidates;
     const found = (await list()).find((c) => c.id === exam.id);
-    expect(found?.prompts).toContain("Right IOP 27.5 mmHg is above 21 mmHg");
+    expect(found?.prompts).toContain("Right IOP 27.5 mmHg by applanation (one reading): 24 mmHg or more");
+    expect(found?.prompts).toContain("Routine: Right eye: IOP 27.5 mmHg by applanation (one reading), 24 mmHg or more");
     await draft(exam.id, null);
     expect((await list()).some((c) => c.id === exam.id)).toBe(false);
   });

@@ -3,6 +3,8 @@
  * be chased. Plain TypeScript, no framework imports; shared by the server and the pages.
  */
 
+import { isBelowProposal } from "./triage";
+
 export {
   CUP_DISC_ASYMMETRY,
   CUP_DISC_REFER,
@@ -143,4 +145,14 @@ export function promptValue(p: { code: string; value: number | string }): string
   if (p.code === "ACUITY_REDUCED") return `${p.value.toFixed(2)} logMAR`;
   if (p.code === "ACUITY_DROP") return `${p.value.toFixed(2)} logMAR lost`;
   return String(p.value);
+}
+
+/**
+ * A chosen urgency below the one triage proposed needs the optometrist's reason, kept with the
+ * letter. Returns the field error, or null when the choice needs no reason or has one.
+ */
+export function urgencyOverrideProblem(chosen: Urgency, proposed: Urgency | null, reason: string | null | undefined): string | null {
+  if (!isBelowProposal(chosen, proposed)) return null;
+  if ((reason ?? "").trim().length >= 5) return null;
+  return `Triage proposed ${URGENCY_LABEL[proposed!].toLowerCase()} from the exam findings; give your reason for choosing ${URGENCY_LABEL[chosen].toLowerCase()} instead.`;
 }

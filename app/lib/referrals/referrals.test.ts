@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { canChase, describeTimeFrame, displayStatus, dueBy, sendProblems, type ReferralState } from "./index";
+import { canChase, describeTimeFrame, displayStatus, dueBy, sendProblems, urgencyOverrideProblem, type ReferralState } from "./index";
 
 const sent = (over: Partial<ReferralState> = {}): ReferralState => ({ status: "sent", sentAt: new Date("2026-03-01T10:00:00Z"), appointmentOn: null, timeFrameDays: 7, ...over });
 
@@ -59,5 +59,16 @@ describe("prompt values", () => {
     expect(promptValue({ code: "IOP_ABOVE_NORMAL", value: 26 })).toBe("26 mmHg");
     expect(promptValue({ code: "ACUITY_REDUCED", value: 0.4 })).toBe("0.40 logMAR");
     expect(promptValue({ code: "BLIND_SPOT_ENLARGED", value: "10° × 12°" })).toBe("10° × 12°");
+  });
+});
+
+describe("choosing a lower urgency than triage proposed", () => {
+  it("asks for a reason only when the choice is lower", () => {
+    expect(urgencyOverrideProblem("urgent", "same_day", "")).toMatch(/Triage proposed same day .* give your reason for choosing urgent/);
+    expect(urgencyOverrideProblem("urgent", "same_day", "  ok ")).toMatch(/give your reason/); // too short to be a reason
+    expect(urgencyOverrideProblem("urgent", "same_day", "Seen in eye casualty yesterday; review booked")).toBeNull();
+    expect(urgencyOverrideProblem("same_day", "urgent", "")).toBeNull();
+    expect(urgencyOverrideProblem("routine", null, "")).toBeNull();
+    expect(urgencyOverrideProblem("soon", "soon", "")).toBeNull();
   });
 });

@@ -8,23 +8,32 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Textarea } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
-import { findingKey, promptValue, URGENCIES, URGENCY_LABEL, type TimeFrames } from "~/lib/referrals";
+import { findingKey, promptValue, URGENCIES, URGENCY_LABEL, urgencyOverrideProblem, type TimeFrames, type Urgency } from "~/lib/referrals";
 
-export const letterSchema = z.object({
+export const letterSchema = z
+  .object({
   intent: z.enum(["create", "save", "send"]),
   recipientId: z.uuid({ error: "Choose a recipient from the list." }).optional(),
   urgency: z.enum(URGENCIES, { error: "Choose the urgency." }),
+  /** The proposal shown on the page, for the check in the browser; the server checks against its own record. */
+  proposedUrgency: z.enum(URGENCIES).optional(),
+  urgencyOverrideReason: z.string().trim().max(600, "Keep the reason under 600 characters.").default(""),
   reason: z.string().trim().max(600, "Keep the reason under 600 characters.").default(""),
   body: z.string().trim().max(8000, "The letter text is too long (8,000 characters at most).").default(""),
   relevantHistory: z.string().trim().max(8000, "The history is too long (8,000 characters at most).").default(""),
   additionalFindings: z.string().trim().max(4000, "Other findings: 4,000 characters at most.").default(""),
   selectedFindings: z.array(z.string().max(80)).max(40).default([]),
   attachmentIds: z.array(z.uuid()).max(20, "At most 20 enclosures.").default([]),
-});
+  })
+  .superRefine((v, ctx) => {
+    const problem = urgencyOverrideProblem(v.urgency, v.proposedUrgency ?? null, v.urgencyOverrideReason);
+    if (problem) ctx.addIssue({ code: "custom", path: ["urgencyOverrideReason"], message: problem });
+  });
 export type LetterValues = z.infer<typeof letterSchema>;
 
 export type Prompt = { code: string; eye: string; message: string; value: number | string; rule: string; source: string };
 export type Recipient = { id: string; name: string; clinic: string; email: string | null; preferredDelivery: string };
+export type Triage = { urgency: Urgency | null; reasons: { urgency: Urgency; text: string; source: string }[] };
 export type Upload = { id: string; originalName: string; kind: string; description: string; contentType: string; createdAt: string };
 
 const EYE = { right: "Right eye", left: "Left eye", both: "Both eyes" } as Record<string, string>;
@@ -37,6 +46,7 @@ export function LetterForm({
   timeFrames,
   lastResult,
   mode,
+  triage,
 }: {
   defaults: Partial<Record<keyof LetterValues, string | string[]>>;
   prompts: Prompt[];
@@ -45,6 +55,7 @@ export function LetterForm({
   timeFrames: TimeFrames;
   lastResult: SubmissionResult<string[]> | null | undefined;
   mode: "create" | "draft";
+  triage: Triage;
 }) {
   const navigation = useNavigation();
   const busy = navigation.state === "submitting" ? String(navigation.formData?.get("intent") ?? "") : "";
@@ -58,6 +69,7 @@ export function LetterForm({
   const selected = new Set((defaults.selectedFindings as string[] | undefined) ?? []);
   const attached = new Set((defaults.attachmentIds as string[] | undefined) ?? []);
   const chosen = recipients.find((r) => r.id === defaults.recipientId);
+  const proposed = triage.urgency;
   return (
     <Form method="post" {...getFormProps(form)} className="space-y-6">
       {form.errors?.length ? (
@@ -85,6 +97,39 @@ export function LetterForm({
             ))}
           </SelectField>
         </div>
+        {proposed ? <input type="hidden" name={fields.proposedUrgency.name} value={proposed} /> : null}
+        <div className="mt-4 rounded-md border border-line p-3 text-sm" data-testid="triage-proposal">
+          {proposed ? (
+            <>
+              <p className="font-semibold">
+                Triage proposes: {URGENCY_LABEL[proposed]} (within {timeFrames[proposed]} day{timeFrames[proposed] === 1 ? "" : "s"})
+              </p>
+              <ul className="mt-2 list-disc space-y-1 pl-5">
+                {triage.reasons.map((r, i) => (
+                  <li key={i}>
+                    <span className="font-semibold">{URGENCY_LABEL[r.urgency]}:</span> {r.text}
+                    <span className="block text-xs text-muted">Source: {r.source.replace(/\.+$/, "")}.</span>
+                  </li>
+                ))}
+              </ul>
+              <p className="mt-2 text-xs text-muted">A proposal from the exam findings for your judgement; local referral protocols govern. Choosing a lower urgency needs your reason, which is kept with the letter.</p>
+            </>
+          ) : (
+            <p>Triage proposes no referral from the recorded findings. Refer on your own judgement; choose the urgency yourself.</p>
+          )}
+        </div>
+        <div className="mt-4">
+          <label htmlFor={fields.urgencyOverrideReason.id} className="mb-1 block text-sm font-semibold">
+            Reason for a lower urgency than proposed (needed only when you choose lower)
+          </label>
+          <Textarea
+            {...getTextareaProps(fields.urgencyOverrideReason)}
+            rows={2}
+            aria-invalid={fields.urgencyOverrideReason.errors?.length ? true : undefined}
+            aria-describedby={fields.urgencyOverrideReason.errors?.length ? `${fields.urgencyOverrideReason.id}-error` : undefined}
+          />
+          <ErrorList id={`${fields.urgencyOverrideReason.id}-error`} errors={fields.urgencyOverrideReason.errors} />
+        </div>
         {chosen && chosen.preferredDelivery !== "email" ? (
           <p className="mt-3 text-sm text-muted">
             {chosen.name} prefers letters by {chosen.preferredDelivery}. Dioptra e-mails the letter; print the PDF as well if needed.
@@ -95,7 +140,7 @@ export function LetterForm({
 
       <Card title="Findings from the exam">
         <p className="mb-3 text-sm text-muted">
-          Flagged by Dioptra's rules as prompts for your judgement, not decisions. Keep those that lead you to refer; the letter shows each with its value and the rule that flagged it. Check the measurements before referring.
+          Flagged from the exam as prompts for your judgement, not decisions. Keep those that lead you to refer; the letter shows each with its value, in plain words. Check the measurements before referring.
         </p>
         {prompts.length === 0 ? <p className="mb-3 text-sm">No finding of this exam was flagged. Describe what leads you to refer below.</p> : null}
         <fieldset>
@@ -210,6 +255,7 @@ export function draftValuesOf(v: LetterValues) {
   return {
     recipientId: v.recipientId ?? null,
     urgency: v.urgency,
+    urgencyOverrideReason: v.urgencyOverrideReason,
     reason: v.reason,
     body: v.body,
     relevantHistory: v.relevantHistory,

@@ -19,10 +19,14 @@ export type LetterInput = {
   reference: string;
   recipient: { name: string; clinic: string; lines: string[]; email: string | null };
   patient: { name: string; dateOfBirth: string; sex: string; reference: string; address: string };
-  urgency: { label: string; timeFrame: string };
+  urgency: { label: string; timeFrame: string; proposed?: string | null; overrideReason?: string | null };
+  /** Why the exam findings call for this urgency, in plain clinical words. */
+  triage?: { urgency: string; text: string }[];
+  /** What an ophthalmologist needs beside the measurements. */
+  clinical?: { symptoms: string; medications: string; allergies: string; gp: string; phone: string };
   reason: string;
   body: string;
-  findings: { finding: string; eye: string; value: string; rule: string }[];
+  findings: { finding: string; eye: string; value: string }[];
   additionalFindings: string;
   measurements: { title: string; columns: string[]; widths: number[]; rows: string[][] }[];
   history: string;
@@ -33,7 +37,7 @@ export type LetterInput = {
 
 export const CONFIDENTIAL_FOOTER = "Confidential: patient information for the named recipient only. If received in error, tell the sender and delete it.";
 export const CAUTION =
-  "The findings marked here were flagged by Dioptra's rules (named beside each) as prompts for the optometrist's judgement; they are not a diagnosis. Check the measurements before acting on them. Local law and licensed practice govern referrals.";
+  "The findings and the urgency were proposed from the exam record to support the optometrist's judgement; they are not a diagnosis. Check the measurements before acting on them. Local law and licensed practice govern referrals.";
 
 const A4 = { width: 595.28, height: 841.89 };
 const MARGIN = { left: 56, right: 56, top: 56, bottom: 72 };
@@ -216,18 +220,31 @@ export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
     [3, 2, 1.3, 2.4],
     [[input.patient.name, input.patient.dateOfBirth, input.patient.sex, input.patient.reference]],
   );
-  if (input.patient.address) w.text(`Address: ${input.patient.address}`, { size: 9.5, color: MUTED, gap: 6 });
+  if (input.patient.address) w.text(`Address: ${input.patient.address}`, { size: 9.5, color: MUTED, gap: 2 });
+  if (input.clinical) w.text(`Telephone: ${input.clinical.phone}\nGP: ${input.clinical.gp}`, { size: 9.5, color: MUTED, gap: 6 });
   w.text(`Examined on ${input.exam.examinedOn}${input.exam.signedOn ? `; exam signed ${input.exam.signedOn}` : ""}.`, { size: 9.5, color: MUTED, gap: 8 });
 
   w.heading("Reason for referral");
   w.text(input.reason);
+  if (input.triage?.length || input.urgency.proposed) {
+    w.y -= 4;
+    w.text(`Urgency: ${input.urgency.label} (${input.urgency.timeFrame}).`, { bold: true, gap: 2 });
+    if (input.triage?.length) {
+      w.text(`The exam findings call for ${input.urgency.proposed ? input.urgency.proposed.toLowerCase() : "referral"} because of:`, { gap: 2 });
+      for (const t of input.triage) w.text(`• ${t.text} (${t.urgency.toLowerCase()})`, { size: 10, gap: 1 });
+    }
+    if (input.urgency.overrideReason && input.urgency.proposed) {
+      w.y -= 3;
+      w.text(`The optometrist chose ${input.urgency.label.toLowerCase()} rather than ${input.urgency.proposed.toLowerCase()}: ${input.urgency.overrideReason}`, { gap: 4 });
+    }
+  }
   if (input.body.trim()) {
     w.y -= 4;
     w.text(input.body);
   }
 
   w.heading("Findings");
-  if (input.findings.length) w.table(["Finding", "Eye", "Measured", "Rule that flagged it"], [3.4, 0.9, 2, 3.4], input.findings.map((f) => [f.finding, f.eye, f.value, f.rule]));
+  if (input.findings.length) w.table(["Finding", "Eye", "Measured"], [5, 1, 2.4], input.findings.map((f) => [f.finding, f.eye, f.value]));
   if (input.additionalFindings.trim()) w.text(input.additionalFindings);
   w.text(CAUTION, { size: 8.5, color: MUTED, gap: 6 });
 
@@ -239,6 +256,13 @@ export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
       w.text(m.title, { size: 10.5, bold: true, gap: 2 });
       w.table(m.columns, m.widths, m.rows);
     }
+  }
+
+  if (input.clinical) {
+    w.heading("Symptoms, medications and allergies");
+    if (input.clinical.symptoms) w.text(input.clinical.symptoms, { gap: 3 });
+    w.text(`Medications: ${input.clinical.medications}`, { gap: 2 });
+    w.text(`Allergies: ${input.clinical.allergies}`);
   }
 
   if (input.history.trim()) {

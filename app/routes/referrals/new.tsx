@@ -3,7 +3,7 @@ import { and, asc, desc, eq } from "drizzle-orm";
 import { data, Link } from "react-router";
 import type { Route } from "./+types/new";
 import { draftValuesOf, LetterForm, letterSchema } from "./letter-form";
-import { candidateExams, createDraft, formatDate, isUuid, practice, prefill, ReferralError, referableExam, snapshotOf } from "./referrals.server";
+import { candidateExams, createDraft, formatDate, isUuid, practice, prefill, ReferralError, referableExam, snapshotOf, triageProposal } from "./referrals.server";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
@@ -54,11 +54,12 @@ export async function loader({ request }: Route.LoaderArgs) {
     kind: "compose" as const,
     patient: patientInfo,
     prompts: snapshot.prompts,
+    triage: triageProposal(snapshot),
     recipients,
     uploads: uploads.map((u) => ({ ...u, createdAt: u.createdAt.toISOString() })),
     timeFrames: timeFramesOf(p),
     existing,
-    defaults: { urgency: filled.urgency, reason: filled.reason, body: filled.body, relevantHistory: filled.history, selectedFindings: filled.selectedFindings, attachmentIds },
+    defaults: { urgency: filled.urgency, urgencyOverrideReason: "", reason: filled.reason, body: filled.body, relevantHistory: filled.history, selectedFindings: filled.selectedFindings, attachmentIds },
   };
 }
 
@@ -155,7 +156,7 @@ export default function NewReferral({ loaderData, actionData }: Route.ComponentP
           </Notice>
         </div>
       ) : null}
-      <LetterForm mode="create" defaults={loaderData.defaults} prompts={loaderData.prompts} recipients={loaderData.recipients} uploads={loaderData.uploads} timeFrames={loaderData.timeFrames} lastResult={actionData} />
+      <LetterForm mode="create" triage={loaderData.triage} defaults={loaderData.defaults} prompts={loaderData.prompts} recipients={loaderData.recipients} uploads={loaderData.uploads} timeFrames={loaderData.timeFrames} lastResult={actionData} />
     </>
   );
 }

@@ -14,6 +14,7 @@ import {
   referenceOf,
   retryMessage,
   sendReferral,
+  triageProposal,
   updateDraft,
   withdrawReferral,
 } from "./referrals.server";
@@ -126,12 +127,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     letter: null,
     draft: {
       prompts: r.referral.snapshot.prompts,
+      triage: triageProposal(r.referral.snapshot, r.referral.proposedUrgency),
       recipients,
       uploads: uploads.map((u) => ({ ...u, createdAt: u.createdAt.toISOString() })),
       timeFrames: timeFramesOf(p),
       defaults: {
         recipientId: r.referral.recipientId ?? "",
         urgency: r.referral.urgency,
+        urgencyOverrideReason: r.referral.urgencyOverrideReason ?? "",
         reason: r.referral.reason,
         body: r.referral.body,
         relevantHistory: r.referral.relevantHistory,
@@ -392,6 +395,7 @@ export default function ReferralPage({ loaderData, actionData }: Route.Component
                 mode="draft"
                 defaults={loaderData.draft.defaults}
                 prompts={loaderData.draft.prompts}
+                triage={loaderData.draft.triage}
                 recipients={loaderData.draft.recipients}
                 uploads={loaderData.draft.uploads}
                 timeFrames={loaderData.draft.timeFrames}

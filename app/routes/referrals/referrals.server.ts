@@ -8,6 +8,13 @@ import nodemailer from "nodemailer";
 import { data } from "react-router";
 import {
   documents,
+  examAnteriorChamber,
+  examDilations,
+  examDiscs,
+  examFundus,
+  examIop,
+  examPupils,
+  examRedFlags,
   exams,
   patients,
   practiceSettings,
@@ -23,7 +30,8 @@ import {
 } from "~/db/schema";
 import { ACUITY_CORRECTION_LABEL, COLOUR_RESULTS, COLOUR_TESTS, FIELD_METHODS, IOP_METHODS, REFRACTION_LABEL, RELIABILITY, type RefractionKind } from "~/lib/exam/sections";
 import { ACUITY_REDUCED_LOGMAR, BLIND_SPOT_TOLERANCE, formatRx, IOP_ASYMMETRY_MMHG, IOP_UPPER_NORMAL_MMHG, NORMAL_BLIND_SPOT } from "~/lib/optics";
-import { canChase, describeTimeFrame, displayStatus, dueBy, findingKey, localDate, promptValue, sendProblems, timeFramesOf, URGENCY_LABEL, type Urgency } from "~/lib/referrals";
+import { canChase, describeTimeFrame, displayStatus, dueBy, findingKey, localDate, promptValue, sendProblems, timeFramesOf, URGENCY_LABEL, urgencyOverrideProblem, type Urgency } from "~/lib/referrals";
+import { examTriage } from "~/models/exams/triage.server";
 import { loadExam, promptsFor } from "~/routes/exams/exam.server";
 import { audit } from "~/utils/audit.server";
 import { db, type Tx } from "~/utils/db.server";
@@ -68,8 +76,48 @@ export function formatDate(at: Date | string, timeZone: string, opts: Intl.DateT
 
 const EYE_WORD = { right: "Right", left: "Left", both: "Both" } as const;
 
+/**
+ * What the letter carries beyond the stored exam snapshot: the previous visit's pressures and
+ * the patient's details as they were when the draft was made (kept in the same jsonb column).
+ */
+export type LetterSnapshot = ReferralSnapshot & {
+  previousIop?: { examinedAt: string; eye: "right" | "left"; mmHg: number; method: string; time: string }[];
+  patientDetails?: { phone: string | null; allergies: string; medications: string; noKnownAllergies: boolean | null; gp: string };
+};
+
+const CELLS_WORDS: Record<string, string> = { none: "none", trace: "trace", "1+": "1+", "2+": "2+", "3+": "3+", "4+": "4+" };
+const DRUG_WORDS: Record<string, string> = { tropicamide: "Tropicamide", phenylephrine: "Phenylephrine", cyclopentolate: "Cyclopentolate", other: "Other" };
+
+/** The structured findings of an exam (red flags, pupils, anterior chamber, disc, fundus, dilation) for the snapshot. */
+async function findingsOf(examId: string) {
+  const byEye = <T extends { eye: string }>(rows: T[]) => [...rows].sort((a, b) => (a.eye === b.eye ? 0 : a.eye === "right" ? -1 : 1));
+  const [flags, pupils, ac, discs, fundus, dilations] = await Promise.all([
+    db.select().from(examRedFlags).where(eq(examRedFlags.examId, examId)),
+    db.select().from(examPupils).where(eq(examPupils.examId, examId)),
+    db.select().from(examAnteriorChamber).where(eq(examAnteriorChamber.examId, examId)),
+    db.select().from(examDiscs).where(eq(examDiscs.examId, examId)),
+    db.select().from(examFundus).where(eq(examFundus.examId, examId)),
+    db.select().from(examDilations).where(eq(examDilations.examId, examId)).orderBy(asc(examDilations.instilledAt)),
+  ]);
+  const f = flags[0];
+  return {
+    redFlags: f ? { flashes: f.flashes, newFloaters: f.newFloaters, curtain: f.curtain, suddenLoss: f.suddenLoss, severePain: f.severePain, redEye: f.redEye, distortion: f.distortion, newDiplopia: f.newDiplopia, gcaSymptoms: f.gcaSymptoms, notes: f.notes } : null,
+    pupils: byEye(pupils).map((r) => ({ eye: r.eye, equalReactive: r.equalReactive, rapd: r.rapd, larger: r.larger, sizeMm: r.sizeMm, notes: r.notes })),
+    anteriorChamber: byEye(ac).map((r) => ({ eye: r.eye, vanHerick: r.vanHerick, cells: r.cells ? (CELLS_WORDS[r.cells] ?? r.cells) : null, hyphaema: r.hyphaema, hypopyon: r.hypopyon, notes: r.notes })),
+    discs: byEye(discs).map((r) => ({ eye: r.eye, verticalCd: r.verticalCd, margins: r.margins, swelling: r.swelling, haemorrhage: r.haemorrhage, pallor: r.pallor, notes: r.notes })),
+    fundus: byEye(fundus).map((r) => ({ eye: r.eye, vitreousDetachment: r.vitreousDetachment, vitreousPigment: r.vitreousPigment, retinalBreak: r.retinalBreak, retinalDetachment: r.retinalDetachment, drusen: r.drusen, suspectedWetAmd: r.suspectedWetAmd, maculaNotes: r.maculaNotes, peripheryNotes: r.peripheryNotes })),
+    dilations: dilations.map((d) => ({ drug: d.drug === "other" ? d.otherDrug || "Other" : (DRUG_WORDS[d.drug] ?? d.drug), strengthPercent: d.strengthPercent, eye: d.eye, instilledAt: d.instilledAt.toISOString() })),
+  };
+}
+
+/** The GP as one line, from whichever GP fields the patient record has. */
+function gpLine(row: Record<string, unknown>): string {
+  const part = (k: string) => (typeof row[k] === "string" ? (row[k] as string).trim() : "");
+  return [part("gpName"), part("gpPractice"), part("gpAddress"), part("gpPhone") && `Tel ${part("gpPhone")}`].filter(Boolean).join(", ");
+}
+
 /** The signed exam's measured values, as the letter will carry them. */
-export async function snapshotOf(exam: typeof exams.$inferSelect): Promise<ReferralSnapshot> {
+export async function snapshotOf(exam: typeof exams.$inferSelect): Promise<LetterSnapshot> {
   const s = await loadExam(exam.id);
   const prompts = await promptsFor(exam.patientId, exam, s);
   const [examiner] = await db.select({ name: users.name }).from(users).where(eq(users.id, exam.optometristId));
@@ -90,7 +138,34 @@ export async function snapshotOf(exam: typeof exams.$inferSelect): Promise<Refer
         }))
     : [];
   const order = { right: 0, left: 1, both: 2 } as const;
+  const [extras, triaged, [patientRow], [previous]] = await Promise.all([
+    findingsOf(exam.id),
+    examTriage(exam.id).catch(() => null),
+    db.select().from(patients).where(eq(patients.id, exam.patientId)),
+    db
+      .select({ id: exams.id, examinedAt: exams.examinedAt })
+      .from(exams)
+      .where(and(eq(exams.patientId, exam.patientId), eq(exams.status, "signed"), sql`${exams.examinedAt} < ${exam.examinedAt}`))
+      .orderBy(desc(exams.examinedAt))
+      .limit(1),
+  ]);
+  const previousIop = previous ? await db.select().from(examIop).where(eq(examIop.examId, previous.id)) : [];
+  const row = (patientRow ?? {}) as Record<string, unknown>;
   return {
+    ...extras,
+    triage: triaged ? { urgency: triaged.result.urgency, reasons: triaged.result.reasons.map((r) => ({ urgency: r.urgency, eye: r.eye, rule: r.rule, source: r.source })) } : null,
+    previousIop: previous
+      ? [...previousIop]
+          .sort((a, b) => order[a.eye] - order[b.eye] || a.reading - b.reading)
+          .map((r) => ({ examinedAt: previous.examinedAt.toISOString(), eye: r.eye, mmHg: r.mmHg, method: IOP_METHODS[r.method] ?? r.method, time: r.measuredTime.slice(0, 5) }))
+      : [],
+    patientDetails: {
+      phone: typeof row.phone === "string" && row.phone.trim() ? row.phone : null,
+      allergies: typeof row.allergies === "string" ? row.allergies : "",
+      medications: typeof row.medications === "string" ? row.medications : "",
+      noKnownAllergies: typeof row.noKnownAllergies === "boolean" ? row.noKnownAllergies : null,
+      gp: gpLine(row),
+    },
     examinedAt: exam.examinedAt.toISOString(),
     signedAt: exam.signedAt?.toISOString() ?? null,
     examiner: examiner?.name ?? "",
@@ -101,7 +176,7 @@ export async function snapshotOf(exam: typeof exams.$inferSelect): Promise<Refer
       .sort((a, b) => a.distance.localeCompare(b.distance) || order[a.eye] - order[b.eye] || a.correction.localeCompare(b.correction))
       .map((a) => ({ eye: a.eye, distance: a.distance, correction: a.correction, notation: a.notation, logMar: a.logMar })),
     refraction,
-    iop: [...s.iop].sort((a, b) => order[a.eye] - order[b.eye]).map((r) => ({ eye: r.eye, mmHg: r.mmHg, method: IOP_METHODS[r.method] ?? r.method, time: r.measuredTime.slice(0, 5) })),
+    iop: [...s.iop].sort((a, b) => order[a.eye] - order[b.eye] || a.reading - b.reading).map((r) => ({ eye: r.eye, mmHg: r.mmHg, method: IOP_METHODS[r.method] ?? r.method, time: r.measuredTime.slice(0, 5), reading: r.reading })),
     colour: [...s.colour]
       .sort((a, b) => order[a.eye] - order[b.eye])
       .map((r) => ({ eye: r.eye, test: COLOUR_TESTS[r.test] ?? r.test, platesCorrect: r.platesCorrect, platesShown: r.platesShown, result: COLOUR_RESULTS[r.result] ?? r.result, notes: r.notes })),
@@ -123,6 +198,25 @@ export async function snapshotOf(exam: typeof exams.$inferSelect): Promise<Refer
   };
 }
 
+const EYE_PHRASE: Record<string, string> = { R: "right eye", L: "left eye", both: "both eyes" };
+
+/** Triage reasons in plain words for the letter and the form: "Right eye: retinal detachment". */
+export function triageLines(t: ReferralSnapshot["triage"]): { urgency: Urgency; text: string }[] {
+  return (t?.reasons ?? []).map((r) => {
+    const where = r.eye ? EYE_PHRASE[r.eye] : "";
+    // "Retinal detachment" reads on after a colon as "retinal detachment"; "IOP …" keeps its capitals.
+    const rule = /^[A-Z][a-z]/.test(r.rule) ? r.rule.charAt(0).toLowerCase() + r.rule.slice(1) : r.rule;
+    return { urgency: r.urgency as Urgency, text: where ? `${where.charAt(0).toUpperCase()}${where.slice(1)}: ${rule}` : r.rule };
+  });
+}
+
+/** Triage's proposal for the form: the urgency (the stored one on a draft) and its reasons in plain words with their sources. */
+export function triageProposal(snapshot: ReferralSnapshot, stored?: Urgency | null) {
+  const lines = triageLines(snapshot.triage);
+  const urgency = (stored !== undefined ? stored : (snapshot.triage?.urgency ?? null)) as Urgency | null;
+  return { urgency, reasons: lines.map((l, i) => ({ urgency: l.urgency, text: l.text, source: snapshot.triage!.reasons[i]!.source })) };
+}
+
 /** The pre-filled letter text from the snapshot. */
 export function prefill(snapshot: ReferralSnapshot, patient: { firstName: string; lastName: string; medications?: string; allergies?: string }) {
   const h = snapshot.history;
@@ -138,10 +232,14 @@ export function prefill(snapshot: ReferralSnapshot, patient: { firstName: string
   ]
     .filter(Boolean)
     .join("\n");
-  const reason = snapshot.prompts.length ? snapshot.prompts.map((p) => p.message).join("; ") : "";
+  const triaged = triageLines(snapshot.triage);
+  const reason = (triaged.length ? triaged.map((t) => t.text) : snapshot.prompts.filter((p) => p.code !== "IOP_REPEAT").map((p) => p.message)).join("; ").slice(0, 600);
   const body = `Thank you for seeing ${patient.firstName} ${patient.lastName}, whom I examined on ${formatDate(new Date(snapshot.examinedAt), "UTC")}. The findings that prompted this referral and the measurements of the exam are set out below. I would be grateful for your assessment and advice on management.`;
-  const urgency: Urgency = snapshot.prompts.some((p) => p.code === "IOP_ABOVE_NORMAL" && Number(p.value) >= 30) ? "urgent" : snapshot.prompts.length ? "soon" : "routine";
-  return { history, reason, body, urgency, selectedFindings: snapshot.prompts.map(findingKey) };
+  // Triage proposes the urgency; with no proposal the letter starts as routine.
+  const proposed = (snapshot.triage?.urgency ?? null) as Urgency | null;
+  const urgency: Urgency = proposed ?? "routine";
+  // Requests to repeat a measurement are not findings to refer on; they start unticked.
+  return { history, reason, body, urgency, proposedUrgency: proposed, selectedFindings: snapshot.prompts.filter((p) => p.code !== "IOP_REPEAT").map(findingKey) };
 }
 
 /**
@@ -154,7 +252,7 @@ export async function candidateExams(limit = 20) {
   const n = NORMAL_BLIND_SPOT;
   const tol = BLIND_SPOT_TOLERANCE;
   const rows = await db
-    .select({ id: exams.id, patientId: exams.patientId, examinedAt: exams.examinedAt, signedAt: exams.signedAt, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth })
+    .select({ id: exams.id, patientId: exams.patientId, examinedAt: exams.examinedAt, signedAt: exams.signedAt, triage: exams.triage, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth })
     .from(exams)
     .innerJoin(patients, eq(patients.id, exams.patientId))
     .where(
@@ -162,7 +260,8 @@ export async function candidateExams(limit = 20) {
         eq(exams.status, "signed"),
         sql`not exists (select 1 from ${referrals} r where r.exam_id = ${exams.id} and r.status <> 'withdrawn')`,
         sql`(
-          exists (select 1 from exam_iop i where i.exam_id = ${exams.id} and i.mm_hg > ${IOP_UPPER_NORMAL_MMHG})
+          (${exams.triage} ->> 'urgency') is not null
+          or exists (select 1 from exam_iop i where i.exam_id = ${exams.id} and i.mm_hg > ${IOP_UPPER_NORMAL_MMHG})
           or (select max(i.mm_hg) - min(i.mm_hg) from exam_iop i where i.exam_id = ${exams.id}) >= ${IOP_ASYMMETRY_MMHG}
           or exists (select 1 from exam_visual_fields f where f.exam_id = ${exams.id} and (f.defect_present
                or f.blind_spot_width_deg > ${n.widthDeg + tol.sizeDeg} or f.blind_spot_height_deg > ${n.heightDeg + tol.sizeDeg}
@@ -178,8 +277,11 @@ export async function candidateExams(limit = 20) {
   for (const row of rows) {
     if (out.length >= limit) break;
     const s = await loadExam(row.id);
-    const prompts = await promptsFor(row.patientId, { id: row.id, examinedAt: row.examinedAt }, s);
-    if (prompts.length) out.push({ ...row, prompts: prompts.map((p) => p.message) });
+    // Requests to repeat a measurement are not reasons to refer: only prompts to consider referral and triage's reasons count.
+    const prompts = (await promptsFor(row.patientId, { id: row.id, examinedAt: row.examinedAt }, s)).filter((p) => p.action === "consider referral");
+    const triaged = await examTriage(row.id).catch(() => null);
+    const reasons = triageLines(triaged?.result ?? row.triage).map((t) => `${URGENCY_LABEL[t.urgency] ?? t.urgency}: ${t.text}`);
+    if (prompts.length || reasons.length) out.push({ ...row, prompts: [...reasons, ...prompts.map((p) => p.message)] });
   }
   return out;
 }
@@ -189,6 +291,8 @@ export async function candidateExams(limit = 20) {
 export type DraftValues = {
   recipientId: string | null;
   urgency: Urgency;
+  /** Why a lower urgency than triage proposed was chosen (required then, ignored otherwise). */
+  urgencyOverrideReason: string;
   reason: string;
   body: string;
   relevantHistory: string;
@@ -197,8 +301,10 @@ export type DraftValues = {
   attachmentIds: string[];
 };
 
-async function checkDraftRefs(tx: Tx, patientId: string, snapshot: ReferralSnapshot, v: DraftValues) {
+async function checkDraftRefs(tx: Tx, patientId: string, snapshot: ReferralSnapshot, v: DraftValues, proposed: Urgency | null) {
   const errors: Record<string, string[]> = {};
+  const override = urgencyOverrideProblem(v.urgency, proposed, v.urgencyOverrideReason);
+  if (override) errors.urgencyOverrideReason = [override];
   if (v.recipientId) {
     const [r] = await tx.select({ id: referralRecipients.id, active: referralRecipients.active }).from(referralRecipients).where(eq(referralRecipients.id, v.recipientId));
     if (!r || !r.active) errors.recipientId = ["Choose a recipient from the directory."];
@@ -230,21 +336,25 @@ export async function createDraft(user: SessionUser, examId: string, v: DraftVal
   const exam = await referableExam(examId);
   if (exam.status !== "signed") throw new ReferralError({ "": ["This exam is not signed yet. Sign it first: a referral carries only signed findings."] }, 409);
   const snapshot = await snapshotOf(exam);
+  const proposed = (snapshot.triage?.urgency ?? null) as Urgency | null;
+  const { urgencyOverrideReason, ...values } = v;
   return db.transaction(async (tx) => {
-    await checkDraftRefs(tx, exam.patientId, snapshot, v);
+    await checkDraftRefs(tx, exam.patientId, snapshot, v, proposed);
     const [row] = await tx
       .insert(referrals)
       .values({
         patientId: exam.patientId,
         examId: exam.id,
         createdById: user.id,
-        recipientId: v.recipientId,
-        urgency: v.urgency,
-        reason: v.reason,
-        body: v.body,
-        relevantHistory: v.relevantHistory,
-        additionalFindings: v.additionalFindings,
-        selectedFindings: v.selectedFindings,
+        recipientId: values.recipientId,
+        urgency: values.urgency,
+        proposedUrgency: proposed,
+        urgencyOverrideReason: urgencyOverrideProblem(values.urgency, proposed, "") ? urgencyOverrideReason.trim() : null,
+        reason: values.reason,
+        body: values.body,
+        relevantHistory: values.relevantHistory,
+        additionalFindings: values.additionalFindings,
+        selectedFindings: values.selectedFindings,
         snapshot,
       })
       .returning({ id: referrals.id });
@@ -260,9 +370,14 @@ export async function updateDraft(user: SessionUser, referralId: string, v: Draf
     const [r] = await tx.select().from(referrals).where(eq(referrals.id, referralId)).for("update");
     if (!r) throw notFound();
     if (r.status !== "draft") throw new ReferralError({ "": ["This letter has been sent and can no longer be edited."] }, 409);
-    await checkDraftRefs(tx, r.patientId, r.snapshot, v);
-    const { attachmentIds, ...values } = v;
-    await tx.update(referrals).set({ ...values, updatedAt: new Date() }).where(eq(referrals.id, referralId));
+    const proposed = r.proposedUrgency;
+    await checkDraftRefs(tx, r.patientId, r.snapshot, v, proposed);
+    const { attachmentIds, urgencyOverrideReason, ...values } = v;
+    const below = urgencyOverrideProblem(values.urgency, proposed, "") !== null;
+    await tx
+      .update(referrals)
+      .set({ ...values, urgencyOverrideReason: below ? urgencyOverrideReason.trim() : null, updatedAt: new Date() })
+      .where(eq(referrals.id, referralId));
     await writeAttachments(tx, referralId, attachmentIds);
     await audit({ action: "referral.edited", actorUserId: user.id, entityType: "referral", entityId: referralId, patientId: r.patientId, request }, tx);
   });
@@ -309,12 +424,20 @@ export type LoadedReferral = Awaited<ReturnType<typeof loadReferral>>;
 
 const SEX = { female: "Female", male: "Male", other: "Other", unknown: "Not recorded" } as const;
 
+/** Allergies as the letter states them: the recorded text, "None known" when so recorded, else "Not recorded". */
+export function allergyLine(d: LetterSnapshot["patientDetails"]): string {
+  const text = d?.allergies?.trim() ?? "";
+  if (text) return /^(none( known)?|nka|nkda|no known( drug)? allergies)\.?$/i.test(text) ? "None known" : text;
+  return d?.noKnownAllergies ? "None known" : "Not recorded";
+}
+
 /** The letter's content from the stored referral (the snapshot, the edited text, the people). */
 export async function letterInput(r: LoadedReferral, opts: { withAttachmentBytes?: boolean } = {}): Promise<LetterInput> {
   const p = await practice();
   const tz = p.timeZone;
-  const s = r.referral.snapshot;
+  const s = r.referral.snapshot as LetterSnapshot;
   const selected = new Set(r.referral.selectedFindings);
+  const yes = (b: boolean | null | undefined, word: string) => (b ? word : "");
   const frames = timeFramesOf(p);
   const days = r.referral.timeFrameDays ?? frames[r.referral.urgency];
   const fmt = (n: number) => String(n);
@@ -333,8 +456,78 @@ export async function letterInput(r: LoadedReferral, opts: { withAttachmentBytes
       widths: [0.8, 2.2, 0.8, 1.4, 1],
       rows: s.refraction.map((x) => [EYE_WORD[x.eye], x.text, x.add !== null ? `+${x.add.toFixed(2)}` : "—", x.prism ?? "—", x.va ?? "—"]),
     });
-  if (s.iop.length)
-    measurements.push({ title: "Intraocular pressure", columns: ["Eye", "IOP", "Method", "Time"], widths: [0.8, 1, 2, 1], rows: s.iop.map((i) => [EYE_WORD[i.eye], `${fmt(i.mmHg)} mmHg`, i.method, i.time]) });
+  if (s.iop.length) {
+    // Each eye's mean of this visit's readings, then every reading with its method and time.
+    const meanOf = (eye: "right" | "left") => {
+      const xs = s.iop.filter((i) => i.eye === eye).map((i) => i.mmHg);
+      return xs.length > 1 ? ` (mean of ${xs.length}: ${(Math.round((xs.reduce((a, b) => a + b, 0) / xs.length) * 10) / 10).toString()} mmHg)` : "";
+    };
+    measurements.push({
+      title: `Intraocular pressure at this exam${meanOf("right") ? `; right${meanOf("right")}` : ""}${meanOf("left") ? `; left${meanOf("left")}` : ""}`,
+      columns: ["Eye", "Reading", "IOP", "Method", "Time"],
+      widths: [0.8, 0.8, 1, 2, 1],
+      rows: s.iop.map((i, k) => [EYE_WORD[i.eye], String(i.reading ?? k + 1), `${fmt(i.mmHg)} mmHg`, i.method, i.time]),
+    });
+  }
+  if (s.previousIop?.length)
+    measurements.push({
+      title: `Intraocular pressure at the previous exam (${formatDate(new Date(s.previousIop[0]!.examinedAt), tz)})`,
+      columns: ["Eye", "IOP", "Method", "Time"],
+      widths: [0.8, 1, 2, 1],
+      rows: s.previousIop.map((i) => [EYE_WORD[i.eye], `${fmt(i.mmHg)} mmHg`, i.method, i.time]),
+    });
+  else if (s.iop.length) measurements.push({ title: "Intraocular pressure at the previous exam", columns: ["Previous values"], widths: [1], rows: [["No earlier pressures on record at this practice"]] });
+  if (s.cornealThickness?.length)
+    measurements.push({ title: "Central corneal thickness", columns: ["Eye", "Thickness"], widths: [0.8, 1.5], rows: s.cornealThickness.map((c) => [EYE_WORD[c.eye], `${c.micrometres} µm`]) });
+  if (s.pupils?.length)
+    measurements.push({
+      title: "Pupils",
+      columns: ["Eye", "Equal and reactive", "RAPD", "Anisocoria", "Size", "Notes"],
+      widths: [0.8, 1.2, 0.8, 1.4, 0.7, 2],
+      rows: s.pupils.map((p) => [EYE_WORD[p.eye], p.equalReactive ? "Yes" : "No", p.rapd ? "Present" : "None", p.larger ? "This pupil larger" : "—", p.sizeMm !== null ? `${fmt(p.sizeMm)} mm` : "—", p.notes || "—"]),
+    });
+  if (s.anteriorChamber?.length)
+    measurements.push({
+      title: "Anterior chamber",
+      columns: ["Eye", "Van Herick grade", "Cells", "Hyphaema", "Hypopyon", "Notes"],
+      widths: [0.8, 1.1, 0.8, 0.9, 0.9, 2],
+      rows: s.anteriorChamber.map((a) => [EYE_WORD[a.eye], a.vanHerick !== null ? String(a.vanHerick) : "—", a.cells ?? "—", a.hyphaema ? "Present" : "None", a.hypopyon ? "Present" : "None", a.notes || "—"]),
+    });
+  if (s.discs?.length)
+    measurements.push({
+      title: "Optic disc",
+      columns: ["Eye", "Vertical C/D", "Margins", "Swelling", "Haemorrhage", "Pallor", "Notes"],
+      widths: [0.8, 0.9, 0.9, 0.8, 1, 0.7, 1.9],
+      rows: s.discs.map((d) => [EYE_WORD[d.eye], d.verticalCd !== null ? d.verticalCd.toFixed(2) : "—", d.margins ?? "—", d.swelling ? "Present" : "None", d.haemorrhage ? "Present" : "None", d.pallor ? "Present" : "None", d.notes || "—"]),
+    });
+  if (s.fundus?.length)
+    measurements.push({
+      title: "Fundus: vitreous, macula and periphery",
+      columns: ["Eye", "Findings", "Macula", "Periphery"],
+      widths: [0.8, 2.6, 1.6, 1.6],
+      rows: s.fundus.map((f) => [
+        EYE_WORD[f.eye],
+        [
+          yes(f.vitreousDetachment, "posterior vitreous detachment"),
+          yes(f.vitreousPigment, "pigment in the anterior vitreous"),
+          yes(f.retinalBreak, "retinal break"),
+          yes(f.retinalDetachment, "retinal detachment"),
+          yes(f.drusen, "drusen"),
+          yes(f.suspectedWetAmd, "suspected wet AMD"),
+        ]
+          .filter(Boolean)
+          .join(", ") || "None of those listed",
+        f.maculaNotes || "—",
+        f.peripheryNotes || "—",
+      ]),
+    });
+  if (s.dilations?.length)
+    measurements.push({
+      title: "Dilation",
+      columns: ["Drug", "Strength", "Eye", "Instilled"],
+      widths: [1.6, 0.8, 0.8, 1.6],
+      rows: s.dilations.map((d) => [d.drug, `${fmt(d.strengthPercent)}%`, EYE_WORD[d.eye as "both"] ?? d.eye, formatDate(new Date(d.instilledAt), tz, { day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit" })]),
+    });
   if (s.colour.length)
     measurements.push({
       title: "Colour vision",
@@ -356,6 +549,23 @@ export async function letterInput(r: LoadedReferral, opts: { withAttachmentBytes
         f.reliability ?? "—",
       ]),
     });
+  const rf = s.redFlags;
+  const symptoms: string[] = [];
+  if (rf) {
+    const eyeOf = (v: string | null) => (v ? ` (${v === "both" ? "both eyes" : `${v} eye`})` : "");
+    const list: [string | null, string][] = [
+      [rf.flashes, "flashes"],
+      [rf.newFloaters, "new floaters"],
+      [rf.curtain, "a shadow or curtain over the vision"],
+      [rf.suddenLoss, "sudden loss of vision"],
+      [rf.severePain, "severe eye pain"],
+      [rf.redEye, "red eye"],
+      [rf.distortion, "new distortion"],
+    ];
+    for (const [v, word] of list) if (v) symptoms.push(`${word}${eyeOf(v)}`);
+    if (rf.newDiplopia) symptoms.push("new double vision");
+    if (rf.gcaSymptoms) symptoms.push("headache with features of giant cell arteritis");
+  }
   if (s.diagnoses.length) measurements.push({ title: "Diagnoses (ICD-10)", columns: ["Code", "Diagnosis", "Eye"], widths: [0.8, 3, 0.8], rows: s.diagnoses.map((d) => [d.code, d.label, EYE_WORD[d.eye as "both"] ?? d.eye]) });
 
   const attachments: LetterInput["attachments"] = [];
@@ -379,12 +589,25 @@ export async function letterInput(r: LoadedReferral, opts: { withAttachmentBytes
       reference: r.patient.id.slice(0, 8).toUpperCase(),
       address: [r.patient.addressLine1, r.patient.city, r.patient.postcode].filter(Boolean).join(", "),
     },
-    urgency: { label: URGENCY_LABEL[r.referral.urgency], timeFrame: describeTimeFrame(r.referral.urgency, days) },
+    urgency: {
+      label: URGENCY_LABEL[r.referral.urgency],
+      timeFrame: describeTimeFrame(r.referral.urgency, days),
+      proposed: r.referral.proposedUrgency ? URGENCY_LABEL[r.referral.proposedUrgency] : null,
+      overrideReason: r.referral.urgencyOverrideReason,
+    },
+    triage: triageLines(s.triage).map((t) => ({ urgency: URGENCY_LABEL[t.urgency] ?? t.urgency, text: t.text })),
+    clinical: {
+      symptoms: rf ? (symptoms.length ? `Reported: ${symptoms.join(", ")}.${rf.notes ? ` ${rf.notes}` : ""}` : `Red-flag symptoms asked about and denied.${rf.notes ? ` ${rf.notes}` : ""}`) : "",
+      medications: (s.patientDetails?.medications || s.history?.medications || "").trim() || "None recorded",
+      allergies: allergyLine(s.patientDetails),
+      gp: s.patientDetails?.gp || "Not recorded",
+      phone: s.patientDetails?.phone ?? "Not recorded",
+    },
     reason: r.referral.reason,
     body: r.referral.body,
     findings: s.prompts
       .filter((x) => selected.has(findingKey(x)))
-      .map((x) => ({ finding: x.message, eye: EYE_WORD[x.eye as "both"] ?? x.eye, value: promptValue(x), rule: `${x.rule} Source: ${x.source.replace(/\.+$/, "")}.` })),
+      .map((x) => ({ finding: x.message, eye: EYE_WORD[x.eye as "both"] ?? x.eye, value: promptValue(x) })),
     additionalFindings: r.referral.additionalFindings,
     measurements,
     history: r.referral.relevantHistory,
