@@ -9,6 +9,12 @@ import {
   auditLog,
   documents,
   examAcuity,
+  examAnteriorChamber,
+  examDilations,
+  examDiscs,
+  examFundus,
+  examPupils,
+  examRedFlags,
   examColourVision,
   examHistory,
   examIop,
@@ -301,6 +307,92 @@ describe("roles", () => {
     await run(referralLoader, makeRequest(`/referrals/${id}`, { cookie: await cookieFor("optometrist") }), { referralId: id });
     const rows = await db.select().from(auditLog).where(and(eq(auditLog.action, "referral.read"), eq(auditLog.entityId, id)));
     expect(rows[0]).toMatchObject({ actorUserId: optom.id, patientId: patient.id });
+  });
+});
+
+/** A red-flag visit: new flashes and floaters in the right eye with a retinal break; pupils, chamber, discs and dilation recorded. */
+async function redFlagExam() {
+  const { patient, exam } = await fixtureExam();
+  const examId = exam.id;
+  await db.update(patients).set({ allergies: "", phone: "07700 900462" }).where(eq(patients.id, patient.id));
+  await db.insert(examRedFlags).values({ examId, flashes: "right", newFloaters: "right", notes: "Began two days ago" });
+  await db.insert(examFundus).values([
+    { examId, eye: "right", retinalBreak: true, vitreousDetachment: true, peripheryNotes: "Horseshoe tear at 11 o'clock" },
+    { examId, eye: "left", maculaNotes: "Healthy" },
+  ]);
+  await db.insert(examPupils).values([
+    { examId, eye: "right", equalReactive: true, sizeMm: 3.5 },
+    { examId, eye: "left", equalReactive: true, sizeMm: 3.5 },
+  ]);
+  await db.insert(examAnteriorChamber).values([
+    { examId, eye: "right", vanHerick: 3, cells: "none" },
+    { examId, eye: "left", vanHerick: 3, cells: "none" },
+  ]);
+  await db.insert(examDiscs).values([
+    { examId, eye: "right", verticalCd: 0.35, margins: "distinct" },
+    { examId, eye: "left", verticalCd: 0.3, margins: "distinct" },
+  ]);
+  await db.insert(examDilations).values({ examId, drug: "tropicamide", strengthPercent: 1, eye: "both", instilledAt: new Date(Date.now() - 2.5 * 3600_000) });
+  return { patient, exam };
+}
+
+describe("triage in the referral", () => {
+  it("pre-fills same day for a retinal break with flashes, refuses a lower urgency without a reason, and keeps the reason given", async () => {
+    // College of Optometrists GPP C205: symptomatic retinal breaks are an emergency (within 24 hours).
+    const { exam } = await redFlagExam();
+    const cookie = await cookieFor("optometrist");
+    const page = dataOf<{ kind: string; triage: { urgency: string; reasons: { text: string; source: string }[] }; defaults: { urgency: string; reason: string } }>(await run(newLoader, makeRequest(`/referrals/new?exam=${exam.id}`, { cookie })));
+    expect(page.triage.urgency).toBe("same_day");
+    expect(page.defaults.urgency).toBe("same_day");
+    expect(page.triage.reasons[0]!.text).toBe("Right eye: retinal break with flashes, floaters or a shadow in the vision");
+    expect(page.triage.reasons[0]!.source).toMatch(/C205/);
+    expect(page.defaults.reason).toContain("Right eye: retinal break with flashes");
+
+    const rec = await recipient();
+    const base: [string, string][] = [["intent", "create"], ["recipientId", rec.id], ["reason", page.defaults.reason], ["additionalFindings", "Horseshoe tear right eye"]];
+    let res = await run(newAction, post(`/referrals/new?exam=${exam.id}`, cookie, [...base, ["urgency", "urgent"]]));
+    expect(statusOf(res)).toBe(400);
+    expect(dataOf<{ error: Record<string, string[]> }>(res).error.urgencyOverrideReason?.[0]).toMatch(/Triage proposed same day .* give your reason for choosing urgent/);
+    expect(await db.select().from(referrals).where(eq(referrals.examId, exam.id))).toHaveLength(0);
+
+    res = await run(newAction, post(`/referrals/new?exam=${exam.id}`, cookie, [...base, ["urgency", "urgent"], ["urgencyOverrideReason", "Seen at the eye unit this morning; laser booked for tomorrow"]]));
+    expect(statusOf(res)).toBe(302);
+    const [row] = await db.select().from(referrals).where(eq(referrals.examId, exam.id));
+    expect(row!.proposedUrgency).toBe("same_day");
+    expect(row!.urgency).toBe("urgent");
+    expect(row!.urgencyOverrideReason).toBe("Seen at the eye unit this morning; laser booked for tomorrow");
+
+    const pdf = (await run(pdfLoader, makeRequest(`/referrals/${row!.id}/letter.pdf`, { cookie }), { referralId: row!.id })) as Response;
+    const raw = pdfText(await pdf.arrayBuffer(), "raw");
+    expect(raw).toContain("The exam findings call for same day because of: • Right eye: retinal break with flashes, floaters or a shadow in the vision (same day)");
+    expect(raw).toContain("The optometrist chose urgent rather than same day: Seen at the eye unit this morning; laser booked for tomorrow");
+    // Pupils, anterior chamber, disc and fundus, dilation, symptoms; allergies empty and not recorded as none.
+    expect(raw).toContain("Pupils Eye Equal and reactive RAPD Anisocoria Size Notes Right Yes None — 3.5 mm");
+    expect(raw).toContain("Anterior chamber Eye Van Herick grade Cells Hyphaema Hypopyon Notes Right 3 none None None");
+    expect(raw).toContain("Optic disc Eye Vertical C/D Margins Swelling Haemorrhage Pallor Notes Right 0.35 distinct None None None");
+    expect(raw).toContain("Right posterior vitreous detachment, retinal break — Horseshoe tear at 11 o'clock");
+    expect(raw).toContain("Tropicamide 1% Both");
+    expect(raw).toContain("Reported: flashes (right eye), new floaters (right eye). Began two days ago");
+    expect(raw).toContain("Allergies: Not recorded");
+    expect(raw).toContain("Telephone: 07700 900462");
+    for (const code of ["C205", "NICE", "College of Optometrists", "Source:"]) expect(raw).not.toContain(code);
+  });
+
+  it("keeps the override reason only while the urgency is lower, and writes \"None known\" when so recorded", async () => {
+    const { patient, exam } = await redFlagExam();
+    await db.update(patients).set({ allergies: "None known" }).where(eq(patients.id, patient.id));
+    const cookie = await cookieFor("optometrist");
+    const rec = await recipient();
+    const res = await run(newAction, post(`/referrals/new?exam=${exam.id}`, cookie, [["intent", "create"], ["recipientId", rec.id], ["urgency", "same_day"], ["reason", "Retinal tear"], ["additionalFindings", "Tear"], ["urgencyOverrideReason", "left over from an earlier choice"]]));
+    expect(statusOf(res)).toBe(302);
+    const [row] = await db.select().from(referrals).where(eq(referrals.examId, exam.id));
+    expect(row!.urgencyOverrideReason).toBeNull();
+    // Saving the draft at a lower urgency needs the reason too.
+    const bad = await run(referralAction, post(`/referrals/${row!.id}`, cookie, [["intent", "save"], ["recipientId", rec.id], ["urgency", "soon"], ["reason", "Retinal tear"], ["additionalFindings", "Tear"]]), { referralId: row!.id });
+    expect(statusOf(bad)).toBe(400);
+    expect((await db.select().from(referrals).where(eq(referrals.id, row!.id)))[0]!.urgency).toBe("same_day");
+    const pdf = (await run(pdfLoader, makeRequest(`/referrals/${row!.id}/letter.pdf`, { cookie }), { referralId: row!.id })) as Response;
+    expect(pdfText(await pdf.arrayBuffer(), "raw")).toContain("Allergies: None known");
   });
 });
 
