@@ -74,6 +74,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     stored: r.referral.status,
     status,
     urgency: URGENCY_LABEL[r.referral.urgency],
+    proposedUrgency: r.referral.proposedUrgency ? URGENCY_LABEL[r.referral.proposedUrgency] : null,
+    urgencyOverrideReason: clinical ? r.referral.urgencyOverrideReason : null,
     patient: { id: r.patient.id, name: `${r.patient.firstName} ${r.patient.lastName}`, dateOfBirth: r.patient.dateOfBirth },
     recipient: r.recipient ? { name: r.recipient.name, clinic: r.recipient.clinic, email: r.recipient.email } : null,
     author: r.author.name,
@@ -224,7 +226,10 @@ function StatusPanel({ s, clinical }: { s: Summary; clinical: boolean }) {
           <StatusBadge tone={STATUS_TONE[s.status]}>{STATUS_LABEL[s.status]}</StatusBadge>
         </dd>
         <dt className="text-muted">Urgency</dt>
-        <dd>{s.urgency}</dd>
+        <dd>
+          {s.urgency}
+          {s.proposedUrgency && s.proposedUrgency !== s.urgency ? <span className="block text-muted">Triage proposed {s.proposedUrgency.toLowerCase()}{s.urgencyOverrideReason ? `; reason for the change: ${s.urgencyOverrideReason}` : ""}</span> : null}
+        </dd>
         <dt className="text-muted">Recipient</dt>
         <dd>{s.recipient ? `${s.recipient.name}${s.recipient.clinic ? `, ${s.recipient.clinic}` : ""}${s.recipient.email ? ` <${s.recipient.email}>` : ""}` : "Not chosen"}</dd>
         <dt className="text-muted">Written by</dt>
