@@ -51,10 +51,12 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
     await expectAccessible(page);
     await page.goto(`/referrals/new?exam=${candidate.exam_id}`);
     await poll(() => page.getByRole("heading", { level: 1 }).textContent()).toBe(`Referral for ${candidate.name}`);
-    // The prompts of the exam are pre-selected, each with its value and rule.
-    const iopFinding = page.getByRole("checkbox", { name: new RegExp(`Right IOP ${candidate.mm_hg} mmHg is above 21 mmHg`) });
-    await poll(() => iopFinding.isChecked()).toBe(true);
+    // The prompts of the exam are listed with their values and rules; those to consider referral are pre-selected
+    // (a request to repeat a non-contact pressure is listed unticked).
+    await poll(() => page.getByRole("checkbox", { name: new RegExp(`Right (mean )?IOP ${candidate.mm_hg} mmHg`) }).count()).toBe(1);
     await poll(() => page.getByRole("checkbox", { name: /Right blind spot enlarged/ }).isChecked()).toBe(true);
+    // Triage's proposal (or that it proposes none) is shown beside the urgency.
+    await poll(() => page.getByTestId("triage-proposal").count()).toBe(1);
     await poll(() => page.getByText(`${candidate.width}° × ${candidate.height}° centred`).count()).toBeGreaterThan(0);
     await expectAccessible(page);
     await screenshot(page, "referral-compose");
