@@ -6,6 +6,7 @@ import {
   examAssessment,
   examBinocular,
   examColourVision,
+  examCornealThickness,
   examDiagnoses,
   examHistory,
   examIop,
@@ -14,6 +15,7 @@ import {
   examSegments,
   examVisualFields,
   patients,
+  practiceSettings,
   users,
 } from "~/db/schema";
 import {
@@ -22,12 +24,15 @@ import {
   ACUITY_EYES,
   acuityField,
   COLOUR_RESULTS,
+  cctField,
   COLOUR_TESTS,
-  DIAGNOSES,
+  diagnosisField,
   EYES,
   FIELD_METHODS,
-  IOP_METHODS,
+  iopField,
   parseAcuity,
+  parseDiagnoses,
+  parseIop,
   parseNumber,
   parseRefractionEye,
   REFRACTION_KINDS,
@@ -38,7 +43,10 @@ import {
   type RefractionKind,
   type SegmentKey,
 } from "~/lib/exam/sections";
-import { referralPrompts, type ReferralFindings, type ReferralPrompt } from "~/lib/optics";
+import { referralPrompts, type AcuityNotation, type ReferralFindings, type ReferralPrompt } from "~/lib/optics";
+import { TriageInputError } from "~/lib/referrals";
+import { FINDINGS_SECTIONS, FindingsError, findingsFormValues, loadFindings, saveFindings, type FindingsSection } from "~/models/exams/findings.server";
+import { examTriage, iopForTriage } from "~/models/exams/triage.server";
 import { audit } from "~/utils/audit.server";
 import type { SessionUser } from "~/utils/session.server";
 import { db, type Tx } from "~/utils/db.server";
@@ -90,13 +98,20 @@ export async function previousFinal(patientId: string, before: Date) {
   return { examId: prev.id, examinedAt: prev.examinedAt.toISOString(), rows };
 }
 
+/** The practice's time zone and acuity notation (how bare numbers are read). */
+export async function examSettings(conn: Tx | typeof db = db): Promise<{ timeZone: string; acuityNotation: AcuityNotation }> {
+  const [s] = await conn.select({ timeZone: practiceSettings.timeZone, acuityNotation: practiceSettings.acuityNotation }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  return { timeZone: s?.timeZone ?? "Europe/London", acuityNotation: s?.acuityNotation ?? "metric" };
+}
+
 export async function loadExam(examId: string) {
-  const [history, acuity, refractions, binocular, iop, colour, fields, segments, assessment, diagnoses, addenda] = await Promise.all([
+  const [history, acuity, refractions, binocular, iop, cct, colour, fields, segments, assessment, diagnoses, addenda, findings] = await Promise.all([
     db.select().from(examHistory).where(eq(examHistory.examId, examId)),
     db.select().from(examAcuity).where(eq(examAcuity.examId, examId)),
     db.select().from(examRefractions).where(eq(examRefractions.examId, examId)),
     db.select().from(examBinocular).where(eq(examBinocular.examId, examId)),
-    db.select().from(examIop).where(eq(examIop.examId, examId)),
+    db.select().from(examIop).where(eq(examIop.examId, examId)).orderBy(asc(examIop.eye), asc(examIop.reading)),
+    db.select().from(examCornealThickness).where(eq(examCornealThickness.examId, examId)),
     db.select().from(examColourVision).where(eq(examColourVision.examId, examId)),
     db.select().from(examVisualFields).where(eq(examVisualFields.examId, examId)),
     db.select().from(examSegments).where(eq(examSegments.examId, examId)),
@@ -108,14 +123,15 @@ export async function loadExam(examId: string) {
       .innerJoin(users, eq(users.id, examAddenda.authorId))
       .where(eq(examAddenda.examId, examId))
       .orderBy(asc(examAddenda.createdAt)),
+    loadFindings(examId),
   ]);
-  return { history: history[0] ?? null, acuity, refractions, binocular: binocular[0] ?? null, iop, colour, fields, segments, assessment: assessment[0] ?? null, diagnoses, addenda };
+  return { history: history[0] ?? null, acuity, refractions, binocular: binocular[0] ?? null, iop, cct, colour, fields, segments, assessment: assessment[0] ?? null, diagnoses, addenda, findings };
 }
 export type ExamSections = Awaited<ReturnType<typeof loadExam>>;
 
 /** Section values as the form fields of the exam page expect them (text as typed). */
-export function formValues(s: ExamSections): Record<string, string> {
-  const v: Record<string, string> = {};
+export function formValues(s: ExamSections, timeZone: string): Record<string, string> {
+  const v: Record<string, string> = findingsFormValues(s.findings, timeZone);
   const put = (k: string, x: unknown) => {
     if (x !== null && x !== undefined && x !== "") v[k] = String(x);
   };
@@ -132,10 +148,12 @@ export function formValues(s: ExamSections): Record<string, string> {
   }
   if (s.binocular) for (const k of ["coverTestDistance", "coverTestNear", "npcCm", "stereoTest", "stereoArcSec", "notes"] as const) put(`bv_${k}`, s.binocular[k]);
   for (const r of s.iop) {
-    put(`${r.eye}_mmHg`, r.mmHg);
-    put(`${r.eye}_method`, r.method);
-    put(`${r.eye}_time`, r.measuredTime.slice(0, 5));
+    put(iopField(r.eye, "mmHg", r.reading), r.mmHg);
+    put(iopField(r.eye, "method", r.reading), r.method);
+    put(iopField(r.eye, "time", r.reading), r.measuredTime.slice(0, 5));
   }
+  for (const r of s.cct) put(cctField(r.eye), r.micrometres);
+  for (const d of s.diagnoses) v[diagnosisField(d.code)] = d.eye;
   for (const r of s.colour) {
     put(`${r.eye}_test`, r.test);
     put(`${r.eye}_correct`, r.platesCorrect);
@@ -171,7 +189,14 @@ type PreviousForPrompts = { colour: { eye: string; result: string }[]; acuity: {
 /** Referral prompts of the engine from one exam's findings and the previous visit's. */
 export function promptsFrom(s: PromptSections, prev: PreviousForPrompts): ReferralPrompt[] {
   const findings: ReferralFindings = {};
-  if (s.iop.length) findings.iopMmHg = Object.fromEntries(s.iop.map((r) => [r.eye, r.mmHg]));
+  // Every reading of the eye's preferred method (applanation first), so the engine uses their mean and knows the method.
+  if (s.iop.length)
+    findings.iop = Object.fromEntries(
+      EYES.flatMap((eye) => {
+        const r = iopForTriage(s.iop.filter((x) => x.eye === eye));
+        return r ? [[eye, { readings: r.iopMmHg, method: r.iopMethod }]] : [];
+      }),
+    );
   const spots = s.fields.filter((r) => r.blindSpotXDeg !== null && r.blindSpotYDeg !== null && r.blindSpotWidthDeg !== null && r.blindSpotHeightDeg !== null);
   if (spots.length)
     findings.blindSpot = Object.fromEntries(
@@ -183,7 +208,8 @@ export function promptsFrom(s: PromptSections, prev: PreviousForPrompts): Referr
     findings.colourVision = Object.fromEntries(
       s.colour.map((r) => {
         const before = prev.colour.find((p) => p.eye === r.eye);
-        return [r.eye, { result: cvResult(r.result), changedFromPrevious: before ? cvResult(before.result) !== cvResult(r.result) : undefined }];
+        const kind = r.result === "blue_yellow" ? ("blue-yellow" as const) : r.result === "red_green" ? ("red-green" as const) : undefined;
+        return [r.eye, { result: cvResult(r.result), changedFromPrevious: before ? cvResult(before.result) !== cvResult(r.result) : undefined, kind, blueYellowBefore: before?.result === "blue_yellow" }];
       }),
     );
   const isBest = (a: { distance: string; correction: string; eye: string }) => a.distance === "distance" && a.correction === "best" && a.eye !== "both";
@@ -257,7 +283,9 @@ async function saveHistory(tx: Tx, examId: string, form: Form) {
     .onConflictDoUpdate({ target: examHistory.examId, set: { ...values, updatedAt: new Date() } });
 }
 
-async function saveAcuity(tx: Tx, examId: string, form: Form) {
+async function saveAcuity(tx: Tx, examId: string, form: Form, practiceNotation: AcuityNotation) {
+  const chosen = (form.va_notation ?? "").trim();
+  const notation = (["metric", "feet", "decimal", "logmar"] as const).find((n) => n === chosen) ?? practiceNotation;
   const errors: FieldErrors = {};
   const rows: (typeof examAcuity.$inferInsert)[] = [];
   for (const eye of ACUITY_EYES)
@@ -265,20 +293,21 @@ async function saveAcuity(tx: Tx, examId: string, form: Form) {
       for (const correction of ACUITY_CORRECTIONS) {
         const k = acuityField(eye, distance, correction);
         const label = `${eye === "both" ? "Both eyes" : eye === "right" ? "Right" : "Left"} ${distance} ${correction} VA`;
-        const r = parseAcuity(form[k], label);
+        const r = parseAcuity(form[k], label, { notation, distance });
         if (r.error) errors[k] = [r.error];
-        else if (r.value) rows.push({ examId, eye, distance, correction, notation: r.value.notation, logMar: r.value.logMar });
+        else if (r.value && r.value.pinhole && correction !== "pinhole") errors[k] = [`${label}: a pinhole value belongs in the pinhole column.`];
+        else if (r.value) rows.push({ examId, eye, distance, correction, notation: r.value.notation, scale: r.value.scale, logMar: r.value.logMar });
       }
   if (Object.keys(errors).length) throw new SectionError(errors);
   await tx.delete(examAcuity).where(eq(examAcuity.examId, examId));
   if (rows.length) await tx.insert(examAcuity).values(rows);
 }
 
-async function saveRefraction(tx: Tx, examId: string, kind: RefractionKind, form: Form) {
+async function saveRefraction(tx: Tx, examId: string, kind: RefractionKind, form: Form, notation: AcuityNotation) {
   const errors: FieldErrors = {};
   const rows: (typeof examRefractions.$inferInsert)[] = [];
   for (const eye of EYES) {
-    const r = parseRefractionEye(form, eye, REFRACTION_LABEL[kind]);
+    const r = parseRefractionEye(form, eye, REFRACTION_LABEL[kind], notation);
     if (!r.ok) Object.assign(errors, r.errors);
     else if (r.value)
       rows.push({
@@ -324,23 +353,15 @@ async function saveBinocular(tx: Tx, examId: string, form: Form) {
 }
 
 async function saveIop(tx: Tx, examId: string, form: Form) {
-  const errors: FieldErrors = {};
-  const rows: (typeof examIop.$inferInsert)[] = [];
-  for (const eye of EYES) {
-    const E = eye === "right" ? "Right" : "Left";
-    const p = parseNumber(form[`${eye}_mmHg`], `${E} IOP (mmHg)`, 1, 80);
-    if (p.error) errors[`${eye}_mmHg`] = [p.error];
-    const method = oneOf(form[`${eye}_method`], IOP_METHODS, `${E} IOP method`, errors, `${eye}_method`);
-    const time = (form[`${eye}_time`] ?? "").trim();
-    if (time && !/^([01]\d|2[0-3]):[0-5]\d$/.test(time)) errors[`${eye}_time`] = [`${E} IOP time: use 24-hour HH:MM.`];
-    if (p.value === null && !p.error) continue;
-    if (!method && !errors[`${eye}_method`]) errors[`${eye}_method`] = [`${E} IOP: choose the method.`];
-    if (!time) errors[`${eye}_time`] = [`${E} IOP: give the time of day it was measured.`];
-    if (p.value !== null && method && time) rows.push({ examId, eye, mmHg: p.value, method, measuredTime: time });
-  }
-  if (Object.keys(errors).length) throw new SectionError(errors);
+  const parsed = parseIop(form);
+  if (!parsed.ok) throw new SectionError(parsed.errors);
+  const { readings, cct } = parsed.value;
+  const rows = EYES.flatMap((eye) => (readings[eye] ?? []).map((r, i) => ({ examId, eye, reading: i + 1, mmHg: r.mmHg, method: r.method, measuredTime: r.time })));
   await tx.delete(examIop).where(eq(examIop.examId, examId));
   if (rows.length) await tx.insert(examIop).values(rows);
+  await tx.delete(examCornealThickness).where(eq(examCornealThickness.examId, examId));
+  const cctRows = EYES.flatMap((eye) => (cct[eye] !== undefined ? [{ examId, eye, micrometres: cct[eye]! }] : []));
+  if (cctRows.length) await tx.insert(examCornealThickness).values(cctRows);
 }
 
 async function saveColour(tx: Tx, examId: string, form: Form) {
@@ -423,20 +444,13 @@ async function saveSegments(tx: Tx, examId: string, form: Form, all: FormData) {
   if (rows.length) await tx.insert(examSegments).values(rows);
 }
 
-async function saveAssessment(tx: Tx, examId: string, form: Form, all: FormData) {
+async function saveAssessment(tx: Tx, examId: string, form: Form) {
   const errors: FieldErrors = {};
   const recall = parseNumber(form.recallMonths, "Recall (months)", 1, 60, { integer: true });
   if (recall.error) errors.recallMonths = [recall.error];
-  const diagnoses: (typeof examDiagnoses.$inferInsert)[] = [];
-  for (const raw of all.getAll("diagnosis").map(String)) {
-    const [code, eye = "both"] = raw.split("|");
-    const known = DIAGNOSES.find((d) => d.code === code);
-    if (!known || !["right", "left", "both"].includes(eye)) {
-      errors.diagnosis = [`Diagnosis "${raw}" is not on the list.`];
-      continue;
-    }
-    if (!diagnoses.some((d) => d.code === code && d.eye === eye)) diagnoses.push({ examId, code: known.code, label: known.label, eye: eye as "both" });
-  }
+  const dx = parseDiagnoses(form);
+  if (!dx.ok) Object.assign(errors, dx.errors);
+  const diagnoses = dx.ok ? dx.value.map((d) => ({ examId, ...d })) : [];
   if (Object.keys(errors).length) throw new SectionError(errors);
   const values = { assessment: text(form, "assessment", 8000), plan: text(form, "plan", 8000), recallMonths: recall.value };
   await tx
@@ -447,7 +461,7 @@ async function saveAssessment(tx: Tx, examId: string, form: Form, all: FormData)
   if (diagnoses.length) await tx.insert(examDiagnoses).values(diagnoses);
 }
 
-export const SECTIONS = ["history", "acuity", ...REFRACTION_KINDS.map((k) => `refraction:${k}` as const), "binocular", "iop", "colour", "fields", "segments", "assessment"] as const;
+export const SECTIONS = ["redflags", "history", "acuity", ...REFRACTION_KINDS.map((k) => `refraction:${k}` as const), "binocular", "pupils", "ac", "iop", "colour", "fields", "segments", "disc", "fundus", "dilation", "assessment"] as const;
 export type Section = (typeof SECTIONS)[number];
 
 /** Saves one section of an in-progress exam in one transaction; a signed exam answers 409. */
@@ -455,22 +469,43 @@ export async function saveSection(user: SessionUser, patientId: string, examId: 
   const form: Form = {};
   for (const [k, v] of all.entries()) if (typeof v === "string" && form[k] === undefined) form[k] = v;
   return db.transaction(async (tx) => {
-    const [locked] = await tx.select({ status: exams.status }).from(exams).where(eq(exams.id, examId)).for("update");
+    const [locked] = await tx.select({ status: exams.status, examinedAt: exams.examinedAt }).from(exams).where(eq(exams.id, examId)).for("update");
     if (locked?.status !== "in_progress") throw data({ ok: false, section, message: "This exam is signed and read-only. Add an addendum instead." }, { status: 409 });
+    const settings = await examSettings(tx);
     if (section === "history") await saveHistory(tx, examId, form);
-    else if (section === "acuity") await saveAcuity(tx, examId, form);
-    else if (section.startsWith("refraction:")) await saveRefraction(tx, examId, section.slice("refraction:".length) as RefractionKind, form);
+    else if (section === "acuity") await saveAcuity(tx, examId, form, settings.acuityNotation);
+    else if (section.startsWith("refraction:")) await saveRefraction(tx, examId, section.slice("refraction:".length) as RefractionKind, form, settings.acuityNotation);
+    else if ((FINDINGS_SECTIONS as readonly string[]).includes(section)) {
+      try {
+        await saveFindings(tx, examId, section as FindingsSection, form, { now: new Date(), examinedAt: locked.examinedAt, timeZone: settings.timeZone });
+      } catch (e) {
+        if (e instanceof FindingsError) throw new SectionError(e.errors);
+        throw e;
+      }
+    }
     else if (section === "binocular") await saveBinocular(tx, examId, form);
     else if (section === "iop") await saveIop(tx, examId, form);
     else if (section === "colour") await saveColour(tx, examId, form);
     else if (section === "fields") await saveFields(tx, examId, form);
     else if (section === "segments") await saveSegments(tx, examId, form, all);
-    else if (section === "assessment") await saveAssessment(tx, examId, form, all);
+    else if (section === "assessment") await saveAssessment(tx, examId, form);
+    // Triage runs on every save, on what is now saved, and is kept with the exam.
+    const triage = await storedTriage(examId, tx);
     const savedAt = new Date();
-    await tx.update(exams).set({ updatedAt: savedAt }).where(eq(exams.id, examId));
+    await tx.update(exams).set({ updatedAt: savedAt, triage }).where(eq(exams.id, examId));
     await audit({ action: "exam.section_saved", actorUserId: user.id, entityType: "exam", entityId: examId, patientId, detail: { section }, request }, tx);
     return savedAt.toISOString();
   });
+}
+
+/** The triage proposal to keep with the exam; a finding the engine refuses leaves it unset. */
+export async function storedTriage(examId: string, conn: Tx | typeof db = db) {
+  try {
+    return (await examTriage(examId, conn)).result;
+  } catch (e) {
+    if (e instanceof TriageInputError) return null;
+    throw e;
+  }
 }
 
 export async function startExam(user: SessionUser, patientId: string, request: Request) {

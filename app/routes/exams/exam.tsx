@@ -10,18 +10,12 @@ import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { patients, users } from "~/db/schema";
 import {
-  ACUITY_CORRECTION_LABEL,
-  ACUITY_CORRECTIONS,
-  ACUITY_DISTANCES,
-  ACUITY_EYES,
-  acuityField,
   COLOUR_RESULTS,
   COLOUR_TESTS,
-  DIAGNOSES,
   EYE_LABEL,
   EYES,
   FIELD_METHODS,
-  IOP_METHODS,
+  localDateTime,
   parseAcuity,
   parseNumber,
   parseRxText,
@@ -35,16 +29,21 @@ import {
   type RefractionKind,
   type SegmentKey,
 } from "~/lib/exam/sections";
-import { compareRx, formatRx, isMeaningfulChange, MEANINGFUL_CHANGE_RULE, screenColourVision, type ReferralPrompt, type SphCyl } from "~/lib/optics";
+import { type AcuityNotation, compareRx, formatRx, isMeaningfulChange, MEANINGFUL_CHANGE_RULE, screenColourVision, type ReferralPrompt, type SphCyl } from "~/lib/optics";
 import { ageOn, formatDate } from "~/routes/patients/patient-schema";
 import { issuePrescription, prescriptionsOf } from "~/routes/patients/prescriptions.server";
 import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import { examAddenda, exams } from "~/db/schema";
+import { examAddenda, examCountersignatures, exams } from "~/db/schema";
+import { asc } from "drizzle-orm";
+import { AnteriorChamberSection, DilationSection, DiscSection, FundusSection, PupilsSection, RedFlagsSection } from "./findings-sections";
+import { AcuitySection, AssessmentSection, IopSection } from "./measure-sections";
+import { TriagePanel } from "./triage-panel";
+import { Signatures } from "./signatures";
 import { DirtyContext, ExamInput, ExamSelect, ExamTextarea, SectionForm, sectionAnchor, useDirtyTracker, type SaveReply } from "./exam-form";
-import { examFor, formValues, loadExam, previousFinal, promptsFor, saveSection, SectionError, SECTIONS, type Section } from "./exam.server";
+import { examFor, examSettings, formValues, loadExam, previousFinal, promptsFor, saveSection, SectionError, SECTIONS, storedTriage, type Section } from "./exam.server";
 import { DocumentList, UploadForm } from "~/routes/patients/uploads-ui";
 import { documentsOf } from "~/routes/patients/documents.server";
 
@@ -56,13 +55,22 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     .from(patients)
     .where(eq(patients.id, exam.patientId));
   const sections = await loadExam(exam.id);
-  const [prev, prompts, optometrist, signer, prescriptions, documents] = await Promise.all([
+  const [prev, prompts, optometrist, signer, prescriptions, documents, settings, countersignatures, triage] = await Promise.all([
     previousFinal(exam.patientId, exam.examinedAt),
     promptsFor(exam.patientId, exam, sections),
     db.select({ name: users.name }).from(users).where(eq(users.id, exam.optometristId)),
     exam.signedById ? db.select({ name: users.name }).from(users).where(eq(users.id, exam.signedById)) : Promise.resolve([]),
     prescriptionsOf(exam.patientId, exam.id),
     documentsOf(exam.patientId, exam.id),
+    examSettings(),
+    db
+      .select({ clinicianId: examCountersignatures.clinicianId, clinician: users.name, note: examCountersignatures.note, signedAt: examCountersignatures.signedAt })
+      .from(examCountersignatures)
+      .innerJoin(users, eq(users.id, examCountersignatures.clinicianId))
+      .where(eq(examCountersignatures.examId, exam.id))
+      .orderBy(asc(examCountersignatures.signedAt)),
+    // Exams saved before triage was kept with them are triaged on reading.
+    exam.triage ? Promise.resolve(exam.triage) : storedTriage(exam.id),
   ]);
   await audit({ action: "exam.read", actorUserId: user.id, entityType: "exam", entityId: exam.id, patientId: exam.patientId, request });
   return {
@@ -76,8 +84,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       optometrist: optometrist[0]?.name ?? "",
       signedBy: signer[0]?.name ?? null,
     },
-    values: formValues(sections),
+    values: formValues(sections, settings.timeZone),
     diagnoses: sections.diagnoses.map((d) => `${d.code}|${d.eye}`),
+    acuityNotation: settings.acuityNotation,
+    nowLocal: localDateTime(new Date(), settings.timeZone),
+    triage,
+    countersignatures: countersignatures.map((c) => ({ clinician: c.clinician, note: c.note, signedAt: c.signedAt.toISOString() })),
+    isExaminer: user.id === exam.optometristId,
+    canCountersign: exam.status === "signed" && user.id !== exam.optometristId && !countersignatures.some((c) => c.clinicianId === user.id),
     hasFinal: sections.refractions.some((r) => r.kind === "final"),
     addenda: sections.addenda.map((a) => ({ ...a, createdAt: a.createdAt.toISOString() })),
     previous: prev && {
@@ -87,7 +101,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     prompts,
     prescriptions,
     documents,
-    canSign: exam.status === "in_progress",
+    canSign: exam.status === "in_progress" && user.id === exam.optometristId,
   };
 }
 
@@ -128,6 +142,8 @@ export async function action({ request, params }: Route.ActionArgs) {
   }
 
   if (intent === "sign") {
+    if (user.id !== exam.optometristId)
+      return data({ intent, ok: false, message: "Only the examining clinician signs an exam. You can countersign it once it is signed, or add an addendum." }, { status: 403 });
     const signed = await db.transaction(async (tx) => {
       const [locked] = await tx.select({ status: exams.status }).from(exams).where(eq(exams.id, exam.id)).for("update");
       if (locked?.status !== "in_progress") return false;
@@ -137,6 +153,21 @@ export async function action({ request, params }: Route.ActionArgs) {
     });
     if (!signed) return data({ intent, ok: false, message: "This exam is already signed." }, { status: 409 });
     return redirectWithToast(`/patients/${exam.patientId}/exams/${exam.id}`, { kind: "success", title: "Exam signed", description: "It is now read-only; corrections are added as addenda." });
+  }
+
+  if (intent === "countersign") {
+    const note = String(form.get("note") ?? "").trim();
+    if (note.length > 2000) return data({ intent, ok: false, message: "The note is longer than 2000 characters." }, { status: 400 });
+    if (exam.status !== "signed") return data({ intent, ok: false, message: "Only a signed exam can be countersigned." }, { status: 409 });
+    if (user.id === exam.optometristId) return data({ intent, ok: false, message: "The examining clinician has signed already; a countersignature is another clinician's." }, { status: 403 });
+    const added = await db.transaction(async (tx) => {
+      const rows = await tx.insert(examCountersignatures).values({ examId: exam.id, clinicianId: user.id, note }).onConflictDoNothing().returning({ examId: examCountersignatures.examId });
+      if (!rows.length) return false;
+      await audit({ action: "exam.countersigned", actorUserId: user.id, entityType: "exam", entityId: exam.id, patientId: exam.patientId, request }, tx);
+      return true;
+    });
+    if (!added) return data({ intent, ok: false, message: "You have countersigned this exam already." }, { status: 409 });
+    return redirectWithToast(`/patients/${exam.patientId}/exams/${exam.id}#signatures`, { kind: "success", title: "Exam countersigned" });
   }
 
   if (intent === "addendum") {
@@ -183,13 +214,25 @@ export async function clientAction({ request, serverAction }: Route.ClientAction
 
 type LoaderData = Route.ComponentProps["loaderData"];
 
-const SECTION_KEYS = ["history", "acuity", ...REFRACTION_KINDS.map((k) => `refraction:${k}`), "binocular", "iop", "colour", "fields", "segments", "assessment"];
+const SECTION_KEYS = ["redflags", "history", "acuity", ...REFRACTION_KINDS.map((k) => `refraction:${k}`), "binocular", "pupils", "ac", "iop", "colour", "fields", "segments", "disc", "fundus", "dilation", "assessment"];
 
 /** Whether the saved values (as formValues names them) hold anything for a section. */
 function sectionHasValues(section: string, values: Record<string, string>, diagnoses: string[]) {
   const keys = Object.keys(values).filter((k) => values[k] !== "");
   const any = (test: (k: string) => boolean) => keys.some(test);
   switch (section) {
+    case "redflags":
+      return any((k) => k.startsWith("rf_"));
+    case "pupils":
+      return any((k) => k.includes("_pup_"));
+    case "ac":
+      return any((k) => k.includes("_ac_"));
+    case "disc":
+      return any((k) => k.includes("_disc_"));
+    case "fundus":
+      return any((k) => k.includes("_fu_"));
+    case "dilation":
+      return any((k) => k.startsWith("dil"));
     case "history":
       return any((k) => ["reason", "symptoms", "ocularHistory", "generalHistory", "medications", "familyHistory"].includes(k));
     case "acuity":
@@ -197,7 +240,7 @@ function sectionHasValues(section: string, values: Record<string, string>, diagn
     case "binocular":
       return any((k) => k.startsWith("bv_"));
     case "iop":
-      return any((k) => k.endsWith("_mmHg"));
+      return any((k) => /_mmHg(_\d)?$/.test(k) || k.endsWith("_cct"));
     case "colour":
       return any((k) => k.endsWith("_test") || k.endsWith("_result"));
     case "fields":
@@ -205,7 +248,7 @@ function sectionHasValues(section: string, values: Record<string, string>, diagn
     case "segments":
       return any((k) => /_(anterior|posterior)_/.test(k));
     case "assessment":
-      return diagnoses.length > 0 || any((k) => ["assessment", "plan", "recallMonths"].includes(k));
+      return diagnoses.length > 0 || any((k) => ["assessment", "plan", "recallMonths"].includes(k) || k.startsWith("dx_"));
     default:
       return section.startsWith("refraction:") && any((k) => k.startsWith(`${section.slice("refraction:".length)}.`));
   }
@@ -241,20 +284,27 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
       <nav aria-label="Exam sections" className="mb-6 rounded-lg border border-line bg-white px-4 py-3 text-sm">
         <ul className="flex flex-wrap gap-x-4 gap-y-1">
           {[
+            ["triage", "Triage"],
+            ["redflags", "Red flags"],
             ["history", "History"],
             ["acuity", "Acuity"],
             ...REFRACTION_KINDS.map((k) => [`refraction:${k}`, REFRACTION_LABEL[k].split(" (")[0]!]),
             ["binocular", "Binocular"],
+            ["pupils", "Pupils"],
+            ["ac", "Anterior chamber"],
             ["iop", "IOP"],
             ["colour", "Colour"],
             ["fields", "Fields"],
             ["segments", "Segments"],
+            ["disc", "Disc"],
+            ["fundus", "Fundus"],
+            ["dilation", "Dilation"],
             ["assessment", "Assessment"],
           ]
-            .filter(([k]) => shown(k!))
+            .filter(([k]) => k === "triage" || shown(k!))
             .map(([k, label]) => (
             <li key={k}>
-              <a href={`#${sectionAnchor(k!)}`} className="font-semibold text-accent-800 underline-offset-4 hover:underline">
+              <a href={k === "triage" ? "#triage-title" : `#${sectionAnchor(k!)}`} className="font-semibold text-accent-800 underline-offset-4 hover:underline">
                 {label}
               </a>
               {tracker.states[k!] && tracker.states[k!] !== "saved" ? <span className="ml-1 text-xs text-amber-900">({tracker.states[k!] === "failed" ? "not saved" : tracker.states[k!]})</span> : null}
@@ -264,7 +314,7 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
       </nav>
       <div className="space-y-6">
         <Notice tone="info" title="Entry">
-          Type refractions in the usual notation (<code>-2.25 -0.75 x 175</code>, <code>pl</code>, <code>+1.00 DS</code>) and acuity as 6/6, 20/25-2, decimal or logMAR. Each section saves on its own a moment
+          Type refractions in the usual notation (<code>-2.25 -0.75 x 175</code>, <code>pl</code>, <code>+1.00 DS</code>) and acuity as 6/6 or 20/25-2 (bare numbers in the notation the acuity section states). Each section saves on its own a moment
           after you stop typing; its badge says whether it is saved. Allergies: {patient.allergies || "none recorded"}. Medications: {patient.medications || "none recorded"}.
         </Notice>
         {readOnly ? (
@@ -273,18 +323,25 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
             Show sections with nothing recorded ({SECTION_KEYS.filter((k) => !recorded(k)).length} hidden)
           </label>
         ) : null}
+        <TriagePanel triage={loaderData.triage} />
+        {shown("redflags") ? <RedFlagsSection values={values} readOnly={readOnly} /> : null}
         {shown("history") ? <HistorySection values={values} readOnly={readOnly} /> : null}
-        {shown("acuity") ? <AcuitySection values={values} readOnly={readOnly} prompts={promptsOf(["ACUITY"])} /> : null}
+        {shown("acuity") ? <AcuitySection values={values} readOnly={readOnly} prompts={promptsOf(["ACUITY"])} practiceNotation={loaderData.acuityNotation} /> : null}
         <PreviousFinal previous={previous} />
         {REFRACTION_KINDS.filter((kind) => shown(`refraction:${kind}`)).map((kind) => (
-          <RefractionSection key={kind} kind={kind} values={values} readOnly={readOnly} previous={kind === "final" || kind === "subjective" ? previous : null} />
+          <RefractionSection key={kind} kind={kind} values={values} readOnly={readOnly} previous={kind === "final" || kind === "subjective" ? previous : null} notation={loaderData.acuityNotation} />
         ))}
         {shown("binocular") ? <BinocularSection values={values} readOnly={readOnly} /> : null}
+        {shown("pupils") ? <PupilsSection values={values} readOnly={readOnly} /> : null}
+        {shown("ac") ? <AnteriorChamberSection values={values} readOnly={readOnly} /> : null}
         {shown("iop") ? <IopSection values={values} readOnly={readOnly} prompts={promptsOf(["IOP"])} /> : null}
         {shown("colour") ? <ColourSection values={values} readOnly={readOnly} prompts={promptsOf(["COLOUR"])} /> : null}
         {shown("fields") ? <FieldsSection values={values} readOnly={readOnly} prompts={promptsOf(["BLIND_SPOT", "FIELD"])} /> : null}
         {shown("segments") ? <SegmentsSection values={values} readOnly={readOnly} /> : null}
-        {shown("assessment") ? <AssessmentSection values={values} diagnoses={loaderData.diagnoses} readOnly={readOnly} /> : null}
+        {shown("disc") ? <DiscSection values={values} readOnly={readOnly} /> : null}
+        {shown("fundus") ? <FundusSection values={values} readOnly={readOnly} /> : null}
+        {shown("dilation") ? <DilationSection values={values} readOnly={readOnly} nowLocal={loaderData.nowLocal} /> : null}
+        {shown("assessment") ? <AssessmentSection values={values} readOnly={readOnly} /> : null}
         <Card title="Attachments">
           <DocumentList patientId={patient.id} documents={loaderData.documents} />
           <div className="mt-4">
@@ -303,7 +360,8 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
             Prompts are for your judgement, not referral decisions.
           </Notice>
         ) : null}
-        {readOnly ? <Addenda addenda={loaderData.addenda} /> : <SignCard states={tracker.states} />}
+        {readOnly ? <Signatures signedBy={exam.signedBy} signedAt={exam.signedAt} countersignatures={loaderData.countersignatures} canCountersign={loaderData.canCountersign} /> : null}
+        {readOnly ? <Addenda addenda={loaderData.addenda} /> : <SignCard states={tracker.states} canSign={loaderData.canSign} examiner={exam.optometrist} />}
         {readOnly ? <Prescriptions data={loaderData} /> : null}
       </div>
     </DirtyContext.Provider>
@@ -327,53 +385,6 @@ function HistorySection({ values, readOnly }: V) {
         {f.map(([k, label]) => (
           <ExamTextarea key={k} id={`h-${k}`} name={k} label={label} defaultValue={values[k]} />
         ))}
-      </div>
-    </SectionForm>
-  );
-}
-
-const vaValidate = (label: string) => (v: string) => parseAcuity(v, label).error;
-
-function AcuitySection({ values, readOnly, prompts }: V & { prompts: ReferralPrompt[] }) {
-  return (
-    <SectionForm section="acuity" title="Visual acuity" readOnly={readOnly} prompts={prompts}>
-      <div className="overflow-x-auto">
-        <table className="min-w-full text-sm">
-          <caption className="sr-only">Visual acuity by eye, distance and correction</caption>
-          <thead>
-            <tr>
-              <th scope="col" className="p-2 text-left">
-                Eye
-              </th>
-              {ACUITY_DISTANCES.flatMap((d) =>
-                ACUITY_CORRECTIONS.map((c) => (
-                  <th key={`${d}-${c}`} scope="col" className="p-2 text-left font-semibold">
-                    {d === "distance" ? "Distance" : "Near"}, {ACUITY_CORRECTION_LABEL[c].toLowerCase()}
-                  </th>
-                )),
-              )}
-            </tr>
-          </thead>
-          <tbody>
-            {ACUITY_EYES.map((eye) => (
-              <tr key={eye} className="border-t border-line">
-                <th scope="row" className="p-2 text-left">
-                  {EYE_LABEL[eye]}
-                </th>
-                {ACUITY_DISTANCES.flatMap((d) =>
-                  ACUITY_CORRECTIONS.map((c) => {
-                    const label = `${eye === "both" ? "Both eyes" : eye === "right" ? "Right" : "Left"} ${d} ${ACUITY_CORRECTION_LABEL[c].toLowerCase()} VA`;
-                    return (
-                      <td key={`${d}-${c}`} className="min-w-24 p-1 align-top">
-                        <ExamInput id={`va-${eye}-${d}-${c}`} name={acuityField(eye, d, c)} label={label} hideLabel defaultValue={values[acuityField(eye, d, c)]} validate={vaValidate(label)} />
-                      </td>
-                    );
-                  }),
-                )}
-              </tr>
-            ))}
-          </tbody>
-        </table>
       </div>
     </SectionForm>
   );
@@ -424,7 +435,7 @@ function ChangeCell({ before, now, eye }: { before?: SphCyl; now: SphCyl | null;
   );
 }
 
-function RefractionSection({ kind, values, readOnly, previous }: V & { kind: RefractionKind; previous: Previous | null }) {
+function RefractionSection({ kind, values, readOnly, previous, notation }: V & { kind: RefractionKind; previous: Previous | null; notation: AcuityNotation }) {
   const label = REFRACTION_LABEL[kind];
   const short = label.split(" (")[0]!.toLowerCase();
   const v = (eye: EyeKey, p: string) => values[`${kind}.${eye}_${p}`];
@@ -512,7 +523,7 @@ function RefractionSection({ kind, values, readOnly, previous }: V & { kind: Ref
                     <ExamInput id={`${kind}-${eye}-vertex`} name={`${eye}_vertex`} label={`${E} ${short} vertex distance in mm`} hideLabel inputMode="decimal" defaultValue={v(eye, "vertex")} validate={(t) => parseNumber(t, `${E} vertex`, 0, 25, { step: 0.5 }).error} />
                   </td>
                   <td className="w-28 p-1">
-                    <ExamInput id={`${kind}-${eye}-va`} name={`${eye}_va`} label={`${E} ${short} VA`} hideLabel defaultValue={v(eye, "va")} validate={(t) => parseAcuity(t, `${E} VA`).error} />
+                    <ExamInput id={`${kind}-${eye}-va`} name={`${eye}_va`} label={`${E} ${short} VA`} hideLabel defaultValue={v(eye, "va")} validate={(t) => parseAcuity(t, `${E} VA`, { notation, distance: "distance" }).error} echo={(t) => parseAcuity(t, `${E} VA`, { notation, distance: "distance" }).value?.echo} />
                   </td>
                   {previous ? (
                     <td className="min-w-64 p-2">
@@ -554,22 +565,6 @@ function PerEyeGrid({ children }: { children: (eye: EyeKey, E: string) => React.
         </fieldset>
       ))}
     </div>
-  );
-}
-
-function IopSection({ values, readOnly, prompts }: V & { prompts: ReferralPrompt[] }) {
-  return (
-    <SectionForm section="iop" title="Intraocular pressure" readOnly={readOnly} prompts={prompts}>
-      <PerEyeGrid>
-        {(eye, E) => (
-          <>
-            <ExamInput id={`iop-${eye}`} name={`${eye}_mmHg`} label={`${E} IOP (mmHg)`} inputMode="decimal" defaultValue={values[`${eye}_mmHg`]} validate={(t) => parseNumber(t, `${E} IOP`, 1, 80).error} />
-            <ExamSelect id={`iop-${eye}-method`} name={`${eye}_method`} label={`${E} IOP method`} defaultValue={values[`${eye}_method`]} options={IOP_METHODS} />
-            <ExamInput id={`iop-${eye}-time`} name={`${eye}_time`} label={`${E} IOP time of day`} type="time" defaultValue={values[`${eye}_time`]} />
-          </>
-        )}
-      </PerEyeGrid>
-    </SectionForm>
   );
 }
 
@@ -678,31 +673,7 @@ function SegmentsSection({ values, readOnly }: V) {
   );
 }
 
-function AssessmentSection({ values, diagnoses, readOnly }: V & { diagnoses: string[] }) {
-  return (
-    <SectionForm section="assessment" title="Assessment, plan and diagnoses" readOnly={readOnly}>
-      <div className="grid gap-4 sm:grid-cols-2">
-        <ExamTextarea id="as-assessment" name="assessment" label="Assessment" rows={3} defaultValue={values.assessment} />
-        <ExamTextarea id="as-plan" name="plan" label="Plan" rows={3} defaultValue={values.plan} />
-        <ExamInput id="as-recall" name="recallMonths" label="Recall in (months)" inputMode="numeric" defaultValue={values.recallMonths} validate={(t) => parseNumber(t, "Recall", 1, 60, { integer: true }).error} />
-      </div>
-      <fieldset className="mt-4">
-        <legend className="mb-2 text-sm font-semibold">Diagnoses (ICD-10)</legend>
-        <div className="grid gap-1 sm:grid-cols-2">
-          {DIAGNOSES.map((d) => (
-            <label key={d.code} className="flex items-center gap-2 text-sm">
-              <input type="checkbox" name="diagnosis" value={`${d.code}|both`} defaultChecked={diagnoses.includes(`${d.code}|both`)} className="size-4" />
-              <span className="font-mono">{d.code}</span> {d.label}
-            </label>
-          ))}
-        </div>
-        <p className="mt-2 text-xs text-muted">ICD-10 codes and titles as commonly used; check against the current edition.</p>
-      </fieldset>
-    </SectionForm>
-  );
-}
-
-function SignCard({ states }: { states: Record<string, string> }) {
+function SignCard({ states, canSign, examiner }: { states: Record<string, string>; canSign: boolean; examiner: string }) {
   const navigation = useNavigation();
   const pending = Object.entries(states).filter(([, s]) => s !== "saved").map(([k]) => k);
   const actionData = useActionData<{ intent?: string; message?: string }>();
@@ -711,12 +682,16 @@ function SignCard({ states }: { states: Record<string, string> }) {
       <p className="mb-3 text-sm text-muted">A signed exam is locked. Later corrections are added as addenda that record who made them and when.</p>
       {actionData?.intent === "sign" && actionData.message ? <Notice tone="error" title={actionData.message} /> : null}
       {pending.length ? <Notice tone="warning" title="Some sections are not saved yet">Wait for every section to show “Saved”, or correct the fields it names: {pending.join(", ")}.</Notice> : null}
+      {!canSign ? (
+        <Notice tone="info" title={`Only the examining clinician (${examiner}) signs this exam.`}>Once it is signed you can countersign it or add an addendum.</Notice>
+      ) : (
       <Form method="post" className="mt-3">
         <input type="hidden" name="intent" value="sign" />
         <Button type="submit" disabled={pending.length > 0} pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "sign"}>
           Sign exam
         </Button>
       </Form>
+      )}
     </Card>
   );
 }

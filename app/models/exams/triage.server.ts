@@ -1,0 +1,121 @@
+/**
+ * Referral triage of one exam: the engine's proposal (`~/lib/referrals`) from the exam's saved
+ * findings and the best-corrected acuity of the patient's previous visit. A proposal for the
+ * optometrist, never a decision.
+ */
+import { and, desc, eq, lt } from "drizzle-orm";
+import { examAcuity, examAnteriorChamber, examDiscs, examFundus, examIop, examPupils, examRedFlags, examRefractions, exams, patients, practiceSettings } from "~/db/schema";
+import { triage, type Eye, type EyeFindings, type TriageInput, type TriageResult } from "~/lib/referrals";
+import { localParts } from "~/lib/scheduling/time";
+import { ageOn } from "~/routes/patients/patient-schema";
+import { db, type Tx } from "~/utils/db.server";
+
+type Conn = Tx | typeof db;
+type EyeKey = "right" | "left";
+const SHORT: Record<EyeKey, Eye> = { right: "R", left: "L" };
+
+const METHOD: Record<string, NonNullable<EyeFindings["iopMethod"]>> = { goldmann: "applanation", handheld_applanation: "applanation", rebound: "rebound", non_contact: "non-contact", other: "other" };
+/** Applanation is the reference method, then rebound, then non-contact (common practice). */
+const PREFERENCE: NonNullable<EyeFindings["iopMethod"]>[] = ["applanation", "rebound", "non-contact", "other"];
+
+/** The readings triage uses for one eye: all readings of the best method taken. */
+export function iopForTriage(rows: readonly { mmHg: number; method: string }[]): { iopMmHg: number[]; iopMethod: NonNullable<EyeFindings["iopMethod"]> } | null {
+  for (const m of PREFERENCE) {
+    const of = rows.filter((r) => METHOD[r.method] === m);
+    if (of.length) return { iopMmHg: of.map((r) => r.mmHg), iopMethod: m };
+  }
+  return null;
+}
+
+/** Best-corrected distance acuity of one eye: the acuity row, else the final refraction's VA. */
+async function bestVa(conn: Conn, examId: string): Promise<Partial<Record<EyeKey, number>>> {
+  const [acuity, finals] = await Promise.all([
+    conn.select().from(examAcuity).where(and(eq(examAcuity.examId, examId), eq(examAcuity.distance, "distance"), eq(examAcuity.correction, "best"))),
+    conn.select().from(examRefractions).where(and(eq(examRefractions.examId, examId), eq(examRefractions.kind, "final"))),
+  ]);
+  const out: Partial<Record<EyeKey, number>> = {};
+  for (const eye of ["right", "left"] as const) {
+    const a = acuity.find((r) => r.eye === eye);
+    const f = finals.find((r) => r.eye === eye && r.vaLogMar !== null);
+    if (a) out[eye] = a.logMar;
+    else if (f) out[eye] = f.vaLogMar!;
+  }
+  return out;
+}
+
+export async function examTriageInput(examId: string, conn: Conn = db): Promise<TriageInput> {
+  const [exam] = await conn
+    .select({ examinedAt: exams.examinedAt, patientId: exams.patientId, dateOfBirth: patients.dateOfBirth })
+    .from(exams)
+    .innerJoin(patients, eq(patients.id, exams.patientId))
+    .where(eq(exams.id, examId));
+  if (!exam) throw new Error(`Exam ${examId} not found`);
+  const [settings] = await conn.select({ timeZone: practiceSettings.timeZone }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const examDay = localParts(exam.examinedAt, settings?.timeZone ?? "Europe/London").date;
+  const [iop, flags, pupils, ac, discs, fundus, va, previous] = await Promise.all([
+    conn.select().from(examIop).where(eq(examIop.examId, examId)),
+    conn.select().from(examRedFlags).where(eq(examRedFlags.examId, examId)),
+    conn.select().from(examPupils).where(eq(examPupils.examId, examId)),
+    conn.select().from(examAnteriorChamber).where(eq(examAnteriorChamber.examId, examId)),
+    conn.select().from(examDiscs).where(eq(examDiscs.examId, examId)),
+    conn.select().from(examFundus).where(eq(examFundus.examId, examId)),
+    bestVa(conn, examId),
+    conn
+      .select({ id: exams.id })
+      .from(exams)
+      .where(and(eq(exams.patientId, exam.patientId), lt(exams.examinedAt, exam.examinedAt)))
+      .orderBy(desc(exams.examinedAt))
+      .limit(1),
+  ]);
+  const prevVa = previous[0] ? await bestVa(conn, previous[0].id) : {};
+  const rf = flags[0];
+  const eyes: TriageInput["eyes"] = {};
+  for (const eye of ["right", "left"] as const) {
+    const f: EyeFindings = {};
+    const inEye = (v: string | null | undefined) => v === eye || v === "both";
+    const readings = iopForTriage(iop.filter((r) => r.eye === eye).sort((a, b) => a.reading - b.reading));
+    if (readings) Object.assign(f, readings);
+    if (va[eye] !== undefined) f.vaLogMAR = va[eye];
+    if (prevVa[eye] !== undefined) f.previousVaLogMAR = prevVa[eye];
+    if (rf) {
+      if (inEye(rf.suddenLoss)) f.suddenVisionLoss = true;
+      if (inEye(rf.flashes)) f.flashes = true;
+      if (inEye(rf.newFloaters)) f.newFloaters = true;
+      if (inEye(rf.curtain)) f.curtain = true;
+      if (inEye(rf.severePain)) f.severePain = true;
+      if (inEye(rf.redEye)) f.redEye = true;
+      if (inEye(rf.distortion)) f.distortion = true;
+    }
+    const d = discs.find((r) => r.eye === eye);
+    if (d) {
+      if (d.verticalCd !== null) f.verticalCupDisc = d.verticalCd;
+      if (d.swelling) f.discSwelling = true;
+      if (d.haemorrhage) f.discHaemorrhage = true;
+    }
+    if (pupils.find((r) => r.eye === eye)?.rapd) f.rapd = true;
+    const a = ac.find((r) => r.eye === eye);
+    if (a) {
+      if (a.cells && a.cells !== "none" && a.cells !== "trace") f.anteriorChamberCells = true;
+      if (a.hyphaema) f.hyphaema = true;
+      if (a.hypopyon) f.hypopyon = true;
+    }
+    const fu = fundus.find((r) => r.eye === eye);
+    if (fu) {
+      if (fu.retinalBreak) f.retinalBreak = true;
+      if (fu.retinalDetachment) f.retinalDetachment = true;
+      if (fu.vitreousPigment) f.vitreousPigment = true;
+      if (fu.suspectedWetAmd) f.suspectedWetAmd = true;
+    }
+    if (Object.keys(f).length) eyes[SHORT[eye]] = f;
+  }
+  const input: TriageInput = { ageYears: ageOn(exam.dateOfBirth, examDay), eyes };
+  if (rf?.newDiplopia) input.newDiplopia = true;
+  if (rf?.gcaSymptoms) input.gcaSymptoms = true;
+  return input;
+}
+
+/** The triage proposal of an exam from its saved sections. */
+export async function examTriage(examId: string, conn: Conn = db): Promise<{ input: TriageInput; result: TriageResult }> {
+  const input = await examTriageInput(examId, conn);
+  return { input, result: triage(input) };
+}
