@@ -151,7 +151,7 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
     await screenshot(page, "referrals-tracking");
     const { rows } = await client.query("select body from referral_replies where referral_id = $1 and patient_id = $2", [referralId, candidate.patient_id]);
     expect(rows[0].body).toContain("Seen in the glaucoma clinic");
-  });
+  }, 150_000); // the whole round trip (draft, PDF, SMTP, the recipient's reply) on a shared two-core machine
 
   it("lets the owner keep the recipients directory and the time frames", async () => {
     const page = await browser.newPage();

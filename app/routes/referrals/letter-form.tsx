@@ -118,7 +118,7 @@ export function LetterForm({
             <p>Triage proposes no referral from the recorded findings. Refer on your own judgement; choose the urgency yourself.</p>
           )}
         </div>
-        <div className="mt-4">
+        <div className="mt-4" hidden={!proposed}>
           <label htmlFor={fields.urgencyOverrideReason.id} className="mb-1 block text-sm font-semibold">
             Reason for a lower urgency than proposed (needed only when you choose lower)
           </label>
