@@ -19,6 +19,13 @@ export const patients = pgTable(
     /** Known allergies and current medications, shown on the chart summary. */
     allergies: text().notNull().default(""),
     medications: text().notNull().default(""),
+    /** "No known allergies" was asked and recorded (empty allergies alone means not recorded). */
+    noKnownAllergies: boolean().notNull().default(false),
+    /** The patient's general practitioner, for referral letters. */
+    gpName: text().notNull().default(""),
+    gpPractice: text().notNull().default(""),
+    gpAddress: text().notNull().default(""),
+    gpPhone: text().notNull().default(""),
     remindersByEmail: boolean().notNull().default(true),
     /** Recall e-mails ("your yearly exam is due"), chosen apart from appointment reminders. */
     recallsByEmail: boolean().notNull().default(true),
