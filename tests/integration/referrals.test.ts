@@ -59,7 +59,7 @@ async function fixtureExam(opts: { signed?: boolean } = {}) {
   const optom = await userByEmail(OPTOM);
   const [patient] = await db
     .insert(patients)
-    .values({ firstName: "Oriel", lastName: `Fenwick-Test${Math.floor(Math.random() * 1e6)}`, dateOfBirth: "1961-06-02", sex: "female", addressLine1: "9 Quarry Row", city: "Brackenford", postcode: "BF9 2ZZ", phone: "07700 900461", allergies: "Penicillin (rash)" })
+    .values({ firstName: "Oriel", lastName: `Fenwick-Test${Math.floor(Math.random() * 1e6)}`, dateOfBirth: "1961-06-02", sex: "female", addressLine1: "9 Quarry Row", city: "Brackenford", postcode: "BF9 2ZZ", phone: "07700 900461", allergies: "Penicillin (rash)", gpName: "Dr Imogen Castellane", gpPractice: "Brackenford Health Centre", gpPhone: "01632 960 112" })
     .returning();
   const signed = opts.signed ?? true;
   const at = new Date(Date.now() - 2 * 3600_000);
@@ -185,6 +185,7 @@ describe("the letter", () => {
     expect(raw).toContain("Urgency: Urgent (to be seen within 7 days).");
     expect(raw).toContain("The exam findings call for routine because of: • Right eye: IOP 27.5 mmHg by applanation (one reading), 24 mmHg or more (routine)");
     expect(raw).toContain("Telephone: 07700 900461");
+    expect(raw).toContain("GP: Dr Imogen Castellane, Brackenford Health Centre, Tel 01632 960 112");
     expect(raw).toContain("Medications: Amlodipine 5 mg");
     expect(raw).toContain("Allergies: Penicillin (rash)");
     expect(raw).toContain("Intraocular pressure at the previous exam");
@@ -380,7 +381,8 @@ describe("triage in the referral", () => {
 
   it("keeps the override reason only while the urgency is lower, and writes \"None known\" when so recorded", async () => {
     const { patient, exam } = await redFlagExam();
-    await db.update(patients).set({ allergies: "None known" }).where(eq(patients.id, patient.id));
+    // Recorded as "no known allergies" with the text left empty.
+    await db.update(patients).set({ allergies: "", noKnownAllergies: true }).where(eq(patients.id, patient.id));
     const cookie = await cookieFor("optometrist");
     const rec = await recipient();
     const res = await run(newAction, post(`/referrals/new?exam=${exam.id}`, cookie, [["intent", "create"], ["recipientId", rec.id], ["urgency", "same_day"], ["reason", "Retinal tear"], ["additionalFindings", "Tear"], ["urgencyOverrideReason", "left over from an earlier choice"]]));

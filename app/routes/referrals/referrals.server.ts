@@ -110,10 +110,9 @@ async function findingsOf(examId: string) {
   };
 }
 
-/** The GP as one line, from whichever GP fields the patient record has. */
-function gpLine(row: Record<string, unknown>): string {
-  const part = (k: string) => (typeof row[k] === "string" ? (row[k] as string).trim() : "");
-  return [part("gpName"), part("gpPractice"), part("gpAddress"), part("gpPhone") && `Tel ${part("gpPhone")}`].filter(Boolean).join(", ");
+/** The GP as one line: name, practice, address and telephone, as recorded. */
+export function gpLine(p: { gpName: string; gpPractice: string; gpAddress: string; gpPhone: string }): string {
+  return [p.gpName.trim(), p.gpPractice.trim(), p.gpAddress.trim(), p.gpPhone.trim() && `Tel ${p.gpPhone.trim()}`].filter(Boolean).join(", ");
 }
 
 /** The signed exam's measured values, as the letter will carry them. */
@@ -150,7 +149,6 @@ export async function snapshotOf(exam: typeof exams.$inferSelect): Promise<Lette
       .limit(1),
   ]);
   const previousIop = previous ? await db.select().from(examIop).where(eq(examIop.examId, previous.id)) : [];
-  const row = (patientRow ?? {}) as Record<string, unknown>;
   return {
     ...extras,
     triage: triaged ? { urgency: triaged.result.urgency, reasons: triaged.result.reasons.map((r) => ({ urgency: r.urgency, eye: r.eye, rule: r.rule, source: r.source })) } : null,
@@ -159,13 +157,9 @@ export async function snapshotOf(exam: typeof exams.$inferSelect): Promise<Lette
           .sort((a, b) => order[a.eye] - order[b.eye] || a.reading - b.reading)
           .map((r) => ({ examinedAt: previous.examinedAt.toISOString(), eye: r.eye, mmHg: r.mmHg, method: IOP_METHODS[r.method] ?? r.method, time: r.measuredTime.slice(0, 5) }))
       : [],
-    patientDetails: {
-      phone: typeof row.phone === "string" && row.phone.trim() ? row.phone : null,
-      allergies: typeof row.allergies === "string" ? row.allergies : "",
-      medications: typeof row.medications === "string" ? row.medications : "",
-      noKnownAllergies: typeof row.noKnownAllergies === "boolean" ? row.noKnownAllergies : null,
-      gp: gpLine(row),
-    },
+    patientDetails: patientRow
+      ? { phone: patientRow.phone?.trim() || null, allergies: patientRow.allergies, medications: patientRow.medications, noKnownAllergies: patientRow.noKnownAllergies, gp: gpLine(patientRow) }
+      : undefined,
     examinedAt: exam.examinedAt.toISOString(),
     signedAt: exam.signedAt?.toISOString() ?? null,
     examiner: examiner?.name ?? "",
@@ -279,8 +273,9 @@ export async function candidateExams(limit = 20) {
     const s = await loadExam(row.id);
     // Requests to repeat a measurement are not reasons to refer: only prompts to consider referral and triage's reasons count.
     const prompts = (await promptsFor(row.patientId, { id: row.id, examinedAt: row.examinedAt }, s)).filter((p) => p.action === "consider referral");
-    const triaged = await examTriage(row.id).catch(() => null);
-    const reasons = triageLines(triaged?.result ?? row.triage).map((t) => `${URGENCY_LABEL[t.urgency] ?? t.urgency}: ${t.text}`);
+    // The proposal stored at the exam's last save; computed now for exams saved before triage was stored.
+    const triaged = row.triage ?? (await examTriage(row.id).catch(() => null))?.result ?? null;
+    const reasons = triageLines(triaged).map((t) => `${URGENCY_LABEL[t.urgency] ?? t.urgency}: ${t.text}`);
     if (prompts.length || reasons.length) out.push({ ...row, prompts: [...reasons, ...prompts.map((p) => p.message)] });
   }
   return out;
