@@ -169,8 +169,11 @@ export function parseRefractionEye(form: Record<string, string | undefined>, eye
   const anyOther = ["add", "prism", "base", "vertex", "va"].some((p) => f(p as "add"));
   if (!rxText && !anyOther) return { ok: true, value: null };
   const rx = parseRxText(rxText, `${where} sphere/cylinder/axis`);
+  const axisTyped = /(?:×|\bx|\bax\.?|\baxis)\s*(\d+(?:\.\d+)?)\s*$/i.exec(rxText);
   if (!rxText) errors[refractionField(eye, "rx")] = [`${where}: type the sphere, cylinder and axis (for example -2.25 -0.75 x 175, or pl).`];
   else if (rx.error) errors[refractionField(eye, "rx")] = [rx.error];
+  // Axes are written 1 to 180 (common practice); a typed 0 is refused rather than silently read as 180.
+  else if (axisTyped && Number(axisTyped[1]) === 0) errors[refractionField(eye, "rx")] = [`${where} sphere/cylinder/axis: axis 0 is not used; axes run from 1 to 180 (write 180).`];
   const add = parseNumber(f("add"), `${where} add`, 0.25, 4, { step: 0.25 });
   if (add.error) errors[refractionField(eye, "add")] = [add.error];
   const prism = parseNumber(f("prism"), `${where} prism`, 0.25, 20, { step: 0.25 });
