@@ -1,7 +1,7 @@
 import { and, eq } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
 import { action as examAction, loader as examLoader } from "~/routes/exams/exam";
-import { auditLog, examAcuity, examAddenda, examIop, examRefractions, exams, patients } from "~/db/schema";
+import { auditLog, examAcuity, examAddenda, examCountersignatures, examDiagnoses, examIop, examRefractions, exams, patients } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { cookieFor, dataOf, makeRequest, run, statusOf, userByEmail } from "#tests/support/helpers";
 
@@ -147,5 +147,93 @@ describe("signing and addenda", () => {
     const { params, exam } = await setup();
     await run(examLoader, makeRequest("/x", { cookie: await cookieFor("owner") }), params);
     expect(await db.select().from(auditLog).where(and(eq(auditLog.action, "exam.read"), eq(auditLog.entityId, exam.id)))).toHaveLength(1);
+  });
+});
+
+describe("clinical findings and triage", () => {
+  it("saves red flags, pupils, anterior chamber, disc, fundus and dilation, and keeps triage's proposal with the exam on every save", async () => {
+    const { params, exam } = await setup();
+    const ok = async (form: Record<string, string>) => expect(statusOf(await post("optometrist", params, { intent: "save", ...form }))).toBe(200);
+    await ok({ section: "redflags", rf_flashes: "left", rf_newFloaters: "left", rf_notes: "since yesterday evening" });
+    let [row] = await db.select().from(exams).where(eq(exams.id, exam.id));
+    // Flashes with new floaters: urgent per the College's guidance (engine's rule; see app/lib/referrals).
+    expect(row!.triage?.urgency).toBeTruthy();
+    const before = row!.triage!.urgency;
+    await ok({ section: "fundus", left_fu_retinalBreak: "on", left_fu_vitreousPigment: "on" });
+    [row] = await db.select().from(exams).where(eq(exams.id, exam.id));
+    // A retinal break with symptoms is an emergency (College of Optometrists, urgency of referrals): same day.
+    expect(row!.triage).toMatchObject({ urgency: "same_day" });
+    expect(row!.triage!.reasons.some((r) => r.eye === "L" && r.urgency === "same_day")).toBe(true);
+    expect(["urgent", "soon", "same_day"]).toContain(before);
+    await ok({ section: "pupils", right_pup_equal: "on", left_pup_equal: "on" });
+    await ok({ section: "ac", right_ac_vh: "3", right_ac_cells: "none", left_ac_vh: "3", left_ac_cells: "none" });
+    await ok({ section: "disc", right_disc_cd: "0.35", right_disc_margins: "distinct", left_disc_cd: "0.4", left_disc_margins: "distinct" });
+    const local = new Date(Date.now() - 10 * 60e3).toLocaleString("sv-SE", { timeZone: "Europe/London" }).slice(0, 16).replace(" ", "T");
+    await ok({ section: "dilation", dil1_drug: "tropicamide", dil1_strength: "1", dil1_eye: "both", dil1_at: local });
+    const d = dataOf<{ values: Record<string, string>; triage: { urgency: string } }>(await run(examLoader, makeRequest("/x", { cookie: await cookieFor("optometrist") }), params));
+    expect(d.values).toMatchObject({ rf_flashes: "left", left_fu_retinalBreak: "on", right_disc_cd: "0.35", right_ac_vh: "3", dil1_drug: "tropicamide", dil1_at: local });
+    expect(d.triage.urgency).toBe("same_day");
+  });
+
+  it("refuses impossible values field by field and leaves the section as it was", async () => {
+    const { params, exam } = await setup();
+    await post("optometrist", params, { intent: "save", section: "iop", right_mmHg: "18", right_method: "goldmann", right_time: "09:00" });
+    const bad = dataOf<{ errors: Record<string, string[]> }>(
+      await post("optometrist", params, { intent: "save", section: "iop", right_mmHg: "0", right_method: "goldmann", right_time: "09:00", left_mmHg: "90", left_method: "goldmann", left_time: "09:00", right_mmHg_2: "0x10", left_mmHg_2: "1e1" }),
+    );
+    expect(Object.keys(bad.errors).sort()).toEqual(["left_mmHg", "left_mmHg_2", "right_mmHg", "right_mmHg_2"]);
+    expect(bad.errors.left_mmHg![0]).toMatch(/90 is outside 1 to 80/);
+    expect(bad.errors.right_mmHg_2![0]).toMatch(/not a number/);
+    expect((await db.select().from(examIop).where(eq(examIop.examId, exam.id))).map((r) => r.mmHg)).toEqual([18]);
+    const cd = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "disc", right_disc_cd: "1.4", left_disc_cd: "0.3" }));
+    expect(Object.keys(cd.errors)).toEqual(["right_disc_cd"]);
+    const va = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "acuity", va_notation: "logmar", va_right_distance_best: "3.5", va_left_distance_best: "0.1" }));
+    expect(Object.keys(va.errors)).toEqual(["va_right_distance_best"]);
+    const rx = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "refraction:final", right_rx: "-1.00 -0.50 x 0", left_rx: "-1.00 -0.50 x 181" }));
+    expect(Object.keys(rx.errors).sort()).toEqual(["left_rx", "right_rx"]);
+    const future = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "dilation", dil1_drug: "tropicamide", dil1_strength: "1", dil1_eye: "both", dil1_at: "2099-01-01T10:00" }));
+    expect(future.errors.dil1_at![0]).toMatch(/future/);
+    const [row] = await db.select().from(exams).where(eq(exams.id, exam.id));
+    expect(row!.triage).toMatchObject({ urgency: null });
+  });
+
+  it("reads a bare acuity in the notation the entry states, and refuses it when the notation is Snellen", async () => {
+    const { params, exam } = await setup();
+    const refused = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "acuity", va_right_distance_best: "1.0" }));
+    expect(refused.errors.va_right_distance_best![0]).toMatch(/unambiguously/);
+    expect(statusOf(await post("optometrist", params, { intent: "save", section: "acuity", va_notation: "logmar", va_right_distance_best: "1.0", va_left_distance_pinhole: "PH 6/9", va_left_near_best: "N8" }))).toBe(200);
+    const rows = await db.select().from(examAcuity).where(eq(examAcuity.examId, exam.id));
+    // logMAR 1.0 is 6/60 (definition of the logMAR scale)
+    expect(rows.find((r) => r.eye === "right")).toMatchObject({ notation: "logMAR 1.00", logMar: 1, scale: "logmar" });
+    expect(rows.find((r) => r.correction === "pinhole")).toMatchObject({ notation: "PH 6/9", scale: "metric" });
+    expect(rows.find((r) => r.distance === "near")).toMatchObject({ notation: "N8", scale: "n_point" });
+  });
+
+  it("records a diagnosis for one eye", async () => {
+    const { params, exam } = await setup();
+    expect(statusOf(await post("optometrist", params, { intent: "save", section: "assessment", "dx_H40.0": "right", "dx_Z01.0": "both" }))).toBe(200);
+    const rows = await db.select().from(examDiagnoses).where(eq(examDiagnoses.examId, exam.id));
+    expect(rows.map((r) => `${r.code}:${r.eye}`).sort()).toEqual(["H40.0:right", "Z01.0:both"]);
+  });
+});
+
+describe("who signs", () => {
+  it("lets only the examining clinician sign; another clinician countersigns once, and both are shown", async () => {
+    const { params, exam } = await setup();
+    const refused = await post("owner", params, { intent: "sign" });
+    expect(statusOf(refused)).toBe(403);
+    expect((await db.select().from(exams).where(eq(exams.id, exam.id)))[0]!.status).toBe("in_progress");
+    expect(statusOf(await post("owner", params, { intent: "countersign" }))).toBe(409);
+    expect(statusOf(await post("optometrist", params, { intent: "sign" }))).toBe(302);
+    expect(statusOf(await post("optometrist", params, { intent: "countersign" }))).toBe(403);
+    expect(statusOf(await post("owner", params, { intent: "countersign", note: "Reviewed the disc photographs." }))).toBe(302);
+    expect(statusOf(await post("owner", params, { intent: "countersign" }))).toBe(409);
+    const owner = await userByEmail("owner@dioptra-demo.test");
+    const rows = await db.select().from(examCountersignatures).where(eq(examCountersignatures.examId, exam.id));
+    expect(rows).toMatchObject([{ clinicianId: owner.id, note: "Reviewed the disc photographs." }]);
+    const d = dataOf<{ exam: { signedBy: string }; countersignatures: { clinician: string; note: string }[]; canCountersign: boolean }>(await run(examLoader, makeRequest("/x", { cookie: await cookieFor("owner") }), params));
+    expect(d.exam.signedBy).toBeTruthy();
+    expect(d.countersignatures).toHaveLength(1);
+    expect(d.canCountersign).toBe(false);
   });
 });
