@@ -16,6 +16,7 @@ import {
   examPupils,
   examRedFlags,
   examColourVision,
+  examCornealThickness,
   examHistory,
   examIop,
   examRefractions,
@@ -334,6 +335,10 @@ async function redFlagExam() {
     { examId, eye: "left", verticalCd: 0.3, margins: "distinct" },
   ]);
   await db.insert(examDilations).values({ examId, drug: "tropicamide", strengthPercent: 1, eye: "both", instilledAt: new Date(Date.now() - 2.5 * 3600_000) });
+  await db.insert(examCornealThickness).values([
+    { examId, eye: "right", micrometres: 538 },
+    { examId, eye: "left", micrometres: 541 },
+  ]);
   return { patient, exam };
 }
 
@@ -373,6 +378,7 @@ describe("triage in the referral", () => {
     expect(raw).toContain("Optic disc Eye Vertical C/D Margins Swelling Haemorrhage Pallor Notes Right 0.35 distinct None None None");
     expect(raw).toContain("Right posterior vitreous detachment, retinal break — Horseshoe tear at 11 o'clock");
     expect(raw).toContain("Tropicamide 1% Both");
+    expect(raw).toContain("Central corneal thickness Eye Thickness Right 538 µm Left 541 µm");
     expect(raw).toContain("Reported: flashes (right eye), new floaters (right eye). Began two days ago");
     expect(raw).toContain("Allergies: Not recorded");
     expect(raw).toContain("Telephone: 07700 900462");

@@ -151,6 +151,7 @@ export async function snapshotOf(exam: typeof exams.$inferSelect): Promise<Lette
   const previousIop = previous ? await db.select().from(examIop).where(eq(examIop.examId, previous.id)) : [];
   return {
     ...extras,
+    cornealThickness: [...s.cct].sort((a, b) => order[a.eye] - order[b.eye]).map((c) => ({ eye: c.eye, micrometres: c.micrometres })),
     triage: triaged ? { urgency: triaged.result.urgency, reasons: triaged.result.reasons.map((r) => ({ urgency: r.urgency, eye: r.eye, rule: r.rule, source: r.source })) } : null,
     previousIop: previous
       ? [...previousIop]
