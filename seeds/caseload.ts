@@ -9,10 +9,13 @@ import { and, eq, inArray, like, sql } from "drizzle-orm";
 import type { NodePgDatabase } from "drizzle-orm/node-postgres";
 import * as schema from "../app/db/schema";
 import { roundRx, vertexConvert, type SphCyl } from "../app/lib/optics";
+import { DIAGNOSES } from "../app/lib/exam/sections";
 import { DEMO_PATIENT } from "./demo-practice";
+import { DEMO_GPS, TRIAGE_CASES, VA_TEXT, type TriageFindings } from "./triage-cases";
 
 type Tx = Parameters<Parameters<NodePgDatabase<typeof schema>["transaction"]>[0]>[0];
 const { patients, exams, examRefractions, examAcuity, examIop, examColourVision, examVisualFields, examHistory, examAssessment, examDiagnoses, prescriptions, prescriptionEyes, users } = schema;
+const { examRedFlags, examPupils, examAnteriorChamber, examDiscs, examFundus, examDilations, examCornealThickness } = schema;
 
 export const CASELOAD_DOMAIN = "caseload.dioptra-demo.test";
 /** The caseload's "today"; exams lie up to five years before it. */
@@ -43,7 +46,7 @@ type Case = {
   dob: string;
   sex: "female" | "male" | "other" | "unknown";
   /** Final refraction at each exam, oldest first, per eye. */
-  exams: { at: Date; right: SphCyl; left: SphCyl; add?: number; iop?: [number, number]; colour?: "normal" | "red_green"; plates?: number; blindSpot?: { w: number; h: number }; fieldDefect?: string; reason: string; diagnoses: string[] }[];
+  exams: { at: Date; right: SphCyl; left: SphCyl; add?: number; iop?: [number, number]; colour?: "normal" | "red_green"; plates?: number; blindSpot?: { w: number; h: number }; fieldDefect?: string; reason: string; diagnoses: string[]; symptoms?: string; findings?: TriageFindings }[];
   contactLens?: boolean;
   allergies?: string;
   medications?: string;
@@ -157,6 +160,28 @@ function namedCases(): Case[] {
   ];
 }
 
+/** One patient per triage rule: a routine exam a year ago and the exam with the finding. */
+function triageCases(): Case[] {
+  return TRIAGE_CASES.map((t) => {
+    const at = new Date(ANCHOR.getTime() - t.daysAgo * DAY - 6 * 3600e3);
+    const rx = { right: { sphere: 0.75, cylinder: -0.5, axis: 90 }, left: { sphere: 0.5, cylinder: -0.25, axis: 85 } };
+    const age = ageAt(t.dob, at);
+    const add = age >= 45 ? q(Math.min(2.5, 0.75 + (age - 45) * 0.08)) : undefined;
+    return {
+      first: t.first,
+      last: t.last,
+      dob: t.dob,
+      sex: t.sex,
+      medications: t.medications,
+      allergies: t.allergies,
+      exams: [
+        { at: new Date(at.getTime() - 365 * DAY), ...rx, add, iop: [15, 15] as [number, number], reason: "Routine exam", diagnoses: [], findings: { pupils: { right: { equalReactive: true }, left: { equalReactive: true } }, bestVa: t.previousBestVa ?? { right: 0, left: 0 } } },
+        { at, ...rx, add, iop: [16, 16] as [number, number], reason: t.reason, symptoms: t.symptoms, diagnoses: [], findings: t.findings },
+      ],
+    };
+  });
+}
+
 /** Rosalind Achterberg (the demo portal patient): two past exams and a current spectacle prescription. */
 function demoPatientExams(): Case["exams"] {
   return [
@@ -177,7 +202,13 @@ async function writeExams(tx: Tx, patientId: string, list: Case["exams"], optome
   if (!list.length) return [];
   const rows = await tx
     .insert(exams)
-    .values(list.map((e) => ({ patientId, optometristId: optometristIds[Math.floor(rand() * optometristIds.length)]!, examinedAt: e.at, status: "signed" as const, signedAt: new Date(e.at.getTime() + 40 * 60e3), signedById: optometristIds[0]!, createdAt: e.at, updatedAt: e.at })))
+    .values(
+      list.map((e) => {
+        // Only the examining clinician signs.
+        const examiner = optometristIds[Math.floor(rand() * optometristIds.length)]!;
+        return { patientId, optometristId: examiner, examinedAt: e.at, status: "signed" as const, signedAt: new Date(e.at.getTime() + 40 * 60e3), signedById: examiner, createdAt: e.at, updatedAt: e.at };
+      }),
+    )
     .returning({ id: exams.id, signedById: exams.signedById, optometristId: exams.optometristId });
   return rows.map((r, i) => ({ ...r, input: list[i]! }));
 }
@@ -191,7 +222,7 @@ export async function seedCaseload(tx: Tx) {
   const ids = [optometrist.id, ...clinicians.filter((c) => c.id !== optometrist.id).map((c) => c.id)];
   const rand = prng(20261120);
 
-  const cases: Case[] = [...namedCases(), ...Array.from({ length: 400 }, (_, i) => generalCase(rand, i))];
+  const cases: Case[] = [...namedCases(), ...Array.from({ length: 400 }, (_, i) => generalCase(rand, i)), ...triageCases()];
   const allExams: { id: string; patientId: string; input: Case["exams"][number]; last: boolean; contactLens: boolean }[] = [];
 
   if ((already?.n ?? 0) === 0) {
@@ -212,7 +243,10 @@ export async function seedCaseload(tx: Tx) {
               city: "Brackenford",
               postcode: `BF${1 + ((inserted.length + i) % 9)} ${1 + ((inserted.length + i) % 8)}QT`,
               allergies: c.allergies ?? "",
+              // Most patients were asked and have no known allergies; a few were not asked (left unrecorded).
+              noKnownAllergies: !c.allergies && (inserted.length + i) % 5 !== 4,
               medications: c.medications ?? "",
+              ...DEMO_GPS[(inserted.length + i) % DEMO_GPS.length]!,
               lastExamAt: c.exams.at(-1)?.at ?? null,
             })),
           )
@@ -249,6 +283,13 @@ export async function seedCaseload(tx: Tx) {
   const history: (typeof examHistory.$inferInsert)[] = [];
   const assessment: (typeof examAssessment.$inferInsert)[] = [];
   const diagnoses: (typeof examDiagnoses.$inferInsert)[] = [];
+  const redFlags: (typeof examRedFlags.$inferInsert)[] = [];
+  const pupils: (typeof examPupils.$inferInsert)[] = [];
+  const chambers: (typeof examAnteriorChamber.$inferInsert)[] = [];
+  const discs: (typeof examDiscs.$inferInsert)[] = [];
+  const fundus: (typeof examFundus.$inferInsert)[] = [];
+  const dilations: (typeof examDilations.$inferInsert)[] = [];
+  const ccts: (typeof examCornealThickness.$inferInsert)[] = [];
   const fmt = (r: SphCyl) => (r.cylinder ? `${r.sphere > 0 ? "+" : ""}${r.sphere.toFixed(2)} ${r.cylinder.toFixed(2)} x ${r.axis}` : r.sphere === 0 ? "pl" : `${r.sphere > 0 ? "+" : ""}${r.sphere.toFixed(2)} DS`);
   for (const e of allExams) {
     const x = e.input;
@@ -258,17 +299,49 @@ export async function seedCaseload(tx: Tx) {
       refractions.push({ examId: e.id, kind: "autorefraction", eye, rawText: fmt(auto), ...auto, cylinder: auto.cylinder || 0, axis: auto.cylinder ? auto.axis : 180 });
       for (const kind of ["subjective", "final"] as const) refractions.push({ examId: e.id, kind, eye, rawText: fmt(rx), ...rx, addPower: x.add ?? null, vertexMm: 12, vaNotation: "6/6", vaLogMar: 0 });
       acuity.push({ examId: e.id, eye, distance: "distance", correction: "unaided", notation: rx.sphere < -1 ? "6/36" : "6/9", logMar: rx.sphere < -1 ? 0.778 : 0.176 });
-      acuity.push({ examId: e.id, eye, distance: "distance", correction: "best", notation: "6/6", logMar: 0 });
-      if (x.iop) iop.push({ examId: e.id, eye, mmHg: x.iop[eye === "right" ? 0 : 1], method: "non_contact", measuredTime: "10:15" });
+      const best = x.findings?.bestVa?.[eye] ?? 0;
+      acuity.push({ examId: e.id, eye, distance: "distance", correction: "best", notation: VA_TEXT[String(best)] ?? "6/6", scale: "metric", logMar: best });
+      const f = x.findings;
+      const readings = f?.iop?.[eye];
+      if (readings) readings.readings.forEach((mmHg, k) => iop.push({ examId: e.id, eye, reading: k + 1, mmHg, method: readings.method, measuredTime: `10:${String(15 + 3 * k).padStart(2, "0")}` }));
+      else if (x.iop) iop.push({ examId: e.id, eye, mmHg: x.iop[eye === "right" ? 0 : 1], method: "non_contact", measuredTime: "10:15" });
+      if (f?.cct?.[eye]) ccts.push({ examId: e.id, eye, micrometres: f.cct[eye]! });
+      const p = f?.pupils?.[eye];
+      if (p) pupils.push({ examId: e.id, eye, equalReactive: !!p.equalReactive, rapd: !!p.rapd, larger: !!p.larger });
+      const a = f?.ac?.[eye];
+      if (a) chambers.push({ examId: e.id, eye, vanHerick: a.vanHerick ?? null, cells: a.cells ?? null, hyphaema: !!a.hyphaema, hypopyon: !!a.hypopyon, notes: a.notes ?? "" });
+      const d = f?.disc?.[eye];
+      if (d) discs.push({ examId: e.id, eye, verticalCd: d.verticalCd ?? null, margins: d.margins ?? null, swelling: !!d.swelling, haemorrhage: !!d.haemorrhage, notes: d.notes ?? "" });
+      const fu = f?.fundus?.[eye];
+      if (fu && Object.keys(fu).length) fundus.push({ examId: e.id, eye, vitreousDetachment: !!fu.vitreousDetachment, vitreousPigment: !!fu.vitreousPigment, retinalBreak: !!fu.retinalBreak, retinalDetachment: !!fu.retinalDetachment, drusen: !!fu.drusen, suspectedWetAmd: !!fu.suspectedWetAmd, maculaNotes: fu.maculaNotes ?? "", peripheryNotes: fu.peripheryNotes ?? "" });
+      if (!f?.disc && !x.findings) {
+        // Ordinary exams: a healthy disc, deterministic from the exam's position (no draw from the shared sequence).
+        const h = (allExams.indexOf(e) * 2654435761) >>> 0;
+        const cd = 0.2 + (h % 7) * 0.05;
+        discs.push({ examId: e.id, eye, verticalCd: Math.round((eye === "left" && h % 3 === 0 ? cd + 0.05 : cd) * 100) / 100, margins: "distinct" });
+        pupils.push({ examId: e.id, eye, equalReactive: true });
+      }
       if (x.colour) colour.push({ examId: e.id, eye, test: "plates_38", platesShown: 15, platesCorrect: x.colour === "normal" ? 15 : (x.plates ?? 6), result: x.colour, notes: x.colour === "red_green" ? "Consistent with congenital red-green deficiency; both eyes alike" : "" });
       if (x.blindSpot) {
         const enlarged = eye === "right" ? x.blindSpot : { w: 5.5, h: 7.5 };
         fields.push({ examId: e.id, eye, method: "automated", blindSpotXDeg: 15, blindSpotYDeg: -1.5, blindSpotWidthDeg: enlarged.w, blindSpotHeightDeg: enlarged.h, defectPresent: !!x.fieldDefect && eye === "right", defects: eye === "right" ? (x.fieldDefect ?? "") : "", reliability: "good" });
       }
     }
-    history.push({ examId: e.id, reason: x.reason, symptoms: "", ocularHistory: "", generalHistory: "", medications: "", familyHistory: "" });
-    assessment.push({ examId: e.id, assessment: x.fieldDefect ? "Raised IOP right with an enlarged blind spot: consider referral." : "Stable; spectacles as prescribed.", plan: x.fieldDefect ? "Repeat IOP and fields; referral letter to be considered." : "Routine recall.", recallMonths: x.fieldDefect ? 3 : 24 });
-    for (const code of x.diagnoses) diagnoses.push({ examId: e.id, code, label: LABELS[code]!, eye: "both" });
+    history.push({ examId: e.id, reason: x.reason, symptoms: x.symptoms ?? "", ocularHistory: "", generalHistory: "", medications: "", familyHistory: "" });
+    const f = x.findings;
+    if (f?.redFlags) {
+      const r = f.redFlags;
+      redFlags.push({ examId: e.id, flashes: r.flashes ?? null, newFloaters: r.newFloaters ?? null, curtain: r.curtain ?? null, suddenLoss: r.suddenLoss ?? null, severePain: r.severePain ?? null, redEye: r.redEye ?? null, distortion: r.distortion ?? null, newDiplopia: !!r.newDiplopia, gcaSymptoms: !!r.gcaSymptoms, notes: r.notes ?? "" });
+    } else redFlags.push({ examId: e.id });
+    if (f?.dilated) dilations.push({ examId: e.id, drug: "tropicamide", strengthPercent: 1, eye: "both", instilledAt: new Date(x.at.getTime() + 10 * 60e3) });
+    assessment.push({
+      examId: e.id,
+      assessment: f?.assessment ?? (x.fieldDefect ? "Raised IOP right with an enlarged blind spot: consider referral." : f?.diagnoses ? "See findings." : "Stable; spectacles as prescribed."),
+      plan: f?.plan ?? (x.fieldDefect ? "Repeat IOP and fields; referral letter to be considered." : "Routine recall."),
+      recallMonths: x.fieldDefect ? 3 : 24,
+    });
+    for (const code of x.diagnoses) diagnoses.push({ examId: e.id, code, label: LABELS[code] ?? DIAGNOSES.find((d) => d.code === code)!.label, eye: "both" });
+    for (const d of f?.diagnoses ?? []) if (!x.diagnoses.includes(d.code)) diagnoses.push({ examId: e.id, code: d.code, label: DIAGNOSES.find((k) => k.code === d.code)!.label, eye: d.eye });
   }
   for (const part of chunks(refractions, 1000)) await tx.insert(examRefractions).values(part);
   for (const part of chunks(acuity, 1000)) await tx.insert(examAcuity).values(part);
@@ -278,6 +351,13 @@ export async function seedCaseload(tx: Tx) {
   for (const part of chunks(history, 1000)) await tx.insert(examHistory).values(part);
   for (const part of chunks(assessment, 1000)) await tx.insert(examAssessment).values(part);
   for (const part of chunks(diagnoses, 1000)) await tx.insert(examDiagnoses).values(part);
+  for (const part of chunks(redFlags, 1000)) await tx.insert(examRedFlags).values(part);
+  for (const part of chunks(pupils, 1000)) await tx.insert(examPupils).values(part);
+  for (const part of chunks(discs, 1000)) await tx.insert(examDiscs).values(part);
+  if (chambers.length) await tx.insert(examAnteriorChamber).values(chambers);
+  if (fundus.length) await tx.insert(examFundus).values(fundus);
+  if (dilations.length) await tx.insert(examDilations).values(dilations);
+  if (ccts.length) await tx.insert(examCornealThickness).values(ccts);
 
   // Prescriptions from each patient's latest exam (most patients), contact lenses for the wearers.
   for (const e of allExams.filter((x) => x.last)) {

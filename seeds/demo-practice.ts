@@ -16,6 +16,7 @@ export const DEMO_PRACTICE = {
   currency: "GBP",
   spectacleRxValidityMonths: 24,
   contactLensRxValidityMonths: 12,
+  acuityNotation: "metric" as const,
 };
 
 export const DEMO_PATIENT = {
@@ -29,7 +30,12 @@ export const DEMO_PATIENT = {
   city: "Brackenford",
   postcode: "BF4 1DX",
   allergies: "None known",
+  noKnownAllergies: true,
   medications: "Levothyroxine 50 µg daily",
+  gpName: "Dr Ottilie Bramhall",
+  gpPractice: "Brackenford Health Centre",
+  gpAddress: "2 Weir Street, Brackenford BF1 2AA",
+  gpPhone: "01632 960 100",
 };
 
 export const DEMO_USERS = [
