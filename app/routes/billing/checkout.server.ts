@@ -39,7 +39,9 @@ export type PayLinkCheck = { ok: true; invoiceId: string; expiresAt: Date } | { 
 
 /** Checks a pay-link token in constant time against every current secret (rotation). */
 export function verifyPayLink(token: string, now = Date.now()): PayLinkCheck {
-  const m = /^([0-9a-f-]{36})\.(\d{1,12})\.([\w-]{43})$/.exec(token);
+  // One spelling only: a lower-case uuid, the expiry without leading zeros, the signature's
+  // exact base64url text.
+  const m = /^([0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12})\.([1-9]\d{0,11})\.([A-Za-z0-9_-]{43})$/.exec(token);
   if (!m) return { ok: false, reason: "invalid" };
   const [, invoiceId, exp, sig] = m;
   // Compared as text, not decoded bytes: base64url's last character carries spare bits, and a
