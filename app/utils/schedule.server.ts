@@ -166,6 +166,8 @@ export async function moveAppointment(actor: SessionUser, id: string, change: { 
         .where(eq(appointments.id, id))
         .returning();
       await rescheduleReminder(tx, row!, settings);
+      // Every move: a calendar update with the same UID and the new, higher SEQUENCE.
+      await queueAppointmentMessage(tx, row!, "update", settings);
       await audit(
         {
           action: "appointment.moved",
