@@ -4,6 +4,7 @@
  * (which refuses a section with any invalid field). Optics come only from the engine.
  */
 import { formatRx, parseRx, RxError, toLogMAR, type SphCyl } from "~/lib/optics";
+import { parseDecimal } from "~/lib/numbers/decimal";
 
 export const EYES = ["right", "left"] as const;
 export type EyeKey = (typeof EYES)[number];
@@ -71,8 +72,8 @@ const messageOf = (e: unknown) => (e instanceof RxError ? e.message : e instance
 export function parseNumber(text: string | undefined, label: string, min: number, max: number, opts: { step?: number; integer?: boolean } = {}): { value: number | null; error?: string } {
   const t = (text ?? "").trim().replace(/\u2212/g, "-");
   if (!t) return { value: null };
-  const n = Number(t);
-  if (!Number.isFinite(n)) return { value: null, error: `${label}: "${t}" is not a number.` };
+  const n = parseDecimal(t);
+  if (n === null) return { value: null, error: `${label}: "${t}" is not a decimal number (write it like 12 or 1.5).` };
   if (n < min || n > max) return { value: null, error: `${label}: ${n} is outside ${min} to ${max}.` };
   if (opts.integer && !Number.isInteger(n)) return { value: null, error: `${label}: use a whole number.` };
   if (opts.step && Math.abs(n / opts.step - Math.round(n / opts.step)) > 1e-9) return { value: null, error: `${label}: use steps of ${opts.step.toFixed(2)}.` };
