@@ -4,7 +4,7 @@
  * real width, and subset fonts named with the six-letter tag PDF requires.
  *
  * The chain: Nunito Sans (Latin, Latin Extended, Vietnamese, Cyrillic, Cyrillic Extended), then
- * Noto Sans (Greek, Greek Extended, Devanagari, and Latin/Cyrillic it has beyond Nunito), then
+ * Noto Sans (Greek, Greek Extended, and Latin/Cyrillic it has beyond Nunito), then
  * Noto Sans Math (arrows, relations, the minus sign, further Greek). Each font ships in the
  * @fontsource packages as one file per Unicode subset; only the `.woff` files work with pdf-lib
  * and fontkit, and only embedded with subsetting. A file is embedded into a document only when a
@@ -29,33 +29,50 @@ const require = createRequire(import.meta.url);
 const FILES: Record<Face, string[]> = {
   regular: [
     ...["latin", "latin-ext", "cyrillic", "cyrillic-ext", "vietnamese"].map((s) => `@fontsource/nunito-sans/files/nunito-sans-${s}-400-normal.woff`),
-    ...["greek", "greek-ext", "latin-ext", "cyrillic-ext", "devanagari"].map((s) => `@fontsource/noto-sans/files/noto-sans-${s}-400-normal.woff`),
+    ...["greek", "greek-ext", "latin-ext", "cyrillic-ext"].map((s) => `@fontsource/noto-sans/files/noto-sans-${s}-400-normal.woff`),
     "@fontsource/noto-sans-math/files/noto-sans-math-latin-400-normal.woff",
   ],
   bold: [
     ...["latin", "latin-ext", "cyrillic", "cyrillic-ext", "vietnamese"].map((s) => `@fontsource/nunito-sans/files/nunito-sans-${s}-700-normal.woff`),
-    ...["greek", "greek-ext", "latin-ext", "cyrillic-ext", "devanagari"].map((s) => `@fontsource/noto-sans/files/noto-sans-${s}-700-normal.woff`),
+    ...["greek", "greek-ext", "latin-ext", "cyrillic-ext"].map((s) => `@fontsource/noto-sans/files/noto-sans-${s}-700-normal.woff`),
     "@fontsource/noto-sans-math/files/noto-sans-math-latin-400-normal.woff",
   ],
 };
 
 type FontkitFont = ReturnType<typeof fontkit.create>;
-type Source = { file: string; bytes: Uint8Array; font: FontkitFont; chars: Set<number> };
+
+/** One font file: read at start, parsed the first time a character is looked up in it. */
+class Source {
+  private parsed: { font: FontkitFont; chars: Set<number> } | null = null;
+  constructor(
+    readonly file: string,
+    readonly bytes: Uint8Array,
+  ) {}
+  private get p() {
+    if (!this.parsed) {
+      const font = fontkit.create(this.bytes) as FontkitFont;
+      this.parsed = { font, chars: new Set(font.characterSet) };
+    }
+    return this.parsed;
+  }
+  get font() {
+    return this.p.font;
+  }
+  get chars() {
+    return this.p.chars;
+  }
+}
 
 let sources: Promise<Record<Face, Source[]>> | null = null;
 
-/** Reads and parses every font file once per process. */
+/** Reads every font file once per process (parsing waits until a character needs the file). */
 function loadSources() {
   sources ??= (async () => {
     const byFile = new Map<string, Promise<Source>>();
     const load = (file: string) => {
       let p = byFile.get(file);
       if (!p) {
-        p = readFile(require.resolve(file)).then((buf) => {
-          const bytes = new Uint8Array(buf);
-          const font = fontkit.create(bytes) as FontkitFont;
-          return { file, bytes, font, chars: new Set(font.characterSet) };
-        });
+        p = readFile(require.resolve(file)).then((buf) => new Source(file, new Uint8Array(buf)));
         byFile.set(file, p);
       }
       return p;
@@ -95,9 +112,15 @@ export function cleanText(text: string) {
 
 export type Run = { font: PDFFont; text: string };
 
+/** Drawn for a character no bundled font has: U+25A1 WHITE SQUARE (in Noto Sans Math). */
+const MISSING = "\u25a1";
+
 export class PdfFonts {
   private embedded = new Map<string, PDFFont>();
   private tags = new Set<string>();
+  /** Which source draws a code point, per face (null: none does). */
+  private lookup: Record<Face, Map<number, Source | null>> = { regular: new Map(), bold: new Map() };
+  private widths = new Map<string, number>();
 
   private constructor(
     private readonly doc: PDFDocument,
@@ -129,28 +152,35 @@ export class PdfFonts {
     return font;
   }
 
-  /** The first font of the chain that has the character; the first font when none has it. */
-  private sourceFor(cp: number, face: Face): Source {
-    const chain = this.chain[face];
-    for (const s of chain) if (s.chars.has(cp)) return s;
-    return chain[0]!;
+  /** The first font of the chain that has the code point, or null. */
+  private sourceFor(cp: number, face: Face): Source | null {
+    const cache = this.lookup[face];
+    let found = cache.get(cp);
+    if (found === undefined) {
+      found = this.chain[face].find((s) => s.chars.has(cp)) ?? null;
+      cache.set(cp, found);
+    }
+    return found;
   }
 
   /** Whether some font of the chain draws the character. */
   covers(ch: string, face: Face = "regular") {
-    return this.chain[face].some((s) => s.chars.has(ch.codePointAt(0)!));
+    return this.sourceFor(ch.codePointAt(0)!, face) !== null;
   }
 
-  /** Splits text into runs of one font each. A character no font has becomes U+FFFD where a font draws that. */
+  /**
+   * Splits text into runs of one font each. A character that no bundled font has (scripts that
+   * need shaping pdf-lib cannot do, such as Arabic or Devanagari, and CJK) is drawn as a visible
+   * box, never silently dropped or turned into a look-alike.
+   */
   runs(text: string, face: Face): Run[] {
     const out: { source: Source; text: string }[] = [];
     for (let ch of cleanText(text).replace(/\n/g, " ")) {
-      let cp = ch.codePointAt(0)!;
-      if (!this.covers(ch, face)) {
-        ch = "\ufffd";
-        cp = 0xfffd;
+      let source = this.sourceFor(ch.codePointAt(0)!, face);
+      if (!source) {
+        ch = MISSING;
+        source = this.sourceFor(MISSING.codePointAt(0)!, face)!;
       }
-      const source = this.sourceFor(cp, face);
       const last = out[out.length - 1];
       // Spaces join the run before them, so a Greek or Cyrillic phrase stays one run.
       if (last && (last.source === source || (ch === " " && last.source.chars.has(32)))) last.text += ch;
@@ -159,8 +189,15 @@ export class PdfFonts {
     return out.map((r) => ({ font: this.embed(r.source), text: r.text }));
   }
 
+  /** Width in points (measured at 1 pt and scaled; remembered per text and face). */
   width(text: string, size: number, face: Face = "regular") {
-    return this.runs(text, face).reduce((w, r) => w + r.font.widthOfTextAtSize(r.text, size), 0);
+    const key = `${face}\u0000${text}`;
+    let w = this.widths.get(key);
+    if (w === undefined) {
+      w = this.runs(text, face).reduce((sum, r) => sum + r.font.widthOfTextAtSize(r.text, 1), 0);
+      this.widths.set(key, w);
+    }
+    return w * size;
   }
 
   /** Draws one line (no wrapping) and returns its width. */
@@ -181,13 +218,18 @@ export class PdfFonts {
  */
 export function wrapText(text: string, width: number, measure: (s: string) => number): string[] {
   const lines: string[] = [];
+  const space = measure(" ");
   for (const paragraph of cleanText(text).split("\n")) {
     let line = "";
+    let lineWidth = 0;
     for (const raw of paragraph.split(/ +/)) {
       let word = raw;
-      const joined = line ? `${line} ${word}` : word;
-      if (measure(joined) <= width) {
-        line = joined;
+      // A line's width is the sum of its words and spaces (kerning across a space is negligible).
+      const wordWidth = measure(word);
+      const joinedWidth = line ? lineWidth + space + wordWidth : wordWidth;
+      if (joinedWidth <= width) {
+        line = line ? `${line} ${word}` : word;
+        lineWidth = joinedWidth;
         continue;
       }
       if (line) {
@@ -210,6 +252,7 @@ export function wrapText(text: string, width: number, measure: (s: string) => nu
         word = chars.join("");
       }
       line = word;
+      lineWidth = measure(word);
     }
     lines.push(line);
   }

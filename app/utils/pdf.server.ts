@@ -161,32 +161,35 @@ export class PdfWriter {
     const leading = size + 3;
     const pad = 3;
     const full = opts.columns.reduce((s, c) => s + c.width, 0);
-    const drawRow = (cells: string[], face: Face, measureOnly = false) => {
+    const layout = (cells: string[], face: Face) => {
       const wrapped = opts.columns.map((c, i) => this.lines(cells[i] ?? "", size, c.width - 8, face));
-      const height = Math.max(1, ...wrapped.map((l) => l.length)) * leading + pad * 2;
-      if (measureOnly) return height;
+      return { wrapped, face, height: Math.max(1, ...wrapped.map((l) => l.length)) * leading + pad * 2 };
+    };
+    const paint = (row: ReturnType<typeof layout>) => {
       let x = MARGIN;
       opts.columns.forEach((c, i) => {
-        wrapped[i]!.forEach((line, j) => {
-          const w = this.width(line, size, face);
-          this.draw(line, c.align === "right" ? x + c.width - w - 6 : x, this.y - pad - size - j * leading, size, face);
+        row.wrapped[i]!.forEach((line, j) => {
+          const w = this.width(line, size, row.face);
+          this.draw(line, c.align === "right" ? x + c.width - w - 6 : x, this.y - pad - size - j * leading, size, row.face);
         });
         x += c.width;
       });
-      this.y -= height;
+      this.y -= row.height;
       this.page.drawLine({ start: { x: MARGIN, y: this.y + 1 }, end: { x: MARGIN + full, y: this.y + 1 }, thickness: 0.5, color: RULE });
-      return height;
     };
-    const header = opts.columns.map((c) => c.header);
-    const headerHeight = drawRow(header, "bold", true);
+    const header = layout(
+      opts.columns.map((c) => c.header),
+      "bold",
+    );
+    const rows = opts.rows.map((r) => layout(r, "regular"));
     // The header with the first row at least.
-    this.ensure(headerHeight + (opts.rows[0] ? drawRow(opts.rows[0], "regular", true) : 0));
-    drawRow(header, "bold");
+    this.ensure(header.height + (rows[0]?.height ?? 0));
+    paint(header);
     const previous = this.continued;
-    this.continued = () => drawRow(header, "bold");
-    for (const r of opts.rows) {
-      this.ensure(drawRow(r, "regular", true));
-      drawRow(r, "regular");
+    this.continued = () => paint(header);
+    for (const row of rows) {
+      this.ensure(row.height);
+      paint(row);
     }
     this.continued = previous;
     this.y -= 8;
