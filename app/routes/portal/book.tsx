@@ -9,6 +9,7 @@ import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
 import { addDays, localParts } from "~/lib/scheduling";
+import { isCalendarDate } from "~/lib/dates/calendar-date";
 import { readForm } from "~/utils/form.server";
 import { BookingError, bookAppointment } from "~/utils/schedule.server";
 import { redirectWithToast } from "~/utils/toast.server";
@@ -19,7 +20,6 @@ const bookSchema = z.object({
   start: z.iso.datetime({ offset: true, error: "Choose a time." }),
 });
 
-const dateSchema = z.string().regex(/^\d{4}-\d{2}-\d{2}$/);
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requirePortalPatient(request);
@@ -31,7 +31,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const wanted = url.searchParams.get("date");
   const lastDate = addDays(today, settings.bookingDays);
   // A real calendar date within the booking horizon; anything else shows tomorrow.
-  const valid = wanted && dateSchema.safeParse(wanted).success && !Number.isNaN(Date.parse(`${wanted}T12:00:00Z`)) && new Date(`${wanted}T12:00:00Z`).toISOString().slice(0, 10) === wanted;
+  const valid = isCalendarDate(wanted);
   const date = valid && wanted >= today && wanted <= lastDate ? wanted : addDays(today, 1);
   const slots = typeId ? await freeSlots(typeId, date, settings.timeZone) : [];
   return { types: types.map(({ id, name, durationMinutes }) => ({ id, name, durationMinutes })), typeId, date, today, lastDate, slots, timeZone: settings.timeZone, practice: settings.name };
