@@ -4,14 +4,36 @@ import "./app.css";
 import { GeneralErrorBoundary } from "./components/error-boundary";
 import { ToastViewport } from "./components/toast";
 import { publicEnv } from "./utils/env.server";
+import { useNonce } from "./components/nonce";
+import { apiRouteRefusal, asProblem, bodyRefusal, hostAllowed, isApiPath, problem, routePath, withSecurityHeaders } from "./utils/http.server";
 import { crossSiteRefusal } from "./utils/origin.server";
 import { readToast } from "./utils/toast.server";
 
 export const middleware: Route.MiddlewareFunction[] = [
   async ({ request }, next) => {
-    const refusal = crossSiteRefusal(request);
-    if (refusal) return new Response(refusal, { status: 403, headers: { "content-type": "text/plain; charset=utf-8" } });
-    return next();
+    const url = new URL(request.url);
+    const api = isApiPath(routePath(url));
+    const refuse = (status: number, detail: string) =>
+      api ? problem(status, detail) : new Response(detail, { status, headers: { "content-type": "text/plain; charset=utf-8" } });
+    let response: Response;
+    if (!hostAllowed(url.host)) {
+      response = refuse(421, `This server does not answer for the host name ${url.host}.`);
+    } else {
+      const crossSite = crossSiteRefusal(request);
+      const refusal = crossSite ? { status: 403, detail: crossSite } : null;
+      if (refusal) response = refuse(refusal.status, refusal.detail);
+      else {
+        const bodyProblem = apiRouteRefusal(request) ?? (await bodyRefusal(request));
+        if (bodyProblem instanceof Response) response = bodyProblem;
+        else if (bodyProblem) response = refuse(bodyProblem.status, bodyProblem.detail);
+        else response = await next();
+      }
+      if (api) response = await asProblem(response);
+    }
+    // A refusal sent before the body was read: read it anyway, so the client finishes sending
+    // and the connection stays usable.
+    if (!request.bodyUsed && request.body) await request.arrayBuffer().catch(() => undefined);
+    return withSecurityHeaders(response, request);
   },
 ];
 
@@ -24,6 +46,7 @@ export const links: Route.LinksFunction = () => [{ rel: "icon", href: "/favicon.
 
 export function Layout({ children }: { children: React.ReactNode }) {
   const root = useRouteLoaderData<typeof loader>("root");
+  const nonce = useNonce();
   return (
     <html lang="en-GB">
       <head>
@@ -38,8 +61,8 @@ export function Layout({ children }: { children: React.ReactNode }) {
         </a>
         {children}
         <ToastViewport toast={root?.toast ?? null} />
-        <ScrollRestoration />
-        <Scripts />
+        <ScrollRestoration nonce={nonce} />
+        <Scripts nonce={nonce} />
       </body>
     </html>
   );

@@ -31,6 +31,7 @@ export default [
   route("api/webhooks/stripe", "routes/api/webhooks/stripe.ts"),
   route("pay/:token", "routes/pay/pay.tsx"),
   route("pay/:token/invoice.pdf", "routes/pay/invoice-pdf.ts"),
+  route("unsubscribe/:token", "routes/portal/unsubscribe.tsx"),
   route("billing/invoices/:invoiceId/invoice.pdf", "routes/billing/invoice-pdf.ts"),
   route("billing/payments/:paymentId/receipt.pdf", "routes/billing/receipt-pdf.ts"),
   route("billing/takings.csv", "routes/billing/takings-csv.ts"),

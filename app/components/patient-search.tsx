@@ -16,7 +16,9 @@ export function PatientSearch({ autoFocus = false }: { autoFocus?: boolean }) {
   const [open, setOpen] = useState(false);
   const [active, setActive] = useState(-1);
   const timer = useRef<ReturnType<typeof setTimeout> | null>(null);
-  const id = useId();
+  // useId gives ":r1:"-like ids; letters, digits and hyphens keep them valid in every context.
+  const id = `patient-search-${useId().replace(/[^A-Za-z0-9]/g, "")}`;
+  const inputId = `${id}-input`;
   const listId = `${id}-list`;
   const results = value.trim() ? (fetcher.data?.results ?? []) : [];
 
@@ -52,22 +54,26 @@ export function PatientSearch({ autoFocus = false }: { autoFocus?: boolean }) {
   }
 
   const searching = fetcher.state !== "idle";
-  const showList = open && value.trim().length > 0;
+  const showList = open && value.trim().length > 0 && results.length > 0;
+  const status = !open || !value.trim() ? "" : searching ? "Searching…" : results.length ? `${results.length} ${results.length === 1 ? "patient" : "patients"} found` : "No patient matches.";
+  // The ARIA 1.2 combobox pattern with a list popup: a text input with role=combobox controls
+  // a listbox that is always in the page (hidden while closed), and points at the active option.
   return (
     <div className="relative">
-      <label htmlFor={`${id}-input`} className="mb-1 block text-sm font-semibold">
+      <label htmlFor={inputId} className="mb-1 block text-sm font-semibold">
         Find a patient
       </label>
       <input
-        id={`${id}-input`}
-        type="search"
+        id={inputId}
+        type="text"
         role="combobox"
         aria-expanded={showList}
         aria-controls={listId}
         aria-autocomplete="list"
-        aria-activedescendant={active >= 0 ? `${id}-opt-${active}` : undefined}
+        aria-activedescendant={showList && active >= 0 ? `${id}-opt-${active}` : undefined}
         aria-describedby={`${id}-hint`}
         autoComplete="off"
+        spellCheck={false}
         autoFocus={autoFocus}
         value={value}
         onChange={(e) => onChange(e.target.value)}
@@ -80,40 +86,38 @@ export function PatientSearch({ autoFocus = false }: { autoFocus?: boolean }) {
       <p id={`${id}-hint`} className="mt-1 text-sm text-muted">
         Any part of the name, phone or e-mail, or a date of birth such as 17/04/1979. Arrow keys choose, Enter opens the chart.
       </p>
-      {showList ? (
-        <ul id={listId} role="listbox" aria-label="Matching patients" className="absolute z-20 mt-1 max-h-96 w-full overflow-auto rounded-md border border-line bg-white py-1 shadow-lg">
-          {results.map((hit, i) => (
-            <li
-              key={hit.id}
-              id={`${id}-opt-${i}`}
-              role="option"
-              aria-selected={i === active}
-              onMouseDown={(e) => {
-                e.preventDefault();
-                navigate(`/patients/${hit.id}`);
-              }}
-              onMouseEnter={() => setActive(i)}
-              className={`cursor-pointer px-3 py-2 ${i === active ? "bg-accent-50" : ""}`}
-            >
-              <span className="font-semibold">
-                {hit.lastName}, {hit.firstName}
-              </span>{" "}
-              <span className="text-sm text-muted">
-                born {formatDate(hit.dateOfBirth)}
-                {hit.phone ? ` · ${hit.phone}` : ""}
-                {hit.email ? ` · ${hit.email}` : ""}
-              </span>
-            </li>
-          ))}
-          {!results.length ? (
-            <li role="option" aria-selected={false} aria-disabled="true" className="flex items-center gap-2 px-3 py-2 text-sm text-muted">
-              <Icon name="info" /> {searching ? "Searching…" : "No patient matches."}
-            </li>
-          ) : null}
-        </ul>
+      <ul id={listId} role="listbox" aria-label="Matching patients" hidden={!showList} className="absolute z-20 mt-1 max-h-96 w-full overflow-auto rounded-md border border-line bg-white py-1 shadow-lg">
+        {results.map((hit, i) => (
+          <li
+            key={hit.id}
+            id={`${id}-opt-${i}`}
+            role="option"
+            aria-selected={i === active}
+            onMouseDown={(e) => {
+              e.preventDefault();
+              navigate(`/patients/${hit.id}`);
+            }}
+            onMouseEnter={() => setActive(i)}
+            className={`cursor-pointer px-3 py-2 ${i === active ? "bg-accent-50" : ""}`}
+          >
+            <span className="font-semibold">
+              {hit.lastName}, {hit.firstName}
+            </span>{" "}
+            <span className="text-sm text-muted">
+              born {formatDate(hit.dateOfBirth)}
+              {hit.phone ? ` · ${hit.phone}` : ""}
+              {hit.email ? ` · ${hit.email}` : ""}
+            </span>
+          </li>
+        ))}
+      </ul>
+      {open && value.trim() && !results.length ? (
+        <p className="absolute z-20 mt-1 flex w-full items-center gap-2 rounded-md border border-line bg-white px-3 py-2 text-sm text-muted shadow-lg">
+          <Icon name="info" /> {searching ? "Searching…" : "No patient matches."}
+        </p>
       ) : null}
-      <p className="sr-only" aria-live="polite">
-        {showList && !searching ? `${results.length} ${results.length === 1 ? "patient" : "patients"} found` : ""}
+      <p className="sr-only" role="status" aria-live="polite">
+        {status}
       </p>
     </div>
   );

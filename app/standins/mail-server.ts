@@ -6,7 +6,8 @@
  *   SMTP  127.0.0.1:$SMTP_PORT         (default 2525)
  *   HTTP  127.0.0.1:$MAILBOX_API_PORT  (default 2526)
  *     GET    /messages                 newest first, without bodies
- *     GET    /messages/:id             one message with text, html and attachment list
+ *     GET    /messages/:id             one message with text, html, headers and attachment list
+ *     GET    /messages/:id/raw         the message as received (RFC 5322)
  *     GET    /messages/:id/attachments/:index
  *     DELETE /messages                 empties the mailbox
  */
@@ -102,7 +103,13 @@ const api = createServer(async (req, res) => {
     if (!found) return send(404, { error: "no such message" });
     const p = await parse(found);
     if (parts.length === 2) {
-      return send(200, { ...(await summary(found)), text: p.text ?? "", html: typeof p.html === "string" ? p.html : "" });
+      // Header fields as sent, unfolded, by lower-case name (the last one wins when repeated).
+      const headers = Object.fromEntries(p.headerLines.map((h) => [h.key, h.line.slice(h.line.indexOf(":") + 1).replace(/\r?\n[ \t]+/g, " ").trim()]));
+      return send(200, { ...(await summary(found)), replyTo: p.replyTo?.text ?? "", headers, text: p.text ?? "", html: typeof p.html === "string" ? p.html : "" });
+    }
+    if (parts[2] === "raw") {
+      res.writeHead(200, { "content-type": "message/rfc822" });
+      return res.end(found.raw);
     }
     if (parts[2] === "attachments" && parts[3] !== undefined) {
       const a = p.attachments[Number(parts[3])];

@@ -15,8 +15,18 @@
  *   Control API for tests and demos:
  *     GET  /_standin/events                   every event made, with its deliveries
  *     POST /_standin/events/:id/deliver       deliver an event again (a replay)
- *     POST /_standin/config                   {"duplicate": bool, "delayMs": n, "webhookUrl": "…"|""}
- *     POST /_standin/sessions/:id/pay         {"card": "…", "amountTotal"?: n} — pay without the page
+ *     POST /_standin/events/deliver           {"ids": [...]} — deliver these events in this order
+ *     POST /_standin/config                   {"duplicate": bool, "delayMs": n, "webhookUrl": "…"|"", "order": "made"|"reverse"}
+ *     POST /_standin/sessions/:id/pay         {"card": "…", "amountTotal"?: n} — pay without the page;
+ *                                             {"sepaDebit": "succeeds"|"fails"} — a method that settles
+ *                                             later, only where the session allows "sepa_debit"
+ *
+ * Objects and events follow the shapes in Stripe's API reference for the pinned API version
+ * (the SDK's types): an event is {id, object: "event", api_version, created, data: {object},
+ * livemode, pending_webhooks, request: {id, idempotency_key}, type}; a Checkout Session carries
+ * payment_status "paid" on completion with a card, "unpaid" with a delayed method until
+ * checkout.session.async_payment_succeeded (then "paid") or _failed. With "order": "reverse" the
+ * events of one payment are delivered newest first, so tests see them out of order.
  *
  * Webhooks go to $STRIPE_WEBHOOK_URL (default $APP_URL/api/webhooks/stripe; empty = keep, don't
  * send), signed with $STRIPE_WEBHOOK_SECRET by the SDK's own generateTestHeaderString. With
@@ -34,19 +44,25 @@ const config = {
   webhookUrl: process.env.STRIPE_WEBHOOK_URL ?? `${(process.env.APP_URL ?? "http://127.0.0.1:3000").replace(/\/$/, "")}/api/webhooks/stripe`,
   duplicate: process.env.STRIPE_STANDIN_DUPLICATE === "1",
   delayMs: Number(process.env.STRIPE_STANDIN_DELAY_MS ?? 0),
+  order: "made" as "made" | "reverse",
 };
+/** The API version the app's SDK pins (app/utils/payments.server.ts); events are rendered in it. */
+const API_VERSION = "2026-10-28.endive";
+const DELAYED_METHODS = new Set(["sepa_debit", "bacs_debit", "us_bank_account"]);
 const signer = new Stripe(apiKey);
 
 export const TEST_CARDS = { success: "4242424242424242", declined: "4000000000000002" } as const;
 
 type Json = Record<string, unknown>;
 type Session = Json & { id: string; amount_total: number; currency: string; status: "open" | "complete" | "expired"; payment_status: "unpaid" | "paid"; success_url: string; cancel_url: string; payment_intent: string | null; metadata: Record<string, string>; url: string | null };
-type PaymentIntent = Json & { id: string; amount: number; amount_received: number; currency: string; status: string; metadata: Record<string, string>; refunded: number };
+type PaymentIntent = Json & { id: string; amount: number; amount_received: number; currency: string; status: string; metadata: Record<string, string> };
 type EventRecord = { id: string; type: string; created: number; body: string; deliveries: { at: string; status: number | string; delayed: boolean }[] };
 
 const sessions = new Map<string, Session>();
 const intents = new Map<string, PaymentIntent>();
 const refunds = new Map<string, Json>();
+/** Refunded amount per payment intent (kept apart: a PaymentIntent has no such field). */
+const refundedByIntent = new Map<string, number>();
 const events: EventRecord[] = [];
 const idempotent = new Map<string, { status: number; body: string }>();
 
@@ -83,11 +99,29 @@ async function deliverOnce(ev: EventRecord, delayed: boolean) {
   }
 }
 
+/** Records an event with a snapshot of its object as it is now. */
+function makeEvent(type: string, object: Json, created = now()): EventRecord {
+  const ev: EventRecord = { id: id("evt"), type, created, body: "", deliveries: [] };
+  ev.body = JSON.stringify(
+    { id: ev.id, object: "event", api_version: API_VERSION, created: ev.created, data: { object }, livemode: false, pending_webhooks: 1, request: { id: null, idempotency_key: null }, type },
+    null,
+    2,
+  );
+  events.push(ev);
+  return ev;
+}
+
+/** Sends events made together: in the order made, or newest first with config "order": "reverse". */
+async function sendAll(evs: EventRecord[], opts: { duplicate?: boolean; delayMs?: number } = {}) {
+  for (const ev of config.order === "reverse" ? [...evs].reverse() : evs) await send(ev, opts);
+}
+
 /** Makes an event and sends it; resolves after the immediate delivery (a delayed one follows later). */
 async function emit(type: string, object: Json, opts: { duplicate?: boolean; delayMs?: number } = {}) {
-  const ev: EventRecord = { id: id("evt"), type, created: now(), body: "", deliveries: [] };
-  ev.body = JSON.stringify({ id: ev.id, object: "event", api_version: "2025-01-01", created: ev.created, livemode: false, type, data: { object }, pending_webhooks: 1, request: { id: null, idempotency_key: null } }, null, 2);
-  events.push(ev);
+  return send(makeEvent(type, object), opts);
+}
+
+async function send(ev: EventRecord, opts: { duplicate?: boolean; delayMs?: number } = {}) {
   const duplicate = opts.duplicate ?? config.duplicate;
   const delayMs = opts.delayMs ?? config.delayMs;
   if (delayMs > 0 && !duplicate) {
@@ -110,28 +144,78 @@ function normaliseCard(card: string) {
 
 type PayResult = { ok: true; session: Session; events: string[] } | { ok: false; message: string; events: string[] };
 
-async function pay(session: Session, cardInput: string, opts: { duplicate?: boolean; delayMs?: number; amountTotal?: number } = {}): Promise<PayResult> {
+/** A copy of a PaymentIntent as the API shows it. */
+const publicIntent = (pi: PaymentIntent) => ({ ...pi });
+
+async function pay(session: Session, cardInput: string, opts: { duplicate?: boolean; delayMs?: number; amountTotal?: number; sepaDebit?: "succeeds" | "fails" } = {}): Promise<PayResult> {
   if (session.status === "complete") return { ok: false, message: "This checkout has already been paid.", events: [] };
   if (session.status === "expired") return { ok: false, message: "This checkout has expired. Return to the practice's page and start again.", events: [] };
+  if (opts.sepaDebit) return payLater(session, opts.sepaDebit, opts);
   const card = normaliseCard(cardInput);
   if (!/^\d{12,19}$/.test(card)) return { ok: false, message: "Enter the card number (digits only). Test card: 4242 4242 4242 4242.", events: [] };
-  const intentMeta = ((session.payment_intent_data as Json | undefined)?.metadata as Record<string, string> | undefined) ?? {};
   const amount = opts.amountTotal ?? session.amount_total;
-  const pi: PaymentIntent = { id: id("pi"), object: "payment_intent", amount, amount_received: 0, currency: session.currency, status: "requires_payment_method", metadata: intentMeta, refunded: 0, created: now(), livemode: false };
-  intents.set(pi.id, pi);
+  const pi = newIntent(session, amount, ["card"]);
   if (card === TEST_CARDS.success) {
     pi.status = "succeeded";
     pi.amount_received = amount;
-    Object.assign(session, { status: "complete", payment_status: "paid", payment_intent: pi.id, amount_total: amount, url: null });
-    const a = await emit("payment_intent.succeeded", pi, opts);
-    const b = await emit("checkout.session.completed", session, opts);
-    return { ok: true, session, events: [a.id, b.id] };
+    pi.latest_charge = id("ch");
+    Object.assign(session, { status: "complete", payment_status: "paid", payment_intent: pi.id, amount_total: amount, url: null, customer_details: customerDetails(session) });
+    const made = [makeEvent("payment_intent.succeeded", publicIntent(pi)), makeEvent("checkout.session.completed", publicSession(session))];
+    await sendAll(made, opts);
+    return { ok: true, session, events: made.map((e) => e.id) };
   }
   const declined = card === TEST_CARDS.declined;
   const message = declined ? "Your card was declined." : "Your card number is not a test card this stand-in knows. Use 4242 4242 4242 4242 to pay, or 4000 0000 0000 0002 to see a decline.";
   pi.last_payment_error = { type: "card_error", code: declined ? "card_declined" : "incorrect_number", decline_code: declined ? "generic_decline" : undefined, message };
-  const ev = await emit("payment_intent.payment_failed", pi, opts);
+  const ev = await emit("payment_intent.payment_failed", publicIntent(pi), opts);
   return { ok: false, message, events: [ev.id] };
+}
+
+function newIntent(session: Session, amount: number, methods: string[]): PaymentIntent {
+  const intentMeta = ((session.payment_intent_data as Json | undefined)?.metadata as Record<string, string> | undefined) ?? {};
+  const pi: PaymentIntent = {
+    id: id("pi"),
+    object: "payment_intent",
+    amount,
+    amount_received: 0,
+    currency: session.currency,
+    status: "requires_payment_method",
+    metadata: intentMeta,
+    payment_method_types: methods,
+    latest_charge: null,
+    last_payment_error: null,
+    created: now(),
+    livemode: false,
+  };
+  intents.set(pi.id, pi);
+  return pi;
+}
+
+function customerDetails(session: Session) {
+  return { email: session.customer_email ?? null, name: null, phone: null, address: null, tax_exempt: "none", tax_ids: [] };
+}
+
+/**
+ * A bank debit: the session completes unpaid at once, and the bank's answer comes later as
+ * checkout.session.async_payment_succeeded or _failed (both carry the session).
+ */
+async function payLater(session: Session, outcome: "succeeds" | "fails", opts: { duplicate?: boolean; delayMs?: number }): Promise<PayResult> {
+  const allowed = session.payment_method_types as string[];
+  if (!allowed.some((m) => DELAYED_METHODS.has(m))) return { ok: false, message: `This checkout accepts only ${allowed.join(", ")}.`, events: [] };
+  const pi = newIntent(session, session.amount_total, ["sepa_debit"]);
+  pi.status = "processing";
+  Object.assign(session, { status: "complete", payment_status: "unpaid", payment_intent: pi.id, url: null, customer_details: customerDetails(session) });
+  const made = [makeEvent("checkout.session.completed", publicSession(session))];
+  if (outcome === "succeeds") {
+    Object.assign(pi, { status: "succeeded", amount_received: pi.amount, latest_charge: id("py") });
+    session.payment_status = "paid";
+    made.push(makeEvent("payment_intent.succeeded", publicIntent(pi), now() + 1), makeEvent("checkout.session.async_payment_succeeded", publicSession(session), now() + 1));
+  } else {
+    Object.assign(pi, { status: "requires_payment_method", last_payment_error: { type: "invalid_request_error", code: "payment_method_invalid_parameter", message: "The debit was returned by the bank." } });
+    made.push(makeEvent("payment_intent.payment_failed", publicIntent(pi), now() + 1), makeEvent("checkout.session.async_payment_failed", publicSession(session), now() + 1));
+  }
+  await sendAll(made, opts);
+  return { ok: outcome === "succeeds", session, events: made.map((e) => e.id), ...(outcome === "fails" ? { message: "The debit was returned by the bank." } : {}) } as PayResult;
 }
 
 // ---------- API ----------
@@ -167,6 +251,12 @@ function createSession(p: Json, res: ServerResponse) {
   if (total < 30) return stripeError(res, 400, "invalid_request_error", "The amount must be at least 30 minor units.", "line_items");
   const sid = id("cs");
   const expiresAt = p.expires_at ? Number(p.expires_at) : now() + 24 * 3600;
+  // Stripe: expires_at must be 30 minutes to 24 hours after creation.
+  if (p.expires_at !== undefined && (!Number.isInteger(expiresAt) || expiresAt < now() + 30 * 60 || expiresAt > now() + 24 * 3600)) {
+    return stripeError(res, 400, "invalid_request_error", "The `expires_at` timestamp must be between 30 minutes and 24 hours from the Checkout Session's creation.", "expires_at");
+  }
+  const allowedTypes = p.allowed_payment_method_types === undefined ? null : asList(p.allowed_payment_method_types).map(String);
+  const methods = allowedTypes ?? ["card"];
   const session: Session = {
     id: sid,
     object: "checkout.session",
@@ -183,6 +273,18 @@ function createSession(p: Json, res: ServerResponse) {
     metadata: (p.metadata as Record<string, string>) ?? {},
     payment_intent_data: p.payment_intent_data ?? {},
     payment_intent: null,
+    allowed_payment_method_types: allowedTypes,
+    payment_method_types: methods,
+    customer: null,
+    customer_details: null,
+    invoice: null,
+    subscription: null,
+    setup_intent: null,
+    payment_link: null,
+    submit_type: null,
+    locale: null,
+    ui_mode: "hosted",
+    total_details: { amount_discount: 0, amount_shipping: 0, amount_tax: 0 },
     expires_at: expiresAt,
     created: now(),
     livemode: false,
@@ -193,20 +295,21 @@ function createSession(p: Json, res: ServerResponse) {
   json(res, 200, publicSession(session));
 }
 
+/** The session as the API shows it (without the stand-in's own bookkeeping); a copy, so events keep their snapshot. */
 function publicSession(s: Session) {
   const { display_items: _d, payment_intent_data: _p, ...rest } = s;
-  return rest;
+  return JSON.parse(JSON.stringify(rest)) as Json;
 }
 
 async function createRefund(p: Json, res: ServerResponse) {
   const pi = intents.get(String(p.payment_intent ?? ""));
   if (!pi) return stripeError(res, 404, "invalid_request_error", `No such payment_intent: '${String(p.payment_intent ?? "")}'`, "payment_intent");
   if (pi.status !== "succeeded") return stripeError(res, 400, "invalid_request_error", "This PaymentIntent has no successful charge to refund.");
-  const left = pi.amount_received - pi.refunded;
+  const left = pi.amount_received - (refundedByIntent.get(pi.id) ?? 0);
   const amount = p.amount === undefined ? left : Number(p.amount);
   if (!Number.isInteger(amount) || amount <= 0) return stripeError(res, 400, "invalid_request_error", "Invalid positive integer amount.", "amount");
   if (amount > left) return stripeError(res, 400, "invalid_request_error", `Refund amount (${amount}) is greater than unrefunded amount on charge (${left}).`, "amount");
-  pi.refunded += amount;
+  refundedByIntent.set(pi.id, (refundedByIntent.get(pi.id) ?? 0) + amount);
   const refund = { id: id("re"), object: "refund", amount, currency: pi.currency, payment_intent: pi.id, status: "succeeded", reason: p.reason ?? null, metadata: p.metadata ?? {}, created: now() };
   refunds.set(refund.id, refund);
   json(res, 200, refund);
@@ -219,8 +322,14 @@ async function readBody(req: IncomingMessage) {
   return Buffer.concat(chunks).toString("utf8");
 }
 
+/** The Stripe-Version header of recent API requests (the SDK sends its pinned version). */
+const recentVersions: { method: string; path: string; version: string | null }[] = [];
+
 async function api(req: IncomingMessage, res: ServerResponse, path: string, body: string) {
   if (req.headers.authorization !== `Bearer ${apiKey}`) return stripeError(res, 401, "invalid_request_error", "Invalid API Key provided.");
+  const version = req.headers["stripe-version"];
+  recentVersions.push({ method: req.method ?? "", path, version: typeof version === "string" ? version : null });
+  if (recentVersions.length > 100) recentVersions.shift();
   const key = req.headers["idempotency-key"];
   const cacheKey = typeof key === "string" && req.method === "POST" ? `${path} ${key}` : null;
   if (cacheKey && idempotent.has(cacheKey)) {
@@ -248,12 +357,12 @@ async function api(req: IncomingMessage, res: ServerResponse, path: string, body
     if (s.status !== "open") return stripeError(res, 400, "invalid_request_error", `Only Checkout Sessions with a status in ["open"] can be expired.`);
     Object.assign(s, { status: "expired", url: null });
     json(res, 200, publicSession(s));
-    void emit("checkout.session.expired", s);
+    void emit("checkout.session.expired", publicSession(s));
     return;
   }
   if (req.method === "GET" && (m = path.match(/^\/v1\/payment_intents\/([\w]+)$/))) {
     const pi = intents.get(m[1]!);
-    return pi ? json(res, 200, pi) : stripeError(res, 404, "invalid_request_error", `No such payment_intent: '${m[1]}'`);
+    return pi ? json(res, 200, publicIntent(pi)) : stripeError(res, 404, "invalid_request_error", `No such payment_intent: '${m[1]}'`);
   }
   if (req.method === "POST" && path === "/v1/refunds") return createRefund(p, res);
   stripeError(res, 404, "invalid_request_error", `Unrecognized request URL (${req.method}: ${path}). The Dioptra stand-in implements only what the app calls.`);
@@ -343,7 +452,7 @@ const server = createServer(async (req, res) => {
       return html(res, 402, checkoutPage(s, result.message));
     }
 
-    if (path === "/_standin/health") return json(res, 200, { status: "ok", sessions: sessions.size, events: events.length });
+    if (path === "/_standin/health") return json(res, 200, { status: "ok", sessions: sessions.size, events: events.length, apiVersion: API_VERSION, requests: recentVersions });
     if (req.method === "GET" && path === "/_standin/events") return json(res, 200, events.map((e) => ({ id: e.id, type: e.type, created: e.created, payload: e.body, deliveries: e.deliveries })));
     if (req.method === "POST" && (m = path.match(/^\/_standin\/events\/([\w]+)\/deliver$/))) {
       const ev = events.find((e) => e.id === m![1]);
@@ -351,8 +460,16 @@ const server = createServer(async (req, res) => {
       await deliverOnce(ev, false);
       return json(res, 200, { id: ev.id, deliveries: ev.deliveries });
     }
+    if (req.method === "POST" && path === "/_standin/events/deliver") {
+      const { ids } = JSON.parse(body || "{}") as { ids?: string[] };
+      const chosen = (ids ?? []).map((i) => events.find((e) => e.id === i));
+      if (!ids?.length || chosen.some((e) => !e)) return json(res, 404, { error: "give ids of events the stand-in made" });
+      for (const ev of chosen) await deliverOnce(ev!, false);
+      return json(res, 200, chosen.map((e) => ({ id: e!.id, type: e!.type, deliveries: e!.deliveries })));
+    }
     if (req.method === "POST" && path === "/_standin/config") {
       const c = JSON.parse(body || "{}") as Partial<typeof config>;
+      if (c.order === "made" || c.order === "reverse") config.order = c.order;
       if (typeof c.duplicate === "boolean") config.duplicate = c.duplicate;
       if (typeof c.delayMs === "number") config.delayMs = c.delayMs;
       if (typeof c.webhookUrl === "string") config.webhookUrl = c.webhookUrl;
@@ -361,7 +478,7 @@ const server = createServer(async (req, res) => {
     if (req.method === "POST" && (m = path.match(/^\/_standin\/sessions\/([\w]+)\/pay$/))) {
       const s = sessions.get(m[1]!);
       if (!s) return json(res, 404, { error: "no such session" });
-      const p = JSON.parse(body || "{}") as { card?: string; amountTotal?: number; duplicate?: boolean; delayMs?: number };
+      const p = JSON.parse(body || "{}") as { card?: string; amountTotal?: number; duplicate?: boolean; delayMs?: number; sepaDebit?: "succeeds" | "fails" };
       const result = await pay(s, p.card ?? TEST_CARDS.success, p);
       return json(res, result.ok ? 200 : 402, result);
     }

@@ -7,52 +7,118 @@ import { signInAttempts, users, type Role } from "~/db/schema";
 import { signInSchema } from "./auth-schemas";
 import { audit } from "./audit.server";
 import { db } from "./db.server";
-import { env } from "./env.server";
-import { clientIp } from "./request.server";
+import { clientIp, clientKey } from "./request.server";
+import { clearAccountBudgets, refundAttempt, takeAttempt, waitText } from "./throttle.server";
 import { getSessionUser, type SessionUser } from "./session.server";
 
 /** Raised for a sign-in that must be refused; the message is shown to the user as is. */
 export class SignInError extends Error {
   constructor(
     message: string,
-    readonly status: 400 | 401 | 429 = 401,
+    readonly status: 400 | 401 | 429 | 503 = 401,
+    readonly retryAfterSeconds?: number,
   ) {
     super(message);
   }
 }
 
 export const BCRYPT_COST = 10;
-export const hashPassword = (password: string) => bcrypt.hash(password, BCRYPT_COST);
+export const hashPassword = (password: string) => withHashingSlot(() => bcrypt.hash(password, BCRYPT_COST));
 
 // A fixed hash compared against when the e-mail is unknown, so timing does not reveal which accounts exist.
 const DUMMY_HASH = bcrypt.hashSync("not-a-real-password", BCRYPT_COST);
 
+/**
+ * Password hashing is CPU work on the event loop (bcryptjs runs in JavaScript, in slices), so
+ * this process hashes at most MAX_HASHING passwords at a time and lets at most MAX_WAITING wait;
+ * beyond that a sign-in is refused with 503 rather than slowing every other request down.
+ */
+const MAX_HASHING = 2;
+const MAX_WAITING = 20;
+let hashing = 0;
+const waiting: (() => void)[] = [];
+
+export class HashingBusyError extends Error {}
+
+export async function withHashingSlot<T>(work: () => Promise<T>): Promise<T> {
+  if (hashing >= MAX_HASHING) {
+    if (waiting.length >= MAX_WAITING) throw new HashingBusyError("Too many sign-ins at once.");
+    await new Promise<void>((resolve) => waiting.push(resolve));
+  } else {
+    hashing++;
+  }
+  try {
+    return await work();
+  } finally {
+    const next = waiting.shift();
+    if (next) next();
+    else hashing--;
+  }
+}
+
 export type AuthUser = { id: string; role: Role };
 
-async function recentFailures(email: string) {
-  const since = new Date(Date.now() - env.SIGN_IN_WINDOW_MINUTES * 60_000);
+/** Whether this account signed in successfully from this address in the last 90 days. */
+async function signedInBefore(email: string, ip: string) {
+  const since = new Date(Date.now() - 90 * 24 * 60 * 60_000);
   const [row] = await db
     .select({ n: count() })
     .from(signInAttempts)
-    .where(and(sql`lower(${signInAttempts.email}) = ${email}`, eq(signInAttempts.succeeded, false), gt(signInAttempts.at, since)));
-  return row?.n ?? 0;
+    .where(and(sql`lower(${signInAttempts.email}) = ${email}`, eq(signInAttempts.succeeded, true), eq(signInAttempts.ip, ip), gt(signInAttempts.at, since)));
+  return (row?.n ?? 0) > 0;
 }
 
+/**
+ * Checks a sign-in against three attempt budgets (see throttle.server.ts), each taken before the
+ * password is hashed so concurrent attempts are counted atomically:
+ *  - the client address's budget, whatever the account — a flood from one address is refused
+ *    before any hashing;
+ *  - the account's budget from this address — five tries, then one every three minutes;
+ *  - the account's budget from everywhere — skipped for an address that signed in to the account
+ *    before, so strangers elsewhere can slow an account down but never keep its owner out.
+ * A successful sign-in gives the attempts back; a password reset clears the account's budgets.
+ */
 export async function verifySignIn(email: string, password: string, request: Request): Promise<AuthUser> {
   const ip = clientIp(request);
-  if ((await recentFailures(email)) >= env.SIGN_IN_MAX_FAILURES) {
-    await audit({ action: "auth.sign_in_throttled", detail: { email }, request });
-    throw new SignInError(
-      `Too many failed sign-in attempts for this account. Wait ${env.SIGN_IN_WINDOW_MINUTES} minutes and try again, or reset your password.`,
+  const address = clientKey(request);
+  const byAddress = await takeAttempt("signin-address", { address });
+  if (!byAddress.granted) {
+    await audit({ action: "auth.sign_in_throttled", detail: { email, budget: "address" }, request });
+    throw new SignInError(`Too many failed sign-in attempts from your connection. Try again in ${waitText(byAddress.retryAfterSeconds)}.`, 429, byAddress.retryAfterSeconds);
+  }
+  const accountRefusal = (retryAfterSeconds: number) =>
+    new SignInError(
+      `Too many failed sign-in attempts for this account. Try again in ${waitText(retryAfterSeconds)}, or reset your password.`,
       429,
+      retryAfterSeconds,
     );
+  const byPair = await takeAttempt("signin-pair", { account: email, address });
+  if (!byPair.granted) {
+    await audit({ action: "auth.sign_in_throttled", detail: { email, budget: "account and address" }, request });
+    throw accountRefusal(byPair.retryAfterSeconds);
+  }
+  if (!(ip && (await signedInBefore(email, ip)))) {
+    const byAccount = await takeAttempt("signin-account", { account: email });
+    if (!byAccount.granted) {
+      await audit({ action: "auth.sign_in_throttled", detail: { email, budget: "account" }, request });
+      throw accountRefusal(byAccount.retryAfterSeconds);
+    }
   }
   const [user] = await db
     .select({ id: users.id, role: users.role, passwordHash: users.passwordHash, active: users.active })
     .from(users)
     .where(sql`lower(${users.email}) = ${email}`)
     .limit(1);
-  const ok = await bcrypt.compare(password, user?.passwordHash ?? DUMMY_HASH);
+  let ok: boolean;
+  try {
+    ok = await withHashingSlot(() => bcrypt.compare(password, user?.passwordHash ?? DUMMY_HASH));
+  } catch (error) {
+    if (!(error instanceof HashingBusyError)) throw error;
+    // Not the user's fault: give the attempts back.
+    await refundAttempt("signin-address", { address });
+    await refundAttempt("signin-pair", { account: email, address });
+    throw new SignInError("The server is busy signing people in. Try again in a few seconds.", 503, 5);
+  }
   if (!user || !ok || !user.passwordHash || !user.active) {
     await db.insert(signInAttempts).values({ email, ip, succeeded: false });
     await audit({
@@ -64,6 +130,8 @@ export async function verifySignIn(email: string, password: string, request: Req
     throw new SignInError("That e-mail and password do not match an active account.");
   }
   await db.insert(signInAttempts).values({ email, ip, succeeded: true });
+  await refundAttempt("signin-address", { address });
+  await clearAccountBudgets(email, address);
   await audit({ action: "auth.sign_in", actorUserId: user.id, request });
   return { id: user.id, role: user.role };
 }

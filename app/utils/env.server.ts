@@ -20,9 +20,8 @@ const schema = z.object({
     .transform((v) => v === "1"),
   /** HTTP API of the local mail stand-in, read by /dev/mailbox in demo mode. */
   MAILBOX_API_URL: z.string().url().default("http://127.0.0.1:2526"),
-  /** Failed sign-ins allowed per e-mail address within the window before it is throttled. */
-  SIGN_IN_MAX_FAILURES: z.coerce.number().int().positive().default(5),
-  SIGN_IN_WINDOW_MINUTES: z.coerce.number().int().positive().default(15),
+  /** Reverse proxies in front of the app that append the client's address to X-Forwarded-For (0: none, the header is ignored). */
+  TRUST_PROXY: z.coerce.number().int().min(0).max(5).default(0),
   /** Stripe: secret key and webhook signing secret. Locally both are the stand-in's test values. */
   STRIPE_SECRET_KEY: z.string().min(8).default("sk_test_dioptra_local_standin"),
   STRIPE_WEBHOOK_SECRET: z.string().min(8).default("whsec_dioptra_local_standin"),

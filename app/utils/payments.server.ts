@@ -17,6 +17,13 @@ export function stripeEndpoint(): { host: string; port: number; protocol: "http"
   return null;
 }
 
+/**
+ * The Stripe API version every request names (the SDK's own release is built for it), so an
+ * account's default version, changed in the Dashboard, cannot change the shapes this code reads.
+ * Webhook endpoints must be created with the same version; the stand-in sends it too.
+ */
+export const STRIPE_API_VERSION = "2026-10-28.endive" as const;
+
 let client: Stripe | null = null;
 
 /** The one Stripe SDK client of this process. Short timeout: a patient is waiting on the other end. */
@@ -24,6 +31,7 @@ export function stripe(): Stripe {
   if (client) return client;
   const endpoint = stripeEndpoint();
   client = new Stripe(env.STRIPE_SECRET_KEY, {
+    apiVersion: STRIPE_API_VERSION,
     maxNetworkRetries: 1,
     timeout: 10_000,
     telemetry: false,

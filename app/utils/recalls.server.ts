@@ -10,7 +10,7 @@ import { formatLocal, localParts } from "~/lib/scheduling/time";
 import { audit } from "./audit.server";
 import { db } from "./db.server";
 import { defineJob } from "./jobs.server";
-import { sendMail, type Mail } from "./mail.server";
+import { prepareMail, sendMail, unsubscribeUrl, type Mail } from "./mail.server";
 import { mailRetryOptions } from "./reminders.server";
 import { practiceSchedule } from "./schedule-settings.server";
 import type { SessionUser } from "./session.server";
@@ -185,11 +185,15 @@ export async function deliverRecall(recallId: string, job: { retryCount: number;
       }
       const due = new Intl.DateTimeFormat("en-GB", { dateStyle: "long", timeZone: "UTC" }).format(new Date(`${row.recall.dueDate}T00:00:00Z`));
       const phone = settings.phone ? ` on ${settings.phone}` : "";
-      await sender({
-        to: row.email!,
-        subject: `Your eye examination is due (${due})`,
-        text: `Dear ${row.firstName} ${row.lastName},\n\nOur records show that your routine eye examination is due on ${due}. Regular exams check your sight and the health of your eyes, even when you notice no change.\n\nTo book, call us${phone} or reply to this e-mail.\n\nIf you would rather not receive these e-mails, tell us and we will stop.\n\n${settings.name}\n`,
-      });
+      const optOut = unsubscribeUrl(row.recall.patientId, "recalls");
+      await sender(
+        await prepareMail({
+          to: row.email!,
+          subject: `Your eye examination is due (${due})`,
+          text: `Dear ${row.firstName} ${row.lastName},\n\nOur records show that your routine eye examination is due on ${due}. Regular exams check your sight and the health of your eyes, even when you notice no change.\n\nTo book, call us${phone} or reply to this e-mail.\n\n${settings.name}\n\nIf you would rather not receive these e-mails, you can stop them here: ${optOut}\n`,
+          unsubscribe: { patientId: row.recall.patientId, list: "recalls" },
+        }),
+      );
       await tx.update(recallMessages).set({ status: "sent", sentAt: new Date(), recipient: row.email, attempts: row.recall.attempts + 1, lastError: null }).where(eq(recallMessages.id, recallId));
       return "sent" as const;
     });

@@ -1,22 +1,24 @@
 /**
- * E-mails about appointments: confirmation on booking, a reminder a set time before, and a
- * cancellation notice, each with an .ics attachment. Each is one row of appointment_messages
- * (unique per appointment and kind) and one pg-boss job. The job locks the row, sends, and marks
+ * E-mails about appointments: confirmation on booking, a reminder a set time before, an update
+ * after every move and a cancellation notice, each with an .ics attachment (one UID per
+ * appointment; SEQUENCE rises with every move and once more for the cancellation). Each is one
+ * row of appointment_messages (unique per appointment, kind and sequence) and one pg-boss job. The job locks the row, sends, and marks
  * it sent in the same transaction, so a message is never sent twice; a failed send is retried
  * with back-off and the row keeps the last error for the front desk's log.
  */
 import { and, eq } from "drizzle-orm";
-import { createEvent, type DateArray } from "ics";
+import { buildIcs } from "~/lib/calendar/ics";
 import { appointmentMessages, appointments, appointmentTypes, patients, users } from "~/db/schema";
 import { formatLocal } from "~/lib/scheduling/time";
 import { db, type Tx } from "./db.server";
 import { defineJob } from "./jobs.server";
-import { sendMail, type Mail } from "./mail.server";
+import { env } from "./env.server";
+import { prepareMail, sendMail, type Mail } from "./mail.server";
 import { practiceSchedule } from "./schedule-settings.server";
 
-export type MessageKind = "confirmation" | "reminder" | "cancellation";
+export type MessageKind = "confirmation" | "reminder" | "cancellation" | "update";
 type Appointment = typeof appointments.$inferSelect;
-type Settings = { timeZone: string; reminderHoursBefore: number; name: string; phone: string; addressLine1: string; city: string };
+type Settings = { timeZone: string; reminderHoursBefore: number; name: string; phone: string; email: string; addressLine1: string; city: string };
 
 export const APPOINTMENT_MAIL_QUEUE = "appointment-mail";
 
@@ -33,7 +35,14 @@ export async function queueAppointmentMessage(tx: Tx, appt: Appointment, kind: M
   const tooLate = kind === "reminder" && dueAt.getTime() < Date.now();
   const [row] = await tx
     .insert(appointmentMessages)
-    .values({ appointmentId: appt.id, kind, dueAt, status: tooLate ? "skipped" : "queued", skippedReason: tooLate ? `booked less than ${settings.reminderHoursBefore} h ahead; the confirmation serves` : null })
+    .values({
+      appointmentId: appt.id,
+      kind,
+      sequence: kind === "update" ? appt.revision : 0,
+      dueAt,
+      status: tooLate ? "skipped" : "queued",
+      skippedReason: tooLate ? `booked less than ${settings.reminderHoursBefore} h ahead; the confirmation serves` : null,
+    })
     .onConflictDoNothing()
     .returning({ id: appointmentMessages.id });
   if (!row || tooLate) return;
@@ -54,32 +63,44 @@ export async function rescheduleReminder(tx: Tx, appt: Appointment, settings: Se
   if (!tooLate) await appointmentMail.enqueue({ messageId: existing.id }, { tx, startAfter: dueAt, singletonKey: `${existing.id}:${appt.revision}`, ...mailRetryOptions() });
 }
 
-function utcArray(d: Date): DateArray {
-  return [d.getUTCFullYear(), d.getUTCMonth() + 1, d.getUTCDate(), d.getUTCHours(), d.getUTCMinutes()];
+/** The address calendar replies and ORGANIZER use: the practice's own, else the sending address. */
+function organizerEmail(settings: Settings) {
+  if (settings.email) return settings.email;
+  const m = /<([^>]+)>/.exec(env.MAIL_FROM);
+  return (m ? m[1]! : env.MAIL_FROM).trim();
 }
 
-/** The calendar file for the appointment: REQUEST for bookings and reminders, CANCEL for cancellations. */
-export function appointmentIcs(input: { id: string; revision: number; start: Date; end: Date; title: string; description: string; location: string; cancelled: boolean; organizerEmail: string; organizerName: string }) {
-  const { error, value } = createEvent({
-    uid: `appointment-${input.id}@dioptra`,
-    // The sequence rises with every move, and once more for the cancellation.
-    sequence: input.revision + (input.cancelled ? 1 : 0),
+/**
+ * The calendar file for the appointment: REQUEST for bookings, reminders and moves, CANCEL for
+ * cancellations. The SEQUENCE is the appointment's revision (raised by every move), one more for
+ * the cancellation, so each file replaces the one before it in the patient's calendar.
+ */
+export function appointmentIcs(input: {
+  id: string;
+  revision: number;
+  start: Date;
+  end: Date;
+  title: string;
+  description: string;
+  location: string;
+  cancelled: boolean;
+  organizer: { name: string; email: string };
+  attendee: { name: string; email: string };
+}) {
+  return buildIcs({
     method: input.cancelled ? "CANCEL" : "REQUEST",
-    status: input.cancelled ? "CANCELLED" : "CONFIRMED",
-    start: utcArray(input.start),
-    startInputType: "utc",
-    startOutputType: "utc",
-    end: utcArray(input.end),
-    endInputType: "utc",
-    endOutputType: "utc",
-    title: input.title,
+    uid: `appointment-${input.id}@dioptra`,
+    sequence: input.revision + (input.cancelled ? 1 : 0),
+    stamp: new Date(),
+    start: input.start,
+    end: input.end,
+    summary: input.title,
     description: input.description,
     location: input.location,
-    organizer: { name: input.organizerName, email: input.organizerEmail },
-    productId: "dioptra/schedule",
+    organizer: input.organizer,
+    attendee: input.attendee,
+    productId: "-//Dioptra//Schedule//EN",
   });
-  if (error || !value) throw error ?? new Error("Could not build the calendar file.");
-  return value;
 }
 
 type Loaded = {
@@ -98,13 +119,21 @@ export function composeAppointmentMail(l: Loaded, settings: Settings): Mail {
   const what = `${l.typeName} with ${l.providerName}`;
   const kind = l.message.kind;
   const subject =
-    kind === "confirmation" ? `Appointment booked: ${when}` : kind === "reminder" ? `Reminder: your appointment on ${when}` : `Appointment cancelled: ${when}`;
+    kind === "confirmation"
+      ? `Appointment booked: ${when}`
+      : kind === "reminder"
+        ? `Reminder: your appointment on ${when}`
+        : kind === "update"
+          ? `Appointment moved: now ${when}`
+          : `Appointment cancelled: ${when}`;
   const body =
     kind === "confirmation"
       ? `${hello}\n\nYour appointment is booked:\n\n  ${what}\n  ${when} (${settings.timeZone} time)\n  ${place}\n\nThe attached calendar file adds it to your calendar. To change or cancel it, call us${phone}.\n`
       : kind === "reminder"
         ? `${hello}\n\nThis is a reminder of your appointment:\n\n  ${what}\n  ${when} (${settings.timeZone} time)\n  ${place}\n\nPlease bring your current glasses or contact lenses. To change or cancel, call us${phone}.\n`
-        : `${hello}\n\nYour appointment has been cancelled:\n\n  ${what}\n  ${when}\n\nThe attached calendar file removes it from your calendar. To book another time, call us${phone}.\n`;
+        : kind === "update"
+          ? `${hello}\n\nYour appointment has been moved. The new time is:\n\n  ${what}\n  ${when} (${settings.timeZone} time)\n  ${place}\n\nThe attached calendar file moves it in your calendar. If the new time does not suit you, call us${phone}.\n`
+          : `${hello}\n\nYour appointment has been cancelled:\n\n  ${what}\n  ${when}\n\nThe attached calendar file removes it from your calendar. To book another time, call us${phone}.\n`;
   const ics = appointmentIcs({
     id: l.appt.id,
     revision: l.appt.revision,
@@ -114,14 +143,16 @@ export function composeAppointmentMail(l: Loaded, settings: Settings): Mail {
     description: `${what}.`,
     location: place,
     cancelled: kind === "cancellation",
-    organizerEmail: "no-reply@dioptra-demo.test",
-    organizerName: settings.name,
+    organizer: { name: settings.name, email: organizerEmail(settings) },
+    attendee: { name: `${l.patient.firstName} ${l.patient.lastName}`, email: l.patient.email! },
   });
   return {
     to: l.patient.email!,
     subject,
     text: `${body}\n${settings.name}\n`,
     attachments: [{ filename: kind === "cancellation" ? "cancelled-appointment.ics" : "appointment.ics", content: ics, contentType: `text/calendar; charset=utf-8; method=${kind === "cancellation" ? "CANCEL" : "REQUEST"}` }],
+    // Reminders are the e-mail a patient may stop without stopping the rest (RFC 8058 one-click).
+    ...(kind === "reminder" ? { unsubscribe: { patientId: l.appt.patientId, list: "reminders" as const } } : {}),
   };
 }
 
@@ -136,6 +167,8 @@ export function useAppointmentMailSender(next: Sender | null) {
 function reasonToSkip(l: Loaded): string | null {
   const { kind } = l.message;
   if (kind !== "cancellation" && (l.appt.status === "cancelled" || l.appt.status === "no_show")) return `appointment ${l.appt.status === "cancelled" ? "cancelled" : "missed"}`;
+  // Moved again before this update went: the later update carries the newest time and sequence.
+  if (kind === "update" && l.appt.revision !== l.message.sequence) return "superseded by a later move";
   if (kind === "reminder" && l.appt.startsAt.getTime() < Date.now()) return "appointment already started";
   if (!l.patient.remindersByEmail) return "patient opted out of e-mail";
   if (!l.patient.email) return "no e-mail address on record";
@@ -172,7 +205,7 @@ export async function deliverAppointmentMessage(messageId: string, job: { retryC
         await tx.update(appointmentMessages).set({ status: "skipped", skippedReason: skip }).where(eq(appointmentMessages.id, messageId));
         return "skipped";
       }
-      const mail = composeAppointmentMail(row, settings);
+      const mail = await prepareMail(composeAppointmentMail(row, settings));
       await sender(mail);
       await tx
         .update(appointmentMessages)

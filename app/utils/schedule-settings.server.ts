@@ -13,11 +13,14 @@ export async function practiceSchedule() {
       childUnderYears: practiceSettings.childUnderYears,
       name: practiceSettings.name,
       phone: practiceSettings.phone,
+      email: practiceSettings.email,
       addressLine1: practiceSettings.addressLine1,
       city: practiceSettings.city,
+      portalBookingDays: practiceSettings.portalBookingDays,
+      staffBookingDays: practiceSettings.staffBookingDays,
     })
     .from(practiceSettings)
     .where(eq(practiceSettings.id, 1));
-  return p ?? { timeZone: "Europe/London", reminderHoursBefore: 24, recallMonthsChild: 12, recallMonthsAdult: 24, childUnderYears: 16, name: "The practice", phone: "", addressLine1: "", city: "" };
+  return p ?? { timeZone: "Europe/London", reminderHoursBefore: 24, recallMonthsChild: 12, recallMonthsAdult: 24, childUnderYears: 16, name: "The practice", phone: "", email: "", addressLine1: "", city: "", portalBookingDays: 90, staffBookingDays: 730 };
 }
 

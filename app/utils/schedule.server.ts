@@ -7,7 +7,7 @@ import { and, asc, eq, gt, inArray, lt, ne, sql } from "drizzle-orm";
 import { appointmentMessages, appointments, appointmentStatusChanges, appointmentTypes, exams, patients, providerBreaks, users, workingHours } from "~/db/schema";
 import { checkWorkingHours } from "~/lib/scheduling/hours";
 import { canChangeStatus, isMovable, LIVE_STATUSES, STATUS_LABEL, type Status } from "~/lib/scheduling/status";
-import { formatLocal, zonedIsoFormatter } from "~/lib/scheduling/time";
+import { formatLocal, localParts, zonedIsoFormatter } from "~/lib/scheduling/time";
 import { audit } from "./audit.server";
 import { db, pool, type Tx } from "./db.server";
 import { queueAppointmentMessage, rescheduleReminder } from "./reminders.server";
@@ -87,7 +87,7 @@ async function clashError(providerId: string, start: Date, end: Date, timeZone: 
 type SlotInput = { providerId: string; appointmentTypeId: string; start: Date; end?: Date };
 
 /** Checks everything except overlap (the database enforces that); answers the end time to use. */
-async function validateSlot(tx: Tx, input: SlotInput, timeZone: string, opts: { allowPast?: boolean } = {}) {
+async function validateSlot(tx: Tx, input: SlotInput, timeZone: string, opts: { allowPast?: boolean; horizonDays?: number } = {}) {
   const errors: FieldErrors = {};
   const [type] = await tx.select().from(appointmentTypes).where(eq(appointmentTypes.id, input.appointmentTypeId));
   if (!type || !type.active) errors.appointmentTypeId = ["No such appointment type (or it is no longer offered)."];
@@ -101,6 +101,10 @@ async function validateSlot(tx: Tx, input: SlotInput, timeZone: string, opts: { 
   if (!opts.allowPast && input.start.getTime() < Date.now() - 60_000) {
     throw new BookingError(422, "That time is in the past; choose a time from now on.", { start: ["That time is in the past; choose a time from now on."] });
   }
+  if (opts.horizonDays !== undefined && input.start.getTime() > Date.now() + opts.horizonDays * 86_400_000) {
+    const msg = `Bookings can be made at most ${opts.horizonDays} days ahead (until ${localParts(new Date(Date.now() + opts.horizonDays * 86_400_000), timeZone).date}).`;
+    throw new BookingError(422, msg, { start: [msg] });
+  }
   const hours = await tx.select().from(workingHours).where(eq(workingHours.providerId, input.providerId));
   if (!hours.length) {
     const msg = `${provider!.name} has no working hours set yet; the practice owner sets them under Settings → Working hours.`;
@@ -110,6 +114,11 @@ async function validateSlot(tx: Tx, input: SlotInput, timeZone: string, opts: { 
   const check = checkWorkingHours(input.start, end, timeZone, hours, breaks);
   if (!check.ok) throw new BookingError(422, check.reason, { start: [check.reason] });
   return { type: type!, provider: provider!, end };
+}
+
+/** How far ahead `actor` may book: the portal's horizon for patients, the team's for staff (practice settings). */
+export function bookingHorizonDays(actor: { role: string }, settings: { portalBookingDays: number; staffBookingDays: number }) {
+  return actor.role === "patient" ? settings.portalBookingDays : settings.staffBookingDays;
 }
 
 export type BookingInput = { patientId: string; providerId: string; appointmentTypeId: string; start: Date; end?: Date; notes?: string };
@@ -122,7 +131,7 @@ export async function bookAppointment(actor: SessionUser, input: BookingInput, r
     return await db.transaction(async (tx) => {
       const [patient] = await tx.select({ id: patients.id }).from(patients).where(eq(patients.id, input.patientId));
       if (!patient) throw new BookingError(404, "No such patient.", { patientId: ["No such patient."] });
-      ({ end } = await validateSlot(tx, input, settings.timeZone));
+      ({ end } = await validateSlot(tx, input, settings.timeZone, { horizonDays: bookingHorizonDays(actor, settings) }));
       const [row] = await tx
         .insert(appointments)
         .values({ patientId: input.patientId, providerId: input.providerId, appointmentTypeId: input.appointmentTypeId, startsAt: input.start, endsAt: end, notes: input.notes ?? "", createdById: actor.id, statusChangedById: actor.id })
@@ -159,13 +168,15 @@ export async function moveAppointment(actor: SessionUser, id: string, change: { 
       providerId ??= current.providerId;
       const duration = current.endsAt.getTime() - current.startsAt.getTime();
       end ??= new Date(change.start.getTime() + duration);
-      await validateSlot(tx, { providerId, appointmentTypeId: current.appointmentTypeId, start: change.start, end }, settings.timeZone);
+      await validateSlot(tx, { providerId, appointmentTypeId: current.appointmentTypeId, start: change.start, end }, settings.timeZone, { horizonDays: bookingHorizonDays(actor, settings) });
       const [row] = await tx
         .update(appointments)
         .set({ startsAt: change.start, endsAt: end, providerId, updatedAt: new Date(), revision: sql`${appointments.revision} + 1` })
         .where(eq(appointments.id, id))
         .returning();
       await rescheduleReminder(tx, row!, settings);
+      // Every move: a calendar update with the same UID and the new, higher SEQUENCE.
+      await queueAppointmentMessage(tx, row!, "update", settings);
       await audit(
         {
           action: "appointment.moved",

@@ -3,6 +3,7 @@ import { describe, expect, it } from "vitest";
 import { action as inviteAction } from "~/routes/api/portal-invite";
 import { action as resetAction, loader as resetLoader } from "~/routes/auth/reset-password";
 import { action as linkAction } from "~/routes/auth/sign-in-link";
+import { deliverAccountMail } from "~/utils/account-mail.server";
 import { action as verifyAction, loader as verifyLoader } from "~/routes/auth/sign-in-link-verify";
 import { action as remindersAction, loader as remindersLoader } from "~/routes/portal/reminders";
 import { auditLog, patients, users } from "~/db/schema";
@@ -50,6 +51,8 @@ describe("portal invitation", () => {
 describe("e-mailed sign-in link", () => {
   async function requestLink(email: string) {
     await run(linkAction, makeRequest("/sign-in-link", { form: { email } }));
+    // The page queues the e-mail; the worker sends it.
+    await deliverAccountMail({ kind: "sign_in", email, ip: null });
     const mails = (await mailTo(email)).filter((m) => m.subject === "Your sign-in link");
     return mails[0] ? linkIn(mails[0].text, "/sign-in-link/verify?token=").searchParams.get("token")! : null;
   }

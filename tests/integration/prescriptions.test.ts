@@ -82,7 +82,7 @@ describe("issuing prescriptions", () => {
     expect(text).toContain(`Rx ${patient.lastName}`);
     expect(text).toContain("Tobias Wren");
     expect(text).toContain("01-31982");
-    expect(text).toContain("-6.00");
+    expect(text).toContain("\u22126.00"); // printed with the minus sign U+2212
     expect(text).toContain("Cautions");
     expect(text).toMatch(/Page 1 of 1/);
   });
@@ -98,8 +98,8 @@ describe("issuing prescriptions", () => {
     const res = (await run(pdfLoader, makeRequest("/x", { cookie: await cookieFor("owner") }), { patientId: patient.id, prescriptionId: rx!.id })) as Response;
     const text = pdfText(await res.arrayBuffer());
     expect(text).toContain("Contact-lens prescription");
-    expect(text).toContain("-5.50");
-    expect(text).toContain("-5.597");
+    expect(text).toContain("\u22125.50");
+    expect(text).toContain("\u22125.597");
     expect(text).toContain("Monthly silicone hydrogel");
   });
 

@@ -13,11 +13,11 @@ export async function demoIds() {
   return { optometrist, owner, receptionist, examType: exam!, collectionType: collection! };
 }
 
-export async function newPatient(opts: { dateOfBirth?: string; remindersByEmail?: boolean; recallsByEmail?: boolean; email?: string | null } = {}) {
+export async function newPatient(opts: { dateOfBirth?: string; remindersByEmail?: boolean; recallsByEmail?: boolean; email?: string | null; firstName?: string; lastName?: string } = {}) {
   const email = opts.email === undefined ? uniqueEmail("patient") : opts.email;
   const [p] = await db
     .insert(patients)
-    .values({ firstName: "Test", lastName: `Patient ${Math.random().toString(36).slice(2, 7)}`, dateOfBirth: opts.dateOfBirth ?? "1980-01-01", email, remindersByEmail: opts.remindersByEmail ?? true, recallsByEmail: opts.recallsByEmail ?? true })
+    .values({ firstName: opts.firstName ?? "Test", lastName: opts.lastName ?? `Patient ${Math.random().toString(36).slice(2, 7)}`, dateOfBirth: opts.dateOfBirth ?? "1980-01-01", email, remindersByEmail: opts.remindersByEmail ?? true, recallsByEmail: opts.recallsByEmail ?? true })
     .returning();
   return p!;
 }

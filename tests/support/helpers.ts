@@ -86,7 +86,19 @@ export async function mailTo(to: string, apiPort: number = UNIT.mailApi) {
   const res = await fetch(`http://127.0.0.1:${apiPort}/messages?to=${encodeURIComponent(to)}`);
   const list = (await res.json()) as { id: string; subject: string; attachments: { filename: string }[] }[];
   return Promise.all(
-    list.map(async (m) => (await (await fetch(`http://127.0.0.1:${apiPort}/messages/${m.id}`)).json()) as { id: string; subject: string; text: string; attachments: { index: number; filename: string; contentType: string }[] }),
+    list.map(
+      async (m) =>
+        (await (await fetch(`http://127.0.0.1:${apiPort}/messages/${m.id}`)).json()) as {
+          id: string;
+          subject: string;
+          from: string;
+          replyTo: string;
+          headers: Record<string, string>;
+          text: string;
+          html: string;
+          attachments: { index: number; filename: string; contentType: string }[];
+        },
+    ),
   );
 }
 

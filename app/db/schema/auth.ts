@@ -1,5 +1,5 @@
 import { sql } from "drizzle-orm";
-import { boolean, index, inet, integer, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import { boolean, doublePrecision, index, inet, integer, pgEnum, pgTable, primaryKey, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
 import { patients } from "./patients";
 
 export const roleEnum = pgEnum("role", ["owner", "optometrist", "receptionist", "patient"]);
@@ -73,4 +73,27 @@ export const signInAttempts = pgTable(
     at: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [index("sign_in_attempts_email_at_idx").on(sql`lower(${t.email})`, t.at)],
+);
+
+/**
+ * Attempt budgets (token buckets) for sign-in and e-mailed links, one row per scope and key:
+ * `tokens` refill continuously up to the scope's capacity and each attempt takes one, in a
+ * single upsert, so concurrent requests on any number of app servers share one count.
+ * Scopes: `signin-address`, `signin-account`, `signin-pair` (account + address),
+ * `mail-address`, `mail-client`.
+ */
+export const attemptBudgets = pgTable(
+  "attempt_budgets",
+  {
+    scope: text().notNull(),
+    /** The account's lower-cased e-mail address, or "" when the budget is not an account's. */
+    account: text().notNull().default(""),
+    /** The client's address, or "" when the budget is not an address's. */
+    address: text().notNull().default(""),
+    tokens: doublePrecision().notNull(),
+    /** Whether the last attempt found a token. */
+    granted: boolean().notNull(),
+    updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [primaryKey({ columns: [t.scope, t.account, t.address] }), index("attempt_budgets_account_idx").on(t.account)],
 );

@@ -45,11 +45,16 @@ export const practiceSettings = pgTable(
     referralDaysRoutine: integer().notNull().default(91),
     /** The notation acuity is typed in unless an entry says otherwise. */
     acuityNotation: acuityNotationEnum().notNull().default("metric"),
+    /** How far ahead patients may book from the portal, days. */
+    portalBookingDays: integer().notNull().default(90),
+    /** How far ahead the practice team may book, days (two years covers the longest usual recall). */
+    staffBookingDays: integer().notNull().default(730),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [
     check("practice_settings_single_row", sql`${t.id} = 1`),
     check("practice_settings_tax_rate", sql`${t.taxRateBp} between 0 and 10000`),
     check("practice_settings_rx_validity", sql`${t.spectacleRxValidityMonths} between 1 and 120 and ${t.contactLensRxValidityMonths} between 1 and 120`),
+    check("practice_settings_booking_days", sql`${t.portalBookingDays} between 1 and 3660 and ${t.staffBookingDays} between 1 and 3660`),
   ],
 );

@@ -134,11 +134,13 @@ export const providerBreaks = pgTable(
 );
 
 export const messageStatusEnum = pgEnum("message_status", ["queued", "sent", "skipped", "failed"]);
-export const appointmentMessageKindEnum = pgEnum("appointment_message_kind", ["confirmation", "reminder", "cancellation"]);
+export const appointmentMessageKindEnum = pgEnum("appointment_message_kind", ["confirmation", "reminder", "cancellation", "update"]);
 
 /**
- * The e-mails about an appointment: one row per (appointment, kind), so a message is never sent
- * twice; the row is locked and marked sent in the same transaction as the send.
+ * The e-mails about an appointment: one row per (appointment, kind, sequence), so a message is
+ * never sent twice; the row is locked and marked sent in the same transaction as the send.
+ * Confirmation, reminder and cancellation have sequence 0 (one each); every move adds an
+ * "update" whose sequence is the appointment's revision after the move (the calendar SEQUENCE).
  */
 export const appointmentMessages = pgTable(
   "appointment_messages",
@@ -148,6 +150,8 @@ export const appointmentMessages = pgTable(
       .notNull()
       .references(() => appointments.id, { onDelete: "cascade" }),
     kind: appointmentMessageKindEnum().notNull(),
+    /** For an update: the appointment's revision it announces; 0 for the other kinds. */
+    sequence: integer().notNull().default(0),
     status: messageStatusEnum().notNull().default("queued"),
     recipient: text(),
     /** When the message is due to go (the reminder's time; now for the others). */
@@ -159,7 +163,7 @@ export const appointmentMessages = pgTable(
     sentAt: timestamp({ withTimezone: true }),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
-  (t) => [uniqueIndex("appointment_messages_appt_kind_uq").on(t.appointmentId, t.kind), index("appointment_messages_created_idx").on(t.createdAt)],
+  (t) => [uniqueIndex("appointment_messages_appt_kind_seq_uq").on(t.appointmentId, t.kind, t.sequence), index("appointment_messages_created_idx").on(t.createdAt)],
 );
 
 /** One bulk send of recall e-mails started by the front desk; progress is counted from its messages. */

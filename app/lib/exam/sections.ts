@@ -5,6 +5,7 @@
  */
 import { formatRx, parseRx, readAcuity, RxError, type AcuityNotation, type SphCyl } from "~/lib/optics";
 import { localParts, wallTimeToInstant } from "~/lib/scheduling/time";
+import { parseDecimal } from "~/lib/numbers/decimal";
 
 export const EYES = ["right", "left"] as const;
 export type EyeKey = (typeof EYES)[number];
@@ -99,9 +100,8 @@ export function parseNumber(text: string | undefined, label: string, min: number
   const t = (text ?? "").trim().replace(/\u2212/g, "-");
   if (!t) return { value: null };
   if (/^[+-]?\d+,\d+$/.test(t)) return { value: null, error: `${label}: "${t}" — use a decimal point, not a comma.` };
-  if (!PLAIN_NUMBER.test(t)) return { value: null, error: `${label}: "${t}" is not a number (type digits with an optional decimal point).` };
-  const n = Number(t);
-  if (!Number.isFinite(n)) return { value: null, error: `${label}: "${t}" is not a number.` };
+  const n = parseDecimal(t);
+  if (n === null) return { value: null, error: `${label}: "${t}" is not a number (type digits with an optional decimal point).` };
   if (n < min || n > max) return { value: null, error: `${label}: ${n} is outside ${min} to ${max}.` };
   if (opts.integer && !Number.isInteger(n)) return { value: null, error: `${label}: use a whole number.` };
   if (opts.step && Math.abs(n / opts.step - Math.round(n / opts.step)) > 1e-9) return { value: null, error: `${label}: use steps of ${opts.step.toFixed(2)}.` };

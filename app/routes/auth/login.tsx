@@ -7,12 +7,9 @@ import { Button } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
 import { signInSchema } from "~/utils/auth-schemas";
 import { authenticator, homeFor, SignInError } from "~/utils/auth.server";
+import { readForm } from "~/utils/form.server";
+import { safeRedirectPath } from "~/utils/redirect";
 import { createUserSession, getSessionUser } from "~/utils/session.server";
-
-/** Only a same-site path may be a redirect target. */
-function safeRedirect(to: unknown, fallback: string) {
-  return typeof to === "string" && to.startsWith("/") && !to.startsWith("//") && !to.startsWith("/\\") ? to : fallback;
-}
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await getSessionUser(request);
@@ -21,16 +18,19 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export async function action({ request }: Route.ActionArgs) {
-  const submission = parseWithZod(await request.clone().formData(), { schema: signInSchema });
+  const submission = parseWithZod(await readForm(request.clone()), { schema: signInSchema });
   if (submission.status !== "success") {
     return data(submission.reply({ hideFields: ["password"] }), { status: 400 });
   }
   try {
     const user = await authenticator.authenticate("form", request);
-    return await createUserSession(request, user.id, safeRedirect(submission.value.redirectTo, homeFor(user.role)));
+    return await createUserSession(request, user.id, safeRedirectPath(submission.value.redirectTo, homeFor(user.role)));
   } catch (error) {
     if (error instanceof SignInError) {
-      return data(submission.reply({ formErrors: [error.message], hideFields: ["password"] }), { status: error.status });
+      return data(submission.reply({ formErrors: [error.message], hideFields: ["password"] }), {
+        status: error.status,
+        headers: error.retryAfterSeconds ? { "retry-after": String(error.retryAfterSeconds) } : undefined,
+      });
     }
     throw error;
   }

@@ -12,6 +12,8 @@ import { sessions, users } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
 import { hashPassword } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
+import { readForm } from "~/utils/form.server";
+import { clearAccountBudgets } from "~/utils/throttle.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { consumeUserToken, peekUserToken } from "~/utils/tokens.server";
 
@@ -31,7 +33,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export async function action({ request }: Route.ActionArgs) {
-  const submission = parseWithZod(await request.formData(), { schema });
+  const submission = parseWithZod(await readForm(request), { schema });
   if (submission.status !== "success") {
     return data(submission.reply({ hideFields: ["password", "confirm"] }), { status: 400 });
   }
@@ -43,11 +45,14 @@ export async function action({ request }: Route.ActionArgs) {
     // A new password ends every existing session of the account.
     await tx.delete(sessions).where(eq(sessions.userId, token.userId));
     await audit({ action: token.purpose === "invite" ? "auth.invite_accepted" : "auth.password_reset", actorUserId: token.userId, request }, tx);
-    return token;
+    const [user] = await tx.select({ email: users.email }).from(users).where(eq(users.id, token.userId));
+    return { ...token, email: user!.email };
   });
   if (!done) {
     return data(submission.reply({ formErrors: ["This link has expired or has already been used. Ask for a new one."], hideFields: ["password", "confirm"] }), { status: 400 });
   }
+  // The owner of the account proved it with the e-mailed link: failed sign-ins before no longer count.
+  await clearAccountBudgets(done.email);
   return redirectWithToast("/login", { kind: "success", title: "Password saved", description: "Sign in with your new password." });
 }
 

@@ -1,6 +1,5 @@
 import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { sql } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/sign-in-link";
@@ -8,11 +7,8 @@ import { AuthCard } from "~/components/auth-card";
 import { Field } from "~/components/forms";
 import { Button } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
-import { users } from "~/db/schema";
-import { audit } from "~/utils/audit.server";
-import { db } from "~/utils/db.server";
-import { absoluteUrl, sendMail } from "~/utils/mail.server";
-import { issueUserToken } from "~/utils/tokens.server";
+import { requestAccountMail } from "~/utils/account-mail.server";
+import { readForm } from "~/utils/form.server";
 
 const schema = z.object({
   email: z.string({ error: "Enter your e-mail address." }).trim().toLowerCase().pipe(z.email({ error: "Enter a valid e-mail address, like name@example.com." })),
@@ -24,25 +20,11 @@ const schema = z.object({
  * discovered through this form.
  */
 export async function action({ request }: Route.ActionArgs) {
-  const submission = parseWithZod(await request.formData(), { schema });
+  const submission = parseWithZod(await readForm(request), { schema });
   if (submission.status !== "success") return data({ result: submission.reply(), sent: false }, { status: 400 });
-  const [user] = await db
-    .select({ id: users.id, name: users.name, email: users.email, role: users.role, active: users.active })
-    .from(users)
-    .where(sql`lower(${users.email}) = ${submission.value.email}`)
-    .limit(1);
-  if (user?.active && user.role === "patient") {
-    const token = await issueUserToken(user.id, "sign_in");
-    try {
-      await sendMail({
-        to: user.email,
-        subject: "Your sign-in link",
-        text: `Hello ${user.name},\n\nOpen this link within 15 minutes to sign in to your page at the practice:\n\n${absoluteUrl(`/sign-in-link/verify?token=${token}`)}\n\nThe link works once. If you did not ask for it, ignore this e-mail.\n`,
-      });
-      await audit({ action: "auth.sign_in_link_sent", actorUserId: user.id, request });
-    } catch (error) {
-      console.error("[mail] sign-in link failed:", (error as Error).message);
-    }
+  const queued = await requestAccountMail("sign_in", submission.value.email, request);
+  if (!queued.ok) {
+    return data({ result: submission.reply({ formErrors: [queued.message] }), sent: false }, { status: queued.status, headers: { "retry-after": String(queued.retryAfterSeconds) } });
   }
   return { result: submission.reply({ resetForm: true }), sent: true };
 }
@@ -66,6 +48,11 @@ export default function SignInLink({ actionData }: Route.ComponentProps) {
           </div>
         ) : null}
         <Form method="post" {...getFormProps(form)} className="mt-6 space-y-4">
+          {form.errors?.length ? (
+            <Notice tone="error" title="Not sent" id={form.errorId}>
+              {form.errors.join(" ")}
+            </Notice>
+          ) : null}
           <Field label="E-mail" errors={fields.email.errors} inputProps={{ ...getInputProps(fields.email, { type: "email" }), autoComplete: "email" }} />
           <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
             Send sign-in link

@@ -5,6 +5,12 @@
  * its id goes into stripe_events in the same transaction as its effect, so a second delivery
  * finds the row and changes nothing. Events can arrive in any order: a payment that has
  * succeeded is never moved back by an older or later failure/expiry event.
+ *
+ * Checkout offers cards only, which settle at once: `checkout.session.completed` then says
+ * `payment_status: "paid"`. Methods that settle days later (bank debits, vouchers) are not
+ * offered: the patient leaves with their glasses, and a debit that fails afterwards would turn a
+ * paid invoice back into a debt. Should a session ever complete unpaid, the payment stays
+ * pending and `checkout.session.async_payment_succeeded` / `_failed` settle it.
  */
 import { createHmac, timingSafeEqual } from "node:crypto";
 import { and, eq, sql } from "drizzle-orm";
@@ -20,6 +26,8 @@ import { applyPaid, BillingError, closePendingCheckout, invoiceLabel } from "./i
 // ---------------------------------------------------------------- pay-by-link tokens
 
 export const PAY_LINK_TTL_MS = 14 * 24 * 60 * 60 * 1000;
+/** A Checkout Session's lifetime: a margin over Stripe's 30-minute minimum. */
+export const CHECKOUT_LIFETIME_SECONDS = 45 * 60;
 
 function payLinkKey(secret: string) {
   return createHmac("sha256", secret).update("dioptra pay-by-link v1").digest();
@@ -39,7 +47,9 @@ export type PayLinkCheck = { ok: true; invoiceId: string; expiresAt: Date } | { 
 
 /** Checks a pay-link token in constant time against every current secret (rotation). */
 export function verifyPayLink(token: string, now = Date.now()): PayLinkCheck {
-  const m = /^([0-9a-f-]{36})\.(\d{1,12})\.([\w-]{43})$/.exec(token);
+  // One spelling only: a lower-case uuid, the expiry without leading zeros, the signature's
+  // exact base64url text.
+  const m = /^([0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12})\.([1-9]\d{0,11})\.([A-Za-z0-9_-]{43})$/.exec(token);
   if (!m) return { ok: false, reason: "invalid" };
   const [, invoiceId, exp, sig] = m;
   // Compared as text, not decoded bytes: base64url's last character carries spare bits, and a
@@ -88,11 +98,14 @@ export async function startCheckout(invoiceId: string, returnPath: string): Prom
       const label = invoiceLabel(i.number);
       const back = absoluteUrl(returnPath);
       const sep = back.includes("?") ? "&" : "?";
-      const expiresAt = Math.floor(Date.now() / 1000) + 30 * 60; // Stripe's shortest Checkout lifetime: 30 minutes
+      // Stripe refuses an expiry under 30 minutes from its own clock; 45 leaves room for clock
+      // drift and a slow request, and still frees an abandoned checkout soon.
+      const expiresAt = Math.floor(Date.now() / 1000) + CHECKOUT_LIFETIME_SECONDS;
       const metadata = { invoice_id: i.id, payment_id: p!.id, description: `invoice ${label}` };
       const session = await stripe().checkout.sessions.create(
         {
           mode: "payment",
+          allowed_payment_method_types: ["card"],
           line_items: [{ quantity: 1, price_data: { currency: i.currency.toLowerCase(), unit_amount: due, product_data: { name: `Invoice ${label}` } } }],
           client_reference_id: p!.id,
           customer_email: inv.email ?? undefined,
@@ -140,7 +153,12 @@ async function onCheckoutCompleted(tx: Tx, event: Stripe.Event, s: Stripe.Checko
   const p = (await paymentBySession(tx, s.id)) ?? (await paymentById(tx, s.metadata?.payment_id));
   if (!p) return { outcome: "ignored: no payment for this checkout session" };
   if (p.status === "succeeded" || p.status === "flagged") return { outcome: `ignored: payment already ${p.status}`, paymentId: p.id };
-  if (s.payment_status !== "paid") return { outcome: `ignored: checkout completed but payment_status is ${s.payment_status}`, paymentId: p.id };
+  if (s.payment_status !== "paid") {
+    if (p.status !== "pending") return { outcome: `ignored: payment already ${p.status}`, paymentId: p.id };
+    // A method that settles later: nothing is received until async_payment_succeeded.
+    await tx.update(payments).set({ problem: "Payment started; the bank has not confirmed it yet.", lastEventCreated: event.created, updatedAt: new Date() }).where(eq(payments.id, p.id));
+    return { outcome: `awaiting settlement: checkout completed with payment_status ${s.payment_status}`, paymentId: p.id };
+  }
   const [inv] = await tx.select().from(invoices).where(eq(invoices.id, p.invoiceId)).for("update");
   if (!inv) return { outcome: "ignored: invoice missing", paymentId: p.id };
   const amount = s.amount_total ?? 0;
@@ -175,6 +193,14 @@ async function onPaymentFailed(tx: Tx, event: Stripe.Event, pi: Stripe.PaymentIn
   return { outcome: `attempt failed: ${message}`, paymentId: p.id };
 }
 
+async function onAsyncPaymentFailed(tx: Tx, event: Stripe.Event, s: Stripe.Checkout.Session): Promise<EventOutcome & { paymentId?: string }> {
+  const p = (await paymentBySession(tx, s.id)) ?? (await paymentById(tx, s.metadata?.payment_id));
+  if (!p) return { outcome: "ignored: no payment for this checkout session" };
+  if (p.status !== "pending") return { outcome: `ignored: payment already ${p.status}`, paymentId: p.id };
+  await tx.update(payments).set({ status: "failed", problem: "The bank did not complete the payment.", lastEventCreated: event.created, updatedAt: new Date() }).where(eq(payments.id, p.id));
+  return { outcome: "payment failed after checkout", paymentId: p.id };
+}
+
 async function onCheckoutExpired(tx: Tx, event: Stripe.Event, s: Stripe.Checkout.Session): Promise<EventOutcome & { paymentId?: string }> {
   const p = await paymentBySession(tx, s.id);
   if (!p) return { outcome: "ignored: no payment for this checkout session" };
@@ -195,7 +221,11 @@ export async function processStripeEvent(event: Stripe.Event): Promise<EventOutc
     let result: EventOutcome & { paymentId?: string };
     switch (event.type) {
       case "checkout.session.completed":
+      case "checkout.session.async_payment_succeeded":
         result = await onCheckoutCompleted(tx, event, event.data.object);
+        break;
+      case "checkout.session.async_payment_failed":
+        result = await onAsyncPaymentFailed(tx, event, event.data.object);
         break;
       case "checkout.session.expired":
         result = await onCheckoutExpired(tx, event, event.data.object);

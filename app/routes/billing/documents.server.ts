@@ -1,24 +1,17 @@
 /**
- * Invoice and receipt PDFs (pdf-lib, Nunito Sans embedded as subset .woff), and the e-mails
- * that carry them: the invoice with its pay-by-link, and the receipt of a payment.
+ * Invoice and receipt PDFs (the shared PdfWriter: embedded font chain, wrapping by measured
+ * width, page breaks with the letterhead and the lines' header repeated), and the e-mails that
+ * carry them: the invoice with its pay-by-link, and the receipt of a payment.
  */
-import { readFile } from "node:fs/promises";
-import { join } from "node:path";
-import fontkit from "@pdf-lib/fontkit";
 import { eq } from "drizzle-orm";
-import { PDFDocument, rgb, type PDFFont, type PDFPage } from "pdf-lib";
 import { invoices, payments } from "~/db/schema";
 import { formatMoney, formatRate } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 import { sendMail } from "~/utils/mail.server";
+import { PdfWriter } from "~/utils/pdf.server";
 import { payLinkUrl, signPayLink, PAY_LINK_TTL_MS } from "./checkout.server";
 import { BillingError, invoiceDetail, invoiceLabel, practiceBilling } from "./invoices.server";
-
-const FONT_DIR = join(process.cwd(), "node_modules/@fontsource/nunito-sans/files");
-let fonts: Promise<{ regular: Buffer; bold: Buffer }> | null = null;
-const loadFonts = () =>
-  (fonts ??= Promise.all([readFile(join(FONT_DIR, "nunito-sans-latin-400-normal.woff")), readFile(join(FONT_DIR, "nunito-sans-latin-700-normal.woff"))]).then(([regular, bold]) => ({ regular, bold })));
 
 export const METHOD_LABEL = { cash: "Cash", card_desk: "Card at the desk", card_online: "Card online" } as const;
 
@@ -28,106 +21,68 @@ export function formatDate(d: Date, timeZone: string, withTime = false) {
 
 type Detail = NonNullable<Awaited<ReturnType<typeof invoiceDetail>>>;
 
-class Writer {
-  y = 800;
-  constructor(
-    readonly page: PDFPage,
-    readonly regular: PDFFont,
-    readonly bold: PDFFont,
-  ) {}
-  text(s: string, x: number, opts: { size?: number; bold?: boolean; right?: boolean; color?: [number, number, number] } = {}) {
-    const size = opts.size ?? 10;
-    const font = opts.bold ? this.bold : this.regular;
-    const w = font.widthOfTextAtSize(s, size);
-    this.page.drawText(s, { x: opts.right ? x - w : x, y: this.y, size, font, color: rgb(...(opts.color ?? [0.09, 0.13, 0.17])) });
-  }
-  down(n = 14) {
-    this.y -= n;
-  }
-  rule() {
-    this.page.drawLine({ start: { x: 50, y: this.y + 4 }, end: { x: 545, y: this.y + 4 }, thickness: 0.6, color: rgb(0.8, 0.84, 0.87) });
-    this.down(10);
-  }
-}
-
 /** A PDF of the invoice (kind "invoice") or a receipt for one payment (kind "receipt"). */
 export async function billingPdf(d: Detail, kind: "invoice" | "receipt", paymentId?: string): Promise<Uint8Array> {
   const practice = await practiceBilling();
   const tz = practice.timeZone;
   const cur = d.invoice.currency;
-  const pdf = await PDFDocument.create();
-  pdf.registerFontkit(fontkit);
-  const f = await loadFonts();
-  const regular = await pdf.embedFont(f.regular, { subset: true });
-  const bold = await pdf.embedFont(f.bold, { subset: true });
   const label = invoiceLabel(d.invoice.number);
-  pdf.setTitle(`${kind === "invoice" ? "Invoice" : "Receipt"} ${label} — ${practice.name}`);
-  pdf.setAuthor(practice.name);
-  const w = new Writer(pdf.addPage([595.28, 841.89]), regular, bold);
-
-  w.text(practice.name, 50, { size: 18, bold: true, color: [0.04, 0.28, 0.3] });
-  w.text(kind === "invoice" ? "INVOICE" : "RECEIPT", 545, { size: 16, bold: true, right: true });
-  w.down(18);
-  for (const line of [practice.addressLine1, practice.addressLine2, [practice.city, practice.postcode].filter(Boolean).join(" "), [practice.phone, practice.email].filter(Boolean).join(" · ")].filter(Boolean)) {
-    w.text(line, 50, { size: 9 });
-    w.down(12);
-  }
-  w.down(14);
-  const top = w.y;
-  w.text("Billed to", 50, { size: 9, bold: true });
-  w.down(13);
-  w.text(`${d.patient.firstName} ${d.patient.lastName}`, 50);
-  w.down(13);
-  for (const line of [d.patient.addressLine1, [d.patient.city, d.patient.postcode].filter(Boolean).join(" ")].filter(Boolean)) {
-    w.text(line, 50);
-    w.down(13);
-  }
-  const bottom = w.y;
-  w.y = top;
-  const meta: [string, string][] = [
+  const payment = kind === "receipt" ? d.payments.find((x) => x.id === paymentId) : undefined;
+  if (kind === "receipt" && !payment) throw new BillingError("There is no such payment on this invoice.", 404);
+  const letterhead = {
+    name: practice.name,
+    lines: [
+      [practice.addressLine1, practice.addressLine2, [practice.city, practice.postcode].filter(Boolean).join(" ")].filter(Boolean).join(", "),
+      [practice.phone, practice.email].filter(Boolean).join(" · "),
+    ].filter(Boolean),
+  };
+  const pdf = await PdfWriter.create({
+    title: `${kind === "invoice" ? "Invoice" : "Receipt"} ${label} — ${practice.name}`,
+    author: practice.name,
+    practice: letterhead,
+    label: kind === "invoice" ? "INVOICE" : "RECEIPT",
+  });
+  const patientName = `${d.patient.firstName} ${d.patient.lastName}`;
+  const patientAddress = [d.patient.addressLine1, [d.patient.city, d.patient.postcode].filter(Boolean).join(" ")].filter(Boolean).join("\n");
+  pdf.keyValues([
+    ["Billed to", [patientName, patientAddress].filter(Boolean).join("\n")],
     ["Invoice number", label],
     ["Issued", d.invoice.issuedAt ? formatDate(d.invoice.issuedAt, tz) : "not yet issued"],
     ["Status", STATUS_WORD[d.invoice.status]],
-  ];
-  for (const [k, v] of meta) {
-    w.text(k, 380, { size: 9, bold: true });
-    w.text(v, 545, { size: 10, right: true });
-    w.down(13);
-  }
-  w.y = Math.min(bottom, w.y) - 16;
+  ]);
 
   if (kind === "invoice") {
-    w.text("Code", 50, { size: 9, bold: true });
-    w.text("Description", 110, { size: 9, bold: true });
-    w.text("Qty", 360, { size: 9, bold: true, right: true });
-    w.text("Unit price", 430, { size: 9, bold: true, right: true });
-    w.text("Tax", 480, { size: 9, bold: true, right: true });
-    w.text("Amount", 545, { size: 9, bold: true, right: true });
-    w.down(6);
-    w.rule();
-    for (const l of d.lines) {
-      w.text(l.code, 50, { size: 9 });
-      w.text(l.description.length > 46 ? `${l.description.slice(0, 45)}…` : l.description, 110, { size: 9 });
-      w.text(String(l.quantity), 360, { size: 9, right: true });
-      w.text(formatMoney(l.unitPriceMinor, cur), 430, { size: 9, right: true });
-      w.text(l.taxCategory === "standard" ? formatRate(d.invoice.taxRateBp) : "exempt", 480, { size: 9, right: true });
-      w.text(formatMoney(l.grossMinor, cur), 545, { size: 9, right: true });
-      w.down(14);
-    }
-    w.rule();
-    const rows: [string, number, boolean?][] = [["Subtotal", d.invoice.subtotalMinor]];
-    if (d.invoice.discountMinor) rows.push(["Discount", -d.invoice.discountMinor]);
-    rows.push([`Tax (${formatRate(d.invoice.taxRateBp)} on standard-rated lines)`, d.invoice.taxMinor], ["Total", d.invoice.totalMinor, true], ["Paid", d.invoice.paidMinor], ["Amount due", d.invoice.totalMinor - d.invoice.paidMinor, true]);
-    for (const [k, v, b] of rows) {
-      w.text(k, 430, { size: b ? 11 : 10, bold: b, right: true });
-      w.text(formatMoney(v, cur), 545, { size: b ? 11 : 10, bold: b, right: true });
-      w.down(15);
-    }
+    pdf.table({
+      size: 9,
+      columns: [
+        { header: "Code", width: 74 },
+        { header: "Description", width: 166 },
+        { header: "Qty", width: 35, align: "right" },
+        { header: "Unit price", width: 75, align: "right" },
+        { header: "Tax", width: 55, align: "right" },
+        { header: "Amount", width: 90, align: "right" },
+      ],
+      rows: d.lines.map((l) => [
+        l.code,
+        l.description,
+        String(l.quantity),
+        formatMoney(l.unitPriceMinor, cur),
+        l.taxCategory === "standard" ? formatRate(d.invoice.taxRateBp) : "exempt",
+        formatMoney(l.grossMinor, cur),
+      ]),
+    });
+    const rows: { label: string; value: string; bold?: boolean }[] = [{ label: "Subtotal", value: formatMoney(d.invoice.subtotalMinor, cur) }];
+    if (d.invoice.discountMinor) rows.push({ label: "Discount", value: formatMoney(-d.invoice.discountMinor, cur) });
+    rows.push(
+      { label: `Tax (${formatRate(d.invoice.taxRateBp)} on standard-rated lines)`, value: formatMoney(d.invoice.taxMinor, cur) },
+      { label: "Total", value: formatMoney(d.invoice.totalMinor, cur), bold: true },
+      { label: "Paid", value: formatMoney(d.invoice.paidMinor, cur) },
+      { label: "Amount due", value: formatMoney(d.invoice.totalMinor - d.invoice.paidMinor, cur), bold: true },
+    );
+    pdf.totals(rows);
   } else {
-    const p = d.payments.find((x) => x.id === paymentId);
-    if (!p) throw new BillingError("There is no such payment on this invoice.", 404);
-    w.text("Payment received", 50, { size: 12, bold: true });
-    w.down(18);
+    const p = payment!;
+    pdf.heading("Payment received", 12);
     const rows: [string, string][] = [
       ["Amount", formatMoney(p.amountMinor, cur)],
       ["Method", METHOD_LABEL[p.method]],
@@ -137,15 +92,11 @@ export async function billingPdf(d: Detail, kind: "invoice" | "receipt", payment
     ];
     if (p.refundedMinor) rows.push(["Refunded since", formatMoney(p.refundedMinor, cur)]);
     if (p.reference) rows.push(["Reference", p.reference]);
-    for (const [k, v] of rows) {
-      w.text(k, 50, { size: 10, bold: true });
-      w.text(v, 220, { size: 10 });
-      w.down(15);
-    }
+    pdf.keyValues(rows, 150);
   }
-  w.down(20);
-  w.text("Thank you. Please quote the invoice number with any question about this bill.", 50, { size: 9, color: [0.29, 0.35, 0.4] });
-  return pdf.save();
+  pdf.spacer(10);
+  pdf.paragraph("Thank you. Please quote the invoice number with any question about this bill.", { size: 9, muted: true });
+  return pdf.finish();
 }
 
 export const STATUS_WORD = { draft: "Draft", open: "Open — awaiting payment", partially_paid: "Part paid", paid: "Paid", void: "Void" } as const;

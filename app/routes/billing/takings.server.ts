@@ -4,6 +4,7 @@
  * received payments less their refunds.
  */
 import { sql } from "drizzle-orm";
+import { isCalendarDate, isCalendarMonth } from "~/lib/dates/calendar-date";
 import { db } from "~/utils/db.server";
 import { invoiceLabel, practiceBilling } from "./invoices.server";
 
@@ -11,9 +12,9 @@ export type Period = { kind: "day"; day: string } | { kind: "month"; month: stri
 
 export function parsePeriod(params: URLSearchParams, today: string): Period {
   const month = params.get("month");
-  if (month && /^\d{4}-(0[1-9]|1[0-2])$/.test(month)) return { kind: "month", month };
+  if (isCalendarMonth(month)) return { kind: "month", month };
   const day = params.get("day");
-  if (day && /^\d{4}-\d{2}-\d{2}$/.test(day) && !Number.isNaN(Date.parse(`${day}T00:00:00Z`))) return { kind: "day", day };
+  if (isCalendarDate(day)) return { kind: "day", day };
   return { kind: "day", day: today };
 }
 

@@ -45,6 +45,7 @@ import { Signatures } from "./signatures";
 import { DirtyContext, ExamInput, ExamSelect, ExamTextarea, SectionForm, sectionAnchor, useDirtyTracker, type SaveReply } from "./exam-form";
 import { examFor, examSettings, formValues, loadExam, previousFinal, promptsFor, saveSection, SectionError, SECTIONS, storedTriage, type Section } from "./exam.server";
 import { DocumentList, UploadForm } from "~/routes/patients/uploads-ui";
+import { parseDecimal } from "~/lib/numbers/decimal";
 import { documentsOf } from "~/routes/patients/documents.server";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -105,6 +106,20 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   };
 }
 
+/** A typed measurement in plain decimal notation (no hexadecimal, exponents or Infinity). */
+const decimalText = (label: string) =>
+  z
+    .string()
+    .trim()
+    .transform((v, ctx) => {
+      const n = parseDecimal(v);
+      if (n === null) {
+        ctx.addIssue({ code: "custom", message: `${label}: write a decimal number, like 8.6.` });
+        return z.NEVER;
+      }
+      return n;
+    });
+
 const addendumSchema = z.object({
   section: z.string().trim().min(1, "Say which part of the exam this corrects.").max(80),
   body: z.string().trim().min(3, "Write the correction (at least a few words).").max(4000),
@@ -113,8 +128,8 @@ const issueSchema = z.object({
   kind: z.enum(["spectacle", "contact_lens"], { error: "Choose spectacle or contact lens." }),
   notes: z.string().trim().max(1000).default(""),
   lensName: z.string().trim().max(120).default(""),
-  baseCurveMm: z.union([z.literal(""), z.coerce.number().min(6, "Base curve 6–10 mm.").max(10, "Base curve 6–10 mm.")]).default(""),
-  diameterMm: z.union([z.literal(""), z.coerce.number().min(8, "Diameter 8–16 mm.").max(16, "Diameter 8–16 mm.")]).default(""),
+  baseCurveMm: z.union([z.literal(""), decimalText("Base curve").pipe(z.number().min(6, "Base curve 6–10 mm.").max(10, "Base curve 6–10 mm."))]).default(""),
+  diameterMm: z.union([z.literal(""), decimalText("Diameter").pipe(z.number().min(8, "Diameter 8–16 mm.").max(16, "Diameter 8–16 mm."))]).default(""),
 });
 
 const fieldErrors = (e: z.ZodError) => {

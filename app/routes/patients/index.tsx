@@ -80,7 +80,7 @@ export default function Patients({ loaderData }: Route.ComponentProps) {
           <label htmlFor="table-q" className="mb-1 block text-sm font-semibold">
             Filter by name, phone or e-mail
           </label>
-          <input id="table-q" name="q" defaultValue={query.q} className="block w-64 rounded-md border border-line bg-white px-3 py-2" />
+          <input id="table-q" type="search" name="q" defaultValue={query.q} className="block w-64 rounded-md border border-line bg-white px-3 py-2" />
         </div>
         <div>
           <label htmlFor="table-filter" className="mb-1 block text-sm font-semibold">

@@ -10,9 +10,11 @@ import { loadLetterhead, PdfWriter } from "~/utils/pdf.server";
 import { formatDate, isUuid } from "./patient-schema";
 import { prescriptionsOf, RX_CAUTIONS } from "./prescriptions.server";
 
-const num = (x: number | null | undefined, d = 2, signed = true) => (x === null || x === undefined ? "" : `${signed && x > 0 ? "+" : ""}${x.toFixed(d)}`);
+/** Printed powers use the true minus sign (U+2212) and the multiplication sign before an axis. */
+const typeset = (s: string) => s.replace(/(^|[\s(/])-(?=\d)/g, "$1\u2212").replace(/ x (?=\d)/g, " \u00d7 ");
+const num = (x: number | null | undefined, d = 2, signed = true) => (x === null || x === undefined ? "" : typeset(`${signed && x > 0 ? "+" : ""}${x.toFixed(d)}`));
 const rxParts = (r: SphCyl): [string, string, string] => {
-  const t = formatRx(r).split(" ");
+  const t = formatRx(r).split(" ").map(typeset);
   return r.cylinder === 0 ? [t[0] ?? "", "DS", ""] : [t[0] ?? "", t[1] ?? "", t[3] ?? ""];
 };
 
@@ -49,7 +51,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
         { header: "Cylinder", width: 65, align: "right" },
         { header: "Axis", width: 45, align: "right" },
         { header: "Add", width: 55, align: "right" },
-        { header: "Prism", width: 55, align: "right" },
+        { header: "Prism (Δ)", width: 55, align: "right" },
         { header: "Base", width: 50 },
         { header: "Vertex", width: 60, align: "right" },
       ],
@@ -73,12 +75,12 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       ],
       rows: rx.eyes.map((e) => {
         const [s, c, a] = rxParts(e);
-        const exact = e.exactSphere !== null ? `${num(e.exactSphere, 3)} / ${num(e.exactCylinder, 3)} x ${e.exactAxis}` : "";
+        const exact = e.exactSphere !== null ? `${num(e.exactSphere, 3)} / ${num(e.exactCylinder, 3)} × ${e.exactAxis}` : "";
         return [e.eye === "right" ? "Right" : "Left", s, c, a, num(e.addPower), e.baseCurveMm ? e.baseCurveMm.toFixed(2) : "", e.diameterMm ? e.diameterMm.toFixed(1) : "", exact];
       }),
     });
     pdf.paragraph(
-      `From the spectacle refraction: ${rx.eyes.map((e) => `${e.eye === "right" ? "R" : "L"} ${formatRx({ sphere: e.spectacleSphere!, cylinder: e.spectacleCylinder!, axis: e.spectacleAxis! })}`).join("; ")}.`,
+      `From the spectacle refraction: ${rx.eyes.map((e) => `${e.eye === "right" ? "R" : "L"} ${typeset(formatRx({ sphere: e.spectacleSphere!, cylinder: e.spectacleCylinder!, axis: e.spectacleAxis! }))}`).join("; ")}.`,
       { size: 9, muted: true },
     );
   }

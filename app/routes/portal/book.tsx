@@ -9,6 +9,8 @@ import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
 import { addDays, localParts } from "~/lib/scheduling";
+import { isCalendarDate } from "~/lib/dates/calendar-date";
+import { readForm } from "~/utils/form.server";
 import { BookingError, bookAppointment } from "~/utils/schedule.server";
 import { redirectWithToast } from "~/utils/toast.server";
 
@@ -18,7 +20,6 @@ const bookSchema = z.object({
   start: z.iso.datetime({ offset: true, error: "Choose a time." }),
 });
 
-const dateSchema = z.string().regex(/^\d{4}-\d{2}-\d{2}$/);
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requirePortalPatient(request);
@@ -28,14 +29,17 @@ export async function loader({ request }: Route.LoaderArgs) {
   const today = localParts(new Date(), settings.timeZone).date;
   const typeId = url.searchParams.get("type") ?? types[0]?.id ?? "";
   const wanted = url.searchParams.get("date");
-  const date = wanted && dateSchema.safeParse(wanted).success && wanted >= today ? wanted : addDays(today, 1);
+  const lastDate = addDays(today, settings.bookingDays);
+  // A real calendar date within the booking horizon; anything else shows tomorrow.
+  const valid = isCalendarDate(wanted);
+  const date = valid && wanted >= today && wanted <= lastDate ? wanted : addDays(today, 1);
   const slots = typeId ? await freeSlots(typeId, date, settings.timeZone) : [];
-  return { types: types.map(({ id, name, durationMinutes }) => ({ id, name, durationMinutes })), typeId, date, today, lastDate: addDays(today, 90), slots, timeZone: settings.timeZone, practice: settings.name };
+  return { types: types.map(({ id, name, durationMinutes }) => ({ id, name, durationMinutes })), typeId, date, today, lastDate, slots, timeZone: settings.timeZone, practice: settings.name };
 }
 
 export async function action({ request }: Route.ActionArgs) {
   const { user, patientId } = await requirePortalPatient(request);
-  const submission = parseWithZod(await request.formData(), { schema: bookSchema });
+  const submission = parseWithZod(await readForm(request), { schema: bookSchema });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
   const v = submission.value;
   // Only kinds of visit the practice opens to online booking.

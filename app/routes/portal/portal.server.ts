@@ -14,10 +14,10 @@ export async function requirePortalPatient(request: Request) {
 
 export async function portalSettings() {
   const [s] = await db
-    .select({ name: practiceSettings.name, phone: practiceSettings.phone, email: practiceSettings.email, timeZone: practiceSettings.timeZone, currency: practiceSettings.currency, cancelCutoffHours: practiceSettings.portalCancelCutoffHours })
+    .select({ name: practiceSettings.name, phone: practiceSettings.phone, email: practiceSettings.email, timeZone: practiceSettings.timeZone, currency: practiceSettings.currency, cancelCutoffHours: practiceSettings.portalCancelCutoffHours, bookingDays: practiceSettings.portalBookingDays })
     .from(practiceSettings)
     .limit(1);
-  return s ?? { name: "The practice", phone: "", email: "", timeZone: "Europe/London", currency: "GBP", cancelCutoffHours: 24 };
+  return s ?? { name: "The practice", phone: "", email: "", timeZone: "Europe/London", currency: "GBP", cancelCutoffHours: 24, bookingDays: 90 };
 }
 
 /** One of the patient's own appointments, or 404 (another patient's id reveals nothing). */

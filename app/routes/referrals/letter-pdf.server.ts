@@ -3,12 +3,12 @@
  * with the rule behind each flag, the exam's measured values, relevant history, the
  * optometrist's signature block and licence number, page numbers and a confidentiality footer
  * on every page. Uploads chosen by the optometrist are appended (PDF pages, JPEG/PNG images)
- * or listed when they cannot be. Nunito Sans is embedded (the .woff, subset).
+ * or listed when they cannot be. Text is set in the shared font chain (PdfFonts: every letter
+ * of Latin, Greek and Cyrillic scripts, symbols such as ≥, Δ and − as themselves) and wrapped by
+ * measured width.
  */
-import { readFile } from "node:fs/promises";
-import { join } from "node:path";
-import fontkit from "@pdf-lib/fontkit";
-import { PDFDocument, rgb, type PDFFont, type PDFPage } from "pdf-lib";
+import { PDFDocument, rgb, type PDFPage } from "pdf-lib";
+import { cleanText, PdfFonts, wrapText, type Face } from "~/utils/pdf.server";
 
 export type LetterAttachment = { name: string; contentType: string; description: string; bytes: Buffer | null };
 
@@ -46,28 +46,15 @@ const MUTED = rgb(0.36, 0.39, 0.45);
 const ACCENT = rgb(0.06, 0.36, 0.42);
 const LINE = rgb(0.8, 0.82, 0.86);
 
-let fontBytes: Promise<[Buffer, Buffer]> | null = null;
-function loadFonts() {
-  const dir = join(process.cwd(), "node_modules", "@fontsource", "nunito-sans", "files");
-  fontBytes ??= Promise.all([readFile(join(dir, "nunito-sans-latin-400-normal.woff")), readFile(join(dir, "nunito-sans-latin-700-normal.woff"))]);
-  return fontBytes;
-}
-
-/** Characters the embedded Latin subset lacks, written in ones it has. */
-const FALLBACK: Record<string, string> = { "≈": "~", "≥": ">=", "≤": "<=", "→": "->", "±": "+/-", "Δ": "delta ", "−": "-" };
-
 class Writer {
   page!: PDFPage;
   y = 0;
-  private chars: Set<number>;
 
   constructor(
     readonly doc: PDFDocument,
-    readonly regular: PDFFont,
-    readonly bold: PDFFont,
+    readonly fonts: PdfFonts,
     private readonly runningHead: string,
   ) {
-    this.chars = new Set(regular.getCharacterSet());
     this.newPage(true);
   }
 
@@ -76,21 +63,23 @@ class Writer {
   }
 
   clean(text: string): string {
-    let out = "";
-    for (const ch of text.replace(/\r/g, "").replace(/\t/g, "  ")) {
-      const cp = ch.codePointAt(0)!;
-      if (ch === "\n" || this.chars.has(cp)) out += ch;
-      else out += FALLBACK[ch] ?? (this.chars.has(63) ? "?" : "");
-    }
-    return out;
+    return cleanText(text);
+  }
+
+  /** One line of text at (x, y) in the font chain. */
+  draw(page: PDFPage, text: string, opts: { x: number; y: number; size: number; face?: Face; color?: ReturnType<typeof rgb> }) {
+    return this.fonts.draw(page, text, opts);
   }
 
   newPage(first = false) {
     this.page = this.doc.addPage([A4.width, A4.height]);
     this.y = A4.height - MARGIN.top;
     if (!first) {
-      this.page.drawText(this.clean(this.runningHead), { x: MARGIN.left, y: this.y, size: 8.5, font: this.regular, color: MUTED });
-      this.y -= 22;
+      for (const line of this.wrap(this.runningHead, "regular", 8.5, this.width)) {
+        this.draw(this.page, line, { x: MARGIN.left, y: this.y, size: 8.5, color: MUTED });
+        this.y -= 11;
+      }
+      this.y -= 11;
     }
   }
 
@@ -98,44 +87,18 @@ class Writer {
     if (this.y - height < MARGIN.bottom) this.newPage();
   }
 
-  wrap(text: string, font: PDFFont, size: number, width: number): string[] {
-    const lines: string[] = [];
-    for (const paragraph of this.clean(text).split("\n")) {
-      const words = paragraph.split(/ +/);
-      let line = "";
-      for (let word of words) {
-        while (font.widthOfTextAtSize(word, size) > width) {
-          // A word longer than the line (an address, a code): break it by characters.
-          let cut = word.length;
-          while (cut > 1 && font.widthOfTextAtSize((line ? line + " " : "") + word.slice(0, cut), size) > width) cut--;
-          if (line && cut <= 1) {
-            lines.push(line);
-            line = "";
-            continue;
-          }
-          lines.push((line ? line + " " : "") + word.slice(0, cut));
-          line = "";
-          word = word.slice(cut);
-        }
-        const next = line ? `${line} ${word}` : word;
-        if (font.widthOfTextAtSize(next, size) > width && line) {
-          lines.push(line);
-          line = word;
-        } else line = next;
-      }
-      lines.push(line);
-    }
-    return lines;
+  wrap(text: string, face: Face, size: number, width: number): string[] {
+    return wrapText(text, width, (line) => this.fonts.width(line, size, face));
   }
 
   text(text: string, opts: { size?: number; bold?: boolean; color?: ReturnType<typeof rgb>; indent?: number; gap?: number } = {}) {
     const size = opts.size ?? 10.5;
-    const font = opts.bold ? this.bold : this.regular;
+    const face: Face = opts.bold ? "bold" : "regular";
     const indent = opts.indent ?? 0;
     const leading = size * 1.38;
-    for (const line of this.wrap(text, font, size, this.width - indent)) {
+    for (const line of this.wrap(text, face, size, this.width - indent)) {
       this.ensure(leading);
-      this.page.drawText(line, { x: MARGIN.left + indent, y: this.y - size, size, font, color: opts.color ?? INK });
+      this.draw(this.page, line, { x: MARGIN.left + indent, y: this.y - size, size, face, color: opts.color ?? INK });
       this.y -= leading;
     }
     this.y -= opts.gap ?? 4;
@@ -160,17 +123,17 @@ class Writer {
     const total = widths.reduce((a, b) => a + b, 0);
     const cols = widths.map((w) => (w / total) * this.width);
     const drawRow = (cells: string[], header: boolean) => {
-      const font = header ? this.bold : this.regular;
-      const wrapped = cells.map((c, i) => this.wrap(c, font, size, cols[i]! - pad * 2));
+      const face: Face = header ? "bold" : "regular";
+      const wrapped = cells.map((c, i) => this.wrap(c, face, size, cols[i]! - pad * 2));
       const height = Math.max(...wrapped.map((w) => w.length)) * leading + pad * 2;
-      return { wrapped, height, font };
+      return { wrapped, height, face };
     };
     const head = drawRow(columns, true);
     const paint = (row: ReturnType<typeof drawRow>, header: boolean) => {
       if (header) this.page.drawRectangle({ x: MARGIN.left, y: this.y - row.height, width: this.width, height: row.height, color: rgb(0.93, 0.96, 0.96) });
       let x = MARGIN.left;
       row.wrapped.forEach((lines, i) => {
-        lines.forEach((line, j) => this.page.drawText(line, { x: x + pad, y: this.y - pad - size - j * leading, size, font: row.font, color: INK }));
+        lines.forEach((line, j) => this.draw(this.page, line, { x: x + pad, y: this.y - pad - size - j * leading, size, face: row.face, color: INK }));
         x += cols[i]!;
       });
       this.y -= row.height;
@@ -193,17 +156,12 @@ class Writer {
 /** Builds the letter; returns the PDF bytes. */
 export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
   const doc = await PDFDocument.create();
-  doc.registerFontkit(fontkit);
-  const [regularBytes, boldBytes] = await loadFonts();
-  const regular = await doc.embedFont(regularBytes, { subset: true });
-  const bold = await doc.embedFont(boldBytes, { subset: true });
+  const fonts = await PdfFonts.create(doc);
   doc.setTitle(`Referral: ${input.patient.name}`);
   doc.setAuthor(input.optometrist.name);
   doc.setSubject(`Referral letter ${input.reference}`);
-  doc.setProducer("Dioptra");
-  doc.setCreator("Dioptra");
 
-  const w = new Writer(doc, regular, bold, `${input.practice.name} · Referral ${input.reference} · ${input.patient.name}, born ${input.patient.dateOfBirth}`);
+  const w = new Writer(doc, fonts, `${input.practice.name} · Referral ${input.reference} · ${input.patient.name}, born ${input.patient.dateOfBirth}`);
 
   // Letterhead.
   w.text(input.practice.name, { size: 18, bold: true, color: ACCENT, gap: 0 });
@@ -295,7 +253,7 @@ export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
       } else if (a.contentType === "image/jpeg" || a.contentType === "image/png") {
         const image = a.contentType === "image/png" ? await doc.embedPng(a.bytes) : await doc.embedJpg(a.bytes);
         const page = doc.addPage([A4.width, A4.height]);
-        page.drawText(w.clean(`Enclosure: ${a.name}`), { x: MARGIN.left, y: A4.height - MARGIN.top, size: 10, font: bold, color: INK });
+        w.draw(page, w.wrap(`Enclosure: ${a.name}`, "bold", 10, A4.width - MARGIN.left - MARGIN.right)[0] ?? "", { x: MARGIN.left, y: A4.height - MARGIN.top, size: 10, face: "bold", color: INK });
         const maxW = A4.width - MARGIN.left - MARGIN.right;
         const maxH = A4.height - MARGIN.top - MARGIN.bottom - 30;
         const scale = Math.min(maxW / image.width, maxH / image.height, 1);
@@ -312,8 +270,8 @@ export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
     const { width } = page.getSize();
     const label = `Page ${i + 1} of ${pages.length}`;
     page.drawLine({ start: { x: MARGIN.left, y: 46 }, end: { x: width - MARGIN.right, y: 46 }, thickness: 0.5, color: LINE });
-    page.drawText(w.clean(CONFIDENTIAL_FOOTER), { x: MARGIN.left, y: 34, size: 7.5, font: regular, color: MUTED, maxWidth: width - MARGIN.left - MARGIN.right - 70 });
-    page.drawText(label, { x: width - MARGIN.right - regular.widthOfTextAtSize(label, 8.5), y: 34, size: 8.5, font: regular, color: MUTED });
+    w.wrap(CONFIDENTIAL_FOOTER, "regular", 7.5, width - MARGIN.left - MARGIN.right - 70).forEach((line, j) => w.draw(page, line, { x: MARGIN.left, y: 34 - j * 9, size: 7.5, color: MUTED }));
+    w.draw(page, label, { x: width - MARGIN.right - fonts.width(label, 8.5), y: 34, size: 8.5, color: MUTED });
   });
 
   return doc.save();

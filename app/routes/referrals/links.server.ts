@@ -32,14 +32,21 @@ export type LinkCheck =
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
-/** Checks the signature first (constant time), then the expiry, then the link row. */
+const B64URL = /^[A-Za-z0-9_-]+$/;
+
+/**
+ * Checks the signature first (constant time), then the expiry, then the link row. Only the
+ * canonical spelling is accepted: the signature is compared as base64url text, not as decoded
+ * bytes, since decoders accept "+" for "-", padding, stray characters and changed spare bits in
+ * the last character, which would let several spellings of one link work.
+ */
 export async function verifyLink(token: string | undefined, now = new Date(), tx: Tx | typeof db = db): Promise<LinkCheck> {
   if (!token || token.length > 400) return { ok: false, reason: "malformed" };
   const [payload, signature, extra] = token.split(".");
-  if (!payload || !signature || extra !== undefined) return { ok: false, reason: "malformed" };
-  const given = Buffer.from(signature, "base64url");
+  if (!payload || !signature || extra !== undefined || !B64URL.test(payload) || !/^[A-Za-z0-9_-]{43}$/.test(signature)) return { ok: false, reason: "malformed" };
+  const given = Buffer.from(signature, "utf8");
   const valid = keys().some((key) => {
-    const expected = mac(key, payload);
+    const expected = Buffer.from(mac(key, payload).toString("base64url"), "utf8");
     return given.length === expected.length && timingSafeEqual(given, expected);
   });
   if (!valid) return { ok: false, reason: "bad signature" };

@@ -760,6 +760,8 @@ async function composeMail(tx: Tx, m: typeof referralMessages.$inferSelect): Pro
       subject: `Referral ${ref} (${urgency}) from ${p.name}`,
       text: `Dear ${loaded.recipient?.name ?? "colleague"},\n\nPlease find attached a referral letter (${urgency.toLowerCase()}) for a patient of ${p.name}. The patient's details are in the attached PDF only.\n\nAt the link below you can acknowledge receipt, give the appointment date and send a short reply or your consult letter back to us. No account is needed; the link works for this referral only and expires on ${expires}.\n\n${url}\n\nWith thanks,\n${sign}\n\nThis e-mail and its attachment are confidential and meant for the named recipient only. If you received them in error, please tell us and delete them.\n`,
       attachments: [{ filename: `referral-${ref}.pdf`, content: Buffer.from(pdf), contentType: "application/pdf" }],
+      // The optometrist's own letter: not marked Auto-Submitted, so the recipient's out-of-office answer reaches us.
+      automatic: false,
     };
   }
   if (m.kind === "chase") {

@@ -271,4 +271,13 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
   );
 }
 
+/** The loader's no-referrer and no-store reach the document (without this export React Router drops them). */
+export const headers: Route.HeadersFunction = ({ loaderHeaders, actionHeaders }) => {
+  const out = new Headers(loaderHeaders);
+  for (const [k, v] of actionHeaders) out.set(k, v);
+  if (!out.has("referrer-policy")) out.set("referrer-policy", "no-referrer");
+  if (!out.has("cache-control")) out.set("cache-control", "no-store");
+  return out;
+};
+
 export const meta: Route.MetaFunction = () => [{ title: "Referral · Dioptra" }, { name: "robots", content: "noindex, nofollow" }, { name: "referrer", content: "no-referrer" }];

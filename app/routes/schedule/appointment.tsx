@@ -121,7 +121,7 @@ export async function action({ request, params }: Route.ActionArgs) {
   return redirectWithToast(`/schedule/appointments/${params.appointmentId}`, { kind: "success", title: "Appointment moved", description: `Now ${formatLocal(submission.value.start, timeZone)}.` });
 }
 
-const KIND_LABEL = { confirmation: "Confirmation", reminder: "Reminder", cancellation: "Cancellation notice" } as const;
+const KIND_LABEL = { confirmation: "Confirmation", reminder: "Reminder", update: "Calendar update (moved)", cancellation: "Cancellation notice" } as const;
 const MSG_LABEL = { queued: "Waiting to send", sent: "Sent", skipped: "Not sent", failed: "Failed" } as const;
 
 export default function AppointmentPage({ loaderData, actionData }: Route.ComponentProps) {
@@ -234,8 +234,8 @@ export default function AppointmentPage({ loaderData, actionData }: Route.Compon
             </Form>
           ) : null}
           <ul className="space-y-2 text-sm">
-            {messages.map((m) => (
-              <li key={m.kind}>
+            {messages.map((m, i) => (
+              <li key={`${m.kind}-${i}`}>
                 <span className="font-semibold">{KIND_LABEL[m.kind]}</span>: {MSG_LABEL[m.status]}
                 {m.sentAt ? ` ${m.sentAt}` : m.status === "queued" ? ` (due ${m.dueAt})` : ""}
                 {m.reason ? ` (${m.reason})` : ""}

@@ -58,14 +58,14 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 const LABEL: Record<MsgStatus, string> = { queued: "Waiting", sent: "Sent", skipped: "Not sent", failed: "Failed" };
 const TONE: Record<MsgStatus, "info" | "success" | "warning" | "error"> = { queued: "info", sent: "success", skipped: "warning", failed: "error" };
-const KIND = { confirmation: "Confirmation", reminder: "Reminder", cancellation: "Cancellation" } as const;
+const KIND = { confirmation: "Confirmation", reminder: "Reminder", update: "Calendar update (moved)", cancellation: "Cancellation" } as const;
 
 export default function Messages({ loaderData }: Route.ComponentProps) {
   const { appointmentMessages: appt, recalls, filter } = loaderData;
   usePolling(10);
   return (
     <>
-      <PageHeader title="E-mail log" description="Confirmations, reminders, cancellation notices and recalls: what went out, what waits, and why any was not sent." />
+      <PageHeader title="E-mail log" description="Confirmations, reminders, calendar updates after moves, cancellation notices and recalls: what went out, what waits, and why any was not sent." />
       <ScheduleNav />
       <Form method="get" className="mb-4 flex items-end gap-3">
         <div>

@@ -2,6 +2,15 @@ import type { Route } from "./+types/stripe";
 import { processStripeEvent } from "~/routes/billing/checkout.server";
 import { emailReceiptQuietly } from "~/routes/billing/documents.server";
 import { verifyWebhook } from "~/utils/payments.server";
+import { z } from "zod";
+
+/** The fields every handled event needs; a signed event without them is refused, not crashed on. */
+const eventShape = z.object({
+  id: z.string().min(1).max(255),
+  type: z.string().min(1).max(255),
+  created: z.number().int().nonnegative(),
+  data: z.object({ object: z.looseObject({ id: z.string().min(1).max(255) }) }),
+});
 
 /**
  * Stripe's webhooks. No session: the signature (Stripe-Signature, checked against
@@ -16,6 +25,11 @@ export async function action({ request }: Route.ActionArgs) {
     event = verifyWebhook(payload, request.headers.get("stripe-signature"));
   } catch (error) {
     return Response.json({ error: `Webhook refused: ${(error as Error).message}` }, { status: 400 });
+  }
+  const shape = eventShape.safeParse(event);
+  if (!shape.success) {
+    const missing = shape.error.issues.map((i) => i.path.join(".") || "(the event)").join(", ");
+    return Response.json({ error: `Webhook refused: the event is missing or has malformed fields: ${missing}.` }, { status: 400 });
   }
   const result = await processStripeEvent(event);
   if (result.receiptPaymentId) await emailReceiptQuietly(result.receiptPaymentId);
