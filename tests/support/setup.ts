@@ -12,3 +12,4 @@ process.env.DIOPTRA_PG_POOL = "60";
 process.env.STRIPE_API_HOST = "127.0.0.1";
 process.env.STRIPE_API_PORT = String(UNIT.stripe);
 process.env.STRIPE_API_PROTOCOL = "http";
+process.env.S3_ENDPOINT = `http://127.0.0.1:${UNIT.s3}`;
