@@ -74,6 +74,7 @@ export default [
         route("recipients", "routes/settings/recipients.tsx"),
         route("appointment-types", "routes/settings/appointment-types.tsx"),
         route("hours", "routes/settings/hours.tsx"),
+        route("sites", "routes/settings/sites.tsx"),
         route("fees", "routes/settings/fees.tsx"),
       ]),
     ]),

@@ -9,7 +9,7 @@ import * as schema from "../app/db/schema";
 import { addDays, localParts, wallTimeToInstant } from "../app/lib/scheduling/time";
 import { addMonths } from "../app/lib/scheduling/recall";
 
-const { appointmentTypes, appointments, appointmentStatusChanges, feeItems, patients, practiceSettings, providerBreaks, users, workingHours } = schema;
+const { appointmentTypes, appointments, appointmentStatusChanges, feeItems, patients, practiceSettings, providerBreaks, rooms, sites, users, workingHours } = schema;
 type Tx = Parameters<Parameters<NodePgDatabase<typeof schema>["transaction"]>[0]>[0];
 
 export const DEMO_TYPES = [
@@ -51,14 +51,23 @@ export async function seedSchedule(tx: Tx) {
     );
   }
 
-  // Working hours: Monday to Friday 09:00–17:30 with lunch 13:00–14:00; the optometrist also Saturday mornings.
+  // Working hours: Monday to Friday 09:00–17:30 with lunch 13:00–14:00; the optometrist also
+  // Saturday mornings. The owner is in Room 1, the optometrist in Room 2, except on Thursdays when
+  // the optometrist works at the part-time Hillcrest Parade site.
   const providers = await tx.select({ id: users.id, role: users.role, email: users.email }).from(users).where(inArray(users.role, ["owner", "optometrist"]));
+  const allSites = await tx.select().from(sites);
+  const allRooms = await tx.select().from(rooms);
+  const main = allSites.find((s) => s.isDefault)!;
+  const second = allSites.find((s) => !s.isDefault);
+  const room = (siteId: string, name: string) => allRooms.find((r) => r.siteId === siteId && r.name === name)?.id ?? null;
   for (const p of providers) {
     const [has] = await tx.select({ id: workingHours.id }).from(workingHours).where(eq(workingHours.providerId, p.id)).limit(1);
     if (has) continue;
     const days = p.role === "optometrist" ? [1, 2, 3, 4, 5, 6] : [1, 2, 3, 4, 5];
-    await tx.insert(workingHours).values(days.map((weekday) => ({ providerId: p.id, weekday, startMinute: 9 * 60, endMinute: weekday === 6 ? 13 * 60 : 17 * 60 + 30 })));
-    await tx.insert(providerBreaks).values(days.filter((d) => d <= 5).map((weekday) => ({ providerId: p.id, weekday, startMinute: 13 * 60, endMinute: 14 * 60, label: "Lunch" })));
+    const where = (weekday: number) =>
+      p.role === "optometrist" && weekday === 4 && second ? { siteId: second.id, roomId: room(second.id, "Consulting room") } : { siteId: main.id, roomId: room(main.id, p.role === "owner" ? "Room 1" : "Room 2") };
+    await tx.insert(workingHours).values(days.map((weekday) => ({ providerId: p.id, weekday, startMinute: 9 * 60, endMinute: weekday === 6 ? 13 * 60 : 17 * 60 + 30, ...where(weekday) })));
+    await tx.insert(providerBreaks).values(days.filter((d) => d <= 5).map((weekday) => ({ providerId: p.id, weekday, startMinute: 13 * 60, endMinute: 14 * 60, label: "Lunch", siteId: where(weekday).siteId })));
   }
 
   // More fictional patients.
@@ -112,13 +121,16 @@ export async function seedSchedule(tx: Tx) {
     if (patientId) plans.push({ patientId, providerId: optometrist.id, typeName, date: day, minute, status });
   }
 
+  const hours = await tx.select().from(workingHours);
   for (const p of plans) {
     const t = type(p.typeName);
     const start = wallTimeToInstant(p.date, p.minute, timeZone);
     if (!t || !start) continue;
+    // At the site and in the room where the provider works that weekday.
+    const day = hours.find((h) => h.providerId === p.providerId && h.weekday === localParts(start, timeZone).weekday);
     const [row] = await tx
       .insert(appointments)
-      .values({ patientId: p.patientId, providerId: p.providerId, appointmentTypeId: t.id, startsAt: start, endsAt: new Date(start.getTime() + t.durationMinutes * 60_000), status: p.status, notes: SEED_NOTE, statusChangedAt: start })
+      .values({ patientId: p.patientId, providerId: p.providerId, appointmentTypeId: t.id, siteId: day?.siteId, roomId: day?.roomId ?? null, startsAt: start, endsAt: new Date(start.getTime() + t.durationMinutes * 60_000), status: p.status, notes: SEED_NOTE, statusChangedAt: start })
       .returning({ id: appointments.id });
     await tx.insert(appointmentStatusChanges).values({ appointmentId: row!.id, toStatus: p.status, changedAt: start });
   }

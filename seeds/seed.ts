@@ -10,6 +10,7 @@ import { DEMO_PASSWORD, DEMO_PATIENT, DEMO_PRACTICE, DEMO_USERS } from "./demo-p
 import { seedPortal } from "./portal";
 import { seedReferrals } from "./referrals";
 import { seedSchedule } from "./schedule";
+import { seedSites } from "./sites";
 
 const { patients, practiceSettings, users } = schema;
 
@@ -20,6 +21,7 @@ export async function seed(url = databaseUrl()) {
   try {
     await db.transaction(async (tx) => {
       await tx.insert(practiceSettings).values({ id: 1, ...DEMO_PRACTICE }).onConflictDoNothing();
+      await seedSites(tx);
       await seedBilling(tx);
 
       let [patient] = await tx

@@ -12,6 +12,12 @@ bash app/ops/db.sh start
 export SMTP_PORT="${SMTP_PORT:-2525}" MAILBOX_API_PORT="${MAILBOX_API_PORT:-2526}"
 export MAILBOX_API_URL="http://127.0.0.1:$MAILBOX_API_PORT"
 start_bg mail "$SMTP_PORT" env MAILBOX_DIR="$ROOT/.data/mail" "$BIN/tsx" app/standins/mail-server.ts
+# The local object-storage stand-in (S3 API), unless real object storage is configured (S3_BUCKET set).
+if [[ -z "${S3_BUCKET:-}" ]]; then
+  export S3_STANDIN_PORT="${S3_STANDIN_PORT:-4569}"
+  export S3_ENDPOINT="http://127.0.0.1:$S3_STANDIN_PORT"
+  start_bg s3 "$S3_STANDIN_PORT" env S3_STANDIN_DIR="$ROOT/.data/s3" "$BIN/tsx" app/standins/s3-server.ts
+fi
 # The local Stripe stand-in, unless real Stripe keys are configured (STRIPE_SECRET_KEY set).
 if [[ -z "${STRIPE_SECRET_KEY:-}" ]]; then
   export STRIPE_API_HOST=127.0.0.1 STRIPE_API_PORT="${STRIPE_API_PORT:-12111}" STRIPE_API_PROTOCOL=http

@@ -7,10 +7,12 @@ cd "$ROOT"
 
 ensure_deps
 
-# System packages the tests use: Chromium for the browser tests, poppler-utils for PDF text.
+# System packages the tests use: Chromium for the browser tests, poppler-utils for PDF text,
+# nginx-light as the load balancer of the scale-out test (tests/e2e/scale-out.e2e.ts).
 missing=()
 [[ -x /usr/bin/chromium ]] || missing+=(chromium)
 command -v pdftotext >/dev/null 2>&1 || missing+=(poppler-utils)
+[[ -x /usr/sbin/nginx ]] || missing+=(nginx-light)
 if ((${#missing[@]})); then
   log "installing Debian packages: ${missing[*]}"
   export DEBIAN_FRONTEND=noninteractive

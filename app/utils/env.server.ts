@@ -29,17 +29,50 @@ const schema = z.object({
   STRIPE_API_HOST: z.string().optional(),
   STRIPE_API_PORT: z.coerce.number().int().positive().optional(),
   STRIPE_API_PROTOCOL: z.enum(["http", "https"]).optional(),
+  /**
+   * Object storage (S3 API) for kept files. Locally: the s3rver stand-in and its default keys.
+   * In production: the provider's endpoint (unset for AWS), bucket, region and credentials (unset
+   * keys: the SDK's default chain, e.g. an instance role).
+   */
+  S3_ENDPOINT: z.string().url().optional(),
+  S3_REGION: z.string().min(1),
+  S3_BUCKET: z.string().regex(/^[a-z0-9][a-z0-9.-]{1,61}[a-z0-9]$/, "a bucket name: 3-63 lower-case letters, digits, dots and dashes"),
+  S3_ACCESS_KEY_ID: z.string().min(1).optional(),
+  S3_SECRET_ACCESS_KEY: z.string().min(1).optional(),
+  S3_FORCE_PATH_STYLE: z
+    .enum(["0", "1", "true", "false"])
+    .default("0")
+    .transform((v) => v === "1" || v === "true"),
+  /** The practice's namespace in the bucket: every key starts with it. */
+  DIOPTRA_PRACTICE_ID: z.string().regex(/^[a-z0-9][a-z0-9-]{0,62}$/, "lower-case letters, digits and dashes").default("practice"),
+}).superRefine((v, ctx) => {
+  if (Boolean(v.S3_ACCESS_KEY_ID) !== Boolean(v.S3_SECRET_ACCESS_KEY)) ctx.addIssue({ code: "custom", path: ["S3_SECRET_ACCESS_KEY"], message: "set both S3_ACCESS_KEY_ID and S3_SECRET_ACCESS_KEY, or neither" });
 });
 
 export type Env = z.infer<typeof schema>;
 
-function load(): Env {
+/** The local S3 stand-in (app/standins/s3-server.ts) with its default keys; never used in production. */
+export const LOCAL_S3 = { endpoint: "http://127.0.0.1:4569", region: "us-east-1", bucket: "dioptra-files", accessKeyId: "S3RVER", secretAccessKey: "S3RVER" } as const;
+
+/** Reads and checks the settings; throws one error naming every problem. */
+export function loadEnv(source: Record<string, string | undefined> = process.env): Env {
+  const production = source.NODE_ENV === "production" && source.DIOPTRA_DEMO !== "1";
+  // Outside production the stand-in is the default; production must name its store explicitly.
+  const local = !production && !source.S3_BUCKET;
   const parsed = schema.safeParse({
-    ...process.env,
-    DATABASE_URL: databaseUrl(),
-    SESSION_SECRET:
-      process.env.SESSION_SECRET ??
-      (process.env.NODE_ENV === "production" && process.env.DIOPTRA_DEMO !== "1" ? undefined : "dioptra-local-development-secret"),
+    ...source,
+    ...(local
+      ? {
+          S3_ENDPOINT: source.S3_ENDPOINT ?? LOCAL_S3.endpoint,
+          S3_REGION: source.S3_REGION ?? LOCAL_S3.region,
+          S3_BUCKET: LOCAL_S3.bucket,
+          S3_ACCESS_KEY_ID: source.S3_ACCESS_KEY_ID ?? LOCAL_S3.accessKeyId,
+          S3_SECRET_ACCESS_KEY: source.S3_SECRET_ACCESS_KEY ?? LOCAL_S3.secretAccessKey,
+          S3_FORCE_PATH_STYLE: source.S3_FORCE_PATH_STYLE ?? "1",
+        }
+      : {}),
+    DATABASE_URL: source === process.env ? databaseUrl() : (source.DATABASE_URL ?? databaseUrl()),
+    SESSION_SECRET: source.SESSION_SECRET ?? (production ? undefined : "dioptra-local-development-secret"),
   });
   if (!parsed.success) {
     const problems = parsed.error.issues.map((i) => `${i.path.join(".")}: ${i.message}`).join("; ");
@@ -48,7 +81,7 @@ function load(): Env {
   return parsed.data;
 }
 
-export const env = load();
+export const env = loadEnv();
 
 /** The only values that reach the browser. */
 export function publicEnv() {

@@ -6,9 +6,9 @@
  * it sent in the same transaction, so a message is never sent twice; a failed send is retried
  * with back-off and the row keeps the last error for the front desk's log.
  */
-import { and, eq } from "drizzle-orm";
+import { and, eq, sql } from "drizzle-orm";
 import { buildIcs } from "~/lib/calendar/ics";
-import { appointmentMessages, appointments, appointmentTypes, patients, users } from "~/db/schema";
+import { appointmentMessages, appointments, appointmentTypes, patients, rooms, sites, users } from "~/db/schema";
 import { formatLocal } from "~/lib/scheduling/time";
 import { db, type Tx } from "./db.server";
 import { defineJob } from "./jobs.server";
@@ -109,12 +109,20 @@ type Loaded = {
   patient: { firstName: string; lastName: string; email: string | null; remindersByEmail: boolean };
   typeName: string;
   providerName: string;
+  /** Where the visit is; without it the practice's own address is given. */
+  site?: { name: string; addressLine1: string; city: string; phone: string; siteCount: number } | null;
+  roomName?: string | null;
 };
 
 export function composeAppointmentMail(l: Loaded, settings: Settings): Mail {
   const when = formatLocal(l.appt.startsAt, settings.timeZone);
-  const place = [settings.name, settings.addressLine1, settings.city].filter(Boolean).join(", ");
-  const phone = settings.phone ? ` on ${settings.phone}` : "";
+  // The site's address (and room) when the practice has several sites; else the practice's.
+  const site = l.site && l.site.siteCount > 1 ? l.site : null;
+  const place = site
+    ? [`${settings.name} at ${site.name}`, site.addressLine1, site.city, l.roomName].filter(Boolean).join(", ")
+    : [settings.name, settings.addressLine1, settings.city].filter(Boolean).join(", ");
+  const phoneNumber = site?.phone || settings.phone;
+  const phone = phoneNumber ? ` on ${phoneNumber}` : "";
   const hello = `Dear ${l.patient.firstName} ${l.patient.lastName},`;
   const what = `${l.typeName} with ${l.providerName}`;
   const kind = l.message.kind;
@@ -189,12 +197,16 @@ export async function deliverAppointmentMessage(messageId: string, job: { retryC
           patient: { firstName: patients.firstName, lastName: patients.lastName, email: patients.email, remindersByEmail: patients.remindersByEmail },
           typeName: appointmentTypes.name,
           providerName: users.name,
+          site: { name: sites.name, addressLine1: sites.addressLine1, city: sites.city, phone: sites.phone, siteCount: sql<number>`(select count(*)::int from sites where active)` },
+          roomName: rooms.name,
         })
         .from(appointmentMessages)
         .innerJoin(appointments, eq(appointments.id, appointmentMessages.appointmentId))
         .innerJoin(patients, eq(patients.id, appointments.patientId))
         .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
         .innerJoin(users, eq(users.id, appointments.providerId))
+        .innerJoin(sites, eq(sites.id, appointments.siteId))
+        .leftJoin(rooms, eq(rooms.id, appointments.roomId))
         .where(eq(appointmentMessages.id, messageId))
         .for("update", { of: appointmentMessages });
       if (!row || row.message.status === "sent" || row.message.status === "skipped") return "already done";

@@ -4,8 +4,8 @@
  * names the clashing appointment. Used by the schedule pages and by the JSON API alike.
  */
 import { and, asc, eq, gt, inArray, lt, ne, sql } from "drizzle-orm";
-import { appointmentMessages, appointments, appointmentStatusChanges, appointmentTypes, exams, patients, providerBreaks, users, workingHours } from "~/db/schema";
-import { checkWorkingHours } from "~/lib/scheduling/hours";
+import { appointmentMessages, appointments, appointmentStatusChanges, appointmentTypes, exams, patients, providerBreaks, rooms, sites, users, workingHours } from "~/db/schema";
+import { checkWorkingHours, WEEKDAY_NAMES } from "~/lib/scheduling/hours";
 import { canChangeStatus, isMovable, LIVE_STATUSES, STATUS_LABEL, type Status } from "~/lib/scheduling/status";
 import { formatLocal, localParts, zonedIsoFormatter } from "~/lib/scheduling/time";
 import { audit } from "./audit.server";
@@ -84,9 +84,25 @@ async function clashError(providerId: string, start: Date, end: Date, timeZone: 
   return new BookingError(409, `Not booked: ${what} Choose another time or provider.`, { start: [what] }, clash);
 }
 
-type SlotInput = { providerId: string; appointmentTypeId: string; start: Date; end?: Date };
+async function roomClashError(roomId: string, start: Date, end: Date, timeZone: string, excludeId?: string): Promise<BookingError> {
+  const [room] = await db.select({ name: rooms.name, site: sites.name }).from(rooms).innerJoin(sites, eq(sites.id, rooms.siteId)).where(eq(rooms.id, roomId));
+  const [other] = await db
+    .select({ start: appointments.startsAt, end: appointments.endsAt, providerName: users.name })
+    .from(appointments)
+    .innerJoin(users, eq(users.id, appointments.providerId))
+    .where(and(eq(appointments.roomId, roomId), inArray(appointments.status, [...LIVE_STATUSES]), lt(appointments.startsAt, end), gt(appointments.endsAt, start), excludeId ? ne(appointments.id, excludeId) : undefined))
+    .limit(1);
+  const what = `${room?.name ?? "The room"} at ${room?.site ?? "the site"} is in use${other ? ` by ${other.providerName} from ${formatLocal(other.start, timeZone)} to ${formatLocal(other.end, timeZone, { withDate: false })}` : " at that time"}.`;
+  return new BookingError(409, `Not booked: ${what} Choose another room or time.`, { roomId: [what] });
+}
 
-/** Checks everything except overlap (the database enforces that); answers the end time to use. */
+type SlotInput = { providerId: string; appointmentTypeId: string; start: Date; end?: Date; siteId?: string; roomId?: string | null };
+
+/**
+ * Checks everything except overlap (the database enforces that of providers and of rooms);
+ * answers the end time, the site and the room to use. Without a site the booking goes where the
+ * provider works that day; without a room, to the room the provider has that day (if any).
+ */
 async function validateSlot(tx: Tx, input: SlotInput, timeZone: string, opts: { allowPast?: boolean; horizonDays?: number } = {}) {
   const errors: FieldErrors = {};
   const [type] = await tx.select().from(appointmentTypes).where(eq(appointmentTypes.id, input.appointmentTypeId));
@@ -105,15 +121,40 @@ async function validateSlot(tx: Tx, input: SlotInput, timeZone: string, opts: { 
     const msg = `Bookings can be made at most ${opts.horizonDays} days ahead (until ${localParts(new Date(Date.now() + opts.horizonDays * 86_400_000), timeZone).date}).`;
     throw new BookingError(422, msg, { start: [msg] });
   }
+  let site: { id: string; name: string; timeZone: string; active: boolean } | undefined;
+  if (input.siteId) {
+    [site] = await tx.select({ id: sites.id, name: sites.name, timeZone: sites.timeZone, active: sites.active }).from(sites).where(eq(sites.id, input.siteId));
+    if (!site || !site.active) throw new BookingError(404, "No such site.", { siteId: ["No such site (or it is closed)."] });
+  }
+  const zone = site?.timeZone ?? timeZone;
   const hours = await tx.select().from(workingHours).where(eq(workingHours.providerId, input.providerId));
   if (!hours.length) {
     const msg = `${provider!.name} has no working hours set yet; the practice owner sets them under Settings → Working hours.`;
     throw new BookingError(422, msg, { start: [msg] });
   }
   const breaks = await tx.select().from(providerBreaks).where(eq(providerBreaks.providerId, input.providerId));
-  const check = checkWorkingHours(input.start, end, timeZone, hours, breaks);
+  const check = checkWorkingHours(input.start, end, zone, hours, breaks);
   if (!check.ok) throw new BookingError(422, check.reason, { start: [check.reason] });
-  return { type: type!, provider: provider!, end };
+  // The day's working hours say where the provider is; a booking at another site is refused.
+  const weekday = localParts(input.start, zone).weekday;
+  const day = hours.find((h) => h.weekday === weekday)!;
+  if (site && day.siteId !== site.id) {
+    const [there] = await tx.select({ name: sites.name }).from(sites).where(eq(sites.id, day.siteId));
+    const msg = `${provider!.name} works at ${there?.name ?? "another site"} on ${WEEKDAY_NAMES[weekday - 1]}s, not at ${site.name}. Choose another day, provider or site.`;
+    throw new BookingError(422, msg, { siteId: [msg] });
+  }
+  const siteId = day.siteId;
+  let roomId: string | null = input.roomId === undefined ? day.roomId : input.roomId;
+  if (input.roomId) {
+    const [room] = await tx.select({ id: rooms.id, siteId: rooms.siteId, name: rooms.name, active: rooms.active }).from(rooms).where(eq(rooms.id, input.roomId));
+    const [siteName] = await tx.select({ name: sites.name }).from(sites).where(eq(sites.id, siteId));
+    if (!room || !room.active || room.siteId !== siteId) {
+      const msg = room ? `${room.name} is not a room at ${siteName?.name ?? "this site"}; choose one of its rooms.` : `No such room at ${siteName?.name ?? "this site"}.`;
+      throw new BookingError(422, msg, { roomId: [msg] });
+    }
+    roomId = room.id;
+  }
+  return { type: type!, provider: provider!, end, siteId, roomId };
 }
 
 /** How far ahead `actor` may book: the portal's horizon for patients, the team's for staff (practice settings). */
@@ -121,30 +162,33 @@ export function bookingHorizonDays(actor: { role: string }, settings: { portalBo
   return actor.role === "patient" ? settings.portalBookingDays : settings.staffBookingDays;
 }
 
-export type BookingInput = { patientId: string; providerId: string; appointmentTypeId: string; start: Date; end?: Date; notes?: string };
+export type BookingInput = { patientId: string; providerId: string; appointmentTypeId: string; start: Date; end?: Date; notes?: string; siteId?: string; roomId?: string | null };
 
 /** Books an appointment, queues its confirmation and reminder e-mails, all in one transaction. */
 export async function bookAppointment(actor: SessionUser, input: BookingInput, request?: Request) {
   const settings = await practiceSchedule();
   let end = input.end ?? input.start;
+  let roomId: string | null = null;
   try {
     return await db.transaction(async (tx) => {
       const [patient] = await tx.select({ id: patients.id }).from(patients).where(eq(patients.id, input.patientId));
       if (!patient) throw new BookingError(404, "No such patient.", { patientId: ["No such patient."] });
-      ({ end } = await validateSlot(tx, input, settings.timeZone, { horizonDays: bookingHorizonDays(actor, settings) }));
+      const slot = await validateSlot(tx, input, settings.timeZone, { horizonDays: bookingHorizonDays(actor, settings) });
+      ({ end, roomId } = slot);
       const [row] = await tx
         .insert(appointments)
-        .values({ patientId: input.patientId, providerId: input.providerId, appointmentTypeId: input.appointmentTypeId, startsAt: input.start, endsAt: end, notes: input.notes ?? "", createdById: actor.id, statusChangedById: actor.id })
+        .values({ patientId: input.patientId, providerId: input.providerId, appointmentTypeId: input.appointmentTypeId, siteId: slot.siteId, roomId, startsAt: input.start, endsAt: end, notes: input.notes ?? "", createdById: actor.id, statusChangedById: actor.id })
         .returning();
       await tx.insert(appointmentStatusChanges).values({ appointmentId: row!.id, fromStatus: null, toStatus: "booked", changedById: actor.id });
       await queueAppointmentMessage(tx, row!, "confirmation", settings);
       await queueAppointmentMessage(tx, row!, "reminder", settings);
-      await audit({ action: "appointment.booked", actorUserId: actor.id, entityType: "appointment", entityId: row!.id, patientId: input.patientId, detail: { start: input.start.toISOString(), end: end.toISOString(), providerId: input.providerId }, request }, tx);
+      await audit({ action: "appointment.booked", actorUserId: actor.id, entityType: "appointment", entityId: row!.id, patientId: input.patientId, detail: { start: input.start.toISOString(), end: end.toISOString(), providerId: input.providerId, siteId: slot.siteId, roomId }, request }, tx);
       return row!;
     });
   } catch (error) {
     const { code, constraint } = pgCode(error);
     if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_provider_overlap") throw await clashError(input.providerId, input.start, end, settings.timeZone);
+    if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_room_overlap") throw await roomClashError(roomId!, input.start, end, settings.timeZone);
     if (code === PG_CHECK_VIOLATION) throw new BookingError(422, "The end must be after the start.", { end: ["The end must be after the start."] });
     throw error;
   }
@@ -157,10 +201,11 @@ async function loadForUpdate(tx: Tx, id: string) {
 }
 
 /** Moves and/or resizes an appointment (drag, resize, or a new provider), re-checking every rule. */
-export async function moveAppointment(actor: SessionUser, id: string, change: { start: Date; end?: Date; providerId?: string }, request?: Request) {
+export async function moveAppointment(actor: SessionUser, id: string, change: { start: Date; end?: Date; providerId?: string; siteId?: string; roomId?: string | null }, request?: Request) {
   const settings = await practiceSchedule();
   let providerId = change.providerId;
   let end = change.end;
+  let roomId: string | null = null;
   try {
     return await db.transaction(async (tx) => {
       const current = await loadForUpdate(tx, id);
@@ -168,10 +213,13 @@ export async function moveAppointment(actor: SessionUser, id: string, change: { 
       providerId ??= current.providerId;
       const duration = current.endsAt.getTime() - current.startsAt.getTime();
       end ??= new Date(change.start.getTime() + duration);
-      await validateSlot(tx, { providerId, appointmentTypeId: current.appointmentTypeId, start: change.start, end }, settings.timeZone, { horizonDays: bookingHorizonDays(actor, settings) });
+      // The site follows where the provider works on the new day unless one is asked for; the room
+      // is kept when the site stays the same, else the provider's room there that day.
+      const probe = await validateSlot(tx, { providerId, appointmentTypeId: current.appointmentTypeId, start: change.start, end, siteId: change.siteId, roomId: change.roomId }, settings.timeZone, { horizonDays: bookingHorizonDays(actor, settings) });
+      roomId = change.roomId !== undefined || probe.siteId !== current.siteId ? probe.roomId : current.roomId;
       const [row] = await tx
         .update(appointments)
-        .set({ startsAt: change.start, endsAt: end, providerId, updatedAt: new Date(), revision: sql`${appointments.revision} + 1` })
+        .set({ startsAt: change.start, endsAt: end, providerId, siteId: probe.siteId, roomId, updatedAt: new Date(), revision: sql`${appointments.revision} + 1` })
         .where(eq(appointments.id, id))
         .returning();
       await rescheduleReminder(tx, row!, settings);
@@ -194,6 +242,7 @@ export async function moveAppointment(actor: SessionUser, id: string, change: { 
   } catch (error) {
     const { code, constraint } = pgCode(error);
     if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_provider_overlap") throw await clashError(providerId!, change.start, end!, settings.timeZone, id);
+    if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_room_overlap") throw await roomClashError(roomId!, change.start, end!, settings.timeZone, id);
     if (code === PG_CHECK_VIOLATION) throw new BookingError(422, "The end must be after the start.", { end: ["The end must be after the start."] });
     throw error;
   }
@@ -244,6 +293,10 @@ export async function changeStatus(actor: SessionUser, id: string, to: Status, r
       const [a] = await db.select().from(appointments).where(eq(appointments.id, id));
       throw await clashError(a!.providerId, a!.startsAt, a!.endsAt, settings.timeZone, id);
     }
+    if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_room_overlap") {
+      const [a] = await db.select().from(appointments).where(eq(appointments.id, id));
+      throw await roomClashError(a!.roomId!, a!.startsAt, a!.endsAt, settings.timeZone, id);
+    }
     throw error;
   }
 }
@@ -258,10 +311,13 @@ export type CalendarEvent = {
   patientId: string;
   patientName: string;
   typeName: string;
+  siteId: string;
+  siteName: string;
+  roomName: string | null;
 };
 
 /** Appointments overlapping [start, end), optionally of one provider; cancelled ones only on request. */
-export async function appointmentsBetween(start: Date, end: Date, opts: { providerId?: string; includeCancelled?: boolean } = {}): Promise<CalendarEvent[]> {
+export async function appointmentsBetween(start: Date, end: Date, opts: { providerId?: string; siteId?: string; includeCancelled?: boolean } = {}): Promise<CalendarEvent[]> {
   const rows = await db
     .select({
       id: appointments.id,
@@ -274,11 +330,16 @@ export async function appointmentsBetween(start: Date, end: Date, opts: { provid
       first: patients.firstName,
       last: patients.lastName,
       typeName: appointmentTypes.name,
+      siteId: appointments.siteId,
+      siteName: sites.name,
+      roomName: rooms.name,
     })
     .from(appointments)
     .innerJoin(patients, eq(patients.id, appointments.patientId))
     .innerJoin(users, eq(users.id, appointments.providerId))
     .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
+    .innerJoin(sites, eq(sites.id, appointments.siteId))
+    .leftJoin(rooms, eq(rooms.id, appointments.roomId))
     .where(
       and(
         lt(appointments.startsAt, end),
@@ -286,6 +347,7 @@ export async function appointmentsBetween(start: Date, end: Date, opts: { provid
         // Appointments never exceed 8 hours, so the start index bounds the scan from below.
         gt(appointments.startsAt, new Date(start.getTime() - 8 * 3_600_000)),
         opts.providerId ? eq(appointments.providerId, opts.providerId) : undefined,
+        opts.siteId ? eq(appointments.siteId, opts.siteId) : undefined,
         opts.includeCancelled ? undefined : inArray(appointments.status, [...LIVE_STATUSES, "no_show"]),
       ),
     )
@@ -299,10 +361,11 @@ export async function appointmentsBetween(start: Date, end: Date, opts: { provid
  * milliseconds) and formats offsets with a per-quarter-hour cache: measured twice as fast as
  * building the JSON in PostgreSQL or mapping rows through the ORM (tests/bench/appointments.bench.ts).
  */
-export async function calendarEventsJson(start: Date, end: Date, timeZone: string, opts: { providerId?: string; includeCancelled?: boolean } = {}): Promise<string> {
+export async function calendarEventsJson(start: Date, end: Date, timeZone: string, opts: { providerId?: string; siteId?: string; includeCancelled?: boolean } = {}): Promise<string> {
   const statuses: string[] = opts.includeCancelled ? [...LIVE_STATUSES, "no_show", "cancelled"] : [...LIVE_STATUSES, "no_show"];
   const values: unknown[] = [end.toISOString(), start.toISOString(), new Date(start.getTime() - 8 * 3_600_000).toISOString(), statuses];
   if (opts.providerId) values.push(opts.providerId);
+  if (opts.siteId) values.push(opts.siteId);
   const result = await pool.query<string[]>({
     text: `select a.id, (extract(epoch from a.starts_at) * 1000)::bigint::text, (extract(epoch from a.ends_at) * 1000)::bigint::text,
                   a.status::text, a.provider_id, u.name, a.patient_id, p.first_name || ' ' || p.last_name, t.name
@@ -312,6 +375,7 @@ export async function calendarEventsJson(start: Date, end: Date, timeZone: strin
              join appointment_types t on t.id = a.appointment_type_id
             where a.starts_at < $1 and a.ends_at > $2 and a.starts_at > $3 and a.status::text = any($4)
               ${opts.providerId ? "and a.provider_id = $5" : ""}
+              ${opts.siteId ? `and a.site_id = $${values.length}` : ""}
             order by a.starts_at, a.id`,
     values,
     rowMode: "array",

@@ -19,7 +19,7 @@ export const DEMO = {
 } as const;
 export const DEMO_PASSWORD = "demo-password";
 
-const CHROMIUM_ARGS = [
+export const CHROMIUM_ARGS = [
   "--no-sandbox",
   "--disable-gpu",
   "--disable-dev-shm-usage",

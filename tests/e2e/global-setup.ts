@@ -2,7 +2,7 @@ import { existsSync } from "node:fs";
 import { join } from "node:path";
 import type { TestProject } from "vitest/node";
 import { BUILD_DIR, E2E } from "../support/ports";
-import { freshDatabase, prepareJobQueues, ROOT, startMailStandIn, startProcess, startStripeStandIn, stopProcess, waitForPort } from "../support/services";
+import { freshDatabase, prepareJobQueues, ROOT, s3Env, startMailStandIn, startProcess, startS3StandIn, startStripeStandIn, stopProcess, waitForPort } from "../support/services";
 
 /**
  * Browser tests run against the production build served by react-router-serve, with a fresh
@@ -15,6 +15,7 @@ export default async function setup(project: TestProject) {
   const mail = await startMailStandIn(E2E.smtp, E2E.mailApi);
   const baseUrl = `http://127.0.0.1:${E2E.app}`;
   const stripe = await startStripeStandIn(E2E.stripe, `${baseUrl}/api/webhooks/stripe`);
+  const s3 = await startS3StandIn(E2E.s3);
   const app = startProcess("app", join(ROOT, "node_modules/.bin/react-router-serve"), [`${BUILD_DIR}/server/index.js`], {
     NODE_ENV: "production",
     HOST: "127.0.0.1",
@@ -27,6 +28,7 @@ export default async function setup(project: TestProject) {
     STRIPE_API_HOST: "127.0.0.1",
     STRIPE_API_PORT: String(E2E.stripe),
     STRIPE_API_PROTOCOL: "http",
+    ...s3Env(E2E.s3),
   });
   // The job worker (reminder and other e-mails), as npm start runs it beside the app.
   const workerPort = E2E.smtp + 3;
@@ -36,6 +38,7 @@ export default async function setup(project: TestProject) {
     APP_URL: baseUrl,
     WORKER_PORT: String(workerPort),
     WORKER_POLL_SECONDS: "0.5",
+    ...s3Env(E2E.s3),
   });
   await waitForPort(E2E.app, 60_000);
   await waitForPort(workerPort, 60_000);
@@ -48,6 +51,7 @@ export default async function setup(project: TestProject) {
     await stopProcess(worker);
     await stopProcess(mail);
     await stopProcess(stripe);
+    await stopProcess(s3);
   };
 }
 

@@ -90,6 +90,21 @@ export async function startStripeStandIn(port: number, webhookUrl: string) {
   return child;
 }
 
+/** The object-storage stand-in (s3rver) on its own port with an empty folder and the app's bucket. */
+export async function startS3StandIn(port: number) {
+  const dir = join(ROOT, ".data", `test-s3-${port}`);
+  rmSync(dir, { recursive: true, force: true });
+  mkdirSync(dir, { recursive: true });
+  const child = startProcess("s3", join(ROOT, "node_modules/.bin/tsx"), ["app/standins/s3-server.ts"], { S3_STANDIN_PORT: String(port), S3_STANDIN_DIR: dir });
+  await waitForPort(port);
+  return child;
+}
+
+/** Environment that points the app (or a test process) at the object-storage stand-in on `port`. */
+export function s3Env(port: number): Record<string, string> {
+  return { S3_ENDPOINT: `http://127.0.0.1:${port}`, S3_REGION: "us-east-1", S3_ACCESS_KEY_ID: "S3RVER", S3_SECRET_ACCESS_KEY: "S3RVER", S3_FORCE_PATH_STYLE: "1" };
+}
+
 /** The mail stand-in on its own ports with an empty mailbox folder. */
 export async function startMailStandIn(smtpPort: number, apiPort: number) {
   const dir = join(ROOT, ".data", `test-mail-${smtpPort}`);

@@ -13,3 +13,4 @@ process.env.STRIPE_API_HOST = "127.0.0.1";
 process.env.STRIPE_API_PORT = String(UNIT.stripe);
 process.env.STRIPE_API_PROTOCOL = "http";
 process.env.TRUST_PROXY = "1";
+process.env.S3_ENDPOINT = `http://127.0.0.1:${UNIT.s3}`;

@@ -3,6 +3,7 @@ import { bigint, boolean, check, index, integer, jsonb, pgEnum, pgTable, text, t
 import { users } from "./auth";
 import { exams } from "./exams";
 import { patients } from "./patients";
+import { defaultSiteId, sites } from "./sites";
 
 /**
  * How a line is taxed: "standard" at the practice's tax rate, "exempt" at none.
@@ -48,6 +49,11 @@ export const invoices = pgTable(
       .notNull()
       .references(() => patients.id, { onDelete: "restrict" }),
     examId: uuid().references(() => exams.id, { onDelete: "set null" }),
+    /** The site that issues the invoice (its address on the PDF; takings per site). */
+    siteId: uuid()
+      .notNull()
+      .default(defaultSiteId)
+      .references(() => sites.id, { onDelete: "restrict" }),
     status: invoiceStatusEnum().notNull().default("draft"),
     currency: text().notNull(),
     /** Tax rate for standard-rated lines, basis points (2000 = 20 %), copied from the setting. */
@@ -74,6 +80,7 @@ export const invoices = pgTable(
     index("invoices_status_created_idx").on(t.status, t.createdAt),
     index("invoices_patient_idx").on(t.patientId),
     index("invoices_exam_idx").on(t.examId),
+    index("invoices_site_idx").on(t.siteId),
     check("invoices_number_when_issued", sql`(${t.status} = 'draft') = (${t.number} is null)`),
     check("invoices_amounts_nonneg", sql`${t.subtotalMinor} >= 0 and ${t.discountMinor} >= 0 and ${t.taxMinor} >= 0 and ${t.totalMinor} >= 0`),
     check("invoices_paid_range", sql`${t.paidMinor} >= 0 and ${t.paidMinor} <= ${t.totalMinor}`),

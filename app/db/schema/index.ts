@@ -10,3 +10,4 @@ export * from "./prescriptions";
 export * from "./referrals";
 export * from "./relations";
 export * from "./schedule";
+export * from "./sites";

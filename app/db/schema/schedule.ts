@@ -1,8 +1,9 @@
 import { sql } from "drizzle-orm";
-import { bigint, boolean, check, date, index, integer, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import { bigint, boolean, check, date, foreignKey, index, integer, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
 import { roleEnum, users } from "./auth";
 import { feeItems } from "./billing";
 import { patients } from "./patients";
+import { defaultSiteId, rooms, sites } from "./sites";
 
 /** Kinds of visit the practice offers; the owner keeps them. */
 export const appointmentTypes = pgTable(
@@ -52,6 +53,13 @@ export const appointments = pgTable(
     appointmentTypeId: uuid()
       .notNull()
       .references(() => appointmentTypes.id, { onDelete: "restrict" }),
+    /** Where the visit is (the default site unless given). */
+    siteId: uuid()
+      .notNull()
+      .default(defaultSiteId)
+      .references(() => sites.id, { onDelete: "restrict" }),
+    /** The room, which must be at the same site (composite foreign key); none = not assigned. */
+    roomId: uuid(),
     startsAt: timestamp({ withTimezone: true }).notNull(),
     endsAt: timestamp({ withTimezone: true }).notNull(),
     status: appointmentStatusEnum().notNull().default("booked"),
@@ -72,6 +80,8 @@ export const appointments = pgTable(
     index("appointments_provider_start_idx").on(t.providerId, t.startsAt),
     index("appointments_start_idx").on(t.startsAt),
     index("appointments_patient_idx").on(t.patientId, t.startsAt),
+    index("appointments_site_start_idx").on(t.siteId, t.startsAt),
+    foreignKey({ name: "appointments_room_at_site_fk", columns: [t.roomId, t.siteId], foreignColumns: [rooms.id, rooms.siteId] }).onDelete("restrict"),
   ],
 );
 
@@ -93,7 +103,8 @@ export const appointmentStatusChanges = pgTable(
 
 /**
  * A provider's working hours: one span per weekday (ISO weekday 1 = Monday … 7 = Sunday),
- * in minutes after local midnight in the practice's time zone. No row: not working that day.
+ * in minutes after local midnight in the site's time zone, at one site (and optionally one
+ * room) that day, so a clinician can work at different sites on different days. No row: not working.
  */
 export const workingHours = pgTable(
   "working_hours",
@@ -102,18 +113,25 @@ export const workingHours = pgTable(
     providerId: uuid()
       .notNull()
       .references(() => users.id, { onDelete: "cascade" }),
+    siteId: uuid()
+      .notNull()
+      .default(defaultSiteId)
+      .references(() => sites.id, { onDelete: "restrict" }),
+    /** The room the provider uses that day; bookings without a room take it. */
+    roomId: uuid(),
     weekday: integer().notNull(),
     startMinute: integer().notNull(),
     endMinute: integer().notNull(),
   },
   (t) => [
     uniqueIndex("working_hours_provider_day_uq").on(t.providerId, t.weekday),
+    foreignKey({ name: "working_hours_room_at_site_fk", columns: [t.roomId, t.siteId], foreignColumns: [rooms.id, rooms.siteId] }).onDelete("restrict"),
     check("working_hours_weekday", sql`${t.weekday} between 1 and 7`),
     check("working_hours_span", sql`${t.startMinute} >= 0 and ${t.endMinute} <= 1440 and ${t.endMinute} > ${t.startMinute}`),
   ],
 );
 
-/** Breaks inside a provider's working day (lunch, admin), same units as working_hours. */
+/** Breaks inside a provider's working day (lunch, admin), same units and site as working_hours. */
 export const providerBreaks = pgTable(
   "provider_breaks",
   {
@@ -121,6 +139,10 @@ export const providerBreaks = pgTable(
     providerId: uuid()
       .notNull()
       .references(() => users.id, { onDelete: "cascade" }),
+    siteId: uuid()
+      .notNull()
+      .default(defaultSiteId)
+      .references(() => sites.id, { onDelete: "restrict" }),
     weekday: integer().notNull(),
     startMinute: integer().notNull(),
     endMinute: integer().notNull(),

@@ -8,7 +8,8 @@ import { z } from "zod";
 /**
  * GET /api/appointments?start=&end=&provider= — the calendar's events, times as ISO 8601 with
  * the practice zone's offset. `start`/`end` with an offset are instants; without one they are
- * wall times in the practice's zone (as the calendar sends them). `provider` is a user id or "all".
+ * wall times in the practice's zone (as the calendar sends them). `provider` is a user id or "all",
+ * `site` a site id or "all".
  */
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, STAFF_ROLES);
@@ -19,14 +20,15 @@ export async function loader({ request }: Route.LoaderArgs) {
       start: isoTime(timeZone, "start"),
       end: isoTime(timeZone, "end"),
       provider: z.union([z.literal("all"), z.uuid({ error: "provider must be a user id or all." })]).default("all"),
+      site: z.union([z.literal("all"), z.uuid({ error: "site must be a site id or all." })]).default("all"),
       includeCancelled: z.enum(["0", "1"]).default("0"),
     })
     .refine((v) => v.end > v.start, { message: "end must be after start.", path: ["end"] })
     .refine((v) => v.end.getTime() - v.start.getTime() <= 62 * 86_400_000, { message: "Ask for at most 62 days at a time.", path: ["end"] })
     .safeParse(Object.fromEntries([...url.searchParams.entries()].filter(([k]) => k !== "timeZone" && k !== "_")));
   if (!parsed.success) return errorJson(400, "Check the query.", zodFieldErrors(parsed.error));
-  const { start, end, provider, includeCancelled } = parsed.data;
-  const events = await calendarEventsJson(start, end, timeZone, { providerId: provider === "all" ? undefined : provider, includeCancelled: includeCancelled === "1" });
+  const { start, end, provider, site, includeCancelled } = parsed.data;
+  const events = await calendarEventsJson(start, end, timeZone, { providerId: provider === "all" ? undefined : provider, siteId: site === "all" ? undefined : site, includeCancelled: includeCancelled === "1" });
   return new Response(events, { headers: { "content-type": "application/json; charset=utf-8" } });
 }
 

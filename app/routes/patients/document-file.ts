@@ -5,7 +5,7 @@ import { documents } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
 import { assertPatientAccess, CLINICAL_ROLES, requireUser } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
-import { storage } from "~/utils/storage.server";
+import { openStored } from "~/utils/storage-response.server";
 import { isUuid } from "./patient-schema";
 
 /** GET /patients/:patientId/documents/:documentId/(file|thumbnail) — clinical roles only. */
@@ -21,14 +21,15 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   if (!doc) throw data({ error: "Not found." }, { status: 404 });
   const thumb = params.variant === "thumbnail";
   const key = thumb ? doc.thumbnailKey : doc.storageKey;
-  const bytes = key ? await storage.get(key) : null;
-  if (!bytes) throw data({ error: "Not found." }, { status: 404 });
+  const file = key ? await openStored(key) : null;
+  if (!file) throw data({ error: "Not found." }, { status: 404 });
   if (!thumb) await audit({ action: "document.read", actorUserId: user.id, entityType: "document", entityId: doc.id, patientId: doc.patientId, request });
   const safeName = doc.originalName.replace(/[^\w.\- ]+/g, "_");
-  return new Response(new Uint8Array(bytes), {
+  // Streamed from object storage through the app, after the role and patient checks above.
+  return new Response(file.body, {
     headers: {
       "content-type": thumb ? "image/jpeg" : doc.contentType,
-      "content-length": String(bytes.length),
+      ...(file.size !== null ? { "content-length": String(file.size) } : {}),
       "content-disposition": `${doc.contentType === "application/pdf" || thumb ? "inline" : "inline"}; filename="${safeName}"`,
       "cache-control": "private, no-store",
       "x-content-type-options": "nosniff",

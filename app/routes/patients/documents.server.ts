@@ -4,7 +4,7 @@ import { documents, users } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 import type { SessionUser } from "~/utils/session.server";
-import { storage } from "~/utils/storage.server";
+import { storage, StorageUnavailableError } from "~/utils/storage.server";
 
 /** Largest upload accepted, bytes. */
 export const MAX_UPLOAD_BYTES = 15 * 1024 * 1024;
@@ -26,7 +26,7 @@ export function sniffType(bytes: Uint8Array): Sniffed | null {
 export class UploadError extends Error {
   constructor(
     message: string,
-    readonly status: 400 | 413 | 415 = 400,
+    readonly status: 400 | 413 | 415 | 503 = 400,
   ) {
     super(message);
   }
@@ -48,8 +48,19 @@ export async function saveUpload(user: SessionUser, input: { patientId: string; 
       throw new UploadError("The image could not be read; it may be damaged.", 415);
     }
   }
-  const key = await storage.put(bytes, { prefix: "documents", extension: type.extension });
-  const thumbnailKey = thumbnail ? await storage.put(thumbnail, { prefix: "thumbnails", extension: "jpg" }) : null;
+  // The objects first, then the row: a row never points at a missing object. If the store is
+  // down nothing is recorded (an object already written is removed) and the upload can be retried.
+  let key: string | null = null;
+  let thumbnailKey: string | null = null;
+  try {
+    key = await storage.put(bytes, { prefix: "documents", extension: type.extension, contentType: type.contentType });
+    thumbnailKey = thumbnail ? await storage.put(thumbnail, { prefix: "thumbnails", extension: "jpg", contentType: "image/jpeg" }) : null;
+  } catch (e) {
+    if (key) await storage.delete(key).catch(() => undefined);
+    if (e instanceof StorageUnavailableError) throw new UploadError("The file could not be stored just now: file storage is not reachable. Nothing was saved; please try the upload again in a few minutes.", 503);
+    throw e;
+  }
+  const storedKey = key;
   try {
     return await db.transaction(async (tx) => {
       const [row] = await tx
@@ -62,7 +73,7 @@ export async function saveUpload(user: SessionUser, input: { patientId: string; 
           originalName: file.name.slice(0, 200) || "upload",
           contentType: type.contentType,
           sizeBytes: file.size,
-          storageKey: key,
+          storageKey: storedKey,
           thumbnailKey,
           uploadedById: user.id,
         })
@@ -71,8 +82,8 @@ export async function saveUpload(user: SessionUser, input: { patientId: string; 
       return row!.id;
     });
   } catch (e) {
-    await storage.delete(key);
-    if (thumbnailKey) await storage.delete(thumbnailKey);
+    await storage.delete(storedKey).catch(() => undefined);
+    if (thumbnailKey) await storage.delete(thumbnailKey).catch(() => undefined);
     throw e;
   }
 }

@@ -39,7 +39,7 @@ import { env } from "~/utils/env.server";
 import { defineJob } from "~/utils/jobs.server";
 import { absoluteUrl, sendMail, type Mail } from "~/utils/mail.server";
 import type { SessionUser } from "~/utils/session.server";
-import { storage } from "~/utils/storage.server";
+import { storage, StorageUnavailableError } from "~/utils/storage.server";
 import { buildLetterPdf, type LetterInput } from "./letter-pdf.server";
 import { issueLink, signLink } from "./links.server";
 
@@ -895,7 +895,14 @@ export function sniffType(bytes: Uint8Array): keyof typeof REPLY_FILE_TYPES | nu
 }
 
 export async function reply(referralId: string, linkId: string, input: { name: string; body: string; file: { name: string; bytes: Uint8Array; type: keyof typeof REPLY_FILE_TYPES } | null }, request: Request) {
-  const key = input.file ? await storage.put(input.file.bytes, { prefix: "referral-replies", extension: REPLY_FILE_TYPES[input.file.type] }) : null;
+  let key: string | null = null;
+  try {
+    key = input.file ? await storage.put(input.file.bytes, { prefix: "referral-replies", extension: REPLY_FILE_TYPES[input.file.type], contentType: input.file.type }) : null;
+  } catch (error) {
+    // Nothing is recorded without its file: the reply can simply be sent again.
+    if (error instanceof StorageUnavailableError) throw new ReferralError({ file: ["The file could not be stored just now (file storage is not reachable). Nothing was saved; please send your reply again in a few minutes."] }, 503);
+    throw error;
+  }
   let messageId: string | null = null;
   try {
     messageId = await db.transaction(async (tx) => {

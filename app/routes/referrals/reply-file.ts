@@ -6,7 +6,7 @@ import { referralReplies } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
-import { storage } from "~/utils/storage.server";
+import { openStored } from "~/utils/storage-response.server";
 
 /** A consult letter uploaded by the recipient, for the practice's clinicians. */
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -17,13 +17,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     .from(referralReplies)
     .where(and(eq(referralReplies.id, params.replyId), eq(referralReplies.referralId, params.referralId)));
   if (!reply?.fileKey || !reply.fileType) throw data({ error: "Not found." }, { status: 404 });
-  const bytes = await storage.get(reply.fileKey);
-  if (!bytes) throw data({ error: "The file is missing from storage." }, { status: 404 });
+  const file = await openStored(reply.fileKey);
+  if (!file) throw data({ error: "The file is missing from storage." }, { status: 404 });
   await audit({ action: "referral.reply_file_viewed", actorUserId: user.id, entityType: "referral_reply", entityId: reply.id, patientId: reply.patientId, request });
   const safeName = (reply.fileName ?? "consult-letter").replace(/[^\w.\- ]+/g, "_");
-  return new Response(new Uint8Array(bytes), {
+  return new Response(file.body, {
     headers: {
       "content-type": reply.fileType,
+      ...(file.size !== null ? { "content-length": String(file.size) } : {}),
       "content-disposition": `inline; filename="${safeName}"`,
       "cache-control": "private, no-store",
       "x-content-type-options": "nosniff",

@@ -19,12 +19,13 @@ export async function loader({ request }: Route.LoaderArgs) {
   const url = new URL(request.url);
   const patientId = url.searchParams.get("patientId");
   const patient = patientId && z.uuid().safeParse(patientId).success ? await patientOption(patientId) : null;
-  const { providers, types } = await scheduleReferenceData();
+  const { providers, types, sites, rooms } = await scheduleReferenceData();
   const provider = url.searchParams.get("provider");
   const start = url.searchParams.get("start");
   return {
     providers: providers.map(({ id, name }) => ({ id, name })),
     types,
+    places: { sites: sites.map(({ id, name }) => ({ id, name })), rooms },
     defaults: {
       patient,
       providerId: provider && providers.some((p) => p.id === provider) ? provider : undefined,
@@ -61,7 +62,7 @@ export default function BookPage({ loaderData }: Route.ComponentProps) {
     <>
       <PageHeader title="Book an appointment" description="Find the patient, choose the type, the provider and the time." />
       <Card>
-        <BookingForm providers={loaderData.providers} types={loaderData.types} defaults={loaderData.defaults} />
+        <BookingForm providers={loaderData.providers} types={loaderData.types} defaults={loaderData.defaults} places={loaderData.places} />
       </Card>
     </>
   );

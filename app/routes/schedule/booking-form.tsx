@@ -6,7 +6,8 @@ import { Input, Select, Textarea } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
 
 export type PatientOption = { id: string; name: string; dateOfBirth: string; email: string | null };
-export type BookingDefaults = { start?: string; providerId?: string; appointmentTypeId?: string; patient?: PatientOption | null };
+export type BookingDefaults = { start?: string; providerId?: string; appointmentTypeId?: string; siteId?: string; patient?: PatientOption | null };
+export type SiteChoice = { sites: { id: string; name: string }[]; rooms: { id: string; siteId: string; name: string }[] };
 type Reply = { status?: string; error?: Record<string, string[] | null> | null } | undefined;
 
 function errorsOf(reply: Reply, field: string) {
@@ -125,7 +126,9 @@ export function BookingForm({
   defaults,
   returnTo,
   onCancel,
+  places = { sites: [], rooms: [] },
 }: {
+  places?: SiteChoice;
   providers: { id: string; name: string }[];
   types: { id: string; name: string; durationMinutes: number }[];
   defaults: BookingDefaults;
@@ -173,6 +176,45 @@ export function BookingForm({
           </Select>
           <ErrorList errors={errorsOf(reply, "providerId")} />
         </div>
+        {places.sites.length > 1 ? (
+          <div>
+            <label htmlFor={`${id}-site`} className="mb-1 block text-sm font-semibold">
+              Site
+            </label>
+            <Select id={`${id}-site`} name="siteId" defaultValue={defaults.siteId ?? ""} aria-invalid={errorsOf(reply, "siteId") ? true : undefined}>
+              <option value="">Where the provider works that day</option>
+              {places.sites.map((s) => (
+                <option key={s.id} value={s.id}>
+                  {s.name}
+                </option>
+              ))}
+            </Select>
+            <ErrorList errors={errorsOf(reply, "siteId")} />
+          </div>
+        ) : null}
+        {places.rooms.length ? (
+          <div>
+            <label htmlFor={`${id}-room`} className="mb-1 block text-sm font-semibold">
+              Room
+            </label>
+            <Select id={`${id}-room`} name="roomId" defaultValue="" aria-invalid={errorsOf(reply, "roomId") ? true : undefined}>
+              <option value="">The provider&apos;s room that day</option>
+              {places.sites.map((s) => {
+                const here = places.rooms.filter((r) => r.siteId === s.id);
+                return here.length ? (
+                  <optgroup key={s.id} label={s.name}>
+                    {here.map((r) => (
+                      <option key={r.id} value={r.id}>
+                        {r.name}
+                      </option>
+                    ))}
+                  </optgroup>
+                ) : null;
+              })}
+            </Select>
+            <ErrorList errors={errorsOf(reply, "roomId")} />
+          </div>
+        ) : null}
         <div>
           <label htmlFor={`${id}-start`} className="mb-1 block text-sm font-semibold">
             Starts

@@ -14,6 +14,8 @@ import { useMemo, useRef } from "react";
 export type CalendarProps = {
   timeZone: string;
   provider: string;
+  /** A site id or "all". */
+  site: string;
   initialDate?: string;
   initialView: "timeGridDay" | "timeGridWeek" | "dayGridMonth";
   businessHours: { daysOfWeek: number[]; startTime: string; endTime: string }[];
@@ -65,7 +67,7 @@ async function patch(event: EventApi) {
 
 export default function CalendarView(props: CalendarProps) {
   const ref = useRef<FullCalendar>(null);
-  const source = useMemo(() => ({ url: "/api/appointments", extraParams: { provider: props.provider }, failure: () => props.onMessage("error", "The appointments could not be loaded. Check the connection and reload.") }), [props.provider]);
+  const source = useMemo(() => ({ url: "/api/appointments", extraParams: { provider: props.provider, site: props.site }, failure: () => props.onMessage("error", "The appointments could not be loaded. Check the connection and reload.") }), [props.provider, props.site]);
   const change = async (info: { event: EventApi; revert: () => void }, verb: string) => {
     const { ok, body } = await patch(info.event);
     if (!ok) {

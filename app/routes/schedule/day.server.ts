@@ -5,19 +5,21 @@ import { APPOINTMENT_STATUSES } from "~/lib/scheduling/status";
 import { formatLocal, localDayRange, localParts } from "~/lib/scheduling/time";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { appointmentsBetween, BookingError, changeStatus, practiceSchedule } from "~/utils/schedule.server";
+import { siteChoice } from "~/utils/sites.server";
 
-/** The day's appointments for the front desk (everyone) or one optometrist; `date` and `provider` in the query. */
+/** The day's appointments for the front desk (everyone) or one optometrist, at one site or all; `date`, `provider` and `site` in the query. */
 export async function loadDayList(request: Request) {
   const user = await requireRole(request, STAFF_ROLES);
   const url = new URL(request.url);
   const { timeZone } = await practiceSchedule();
-  const { providers } = await scheduleReferenceData();
+  const { providers, sites } = await scheduleReferenceData();
+  const { site, setCookie } = await siteChoice(request, sites);
   const today = localParts(new Date(), timeZone).date;
   const date = /^\d{4}-\d{2}-\d{2}$/.test(url.searchParams.get("date") ?? "") ? url.searchParams.get("date")! : today;
   const asked = url.searchParams.get("provider");
   const provider = asked === "all" || providers.some((p) => p.id === asked) ? asked! : user.role === "optometrist" ? user.id : "all";
   const { start, end } = localDayRange(date, timeZone);
-  const rows = await appointmentsBetween(start, end, { providerId: provider === "all" ? undefined : provider, includeCancelled: true });
+  const rows = await appointmentsBetween(start, end, { providerId: provider === "all" ? undefined : provider, siteId: site === "all" ? undefined : site, includeCancelled: true });
   return {
     user: { id: user.id, role: user.role },
     timeZone,
@@ -25,6 +27,9 @@ export async function loadDayList(request: Request) {
     today,
     provider,
     providers: providers.map(({ id, name }) => ({ id, name })),
+    site,
+    sites: sites.map(({ id, name }) => ({ id, name })),
+    setCookie,
     checkedAt: formatLocal(new Date(), timeZone, { withDate: false }),
     appointments: rows.map((r) => ({
       id: r.id,
@@ -35,6 +40,7 @@ export async function loadDayList(request: Request) {
       typeName: r.typeName,
       providerName: r.providerName,
       providerId: r.providerId,
+      place: sites.length > 1 ? [r.siteName, r.roomName].filter(Boolean).join(" · ") : (r.roomName ?? ""),
     })),
   };
 }

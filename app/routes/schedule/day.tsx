@@ -1,4 +1,4 @@
-import { Form, Link } from "react-router";
+import { data, Form, Link } from "react-router";
 import type { Route } from "./+types/day";
 import { AppointmentStatus } from "./status-ui";
 import { ScheduleNav } from "./schedule-nav";
@@ -14,8 +14,8 @@ import { Notice } from "~/components/ui/notice";
 import { addDays } from "~/lib/scheduling/time";
 
 export async function loader({ request }: Route.LoaderArgs) {
-  const day = await loadDayList(request);
-  return { ...day, moveRequests: await openMoveRequests(day.timeZone) };
+  const { setCookie, ...day } = await loadDayList(request);
+  return data({ ...day, moveRequests: await openMoveRequests(day.timeZone) }, setCookie ? { headers: { "set-cookie": setCookie } } : undefined);
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -25,7 +25,7 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function DayList({ loaderData }: Route.ComponentProps) {
-  const { appointments, date, today, provider, providers, timeZone, user, checkedAt, moveRequests } = loaderData;
+  const { appointments, date, today, provider, providers, site, sites, timeZone, user, checkedAt, moveRequests } = loaderData;
   usePolling(5);
   const dayTitle = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(new Date(`${date}T12:00:00Z`));
   const live = appointments.filter((a) => a.status !== "cancelled");
@@ -49,6 +49,21 @@ export default function DayList({ loaderData }: Route.ComponentProps) {
             ))}
           </Select>
         </div>
+        {sites.length > 1 ? (
+          <div>
+            <label htmlFor="day-site" className="mb-1 block text-sm font-semibold">
+              Site
+            </label>
+            <Select id="day-site" name="site" defaultValue={site} className="w-56">
+              <option value="all">Every site</option>
+              {sites.map((s) => (
+                <option key={s.id} value={s.id}>
+                  {s.name}
+                </option>
+              ))}
+            </Select>
+          </div>
+        ) : null}
         <div>
           <label htmlFor="day-date" className="mb-1 block text-sm font-semibold">
             Day
@@ -58,10 +73,10 @@ export default function DayList({ loaderData }: Route.ComponentProps) {
         <Button type="submit" variant="secondary">
           Show
         </Button>
-        <Link className={buttonClass("ghost")} to={`?provider=${provider}&date=${addDays(date, -1)}`}>
+        <Link className={buttonClass("ghost")} to={`?provider=${provider}&site=${site}&date=${addDays(date, -1)}`}>
           ‹ Previous day
         </Link>
-        <Link className={buttonClass("ghost")} to={`?provider=${provider}&date=${addDays(date, 1)}`}>
+        <Link className={buttonClass("ghost")} to={`?provider=${provider}&site=${site}&date=${addDays(date, 1)}`}>
           Next day ›
         </Link>
       </Form>
@@ -96,6 +111,7 @@ export default function DayList({ loaderData }: Route.ComponentProps) {
                   <td className="px-4 py-3">
                     {a.typeName}
                     <span className="block text-muted">{a.providerName}</span>
+                    {a.place ? <span className="block text-muted">{a.place}</span> : null}
                   </td>
                   <td className="px-4 py-3">
                     <AppointmentStatus status={a.status} />

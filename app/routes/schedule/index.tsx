@@ -1,5 +1,5 @@
 import { lazy, Suspense, useEffect, useRef, useState } from "react";
-import { Form, Link, useLocation, useNavigate, useSearchParams } from "react-router";
+import { data, Form, Link, useLocation, useNavigate, useSearchParams } from "react-router";
 import type { Route } from "./+types/index";
 import { BookingForm } from "./booking-form";
 import { scheduleReferenceData } from "./schedule-data.server";
@@ -11,6 +11,7 @@ import { Notice } from "~/components/ui/notice";
 import { minutesToHhmm, localParts } from "~/lib/scheduling/time";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { practiceSchedule } from "~/utils/schedule.server";
+import { siteChoice } from "~/utils/sites.server";
 
 const CalendarView = lazy(() => import("./calendar-view"));
 const VIEWS = ["timeGridDay", "timeGridWeek", "dayGridMonth"] as const;
@@ -19,7 +20,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   const url = new URL(request.url);
   const { timeZone } = await practiceSchedule();
-  const { providers, types, hours, breaks } = await scheduleReferenceData();
+  const { providers, types, hours, breaks, sites, rooms } = await scheduleReferenceData();
+  // The site filter: asked for, else the user's last choice (cookie), else every site.
+  const { site, setCookie } = await siteChoice(request, sites);
   const asked = url.searchParams.get("provider");
   // An optometrist starts on their own column; the front desk on the whole practice.
   const provider = asked === "all" || providers.some((p) => p.id === asked) ? asked! : providers.some((p) => p.id === user.id) && user.role === "optometrist" ? user.id : "all";
@@ -27,7 +30,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const date = /^\d{4}-\d{2}-\d{2}$/.test(url.searchParams.get("date") ?? "") ? url.searchParams.get("date")! : localParts(new Date(), timeZone).date;
   // Business hours shown shaded in the calendar: the chosen provider's (or everyone's) working spans less breaks.
   const spans = hours
-    .filter((h) => provider === "all" || h.providerId === provider)
+    .filter((h) => (provider === "all" || h.providerId === provider) && (site === "all" || h.siteId === site))
     .flatMap((h) => {
       const own = breaks.filter((b) => b.providerId === h.providerId && b.weekday === h.weekday).sort((a, b) => a.startMinute - b.startMinute);
       const out: { daysOfWeek: number[]; startTime: string; endTime: string }[] = [];
@@ -39,11 +42,14 @@ export async function loader({ request }: Route.LoaderArgs) {
       if (from < h.endMinute) out.push({ daysOfWeek: [h.weekday % 7], startTime: minutesToHhmm(from), endTime: minutesToHhmm(h.endMinute) });
       return out;
     });
-  return { timeZone, providers: providers.map(({ id, name }) => ({ id, name })), types, provider, view, date, businessHours: spans };
+  return data(
+    { timeZone, providers: providers.map(({ id, name }) => ({ id, name })), types, provider, view, date, businessHours: spans, site, places: { sites: sites.map(({ id, name }) => ({ id, name })), rooms } },
+    setCookie ? { headers: { "set-cookie": setCookie } } : undefined,
+  );
 }
 
 export default function Schedule({ loaderData }: Route.ComponentProps) {
-  const { timeZone, providers, types, provider, view, date, businessHours } = loaderData;
+  const { timeZone, providers, types, provider, view, date, businessHours, site, places } = loaderData;
   const [hydrated, setHydrated] = useState(false);
   const [message, setMessage] = useState<{ tone: "success" | "error"; text: string } | null>(null);
   const [booking, setBooking] = useState<{ start: string } | null>(null);
@@ -59,7 +65,7 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
   // A booking redirects back here: close the dialog.
   useEffect(() => setBooking(null), [location.key]);
 
-  const calendarKey = `${provider}|${params.get("date") ?? ""}|${location.key}`;
+  const calendarKey = `${provider}|${site}|${params.get("date") ?? ""}|${location.key}`;
   return (
     <>
       <PageHeader
@@ -86,6 +92,21 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
             ))}
           </Select>
         </div>
+        {places.sites.length > 1 ? (
+          <div>
+            <label htmlFor="site" className="mb-1 block text-sm font-semibold">
+              Site
+            </label>
+            <Select id="site" name="site" defaultValue={site} className="w-56" onChange={(e) => e.currentTarget.form?.requestSubmit()}>
+              <option value="all">Every site</option>
+              {places.sites.map((s) => (
+                <option key={s.id} value={s.id}>
+                  {s.name}
+                </option>
+              ))}
+            </Select>
+          </div>
+        ) : null}
         <input type="hidden" name="view" value={view} />
         <input type="hidden" name="date" value={date} />
         <noscript>
@@ -119,6 +140,7 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
               key={calendarKey}
               timeZone={timeZone}
               provider={provider}
+              site={site}
               initialDate={date}
               initialView={view}
               businessHours={businessHours}
@@ -141,7 +163,8 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
               key={booking.start}
               providers={providers}
               types={types}
-              defaults={{ start: booking.start, providerId: provider === "all" ? undefined : provider }}
+              places={places}
+              defaults={{ start: booking.start, providerId: provider === "all" ? undefined : provider, siteId: site === "all" ? undefined : site }}
               returnTo={`/schedule?provider=${provider}&view=${view}&date=${booking.start.slice(0, 10)}`}
               onCancel={() => setBooking(null)}
             />

@@ -44,6 +44,8 @@ export function bookingSchema(timeZone: string) {
       start: isoTime(timeZone, "start"),
       end: isoTime(timeZone, "end").optional(),
       notes: z.string().trim().max(1000, "At most 1000 characters.").optional(),
+      siteId: z.uuid({ error: "Choose a site." }).optional(),
+      roomId: z.uuid({ error: "Choose a room." }).optional(),
     })
     .refine((v) => !v.end || v.end > v.start, { message: "The end must be after the start.", path: ["end"] });
 }

@@ -2,8 +2,9 @@ import { and, asc, eq, inArray } from "drizzle-orm";
 import { appointmentTypes, patients, providerBreaks, workingHours } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { bookableProviders } from "~/utils/schedule.server";
+import { activeRooms, activeSites } from "~/utils/sites.server";
 
-/** Providers, active appointment types and everyone's working hours, for the schedule pages. */
+/** Providers, active appointment types, everyone's working hours, the sites and their rooms, for the schedule pages. */
 export async function scheduleReferenceData() {
   const providers = await bookableProviders();
   const types = await db
@@ -14,7 +15,8 @@ export async function scheduleReferenceData() {
   const ids = providers.map((p) => p.id);
   const hours = ids.length ? await db.select().from(workingHours).where(inArray(workingHours.providerId, ids)) : [];
   const breaks = ids.length ? await db.select().from(providerBreaks).where(inArray(providerBreaks.providerId, ids)) : [];
-  return { providers, types, hours, breaks };
+  const [sites, rooms] = await Promise.all([activeSites(), activeRooms()]);
+  return { providers, types, hours, breaks, sites, rooms };
 }
 
 export async function patientOption(id: string | null) {

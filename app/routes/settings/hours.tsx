@@ -8,13 +8,14 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
-import { providerBreaks, users, workingHours } from "~/db/schema";
+import { providerBreaks, rooms as roomsTable, siteOpeningHours, sites as sitesTable, users, workingHours } from "~/db/schema";
 import { WEEKDAY_NAMES } from "~/lib/scheduling/hours";
 import { hhmmToMinutes, minutesToHhmm } from "~/lib/scheduling/time";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { bookableProviders, practiceSchedule } from "~/utils/schedule.server";
+import { activeRooms, activeSites } from "~/utils/sites.server";
 import { redirectWithToast } from "~/utils/toast.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -23,7 +24,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   const asked = new URL(request.url).searchParams.get("provider");
   const provider = providers.find((p) => p.id === asked) ?? providers[0] ?? null;
   const { timeZone } = await practiceSchedule();
-  if (!provider) return { providers: [], provider: null, days: [], timeZone };
+  const [sites, rooms] = await Promise.all([activeSites(), activeRooms()]);
+  const places = { sites: sites.map(({ id, name }) => ({ id, name })), rooms };
+  if (!provider) return { providers: [], provider: null, days: [], timeZone, places };
   const hours = await db.select().from(workingHours).where(eq(workingHours.providerId, provider.id));
   const breaks = await db.select().from(providerBreaks).where(eq(providerBreaks.providerId, provider.id));
   const days = WEEKDAY_NAMES.map((name, i) => {
@@ -38,9 +41,11 @@ export async function loader({ request }: Route.LoaderArgs) {
       breakStart: b ? minutesToHhmm(b.startMinute) : "",
       breakEnd: b ? minutesToHhmm(b.endMinute) : "",
       breakLabel: b?.label ?? "Lunch",
+      siteId: h?.siteId ?? sites[0]?.id ?? "",
+      roomId: h?.roomId ?? "",
     };
   });
-  return { providers: providers.map(({ id, name }) => ({ id, name })), provider: { id: provider.id, name: provider.name }, days, timeZone };
+  return { providers: providers.map(({ id, name }) => ({ id, name })), provider: { id: provider.id, name: provider.name }, days, timeZone, places };
 }
 
 type DayErrors = Record<string, string[]>;
@@ -53,8 +58,12 @@ export async function action({ request }: Route.ActionArgs) {
   const [provider] = await db.select({ id: users.id, name: users.name }).from(users).where(and(eq(users.id, providerId.data), eq(users.active, true)));
   if (!provider) return data({ errors: { "": ["No such provider."] } as DayErrors }, { status: 404 });
   const errors: DayErrors = {};
-  const hours: { weekday: number; startMinute: number; endMinute: number }[] = [];
-  const breaks: { weekday: number; startMinute: number; endMinute: number; label: string }[] = [];
+  const hours: { weekday: number; startMinute: number; endMinute: number; siteId: string; roomId: string | null }[] = [];
+  const breaks: { weekday: number; startMinute: number; endMinute: number; label: string; siteId: string }[] = [];
+  const allSites = await db.select().from(sitesTable).where(eq(sitesTable.active, true));
+  const allRooms = await db.select().from(roomsTable).where(eq(roomsTable.active, true));
+  const opening = await db.select().from(siteOpeningHours);
+  const defaultSiteId = allSites.find((x) => x.isDefault)?.id ?? allSites[0]?.id ?? "";
   for (let weekday = 1; weekday <= 7; weekday++) {
     const get = (k: string) => String(form.get(`${k}-${weekday}`) ?? "").trim();
     const [start, end, bs, be] = [get("start"), get("end"), get("breakStart"), get("breakEnd")];
@@ -73,13 +82,35 @@ export async function action({ request }: Route.ActionArgs) {
       errors[`hours-${weekday}`] = ["The day must end after it starts."];
       continue;
     }
-    hours.push({ weekday, startMinute: s, endMinute: e });
+    // Where the provider works that day: an open site, and a room of that site (or none).
+    const siteId = get("site") || defaultSiteId;
+    const site = allSites.find((x) => x.id === siteId);
+    if (!site) {
+      errors[`hours-${weekday}`] = ["Choose one of the practice's open sites."];
+      continue;
+    }
+    const roomId = get("room") || null;
+    if (roomId && !allRooms.some((r) => r.id === roomId && r.siteId === site.id)) {
+      errors[`hours-${weekday}`] = [`That room is not at ${site.name}; choose one of its rooms or none.`];
+      continue;
+    }
+    const siteHours = opening.filter((o) => o.siteId === site.id);
+    const open = siteHours.find((o) => o.weekday === weekday);
+    if (siteHours.length && !open) {
+      errors[`hours-${weekday}`] = [`${site.name} is closed on ${WEEKDAY_NAMES[weekday - 1]}s (see Settings → Sites).`];
+      continue;
+    }
+    if (open && (s < open.startMinute || e > open.endMinute)) {
+      errors[`hours-${weekday}`] = [`${site.name} is open ${minutesToHhmm(open.startMinute)}–${minutesToHhmm(open.endMinute)} on ${WEEKDAY_NAMES[weekday - 1]}s; working hours must fit inside.`];
+      continue;
+    }
+    hours.push({ weekday, startMinute: s, endMinute: e, siteId: site.id, roomId });
     if (bs || be) {
       const b1 = hhmmToMinutes(bs);
       const b2 = hhmmToMinutes(be);
       if (b1 === null || b2 === null || b2 <= b1) errors[`break-${weekday}`] = ["Give the break's start and end as HH:MM, end after start."];
       else if (b1 < s || b2 > e) errors[`break-${weekday}`] = ["The break must lie inside the working hours."];
-      else breaks.push({ weekday, startMinute: b1, endMinute: b2, label });
+      else breaks.push({ weekday, startMinute: b1, endMinute: b2, label, siteId: site.id });
     }
   }
   if (Object.keys(errors).length) return data({ errors }, { status: 400 });
@@ -94,7 +125,8 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function Hours({ loaderData, actionData }: Route.ComponentProps) {
-  const { providers, provider, days, timeZone } = loaderData;
+  const { providers, provider, days, timeZone, places } = loaderData;
+  const multiSite = places.sites.length > 1;
   const navigation = useNavigation();
   const errors = navigation.state === "idle" ? ((actionData as { errors?: DayErrors } | undefined)?.errors ?? {}) : {};
   if (!provider) return <Notice tone="info" title="No optometrist or owner accounts to set hours for." />;
@@ -128,6 +160,8 @@ export default function Hours({ loaderData, actionData }: Route.ComponentProps) 
               <thead className="border-b border-line text-muted">
                 <tr>
                   <th className="py-2 pr-4 font-semibold">Day</th>
+                  {multiSite ? <th className="py-2 pr-4 font-semibold">Site</th> : null}
+                  {places.rooms.length ? <th className="py-2 pr-4 font-semibold">Room</th> : null}
                   <th className="py-2 pr-4 font-semibold">Starts</th>
                   <th className="py-2 pr-4 font-semibold">Ends</th>
                   <th className="py-2 pr-4 font-semibold">Break from</th>
@@ -143,6 +177,41 @@ export default function Hours({ loaderData, actionData }: Route.ComponentProps) 
                       <ErrorList id={`hours-${d.weekday}-err`} errors={errors[`hours-${d.weekday}`]} />
                       <ErrorList id={`break-${d.weekday}-err`} errors={errors[`break-${d.weekday}`]} />
                     </th>
+                    {multiSite ? (
+                      <td className="py-2 pr-4">
+                        <label className="sr-only" htmlFor={`site-${d.weekday}`}>
+                          {d.name} site
+                        </label>
+                        <Select id={`site-${d.weekday}`} name={`site-${d.weekday}`} defaultValue={d.siteId} className="w-44">
+                          {places.sites.map((x) => (
+                            <option key={x.id} value={x.id}>
+                              {x.name}
+                            </option>
+                          ))}
+                        </Select>
+                      </td>
+                    ) : null}
+                    {places.rooms.length ? (
+                      <td className="py-2 pr-4">
+                        <label className="sr-only" htmlFor={`room-${d.weekday}`}>
+                          {d.name} room
+                        </label>
+                        <Select id={`room-${d.weekday}`} name={`room-${d.weekday}`} defaultValue={d.roomId} className="w-44">
+                          <option value="">No fixed room</option>
+                          {places.sites.map((x) => (
+                            <optgroup key={x.id} label={x.name}>
+                              {places.rooms
+                                .filter((r) => r.siteId === x.id)
+                                .map((r) => (
+                                  <option key={r.id} value={r.id}>
+                                    {r.name}
+                                  </option>
+                                ))}
+                            </optgroup>
+                          ))}
+                        </Select>
+                      </td>
+                    ) : null}
                     {(["start", "end", "breakStart", "breakEnd"] as const).map((k) => {
                       const group = k === "start" || k === "end" ? "hours" : "break";
                       const bad = Boolean(errors[`${group}-${d.weekday}`]);

@@ -1,0 +1,172 @@
+import { and, eq, sql } from "drizzle-orm";
+import { beforeAll, describe, expect, it } from "vitest";
+import { loader as eventsLoader } from "~/routes/api/appointments";
+import { loader as dayLoader } from "~/routes/schedule/day";
+import { action as hoursAction } from "~/routes/settings/hours";
+import { action as sitesAction, loader as sitesLoader } from "~/routes/settings/sites";
+import { appointments, rooms, siteOpeningHours, sites, workingHours } from "~/db/schema";
+import { db } from "~/utils/db.server";
+import { cookieFor, dataOf, makeRequest, run, statusOf } from "#tests/support/helpers";
+import { demoIds, newPatient, postBooking } from "./schedule-fixtures";
+
+let ids: Awaited<ReturnType<typeof demoIds>>;
+let main: typeof sites.$inferSelect;
+let hill: typeof sites.$inferSelect;
+const room = async (siteId: string, name: string) => (await db.select().from(rooms).where(and(eq(rooms.siteId, siteId), eq(rooms.name, name))))[0]!;
+
+beforeAll(async () => {
+  ids = await demoIds();
+  main = (await db.select().from(sites).where(eq(sites.isDefault, true)))[0]!;
+  hill = (await db.select().from(sites).where(eq(sites.name, "Hillcrest Parade")))[0]!;
+});
+
+// 6 March 2028 is a Monday, 9 March a Thursday; both before the clocks change, so London time is UTC.
+const MON = "2028-03-06";
+const THU = "2028-03-09";
+type Booked = { appointment: { id: string } };
+const book = (body: Record<string, unknown>, role: "receptionist" | "owner" = "receptionist") => postBooking({ providerId: ids.optometrist.id, appointmentTypeId: ids.examType.id, ...body }, role);
+
+function post(path: string, cookie: string, entries: [string, string][]) {
+  const body = new URLSearchParams(entries);
+  return new Request(`http://127.0.0.1:3000${path}`, { method: "POST", headers: { cookie, "content-type": "application/x-www-form-urlencoded" }, body });
+}
+
+describe("sites: the demo practice", () => {
+  it("has a default site and a part-time second site with opening hours and rooms", async () => {
+    expect(main.name).toBe("Larkspur Lane");
+    expect(hill.isDefault).toBe(false);
+    const hillHours = await db.select().from(siteOpeningHours).where(eq(siteOpeningHours.siteId, hill.id));
+    expect(hillHours.map((h) => h.weekday).sort()).toEqual([2, 4]); // Tuesdays and Thursdays
+    expect(await db.select().from(rooms).where(eq(rooms.siteId, hill.id))).toHaveLength(1);
+    const [thursday] = await db.select().from(workingHours).where(and(eq(workingHours.providerId, ids.optometrist.id), eq(workingHours.weekday, 4)));
+    expect(thursday!.siteId).toBe(hill.id);
+  });
+});
+
+describe("booking at a site", () => {
+  it("books where the clinician works that day, in their room, without asking", async () => {
+    const p = await newPatient();
+    const mon = await book({ patientId: p.id, start: `${MON}T09:00:00Z` });
+    expect(mon.status).toBe(201);
+    const thu = await book({ patientId: p.id, start: `${THU}T09:00:00Z` });
+    expect(thu.status).toBe(201);
+    const [a] = await db.select().from(appointments).where(eq(appointments.id, ((await mon.json()) as Booked).appointment.id));
+    const [b] = await db.select().from(appointments).where(eq(appointments.id, ((await thu.json()) as Booked).appointment.id));
+    expect(a).toMatchObject({ siteId: main.id, roomId: (await room(main.id, "Room 2")).id });
+    expect(b).toMatchObject({ siteId: hill.id, roomId: (await room(hill.id, "Consulting room")).id });
+  });
+
+  it("refuses a site where the clinician does not work that day, and a room that is not at the site, with a message", async () => {
+    const p = await newPatient();
+    const wrongSite = await book({ patientId: p.id, start: `${THU}T10:00:00Z`, siteId: main.id });
+    expect(wrongSite.status).toBe(422);
+    const body = (await wrongSite.json()) as { error: string; fieldErrors: Record<string, string[]> };
+    expect(body.fieldErrors.siteId![0]).toMatch(/works at Hillcrest Parade on Thursdays, not at Larkspur Lane/);
+    const wrongRoom = await book({ patientId: p.id, start: `${MON}T10:00:00Z`, siteId: main.id, roomId: (await room(hill.id, "Consulting room")).id });
+    expect(wrongRoom.status).toBe(422);
+    expect(((await wrongRoom.json()) as { fieldErrors: Record<string, string[]> }).fieldErrors.roomId![0]).toMatch(/Consulting room is not a room at Larkspur Lane/);
+    const noRoom = await book({ patientId: p.id, start: `${MON}T10:00:00Z`, roomId: "00000000-0000-4000-8000-000000000000" });
+    expect(noRoom.status).toBe(422);
+    expect(((await noRoom.json()) as { error: string }).error).toMatch(/No such room at Larkspur Lane/);
+    expect(await db.select().from(appointments).where(eq(appointments.patientId, p.id))).toHaveLength(0);
+  });
+
+  it("refuses a room double-booked (409 naming who has it) and the database refuses it too", async () => {
+    const p1 = await newPatient();
+    const p2 = await newPatient();
+    const room2 = await room(main.id, "Room 2");
+    expect((await book({ patientId: p1.id, start: `${MON}T11:00:00Z` })).status).toBe(201); // the optometrist, Room 2
+    const clash = await postBooking({ patientId: p2.id, providerId: ids.owner.id, appointmentTypeId: ids.examType.id, start: `${MON}T11:15:00Z`, roomId: room2.id });
+    expect(clash.status).toBe(409);
+    expect(((await clash.json()) as { error: string }).error).toMatch(/Room 2 at Larkspur Lane is in use by .* Choose another room or time/);
+    // The owner in their own room at the same time is fine.
+    expect((await postBooking({ patientId: p2.id, providerId: ids.owner.id, appointmentTypeId: ids.examType.id, start: `${MON}T11:15:00Z` })).status).toBe(201);
+    await expect(
+      db.insert(appointments).values({ patientId: p2.id, providerId: ids.receptionist.id, appointmentTypeId: ids.collectionType.id, siteId: main.id, roomId: room2.id, startsAt: new Date(`${MON}T11:20:00Z`), endsAt: new Date(`${MON}T11:30:00Z`) }),
+    ).rejects.toMatchObject({ cause: { constraint: "appointments_no_room_overlap" } });
+  });
+
+  it("the database refuses a clinician double-booked across sites, and a room of another site", async () => {
+    const p = await newPatient();
+    expect((await book({ patientId: p.id, start: `${MON}T14:00:00Z` })).status).toBe(201); // at Larkspur Lane
+    await expect(
+      db.insert(appointments).values({ patientId: p.id, providerId: ids.optometrist.id, appointmentTypeId: ids.examType.id, siteId: hill.id, startsAt: new Date(`${MON}T14:10:00Z`), endsAt: new Date(`${MON}T14:40:00Z`) }),
+    ).rejects.toMatchObject({ cause: { constraint: "appointments_no_provider_overlap" } });
+    await expect(
+      db.insert(appointments).values({ patientId: p.id, providerId: ids.owner.id, appointmentTypeId: ids.examType.id, siteId: main.id, roomId: (await room(hill.id, "Consulting room")).id, startsAt: new Date(`${MON}T16:00:00Z`), endsAt: new Date(`${MON}T16:30:00Z`) }),
+    ).rejects.toMatchObject({ cause: { constraint: "appointments_room_at_site_fk" } });
+  });
+});
+
+describe("site filters", () => {
+  it("the calendar's events and the day list filter by site; the day list remembers the choice in a cookie", async () => {
+    const p = await newPatient();
+    expect((await book({ patientId: p.id, start: `${THU}T15:00:00Z` })).status).toBe(201);
+    const cookie = await cookieFor("receptionist");
+    const events = (await run(eventsLoader, makeRequest(`/api/appointments?start=${MON}&end=2028-03-11&site=${hill.id}`, { cookie }))) as Response;
+    const list = (await events.json()) as { start: string }[];
+    expect(list.length).toBeGreaterThan(0);
+    expect(list.every((e) => e.start.startsWith(THU))).toBe(true);
+    const bad = (await run(eventsLoader, makeRequest(`/api/appointments?start=${MON}&end=2028-03-11&site=nowhere`, { cookie }))) as Response;
+    expect(bad.status).toBe(400);
+
+    const chosen = await run(dayLoader, makeRequest(`/schedule/day?date=${THU}&site=${hill.id}`, { cookie }));
+    const setCookie = new Headers((chosen as { init?: { headers?: HeadersInit } }).init?.headers).get("set-cookie")!;
+    expect(setCookie).toMatch(/^dioptra_site=/);
+    expect(dataOf<{ site: string; appointments: { place: string }[] }>(chosen).appointments.every((a) => a.place.startsWith("Hillcrest Parade"))).toBe(true);
+    // Next visit without ?site=: the remembered choice.
+    const remembered = dataOf<{ site: string }>(await run(dayLoader, makeRequest(`/schedule/day?date=${MON}`, { cookie: `${cookie}; ${setCookie.split(";")[0]}` })));
+    expect(remembered.site).toBe(hill.id);
+    const everywhere = dataOf<{ site: string }>(await run(dayLoader, makeRequest(`/schedule/day?date=${MON}`, { cookie })));
+    expect(everywhere.site).toBe("all");
+  });
+});
+
+describe("Settings → Sites", () => {
+  it("is for the owner only", async () => {
+    expect(statusOf(await run(sitesLoader, makeRequest("/settings/sites", { cookie: await cookieFor("receptionist") })))).toBe(403);
+    expect(statusOf(await run(sitesAction, post("/settings/sites", await cookieFor("optometrist"), [["name", "Sneaky"]])))).toBe(403);
+  });
+
+  it("refuses bad input field by field and saves nothing", async () => {
+    const owner = await cookieFor("owner");
+    const before = await db.select({ n: sql<number>`count(*)::int` }).from(sites);
+    const res = await run(sitesAction, post("/settings/sites", owner, [["siteId", ""], ["name", "Larkspur lane"], ["timeZone", "Mars/Olympus"], ["open-1", "18:00"], ["close-1", "09:00"], ["active", "on"], ["newRoom", "x".repeat(61)]]));
+    expect(statusOf(res)).toBe(400);
+    const errors = dataOf<{ errors: Record<string, string[]> }>(res).errors;
+    expect(errors.name![0]).toMatch(/already has this name/);
+    expect(errors.timeZone![0]).toMatch(/IANA/);
+    expect(errors["hours-1"]![0]).toMatch(/Closing must be after opening/);
+    expect(errors.newRoom![0]).toMatch(/60/);
+    expect(await db.select({ n: sql<number>`count(*)::int` }).from(sites)).toEqual(before);
+    // Closing a site someone works at, or un-defaulting the default, is refused.
+    const close = await run(sitesAction, post("/settings/sites", owner, [["siteId", hill.id], ["name", hill.name], ["timeZone", "Europe/London"], ["open-2", "09:00"], ["close-2", "17:30"], ["open-4", "09:00"], ["close-4", "17:30"]]));
+    expect(dataOf<{ errors: Record<string, string[]> }>(close).errors.active![0]).toMatch(/works here on Thursdays/);
+    const undefault = await run(sitesAction, post("/settings/sites", owner, [["siteId", main.id], ["name", main.name], ["timeZone", "Europe/London"], ["active", "on"]]));
+    expect(dataOf<{ errors: Record<string, string[]> }>(undefault).errors.isDefault![0]).toMatch(/Make another site the default/);
+  });
+
+  it("adds a site with opening hours and a room; working hours there must fit its days and rooms", async () => {
+    const owner = await cookieFor("owner");
+    const name = `Quayside ${Math.random().toString(36).slice(2, 6)}`;
+    const res = await run(sitesAction, post("/settings/sites", owner, [["siteId", ""], ["name", name], ["addressLine1", "1 Quay Street"], ["city", "Brackenford"], ["timeZone", "Europe/London"], ["active", "on"], ["open-3", "10:00"], ["close-3", "16:00"], ["newRoom", "Room A"]]));
+    expect(statusOf(res)).toBe(302);
+    const [quay] = await db.select().from(sites).where(eq(sites.name, name));
+    expect(quay).toMatchObject({ isDefault: false, active: true, addressLine1: "1 Quay Street" });
+    const roomA = await room(quay!.id, "Room A");
+    expect(roomA).toBeTruthy();
+    const room1 = await room(main.id, "Room 1");
+    // The owner on Wednesday at Quayside: outside its hours, a room of another site, a closed day.
+    const keep = await db.select().from(workingHours).where(eq(workingHours.providerId, ids.owner.id));
+    const hours = (extra: [string, string][]) => post("/settings/hours", owner, [["providerId", ids.owner.id], ...extra]);
+    const outside = await run(hoursAction, hours([["start-3", "09:00"], ["end-3", "17:00"], ["site-3", quay!.id]]));
+    expect(dataOf<{ errors: Record<string, string[]> }>(outside).errors["hours-3"]![0]).toMatch(/open 10:00–16:00 on Wednesdays/);
+    const foreignRoom = await run(hoursAction, hours([["start-3", "10:00"], ["end-3", "16:00"], ["site-3", quay!.id], ["room-3", room1.id]]));
+    expect(dataOf<{ errors: Record<string, string[]> }>(foreignRoom).errors["hours-3"]![0]).toMatch(/not at Quayside/);
+    const closed = await run(hoursAction, hours([["start-1", "10:00"], ["end-1", "16:00"], ["site-1", quay!.id]]));
+    expect(dataOf<{ errors: Record<string, string[]> }>(closed).errors["hours-1"]![0]).toMatch(/closed on Mondays/);
+    expect(await db.select().from(workingHours).where(eq(workingHours.providerId, ids.owner.id))).toEqual(keep);
+    // Nothing saved: the owner's week is as it was. Tidy up the extra site for other tests.
+    await db.delete(sites).where(eq(sites.id, quay!.id));
+  });
+});
