@@ -8,8 +8,6 @@ import { DEMO, expectAccessible, screenshot, signIn, useBrowser } from "./fixtur
 
 const browser = useBrowser();
 const poll = <T>(fn: () => T | Promise<T>) => expect.poll(fn, { timeout: 10_000 });
-const t0 = Date.now();
-const step = (what: string) => process.env.E2E_STEPS && console.log(`[${((Date.now() - t0) / 1000).toFixed(1)}s] ${what}`);
 const saved = (page: Page, section: string) => poll(() => page.locator(`[data-section-status="${section}"]`).textContent()).toMatch(/Saved \d\d:\d\d/);
 
 /** Opens a seeded patient's chart and starts a new exam; answers the exam's address. */
@@ -32,7 +30,6 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     await poll(() => page.getByTestId("triage-urgency").textContent()).toBe("No referral proposed");
 
     // Red-flag history, by keyboard: the select takes the option from the keyboard.
-    step('Red-flag history, by keyboard: the select takes the option f');
     const flashes = page.getByLabel("Flashes of light");
     await flashes.focus();
     await flashes.selectOption("left");
@@ -40,11 +37,9 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     await page.getByLabel("Onset, duration and details").fill("Flashes in the left eye since this morning, then a shower of dots");
     await saved(page, "redflags");
     // New flashes and floaters without a break found yet: urgent (College of Optometrists guidance).
-    step('New flashes and floaters without a break found yet: urgent (');
     await poll(() => page.getByTestId("triage-urgency").textContent()).toBe("Proposed: Urgent");
 
     // Acuity: a bare 1.0 cannot be read in metric Snellen; the entry says what it read.
-    step('Acuity: a bare 1.0 cannot be read in metric Snellen; the ent');
     const best = page.getByLabel("Right distance best corrected VA", { exact: true });
     await best.fill("1.0");
     await poll(() => page.locator("[data-inline-error]").first().textContent()).toMatch(/cannot be read unambiguously/);
@@ -54,7 +49,6 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     await saved(page, "acuity");
 
     // The fundus finding: a retinal break in the left eye.
-    step('The fundus finding: a retinal break in the left eye.');
     await page.getByLabel("Left: retinal break (tear or hole)").check();
     await page.getByLabel("Left periphery").fill("Horseshoe tear at 1 o'clock");
     await saved(page, "fundus");
@@ -67,7 +61,6 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     await screenshot(page, "exam-red-flag");
 
     // The same page on a tablet held upright.
-    step('The same page on a tablet held upright.');
     await page.setViewportSize({ width: 820, height: 1180 });
     await screenshot(page, "exam-red-flag-tablet");
     await page.setViewportSize({ width: 1280, height: 1000 });
@@ -78,7 +71,6 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     await expectAccessible(page);
 
     // The referral form pre-fills the proposed urgency with triage's reasons.
-    step('The referral form pre-fills the proposed urgency with triage');
     await page.goto(`/referrals/new?exam=${examId}`);
     await poll(() => page.getByRole("heading", { level: 1 }).textContent()).toBe("Referral for Philippa Dunstan-Oyelaran");
     await poll(() => page.getByLabel("Urgency", { exact: true }).inputValue()).toBe("same_day");
@@ -100,7 +92,6 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     expect(text).toContain("Retinal break with flashes, floaters or a shadow in the vision");
     expect(text).toContain("Horseshoe tear at 1 o'clock");
     // The letter is for the ophthalmologist: plain clinical words, no rule sources or identifiers.
-    step('The letter is for the ophthalmologist: plain clinical words,');
     expect(text).not.toContain("Guidance for Professional Practice");
     expect(text).not.toMatch(/IOP_|RETINAL_/);
     await expectAccessible(page);
@@ -118,7 +109,6 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     const examUrl = await newExamFor(page, "Cresswell-Iqbal", "Barnaby");
 
     // Impossible values are refused with the reason, field by field.
-    step('Impossible values are refused with the reason, field by fiel');
     await page.getByLabel("Right IOP (mmHg)", { exact: true }).fill("90");
     await poll(() => page.locator("[data-inline-error]").first().textContent()).toMatch(/90 is outside 1 to 80/);
     await page.getByLabel("Right IOP (mmHg)", { exact: true }).fill("25");
@@ -131,7 +121,6 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     await saved(page, "iop");
     await poll(() => page.getByTestId("iop-mean-right").textContent()).toContain("2 readings, mean 25.0 mmHg");
     // NICE NG81: refer at 24 mmHg or more by applanation; triage proposes routine.
-    step('NICE NG81: refer at 24 mmHg or more by applanation; triage p');
     await poll(() => page.getByTestId("triage-urgency").textContent()).toBe("Proposed: Routine");
     await poll(() => page.getByTestId("triage").textContent()).toContain("NICE");
 
@@ -146,7 +135,6 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     await screenshot(page, "exam-routine");
 
     // The owner is a clinician but not the examiner: no signing, countersigning once it is signed.
-    step('The owner is a clinician but not the examiner: no signing, c');
     const owner = await browser.newPage({ viewport: { width: 1280, height: 1000 } });
     await signIn(owner, DEMO.owner);
     await owner.waitForURL("**/");
