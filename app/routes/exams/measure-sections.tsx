@@ -118,10 +118,10 @@ export function IopSection({ values, readOnly, prompts }: V & { prompts: Referra
               <legend className="px-1 text-sm font-bold">{EYE_LABEL[eye]}</legend>
               <div className="space-y-2">
                 {readings.map((n) => (
-                  <div key={n} className="grid grid-cols-[5rem_1fr_6.5rem] items-start gap-2">
-                    <ExamInput id={`iop-${eye}${n > 1 ? `-${n}` : ""}`} name={iopField(eye, "mmHg", n)} label={`${E} IOP reading ${n} (mmHg)`} inputMode="decimal" defaultValue={values[iopField(eye, "mmHg", n)]} validate={(t) => parseNumber(t, `${E} IOP`, 1, 80).error} />
-                    <ExamSelect id={`iop-${eye}-method${n > 1 ? `-${n}` : ""}`} name={iopField(eye, "method", n)} label={`Method ${n}`} defaultValue={values[iopField(eye, "method", n)]} options={IOP_METHODS} />
-                    <ExamInput id={`iop-${eye}-time${n > 1 ? `-${n}` : ""}`} name={iopField(eye, "time", n)} label={`Time ${n}`} type="time" defaultValue={values[iopField(eye, "time", n)]} />
+                  <div key={n} className="grid grid-cols-[minmax(5rem,1fr)_minmax(7rem,1.4fr)_minmax(6.5rem,1fr)] items-end gap-2">
+                    <ExamInput id={`iop-${eye}${n > 1 ? `-${n}` : ""}`} name={iopField(eye, "mmHg", n)} label={n === 1 ? `${E} IOP (mmHg)` : `${E} IOP reading ${n} (mmHg)`} inputMode="decimal" defaultValue={values[iopField(eye, "mmHg", n)]} validate={(t) => parseNumber(t, `${E} IOP`, 1, 80).error} />
+                    <ExamSelect id={`iop-${eye}-method${n > 1 ? `-${n}` : ""}`} name={iopField(eye, "method", n)} label={n === 1 ? `${E} IOP method` : `${E} IOP method, reading ${n}`} defaultValue={values[iopField(eye, "method", n)]} options={IOP_METHODS} />
+                    <ExamInput id={`iop-${eye}-time${n > 1 ? `-${n}` : ""}`} name={iopField(eye, "time", n)} label={n === 1 ? `${E} IOP time of day` : `${E} IOP time, reading ${n}`} type="time" defaultValue={values[iopField(eye, "time", n)]} />
                   </div>
                 ))}
                 <ExamInput id={`cct-${eye}`} name={cctField(eye)} label={`${E} central corneal thickness (µm), if measured`} inputMode="numeric" defaultValue={values[cctField(eye)]} validate={(t) => parseNumber(t, `${E} corneal thickness`, 300, 800, { integer: true }).error} />

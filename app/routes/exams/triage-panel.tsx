@@ -8,7 +8,7 @@ export type TriageView = { urgency: string | null; reasons: Reason[] } | null;
 
 const EYE_WORD: Record<string, string> = { R: "Right eye", L: "Left eye", both: "Both eyes" };
 const label = (u: string) => URGENCY_LABEL[u as keyof typeof URGENCY_LABEL] ?? u;
-const tone = (u: string | null) => (u === "same_day" || u === "urgent" ? "error" : u === "soon" ? "warning" : "info");
+const tone = (u: string | null) => (u === "same_day" || u === "urgent" ? "warning" : "info");
 
 export function TriagePanel({ triage }: { triage: TriageView }) {
   return (
