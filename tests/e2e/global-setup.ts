@@ -40,8 +40,8 @@ export default async function setup(project: TestProject) {
     WORKER_POLL_SECONDS: "0.5",
     ...s3Env(E2E.s3),
   });
-  await waitForPort(E2E.app, 60_000);
-  await waitForPort(workerPort, 60_000);
+  await waitForPort(E2E.app, 180_000);
+  await waitForPort(workerPort, 180_000);
   project.provide("baseUrl", baseUrl);
   project.provide("mailApiPort", E2E.mailApi);
   project.provide("e2eDatabaseUrl", databaseUrl);
