@@ -39,7 +39,7 @@ export default defineConfig({
           globalSetup: ["tests/e2e/global-setup.ts"],
           fileParallelism: false,
           testTimeout: 60_000,
-          hookTimeout: 120_000,
+          hookTimeout: 600_000,
         },
       },
     ],

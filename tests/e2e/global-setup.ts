@@ -40,8 +40,14 @@ export default async function setup(project: TestProject) {
     WORKER_POLL_SECONDS: "0.5",
     ...s3Env(E2E.s3),
   });
-  await waitForPort(E2E.app, 60_000);
-  await waitForPort(workerPort, 60_000);
+  try {
+    await waitForPort(E2E.app, 180_000);
+    await waitForPort(workerPort, 180_000);
+  } catch (error) {
+    // Leave no server behind when the set-up gives up.
+    for (const child of [app, worker, mail, stripe, s3]) await stopProcess(child);
+    throw error;
+  }
   project.provide("baseUrl", baseUrl);
   project.provide("mailApiPort", E2E.mailApi);
   project.provide("e2eDatabaseUrl", databaseUrl);

@@ -2,6 +2,7 @@ import { and, eq, sql } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { loader as eventsLoader } from "~/routes/api/appointments";
 import { loader as dayLoader } from "~/routes/schedule/day";
+import { freeSlots } from "~/routes/portal/portal.server";
 import { action as hoursAction } from "~/routes/settings/hours";
 import { action as sitesAction, loader as sitesLoader } from "~/routes/settings/sites";
 import { appointments, rooms, siteOpeningHours, sites, workingHours } from "~/db/schema";
@@ -95,6 +96,21 @@ describe("booking at a site", () => {
     await expect(
       db.insert(appointments).values({ patientId: p.id, providerId: ids.owner.id, appointmentTypeId: ids.examType.id, siteId: main.id, roomId: (await room(hill.id, "Consulting room")).id, startsAt: new Date(`${MON}T16:00:00Z`), endsAt: new Date(`${MON}T16:30:00Z`) }),
     ).rejects.toMatchObject({ cause: { constraint: "appointments_room_at_site_fk" } });
+  });
+});
+
+describe("the portal's choice of site", () => {
+  it("offers only the times of providers working at the chosen site that day", async () => {
+    const typeId = ids.examType.id;
+    const { appointmentTypes } = await import("~/db/schema");
+    await db.update(appointmentTypes).set({ onlineBooking: true }).where(eq(appointmentTypes.id, typeId));
+    const early = new Date("2028-01-01T00:00:00Z");
+    const thuHill = await freeSlots(typeId, "2028-03-16", "Europe/London", early, hill.id);
+    expect(thuHill.length).toBeGreaterThan(0);
+    expect(new Set(thuHill.map((s) => s.providerId))).toEqual(new Set([ids.optometrist.id]));
+    expect(await freeSlots(typeId, "2028-03-13", "Europe/London", early, hill.id)).toEqual([]); // a Monday: nobody there
+    const thuMain = await freeSlots(typeId, "2028-03-16", "Europe/London", early, main.id);
+    expect(thuMain.some((s) => s.providerId === ids.optometrist.id)).toBe(false);
   });
 });
 

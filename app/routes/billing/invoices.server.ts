@@ -131,7 +131,7 @@ export async function createInvoice(input: { patientId: string; examId?: string 
     const settings = await practiceBilling(tx);
     const [inv] = await tx
       .insert(invoices)
-      .values({ patientId: input.patientId, examId: input.examId ?? null, currency: settings.currency, taxRateBp: settings.taxRateBp, createdById: input.actorUserId })
+      .values({ patientId: input.patientId, examId: input.examId ?? null, siteId: await invoiceSite(tx, input.examId ?? null), currency: settings.currency, taxRateBp: settings.taxRateBp, createdById: input.actorUserId })
       .returning({ id: invoices.id });
     await insertLines(tx, inv!.id, input.lines);
     await recompute(tx, inv!.id);
@@ -322,4 +322,11 @@ export async function invoiceDetail(invoiceId: string) {
 
 export function throwNotFound(): never {
   throw data({ error: "There is no such invoice." }, { status: 404 });
+}
+
+/** An invoice for an exam belongs to the site of the exam's visit; any other to the default site. */
+async function invoiceSite(tx: Tx, examId: string | null): Promise<string | undefined> {
+  if (!examId) return undefined;
+  const [row] = await tx.select({ siteId: appointments.siteId }).from(exams).innerJoin(appointments, eq(appointments.id, exams.appointmentId)).where(eq(exams.id, examId));
+  return row?.siteId;
 }

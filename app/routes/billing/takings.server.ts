@@ -31,7 +31,8 @@ function range(p: Period) {
 
 export type TakingsEntry = { kind: "payment" | "refund"; id: string; at: Date; method: "cash" | "card_desk" | "card_online"; amountMinor: number; invoiceId: string; invoiceNumber: number | null; patient: string; reference: string; status: string };
 
-export async function takings(period: Period) {
+/** Money in and out over the period, at one site (by the invoice's site) or at all of them. */
+export async function takings(period: Period, siteId?: string) {
   const practice = await practiceBilling();
   const tz = practice.timeZone;
   const { from, to } = range(period);
@@ -39,11 +40,13 @@ export async function takings(period: Period) {
     select p.id, p.received_at as at, p.method, p.amount_minor, p.invoice_id, i.number, pt.first_name || ' ' || pt.last_name as patient, p.reference, p.status
     from payments p join invoices i on i.id = p.invoice_id join patients pt on pt.id = i.patient_id
     where p.status in ('succeeded', 'flagged') and (p.received_at at time zone ${tz})::date between ${from}::date and ${to}::date
+      ${siteId ? sql`and i.site_id = ${siteId}::uuid` : sql``}
     order by p.received_at`);
   const refs = await db.execute<{ id: string; at: Date; method: TakingsEntry["method"]; amount_minor: number; invoice_id: string; number: number | null; patient: string; reason: string }>(sql`
     select r.id, r.created_at as at, p.method, r.amount_minor, p.invoice_id, i.number, pt.first_name || ' ' || pt.last_name as patient, r.reason
     from refunds r join payments p on p.id = r.payment_id join invoices i on i.id = p.invoice_id join patients pt on pt.id = i.patient_id
     where (r.created_at at time zone ${tz})::date between ${from}::date and ${to}::date
+      ${siteId ? sql`and i.site_id = ${siteId}::uuid` : sql``}
     order by r.created_at`);
   const entries: TakingsEntry[] = [
     ...pays.rows.map((r) => ({ kind: "payment" as const, id: r.id, at: new Date(r.at), method: r.method, amountMinor: Number(r.amount_minor), invoiceId: r.invoice_id, invoiceNumber: r.number, patient: r.patient, reference: r.reference, status: r.status })),

@@ -1,4 +1,4 @@
-import { Form, Link } from "react-router";
+import { data, Form, Link } from "react-router";
 import type { Route } from "./+types/takings";
 import { BillingNav } from "./components";
 import { METHOD_LABEL } from "./documents.server";
@@ -11,6 +11,8 @@ import { Input } from "~/components/ui/input";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { formatMoney } from "~/lib/money";
 import { requireRole } from "~/utils/auth.server";
+import { activeSites, siteChoice } from "~/utils/sites.server";
+import { Select } from "~/components/ui/input";
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, BILLING_ROLES);
@@ -18,14 +20,18 @@ export async function loader({ request }: Route.LoaderArgs) {
   const url = new URL(request.url);
   const today = todayIn(practice.timeZone);
   const period = parsePeriod(url.searchParams, today);
-  const t = await takings(period);
+  const sites = await activeSites();
+  const { site, setCookie } = await siteChoice(request, sites);
+  const t = await takings(period, site === "all" ? undefined : site);
   const cur = t.currency;
   const time = new Intl.DateTimeFormat("en-GB", { timeZone: t.timeZone, day: "numeric", month: "short", hour: "2-digit", minute: "2-digit" });
   const title =
     period.kind === "day"
       ? new Intl.DateTimeFormat("en-GB", { timeZone: "UTC", weekday: "long", day: "numeric", month: "long", year: "numeric" }).format(new Date(`${period.day}T12:00:00Z`))
       : new Intl.DateTimeFormat("en-GB", { timeZone: "UTC", month: "long", year: "numeric" }).format(new Date(`${period.month}-15T12:00:00Z`));
-  return {
+  return data({
+    site,
+    sites: sites.map(({ id, name }) => ({ id, name })),
     period,
     title,
     today,
@@ -36,7 +42,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     flagged: t.flagged.length,
     invoicesTouched: t.invoicesTouched,
     mismatches: t.mismatches.map((m) => ({ ...m, paid: formatMoney(m.paidMinor, cur), payments: formatMoney(m.paymentsMinor, cur) })),
-  };
+  }, setCookie ? { headers: { "set-cookie": setCookie } } : undefined);
 }
 
 export default function Takings({ loaderData: d }: Route.ComponentProps) {
@@ -61,6 +67,21 @@ export default function Takings({ loaderData: d }: Route.ComponentProps) {
               </label>
               <Input id="day" name="day" type="date" defaultValue={d.period.kind === "day" ? d.period.day : d.today} />
             </div>
+            {d.sites.length > 1 ? (
+              <div>
+                <label htmlFor="takings-site" className="mb-1 block text-sm font-semibold">
+                  Site
+                </label>
+                <Select id="takings-site" name="site" defaultValue={d.site}>
+                  <option value="all">Every site</option>
+                  {d.sites.map((s) => (
+                    <option key={s.id} value={s.id}>
+                      {s.name}
+                    </option>
+                  ))}
+                </Select>
+              </div>
+            ) : null}
             <button type="submit" className={buttonClass("secondary")}>
               Show day
             </button>

@@ -13,11 +13,13 @@ import { isCalendarDate } from "~/lib/dates/calendar-date";
 import { readForm } from "~/utils/form.server";
 import { BookingError, bookAppointment } from "~/utils/schedule.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { activeSites } from "~/utils/sites.server";
 
 const bookSchema = z.object({
   appointmentTypeId: z.uuid({ error: "Choose a kind of visit." }),
   providerId: z.uuid({ error: "Choose a time." }),
   start: z.iso.datetime({ offset: true, error: "Choose a time." }),
+  siteId: z.uuid({ error: "Choose where." }).optional(),
 });
 
 
@@ -33,8 +35,11 @@ export async function loader({ request }: Route.LoaderArgs) {
   // A real calendar date within the booking horizon; anything else shows tomorrow.
   const valid = isCalendarDate(wanted);
   const date = valid && wanted >= today && wanted <= lastDate ? wanted : addDays(today, 1);
-  const slots = typeId ? await freeSlots(typeId, date, settings.timeZone) : [];
-  return { types: types.map(({ id, name, durationMinutes }) => ({ id, name, durationMinutes })), typeId, date, today, lastDate, slots, timeZone: settings.timeZone, practice: settings.name };
+  // Where: one of the practice's sites (the default first); a single-site practice is not asked.
+  const sites = await activeSites();
+  const site = sites.find((x) => x.id === url.searchParams.get("site")) ?? sites[0];
+  const slots = typeId ? await freeSlots(typeId, date, settings.timeZone, new Date(), sites.length > 1 ? site?.id : undefined) : [];
+  return { sites: sites.map(({ id, name }) => ({ id, name })), siteId: sites.length > 1 ? (site?.id ?? "") : "", types: types.map(({ id, name, durationMinutes }) => ({ id, name, durationMinutes })), typeId, date, today, lastDate, slots, timeZone: settings.timeZone, practice: settings.name };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -47,7 +52,7 @@ export async function action({ request }: Route.ActionArgs) {
     return data(submission.reply({ formErrors: ["That kind of visit cannot be booked online. Please phone the practice."] }), { status: 422 });
   }
   try {
-    await bookAppointment(user, { patientId, providerId: v.providerId, appointmentTypeId: v.appointmentTypeId, start: new Date(v.start), notes: "Booked online by the patient." }, request);
+    await bookAppointment(user, { patientId, providerId: v.providerId, appointmentTypeId: v.appointmentTypeId, siteId: v.siteId, start: new Date(v.start), notes: "Booked online by the patient." }, request);
   } catch (error) {
     if (error instanceof BookingError) {
       const taken = error.status === 409 ? "Someone has just taken that time. Please choose another." : error.message;
@@ -59,7 +64,7 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function BookOnline({ loaderData, actionData }: Route.ComponentProps) {
-  const { types, typeId, date, today, lastDate, slots, timeZone, practice } = loaderData;
+  const { types, typeId, date, today, lastDate, slots, timeZone, practice, sites, siteId } = loaderData;
   const navigation = useNavigation();
   const [params] = useSearchParams();
   const time = new Intl.DateTimeFormat("en-GB", { timeStyle: "short", timeZone });
@@ -76,6 +81,20 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
         <>
           <Card title="When">
             <Form method="get" className="grid gap-4 sm:grid-cols-[1fr_12rem_auto] sm:items-end">
+              {sites.length > 1 ? (
+                <div className="sm:col-span-3">
+                  <label htmlFor="site" className="mb-1 block text-sm font-semibold">
+                    Where
+                  </label>
+                  <Select id="site" name="site" defaultValue={siteId}>
+                    {sites.map((x) => (
+                      <option key={x.id} value={x.id}>
+                        {x.name}
+                      </option>
+                    ))}
+                  </Select>
+                </div>
+              ) : null}
               <div>
                 <label htmlFor="type" className="mb-1 block text-sm font-semibold">
                   Kind of visit
@@ -115,6 +134,7 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
                       <input type="hidden" name="appointmentTypeId" value={typeId} />
                       <input type="hidden" name="providerId" value={s.providerId} />
                       <input type="hidden" name="start" value={s.start} />
+                      {siteId ? <input type="hidden" name="siteId" value={siteId} /> : null}
                       <button type="submit" disabled={navigation.state !== "idle"} className={buttonClass("secondary", "w-full flex-col !items-start !gap-0 text-left")}>
                         <span className="text-base">{time.format(new Date(s.start))}</span>
                         <span className="text-xs font-normal text-muted">with {s.providerName}</span>

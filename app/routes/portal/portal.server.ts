@@ -97,7 +97,7 @@ export type FreeSlot = { start: string; providerId: string; providerName: string
  * A slot shown here can still be taken by someone else first; the booking itself is guarded by
  * the database's exclusion constraint.
  */
-export async function freeSlots(typeId: string, date: string, timeZone: string, now = new Date()): Promise<FreeSlot[]> {
+export async function freeSlots(typeId: string, date: string, timeZone: string, now = new Date(), siteId?: string): Promise<FreeSlot[]> {
   const [type] = (await onlineTypes()).filter((t) => t.id === typeId);
   if (!type) return [];
   const providers = await db
@@ -108,7 +108,8 @@ export async function freeSlots(typeId: string, date: string, timeZone: string, 
   if (!providers.length) return [];
   const ids = providers.map((p) => p.id);
   const [hours, breaks] = await Promise.all([
-    db.select().from(workingHours).where(inArray(workingHours.providerId, ids)),
+    // At one site: only the days a provider works there.
+    db.select().from(workingHours).where(and(inArray(workingHours.providerId, ids), siteId ? eq(workingHours.siteId, siteId) : undefined)),
     db.select().from(providerBreaks).where(inArray(providerBreaks.providerId, ids)),
   ]);
   const dayStart = startOfLocalDay(date, timeZone);
