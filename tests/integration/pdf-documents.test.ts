@@ -214,7 +214,7 @@ describe("long documents", () => {
     const file = savePdf(await buildLetterPdf(letter({ findings, patient: { name: "Ἀλέξανδρος Παπαδόπουλος ".repeat(6).trim(), dateOfBirth: "2 June 1961", sex: "Male", reference: "P-1", address: "9 Quarry Row" } })), "long-letter.pdf");
     const pages = pdfPages(file);
     expect(pages.length).toBeGreaterThanOrEqual(3);
-    expect(pages.filter((pg) => /Finding\s+Eye\s+Measured\s+Rule that flagged it/.test(pg)).length).toBeGreaterThanOrEqual(2);
+    expect(pages.filter((pg) => /Finding\s+Eye\s+Measured/.test(pg)).length).toBeGreaterThanOrEqual(2);
     expect(pdfRaw(file)).toContain(`Finding 60: ${SAMPLE}`);
     expectWithinPages(file);
   }, 60_000);
