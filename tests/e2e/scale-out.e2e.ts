@@ -63,7 +63,11 @@ async function startWorker(i: number) {
   });
   await waitForPort(SCALE.workers[i]!, 150_000);
   // Healthy once its queues are worked.
-  await expect.poll(async () => (await fetch(`http://127.0.0.1:${SCALE.workers[i]}/healthz`).catch(() => null))?.status, { timeout: 150_000, interval: 250 }).toBe(200);
+  const deadline = Date.now() + 150_000;
+  while ((await fetch(`http://127.0.0.1:${SCALE.workers[i]}/healthz`).catch(() => null))?.status !== 200) {
+    if (Date.now() > deadline) throw new Error(`worker ${i + 1} is not working its queues`);
+    await new Promise((r) => setTimeout(r, 250));
+  }
 }
 
 async function stop(list: (ChildProcess | undefined)[], i: number) {
