@@ -1,5 +1,8 @@
 import { sql } from "drizzle-orm";
-import { check, integer, pgTable, text, timestamp } from "drizzle-orm/pg-core";
+import { check, integer, pgEnum, pgTable, text, timestamp } from "drizzle-orm/pg-core";
+
+/** Where the practice works: chooses the dispensing standard, registration wording and acuity notation (app/lib/optics/jurisdiction.ts). */
+export const jurisdictionEnum = pgEnum("jurisdiction", ["uk", "us"]);
 
 /** The practice's own details and policies; a single row (id = 1). */
 export const practiceSettings = pgTable(
@@ -16,6 +19,7 @@ export const practiceSettings = pgTable(
     timeZone: text().notNull().default("Europe/London"),
     /** ISO 4217 code; amounts are stored in its minor unit. */
     currency: text().notNull().default("GBP"),
+    jurisdiction: jurisdictionEnum().notNull().default("uk"),
     /** Validity of a spectacle prescription, months; local law governs. */
     spectacleRxValidityMonths: integer().notNull().default(24),
     contactLensRxValidityMonths: integer().notNull().default(12),
