@@ -43,6 +43,8 @@ export const practiceSettings = pgTable(
     referralDaysUrgent: integer().notNull().default(7),
     referralDaysSoon: integer().notNull().default(28),
     referralDaysRoutine: integer().notNull().default(91),
+    /** An order still at the lab after this many days is reported overdue. */
+    labOverdueDays: integer().notNull().default(10),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [
