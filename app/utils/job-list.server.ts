@@ -5,3 +5,4 @@
 import "./reminders.server";
 import "./recalls.server";
 import "~/routes/referrals/referrals.server";
+import "~/models/orders/order-mail.server";
