@@ -92,6 +92,14 @@ function RxSummary({ rx }: { rx: NonNullable<FormData_["rx"]> }) {
   );
 }
 
+/** The form's own errors and any error of a field that has no place of its own on the page (e.g. the prescription). */
+function UnplacedErrors({ all, placed, formErrors }: { all: Record<string, string[]>; placed: string[]; formErrors?: string[] }) {
+  const shown = new Set(placed.filter((p) => !["kind", "prescriptionId", "coatings"].includes(p)));
+  const rest = Object.entries(all).filter(([k]) => k !== "" && !shown.has(k)).flatMap(([k, v]) => v.map((m) => `${k}: ${m}`));
+  const messages = [...(formErrors ?? []), ...rest];
+  return messages.length ? <Notice tone="error" title="Not saved">{messages.join(" ")}</Notice> : null;
+}
+
 function SpectacleForm({ d, lastResult }: { d: FormData_; lastResult: unknown }) {
   const navigation = useNavigation();
   const [form, fields] = useForm({
@@ -106,7 +114,7 @@ function SpectacleForm({ d, lastResult }: { d: FormData_; lastResult: unknown })
     <Form method="post" {...getFormProps(form)} className="space-y-6">
       <input type="hidden" name="kind" value="spectacles" />
       <input type="hidden" name="prescriptionId" value={d.rx!.id} />
-      {form.errors?.length ? <Notice tone="error" title="Not saved">{form.errors.join(" ")}</Notice> : null}
+      <UnplacedErrors all={form.allErrors} placed={Object.keys(fields)} formErrors={form.errors} />
       <Card title="Frame and lab">
         <div className="grid gap-4 sm:grid-cols-2">
           <SelectField label="Frame from stock" errors={fields.frameId.errors} selectProps={getSelectProps(fields.frameId)}>
@@ -200,7 +208,7 @@ function ContactLensForm({ d, lastResult }: { d: FormData_; lastResult: unknown 
     <Form method="post" {...getFormProps(form)} className="space-y-6">
       <input type="hidden" name="kind" value="contact_lenses" />
       <input type="hidden" name="prescriptionId" value={d.rx!.id} />
-      {form.errors?.length ? <Notice tone="error" title="Not saved">{form.errors.join(" ")}</Notice> : null}
+      <UnplacedErrors all={form.allErrors} placed={Object.keys(fields)} formErrors={form.errors} />
       <Card title={`Lens: ${d.rx!.lensName || "as prescribed"}`}>
         <div className="grid gap-4 sm:grid-cols-2">
           <SelectField label="Supplier" errors={fields.labId.errors} selectProps={getSelectProps(fields.labId)}>
@@ -295,7 +303,7 @@ export default function NewOrder({ loaderData, actionData }: Route.ComponentProp
                   {p.expired ? (
                     <span className="text-sm font-semibold">Expired — a new exam is needed</span>
                   ) : (
-                    <Link to={`/orders/new?patientId=${d.patient.id}&prescriptionId=${p.id}`} className="rounded-md border border-accent-700 px-3 py-1.5 text-sm font-semibold text-accent-700" aria-label={`Order from the ${p.kind === "spectacle" ? "spectacle" : "contact-lens"} prescription of ${formatDate(p.issuedAt.slice(0, 10))}`}>
+                    <Link to={`/orders/new?patientId=${d.patient.id}&prescriptionId=${p.id}`} className="rounded-md border border-accent-700 px-3 py-1.5 text-sm font-semibold text-accent-700" aria-label={`${p.kind === "spectacle" ? "Order spectacles" : "Order lenses"} from the prescription of ${formatDate(p.issuedAt.slice(0, 10))}`}>
                       {p.kind === "spectacle" ? "Order spectacles" : "Order lenses"}
                     </Link>
                   )}
