@@ -36,6 +36,7 @@ export default [
   route("billing/payments/:paymentId/receipt.pdf", "routes/billing/receipt-pdf.ts"),
   route("billing/takings.csv", "routes/billing/takings-csv.ts"),
 
+  route("orders/:orderId/order.pdf", "routes/orders/order-pdf.ts"),
   route("referrals/:referralId/letter.pdf", "routes/referrals/letter-pdf.ts"),
   route("referrals/:referralId/replies/:replyId/file", "routes/referrals/reply-file.ts"),
   route("r/:token", "routes/referrals/reply.tsx"),
@@ -65,6 +66,7 @@ export default [
       route("messages", "routes/schedule/messages.tsx"),
       route("recalls", "routes/schedule/recalls.tsx"),
     ]),
+    ...prefix("orders", [index("routes/orders/index.tsx"), route("new", "routes/orders/new.tsx"), route("reports", "routes/orders/reports.tsx"), route(":orderId", "routes/orders/order.tsx")]),
     route("account", "routes/auth/account.tsx"),
     route("tools/rx", "routes/tools/rx.tsx"),
     ...prefix("settings", [
@@ -76,12 +78,15 @@ export default [
         route("hours", "routes/settings/hours.tsx"),
         route("sites", "routes/settings/sites.tsx"),
         route("fees", "routes/settings/fees.tsx"),
+        route("frames", "routes/settings/frames.tsx"),
+        route("labs", "routes/settings/labs.tsx"),
       ]),
     ]),
     ...prefix("portal", [
       index("routes/portal/home.tsx"),
       route("book", "routes/portal/book.tsx"),
       route("invoices", "routes/portal/invoices.tsx"),
+      route("orders", "routes/portal/orders.tsx"),
       route("prescriptions", "routes/portal/prescriptions.tsx"),
       route("reminders", "routes/portal/reminders.tsx"),
     ]),

@@ -7,6 +7,7 @@ import { databaseUrl } from "../app/utils/db-url";
 import { seedBilling } from "./billing";
 import { seedCaseload } from "./caseload";
 import { DEMO_PASSWORD, DEMO_PATIENT, DEMO_PRACTICE, DEMO_USERS } from "./demo-practice";
+import { seedOrders } from "./orders";
 import { seedPortal } from "./portal";
 import { seedReferrals } from "./referrals";
 import { seedSchedule } from "./schedule";
@@ -41,6 +42,7 @@ export async function seed(url = databaseUrl()) {
       await seedSchedule(tx);
       await seedReferrals(tx);
       await seedPortal(tx);
+      await seedOrders(tx);
     });
   } finally {
     await pool.end();

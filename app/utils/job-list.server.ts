@@ -6,3 +6,4 @@ import "./reminders.server";
 import "./recalls.server";
 import "~/routes/referrals/referrals.server";
 import "./account-mail.server";
+import "~/models/orders/order-mail.server";

@@ -9,11 +9,13 @@ export const NAV: readonly NavItem[] = [
   { to: "/patients", label: "Patients", roles: ["owner", "optometrist", "receptionist"] },
   { to: "/tools/rx", label: "Rx calculator", roles: ["owner", "optometrist", "receptionist"] },
   { to: "/referrals", label: "Referrals", roles: ["owner", "optometrist", "receptionist"] },
+  { to: "/orders", label: "Orders", roles: ["owner", "optometrist", "receptionist"] },
   { to: "/billing", label: "Billing", roles: ["owner", "receptionist"] },
   { to: "/settings", label: "Practice settings", roles: ["owner"] },
   { to: "/portal", label: "My visits", roles: ["patient"] },
   { to: "/portal/invoices", label: "Invoices", roles: ["patient"] },
   { to: "/portal/prescriptions", label: "Prescriptions", roles: ["patient"] },
+  { to: "/portal/orders", label: "Glasses and lenses", roles: ["patient"] },
   { to: "/portal/reminders", label: "Reminders", roles: ["patient"] },
 ];
 

@@ -11,6 +11,7 @@ const valid = {
   name: "Larkspur Lane Eye Care",
   timeZone: "Europe/London",
   currency: "gbp",
+  jurisdiction: "uk",
   spectacleRxValidityMonths: "24",
   contactLensRxValidityMonths: "12",
   portalCancelCutoffHours: "24",
@@ -29,10 +30,11 @@ describe("practice settings", () => {
 
   it("names each bad field and saves nothing", async () => {
     const cookie = await cookieFor("owner");
-    const res = await run(practiceAction, makeRequest("/settings", { cookie, form: { ...valid, timeZone: "Mars/Olympus", currency: "pounds", spectacleRxValidityMonths: "0", portalCancelCutoffHours: "-3", email: "not-an-address" } }));
+    const res = await run(practiceAction, makeRequest("/settings", { cookie, form: { ...valid, jurisdiction: "mars", timeZone: "Mars/Olympus", currency: "pounds", spectacleRxValidityMonths: "0", portalCancelCutoffHours: "-3", email: "not-an-address" } }));
     expect(statusOf(res)).toBe(400);
     const errors = dataOf<{ error: Record<string, string[]> }>(res).error;
-    expect(Object.keys(errors).sort()).toEqual(["currency", "email", "portalCancelCutoffHours", "spectacleRxValidityMonths", "timeZone"]);
+    expect(Object.keys(errors).sort()).toEqual(["currency", "email", "jurisdiction", "portalCancelCutoffHours", "spectacleRxValidityMonths", "timeZone"]);
+    expect(errors.jurisdiction?.[0]).toMatch(/Choose where the practice works/);
     expect(errors.timeZone?.[0]).toMatch(/IANA time zone/);
   });
 
@@ -44,6 +46,6 @@ describe("practice settings", () => {
     const res = await run(practiceAction, makeRequest("/settings", { cookie, form: { ...current, currency: "gbp" } }));
     expect(statusOf(res)).toBe(302);
     const [row] = await db.select().from(practiceSettings).where(eq(practiceSettings.id, 1));
-    expect(row).toMatchObject({ currency: "GBP", name: before!.name, addressLine1: before!.addressLine1, portalCancelCutoffHours: before!.portalCancelCutoffHours });
+    expect(row).toMatchObject({ currency: "GBP", jurisdiction: before!.jurisdiction, name: before!.name, addressLine1: before!.addressLine1, portalCancelCutoffHours: before!.portalCancelCutoffHours });
   });
 });

@@ -3,6 +3,7 @@ export * from "./auth";
 export * from "./billing";
 export * from "./documents";
 export * from "./exams";
+export * from "./orders";
 export * from "./patients";
 export * from "./portal";
 export * from "./practice";

@@ -4,6 +4,8 @@ import { check, integer, pgEnum, pgTable, text, timestamp } from "drizzle-orm/pg
 /** How the practice writes distance acuity: metric Snellen (6/6), feet (20/20), decimal (1.0) or logMAR (0.00). */
 export const acuityNotationEnum = pgEnum("acuity_notation", ["metric", "feet", "decimal", "logmar"]);
 export type AcuityNotation = (typeof acuityNotationEnum.enumValues)[number];
+/** Where the practice works: chooses the dispensing standard, registration wording and acuity notation (app/lib/optics/jurisdiction.ts). */
+export const jurisdictionEnum = pgEnum("jurisdiction", ["uk", "us"]);
 
 /** The practice's own details and policies; a single row (id = 1). */
 export const practiceSettings = pgTable(
@@ -20,6 +22,7 @@ export const practiceSettings = pgTable(
     timeZone: text().notNull().default("Europe/London"),
     /** ISO 4217 code; amounts are stored in its minor unit. */
     currency: text().notNull().default("GBP"),
+    jurisdiction: jurisdictionEnum().notNull().default("uk"),
     /** Validity of a spectacle prescription, months; local law governs. */
     spectacleRxValidityMonths: integer().notNull().default(24),
     contactLensRxValidityMonths: integer().notNull().default(12),
@@ -49,6 +52,8 @@ export const practiceSettings = pgTable(
     portalBookingDays: integer().notNull().default(90),
     /** How far ahead the practice team may book, days (two years covers the longest usual recall). */
     staffBookingDays: integer().notNull().default(730),
+    /** An order still at the lab after this many days is reported overdue. */
+    labOverdueDays: integer().notNull().default(10),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [

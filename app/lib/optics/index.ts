@@ -62,8 +62,15 @@ export {
   type LowVisionCategory,
 } from "./acuity";
 export {
+  DISPENSING_STANDARDS,
   checkDispensing,
   checkDispensingReport,
+  checkMountedPair,
+  type DispensingStandard,
+  type PairCheck,
+  type PairEye,
+  type PairReport,
+  type PrismComponents,
   type DispensingCheck,
   type DispensingElement,
   type DispensingFailure,
@@ -109,3 +116,9 @@ export {
   type ReferralFindings,
   type ReferralPrompt,
 } from "./referral";
+export {
+  JURISDICTIONS,
+  jurisdictionOf,
+  type Jurisdiction,
+  type JurisdictionRules,
+} from "./jurisdiction";

@@ -1,7 +1,8 @@
 import { and, eq } from "drizzle-orm";
 import { data } from "react-router";
 import type { Route } from "./+types/prescription-pdf";
-import { patients, prescriptions } from "~/db/schema";
+import { patients, practiceSettings, prescriptions } from "~/db/schema";
+import { jurisdictionOf } from "~/lib/optics/jurisdiction";
 import { formatRx, type SphCyl } from "~/lib/optics";
 import { audit } from "~/utils/audit.server";
 import { assertPatientAccess, requireUser } from "~/utils/auth.server";
@@ -33,6 +34,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   if (!exists) throw data({ error: "Not found." }, { status: 404 });
   const rx = (await prescriptionsOf(params.patientId)).find((p) => p.id === exists.id)!;
   const [patient] = await db.select().from(patients).where(eq(patients.id, params.patientId));
+  const [settings] = await db.select({ jurisdiction: practiceSettings.jurisdiction }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const rules = jurisdictionOf(settings?.jurisdiction);
   const title = rx.kind === "spectacle" ? "Spectacle prescription" : "Contact-lens prescription";
   const pdf = await PdfWriter.create({ title, practice: await loadLetterhead(), author: rx.prescriberName });
   pdf.heading(title, 16);
@@ -88,7 +91,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   pdf.spacer(10);
   pdf.keyValues([
     ["Prescriber", rx.prescriberName],
-    ["Licence number", rx.prescriberLicence || "-"],
+    [rules.registrationLabel, rx.prescriberLicence || "-"],
     ["Signed", `Electronically signed at issue, ${formatDate(rx.issuedAt)}`],
   ]);
   pdf.notes("Cautions", [...RX_CAUTIONS]);

@@ -17,6 +17,8 @@ const tabs = [
   { to: "/settings/hours", label: "Working hours", end: false },
   { to: "/settings/fees", label: "Fee schedule", end: false },
   { to: "/settings/recipients", label: "Referral recipients", end: false },
+  { to: "/settings/frames", label: "Frames", end: false },
+  { to: "/settings/labs", label: "Labs", end: false },
 ];
 
 export default function SettingsLayout() {

@@ -1,15 +1,16 @@
-import { getFormProps, getInputProps, useForm } from "@conform-to/react";
+import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { eq } from "drizzle-orm";
 import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/practice";
-import { Field } from "~/components/forms";
+import { Field, SelectField } from "~/components/forms";
 import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice } from "~/components/ui/notice";
 import { practiceSettings } from "~/db/schema";
+import { JURISDICTIONS } from "~/lib/optics/jurisdiction";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
@@ -38,6 +39,7 @@ export const practiceSchema = z.object({
     .trim()
     .toUpperCase()
     .regex(/^[A-Z]{3}$/, "Use a three-letter ISO 4217 code such as GBP, EUR or USD."),
+  jurisdiction: z.enum(["uk", "us"], { error: "Choose where the practice works." }),
   spectacleRxValidityMonths: z.coerce.number({ error: "Give a number of months." }).int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months."),
   contactLensRxValidityMonths: z.coerce.number({ error: "Give a number of months." }).int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months."),
   portalCancelCutoffHours: z.coerce.number({ error: "Give a number of hours." }).int("Whole hours only.").min(0, "Zero or more hours.").max(336, "At most 336 hours (two weeks)."),
@@ -98,6 +100,22 @@ export default function PracticeSettings({ loaderData, actionData }: Route.Compo
           <div className="grid gap-4 sm:grid-cols-2">
             <Field label="Time zone" hint="IANA name, e.g. Europe/London." errors={fields.timeZone.errors} inputProps={getInputProps(fields.timeZone, { type: "text" })} />
             <Field label="Currency" hint="ISO 4217 code." errors={fields.currency.errors} inputProps={getInputProps(fields.currency, { type: "text" })} />
+            <div>
+              <SelectField label="Jurisdiction" errors={fields.jurisdiction.errors} selectProps={getSelectProps(fields.jurisdiction)}>
+                {Object.entries(JURISDICTIONS).map(([code, j]) => (
+                  <option key={code} value={code}>
+                    {j.label}
+                  </option>
+                ))}
+              </SelectField>
+              <p className="mt-1 text-sm text-muted">
+                Chooses the dispensing standard spectacles are checked against (
+                {Object.values(JURISDICTIONS)
+                  .map((j) => `${j.label}: ${j.dispensingStandard}`)
+                  .join("; ")}
+                ), the registration wording on prescriptions and the default acuity notation. Local law governs.
+              </p>
+            </div>
             <Field
               label="Spectacle prescription valid for (months)"
               hint="Local law and licensed practice govern this period."

@@ -1,0 +1,462 @@
+import { parseWithZod } from "@conform-to/zod/v4";
+import { eq } from "drizzle-orm";
+import { data, Form, Link, useNavigation } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/order";
+import { GeneralErrorBoundary } from "~/components/error-boundary";
+import { ErrorList } from "~/components/forms";
+import { PageHeader } from "~/components/page-header";
+import { Button } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Input, Select, Textarea } from "~/components/ui/input";
+import { Notice, StatusBadge } from "~/components/ui/notice";
+import { invoices } from "~/db/schema";
+import { formatMoney, parseMoney } from "~/lib/money";
+import { formatRx, type PairReport } from "~/lib/optics";
+import { LENS_TYPE_LABEL, STATE_LABEL, type OrderStateName } from "~/lib/orders/states";
+import { cancelOrder, collectOrder, markReady, markReceived, markRemake, ORDER_ROLES, orderDetail, OrderError, OVERRIDE_ROLES, practiceOrderSettings, raiseOrderInvoice, recordCheck, sendToLab } from "~/models/orders/orders.server";
+import { invoiceLabel } from "~/routes/billing/invoices.server";
+import { formatDate, isUuid } from "~/routes/patients/patient-schema";
+import { requireRole } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+import { redirectWithToast } from "~/utils/toast.server";
+import { checkSchema } from "./order-schema";
+
+const STATES = ["draft", "sent_to_lab", "received", "checked", "ready_to_collect", "collected", "remake", "cancelled"] as const;
+const moveSchema = z.discriminatedUnion("intent", [
+  z.object({ intent: z.literal("send"), expected: z.enum(["draft", "remake"]) }),
+  z.object({ intent: z.literal("received"), expected: z.literal("sent_to_lab") }),
+  z.object({ intent: z.literal("ready"), expected: z.enum(["checked", "received"]), overrideReason: z.string().trim().max(500).default("") }),
+  z.object({ intent: z.literal("remake"), expected: z.enum(STATES), reason: z.string({ error: "Say why the order is being remade." }).trim().min(3, "Say why the order is being remade.").max(500) }),
+  z.object({ intent: z.literal("cancel"), expected: z.enum(STATES), reason: z.string({ error: "Say why the order is cancelled." }).trim().min(3, "Say why the order is cancelled.").max(500) }),
+  z.object({ intent: z.literal("collect"), expected: z.literal("ready_to_collect"), method: z.enum(["cash", "card_desk"]).default("card_desk"), amount: z.string().trim().default(""), reference: z.string().trim().max(80).default("") }),
+  z.object({ intent: z.literal("raise-invoice") }),
+]);
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const user = await requireRole(request, ORDER_ROLES);
+  if (!isUuid(params.orderId)) throw data({ error: "There is no such order." }, { status: 404 });
+  const d = await orderDetail(params.orderId);
+  if (!d) throw data({ error: "There is no such order." }, { status: 404 });
+  const settings = await practiceOrderSettings();
+  const [inv] = d.order.invoiceId ? await db.select().from(invoices).where(eq(invoices.id, d.order.invoiceId)) : [];
+  return {
+    role: user.role,
+    canOverride: (OVERRIDE_ROLES as readonly string[]).includes(user.role),
+    standard: settings.rules.dispensingStandard,
+    currency: settings.currency,
+    label: d.label,
+    order: { ...d.order, createdAt: d.order.createdAt.toISOString(), stateChangedAt: d.order.stateChangedAt.toISOString() },
+    patient: d.patient,
+    lab: { name: d.lab.name, email: d.lab.email },
+    rx: { issuedAt: d.rx.issuedAt.toISOString(), expiresOn: d.rx.expiresOn, lensName: d.rx.lensName, eyes: [d.rx.right, d.rx.left].filter((e) => e !== null) },
+    events: d.events.map((e) => ({ ...e, at: e.at.toISOString() })),
+    checks: d.checks.map((c) => ({ ...c, at: c.at.toISOString() })),
+    messages: d.messages.map((m) => ({ id: m.id, kind: m.kind, status: m.status, recipient: m.recipient, skippedReason: m.skippedReason, lastError: m.lastError, sentAt: m.sentAt?.toISOString() ?? null })),
+    invoice: inv ? { id: inv.id, label: invoiceLabel(inv.number), status: inv.status, totalMinor: inv.totalMinor, paidMinor: inv.paidMinor } : null,
+  };
+}
+
+type ActionResult = { intent: string; message?: string; fieldErrors?: Record<string, string[]> };
+
+export async function action({ request, params }: Route.ActionArgs) {
+  const user = await requireRole(request, ORDER_ROLES);
+  if (!isUuid(params.orderId)) throw data({ error: "There is no such order." }, { status: 404 });
+  const id = params.orderId;
+  const formData = await request.formData();
+  const intent = String(formData.get("intent") ?? "");
+  const fail = (status: number, r: Omit<ActionResult, "intent">) => data<ActionResult>({ intent, ...r }, { status });
+  try {
+    if (intent === "check") {
+      const submission = parseWithZod(formData, { schema: checkSchema });
+      if (submission.status !== "success") return fail(400, { fieldErrors: (submission.reply().error ?? {}) as Record<string, string[]>, message: "Some readings need correcting." });
+      const report = await recordCheck(user, id, { right: submission.value.right, left: submission.value.left }, request);
+      return redirectWithToast(`/orders/${id}`, report.pass ? { kind: "success", title: `Passed the check (${report.standard})` } : { kind: "warning", title: `Failed the check (${report.standard})`, description: "See the report. Send for a remake, or an optician may release it with a reason." });
+    }
+    const submission = parseWithZod(formData, { schema: moveSchema });
+    if (submission.status !== "success") return fail(400, { fieldErrors: (submission.reply().error ?? {}) as Record<string, string[]> });
+    const v = submission.value;
+    switch (v.intent) {
+      case "send":
+        await sendToLab(user, id, v.expected, request);
+        return redirectWithToast(`/orders/${id}`, { kind: "success", title: "Sent to the lab", description: "The order form is on its way by e-mail." });
+      case "received":
+        await markReceived(user, id, request);
+        return redirectWithToast(`/orders/${id}`, { kind: "success", title: "Marked received from the lab" });
+      case "ready":
+        await markReady(user, id, v.expected, v.overrideReason, request);
+        return redirectWithToast(`/orders/${id}`, { kind: "success", title: "Ready to collect", description: "The patient is told by e-mail if they accept e-mails." });
+      case "remake":
+        await markRemake(user, id, v.expected, v.reason, request);
+        return redirectWithToast(`/orders/${id}`, { kind: "success", title: "Marked for a remake" });
+      case "cancel": {
+        const r = await cancelOrder(user, id, v.expected, v.reason, request);
+        return redirectWithToast(`/orders/${id}`, { kind: r.invoiceNote ? "warning" : "success", title: "Order cancelled", description: r.invoiceNote ?? "Any frame went back into stock." });
+      }
+      case "collect": {
+        const d = await orderDetail(id);
+        const currency = (await practiceOrderSettings()).currency;
+        let payment = null;
+        if (v.amount) {
+          const amountMinor = parseMoney(v.amount, currency);
+          if (amountMinor === null || amountMinor <= 0) return fail(400, { fieldErrors: { amount: ["Give an amount such as 45.00, or leave it empty when nothing is due."] } });
+          payment = { method: v.method, amountMinor, reference: v.reference };
+        }
+        if (!d) throw data({ error: "There is no such order." }, { status: 404 });
+        await collectOrder(user, id, payment, request);
+        return redirectWithToast(`/orders/${id}`, { kind: "success", title: "Collected", description: payment ? `${formatMoney(payment.amountMinor, currency)} taken.` : undefined });
+      }
+      case "raise-invoice": {
+        const invoiceId = await raiseOrderInvoice(user, id, request);
+        return redirectWithToast(`/billing/invoices/${invoiceId}`, { kind: "success", title: "Invoice raised" });
+      }
+    }
+  } catch (error) {
+    if (error instanceof OrderError) return fail(error.status, error.field ? { fieldErrors: { [error.field]: [error.message] }, message: error.message } : { message: error.message });
+    throw error;
+  }
+}
+
+const tone = (s: OrderStateName) => (s === "cancelled" || s === "remake" ? "warning" : s === "ready_to_collect" || s === "collected" ? "success" : "info");
+
+function CheckReport({ report }: { report: PairReport }) {
+  const rows = [
+    ...(["right", "left"] as const).flatMap((side) =>
+      report[side].checks.map((c) => ({ key: `${side}-${c.element}`, what: `${side === "right" ? "Right" : "Left"} ${c.element}`, ordered: String(c.ordered), measured: String(c.measured), off: String(c.difference), tol: c.tolerance === null ? "—" : `±${c.tolerance}${c.element === "axis" ? "°" : " D"}`, pass: c.pass, rule: c.rule })),
+    ),
+    ...report.pair.map((c) => ({ key: c.element, what: `Pair: ${c.element}`, ordered: "", measured: "", off: `${c.difference} ${c.unit}`, tol: `${c.tolerance} ${c.unit}`, pass: c.pass, rule: c.rule })),
+  ];
+  return (
+    <div className="overflow-x-auto">
+      <table className="w-full text-left text-sm">
+        <caption className="sr-only">Dispensing check, element by element</caption>
+        <thead>
+          <tr className="border-b border-line">
+            <th className="py-1 pr-3">Element</th>
+            <th className="py-1 pr-3">Ordered</th>
+            <th className="py-1 pr-3">Measured</th>
+            <th className="py-1 pr-3">Off by</th>
+            <th className="py-1 pr-3">Allowed</th>
+            <th className="py-1 pr-3">Result</th>
+            <th className="py-1">Rule</th>
+          </tr>
+        </thead>
+        <tbody>
+          {rows.map((r) => (
+            <tr key={r.key} className="border-b border-line">
+              <td className="py-1 pr-3">{r.what}</td>
+              <td className="py-1 pr-3">{r.ordered}</td>
+              <td className="py-1 pr-3">{r.measured}</td>
+              <td className="py-1 pr-3">{r.off}</td>
+              <td className="py-1 pr-3">{r.tol}</td>
+              <td className="py-1 pr-3">{r.pass ? <StatusBadge tone="success">Within</StatusBadge> : <StatusBadge tone="error">Outside</StatusBadge>}</td>
+              <td className="py-1 text-muted">{r.rule}</td>
+            </tr>
+          ))}
+        </tbody>
+      </table>
+    </div>
+  );
+}
+
+function EyeReadingFields({ side, errors }: { side: "right" | "left"; errors: Record<string, string[]> }) {
+  const label = side === "right" ? "Right" : "Left";
+  const f = (name: string) => `${side}.${name}`;
+  const err = (name: string) => errors[f(name)];
+  const input = (name: string, text: string, hint?: string) => (
+    <div>
+      <label htmlFor={`check-${side}-${name}`} className="mb-1 block text-sm font-semibold">
+        {text}
+      </label>
+      <Input id={`check-${side}-${name}`} name={f(name)} type="text" aria-invalid={err(name) ? true : undefined} aria-describedby={[hint ? `check-${side}-${name}-hint` : "", err(name) ? `check-${side}-${name}-error` : ""].filter(Boolean).join(" ") || undefined} />
+      {hint ? <p id={`check-${side}-${name}-hint`} className="mt-1 text-xs text-muted">{hint}</p> : null}
+      <ErrorList id={`check-${side}-${name}-error`} errors={err(name)} />
+    </div>
+  );
+  const base = (name: string, text: string, options: string[]) => (
+    <div>
+      <label htmlFor={`check-${side}-${name}`} className="mb-1 block text-sm font-semibold">
+        {text}
+      </label>
+      <Select id={`check-${side}-${name}`} name={f(name)} aria-invalid={err(name) ? true : undefined} aria-describedby={err(name) ? `check-${side}-${name}-error` : undefined}>
+        <option value="">—</option>
+        {options.map((o) => (
+          <option key={o} value={o}>
+            {o}
+          </option>
+        ))}
+      </Select>
+      <ErrorList id={`check-${side}-${name}-error`} errors={err(name)} />
+    </div>
+  );
+  return (
+    <fieldset className="grid gap-3 sm:grid-cols-4">
+      <legend className="mb-2 font-semibold">{label} lens</legend>
+      <div className="sm:col-span-2">{input("rx", `${label} lensmeter reading`, "Sphere, cylinder and axis, e.g. -2.25 -0.75 x 175.")}</div>
+      {input("add", `${label} add`)}
+      <div />
+      {input("horizontalPrism", `${label} horizontal prism (Δ)`)}
+      {base("horizontalBase", `${label} horizontal base`, ["in", "out"])}
+      {input("verticalPrism", `${label} vertical prism (Δ)`)}
+      {base("verticalBase", `${label} vertical base`, ["up", "down"])}
+      {input("pdMm", `${label} centre from bridge (mm)`, "Optional: where the optical centre was found.")}
+      {input("heightMm", `${label} centre height (mm)`)}
+    </fieldset>
+  );
+}
+
+export default function OrderPage({ loaderData: d, actionData }: Route.ComponentProps) {
+  const navigation = useNavigation();
+  const result = actionData as ActionResult | undefined;
+  const errorsFor = (intent: string) => (result?.intent === intent ? (result.fieldErrors ?? {}) : {});
+  const state = d.order.state as OrderStateName;
+  const pending = (intent: string) => navigation.state === "submitting" && navigation.formData?.get("intent") === intent;
+  const lastCheck = d.checks[0];
+  const balance = d.invoice ? d.invoice.totalMinor - d.invoice.paidMinor : 0;
+  const move = (intent: string, text: string, extra?: React.ReactNode, variant: "primary" | "secondary" | "danger" = "primary") => (
+    <Form method="post" className="space-y-2">
+      <input type="hidden" name="intent" value={intent} />
+      <input type="hidden" name="expected" value={state} />
+      {extra}
+      <Button type="submit" variant={variant} pending={pending(intent)}>
+        {text}
+      </Button>
+    </Form>
+  );
+  const reasonField = (intent: string, label: string) => (
+    <div>
+      <label htmlFor={`${intent}-reason`} className="mb-1 block text-sm font-semibold">
+        {label}
+      </label>
+      <Textarea id={`${intent}-reason`} name="reason" rows={2} aria-invalid={errorsFor(intent).reason ? true : undefined} aria-describedby={errorsFor(intent).reason ? `${intent}-reason-error` : undefined} />
+      <ErrorList id={`${intent}-reason-error`} errors={errorsFor(intent).reason} />
+    </div>
+  );
+  const open = state !== "collected" && state !== "cancelled";
+  return (
+    <>
+      <PageHeader
+        title={`${d.order.kind === "spectacles" ? "Spectacle order" : "Contact-lens order"} ${d.label}`}
+        description={
+          <>
+            For{" "}
+            <Link to={`/patients/${d.patient.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
+              {d.patient.firstName} {d.patient.lastName}
+            </Link>{" "}
+            · lab {d.lab.name} · <StatusBadge tone={tone(state)}>{STATE_LABEL[state]}</StatusBadge>
+          </>
+        }
+        actions={
+          <a href={`/orders/${d.order.id}/order.pdf`} className="rounded-md border border-line bg-white px-4 py-2 text-sm font-semibold">
+            Order form (PDF)
+          </a>
+        }
+      />
+      {result?.message && !result.fieldErrors ? (
+        <div className="mb-6">
+          <Notice tone="error" title="Not done">
+            {result.message}
+          </Notice>
+        </div>
+      ) : null}
+      <div className="grid gap-6 lg:grid-cols-[1fr_22rem]">
+        <div className="space-y-6">
+          <Card title="Order">
+            <dl className="grid gap-x-6 gap-y-2 text-sm sm:grid-cols-2">
+              <div>
+                <dt className="font-semibold">Prescription</dt>
+                <dd>
+                  {d.rx.eyes.map((e) => (
+                    <span key={e.eye} className="block">
+                      {e.eye === "right" ? "R" : "L"} {formatRx(e)}
+                      {e.addPower ? ` add +${e.addPower.toFixed(2)}` : ""}
+                      {e.prismDioptres ? ` · ${e.prismDioptres.toFixed(2)} Δ base ${e.prismBase}` : ""}
+                    </span>
+                  ))}
+                  <span className="text-muted">Issued {formatDate(d.rx.issuedAt.slice(0, 10))}, valid until {formatDate(d.rx.expiresOn)}</span>
+                </dd>
+              </div>
+              {d.order.kind === "spectacles" ? (
+                <>
+                  <div>
+                    <dt className="font-semibold">Frame</dt>
+                    <dd>{d.order.frameLabel}</dd>
+                  </div>
+                  <div>
+                    <dt className="font-semibold">Lenses</dt>
+                    <dd>
+                      {d.order.lensType ? LENS_TYPE_LABEL[d.order.lensType] : ""}, {d.order.lensMaterial}
+                      {d.order.coatings.length ? `; ${d.order.coatings.join(", ")}` : ""}
+                      {d.order.tint ? `; tint ${d.order.tint}` : ""}
+                    </dd>
+                  </div>
+                  <div>
+                    <dt className="font-semibold">Monocular PDs and heights</dt>
+                    <dd>
+                      R {d.order.pdRightMm} mm{d.order.heightRightMm ? ` / ${d.order.heightRightMm} mm` : ""} · L {d.order.pdLeftMm} mm{d.order.heightLeftMm ? ` / ${d.order.heightLeftMm} mm` : ""}
+                    </dd>
+                  </div>
+                </>
+              ) : (
+                <div>
+                  <dt className="font-semibold">Lens and boxes</dt>
+                  <dd>
+                    {d.rx.lensName} · right {d.order.boxesRight}, left {d.order.boxesLeft}
+                  </dd>
+                </div>
+              )}
+              {d.order.notes ? (
+                <div>
+                  <dt className="font-semibold">Notes</dt>
+                  <dd>{d.order.notes}</dd>
+                </div>
+              ) : null}
+              {d.order.overrideReason ? (
+                <div>
+                  <dt className="font-semibold">Released despite the check</dt>
+                  <dd>{d.order.overrideReason}</dd>
+                </div>
+              ) : null}
+            </dl>
+          </Card>
+          {d.order.kind === "spectacles" && state === "received" ? (
+            <Card title={`Lensmeter check (${d.standard})`}>
+              <p className="mb-4 text-sm text-muted">Type what the lensmeter reads. The practice's dispensing standard decides each element; the optician checking the spectacles has the last word.</p>
+              {result?.intent === "check" && result.message ? (
+                <div className="mb-4">
+                  <Notice tone="error" title="Not checked">
+                    {result.message}
+                  </Notice>
+                </div>
+              ) : null}
+              <Form method="post" className="space-y-6">
+                <input type="hidden" name="intent" value="check" />
+                <input type="hidden" name="expected" value="received" />
+                <EyeReadingFields side="right" errors={errorsFor("check")} />
+                <EyeReadingFields side="left" errors={errorsFor("check")} />
+                <Button type="submit" pending={pending("check")}>
+                  Run the check
+                </Button>
+              </Form>
+            </Card>
+          ) : null}
+          {lastCheck ? (
+            <Card title={`Last check: ${lastCheck.pass ? "passed" : "failed"} (${lastCheck.standard})`}>
+              <p className="mb-3 text-sm text-muted">
+                By {lastCheck.by ?? "—"}, {formatDate(lastCheck.at.slice(0, 10))}.
+              </p>
+              <CheckReport report={lastCheck.report} />
+            </Card>
+          ) : null}
+          <Card title="History">
+            <ol className="space-y-2 text-sm">
+              {d.events.map((e) => (
+                <li key={e.id}>
+                  <span className="font-semibold">{STATE_LABEL[e.toState as OrderStateName]}</span> — {e.actor ?? "system"}, {new Date(e.at).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}
+                  {e.reason ? <span className="text-muted"> · {e.reason}</span> : null}
+                </li>
+              ))}
+            </ol>
+            {d.messages.length ? (
+              <ul className="mt-4 space-y-1 text-sm">
+                {d.messages.map((m) => (
+                  <li key={m.id}>
+                    {m.kind === "lab_order" ? "Order e-mail to the lab" : "Ready e-mail to the patient"}: <span className="font-semibold">{m.status}</span>
+                    {m.recipient ? ` (${m.recipient})` : ""}
+                    {m.skippedReason ? ` — ${m.skippedReason}` : ""}
+                    {m.lastError ? ` — last error: ${m.lastError}` : ""}
+                  </li>
+                ))}
+              </ul>
+            ) : null}
+          </Card>
+        </div>
+        <div className="space-y-6">
+          <Card title="Next step">
+            <div className="space-y-4">
+              {state === "draft" || state === "remake" ? move("send", state === "remake" ? "Send the remake to the lab" : "Send to the lab") : null}
+              {state === "sent_to_lab" ? move("received", "Mark received from the lab") : null}
+              {state === "checked" || (state === "received" && d.order.kind === "contact_lenses")
+                ? move(
+                    "ready",
+                    "Mark ready to collect",
+                    lastCheck && !lastCheck.pass && d.canOverride ? (
+                      <div>
+                        <label htmlFor="overrideReason" className="mb-1 block text-sm font-semibold">
+                          Reason for releasing despite the failed check
+                        </label>
+                        <Textarea id="overrideReason" name="overrideReason" rows={2} aria-invalid={errorsFor("ready").overrideReason ? true : undefined} aria-describedby={errorsFor("ready").overrideReason ? "overrideReason-error" : undefined} />
+                        <ErrorList id="overrideReason-error" errors={errorsFor("ready").overrideReason} />
+                      </div>
+                    ) : lastCheck && !lastCheck.pass ? (
+                      <p className="text-sm">These spectacles failed the check: send them for a remake, or ask an optician or optometrist to release them with a reason.</p>
+                    ) : null,
+                  )
+                : null}
+              {state === "ready_to_collect"
+                ? move(
+                    "collect",
+                    "Mark collected",
+                    d.invoice ? (
+                      <div className="space-y-2">
+                        <p className="text-sm">
+                          Balance on {d.invoice.label}: <span className="font-semibold">{formatMoney(balance, d.currency)}</span>
+                        </p>
+                        {balance > 0 ? (
+                          <>
+                            <div>
+                              <label htmlFor="collect-amount" className="mb-1 block text-sm font-semibold">
+                                Take now ({d.currency})
+                              </label>
+                              <Input id="collect-amount" name="amount" type="text" inputMode="decimal" defaultValue={(balance / 100).toFixed(2)} aria-invalid={errorsFor("collect").amount ? true : undefined} aria-describedby={errorsFor("collect").amount ? "collect-amount-error" : undefined} />
+                              <ErrorList id="collect-amount-error" errors={errorsFor("collect").amount} />
+                            </div>
+                            <div>
+                              <label htmlFor="collect-method" className="mb-1 block text-sm font-semibold">
+                                Paid by
+                              </label>
+                              <Select id="collect-method" name="method" defaultValue="card_desk">
+                                <option value="card_desk">Card at the desk</option>
+                                <option value="cash">Cash</option>
+                              </Select>
+                            </div>
+                          </>
+                        ) : null}
+                      </div>
+                    ) : null,
+                  )
+                : null}
+              {["received", "checked", "ready_to_collect"].includes(state) ? move("remake", "Send for a remake", reasonField("remake", "Reason for the remake"), "secondary") : null}
+              {open && state !== "ready_to_collect" ? move("cancel", "Cancel the order", reasonField("cancel", "Reason for cancelling"), "danger") : null}
+              {!open ? <p className="text-sm text-muted">Nothing more to do.</p> : null}
+            </div>
+          </Card>
+          <Card title="Invoice">
+            {d.invoice ? (
+              <p className="text-sm">
+                <Link to={`/billing/invoices/${d.invoice.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
+                  {d.invoice.label}
+                </Link>{" "}
+                · {formatMoney(d.invoice.totalMinor, d.currency)} · paid {formatMoney(d.invoice.paidMinor, d.currency)} · {d.invoice.status.replace("_", " ")}
+              </p>
+            ) : (
+              <Form method="post">
+                <input type="hidden" name="intent" value="raise-invoice" />
+                <p className="mb-2 text-sm">No invoice yet.</p>
+                <Button type="submit" variant="secondary" pending={pending("raise-invoice")}>
+                  Raise the invoice
+                </Button>
+              </Form>
+            )}
+          </Card>
+        </div>
+      </div>
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.label ?? "Order"} · Dioptra` }];
+
+export function ErrorBoundary() {
+  return <GeneralErrorBoundary />;
+}
