@@ -137,7 +137,7 @@ describe("the optometrist's day: patients, chart, exam, prescription, upload", (
     const text = execFileSync("pdftotext", ["-layout", file, "-"]).toString();
     expect(text).toContain("Spectacle prescription");
     expect(text).toContain("Benedikt Sorrell-Amadi");
-    expect(text).toContain("-4.50");
+    expect(text).toContain("−4.50");
     expect(text).toContain("Tobias Wren");
     expect(text).toContain("01-31982");
     expect(text).toContain("Check every value against the signed exam before ordering lenses.");
