@@ -136,11 +136,11 @@ describe("appointment e-mails", () => {
       const id = await bookFor(p.id, "2027-04-07T10:00:00+01:00");
       await stopJobs();
       await startWorkers([APPOINTMENT_MAIL_QUEUE], { pollingIntervalSeconds: 0.5 });
-      const failed = await waitFor(() => message(id, "confirmation"), (m) => m.attempts >= 1 && Boolean(m.lastError));
+      const failed = await waitFor(() => message(id, "confirmation"), (m) => m.attempts >= 1 && Boolean(m.lastError), 60_000);
       expect(failed.status).toBe("queued");
       expect(failed.lastError).toMatch(/ECONNREFUSED|connect/i);
       standIn = await startMailStandIn(smtpPort, apiPort);
-      const sent = await waitFor(() => message(id, "confirmation"), (m) => m.status === "sent", 30_000);
+      const sent = await waitFor(() => message(id, "confirmation"), (m) => m.status === "sent", 60_000);
       expect(sent.attempts).toBeGreaterThanOrEqual(2);
       const mails = await mailTo(p.email!, apiPort);
       expect(mails).toHaveLength(1);
@@ -150,5 +150,5 @@ describe("appointment e-mails", () => {
       await stopJobs();
       await stopProcess(standIn);
     }
-  }, 60_000);
+  }, 150_000);
 });
