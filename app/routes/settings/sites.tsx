@@ -82,6 +82,7 @@ export async function action({ request }: Route.ActionArgs) {
     else hours.push({ weekday, startMinute: s, endMinute: e });
   }
 
+  if (siteId && !z.uuid().safeParse(siteId).success) return data({ errors: { "": ["No such site."] } as Errors }, { status: 404 });
   const existing = siteId ? await db.select().from(sites).where(eq(sites.id, siteId)) : [];
   if (siteId && !existing.length) return data({ errors: { "": ["No such site."] } as Errors }, { status: 404 });
   const before = existing[0];
