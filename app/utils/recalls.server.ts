@@ -4,7 +4,7 @@
  * type's, else the practice's default by age). One recall_messages row per patient and due date: never two for the same date.
  */
 import { and, count, eq, gt, inArray, sql } from "drizzle-orm";
-import { appointments, patients, recallBatches, recallMessages } from "~/db/schema";
+import { appointments, patients, recallBatches, recallMessages, sites } from "~/db/schema";
 import { recallDueDate, ageOn, type RecallRule } from "~/lib/scheduling/recall";
 import { formatLocal, localParts } from "~/lib/scheduling/time";
 import { audit } from "./audit.server";
@@ -13,6 +13,7 @@ import { defineJob } from "./jobs.server";
 import { prepareMail, sendMail, unsubscribeUrl, type Mail } from "./mail.server";
 import { mailRetryOptions } from "./reminders.server";
 import { practiceSchedule } from "./schedule-settings.server";
+import { siteAddress } from "./sites.server";
 import type { SessionUser } from "./session.server";
 
 export const RECALL_MAIL_QUEUE = "recall-mail";
@@ -30,6 +31,9 @@ export type RecallRow = {
   dueDate: string;
   months: number;
   rule: RecallRule;
+  /** Where the recall asks the patient to come: the site of their last visit, else the default site. */
+  siteId: string;
+  siteName: string;
   nextBooked: string | null;
   lastRecall: { status: string; at: string } | null;
 };
@@ -56,12 +60,15 @@ async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
     recall_status: string | null;
     recall_at: Date | null;
     recall_due: string | null;
+    site_id: string;
+    site_name: string;
   }>(sql`
     select p.id as patient_id, p.first_name, p.last_name, p.date_of_birth::text as date_of_birth, p.email, p.recalls_by_email,
            lv.starts_at as last_visit, lv.type_name, lv.recall_months, lv.plan_months,
            (select min(a2.starts_at) from appointments a2
              where a2.patient_id = p.id and a2.starts_at > now() and a2.status in ('booked', 'confirmed')) as next_booked,
-           rm.status::text as recall_status, coalesce(rm.sent_at, rm.created_at) as recall_at, rm.due_date::text as recall_due
+           rm.status::text as recall_status, coalesce(rm.sent_at, rm.created_at) as recall_at, rm.due_date::text as recall_due,
+           s.id as site_id, s.name as site_name
       from patients p
       join lateral (
         -- The latest routine visit: a completed appointment of a routine type, or an exam
@@ -81,6 +88,12 @@ async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
       left join lateral (
         select r.status, r.sent_at, r.created_at, r.due_date from recall_messages r
          where r.patient_id = p.id order by r.created_at desc limit 1) rm on true
+      -- The site of the patient's last visit (one that took place), else the default site.
+      left join lateral (
+        select a4.site_id from appointments a4
+         where a4.patient_id = p.id and a4.status in ('arrived', 'in_exam', 'completed') and a4.starts_at <= now()
+         order by a4.starts_at desc limit 1) ls on true
+      join sites s on s.id = coalesce(ls.site_id, default_site_id())
      where true ${idFilter}`);
   return result.rows.map((r) => {
     const examDate = localParts(new Date(r.last_visit), settings.timeZone).date;
@@ -98,6 +111,8 @@ async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
       dueDate: due.dueDate,
       months: due.months,
       rule: due.rule,
+      siteId: r.site_id,
+      siteName: r.site_name,
       nextBooked: r.next_booked ? formatLocal(new Date(r.next_booked), settings.timeZone) : null,
       lastRecall: recalledForThisDue && r.recall_status ? { status: r.recall_status, at: new Date(r.recall_at!).toISOString() } : null,
     };
@@ -130,7 +145,7 @@ export async function startRecallBatch(actor: SessionUser, patientIds: string[],
     const inserted = due.length
       ? await tx
           .insert(recallMessages)
-          .values(due.map((r) => ({ batchId: batch!.id, patientId: r.patientId, dueDate: r.dueDate })))
+          .values(due.map((r) => ({ batchId: batch!.id, patientId: r.patientId, dueDate: r.dueDate, siteId: r.siteId })))
           .onConflictDoNothing()
           .returning({ id: recallMessages.id })
       : [];
@@ -163,9 +178,10 @@ export async function deliverRecall(recallId: string, job: { retryCount: number;
   try {
     return await db.transaction(async (tx) => {
       const [row] = await tx
-        .select({ recall: recallMessages, firstName: patients.firstName, lastName: patients.lastName, email: patients.email, recallsByEmail: patients.recallsByEmail })
+        .select({ recall: recallMessages, firstName: patients.firstName, lastName: patients.lastName, email: patients.email, recallsByEmail: patients.recallsByEmail, site: sites })
         .from(recallMessages)
         .innerJoin(patients, eq(patients.id, recallMessages.patientId))
+        .innerJoin(sites, eq(sites.id, recallMessages.siteId))
         .where(eq(recallMessages.id, recallId))
         .for("update", { of: recallMessages });
       if (!row || row.recall.status === "sent" || row.recall.status === "skipped") return "already done" as const;
@@ -184,13 +200,17 @@ export async function deliverRecall(recallId: string, job: { retryCount: number;
         return "skipped" as const;
       }
       const due = new Intl.DateTimeFormat("en-GB", { dateStyle: "long", timeZone: "UTC" }).format(new Date(`${row.recall.dueDate}T00:00:00Z`));
-      const phone = settings.phone ? ` on ${settings.phone}` : "";
+      const site = row.site;
+      const phoneNumber = site.phone || settings.phone;
+      const phone = phoneNumber ? ` on ${phoneNumber}` : "";
+      const address = siteAddress(site);
+      const where = `${settings.name}, ${site.name}${address ? `, ${address}` : ""}`;
       const optOut = unsubscribeUrl(row.recall.patientId, "recalls");
       await sender(
         await prepareMail({
           to: row.email!,
           subject: `Your eye examination is due (${due})`,
-          text: `Dear ${row.firstName} ${row.lastName},\n\nOur records show that your routine eye examination is due on ${due}. Regular exams check your sight and the health of your eyes, even when you notice no change.\n\nTo book, call us${phone} or reply to this e-mail.\n\n${settings.name}\n\nIf you would rather not receive these e-mails, you can stop them here: ${optOut}\n`,
+          text: `Dear ${row.firstName} ${row.lastName},\n\nOur records show that your routine eye examination is due on ${due}. Regular exams check your sight and the health of your eyes, even when you notice no change.\n\nWe look forward to seeing you at ${where}. To book, call us${phone} or reply to this e-mail.\n\n${settings.name} · ${site.name}${address ? `\n${address}` : ""}${phoneNumber ? `\n${phoneNumber}` : ""}\n\nIf you would rather not receive these e-mails, you can stop them here: ${optOut}\n`,
           unsubscribe: { patientId: row.recall.patientId, list: "recalls" },
         }),
       );

@@ -126,11 +126,18 @@ async function validateSlot(tx: Tx, input: SlotInput, timeZone: string, opts: { 
     [site] = await tx.select({ id: sites.id, name: sites.name, timeZone: sites.timeZone, active: sites.active }).from(sites).where(eq(sites.id, input.siteId));
     if (!site || !site.active) throw new BookingError(404, "No such site.", { siteId: ["No such site (or it is closed)."] });
   }
-  const zone = site?.timeZone ?? timeZone;
   const hours = await tx.select().from(workingHours).where(eq(workingHours.providerId, input.providerId));
   if (!hours.length) {
     const msg = `${provider!.name} has no working hours set yet; the practice owner sets them under Settings → Working hours.`;
     throw new BookingError(422, msg, { start: [msg] });
+  }
+  // Working hours are wall-clock minutes at their site: without a site asked for, the booking is
+  // read in the zone of the site where the provider works that day (the practice's zone finds the day).
+  let zone = site?.timeZone ?? timeZone;
+  if (!site) {
+    const row = hours.find((h) => h.weekday === localParts(input.start, zone).weekday);
+    const [there] = row ? await tx.select({ timeZone: sites.timeZone }).from(sites).where(eq(sites.id, row.siteId)) : [];
+    if (there) zone = there.timeZone;
   }
   const breaks = await tx.select().from(providerBreaks).where(eq(providerBreaks.providerId, input.providerId));
   const check = checkWorkingHours(input.start, end, zone, hours, breaks);

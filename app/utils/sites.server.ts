@@ -39,6 +39,20 @@ export async function siteWithDetails(id: string) {
   return { site, hours, rooms: siteRooms };
 }
 
+/** The wall clock of a page filtered to `site` (an id or "all"): that site's zone, else the practice's. */
+export function zoneOfChoice(site: string, options: SiteOption[], practiceZone: string) {
+  return options.find((s) => s.id === site)?.timeZone ?? practiceZone;
+}
+
+const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
+
+/** The time zone of the site with this id, where a booking's wall times are read; null for no such site. */
+export async function siteTimeZone(id: unknown): Promise<string | null> {
+  if (typeof id !== "string" || !UUID.test(id)) return null;
+  const [row] = await db.select({ timeZone: sites.timeZone }).from(sites).where(eq(sites.id, id));
+  return row?.timeZone ?? null;
+}
+
 /** One line of a site's address, for e-mails and documents. */
 export function siteAddress(s: { addressLine1: string; addressLine2: string; city: string; postcode: string }) {
   return [s.addressLine1, s.addressLine2, s.city, s.postcode].filter(Boolean).join(", ");

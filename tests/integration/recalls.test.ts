@@ -2,7 +2,7 @@ import { eq } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { action as recallsAction, loader as recallsLoader } from "~/routes/schedule/recalls";
 import { loader as progressLoader } from "~/routes/schedule/recall-progress";
-import { examAssessment, exams, recallMessages } from "~/db/schema";
+import { appointments, examAssessment, exams, recallMessages, sites } from "~/db/schema";
 import { addMonths } from "~/lib/scheduling/recall";
 import { localParts, wallTimeToInstant } from "~/lib/scheduling/time";
 import { db } from "~/utils/db.server";
@@ -84,6 +84,43 @@ describe("recall list", () => {
     await db.insert(examAssessment).values({ examId: exam!.id, recallMonths: 6 });
     const { rows } = await recallList({ dueBy: today });
     expect(rows.find((r) => r.patientId === p.id)).toMatchObject({ months: 6, rule: "optometrist's plan", lastVisitType: "Eye exam", dueDate: addMonths(addMonths(today, -7), 6) });
+  });
+
+  it("records where each recall asks the patient to come (the site of their last visit, else the default site) and the e-mail names it", async () => {
+    const [main] = await db.select().from(sites).where(eq(sites.isDefault, true));
+    const [hill] = await db.select().from(sites).where(eq(sites.name, "Hillcrest Parade"));
+    const there = await newPatient({ dateOfBirth: "1961-03-03" });
+    const nowhere = await newPatient({ dateOfBirth: "1962-04-04" });
+    // An exam at the main site, then a later one at Hillcrest: the last visit wins.
+    await examAgo(there.id, 30, 20);
+    const later = await examAgo(there.id, 29, 21);
+    await db.update(appointments).set({ siteId: hill!.id }).where(eq(appointments.id, later.id));
+    // An exam recorded without an appointment has no site: the default site.
+    await db.insert(exams).values({ patientId: nowhere.id, optometristId: ids.optometrist.id, examinedAt: wallTimeToInstant(addMonths(today, -30), 11 * 60, "Europe/London")!, status: "signed" });
+
+    const { rows } = await recallList({ dueBy: today });
+    expect(rows.find((r) => r.patientId === there.id)).toMatchObject({ siteId: hill!.id, siteName: "Hillcrest Parade" });
+    expect(rows.find((r) => r.patientId === nowhere.id)).toMatchObject({ siteId: main!.id, siteName: main!.name });
+    const cookie = await cookieFor("receptionist");
+    const page = dataOf<{ multiSite: boolean; rows: { patientId: string; siteName: string }[] }>(await run(recallsLoader, makeRequest(`/schedule/recalls?dueBy=${today}`, { cookie })));
+    expect(page.multiSite).toBe(true);
+    expect(page.rows.find((r) => r.patientId === there.id)?.siteName).toBe("Hillcrest Parade");
+
+    const form = new URLSearchParams([["intent", "send"], ["patientId", there.id], ["patientId", nowhere.id]]);
+    const started = dataOf<{ batch: { batchId: string; total: number } }>(
+      await run(recallsAction, new Request("http://127.0.0.1:3000/schedule/recalls", { method: "POST", headers: { cookie, "content-type": "application/x-www-form-urlencoded" }, body: form })),
+    );
+    expect(started.batch.total).toBe(2);
+    const queued = await db.select().from(recallMessages).where(eq(recallMessages.batchId, started.batch.batchId));
+    expect(Object.fromEntries(queued.map((r) => [r.patientId, r.siteId]))).toEqual({ [there.id]: hill!.id, [nowhere.id]: main!.id });
+    for (const r of queued) expect(await deliverRecall(r.id)).toBe("sent");
+    const [toThere] = await mailTo(there.email!);
+    expect(toThere!.text).toContain("Hillcrest Parade, 3 Hillcrest Parade, Brackenford, BF6 2HP");
+    expect(toThere!.text).toContain("call us on 01632 960 733");
+    const [toNowhere] = await mailTo(nowhere.email!);
+    expect(toNowhere!.text).toContain(main!.name);
+    if (main!.addressLine1) expect(toNowhere!.text).toContain(main!.addressLine1);
+    expect(toNowhere!.text).not.toContain("Hillcrest");
   });
 
   it("refuses an empty selection with 400", async () => {

@@ -2,6 +2,8 @@ import { and, eq, sql } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { loader as eventsLoader } from "~/routes/api/appointments";
 import { loader as dayLoader } from "~/routes/schedule/day";
+import { loader as calendarLoader } from "~/routes/schedule/index";
+import { action as moveAction } from "~/routes/api/appointments-item";
 import { freeSlots } from "~/routes/portal/portal.server";
 import { action as hoursAction } from "~/routes/settings/hours";
 import { action as sitesAction, loader as sitesLoader } from "~/routes/settings/sites";
@@ -135,6 +137,56 @@ describe("site filters", () => {
     expect(remembered.site).toBe(hill.id);
     const everywhere = dataOf<{ site: string }>(await run(dayLoader, makeRequest(`/schedule/day?date=${MON}`, { cookie })));
     expect(everywhere.site).toBe("all");
+  });
+});
+
+describe("each site's own time zone", () => {
+  it("a booking at a site is read in its zone, and the calendar and day list show that site's wall clock", async () => {
+    // A site on the other side of the Atlantic: 5 March 2028 is a Sunday, before either side
+    // changes its clocks (US second Sunday of March, UK last Sunday), so New York is UTC−5 and London UTC.
+    const [harbour] = await db.insert(sites).values({ name: `Harbour ${Math.random().toString(36).slice(2, 6)}`, addressLine1: "1 Pier Road", timeZone: "America/New_York" }).returning();
+    const sunday = await db.select().from(workingHours).where(and(eq(workingHours.providerId, ids.owner.id), eq(workingHours.weekday, 7)));
+    expect(sunday).toEqual([]);
+    const [wh] = await db.insert(workingHours).values({ providerId: ids.owner.id, weekday: 7, startMinute: 9 * 60, endMinute: 12 * 60, siteId: harbour!.id }).returning();
+    const cookie = await cookieFor("receptionist");
+    try {
+      const p = await newPatient();
+      const res = await postBooking({ patientId: p.id, providerId: ids.owner.id, appointmentTypeId: ids.examType.id, siteId: harbour!.id, start: "2028-03-05T09:00:00" });
+      expect(res.status).toBe(201);
+      const booked = (await res.json()) as { appointment: { id: string; start: string } };
+      expect(booked.appointment.start).toBe("2028-03-05T09:00:00-05:00");
+      const [row] = await db.select().from(appointments).where(eq(appointments.id, booked.appointment.id));
+      expect(row!.startsAt.toISOString()).toBe("2028-03-05T14:00:00.000Z");
+      expect(row!.siteId).toBe(harbour!.id);
+
+      // The calendar's feed for that site, asked in its wall clock, answers in its offset.
+      const feed = (await run(eventsLoader, makeRequest(`/api/appointments?start=2028-03-05T00:00:00&end=2028-03-06T00:00:00&site=${harbour!.id}`, { cookie }))) as Response;
+      expect(((await feed.json()) as { id: string; start: string }[]).find((e) => e.id === booked.appointment.id)?.start).toBe("2028-03-05T09:00:00-05:00");
+      const page = dataOf<{ timeZone: string; siteName: string }>(await run(calendarLoader, makeRequest(`/schedule?site=${harbour!.id}&date=2028-03-05`, { cookie })));
+      expect(page).toMatchObject({ timeZone: "America/New_York", siteName: harbour!.name });
+      const everySite = dataOf<{ timeZone: string }>(await run(calendarLoader, makeRequest(`/schedule?site=all&date=2028-03-05`, { cookie })));
+      expect(everySite.timeZone).toBe("Europe/London");
+
+      const there = dataOf<{ timeZone: string; appointments: { id: string; time: string }[] }>(await run(dayLoader, makeRequest(`/schedule/day?date=2028-03-05&site=${harbour!.id}`, { cookie })));
+      expect(there.timeZone).toBe("America/New_York");
+      expect(there.appointments.find((a) => a.id === booked.appointment.id)?.time).toMatch(/^09:00–/);
+      const all = dataOf<{ appointments: { id: string; time: string }[] }>(await run(dayLoader, makeRequest(`/schedule/day?date=2028-03-05&site=all`, { cookie })));
+      expect(all.appointments.find((a) => a.id === booked.appointment.id)?.time).toMatch(/^14:00–/);
+
+      // A move sent as wall time (no offset) is read at the appointment's site too.
+      const move = (await run(moveAction, makeRequest(`/api/appointments/${booked.appointment.id}`, { method: "PATCH", cookie, json: { start: "2028-03-05T10:30:00" } }), { appointmentId: booked.appointment.id })) as Response;
+      expect(move.status).toBe(200);
+      const [moved] = await db.select().from(appointments).where(eq(appointments.id, booked.appointment.id));
+      expect(moved!.startsAt.toISOString()).toBe("2028-03-05T15:30:00.000Z");
+
+      // 08:00 at the site is before the owner's hours there, though it is 13:00 in London.
+      const early = await postBooking({ patientId: p.id, providerId: ids.owner.id, appointmentTypeId: ids.examType.id, siteId: harbour!.id, start: "2028-03-05T08:00:00" });
+      expect(early.status).toBe(422);
+    } finally {
+      await db.delete(appointments).where(eq(appointments.siteId, harbour!.id));
+      await db.delete(workingHours).where(eq(workingHours.id, wh!.id));
+      await db.delete(sites).where(eq(sites.id, harbour!.id));
+    }
   });
 });
 

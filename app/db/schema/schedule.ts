@@ -208,6 +208,11 @@ export const recallMessages = pgTable(
       .notNull()
       .references(() => patients.id, { onDelete: "cascade" }),
     dueDate: date({ mode: "string" }).notNull(),
+    /** Where the patient is asked to come: the site of their last visit, else the default site. */
+    siteId: uuid()
+      .notNull()
+      .default(defaultSiteId)
+      .references(() => sites.id, { onDelete: "restrict" }),
     status: messageStatusEnum().notNull().default("queued"),
     recipient: text(),
     attempts: integer().notNull().default(0),

@@ -1,7 +1,7 @@
 import { eq } from "drizzle-orm";
 import { z } from "zod";
 import type { Route } from "./+types/appointments-item";
-import { appointments } from "~/db/schema";
+import { appointments, sites } from "~/db/schema";
 import { APPOINTMENT_STATUSES } from "~/lib/scheduling/status";
 import { bookingErrorJson, errorJson, eventJson, isoTime, readBody, zodFieldErrors } from "~/routes/schedule/schedule-api.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
@@ -33,8 +33,10 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export async function action({ request, params }: Route.ActionArgs) {
   if (request.method !== "PATCH" && request.method !== "POST") return errorJson(405, "Use PATCH.");
   const user = await requireRole(request, STAFF_ROLES);
-  const { timeZone } = await practiceSchedule();
   if (!z.uuid().safeParse(params.appointmentId).success) return errorJson(404, "No such appointment.");
+  // Wall times without an offset are read at the appointment's site (its own zone).
+  const [here] = await db.select({ timeZone: sites.timeZone }).from(appointments).innerJoin(sites, eq(sites.id, appointments.siteId)).where(eq(appointments.id, params.appointmentId));
+  const timeZone = here?.timeZone ?? (await practiceSchedule()).timeZone;
   const body = await readBody(request);
   const schema = z.union([
     z.object({ status: z.enum(APPOINTMENT_STATUSES, { error: `status must be one of ${APPOINTMENT_STATUSES.join(", ")}.` }) }).strict(),

@@ -3,18 +3,19 @@ import type { Route } from "./+types/appointments";
 import { bookingErrorJson, bookingSchema, errorJson, eventJson, isoTime, readBody, zodFieldErrors } from "~/routes/schedule/schedule-api.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { appointmentsBetween, bookAppointment, BookingError, calendarEventsJson, practiceSchedule } from "~/utils/schedule.server";
+import { siteTimeZone } from "~/utils/sites.server";
 import { z } from "zod";
 
 /**
  * GET /api/appointments?start=&end=&provider= — the calendar's events, times as ISO 8601 with
- * the practice zone's offset. `start`/`end` with an offset are instants; without one they are
- * wall times in the practice's zone (as the calendar sends them). `provider` is a user id or "all",
+ * the offset of the chosen site's zone (every site: the practice's). `start`/`end` with an offset
+ * are instants; without one they are wall times in that zone (as the calendar sends them). `provider` is a user id or "all",
  * `site` a site id or "all".
  */
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, STAFF_ROLES);
-  const { timeZone } = await practiceSchedule();
   const url = new URL(request.url);
+  const timeZone = (await siteTimeZone(url.searchParams.get("site"))) ?? (await practiceSchedule()).timeZone;
   const parsed = z
     .object({
       start: isoTime(timeZone, "start"),
@@ -33,15 +34,16 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 /**
- * POST /api/appointments — book: JSON `{ patientId, providerId, appointmentTypeId, start, end? }`.
+ * POST /api/appointments — book: JSON `{ patientId, providerId, appointmentTypeId, start, end?, siteId?, roomId? }`;
+ * times without an offset are wall times at the site asked for (else the practice's zone).
  * 201 with the appointment; 409 naming the clash; 400 for a malformed body; 422 or 404 with field
  * errors for a booking the rules refuse (past, outside hours, unknown patient or provider…).
  */
 export async function action({ request }: Route.ActionArgs) {
   if (request.method !== "POST") throw data({ error: "Use POST to book; PATCH /api/appointments/:id to change." }, { status: 405 });
   const user = await requireRole(request, STAFF_ROLES);
-  const { timeZone } = await practiceSchedule();
   const body = await readBody(request);
+  const timeZone = (await siteTimeZone(body.siteId)) ?? (await practiceSchedule()).timeZone;
   const parsed = bookingSchema(timeZone).safeParse(body);
   if (!parsed.success) return errorJson(400, "Check the fields.", zodFieldErrors(parsed.error));
   try {

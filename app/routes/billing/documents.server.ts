@@ -4,11 +4,12 @@
  * carry them: the invoice with its pay-by-link, and the receipt of a payment.
  */
 import { eq } from "drizzle-orm";
-import { invoices, payments } from "~/db/schema";
+import { invoices, payments, sites } from "~/db/schema";
 import { formatMoney, formatRate } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 import { sendMail } from "~/utils/mail.server";
+import { siteAddress } from "~/utils/sites.server";
 import { PdfWriter } from "~/utils/pdf.server";
 import { payLinkUrl, signPayLink, PAY_LINK_TTL_MS } from "./checkout.server";
 import { BillingError, invoiceDetail, invoiceLabel, practiceBilling } from "./invoices.server";
@@ -21,6 +22,18 @@ export function formatDate(d: Date, timeZone: string, withTime = false) {
 
 type Detail = NonNullable<Awaited<ReturnType<typeof invoiceDetail>>>;
 
+/** The site that issued the invoice: its address and phone head the PDFs and sign the e-mails. */
+export async function invoiceSiteOf(d: Detail) {
+  const [site] = await db.select().from(sites).where(eq(sites.id, d.invoice.siteId));
+  if (!site) throw new BillingError("The invoice's site is missing.", 500);
+  return site;
+}
+
+/** "Practice · Site", then the site's address and phone (the practice's phone if the site has none). */
+function siteSignature(practice: { name: string; phone: string; email: string }, site: typeof sites.$inferSelect) {
+  return [`${practice.name} · ${site.name}`, siteAddress(site), [site.phone || practice.phone, practice.email].filter(Boolean).join(" · ")].filter(Boolean);
+}
+
 /** A PDF of the invoice (kind "invoice") or a receipt for one payment (kind "receipt"). */
 export async function billingPdf(d: Detail, kind: "invoice" | "receipt", paymentId?: string): Promise<Uint8Array> {
   const practice = await practiceBilling();
@@ -29,11 +42,14 @@ export async function billingPdf(d: Detail, kind: "invoice" | "receipt", payment
   const label = invoiceLabel(d.invoice.number);
   const payment = kind === "receipt" ? d.payments.find((x) => x.id === paymentId) : undefined;
   if (kind === "receipt" && !payment) throw new BillingError("There is no such payment on this invoice.", 404);
+  // The letterhead is the issuing site's: its name, address and phone.
+  const site = await invoiceSiteOf(d);
   const letterhead = {
     name: practice.name,
     lines: [
-      [practice.addressLine1, practice.addressLine2, [practice.city, practice.postcode].filter(Boolean).join(" ")].filter(Boolean).join(", "),
-      [practice.phone, practice.email].filter(Boolean).join(" · "),
+      site.name,
+      [site.addressLine1, site.addressLine2, [site.city, site.postcode].filter(Boolean).join(" ")].filter(Boolean).join(", "),
+      [site.phone || practice.phone, practice.email].filter(Boolean).join(" · "),
     ].filter(Boolean),
   };
   const pdf = await PdfWriter.create({
@@ -113,6 +129,7 @@ export async function emailInvoice(invoiceId: string, actorUserId: string, reque
   const label = invoiceLabel(d.invoice.number);
   const due = formatMoney(d.invoice.totalMinor - d.invoice.paidMinor, d.invoice.currency);
   const pdf = await billingPdf(d, "invoice");
+  const site = await invoiceSiteOf(d);
   await sendMail({
     to: d.patient.email,
     subject: `Invoice ${label} from ${practice.name}`,
@@ -126,8 +143,7 @@ export async function emailInvoice(invoiceId: string, actorUserId: string, reque
       "",
       `This link shows only this invoice and works for ${Math.round(PAY_LINK_TTL_MS / 86_400_000)} days. You can also pay at the practice.`,
       "",
-      practice.name,
-      [practice.phone, practice.email].filter(Boolean).join(" · "),
+      ...siteSignature(practice, site),
     ].join("\n"),
     attachments: [{ filename: `invoice-${label}.pdf`, content: Buffer.from(pdf), contentType: "application/pdf" }],
   });
@@ -147,6 +163,7 @@ export async function emailReceipt(paymentId: string, actorUserId: string | null
   const practice = await practiceBilling();
   const label = invoiceLabel(d.invoice.number);
   const pdf = await billingPdf(d, "receipt", paymentId);
+  const site = await invoiceSiteOf(d);
   await sendMail({
     to: d.patient.email,
     subject: `Receipt for your payment to ${practice.name}`,
@@ -158,7 +175,7 @@ export async function emailReceipt(paymentId: string, actorUserId: string | null
       "",
       "Your receipt is attached.",
       "",
-      practice.name,
+      ...siteSignature(practice, site),
     ].join("\n"),
     attachments: [{ filename: `receipt-${label}.pdf`, content: Buffer.from(pdf), contentType: "application/pdf" }],
   });

@@ -12,6 +12,7 @@ import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
 import { feeItems, patients, practiceSettings } from "~/db/schema";
 import { formatMoney, parseMoney } from "~/lib/money";
+import { parseDecimal } from "~/lib/numbers/decimal";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
@@ -84,8 +85,8 @@ export async function action({ request }: Route.ActionArgs) {
     const feeItemId = key.slice(4);
     const text = String(raw).trim();
     if (text === "" || text === "0") continue;
-    const qty = Number(text);
-    if (!z.uuid().safeParse(feeItemId).success || !Number.isInteger(qty) || qty < 0 || qty > 1000) {
+    const qty = parseDecimal(text);
+    if (!z.uuid().safeParse(feeItemId).success || qty === null || !Number.isInteger(qty) || qty < 0 || qty > 1000) {
       (errors[key] ??= []).push("A whole number from 0 to 1000.");
       continue;
     }
@@ -93,7 +94,7 @@ export async function action({ request }: Route.ActionArgs) {
   }
   if (v.customDescription || v.customPrice) {
     const price = parseMoney(v.customPrice, currency);
-    const qty = Number(v.customQty || "1");
+    const qty = v.customQty ? (parseDecimal(v.customQty) ?? NaN) : 1;
     if (!v.customDescription) (errors.customDescription ??= []).push("Describe the extra line.");
     if (price === null) (errors.customPrice ??= []).push(`Give the price in ${currency}, e.g. 12.50.`);
     if (!Number.isInteger(qty) || qty < 1 || qty > 1000) (errors.customQty ??= []).push("A whole number from 1 to 1000.");

@@ -19,10 +19,12 @@ import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { decimalField } from "~/utils/number-field";
+import { parseDecimal } from "~/lib/numbers/decimal";
 
 const money = z.string({ error: "Give an amount." }).trim().min(1, "Give an amount.");
 const schema = z.discriminatedUnion("intent", [
-  z.object({ intent: z.literal("add-line"), feeItemId: z.uuid({ error: "Choose a fee." }), quantity: z.coerce.number({ error: "A whole number from 1 to 1000." }).int("A whole number from 1 to 1000.").min(1, "At least 1.").max(1000, "At most 1000.") }),
+  z.object({ intent: z.literal("add-line"), feeItemId: z.uuid({ error: "Choose a fee." }), quantity: decimalField("A whole number from 1 to 1000.", z.number().int("A whole number from 1 to 1000.").min(1, "At least 1.").max(1000, "At most 1000.")) }),
   z.object({ intent: z.literal("remove-line"), lineId: z.uuid() }),
   z.object({ intent: z.literal("discount"), discountKind: z.enum(["none", "percent", "amount"]), discountValue: z.string().trim().max(20).default("") }),
   z.object({ intent: z.literal("issue") }),
@@ -109,8 +111,8 @@ export async function action({ request, params }: Route.ActionArgs) {
       case "discount": {
         if (v.discountKind === "none") await setDiscount(invoiceId, { kind: "none" }, user.id, request);
         else if (v.discountKind === "percent") {
-          const pct = Number(v.discountValue);
-          if (!/^\d{1,3}(\.\d{1,2})?$/.test(v.discountValue) || pct > 100) return fail("discountValue", "Give a percentage from 0 to 100, e.g. 10 or 12.5.");
+          const pct = parseDecimal(v.discountValue);
+          if (pct === null || !/^\d{1,3}(\.\d{1,2})?$/.test(v.discountValue) || pct > 100) return fail("discountValue", "Give a percentage from 0 to 100, e.g. 10 or 12.5.");
           await setDiscount(invoiceId, { kind: "percent", basisPoints: Math.round(pct * 100) }, user.id, request);
         } else {
           const minor = parseMoney(v.discountValue, currency);

@@ -11,6 +11,7 @@ import { Card } from "~/components/ui/card";
 import { formatLocal, localParts } from "~/lib/scheduling/time";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { bookAppointment, BookingError, practiceSchedule } from "~/utils/schedule.server";
+import { siteTimeZone } from "~/utils/sites.server";
 import { redirectWithToast } from "~/utils/toast.server";
 
 /** The booking page: reached from a patient's chart (?patientId=) or without the calendar. */
@@ -40,8 +41,9 @@ function safeReturn(value: FormDataEntryValue | null) {
 
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, STAFF_ROLES);
-  const { timeZone } = await practiceSchedule();
   const formData = await request.formData();
+  // Wall times are read at the site chosen (each site keeps its own zone), else in the practice's.
+  const timeZone = (await siteTimeZone(formData.get("siteId"))) ?? (await practiceSchedule()).timeZone;
   const submission = parseWithZod(formData, { schema: bookingSchema(timeZone) });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
   try {

@@ -5,15 +5,17 @@ import { APPOINTMENT_STATUSES } from "~/lib/scheduling/status";
 import { formatLocal, localDayRange, localParts } from "~/lib/scheduling/time";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { appointmentsBetween, BookingError, changeStatus, practiceSchedule } from "~/utils/schedule.server";
-import { siteChoice } from "~/utils/sites.server";
+import { siteChoice, zoneOfChoice } from "~/utils/sites.server";
 
 /** The day's appointments for the front desk (everyone) or one optometrist, at one site or all; `date`, `provider` and `site` in the query. */
 export async function loadDayList(request: Request) {
   const user = await requireRole(request, STAFF_ROLES);
   const url = new URL(request.url);
-  const { timeZone } = await practiceSchedule();
+  const practice = await practiceSchedule();
   const { providers, sites } = await scheduleReferenceData();
   const { site, setCookie } = await siteChoice(request, sites);
+  // The day and its times are the chosen site's wall clock; every site together: the practice's.
+  const timeZone = zoneOfChoice(site, sites, practice.timeZone);
   const today = localParts(new Date(), timeZone).date;
   const date = /^\d{4}-\d{2}-\d{2}$/.test(url.searchParams.get("date") ?? "") ? url.searchParams.get("date")! : today;
   const asked = url.searchParams.get("provider");

@@ -32,7 +32,7 @@ export default function DayList({ loaderData }: Route.ComponentProps) {
   const cancelled = appointments.filter((a) => a.status === "cancelled");
   return (
     <>
-      <PageHeader title="Day list" description={`${dayTitle}${date === today ? " (today)" : ""} · practice time ${timeZone}`} />
+      <PageHeader title="Day list" description={`${dayTitle}${date === today ? " (today)" : ""} · times in ${timeZone}`} />
       <ScheduleNav />
       <MoveRequests requests={moveRequests} />
       <Form method="get" className="mb-4 flex flex-wrap items-end gap-3">

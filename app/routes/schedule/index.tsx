@@ -11,7 +11,7 @@ import { Notice } from "~/components/ui/notice";
 import { minutesToHhmm, localParts } from "~/lib/scheduling/time";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { practiceSchedule } from "~/utils/schedule.server";
-import { siteChoice } from "~/utils/sites.server";
+import { siteChoice, zoneOfChoice } from "~/utils/sites.server";
 
 const CalendarView = lazy(() => import("./calendar-view"));
 const VIEWS = ["timeGridDay", "timeGridWeek", "dayGridMonth"] as const;
@@ -19,10 +19,13 @@ const VIEWS = ["timeGridDay", "timeGridWeek", "dayGridMonth"] as const;
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   const url = new URL(request.url);
-  const { timeZone } = await practiceSchedule();
+  const practice = await practiceSchedule();
   const { providers, types, hours, breaks, sites, rooms } = await scheduleReferenceData();
   // The site filter: asked for, else the user's last choice (cookie), else every site.
   const { site, setCookie } = await siteChoice(request, sites);
+  // Times are the chosen site's wall clock (each site has its own zone); every site together: the practice's.
+  const timeZone = zoneOfChoice(site, sites, practice.timeZone);
+  const siteName = sites.find((s) => s.id === site)?.name ?? null;
   const asked = url.searchParams.get("provider");
   // An optometrist starts on their own column; the front desk on the whole practice.
   const provider = asked === "all" || providers.some((p) => p.id === asked) ? asked! : providers.some((p) => p.id === user.id) && user.role === "optometrist" ? user.id : "all";
@@ -43,13 +46,13 @@ export async function loader({ request }: Route.LoaderArgs) {
       return out;
     });
   return data(
-    { timeZone, providers: providers.map(({ id, name }) => ({ id, name })), types, provider, view, date, businessHours: spans, site, places: { sites: sites.map(({ id, name }) => ({ id, name })), rooms } },
+    { timeZone, siteName, providers: providers.map(({ id, name }) => ({ id, name })), types, provider, view, date, businessHours: spans, site, places: { sites: sites.map(({ id, name }) => ({ id, name })), rooms } },
     setCookie ? { headers: { "set-cookie": setCookie } } : undefined,
   );
 }
 
 export default function Schedule({ loaderData }: Route.ComponentProps) {
-  const { timeZone, providers, types, provider, view, date, businessHours, site, places } = loaderData;
+  const { timeZone, siteName, providers, types, provider, view, date, businessHours, site, places } = loaderData;
   const [hydrated, setHydrated] = useState(false);
   const [message, setMessage] = useState<{ tone: "success" | "error"; text: string } | null>(null);
   const [booking, setBooking] = useState<{ start: string } | null>(null);
@@ -70,7 +73,7 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
     <>
       <PageHeader
         title="Schedule"
-        description={`Times are the practice's (${timeZone}). Select an empty time to book; drag to move; drag the lower edge to lengthen.`}
+        description={`Times are ${siteName ? `${siteName}'s` : "the practice's"} (${timeZone}). Select an empty time to book; drag to move; drag the lower edge to lengthen.`}
         actions={
           <Link to="/schedule/book" className={buttonClass("primary")}>
             Book without the calendar

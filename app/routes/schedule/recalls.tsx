@@ -13,6 +13,7 @@ import { addDays, localParts } from "~/lib/scheduling/time";
 import { practiceSchedule } from "~/utils/schedule-settings.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { recallList, startRecallBatch } from "~/utils/recalls.server";
+import { activeSites } from "~/utils/sites.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, STAFF_ROLES);
@@ -29,7 +30,8 @@ export async function loader({ request }: Route.LoaderArgs) {
   };
   const list = await recallList(filters);
   const { rows, dueBy } = list;
-  return { rows, today: list.today, dueBy, filters, settings: { child: list.settings.recallMonthsChild, adult: list.settings.recallMonthsAdult, under: list.settings.childUnderYears } };
+  const multiSite = (await activeSites()).length > 1;
+  return { rows, multiSite, today: list.today, dueBy, filters, settings: { child: list.settings.recallMonthsChild, adult: list.settings.recallMonthsAdult, under: list.settings.childUnderYears } };
 }
 
 const sendSchema = z.object({ intent: z.literal("send"), patientId: z.array(z.uuid()).min(1, "Choose at least one patient.").max(2000) });
@@ -193,6 +195,7 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
                         <td className="py-2 pr-4">
                           {formatDob(r.lastVisit)}
                           <span className="block text-muted">{r.lastVisitType}</span>
+                          {loaderData.multiSite ? <span className="block text-muted">Recall to {r.siteName}</span> : null}
                         </td>
                         <td className="py-2 pr-4">
                           <span className="font-semibold">{formatDob(r.dueDate)}</span>

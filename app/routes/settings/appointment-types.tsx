@@ -15,6 +15,7 @@ import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { ROLE_LABEL } from "~/utils/nav";
 import { redirectWithToast } from "~/utils/toast.server";
+import { decimalField } from "~/utils/number-field";
 
 const ROLES = ["owner", "optometrist", "receptionist"] as const;
 
@@ -22,9 +23,9 @@ const typeSchema = z.object({
   intent: z.literal("save"),
   id: z.uuid().optional(),
   name: z.string({ error: "Give the type a name." }).trim().min(2, "Give the type a name.").max(80),
-  durationMinutes: z.coerce.number({ error: "Give the length in minutes." }).int("Whole minutes.").min(5, "At least 5 minutes.").max(480, "At most 480 minutes (8 hours)."),
+  durationMinutes: decimalField("Give the length in minutes.", z.number().int("Whole minutes.").min(5, "At least 5 minutes.").max(480, "At most 480 minutes (8 hours).")),
   defaultFeeItemId: z.union([z.literal(""), z.uuid()]).default(""),
-  recallMonths: z.union([z.literal(""), z.coerce.number().int("Whole months.").min(1, "At least 1 month.").max(120, "At most 120 months.")]).default(""),
+  recallMonths: decimalField("Give a number of months, or leave it empty.", z.number().int("Whole months.").min(1, "At least 1 month.").max(120, "At most 120 months.")).optional(),
   performerRoles: z.array(z.enum(ROLES), { error: "Choose who may perform it." }).min(1, "Choose who may perform it."),
   routineExam: z.literal("on").optional(),
   onlineBooking: z.literal("on").optional(),
@@ -33,7 +34,7 @@ const typeSchema = z.object({
 
 const reminderSchema = z.object({
   intent: z.literal("reminder"),
-  reminderHoursBefore: z.coerce.number({ error: "Give a number of hours." }).int("Whole hours.").min(1, "At least 1 hour.").max(168, "At most 168 hours (a week)."),
+  reminderHoursBefore: decimalField("Give a number of hours.", z.number().int("Whole hours.").min(1, "At least 1 hour.").max(168, "At most 168 hours (a week).")),
 });
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -64,7 +65,7 @@ export async function action({ request }: Route.ActionArgs) {
     name: v.name,
     durationMinutes: v.durationMinutes,
     defaultFeeItemId: v.defaultFeeItemId || null,
-    recallMonths: v.recallMonths === "" ? null : v.recallMonths,
+    recallMonths: v.recallMonths ?? null,
     performerRoles: v.performerRoles,
     routineExam: v.routineExam === "on",
     onlineBooking: v.onlineBooking === "on",

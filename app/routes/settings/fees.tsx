@@ -15,6 +15,7 @@ import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { decimalField } from "~/utils/number-field";
 
 const feeSchema = z.object({
   intent: z.literal("save"),
@@ -33,7 +34,7 @@ const feeSchema = z.object({
 const toggleSchema = z.object({ intent: z.enum(["withdraw", "restore"]), id: z.uuid() });
 const taxSchema = z.object({
   intent: z.literal("tax"),
-  taxRate: z.coerce.number({ error: "Give a rate in per cent, e.g. 20 or 0." }).min(0, "At least 0 %.").max(100, "At most 100 %."),
+  taxRate: decimalField("Give a rate in per cent, e.g. 20 or 0.", z.number().min(0, "At least 0 %.").max(100, "At most 100 %.")),
 });
 const schema = z.discriminatedUnion("intent", [feeSchema, toggleSchema, taxSchema]);
 

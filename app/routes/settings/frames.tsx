@@ -15,9 +15,10 @@ import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { decimalField } from "~/utils/number-field";
 
 const text = (label: string, max = 80) => z.string({ error: `Give the ${label}.` }).trim().min(1, `Give the ${label}.`).max(max, `At most ${max} characters.`);
-const quantity = z.coerce.number({ error: "Give a number." }).int("Whole frames only.").min(0, "Zero or more.").max(999, "At most 999.");
+const quantity = decimalField("Give a number.", z.number().int("Whole frames only.").min(0, "Zero or more.").max(999, "At most 999."));
 
 export const frameSchema = z.object({
   intent: z.literal("add"),

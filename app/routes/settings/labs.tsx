@@ -14,6 +14,7 @@ import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { decimalField } from "~/utils/number-field";
 
 export const labSchema = z.object({
   intent: z.literal("add"),
@@ -23,7 +24,7 @@ export const labSchema = z.object({
   accountRef: z.string().trim().max(40).default(""),
 });
 const activeSchema = z.object({ intent: z.enum(["withdraw", "restore"]), id: z.uuid() });
-export const overdueSchema = z.object({ intent: z.literal("overdue"), labOverdueDays: z.coerce.number({ error: "Give a number of days." }).int("Whole days only.").min(1, "At least 1 day.").max(90, "At most 90 days.") });
+export const overdueSchema = z.object({ intent: z.literal("overdue"), labOverdueDays: decimalField("Give a number of days.", z.number().int("Whole days only.").min(1, "At least 1 day.").max(90, "At most 90 days.")) });
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);

@@ -15,6 +15,7 @@ import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { decimalField } from "~/utils/number-field";
 
 const timeZoneSchema = z.string().refine((tz) => {
   try {
@@ -40,9 +41,11 @@ export const practiceSchema = z.object({
     .toUpperCase()
     .regex(/^[A-Z]{3}$/, "Use a three-letter ISO 4217 code such as GBP, EUR or USD."),
   jurisdiction: z.enum(["uk", "us"], { error: "Choose where the practice works." }),
-  spectacleRxValidityMonths: z.coerce.number({ error: "Give a number of months." }).int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months."),
-  contactLensRxValidityMonths: z.coerce.number({ error: "Give a number of months." }).int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months."),
-  portalCancelCutoffHours: z.coerce.number({ error: "Give a number of hours." }).int("Whole hours only.").min(0, "Zero or more hours.").max(336, "At most 336 hours (two weeks)."),
+  spectacleRxValidityMonths: decimalField("Give a number of months.", z.number().int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months.")),
+  contactLensRxValidityMonths: decimalField("Give a number of months.", z.number().int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months.")),
+  portalCancelCutoffHours: decimalField("Give a number of hours.", z.number().int("Whole hours only.").min(0, "Zero or more hours.").max(336, "At most 336 hours (two weeks).")),
+  portalBookingDays: decimalField("Give a number of days.", z.number().int("Whole days only.").min(1, "At least 1 day.").max(365, "At most 365 days (a year).")),
+  staffBookingDays: decimalField("Give a number of days.", z.number().int("Whole days only.").min(1, "At least 1 day.").max(3660, "At most 3660 days (ten years).")),
 });
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -56,6 +59,8 @@ export async function loader({ request }: Route.LoaderArgs) {
       spectacleRxValidityMonths: String(values.spectacleRxValidityMonths),
       contactLensRxValidityMonths: String(values.contactLensRxValidityMonths),
       portalCancelCutoffHours: String(values.portalCancelCutoffHours),
+      portalBookingDays: String(values.portalBookingDays),
+      staffBookingDays: String(values.staffBookingDays),
     },
   };
 }
@@ -133,6 +138,18 @@ export default function PracticeSettings({ loaderData, actionData }: Route.Compo
               hint="After this, the patient portal asks them to phone."
               errors={fields.portalCancelCutoffHours.errors}
               inputProps={getInputProps(fields.portalCancelCutoffHours, { type: "number" })}
+            />
+            <Field
+              label="Patients may book online up to (days ahead)"
+              hint="From 1 to 365 days. The portal offers times within this many days."
+              errors={fields.portalBookingDays.errors}
+              inputProps={getInputProps(fields.portalBookingDays, { type: "number" })}
+            />
+            <Field
+              label="The practice team may book up to (days ahead)"
+              hint="From 1 to 3660 days; two years covers the longest usual recall."
+              errors={fields.staffBookingDays.errors}
+              inputProps={getInputProps(fields.staffBookingDays, { type: "number" })}
             />
           </div>
         </Card>

@@ -16,6 +16,7 @@ import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { decimalField } from "~/utils/number-field";
 
 const DELIVERY = { email: "E-mail (sent from Dioptra)", post: "Post (print the PDF)", fax: "Fax (print the PDF)" } as const;
 
@@ -40,7 +41,7 @@ export const recipientSchema = z
   .refine((v) => v.preferredDelivery !== "email" || v.email !== "", { path: ["email"], message: "An e-mail address is needed when they receive letters by e-mail." });
 
 const days = (label: string) =>
-  z.coerce.number({ error: `${label}: give a number of days.` }).int("Whole days only.").min(0, "At least 0 days (same day).").max(730, "At most 730 days.");
+  decimalField(`${label}: give a number of days.`, z.number().int("Whole days only.").min(0, "At least 0 days (same day).").max(730, "At most 730 days."));
 
 export const timeFrameSchema = z.object({
   intent: z.literal("timeframes"),

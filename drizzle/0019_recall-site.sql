@@ -1,0 +1,2 @@
+ALTER TABLE "recall_messages" ADD COLUMN "site_id" uuid DEFAULT default_site_id() NOT NULL;--> statement-breakpoint
+ALTER TABLE "recall_messages" ADD CONSTRAINT "recall_messages_site_id_sites_id_fk" FOREIGN KEY ("site_id") REFERENCES "public"."sites"("id") ON DELETE restrict ON UPDATE no action;
