@@ -5,7 +5,7 @@ import { DEMO, expectAccessible, screenshot, signIn, useBrowser } from "./fixtur
 const browser = useBrowser();
 
 describe("sites in the browser", () => {
-  it("the owner keeps the sites (by keyboard, refused with a message when wrong); the calendar and day list filter by site and remember it", async () => {
+  it("the owner keeps the sites (by keyboard, refused with a message when wrong); the calendar, day list and takings filter by site; the patient chooses a site in the portal", async () => {
     const owner = await browser.newPage({ viewport: { width: 1300, height: 1400 } });
     await signIn(owner, DEMO.owner);
     await owner.waitForURL((u) => u.pathname === "/");
@@ -44,5 +44,32 @@ describe("sites in the browser", () => {
     expect(await desk.getByLabel("Site").locator("option:checked").textContent()).toBe("Hillcrest Parade");
     await expectAccessible(desk);
     await screenshot(desk, "day-list-site");
-  }, 120_000);
+
+    // Takings filter by site too (the invoice's site).
+    await desk.goto("/billing/takings");
+    await desk.getByLabel("Site").selectOption({ label: "Hillcrest Parade" });
+    await desk.getByRole("button", { name: "Show day" }).click();
+    await desk.waitForURL((u) => u.pathname === "/billing/takings" && u.searchParams.get("site") !== null);
+    expect(await desk.getByLabel("Site").locator("option:checked").textContent()).toBe("Hillcrest Parade");
+    await expectAccessible(desk);
+    await screenshot(desk, "takings-site");
+
+    // The patient chooses where to book in the portal; the free times offered are for that site.
+    const patient = await browser.newPage({ viewport: { width: 1000, height: 1400 } });
+    await signIn(patient, DEMO.patient);
+    await patient.waitForURL((u) => u.pathname.startsWith("/portal"));
+    await patient.goto("/portal/book");
+    const where = patient.getByLabel("Where");
+    expect(await where.locator("option").allTextContents()).toEqual(["Larkspur Lane", "Hillcrest Parade"]);
+    await where.selectOption({ label: "Hillcrest Parade" });
+    await patient.getByLabel("Day").fill(addDays(monday, 3)); // a Thursday, Hillcrest's day
+    await patient.getByRole("button", { name: "Show free times" }).click();
+    await patient.waitForURL((u) => u.searchParams.get("site") !== null);
+    expect(await patient.getByLabel("Where").locator("option:checked").textContent()).toBe("Hillcrest Parade");
+    const hillId = await patient.getByLabel("Where").inputValue();
+    const offered = patient.locator('form[method="post"] input[name="siteId"]');
+    expect(await offered.count()).toBeGreaterThan(0);
+    expect(new Set(await offered.evaluateAll((els) => els.map((e) => (e as HTMLInputElement).value)))).toEqual(new Set([hillId]));
+    await expectAccessible(patient);
+  }, 180_000);
 });

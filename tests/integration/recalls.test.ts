@@ -92,8 +92,8 @@ describe("recall list", () => {
     const there = await newPatient({ dateOfBirth: "1961-03-03" });
     const nowhere = await newPatient({ dateOfBirth: "1962-04-04" });
     // An exam at the main site, then a later one at Hillcrest: the last visit wins.
-    await examAgo(there.id, 30, 20);
-    const later = await examAgo(there.id, 29, 21);
+    await examAgo(there.id, 30, 5);
+    const later = await examAgo(there.id, 29, 6);
     await db.update(appointments).set({ siteId: hill!.id }).where(eq(appointments.id, later.id));
     // An exam recorded without an appointment has no site: the default site.
     await db.insert(exams).values({ patientId: nowhere.id, optometristId: ids.optometrist.id, examinedAt: wallTimeToInstant(addMonths(today, -30), 11 * 60, "Europe/London")!, status: "signed" });

@@ -38,8 +38,10 @@ export async function loader({ request }: Route.LoaderArgs) {
   // Where: one of the practice's sites (the default first); a single-site practice is not asked.
   const sites = await activeSites();
   const site = sites.find((x) => x.id === url.searchParams.get("site")) ?? sites[0];
-  const slots = typeId ? await freeSlots(typeId, date, settings.timeZone, new Date(), sites.length > 1 ? site?.id : undefined) : [];
-  return { sites: sites.map(({ id, name }) => ({ id, name })), siteId: sites.length > 1 ? (site?.id ?? "") : "", types: types.map(({ id, name, durationMinutes }) => ({ id, name, durationMinutes })), typeId, date, today, lastDate, slots, timeZone: settings.timeZone, practice: settings.name };
+  // Times are the chosen site's wall clock (each site keeps its own zone).
+  const zone = sites.length > 1 && site ? site.timeZone : settings.timeZone;
+  const slots = typeId ? await freeSlots(typeId, date, zone, new Date(), sites.length > 1 ? site?.id : undefined) : [];
+  return { sites: sites.map(({ id, name }) => ({ id, name })), siteId: sites.length > 1 ? (site?.id ?? "") : "", types: types.map(({ id, name, durationMinutes }) => ({ id, name, durationMinutes })), typeId, date, today, lastDate, slots, timeZone: zone, practice: settings.name };
 }
 
 export async function action({ request }: Route.ActionArgs) {
