@@ -25,7 +25,7 @@ type Detail = NonNullable<Awaited<ReturnType<typeof invoiceDetail>>>;
 /** The site that issued the invoice: its address and phone head the PDFs and sign the e-mails. */
 export async function invoiceSiteOf(d: Detail) {
   const [site] = await db.select().from(sites).where(eq(sites.id, d.invoice.siteId));
-  if (!site) throw new BillingError("The invoice's site is missing.", 500);
+  if (!site) throw new Error(`invoice ${d.invoice.id} names a site that does not exist`);
   return site;
 }
 
