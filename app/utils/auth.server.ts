@@ -9,6 +9,7 @@ import { audit } from "./audit.server";
 import { db } from "./db.server";
 import { clientIp, clientKey } from "./request.server";
 import { clearAccountBudgets, refundAttempt, takeAttempt, waitText } from "./throttle.server";
+import { compareInPool, HashingBusyError, hashInPool } from "./password-hashing.server";
 import { getSessionUser, type SessionUser } from "./session.server";
 
 /** Raised for a sign-in that must be refused; the message is shown to the user as is. */
@@ -23,36 +24,37 @@ export class SignInError extends Error {
 }
 
 export const BCRYPT_COST = 10;
-export const hashPassword = (password: string) => withHashingSlot(() => bcrypt.hash(password, BCRYPT_COST));
+export const hashPassword = (password: string) => hashInPool(password, BCRYPT_COST);
 
 // A fixed hash compared against when the e-mail is unknown, so timing does not reveal which accounts exist.
 const DUMMY_HASH = bcrypt.hashSync("not-a-real-password", BCRYPT_COST);
 
 /**
- * Password hashing is CPU work on the event loop (bcryptjs runs in JavaScript, in slices), so
- * this process hashes at most MAX_HASHING passwords at a time and lets at most MAX_WAITING wait;
- * beyond that a sign-in is refused with 503 rather than slowing every other request down.
+ * Sign-ins in progress in this process: at most MAX_SIGNING_IN run at once (each takes a few
+ * database round trips and a password check), at most MAX_SIGN_IN_QUEUE wait; past that a
+ * sign-in is refused at once with 503, before it touches the database. A flood of sign-ins
+ * therefore never holds the whole connection pool, and other pages stay responsive. The count
+ * lives in memory and is safe to lose: it only gates work in flight in this process; the
+ * attempt budgets themselves are in PostgreSQL.
  */
-const MAX_HASHING = 2;
-const MAX_WAITING = 20;
-let hashing = 0;
-const waiting: (() => void)[] = [];
+const MAX_SIGNING_IN = 4;
+const MAX_SIGN_IN_QUEUE = 16;
+let signingIn = 0;
+const signInQueue: (() => void)[] = [];
 
-export class HashingBusyError extends Error {}
-
-export async function withHashingSlot<T>(work: () => Promise<T>): Promise<T> {
-  if (hashing >= MAX_HASHING) {
-    if (waiting.length >= MAX_WAITING) throw new HashingBusyError("Too many sign-ins at once.");
-    await new Promise<void>((resolve) => waiting.push(resolve));
+async function withSignInSlot<T>(work: () => Promise<T>): Promise<T> {
+  if (signingIn >= MAX_SIGNING_IN) {
+    if (signInQueue.length >= MAX_SIGN_IN_QUEUE) throw new SignInError("The server is busy signing people in. Try again in a few seconds.", 503, 5);
+    await new Promise<void>((resolve) => signInQueue.push(resolve));
   } else {
-    hashing++;
+    signingIn++;
   }
   try {
     return await work();
   } finally {
-    const next = waiting.shift();
-    if (next) next();
-    else hashing--;
+    const following = signInQueue.shift();
+    if (following) following();
+    else signingIn--;
   }
 }
 
@@ -78,7 +80,11 @@ async function signedInBefore(email: string, ip: string) {
  *    before, so strangers elsewhere can slow an account down but never keep its owner out.
  * A successful sign-in gives the attempts back; a password reset clears the account's budgets.
  */
-export async function verifySignIn(email: string, password: string, request: Request): Promise<AuthUser> {
+export function verifySignIn(email: string, password: string, request: Request): Promise<AuthUser> {
+  return withSignInSlot(() => checkSignIn(email, password, request));
+}
+
+async function checkSignIn(email: string, password: string, request: Request): Promise<AuthUser> {
   const ip = clientIp(request);
   const address = clientKey(request);
   const byAddress = await takeAttempt("signin-address", { address });
@@ -111,7 +117,7 @@ export async function verifySignIn(email: string, password: string, request: Req
     .limit(1);
   let ok: boolean;
   try {
-    ok = await withHashingSlot(() => bcrypt.compare(password, user?.passwordHash ?? DUMMY_HASH));
+    ok = await compareInPool(password, user?.passwordHash ?? DUMMY_HASH);
   } catch (error) {
     if (!(error instanceof HashingBusyError)) throw error;
     // Not the user's fault: give the attempts back.
