@@ -1,6 +1,6 @@
 import { useEffect, useId, useRef, useState } from "react";
 import { useFetcher, useNavigate } from "react-router";
-import { formatDate } from "~/routes/patients/patient-schema";
+import { formatDate } from "~/models/patients/patient-schema";
 import { Icon } from "./ui/icon";
 
 type Hit = { id: string; firstName: string; lastName: string; dateOfBirth: string; phone: string | null; email: string | null };

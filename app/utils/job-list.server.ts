@@ -2,8 +2,8 @@
  * Every queue the worker runs: import the module that declares it (with defineJob) here.
  * Other areas add their own line (for example billing receipts, referral letters).
  */
-import "./reminders.server";
-import "./recalls.server";
-import "~/routes/referrals/referrals.server";
-import "./account-mail.server";
+import "~/models/schedule/reminders.server";
+import "~/models/schedule/recalls.server";
+import "~/models/referrals/referrals.server";
+import "~/models/users/account-mail.server";
 import "~/models/orders/order-mail.server";

@@ -12,7 +12,7 @@ import { action as loginAction } from "~/routes/auth/login";
 import { action as resetAction } from "~/routes/auth/reset-password";
 import { action as linkAction } from "~/routes/auth/sign-in-link";
 import { attemptBudgets, auditLog, signInAttempts, users } from "~/db/schema";
-import { deliverAccountMail } from "~/utils/account-mail.server";
+import { deliverAccountMail } from "~/models/users/account-mail.server";
 import { hashPassword } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { issueUserToken } from "~/utils/tokens.server";

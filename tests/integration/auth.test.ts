@@ -6,7 +6,7 @@ import { action as resetAction, loader as resetLoader } from "~/routes/auth/rese
 import { action as usersAction, loader as usersLoader } from "~/routes/settings/users";
 import { loader as layoutLoader } from "~/routes/layout";
 import { auditLog, sessions, userTokens, users } from "~/db/schema";
-import { deliverAccountMail } from "~/utils/account-mail.server";
+import { deliverAccountMail } from "~/models/users/account-mail.server";
 import { hashPassword } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { getSessionUser } from "~/utils/session.server";

@@ -2,7 +2,7 @@
 import { randomBytes } from "node:crypto";
 import { eq } from "drizzle-orm";
 import { appointments, appointmentTypes, exams, feeItems, patients, practiceSettings } from "~/db/schema";
-import { createInvoice, issueInvoice } from "~/routes/billing/invoices.server";
+import { createInvoice, issueInvoice } from "~/models/billing/invoices.server";
 import { db } from "~/utils/db.server";
 import { userByEmail } from "#tests/support/helpers";
 

@@ -11,7 +11,7 @@ import { loader as receiptPdfLoader } from "~/routes/billing/receipt-pdf";
 import { loader as listLoader } from "~/routes/billing/index";
 import { loader as takingsLoader } from "~/routes/billing/takings";
 import { loader as takingsCsvLoader } from "~/routes/billing/takings-csv";
-import { createInvoice, issueInvoice, recordDeskPayment, refundPayment } from "~/routes/billing/invoices.server";
+import { createInvoice, issueInvoice, recordDeskPayment, refundPayment } from "~/models/billing/invoices.server";
 import { action as feesAction } from "~/routes/settings/fees";
 import { auditLog, feeItems, invoiceLines, invoices, payments, practiceSettings } from "~/db/schema";
 import { db } from "~/utils/db.server";

@@ -6,8 +6,8 @@
  */
 import { randomUUID } from "node:crypto";
 import { describe, expect, it } from "vitest";
-import { signPayLink, verifyPayLink } from "~/routes/billing/checkout.server";
-import { signLink, verifyLink } from "~/routes/referrals/links.server";
+import { signPayLink, verifyPayLink } from "~/models/billing/checkout.server";
+import { signLink, verifyLink } from "~/models/referrals/links.server";
 
 /** Spellings of `token` that decode to the same bytes or numbers but are not the token. */
 function altered(token: string) {

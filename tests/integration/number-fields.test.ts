@@ -7,7 +7,7 @@ import { eq } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { action as invoiceAction } from "~/routes/billing/invoice";
 import { action as newInvoiceAction } from "~/routes/billing/invoice-new";
-import { createInvoice } from "~/routes/billing/invoices.server";
+import { createInvoice } from "~/models/billing/invoices.server";
 import { action as typesAction } from "~/routes/settings/appointment-types";
 import { action as feesAction } from "~/routes/settings/fees";
 import { action as labsAction } from "~/routes/settings/labs";

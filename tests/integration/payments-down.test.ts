@@ -7,7 +7,7 @@ vi.hoisted(() => {
 });
 
 const { action: payAction } = await import("~/routes/pay/pay");
-const { signPayLink } = await import("~/routes/billing/checkout.server");
+const { signPayLink } = await import("~/models/billing/checkout.server");
 const { payments, invoices } = await import("~/db/schema");
 const { db } = await import("~/utils/db.server");
 const { dataOf, makeRequest, run, statusOf } = await import("#tests/support/helpers");

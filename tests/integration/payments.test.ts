@@ -3,7 +3,7 @@ import { describe, expect, it } from "vitest";
 import { action as payAction, loader as payLoader } from "~/routes/pay/pay";
 import { loader as payPdfLoader } from "~/routes/pay/invoice-pdf";
 import { action as invoiceAction } from "~/routes/billing/invoice";
-import { signPayLink, verifyPayLink } from "~/routes/billing/checkout.server";
+import { signPayLink, verifyPayLink } from "~/models/billing/checkout.server";
 import { invoices, payments } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { cookieFor, dataOf, linkIn, mailTo, makeRequest, run, statusOf } from "#tests/support/helpers";

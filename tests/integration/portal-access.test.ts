@@ -3,7 +3,7 @@ import { describe, expect, it } from "vitest";
 import { action as inviteAction } from "~/routes/api/portal-invite";
 import { action as resetAction, loader as resetLoader } from "~/routes/auth/reset-password";
 import { action as linkAction } from "~/routes/auth/sign-in-link";
-import { deliverAccountMail } from "~/utils/account-mail.server";
+import { deliverAccountMail } from "~/models/users/account-mail.server";
 import { action as verifyAction, loader as verifyLoader } from "~/routes/auth/sign-in-link-verify";
 import { action as remindersAction, loader as remindersLoader } from "~/routes/portal/reminders";
 import { auditLog, patients, users } from "~/db/schema";

@@ -8,8 +8,8 @@ import { action as invoicesAction, loader as invoicesLoader } from "~/routes/por
 import { loader as rxListLoader } from "~/routes/portal/prescriptions";
 import { loader as rxPdfLoader } from "~/routes/patients/prescription-pdf";
 import { appointmentChangeRequests, appointments, appointmentTypes, payments, prescriptions, users } from "~/db/schema";
-import { verifyPayLink } from "~/routes/billing/checkout.server";
-import { createInvoice, issueInvoice, recordDeskPayment } from "~/routes/billing/invoices.server";
+import { verifyPayLink } from "~/models/billing/checkout.server";
+import { createInvoice, issueInvoice, recordDeskPayment } from "~/models/billing/invoices.server";
 import { db } from "~/utils/db.server";
 import { cookieFor, dataOf, makeRequest, run, statusOf, userByEmail } from "#tests/support/helpers";
 import { finishedExam, fee, issuedInvoice, newPatient } from "./billing-support";

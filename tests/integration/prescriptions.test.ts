@@ -6,7 +6,7 @@ import { eq } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
 import { action as examAction } from "~/routes/exams/exam";
 import { loader as pdfLoader } from "~/routes/patients/prescription-pdf";
-import { addMonths, contactLensPower } from "~/routes/patients/prescriptions.server";
+import { addMonths, contactLensPower } from "~/models/prescriptions/prescriptions.server";
 import { examRefractions, exams, patients, prescriptionEyes, prescriptions } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { cookieFor, makeRequest, run, statusOf, userByEmail } from "#tests/support/helpers";

@@ -6,7 +6,7 @@ import { appointments, examAssessment, exams, recallMessages, sites } from "~/db
 import { addMonths } from "~/lib/scheduling/recall";
 import { localParts, wallTimeToInstant } from "~/lib/scheduling/time";
 import { db } from "~/utils/db.server";
-import { deliverRecall, recallList } from "~/utils/recalls.server";
+import { deliverRecall, recallList } from "~/models/schedule/recalls.server";
 import { cookieFor, dataOf, mailTo, makeRequest, run, statusOf } from "#tests/support/helpers";
 import { demoIds, newPatient, pastVisit } from "./schedule-fixtures";
 

@@ -32,10 +32,10 @@ import {
 } from "~/db/schema";
 import { loader as listLoader } from "~/routes/referrals/index";
 import { loader as pdfLoader } from "~/routes/referrals/letter-pdf";
-import { signLink, verifyLink } from "~/routes/referrals/links.server";
+import { signLink, verifyLink } from "~/models/referrals/links.server";
 import { action as newAction, loader as newLoader } from "~/routes/referrals/new";
 import { action as referralAction, loader as referralLoader } from "~/routes/referrals/referral";
-import { deliverReferralMessage, referralsForChart, smtpSender, trackingRows, useReferralMailSender } from "~/routes/referrals/referrals.server";
+import { deliverReferralMessage, referralsForChart, smtpSender, trackingRows, useReferralMailSender } from "~/models/referrals/referrals.server";
 import { action as replyAction, loader as replyLoader } from "~/routes/referrals/reply";
 import { loader as replyLetterLoader } from "~/routes/referrals/reply-letter";
 import { action as recipientsAction } from "~/routes/settings/recipients";

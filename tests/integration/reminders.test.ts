@@ -8,7 +8,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { appointmentMessages } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { startWorkers, stopJobs } from "~/utils/jobs.server";
-import { APPOINTMENT_MAIL_QUEUE, deliverAppointmentMessage, sendReminderNow, useAppointmentMailSender } from "~/utils/reminders.server";
+import { APPOINTMENT_MAIL_QUEUE, deliverAppointmentMessage, sendReminderNow, useAppointmentMailSender } from "~/models/schedule/reminders.server";
 import { cookieFor, makeRequest, mailTo, run } from "#tests/support/helpers";
 import { UNIT } from "#tests/support/ports";
 import { startMailStandIn, stopProcess } from "#tests/support/services";

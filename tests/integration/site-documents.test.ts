@@ -1,8 +1,8 @@
 /** Invoices, receipts and their e-mails carry the site that issued them, not only the practice. */
 import { eq } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
-import { billingPdf, emailInvoice, emailReceipt } from "~/routes/billing/documents.server";
-import { createInvoice, invoiceDetail, issueInvoice, recordDeskPayment } from "~/routes/billing/invoices.server";
+import { billingPdf, emailInvoice, emailReceipt } from "~/models/billing/documents.server";
+import { createInvoice, invoiceDetail, issueInvoice, recordDeskPayment } from "~/models/billing/invoices.server";
 import { appointments, invoices, sites } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { mailTo, userByEmail } from "#tests/support/helpers";

@@ -4,7 +4,7 @@ import { loader as eventsLoader } from "~/routes/api/appointments";
 import { loader as dayLoader } from "~/routes/schedule/day";
 import { loader as calendarLoader } from "~/routes/schedule/index";
 import { action as moveAction } from "~/routes/api/appointments-item";
-import { freeSlots } from "~/routes/portal/portal.server";
+import { freeSlots } from "~/models/portal/portal.server";
 import { action as hoursAction } from "~/routes/settings/hours";
 import { action as sitesAction, loader as sitesLoader } from "~/routes/settings/sites";
 import { appointments, rooms, siteOpeningHours, sites, workingHours } from "~/db/schema";

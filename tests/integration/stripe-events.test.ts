@@ -9,7 +9,7 @@ import Stripe from "stripe";
 import { describe, expect, it } from "vitest";
 import { invoices, payments } from "~/db/schema";
 import { action as webhookAction } from "~/routes/api/webhooks/stripe";
-import { CHECKOUT_LIFETIME_SECONDS, signPayLink } from "~/routes/billing/checkout.server";
+import { CHECKOUT_LIFETIME_SECONDS, signPayLink } from "~/models/billing/checkout.server";
 import { action as payAction } from "~/routes/pay/pay";
 import { db } from "~/utils/db.server";
 import { STRIPE_API_VERSION, stripe } from "~/utils/payments.server";

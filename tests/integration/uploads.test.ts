@@ -3,7 +3,7 @@ import sharp from "sharp";
 import { describe, expect, it } from "vitest";
 import { action as uploadAction } from "~/routes/api/uploads";
 import { loader as fileLoader } from "~/routes/patients/document-file";
-import { sniffType } from "~/routes/patients/documents.server";
+import { sniffType } from "~/models/patients/documents.server";
 import { auditLog, documents, exams, patients } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { BASE, cookieFor, makeRequest, run, statusOf, userByEmail } from "#tests/support/helpers";

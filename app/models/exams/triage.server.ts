@@ -7,7 +7,7 @@ import { and, desc, eq, lt } from "drizzle-orm";
 import { examAcuity, examAnteriorChamber, examDiscs, examFundus, examIop, examPupils, examRedFlags, examRefractions, exams, patients, practiceSettings } from "~/db/schema";
 import { triage, type Eye, type EyeFindings, type TriageInput, type TriageResult } from "~/lib/referrals";
 import { localParts } from "~/lib/scheduling/time";
-import { ageOn } from "~/routes/patients/patient-schema";
+import { ageOn } from "~/models/patients/patient-schema";
 import { db, type Tx } from "~/utils/db.server";
 
 type Conn = Tx | typeof db;

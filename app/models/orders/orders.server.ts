@@ -12,7 +12,7 @@ import { formatMoney } from "~/lib/money";
 import { checkLensType, orderLabel, STATE_LABEL, type SpectacleLensType } from "~/lib/orders/states";
 import { checkMountedPair, parseRx, RxError, type LensRx, type PairEye, type PairReport, type PrismComponents } from "~/lib/optics";
 import { jurisdictionOf } from "~/lib/optics/jurisdiction";
-import { BillingError, createInvoice, issueInvoice, recordDeskPayment, voidInvoice, type NewLine } from "~/routes/billing/invoices.server";
+import { BillingError, createInvoice, issueInvoice, recordDeskPayment, voidInvoice, type NewLine } from "~/models/billing/invoices.server";
 import { audit } from "~/utils/audit.server";
 import { db, type Tx } from "~/utils/db.server";
 import type { SessionUser } from "~/utils/session.server";

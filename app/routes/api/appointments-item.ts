@@ -3,10 +3,10 @@ import { z } from "zod";
 import type { Route } from "./+types/appointments-item";
 import { appointments, sites } from "~/db/schema";
 import { APPOINTMENT_STATUSES } from "~/lib/scheduling/status";
-import { bookingErrorJson, errorJson, eventJson, isoTime, readBody, zodFieldErrors } from "~/routes/schedule/schedule-api.server";
+import { bookingErrorJson, errorJson, eventJson, isoTime, readBody, zodFieldErrors } from "~/models/schedule/schedule-api.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
-import { appointmentsBetween, BookingError, changeStatus, moveAppointment, practiceSchedule } from "~/utils/schedule.server";
+import { appointmentsBetween, BookingError, changeStatus, moveAppointment, practiceSchedule } from "~/models/schedule/schedule.server";
 
 async function load(id: string, timeZone: string) {
   if (!z.uuid().safeParse(id).success) return null;

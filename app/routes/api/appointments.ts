@@ -1,9 +1,9 @@
 import { data } from "react-router";
 import type { Route } from "./+types/appointments";
-import { bookingErrorJson, bookingSchema, errorJson, eventJson, isoTime, readBody, zodFieldErrors } from "~/routes/schedule/schedule-api.server";
+import { bookingErrorJson, bookingSchema, errorJson, eventJson, isoTime, readBody, zodFieldErrors } from "~/models/schedule/schedule-api.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { appointmentsBetween, bookAppointment, BookingError, calendarEventsJson, practiceSchedule } from "~/utils/schedule.server";
-import { siteTimeZone } from "~/utils/sites.server";
+import { appointmentsBetween, bookAppointment, BookingError, calendarEventsJson, practiceSchedule } from "~/models/schedule/schedule.server";
+import { siteTimeZone } from "~/models/schedule/sites.server";
 import { z } from "zod";
 
 /**

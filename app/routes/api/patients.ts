@@ -1,5 +1,5 @@
 import type { Route } from "./+types/patients";
-import { searchPatients } from "~/routes/patients/patients.server";
+import { searchPatients } from "~/models/patients/patients.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 
 /** GET /api/patients?q= — typeahead search by any part of the name, date of birth, phone or e-mail. */

@@ -1,7 +1,7 @@
 import { z } from "zod";
 import type { Route } from "./+types/portal-invite";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { invitePatientToPortal, PortalInviteError } from "~/utils/portal-invite.server";
+import { invitePatientToPortal, PortalInviteError } from "~/models/portal/portal-invite.server";
 
 const schema = z.object({ patientId: z.uuid({ error: "patientId must be a patient's id." }) });
 

@@ -1,7 +1,7 @@
 import { z } from "zod";
 import type { Route } from "./+types/schedule-patients";
 import { patients } from "~/db/schema";
-import { errorJson, readBody, zodFieldErrors } from "~/routes/schedule/schedule-api.server";
+import { errorJson, readBody, zodFieldErrors } from "~/models/schedule/schedule-api.server";
 import { audit } from "~/utils/audit.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";

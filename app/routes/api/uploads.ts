@@ -1,8 +1,8 @@
 import { and, eq } from "drizzle-orm";
 import type { Route } from "./+types/uploads";
 import { exams, patients } from "~/db/schema";
-import { DOCUMENT_KINDS, MAX_UPLOAD_BYTES, saveUpload, UploadError, type DocumentKind } from "~/routes/patients/documents.server";
-import { isUuid } from "~/routes/patients/patient-schema";
+import { DOCUMENT_KINDS, MAX_UPLOAD_BYTES, saveUpload, UploadError, type DocumentKind } from "~/models/patients/documents.server";
+import { isUuid } from "~/models/patients/patient-schema";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 

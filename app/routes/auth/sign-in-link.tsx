@@ -7,7 +7,7 @@ import { AuthCard } from "~/components/auth-card";
 import { Field } from "~/components/forms";
 import { Button } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
-import { requestAccountMail } from "~/utils/account-mail.server";
+import { requestAccountMail } from "~/models/users/account-mail.server";
 import { readForm } from "~/utils/form.server";
 
 const schema = z.object({

@@ -3,7 +3,7 @@ import { and, count, desc, eq, ilike, or, sql, type SQL } from "drizzle-orm";
 import { Form, Link, useSearchParams } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/index";
-import { BillingNav, InvoiceStatusBadge } from "./components";
+import { BillingNav, InvoiceStatusBadge } from "~/components/billing/invoice-status";
 import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
@@ -12,7 +12,7 @@ import { invoices, invoiceStatusEnum, patients, practiceSettings } from "~/db/sc
 import { formatMoney } from "~/lib/money";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
-import { BILLING_ROLES, invoiceLabel } from "./invoices.server";
+import { BILLING_ROLES, invoiceLabel } from "~/models/billing/invoices.server";
 
 const PAGE_SIZE = 25;
 const filterSchema = z.object({

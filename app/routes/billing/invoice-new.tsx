@@ -2,7 +2,7 @@ import { asc, eq } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/invoice-new";
-import { BillingNav } from "./components";
+import { BillingNav } from "~/components/billing/invoice-status";
 import { ErrorList } from "~/components/forms";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
@@ -17,7 +17,7 @@ import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import { BILLING_ROLES, BillingError, createInvoice, examForInvoice, type NewLine } from "./invoices.server";
+import { BILLING_ROLES, BillingError, createInvoice, examForInvoice, type NewLine } from "~/models/billing/invoices.server";
 
 const baseSchema = z.object({
   patientId: z.uuid({ error: "Choose a patient." }),

@@ -1,8 +1,8 @@
 import { data } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/invoice-pdf";
-import { billingPdf } from "./documents.server";
-import { BILLING_ROLES, invoiceDetail, invoiceLabel } from "./invoices.server";
+import { billingPdf } from "~/models/billing/documents.server";
+import { BILLING_ROLES, invoiceDetail, invoiceLabel } from "~/models/billing/invoices.server";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 

@@ -1,6 +1,6 @@
 import type { Route } from "./+types/takings-csv";
-import { BILLING_ROLES, invoiceLabel, practiceBilling } from "./invoices.server";
-import { parsePeriod, takings, todayIn } from "./takings.server";
+import { BILLING_ROLES, invoiceLabel, practiceBilling } from "~/models/billing/invoices.server";
+import { parsePeriod, takings, todayIn } from "~/models/billing/takings.server";
 import { minorToDecimal } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";

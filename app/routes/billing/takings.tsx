@@ -1,9 +1,9 @@
 import { data, Form, Link } from "react-router";
 import type { Route } from "./+types/takings";
-import { BillingNav } from "./components";
-import { METHOD_LABEL } from "./documents.server";
-import { BILLING_ROLES, invoiceLabel, practiceBilling } from "./invoices.server";
-import { parsePeriod, takings, todayIn } from "./takings.server";
+import { BillingNav } from "~/components/billing/invoice-status";
+import { METHOD_LABEL } from "~/models/billing/documents.server";
+import { BILLING_ROLES, invoiceLabel, practiceBilling } from "~/models/billing/invoices.server";
+import { parsePeriod, takings, todayIn } from "~/models/billing/takings.server";
 import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
@@ -11,7 +11,7 @@ import { Input } from "~/components/ui/input";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { formatMoney } from "~/lib/money";
 import { requireRole } from "~/utils/auth.server";
-import { activeSites, siteChoice } from "~/utils/sites.server";
+import { activeSites, siteChoice } from "~/models/schedule/sites.server";
 import { Select } from "~/components/ui/input";
 
 export async function loader({ request }: Route.LoaderArgs) {

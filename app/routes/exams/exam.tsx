@@ -30,8 +30,8 @@ import {
   type SegmentKey,
 } from "~/lib/exam/sections";
 import { type AcuityNotation, compareRx, formatRx, isMeaningfulChange, MEANINGFUL_CHANGE_RULE, screenColourVision, type ReferralPrompt, type SphCyl } from "~/lib/optics";
-import { ageOn, formatDate } from "~/routes/patients/patient-schema";
-import { issuePrescription, prescriptionsOf } from "~/routes/patients/prescriptions.server";
+import { ageOn, formatDate } from "~/models/patients/patient-schema";
+import { issuePrescription, prescriptionsOf } from "~/models/prescriptions/prescriptions.server";
 import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
@@ -43,10 +43,10 @@ import { AcuitySection, AssessmentSection, IopSection } from "./measure-sections
 import { TriagePanel } from "./triage-panel";
 import { Signatures } from "./signatures";
 import { DirtyContext, ExamInput, ExamSelect, ExamTextarea, SectionForm, sectionAnchor, useDirtyTracker, type SaveReply } from "./exam-form";
-import { examFor, examSettings, formValues, loadExam, previousFinal, promptsFor, saveSection, SectionError, SECTIONS, storedTriage, type Section } from "./exam.server";
-import { DocumentList, UploadForm } from "~/routes/patients/uploads-ui";
+import { examFor, examSettings, formValues, loadExam, previousFinal, promptsFor, saveSection, SectionError, SECTIONS, storedTriage, type Section } from "~/models/exams/exam.server";
+import { DocumentList, UploadForm } from "~/components/patients/uploads-ui";
 import { parseDecimal } from "~/lib/numbers/decimal";
-import { documentsOf } from "~/routes/patients/documents.server";
+import { documentsOf } from "~/models/patients/documents.server";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, CLINICAL_ROLES);

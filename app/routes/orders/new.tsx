@@ -14,12 +14,12 @@ import { formatMoney } from "~/lib/money";
 import { formatRx } from "~/lib/optics";
 import { COATINGS, LENS_MATERIALS, LENS_TYPE_LABEL } from "~/lib/orders/states";
 import { activeFrames, activeLabs, createContactLensOrder, createSpectacleOrder, itemFees, ORDER_ROLES, orderablePrescriptions, OrderError, practiceOrderSettings } from "~/models/orders/orders.server";
-import { formatDate, isUuid } from "~/routes/patients/patient-schema";
-import { searchPatients } from "~/routes/patients/patients.server";
+import { formatDate, isUuid } from "~/models/patients/patient-schema";
+import { searchPatients } from "~/models/patients/patients.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import { contactLensOrderSchema, spectacleOrderSchema } from "./order-schema";
+import { contactLensOrderSchema, spectacleOrderSchema } from "~/models/orders/order-schema";
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ORDER_ROLES);

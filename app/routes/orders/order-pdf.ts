@@ -2,7 +2,7 @@ import { data } from "react-router";
 import type { Route } from "./+types/order-pdf";
 import { buildOrderPdf } from "~/models/orders/order-pdf.server";
 import { ORDER_ROLES, orderDetail } from "~/models/orders/orders.server";
-import { isUuid } from "~/routes/patients/patient-schema";
+import { isUuid } from "~/models/patients/patient-schema";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 

@@ -15,12 +15,12 @@ import { formatMoney, parseMoney } from "~/lib/money";
 import { formatRx, type PairReport } from "~/lib/optics";
 import { LENS_TYPE_LABEL, STATE_LABEL, type OrderStateName } from "~/lib/orders/states";
 import { cancelOrder, collectOrder, markReady, markReceived, markRemake, ORDER_ROLES, orderDetail, OrderError, OVERRIDE_ROLES, practiceOrderSettings, raiseOrderInvoice, recordCheck, sendToLab } from "~/models/orders/orders.server";
-import { invoiceLabel } from "~/routes/billing/invoices.server";
-import { formatDate, isUuid } from "~/routes/patients/patient-schema";
+import { invoiceLabel } from "~/models/billing/invoices.server";
+import { formatDate, isUuid } from "~/models/patients/patient-schema";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import { checkSchema } from "./order-schema";
+import { checkSchema } from "~/models/orders/order-schema";
 
 const STATES = ["draft", "sent_to_lab", "received", "checked", "ready_to_collect", "collected", "remake", "cancelled"] as const;
 const moveSchema = z.discriminatedUnion("intent", [

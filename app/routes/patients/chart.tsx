@@ -8,20 +8,20 @@ import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { patients } from "~/db/schema";
 import { formatRx } from "~/lib/optics";
-import { examFor, latestPrompts, startExam } from "~/routes/exams/exam.server";
+import { examFor, latestPrompts, startExam } from "~/models/exams/exam.server";
 import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import { appointmentsOf, childProgression, examsOf, invoicesOf, recallDue, refractionHistory } from "./chart.server";
-import { documentsOf } from "./documents.server";
-import { ageOn, formatDate, isUuid } from "./patient-schema";
-import { prescriptionsOf } from "./prescriptions.server";
+import { appointmentsOf, childProgression, examsOf, invoicesOf, recallDue, refractionHistory } from "~/models/patients/chart.server";
+import { documentsOf } from "~/models/patients/documents.server";
+import { ageOn, formatDate, isUuid } from "~/models/patients/patient-schema";
+import { prescriptionsOf } from "~/models/prescriptions/prescriptions.server";
 import { PortalInviteButton } from "~/components/portal-invite-button";
-import { ChartReferrals } from "~/routes/referrals/chart-referrals";
-import { referralsForChart } from "~/routes/referrals/referrals.server";
+import { ChartReferrals } from "~/components/referrals/chart-referrals";
+import { referralsForChart } from "~/models/referrals/referrals.server";
 import { RefractionHistory } from "./refraction-plot";
-import { DocumentList, UploadForm } from "./uploads-ui";
+import { DocumentList, UploadForm } from "~/components/patients/uploads-ui";
 
 async function patientOr404(id: string | undefined) {
   if (!isUuid(id)) throw data({ error: "Not found." }, { status: 404 });

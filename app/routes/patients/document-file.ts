@@ -6,7 +6,7 @@ import { audit } from "~/utils/audit.server";
 import { assertPatientAccess, CLINICAL_ROLES, requireUser } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { openStored } from "~/utils/storage-response.server";
-import { isUuid } from "./patient-schema";
+import { isUuid } from "~/models/patients/patient-schema";
 
 /** GET /patients/:patientId/documents/:documentId/(file|thumbnail) — clinical roles only. */
 export async function loader({ request, params }: Route.LoaderArgs) {

@@ -10,8 +10,8 @@ import { CLINICAL_ROLES, requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { PatientForm, type PatientActionData } from "./patient-form";
-import { isUuid, patientSchema } from "./patient-schema";
-import { findDuplicates } from "./patients.server";
+import { isUuid, patientSchema } from "~/models/patients/patient-schema";
+import { findDuplicates } from "~/models/patients/patients.server";
 
 
 

@@ -6,8 +6,8 @@ import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
 import { Icon } from "~/components/ui/icon";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { ageOn, formatDate, listQuerySchema, type ListQuery, type PatientSort } from "./patient-schema";
-import { listPatients } from "./patients.server";
+import { ageOn, formatDate, listQuerySchema, type ListQuery, type PatientSort } from "~/models/patients/patient-schema";
+import { listPatients } from "~/models/patients/patients.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, STAFF_ROLES);

@@ -8,8 +8,8 @@ import { CLINICAL_ROLES, requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { PatientForm, type PatientActionData } from "./patient-form";
-import { patientSchema } from "./patient-schema";
-import { findDuplicates } from "./patients.server";
+import { patientSchema } from "~/models/patients/patient-schema";
+import { findDuplicates } from "~/models/patients/patients.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);

@@ -7,7 +7,7 @@ import { Card } from "~/components/ui/card";
 import { Textarea } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
 import type { z } from "zod";
-import { formatDate, patientSchema } from "./patient-schema";
+import { formatDate, patientSchema } from "~/models/patients/patient-schema";
 
 export type Duplicate = { id: string; firstName: string; lastName: string; dateOfBirth: string; phone: string | null; email: string | null };
 export type PatientActionData = (SubmissionResult<string[]> & { duplicates?: Duplicate[] }) | undefined;

@@ -2,7 +2,7 @@ import { useEffect, useState } from "react";
 import { CartesianGrid, Legend, Line, LineChart, ResponsiveContainer, Scatter, ScatterChart, Tooltip, XAxis, YAxis, ZAxis } from "recharts";
 import { Card } from "~/components/ui/card";
 import { StatusBadge } from "~/components/ui/notice";
-import { formatDate } from "./patient-schema";
+import { formatDate } from "~/models/patients/patient-schema";
 
 type Point = { examId: string; date: string; kind: string; eye: "right" | "left"; M: number; J0: number; J45: number; sphere: number; cylinder: number; axis: number };
 type Interval = { ratePerYear: number; atOrBeyondThreshold: boolean; label: string; warnings: string[] };

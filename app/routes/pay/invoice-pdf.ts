@@ -1,7 +1,7 @@
 import type { Route } from "./+types/invoice-pdf";
-import { invoiceForToken } from "./pay.server";
-import { billingPdf } from "~/routes/billing/documents.server";
-import { invoiceLabel } from "~/routes/billing/invoices.server";
+import { invoiceForToken } from "~/models/billing/pay.server";
+import { billingPdf } from "~/models/billing/documents.server";
+import { invoiceLabel } from "~/models/billing/invoices.server";
 
 /** The invoice PDF behind a pay-by-link (the token is the guard, as for the page). */
 export async function loader({ params }: Route.LoaderArgs) {

@@ -1,15 +1,15 @@
 import { useEffect } from "react";
 import { data, Form, redirect, useNavigation, useRevalidator } from "react-router";
 import type { Route } from "./+types/pay";
-import { invoiceForToken } from "./pay.server";
+import { invoiceForToken } from "~/models/billing/pay.server";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice } from "~/components/ui/notice";
-import { InvoiceStatusBadge } from "~/routes/billing/components";
-import { latestOnlineAttempt, startCheckout } from "~/routes/billing/checkout.server";
-import { formatDate } from "~/routes/billing/documents.server";
-import { BillingError, invoiceLabel, practiceBilling } from "~/routes/billing/invoices.server";
+import { InvoiceStatusBadge } from "~/components/billing/invoice-status";
+import { latestOnlineAttempt, startCheckout } from "~/models/billing/checkout.server";
+import { formatDate } from "~/models/billing/documents.server";
+import { BillingError, invoiceLabel, practiceBilling } from "~/models/billing/invoices.server";
 import { formatMoney } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
 

@@ -2,7 +2,7 @@ import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/book";
-import { freeSlots, onlineTypes, portalSettings, requirePortalPatient } from "./portal.server";
+import { freeSlots, onlineTypes, portalSettings, requirePortalPatient } from "~/models/portal/portal.server";
 import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
@@ -11,9 +11,9 @@ import { Notice } from "~/components/ui/notice";
 import { addDays, localParts } from "~/lib/scheduling";
 import { isCalendarDate } from "~/lib/dates/calendar-date";
 import { readForm } from "~/utils/form.server";
-import { BookingError, bookAppointment } from "~/utils/schedule.server";
+import { BookingError, bookAppointment } from "~/models/schedule/schedule.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import { activeSites } from "~/utils/sites.server";
+import { activeSites } from "~/models/schedule/sites.server";
 
 const bookSchema = z.object({
   appointmentTypeId: z.uuid({ error: "Choose a kind of visit." }),

@@ -2,10 +2,10 @@ import { and, eq } from "drizzle-orm";
 import { data } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/documents";
-import { requirePortalPatient } from "./portal.server";
+import { requirePortalPatient } from "~/models/portal/portal.server";
 import { invoices, payments } from "~/db/schema";
-import { billingPdf } from "~/routes/billing/documents.server";
-import { invoiceDetail, invoiceLabel } from "~/routes/billing/invoices.server";
+import { billingPdf } from "~/models/billing/documents.server";
+import { invoiceDetail, invoiceLabel } from "~/models/billing/invoices.server";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 

@@ -4,7 +4,7 @@ import { useState } from "react";
 import { data, Link, useFetcher } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/home";
-import { cancellable, ownAppointment, patientName, portalSettings, requirePortalPatient, visitsOf } from "./portal.server";
+import { cancellable, ownAppointment, patientName, portalSettings, requirePortalPatient, visitsOf } from "~/models/portal/portal.server";
 import { ErrorList } from "~/components/forms";
 import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
@@ -15,7 +15,7 @@ import { appointmentChangeRequests } from "~/db/schema";
 import { STATUS_LABEL, type Status } from "~/lib/scheduling";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
-import { BookingError, changeStatus } from "~/utils/schedule.server";
+import { BookingError, changeStatus } from "~/models/schedule/schedule.server";
 import { redirectWithToast } from "~/utils/toast.server";
 
 const schema = z.discriminatedUnion("intent", [

@@ -2,13 +2,13 @@ import { redirect } from "react-router";
 import { Form, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/invoices";
-import { invoicesOf, ownInvoice, portalSettings, requirePortalPatient } from "./portal.server";
+import { invoicesOf, ownInvoice, portalSettings, requirePortalPatient } from "~/models/portal/portal.server";
 import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { formatMoney } from "~/lib/money";
-import { signPayLink } from "~/routes/billing/checkout.server";
+import { signPayLink } from "~/models/billing/checkout.server";
 import { audit } from "~/utils/audit.server";
 
 const STATUS = { open: "Awaiting payment", partially_paid: "Part paid", paid: "Paid", void: "Cancelled", draft: "Draft" } as const;

@@ -1,6 +1,6 @@
 import { desc, eq } from "drizzle-orm";
 import type { Route } from "./+types/orders";
-import { requirePortalPatient } from "./portal.server";
+import { requirePortalPatient } from "~/models/portal/portal.server";
 import { PageHeader } from "~/components/page-header";
 import { Card } from "~/components/ui/card";
 import { StatusBadge } from "~/components/ui/notice";

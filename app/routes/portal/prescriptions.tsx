@@ -1,10 +1,10 @@
 import type { Route } from "./+types/prescriptions";
-import { portalSettings, requirePortalPatient } from "./portal.server";
+import { portalSettings, requirePortalPatient } from "~/models/portal/portal.server";
 import { PageHeader } from "~/components/page-header";
 import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { formatRx } from "~/lib/optics";
-import { prescriptionsOf } from "~/routes/patients/prescriptions.server";
+import { prescriptionsOf } from "~/models/prescriptions/prescriptions.server";
 import { audit } from "~/utils/audit.server";
 
 /** The patient's prescriptions: nothing else clinical. Every prescription is signed when issued. */

@@ -2,7 +2,7 @@ import { createColumnHelper, flexRender, getCoreRowModel, getSortedRowModel, use
 import { useMemo, useState } from "react";
 import { Form, Link, useFetcher, useSearchParams } from "react-router";
 import type { Route } from "./+types/index";
-import { trackingRows } from "./referrals.server";
+import { trackingRows } from "~/models/referrals/referrals.server";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";

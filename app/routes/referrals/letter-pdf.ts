@@ -1,5 +1,5 @@
 import type { Route } from "./+types/letter-pdf";
-import { loadReferral, referenceOf, renderLetter } from "./referrals.server";
+import { loadReferral, referenceOf, renderLetter } from "~/models/referrals/referrals.server";
 import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 

@@ -3,7 +3,7 @@ import { and, asc, desc, eq } from "drizzle-orm";
 import { data, Link } from "react-router";
 import type { Route } from "./+types/new";
 import { draftValuesOf, LetterForm, letterSchema } from "./letter-form";
-import { candidateExams, createDraft, formatDate, isUuid, practice, prefill, ReferralError, referableExam, snapshotOf, triageProposal } from "./referrals.server";
+import { candidateExams, createDraft, formatDate, isUuid, practice, prefill, ReferralError, referableExam, snapshotOf, triageProposal } from "~/models/referrals/referrals.server";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";

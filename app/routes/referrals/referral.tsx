@@ -17,7 +17,7 @@ import {
   triageProposal,
   updateDraft,
   withdrawReferral,
-} from "./referrals.server";
+} from "~/models/referrals/referrals.server";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";

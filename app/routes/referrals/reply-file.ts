@@ -1,7 +1,7 @@
 import { and, eq } from "drizzle-orm";
 import { data } from "react-router";
 import type { Route } from "./+types/reply-file";
-import { isUuid } from "./referrals.server";
+import { isUuid } from "~/models/referrals/referrals.server";
 import { referralReplies } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";

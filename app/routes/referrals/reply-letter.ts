@@ -1,7 +1,7 @@
 import type { Route } from "./+types/reply-letter";
-import { linkRefusal } from "./public.server";
-import { loadReferral, referenceOf, renderLetter } from "./referrals.server";
-import { verifyLink } from "./links.server";
+import { linkRefusal } from "~/models/referrals/public.server";
+import { loadReferral, referenceOf, renderLetter } from "~/models/referrals/referrals.server";
+import { verifyLink } from "~/models/referrals/links.server";
 import { audit } from "~/utils/audit.server";
 
 /** The letter PDF for the recipient, through their signed link only. */

@@ -5,10 +5,10 @@ import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/appointment";
 import { StatusCommands, usePolling } from "./day-ui";
-import { statusAction } from "./day.server";
-import { isoTime } from "./schedule-api.server";
-import { scheduleReferenceData } from "./schedule-data.server";
-import { AppointmentStatus } from "./status-ui";
+import { statusAction } from "~/models/schedule/day.server";
+import { isoTime } from "~/models/schedule/schedule-api.server";
+import { scheduleReferenceData } from "~/models/schedule/schedule-data.server";
+import { AppointmentStatus } from "~/components/schedule/status-ui";
 import { ErrorList } from "~/components/forms";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
@@ -21,8 +21,8 @@ import { isMovable, STATUS_LABEL } from "~/lib/scheduling/status";
 import { formatLocal, localParts, toZonedIso } from "~/lib/scheduling/time";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
-import { sendReminderNow } from "~/utils/reminders.server";
-import { BookingError, moveAppointment, practiceSchedule } from "~/utils/schedule.server";
+import { sendReminderNow } from "~/models/schedule/reminders.server";
+import { BookingError, moveAppointment, practiceSchedule } from "~/models/schedule/schedule.server";
 import { redirectWithToast } from "~/utils/toast.server";
 
 export async function loader({ request, params }: Route.LoaderArgs) {

@@ -3,15 +3,15 @@ import { data } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/book";
 import { BookingForm } from "./booking-form";
-import { bookingSchema } from "./schedule-api.server";
-import { patientOption, scheduleReferenceData } from "./schedule-data.server";
+import { bookingSchema } from "~/models/schedule/schedule-api.server";
+import { patientOption, scheduleReferenceData } from "~/models/schedule/schedule-data.server";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { Card } from "~/components/ui/card";
 import { formatLocal, localParts } from "~/lib/scheduling/time";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { bookAppointment, BookingError, practiceSchedule } from "~/utils/schedule.server";
-import { siteTimeZone } from "~/utils/sites.server";
+import { bookAppointment, BookingError, practiceSchedule } from "~/models/schedule/schedule.server";
+import { siteTimeZone } from "~/models/schedule/sites.server";
 import { redirectWithToast } from "~/utils/toast.server";
 
 /** The booking page: reached from a patient's chart (?patientId=) or without the calendar. */

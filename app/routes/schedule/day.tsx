@@ -1,11 +1,11 @@
 import { data, Form, Link } from "react-router";
 import type { Route } from "./+types/day";
-import { AppointmentStatus } from "./status-ui";
+import { AppointmentStatus } from "~/components/schedule/status-ui";
 import { ScheduleNav } from "./schedule-nav";
 import { StatusCommands, usePolling } from "./day-ui";
-import { loadDayList, statusAction } from "./day.server";
+import { loadDayList, statusAction } from "~/models/schedule/day.server";
 import { MoveRequests } from "./move-requests";
-import { openMoveRequests, settleMoveRequest } from "./move-requests.server";
+import { openMoveRequests, settleMoveRequest } from "~/models/schedule/move-requests.server";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";

@@ -12,7 +12,7 @@ import { appointmentMessages, appointments, patients, recallMessages } from "~/d
 import { formatLocal } from "~/lib/scheduling/time";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
-import { practiceSchedule } from "~/utils/schedule.server";
+import { practiceSchedule } from "~/models/schedule/schedule.server";
 
 const STATUSES = ["queued", "sent", "skipped", "failed"] as const;
 type MsgStatus = (typeof STATUSES)[number];

@@ -1,7 +1,7 @@
 import { z } from "zod";
 import type { Route } from "./+types/recall-progress";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { batchProgress } from "~/utils/recalls.server";
+import { batchProgress } from "~/models/schedule/recalls.server";
 
 /** GET /schedule/recalls/batches/:batchId — progress of a bulk recall send, for the progress bar. */
 export async function loader({ request, params }: Route.LoaderArgs) {

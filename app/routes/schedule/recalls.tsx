@@ -10,10 +10,10 @@ import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { addDays, localParts } from "~/lib/scheduling/time";
-import { practiceSchedule } from "~/utils/schedule-settings.server";
+import { practiceSchedule } from "~/models/schedule/schedule-settings.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { recallList, startRecallBatch } from "~/utils/recalls.server";
-import { activeSites } from "~/utils/sites.server";
+import { recallList, startRecallBatch } from "~/models/schedule/recalls.server";
+import { activeSites } from "~/models/schedule/sites.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, STAFF_ROLES);

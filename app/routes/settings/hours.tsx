@@ -14,8 +14,8 @@ import { hhmmToMinutes, minutesToHhmm } from "~/lib/scheduling/time";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
-import { bookableProviders, practiceSchedule } from "~/utils/schedule.server";
-import { activeRooms, activeSites } from "~/utils/sites.server";
+import { bookableProviders, practiceSchedule } from "~/models/schedule/schedule.server";
+import { activeRooms, activeSites } from "~/models/schedule/sites.server";
 import { redirectWithToast } from "~/utils/toast.server";
 
 export async function loader({ request }: Route.LoaderArgs) {

@@ -14,7 +14,7 @@ import { hhmmToMinutes, minutesToHhmm } from "~/lib/scheduling/time";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
-import { siteAddress } from "~/utils/sites.server";
+import { siteAddress } from "~/models/schedule/sites.server";
 import { redirectWithToast } from "~/utils/toast.server";
 
 type Errors = Record<string, string[]>;

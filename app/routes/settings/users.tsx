@@ -4,7 +4,7 @@ import { asc } from "drizzle-orm";
 import { data, Form, useFetcher, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/users";
-import { changeRole, inviteUser, setActive, UserAdminError } from "./users.server";
+import { changeRole, inviteUser, setActive, UserAdminError } from "~/models/users/users.server";
 import { Field, SelectField } from "~/components/forms";
 import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";

@@ -1,6 +1,6 @@
 import type { Route } from "./+types/stripe";
-import { processStripeEvent } from "~/routes/billing/checkout.server";
-import { emailReceiptQuietly } from "~/routes/billing/documents.server";
+import { processStripeEvent } from "~/models/billing/checkout.server";
+import { emailReceiptQuietly } from "~/models/billing/documents.server";
 import { verifyWebhook } from "~/utils/payments.server";
 import { z } from "zod";
 

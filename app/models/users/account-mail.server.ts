@@ -7,13 +7,13 @@
  */
 import { sql } from "drizzle-orm";
 import { users } from "~/db/schema";
-import { audit } from "./audit.server";
-import { db } from "./db.server";
-import { defineJob } from "./jobs.server";
-import { absoluteUrl, sendMail } from "./mail.server";
-import { clientKey } from "./request.server";
-import { takeAttempt, waitText } from "./throttle.server";
-import { issueUserToken } from "./tokens.server";
+import { audit } from "~/utils/audit.server";
+import { db } from "~/utils/db.server";
+import { defineJob } from "~/utils/jobs.server";
+import { absoluteUrl, sendMail } from "~/utils/mail.server";
+import { clientKey } from "~/utils/request.server";
+import { takeAttempt, waitText } from "~/utils/throttle.server";
+import { issueUserToken } from "~/utils/tokens.server";
 
 export type AccountMailKind = "reset" | "sign_in";
 export const ACCOUNT_MAIL_QUEUE = "account-mail";

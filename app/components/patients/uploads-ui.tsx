@@ -3,7 +3,7 @@ import { useRevalidator } from "react-router";
 import { Button } from "~/components/ui/button";
 import { Icon } from "~/components/ui/icon";
 import { Notice } from "~/components/ui/notice";
-import { formatDate } from "./patient-schema";
+import { formatDate } from "~/models/patients/patient-schema";
 
 type Doc = { id: string; kind: string; description: string; originalName: string; contentType: string; sizeBytes: number; hasThumbnail: boolean; createdAt: string; uploadedBy: string };
 const KIND_LABEL: Record<string, string> = { fundus_photo: "Fundus photograph", field_printout: "Visual field printout", outside_record: "Outside record", other: "Other" };

@@ -7,14 +7,14 @@ import { and, count, eq, gt, inArray, sql } from "drizzle-orm";
 import { appointments, patients, recallBatches, recallMessages, sites } from "~/db/schema";
 import { recallDueDate, ageOn, type RecallRule } from "~/lib/scheduling/recall";
 import { formatLocal, localParts } from "~/lib/scheduling/time";
-import { audit } from "./audit.server";
-import { db } from "./db.server";
-import { defineJob } from "./jobs.server";
-import { prepareMail, sendMail, unsubscribeUrl, type Mail } from "./mail.server";
+import { audit } from "~/utils/audit.server";
+import { db } from "~/utils/db.server";
+import { defineJob } from "~/utils/jobs.server";
+import { prepareMail, sendMail, unsubscribeUrl, type Mail } from "~/utils/mail.server";
 import { mailRetryOptions } from "./reminders.server";
 import { practiceSchedule } from "./schedule-settings.server";
 import { siteAddress } from "./sites.server";
-import type { SessionUser } from "./session.server";
+import type { SessionUser } from "~/utils/session.server";
 
 export const RECALL_MAIL_QUEUE = "recall-mail";
 

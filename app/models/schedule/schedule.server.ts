@@ -8,13 +8,13 @@ import { appointmentMessages, appointments, appointmentStatusChanges, appointmen
 import { checkWorkingHours, WEEKDAY_NAMES } from "~/lib/scheduling/hours";
 import { canChangeStatus, isMovable, LIVE_STATUSES, STATUS_LABEL, type Status } from "~/lib/scheduling/status";
 import { formatLocal, localParts, zonedIsoFormatter } from "~/lib/scheduling/time";
-import { audit } from "./audit.server";
-import { db, pool, type Tx } from "./db.server";
+import { audit } from "~/utils/audit.server";
+import { db, pool, type Tx } from "~/utils/db.server";
 import { queueAppointmentMessage, rescheduleReminder } from "./reminders.server";
 import { practiceSchedule } from "./schedule-settings.server";
 
 export { practiceSchedule };
-import type { SessionUser } from "./session.server";
+import type { SessionUser } from "~/utils/session.server";
 
 export type FieldErrors = Record<string, string[]>;
 

@@ -9,7 +9,7 @@ import { formatMoney, formatRate } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 import { sendMail } from "~/utils/mail.server";
-import { siteAddress } from "~/utils/sites.server";
+import { siteAddress } from "~/models/schedule/sites.server";
 import { PdfWriter } from "~/utils/pdf.server";
 import { payLinkUrl, signPayLink, PAY_LINK_TTL_MS } from "./checkout.server";
 import { BillingError, invoiceDetail, invoiceLabel, practiceBilling } from "./invoices.server";

@@ -10,10 +10,10 @@ import { and, eq, sql } from "drizzle-orm";
 import { buildIcs } from "~/lib/calendar/ics";
 import { appointmentMessages, appointments, appointmentTypes, patients, rooms, sites, users } from "~/db/schema";
 import { formatLocal } from "~/lib/scheduling/time";
-import { db, type Tx } from "./db.server";
-import { defineJob } from "./jobs.server";
-import { env } from "./env.server";
-import { prepareMail, sendMail, type Mail } from "./mail.server";
+import { db, type Tx } from "~/utils/db.server";
+import { defineJob } from "~/utils/jobs.server";
+import { env } from "~/utils/env.server";
+import { prepareMail, sendMail, type Mail } from "~/utils/mail.server";
 import { practiceSchedule } from "./schedule-settings.server";
 
 export type MessageKind = "confirmation" | "reminder" | "cancellation" | "update";
@@ -244,7 +244,7 @@ export const appointmentMail = defineJob<{ messageId: string }>(APPOINTMENT_MAIL
  * instead of at its set time. Refused when it has already been sent (never twice) or the visit is over.
  */
 export async function sendReminderNow(actorId: string, appointmentId: string, request?: Request): Promise<{ ok: true } | { ok: false; error: string }> {
-  const { audit } = await import("./audit.server");
+  const { audit } = await import("~/utils/audit.server");
   const settings = await practiceSchedule();
   return db.transaction(async (tx) => {
     const [appt] = await tx.select().from(appointments).where(eq(appointments.id, appointmentId)).for("update");

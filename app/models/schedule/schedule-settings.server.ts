@@ -1,6 +1,6 @@
 import { eq } from "drizzle-orm";
 import { practiceSettings } from "~/db/schema";
-import { db } from "./db.server";
+import { db } from "~/utils/db.server";
 
 /** The practice settings the schedule, reminders and recalls work with. */
 export async function practiceSchedule() {

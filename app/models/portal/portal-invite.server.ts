@@ -1,11 +1,11 @@
 import { eq, sql } from "drizzle-orm";
 import { data } from "react-router";
 import { patients, practiceSettings, users } from "~/db/schema";
-import { audit } from "./audit.server";
-import { db } from "./db.server";
-import { absoluteUrl, sendMail } from "./mail.server";
-import type { SessionUser } from "./session.server";
-import { issueUserToken } from "./tokens.server";
+import { audit } from "~/utils/audit.server";
+import { db } from "~/utils/db.server";
+import { absoluteUrl, sendMail } from "~/utils/mail.server";
+import type { SessionUser } from "~/utils/session.server";
+import { issueUserToken } from "~/utils/tokens.server";
 
 export class PortalInviteError extends Error {}
 

@@ -1,8 +1,8 @@
 import { and, asc, eq, inArray } from "drizzle-orm";
 import { appointmentTypes, patients, providerBreaks, workingHours } from "~/db/schema";
 import { db } from "~/utils/db.server";
-import { bookableProviders } from "~/utils/schedule.server";
-import { activeRooms, activeSites } from "~/utils/sites.server";
+import { bookableProviders } from "~/models/schedule/schedule.server";
+import { activeRooms, activeSites } from "~/models/schedule/sites.server";
 
 /** Providers, active appointment types, everyone's working hours, the sites and their rooms, for the schedule pages. */
 export async function scheduleReferenceData() {

@@ -4,8 +4,8 @@ import { scheduleReferenceData } from "./schedule-data.server";
 import { APPOINTMENT_STATUSES } from "~/lib/scheduling/status";
 import { formatLocal, localDayRange, localParts } from "~/lib/scheduling/time";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { appointmentsBetween, BookingError, changeStatus, practiceSchedule } from "~/utils/schedule.server";
-import { siteChoice, zoneOfChoice } from "~/utils/sites.server";
+import { appointmentsBetween, BookingError, changeStatus, practiceSchedule } from "~/models/schedule/schedule.server";
+import { siteChoice, zoneOfChoice } from "~/models/schedule/sites.server";
 
 /** The day's appointments for the front desk (everyone) or one optometrist, at one site or all; `date`, `provider` and `site` in the query. */
 export async function loadDayList(request: Request) {

@@ -2,7 +2,7 @@
 import { data } from "react-router";
 import { z } from "zod";
 import { localParts, toZonedIso, wallTimeToInstant } from "~/lib/scheduling/time";
-import { BookingError, type CalendarEvent } from "~/utils/schedule.server";
+import { BookingError, type CalendarEvent } from "~/models/schedule/schedule.server";
 import { STATUS_LABEL, isMovable } from "~/lib/scheduling/status";
 
 const OFFSET = /(Z|[+-]\d{2}:?\d{2})$/i;

@@ -32,7 +32,7 @@ import { ACUITY_CORRECTION_LABEL, COLOUR_RESULTS, COLOUR_TESTS, FIELD_METHODS, I
 import { ACUITY_REDUCED_LOGMAR, BLIND_SPOT_TOLERANCE, formatRx, IOP_ASYMMETRY_MMHG, IOP_UPPER_NORMAL_MMHG, NORMAL_BLIND_SPOT } from "~/lib/optics";
 import { canChase, describeTimeFrame, displayStatus, dueBy, findingKey, localDate, promptValue, sendProblems, timeFramesOf, URGENCY_LABEL, urgencyOverrideProblem, type Urgency } from "~/lib/referrals";
 import { examTriage } from "~/models/exams/triage.server";
-import { loadExam, promptsFor } from "~/routes/exams/exam.server";
+import { loadExam, promptsFor } from "~/models/exams/exam.server";
 import { audit } from "~/utils/audit.server";
 import { db, type Tx } from "~/utils/db.server";
 import { env } from "~/utils/env.server";

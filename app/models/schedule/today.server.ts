@@ -1,6 +1,6 @@
 import { formatLocal, localDayRange, localParts } from "~/lib/scheduling/time";
 import type { SessionUser } from "~/utils/session.server";
-import { appointmentsBetween, practiceSchedule } from "~/utils/schedule.server";
+import { appointmentsBetween, practiceSchedule } from "~/models/schedule/schedule.server";
 
 /** Today's appointments for the staff home: an optometrist's own, the whole practice for others. */
 export async function todaySummary(user: SessionUser) {

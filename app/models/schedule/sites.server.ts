@@ -5,8 +5,8 @@
 import { and, asc, eq } from "drizzle-orm";
 import { createCookie } from "react-router";
 import { rooms, siteOpeningHours, sites } from "~/db/schema";
-import { db } from "./db.server";
-import { env } from "./env.server";
+import { db } from "~/utils/db.server";
+import { env } from "~/utils/env.server";
 
 export type SiteOption = { id: string; name: string; isDefault: boolean; timeZone: string };
 

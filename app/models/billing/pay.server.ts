@@ -1,6 +1,6 @@
 import { data } from "react-router";
-import { verifyPayLink } from "~/routes/billing/checkout.server";
-import { invoiceDetail } from "~/routes/billing/invoices.server";
+import { verifyPayLink } from "~/models/billing/checkout.server";
+import { invoiceDetail } from "~/models/billing/invoices.server";
 
 /** The one invoice a pay-link token reveals; 404 for a forged token, 410 for an expired one. */
 export async function invoiceForToken(token: string) {

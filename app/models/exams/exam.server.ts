@@ -50,7 +50,7 @@ import { examTriage, iopForTriage } from "~/models/exams/triage.server";
 import { audit } from "~/utils/audit.server";
 import type { SessionUser } from "~/utils/session.server";
 import { db, type Tx } from "~/utils/db.server";
-import { isUuid } from "~/routes/patients/patient-schema";
+import { isUuid } from "~/models/patients/patient-schema";
 
 type Form = Record<string, string | undefined>;
 
