@@ -21,7 +21,7 @@ async function newExamFor(page: Page, lastName: string, firstName: string) {
 }
 
 describe("clinical safety: red flags and triage from the exam to the letter", () => {
-  it("flashes with a retinal break propose same day; the letter says so in words", async () => {
+  it("flashes with a retinal break propose same day; the letter says so in words and is sent", async () => {
     const page = await browser.newPage({ viewport: { width: 1280, height: 1000 } });
     await signIn(page, DEMO.optometrist);
     await page.waitForURL("**/");
@@ -96,9 +96,13 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     expect(text).not.toMatch(/IOP_|RETINAL_/);
     await expectAccessible(page);
 
-    // Sending this letter from the browser does not yet show "Referral sent" (sending itself is
-    // covered by referrals.e2e.ts and the referral integration tests); this flow stops at the letter.
     await screenshot(page, "referral-red-flag-letter");
+
+    await page.getByRole("button", { name: "Send letter" }).click();
+    await poll(() => page.getByText("Referral sent").count()).toBeGreaterThan(0);
+    await poll(() => page.getByText("Sent", { exact: true }).count()).toBeGreaterThan(0);
+    await expectAccessible(page);
+    await screenshot(page, "referral-red-flag-sent");
   }, 240_000); // many autosaves, a PDF and an e-mail on a shared two-core machine
 
   it("IOP 25 by applanation proposes a routine referral; only the examiner signs and another clinician countersigns", async () => {

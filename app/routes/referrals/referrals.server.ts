@@ -666,7 +666,7 @@ export async function sendReferral(user: SessionUser, referralId: string, reques
     if (r.status !== "draft") throw new ReferralError({ "": ["This letter has already been sent."] }, 409);
     const [exam] = await tx.select({ status: exams.status }).from(exams).where(eq(exams.id, r.examId));
     const [rec] = r.recipientId ? await tx.select().from(referralRecipients).where(eq(referralRecipients.id, r.recipientId)) : [];
-    const problems = sendProblems({ recipientEmail: rec?.active ? rec.email : null, selectedFindings: r.selectedFindings, additionalFindings: r.additionalFindings, reason: r.reason, examSigned: exam?.status === "signed" });
+    const problems = sendProblems({ recipientEmail: rec?.active ? rec.email : null, selectedFindings: r.selectedFindings, additionalFindings: r.additionalFindings, reason: r.reason, examSigned: exam?.status === "signed", triageReasons: r.snapshot.triage?.reasons.length ?? 0 });
     if (Object.keys(problems).length) throw new ReferralError(problems);
     const [p] = await tx.select().from(practiceSettings).where(eq(practiceSettings.id, 1));
     const now = new Date();
