@@ -96,7 +96,7 @@ export function PatientForm({
           <Field label="GP's name" errors={fields.gpName.errors} inputProps={{ ...getInputProps(fields.gpName, { type: "text" }), autoComplete: "off" }} />
           <Field label="GP practice" errors={fields.gpPractice.errors} inputProps={{ ...getInputProps(fields.gpPractice, { type: "text" }), autoComplete: "off" }} />
           <Field label="GP practice address" errors={fields.gpAddress.errors} inputProps={{ ...getInputProps(fields.gpAddress, { type: "text" }), autoComplete: "off" }} />
-          <Field label="GP practice phone" errors={fields.gpPhone.errors} inputProps={{ ...getInputProps(fields.gpPhone, { type: "tel" }), autoComplete: "off" }} />
+          <Field label="GP practice contact number" errors={fields.gpPhone.errors} inputProps={{ ...getInputProps(fields.gpPhone, { type: "tel" }), autoComplete: "off" }} />
         </div>
       </Card>
       {clinical ? (
