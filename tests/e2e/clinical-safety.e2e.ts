@@ -158,5 +158,23 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     await poll(() => owner.getByTestId("signatures").textContent()).toContain("Signed by the examining clinician: Tobias Wren");
     await expectAccessible(owner);
     await screenshot(owner, "exam-countersigned");
+
+    // The owner sets how the practice writes acuity; new entries read bare numbers in it.
+    await owner.goto("/settings");
+    const notation = owner.getByLabel("Acuity notation");
+    await poll(() => notation.inputValue()).toBe("metric");
+    await expectAccessible(owner);
+    await notation.focus();
+    await notation.selectOption("logmar");
+    await owner.getByRole("button", { name: "Save practice details" }).click();
+    await poll(() => owner.getByText("Practice details saved").count()).toBeGreaterThan(0);
+    await owner.reload();
+    await poll(() => owner.getByLabel("Acuity notation").inputValue()).toBe("logmar");
+    // Back to metric Snellen, which the other browser tests type in.
+    await owner.getByLabel("Acuity notation").selectOption("metric");
+    await owner.getByRole("button", { name: "Save practice details" }).click();
+    await poll(() => owner.getByText("Practice details saved").count()).toBeGreaterThan(0);
+    await owner.reload();
+    await poll(() => owner.getByLabel("Acuity notation").inputValue()).toBe("metric");
   }, 180_000);
 });
