@@ -25,6 +25,28 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     const page = await browser.newPage({ viewport: { width: 1280, height: 1000 } });
     await signIn(page, DEMO.optometrist);
     await page.waitForURL("**/");
+
+    // The patient's GP and "no known allergies", recorded on the patient form, go on the chart and into the letter.
+    await page.goto(`/patients?q=${encodeURIComponent("Dunstan-Oyelaran")}`);
+    await page.getByRole("link", { name: "Dunstan-Oyelaran, Philippa" }).click();
+    await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
+    await page.getByRole("link", { name: "Edit details" }).click();
+    await page.waitForURL(/\/edit$/);
+    await page.getByLabel("GP's name").fill("Dr Peregrine Ashworth-Nwosu");
+    await page.getByLabel("GP practice", { exact: true }).fill("Weir Street Surgery");
+    await page.getByLabel("GP practice address").fill("2 Weir Street, Brackenford BF1 2AA");
+    await page.getByLabel("GP practice contact number").fill("01632 960 321");
+    await page.getByLabel("Allergies", { exact: true }).fill("Latex");
+    await page.getByLabel("No known allergies (asked and recorded)").check();
+    await page.getByRole("button", { name: "Save details" }).click();
+    await poll(() => page.getByText(/clear the list or untick "No known allergies"/).count()).toBeGreaterThan(0);
+    await expectAccessible(page);
+    await page.getByLabel("Allergies", { exact: true }).fill("");
+    await page.getByRole("button", { name: "Save details" }).click();
+    await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
+    await poll(() => page.getByTestId("chart-allergies").textContent()).toBe("None known");
+    await poll(() => page.getByTestId("chart-gp").textContent()).toBe("Dr Peregrine Ashworth-Nwosu, Weir Street Surgery, 2 Weir Street, Brackenford BF1 2AA, Tel 01632 960 321");
+
     const examUrl = await newExamFor(page, "Dunstan-Oyelaran", "Philippa");
     const examId = examUrl.pathname.split("/").pop()!;
     await poll(() => page.getByTestId("triage-urgency").textContent()).toBe("No referral proposed");
@@ -91,6 +113,8 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     expect(text).toMatch(/Same day/i);
     expect(text.replace(/\s+/g, " ")).toMatch(/retinal break with flashes, floaters or a shadow in the vision/i);
     expect(text).toContain("Horseshoe tear at 1 o'clock");
+    expect(text).toContain("GP: Dr Peregrine Ashworth-Nwosu, Weir Street Surgery, 2 Weir Street, Brackenford BF1 2AA, Tel 01632 960 321");
+    expect(text).toContain("Allergies: None known");
     // The letter is for the ophthalmologist: plain clinical words, no rule sources or identifiers.
     expect(text).not.toContain("Guidance for Professional Practice");
     expect(text).not.toMatch(/IOP_|RETINAL_/);
