@@ -176,7 +176,7 @@ function triageCases(): Case[] {
       allergies: t.allergies,
       exams: [
         { at: new Date(at.getTime() - 365 * DAY), ...rx, add, iop: [15, 15] as [number, number], reason: "Routine exam", diagnoses: [], findings: { pupils: { right: { equalReactive: true }, left: { equalReactive: true } }, bestVa: t.previousBestVa ?? { right: 0, left: 0 } } },
-        { at, ...rx, add, iop: [16, 16] as [number, number], reason: t.reason, symptoms: t.symptoms, diagnoses: [], findings: t.findings },
+        { at, ...rx, add, iop: [16, 16] as [number, number], reason: t.reason, symptoms: t.symptoms, diagnoses: [], findings: t.findings, ...(t.blindSpot ? { blindSpot: t.blindSpot, fieldDefect: "Enlarged blind spot, right eye" } : {}) },
       ],
     };
   });
@@ -331,7 +331,7 @@ export async function seedCaseload(tx: Tx) {
     const f = x.findings;
     if (f?.redFlags) {
       const r = f.redFlags;
-      redFlags.push({ examId: e.id, flashes: r.flashes ?? null, newFloaters: r.newFloaters ?? null, curtain: r.curtain ?? null, suddenLoss: r.suddenLoss ?? null, severePain: r.severePain ?? null, redEye: r.redEye ?? null, distortion: r.distortion ?? null, newDiplopia: !!r.newDiplopia, gcaSymptoms: !!r.gcaSymptoms, notes: r.notes ?? "" });
+      redFlags.push({ examId: e.id, flashes: r.flashes ?? null, newFloaters: r.newFloaters ?? null, curtain: r.curtain ?? null, suddenLoss: r.suddenLoss ?? null, severePain: r.severePain ?? null, redEye: r.redEye ?? null, distortion: r.distortion ?? null, newDiplopia: !!r.newDiplopia, gcaSymptoms: !!r.gcaSymptoms, headache: !!r.headache, notes: r.notes ?? "" });
     } else redFlags.push({ examId: e.id });
     if (f?.dilated) dilations.push({ examId: e.id, drug: "tropicamide", strengthPercent: 1, eye: "both", instilledAt: new Date(x.at.getTime() + 10 * 60e3) });
     assessment.push({

@@ -6,7 +6,7 @@
 
 type EyeOrBoth = "right" | "left" | "both";
 export type TriageFindings = {
-  redFlags?: Partial<Record<"flashes" | "newFloaters" | "curtain" | "suddenLoss" | "severePain" | "redEye" | "distortion", EyeOrBoth>> & { newDiplopia?: boolean; gcaSymptoms?: boolean; notes?: string };
+  redFlags?: Partial<Record<"flashes" | "newFloaters" | "curtain" | "suddenLoss" | "severePain" | "redEye" | "distortion", EyeOrBoth>> & { newDiplopia?: boolean; gcaSymptoms?: boolean; headache?: boolean; notes?: string };
   pupils?: Partial<Record<"right" | "left", { equalReactive?: boolean; rapd?: boolean; larger?: boolean }>>;
   ac?: Partial<Record<"right" | "left", { vanHerick?: number; cells?: "none" | "trace" | "1+" | "2+" | "3+" | "4+"; hyphaema?: boolean; hypopyon?: boolean; notes?: string }>>;
   disc?: Partial<Record<"right" | "left", { verticalCd?: number; margins?: "distinct" | "blurred"; swelling?: boolean; haemorrhage?: boolean; notes?: string }>>;
@@ -35,6 +35,8 @@ export type TriageCase = {
   /** Days before the caseload's anchor date. */
   daysAgo: number;
   findings: TriageFindings;
+  /** The right eye's plotted blind spot (degrees), when the case shows a field finding. */
+  blindSpot?: { w: number; h: number };
   /** Best-corrected acuity at an exam a year earlier, for the acuity-loss rule. */
   previousBestVa?: Partial<Record<"right" | "left", number>>;
   medications?: string;
@@ -235,6 +237,18 @@ export const TRIAGE_CASES: TriageCase[] = [
     symptoms: "Headaches on waking for a month, brief greying of vision on standing",
     daysAgo: 3,
     findings: { pupils: normalPupils, disc: { right: { verticalCd: 0.1, margins: "blurred", swelling: true }, left: { verticalCd: 0.1, margins: "blurred", swelling: true } }, diagnoses: [{ code: "H47.1", eye: "both" }] },
+  },
+  {
+    first: "Marisol",
+    last: "Quennell-Adebayo",
+    dob: "1997-10-04",
+    sex: "female",
+    rule: "Enlarged blind spot with headache: possible papilloedema",
+    reason: "Headaches for three weeks, worse in the mornings",
+    symptoms: "Headaches on waking and when bending, whooshing in the ears",
+    daysAgo: 2,
+    blindSpot: { w: 10.5, h: 12.5 },
+    findings: { redFlags: { headache: true, notes: "Headache worse on waking and on bending; no vomiting" }, pupils: normalPupils, disc: { right: { verticalCd: 0.2, margins: "distinct", notes: "Small crowded discs; view limited without dilation" }, left: { verticalCd: 0.2, margins: "distinct" } } },
   },
   {
     first: "Isadora",

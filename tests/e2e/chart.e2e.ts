@@ -150,10 +150,13 @@ describe("the optometrist's day: patients, chart, exam, prescription, upload", (
     await page.goto("/patients?q=Strand-Achebe");
     await page.getByRole("link", { name: "Strand-Achebe, Wilhelmina" }).click();
     await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
-    await expect.poll(() => page.getByText(/Referral prompt: Right IOP 26 mmHg/).count()).toBeGreaterThan(0);
+    // A single non-contact reading of 26 mmHg is advice to repeat by applanation, not a referral prompt (NICE NG81 1.1.2).
+    await expect.poll(() => page.getByText(/Repeat the measurement \(not a referral prompt\): Right IOP 26 mmHg/).count()).toBeGreaterThan(0);
+    expect(await page.getByText(/Referral prompt: Right IOP 26 mmHg/).count()).toBe(0);
     await page.getByRole("link", { name: /signed$/ }).first().click();
     await page.waitForURL(/\/exams\//);
     const examUrl = page.url();
+    await expect.poll(() => page.getByTestId("repeat-advice").first().textContent()).toMatch(/Repeat the measurement: Right IOP 26 mmHg/);
     await expectAccessible(page);
     await screenshot(page, "exam-referral-candidate");
     await page.goto("/patients?q=Maddox-Ferreira");

@@ -21,10 +21,32 @@ async function newExamFor(page: Page, lastName: string, firstName: string) {
 }
 
 describe("clinical safety: red flags and triage from the exam to the letter", () => {
-  it("flashes with a retinal break propose same day; the letter says so in words", async () => {
+  it("flashes with a retinal break propose same day; the letter says so in words and is sent", async () => {
     const page = await browser.newPage({ viewport: { width: 1280, height: 1000 } });
     await signIn(page, DEMO.optometrist);
     await page.waitForURL("**/");
+
+    // The patient's GP and "no known allergies", recorded on the patient form, go on the chart and into the letter.
+    await page.goto(`/patients?q=${encodeURIComponent("Dunstan-Oyelaran")}`);
+    await page.getByRole("link", { name: "Dunstan-Oyelaran, Philippa" }).click();
+    await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
+    await page.getByRole("link", { name: "Edit details" }).click();
+    await page.waitForURL(/\/edit$/);
+    await page.getByLabel("GP's name").fill("Dr Peregrine Ashworth-Nwosu");
+    await page.getByLabel("GP practice", { exact: true }).fill("Weir Street Surgery");
+    await page.getByLabel("GP practice address").fill("2 Weir Street, Brackenford BF1 2AA");
+    await page.getByLabel("GP practice contact number").fill("01632 960 321");
+    await page.getByLabel("Allergies", { exact: true }).fill("Latex");
+    await page.getByLabel("No known allergies (asked and recorded)").check();
+    await page.getByRole("button", { name: "Save details" }).click();
+    await poll(() => page.getByText(/clear the list or untick "No known allergies"/).count()).toBeGreaterThan(0);
+    await expectAccessible(page);
+    await page.getByLabel("Allergies", { exact: true }).fill("");
+    await page.getByRole("button", { name: "Save details" }).click();
+    await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
+    await poll(() => page.getByTestId("chart-allergies").textContent()).toBe("None known");
+    await poll(() => page.getByTestId("chart-gp").textContent()).toBe("Dr Peregrine Ashworth-Nwosu, Weir Street Surgery, 2 Weir Street, Brackenford BF1 2AA, Tel 01632 960 321");
+
     const examUrl = await newExamFor(page, "Dunstan-Oyelaran", "Philippa");
     const examId = examUrl.pathname.split("/").pop()!;
     await poll(() => page.getByTestId("triage-urgency").textContent()).toBe("No referral proposed");
@@ -91,14 +113,20 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     expect(text).toMatch(/Same day/i);
     expect(text.replace(/\s+/g, " ")).toMatch(/retinal break with flashes, floaters or a shadow in the vision/i);
     expect(text).toContain("Horseshoe tear at 1 o'clock");
+    expect(text).toContain("GP: Dr Peregrine Ashworth-Nwosu, Weir Street Surgery, 2 Weir Street, Brackenford BF1 2AA, Tel 01632 960 321");
+    expect(text).toContain("Allergies: None known");
     // The letter is for the ophthalmologist: plain clinical words, no rule sources or identifiers.
     expect(text).not.toContain("Guidance for Professional Practice");
     expect(text).not.toMatch(/IOP_|RETINAL_/);
     await expectAccessible(page);
 
-    // Sending this letter from the browser does not yet show "Referral sent" (sending itself is
-    // covered by referrals.e2e.ts and the referral integration tests); this flow stops at the letter.
     await screenshot(page, "referral-red-flag-letter");
+
+    await page.getByRole("button", { name: "Send letter" }).click();
+    await poll(() => page.getByText("Referral sent").count()).toBeGreaterThan(0);
+    await poll(() => page.getByText("Sent", { exact: true }).count()).toBeGreaterThan(0);
+    await expectAccessible(page);
+    await screenshot(page, "referral-red-flag-sent");
   }, 240_000); // many autosaves, a PDF and an e-mail on a shared two-core machine
 
   it("IOP 25 by applanation proposes a routine referral; only the examiner signs and another clinician countersigns", async () => {
@@ -154,5 +182,23 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     await poll(() => owner.getByTestId("signatures").textContent()).toContain("Signed by the examining clinician: Tobias Wren");
     await expectAccessible(owner);
     await screenshot(owner, "exam-countersigned");
+
+    // The owner sets how the practice writes acuity; new entries read bare numbers in it.
+    await owner.goto("/settings");
+    const notation = owner.getByLabel("Acuity notation");
+    await poll(() => notation.inputValue()).toBe("metric");
+    await expectAccessible(owner);
+    await notation.focus();
+    await notation.selectOption("logmar");
+    await owner.getByRole("button", { name: "Save practice details" }).click();
+    await poll(() => owner.getByText("Practice details saved").count()).toBeGreaterThan(0);
+    await owner.reload();
+    await poll(() => owner.getByLabel("Acuity notation").inputValue()).toBe("logmar");
+    // Back to metric Snellen, which the other browser tests type in.
+    await owner.getByLabel("Acuity notation").selectOption("metric");
+    await owner.getByRole("button", { name: "Save practice details" }).click();
+    await poll(() => owner.getByText("Practice details saved").count()).toBeGreaterThan(0);
+    await owner.reload();
+    await poll(() => owner.getByLabel("Acuity notation").inputValue()).toBe("metric");
   }, 180_000);
 });

@@ -151,6 +151,22 @@ describe("signing and addenda", () => {
 });
 
 describe("clinical findings and triage", () => {
+  it("feeds triage the plotted blind spot and a reported headache: soon without headache, same day with it", async () => {
+    // College of Optometrists GPP C205: papilloedema is an emergency; NHS BNSSG Remedy "Papilloedema": with headache
+    // (symptoms of raised intracranial pressure) the patient needs emergency assessment; NHS Scotland Eyecare Guidelines 11.6:
+    // semi-urgent without such symptoms. An enlarged blind spot is the field sign of disc swelling (common practice).
+    const { params, exam } = await setup();
+    const ok = async (form: Record<string, string>) => expect(statusOf(await post("optometrist", params, { intent: "save", ...form }))).toBe(200);
+    await ok({ section: "fields", right_fmethod: "automated", right_bsX: "15", right_bsY: "-1.5", right_bsW: "10", right_bsH: "12" });
+    let [row] = await db.select().from(exams).where(eq(exams.id, exam.id));
+    expect(row!.triage).toMatchObject({ urgency: "soon", reasons: [{ eye: "R", rule: "Enlarged blind spot without headache: examine the optic discs for swelling" }] });
+    await ok({ section: "redflags", rf_headache: "on", rf_notes: "Headaches on waking for three weeks" });
+    [row] = await db.select().from(exams).where(eq(exams.id, exam.id));
+    expect(row!.triage).toMatchObject({ urgency: "same_day", reasons: [{ urgency: "same_day", eye: "R", rule: "Enlarged blind spot with headache: possible papilloedema (raised intracranial pressure)" }] });
+    const d = dataOf<{ values: Record<string, string> }>(await run(examLoader, makeRequest("/x", { cookie: await cookieFor("optometrist") }), params));
+    expect(d.values.rf_headache).toBe("on");
+  });
+
   it("saves red flags, pupils, anterior chamber, disc, fundus and dilation, and keeps triage's proposal with the exam on every save", async () => {
     const { params, exam } = await setup();
     const ok = async (form: Record<string, string>) => expect(statusOf(await post("optometrist", params, { intent: "save", ...form }))).toBe(200);

@@ -38,6 +38,8 @@ import { action as referralAction, loader as referralLoader } from "~/routes/ref
 import { deliverReferralMessage, referralsForChart, smtpSender, trackingRows, useReferralMailSender } from "~/models/referrals/referrals.server";
 import { action as replyAction, loader as replyLoader } from "~/routes/referrals/reply";
 import { loader as replyLetterLoader } from "~/routes/referrals/reply-letter";
+import { loader as chartLoader } from "~/routes/patients/chart";
+import { action as patientEditAction } from "~/routes/patients/edit";
 import { action as recipientsAction } from "~/routes/settings/recipients";
 import { db } from "~/utils/db.server";
 import { stopJobs } from "~/utils/jobs.server";
@@ -182,9 +184,11 @@ describe("the letter", () => {
   });
 
   it("states the urgency with triage's reasons in words, and the patient's telephone, GP, medications and allergies", () => {
-    // Triage: applanation IOP of 24 mmHg or more is a routine referral (NICE NG81 1.1.4); the draft chose urgent (higher, no reason needed).
+    // Triage: applanation IOP of 24 mmHg or more is a routine referral (NICE NG81 1.1.4); an enlarged blind spot with no
+    // headache recorded is soon, to examine the discs (NHS Scotland Eyecare Guidelines 11.6 Papilloedema: semi-urgent without
+    // symptoms of raised intracranial pressure). The draft chose urgent (higher, no reason needed).
     expect(raw).toContain("Urgency: Urgent (to be seen within 7 days).");
-    expect(raw).toContain("The exam findings call for routine because of: • Right eye: IOP 27.5 mmHg by applanation (one reading), 24 mmHg or more (routine)");
+    expect(raw).toContain("The exam findings call for soon because of: • Right eye: enlarged blind spot without headache: examine the optic discs for swelling (soon) • Right eye: IOP 27.5 mmHg by applanation (one reading), 24 mmHg or more (routine)");
     expect(raw).toContain("Telephone: 07700 900461");
     expect(raw).toContain("GP: Dr Imogen Castellane, Brackenford Health Centre, Tel 01632 960 112");
     expect(raw).toContain("Medications: Amlodipine 5 mg");
@@ -385,6 +389,26 @@ describe("triage in the referral", () => {
     for (const code of ["C205", "NICE", "College of Optometrists", "Source:"]) expect(raw).not.toContain(code);
   });
 
+  it("sends a red-flag letter whose only findings are triage's reasons (no measured prompt to keep)", async () => {
+    // College of Optometrists GPP C205: symptomatic retinal breaks are an emergency; the letter refers on that alone.
+    const { exam } = await redFlagExam();
+    // No measured value of this exam raises a prompt: only the red flags and the fundus finding remain.
+    for (const t of [examIop, examVisualFields, examColourVision, examAcuity]) await db.delete(t).where(eq(t.examId, exam.id));
+    const cookie = await cookieFor("optometrist");
+    const page = dataOf<{ prompts: unknown[]; triage: { urgency: string }; defaults: { reason: string } }>(await run(newLoader, makeRequest(`/referrals/new?exam=${exam.id}`, { cookie })));
+    expect(page.prompts).toEqual([]);
+    expect(page.triage.urgency).toBe("same_day");
+    const rec = await recipient();
+    const created = await run(newAction, post(`/referrals/new?exam=${exam.id}`, cookie, [["intent", "create"], ["recipientId", rec.id], ["urgency", "same_day"], ["reason", page.defaults.reason]]));
+    expect(statusOf(created)).toBe(302);
+    const [row] = await db.select().from(referrals).where(eq(referrals.examId, exam.id));
+    expect(row!.selectedFindings).toEqual([]);
+    const sent = await run(referralAction, post(`/referrals/${row!.id}`, cookie, [["intent", "send"], ["recipientId", rec.id], ["urgency", "same_day"], ["reason", page.defaults.reason]]), { referralId: row!.id });
+    expect(statusOf(sent)).toBe(302);
+    expect((await db.select().from(referrals).where(eq(referrals.id, row!.id)))[0]!.status).not.toBe("draft");
+    expect(await mailTo(rec.email!)).toHaveLength(1);
+  });
+
   it("keeps the override reason only while the urgency is lower, and writes \"None known\" when so recorded", async () => {
     const { patient, exam } = await redFlagExam();
     // Recorded as "no known allergies" with the text left empty.
@@ -401,6 +425,34 @@ describe("triage in the referral", () => {
     expect((await db.select().from(referrals).where(eq(referrals.id, row!.id)))[0]!.urgency).toBe("same_day");
     const pdf = (await run(pdfLoader, makeRequest(`/referrals/${row!.id}/letter.pdf`, { cookie }), { referralId: row!.id })) as Response;
     expect(pdfText(await pdf.arrayBuffer(), "raw")).toContain("Allergies: None known");
+  });
+});
+
+describe("the patient's GP and allergies, from the patient form to the letter", () => {
+  it("keeps the GP and \"no known allergies\" from the edit form, shows them on the chart and prints them in the letter", async () => {
+    const { patient, exam } = await fixtureExam();
+    const cookie = await cookieFor("optometrist");
+    const form = { firstName: patient.firstName, lastName: patient.lastName, dateOfBirth: patient.dateOfBirth, phone: "07700 900461", gpName: "Dr Halcyon Marsh-Ibekwe", gpPractice: "Quarry Row Surgery", gpAddress: "2 Quarry Row, Brackenford BF9 2ZY", gpPhone: "01632 960 245", confirmDuplicate: "yes" };
+    // Allergies listed and "none known" ticked contradict each other: refused, nothing saved.
+    const bad = await run(patientEditAction, makeRequest(`/patients/${patient.id}/edit`, { cookie, form: { ...form, allergies: "Penicillin (rash)", noKnownAllergies: "on", gpPhone: "ask reception" } }), { patientId: patient.id });
+    expect(statusOf(bad)).toBe(400);
+    const errors = dataOf<{ error: Record<string, string[]> }>(bad).error;
+    expect(Object.keys(errors).sort()).toEqual(["gpPhone", "noKnownAllergies"]);
+    expect(errors.noKnownAllergies![0]).toMatch(/clear the list or untick "No known allergies"/);
+    expect((await db.select().from(patients).where(eq(patients.id, patient.id)))[0]).toMatchObject({ gpName: "Dr Imogen Castellane", noKnownAllergies: false });
+
+    const ok = await run(patientEditAction, makeRequest(`/patients/${patient.id}/edit`, { cookie, form: { ...form, allergies: "", noKnownAllergies: "on" } }), { patientId: patient.id });
+    expect(statusOf(ok)).toBe(302);
+    expect((await db.select().from(patients).where(eq(patients.id, patient.id)))[0]).toMatchObject({ gpName: "Dr Halcyon Marsh-Ibekwe", gpPractice: "Quarry Row Surgery", gpPhone: "01632 960 245", allergies: "", noKnownAllergies: true });
+    const chart = dataOf<{ patient: { gp: string; allergies: string; noKnownAllergies: boolean } }>(await run(chartLoader, makeRequest(`/patients/${patient.id}`, { cookie }), { patientId: patient.id }));
+    expect(chart.patient).toMatchObject({ gp: "Dr Halcyon Marsh-Ibekwe, Quarry Row Surgery, 2 Quarry Row, Brackenford BF9 2ZY, Tel 01632 960 245", allergies: "", noKnownAllergies: true });
+
+    const rec = await recipient();
+    const { id } = await draft(exam.id, rec.id);
+    const pdf = (await run(pdfLoader, makeRequest(`/referrals/${id}/letter.pdf`, { cookie }), { referralId: id })) as Response;
+    const raw = pdfText(await pdf.arrayBuffer(), "raw");
+    expect(raw).toContain("GP: Dr Halcyon Marsh-Ibekwe, Quarry Row Surgery, 2 Quarry Row, Brackenford BF9 2ZY, Tel 01632 960 245");
+    expect(raw).toContain("Allergies: None known");
   });
 });
 
@@ -439,6 +491,9 @@ describe("bad input", () => {
     res = await run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "send"], ["urgency", "urgent"], ["reason", "Raised IOP"], ["recipientId", postal.id], ["selectedFindings", "IOP_ABOVE_NORMAL:right"]]), { referralId: id });
     expect(dataOf<{ error: Record<string, string[]> }>(res).error.recipientId?.[0]).toMatch(/e-mail/);
     const rec = await recipient();
+    // A letter with no finding kept, none described and no triage reason to state has nothing to refer on.
+    const [drafted] = await db.select().from(referrals).where(eq(referrals.id, id));
+    await db.update(referrals).set({ snapshot: { ...drafted!.snapshot, triage: null } }).where(eq(referrals.id, id));
     res = await run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "send"], ["urgency", "urgent"], ["reason", "Raised IOP"], ["recipientId", rec.id]]), { referralId: id });
     expect(statusOf(res)).toBe(400);
     expect(dataOf<{ error: Record<string, string[]> }>(res).error.additionalFindings?.[0]).toMatch(/at least one finding/);
@@ -520,7 +575,7 @@ describe("sending and the recipient's link", () => {
     const { exam } = await fixtureExam();
     const rec = await recipient();
     const a = await draft(exam.id, rec.id);
-    await run(referralAction, post(`/referrals/${a.id}`, a.cookie, [["intent", "send"], ["urgency", "routine"], ["reason", "Raised IOP"], ["recipientId", rec.id], ["selectedFindings", "IOP_ABOVE_NORMAL:right"]]), { referralId: a.id });
+    await run(referralAction, post(`/referrals/${a.id}`, a.cookie, [["intent", "send"], ["urgency", "urgent"], ["reason", "Raised IOP"], ["recipientId", rec.id], ["selectedFindings", "IOP_ABOVE_NORMAL:right"]]), { referralId: a.id });
     const [link] = await db.select().from(referralLinks).where(eq(referralLinks.referralId, a.id));
     const token = signLink(link!);
     expect(await verifyLink(token)).toMatchObject({ ok: true, referralId: a.id, linkId: link!.id });

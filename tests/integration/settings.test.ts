@@ -12,6 +12,7 @@ const valid = {
   timeZone: "Europe/London",
   currency: "gbp",
   jurisdiction: "uk",
+  acuityNotation: "metric",
   spectacleRxValidityMonths: "24",
   contactLensRxValidityMonths: "12",
   portalCancelCutoffHours: "24",
@@ -36,6 +37,9 @@ describe("practice settings", () => {
     expect(statusOf(res)).toBe(400);
     const errors = dataOf<{ error: Record<string, string[]> }>(res).error;
     expect(Object.keys(errors).sort()).toEqual(["currency", "email", "jurisdiction", "portalCancelCutoffHours", "spectacleRxValidityMonths", "timeZone"]);
+    const bad = await run(practiceAction, makeRequest("/settings", { cookie, form: { ...valid, acuityNotation: "jaeger" } }));
+    expect(statusOf(bad)).toBe(400);
+    expect(dataOf<{ error: Record<string, string[]> }>(bad).error.acuityNotation?.[0]).toMatch(/metric Snellen, feet, decimal or logMAR/);
     expect(errors.jurisdiction?.[0]).toMatch(/Choose where the practice works/);
     expect(errors.timeZone?.[0]).toMatch(/IANA time zone/);
   });
@@ -92,5 +96,21 @@ describe("practice settings", () => {
     }
     const [after] = await db.select().from(practiceSettings).where(eq(practiceSettings.id, 1));
     expect(after).toMatchObject(Object.fromEntries(fields.map((f) => [f, before![f as keyof typeof before]])));
+  });
+
+  it("keeps the practice's acuity notation, which the exam page then reads bare numbers in", async () => {
+    const cookie = await cookieFor("owner");
+    const shown = dataOf<{ values: Record<string, string> }>(await run(practiceLoader, makeRequest("/settings", { cookie })));
+    expect(shown.values.acuityNotation).toBe("metric");
+    const [before] = await db.select().from(practiceSettings).where(eq(practiceSettings.id, 1));
+    const current = Object.fromEntries(Object.keys(practiceSchemaShape).map((k) => [k, String(before![k as keyof typeof before] ?? "")]));
+    // Other test files read the notation: change it, read it back and restore it at once.
+    try {
+      expect(statusOf(await run(practiceAction, makeRequest("/settings", { cookie, form: { ...current, acuityNotation: "logmar" } })))).toBe(302);
+      const [row] = await db.select({ acuityNotation: practiceSettings.acuityNotation }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+      expect(row?.acuityNotation).toBe("logmar");
+    } finally {
+      await db.update(practiceSettings).set({ acuityNotation: before!.acuityNotation }).where(eq(practiceSettings.id, 1));
+    }
   });
 });

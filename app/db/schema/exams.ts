@@ -241,6 +241,8 @@ export const examRedFlags = pgTable("exam_red_flags", {
   newDiplopia: boolean().notNull().default(false),
   /** Headache with features of giant-cell arteritis (jaw claudication, scalp tenderness, visual symptoms, malaise, age over 50). */
   gcaSymptoms: boolean().notNull().default(false),
+  /** Headache reported at this visit (any kind; features of raised intracranial pressure go in the notes). */
+  headache: boolean().notNull().default(false),
   /** Onset, duration and anything else the patient said. */
   notes: text().notNull().default(""),
   updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),

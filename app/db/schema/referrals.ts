@@ -55,7 +55,7 @@ export type ReferralSnapshot = {
   iop: { eye: "right" | "left"; mmHg: number; method: string; time: string; reading?: number }[];
   /** Added with the structured findings; absent on letters drafted before them. */
   cornealThickness?: { eye: "right" | "left"; micrometres: number }[];
-  redFlags?: { flashes: string | null; newFloaters: string | null; curtain: string | null; suddenLoss: string | null; severePain: string | null; redEye: string | null; distortion: string | null; newDiplopia: boolean; gcaSymptoms: boolean; notes: string } | null;
+  redFlags?: { flashes: string | null; newFloaters: string | null; curtain: string | null; suddenLoss: string | null; severePain: string | null; redEye: string | null; distortion: string | null; newDiplopia: boolean; gcaSymptoms: boolean; headache?: boolean; notes: string } | null;
   pupils?: { eye: "right" | "left"; equalReactive: boolean; rapd: boolean; larger: boolean; sizeMm: number | null; notes: string }[];
   anteriorChamber?: { eye: "right" | "left"; vanHerick: number | null; cells: string | null; hyphaema: boolean; hypopyon: boolean; notes: string }[];
   discs?: { eye: "right" | "left"; verticalCd: number | null; margins: string | null; swelling: boolean; haemorrhage: boolean; pallor: boolean; notes: string }[];

@@ -246,11 +246,11 @@ export const RED_FLAGS = {
 export type RedFlagKey = keyof typeof RED_FLAGS;
 export const RED_FLAG_EYES = { right: "Right eye", left: "Left eye", both: "Both eyes" } as const;
 export const redFlagField = (k: RedFlagKey) => `rf_${k}`;
-export type RedFlags = Record<RedFlagKey, "right" | "left" | "both" | null> & { newDiplopia: boolean; gcaSymptoms: boolean; notes: string };
+export type RedFlags = Record<RedFlagKey, "right" | "left" | "both" | null> & { newDiplopia: boolean; gcaSymptoms: boolean; headache: boolean; notes: string };
 
 export function parseRedFlags(form: Form): Parsed<RedFlags> {
   const errors: FieldErrors = {};
-  const out = { newDiplopia: ticked(form, "rf_newDiplopia"), gcaSymptoms: ticked(form, "rf_gcaSymptoms"), notes: textOf(form, "rf_notes", 4000) } as RedFlags;
+  const out = { newDiplopia: ticked(form, "rf_newDiplopia"), gcaSymptoms: ticked(form, "rf_gcaSymptoms"), headache: ticked(form, "rf_headache"), notes: textOf(form, "rf_notes", 4000) } as RedFlags;
   for (const k of Object.keys(RED_FLAGS) as RedFlagKey[]) out[k] = choice(form, redFlagField(k), ["right", "left", "both"] as const, RED_FLAGS[k], errors);
   return done(errors, out);
 }

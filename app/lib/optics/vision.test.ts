@@ -60,6 +60,8 @@ describe("screenColourVision — Ishihara 38- and 24-plate editions", () => {
   // Instructions of the 38-plate edition (from memory; not found in the reference search): plates 1–21,
   // 17 or more read normally = normal, 13 or fewer = deficient. Plate 1 (demonstration) is read by everyone,
   // so over the 20 counted plates 2–21 that is 16 or more = normal, 12 or fewer = deficient.
+  // That the manufacturer's totals include plate 1 is supported by the Concise edition's instructions as
+  // summarised in "Interpretation of Ishihara Color Plates" (oculistmd.wordpress.com): plates 1–11, 10 or 11 = normal.
   it.each([
     [20, 20, "normal"],
     [16, 20, "normal"], // 17 of 1–21 with the demonstration plate

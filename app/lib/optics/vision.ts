@@ -116,9 +116,14 @@ export type ColourVisionResult = {
  * Built-in criteria, with the demonstration plate (plate 1, read by everyone, including people
  * with a colour-vision deficiency) left out of the count.
  *
- * The manufacturer's instructions were not found in the reference search; the criteria below are
- * the instructions as remembered (from memory) and must be checked against the booklet of the
- * edition in use:
+ * The scoring sections of the 38- and 24-plate instructions were not found in the reference search
+ * (searched again: only the 24-plate booklet's introduction and third-party summaries without the
+ * criterion); the thresholds below are the instructions as remembered (from memory) and must be
+ * checked against the booklet of the edition in use. What was found supports counting the
+ * demonstration plate in the manufacturer's totals: the Concise (14-plate) edition's instructions,
+ * as summarised in "Interpretation of Ishihara Color Plates" (oculistmd.wordpress.com, citing the
+ * Kanehara 2000 booklet), score plates 1–11 with plate 1 included (10 or 11 read correctly =
+ * normal, 7 or fewer = red-green deficiency). So leaving plate 1 out takes one off each threshold:
  * - 38-plate edition: "an assessment of the readings of plates 1 to 21": 17 or more read normally
  *   = normal, 13 or fewer = deficient. Plate 1 is the demonstration plate, so of the 20 plates
  *   2–21 that count, 16 or more = normal and 12 or fewer = red-green deficiency.
@@ -134,7 +139,7 @@ export const PLATE_CRITERIA: Readonly<Record<string, PlateCriterion>> = {
     source:
       "Ishihara S. Tests for Colour-Deficiency, 38 plates edition (Kanehara), instructions: assessment of plates 1–21, " +
       "17 or more read normally = normal, 13 or fewer = deficient; counted here over plates 2–21 without the demonstration " +
-      "plate 1 (from memory: the booklet was not found in the reference search — check it against the booklet in use)",
+      "plate 1, which the manufacturer's totals include (thresholds from memory: the booklet's scoring section was not found in the reference search — check it against the booklet in use)",
   },
   "ishihara-24": {
     platesAssessed: 14,
@@ -143,7 +148,7 @@ export const PLATE_CRITERIA: Readonly<Record<string, PlateCriterion>> = {
     source:
       "Ishihara S. Tests for Colour-Deficiency, 24 plates edition (Kanehara), instructions: assessment of plates 1–15, " +
       "13 or more read normally = normal, 9 or fewer = deficient; counted here over plates 2–15 without the demonstration " +
-      "plate 1 (from memory: check it against the booklet in use)",
+      "plate 1, which the manufacturer's totals include (thresholds from memory: check it against the booklet in use)",
   },
 };
 

@@ -129,11 +129,13 @@ export function canChase(r: ReferralState & { lastChasedAt: Date | null }, now: 
 export const findingKey = (p: { code: string; eye: string }) => `${p.code}:${p.eye}`;
 
 /** What is missing before a letter may be sent, as field errors. */
-export function sendProblems(input: { recipientEmail: string | null | undefined; selectedFindings: string[]; additionalFindings: string; reason: string; examSigned: boolean }): Record<string, string[]> {
+export function sendProblems(input: { recipientEmail: string | null | undefined; selectedFindings: string[]; additionalFindings: string; reason: string; examSigned: boolean; triageReasons?: number }): Record<string, string[]> {
   const errors: Record<string, string[]> = {};
   if (!input.examSigned) errors[""] = ["The exam is not signed. Sign the exam before sending a referral from it."];
   if (!input.recipientEmail) errors.recipientId = ["Choose a recipient with an e-mail address (add one in Settings → Referral recipients)."];
-  if (input.selectedFindings.length === 0 && !input.additionalFindings.trim()) errors.additionalFindings = ["Keep at least one finding from the exam, or describe the findings that lead you to refer."];
+  // Triage's reasons (a retinal break with flashes, say) are findings the letter states in words.
+  if (input.selectedFindings.length === 0 && !input.additionalFindings.trim() && !(input.triageReasons ?? 0))
+    errors.additionalFindings = ["Keep at least one finding from the exam, or describe the findings that lead you to refer."];
   if (!input.reason.trim()) errors.reason = ["Give the reason for the referral."];
   return errors;
 }

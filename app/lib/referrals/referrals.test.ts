@@ -50,6 +50,9 @@ describe("referral status", () => {
     expect(Object.keys(sendProblems({ ...ok, selectedFindings: [] }))).toEqual(["additionalFindings"]);
     expect(sendProblems({ ...ok, selectedFindings: [], additionalFindings: "Disc haemorrhage right eye" })).toEqual({});
     expect(Object.keys(sendProblems({ ...ok, examSigned: false }))).toEqual([""]);
+    // A red-flag exam may raise no measured prompt: triage's reasons are what the letter refers on.
+    expect(sendProblems({ ...ok, selectedFindings: [], triageReasons: 1 })).toEqual({});
+    expect(Object.keys(sendProblems({ ...ok, selectedFindings: [], triageReasons: 0 }))).toEqual(["additionalFindings"]);
   });
 });
 

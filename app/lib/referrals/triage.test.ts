@@ -94,6 +94,27 @@ describe("triage vignettes", () => {
     expect(out.urgency).toBe("same_day");
   });
 
+  it("enlarged blind spots with headaches, discs not yet judged swollen: same day as possible papilloedema", () => {
+    // College GPP C205: papilloedema is an emergency referral. NHS Bristol, North Somerset and South
+    // Gloucestershire Remedy pathway "Papilloedema": with symptoms of raised intracranial pressure (headache)
+    // the patient needs emergency assessment. An enlarged blind spot is the field sign of disc swelling (common practice).
+    const input: TriageInput = { ageYears: 29, headache: true, eyes: { R: { enlargedBlindSpot: true, verticalCupDisc: 0.2 }, L: { enlargedBlindSpot: true, verticalCupDisc: 0.2 } } };
+    expect(triage(input).urgency).toBe("same_day");
+    expect(summary(input)).toEqual(["same_day:both:Enlarged blind spot with headache: possible papilloedema (raised intracranial pressure)"]);
+    expect(triage(input).reasons[0]!.source).toMatch(/C205.*papilloedema/);
+    // Swollen discs with headache: one reason per finding, not the blind spot twice over.
+    expect(summary({ ...input, eyes: { R: { enlargedBlindSpot: true, discSwelling: true }, L: { enlargedBlindSpot: true, discSwelling: true } } })).toEqual(["same_day:both:Swollen optic disc (possible papilloedema) with headache"]);
+  });
+
+  it("an enlarged blind spot without headache: soon, to examine the discs; headache alone proposes nothing", () => {
+    // NHS Scotland Eyecare Guidelines 11.6 Papilloedema: semi-urgent referral without symptoms of raised intracranial pressure.
+    const input: TriageInput = { ageYears: 52, eyes: { R: { enlargedBlindSpot: true } } };
+    expect(triage(input)).toMatchObject({ urgency: "soon", reasons: [{ urgency: "soon", eye: "R", rule: "Enlarged blind spot without headache: examine the optic discs for swelling" }] });
+    expect(triage(input).reasons[0]!.source).toMatch(/NHS Scotland Eyecare Guidelines, 11\.6 Papilloedema/);
+    // A headache with normal fields and discs is not a referral on its own (common practice).
+    expect(triage({ ageYears: 52, headache: true, eyes: { R: { verticalCupDisc: 0.3 } } })).toEqual({ urgency: null, reasons: [] });
+  });
+
   it("anterior uveitis, hyphaema and hypopyon are each same day", () => {
     // College GPP C205: uveitis, hyphaema, hypopyon (emergency, within 24 hours).
     for (const f of [{ anteriorChamberCells: true, redEye: true }, { hyphaema: true }, { hypopyon: true }]) {
@@ -149,6 +170,8 @@ describe("triage vignettes", () => {
     expect(() => triage({ ageYears: 50, eyes: { L: { vaLogMAR: 3.5 } } })).toThrow(/acuity 3.5/);
     expect(() => triage({ ageYears: -1, eyes: {} })).toThrow(/Age/);
     expect(() => triage({ ageYears: 50, eyes: { X: {} } as never })).toThrow(/Unknown eye/);
+    expect(() => triage({ ageYears: 50, headache: "yes" as never, eyes: {} })).toThrow(/headache must be true or false/);
+    expect(() => triage({ ageYears: 50, eyes: { R: { enlargedBlindSpot: 1 as never } } })).toThrow(/Right enlargedBlindSpot/);
   });
 
   it("compares a chosen urgency with the proposal", () => {

@@ -40,6 +40,8 @@ export interface EyeFindings {
   hyphaema?: boolean;
   hypopyon?: boolean;
   suspectedWetAmd?: boolean;
+  /** Optional, beyond the base contract: the plotted blind spot is enlarged (see `checkBlindSpot` in the optics engine). */
+  enlargedBlindSpot?: boolean;
 }
 
 export interface TriageInput {
@@ -47,6 +49,8 @@ export interface TriageInput {
   eyes: Partial<Record<Eye, EyeFindings>>;
   newDiplopia?: boolean;
   gcaSymptoms?: boolean;
+  /** Optional, beyond the base contract: the patient reports headache at this visit. */
+  headache?: boolean;
 }
 
 export interface TriageReason {
@@ -90,6 +94,16 @@ const NICE_NG81_111 =
   "NICE guideline NG81, recommendation 1.1.1: optic nerve assessment is among the tests before referral for chronic open angle glaucoma and related conditions";
 const NICE_NG82 = "NICE guideline NG82 (Age-related macular degeneration): refer people with suspected late AMD (wet active) urgently to a macular service";
 const COMMON = "Common practice";
+/*
+ * Papilloedema. The College's Clinical Management Guideline on papilloedema was not found in the
+ * reference search; the rules below rest on the College's C205 emergency list (papilloedema) and on
+ * two published NHS pathways that were found, both treating disc swelling with symptoms of raised
+ * intracranial pressure (headache) as the most urgent case.
+ */
+const NHS_SCOTLAND_PAPILLOEDEMA =
+  "NHS Scotland Eyecare Guidelines, 11.6 Papilloedema: urgent referral, with images, if symptoms of raised intracranial pressure (headache worse in the morning or on coughing, straining or changing posture; nausea or vomiting); semi-urgent otherwise";
+const BNSSG_PAPILLOEDEMA =
+  "NHS Bristol, North Somerset and South Gloucestershire Remedy pathway, Papilloedema: papilloedema with symptoms or signs of raised intracranial pressure needs emergency admission; all suspected disc swelling is referred";
 
 // --------------------------------------------------------------- thresholds
 
@@ -111,7 +125,7 @@ export const VA_LOSS_LOGMAR = 0.2;
 const FLAGS = [
   "suddenVisionLoss", "flashes", "newFloaters", "curtain", "severePain", "redEye", "distortion", "discSwelling",
   "discHaemorrhage", "rapd", "retinalBreak", "retinalDetachment", "vitreousPigment", "anteriorChamberCells", "hyphaema",
-  "hypopyon", "suspectedWetAmd",
+  "hypopyon", "suspectedWetAmd", "enlargedBlindSpot",
 ] as const;
 const METHODS = ["applanation", "non-contact", "rebound", "other"] as const;
 
@@ -124,6 +138,7 @@ function validate(input: TriageInput) {
   check(Number.isFinite(input.ageYears) && input.ageYears >= 0 && input.ageYears <= 130, `Age ${String(input.ageYears)} is not between 0 and 130 years`);
   check(input.eyes !== null && typeof input.eyes === "object", "Triage needs the findings per eye (eyes)");
   for (const key of Object.keys(input.eyes)) check(key === "R" || key === "L", `Unknown eye "${key}" (use R or L)`);
+  for (const k of ["newDiplopia", "gcaSymptoms", "headache"] as const) if (input[k] !== undefined) check(typeof input[k] === "boolean", `${k} must be true or false`);
   for (const eye of ["R", "L"] as const) {
     const f = input.eyes[eye];
     if (f === undefined) continue;
@@ -204,7 +219,15 @@ function eyeRules(eye: Eye, f: EyeFindings, input: TriageInput): TriageReason[] 
   }
 
   // Optic nerve.
-  if (f.discSwelling) add("same_day", "Swollen optic disc (possible papilloedema)", `${COLLEGE_C205}: papilloedema`);
+  if (f.discSwelling) add("same_day", `Swollen optic disc (possible papilloedema)${input.headache ? " with headache" : ""}`, `${COLLEGE_C205}: papilloedema${input.headache ? `; ${BNSSG_PAPILLOEDEMA}` : ""}`);
+  // An enlarged blind spot is how a swollen disc shows on the field plot (common practice).
+  if (f.enlargedBlindSpot && !f.discSwelling) {
+    if (input.headache) {
+      add("same_day", "Enlarged blind spot with headache: possible papilloedema (raised intracranial pressure)", `${COLLEGE_C205}: papilloedema; ${BNSSG_PAPILLOEDEMA}; ${COMMON}: an enlarged blind spot is a field sign of disc swelling`);
+    } else {
+      add("soon", "Enlarged blind spot without headache: examine the optic discs for swelling", `${COMMON}: an enlarged blind spot is a field sign of disc swelling; ${NHS_SCOTLAND_PAPILLOEDEMA}`);
+    }
+  }
   if (f.rapd) add("urgent", "Relative afferent pupillary defect", `${COLLEGE_ANNEX4}: optic neuritis under urgent; ${COMMON}: a relative afferent pupillary defect signals optic nerve or extensive retinal disease`);
   if (f.discHaemorrhage) add("soon", "Haemorrhage at the optic disc margin", `${COMMON}: a disc haemorrhage is a sign of glaucoma or its progression; ${NICE_NG81_111}`);
   if (f.verticalCupDisc !== undefined && f.verticalCupDisc >= CUP_DISC_REFER - 1e-9) add("routine", `Vertical cup/disc ratio ${f.verticalCupDisc.toFixed(2)}, ${CUP_DISC_REFER.toFixed(1)} or more`, `${COMMON} (threshold); ${NICE_NG81_111}`);

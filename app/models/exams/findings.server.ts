@@ -102,6 +102,7 @@ export function findingsFormValues(f: Findings, timeZone: string): Record<string
     for (const k of Object.keys(RED_FLAGS) as RedFlagKey[]) put(redFlagField(k), f.redFlags[k]);
     put("rf_newDiplopia", f.redFlags.newDiplopia);
     put("rf_gcaSymptoms", f.redFlags.gcaSymptoms);
+    put("rf_headache", f.redFlags.headache);
     put("rf_notes", f.redFlags.notes);
     v.rf_asked = "yes";
   }

@@ -4,7 +4,8 @@
  * optometrist, never a decision.
  */
 import { and, desc, eq, lt } from "drizzle-orm";
-import { examAcuity, examAnteriorChamber, examDiscs, examFundus, examIop, examPupils, examRedFlags, examRefractions, exams, patients, practiceSettings } from "~/db/schema";
+import { examAcuity, examAnteriorChamber, examDiscs, examFundus, examIop, examPupils, examRedFlags, examRefractions, exams, examVisualFields, patients, practiceSettings } from "~/db/schema";
+import { checkBlindSpot } from "~/lib/optics";
 import { triage, type Eye, type EyeFindings, type TriageInput, type TriageResult } from "~/lib/referrals";
 import { localParts } from "~/lib/scheduling/time";
 import { ageOn } from "~/models/patients/patient-schema";
@@ -52,13 +53,14 @@ export async function examTriageInput(examId: string, conn: Conn = db): Promise<
   if (!exam) throw new Error(`Exam ${examId} not found`);
   const [settings] = await conn.select({ timeZone: practiceSettings.timeZone }).from(practiceSettings).where(eq(practiceSettings.id, 1));
   const examDay = localParts(exam.examinedAt, settings?.timeZone ?? "Europe/London").date;
-  const [iop, flags, pupils, ac, discs, fundus, va, previous] = await Promise.all([
+  const [iop, flags, pupils, ac, discs, fundus, fields, va, previous] = await Promise.all([
     conn.select().from(examIop).where(eq(examIop.examId, examId)),
     conn.select().from(examRedFlags).where(eq(examRedFlags.examId, examId)),
     conn.select().from(examPupils).where(eq(examPupils.examId, examId)),
     conn.select().from(examAnteriorChamber).where(eq(examAnteriorChamber.examId, examId)),
     conn.select().from(examDiscs).where(eq(examDiscs.examId, examId)),
     conn.select().from(examFundus).where(eq(examFundus.examId, examId)),
+    conn.select().from(examVisualFields).where(eq(examVisualFields.examId, examId)),
     bestVa(conn, examId),
     conn
       .select({ id: exams.id })
@@ -106,11 +108,17 @@ export async function examTriageInput(examId: string, conn: Conn = db): Promise<
       if (fu.vitreousPigment) f.vitreousPigment = true;
       if (fu.suspectedWetAmd) f.suspectedWetAmd = true;
     }
+    // The plotted blind spot, judged by the same rule as the exam's prompts.
+    const vf = fields.find((r) => r.eye === eye);
+    if (vf && vf.blindSpotXDeg !== null && vf.blindSpotYDeg !== null && vf.blindSpotWidthDeg !== null && vf.blindSpotHeightDeg !== null) {
+      if (checkBlindSpot({ centreXDeg: vf.blindSpotXDeg, centreYDeg: vf.blindSpotYDeg, widthDeg: vf.blindSpotWidthDeg, heightDeg: vf.blindSpotHeightDeg }).status === "enlarged") f.enlargedBlindSpot = true;
+    }
     if (Object.keys(f).length) eyes[SHORT[eye]] = f;
   }
   const input: TriageInput = { ageYears: ageOn(exam.dateOfBirth, examDay), eyes };
   if (rf?.newDiplopia) input.newDiplopia = true;
   if (rf?.gcaSymptoms) input.gcaSymptoms = true;
+  if (rf?.headache || rf?.gcaSymptoms) input.headache = true;
   return input;
 }
 

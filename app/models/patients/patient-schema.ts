@@ -27,11 +27,25 @@ export const patientSchema = z.object({
   city: z.string().trim().max(100).default(""),
   postcode: z.string().trim().max(20).default(""),
   remindersByEmail: z.preprocess((v) => v === "on" || v === "true" || v === true, z.boolean()).default(false),
+  /** The patient's general practitioner, for referral letters. */
+  gpName: z.string().trim().max(120, "At most 120 characters.").default(""),
+  gpPractice: z.string().trim().max(160, "At most 160 characters.").default(""),
+  gpAddress: z.string().trim().max(300, "At most 300 characters.").default(""),
+  gpPhone: z
+    .string()
+    .trim()
+    .max(40, "At most 40 characters.")
+    .regex(/^[0-9+()\s.-]*$/, "Use digits, spaces and + ( ) - only.")
+    .default(""),
   /** Clinical: only clinical roles may change these (the server ignores them from other roles). */
-  allergies: z.string().trim().max(2000).default(""),
-  medications: z.string().trim().max(2000).default(""),
+  allergies: z.string().trim().max(2000, "At most 2,000 characters.").default(""),
+  /** "No known allergies" was asked and recorded; an empty allergies field alone means not asked. */
+  noKnownAllergies: z.preprocess((v) => v === "on" || v === "true" || v === true, z.boolean()).default(false),
+  medications: z.string().trim().max(2000, "At most 2,000 characters.").default(""),
   /** Set when the user has seen the duplicate warning and registers anyway. */
   confirmDuplicate: z.string().optional(),
+}).superRefine((v, ctx) => {
+  if (v.noKnownAllergies && v.allergies) ctx.addIssue({ code: "custom", path: ["noKnownAllergies"], message: "Allergies are listed: clear the list or untick \"No known allergies\"." });
 });
 export type PatientInput = z.infer<typeof patientSchema>;
 

@@ -101,7 +101,7 @@ async function findingsOf(examId: string) {
   ]);
   const f = flags[0];
   return {
-    redFlags: f ? { flashes: f.flashes, newFloaters: f.newFloaters, curtain: f.curtain, suddenLoss: f.suddenLoss, severePain: f.severePain, redEye: f.redEye, distortion: f.distortion, newDiplopia: f.newDiplopia, gcaSymptoms: f.gcaSymptoms, notes: f.notes } : null,
+    redFlags: f ? { flashes: f.flashes, newFloaters: f.newFloaters, curtain: f.curtain, suddenLoss: f.suddenLoss, severePain: f.severePain, redEye: f.redEye, distortion: f.distortion, newDiplopia: f.newDiplopia, gcaSymptoms: f.gcaSymptoms, headache: f.headache, notes: f.notes } : null,
     pupils: byEye(pupils).map((r) => ({ eye: r.eye, equalReactive: r.equalReactive, rapd: r.rapd, larger: r.larger, sizeMm: r.sizeMm, notes: r.notes })),
     anteriorChamber: byEye(ac).map((r) => ({ eye: r.eye, vanHerick: r.vanHerick, cells: r.cells ? (CELLS_WORDS[r.cells] ?? r.cells) : null, hyphaema: r.hyphaema, hypopyon: r.hypopyon, notes: r.notes })),
     discs: byEye(discs).map((r) => ({ eye: r.eye, verticalCd: r.verticalCd, margins: r.margins, swelling: r.swelling, haemorrhage: r.haemorrhage, pallor: r.pallor, notes: r.notes })),
@@ -561,6 +561,7 @@ export async function letterInput(r: LoadedReferral, opts: { withAttachmentBytes
     for (const [v, word] of list) if (v) symptoms.push(`${word}${eyeOf(v)}`);
     if (rf.newDiplopia) symptoms.push("new double vision");
     if (rf.gcaSymptoms) symptoms.push("headache with features of giant cell arteritis");
+    else if (rf.headache) symptoms.push("headache");
   }
   if (s.diagnoses.length) measurements.push({ title: "Diagnoses (ICD-10)", columns: ["Code", "Diagnosis", "Eye"], widths: [0.8, 3, 0.8], rows: s.diagnoses.map((d) => [d.code, d.label, EYE_WORD[d.eye as "both"] ?? d.eye]) });
 
@@ -666,7 +667,7 @@ export async function sendReferral(user: SessionUser, referralId: string, reques
     if (r.status !== "draft") throw new ReferralError({ "": ["This letter has already been sent."] }, 409);
     const [exam] = await tx.select({ status: exams.status }).from(exams).where(eq(exams.id, r.examId));
     const [rec] = r.recipientId ? await tx.select().from(referralRecipients).where(eq(referralRecipients.id, r.recipientId)) : [];
-    const problems = sendProblems({ recipientEmail: rec?.active ? rec.email : null, selectedFindings: r.selectedFindings, additionalFindings: r.additionalFindings, reason: r.reason, examSigned: exam?.status === "signed" });
+    const problems = sendProblems({ recipientEmail: rec?.active ? rec.email : null, selectedFindings: r.selectedFindings, additionalFindings: r.additionalFindings, reason: r.reason, examSigned: exam?.status === "signed", triageReasons: r.snapshot.triage?.reasons.length ?? 0 });
     if (Object.keys(problems).length) throw new ReferralError(problems);
     const [p] = await tx.select().from(practiceSettings).where(eq(practiceSettings.id, 1));
     const now = new Date();

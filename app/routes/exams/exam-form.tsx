@@ -151,17 +151,36 @@ export function SectionForm({
 }
 
 export function PromptList({ prompts }: { prompts: ReferralPrompt[] }) {
+  const refer = prompts.filter((p) => p.action !== "repeat measurement");
+  const repeat = prompts.filter((p) => p.action === "repeat measurement");
   return (
-    <div className="mt-4 space-y-2" data-testid="referral-prompts">
-      {prompts.map((p) => (
-        <Notice key={`${p.code}-${p.eye}`} tone="warning" title={`Referral prompt: ${p.message}`}>
-          <p>
-            Rule: {p.rule} <span className="text-muted">Source: {p.source}.</span>
-          </p>
-          <p className="mt-1">Check the finding before referring; local law and licensed practice govern referrals.</p>
-        </Notice>
-      ))}
-    </div>
+    <>
+      {refer.length ? (
+        <div className="mt-4 space-y-2" data-testid="referral-prompts">
+          {refer.map((p) => (
+            <Notice key={`${p.code}-${p.eye}`} tone="warning" title={`Referral prompt: ${p.message}`}>
+              <p>
+                Rule: {p.rule} <span className="text-muted">Source: {p.source}.</span>
+              </p>
+              <p className="mt-1">Check the finding before referring; local law and licensed practice govern referrals.</p>
+            </Notice>
+          ))}
+        </div>
+      ) : null}
+      {/* Advice to measure again is not a reason to refer: shown apart, in its own words. */}
+      {repeat.length ? (
+        <div className="mt-4 space-y-2" data-testid="repeat-advice">
+          {repeat.map((p) => (
+            <Notice key={`${p.code}-${p.eye}`} tone="info" title={`Repeat the measurement: ${p.message}`}>
+              <p>
+                Rule: {p.rule} <span className="text-muted">Source: {p.source}.</span>
+              </p>
+              <p className="mt-1">Advice to measure again before deciding, not a referral prompt: this reading alone is not a reason to refer.</p>
+            </Notice>
+          ))}
+        </div>
+      ) : null}
+    </>
   );
 }
 

@@ -274,6 +274,9 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
   const readOnly = exam.status === "signed";
   const tracker = useDirtyTracker();
   const promptsOf = (codes: string[]) => prompts.filter((p) => codes.some((c) => p.code.startsWith(c)));
+  // Advice to repeat a measurement is not a referral prompt and is not counted as one.
+  const referralPrompts = prompts.filter((p) => p.action !== "repeat measurement");
+  const repeatAdvice = prompts.filter((p) => p.action === "repeat measurement");
   const [showEmpty, setShowEmpty] = useState(false);
   const recorded = (section: string) => sectionHasValues(section, values, loaderData.diagnoses);
   // A signed exam is read, not filled in: sections with nothing recorded are folded away.
@@ -363,8 +366,13 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
             <UploadForm patientId={patient.id} examId={exam.id} />
           </div>
         </Card>
-        {prompts.length ? (
-          <Notice tone="warning" title={`${prompts.length} referral ${prompts.length === 1 ? "prompt" : "prompts"} on this exam`}>
+        {repeatAdvice.length ? (
+          <Notice tone="info" title={`${repeatAdvice.length} ${repeatAdvice.length === 1 ? "measurement" : "measurements"} to repeat before deciding`}>
+            <span data-testid="repeat-advice-summary">{repeatAdvice.map((p) => p.message).join("; ")}.</span> Advice to measure again, not referral prompts.
+          </Notice>
+        ) : null}
+        {referralPrompts.length ? (
+          <Notice tone="warning" title={`${referralPrompts.length} referral ${referralPrompts.length === 1 ? "prompt" : "prompts"} on this exam`}>
             {readOnly ? (
               <Link to={`/referrals/new?exam=${exam.id}`} className="font-semibold underline">
                 Draft a referral letter pre-filled with these measurements

@@ -60,6 +60,12 @@ export function RedFlagsSection({ values, readOnly }: V) {
           label="New headache with features of giant-cell arteritis (scalp tenderness, jaw pain on chewing, visual disturbance, feeling unwell; usually over 50)"
           defaultChecked={on(values, "rf_gcaSymptoms")}
         />
+        <ExamCheckbox
+          id="rf-headache"
+          name="rf_headache"
+          label="Headache (note in the details whether it is worse on waking, on coughing or bending, or comes with nausea or vomiting)"
+          defaultChecked={on(values, "rf_headache")}
+        />
       </div>
       <div className="mt-3">
         <ExamTextarea id="rf-notes" name="rf_notes" label="Onset, duration and details" defaultValue={values.rf_notes} />

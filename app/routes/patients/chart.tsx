@@ -19,7 +19,7 @@ import { ageOn, formatDate, isUuid } from "~/models/patients/patient-schema";
 import { prescriptionsOf } from "~/models/prescriptions/prescriptions.server";
 import { PortalInviteButton } from "~/components/portal-invite-button";
 import { ChartReferrals } from "~/components/referrals/chart-referrals";
-import { referralsForChart } from "~/models/referrals/referrals.server";
+import { gpLine, referralsForChart } from "~/models/referrals/referrals.server";
 import { RefractionHistory } from "./refraction-plot";
 import { DocumentList, UploadForm } from "~/components/patients/uploads-ui";
 
@@ -51,6 +51,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     email: p.email,
     phone: p.phone,
     address: [p.addressLine1, p.city, p.postcode].filter(Boolean).join(", "),
+    gp: gpLine(p),
   };
   const today = new Date().toISOString().slice(0, 10);
   const rx = prescriptions.map((r) => ({ ...r, current: r.expiresOn >= today }));
@@ -62,7 +63,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   await audited;
   return {
     clinical: true as const,
-    patient: { ...demographics, allergies: p.allergies, medications: p.medications },
+    patient: { ...demographics, allergies: p.allergies, noKnownAllergies: p.noKnownAllergies, medications: p.medications },
     appointments,
     invoices,
     prescriptions: rx,
@@ -152,6 +153,8 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
           <dl className="space-y-1 text-sm">
             <dt className="text-muted">Address</dt>
             <dd>{p.address || "—"}</dd>
+            <dt className="text-muted">GP</dt>
+            <dd data-testid="chart-gp">{p.gp || "Not recorded"}</dd>
             <dt className="text-muted">Sex</dt>
             <dd>{p.sex === "unknown" ? "Not recorded" : p.sex}</dd>
           </dl>
@@ -195,7 +198,7 @@ function ClinicalSummary({ d }: { d: Extract<LD, { clinical: true }> }) {
         </div>
         <div>
           <dt className="text-muted">Allergies</dt>
-          <dd className="font-semibold">{d.patient.allergies || "None recorded"}</dd>
+          <dd className="font-semibold" data-testid="chart-allergies">{d.patient.allergies || (d.patient.noKnownAllergies ? "None known" : "Not recorded")}</dd>
         </div>
         <div>
           <dt className="text-muted">Medications</dt>
@@ -218,7 +221,11 @@ function ClinicalSummary({ d }: { d: Extract<LD, { clinical: true }> }) {
               ))}
             {d.prompts.map((pr) => (
               <div key={`${pr.code}-${pr.eye}`}>
-                <StatusBadge tone="warning">Referral prompt: {pr.message}</StatusBadge>
+                {pr.action === "repeat measurement" ? (
+                  <StatusBadge tone="info">Repeat the measurement (not a referral prompt): {pr.message}</StatusBadge>
+                ) : (
+                  <StatusBadge tone="warning">Referral prompt: {pr.message}</StatusBadge>
+                )}
               </div>
             ))}
             {!d.recall.due && !d.prompts.length && !d.referrals.some((r) => ["draft", "queued", "sent", "overdue"].includes(r.status)) ? <StatusBadge tone="success">No alerts</StatusBadge> : null}

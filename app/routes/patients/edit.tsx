@@ -41,7 +41,11 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       city: p.city,
       postcode: p.postcode,
       remindersByEmail: p.remindersByEmail ? "on" : "",
-      ...(clinical ? { allergies: p.allergies, medications: p.medications } : {}),
+      gpName: p.gpName,
+      gpPractice: p.gpPractice,
+      gpAddress: p.gpAddress,
+      gpPhone: p.gpPhone,
+      ...(clinical ? { allergies: p.allergies, medications: p.medications, noKnownAllergies: p.noKnownAllergies ? "on" : "" } : {}),
     },
   };
 }
@@ -51,7 +55,7 @@ export async function action({ request, params }: Route.ActionArgs) {
   const existing = await loadPatient(params.patientId);
   const submission = parseWithZod(await request.formData(), { schema: patientSchema });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
-  const { confirmDuplicate, allergies, medications, ...demographics } = submission.value;
+  const { confirmDuplicate, allergies, medications, noKnownAllergies, ...demographics } = submission.value;
   const clinical = (CLINICAL_ROLES as readonly string[]).includes(user.role);
   if (confirmDuplicate !== "yes") {
     const duplicates = await findDuplicates(demographics, existing.id);
@@ -62,7 +66,7 @@ export async function action({ request, params }: Route.ActionArgs) {
   await db.transaction(async (tx) => {
     await tx
       .update(patients)
-      .set({ ...demographics, email: demographics.email || null, phone: demographics.phone || null, ...(clinical ? { allergies, medications } : {}), updatedAt: new Date() })
+      .set({ ...demographics, email: demographics.email || null, phone: demographics.phone || null, ...(clinical ? { allergies, medications, noKnownAllergies } : {}), updatedAt: new Date() })
       .where(eq(patients.id, existing.id));
     await audit({ action: "patient.updated", actorUserId: user.id, entityType: "patient", entityId: existing.id, patientId: existing.id, detail: { clinicalFields: clinical }, request }, tx);
   });

@@ -20,7 +20,7 @@ export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   const submission = parseWithZod(await request.formData(), { schema: patientSchema });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
-  const { confirmDuplicate, allergies, medications, ...demographics } = submission.value;
+  const { confirmDuplicate, allergies, medications, noKnownAllergies, ...demographics } = submission.value;
   const clinical = (CLINICAL_ROLES as readonly string[]).includes(user.role);
   if (confirmDuplicate !== "yes") {
     const duplicates = await findDuplicates(demographics);
@@ -34,7 +34,7 @@ export async function action({ request }: Route.ActionArgs) {
   const id = await db.transaction(async (tx) => {
     const [row] = await tx
       .insert(patients)
-      .values({ ...demographics, email: demographics.email || null, phone: demographics.phone || null, ...(clinical ? { allergies, medications } : {}) })
+      .values({ ...demographics, email: demographics.email || null, phone: demographics.phone || null, ...(clinical ? { allergies, medications, noKnownAllergies } : {}) })
       .returning({ id: patients.id });
     await audit(
       { action: "patient.created", actorUserId: user.id, entityType: "patient", entityId: row!.id, patientId: row!.id, detail: { duplicateConfirmed: confirmDuplicate === "yes" }, request },

@@ -91,6 +91,14 @@ export function PatientForm({
           </label>
         </div>
       </Card>
+      <Card title="General practitioner (GP)">
+        <div className="grid gap-4 sm:grid-cols-2">
+          <Field label="GP's name" errors={fields.gpName.errors} inputProps={{ ...getInputProps(fields.gpName, { type: "text" }), autoComplete: "off" }} />
+          <Field label="GP practice" errors={fields.gpPractice.errors} inputProps={{ ...getInputProps(fields.gpPractice, { type: "text" }), autoComplete: "off" }} />
+          <Field label="GP practice address" errors={fields.gpAddress.errors} inputProps={{ ...getInputProps(fields.gpAddress, { type: "text" }), autoComplete: "off" }} />
+          <Field label="GP practice contact number" errors={fields.gpPhone.errors} inputProps={{ ...getInputProps(fields.gpPhone, { type: "tel" }), autoComplete: "off" }} />
+        </div>
+      </Card>
       {clinical ? (
         <Card title="Allergies and medications">
           <div className="grid gap-4 sm:grid-cols-2">
@@ -100,6 +108,16 @@ export function PatientForm({
               </label>
               <Textarea {...getTextareaProps(fields.allergies)} rows={3} />
               <ErrorList errors={fields.allergies.errors} />
+              <label className="mt-2 flex items-center gap-2 text-sm font-semibold">
+                <input
+                  {...getInputProps(fields.noKnownAllergies, { type: "checkbox" })}
+                  className="size-4"
+                  aria-invalid={fields.noKnownAllergies.errors?.length ? true : undefined}
+                  aria-describedby={fields.noKnownAllergies.errors?.length ? `${fields.noKnownAllergies.id}-error` : undefined}
+                />
+                No known allergies (asked and recorded)
+              </label>
+              <ErrorList id={`${fields.noKnownAllergies.id}-error`} errors={fields.noKnownAllergies.errors} />
             </div>
             <div>
               <label htmlFor={fields.medications.id} className="mb-1 block text-sm font-semibold">

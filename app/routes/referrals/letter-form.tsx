@@ -70,6 +70,9 @@ export function LetterForm({
   const attached = new Set((defaults.attachmentIds as string[] | undefined) ?? []);
   const chosen = recipients.find((r) => r.id === defaults.recipientId);
   const proposed = triage.urgency;
+  const fieldProblems = Object.entries(form.allErrors)
+    .filter(([name]) => name !== "" && name !== form.id)
+    .flatMap(([, messages]) => messages);
   return (
     <Form method="post" {...getFormProps(form)} className="space-y-6">
       {form.errors?.length ? (
@@ -230,6 +233,17 @@ export function LetterForm({
         )}
       </Card>
 
+      {/* An error on a field far up the page is repeated beside the buttons, so a click never seems to do nothing. */}
+      {fieldProblems.length ? (
+        <Notice tone="error" title={mode === "create" ? "Not saved" : "Not sent"}>
+          <p>Correct the fields marked above:</p>
+          <ul className="mt-1 list-disc pl-5" data-testid="letter-problems">
+            {fieldProblems.map((m) => (
+              <li key={m}>{m}</li>
+            ))}
+          </ul>
+        </Notice>
+      ) : null}
       <div className="flex flex-wrap gap-3">
         {mode === "create" ? (
           <Button type="submit" name="intent" value="create" pending={busy === "create"}>

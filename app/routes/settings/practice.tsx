@@ -10,6 +10,7 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice } from "~/components/ui/notice";
 import { practiceSettings } from "~/db/schema";
+import { ACUITY_NOTATION_LABEL, ACUITY_NOTATIONS } from "~/lib/optics/acuity";
 import { JURISDICTIONS } from "~/lib/optics/jurisdiction";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
@@ -41,6 +42,7 @@ export const practiceSchema = z.object({
     .toUpperCase()
     .regex(/^[A-Z]{3}$/, "Use a three-letter ISO 4217 code such as GBP, EUR or USD."),
   jurisdiction: z.enum(["uk", "us"], { error: "Choose where the practice works." }),
+  acuityNotation: z.enum(ACUITY_NOTATIONS, { error: "Choose how the practice writes acuity: metric Snellen, feet, decimal or logMAR." }),
   spectacleRxValidityMonths: decimalField("Give a number of months.", z.number().int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months.")),
   contactLensRxValidityMonths: decimalField("Give a number of months.", z.number().int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months.")),
   portalCancelCutoffHours: decimalField("Give a number of hours.", z.number().int("Whole hours only.").min(0, "Zero or more hours.").max(336, "At most 336 hours (two weeks).")),
@@ -119,6 +121,18 @@ export default function PracticeSettings({ loaderData, actionData }: Route.Compo
                   .map((j) => `${j.label}: ${j.dispensingStandard}`)
                   .join("; ")}
                 ), the registration wording on prescriptions and the default acuity notation. Local law governs.
+              </p>
+            </div>
+            <div>
+              <SelectField label="Acuity notation" errors={fields.acuityNotation.errors} selectProps={getSelectProps(fields.acuityNotation)}>
+                {ACUITY_NOTATIONS.map((n) => (
+                  <option key={n} value={n}>
+                    {ACUITY_NOTATION_LABEL[n]}
+                  </option>
+                ))}
+              </SelectField>
+              <p className="mt-1 text-sm text-muted">
+                How a bare number typed as acuity in an exam is read (the exam can state another notation per entry). Entries that cannot be read unambiguously in it are refused, and each entry echoes what it read before saving.
               </p>
             </div>
             <Field

@@ -1,0 +1,1 @@
+ALTER TABLE "exam_red_flags" ADD COLUMN "headache" boolean DEFAULT false NOT NULL;
