@@ -36,4 +36,15 @@ export default tseslint.config(
     files: ["**/*.tsx"],
     ...jsxA11y.flatConfigs.recommended,
   },
+  {
+    // Layering: route modules call into app/models (domain), app/utils (infrastructure) and
+    // app/components; nothing outside app/routes imports a route module.
+    files: ["app/components/**", "app/models/**", "app/utils/**", "app/lib/**", "app/ops/**", "seeds/**"],
+    rules: { "no-restricted-imports": ["error", { patterns: [{ group: ["~/routes/*", "**/routes/*"], message: "Only the router imports route modules; move shared code to app/models or app/components." }] }] },
+  },
+  {
+    // Domain logic lives in app/models: a route area never imports another area's server module.
+    files: ["app/routes/**"],
+    rules: { "no-restricted-imports": ["error", { patterns: [{ group: ["~/routes/**/*.server", "../*/*.server"], message: "Server logic shared between areas belongs in app/models." }] }] },
+  },
 );
