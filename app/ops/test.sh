@@ -7,6 +7,13 @@ cd "$ROOT"
 
 ensure_deps
 
+# First step: the linter and the formatter's check (DIOPTRA_SKIP_LINT=1 skips it in quick loops).
+if [[ -z "${DIOPTRA_SKIP_LINT:-}" ]]; then
+  log "linting"
+  "$BIN/eslint" --config app/ops/eslint.config.js --cache --cache-location .tmp/eslintcache --max-warnings 0 .
+  "$BIN/prettier" --check --log-level warn .
+fi
+
 # System packages the tests use: Chromium for the browser tests, poppler-utils for PDF text,
 # nginx-light as the load balancer of the scale-out test (tests/e2e/scale-out.e2e.ts).
 missing=()
