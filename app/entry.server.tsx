@@ -15,7 +15,13 @@ export const streamTimeout = 5_000;
  * Renders documents with a fresh nonce per response: React Router's inline scripts carry it and
  * the Content-Security-Policy allows only scripts from this origin or with that nonce.
  */
-export default function handleRequest(request: Request, responseStatusCode: number, responseHeaders: Headers, routerContext: EntryContext, _loadContext: RouterContextProvider) {
+export default function handleRequest(
+  request: Request,
+  responseStatusCode: number,
+  responseHeaders: Headers,
+  routerContext: EntryContext,
+  _loadContext: RouterContextProvider,
+) {
   const nonce = randomBytes(16).toString("base64");
   responseHeaders.set("content-security-policy", documentCsp(nonce));
   if (request.method.toUpperCase() === "HEAD") {
@@ -25,7 +31,8 @@ export default function handleRequest(request: Request, responseStatusCode: numb
   return new Promise<Response>((resolve, reject) => {
     let shellRendered = false;
     const userAgent = request.headers.get("user-agent");
-    const readyOption: keyof RenderToPipeableStreamOptions = (userAgent && isbot(userAgent)) || routerContext.isSpaMode ? "onAllReady" : "onShellReady";
+    const readyOption: keyof RenderToPipeableStreamOptions =
+      (userAgent && isbot(userAgent)) || routerContext.isSpaMode ? "onAllReady" : "onShellReady";
     let timeoutId: ReturnType<typeof setTimeout> | undefined = setTimeout(() => abort(), streamTimeout + 1000);
 
     const { pipe, abort } = renderToPipeableStream(

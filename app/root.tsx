@@ -5,7 +5,16 @@ import { GeneralErrorBoundary } from "./components/error-boundary";
 import { ToastViewport } from "./components/toast";
 import { publicEnv } from "./utils/env.server";
 import { useNonce } from "./components/nonce";
-import { apiRouteRefusal, asProblem, bodyRefusal, hostAllowed, isApiPath, problem, routePath, withSecurityHeaders } from "./utils/http.server";
+import {
+  apiRouteRefusal,
+  asProblem,
+  bodyRefusal,
+  hostAllowed,
+  isApiPath,
+  problem,
+  routePath,
+  withSecurityHeaders,
+} from "./utils/http.server";
 import { crossSiteRefusal } from "./utils/origin.server";
 import { readToast } from "./utils/toast.server";
 
@@ -14,7 +23,9 @@ export const middleware: Route.MiddlewareFunction[] = [
     const url = new URL(request.url);
     const api = isApiPath(routePath(url));
     const refuse = (status: number, detail: string) =>
-      api ? problem(status, detail) : new Response(detail, { status, headers: { "content-type": "text/plain; charset=utf-8" } });
+      api
+        ? problem(status, detail)
+        : new Response(detail, { status, headers: { "content-type": "text/plain; charset=utf-8" } });
     let response: Response;
     if (!hostAllowed(url.host)) {
       response = refuse(421, `This server does not answer for the host name ${url.host}.`);
@@ -56,7 +67,10 @@ export function Layout({ children }: { children: React.ReactNode }) {
         <Links />
       </head>
       <body className="min-h-screen">
-        <a href="#main" className="sr-only focus:not-sr-only focus:absolute focus:left-4 focus:top-4 focus:z-50 focus:rounded focus:bg-white focus:px-4 focus:py-2">
+        <a
+          href="#main"
+          className="sr-only focus:not-sr-only focus:absolute focus:left-4 focus:top-4 focus:z-50 focus:rounded focus:bg-white focus:px-4 focus:py-2"
+        >
           Skip to content
         </a>
         {children}

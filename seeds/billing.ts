@@ -15,11 +15,23 @@ export const DEMO_FEES = [
   { code: "EXAM-A", description: "Eye examination, adult", priceMinor: 6500, kind: "service", taxCategory: "exempt" },
   { code: "EXAM-C", description: "Eye examination, child", priceMinor: 4000, kind: "service", taxCategory: "exempt" },
   { code: "CL-FIT", description: "Contact lens fitting", priceMinor: 5500, kind: "service", taxCategory: "exempt" },
-  { code: "CL-CHK", description: "Contact lens aftercare check", priceMinor: 3000, kind: "service", taxCategory: "exempt" },
+  {
+    code: "CL-CHK",
+    description: "Contact lens aftercare check",
+    priceMinor: 3000,
+    kind: "service",
+    taxCategory: "exempt",
+  },
   { code: "OCT", description: "Retinal scan (OCT)", priceMinor: 3500, kind: "service", taxCategory: "exempt" },
   { code: "FR-STD", description: "Frame, everyday range", priceMinor: 8900, kind: "item", taxCategory: "standard" },
   { code: "LN-SV", description: "Single-vision lenses, pair", priceMinor: 6000, kind: "item", taxCategory: "standard" },
-  { code: "SOL-360", description: "Contact lens solution, 360 ml", priceMinor: 899, kind: "item", taxCategory: "standard" },
+  {
+    code: "SOL-360",
+    description: "Contact lens solution, 360 ml",
+    priceMinor: 899,
+    kind: "item",
+    taxCategory: "standard",
+  },
 ] as const;
 
 type Tx = Parameters<Parameters<NodePgDatabase<typeof schema>["transaction"]>[0]>[0];
@@ -31,5 +43,9 @@ export async function seedBilling(tx: Tx) {
     .insert(feeItems)
     .values(DEMO_FEES.map((f) => ({ ...f })))
     .onConflictDoNothing();
-  if (n === 0) await tx.update(practiceSettings).set({ taxRateBp: 2000 }).where(sql`${practiceSettings.id} = 1`);
+  if (n === 0)
+    await tx
+      .update(practiceSettings)
+      .set({ taxRateBp: 2000 })
+      .where(sql`${practiceSettings.id} = 1`);
 }

@@ -14,8 +14,23 @@ import { DEMO_PATIENT } from "./demo-practice";
 import { DEMO_GPS, TRIAGE_CASES, VA_TEXT, type TriageFindings } from "./triage-cases";
 
 type Tx = Parameters<Parameters<NodePgDatabase<typeof schema>["transaction"]>[0]>[0];
-const { patients, exams, examRefractions, examAcuity, examIop, examColourVision, examVisualFields, examHistory, examAssessment, examDiagnoses, prescriptions, prescriptionEyes, users } = schema;
-const { examRedFlags, examPupils, examAnteriorChamber, examDiscs, examFundus, examDilations, examCornealThickness } = schema;
+const {
+  patients,
+  exams,
+  examRefractions,
+  examAcuity,
+  examIop,
+  examColourVision,
+  examVisualFields,
+  examHistory,
+  examAssessment,
+  examDiagnoses,
+  prescriptions,
+  prescriptionEyes,
+  users,
+} = schema;
+const { examRedFlags, examPupils, examAnteriorChamber, examDiscs, examFundus, examDilations, examCornealThickness } =
+  schema;
 
 export const CASELOAD_DOMAIN = "caseload.dioptra-demo.test";
 /** The caseload's "today"; exams lie up to five years before it. */
@@ -34,8 +49,90 @@ export function prng(seed: number) {
   };
 }
 
-const FIRST = ["Ada", "Bram", "Celestine", "Dorian", "Edda", "Fenwick", "Greer", "Hollis", "Ilse", "Jory", "Kestrel", "Linnea", "Marek", "Nell", "Oswin", "Petra", "Quill", "Rowena", "Sander", "Tova", "Ulric", "Vesna", "Wynn", "Xanthe", "Yorick", "Zelda", "Anouk", "Bastian", "Coralie", "Dashiell", "Elowen", "Florian", "Gisela", "Horatio", "Imke", "Jasper", "Katya", "Leopold", "Mireille", "Niamh"];
-const LAST = ["Abernethy", "Blackthorn", "Carraway", "Dunmore", "Everleigh", "Fothergill", "Greenhalgh", "Hartigan", "Illingworth", "Jessop", "Kilbride", "Lowther", "Merriweather", "Nettlefold", "Oakenshaw", "Pendleford", "Quarrington", "Rushworth", "Saltonstall", "Thistlewood", "Underhill", "Vexworth", "Wetherby", "Yarrowby", "Ashcombe", "Birchenough", "Coldwell", "Dewhurst", "Eastwood", "Farrington", "Gallowglass", "Hesketh", "Ivesdale", "Jellicoe", "Kettleborough", "Larkworthy", "Mossop", "Northcote", "Ormerod", "Pilkington"];
+const FIRST = [
+  "Ada",
+  "Bram",
+  "Celestine",
+  "Dorian",
+  "Edda",
+  "Fenwick",
+  "Greer",
+  "Hollis",
+  "Ilse",
+  "Jory",
+  "Kestrel",
+  "Linnea",
+  "Marek",
+  "Nell",
+  "Oswin",
+  "Petra",
+  "Quill",
+  "Rowena",
+  "Sander",
+  "Tova",
+  "Ulric",
+  "Vesna",
+  "Wynn",
+  "Xanthe",
+  "Yorick",
+  "Zelda",
+  "Anouk",
+  "Bastian",
+  "Coralie",
+  "Dashiell",
+  "Elowen",
+  "Florian",
+  "Gisela",
+  "Horatio",
+  "Imke",
+  "Jasper",
+  "Katya",
+  "Leopold",
+  "Mireille",
+  "Niamh",
+];
+const LAST = [
+  "Abernethy",
+  "Blackthorn",
+  "Carraway",
+  "Dunmore",
+  "Everleigh",
+  "Fothergill",
+  "Greenhalgh",
+  "Hartigan",
+  "Illingworth",
+  "Jessop",
+  "Kilbride",
+  "Lowther",
+  "Merriweather",
+  "Nettlefold",
+  "Oakenshaw",
+  "Pendleford",
+  "Quarrington",
+  "Rushworth",
+  "Saltonstall",
+  "Thistlewood",
+  "Underhill",
+  "Vexworth",
+  "Wetherby",
+  "Yarrowby",
+  "Ashcombe",
+  "Birchenough",
+  "Coldwell",
+  "Dewhurst",
+  "Eastwood",
+  "Farrington",
+  "Gallowglass",
+  "Hesketh",
+  "Ivesdale",
+  "Jellicoe",
+  "Kettleborough",
+  "Larkworthy",
+  "Mossop",
+  "Northcote",
+  "Ormerod",
+  "Pilkington",
+];
 
 const q = (x: number, step = 0.25) => Math.round(x / step) * step || 0;
 const isoDate = (d: Date) => d.toISOString().slice(0, 10);
@@ -46,7 +143,21 @@ type Case = {
   dob: string;
   sex: "female" | "male" | "other" | "unknown";
   /** Final refraction at each exam, oldest first, per eye. */
-  exams: { at: Date; right: SphCyl; left: SphCyl; add?: number; iop?: [number, number]; colour?: "normal" | "red_green"; plates?: number; blindSpot?: { w: number; h: number }; fieldDefect?: string; reason: string; diagnoses: string[]; symptoms?: string; findings?: TriageFindings }[];
+  exams: {
+    at: Date;
+    right: SphCyl;
+    left: SphCyl;
+    add?: number;
+    iop?: [number, number];
+    colour?: "normal" | "red_green";
+    plates?: number;
+    blindSpot?: { w: number; h: number };
+    fieldDefect?: string;
+    reason: string;
+    diagnoses: string[];
+    symptoms?: string;
+    findings?: TriageFindings;
+  }[];
   contactLens?: boolean;
   allergies?: string;
   medications?: string;
@@ -84,11 +195,19 @@ function generalCase(rand: () => number, i: number): Case {
     return {
       at,
       right: { sphere: s, cylinder: cyl, axis: cyl ? axis : 180 },
-      left: { sphere: q(s + (rand() - 0.5) * 0.5), cylinder: q(cyl * (0.8 + rand() * 0.4)) || 0, axis: cyl ? 1 + ((axis + 178) % 180) : 180 },
+      left: {
+        sphere: q(s + (rand() - 0.5) * 0.5),
+        cylinder: q(cyl * (0.8 + rand() * 0.4)) || 0,
+        axis: cyl ? 1 + ((axis + 178) % 180) : 180,
+      },
       add,
       iop: [12 + Math.floor(rand() * 8), 12 + Math.floor(rand() * 8)] as [number, number],
       reason: age >= 45 ? "Routine exam; near vision harder" : "Routine exam",
-      diagnoses: [s < -0.25 ? "H52.1" : s > 0.25 ? "H52.0" : "", cyl <= -0.75 ? "H52.2" : "", add ? "H52.4" : ""].filter(Boolean),
+      diagnoses: [
+        s < -0.25 ? "H52.1" : s > 0.25 ? "H52.0" : "",
+        cyl <= -0.75 ? "H52.2" : "",
+        add ? "H52.4" : "",
+      ].filter(Boolean),
     };
   });
   return { first, last, dob, sex: rand() < 0.5 ? "female" : "male", exams, contactLens: n > 0 && rand() < 0.08 };
@@ -97,7 +216,14 @@ function generalCase(rand: () => number, i: number): Case {
 /** The named cases of the demo. */
 function namedCases(): Case[] {
   const yearsBack = (k: number, h = 10) => new Date(ANCHOR.getTime() - k * 365 * DAY - h * 3600e3);
-  const myope = (first: string, last: string, dob: string, start: number, rate: number, sex: "female" | "male"): Case => ({
+  const myope = (
+    first: string,
+    last: string,
+    dob: string,
+    start: number,
+    rate: number,
+    sex: "female" | "male",
+  ): Case => ({
     first,
     last,
     dob,
@@ -120,14 +246,30 @@ function namedCases(): Case[] {
       last: "Sorrell-Amadi",
       dob: "1991-06-02",
       sex: "male",
-      exams: [2, 1, 0].map((k) => ({ at: yearsBack(k), right: { sphere: 0.5, cylinder: 0, axis: 180 }, left: { sphere: -3.5, cylinder: -0.75, axis: 170 }, iop: [15, 16] as [number, number], reason: "Headaches with reading", diagnoses: ["H52.3", "H52.1"] })),
+      exams: [2, 1, 0].map((k) => ({
+        at: yearsBack(k),
+        right: { sphere: 0.5, cylinder: 0, axis: 180 },
+        left: { sphere: -3.5, cylinder: -0.75, axis: 170 },
+        iop: [15, 16] as [number, number],
+        reason: "Headaches with reading",
+        diagnoses: ["H52.3", "H52.1"],
+      })),
     },
     {
       first: "Corentin",
       last: "Maddox-Ferreira",
       dob: "1999-10-14",
       sex: "male",
-      exams: [1, 0].map((k) => ({ at: yearsBack(k), right: { sphere: -1, cylinder: 0, axis: 180 }, left: { sphere: -1.25, cylinder: 0, axis: 180 }, iop: [13, 13] as [number, number], colour: "red_green" as const, plates: 6, reason: "Employment medical: colour vision check", diagnoses: ["H52.1", "H53.5"] })),
+      exams: [1, 0].map((k) => ({
+        at: yearsBack(k),
+        right: { sphere: -1, cylinder: 0, axis: 180 },
+        left: { sphere: -1.25, cylinder: 0, axis: 180 },
+        iop: [13, 13] as [number, number],
+        colour: "red_green" as const,
+        plates: 6,
+        reason: "Employment medical: colour vision check",
+        diagnoses: ["H52.1", "H53.5"],
+      })),
     },
     {
       first: "Wilhelmina",
@@ -136,8 +278,27 @@ function namedCases(): Case[] {
       sex: "female",
       medications: "Amlodipine 5 mg daily",
       exams: [
-        { at: yearsBack(1), right: { sphere: 1.5, cylinder: -0.5, axis: 90 }, left: { sphere: 1.25, cylinder: -0.5, axis: 85 }, add: 2.25, iop: [19, 17] as [number, number], blindSpot: { w: 5.5, h: 7.5 }, reason: "Routine exam", diagnoses: ["H52.0", "H52.4"] },
-        { at: yearsBack(0, 7), right: { sphere: 1.5, cylinder: -0.5, axis: 90 }, left: { sphere: 1.25, cylinder: -0.5, axis: 85 }, add: 2.5, iop: [26, 19] as [number, number], blindSpot: { w: 10, h: 12 }, fieldDefect: "Enlarged blind spot, right eye", reason: "Routine exam; occasional morning headaches", diagnoses: ["H52.0", "H52.4", "H40.0"] },
+        {
+          at: yearsBack(1),
+          right: { sphere: 1.5, cylinder: -0.5, axis: 90 },
+          left: { sphere: 1.25, cylinder: -0.5, axis: 85 },
+          add: 2.25,
+          iop: [19, 17] as [number, number],
+          blindSpot: { w: 5.5, h: 7.5 },
+          reason: "Routine exam",
+          diagnoses: ["H52.0", "H52.4"],
+        },
+        {
+          at: yearsBack(0, 7),
+          right: { sphere: 1.5, cylinder: -0.5, axis: 90 },
+          left: { sphere: 1.25, cylinder: -0.5, axis: 85 },
+          add: 2.5,
+          iop: [26, 19] as [number, number],
+          blindSpot: { w: 10, h: 12 },
+          fieldDefect: "Enlarged blind spot, right eye",
+          reason: "Routine exam; occasional morning headaches",
+          diagnoses: ["H52.0", "H52.4", "H40.0"],
+        },
       ],
     },
     {
@@ -146,7 +307,14 @@ function namedCases(): Case[] {
       dob: "1987-04-21",
       sex: "female",
       contactLens: true,
-      exams: [2, 1, 0].map((k) => ({ at: yearsBack(k), right: { sphere: -5.5, cylinder: -0.75, axis: 180 }, left: { sphere: -6, cylinder: -0.5, axis: 175 }, iop: [15, 15] as [number, number], reason: "Contact-lens aftercare", diagnoses: ["H52.1", "H52.2"] })),
+      exams: [2, 1, 0].map((k) => ({
+        at: yearsBack(k),
+        right: { sphere: -5.5, cylinder: -0.75, axis: 180 },
+        left: { sphere: -6, cylinder: -0.5, axis: 175 },
+        iop: [15, 15] as [number, number],
+        reason: "Contact-lens aftercare",
+        diagnoses: ["H52.1", "H52.2"],
+      })),
     },
     {
       first: "Jago",
@@ -155,7 +323,14 @@ function namedCases(): Case[] {
       sex: "male",
       contactLens: true,
       allergies: "Thiomersal (preservative in some solutions)",
-      exams: [1, 0].map((k) => ({ at: yearsBack(k), right: { sphere: -3, cylinder: 0, axis: 180 }, left: { sphere: -3.25, cylinder: 0, axis: 180 }, iop: [12, 13] as [number, number], reason: "Contact-lens aftercare", diagnoses: ["H52.1"] })),
+      exams: [1, 0].map((k) => ({
+        at: yearsBack(k),
+        right: { sphere: -3, cylinder: 0, axis: 180 },
+        left: { sphere: -3.25, cylinder: 0, axis: 180 },
+        iop: [12, 13] as [number, number],
+        reason: "Contact-lens aftercare",
+        diagnoses: ["H52.1"],
+      })),
     },
   ];
 }
@@ -175,8 +350,29 @@ function triageCases(): Case[] {
       medications: t.medications,
       allergies: t.allergies,
       exams: [
-        { at: new Date(at.getTime() - 365 * DAY), ...rx, add, iop: [15, 15] as [number, number], reason: "Routine exam", diagnoses: [], findings: { pupils: { right: { equalReactive: true }, left: { equalReactive: true } }, bestVa: t.previousBestVa ?? { right: 0, left: 0 } } },
-        { at, ...rx, add, iop: [16, 16] as [number, number], reason: t.reason, symptoms: t.symptoms, diagnoses: [], findings: t.findings, ...(t.blindSpot ? { blindSpot: t.blindSpot, fieldDefect: "Enlarged blind spot, right eye" } : {}) },
+        {
+          at: new Date(at.getTime() - 365 * DAY),
+          ...rx,
+          add,
+          iop: [15, 15] as [number, number],
+          reason: "Routine exam",
+          diagnoses: [],
+          findings: {
+            pupils: { right: { equalReactive: true }, left: { equalReactive: true } },
+            bestVa: t.previousBestVa ?? { right: 0, left: 0 },
+          },
+        },
+        {
+          at,
+          ...rx,
+          add,
+          iop: [16, 16] as [number, number],
+          reason: t.reason,
+          symptoms: t.symptoms,
+          diagnoses: [],
+          findings: t.findings,
+          ...(t.blindSpot ? { blindSpot: t.blindSpot, fieldDefect: "Enlarged blind spot, right eye" } : {}),
+        },
       ],
     };
   });
@@ -185,8 +381,24 @@ function triageCases(): Case[] {
 /** Rosalind Achterberg (the demo portal patient): two past exams and a current spectacle prescription. */
 function demoPatientExams(): Case["exams"] {
   return [
-    { at: new Date("2024-11-12T10:30:00Z"), right: { sphere: -1.75, cylinder: -0.5, axis: 175 }, left: { sphere: -1.5, cylinder: -0.25, axis: 10 }, add: 1, iop: [15, 16], reason: "Routine exam", diagnoses: ["H52.1", "H52.4"] },
-    { at: new Date("2025-11-18T09:15:00Z"), right: { sphere: -2, cylinder: -0.5, axis: 175 }, left: { sphere: -1.75, cylinder: -0.25, axis: 10 }, add: 1.25, iop: [16, 16], reason: "Routine exam; near vision harder in the evening", diagnoses: ["H52.1", "H52.4"] },
+    {
+      at: new Date("2024-11-12T10:30:00Z"),
+      right: { sphere: -1.75, cylinder: -0.5, axis: 175 },
+      left: { sphere: -1.5, cylinder: -0.25, axis: 10 },
+      add: 1,
+      iop: [15, 16],
+      reason: "Routine exam",
+      diagnoses: ["H52.1", "H52.4"],
+    },
+    {
+      at: new Date("2025-11-18T09:15:00Z"),
+      right: { sphere: -2, cylinder: -0.5, axis: 175 },
+      left: { sphere: -1.75, cylinder: -0.25, axis: 10 },
+      add: 1.25,
+      iop: [16, 16],
+      reason: "Routine exam; near vision harder in the evening",
+      diagnoses: ["H52.1", "H52.4"],
+    },
   ];
 }
 
@@ -196,9 +408,23 @@ function chunks<T>(list: T[], size: number) {
   return out;
 }
 
-const LABELS: Record<string, string> = { "H52.0": "Hypermetropia", "H52.1": "Myopia", "H52.2": "Astigmatism", "H52.3": "Anisometropia and aniseikonia", "H52.4": "Presbyopia", "H53.5": "Colour vision deficiencies", "H40.0": "Glaucoma suspect" };
+const LABELS: Record<string, string> = {
+  "H52.0": "Hypermetropia",
+  "H52.1": "Myopia",
+  "H52.2": "Astigmatism",
+  "H52.3": "Anisometropia and aniseikonia",
+  "H52.4": "Presbyopia",
+  "H53.5": "Colour vision deficiencies",
+  "H40.0": "Glaucoma suspect",
+};
 
-async function writeExams(tx: Tx, patientId: string, list: Case["exams"], optometristIds: string[], rand: () => number) {
+async function writeExams(
+  tx: Tx,
+  patientId: string,
+  list: Case["exams"],
+  optometristIds: string[],
+  rand: () => number,
+) {
   if (!list.length) return [];
   const rows = await tx
     .insert(exams)
@@ -206,7 +432,16 @@ async function writeExams(tx: Tx, patientId: string, list: Case["exams"], optome
       list.map((e) => {
         // Only the examining clinician signs.
         const examiner = optometristIds[Math.floor(rand() * optometristIds.length)]!;
-        return { patientId, optometristId: examiner, examinedAt: e.at, status: "signed" as const, signedAt: new Date(e.at.getTime() + 40 * 60e3), signedById: examiner, createdAt: e.at, updatedAt: e.at };
+        return {
+          patientId,
+          optometristId: examiner,
+          examinedAt: e.at,
+          status: "signed" as const,
+          signedAt: new Date(e.at.getTime() + 40 * 60e3),
+          signedById: examiner,
+          createdAt: e.at,
+          updatedAt: e.at,
+        };
       }),
     )
     .returning({ id: exams.id, signedById: exams.signedById, optometristId: exams.optometristId });
@@ -215,15 +450,31 @@ async function writeExams(tx: Tx, patientId: string, list: Case["exams"], optome
 
 /** Adds the caseload unless it is already there (idempotent). */
 export async function seedCaseload(tx: Tx) {
-  const [already] = await tx.select({ n: sql<number>`count(*)::int` }).from(patients).where(like(patients.email, `%@${CASELOAD_DOMAIN}`));
-  const clinicians = await tx.select({ id: users.id, name: users.name, licence: users.licenceNumber, email: users.email }).from(users).where(inArray(users.role, ["optometrist", "owner"]));
+  const [already] = await tx
+    .select({ n: sql<number>`count(*)::int` })
+    .from(patients)
+    .where(like(patients.email, `%@${CASELOAD_DOMAIN}`));
+  const clinicians = await tx
+    .select({ id: users.id, name: users.name, licence: users.licenceNumber, email: users.email })
+    .from(users)
+    .where(inArray(users.role, ["optometrist", "owner"]));
   if (!clinicians.length) return;
   const optometrist = clinicians.find((c) => c.email.startsWith("optometrist@")) ?? clinicians[0]!;
   const ids = [optometrist.id, ...clinicians.filter((c) => c.id !== optometrist.id).map((c) => c.id)];
   const rand = prng(20261120);
 
-  const cases: Case[] = [...namedCases(), ...Array.from({ length: 400 }, (_, i) => generalCase(rand, i)), ...triageCases()];
-  const allExams: { id: string; patientId: string; input: Case["exams"][number]; last: boolean; contactLens: boolean }[] = [];
+  const cases: Case[] = [
+    ...namedCases(),
+    ...Array.from({ length: 400 }, (_, i) => generalCase(rand, i)),
+    ...triageCases(),
+  ];
+  const allExams: {
+    id: string;
+    patientId: string;
+    input: Case["exams"][number];
+    last: boolean;
+    contactLens: boolean;
+  }[] = [];
 
   if ((already?.n ?? 0) === 0) {
     const inserted: { id: string }[] = [];
@@ -238,7 +489,7 @@ export async function seedCaseload(tx: Tx) {
               dateOfBirth: c.dob,
               sex: c.sex,
               email: `${c.first}.${c.last}.${inserted.length + i}@${CASELOAD_DOMAIN}`.toLowerCase(),
-              phone: `07700 9${String(100000 + ((inserted.length + i) * 7919) % 900000).slice(0, 5)}`,
+              phone: `07700 9${String(100000 + (((inserted.length + i) * 7919) % 900000)).slice(0, 5)}`,
               addressLine1: `${1 + ((inserted.length + i) % 97)} ${LAST[(inserted.length + i) % LAST.length]} Road`,
               city: "Brackenford",
               postcode: `BF${1 + ((inserted.length + i) % 9)} ${1 + ((inserted.length + i) % 8)}QT`,
@@ -255,7 +506,15 @@ export async function seedCaseload(tx: Tx) {
     }
     for (const [i, c] of cases.entries()) {
       const written = await writeExams(tx, inserted[i]!.id, c.exams, ids, rand);
-      written.forEach((w, k) => allExams.push({ id: w.id, patientId: inserted[i]!.id, input: w.input, last: k === written.length - 1, contactLens: !!c.contactLens }));
+      written.forEach((w, k) =>
+        allExams.push({
+          id: w.id,
+          patientId: inserted[i]!.id,
+          input: w.input,
+          last: k === written.length - 1,
+          contactLens: !!c.contactLens,
+        }),
+      );
     }
   }
 
@@ -263,14 +522,34 @@ export async function seedCaseload(tx: Tx) {
   const [demo] = await tx
     .select({ id: patients.id })
     .from(patients)
-    .where(and(eq(patients.firstName, DEMO_PATIENT.firstName), eq(patients.lastName, DEMO_PATIENT.lastName), eq(patients.dateOfBirth, DEMO_PATIENT.dateOfBirth)));
+    .where(
+      and(
+        eq(patients.firstName, DEMO_PATIENT.firstName),
+        eq(patients.lastName, DEMO_PATIENT.lastName),
+        eq(patients.dateOfBirth, DEMO_PATIENT.dateOfBirth),
+      ),
+    );
   if (demo) {
-    const [has] = await tx.select({ n: sql<number>`count(*)::int` }).from(exams).where(eq(exams.patientId, demo.id));
+    const [has] = await tx
+      .select({ n: sql<number>`count(*)::int` })
+      .from(exams)
+      .where(eq(exams.patientId, demo.id));
     if ((has?.n ?? 0) === 0) {
       const list = demoPatientExams();
       const written = await writeExams(tx, demo.id, list, [optometrist.id], rand);
-      written.forEach((w, k) => allExams.push({ id: w.id, patientId: demo.id, input: w.input, last: k === written.length - 1, contactLens: false }));
-      await tx.update(patients).set({ lastExamAt: list.at(-1)!.at }).where(eq(patients.id, demo.id));
+      written.forEach((w, k) =>
+        allExams.push({
+          id: w.id,
+          patientId: demo.id,
+          input: w.input,
+          last: k === written.length - 1,
+          contactLens: false,
+        }),
+      );
+      await tx
+        .update(patients)
+        .set({ lastExamAt: list.at(-1)!.at })
+        .where(eq(patients.id, demo.id));
     }
   }
   if (!allExams.length) return;
@@ -290,58 +569,220 @@ export async function seedCaseload(tx: Tx) {
   const fundus: (typeof examFundus.$inferInsert)[] = [];
   const dilations: (typeof examDilations.$inferInsert)[] = [];
   const ccts: (typeof examCornealThickness.$inferInsert)[] = [];
-  const fmt = (r: SphCyl) => (r.cylinder ? `${r.sphere > 0 ? "+" : ""}${r.sphere.toFixed(2)} ${r.cylinder.toFixed(2)} x ${r.axis}` : r.sphere === 0 ? "pl" : `${r.sphere > 0 ? "+" : ""}${r.sphere.toFixed(2)} DS`);
+  const fmt = (r: SphCyl) =>
+    r.cylinder
+      ? `${r.sphere > 0 ? "+" : ""}${r.sphere.toFixed(2)} ${r.cylinder.toFixed(2)} x ${r.axis}`
+      : r.sphere === 0
+        ? "pl"
+        : `${r.sphere > 0 ? "+" : ""}${r.sphere.toFixed(2)} DS`;
   for (const e of allExams) {
     const x = e.input;
     for (const eye of ["right", "left"] as const) {
       const rx = x[eye];
-      const auto = { sphere: q(rx.sphere - 0.25 * Math.round(rand())), cylinder: q(rx.cylinder - 0.25 * Math.round(rand())), axis: rx.cylinder ? rx.axis : 180 };
-      refractions.push({ examId: e.id, kind: "autorefraction", eye, rawText: fmt(auto), ...auto, cylinder: auto.cylinder || 0, axis: auto.cylinder ? auto.axis : 180 });
-      for (const kind of ["subjective", "final"] as const) refractions.push({ examId: e.id, kind, eye, rawText: fmt(rx), ...rx, addPower: x.add ?? null, vertexMm: 12, vaNotation: "6/6", vaLogMar: 0 });
-      acuity.push({ examId: e.id, eye, distance: "distance", correction: "unaided", notation: rx.sphere < -1 ? "6/36" : "6/9", logMar: rx.sphere < -1 ? 0.778 : 0.176 });
+      const auto = {
+        sphere: q(rx.sphere - 0.25 * Math.round(rand())),
+        cylinder: q(rx.cylinder - 0.25 * Math.round(rand())),
+        axis: rx.cylinder ? rx.axis : 180,
+      };
+      refractions.push({
+        examId: e.id,
+        kind: "autorefraction",
+        eye,
+        rawText: fmt(auto),
+        ...auto,
+        cylinder: auto.cylinder || 0,
+        axis: auto.cylinder ? auto.axis : 180,
+      });
+      for (const kind of ["subjective", "final"] as const)
+        refractions.push({
+          examId: e.id,
+          kind,
+          eye,
+          rawText: fmt(rx),
+          ...rx,
+          addPower: x.add ?? null,
+          vertexMm: 12,
+          vaNotation: "6/6",
+          vaLogMar: 0,
+        });
+      acuity.push({
+        examId: e.id,
+        eye,
+        distance: "distance",
+        correction: "unaided",
+        notation: rx.sphere < -1 ? "6/36" : "6/9",
+        logMar: rx.sphere < -1 ? 0.778 : 0.176,
+      });
       const best = x.findings?.bestVa?.[eye] ?? 0;
-      acuity.push({ examId: e.id, eye, distance: "distance", correction: "best", notation: VA_TEXT[String(best)] ?? "6/6", scale: "metric", logMar: best });
+      acuity.push({
+        examId: e.id,
+        eye,
+        distance: "distance",
+        correction: "best",
+        notation: VA_TEXT[String(best)] ?? "6/6",
+        scale: "metric",
+        logMar: best,
+      });
       const f = x.findings;
       const readings = f?.iop?.[eye];
-      if (readings) readings.readings.forEach((mmHg, k) => iop.push({ examId: e.id, eye, reading: k + 1, mmHg, method: readings.method, measuredTime: `10:${String(15 + 3 * k).padStart(2, "0")}` }));
-      else if (x.iop) iop.push({ examId: e.id, eye, mmHg: x.iop[eye === "right" ? 0 : 1], method: "non_contact", measuredTime: "10:15" });
+      if (readings)
+        readings.readings.forEach((mmHg, k) =>
+          iop.push({
+            examId: e.id,
+            eye,
+            reading: k + 1,
+            mmHg,
+            method: readings.method,
+            measuredTime: `10:${String(15 + 3 * k).padStart(2, "0")}`,
+          }),
+        );
+      else if (x.iop)
+        iop.push({
+          examId: e.id,
+          eye,
+          mmHg: x.iop[eye === "right" ? 0 : 1],
+          method: "non_contact",
+          measuredTime: "10:15",
+        });
       if (f?.cct?.[eye]) ccts.push({ examId: e.id, eye, micrometres: f.cct[eye]! });
       const p = f?.pupils?.[eye];
       if (p) pupils.push({ examId: e.id, eye, equalReactive: !!p.equalReactive, rapd: !!p.rapd, larger: !!p.larger });
       const a = f?.ac?.[eye];
-      if (a) chambers.push({ examId: e.id, eye, vanHerick: a.vanHerick ?? null, cells: a.cells ?? null, hyphaema: !!a.hyphaema, hypopyon: !!a.hypopyon, notes: a.notes ?? "" });
+      if (a)
+        chambers.push({
+          examId: e.id,
+          eye,
+          vanHerick: a.vanHerick ?? null,
+          cells: a.cells ?? null,
+          hyphaema: !!a.hyphaema,
+          hypopyon: !!a.hypopyon,
+          notes: a.notes ?? "",
+        });
       const d = f?.disc?.[eye];
-      if (d) discs.push({ examId: e.id, eye, verticalCd: d.verticalCd ?? null, margins: d.margins ?? null, swelling: !!d.swelling, haemorrhage: !!d.haemorrhage, notes: d.notes ?? "" });
+      if (d)
+        discs.push({
+          examId: e.id,
+          eye,
+          verticalCd: d.verticalCd ?? null,
+          margins: d.margins ?? null,
+          swelling: !!d.swelling,
+          haemorrhage: !!d.haemorrhage,
+          notes: d.notes ?? "",
+        });
       const fu = f?.fundus?.[eye];
-      if (fu && Object.keys(fu).length) fundus.push({ examId: e.id, eye, vitreousDetachment: !!fu.vitreousDetachment, vitreousPigment: !!fu.vitreousPigment, retinalBreak: !!fu.retinalBreak, retinalDetachment: !!fu.retinalDetachment, drusen: !!fu.drusen, suspectedWetAmd: !!fu.suspectedWetAmd, maculaNotes: fu.maculaNotes ?? "", peripheryNotes: fu.peripheryNotes ?? "" });
+      if (fu && Object.keys(fu).length)
+        fundus.push({
+          examId: e.id,
+          eye,
+          vitreousDetachment: !!fu.vitreousDetachment,
+          vitreousPigment: !!fu.vitreousPigment,
+          retinalBreak: !!fu.retinalBreak,
+          retinalDetachment: !!fu.retinalDetachment,
+          drusen: !!fu.drusen,
+          suspectedWetAmd: !!fu.suspectedWetAmd,
+          maculaNotes: fu.maculaNotes ?? "",
+          peripheryNotes: fu.peripheryNotes ?? "",
+        });
       if (!f?.disc && !x.findings) {
         // Ordinary exams: a healthy disc, deterministic from the exam's position (no draw from the shared sequence).
         const h = (allExams.indexOf(e) * 2654435761) >>> 0;
         const cd = 0.2 + (h % 7) * 0.05;
-        discs.push({ examId: e.id, eye, verticalCd: Math.round((eye === "left" && h % 3 === 0 ? cd + 0.05 : cd) * 100) / 100, margins: "distinct" });
+        discs.push({
+          examId: e.id,
+          eye,
+          verticalCd: Math.round((eye === "left" && h % 3 === 0 ? cd + 0.05 : cd) * 100) / 100,
+          margins: "distinct",
+        });
         pupils.push({ examId: e.id, eye, equalReactive: true });
       }
-      if (x.colour) colour.push({ examId: e.id, eye, test: "plates_38", platesShown: 15, platesCorrect: x.colour === "normal" ? 15 : (x.plates ?? 6), result: x.colour, notes: x.colour === "red_green" ? "Consistent with congenital red-green deficiency; both eyes alike" : "" });
+      if (x.colour)
+        colour.push({
+          examId: e.id,
+          eye,
+          test: "plates_38",
+          platesShown: 15,
+          platesCorrect: x.colour === "normal" ? 15 : (x.plates ?? 6),
+          result: x.colour,
+          notes: x.colour === "red_green" ? "Consistent with congenital red-green deficiency; both eyes alike" : "",
+        });
       if (x.blindSpot) {
         const enlarged = eye === "right" ? x.blindSpot : { w: 5.5, h: 7.5 };
-        fields.push({ examId: e.id, eye, method: "automated", blindSpotXDeg: 15, blindSpotYDeg: -1.5, blindSpotWidthDeg: enlarged.w, blindSpotHeightDeg: enlarged.h, defectPresent: !!x.fieldDefect && eye === "right", defects: eye === "right" ? (x.fieldDefect ?? "") : "", reliability: "good" });
+        fields.push({
+          examId: e.id,
+          eye,
+          method: "automated",
+          blindSpotXDeg: 15,
+          blindSpotYDeg: -1.5,
+          blindSpotWidthDeg: enlarged.w,
+          blindSpotHeightDeg: enlarged.h,
+          defectPresent: !!x.fieldDefect && eye === "right",
+          defects: eye === "right" ? (x.fieldDefect ?? "") : "",
+          reliability: "good",
+        });
       }
     }
-    history.push({ examId: e.id, reason: x.reason, symptoms: x.symptoms ?? "", ocularHistory: "", generalHistory: "", medications: "", familyHistory: "" });
+    history.push({
+      examId: e.id,
+      reason: x.reason,
+      symptoms: x.symptoms ?? "",
+      ocularHistory: "",
+      generalHistory: "",
+      medications: "",
+      familyHistory: "",
+    });
     const f = x.findings;
     if (f?.redFlags) {
       const r = f.redFlags;
-      redFlags.push({ examId: e.id, flashes: r.flashes ?? null, newFloaters: r.newFloaters ?? null, curtain: r.curtain ?? null, suddenLoss: r.suddenLoss ?? null, severePain: r.severePain ?? null, redEye: r.redEye ?? null, distortion: r.distortion ?? null, newDiplopia: !!r.newDiplopia, gcaSymptoms: !!r.gcaSymptoms, headache: !!r.headache, notes: r.notes ?? "" });
+      redFlags.push({
+        examId: e.id,
+        flashes: r.flashes ?? null,
+        newFloaters: r.newFloaters ?? null,
+        curtain: r.curtain ?? null,
+        suddenLoss: r.suddenLoss ?? null,
+        severePain: r.severePain ?? null,
+        redEye: r.redEye ?? null,
+        distortion: r.distortion ?? null,
+        newDiplopia: !!r.newDiplopia,
+        gcaSymptoms: !!r.gcaSymptoms,
+        headache: !!r.headache,
+        notes: r.notes ?? "",
+      });
     } else redFlags.push({ examId: e.id });
-    if (f?.dilated) dilations.push({ examId: e.id, drug: "tropicamide", strengthPercent: 1, eye: "both", instilledAt: new Date(x.at.getTime() + 10 * 60e3) });
+    if (f?.dilated)
+      dilations.push({
+        examId: e.id,
+        drug: "tropicamide",
+        strengthPercent: 1,
+        eye: "both",
+        instilledAt: new Date(x.at.getTime() + 10 * 60e3),
+      });
     assessment.push({
       examId: e.id,
-      assessment: f?.assessment ?? (x.fieldDefect ? "Raised IOP right with an enlarged blind spot: consider referral." : f?.diagnoses ? "See findings." : "Stable; spectacles as prescribed."),
+      assessment:
+        f?.assessment ??
+        (x.fieldDefect
+          ? "Raised IOP right with an enlarged blind spot: consider referral."
+          : f?.diagnoses
+            ? "See findings."
+            : "Stable; spectacles as prescribed."),
       plan: f?.plan ?? (x.fieldDefect ? "Repeat IOP and fields; referral letter to be considered." : "Routine recall."),
       recallMonths: x.fieldDefect ? 3 : 24,
     });
-    for (const code of x.diagnoses) diagnoses.push({ examId: e.id, code, label: LABELS[code] ?? DIAGNOSES.find((d) => d.code === code)!.label, eye: "both" });
-    for (const d of f?.diagnoses ?? []) if (!x.diagnoses.includes(d.code)) diagnoses.push({ examId: e.id, code: d.code, label: DIAGNOSES.find((k) => k.code === d.code)!.label, eye: d.eye });
+    for (const code of x.diagnoses)
+      diagnoses.push({
+        examId: e.id,
+        code,
+        label: LABELS[code] ?? DIAGNOSES.find((d) => d.code === code)!.label,
+        eye: "both",
+      });
+    for (const d of f?.diagnoses ?? [])
+      if (!x.diagnoses.includes(d.code))
+        diagnoses.push({
+          examId: e.id,
+          code: d.code,
+          label: DIAGNOSES.find((k) => k.code === d.code)!.label,
+          eye: d.eye,
+        });
   }
   for (const part of chunks(refractions, 1000)) await tx.insert(examRefractions).values(part);
   for (const part of chunks(acuity, 1000)) await tx.insert(examAcuity).values(part);
@@ -370,15 +811,43 @@ export async function seedCaseload(tx: Tx) {
       expires.setUTCMonth(expires.getUTCMonth() + months);
       const [rx] = await tx
         .insert(prescriptions)
-        .values({ patientId: e.patientId, examId: e.id, kind, issuedById: optometrist.id, issuedAt, expiresOn: isoDate(expires), prescriberName: optometrist.name, prescriberLicence: optometrist.licence ?? "", lensName: kind === "contact_lens" ? "Monthly silicone hydrogel, toric where needed" : null })
+        .values({
+          patientId: e.patientId,
+          examId: e.id,
+          kind,
+          issuedById: optometrist.id,
+          issuedAt,
+          expiresOn: isoDate(expires),
+          prescriberName: optometrist.name,
+          prescriberLicence: optometrist.licence ?? "",
+          lensName: kind === "contact_lens" ? "Monthly silicone hydrogel, toric where needed" : null,
+        })
         .returning({ id: prescriptions.id });
       for (const eye of ["right", "left"] as const) {
         const s = e.input[eye];
-        if (kind === "spectacle") await tx.insert(prescriptionEyes).values({ prescriptionId: rx!.id, eye, ...s, addPower: e.input.add ?? null, vertexMm: 12 });
+        if (kind === "spectacle")
+          await tx
+            .insert(prescriptionEyes)
+            .values({ prescriptionId: rx!.id, eye, ...s, addPower: e.input.add ?? null, vertexMm: 12 });
         else {
           const exact = vertexConvert(s, 12, 0);
           const rounded = roundRx(exact, 0.25);
-          await tx.insert(prescriptionEyes).values({ prescriptionId: rx!.id, eye, ...rounded, vertexMm: 0, exactSphere: exact.sphere, exactCylinder: exact.cylinder, exactAxis: exact.axis, spectacleSphere: s.sphere, spectacleCylinder: s.cylinder, spectacleAxis: s.axis, baseCurveMm: 8.6, diameterMm: 14.2 });
+          await tx
+            .insert(prescriptionEyes)
+            .values({
+              prescriptionId: rx!.id,
+              eye,
+              ...rounded,
+              vertexMm: 0,
+              exactSphere: exact.sphere,
+              exactCylinder: exact.cylinder,
+              exactAxis: exact.axis,
+              spectacleSphere: s.sphere,
+              spectacleCylinder: s.cylinder,
+              spectacleAxis: s.axis,
+              baseCurveMm: 8.6,
+              diameterMm: 14.2,
+            });
         }
       }
     }

@@ -40,7 +40,12 @@ export const DEMO_PATIENT = {
 
 export const DEMO_USERS = [
   { email: "owner@dioptra-demo.test", name: "Imogen Castellane", role: "owner" as const, licenceNumber: "01-27743" },
-  { email: "optometrist@dioptra-demo.test", name: "Tobias Wren", role: "optometrist" as const, licenceNumber: "01-31982" },
+  {
+    email: "optometrist@dioptra-demo.test",
+    name: "Tobias Wren",
+    role: "optometrist" as const,
+    licenceNumber: "01-31982",
+  },
   { email: "reception@dioptra-demo.test", name: "Priya Oduya", role: "receptionist" as const, licenceNumber: null },
   { email: "patient@dioptra-demo.test", name: "Rosalind Achterberg", role: "patient" as const, licenceNumber: null },
 ];

@@ -44,9 +44,102 @@ async function main() {
     const r = await c.query(sql, params);
     console.log(`[scale] ${label}: ${r.rowCount ?? ""} rows in ${((Date.now() - t) / 1000).toFixed(1)} s`);
   };
-  const firsts = ["Ada", "Bram", "Celestine", "Dorian", "Edda", "Fenwick", "Greer", "Hollis", "Ilse", "Jory", "Kestrel", "Linnea", "Marek", "Nell", "Oswin", "Petra", "Quill", "Rowena", "Sander", "Tova", "Ulric", "Vesna", "Wynn", "Xanthe", "Yorick", "Zelda", "Anouk", "Bastian", "Coralie", "Dashiell", "Elowen", "Florian", "Gisela", "Horatio", "Imke", "Jasper", "Katya", "Leopold", "Mireille", "Niamh"];
-  const lastStems = ["Aber", "Black", "Carra", "Dun", "Ever", "Foth", "Green", "Harti", "Illing", "Jess", "Kil", "Low", "Merri", "Nettle", "Oaken", "Pendle", "Quarr", "Rush", "Salton", "Thistle", "Under", "Vex", "Wether", "Yarrow", "Ash", "Birch", "Cold", "Dew", "East", "Farr"];
-  const lastEnds = ["nethy", "thorn", "way", "more", "leigh", "gill", "halgh", "gan", "worth", "op", "bride", "ther", "weather", "fold", "shaw", "ford", "ington", "by", "stall", "wood"];
+  const firsts = [
+    "Ada",
+    "Bram",
+    "Celestine",
+    "Dorian",
+    "Edda",
+    "Fenwick",
+    "Greer",
+    "Hollis",
+    "Ilse",
+    "Jory",
+    "Kestrel",
+    "Linnea",
+    "Marek",
+    "Nell",
+    "Oswin",
+    "Petra",
+    "Quill",
+    "Rowena",
+    "Sander",
+    "Tova",
+    "Ulric",
+    "Vesna",
+    "Wynn",
+    "Xanthe",
+    "Yorick",
+    "Zelda",
+    "Anouk",
+    "Bastian",
+    "Coralie",
+    "Dashiell",
+    "Elowen",
+    "Florian",
+    "Gisela",
+    "Horatio",
+    "Imke",
+    "Jasper",
+    "Katya",
+    "Leopold",
+    "Mireille",
+    "Niamh",
+  ];
+  const lastStems = [
+    "Aber",
+    "Black",
+    "Carra",
+    "Dun",
+    "Ever",
+    "Foth",
+    "Green",
+    "Harti",
+    "Illing",
+    "Jess",
+    "Kil",
+    "Low",
+    "Merri",
+    "Nettle",
+    "Oaken",
+    "Pendle",
+    "Quarr",
+    "Rush",
+    "Salton",
+    "Thistle",
+    "Under",
+    "Vex",
+    "Wether",
+    "Yarrow",
+    "Ash",
+    "Birch",
+    "Cold",
+    "Dew",
+    "East",
+    "Farr",
+  ];
+  const lastEnds = [
+    "nethy",
+    "thorn",
+    "way",
+    "more",
+    "leigh",
+    "gill",
+    "halgh",
+    "gan",
+    "worth",
+    "op",
+    "bride",
+    "ther",
+    "weather",
+    "fold",
+    "shaw",
+    "ford",
+    "ington",
+    "by",
+    "stall",
+    "wood",
+  ];
   await c.query("SET synchronous_commit = off");
   await step(
     "patients",
@@ -101,7 +194,9 @@ async function main() {
      join patients p on p.id = rx.patient_id and p.email like '%@scale.dioptra-demo.test'`,
   );
   await step("analyze", "analyze");
-  const counts = await c.query("select (select count(*) from patients) as patients, (select count(*) from exams) as exams, (select count(*) from exam_refractions) as refractions");
+  const counts = await c.query(
+    "select (select count(*) from patients) as patients, (select count(*) from exams) as exams, (select count(*) from exam_refractions) as refractions",
+  );
   console.log("[scale] totals", counts.rows[0]);
   await c.end();
 }

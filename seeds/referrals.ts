@@ -70,7 +70,9 @@ export async function seedReferrals(tx: Tx) {
     const [existing] = await tx
       .select({ id: referralRecipients.id })
       .from(referralRecipients)
-      .where(sql`lower(${referralRecipients.name}) = ${r.name.toLowerCase()} and lower(${referralRecipients.clinic}) = ${r.clinic.toLowerCase()}`)
+      .where(
+        sql`lower(${referralRecipients.name}) = ${r.name.toLowerCase()} and lower(${referralRecipients.clinic}) = ${r.clinic.toLowerCase()}`,
+      )
       .limit(1);
     if (!existing) await tx.insert(referralRecipients).values(r);
   }

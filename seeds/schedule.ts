@@ -9,30 +9,124 @@ import * as schema from "../app/db/schema";
 import { addDays, localParts, wallTimeToInstant } from "../app/lib/scheduling/time";
 import { addMonths } from "../app/lib/scheduling/recall";
 
-const { appointmentTypes, appointments, appointmentStatusChanges, feeItems, patients, practiceSettings, providerBreaks, rooms, sites, users, workingHours } = schema;
+const {
+  appointmentTypes,
+  appointments,
+  appointmentStatusChanges,
+  feeItems,
+  patients,
+  practiceSettings,
+  providerBreaks,
+  rooms,
+  sites,
+  users,
+  workingHours,
+} = schema;
 type Tx = Parameters<Parameters<NodePgDatabase<typeof schema>["transaction"]>[0]>[0];
 
 export const DEMO_TYPES = [
-  { name: "Comprehensive eye exam", durationMinutes: 30, fee: "EXAM-A", recallMonths: null, routineExam: true, performerRoles: ["owner", "optometrist"] },
-  { name: "Child eye exam", durationMinutes: 30, fee: "EXAM-C", recallMonths: 12, routineExam: true, performerRoles: ["owner", "optometrist"] },
-  { name: "Contact lens check", durationMinutes: 20, fee: "CL-CHK", recallMonths: 12, routineExam: true, performerRoles: ["owner", "optometrist"] },
-  { name: "Contact lens fitting", durationMinutes: 45, fee: "CL-FIT", recallMonths: null, routineExam: false, performerRoles: ["owner", "optometrist"] },
-  { name: "Spectacle collection", durationMinutes: 15, fee: null, recallMonths: null, routineExam: false, performerRoles: ["owner", "optometrist", "receptionist"] },
+  {
+    name: "Comprehensive eye exam",
+    durationMinutes: 30,
+    fee: "EXAM-A",
+    recallMonths: null,
+    routineExam: true,
+    performerRoles: ["owner", "optometrist"],
+  },
+  {
+    name: "Child eye exam",
+    durationMinutes: 30,
+    fee: "EXAM-C",
+    recallMonths: 12,
+    routineExam: true,
+    performerRoles: ["owner", "optometrist"],
+  },
+  {
+    name: "Contact lens check",
+    durationMinutes: 20,
+    fee: "CL-CHK",
+    recallMonths: 12,
+    routineExam: true,
+    performerRoles: ["owner", "optometrist"],
+  },
+  {
+    name: "Contact lens fitting",
+    durationMinutes: 45,
+    fee: "CL-FIT",
+    recallMonths: null,
+    routineExam: false,
+    performerRoles: ["owner", "optometrist"],
+  },
+  {
+    name: "Spectacle collection",
+    durationMinutes: 15,
+    fee: null,
+    recallMonths: null,
+    routineExam: false,
+    performerRoles: ["owner", "optometrist", "receptionist"],
+  },
 ] as const;
 
 export const DEMO_SCHEDULE_PATIENTS = [
-  { firstName: "Osric", lastName: "Pellinore", dateOfBirth: "1962-11-03", sex: "male" as const, email: "osric.pellinore@dioptra-demo.test", phone: "07700 900 418" },
-  { firstName: "Marisol", lastName: "Quenby", dateOfBirth: "1988-02-29", sex: "female" as const, email: "marisol.quenby@dioptra-demo.test", phone: "07700 900 527" },
-  { firstName: "Tamsin", lastName: "Hollowell", dateOfBirth: "2016-07-21", sex: "female" as const, email: "hollowell.family@dioptra-demo.test", phone: "07700 900 633" },
-  { firstName: "Emeric", lastName: "Vantongeren", dateOfBirth: "1975-09-12", sex: "male" as const, email: "emeric.v@dioptra-demo.test", phone: "07700 900 741", remindersByEmail: false, recallsByEmail: false },
-  { firstName: "Ngozi", lastName: "Farrowdale", dateOfBirth: "1993-05-06", sex: "female" as const, email: "ngozi.farrowdale@dioptra-demo.test", phone: "07700 900 852" },
-  { firstName: "Caspian", lastName: "Thornbury", dateOfBirth: "2012-01-30", sex: "male" as const, email: null, phone: "07700 900 963" },
+  {
+    firstName: "Osric",
+    lastName: "Pellinore",
+    dateOfBirth: "1962-11-03",
+    sex: "male" as const,
+    email: "osric.pellinore@dioptra-demo.test",
+    phone: "07700 900 418",
+  },
+  {
+    firstName: "Marisol",
+    lastName: "Quenby",
+    dateOfBirth: "1988-02-29",
+    sex: "female" as const,
+    email: "marisol.quenby@dioptra-demo.test",
+    phone: "07700 900 527",
+  },
+  {
+    firstName: "Tamsin",
+    lastName: "Hollowell",
+    dateOfBirth: "2016-07-21",
+    sex: "female" as const,
+    email: "hollowell.family@dioptra-demo.test",
+    phone: "07700 900 633",
+  },
+  {
+    firstName: "Emeric",
+    lastName: "Vantongeren",
+    dateOfBirth: "1975-09-12",
+    sex: "male" as const,
+    email: "emeric.v@dioptra-demo.test",
+    phone: "07700 900 741",
+    remindersByEmail: false,
+    recallsByEmail: false,
+  },
+  {
+    firstName: "Ngozi",
+    lastName: "Farrowdale",
+    dateOfBirth: "1993-05-06",
+    sex: "female" as const,
+    email: "ngozi.farrowdale@dioptra-demo.test",
+    phone: "07700 900 852",
+  },
+  {
+    firstName: "Caspian",
+    lastName: "Thornbury",
+    dateOfBirth: "2012-01-30",
+    sex: "male" as const,
+    email: null,
+    phone: "07700 900 963",
+  },
 ];
 
 const SEED_NOTE = "demo diary";
 
 export async function seedSchedule(tx: Tx) {
-  const [settings] = await tx.select({ timeZone: practiceSettings.timeZone }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const [settings] = await tx
+    .select({ timeZone: practiceSettings.timeZone })
+    .from(practiceSettings)
+    .where(eq(practiceSettings.id, 1));
   const timeZone = settings?.timeZone ?? "Europe/London";
 
   // Appointment types, linked to the demo fee schedule by code.
@@ -54,40 +148,103 @@ export async function seedSchedule(tx: Tx) {
   // Working hours: Monday to Friday 09:00–17:30 with lunch 13:00–14:00; the optometrist also
   // Saturday mornings. The owner is in Room 1, the optometrist in Room 2, except on Thursdays when
   // the optometrist works at the part-time Hillcrest Parade site.
-  const providers = await tx.select({ id: users.id, role: users.role, email: users.email }).from(users).where(inArray(users.role, ["owner", "optometrist"]));
+  const providers = await tx
+    .select({ id: users.id, role: users.role, email: users.email })
+    .from(users)
+    .where(inArray(users.role, ["owner", "optometrist"]));
   const allSites = await tx.select().from(sites);
   const allRooms = await tx.select().from(rooms);
   const main = allSites.find((s) => s.isDefault)!;
   const second = allSites.find((s) => !s.isDefault);
-  const room = (siteId: string, name: string) => allRooms.find((r) => r.siteId === siteId && r.name === name)?.id ?? null;
+  const room = (siteId: string, name: string) =>
+    allRooms.find((r) => r.siteId === siteId && r.name === name)?.id ?? null;
   for (const p of providers) {
-    const [has] = await tx.select({ id: workingHours.id }).from(workingHours).where(eq(workingHours.providerId, p.id)).limit(1);
+    const [has] = await tx
+      .select({ id: workingHours.id })
+      .from(workingHours)
+      .where(eq(workingHours.providerId, p.id))
+      .limit(1);
     if (has) continue;
     const days = p.role === "optometrist" ? [1, 2, 3, 4, 5, 6] : [1, 2, 3, 4, 5];
     const where = (weekday: number) =>
-      p.role === "optometrist" && weekday === 4 && second ? { siteId: second.id, roomId: room(second.id, "Consulting room") } : { siteId: main.id, roomId: room(main.id, p.role === "owner" ? "Room 1" : "Room 2") };
-    await tx.insert(workingHours).values(days.map((weekday) => ({ providerId: p.id, weekday, startMinute: 9 * 60, endMinute: weekday === 6 ? 13 * 60 : 17 * 60 + 30, ...where(weekday) })));
-    await tx.insert(providerBreaks).values(days.filter((d) => d <= 5).map((weekday) => ({ providerId: p.id, weekday, startMinute: 13 * 60, endMinute: 14 * 60, label: "Lunch", siteId: where(weekday).siteId })));
+      p.role === "optometrist" && weekday === 4 && second
+        ? { siteId: second.id, roomId: room(second.id, "Consulting room") }
+        : { siteId: main.id, roomId: room(main.id, p.role === "owner" ? "Room 1" : "Room 2") };
+    await tx
+      .insert(workingHours)
+      .values(
+        days.map((weekday) => ({
+          providerId: p.id,
+          weekday,
+          startMinute: 9 * 60,
+          endMinute: weekday === 6 ? 13 * 60 : 17 * 60 + 30,
+          ...where(weekday),
+        })),
+      );
+    await tx
+      .insert(providerBreaks)
+      .values(
+        days
+          .filter((d) => d <= 5)
+          .map((weekday) => ({
+            providerId: p.id,
+            weekday,
+            startMinute: 13 * 60,
+            endMinute: 14 * 60,
+            label: "Lunch",
+            siteId: where(weekday).siteId,
+          })),
+      );
   }
 
   // More fictional patients.
   const ids: string[] = [];
   for (const p of DEMO_SCHEDULE_PATIENTS) {
-    let [row] = await tx.select({ id: patients.id }).from(patients).where(and(eq(patients.firstName, p.firstName), eq(patients.lastName, p.lastName), eq(patients.dateOfBirth, p.dateOfBirth))).limit(1);
-    if (!row) [row] = await tx.insert(patients).values({ ...p, city: "Brackenford" }).returning({ id: patients.id });
+    let [row] = await tx
+      .select({ id: patients.id })
+      .from(patients)
+      .where(
+        and(
+          eq(patients.firstName, p.firstName),
+          eq(patients.lastName, p.lastName),
+          eq(patients.dateOfBirth, p.dateOfBirth),
+        ),
+      )
+      .limit(1);
+    if (!row)
+      [row] = await tx
+        .insert(patients)
+        .values({ ...p, city: "Brackenford" })
+        .returning({ id: patients.id });
     ids.push(row!.id);
   }
 
-  const [{ n: seeded } = { n: 0 }] = await tx.select({ n: sql<number>`count(*)::int` }).from(appointments).where(eq(appointments.notes, SEED_NOTE));
+  const [{ n: seeded } = { n: 0 }] = await tx
+    .select({ n: sql<number>`count(*)::int` })
+    .from(appointments)
+    .where(eq(appointments.notes, SEED_NOTE));
   const optometrist = providers.find((p) => p.role === "optometrist");
   const owner = providers.find((p) => p.role === "owner");
   if (seeded > 0 || !optometrist || !owner) return;
-  const types = await tx.select({ id: appointmentTypes.id, name: appointmentTypes.name, durationMinutes: appointmentTypes.durationMinutes }).from(appointmentTypes);
+  const types = await tx
+    .select({ id: appointmentTypes.id, name: appointmentTypes.name, durationMinutes: appointmentTypes.durationMinutes })
+    .from(appointmentTypes);
   const type = (name: string) => types.find((t) => t.name === name)!;
-  const [demoPatient] = await tx.select({ id: patients.id }).from(patients).where(eq(patients.email, "patient@dioptra-demo.test")).limit(1);
+  const [demoPatient] = await tx
+    .select({ id: patients.id })
+    .from(patients)
+    .where(eq(patients.email, "patient@dioptra-demo.test"))
+    .limit(1);
   const today = localParts(new Date(), timeZone).date;
 
-  type Plan = { patientId: string; providerId: string; typeName: string; date: string; minute: number; status: "completed" | "booked" | "confirmed" };
+  type Plan = {
+    patientId: string;
+    providerId: string;
+    typeName: string;
+    date: string;
+    minute: number;
+    status: "completed" | "booked" | "confirmed";
+  };
   const plans: Plan[] = [];
   // Past routine exams, so that some patients are due (or overdue) for recall now.
   const past = (months: number, minute: number) => addMonths(today, -months) + "|" + minute;
@@ -101,11 +258,25 @@ export async function seedSchedule(tx: Tx) {
   ];
   pastVisits.forEach(([i, typeName, months, who], k) => {
     const [date, minute] = past(months, 9 * 60 + 30 * k).split("|");
-    plans.push({ patientId: ids[i]!, providerId: who === "owner" ? owner.id : optometrist.id, typeName, date: date!, minute: Number(minute), status: "completed" });
+    plans.push({
+      patientId: ids[i]!,
+      providerId: who === "owner" ? owner.id : optometrist.id,
+      typeName,
+      date: date!,
+      minute: Number(minute),
+      status: "completed",
+    });
   });
   if (demoPatient) {
     const [date] = past(23, 0).split("|");
-    plans.push({ patientId: demoPatient.id, providerId: optometrist.id, typeName: "Comprehensive eye exam", date: date!, minute: 11 * 60, status: "completed" });
+    plans.push({
+      patientId: demoPatient.id,
+      providerId: optometrist.id,
+      typeName: "Comprehensive eye exam",
+      date: date!,
+      minute: 11 * 60,
+      status: "completed",
+    });
   }
   // This week's diary: the next working days.
   let day = today;
@@ -130,7 +301,18 @@ export async function seedSchedule(tx: Tx) {
     const day = hours.find((h) => h.providerId === p.providerId && h.weekday === localParts(start, timeZone).weekday);
     const [row] = await tx
       .insert(appointments)
-      .values({ patientId: p.patientId, providerId: p.providerId, appointmentTypeId: t.id, siteId: day?.siteId, roomId: day?.roomId ?? null, startsAt: start, endsAt: new Date(start.getTime() + t.durationMinutes * 60_000), status: p.status, notes: SEED_NOTE, statusChangedAt: start })
+      .values({
+        patientId: p.patientId,
+        providerId: p.providerId,
+        appointmentTypeId: t.id,
+        siteId: day?.siteId,
+        roomId: day?.roomId ?? null,
+        startsAt: start,
+        endsAt: new Date(start.getTime() + t.durationMinutes * 60_000),
+        status: p.status,
+        notes: SEED_NOTE,
+        statusChangedAt: start,
+      })
       .returning({ id: appointments.id });
     await tx.insert(appointmentStatusChanges).values({ appointmentId: row!.id, toStatus: p.status, changedAt: start });
   }

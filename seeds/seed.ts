@@ -21,20 +21,33 @@ export async function seed(url = databaseUrl()) {
   const db = drizzle(pool, { schema, casing: "snake_case" });
   try {
     await db.transaction(async (tx) => {
-      await tx.insert(practiceSettings).values({ id: 1, ...DEMO_PRACTICE }).onConflictDoNothing();
+      await tx
+        .insert(practiceSettings)
+        .values({ id: 1, ...DEMO_PRACTICE })
+        .onConflictDoNothing();
       await seedSites(tx);
       await seedBilling(tx);
 
       let [patient] = await tx
         .select({ id: patients.id })
         .from(patients)
-        .where(and(eq(patients.lastName, DEMO_PATIENT.lastName), eq(patients.firstName, DEMO_PATIENT.firstName), eq(patients.dateOfBirth, DEMO_PATIENT.dateOfBirth)))
+        .where(
+          and(
+            eq(patients.lastName, DEMO_PATIENT.lastName),
+            eq(patients.firstName, DEMO_PATIENT.firstName),
+            eq(patients.dateOfBirth, DEMO_PATIENT.dateOfBirth),
+          ),
+        )
         .limit(1);
       if (!patient) [patient] = await tx.insert(patients).values(DEMO_PATIENT).returning({ id: patients.id });
 
       const passwordHash = await bcrypt.hash(DEMO_PASSWORD, 10);
       for (const u of DEMO_USERS) {
-        const [existing] = await tx.select({ id: users.id }).from(users).where(sql`lower(${users.email}) = ${u.email}`).limit(1);
+        const [existing] = await tx
+          .select({ id: users.id })
+          .from(users)
+          .where(sql`lower(${users.email}) = ${u.email}`)
+          .limit(1);
         if (existing) continue;
         await tx.insert(users).values({ ...u, passwordHash, patientId: u.role === "patient" ? patient!.id : null });
       }

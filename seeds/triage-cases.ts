@@ -6,13 +6,56 @@
 
 type EyeOrBoth = "right" | "left" | "both";
 export type TriageFindings = {
-  redFlags?: Partial<Record<"flashes" | "newFloaters" | "curtain" | "suddenLoss" | "severePain" | "redEye" | "distortion", EyeOrBoth>> & { newDiplopia?: boolean; gcaSymptoms?: boolean; headache?: boolean; notes?: string };
+  redFlags?: Partial<
+    Record<"flashes" | "newFloaters" | "curtain" | "suddenLoss" | "severePain" | "redEye" | "distortion", EyeOrBoth>
+  > & { newDiplopia?: boolean; gcaSymptoms?: boolean; headache?: boolean; notes?: string };
   pupils?: Partial<Record<"right" | "left", { equalReactive?: boolean; rapd?: boolean; larger?: boolean }>>;
-  ac?: Partial<Record<"right" | "left", { vanHerick?: number; cells?: "none" | "trace" | "1+" | "2+" | "3+" | "4+"; hyphaema?: boolean; hypopyon?: boolean; notes?: string }>>;
-  disc?: Partial<Record<"right" | "left", { verticalCd?: number; margins?: "distinct" | "blurred"; swelling?: boolean; haemorrhage?: boolean; notes?: string }>>;
-  fundus?: Partial<Record<"right" | "left", { vitreousDetachment?: boolean; vitreousPigment?: boolean; retinalBreak?: boolean; retinalDetachment?: boolean; drusen?: boolean; suspectedWetAmd?: boolean; maculaNotes?: string; peripheryNotes?: string }>>;
+  ac?: Partial<
+    Record<
+      "right" | "left",
+      {
+        vanHerick?: number;
+        cells?: "none" | "trace" | "1+" | "2+" | "3+" | "4+";
+        hyphaema?: boolean;
+        hypopyon?: boolean;
+        notes?: string;
+      }
+    >
+  >;
+  disc?: Partial<
+    Record<
+      "right" | "left",
+      {
+        verticalCd?: number;
+        margins?: "distinct" | "blurred";
+        swelling?: boolean;
+        haemorrhage?: boolean;
+        notes?: string;
+      }
+    >
+  >;
+  fundus?: Partial<
+    Record<
+      "right" | "left",
+      {
+        vitreousDetachment?: boolean;
+        vitreousPigment?: boolean;
+        retinalBreak?: boolean;
+        retinalDetachment?: boolean;
+        drusen?: boolean;
+        suspectedWetAmd?: boolean;
+        maculaNotes?: string;
+        peripheryNotes?: string;
+      }
+    >
+  >;
   /** Readings per eye and their method; replaces the single non-contact reading. */
-  iop?: Partial<Record<"right" | "left", { readings: number[]; method: "goldmann" | "non_contact" | "rebound" | "handheld_applanation" }>>;
+  iop?: Partial<
+    Record<
+      "right" | "left",
+      { readings: number[]; method: "goldmann" | "non_contact" | "rebound" | "handheld_applanation" }
+    >
+  >;
   cct?: Partial<Record<"right" | "left", number>>;
   dilated?: boolean;
   /** Best-corrected distance acuity, logMAR, per eye. */
@@ -61,7 +104,15 @@ export const TRIAGE_CASES: TriageCase[] = [
       pupils: normalPupils,
       ac: quietAc,
       dilated: true,
-      fundus: { left: { vitreousDetachment: true, vitreousPigment: true, retinalBreak: true, peripheryNotes: "Horseshoe tear superotemporal, about 1 o'clock" }, right: {} },
+      fundus: {
+        left: {
+          vitreousDetachment: true,
+          vitreousPigment: true,
+          retinalBreak: true,
+          peripheryNotes: "Horseshoe tear superotemporal, about 1 o'clock",
+        },
+        right: {},
+      },
       disc: { right: { verticalCd: 0.3, margins: "distinct" }, left: { verticalCd: 0.3, margins: "distinct" } },
       diagnoses: [
         { code: "H33.3", eye: "left" },
@@ -84,7 +135,9 @@ export const TRIAGE_CASES: TriageCase[] = [
       redFlags: { curtain: "right", flashes: "right" },
       pupils: normalPupils,
       dilated: true,
-      fundus: { right: { retinalDetachment: true, retinalBreak: true, peripheryNotes: "Inferior detachment, macula on" } },
+      fundus: {
+        right: { retinalDetachment: true, retinalBreak: true, peripheryNotes: "Inferior detachment, macula on" },
+      },
       diagnoses: [{ code: "H33.0", eye: "right" }],
     },
   },
@@ -97,7 +150,11 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Curtain over the left eye's vision this morning",
     symptoms: "A curtain over the upper half of the left eye's vision; small pupil, view of the periphery limited",
     daysAgo: 4,
-    findings: { redFlags: { curtain: "left" }, pupils: normalPupils, fundus: { left: { peripheryNotes: "View limited by cataract; no detachment seen centrally" } } },
+    findings: {
+      redFlags: { curtain: "left" },
+      pupils: normalPupils,
+      fundus: { left: { peripheryNotes: "View limited by cataract; no detachment seen centrally" } },
+    },
   },
   {
     first: "Cassius",
@@ -108,7 +165,14 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Routine exam",
     symptoms: "None",
     daysAgo: 6,
-    findings: { pupils: normalPupils, dilated: true, fundus: { right: { retinalBreak: true, peripheryNotes: "Small atrophic round hole inferotemporal, no subretinal fluid" } }, diagnoses: [{ code: "H33.3", eye: "right" }] },
+    findings: {
+      pupils: normalPupils,
+      dilated: true,
+      fundus: {
+        right: { retinalBreak: true, peripheryNotes: "Small atrophic round hole inferotemporal, no subretinal fluid" },
+      },
+      diagnoses: [{ code: "H33.3", eye: "right" }],
+    },
   },
   {
     first: "Philippa",
@@ -119,7 +183,11 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "New floater, right eye",
     symptoms: "A cobweb floater in the right eye for three days; no flashes",
     daysAgo: 5,
-    findings: { redFlags: { newFloaters: "right" }, pupils: normalPupils, fundus: { right: { vitreousDetachment: true, peripheryNotes: "Undilated view; periphery not seen" } } },
+    findings: {
+      redFlags: { newFloaters: "right" },
+      pupils: normalPupils,
+      fundus: { right: { vitreousDetachment: true, peripheryNotes: "Undilated view; periphery not seen" } },
+    },
   },
   {
     first: "Ambrose",
@@ -130,7 +198,11 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Left eye went dim this morning",
     symptoms: "Painless sudden loss of vision in the left eye on waking",
     daysAgo: 1,
-    findings: { redFlags: { suddenLoss: "left" }, pupils: { right: {}, left: { rapd: true } }, bestVa: { right: 0.1, left: 1.3 } },
+    findings: {
+      redFlags: { suddenLoss: "left" },
+      pupils: { right: {}, left: { rapd: true } },
+      bestVa: { right: 0.1, left: 1.3 },
+    },
   },
   {
     first: "Henrietta",
@@ -141,7 +213,11 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Headache and blurred vision",
     symptoms: "New right-sided headache for a week, tender scalp when brushing hair, jaw aches when chewing",
     daysAgo: 2,
-    findings: { redFlags: { gcaSymptoms: true, notes: "Scalp tenderness and jaw pain on chewing; feels unwell" }, pupils: normalPupils, disc: { right: { verticalCd: 0.3, margins: "distinct" }, left: { verticalCd: 0.3, margins: "distinct" } } },
+    findings: {
+      redFlags: { gcaSymptoms: true, notes: "Scalp tenderness and jaw pain on chewing; feels unwell" },
+      pupils: normalPupils,
+      disc: { right: { verticalCd: 0.3, margins: "distinct" }, left: { verticalCd: 0.3, margins: "distinct" } },
+    },
   },
   {
     first: "Tobias",
@@ -152,7 +228,14 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Painful red right eye, light hurts",
     symptoms: "Aching right eye for two days, photophobia, blurred",
     daysAgo: 1,
-    findings: { redFlags: { severePain: "right", redEye: "right" }, ac: { right: { vanHerick: 3, cells: "2+", notes: "Flare 1+, ciliary injection" }, left: { vanHerick: 3, cells: "none" } }, pupils: { right: { equalReactive: false }, left: { equalReactive: true } } },
+    findings: {
+      redFlags: { severePain: "right", redEye: "right" },
+      ac: {
+        right: { vanHerick: 3, cells: "2+", notes: "Flare 1+, ciliary injection" },
+        left: { vanHerick: 3, cells: "none" },
+      },
+      pupils: { right: { equalReactive: false }, left: { equalReactive: true } },
+    },
   },
   {
     first: "Solveig",
@@ -163,7 +246,10 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Hit in the right eye by a squash ball",
     symptoms: "Blurred right eye since a squash ball struck it an hour ago",
     daysAgo: 8,
-    findings: { redFlags: { redEye: "right" }, ac: { right: { vanHerick: 3, cells: "1+", hyphaema: true, notes: "1 mm layered hyphaema" } } },
+    findings: {
+      redFlags: { redEye: "right" },
+      ac: { right: { vanHerick: 3, cells: "1+", hyphaema: true, notes: "1 mm layered hyphaema" } },
+    },
   },
   {
     first: "Evander",
@@ -174,7 +260,12 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Contact-lens wearer with a painful red left eye",
     symptoms: "Slept in monthly lenses; left eye painful and sticky",
     daysAgo: 2,
-    findings: { redFlags: { severePain: "left", redEye: "left" }, ac: { left: { vanHerick: 3, cells: "3+", hypopyon: true, notes: "Central corneal infiltrate with overlying defect" } } },
+    findings: {
+      redFlags: { severePain: "left", redEye: "left" },
+      ac: {
+        left: { vanHerick: 3, cells: "3+", hypopyon: true, notes: "Central corneal infiltrate with overlying defect" },
+      },
+    },
   },
   {
     first: "Delphine",
@@ -185,7 +276,14 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Severe ache round the left eye with haloes",
     symptoms: "Haloes round lights and an ache round the left eye since last night, nausea",
     daysAgo: 1,
-    findings: { redFlags: { severePain: "left", redEye: "left" }, ac: { right: { vanHerick: 1 }, left: { vanHerick: 0, cells: "trace", notes: "Corneal oedema; mid-dilated pupil" } }, iop: { right: { readings: [18], method: "goldmann" }, left: { readings: [54, 56], method: "goldmann" } } },
+    findings: {
+      redFlags: { severePain: "left", redEye: "left" },
+      ac: {
+        right: { vanHerick: 1 },
+        left: { vanHerick: 0, cells: "trace", notes: "Corneal oedema; mid-dilated pupil" },
+      },
+      iop: { right: { readings: [18], method: "goldmann" }, left: { readings: [54, 56], method: "goldmann" } },
+    },
   },
   {
     first: "Magnus",
@@ -196,7 +294,12 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Routine exam",
     symptoms: "None",
     daysAgo: 9,
-    findings: { pupils: normalPupils, ac: quietAc, iop: { right: { readings: [17], method: "non_contact" }, left: { readings: [44, 42], method: "non_contact" } }, disc: { right: { verticalCd: 0.4, margins: "distinct" }, left: { verticalCd: 0.6, margins: "distinct" } } },
+    findings: {
+      pupils: normalPupils,
+      ac: quietAc,
+      iop: { right: { readings: [17], method: "non_contact" }, left: { readings: [44, 42], method: "non_contact" } },
+      disc: { right: { verticalCd: 0.4, margins: "distinct" }, left: { verticalCd: 0.6, margins: "distinct" } },
+    },
   },
   {
     first: "Rupert",
@@ -207,7 +310,14 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Routine exam",
     symptoms: "None",
     daysAgo: 10,
-    findings: { pupils: normalPupils, ac: quietAc, iop: { right: { readings: [37, 38], method: "goldmann" }, left: { readings: [21, 22], method: "goldmann" } }, cct: { right: 545, left: 550 }, disc: { right: { verticalCd: 0.55, margins: "distinct" }, left: { verticalCd: 0.45, margins: "distinct" } }, diagnoses: [{ code: "H40.0", eye: "right" }] },
+    findings: {
+      pupils: normalPupils,
+      ac: quietAc,
+      iop: { right: { readings: [37, 38], method: "goldmann" }, left: { readings: [21, 22], method: "goldmann" } },
+      cct: { right: 545, left: 550 },
+      disc: { right: { verticalCd: 0.55, margins: "distinct" }, left: { verticalCd: 0.45, margins: "distinct" } },
+      diagnoses: [{ code: "H40.0", eye: "right" }],
+    },
   },
   {
     first: "Gwendolyn",
@@ -223,7 +333,10 @@ export const TRIAGE_CASES: TriageCase[] = [
       ac: quietAc,
       iop: { right: { readings: [26, 25], method: "goldmann" }, left: { readings: [19, 20], method: "goldmann" } },
       cct: { right: 520, left: 525 },
-      disc: { right: { verticalCd: 0.7, margins: "distinct", notes: "Inferior rim thinning" }, left: { verticalCd: 0.4, margins: "distinct" } },
+      disc: {
+        right: { verticalCd: 0.7, margins: "distinct", notes: "Inferior rim thinning" },
+        left: { verticalCd: 0.4, margins: "distinct" },
+      },
       diagnoses: [{ code: "H40.0", eye: "right" }],
     },
   },
@@ -236,7 +349,14 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Headaches worse lying down",
     symptoms: "Headaches on waking for a month, brief greying of vision on standing",
     daysAgo: 3,
-    findings: { pupils: normalPupils, disc: { right: { verticalCd: 0.1, margins: "blurred", swelling: true }, left: { verticalCd: 0.1, margins: "blurred", swelling: true } }, diagnoses: [{ code: "H47.1", eye: "both" }] },
+    findings: {
+      pupils: normalPupils,
+      disc: {
+        right: { verticalCd: 0.1, margins: "blurred", swelling: true },
+        left: { verticalCd: 0.1, margins: "blurred", swelling: true },
+      },
+      diagnoses: [{ code: "H47.1", eye: "both" }],
+    },
   },
   {
     first: "Marisol",
@@ -248,7 +368,14 @@ export const TRIAGE_CASES: TriageCase[] = [
     symptoms: "Headaches on waking and when bending, whooshing in the ears",
     daysAgo: 2,
     blindSpot: { w: 10.5, h: 12.5 },
-    findings: { redFlags: { headache: true, notes: "Headache worse on waking and on bending; no vomiting" }, pupils: normalPupils, disc: { right: { verticalCd: 0.2, margins: "distinct", notes: "Small crowded discs; view limited without dilation" }, left: { verticalCd: 0.2, margins: "distinct" } } },
+    findings: {
+      redFlags: { headache: true, notes: "Headache worse on waking and on bending; no vomiting" },
+      pupils: normalPupils,
+      disc: {
+        right: { verticalCd: 0.2, margins: "distinct", notes: "Small crowded discs; view limited without dilation" },
+        left: { verticalCd: 0.2, margins: "distinct" },
+      },
+    },
   },
   {
     first: "Isadora",
@@ -259,7 +386,11 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Right eye colours look washed out",
     symptoms: "Right eye dimmer for four days, aches when looking around",
     daysAgo: 4,
-    findings: { pupils: { right: { rapd: true }, left: { equalReactive: false } }, disc: { right: { verticalCd: 0.2, margins: "distinct" }, left: { verticalCd: 0.2, margins: "distinct" } }, bestVa: { right: 0.5, left: 0 } },
+    findings: {
+      pupils: { right: { rapd: true }, left: { equalReactive: false } },
+      disc: { right: { verticalCd: 0.2, margins: "distinct" }, left: { verticalCd: 0.2, margins: "distinct" } },
+      bestVa: { right: 0.5, left: 0 },
+    },
   },
   {
     first: "Barnaby",
@@ -270,7 +401,19 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Routine exam",
     symptoms: "None",
     daysAgo: 14,
-    findings: { pupils: normalPupils, iop: { right: { readings: [18], method: "goldmann" }, left: { readings: [19], method: "goldmann" } }, disc: { right: { verticalCd: 0.5, margins: "distinct" }, left: { verticalCd: 0.55, margins: "distinct", haemorrhage: true, notes: "Splinter haemorrhage inferotemporal rim" } } },
+    findings: {
+      pupils: normalPupils,
+      iop: { right: { readings: [18], method: "goldmann" }, left: { readings: [19], method: "goldmann" } },
+      disc: {
+        right: { verticalCd: 0.5, margins: "distinct" },
+        left: {
+          verticalCd: 0.55,
+          margins: "distinct",
+          haemorrhage: true,
+          notes: "Splinter haemorrhage inferotemporal rim",
+        },
+      },
+    },
   },
   {
     first: "Winifred",
@@ -281,7 +424,20 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Door frames look bent in the right eye",
     symptoms: "Wavy lines in the right eye for a week",
     daysAgo: 3,
-    findings: { redFlags: { distortion: "right" }, dilated: true, fundus: { right: { drusen: true, suspectedWetAmd: true, maculaNotes: "Subretinal haemorrhage at the fovea with soft drusen" }, left: { drusen: true } }, bestVa: { right: 0.5, left: 0.1 }, diagnoses: [{ code: "H35.3", eye: "both" }] },
+    findings: {
+      redFlags: { distortion: "right" },
+      dilated: true,
+      fundus: {
+        right: {
+          drusen: true,
+          suspectedWetAmd: true,
+          maculaNotes: "Subretinal haemorrhage at the fovea with soft drusen",
+        },
+        left: { drusen: true },
+      },
+      bestVa: { right: 0.5, left: 0.1 },
+      diagnoses: [{ code: "H35.3", eye: "both" }],
+    },
   },
   {
     first: "Lysander",
@@ -292,7 +448,10 @@ export const TRIAGE_CASES: TriageCase[] = [
     reason: "Reading line breaks up in the left eye",
     symptoms: "Letters in one spot of the left eye look bent since last week",
     daysAgo: 5,
-    findings: { redFlags: { distortion: "left" }, fundus: { left: { drusen: true, maculaNotes: "Drusen; no haemorrhage seen undilated" } } },
+    findings: {
+      redFlags: { distortion: "left" },
+      fundus: { left: { drusen: true, maculaNotes: "Drusen; no haemorrhage seen undilated" } },
+    },
   },
   {
     first: "Clementine",
@@ -304,7 +463,12 @@ export const TRIAGE_CASES: TriageCase[] = [
     symptoms: "Gradual blur in the right eye over months; glare at night",
     daysAgo: 15,
     previousBestVa: { right: 0, left: 0 },
-    findings: { pupils: normalPupils, bestVa: { right: 0.3, left: 0 }, fundus: { right: { maculaNotes: "Flat; view hazy through lens opacity" } }, diagnoses: [{ code: "H25.9", eye: "right" }] },
+    findings: {
+      pupils: normalPupils,
+      bestVa: { right: 0.3, left: 0 },
+      fundus: { right: { maculaNotes: "Flat; view hazy through lens opacity" } },
+      diagnoses: [{ code: "H25.9", eye: "right" }],
+    },
   },
   {
     first: "Hamish",
@@ -332,9 +496,30 @@ export const TRIAGE_CASES: TriageCase[] = [
 
 /** A fictional GP practice per patient, chosen by position. */
 export const DEMO_GPS = [
-  { gpName: "Dr Ottilie Bramhall", gpPractice: "Brackenford Health Centre", gpAddress: "2 Weir Street, Brackenford BF1 2AA", gpPhone: "01632 960 100" },
-  { gpName: "Dr Kwame Hetherington", gpPractice: "Upper Holloway Surgery", gpAddress: "61 Quarry Hill, Brackenford BF2 5HS", gpPhone: "01632 960 155" },
-  { gpName: "Dr Saoirse Lindqvist", gpPractice: "Millbrook Medical Practice", gpAddress: "Millbrook Lane, Hollins Vale HV4 2MP", gpPhone: "01632 960 190" },
+  {
+    gpName: "Dr Ottilie Bramhall",
+    gpPractice: "Brackenford Health Centre",
+    gpAddress: "2 Weir Street, Brackenford BF1 2AA",
+    gpPhone: "01632 960 100",
+  },
+  {
+    gpName: "Dr Kwame Hetherington",
+    gpPractice: "Upper Holloway Surgery",
+    gpAddress: "61 Quarry Hill, Brackenford BF2 5HS",
+    gpPhone: "01632 960 155",
+  },
+  {
+    gpName: "Dr Saoirse Lindqvist",
+    gpPractice: "Millbrook Medical Practice",
+    gpAddress: "Millbrook Lane, Hollins Vale HV4 2MP",
+    gpPhone: "01632 960 190",
+  },
 ];
 
-export const VA_TEXT: Record<string, string> = { "0": "6/6", "0.1": "6/7.5", "0.3": "6/12", "0.5": "6/19", "1.3": "3/60" };
+export const VA_TEXT: Record<string, string> = {
+  "0": "6/6",
+  "0.1": "6/7.5",
+  "0.3": "6/12",
+  "0.5": "6/19",
+  "1.3": "3/60",
+};

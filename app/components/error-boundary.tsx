@@ -23,7 +23,10 @@ export function GeneralErrorBoundary() {
       text = detail ?? "Your role does not give access to this page. Ask the practice owner if you need it.";
     } else if (status === 404) {
       title = "Page not found";
-      text = detail && detail !== "Not found." ? detail : "There is nothing at this address. It may have been moved, or the link may be mistyped.";
+      text =
+        detail && detail !== "Not found."
+          ? detail
+          : "There is nothing at this address. It may have been moved, or the link may be mistyped.";
     } else if (status === 401) {
       title = "Please sign in";
       text = detail ?? "Your session has ended.";

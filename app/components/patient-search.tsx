@@ -3,7 +3,14 @@ import { useFetcher, useNavigate } from "react-router";
 import { formatDate } from "~/models/patients/patient-schema";
 import { Icon } from "./ui/icon";
 
-type Hit = { id: string; firstName: string; lastName: string; dateOfBirth: string; phone: string | null; email: string | null };
+type Hit = {
+  id: string;
+  firstName: string;
+  lastName: string;
+  dateOfBirth: string;
+  phone: string | null;
+  email: string | null;
+};
 
 /**
  * Find a patient as you type: a debounced fetcher to /api/patients, results as an ARIA combobox
@@ -22,7 +29,12 @@ export function PatientSearch({ autoFocus = false }: { autoFocus?: boolean }) {
   const listId = `${id}-list`;
   const results = value.trim() ? (fetcher.data?.results ?? []) : [];
 
-  useEffect(() => () => { if (timer.current) clearTimeout(timer.current); }, []);
+  useEffect(
+    () => () => {
+      if (timer.current) clearTimeout(timer.current);
+    },
+    [],
+  );
 
   function onChange(next: string) {
     setValue(next);
@@ -55,7 +67,14 @@ export function PatientSearch({ autoFocus = false }: { autoFocus?: boolean }) {
 
   const searching = fetcher.state !== "idle";
   const showList = open && value.trim().length > 0 && results.length > 0;
-  const status = !open || !value.trim() ? "" : searching ? "Searching…" : results.length ? `${results.length} ${results.length === 1 ? "patient" : "patients"} found` : "No patient matches.";
+  const status =
+    !open || !value.trim()
+      ? ""
+      : searching
+        ? "Searching…"
+        : results.length
+          ? `${results.length} ${results.length === 1 ? "patient" : "patients"} found`
+          : "No patient matches.";
   // The ARIA 1.2 combobox pattern with a list popup: a text input with role=combobox controls
   // a listbox that is always in the page (hidden while closed), and points at the active option.
   return (
@@ -84,9 +103,16 @@ export function PatientSearch({ autoFocus = false }: { autoFocus?: boolean }) {
         className="block w-full rounded-md border border-line bg-white px-3 py-2 text-base text-ink placeholder:text-muted/70 focus:border-accent-600"
       />
       <p id={`${id}-hint`} className="mt-1 text-sm text-muted">
-        Any part of the name, phone or e-mail, or a date of birth such as 17/04/1979. Arrow keys choose, Enter opens the chart.
+        Any part of the name, phone or e-mail, or a date of birth such as 17/04/1979. Arrow keys choose, Enter opens the
+        chart.
       </p>
-      <ul id={listId} role="listbox" aria-label="Matching patients" hidden={!showList} className="absolute z-20 mt-1 max-h-96 w-full overflow-auto rounded-md border border-line bg-white py-1 shadow-lg">
+      <ul
+        id={listId}
+        role="listbox"
+        aria-label="Matching patients"
+        hidden={!showList}
+        className="absolute z-20 mt-1 max-h-96 w-full overflow-auto rounded-md border border-line bg-white py-1 shadow-lg"
+      >
         {results.map((hit, i) => (
           <li
             key={hit.id}

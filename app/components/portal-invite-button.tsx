@@ -14,7 +14,10 @@ export function PortalInviteButton({ patientId }: { patientId: string }) {
         Invite to the patient portal
       </Button>
       {reply ? (
-        <p role={reply.error ? "alert" : "status"} className={`max-w-xs text-right text-sm font-semibold ${reply.error ? "text-red-800" : "text-emerald-800"}`}>
+        <p
+          role={reply.error ? "alert" : "status"}
+          className={`max-w-xs text-right text-sm font-semibold ${reply.error ? "text-red-800" : "text-emerald-800"}`}
+        >
           <span aria-hidden="true">{reply.error ? "✕ " : "✓ "}</span>
           {reply.error ?? reply.message}
         </p>

@@ -6,7 +6,17 @@ export type Tab = { to: string; label: string; end?: boolean };
  * The sub-navigation of an area (schedule, billing, settings): one look everywhere. The current
  * page is marked by a pointer and its outline as well as by colour, and announced as current.
  */
-export function TabNav({ label, tabs, orientation = "horizontal", className = "mb-6" }: { label: string; tabs: readonly Tab[]; orientation?: "horizontal" | "vertical"; className?: string }) {
+export function TabNav({
+  label,
+  tabs,
+  orientation = "horizontal",
+  className = "mb-6",
+}: {
+  label: string;
+  tabs: readonly Tab[];
+  orientation?: "horizontal" | "vertical";
+  className?: string;
+}) {
   return (
     <nav aria-label={label} className={className}>
       <ul className={orientation === "vertical" ? "space-y-1" : "flex flex-wrap gap-2 border-b border-line pb-2"}>

@@ -14,7 +14,12 @@ export function ToastViewport({ toast }: { toast: Toast | null }) {
         <Notice tone={visible.kind} title={visible.title}>
           {visible.description}
         </Notice>
-        <button type="button" onClick={() => setVisible(null)} className="absolute top-2 right-2 rounded px-2 text-sm font-semibold" aria-label="Dismiss message">
+        <button
+          type="button"
+          onClick={() => setVisible(null)}
+          className="absolute top-2 right-2 rounded px-2 text-sm font-semibold"
+          aria-label="Dismiss message"
+        >
           ✕
         </button>
       </div>

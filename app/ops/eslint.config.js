@@ -18,7 +18,12 @@ export default tseslint.config(
       // A leading underscore marks a value left unused on purpose (rest siblings, tuple slots).
       "@typescript-eslint/no-unused-vars": [
         "error",
-        { argsIgnorePattern: "^_", varsIgnorePattern: "^_", destructuredArrayIgnorePattern: "^_", ignoreRestSiblings: true },
+        {
+          argsIgnorePattern: "^_",
+          varsIgnorePattern: "^_",
+          destructuredArrayIgnorePattern: "^_",
+          ignoreRestSiblings: true,
+        },
       ],
     },
   },
@@ -40,11 +45,35 @@ export default tseslint.config(
     // Layering: route modules call into app/models (domain), app/utils (infrastructure) and
     // app/components; nothing outside app/routes imports a route module.
     files: ["app/components/**", "app/models/**", "app/utils/**", "app/lib/**", "app/ops/**", "seeds/**"],
-    rules: { "no-restricted-imports": ["error", { patterns: [{ group: ["~/routes/*", "**/routes/*"], message: "Only the router imports route modules; move shared code to app/models or app/components." }] }] },
+    rules: {
+      "no-restricted-imports": [
+        "error",
+        {
+          patterns: [
+            {
+              group: ["~/routes/*", "**/routes/*"],
+              message: "Only the router imports route modules; move shared code to app/models or app/components.",
+            },
+          ],
+        },
+      ],
+    },
   },
   {
     // Domain logic lives in app/models: a route area never imports another area's server module.
     files: ["app/routes/**"],
-    rules: { "no-restricted-imports": ["error", { patterns: [{ group: ["~/routes/**/*.server", "../*/*.server"], message: "Server logic shared between areas belongs in app/models." }] }] },
+    rules: {
+      "no-restricted-imports": [
+        "error",
+        {
+          patterns: [
+            {
+              group: ["~/routes/**/*.server", "../*/*.server"],
+              message: "Server logic shared between areas belongs in app/models.",
+            },
+          ],
+        },
+      ],
+    },
   },
 );

@@ -13,7 +13,10 @@ import { navFor, ROLE_LABEL } from "~/utils/nav";
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireUser(request);
   if (user.role === "patient") throw redirect(homeFor(user.role));
-  const [practice] = await db.select({ name: practiceSettings.name, timeZone: practiceSettings.timeZone }).from(practiceSettings).limit(1);
+  const [practice] = await db
+    .select({ name: practiceSettings.name, timeZone: practiceSettings.timeZone })
+    .from(practiceSettings)
+    .limit(1);
   const [patientCount] = await db.select({ n: count() }).from(patients);
   const [staffCount] = await db.select({ n: count() }).from(users).where(eq(users.active, true));
   return {
@@ -29,7 +32,10 @@ export default function Home({ loaderData }: Route.ComponentProps) {
   const today = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: practice.timeZone }).format(new Date());
   return (
     <>
-      <PageHeader title={`Today at ${practice.name}`} description={`${today} · signed in as ${ROLE_LABEL[user.role].toLowerCase()}`} />
+      <PageHeader
+        title={`Today at ${practice.name}`}
+        description={`${today} · signed in as ${ROLE_LABEL[user.role].toLowerCase()}`}
+      />
       <TodayCard today={diary} />
       <div className="grid gap-4 md:grid-cols-3">
         <Card title="Patients on record">

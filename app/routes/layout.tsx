@@ -10,7 +10,13 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { user: { name: user.name, email: user.email, role: user.role } };
 }
 
-function Shell({ user, children }: { user: { name: string; email: string; role: keyof typeof ROLE_LABEL } | null; children: React.ReactNode }) {
+function Shell({
+  user,
+  children,
+}: {
+  user: { name: string; email: string; role: keyof typeof ROLE_LABEL } | null;
+  children: React.ReactNode;
+}) {
   return (
     <div className="min-h-screen">
       <header className="border-b border-line bg-white">

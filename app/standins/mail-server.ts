@@ -29,7 +29,11 @@ function list(): Stored[] {
     .filter((f) => f.endsWith(".eml"))
     .sort()
     .reverse()
-    .map((f) => ({ id: f.replace(/\.eml$/, ""), receivedAt: new Date(Number(f.split("-")[0])).toISOString(), raw: readFileSync(join(folder, f)) }));
+    .map((f) => ({
+      id: f.replace(/\.eml$/, ""),
+      receivedAt: new Date(Number(f.split("-")[0])).toISOString(),
+      raw: readFileSync(join(folder, f)),
+    }));
 }
 
 const parsedCache = new Map<string, ParsedMail>();
@@ -56,7 +60,12 @@ async function summary(m: Stored) {
     from: p.from?.text ?? "",
     to: addresses(p.to),
     subject: p.subject ?? "",
-    attachments: p.attachments.map((a, index) => ({ index, filename: a.filename ?? `attachment-${index}`, contentType: a.contentType, size: a.size })),
+    attachments: p.attachments.map((a, index) => ({
+      index,
+      filename: a.filename ?? `attachment-${index}`,
+      contentType: a.contentType,
+      size: a.size,
+    })),
   };
 }
 
@@ -104,8 +113,22 @@ const api = createServer(async (req, res) => {
     const p = await parse(found);
     if (parts.length === 2) {
       // Header fields as sent, unfolded, by lower-case name (the last one wins when repeated).
-      const headers = Object.fromEntries(p.headerLines.map((h) => [h.key, h.line.slice(h.line.indexOf(":") + 1).replace(/\r?\n[ \t]+/g, " ").trim()]));
-      return send(200, { ...(await summary(found)), replyTo: p.replyTo?.text ?? "", headers, text: p.text ?? "", html: typeof p.html === "string" ? p.html : "" });
+      const headers = Object.fromEntries(
+        p.headerLines.map((h) => [
+          h.key,
+          h.line
+            .slice(h.line.indexOf(":") + 1)
+            .replace(/\r?\n[ \t]+/g, " ")
+            .trim(),
+        ]),
+      );
+      return send(200, {
+        ...(await summary(found)),
+        replyTo: p.replyTo?.text ?? "",
+        headers,
+        text: p.text ?? "",
+        html: typeof p.html === "string" ? p.html : "",
+      });
     }
     if (parts[2] === "raw") {
       res.writeHead(200, { "content-type": "message/rfc822" });
@@ -114,7 +137,10 @@ const api = createServer(async (req, res) => {
     if (parts[2] === "attachments" && parts[3] !== undefined) {
       const a = p.attachments[Number(parts[3])];
       if (!a) return send(404, { error: "no such attachment" });
-      res.writeHead(200, { "content-type": a.contentType, "content-disposition": `attachment; filename="${(a.filename ?? "file").replace(/"/g, "")}"` });
+      res.writeHead(200, {
+        "content-type": a.contentType,
+        "content-disposition": `attachment; filename="${(a.filename ?? "file").replace(/"/g, "")}"`,
+      });
       return res.end(a.content);
     }
     return send(404, { error: "not found" });

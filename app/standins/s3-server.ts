@@ -15,7 +15,13 @@ const directory = process.env.S3_STANDIN_DIR ?? join(process.cwd(), ".data", "s3
 const bucket = process.env.S3_BUCKET ?? "dioptra-files";
 mkdirSync(directory, { recursive: true });
 
-const server = new S3rver({ port, address: "127.0.0.1", directory, silent: true, configureBuckets: [{ name: bucket, configs: [] }] });
+const server = new S3rver({
+  port,
+  address: "127.0.0.1",
+  directory,
+  silent: true,
+  configureBuckets: [{ name: bucket, configs: [] }],
+});
 
 server.run().then(
   () => console.log(`[s3] object storage stand-in on 127.0.0.1:${port}, bucket ${bucket}, folder ${directory}`),

@@ -41,7 +41,9 @@ const port = Number(process.env.STRIPE_STANDIN_PORT ?? 12111);
 const apiKey = process.env.STRIPE_SECRET_KEY ?? "sk_test_dioptra_local_standin";
 const webhookSecret = process.env.STRIPE_WEBHOOK_SECRET ?? "whsec_dioptra_local_standin";
 const config = {
-  webhookUrl: process.env.STRIPE_WEBHOOK_URL ?? `${(process.env.APP_URL ?? "http://127.0.0.1:3000").replace(/\/$/, "")}/api/webhooks/stripe`,
+  webhookUrl:
+    process.env.STRIPE_WEBHOOK_URL ??
+    `${(process.env.APP_URL ?? "http://127.0.0.1:3000").replace(/\/$/, "")}/api/webhooks/stripe`,
   duplicate: process.env.STRIPE_STANDIN_DUPLICATE === "1",
   delayMs: Number(process.env.STRIPE_STANDIN_DELAY_MS ?? 0),
   order: "made" as "made" | "reverse",
@@ -54,9 +56,33 @@ const signer = new Stripe(apiKey);
 export const TEST_CARDS = { success: "4242424242424242", declined: "4000000000000002" } as const;
 
 type Json = Record<string, unknown>;
-type Session = Json & { id: string; amount_total: number; currency: string; status: "open" | "complete" | "expired"; payment_status: "unpaid" | "paid"; success_url: string; cancel_url: string; payment_intent: string | null; metadata: Record<string, string>; url: string | null };
-type PaymentIntent = Json & { id: string; amount: number; amount_received: number; currency: string; status: string; metadata: Record<string, string> };
-type EventRecord = { id: string; type: string; created: number; body: string; deliveries: { at: string; status: number | string; delayed: boolean }[] };
+type Session = Json & {
+  id: string;
+  amount_total: number;
+  currency: string;
+  status: "open" | "complete" | "expired";
+  payment_status: "unpaid" | "paid";
+  success_url: string;
+  cancel_url: string;
+  payment_intent: string | null;
+  metadata: Record<string, string>;
+  url: string | null;
+};
+type PaymentIntent = Json & {
+  id: string;
+  amount: number;
+  amount_received: number;
+  currency: string;
+  status: string;
+  metadata: Record<string, string>;
+};
+type EventRecord = {
+  id: string;
+  type: string;
+  created: number;
+  body: string;
+  deliveries: { at: string; status: number | string; delayed: boolean }[];
+};
 
 const sessions = new Map<string, Session>();
 const intents = new Map<string, PaymentIntent>();
@@ -84,7 +110,8 @@ function decodeForm(body: string): Json {
   return out;
 }
 /** `{0: a, 1: b}` → `[a, b]` */
-const asList = (v: unknown): Json[] => (v && typeof v === "object" ? Object.values(v as Json).map((x) => x as Json) : []);
+const asList = (v: unknown): Json[] =>
+  v && typeof v === "object" ? Object.values(v as Json).map((x) => x as Json) : [];
 
 // ---------- webhooks ----------
 
@@ -92,7 +119,12 @@ async function deliverOnce(ev: EventRecord, delayed: boolean) {
   if (!config.webhookUrl) return;
   const header = signer.webhooks.generateTestHeaderString({ payload: ev.body, secret: webhookSecret });
   try {
-    const res = await fetch(config.webhookUrl, { method: "POST", headers: { "content-type": "application/json", "stripe-signature": header }, body: ev.body, signal: AbortSignal.timeout(15_000) });
+    const res = await fetch(config.webhookUrl, {
+      method: "POST",
+      headers: { "content-type": "application/json", "stripe-signature": header },
+      body: ev.body,
+      signal: AbortSignal.timeout(15_000),
+    });
     ev.deliveries.push({ at: new Date().toISOString(), status: res.status, delayed });
   } catch (error) {
     ev.deliveries.push({ at: new Date().toISOString(), status: `failed: ${(error as Error).message}`, delayed });
@@ -103,7 +135,17 @@ async function deliverOnce(ev: EventRecord, delayed: boolean) {
 function makeEvent(type: string, object: Json, created = now()): EventRecord {
   const ev: EventRecord = { id: id("evt"), type, created, body: "", deliveries: [] };
   ev.body = JSON.stringify(
-    { id: ev.id, object: "event", api_version: API_VERSION, created: ev.created, data: { object }, livemode: false, pending_webhooks: 1, request: { id: null, idempotency_key: null }, type },
+    {
+      id: ev.id,
+      object: "event",
+      api_version: API_VERSION,
+      created: ev.created,
+      data: { object },
+      livemode: false,
+      pending_webhooks: 1,
+      request: { id: null, idempotency_key: null },
+      type,
+    },
     null,
     2,
   );
@@ -147,32 +189,60 @@ type PayResult = { ok: true; session: Session; events: string[] } | { ok: false;
 /** A copy of a PaymentIntent as the API shows it. */
 const publicIntent = (pi: PaymentIntent) => ({ ...pi });
 
-async function pay(session: Session, cardInput: string, opts: { duplicate?: boolean; delayMs?: number; amountTotal?: number; sepaDebit?: "succeeds" | "fails" } = {}): Promise<PayResult> {
+async function pay(
+  session: Session,
+  cardInput: string,
+  opts: { duplicate?: boolean; delayMs?: number; amountTotal?: number; sepaDebit?: "succeeds" | "fails" } = {},
+): Promise<PayResult> {
   if (session.status === "complete") return { ok: false, message: "This checkout has already been paid.", events: [] };
-  if (session.status === "expired") return { ok: false, message: "This checkout has expired. Return to the practice's page and start again.", events: [] };
+  if (session.status === "expired")
+    return {
+      ok: false,
+      message: "This checkout has expired. Return to the practice's page and start again.",
+      events: [],
+    };
   if (opts.sepaDebit) return payLater(session, opts.sepaDebit, opts);
   const card = normaliseCard(cardInput);
-  if (!/^\d{12,19}$/.test(card)) return { ok: false, message: "Enter the card number (digits only). Test card: 4242 4242 4242 4242.", events: [] };
+  if (!/^\d{12,19}$/.test(card))
+    return { ok: false, message: "Enter the card number (digits only). Test card: 4242 4242 4242 4242.", events: [] };
   const amount = opts.amountTotal ?? session.amount_total;
   const pi = newIntent(session, amount, ["card"]);
   if (card === TEST_CARDS.success) {
     pi.status = "succeeded";
     pi.amount_received = amount;
     pi.latest_charge = id("ch");
-    Object.assign(session, { status: "complete", payment_status: "paid", payment_intent: pi.id, amount_total: amount, url: null, customer_details: customerDetails(session) });
-    const made = [makeEvent("payment_intent.succeeded", publicIntent(pi)), makeEvent("checkout.session.completed", publicSession(session))];
+    Object.assign(session, {
+      status: "complete",
+      payment_status: "paid",
+      payment_intent: pi.id,
+      amount_total: amount,
+      url: null,
+      customer_details: customerDetails(session),
+    });
+    const made = [
+      makeEvent("payment_intent.succeeded", publicIntent(pi)),
+      makeEvent("checkout.session.completed", publicSession(session)),
+    ];
     await sendAll(made, opts);
     return { ok: true, session, events: made.map((e) => e.id) };
   }
   const declined = card === TEST_CARDS.declined;
-  const message = declined ? "Your card was declined." : "Your card number is not a test card this stand-in knows. Use 4242 4242 4242 4242 to pay, or 4000 0000 0000 0002 to see a decline.";
-  pi.last_payment_error = { type: "card_error", code: declined ? "card_declined" : "incorrect_number", decline_code: declined ? "generic_decline" : undefined, message };
+  const message = declined
+    ? "Your card was declined."
+    : "Your card number is not a test card this stand-in knows. Use 4242 4242 4242 4242 to pay, or 4000 0000 0000 0002 to see a decline.";
+  pi.last_payment_error = {
+    type: "card_error",
+    code: declined ? "card_declined" : "incorrect_number",
+    decline_code: declined ? "generic_decline" : undefined,
+    message,
+  };
   const ev = await emit("payment_intent.payment_failed", publicIntent(pi), opts);
   return { ok: false, message, events: [ev.id] };
 }
 
 function newIntent(session: Session, amount: number, methods: string[]): PaymentIntent {
-  const intentMeta = ((session.payment_intent_data as Json | undefined)?.metadata as Record<string, string> | undefined) ?? {};
+  const intentMeta =
+    ((session.payment_intent_data as Json | undefined)?.metadata as Record<string, string> | undefined) ?? {};
   const pi: PaymentIntent = {
     id: id("pi"),
     object: "payment_intent",
@@ -192,30 +262,66 @@ function newIntent(session: Session, amount: number, methods: string[]): Payment
 }
 
 function customerDetails(session: Session) {
-  return { email: session.customer_email ?? null, name: null, phone: null, address: null, tax_exempt: "none", tax_ids: [] };
+  return {
+    email: session.customer_email ?? null,
+    name: null,
+    phone: null,
+    address: null,
+    tax_exempt: "none",
+    tax_ids: [],
+  };
 }
 
 /**
  * A bank debit: the session completes unpaid at once, and the bank's answer comes later as
  * checkout.session.async_payment_succeeded or _failed (both carry the session).
  */
-async function payLater(session: Session, outcome: "succeeds" | "fails", opts: { duplicate?: boolean; delayMs?: number }): Promise<PayResult> {
+async function payLater(
+  session: Session,
+  outcome: "succeeds" | "fails",
+  opts: { duplicate?: boolean; delayMs?: number },
+): Promise<PayResult> {
   const allowed = session.payment_method_types as string[];
-  if (!allowed.some((m) => DELAYED_METHODS.has(m))) return { ok: false, message: `This checkout accepts only ${allowed.join(", ")}.`, events: [] };
+  if (!allowed.some((m) => DELAYED_METHODS.has(m)))
+    return { ok: false, message: `This checkout accepts only ${allowed.join(", ")}.`, events: [] };
   const pi = newIntent(session, session.amount_total, ["sepa_debit"]);
   pi.status = "processing";
-  Object.assign(session, { status: "complete", payment_status: "unpaid", payment_intent: pi.id, url: null, customer_details: customerDetails(session) });
+  Object.assign(session, {
+    status: "complete",
+    payment_status: "unpaid",
+    payment_intent: pi.id,
+    url: null,
+    customer_details: customerDetails(session),
+  });
   const made = [makeEvent("checkout.session.completed", publicSession(session))];
   if (outcome === "succeeds") {
     Object.assign(pi, { status: "succeeded", amount_received: pi.amount, latest_charge: id("py") });
     session.payment_status = "paid";
-    made.push(makeEvent("payment_intent.succeeded", publicIntent(pi), now() + 1), makeEvent("checkout.session.async_payment_succeeded", publicSession(session), now() + 1));
+    made.push(
+      makeEvent("payment_intent.succeeded", publicIntent(pi), now() + 1),
+      makeEvent("checkout.session.async_payment_succeeded", publicSession(session), now() + 1),
+    );
   } else {
-    Object.assign(pi, { status: "requires_payment_method", last_payment_error: { type: "invalid_request_error", code: "payment_method_invalid_parameter", message: "The debit was returned by the bank." } });
-    made.push(makeEvent("payment_intent.payment_failed", publicIntent(pi), now() + 1), makeEvent("checkout.session.async_payment_failed", publicSession(session), now() + 1));
+    Object.assign(pi, {
+      status: "requires_payment_method",
+      last_payment_error: {
+        type: "invalid_request_error",
+        code: "payment_method_invalid_parameter",
+        message: "The debit was returned by the bank.",
+      },
+    });
+    made.push(
+      makeEvent("payment_intent.payment_failed", publicIntent(pi), now() + 1),
+      makeEvent("checkout.session.async_payment_failed", publicSession(session), now() + 1),
+    );
   }
   await sendAll(made, opts);
-  return { ok: outcome === "succeeds", session, events: made.map((e) => e.id), ...(outcome === "fails" ? { message: "The debit was returned by the bank." } : {}) } as PayResult;
+  return {
+    ok: outcome === "succeeds",
+    session,
+    events: made.map((e) => e.id),
+    ...(outcome === "fails" ? { message: "The debit was returned by the bank." } : {}),
+  } as PayResult;
 }
 
 // ---------- API ----------
@@ -229,8 +335,11 @@ function json(res: ServerResponse, status: number, body: unknown) {
 }
 
 function createSession(p: Json, res: ServerResponse) {
-  if (p.mode !== "payment") return stripeError(res, 400, "invalid_request_error", "Only mode=payment is supported by the stand-in.", "mode");
-  for (const f of ["success_url", "cancel_url"]) if (typeof p[f] !== "string" || !/^https?:\/\//.test(p[f] as string)) return stripeError(res, 400, "invalid_request_error", `Missing or invalid ${f}.`, f);
+  if (p.mode !== "payment")
+    return stripeError(res, 400, "invalid_request_error", "Only mode=payment is supported by the stand-in.", "mode");
+  for (const f of ["success_url", "cancel_url"])
+    if (typeof p[f] !== "string" || !/^https?:\/\//.test(p[f] as string))
+      return stripeError(res, 400, "invalid_request_error", `Missing or invalid ${f}.`, f);
   const items = asList(p.line_items);
   if (!items.length) return stripeError(res, 400, "invalid_request_error", "line_items is required.", "line_items");
   let total = 0;
@@ -240,22 +349,54 @@ function createSession(p: Json, res: ServerResponse) {
     const pd = item.price_data as Json | undefined;
     const unit = Number(pd?.unit_amount);
     const qty = Number(item.quantity ?? 1);
-    if (!pd || !Number.isInteger(unit) || unit < 0) return stripeError(res, 400, "invalid_request_error", "Invalid integer unit_amount.", `line_items[${i}][price_data][unit_amount]`);
-    if (!Number.isInteger(qty) || qty < 1) return stripeError(res, 400, "invalid_request_error", "Invalid quantity.", `line_items[${i}][quantity]`);
-    if (typeof pd.currency !== "string") return stripeError(res, 400, "invalid_request_error", "Missing currency.", `line_items[${i}][price_data][currency]`);
-    if (currency && currency !== pd.currency) return stripeError(res, 400, "invalid_request_error", "All line items must share one currency.");
+    if (!pd || !Number.isInteger(unit) || unit < 0)
+      return stripeError(
+        res,
+        400,
+        "invalid_request_error",
+        "Invalid integer unit_amount.",
+        `line_items[${i}][price_data][unit_amount]`,
+      );
+    if (!Number.isInteger(qty) || qty < 1)
+      return stripeError(res, 400, "invalid_request_error", "Invalid quantity.", `line_items[${i}][quantity]`);
+    if (typeof pd.currency !== "string")
+      return stripeError(
+        res,
+        400,
+        "invalid_request_error",
+        "Missing currency.",
+        `line_items[${i}][price_data][currency]`,
+      );
+    if (currency && currency !== pd.currency)
+      return stripeError(res, 400, "invalid_request_error", "All line items must share one currency.");
     currency = pd.currency.toLowerCase();
     total += unit * qty;
-    lineItems.push({ description: ((pd.product_data as Json | undefined)?.name as string) ?? "", amount_total: unit * qty, quantity: qty, currency });
+    lineItems.push({
+      description: ((pd.product_data as Json | undefined)?.name as string) ?? "",
+      amount_total: unit * qty,
+      quantity: qty,
+      currency,
+    });
   }
-  if (total < 30) return stripeError(res, 400, "invalid_request_error", "The amount must be at least 30 minor units.", "line_items");
+  if (total < 30)
+    return stripeError(res, 400, "invalid_request_error", "The amount must be at least 30 minor units.", "line_items");
   const sid = id("cs");
   const expiresAt = p.expires_at ? Number(p.expires_at) : now() + 24 * 3600;
   // Stripe: expires_at must be 30 minutes to 24 hours after creation.
-  if (p.expires_at !== undefined && (!Number.isInteger(expiresAt) || expiresAt < now() + 30 * 60 || expiresAt > now() + 24 * 3600)) {
-    return stripeError(res, 400, "invalid_request_error", "The `expires_at` timestamp must be between 30 minutes and 24 hours from the Checkout Session's creation.", "expires_at");
+  if (
+    p.expires_at !== undefined &&
+    (!Number.isInteger(expiresAt) || expiresAt < now() + 30 * 60 || expiresAt > now() + 24 * 3600)
+  ) {
+    return stripeError(
+      res,
+      400,
+      "invalid_request_error",
+      "The `expires_at` timestamp must be between 30 minutes and 24 hours from the Checkout Session's creation.",
+      "expires_at",
+    );
   }
-  const allowedTypes = p.allowed_payment_method_types === undefined ? null : asList(p.allowed_payment_method_types).map(String);
+  const allowedTypes =
+    p.allowed_payment_method_types === undefined ? null : asList(p.allowed_payment_method_types).map(String);
   const methods = allowedTypes ?? ["card"];
   const session: Session = {
     id: sid,
@@ -303,14 +444,40 @@ function publicSession(s: Session) {
 
 async function createRefund(p: Json, res: ServerResponse) {
   const pi = intents.get(String(p.payment_intent ?? ""));
-  if (!pi) return stripeError(res, 404, "invalid_request_error", `No such payment_intent: '${String(p.payment_intent ?? "")}'`, "payment_intent");
-  if (pi.status !== "succeeded") return stripeError(res, 400, "invalid_request_error", "This PaymentIntent has no successful charge to refund.");
+  if (!pi)
+    return stripeError(
+      res,
+      404,
+      "invalid_request_error",
+      `No such payment_intent: '${String(p.payment_intent ?? "")}'`,
+      "payment_intent",
+    );
+  if (pi.status !== "succeeded")
+    return stripeError(res, 400, "invalid_request_error", "This PaymentIntent has no successful charge to refund.");
   const left = pi.amount_received - (refundedByIntent.get(pi.id) ?? 0);
   const amount = p.amount === undefined ? left : Number(p.amount);
-  if (!Number.isInteger(amount) || amount <= 0) return stripeError(res, 400, "invalid_request_error", "Invalid positive integer amount.", "amount");
-  if (amount > left) return stripeError(res, 400, "invalid_request_error", `Refund amount (${amount}) is greater than unrefunded amount on charge (${left}).`, "amount");
+  if (!Number.isInteger(amount) || amount <= 0)
+    return stripeError(res, 400, "invalid_request_error", "Invalid positive integer amount.", "amount");
+  if (amount > left)
+    return stripeError(
+      res,
+      400,
+      "invalid_request_error",
+      `Refund amount (${amount}) is greater than unrefunded amount on charge (${left}).`,
+      "amount",
+    );
   refundedByIntent.set(pi.id, (refundedByIntent.get(pi.id) ?? 0) + amount);
-  const refund = { id: id("re"), object: "refund", amount, currency: pi.currency, payment_intent: pi.id, status: "succeeded", reason: p.reason ?? null, metadata: p.metadata ?? {}, created: now() };
+  const refund = {
+    id: id("re"),
+    object: "refund",
+    amount,
+    currency: pi.currency,
+    payment_intent: pi.id,
+    status: "succeeded",
+    reason: p.reason ?? null,
+    metadata: p.metadata ?? {},
+    created: now(),
+  };
   refunds.set(refund.id, refund);
   json(res, 200, refund);
   void emit("refund.created", refund);
@@ -326,7 +493,8 @@ async function readBody(req: IncomingMessage) {
 const recentVersions: { method: string; path: string; version: string | null }[] = [];
 
 async function api(req: IncomingMessage, res: ServerResponse, path: string, body: string) {
-  if (req.headers.authorization !== `Bearer ${apiKey}`) return stripeError(res, 401, "invalid_request_error", "Invalid API Key provided.");
+  if (req.headers.authorization !== `Bearer ${apiKey}`)
+    return stripeError(res, 401, "invalid_request_error", "Invalid API Key provided.");
   const version = req.headers["stripe-version"];
   recentVersions.push({ method: req.method ?? "", path, version: typeof version === "string" ? version : null });
   if (recentVersions.length > 100) recentVersions.shift();
@@ -349,12 +517,20 @@ async function api(req: IncomingMessage, res: ServerResponse, path: string, body
   if (req.method === "POST" && path === "/v1/checkout/sessions") return createSession(p, res);
   if (req.method === "GET" && (m = path.match(/^\/v1\/checkout\/sessions\/([\w]+)$/))) {
     const s = sessions.get(m[1]!);
-    return s ? json(res, 200, publicSession(s)) : stripeError(res, 404, "invalid_request_error", `No such checkout.session: '${m[1]}'`);
+    return s
+      ? json(res, 200, publicSession(s))
+      : stripeError(res, 404, "invalid_request_error", `No such checkout.session: '${m[1]}'`);
   }
   if (req.method === "POST" && (m = path.match(/^\/v1\/checkout\/sessions\/([\w]+)\/expire$/))) {
     const s = sessions.get(m[1]!);
     if (!s) return stripeError(res, 404, "invalid_request_error", `No such checkout.session: '${m[1]}'`);
-    if (s.status !== "open") return stripeError(res, 400, "invalid_request_error", `Only Checkout Sessions with a status in ["open"] can be expired.`);
+    if (s.status !== "open")
+      return stripeError(
+        res,
+        400,
+        "invalid_request_error",
+        `Only Checkout Sessions with a status in ["open"] can be expired.`,
+      );
     Object.assign(s, { status: "expired", url: null });
     json(res, 200, publicSession(s));
     void emit("checkout.session.expired", publicSession(s));
@@ -362,15 +538,26 @@ async function api(req: IncomingMessage, res: ServerResponse, path: string, body
   }
   if (req.method === "GET" && (m = path.match(/^\/v1\/payment_intents\/([\w]+)$/))) {
     const pi = intents.get(m[1]!);
-    return pi ? json(res, 200, publicIntent(pi)) : stripeError(res, 404, "invalid_request_error", `No such payment_intent: '${m[1]}'`);
+    return pi
+      ? json(res, 200, publicIntent(pi))
+      : stripeError(res, 404, "invalid_request_error", `No such payment_intent: '${m[1]}'`);
   }
   if (req.method === "POST" && path === "/v1/refunds") return createRefund(p, res);
-  stripeError(res, 404, "invalid_request_error", `Unrecognized request URL (${req.method}: ${path}). The Dioptra stand-in implements only what the app calls.`);
+  stripeError(
+    res,
+    404,
+    "invalid_request_error",
+    `Unrecognized request URL (${req.method}: ${path}). The Dioptra stand-in implements only what the app calls.`,
+  );
 }
 
 // ---------- the checkout page ----------
 
-const esc = (s: unknown) => String(s ?? "").replace(/[&<>"']/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[c]!);
+const esc = (s: unknown) =>
+  String(s ?? "").replace(
+    /[&<>"']/g,
+    (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[c]!,
+  );
 
 function money(minor: number, currency: string) {
   return new Intl.NumberFormat("en-GB", { style: "currency", currency: currency.toUpperCase() }).format(minor / 100);
@@ -395,9 +582,14 @@ ${inner}</main></body></html>`;
 }
 
 function checkoutPage(s: Session, error?: string) {
-  const items = ((s.display_items as Json[]) ?? []).map((i) => `<li>${esc(i.description)} — ${esc(money(Number(i.amount_total), s.currency))}</li>`).join("");
+  const items = ((s.display_items as Json[]) ?? [])
+    .map((i) => `<li>${esc(i.description)} — ${esc(money(Number(i.amount_total), s.currency))}</li>`)
+    .join("");
   if (s.status !== "open") {
-    return page("Checkout closed", `<h1>${s.status === "complete" ? "Already paid" : "This checkout has expired"}</h1><p>${s.status === "complete" ? "This checkout has already been paid." : "Start again from the practice's payment page."}</p><p><a href="${esc(s.status === "complete" ? s.success_url.replace("{CHECKOUT_SESSION_ID}", s.id) : s.cancel_url)}">Return to the practice</a></p>`);
+    return page(
+      "Checkout closed",
+      `<h1>${s.status === "complete" ? "Already paid" : "This checkout has expired"}</h1><p>${s.status === "complete" ? "This checkout has already been paid." : "Start again from the practice's payment page."}</p><p><a href="${esc(s.status === "complete" ? s.success_url.replace("{CHECKOUT_SESSION_ID}", s.id) : s.cancel_url)}">Return to the practice</a></p>`,
+    );
   }
   return page(
     `Pay ${money(s.amount_total, s.currency)}`,
@@ -438,13 +630,25 @@ const server = createServer(async (req, res) => {
     let m: RegExpMatchArray | null;
     if (req.method === "GET" && (m = path.match(/^\/checkout\/([\w]+)$/))) {
       const s = sessions.get(m[1]!);
-      return s ? html(res, 200, checkoutPage(s)) : html(res, 404, page("Not found", "<h1>No such checkout</h1><p>This payment page does not exist (the stand-in may have restarted). Return to the practice's page and start again.</p>"));
+      return s
+        ? html(res, 200, checkoutPage(s))
+        : html(
+            res,
+            404,
+            page(
+              "Not found",
+              "<h1>No such checkout</h1><p>This payment page does not exist (the stand-in may have restarted). Return to the practice's page and start again.</p>",
+            ),
+          );
     }
     if (req.method === "POST" && (m = path.match(/^\/checkout\/([\w]+)\/pay$/))) {
       const s = sessions.get(m[1]!);
       if (!s) return html(res, 404, page("Not found", "<h1>No such checkout</h1>"));
       const f = new URLSearchParams(body);
-      const result = await pay(s, f.get("card") ?? "", { duplicate: f.get("duplicate") === "1" || undefined, delayMs: f.get("delayed") === "1" ? 3000 : undefined });
+      const result = await pay(s, f.get("card") ?? "", {
+        duplicate: f.get("duplicate") === "1" || undefined,
+        delayMs: f.get("delayed") === "1" ? 3000 : undefined,
+      });
       if (result.ok) {
         res.writeHead(303, { location: s.success_url.replace("{CHECKOUT_SESSION_ID}", s.id) });
         return res.end();
@@ -452,8 +656,20 @@ const server = createServer(async (req, res) => {
       return html(res, 402, checkoutPage(s, result.message));
     }
 
-    if (path === "/_standin/health") return json(res, 200, { status: "ok", sessions: sessions.size, events: events.length, apiVersion: API_VERSION, requests: recentVersions });
-    if (req.method === "GET" && path === "/_standin/events") return json(res, 200, events.map((e) => ({ id: e.id, type: e.type, created: e.created, payload: e.body, deliveries: e.deliveries })));
+    if (path === "/_standin/health")
+      return json(res, 200, {
+        status: "ok",
+        sessions: sessions.size,
+        events: events.length,
+        apiVersion: API_VERSION,
+        requests: recentVersions,
+      });
+    if (req.method === "GET" && path === "/_standin/events")
+      return json(
+        res,
+        200,
+        events.map((e) => ({ id: e.id, type: e.type, created: e.created, payload: e.body, deliveries: e.deliveries })),
+      );
     if (req.method === "POST" && (m = path.match(/^\/_standin\/events\/([\w]+)\/deliver$/))) {
       const ev = events.find((e) => e.id === m![1]);
       if (!ev) return json(res, 404, { error: "no such event" });
@@ -463,9 +679,14 @@ const server = createServer(async (req, res) => {
     if (req.method === "POST" && path === "/_standin/events/deliver") {
       const { ids } = JSON.parse(body || "{}") as { ids?: string[] };
       const chosen = (ids ?? []).map((i) => events.find((e) => e.id === i));
-      if (!ids?.length || chosen.some((e) => !e)) return json(res, 404, { error: "give ids of events the stand-in made" });
+      if (!ids?.length || chosen.some((e) => !e))
+        return json(res, 404, { error: "give ids of events the stand-in made" });
       for (const ev of chosen) await deliverOnce(ev!, false);
-      return json(res, 200, chosen.map((e) => ({ id: e!.id, type: e!.type, deliveries: e!.deliveries })));
+      return json(
+        res,
+        200,
+        chosen.map((e) => ({ id: e!.id, type: e!.type, deliveries: e!.deliveries })),
+      );
     }
     if (req.method === "POST" && path === "/_standin/config") {
       const c = JSON.parse(body || "{}") as Partial<typeof config>;
@@ -478,7 +699,13 @@ const server = createServer(async (req, res) => {
     if (req.method === "POST" && (m = path.match(/^\/_standin\/sessions\/([\w]+)\/pay$/))) {
       const s = sessions.get(m[1]!);
       if (!s) return json(res, 404, { error: "no such session" });
-      const p = JSON.parse(body || "{}") as { card?: string; amountTotal?: number; duplicate?: boolean; delayMs?: number; sepaDebit?: "succeeds" | "fails" };
+      const p = JSON.parse(body || "{}") as {
+        card?: string;
+        amountTotal?: number;
+        duplicate?: boolean;
+        delayMs?: number;
+        sepaDebit?: "succeeds" | "fails";
+      };
       const result = await pay(s, p.card ?? TEST_CARDS.success, p);
       return json(res, result.ok ? 200 : 402, result);
     }
@@ -489,5 +716,7 @@ const server = createServer(async (req, res) => {
   }
 });
 
-server.listen(port, "127.0.0.1", () => console.log(`[stripe stand-in] http://127.0.0.1:${port}; webhooks to ${config.webhookUrl || "(kept, not sent)"}`));
+server.listen(port, "127.0.0.1", () =>
+  console.log(`[stripe stand-in] http://127.0.0.1:${port}; webhooks to ${config.webhookUrl || "(kept, not sent)"}`),
+);
 for (const sig of ["SIGTERM", "SIGINT"]) process.on(sig, () => server.close(() => process.exit(0)));

@@ -44,7 +44,8 @@ const signInQueue: (() => void)[] = [];
 
 async function withSignInSlot<T>(work: () => Promise<T>): Promise<T> {
   if (signingIn >= MAX_SIGNING_IN) {
-    if (signInQueue.length >= MAX_SIGN_IN_QUEUE) throw new SignInError("The server is busy signing people in. Try again in a few seconds.", 503, 5);
+    if (signInQueue.length >= MAX_SIGN_IN_QUEUE)
+      throw new SignInError("The server is busy signing people in. Try again in a few seconds.", 503, 5);
     await new Promise<void>((resolve) => signInQueue.push(resolve));
   } else {
     signingIn++;
@@ -66,7 +67,14 @@ async function signedInBefore(email: string, ip: string) {
   const [row] = await db
     .select({ n: count() })
     .from(signInAttempts)
-    .where(and(sql`lower(${signInAttempts.email}) = ${email}`, eq(signInAttempts.succeeded, true), eq(signInAttempts.ip, ip), gt(signInAttempts.at, since)));
+    .where(
+      and(
+        sql`lower(${signInAttempts.email}) = ${email}`,
+        eq(signInAttempts.succeeded, true),
+        eq(signInAttempts.ip, ip),
+        gt(signInAttempts.at, since),
+      ),
+    );
   return (row?.n ?? 0) > 0;
 }
 
@@ -90,7 +98,11 @@ async function checkSignIn(email: string, password: string, request: Request): P
   const byAddress = await takeAttempt("signin-address", { address });
   if (!byAddress.granted) {
     await audit({ action: "auth.sign_in_throttled", detail: { email, budget: "address" }, request });
-    throw new SignInError(`Too many failed sign-in attempts from your connection. Try again in ${waitText(byAddress.retryAfterSeconds)}.`, 429, byAddress.retryAfterSeconds);
+    throw new SignInError(
+      `Too many failed sign-in attempts from your connection. Try again in ${waitText(byAddress.retryAfterSeconds)}.`,
+      429,
+      byAddress.retryAfterSeconds,
+    );
   }
   const accountRefusal = (retryAfterSeconds: number) =>
     new SignInError(
@@ -177,7 +189,10 @@ export async function requireUser(request: Request): Promise<SessionUser> {
 }
 
 /** The signed-in user if their role is one of `roles`; otherwise the 403 page. */
-export async function requireRole<R extends Role>(request: Request, roles: readonly R[]): Promise<SessionUser & { role: R }> {
+export async function requireRole<R extends Role>(
+  request: Request,
+  roles: readonly R[],
+): Promise<SessionUser & { role: R }> {
   const user = await requireUser(request);
   if (!(roles as readonly Role[]).includes(user.role)) {
     throw data({ error: "Your role does not give access to this page." }, { status: 403 });

@@ -9,14 +9,28 @@
 import { env } from "./env.server";
 
 /** RFC 9457 problem details. `detail` is for people; extension members carry field errors. */
-export function problem(status: number, detail: string, extra: Record<string, unknown> = {}, headers: HeadersInit = {}) {
+export function problem(
+  status: number,
+  detail: string,
+  extra: Record<string, unknown> = {},
+  headers: HeadersInit = {},
+) {
   const h = new Headers(headers);
   h.set("content-type", "application/problem+json; charset=utf-8");
   h.set("cache-control", "no-store");
-  return new Response(JSON.stringify({ type: "about:blank", title: STATUS_TITLES[status] ?? (status >= 500 ? "Server error" : "Request refused"), status, detail, ...extra }), {
-    status,
-    headers: h,
-  });
+  return new Response(
+    JSON.stringify({
+      type: "about:blank",
+      title: STATUS_TITLES[status] ?? (status >= 500 ? "Server error" : "Request refused"),
+      status,
+      detail,
+      ...extra,
+    }),
+    {
+      status,
+      headers: h,
+    },
+  );
 }
 
 const STATUS_TITLES: Record<number, string> = {
@@ -63,7 +77,8 @@ const API_ROUTES: { pattern: RegExp; methods: string[] }[] = [
   { pattern: /^\/healthz$/, methods: ["GET", "HEAD"] },
 ];
 
-export const isApiPath = (pathname: string) => pathname === "/api" || pathname.startsWith("/api/") || pathname === "/healthz";
+export const isApiPath = (pathname: string) =>
+  pathname === "/api" || pathname.startsWith("/api/") || pathname === "/healthz";
 
 /** Path without React Router's `.data` suffix (client-side navigations). */
 export const routePath = (url: URL) => url.pathname.replace(/\.data$/, "").replace(/\/$/, "") || "/";
@@ -76,9 +91,15 @@ export function apiRouteRefusal(request: Request): Response | null {
   if (!route) return problem(404, `There is no API at ${path}.`);
   const method = request.method === "HEAD" ? "GET" : request.method;
   if (request.method !== "OPTIONS" && !route.methods.includes(method)) {
-    return problem(405, `${path} does not take ${request.method}; it takes ${route.methods.join(", ")}.`, {}, { allow: route.methods.join(", ") });
+    return problem(
+      405,
+      `${path} does not take ${request.method}; it takes ${route.methods.join(", ")}.`,
+      {},
+      { allow: route.methods.join(", ") },
+    );
   }
-  if (request.method === "OPTIONS") return new Response(null, { status: 204, headers: { allow: [...route.methods, "OPTIONS"].join(", ") } });
+  if (request.method === "OPTIONS")
+    return new Response(null, { status: 204, headers: { allow: [...route.methods, "OPTIONS"].join(", ") } });
   return null;
 }
 
@@ -113,8 +134,16 @@ function firstNul(value: unknown, path = ""): string | null {
 export async function bodyRefusal(request: Request): Promise<{ status: number; detail: string } | null> {
   const url = new URL(request.url);
   for (const [name, value] of url.searchParams) {
-    if (name.includes(NUL) || value.includes(NUL)) return { status: 400, detail: `The query parameter ${JSON.stringify(name.replaceAll(NUL, ""))} contains a NUL character (U+0000).` };
-    if (value.length > 2000) return { status: 414, detail: `The query parameter ${JSON.stringify(name)} is too long (at most 2000 characters).` };
+    if (name.includes(NUL) || value.includes(NUL))
+      return {
+        status: 400,
+        detail: `The query parameter ${JSON.stringify(name.replaceAll(NUL, ""))} contains a NUL character (U+0000).`,
+      };
+    if (value.length > 2000)
+      return {
+        status: 414,
+        detail: `The query parameter ${JSON.stringify(name)} is too long (at most 2000 characters).`,
+      };
   }
   if (SAFE.has(request.method)) return null;
   const path = routePath(url);
@@ -129,19 +158,34 @@ export async function bodyRefusal(request: Request): Promise<{ status: number; d
     try {
       form = await request.clone().formData();
     } catch {
-      return { status: 400, detail: `The ${type === "multipart/form-data" ? "multipart " : ""}form in the body could not be read.` };
+      return {
+        status: 400,
+        detail: `The ${type === "multipart/form-data" ? "multipart " : ""}form in the body could not be read.`,
+      };
     }
     for (const [name, value] of form) {
       if (name.includes(NUL)) return { status: 400, detail: "A field name contains a NUL character (U+0000)." };
       if (typeof value !== "string") continue;
-      if (value.includes(NUL)) return { status: 400, detail: `The field ${JSON.stringify(name)} contains a NUL character (U+0000), which no text may hold.` };
-      if (value.length > MAX_FIELD_CHARS) return { status: 413, detail: `The field ${JSON.stringify(name)} is too long (at most ${MAX_FIELD_CHARS.toLocaleString("en-GB")} characters).` };
+      if (value.includes(NUL))
+        return {
+          status: 400,
+          detail: `The field ${JSON.stringify(name)} contains a NUL character (U+0000), which no text may hold.`,
+        };
+      if (value.length > MAX_FIELD_CHARS)
+        return {
+          status: 413,
+          detail: `The field ${JSON.stringify(name)} is too long (at most ${MAX_FIELD_CHARS.toLocaleString("en-GB")} characters).`,
+        };
     }
     return null;
   }
   const text = await request.clone().text();
   if (type === "application/json" || type.endsWith("+json")) {
-    if (!api) return { status: 415, detail: "This address takes a form (application/x-www-form-urlencoded or multipart/form-data), not JSON." };
+    if (!api)
+      return {
+        status: 415,
+        detail: "This address takes a form (application/x-www-form-urlencoded or multipart/form-data), not JSON.",
+      };
     if (!text.trim()) return { status: 400, detail: "The body is empty: send a JSON object." };
     let body: unknown;
     try {
@@ -149,14 +193,19 @@ export async function bodyRefusal(request: Request): Promise<{ status: number; d
     } catch {
       return { status: 400, detail: "The body is not valid JSON." };
     }
-    if (!body || typeof body !== "object" || Array.isArray(body)) return { status: 400, detail: "The body must be a JSON object." };
+    if (!body || typeof body !== "object" || Array.isArray(body))
+      return { status: 400, detail: "The body must be a JSON object." };
     const nul = firstNul(body);
-    if (nul) return { status: 400, detail: `The value of ${nul} contains a NUL character (U+0000), which no text may hold.` };
+    if (nul)
+      return { status: 400, detail: `The value of ${nul} contains a NUL character (U+0000), which no text may hold.` };
     if (text.length > 1_000_000) return { status: 413, detail: "The body is too large (at most 1 MB of JSON)." };
     return null;
   }
   if (!type && text.length === 0) {
-    return { status: 400, detail: api ? "The body is empty: send a JSON object." : "The request has no form: send the form's fields." };
+    return {
+      status: 400,
+      detail: api ? "The body is empty: send a JSON object." : "The request has no form: send the form's fields.",
+    };
   }
   return {
     status: 415,

@@ -28,7 +28,12 @@ export type JobOptions = {
 
 export type JobContext = { id: string; retryCount: number; retryLimit: number };
 export type JobHandler<T> = (data: T, job: JobContext) => Promise<void>;
-export type QueueDefaults = { retryLimit?: number; retryDelay?: number; retryBackoff?: boolean; expireInSeconds?: number };
+export type QueueDefaults = {
+  retryLimit?: number;
+  retryDelay?: number;
+  retryBackoff?: boolean;
+  expireInSeconds?: number;
+};
 
 type Defined = { handler: JobHandler<never>; defaults: QueueDefaults };
 const registry = new Map<string, Defined>();
@@ -81,7 +86,11 @@ async function ensureQueue(boss: PgBoss, name: string) {
 
 /** pg-boss speaks through `executeSql`; inside a transaction it uses the transaction's own client. */
 function txDb(tx: Tx): PgBoss.Db {
-  const client = (tx as unknown as { session: { client: { query: (text: string, values: unknown[]) => Promise<{ rows: unknown[] }> } } }).session.client;
+  const client = (
+    tx as unknown as {
+      session: { client: { query: (text: string, values: unknown[]) => Promise<{ rows: unknown[] }> } };
+    }
+  ).session.client;
   return { executeSql: (text, values) => client.query(text, values) };
 }
 
@@ -120,11 +129,19 @@ export async function startWorkers(names: string[] = definedJobs(), opts: { poll
     const defined = registry.get(name);
     if (!defined) throw new Error(`No job defined as ${name}`);
     await ensureQueue(boss, name);
-    await boss.work<object>(name, { includeMetadata: true, batchSize: 1, pollingIntervalSeconds: opts.pollingIntervalSeconds ?? 1 }, async (jobs) => {
-      for (const job of jobs) {
-        await defined.handler(job.data as never, { id: job.id, retryCount: job.retryCount, retryLimit: job.retryLimit });
-      }
-    });
+    await boss.work<object>(
+      name,
+      { includeMetadata: true, batchSize: 1, pollingIntervalSeconds: opts.pollingIntervalSeconds ?? 1 },
+      async (jobs) => {
+        for (const job of jobs) {
+          await defined.handler(job.data as never, {
+            id: job.id,
+            retryCount: job.retryCount,
+            retryLimit: job.retryLimit,
+          });
+        }
+      },
+    );
   }
   return boss;
 }

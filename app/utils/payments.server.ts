@@ -12,7 +12,12 @@ export const STANDIN_SECRET_KEY = "sk_test_dioptra_local_standin";
  * while no real key is configured; otherwise (a real key, no host) real Stripe.
  */
 export function stripeEndpoint(): { host: string; port: number; protocol: "http" | "https" } | null {
-  if (env.STRIPE_API_HOST) return { host: env.STRIPE_API_HOST, port: env.STRIPE_API_PORT ?? (env.STRIPE_API_PROTOCOL === "http" ? 80 : 443), protocol: env.STRIPE_API_PROTOCOL ?? "https" };
+  if (env.STRIPE_API_HOST)
+    return {
+      host: env.STRIPE_API_HOST,
+      port: env.STRIPE_API_PORT ?? (env.STRIPE_API_PROTOCOL === "http" ? 80 : 443),
+      protocol: env.STRIPE_API_PROTOCOL ?? "https",
+    };
   if (env.STRIPE_SECRET_KEY === STANDIN_SECRET_KEY) return STRIPE_STANDIN_DEFAULT;
   return null;
 }
@@ -54,7 +59,10 @@ export function verifyWebhook(payload: string, signature: string | null): Stripe
 
 /** A failure to reach Stripe at all (down, refused, timed out), as opposed to Stripe refusing the request. */
 export function isStripeUnreachable(error: unknown): boolean {
-  return error instanceof Stripe.errors.StripeConnectionError || (error instanceof Error && /ECONNREFUSED|ETIMEDOUT|socket hang up/i.test(error.message));
+  return (
+    error instanceof Stripe.errors.StripeConnectionError ||
+    (error instanceof Error && /ECONNREFUSED|ETIMEDOUT|socket hang up/i.test(error.message))
+  );
 }
 
 export { Stripe };

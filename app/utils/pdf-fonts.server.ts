@@ -28,13 +28,21 @@ const require = createRequire(import.meta.url);
 /** Font files in fallback order, per face. Noto Sans Math has one weight, used for both. */
 const FILES: Record<Face, string[]> = {
   regular: [
-    ...["latin", "latin-ext", "cyrillic", "cyrillic-ext", "vietnamese"].map((s) => `@fontsource/nunito-sans/files/nunito-sans-${s}-400-normal.woff`),
-    ...["greek", "greek-ext", "latin-ext", "cyrillic-ext"].map((s) => `@fontsource/noto-sans/files/noto-sans-${s}-400-normal.woff`),
+    ...["latin", "latin-ext", "cyrillic", "cyrillic-ext", "vietnamese"].map(
+      (s) => `@fontsource/nunito-sans/files/nunito-sans-${s}-400-normal.woff`,
+    ),
+    ...["greek", "greek-ext", "latin-ext", "cyrillic-ext"].map(
+      (s) => `@fontsource/noto-sans/files/noto-sans-${s}-400-normal.woff`,
+    ),
     "@fontsource/noto-sans-math/files/noto-sans-math-latin-400-normal.woff",
   ],
   bold: [
-    ...["latin", "latin-ext", "cyrillic", "cyrillic-ext", "vietnamese"].map((s) => `@fontsource/nunito-sans/files/nunito-sans-${s}-700-normal.woff`),
-    ...["greek", "greek-ext", "latin-ext", "cyrillic-ext"].map((s) => `@fontsource/noto-sans/files/noto-sans-${s}-700-normal.woff`),
+    ...["latin", "latin-ext", "cyrillic", "cyrillic-ext", "vietnamese"].map(
+      (s) => `@fontsource/nunito-sans/files/nunito-sans-${s}-700-normal.woff`,
+    ),
+    ...["greek", "greek-ext", "latin-ext", "cyrillic-ext"].map(
+      (s) => `@fontsource/noto-sans/files/noto-sans-${s}-700-normal.woff`,
+    ),
     "@fontsource/noto-sans-math/files/noto-sans-math-latin-400-normal.woff",
   ],
 };
@@ -77,7 +85,10 @@ function loadSources() {
       }
       return p;
     };
-    const [regular, bold] = await Promise.all([Promise.all(FILES.regular.map(load)), Promise.all(FILES.bold.map(load))]);
+    const [regular, bold] = await Promise.all([
+      Promise.all(FILES.regular.map(load)),
+      Promise.all(FILES.bold.map(load)),
+    ]);
     return { regular, bold };
   })();
   return sources;
@@ -144,7 +155,11 @@ export class PdfFonts {
     let font = this.embedded.get(source.file);
     if (font) return font;
     const name = `${subsetTag(this.tags)}+${source.font.postscriptName ?? "Font"}`;
-    const Embedder = CustomFontSubsetEmbedder as unknown as new (font: unknown, bytes: Uint8Array, customName?: string) => CustomFontSubsetEmbedder;
+    const Embedder = CustomFontSubsetEmbedder as unknown as new (
+      font: unknown,
+      bytes: Uint8Array,
+      customName?: string,
+    ) => CustomFontSubsetEmbedder;
     const embedder = new Embedder(source.font, source.bytes, name);
     font = PDFFont.of(this.doc.context.nextRef(), this.doc, embedder);
     (this.doc as unknown as { fonts: PDFFont[] }).fonts.push(font);

@@ -56,7 +56,13 @@ export class PdfWriter {
   ) {}
 
   /** `label` is printed at the letterhead's right on every page ("INVOICE", "RECEIPT"). */
-  static async create(opts: { title: string; practice: Letterhead; author?: string; subject?: string; label?: string }) {
+  static async create(opts: {
+    title: string;
+    practice: Letterhead;
+    author?: string;
+    subject?: string;
+    label?: string;
+  }) {
     const doc = await PDFDocument.create();
     const fonts = await PdfFonts.create(doc);
     doc.setTitle(opts.title);
@@ -90,7 +96,8 @@ export class PdfWriter {
     let y = A4.height - MARGIN;
     const labelWidth = this.docLabel ? this.width(this.docLabel, 14, "bold") + 16 : 0;
     const nameLines = this.lines(this.practice.name, 16, this.contentWidth - labelWidth, "bold");
-    if (this.docLabel) this.draw(this.docLabel, A4.width - MARGIN - this.width(this.docLabel, 14, "bold"), y - 15, 14, "bold");
+    if (this.docLabel)
+      this.draw(this.docLabel, A4.width - MARGIN - this.width(this.docLabel, 14, "bold"), y - 15, 14, "bold");
     for (const line of nameLines) {
       this.draw(line, MARGIN, y - 16, 16, "bold", ACCENT);
       y -= 20;
@@ -170,12 +177,23 @@ export class PdfWriter {
       opts.columns.forEach((c, i) => {
         row.wrapped[i]!.forEach((line, j) => {
           const w = this.width(line, size, row.face);
-          this.draw(line, c.align === "right" ? x + c.width - w - 6 : x, this.y - pad - size - j * leading, size, row.face);
+          this.draw(
+            line,
+            c.align === "right" ? x + c.width - w - 6 : x,
+            this.y - pad - size - j * leading,
+            size,
+            row.face,
+          );
         });
         x += c.width;
       });
       this.y -= row.height;
-      this.page.drawLine({ start: { x: MARGIN, y: this.y + 1 }, end: { x: MARGIN + full, y: this.y + 1 }, thickness: 0.5, color: RULE });
+      this.page.drawLine({
+        start: { x: MARGIN, y: this.y + 1 },
+        end: { x: MARGIN + full, y: this.y + 1 },
+        thickness: 0.5,
+        color: RULE,
+      });
     };
     const header = layout(
       opts.columns.map((c) => c.header),
@@ -207,7 +225,13 @@ export class PdfWriter {
     const right = A4.width - MARGIN;
     for (const r of laid) {
       r.labels.forEach((line, i) => {
-        this.draw(line, right - valueWidth - 10 - this.width(line, r.size, r.face), this.y - r.size - i * (r.size + 5), r.size, r.face);
+        this.draw(
+          line,
+          right - valueWidth - 10 - this.width(line, r.size, r.face),
+          this.y - r.size - i * (r.size + 5),
+          r.size,
+          r.face,
+        );
       });
       this.draw(r.value, right - this.width(r.value, r.size, r.face), this.y - r.size, r.size, r.face);
       this.y -= r.labels.length * (r.size + 5);

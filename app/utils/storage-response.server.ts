@@ -11,7 +11,11 @@ export async function openStored(key: string) {
     return await storage.stream(key);
   } catch (e) {
     if (e instanceof StorageKeyError) throw data({ error: e.message }, { status: 403 });
-    if (e instanceof StorageUnavailableError) throw data({ error: "File storage is not reachable at the moment; try again in a few minutes." }, { status: 503 });
+    if (e instanceof StorageUnavailableError)
+      throw data(
+        { error: "File storage is not reachable at the moment; try again in a few minutes." },
+        { status: 503 },
+      );
     throw e;
   }
 }

@@ -1,5 +1,13 @@
 import { randomUUID } from "node:crypto";
-import { DeleteObjectCommand, GetObjectCommand, HeadBucketCommand, NoSuchKey, PutObjectCommand, S3Client, S3ServiceException } from "@aws-sdk/client-s3";
+import {
+  DeleteObjectCommand,
+  GetObjectCommand,
+  HeadBucketCommand,
+  NoSuchKey,
+  PutObjectCommand,
+  S3Client,
+  S3ServiceException,
+} from "@aws-sdk/client-s3";
 import { env } from "./env.server";
 
 /**
@@ -57,12 +65,18 @@ export class S3Storage implements FileStorage {
   readonly client: S3Client;
 
   constructor(readonly config: S3StorageConfig) {
-    if (!SEGMENT.test(config.practice)) throw new Error(`Invalid practice namespace ${JSON.stringify(config.practice)}: lower-case letters, digits and dashes`);
+    if (!SEGMENT.test(config.practice))
+      throw new Error(
+        `Invalid practice namespace ${JSON.stringify(config.practice)}: lower-case letters, digits and dashes`,
+      );
     this.client = new S3Client({
       endpoint: config.endpoint,
       region: config.region,
       forcePathStyle: config.forcePathStyle,
-      credentials: config.accessKeyId && config.secretAccessKey ? { accessKeyId: config.accessKeyId, secretAccessKey: config.secretAccessKey } : undefined,
+      credentials:
+        config.accessKeyId && config.secretAccessKey
+          ? { accessKeyId: config.accessKeyId, secretAccessKey: config.secretAccessKey }
+          : undefined,
       // A store that is down should answer an upload quickly with an error, not hang it.
       maxAttempts: 2,
       requestHandler: { connectionTimeout: 3_000, requestTimeout: 30_000 },
@@ -73,15 +87,24 @@ export class S3Storage implements FileStorage {
   checkKey(key: string) {
     const m = KEY.exec(key);
     if (!m) throw new StorageKeyError(`Invalid storage key ${JSON.stringify(key)}.`);
-    if (m[1] !== this.config.practice) throw new StorageKeyError("This file belongs to another practice's storage and cannot be opened here.");
+    if (m[1] !== this.config.practice)
+      throw new StorageKeyError("This file belongs to another practice's storage and cannot be opened here.");
     return key;
   }
 
   async put(bytes: Uint8Array, opts: { prefix: string; extension: string; contentType?: string }) {
-    if (!SEGMENT.test(opts.prefix) || !/^[a-z0-9]{2,5}$/.test(opts.extension)) throw new StorageKeyError(`Invalid storage prefix or extension.`);
+    if (!SEGMENT.test(opts.prefix) || !/^[a-z0-9]{2,5}$/.test(opts.extension))
+      throw new StorageKeyError(`Invalid storage prefix or extension.`);
     const key = `${this.config.practice}/${opts.prefix}/${randomUUID()}.${opts.extension}`;
     try {
-      await this.client.send(new PutObjectCommand({ Bucket: this.config.bucket, Key: key, Body: bytes, ContentType: opts.contentType ?? "application/octet-stream" }));
+      await this.client.send(
+        new PutObjectCommand({
+          Bucket: this.config.bucket,
+          Key: key,
+          Body: bytes,
+          ContentType: opts.contentType ?? "application/octet-stream",
+        }),
+      );
     } catch (e) {
       throw new StorageUnavailableError(e);
     }
@@ -93,7 +116,8 @@ export class S3Storage implements FileStorage {
     try {
       return await this.client.send(new GetObjectCommand({ Bucket: this.config.bucket, Key: key }));
     } catch (e) {
-      if (e instanceof NoSuchKey || (e instanceof S3ServiceException && e.$metadata.httpStatusCode === 404)) return null;
+      if (e instanceof NoSuchKey || (e instanceof S3ServiceException && e.$metadata.httpStatusCode === 404))
+        return null;
       throw new StorageUnavailableError(e);
     }
   }

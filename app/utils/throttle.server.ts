@@ -44,7 +44,10 @@ export async function takeAttempt(scope: BudgetScope, key: { account?: string; a
       updated_at = now()
     returning tokens, granted`);
   const row = result.rows[0]!;
-  return { granted: row.granted, retryAfterSeconds: row.granted ? 0 : Math.max(1, Math.ceil((1 - Number(row.tokens)) * refillSeconds)) };
+  return {
+    granted: row.granted,
+    retryAfterSeconds: row.granted ? 0 : Math.max(1, Math.ceil((1 - Number(row.tokens)) * refillSeconds)),
+  };
 }
 
 /** Gives back an attempt taken for something that turned out fine (a successful sign-in). */
@@ -53,7 +56,13 @@ export async function refundAttempt(scope: BudgetScope, key: { account?: string;
   await db
     .update(attemptBudgets)
     .set({ tokens: sql`least(${capacity}::float8, ${attemptBudgets.tokens} + 1)` })
-    .where(and(eq(attemptBudgets.scope, scope), eq(attemptBudgets.account, key.account ?? ""), eq(attemptBudgets.address, key.address ?? "")));
+    .where(
+      and(
+        eq(attemptBudgets.scope, scope),
+        eq(attemptBudgets.account, key.account ?? ""),
+        eq(attemptBudgets.address, key.address ?? ""),
+      ),
+    );
 }
 
 /**
@@ -69,7 +78,10 @@ export async function clearAccountBudgets(email: string, address?: string) {
         eq(attemptBudgets.account, account),
         address === undefined
           ? or(eq(attemptBudgets.scope, "signin-account"), eq(attemptBudgets.scope, "signin-pair"))
-          : or(eq(attemptBudgets.scope, "signin-account"), and(eq(attemptBudgets.scope, "signin-pair"), eq(attemptBudgets.address, address))),
+          : or(
+              eq(attemptBudgets.scope, "signin-account"),
+              and(eq(attemptBudgets.scope, "signin-pair"), eq(attemptBudgets.address, address)),
+            ),
       ),
     );
 }

@@ -4,7 +4,11 @@ import { userTokens, users } from "~/db/schema";
 import { db, type Tx } from "./db.server";
 
 export type TokenPurpose = "reset" | "invite" | "sign_in";
-export const TOKEN_TTL_MS: Record<TokenPurpose, number> = { reset: 60 * 60 * 1000, invite: 7 * 24 * 60 * 60 * 1000, sign_in: 15 * 60 * 1000 };
+export const TOKEN_TTL_MS: Record<TokenPurpose, number> = {
+  reset: 60 * 60 * 1000,
+  invite: 7 * 24 * 60 * 60 * 1000,
+  sign_in: 15 * 60 * 1000,
+};
 
 const hash = (raw: string) => createHash("sha256").update(raw).digest("hex");
 
@@ -15,7 +19,9 @@ export async function issueUserToken(userId: string, purpose: TokenPurpose, tx: 
     .update(userTokens)
     .set({ usedAt: new Date() })
     .where(and(eq(userTokens.userId, userId), eq(userTokens.purpose, purpose), isNull(userTokens.usedAt)));
-  await tx.insert(userTokens).values({ userId, purpose, tokenHash: hash(raw), expiresAt: new Date(Date.now() + TOKEN_TTL_MS[purpose]) });
+  await tx
+    .insert(userTokens)
+    .values({ userId, purpose, tokenHash: hash(raw), expiresAt: new Date(Date.now() + TOKEN_TTL_MS[purpose]) });
   return raw;
 }
 
@@ -26,7 +32,14 @@ export async function peekUserToken(raw: string, purposes: TokenPurpose[] = ["re
     .select({ userId: userTokens.userId, purpose: userTokens.purpose, email: users.email, name: users.name })
     .from(userTokens)
     .innerJoin(users, eq(users.id, userTokens.userId))
-    .where(and(eq(userTokens.tokenHash, hash(raw)), isNull(userTokens.usedAt), gt(userTokens.expiresAt, new Date()), inArray(userTokens.purpose, purposes)))
+    .where(
+      and(
+        eq(userTokens.tokenHash, hash(raw)),
+        isNull(userTokens.usedAt),
+        gt(userTokens.expiresAt, new Date()),
+        inArray(userTokens.purpose, purposes),
+      ),
+    )
     .limit(1);
   return row ?? null;
 }
@@ -37,7 +50,14 @@ export async function consumeUserToken(raw: string, tx: Tx, purposes: TokenPurpo
   const [row] = await tx
     .select({ id: userTokens.id, userId: userTokens.userId, purpose: userTokens.purpose })
     .from(userTokens)
-    .where(and(eq(userTokens.tokenHash, hash(raw)), isNull(userTokens.usedAt), gt(userTokens.expiresAt, new Date()), inArray(userTokens.purpose, purposes)))
+    .where(
+      and(
+        eq(userTokens.tokenHash, hash(raw)),
+        isNull(userTokens.usedAt),
+        gt(userTokens.expiresAt, new Date()),
+        inArray(userTokens.purpose, purposes),
+      ),
+    )
     .for("update")
     .limit(1);
   if (!row) return null;

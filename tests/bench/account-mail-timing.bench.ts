@@ -18,9 +18,13 @@ import { freshDatabase, prepareJobQueues, ROOT, startProcess, stopProcess, waitF
 const slot = Number(process.env.DIOPTRA_TEST_SLOT ?? 0);
 const PORT = 3106 + slot * 10;
 const DB = `dioptra_bench_mail${slot ? `_${slot}` : ""}`;
-if (!existsSync(join(ROOT, BUILD_DIR, "server/index.js"))) throw new Error(`No build in ${BUILD_DIR}: run npm run build first.`);
+if (!existsSync(join(ROOT, BUILD_DIR, "server/index.js")))
+  throw new Error(`No build in ${BUILD_DIR}: run npm run build first.`);
 
-const KNOWN = { "/forgot-password": ["owner@dioptra-demo.test", "optometrist@dioptra-demo.test", "reception@dioptra-demo.test"], "/sign-in-link": ["patient@dioptra-demo.test"] };
+const KNOWN = {
+  "/forgot-password": ["owner@dioptra-demo.test", "optometrist@dioptra-demo.test", "reception@dioptra-demo.test"],
+  "/sign-in-link": ["patient@dioptra-demo.test"],
+};
 
 function stats(times: number[]) {
   const s = [...times].sort((a, b) => a - b);
@@ -44,7 +48,11 @@ let client = 0;
 async function timed(path: string, email: string) {
   client++;
   const t = performance.now();
-  const res = await fetch(`${base}${path}`, { method: "POST", headers: { "x-forwarded-for": `10.9.${client >> 8}.${client & 255}` }, body: new URLSearchParams({ email }) });
+  const res = await fetch(`${base}${path}`, {
+    method: "POST",
+    headers: { "x-forwarded-for": `10.9.${client >> 8}.${client & 255}` },
+    body: new URLSearchParams({ email }),
+  });
   await res.text();
   if (res.status !== 200) throw new Error(`${path} ${email}: ${res.status}`);
   return performance.now() - t;
@@ -64,7 +72,9 @@ try {
     }
     const a = stats(k);
     const b = stats(u);
-    console.log(`${path.padEnd(17)} known: median ${a.median.toFixed(1)} ms, p95 ${a.p95.toFixed(1)} ms (${a.n})   unknown: median ${b.median.toFixed(1)} ms, p95 ${b.p95.toFixed(1)} ms (${b.n})   difference of medians ${(a.median - b.median).toFixed(1)} ms`);
+    console.log(
+      `${path.padEnd(17)} known: median ${a.median.toFixed(1)} ms, p95 ${a.p95.toFixed(1)} ms (${a.n})   unknown: median ${b.median.toFixed(1)} ms, p95 ${b.p95.toFixed(1)} ms (${b.n})   difference of medians ${(a.median - b.median).toFixed(1)} ms`,
+    );
   }
 } finally {
   await stopProcess(app);

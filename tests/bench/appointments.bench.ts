@@ -74,7 +74,9 @@ async function prepare(url: string) {
           from generate_series(${from}, ${to}) g, prov, pat, typ,
                lateral (select (timestamp '2022-01-03 09:00' + ((g / ${PROVIDERS}) / ${SLOTS_PER_DAY}) * interval '1 day'
                                  + ((g / ${PROVIDERS}) % ${SLOTS_PER_DAY}) * interval '30 minutes') at time zone 'Europe/London' as t) s`);
-      process.stdout.write(`\r  inserted ${(to + 1).toLocaleString("en-GB")} / ${N.toLocaleString("en-GB")} appointments`);
+      process.stdout.write(
+        `\r  inserted ${(to + 1).toLocaleString("en-GB")} / ${N.toLocaleString("en-GB")} appointments`,
+      );
     }
     await db.query("analyze");
     console.log(`\n  filled in ${((performance.now() - t0) / 1000).toFixed(1)} s`);
@@ -99,7 +101,9 @@ async function main() {
   const { users } = await import("../../app/db/schema");
   const { eq } = await import("drizzle-orm");
   const [desk] = await db.select().from(users).where(eq(users.email, "reception@dioptra-demo.test"));
-  const cookie = (await createUserSession(new Request("http://127.0.0.1/login"), desk!.id, "/")).headers.get("set-cookie")!.split(";")[0]!;
+  const cookie = (await createUserSession(new Request("http://127.0.0.1/login"), desk!.id, "/")).headers
+    .get("set-cookie")!
+    .split(";")[0]!;
 
   const days = Math.floor(N / PROVIDERS / SLOTS_PER_DAY);
   const weeks = Math.max(1, Math.floor(days / 7) - 1);
@@ -117,7 +121,7 @@ async function main() {
     return { ms, events: (JSON.parse(body) as unknown[]).length };
   };
   let seedN = 12345;
-  const rand = () => ((seedN = (seedN * 1103515245 + 12345) % 2 ** 31) / 2 ** 31);
+  const rand = () => (seedN = (seedN * 1103515245 + 12345) % 2 ** 31) / 2 ** 31;
   for (let i = 0; i < 20; i++) await call(Math.floor(rand() * weeks)); // warm-up
   const times: number[] = [];
   let events = 0;
@@ -129,10 +133,18 @@ async function main() {
   times.sort((a, b) => a - b);
   const median = percentile(times, 50);
   const p95 = percentile(times, 95);
-  console.log(`GET /api/appointments, one week, whole practice (${PROVIDERS} providers), ${N.toLocaleString("en-GB")} appointments in the table`);
+  console.log(
+    `GET /api/appointments, one week, whole practice (${PROVIDERS} providers), ${N.toLocaleString("en-GB")} appointments in the table`,
+  );
   console.log(`  ${RUNS} requests over random weeks, ${Math.round(events / RUNS)} events each on average`);
-  console.log(`  machine: ${cpus().length} CPUs, load average ${loadavg().map((l) => l.toFixed(1)).join(" / ")} (other work on the machine inflates the tail)`);
-  console.log(`  median ${median.toFixed(2)} ms   p95 ${p95.toFixed(2)} ms   max ${times.at(-1)!.toFixed(2)} ms   (target p95 < ${TARGET_P95_MS} ms: ${p95 < TARGET_P95_MS ? "met" : "NOT met"})`);
+  console.log(
+    `  machine: ${cpus().length} CPUs, load average ${loadavg()
+      .map((l) => l.toFixed(1))
+      .join(" / ")} (other work on the machine inflates the tail)`,
+  );
+  console.log(
+    `  median ${median.toFixed(2)} ms   p95 ${p95.toFixed(2)} ms   max ${times.at(-1)!.toFixed(2)} ms   (target p95 < ${TARGET_P95_MS} ms: ${p95 < TARGET_P95_MS ? "met" : "NOT met"})`,
+  );
   await (await import("../../app/utils/db.server")).pool.end();
 }
 

@@ -10,14 +10,7 @@
 import { fileURLToPath } from "node:url";
 import { gzipSync } from "node:zlib";
 import { build } from "esbuild";
-import {
-  combine,
-  formatRx,
-  parseRx,
-  toPowerVector,
-  vertexConvert,
-  type SphCyl,
-} from "../../app/lib/optics/index";
+import { combine, formatRx, parseRx, toPowerVector, vertexConvert, type SphCyl } from "../../app/lib/optics/index";
 
 const N = Number(process.env.BENCH_N ?? 1_000_000);
 if (!Number.isInteger(N) || N < 1) throw new Error(`BENCH_N must be a positive integer (got ${process.env.BENCH_N})`);

@@ -21,7 +21,8 @@ const slot = Number(process.env.DIOPTRA_TEST_SLOT ?? 0);
 const PORT = 3105 + slot * 10;
 const DB = `dioptra_bench_signin${slot ? `_${slot}` : ""}`;
 
-if (!existsSync(join(ROOT, BUILD_DIR, "server/index.js"))) throw new Error(`No build in ${BUILD_DIR}: run npm run build first.`);
+if (!existsSync(join(ROOT, BUILD_DIR, "server/index.js")))
+  throw new Error(`No build in ${BUILD_DIR}: run npm run build first.`);
 
 function stats(times: number[]) {
   const s = [...times].sort((a, b) => a - b);
@@ -62,7 +63,12 @@ try {
       await new Promise((r) => setTimeout(r, 25));
     }
   })();
-  const emails = ["owner@dioptra-demo.test", "optometrist@dioptra-demo.test", "nobody@dioptra-demo.test", "someone-else@example.test"];
+  const emails = [
+    "owner@dioptra-demo.test",
+    "optometrist@dioptra-demo.test",
+    "nobody@dioptra-demo.test",
+    "someone-else@example.test",
+  ];
   const started = performance.now();
   await Promise.all(
     Array.from({ length: ATTEMPTS }, async (_, i) => {
@@ -82,9 +88,15 @@ try {
   const i = stats(idle);
   const h = stats(health);
   console.log(`machine load average (1 min): ${loadavg()[0]!.toFixed(2)}`);
-  console.log(`/healthz idle:         median ${i.median.toFixed(1)} ms   p95 ${i.p95.toFixed(1)} ms   max ${i.max.toFixed(1)} ms   (${i.n} requests)`);
-  console.log(`/healthz during burst: median ${h.median.toFixed(1)} ms   p95 ${h.p95.toFixed(1)} ms   max ${h.max.toFixed(1)} ms   (${h.n} requests)`);
-  console.log(`${ATTEMPTS} sign-in attempts took ${burstMs.toFixed(0)} ms; statuses: ${[...statuses.entries()].map(([s, n]) => `${s}×${n}`).join(", ")}`);
+  console.log(
+    `/healthz idle:         median ${i.median.toFixed(1)} ms   p95 ${i.p95.toFixed(1)} ms   max ${i.max.toFixed(1)} ms   (${i.n} requests)`,
+  );
+  console.log(
+    `/healthz during burst: median ${h.median.toFixed(1)} ms   p95 ${h.p95.toFixed(1)} ms   max ${h.max.toFixed(1)} ms   (${h.n} requests)`,
+  );
+  console.log(
+    `${ATTEMPTS} sign-in attempts took ${burstMs.toFixed(0)} ms; statuses: ${[...statuses.entries()].map(([s, n]) => `${s}×${n}`).join(", ")}`,
+  );
 } finally {
   await stopProcess(app);
 }

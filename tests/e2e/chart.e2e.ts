@@ -79,7 +79,9 @@ describe("the optometrist's day: patients, chart, exam, prescription, upload", (
     const right = page.getByLabel("Right final sphere, cylinder and axis", { exact: true });
     await right.fill("+0.75 -0.50 x 195");
     await expect.poll(() => page.locator("[data-inline-error]").first().textContent()).toMatch(/195/);
-    await expect.poll(() => page.locator('[data-section-status="refraction:final"]').textContent()).toContain("Not saved");
+    await expect
+      .poll(() => page.locator('[data-section-status="refraction:final"]').textContent())
+      .toContain("Not saved");
     await screenshot(page, "exam-typo");
     await right.fill("+0.75 -0.50 x 175");
     await page.getByLabel("Left final sphere, cylinder and axis", { exact: true }).fill("-4.50 -0.75 x 170");
@@ -87,30 +89,50 @@ describe("the optometrist's day: patients, chart, exam, prescription, upload", (
     await expect.poll(() => page.locator("[data-inline-error]").count()).toBe(0);
     await expect.poll(() => page.getByTestId("change-left").textContent()).toContain("Meaningful change: 1.00 D");
     await expect.poll(() => page.getByTestId("change-left").textContent()).toContain("ΔM −1.00");
-    await expect.poll(() => page.locator('[data-section-status="refraction:final"]').textContent(), { timeout: 10_000 }).toMatch(/Saved \d\d:\d\d/);
+    await expect
+      .poll(() => page.locator('[data-section-status="refraction:final"]').textContent(), { timeout: 10_000 })
+      .toMatch(/Saved \d\d:\d\d/);
 
     // A save that never reaches the server keeps the text and says why; the next change saves it.
     const offline = /\.data(\?|$)/;
-    await page.route(offline, (route) => (route.request().method() === "POST" ? route.abort("internetdisconnected") : route.continue()));
+    await page.route(offline, (route) =>
+      route.request().method() === "POST" ? route.abort("internetdisconnected") : route.continue(),
+    );
     await page.getByLabel("Reason for visit").fill("Blurred distance vision when driving at night");
-    await expect.poll(() => page.locator('[data-section-status="history"]').textContent(), { timeout: 10_000 }).toContain("Not saved");
+    await expect
+      .poll(() => page.locator('[data-section-status="history"]').textContent(), { timeout: 10_000 })
+      .toContain("Not saved");
     await expect.poll(() => page.getByText(/could not be reached/).count()).toBe(1);
-    expect(await page.getByLabel("Reason for visit").inputValue()).toBe("Blurred distance vision when driving at night");
+    expect(await page.getByLabel("Reason for visit").inputValue()).toBe(
+      "Blurred distance vision when driving at night",
+    );
     await page.unroute(offline);
     await page.getByLabel("Reason for visit").press("End");
     await page.getByLabel("Reason for visit").pressSequentially(".");
-    await expect.poll(() => page.locator('[data-section-status="history"]').textContent(), { timeout: 10_000 }).toMatch(/Saved \d\d:\d\d/);
+    await expect
+      .poll(() => page.locator('[data-section-status="history"]').textContent(), { timeout: 10_000 })
+      .toMatch(/Saved \d\d:\d\d/);
 
     await page.getByLabel("Right IOP (mmHg)").fill("27");
     await page.getByLabel("Right IOP method", { exact: true }).selectOption("goldmann");
     await page.getByLabel("Right IOP time of day").fill("10:20");
-    await expect.poll(() => page.locator('[data-section-status="iop"]').textContent(), { timeout: 10_000 }).toMatch(/Saved/);
+    await expect
+      .poll(() => page.locator('[data-section-status="iop"]').textContent(), { timeout: 10_000 })
+      .toMatch(/Saved/);
     await page.reload();
-    await expect.poll(() => page.getByTestId("referral-prompts").textContent()).toMatch(/Right IOP 27 mmHg by applanation/);
-    await expect.poll(() => page.getByLabel("Left final sphere, cylinder and axis", { exact: true }).inputValue()).toBe("-4.50 -0.75 x 170");
+    await expect
+      .poll(() => page.getByTestId("referral-prompts").textContent())
+      .toMatch(/Right IOP 27 mmHg by applanation/);
+    await expect
+      .poll(() => page.getByLabel("Left final sphere, cylinder and axis", { exact: true }).inputValue())
+      .toBe("-4.50 -0.75 x 170");
 
-    const png = await sharp({ create: { width: 500, height: 400, channels: 3, background: { r: 150, g: 70, b: 40 } } }).png().toBuffer();
-    await page.getByLabel("File (JPEG, PNG, WebP or PDF, up to 15 MB)").setInputFiles({ name: "right-fundus.png", mimeType: "image/png", buffer: png });
+    const png = await sharp({ create: { width: 500, height: 400, channels: 3, background: { r: 150, g: 70, b: 40 } } })
+      .png()
+      .toBuffer();
+    await page
+      .getByLabel("File (JPEG, PNG, WebP or PDF, up to 15 MB)")
+      .setInputFiles({ name: "right-fundus.png", mimeType: "image/png", buffer: png });
     await page.getByRole("button", { name: "Attach" }).click();
     await expect.poll(() => page.getByText("right-fundus.png attached.").count()).toBe(1);
     await expect.poll(() => page.getByRole("img", { name: "Thumbnail of right-fundus.png" }).count()).toBe(1);
@@ -119,7 +141,9 @@ describe("the optometrist's day: patients, chart, exam, prescription, upload", (
 
     await page.getByRole("button", { name: "Sign exam" }).click();
     await expect.poll(() => page.getByText(/^Signed by Tobias Wren/).count()).toBe(1);
-    await expect.poll(() => page.getByLabel("Left final sphere, cylinder and axis", { exact: true }).isDisabled()).toBe(true);
+    await expect
+      .poll(() => page.getByLabel("Left final sphere, cylinder and axis", { exact: true }).isDisabled())
+      .toBe(true);
     await page.getByLabel("Part of the exam").fill("Case history");
     await page.getByLabel("Correction", { exact: true }).fill("Also reports eye strain after screen work.");
     await page.getByRole("button", { name: "Add addendum" }).click();
@@ -151,21 +175,33 @@ describe("the optometrist's day: patients, chart, exam, prescription, upload", (
     await page.getByRole("link", { name: "Strand-Achebe, Wilhelmina" }).click();
     await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
     // A single non-contact reading of 26 mmHg is advice to repeat by applanation, not a referral prompt (NICE NG81 1.1.2).
-    await expect.poll(() => page.getByText(/Repeat the measurement \(not a referral prompt\): Right IOP 26 mmHg/).count()).toBeGreaterThan(0);
+    await expect
+      .poll(() => page.getByText(/Repeat the measurement \(not a referral prompt\): Right IOP 26 mmHg/).count())
+      .toBeGreaterThan(0);
     expect(await page.getByText(/Referral prompt: Right IOP 26 mmHg/).count()).toBe(0);
-    await page.getByRole("link", { name: /signed$/ }).first().click();
+    await page
+      .getByRole("link", { name: /signed$/ })
+      .first()
+      .click();
     await page.waitForURL(/\/exams\//);
     const examUrl = page.url();
-    await expect.poll(() => page.getByTestId("repeat-advice").first().textContent()).toMatch(/Repeat the measurement: Right IOP 26 mmHg/);
+    await expect
+      .poll(() => page.getByTestId("repeat-advice").first().textContent())
+      .toMatch(/Repeat the measurement: Right IOP 26 mmHg/);
     await expectAccessible(page);
     await screenshot(page, "exam-referral-candidate");
     await page.goto("/patients?q=Maddox-Ferreira");
     await page.getByRole("link", { name: "Maddox-Ferreira, Corentin" }).click();
     await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
-    await page.getByRole("link", { name: /signed$/ }).first().click();
+    await page
+      .getByRole("link", { name: /signed$/ })
+      .first()
+      .click();
     await page.waitForURL(/\/exams\//);
     // 6 of plates 1–15 read normally: the 38-plate criterion (9 or fewer) reads as deficiency suspected.
-    await expect.poll(() => page.getByTestId("plate-screening").first().textContent()).toContain("deficiency suspected");
+    await expect
+      .poll(() => page.getByTestId("plate-screening").first().textContent())
+      .toContain("deficiency suspected");
     const desk = await browser.newPage();
     await signIn(desk, DEMO.receptionist);
     await desk.waitForURL("**/");

@@ -8,7 +8,8 @@ import { DEMO, expectAccessible, screenshot, signIn, useBrowser } from "./fixtur
 
 const browser = useBrowser();
 const poll = <T>(fn: () => T | Promise<T>) => expect.poll(fn, { timeout: 10_000 });
-const saved = (page: Page, section: string) => poll(() => page.locator(`[data-section-status="${section}"]`).textContent()).toMatch(/Saved \d\d:\d\d/);
+const saved = (page: Page, section: string) =>
+  poll(() => page.locator(`[data-section-status="${section}"]`).textContent()).toMatch(/Saved \d\d:\d\d/);
 
 /** Opens a seeded patient's chart and starts a new exam; answers the exam's address. */
 async function newExamFor(page: Page, lastName: string, firstName: string) {
@@ -45,7 +46,9 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     await page.getByRole("button", { name: "Save details" }).click();
     await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
     await poll(() => page.getByTestId("chart-allergies").textContent()).toBe("None known");
-    await poll(() => page.getByTestId("chart-gp").textContent()).toBe("Dr Peregrine Ashworth-Nwosu, Weir Street Surgery, 2 Weir Street, Brackenford BF1 2AA, Tel 01632 960 321");
+    await poll(() => page.getByTestId("chart-gp").textContent()).toBe(
+      "Dr Peregrine Ashworth-Nwosu, Weir Street Surgery, 2 Weir Street, Brackenford BF1 2AA, Tel 01632 960 321",
+    );
 
     const examUrl = await newExamFor(page, "Dunstan-Oyelaran", "Philippa");
     const examId = examUrl.pathname.split("/").pop()!;
@@ -56,7 +59,9 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     await flashes.focus();
     await flashes.selectOption("left");
     await page.getByLabel("New floaters").selectOption("left");
-    await page.getByLabel("Onset, duration and details").fill("Flashes in the left eye since this morning, then a shower of dots");
+    await page
+      .getByLabel("Onset, duration and details")
+      .fill("Flashes in the left eye since this morning, then a shower of dots");
     await saved(page, "redflags");
     // New flashes and floaters without a break found yet: urgent (College of Optometrists guidance).
     await poll(() => page.getByTestId("triage-urgency").textContent()).toBe("Proposed: Urgent");
@@ -76,7 +81,9 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     await saved(page, "fundus");
     await poll(() => page.getByTestId("triage-urgency").textContent()).toBe("Proposed: Same day");
     const panel = page.getByTestId("triage");
-    await poll(() => panel.textContent()).toContain("Left eye: Retinal break with flashes, floaters or a shadow in the vision");
+    await poll(() => panel.textContent()).toContain(
+      "Left eye: Retinal break with flashes, floaters or a shadow in the vision",
+    );
     await poll(() => panel.textContent()).toContain("Source: College of Optometrists");
     await poll(() => panel.textContent()).toContain("A prompt for your judgement, not a decision.");
     await expectAccessible(page);
@@ -89,17 +96,23 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
 
     await page.getByRole("button", { name: "Sign exam" }).click();
     await poll(() => page.getByText(/^Signed by Tobias Wren/).count()).toBe(1);
-    await poll(() => page.getByTestId("signatures").textContent()).toContain("Signed by the examining clinician: Tobias Wren");
+    await poll(() => page.getByTestId("signatures").textContent()).toContain(
+      "Signed by the examining clinician: Tobias Wren",
+    );
     await expectAccessible(page);
 
     // The referral form pre-fills the proposed urgency with triage's reasons.
     await page.goto(`/referrals/new?exam=${examId}`);
-    await poll(() => page.getByRole("heading", { level: 1 }).textContent()).toBe("Referral for Philippa Dunstan-Oyelaran");
+    await poll(() => page.getByRole("heading", { level: 1 }).textContent()).toBe(
+      "Referral for Philippa Dunstan-Oyelaran",
+    );
     await poll(() => page.getByLabel("Urgency", { exact: true }).inputValue()).toBe("same_day");
     await poll(() => page.getByTestId("triage-proposal").textContent()).toMatch(/retinal break with flashes/i);
     await expectAccessible(page);
     await page.getByLabel("Send to").selectOption({ label: "Mr Lucan Ferreira-Holt, Brackenford Eye Unit" });
-    await page.getByLabel("Letter text").fill("Thank you for seeing Ms Dunstan-Oyelaran today: a symptomatic horseshoe tear in the left eye.");
+    await page
+      .getByLabel("Letter text")
+      .fill("Thank you for seeing Ms Dunstan-Oyelaran today: a symptomatic horseshoe tear in the left eye.");
     await page.getByRole("button", { name: "Save draft and preview" }).click();
     await page.waitForURL(/\/referrals\/[0-9a-f-]{36}\?preview=1/);
     const referralId = new URL(page.url()).pathname.split("/").pop()!;
@@ -109,11 +122,16 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     expect(pdf.headers()["content-type"]).toBe("application/pdf");
     const dir = mkdtempSync(join(tmpdir(), "clinical-e2e-"));
     writeFileSync(join(dir, "letter.pdf"), await pdf.body());
-    const text = execFileSync("pdftotext", ["-raw", join(dir, "letter.pdf"), "-"], { encoding: "utf8" }).replace(/\s+/g, " ");
+    const text = execFileSync("pdftotext", ["-raw", join(dir, "letter.pdf"), "-"], { encoding: "utf8" }).replace(
+      /\s+/g,
+      " ",
+    );
     expect(text).toMatch(/Same day/i);
     expect(text.replace(/\s+/g, " ")).toMatch(/retinal break with flashes, floaters or a shadow in the vision/i);
     expect(text).toContain("Horseshoe tear at 1 o'clock");
-    expect(text).toContain("GP: Dr Peregrine Ashworth-Nwosu, Weir Street Surgery, 2 Weir Street, Brackenford BF1 2AA, Tel 01632 960 321");
+    expect(text).toContain(
+      "GP: Dr Peregrine Ashworth-Nwosu, Weir Street Surgery, 2 Weir Street, Brackenford BF1 2AA, Tel 01632 960 321",
+    );
     expect(text).toContain("Allergies: None known");
     // The letter is for the ophthalmologist: plain clinical words, no rule sources or identifiers.
     expect(text).not.toContain("Guidance for Professional Practice");
@@ -175,11 +193,15 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     expect(await page.getByRole("button", { name: "Countersign exam" }).count()).toBe(0);
 
     await owner.reload();
-    await owner.getByLabel("Countersignature note (optional)").fill("Reviewed: agree with routine referral for raised pressure.");
+    await owner
+      .getByLabel("Countersignature note (optional)")
+      .fill("Reviewed: agree with routine referral for raised pressure.");
     await owner.getByRole("button", { name: "Countersign exam" }).click();
     await poll(() => owner.getByText("Exam countersigned").count()).toBeGreaterThan(0);
     await poll(() => owner.getByTestId("signatures").textContent()).toContain("Countersigned by Imogen Castellane");
-    await poll(() => owner.getByTestId("signatures").textContent()).toContain("Signed by the examining clinician: Tobias Wren");
+    await poll(() => owner.getByTestId("signatures").textContent()).toContain(
+      "Signed by the examining clinician: Tobias Wren",
+    );
     await expectAccessible(owner);
     await screenshot(owner, "exam-countersigned");
 

@@ -38,7 +38,11 @@ export function useBrowser() {
   let browser: Browser;
   const contexts: BrowserContext[] = [];
   beforeAll(async () => {
-    browser = await chromium.launch({ executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium", headless: true, args: CHROMIUM_ARGS });
+    browser = await chromium.launch({
+      executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium",
+      headless: true,
+      args: CHROMIUM_ARGS,
+    });
   });
   afterAll(async () => {
     await Promise.all(contexts.map((c) => c.close().catch(() => undefined)));
@@ -46,7 +50,11 @@ export function useBrowser() {
   });
   return {
     async newPage(options: { viewport?: { width: number; height: number } } = {}): Promise<Page> {
-      const context = await browser.newContext({ baseURL: baseUrl(), viewport: options.viewport ?? { width: 1280, height: 900 }, acceptDownloads: true });
+      const context = await browser.newContext({
+        baseURL: baseUrl(),
+        viewport: options.viewport ?? { width: 1280, height: 900 },
+        acceptDownloads: true,
+      });
       contexts.push(context);
       const page = await context.newPage();
       page.setDefaultTimeout(15_000);
@@ -66,20 +74,44 @@ export async function signIn(page: Page, email: string, password = DEMO_PASSWORD
 export async function expectAccessible(page: Page) {
   await page.evaluate(axeSource);
   const result = (await page.evaluate(async () => {
-    const axe = (window as unknown as { axe: { run: (ctx: Document, opts: unknown) => Promise<{ violations: { id: string; impact: string; help: string; nodes: { target: string[] }[] }[] }> } }).axe;
+    const axe = (
+      window as unknown as {
+        axe: {
+          run: (
+            ctx: Document,
+            opts: unknown,
+          ) => Promise<{ violations: { id: string; impact: string; help: string; nodes: { target: string[] }[] }[] }>;
+        };
+      }
+    ).axe;
     return axe.run(document, { resultTypes: ["violations"] });
   })) as { violations: { id: string; impact: string; help: string; nodes: { target: string[] }[] }[] };
   const serious = result.violations.filter((v) => v.impact === "serious" || v.impact === "critical");
-  expect(serious.map((v) => `${v.impact}: ${v.id} (${v.help}) at ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`)).toEqual([]);
+  expect(
+    serious.map((v) => `${v.impact}: ${v.id} (${v.help}) at ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`),
+  ).toEqual([]);
 }
 
 /** Messages in the mail stand-in addressed to `to`, newest first (full bodies). */
 export async function mailTo(to: string) {
   const port = inject("mailApiPort");
-  const list = (await (await fetch(`http://127.0.0.1:${port}/messages?to=${encodeURIComponent(to)}`)).json()) as { id: string }[];
-  return Promise.all(list.map(async (m) => (await (await fetch(`http://127.0.0.1:${port}/messages/${m.id}`)).json()) as { id: string; subject: string; text: string; attachments: { index: number; filename: string }[] }));
+  const list = (await (await fetch(`http://127.0.0.1:${port}/messages?to=${encodeURIComponent(to)}`)).json()) as {
+    id: string;
+  }[];
+  return Promise.all(
+    list.map(
+      async (m) =>
+        (await (await fetch(`http://127.0.0.1:${port}/messages/${m.id}`)).json()) as {
+          id: string;
+          subject: string;
+          text: string;
+          attachments: { index: number; filename: string }[];
+        },
+    ),
+  );
 }
 
 export async function screenshot(page: Page, name: string) {
-  if (process.env.E2E_SCREENSHOTS) await page.screenshot({ path: join(process.env.E2E_SCREENSHOTS, `${name}.png`), fullPage: true });
+  if (process.env.E2E_SCREENSHOTS)
+    await page.screenshot({ path: join(process.env.E2E_SCREENSHOTS, `${name}.png`), fullPage: true });
 }

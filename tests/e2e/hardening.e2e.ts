@@ -12,21 +12,31 @@ import { baseUrl, DEMO, DEMO_PASSWORD, expectAccessible, signIn, useBrowser } fr
 const browser = useBrowser();
 
 async function sessionCookie(email: string = DEMO.receptionist) {
-  const res = await fetch(`${baseUrl()}/login`, { method: "POST", body: new URLSearchParams({ email, password: DEMO_PASSWORD }), redirect: "manual" });
+  const res = await fetch(`${baseUrl()}/login`, {
+    method: "POST",
+    body: new URLSearchParams({ email, password: DEMO_PASSWORD }),
+    redirect: "manual",
+  });
   expect(res.status).toBe(302);
   return res.headers.get("set-cookie")!.split(";")[0]!;
 }
 
 /** A raw HTTP request, so the Host header can be anything (fetch always sends the URL's host). */
-function raw(path: string, opts: { method?: string; headers?: Record<string, string>; body?: string } = {}): Promise<{ status: number; headers: Record<string, string | string[] | undefined>; body: string }> {
+function raw(
+  path: string,
+  opts: { method?: string; headers?: Record<string, string>; body?: string } = {},
+): Promise<{ status: number; headers: Record<string, string | string[] | undefined>; body: string }> {
   const url = new URL(baseUrl());
   return new Promise((resolve, reject) => {
-    const req = httpRequest({ host: url.hostname, port: url.port, path, method: opts.method ?? "GET", headers: opts.headers }, (res) => {
-      let body = "";
-      res.setEncoding("utf8");
-      res.on("data", (c: string) => (body += c));
-      res.on("end", () => resolve({ status: res.statusCode!, headers: res.headers, body }));
-    });
+    const req = httpRequest(
+      { host: url.hostname, port: url.port, path, method: opts.method ?? "GET", headers: opts.headers },
+      (res) => {
+        let body = "";
+        res.setEncoding("utf8");
+        res.on("data", (c: string) => (body += c));
+        res.on("end", () => resolve({ status: res.statusCode!, headers: res.headers, body }));
+      },
+    );
     req.on("error", reject);
     if (opts.body) req.write(opts.body);
     req.end();
@@ -60,7 +70,15 @@ describe("security headers", () => {
       if (/Content Security Policy|Refused to/i.test(m.text())) violations.push(m.text());
     });
     await page.goto("/login");
-    await expect.poll(() => page.evaluate(() => Boolean((window as unknown as { __reactRouterRouteModules?: unknown }).__reactRouterRouteModules)), { timeout: 15_000 }).toBe(true);
+    await expect
+      .poll(
+        () =>
+          page.evaluate(() =>
+            Boolean((window as unknown as { __reactRouterRouteModules?: unknown }).__reactRouterRouteModules),
+          ),
+        { timeout: 15_000 },
+      )
+      .toBe(true);
     // Client-side navigation works: the app is hydrated under the policy.
     await page.getByRole("link", { name: "Forgotten your password?" }).click();
     await page.waitForURL("**/forgot-password");
@@ -96,7 +114,11 @@ describe("host names", () => {
     expect(spoofed.body).toMatch(/does not answer for the host name evil\.example/);
     const post = await raw("/login", {
       method: "POST",
-      headers: { host: "evil.example", origin: "http://evil.example", "content-type": "application/x-www-form-urlencoded" },
+      headers: {
+        host: "evil.example",
+        origin: "http://evil.example",
+        "content-type": "application/x-www-form-urlencoded",
+      },
       body: new URLSearchParams({ email: DEMO.owner, password: DEMO_PASSWORD }).toString(),
     });
     expect(post.status).toBe(421);
@@ -108,14 +130,25 @@ describe("host names", () => {
 describe("the JSON API's errors", () => {
   const problemOf = async (res: Response) => {
     expect(res.headers.get("content-type")).toMatch(/^application\/problem\+json/);
-    return (await res.json()) as { type: string; title: string; status: number; detail: string; fieldErrors?: Record<string, string[]> };
+    return (await res.json()) as {
+      type: string;
+      title: string;
+      status: number;
+      detail: string;
+      fieldErrors?: Record<string, string[]>;
+    };
   };
 
   it("answers unknown API paths with a JSON 404", async () => {
     const cookie = await sessionCookie();
     const res = await fetch(`${baseUrl()}/api/no-such-thing/42`, { headers: { cookie } });
     expect(res.status).toBe(404);
-    expect(await problemOf(res)).toMatchObject({ type: "about:blank", title: "Not Found", status: 404, detail: expect.stringContaining("/api/no-such-thing/42") });
+    expect(await problemOf(res)).toMatchObject({
+      type: "about:blank",
+      title: "Not Found",
+      status: 404,
+      detail: expect.stringContaining("/api/no-such-thing/42"),
+    });
   });
 
   it("answers a method the route does not take with 405 and Allow", async () => {
@@ -124,7 +157,11 @@ describe("the JSON API's errors", () => {
     expect(res.status).toBe(405);
     expect(res.headers.get("allow")).toBe("GET, HEAD");
     expect(await problemOf(res)).toMatchObject({ status: 405 });
-    const put = await fetch(`${baseUrl()}/api/appointments`, { method: "PUT", headers: { cookie, "content-type": "application/json" }, body: "{}" });
+    const put = await fetch(`${baseUrl()}/api/appointments`, {
+      method: "PUT",
+      headers: { cookie, "content-type": "application/json" },
+      body: "{}",
+    });
     expect(put.status).toBe(405);
     expect(put.headers.get("allow")).toBe("GET, HEAD, POST");
   });
@@ -134,15 +171,25 @@ describe("the JSON API's errors", () => {
     expect(anon.status).toBe(401);
     expect(await problemOf(anon)).toMatchObject({ status: 401, title: "Unauthorized", detail: "Sign in first." });
     const cookie = await sessionCookie();
-    const bad = await fetch(`${baseUrl()}/api/appointments`, { method: "POST", headers: { cookie, "content-type": "application/json" }, body: JSON.stringify({ patientId: 5, start: "0000-01-01" }) });
+    const bad = await fetch(`${baseUrl()}/api/appointments`, {
+      method: "POST",
+      headers: { cookie, "content-type": "application/json" },
+      body: JSON.stringify({ patientId: 5, start: "0000-01-01" }),
+    });
     expect(bad.status).toBe(400);
     const p = await problemOf(bad);
     expect(p.status).toBe(400);
     expect(Object.keys(p.fieldErrors ?? {})).toEqual(expect.arrayContaining(["patientId", "start"]));
-    const impossible = await fetch(`${baseUrl()}/api/appointments?start=0000-01-01&end=2026-02-30`, { headers: { cookie } });
+    const impossible = await fetch(`${baseUrl()}/api/appointments?start=0000-01-01&end=2026-02-30`, {
+      headers: { cookie },
+    });
     expect(impossible.status).toBe(400);
     expect((await problemOf(impossible)).fieldErrors?.end?.[0]).toMatch(/not an ISO 8601 time|does not exist/);
-    const broken = await fetch(`${baseUrl()}/api/appointments`, { method: "POST", headers: { cookie, "content-type": "application/json" }, body: "{" });
+    const broken = await fetch(`${baseUrl()}/api/appointments`, {
+      method: "POST",
+      headers: { cookie, "content-type": "application/json" },
+      body: "{",
+    });
     expect(broken.status).toBe(400);
     expect((await problemOf(broken)).detail).toBe("The body is not valid JSON.");
   });
@@ -150,9 +197,18 @@ describe("the JSON API's errors", () => {
 
 describe("bodies that are not forms", () => {
   it("signs out on a POST to /logout without a body, and with a JSON body", async () => {
-    for (const init of [{}, { headers: { "content-type": "application/json" }, body: "{}" }, { headers: { "content-type": "text/plain" }, body: "bye" }]) {
+    for (const init of [
+      {},
+      { headers: { "content-type": "application/json" }, body: "{}" },
+      { headers: { "content-type": "text/plain" }, body: "bye" },
+    ]) {
       const cookie = await sessionCookie();
-      const out = await fetch(`${baseUrl()}/logout`, { method: "POST", redirect: "manual", ...init, headers: { cookie, ...(init.headers ?? {}) } });
+      const out = await fetch(`${baseUrl()}/logout`, {
+        method: "POST",
+        redirect: "manual",
+        ...init,
+        headers: { cookie, ...(init.headers ?? {}) },
+      });
       expect(out.status).toBe(302);
       expect(out.headers.get("location")).toBe("/login");
       // The old cookie no longer opens anything.
@@ -163,15 +219,26 @@ describe("bodies that are not forms", () => {
   });
 
   it("answers /login with JSON, text, an empty body or a NUL byte with a 4xx that says why", async () => {
-    const json = await fetch(`${baseUrl()}/login`, { method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify({ email: DEMO.owner, password: DEMO_PASSWORD }) });
+    const json = await fetch(`${baseUrl()}/login`, {
+      method: "POST",
+      headers: { "content-type": "application/json" },
+      body: JSON.stringify({ email: DEMO.owner, password: DEMO_PASSWORD }),
+    });
     expect(json.status).toBe(415);
     expect(await json.text()).toMatch(/takes a form/);
     const empty = await fetch(`${baseUrl()}/login`, { method: "POST" });
     expect(empty.status).toBe(400);
-    const nul = await fetch(`${baseUrl()}/patients/new`, { method: "POST", headers: { cookie: await sessionCookie(), "content-type": "application/x-www-form-urlencoded" }, body: "firstName=A%00B&lastName=C&dateOfBirth=1980-01-01" });
+    const nul = await fetch(`${baseUrl()}/patients/new`, {
+      method: "POST",
+      headers: { cookie: await sessionCookie(), "content-type": "application/x-www-form-urlencoded" },
+      body: "firstName=A%00B&lastName=C&dateOfBirth=1980-01-01",
+    });
     expect(nul.status).toBe(400);
     expect(await nul.text()).toMatch(/"firstName" contains a NUL character/);
-    const takings = await fetch(`${baseUrl()}/billing/takings?day=2026-02-30`, { headers: { cookie: await sessionCookie(DEMO.owner) }, redirect: "manual" });
+    const takings = await fetch(`${baseUrl()}/billing/takings?day=2026-02-30`, {
+      headers: { cookie: await sessionCookie(DEMO.owner) },
+      redirect: "manual",
+    });
     expect(takings.status).toBeLessThan(500);
   });
 });
@@ -182,7 +249,15 @@ describe("patients search box", () => {
     await signIn(page, DEMO.receptionist);
     await page.waitForURL((u) => u.pathname === "/");
     await page.goto("/patients");
-    await expect.poll(() => page.evaluate(() => Boolean((window as unknown as { __reactRouterRouteModules?: unknown }).__reactRouterRouteModules)), { timeout: 15_000 }).toBe(true);
+    await expect
+      .poll(
+        () =>
+          page.evaluate(() =>
+            Boolean((window as unknown as { __reactRouterRouteModules?: unknown }).__reactRouterRouteModules),
+          ),
+        { timeout: 15_000 },
+      )
+      .toBe(true);
     const box = page.getByRole("combobox", { name: "Find a patient" });
     const validator = new HtmlValidate({
       extends: ["html-validate:recommended"],

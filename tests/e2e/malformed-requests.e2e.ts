@@ -44,7 +44,10 @@ function fieldsOf(file: string) {
   for (const m of text.matchAll(/^\s{2,6}([a-z][A-Za-z0-9]*): z\./gm)) names.add(m[1]!);
   const intents = new Set<string>();
   for (const m of text.matchAll(/intent[^\n]{0,60}?["']([a-z][a-z0-9-_]*)["']/g)) intents.add(m[1]!);
-  for (const m of text.matchAll(/value="([a-z][a-z0-9-_]*)"[^>]*name="intent"|name="intent"[^>]*value="([a-z][a-z0-9-_]*)"/g)) intents.add((m[1] ?? m[2])!);
+  for (const m of text.matchAll(
+    /value="([a-z][a-z0-9-_]*)"[^>]*name="intent"|name="intent"[^>]*value="([a-z][a-z0-9-_]*)"/g,
+  ))
+    intents.add((m[1] ?? m[2])!);
   return { names: [...names].filter((n) => n !== "intent").slice(0, 40), intents: [...intents].slice(0, 12) };
 }
 
@@ -65,7 +68,11 @@ let ids: Record<string, string[]> = {};
 let cookies: Record<"owner" | "patient" | "none", string> = { owner: "", patient: "", none: "" };
 
 async function cookieFor(email: string) {
-  const res = await fetch(`${baseUrl()}/login`, { method: "POST", body: new URLSearchParams({ email, password: DEMO_PASSWORD }), redirect: "manual" });
+  const res = await fetch(`${baseUrl()}/login`, {
+    method: "POST",
+    body: new URLSearchParams({ email, password: DEMO_PASSWORD }),
+    redirect: "manual",
+  });
   const set = res.headers.get("set-cookie");
   if (!set) throw new Error(`could not sign in as ${email}: ${res.status}`);
   return set.split(";")[0]!;
@@ -105,8 +112,12 @@ function variantsFor(path: string): string[] {
   const params = [...path.matchAll(/:(\w+)/g)].map((m) => m[1]!);
   if (!params.length) return [path.replace(/\*$/, "no-such-page")];
   const real = fill(path, (p) => ids[p]?.[0] ?? "00000000-0000-4000-8000-000000000000");
-  const nonsense = fill(path, (p) => (p === "variant" ? "thumb" : p === "index" ? "-1" : p === "token" ? "AAAA.BBBB-+=%20!" : "not-an-id\u0000"));
-  const missing = fill(path, (p) => (p === "variant" ? "original" : p === "index" ? "99" : "00000000-0000-4000-8000-000000000000"));
+  const nonsense = fill(path, (p) =>
+    p === "variant" ? "thumb" : p === "index" ? "-1" : p === "token" ? "AAAA.BBBB-+=%20!" : "not-an-id\u0000",
+  );
+  const missing = fill(path, (p) =>
+    p === "variant" ? "original" : p === "index" ? "99" : "00000000-0000-4000-8000-000000000000",
+  );
   return [...new Set([real, nonsense, missing])];
 }
 
@@ -150,7 +161,9 @@ describe("malformed requests to every route", () => {
   for (const route of all) {
     it(`${route.path} answers malformed requests with 4xx, never 5xx`, { timeout: 180_000 }, async () => {
       const { names, intents } = fieldsOf(route.file);
-      const fields = [...new Set([...names, "email", "password", "q", "date", "day", "start", "end", "notes", "name", "amount"])];
+      const fields = [
+        ...new Set([...names, "email", "password", "q", "date", "day", "start", "end", "notes", "name", "amount"]),
+      ];
       const isApi = route.path.startsWith("/api/");
       const before = sent.length;
       // Sign-out would end the walk's own sessions: it is walked signed out.
@@ -166,20 +179,53 @@ describe("malformed requests to every route", () => {
           await post("text/plain", "hello", "text/plain");
           await post("broken JSON", "{", "application/json");
           await post("JSON array", "[]", "application/json");
-          await post("JSON of wrong types", JSON.stringify(Object.fromEntries(fields.map((f, i) => [f, [i, { nested: null }, true][i % 3]]))), "application/json");
-          await post("JSON with NUL", JSON.stringify(Object.fromEntries(fields.map((f) => [f, "a\u0000b"]))), "application/json");
-          await post("JSON impossible dates", JSON.stringify({ ...Object.fromEntries(fields.map((f) => [f, "2026-02-30"])), start: "0000-01-01", end: "9999-12-31" }), "application/json");
+          await post(
+            "JSON of wrong types",
+            JSON.stringify(Object.fromEntries(fields.map((f, i) => [f, [i, { nested: null }, true][i % 3]]))),
+            "application/json",
+          );
+          await post(
+            "JSON with NUL",
+            JSON.stringify(Object.fromEntries(fields.map((f) => [f, "a\u0000b"]))),
+            "application/json",
+          );
+          await post(
+            "JSON impossible dates",
+            JSON.stringify({
+              ...Object.fromEntries(fields.map((f) => [f, "2026-02-30"])),
+              start: "0000-01-01",
+              end: "9999-12-31",
+            }),
+            "application/json",
+          );
           await post("huge form", formBody(fields.slice(0, 3), intents[0], HUGE), "application/x-www-form-urlencoded");
-          await post("broken multipart", "--x\r\nContent-Disposition: form-data; name=\"a\"\r\n\r\nb", "multipart/form-data; boundary=zz");
-          if (isApi) await post("PATCH JSON of wrong types", JSON.stringify({ start: 5, status: ["x"], providerId: {} }), "application/json", "PATCH");
+          await post(
+            "broken multipart",
+            '--x\r\nContent-Disposition: form-data; name="a"\r\n\r\nb',
+            "multipart/form-data; boundary=zz",
+          );
+          if (isApi)
+            await post(
+              "PATCH JSON of wrong types",
+              JSON.stringify({ start: 5, status: ["x"], providerId: {} }),
+              "application/json",
+              "PATCH",
+            );
           if (role === "none" || path !== variantsFor(route.path)[0]) continue;
           for (const intent of intents.length ? intents : [undefined]) {
-            for (const value of BAD_VALUES) await post(`form ${intent ?? ""} ${JSON.stringify(value.slice(0, 12))}`, formBody(fields, intent, value), "application/x-www-form-urlencoded");
+            for (const value of BAD_VALUES)
+              await post(
+                `form ${intent ?? ""} ${JSON.stringify(value.slice(0, 12))}`,
+                formBody(fields, intent, value),
+                "application/x-www-form-urlencoded",
+              );
           }
         }
       }
       const mine = sent.slice(before);
-      const fives = mine.filter((s) => s.status >= 500).map((s) => `${s.status} ${s.method} ${s.path.slice(0, 80)} — ${s.what}`);
+      const fives = mine
+        .filter((s) => s.status >= 500)
+        .map((s) => `${s.status} ${s.method} ${s.path.slice(0, 80)} — ${s.what}`);
       expect(fives.join("\n")).toBe("");
     });
   }

@@ -21,7 +21,14 @@ afterAll(async () => {
 
 /** The seeded referral candidate, found by its findings: a signed exam with IOP above 21 mmHg and an enlarged blind spot (wider than 7.5°). */
 async function seededCandidate() {
-  const { rows } = await client.query<{ exam_id: string; patient_id: string; name: string; mm_hg: number; width: number; height: number }>(`
+  const { rows } = await client.query<{
+    exam_id: string;
+    patient_id: string;
+    name: string;
+    mm_hg: number;
+    width: number;
+    height: number;
+  }>(`
     select e.id as exam_id, e.patient_id, p.first_name || ' ' || p.last_name as name, i.mm_hg, f.blind_spot_width_deg as width, f.blind_spot_height_deg as height
     from exams e
     join patients p on p.id = e.patient_id
@@ -53,7 +60,9 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
     await poll(() => page.getByRole("heading", { level: 1 }).textContent()).toBe(`Referral for ${candidate.name}`);
     // The prompts of the exam are listed with their values and rules; those to consider referral are pre-selected
     // (a request to repeat a non-contact pressure is listed unticked).
-    await poll(() => page.getByRole("checkbox", { name: new RegExp(`Right (mean )?IOP ${candidate.mm_hg} mmHg`) }).count()).toBe(1);
+    await poll(() =>
+      page.getByRole("checkbox", { name: new RegExp(`Right (mean )?IOP ${candidate.mm_hg} mmHg`) }).count(),
+    ).toBe(1);
     await poll(() => page.getByRole("checkbox", { name: /Right blind spot enlarged/ }).isChecked()).toBe(true);
     // Triage's proposal (or that it proposes none) is shown beside the urgency.
     await poll(() => page.getByTestId("triage-proposal").count()).toBe(1);
@@ -71,7 +80,11 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
     await expectAccessible(page);
 
     await page.getByLabel("Send to").selectOption({ label: "Mr Lucan Ferreira-Holt, Brackenford Eye Unit" });
-    await page.getByLabel("Letter text").fill(`Thank you for seeing ${candidate.name}. Raised pressure and an enlarged blind spot in the right eye; I would value your assessment.`);
+    await page
+      .getByLabel("Letter text")
+      .fill(
+        `Thank you for seeing ${candidate.name}. Raised pressure and an enlarged blind spot in the right eye; I would value your assessment.`,
+      );
     // The address already ends in ?preview=1: wait for the save itself and the page it leads to.
     await Promise.all([
       page.waitForResponse((r) => r.request().method() === "POST" && r.url().includes(`/referrals/${referralId}`)),
@@ -85,7 +98,10 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
     expect(preview.headers()["content-type"]).toBe("application/pdf");
     const dir = mkdtempSync(join(tmpdir(), "referral-e2e-"));
     writeFileSync(join(dir, "letter.pdf"), await preview.body());
-    const text = execFileSync("pdftotext", ["-raw", join(dir, "letter.pdf"), "-"], { encoding: "utf8" }).replace(/\s+/g, " ");
+    const text = execFileSync("pdftotext", ["-raw", join(dir, "letter.pdf"), "-"], { encoding: "utf8" }).replace(
+      /\s+/g,
+      " ",
+    );
     expect(text).toContain(`${candidate.mm_hg} mmHg`);
     expect(text).toContain(`${candidate.width}° × ${candidate.height}°`);
     expect(text).toContain("Mr Lucan Ferreira-Holt");
@@ -122,7 +138,9 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
     await poll(() => surgeon.getByText("receipt acknowledged").count()).toBe(1);
     const replyForm = surgeon.locator("form").filter({ has: surgeon.getByRole("button", { name: "Send reply" }) });
     await replyForm.getByLabel("Your name").fill("Mr Lucan Ferreira-Holt");
-    await replyForm.getByLabel("Short reply").fill("Seen in the glaucoma clinic: pressures confirmed, fields booked. Will write in full.");
+    await replyForm
+      .getByLabel("Short reply")
+      .fill("Seen in the glaucoma clinic: pressures confirmed, fields booked. Will write in full.");
     await replyForm.getByRole("button", { name: "Send reply" }).click();
     await poll(() => surgeon.getByText("your reply has been sent to the practice").count()).toBe(1);
     await expectAccessible(surgeon);
@@ -136,7 +154,9 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
     await expectAccessible(tampered);
 
     // The optometrist is told; the reply is in the patient's chart and on the referral.
-    await poll(async () => (await mailTo(DEMO.optometrist)).some((m) => m.subject.includes("Reply received"))).toBe(true);
+    await poll(async () => (await mailTo(DEMO.optometrist)).some((m) => m.subject.includes("Reply received"))).toBe(
+      true,
+    );
     await page.goto(`/patients/${candidate.patient_id}`);
     await poll(() => page.getByText("Reply from Mr Lucan Ferreira-Holt", { exact: false }).count()).toBeGreaterThan(0);
     await poll(() => page.getByText("Seen in the glaucoma clinic", { exact: false }).count()).toBeGreaterThan(0);
@@ -146,10 +166,18 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
     await poll(() => page.getByText("Reply received", { exact: true }).count()).toBeGreaterThan(0);
     await expectAccessible(page);
     await page.goto("/referrals?status=replied");
-    await poll(() => page.getByRole("row").filter({ hasText: candidate.name.split(" ").reverse().join(", ") }).count()).toBeGreaterThan(0);
+    await poll(() =>
+      page
+        .getByRole("row")
+        .filter({ hasText: candidate.name.split(" ").reverse().join(", ") })
+        .count(),
+    ).toBeGreaterThan(0);
     await expectAccessible(page);
     await screenshot(page, "referrals-tracking");
-    const { rows } = await client.query("select body from referral_replies where referral_id = $1 and patient_id = $2", [referralId, candidate.patient_id]);
+    const { rows } = await client.query(
+      "select body from referral_replies where referral_id = $1 and patient_id = $2",
+      [referralId, candidate.patient_id],
+    );
     expect(rows[0].body).toContain("Seen in the glaucoma clinic");
   }, 150_000); // the whole round trip (draft, PDF, SMTP, the recipient's reply) on a shared two-core machine
 

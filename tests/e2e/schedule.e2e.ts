@@ -85,7 +85,9 @@ describe("the schedule in the browser", () => {
     await desk.mouse.move(movedBox.x + movedBox.width / 2, movedBox.y + 30, { steps: 4 });
     await desk.mouse.move(movedBox.x + movedBox.width / 2, lunch.y + 4, { steps: 10 });
     await desk.mouse.up();
-    await expect.poll(() => desk.getByRole("status").first().textContent()).toMatch(/Not moved: Overlaps the provider's lunch/);
+    await expect
+      .poll(() => desk.getByRole("status").first().textContent())
+      .toMatch(/Not moved: Overlaps the provider's lunch/);
     await expect.poll(async () => Math.round((await moved.boundingBox())!.y)).toBe(Math.round(movedBox.y));
     const [still] = await query<{ starts_at: Date }>(`select starts_at from appointments where id = $1`, [appt!.id]);
     expect(localParts(new Date(still!.starts_at), "Europe/London")).toMatchObject({ date: wednesday, minute: 600 });
@@ -118,13 +120,20 @@ describe("the schedule in the browser", () => {
     await screenshot(optom, "schedule-optometrist-day");
 
     // Confirmation (on booking) and reminder reached the mailbox, each with an .ics.
-    await expect.poll(async () => (await mailTo(DEMO.patient)).map((m) => m.subject).join("|"), { timeout: 15_000 }).toMatch(/Appointment booked/);
-    await expect.poll(async () => (await mailTo(DEMO.patient)).map((m) => m.subject).join("|"), { timeout: 15_000 }).toMatch(/Reminder: your appointment/);
+    await expect
+      .poll(async () => (await mailTo(DEMO.patient)).map((m) => m.subject).join("|"), { timeout: 15_000 })
+      .toMatch(/Appointment booked/);
+    await expect
+      .poll(async () => (await mailTo(DEMO.patient)).map((m) => m.subject).join("|"), { timeout: 15_000 })
+      .toMatch(/Reminder: your appointment/);
     await desk.goto("/schedule/messages");
     await expectAccessible(desk);
     await screenshot(desk, "schedule-email-log");
     await desk.goto("/dev/mailbox");
-    await desk.getByRole("link", { name: /Reminder: your appointment/ }).first().click();
+    await desk
+      .getByRole("link", { name: /Reminder: your appointment/ })
+      .first()
+      .click();
     const attachment = desk.getByRole("link", { name: "appointment.ics" });
     await attachment.waitFor();
     const res = await desk.request.get((await attachment.getAttribute("href"))!);
@@ -144,10 +153,14 @@ describe("the schedule in the browser", () => {
     // Bulk send to one demo patient who is due: the progress bar fills and the recall is e-mailed.
     await desk.getByRole("checkbox", { name: "Choose Osric Pellinore" }).check();
     await desk.getByRole("button", { name: "Send recall e-mails (1)" }).click();
-    await expect.poll(() => desk.getByTestId("recall-progress").textContent(), { timeout: 20_000 }).toMatch(/1 of 1 done.*1 sent.*finished/);
+    await expect
+      .poll(() => desk.getByTestId("recall-progress").textContent(), { timeout: 20_000 })
+      .toMatch(/1 of 1 done.*1 sent.*finished/);
     await expectAccessible(desk);
     await screenshot(desk, "schedule-recalls");
-    await expect.poll(async () => (await mailTo("osric.pellinore@dioptra-demo.test")).map((m) => m.subject).join("|")).toMatch(/Your eye examination is due/);
+    await expect
+      .poll(async () => (await mailTo("osric.pellinore@dioptra-demo.test")).map((m) => m.subject).join("|"))
+      .toMatch(/Your eye examination is due/);
     const owner = await browser.newPage();
     await signIn(owner, DEMO.owner);
     await owner.waitForURL((u) => u.pathname === "/");

@@ -69,7 +69,9 @@ describe("sites in the browser", () => {
     const hillId = await patient.getByLabel("Where").inputValue();
     const offered = patient.locator('form[method="post"] input[name="siteId"]');
     expect(await offered.count()).toBeGreaterThan(0);
-    expect(new Set(await offered.evaluateAll((els) => els.map((e) => (e as HTMLInputElement).value)))).toEqual(new Set([hillId]));
+    expect(new Set(await offered.evaluateAll((els) => els.map((e) => (e as HTMLInputElement).value)))).toEqual(
+      new Set([hillId]),
+    );
     await expectAccessible(patient);
   }, 180_000);
 });

@@ -9,29 +9,34 @@ import { DEMO, expectAccessible, screenshot, signIn, useBrowser } from "./fixtur
 
 const browser = useBrowser();
 let client: pg.Client;
-const q = async <T extends pg.QueryResultRow>(text: string, values: unknown[] = []) => (await client.query<T>(text, values)).rows;
+const q = async <T extends pg.QueryResultRow>(text: string, values: unknown[] = []) =>
+  (await client.query<T>(text, values)).rows;
 
 type Message = { id: string; subject: string; headers: Record<string, string>; html: string };
 async function messagesTo(to: string): Promise<Message[]> {
   const port = inject("mailApiPort");
-  const list = (await (await fetch(`http://127.0.0.1:${port}/messages?to=${encodeURIComponent(to)}`)).json()) as { id: string }[];
-  return Promise.all(list.map(async (m) => (await (await fetch(`http://127.0.0.1:${port}/messages/${m.id}`)).json()) as Message));
+  const list = (await (await fetch(`http://127.0.0.1:${port}/messages?to=${encodeURIComponent(to)}`)).json()) as {
+    id: string;
+  }[];
+  return Promise.all(
+    list.map(async (m) => (await (await fetch(`http://127.0.0.1:${port}/messages/${m.id}`)).json()) as Message),
+  );
 }
 
 async function patientWithVisit(tag: string) {
   const email = `unsub-${tag}-${Date.now()}@example.test`;
-  const [p] = await q<{ id: string }>("insert into patients (first_name, last_name, date_of_birth, email) values ('Iga', 'Świątek-Test', '1990-04-01', $1) returning id", [email]);
+  const [p] = await q<{ id: string }>(
+    "insert into patients (first_name, last_name, date_of_birth, email) values ('Iga', 'Świątek-Test', '1990-04-01', $1) returning id",
+    [email],
+  );
   const [optom] = await q<{ id: string }>("select id from users where email = $1", [DEMO.optometrist]);
   const [type] = await q<{ id: string }>("select id from appointment_types where name = 'Comprehensive eye exam'");
   const start = new Date(Date.now() + (40 + Math.floor(Math.random() * 20)) * 86_400_000);
   start.setUTCHours(8, Math.floor(Math.random() * 4) * 15, 0, 0);
-  const [a] = await q<{ id: string }>("insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status) values ($1, $2, $3, $4, $5, 'booked') returning id", [
-    p!.id,
-    optom!.id,
-    type!.id,
-    start,
-    new Date(start.getTime() + 30 * 60_000),
-  ]);
+  const [a] = await q<{ id: string }>(
+    "insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status) values ($1, $2, $3, $4, $5, 'booked') returning id",
+    [p!.id, optom!.id, type!.id, start, new Date(start.getTime() + 30 * 60_000)],
+  );
   return { patientId: p!.id, email, appointmentId: a!.id };
 }
 
@@ -62,15 +67,25 @@ describe("unsubscribing from reminders", () => {
     await expectAccessible(patient);
     await screenshot(patient, "unsubscribe-ask");
     // Nothing changes by opening the page.
-    expect((await q<{ r: boolean }>("select reminders_by_email as r from patients where id = $1", [patientId]))[0]!.r).toBe(true);
+    expect(
+      (await q<{ r: boolean }>("select reminders_by_email as r from patients where id = $1", [patientId]))[0]!.r,
+    ).toBe(true);
     // Keyboard only: the button is reachable with Tab and pressed with Enter.
     const button = patient.getByRole("button", { name: "Stop these e-mails" });
-    for (let i = 0; i < 5 && !(await button.evaluate((el) => el === document.activeElement)); i++) await patient.keyboard.press("Tab");
+    for (let i = 0; i < 5 && !(await button.evaluate((el) => el === document.activeElement)); i++)
+      await patient.keyboard.press("Tab");
     await patient.keyboard.press("Enter");
     await patient.getByRole("heading", { name: "You will get no more of these e-mails" }).waitFor();
     await expectAccessible(patient);
     await screenshot(patient, "unsubscribe-done");
-    expect((await q<{ r: boolean; c: boolean }>("select reminders_by_email as r, recalls_by_email as c from patients where id = $1", [patientId]))[0]).toEqual({ r: false, c: true });
+    expect(
+      (
+        await q<{ r: boolean; c: boolean }>(
+          "select reminders_by_email as r, recalls_by_email as c from patients where id = $1",
+          [patientId],
+        )
+      )[0],
+    ).toEqual({ r: false, c: true });
   }, 120_000);
 
   it("answers a mail program's one-click POST without a session or Origin, and refuses a forged token", async () => {
@@ -85,11 +100,25 @@ describe("unsubscribing from reminders", () => {
     const url = /^<([^>]+)>$/.exec(mail!.headers["list-unsubscribe"]!)![1]!;
     // RFC 8058 §3.2: the receiver POSTs "List-Unsubscribe=One-Click", with no cookies.
     const forged = url.replace(/.$/, (c) => (c === "A" ? "B" : "A"));
-    const bad = await fetch(forged, { method: "POST", headers: { "content-type": "application/x-www-form-urlencoded" }, body: "List-Unsubscribe=One-Click", redirect: "manual" });
+    const bad = await fetch(forged, {
+      method: "POST",
+      headers: { "content-type": "application/x-www-form-urlencoded" },
+      body: "List-Unsubscribe=One-Click",
+      redirect: "manual",
+    });
     expect(bad.status).toBe(404);
-    expect((await q<{ r: boolean }>("select reminders_by_email as r from patients where id = $1", [patientId]))[0]!.r).toBe(true);
-    const res = await fetch(url, { method: "POST", headers: { "content-type": "application/x-www-form-urlencoded" }, body: "List-Unsubscribe=One-Click", redirect: "manual" });
+    expect(
+      (await q<{ r: boolean }>("select reminders_by_email as r from patients where id = $1", [patientId]))[0]!.r,
+    ).toBe(true);
+    const res = await fetch(url, {
+      method: "POST",
+      headers: { "content-type": "application/x-www-form-urlencoded" },
+      body: "List-Unsubscribe=One-Click",
+      redirect: "manual",
+    });
     expect(res.status).toBe(200);
-    expect((await q<{ r: boolean }>("select reminders_by_email as r from patients where id = $1", [patientId]))[0]!.r).toBe(false);
+    expect(
+      (await q<{ r: boolean }>("select reminders_by_email as r from patients where id = $1", [patientId]))[0]!.r,
+    ).toBe(false);
   });
 });

@@ -23,7 +23,10 @@ const newAddress = () => `10.${[...randomBytes(3)].join(".")}`;
 
 async function newStaff(password = "correct-horse-battery") {
   const email = uniqueEmail("throttle");
-  const [u] = await db.insert(users).values({ email, name: "Test Owner", role: "owner", passwordHash: await hashPassword(password) }).returning();
+  const [u] = await db
+    .insert(users)
+    .values({ email, name: "Test Owner", role: "owner", passwordHash: await hashPassword(password) })
+    .returning();
   return { ...u!, password };
 }
 
@@ -46,8 +49,12 @@ describe("sign-in throttling", () => {
     for (let i = 0; i < 5; i++) expect(statusOf(await signIn(owner.email, `guess-${i}`, stranger))).toBe(401);
     const refused = await signIn(owner.email, "guess-again", stranger);
     expect(statusOf(refused)).toBe(429);
-    expect(JSON.stringify(dataOf(refused))).toMatch(/Too many failed sign-in attempts for this account\. Try again in \d+ (seconds|minutes)/);
-    expect(Number((refused as { init: { headers: Record<string, string> } }).init.headers["retry-after"])).toBeLessThanOrEqual(180);
+    expect(JSON.stringify(dataOf(refused))).toMatch(
+      /Too many failed sign-in attempts for this account\. Try again in \d+ (seconds|minutes)/,
+    );
+    expect(
+      Number((refused as { init: { headers: Record<string, string> } }).init.headers["retry-after"]),
+    ).toBeLessThanOrEqual(180);
     // The owner, at another address, is not affected by the stranger's guesses.
     expect(statusOf(await signIn(owner.email, owner.password, home))).toBe(302);
   });
@@ -80,7 +87,10 @@ describe("sign-in throttling", () => {
     for (let i = 0; i < 5; i++) await signIn(owner.email, `guess-${i}`, address);
     expect(statusOf(await signIn(owner.email, owner.password, address))).toBe(429);
     const token = await issueUserToken(owner.id, "reset");
-    const reset = await run(resetAction, makeRequest("/reset-password", { form: { token, password: "a-new-password-1", confirm: "a-new-password-1" } }));
+    const reset = await run(
+      resetAction,
+      makeRequest("/reset-password", { form: { token, password: "a-new-password-1", confirm: "a-new-password-1" } }),
+    );
     expect(statusOf(reset)).toBe(302);
     expect(await db.select().from(attemptBudgets).where(eq(attemptBudgets.account, owner.email))).toHaveLength(0);
     expect(statusOf(await signIn(owner.email, "a-new-password-1", address))).toBe(302);
@@ -106,7 +116,10 @@ describe("sign-in throttling", () => {
     expect(JSON.stringify(dataOf(refused))).toMatch(/from your connection/);
     // No password check was made: no attempt row, and the refusal is in the audit log.
     expect(await db.select().from(signInAttempts).where(eq(signInAttempts.email, email))).toHaveLength(0);
-    const throttled = await db.select().from(auditLog).where(and(eq(auditLog.action, "auth.sign_in_throttled"), sql`${auditLog.detail}->>'email' = ${email}`));
+    const throttled = await db
+      .select()
+      .from(auditLog)
+      .where(and(eq(auditLog.action, "auth.sign_in_throttled"), sql`${auditLog.detail}->>'email' = ${email}`));
     expect(throttled[0]?.detail).toMatchObject({ budget: "address" });
     // Another address is not affected.
     expect(statusOf(await signIn(uniqueEmail("flood"), "whatever-1", newAddress()))).toBe(401);
@@ -120,7 +133,10 @@ describe("sign-in throttling", () => {
     expect(busy.length).toBeGreaterThanOrEqual(20);
     expect(JSON.stringify(dataOf(answers[emails.indexOf(busy[0]!)]))).toMatch(/busy signing people in/);
     for (const [i, answer] of answers.entries()) expect([401, 503]).toContain(statusOf(answer) ?? emails[i]);
-    const checked = await db.select().from(signInAttempts).where(sql`${signInAttempts.email} in ${busy}`);
+    const checked = await db
+      .select()
+      .from(signInAttempts)
+      .where(sql`${signInAttempts.email} in ${busy}`);
     expect(checked).toHaveLength(0);
     // Once the burst is over, sign-in works as before.
     const owner = await newStaff();
@@ -129,7 +145,9 @@ describe("sign-in throttling", () => {
 });
 
 async function queuedAccountMail(email: string) {
-  const rows = await db.execute<{ data: { kind: string; email: string } }>(sql`select data from pgboss.job where name = 'account-mail' and data->>'email' = ${email}`);
+  const rows = await db.execute<{ data: { kind: string; email: string } }>(
+    sql`select data from pgboss.job where name = 'account-mail' and data->>'email' = ${email}`,
+  );
   return rows.rows.map((r) => r.data);
 }
 
@@ -137,40 +155,71 @@ describe("reset and sign-in-link e-mails", () => {
   it.each([
     ["/forgot-password", forgotAction, "reset"],
     ["/sign-in-link", linkAction, "sign_in"],
-  ] as const)("%s does the same work for a known and an unknown address: it queues the e-mail and sends nothing itself", async (path, action, kind) => {
-    const [patient] = await db.select().from(users).where(eq(users.email, "patient@dioptra-demo.test"));
-    const known = kind === "reset" ? (await newStaff()).email : patient!.email;
-    const unknown = uniqueEmail("ghost");
-    const answers = [];
-    for (const email of [known, unknown]) {
-      const before = (await queuedAccountMail(email)).length;
-      const res = await run(action, makeRequest(path, { form: { email }, headers: { "x-forwarded-for": newAddress() } }));
-      expect(statusOf(res)).toBe(200);
-      answers.push(JSON.stringify(dataOf(res)));
-      // One job queued for either address, with nothing in it that depends on the account.
-      expect((await queuedAccountMail(email)).length).toBe(before + 1);
-      expect((await queuedAccountMail(email)).at(-1)).toEqual({ kind, email, ip: expect.any(String) });
-    }
-    expect(answers[0]).toBe(answers[1]);
-    // Nothing was sent from the request itself.
-    const sentBefore = (await mailTo(known)).length;
-    await deliverAccountMail({ kind, email: known, ip: null });
-    await deliverAccountMail({ kind, email: unknown, ip: null });
-    expect((await mailTo(known)).length).toBe(sentBefore + 1);
-    expect(await mailTo(unknown)).toHaveLength(0);
-  });
+  ] as const)(
+    "%s does the same work for a known and an unknown address: it queues the e-mail and sends nothing itself",
+    async (path, action, kind) => {
+      const [patient] = await db.select().from(users).where(eq(users.email, "patient@dioptra-demo.test"));
+      const known = kind === "reset" ? (await newStaff()).email : patient!.email;
+      const unknown = uniqueEmail("ghost");
+      const answers = [];
+      for (const email of [known, unknown]) {
+        const before = (await queuedAccountMail(email)).length;
+        const res = await run(
+          action,
+          makeRequest(path, { form: { email }, headers: { "x-forwarded-for": newAddress() } }),
+        );
+        expect(statusOf(res)).toBe(200);
+        answers.push(JSON.stringify(dataOf(res)));
+        // One job queued for either address, with nothing in it that depends on the account.
+        expect((await queuedAccountMail(email)).length).toBe(before + 1);
+        expect((await queuedAccountMail(email)).at(-1)).toEqual({ kind, email, ip: expect.any(String) });
+      }
+      expect(answers[0]).toBe(answers[1]);
+      // Nothing was sent from the request itself.
+      const sentBefore = (await mailTo(known)).length;
+      await deliverAccountMail({ kind, email: known, ip: null });
+      await deliverAccountMail({ kind, email: unknown, ip: null });
+      expect((await mailTo(known)).length).toBe(sentBefore + 1);
+      expect(await mailTo(unknown)).toHaveLength(0);
+    },
+  );
 
   it("limits e-mails per address (3, then one per 20 minutes) and requests per client (10, then one per 6 minutes)", async () => {
     const email = uniqueEmail("often");
-    for (let i = 0; i < 3; i++) expect(statusOf(await run(forgotAction, makeRequest("/forgot-password", { form: { email }, headers: { "x-forwarded-for": newAddress() } })))).toBe(200);
-    const perAddress = await run(forgotAction, makeRequest("/forgot-password", { form: { email }, headers: { "x-forwarded-for": newAddress() } }));
+    for (let i = 0; i < 3; i++)
+      expect(
+        statusOf(
+          await run(
+            forgotAction,
+            makeRequest("/forgot-password", { form: { email }, headers: { "x-forwarded-for": newAddress() } }),
+          ),
+        ),
+      ).toBe(200);
+    const perAddress = await run(
+      forgotAction,
+      makeRequest("/forgot-password", { form: { email }, headers: { "x-forwarded-for": newAddress() } }),
+    );
     expect(statusOf(perAddress)).toBe(429);
     expect(JSON.stringify(dataOf(perAddress))).toMatch(/already been asked for this address/);
     expect(await queuedAccountMail(email)).toHaveLength(3);
 
     const client = newAddress();
-    for (let i = 0; i < 10; i++) expect(statusOf(await run(linkAction, makeRequest("/sign-in-link", { form: { email: uniqueEmail("many") }, headers: { "x-forwarded-for": client } })))).toBe(200);
-    const perClient = await run(linkAction, makeRequest("/sign-in-link", { form: { email: uniqueEmail("many") }, headers: { "x-forwarded-for": client } }));
+    for (let i = 0; i < 10; i++)
+      expect(
+        statusOf(
+          await run(
+            linkAction,
+            makeRequest("/sign-in-link", {
+              form: { email: uniqueEmail("many") },
+              headers: { "x-forwarded-for": client },
+            }),
+          ),
+        ),
+      ).toBe(200);
+    const perClient = await run(
+      linkAction,
+      makeRequest("/sign-in-link", { form: { email: uniqueEmail("many") }, headers: { "x-forwarded-for": client } }),
+    );
     expect(statusOf(perClient)).toBe(429);
     expect(JSON.stringify(dataOf(perClient))).toMatch(/from your connection/);
   });

@@ -10,15 +10,32 @@ import { deliverAccountMail } from "~/models/users/account-mail.server";
 import { hashPassword } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { getSessionUser } from "~/utils/session.server";
-import { cookieFor, dataOf, linkIn, mailTo, makeRequest, run, statusOf, uniqueEmail, userByEmail } from "#tests/support/helpers";
+import {
+  cookieFor,
+  dataOf,
+  linkIn,
+  mailTo,
+  makeRequest,
+  run,
+  statusOf,
+  uniqueEmail,
+  userByEmail,
+} from "#tests/support/helpers";
 
-async function newStaff(role: "owner" | "optometrist" | "receptionist" = "receptionist", password = "correct-horse-battery") {
+async function newStaff(
+  role: "owner" | "optometrist" | "receptionist" = "receptionist",
+  password = "correct-horse-battery",
+) {
   const email = uniqueEmail(role);
-  const [u] = await db.insert(users).values({ email, name: `Test ${role}`, role, passwordHash: await hashPassword(password) }).returning();
+  const [u] = await db
+    .insert(users)
+    .values({ email, name: `Test ${role}`, role, passwordHash: await hashPassword(password) })
+    .returning();
   return { ...u!, password };
 }
 
-const signIn = (email: string, password: string) => run(loginAction, makeRequest("/login", { form: { email, password } }));
+const signIn = (email: string, password: string) =>
+  run(loginAction, makeRequest("/login", { form: { email, password } }));
 
 describe("sign-in", () => {
   it("signs in with the demo password and lands on the role's home, with a database session", async () => {
@@ -42,12 +59,20 @@ describe("sign-in", () => {
     const res = await signIn(u.email, "not-the-password");
     expect(statusOf(res)).toBe(401);
     expect(JSON.stringify(dataOf(res))).toContain("do not match an active account");
-    const [row] = await db.select().from(auditLog).where(and(eq(auditLog.action, "auth.sign_in_failed"), eq(auditLog.actorUserId, u.id)));
+    const [row] = await db
+      .select()
+      .from(auditLog)
+      .where(and(eq(auditLog.action, "auth.sign_in_failed"), eq(auditLog.actorUserId, u.id)));
     expect(row?.detail).toMatchObject({ reason: "wrong password" });
   });
 
   it("answers malformed and empty fields with field errors, never a 500", async () => {
-    for (const form of [{}, { email: "", password: "" }, { email: "not-an-email", password: "x" }, { email: "a@b.test" }]) {
+    for (const form of [
+      {},
+      { email: "", password: "" },
+      { email: "not-an-email", password: "x" },
+      { email: "a@b.test" },
+    ]) {
       const res = await run(loginAction, makeRequest("/login", { form: form as Record<string, string> }));
       expect(statusOf(res)).toBe(400);
       const reply = dataOf<{ error: Record<string, string[]> }>(res);
@@ -79,7 +104,10 @@ describe("sign-in", () => {
   it("ignores an expired session", async () => {
     const cookie = await cookieFor("optometrist");
     const user = await getSessionUser(makeRequest("/", { cookie }));
-    await db.update(sessions).set({ expiresAt: new Date(Date.now() - 1000) }).where(eq(sessions.id, user!.sessionId));
+    await db
+      .update(sessions)
+      .set({ expiresAt: new Date(Date.now() - 1000) })
+      .where(eq(sessions.id, user!.sessionId));
     expect(await getSessionUser(makeRequest("/", { cookie }))).toBeNull();
   });
 });
@@ -92,22 +120,42 @@ describe("roles", () => {
 
   it("refuses a receptionist's POST to an owner action and writes nothing", async () => {
     const email = uniqueEmail("invitee");
-    const res = await run(usersAction, makeRequest("/settings/users", { cookie: await cookieFor("receptionist"), form: { intent: "invite", name: "Sneaky", email, role: "owner" } }));
+    const res = await run(
+      usersAction,
+      makeRequest("/settings/users", {
+        cookie: await cookieFor("receptionist"),
+        form: { intent: "invite", name: "Sneaky", email, role: "owner" },
+      }),
+    );
     expect(statusOf(res)).toBe(403);
     expect(await db.select().from(users).where(eq(users.email, email))).toHaveLength(0);
   });
 
   it("lets the owner invite a colleague, who sets a password from the e-mailed link", async () => {
     const email = uniqueEmail("invitee");
-    const res = await run(usersAction, makeRequest("/settings/users", { cookie: await cookieFor("owner"), form: { intent: "invite", name: "Nia Farrow", email, role: "optometrist", licenceNumber: "01-40001" } }));
+    const res = await run(
+      usersAction,
+      makeRequest("/settings/users", {
+        cookie: await cookieFor("owner"),
+        form: { intent: "invite", name: "Nia Farrow", email, role: "optometrist", licenceNumber: "01-40001" },
+      }),
+    );
     expect(statusOf(res)).toBe(302);
     const [mail] = await mailTo(email);
     expect(mail?.subject).toMatch(/invited/);
     const link = linkIn(mail!.text, "/reset-password?token=");
     const token = link.searchParams.get("token")!;
-    const page = (await run(resetLoader, makeRequest(`/reset-password?token=${token}`))) as { valid: boolean; purpose: string };
+    const page = (await run(resetLoader, makeRequest(`/reset-password?token=${token}`))) as {
+      valid: boolean;
+      purpose: string;
+    };
     expect(page).toMatchObject({ valid: true, purpose: "invite" });
-    const saved = await run(resetAction, makeRequest("/reset-password", { form: { token, password: "a-long-new-password", confirm: "a-long-new-password" } }));
+    const saved = await run(
+      resetAction,
+      makeRequest("/reset-password", {
+        form: { token, password: "a-long-new-password", confirm: "a-long-new-password" },
+      }),
+    );
     expect(statusOf(saved)).toBe(302);
     expect(statusOf(await signIn(email, "a-long-new-password"))).toBe(302);
   });
@@ -115,11 +163,20 @@ describe("roles", () => {
   it("records a role change in the audit log and ends the user's sessions", async () => {
     const u = await newStaff("receptionist");
     const cookie = await cookieFor(u.email);
-    const res = await run(usersAction, makeRequest("/settings/users", { cookie: await cookieFor("owner"), form: { intent: "role", userId: u.id, role: "optometrist" } }));
+    const res = await run(
+      usersAction,
+      makeRequest("/settings/users", {
+        cookie: await cookieFor("owner"),
+        form: { intent: "role", userId: u.id, role: "optometrist" },
+      }),
+    );
     expect(statusOf(res)).toBe(302);
     expect((await userByEmail(u.email)).role).toBe("optometrist");
     expect(await getSessionUser(makeRequest("/", { cookie }))).toBeNull();
-    const [row] = await db.select().from(auditLog).where(and(eq(auditLog.action, "user.role_changed"), eq(auditLog.entityId, u.id)));
+    const [row] = await db
+      .select()
+      .from(auditLog)
+      .where(and(eq(auditLog.action, "user.role_changed"), eq(auditLog.entityId, u.id)));
     expect(row?.detail).toMatchObject({ from: "receptionist", to: "optometrist" });
   });
 
@@ -127,7 +184,13 @@ describe("roles", () => {
     const u = await newStaff("optometrist");
     const cookie = await cookieFor(u.email);
     expect(await getSessionUser(makeRequest("/", { cookie }))).not.toBeNull();
-    const res = await run(usersAction, makeRequest("/settings/users", { cookie: await cookieFor("owner"), form: { intent: "deactivate", userId: u.id } }));
+    const res = await run(
+      usersAction,
+      makeRequest("/settings/users", {
+        cookie: await cookieFor("owner"),
+        form: { intent: "deactivate", userId: u.id },
+      }),
+    );
     expect(statusOf(res)).toBe(302);
     expect(await getSessionUser(makeRequest("/", { cookie }))).toBeNull();
     expect(await db.select().from(sessions).where(eq(sessions.userId, u.id))).toHaveLength(0);
@@ -136,15 +199,31 @@ describe("roles", () => {
 
   it("will not deactivate the last owner or the owner's own account", async () => {
     const owner = await userByEmail("owner@dioptra-demo.test");
-    const res = await run(usersAction, makeRequest("/settings/users", { cookie: await cookieFor("owner"), form: { intent: "deactivate", userId: owner.id } }));
+    const res = await run(
+      usersAction,
+      makeRequest("/settings/users", {
+        cookie: await cookieFor("owner"),
+        form: { intent: "deactivate", userId: owner.id },
+      }),
+    );
     expect(statusOf(res)).toBe(409);
     expect((await userByEmail(owner.email)).active).toBe(true);
   });
 
   it("answers an invite with bad fields with field errors", async () => {
-    const res = await run(usersAction, makeRequest("/settings/users", { cookie: await cookieFor("owner"), form: { intent: "invite", name: "", email: "nope", role: "king" } }));
+    const res = await run(
+      usersAction,
+      makeRequest("/settings/users", {
+        cookie: await cookieFor("owner"),
+        form: { intent: "invite", name: "", email: "nope", role: "king" },
+      }),
+    );
     expect(statusOf(res)).toBe(400);
-    expect(Object.keys(dataOf<{ error: Record<string, unknown> }>(res).error).sort()).toEqual(["email", "name", "role"]);
+    expect(Object.keys(dataOf<{ error: Record<string, unknown> }>(res).error).sort()).toEqual([
+      "email",
+      "name",
+      "role",
+    ]);
   });
 });
 
@@ -161,12 +240,22 @@ describe("password reset", () => {
     const u = await newStaff();
     const oldCookie = await cookieFor(u.email);
     const token = await requestReset(u.email);
-    const ok = await run(resetAction, makeRequest("/reset-password", { form: { token, password: "brand-new-password", confirm: "brand-new-password" } }));
+    const ok = await run(
+      resetAction,
+      makeRequest("/reset-password", {
+        form: { token, password: "brand-new-password", confirm: "brand-new-password" },
+      }),
+    );
     expect(statusOf(ok)).toBe(302);
     expect(await getSessionUser(makeRequest("/", { cookie: oldCookie }))).toBeNull();
     expect(statusOf(await signIn(u.email, "brand-new-password"))).toBe(302);
     // Reused token
-    const again = await run(resetAction, makeRequest("/reset-password", { form: { token, password: "another-password-1", confirm: "another-password-1" } }));
+    const again = await run(
+      resetAction,
+      makeRequest("/reset-password", {
+        form: { token, password: "another-password-1", confirm: "another-password-1" },
+      }),
+    );
     expect(statusOf(again)).toBe(400);
     expect(JSON.stringify(dataOf(again))).toMatch(/expired or has already been used/);
     expect(statusOf(await signIn(u.email, "brand-new-password"))).toBe(302);
@@ -175,8 +264,16 @@ describe("password reset", () => {
   it("refuses an expired token and leaves the password unchanged", async () => {
     const u = await newStaff();
     const token = await requestReset(u.email);
-    await db.update(userTokens).set({ expiresAt: new Date(Date.now() - 1000) }).where(eq(userTokens.userId, u.id));
-    const res = await run(resetAction, makeRequest("/reset-password", { form: { token, password: "brand-new-password", confirm: "brand-new-password" } }));
+    await db
+      .update(userTokens)
+      .set({ expiresAt: new Date(Date.now() - 1000) })
+      .where(eq(userTokens.userId, u.id));
+    const res = await run(
+      resetAction,
+      makeRequest("/reset-password", {
+        form: { token, password: "brand-new-password", confirm: "brand-new-password" },
+      }),
+    );
     expect(statusOf(res)).toBe(400);
     expect(statusOf(await signIn(u.email, u.password))).toBe(302);
   });
@@ -190,7 +287,10 @@ describe("password reset", () => {
   });
 
   it("asks for matching passwords of a usable length", async () => {
-    const res = await run(resetAction, makeRequest("/reset-password", { form: { token: "x", password: "short", confirm: "different" } }));
+    const res = await run(
+      resetAction,
+      makeRequest("/reset-password", { form: { token: "x", password: "short", confirm: "different" } }),
+    );
     expect(statusOf(res)).toBe(400);
     const errors = dataOf<{ error: Record<string, string[]> }>(res).error;
     expect(errors.password?.[0]).toMatch(/at least 10/);
@@ -201,7 +301,11 @@ describe("audit", () => {
   it("records successful sign-ins", async () => {
     const u = await newStaff();
     await signIn(u.email, u.password);
-    const rows = await db.select().from(auditLog).where(and(eq(auditLog.actorUserId, u.id), eq(auditLog.action, "auth.sign_in"))).orderBy(desc(auditLog.at));
+    const rows = await db
+      .select()
+      .from(auditLog)
+      .where(and(eq(auditLog.actorUserId, u.id), eq(auditLog.action, "auth.sign_in")))
+      .orderBy(desc(auditLog.at));
     expect(rows.length).toBe(1);
   });
 });

@@ -31,19 +31,36 @@ afterAll(async () => {
 });
 
 async function bookFor(patientId: string, start: string) {
-  const res = await postBooking({ patientId, providerId: ids.optometrist.id, appointmentTypeId: ids.examType.id, start });
+  const res = await postBooking({
+    patientId,
+    providerId: ids.optometrist.id,
+    appointmentTypeId: ids.examType.id,
+    start,
+  });
   expect(res.status).toBe(201);
   return ((await res.json()) as { appointment: { id: string } }).appointment.id;
 }
 
 async function move(id: string, start: string) {
   const { action } = await import("~/routes/api/appointments-item");
-  const res = (await run(action, makeRequest(`/api/appointments/${id}`, { method: "PATCH", cookie: await cookieFor("receptionist"), json: { start } }), { appointmentId: id })) as Response;
+  const res = (await run(
+    action,
+    makeRequest(`/api/appointments/${id}`, {
+      method: "PATCH",
+      cookie: await cookieFor("receptionist"),
+      json: { start },
+    }),
+    { appointmentId: id },
+  )) as Response;
   expect(res.status).toBe(200);
 }
 
 async function messages(appointmentId: string, kind: "confirmation" | "reminder" | "cancellation" | "update") {
-  return db.select().from(appointmentMessages).where(and(eq(appointmentMessages.appointmentId, appointmentId), eq(appointmentMessages.kind, kind))).orderBy(asc(appointmentMessages.sequence));
+  return db
+    .select()
+    .from(appointmentMessages)
+    .where(and(eq(appointmentMessages.appointmentId, appointmentId), eq(appointmentMessages.kind, kind)))
+    .orderBy(asc(appointmentMessages.sequence));
 }
 
 async function icsOf(messageId: string) {
@@ -57,7 +74,10 @@ const prop = (lines: string[], name: string) => lines.find((l) => l.startsWith(`
 
 describe("calendar updates", () => {
   it("every move sends an update with the same UID and a higher SEQUENCE; the cancellation a CANCEL above them all", async () => {
-    const p = await newPatient({ firstName: "Bartłomiej", lastName: `Wróblewski-Łukasiewicz-Sienkiewicz-${Date.now()}` });
+    const p = await newPatient({
+      firstName: "Bartłomiej",
+      lastName: `Wróblewski-Łukasiewicz-Sienkiewicz-${Date.now()}`,
+    });
     const id = await bookFor(p.id, "2027-05-10T10:00:00+01:00");
     const [confirmation] = await messages(id, "confirmation");
     expect(await deliverAppointmentMessage(confirmation!.id)).toBe("sent");
@@ -71,7 +91,9 @@ describe("calendar updates", () => {
     expect(first).toMatchObject({ sequence: 1, status: "queued" });
     // Sent through the queue: a pg-boss job exists for it, and two workers racing send it once.
     expect(await jobsFor(APPOINTMENT_MAIL_QUEUE, "messageId", first!.id)).toHaveLength(1);
-    expect((await Promise.all([deliverAppointmentMessage(first!.id), deliverAppointmentMessage(first!.id)])).sort()).toEqual(["already done", "sent"]);
+    expect(
+      (await Promise.all([deliverAppointmentMessage(first!.id), deliverAppointmentMessage(first!.id)])).sort(),
+    ).toEqual(["already done", "sent"]);
 
     // Moved twice before the worker ran: the older update is skipped, the newer carries both changes.
     await move(id, "2027-05-12T09:30:00+01:00");
@@ -80,10 +102,21 @@ describe("calendar updates", () => {
     expect(updates.map((u) => u.sequence)).toEqual([1, 2, 3]);
     expect(await deliverAppointmentMessage(updates[1]!.id)).toBe("skipped");
     expect(await deliverAppointmentMessage(updates[2]!.id)).toBe("sent");
-    expect((await messages(id, "update"))[1]).toMatchObject({ status: "skipped", skippedReason: "superseded by a later move" });
+    expect((await messages(id, "update"))[1]).toMatchObject({
+      status: "skipped",
+      skippedReason: "superseded by a later move",
+    });
 
     const { action } = await import("~/routes/api/appointments-item");
-    const res = (await run(action, makeRequest(`/api/appointments/${id}`, { method: "PATCH", cookie: await cookieFor("receptionist"), json: { status: "cancelled" } }), { appointmentId: id })) as Response;
+    const res = (await run(
+      action,
+      makeRequest(`/api/appointments/${id}`, {
+        method: "PATCH",
+        cookie: await cookieFor("receptionist"),
+        json: { status: "cancelled" },
+      }),
+      { appointmentId: id },
+    )) as Response;
     expect(res.status).toBe(200);
     const [cancellation] = await messages(id, "cancellation");
     expect(await deliverAppointmentMessage(cancellation!.id)).toBe("sent");
@@ -101,11 +134,27 @@ describe("calendar updates", () => {
       expect(prop(f, "UID")).toBe(`UID:appointment-${id}@dioptra`);
       // RFC 5546 §3.2.2 / §3.2.5: the organizer's address, and the attendee the request is for.
       expect(prop(f, "ORGANIZER")).toBe(`ORGANIZER;CN="${practice.name}":mailto:${practice.email}`);
-      expect(prop(f, "ATTENDEE")).toMatch(new RegExp(`^ATTENDEE;CN="Bartłomiej Wróblewski-Łukasiewicz-Sienkiewicz-\\d+";.*:mailto:${p.email!.replace(/[.+]/g, "\\$&")}$`));
+      expect(prop(f, "ATTENDEE")).toMatch(
+        new RegExp(
+          `^ATTENDEE;CN="Bartłomiej Wróblewski-Łukasiewicz-Sienkiewicz-\\d+";.*:mailto:${p.email!.replace(/[.+]/g, "\\$&")}$`,
+        ),
+      );
     }
-    expect(files.map((f) => prop(f, "METHOD"))).toEqual(["METHOD:REQUEST", "METHOD:REQUEST", "METHOD:REQUEST", "METHOD:REQUEST", "METHOD:CANCEL"]);
+    expect(files.map((f) => prop(f, "METHOD"))).toEqual([
+      "METHOD:REQUEST",
+      "METHOD:REQUEST",
+      "METHOD:REQUEST",
+      "METHOD:REQUEST",
+      "METHOD:CANCEL",
+    ]);
     // RFC 5545 §3.8.7.4: SEQUENCE rises with each revision the organizer sends.
-    expect(files.map((f) => prop(f, "SEQUENCE"))).toEqual(["SEQUENCE:0", "SEQUENCE:0", "SEQUENCE:1", "SEQUENCE:3", "SEQUENCE:4"]);
+    expect(files.map((f) => prop(f, "SEQUENCE"))).toEqual([
+      "SEQUENCE:0",
+      "SEQUENCE:0",
+      "SEQUENCE:1",
+      "SEQUENCE:3",
+      "SEQUENCE:4",
+    ]);
     // 11:00 and 14:00 BST are 10:00Z and 13:00Z.
     expect(prop(files[2]!, "DTSTART")).toBe("DTSTART:20270511T100000Z");
     expect(prop(files[3]!, "DTSTART")).toBe("DTSTART:20270512T130000Z");
@@ -136,15 +185,25 @@ describe("e-mail headers", () => {
     const token = url.pathname.split("/")[2]!;
 
     // Opening the link changes nothing (mail scanners open links); the POST does.
-    expect(await run(unsubscribeLoader, makeRequest(url.pathname), { token })).toMatchObject({ list: "reminders", alreadyOff: false });
+    expect(await run(unsubscribeLoader, makeRequest(url.pathname), { token })).toMatchObject({
+      list: "reminders",
+      alreadyOff: false,
+    });
     const [before] = await db.select().from(patients).where(eq(patients.id, p.id));
     expect(before!.remindersByEmail).toBe(true);
     // The one-click POST as a mail program sends it: no cookie, body "List-Unsubscribe=One-Click".
-    const res = await run(unsubscribeAction, makeRequest(url.pathname, { method: "POST", form: { "List-Unsubscribe": "One-Click" } }), { token });
+    const res = await run(
+      unsubscribeAction,
+      makeRequest(url.pathname, { method: "POST", form: { "List-Unsubscribe": "One-Click" } }),
+      { token },
+    );
     expect(res).toMatchObject({ ok: true, list: "reminders" });
     const [after] = await db.select().from(patients).where(eq(patients.id, p.id));
     expect(after).toMatchObject({ remindersByEmail: false, recallsByEmail: true });
-    const logged = await db.select().from(auditLog).where(and(eq(auditLog.action, "patient.email_opt_out"), eq(auditLog.entityId, p.id)));
+    const logged = await db
+      .select()
+      .from(auditLog)
+      .where(and(eq(auditLog.action, "patient.email_opt_out"), eq(auditLog.entityId, p.id)));
     expect(logged).toHaveLength(1);
     // The next appointment e-mail is not sent.
     const id2 = await bookFor(p.id, "2027-05-18T10:00:00+01:00");
@@ -153,11 +212,28 @@ describe("e-mail headers", () => {
 
     // A changed token records nothing.
     const forged = `${token.slice(0, -1)}${token.endsWith("A") ? "B" : "A"}`;
-    expect(statusOf(await run(unsubscribeAction, makeRequest(`/unsubscribe/${forged}`, { method: "POST", form: { "List-Unsubscribe": "One-Click" } }), { token: forged }))).toBe(404);
+    expect(
+      statusOf(
+        await run(
+          unsubscribeAction,
+          makeRequest(`/unsubscribe/${forged}`, { method: "POST", form: { "List-Unsubscribe": "One-Click" } }),
+          { token: forged },
+        ),
+      ),
+    ).toBe(404);
     const other = await newPatient();
     const wrongList = signUnsubscribe(other.id, "recalls").replace(".recalls.", ".reminders.");
-    expect(statusOf(await run(unsubscribeAction, makeRequest(`/unsubscribe/${wrongList}`, { method: "POST" }), { token: wrongList }))).toBe(404);
-    expect((await db.select().from(patients).where(eq(patients.id, other.id)))[0]).toMatchObject({ remindersByEmail: true, recallsByEmail: true });
+    expect(
+      statusOf(
+        await run(unsubscribeAction, makeRequest(`/unsubscribe/${wrongList}`, { method: "POST" }), {
+          token: wrongList,
+        }),
+      ),
+    ).toBe(404);
+    expect((await db.select().from(patients).where(eq(patients.id, other.id)))[0]).toMatchObject({
+      remindersByEmail: true,
+      recallsByEmail: true,
+    });
   });
 
   it("a confirmation has no List-Unsubscribe but is marked automatic, with the practice as sender", async () => {
@@ -175,7 +251,10 @@ describe("e-mail headers", () => {
   it("a recall carries its own one-click opt-out, which stops recalls and nothing else", async () => {
     const p = await newPatient({ dateOfBirth: "1960-01-01" });
     const [batch] = await db.insert(recallBatches).values({ total: 1 }).returning();
-    const [recall] = await db.insert(recallMessages).values({ batchId: batch!.id, patientId: p.id, dueDate: "2026-11-01" }).returning();
+    const [recall] = await db
+      .insert(recallMessages)
+      .values({ batchId: batch!.id, patientId: p.id, dueDate: "2026-11-01" })
+      .returning();
     expect(await deliverRecall(recall!.id)).toBe("sent");
     const [mail] = await mailTo(p.email!);
     expect(mail!.headers["auto-submitted"]).toBe("auto-generated");
@@ -184,7 +263,16 @@ describe("e-mail headers", () => {
     expect(mail!.text).toContain(url.toString());
     const token = url.pathname.split("/")[2]!;
     expect(token).toContain(".recalls.");
-    expect(await run(unsubscribeAction, makeRequest(url.pathname, { method: "POST", form: { "List-Unsubscribe": "One-Click" } }), { token })).toMatchObject({ ok: true });
-    expect((await db.select().from(patients).where(eq(patients.id, p.id)))[0]).toMatchObject({ remindersByEmail: true, recallsByEmail: false });
+    expect(
+      await run(
+        unsubscribeAction,
+        makeRequest(url.pathname, { method: "POST", form: { "List-Unsubscribe": "One-Click" } }),
+        { token },
+      ),
+    ).toMatchObject({ ok: true });
+    expect((await db.select().from(patients).where(eq(patients.id, p.id)))[0]).toMatchObject({
+      remindersByEmail: true,
+      recallsByEmail: false,
+    });
   });
 });

@@ -35,21 +35,33 @@ describe("pay-by-link tokens", () => {
     const token = signPayLink(invoiceId);
     expect(verifyPayLink(token)).toMatchObject({ ok: true, invoiceId });
     const [id, exp, sig] = token.split(".");
-    const spellings = [...altered(token), `${id}.0${exp}.${sig}`, `${id}.00${exp}.${sig}`, `${id!.toUpperCase()}.${exp}.${sig}`, `${id}.+${exp}.${sig}`];
+    const spellings = [
+      ...altered(token),
+      `${id}.0${exp}.${sig}`,
+      `${id}.00${exp}.${sig}`,
+      `${id!.toUpperCase()}.${exp}.${sig}`,
+      `${id}.+${exp}.${sig}`,
+    ];
     for (const t of spellings) expect(verifyPayLink(t), t).toEqual({ ok: false, reason: "invalid" });
   });
 });
 
 describe("recipient link tokens", () => {
   it("accept the issued spelling and refuse every other", async () => {
-    const token = signLink({ id: randomUUID(), referralId: randomUUID(), expiresAt: new Date(Date.now() + 86_400_000) });
+    const token = signLink({
+      id: randomUUID(),
+      referralId: randomUUID(),
+      expiresAt: new Date(Date.now() + 86_400_000),
+    });
     // The signature holds; the (made-up) link has no row, so it is "unknown" rather than refused for its spelling.
     expect(await verifyLink(token)).toMatchObject({ ok: false, reason: "unknown" });
     const [payload, sig] = token.split(".");
     const spellings = [...altered(token), `${payload}=.${sig}`, `${payload}.${sig}=`];
     for (const t of spellings) {
       const check = await verifyLink(t);
-      expect(["malformed", "bad signature"], `${t}: ${check.ok ? "ok" : check.reason}`).toContain(check.ok ? "ok" : check.reason);
+      expect(["malformed", "bad signature"], `${t}: ${check.ok ? "ok" : check.reason}`).toContain(
+        check.ok ? "ok" : check.reason,
+      );
     }
   });
 });

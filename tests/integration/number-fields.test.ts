@@ -31,18 +31,39 @@ describe("settings number fields", () => {
   it("the tax rate, the lab's overdue days and a visit type's minutes and recall months refuse what is not a decimal number", async () => {
     const [before] = await db.select().from(practiceSettings).where(eq(practiceSettings.id, 1));
     for (const typed of NOT_DECIMAL) {
-      const tax = await run(feesAction, makeRequest("/settings/fees", { cookie: owner, form: { intent: "tax", taxRate: typed } }));
+      const tax = await run(
+        feesAction,
+        makeRequest("/settings/fees", { cookie: owner, form: { intent: "tax", taxRate: typed } }),
+      );
       expect(statusOf(tax)).toBe(400);
       expect(errorsOf(tax).taxRate?.[0]).toMatch(/Give a rate in per cent/);
 
-      const lab = await run(labsAction, makeRequest("/settings/labs", { cookie: owner, form: { intent: "overdue", labOverdueDays: typed } }));
+      const lab = await run(
+        labsAction,
+        makeRequest("/settings/labs", { cookie: owner, form: { intent: "overdue", labOverdueDays: typed } }),
+      );
       expect(statusOf(lab)).toBe(400);
       expect(dataOf<{ result: Reply }>(lab).result.error.labOverdueDays?.[0]).toMatch(/Give a number of days/);
 
-      const type = await run(typesAction, makeRequest("/settings/appointment-types", { cookie: owner, form: { intent: "save", name: `Probe ${typed}`, durationMinutes: typed, recallMonths: typed === " " ? "" : typed, color: "#2563eb" } }));
+      const type = await run(
+        typesAction,
+        makeRequest("/settings/appointment-types", {
+          cookie: owner,
+          form: {
+            intent: "save",
+            name: `Probe ${typed}`,
+            durationMinutes: typed,
+            recallMonths: typed === " " ? "" : typed,
+            color: "#2563eb",
+          },
+        }),
+      );
       expect(statusOf(type)).toBe(400);
       expect(errorsOf(type).durationMinutes?.[0]).toMatch(/Give the length in minutes/);
-      if (typed.trim()) expect(errorsOf(type).recallMonths?.[0]).toBe(`"${typed}" is not a plain decimal number. Give a number of months, or leave it empty.`);
+      if (typed.trim())
+        expect(errorsOf(type).recallMonths?.[0]).toBe(
+          `"${typed}" is not a plain decimal number. Give a number of months, or leave it empty.`,
+        );
     }
     const [after] = await db.select().from(practiceSettings).where(eq(practiceSettings.id, 1));
     expect(after).toMatchObject({ taxRateBp: before!.taxRateBp, labOverdueDays: before!.labOverdueDays });
@@ -54,13 +75,31 @@ describe("billing number fields", () => {
     const patient = await newPatient();
     const user = await userByEmail("reception@dioptra-demo.test");
     const f = await fee("NUM", 1000);
-    const id = await createInvoice({ patientId: patient.id, lines: [{ feeItemId: f.id, quantity: 1 }], actorUserId: user.id });
+    const id = await createInvoice({
+      patientId: patient.id,
+      lines: [{ feeItemId: f.id, quantity: 1 }],
+      actorUserId: user.id,
+    });
     for (const typed of NOT_DECIMAL) {
-      const line = await run(invoiceAction, makeRequest(`/billing/invoices/${id}`, { cookie: reception, form: { intent: "add-line", feeItemId: f.id, quantity: typed } }), { invoiceId: id });
+      const line = await run(
+        invoiceAction,
+        makeRequest(`/billing/invoices/${id}`, {
+          cookie: reception,
+          form: { intent: "add-line", feeItemId: f.id, quantity: typed },
+        }),
+        { invoiceId: id },
+      );
       expect(statusOf(line)).toBe(400);
       expect(errorsOf(line).quantity?.[0]).toMatch(/A whole number from 1 to 1000/);
       if (typed.trim()) {
-        const discount = await run(invoiceAction, makeRequest(`/billing/invoices/${id}`, { cookie: reception, form: { intent: "discount", discountKind: "percent", discountValue: typed } }), { invoiceId: id });
+        const discount = await run(
+          invoiceAction,
+          makeRequest(`/billing/invoices/${id}`, {
+            cookie: reception,
+            form: { intent: "discount", discountKind: "percent", discountValue: typed },
+          }),
+          { invoiceId: id },
+        );
         expect(statusOf(discount)).toBe(400);
         expect(errorsOf(discount).discountValue?.[0]).toMatch(/Give a percentage from 0 to 100/);
       }
@@ -72,7 +111,14 @@ describe("billing number fields", () => {
 
     const issued = await issuedInvoice([{ priceMinor: 5000 }]);
     for (const typed of NOT_DECIMAL) {
-      const pay = await run(invoiceAction, makeRequest(`/billing/invoices/${issued.id}`, { cookie: reception, form: { intent: "pay-desk", method: "cash", amount: typed } }), { invoiceId: issued.id });
+      const pay = await run(
+        invoiceAction,
+        makeRequest(`/billing/invoices/${issued.id}`, {
+          cookie: reception,
+          form: { intent: "pay-desk", method: "cash", amount: typed },
+        }),
+        { invoiceId: issued.id },
+      );
       expect(statusOf(pay)).toBe(400);
       expect(errorsOf(pay).amount?.[0]).toMatch(/Give an amount/);
     }
@@ -84,12 +130,26 @@ describe("billing number fields", () => {
     const f = await fee("NEW", 1200);
     const before = await db.select({ id: invoices.id }).from(invoices).where(eq(invoices.patientId, patient.id));
     for (const typed of ["0x2", "1e1", "Infinity"]) {
-      const res = await run(newInvoiceAction, makeRequest("/billing/invoices/new", { cookie: reception, form: { patientId: patient.id, [`qty_${f.id}`]: typed, customDescription: "Lens cloth", customPrice: "3.00", customQty: typed.length <= 4 ? typed : "1e1" } }));
+      const res = await run(
+        newInvoiceAction,
+        makeRequest("/billing/invoices/new", {
+          cookie: reception,
+          form: {
+            patientId: patient.id,
+            [`qty_${f.id}`]: typed,
+            customDescription: "Lens cloth",
+            customPrice: "3.00",
+            customQty: typed.length <= 4 ? typed : "1e1",
+          },
+        }),
+      );
       expect(statusOf(res)).toBe(400);
       const errors = dataOf<{ errors: Record<string, string[]> }>(res).errors;
       expect(errors[`qty_${f.id}`]?.[0]).toMatch(/A whole number from 0 to 1000/);
       expect(errors.customQty?.[0]).toMatch(/A whole number from 1 to 1000/);
     }
-    expect(await db.select({ id: invoices.id }).from(invoices).where(eq(invoices.patientId, patient.id))).toEqual(before);
+    expect(await db.select({ id: invoices.id }).from(invoices).where(eq(invoices.patientId, patient.id))).toEqual(
+      before,
+    );
   });
 });

@@ -4,8 +4,31 @@ import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { eq, sql } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
-import { exams, feeItems, frames, invoices, labs, opticalOrders, orderChecks, orderMessages, patients, prescriptionEyes, prescriptions } from "~/db/schema";
-import { cancelOrder, collectOrder, createSpectacleOrder, markReady, markReceived, markRemake, OrderError, recordCheck, sendToLab, type EyeReading } from "~/models/orders/orders.server";
+import {
+  exams,
+  feeItems,
+  frames,
+  invoices,
+  labs,
+  opticalOrders,
+  orderChecks,
+  orderMessages,
+  patients,
+  prescriptionEyes,
+  prescriptions,
+} from "~/db/schema";
+import {
+  cancelOrder,
+  collectOrder,
+  createSpectacleOrder,
+  markReady,
+  markReceived,
+  markRemake,
+  OrderError,
+  recordCheck,
+  sendToLab,
+  type EyeReading,
+} from "~/models/orders/orders.server";
 import { db } from "~/utils/db.server";
 import { getSessionUser } from "~/utils/session.server";
 import { cookieFor, mailTo, makeRequest, uniqueEmail, userByEmail } from "#tests/support/helpers";
@@ -17,27 +40,86 @@ const as = async (role: string) => (await getSessionUser(makeRequest("/", { cook
 async function fixture(opts: { quantity?: number; remindersByEmail?: boolean } = {}) {
   const optom = await userByEmail("optometrist@dioptra-demo.test");
   const email = uniqueEmail("orderpt");
-  const [p] = await db.insert(patients).values({ firstName: "Order", lastName: `Holder${uniq()}`, dateOfBirth: "1975-03-04", email, remindersByEmail: opts.remindersByEmail ?? true }).returning();
-  const [exam] = await db.insert(exams).values({ patientId: p!.id, optometristId: optom.id, status: "signed", signedAt: new Date(), signedById: optom.id }).returning();
+  const [p] = await db
+    .insert(patients)
+    .values({
+      firstName: "Order",
+      lastName: `Holder${uniq()}`,
+      dateOfBirth: "1975-03-04",
+      email,
+      remindersByEmail: opts.remindersByEmail ?? true,
+    })
+    .returning();
+  const [exam] = await db
+    .insert(exams)
+    .values({ patientId: p!.id, optometristId: optom.id, status: "signed", signedAt: new Date(), signedById: optom.id })
+    .returning();
   const [rx] = await db
     .insert(prescriptions)
-    .values({ patientId: p!.id, examId: exam!.id, kind: "spectacle", issuedById: optom.id, expiresOn: "2099-01-01", prescriberName: optom.name, prescriberLicence: "01-12345" })
+    .values({
+      patientId: p!.id,
+      examId: exam!.id,
+      kind: "spectacle",
+      issuedById: optom.id,
+      expiresOn: "2099-01-01",
+      prescriberName: optom.name,
+      prescriberLicence: "01-12345",
+    })
     .returning();
   await db.insert(prescriptionEyes).values([
     { prescriptionId: rx!.id, eye: "right", sphere: -2, cylinder: -1, axis: 90 },
     { prescriptionId: rx!.id, eye: "left", sphere: -2.5, cylinder: -0.5, axis: 80 },
   ]);
-  const [frame] = await db.insert(frames).values({ supplier: "Test Frames", model: `T${uniq()}`, colour: "Slate", size: "52-18-140", priceMinor: 9000, quantity: opts.quantity ?? 2 }).returning();
+  const [frame] = await db
+    .insert(frames)
+    .values({
+      supplier: "Test Frames",
+      model: `T${uniq()}`,
+      colour: "Slate",
+      size: "52-18-140",
+      priceMinor: 9000,
+      quantity: opts.quantity ?? 2,
+    })
+    .returning();
   const labEmail = uniqueEmail("lab");
-  const [lab] = await db.insert(labs).values({ name: `Lab ${uniq()}`, email: labEmail }).returning();
+  const [lab] = await db
+    .insert(labs)
+    .values({ name: `Lab ${uniq()}`, email: labEmail })
+    .returning();
   const [fee] = await db.select().from(feeItems).where(eq(feeItems.code, "LN-SV"));
-  const input = { patientId: p!.id, prescriptionId: rx!.id, labId: lab!.id, frameId: frame!.id, lensType: "single_vision" as const, lensMaterial: "Mid index 1.60", coatings: ["Anti-reflection"], tint: "", pdRightMm: 32, pdLeftMm: 31.5, heightRightMm: null, heightLeftMm: null, lensFeeItemId: fee!.id, notes: "" };
+  const input = {
+    patientId: p!.id,
+    prescriptionId: rx!.id,
+    labId: lab!.id,
+    frameId: frame!.id,
+    lensType: "single_vision" as const,
+    lensMaterial: "Mid index 1.60",
+    coatings: ["Anti-reflection"],
+    tint: "",
+    pdRightMm: 32,
+    pdLeftMm: 31.5,
+    heightRightMm: null,
+    heightLeftMm: null,
+    lensFeeItemId: fee!.id,
+    notes: "",
+  };
   return { patient: p!, rx: rx!, frame: frame!, lab: lab!, input, email, labEmail };
 }
 
-const reading = (rx: string): EyeReading => ({ rx, add: "", horizontalPrism: 0, horizontalBase: "", verticalPrism: 0, verticalBase: "", pdMm: null, heightMm: null });
-const stock = async (id: string) => (await db.select({ q: frames.quantity }).from(frames).where(eq(frames.id, id)))[0]!.q;
-const stateOf = async (id: string) => (await db.select({ s: opticalOrders.state }).from(opticalOrders).where(eq(opticalOrders.id, id)))[0]!.s;
+const reading = (rx: string): EyeReading => ({
+  rx,
+  add: "",
+  horizontalPrism: 0,
+  horizontalBase: "",
+  verticalPrism: 0,
+  verticalBase: "",
+  pdMm: null,
+  heightMm: null,
+});
+const stock = async (id: string) =>
+  (await db.select({ q: frames.quantity }).from(frames).where(eq(frames.id, id)))[0]!.q;
+const stateOf = async (id: string) =>
+  (await db.select({ s: opticalOrders.state }).from(opticalOrders).where(eq(opticalOrders.id, id)))[0]!.s;
 
 function pdfText(bytes: ArrayBuffer) {
   const dir = mkdtempSync(join(tmpdir(), "order-pdf-"));
@@ -65,7 +147,10 @@ describe("spectacle orders", () => {
   it("two orders for the last frame at once: one gets it, the other is told it is out of stock", async () => {
     const f = await fixture({ quantity: 1 });
     const desk = await as("receptionist");
-    const results = await Promise.allSettled([createSpectacleOrder(desk, f.input), createSpectacleOrder(desk, f.input)]);
+    const results = await Promise.allSettled([
+      createSpectacleOrder(desk, f.input),
+      createSpectacleOrder(desk, f.input),
+    ]);
     expect(results.filter((r) => r.status === "fulfilled")).toHaveLength(1);
     const refused = results.find((r) => r.status === "rejected") as PromiseRejectedResult;
     expect(refused.reason).toBeInstanceOf(OrderError);
@@ -111,7 +196,9 @@ describe("spectacle orders", () => {
     const labMail = await mailTo(f.labEmail);
     expect(labMail).toHaveLength(1);
     expect(labMail[0]!.attachments[0]!.filename).toMatch(/^order-ORD-\d{5}\.pdf$/);
-    const pdf = await (await fetch(`http://127.0.0.1:${UNIT.mailApi}/messages/${labMail[0]!.id}/attachments/0`)).arrayBuffer();
+    const pdf = await (
+      await fetch(`http://127.0.0.1:${UNIT.mailApi}/messages/${labMail[0]!.id}/attachments/0`)
+    ).arrayBuffer();
     const text = pdfText(pdf);
     expect(text).toMatch(/Spectacle order ORD-\d{5}/);
     expect(text).toContain("Mid index 1.60");
@@ -120,9 +207,14 @@ describe("spectacle orders", () => {
 
     await markReceived(desk, id);
     // Ordered −1.00 × 90: the axis tolerance is ±4° under ISO 21987 (from memory, published summaries), ±3° under ANSI.
-    await expect(recordCheck(desk, id, { right: reading("-2.00 -1.00 x"), left: reading("-2.50 -0.50 x 80") })).rejects.toThrow(/Right reading/);
+    await expect(
+      recordCheck(desk, id, { right: reading("-2.00 -1.00 x"), left: reading("-2.50 -0.50 x 80") }),
+    ).rejects.toThrow(/Right reading/);
     expect(await stateOf(id)).toBe("received");
-    const failed = await recordCheck(desk, id, { right: reading("-2.00 -1.00 x 100"), left: reading("-2.50 -0.50 x 80") });
+    const failed = await recordCheck(desk, id, {
+      right: reading("-2.00 -1.00 x 100"),
+      left: reading("-2.50 -0.50 x 80"),
+    });
     expect(failed.pass).toBe(false);
     expect(failed.right.checks.find((c) => c.element === "axis")).toMatchObject({ difference: 10, pass: false });
     await expect(markReady(desk, id, "checked", "")).rejects.toThrow(/failed the check/);
@@ -131,13 +223,18 @@ describe("spectacle orders", () => {
     await sendToLab(desk, id, "remake");
     expect((await mailTo(f.labEmail))[0]!.subject).toMatch(/^Remake: /);
     await markReceived(desk, id);
-    const passed = await recordCheck(desk, id, { right: reading("-2.00 -1.00 x 91"), left: reading("-2.50 -0.50 x 80") });
+    const passed = await recordCheck(desk, id, {
+      right: reading("-2.00 -1.00 x 91"),
+      left: reading("-2.50 -0.50 x 80"),
+    });
     expect(passed.pass).toBe(true);
     await markReady(desk, id, "checked", "");
     const ready = await mailTo(f.email);
     expect(ready[0]!.subject).toMatch(/ready to collect/);
     const [inv] = await db.select().from(invoices).where(eq(invoices.id, invoiceId!));
-    await expect(collectOrder(desk, id, { method: "cash", amountMinor: inv!.totalMinor + 1, reference: "" })).rejects.toThrow(/more than the amount due/);
+    await expect(
+      collectOrder(desk, id, { method: "cash", amountMinor: inv!.totalMinor + 1, reference: "" }),
+    ).rejects.toThrow(/more than the amount due/);
     expect(await stateOf(id)).toBe("ready_to_collect");
     await collectOrder(desk, id, { method: "card_desk", amountMinor: inv!.totalMinor, reference: "" });
     expect(await stateOf(id)).toBe("collected");
@@ -152,11 +249,19 @@ describe("spectacle orders", () => {
     await sendToLab(desk, id, "draft");
     await markReceived(desk, id);
     await recordCheck(desk, id, { right: reading("-2.25 -1.00 x 90"), left: reading("-2.50 -0.50 x 80") });
-    await markReady(await as("optometrist"), id, "checked", "Sphere 0.25 D over; patient's habitual lenses identical, agreed with patient");
+    await markReady(
+      await as("optometrist"),
+      id,
+      "checked",
+      "Sphere 0.25 D over; patient's habitual lenses identical, agreed with patient",
+    );
     const [o] = await db.select().from(opticalOrders).where(eq(opticalOrders.id, id));
     expect(o!.overrideReason).toMatch(/habitual/);
     const msgs = await db.select().from(orderMessages).where(eq(orderMessages.orderId, id));
-    expect(msgs.find((m) => m.kind === "patient_ready")).toMatchObject({ status: "skipped", skippedReason: "patient has turned e-mails off" });
+    expect(msgs.find((m) => m.kind === "patient_ready")).toMatchObject({
+      status: "skipped",
+      skippedReason: "patient has turned e-mails off",
+    });
     expect(await mailTo(f.email)).toHaveLength(0);
   });
 });

@@ -19,7 +19,9 @@ describe("when Stripe cannot be reached", () => {
     const token = signPayLink(id);
     const res = await run(payAction, makeRequest(`/pay/${token}`, { form: { intent: "pay" } }), { token });
     expect(statusOf(res)).toBe(503);
-    expect(dataOf<{ error: string }>(res).error).toMatch(/Card payments are not available right now.*Nothing has been charged/);
+    expect(dataOf<{ error: string }>(res).error).toMatch(
+      /Card payments are not available right now.*Nothing has been charged/,
+    );
     expect(await db.select().from(payments).where(eq(payments.invoiceId, id))).toHaveLength(0);
     const [inv] = await db.select().from(invoices).where(eq(invoices.id, id));
     expect(inv).toMatchObject({ status: "open", paidMinor: 0 });

@@ -31,7 +31,17 @@ beforeAll(async () => {
 });
 
 async function patient(firstName: string, lastName: string) {
-  const [p] = await db.insert(patients).values({ firstName, lastName, dateOfBirth: "1975-03-09", email: `pdf-${tag()}@example.test`, addressLine1: "3 Wiśniowa ulica", city: "Łódź" }).returning();
+  const [p] = await db
+    .insert(patients)
+    .values({
+      firstName,
+      lastName,
+      dateOfBirth: "1975-03-09",
+      email: `pdf-${tag()}@example.test`,
+      addressLine1: "3 Wiśniowa ulica",
+      city: "Łódź",
+    })
+    .returning();
   return p!;
 }
 
@@ -39,9 +49,21 @@ async function invoiceWith(p: { id: string }, lines: { description: string; pric
   const r = await userByEmail("reception@dioptra-demo.test");
   const fees = await db
     .insert(feeItems)
-    .values(lines.map((l, i) => ({ code: `PDF${i}-${tag()}`.toUpperCase(), description: l.description, priceMinor: l.priceMinor, taxCategory: "exempt" as const, kind: "service" as const })))
+    .values(
+      lines.map((l, i) => ({
+        code: `PDF${i}-${tag()}`.toUpperCase(),
+        description: l.description,
+        priceMinor: l.priceMinor,
+        taxCategory: "exempt" as const,
+        kind: "service" as const,
+      })),
+    )
     .returning();
-  const id = await createInvoice({ patientId: p.id, lines: fees.map((f) => ({ feeItemId: f.id, quantity: 1 })), actorUserId: r.id });
+  const id = await createInvoice({
+    patientId: p.id,
+    lines: fees.map((f) => ({ feeItemId: f.id, quantity: 1 })),
+    actorUserId: r.id,
+  });
   const { number } = await issueInvoice(id, r.id);
   return { id, number, reception: r };
 }
@@ -79,7 +101,11 @@ describe("every letter is kept", () => {
   it("invoice and receipt print Latin Extended, Greek, Cyrillic and −, ×, Δ, ° as themselves", async () => {
     const p = await patient("Łucja", "Řehořová-Śliwińska");
     const inv = await invoiceWith(p, [{ description: `Lens fitting: ${SAMPLE}`, priceMinor: 4500 }]);
-    const res = (await run(invoicePdfLoader, makeRequest(`/billing/invoices/${inv.id}/invoice.pdf`, { cookie: reception }), { invoiceId: inv.id })) as Response;
+    const res = (await run(
+      invoicePdfLoader,
+      makeRequest(`/billing/invoices/${inv.id}/invoice.pdf`, { cookie: reception }),
+      { invoiceId: inv.id },
+    )) as Response;
     const file = savePdf(await res.arrayBuffer(), "invoice.pdf");
     const text = pdfRaw(file);
     expect(text).toContain("Łucja Řehořová-Śliwińska");
@@ -91,8 +117,18 @@ describe("every letter is kept", () => {
     // Δ is not in Nunito Sans: the Greek subset of Noto Sans draws it.
     expect(names.some((n) => n.endsWith("+NotoSans-Regular"))).toBe(true);
 
-    const { paymentId } = await recordDeskPayment({ invoiceId: inv.id, method: "card_desk", amountMinor: 1000, reference: "Terminal ř-Δ-Ж", actorUserId: inv.reception.id });
-    const rres = (await run(receiptPdfLoader, makeRequest(`/billing/payments/${paymentId}/receipt.pdf`, { cookie: reception }), { paymentId })) as Response;
+    const { paymentId } = await recordDeskPayment({
+      invoiceId: inv.id,
+      method: "card_desk",
+      amountMinor: 1000,
+      reference: "Terminal ř-Δ-Ж",
+      actorUserId: inv.reception.id,
+    });
+    const rres = (await run(
+      receiptPdfLoader,
+      makeRequest(`/billing/payments/${paymentId}/receipt.pdf`, { cookie: reception }),
+      { paymentId },
+    )) as Response;
     const rfile = savePdf(await rres.arrayBuffer(), "receipt.pdf");
     const rtext = pdfPages(rfile).join("\n");
     expect(rtext).toContain("Łucja Řehořová-Śliwińska");
@@ -103,16 +139,53 @@ describe("every letter is kept", () => {
   it("the prescription prints the true minus, ×, Δ and the patient's own letters", async () => {
     const optom = await userByEmail("optometrist@dioptra-demo.test");
     const p = await patient("Œdipe", "Ševčík-Łoś");
-    const [exam] = await db.insert(exams).values({ patientId: p.id, optometristId: optom.id, status: "signed", signedAt: new Date(), signedById: optom.id }).returning();
+    const [exam] = await db
+      .insert(exams)
+      .values({
+        patientId: p.id,
+        optometristId: optom.id,
+        status: "signed",
+        signedAt: new Date(),
+        signedById: optom.id,
+      })
+      .returning();
     await db.insert(examRefractions).values([
-      { examId: exam!.id, kind: "final", eye: "right", rawText: "-2.25 -0.75 x 90", sphere: -2.25, cylinder: -0.75, axis: 90 },
-      { examId: exam!.id, kind: "final", eye: "left", rawText: "-2.00 DS", sphere: -2, cylinder: 0, axis: 180, prismDioptres: 1, prismBase: "up" },
+      {
+        examId: exam!.id,
+        kind: "final",
+        eye: "right",
+        rawText: "-2.25 -0.75 x 90",
+        sphere: -2.25,
+        cylinder: -0.75,
+        axis: 90,
+      },
+      {
+        examId: exam!.id,
+        kind: "final",
+        eye: "left",
+        rawText: "-2.00 DS",
+        sphere: -2,
+        cylinder: 0,
+        axis: 180,
+        prismDioptres: 1,
+        prismBase: "up",
+      },
     ]);
     const params = { patientId: p.id, examId: exam!.id };
-    const issued = await run(examAction, makeRequest(`/patients/${p.id}/exams/${exam!.id}`, { cookie: await cookieFor("optometrist"), form: { intent: "issue-rx", kind: "spectacle", notes: `Notes: ${SAMPLE}` } }), params);
+    const issued = await run(
+      examAction,
+      makeRequest(`/patients/${p.id}/exams/${exam!.id}`, {
+        cookie: await cookieFor("optometrist"),
+        form: { intent: "issue-rx", kind: "spectacle", notes: `Notes: ${SAMPLE}` },
+      }),
+      params,
+    );
     expect(statusOf(issued)).toBe(302);
     const [rx] = await db.select().from(prescriptions).where(eq(prescriptions.patientId, p.id));
-    const res = (await run(rxPdfLoader, makeRequest("/x", { cookie: reception }), { patientId: p.id, prescriptionId: rx!.id })) as Response;
+    const res = (await run(rxPdfLoader, makeRequest("/x", { cookie: reception }), {
+      patientId: p.id,
+      prescriptionId: rx!.id,
+    })) as Response;
     const file = savePdf(await res.arrayBuffer(), "rx.pdf");
     const text = pdfPages(file).join("\n");
     expect(text).toContain("Œdipe Ševčík-Łoś");
@@ -125,7 +198,10 @@ describe("every letter is kept", () => {
   });
 
   it("the referral letter prints the letters and symbols, with no ASCII stand-ins", async () => {
-    const file = savePdf(await buildLetterPdf(letter({ reason: `IOP ≥ 28 mmHg right; Δ 2.00 base in; ${SAMPLE}` })), "letter.pdf");
+    const file = savePdf(
+      await buildLetterPdf(letter({ reason: `IOP ≥ 28 mmHg right; Δ 2.00 base in; ${SAMPLE}` })),
+      "letter.pdf",
+    );
     const text = pdfPages(file).join("\n");
     expect(text).toContain("Ἀλέξανδρος Παπαδόπουλος");
     expect(text).toContain(`IOP ≥ 28 mmHg right; Δ 2.00 base in; ${SAMPLE}`);
@@ -139,11 +215,22 @@ describe("every letter is kept", () => {
 
 function letter(over: Partial<LetterInput> = {}): LetterInput {
   return {
-    practice: { name: "Larkspur Lane Eye Care", lines: ["12 Larkspur Lane, Brackenford"], phone: "01632 960000", email: "hello@larkspur.test" },
+    practice: {
+      name: "Larkspur Lane Eye Care",
+      lines: ["12 Larkspur Lane, Brackenford"],
+      phone: "01632 960000",
+      email: "hello@larkspur.test",
+    },
     dated: "2 December 2026",
     reference: "REF-ŁΔЖ-1",
     recipient: { name: "Dr Ирина Соколова", clinic: "Brackenford Eye Unit", lines: ["1 Test Road"], email: null },
-    patient: { name: "Ἀλέξανδρος Παπαδόπουλος", dateOfBirth: "2 June 1961", sex: "Male", reference: "P-1", address: "9 Quarry Row" },
+    patient: {
+      name: "Ἀλέξανδρος Παπαδόπουλος",
+      dateOfBirth: "2 June 1961",
+      sex: "Male",
+      reference: "P-1",
+      address: "9 Quarry Row",
+    },
     urgency: { label: "Urgent", timeFrame: "within 2 weeks" },
     reason: "Raised pressure.",
     body: "",
@@ -162,11 +249,18 @@ describe("long documents", () => {
   it("an invoice of 41 lines goes over pages with the header repeated and keeps its total", async () => {
     const p = await patient("Long", `Invoice-${tag()}`);
     const lines = Array.from({ length: 41 }, (_, i) => ({
-      description: i === 3 ? `Varifocal lenses, ${"high-index aspheric with anti-reflection, scratch-resistant and blue-light coatings ".repeat(2)}end of description` : `Item ${i + 1} ${SAMPLE}`,
+      description:
+        i === 3
+          ? `Varifocal lenses, ${"high-index aspheric with anti-reflection, scratch-resistant and blue-light coatings ".repeat(2)}end of description`
+          : `Item ${i + 1} ${SAMPLE}`,
       priceMinor: 1000 + i,
     }));
     const inv = await invoiceWith(p, lines);
-    const res = (await run(invoicePdfLoader, makeRequest(`/billing/invoices/${inv.id}/invoice.pdf`, { cookie: reception }), { invoiceId: inv.id })) as Response;
+    const res = (await run(
+      invoicePdfLoader,
+      makeRequest(`/billing/invoices/${inv.id}/invoice.pdf`, { cookie: reception }),
+      { invoiceId: inv.id },
+    )) as Response;
     const file = savePdf(await res.arrayBuffer(), "long-invoice.pdf");
     const pages = pdfPages(file);
     expect(Number(pdfInfo(file).Pages)).toBeGreaterThanOrEqual(2);
@@ -176,7 +270,9 @@ describe("long documents", () => {
       expect(page).toContain("Larkspur Lane Eye Care");
       expect(page).toContain(`Page ${i + 1} of ${pages.length}`);
     }
-    expect(pages.filter((pg) => /Code\s+Description\s+Qty\s+Unit price\s+Tax\s+Amount/.test(pg)).length).toBe(pages.length);
+    expect(pages.filter((pg) => /Code\s+Description\s+Qty\s+Unit price\s+Tax\s+Amount/.test(pg)).length).toBe(
+      pages.length,
+    );
     const all = pdfRaw(file);
     for (let i = 1; i <= 41; i++) if (i !== 4) expect(all).toContain(`Item ${i} ${SAMPLE}`);
     // The long description is wrapped by width, never cut.
@@ -195,23 +291,55 @@ describe("long documents", () => {
     const inv = await invoiceWith(p, [{ description: "Eye examination", priceMinor: 6500 }]);
     const reference = `TERMINAL-${"0123456789ABCDEFGHIJ".repeat(4)}`.slice(0, 80);
     expect(reference).toHaveLength(80);
-    const { paymentId } = await recordDeskPayment({ invoiceId: inv.id, method: "card_desk", amountMinor: 6500, reference, actorUserId: inv.reception.id });
-    const res = (await run(receiptPdfLoader, makeRequest(`/billing/payments/${paymentId}/receipt.pdf`, { cookie: reception }), { paymentId })) as Response;
+    const { paymentId } = await recordDeskPayment({
+      invoiceId: inv.id,
+      method: "card_desk",
+      amountMinor: 6500,
+      reference,
+      actorUserId: inv.reception.id,
+    });
+    const res = (await run(
+      receiptPdfLoader,
+      makeRequest(`/billing/payments/${paymentId}/receipt.pdf`, { cookie: reception }),
+      { paymentId },
+    )) as Response;
     const file = savePdf(await res.arrayBuffer(), "receipt.pdf");
     const text = pdfPages(file).join("\n");
     expect(squash(text)).toContain(reference);
     expect(squash(text)).toContain(squash(`${p.firstName} ${p.lastName}`));
     expectWithinPages(file);
 
-    const ires = (await run(invoicePdfLoader, makeRequest(`/billing/invoices/${inv.id}/invoice.pdf`, { cookie: reception }), { invoiceId: inv.id })) as Response;
+    const ires = (await run(
+      invoicePdfLoader,
+      makeRequest(`/billing/invoices/${inv.id}/invoice.pdf`, { cookie: reception }),
+      { invoiceId: inv.id },
+    )) as Response;
     const ifile = savePdf(await ires.arrayBuffer(), "invoice.pdf");
     expect(squash(pdfPages(ifile).join("\n"))).toContain(squash(`${p.firstName} ${p.lastName}`));
     expectWithinPages(ifile);
   }, 60_000);
 
   it("a long referral letter and long prescription notes break over pages inside the margins", async () => {
-    const findings = Array.from({ length: 60 }, (_, i) => ({ finding: `Finding ${i + 1}: ${SAMPLE}`, eye: "R", value: `${20 + i} mmHg` }));
-    const file = savePdf(await buildLetterPdf(letter({ findings, patient: { name: "Ἀλέξανδρος Παπαδόπουλος ".repeat(6).trim(), dateOfBirth: "2 June 1961", sex: "Male", reference: "P-1", address: "9 Quarry Row" } })), "long-letter.pdf");
+    const findings = Array.from({ length: 60 }, (_, i) => ({
+      finding: `Finding ${i + 1}: ${SAMPLE}`,
+      eye: "R",
+      value: `${20 + i} mmHg`,
+    }));
+    const file = savePdf(
+      await buildLetterPdf(
+        letter({
+          findings,
+          patient: {
+            name: "Ἀλέξανδρος Παπαδόπουλος ".repeat(6).trim(),
+            dateOfBirth: "2 June 1961",
+            sex: "Male",
+            reference: "P-1",
+            address: "9 Quarry Row",
+          },
+        }),
+      ),
+      "long-letter.pdf",
+    );
     const pages = pdfPages(file);
     expect(pages.length).toBeGreaterThanOrEqual(3);
     expect(pages.filter((pg) => /Finding\s+Eye\s+Measured/.test(pg)).length).toBeGreaterThanOrEqual(2);

@@ -8,7 +8,12 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { appointmentMessages } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { startWorkers, stopJobs } from "~/utils/jobs.server";
-import { APPOINTMENT_MAIL_QUEUE, deliverAppointmentMessage, sendReminderNow, useAppointmentMailSender } from "~/models/schedule/reminders.server";
+import {
+  APPOINTMENT_MAIL_QUEUE,
+  deliverAppointmentMessage,
+  sendReminderNow,
+  useAppointmentMailSender,
+} from "~/models/schedule/reminders.server";
 import { cookieFor, makeRequest, mailTo, run } from "#tests/support/helpers";
 import { UNIT } from "#tests/support/ports";
 import { startMailStandIn, stopProcess } from "#tests/support/services";
@@ -27,13 +32,21 @@ afterAll(async () => {
 });
 
 async function bookFor(patientId: string, start: string) {
-  const res = await postBooking({ patientId, providerId: ids.optometrist.id, appointmentTypeId: ids.examType.id, start });
+  const res = await postBooking({
+    patientId,
+    providerId: ids.optometrist.id,
+    appointmentTypeId: ids.examType.id,
+    start,
+  });
   expect(res.status).toBe(201);
   return ((await res.json()) as { appointment: { id: string } }).appointment.id;
 }
 
 async function message(appointmentId: string, kind: "confirmation" | "reminder" | "cancellation") {
-  const [m] = await db.select().from(appointmentMessages).where(and(eq(appointmentMessages.appointmentId, appointmentId), eq(appointmentMessages.kind, kind)));
+  const [m] = await db
+    .select()
+    .from(appointmentMessages)
+    .where(and(eq(appointmentMessages.appointmentId, appointmentId), eq(appointmentMessages.kind, kind)));
   return m!;
 }
 
@@ -80,7 +93,10 @@ describe("appointment e-mails", () => {
     const id = await bookFor(p.id, "2027-04-05T11:00:00+01:00");
     const m = await message(id, "confirmation");
     expect(await deliverAppointmentMessage(m.id)).toBe("skipped");
-    expect(await message(id, "confirmation")).toMatchObject({ status: "skipped", skippedReason: "patient opted out of e-mail" });
+    expect(await message(id, "confirmation")).toMatchObject({
+      status: "skipped",
+      skippedReason: "patient opted out of e-mail",
+    });
     expect(await mailTo(p.email!)).toHaveLength(0);
   });
 
@@ -94,7 +110,15 @@ describe("appointment e-mails", () => {
     // Run early (a stale job): nothing is sent.
     expect(await deliverAppointmentMessage(reminder.id)).toBe("not due");
     const { action } = await import("~/routes/api/appointments-item");
-    const res = (await run(action, makeRequest(`/api/appointments/${id}`, { method: "PATCH", cookie: await cookieFor("receptionist"), json: { status: "cancelled" } }), { appointmentId: id })) as Response;
+    const res = (await run(
+      action,
+      makeRequest(`/api/appointments/${id}`, {
+        method: "PATCH",
+        cookie: await cookieFor("receptionist"),
+        json: { status: "cancelled" },
+      }),
+      { appointmentId: id },
+    )) as Response;
     expect(res.status).toBe(200);
     const notice = await message(id, "cancellation");
     expect(await deliverAppointmentMessage(notice.id)).toBe("sent");
@@ -127,7 +151,14 @@ describe("appointment e-mails", () => {
     const smtpPort = UNIT.smtp + 5;
     const apiPort = UNIT.mailApi + 5;
     let standIn = await startMailStandIn(smtpPort, apiPort);
-    const transport = nodemailer.createTransport({ host: "127.0.0.1", port: smtpPort, secure: false, ignoreTLS: true, connectionTimeout: 2000, greetingTimeout: 2000 });
+    const transport = nodemailer.createTransport({
+      host: "127.0.0.1",
+      port: smtpPort,
+      secure: false,
+      ignoreTLS: true,
+      connectionTimeout: 2000,
+      greetingTimeout: 2000,
+    });
     useAppointmentMailSender((mail) => transport.sendMail({ from: "Dioptra <no-reply@dioptra-demo.test>", ...mail }));
     try {
       const p = await newPatient();
@@ -136,11 +167,19 @@ describe("appointment e-mails", () => {
       const id = await bookFor(p.id, "2027-04-07T10:00:00+01:00");
       await stopJobs();
       await startWorkers([APPOINTMENT_MAIL_QUEUE], { pollingIntervalSeconds: 0.5 });
-      const failed = await waitFor(() => message(id, "confirmation"), (m) => m.attempts >= 1 && Boolean(m.lastError), 60_000);
+      const failed = await waitFor(
+        () => message(id, "confirmation"),
+        (m) => m.attempts >= 1 && Boolean(m.lastError),
+        60_000,
+      );
       expect(failed.status).toBe("queued");
       expect(failed.lastError).toMatch(/ECONNREFUSED|connect/i);
       standIn = await startMailStandIn(smtpPort, apiPort);
-      const sent = await waitFor(() => message(id, "confirmation"), (m) => m.status === "sent", 60_000);
+      const sent = await waitFor(
+        () => message(id, "confirmation"),
+        (m) => m.status === "sent",
+        60_000,
+      );
       expect(sent.attempts).toBeGreaterThanOrEqual(2);
       const mails = await mailTo(p.email!, apiPort);
       expect(mails).toHaveLength(1);

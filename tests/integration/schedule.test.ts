@@ -19,7 +19,11 @@ const book = (patientId: string, start: string, extra: Record<string, unknown> =
   postBooking({ patientId, providerId: ids.optometrist.id, appointmentTypeId: ids.examType.id, start, ...extra });
 
 async function patch(id: string, body: unknown, role: "receptionist" | "optometrist" = "receptionist") {
-  return (await run(itemAction, makeRequest(`/api/appointments/${id}`, { method: "PATCH", cookie: await cookieFor(role), json: body }), { appointmentId: id })) as Response;
+  return (await run(
+    itemAction,
+    makeRequest(`/api/appointments/${id}`, { method: "PATCH", cookie: await cookieFor(role), json: body }),
+    { appointmentId: id },
+  )) as Response;
 }
 
 describe("booking through POST /api/appointments", () => {
@@ -27,18 +31,29 @@ describe("booking through POST /api/appointments", () => {
     const p = await newPatient();
     const res = await book(p.id, "2027-02-01T10:00:00+00:00");
     expect(res.status).toBe(201);
-    const body = (await res.json()) as { appointment: { id: string; start: string; end: string; extendedProps: { status: string } } };
+    const body = (await res.json()) as {
+      appointment: { id: string; start: string; end: string; extendedProps: { status: string } };
+    };
     expect(body.appointment.start).toBe("2027-02-01T10:00:00+00:00");
     expect(body.appointment.end).toBe("2027-02-01T10:30:00+00:00");
     expect(body.appointment.extendedProps.status).toBe("booked");
-    const msgs = await db.select().from(appointmentMessages).where(eq(appointmentMessages.appointmentId, body.appointment.id));
+    const msgs = await db
+      .select()
+      .from(appointmentMessages)
+      .where(eq(appointmentMessages.appointmentId, body.appointment.id));
     expect(msgs.map((m) => m.kind).sort()).toEqual(["confirmation", "reminder"]);
     const reminder = msgs.find((m) => m.kind === "reminder")!;
     expect(reminder.dueAt.toISOString()).toBe("2027-01-31T10:00:00.000Z"); // 24 h before, the default
     expect(await jobsFor("appointment-mail", "messageId", reminder.id)).toHaveLength(1);
-    const [change] = await db.select().from(appointmentStatusChanges).where(eq(appointmentStatusChanges.appointmentId, body.appointment.id));
+    const [change] = await db
+      .select()
+      .from(appointmentStatusChanges)
+      .where(eq(appointmentStatusChanges.appointmentId, body.appointment.id));
     expect(change).toMatchObject({ fromStatus: null, toStatus: "booked", changedById: ids.receptionist.id });
-    const [row] = await db.select().from(auditLog).where(and(eq(auditLog.action, "appointment.booked"), eq(auditLog.entityId, body.appointment.id)));
+    const [row] = await db
+      .select()
+      .from(auditLog)
+      .where(and(eq(auditLog.action, "appointment.booked"), eq(auditLog.entityId, body.appointment.id)));
     expect(row?.actorUserId).toBe(ids.receptionist.id);
   });
 
@@ -61,14 +76,35 @@ describe("booking through POST /api/appointments", () => {
     const patientsList = await Promise.all(Array.from({ length: 50 }, () => newPatient()));
     const cookie = await cookieFor("receptionist");
     const results = await Promise.all(
-      patientsList.map((p) => postBooking({ patientId: p.id, providerId: ids.optometrist.id, appointmentTypeId: ids.examType.id, start: "2027-02-03T11:00:00Z" }, "receptionist", cookie)),
+      patientsList.map((p) =>
+        postBooking(
+          {
+            patientId: p.id,
+            providerId: ids.optometrist.id,
+            appointmentTypeId: ids.examType.id,
+            start: "2027-02-03T11:00:00Z",
+          },
+          "receptionist",
+          cookie,
+        ),
+      ),
     );
     const statuses = results.map((r) => r.status).sort();
     expect(statuses.filter((s) => s === 201)).toHaveLength(1);
     expect(statuses.filter((s) => s === 409)).toHaveLength(49);
-    const bodies = await Promise.all(results.filter((r) => r.status === 409).map((r) => r.json() as Promise<{ error: string }>));
+    const bodies = await Promise.all(
+      results.filter((r) => r.status === 409).map((r) => r.json() as Promise<{ error: string }>),
+    );
     expect(bodies.every((b) => b.error.startsWith("Not booked:"))).toBe(true);
-    const rows = await db.select().from(appointments).where(and(eq(appointments.providerId, ids.optometrist.id), eq(appointments.startsAt, new Date("2027-02-03T11:00:00Z"))));
+    const rows = await db
+      .select()
+      .from(appointments)
+      .where(
+        and(
+          eq(appointments.providerId, ids.optometrist.id),
+          eq(appointments.startsAt, new Date("2027-02-03T11:00:00Z")),
+        ),
+      );
     expect(rows).toHaveLength(1);
   });
 
@@ -76,7 +112,15 @@ describe("booking through POST /api/appointments", () => {
     const p = await newPatient();
     expect((await book(p.id, "2027-02-04T14:00:00Z")).status).toBe(201);
     await expect(
-      db.insert(appointments).values({ patientId: p.id, providerId: ids.optometrist.id, appointmentTypeId: ids.examType.id, startsAt: new Date("2027-02-04T14:10:00Z"), endsAt: new Date("2027-02-04T14:20:00Z") }),
+      db
+        .insert(appointments)
+        .values({
+          patientId: p.id,
+          providerId: ids.optometrist.id,
+          appointmentTypeId: ids.examType.id,
+          startsAt: new Date("2027-02-04T14:10:00Z"),
+          endsAt: new Date("2027-02-04T14:20:00Z"),
+        }),
     ).rejects.toMatchObject({ cause: { code: "23P01", constraint: "appointments_no_provider_overlap" } });
   });
 
@@ -89,7 +133,11 @@ describe("booking through POST /api/appointments", () => {
       [{ start: "2027-02-07T10:00:00Z" }, 422, /does not work on Sundays/],
       [{ patientId: "00000000-0000-4000-8000-000000000000", start: "2027-02-05T10:00:00Z" }, 404, /No such patient/],
       [{ providerId: "00000000-0000-4000-8000-000000000000", start: "2027-02-05T10:00:00Z" }, 404, /No such provider/],
-      [{ providerId: ids.receptionist.id, start: "2027-02-05T10:00:00Z" }, 422, /may not perform Comprehensive eye exam/],
+      [
+        { providerId: ids.receptionist.id, start: "2027-02-05T10:00:00Z" },
+        422,
+        /may not perform Comprehensive eye exam/,
+      ],
       [{ start: "2027-02-05T10:00:00Z", end: "2027-02-05T09:30:00Z" }, 400, /end must be after the start/],
       [{ start: "next tuesday" }, 400, /ISO 8601/],
       [{ start: undefined }, 400, /ISO 8601/],
@@ -108,7 +156,11 @@ describe("booking through POST /api/appointments", () => {
 
   it("answers a malformed body with 400, no session with 401 and a patient's session with 403", async () => {
     const { action } = await import("~/routes/api/appointments");
-    const bad = makeRequest("/api/appointments", { method: "POST", cookie: await cookieFor("receptionist"), headers: { "content-type": "application/json" } });
+    const bad = makeRequest("/api/appointments", {
+      method: "POST",
+      cookie: await cookieFor("receptionist"),
+      headers: { "content-type": "application/json" },
+    });
     const malformed = new Request(bad.url, { method: "POST", headers: bad.headers, body: "{not json" });
     expect(statusOf(await run(action, malformed))).toBe(400);
     expect(statusOf(await run(action, makeRequest("/api/appointments", { method: "POST", json: {} })))).toBe(401);
@@ -127,7 +179,9 @@ describe("events for the calendar (GET /api/appointments)", () => {
     const url = `/api/appointments?start=2027-03-22T00:00:00&end=2027-03-30T00:00:00&provider=${ids.optometrist.id}&timeZone=Europe%2FLondon`;
     const res = (await run(eventsLoader, makeRequest(url, { cookie: await cookieFor("receptionist") }))) as Response;
     expect(res.status).toBe(200);
-    const events = ((await res.json()) as { start: string; end: string; extendedProps: { patientId: string; localDate: string } }[]).filter((e) => e.extendedProps.patientId === p.id);
+    const events = (
+      (await res.json()) as { start: string; end: string; extendedProps: { patientId: string; localDate: string } }[]
+    ).filter((e) => e.extendedProps.patientId === p.id);
     expect(events.map((e) => [e.start, e.end])).toEqual([
       ["2027-03-26T09:00:00+00:00", "2027-03-26T09:30:00+00:00"],
       ["2027-03-29T09:00:00+01:00", "2027-03-29T09:30:00+01:00"],
@@ -141,22 +195,43 @@ describe("events for the calendar (GET /api/appointments)", () => {
     // 08:30Z on 1 November is 08:30 GMT: before opening, though it was inside the hours in October.
     const early = await book(p.id, "2027-11-01T08:30:00Z");
     expect(early.status).toBe(422);
-    const res = (await run(eventsLoader, makeRequest(`/api/appointments?start=2027-10-25T00:00:00%2B01:00&end=2027-11-02T00:00:00Z&provider=all`, { cookie: await cookieFor("optometrist") }))) as Response;
-    const events = ((await res.json()) as { start: string; extendedProps: { patientId: string } }[]).filter((e) => e.extendedProps.patientId === p.id);
+    const res = (await run(
+      eventsLoader,
+      makeRequest(`/api/appointments?start=2027-10-25T00:00:00%2B01:00&end=2027-11-02T00:00:00Z&provider=all`, {
+        cookie: await cookieFor("optometrist"),
+      }),
+    )) as Response;
+    const events = ((await res.json()) as { start: string; extendedProps: { patientId: string } }[]).filter(
+      (e) => e.extendedProps.patientId === p.id,
+    );
     expect(events.map((e) => e.start)).toEqual(["2027-10-29T09:00:00+01:00", "2027-11-01T09:00:00+00:00"]);
   });
 
   it("lists each event in the same shape as the booking answer gives it", async () => {
     const p = await newPatient();
-    const booked = (await (await book(p.id, "2027-05-03T09:30:00+01:00")).json()) as { appointment: Record<string, unknown> };
-    const res = (await run(eventsLoader, makeRequest(`/api/appointments?start=2027-05-03T00:00:00%2B01:00&end=2027-05-04T00:00:00%2B01:00&provider=${ids.optometrist.id}`, { cookie: await cookieFor("receptionist") }))) as Response;
+    const booked = (await (await book(p.id, "2027-05-03T09:30:00+01:00")).json()) as {
+      appointment: Record<string, unknown>;
+    };
+    const res = (await run(
+      eventsLoader,
+      makeRequest(
+        `/api/appointments?start=2027-05-03T00:00:00%2B01:00&end=2027-05-04T00:00:00%2B01:00&provider=${ids.optometrist.id}`,
+        { cookie: await cookieFor("receptionist") },
+      ),
+    )) as Response;
     const listed = ((await res.json()) as { id: string }[]).find((e) => e.id === booked.appointment.id);
     expect(listed).toEqual(booked.appointment);
   });
 
   it("rejects a bad range with 400", async () => {
     const cookie = await cookieFor("receptionist");
-    for (const q of ["", "?start=2027-01-01&end=2026-01-01", "?start=x&end=y", "?start=2027-01-01&end=2027-06-01", "?start=2027-01-01&end=2027-01-08&provider=nobody"]) {
+    for (const q of [
+      "",
+      "?start=2027-01-01&end=2026-01-01",
+      "?start=x&end=y",
+      "?start=2027-01-01&end=2027-06-01",
+      "?start=2027-01-01&end=2027-01-08&provider=nobody",
+    ]) {
       expect(statusOf(await run(eventsLoader, makeRequest(`/api/appointments${q}`, { cookie })))).toBe(400);
     }
   });
@@ -178,13 +253,26 @@ describe("moving and resizing (PATCH /api/appointments/:id)", () => {
     expect(row!.revision).toBe(1);
     const longer = await patch(a.appointment.id, { start: "2027-02-10T11:00:00Z", end: "2027-02-10T12:00:00Z" });
     expect(longer.status).toBe(200);
-    expect(((await longer.json()) as { appointment: { end: string } }).appointment.end).toBe("2027-02-10T12:00:00+00:00");
-    expect((await patch(a.appointment.id, { start: "2027-02-10T11:00:00Z", end: "2027-02-10T10:00:00Z" })).status).toBe(400);
-    expect((await patch(a.appointment.id, { start: "2027-02-10T16:00:00Z", end: "2027-02-10T18:00:00Z" })).status).toBe(422);
-    const one = (await run(itemLoader, makeRequest(`/api/appointments/${a.appointment.id}`, { cookie: await cookieFor("receptionist") }), { appointmentId: a.appointment.id })) as Response;
+    expect(((await longer.json()) as { appointment: { end: string } }).appointment.end).toBe(
+      "2027-02-10T12:00:00+00:00",
+    );
+    expect((await patch(a.appointment.id, { start: "2027-02-10T11:00:00Z", end: "2027-02-10T10:00:00Z" })).status).toBe(
+      400,
+    );
+    expect((await patch(a.appointment.id, { start: "2027-02-10T16:00:00Z", end: "2027-02-10T18:00:00Z" })).status).toBe(
+      422,
+    );
+    const one = (await run(
+      itemLoader,
+      makeRequest(`/api/appointments/${a.appointment.id}`, { cookie: await cookieFor("receptionist") }),
+      { appointmentId: a.appointment.id },
+    )) as Response;
     expect(((await one.json()) as { appointment: { end: string } }).appointment.end).toBe("2027-02-10T12:00:00+00:00");
     // The reminder follows the move.
-    const [reminder] = await db.select().from(appointmentMessages).where(and(eq(appointmentMessages.appointmentId, a.appointment.id), eq(appointmentMessages.kind, "reminder")));
+    const [reminder] = await db
+      .select()
+      .from(appointmentMessages)
+      .where(and(eq(appointmentMessages.appointmentId, a.appointment.id), eq(appointmentMessages.kind, "reminder")));
     expect(reminder!.dueAt.toISOString()).toBe("2027-02-09T11:00:00.000Z");
   });
 
@@ -197,7 +285,8 @@ describe("moving and resizing (PATCH /api/appointments/:id)", () => {
 describe("day flow", () => {
   it("goes booked → confirmed → arrived → in exam → completed, stamping who and when; starting the exam opens a linked exam", async () => {
     const p = await newPatient();
-    const a = ((await (await book(p.id, "2027-02-11T10:00:00Z")).json()) as { appointment: { id: string } }).appointment;
+    const a = ((await (await book(p.id, "2027-02-11T10:00:00Z")).json()) as { appointment: { id: string } })
+      .appointment;
     expect((await patch(a.id, { status: "confirmed" })).status).toBe(200);
     expect((await patch(a.id, { status: "arrived" })).status).toBe(200);
     // The front desk does not start exams.
@@ -205,7 +294,10 @@ describe("day flow", () => {
     expect(refused.status).toBe(403);
     // The optometrist starts it from the day list: an exam row linked to the appointment, then its page.
     const form = { intent: "status", appointmentId: a.id, status: "in_exam" };
-    const res = (await run(dayAction, makeRequest("/schedule/day", { cookie: await cookieFor("optometrist"), form }))) as Response;
+    const res = (await run(
+      dayAction,
+      makeRequest("/schedule/day", { cookie: await cookieFor("optometrist"), form }),
+    )) as Response;
     expect(res.status).toBe(302);
     const [exam] = await db.select().from(exams).where(eq(exams.appointmentId, a.id));
     expect(exam).toMatchObject({ patientId: p.id, optometristId: ids.optometrist.id, status: "in_progress" });
@@ -214,7 +306,11 @@ describe("day flow", () => {
     // A finished visit is not reopened or moved.
     expect((await patch(a.id, { status: "booked" })).status).toBe(409);
     expect((await patch(a.id, { start: "2027-02-12T10:00:00Z" })).status).toBe(409);
-    const trail = await db.select().from(appointmentStatusChanges).where(eq(appointmentStatusChanges.appointmentId, a.id)).orderBy(appointmentStatusChanges.id);
+    const trail = await db
+      .select()
+      .from(appointmentStatusChanges)
+      .where(eq(appointmentStatusChanges.appointmentId, a.id))
+      .orderBy(appointmentStatusChanges.id);
     expect(trail.map((t) => [t.fromStatus, t.toStatus, t.changedById])).toEqual([
       [null, "booked", ids.receptionist.id],
       ["booked", "confirmed", ids.receptionist.id],
@@ -226,15 +322,20 @@ describe("day flow", () => {
 
   it("a cancellation frees the slot, queues the notice and stops the reminder", async () => {
     const p = await newPatient();
-    const a = ((await (await book(p.id, "2027-02-12T10:00:00Z")).json()) as { appointment: { id: string } }).appointment;
+    const a = ((await (await book(p.id, "2027-02-12T10:00:00Z")).json()) as { appointment: { id: string } })
+      .appointment;
     expect((await patch(a.id, { status: "cancelled" })).status).toBe(200);
     const msgs = await db.select().from(appointmentMessages).where(eq(appointmentMessages.appointmentId, a.id));
     expect(msgs.find((m) => m.kind === "cancellation")?.status).toBe("queued");
-    expect(msgs.find((m) => m.kind === "reminder")).toMatchObject({ status: "skipped", skippedReason: "appointment cancelled" });
+    expect(msgs.find((m) => m.kind === "reminder")).toMatchObject({
+      status: "skipped",
+      skippedReason: "appointment cancelled",
+    });
     const other = await newPatient();
     expect((await book(other.id, "2027-02-12T10:00:00Z")).status).toBe(201);
     // Reinstating the cancelled one is not allowed (finished), and a no-show reinstated onto a taken slot is a 409.
-    const b = ((await (await book(p.id, "2027-02-12T11:00:00Z")).json()) as { appointment: { id: string } }).appointment;
+    const b = ((await (await book(p.id, "2027-02-12T11:00:00Z")).json()) as { appointment: { id: string } })
+      .appointment;
     expect((await patch(b.id, { status: "no_show" })).status).toBe(200);
     expect((await book(other.id, "2027-02-12T11:00:00Z")).status).toBe(201);
     expect((await patch(b.id, { status: "booked" })).status).toBe(409);
@@ -245,13 +346,27 @@ describe("patient lookup and inline registration for the booking dialog", () => 
   it("finds by part of the name (the patients list's search), and registers a new patient with field errors on bad input", async () => {
     const cookie = await cookieFor("receptionist");
     const found = (await run(searchLoader, makeRequest("/api/patients?q=achter", { cookie }))) as Response;
-    expect(((await found.json()) as { results: { lastName: string }[] }).results.map((r) => r.lastName)).toContain("Achterberg");
-    const bad = (await run(registerAction, makeRequest("/api/schedule-patients", { cookie, json: { firstName: "", lastName: "X", dateOfBirth: "2999-01-01" } }))) as Response;
+    expect(((await found.json()) as { results: { lastName: string }[] }).results.map((r) => r.lastName)).toContain(
+      "Achterberg",
+    );
+    const bad = (await run(
+      registerAction,
+      makeRequest("/api/schedule-patients", {
+        cookie,
+        json: { firstName: "", lastName: "X", dateOfBirth: "2999-01-01" },
+      }),
+    )) as Response;
     expect(bad.status).toBe(400);
     const errors = ((await bad.json()) as { fieldErrors: Record<string, string[]> }).fieldErrors;
     expect(Object.keys(errors).sort()).toEqual(["dateOfBirth", "firstName"]);
     const email = uniqueEmail("new");
-    const ok = (await run(registerAction, makeRequest("/api/schedule-patients", { cookie, json: { firstName: "Wilhelmina", lastName: "Ashcombe", dateOfBirth: "1990-03-04", email } }))) as Response;
+    const ok = (await run(
+      registerAction,
+      makeRequest("/api/schedule-patients", {
+        cookie,
+        json: { firstName: "Wilhelmina", lastName: "Ashcombe", dateOfBirth: "1990-03-04", email },
+      }),
+    )) as Response;
     expect(ok.status).toBe(201);
     const created = ((await ok.json()) as { patient: { id: string } }).patient;
     expect((await book(created.id, "2027-02-15T10:00:00Z")).status).toBe(201);

@@ -27,13 +27,29 @@ describe("the site on invoices and receipts", () => {
     const f = await fee("SITE", 6000);
     const exam = await finishedExam(patient.id, f.id);
     await db.update(appointments).set({ siteId: hill.id }).where(eq(appointments.id, exam.appointmentId!));
-    const id = await createInvoice({ patientId: patient.id, examId: exam.id, lines: [{ feeItemId: f.id, quantity: 1 }], actorUserId: reception.id });
-    expect((await db.select({ siteId: invoices.siteId }).from(invoices).where(eq(invoices.id, id)))[0]!.siteId).toBe(hill.id);
+    const id = await createInvoice({
+      patientId: patient.id,
+      examId: exam.id,
+      lines: [{ feeItemId: f.id, quantity: 1 }],
+      actorUserId: reception.id,
+    });
+    expect((await db.select({ siteId: invoices.siteId }).from(invoices).where(eq(invoices.id, id)))[0]!.siteId).toBe(
+      hill.id,
+    );
     await issueInvoice(id, reception.id);
-    const { paymentId } = await recordDeskPayment({ invoiceId: id, method: "cash", amountMinor: 2000, reference: "", actorUserId: reception.id });
+    const { paymentId } = await recordDeskPayment({
+      invoiceId: id,
+      method: "cash",
+      amountMinor: 2000,
+      reference: "",
+      actorUserId: reception.id,
+    });
     const d = (await invoiceDetail(id))!;
 
-    for (const text of [await pdfText(await billingPdf(d, "invoice")), await pdfText(await billingPdf(d, "receipt", paymentId))]) {
+    for (const text of [
+      await pdfText(await billingPdf(d, "invoice")),
+      await pdfText(await billingPdf(d, "receipt", paymentId)),
+    ]) {
       expect(text).toContain("Larkspur Lane Eye Care");
       expect(text).toContain("Hillcrest Parade");
       expect(text).toContain("3 Hillcrest Parade, Brackenford BF6 2HP");
@@ -46,7 +62,9 @@ describe("the site on invoices and receipts", () => {
     await emailInvoice(id, reception.id);
     await emailReceipt(paymentId, reception.id);
     const mails = await mailTo(patient.email!);
-    expect(mails.map((m) => m.subject).sort()).toEqual([expect.stringMatching(/^Invoice INV-/), expect.stringMatching(/^Receipt for your payment/)].sort());
+    expect(mails.map((m) => m.subject).sort()).toEqual(
+      [expect.stringMatching(/^Invoice INV-/), expect.stringMatching(/^Receipt for your payment/)].sort(),
+    );
     for (const m of mails) {
       expect(m.text).toContain("Larkspur Lane Eye Care · Hillcrest Parade");
       expect(m.text).toContain("3 Hillcrest Parade, Brackenford, BF6 2HP");
@@ -58,7 +76,11 @@ describe("the site on invoices and receipts", () => {
     const patient = await newPatient();
     const reception = await userByEmail("reception@dioptra-demo.test");
     const f = await fee("MAIN", 1500);
-    const id = await createInvoice({ patientId: patient.id, lines: [{ feeItemId: f.id, quantity: 1 }], actorUserId: reception.id });
+    const id = await createInvoice({
+      patientId: patient.id,
+      lines: [{ feeItemId: f.id, quantity: 1 }],
+      actorUserId: reception.id,
+    });
     const d = (await invoiceDetail(id))!;
     expect(d.invoice.siteId).toBe(main.id);
     const text = await pdfText(await billingPdf(d, "invoice"));

@@ -27,7 +27,9 @@ async function openCheckout(invoiceId: string) {
   return res.headers.get("location")!.split("/").pop()!;
 }
 async function payOnStandIn(sessionId: string, body: Record<string, unknown>) {
-  return (await (await fetch(`${STANDIN()}/_standin/sessions/${sessionId}/pay`, { method: "POST", body: JSON.stringify(body) })).json()) as { ok: boolean; events: string[]; message?: string };
+  return (await (
+    await fetch(`${STANDIN()}/_standin/sessions/${sessionId}/pay`, { method: "POST", body: JSON.stringify(body) })
+  ).json()) as { ok: boolean; events: string[]; message?: string };
 }
 async function standInEvents(ids: string[]): Promise<StandInEvent[]> {
   const all = (await (await fetch(`${STANDIN()}/_standin/events`)).json()) as StandInEvent[];
@@ -35,12 +37,20 @@ async function standInEvents(ids: string[]): Promise<StandInEvent[]> {
 }
 async function deliver(ev: StandInEvent) {
   const header = signer.webhooks.generateTestHeaderString({ payload: ev.payload, secret: SECRET });
-  const res = (await run(webhookAction, new Request("http://127.0.0.1:3000/api/webhooks/stripe", { method: "POST", headers: { "content-type": "application/json", "stripe-signature": header }, body: ev.payload }))) as Response;
+  const res = (await run(
+    webhookAction,
+    new Request("http://127.0.0.1:3000/api/webhooks/stripe", {
+      method: "POST",
+      headers: { "content-type": "application/json", "stripe-signature": header },
+      body: ev.payload,
+    }),
+  )) as Response;
   expect(res.status).toBe(200);
   return ((await res.json()) as { outcome: string }).outcome;
 }
 const byType = (evs: StandInEvent[], type: string) => evs.find((e) => e.type === type)!;
-const paymentOf = async (invoiceId: string) => (await db.select().from(payments).where(eq(payments.invoiceId, invoiceId)))[0]!;
+const paymentOf = async (invoiceId: string) =>
+  (await db.select().from(payments).where(eq(payments.invoiceId, invoiceId)))[0]!;
 const invoiceOf = async (invoiceId: string) => (await db.select().from(invoices).where(eq(invoices.id, invoiceId)))[0]!;
 
 describe("the Checkout Session the app opens", () => {
@@ -54,7 +64,10 @@ describe("the Checkout Session the app opens", () => {
     // Stripe: expires_at must be at least 30 minutes after creation; the app asks for more.
     expect(CHECKOUT_LIFETIME_SECONDS).toBeGreaterThanOrEqual(40 * 60);
     expect(session.expires_at - before).toBeGreaterThanOrEqual(CHECKOUT_LIFETIME_SECONDS - 5);
-    const health = (await (await fetch(`${STANDIN()}/_standin/health`)).json()) as { apiVersion: string; requests: { path: string; version: string | null }[] };
+    const health = (await (await fetch(`${STANDIN()}/_standin/health`)).json()) as {
+      apiVersion: string;
+      requests: { path: string; version: string | null }[];
+    };
     const creates = health.requests.filter((r) => r.path === "/v1/checkout/sessions");
     expect(creates.length).toBeGreaterThan(0);
     expect(new Set(creates.map((r) => r.version))).toEqual(new Set([STRIPE_API_VERSION]));
@@ -74,10 +87,35 @@ describe("the Checkout Session the app opens", () => {
     const header = signer.webhooks.generateTestHeaderString({ payload: completed.payload, secret: SECRET });
     const event = signer.webhooks.constructEvent(completed.payload, header, SECRET);
     // Stripe API reference, "The Event object": these fields, data.object the session itself.
-    expect(Object.keys(event).sort()).toEqual(["api_version", "created", "data", "id", "livemode", "object", "pending_webhooks", "request", "type"]);
-    expect(event).toMatchObject({ object: "event", api_version: STRIPE_API_VERSION, livemode: false, request: { id: null, idempotency_key: null } });
+    expect(Object.keys(event).sort()).toEqual([
+      "api_version",
+      "created",
+      "data",
+      "id",
+      "livemode",
+      "object",
+      "pending_webhooks",
+      "request",
+      "type",
+    ]);
+    expect(event).toMatchObject({
+      object: "event",
+      api_version: STRIPE_API_VERSION,
+      livemode: false,
+      request: { id: null, idempotency_key: null },
+    });
     const s = event.data.object as Stripe.Checkout.Session;
-    expect(s).toMatchObject({ object: "checkout.session", id: sessionId, mode: "payment", status: "complete", payment_status: "paid", amount_total: 4300, currency: "gbp", payment_method_types: ["card"], url: null });
+    expect(s).toMatchObject({
+      object: "checkout.session",
+      id: sessionId,
+      mode: "payment",
+      status: "complete",
+      payment_status: "paid",
+      amount_total: 4300,
+      currency: "gbp",
+      payment_method_types: ["card"],
+      url: null,
+    });
     expect(s.payment_intent).toMatch(/^pi_test_/);
     expect(s.customer_details).toMatchObject({ email: expect.any(String) });
     // The stand-in's own bookkeeping does not leak into the API's objects.
@@ -98,7 +136,9 @@ describe("events in any order", () => {
     // Newest first: the completion, then the intent's success, then the older decline.
     expect(await deliver(byType(paid, "checkout.session.completed"))).toBe("payment succeeded");
     expect(await deliver(byType(paid, "payment_intent.succeeded"))).toMatch(/^ignored/);
-    expect(await deliver(byType(declined, "payment_intent.payment_failed"))).toMatch(/^ignored: payment already succeeded/);
+    expect(await deliver(byType(declined, "payment_intent.payment_failed"))).toMatch(
+      /^ignored: payment already succeeded/,
+    );
     expect(await deliver(byType(paid, "checkout.session.completed"))).toMatch(/^duplicate/);
     expect(await paymentOf(id)).toMatchObject({ status: "succeeded", amountMinor: 5100 });
     expect(await invoiceOf(id)).toMatchObject({ status: "paid", paidMinor: 5100 });
@@ -113,7 +153,9 @@ describe("events in any order", () => {
     const session = await stripe().checkout.sessions.create({
       mode: "payment",
       allowed_payment_method_types: ["card", "sepa_debit"],
-      line_items: [{ quantity: 1, price_data: { currency: "gbp", unit_amount: priceMinor, product_data: { name: "Invoice" } } }],
+      line_items: [
+        { quantity: 1, price_data: { currency: "gbp", unit_amount: priceMinor, product_data: { name: "Invoice" } } },
+      ],
       metadata,
       payment_intent_data: { metadata },
       success_url: "http://127.0.0.1:3000/done",
@@ -127,7 +169,11 @@ describe("events in any order", () => {
     // In order.
     const a = await debitCheckout(6100);
     const evA = await standInEvents((await payOnStandIn(a.sessionId, { sepaDebit: "succeeds" })).events);
-    expect(evA.map((e) => e.type)).toEqual(["checkout.session.completed", "payment_intent.succeeded", "checkout.session.async_payment_succeeded"]);
+    expect(evA.map((e) => e.type)).toEqual([
+      "checkout.session.completed",
+      "payment_intent.succeeded",
+      "checkout.session.async_payment_succeeded",
+    ]);
     expect(JSON.parse(evA[0]!.payload).data.object.payment_status).toBe("unpaid");
     expect(await deliver(evA[0]!)).toMatch(/^awaiting settlement/);
     expect(await paymentOf(a.invoiceId)).toMatchObject({ status: "pending" });
@@ -148,7 +194,11 @@ describe("events in any order", () => {
   it("a debit that fails later: async_payment_failed marks it failed, before or after the completion, and the invoice stays due", async () => {
     const a = await debitCheckout(6300);
     const evA = await standInEvents((await payOnStandIn(a.sessionId, { sepaDebit: "fails" })).events);
-    expect(evA.map((e) => e.type)).toEqual(["checkout.session.completed", "payment_intent.payment_failed", "checkout.session.async_payment_failed"]);
+    expect(evA.map((e) => e.type)).toEqual([
+      "checkout.session.completed",
+      "payment_intent.payment_failed",
+      "checkout.session.async_payment_failed",
+    ]);
     expect(await deliver(evA[0]!)).toMatch(/^awaiting settlement/);
     expect(await deliver(evA[2]!)).toBe("payment failed after checkout");
     expect(await paymentOf(a.invoiceId)).toMatchObject({ status: "failed" });
@@ -169,11 +219,21 @@ describe("the stand-in delivers in any order", () => {
     const sessionId = await openCheckout(id);
     const paid = await payOnStandIn(sessionId, { card: "4242424242424242" });
     const reversed = [...paid.events].reverse();
-    const res = await fetch(`${STANDIN()}/_standin/events/deliver`, { method: "POST", body: JSON.stringify({ ids: reversed }) });
+    const res = await fetch(`${STANDIN()}/_standin/events/deliver`, {
+      method: "POST",
+      body: JSON.stringify({ ids: reversed }),
+    });
     expect(res.status).toBe(200);
     const out = (await res.json()) as { id: string; type: string }[];
     expect(out.map((e) => e.id)).toEqual(reversed);
     expect(out.map((e) => e.type)).toEqual(["checkout.session.completed", "payment_intent.succeeded"]);
-    expect((await fetch(`${STANDIN()}/_standin/events/deliver`, { method: "POST", body: JSON.stringify({ ids: ["evt_nope"] }) })).status).toBe(404);
+    expect(
+      (
+        await fetch(`${STANDIN()}/_standin/events/deliver`, {
+          method: "POST",
+          body: JSON.stringify({ ids: ["evt_nope"] }),
+        })
+      ).status,
+    ).toBe(404);
   });
 });

@@ -32,7 +32,10 @@ async function openCheckout(invoiceId: string) {
 }
 
 async function payOnStandIn(sessionId: string, body: Record<string, unknown>) {
-  const res = await fetch(`${STANDIN()}/_standin/sessions/${sessionId}/pay`, { method: "POST", body: JSON.stringify(body) });
+  const res = await fetch(`${STANDIN()}/_standin/sessions/${sessionId}/pay`, {
+    method: "POST",
+    body: JSON.stringify(body),
+  });
   return (await res.json()) as { ok: boolean; events: string[]; message?: string };
 }
 
@@ -44,7 +47,14 @@ async function standInEvent(id: string): Promise<StandInEvent> {
 }
 
 function deliver(payload: string, header = signer.webhooks.generateTestHeaderString({ payload, secret: SECRET })) {
-  return run(webhookAction, new Request("http://127.0.0.1:3000/api/webhooks/stripe", { method: "POST", headers: { "content-type": "application/json", "stripe-signature": header }, body: payload }));
+  return run(
+    webhookAction,
+    new Request("http://127.0.0.1:3000/api/webhooks/stripe", {
+      method: "POST",
+      headers: { "content-type": "application/json", "stripe-signature": header },
+      body: payload,
+    }),
+  );
 }
 const outcome = async (res: unknown) => ((await (res as Response).json()) as { outcome: string }).outcome;
 
@@ -84,7 +94,12 @@ describe("paying online", () => {
     for (const b of burst) expect(await outcome(b)).toBe("duplicate: already processed");
     [inv] = await db.select().from(invoices).where(eq(invoices.id, id));
     expect(inv!.paidMinor).toBe(6500);
-    expect(await db.select().from(stripeEvents).where(eq(stripeEvents.id, JSON.parse(completed.payload).id))).toHaveLength(1);
+    expect(
+      await db
+        .select()
+        .from(stripeEvents)
+        .where(eq(stripeEvents.id, JSON.parse(completed.payload).id)),
+    ).toHaveLength(1);
     expect((await mailTo(patient.email!)).filter((m) => m.subject.startsWith("Receipt"))).toHaveLength(1);
 
     // The stand-in's own replay (what "resend" in a dashboard does) is refused the same way.
@@ -117,7 +132,9 @@ describe("paying online", () => {
     expect(await outcome(await deliver(failedEv.payload))).toBe("ignored: payment already succeeded");
     const [p] = await db.select().from(payments).where(eq(payments.invoiceId, id));
     expect(p).toMatchObject({ status: "succeeded", problem: null });
-    const page = dataOf<{ invoice: { status: string } }>(await run(payLoader, makeRequest(`/pay/${token}?checkout=done`), { token }));
+    const page = dataOf<{ invoice: { status: string } }>(
+      await run(payLoader, makeRequest(`/pay/${token}?checkout=done`), { token }),
+    );
     expect(page.invoice.status).toBe("paid");
   });
 
@@ -126,10 +143,14 @@ describe("paying online", () => {
     const { sessionId, token } = await openCheckout(id);
     const declined = await payOnStandIn(sessionId, { card: CARD_DECLINED });
     expect(declined.message).toBe("Your card was declined.");
-    expect(await outcome(await deliver((await standInEvent(declined.events[0]!)).payload))).toBe("attempt failed: Your card was declined.");
+    expect(await outcome(await deliver((await standInEvent(declined.events[0]!)).payload))).toBe(
+      "attempt failed: Your card was declined.",
+    );
     const [inv] = await db.select().from(invoices).where(eq(invoices.id, id));
     expect(inv).toMatchObject({ status: "open", paidMinor: 0 });
-    const page = dataOf<{ attempt: { status: string; problem: string } }>(await run(payLoader, makeRequest(`/pay/${token}?checkout=cancelled`), { token }));
+    const page = dataOf<{ attempt: { status: string; problem: string } }>(
+      await run(payLoader, makeRequest(`/pay/${token}?checkout=cancelled`), { token }),
+    );
     expect(page.attempt).toEqual({ status: "pending", problem: "Your card was declined." });
   });
 
@@ -138,14 +159,18 @@ describe("paying online", () => {
     const { sessionId, token } = await openCheckout(id);
     const paid = await payOnStandIn(sessionId, { card: CARD_OK, amountTotal: 9800 });
     const completed = await eventOfType(paid.events, "checkout.session.completed");
-    expect(await outcome(await deliver(completed.payload))).toMatch(/^flagged: Stripe reports £98.00 paid, but this checkout was for £99.00/);
+    expect(await outcome(await deliver(completed.payload))).toMatch(
+      /^flagged: Stripe reports £98.00 paid, but this checkout was for £99.00/,
+    );
     const [inv] = await db.select().from(invoices).where(eq(invoices.id, id));
     expect(inv).toMatchObject({ status: "open", paidMinor: 0 });
     const [p] = await db.select().from(payments).where(eq(payments.invoiceId, id));
     expect(p!.status).toBe("flagged");
     expect(p!.problem).toContain("Not accepted");
     // The patient coming back is told it is being checked, and the invoice still shows the amount due.
-    const page = dataOf<{ attempt: { status: string }; invoice: { due: string } }>(await run(payLoader, makeRequest(`/pay/${token}?checkout=done`), { token }));
+    const page = dataOf<{ attempt: { status: string }; invoice: { due: string } }>(
+      await run(payLoader, makeRequest(`/pay/${token}?checkout=done`), { token }),
+    );
     expect(page.attempt.status).toBe("flagged");
     expect(page.invoice.due).toBe("£99.00");
   });
@@ -155,19 +180,37 @@ describe("paying online", () => {
     const { sessionId } = await openCheckout(id);
     const paid = await payOnStandIn(sessionId, { card: CARD_OK });
     const completed = await eventOfType(paid.events, "checkout.session.completed");
-    const forged = signer.webhooks.generateTestHeaderString({ payload: completed.payload, secret: "whsec_someone_else" });
+    const forged = signer.webhooks.generateTestHeaderString({
+      payload: completed.payload,
+      secret: "whsec_someone_else",
+    });
     const cases = [
       deliver(completed.payload, forged),
       deliver(completed.payload, "t=1,v1=deadbeef"),
-      deliver(completed.payload.replace('"amount_total": 1500', '"amount_total": 1'), signer.webhooks.generateTestHeaderString({ payload: completed.payload, secret: SECRET })),
-      run(webhookAction, new Request("http://127.0.0.1:3000/api/webhooks/stripe", { method: "POST", body: completed.payload })),
+      deliver(
+        completed.payload.replace('"amount_total": 1500', '"amount_total": 1'),
+        signer.webhooks.generateTestHeaderString({ payload: completed.payload, secret: SECRET }),
+      ),
+      run(
+        webhookAction,
+        new Request("http://127.0.0.1:3000/api/webhooks/stripe", { method: "POST", body: completed.payload }),
+      ),
     ];
     for (const res of await Promise.all(cases)) expect(statusOf(res)).toBe(400);
-    expect(await db.select().from(stripeEvents).where(eq(stripeEvents.id, JSON.parse(completed.payload).id))).toHaveLength(0);
+    expect(
+      await db
+        .select()
+        .from(stripeEvents)
+        .where(eq(stripeEvents.id, JSON.parse(completed.payload).id)),
+    ).toHaveLength(0);
     const [inv] = await db.select().from(invoices).where(eq(invoices.id, id));
     expect(inv).toMatchObject({ status: "open", paidMinor: 0 });
     // A stale but correctly signed event (older than the SDK's 5-minute tolerance) is refused too.
-    const old = signer.webhooks.generateTestHeaderString({ payload: completed.payload, secret: SECRET, timestamp: Math.floor(Date.now() / 1000) - 3600 });
+    const old = signer.webhooks.generateTestHeaderString({
+      payload: completed.payload,
+      secret: SECRET,
+      timestamp: Math.floor(Date.now() / 1000) - 3600,
+    });
     expect(statusOf(await deliver(completed.payload, old))).toBe(400);
   });
 
@@ -176,14 +219,24 @@ describe("paying online", () => {
     const { sessionId } = await openCheckout(id);
     const paid = await payOnStandIn(sessionId, { card: CARD_OK });
     await deliver((await eventOfType(paid.events, "checkout.session.completed")).payload);
-    const [p] = await db.select().from(payments).where(and(eq(payments.invoiceId, id), eq(payments.status, "succeeded")));
-    const { refundId } = await refundPayment({ paymentId: p!.id, amountMinor: 3000, reason: "Lens not needed", actorUserId: reception.id });
+    const [p] = await db
+      .select()
+      .from(payments)
+      .where(and(eq(payments.invoiceId, id), eq(payments.status, "succeeded")));
+    const { refundId } = await refundPayment({
+      paymentId: p!.id,
+      amountMinor: 3000,
+      reason: "Lens not needed",
+      actorUserId: reception.id,
+    });
     expect(refundId).toBeTruthy();
     const [after] = await db.select().from(payments).where(eq(payments.id, p!.id));
     expect(after!.refundedMinor).toBe(3000);
     const [inv] = await db.select().from(invoices).where(eq(invoices.id, id));
     expect(inv).toMatchObject({ status: "partially_paid", paidMinor: 5000 });
     // The stand-in, like Stripe, refuses more than what is left.
-    await expect(refundPayment({ paymentId: p!.id, amountMinor: 6000, reason: "too much", actorUserId: reception.id })).rejects.toThrow(/At most £50.00/);
+    await expect(
+      refundPayment({ paymentId: p!.id, amountMinor: 6000, reason: "too much", actorUserId: reception.id }),
+    ).rejects.toThrow(/At most £50.00/);
   });
 });

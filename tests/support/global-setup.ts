@@ -1,6 +1,13 @@
 import type { TestProject } from "vitest/node";
 import { UNIT } from "./ports";
-import { freshDatabase, prepareJobQueues, startMailStandIn, startS3StandIn, startStripeStandIn, stopProcess } from "./services";
+import {
+  freshDatabase,
+  prepareJobQueues,
+  startMailStandIn,
+  startS3StandIn,
+  startStripeStandIn,
+  stopProcess,
+} from "./services";
 
 /** Integration tests: a fresh database for the run and the mail, Stripe and object-storage stand-ins on test ports. */
 export default async function setup(project: TestProject) {

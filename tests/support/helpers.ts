@@ -21,7 +21,10 @@ export type DemoRole = keyof typeof DEMO_EMAIL;
 export const BASE = "http://127.0.0.1:3000";
 
 export async function userByEmail(email: string) {
-  const [u] = await db.select().from(users).where(sql`lower(${users.email}) = ${email.toLowerCase()}`);
+  const [u] = await db
+    .select()
+    .from(users)
+    .where(sql`lower(${users.email}) = ${email.toLowerCase()}`);
   if (!u) throw new Error(`no user ${email}`);
   return u;
 }
@@ -35,7 +38,16 @@ export async function cookieFor(emailOrRole: string) {
   return setCookie.split(";")[0]!;
 }
 
-export function makeRequest(path: string, opts: { method?: string; cookie?: string; form?: Record<string, string>; json?: unknown; headers?: Record<string, string> } = {}) {
+export function makeRequest(
+  path: string,
+  opts: {
+    method?: string;
+    cookie?: string;
+    form?: Record<string, string>;
+    json?: unknown;
+    headers?: Record<string, string>;
+  } = {},
+) {
   const headers = new Headers(opts.headers);
   if (opts.cookie) headers.set("cookie", opts.cookie);
   let body: BodyInit | undefined;
@@ -51,11 +63,21 @@ export function makeRequest(path: string, opts: { method?: string; cookie?: stri
 
 /** Route-function arguments as React Router passes them. */
 export function args(request: Request, params: Record<string, string> = {}) {
-  return { request, params, context: new RouterContextProvider(), unstable_pattern: "", unstable_url: new URL(request.url) } as never;
+  return {
+    request,
+    params,
+    context: new RouterContextProvider(),
+    unstable_pattern: "",
+    unstable_url: new URL(request.url),
+  } as never;
 }
 
 /** Runs a loader/action and returns the thrown or returned Response, or the plain data. */
-export async function run(fn: (a: never) => Promise<unknown>, request: Request, params: Record<string, string> = {}): Promise<unknown> {
+export async function run(
+  fn: (a: never) => Promise<unknown>,
+  request: Request,
+  params: Record<string, string> = {},
+): Promise<unknown> {
   try {
     return await fn(args(request, params));
   } catch (thrown) {
@@ -66,14 +88,24 @@ export async function run(fn: (a: never) => Promise<unknown>, request: Request, 
 /** Status of a result: a Response, a React Router `data()` value, or plain data (200). */
 export function statusOf(result: unknown): number {
   if (result instanceof Response) return result.status;
-  if (result && typeof result === "object" && "type" in result && (result as { type: string }).type === "DataWithResponseInit") {
+  if (
+    result &&
+    typeof result === "object" &&
+    "type" in result &&
+    (result as { type: string }).type === "DataWithResponseInit"
+  ) {
     return (result as { init?: { status?: number } }).init?.status ?? 200;
   }
   return 200;
 }
 
 export function dataOf<T = unknown>(result: unknown): T {
-  if (result && typeof result === "object" && "type" in result && (result as { type: string }).type === "DataWithResponseInit") {
+  if (
+    result &&
+    typeof result === "object" &&
+    "type" in result &&
+    (result as { type: string }).type === "DataWithResponseInit"
+  ) {
     return (result as unknown as { data: T }).data;
   }
   return result as T;

@@ -4,7 +4,16 @@ import { mkdtempSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 
-export type PdfWord = { page: number; text: string; xMin: number; xMax: number; yMin: number; yMax: number; pageWidth: number; pageHeight: number };
+export type PdfWord = {
+  page: number;
+  text: string;
+  xMin: number;
+  xMax: number;
+  yMin: number;
+  yMax: number;
+  pageWidth: number;
+  pageHeight: number;
+};
 
 export function savePdf(bytes: ArrayBuffer | Uint8Array, name = "doc.pdf") {
   const file = join(mkdtempSync(join(tmpdir(), "pdf-")), name);
@@ -21,7 +30,12 @@ export function pdfPages(file: string): string[] {
 /** The document information (pdfinfo): Pages, Creator, Producer, … */
 export function pdfInfo(file: string): Record<string, string> {
   const out = execFileSync("pdfinfo", [file], { encoding: "utf8" });
-  return Object.fromEntries(out.split("\n").filter(Boolean).map((l) => [l.slice(0, l.indexOf(":")).trim(), l.slice(l.indexOf(":") + 1).trim()]));
+  return Object.fromEntries(
+    out
+      .split("\n")
+      .filter(Boolean)
+      .map((l) => [l.slice(0, l.indexOf(":")).trim(), l.slice(l.indexOf(":") + 1).trim()]),
+  );
 }
 
 /** The fonts of the PDF (pdffonts): name, type, and whether embedded, subset and mapped to Unicode. */
@@ -42,13 +56,31 @@ export function pdfWords(file: string): PdfWord[] {
   let page = 0;
   let width = 0;
   let height = 0;
-  const decode = (s: string) => s.replace(/&lt;/g, "<").replace(/&gt;/g, ">").replace(/&quot;/g, '"').replace(/&#39;/g, "'").replace(/&amp;/g, "&");
-  for (const m of html.matchAll(/<page width="([\d.]+)" height="([\d.]+)">|<word xMin="([\d.-]+)" yMin="([\d.-]+)" xMax="([\d.-]+)" yMax="([\d.-]+)">([^<]*)<\/word>/g)) {
+  const decode = (s: string) =>
+    s
+      .replace(/&lt;/g, "<")
+      .replace(/&gt;/g, ">")
+      .replace(/&quot;/g, '"')
+      .replace(/&#39;/g, "'")
+      .replace(/&amp;/g, "&");
+  for (const m of html.matchAll(
+    /<page width="([\d.]+)" height="([\d.]+)">|<word xMin="([\d.-]+)" yMin="([\d.-]+)" xMax="([\d.-]+)" yMax="([\d.-]+)">([^<]*)<\/word>/g,
+  )) {
     if (m[1]) {
       page++;
       width = Number(m[1]);
       height = Number(m[2]);
-    } else words.push({ page, text: decode(m[7]!), xMin: Number(m[3]), yMin: Number(m[4]), xMax: Number(m[5]), yMax: Number(m[6]), pageWidth: width, pageHeight: height });
+    } else
+      words.push({
+        page,
+        text: decode(m[7]!),
+        xMin: Number(m[3]),
+        yMin: Number(m[4]),
+        xMax: Number(m[5]),
+        yMax: Number(m[6]),
+        pageWidth: width,
+        pageHeight: height,
+      });
   }
   return words;
 }

@@ -5,9 +5,23 @@
 const slot = Number(process.env.DIOPTRA_TEST_SLOT ?? 0);
 const suffix = slot ? `_${slot}` : "";
 
-export const UNIT = { db: `dioptra_test${suffix}`, smtp: 2625 + slot * 10, mailApi: 2626 + slot * 10, stripe: 2627 + slot * 10, s3: 2628 + slot * 10, s3Spare: 2629 + slot * 10 } as const;
+export const UNIT = {
+  db: `dioptra_test${suffix}`,
+  smtp: 2625 + slot * 10,
+  mailApi: 2626 + slot * 10,
+  stripe: 2627 + slot * 10,
+  s3: 2628 + slot * 10,
+  s3Spare: 2629 + slot * 10,
+} as const;
 // The worker's health port is smtp + 3 (2728).
-export const E2E = { db: `dioptra_e2e${suffix}`, smtp: 2725 + slot * 10, mailApi: 2726 + slot * 10, app: 3100 + slot * 10, stripe: 2727 + slot * 10, s3: 2729 + slot * 10 } as const;
+export const E2E = {
+  db: `dioptra_e2e${suffix}`,
+  smtp: 2725 + slot * 10,
+  mailApi: 2726 + slot * 10,
+  app: 3100 + slot * 10,
+  stripe: 2727 + slot * 10,
+  s3: 2729 + slot * 10,
+} as const;
 /** The scale-out test's own stack: two app servers and nginx in front, two workers and the stand-ins. */
 export const SCALE = {
   db: `dioptra_scale${suffix}`,

@@ -5,8 +5,23 @@ import { Icon } from "~/components/ui/icon";
 import { Notice } from "~/components/ui/notice";
 import { formatDate } from "~/models/patients/patient-schema";
 
-type Doc = { id: string; kind: string; description: string; originalName: string; contentType: string; sizeBytes: number; hasThumbnail: boolean; createdAt: string; uploadedBy: string };
-const KIND_LABEL: Record<string, string> = { fundus_photo: "Fundus photograph", field_printout: "Visual field printout", outside_record: "Outside record", other: "Other" };
+type Doc = {
+  id: string;
+  kind: string;
+  description: string;
+  originalName: string;
+  contentType: string;
+  sizeBytes: number;
+  hasThumbnail: boolean;
+  createdAt: string;
+  uploadedBy: string;
+};
+const KIND_LABEL: Record<string, string> = {
+  fundus_photo: "Fundus photograph",
+  field_printout: "Visual field printout",
+  outside_record: "Outside record",
+  other: "Other",
+};
 
 export function DocumentList({ patientId, documents }: { patientId: string; documents: Doc[] }) {
   if (!documents.length) return <p className="text-muted">No files attached.</p>;
@@ -15,12 +30,24 @@ export function DocumentList({ patientId, documents }: { patientId: string; docu
       {documents.map((d) => (
         <li key={d.id} className="flex gap-3 rounded-md border border-line p-3">
           {d.hasThumbnail ? (
-            <img src={`/patients/${patientId}/documents/${d.id}/thumbnail`} alt={`Thumbnail of ${d.originalName}`} className="size-20 rounded object-cover" loading="lazy" />
+            <img
+              src={`/patients/${patientId}/documents/${d.id}/thumbnail`}
+              alt={`Thumbnail of ${d.originalName}`}
+              className="size-20 rounded object-cover"
+              loading="lazy"
+            />
           ) : (
-            <span className="flex size-20 items-center justify-center rounded bg-canvas text-xs font-bold text-muted">PDF</span>
+            <span className="flex size-20 items-center justify-center rounded bg-canvas text-xs font-bold text-muted">
+              PDF
+            </span>
           )}
           <div className="min-w-0 text-sm">
-            <a href={`/patients/${patientId}/documents/${d.id}/file`} target="_blank" rel="noreferrer" className="block truncate font-semibold text-accent-800 underline">
+            <a
+              href={`/patients/${patientId}/documents/${d.id}/file`}
+              target="_blank"
+              rel="noreferrer"
+              className="block truncate font-semibold text-accent-800 underline"
+            >
               {d.originalName}
             </a>
             <p className="text-muted">
@@ -80,20 +107,36 @@ export function UploadForm({ patientId, examId }: { patientId: string; examId?: 
   }
 
   return (
-    <form ref={formRef} onSubmit={submit} className="grid gap-3 sm:grid-cols-[1fr_12rem_1fr_auto] sm:items-end" aria-label="Attach a file">
+    <form
+      ref={formRef}
+      onSubmit={submit}
+      className="grid gap-3 sm:grid-cols-[1fr_12rem_1fr_auto] sm:items-end"
+      aria-label="Attach a file"
+    >
       <input type="hidden" name="patientId" value={patientId} />
       {examId ? <input type="hidden" name="examId" value={examId} /> : null}
       <div>
         <label htmlFor={`${idp}-file`} className="mb-1 block text-sm font-semibold">
           File (JPEG, PNG, WebP or PDF, up to 15 MB)
         </label>
-        <input id={`${idp}-file`} name="file" type="file" accept="image/jpeg,image/png,image/webp,application/pdf" className="block w-full text-sm" />
+        <input
+          id={`${idp}-file`}
+          name="file"
+          type="file"
+          accept="image/jpeg,image/png,image/webp,application/pdf"
+          className="block w-full text-sm"
+        />
       </div>
       <div>
         <label htmlFor={`${idp}-kind`} className="mb-1 block text-sm font-semibold">
           Kind
         </label>
-        <select id={`${idp}-kind`} name="kind" defaultValue="fundus_photo" className="block w-full rounded-md border border-line bg-white px-2 py-2 text-sm">
+        <select
+          id={`${idp}-kind`}
+          name="kind"
+          defaultValue="fundus_photo"
+          className="block w-full rounded-md border border-line bg-white px-2 py-2 text-sm"
+        >
           {Object.entries(KIND_LABEL).map(([k, v]) => (
             <option key={k} value={k}>
               {v}
@@ -105,7 +148,11 @@ export function UploadForm({ patientId, examId }: { patientId: string; examId?: 
         <label htmlFor={`${idp}-desc`} className="mb-1 block text-sm font-semibold">
           Description (optional)
         </label>
-        <input id={`${idp}-desc`} name="description" className="block w-full rounded-md border border-line px-3 py-2 text-sm" />
+        <input
+          id={`${idp}-desc`}
+          name="description"
+          className="block w-full rounded-md border border-line px-3 py-2 text-sm"
+        />
       </div>
       <Button type="submit" variant="secondary" pending={progress !== null}>
         <Icon name="check" /> Attach

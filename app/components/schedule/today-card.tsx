@@ -3,7 +3,17 @@ import { AppointmentStatus } from "./status-ui";
 import { Card } from "~/components/ui/card";
 import type { Status } from "~/lib/scheduling/status";
 
-type Today = { own: boolean; appointments: { id: string; time: string; patientName: string; typeName: string; providerName: string; status: Status }[] };
+type Today = {
+  own: boolean;
+  appointments: {
+    id: string;
+    time: string;
+    patientName: string;
+    typeName: string;
+    providerName: string;
+    status: Status;
+  }[];
+};
 
 /** The staff home's view of today's diary, with the way into the live day list. */
 export function TodayCard({ today }: { today: Today }) {
@@ -35,7 +45,9 @@ export function TodayCard({ today }: { today: Today }) {
           ))}
         </ul>
       )}
-      {today.appointments.length > shown.length ? <p className="mt-2 text-sm text-muted">and {today.appointments.length - shown.length} more in the day list.</p> : null}
+      {today.appointments.length > shown.length ? (
+        <p className="mt-2 text-sm text-muted">and {today.appointments.length - shown.length} more in the day list.</p>
+      ) : null}
     </Card>
   );
 }

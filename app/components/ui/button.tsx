@@ -21,8 +21,18 @@ export function Button({
   ...props
 }: ButtonHTMLAttributes<HTMLButtonElement> & { variant?: Variant; pending?: boolean }) {
   return (
-    <button {...props} disabled={props.disabled || pending} aria-busy={pending || undefined} className={buttonClass(variant, className)}>
-      {pending ? <span className="size-3.5 animate-spin rounded-full border-2 border-current border-t-transparent" aria-hidden="true" /> : null}
+    <button
+      {...props}
+      disabled={props.disabled || pending}
+      aria-busy={pending || undefined}
+      className={buttonClass(variant, className)}
+    >
+      {pending ? (
+        <span
+          className="size-3.5 animate-spin rounded-full border-2 border-current border-t-transparent"
+          aria-hidden="true"
+        />
+      ) : null}
       {children}
     </button>
   );

@@ -1,6 +1,16 @@
 import type { ReactNode } from "react";
 
-export function Card({ title, children, className = "", actions }: { title?: ReactNode; children: ReactNode; className?: string; actions?: ReactNode }) {
+export function Card({
+  title,
+  children,
+  className = "",
+  actions,
+}: {
+  title?: ReactNode;
+  children: ReactNode;
+  className?: string;
+  actions?: ReactNode;
+}) {
   return (
     <section className={`rounded-lg border border-line bg-white p-5 shadow-sm ${className}`}>
       {title || actions ? (

@@ -11,10 +11,24 @@ const tones: Record<Tone, { box: string; icon: IconName; label: string }> = {
 };
 
 /** A message box whose meaning is carried by its icon and its label word, not only its colour. */
-export function Notice({ tone = "info", title, children, id }: { tone?: Tone; title?: ReactNode; children?: ReactNode; id?: string }) {
+export function Notice({
+  tone = "info",
+  title,
+  children,
+  id,
+}: {
+  tone?: Tone;
+  title?: ReactNode;
+  children?: ReactNode;
+  id?: string;
+}) {
   const t = tones[tone];
   return (
-    <div id={id} role={tone === "error" ? "alert" : "status"} className={`flex gap-3 rounded-md border px-4 py-3 text-sm ${t.box}`}>
+    <div
+      id={id}
+      role={tone === "error" ? "alert" : "status"}
+      className={`flex gap-3 rounded-md border px-4 py-3 text-sm ${t.box}`}
+    >
       <Icon name={t.icon} className="mt-0.5 size-5 shrink-0" />
       <div>
         <p className="font-semibold">

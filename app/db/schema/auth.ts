@@ -1,5 +1,18 @@
 import { sql } from "drizzle-orm";
-import { boolean, doublePrecision, index, inet, integer, pgEnum, pgTable, primaryKey, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import {
+  boolean,
+  doublePrecision,
+  index,
+  inet,
+  integer,
+  pgEnum,
+  pgTable,
+  primaryKey,
+  text,
+  timestamp,
+  uniqueIndex,
+  uuid,
+} from "drizzle-orm/pg-core";
 import { patients } from "./patients";
 
 export const roleEnum = pgEnum("role", ["owner", "optometrist", "receptionist", "patient"]);

@@ -1,5 +1,18 @@
 import { sql } from "drizzle-orm";
-import { bigint, boolean, check, index, integer, jsonb, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import {
+  bigint,
+  boolean,
+  check,
+  index,
+  integer,
+  jsonb,
+  pgEnum,
+  pgTable,
+  text,
+  timestamp,
+  uniqueIndex,
+  uuid,
+} from "drizzle-orm/pg-core";
 import { users } from "./auth";
 import { exams } from "./exams";
 import { patients } from "./patients";
@@ -22,12 +35,17 @@ export const feeItems = pgTable(
     /** Price in minor units (pence, cents) of practice_settings.currency, before tax. */
     priceMinor: integer().notNull(),
     /** "service" (exam, fitting) or "item" (frames, lenses, solutions). */
-    kind: text({ enum: ["service", "item"] }).notNull().default("service"),
+    kind: text({ enum: ["service", "item"] })
+      .notNull()
+      .default("service"),
     taxCategory: taxCategoryEnum().notNull().default("exempt"),
     active: boolean().notNull().default(true),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
-  (t) => [uniqueIndex("fee_items_code_uq").on(sql`lower(${t.code})`), check("fee_items_price_nonneg", sql`${t.priceMinor} >= 0`)],
+  (t) => [
+    uniqueIndex("fee_items_code_uq").on(sql`lower(${t.code})`),
+    check("fee_items_price_nonneg", sql`${t.priceMinor} >= 0`),
+  ],
 );
 
 export const invoiceStatusEnum = pgEnum("invoice_status", ["draft", "open", "partially_paid", "paid", "void"]);
@@ -82,9 +100,15 @@ export const invoices = pgTable(
     index("invoices_exam_idx").on(t.examId),
     index("invoices_site_idx").on(t.siteId),
     check("invoices_number_when_issued", sql`(${t.status} = 'draft') = (${t.number} is null)`),
-    check("invoices_amounts_nonneg", sql`${t.subtotalMinor} >= 0 and ${t.discountMinor} >= 0 and ${t.taxMinor} >= 0 and ${t.totalMinor} >= 0`),
+    check(
+      "invoices_amounts_nonneg",
+      sql`${t.subtotalMinor} >= 0 and ${t.discountMinor} >= 0 and ${t.taxMinor} >= 0 and ${t.totalMinor} >= 0`,
+    ),
     check("invoices_paid_range", sql`${t.paidMinor} >= 0 and ${t.paidMinor} <= ${t.totalMinor}`),
-    check("invoices_discount_range", sql`${t.discountValue} >= 0 and (${t.discountKind} <> 'percent' or ${t.discountValue} <= 10000)`),
+    check(
+      "invoices_discount_range",
+      sql`${t.discountValue} >= 0 and (${t.discountKind} <> 'percent' or ${t.discountValue} <= 10000)`,
+    ),
     check("invoices_tax_rate_range", sql`${t.taxRateBp} between 0 and 10000`),
   ],
 );
@@ -100,7 +124,9 @@ export const invoiceLines = pgTable(
     position: integer().notNull(),
     code: text().notNull(),
     description: text().notNull(),
-    kind: text({ enum: ["service", "item"] }).notNull().default("service"),
+    kind: text({ enum: ["service", "item"] })
+      .notNull()
+      .default("service"),
     taxCategory: taxCategoryEnum().notNull().default("exempt"),
     quantity: integer().notNull().default(1),
     unitPriceMinor: integer().notNull(),
@@ -166,7 +192,9 @@ export const payments = pgTable(
     index("payments_received_idx").on(t.receivedAt),
     uniqueIndex("payments_checkout_session_uq").on(t.stripeCheckoutSessionId),
     uniqueIndex("payments_payment_intent_uq").on(t.stripePaymentIntentId),
-    uniqueIndex("payments_one_pending_online_uq").on(t.invoiceId).where(sql`${t.status} = 'pending' and ${t.method} = 'card_online'`),
+    uniqueIndex("payments_one_pending_online_uq")
+      .on(t.invoiceId)
+      .where(sql`${t.status} = 'pending' and ${t.method} = 'card_online'`),
     check("payments_amount_positive", sql`${t.amountMinor} > 0`),
     check("payments_refund_range", sql`${t.refundedMinor} >= 0 and ${t.refundedMinor} <= ${t.amountMinor}`),
   ],
@@ -185,7 +213,12 @@ export const refunds = pgTable(
     createdById: uuid().references(() => users.id, { onDelete: "set null" }),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
-  (t) => [index("refunds_payment_idx").on(t.paymentId), index("refunds_created_idx").on(t.createdAt), uniqueIndex("refunds_stripe_uq").on(t.stripeRefundId), check("refunds_amount_positive", sql`${t.amountMinor} > 0`)],
+  (t) => [
+    index("refunds_payment_idx").on(t.paymentId),
+    index("refunds_created_idx").on(t.createdAt),
+    uniqueIndex("refunds_stripe_uq").on(t.stripeRefundId),
+    check("refunds_amount_positive", sql`${t.amountMinor} > 0`),
+  ],
 );
 
 /** Every Stripe webhook event applied, keyed by its id: a second delivery finds its row and changes nothing. */

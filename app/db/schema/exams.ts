@@ -1,5 +1,20 @@
 import { sql } from "drizzle-orm";
-import { boolean, check, doublePrecision, index, integer, jsonb, pgEnum, pgTable, primaryKey, text, time, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import {
+  boolean,
+  check,
+  doublePrecision,
+  index,
+  integer,
+  jsonb,
+  pgEnum,
+  pgTable,
+  primaryKey,
+  text,
+  time,
+  timestamp,
+  uniqueIndex,
+  uuid,
+} from "drizzle-orm/pg-core";
 import { users } from "./auth";
 import { patients } from "./patients";
 import { appointments } from "./schedule";
@@ -24,14 +39,20 @@ export const exams = pgTable(
     signedAt: timestamp({ withTimezone: true }),
     signedById: uuid().references(() => users.id, { onDelete: "restrict" }),
     /** The triage proposal as of the last section save (recomputed on every save). */
-    triage: jsonb().$type<{ urgency: "same_day" | "urgent" | "soon" | "routine" | null; reasons: { urgency: string; eye?: string; rule: string; source: string }[] }>(),
+    triage: jsonb().$type<{
+      urgency: "same_day" | "urgent" | "soon" | "routine" | null;
+      reasons: { urgency: string; eye?: string; rule: string; source: string }[];
+    }>(),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [
     index("exams_patient_examined_idx").on(t.patientId, t.examinedAt),
     index("exams_appointment_idx").on(t.appointmentId),
-    check("exams_signed_consistent", sql`(${t.status} = 'signed') = (${t.signedAt} is not null and ${t.signedById} is not null)`),
+    check(
+      "exams_signed_consistent",
+      sql`(${t.status} = 'signed') = (${t.signedAt} is not null and ${t.signedById} is not null)`,
+    ),
   ],
 );
 
@@ -58,7 +79,15 @@ export const examHistory = pgTable("exam_history", {
 export const acuityDistanceEnum = pgEnum("acuity_distance", ["distance", "near"]);
 export const acuityCorrectionEnum = pgEnum("acuity_correction", ["unaided", "habitual", "best", "pinhole"]);
 /** The scale an acuity was typed in: the distance notations of practice settings, near in N-point or M units, or a low-vision category. */
-export const acuityScaleEnum = pgEnum("acuity_scale", ["metric", "feet", "decimal", "logmar", "n_point", "m_units", "low_vision"]);
+export const acuityScaleEnum = pgEnum("acuity_scale", [
+  "metric",
+  "feet",
+  "decimal",
+  "logmar",
+  "n_point",
+  "m_units",
+  "low_vision",
+]);
 
 /** Visual acuity: one row per eye (or both) × distance × correction, as typed and as logMAR. */
 export const examAcuity = pgTable(
@@ -75,10 +104,20 @@ export const examAcuity = pgTable(
     /** logMAR equivalent (counting fingers, hand movements, light perception and none carry conventional stand-in values). */
     logMar: doublePrecision().notNull(),
   },
-  (t) => [uniqueIndex("exam_acuity_uq").on(t.examId, t.eye, t.distance, t.correction), check("exam_acuity_range", sql`${t.logMar} between -0.5 and 3`)],
+  (t) => [
+    uniqueIndex("exam_acuity_uq").on(t.examId, t.eye, t.distance, t.correction),
+    check("exam_acuity_range", sql`${t.logMar} between -0.5 and 3`),
+  ],
 );
 
-export const refractionKindEnum = pgEnum("refraction_kind", ["habitual", "autorefraction", "retinoscopy", "subjective", "cycloplegic", "final"]);
+export const refractionKindEnum = pgEnum("refraction_kind", [
+  "habitual",
+  "autorefraction",
+  "retinoscopy",
+  "subjective",
+  "cycloplegic",
+  "final",
+]);
 export const prismBaseEnum = pgEnum("prism_base", ["up", "down", "in", "out"]);
 
 /**
@@ -108,7 +147,10 @@ export const examRefractions = pgTable(
     check("exam_refractions_axis", sql`${t.axis} between 1 and 180`),
     check("exam_refractions_powers", sql`abs(${t.sphere}) <= 30 and abs(${t.cylinder}) <= 30`),
     check("exam_refractions_add", sql`${t.addPower} is null or ${t.addPower} between 0.25 and 4`),
-    check("exam_refractions_prism", sql`(${t.prismDioptres} is null) = (${t.prismBase} is null) and (${t.prismDioptres} is null or ${t.prismDioptres} between 0.25 and 20)`),
+    check(
+      "exam_refractions_prism",
+      sql`(${t.prismDioptres} is null) = (${t.prismBase} is null) and (${t.prismDioptres} is null or ${t.prismDioptres} between 0.25 and 20)`,
+    ),
     check("exam_refractions_vertex", sql`${t.vertexMm} is null or ${t.vertexMm} between 0 and 25`),
   ],
 );
@@ -125,7 +167,13 @@ export const examBinocular = pgTable("exam_binocular", {
   updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
 });
 
-export const iopMethodEnum = pgEnum("iop_method", ["goldmann", "non_contact", "rebound", "handheld_applanation", "other"]);
+export const iopMethodEnum = pgEnum("iop_method", [
+  "goldmann",
+  "non_contact",
+  "rebound",
+  "handheld_applanation",
+  "other",
+]);
 
 /** Intraocular pressure: each reading of each eye with its method and time of day (the mean is used). */
 export const examIop = pgTable(
@@ -155,7 +203,10 @@ export const examCornealThickness = pgTable(
     eye: eyeEnum().notNull(),
     micrometres: integer().notNull(),
   },
-  (t) => [primaryKey({ columns: [t.examId, t.eye] }), check("exam_corneal_thickness_range", sql`${t.micrometres} between 300 and 800`)],
+  (t) => [
+    primaryKey({ columns: [t.examId, t.eye] }),
+    check("exam_corneal_thickness_range", sql`${t.micrometres} between 300 and 800`),
+  ],
 );
 
 export const colourTestEnum = pgEnum("colour_test", ["plates_38", "plates_24", "plates_other", "arrangement", "other"]);
@@ -176,7 +227,10 @@ export const examColourVision = pgTable(
   },
   (t) => [
     uniqueIndex("exam_colour_vision_uq").on(t.examId, t.eye),
-    check("exam_colour_plates", sql`${t.platesCorrect} is null or (${t.platesShown} is not null and ${t.platesCorrect} between 0 and ${t.platesShown})`),
+    check(
+      "exam_colour_plates",
+      sql`${t.platesCorrect} is null or (${t.platesShown} is not null and ${t.platesCorrect} between 0 and ${t.platesShown})`,
+    ),
   ],
 );
 
@@ -263,7 +317,10 @@ export const examPupils = pgTable(
     sizeMm: doublePrecision(),
     notes: text().notNull().default(""),
   },
-  (t) => [primaryKey({ columns: [t.examId, t.eye] }), check("exam_pupils_size", sql`${t.sizeMm} is null or ${t.sizeMm} between 1 and 10`)],
+  (t) => [
+    primaryKey({ columns: [t.examId, t.eye] }),
+    check("exam_pupils_size", sql`${t.sizeMm} is null or ${t.sizeMm} between 1 and 10`),
+  ],
 );
 
 export const acCellsEnum = pgEnum("ac_cells", ["none", "trace", "1+", "2+", "3+", "4+"]);
@@ -281,7 +338,10 @@ export const examAnteriorChamber = pgTable(
     hypopyon: boolean().notNull().default(false),
     notes: text().notNull().default(""),
   },
-  (t) => [primaryKey({ columns: [t.examId, t.eye] }), check("exam_anterior_chamber_van_herick", sql`${t.vanHerick} is null or ${t.vanHerick} between 0 and 4`)],
+  (t) => [
+    primaryKey({ columns: [t.examId, t.eye] }),
+    check("exam_anterior_chamber_van_herick", sql`${t.vanHerick} is null or ${t.vanHerick} between 0 and 4`),
+  ],
 );
 
 export const discMarginsEnum = pgEnum("disc_margins", ["distinct", "blurred"]);
@@ -299,7 +359,10 @@ export const examDiscs = pgTable(
     pallor: boolean().notNull().default(false),
     notes: text().notNull().default(""),
   },
-  (t) => [primaryKey({ columns: [t.examId, t.eye] }), check("exam_discs_cd", sql`${t.verticalCd} is null or ${t.verticalCd} between 0 and 1`)],
+  (t) => [
+    primaryKey({ columns: [t.examId, t.eye] }),
+    check("exam_discs_cd", sql`${t.verticalCd} is null or ${t.verticalCd} between 0 and 1`),
+  ],
 );
 
 /** Macula, vitreous and periphery findings per eye. */
@@ -335,7 +398,10 @@ export const examDilations = pgTable(
     instilledAt: timestamp({ withTimezone: true }).notNull(),
     batch: text().notNull().default(""),
   },
-  (t) => [index("exam_dilations_exam_idx").on(t.examId, t.instilledAt), check("exam_dilations_strength", sql`${t.strengthPercent} > 0 and ${t.strengthPercent} <= 10`)],
+  (t) => [
+    index("exam_dilations_exam_idx").on(t.examId, t.instilledAt),
+    check("exam_dilations_strength", sql`${t.strengthPercent} > 0 and ${t.strengthPercent} <= 10`),
+  ],
 );
 
 /** A second clinician's countersignature of a signed exam. */
@@ -370,7 +436,10 @@ export const examDiagnoses = pgTable(
     label: text().notNull(),
     eye: eyeOrBothEnum().notNull().default("both"),
   },
-  (t) => [primaryKey({ columns: [t.examId, t.code, t.eye] }), check("exam_diagnoses_code", sql`${t.code} ~ '^[A-Z][0-9]{2}(\\.[0-9A-Z]{1,4})?$'`)],
+  (t) => [
+    primaryKey({ columns: [t.examId, t.code, t.eye] }),
+    check("exam_diagnoses_code", sql`${t.code} ~ '^[A-Z][0-9]{2}(\\.[0-9A-Z]{1,4})?$'`),
+  ],
 );
 
 /** Corrections to a signed exam: never edited, each with its author and time. */
@@ -386,5 +455,8 @@ export const examAddenda = pgTable(
     body: text().notNull(),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
-  (t) => [index("exam_addenda_exam_idx").on(t.examId, t.createdAt), check("exam_addenda_body", sql`length(${t.body}) > 0`)],
+  (t) => [
+    index("exam_addenda_exam_idx").on(t.examId, t.createdAt),
+    check("exam_addenda_body", sql`length(${t.body}) > 0`),
+  ],
 );

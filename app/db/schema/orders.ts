@@ -1,5 +1,19 @@
 import { sql } from "drizzle-orm";
-import { boolean, check, doublePrecision, foreignKey, index, integer, jsonb, pgEnum, pgTable, primaryKey, text, timestamp, uuid } from "drizzle-orm/pg-core";
+import {
+  boolean,
+  check,
+  doublePrecision,
+  foreignKey,
+  index,
+  integer,
+  jsonb,
+  pgEnum,
+  pgTable,
+  primaryKey,
+  text,
+  timestamp,
+  uuid,
+} from "drizzle-orm/pg-core";
 import { users } from "./auth";
 import { feeItems, invoices } from "./billing";
 import { patients } from "./patients";
@@ -32,13 +46,30 @@ export const frames = pgTable(
     active: boolean().notNull().default(true),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
-  (t) => [check("frames_quantity_nonneg", sql`${t.quantity} >= 0`), check("frames_price_nonneg", sql`${t.priceMinor} >= 0`)],
+  (t) => [
+    check("frames_quantity_nonneg", sql`${t.quantity} >= 0`),
+    check("frames_price_nonneg", sql`${t.priceMinor} >= 0`),
+  ],
 );
 
 export const orderKindEnum = pgEnum("order_kind", ["spectacles", "contact_lenses"]);
-export const orderStateEnum = pgEnum("order_state", ["draft", "sent_to_lab", "received", "checked", "ready_to_collect", "collected", "remake", "cancelled"]);
+export const orderStateEnum = pgEnum("order_state", [
+  "draft",
+  "sent_to_lab",
+  "received",
+  "checked",
+  "ready_to_collect",
+  "collected",
+  "remake",
+  "cancelled",
+]);
 export type OrderState = (typeof orderStateEnum.enumValues)[number];
-export const spectacleLensTypeEnum = pgEnum("spectacle_lens_type", ["single_vision", "bifocal", "varifocal", "occupational"]);
+export const spectacleLensTypeEnum = pgEnum("spectacle_lens_type", [
+  "single_vision",
+  "bifocal",
+  "varifocal",
+  "occupational",
+]);
 
 /**
  * The moves an order may make, per kind. A trigger on optical_orders refuses any change of state
@@ -77,7 +108,10 @@ export const opticalOrders = pgTable(
     framePriceMinor: integer(),
     lensType: spectacleLensTypeEnum(),
     lensMaterial: text(),
-    coatings: text().array().notNull().default(sql`'{}'::text[]`),
+    coatings: text()
+      .array()
+      .notNull()
+      .default(sql`'{}'::text[]`),
     tint: text().notNull().default(""),
     pdRightMm: doublePrecision(),
     pdLeftMm: doublePrecision(),
@@ -103,8 +137,14 @@ export const opticalOrders = pgTable(
       "optical_orders_spectacles_complete",
       sql`${t.kind} <> 'spectacles' or (${t.frameId} is not null and ${t.lensType} is not null and ${t.lensMaterial} is not null and ${t.pdRightMm} between 20 and 45 and ${t.pdLeftMm} between 20 and 45)`,
     ),
-    check("optical_orders_cl_complete", sql`${t.kind} <> 'contact_lenses' or (${t.boxesRight} between 0 and 24 and ${t.boxesLeft} between 0 and 24 and ${t.boxesRight} + ${t.boxesLeft} > 0)`),
-    check("optical_orders_heights", sql`(${t.heightRightMm} is null or ${t.heightRightMm} between 5 and 45) and (${t.heightLeftMm} is null or ${t.heightLeftMm} between 5 and 45)`),
+    check(
+      "optical_orders_cl_complete",
+      sql`${t.kind} <> 'contact_lenses' or (${t.boxesRight} between 0 and 24 and ${t.boxesLeft} between 0 and 24 and ${t.boxesRight} + ${t.boxesLeft} > 0)`,
+    ),
+    check(
+      "optical_orders_heights",
+      sql`(${t.heightRightMm} is null or ${t.heightRightMm} between 5 and 45) and (${t.heightLeftMm} is null or ${t.heightLeftMm} between 5 and 45)`,
+    ),
   ],
 );
 
@@ -126,7 +166,10 @@ export const orderEvents = pgTable(
   (t) => [
     index("order_events_order_idx").on(t.orderId, t.at),
     index("order_events_to_idx").on(t.toState, t.at),
-    foreignKey({ columns: [t.kind, t.fromState, t.toState], foreignColumns: [orderTransitions.kind, orderTransitions.fromState, orderTransitions.toState] }).onDelete("restrict"),
+    foreignKey({
+      columns: [t.kind, t.fromState, t.toState],
+      foreignColumns: [orderTransitions.kind, orderTransitions.fromState, orderTransitions.toState],
+    }).onDelete("restrict"),
   ],
 );
 

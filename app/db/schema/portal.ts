@@ -23,5 +23,8 @@ export const appointmentChangeRequests = pgTable(
     handledById: uuid().references(() => users.id, { onDelete: "set null" }),
     handledAt: timestamp({ withTimezone: true }),
   },
-  (t) => [index("appointment_change_requests_open_idx").on(t.status, t.createdAt), index("appointment_change_requests_appointment_idx").on(t.appointmentId)],
+  (t) => [
+    index("appointment_change_requests_open_idx").on(t.status, t.createdAt),
+    index("appointment_change_requests_appointment_idx").on(t.appointmentId),
+  ],
 );

@@ -59,7 +59,13 @@ export const practiceSettings = pgTable(
   (t) => [
     check("practice_settings_single_row", sql`${t.id} = 1`),
     check("practice_settings_tax_rate", sql`${t.taxRateBp} between 0 and 10000`),
-    check("practice_settings_rx_validity", sql`${t.spectacleRxValidityMonths} between 1 and 120 and ${t.contactLensRxValidityMonths} between 1 and 120`),
-    check("practice_settings_booking_days", sql`${t.portalBookingDays} between 1 and 3660 and ${t.staffBookingDays} between 1 and 3660`),
+    check(
+      "practice_settings_rx_validity",
+      sql`${t.spectacleRxValidityMonths} between 1 and 120 and ${t.contactLensRxValidityMonths} between 1 and 120`,
+    ),
+    check(
+      "practice_settings_booking_days",
+      sql`${t.portalBookingDays} between 1 and 3660 and ${t.staffBookingDays} between 1 and 3660`,
+    ),
   ],
 );

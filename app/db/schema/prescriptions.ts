@@ -1,5 +1,17 @@
 import { sql } from "drizzle-orm";
-import { check, date, doublePrecision, index, integer, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import {
+  check,
+  date,
+  doublePrecision,
+  index,
+  integer,
+  pgEnum,
+  pgTable,
+  text,
+  timestamp,
+  uniqueIndex,
+  uuid,
+} from "drizzle-orm/pg-core";
 import { users } from "./auth";
 import { eyeEnum, exams, prismBaseEnum } from "./exams";
 import { patients } from "./patients";

@@ -1,5 +1,19 @@
 import { sql } from "drizzle-orm";
-import { bigint, boolean, check, date, index, integer, jsonb, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import {
+  bigint,
+  boolean,
+  check,
+  date,
+  index,
+  integer,
+  jsonb,
+  pgEnum,
+  pgTable,
+  text,
+  timestamp,
+  uniqueIndex,
+  uuid,
+} from "drizzle-orm/pg-core";
 import { users } from "./auth";
 import { documents } from "./documents";
 import { exams } from "./exams";
@@ -41,7 +55,14 @@ export type ReferralUrgency = (typeof referralUrgencyEnum.enumValues)[number];
  * Stored state of a referral. "Seen" and "overdue" are derived (app/lib/referrals) from the
  * appointment date, the send time and the practice's time frame for the urgency.
  */
-export const referralStatusEnum = pgEnum("referral_status", ["draft", "queued", "sent", "acknowledged", "replied", "withdrawn"]);
+export const referralStatusEnum = pgEnum("referral_status", [
+  "draft",
+  "queued",
+  "sent",
+  "acknowledged",
+  "replied",
+  "withdrawn",
+]);
 export type ReferralStatus = (typeof referralStatusEnum.enumValues)[number];
 
 /** What the letter was built from: the signed exam's measured values, copied when the draft was made. */
@@ -49,20 +70,95 @@ export type ReferralSnapshot = {
   examinedAt: string;
   signedAt: string | null;
   examiner: string;
-  history: { reason: string; symptoms: string; ocularHistory: string; generalHistory: string; medications: string; familyHistory: string } | null;
-  acuity: { eye: "right" | "left" | "both"; distance: "distance" | "near"; correction: "unaided" | "habitual" | "best" | "pinhole"; notation: string; logMar: number; scale?: string | null }[];
-  refraction: { kind: string; eye: "right" | "left"; text: string; add: number | null; prism: string | null; va: string | null }[];
+  history: {
+    reason: string;
+    symptoms: string;
+    ocularHistory: string;
+    generalHistory: string;
+    medications: string;
+    familyHistory: string;
+  } | null;
+  acuity: {
+    eye: "right" | "left" | "both";
+    distance: "distance" | "near";
+    correction: "unaided" | "habitual" | "best" | "pinhole";
+    notation: string;
+    logMar: number;
+    scale?: string | null;
+  }[];
+  refraction: {
+    kind: string;
+    eye: "right" | "left";
+    text: string;
+    add: number | null;
+    prism: string | null;
+    va: string | null;
+  }[];
   iop: { eye: "right" | "left"; mmHg: number; method: string; time: string; reading?: number }[];
   /** Added with the structured findings; absent on letters drafted before them. */
   cornealThickness?: { eye: "right" | "left"; micrometres: number }[];
-  redFlags?: { flashes: string | null; newFloaters: string | null; curtain: string | null; suddenLoss: string | null; severePain: string | null; redEye: string | null; distortion: string | null; newDiplopia: boolean; gcaSymptoms: boolean; headache?: boolean; notes: string } | null;
-  pupils?: { eye: "right" | "left"; equalReactive: boolean; rapd: boolean; larger: boolean; sizeMm: number | null; notes: string }[];
-  anteriorChamber?: { eye: "right" | "left"; vanHerick: number | null; cells: string | null; hyphaema: boolean; hypopyon: boolean; notes: string }[];
-  discs?: { eye: "right" | "left"; verticalCd: number | null; margins: string | null; swelling: boolean; haemorrhage: boolean; pallor: boolean; notes: string }[];
-  fundus?: { eye: "right" | "left"; vitreousDetachment: boolean; vitreousPigment: boolean; retinalBreak: boolean; retinalDetachment: boolean; drusen: boolean; suspectedWetAmd: boolean; maculaNotes: string; peripheryNotes: string }[];
+  redFlags?: {
+    flashes: string | null;
+    newFloaters: string | null;
+    curtain: string | null;
+    suddenLoss: string | null;
+    severePain: string | null;
+    redEye: string | null;
+    distortion: string | null;
+    newDiplopia: boolean;
+    gcaSymptoms: boolean;
+    headache?: boolean;
+    notes: string;
+  } | null;
+  pupils?: {
+    eye: "right" | "left";
+    equalReactive: boolean;
+    rapd: boolean;
+    larger: boolean;
+    sizeMm: number | null;
+    notes: string;
+  }[];
+  anteriorChamber?: {
+    eye: "right" | "left";
+    vanHerick: number | null;
+    cells: string | null;
+    hyphaema: boolean;
+    hypopyon: boolean;
+    notes: string;
+  }[];
+  discs?: {
+    eye: "right" | "left";
+    verticalCd: number | null;
+    margins: string | null;
+    swelling: boolean;
+    haemorrhage: boolean;
+    pallor: boolean;
+    notes: string;
+  }[];
+  fundus?: {
+    eye: "right" | "left";
+    vitreousDetachment: boolean;
+    vitreousPigment: boolean;
+    retinalBreak: boolean;
+    retinalDetachment: boolean;
+    drusen: boolean;
+    suspectedWetAmd: boolean;
+    maculaNotes: string;
+    peripheryNotes: string;
+  }[];
   dilations?: { drug: string; strengthPercent: number; eye: string; instilledAt: string }[];
-  triage?: { urgency: string | null; reasons: { urgency: string; eye?: string; rule: string; source: string }[] } | null;
-  colour: { eye: "right" | "left"; test: string; platesCorrect: number | null; platesShown: number | null; result: string; notes: string }[];
+  triage?: {
+    urgency: string | null;
+    reasons: { urgency: string; eye?: string; rule: string; source: string }[];
+  } | null;
+  colour: {
+    eye: "right" | "left";
+    test: string;
+    platesCorrect: number | null;
+    platesShown: number | null;
+    result: string;
+    notes: string;
+  }[];
   fields: {
     eye: "right" | "left";
     method: string;
@@ -160,7 +256,9 @@ export const referralLinks = pgTable(
   (t) => [
     index("referral_links_referral_idx").on(t.referralId),
     // At most one live link per referral: issuing a new one revokes the old in the same transaction.
-    uniqueIndex("referral_links_one_live_uq").on(t.referralId).where(sql`${t.revokedAt} is null`),
+    uniqueIndex("referral_links_one_live_uq")
+      .on(t.referralId)
+      .where(sql`${t.revokedAt} is null`),
   ],
 );
 
@@ -187,7 +285,9 @@ export const referralMessages = pgTable(
   (t) => [
     index("referral_messages_referral_idx").on(t.referralId, t.createdAt),
     // The letter itself is queued once per referral (a retry reuses its row).
-    uniqueIndex("referral_messages_one_letter_uq").on(t.referralId).where(sql`${t.kind} = 'letter'`),
+    uniqueIndex("referral_messages_one_letter_uq")
+      .on(t.referralId)
+      .where(sql`${t.kind} = 'letter'`),
   ],
 );
 
@@ -238,6 +338,9 @@ export const referralReplies = pgTable(
     index("referral_replies_patient_idx").on(t.patientId, t.createdAt),
     index("referral_replies_referral_idx").on(t.referralId),
     check("referral_replies_content", sql`length(${t.body}) > 0 or ${t.fileKey} is not null`),
-    check("referral_replies_file_type", sql`${t.fileType} is null or ${t.fileType} in ('application/pdf', 'image/jpeg', 'image/png')`),
+    check(
+      "referral_replies_file_type",
+      sql`${t.fileType} is null or ${t.fileType} in ('application/pdf', 'image/jpeg', 'image/png')`,
+    ),
   ],
 );

@@ -1,5 +1,19 @@
 import { sql } from "drizzle-orm";
-import { bigint, boolean, check, date, foreignKey, index, integer, pgEnum, pgTable, text, timestamp, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import {
+  bigint,
+  boolean,
+  check,
+  date,
+  foreignKey,
+  index,
+  integer,
+  pgEnum,
+  pgTable,
+  text,
+  timestamp,
+  uniqueIndex,
+  uuid,
+} from "drizzle-orm/pg-core";
 import { roleEnum, users } from "./auth";
 import { feeItems } from "./billing";
 import { patients } from "./patients";
@@ -33,7 +47,15 @@ export const appointmentTypes = pgTable(
   ],
 );
 
-export const appointmentStatusEnum = pgEnum("appointment_status", ["booked", "confirmed", "arrived", "in_exam", "completed", "cancelled", "no_show"]);
+export const appointmentStatusEnum = pgEnum("appointment_status", [
+  "booked",
+  "confirmed",
+  "arrived",
+  "in_exam",
+  "completed",
+  "cancelled",
+  "no_show",
+]);
 export type AppointmentStatus = (typeof appointmentStatusEnum.enumValues)[number];
 
 /**
@@ -81,7 +103,11 @@ export const appointments = pgTable(
     index("appointments_start_idx").on(t.startsAt),
     index("appointments_patient_idx").on(t.patientId, t.startsAt),
     index("appointments_site_start_idx").on(t.siteId, t.startsAt),
-    foreignKey({ name: "appointments_room_at_site_fk", columns: [t.roomId, t.siteId], foreignColumns: [rooms.id, rooms.siteId] }).onDelete("restrict"),
+    foreignKey({
+      name: "appointments_room_at_site_fk",
+      columns: [t.roomId, t.siteId],
+      foreignColumns: [rooms.id, rooms.siteId],
+    }).onDelete("restrict"),
   ],
 );
 
@@ -125,9 +151,16 @@ export const workingHours = pgTable(
   },
   (t) => [
     uniqueIndex("working_hours_provider_day_uq").on(t.providerId, t.weekday),
-    foreignKey({ name: "working_hours_room_at_site_fk", columns: [t.roomId, t.siteId], foreignColumns: [rooms.id, rooms.siteId] }).onDelete("restrict"),
+    foreignKey({
+      name: "working_hours_room_at_site_fk",
+      columns: [t.roomId, t.siteId],
+      foreignColumns: [rooms.id, rooms.siteId],
+    }).onDelete("restrict"),
     check("working_hours_weekday", sql`${t.weekday} between 1 and 7`),
-    check("working_hours_span", sql`${t.startMinute} >= 0 and ${t.endMinute} <= 1440 and ${t.endMinute} > ${t.startMinute}`),
+    check(
+      "working_hours_span",
+      sql`${t.startMinute} >= 0 and ${t.endMinute} <= 1440 and ${t.endMinute} > ${t.startMinute}`,
+    ),
   ],
 );
 
@@ -151,12 +184,20 @@ export const providerBreaks = pgTable(
   (t) => [
     index("provider_breaks_provider_idx").on(t.providerId, t.weekday),
     check("provider_breaks_weekday", sql`${t.weekday} between 1 and 7`),
-    check("provider_breaks_span", sql`${t.startMinute} >= 0 and ${t.endMinute} <= 1440 and ${t.endMinute} > ${t.startMinute}`),
+    check(
+      "provider_breaks_span",
+      sql`${t.startMinute} >= 0 and ${t.endMinute} <= 1440 and ${t.endMinute} > ${t.startMinute}`,
+    ),
   ],
 );
 
 export const messageStatusEnum = pgEnum("message_status", ["queued", "sent", "skipped", "failed"]);
-export const appointmentMessageKindEnum = pgEnum("appointment_message_kind", ["confirmation", "reminder", "cancellation", "update"]);
+export const appointmentMessageKindEnum = pgEnum("appointment_message_kind", [
+  "confirmation",
+  "reminder",
+  "cancellation",
+  "update",
+]);
 
 /**
  * The e-mails about an appointment: one row per (appointment, kind, sequence), so a message is
@@ -185,7 +226,10 @@ export const appointmentMessages = pgTable(
     sentAt: timestamp({ withTimezone: true }),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
-  (t) => [uniqueIndex("appointment_messages_appt_kind_seq_uq").on(t.appointmentId, t.kind, t.sequence), index("appointment_messages_created_idx").on(t.createdAt)],
+  (t) => [
+    uniqueIndex("appointment_messages_appt_kind_seq_uq").on(t.appointmentId, t.kind, t.sequence),
+    index("appointment_messages_created_idx").on(t.createdAt),
+  ],
 );
 
 /** One bulk send of recall e-mails started by the front desk; progress is counted from its messages. */
@@ -221,5 +265,8 @@ export const recallMessages = pgTable(
     sentAt: timestamp({ withTimezone: true }),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
-  (t) => [uniqueIndex("recall_messages_patient_due_uq").on(t.patientId, t.dueDate), index("recall_messages_batch_idx").on(t.batchId)],
+  (t) => [
+    uniqueIndex("recall_messages_patient_due_uq").on(t.patientId, t.dueDate),
+    index("recall_messages_batch_idx").on(t.batchId),
+  ],
 );

@@ -1,5 +1,16 @@
 import { sql } from "drizzle-orm";
-import { boolean, check, index, integer, pgTable, text, timestamp, unique, uniqueIndex, uuid } from "drizzle-orm/pg-core";
+import {
+  boolean,
+  check,
+  index,
+  integer,
+  pgTable,
+  text,
+  timestamp,
+  unique,
+  uniqueIndex,
+  uuid,
+} from "drizzle-orm/pg-core";
 
 /**
  * The practice's sites (locations). Exactly one is the default: rows written without a site
@@ -24,7 +35,9 @@ export const sites = pgTable(
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [
-    uniqueIndex("sites_one_default_uq").on(t.isDefault).where(sql`${t.isDefault}`),
+    uniqueIndex("sites_one_default_uq")
+      .on(t.isDefault)
+      .where(sql`${t.isDefault}`),
     uniqueIndex("sites_name_uq").on(sql`lower(${t.name})`),
     check("sites_default_is_active", sql`not ${t.isDefault} or ${t.active}`),
   ],
@@ -45,7 +58,10 @@ export const siteOpeningHours = pgTable(
   (t) => [
     uniqueIndex("site_opening_hours_site_day_uq").on(t.siteId, t.weekday),
     check("site_opening_hours_weekday", sql`${t.weekday} between 1 and 7`),
-    check("site_opening_hours_span", sql`${t.startMinute} >= 0 and ${t.endMinute} <= 1440 and ${t.endMinute} > ${t.startMinute}`),
+    check(
+      "site_opening_hours_span",
+      sql`${t.startMinute} >= 0 and ${t.endMinute} <= 1440 and ${t.endMinute} > ${t.startMinute}`,
+    ),
   ],
 );
 
@@ -61,7 +77,11 @@ export const rooms = pgTable(
     active: boolean().notNull().default(true),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
-  (t) => [unique("rooms_id_site_uq").on(t.id, t.siteId), uniqueIndex("rooms_site_name_uq").on(t.siteId, sql`lower(${t.name})`), index("rooms_site_idx").on(t.siteId)],
+  (t) => [
+    unique("rooms_id_site_uq").on(t.id, t.siteId),
+    uniqueIndex("rooms_site_name_uq").on(t.siteId, sql`lower(${t.name})`),
+    index("rooms_site_idx").on(t.siteId),
+  ],
 );
 
 /** Column default of every `site_id`: the practice's default site (see the migration that creates the function). */

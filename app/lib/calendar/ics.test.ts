@@ -46,7 +46,9 @@ describe("iCalendar files", () => {
     expect(lines).toContain("SEQUENCE:2");
     expect(lines).toContain("DTSTART:20270105T093000Z");
     expect(lines).toContain('ORGANIZER;CN="Larkspur Lane Eye Care":mailto:desk@larkspur.test');
-    expect(lines).toContain('ATTENDEE;CN="Zofia Wróblewska-Łukasiewicz";ROLE=REQ-PARTICIPANT;PARTSTAT=ACCEPTED;RSVP=FALSE:mailto:zofia@example.test');
+    expect(lines).toContain(
+      'ATTENDEE;CN="Zofia Wróblewska-Łukasiewicz";ROLE=REQ-PARTICIPANT;PARTSTAT=ACCEPTED;RSVP=FALSE:mailto:zofia@example.test',
+    );
     const cancel = unfold(buildIcs({ ...event, method: "CANCEL", sequence: 3 }));
     expect(cancel).toContain("METHOD:CANCEL");
     expect(cancel).toContain("STATUS:CANCELLED");

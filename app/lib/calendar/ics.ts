@@ -39,7 +39,10 @@ function paramValue(value: string) {
 
 /** UTC DATE-TIME form 19970714T173000Z (RFC 5545 §3.3.5, form #2). */
 export function utcStamp(d: Date) {
-  return d.toISOString().replace(/[-:]/g, "").replace(/\.\d{3}/, "");
+  return d
+    .toISOString()
+    .replace(/[-:]/g, "")
+    .replace(/\.\d{3}/, "");
 }
 
 const utf8 = new TextEncoder();
@@ -97,5 +100,8 @@ export function buildIcs(e: IcsEvent) {
 
 /** Reads a calendar file back into its unfolded lines (for tests and checks). */
 export function unfold(ics: string) {
-  return ics.replace(/\r\n[ \t]/g, "").split("\r\n").filter(Boolean);
+  return ics
+    .replace(/\r\n[ \t]/g, "")
+    .split("\r\n")
+    .filter(Boolean);
 }

@@ -77,8 +77,23 @@ describe("parseRefractionEye", () => {
 
 describe("parseRedFlags", () => {
   it("keeps the eye of each symptom and the general ones", () => {
-    const r = parseRedFlags({ rf_flashes: "right", rf_newFloaters: "both", rf_newDiplopia: "on", rf_notes: " since Tuesday " });
-    expect(r).toEqual({ ok: true, value: expect.objectContaining({ flashes: "right", newFloaters: "both", curtain: null, newDiplopia: true, gcaSymptoms: false, notes: "since Tuesday" }) });
+    const r = parseRedFlags({
+      rf_flashes: "right",
+      rf_newFloaters: "both",
+      rf_newDiplopia: "on",
+      rf_notes: " since Tuesday ",
+    });
+    expect(r).toEqual({
+      ok: true,
+      value: expect.objectContaining({
+        flashes: "right",
+        newFloaters: "both",
+        curtain: null,
+        newDiplopia: true,
+        gcaSymptoms: false,
+        notes: "since Tuesday",
+      }),
+    });
   });
   it("refuses an eye that is not on the list", () => {
     const r = parseRedFlags({ rf_flashes: "middle" });
@@ -91,7 +106,10 @@ describe("parsePupils", () => {
   it("records per eye and refuses a defect in both eyes or contradictions", () => {
     expect(parsePupils({ right_pup_equal: "on", left_pup_rapd: "on", left_pup_size: "4.5" })).toEqual({
       ok: true,
-      value: { right: { equalReactive: true, rapd: false, larger: false, sizeMm: null, notes: "" }, left: { equalReactive: false, rapd: true, larger: false, sizeMm: 4.5, notes: "" } },
+      value: {
+        right: { equalReactive: true, rapd: false, larger: false, sizeMm: null, notes: "" },
+        left: { equalReactive: false, rapd: true, larger: false, sizeMm: 4.5, notes: "" },
+      },
     });
     const both = parsePupils({ right_pup_rapd: "on", left_pup_rapd: "on" });
     expect(both.ok).toBe(false);
@@ -107,7 +125,10 @@ describe("parseAnteriorChamber", () => {
   it("takes van Herick 0–4 as a whole number and cells from the list", () => {
     expect(parseAnteriorChamber({ right_ac_vh: "2", right_ac_cells: "1+", left_ac_hypopyon: "on" })).toEqual({
       ok: true,
-      value: { right: { vanHerick: 2, cells: "1+", hyphaema: false, hypopyon: false, notes: "" }, left: { vanHerick: null, cells: null, hyphaema: false, hypopyon: true, notes: "" } },
+      value: {
+        right: { vanHerick: 2, cells: "1+", hyphaema: false, hypopyon: false, notes: "" },
+        left: { vanHerick: null, cells: null, hyphaema: false, hypopyon: true, notes: "" },
+      },
     });
     for (const vh of ["5", "2.5", "0x2"]) expect(parseAnteriorChamber({ right_ac_vh: vh }).ok, vh).toBe(false);
     expect(parseAnteriorChamber({ right_ac_cells: "lots" }).ok).toBe(false);
@@ -116,7 +137,19 @@ describe("parseAnteriorChamber", () => {
 
 describe("parseIop", () => {
   it("takes several readings per eye, later ones inheriting method and time", () => {
-    const r = parseIop({ right_mmHg: "25", right_method: "goldmann", right_time: "10:05", right_mmHg_2: "26", left_mmHg: "17", left_method: "non_contact", left_time: "10:00", left_mmHg_2: "18", left_method_2: "goldmann", left_time_2: "10:10", right_cct: "540" });
+    const r = parseIop({
+      right_mmHg: "25",
+      right_method: "goldmann",
+      right_time: "10:05",
+      right_mmHg_2: "26",
+      left_mmHg: "17",
+      left_method: "non_contact",
+      left_time: "10:00",
+      left_mmHg_2: "18",
+      left_method_2: "goldmann",
+      left_time_2: "10:10",
+      right_cct: "540",
+    });
     expect(r).toEqual({
       ok: true,
       value: {
@@ -173,19 +206,55 @@ describe("parseDiscs", () => {
 describe("parseFundus", () => {
   it("keeps ticked findings per eye and leaves out an eye with nothing", () => {
     const r = parseFundus({ left_fu_retinalBreak: "on", left_fu_periphery: "horseshoe tear at 2 o'clock" });
-    expect(r.ok && r.value).toEqual({ left: expect.objectContaining({ retinalBreak: true, retinalDetachment: false, peripheryNotes: "horseshoe tear at 2 o'clock" }) });
+    expect(r.ok && r.value).toEqual({
+      left: expect.objectContaining({
+        retinalBreak: true,
+        retinalDetachment: false,
+        peripheryNotes: "horseshoe tear at 2 o'clock",
+      }),
+    });
   });
 });
 
 describe("parseDilations", () => {
-  const ctx = { now: new Date("2026-06-10T11:00:00Z"), examinedAt: new Date("2026-06-10T09:30:00Z"), timeZone: "Europe/London" };
+  const ctx = {
+    now: new Date("2026-06-10T11:00:00Z"),
+    examinedAt: new Date("2026-06-10T09:30:00Z"),
+    timeZone: "Europe/London",
+  };
   it("reads drug, strength, eye and the practice's wall time", () => {
-    const r = parseDilations({ dil1_drug: "tropicamide", dil1_strength: "1", dil1_eye: "both", dil1_at: "2026-06-10T10:40" }, ctx);
+    const r = parseDilations(
+      { dil1_drug: "tropicamide", dil1_strength: "1", dil1_eye: "both", dil1_at: "2026-06-10T10:40" },
+      ctx,
+    );
     // 10:40 in London in June is 09:40 UTC (British Summer Time, UTC+1)
-    expect(r).toEqual({ ok: true, value: [{ drug: "tropicamide", otherDrug: "", strengthPercent: 1, eye: "both", instilledAt: new Date("2026-06-10T09:40:00Z"), batch: "" }] });
+    expect(r).toEqual({
+      ok: true,
+      value: [
+        {
+          drug: "tropicamide",
+          otherDrug: "",
+          strengthPercent: 1,
+          eye: "both",
+          instilledAt: new Date("2026-06-10T09:40:00Z"),
+          batch: "",
+        },
+      ],
+    });
   });
   it("refuses a time in the future, a missing strength and an unnamed other drug", () => {
-    const r = parseDilations({ dil1_drug: "tropicamide", dil1_strength: "1", dil1_eye: "right", dil1_at: "2026-06-11T10:00", dil2_drug: "other", dil2_eye: "left", dil2_at: "2026-06-10T10:00" }, ctx);
+    const r = parseDilations(
+      {
+        dil1_drug: "tropicamide",
+        dil1_strength: "1",
+        dil1_eye: "right",
+        dil1_at: "2026-06-11T10:00",
+        dil2_drug: "other",
+        dil2_eye: "left",
+        dil2_at: "2026-06-10T10:00",
+      },
+      ctx,
+    );
     expect(r.ok).toBe(false);
     if (!r.ok) {
       expect(r.errors.dil1_at![0]).toMatch(/in the future/);
@@ -206,6 +275,21 @@ describe("parseDiagnoses", () => {
     const codes = DIAGNOSES.map((d) => d.code);
     expect(new Set(codes).size).toBe(codes.length);
     // WHO ICD-10: Z01.0 examination of eyes and vision; H40 glaucoma; H25 senile cataract; H35.3 macular degeneration; H33 retinal detachment (from memory)
-    for (const c of ["Z01.0", "H40.0", "H40.1", "H25.9", "H35.3", "H36.0", "H43.8", "H33.0", "H01.0", "H04.1", "H18.6", "Z96.1", "H53.0"]) expect(codes).toContain(c);
+    for (const c of [
+      "Z01.0",
+      "H40.0",
+      "H40.1",
+      "H25.9",
+      "H35.3",
+      "H36.0",
+      "H43.8",
+      "H33.0",
+      "H01.0",
+      "H04.1",
+      "H18.6",
+      "Z96.1",
+      "H53.0",
+    ])
+      expect(codes).toContain(c);
   });
 });

@@ -8,7 +8,13 @@ export type Discount = { kind: "none" } | { kind: "percent"; basisPoints: number
 
 export type LineInput = { quantity: number; unitPriceMinor: number; taxCategory: TaxCategory };
 export type LineTotals = { grossMinor: number; discountMinor: number; netMinor: number; taxMinor: number };
-export type InvoiceTotals = { lines: LineTotals[]; subtotalMinor: number; discountMinor: number; taxMinor: number; totalMinor: number };
+export type InvoiceTotals = {
+  lines: LineTotals[];
+  subtotalMinor: number;
+  discountMinor: number;
+  taxMinor: number;
+  totalMinor: number;
+};
 
 /** Minor-unit exponent of an ISO 4217 currency (JPY has none, BHD three). // from memory: ISO 4217 list */
 export function minorUnitDigits(currency: string): number {
@@ -68,9 +74,11 @@ export function allocate(total: number, weights: number[]): number[] {
  * tax is then worked out per line at the line's rate and rounded half up per line.
  */
 export function computeTotals(lines: LineInput[], discount: Discount, taxRateBp: number): InvoiceTotals {
-  if (!Number.isInteger(taxRateBp) || taxRateBp < 0 || taxRateBp > 10000) throw new RangeError("tax rate must be 0–10000 basis points");
+  if (!Number.isInteger(taxRateBp) || taxRateBp < 0 || taxRateBp > 10000)
+    throw new RangeError("tax rate must be 0–10000 basis points");
   const gross = lines.map((l) => {
-    if (!Number.isInteger(l.quantity) || l.quantity < 1) throw new RangeError("quantity must be a whole number of at least 1");
+    if (!Number.isInteger(l.quantity) || l.quantity < 1)
+      throw new RangeError("quantity must be a whole number of at least 1");
     assertMinor(l.unitPriceMinor, "unit price");
     if (l.unitPriceMinor < 0) throw new RangeError("unit price must not be negative");
     return l.quantity * l.unitPriceMinor;
@@ -98,14 +106,21 @@ export function computeTotals(lines: LineInput[], discount: Discount, taxRateBp:
 /** "£12.50" in the practice's currency. */
 export function formatMoney(minor: number, currency: string, locale = "en-GB"): string {
   const digits = minorUnitDigits(currency);
-  return new Intl.NumberFormat(locale, { style: "currency", currency, minimumFractionDigits: digits, maximumFractionDigits: digits }).format(minor / 10 ** digits);
+  return new Intl.NumberFormat(locale, {
+    style: "currency",
+    currency,
+    minimumFractionDigits: digits,
+    maximumFractionDigits: digits,
+  }).format(minor / 10 ** digits);
 }
 
 /** Plain decimal for CSV and form fields: 1250 → "12.50". */
 export function minorToDecimal(minor: number, currency: string): string {
   const digits = minorUnitDigits(currency);
   const neg = minor < 0;
-  const abs = Math.abs(minor).toString().padStart(digits + 1, "0");
+  const abs = Math.abs(minor)
+    .toString()
+    .padStart(digits + 1, "0");
   const whole = digits ? abs.slice(0, -digits) : abs;
   const frac = digits ? `.${abs.slice(-digits)}` : "";
   return `${neg ? "-" : ""}${whole}${frac}`;
@@ -117,7 +132,11 @@ export function minorToDecimal(minor: number, currency: string): string {
  */
 export function parseMoney(input: string, currency: string): number | null {
   const digits = minorUnitDigits(currency);
-  const s = input.trim().replace(/^[£$€]/, "").replace(/,/g, "").trim();
+  const s = input
+    .trim()
+    .replace(/^[£$€]/, "")
+    .replace(/,/g, "")
+    .trim();
   const m = /^(\d{1,9})(?:\.(\d*))?$/.exec(s);
   if (!m) return null;
   const frac = m[2] ?? "";

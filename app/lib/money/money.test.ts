@@ -21,11 +21,15 @@ describe("rounding", () => {
     expect(allocate(0, [5, 5])).toEqual([0, 0]);
     expect(allocate(7, [0, 0])).toEqual([7, 0]);
     fc.assert(
-      fc.property(fc.integer({ min: 0, max: 1_000_000 }), fc.array(fc.integer({ min: 0, max: 500_000 }), { minLength: 1, maxLength: 12 }), (total, weights) => {
-        const parts = allocate(total, weights);
-        expect(parts.reduce((a, b) => a + b, 0)).toBe(total);
-        expect(parts.every((p) => Number.isInteger(p) && p >= 0)).toBe(true);
-      }),
+      fc.property(
+        fc.integer({ min: 0, max: 1_000_000 }),
+        fc.array(fc.integer({ min: 0, max: 500_000 }), { minLength: 1, maxLength: 12 }),
+        (total, weights) => {
+          const parts = allocate(total, weights);
+          expect(parts.reduce((a, b) => a + b, 0)).toBe(total);
+          expect(parts.every((p) => Number.isInteger(p) && p >= 0)).toBe(true);
+        },
+      ),
     );
   });
 });
@@ -47,7 +51,11 @@ describe("invoice totals", () => {
     expect(t.lines.map((l) => l.discountMinor).reduce((a, b) => a + b)).toBe(2017);
     // Shares by value: 6500/20166, 12000/20166, 1666/20166 of 2017 → 650.13, 1200.24, 166.63
     expect(t.lines.map((l) => l.discountMinor)).toEqual([650, 1200, 167]);
-    expect(t.lines.map((l) => l.taxMinor)).toEqual([0, mulDivRound(12000 - 1200, 2000, 10000), mulDivRound(1666 - 167, 2000, 10000)]);
+    expect(t.lines.map((l) => l.taxMinor)).toEqual([
+      0,
+      mulDivRound(12000 - 1200, 2000, 10000),
+      mulDivRound(1666 - 167, 2000, 10000),
+    ]);
     expect(t.lines[1]!.taxMinor).toBe(2160);
     expect(t.lines[2]!.taxMinor).toBe(300); // 1499 × 20 % = 299.8 → 300
     expect(t.taxMinor).toBe(2460);
@@ -55,25 +63,42 @@ describe("invoice totals", () => {
   });
 
   it("caps a fixed discount at the subtotal and never goes negative", () => {
-    const t = computeTotals([{ quantity: 1, unitPriceMinor: 500, taxCategory: "standard" }], { kind: "amount", minor: 900 }, 2000);
+    const t = computeTotals(
+      [{ quantity: 1, unitPriceMinor: 500, taxCategory: "standard" }],
+      { kind: "amount", minor: 900 },
+      2000,
+    );
     expect(t).toMatchObject({ subtotalMinor: 500, discountMinor: 500, taxMinor: 0, totalMinor: 0 });
   });
 
   it("has no tax when the rate is 0, and an empty invoice totals 0", () => {
-    expect(computeTotals([{ quantity: 3, unitPriceMinor: 1999, taxCategory: "standard" }], { kind: "none" }, 0).totalMinor).toBe(5997);
+    expect(
+      computeTotals([{ quantity: 3, unitPriceMinor: 1999, taxCategory: "standard" }], { kind: "none" }, 0).totalMinor,
+    ).toBe(5997);
     expect(computeTotals([], { kind: "none" }, 2000).totalMinor).toBe(0);
   });
 
   it("refuses fractional quantities or prices", () => {
-    expect(() => computeTotals([{ quantity: 1.5, unitPriceMinor: 100, taxCategory: "exempt" }], { kind: "none" }, 0)).toThrow(RangeError);
-    expect(() => computeTotals([{ quantity: 1, unitPriceMinor: 10.5, taxCategory: "exempt" }], { kind: "none" }, 0)).toThrow(RangeError);
+    expect(() =>
+      computeTotals([{ quantity: 1.5, unitPriceMinor: 100, taxCategory: "exempt" }], { kind: "none" }, 0),
+    ).toThrow(RangeError);
+    expect(() =>
+      computeTotals([{ quantity: 1, unitPriceMinor: 10.5, taxCategory: "exempt" }], { kind: "none" }, 0),
+    ).toThrow(RangeError);
     expect(() => computeTotals([], { kind: "none" }, 12000)).toThrow(RangeError);
   });
 
   it("always balances: total = subtotal − discount + Σ line tax", () => {
     fc.assert(
       fc.property(
-        fc.array(fc.record({ quantity: fc.integer({ min: 1, max: 20 }), unitPriceMinor: fc.integer({ min: 0, max: 200_000 }), taxCategory: fc.constantFrom("standard" as const, "exempt" as const) }), { maxLength: 10 }),
+        fc.array(
+          fc.record({
+            quantity: fc.integer({ min: 1, max: 20 }),
+            unitPriceMinor: fc.integer({ min: 0, max: 200_000 }),
+            taxCategory: fc.constantFrom("standard" as const, "exempt" as const),
+          }),
+          { maxLength: 10 },
+        ),
         fc.integer({ min: 0, max: 10000 }),
         fc.integer({ min: 0, max: 10000 }),
         (lines, pct, rate) => {

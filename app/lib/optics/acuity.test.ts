@@ -92,8 +92,28 @@ describe("toLogMAR", () => {
   });
 
   it("fuzz: a finite logMAR within range or an AcuityError", () => {
-    const piece = fc.constantFrom("20", "6", "/", "40", "12", "-", "+", "2", "0.5", ".", " ", "logMAR", "CF", "HM", "x", "0");
-    const text = fc.oneof(fc.string({ maxLength: 20 }), fc.array(piece, { maxLength: 6 }).map((p) => p.join("")));
+    const piece = fc.constantFrom(
+      "20",
+      "6",
+      "/",
+      "40",
+      "12",
+      "-",
+      "+",
+      "2",
+      "0.5",
+      ".",
+      " ",
+      "logMAR",
+      "CF",
+      "HM",
+      "x",
+      "0",
+    );
+    const text = fc.oneof(
+      fc.string({ maxLength: 20 }),
+      fc.array(piece, { maxLength: 6 }).map((p) => p.join("")),
+    );
     fc.assert(
       fc.property(text, (t) => {
         let value: number;
@@ -140,10 +160,14 @@ describe("fromLogMAR", () => {
 
   it("round-trips with toLogMAR to within label rounding (0.025 logMAR)", () => {
     fc.assert(
-      fc.property(fc.integer({ min: -300, max: 1700 }), fc.constantFrom("feet", "metres", "decimal" as const), (k, notation) => {
-        const logMAR = k / 1000;
-        expect(Math.abs(toLogMAR(fromLogMAR(logMAR, notation)) - logMAR)).toBeLessThanOrEqual(0.025);
-      }),
+      fc.property(
+        fc.integer({ min: -300, max: 1700 }),
+        fc.constantFrom("feet", "metres", "decimal" as const),
+        (k, notation) => {
+          const logMAR = k / 1000;
+          expect(Math.abs(toLogMAR(fromLogMAR(logMAR, notation)) - logMAR)).toBeLessThanOrEqual(0.025);
+        },
+      ),
       { numRuns: 1000 },
     );
   });

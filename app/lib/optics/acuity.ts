@@ -33,8 +33,7 @@ export const LOW_VISION_LOGMAR = {
   HM: {
     logMAR: 2.3,
     label: "hand motion",
-    source:
-      "Schulze-Bonsel et al. 2006 (as for CF): HM ≈ decimal 0.005, i.e. logMAR −log10(0.005) = 2.30",
+    source: "Schulze-Bonsel et al. 2006 (as for CF): HM ≈ decimal 0.005, i.e. logMAR −log10(0.005) = 2.30",
   },
   LP: {
     logMAR: 2.7,
@@ -141,16 +140,73 @@ export function toLogMAR(acuity: string): number {
 /** Chart labels for logMAR −0.3 … 1.7 in 0.1 steps (index = 10·logMAR + 3). */
 const CHART_LINES = {
   feet: [
-    "10", "12.5", "16", "20", "25", "32", "40", "50", "63", "80", "100",
-    "125", "160", "200", "250", "320", "400", "500", "630", "800", "1000",
+    "10",
+    "12.5",
+    "16",
+    "20",
+    "25",
+    "32",
+    "40",
+    "50",
+    "63",
+    "80",
+    "100",
+    "125",
+    "160",
+    "200",
+    "250",
+    "320",
+    "400",
+    "500",
+    "630",
+    "800",
+    "1000",
   ],
   metres: [
-    "3", "3.8", "4.8", "6", "7.5", "9.5", "12", "15", "19", "24", "30",
-    "38", "48", "60", "75", "95", "120", "150", "190", "240", "300",
+    "3",
+    "3.8",
+    "4.8",
+    "6",
+    "7.5",
+    "9.5",
+    "12",
+    "15",
+    "19",
+    "24",
+    "30",
+    "38",
+    "48",
+    "60",
+    "75",
+    "95",
+    "120",
+    "150",
+    "190",
+    "240",
+    "300",
   ],
   decimal: [
-    "2.00", "1.60", "1.25", "1.00", "0.80", "0.63", "0.50", "0.40", "0.32", "0.25", "0.20",
-    "0.16", "0.13", "0.10", "0.080", "0.063", "0.050", "0.040", "0.032", "0.025", "0.020",
+    "2.00",
+    "1.60",
+    "1.25",
+    "1.00",
+    "0.80",
+    "0.63",
+    "0.50",
+    "0.40",
+    "0.32",
+    "0.25",
+    "0.20",
+    "0.16",
+    "0.13",
+    "0.10",
+    "0.080",
+    "0.063",
+    "0.050",
+    "0.040",
+    "0.032",
+    "0.025",
+    "0.020",
   ],
 } as const;
 
@@ -250,10 +306,12 @@ const SIGNED = String.raw`([+-]?(?:\d+(?:\.\d+)?|\.\d+))`;
 export function readAcuity(text: string, options: AcuityReadOptions): AcuityRead | AcuityReadError {
   if (typeof text !== "string") return fail("Type the acuity as text.");
   const notation = options.notation ?? null;
-  if (notation !== null && !(ACUITY_NOTATIONS as readonly string[]).includes(notation)) return fail(`Unknown acuity notation "${String(notation)}".`);
+  if (notation !== null && !(ACUITY_NOTATIONS as readonly string[]).includes(notation))
+    return fail(`Unknown acuity notation "${String(notation)}".`);
   const near = options.distance === "near";
   const cm = options.nearDistanceCm ?? 40;
-  if (!Number.isFinite(cm) || cm < 10 || cm > 100) return fail(`Near test distance ${String(cm)} cm is outside 10–100 cm.`);
+  if (!Number.isFinite(cm) || cm < 10 || cm > 100)
+    return fail(`Near test distance ${String(cm)} cm is outside 10–100 cm.`);
 
   let t = text
     .replace(/[\u2212\u2012\u2013\uFE63\uFF0D]/g, "-")
@@ -267,7 +325,13 @@ export function readAcuity(text: string, options: AcuityReadOptions): AcuityRead
     pinhole = true;
     t = ph[1]!.trim();
   }
-  const done = (logMAR: number, display: string, what: string, kind: AcuityRead["kind"] = "chart", lettersMissed = 0): AcuityRead | AcuityReadError => {
+  const done = (
+    logMAR: number,
+    display: string,
+    what: string,
+    kind: AcuityRead["kind"] = "chart",
+    lettersMissed = 0,
+  ): AcuityRead | AcuityReadError => {
     const v = round2(logMAR);
     if (kind === "chart" && (v < CHART_LOGMAR_RANGE.min - 1e-9 || v > CHART_LOGMAR_RANGE.max + 1e-9)) {
       return fail(
@@ -288,17 +352,27 @@ export function readAcuity(text: string, options: AcuityReadOptions): AcuityRead
   };
 
   // Hex, exponents and the like are not acuities.
-  if (/0x|\d\s*e\s*[+-]?\d|infinity|nan/.test(t)) return fail(`"${text.trim()}" is not an acuity: type a chart value such as 6/9, 20/30, 0.66 decimal or 0.18 logMAR.`);
+  if (/0x|\d\s*e\s*[+-]?\d|infinity|nan/.test(t))
+    return fail(
+      `"${text.trim()}" is not an acuity: type a chart value such as 6/9, 20/30, 0.66 decimal or 0.18 logMAR.`,
+    );
 
   // Counting fingers, hand movements, light perception.
   for (const [category, pattern] of LOW_VISION_PATTERNS) {
-    if (!pattern.test(t.replace(/\./g, (dot, i: number, whole: string) => (/\d/.test(whole.charAt(i + 1)) ? dot : "")))) continue;
-    if (near) return fail(`${LOW_VISION_LOGMAR[category].label} is a distance finding; record it in the distance acuity.`);
+    if (!pattern.test(t.replace(/\./g, (dot, i: number, whole: string) => (/\d/.test(whole.charAt(i + 1)) ? dot : ""))))
+      continue;
+    if (near)
+      return fail(`${LOW_VISION_LOGMAR[category].label} is a distance finding; record it in the distance acuity.`);
     const at = /(\d+(?:\.\d+)?)\s*(cm|m|metres?|meters?|ft|feet|foot|'|′)/.exec(t);
     const unit = at ? (at[2]!.startsWith("c") ? "cm" : /^(m|met)/.test(at[2]!) ? "m" : "ft") : "";
     const display = `${category}${at ? ` ${at[1]}${unit}` : ""}`;
     const lv = LOW_VISION_LOGMAR[category];
-    return done(lv.logMAR, display, `${lv.label}${at ? ` at ${at[1]} ${unit}` : ""}, recorded as logMAR ${f2(lv.logMAR)} (a stand-in value, not a chart measurement)`, "low_vision");
+    return done(
+      lv.logMAR,
+      display,
+      `${lv.label}${at ? ` at ${at[1]} ${unit}` : ""}, recorded as logMAR ${f2(lv.logMAR)} (a stand-in value, not a chart measurement)`,
+      "low_vision",
+    );
   }
 
   // A unit typed with the number.
@@ -316,11 +390,17 @@ export function readAcuity(text: string, options: AcuityReadOptions): AcuityRead
   if (npoint || munits) {
     if (!near) return fail(`"${text.trim()}" is a near print size; record it in the near acuity.`);
     const m = npoint ? Number(npoint[1]) / N_POINTS_PER_M : Number(munits![1] ?? munits![2]);
-    if (npoint && !(Number(npoint[1]) >= 3 && Number(npoint[1]) <= 80)) return fail(`N${npoint[1]} is outside the N3–N80 print sizes of near charts.`);
-    if (munits && !(m >= 0.3 && m <= 10)) return fail(`${munits[1] ?? munits[2]}M is outside the 0.3M–10M print sizes of near charts.`);
+    if (npoint && !(Number(npoint[1]) >= 3 && Number(npoint[1]) <= 80))
+      return fail(`N${npoint[1]} is outside the N3–N80 print sizes of near charts.`);
+    if (munits && !(m >= 0.3 && m <= 10))
+      return fail(`${munits[1] ?? munits[2]}M is outside the 0.3M–10M print sizes of near charts.`);
     const v = Math.log10(m / (cm / 100));
     const display = npoint ? `N${Number(npoint[1])}` : `${m.toFixed(2)}M`;
-    return done(v, display, `${display} at ${cm} cm${npoint ? ` (${m.toFixed(2)}M)` : ""}, logMAR ${f2(v)} (${equivalent(v)})`);
+    return done(
+      v,
+      display,
+      `${display} at ${cm} cm${npoint ? ` (${m.toFixed(2)}M)` : ""}, logMAR ${f2(v)} (${equivalent(v)})`,
+    );
   }
 
   // Snellen fractions, with letters missed or gained.
@@ -329,18 +409,25 @@ export function readAcuity(text: string, options: AcuityReadOptions): AcuityRead
     const d = Number(frac[1]);
     const size = Number(frac[2]);
     if (!(d > 0) || !(size > 0)) return fail(`"${text.trim()}" has a zero in its fraction.`);
-    if (d > 20) return fail(`"${text.trim()}": the test distance ${d} is not a chart distance (6 m, 20 ft, or a shorter one such as 3/60).`);
+    if (d > 20)
+      return fail(
+        `"${text.trim()}": the test distance ${d} is not a chart distance (6 m, 20 ft, or a shorter one such as 3/60).`,
+      );
     let letters = 0;
     if (frac[3] && frac[4]) {
       letters = Number(frac[4]) * (frac[3] === "-" ? 1 : -1);
       if (Math.abs(letters) < 1 || Math.abs(letters) > MAX_LETTERS) {
-        return fail(`"${text.trim()}": record 1 to ${MAX_LETTERS} letters missed or gained; with more, record the line above or below.`);
+        return fail(
+          `"${text.trim()}": record 1 to ${MAX_LETTERS} letters missed or gained; with more, record the line above or below.`,
+        );
       }
     }
     const v = Math.log10(size / d) + letters * LOGMAR_PER_LETTER;
     const base = `${frac[1]}/${frac[2]}`;
     const display = letters ? `${base}${letters > 0 ? "-" : "+"}${Math.abs(letters)}` : base;
-    const letterWords = letters ? ` ${letters > 0 ? "−" : "+"}${Math.abs(letters)} letter${Math.abs(letters) === 1 ? "" : "s"}` : "";
+    const letterWords = letters
+      ? ` ${letters > 0 ? "−" : "+"}${Math.abs(letters)} letter${Math.abs(letters) === 1 ? "" : "s"}`
+      : "";
     const unitWords = d === 20 ? ` (${fromLogMAR(clampForLabel(Math.log10(size / d)), "metres")})` : "";
     return done(v, display, `${base}${letterWords}${unitWords}, logMAR ${f2(v)}`, "chart", letters);
   }
@@ -352,21 +439,34 @@ export function readAcuity(text: string, options: AcuityReadOptions): AcuityRead
     if (notation === "logmar") return done(v, `logMAR ${f2(v)}`, `logMAR ${f2(v)} (${equivalent(v)})`);
     if (notation === "decimal") return readDecimal(v, text, done);
     if (Number.isInteger(v) && v >= 3) {
-      return fail(`"${text.trim()}" looks like the bottom of a Snellen fraction: type the whole fraction (${notation === "feet" ? `20/${v}` : `6/${v}`}).`);
+      return fail(
+        `"${text.trim()}" looks like the bottom of a Snellen fraction: type the whole fraction (${notation === "feet" ? `20/${v}` : `6/${v}`}).`,
+      );
     }
     const asDecimal = v > 0 ? ` as decimal it would be ${equivalentSafe(-Math.log10(v))},` : "";
-    const asLogmar = v >= CHART_LOGMAR_RANGE.min && v <= CHART_LOGMAR_RANGE.max ? ` as logMAR ${equivalentSafe(v)},` : "";
+    const asLogmar =
+      v >= CHART_LOGMAR_RANGE.min && v <= CHART_LOGMAR_RANGE.max ? ` as logMAR ${equivalentSafe(v)},` : "";
     return fail(
       `"${text.trim()}" cannot be read unambiguously:${asDecimal}${asLogmar} ` +
         `so type a Snellen fraction (${notation === "feet" ? "20/20" : "6/6"}) or add the unit ("${bare[1]} decimal" or "${bare[1]} logMAR").`,
     );
   }
-  return fail(`"${text.trim()}" is not a recognised acuity: type ${near ? "N8, 1.0M, " : ""}6/9, 20/30, "0.66 decimal", "0.18 logMAR", CF, HM, LP or NLP.`);
+  return fail(
+    `"${text.trim()}" is not a recognised acuity: type ${near ? "N8, 1.0M, " : ""}6/9, 20/30, "0.66 decimal", "0.18 logMAR", CF, HM, LP or NLP.`,
+  );
 }
 
-function readDecimal(v: number, text: string, done: (l: number, d: string, w: string) => AcuityRead | AcuityReadError): AcuityRead | AcuityReadError {
-  if (!(v > 0)) return fail(`Decimal acuity "${text.trim()}" must be greater than 0; for logMAR 0.0 type "0.0 logMAR".`);
-  if (v > 2) return fail(`"${text.trim()}" is not a decimal acuity (0.02 to 2.0); for a Snellen value type the fraction, for example 6/${text.trim()}.`);
+function readDecimal(
+  v: number,
+  text: string,
+  done: (l: number, d: string, w: string) => AcuityRead | AcuityReadError,
+): AcuityRead | AcuityReadError {
+  if (!(v > 0))
+    return fail(`Decimal acuity "${text.trim()}" must be greater than 0; for logMAR 0.0 type "0.0 logMAR".`);
+  if (v > 2)
+    return fail(
+      `"${text.trim()}" is not a decimal acuity (0.02 to 2.0); for a Snellen value type the fraction, for example 6/${text.trim()}.`,
+    );
   const l = -Math.log10(v);
   return done(l, `decimal ${v.toFixed(2)}`, `decimal ${v.toFixed(2)} (${equivalent(l)}), logMAR ${f2(l)}`);
 }

@@ -122,7 +122,10 @@ describe("checkDispensingReport", () => {
   });
 
   it("passes an exact lens", () => {
-    expect(checkDispensing(lens(-4.25, -1.75, 15, 2.5), lens(-4.25, -1.75, 15, 2.5))).toEqual({ pass: true, failures: [] });
+    expect(checkDispensing(lens(-4.25, -1.75, 15, 2.5), lens(-4.25, -1.75, 15, 2.5))).toEqual({
+      pass: true,
+      failures: [],
+    });
   });
 
   it("rejects non-finite values", () => {

@@ -72,11 +72,23 @@ type PowerBands = { bands: { upTo: number; plusMinus: number }[]; percent: numbe
 const POWER_TOLERANCES: Record<"standard" | "progressive", { sphere: PowerBands; cylinder: PowerBands }> = {
   standard: {
     sphere: { bands: [{ upTo: 6.5, plusMinus: 0.13 }], percent: 2 },
-    cylinder: { bands: [{ upTo: 2, plusMinus: 0.13 }, { upTo: 4.5, plusMinus: 0.15 }], percent: 4 },
+    cylinder: {
+      bands: [
+        { upTo: 2, plusMinus: 0.13 },
+        { upTo: 4.5, plusMinus: 0.15 },
+      ],
+      percent: 4,
+    },
   },
   progressive: {
     sphere: { bands: [{ upTo: 8, plusMinus: 0.16 }], percent: 2 },
-    cylinder: { bands: [{ upTo: 2, plusMinus: 0.16 }, { upTo: 3.5, plusMinus: 0.18 }], percent: 5 },
+    cylinder: {
+      bands: [
+        { upTo: 2, plusMinus: 0.16 },
+        { upTo: 3.5, plusMinus: 0.18 },
+      ],
+      percent: 5,
+    },
   },
 };
 
@@ -149,7 +161,10 @@ function powerTolerance(power: number, table: PowerBands): { tolerance: number; 
   let lower = 0;
   for (const band of table.bands) {
     if (magnitude <= band.upTo + EPS) {
-      return { tolerance: band.plusMinus, rule: `±${band.plusMinus.toFixed(2)} D for ${lower.toFixed(2)}–${band.upTo.toFixed(2)} D` };
+      return {
+        tolerance: band.plusMinus,
+        rule: `±${band.plusMinus.toFixed(2)} D for ${lower.toFixed(2)}–${band.upTo.toFixed(2)} D`,
+      };
     }
     lower = band.upTo;
   }
@@ -164,7 +179,13 @@ function axisDifference(a: number, b: number): number {
   return Math.min(d, 180 - d);
 }
 
-function powerCheck(element: "sphere" | "cylinder" | "add" | "second meridian", ordered: number, measured: number, tol: { tolerance: number; rule: string }, meridian: string): DispensingCheck {
+function powerCheck(
+  element: "sphere" | "cylinder" | "add" | "second meridian",
+  ordered: number,
+  measured: number,
+  tol: { tolerance: number; rule: string },
+  meridian: string,
+): DispensingCheck {
   const difference = clean(measured - ordered);
   return {
     element,
@@ -204,7 +225,13 @@ export function checkDispensingReport(
     const tol = isoPowerTolerances(o);
     checks = [
       powerCheck("sphere", o.sphere, m.sphere, tol.meridian, "Sphere meridian"),
-      powerCheck("second meridian", clean(o.sphere + o.cylinder), clean(m.sphere + m.cylinder), tol.meridian, "Cylinder meridian (sphere + cylinder)"),
+      powerCheck(
+        "second meridian",
+        clean(o.sphere + o.cylinder),
+        clean(m.sphere + m.cylinder),
+        tol.meridian,
+        "Cylinder meridian (sphere + cylinder)",
+      ),
       powerCheck("cylinder", o.cylinder, m.cylinder, tol.cylinder, "Cylinder"),
     ];
   } else {
@@ -216,20 +243,34 @@ export function checkDispensingReport(
 
   const cylMagnitude = Math.abs(o.cylinder);
   const axisTol = axisTolerance(cylMagnitude, standard);
-  const axis = { element: "axis" as const, ordered: o.axis, measured: m.axis, difference: axisDifference(o.axis, m.axis) };
+  const axis = {
+    element: "axis" as const,
+    ordered: o.axis,
+    measured: m.axis,
+    difference: axisDifference(o.axis, m.axis),
+  };
   if (axisTol === null) {
     checks.push({
-      ...axis, tolerance: null, applicable: false, pass: true,
+      ...axis,
+      tolerance: null,
+      applicable: false,
+      pass: true,
       rule: "No axis tolerance for an ordered cylinder under 0.12 D",
     });
   } else if (m.cylinder === 0) {
     checks.push({
-      ...axis, tolerance: axisTol, applicable: false, pass: true,
+      ...axis,
+      tolerance: axisTol,
+      applicable: false,
+      pass: true,
       rule: "Measured lens has no cylinder, so no axis; the cylinder check covers it",
     });
   } else {
     checks.push({
-      ...axis, tolerance: axisTol, applicable: true, pass: axis.difference <= axisTol + EPS,
+      ...axis,
+      tolerance: axisTol,
+      applicable: true,
+      pass: axis.difference <= axisTol + EPS,
       rule: `±${axisTol}° for an ordered cylinder of ${cylMagnitude.toFixed(2)} D`,
     });
   }
@@ -298,7 +339,8 @@ export type PairEye = {
   measuredHeightMm?: number | null;
 };
 
-export type PairElement = "horizontal prism" | "vertical prism" | "centre distance" | "centre height" | "height difference";
+export type PairElement =
+  "horizontal prism" | "vertical prism" | "centre distance" | "centre height" | "height difference";
 
 export type PairCheck = {
   element: PairElement;
@@ -323,15 +365,24 @@ export type PairReport = {
  * concerned. Up to `upToD` the limit is `prism` Δ; above it the limit is a displacement of `mm`
  * (checked in mm when the centres were measured, otherwise as the prism it induces by Prentice's rule).
  */
-const IMBALANCE: Record<DispensingStandard, Record<"horizontal" | "vertical", { upToD: number; prism: number; mm: number }>> = {
+const IMBALANCE: Record<
+  DispensingStandard,
+  Record<"horizontal" | "vertical", { upToD: number; prism: number; mm: number }>
+> = {
   // ANSI Z80.1-2015, published quick-reference summary (table "Tolerance on prismatic imbalance
   // (mounted)"): vertical 0.33 Δ to ±3.375 D, else 1.0 mm difference in PRP heights; horizontal
   // 0.67 Δ to ±2.75 D, else ±2.5 mm from the specified PD.
-  "ANSI Z80.1-2015": { vertical: { upToD: 3.375, prism: 0.33, mm: 1 }, horizontal: { upToD: 2.75, prism: 0.67, mm: 2.5 } },
+  "ANSI Z80.1-2015": {
+    vertical: { upToD: 3.375, prism: 0.33, mm: 1 },
+    horizontal: { upToD: 2.75, prism: 0.67, mm: 2.5 },
+  },
   // BS EN ISO 21987:2017 — from memory, after published summaries of its prismatic-imbalance
   // table (not the standard's text): vertical 0.50 Δ to 5.00 D, else 1.0 mm; horizontal 0.67 Δ
   // to 3.25 D, else 2.0 mm. Each limit equals the other at the changeover by Prentice's rule.
-  "BS EN ISO 21987:2017": { vertical: { upToD: 5, prism: 0.5, mm: 1 }, horizontal: { upToD: 3.25, prism: 0.67, mm: 2 } },
+  "BS EN ISO 21987:2017": {
+    vertical: { upToD: 5, prism: 0.5, mm: 1 },
+    horizontal: { upToD: 3.25, prism: 0.67, mm: 2 },
+  },
 };
 
 /** Per-lens vertical position of the fitting point / segment: ±1.0 mm each (both standards). */
@@ -371,16 +422,25 @@ export function checkMountedPair(
   const standard = opts.standard ?? "ANSI Z80.1-2015";
   const r = checkDispensingReport(right.ordered, right.measured, { ...opts, standard });
   const l = checkDispensingReport(left.ordered, left.measured, { ...opts, standard });
-  for (const [eye, e] of [["Right", right], ["Left", left]] as const) {
+  for (const [eye, e] of [
+    ["Right", right],
+    ["Left", left],
+  ] as const) {
     assertPrism(e.orderedPrism, `${eye} ordered`);
     assertPrism(e.measuredPrism, `${eye} measured`);
-    for (const [k, v] of [["ordered PD", e.orderedPdMm], ["ordered height", e.orderedHeightMm], ["measured PD", e.measuredPdMm], ["measured height", e.measuredHeightMm]] as const) {
+    for (const [k, v] of [
+      ["ordered PD", e.orderedPdMm],
+      ["ordered height", e.orderedHeightMm],
+      ["measured PD", e.measuredPdMm],
+      ["measured height", e.measuredHeightMm],
+    ] as const) {
       if (v !== null && v !== undefined) assertFinite(v, `${eye} ${k}`, "checkMountedPair");
     }
   }
   const limits = IMBALANCE[standard];
   const pair: PairCheck[] = [];
-  const strongest = (meridian: number) => Math.max(Math.abs(meridianPower(right.ordered, meridian)), Math.abs(meridianPower(left.ordered, meridian)));
+  const strongest = (meridian: number) =>
+    Math.max(Math.abs(meridianPower(right.ordered, meridian)), Math.abs(meridianPower(left.ordered, meridian)));
 
   // Horizontal: power along the 180 meridian acts horizontally.
   const hPower = strongest(180);
@@ -388,9 +448,20 @@ export function checkMountedPair(
   const centresMeasured = [right, left].every((e) => e.measuredPdMm != null && e.orderedPdMm != null);
   if (hPower > hLimit.upToD + 1e-9 && centresMeasured) {
     const off = Math.abs(right.measuredPdMm! + left.measuredPdMm! - right.orderedPdMm! - left.orderedPdMm!);
-    pair.push({ element: "centre distance", difference: r2(off), tolerance: hLimit.mm, unit: "mm", pass: off <= hLimit.mm + EPS, rule: `Lenses over ${hLimit.upToD} D horizontally: centres within ${hLimit.mm} mm of the ordered PD in all (${standard})` });
+    pair.push({
+      element: "centre distance",
+      difference: r2(off),
+      tolerance: hLimit.mm,
+      unit: "mm",
+      pass: off <= hLimit.mm + EPS,
+      rule: `Lenses over ${hLimit.upToD} D horizontally: centres within ${hLimit.mm} mm of the ordered PD in all (${standard})`,
+    });
   } else if (right.measuredPrism && left.measuredPrism) {
-    const err = signedHorizontal(right.measuredPrism) - signedHorizontal(right.orderedPrism) + signedHorizontal(left.measuredPrism) - signedHorizontal(left.orderedPrism);
+    const err =
+      signedHorizontal(right.measuredPrism) -
+      signedHorizontal(right.orderedPrism) +
+      signedHorizontal(left.measuredPrism) -
+      signedHorizontal(left.orderedPrism);
     const strong = hPower > hLimit.upToD + 1e-9;
     const tolerance = strong ? r2((hLimit.mm / 10) * hPower) : hLimit.prism; // Prentice: P = c (cm) × F
     pair.push({
@@ -399,7 +470,9 @@ export function checkMountedPair(
       tolerance,
       unit: "Δ",
       pass: Math.abs(err) <= tolerance + EPS,
-      rule: strong ? `${hLimit.mm} mm at ${hPower.toFixed(2)} D by Prentice's rule = ${tolerance.toFixed(2)} Δ (${standard})` : `Horizontal imbalance ${hLimit.prism} Δ for lenses up to ${hLimit.upToD} D (${standard})`,
+      rule: strong
+        ? `${hLimit.mm} mm at ${hPower.toFixed(2)} D by Prentice's rule = ${tolerance.toFixed(2)} Δ (${standard})`
+        : `Horizontal imbalance ${hLimit.prism} Δ for lenses up to ${hLimit.upToD} D (${standard})`,
     });
   }
 
@@ -407,7 +480,10 @@ export function checkMountedPair(
   const vLimit = limits.vertical;
   const heightsMeasured = [right, left].every((e) => e.measuredHeightMm != null && e.orderedHeightMm != null);
   if (right.measuredPrism && left.measuredPrism && !(vPower > vLimit.upToD + 1e-9 && heightsMeasured)) {
-    const err = signedVertical(right.measuredPrism) - signedVertical(right.orderedPrism) - (signedVertical(left.measuredPrism) - signedVertical(left.orderedPrism));
+    const err =
+      signedVertical(right.measuredPrism) -
+      signedVertical(right.orderedPrism) -
+      (signedVertical(left.measuredPrism) - signedVertical(left.orderedPrism));
     const strong = vPower > vLimit.upToD + 1e-9;
     const tolerance = strong ? r2((vLimit.mm / 10) * vPower) : vLimit.prism;
     pair.push({
@@ -416,15 +492,36 @@ export function checkMountedPair(
       tolerance,
       unit: "Δ",
       pass: Math.abs(err) <= tolerance + EPS,
-      rule: strong ? `${vLimit.mm} mm at ${vPower.toFixed(2)} D by Prentice's rule = ${tolerance.toFixed(2)} Δ (${standard})` : `Vertical imbalance ${vLimit.prism} Δ for lenses up to ${vLimit.upToD} D (${standard})`,
+      rule: strong
+        ? `${vLimit.mm} mm at ${vPower.toFixed(2)} D by Prentice's rule = ${tolerance.toFixed(2)} Δ (${standard})`
+        : `Vertical imbalance ${vLimit.prism} Δ for lenses up to ${vLimit.upToD} D (${standard})`,
     });
   }
   if (heightsMeasured) {
-    const diff = Math.abs(right.measuredHeightMm! - right.orderedHeightMm! - (left.measuredHeightMm! - left.orderedHeightMm!));
-    pair.push({ element: "height difference", difference: r2(diff), tolerance: vLimit.mm, unit: "mm", pass: diff <= vLimit.mm + EPS, rule: `Difference between the two centres' height errors at most ${vLimit.mm} mm (${standard})` });
-    for (const [eye, e] of [["Right", right], ["Left", left]] as const) {
+    const diff = Math.abs(
+      right.measuredHeightMm! - right.orderedHeightMm! - (left.measuredHeightMm! - left.orderedHeightMm!),
+    );
+    pair.push({
+      element: "height difference",
+      difference: r2(diff),
+      tolerance: vLimit.mm,
+      unit: "mm",
+      pass: diff <= vLimit.mm + EPS,
+      rule: `Difference between the two centres' height errors at most ${vLimit.mm} mm (${standard})`,
+    });
+    for (const [eye, e] of [
+      ["Right", right],
+      ["Left", left],
+    ] as const) {
       const off = Math.abs(e.measuredHeightMm! - e.orderedHeightMm!);
-      pair.push({ element: "centre height", difference: r2(off), tolerance: HEIGHT_TOLERANCE_MM, unit: "mm", pass: off <= HEIGHT_TOLERANCE_MM + EPS, rule: `${eye}: height within ±${HEIGHT_TOLERANCE_MM} mm of the ordered fitting height` });
+      pair.push({
+        element: "centre height",
+        difference: r2(off),
+        tolerance: HEIGHT_TOLERANCE_MM,
+        unit: "mm",
+        pass: off <= HEIGHT_TOLERANCE_MM + EPS,
+        rule: `${eye}: height within ±${HEIGHT_TOLERANCE_MM} mm of the ordered fitting height`,
+      });
     }
   }
   return { pass: r.pass && l.pass && pair.every((c) => c.pass), standard, right: r, left: l, pair };

@@ -30,7 +30,9 @@ describe("public entry", () => {
 
   it("engine sources use no Node-only or framework imports (they run in the browser)", () => {
     const dir = new URL(".", import.meta.url);
-    const sources = readdirSync(dir).filter((f) => f.endsWith(".ts") && !f.endsWith(".test.ts") && f !== "test-arbitraries.ts");
+    const sources = readdirSync(dir).filter(
+      (f) => f.endsWith(".ts") && !f.endsWith(".test.ts") && f !== "test-arbitraries.ts",
+    );
     expect(sources.length).toBeGreaterThan(5);
     for (const file of sources) {
       const text = readFileSync(new URL(file, dir), "utf8");

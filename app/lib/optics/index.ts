@@ -116,9 +116,4 @@ export {
   type ReferralFindings,
   type ReferralPrompt,
 } from "./referral";
-export {
-  JURISDICTIONS,
-  jurisdictionOf,
-  type Jurisdiction,
-  type JurisdictionRules,
-} from "./jurisdiction";
+export { JURISDICTIONS, jurisdictionOf, type Jurisdiction, type JurisdictionRules } from "./jurisdiction";

@@ -89,10 +89,15 @@ describe("decentrationPrism (matrix form, Long 1976)", () => {
 
   it("for a sphere the resultant is Prentice's rule on the full decentration", () => {
     fc.assert(
-      fc.property(fc.double({ min: -20, max: 20, noNaN: true }), fc.integer({ min: -10, max: 10 }), fc.integer({ min: -10, max: 10 }), (s, inMm, upMm) => {
-        const p = decentrationPrism(rx(s), "left", { inMm, upMm });
-        expect(p.resultant).toBeCloseTo(prenticePrism(s, Math.hypot(inMm, upMm)), 8);
-      }),
+      fc.property(
+        fc.double({ min: -20, max: 20, noNaN: true }),
+        fc.integer({ min: -10, max: 10 }),
+        fc.integer({ min: -10, max: 10 }),
+        (s, inMm, upMm) => {
+          const p = decentrationPrism(rx(s), "left", { inMm, upMm });
+          expect(p.resultant).toBeCloseTo(prenticePrism(s, Math.hypot(inMm, upMm)), 8);
+        },
+      ),
       { numRuns: 500 },
     );
   });

@@ -63,7 +63,11 @@ export type DecentrationPrism = {
  * prism vector (base direction) P = F·c, c in cm (Long 1976), so oblique
  * cylinders correctly give prism in both directions.
  */
-export function decentrationPrism(rx: SphCyl, eye: Eye, decentration: { inMm: number; upMm: number }): DecentrationPrism {
+export function decentrationPrism(
+  rx: SphCyl,
+  eye: Eye,
+  decentration: { inMm: number; upMm: number },
+): DecentrationPrism {
   assertSphCyl(rx, "decentrationPrism");
   if (eye !== "right" && eye !== "left") throw new RxError(`Eye must be "right" or "left" (got "${String(eye)}")`);
   assertFinite(decentration?.inMm, "Horizontal decentration", "decentrationPrism");

@@ -6,7 +6,11 @@ const ok = (text: string, notation: AcuityNotation | null = "metric", distance: 
   if (!r.ok) throw new Error(`expected ${text} to read, got: ${r.error}`);
   return r as AcuityRead;
 };
-const refused = (text: string, notation: AcuityNotation | null = "metric", distance: "distance" | "near" = "distance") => {
+const refused = (
+  text: string,
+  notation: AcuityNotation | null = "metric",
+  distance: "distance" | "near" = "distance",
+) => {
   const r = readAcuity(text, { notation, distance });
   if (r.ok) throw new Error(`expected ${text} to be refused, read as ${r.echo}`);
   return r.error;
@@ -97,7 +101,13 @@ describe("readAcuity: distance chart values against a published conversion table
   });
 
   it("reads back what it displays unchanged", () => {
-    for (const [text, notation] of [["6/9-2", "metric"], ["1.0", "logmar"], ["0.8", "decimal"], ["PH 20/30", "feet"], ["CF 2m", "metric"]] as const) {
+    for (const [text, notation] of [
+      ["6/9-2", "metric"],
+      ["1.0", "logmar"],
+      ["0.8", "decimal"],
+      ["PH 20/30", "feet"],
+      ["CF 2m", "metric"],
+    ] as const) {
       const first = ok(text, notation);
       const again = ok(first.display, null);
       expect(again.logMAR).toBe(first.logMAR);

@@ -18,16 +18,29 @@ describe("referralPrompts", () => {
   });
 
   it("prompts a mean applanation IOP of 24 mmHg or more (NICE NG81 1.1.4), not 23.5", () => {
-    const prompts = referralPrompts({ iop: { right: { readings: [24, 25], method: "applanation" }, left: { readings: [22, 25], method: "applanation" } } });
+    const prompts = referralPrompts({
+      iop: {
+        right: { readings: [24, 25], method: "applanation" },
+        left: { readings: [22, 25], method: "applanation" },
+      },
+    });
     expect(codes(prompts)).toEqual(["IOP_ABOVE_NORMAL:right"]);
-    expect(prompts[0]).toMatchObject({ action: "consider referral", value: 24.5, message: "Right mean IOP 24.5 mmHg by applanation (readings 24, 25): 24 mmHg or more" });
+    expect(prompts[0]).toMatchObject({
+      action: "consider referral",
+      value: 24.5,
+      message: "Right mean IOP 24.5 mmHg by applanation (readings 24, 25): 24 mmHg or more",
+    });
     expect(prompts[0]?.source).toMatch(/NG81.*1\.1\.4/);
   });
 
   it("asks for a repeat by applanation, not a referral, when a raised IOP rests on non-contact tonometry (NICE NG81 1.1.2)", () => {
     const prompts = referralPrompts({ iop: { right: { readings: [26], method: "non-contact" } } });
     expect(codes(prompts)).toEqual(["IOP_REPEAT:right"]);
-    expect(prompts[0]).toMatchObject({ action: "repeat measurement", message: "Right IOP 26 mmHg by non-contact tonometry (one reading): 24 mmHg or more — repeat with Goldmann-type applanation before deciding to refer" });
+    expect(prompts[0]).toMatchObject({
+      action: "repeat measurement",
+      message:
+        "Right IOP 26 mmHg by non-contact tonometry (one reading): 24 mmHg or more — repeat with Goldmann-type applanation before deciding to refer",
+    });
     expect(prompts[0]?.source).toMatch(/NG81, recommendation 1\.1\.2/);
     // A single value without a method is treated the same way.
     expect(codes(referralPrompts({ iopMmHg: { right: 26 } }))).toEqual(["IOP_REPEAT:right"]);
@@ -40,22 +53,55 @@ describe("referralPrompts", () => {
   });
 
   it("uses the mean for asymmetry, and says a single non-contact reading should be repeated (common practice)", () => {
-    expect(codes(referralPrompts({ iop: { right: { readings: [14, 15, 15], method: "applanation" }, left: { readings: [19, 20, 20], method: "applanation" } } }))).toEqual(["IOP_ASYMMETRY:both"]);
+    expect(
+      codes(
+        referralPrompts({
+          iop: {
+            right: { readings: [14, 15, 15], method: "applanation" },
+            left: { readings: [19, 20, 20], method: "applanation" },
+          },
+        }),
+      ),
+    ).toEqual(["IOP_ASYMMETRY:both"]);
     // Single readings of 14 and 19 differ by 5, but the means of three readings each do not.
-    expect(referralPrompts({ iop: { right: { readings: [14, 16, 17], method: "non-contact" }, left: { readings: [19, 18, 17], method: "non-contact" } } })).toEqual([]);
+    expect(
+      referralPrompts({
+        iop: {
+          right: { readings: [14, 16, 17], method: "non-contact" },
+          left: { readings: [19, 18, 17], method: "non-contact" },
+        },
+      }),
+    ).toEqual([]);
     const single = referralPrompts({ iopMmHg: { right: 14, left: 19 } });
     expect(codes(single)).toEqual(["IOP_REPEAT:both"]);
-    expect(single[0]?.message).toMatch(/on a single reading \(R 14, L 19\) — take several readings per eye, or measure by applanation/);
+    expect(single[0]?.message).toMatch(
+      /on a single reading \(R 14, L 19\) — take several readings per eye, or measure by applanation/,
+    );
     expect(single[0]?.action).toBe("repeat measurement");
     expect(referralPrompts({ iopMmHg: { right: 14, left: 18 } })).toEqual([]);
   });
 
   it("prompts a blue-yellow defect found for the first time, not one already on record (common practice)", () => {
-    const prompts = referralPrompts({ colourVision: { right: { result: "deficiency suspected", kind: "blue-yellow" }, left: { result: "deficiency suspected", kind: "blue-yellow", blueYellowBefore: true } } });
+    const prompts = referralPrompts({
+      colourVision: {
+        right: { result: "deficiency suspected", kind: "blue-yellow" },
+        left: { result: "deficiency suspected", kind: "blue-yellow", blueYellowBefore: true },
+      },
+    });
     expect(codes(prompts)).toEqual(["COLOUR_VISION_BLUE_YELLOW:right"]);
-    expect(prompts[0]).toMatchObject({ action: "consider referral", message: "Right eye: blue-yellow colour-vision defect found for the first time" });
+    expect(prompts[0]).toMatchObject({
+      action: "consider referral",
+      message: "Right eye: blue-yellow colour-vision defect found for the first time",
+    });
     // A red-green defect alike in both eyes and unchanged is congenital-looking: no prompt.
-    expect(referralPrompts({ colourVision: { right: { result: "deficiency suspected", kind: "red-green" }, left: { result: "deficiency suspected", kind: "red-green" } } })).toEqual([]);
+    expect(
+      referralPrompts({
+        colourVision: {
+          right: { result: "deficiency suspected", kind: "red-green" },
+          left: { result: "deficiency suspected", kind: "red-green" },
+        },
+      }),
+    ).toEqual([]);
   });
 
   it("prompts an enlarged or displaced blind spot", () => {
@@ -73,7 +119,10 @@ describe("referralPrompts", () => {
     expect(
       codes(
         referralPrompts({
-          colourVision: { right: { result: "deficiency suspected", changedFromPrevious: true }, left: { result: "normal" } },
+          colourVision: {
+            right: { result: "deficiency suspected", changedFromPrevious: true },
+            left: { result: "normal" },
+          },
         }),
       ),
     ).toEqual(["COLOUR_VISION_ACQUIRED:right", "COLOUR_VISION_ASYMMETRIC:right"]);
@@ -88,7 +137,9 @@ describe("referralPrompts", () => {
   });
 
   it("prompts a recorded field defect with its description", () => {
-    const prompts = referralPrompts({ fieldDefect: { left: { present: true, description: "superior arcuate defect" } } });
+    const prompts = referralPrompts({
+      fieldDefect: { left: { present: true, description: "superior arcuate defect" } },
+    });
     expect(prompts).toHaveLength(1);
     expect(prompts[0]).toMatchObject({ code: "FIELD_DEFECT", eye: "left", value: "superior arcuate defect" });
     expect(referralPrompts({ fieldDefect: { right: { present: true } } })[0]?.value).toBe("field defect recorded");

@@ -93,7 +93,8 @@ const NG81_REFER =
 const NG81_NCT =
   "NICE guideline NG81, recommendation 1.1.2: do not base a decision to refer solely on IOP measurement using non-contact " +
   "tonometry; 1.1.1: measure IOP with Goldmann-type applanation tonometry before referral";
-const C205_IOP = "College of Optometrists, Guidance for Professional Practice, C205 Urgency of referrals: IOP of 40 mmHg or more (independent of cause) is an emergency referral";
+const C205_IOP =
+  "College of Optometrists, Guidance for Professional Practice, C205 Urgency of referrals: IOP of 40 mmHg or more (independent of cause) is an emergency referral";
 const COMMON_PRACTICE = "Common practice";
 
 const EYES: EyeSide[] = ["right", "left"];
@@ -116,7 +117,12 @@ function readIop(value: number, eye: EyeSide): number {
 }
 
 type EyeIop = { mean: number; readings: number[]; method?: IopMethod };
-const METHOD_WORDS: Record<IopMethod, string> = { applanation: "applanation", "non-contact": "non-contact tonometry", rebound: "rebound tonometry", other: "tonometry" };
+const METHOD_WORDS: Record<IopMethod, string> = {
+  applanation: "applanation",
+  "non-contact": "non-contact tonometry",
+  rebound: "rebound tonometry",
+  other: "tonometry",
+};
 const fmt1 = (x: number) => String(clean(Math.round(x * 10) / 10));
 
 function describeIop(eye: EyeSide, e: EyeIop): string {
@@ -134,7 +140,8 @@ function iopOf(findings: ReferralFindings): Partial<Record<EyeSide, EyeIop>> {
     if (detailed !== undefined) {
       if (!Array.isArray(detailed.readings) || detailed.readings.length === 0) continue;
       const readings = detailed.readings.map((r) => readIop(r, eye));
-      if (detailed.method !== undefined && !Object.hasOwn(METHOD_WORDS, detailed.method)) throw new RxError(`${EYE_NAME[eye]} IOP method "${String(detailed.method)}" is not known`);
+      if (detailed.method !== undefined && !Object.hasOwn(METHOD_WORDS, detailed.method))
+        throw new RxError(`${EYE_NAME[eye]} IOP method "${String(detailed.method)}" is not known`);
       out[eye] = { mean: readings.reduce((x, y) => x + y, 0) / readings.length, readings, method: detailed.method };
     } else if (single !== undefined) {
       const value = readIop(single, eye);
@@ -161,10 +168,26 @@ function iopPrompts(findings: ReferralFindings): ReferralPrompt[] {
     if (!e) continue;
     const text = describeIop(eye, e);
     if (e.mean >= IOP_EMERGENCY_MMHG) {
-      prompts.push({ code: "IOP_ABOVE_NORMAL", action: "consider referral", eye, message: `${text}: ${IOP_EMERGENCY_MMHG} mmHg or more`, value: rounded(e.mean), rule: rule(`Mean IOP of ${IOP_EMERGENCY_MMHG} mmHg or more, by any method`), source: C205_IOP });
+      prompts.push({
+        code: "IOP_ABOVE_NORMAL",
+        action: "consider referral",
+        eye,
+        message: `${text}: ${IOP_EMERGENCY_MMHG} mmHg or more`,
+        value: rounded(e.mean),
+        rule: rule(`Mean IOP of ${IOP_EMERGENCY_MMHG} mmHg or more, by any method`),
+        source: C205_IOP,
+      });
     } else if (e.mean >= IOP_REFER_MMHG - 1e-9) {
       if (confirmed(e)) {
-        prompts.push({ code: "IOP_ABOVE_NORMAL", action: "consider referral", eye, message: `${text}: ${IOP_REFER_MMHG} mmHg or more`, value: rounded(e.mean), rule: rule(`Mean IOP by applanation of ${IOP_REFER_MMHG} mmHg or more`), source: NG81_REFER });
+        prompts.push({
+          code: "IOP_ABOVE_NORMAL",
+          action: "consider referral",
+          eye,
+          message: `${text}: ${IOP_REFER_MMHG} mmHg or more`,
+          value: rounded(e.mean),
+          rule: rule(`Mean IOP by applanation of ${IOP_REFER_MMHG} mmHg or more`),
+          source: NG81_REFER,
+        });
       } else {
         prompts.push({
           code: "IOP_REPEAT",
@@ -172,7 +195,9 @@ function iopPrompts(findings: ReferralFindings): ReferralPrompt[] {
           eye,
           message: `${text}: ${IOP_REFER_MMHG} mmHg or more — repeat with Goldmann-type applanation before deciding to refer`,
           value: rounded(e.mean),
-          rule: rule(`Mean IOP of ${IOP_REFER_MMHG} mmHg or more not measured by applanation: repeat by applanation, do not refer on this alone`),
+          rule: rule(
+            `Mean IOP of ${IOP_REFER_MMHG} mmHg or more not measured by applanation: repeat by applanation, do not refer on this alone`,
+          ),
           source: NG81_NCT,
         });
       }
@@ -185,7 +210,15 @@ function iopPrompts(findings: ReferralFindings): ReferralPrompt[] {
     if (difference >= IOP_ASYMMETRY_MMHG - 1e-9) {
       const both = `R ${fmt1(r.mean)}, L ${fmt1(l.mean)}`;
       if (confirmed(r) && confirmed(l)) {
-        prompts.push({ code: "IOP_ASYMMETRY", action: "consider referral", eye: "both", message: `Mean IOP differs by ${difference} mmHg between the eyes (${both}, applanation)`, value: difference, rule: rule(`Difference of ${IOP_ASYMMETRY_MMHG} mmHg or more between the eyes' mean IOP by applanation`), source: COMMON_PRACTICE });
+        prompts.push({
+          code: "IOP_ASYMMETRY",
+          action: "consider referral",
+          eye: "both",
+          message: `Mean IOP differs by ${difference} mmHg between the eyes (${both}, applanation)`,
+          value: difference,
+          rule: rule(`Difference of ${IOP_ASYMMETRY_MMHG} mmHg or more between the eyes' mean IOP by applanation`),
+          source: COMMON_PRACTICE,
+        });
       } else {
         const single = r.readings.length === 1 || l.readings.length === 1;
         prompts.push({
@@ -196,7 +229,9 @@ function iopPrompts(findings: ReferralFindings): ReferralPrompt[] {
             ? `IOP differs by ${difference} mmHg between the eyes on a single reading (${both}) — take several readings per eye, or measure by applanation, before considering referral`
             : `Mean IOP differs by ${difference} mmHg between the eyes (${both}) without applanation — confirm by applanation before considering referral`,
           value: difference,
-          rule: rule(`Difference of ${IOP_ASYMMETRY_MMHG} mmHg or more between the eyes not confirmed by applanation: repeat before deciding`),
+          rule: rule(
+            `Difference of ${IOP_ASYMMETRY_MMHG} mmHg or more between the eyes not confirmed by applanation: repeat before deciding`,
+          ),
           source: `${COMMON_PRACTICE} (asymmetry); ${NG81_NCT}`,
         });
       }
@@ -233,7 +268,7 @@ function colourVisionPrompts(cv: NonNullable<ReferralFindings["colourVision"]>):
     if (finding?.result === "deficiency suspected" && finding.changedFromPrevious === true) {
       prompts.push({
         code: "COLOUR_VISION_ACQUIRED",
-      action: "consider referral",
+        action: "consider referral",
         eye,
         message: `${EYE_NAME[eye]} colour vision has changed since the previous result (now deficiency suspected)`,
         value: finding.result,
@@ -244,7 +279,12 @@ function colourVisionPrompts(cv: NonNullable<ReferralFindings["colourVision"]>):
   }
   for (const eye of EYES) {
     const finding = cv[eye];
-    if (finding?.kind !== "blue-yellow" || finding.result !== "deficiency suspected" || finding.blueYellowBefore === true) continue;
+    if (
+      finding?.kind !== "blue-yellow" ||
+      finding.result !== "deficiency suspected" ||
+      finding.blueYellowBefore === true
+    )
+      continue;
     prompts.push({
       code: "COLOUR_VISION_BLUE_YELLOW",
       action: "consider referral",
@@ -300,16 +340,19 @@ function acuityPrompts(acuity: NonNullable<ReferralFindings["acuity"]>): Referra
     const finding = acuity[eye];
     if (finding === undefined) continue;
     const now = readLogMAR(finding.bestCorrected, `${EYE_NAME[eye]} best-corrected acuity`);
-    const before = finding.previous === undefined ? undefined : readLogMAR(finding.previous, `${EYE_NAME[eye]} previous acuity`);
+    const before =
+      finding.previous === undefined ? undefined : readLogMAR(finding.previous, `${EYE_NAME[eye]} previous acuity`);
     if (finding.explained === true) continue;
     if (now > ACUITY_REDUCED_LOGMAR + LINE_TOLERANCE) {
       prompts.push({
         code: "ACUITY_REDUCED",
-      action: "consider referral",
+        action: "consider referral",
         eye,
         message: `${EYE_NAME[eye]} best-corrected acuity ${now.toFixed(2)} logMAR is worse than ${ACUITY_REDUCED_LOGMAR.toFixed(2)} and unexplained`,
         value: now,
-        rule: rule(`Unexplained best-corrected acuity worse than ${ACUITY_REDUCED_LOGMAR.toFixed(2)} logMAR (6/12, 20/40)`),
+        rule: rule(
+          `Unexplained best-corrected acuity worse than ${ACUITY_REDUCED_LOGMAR.toFixed(2)} logMAR (6/12, 20/40)`,
+        ),
         source: COMMON_PRACTICE,
       });
     }
@@ -318,11 +361,13 @@ function acuityPrompts(acuity: NonNullable<ReferralFindings["acuity"]>): Referra
       if (loss >= ACUITY_DROP_LOGMAR - LINE_TOLERANCE) {
         prompts.push({
           code: "ACUITY_DROP",
-      action: "consider referral",
+          action: "consider referral",
           eye,
           message: `${EYE_NAME[eye]} best-corrected acuity has dropped ${loss.toFixed(2)} logMAR since the previous visit`,
           value: loss,
-          rule: rule(`Unexplained loss of ${ACUITY_DROP_LOGMAR.toFixed(1)} logMAR (two lines) or more since the previous visit`),
+          rule: rule(
+            `Unexplained loss of ${ACUITY_DROP_LOGMAR.toFixed(1)} logMAR (two lines) or more since the previous visit`,
+          ),
           source: COMMON_PRACTICE,
         });
       }

@@ -17,19 +17,9 @@ import {
 /** Largest sphere or cylinder magnitude parseRx accepts, in dioptres. */
 export const MAX_PARSED_POWER_D = 30;
 
-type WordKind =
-  | "plano"
-  | "sphereLabel"
-  | "cylinderLabel"
-  | "dioptre"
-  | "axisMarker"
-  | "slash"
-  | "degree"
-  | "unknown";
+type WordKind = "plano" | "sphereLabel" | "cylinderLabel" | "dioptre" | "axisMarker" | "slash" | "degree" | "unknown";
 
-type Token =
-  | { kind: "number"; text: string; value: number; signed: boolean }
-  | { kind: WordKind; text: string };
+type Token = { kind: "number"; text: string; value: number; signed: boolean } | { kind: WordKind; text: string };
 
 const MINUS_SIGNS = /[\u2212\u2012\u2013\uFE63\uFF0D]/g;
 const NUMBER = /[+-]?\s*(?:\d+(?:\.\d*)?|\.\d+)/y;
@@ -156,7 +146,11 @@ export function parseRx(text: string): SphCyl {
     throw new RxError(`A prescription must be text (got ${typeof text})`);
   }
   const where = quote(text);
-  const normalised = text.replace(MINUS_SIGNS, "-").replace(/\u00D7/g, "x").toLowerCase().trim();
+  const normalised = text
+    .replace(MINUS_SIGNS, "-")
+    .replace(/\u00D7/g, "x")
+    .toLowerCase()
+    .trim();
   if (normalised === "") throw new RxError("Empty prescription");
 
   const tokens = tokenise(normalised, where);

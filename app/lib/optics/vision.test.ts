@@ -22,7 +22,9 @@ describe("checkBlindSpot", () => {
   });
 
   it("small variations are within normal", () => {
-    expect(checkBlindSpot({ centreXDeg: 13, centreYDeg: -3, widthDeg: 6.5, heightDeg: 8.5 }).status).toBe("within normal");
+    expect(checkBlindSpot({ centreXDeg: 13, centreYDeg: -3, widthDeg: 6.5, heightDeg: 8.5 }).status).toBe(
+      "within normal",
+    );
   });
 
   it("reports enlargement", () => {
@@ -47,11 +49,15 @@ describe("checkBlindSpot", () => {
   });
 
   it("accepts custom margins", () => {
-    expect(checkBlindSpot({ centreXDeg: 15, centreYDeg: -1.5, widthDeg: 7, heightDeg: 7.5 }, { sizeDeg: 1 }).status).toBe("enlarged");
+    expect(
+      checkBlindSpot({ centreXDeg: 15, centreYDeg: -1.5, widthDeg: 7, heightDeg: 7.5 }, { sizeDeg: 1 }).status,
+    ).toBe("enlarged");
   });
 
   it("rejects impossible measurements", () => {
-    expect(() => checkBlindSpot({ centreXDeg: 15, centreYDeg: -1.5, widthDeg: 0, heightDeg: 7 })).toThrow(/must be positive/);
+    expect(() => checkBlindSpot({ centreXDeg: 15, centreYDeg: -1.5, widthDeg: 0, heightDeg: 7 })).toThrow(
+      /must be positive/,
+    );
     expect(() => checkBlindSpot({ centreXDeg: Number.NaN, centreYDeg: 0, widthDeg: 5, heightDeg: 7 })).toThrow(RxError);
   });
 });
@@ -81,7 +87,9 @@ describe("screenColourVision — Ishihara 38- and 24-plate editions", () => {
   });
 
   it("does not count the demonstration plate: a count including it is refused as too many plates", () => {
-    expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 21, platesShown: 21 })).toThrow(/exceeds the 20 plates/);
+    expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 21, platesShown: 21 })).toThrow(
+      /exceeds the 20 plates/,
+    );
   });
 
   it.each([
@@ -111,9 +119,15 @@ describe("screenColourVision — Ishihara 38- and 24-plate editions", () => {
   });
 
   it("rejects inconsistent counts", () => {
-    expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 16, platesShown: 15 })).toThrow(/cannot exceed/);
-    expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 10, platesShown: 25 })).toThrow(/exceeds the 20 plates/);
-    expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 1.5, platesShown: 15 })).toThrow(/whole number/);
+    expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 16, platesShown: 15 })).toThrow(
+      /cannot exceed/,
+    );
+    expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 10, platesShown: 25 })).toThrow(
+      /exceeds the 20 plates/,
+    );
+    expect(() => screenColourVision({ test: "ishihara-38", platesCorrect: 1.5, platesShown: 15 })).toThrow(
+      /whole number/,
+    );
     expect(() =>
       screenColourVision({
         test: "x",
@@ -157,10 +171,18 @@ describe("myopiaProgression", () => {
   });
 
   it("rejects bad dates", () => {
-    expect(() => myopiaProgression({ date: "01/02/2024", rx: rx(-1) }, { date: "2024-06-01", rx: rx(-1) })).toThrow(/ISO 8601/);
-    expect(() => myopiaProgression({ date: "2024-06-01", rx: rx(-1) }, { date: "2024-06-01", rx: rx(-1) })).toThrow(/must be after/);
-    expect(() => myopiaProgression({ date: "2024-02-30", rx: rx(-1) }, { date: "2024-06-01", rx: rx(-1) })).toThrow(/ISO 8601/);
-    expect(() => myopiaProgression({ date: "2024-02-29", rx: rx(-1) }, { date: "2024-06-01T09:30:00Z", rx: rx(-1) })).not.toThrow();
+    expect(() => myopiaProgression({ date: "01/02/2024", rx: rx(-1) }, { date: "2024-06-01", rx: rx(-1) })).toThrow(
+      /ISO 8601/,
+    );
+    expect(() => myopiaProgression({ date: "2024-06-01", rx: rx(-1) }, { date: "2024-06-01", rx: rx(-1) })).toThrow(
+      /must be after/,
+    );
+    expect(() => myopiaProgression({ date: "2024-02-30", rx: rx(-1) }, { date: "2024-06-01", rx: rx(-1) })).toThrow(
+      /ISO 8601/,
+    );
+    expect(() =>
+      myopiaProgression({ date: "2024-02-29", rx: rx(-1) }, { date: "2024-06-01T09:30:00Z", rx: rx(-1) }),
+    ).not.toThrow();
   });
 });
 
@@ -169,10 +191,25 @@ describe("myopiaProgressionReport", () => {
 
   it("shows myopic eyes only (IMI: spherical equivalent ≤ −0.50 D, Flitcroft et al. 2019)", () => {
     // −0.25 −0.50 × 180 has SE −0.50: myopic by the IMI threshold.
-    expect(myopiaProgressionReport([{ date: "2024-01-10", rx: rx(0) }, { date: "2025-01-10", rx: rx(-0.25, -0.5) }])).not.toBeNull();
+    expect(
+      myopiaProgressionReport([
+        { date: "2024-01-10", rx: rx(0) },
+        { date: "2025-01-10", rx: rx(-0.25, -0.5) },
+      ]),
+    ).not.toBeNull();
     // SE −0.375 is above the threshold, and a hyperope is never reported.
-    expect(myopiaProgressionReport([{ date: "2024-01-10", rx: rx(0) }, { date: "2025-01-10", rx: rx(-0.25, -0.25) }])).toBeNull();
-    expect(myopiaProgressionReport([{ date: "2024-01-10", rx: rx(1) }, { date: "2025-01-10", rx: rx(0.5) }])).toBeNull();
+    expect(
+      myopiaProgressionReport([
+        { date: "2024-01-10", rx: rx(0) },
+        { date: "2025-01-10", rx: rx(-0.25, -0.25) },
+      ]),
+    ).toBeNull();
+    expect(
+      myopiaProgressionReport([
+        { date: "2024-01-10", rx: rx(1) },
+        { date: "2025-01-10", rx: rx(0.5) },
+      ]),
+    ).toBeNull();
     expect(myopiaProgressionReport([{ date: "2025-01-10", rx: rx(-2) }])).toBeNull();
   });
 
@@ -186,15 +223,22 @@ describe("myopiaProgressionReport", () => {
     ])!;
     expect(report.recent.ratePerYear).toBeCloseTo(-0.25, 2);
     expect(report.recent.atOrBeyondThreshold).toBe(false);
-    expect(report.recent.label).toMatch(/^Most recent interval \(2024-02-29 to 2025-03-01\): −0\.25 D per year .* below the 0\.50 D per year review threshold$/);
+    expect(report.recent.label).toMatch(
+      /^Most recent interval \(2024-02-29 to 2025-03-01\): −0\.25 D per year .* below the 0\.50 D per year review threshold$/,
+    );
     expect(report.overall!.ratePerYear).toBeCloseTo(-0.75, 2);
-    expect(report.overall!.label).toMatch(/^Average over all visits .*on average at or beyond the 0\.50 D per year review threshold; see the most recent interval/);
+    expect(report.overall!.label).toMatch(
+      /^Average over all visits .*on average at or beyond the 0\.50 D per year review threshold; see the most recent interval/,
+    );
     for (const l of [report.recent.label, report.overall!.label]) expect(l).not.toMatch(/fast/i);
     expect(report.thresholdMeaning).toMatch(/prompt for review, not a diagnosis/);
   });
 
   it("has no separate average with only two visits, and orders visits by date", () => {
-    const report = myopiaProgressionReport([{ date: "2025-06-01", rx: rx(-2.5) }, { date: "2024-06-01", rx: rx(-1.75) }])!;
+    const report = myopiaProgressionReport([
+      { date: "2025-06-01", rx: rx(-2.5) },
+      { date: "2024-06-01", rx: rx(-1.75) },
+    ])!;
     expect(report.overall).toBeNull();
     expect(report.recent.ratePerYear).toBeCloseTo(-0.75, 2);
     expect(report.recent.atOrBeyondThreshold).toBe(true);

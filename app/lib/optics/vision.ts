@@ -66,10 +66,14 @@ export function checkBlindSpot(
   const dx = clean(m.centreXDeg - n.centreXDeg);
   const dy = clean(m.centreYDeg - n.centreYDeg);
   if (Math.abs(dx) > centreTol) {
-    displaced.push(`centre ${Math.abs(dx)}° ${dx > 0 ? "further temporal" : "nearer fixation"} than ${n.centreXDeg}° temporal`);
+    displaced.push(
+      `centre ${Math.abs(dx)}° ${dx > 0 ? "further temporal" : "nearer fixation"} than ${n.centreXDeg}° temporal`,
+    );
   }
   if (Math.abs(dy) > centreTol) {
-    displaced.push(`centre ${Math.abs(dy)}° ${dy > 0 ? "higher" : "lower"} than ${Math.abs(n.centreYDeg)}° below the horizontal`);
+    displaced.push(
+      `centre ${Math.abs(dy)}° ${dy > 0 ? "higher" : "lower"} than ${Math.abs(n.centreYDeg)}° below the horizontal`,
+    );
   }
 
   const rule =
@@ -170,8 +174,12 @@ export function screenColourVision(input: ColourVisionInput): ColourVisionResult
   if (input === null || typeof input !== "object") throw new RxError("Colour-vision input is required");
   const { test, platesCorrect, platesShown } = input;
   const criterion =
-    input.criterion ?? (typeof test === "string" && Object.hasOwn(PLATE_CRITERIA, test) ? PLATE_CRITERIA[test] : undefined);
-  for (const [name, value] of [["platesCorrect", platesCorrect], ["platesShown", platesShown]] as const) {
+    input.criterion ??
+    (typeof test === "string" && Object.hasOwn(PLATE_CRITERIA, test) ? PLATE_CRITERIA[test] : undefined);
+  for (const [name, value] of [
+    ["platesCorrect", platesCorrect],
+    ["platesShown", platesShown],
+  ] as const) {
     if (!Number.isInteger(value) || value < 0) {
       throw new RxError(`${name} must be a whole number of plates (got ${String(value)}) in screenColourVision`);
     }

@@ -1,5 +1,14 @@
 /** Order states in plain words, for staff pages, the portal and reports. No framework imports. */
-export const ORDER_STATES = ["draft", "sent_to_lab", "received", "checked", "ready_to_collect", "collected", "remake", "cancelled"] as const;
+export const ORDER_STATES = [
+  "draft",
+  "sent_to_lab",
+  "received",
+  "checked",
+  "ready_to_collect",
+  "collected",
+  "remake",
+  "cancelled",
+] as const;
 export type OrderStateName = (typeof ORDER_STATES)[number];
 
 export const STATE_LABEL: Record<OrderStateName, string> = {
@@ -25,11 +34,24 @@ export const PATIENT_STATE_LABEL: Record<OrderStateName, string> = {
   cancelled: "Cancelled",
 };
 
-export const LENS_TYPE_LABEL = { single_vision: "Single vision", bifocal: "Bifocal", varifocal: "Varifocal (progressive)", occupational: "Occupational (near and intermediate)" } as const;
+export const LENS_TYPE_LABEL = {
+  single_vision: "Single vision",
+  bifocal: "Bifocal",
+  varifocal: "Varifocal (progressive)",
+  occupational: "Occupational (near and intermediate)",
+} as const;
 export type SpectacleLensType = keyof typeof LENS_TYPE_LABEL;
 
 /** Materials offered on the order form: name and refractive index. // common practice */
-export const LENS_MATERIALS = ["Standard plastic (CR-39) 1.50", "Trivex 1.53", "Polycarbonate 1.59", "Mid index 1.60", "High index 1.67", "High index 1.74", "Glass 1.52"] as const;
+export const LENS_MATERIALS = [
+  "Standard plastic (CR-39) 1.50",
+  "Trivex 1.53",
+  "Polycarbonate 1.59",
+  "Mid index 1.60",
+  "High index 1.67",
+  "High index 1.74",
+  "Glass 1.52",
+] as const;
 
 export const COATINGS = ["Hard coat", "Anti-reflection", "UV filter", "Hydrophobic", "Photochromic"] as const;
 

@@ -44,8 +44,18 @@ export type TimeFrames = Record<Urgency, number>;
  */
 export const DEFAULT_TIME_FRAMES: TimeFrames = { same_day: 1, urgent: 7, soon: 28, routine: 91 };
 
-export function timeFramesOf(s: { referralDaysSameDay: number; referralDaysUrgent: number; referralDaysSoon: number; referralDaysRoutine: number }): TimeFrames {
-  return { same_day: s.referralDaysSameDay, urgent: s.referralDaysUrgent, soon: s.referralDaysSoon, routine: s.referralDaysRoutine };
+export function timeFramesOf(s: {
+  referralDaysSameDay: number;
+  referralDaysUrgent: number;
+  referralDaysSoon: number;
+  referralDaysRoutine: number;
+}): TimeFrames {
+  return {
+    same_day: s.referralDaysSameDay,
+    urgent: s.referralDaysUrgent,
+    soon: s.referralDaysSoon,
+    routine: s.referralDaysRoutine,
+  };
 }
 
 export function describeTimeFrame(urgency: Urgency, days: number): string {
@@ -100,7 +110,12 @@ export function dueBy(r: Pick<ReferralState, "sentAt" | "timeFrameDays">): Date 
 
 /** Today's date (YYYY-MM-DD) in a time zone. */
 export function localDate(at: Date, timeZone: string): string {
-  const parts = new Intl.DateTimeFormat("en-CA", { timeZone, year: "numeric", month: "2-digit", day: "2-digit" }).format(at);
+  const parts = new Intl.DateTimeFormat("en-CA", {
+    timeZone,
+    year: "numeric",
+    month: "2-digit",
+    day: "2-digit",
+  }).format(at);
   return parts;
 }
 
@@ -109,7 +124,8 @@ export function localDate(at: Date, timeZone: string): string {
  * or acknowledged referral past its due date without being seen is overdue.
  */
 export function displayStatus(r: ReferralState, now: Date, timeZone = "UTC"): DisplayStatus {
-  if (r.status === "draft" || r.status === "queued" || r.status === "withdrawn" || r.status === "replied") return r.status;
+  if (r.status === "draft" || r.status === "queued" || r.status === "withdrawn" || r.status === "replied")
+    return r.status;
   if (r.appointmentOn && r.appointmentOn <= localDate(now, timeZone)) return "seen";
   const due = dueBy(r);
   if (due && now.getTime() > due.getTime()) return "overdue";
@@ -129,13 +145,23 @@ export function canChase(r: ReferralState & { lastChasedAt: Date | null }, now: 
 export const findingKey = (p: { code: string; eye: string }) => `${p.code}:${p.eye}`;
 
 /** What is missing before a letter may be sent, as field errors. */
-export function sendProblems(input: { recipientEmail: string | null | undefined; selectedFindings: string[]; additionalFindings: string; reason: string; examSigned: boolean; triageReasons?: number }): Record<string, string[]> {
+export function sendProblems(input: {
+  recipientEmail: string | null | undefined;
+  selectedFindings: string[];
+  additionalFindings: string;
+  reason: string;
+  examSigned: boolean;
+  triageReasons?: number;
+}): Record<string, string[]> {
   const errors: Record<string, string[]> = {};
   if (!input.examSigned) errors[""] = ["The exam is not signed. Sign the exam before sending a referral from it."];
-  if (!input.recipientEmail) errors.recipientId = ["Choose a recipient with an e-mail address (add one in Settings → Referral recipients)."];
+  if (!input.recipientEmail)
+    errors.recipientId = ["Choose a recipient with an e-mail address (add one in Settings → Referral recipients)."];
   // Triage's reasons (a retinal break with flashes, say) are findings the letter states in words.
   if (input.selectedFindings.length === 0 && !input.additionalFindings.trim() && !(input.triageReasons ?? 0))
-    errors.additionalFindings = ["Keep at least one finding from the exam, or describe the findings that lead you to refer."];
+    errors.additionalFindings = [
+      "Keep at least one finding from the exam, or describe the findings that lead you to refer.",
+    ];
   if (!input.reason.trim()) errors.reason = ["Give the reason for the referral."];
   return errors;
 }
@@ -153,7 +179,11 @@ export function promptValue(p: { code: string; value: number | string }): string
  * A chosen urgency below the one triage proposed needs the optometrist's reason, kept with the
  * letter. Returns the field error, or null when the choice needs no reason or has one.
  */
-export function urgencyOverrideProblem(chosen: Urgency, proposed: Urgency | null, reason: string | null | undefined): string | null {
+export function urgencyOverrideProblem(
+  chosen: Urgency,
+  proposed: Urgency | null,
+  reason: string | null | undefined,
+): string | null {
   if (!isBelowProposal(chosen, proposed)) return null;
   if ((reason ?? "").trim().length >= 5) return null;
   return `Triage proposed ${URGENCY_LABEL[proposed!].toLowerCase()} from the exam findings; give your reason for choosing ${URGENCY_LABEL[chosen].toLowerCase()} instead.`;

@@ -1,7 +1,21 @@
 import { describe, expect, it } from "vitest";
-import { canChase, describeTimeFrame, displayStatus, dueBy, sendProblems, urgencyOverrideProblem, type ReferralState } from "./index";
+import {
+  canChase,
+  describeTimeFrame,
+  displayStatus,
+  dueBy,
+  sendProblems,
+  urgencyOverrideProblem,
+  type ReferralState,
+} from "./index";
 
-const sent = (over: Partial<ReferralState> = {}): ReferralState => ({ status: "sent", sentAt: new Date("2026-03-01T10:00:00Z"), appointmentOn: null, timeFrameDays: 7, ...over });
+const sent = (over: Partial<ReferralState> = {}): ReferralState => ({
+  status: "sent",
+  sentAt: new Date("2026-03-01T10:00:00Z"),
+  appointmentOn: null,
+  timeFrameDays: 7,
+  ...over,
+});
 
 describe("referral status", () => {
   it("is due the time frame after sending", () => {
@@ -25,7 +39,8 @@ describe("referral status", () => {
 
   it("never reports drafts, queued, withdrawn or replied referrals as overdue", () => {
     const late = new Date("2027-01-01T00:00:00Z");
-    for (const status of ["draft", "queued", "withdrawn", "replied"] as const) expect(displayStatus(sent({ status }), late)).toBe(status);
+    for (const status of ["draft", "queued", "withdrawn", "replied"] as const)
+      expect(displayStatus(sent({ status }), late)).toBe(status);
   });
 
   it("allows a chaser only when overdue and not chased in the last three days", () => {
@@ -44,7 +59,13 @@ describe("referral status", () => {
   });
 
   it("asks for a recipient e-mail, findings, a reason and a signed exam before sending", () => {
-    const ok = { recipientEmail: "a@b.test", selectedFindings: ["IOP_ABOVE_NORMAL:right"], additionalFindings: "", reason: "Raised IOP", examSigned: true };
+    const ok = {
+      recipientEmail: "a@b.test",
+      selectedFindings: ["IOP_ABOVE_NORMAL:right"],
+      additionalFindings: "",
+      reason: "Raised IOP",
+      examSigned: true,
+    };
     expect(sendProblems(ok)).toEqual({});
     expect(Object.keys(sendProblems({ ...ok, recipientEmail: null }))).toEqual(["recipientId"]);
     expect(Object.keys(sendProblems({ ...ok, selectedFindings: [] }))).toEqual(["additionalFindings"]);
@@ -52,7 +73,9 @@ describe("referral status", () => {
     expect(Object.keys(sendProblems({ ...ok, examSigned: false }))).toEqual([""]);
     // A red-flag exam may raise no measured prompt: triage's reasons are what the letter refers on.
     expect(sendProblems({ ...ok, selectedFindings: [], triageReasons: 1 })).toEqual({});
-    expect(Object.keys(sendProblems({ ...ok, selectedFindings: [], triageReasons: 0 }))).toEqual(["additionalFindings"]);
+    expect(Object.keys(sendProblems({ ...ok, selectedFindings: [], triageReasons: 0 }))).toEqual([
+      "additionalFindings",
+    ]);
   });
 });
 
@@ -67,7 +90,9 @@ describe("prompt values", () => {
 
 describe("choosing a lower urgency than triage proposed", () => {
   it("asks for a reason only when the choice is lower", () => {
-    expect(urgencyOverrideProblem("urgent", "same_day", "")).toMatch(/Triage proposed same day .* give your reason for choosing urgent/);
+    expect(urgencyOverrideProblem("urgent", "same_day", "")).toMatch(
+      /Triage proposed same day .* give your reason for choosing urgent/,
+    );
     expect(urgencyOverrideProblem("urgent", "same_day", "  ok ")).toMatch(/give your reason/); // too short to be a reason
     expect(urgencyOverrideProblem("urgent", "same_day", "Seen in eye casualty yesterday; review booked")).toBeNull();
     expect(urgencyOverrideProblem("same_day", "urgent", "")).toBeNull();

@@ -86,13 +86,16 @@ const COLLEGE_A97 =
   "College of Optometrists, Guidance for Professional Practice, A97 (definition of an emergency): symptoms which strongly suggest a recent retinal tear or detachment";
 const COLLEGE_A259 =
   "College of Optometrists, Guidance for Professional Practice, A259: if a retinal break is suspected, examine the anterior vitreous for pigment and perform a dilated fundus examination with an indirect technique";
-const COLLEGE_ANNEX4 = "College of Optometrists, Guidance for Professional Practice, Annex 4 Urgency of referrals table";
+const COLLEGE_ANNEX4 =
+  "College of Optometrists, Guidance for Professional Practice, Annex 4 Urgency of referrals table";
 const NICE_NG81_114 =
   "NICE guideline NG81 (Glaucoma: diagnosis and management), recommendation 1.1.4: confirm an IOP of 24 mmHg or more on another occasion before deciding to refer";
-const NICE_NG81_112 = "NICE guideline NG81, recommendation 1.1.2: do not base a decision to refer solely on IOP measured by non-contact tonometry";
+const NICE_NG81_112 =
+  "NICE guideline NG81, recommendation 1.1.2: do not base a decision to refer solely on IOP measured by non-contact tonometry";
 const NICE_NG81_111 =
   "NICE guideline NG81, recommendation 1.1.1: optic nerve assessment is among the tests before referral for chronic open angle glaucoma and related conditions";
-const NICE_NG82 = "NICE guideline NG82 (Age-related macular degeneration): refer people with suspected late AMD (wet active) urgently to a macular service";
+const NICE_NG82 =
+  "NICE guideline NG82 (Age-related macular degeneration): refer people with suspected late AMD (wet active) urgently to a macular service";
 const COMMON = "Common practice";
 /*
  * Papilloedema. The College's Clinical Management Guideline on papilloedema was not found in the
@@ -123,9 +126,24 @@ export const VA_LOSS_LOGMAR = 0.2;
 // ---------------------------------------------------------------- validation
 
 const FLAGS = [
-  "suddenVisionLoss", "flashes", "newFloaters", "curtain", "severePain", "redEye", "distortion", "discSwelling",
-  "discHaemorrhage", "rapd", "retinalBreak", "retinalDetachment", "vitreousPigment", "anteriorChamberCells", "hyphaema",
-  "hypopyon", "suspectedWetAmd", "enlargedBlindSpot",
+  "suddenVisionLoss",
+  "flashes",
+  "newFloaters",
+  "curtain",
+  "severePain",
+  "redEye",
+  "distortion",
+  "discSwelling",
+  "discHaemorrhage",
+  "rapd",
+  "retinalBreak",
+  "retinalDetachment",
+  "vitreousPigment",
+  "anteriorChamberCells",
+  "hyphaema",
+  "hypopyon",
+  "suspectedWetAmd",
+  "enlargedBlindSpot",
 ] as const;
 const METHODS = ["applanation", "non-contact", "rebound", "other"] as const;
 
@@ -135,25 +153,46 @@ function check(ok: boolean, message: string) {
 
 function validate(input: TriageInput) {
   check(input !== null && typeof input === "object", "Triage needs the visit's findings");
-  check(Number.isFinite(input.ageYears) && input.ageYears >= 0 && input.ageYears <= 130, `Age ${String(input.ageYears)} is not between 0 and 130 years`);
+  check(
+    Number.isFinite(input.ageYears) && input.ageYears >= 0 && input.ageYears <= 130,
+    `Age ${String(input.ageYears)} is not between 0 and 130 years`,
+  );
   check(input.eyes !== null && typeof input.eyes === "object", "Triage needs the findings per eye (eyes)");
   for (const key of Object.keys(input.eyes)) check(key === "R" || key === "L", `Unknown eye "${key}" (use R or L)`);
-  for (const k of ["newDiplopia", "gcaSymptoms", "headache"] as const) if (input[k] !== undefined) check(typeof input[k] === "boolean", `${k} must be true or false`);
+  for (const k of ["newDiplopia", "gcaSymptoms", "headache"] as const)
+    if (input[k] !== undefined) check(typeof input[k] === "boolean", `${k} must be true or false`);
   for (const eye of ["R", "L"] as const) {
     const f = input.eyes[eye];
     if (f === undefined) continue;
     const name = eye === "R" ? "Right" : "Left";
     if (f.iopMmHg !== undefined) {
       check(Array.isArray(f.iopMmHg), `${name} IOP readings must be a list`);
-      for (const r of f.iopMmHg) check(Number.isFinite(r) && r >= 1 && r <= 80, `${name} IOP reading ${String(r)} mmHg is not between 1 and 80 mmHg`);
+      for (const r of f.iopMmHg)
+        check(
+          Number.isFinite(r) && r >= 1 && r <= 80,
+          `${name} IOP reading ${String(r)} mmHg is not between 1 and 80 mmHg`,
+        );
     }
-    if (f.iopMethod !== undefined) check((METHODS as readonly string[]).includes(f.iopMethod), `${name} IOP method "${String(f.iopMethod)}" is not one of ${METHODS.join(", ")}`);
+    if (f.iopMethod !== undefined)
+      check(
+        (METHODS as readonly string[]).includes(f.iopMethod),
+        `${name} IOP method "${String(f.iopMethod)}" is not one of ${METHODS.join(", ")}`,
+      );
     for (const k of ["vaLogMAR", "previousVaLogMAR"] as const) {
       const v = f[k];
-      if (v !== undefined) check(Number.isFinite(v) && v >= -0.5 && v <= 3, `${name} ${k === "vaLogMAR" ? "acuity" : "previous acuity"} ${String(v)} logMAR is not between -0.5 and 3.0`);
+      if (v !== undefined)
+        check(
+          Number.isFinite(v) && v >= -0.5 && v <= 3,
+          `${name} ${k === "vaLogMAR" ? "acuity" : "previous acuity"} ${String(v)} logMAR is not between -0.5 and 3.0`,
+        );
     }
-    if (f.verticalCupDisc !== undefined) check(Number.isFinite(f.verticalCupDisc) && f.verticalCupDisc >= 0 && f.verticalCupDisc <= 1, `${name} vertical cup/disc ratio ${String(f.verticalCupDisc)} is not between 0 and 1`);
-    for (const k of FLAGS) if (f[k] !== undefined) check(typeof f[k] === "boolean", `${name} ${k} must be true or false`);
+    if (f.verticalCupDisc !== undefined)
+      check(
+        Number.isFinite(f.verticalCupDisc) && f.verticalCupDisc >= 0 && f.verticalCupDisc <= 1,
+        `${name} vertical cup/disc ratio ${String(f.verticalCupDisc)} is not between 0 and 1`,
+      );
+    for (const k of FLAGS)
+      if (f[k] !== undefined) check(typeof f[k] === "boolean", `${name} ${k} must be true or false`);
   }
 }
 
@@ -181,21 +220,47 @@ function eyeRules(eye: Eye, f: EyeFindings, input: TriageInput): TriageReason[] 
   const symptomatic = f.flashes === true || f.newFloaters === true || f.curtain === true;
 
   // Posterior segment: retinal detachment and breaks.
-  if (f.retinalDetachment) add("same_day", "Retinal detachment", `${COLLEGE_C205}: retinal detachment unless long-standing and asymptomatic`);
-  if (f.retinalBreak && symptomatic) add("same_day", "Retinal break with flashes, floaters or a shadow in the vision", `${COLLEGE_C205}: symptomatic retinal breaks and tears; ${COLLEGE_A262}`);
-  if (f.retinalBreak && !symptomatic) add("soon", "Retinal break without symptoms", `${COMMON}: an asymptomatic hole or tear does not always lead to detachment (College of Optometrists, Guidance for Professional Practice, A263); refer for an opinion`);
-  if (f.vitreousPigment) add("same_day", "Pigment in the anterior vitreous (tobacco dust)", `${COLLEGE_A262}; ${COLLEGE_C205}: vitreous detachment symptoms with pigment in the vitreous`);
+  if (f.retinalDetachment)
+    add("same_day", "Retinal detachment", `${COLLEGE_C205}: retinal detachment unless long-standing and asymptomatic`);
+  if (f.retinalBreak && symptomatic)
+    add(
+      "same_day",
+      "Retinal break with flashes, floaters or a shadow in the vision",
+      `${COLLEGE_C205}: symptomatic retinal breaks and tears; ${COLLEGE_A262}`,
+    );
+  if (f.retinalBreak && !symptomatic)
+    add(
+      "soon",
+      "Retinal break without symptoms",
+      `${COMMON}: an asymptomatic hole or tear does not always lead to detachment (College of Optometrists, Guidance for Professional Practice, A263); refer for an opinion`,
+    );
+  if (f.vitreousPigment)
+    add(
+      "same_day",
+      "Pigment in the anterior vitreous (tobacco dust)",
+      `${COLLEGE_A262}; ${COLLEGE_C205}: vitreous detachment symptoms with pigment in the vitreous`,
+    );
   if (f.curtain && !f.retinalDetachment) add("same_day", "Shadow or curtain across the vision", COLLEGE_A97);
   if ((f.flashes || f.newFloaters) && !f.retinalBreak && !f.retinalDetachment && !f.vitreousPigment && !f.curtain) {
-    add("urgent", `New ${[f.flashes && "flashes", f.newFloaters && "floaters"].filter(Boolean).join(" and ")} without a retinal break found: refer unless a dilated examination of the peripheral retina has excluded a break`, `${COLLEGE_A259}; ${COMMON} for the urgency when the retina has not been fully examined`);
+    add(
+      "urgent",
+      `New ${[f.flashes && "flashes", f.newFloaters && "floaters"].filter(Boolean).join(" and ")} without a retinal break found: refer unless a dilated examination of the peripheral retina has excluded a break`,
+      `${COLLEGE_A259}; ${COMMON} for the urgency when the retina has not been fully examined`,
+    );
   }
 
   // Vision and pain.
-  if (f.suddenVisionLoss) add("same_day", "Sudden loss of vision", `${COLLEGE_C205}: unexplained sudden loss of vision`);
+  if (f.suddenVisionLoss)
+    add("same_day", "Sudden loss of vision", `${COLLEGE_C205}: unexplained sudden loss of vision`);
   if (f.severePain) add("same_day", "Sudden severe eye pain", `${COLLEGE_C205}: sudden severe ocular pain`);
 
   // Anterior segment.
-  if (f.anteriorChamberCells) add("same_day", `Cells in the anterior chamber (anterior uveitis)${f.redEye ? " with a red eye" : ""}`, `${COLLEGE_C205}: uveitis; ${COLLEGE_ANNEX4}: iritis/uveitis within 24 hours`);
+  if (f.anteriorChamberCells)
+    add(
+      "same_day",
+      `Cells in the anterior chamber (anterior uveitis)${f.redEye ? " with a red eye" : ""}`,
+      `${COLLEGE_C205}: uveitis; ${COLLEGE_ANNEX4}: iritis/uveitis within 24 hours`,
+    );
   if (f.hyphaema) add("same_day", "Blood in the anterior chamber (hyphaema)", `${COLLEGE_C205}: hyphaema`);
   if (f.hypopyon) add("same_day", "Pus in the anterior chamber (hypopyon)", `${COLLEGE_C205}: hypopyon`);
 
@@ -206,10 +271,20 @@ function eyeRules(eye: Eye, f: EyeFindings, input: TriageInput): TriageReason[] 
     const acute = f.severePain === true && f.redEye === true;
     if (acute && m > 30) {
       // common practice: a painful red eye with a raised pressure is acute angle closure until shown otherwise.
-      add("same_day", `Painful red eye with ${iopText(f)}: possible acute angle closure`, `${COLLEGE_C205}: acute glaucoma; ${COMMON} for the pressure level`);
+      add(
+        "same_day",
+        `Painful red eye with ${iopText(f)}: possible acute angle closure`,
+        `${COLLEGE_C205}: acute glaucoma; ${COMMON} for the pressure level`,
+      );
     }
-    if (m >= IOP_EMERGENCY_MMHG) add("same_day", `${iopText(f)}, ${IOP_EMERGENCY_MMHG} mmHg or more`, `${COLLEGE_C205}: IOP of 40 mmHg or more, independent of cause`);
-    else if (m > IOP_URGENT_ABOVE_MMHG) add("urgent", `${iopText(f)}, above ${IOP_URGENT_ABOVE_MMHG} mmHg`, `${COLLEGE_C205_URGENT}: IOP above 35 mmHg`);
+    if (m >= IOP_EMERGENCY_MMHG)
+      add(
+        "same_day",
+        `${iopText(f)}, ${IOP_EMERGENCY_MMHG} mmHg or more`,
+        `${COLLEGE_C205}: IOP of 40 mmHg or more, independent of cause`,
+      );
+    else if (m > IOP_URGENT_ABOVE_MMHG)
+      add("urgent", `${iopText(f)}, above ${IOP_URGENT_ABOVE_MMHG} mmHg`, `${COLLEGE_C205_URGENT}: IOP above 35 mmHg`);
     else if (m >= IOP_REFER_MMHG) {
       if (f.iopMethod === "applanation") {
         add("routine", `${iopText(f)}, ${IOP_REFER_MMHG} mmHg or more`, NICE_NG81_114);
@@ -219,27 +294,70 @@ function eyeRules(eye: Eye, f: EyeFindings, input: TriageInput): TriageReason[] 
   }
 
   // Optic nerve.
-  if (f.discSwelling) add("same_day", `Swollen optic disc (possible papilloedema)${input.headache ? " with headache" : ""}`, `${COLLEGE_C205}: papilloedema${input.headache ? `; ${BNSSG_PAPILLOEDEMA}` : ""}`);
+  if (f.discSwelling)
+    add(
+      "same_day",
+      `Swollen optic disc (possible papilloedema)${input.headache ? " with headache" : ""}`,
+      `${COLLEGE_C205}: papilloedema${input.headache ? `; ${BNSSG_PAPILLOEDEMA}` : ""}`,
+    );
   // An enlarged blind spot is how a swollen disc shows on the field plot (common practice).
   if (f.enlargedBlindSpot && !f.discSwelling) {
     if (input.headache) {
-      add("same_day", "Enlarged blind spot with headache: possible papilloedema (raised intracranial pressure)", `${COLLEGE_C205}: papilloedema; ${BNSSG_PAPILLOEDEMA}; ${COMMON}: an enlarged blind spot is a field sign of disc swelling`);
+      add(
+        "same_day",
+        "Enlarged blind spot with headache: possible papilloedema (raised intracranial pressure)",
+        `${COLLEGE_C205}: papilloedema; ${BNSSG_PAPILLOEDEMA}; ${COMMON}: an enlarged blind spot is a field sign of disc swelling`,
+      );
     } else {
-      add("soon", "Enlarged blind spot without headache: examine the optic discs for swelling", `${COMMON}: an enlarged blind spot is a field sign of disc swelling; ${NHS_SCOTLAND_PAPILLOEDEMA}`);
+      add(
+        "soon",
+        "Enlarged blind spot without headache: examine the optic discs for swelling",
+        `${COMMON}: an enlarged blind spot is a field sign of disc swelling; ${NHS_SCOTLAND_PAPILLOEDEMA}`,
+      );
     }
   }
-  if (f.rapd) add("urgent", "Relative afferent pupillary defect", `${COLLEGE_ANNEX4}: optic neuritis under urgent; ${COMMON}: a relative afferent pupillary defect signals optic nerve or extensive retinal disease`);
-  if (f.discHaemorrhage) add("soon", "Haemorrhage at the optic disc margin", `${COMMON}: a disc haemorrhage is a sign of glaucoma or its progression; ${NICE_NG81_111}`);
-  if (f.verticalCupDisc !== undefined && f.verticalCupDisc >= CUP_DISC_REFER - 1e-9) add("routine", `Vertical cup/disc ratio ${f.verticalCupDisc.toFixed(2)}, ${CUP_DISC_REFER.toFixed(1)} or more`, `${COMMON} (threshold); ${NICE_NG81_111}`);
+  if (f.rapd)
+    add(
+      "urgent",
+      "Relative afferent pupillary defect",
+      `${COLLEGE_ANNEX4}: optic neuritis under urgent; ${COMMON}: a relative afferent pupillary defect signals optic nerve or extensive retinal disease`,
+    );
+  if (f.discHaemorrhage)
+    add(
+      "soon",
+      "Haemorrhage at the optic disc margin",
+      `${COMMON}: a disc haemorrhage is a sign of glaucoma or its progression; ${NICE_NG81_111}`,
+    );
+  if (f.verticalCupDisc !== undefined && f.verticalCupDisc >= CUP_DISC_REFER - 1e-9)
+    add(
+      "routine",
+      `Vertical cup/disc ratio ${f.verticalCupDisc.toFixed(2)}, ${CUP_DISC_REFER.toFixed(1)} or more`,
+      `${COMMON} (threshold); ${NICE_NG81_111}`,
+    );
 
   // Macula.
-  if (f.suspectedWetAmd) add("urgent", "Suspected wet (neovascular) age-related macular degeneration", `${NICE_NG82}; ${COMMON}: local pathways fast-track these within a week or sooner`);
-  if (f.distortion && !f.suspectedWetAmd) add("urgent", "New distortion of straight lines (metamorphopsia)", `${COMMON}: new metamorphopsia is treated as wet AMD until shown otherwise; ${NICE_NG82}`);
+  if (f.suspectedWetAmd)
+    add(
+      "urgent",
+      "Suspected wet (neovascular) age-related macular degeneration",
+      `${NICE_NG82}; ${COMMON}: local pathways fast-track these within a week or sooner`,
+    );
+  if (f.distortion && !f.suspectedWetAmd)
+    add(
+      "urgent",
+      "New distortion of straight lines (metamorphopsia)",
+      `${COMMON}: new metamorphopsia is treated as wet AMD until shown otherwise; ${NICE_NG82}`,
+    );
 
   // Acuity change.
   if (f.vaLogMAR !== undefined && f.previousVaLogMAR !== undefined && !f.suddenVisionLoss) {
     const loss = f.vaLogMAR - f.previousVaLogMAR;
-    if (loss >= VA_LOSS_LOGMAR - 0.01) add("soon", `Best-corrected acuity ${loss.toFixed(2)} logMAR worse than at the previous visit (two lines or more)`, `${COMMON}; ${COLLEGE_ANNEX4}: a sudden change in vision within two weeks is urgent`);
+    if (loss >= VA_LOSS_LOGMAR - 0.01)
+      add(
+        "soon",
+        `Best-corrected acuity ${loss.toFixed(2)} logMAR worse than at the previous visit (two lines or more)`,
+        `${COMMON}; ${COLLEGE_ANNEX4}: a sudden change in vision within two weeks is urgent`,
+      );
   }
   void input;
   return out;
@@ -264,7 +382,9 @@ export function triage(input: TriageInput): TriageResult {
   // Both eyes: the same rule in R and L becomes one reason.
   const merged: TriageReason[] = [];
   for (const r of reasons) {
-    const twin = merged.find((m) => m.rule === r.rule && m.urgency === r.urgency && m.eye !== r.eye && m.eye !== "both");
+    const twin = merged.find(
+      (m) => m.rule === r.rule && m.urgency === r.urgency && m.eye !== r.eye && m.eye !== "both",
+    );
     if (twin) twin.eye = "both";
     else merged.push({ ...r });
   }
@@ -272,7 +392,12 @@ export function triage(input: TriageInput): TriageResult {
   const right = input.eyes.R?.verticalCupDisc;
   const left = input.eyes.L?.verticalCupDisc;
   if (right !== undefined && left !== undefined && Math.abs(right - left) >= CUP_DISC_ASYMMETRY - 1e-9) {
-    merged.push({ urgency: "routine", eye: "both", rule: `Cup/disc ratios differ between the eyes by ${Math.abs(right - left).toFixed(2)} (R ${right.toFixed(2)}, L ${left.toFixed(2)})`, source: `${COMMON} (asymmetry of 0.2 or more); ${NICE_NG81_111}` });
+    merged.push({
+      urgency: "routine",
+      eye: "both",
+      rule: `Cup/disc ratios differ between the eyes by ${Math.abs(right - left).toFixed(2)} (R ${right.toFixed(2)}, L ${left.toFixed(2)})`,
+      source: `${COMMON} (asymmetry of 0.2 or more); ${NICE_NG81_111}`,
+    });
   }
 
   if (input.gcaSymptoms) {
@@ -286,8 +411,16 @@ export function triage(input: TriageInput): TriageResult {
     const painful = input.eyes.R?.severePain === true || input.eyes.L?.severePain === true;
     merged.push(
       painful
-        ? { urgency: "same_day", rule: "New double vision with eye pain (possible third nerve palsy)", source: `${COLLEGE_C205}: third nerve palsy with pain` }
-        : { urgency: "urgent", rule: "New double vision", source: `${COMMON}: sudden-onset diplopia is on local urgent referral lists; ${COLLEGE_C205}: third nerve palsy with pain is an emergency` },
+        ? {
+            urgency: "same_day",
+            rule: "New double vision with eye pain (possible third nerve palsy)",
+            source: `${COLLEGE_C205}: third nerve palsy with pain`,
+          }
+        : {
+            urgency: "urgent",
+            rule: "New double vision",
+            source: `${COMMON}: sudden-onset diplopia is on local urgent referral lists; ${COLLEGE_C205}: third nerve palsy with pain is an emergency`,
+          },
     );
   }
 

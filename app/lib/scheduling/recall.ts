@@ -35,18 +35,28 @@ export function addMonths(date: string, months: number): string {
 }
 
 /** What the interval is chosen from: the exam's own plan first, then the visit type, then age. */
-export type RecallInput = { planRecallMonths?: number | null; typeRecallMonths: number | null; dateOfBirth: string; examDate: string };
+export type RecallInput = {
+  planRecallMonths?: number | null;
+  typeRecallMonths: number | null;
+  dateOfBirth: string;
+  examDate: string;
+};
 
 /** The recall interval after an exam on `examDate`, and which rule gave it. */
 export function recallInterval(input: RecallInput, settings: RecallSettings): { months: number; rule: RecallRule } {
   if (input.planRecallMonths) return { months: input.planRecallMonths, rule: "optometrist's plan" };
   if (input.typeRecallMonths) return { months: input.typeRecallMonths, rule: "visit type" };
   const child = ageOn(input.dateOfBirth, input.examDate) < settings.childUnderYears;
-  return child ? { months: settings.recallMonthsChild, rule: "child default" } : { months: settings.recallMonthsAdult, rule: "adult default" };
+  return child
+    ? { months: settings.recallMonthsChild, rule: "child default" }
+    : { months: settings.recallMonthsAdult, rule: "adult default" };
 }
 
 /** The day the patient is due again after a routine exam on `examDate`. */
-export function recallDueDate(input: RecallInput, settings: RecallSettings): { dueDate: string; months: number; rule: RecallRule } {
+export function recallDueDate(
+  input: RecallInput,
+  settings: RecallSettings,
+): { dueDate: string; months: number; rule: RecallRule } {
   const { months, rule } = recallInterval(input, settings);
   return { dueDate: addMonths(input.examDate, months), months, rule };
 }

@@ -41,14 +41,24 @@ describe("wall-clock times in Europe/London across daylight-saving changes", () 
     const { zonedIsoFormatter } = await import("./time");
     for (const tz of [LONDON, "America/New_York", "Asia/Kolkata", "Australia/Lord_Howe", "UTC"]) {
       const fast = zonedIsoFormatter(tz);
-      for (let t = Date.UTC(2027, 2, 27); t < Date.UTC(2027, 2, 29); t += 7 * 60_000) expect(fast(t)).toBe(toZonedIso(new Date(t), tz));
-      for (let t = Date.UTC(2027, 9, 30); t < Date.UTC(2027, 10, 1); t += 7 * 60_000) expect(fast(t)).toBe(toZonedIso(new Date(t), tz));
+      for (let t = Date.UTC(2027, 2, 27); t < Date.UTC(2027, 2, 29); t += 7 * 60_000)
+        expect(fast(t)).toBe(toZonedIso(new Date(t), tz));
+      for (let t = Date.UTC(2027, 9, 30); t < Date.UTC(2027, 10, 1); t += 7 * 60_000)
+        expect(fast(t)).toBe(toZonedIso(new Date(t), tz));
     }
   });
 
   it("reads local day, weekday and minute of an instant", () => {
-    expect(localParts(new Date("2027-03-28T23:30:00Z"), LONDON)).toEqual({ date: "2027-03-29", weekday: 1, minute: 30 });
-    expect(localParts(new Date("2027-10-31T23:30:00Z"), LONDON)).toEqual({ date: "2027-10-31", weekday: 7, minute: 23 * 60 + 30 });
+    expect(localParts(new Date("2027-03-28T23:30:00Z"), LONDON)).toEqual({
+      date: "2027-03-29",
+      weekday: 1,
+      minute: 30,
+    });
+    expect(localParts(new Date("2027-10-31T23:30:00Z"), LONDON)).toEqual({
+      date: "2027-10-31",
+      weekday: 7,
+      minute: 23 * 60 + 30,
+    });
   });
 
   it("does calendar arithmetic without time zones", () => {
@@ -60,21 +70,53 @@ describe("wall-clock times in Europe/London across daylight-saving changes", () 
 
 describe("working hours and breaks", () => {
   const hours = [1, 2, 3, 4, 5].map((weekday) => ({ weekday, startMinute: 9 * 60, endMinute: 17 * 60 }));
-  const breaks = [1, 2, 3, 4, 5].map((weekday) => ({ weekday, startMinute: 13 * 60, endMinute: 14 * 60, label: "Lunch" }));
+  const breaks = [1, 2, 3, 4, 5].map((weekday) => ({
+    weekday,
+    startMinute: 13 * 60,
+    endMinute: 14 * 60,
+    label: "Lunch",
+  }));
 
   it("accepts a slot inside the day and refuses one before opening, one in the lunch break, and a weekend", () => {
-    expect(checkWorkingHours(new Date("2027-03-29T08:00:00Z"), new Date("2027-03-29T08:30:00Z"), LONDON, hours, breaks)).toEqual({ ok: true });
-    const early = checkWorkingHours(new Date("2027-03-26T08:30:00Z"), new Date("2027-03-26T09:00:00Z"), LONDON, hours, breaks);
-    expect(early).toMatchObject({ ok: false, reason: expect.stringContaining("Outside the provider's working hours on Friday (09:00–17:00)") });
-    const lunch = checkWorkingHours(new Date("2027-03-29T12:30:00Z"), new Date("2027-03-29T13:00:00Z"), LONDON, hours, breaks);
+    expect(
+      checkWorkingHours(new Date("2027-03-29T08:00:00Z"), new Date("2027-03-29T08:30:00Z"), LONDON, hours, breaks),
+    ).toEqual({ ok: true });
+    const early = checkWorkingHours(
+      new Date("2027-03-26T08:30:00Z"),
+      new Date("2027-03-26T09:00:00Z"),
+      LONDON,
+      hours,
+      breaks,
+    );
+    expect(early).toMatchObject({
+      ok: false,
+      reason: expect.stringContaining("Outside the provider's working hours on Friday (09:00–17:00)"),
+    });
+    const lunch = checkWorkingHours(
+      new Date("2027-03-29T12:30:00Z"),
+      new Date("2027-03-29T13:00:00Z"),
+      LONDON,
+      hours,
+      breaks,
+    );
     expect(lunch).toMatchObject({ ok: false, reason: expect.stringContaining("lunch") });
-    const sunday = checkWorkingHours(new Date("2027-03-28T10:00:00Z"), new Date("2027-03-28T10:30:00Z"), LONDON, hours, breaks);
+    const sunday = checkWorkingHours(
+      new Date("2027-03-28T10:00:00Z"),
+      new Date("2027-03-28T10:30:00Z"),
+      LONDON,
+      hours,
+      breaks,
+    );
     expect(sunday).toMatchObject({ ok: false, reason: "The provider does not work on Sundays." });
   });
 
   it("judges 08:30Z as 09:30 BST (open) after the spring change, though it is 08:30 GMT (closed) the Friday before", () => {
-    expect(checkWorkingHours(new Date("2027-03-29T08:30:00Z"), new Date("2027-03-29T09:00:00Z"), LONDON, hours).ok).toBe(true);
-    expect(checkWorkingHours(new Date("2027-03-26T08:30:00Z"), new Date("2027-03-26T09:00:00Z"), LONDON, hours).ok).toBe(false);
+    expect(
+      checkWorkingHours(new Date("2027-03-29T08:30:00Z"), new Date("2027-03-29T09:00:00Z"), LONDON, hours).ok,
+    ).toBe(true);
+    expect(
+      checkWorkingHours(new Date("2027-03-26T08:30:00Z"), new Date("2027-03-26T09:00:00Z"), LONDON, hours).ok,
+    ).toBe(false);
   });
 
   it("lists a day's slots at the same wall times on both sides of a change", () => {
@@ -90,15 +132,28 @@ describe("working hours and breaks", () => {
 describe("recall due dates", () => {
   const settings = { recallMonthsChild: 12, recallMonthsAdult: 24, childUnderYears: 16 };
   it("uses 12 months for a child and 24 for an adult unless the visit type sets its own", () => {
-    expect(recallDueDate({ typeRecallMonths: null, dateOfBirth: "2015-06-01", examDate: "2026-05-10" }, settings)).toEqual({ dueDate: "2027-05-10", months: 12, rule: "child default" });
-    expect(recallDueDate({ typeRecallMonths: null, dateOfBirth: "1979-04-17", examDate: "2026-05-10" }, settings)).toEqual({ dueDate: "2028-05-10", months: 24, rule: "adult default" });
-    expect(recallDueDate({ typeRecallMonths: 6, dateOfBirth: "1979-04-17", examDate: "2026-05-10" }, settings)).toEqual({ dueDate: "2026-11-10", months: 6, rule: "visit type" });
-    expect(recallDueDate({ planRecallMonths: 3, typeRecallMonths: 6, dateOfBirth: "1979-04-17", examDate: "2026-05-10" }, settings)).toEqual({ dueDate: "2026-08-10", months: 3, rule: "optometrist's plan" });
+    expect(
+      recallDueDate({ typeRecallMonths: null, dateOfBirth: "2015-06-01", examDate: "2026-05-10" }, settings),
+    ).toEqual({ dueDate: "2027-05-10", months: 12, rule: "child default" });
+    expect(
+      recallDueDate({ typeRecallMonths: null, dateOfBirth: "1979-04-17", examDate: "2026-05-10" }, settings),
+    ).toEqual({ dueDate: "2028-05-10", months: 24, rule: "adult default" });
+    expect(recallDueDate({ typeRecallMonths: 6, dateOfBirth: "1979-04-17", examDate: "2026-05-10" }, settings)).toEqual(
+      { dueDate: "2026-11-10", months: 6, rule: "visit type" },
+    );
+    expect(
+      recallDueDate(
+        { planRecallMonths: 3, typeRecallMonths: 6, dateOfBirth: "1979-04-17", examDate: "2026-05-10" },
+        settings,
+      ),
+    ).toEqual({ dueDate: "2026-08-10", months: 3, rule: "optometrist's plan" });
   });
   it("counts age in whole years on the exam day; a 16th birthday makes an adult", () => {
     expect(ageOn("2010-05-10", "2026-05-09")).toBe(15);
     expect(ageOn("2010-05-10", "2026-05-10")).toBe(16);
-    expect(recallDueDate({ typeRecallMonths: null, dateOfBirth: "2010-05-10", examDate: "2026-05-10" }, settings).rule).toBe("adult default");
+    expect(
+      recallDueDate({ typeRecallMonths: null, dateOfBirth: "2010-05-10", examDate: "2026-05-10" }, settings).rule,
+    ).toBe("adult default");
   });
   it("clamps to the end of a shorter month", () => {
     expect(addMonths("2027-01-31", 1)).toBe("2027-02-28");

@@ -1,5 +1,13 @@
 /** The day flow of an appointment and the words shown for each status. */
-export const APPOINTMENT_STATUSES = ["booked", "confirmed", "arrived", "in_exam", "completed", "cancelled", "no_show"] as const;
+export const APPOINTMENT_STATUSES = [
+  "booked",
+  "confirmed",
+  "arrived",
+  "in_exam",
+  "completed",
+  "cancelled",
+  "no_show",
+] as const;
 export type Status = (typeof APPOINTMENT_STATUSES)[number];
 
 /** Statuses that hold the provider's time (the exclusion constraint ignores the others). */

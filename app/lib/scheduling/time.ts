@@ -91,9 +91,20 @@ export function toZonedIso(at: Date, timeZone: string): string {
 
 /** "Mon 29 Mar 2027, 09:00" in the practice's zone. */
 export function formatLocal(at: Date, timeZone: string, opts: { withDate?: boolean } = {}): string {
-  const time = new Intl.DateTimeFormat("en-GB", { timeZone, hour: "2-digit", minute: "2-digit", hourCycle: "h23" }).format(at);
+  const time = new Intl.DateTimeFormat("en-GB", {
+    timeZone,
+    hour: "2-digit",
+    minute: "2-digit",
+    hourCycle: "h23",
+  }).format(at);
   if (opts.withDate === false) return time;
-  const parts = new Intl.DateTimeFormat("en-GB", { timeZone, weekday: "short", day: "numeric", month: "short", year: "numeric" }).formatToParts(at);
+  const parts = new Intl.DateTimeFormat("en-GB", {
+    timeZone,
+    weekday: "short",
+    day: "numeric",
+    month: "short",
+    year: "numeric",
+  }).formatToParts(at);
   const part = (type: string) => parts.find((p) => p.type === type)?.value ?? "";
   return `${part("weekday")} ${part("day")} ${part("month")} ${part("year")}, ${time}`;
 }
@@ -112,7 +123,15 @@ export function isValidTimeZone(tz: string): boolean {
  * UTC (offsets only change on quarter hours), so a week of events costs a few hundred look-ups.
  */
 export function zonedIsoFormatter(timeZone: string): (ms: number) => string {
-  const fmt = new Intl.DateTimeFormat("en-GB", { timeZone, year: "numeric", month: "2-digit", day: "2-digit", hour: "2-digit", minute: "2-digit", hourCycle: "h23" });
+  const fmt = new Intl.DateTimeFormat("en-GB", {
+    timeZone,
+    year: "numeric",
+    month: "2-digit",
+    day: "2-digit",
+    hour: "2-digit",
+    minute: "2-digit",
+    hourCycle: "h23",
+  });
   const cache = new Map<number, number>();
   const offsetMinutes = (ms: number) => {
     // Offsets change on whole quarter hours of UTC; keying by quarter hour is exact for every zone.

@@ -43,13 +43,17 @@ export function signPayLink(invoiceId: string, now = Date.now(), ttlMs = PAY_LIN
   return `${invoiceId}.${expires}.${payLinkSignature(secret, invoiceId, expires)}`;
 }
 
-export type PayLinkCheck = { ok: true; invoiceId: string; expiresAt: Date } | { ok: false; reason: "invalid" | "expired" };
+export type PayLinkCheck =
+  { ok: true; invoiceId: string; expiresAt: Date } | { ok: false; reason: "invalid" | "expired" };
 
 /** Checks a pay-link token in constant time against every current secret (rotation). */
 export function verifyPayLink(token: string, now = Date.now()): PayLinkCheck {
   // One spelling only: a lower-case uuid, the expiry without leading zeros, the signature's
   // exact base64url text.
-  const m = /^([0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12})\.([1-9]\d{0,11})\.([A-Za-z0-9_-]{43})$/.exec(token);
+  const m =
+    /^([0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12})\.([1-9]\d{0,11})\.([A-Za-z0-9_-]{43})$/.exec(
+      token,
+    );
   if (!m) return { ok: false, reason: "invalid" };
   const [, invoiceId, exp, sig] = m;
   // Compared as text, not decoded bytes: base64url's last character carries spare bits, and a
@@ -86,15 +90,23 @@ export async function startCheckout(invoiceId: string, returnPath: string): Prom
       if (!inv) throw new BillingError("There is no such invoice.", 404);
       const i = inv.invoice;
       if (i.status === "paid") throw new BillingError("This invoice is already paid. Thank you.", 409);
-      if (i.status !== "open" && i.status !== "partially_paid") throw new BillingError("This invoice cannot be paid online. Please contact the practice.", 409);
+      if (i.status !== "open" && i.status !== "partially_paid")
+        throw new BillingError("This invoice cannot be paid online. Please contact the practice.", 409);
       const due = i.totalMinor - i.paidMinor;
-      const [pending] = await tx.select().from(payments).where(and(eq(payments.invoiceId, i.id), eq(payments.status, "pending"), eq(payments.method, "card_online"))).for("update");
+      const [pending] = await tx
+        .select()
+        .from(payments)
+        .where(and(eq(payments.invoiceId, i.id), eq(payments.status, "pending"), eq(payments.method, "card_online")))
+        .for("update");
       if (pending) {
         const fresh = pending.checkoutExpiresAt && pending.checkoutExpiresAt.getTime() > Date.now() + 5 * 60_000;
         if (pending.amountMinor === due && fresh && pending.checkoutUrl) return pending.checkoutUrl;
         await closePendingCheckout(tx, pending.id, "Replaced by a new checkout.");
       }
-      const [p] = await tx.insert(payments).values({ invoiceId: i.id, method: "card_online", status: "pending", amountMinor: due, currency: i.currency }).returning({ id: payments.id });
+      const [p] = await tx
+        .insert(payments)
+        .values({ invoiceId: i.id, method: "card_online", status: "pending", amountMinor: due, currency: i.currency })
+        .returning({ id: payments.id });
       const label = invoiceLabel(i.number);
       const back = absoluteUrl(returnPath);
       const sep = back.includes("?") ? "&" : "?";
@@ -106,7 +118,16 @@ export async function startCheckout(invoiceId: string, returnPath: string): Prom
         {
           mode: "payment",
           allowed_payment_method_types: ["card"],
-          line_items: [{ quantity: 1, price_data: { currency: i.currency.toLowerCase(), unit_amount: due, product_data: { name: `Invoice ${label}` } } }],
+          line_items: [
+            {
+              quantity: 1,
+              price_data: {
+                currency: i.currency.toLowerCase(),
+                unit_amount: due,
+                product_data: { name: `Invoice ${label}` },
+              },
+            },
+          ],
           client_reference_id: p!.id,
           customer_email: inv.email ?? undefined,
           metadata,
@@ -120,16 +141,36 @@ export async function startCheckout(invoiceId: string, returnPath: string): Prom
       if (!session.url) throw new BillingError("Stripe did not return a checkout page.", 502);
       await tx
         .update(payments)
-        .set({ stripeCheckoutSessionId: session.id, checkoutUrl: session.url, checkoutExpiresAt: new Date((session.expires_at ?? expiresAt) * 1000) })
+        .set({
+          stripeCheckoutSessionId: session.id,
+          checkoutUrl: session.url,
+          checkoutExpiresAt: new Date((session.expires_at ?? expiresAt) * 1000),
+        })
         .where(eq(payments.id, p!.id));
-      await audit({ action: "billing.checkout_started", entityType: "payment", entityId: p!.id, patientId: i.patientId, detail: { invoiceId: i.id, amountMinor: due, session: session.id } }, tx);
+      await audit(
+        {
+          action: "billing.checkout_started",
+          entityType: "payment",
+          entityId: p!.id,
+          patientId: i.patientId,
+          detail: { invoiceId: i.id, amountMinor: due, session: session.id },
+        },
+        tx,
+      );
       return session.url;
     });
   } catch (error) {
     if (error instanceof BillingError) throw error;
-    if (isStripeUnreachable(error)) throw new BillingError("Card payments are not available right now: the payment service could not be reached. Nothing has been charged. Please try again in a few minutes, or pay at the practice.", 503);
+    if (isStripeUnreachable(error))
+      throw new BillingError(
+        "Card payments are not available right now: the payment service could not be reached. Nothing has been charged. Please try again in a few minutes, or pay at the practice.",
+        503,
+      );
     if (error instanceof Stripe.errors.StripeError) {
-      throw new BillingError(`The payment service refused to start the payment (${error.message}). Nothing has been charged.`, 502);
+      throw new BillingError(
+        `The payment service refused to start the payment (${error.message}). Nothing has been charged.`,
+        502,
+      );
     }
     throw error;
   }
@@ -149,15 +190,30 @@ async function paymentById(tx: Tx, id: string | undefined) {
   return p ?? null;
 }
 
-async function onCheckoutCompleted(tx: Tx, event: Stripe.Event, s: Stripe.Checkout.Session): Promise<EventOutcome & { paymentId?: string }> {
+async function onCheckoutCompleted(
+  tx: Tx,
+  event: Stripe.Event,
+  s: Stripe.Checkout.Session,
+): Promise<EventOutcome & { paymentId?: string }> {
   const p = (await paymentBySession(tx, s.id)) ?? (await paymentById(tx, s.metadata?.payment_id));
   if (!p) return { outcome: "ignored: no payment for this checkout session" };
-  if (p.status === "succeeded" || p.status === "flagged") return { outcome: `ignored: payment already ${p.status}`, paymentId: p.id };
+  if (p.status === "succeeded" || p.status === "flagged")
+    return { outcome: `ignored: payment already ${p.status}`, paymentId: p.id };
   if (s.payment_status !== "paid") {
     if (p.status !== "pending") return { outcome: `ignored: payment already ${p.status}`, paymentId: p.id };
     // A method that settles later: nothing is received until async_payment_succeeded.
-    await tx.update(payments).set({ problem: "Payment started; the bank has not confirmed it yet.", lastEventCreated: event.created, updatedAt: new Date() }).where(eq(payments.id, p.id));
-    return { outcome: `awaiting settlement: checkout completed with payment_status ${s.payment_status}`, paymentId: p.id };
+    await tx
+      .update(payments)
+      .set({
+        problem: "Payment started; the bank has not confirmed it yet.",
+        lastEventCreated: event.created,
+        updatedAt: new Date(),
+      })
+      .where(eq(payments.id, p.id));
+    return {
+      outcome: `awaiting settlement: checkout completed with payment_status ${s.payment_status}`,
+      paymentId: p.id,
+    };
   }
   const [inv] = await tx.select().from(invoices).where(eq(invoices.id, p.invoiceId)).for("update");
   if (!inv) return { outcome: "ignored: invoice missing", paymentId: p.id };
@@ -165,47 +221,117 @@ async function onCheckoutCompleted(tx: Tx, event: Stripe.Event, s: Stripe.Checko
   const due = inv.totalMinor - inv.paidMinor;
   const intent = typeof s.payment_intent === "string" ? s.payment_intent : (s.payment_intent?.id ?? null);
   let problem: string | null = null;
-  if ((s.currency ?? "").toUpperCase() !== p.currency.toUpperCase()) problem = `Paid in ${String(s.currency).toUpperCase()}, but the invoice is in ${p.currency}.`;
-  else if (s.metadata?.invoice_id && s.metadata.invoice_id !== inv.id) problem = "The checkout names a different invoice.";
-  else if (amount !== p.amountMinor) problem = `Stripe reports ${formatMoney(amount, p.currency)} paid, but this checkout was for ${formatMoney(p.amountMinor, p.currency)}.`;
+  if ((s.currency ?? "").toUpperCase() !== p.currency.toUpperCase())
+    problem = `Paid in ${String(s.currency).toUpperCase()}, but the invoice is in ${p.currency}.`;
+  else if (s.metadata?.invoice_id && s.metadata.invoice_id !== inv.id)
+    problem = "The checkout names a different invoice.";
+  else if (amount !== p.amountMinor)
+    problem = `Stripe reports ${formatMoney(amount, p.currency)} paid, but this checkout was for ${formatMoney(p.amountMinor, p.currency)}.`;
   else if (inv.status === "void") problem = "The invoice was voided before the payment arrived.";
-  else if (amount > due) problem = `The payment of ${formatMoney(amount, p.currency)} is more than the ${formatMoney(due, p.currency)} still due (it may have been paid at the desk meanwhile).`;
-  const base = { stripePaymentIntentId: intent, receivedAt: new Date(event.created * 1000), lastEventCreated: event.created, updatedAt: new Date() };
+  else if (amount > due)
+    problem = `The payment of ${formatMoney(amount, p.currency)} is more than the ${formatMoney(due, p.currency)} still due (it may have been paid at the desk meanwhile).`;
+  const base = {
+    stripePaymentIntentId: intent,
+    receivedAt: new Date(event.created * 1000),
+    lastEventCreated: event.created,
+    updatedAt: new Date(),
+  };
   if (problem) {
-    await tx.update(payments).set({ ...base, status: "flagged", amountMinor: amount > 0 ? amount : p.amountMinor, problem: `Not accepted: ${problem} Check it in Stripe and refund or reconcile by hand.` }).where(eq(payments.id, p.id));
-    await audit({ action: "billing.payment_flagged", entityType: "payment", entityId: p.id, patientId: inv.patientId, detail: { event: event.id, problem, amountMinor: amount } }, tx);
+    await tx
+      .update(payments)
+      .set({
+        ...base,
+        status: "flagged",
+        amountMinor: amount > 0 ? amount : p.amountMinor,
+        problem: `Not accepted: ${problem} Check it in Stripe and refund or reconcile by hand.`,
+      })
+      .where(eq(payments.id, p.id));
+    await audit(
+      {
+        action: "billing.payment_flagged",
+        entityType: "payment",
+        entityId: p.id,
+        patientId: inv.patientId,
+        detail: { event: event.id, problem, amountMinor: amount },
+      },
+      tx,
+    );
     return { outcome: `flagged: ${problem}`, paymentId: p.id };
   }
-  await tx.update(payments).set({ ...base, status: "succeeded", problem: null }).where(eq(payments.id, p.id));
+  await tx
+    .update(payments)
+    .set({ ...base, status: "succeeded", problem: null })
+    .where(eq(payments.id, p.id));
   await applyPaid(tx, inv, amount);
-  await audit({ action: "billing.payment_succeeded", entityType: "payment", entityId: p.id, patientId: inv.patientId, detail: { event: event.id, amountMinor: amount, invoiceId: inv.id } }, tx);
+  await audit(
+    {
+      action: "billing.payment_succeeded",
+      entityType: "payment",
+      entityId: p.id,
+      patientId: inv.patientId,
+      detail: { event: event.id, amountMinor: amount, invoiceId: inv.id },
+    },
+    tx,
+  );
   return { outcome: "payment succeeded", paymentId: p.id, receiptPaymentId: p.id };
 }
 
-async function onPaymentFailed(tx: Tx, event: Stripe.Event, pi: Stripe.PaymentIntent): Promise<EventOutcome & { paymentId?: string }> {
+async function onPaymentFailed(
+  tx: Tx,
+  event: Stripe.Event,
+  pi: Stripe.PaymentIntent,
+): Promise<EventOutcome & { paymentId?: string }> {
   const p = await paymentById(tx, pi.metadata?.payment_id);
   if (!p) return { outcome: "ignored: no payment for this payment intent" };
   if (p.status !== "pending") return { outcome: `ignored: payment already ${p.status}`, paymentId: p.id };
-  if (p.lastEventCreated && p.lastEventCreated > event.created) return { outcome: "ignored: older than the last event applied", paymentId: p.id };
+  if (p.lastEventCreated && p.lastEventCreated > event.created)
+    return { outcome: "ignored: older than the last event applied", paymentId: p.id };
   const message = pi.last_payment_error?.message ?? "The card payment did not go through.";
   // The checkout stays open (the patient may try another card); only the message is kept.
-  await tx.update(payments).set({ problem: message, lastEventCreated: event.created, updatedAt: new Date() }).where(eq(payments.id, p.id));
+  await tx
+    .update(payments)
+    .set({ problem: message, lastEventCreated: event.created, updatedAt: new Date() })
+    .where(eq(payments.id, p.id));
   return { outcome: `attempt failed: ${message}`, paymentId: p.id };
 }
 
-async function onAsyncPaymentFailed(tx: Tx, event: Stripe.Event, s: Stripe.Checkout.Session): Promise<EventOutcome & { paymentId?: string }> {
+async function onAsyncPaymentFailed(
+  tx: Tx,
+  event: Stripe.Event,
+  s: Stripe.Checkout.Session,
+): Promise<EventOutcome & { paymentId?: string }> {
   const p = (await paymentBySession(tx, s.id)) ?? (await paymentById(tx, s.metadata?.payment_id));
   if (!p) return { outcome: "ignored: no payment for this checkout session" };
   if (p.status !== "pending") return { outcome: `ignored: payment already ${p.status}`, paymentId: p.id };
-  await tx.update(payments).set({ status: "failed", problem: "The bank did not complete the payment.", lastEventCreated: event.created, updatedAt: new Date() }).where(eq(payments.id, p.id));
+  await tx
+    .update(payments)
+    .set({
+      status: "failed",
+      problem: "The bank did not complete the payment.",
+      lastEventCreated: event.created,
+      updatedAt: new Date(),
+    })
+    .where(eq(payments.id, p.id));
   return { outcome: "payment failed after checkout", paymentId: p.id };
 }
 
-async function onCheckoutExpired(tx: Tx, event: Stripe.Event, s: Stripe.Checkout.Session): Promise<EventOutcome & { paymentId?: string }> {
+async function onCheckoutExpired(
+  tx: Tx,
+  event: Stripe.Event,
+  s: Stripe.Checkout.Session,
+): Promise<EventOutcome & { paymentId?: string }> {
   const p = await paymentBySession(tx, s.id);
   if (!p) return { outcome: "ignored: no payment for this checkout session" };
   if (p.status !== "pending") return { outcome: `ignored: payment already ${p.status}`, paymentId: p.id };
-  await tx.update(payments).set({ status: "failed", problem: p.problem ?? "The checkout expired before a payment was made.", lastEventCreated: event.created, updatedAt: new Date() }).where(eq(payments.id, p.id));
+  await tx
+    .update(payments)
+    .set({
+      status: "failed",
+      problem: p.problem ?? "The checkout expired before a payment was made.",
+      lastEventCreated: event.created,
+      updatedAt: new Date(),
+    })
+    .where(eq(payments.id, p.id));
   return { outcome: "checkout expired", paymentId: p.id };
 }
 
@@ -214,7 +340,13 @@ export async function processStripeEvent(event: Stripe.Event): Promise<EventOutc
   return db.transaction(async (tx) => {
     const inserted = await tx
       .insert(stripeEvents)
-      .values({ id: event.id, type: event.type, created: event.created, outcome: "processing", payload: event as unknown as Record<string, unknown> })
+      .values({
+        id: event.id,
+        type: event.type,
+        created: event.created,
+        outcome: "processing",
+        payload: event as unknown as Record<string, unknown>,
+      })
       .onConflictDoNothing({ target: stripeEvents.id })
       .returning({ id: stripeEvents.id });
     if (!inserted.length) return { outcome: "duplicate: already processed", duplicate: true };
@@ -238,7 +370,10 @@ export async function processStripeEvent(event: Stripe.Event): Promise<EventOutc
         // own refund call) carry what the app needs, so these are recorded but change nothing.
         result = { outcome: `ignored: ${event.type} is not used` };
     }
-    await tx.update(stripeEvents).set({ outcome: result.outcome, paymentId: result.paymentId ?? null }).where(eq(stripeEvents.id, event.id));
+    await tx
+      .update(stripeEvents)
+      .set({ outcome: result.outcome, paymentId: result.paymentId ?? null })
+      .where(eq(stripeEvents.id, event.id));
     return { outcome: result.outcome, receiptPaymentId: result.receiptPaymentId };
   });
 }
@@ -246,7 +381,13 @@ export async function processStripeEvent(event: Stripe.Event): Promise<EventOutc
 /** Latest online attempt of an invoice, for messages on the pay page. */
 export async function latestOnlineAttempt(invoiceId: string) {
   const [p] = await db
-    .select({ id: payments.id, status: payments.status, problem: payments.problem, amountMinor: payments.amountMinor, updatedAt: payments.updatedAt })
+    .select({
+      id: payments.id,
+      status: payments.status,
+      problem: payments.problem,
+      amountMinor: payments.amountMinor,
+      updatedAt: payments.updatedAt,
+    })
     .from(payments)
     .where(and(eq(payments.invoiceId, invoiceId), eq(payments.method, "card_online")))
     .orderBy(sql`${payments.createdAt} desc`)

@@ -17,7 +17,13 @@ import { BillingError, invoiceDetail, invoiceLabel, practiceBilling } from "./in
 export const METHOD_LABEL = { cash: "Cash", card_desk: "Card at the desk", card_online: "Card online" } as const;
 
 export function formatDate(d: Date, timeZone: string, withTime = false) {
-  return new Intl.DateTimeFormat("en-GB", { timeZone, day: "numeric", month: "long", year: "numeric", ...(withTime ? { hour: "2-digit", minute: "2-digit" } : {}) }).format(d);
+  return new Intl.DateTimeFormat("en-GB", {
+    timeZone,
+    day: "numeric",
+    month: "long",
+    year: "numeric",
+    ...(withTime ? { hour: "2-digit", minute: "2-digit" } : {}),
+  }).format(d);
 }
 
 type Detail = NonNullable<Awaited<ReturnType<typeof invoiceDetail>>>;
@@ -31,7 +37,11 @@ export async function invoiceSiteOf(d: Detail) {
 
 /** "Practice · Site", then the site's address and phone (the practice's phone if the site has none). */
 function siteSignature(practice: { name: string; phone: string; email: string }, site: typeof sites.$inferSelect) {
-  return [`${practice.name} · ${site.name}`, siteAddress(site), [site.phone || practice.phone, practice.email].filter(Boolean).join(" · ")].filter(Boolean);
+  return [
+    `${practice.name} · ${site.name}`,
+    siteAddress(site),
+    [site.phone || practice.phone, practice.email].filter(Boolean).join(" · "),
+  ].filter(Boolean);
 }
 
 /** A PDF of the invoice (kind "invoice") or a receipt for one payment (kind "receipt"). */
@@ -48,7 +58,9 @@ export async function billingPdf(d: Detail, kind: "invoice" | "receipt", payment
     name: practice.name,
     lines: [
       site.name,
-      [site.addressLine1, site.addressLine2, [site.city, site.postcode].filter(Boolean).join(" ")].filter(Boolean).join(", "),
+      [site.addressLine1, site.addressLine2, [site.city, site.postcode].filter(Boolean).join(" ")]
+        .filter(Boolean)
+        .join(", "),
       [site.phone || practice.phone, practice.email].filter(Boolean).join(" · "),
     ].filter(Boolean),
   };
@@ -59,7 +71,9 @@ export async function billingPdf(d: Detail, kind: "invoice" | "receipt", payment
     label: kind === "invoice" ? "INVOICE" : "RECEIPT",
   });
   const patientName = `${d.patient.firstName} ${d.patient.lastName}`;
-  const patientAddress = [d.patient.addressLine1, [d.patient.city, d.patient.postcode].filter(Boolean).join(" ")].filter(Boolean).join("\n");
+  const patientAddress = [d.patient.addressLine1, [d.patient.city, d.patient.postcode].filter(Boolean).join(" ")]
+    .filter(Boolean)
+    .join("\n");
   pdf.keyValues([
     ["Billed to", [patientName, patientAddress].filter(Boolean).join("\n")],
     ["Invoice number", label],
@@ -87,10 +101,15 @@ export async function billingPdf(d: Detail, kind: "invoice" | "receipt", payment
         formatMoney(l.grossMinor, cur),
       ]),
     });
-    const rows: { label: string; value: string; bold?: boolean }[] = [{ label: "Subtotal", value: formatMoney(d.invoice.subtotalMinor, cur) }];
+    const rows: { label: string; value: string; bold?: boolean }[] = [
+      { label: "Subtotal", value: formatMoney(d.invoice.subtotalMinor, cur) },
+    ];
     if (d.invoice.discountMinor) rows.push({ label: "Discount", value: formatMoney(-d.invoice.discountMinor, cur) });
     rows.push(
-      { label: `Tax (${formatRate(d.invoice.taxRateBp)} on standard-rated lines)`, value: formatMoney(d.invoice.taxMinor, cur) },
+      {
+        label: `Tax (${formatRate(d.invoice.taxRateBp)} on standard-rated lines)`,
+        value: formatMoney(d.invoice.taxMinor, cur),
+      },
       { label: "Total", value: formatMoney(d.invoice.totalMinor, cur), bold: true },
       { label: "Paid", value: formatMoney(d.invoice.paidMinor, cur) },
       { label: "Amount due", value: formatMoney(d.invoice.totalMinor - d.invoice.paidMinor, cur), bold: true },
@@ -111,18 +130,29 @@ export async function billingPdf(d: Detail, kind: "invoice" | "receipt", payment
     pdf.keyValues(rows, 150);
   }
   pdf.spacer(10);
-  pdf.paragraph("Thank you. Please quote the invoice number with any question about this bill.", { size: 9, muted: true });
+  pdf.paragraph("Thank you. Please quote the invoice number with any question about this bill.", {
+    size: 9,
+    muted: true,
+  });
   return pdf.finish();
 }
 
-export const STATUS_WORD = { draft: "Draft", open: "Open — awaiting payment", partially_paid: "Part paid", paid: "Paid", void: "Void" } as const;
+export const STATUS_WORD = {
+  draft: "Draft",
+  open: "Open — awaiting payment",
+  partially_paid: "Part paid",
+  paid: "Paid",
+  void: "Void",
+} as const;
 
 /** E-mails the invoice PDF and a signed, expiring pay-by-link to the patient. */
 export async function emailInvoice(invoiceId: string, actorUserId: string, request?: Request) {
   const d = await invoiceDetail(invoiceId);
   if (!d) throw new BillingError("There is no such invoice.", 404);
-  if (d.invoice.status !== "open" && d.invoice.status !== "partially_paid") throw new BillingError("Only an issued invoice with money due can be e-mailed for payment.", 409);
-  if (!d.patient.email) throw new BillingError("This patient has no e-mail address. Add one to their record first.", 400);
+  if (d.invoice.status !== "open" && d.invoice.status !== "partially_paid")
+    throw new BillingError("Only an issued invoice with money due can be e-mailed for payment.", 409);
+  if (!d.patient.email)
+    throw new BillingError("This patient has no e-mail address. Add one to their record first.", 400);
   const practice = await practiceBilling();
   const token = signPayLink(invoiceId);
   const link = payLinkUrl(token);
@@ -148,13 +178,24 @@ export async function emailInvoice(invoiceId: string, actorUserId: string, reque
     attachments: [{ filename: `invoice-${label}.pdf`, content: Buffer.from(pdf), contentType: "application/pdf" }],
   });
   await db.update(invoices).set({ payLinkSentAt: new Date() }).where(eq(invoices.id, invoiceId));
-  await audit({ action: "billing.invoice_emailed", actorUserId, entityType: "invoice", entityId: invoiceId, patientId: d.patient.id, detail: { to: d.patient.email }, request });
+  await audit({
+    action: "billing.invoice_emailed",
+    actorUserId,
+    entityType: "invoice",
+    entityId: invoiceId,
+    patientId: d.patient.id,
+    detail: { to: d.patient.email },
+    request,
+  });
   return { to: d.patient.email };
 }
 
 /** E-mails the receipt of a succeeded payment; null when the patient has no e-mail address. */
 export async function emailReceipt(paymentId: string, actorUserId: string | null = null) {
-  const [p] = await db.select({ invoiceId: payments.invoiceId, status: payments.status }).from(payments).where(eq(payments.id, paymentId));
+  const [p] = await db
+    .select({ invoiceId: payments.invoiceId, status: payments.status })
+    .from(payments)
+    .where(eq(payments.id, paymentId));
   if (!p || p.status !== "succeeded") throw new BillingError("Only a received payment has a receipt.", 409);
   const d = await invoiceDetail(p.invoiceId);
   if (!d) throw new BillingError("There is no such invoice.", 404);
@@ -171,7 +212,9 @@ export async function emailReceipt(paymentId: string, actorUserId: string | null
       `Dear ${d.patient.firstName},`,
       "",
       `Thank you. We have received ${formatMoney(pay.amountMinor, d.invoice.currency)} (${METHOD_LABEL[pay.method].toLowerCase()}) for invoice ${label}.`,
-      d.invoice.totalMinor - d.invoice.paidMinor > 0 ? `${formatMoney(d.invoice.totalMinor - d.invoice.paidMinor, d.invoice.currency)} is still due on it.` : "The invoice is now paid in full.",
+      d.invoice.totalMinor - d.invoice.paidMinor > 0
+        ? `${formatMoney(d.invoice.totalMinor - d.invoice.paidMinor, d.invoice.currency)} is still due on it.`
+        : "The invoice is now paid in full.",
       "",
       "Your receipt is attached.",
       "",
@@ -180,7 +223,14 @@ export async function emailReceipt(paymentId: string, actorUserId: string | null
     attachments: [{ filename: `receipt-${label}.pdf`, content: Buffer.from(pdf), contentType: "application/pdf" }],
   });
   await db.update(payments).set({ receiptSentAt: new Date() }).where(eq(payments.id, paymentId));
-  await audit({ action: "billing.receipt_emailed", actorUserId, entityType: "payment", entityId: paymentId, patientId: d.patient.id, detail: { to: d.patient.email } });
+  await audit({
+    action: "billing.receipt_emailed",
+    actorUserId,
+    entityType: "payment",
+    entityId: paymentId,
+    patientId: d.patient.id,
+    detail: { to: d.patient.email },
+  });
   return { to: d.patient.email };
 }
 

@@ -7,7 +7,12 @@ export async function invoiceForToken(token: string) {
   const check = verifyPayLink(token);
   if (!check.ok) {
     throw data(
-      { error: check.reason === "expired" ? "This payment link has expired. Ask the practice to send a new one, or pay at the practice." : "This payment link does not work. Check that the whole address was copied, or ask the practice for a new one." },
+      {
+        error:
+          check.reason === "expired"
+            ? "This payment link has expired. Ask the practice to send a new one, or pay at the practice."
+            : "This payment link does not work. Check that the whole address was copied, or ask the practice for a new one.",
+      },
       { status: check.reason === "expired" ? 410 : 404 },
     );
   }

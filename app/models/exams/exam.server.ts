@@ -45,7 +45,14 @@ import {
 } from "~/lib/exam/sections";
 import { referralPrompts, type AcuityNotation, type ReferralFindings, type ReferralPrompt } from "~/lib/optics";
 import { TriageInputError } from "~/lib/referrals";
-import { FINDINGS_SECTIONS, FindingsError, findingsFormValues, loadFindings, saveFindings, type FindingsSection } from "~/models/exams/findings.server";
+import {
+  FINDINGS_SECTIONS,
+  FindingsError,
+  findingsFormValues,
+  loadFindings,
+  saveFindings,
+  type FindingsSection,
+} from "~/models/exams/findings.server";
 import { examTriage, iopForTriage } from "~/models/exams/triage.server";
 import { audit } from "~/utils/audit.server";
 import type { SessionUser } from "~/utils/session.server";
@@ -76,7 +83,10 @@ export async function examFor(patientId: string | undefined, examId: string | un
 }
 
 async function finalRowsOf(examId: string, tx: Tx | typeof db = db) {
-  return tx.select().from(examRefractions).where(and(eq(examRefractions.examId, examId), eq(examRefractions.kind, "final")));
+  return tx
+    .select()
+    .from(examRefractions)
+    .where(and(eq(examRefractions.examId, examId), eq(examRefractions.kind, "final")));
 }
 
 /** The latest earlier exam of the patient that has a final refraction, with its rows. */
@@ -99,13 +109,32 @@ export async function previousFinal(patientId: string, before: Date) {
 }
 
 /** The practice's time zone and acuity notation (how bare numbers are read). */
-export async function examSettings(conn: Tx | typeof db = db): Promise<{ timeZone: string; acuityNotation: AcuityNotation }> {
-  const [s] = await conn.select({ timeZone: practiceSettings.timeZone, acuityNotation: practiceSettings.acuityNotation }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+export async function examSettings(
+  conn: Tx | typeof db = db,
+): Promise<{ timeZone: string; acuityNotation: AcuityNotation }> {
+  const [s] = await conn
+    .select({ timeZone: practiceSettings.timeZone, acuityNotation: practiceSettings.acuityNotation })
+    .from(practiceSettings)
+    .where(eq(practiceSettings.id, 1));
   return { timeZone: s?.timeZone ?? "Europe/London", acuityNotation: s?.acuityNotation ?? "metric" };
 }
 
 export async function loadExam(examId: string) {
-  const [history, acuity, refractions, binocular, iop, cct, colour, fields, segments, assessment, diagnoses, addenda, findings] = await Promise.all([
+  const [
+    history,
+    acuity,
+    refractions,
+    binocular,
+    iop,
+    cct,
+    colour,
+    fields,
+    segments,
+    assessment,
+    diagnoses,
+    addenda,
+    findings,
+  ] = await Promise.all([
     db.select().from(examHistory).where(eq(examHistory.examId, examId)),
     db.select().from(examAcuity).where(eq(examAcuity.examId, examId)),
     db.select().from(examRefractions).where(eq(examRefractions.examId, examId)),
@@ -118,14 +147,34 @@ export async function loadExam(examId: string) {
     db.select().from(examAssessment).where(eq(examAssessment.examId, examId)),
     db.select().from(examDiagnoses).where(eq(examDiagnoses.examId, examId)).orderBy(asc(examDiagnoses.code)),
     db
-      .select({ id: examAddenda.id, section: examAddenda.section, body: examAddenda.body, createdAt: examAddenda.createdAt, author: users.name })
+      .select({
+        id: examAddenda.id,
+        section: examAddenda.section,
+        body: examAddenda.body,
+        createdAt: examAddenda.createdAt,
+        author: users.name,
+      })
       .from(examAddenda)
       .innerJoin(users, eq(users.id, examAddenda.authorId))
       .where(eq(examAddenda.examId, examId))
       .orderBy(asc(examAddenda.createdAt)),
     loadFindings(examId),
   ]);
-  return { history: history[0] ?? null, acuity, refractions, binocular: binocular[0] ?? null, iop, cct, colour, fields, segments, assessment: assessment[0] ?? null, diagnoses, addenda, findings };
+  return {
+    history: history[0] ?? null,
+    acuity,
+    refractions,
+    binocular: binocular[0] ?? null,
+    iop,
+    cct,
+    colour,
+    fields,
+    segments,
+    assessment: assessment[0] ?? null,
+    diagnoses,
+    addenda,
+    findings,
+  };
 }
 export type ExamSections = Awaited<ReturnType<typeof loadExam>>;
 
@@ -135,7 +184,9 @@ export function formValues(s: ExamSections, timeZone: string): Record<string, st
   const put = (k: string, x: unknown) => {
     if (x !== null && x !== undefined && x !== "") v[k] = String(x);
   };
-  if (s.history) for (const k of ["reason", "symptoms", "ocularHistory", "generalHistory", "medications", "familyHistory"] as const) put(k, s.history[k]);
+  if (s.history)
+    for (const k of ["reason", "symptoms", "ocularHistory", "generalHistory", "medications", "familyHistory"] as const)
+      put(k, s.history[k]);
   for (const a of s.acuity) put(acuityField(a.eye, a.distance, a.correction), a.notation);
   for (const r of s.refractions) {
     const p = `${r.kind}.${r.eye}_`;
@@ -146,7 +197,9 @@ export function formValues(s: ExamSections, timeZone: string): Record<string, st
     put(`${p}vertex`, r.vertexMm);
     put(`${p}va`, r.vaNotation);
   }
-  if (s.binocular) for (const k of ["coverTestDistance", "coverTestNear", "npcCm", "stereoTest", "stereoArcSec", "notes"] as const) put(`bv_${k}`, s.binocular[k]);
+  if (s.binocular)
+    for (const k of ["coverTestDistance", "coverTestNear", "npcCm", "stereoTest", "stereoArcSec", "notes"] as const)
+      put(`bv_${k}`, s.binocular[k]);
   for (const r of s.iop) {
     put(iopField(r.eye, "mmHg", r.reading), r.mmHg);
     put(iopField(r.eye, "method", r.reading), r.method);
@@ -184,7 +237,10 @@ export function formValues(s: ExamSections, timeZone: string): Record<string, st
 }
 
 type PromptSections = Pick<ExamSections, "iop" | "fields" | "colour" | "acuity">;
-type PreviousForPrompts = { colour: { eye: string; result: string }[]; acuity: { eye: string; distance: string; correction: string; logMar: number }[] };
+type PreviousForPrompts = {
+  colour: { eye: string; result: string }[];
+  acuity: { eye: string; distance: string; correction: string; logMar: number }[];
+};
 
 /** Referral prompts of the engine from one exam's findings and the previous visit's. */
 export function promptsFrom(s: PromptSections, prev: PreviousForPrompts): ReferralPrompt[] {
@@ -197,25 +253,63 @@ export function promptsFrom(s: PromptSections, prev: PreviousForPrompts): Referr
         return r ? [[eye, { readings: r.iopMmHg, method: r.iopMethod }]] : [];
       }),
     );
-  const spots = s.fields.filter((r) => r.blindSpotXDeg !== null && r.blindSpotYDeg !== null && r.blindSpotWidthDeg !== null && r.blindSpotHeightDeg !== null);
+  const spots = s.fields.filter(
+    (r) =>
+      r.blindSpotXDeg !== null &&
+      r.blindSpotYDeg !== null &&
+      r.blindSpotWidthDeg !== null &&
+      r.blindSpotHeightDeg !== null,
+  );
   if (spots.length)
     findings.blindSpot = Object.fromEntries(
-      spots.map((r) => [r.eye, { centreXDeg: r.blindSpotXDeg!, centreYDeg: r.blindSpotYDeg!, widthDeg: r.blindSpotWidthDeg!, heightDeg: r.blindSpotHeightDeg! }]),
+      spots.map((r) => [
+        r.eye,
+        {
+          centreXDeg: r.blindSpotXDeg!,
+          centreYDeg: r.blindSpotYDeg!,
+          widthDeg: r.blindSpotWidthDeg!,
+          heightDeg: r.blindSpotHeightDeg!,
+        },
+      ]),
     );
-  if (s.fields.length) findings.fieldDefect = Object.fromEntries(s.fields.map((r) => [r.eye, { present: r.defectPresent, description: r.defects }]));
-  const cvResult = (r: string) => (r === "normal" ? "normal" : r === "inconclusive" ? "inconclusive" : "deficiency suspected") as "normal" | "inconclusive" | "deficiency suspected";
+  if (s.fields.length)
+    findings.fieldDefect = Object.fromEntries(
+      s.fields.map((r) => [r.eye, { present: r.defectPresent, description: r.defects }]),
+    );
+  const cvResult = (r: string) =>
+    (r === "normal" ? "normal" : r === "inconclusive" ? "inconclusive" : "deficiency suspected") as
+      "normal" | "inconclusive" | "deficiency suspected";
   if (s.colour.length)
     findings.colourVision = Object.fromEntries(
       s.colour.map((r) => {
         const before = prev.colour.find((p) => p.eye === r.eye);
-        const kind = r.result === "blue_yellow" ? ("blue-yellow" as const) : r.result === "red_green" ? ("red-green" as const) : undefined;
-        return [r.eye, { result: cvResult(r.result), changedFromPrevious: before ? cvResult(before.result) !== cvResult(r.result) : undefined, kind, blueYellowBefore: before?.result === "blue_yellow" }];
+        const kind =
+          r.result === "blue_yellow"
+            ? ("blue-yellow" as const)
+            : r.result === "red_green"
+              ? ("red-green" as const)
+              : undefined;
+        return [
+          r.eye,
+          {
+            result: cvResult(r.result),
+            changedFromPrevious: before ? cvResult(before.result) !== cvResult(r.result) : undefined,
+            kind,
+            blueYellowBefore: before?.result === "blue_yellow",
+          },
+        ];
       }),
     );
-  const isBest = (a: { distance: string; correction: string; eye: string }) => a.distance === "distance" && a.correction === "best" && a.eye !== "both";
+  const isBest = (a: { distance: string; correction: string; eye: string }) =>
+    a.distance === "distance" && a.correction === "best" && a.eye !== "both";
   const best = s.acuity.filter(isBest);
   if (best.length)
-    findings.acuity = Object.fromEntries(best.map((a) => [a.eye, { bestCorrected: a.logMar, previous: prev.acuity.filter(isBest).find((p) => p.eye === a.eye)?.logMar }]));
+    findings.acuity = Object.fromEntries(
+      best.map((a) => [
+        a.eye,
+        { bestCorrected: a.logMar, previous: prev.acuity.filter(isBest).find((p) => p.eye === a.eye)?.logMar },
+      ]),
+    );
   try {
     return referralPrompts(findings);
   } catch {
@@ -224,7 +318,11 @@ export function promptsFrom(s: PromptSections, prev: PreviousForPrompts): Referr
 }
 
 /** Prompts for the exam page: this exam's saved findings against the previous exam's. */
-export async function promptsFor(patientId: string, exam: { id: string; examinedAt: Date }, s: ExamSections): Promise<ReferralPrompt[]> {
+export async function promptsFor(
+  patientId: string,
+  exam: { id: string; examinedAt: Date },
+  s: ExamSections,
+): Promise<ReferralPrompt[]> {
   const [prevExam] = await db
     .select({ id: exams.id })
     .from(exams)
@@ -232,14 +330,22 @@ export async function promptsFor(patientId: string, exam: { id: string; examined
     .orderBy(desc(exams.examinedAt))
     .limit(1);
   const [colour, acuity] = prevExam
-    ? await Promise.all([db.select().from(examColourVision).where(eq(examColourVision.examId, prevExam.id)), db.select().from(examAcuity).where(eq(examAcuity.examId, prevExam.id))])
+    ? await Promise.all([
+        db.select().from(examColourVision).where(eq(examColourVision.examId, prevExam.id)),
+        db.select().from(examAcuity).where(eq(examAcuity.examId, prevExam.id)),
+      ])
     : [[], []];
   return promptsFrom(s, { colour, acuity });
 }
 
 /** Prompts for the chart: the latest exam's findings against the one before, in two round trips. */
 export async function latestPrompts(patientId: string): Promise<ReferralPrompt[]> {
-  const latest = await db.select({ id: exams.id }).from(exams).where(eq(exams.patientId, patientId)).orderBy(desc(exams.examinedAt)).limit(2);
+  const latest = await db
+    .select({ id: exams.id })
+    .from(exams)
+    .where(eq(exams.patientId, patientId))
+    .orderBy(desc(exams.examinedAt))
+    .limit(2);
   if (!latest.length) return [];
   const ids = latest.map((e) => e.id);
   const [iop, fields, colour, acuity] = await Promise.all([
@@ -250,14 +356,23 @@ export async function latestPrompts(patientId: string): Promise<ReferralPrompt[]
   ]);
   const of = <T extends { examId: string }>(rows: T[], id: string | undefined) => rows.filter((r) => r.examId === id);
   const [now, before] = ids;
-  return promptsFrom({ iop: of(iop, now), fields: of(fields, now), colour: of(colour, now), acuity: of(acuity, now) }, { colour: of(colour, before), acuity: of(acuity, before) });
+  return promptsFrom(
+    { iop: of(iop, now), fields: of(fields, now), colour: of(colour, now), acuity: of(acuity, now) },
+    { colour: of(colour, before), acuity: of(acuity, before) },
+  );
 }
 
 // ------------------------------------------------------------------------------- saving
 
 const text = (form: Form, k: string, max = 4000) => (form[k] ?? "").trim().slice(0, max);
 
-function oneOf<T extends string>(value: string | undefined, options: Record<T, string> | readonly T[], label: string, errors: FieldErrors, field: string): T | null {
+function oneOf<T extends string>(
+  value: string | undefined,
+  options: Record<T, string> | readonly T[],
+  label: string,
+  errors: FieldErrors,
+  field: string,
+): T | null {
   const v = (value ?? "").trim();
   if (!v) return null;
   const keys = Array.isArray(options) ? options : Object.keys(options);
@@ -295,8 +410,18 @@ async function saveAcuity(tx: Tx, examId: string, form: Form, practiceNotation: 
         const label = `${eye === "both" ? "Both eyes" : eye === "right" ? "Right" : "Left"} ${distance} ${correction} VA`;
         const r = parseAcuity(form[k], label, { notation, distance });
         if (r.error) errors[k] = [r.error];
-        else if (r.value && r.value.pinhole && correction !== "pinhole") errors[k] = [`${label}: a pinhole value belongs in the pinhole column.`];
-        else if (r.value) rows.push({ examId, eye, distance, correction, notation: r.value.notation, scale: r.value.scale, logMar: r.value.logMar });
+        else if (r.value && r.value.pinhole && correction !== "pinhole")
+          errors[k] = [`${label}: a pinhole value belongs in the pinhole column.`];
+        else if (r.value)
+          rows.push({
+            examId,
+            eye,
+            distance,
+            correction,
+            notation: r.value.notation,
+            scale: r.value.scale,
+            logMar: r.value.logMar,
+          });
       }
   if (Object.keys(errors).length) throw new SectionError(errors);
   await tx.delete(examAcuity).where(eq(examAcuity.examId, examId));
@@ -356,7 +481,16 @@ async function saveIop(tx: Tx, examId: string, form: Form) {
   const parsed = parseIop(form);
   if (!parsed.ok) throw new SectionError(parsed.errors);
   const { readings, cct } = parsed.value;
-  const rows = EYES.flatMap((eye) => (readings[eye] ?? []).map((r, i) => ({ examId, eye, reading: i + 1, mmHg: r.mmHg, method: r.method, measuredTime: r.time })));
+  const rows = EYES.flatMap((eye) =>
+    (readings[eye] ?? []).map((r, i) => ({
+      examId,
+      eye,
+      reading: i + 1,
+      mmHg: r.mmHg,
+      method: r.method,
+      measuredTime: r.time,
+    })),
+  );
   await tx.delete(examIop).where(eq(examIop.examId, examId));
   if (rows.length) await tx.insert(examIop).values(rows);
   await tx.delete(examCornealThickness).where(eq(examCornealThickness.examId, examId));
@@ -375,14 +509,17 @@ async function saveColour(tx: Tx, examId: string, form: Form) {
     const shown = parseNumber(form[`${eye}_shown`], `${E} plates shown`, 1, 100, { integer: true });
     if (correct.error) errors[`${eye}_correct`] = [correct.error];
     if (shown.error) errors[`${eye}_shown`] = [shown.error];
-    if (correct.value !== null && shown.value !== null && correct.value > shown.value) errors[`${eye}_correct`] = [`${E}: plates read (${correct.value}) cannot exceed plates shown (${shown.value}).`];
-    if (correct.value !== null && shown.value === null && !shown.error) errors[`${eye}_shown`] = [`${E}: give the number of plates shown.`];
+    if (correct.value !== null && shown.value !== null && correct.value > shown.value)
+      errors[`${eye}_correct`] = [`${E}: plates read (${correct.value}) cannot exceed plates shown (${shown.value}).`];
+    if (correct.value !== null && shown.value === null && !shown.error)
+      errors[`${eye}_shown`] = [`${E}: give the number of plates shown.`];
     const notes = text(form, `${eye}_cvnotes`, 1000);
     const any = test || result || correct.value !== null || shown.value !== null || notes;
     if (!any) continue;
     if (!test && !errors[`${eye}_test`]) errors[`${eye}_test`] = [`${E} colour vision: choose the test used.`];
     if (!result && !errors[`${eye}_result`]) errors[`${eye}_result`] = [`${E} colour vision: choose the result.`];
-    if (test && result) rows.push({ examId, eye, test, result, platesCorrect: correct.value, platesShown: shown.value, notes });
+    if (test && result)
+      rows.push({ examId, eye, test, result, platesCorrect: correct.value, platesShown: shown.value, notes });
   }
   if (Object.keys(errors).length) throw new SectionError(errors);
   await tx.delete(examColourVision).where(eq(examColourVision.examId, examId));
@@ -395,7 +532,13 @@ async function saveFields(tx: Tx, examId: string, form: Form) {
   for (const eye of EYES) {
     const E = eye === "right" ? "Right" : "Left";
     const method = oneOf(form[`${eye}_fmethod`], FIELD_METHODS, `${E} field method`, errors, `${eye}_fmethod`);
-    const reliability = oneOf(form[`${eye}_reliability`], RELIABILITY, `${E} reliability`, errors, `${eye}_reliability`);
+    const reliability = oneOf(
+      form[`${eye}_reliability`],
+      RELIABILITY,
+      `${E} reliability`,
+      errors,
+      `${eye}_reliability`,
+    );
     const nums = {
       bsX: parseNumber(form[`${eye}_bsX`], `${E} blind-spot centre, horizontal (°)`, -40, 40),
       bsY: parseNumber(form[`${eye}_bsY`], `${E} blind-spot centre, vertical (°)`, -30, 30),
@@ -405,7 +548,11 @@ async function saveFields(tx: Tx, examId: string, form: Form) {
     for (const [k, r] of Object.entries(nums)) if (r.error) errors[`${eye}_${k}`] = [r.error];
     const given = Object.entries(nums).filter(([, r]) => r.value !== null);
     if (given.length > 0 && given.length < 4) {
-      for (const [k, r] of Object.entries(nums)) if (r.value === null && !r.error) errors[`${eye}_${k}`] = [`${E} blind spot: give centre (horizontal and vertical), width and height together.`];
+      for (const [k, r] of Object.entries(nums))
+        if (r.value === null && !r.error)
+          errors[`${eye}_${k}`] = [
+            `${E} blind spot: give centre (horizontal and vertical), width and height together.`,
+          ];
     }
     const defect = form[`${eye}_defect`] === "on";
     const defects = text(form, `${eye}_defects`, 2000);
@@ -436,7 +583,10 @@ async function saveSegments(tx: Tx, examId: string, form: Form, all: FormData) {
   for (const eye of EYES)
     for (const segment of Object.keys(SEGMENT_STRUCTURES) as SegmentKey[]) {
       const allowed = Object.keys(SEGMENT_STRUCTURES[segment]);
-      const normal = all.getAll(`${eye}_${segment}_normal`).map(String).filter((k) => allowed.includes(k));
+      const normal = all
+        .getAll(`${eye}_${segment}_normal`)
+        .map(String)
+        .filter((k) => allowed.includes(k));
       const notes = text(form, `${eye}_${segment}_notes`);
       if (normal.length || notes) rows.push({ examId, eye, segment, normal, notes });
     }
@@ -452,7 +602,11 @@ async function saveAssessment(tx: Tx, examId: string, form: Form) {
   if (!dx.ok) Object.assign(errors, dx.errors);
   const diagnoses = dx.ok ? dx.value.map((d) => ({ examId, ...d })) : [];
   if (Object.keys(errors).length) throw new SectionError(errors);
-  const values = { assessment: text(form, "assessment", 8000), plan: text(form, "plan", 8000), recallMonths: recall.value };
+  const values = {
+    assessment: text(form, "assessment", 8000),
+    plan: text(form, "plan", 8000),
+    recallMonths: recall.value,
+  };
   await tx
     .insert(examAssessment)
     .values({ examId, ...values })
@@ -461,29 +615,70 @@ async function saveAssessment(tx: Tx, examId: string, form: Form) {
   if (diagnoses.length) await tx.insert(examDiagnoses).values(diagnoses);
 }
 
-export const SECTIONS = ["redflags", "history", "acuity", ...REFRACTION_KINDS.map((k) => `refraction:${k}` as const), "binocular", "pupils", "ac", "iop", "colour", "fields", "segments", "disc", "fundus", "dilation", "assessment"] as const;
+export const SECTIONS = [
+  "redflags",
+  "history",
+  "acuity",
+  ...REFRACTION_KINDS.map((k) => `refraction:${k}` as const),
+  "binocular",
+  "pupils",
+  "ac",
+  "iop",
+  "colour",
+  "fields",
+  "segments",
+  "disc",
+  "fundus",
+  "dilation",
+  "assessment",
+] as const;
 export type Section = (typeof SECTIONS)[number];
 
 /** Saves one section of an in-progress exam in one transaction; a signed exam answers 409. */
-export async function saveSection(user: SessionUser, patientId: string, examId: string, section: Section, all: FormData, request: Request) {
+export async function saveSection(
+  user: SessionUser,
+  patientId: string,
+  examId: string,
+  section: Section,
+  all: FormData,
+  request: Request,
+) {
   const form: Form = {};
   for (const [k, v] of all.entries()) if (typeof v === "string" && form[k] === undefined) form[k] = v;
   return db.transaction(async (tx) => {
-    const [locked] = await tx.select({ status: exams.status, examinedAt: exams.examinedAt }).from(exams).where(eq(exams.id, examId)).for("update");
-    if (locked?.status !== "in_progress") throw data({ ok: false, section, message: "This exam is signed and read-only. Add an addendum instead." }, { status: 409 });
+    const [locked] = await tx
+      .select({ status: exams.status, examinedAt: exams.examinedAt })
+      .from(exams)
+      .where(eq(exams.id, examId))
+      .for("update");
+    if (locked?.status !== "in_progress")
+      throw data(
+        { ok: false, section, message: "This exam is signed and read-only. Add an addendum instead." },
+        { status: 409 },
+      );
     const settings = await examSettings(tx);
     if (section === "history") await saveHistory(tx, examId, form);
     else if (section === "acuity") await saveAcuity(tx, examId, form, settings.acuityNotation);
-    else if (section.startsWith("refraction:")) await saveRefraction(tx, examId, section.slice("refraction:".length) as RefractionKind, form, settings.acuityNotation);
+    else if (section.startsWith("refraction:"))
+      await saveRefraction(
+        tx,
+        examId,
+        section.slice("refraction:".length) as RefractionKind,
+        form,
+        settings.acuityNotation,
+      );
     else if ((FINDINGS_SECTIONS as readonly string[]).includes(section)) {
       try {
-        await saveFindings(tx, examId, section as FindingsSection, form, { now: new Date(), examinedAt: locked.examinedAt, timeZone: settings.timeZone });
+        await saveFindings(tx, examId, section as FindingsSection, form, {
+          now: new Date(),
+          examinedAt: locked.examinedAt,
+          timeZone: settings.timeZone,
+        });
       } catch (e) {
         if (e instanceof FindingsError) throw new SectionError(e.errors);
         throw e;
       }
-    }
-    else if (section === "binocular") await saveBinocular(tx, examId, form);
+    } else if (section === "binocular") await saveBinocular(tx, examId, form);
     else if (section === "iop") await saveIop(tx, examId, form);
     else if (section === "colour") await saveColour(tx, examId, form);
     else if (section === "fields") await saveFields(tx, examId, form);
@@ -493,7 +688,18 @@ export async function saveSection(user: SessionUser, patientId: string, examId: 
     const triage = await storedTriage(examId, tx);
     const savedAt = new Date();
     await tx.update(exams).set({ updatedAt: savedAt, triage }).where(eq(exams.id, examId));
-    await audit({ action: "exam.section_saved", actorUserId: user.id, entityType: "exam", entityId: examId, patientId, detail: { section }, request }, tx);
+    await audit(
+      {
+        action: "exam.section_saved",
+        actorUserId: user.id,
+        entityType: "exam",
+        entityId: examId,
+        patientId,
+        detail: { section },
+        request,
+      },
+      tx,
+    );
     return savedAt.toISOString();
   });
 }
@@ -510,12 +716,18 @@ export async function storedTriage(examId: string, conn: Tx | typeof db = db) {
 
 export async function startExam(user: SessionUser, patientId: string, request: Request) {
   return db.transaction(async (tx) => {
-    const [exam] = await tx.insert(exams).values({ patientId, optometristId: user.id }).returning({ id: exams.id, examinedAt: exams.examinedAt });
+    const [exam] = await tx
+      .insert(exams)
+      .values({ patientId, optometristId: user.id })
+      .returning({ id: exams.id, examinedAt: exams.examinedAt });
     await tx
       .update(patients)
       .set({ lastExamAt: sql`greatest(${patients.lastExamAt}, ${exam!.examinedAt.toISOString()}::timestamptz)` })
       .where(eq(patients.id, patientId));
-    await audit({ action: "exam.created", actorUserId: user.id, entityType: "exam", entityId: exam!.id, patientId, request }, tx);
+    await audit(
+      { action: "exam.created", actorUserId: user.id, entityType: "exam", entityId: exam!.id, patientId, request },
+      tx,
+    );
     return exam!.id;
   });
 }

@@ -45,7 +45,13 @@ function valueOf<T>(p: Parsed<T>): T {
 export const FINDINGS_SECTIONS = ["redflags", "pupils", "ac", "disc", "fundus", "dilation"] as const;
 export type FindingsSection = (typeof FINDINGS_SECTIONS)[number];
 
-export async function saveFindings(tx: Tx, examId: string, section: FindingsSection, form: Form, ctx: { now: Date; examinedAt: Date; timeZone: string }) {
+export async function saveFindings(
+  tx: Tx,
+  examId: string,
+  section: FindingsSection,
+  form: Form,
+  ctx: { now: Date; examinedAt: Date; timeZone: string },
+) {
   if (section === "redflags") {
     const v = valueOf(parseRedFlags(form));
     await tx

@@ -4,7 +4,20 @@
  * optometrist, never a decision.
  */
 import { and, desc, eq, lt } from "drizzle-orm";
-import { examAcuity, examAnteriorChamber, examDiscs, examFundus, examIop, examPupils, examRedFlags, examRefractions, exams, examVisualFields, patients, practiceSettings } from "~/db/schema";
+import {
+  examAcuity,
+  examAnteriorChamber,
+  examDiscs,
+  examFundus,
+  examIop,
+  examPupils,
+  examRedFlags,
+  examRefractions,
+  exams,
+  examVisualFields,
+  patients,
+  practiceSettings,
+} from "~/db/schema";
 import { checkBlindSpot } from "~/lib/optics";
 import { triage, type Eye, type EyeFindings, type TriageInput, type TriageResult } from "~/lib/referrals";
 import { localParts } from "~/lib/scheduling/time";
@@ -15,12 +28,20 @@ type Conn = Tx | typeof db;
 type EyeKey = "right" | "left";
 const SHORT: Record<EyeKey, Eye> = { right: "R", left: "L" };
 
-const METHOD: Record<string, NonNullable<EyeFindings["iopMethod"]>> = { goldmann: "applanation", handheld_applanation: "applanation", rebound: "rebound", non_contact: "non-contact", other: "other" };
+const METHOD: Record<string, NonNullable<EyeFindings["iopMethod"]>> = {
+  goldmann: "applanation",
+  handheld_applanation: "applanation",
+  rebound: "rebound",
+  non_contact: "non-contact",
+  other: "other",
+};
 /** Applanation is the reference method, then rebound, then non-contact (common practice). */
 const PREFERENCE: NonNullable<EyeFindings["iopMethod"]>[] = ["applanation", "rebound", "non-contact", "other"];
 
 /** The readings triage uses for one eye: all readings of the best method taken. */
-export function iopForTriage(rows: readonly { mmHg: number; method: string }[]): { iopMmHg: number[]; iopMethod: NonNullable<EyeFindings["iopMethod"]> } | null {
+export function iopForTriage(
+  rows: readonly { mmHg: number; method: string }[],
+): { iopMmHg: number[]; iopMethod: NonNullable<EyeFindings["iopMethod"]> } | null {
   for (const m of PREFERENCE) {
     const of = rows.filter((r) => METHOD[r.method] === m);
     if (of.length) return { iopMmHg: of.map((r) => r.mmHg), iopMethod: m };
@@ -31,8 +52,16 @@ export function iopForTriage(rows: readonly { mmHg: number; method: string }[]):
 /** Best-corrected distance acuity of one eye: the acuity row, else the final refraction's VA. */
 async function bestVa(conn: Conn, examId: string): Promise<Partial<Record<EyeKey, number>>> {
   const [acuity, finals] = await Promise.all([
-    conn.select().from(examAcuity).where(and(eq(examAcuity.examId, examId), eq(examAcuity.distance, "distance"), eq(examAcuity.correction, "best"))),
-    conn.select().from(examRefractions).where(and(eq(examRefractions.examId, examId), eq(examRefractions.kind, "final"))),
+    conn
+      .select()
+      .from(examAcuity)
+      .where(
+        and(eq(examAcuity.examId, examId), eq(examAcuity.distance, "distance"), eq(examAcuity.correction, "best")),
+      ),
+    conn
+      .select()
+      .from(examRefractions)
+      .where(and(eq(examRefractions.examId, examId), eq(examRefractions.kind, "final"))),
   ]);
   const out: Partial<Record<EyeKey, number>> = {};
   for (const eye of ["right", "left"] as const) {
@@ -51,7 +80,10 @@ export async function examTriageInput(examId: string, conn: Conn = db): Promise<
     .innerJoin(patients, eq(patients.id, exams.patientId))
     .where(eq(exams.id, examId));
   if (!exam) throw new Error(`Exam ${examId} not found`);
-  const [settings] = await conn.select({ timeZone: practiceSettings.timeZone }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const [settings] = await conn
+    .select({ timeZone: practiceSettings.timeZone })
+    .from(practiceSettings)
+    .where(eq(practiceSettings.id, 1));
   const examDay = localParts(exam.examinedAt, settings?.timeZone ?? "Europe/London").date;
   const [iop, flags, pupils, ac, discs, fundus, fields, va, previous] = await Promise.all([
     conn.select().from(examIop).where(eq(examIop.examId, examId)),
@@ -110,8 +142,22 @@ export async function examTriageInput(examId: string, conn: Conn = db): Promise<
     }
     // The plotted blind spot, judged by the same rule as the exam's prompts.
     const vf = fields.find((r) => r.eye === eye);
-    if (vf && vf.blindSpotXDeg !== null && vf.blindSpotYDeg !== null && vf.blindSpotWidthDeg !== null && vf.blindSpotHeightDeg !== null) {
-      if (checkBlindSpot({ centreXDeg: vf.blindSpotXDeg, centreYDeg: vf.blindSpotYDeg, widthDeg: vf.blindSpotWidthDeg, heightDeg: vf.blindSpotHeightDeg }).status === "enlarged") f.enlargedBlindSpot = true;
+    if (
+      vf &&
+      vf.blindSpotXDeg !== null &&
+      vf.blindSpotYDeg !== null &&
+      vf.blindSpotWidthDeg !== null &&
+      vf.blindSpotHeightDeg !== null
+    ) {
+      if (
+        checkBlindSpot({
+          centreXDeg: vf.blindSpotXDeg,
+          centreYDeg: vf.blindSpotYDeg,
+          widthDeg: vf.blindSpotWidthDeg,
+          heightDeg: vf.blindSpotHeightDeg,
+        }).status === "enlarged"
+      )
+        f.enlargedBlindSpot = true;
     }
     if (Object.keys(f).length) eyes[SHORT[eye]] = f;
   }
@@ -123,7 +169,10 @@ export async function examTriageInput(examId: string, conn: Conn = db): Promise<
 }
 
 /** The triage proposal of an exam from its saved sections. */
-export async function examTriage(examId: string, conn: Conn = db): Promise<{ input: TriageInput; result: TriageResult }> {
+export async function examTriage(
+  examId: string,
+  conn: Conn = db,
+): Promise<{ input: TriageInput; result: TriageResult }> {
   const input = await examTriageInput(examId, conn);
   return { input, result: triage(input) };
 }

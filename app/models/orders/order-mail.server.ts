@@ -23,11 +23,20 @@ export function useOrderMailSender(next: Sender | null) {
   sender = next ?? sendMail;
 }
 
-export const orderMail = defineJob<{ messageId: string }>(ORDER_MAIL_QUEUE, async (data, job) => {
-  await deliverOrderMessage(data.messageId, job);
-}, QUEUE_DEFAULTS);
+export const orderMail = defineJob<{ messageId: string }>(
+  ORDER_MAIL_QUEUE,
+  async (data, job) => {
+    await deliverOrderMessage(data.messageId, job);
+  },
+  QUEUE_DEFAULTS,
+);
 
-export async function queueOrderMessage(tx: Tx, orderId: string, kind: "lab_order" | "patient_ready", recipient: string | null) {
+export async function queueOrderMessage(
+  tx: Tx,
+  orderId: string,
+  kind: "lab_order" | "patient_ready",
+  recipient: string | null,
+) {
   const [m] = await tx.insert(orderMessages).values({ orderId, kind, recipient }).returning({ id: orderMessages.id });
   await orderMail.enqueue({ messageId: m!.id }, { tx, singletonKey: m!.id });
   return m!.id;
@@ -60,7 +69,10 @@ async function compose(m: typeof orderMessages.$inferSelect): Promise<Mail | { s
       attachments: [{ filename: `order-${ref}.pdf`, content: Buffer.from(pdf), contentType: "application/pdf" }],
     };
   }
-  const [pt] = await db.select({ email: patients.email, remindersByEmail: patients.remindersByEmail, firstName: patients.firstName }).from(patients).where(eq(patients.id, d.order.patientId));
+  const [pt] = await db
+    .select({ email: patients.email, remindersByEmail: patients.remindersByEmail, firstName: patients.firstName })
+    .from(patients)
+    .where(eq(patients.id, d.order.patientId));
   if (!pt?.remindersByEmail) return { skip: "patient has turned e-mails off" };
   if (!pt.email) return { skip: "no e-mail address on record" };
   const what = d.order.kind === "spectacles" ? "spectacles are" : "contact lenses are";
@@ -77,25 +89,41 @@ export async function deliverOrderMessage(messageId: string, job: { retryCount: 
     return await db.transaction(async (tx) => {
       const [m] = await tx.select().from(orderMessages).where(eq(orderMessages.id, messageId)).for("update");
       if (!m || m.status === "sent" || m.status === "skipped") return "already done";
-      const [o] = await tx.select({ state: opticalOrders.state }).from(opticalOrders).where(eq(opticalOrders.id, m.orderId));
+      const [o] = await tx
+        .select({ state: opticalOrders.state })
+        .from(opticalOrders)
+        .where(eq(opticalOrders.id, m.orderId));
       if (o?.state === "cancelled") {
-        await tx.update(orderMessages).set({ status: "skipped", skippedReason: "order cancelled before sending" }).where(eq(orderMessages.id, messageId));
+        await tx
+          .update(orderMessages)
+          .set({ status: "skipped", skippedReason: "order cancelled before sending" })
+          .where(eq(orderMessages.id, messageId));
         return "skipped";
       }
       const mail = await compose(m);
       if ("skip" in mail) {
-        await tx.update(orderMessages).set({ status: "skipped", skippedReason: mail.skip }).where(eq(orderMessages.id, messageId));
+        await tx
+          .update(orderMessages)
+          .set({ status: "skipped", skippedReason: mail.skip })
+          .where(eq(orderMessages.id, messageId));
         return "skipped";
       }
       await sender(mail);
-      await tx.update(orderMessages).set({ status: "sent", sentAt: new Date(), recipient: mail.to, attempts: m.attempts + 1, lastError: null }).where(eq(orderMessages.id, messageId));
+      await tx
+        .update(orderMessages)
+        .set({ status: "sent", sentAt: new Date(), recipient: mail.to, attempts: m.attempts + 1, lastError: null })
+        .where(eq(orderMessages.id, messageId));
       return "sent";
     });
   } catch (error) {
     const last = job.retryCount >= job.retryLimit;
     await db
       .update(orderMessages)
-      .set({ attempts: sql`${orderMessages.attempts} + 1`, lastError: ((error as Error).message || String(error)).slice(0, 500), status: last ? "failed" : "queued" })
+      .set({
+        attempts: sql`${orderMessages.attempts} + 1`,
+        lastError: ((error as Error).message || String(error)).slice(0, 500),
+        status: last ? "failed" : "queued",
+      })
       .where(and(eq(orderMessages.id, messageId), inArray(orderMessages.status, ["queued", "failed"])));
     throw error;
   }

@@ -4,19 +4,25 @@ import { LENS_TYPE_LABEL, orderLabel } from "~/lib/orders/states";
 import { loadLetterhead, PdfWriter } from "~/utils/pdf.server";
 import type { OrderDetail } from "./orders.server";
 
-const signed = (x: number | null | undefined, d = 2) => (x === null || x === undefined ? "" : `${x > 0 ? "+" : ""}${x.toFixed(d)}`);
+const signed = (x: number | null | undefined, d = 2) =>
+  x === null || x === undefined ? "" : `${x > 0 ? "+" : ""}${x.toFixed(d)}`;
 const mm = (x: number | null | undefined) => (x === null || x === undefined ? "-" : `${x.toFixed(1)} mm`);
 
 function rxCells(e: OrderDetail["rx"]["right"]): string[] {
   if (!e) return ["-", "", "", "", "", ""];
   const [s, c, , a] = formatRx(e).split(" ");
   const prism = e.prismDioptres ? `${e.prismDioptres.toFixed(2)} base ${e.prismBase}` : "";
-  return e.cylinder === 0 ? [s ?? "", "DS", "", signed(e.addPower), prism] : [s ?? "", c ?? "", a ?? "", signed(e.addPower), prism];
+  return e.cylinder === 0
+    ? [s ?? "", "DS", "", signed(e.addPower), prism]
+    : [s ?? "", c ?? "", a ?? "", signed(e.addPower), prism];
 }
 
 export async function buildOrderPdf(d: OrderDetail): Promise<Uint8Array> {
   const title = d.order.kind === "spectacles" ? "Spectacle order" : "Contact-lens order";
-  const pdf = await PdfWriter.create({ title: `${title} ${orderLabel(d.order.number)}`, practice: await loadLetterhead() });
+  const pdf = await PdfWriter.create({
+    title: `${title} ${orderLabel(d.order.number)}`,
+    practice: await loadLetterhead(),
+  });
   pdf.heading(`${title} ${orderLabel(d.order.number)}`, 16);
   pdf.keyValues([
     ["To", `${d.lab.name}${d.lab.accountRef ? ` (account ${d.lab.accountRef})` : ""}`],
@@ -34,7 +40,10 @@ export async function buildOrderPdf(d: OrderDetail): Promise<Uint8Array> {
         { header: "Add", width: 55, align: "right" },
         { header: "Prism", width: 105 },
       ],
-      rows: [["Right", ...rxCells(d.rx.right)], ["Left", ...rxCells(d.rx.left)]],
+      rows: [
+        ["Right", ...rxCells(d.rx.right)],
+        ["Left", ...rxCells(d.rx.left)],
+      ],
     });
     pdf.table({
       columns: [
@@ -57,7 +66,13 @@ export async function buildOrderPdf(d: OrderDetail): Promise<Uint8Array> {
   } else {
     const row = (side: "right" | "left", boxes: number | null) => {
       const e = d.rx[side];
-      return [side === "right" ? "Right" : "Left", e ? formatRx(e) : "-", e?.baseCurveMm ? e.baseCurveMm.toFixed(2) : "", e?.diameterMm ? e.diameterMm.toFixed(1) : "", String(boxes ?? 0)];
+      return [
+        side === "right" ? "Right" : "Left",
+        e ? formatRx(e) : "-",
+        e?.baseCurveMm ? e.baseCurveMm.toFixed(2) : "",
+        e?.diameterMm ? e.diameterMm.toFixed(1) : "",
+        String(boxes ?? 0),
+      ];
     };
     pdf.keyValues([["Lens", d.rx.lensName || "-"]]);
     pdf.table({

@@ -4,10 +4,18 @@ import { COATINGS, LENS_MATERIALS } from "~/lib/orders/states";
 const optionalMm = (label: string) =>
   z.preprocess(
     (v) => (v === "" || v === undefined || v === null ? undefined : v),
-    z.coerce.number({ error: `${label}: give millimetres, e.g. 20.` }).min(5, `${label}: at least 5 mm.`).max(45, `${label}: at most 45 mm.`).optional(),
+    z.coerce
+      .number({ error: `${label}: give millimetres, e.g. 20.` })
+      .min(5, `${label}: at least 5 mm.`)
+      .max(45, `${label}: at most 45 mm.`)
+      .optional(),
   );
 const pd = (label: string) =>
-  z.coerce.number({ error: `${label}: give the monocular PD in mm, e.g. 32.` }).min(20, `${label}: a monocular PD is between 20 and 45 mm.`).max(45, `${label}: a monocular PD is between 20 and 45 mm.`).multipleOf(0.5, `${label}: to the nearest 0.5 mm.`);
+  z.coerce
+    .number({ error: `${label}: give the monocular PD in mm, e.g. 32.` })
+    .min(20, `${label}: a monocular PD is between 20 and 45 mm.`)
+    .max(45, `${label}: a monocular PD is between 20 and 45 mm.`)
+    .multipleOf(0.5, `${label}: to the nearest 0.5 mm.`);
 
 export const spectacleOrderSchema = z.object({
   kind: z.literal("spectacles"),
@@ -26,7 +34,12 @@ export const spectacleOrderSchema = z.object({
   notes: z.string().trim().max(1000, "At most 1000 characters.").default(""),
 });
 
-const boxes = (label: string) => z.coerce.number({ error: `${label}: give a number of boxes.` }).int("Whole boxes only.").min(0, "Zero or more.").max(24, "At most 24 boxes.");
+const boxes = (label: string) =>
+  z.coerce
+    .number({ error: `${label}: give a number of boxes.` })
+    .int("Whole boxes only.")
+    .min(0, "Zero or more.")
+    .max(24, "At most 24 boxes.");
 export const contactLensOrderSchema = z.object({
   kind: z.literal("contact_lenses"),
   prescriptionId: z.uuid({ error: "Choose a prescription." }),
@@ -37,11 +50,24 @@ export const contactLensOrderSchema = z.object({
   notes: z.string().trim().max(1000, "At most 1000 characters.").default(""),
 });
 
-const prism = z.preprocess((v) => (v === "" || v === undefined ? 0 : v), z.coerce.number({ error: "Give prism in Δ, e.g. 0.50." }).min(0, "Give the amount; choose the base beside it.").max(10, "At most 10 Δ."));
-const optionalPos = z.preprocess((v) => (v === "" || v === undefined ? null : v), z.coerce.number({ error: "Give millimetres." }).min(5, "At least 5 mm.").max(50, "At most 50 mm.").nullable());
+const prism = z.preprocess(
+  (v) => (v === "" || v === undefined ? 0 : v),
+  z.coerce
+    .number({ error: "Give prism in Δ, e.g. 0.50." })
+    .min(0, "Give the amount; choose the base beside it.")
+    .max(10, "At most 10 Δ."),
+);
+const optionalPos = z.preprocess(
+  (v) => (v === "" || v === undefined ? null : v),
+  z.coerce.number({ error: "Give millimetres." }).min(5, "At least 5 mm.").max(50, "At most 50 mm.").nullable(),
+);
 const eyeReading = z
   .object({
-    rx: z.string({ error: "Type the lensmeter reading, e.g. -2.25 -0.75 x 175." }).trim().min(1, "Type the lensmeter reading, e.g. -2.25 -0.75 x 175.").max(40),
+    rx: z
+      .string({ error: "Type the lensmeter reading, e.g. -2.25 -0.75 x 175." })
+      .trim()
+      .min(1, "Type the lensmeter reading, e.g. -2.25 -0.75 x 175.")
+      .max(40),
     add: z.string().trim().max(10).default(""),
     horizontalPrism: prism,
     horizontalBase: z.enum(["", "in", "out"]).default(""),
@@ -50,7 +76,15 @@ const eyeReading = z
     pdMm: optionalPos,
     heightMm: optionalPos,
   })
-  .refine((r) => !r.horizontalPrism || r.horizontalBase, { path: ["horizontalBase"], message: "Choose base in or out." })
+  .refine((r) => !r.horizontalPrism || r.horizontalBase, {
+    path: ["horizontalBase"],
+    message: "Choose base in or out.",
+  })
   .refine((r) => !r.verticalPrism || r.verticalBase, { path: ["verticalBase"], message: "Choose base up or down." });
 
-export const checkSchema = z.object({ intent: z.literal("check"), expected: z.literal("received"), right: eyeReading, left: eyeReading });
+export const checkSchema = z.object({
+  intent: z.literal("check"),
+  expected: z.literal("received"),
+  right: eyeReading,
+  left: eyeReading,
+});

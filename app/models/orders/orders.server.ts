@@ -6,13 +6,41 @@
  * marking the same order at once get one move and one clear refusal.
  */
 import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
-import { feeItems, frames, labs, opticalOrders, orderChecks, orderEvents, orderMessages, patients, practiceSettings, prescriptionEyes, prescriptions, users } from "~/db/schema";
+import {
+  feeItems,
+  frames,
+  labs,
+  opticalOrders,
+  orderChecks,
+  orderEvents,
+  orderMessages,
+  patients,
+  practiceSettings,
+  prescriptionEyes,
+  prescriptions,
+  users,
+} from "~/db/schema";
 import type { OrderState } from "~/db/schema";
 import { formatMoney } from "~/lib/money";
 import { checkLensType, orderLabel, STATE_LABEL, type SpectacleLensType } from "~/lib/orders/states";
-import { checkMountedPair, parseRx, RxError, type LensRx, type PairEye, type PairReport, type PrismComponents } from "~/lib/optics";
+import {
+  checkMountedPair,
+  parseRx,
+  RxError,
+  type LensRx,
+  type PairEye,
+  type PairReport,
+  type PrismComponents,
+} from "~/lib/optics";
 import { jurisdictionOf } from "~/lib/optics/jurisdiction";
-import { BillingError, createInvoice, issueInvoice, recordDeskPayment, voidInvoice, type NewLine } from "~/models/billing/invoices.server";
+import {
+  BillingError,
+  createInvoice,
+  issueInvoice,
+  recordDeskPayment,
+  voidInvoice,
+  type NewLine,
+} from "~/models/billing/invoices.server";
 import { audit } from "~/utils/audit.server";
 import { db, type Tx } from "~/utils/db.server";
 import type { SessionUser } from "~/utils/session.server";
@@ -47,14 +75,32 @@ async function prescriptionWithEyes(conn: Tx | typeof db, prescriptionId: string
   const [rx] = await conn.select().from(prescriptions).where(eq(prescriptions.id, prescriptionId));
   if (!rx) return null;
   const eyes = await conn.select().from(prescriptionEyes).where(eq(prescriptionEyes.prescriptionId, prescriptionId));
-  return { ...rx, right: eyes.find((e) => e.eye === "right") ?? null, left: eyes.find((e) => e.eye === "left") ?? null };
+  return {
+    ...rx,
+    right: eyes.find((e) => e.eye === "right") ?? null,
+    left: eyes.find((e) => e.eye === "left") ?? null,
+  };
 }
 export type RxWithEyes = NonNullable<Awaited<ReturnType<typeof prescriptionWithEyes>>>;
 
 /** The prescriptions an order can be built from: the patient's, newest first, with their expiry. */
 export async function orderablePrescriptions(patientId: string) {
-  const list = await db.select().from(prescriptions).where(eq(prescriptions.patientId, patientId)).orderBy(desc(prescriptions.issuedAt));
-  const eyes = list.length ? await db.select().from(prescriptionEyes).where(inArray(prescriptionEyes.prescriptionId, list.map((p) => p.id))) : [];
+  const list = await db
+    .select()
+    .from(prescriptions)
+    .where(eq(prescriptions.patientId, patientId))
+    .orderBy(desc(prescriptions.issuedAt));
+  const eyes = list.length
+    ? await db
+        .select()
+        .from(prescriptionEyes)
+        .where(
+          inArray(
+            prescriptionEyes.prescriptionId,
+            list.map((p) => p.id),
+          ),
+        )
+    : [];
   const today = new Date().toISOString().slice(0, 10);
   return list.map((p) => ({
     id: p.id,
@@ -69,18 +115,36 @@ export async function orderablePrescriptions(patientId: string) {
 }
 
 export async function activeFrames() {
-  return db.select().from(frames).where(eq(frames.active, true)).orderBy(asc(frames.supplier), asc(frames.model), asc(frames.colour));
+  return db
+    .select()
+    .from(frames)
+    .where(eq(frames.active, true))
+    .orderBy(asc(frames.supplier), asc(frames.model), asc(frames.colour));
 }
 export async function activeLabs() {
   return db.select().from(labs).where(eq(labs.active, true)).orderBy(asc(labs.name));
 }
 export async function itemFees() {
-  return db.select().from(feeItems).where(and(eq(feeItems.active, true), eq(feeItems.kind, "item"))).orderBy(asc(feeItems.code));
+  return db
+    .select()
+    .from(feeItems)
+    .where(and(eq(feeItems.active, true), eq(feeItems.kind, "item")))
+    .orderBy(asc(feeItems.code));
 }
 
 export async function orderDetail(orderId: string) {
   const [row] = await db
-    .select({ order: opticalOrders, patient: { id: patients.id, firstName: patients.firstName, lastName: patients.lastName, email: patients.email, dateOfBirth: patients.dateOfBirth }, lab: labs })
+    .select({
+      order: opticalOrders,
+      patient: {
+        id: patients.id,
+        firstName: patients.firstName,
+        lastName: patients.lastName,
+        email: patients.email,
+        dateOfBirth: patients.dateOfBirth,
+      },
+      lab: labs,
+    })
     .from(opticalOrders)
     .innerJoin(patients, eq(patients.id, opticalOrders.patientId))
     .innerJoin(labs, eq(labs.id, opticalOrders.labId))
@@ -88,26 +152,59 @@ export async function orderDetail(orderId: string) {
   if (!row) return null;
   const rx = (await prescriptionWithEyes(db, row.order.prescriptionId))!;
   const events = await db
-    .select({ id: orderEvents.id, fromState: orderEvents.fromState, toState: orderEvents.toState, reason: orderEvents.reason, at: orderEvents.at, actor: users.name })
+    .select({
+      id: orderEvents.id,
+      fromState: orderEvents.fromState,
+      toState: orderEvents.toState,
+      reason: orderEvents.reason,
+      at: orderEvents.at,
+      actor: users.name,
+    })
     .from(orderEvents)
     .leftJoin(users, eq(users.id, orderEvents.actorUserId))
     .where(eq(orderEvents.orderId, orderId))
     .orderBy(asc(orderEvents.at));
   const checks = await db
-    .select({ id: orderChecks.id, standard: orderChecks.standard, readings: orderChecks.readings, report: orderChecks.report, pass: orderChecks.pass, at: orderChecks.at, by: users.name })
+    .select({
+      id: orderChecks.id,
+      standard: orderChecks.standard,
+      readings: orderChecks.readings,
+      report: orderChecks.report,
+      pass: orderChecks.pass,
+      at: orderChecks.at,
+      by: users.name,
+    })
     .from(orderChecks)
     .leftJoin(users, eq(users.id, orderChecks.checkedById))
     .where(eq(orderChecks.orderId, orderId))
     .orderBy(desc(orderChecks.at));
-  const messages = await db.select().from(orderMessages).where(eq(orderMessages.orderId, orderId)).orderBy(asc(orderMessages.createdAt));
-  const [fee] = row.order.lensFeeItemId ? await db.select().from(feeItems).where(eq(feeItems.id, row.order.lensFeeItemId)) : [];
-  return { ...row, rx, events, checks: checks.map((c) => ({ ...c, report: c.report as PairReport })), messages, lensFee: fee ?? null, label: orderLabel(row.order.number) };
+  const messages = await db
+    .select()
+    .from(orderMessages)
+    .where(eq(orderMessages.orderId, orderId))
+    .orderBy(asc(orderMessages.createdAt));
+  const [fee] = row.order.lensFeeItemId
+    ? await db.select().from(feeItems).where(eq(feeItems.id, row.order.lensFeeItemId))
+    : [];
+  return {
+    ...row,
+    rx,
+    events,
+    checks: checks.map((c) => ({ ...c, report: c.report as PairReport })),
+    messages,
+    lensFee: fee ?? null,
+    label: orderLabel(row.order.number),
+  };
 }
 export type OrderDetail = NonNullable<Awaited<ReturnType<typeof orderDetail>>>;
 
 export async function listOrders(filter: { state?: OrderState | "open"; patientId?: string } = {}) {
   const where = and(
-    filter.state === "open" ? sql`${opticalOrders.state} not in ('collected', 'cancelled')` : filter.state ? eq(opticalOrders.state, filter.state) : undefined,
+    filter.state === "open"
+      ? sql`${opticalOrders.state} not in ('collected', 'cancelled')`
+      : filter.state
+        ? eq(opticalOrders.state, filter.state)
+        : undefined,
     filter.patientId ? eq(opticalOrders.patientId, filter.patientId) : undefined,
   );
   return db
@@ -150,28 +247,65 @@ export type SpectacleOrderInput = {
   notes: string;
 };
 
-export type ContactLensOrderInput = { patientId: string; prescriptionId: string; labId: string; boxesRight: number; boxesLeft: number; lensFeeItemId: string; notes: string };
+export type ContactLensOrderInput = {
+  patientId: string;
+  prescriptionId: string;
+  labId: string;
+  boxesRight: number;
+  boxesLeft: number;
+  lensFeeItemId: string;
+  notes: string;
+};
 
-async function checkCommon(tx: Tx, input: { patientId: string; prescriptionId: string; labId: string; lensFeeItemId: string }, kind: "spectacle" | "contact_lens") {
+async function checkCommon(
+  tx: Tx,
+  input: { patientId: string; prescriptionId: string; labId: string; lensFeeItemId: string },
+  kind: "spectacle" | "contact_lens",
+) {
   const rx = await prescriptionWithEyes(tx, input.prescriptionId);
-  if (!rx || rx.patientId !== input.patientId) throw new OrderError("Choose one of this patient's prescriptions.", 400, "prescriptionId");
-  if (rx.kind !== kind) throw new OrderError(kind === "spectacle" ? "A spectacle order needs a spectacle prescription." : "A contact-lens order needs a contact-lens prescription.", 400, "prescriptionId");
-  if (rx.expiresOn < new Date().toISOString().slice(0, 10)) throw new OrderError(`This prescription expired on ${rx.expiresOn}; the patient needs a new exam before an order is made from it.`, 400, "prescriptionId");
+  if (!rx || rx.patientId !== input.patientId)
+    throw new OrderError("Choose one of this patient's prescriptions.", 400, "prescriptionId");
+  if (rx.kind !== kind)
+    throw new OrderError(
+      kind === "spectacle"
+        ? "A spectacle order needs a spectacle prescription."
+        : "A contact-lens order needs a contact-lens prescription.",
+      400,
+      "prescriptionId",
+    );
+  if (rx.expiresOn < new Date().toISOString().slice(0, 10))
+    throw new OrderError(
+      `This prescription expired on ${rx.expiresOn}; the patient needs a new exam before an order is made from it.`,
+      400,
+      "prescriptionId",
+    );
   const [lab] = await tx.select().from(labs).where(eq(labs.id, input.labId));
   if (!lab || !lab.active) throw new OrderError("Choose a lab from the list.", 400, "labId");
   const [fee] = await tx.select().from(feeItems).where(eq(feeItems.id, input.lensFeeItemId));
-  if (!fee || !fee.active || fee.kind !== "item") throw new OrderError("Choose the lens price from the fee schedule.", 400, "lensFeeItemId");
+  if (!fee || !fee.active || fee.kind !== "item")
+    throw new OrderError("Choose the lens price from the fee schedule.", 400, "lensFeeItemId");
   return { rx, lab, fee };
 }
 
 async function insertOrder(tx: Tx, user: SessionUser, values: typeof opticalOrders.$inferInsert) {
-  const [o] = await tx.insert(opticalOrders).values(values).returning({ id: opticalOrders.id, number: opticalOrders.number, kind: opticalOrders.kind });
-  await tx.insert(orderEvents).values({ orderId: o!.id, kind: o!.kind, fromState: null, toState: "draft", actorUserId: user.id });
+  const [o] = await tx
+    .insert(opticalOrders)
+    .values(values)
+    .returning({ id: opticalOrders.id, number: opticalOrders.number, kind: opticalOrders.kind });
+  await tx
+    .insert(orderEvents)
+    .values({ orderId: o!.id, kind: o!.kind, fromState: null, toState: "draft", actorUserId: user.id });
   return o!;
 }
 
 /** Raises and issues the order's invoice (frame at its stock price, lenses at the fee schedule's), then links it. */
-async function raiseInvoice(user: SessionUser, orderId: string, patientId: string, lines: NewLine[], request?: Request) {
+async function raiseInvoice(
+  user: SessionUser,
+  orderId: string,
+  patientId: string,
+  lines: NewLine[],
+  request?: Request,
+) {
   try {
     const invoiceId = await createInvoice({ patientId, lines, actorUserId: user.id, request });
     await issueInvoice(invoiceId, user.id, request);
@@ -183,10 +317,28 @@ async function raiseInvoice(user: SessionUser, orderId: string, patientId: strin
   }
 }
 
-export function orderInvoiceLines(o: { kind: "spectacles" | "contact_lenses"; frameLabel: string | null; framePriceMinor: number | null; boxesRight: number | null; boxesLeft: number | null; number: number }, fee: { id: string }): NewLine[] {
+export function orderInvoiceLines(
+  o: {
+    kind: "spectacles" | "contact_lenses";
+    frameLabel: string | null;
+    framePriceMinor: number | null;
+    boxesRight: number | null;
+    boxesLeft: number | null;
+    number: number;
+  },
+  fee: { id: string },
+): NewLine[] {
   if (o.kind === "spectacles") {
     return [
-      { custom: { description: `Frame: ${o.frameLabel} (order ${orderLabel(o.number)})`, unitPriceMinor: o.framePriceMinor ?? 0, taxCategory: "standard", kind: "item" }, quantity: 1 },
+      {
+        custom: {
+          description: `Frame: ${o.frameLabel} (order ${orderLabel(o.number)})`,
+          unitPriceMinor: o.framePriceMinor ?? 0,
+          taxCategory: "standard",
+          kind: "item",
+        },
+        quantity: 1,
+      },
       { feeItemId: fee.id, quantity: 1 },
     ];
   }
@@ -197,8 +349,15 @@ export function orderInvoiceLines(o: { kind: "spectacles" | "contact_lenses"; fr
 export async function createSpectacleOrder(user: SessionUser, input: SpectacleOrderInput, request?: Request) {
   const created = await db.transaction(async (tx) => {
     const { fee } = await checkCommon(tx, input, "spectacle");
-    if (input.lensType !== "single_vision" && (isUndefinedOrNull(input.heightRightMm) || isUndefinedOrNull(input.heightLeftMm))) {
-      throw new OrderError("Give both fitting heights: bifocal, varifocal and occupational lenses are made to them.", 400, "heightRightMm");
+    if (
+      input.lensType !== "single_vision" &&
+      (isUndefinedOrNull(input.heightRightMm) || isUndefinedOrNull(input.heightLeftMm))
+    ) {
+      throw new OrderError(
+        "Give both fitting heights: bifocal, varifocal and occupational lenses are made to them.",
+        400,
+        "heightRightMm",
+      );
     }
     // Conditional decrement: the row lock it takes serialises two orders for the last frame.
     const [frame] = await tx
@@ -207,8 +366,17 @@ export async function createSpectacleOrder(user: SessionUser, input: SpectacleOr
       .where(and(eq(frames.id, input.frameId), eq(frames.active, true), sql`${frames.quantity} > 0`))
       .returning();
     if (!frame) {
-      const [exists] = await tx.select({ quantity: frames.quantity, active: frames.active }).from(frames).where(eq(frames.id, input.frameId));
-      throw new OrderError(exists?.active ? "That frame is out of stock. Choose another, or add stock in Settings → Frames." : "Choose a frame from the practice's stock.", 409, "frameId");
+      const [exists] = await tx
+        .select({ quantity: frames.quantity, active: frames.active })
+        .from(frames)
+        .where(eq(frames.id, input.frameId));
+      throw new OrderError(
+        exists?.active
+          ? "That frame is out of stock. Choose another, or add stock in Settings → Frames."
+          : "Choose a frame from the practice's stock.",
+        409,
+        "frameId",
+      );
     }
     const frameLabel = `${frame.supplier} ${frame.model}, ${frame.colour}, ${frame.size}`;
     const o = await insertOrder(tx, user, {
@@ -231,8 +399,32 @@ export async function createSpectacleOrder(user: SessionUser, input: SpectacleOr
       notes: input.notes,
       createdById: user.id,
     });
-    await audit({ action: "order.created", actorUserId: user.id, entityType: "optical_order", entityId: o.id, patientId: input.patientId, detail: { kind: "spectacles", frameId: frame.id }, request }, tx);
-    return { ...o, lines: orderInvoiceLines({ kind: "spectacles", frameLabel, framePriceMinor: frame.priceMinor, boxesRight: null, boxesLeft: null, number: o.number }, fee) };
+    await audit(
+      {
+        action: "order.created",
+        actorUserId: user.id,
+        entityType: "optical_order",
+        entityId: o.id,
+        patientId: input.patientId,
+        detail: { kind: "spectacles", frameId: frame.id },
+        request,
+      },
+      tx,
+    );
+    return {
+      ...o,
+      lines: orderInvoiceLines(
+        {
+          kind: "spectacles",
+          frameLabel,
+          framePriceMinor: frame.priceMinor,
+          boxesRight: null,
+          boxesLeft: null,
+          number: o.number,
+        },
+        fee,
+      ),
+    };
   });
   const invoiceId = await raiseInvoice(user, created.id, input.patientId, created.lines, request);
   return { id: created.id, invoiceId };
@@ -242,9 +434,43 @@ export async function createContactLensOrder(user: SessionUser, input: ContactLe
   const created = await db.transaction(async (tx) => {
     const { fee } = await checkCommon(tx, input, "contact_lens");
     if (input.boxesRight + input.boxesLeft <= 0) throw new OrderError("Order at least one box.", 400, "boxesRight");
-    const o = await insertOrder(tx, user, { kind: "contact_lenses", patientId: input.patientId, prescriptionId: input.prescriptionId, labId: input.labId, boxesRight: input.boxesRight, boxesLeft: input.boxesLeft, lensFeeItemId: fee.id, notes: input.notes, createdById: user.id });
-    await audit({ action: "order.created", actorUserId: user.id, entityType: "optical_order", entityId: o.id, patientId: input.patientId, detail: { kind: "contact_lenses" }, request }, tx);
-    return { ...o, lines: orderInvoiceLines({ kind: "contact_lenses", frameLabel: null, framePriceMinor: null, boxesRight: input.boxesRight, boxesLeft: input.boxesLeft, number: o.number }, fee) };
+    const o = await insertOrder(tx, user, {
+      kind: "contact_lenses",
+      patientId: input.patientId,
+      prescriptionId: input.prescriptionId,
+      labId: input.labId,
+      boxesRight: input.boxesRight,
+      boxesLeft: input.boxesLeft,
+      lensFeeItemId: fee.id,
+      notes: input.notes,
+      createdById: user.id,
+    });
+    await audit(
+      {
+        action: "order.created",
+        actorUserId: user.id,
+        entityType: "optical_order",
+        entityId: o.id,
+        patientId: input.patientId,
+        detail: { kind: "contact_lenses" },
+        request,
+      },
+      tx,
+    );
+    return {
+      ...o,
+      lines: orderInvoiceLines(
+        {
+          kind: "contact_lenses",
+          frameLabel: null,
+          framePriceMinor: null,
+          boxesRight: input.boxesRight,
+          boxesLeft: input.boxesLeft,
+          number: o.number,
+        },
+        fee,
+      ),
+    };
   });
   const invoiceId = await raiseInvoice(user, created.id, input.patientId, created.lines, request);
   return { id: created.id, invoiceId };
@@ -263,7 +489,11 @@ export async function raiseOrderInvoice(user: SessionUser, orderId: string, requ
 
 // ------------------------------------------------------------------------------------ moving
 
-type MoveOpts = { reason?: string; request?: Request; also?: (tx: Tx, order: typeof opticalOrders.$inferSelect) => Promise<void> };
+type MoveOpts = {
+  reason?: string;
+  request?: Request;
+  also?: (tx: Tx, order: typeof opticalOrders.$inferSelect) => Promise<void>;
+};
 
 /**
  * One move: UPDATE … WHERE id = ? AND state = expected. Nothing updated means someone else moved
@@ -278,7 +508,10 @@ async function move(user: SessionUser, orderId: string, expected: OrderState, to
         .where(and(eq(opticalOrders.id, orderId), eq(opticalOrders.state, expected)))
         .returning();
       if (!o) {
-        const [now] = await tx.select({ state: opticalOrders.state }).from(opticalOrders).where(eq(opticalOrders.id, orderId));
+        const [now] = await tx
+          .select({ state: opticalOrders.state })
+          .from(opticalOrders)
+          .where(eq(opticalOrders.id, orderId));
         if (!now) throw new OrderError("There is no such order.", 404);
         const [last] = await tx
           .select({ at: orderEvents.at, actor: users.name })
@@ -289,11 +522,34 @@ async function move(user: SessionUser, orderId: string, expected: OrderState, to
           .limit(1);
         const by = last?.actor ? ` by ${last.actor}` : "";
         const at = last ? ` at ${last.at.toISOString().slice(11, 16)} UTC` : "";
-        throw new OrderError(`This order was already marked "${STATE_LABEL[now.state]}"${by}${at}, so it was not marked "${STATE_LABEL[to]}". The page now shows where it stands.`, 409);
+        throw new OrderError(
+          `This order was already marked "${STATE_LABEL[now.state]}"${by}${at}, so it was not marked "${STATE_LABEL[to]}". The page now shows where it stands.`,
+          409,
+        );
       }
-      await tx.insert(orderEvents).values({ orderId, kind: o.kind, fromState: expected, toState: to, actorUserId: user.id, reason: opts.reason ?? "" });
+      await tx
+        .insert(orderEvents)
+        .values({
+          orderId,
+          kind: o.kind,
+          fromState: expected,
+          toState: to,
+          actorUserId: user.id,
+          reason: opts.reason ?? "",
+        });
       if (opts.also) await opts.also(tx, o);
-      await audit({ action: `order.${to}`, actorUserId: user.id, entityType: "optical_order", entityId: orderId, patientId: o.patientId, detail: { from: expected, reason: opts.reason ?? null }, request: opts.request }, tx);
+      await audit(
+        {
+          action: `order.${to}`,
+          actorUserId: user.id,
+          entityType: "optical_order",
+          entityId: orderId,
+          patientId: o.patientId,
+          detail: { from: expected, reason: opts.reason ?? null },
+          request: opts.request,
+        },
+        tx,
+      );
       return o;
     });
   } catch (error) {
@@ -308,7 +564,8 @@ async function move(user: SessionUser, orderId: string, expected: OrderState, to
 }
 
 export async function sendToLab(user: SessionUser, orderId: string, expected: OrderState, request?: Request) {
-  if (expected !== "draft" && expected !== "remake") throw new OrderError("Only a draft or a remake is sent to the lab.", 409);
+  if (expected !== "draft" && expected !== "remake")
+    throw new OrderError("Only a draft or a remake is sent to the lab.", 409);
   let messageId = "";
   await move(user, orderId, expected, "sent_to_lab", {
     request,
@@ -321,27 +578,49 @@ export async function sendToLab(user: SessionUser, orderId: string, expected: Or
   await tryOrderMessageNow(messageId);
 }
 
-export const markReceived = (user: SessionUser, orderId: string, request?: Request) => move(user, orderId, "sent_to_lab", "received", { request });
+export const markReceived = (user: SessionUser, orderId: string, request?: Request) =>
+  move(user, orderId, "sent_to_lab", "received", { request });
 
-export type EyeReading = { rx: string; add: string; horizontalPrism: number; horizontalBase: "in" | "out" | ""; verticalPrism: number; verticalBase: "up" | "down" | ""; pdMm: number | null; heightMm: number | null };
+export type EyeReading = {
+  rx: string;
+  add: string;
+  horizontalPrism: number;
+  horizontalBase: "in" | "out" | "";
+  verticalPrism: number;
+  verticalBase: "up" | "down" | "";
+  pdMm: number | null;
+  heightMm: number | null;
+};
 
 function orderedPrism(eye: RxWithEyes["right"]): PrismComponents {
-  if (!eye?.prismDioptres || !eye.prismBase) return { horizontal: 0, horizontalBase: null, vertical: 0, verticalBase: null };
+  if (!eye?.prismDioptres || !eye.prismBase)
+    return { horizontal: 0, horizontalBase: null, vertical: 0, verticalBase: null };
   const horizontal = eye.prismBase === "in" || eye.prismBase === "out";
   return horizontal
     ? { horizontal: eye.prismDioptres, horizontalBase: eye.prismBase as "in" | "out", vertical: 0, verticalBase: null }
-    : { horizontal: 0, horizontalBase: null, vertical: eye.prismDioptres, verticalBase: eye.prismBase as "up" | "down" };
+    : {
+        horizontal: 0,
+        horizontalBase: null,
+        vertical: eye.prismDioptres,
+        verticalBase: eye.prismBase as "up" | "down",
+      };
 }
 
 function orderedLens(eye: NonNullable<RxWithEyes["right"]>): LensRx {
-  return eye.addPower ? { sphere: eye.sphere, cylinder: eye.cylinder, axis: eye.axis, add: eye.addPower } : { sphere: eye.sphere, cylinder: eye.cylinder, axis: eye.axis };
+  return eye.addPower
+    ? { sphere: eye.sphere, cylinder: eye.cylinder, axis: eye.axis, add: eye.addPower }
+    : { sphere: eye.sphere, cylinder: eye.cylinder, axis: eye.axis };
 }
 
 /**
  * Reads the typed lensmeter values with the optics engine and runs the practice's dispensing
  * standard on the pair. A bad reading is refused with the field it belongs to.
  */
-export function runCheck(detail: Pick<OrderDetail, "rx" | "order">, readings: { right: EyeReading; left: EyeReading }, standard: PairReport["standard"]): PairReport {
+export function runCheck(
+  detail: Pick<OrderDetail, "rx" | "order">,
+  readings: { right: EyeReading; left: EyeReading },
+  standard: PairReport["standard"],
+): PairReport {
   const eyes = {} as Record<"right" | "left", PairEye>;
   for (const side of ["right", "left"] as const) {
     const ordered = detail.rx[side];
@@ -351,12 +630,22 @@ export function runCheck(detail: Pick<OrderDetail, "rx" | "order">, readings: { 
     try {
       measured = parseRx(r.rx);
     } catch (error) {
-      if (error instanceof RxError) throw new OrderError(`${side === "right" ? "Right" : "Left"} reading: ${error.message}. Type it as sphere, cylinder and axis, e.g. -2.25 -0.75 x 175.`, 400, `${side}.rx`);
+      if (error instanceof RxError)
+        throw new OrderError(
+          `${side === "right" ? "Right" : "Left"} reading: ${error.message}. Type it as sphere, cylinder and axis, e.g. -2.25 -0.75 x 175.`,
+          400,
+          `${side}.rx`,
+        );
       throw error;
     }
     if (ordered.addPower) {
       const add = Number(r.add.replace(/^\+/, ""));
-      if (!r.add.trim() || !Number.isFinite(add) || add <= 0 || add > 4.5) throw new OrderError(`${side === "right" ? "Right" : "Left"} add: an add of ${ordered.addPower.toFixed(2)} was ordered; type the add read on the lensmeter, e.g. +2.00.`, 400, `${side}.add`);
+      if (!r.add.trim() || !Number.isFinite(add) || add <= 0 || add > 4.5)
+        throw new OrderError(
+          `${side === "right" ? "Right" : "Left"} add: an add of ${ordered.addPower.toFixed(2)} was ordered; type the add read on the lensmeter, e.g. +2.00.`,
+          400,
+          `${side}.add`,
+        );
       measured = { ...measured, add };
     }
     eyes[side] = {
@@ -365,9 +654,9 @@ export function runCheck(detail: Pick<OrderDetail, "rx" | "order">, readings: { 
       orderedPrism: orderedPrism(ordered),
       measuredPrism: {
         horizontal: r.horizontalPrism,
-        horizontalBase: r.horizontalPrism ? (r.horizontalBase || null) as "in" | "out" | null : null,
+        horizontalBase: r.horizontalPrism ? ((r.horizontalBase || null) as "in" | "out" | null) : null,
         vertical: r.verticalPrism,
-        verticalBase: r.verticalPrism ? (r.verticalBase || null) as "up" | "down" | null : null,
+        verticalBase: r.verticalPrism ? ((r.verticalBase || null) as "up" | "down" | null) : null,
       },
       orderedPdMm: side === "right" ? detail.order.pdRightMm : detail.order.pdLeftMm,
       orderedHeightMm: side === "right" ? detail.order.heightRightMm : detail.order.heightLeftMm,
@@ -376,7 +665,10 @@ export function runCheck(detail: Pick<OrderDetail, "rx" | "order">, readings: { 
     };
   }
   try {
-    return checkMountedPair(eyes.right, eyes.left, { standard, lensType: checkLensType(detail.order.lensType ?? "single_vision") });
+    return checkMountedPair(eyes.right, eyes.left, {
+      standard,
+      lensType: checkLensType(detail.order.lensType ?? "single_vision"),
+    });
   } catch (error) {
     if (error instanceof RxError) throw new OrderError(`${error.message}.`, 400);
     throw error;
@@ -384,7 +676,12 @@ export function runCheck(detail: Pick<OrderDetail, "rx" | "order">, readings: { 
 }
 
 /** Received → checked, with the lensmeter readings and the report kept whatever the result. */
-export async function recordCheck(user: SessionUser, orderId: string, readings: { right: EyeReading; left: EyeReading }, request?: Request) {
+export async function recordCheck(
+  user: SessionUser,
+  orderId: string,
+  readings: { right: EyeReading; left: EyeReading },
+  request?: Request,
+) {
   const d = await orderDetail(orderId);
   if (!d) throw new OrderError("There is no such order.", 404);
   if (d.order.kind !== "spectacles") throw new OrderError("Contact lenses are not checked on the lensmeter.", 409);
@@ -394,26 +691,51 @@ export async function recordCheck(user: SessionUser, orderId: string, readings: 
     request,
     reason: report.pass ? "Passed" : "Failed",
     also: async (tx) => {
-      await tx.insert(orderChecks).values({ orderId, standard: report.standard, readings, report, pass: report.pass, checkedById: user.id });
+      await tx
+        .insert(orderChecks)
+        .values({ orderId, standard: report.standard, readings, report, pass: report.pass, checkedById: user.id });
     },
   });
   return report;
 }
 
 /** Checked (or received, for contact lenses) → ready to collect; e-mails the patient if they accept e-mails. */
-export async function markReady(user: SessionUser, orderId: string, expected: OrderState, overrideReason: string, request?: Request) {
+export async function markReady(
+  user: SessionUser,
+  orderId: string,
+  expected: OrderState,
+  overrideReason: string,
+  request?: Request,
+) {
   let messageId = "";
   await move(user, orderId, expected, "ready_to_collect", {
     request,
     reason: overrideReason,
     also: async (tx, o) => {
       if (o.kind === "spectacles") {
-        const [last] = await tx.select({ pass: orderChecks.pass }).from(orderChecks).where(eq(orderChecks.orderId, orderId)).orderBy(desc(orderChecks.at)).limit(1);
+        const [last] = await tx
+          .select({ pass: orderChecks.pass })
+          .from(orderChecks)
+          .where(eq(orderChecks.orderId, orderId))
+          .orderBy(desc(orderChecks.at))
+          .limit(1);
         if (!last) throw new OrderError("Check the spectacles on the lensmeter first.", 409);
         if (!last.pass) {
-          if (!(OVERRIDE_ROLES as readonly string[]).includes(user.role)) throw new OrderError("These spectacles failed the check. Only an optician or optometrist can release them, with a reason; otherwise send them for a remake.", 403);
-          if (overrideReason.trim().length < 5) throw new OrderError("Give the reason for releasing spectacles that failed the check.", 400, "overrideReason");
-          await tx.update(opticalOrders).set({ overrideReason: overrideReason.trim() }).where(eq(opticalOrders.id, orderId));
+          if (!(OVERRIDE_ROLES as readonly string[]).includes(user.role))
+            throw new OrderError(
+              "These spectacles failed the check. Only an optician or optometrist can release them, with a reason; otherwise send them for a remake.",
+              403,
+            );
+          if (overrideReason.trim().length < 5)
+            throw new OrderError(
+              "Give the reason for releasing spectacles that failed the check.",
+              400,
+              "overrideReason",
+            );
+          await tx
+            .update(opticalOrders)
+            .set({ overrideReason: overrideReason.trim() })
+            .where(eq(opticalOrders.id, orderId));
         }
       }
       messageId = await queueOrderMessage(tx, orderId, "patient_ready", null);
@@ -422,19 +744,36 @@ export async function markReady(user: SessionUser, orderId: string, expected: Or
   await tryOrderMessageNow(messageId);
 }
 
-export async function markRemake(user: SessionUser, orderId: string, expected: OrderState, reason: string, request?: Request) {
-  if (reason.trim().length < 3) throw new OrderError("Say why the order is being remade (for example: axis out of tolerance).", 400, "reason");
+export async function markRemake(
+  user: SessionUser,
+  orderId: string,
+  expected: OrderState,
+  reason: string,
+  request?: Request,
+) {
+  if (reason.trim().length < 3)
+    throw new OrderError("Say why the order is being remade (for example: axis out of tolerance).", 400, "reason");
   await move(user, orderId, expected, "remake", { request, reason: reason.trim() });
 }
 
 /** Cancels: the frame goes back into stock in the same transaction; an unpaid invoice is voided. */
-export async function cancelOrder(user: SessionUser, orderId: string, expected: OrderState, reason: string, request?: Request) {
+export async function cancelOrder(
+  user: SessionUser,
+  orderId: string,
+  expected: OrderState,
+  reason: string,
+  request?: Request,
+) {
   if (reason.trim().length < 3) throw new OrderError("Say why the order is cancelled.", 400, "reason");
   const o = await move(user, orderId, expected, "cancelled", {
     request,
     reason: reason.trim(),
     also: async (tx, order) => {
-      if (order.frameId) await tx.update(frames).set({ quantity: sql`${frames.quantity} + 1` }).where(eq(frames.id, order.frameId));
+      if (order.frameId)
+        await tx
+          .update(frames)
+          .set({ quantity: sql`${frames.quantity} + 1` })
+          .where(eq(frames.id, order.frameId));
     },
   });
   if (o.invoiceId) {
@@ -449,14 +788,27 @@ export async function cancelOrder(user: SessionUser, orderId: string, expected: 
 }
 
 /** Ready → collected; the balance of the order's invoice may be taken in the same step. */
-export async function collectOrder(user: SessionUser, orderId: string, payment: { method: "cash" | "card_desk"; amountMinor: number; reference: string } | null, request?: Request) {
+export async function collectOrder(
+  user: SessionUser,
+  orderId: string,
+  payment: { method: "cash" | "card_desk"; amountMinor: number; reference: string } | null,
+  request?: Request,
+) {
   const [o] = await db.select().from(opticalOrders).where(eq(opticalOrders.id, orderId));
   if (!o) throw new OrderError("There is no such order.", 404);
-  if (o.state !== "ready_to_collect") throw new OrderError(`This order is "${STATE_LABEL[o.state]}", not ready to collect.`, 409);
+  if (o.state !== "ready_to_collect")
+    throw new OrderError(`This order is "${STATE_LABEL[o.state]}", not ready to collect.`, 409);
   if (payment && payment.amountMinor > 0) {
     if (!o.invoiceId) throw new OrderError("This order has no invoice to pay.", 409);
     try {
-      await recordDeskPayment({ invoiceId: o.invoiceId, method: payment.method, amountMinor: payment.amountMinor, reference: payment.reference, actorUserId: user.id, request });
+      await recordDeskPayment({
+        invoiceId: o.invoiceId,
+        method: payment.method,
+        amountMinor: payment.amountMinor,
+        reference: payment.reference,
+        actorUserId: user.id,
+        request,
+      });
     } catch (error) {
       if (error instanceof BillingError) throw new OrderError(error.message, 400, "amount");
       throw error;

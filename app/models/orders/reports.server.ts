@@ -26,7 +26,14 @@ export async function overdueAtLab(overdueDays: number) {
 
 /** Remakes in the period (the day range is inclusive, in UTC dates). */
 export async function remakes(period: ReportPeriod) {
-  const res = await db.execute<{ id: string; number: number; at: string; reason: string; lab: string; actor: string | null }>(sql`
+  const res = await db.execute<{
+    id: string;
+    number: number;
+    at: string;
+    reason: string;
+    lab: string;
+    actor: string | null;
+  }>(sql`
     select o.id, o.number, e.at::text as at, e.reason, l.name as lab, u.name as actor
     from order_events e join optical_orders o on o.id = e.order_id join labs l on l.id = o.lab_id left join users u on u.id = e.actor_user_id
     where e.to_state = 'remake' and e.at >= ${period.from}::date and e.at < ${period.to}::date + 1

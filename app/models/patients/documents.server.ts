@@ -8,7 +8,12 @@ import { storage, StorageUnavailableError } from "~/utils/storage.server";
 
 /** Largest upload accepted, bytes. */
 export const MAX_UPLOAD_BYTES = 15 * 1024 * 1024;
-export const DOCUMENT_KINDS = { fundus_photo: "Fundus photograph", field_printout: "Visual field printout", outside_record: "Outside record", other: "Other" } as const;
+export const DOCUMENT_KINDS = {
+  fundus_photo: "Fundus photograph",
+  field_printout: "Visual field printout",
+  outside_record: "Outside record",
+  other: "Other",
+} as const;
 export type DocumentKind = keyof typeof DOCUMENT_KINDS;
 
 type Sniffed = { contentType: "image/jpeg" | "image/png" | "image/webp" | "application/pdf"; extension: string };
@@ -18,7 +23,8 @@ export function sniffType(bytes: Uint8Array): Sniffed | null {
   const starts = (sig: number[], at = 0) => sig.every((b, i) => bytes[at + i] === b);
   if (starts([0xff, 0xd8, 0xff])) return { contentType: "image/jpeg", extension: "jpg" };
   if (starts([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a])) return { contentType: "image/png", extension: "png" };
-  if (starts([0x52, 0x49, 0x46, 0x46]) && starts([0x57, 0x45, 0x42, 0x50], 8)) return { contentType: "image/webp", extension: "webp" };
+  if (starts([0x52, 0x49, 0x46, 0x46]) && starts([0x57, 0x45, 0x42, 0x50], 8))
+    return { contentType: "image/webp", extension: "webp" };
   if (starts([0x25, 0x50, 0x44, 0x46, 0x2d])) return { contentType: "application/pdf", extension: "pdf" };
   return null;
 }
@@ -33,17 +39,33 @@ export class UploadError extends Error {
 }
 
 /** Checks, stores (with a thumbnail for images) and records one upload. */
-export async function saveUpload(user: SessionUser, input: { patientId: string; examId: string | null; kind: DocumentKind; description: string; file: File }, request: Request) {
+export async function saveUpload(
+  user: SessionUser,
+  input: { patientId: string; examId: string | null; kind: DocumentKind; description: string; file: File },
+  request: Request,
+) {
   const { file } = input;
   if (file.size === 0) throw new UploadError("The file is empty.");
-  if (file.size > MAX_UPLOAD_BYTES) throw new UploadError(`The file is ${(file.size / 1024 / 1024).toFixed(1)} MB; the limit is ${MAX_UPLOAD_BYTES / 1024 / 1024} MB.`, 413);
+  if (file.size > MAX_UPLOAD_BYTES)
+    throw new UploadError(
+      `The file is ${(file.size / 1024 / 1024).toFixed(1)} MB; the limit is ${MAX_UPLOAD_BYTES / 1024 / 1024} MB.`,
+      413,
+    );
   const bytes = new Uint8Array(await file.arrayBuffer());
   const type = sniffType(bytes);
-  if (!type) throw new UploadError("Only JPEG, PNG or WebP images and PDF documents can be attached (checked from the file's content, not its name).", 415);
+  if (!type)
+    throw new UploadError(
+      "Only JPEG, PNG or WebP images and PDF documents can be attached (checked from the file's content, not its name).",
+      415,
+    );
   let thumbnail: Buffer | null = null;
   if (type.contentType !== "application/pdf") {
     try {
-      thumbnail = await sharp(bytes).rotate().resize(320, 320, { fit: "inside", withoutEnlargement: true }).jpeg({ quality: 78 }).toBuffer();
+      thumbnail = await sharp(bytes)
+        .rotate()
+        .resize(320, 320, { fit: "inside", withoutEnlargement: true })
+        .jpeg({ quality: 78 })
+        .toBuffer();
     } catch {
       throw new UploadError("The image could not be read; it may be damaged.", 415);
     }
@@ -54,10 +76,16 @@ export async function saveUpload(user: SessionUser, input: { patientId: string; 
   let thumbnailKey: string | null = null;
   try {
     key = await storage.put(bytes, { prefix: "documents", extension: type.extension, contentType: type.contentType });
-    thumbnailKey = thumbnail ? await storage.put(thumbnail, { prefix: "thumbnails", extension: "jpg", contentType: "image/jpeg" }) : null;
+    thumbnailKey = thumbnail
+      ? await storage.put(thumbnail, { prefix: "thumbnails", extension: "jpg", contentType: "image/jpeg" })
+      : null;
   } catch (e) {
     if (key) await storage.delete(key).catch(() => undefined);
-    if (e instanceof StorageUnavailableError) throw new UploadError("The file could not be stored just now: file storage is not reachable. Nothing was saved; please try the upload again in a few minutes.", 503);
+    if (e instanceof StorageUnavailableError)
+      throw new UploadError(
+        "The file could not be stored just now: file storage is not reachable. Nothing was saved; please try the upload again in a few minutes.",
+        503,
+      );
     throw e;
   }
   const storedKey = key;
@@ -78,7 +106,18 @@ export async function saveUpload(user: SessionUser, input: { patientId: string; 
           uploadedById: user.id,
         })
         .returning({ id: documents.id });
-      await audit({ action: "document.uploaded", actorUserId: user.id, entityType: "document", entityId: row!.id, patientId: input.patientId, detail: { examId: input.examId, kind: input.kind, contentType: type.contentType, sizeBytes: file.size }, request }, tx);
+      await audit(
+        {
+          action: "document.uploaded",
+          actorUserId: user.id,
+          entityType: "document",
+          entityId: row!.id,
+          patientId: input.patientId,
+          detail: { examId: input.examId, kind: input.kind, contentType: type.contentType, sizeBytes: file.size },
+          request,
+        },
+        tx,
+      );
       return row!.id;
     });
   } catch (e) {

@@ -45,20 +45,41 @@ export function searchCondition(q: string): SQL | undefined {
   return and(...words.map((w) => sql`${patients.searchText} like ${`%${escapeLike(w)}%`}`));
 }
 
-export type PatientHit = { id: string; firstName: string; lastName: string; dateOfBirth: string; phone: string | null; email: string | null };
+export type PatientHit = {
+  id: string;
+  firstName: string;
+  lastName: string;
+  dateOfBirth: string;
+  phone: string | null;
+  email: string | null;
+};
 
 export async function searchPatients(q: string, limit = 8): Promise<PatientHit[]> {
   const where = searchCondition(q);
   if (!where) return [];
-  return db
-    .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth, phone: patients.phone, email: patients.email })
-    .from(patients)
-    .where(where)
-    // Ordered by lower(name), which no index provides: otherwise the planner may walk the whole
-    // name index filtering on search_text (measured 130 ms at 100,000 patients) instead of
-    // taking the trigram index's matches and sorting them (a few ms).
-    .orderBy(sql`lower(${patients.lastName})`, sql`lower(${patients.firstName})`, asc(patients.dateOfBirth), asc(patients.id))
-    .limit(limit);
+  return (
+    db
+      .select({
+        id: patients.id,
+        firstName: patients.firstName,
+        lastName: patients.lastName,
+        dateOfBirth: patients.dateOfBirth,
+        phone: patients.phone,
+        email: patients.email,
+      })
+      .from(patients)
+      .where(where)
+      // Ordered by lower(name), which no index provides: otherwise the planner may walk the whole
+      // name index filtering on search_text (measured 130 ms at 100,000 patients) instead of
+      // taking the trigram index's matches and sorting them (a few ms).
+      .orderBy(
+        sql`lower(${patients.lastName})`,
+        sql`lower(${patients.firstName})`,
+        asc(patients.dateOfBirth),
+        asc(patients.id),
+      )
+      .limit(limit)
+  );
 }
 
 function filterCondition(filter: ListQuery["filter"]): SQL | undefined {
@@ -74,11 +95,21 @@ export async function listPatients(query: ListQuery) {
     query.sort === "dob"
       ? [d(patients.dateOfBirth), d(patients.id)]
       : query.sort === "lastExam"
-        ? [query.dir === "desc" ? sql`${patients.lastExamAt} desc nulls last` : sql`${patients.lastExamAt} asc nulls first`, d(patients.id)]
+        ? [
+            query.dir === "desc"
+              ? sql`${patients.lastExamAt} desc nulls last`
+              : sql`${patients.lastExamAt} asc nulls first`,
+            d(patients.id),
+          ]
         : query.sort === "created"
           ? [d(patients.createdAt), d(patients.id)]
           : query.q
-            ? [d(sql`lower(${patients.lastName})`), d(sql`lower(${patients.firstName})`), d(patients.dateOfBirth), d(patients.id)] // see searchPatients
+            ? [
+                d(sql`lower(${patients.lastName})`),
+                d(sql`lower(${patients.firstName})`),
+                d(patients.dateOfBirth),
+                d(patients.id),
+              ] // see searchPatients
             : [d(patients.lastName), d(patients.firstName), d(patients.dateOfBirth), d(patients.id)];
   const cap = (query.page + 10) * query.size + 1;
   const [rows, [total]] = await Promise.all([
@@ -99,16 +130,33 @@ export async function listPatients(query: ListQuery) {
       .offset((query.page - 1) * query.size),
     // Counted only up to ten pages past this one: an exact count of a large table costs more than
     // the page itself, and "more than 2,750" is all a pager needs.
-    db.select({ n: count() }).from(db.select({ one: sql`1` }).from(patients).where(where).limit(cap).as("capped")),
+    db.select({ n: count() }).from(
+      db
+        .select({ one: sql`1` })
+        .from(patients)
+        .where(where)
+        .limit(cap)
+        .as("capped"),
+    ),
   ]);
   const n = total?.n ?? 0;
   return { rows, total: Math.min(n, cap - 1), totalIsExact: n < cap };
 }
 
 /** Patients with the same name (case-insensitive) and date of birth: likely the same person. */
-export async function findDuplicates(input: { firstName: string; lastName: string; dateOfBirth: string }, excludeId?: string) {
+export async function findDuplicates(
+  input: { firstName: string; lastName: string; dateOfBirth: string },
+  excludeId?: string,
+) {
   return db
-    .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth, phone: patients.phone, email: patients.email })
+    .select({
+      id: patients.id,
+      firstName: patients.firstName,
+      lastName: patients.lastName,
+      dateOfBirth: patients.dateOfBirth,
+      phone: patients.phone,
+      email: patients.email,
+    })
     .from(patients)
     .where(
       and(

@@ -23,11 +23,20 @@ export async function invitePatientToPortal(actor: SessionUser, patientId: strin
   if (!email) throw new PortalInviteError("Add the patient's e-mail address first: the invitation goes there.");
 
   const token = await db.transaction(async (tx) => {
-    const [linked] = await tx.select({ id: users.id, hasPassword: users.passwordHash, active: users.active }).from(users).where(eq(users.patientId, patient.id));
+    const [linked] = await tx
+      .select({ id: users.id, hasPassword: users.passwordHash, active: users.active })
+      .from(users)
+      .where(eq(users.patientId, patient.id));
     let userId = linked?.id;
-    if (linked?.hasPassword && linked.active) throw new PortalInviteError("This patient already has an active online account. They can reset their password from the sign-in page.");
+    if (linked?.hasPassword && linked.active)
+      throw new PortalInviteError(
+        "This patient already has an active online account. They can reset their password from the sign-in page.",
+      );
     if (!userId) {
-      const [clash] = await tx.select({ id: users.id }).from(users).where(sql`lower(${users.email}) = ${email}`);
+      const [clash] = await tx
+        .select({ id: users.id })
+        .from(users)
+        .where(sql`lower(${users.email}) = ${email}`);
       if (clash) throw new PortalInviteError(`The address ${email} already belongs to another account.`);
       const [created] = await tx
         .insert(users)
@@ -37,7 +46,17 @@ export async function invitePatientToPortal(actor: SessionUser, patientId: strin
     } else if (!linked?.active) {
       await tx.update(users).set({ active: true, updatedAt: new Date() }).where(eq(users.id, userId));
     }
-    await audit({ action: "portal.invited", actorUserId: actor.id, patientId: patient.id, entityType: "user", entityId: userId, request }, tx);
+    await audit(
+      {
+        action: "portal.invited",
+        actorUserId: actor.id,
+        patientId: patient.id,
+        entityType: "user",
+        entityId: userId,
+        request,
+      },
+      tx,
+    );
     return issueUserToken(userId, "invite", tx);
   });
 

@@ -1,6 +1,17 @@
 import { and, asc, desc, eq, gte, inArray, lt, ne, notInArray } from "drizzle-orm";
 import { data } from "react-router";
-import { appointmentChangeRequests, appointments, appointmentTypes, invoices, patients, payments, practiceSettings, providerBreaks, users, workingHours } from "~/db/schema";
+import {
+  appointmentChangeRequests,
+  appointments,
+  appointmentTypes,
+  invoices,
+  patients,
+  payments,
+  practiceSettings,
+  providerBreaks,
+  users,
+  workingHours,
+} from "~/db/schema";
 import { addDays, slotsForDay, startOfLocalDay } from "~/lib/scheduling";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
@@ -8,21 +19,46 @@ import { db } from "~/utils/db.server";
 /** The signed-in patient and the one patient record they may reach. Anything else is 404. */
 export async function requirePortalPatient(request: Request) {
   const user = await requireRole(request, ["patient"]);
-  if (!user.patientId) throw data({ error: "This account is not linked to a patient record. Please contact the practice." }, { status: 404 });
+  if (!user.patientId)
+    throw data(
+      { error: "This account is not linked to a patient record. Please contact the practice." },
+      { status: 404 },
+    );
   return { user, patientId: user.patientId };
 }
 
 export async function portalSettings() {
   const [s] = await db
-    .select({ name: practiceSettings.name, phone: practiceSettings.phone, email: practiceSettings.email, timeZone: practiceSettings.timeZone, currency: practiceSettings.currency, cancelCutoffHours: practiceSettings.portalCancelCutoffHours, bookingDays: practiceSettings.portalBookingDays })
+    .select({
+      name: practiceSettings.name,
+      phone: practiceSettings.phone,
+      email: practiceSettings.email,
+      timeZone: practiceSettings.timeZone,
+      currency: practiceSettings.currency,
+      cancelCutoffHours: practiceSettings.portalCancelCutoffHours,
+      bookingDays: practiceSettings.portalBookingDays,
+    })
     .from(practiceSettings)
     .limit(1);
-  return s ?? { name: "The practice", phone: "", email: "", timeZone: "Europe/London", currency: "GBP", cancelCutoffHours: 24, bookingDays: 90 };
+  return (
+    s ?? {
+      name: "The practice",
+      phone: "",
+      email: "",
+      timeZone: "Europe/London",
+      currency: "GBP",
+      cancelCutoffHours: 24,
+      bookingDays: 90,
+    }
+  );
 }
 
 /** One of the patient's own appointments, or 404 (another patient's id reveals nothing). */
 export async function ownAppointment(patientId: string, appointmentId: string) {
-  const [row] = await db.select().from(appointments).where(and(eq(appointments.id, appointmentId), eq(appointments.patientId, patientId)));
+  const [row] = await db
+    .select()
+    .from(appointments)
+    .where(and(eq(appointments.id, appointmentId), eq(appointments.patientId, patientId)));
   if (!row) throw data({ error: "Not found." }, { status: 404 });
   return row;
 }
@@ -50,7 +86,12 @@ export async function visitsOf(patientId: string) {
         .from(appointmentChangeRequests)
         .where(and(inArray(appointmentChangeRequests.appointmentId, ids), eq(appointmentChangeRequests.status, "open")))
     : [];
-  return rows.map((r) => ({ ...r, start: r.start.toISOString(), end: r.end.toISOString(), moveRequest: open.find((o) => o.appointmentId === r.id)?.message ?? null }));
+  return rows.map((r) => ({
+    ...r,
+    start: r.start.toISOString(),
+    end: r.end.toISOString(),
+    moveRequest: open.find((o) => o.appointmentId === r.id)?.message ?? null,
+  }));
 }
 
 /** Whether the patient may still cancel online: a live, not-yet-started visit before the cut-off. */
@@ -61,29 +102,65 @@ export function cancellable(visit: { start: string | Date; status: string }, cut
 
 export async function invoicesOf(patientId: string) {
   const list = await db
-    .select({ id: invoices.id, number: invoices.number, status: invoices.status, totalMinor: invoices.totalMinor, paidMinor: invoices.paidMinor, currency: invoices.currency, issuedAt: invoices.issuedAt })
+    .select({
+      id: invoices.id,
+      number: invoices.number,
+      status: invoices.status,
+      totalMinor: invoices.totalMinor,
+      paidMinor: invoices.paidMinor,
+      currency: invoices.currency,
+      issuedAt: invoices.issuedAt,
+    })
     .from(invoices)
     .where(and(eq(invoices.patientId, patientId), ne(invoices.status, "draft")))
     .orderBy(desc(invoices.issuedAt));
   const pays = list.length
     ? await db
-        .select({ id: payments.id, invoiceId: payments.invoiceId, amountMinor: payments.amountMinor, method: payments.method, receivedAt: payments.receivedAt })
+        .select({
+          id: payments.id,
+          invoiceId: payments.invoiceId,
+          amountMinor: payments.amountMinor,
+          method: payments.method,
+          receivedAt: payments.receivedAt,
+        })
         .from(payments)
-        .where(and(inArray(payments.invoiceId, list.map((i) => i.id)), eq(payments.status, "succeeded")))
+        .where(
+          and(
+            inArray(
+              payments.invoiceId,
+              list.map((i) => i.id),
+            ),
+            eq(payments.status, "succeeded"),
+          ),
+        )
         .orderBy(asc(payments.receivedAt))
     : [];
-  return list.map((i) => ({ ...i, issuedAt: i.issuedAt?.toISOString() ?? null, payments: pays.filter((p) => p.invoiceId === i.id).map((p) => ({ ...p, receivedAt: p.receivedAt?.toISOString() ?? null })) }));
+  return list.map((i) => ({
+    ...i,
+    issuedAt: i.issuedAt?.toISOString() ?? null,
+    payments: pays
+      .filter((p) => p.invoiceId === i.id)
+      .map((p) => ({ ...p, receivedAt: p.receivedAt?.toISOString() ?? null })),
+  }));
 }
 
 export async function ownInvoice(patientId: string, invoiceId: string) {
-  const [row] = await db.select({ id: invoices.id, status: invoices.status }).from(invoices).where(and(eq(invoices.id, invoiceId), eq(invoices.patientId, patientId), ne(invoices.status, "draft")));
+  const [row] = await db
+    .select({ id: invoices.id, status: invoices.status })
+    .from(invoices)
+    .where(and(eq(invoices.id, invoiceId), eq(invoices.patientId, patientId), ne(invoices.status, "draft")));
   if (!row) throw data({ error: "Not found." }, { status: 404 });
   return row;
 }
 
 export async function onlineTypes() {
   return db
-    .select({ id: appointmentTypes.id, name: appointmentTypes.name, durationMinutes: appointmentTypes.durationMinutes, performerRoles: appointmentTypes.performerRoles })
+    .select({
+      id: appointmentTypes.id,
+      name: appointmentTypes.name,
+      durationMinutes: appointmentTypes.durationMinutes,
+      performerRoles: appointmentTypes.performerRoles,
+    })
     .from(appointmentTypes)
     .where(and(eq(appointmentTypes.active, true), eq(appointmentTypes.onlineBooking, true)))
     .orderBy(asc(appointmentTypes.name));
@@ -97,7 +174,13 @@ export type FreeSlot = { start: string; providerId: string; providerName: string
  * A slot shown here can still be taken by someone else first; the booking itself is guarded by
  * the database's exclusion constraint.
  */
-export async function freeSlots(typeId: string, date: string, timeZone: string, now = new Date(), siteId?: string): Promise<FreeSlot[]> {
+export async function freeSlots(
+  typeId: string,
+  date: string,
+  timeZone: string,
+  now = new Date(),
+  siteId?: string,
+): Promise<FreeSlot[]> {
   const [type] = (await onlineTypes()).filter((t) => t.id === typeId);
   if (!type) return [];
   const providers = await db
@@ -109,7 +192,10 @@ export async function freeSlots(typeId: string, date: string, timeZone: string, 
   const ids = providers.map((p) => p.id);
   const [hours, breaks] = await Promise.all([
     // At one site: only the days a provider works there.
-    db.select().from(workingHours).where(and(inArray(workingHours.providerId, ids), siteId ? eq(workingHours.siteId, siteId) : undefined)),
+    db
+      .select()
+      .from(workingHours)
+      .where(and(inArray(workingHours.providerId, ids), siteId ? eq(workingHours.siteId, siteId) : undefined)),
     db.select().from(providerBreaks).where(inArray(providerBreaks.providerId, ids)),
   ]);
   const dayStart = startOfLocalDay(date, timeZone);
@@ -117,7 +203,14 @@ export async function freeSlots(typeId: string, date: string, timeZone: string, 
   const taken = await db
     .select({ providerId: appointments.providerId, start: appointments.startsAt, end: appointments.endsAt })
     .from(appointments)
-    .where(and(inArray(appointments.providerId, ids), lt(appointments.startsAt, dayEnd), gte(appointments.endsAt, dayStart), notInArray(appointments.status, ["cancelled", "no_show"])));
+    .where(
+      and(
+        inArray(appointments.providerId, ids),
+        lt(appointments.startsAt, dayEnd),
+        gte(appointments.endsAt, dayStart),
+        notInArray(appointments.status, ["cancelled", "no_show"]),
+      ),
+    );
   const earliest = now.getTime() + 60 * 60_000;
   const slots: FreeSlot[] = [];
   for (const p of providers) {
@@ -134,6 +227,9 @@ export async function freeSlots(typeId: string, date: string, timeZone: string, 
 }
 
 export async function patientName(patientId: string) {
-  const [p] = await db.select({ firstName: patients.firstName, lastName: patients.lastName }).from(patients).where(eq(patients.id, patientId));
+  const [p] = await db
+    .select({ firstName: patients.firstName, lastName: patients.lastName })
+    .from(patients)
+    .where(eq(patients.id, patientId));
   return p ?? null;
 }

@@ -27,17 +27,36 @@ export function contactLensPower(spectacle: SphCyl, vertexMm: number) {
   return { exact, rounded: roundRx(exact, CONTACT_LENS_STEP_D) };
 }
 
-export type IssueInput = { kind: "spectacle" | "contact_lens"; notes: string; lensName?: string; baseCurveMm?: number | null; diameterMm?: number | null };
+export type IssueInput = {
+  kind: "spectacle" | "contact_lens";
+  notes: string;
+  lensName?: string;
+  baseCurveMm?: number | null;
+  diameterMm?: number | null;
+};
 
 /** Issues a prescription from the signed exam's final refraction, in one transaction. */
-export async function issuePrescription(user: SessionUser, exam: { id: string; patientId: string }, input: IssueInput, request: Request) {
+export async function issuePrescription(
+  user: SessionUser,
+  exam: { id: string; patientId: string },
+  input: IssueInput,
+  request: Request,
+) {
   return db.transaction(async (tx) => {
     const [locked] = await tx.select({ status: exams.status }).from(exams).where(eq(exams.id, exam.id)).for("update");
-    if (locked?.status !== "signed") throw data({ ok: false, message: "Sign the exam before issuing a prescription from it." }, { status: 409 });
-    const finals = await tx.select().from(examRefractions).where(and(eq(examRefractions.examId, exam.id), eq(examRefractions.kind, "final")));
-    if (!finals.length) throw data({ ok: false, message: "The exam has no final refraction to prescribe from." }, { status: 409 });
+    if (locked?.status !== "signed")
+      throw data({ ok: false, message: "Sign the exam before issuing a prescription from it." }, { status: 409 });
+    const finals = await tx
+      .select()
+      .from(examRefractions)
+      .where(and(eq(examRefractions.examId, exam.id), eq(examRefractions.kind, "final")));
+    if (!finals.length)
+      throw data({ ok: false, message: "The exam has no final refraction to prescribe from." }, { status: 409 });
     const [settings] = await tx.select().from(practiceSettings).where(eq(practiceSettings.id, 1));
-    const months = input.kind === "spectacle" ? (settings?.spectacleRxValidityMonths ?? 24) : (settings?.contactLensRxValidityMonths ?? 12);
+    const months =
+      input.kind === "spectacle"
+        ? (settings?.spectacleRxValidityMonths ?? 24)
+        : (settings?.contactLensRxValidityMonths ?? 12);
     const issuedAt = new Date();
     const [rx] = await tx
       .insert(prescriptions)
@@ -85,7 +104,18 @@ export async function issuePrescription(user: SessionUser, exam: { id: string; p
         });
       }
     }
-    await audit({ action: "prescription.issued", actorUserId: user.id, entityType: "prescription", entityId: rx!.id, patientId: exam.patientId, detail: { kind: input.kind, examId: exam.id }, request }, tx);
+    await audit(
+      {
+        action: "prescription.issued",
+        actorUserId: user.id,
+        entityType: "prescription",
+        entityId: rx!.id,
+        patientId: exam.patientId,
+        detail: { kind: input.kind, examId: exam.id },
+        request,
+      },
+      tx,
+    );
     return rx!.id;
   });
 }
@@ -96,11 +126,23 @@ export async function prescriptionsOf(patientId: string, examId?: string) {
     .from(prescriptions)
     .where(and(eq(prescriptions.patientId, patientId), examId ? eq(prescriptions.examId, examId) : undefined))
     .orderBy(desc(prescriptions.issuedAt));
-  const eyes = list.length ? await db.select().from(prescriptionEyes).where(inArray(prescriptionEyes.prescriptionId, list.map((p) => p.id))) : [];
+  const eyes = list.length
+    ? await db
+        .select()
+        .from(prescriptionEyes)
+        .where(
+          inArray(
+            prescriptionEyes.prescriptionId,
+            list.map((p) => p.id),
+          ),
+        )
+    : [];
   return list.map((p) => ({
     ...p,
     issuedAt: p.issuedAt.toISOString(),
-    eyes: eyes.filter((e) => e.prescriptionId === p.id).sort((a, b) => (a.eye === "right" ? -1 : b.eye === "right" ? 1 : 0)),
+    eyes: eyes
+      .filter((e) => e.prescriptionId === p.id)
+      .sort((a, b) => (a.eye === "right" ? -1 : b.eye === "right" ? 1 : 0)),
   }));
 }
 export type PrescriptionView = Awaited<ReturnType<typeof prescriptionsOf>>[number];

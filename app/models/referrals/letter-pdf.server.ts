@@ -35,7 +35,8 @@ export type LetterInput = {
   attachments: LetterAttachment[];
 };
 
-export const CONFIDENTIAL_FOOTER = "Confidential: patient information for the named recipient only. If received in error, tell the sender and delete it.";
+export const CONFIDENTIAL_FOOTER =
+  "Confidential: patient information for the named recipient only. If received in error, tell the sender and delete it.";
 export const CAUTION =
   "The findings and the urgency were proposed from the exam record to support the optometrist's judgement; they are not a diagnosis. Check the measurements before acting on them. Local law and licensed practice govern referrals.";
 
@@ -67,7 +68,11 @@ class Writer {
   }
 
   /** One line of text at (x, y) in the font chain. */
-  draw(page: PDFPage, text: string, opts: { x: number; y: number; size: number; face?: Face; color?: ReturnType<typeof rgb> }) {
+  draw(
+    page: PDFPage,
+    text: string,
+    opts: { x: number; y: number; size: number; face?: Face; color?: ReturnType<typeof rgb> },
+  ) {
     return this.fonts.draw(page, text, opts);
   }
 
@@ -91,7 +96,10 @@ class Writer {
     return wrapText(text, width, (line) => this.fonts.width(line, size, face));
   }
 
-  text(text: string, opts: { size?: number; bold?: boolean; color?: ReturnType<typeof rgb>; indent?: number; gap?: number } = {}) {
+  text(
+    text: string,
+    opts: { size?: number; bold?: boolean; color?: ReturnType<typeof rgb>; indent?: number; gap?: number } = {},
+  ) {
     const size = opts.size ?? 10.5;
     const face: Face = opts.bold ? "bold" : "regular";
     const indent = opts.indent ?? 0;
@@ -111,7 +119,12 @@ class Writer {
   }
 
   rule() {
-    this.page.drawLine({ start: { x: MARGIN.left, y: this.y }, end: { x: A4.width - MARGIN.right, y: this.y }, thickness: 0.6, color: LINE });
+    this.page.drawLine({
+      start: { x: MARGIN.left, y: this.y },
+      end: { x: A4.width - MARGIN.right, y: this.y },
+      thickness: 0.6,
+      color: LINE,
+    });
     this.y -= 8;
   }
 
@@ -130,14 +143,34 @@ class Writer {
     };
     const head = drawRow(columns, true);
     const paint = (row: ReturnType<typeof drawRow>, header: boolean) => {
-      if (header) this.page.drawRectangle({ x: MARGIN.left, y: this.y - row.height, width: this.width, height: row.height, color: rgb(0.93, 0.96, 0.96) });
+      if (header)
+        this.page.drawRectangle({
+          x: MARGIN.left,
+          y: this.y - row.height,
+          width: this.width,
+          height: row.height,
+          color: rgb(0.93, 0.96, 0.96),
+        });
       let x = MARGIN.left;
       row.wrapped.forEach((lines, i) => {
-        lines.forEach((line, j) => this.draw(this.page, line, { x: x + pad, y: this.y - pad - size - j * leading, size, face: row.face, color: INK }));
+        lines.forEach((line, j) =>
+          this.draw(this.page, line, {
+            x: x + pad,
+            y: this.y - pad - size - j * leading,
+            size,
+            face: row.face,
+            color: INK,
+          }),
+        );
         x += cols[i]!;
       });
       this.y -= row.height;
-      this.page.drawLine({ start: { x: MARGIN.left, y: this.y }, end: { x: A4.width - MARGIN.right, y: this.y }, thickness: 0.5, color: LINE });
+      this.page.drawLine({
+        start: { x: MARGIN.left, y: this.y },
+        end: { x: A4.width - MARGIN.right, y: this.y },
+        thickness: 0.5,
+        color: LINE,
+      });
     };
     this.ensure(head.height + leading * 2 + pad * 2);
     paint(head, true);
@@ -161,15 +194,30 @@ export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
   doc.setAuthor(input.optometrist.name);
   doc.setSubject(`Referral letter ${input.reference}`);
 
-  const w = new Writer(doc, fonts, `${input.practice.name} · Referral ${input.reference} · ${input.patient.name}, born ${input.patient.dateOfBirth}`);
+  const w = new Writer(
+    doc,
+    fonts,
+    `${input.practice.name} · Referral ${input.reference} · ${input.patient.name}, born ${input.patient.dateOfBirth}`,
+  );
 
   // Letterhead.
   w.text(input.practice.name, { size: 18, bold: true, color: ACCENT, gap: 0 });
-  w.text([...input.practice.lines, [input.practice.phone && `Tel ${input.practice.phone}`, input.practice.email].filter(Boolean).join(" · ")].filter(Boolean).join("\n"), { size: 9, color: MUTED, gap: 6 });
+  w.text(
+    [
+      ...input.practice.lines,
+      [input.practice.phone && `Tel ${input.practice.phone}`, input.practice.email].filter(Boolean).join(" · "),
+    ]
+      .filter(Boolean)
+      .join("\n"),
+    { size: 9, color: MUTED, gap: 6 },
+  );
   w.rule();
 
   // Addressee and date.
-  w.text([input.recipient.name, input.recipient.clinic, ...input.recipient.lines].filter(Boolean).join("\n"), { size: 10.5, gap: 8 });
+  w.text([input.recipient.name, input.recipient.clinic, ...input.recipient.lines].filter(Boolean).join("\n"), {
+    size: 10.5,
+    gap: 8,
+  });
   w.text(`${input.dated}\nOur reference: ${input.reference}`, { size: 10, color: MUTED, gap: 10 });
 
   w.text(`Referral — ${input.urgency.label} (${input.urgency.timeFrame})`, { size: 14, bold: true, gap: 4 });
@@ -179,8 +227,13 @@ export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
     [[input.patient.name, input.patient.dateOfBirth, input.patient.sex, input.patient.reference]],
   );
   if (input.patient.address) w.text(`Address: ${input.patient.address}`, { size: 9.5, color: MUTED, gap: 2 });
-  if (input.clinical) w.text(`Telephone: ${input.clinical.phone}\nGP: ${input.clinical.gp}`, { size: 9.5, color: MUTED, gap: 6 });
-  w.text(`Examined on ${input.exam.examinedOn}${input.exam.signedOn ? `; exam signed ${input.exam.signedOn}` : ""}.`, { size: 9.5, color: MUTED, gap: 8 });
+  if (input.clinical)
+    w.text(`Telephone: ${input.clinical.phone}\nGP: ${input.clinical.gp}`, { size: 9.5, color: MUTED, gap: 6 });
+  w.text(`Examined on ${input.exam.examinedOn}${input.exam.signedOn ? `; exam signed ${input.exam.signedOn}` : ""}.`, {
+    size: 9.5,
+    color: MUTED,
+    gap: 8,
+  });
 
   w.heading("Reason for referral");
   w.text(input.reason);
@@ -188,12 +241,18 @@ export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
     w.y -= 4;
     w.text(`Urgency: ${input.urgency.label} (${input.urgency.timeFrame}).`, { bold: true, gap: 2 });
     if (input.triage?.length) {
-      w.text(`The exam findings call for ${input.urgency.proposed ? input.urgency.proposed.toLowerCase() : "referral"} because of:`, { gap: 2 });
+      w.text(
+        `The exam findings call for ${input.urgency.proposed ? input.urgency.proposed.toLowerCase() : "referral"} because of:`,
+        { gap: 2 },
+      );
       for (const t of input.triage) w.text(`• ${t.text} (${t.urgency.toLowerCase()})`, { size: 10, gap: 1 });
     }
     if (input.urgency.overrideReason && input.urgency.proposed) {
       w.y -= 3;
-      w.text(`The optometrist chose ${input.urgency.label.toLowerCase()} rather than ${input.urgency.proposed.toLowerCase()}: ${input.urgency.overrideReason}`, { gap: 4 });
+      w.text(
+        `The optometrist chose ${input.urgency.label.toLowerCase()} rather than ${input.urgency.proposed.toLowerCase()}: ${input.urgency.overrideReason}`,
+        { gap: 4 },
+      );
     }
   }
   if (input.body.trim()) {
@@ -202,7 +261,12 @@ export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
   }
 
   w.heading("Findings");
-  if (input.findings.length) w.table(["Finding", "Eye", "Measured"], [5, 1, 2.4], input.findings.map((f) => [f.finding, f.eye, f.value]));
+  if (input.findings.length)
+    w.table(
+      ["Finding", "Eye", "Measured"],
+      [5, 1, 2.4],
+      input.findings.map((f) => [f.finding, f.eye, f.value]),
+    );
   if (input.additionalFindings.trim()) w.text(input.additionalFindings);
   w.text(CAUTION, { size: 8.5, color: MUTED, gap: 6 });
 
@@ -230,7 +294,11 @@ export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
 
   if (input.attachments.length) {
     w.heading("Enclosures");
-    for (const a of input.attachments) w.text(`• ${a.name}${a.description ? ` — ${a.description}` : ""}${a.bytes ? " (appended)" : " (not appended: see the practice's records)"}`, { size: 10 });
+    for (const a of input.attachments)
+      w.text(
+        `• ${a.name}${a.description ? ` — ${a.description}` : ""}${a.bytes ? " (appended)" : " (not appended: see the practice's records)"}`,
+        { size: 10 },
+      );
   }
 
   // Signature block.
@@ -239,7 +307,10 @@ export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
   w.text("Yours sincerely,", { gap: 26 });
   w.page.drawLine({ start: { x: 56, y: w.y + 8 }, end: { x: 256, y: w.y + 8 }, thickness: 0.6, color: MUTED });
   w.text(input.optometrist.name, { bold: true, gap: 0 });
-  w.text(`${input.optometrist.role}${input.optometrist.licence ? ` · Registration no. ${input.optometrist.licence}` : ""}`, { size: 9.5, gap: 0 });
+  w.text(
+    `${input.optometrist.role}${input.optometrist.licence ? ` · Registration no. ${input.optometrist.licence}` : ""}`,
+    { size: 9.5, gap: 0 },
+  );
   w.text(input.practice.name, { size: 9.5, color: MUTED });
 
   // Enclosures appended after the letter.
@@ -253,11 +324,22 @@ export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
       } else if (a.contentType === "image/jpeg" || a.contentType === "image/png") {
         const image = a.contentType === "image/png" ? await doc.embedPng(a.bytes) : await doc.embedJpg(a.bytes);
         const page = doc.addPage([A4.width, A4.height]);
-        w.draw(page, w.wrap(`Enclosure: ${a.name}`, "bold", 10, A4.width - MARGIN.left - MARGIN.right)[0] ?? "", { x: MARGIN.left, y: A4.height - MARGIN.top, size: 10, face: "bold", color: INK });
+        w.draw(page, w.wrap(`Enclosure: ${a.name}`, "bold", 10, A4.width - MARGIN.left - MARGIN.right)[0] ?? "", {
+          x: MARGIN.left,
+          y: A4.height - MARGIN.top,
+          size: 10,
+          face: "bold",
+          color: INK,
+        });
         const maxW = A4.width - MARGIN.left - MARGIN.right;
         const maxH = A4.height - MARGIN.top - MARGIN.bottom - 30;
         const scale = Math.min(maxW / image.width, maxH / image.height, 1);
-        page.drawImage(image, { x: MARGIN.left, y: A4.height - MARGIN.top - 20 - image.height * scale, width: image.width * scale, height: image.height * scale });
+        page.drawImage(image, {
+          x: MARGIN.left,
+          y: A4.height - MARGIN.top - 20 - image.height * scale,
+          width: image.width * scale,
+          height: image.height * scale,
+        });
       }
     } catch {
       // An enclosure that cannot be read is listed above and not appended.
@@ -269,8 +351,15 @@ export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
   pages.forEach((page, i) => {
     const { width } = page.getSize();
     const label = `Page ${i + 1} of ${pages.length}`;
-    page.drawLine({ start: { x: MARGIN.left, y: 46 }, end: { x: width - MARGIN.right, y: 46 }, thickness: 0.5, color: LINE });
-    w.wrap(CONFIDENTIAL_FOOTER, "regular", 7.5, width - MARGIN.left - MARGIN.right - 70).forEach((line, j) => w.draw(page, line, { x: MARGIN.left, y: 34 - j * 9, size: 7.5, color: MUTED }));
+    page.drawLine({
+      start: { x: MARGIN.left, y: 46 },
+      end: { x: width - MARGIN.right, y: 46 },
+      thickness: 0.5,
+      color: LINE,
+    });
+    w.wrap(CONFIDENTIAL_FOOTER, "regular", 7.5, width - MARGIN.left - MARGIN.right - 70).forEach((line, j) =>
+      w.draw(page, line, { x: MARGIN.left, y: 34 - j * 9, size: 7.5, color: MUTED }),
+    );
     w.draw(page, label, { x: width - MARGIN.right - fonts.width(label, 8.5), y: 34, size: 8.5, color: MUTED });
   });
 

@@ -16,19 +16,28 @@ export const LINK_TTL_DAYS = 60;
 
 function keys(): Buffer[] {
   // Every configured secret verifies (rotation); the first signs.
-  return env.SESSION_SECRET.split(",").map((secret) => createHmac("sha256", secret).update("dioptra referral-link v1").digest());
+  return env.SESSION_SECRET.split(",").map((secret) =>
+    createHmac("sha256", secret).update("dioptra referral-link v1").digest(),
+  );
 }
 
 const mac = (key: Buffer, payload: string) => createHmac("sha256", key).update(payload).digest();
 
 export function signLink(link: { id: string; referralId: string; expiresAt: Date }): string {
-  const payload = Buffer.from(JSON.stringify({ l: link.id, r: link.referralId, e: Math.floor(link.expiresAt.getTime() / 1000) })).toString("base64url");
+  const payload = Buffer.from(
+    JSON.stringify({ l: link.id, r: link.referralId, e: Math.floor(link.expiresAt.getTime() / 1000) }),
+  ).toString("base64url");
   return `${payload}.${mac(keys()[0]!, payload).toString("base64url")}`;
 }
 
 export type LinkCheck =
   | { ok: true; linkId: string; referralId: string }
-  | { ok: false; reason: "malformed" | "bad signature" | "expired" | "revoked" | "unknown"; linkId?: string; referralId?: string };
+  | {
+      ok: false;
+      reason: "malformed" | "bad signature" | "expired" | "revoked" | "unknown";
+      linkId?: string;
+      referralId?: string;
+    };
 
 const UUID = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 
@@ -40,10 +49,15 @@ const B64URL = /^[A-Za-z0-9_-]+$/;
  * bytes, since decoders accept "+" for "-", padding, stray characters and changed spare bits in
  * the last character, which would let several spellings of one link work.
  */
-export async function verifyLink(token: string | undefined, now = new Date(), tx: Tx | typeof db = db): Promise<LinkCheck> {
+export async function verifyLink(
+  token: string | undefined,
+  now = new Date(),
+  tx: Tx | typeof db = db,
+): Promise<LinkCheck> {
   if (!token || token.length > 400) return { ok: false, reason: "malformed" };
   const [payload, signature, extra] = token.split(".");
-  if (!payload || !signature || extra !== undefined || !B64URL.test(payload) || !/^[A-Za-z0-9_-]{43}$/.test(signature)) return { ok: false, reason: "malformed" };
+  if (!payload || !signature || extra !== undefined || !B64URL.test(payload) || !/^[A-Za-z0-9_-]{43}$/.test(signature))
+    return { ok: false, reason: "malformed" };
   const given = Buffer.from(signature, "utf8");
   const valid = keys().some((key) => {
     const expected = Buffer.from(mac(key, payload).toString("base64url"), "utf8");
@@ -56,7 +70,14 @@ export async function verifyLink(token: string | undefined, now = new Date(), tx
   } catch {
     return { ok: false, reason: "malformed" };
   }
-  if (typeof claims.l !== "string" || typeof claims.r !== "string" || typeof claims.e !== "number" || !UUID.test(claims.l) || !UUID.test(claims.r)) return { ok: false, reason: "malformed" };
+  if (
+    typeof claims.l !== "string" ||
+    typeof claims.r !== "string" ||
+    typeof claims.e !== "number" ||
+    !UUID.test(claims.l) ||
+    !UUID.test(claims.r)
+  )
+    return { ok: false, reason: "malformed" };
   const ids = { linkId: claims.l, referralId: claims.r };
   if (claims.e * 1000 <= now.getTime()) return { ok: false, reason: "expired", ...ids };
   const [row] = await tx.select().from(referralLinks).where(eq(referralLinks.id, claims.l)).limit(1);

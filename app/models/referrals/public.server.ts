@@ -17,7 +17,19 @@ export async function linkRefusal(check: Extract<LinkCheck, { ok: false }>, requ
 }
 
 /** Audits an accepted access and stamps the link's last use. */
-export async function linkAccess(check: { linkId: string; referralId: string }, patientId: string, request: Request, what: string) {
+export async function linkAccess(
+  check: { linkId: string; referralId: string },
+  patientId: string,
+  request: Request,
+  what: string,
+) {
   await db.update(referralLinks).set({ lastOpenedAt: new Date() }).where(eq(referralLinks.id, check.linkId));
-  await audit({ action: "referral.link_opened", entityType: "referral", entityId: check.referralId, patientId, detail: { linkId: check.linkId, what }, request });
+  await audit({
+    action: "referral.link_opened",
+    entityType: "referral",
+    entityId: check.referralId,
+    patientId,
+    detail: { linkId: check.linkId, what },
+    request,
+  });
 }

@@ -19,9 +19,14 @@ export async function loadDayList(request: Request) {
   const today = localParts(new Date(), timeZone).date;
   const date = /^\d{4}-\d{2}-\d{2}$/.test(url.searchParams.get("date") ?? "") ? url.searchParams.get("date")! : today;
   const asked = url.searchParams.get("provider");
-  const provider = asked === "all" || providers.some((p) => p.id === asked) ? asked! : user.role === "optometrist" ? user.id : "all";
+  const provider =
+    asked === "all" || providers.some((p) => p.id === asked) ? asked! : user.role === "optometrist" ? user.id : "all";
   const { start, end } = localDayRange(date, timeZone);
-  const rows = await appointmentsBetween(start, end, { providerId: provider === "all" ? undefined : provider, siteId: site === "all" ? undefined : site, includeCancelled: true });
+  const rows = await appointmentsBetween(start, end, {
+    providerId: provider === "all" ? undefined : provider,
+    siteId: site === "all" ? undefined : site,
+    includeCancelled: true,
+  });
   return {
     user: { id: user.id, role: user.role },
     timeZone,
@@ -47,7 +52,11 @@ export async function loadDayList(request: Request) {
   };
 }
 
-const statusSchema = z.object({ intent: z.literal("status"), appointmentId: z.uuid(), status: z.enum(APPOINTMENT_STATUSES) });
+const statusSchema = z.object({
+  intent: z.literal("status"),
+  appointmentId: z.uuid(),
+  status: z.enum(APPOINTMENT_STATUSES),
+});
 
 /** Shared by the day list and the appointment page: change a status, open the exam when it starts. */
 export async function statusAction(request: Request) {
@@ -63,4 +72,3 @@ export async function statusAction(request: Request) {
     throw error;
   }
 }
-

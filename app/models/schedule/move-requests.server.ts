@@ -48,8 +48,22 @@ export async function settleMoveRequest(request: Request, form: FormData) {
       .update(appointmentChangeRequests)
       .set({ status: "done", handledById: user.id, handledAt: new Date() })
       .where(and(eq(appointmentChangeRequests.id, parsed.data.requestId), eq(appointmentChangeRequests.status, "open")))
-      .returning({ patientId: appointmentChangeRequests.patientId, appointmentId: appointmentChangeRequests.appointmentId });
-    if (row) await audit({ action: "appointment.move_request_settled", actorUserId: user.id, patientId: row.patientId, entityType: "appointment", entityId: row.appointmentId, request }, tx);
+      .returning({
+        patientId: appointmentChangeRequests.patientId,
+        appointmentId: appointmentChangeRequests.appointmentId,
+      });
+    if (row)
+      await audit(
+        {
+          action: "appointment.move_request_settled",
+          actorUserId: user.id,
+          patientId: row.patientId,
+          entityType: "appointment",
+          entityId: row.appointmentId,
+          request,
+        },
+        tx,
+      );
     return row;
   });
   if (!done) throw data({ error: "That request has already been dealt with." }, { status: 409 });

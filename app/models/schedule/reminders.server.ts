@@ -18,7 +18,15 @@ import { practiceSchedule } from "./schedule-settings.server";
 
 export type MessageKind = "confirmation" | "reminder" | "cancellation" | "update";
 type Appointment = typeof appointments.$inferSelect;
-type Settings = { timeZone: string; reminderHoursBefore: number; name: string; phone: string; email: string; addressLine1: string; city: string };
+type Settings = {
+  timeZone: string;
+  reminderHoursBefore: number;
+  name: string;
+  phone: string;
+  email: string;
+  addressLine1: string;
+  city: string;
+};
 
 export const APPOINTMENT_MAIL_QUEUE = "appointment-mail";
 
@@ -26,12 +34,17 @@ export const APPOINTMENT_MAIL_QUEUE = "appointment-mail";
 // MAIL_RETRY_DELAY_SECONDS shortens the first delay (the tests use 1 s).
 const QUEUE_DEFAULTS = { retryLimit: 10, retryDelay: 30, retryBackoff: true, expireInSeconds: 120 };
 export function mailRetryOptions() {
-  return { retryLimit: QUEUE_DEFAULTS.retryLimit, retryBackoff: true, retryDelay: Number(process.env.MAIL_RETRY_DELAY_SECONDS ?? QUEUE_DEFAULTS.retryDelay) };
+  return {
+    retryLimit: QUEUE_DEFAULTS.retryLimit,
+    retryBackoff: true,
+    retryDelay: Number(process.env.MAIL_RETRY_DELAY_SECONDS ?? QUEUE_DEFAULTS.retryDelay),
+  };
 }
 
 /** Writes the message row and queues its job in the caller's transaction. */
 export async function queueAppointmentMessage(tx: Tx, appt: Appointment, kind: MessageKind, settings: Settings) {
-  const dueAt = kind === "reminder" ? new Date(appt.startsAt.getTime() - settings.reminderHoursBefore * 3_600_000) : new Date();
+  const dueAt =
+    kind === "reminder" ? new Date(appt.startsAt.getTime() - settings.reminderHoursBefore * 3_600_000) : new Date();
   const tooLate = kind === "reminder" && dueAt.getTime() < Date.now();
   const [row] = await tx
     .insert(appointmentMessages)
@@ -41,26 +54,48 @@ export async function queueAppointmentMessage(tx: Tx, appt: Appointment, kind: M
       sequence: kind === "update" ? appt.revision : 0,
       dueAt,
       status: tooLate ? "skipped" : "queued",
-      skippedReason: tooLate ? `booked less than ${settings.reminderHoursBefore} h ahead; the confirmation serves` : null,
+      skippedReason: tooLate
+        ? `booked less than ${settings.reminderHoursBefore} h ahead; the confirmation serves`
+        : null,
     })
     .onConflictDoNothing()
     .returning({ id: appointmentMessages.id });
   if (!row || tooLate) return;
-  await appointmentMail.enqueue({ messageId: row.id }, { tx, startAfter: kind === "reminder" ? dueAt : undefined, singletonKey: `${row.id}:${appt.revision}`, ...mailRetryOptions() });
+  await appointmentMail.enqueue(
+    { messageId: row.id },
+    {
+      tx,
+      startAfter: kind === "reminder" ? dueAt : undefined,
+      singletonKey: `${row.id}:${appt.revision}`,
+      ...mailRetryOptions(),
+    },
+  );
 }
 
 /** After a move: the reminder goes out the set time before the new start (if not already sent). */
 export async function rescheduleReminder(tx: Tx, appt: Appointment, settings: Settings) {
   const dueAt = new Date(appt.startsAt.getTime() - settings.reminderHoursBefore * 3_600_000);
-  const [existing] = await tx.select().from(appointmentMessages).where(and(eq(appointmentMessages.appointmentId, appt.id), eq(appointmentMessages.kind, "reminder")));
+  const [existing] = await tx
+    .select()
+    .from(appointmentMessages)
+    .where(and(eq(appointmentMessages.appointmentId, appt.id), eq(appointmentMessages.kind, "reminder")));
   if (!existing) return queueAppointmentMessage(tx, appt, "reminder", settings);
   if (existing.status === "sent") return;
   const tooLate = dueAt.getTime() < Date.now();
   await tx
     .update(appointmentMessages)
-    .set({ dueAt, status: tooLate ? "skipped" : "queued", skippedReason: tooLate ? `moved to less than ${settings.reminderHoursBefore} h ahead` : null, lastError: null })
+    .set({
+      dueAt,
+      status: tooLate ? "skipped" : "queued",
+      skippedReason: tooLate ? `moved to less than ${settings.reminderHoursBefore} h ahead` : null,
+      lastError: null,
+    })
     .where(eq(appointmentMessages.id, existing.id));
-  if (!tooLate) await appointmentMail.enqueue({ messageId: existing.id }, { tx, startAfter: dueAt, singletonKey: `${existing.id}:${appt.revision}`, ...mailRetryOptions() });
+  if (!tooLate)
+    await appointmentMail.enqueue(
+      { messageId: existing.id },
+      { tx, startAfter: dueAt, singletonKey: `${existing.id}:${appt.revision}`, ...mailRetryOptions() },
+    );
 }
 
 /** The address calendar replies and ORGANIZER use: the practice's own, else the sending address. */
@@ -158,7 +193,13 @@ export function composeAppointmentMail(l: Loaded, settings: Settings): Mail {
     to: l.patient.email!,
     subject,
     text: `${body}\n${settings.name}\n`,
-    attachments: [{ filename: kind === "cancellation" ? "cancelled-appointment.ics" : "appointment.ics", content: ics, contentType: `text/calendar; charset=utf-8; method=${kind === "cancellation" ? "CANCEL" : "REQUEST"}` }],
+    attachments: [
+      {
+        filename: kind === "cancellation" ? "cancelled-appointment.ics" : "appointment.ics",
+        content: ics,
+        contentType: `text/calendar; charset=utf-8; method=${kind === "cancellation" ? "CANCEL" : "REQUEST"}`,
+      },
+    ],
     // Reminders are the e-mail a patient may stop without stopping the rest (RFC 8058 one-click).
     ...(kind === "reminder" ? { unsubscribe: { patientId: l.appt.patientId, list: "reminders" as const } } : {}),
   };
@@ -174,7 +215,8 @@ export function useAppointmentMailSender(next: Sender | null) {
 /** Why a message should not be sent now, or null to send it. */
 function reasonToSkip(l: Loaded): string | null {
   const { kind } = l.message;
-  if (kind !== "cancellation" && (l.appt.status === "cancelled" || l.appt.status === "no_show")) return `appointment ${l.appt.status === "cancelled" ? "cancelled" : "missed"}`;
+  if (kind !== "cancellation" && (l.appt.status === "cancelled" || l.appt.status === "no_show"))
+    return `appointment ${l.appt.status === "cancelled" ? "cancelled" : "missed"}`;
   // Moved again before this update went: the later update carries the newest time and sequence.
   if (kind === "update" && l.appt.revision !== l.message.sequence) return "superseded by a later move";
   if (kind === "reminder" && l.appt.startsAt.getTime() < Date.now()) return "appointment already started";
@@ -186,7 +228,10 @@ function reasonToSkip(l: Loaded): string | null {
 export type DeliveryResult = "sent" | "skipped" | "already done" | "not due";
 
 /** The job: send one message at most once. Throws on a failed send so the queue retries it. */
-export async function deliverAppointmentMessage(messageId: string, job: { retryCount: number; retryLimit: number } = { retryCount: 0, retryLimit: 0 }): Promise<DeliveryResult> {
+export async function deliverAppointmentMessage(
+  messageId: string,
+  job: { retryCount: number; retryLimit: number } = { retryCount: 0, retryLimit: 0 },
+): Promise<DeliveryResult> {
   const settings = await practiceSchedule();
   try {
     return await db.transaction(async (tx) => {
@@ -194,10 +239,21 @@ export async function deliverAppointmentMessage(messageId: string, job: { retryC
         .select({
           message: appointmentMessages,
           appt: appointments,
-          patient: { firstName: patients.firstName, lastName: patients.lastName, email: patients.email, remindersByEmail: patients.remindersByEmail },
+          patient: {
+            firstName: patients.firstName,
+            lastName: patients.lastName,
+            email: patients.email,
+            remindersByEmail: patients.remindersByEmail,
+          },
           typeName: appointmentTypes.name,
           providerName: users.name,
-          site: { name: sites.name, addressLine1: sites.addressLine1, city: sites.city, phone: sites.phone, siteCount: sql<number>`(select count(*)::int from sites where active)` },
+          site: {
+            name: sites.name,
+            addressLine1: sites.addressLine1,
+            city: sites.city,
+            phone: sites.phone,
+            siteCount: sql<number>`(select count(*)::int from sites where active)`,
+          },
           roomName: rooms.name,
         })
         .from(appointmentMessages)
@@ -214,14 +270,23 @@ export async function deliverAppointmentMessage(messageId: string, job: { retryC
       if (row.message.kind === "reminder" && row.message.dueAt.getTime() > Date.now() + 60_000) return "not due";
       const skip = reasonToSkip(row);
       if (skip) {
-        await tx.update(appointmentMessages).set({ status: "skipped", skippedReason: skip }).where(eq(appointmentMessages.id, messageId));
+        await tx
+          .update(appointmentMessages)
+          .set({ status: "skipped", skippedReason: skip })
+          .where(eq(appointmentMessages.id, messageId));
         return "skipped";
       }
       const mail = await prepareMail(composeAppointmentMail(row, settings));
       await sender(mail);
       await tx
         .update(appointmentMessages)
-        .set({ status: "sent", sentAt: new Date(), recipient: mail.to, attempts: row.message.attempts + 1, lastError: null })
+        .set({
+          status: "sent",
+          sentAt: new Date(),
+          recipient: mail.to,
+          attempts: row.message.attempts + 1,
+          lastError: null,
+        })
         .where(eq(appointmentMessages.id, messageId));
       return "sent";
     });
@@ -229,34 +294,73 @@ export async function deliverAppointmentMessage(messageId: string, job: { retryC
     const last = job.retryCount >= job.retryLimit;
     await db
       .update(appointmentMessages)
-      .set({ attempts: job.retryCount + 1, lastError: (error as Error).message.slice(0, 500), status: last ? "failed" : "queued" })
+      .set({
+        attempts: job.retryCount + 1,
+        lastError: (error as Error).message.slice(0, 500),
+        status: last ? "failed" : "queued",
+      })
       .where(and(eq(appointmentMessages.id, messageId), eq(appointmentMessages.status, "queued")));
     throw error;
   }
 }
 
-export const appointmentMail = defineJob<{ messageId: string }>(APPOINTMENT_MAIL_QUEUE, async (data, job) => {
-  await deliverAppointmentMessage(data.messageId, job);
-}, QUEUE_DEFAULTS);
+export const appointmentMail = defineJob<{ messageId: string }>(
+  APPOINTMENT_MAIL_QUEUE,
+  async (data, job) => {
+    await deliverAppointmentMessage(data.messageId, job);
+  },
+  QUEUE_DEFAULTS,
+);
 
 /**
  * The front desk's "send the reminder now": the appointment's one reminder goes out at once
  * instead of at its set time. Refused when it has already been sent (never twice) or the visit is over.
  */
-export async function sendReminderNow(actorId: string, appointmentId: string, request?: Request): Promise<{ ok: true } | { ok: false; error: string }> {
+export async function sendReminderNow(
+  actorId: string,
+  appointmentId: string,
+  request?: Request,
+): Promise<{ ok: true } | { ok: false; error: string }> {
   const { audit } = await import("~/utils/audit.server");
   const settings = await practiceSchedule();
   return db.transaction(async (tx) => {
     const [appt] = await tx.select().from(appointments).where(eq(appointments.id, appointmentId)).for("update");
     if (!appt) return { ok: false as const, error: "No such appointment." };
-    if (!["booked", "confirmed"].includes(appt.status) || appt.startsAt.getTime() < Date.now()) return { ok: false as const, error: "Reminders are sent only for appointments still to come." };
-    let [m] = await tx.select().from(appointmentMessages).where(and(eq(appointmentMessages.appointmentId, appointmentId), eq(appointmentMessages.kind, "reminder"))).for("update");
-    if (m?.status === "sent") return { ok: false as const, error: `The reminder was already sent (${formatLocal(m.sentAt!, settings.timeZone)}); it is not sent twice.` };
+    if (!["booked", "confirmed"].includes(appt.status) || appt.startsAt.getTime() < Date.now())
+      return { ok: false as const, error: "Reminders are sent only for appointments still to come." };
+    let [m] = await tx
+      .select()
+      .from(appointmentMessages)
+      .where(and(eq(appointmentMessages.appointmentId, appointmentId), eq(appointmentMessages.kind, "reminder")))
+      .for("update");
+    if (m?.status === "sent")
+      return {
+        ok: false as const,
+        error: `The reminder was already sent (${formatLocal(m.sentAt!, settings.timeZone)}); it is not sent twice.`,
+      };
     const now = new Date();
-    if (!m) [m] = await tx.insert(appointmentMessages).values({ appointmentId, kind: "reminder", dueAt: now }).returning();
-    else await tx.update(appointmentMessages).set({ dueAt: now, status: "queued", skippedReason: null }).where(eq(appointmentMessages.id, m.id));
-    await appointmentMail.enqueue({ messageId: m!.id }, { tx, singletonKey: `${m!.id}:now:${now.getTime()}`, ...mailRetryOptions() });
-    await audit({ action: "appointment.reminder_sent_now", actorUserId: actorId, entityType: "appointment", entityId: appointmentId, patientId: appt.patientId, request }, tx);
+    if (!m)
+      [m] = await tx.insert(appointmentMessages).values({ appointmentId, kind: "reminder", dueAt: now }).returning();
+    else
+      await tx
+        .update(appointmentMessages)
+        .set({ dueAt: now, status: "queued", skippedReason: null })
+        .where(eq(appointmentMessages.id, m.id));
+    await appointmentMail.enqueue(
+      { messageId: m!.id },
+      { tx, singletonKey: `${m!.id}:now:${now.getTime()}`, ...mailRetryOptions() },
+    );
+    await audit(
+      {
+        action: "appointment.reminder_sent_now",
+        actorUserId: actorId,
+        entityType: "appointment",
+        entityId: appointmentId,
+        patientId: appt.patientId,
+        request,
+      },
+      tx,
+    );
     return { ok: true as const };
   });
 }

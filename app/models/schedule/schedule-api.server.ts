@@ -24,16 +24,17 @@ export function parseIsoInZone(value: string, timeZone: string): Date | null {
 }
 
 export const isoTime = (timeZone: string, label: string) =>
-  z
-    .string({ error: `Give the ${label} as an ISO 8601 time, e.g. 2027-03-29T09:00:00+01:00.` })
-    .transform((v, ctx) => {
-      const d = parseIsoInZone(v, timeZone);
-      if (!d) {
-        ctx.addIssue({ code: "custom", message: `The ${label} is not an ISO 8601 time (e.g. 2027-03-29T09:00:00+01:00), or that wall time does not exist in ${timeZone}.` });
-        return z.NEVER;
-      }
-      return d;
-    });
+  z.string({ error: `Give the ${label} as an ISO 8601 time, e.g. 2027-03-29T09:00:00+01:00.` }).transform((v, ctx) => {
+    const d = parseIsoInZone(v, timeZone);
+    if (!d) {
+      ctx.addIssue({
+        code: "custom",
+        message: `The ${label} is not an ISO 8601 time (e.g. 2027-03-29T09:00:00+01:00), or that wall time does not exist in ${timeZone}.`,
+      });
+      return z.NEVER;
+    }
+    return d;
+  });
 
 export function bookingSchema(timeZone: string) {
   return z
@@ -61,7 +62,12 @@ export function zodFieldErrors(error: z.ZodError): Record<string, string[]> {
 }
 
 /** JSON answer for a refused request. */
-export function errorJson(status: number, error: string, fieldErrors: Record<string, string[]> = {}, extra: Record<string, unknown> = {}) {
+export function errorJson(
+  status: number,
+  error: string,
+  fieldErrors: Record<string, string[]> = {},
+  extra: Record<string, unknown> = {},
+) {
   return Response.json({ error, fieldErrors, ...extra }, { status });
 }
 
@@ -78,11 +84,17 @@ export async function readBody(request: Request): Promise<Record<string, unknown
       if (!body || typeof body !== "object" || Array.isArray(body)) throw new Error();
       return body as Record<string, unknown>;
     } catch {
-      throw data({ error: "The body is not a JSON object.", fieldErrors: { "": ["The body is not a JSON object."] } }, { status: 400 });
+      throw data(
+        { error: "The body is not a JSON object.", fieldErrors: { "": ["The body is not a JSON object."] } },
+        { status: 400 },
+      );
     }
   }
   const form = await request.formData();
-  return Object.fromEntries([...form.entries()].filter(([, v]) => typeof v === "string" && v !== "")) as Record<string, string>;
+  return Object.fromEntries([...form.entries()].filter(([, v]) => typeof v === "string" && v !== "")) as Record<
+    string,
+    string
+  >;
 }
 
 /** One appointment as the calendar (FullCalendar event object) and integrations see it. */

@@ -14,7 +14,9 @@ export async function scheduleReferenceData() {
     .orderBy(asc(appointmentTypes.name));
   const ids = providers.map((p) => p.id);
   const hours = ids.length ? await db.select().from(workingHours).where(inArray(workingHours.providerId, ids)) : [];
-  const breaks = ids.length ? await db.select().from(providerBreaks).where(inArray(providerBreaks.providerId, ids)) : [];
+  const breaks = ids.length
+    ? await db.select().from(providerBreaks).where(inArray(providerBreaks.providerId, ids))
+    : [];
   const [sites, rooms] = await Promise.all([activeSites(), activeRooms()]);
   return { providers, types, hours, breaks, sites, rooms };
 }
@@ -22,7 +24,13 @@ export async function scheduleReferenceData() {
 export async function patientOption(id: string | null) {
   if (!id) return null;
   const [p] = await db
-    .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth, email: patients.email })
+    .select({
+      id: patients.id,
+      firstName: patients.firstName,
+      lastName: patients.lastName,
+      dateOfBirth: patients.dateOfBirth,
+      email: patients.email,
+    })
     .from(patients)
     .where(and(eq(patients.id, id)));
   return p ? { id: p.id, name: `${p.firstName} ${p.lastName}`, dateOfBirth: p.dateOfBirth, email: p.email } : null;

@@ -21,6 +21,20 @@ export async function practiceSchedule() {
     })
     .from(practiceSettings)
     .where(eq(practiceSettings.id, 1));
-  return p ?? { timeZone: "Europe/London", reminderHoursBefore: 24, recallMonthsChild: 12, recallMonthsAdult: 24, childUnderYears: 16, name: "The practice", phone: "", email: "", addressLine1: "", city: "", portalBookingDays: 90, staffBookingDays: 730 };
+  return (
+    p ?? {
+      timeZone: "Europe/London",
+      reminderHoursBefore: 24,
+      recallMonthsChild: 12,
+      recallMonthsAdult: 24,
+      childUnderYears: 16,
+      name: "The practice",
+      phone: "",
+      email: "",
+      addressLine1: "",
+      city: "",
+      portalBookingDays: 90,
+      staffBookingDays: 730,
+    }
+  );
 }
-

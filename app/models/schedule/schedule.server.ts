@@ -4,7 +4,19 @@
  * names the clashing appointment. Used by the schedule pages and by the JSON API alike.
  */
 import { and, asc, eq, gt, inArray, lt, ne, sql } from "drizzle-orm";
-import { appointmentMessages, appointments, appointmentStatusChanges, appointmentTypes, exams, patients, providerBreaks, rooms, sites, users, workingHours } from "~/db/schema";
+import {
+  appointmentMessages,
+  appointments,
+  appointmentStatusChanges,
+  appointmentTypes,
+  exams,
+  patients,
+  providerBreaks,
+  rooms,
+  sites,
+  users,
+  workingHours,
+} from "~/db/schema";
 import { checkWorkingHours, WEEKDAY_NAMES } from "~/lib/scheduling/hours";
 import { canChangeStatus, isMovable, LIVE_STATUSES, STATUS_LABEL, type Status } from "~/lib/scheduling/status";
 import { formatLocal, localParts, zonedIsoFormatter } from "~/lib/scheduling/time";
@@ -30,7 +42,14 @@ export class BookingError extends Error {
   }
 }
 
-export type ClashInfo = { id: string; start: string; end: string; patientName: string; typeName: string; providerName: string };
+export type ClashInfo = {
+  id: string;
+  start: string;
+  end: string;
+  patientName: string;
+  typeName: string;
+  providerName: string;
+};
 
 /** Staff who can be booked: active owners and optometrists (and anyone an appointment type names). */
 export async function bookableProviders() {
@@ -54,9 +73,22 @@ function pgCode(error: unknown): { code?: string; constraint?: string } {
 }
 
 /** The live appointment of `providerId` that overlaps [start, end), if any (for the 409 message). */
-export async function findClash(providerId: string, start: Date, end: Date, excludeId?: string): Promise<ClashInfo | undefined> {
+export async function findClash(
+  providerId: string,
+  start: Date,
+  end: Date,
+  excludeId?: string,
+): Promise<ClashInfo | undefined> {
   const [row] = await db
-    .select({ id: appointments.id, start: appointments.startsAt, end: appointments.endsAt, first: patients.firstName, last: patients.lastName, typeName: appointmentTypes.name, providerName: users.name })
+    .select({
+      id: appointments.id,
+      start: appointments.startsAt,
+      end: appointments.endsAt,
+      first: patients.firstName,
+      last: patients.lastName,
+      typeName: appointmentTypes.name,
+      providerName: users.name,
+    })
     .from(appointments)
     .innerJoin(patients, eq(patients.id, appointments.patientId))
     .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
@@ -73,10 +105,23 @@ export async function findClash(providerId: string, start: Date, end: Date, excl
     .orderBy(asc(appointments.startsAt))
     .limit(1);
   if (!row) return undefined;
-  return { id: row.id, start: row.start.toISOString(), end: row.end.toISOString(), patientName: `${row.first} ${row.last}`, typeName: row.typeName, providerName: row.providerName };
+  return {
+    id: row.id,
+    start: row.start.toISOString(),
+    end: row.end.toISOString(),
+    patientName: `${row.first} ${row.last}`,
+    typeName: row.typeName,
+    providerName: row.providerName,
+  };
 }
 
-async function clashError(providerId: string, start: Date, end: Date, timeZone: string, excludeId?: string): Promise<BookingError> {
+async function clashError(
+  providerId: string,
+  start: Date,
+  end: Date,
+  timeZone: string,
+  excludeId?: string,
+): Promise<BookingError> {
   const clash = await findClash(providerId, start, end, excludeId);
   const what = clash
     ? `${clash.providerName} already has ${clash.patientName} (${clash.typeName}) from ${formatLocal(new Date(clash.start), timeZone)} to ${formatLocal(new Date(clash.end), timeZone, { withDate: false })}.`
@@ -84,38 +129,85 @@ async function clashError(providerId: string, start: Date, end: Date, timeZone: 
   return new BookingError(409, `Not booked: ${what} Choose another time or provider.`, { start: [what] }, clash);
 }
 
-async function roomClashError(roomId: string, start: Date, end: Date, timeZone: string, excludeId?: string): Promise<BookingError> {
-  const [room] = await db.select({ name: rooms.name, site: sites.name }).from(rooms).innerJoin(sites, eq(sites.id, rooms.siteId)).where(eq(rooms.id, roomId));
+async function roomClashError(
+  roomId: string,
+  start: Date,
+  end: Date,
+  timeZone: string,
+  excludeId?: string,
+): Promise<BookingError> {
+  const [room] = await db
+    .select({ name: rooms.name, site: sites.name })
+    .from(rooms)
+    .innerJoin(sites, eq(sites.id, rooms.siteId))
+    .where(eq(rooms.id, roomId));
   const [other] = await db
     .select({ start: appointments.startsAt, end: appointments.endsAt, providerName: users.name })
     .from(appointments)
     .innerJoin(users, eq(users.id, appointments.providerId))
-    .where(and(eq(appointments.roomId, roomId), inArray(appointments.status, [...LIVE_STATUSES]), lt(appointments.startsAt, end), gt(appointments.endsAt, start), excludeId ? ne(appointments.id, excludeId) : undefined))
+    .where(
+      and(
+        eq(appointments.roomId, roomId),
+        inArray(appointments.status, [...LIVE_STATUSES]),
+        lt(appointments.startsAt, end),
+        gt(appointments.endsAt, start),
+        excludeId ? ne(appointments.id, excludeId) : undefined,
+      ),
+    )
     .limit(1);
   const what = `${room?.name ?? "The room"} at ${room?.site ?? "the site"} is in use${other ? ` by ${other.providerName} from ${formatLocal(other.start, timeZone)} to ${formatLocal(other.end, timeZone, { withDate: false })}` : " at that time"}.`;
   return new BookingError(409, `Not booked: ${what} Choose another room or time.`, { roomId: [what] });
 }
 
-type SlotInput = { providerId: string; appointmentTypeId: string; start: Date; end?: Date; siteId?: string; roomId?: string | null };
+type SlotInput = {
+  providerId: string;
+  appointmentTypeId: string;
+  start: Date;
+  end?: Date;
+  siteId?: string;
+  roomId?: string | null;
+};
 
 /**
  * Checks everything except overlap (the database enforces that of providers and of rooms);
  * answers the end time, the site and the room to use. Without a site the booking goes where the
  * provider works that day; without a room, to the room the provider has that day (if any).
  */
-async function validateSlot(tx: Tx, input: SlotInput, timeZone: string, opts: { allowPast?: boolean; horizonDays?: number } = {}) {
+async function validateSlot(
+  tx: Tx,
+  input: SlotInput,
+  timeZone: string,
+  opts: { allowPast?: boolean; horizonDays?: number } = {},
+) {
   const errors: FieldErrors = {};
   const [type] = await tx.select().from(appointmentTypes).where(eq(appointmentTypes.id, input.appointmentTypeId));
   if (!type || !type.active) errors.appointmentTypeId = ["No such appointment type (or it is no longer offered)."];
-  const [provider] = await tx.select({ id: users.id, name: users.name, role: users.role, active: users.active }).from(users).where(eq(users.id, input.providerId));
+  const [provider] = await tx
+    .select({ id: users.id, name: users.name, role: users.role, active: users.active })
+    .from(users)
+    .where(eq(users.id, input.providerId));
   if (!provider || !provider.active || provider.role === "patient") errors.providerId = ["No such provider."];
-  else if (type && !type.performerRoles.includes(provider.role)) errors.providerId = [`${provider.name} may not perform ${type.name} (the owner sets who may, under appointment types).`];
-  if (Object.keys(errors).length) throw new BookingError(errors.appointmentTypeId || errors.providerId?.[0] === "No such provider." ? 404 : 422, Object.values(errors).flat().join(" "), errors);
+  else if (type && !type.performerRoles.includes(provider.role))
+    errors.providerId = [
+      `${provider.name} may not perform ${type.name} (the owner sets who may, under appointment types).`,
+    ];
+  if (Object.keys(errors).length)
+    throw new BookingError(
+      errors.appointmentTypeId || errors.providerId?.[0] === "No such provider." ? 404 : 422,
+      Object.values(errors).flat().join(" "),
+      errors,
+    );
   const end = input.end ?? new Date(input.start.getTime() + type!.durationMinutes * 60_000);
-  if (end <= input.start) throw new BookingError(422, "The end must be after the start.", { end: ["The end must be after the start."] });
-  if (end.getTime() - input.start.getTime() > 8 * 60 * 60_000) throw new BookingError(422, "An appointment can last at most 8 hours.", { end: ["An appointment can last at most 8 hours."] });
+  if (end <= input.start)
+    throw new BookingError(422, "The end must be after the start.", { end: ["The end must be after the start."] });
+  if (end.getTime() - input.start.getTime() > 8 * 60 * 60_000)
+    throw new BookingError(422, "An appointment can last at most 8 hours.", {
+      end: ["An appointment can last at most 8 hours."],
+    });
   if (!opts.allowPast && input.start.getTime() < Date.now() - 60_000) {
-    throw new BookingError(422, "That time is in the past; choose a time from now on.", { start: ["That time is in the past; choose a time from now on."] });
+    throw new BookingError(422, "That time is in the past; choose a time from now on.", {
+      start: ["That time is in the past; choose a time from now on."],
+    });
   }
   if (opts.horizonDays !== undefined && input.start.getTime() > Date.now() + opts.horizonDays * 86_400_000) {
     const msg = `Bookings can be made at most ${opts.horizonDays} days ahead (until ${localParts(new Date(Date.now() + opts.horizonDays * 86_400_000), timeZone).date}).`;
@@ -123,8 +215,12 @@ async function validateSlot(tx: Tx, input: SlotInput, timeZone: string, opts: { 
   }
   let site: { id: string; name: string; timeZone: string; active: boolean } | undefined;
   if (input.siteId) {
-    [site] = await tx.select({ id: sites.id, name: sites.name, timeZone: sites.timeZone, active: sites.active }).from(sites).where(eq(sites.id, input.siteId));
-    if (!site || !site.active) throw new BookingError(404, "No such site.", { siteId: ["No such site (or it is closed)."] });
+    [site] = await tx
+      .select({ id: sites.id, name: sites.name, timeZone: sites.timeZone, active: sites.active })
+      .from(sites)
+      .where(eq(sites.id, input.siteId));
+    if (!site || !site.active)
+      throw new BookingError(404, "No such site.", { siteId: ["No such site (or it is closed)."] });
   }
   const hours = await tx.select().from(workingHours).where(eq(workingHours.providerId, input.providerId));
   if (!hours.length) {
@@ -136,7 +232,9 @@ async function validateSlot(tx: Tx, input: SlotInput, timeZone: string, opts: { 
   let zone = site?.timeZone ?? timeZone;
   if (!site) {
     const row = hours.find((h) => h.weekday === localParts(input.start, zone).weekday);
-    const [there] = row ? await tx.select({ timeZone: sites.timeZone }).from(sites).where(eq(sites.id, row.siteId)) : [];
+    const [there] = row
+      ? await tx.select({ timeZone: sites.timeZone }).from(sites).where(eq(sites.id, row.siteId))
+      : [];
     if (there) zone = there.timeZone;
   }
   const breaks = await tx.select().from(providerBreaks).where(eq(providerBreaks.providerId, input.providerId));
@@ -153,10 +251,15 @@ async function validateSlot(tx: Tx, input: SlotInput, timeZone: string, opts: { 
   const siteId = day.siteId;
   let roomId: string | null = input.roomId === undefined ? day.roomId : input.roomId;
   if (input.roomId) {
-    const [room] = await tx.select({ id: rooms.id, siteId: rooms.siteId, name: rooms.name, active: rooms.active }).from(rooms).where(eq(rooms.id, input.roomId));
+    const [room] = await tx
+      .select({ id: rooms.id, siteId: rooms.siteId, name: rooms.name, active: rooms.active })
+      .from(rooms)
+      .where(eq(rooms.id, input.roomId));
     const [siteName] = await tx.select({ name: sites.name }).from(sites).where(eq(sites.id, siteId));
     if (!room || !room.active || room.siteId !== siteId) {
-      const msg = room ? `${room.name} is not a room at ${siteName?.name ?? "this site"}; choose one of its rooms.` : `No such room at ${siteName?.name ?? "this site"}.`;
+      const msg = room
+        ? `${room.name} is not a room at ${siteName?.name ?? "this site"}; choose one of its rooms.`
+        : `No such room at ${siteName?.name ?? "this site"}.`;
       throw new BookingError(422, msg, { roomId: [msg] });
     }
     roomId = room.id;
@@ -165,11 +268,23 @@ async function validateSlot(tx: Tx, input: SlotInput, timeZone: string, opts: { 
 }
 
 /** How far ahead `actor` may book: the portal's horizon for patients, the team's for staff (practice settings). */
-export function bookingHorizonDays(actor: { role: string }, settings: { portalBookingDays: number; staffBookingDays: number }) {
+export function bookingHorizonDays(
+  actor: { role: string },
+  settings: { portalBookingDays: number; staffBookingDays: number },
+) {
   return actor.role === "patient" ? settings.portalBookingDays : settings.staffBookingDays;
 }
 
-export type BookingInput = { patientId: string; providerId: string; appointmentTypeId: string; start: Date; end?: Date; notes?: string; siteId?: string; roomId?: string | null };
+export type BookingInput = {
+  patientId: string;
+  providerId: string;
+  appointmentTypeId: string;
+  start: Date;
+  end?: Date;
+  notes?: string;
+  siteId?: string;
+  roomId?: string | null;
+};
 
 /** Books an appointment, queues its confirmation and reminder e-mails, all in one transaction. */
 export async function bookAppointment(actor: SessionUser, input: BookingInput, request?: Request) {
@@ -180,23 +295,58 @@ export async function bookAppointment(actor: SessionUser, input: BookingInput, r
     return await db.transaction(async (tx) => {
       const [patient] = await tx.select({ id: patients.id }).from(patients).where(eq(patients.id, input.patientId));
       if (!patient) throw new BookingError(404, "No such patient.", { patientId: ["No such patient."] });
-      const slot = await validateSlot(tx, input, settings.timeZone, { horizonDays: bookingHorizonDays(actor, settings) });
+      const slot = await validateSlot(tx, input, settings.timeZone, {
+        horizonDays: bookingHorizonDays(actor, settings),
+      });
       ({ end, roomId } = slot);
       const [row] = await tx
         .insert(appointments)
-        .values({ patientId: input.patientId, providerId: input.providerId, appointmentTypeId: input.appointmentTypeId, siteId: slot.siteId, roomId, startsAt: input.start, endsAt: end, notes: input.notes ?? "", createdById: actor.id, statusChangedById: actor.id })
+        .values({
+          patientId: input.patientId,
+          providerId: input.providerId,
+          appointmentTypeId: input.appointmentTypeId,
+          siteId: slot.siteId,
+          roomId,
+          startsAt: input.start,
+          endsAt: end,
+          notes: input.notes ?? "",
+          createdById: actor.id,
+          statusChangedById: actor.id,
+        })
         .returning();
-      await tx.insert(appointmentStatusChanges).values({ appointmentId: row!.id, fromStatus: null, toStatus: "booked", changedById: actor.id });
+      await tx
+        .insert(appointmentStatusChanges)
+        .values({ appointmentId: row!.id, fromStatus: null, toStatus: "booked", changedById: actor.id });
       await queueAppointmentMessage(tx, row!, "confirmation", settings);
       await queueAppointmentMessage(tx, row!, "reminder", settings);
-      await audit({ action: "appointment.booked", actorUserId: actor.id, entityType: "appointment", entityId: row!.id, patientId: input.patientId, detail: { start: input.start.toISOString(), end: end.toISOString(), providerId: input.providerId, siteId: slot.siteId, roomId }, request }, tx);
+      await audit(
+        {
+          action: "appointment.booked",
+          actorUserId: actor.id,
+          entityType: "appointment",
+          entityId: row!.id,
+          patientId: input.patientId,
+          detail: {
+            start: input.start.toISOString(),
+            end: end.toISOString(),
+            providerId: input.providerId,
+            siteId: slot.siteId,
+            roomId,
+          },
+          request,
+        },
+        tx,
+      );
       return row!;
     });
   } catch (error) {
     const { code, constraint } = pgCode(error);
-    if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_provider_overlap") throw await clashError(input.providerId, input.start, end, settings.timeZone);
-    if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_room_overlap") throw await roomClashError(roomId!, input.start, end, settings.timeZone);
-    if (code === PG_CHECK_VIOLATION) throw new BookingError(422, "The end must be after the start.", { end: ["The end must be after the start."] });
+    if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_provider_overlap")
+      throw await clashError(input.providerId, input.start, end, settings.timeZone);
+    if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_room_overlap")
+      throw await roomClashError(roomId!, input.start, end, settings.timeZone);
+    if (code === PG_CHECK_VIOLATION)
+      throw new BookingError(422, "The end must be after the start.", { end: ["The end must be after the start."] });
     throw error;
   }
 }
@@ -208,7 +358,12 @@ async function loadForUpdate(tx: Tx, id: string) {
 }
 
 /** Moves and/or resizes an appointment (drag, resize, or a new provider), re-checking every rule. */
-export async function moveAppointment(actor: SessionUser, id: string, change: { start: Date; end?: Date; providerId?: string; siteId?: string; roomId?: string | null }, request?: Request) {
+export async function moveAppointment(
+  actor: SessionUser,
+  id: string,
+  change: { start: Date; end?: Date; providerId?: string; siteId?: string; roomId?: string | null },
+  request?: Request,
+) {
   const settings = await practiceSchedule();
   let providerId = change.providerId;
   let end = change.end;
@@ -216,17 +371,38 @@ export async function moveAppointment(actor: SessionUser, id: string, change: { 
   try {
     return await db.transaction(async (tx) => {
       const current = await loadForUpdate(tx, id);
-      if (!isMovable(current.status)) throw new BookingError(409, `A ${STATUS_LABEL[current.status].toLowerCase()} appointment cannot be moved.`);
+      if (!isMovable(current.status))
+        throw new BookingError(409, `A ${STATUS_LABEL[current.status].toLowerCase()} appointment cannot be moved.`);
       providerId ??= current.providerId;
       const duration = current.endsAt.getTime() - current.startsAt.getTime();
       end ??= new Date(change.start.getTime() + duration);
       // The site follows where the provider works on the new day unless one is asked for; the room
       // is kept when the site stays the same, else the provider's room there that day.
-      const probe = await validateSlot(tx, { providerId, appointmentTypeId: current.appointmentTypeId, start: change.start, end, siteId: change.siteId, roomId: change.roomId }, settings.timeZone, { horizonDays: bookingHorizonDays(actor, settings) });
+      const probe = await validateSlot(
+        tx,
+        {
+          providerId,
+          appointmentTypeId: current.appointmentTypeId,
+          start: change.start,
+          end,
+          siteId: change.siteId,
+          roomId: change.roomId,
+        },
+        settings.timeZone,
+        { horizonDays: bookingHorizonDays(actor, settings) },
+      );
       roomId = change.roomId !== undefined || probe.siteId !== current.siteId ? probe.roomId : current.roomId;
       const [row] = await tx
         .update(appointments)
-        .set({ startsAt: change.start, endsAt: end, providerId, siteId: probe.siteId, roomId, updatedAt: new Date(), revision: sql`${appointments.revision} + 1` })
+        .set({
+          startsAt: change.start,
+          endsAt: end,
+          providerId,
+          siteId: probe.siteId,
+          roomId,
+          updatedAt: new Date(),
+          revision: sql`${appointments.revision} + 1`,
+        })
         .where(eq(appointments.id, id))
         .returning();
       await rescheduleReminder(tx, row!, settings);
@@ -239,7 +415,14 @@ export async function moveAppointment(actor: SessionUser, id: string, change: { 
           entityType: "appointment",
           entityId: id,
           patientId: current.patientId,
-          detail: { from: { start: current.startsAt.toISOString(), end: current.endsAt.toISOString(), providerId: current.providerId }, to: { start: change.start.toISOString(), end: end.toISOString(), providerId } },
+          detail: {
+            from: {
+              start: current.startsAt.toISOString(),
+              end: current.endsAt.toISOString(),
+              providerId: current.providerId,
+            },
+            to: { start: change.start.toISOString(), end: end.toISOString(), providerId },
+          },
           request,
         },
         tx,
@@ -248,9 +431,12 @@ export async function moveAppointment(actor: SessionUser, id: string, change: { 
     });
   } catch (error) {
     const { code, constraint } = pgCode(error);
-    if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_provider_overlap") throw await clashError(providerId!, change.start, end!, settings.timeZone, id);
-    if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_room_overlap") throw await roomClashError(roomId!, change.start, end!, settings.timeZone, id);
-    if (code === PG_CHECK_VIOLATION) throw new BookingError(422, "The end must be after the start.", { end: ["The end must be after the start."] });
+    if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_provider_overlap")
+      throw await clashError(providerId!, change.start, end!, settings.timeZone, id);
+    if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_room_overlap")
+      throw await roomClashError(roomId!, change.start, end!, settings.timeZone, id);
+    if (code === PG_CHECK_VIOLATION)
+      throw new BookingError(422, "The end must be after the start.", { end: ["The end must be after the start."] });
     throw error;
   }
 }
@@ -259,27 +445,62 @@ export async function moveAppointment(actor: SessionUser, id: string, change: { 
  * Changes the status (day flow), stamping who and when; a cancellation queues its notice.
  * Starting the exam also opens an exam row linked to the appointment, in the same transaction.
  */
-export async function changeStatus(actor: SessionUser, id: string, to: Status, request?: Request): Promise<{ appointment: typeof appointments.$inferSelect; examId?: string }> {
+export async function changeStatus(
+  actor: SessionUser,
+  id: string,
+  to: Status,
+  request?: Request,
+): Promise<{ appointment: typeof appointments.$inferSelect; examId?: string }> {
   const settings = await practiceSchedule();
   try {
     return await db.transaction(async (tx) => {
       const current = await loadForUpdate(tx, id);
       if (current.status === to) return { appointment: current };
       if (!canChangeStatus(current.status, to)) {
-        throw new BookingError(409, `An appointment that is ${STATUS_LABEL[current.status].toLowerCase()} cannot be marked ${STATUS_LABEL[to].toLowerCase()}.`);
+        throw new BookingError(
+          409,
+          `An appointment that is ${STATUS_LABEL[current.status].toLowerCase()} cannot be marked ${STATUS_LABEL[to].toLowerCase()}.`,
+        );
       }
-      if (to === "in_exam" && actor.role !== "owner" && actor.role !== "optometrist") throw new BookingError(403, "Only an optometrist or the owner starts an exam.");
+      if (to === "in_exam" && actor.role !== "owner" && actor.role !== "optometrist")
+        throw new BookingError(403, "Only an optometrist or the owner starts an exam.");
       const now = new Date();
-      const [row] = await tx.update(appointments).set({ status: to, statusChangedAt: now, statusChangedById: actor.id, updatedAt: now }).where(eq(appointments.id, id)).returning();
-      await tx.insert(appointmentStatusChanges).values({ appointmentId: id, fromStatus: current.status, toStatus: to, changedById: actor.id, changedAt: now });
+      const [row] = await tx
+        .update(appointments)
+        .set({ status: to, statusChangedAt: now, statusChangedById: actor.id, updatedAt: now })
+        .where(eq(appointments.id, id))
+        .returning();
+      await tx
+        .insert(appointmentStatusChanges)
+        .values({ appointmentId: id, fromStatus: current.status, toStatus: to, changedById: actor.id, changedAt: now });
       let examId: string | undefined;
       if (to === "in_exam") {
         const [existing] = await tx.select({ id: exams.id }).from(exams).where(eq(exams.appointmentId, id)).limit(1);
         examId = existing?.id;
         if (!examId) {
-          const [exam] = await tx.insert(exams).values({ patientId: current.patientId, optometristId: actor.id, appointmentId: id, examinedAt: now, status: "in_progress" }).returning({ id: exams.id });
+          const [exam] = await tx
+            .insert(exams)
+            .values({
+              patientId: current.patientId,
+              optometristId: actor.id,
+              appointmentId: id,
+              examinedAt: now,
+              status: "in_progress",
+            })
+            .returning({ id: exams.id });
           examId = exam!.id;
-          await audit({ action: "exam.started", actorUserId: actor.id, entityType: "exam", entityId: examId, patientId: current.patientId, detail: { appointmentId: id }, request }, tx);
+          await audit(
+            {
+              action: "exam.started",
+              actorUserId: actor.id,
+              entityType: "exam",
+              entityId: examId,
+              patientId: current.patientId,
+              detail: { appointmentId: id },
+              request,
+            },
+            tx,
+          );
         }
       }
       if (to === "cancelled") await queueAppointmentMessage(tx, row!, "cancellation", settings);
@@ -288,9 +509,26 @@ export async function changeStatus(actor: SessionUser, id: string, to: Status, r
         await tx
           .update(appointmentMessages)
           .set({ status: "skipped", skippedReason: `appointment ${STATUS_LABEL[to].toLowerCase()}` })
-          .where(and(eq(appointmentMessages.appointmentId, id), eq(appointmentMessages.kind, "reminder"), eq(appointmentMessages.status, "queued")));
+          .where(
+            and(
+              eq(appointmentMessages.appointmentId, id),
+              eq(appointmentMessages.kind, "reminder"),
+              eq(appointmentMessages.status, "queued"),
+            ),
+          );
       }
-      await audit({ action: "appointment.status_changed", actorUserId: actor.id, entityType: "appointment", entityId: id, patientId: current.patientId, detail: { from: current.status, to }, request }, tx);
+      await audit(
+        {
+          action: "appointment.status_changed",
+          actorUserId: actor.id,
+          entityType: "appointment",
+          entityId: id,
+          patientId: current.patientId,
+          detail: { from: current.status, to },
+          request,
+        },
+        tx,
+      );
       return { appointment: row!, examId };
     });
   } catch (error) {
@@ -324,7 +562,11 @@ export type CalendarEvent = {
 };
 
 /** Appointments overlapping [start, end), optionally of one provider; cancelled ones only on request. */
-export async function appointmentsBetween(start: Date, end: Date, opts: { providerId?: string; siteId?: string; includeCancelled?: boolean } = {}): Promise<CalendarEvent[]> {
+export async function appointmentsBetween(
+  start: Date,
+  end: Date,
+  opts: { providerId?: string; siteId?: string; includeCancelled?: boolean } = {},
+): Promise<CalendarEvent[]> {
   const rows = await db
     .select({
       id: appointments.id,
@@ -368,9 +610,21 @@ export async function appointmentsBetween(start: Date, end: Date, opts: { provid
  * milliseconds) and formats offsets with a per-quarter-hour cache: measured twice as fast as
  * building the JSON in PostgreSQL or mapping rows through the ORM (tests/bench/appointments.bench.ts).
  */
-export async function calendarEventsJson(start: Date, end: Date, timeZone: string, opts: { providerId?: string; siteId?: string; includeCancelled?: boolean } = {}): Promise<string> {
-  const statuses: string[] = opts.includeCancelled ? [...LIVE_STATUSES, "no_show", "cancelled"] : [...LIVE_STATUSES, "no_show"];
-  const values: unknown[] = [end.toISOString(), start.toISOString(), new Date(start.getTime() - 8 * 3_600_000).toISOString(), statuses];
+export async function calendarEventsJson(
+  start: Date,
+  end: Date,
+  timeZone: string,
+  opts: { providerId?: string; siteId?: string; includeCancelled?: boolean } = {},
+): Promise<string> {
+  const statuses: string[] = opts.includeCancelled
+    ? [...LIVE_STATUSES, "no_show", "cancelled"]
+    : [...LIVE_STATUSES, "no_show"];
+  const values: unknown[] = [
+    end.toISOString(),
+    start.toISOString(),
+    new Date(start.getTime() - 8 * 3_600_000).toISOString(),
+    statuses,
+  ];
   if (opts.providerId) values.push(opts.providerId);
   if (opts.siteId) values.push(opts.siteId);
   const result = await pool.query<string[]>({
@@ -397,7 +651,16 @@ export async function calendarEventsJson(start: Date, end: Date, timeZone: strin
       end: iso(Number(e)),
       editable: status === "booked" || status === "confirmed",
       classNames: [`appt-${status}`],
-      extendedProps: { status, statusLabel: STATUS_LABEL[status as Status], providerId, providerName, patientId, patientName, typeName, localDate: startIso.slice(0, 10) },
+      extendedProps: {
+        status,
+        statusLabel: STATUS_LABEL[status as Status],
+        providerId,
+        providerName,
+        patientId,
+        patientName,
+        typeName,
+        localDate: startIso.slice(0, 10),
+      },
     };
   });
   return JSON.stringify(events);

@@ -28,14 +28,22 @@ export async function defaultSite() {
 
 /** Active rooms by site. */
 export async function activeRooms() {
-  return db.select({ id: rooms.id, siteId: rooms.siteId, name: rooms.name }).from(rooms).where(eq(rooms.active, true)).orderBy(asc(rooms.name));
+  return db
+    .select({ id: rooms.id, siteId: rooms.siteId, name: rooms.name })
+    .from(rooms)
+    .where(eq(rooms.active, true))
+    .orderBy(asc(rooms.name));
 }
 
 export async function siteWithDetails(id: string) {
   const [site] = await db.select().from(sites).where(eq(sites.id, id));
   if (!site) return null;
   const hours = await db.select().from(siteOpeningHours).where(eq(siteOpeningHours.siteId, id));
-  const siteRooms = await db.select().from(rooms).where(and(eq(rooms.siteId, id))).orderBy(asc(rooms.name));
+  const siteRooms = await db
+    .select()
+    .from(rooms)
+    .where(and(eq(rooms.siteId, id)))
+    .orderBy(asc(rooms.name));
   return { site, hours, rooms: siteRooms };
 }
 
@@ -58,14 +66,23 @@ export function siteAddress(s: { addressLine1: string; addressLine2: string; cit
   return [s.addressLine1, s.addressLine2, s.city, s.postcode].filter(Boolean).join(", ");
 }
 
-const siteCookie = createCookie("dioptra_site", { path: "/", httpOnly: true, sameSite: "lax", secure: env.APP_URL.startsWith("https://"), maxAge: 60 * 60 * 24 * 365 });
+const siteCookie = createCookie("dioptra_site", {
+  path: "/",
+  httpOnly: true,
+  sameSite: "lax",
+  secure: env.APP_URL.startsWith("https://"),
+  maxAge: 60 * 60 * 24 * 365,
+});
 
 /**
  * The site filter of the calendar and the day list: `?site=` (an id or "all") when given,
  * else the user's last choice from the cookie, else the whole practice. With one site there is
  * nothing to choose. Returns the choice and the Set-Cookie header to remember it (or null).
  */
-export async function siteChoice(request: Request, options: SiteOption[]): Promise<{ site: string; setCookie: string | null }> {
+export async function siteChoice(
+  request: Request,
+  options: SiteOption[],
+): Promise<{ site: string; setCookie: string | null }> {
   const asked = new URL(request.url).searchParams.get("site");
   const valid = (v: unknown): v is string => v === "all" || options.some((s) => s.id === v);
   if (options.length <= 1) return { site: "all", setCookie: null };

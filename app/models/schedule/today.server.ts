@@ -11,6 +11,13 @@ export async function todaySummary(user: SessionUser) {
   const rows = await appointmentsBetween(start, end, { providerId: own ? user.id : undefined });
   return {
     own,
-    appointments: rows.map((r) => ({ id: r.id, time: formatLocal(r.start, timeZone, { withDate: false }), patientName: r.patientName, typeName: r.typeName, providerName: r.providerName, status: r.status })),
+    appointments: rows.map((r) => ({
+      id: r.id,
+      time: formatLocal(r.start, timeZone, { withDate: false }),
+      patientName: r.patientName,
+      typeName: r.typeName,
+      providerName: r.providerName,
+      status: r.status,
+    })),
   };
 }

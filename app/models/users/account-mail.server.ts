@@ -46,11 +46,15 @@ export async function deliverAccountMail(data: { kind: AccountMailKind; email: s
   }
 }
 
-export const accountMail = defineJob<{ kind: AccountMailKind; email: string; ip: string | null }>(ACCOUNT_MAIL_QUEUE, (data) => deliverAccountMail(data), {
-  retryLimit: 3,
-  retryDelay: 30,
-  retryBackoff: true,
-});
+export const accountMail = defineJob<{ kind: AccountMailKind; email: string; ip: string | null }>(
+  ACCOUNT_MAIL_QUEUE,
+  (data) => deliverAccountMail(data),
+  {
+    retryLimit: 3,
+    retryDelay: 30,
+    retryBackoff: true,
+  },
+);
 
 export type AccountMailRequest = { ok: true } | { ok: false; status: 429; message: string; retryAfterSeconds: number };
 
@@ -59,10 +63,19 @@ export type AccountMailRequest = { ok: true } | { ok: false; status: 429; messag
  * (10 requests, then one every 6 minutes) and the address's (3 e-mails, then one every 20
  * minutes) are checked for every address alike, then the e-mail is queued.
  */
-export async function requestAccountMail(kind: AccountMailKind, email: string, request: Request): Promise<AccountMailRequest> {
+export async function requestAccountMail(
+  kind: AccountMailKind,
+  email: string,
+  request: Request,
+): Promise<AccountMailRequest> {
   const byClient = await takeAttempt("mail-client", { address: clientKey(request) });
   if (!byClient.granted) {
-    return { ok: false, status: 429, retryAfterSeconds: byClient.retryAfterSeconds, message: `Too many requests from your connection. Try again in ${waitText(byClient.retryAfterSeconds)}.` };
+    return {
+      ok: false,
+      status: 429,
+      retryAfterSeconds: byClient.retryAfterSeconds,
+      message: `Too many requests from your connection. Try again in ${waitText(byClient.retryAfterSeconds)}.`,
+    };
   }
   const byAddress = await takeAttempt("mail-address", { account: email });
   if (!byAddress.granted) {

@@ -10,16 +10,34 @@ import { issueUserToken } from "~/utils/tokens.server";
 export class UserAdminError extends Error {}
 
 /** Creates an account without a password and e-mails a single-use link to set one. */
-export async function inviteUser(actor: SessionUser, input: { email: string; name: string; role: Role; licenceNumber?: string }, request: Request) {
+export async function inviteUser(
+  actor: SessionUser,
+  input: { email: string; name: string; role: Role; licenceNumber?: string },
+  request: Request,
+) {
   const { token, user } = await db.transaction(async (tx) => {
-    const [existing] = await tx.select({ id: users.id }).from(users).where(sql`lower(${users.email}) = ${input.email}`).limit(1);
+    const [existing] = await tx
+      .select({ id: users.id })
+      .from(users)
+      .where(sql`lower(${users.email}) = ${input.email}`)
+      .limit(1);
     if (existing) throw new UserAdminError(`An account for ${input.email} already exists.`);
     const [user] = await tx
       .insert(users)
       .values({ email: input.email, name: input.name, role: input.role, licenceNumber: input.licenceNumber || null })
       .returning({ id: users.id, email: users.email, name: users.name });
     const token = await issueUserToken(user!.id, "invite", tx);
-    await audit({ action: "user.invited", actorUserId: actor.id, entityType: "user", entityId: user!.id, detail: { email: input.email, role: input.role }, request }, tx);
+    await audit(
+      {
+        action: "user.invited",
+        actorUserId: actor.id,
+        entityType: "user",
+        entityId: user!.id,
+        detail: { email: input.email, role: input.role },
+        request,
+      },
+      tx,
+    );
     return { token, user: user! };
   });
   const link = absoluteUrl(`/reset-password?token=${token}`);
@@ -32,12 +50,20 @@ export async function inviteUser(actor: SessionUser, input: { email: string; nam
 }
 
 async function assertNotLastOwner(userId: string) {
-  const [row] = await db.select({ n: count() }).from(users).where(and(eq(users.role, "owner"), eq(users.active, true), ne(users.id, userId)));
-  if ((row?.n ?? 0) === 0) throw new UserAdminError("The practice needs at least one active owner. Make someone else an owner first.");
+  const [row] = await db
+    .select({ n: count() })
+    .from(users)
+    .where(and(eq(users.role, "owner"), eq(users.active, true), ne(users.id, userId)));
+  if ((row?.n ?? 0) === 0)
+    throw new UserAdminError("The practice needs at least one active owner. Make someone else an owner first.");
 }
 
 async function loadTarget(userId: string) {
-  const [target] = await db.select({ id: users.id, role: users.role, active: users.active, email: users.email }).from(users).where(eq(users.id, userId)).limit(1);
+  const [target] = await db
+    .select({ id: users.id, role: users.role, active: users.active, email: users.email })
+    .from(users)
+    .where(eq(users.id, userId))
+    .limit(1);
   if (!target) throw data({ error: "No such account." }, { status: 404 });
   return target;
 }
@@ -45,13 +71,24 @@ async function loadTarget(userId: string) {
 export async function changeRole(actor: SessionUser, userId: string, role: Role, request: Request) {
   const target = await loadTarget(userId);
   if (target.role === role) return;
-  if (target.role === "patient" || role === "patient") throw new UserAdminError("Patient accounts are linked to a patient record; their role cannot be changed here.");
+  if (target.role === "patient" || role === "patient")
+    throw new UserAdminError("Patient accounts are linked to a patient record; their role cannot be changed here.");
   if (target.role === "owner") await assertNotLastOwner(userId);
   await db.transaction(async (tx) => {
     await tx.update(users).set({ role, updatedAt: new Date() }).where(eq(users.id, userId));
     // A role change takes effect at once: the account signs in again with its new rights.
     await tx.delete(sessions).where(eq(sessions.userId, userId));
-    await audit({ action: "user.role_changed", actorUserId: actor.id, entityType: "user", entityId: userId, detail: { from: target.role, to: role, email: target.email }, request }, tx);
+    await audit(
+      {
+        action: "user.role_changed",
+        actorUserId: actor.id,
+        entityType: "user",
+        entityId: userId,
+        detail: { from: target.role, to: role, email: target.email },
+        request,
+      },
+      tx,
+    );
   });
 }
 
@@ -63,6 +100,16 @@ export async function setActive(actor: SessionUser, userId: string, active: bool
   await db.transaction(async (tx) => {
     await tx.update(users).set({ active, updatedAt: new Date() }).where(eq(users.id, userId));
     if (!active) await tx.delete(sessions).where(eq(sessions.userId, userId));
-    await audit({ action: active ? "user.reactivated" : "user.deactivated", actorUserId: actor.id, entityType: "user", entityId: userId, detail: { email: target.email }, request }, tx);
+    await audit(
+      {
+        action: active ? "user.reactivated" : "user.deactivated",
+        actorUserId: actor.id,
+        entityType: "user",
+        entityId: userId,
+        detail: { email: target.email },
+        request,
+      },
+      tx,
+    );
   });
 }

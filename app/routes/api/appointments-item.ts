@@ -3,14 +3,30 @@ import { z } from "zod";
 import type { Route } from "./+types/appointments-item";
 import { appointments, sites } from "~/db/schema";
 import { APPOINTMENT_STATUSES } from "~/lib/scheduling/status";
-import { bookingErrorJson, errorJson, eventJson, isoTime, readBody, zodFieldErrors } from "~/models/schedule/schedule-api.server";
+import {
+  bookingErrorJson,
+  errorJson,
+  eventJson,
+  isoTime,
+  readBody,
+  zodFieldErrors,
+} from "~/models/schedule/schedule-api.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
-import { appointmentsBetween, BookingError, changeStatus, moveAppointment, practiceSchedule } from "~/models/schedule/schedule.server";
+import {
+  appointmentsBetween,
+  BookingError,
+  changeStatus,
+  moveAppointment,
+  practiceSchedule,
+} from "~/models/schedule/schedule.server";
 
 async function load(id: string, timeZone: string) {
   if (!z.uuid().safeParse(id).success) return null;
-  const [a] = await db.select({ start: appointments.startsAt, end: appointments.endsAt, providerId: appointments.providerId }).from(appointments).where(eq(appointments.id, id));
+  const [a] = await db
+    .select({ start: appointments.startsAt, end: appointments.endsAt, providerId: appointments.providerId })
+    .from(appointments)
+    .where(eq(appointments.id, id));
   if (!a) return null;
   const events = await appointmentsBetween(a.start, a.end, { providerId: a.providerId, includeCancelled: true });
   const e = events.find((x) => x.id === id);
@@ -35,24 +51,41 @@ export async function action({ request, params }: Route.ActionArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   if (!z.uuid().safeParse(params.appointmentId).success) return errorJson(404, "No such appointment.");
   // Wall times without an offset are read at the appointment's site (its own zone).
-  const [here] = await db.select({ timeZone: sites.timeZone }).from(appointments).innerJoin(sites, eq(sites.id, appointments.siteId)).where(eq(appointments.id, params.appointmentId));
+  const [here] = await db
+    .select({ timeZone: sites.timeZone })
+    .from(appointments)
+    .innerJoin(sites, eq(sites.id, appointments.siteId))
+    .where(eq(appointments.id, params.appointmentId));
   const timeZone = here?.timeZone ?? (await practiceSchedule()).timeZone;
   const body = await readBody(request);
   const schema = z.union([
-    z.object({ status: z.enum(APPOINTMENT_STATUSES, { error: `status must be one of ${APPOINTMENT_STATUSES.join(", ")}.` }) }).strict(),
     z
-      .object({ start: isoTime(timeZone, "start"), end: isoTime(timeZone, "end").optional(), providerId: z.uuid({ error: "Choose a provider." }).optional() })
+      .object({
+        status: z.enum(APPOINTMENT_STATUSES, { error: `status must be one of ${APPOINTMENT_STATUSES.join(", ")}.` }),
+      })
+      .strict(),
+    z
+      .object({
+        start: isoTime(timeZone, "start"),
+        end: isoTime(timeZone, "end").optional(),
+        providerId: z.uuid({ error: "Choose a provider." }).optional(),
+      })
       .strict()
       .refine((v) => !v.end || v.end > v.start, { message: "The end must be after the start.", path: ["end"] }),
   ]);
   const parsed = schema.safeParse(body);
-  if (!parsed.success) return errorJson(400, "Send either { status } or { start, end?, providerId? }.", zodFieldErrors(parsed.error));
+  if (!parsed.success)
+    return errorJson(400, "Send either { status } or { start, end?, providerId? }.", zodFieldErrors(parsed.error));
   try {
     let examId: string | undefined;
-    if ("status" in parsed.data) ({ examId } = await changeStatus(user, params.appointmentId, parsed.data.status, request));
+    if ("status" in parsed.data)
+      ({ examId } = await changeStatus(user, params.appointmentId, parsed.data.status, request));
     else await moveAppointment(user, params.appointmentId, parsed.data, request);
     const event = await load(params.appointmentId, timeZone);
-    return Response.json({ appointment: event, examUrl: examId && event ? `/patients/${event.extendedProps.patientId}/exams/${examId}` : undefined });
+    return Response.json({
+      appointment: event,
+      examUrl: examId && event ? `/patients/${event.extendedProps.patientId}/exams/${examId}` : undefined,
+    });
   } catch (error) {
     if (error instanceof BookingError) return bookingErrorJson(error);
     throw error;

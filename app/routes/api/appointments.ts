@@ -1,8 +1,22 @@
 import { data } from "react-router";
 import type { Route } from "./+types/appointments";
-import { bookingErrorJson, bookingSchema, errorJson, eventJson, isoTime, readBody, zodFieldErrors } from "~/models/schedule/schedule-api.server";
+import {
+  bookingErrorJson,
+  bookingSchema,
+  errorJson,
+  eventJson,
+  isoTime,
+  readBody,
+  zodFieldErrors,
+} from "~/models/schedule/schedule-api.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { appointmentsBetween, bookAppointment, BookingError, calendarEventsJson, practiceSchedule } from "~/models/schedule/schedule.server";
+import {
+  appointmentsBetween,
+  bookAppointment,
+  BookingError,
+  calendarEventsJson,
+  practiceSchedule,
+} from "~/models/schedule/schedule.server";
 import { siteTimeZone } from "~/models/schedule/sites.server";
 import { z } from "zod";
 
@@ -25,11 +39,18 @@ export async function loader({ request }: Route.LoaderArgs) {
       includeCancelled: z.enum(["0", "1"]).default("0"),
     })
     .refine((v) => v.end > v.start, { message: "end must be after start.", path: ["end"] })
-    .refine((v) => v.end.getTime() - v.start.getTime() <= 62 * 86_400_000, { message: "Ask for at most 62 days at a time.", path: ["end"] })
+    .refine((v) => v.end.getTime() - v.start.getTime() <= 62 * 86_400_000, {
+      message: "Ask for at most 62 days at a time.",
+      path: ["end"],
+    })
     .safeParse(Object.fromEntries([...url.searchParams.entries()].filter(([k]) => k !== "timeZone" && k !== "_")));
   if (!parsed.success) return errorJson(400, "Check the query.", zodFieldErrors(parsed.error));
   const { start, end, provider, site, includeCancelled } = parsed.data;
-  const events = await calendarEventsJson(start, end, timeZone, { providerId: provider === "all" ? undefined : provider, siteId: site === "all" ? undefined : site, includeCancelled: includeCancelled === "1" });
+  const events = await calendarEventsJson(start, end, timeZone, {
+    providerId: provider === "all" ? undefined : provider,
+    siteId: site === "all" ? undefined : site,
+    includeCancelled: includeCancelled === "1",
+  });
   return new Response(events, { headers: { "content-type": "application/json; charset=utf-8" } });
 }
 
@@ -40,7 +61,8 @@ export async function loader({ request }: Route.LoaderArgs) {
  * errors for a booking the rules refuse (past, outside hours, unknown patient or provider…).
  */
 export async function action({ request }: Route.ActionArgs) {
-  if (request.method !== "POST") throw data({ error: "Use POST to book; PATCH /api/appointments/:id to change." }, { status: 405 });
+  if (request.method !== "POST")
+    throw data({ error: "Use POST to book; PATCH /api/appointments/:id to change." }, { status: 405 });
   const user = await requireRole(request, STAFF_ROLES);
   const body = await readBody(request);
   const timeZone = (await siteTimeZone(body.siteId)) ?? (await practiceSchedule()).timeZone;
@@ -49,7 +71,10 @@ export async function action({ request }: Route.ActionArgs) {
   try {
     const appt = await bookAppointment(user, parsed.data, request);
     const [event] = await appointmentsBetween(appt.startsAt, appt.endsAt, { providerId: appt.providerId });
-    return Response.json({ appointment: eventJson(event!, timeZone) }, { status: 201, headers: { location: `/api/appointments/${appt.id}` } });
+    return Response.json(
+      { appointment: eventJson(event!, timeZone) },
+      { status: 201, headers: { location: `/api/appointments/${appt.id}` } },
+    );
   } catch (error) {
     if (error instanceof BookingError) return bookingErrorJson(error);
     throw error;

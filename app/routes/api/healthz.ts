@@ -5,10 +5,16 @@ import { db } from "~/utils/db.server";
 export async function loader() {
   const started = performance.now();
   try {
-    const result = await db.execute<{ now: string; version: string }>(sql`select now()::text as now, current_setting('server_version') as version`);
+    const result = await db.execute<{ now: string; version: string }>(
+      sql`select now()::text as now, current_setting('server_version') as version`,
+    );
     const row = result.rows[0];
     return Response.json(
-      { status: "ok", app: "dioptra", database: { status: "ok", serverVersion: row?.version, latencyMs: Math.round(performance.now() - started) } },
+      {
+        status: "ok",
+        app: "dioptra",
+        database: { status: "ok", serverVersion: row?.version, latencyMs: Math.round(performance.now() - started) },
+      },
       { headers: { "cache-control": "no-store" } },
     );
   } catch (error) {

@@ -8,9 +8,15 @@ const schema = z.object({ patientId: z.uuid({ error: "patientId must be a patien
 /** POST { patientId } (form or JSON): e-mails the patient an invitation to their online page. */
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, STAFF_ROLES);
-  const body = request.headers.get("content-type")?.includes("application/json") ? await request.json().catch(() => ({})) : Object.fromEntries(await request.formData());
+  const body = request.headers.get("content-type")?.includes("application/json")
+    ? await request.json().catch(() => ({}))
+    : Object.fromEntries(await request.formData());
   const parsed = schema.safeParse(body);
-  if (!parsed.success) return Response.json({ error: "Check the fields.", fieldErrors: z.flattenError(parsed.error).fieldErrors }, { status: 400 });
+  if (!parsed.success)
+    return Response.json(
+      { error: "Check the fields.", fieldErrors: z.flattenError(parsed.error).fieldErrors },
+      { status: 400 },
+    );
   try {
     const { email } = await invitePatientToPortal(user, parsed.data.patientId, request);
     return Response.json({ ok: true, message: `Invitation sent to ${email}.` });

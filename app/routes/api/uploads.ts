@@ -1,19 +1,27 @@
 import { and, eq } from "drizzle-orm";
 import type { Route } from "./+types/uploads";
 import { exams, patients } from "~/db/schema";
-import { DOCUMENT_KINDS, MAX_UPLOAD_BYTES, saveUpload, UploadError, type DocumentKind } from "~/models/patients/documents.server";
+import {
+  DOCUMENT_KINDS,
+  MAX_UPLOAD_BYTES,
+  saveUpload,
+  UploadError,
+  type DocumentKind,
+} from "~/models/patients/documents.server";
 import { isUuid } from "~/models/patients/patient-schema";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 
-const fail = (status: number, message: string, field?: string) => Response.json({ ok: false, message, field }, { status });
+const fail = (status: number, message: string, field?: string) =>
+  Response.json({ ok: false, message, field }, { status });
 
 /** POST /api/uploads (multipart: patientId, examId?, kind, description, file) — clinical roles only. */
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, CLINICAL_ROLES);
   if (request.method !== "POST") return fail(405, "Use POST.");
   const declared = Number(request.headers.get("content-length") ?? "0");
-  if (declared > MAX_UPLOAD_BYTES + 64 * 1024) return fail(413, `The file is larger than the ${MAX_UPLOAD_BYTES / 1024 / 1024} MB limit.`, "file");
+  if (declared > MAX_UPLOAD_BYTES + 64 * 1024)
+    return fail(413, `The file is larger than the ${MAX_UPLOAD_BYTES / 1024 / 1024} MB limit.`, "file");
   let form: FormData;
   try {
     form = await request.formData();
@@ -23,7 +31,9 @@ export async function action({ request }: Route.ActionArgs) {
   const patientId = String(form.get("patientId") ?? "");
   const examIdRaw = String(form.get("examId") ?? "");
   const kind = String(form.get("kind") ?? "") as DocumentKind;
-  const description = String(form.get("description") ?? "").trim().slice(0, 500);
+  const description = String(form.get("description") ?? "")
+    .trim()
+    .slice(0, 500);
   const file = form.get("file");
   if (!isUuid(patientId)) return fail(404, "Not found.");
   const [patient] = await db.select({ id: patients.id }).from(patients).where(eq(patients.id, patientId));
@@ -31,7 +41,10 @@ export async function action({ request }: Route.ActionArgs) {
   let examId: string | null = null;
   if (examIdRaw) {
     if (!isUuid(examIdRaw)) return fail(404, "Not found.");
-    const [exam] = await db.select({ id: exams.id }).from(exams).where(and(eq(exams.id, examIdRaw), eq(exams.patientId, patientId)));
+    const [exam] = await db
+      .select({ id: exams.id })
+      .from(exams)
+      .where(and(eq(exams.id, examIdRaw), eq(exams.patientId, patientId)));
     if (!exam) return fail(404, "Not found.");
     examId = exam.id;
   }

@@ -18,7 +18,12 @@ export async function loader({ request }: Route.LoaderArgs) {
     .orderBy(desc(sessions.createdAt));
   return {
     user: { name: user.name, email: user.email, role: user.role },
-    sessions: rows.map((s) => ({ key: s.id.slice(0, 8), current: s.id === user.sessionId, createdAt: s.createdAt.toISOString(), userAgent: s.userAgent ?? "unknown browser" })),
+    sessions: rows.map((s) => ({
+      key: s.id.slice(0, 8),
+      current: s.id === user.sessionId,
+      createdAt: s.createdAt.toISOString(),
+      userAgent: s.userAgent ?? "unknown browser",
+    })),
   };
 }
 
@@ -43,7 +48,8 @@ export default function Account({ loaderData }: Route.ComponentProps) {
             <li key={s.key} className="flex flex-wrap justify-between gap-2 py-3 text-sm">
               <span className="max-w-xl truncate">{s.userAgent}</span>
               <span className="text-muted">
-                since {new Date(s.createdAt).toLocaleString("en-GB")} {s.current ? <strong className="text-ink">· this browser</strong> : null}
+                since {new Date(s.createdAt).toLocaleString("en-GB")}{" "}
+                {s.current ? <strong className="text-ink">· this browser</strong> : null}
               </span>
             </li>
           ))}

@@ -38,7 +38,10 @@ export async function action({ request }: Route.ActionArgs) {
 
 export default function Login({ actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
-  const redirectTo = typeof window === "undefined" ? undefined : (new URLSearchParams(window.location.search).get("redirectTo") ?? undefined);
+  const redirectTo =
+    typeof window === "undefined"
+      ? undefined
+      : (new URLSearchParams(window.location.search).get("redirectTo") ?? undefined);
   const [form, fields] = useForm({
     id: "sign-in",
     lastResult: actionData,
@@ -64,8 +67,20 @@ export default function Login({ actionData }: Route.ComponentProps) {
               </Notice>
             ) : null}
             <input type="hidden" name="redirectTo" value={redirectTo ?? ""} />
-            <Field label="E-mail" errors={fields.email.errors} inputProps={{ ...getInputProps(fields.email, { type: "email" }), autoComplete: "username", autoFocus: true }} />
-            <Field label="Password" errors={fields.password.errors} inputProps={{ ...getInputProps(fields.password, { type: "password" }), autoComplete: "current-password" }} />
+            <Field
+              label="E-mail"
+              errors={fields.email.errors}
+              inputProps={{
+                ...getInputProps(fields.email, { type: "email" }),
+                autoComplete: "username",
+                autoFocus: true,
+              }}
+            />
+            <Field
+              label="Password"
+              errors={fields.password.errors}
+              inputProps={{ ...getInputProps(fields.password, { type: "password" }), autoComplete: "current-password" }}
+            />
             <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
               Sign in
             </Button>

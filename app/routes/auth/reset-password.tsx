@@ -23,7 +23,11 @@ export const passwordSchema = z
   .max(200, "Use at most 200 characters.");
 
 const schema = z
-  .object({ token: z.string().min(1), password: passwordSchema, confirm: z.string({ error: "Type the password again." }) })
+  .object({
+    token: z.string().min(1),
+    password: passwordSchema,
+    confirm: z.string({ error: "Type the password again." }),
+  })
   .refine((v) => v.password === v.confirm, { message: "The two passwords differ.", path: ["confirm"] });
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -44,16 +48,33 @@ export async function action({ request }: Route.ActionArgs) {
     await tx.update(users).set({ passwordHash, updatedAt: new Date() }).where(eq(users.id, token.userId));
     // A new password ends every existing session of the account.
     await tx.delete(sessions).where(eq(sessions.userId, token.userId));
-    await audit({ action: token.purpose === "invite" ? "auth.invite_accepted" : "auth.password_reset", actorUserId: token.userId, request }, tx);
+    await audit(
+      {
+        action: token.purpose === "invite" ? "auth.invite_accepted" : "auth.password_reset",
+        actorUserId: token.userId,
+        request,
+      },
+      tx,
+    );
     const [user] = await tx.select({ email: users.email }).from(users).where(eq(users.id, token.userId));
     return { ...token, email: user!.email };
   });
   if (!done) {
-    return data(submission.reply({ formErrors: ["This link has expired or has already been used. Ask for a new one."], hideFields: ["password", "confirm"] }), { status: 400 });
+    return data(
+      submission.reply({
+        formErrors: ["This link has expired or has already been used. Ask for a new one."],
+        hideFields: ["password", "confirm"],
+      }),
+      { status: 400 },
+    );
   }
   // The owner of the account proved it with the e-mailed link: failed sign-ins before no longer count.
   await clearAccountBudgets(done.email);
-  return redirectWithToast("/login", { kind: "success", title: "Password saved", description: "Sign in with your new password." });
+  return redirectWithToast("/login", {
+    kind: "success",
+    title: "Password saved",
+    description: "Sign in with your new password.",
+  });
 }
 
 export default function ResetPassword({ loaderData, actionData }: Route.ComponentProps) {
@@ -67,31 +88,40 @@ export default function ResetPassword({ loaderData, actionData }: Route.Componen
   const title = loaderData.purpose === "invite" ? "Set your password" : "Choose a new password";
   return (
     <AuthCard title={loaderData.valid ? title : "This link no longer works"}>
-        {loaderData.valid ? (
-          <Form method="post" {...getFormProps(form)} className="mt-6 space-y-4">
-            <p className="text-sm text-muted">For {loaderData.email}</p>
-            {form.errors?.length ? (
-              <Notice tone="error" title="Password not saved" id={form.errorId}>
-                {form.errors.join(" ")}
-              </Notice>
-            ) : null}
-            <input type="hidden" name="token" value={loaderData.token} />
-            <Field label="New password" hint="At least 10 characters." errors={fields.password.errors} inputProps={{ ...getInputProps(fields.password, { type: "password" }), autoComplete: "new-password" }} />
-            <Field label="Type it again" errors={fields.confirm.errors} inputProps={{ ...getInputProps(fields.confirm, { type: "password" }), autoComplete: "new-password" }} />
-            <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
-              Save password
-            </Button>
-          </Form>
-        ) : (
-          <div className="mt-4 space-y-4">
-            <Notice tone="error" title="Expired or already used">
-              Reset and invitation links work once and for a limited time. Ask for a new one.
+      {loaderData.valid ? (
+        <Form method="post" {...getFormProps(form)} className="mt-6 space-y-4">
+          <p className="text-sm text-muted">For {loaderData.email}</p>
+          {form.errors?.length ? (
+            <Notice tone="error" title="Password not saved" id={form.errorId}>
+              {form.errors.join(" ")}
             </Notice>
-            <Link to="/forgot-password" className="font-semibold text-accent-700 underline underline-offset-4">
-              Send me a new reset link
-            </Link>
-          </div>
-        )}
+          ) : null}
+          <input type="hidden" name="token" value={loaderData.token} />
+          <Field
+            label="New password"
+            hint="At least 10 characters."
+            errors={fields.password.errors}
+            inputProps={{ ...getInputProps(fields.password, { type: "password" }), autoComplete: "new-password" }}
+          />
+          <Field
+            label="Type it again"
+            errors={fields.confirm.errors}
+            inputProps={{ ...getInputProps(fields.confirm, { type: "password" }), autoComplete: "new-password" }}
+          />
+          <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
+            Save password
+          </Button>
+        </Form>
+      ) : (
+        <div className="mt-4 space-y-4">
+          <Notice tone="error" title="Expired or already used">
+            Reset and invitation links work once and for a limited time. Ask for a new one.
+          </Notice>
+          <Link to="/forgot-password" className="font-semibold text-accent-700 underline underline-offset-4">
+            Send me a new reset link
+          </Link>
+        </div>
+      )}
     </AuthCard>
   );
 }

@@ -20,10 +20,18 @@ export async function action({ request }: Route.ActionArgs) {
   const raw = String(form.get("token") ?? "");
   const used = await db.transaction(async (tx) => {
     const token = await consumeUserToken(raw, tx, ["sign_in"]);
-    if (token) await audit({ action: "auth.sign_in", actorUserId: token.userId, detail: { method: "e-mailed link" }, request }, tx);
+    if (token)
+      await audit(
+        { action: "auth.sign_in", actorUserId: token.userId, detail: { method: "e-mailed link" }, request },
+        tx,
+      );
     return token;
   });
-  if (!used) return data({ error: "This sign-in link has expired or has already been used. Ask for a new one." }, { status: 400 });
+  if (!used)
+    return data(
+      { error: "This sign-in link has expired or has already been used. Ask for a new one." },
+      { status: 400 },
+    );
   return createUserSession(request, used.userId, "/portal");
 }
 
@@ -32,24 +40,24 @@ export default function VerifySignInLink({ loaderData, actionData }: Route.Compo
   const valid = loaderData.valid && !actionData?.error;
   return (
     <AuthCard title={valid ? "Sign in" : "This link no longer works"}>
-        {valid ? (
-          <Form method="post" className="mt-6 space-y-4">
-            <p className="text-sm text-muted">Signing in as {loaderData.email}</p>
-            <input type="hidden" name="token" value={loaderData.token} />
-            <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
-              Continue to my page
-            </Button>
-          </Form>
-        ) : (
-          <div className="mt-4 space-y-4">
-            <Notice tone="error" title="Expired or already used">
-              {actionData?.error ?? "Sign-in links work once and for 15 minutes."}
-            </Notice>
-            <Link to="/sign-in-link" className="font-semibold text-accent-700 underline underline-offset-4">
-              Send me a new link
-            </Link>
-          </div>
-        )}
+      {valid ? (
+        <Form method="post" className="mt-6 space-y-4">
+          <p className="text-sm text-muted">Signing in as {loaderData.email}</p>
+          <input type="hidden" name="token" value={loaderData.token} />
+          <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
+            Continue to my page
+          </Button>
+        </Form>
+      ) : (
+        <div className="mt-4 space-y-4">
+          <Notice tone="error" title="Expired or already used">
+            {actionData?.error ?? "Sign-in links work once and for 15 minutes."}
+          </Notice>
+          <Link to="/sign-in-link" className="font-semibold text-accent-700 underline underline-offset-4">
+            Send me a new link
+          </Link>
+        </div>
+      )}
     </AuthCard>
   );
 }

@@ -11,7 +11,11 @@ import { requestAccountMail } from "~/models/users/account-mail.server";
 import { readForm } from "~/utils/form.server";
 
 const schema = z.object({
-  email: z.string({ error: "Enter your e-mail address." }).trim().toLowerCase().pipe(z.email({ error: "Enter a valid e-mail address, like name@example.com." })),
+  email: z
+    .string({ error: "Enter your e-mail address." })
+    .trim()
+    .toLowerCase()
+    .pipe(z.email({ error: "Enter a valid e-mail address, like name@example.com." })),
 });
 
 /**
@@ -24,7 +28,10 @@ export async function action({ request }: Route.ActionArgs) {
   if (submission.status !== "success") return data({ result: submission.reply(), sent: false }, { status: 400 });
   const queued = await requestAccountMail("sign_in", submission.value.email, request);
   if (!queued.ok) {
-    return data({ result: submission.reply({ formErrors: [queued.message] }), sent: false }, { status: queued.status, headers: { "retry-after": String(queued.retryAfterSeconds) } });
+    return data(
+      { result: submission.reply({ formErrors: [queued.message] }), sent: false },
+      { status: queued.status, headers: { "retry-after": String(queued.retryAfterSeconds) } },
+    );
   }
   return { result: submission.reply({ resetForm: true }), sent: true };
 }
@@ -39,30 +46,36 @@ export default function SignInLink({ actionData }: Route.ComponentProps) {
   });
   return (
     <AuthCard title="E-mail me a sign-in link">
-        <p className="mt-1 text-sm text-muted">For patients with an online account. The link works once, for 15 minutes.</p>
-        {actionData?.sent ? (
-          <div className="mt-6">
-            <Notice tone="success" title="Check your e-mail">
-              If a patient account exists for that address, a sign-in link is on its way.
-            </Notice>
-          </div>
+      <p className="mt-1 text-sm text-muted">
+        For patients with an online account. The link works once, for 15 minutes.
+      </p>
+      {actionData?.sent ? (
+        <div className="mt-6">
+          <Notice tone="success" title="Check your e-mail">
+            If a patient account exists for that address, a sign-in link is on its way.
+          </Notice>
+        </div>
+      ) : null}
+      <Form method="post" {...getFormProps(form)} className="mt-6 space-y-4">
+        {form.errors?.length ? (
+          <Notice tone="error" title="Not sent" id={form.errorId}>
+            {form.errors.join(" ")}
+          </Notice>
         ) : null}
-        <Form method="post" {...getFormProps(form)} className="mt-6 space-y-4">
-          {form.errors?.length ? (
-            <Notice tone="error" title="Not sent" id={form.errorId}>
-              {form.errors.join(" ")}
-            </Notice>
-          ) : null}
-          <Field label="E-mail" errors={fields.email.errors} inputProps={{ ...getInputProps(fields.email, { type: "email" }), autoComplete: "email" }} />
-          <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
-            Send sign-in link
-          </Button>
-        </Form>
-        <p className="mt-6 text-sm">
-          <Link to="/login" className="font-semibold text-accent-700 underline underline-offset-4">
-            Sign in with a password instead
-          </Link>
-        </p>
+        <Field
+          label="E-mail"
+          errors={fields.email.errors}
+          inputProps={{ ...getInputProps(fields.email, { type: "email" }), autoComplete: "email" }}
+        />
+        <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
+          Send sign-in link
+        </Button>
+      </Form>
+      <p className="mt-6 text-sm">
+        <Link to="/login" className="font-semibold text-accent-700 underline underline-offset-4">
+          Sign in with a password instead
+        </Link>
+      </p>
     </AuthCard>
   );
 }

@@ -31,7 +31,12 @@ export async function loader({ request }: Route.LoaderArgs) {
   if (f.q) {
     const n = /^(?:inv-?)?0*(\d{1,9})$/i.exec(f.q);
     const term = `%${f.q.replace(/[%_\\]/g, "\\$&")}%`;
-    where.push(or(ilike(sql`${patients.firstName} || ' ' || ${patients.lastName}`, term), ...(n ? [eq(invoices.number, Number(n[1]))] : []))!);
+    where.push(
+      or(
+        ilike(sql`${patients.firstName} || ' ' || ${patients.lastName}`, term),
+        ...(n ? [eq(invoices.number, Number(n[1]))] : []),
+      )!,
+    );
   }
   const cond = where.length ? and(...where) : undefined;
   const [rows, [{ total } = { total: 0 }], [settings]] = await Promise.all([
@@ -80,7 +85,10 @@ const columns = [
   col.accessor("label", {
     header: "Invoice",
     cell: (c) => (
-      <Link to={`/billing/invoices/${c.row.original.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
+      <Link
+        to={`/billing/invoices/${c.row.original.id}`}
+        className="font-semibold text-accent-700 underline underline-offset-4"
+      >
         {c.getValue()}
       </Link>
     ),
@@ -105,7 +113,13 @@ const STATUS_FILTERS = [
 export default function Invoices({ loaderData }: Route.ComponentProps) {
   const { rows, filter, pageCount, total } = loaderData;
   const [params] = useSearchParams();
-  const table = useReactTable({ data: rows, columns, getCoreRowModel: getCoreRowModel(), manualPagination: true, pageCount });
+  const table = useReactTable({
+    data: rows,
+    columns,
+    getCoreRowModel: getCoreRowModel(),
+    manualPagination: true,
+    pageCount,
+  });
   const pageLink = (page: number) => {
     const p = new URLSearchParams(params);
     p.set("page", String(page));
@@ -154,7 +168,11 @@ export default function Invoices({ loaderData }: Route.ComponentProps) {
               {table.getHeaderGroups().map((hg) => (
                 <tr key={hg.id}>
                   {hg.headers.map((h) => (
-                    <th key={h.id} scope="col" className={`py-2 pr-4 font-semibold ${(h.column.columnDef.meta as { right?: boolean } | undefined)?.right ? "text-right" : ""}`}>
+                    <th
+                      key={h.id}
+                      scope="col"
+                      className={`py-2 pr-4 font-semibold ${(h.column.columnDef.meta as { right?: boolean } | undefined)?.right ? "text-right" : ""}`}
+                    >
                       {flexRender(h.column.columnDef.header, h.getContext())}
                     </th>
                   ))}
@@ -165,7 +183,10 @@ export default function Invoices({ loaderData }: Route.ComponentProps) {
               {table.getRowModel().rows.map((r) => (
                 <tr key={r.id}>
                   {r.getVisibleCells().map((c) => (
-                    <td key={c.id} className={`py-3 pr-4 ${(c.column.columnDef.meta as { right?: boolean } | undefined)?.right ? "text-right tabular-nums" : ""}`}>
+                    <td
+                      key={c.id}
+                      className={`py-3 pr-4 ${(c.column.columnDef.meta as { right?: boolean } | undefined)?.right ? "text-right tabular-nums" : ""}`}
+                    >
                       {flexRender(c.column.columnDef.cell, c.getContext())}
                     </td>
                   ))}

@@ -17,7 +17,13 @@ import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import { BILLING_ROLES, BillingError, createInvoice, examForInvoice, type NewLine } from "~/models/billing/invoices.server";
+import {
+  BILLING_ROLES,
+  BillingError,
+  createInvoice,
+  examForInvoice,
+  type NewLine,
+} from "~/models/billing/invoices.server";
 
 const baseSchema = z.object({
   patientId: z.uuid({ error: "Choose a patient." }),
@@ -34,9 +40,19 @@ export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, BILLING_ROLES);
   const url = new URL(request.url);
   const examId = url.searchParams.get("exam");
-  const [settings] = await db.select({ currency: practiceSettings.currency }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const [settings] = await db
+    .select({ currency: practiceSettings.currency })
+    .from(practiceSettings)
+    .where(eq(practiceSettings.id, 1));
   const fees = await db
-    .select({ id: feeItems.id, code: feeItems.code, description: feeItems.description, priceMinor: feeItems.priceMinor, kind: feeItems.kind, taxCategory: feeItems.taxCategory })
+    .select({
+      id: feeItems.id,
+      code: feeItems.code,
+      description: feeItems.description,
+      priceMinor: feeItems.priceMinor,
+      kind: feeItems.kind,
+      taxCategory: feeItems.taxCategory,
+    })
     .from(feeItems)
     .where(eq(feeItems.active, true))
     .orderBy(asc(feeItems.kind), asc(feeItems.code));
@@ -46,21 +62,45 @@ export async function loader({ request }: Route.LoaderArgs) {
     if (!z.uuid().safeParse(examId).success) throw data({ error: "There is no such exam." }, { status: 404 });
     exam = await examForInvoice(examId);
     if (!exam) throw data({ error: "There is no such exam." }, { status: 404 });
-    const [p] = await db.select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName }).from(patients).where(eq(patients.id, exam.patientId));
+    const [p] = await db
+      .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName })
+      .from(patients)
+      .where(eq(patients.id, exam.patientId));
     patient = p ? { id: p.id, name: `${p.firstName} ${p.lastName}` } : null;
-    await audit({ action: "billing.exam_opened_for_invoice", actorUserId: user.id, entityType: "exam", entityId: exam.id, patientId: exam.patientId, request });
+    await audit({
+      action: "billing.exam_opened_for_invoice",
+      actorUserId: user.id,
+      entityType: "exam",
+      entityId: exam.id,
+      patientId: exam.patientId,
+      request,
+    });
   }
   const patientList = exam
     ? []
     : await db
-        .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth })
+        .select({
+          id: patients.id,
+          firstName: patients.firstName,
+          lastName: patients.lastName,
+          dateOfBirth: patients.dateOfBirth,
+        })
         .from(patients)
         .orderBy(asc(patients.lastName), asc(patients.firstName))
         .limit(500);
   return {
     currency: settings?.currency ?? "GBP",
     fees,
-    exam: exam ? { id: exam.id, completed: exam.completed, examinedAt: exam.examinedAt.toISOString(), appointmentType: exam.appointmentType, defaultFeeItemId: exam.defaultFeeItemId, existingInvoice: exam.existingInvoice } : null,
+    exam: exam
+      ? {
+          id: exam.id,
+          completed: exam.completed,
+          examinedAt: exam.examinedAt.toISOString(),
+          appointmentType: exam.appointmentType,
+          defaultFeeItemId: exam.defaultFeeItemId,
+          existingInvoice: exam.existingInvoice,
+        }
+      : null,
     patient,
     patients: patientList.map((p) => ({ id: p.id, label: `${p.lastName}, ${p.firstName} (born ${p.dateOfBirth})` })),
     preselectedPatient: url.searchParams.get("patient") ?? "",
@@ -77,7 +117,10 @@ export async function action({ request }: Route.ActionArgs) {
     return data({ errors }, { status: 400 });
   }
   const v = parsed.data;
-  const [settings] = await db.select({ currency: practiceSettings.currency }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const [settings] = await db
+    .select({ currency: practiceSettings.currency })
+    .from(practiceSettings)
+    .where(eq(practiceSettings.id, 1));
   const currency = settings?.currency ?? "GBP";
   const lines: NewLine[] = [];
   for (const [key, raw] of form.entries()) {
@@ -97,21 +140,56 @@ export async function action({ request }: Route.ActionArgs) {
     const qty = v.customQty ? (parseDecimal(v.customQty) ?? NaN) : 1;
     if (!v.customDescription) (errors.customDescription ??= []).push("Describe the extra line.");
     if (price === null) (errors.customPrice ??= []).push(`Give the price in ${currency}, e.g. 12.50.`);
-    if (!Number.isInteger(qty) || qty < 1 || qty > 1000) (errors.customQty ??= []).push("A whole number from 1 to 1000.");
-    if (v.customDescription && price !== null && Number.isInteger(qty) && qty >= 1) lines.push({ custom: { description: v.customDescription, unitPriceMinor: price, taxCategory: v.customTax, kind: v.customTax === "standard" ? "item" : "service" }, quantity: qty });
+    if (!Number.isInteger(qty) || qty < 1 || qty > 1000)
+      (errors.customQty ??= []).push("A whole number from 1 to 1000.");
+    if (v.customDescription && price !== null && Number.isInteger(qty) && qty >= 1)
+      lines.push({
+        custom: {
+          description: v.customDescription,
+          unitPriceMinor: price,
+          taxCategory: v.customTax,
+          kind: v.customTax === "standard" ? "item" : "service",
+        },
+        quantity: qty,
+      });
   }
-  if (!lines.length && !Object.keys(errors).length) errors.lines = ["Pick at least one fee (a quantity of 1 or more), or add an extra line."];
+  if (!lines.length && !Object.keys(errors).length)
+    errors.lines = ["Pick at least one fee (a quantity of 1 or more), or add an extra line."];
   if (Object.keys(errors).length) return data({ errors }, { status: 400 });
   if (v.examId) {
     const exam = await examForInvoice(v.examId);
     if (!exam) return data({ errors: { form: ["There is no such exam."] } }, { status: 400 });
-    if (!exam.completed) return data({ errors: { form: ["This exam is not finished yet: it must be signed (or its appointment completed) before it is invoiced."] } }, { status: 400 });
+    if (!exam.completed)
+      return data(
+        {
+          errors: {
+            form: [
+              "This exam is not finished yet: it must be signed (or its appointment completed) before it is invoiced.",
+            ],
+          },
+        },
+        { status: 400 },
+      );
   }
   try {
-    const id = await createInvoice({ patientId: v.patientId, examId: v.examId || null, lines, actorUserId: user.id, request });
-    return redirectWithToast(`/billing/invoices/${id}`, { kind: "success", title: "Draft invoice created", description: "Check the lines, then issue it." });
+    const id = await createInvoice({
+      patientId: v.patientId,
+      examId: v.examId || null,
+      lines,
+      actorUserId: user.id,
+      request,
+    });
+    return redirectWithToast(`/billing/invoices/${id}`, {
+      kind: "success",
+      title: "Draft invoice created",
+      description: "Check the lines, then issue it.",
+    });
   } catch (error) {
-    if (error instanceof BillingError) return data({ errors: { [error.field ?? "form"]: [error.message] } }, { status: error.status === 409 ? 409 : 400 });
+    if (error instanceof BillingError)
+      return data(
+        { errors: { [error.field ?? "form"]: [error.message] } },
+        { status: error.status === 409 ? 409 : 400 },
+      );
     throw error;
   }
 }
@@ -122,7 +200,9 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
   const navigation = useNavigation();
   const services = fees.filter((f) => f.kind === "service");
   const items = fees.filter((f) => f.kind === "item");
-  const examDate = exam ? new Date(exam.examinedAt).toLocaleDateString("en-GB", { day: "numeric", month: "long", year: "numeric" }) : "";
+  const examDate = exam
+    ? new Date(exam.examinedAt).toLocaleDateString("en-GB", { day: "numeric", month: "long", year: "numeric" })
+    : "";
   const FeeRows = ({ list }: { list: typeof fees }) => (
     <table className="w-full text-left text-sm">
       <thead className="border-b border-line text-muted">
@@ -140,14 +220,25 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
             <td className="py-2 pr-4">
               {f.description}
               {f.taxCategory === "standard" ? <span className="ml-2 text-xs text-muted">(taxed)</span> : null}
-              {exam?.defaultFeeItemId === f.id ? <span className="ml-2 text-xs font-semibold text-accent-800">· this exam's visit fee</span> : null}
+              {exam?.defaultFeeItemId === f.id ? (
+                <span className="ml-2 text-xs font-semibold text-accent-800">· this exam's visit fee</span>
+              ) : null}
             </td>
             <td className="py-2 pr-4 text-right tabular-nums">{formatMoney(f.priceMinor, currency)}</td>
             <td className="py-2">
               <label htmlFor={`qty_${f.id}`} className="sr-only">
                 Quantity of {f.description}
               </label>
-              <Input id={`qty_${f.id}`} name={`qty_${f.id}`} type="number" min={0} max={1000} defaultValue={exam?.defaultFeeItemId === f.id ? 1 : 0} className="w-24 py-1" aria-invalid={errors[`qty_${f.id}`] ? true : undefined} />
+              <Input
+                id={`qty_${f.id}`}
+                name={`qty_${f.id}`}
+                type="number"
+                min={0}
+                max={1000}
+                defaultValue={exam?.defaultFeeItemId === f.id ? 1 : 0}
+                className="w-24 py-1"
+                aria-invalid={errors[`qty_${f.id}`] ? true : undefined}
+              />
               <ErrorList errors={errors[`qty_${f.id}`]} />
             </td>
           </tr>
@@ -157,7 +248,14 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
   );
   return (
     <>
-      <PageHeader title="New invoice" description={exam ? `From the exam of ${patient?.name ?? "the patient"} on ${examDate}.` : "Raise an invoice by hand, or open one from a finished exam."} />
+      <PageHeader
+        title="New invoice"
+        description={
+          exam
+            ? `From the exam of ${patient?.name ?? "the patient"} on ${examDate}.`
+            : "Raise an invoice by hand, or open one from a finished exam."
+        }
+      />
       <BillingNav />
       <Form method="post" className="space-y-6" aria-describedby={errors.form ? "form-error" : undefined}>
         {errors.form || errors.lines ? (
@@ -172,7 +270,11 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
         ) : null}
         {exam?.existingInvoice ? (
           <Notice tone="info" title="Already invoiced">
-            This exam already has an invoice: <Link to={`/billing/invoices/${exam.existingInvoice.id}`} className="font-semibold underline">open it</Link>.
+            This exam already has an invoice:{" "}
+            <Link to={`/billing/invoices/${exam.existingInvoice.id}`} className="font-semibold underline">
+              open it
+            </Link>
+            .
           </Notice>
         ) : null}
         <Card title="Patient">
@@ -190,7 +292,13 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
               <label htmlFor="patientId" className="mb-1 block text-sm font-semibold">
                 Patient
               </label>
-              <Select id="patientId" name="patientId" defaultValue={preselectedPatient} aria-invalid={errors.patientId ? true : undefined} aria-describedby={errors.patientId ? "patientId-error" : undefined}>
+              <Select
+                id="patientId"
+                name="patientId"
+                defaultValue={preselectedPatient}
+                aria-invalid={errors.patientId ? true : undefined}
+                aria-describedby={errors.patientId ? "patientId-error" : undefined}
+              >
                 <option value="">Choose…</option>
                 {patientList.map((p) => (
                   <option key={p.id} value={p.id}>
@@ -202,29 +310,53 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
             </div>
           )}
         </Card>
-        <Card title="Services performed">{services.length ? <FeeRows list={services} /> : <p className="text-muted">No services in the fee schedule yet.</p>}</Card>
-        <Card title="Dispensed items">{items.length ? <FeeRows list={items} /> : <p className="text-muted">No items in the fee schedule yet.</p>}</Card>
+        <Card title="Services performed">
+          {services.length ? (
+            <FeeRows list={services} />
+          ) : (
+            <p className="text-muted">No services in the fee schedule yet.</p>
+          )}
+        </Card>
+        <Card title="Dispensed items">
+          {items.length ? <FeeRows list={items} /> : <p className="text-muted">No items in the fee schedule yet.</p>}
+        </Card>
         <Card title="Extra line (optional)">
           <div className="grid gap-4 sm:grid-cols-[2fr_1fr_1fr_1fr]">
             <div>
               <label htmlFor="customDescription" className="mb-1 block text-sm font-semibold">
                 Description
               </label>
-              <Input id="customDescription" name="customDescription" aria-invalid={errors.customDescription ? true : undefined} />
+              <Input
+                id="customDescription"
+                name="customDescription"
+                aria-invalid={errors.customDescription ? true : undefined}
+              />
               <ErrorList errors={errors.customDescription} />
             </div>
             <div>
               <label htmlFor="customPrice" className="mb-1 block text-sm font-semibold">
                 Unit price ({currency})
               </label>
-              <Input id="customPrice" name="customPrice" inputMode="decimal" aria-invalid={errors.customPrice ? true : undefined} />
+              <Input
+                id="customPrice"
+                name="customPrice"
+                inputMode="decimal"
+                aria-invalid={errors.customPrice ? true : undefined}
+              />
               <ErrorList errors={errors.customPrice} />
             </div>
             <div>
               <label htmlFor="customQty" className="mb-1 block text-sm font-semibold">
                 Quantity
               </label>
-              <Input id="customQty" name="customQty" type="number" min={1} defaultValue={1} aria-invalid={errors.customQty ? true : undefined} />
+              <Input
+                id="customQty"
+                name="customQty"
+                type="number"
+                min={1}
+                defaultValue={1}
+                aria-invalid={errors.customQty ? true : undefined}
+              />
               <ErrorList errors={errors.customQty} />
             </div>
             <div>
@@ -238,7 +370,11 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
             </div>
           </div>
         </Card>
-        <Button type="submit" pending={navigation.state === "submitting"} disabled={Boolean(exam && (!exam.completed || exam.existingInvoice))}>
+        <Button
+          type="submit"
+          pending={navigation.state === "submitting"}
+          disabled={Boolean(exam && (!exam.completed || exam.existingInvoice))}
+        >
           Create draft invoice
         </Button>
       </Form>

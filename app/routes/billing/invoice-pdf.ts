@@ -8,12 +8,25 @@ import { requireRole } from "~/utils/auth.server";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, BILLING_ROLES);
-  if (!z.uuid().safeParse(params.invoiceId).success) throw data({ error: "There is no such invoice." }, { status: 404 });
+  if (!z.uuid().safeParse(params.invoiceId).success)
+    throw data({ error: "There is no such invoice." }, { status: 404 });
   const d = await invoiceDetail(params.invoiceId);
-  if (!d || d.invoice.status === "draft") throw data({ error: "There is no such invoice (a draft has no PDF until it is issued)." }, { status: 404 });
+  if (!d || d.invoice.status === "draft")
+    throw data({ error: "There is no such invoice (a draft has no PDF until it is issued)." }, { status: 404 });
   const pdf = await billingPdf(d, "invoice");
-  await audit({ action: "billing.invoice_pdf", actorUserId: user.id, entityType: "invoice", entityId: d.invoice.id, patientId: d.patient.id, request });
+  await audit({
+    action: "billing.invoice_pdf",
+    actorUserId: user.id,
+    entityType: "invoice",
+    entityId: d.invoice.id,
+    patientId: d.patient.id,
+    request,
+  });
   return new Response(Buffer.from(pdf), {
-    headers: { "content-type": "application/pdf", "content-disposition": `inline; filename="invoice-${invoiceLabel(d.invoice.number)}.pdf"`, "cache-control": "private, no-store" },
+    headers: {
+      "content-type": "application/pdf",
+      "content-disposition": `inline; filename="invoice-${invoiceLabel(d.invoice.number)}.pdf"`,
+      "cache-control": "private, no-store",
+    },
   });
 }

@@ -11,13 +11,28 @@ import { db } from "~/utils/db.server";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, BILLING_ROLES);
-  if (!z.uuid().safeParse(params.paymentId).success) throw data({ error: "There is no such payment." }, { status: 404 });
-  const [p] = await db.select({ invoiceId: payments.invoiceId, status: payments.status }).from(payments).where(eq(payments.id, params.paymentId));
+  if (!z.uuid().safeParse(params.paymentId).success)
+    throw data({ error: "There is no such payment." }, { status: 404 });
+  const [p] = await db
+    .select({ invoiceId: payments.invoiceId, status: payments.status })
+    .from(payments)
+    .where(eq(payments.id, params.paymentId));
   if (!p || p.status !== "succeeded") throw data({ error: "There is no receipt for this payment." }, { status: 404 });
   const d = (await invoiceDetail(p.invoiceId))!;
   const pdf = await billingPdf(d, "receipt", params.paymentId);
-  await audit({ action: "billing.receipt_pdf", actorUserId: user.id, entityType: "payment", entityId: params.paymentId, patientId: d.patient.id, request });
+  await audit({
+    action: "billing.receipt_pdf",
+    actorUserId: user.id,
+    entityType: "payment",
+    entityId: params.paymentId,
+    patientId: d.patient.id,
+    request,
+  });
   return new Response(Buffer.from(pdf), {
-    headers: { "content-type": "application/pdf", "content-disposition": `inline; filename="receipt-${invoiceLabel(d.invoice.number)}.pdf"`, "cache-control": "private, no-store" },
+    headers: {
+      "content-type": "application/pdf",
+      "content-disposition": `inline; filename="receipt-${invoiceLabel(d.invoice.number)}.pdf"`,
+      "cache-control": "private, no-store",
+    },
   });
 }

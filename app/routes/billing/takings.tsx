@@ -24,25 +24,67 @@ export async function loader({ request }: Route.LoaderArgs) {
   const { site, setCookie } = await siteChoice(request, sites);
   const t = await takings(period, site === "all" ? undefined : site);
   const cur = t.currency;
-  const time = new Intl.DateTimeFormat("en-GB", { timeZone: t.timeZone, day: "numeric", month: "short", hour: "2-digit", minute: "2-digit" });
+  const time = new Intl.DateTimeFormat("en-GB", {
+    timeZone: t.timeZone,
+    day: "numeric",
+    month: "short",
+    hour: "2-digit",
+    minute: "2-digit",
+  });
   const title =
     period.kind === "day"
-      ? new Intl.DateTimeFormat("en-GB", { timeZone: "UTC", weekday: "long", day: "numeric", month: "long", year: "numeric" }).format(new Date(`${period.day}T12:00:00Z`))
-      : new Intl.DateTimeFormat("en-GB", { timeZone: "UTC", month: "long", year: "numeric" }).format(new Date(`${period.month}-15T12:00:00Z`));
-  return data({
-    site,
-    sites: sites.map(({ id, name }) => ({ id, name })),
-    period,
-    title,
-    today,
-    csvHref: `/billing/takings.csv?${period.kind === "day" ? `day=${period.day}` : `month=${period.month}`}`,
-    byMethod: t.byMethod.map((m) => ({ label: METHOD_LABEL[m.method], count: m.count, received: formatMoney(m.receivedMinor, cur), refunded: formatMoney(m.refundedMinor, cur), net: formatMoney(m.netMinor, cur) })),
-    totals: { received: formatMoney(t.totals.receivedMinor, cur), refunded: formatMoney(t.totals.refundedMinor, cur), net: formatMoney(t.totals.netMinor, cur) },
-    entries: t.entries.map((e) => ({ key: `${e.kind}-${e.id}`, when: time.format(e.at), kind: e.kind, status: e.status, method: METHOD_LABEL[e.method], amount: formatMoney(e.amountMinor, cur), invoiceId: e.invoiceId, invoice: invoiceLabel(e.invoiceNumber), patient: e.patient, note: e.reference })),
-    flagged: t.flagged.length,
-    invoicesTouched: t.invoicesTouched,
-    mismatches: t.mismatches.map((m) => ({ ...m, paid: formatMoney(m.paidMinor, cur), payments: formatMoney(m.paymentsMinor, cur) })),
-  }, setCookie ? { headers: { "set-cookie": setCookie } } : undefined);
+      ? new Intl.DateTimeFormat("en-GB", {
+          timeZone: "UTC",
+          weekday: "long",
+          day: "numeric",
+          month: "long",
+          year: "numeric",
+        }).format(new Date(`${period.day}T12:00:00Z`))
+      : new Intl.DateTimeFormat("en-GB", { timeZone: "UTC", month: "long", year: "numeric" }).format(
+          new Date(`${period.month}-15T12:00:00Z`),
+        );
+  return data(
+    {
+      site,
+      sites: sites.map(({ id, name }) => ({ id, name })),
+      period,
+      title,
+      today,
+      csvHref: `/billing/takings.csv?${period.kind === "day" ? `day=${period.day}` : `month=${period.month}`}`,
+      byMethod: t.byMethod.map((m) => ({
+        label: METHOD_LABEL[m.method],
+        count: m.count,
+        received: formatMoney(m.receivedMinor, cur),
+        refunded: formatMoney(m.refundedMinor, cur),
+        net: formatMoney(m.netMinor, cur),
+      })),
+      totals: {
+        received: formatMoney(t.totals.receivedMinor, cur),
+        refunded: formatMoney(t.totals.refundedMinor, cur),
+        net: formatMoney(t.totals.netMinor, cur),
+      },
+      entries: t.entries.map((e) => ({
+        key: `${e.kind}-${e.id}`,
+        when: time.format(e.at),
+        kind: e.kind,
+        status: e.status,
+        method: METHOD_LABEL[e.method],
+        amount: formatMoney(e.amountMinor, cur),
+        invoiceId: e.invoiceId,
+        invoice: invoiceLabel(e.invoiceNumber),
+        patient: e.patient,
+        note: e.reference,
+      })),
+      flagged: t.flagged.length,
+      invoicesTouched: t.invoicesTouched,
+      mismatches: t.mismatches.map((m) => ({
+        ...m,
+        paid: formatMoney(m.paidMinor, cur),
+        payments: formatMoney(m.paymentsMinor, cur),
+      })),
+    },
+    setCookie ? { headers: { "set-cookie": setCookie } } : undefined,
+  );
 }
 
 export default function Takings({ loaderData: d }: Route.ComponentProps) {
@@ -91,7 +133,12 @@ export default function Takings({ loaderData: d }: Route.ComponentProps) {
               <label htmlFor="month" className="mb-1 block text-sm font-semibold">
                 Month
               </label>
-              <Input id="month" name="month" type="month" defaultValue={d.period.kind === "month" ? d.period.month : d.today.slice(0, 7)} />
+              <Input
+                id="month"
+                name="month"
+                type="month"
+                defaultValue={d.period.kind === "month" ? d.period.month : d.today.slice(0, 7)}
+              />
             </div>
             <button type="submit" className={buttonClass("secondary")}>
               Show month
@@ -102,11 +149,16 @@ export default function Takings({ loaderData: d }: Route.ComponentProps) {
       <div className="mb-6">
         {d.mismatches.length ? (
           <Notice tone="error" title="Does not reconcile">
-            {d.mismatches.map((m) => `${m.label}: the invoice shows ${m.paid} paid, its payments less refunds come to ${m.payments}.`).join(" ")}
+            {d.mismatches
+              .map(
+                (m) => `${m.label}: the invoice shows ${m.paid} paid, its payments less refunds come to ${m.payments}.`,
+              )
+              .join(" ")}
           </Notice>
         ) : (
           <Notice tone="success" title="Reconciles with the invoices">
-            {d.invoicesTouched} invoice{d.invoicesTouched === 1 ? "" : "s"} had money in or out in this period; each one's paid amount equals its payments less refunds.
+            {d.invoicesTouched} invoice{d.invoicesTouched === 1 ? "" : "s"} had money in or out in this period; each
+            one's paid amount equals its payments less refunds.
           </Notice>
         )}
         {d.flagged ? (
@@ -174,14 +226,23 @@ export default function Takings({ loaderData: d }: Route.ComponentProps) {
                   <tr key={e.key}>
                     <td className="py-2 pr-4">{e.when}</td>
                     <td className="py-2 pr-4">
-                      <Link to={`/billing/invoices/${e.invoiceId}`} className="font-semibold text-accent-700 underline underline-offset-4">
+                      <Link
+                        to={`/billing/invoices/${e.invoiceId}`}
+                        className="font-semibold text-accent-700 underline underline-offset-4"
+                      >
                         {e.invoice}
                       </Link>
                     </td>
                     <td className="py-2 pr-4">{e.patient}</td>
                     <td className="py-2 pr-4">{e.method}</td>
                     <td className="py-2 pr-4">
-                      {e.status === "flagged" ? <StatusBadge tone="error">Flagged</StatusBadge> : e.kind === "refund" ? <StatusBadge tone="warning">Refund</StatusBadge> : <StatusBadge tone="success">Payment</StatusBadge>}
+                      {e.status === "flagged" ? (
+                        <StatusBadge tone="error">Flagged</StatusBadge>
+                      ) : e.kind === "refund" ? (
+                        <StatusBadge tone="warning">Refund</StatusBadge>
+                      ) : (
+                        <StatusBadge tone="success">Payment</StatusBadge>
+                      )}
                     </td>
                     <td className="py-2 text-right tabular-nums">{e.amount}</td>
                   </tr>

@@ -40,19 +40,28 @@ export default function Mailbox({ loaderData }: Route.ComponentProps) {
   return (
     <main id="main" className="mx-auto max-w-7xl px-4 py-8 sm:px-6">
       <h1 className="text-2xl">Demo mailbox</h1>
-      <p className="mt-1 mb-4 text-muted">Every e-mail the app has sent through the local SMTP stand-in. Demo mode only: this page does not exist in production.</p>
+      <p className="mt-1 mb-4 text-muted">
+        Every e-mail the app has sent through the local SMTP stand-in. Demo mode only: this page does not exist in
+        production.
+      </p>
       <div className="grid gap-6 lg:grid-cols-[24rem_1fr]">
         <section aria-label="Messages" className="rounded-lg border border-line bg-white">
           {list.length === 0 ? <p className="p-4 text-muted">No messages yet.</p> : null}
           <ul className="divide-y divide-line">
             {list.map((m) => (
               <li key={m.id}>
-                <Link to={`?id=${m.id}`} className={`block px-4 py-3 hover:bg-canvas ${selected?.id === m.id ? "bg-accent-50" : ""}`} aria-current={selected?.id === m.id ? "true" : undefined}>
+                <Link
+                  to={`?id=${m.id}`}
+                  className={`block px-4 py-3 hover:bg-canvas ${selected?.id === m.id ? "bg-accent-50" : ""}`}
+                  aria-current={selected?.id === m.id ? "true" : undefined}
+                >
                   <span className="block font-semibold">{m.subject || "(no subject)"}</span>
                   <span className="block text-sm text-muted">To {m.to.join(", ")}</span>
                   <span className="block text-xs text-muted">
                     {new Date(m.receivedAt).toLocaleString("en-GB")}
-                    {m.attachments.length ? ` · ${m.attachments.length} attachment${m.attachments.length > 1 ? "s" : ""}` : ""}
+                    {m.attachments.length
+                      ? ` · ${m.attachments.length} attachment${m.attachments.length > 1 ? "s" : ""}`
+                      : ""}
                   </span>
                 </Link>
               </li>
@@ -78,7 +87,10 @@ export default function Mailbox({ loaderData }: Route.ComponentProps) {
                   <ul className="mt-2 space-y-1">
                     {selected.attachments.map((a) => (
                       <li key={a.index}>
-                        <a href={`/dev/mailbox/${selected.id}/attachments/${a.index}`} className="font-semibold text-accent-700 underline underline-offset-4">
+                        <a
+                          href={`/dev/mailbox/${selected.id}/attachments/${a.index}`}
+                          className="font-semibold text-accent-700 underline underline-offset-4"
+                        >
                           {a.filename}
                         </a>{" "}
                         <span className="text-sm text-muted">

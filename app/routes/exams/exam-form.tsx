@@ -5,19 +5,27 @@ import { Icon } from "~/components/ui/icon";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import type { ReferralPrompt } from "~/lib/optics";
 
-export type SaveReply = { ok: true; section: string; savedAt: string } | { ok: false; section: string; message: string; errors?: Record<string, string[]> };
+export type SaveReply =
+  | { ok: true; section: string; savedAt: string }
+  | { ok: false; section: string; message: string; errors?: Record<string, string[]> };
 
 type SectionState = "saved" | "unsaved" | "saving" | "failed";
 
 /** Which sections have unsaved work, so signing waits for them. */
-export const DirtyContext = createContext<{ set: (section: string, state: SectionState) => void; states: Record<string, SectionState> }>({
+export const DirtyContext = createContext<{
+  set: (section: string, state: SectionState) => void;
+  states: Record<string, SectionState>;
+}>({
   set: () => undefined,
   states: {},
 });
 
 export function useDirtyTracker() {
   const [states, setStates] = useState<Record<string, SectionState>>({});
-  const set = useCallback((section: string, state: SectionState) => setStates((s) => (s[section] === state ? s : { ...s, [section]: state })), []);
+  const set = useCallback(
+    (section: string, state: SectionState) => setStates((s) => (s[section] === state ? s : { ...s, [section]: state })),
+    [],
+  );
   return { states, set };
 }
 
@@ -57,12 +65,18 @@ export function SectionForm({
   const [dirty, setDirty] = useState(false);
   const dirtyTracker = useContext(DirtyContext);
   const reply = fetcher.data && fetcher.data.section === section ? fetcher.data : undefined;
-  const state: SectionState = fetcher.state !== "idle" ? "saving" : dirty ? "unsaved" : reply && !reply.ok ? "failed" : "saved";
+  const state: SectionState =
+    fetcher.state !== "idle" ? "saving" : dirty ? "unsaved" : reply && !reply.ok ? "failed" : "saved";
 
   useEffect(() => {
     dirtyTracker.set(section, state);
   }, [state, section, dirtyTracker.set]);
-  useEffect(() => () => { if (timer.current) clearTimeout(timer.current); }, []);
+  useEffect(
+    () => () => {
+      if (timer.current) clearTimeout(timer.current);
+    },
+    [],
+  );
   useEffect(() => {
     if (!dirty) return;
     const warn = (e: BeforeUnloadEvent) => e.preventDefault();
@@ -85,65 +99,73 @@ export function SectionForm({
 
   const savedAt = reply?.ok ? reply.savedAt : lastSavedAt;
   const statusText =
-    state === "saving" ? "Saving…" : state === "unsaved" ? "Unsaved changes" : state === "failed" ? "Not saved" : savedAt ? `Saved ${new Date(savedAt).toLocaleTimeString("en-GB", { hour: "2-digit", minute: "2-digit" })}` : "Nothing entered yet";
+    state === "saving"
+      ? "Saving…"
+      : state === "unsaved"
+        ? "Unsaved changes"
+        : state === "failed"
+          ? "Not saved"
+          : savedAt
+            ? `Saved ${new Date(savedAt).toLocaleTimeString("en-GB", { hour: "2-digit", minute: "2-digit" })}`
+            : "Nothing entered yet";
   const tone = state === "failed" ? "error" : state === "saved" ? "success" : state === "saving" ? "info" : "warning";
 
   return (
     <ErrorsContext.Provider value={reply && !reply.ok ? (reply.errors ?? {}) : {}}>
       <ReadOnlyContext.Provider value={readOnly}>
         <div id={sectionAnchor(section)} className="scroll-mt-4">
-        <Card
-          title={title}
-          actions={
-            readOnly ? (
-              <StatusBadge tone="info">Signed · read-only</StatusBadge>
-            ) : (
-              <span role="status" aria-live="polite" data-section-status={section}>
-                <StatusBadge tone={tone}>{statusText}</StatusBadge>
-              </span>
-            )
-          }
-        >
-          {description ? <div className="mb-4 text-sm text-muted">{description}</div> : null}
-          <fetcher.Form
-            ref={formRef}
-            method="post"
-            onChange={changed}
-            onInput={changed}
-            onBlur={(e) => {
-              if (dirty && !e.currentTarget.contains(e.relatedTarget as Node | null)) save();
-            }}
-            onSubmit={(e) => {
-              e.preventDefault();
-              save();
-            }}
-            aria-label={title}
+          <Card
+            title={title}
+            actions={
+              readOnly ? (
+                <StatusBadge tone="info">Signed · read-only</StatusBadge>
+              ) : (
+                <span role="status" aria-live="polite" data-section-status={section}>
+                  <StatusBadge tone={tone}>{statusText}</StatusBadge>
+                </span>
+              )
+            }
           >
-            <input type="hidden" name="intent" value="save" />
-            <input type="hidden" name="section" value={section} />
-            <fieldset disabled={readOnly} className="min-w-0">
-              <legend className="sr-only">{title}</legend>
-              {children}
-            </fieldset>
-          </fetcher.Form>
-          {reply && !reply.ok && state === "failed" ? (
-            <div className="mt-4">
-              <Notice tone="error" title={`Not saved: ${reply.message}`}>
-                {reply.errors ? (
-                  <ul className="list-disc pl-5">
-                    {Object.values(reply.errors)
-                      .flat()
-                      .map((m) => (
-                        <li key={m}>{m}</li>
-                      ))}
-                  </ul>
-                ) : null}
-                <p className="mt-1">What you typed is kept; correct it and the section saves again.</p>
-              </Notice>
-            </div>
-          ) : null}
-          {prompts?.length ? <PromptList prompts={prompts} /> : null}
-        </Card>
+            {description ? <div className="mb-4 text-sm text-muted">{description}</div> : null}
+            <fetcher.Form
+              ref={formRef}
+              method="post"
+              onChange={changed}
+              onInput={changed}
+              onBlur={(e) => {
+                if (dirty && !e.currentTarget.contains(e.relatedTarget as Node | null)) save();
+              }}
+              onSubmit={(e) => {
+                e.preventDefault();
+                save();
+              }}
+              aria-label={title}
+            >
+              <input type="hidden" name="intent" value="save" />
+              <input type="hidden" name="section" value={section} />
+              <fieldset disabled={readOnly} className="min-w-0">
+                <legend className="sr-only">{title}</legend>
+                {children}
+              </fieldset>
+            </fetcher.Form>
+            {reply && !reply.ok && state === "failed" ? (
+              <div className="mt-4">
+                <Notice tone="error" title={`Not saved: ${reply.message}`}>
+                  {reply.errors ? (
+                    <ul className="list-disc pl-5">
+                      {Object.values(reply.errors)
+                        .flat()
+                        .map((m) => (
+                          <li key={m}>{m}</li>
+                        ))}
+                    </ul>
+                  ) : null}
+                  <p className="mt-1">What you typed is kept; correct it and the section saves again.</p>
+                </Notice>
+              </div>
+            ) : null}
+            {prompts?.length ? <PromptList prompts={prompts} /> : null}
+          </Card>
         </div>
       </ReadOnlyContext.Provider>
     </ErrorsContext.Provider>
@@ -162,7 +184,9 @@ export function PromptList({ prompts }: { prompts: ReferralPrompt[] }) {
               <p>
                 Rule: {p.rule} <span className="text-muted">Source: {p.source}.</span>
               </p>
-              <p className="mt-1">Check the finding before referring; local law and licensed practice govern referrals.</p>
+              <p className="mt-1">
+                Check the finding before referring; local law and licensed practice govern referrals.
+              </p>
             </Notice>
           ))}
         </div>
@@ -175,7 +199,10 @@ export function PromptList({ prompts }: { prompts: ReferralPrompt[] }) {
               <p>
                 Rule: {p.rule} <span className="text-muted">Source: {p.source}.</span>
               </p>
-              <p className="mt-1">Advice to measure again before deciding, not a referral prompt: this reading alone is not a reason to refer.</p>
+              <p className="mt-1">
+                Advice to measure again before deciding, not a referral prompt: this reading alone is not a reason to
+                refer.
+              </p>
             </Notice>
           ))}
         </div>
@@ -219,8 +246,12 @@ export function ExamInput({
   max?: string;
 }) {
   const serverErrors = useContext(ErrorsContext)[name];
-  const [clientError, setClientError] = useState<string | undefined>(() => (defaultValue && validate ? validate(defaultValue) : undefined));
-  const [echoText, setEchoText] = useState<string | undefined>(() => (defaultValue && echo ? echo(defaultValue) : undefined));
+  const [clientError, setClientError] = useState<string | undefined>(() =>
+    defaultValue && validate ? validate(defaultValue) : undefined,
+  );
+  const [echoText, setEchoText] = useState<string | undefined>(() =>
+    defaultValue && echo ? echo(defaultValue) : undefined,
+  );
   const [touched, setTouched] = useState(false);
   const timer = useRef<ReturnType<typeof setTimeout> | null>(null);
   const inputRef = useRef<HTMLInputElement>(null);
@@ -285,13 +316,31 @@ export function ExamInput({
 }
 
 /** A checkbox of a section ("on" when ticked), with the server's error for it. */
-export function ExamCheckbox({ id, name, label, defaultChecked }: { id: string; name: string; label: ReactNode; defaultChecked?: boolean }) {
+export function ExamCheckbox({
+  id,
+  name,
+  label,
+  defaultChecked,
+}: {
+  id: string;
+  name: string;
+  label: ReactNode;
+  defaultChecked?: boolean;
+}) {
   const serverErrors = useContext(ErrorsContext)[name];
   const errorId = serverErrors?.length ? `${id}-error` : undefined;
   return (
     <div>
       <label htmlFor={id} className="flex items-start gap-2 text-sm">
-        <input id={id} type="checkbox" name={name} defaultChecked={defaultChecked} aria-invalid={errorId ? true : undefined} aria-describedby={errorId} className="mt-0.5 size-5 shrink-0" />
+        <input
+          id={id}
+          type="checkbox"
+          name={name}
+          defaultChecked={defaultChecked}
+          aria-invalid={errorId ? true : undefined}
+          aria-describedby={errorId}
+          className="mt-0.5 size-5 shrink-0"
+        />
         <span>{label}</span>
       </label>
       {errorId ? (
@@ -356,13 +405,31 @@ export function ExamSelect({
   );
 }
 
-export function ExamTextarea({ id, name, label, defaultValue, rows = 2 }: { id: string; name: string; label: string; defaultValue?: string; rows?: number }) {
+export function ExamTextarea({
+  id,
+  name,
+  label,
+  defaultValue,
+  rows = 2,
+}: {
+  id: string;
+  name: string;
+  label: string;
+  defaultValue?: string;
+  rows?: number;
+}) {
   return (
     <div>
       <label htmlFor={id} className="mb-1 block text-sm font-semibold">
         {label}
       </label>
-      <textarea id={id} name={name} rows={rows} defaultValue={defaultValue} className="block w-full rounded-md border border-line bg-white px-3 py-2 text-sm disabled:bg-canvas" />
+      <textarea
+        id={id}
+        name={name}
+        rows={rows}
+        defaultValue={defaultValue}
+        className="block w-full rounded-md border border-line bg-white px-3 py-2 text-sm disabled:bg-canvas"
+      />
     </div>
   );
 }

@@ -26,16 +26,34 @@ type V = { values: Record<string, string>; readOnly: boolean };
 
 const SIDE = { right: "Right", left: "Left", both: "Both eyes" } as const;
 
-export function AcuitySection({ values, readOnly, prompts, practiceNotation }: V & { prompts: ReferralPrompt[]; practiceNotation: AcuityNotation }) {
-  const [notation, setNotation] = useState<AcuityNotation>(() => (ACUITY_NOTATIONS as readonly string[]).includes(values.va_notation ?? "") ? (values.va_notation as AcuityNotation) : practiceNotation);
-  const columns = ACUITY_DISTANCES.flatMap((d) => ACUITY_CORRECTIONS.filter((c) => !(d === "near" && c === "pinhole")).map((c) => [d, c] as const));
+export function AcuitySection({
+  values,
+  readOnly,
+  prompts,
+  practiceNotation,
+}: V & { prompts: ReferralPrompt[]; practiceNotation: AcuityNotation }) {
+  const [notation, setNotation] = useState<AcuityNotation>(() =>
+    (ACUITY_NOTATIONS as readonly string[]).includes(values.va_notation ?? "")
+      ? (values.va_notation as AcuityNotation)
+      : practiceNotation,
+  );
+  const columns = ACUITY_DISTANCES.flatMap((d) =>
+    ACUITY_CORRECTIONS.filter((c) => !(d === "near" && c === "pinhole")).map((c) => [d, c] as const),
+  );
   const readers = useMemo(
     () =>
       Object.fromEntries(
         ACUITY_EYES.flatMap((eye) =>
           columns.map(([d, c]) => {
             const label = `${SIDE[eye]} ${d} ${ACUITY_CORRECTION_LABEL[c].toLowerCase()} VA`;
-            return [acuityField(eye, d, c), { label, validate: (t: string) => parseAcuity(t, label, { notation, distance: d }).error, echo: (t: string) => parseAcuity(t, label, { notation, distance: d }).value?.echo }];
+            return [
+              acuityField(eye, d, c),
+              {
+                label,
+                validate: (t: string) => parseAcuity(t, label, { notation, distance: d }).error,
+                echo: (t: string) => parseAcuity(t, label, { notation, distance: d }).value?.echo,
+              },
+            ];
           }),
         ),
       ),
@@ -50,13 +68,24 @@ export function AcuitySection({ values, readOnly, prompts, practiceNotation }: V
       prompts={prompts}
       description={
         <>
-          Fractions say their own notation (6/9, 20/30). A bare number is read in the notation chosen here; with Snellen notations a bare number is refused because 1.0 means 6/6 as decimal but 6/60 as logMAR. Near in N-point (N5) or M units (0.8M) at
-          40 cm; pinhole as PH 6/9; low vision as CF, HM, LP or NLP. Each value shows what it reads as before it is saved.
+          Fractions say their own notation (6/9, 20/30). A bare number is read in the notation chosen here; with Snellen
+          notations a bare number is refused because 1.0 means 6/6 as decimal but 6/60 as logMAR. Near in N-point (N5)
+          or M units (0.8M) at 40 cm; pinhole as PH 6/9; low vision as CF, HM, LP or NLP. Each value shows what it reads
+          as before it is saved.
         </>
       }
     >
       <div className="mb-3 max-w-sm">
-        <ExamSelect id="va-notation" name="va_notation" label="Notation of bare numbers in this entry" defaultValue={notation} options={ACUITY_NOTATION_LABEL} onValue={(v) => setNotation((ACUITY_NOTATIONS as readonly string[]).includes(v) ? (v as AcuityNotation) : practiceNotation)} />
+        <ExamSelect
+          id="va-notation"
+          name="va_notation"
+          label="Notation of bare numbers in this entry"
+          defaultValue={notation}
+          options={ACUITY_NOTATION_LABEL}
+          onValue={(v) =>
+            setNotation((ACUITY_NOTATIONS as readonly string[]).includes(v) ? (v as AcuityNotation) : practiceNotation)
+          }
+        />
       </div>
       <div className="overflow-x-auto">
         <table className="min-w-full text-sm">
@@ -84,7 +113,16 @@ export function AcuitySection({ values, readOnly, prompts, practiceNotation }: V
                   const r = readers[k]!;
                   return (
                     <td key={`${d}-${c}`} className="min-w-28 p-1 align-top">
-                      <ExamInput id={`va-${eye}-${d}-${c}`} name={k} label={r.label} hideLabel defaultValue={values[k]} validate={r.validate} echo={r.echo} revalidateKey={notation} />
+                      <ExamInput
+                        id={`va-${eye}-${d}-${c}`}
+                        name={k}
+                        label={r.label}
+                        hideLabel
+                        defaultValue={values[k]}
+                        validate={r.validate}
+                        echo={r.echo}
+                        revalidateKey={notation}
+                      />
                     </td>
                   );
                 })}
@@ -99,7 +137,10 @@ export function AcuitySection({ values, readOnly, prompts, practiceNotation }: V
 
 export function IopSection({ values, readOnly, prompts }: V & { prompts: ReferralPrompt[] }) {
   const readings = Array.from({ length: IOP_READINGS }, (_, i) => i + 1);
-  const saved = (eye: EyeKey) => readings.flatMap((n) => (values[iopField(eye, "mmHg", n)] ? [{ mmHg: Number(values[iopField(eye, "mmHg", n)]) }] : []));
+  const saved = (eye: EyeKey) =>
+    readings.flatMap((n) =>
+      values[iopField(eye, "mmHg", n)] ? [{ mmHg: Number(values[iopField(eye, "mmHg", n)]) }] : [],
+    );
   return (
     <SectionForm
       section="iop"
@@ -118,15 +159,51 @@ export function IopSection({ values, readOnly, prompts }: V & { prompts: Referra
               <legend className="px-1 text-sm font-bold">{EYE_LABEL[eye]}</legend>
               <div className="space-y-2">
                 {readings.map((n) => (
-                  <div key={n} className="grid grid-cols-[minmax(5rem,1fr)_minmax(7rem,1.4fr)_minmax(6.5rem,1fr)] items-end gap-2">
-                    <ExamInput id={`iop-${eye}${n > 1 ? `-${n}` : ""}`} name={iopField(eye, "mmHg", n)} label={n === 1 ? `${E} IOP (mmHg)` : `${E} IOP reading ${n} (mmHg)`} inputMode="decimal" defaultValue={values[iopField(eye, "mmHg", n)]} validate={(t) => parseNumber(t, `${E} IOP`, 1, 80).error} />
-                    <ExamSelect id={`iop-${eye}-method${n > 1 ? `-${n}` : ""}`} name={iopField(eye, "method", n)} label={n === 1 ? `${E} IOP method` : `${E} IOP method, reading ${n}`} defaultValue={values[iopField(eye, "method", n)]} options={IOP_METHODS} />
-                    <ExamInput id={`iop-${eye}-time${n > 1 ? `-${n}` : ""}`} name={iopField(eye, "time", n)} label={n === 1 ? `${E} IOP time of day` : `${E} IOP time, reading ${n}`} type="time" defaultValue={values[iopField(eye, "time", n)]} />
+                  <div
+                    key={n}
+                    className="grid grid-cols-[minmax(5rem,1fr)_minmax(7rem,1.4fr)_minmax(6.5rem,1fr)] items-end gap-2"
+                  >
+                    <ExamInput
+                      id={`iop-${eye}${n > 1 ? `-${n}` : ""}`}
+                      name={iopField(eye, "mmHg", n)}
+                      label={n === 1 ? `${E} IOP (mmHg)` : `${E} IOP reading ${n} (mmHg)`}
+                      inputMode="decimal"
+                      defaultValue={values[iopField(eye, "mmHg", n)]}
+                      validate={(t) => parseNumber(t, `${E} IOP`, 1, 80).error}
+                    />
+                    <ExamSelect
+                      id={`iop-${eye}-method${n > 1 ? `-${n}` : ""}`}
+                      name={iopField(eye, "method", n)}
+                      label={n === 1 ? `${E} IOP method` : `${E} IOP method, reading ${n}`}
+                      defaultValue={values[iopField(eye, "method", n)]}
+                      options={IOP_METHODS}
+                    />
+                    <ExamInput
+                      id={`iop-${eye}-time${n > 1 ? `-${n}` : ""}`}
+                      name={iopField(eye, "time", n)}
+                      label={n === 1 ? `${E} IOP time of day` : `${E} IOP time, reading ${n}`}
+                      type="time"
+                      defaultValue={values[iopField(eye, "time", n)]}
+                    />
                   </div>
                 ))}
-                <ExamInput id={`cct-${eye}`} name={cctField(eye)} label={`${E} central corneal thickness (µm), if measured`} inputMode="numeric" defaultValue={values[cctField(eye)]} validate={(t) => parseNumber(t, `${E} corneal thickness`, 300, 800, { integer: true }).error} />
+                <ExamInput
+                  id={`cct-${eye}`}
+                  name={cctField(eye)}
+                  label={`${E} central corneal thickness (µm), if measured`}
+                  inputMode="numeric"
+                  defaultValue={values[cctField(eye)]}
+                  validate={(t) => parseNumber(t, `${E} corneal thickness`, 300, 800, { integer: true }).error}
+                />
                 <p className="text-sm" data-testid={`iop-mean-${eye}`}>
-                  {mean === null ? <span className="text-muted">No reading saved.</span> : <>Saved: {list.length} {list.length === 1 ? "reading" : "readings"}, mean <strong>{mean.toFixed(1)} mmHg</strong></>}
+                  {mean === null ? (
+                    <span className="text-muted">No reading saved.</span>
+                  ) : (
+                    <>
+                      Saved: {list.length} {list.length === 1 ? "reading" : "readings"}, mean{" "}
+                      <strong>{mean.toFixed(1)} mmHg</strong>
+                    </>
+                  )}
                 </p>
               </div>
             </fieldset>
@@ -144,30 +221,58 @@ export function AssessmentSection({ values, readOnly }: V) {
   return (
     <SectionForm section="assessment" title="Assessment, plan and diagnoses" readOnly={readOnly}>
       <div className="grid gap-4 sm:grid-cols-2">
-        <ExamTextarea id="as-assessment" name="assessment" label="Assessment" rows={3} defaultValue={values.assessment} />
+        <ExamTextarea
+          id="as-assessment"
+          name="assessment"
+          label="Assessment"
+          rows={3}
+          defaultValue={values.assessment}
+        />
         <ExamTextarea id="as-plan" name="plan" label="Plan" rows={3} defaultValue={values.plan} />
-        <ExamInput id="as-recall" name="recallMonths" label="Recall in (months)" inputMode="numeric" defaultValue={values.recallMonths} validate={(t) => parseNumber(t, "Recall", 1, 60, { integer: true }).error} />
+        <ExamInput
+          id="as-recall"
+          name="recallMonths"
+          label="Recall in (months)"
+          inputMode="numeric"
+          defaultValue={values.recallMonths}
+          validate={(t) => parseNumber(t, "Recall", 1, 60, { integer: true }).error}
+        />
       </div>
       <fieldset className="mt-4 min-w-0">
-        <legend className="mb-2 text-sm font-semibold">Diagnoses (ICD-10), each for the right eye, the left eye or both</legend>
+        <legend className="mb-2 text-sm font-semibold">
+          Diagnoses (ICD-10), each for the right eye, the left eye or both
+        </legend>
         <div className="space-y-4">
           {groups.map((g) => (
             <div key={g}>
               <h3 className="mb-1 text-sm font-bold">{g}</h3>
               <div className="grid gap-x-4 gap-y-1 lg:grid-cols-2">
                 {DIAGNOSES.filter((d) => d.group === g).map((d) => (
-                  <div key={d.code} className="grid grid-cols-[1fr_8.5rem] items-center gap-2 border-b border-line py-1">
+                  <div
+                    key={d.code}
+                    className="grid grid-cols-[1fr_8.5rem] items-center gap-2 border-b border-line py-1"
+                  >
                     <span className="text-sm" id={`dx-${d.code}-label`}>
                       <span className="font-mono">{d.code}</span> {d.label}
                     </span>
-                    <ExamSelect id={`dx-${d.code}`} name={diagnosisField(d.code)} label={`${d.code} ${d.label}: eye`} hideLabel defaultValue={values[diagnosisField(d.code)]} options={DX_EYES} emptyLabel="Not diagnosed" />
+                    <ExamSelect
+                      id={`dx-${d.code}`}
+                      name={diagnosisField(d.code)}
+                      label={`${d.code} ${d.label}: eye`}
+                      hideLabel
+                      defaultValue={values[diagnosisField(d.code)]}
+                      options={DX_EYES}
+                      emptyLabel="Not diagnosed"
+                    />
                   </div>
                 ))}
               </div>
             </div>
           ))}
         </div>
-        <p className="mt-2 text-xs text-muted">ICD-10 codes and titles from the WHO classification; check against the edition your practice reports in.</p>
+        <p className="mt-2 text-xs text-muted">
+          ICD-10 codes and titles from the WHO classification; check against the edition your practice reports in.
+        </p>
       </fieldset>
     </SectionForm>
   );

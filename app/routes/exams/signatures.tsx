@@ -7,7 +7,17 @@ import { Notice } from "~/components/ui/notice";
 export type Countersignature = { clinician: string; note: string; signedAt: string };
 const when = (iso: string) => new Date(iso).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" });
 
-export function Signatures({ signedBy, signedAt, countersignatures, canCountersign }: { signedBy: string | null; signedAt: string | null; countersignatures: Countersignature[]; canCountersign: boolean }) {
+export function Signatures({
+  signedBy,
+  signedAt,
+  countersignatures,
+  canCountersign,
+}: {
+  signedBy: string | null;
+  signedAt: string | null;
+  countersignatures: Countersignature[];
+  canCountersign: boolean;
+}) {
   const actionData = useActionData<{ intent?: string; message?: string; errors?: Record<string, string[]> }>();
   const navigation = useNavigation();
   const mine = actionData?.intent === "countersign" ? actionData : undefined;
@@ -38,9 +48,18 @@ export function Signatures({ signedBy, signedAt, countersignatures, canCountersi
               <label htmlFor="cs-note" className="mb-1 block text-sm font-semibold">
                 Countersignature note (optional)
               </label>
-              <textarea id="cs-note" name="note" rows={2} maxLength={2000} className="block w-full rounded-md border border-line px-3 py-2" />
+              <textarea
+                id="cs-note"
+                name="note"
+                rows={2}
+                maxLength={2000}
+                className="block w-full rounded-md border border-line px-3 py-2"
+              />
             </div>
-            <Button type="submit" pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "countersign"}>
+            <Button
+              type="submit"
+              pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "countersign"}
+            >
               Countersign exam
             </Button>
           </Form>

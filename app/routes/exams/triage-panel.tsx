@@ -18,14 +18,17 @@ export function TriagePanel({ triage }: { triage: TriageView }) {
         actions={
           triage ? (
             <span data-testid="triage-urgency">
-              <StatusBadge tone={tone(triage.urgency)}>{triage.urgency ? `Proposed: ${label(triage.urgency)}` : "No referral proposed"}</StatusBadge>
+              <StatusBadge tone={tone(triage.urgency)}>
+                {triage.urgency ? `Proposed: ${label(triage.urgency)}` : "No referral proposed"}
+              </StatusBadge>
             </span>
           ) : null
         }
       >
         <p className="mb-3 text-sm">
-          <strong>A prompt for your judgement, not a decision.</strong> Triage reads the saved findings after every save and proposes an urgency from published UK referral guidance. You decide whether and how urgently
-          to refer; local referral protocols, the law and licensed practice govern.
+          <strong>A prompt for your judgement, not a decision.</strong> Triage reads the saved findings after every save
+          and proposes an urgency from published UK referral guidance. You decide whether and how urgently to refer;
+          local referral protocols, the law and licensed practice govern.
         </p>
         {!triage ? (
           <p className="text-muted">Nothing saved yet.</p>
@@ -36,7 +39,8 @@ export function TriagePanel({ triage }: { triage: TriageView }) {
             {triage.reasons.map((r, i) => (
               <li key={i} className="rounded-md border border-line p-2 text-sm">
                 <p>
-                  <StatusBadge tone={tone(r.urgency)}>{label(r.urgency)}</StatusBadge> <span className="font-semibold">{r.eye ? `${EYE_WORD[r.eye] ?? r.eye}: ` : ""}</span>
+                  <StatusBadge tone={tone(r.urgency)}>{label(r.urgency)}</StatusBadge>{" "}
+                  <span className="font-semibold">{r.eye ? `${EYE_WORD[r.eye] ?? r.eye}: ` : ""}</span>
                   {r.rule}
                 </p>
                 <p className="mt-1 text-xs text-muted">Source: {r.source}</p>

@@ -13,14 +13,24 @@ import { requireRole } from "~/utils/auth.server";
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, ORDER_ROLES);
   const raw = new URL(request.url).searchParams.get("state") ?? "open";
-  const state = raw === "all" ? undefined : raw === "open" || (ORDER_STATES as readonly string[]).includes(raw) ? (raw as OrderStateName | "open") : "open";
+  const state =
+    raw === "all"
+      ? undefined
+      : raw === "open" || (ORDER_STATES as readonly string[]).includes(raw)
+        ? (raw as OrderStateName | "open")
+        : "open";
   const [rows, settings] = await Promise.all([listOrders({ state }), practiceOrderSettings()]);
   const now = new Date();
   return {
     isOwner: user.role === "owner",
     state: raw === "all" ? "all" : (state ?? "open"),
     overdueDays: settings.labOverdueDays,
-    orders: rows.map((o) => ({ ...o, label: orderLabel(o.number), days: daysBetween(o.stateChangedAt, now), createdAt: o.createdAt.toISOString() })),
+    orders: rows.map((o) => ({
+      ...o,
+      label: orderLabel(o.number),
+      days: daysBetween(o.stateChangedAt, now),
+      createdAt: o.createdAt.toISOString(),
+    })),
   };
 }
 
@@ -84,15 +94,32 @@ export default function Orders({ loaderData }: Route.ComponentProps) {
                   return (
                     <tr key={o.id} className="border-b border-line">
                       <td className="py-2 pr-3">
-                        <Link to={`/orders/${o.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
+                        <Link
+                          to={`/orders/${o.id}`}
+                          className="font-semibold text-accent-700 underline underline-offset-4"
+                        >
                           {o.label}
                         </Link>
                       </td>
                       <td className="py-2 pr-3">{o.patientName}</td>
-                      <td className="py-2 pr-3">{o.kind === "spectacles" ? `Spectacles${o.frameLabel ? ` — ${o.frameLabel}` : ""}` : "Contact lenses"}</td>
+                      <td className="py-2 pr-3">
+                        {o.kind === "spectacles"
+                          ? `Spectacles${o.frameLabel ? ` — ${o.frameLabel}` : ""}`
+                          : "Contact lenses"}
+                      </td>
                       <td className="py-2 pr-3">{o.labName}</td>
                       <td className="py-2 pr-3">
-                        <StatusBadge tone={o.state === "cancelled" || o.state === "remake" ? "warning" : o.state === "ready_to_collect" || o.state === "collected" ? "success" : "info"}>{STATE_LABEL[o.state]}</StatusBadge>
+                        <StatusBadge
+                          tone={
+                            o.state === "cancelled" || o.state === "remake"
+                              ? "warning"
+                              : o.state === "ready_to_collect" || o.state === "collected"
+                                ? "success"
+                                : "info"
+                          }
+                        >
+                          {STATE_LABEL[o.state]}
+                        </StatusBadge>
                       </td>
                       <td className="py-2">
                         {o.days} {o.days === 1 ? "day" : "days"}

@@ -13,8 +13,19 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const d = await orderDetail(params.orderId);
   if (!d) throw data({ error: "Not found." }, { status: 404 });
   const bytes = await buildOrderPdf(d);
-  await audit({ action: "order.form_printed", actorUserId: user.id, entityType: "optical_order", entityId: d.order.id, patientId: d.order.patientId, request });
+  await audit({
+    action: "order.form_printed",
+    actorUserId: user.id,
+    entityType: "optical_order",
+    entityId: d.order.id,
+    patientId: d.order.patientId,
+    request,
+  });
   return new Response(new Uint8Array(bytes), {
-    headers: { "content-type": "application/pdf", "content-disposition": `inline; filename="order-${d.label}.pdf"`, "cache-control": "private, no-store" },
+    headers: {
+      "content-type": "application/pdf",
+      "content-disposition": `inline; filename="order-${d.label}.pdf"`,
+      "cache-control": "private, no-store",
+    },
   });
 }

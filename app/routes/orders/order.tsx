@@ -14,7 +14,21 @@ import { invoices } from "~/db/schema";
 import { formatMoney, parseMoney } from "~/lib/money";
 import { formatRx, type PairReport } from "~/lib/optics";
 import { LENS_TYPE_LABEL, STATE_LABEL, type OrderStateName } from "~/lib/orders/states";
-import { cancelOrder, collectOrder, markReady, markReceived, markRemake, ORDER_ROLES, orderDetail, OrderError, OVERRIDE_ROLES, practiceOrderSettings, raiseOrderInvoice, recordCheck, sendToLab } from "~/models/orders/orders.server";
+import {
+  cancelOrder,
+  collectOrder,
+  markReady,
+  markReceived,
+  markRemake,
+  ORDER_ROLES,
+  orderDetail,
+  OrderError,
+  OVERRIDE_ROLES,
+  practiceOrderSettings,
+  raiseOrderInvoice,
+  recordCheck,
+  sendToLab,
+} from "~/models/orders/orders.server";
 import { invoiceLabel } from "~/models/billing/invoices.server";
 import { formatDate, isUuid } from "~/models/patients/patient-schema";
 import { requireRole } from "~/utils/auth.server";
@@ -22,14 +36,49 @@ import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { checkSchema } from "~/models/orders/order-schema";
 
-const STATES = ["draft", "sent_to_lab", "received", "checked", "ready_to_collect", "collected", "remake", "cancelled"] as const;
+const STATES = [
+  "draft",
+  "sent_to_lab",
+  "received",
+  "checked",
+  "ready_to_collect",
+  "collected",
+  "remake",
+  "cancelled",
+] as const;
 const moveSchema = z.discriminatedUnion("intent", [
   z.object({ intent: z.literal("send"), expected: z.enum(["draft", "remake"]) }),
   z.object({ intent: z.literal("received"), expected: z.literal("sent_to_lab") }),
-  z.object({ intent: z.literal("ready"), expected: z.enum(["checked", "received"]), overrideReason: z.string().trim().max(500).default("") }),
-  z.object({ intent: z.literal("remake"), expected: z.enum(STATES), reason: z.string({ error: "Say why the order is being remade." }).trim().min(3, "Say why the order is being remade.").max(500) }),
-  z.object({ intent: z.literal("cancel"), expected: z.enum(STATES), reason: z.string({ error: "Say why the order is cancelled." }).trim().min(3, "Say why the order is cancelled.").max(500) }),
-  z.object({ intent: z.literal("collect"), expected: z.literal("ready_to_collect"), method: z.enum(["cash", "card_desk"]).default("card_desk"), amount: z.string().trim().default(""), reference: z.string().trim().max(80).default("") }),
+  z.object({
+    intent: z.literal("ready"),
+    expected: z.enum(["checked", "received"]),
+    overrideReason: z.string().trim().max(500).default(""),
+  }),
+  z.object({
+    intent: z.literal("remake"),
+    expected: z.enum(STATES),
+    reason: z
+      .string({ error: "Say why the order is being remade." })
+      .trim()
+      .min(3, "Say why the order is being remade.")
+      .max(500),
+  }),
+  z.object({
+    intent: z.literal("cancel"),
+    expected: z.enum(STATES),
+    reason: z
+      .string({ error: "Say why the order is cancelled." })
+      .trim()
+      .min(3, "Say why the order is cancelled.")
+      .max(500),
+  }),
+  z.object({
+    intent: z.literal("collect"),
+    expected: z.literal("ready_to_collect"),
+    method: z.enum(["cash", "card_desk"]).default("card_desk"),
+    amount: z.string().trim().default(""),
+    reference: z.string().trim().max(80).default(""),
+  }),
   z.object({ intent: z.literal("raise-invoice") }),
 ]);
 
@@ -46,14 +95,39 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     standard: settings.rules.dispensingStandard,
     currency: settings.currency,
     label: d.label,
-    order: { ...d.order, createdAt: d.order.createdAt.toISOString(), stateChangedAt: d.order.stateChangedAt.toISOString() },
+    order: {
+      ...d.order,
+      createdAt: d.order.createdAt.toISOString(),
+      stateChangedAt: d.order.stateChangedAt.toISOString(),
+    },
     patient: d.patient,
     lab: { name: d.lab.name, email: d.lab.email },
-    rx: { issuedAt: d.rx.issuedAt.toISOString(), expiresOn: d.rx.expiresOn, lensName: d.rx.lensName, eyes: [d.rx.right, d.rx.left].filter((e) => e !== null) },
+    rx: {
+      issuedAt: d.rx.issuedAt.toISOString(),
+      expiresOn: d.rx.expiresOn,
+      lensName: d.rx.lensName,
+      eyes: [d.rx.right, d.rx.left].filter((e) => e !== null),
+    },
     events: d.events.map((e) => ({ ...e, at: e.at.toISOString() })),
     checks: d.checks.map((c) => ({ ...c, at: c.at.toISOString() })),
-    messages: d.messages.map((m) => ({ id: m.id, kind: m.kind, status: m.status, recipient: m.recipient, skippedReason: m.skippedReason, lastError: m.lastError, sentAt: m.sentAt?.toISOString() ?? null })),
-    invoice: inv ? { id: inv.id, label: invoiceLabel(inv.number), status: inv.status, totalMinor: inv.totalMinor, paidMinor: inv.paidMinor } : null,
+    messages: d.messages.map((m) => ({
+      id: m.id,
+      kind: m.kind,
+      status: m.status,
+      recipient: m.recipient,
+      skippedReason: m.skippedReason,
+      lastError: m.lastError,
+      sentAt: m.sentAt?.toISOString() ?? null,
+    })),
+    invoice: inv
+      ? {
+          id: inv.id,
+          label: invoiceLabel(inv.number),
+          status: inv.status,
+          totalMinor: inv.totalMinor,
+          paidMinor: inv.paidMinor,
+        }
+      : null,
   };
 }
 
@@ -69,29 +143,60 @@ export async function action({ request, params }: Route.ActionArgs) {
   try {
     if (intent === "check") {
       const submission = parseWithZod(formData, { schema: checkSchema });
-      if (submission.status !== "success") return fail(400, { fieldErrors: (submission.reply().error ?? {}) as Record<string, string[]>, message: "Some readings need correcting." });
-      const report = await recordCheck(user, id, { right: submission.value.right, left: submission.value.left }, request);
-      return redirectWithToast(`/orders/${id}`, report.pass ? { kind: "success", title: `Passed the check (${report.standard})` } : { kind: "warning", title: `Failed the check (${report.standard})`, description: "See the report. Send for a remake, or an optician may release it with a reason." });
+      if (submission.status !== "success")
+        return fail(400, {
+          fieldErrors: (submission.reply().error ?? {}) as Record<string, string[]>,
+          message: "Some readings need correcting.",
+        });
+      const report = await recordCheck(
+        user,
+        id,
+        { right: submission.value.right, left: submission.value.left },
+        request,
+      );
+      return redirectWithToast(
+        `/orders/${id}`,
+        report.pass
+          ? { kind: "success", title: `Passed the check (${report.standard})` }
+          : {
+              kind: "warning",
+              title: `Failed the check (${report.standard})`,
+              description: "See the report. Send for a remake, or an optician may release it with a reason.",
+            },
+      );
     }
     const submission = parseWithZod(formData, { schema: moveSchema });
-    if (submission.status !== "success") return fail(400, { fieldErrors: (submission.reply().error ?? {}) as Record<string, string[]> });
+    if (submission.status !== "success")
+      return fail(400, { fieldErrors: (submission.reply().error ?? {}) as Record<string, string[]> });
     const v = submission.value;
     switch (v.intent) {
       case "send":
         await sendToLab(user, id, v.expected, request);
-        return redirectWithToast(`/orders/${id}`, { kind: "success", title: "Sent to the lab", description: "The order form is on its way by e-mail." });
+        return redirectWithToast(`/orders/${id}`, {
+          kind: "success",
+          title: "Sent to the lab",
+          description: "The order form is on its way by e-mail.",
+        });
       case "received":
         await markReceived(user, id, request);
         return redirectWithToast(`/orders/${id}`, { kind: "success", title: "Marked received from the lab" });
       case "ready":
         await markReady(user, id, v.expected, v.overrideReason, request);
-        return redirectWithToast(`/orders/${id}`, { kind: "success", title: "Ready to collect", description: "The patient is told by e-mail if they accept e-mails." });
+        return redirectWithToast(`/orders/${id}`, {
+          kind: "success",
+          title: "Ready to collect",
+          description: "The patient is told by e-mail if they accept e-mails.",
+        });
       case "remake":
         await markRemake(user, id, v.expected, v.reason, request);
         return redirectWithToast(`/orders/${id}`, { kind: "success", title: "Marked for a remake" });
       case "cancel": {
         const r = await cancelOrder(user, id, v.expected, v.reason, request);
-        return redirectWithToast(`/orders/${id}`, { kind: r.invoiceNote ? "warning" : "success", title: "Order cancelled", description: r.invoiceNote ?? "Any frame went back into stock." });
+        return redirectWithToast(`/orders/${id}`, {
+          kind: r.invoiceNote ? "warning" : "success",
+          title: "Order cancelled",
+          description: r.invoiceNote ?? "Any frame went back into stock.",
+        });
       }
       case "collect": {
         const d = await orderDetail(id);
@@ -99,12 +204,19 @@ export async function action({ request, params }: Route.ActionArgs) {
         let payment = null;
         if (v.amount) {
           const amountMinor = parseMoney(v.amount, currency);
-          if (amountMinor === null || amountMinor <= 0) return fail(400, { fieldErrors: { amount: ["Give an amount such as 45.00, or leave it empty when nothing is due."] } });
+          if (amountMinor === null || amountMinor <= 0)
+            return fail(400, {
+              fieldErrors: { amount: ["Give an amount such as 45.00, or leave it empty when nothing is due."] },
+            });
           payment = { method: v.method, amountMinor, reference: v.reference };
         }
         if (!d) throw data({ error: "There is no such order." }, { status: 404 });
         await collectOrder(user, id, payment, request);
-        return redirectWithToast(`/orders/${id}`, { kind: "success", title: "Collected", description: payment ? `${formatMoney(payment.amountMinor, currency)} taken.` : undefined });
+        return redirectWithToast(`/orders/${id}`, {
+          kind: "success",
+          title: "Collected",
+          description: payment ? `${formatMoney(payment.amountMinor, currency)} taken.` : undefined,
+        });
       }
       case "raise-invoice": {
         const invoiceId = await raiseOrderInvoice(user, id, request);
@@ -112,19 +224,44 @@ export async function action({ request, params }: Route.ActionArgs) {
       }
     }
   } catch (error) {
-    if (error instanceof OrderError) return fail(error.status, error.field ? { fieldErrors: { [error.field]: [error.message] }, message: error.message } : { message: error.message });
+    if (error instanceof OrderError)
+      return fail(
+        error.status,
+        error.field
+          ? { fieldErrors: { [error.field]: [error.message] }, message: error.message }
+          : { message: error.message },
+      );
     throw error;
   }
 }
 
-const tone = (s: OrderStateName) => (s === "cancelled" || s === "remake" ? "warning" : s === "ready_to_collect" || s === "collected" ? "success" : "info");
+const tone = (s: OrderStateName) =>
+  s === "cancelled" || s === "remake" ? "warning" : s === "ready_to_collect" || s === "collected" ? "success" : "info";
 
 function CheckReport({ report }: { report: PairReport }) {
   const rows = [
     ...(["right", "left"] as const).flatMap((side) =>
-      report[side].checks.map((c) => ({ key: `${side}-${c.element}`, what: `${side === "right" ? "Right" : "Left"} ${c.element}`, ordered: String(c.ordered), measured: String(c.measured), off: String(c.difference), tol: c.tolerance === null ? "—" : `±${c.tolerance}${c.element === "axis" ? "°" : " D"}`, pass: c.pass, rule: c.rule })),
+      report[side].checks.map((c) => ({
+        key: `${side}-${c.element}`,
+        what: `${side === "right" ? "Right" : "Left"} ${c.element}`,
+        ordered: String(c.ordered),
+        measured: String(c.measured),
+        off: String(c.difference),
+        tol: c.tolerance === null ? "—" : `±${c.tolerance}${c.element === "axis" ? "°" : " D"}`,
+        pass: c.pass,
+        rule: c.rule,
+      })),
     ),
-    ...report.pair.map((c) => ({ key: c.element, what: `Pair: ${c.element}`, ordered: "", measured: "", off: `${c.difference} ${c.unit}`, tol: `${c.tolerance} ${c.unit}`, pass: c.pass, rule: c.rule })),
+    ...report.pair.map((c) => ({
+      key: c.element,
+      what: `Pair: ${c.element}`,
+      ordered: "",
+      measured: "",
+      off: `${c.difference} ${c.unit}`,
+      tol: `${c.tolerance} ${c.unit}`,
+      pass: c.pass,
+      rule: c.rule,
+    })),
   ];
   return (
     <div className="overflow-x-auto">
@@ -149,7 +286,13 @@ function CheckReport({ report }: { report: PairReport }) {
               <td className="py-1 pr-3">{r.measured}</td>
               <td className="py-1 pr-3">{r.off}</td>
               <td className="py-1 pr-3">{r.tol}</td>
-              <td className="py-1 pr-3">{r.pass ? <StatusBadge tone="success">Within</StatusBadge> : <StatusBadge tone="error">Outside</StatusBadge>}</td>
+              <td className="py-1 pr-3">
+                {r.pass ? (
+                  <StatusBadge tone="success">Within</StatusBadge>
+                ) : (
+                  <StatusBadge tone="error">Outside</StatusBadge>
+                )}
+              </td>
               <td className="py-1 text-muted">{r.rule}</td>
             </tr>
           ))}
@@ -168,8 +311,22 @@ function EyeReadingFields({ side, errors }: { side: "right" | "left"; errors: Re
       <label htmlFor={`check-${side}-${name}`} className="mb-1 block text-sm font-semibold">
         {text}
       </label>
-      <Input id={`check-${side}-${name}`} name={f(name)} type="text" aria-invalid={err(name) ? true : undefined} aria-describedby={[hint ? `check-${side}-${name}-hint` : "", err(name) ? `check-${side}-${name}-error` : ""].filter(Boolean).join(" ") || undefined} />
-      {hint ? <p id={`check-${side}-${name}-hint`} className="mt-1 text-xs text-muted">{hint}</p> : null}
+      <Input
+        id={`check-${side}-${name}`}
+        name={f(name)}
+        type="text"
+        aria-invalid={err(name) ? true : undefined}
+        aria-describedby={
+          [hint ? `check-${side}-${name}-hint` : "", err(name) ? `check-${side}-${name}-error` : ""]
+            .filter(Boolean)
+            .join(" ") || undefined
+        }
+      />
+      {hint ? (
+        <p id={`check-${side}-${name}-hint`} className="mt-1 text-xs text-muted">
+          {hint}
+        </p>
+      ) : null}
       <ErrorList id={`check-${side}-${name}-error`} errors={err(name)} />
     </div>
   );
@@ -178,7 +335,12 @@ function EyeReadingFields({ side, errors }: { side: "right" | "left"; errors: Re
       <label htmlFor={`check-${side}-${name}`} className="mb-1 block text-sm font-semibold">
         {text}
       </label>
-      <Select id={`check-${side}-${name}`} name={f(name)} aria-invalid={err(name) ? true : undefined} aria-describedby={err(name) ? `check-${side}-${name}-error` : undefined}>
+      <Select
+        id={`check-${side}-${name}`}
+        name={f(name)}
+        aria-invalid={err(name) ? true : undefined}
+        aria-describedby={err(name) ? `check-${side}-${name}-error` : undefined}
+      >
         <option value="">—</option>
         {options.map((o) => (
           <option key={o} value={o}>
@@ -192,7 +354,9 @@ function EyeReadingFields({ side, errors }: { side: "right" | "left"; errors: Re
   return (
     <fieldset className="grid gap-3 sm:grid-cols-4">
       <legend className="mb-2 font-semibold">{label} lens</legend>
-      <div className="sm:col-span-2">{input("rx", `${label} lensmeter reading`, "Sphere, cylinder and axis, e.g. -2.25 -0.75 x 175.")}</div>
+      <div className="sm:col-span-2">
+        {input("rx", `${label} lensmeter reading`, "Sphere, cylinder and axis, e.g. -2.25 -0.75 x 175.")}
+      </div>
       {input("add", `${label} add`)}
       <div />
       {input("horizontalPrism", `${label} horizontal prism (Δ)`)}
@@ -210,10 +374,16 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
   const result = actionData as ActionResult | undefined;
   const errorsFor = (intent: string) => (result?.intent === intent ? (result.fieldErrors ?? {}) : {});
   const state = d.order.state as OrderStateName;
-  const pending = (intent: string) => navigation.state === "submitting" && navigation.formData?.get("intent") === intent;
+  const pending = (intent: string) =>
+    navigation.state === "submitting" && navigation.formData?.get("intent") === intent;
   const lastCheck = d.checks[0];
   const balance = d.invoice ? d.invoice.totalMinor - d.invoice.paidMinor : 0;
-  const move = (intent: string, text: string, extra?: React.ReactNode, variant: "primary" | "secondary" | "danger" = "primary") => (
+  const move = (
+    intent: string,
+    text: string,
+    extra?: React.ReactNode,
+    variant: "primary" | "secondary" | "danger" = "primary",
+  ) => (
     <Form method="post" className="space-y-2">
       <input type="hidden" name="intent" value={intent} />
       <input type="hidden" name="expected" value={state} />
@@ -228,7 +398,13 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
       <label htmlFor={`${intent}-reason`} className="mb-1 block text-sm font-semibold">
         {label}
       </label>
-      <Textarea id={`${intent}-reason`} name="reason" rows={2} aria-invalid={errorsFor(intent).reason ? true : undefined} aria-describedby={errorsFor(intent).reason ? `${intent}-reason-error` : undefined} />
+      <Textarea
+        id={`${intent}-reason`}
+        name="reason"
+        rows={2}
+        aria-invalid={errorsFor(intent).reason ? true : undefined}
+        aria-describedby={errorsFor(intent).reason ? `${intent}-reason-error` : undefined}
+      />
       <ErrorList id={`${intent}-reason-error`} errors={errorsFor(intent).reason} />
     </div>
   );
@@ -240,14 +416,20 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
         description={
           <>
             For{" "}
-            <Link to={`/patients/${d.patient.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
+            <Link
+              to={`/patients/${d.patient.id}`}
+              className="font-semibold text-accent-700 underline underline-offset-4"
+            >
               {d.patient.firstName} {d.patient.lastName}
             </Link>{" "}
             · lab {d.lab.name} · <StatusBadge tone={tone(state)}>{STATE_LABEL[state]}</StatusBadge>
           </>
         }
         actions={
-          <a href={`/orders/${d.order.id}/order.pdf`} className="rounded-md border border-line bg-white px-4 py-2 text-sm font-semibold">
+          <a
+            href={`/orders/${d.order.id}/order.pdf`}
+            className="rounded-md border border-line bg-white px-4 py-2 text-sm font-semibold"
+          >
             Order form (PDF)
           </a>
         }
@@ -273,7 +455,9 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
                       {e.prismDioptres ? ` · ${e.prismDioptres.toFixed(2)} Δ base ${e.prismBase}` : ""}
                     </span>
                   ))}
-                  <span className="text-muted">Issued {formatDate(d.rx.issuedAt.slice(0, 10))}, valid until {formatDate(d.rx.expiresOn)}</span>
+                  <span className="text-muted">
+                    Issued {formatDate(d.rx.issuedAt.slice(0, 10))}, valid until {formatDate(d.rx.expiresOn)}
+                  </span>
                 </dd>
               </div>
               {d.order.kind === "spectacles" ? (
@@ -293,7 +477,8 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
                   <div>
                     <dt className="font-semibold">Monocular PDs and heights</dt>
                     <dd>
-                      R {d.order.pdRightMm} mm{d.order.heightRightMm ? ` / ${d.order.heightRightMm} mm` : ""} · L {d.order.pdLeftMm} mm{d.order.heightLeftMm ? ` / ${d.order.heightLeftMm} mm` : ""}
+                      R {d.order.pdRightMm} mm{d.order.heightRightMm ? ` / ${d.order.heightRightMm} mm` : ""} · L{" "}
+                      {d.order.pdLeftMm} mm{d.order.heightLeftMm ? ` / ${d.order.heightLeftMm} mm` : ""}
                     </dd>
                   </div>
                 </>
@@ -321,7 +506,10 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
           </Card>
           {d.order.kind === "spectacles" && state === "received" ? (
             <Card title={`Lensmeter check (${d.standard})`}>
-              <p className="mb-4 text-sm text-muted">Type what the lensmeter reads. The practice's dispensing standard decides each element; the optician checking the spectacles has the last word.</p>
+              <p className="mb-4 text-sm text-muted">
+                Type what the lensmeter reads. The practice's dispensing standard decides each element; the optician
+                checking the spectacles has the last word.
+              </p>
               {result?.intent === "check" && result.message ? (
                 <div className="mb-4">
                   <Notice tone="error" title="Not checked">
@@ -352,7 +540,9 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
             <ol className="space-y-2 text-sm">
               {d.events.map((e) => (
                 <li key={e.id}>
-                  <span className="font-semibold">{STATE_LABEL[e.toState as OrderStateName]}</span> — {e.actor ?? "system"}, {new Date(e.at).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}
+                  <span className="font-semibold">{STATE_LABEL[e.toState as OrderStateName]}</span> —{" "}
+                  {e.actor ?? "system"},{" "}
+                  {new Date(e.at).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}
                   {e.reason ? <span className="text-muted"> · {e.reason}</span> : null}
                 </li>
               ))}
@@ -361,7 +551,8 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
               <ul className="mt-4 space-y-1 text-sm">
                 {d.messages.map((m) => (
                   <li key={m.id}>
-                    {m.kind === "lab_order" ? "Order e-mail to the lab" : "Ready e-mail to the patient"}: <span className="font-semibold">{m.status}</span>
+                    {m.kind === "lab_order" ? "Order e-mail to the lab" : "Ready e-mail to the patient"}:{" "}
+                    <span className="font-semibold">{m.status}</span>
                     {m.recipient ? ` (${m.recipient})` : ""}
                     {m.skippedReason ? ` — ${m.skippedReason}` : ""}
                     {m.lastError ? ` — last error: ${m.lastError}` : ""}
@@ -374,7 +565,9 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
         <div className="space-y-6">
           <Card title="Next step">
             <div className="space-y-4">
-              {state === "draft" || state === "remake" ? move("send", state === "remake" ? "Send the remake to the lab" : "Send to the lab") : null}
+              {state === "draft" || state === "remake"
+                ? move("send", state === "remake" ? "Send the remake to the lab" : "Send to the lab")
+                : null}
               {state === "sent_to_lab" ? move("received", "Mark received from the lab") : null}
               {state === "checked" || (state === "received" && d.order.kind === "contact_lenses")
                 ? move(
@@ -385,11 +578,20 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
                         <label htmlFor="overrideReason" className="mb-1 block text-sm font-semibold">
                           Reason for releasing despite the failed check
                         </label>
-                        <Textarea id="overrideReason" name="overrideReason" rows={2} aria-invalid={errorsFor("ready").overrideReason ? true : undefined} aria-describedby={errorsFor("ready").overrideReason ? "overrideReason-error" : undefined} />
+                        <Textarea
+                          id="overrideReason"
+                          name="overrideReason"
+                          rows={2}
+                          aria-invalid={errorsFor("ready").overrideReason ? true : undefined}
+                          aria-describedby={errorsFor("ready").overrideReason ? "overrideReason-error" : undefined}
+                        />
                         <ErrorList id="overrideReason-error" errors={errorsFor("ready").overrideReason} />
                       </div>
                     ) : lastCheck && !lastCheck.pass ? (
-                      <p className="text-sm">These spectacles failed the check: send them for a remake, or ask an optician or optometrist to release them with a reason.</p>
+                      <p className="text-sm">
+                        These spectacles failed the check: send them for a remake, or ask an optician or optometrist to
+                        release them with a reason.
+                      </p>
                     ) : null,
                   )
                 : null}
@@ -400,7 +602,8 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
                     d.invoice ? (
                       <div className="space-y-2">
                         <p className="text-sm">
-                          Balance on {d.invoice.label}: <span className="font-semibold">{formatMoney(balance, d.currency)}</span>
+                          Balance on {d.invoice.label}:{" "}
+                          <span className="font-semibold">{formatMoney(balance, d.currency)}</span>
                         </p>
                         {balance > 0 ? (
                           <>
@@ -408,7 +611,15 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
                               <label htmlFor="collect-amount" className="mb-1 block text-sm font-semibold">
                                 Take now ({d.currency})
                               </label>
-                              <Input id="collect-amount" name="amount" type="text" inputMode="decimal" defaultValue={(balance / 100).toFixed(2)} aria-invalid={errorsFor("collect").amount ? true : undefined} aria-describedby={errorsFor("collect").amount ? "collect-amount-error" : undefined} />
+                              <Input
+                                id="collect-amount"
+                                name="amount"
+                                type="text"
+                                inputMode="decimal"
+                                defaultValue={(balance / 100).toFixed(2)}
+                                aria-invalid={errorsFor("collect").amount ? true : undefined}
+                                aria-describedby={errorsFor("collect").amount ? "collect-amount-error" : undefined}
+                              />
                               <ErrorList id="collect-amount-error" errors={errorsFor("collect").amount} />
                             </div>
                             <div>
@@ -426,18 +637,26 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
                     ) : null,
                   )
                 : null}
-              {["received", "checked", "ready_to_collect"].includes(state) ? move("remake", "Send for a remake", reasonField("remake", "Reason for the remake"), "secondary") : null}
-              {open && state !== "ready_to_collect" ? move("cancel", "Cancel the order", reasonField("cancel", "Reason for cancelling"), "danger") : null}
+              {["received", "checked", "ready_to_collect"].includes(state)
+                ? move("remake", "Send for a remake", reasonField("remake", "Reason for the remake"), "secondary")
+                : null}
+              {open && state !== "ready_to_collect"
+                ? move("cancel", "Cancel the order", reasonField("cancel", "Reason for cancelling"), "danger")
+                : null}
               {!open ? <p className="text-sm text-muted">Nothing more to do.</p> : null}
             </div>
           </Card>
           <Card title="Invoice">
             {d.invoice ? (
               <p className="text-sm">
-                <Link to={`/billing/invoices/${d.invoice.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
+                <Link
+                  to={`/billing/invoices/${d.invoice.id}`}
+                  className="font-semibold text-accent-700 underline underline-offset-4"
+                >
                   {d.invoice.label}
                 </Link>{" "}
-                · {formatMoney(d.invoice.totalMinor, d.currency)} · paid {formatMoney(d.invoice.paidMinor, d.currency)} · {d.invoice.status.replace("_", " ")}
+                · {formatMoney(d.invoice.totalMinor, d.currency)} · paid {formatMoney(d.invoice.paidMinor, d.currency)}{" "}
+                · {d.invoice.status.replace("_", " ")}
               </p>
             ) : (
               <Form method="post">

@@ -12,8 +12,10 @@ import { isUuid } from "~/models/patients/patient-schema";
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireUser(request);
   assertPatientAccess(user, params.patientId);
-  if (!(CLINICAL_ROLES as readonly string[]).includes(user.role)) throw data({ error: "Your role does not give access to clinical documents." }, { status: 403 });
-  if (!isUuid(params.patientId) || !isUuid(params.documentId) || !["file", "thumbnail"].includes(params.variant)) throw data({ error: "Not found." }, { status: 404 });
+  if (!(CLINICAL_ROLES as readonly string[]).includes(user.role))
+    throw data({ error: "Your role does not give access to clinical documents." }, { status: 403 });
+  if (!isUuid(params.patientId) || !isUuid(params.documentId) || !["file", "thumbnail"].includes(params.variant))
+    throw data({ error: "Not found." }, { status: 404 });
   const [doc] = await db
     .select()
     .from(documents)
@@ -23,7 +25,15 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const key = thumb ? doc.thumbnailKey : doc.storageKey;
   const file = key ? await openStored(key) : null;
   if (!file) throw data({ error: "Not found." }, { status: 404 });
-  if (!thumb) await audit({ action: "document.read", actorUserId: user.id, entityType: "document", entityId: doc.id, patientId: doc.patientId, request });
+  if (!thumb)
+    await audit({
+      action: "document.read",
+      actorUserId: user.id,
+      entityType: "document",
+      entityId: doc.id,
+      patientId: doc.patientId,
+      request,
+    });
   const safeName = doc.originalName.replace(/[^\w.\- ]+/g, "_");
   // Streamed from object storage through the app, after the role and patient checks above.
   return new Response(file.body, {

@@ -13,8 +13,6 @@ import { PatientForm, type PatientActionData } from "./patient-form";
 import { isUuid, patientSchema } from "~/models/patients/patient-schema";
 import { findDuplicates } from "~/models/patients/patients.server";
 
-
-
 async function loadPatient(id: string | undefined) {
   if (!isUuid(id)) throw data({ error: "Not found." }, { status: 404 });
   const [p] = await db.select().from(patients).where(eq(patients.id, id!)).limit(1);
@@ -26,7 +24,16 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   const p = await loadPatient(params.patientId);
   const clinical = (CLINICAL_ROLES as readonly string[]).includes(user.role);
-  if (clinical) await audit({ action: "patient.clinical_read", actorUserId: user.id, entityType: "patient", entityId: p.id, patientId: p.id, detail: { fields: ["allergies", "medications"] }, request });
+  if (clinical)
+    await audit({
+      action: "patient.clinical_read",
+      actorUserId: user.id,
+      entityType: "patient",
+      entityId: p.id,
+      patientId: p.id,
+      detail: { fields: ["allergies", "medications"] },
+      request,
+    });
   return {
     clinical,
     patient: {
@@ -45,7 +52,9 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       gpPractice: p.gpPractice,
       gpAddress: p.gpAddress,
       gpPhone: p.gpPhone,
-      ...(clinical ? { allergies: p.allergies, medications: p.medications, noKnownAllergies: p.noKnownAllergies ? "on" : "" } : {}),
+      ...(clinical
+        ? { allergies: p.allergies, medications: p.medications, noKnownAllergies: p.noKnownAllergies ? "on" : "" }
+        : {}),
     },
   };
 }
@@ -60,15 +69,40 @@ export async function action({ request, params }: Route.ActionArgs) {
   if (confirmDuplicate !== "yes") {
     const duplicates = await findDuplicates(demographics, existing.id);
     if (duplicates.length) {
-      return data({ ...submission.reply({ formErrors: ["Another patient with this name and date of birth is already registered."] }), duplicates }, { status: 409 });
+      return data(
+        {
+          ...submission.reply({
+            formErrors: ["Another patient with this name and date of birth is already registered."],
+          }),
+          duplicates,
+        },
+        { status: 409 },
+      );
     }
   }
   await db.transaction(async (tx) => {
     await tx
       .update(patients)
-      .set({ ...demographics, email: demographics.email || null, phone: demographics.phone || null, ...(clinical ? { allergies, medications, noKnownAllergies } : {}), updatedAt: new Date() })
+      .set({
+        ...demographics,
+        email: demographics.email || null,
+        phone: demographics.phone || null,
+        ...(clinical ? { allergies, medications, noKnownAllergies } : {}),
+        updatedAt: new Date(),
+      })
       .where(eq(patients.id, existing.id));
-    await audit({ action: "patient.updated", actorUserId: user.id, entityType: "patient", entityId: existing.id, patientId: existing.id, detail: { clinicalFields: clinical }, request }, tx);
+    await audit(
+      {
+        action: "patient.updated",
+        actorUserId: user.id,
+        entityType: "patient",
+        entityId: existing.id,
+        patientId: existing.id,
+        detail: { clinicalFields: clinical },
+        request,
+      },
+      tx,
+    );
   });
   return redirectWithToast(`/patients/${existing.id}`, { kind: "success", title: "Patient details saved" });
 }
@@ -85,7 +119,13 @@ export default function EditPatient({ loaderData, actionData }: Route.ComponentP
           </Link>
         }
       />
-      <PatientForm id="edit-patient" lastResult={actionData as PatientActionData} clinical={loaderData.clinical} submitLabel="Save details" defaultValue={p} />
+      <PatientForm
+        id="edit-patient"
+        lastResult={actionData as PatientActionData}
+        clinical={loaderData.clinical}
+        submitLabel="Save details"
+        defaultValue={p}
+      />
     </>
   );
 }

@@ -1,4 +1,10 @@
-import { createColumnHelper, flexRender, getCoreRowModel, useReactTable, type SortingState } from "@tanstack/react-table";
+import {
+  createColumnHelper,
+  flexRender,
+  getCoreRowModel,
+  useReactTable,
+  type SortingState,
+} from "@tanstack/react-table";
 import { Form, Link, useSearchParams } from "react-router";
 import type { Route } from "./+types/index";
 import { PatientSearch } from "~/components/patient-search";
@@ -13,7 +19,12 @@ export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, STAFF_ROLES);
   const query = listQuerySchema.parse(Object.fromEntries(new URL(request.url).searchParams));
   const { rows, total, totalIsExact } = await listPatients(query);
-  return { query, total, totalIsExact, rows: rows.map((r) => ({ ...r, lastExamAt: r.lastExamAt?.toISOString() ?? null })) };
+  return {
+    query,
+    total,
+    totalIsExact,
+    rows: rows.map((r) => ({ ...r, lastExamAt: r.lastExamAt?.toISOString() ?? null })),
+  };
 }
 
 type Row = Awaited<ReturnType<typeof loader>>["rows"][number];
@@ -24,15 +35,26 @@ const columns = [
     id: "name",
     header: "Name",
     cell: (c) => (
-      <Link to={`/patients/${c.row.original.id}`} className="font-semibold text-accent-800 underline-offset-4 hover:underline">
+      <Link
+        to={`/patients/${c.row.original.id}`}
+        className="font-semibold text-accent-800 underline-offset-4 hover:underline"
+      >
         {c.getValue()}
       </Link>
     ),
   }),
-  col.accessor("dateOfBirth", { id: "dob", header: "Date of birth", cell: (c) => `${formatDate(c.getValue())} (${ageOn(c.getValue())})` }),
+  col.accessor("dateOfBirth", {
+    id: "dob",
+    header: "Date of birth",
+    cell: (c) => `${formatDate(c.getValue())} (${ageOn(c.getValue())})`,
+  }),
   col.accessor("phone", { header: "Phone", enableSorting: false, cell: (c) => c.getValue() ?? "—" }),
   col.accessor("email", { header: "E-mail", enableSorting: false, cell: (c) => c.getValue() ?? "—" }),
-  col.accessor("lastExamAt", { id: "lastExam", header: "Last exam", cell: (c) => (c.getValue() ? formatDate(c.getValue()!) : "Never") }),
+  col.accessor("lastExamAt", {
+    id: "lastExam",
+    header: "Last exam",
+    cell: (c) => (c.getValue() ? formatDate(c.getValue()!) : "Never"),
+  }),
 ];
 
 function hrefWith(params: URLSearchParams, changes: Partial<Record<keyof ListQuery, string | number>>) {
@@ -80,13 +102,24 @@ export default function Patients({ loaderData }: Route.ComponentProps) {
           <label htmlFor="table-q" className="mb-1 block text-sm font-semibold">
             Filter by name, phone or e-mail
           </label>
-          <input id="table-q" type="search" name="q" defaultValue={query.q} className="block w-64 rounded-md border border-line bg-white px-3 py-2" />
+          <input
+            id="table-q"
+            type="search"
+            name="q"
+            defaultValue={query.q}
+            className="block w-64 rounded-md border border-line bg-white px-3 py-2"
+          />
         </div>
         <div>
           <label htmlFor="table-filter" className="mb-1 block text-sm font-semibold">
             Show
           </label>
-          <select id="table-filter" name="filter" defaultValue={query.filter} className="block rounded-md border border-line bg-white px-3 py-2">
+          <select
+            id="table-filter"
+            name="filter"
+            defaultValue={query.filter}
+            className="block rounded-md border border-line bg-white px-3 py-2"
+          >
             <option value="all">All patients</option>
             <option value="due">No exam for 24 months or more</option>
             <option value="never">Never examined</option>
@@ -96,7 +129,12 @@ export default function Patients({ loaderData }: Route.ComponentProps) {
           <label htmlFor="table-size" className="mb-1 block text-sm font-semibold">
             Rows per page
           </label>
-          <select id="table-size" name="size" defaultValue={String(query.size)} className="block rounded-md border border-line bg-white px-3 py-2">
+          <select
+            id="table-size"
+            name="size"
+            defaultValue={String(query.size)}
+            className="block rounded-md border border-line bg-white px-3 py-2"
+          >
             {[10, 25, 50, 100].map((n) => (
               <option key={n}>{n}</option>
             ))}
@@ -108,7 +146,9 @@ export default function Patients({ loaderData }: Route.ComponentProps) {
       </Form>
       <div className="overflow-x-auto rounded-lg border border-line bg-white">
         <table className="min-w-full text-left text-sm">
-          <caption className="sr-only">Patients, sorted by {query.sort} {query.dir === "asc" ? "ascending" : "descending"}</caption>
+          <caption className="sr-only">
+            Patients, sorted by {query.sort} {query.dir === "asc" ? "ascending" : "descending"}
+          </caption>
           <thead className="border-b border-line bg-canvas">
             {table.getHeaderGroups().map((hg) => (
               <tr key={hg.id}>
@@ -117,12 +157,23 @@ export default function Patients({ loaderData }: Route.ComponentProps) {
                   const current = query.sort === h.column.id;
                   const nextDir = current && query.dir === "asc" ? "desc" : "asc";
                   return (
-                    <th key={h.id} scope="col" aria-sort={current ? (query.dir === "asc" ? "ascending" : "descending") : undefined} className="px-4 py-3 font-semibold">
+                    <th
+                      key={h.id}
+                      scope="col"
+                      aria-sort={current ? (query.dir === "asc" ? "ascending" : "descending") : undefined}
+                      className="px-4 py-3 font-semibold"
+                    >
                       {sortable ? (
-                        <Link to={hrefWith(params, { sort: h.column.id as PatientSort, dir: nextDir, page: 1 })} className="inline-flex items-center gap-1 hover:underline">
+                        <Link
+                          to={hrefWith(params, { sort: h.column.id as PatientSort, dir: nextDir, page: 1 })}
+                          className="inline-flex items-center gap-1 hover:underline"
+                        >
                           {flexRender(h.column.columnDef.header, h.getContext())}
                           <span aria-hidden="true">{current ? (query.dir === "asc" ? "▲" : "▼") : "↕"}</span>
-                          <span className="sr-only">{current ? `, sorted ${query.dir === "asc" ? "ascending" : "descending"}; ` : ""}sort {nextDir === "asc" ? "ascending" : "descending"}</span>
+                          <span className="sr-only">
+                            {current ? `, sorted ${query.dir === "asc" ? "ascending" : "descending"}; ` : ""}sort{" "}
+                            {nextDir === "asc" ? "ascending" : "descending"}
+                          </span>
                         </Link>
                       ) : (
                         flexRender(h.column.columnDef.header, h.getContext())
@@ -156,7 +207,9 @@ export default function Patients({ loaderData }: Route.ComponentProps) {
       </div>
       <nav aria-label="Pages" className="mt-4 flex flex-wrap items-center justify-between gap-4 text-sm">
         <p>
-          {first}–{last} of {totalIsExact ? total.toLocaleString("en-GB") : `more than ${total.toLocaleString("en-GB")}`} · page {query.page}
+          {first}–{last} of{" "}
+          {totalIsExact ? total.toLocaleString("en-GB") : `more than ${total.toLocaleString("en-GB")}`} · page{" "}
+          {query.page}
           {totalIsExact ? ` of ${pages.toLocaleString("en-GB")}` : ""}
         </p>
         <div className="flex gap-2">

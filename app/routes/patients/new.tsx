@@ -26,7 +26,10 @@ export async function action({ request }: Route.ActionArgs) {
     const duplicates = await findDuplicates(demographics);
     if (duplicates.length) {
       return data(
-        { ...submission.reply({ formErrors: ["A patient with this name and date of birth is already registered."] }), duplicates },
+        {
+          ...submission.reply({ formErrors: ["A patient with this name and date of birth is already registered."] }),
+          duplicates,
+        },
         { status: 409 },
       );
     }
@@ -34,22 +37,44 @@ export async function action({ request }: Route.ActionArgs) {
   const id = await db.transaction(async (tx) => {
     const [row] = await tx
       .insert(patients)
-      .values({ ...demographics, email: demographics.email || null, phone: demographics.phone || null, ...(clinical ? { allergies, medications, noKnownAllergies } : {}) })
+      .values({
+        ...demographics,
+        email: demographics.email || null,
+        phone: demographics.phone || null,
+        ...(clinical ? { allergies, medications, noKnownAllergies } : {}),
+      })
       .returning({ id: patients.id });
     await audit(
-      { action: "patient.created", actorUserId: user.id, entityType: "patient", entityId: row!.id, patientId: row!.id, detail: { duplicateConfirmed: confirmDuplicate === "yes" }, request },
+      {
+        action: "patient.created",
+        actorUserId: user.id,
+        entityType: "patient",
+        entityId: row!.id,
+        patientId: row!.id,
+        detail: { duplicateConfirmed: confirmDuplicate === "yes" },
+        request,
+      },
       tx,
     );
     return row!.id;
   });
-  return redirectWithToast(`/patients/${id}`, { kind: "success", title: `${demographics.firstName} ${demographics.lastName} registered` });
+  return redirectWithToast(`/patients/${id}`, {
+    kind: "success",
+    title: `${demographics.firstName} ${demographics.lastName} registered`,
+  });
 }
 
 export default function NewPatient({ loaderData, actionData }: Route.ComponentProps) {
   return (
     <>
       <PageHeader title="Register a patient" description="Name and date of birth are required; the rest can follow." />
-      <PatientForm id="new-patient" lastResult={actionData as PatientActionData} clinical={loaderData.clinical} submitLabel="Register patient" defaultValue={{ remindersByEmail: "on" }} />
+      <PatientForm
+        id="new-patient"
+        lastResult={actionData as PatientActionData}
+        clinical={loaderData.clinical}
+        submitLabel="Register patient"
+        defaultValue={{ remindersByEmail: "on" }}
+      />
     </>
   );
 }

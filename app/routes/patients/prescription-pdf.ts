@@ -13,7 +13,8 @@ import { prescriptionsOf, RX_CAUTIONS } from "~/models/prescriptions/prescriptio
 
 /** Printed powers use the true minus sign (U+2212) and the multiplication sign before an axis. */
 const typeset = (s: string) => s.replace(/(^|[\s(/])-(?=\d)/g, "$1\u2212").replace(/ x (?=\d)/g, " \u00d7 ");
-const num = (x: number | null | undefined, d = 2, signed = true) => (x === null || x === undefined ? "" : typeset(`${signed && x > 0 ? "+" : ""}${x.toFixed(d)}`));
+const num = (x: number | null | undefined, d = 2, signed = true) =>
+  x === null || x === undefined ? "" : typeset(`${signed && x > 0 ? "+" : ""}${x.toFixed(d)}`);
 const rxParts = (r: SphCyl): [string, string, string] => {
   const t = formatRx(r).split(" ").map(typeset);
   return r.cylinder === 0 ? [t[0] ?? "", "DS", ""] : [t[0] ?? "", t[1] ?? "", t[3] ?? ""];
@@ -34,7 +35,10 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   if (!exists) throw data({ error: "Not found." }, { status: 404 });
   const rx = (await prescriptionsOf(params.patientId)).find((p) => p.id === exists.id)!;
   const [patient] = await db.select().from(patients).where(eq(patients.id, params.patientId));
-  const [settings] = await db.select({ jurisdiction: practiceSettings.jurisdiction }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const [settings] = await db
+    .select({ jurisdiction: practiceSettings.jurisdiction })
+    .from(practiceSettings)
+    .where(eq(practiceSettings.id, 1));
   const rules = jurisdictionOf(settings?.jurisdiction);
   const title = rx.kind === "spectacle" ? "Spectacle prescription" : "Contact-lens prescription";
   const pdf = await PdfWriter.create({ title, practice: await loadLetterhead(), author: rx.prescriberName });
@@ -60,7 +64,16 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       ],
       rows: rx.eyes.map((e) => {
         const [s, c, a] = rxParts(e);
-        return [e.eye === "right" ? "Right" : "Left", s, c, a, num(e.addPower), e.prismDioptres ? e.prismDioptres.toFixed(2) : "", e.prismBase ?? "", e.vertexMm !== null ? `${e.vertexMm} mm` : ""];
+        return [
+          e.eye === "right" ? "Right" : "Left",
+          s,
+          c,
+          a,
+          num(e.addPower),
+          e.prismDioptres ? e.prismDioptres.toFixed(2) : "",
+          e.prismBase ?? "",
+          e.vertexMm !== null ? `${e.vertexMm} mm` : "",
+        ];
       }),
     });
   } else {
@@ -78,8 +91,18 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       ],
       rows: rx.eyes.map((e) => {
         const [s, c, a] = rxParts(e);
-        const exact = e.exactSphere !== null ? `${num(e.exactSphere, 3)} / ${num(e.exactCylinder, 3)} × ${e.exactAxis}` : "";
-        return [e.eye === "right" ? "Right" : "Left", s, c, a, num(e.addPower), e.baseCurveMm ? e.baseCurveMm.toFixed(2) : "", e.diameterMm ? e.diameterMm.toFixed(1) : "", exact];
+        const exact =
+          e.exactSphere !== null ? `${num(e.exactSphere, 3)} / ${num(e.exactCylinder, 3)} × ${e.exactAxis}` : "";
+        return [
+          e.eye === "right" ? "Right" : "Left",
+          s,
+          c,
+          a,
+          num(e.addPower),
+          e.baseCurveMm ? e.baseCurveMm.toFixed(2) : "",
+          e.diameterMm ? e.diameterMm.toFixed(1) : "",
+          exact,
+        ];
       }),
     });
     pdf.paragraph(
@@ -96,7 +119,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   ]);
   pdf.notes("Cautions", [...RX_CAUTIONS]);
   const bytes = await pdf.finish();
-  await audit({ action: "prescription.printed", actorUserId: user.id, entityType: "prescription", entityId: rx.id, patientId: rx.patientId, request });
+  await audit({
+    action: "prescription.printed",
+    actorUserId: user.id,
+    entityType: "prescription",
+    entityId: rx.id,
+    patientId: rx.patientId,
+    request,
+  });
   return new Response(new Uint8Array(bytes), {
     headers: {
       "content-type": "application/pdf",

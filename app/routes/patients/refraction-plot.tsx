@@ -1,12 +1,40 @@
 import { useEffect, useState } from "react";
-import { CartesianGrid, Legend, Line, LineChart, ResponsiveContainer, Scatter, ScatterChart, Tooltip, XAxis, YAxis, ZAxis } from "recharts";
+import {
+  CartesianGrid,
+  Legend,
+  Line,
+  LineChart,
+  ResponsiveContainer,
+  Scatter,
+  ScatterChart,
+  Tooltip,
+  XAxis,
+  YAxis,
+  ZAxis,
+} from "recharts";
 import { Card } from "~/components/ui/card";
 import { StatusBadge } from "~/components/ui/notice";
 import { formatDate } from "~/models/patients/patient-schema";
 
-type Point = { examId: string; date: string; kind: string; eye: "right" | "left"; M: number; J0: number; J45: number; sphere: number; cylinder: number; axis: number };
+type Point = {
+  examId: string;
+  date: string;
+  kind: string;
+  eye: "right" | "left";
+  M: number;
+  J0: number;
+  J45: number;
+  sphere: number;
+  cylinder: number;
+  axis: number;
+};
 type Interval = { ratePerYear: number; atOrBeyondThreshold: boolean; label: string; warnings: string[] };
-type Progression = Partial<Record<"right" | "left", { latestSE: number; recent: Interval; overall: Interval | null; thresholdMeaning: string; myopiaDefinition: string }>> | null;
+type Progression = Partial<
+  Record<
+    "right" | "left",
+    { latestSE: number; recent: Interval; overall: Interval | null; thresholdMeaning: string; myopiaDefinition: string }
+  >
+> | null;
 
 const COLOURS = { right: "#0d5c62", left: "#b45309" } as const;
 
@@ -19,7 +47,10 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
   const shown = points.filter((p) => (kind === "all" || p.kind === "final") && (eye === "both" || p.eye === eye));
   // The astigmatism plane is drawn square and centred on zero (no astigmatism), at least ±0.50 D,
   // in 0.25 D steps, so a cluster of equal values does not blow up into a meaningless scale.
-  const jExtent = Math.max(0.5, Math.ceil(Math.max(0, ...shown.flatMap((p) => [Math.abs(p.J0), Math.abs(p.J45)])) / 0.25) * 0.25);
+  const jExtent = Math.max(
+    0.5,
+    Math.ceil(Math.max(0, ...shown.flatMap((p) => [Math.abs(p.J0), Math.abs(p.J45)])) / 0.25) * 0.25,
+  );
   const jStep = jExtent > 2 ? 1 : jExtent > 1 ? 0.5 : 0.25;
   const jTicks = Array.from({ length: Math.round((2 * jExtent) / jStep) + 1 }, (_, i) => -jExtent + i * jStep);
   const byEye = (e: "right" | "left") => shown.filter((p) => p.eye === e).map((p) => ({ ...p, t: Date.parse(p.date) }));
@@ -31,14 +62,16 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
           <legend className="mr-2 font-semibold">Eye</legend>
           {(["both", "right", "left"] as const).map((e) => (
             <label key={e} className="flex items-center gap-1">
-              <input type="radio" name="plot-eye" checked={eye === e} onChange={() => setEye(e)} /> {e === "both" ? "Both" : e === "right" ? "Right" : "Left"}
+              <input type="radio" name="plot-eye" checked={eye === e} onChange={() => setEye(e)} />{" "}
+              {e === "both" ? "Both" : e === "right" ? "Right" : "Left"}
             </label>
           ))}
         </fieldset>
         <fieldset className="flex gap-3">
           <legend className="mr-2 font-semibold">Refractions</legend>
           <label className="flex items-center gap-1">
-            <input type="radio" name="plot-kind" checked={kind === "final"} onChange={() => setKind("final")} /> Final only
+            <input type="radio" name="plot-kind" checked={kind === "final"} onChange={() => setKind("final")} /> Final
+            only
           </label>
           <label className="flex items-center gap-1">
             <input type="radio" name="plot-kind" checked={kind === "all"} onChange={() => setKind("all")} /> All kinds
@@ -60,7 +93,12 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
                   {[p.recent, p.overall].map((i, k) =>
                     i ? (
                       <li key={k}>
-                        {i.atOrBeyondThreshold ? <StatusBadge tone="warning">At or beyond 0.50 D per year</StatusBadge> : <StatusBadge tone="success">Below 0.50 D per year</StatusBadge>} {i.label}
+                        {i.atOrBeyondThreshold ? (
+                          <StatusBadge tone="warning">At or beyond 0.50 D per year</StatusBadge>
+                        ) : (
+                          <StatusBadge tone="success">Below 0.50 D per year</StatusBadge>
+                        )}{" "}
+                        {i.label}
                         {i.warnings.length ? <span className="text-muted"> ({i.warnings.join("; ")})</span> : null}
                       </li>
                     ) : null,
@@ -70,7 +108,8 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
             );
           })}
           <p className="text-xs text-muted">
-            {(progression.right ?? progression.left)!.thresholdMeaning} {(progression.right ?? progression.left)!.myopiaDefinition}. Check before changing management.
+            {(progression.right ?? progression.left)!.thresholdMeaning}{" "}
+            {(progression.right ?? progression.left)!.myopiaDefinition}. Check before changing management.
           </p>
         </div>
       ) : null}
@@ -79,32 +118,84 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
       ) : mounted ? (
         <div className="grid gap-6 lg:grid-cols-2">
           <figure>
-            <figcaption className="mb-1 text-sm font-semibold">Spherical equivalent M (D) over time; right eye solid line, left eye dashed</figcaption>
+            <figcaption className="mb-1 text-sm font-semibold">
+              Spherical equivalent M (D) over time; right eye solid line, left eye dashed
+            </figcaption>
             <ResponsiveContainer width="100%" height={260}>
               <LineChart margin={{ top: 8, right: 16, bottom: 8, left: 0 }}>
                 <CartesianGrid strokeDasharray="3 3" />
-                <XAxis dataKey="t" type="number" domain={["dataMin", "dataMax"]} scale="time" tickFormatter={(t: number) => new Date(t).getUTCFullYear().toString()} />
-                <YAxis dataKey="M" type="number" width={56} tickFormatter={(v: number) => v.toFixed(1)} label={{ value: "M (D)", angle: -90, position: "insideLeft" }} />
-                <Tooltip labelFormatter={(t) => formatDate(new Date(Number(t)).toISOString())} formatter={(v) => [`${Number(v).toFixed(2)} D`, "M"]} />
+                <XAxis
+                  dataKey="t"
+                  type="number"
+                  domain={["dataMin", "dataMax"]}
+                  scale="time"
+                  tickFormatter={(t: number) => new Date(t).getUTCFullYear().toString()}
+                />
+                <YAxis
+                  dataKey="M"
+                  type="number"
+                  width={56}
+                  tickFormatter={(v: number) => v.toFixed(1)}
+                  label={{ value: "M (D)", angle: -90, position: "insideLeft" }}
+                />
+                <Tooltip
+                  labelFormatter={(t) => formatDate(new Date(Number(t)).toISOString())}
+                  formatter={(v) => [`${Number(v).toFixed(2)} D`, "M"]}
+                />
                 <Legend />
                 {eyes.map((e) => (
-                  <Line key={e} data={byEye(e)} dataKey="M" name={e === "right" ? "Right" : "Left"} stroke={COLOURS[e]} strokeDasharray={e === "left" ? "5 3" : undefined} dot={{ r: 3 }} isAnimationActive={false} />
+                  <Line
+                    key={e}
+                    data={byEye(e)}
+                    dataKey="M"
+                    name={e === "right" ? "Right" : "Left"}
+                    stroke={COLOURS[e]}
+                    strokeDasharray={e === "left" ? "5 3" : undefined}
+                    dot={{ r: 3 }}
+                    isAnimationActive={false}
+                  />
                 ))}
               </LineChart>
             </ResponsiveContainer>
           </figure>
           <figure>
-            <figcaption className="mb-1 text-sm font-semibold">Astigmatism J0 against J45 (D); right eye circles, left eye triangles</figcaption>
+            <figcaption className="mb-1 text-sm font-semibold">
+              Astigmatism J0 against J45 (D); right eye circles, left eye triangles
+            </figcaption>
             <ResponsiveContainer width="100%" height={260}>
               <ScatterChart margin={{ top: 8, right: 16, bottom: 8, left: 0 }}>
                 <CartesianGrid strokeDasharray="3 3" />
-                <XAxis dataKey="J0" type="number" name="J0" domain={[-jExtent, jExtent]} ticks={jTicks} tickFormatter={(v: number) => v.toFixed(2)} label={{ value: "J0 (D)", position: "insideBottom", offset: -4 }} />
-                <YAxis dataKey="J45" type="number" name="J45" width={56} domain={[-jExtent, jExtent]} ticks={jTicks} tickFormatter={(v: number) => v.toFixed(2)} label={{ value: "J45 (D)", angle: -90, position: "insideLeft" }} />
+                <XAxis
+                  dataKey="J0"
+                  type="number"
+                  name="J0"
+                  domain={[-jExtent, jExtent]}
+                  ticks={jTicks}
+                  tickFormatter={(v: number) => v.toFixed(2)}
+                  label={{ value: "J0 (D)", position: "insideBottom", offset: -4 }}
+                />
+                <YAxis
+                  dataKey="J45"
+                  type="number"
+                  name="J45"
+                  width={56}
+                  domain={[-jExtent, jExtent]}
+                  ticks={jTicks}
+                  tickFormatter={(v: number) => v.toFixed(2)}
+                  label={{ value: "J45 (D)", angle: -90, position: "insideLeft" }}
+                />
                 <ZAxis range={[40, 40]} />
                 <Tooltip />
                 <Legend />
                 {eyes.map((e) => (
-                  <Scatter key={e} data={byEye(e)} name={e === "right" ? "Right" : "Left"} fill={COLOURS[e]} shape={e === "left" ? "triangle" : "circle"} isAnimationActive={false} />
+                  <Scatter
+                    key={e}
+                    data={byEye(e)}
+                    name={e === "right" ? "Right" : "Left"}
+                    fill={COLOURS[e]}
+                    shape={e === "left" ? "triangle" : "circle"}
+                    isAnimationActive={false}
+                  />
                 ))}
               </ScatterChart>
             </ResponsiveContainer>
@@ -118,12 +209,24 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
             <caption className="sr-only">Refractions and their power vectors</caption>
             <thead>
               <tr className="text-left">
-                <th scope="col" className="p-1">Date</th>
-                <th scope="col" className="p-1">Kind</th>
-                <th scope="col" className="p-1">Eye</th>
-                <th scope="col" className="p-1">M</th>
-                <th scope="col" className="p-1">J0</th>
-                <th scope="col" className="p-1">J45</th>
+                <th scope="col" className="p-1">
+                  Date
+                </th>
+                <th scope="col" className="p-1">
+                  Kind
+                </th>
+                <th scope="col" className="p-1">
+                  Eye
+                </th>
+                <th scope="col" className="p-1">
+                  M
+                </th>
+                <th scope="col" className="p-1">
+                  J0
+                </th>
+                <th scope="col" className="p-1">
+                  J45
+                </th>
               </tr>
             </thead>
             <tbody>
@@ -139,7 +242,9 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
               ))}
             </tbody>
           </table>
-          <p className="mt-1 text-xs text-muted">Power vectors M, J0, J45: Thibos, Wheeler &amp; Horner, Optom Vis Sci 1997;74:367–375.</p>
+          <p className="mt-1 text-xs text-muted">
+            Power vectors M, J0, J45: Thibos, Wheeler &amp; Horner, Optom Vis Sci 1997;74:367–375.
+          </p>
         </details>
       ) : null}
     </Card>

@@ -7,5 +7,11 @@ import { invoiceLabel } from "~/models/billing/invoices.server";
 export async function loader({ params }: Route.LoaderArgs) {
   const { detail } = await invoiceForToken(params.token);
   const pdf = await billingPdf(detail, "invoice");
-  return new Response(Buffer.from(pdf), { headers: { "content-type": "application/pdf", "content-disposition": `inline; filename="invoice-${invoiceLabel(detail.invoice.number)}.pdf"`, "cache-control": "private, no-store" } });
+  return new Response(Buffer.from(pdf), {
+    headers: {
+      "content-type": "application/pdf",
+      "content-disposition": `inline; filename="invoice-${invoiceLabel(detail.invoice.number)}.pdf"`,
+      "cache-control": "private, no-store",
+    },
+  });
 }

@@ -22,7 +22,6 @@ const bookSchema = z.object({
   siteId: z.uuid({ error: "Choose where." }).optional(),
 });
 
-
 export async function loader({ request }: Route.LoaderArgs) {
   await requirePortalPatient(request);
   const url = new URL(request.url);
@@ -41,7 +40,18 @@ export async function loader({ request }: Route.LoaderArgs) {
   // Times are the chosen site's wall clock (each site keeps its own zone).
   const zone = sites.length > 1 && site ? site.timeZone : settings.timeZone;
   const slots = typeId ? await freeSlots(typeId, date, zone, new Date(), sites.length > 1 ? site?.id : undefined) : [];
-  return { sites: sites.map(({ id, name }) => ({ id, name })), siteId: sites.length > 1 ? (site?.id ?? "") : "", types: types.map(({ id, name, durationMinutes }) => ({ id, name, durationMinutes })), typeId, date, today, lastDate, slots, timeZone: zone, practice: settings.name };
+  return {
+    sites: sites.map(({ id, name }) => ({ id, name })),
+    siteId: sites.length > 1 ? (site?.id ?? "") : "",
+    types: types.map(({ id, name, durationMinutes }) => ({ id, name, durationMinutes })),
+    typeId,
+    date,
+    today,
+    lastDate,
+    slots,
+    timeZone: zone,
+    practice: settings.name,
+  };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -51,10 +61,24 @@ export async function action({ request }: Route.ActionArgs) {
   const v = submission.value;
   // Only kinds of visit the practice opens to online booking.
   if (!(await onlineTypes()).some((t) => t.id === v.appointmentTypeId)) {
-    return data(submission.reply({ formErrors: ["That kind of visit cannot be booked online. Please phone the practice."] }), { status: 422 });
+    return data(
+      submission.reply({ formErrors: ["That kind of visit cannot be booked online. Please phone the practice."] }),
+      { status: 422 },
+    );
   }
   try {
-    await bookAppointment(user, { patientId, providerId: v.providerId, appointmentTypeId: v.appointmentTypeId, siteId: v.siteId, start: new Date(v.start), notes: "Booked online by the patient." }, request);
+    await bookAppointment(
+      user,
+      {
+        patientId,
+        providerId: v.providerId,
+        appointmentTypeId: v.appointmentTypeId,
+        siteId: v.siteId,
+        start: new Date(v.start),
+        notes: "Booked online by the patient.",
+      },
+      request,
+    );
   } catch (error) {
     if (error instanceof BookingError) {
       const taken = error.status === 409 ? "Someone has just taken that time. Please choose another." : error.message;
@@ -62,7 +86,11 @@ export async function action({ request }: Route.ActionArgs) {
     }
     throw error;
   }
-  return redirectWithToast("/portal", { kind: "success", title: "Your visit is booked", description: "A confirmation is on its way by e-mail." });
+  return redirectWithToast("/portal", {
+    kind: "success",
+    title: "Your visit is booked",
+    description: "A confirmation is on its way by e-mail.",
+  });
 }
 
 export default function BookOnline({ loaderData, actionData }: Route.ComponentProps) {
@@ -70,11 +98,16 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
   const navigation = useNavigation();
   const [params] = useSearchParams();
   const time = new Intl.DateTimeFormat("en-GB", { timeStyle: "short", timeZone });
-  const dayLabel = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(new Date(`${date}T12:00:00Z`));
+  const dayLabel = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(
+    new Date(`${date}T12:00:00Z`),
+  );
   const formError = actionData?.error?.[""];
   return (
     <div className="mx-auto max-w-2xl space-y-6">
-      <PageHeader title="Book an eye exam" description={`Free times at ${practice}. Times are the practice's local time.`} />
+      <PageHeader
+        title="Book an eye exam"
+        description={`Free times at ${practice}. Times are the practice's local time.`}
+      />
       {types.length === 0 ? (
         <Notice tone="info" title="Online booking is not open">
           Please phone the practice to book.
@@ -113,7 +146,14 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
                 <label htmlFor="date" className="mb-1 block text-sm font-semibold">
                   Day
                 </label>
-                <Input id="date" name="date" type="date" min={today} max={lastDate} defaultValue={params.get("date") ?? date} />
+                <Input
+                  id="date"
+                  name="date"
+                  type="date"
+                  min={today}
+                  max={lastDate}
+                  defaultValue={params.get("date") ?? date}
+                />
               </div>
               <Button type="submit" variant="secondary">
                 Show free times
@@ -137,7 +177,11 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
                       <input type="hidden" name="providerId" value={s.providerId} />
                       <input type="hidden" name="start" value={s.start} />
                       {siteId ? <input type="hidden" name="siteId" value={siteId} /> : null}
-                      <button type="submit" disabled={navigation.state !== "idle"} className={buttonClass("secondary", "w-full flex-col !items-start !gap-0 text-left")}>
+                      <button
+                        type="submit"
+                        disabled={navigation.state !== "idle"}
+                        className={buttonClass("secondary", "w-full flex-col !items-start !gap-0 text-left")}
+                      >
                         <span className="text-base">{time.format(new Date(s.start))}</span>
                         <span className="text-xs font-normal text-muted">with {s.providerName}</span>
                       </button>

@@ -38,7 +38,20 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const d = await invoiceDetail(invoiceId);
   if (!d || d.patient.id !== patientId || d.invoice.status === "draft") throw notFound();
   const pdf = await billingPdf(d, paymentId ? "receipt" : "invoice", paymentId);
-  await audit({ action: paymentId ? "portal.receipt_pdf" : "portal.invoice_pdf", actorUserId: user.id, patientId, entityType: paymentId ? "payment" : "invoice", entityId: paymentId ?? invoiceId, request });
+  await audit({
+    action: paymentId ? "portal.receipt_pdf" : "portal.invoice_pdf",
+    actorUserId: user.id,
+    patientId,
+    entityType: paymentId ? "payment" : "invoice",
+    entityId: paymentId ?? invoiceId,
+    request,
+  });
   const name = `${paymentId ? "receipt" : "invoice"}-${invoiceLabel(d.invoice.number)}.pdf`;
-  return new Response(Buffer.from(pdf), { headers: { "content-type": "application/pdf", "content-disposition": `inline; filename="${name}"`, "cache-control": "private, no-store" } });
+  return new Response(Buffer.from(pdf), {
+    headers: {
+      "content-type": "application/pdf",
+      "content-disposition": `inline; filename="${name}"`,
+      "cache-control": "private, no-store",
+    },
+  });
 }

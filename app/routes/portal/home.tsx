@@ -4,7 +4,14 @@ import { useState } from "react";
 import { data, Link, useFetcher } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/home";
-import { cancellable, ownAppointment, patientName, portalSettings, requirePortalPatient, visitsOf } from "~/models/portal/portal.server";
+import {
+  cancellable,
+  ownAppointment,
+  patientName,
+  portalSettings,
+  requirePortalPatient,
+  visitsOf,
+} from "~/models/portal/portal.server";
 import { ErrorList } from "~/components/forms";
 import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
@@ -23,21 +30,36 @@ const schema = z.discriminatedUnion("intent", [
   z.object({
     intent: z.literal("move"),
     appointmentId: z.uuid(),
-    message: z.string({ error: "Say when would suit you instead." }).trim().min(3, "Say when would suit you instead.").max(500, "Keep it under 500 characters."),
+    message: z
+      .string({ error: "Say when would suit you instead." })
+      .trim()
+      .min(3, "Say when would suit you instead.")
+      .max(500, "Keep it under 500 characters."),
   }),
 ]);
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { user, patientId } = await requirePortalPatient(request);
   const [settings, visits, name] = await Promise.all([portalSettings(), visitsOf(patientId), patientName(patientId)]);
-  await audit({ action: "portal.visits_read", actorUserId: user.id, patientId, entityType: "patient", entityId: patientId, request });
+  await audit({
+    action: "portal.visits_read",
+    actorUserId: user.id,
+    patientId,
+    entityType: "patient",
+    entityId: patientId,
+    request,
+  });
   const now = Date.now();
   const withRights = visits.map((v) => ({ ...v, canCancel: cancellable(v, settings.cancelCutoffHours, now) }));
   return {
     firstName: name?.firstName ?? user.name,
     practice: settings,
-    upcoming: withRights.filter((v) => new Date(v.end).getTime() >= now && v.status !== "cancelled" && v.status !== "no_show").reverse(),
-    past: withRights.filter((v) => new Date(v.end).getTime() < now || v.status === "cancelled" || v.status === "no_show").slice(0, 12),
+    upcoming: withRights
+      .filter((v) => new Date(v.end).getTime() >= now && v.status !== "cancelled" && v.status !== "no_show")
+      .reverse(),
+    past: withRights
+      .filter((v) => new Date(v.end).getTime() < now || v.status === "cancelled" || v.status === "no_show")
+      .slice(0, 12),
   };
 }
 
@@ -50,35 +72,77 @@ export async function action({ request }: Route.ActionArgs) {
   const settings = await portalSettings();
   if (v.intent === "cancel") {
     if (!cancellable({ start: visit.startsAt, status: visit.status }, settings.cancelCutoffHours)) {
-      return data(submission.reply({ formErrors: [`Visits can be cancelled online until ${settings.cancelCutoffHours} hours before they start. Please phone ${settings.name}${settings.phone ? ` on ${settings.phone}` : ""}.`] }), { status: 409 });
+      return data(
+        submission.reply({
+          formErrors: [
+            `Visits can be cancelled online until ${settings.cancelCutoffHours} hours before they start. Please phone ${settings.name}${settings.phone ? ` on ${settings.phone}` : ""}.`,
+          ],
+        }),
+        { status: 409 },
+      );
     }
     try {
       await changeStatus(user, visit.id, "cancelled", request);
     } catch (error) {
-      if (error instanceof BookingError) return data(submission.reply({ formErrors: [error.message] }), { status: error.status });
+      if (error instanceof BookingError)
+        return data(submission.reply({ formErrors: [error.message] }), { status: error.status });
       throw error;
     }
-    return redirectWithToast("/portal", { kind: "success", title: "Your visit is cancelled", description: "A confirmation is on its way by e-mail." });
+    return redirectWithToast("/portal", {
+      kind: "success",
+      title: "Your visit is cancelled",
+      description: "A confirmation is on its way by e-mail.",
+    });
   }
-  if (visit.status !== "booked" && visit.status !== "confirmed") return data(submission.reply({ formErrors: ["Only a booked visit that has not started can be moved."] }), { status: 409 });
+  if (visit.status !== "booked" && visit.status !== "confirmed")
+    return data(submission.reply({ formErrors: ["Only a booked visit that has not started can be moved."] }), {
+      status: 409,
+    });
   const [open] = await db
     .select({ id: appointmentChangeRequests.id })
     .from(appointmentChangeRequests)
     .where(and(eq(appointmentChangeRequests.appointmentId, visit.id), eq(appointmentChangeRequests.status, "open")));
   await db.transaction(async (tx) => {
-    if (open) await tx.update(appointmentChangeRequests).set({ message: v.message }).where(eq(appointmentChangeRequests.id, open.id));
+    if (open)
+      await tx
+        .update(appointmentChangeRequests)
+        .set({ message: v.message })
+        .where(eq(appointmentChangeRequests.id, open.id));
     else await tx.insert(appointmentChangeRequests).values({ appointmentId: visit.id, patientId, message: v.message });
-    await audit({ action: "portal.move_requested", actorUserId: user.id, patientId, entityType: "appointment", entityId: visit.id, detail: { message: v.message }, request }, tx);
+    await audit(
+      {
+        action: "portal.move_requested",
+        actorUserId: user.id,
+        patientId,
+        entityType: "appointment",
+        entityId: visit.id,
+        detail: { message: v.message },
+        request,
+      },
+      tx,
+    );
   });
-  return redirectWithToast("/portal", { kind: "success", title: "Request sent to the front desk", description: "They will contact you to agree a new time." });
+  return redirectWithToast("/portal", {
+    kind: "success",
+    title: "Request sent to the front desk",
+    description: "They will contact you to agree a new time.",
+  });
 }
 
 const tone = (s: Status) => (s === "cancelled" || s === "no_show" ? "error" : s === "completed" ? "success" : "info");
 
-function VisitCard({ visit, timeZone }: { visit: Awaited<ReturnType<typeof loader>>["upcoming"][number]; timeZone: string }) {
+function VisitCard({
+  visit,
+  timeZone,
+}: {
+  visit: Awaited<ReturnType<typeof loader>>["upcoming"][number];
+  timeZone: string;
+}) {
   const fetcher = useFetcher<typeof action>();
   const [moving, setMoving] = useState(false);
-  const when = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeStyle: "short", timeZone }).format(new Date(visit.start));
+  const when = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeStyle: "short", timeZone }).format(
+    new Date(visit.start),
+  );
   const errors = fetcher.data?.error;
   return (
     <li className="rounded-lg border border-line bg-white p-4">
@@ -89,7 +153,11 @@ function VisitCard({ visit, timeZone }: { visit: Awaited<ReturnType<typeof loade
       <p className="mt-2">
         <StatusBadge tone={tone(visit.status)}>{STATUS_LABEL[visit.status]}</StatusBadge>
       </p>
-      {visit.moveRequest ? <p className="mt-2 text-sm">You asked to move this visit: “{visit.moveRequest}”. The front desk will be in touch.</p> : null}
+      {visit.moveRequest ? (
+        <p className="mt-2 text-sm">
+          You asked to move this visit: “{visit.moveRequest}”. The front desk will be in touch.
+        </p>
+      ) : null}
       {errors?.[""]?.length ? (
         <div className="mt-3">
           <Notice tone="error" title="Not done">
@@ -101,7 +169,13 @@ function VisitCard({ visit, timeZone }: { visit: Awaited<ReturnType<typeof loade
         {visit.canCancel ? (
           <fetcher.Form method="post" onSubmit={(e) => !window.confirm("Cancel this visit?") && e.preventDefault()}>
             <input type="hidden" name="appointmentId" value={visit.id} />
-            <Button type="submit" name="intent" value="cancel" variant="danger" pending={fetcher.state !== "idle" && fetcher.formData?.get("intent") === "cancel"}>
+            <Button
+              type="submit"
+              name="intent"
+              value="cancel"
+              variant="danger"
+              pending={fetcher.state !== "idle" && fetcher.formData?.get("intent") === "cancel"}
+            >
               Cancel visit
             </Button>
           </fetcher.Form>
@@ -118,9 +192,21 @@ function VisitCard({ visit, timeZone }: { visit: Awaited<ReturnType<typeof loade
           <label htmlFor={`move-${visit.id}`} className="block text-sm font-semibold">
             When would suit you instead?
           </label>
-          <Textarea id={`move-${visit.id}`} name="message" rows={2} required aria-invalid={errors?.message ? true : undefined} aria-describedby={errors?.message ? `move-${visit.id}-error` : undefined} />
+          <Textarea
+            id={`move-${visit.id}`}
+            name="message"
+            rows={2}
+            required
+            aria-invalid={errors?.message ? true : undefined}
+            aria-describedby={errors?.message ? `move-${visit.id}-error` : undefined}
+          />
           <ErrorList id={`move-${visit.id}-error`} errors={errors?.message ?? undefined} />
-          <Button type="submit" name="intent" value="move" pending={fetcher.state !== "idle" && fetcher.formData?.get("intent") === "move"}>
+          <Button
+            type="submit"
+            name="intent"
+            value="move"
+            pending={fetcher.state !== "idle" && fetcher.formData?.get("intent") === "move"}
+          >
             Send request
           </Button>
         </fetcher.Form>
@@ -133,7 +219,15 @@ export default function PortalHome({ loaderData }: Route.ComponentProps) {
   const { firstName, practice, upcoming, past } = loaderData;
   return (
     <div className="mx-auto max-w-2xl space-y-6">
-      <PageHeader title={`Hello, ${firstName}`} description={`Your page at ${practice.name}`} actions={<Link to="/portal/book" className={buttonClass("primary")}>Book an eye exam</Link>} />
+      <PageHeader
+        title={`Hello, ${firstName}`}
+        description={`Your page at ${practice.name}`}
+        actions={
+          <Link to="/portal/book" className={buttonClass("primary")}>
+            Book an eye exam
+          </Link>
+        }
+      />
       <Card title="Upcoming visits">
         {upcoming.length ? (
           <ul className="space-y-3">
@@ -145,7 +239,8 @@ export default function PortalHome({ loaderData }: Route.ComponentProps) {
           <p className="text-muted">No visits booked.</p>
         )}
         <p className="mt-4 text-sm text-muted">
-          You can cancel online until {practice.cancelCutoffHours} hours before a visit. After that, please phone {practice.name}
+          You can cancel online until {practice.cancelCutoffHours} hours before a visit. After that, please phone{" "}
+          {practice.name}
           {practice.phone ? ` on ${practice.phone}` : ""}.
         </p>
       </Card>
@@ -155,7 +250,10 @@ export default function PortalHome({ loaderData }: Route.ComponentProps) {
             {past.map((v) => (
               <li key={v.id} className="flex flex-wrap items-center justify-between gap-2 py-2 text-sm">
                 <span>
-                  {new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeZone: practice.timeZone }).format(new Date(v.start))} · {v.typeName}
+                  {new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeZone: practice.timeZone }).format(
+                    new Date(v.start),
+                  )}{" "}
+                  · {v.typeName}
                 </span>
                 <StatusBadge tone={tone(v.status)}>{STATUS_LABEL[v.status]}</StatusBadge>
               </li>

@@ -13,26 +13,63 @@ import { db } from "~/utils/db.server";
 export async function loader({ request }: Route.LoaderArgs) {
   const { user, patientId } = await requirePortalPatient(request);
   const rows = await db
-    .select({ id: opticalOrders.id, number: opticalOrders.number, kind: opticalOrders.kind, state: opticalOrders.state, frameLabel: opticalOrders.frameLabel, createdAt: opticalOrders.createdAt, stateChangedAt: opticalOrders.stateChangedAt })
+    .select({
+      id: opticalOrders.id,
+      number: opticalOrders.number,
+      kind: opticalOrders.kind,
+      state: opticalOrders.state,
+      frameLabel: opticalOrders.frameLabel,
+      createdAt: opticalOrders.createdAt,
+      stateChangedAt: opticalOrders.stateChangedAt,
+    })
     .from(opticalOrders)
     .where(eq(opticalOrders.patientId, patientId))
     .orderBy(desc(opticalOrders.createdAt));
-  await audit({ action: "portal.orders_read", actorUserId: user.id, patientId, entityType: "patient", entityId: patientId, request });
-  return { orders: rows.map((o) => ({ ...o, label: orderLabel(o.number), createdAt: o.createdAt.toISOString(), stateChangedAt: o.stateChangedAt.toISOString() })) };
+  await audit({
+    action: "portal.orders_read",
+    actorUserId: user.id,
+    patientId,
+    entityType: "patient",
+    entityId: patientId,
+    request,
+  });
+  return {
+    orders: rows.map((o) => ({
+      ...o,
+      label: orderLabel(o.number),
+      createdAt: o.createdAt.toISOString(),
+      stateChangedAt: o.stateChangedAt.toISOString(),
+    })),
+  };
 }
 
 export default function PortalOrders({ loaderData }: Route.ComponentProps) {
   const date = (iso: string) => new Intl.DateTimeFormat("en-GB", { dateStyle: "medium" }).format(new Date(iso));
   return (
     <div className="mx-auto max-w-2xl space-y-6">
-      <PageHeader title="Glasses and contact lenses" description="Your orders with the practice and where each one is." />
+      <PageHeader
+        title="Glasses and contact lenses"
+        description="Your orders with the practice and where each one is."
+      />
       {loaderData.orders.length === 0 ? <p className="text-muted">You have no orders.</p> : null}
       <ul className="space-y-4">
         {loaderData.orders.map((o) => (
           <li key={o.id}>
             <Card
               title={`${o.kind === "spectacles" ? "Spectacles" : "Contact lenses"} — ${o.label}`}
-              actions={<StatusBadge tone={o.state === "ready_to_collect" || o.state === "collected" ? "success" : o.state === "cancelled" ? "error" : "info"}>{PATIENT_STATE_LABEL[o.state]}</StatusBadge>}
+              actions={
+                <StatusBadge
+                  tone={
+                    o.state === "ready_to_collect" || o.state === "collected"
+                      ? "success"
+                      : o.state === "cancelled"
+                        ? "error"
+                        : "info"
+                  }
+                >
+                  {PATIENT_STATE_LABEL[o.state]}
+                </StatusBadge>
+              }
             >
               <dl className="grid grid-cols-[8rem_1fr] gap-y-1 text-sm">
                 <dt className="text-muted">Ordered</dt>
@@ -46,7 +83,9 @@ export default function PortalOrders({ loaderData }: Route.ComponentProps) {
                 <dt className="text-muted">Since</dt>
                 <dd>{date(o.stateChangedAt)}</dd>
               </dl>
-              {o.state === "ready_to_collect" ? <p className="mt-3 text-sm font-semibold">Ready for you to collect from the practice.</p> : null}
+              {o.state === "ready_to_collect" ? (
+                <p className="mt-3 text-sm font-semibold">Ready for you to collect from the practice.</p>
+              ) : null}
             </Card>
           </li>
         ))}

@@ -25,7 +25,14 @@ async function requirePatient(request: Request) {
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { patientId } = await requirePatient(request);
-  const [row] = await db.select({ remindersByEmail: patients.remindersByEmail, recallsByEmail: patients.recallsByEmail, email: patients.email }).from(patients).where(eq(patients.id, patientId));
+  const [row] = await db
+    .select({
+      remindersByEmail: patients.remindersByEmail,
+      recallsByEmail: patients.recallsByEmail,
+      email: patients.email,
+    })
+    .from(patients)
+    .where(eq(patients.id, patientId));
   if (!row) throw data({ error: "Not found." }, { status: 404 });
   return row;
 }
@@ -34,18 +41,51 @@ export async function action({ request }: Route.ActionArgs) {
   const { user, patientId } = await requirePatient(request);
   const submission = parseWithZod(await request.formData(), { schema });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
-  const choice = { remindersByEmail: submission.value.remindersByEmail === "on", recallsByEmail: submission.value.recallsByEmail === "on" };
+  const choice = {
+    remindersByEmail: submission.value.remindersByEmail === "on",
+    recallsByEmail: submission.value.recallsByEmail === "on",
+  };
   await db.transaction(async (tx) => {
-    await tx.update(patients).set({ ...choice, updatedAt: new Date() }).where(eq(patients.id, patientId));
-    await audit({ action: "portal.reminder_choice", actorUserId: user.id, patientId, entityType: "patient", entityId: patientId, detail: choice, request }, tx);
+    await tx
+      .update(patients)
+      .set({ ...choice, updatedAt: new Date() })
+      .where(eq(patients.id, patientId));
+    await audit(
+      {
+        action: "portal.reminder_choice",
+        actorUserId: user.id,
+        patientId,
+        entityType: "patient",
+        entityId: patientId,
+        detail: choice,
+        request,
+      },
+      tx,
+    );
   });
   return redirectWithToast("/portal/reminders", { kind: "success", title: "Your reminder choices are saved" });
 }
 
-function Toggle({ name, label, hint, defaultChecked }: { name: string; label: string; hint: string; defaultChecked: boolean }) {
+function Toggle({
+  name,
+  label,
+  hint,
+  defaultChecked,
+}: {
+  name: string;
+  label: string;
+  hint: string;
+  defaultChecked: boolean;
+}) {
   return (
     <label className="flex cursor-pointer items-start gap-3 rounded-md border border-line p-4 has-[:checked]:border-accent-600 has-[:checked]:bg-accent-50">
-      <input type="checkbox" name={name} defaultChecked={defaultChecked} className="mt-1 size-5 accent-accent-700" aria-describedby={`${name}-hint`} />
+      <input
+        type="checkbox"
+        name={name}
+        defaultChecked={defaultChecked}
+        className="mt-1 size-5 accent-accent-700"
+        aria-describedby={`${name}-hint`}
+      />
       <span>
         <span className="block font-semibold">{label}</span>
         <span id={`${name}-hint`} className="block text-sm text-muted">
@@ -60,11 +100,26 @@ export default function ReminderChoices({ loaderData }: Route.ComponentProps) {
   const navigation = useNavigation();
   return (
     <div className="mx-auto max-w-xl">
-      <PageHeader title="Reminders" description={loaderData.email ? `E-mails go to ${loaderData.email}.` : "The practice has no e-mail address for you yet."} />
+      <PageHeader
+        title="Reminders"
+        description={
+          loaderData.email ? `E-mails go to ${loaderData.email}.` : "The practice has no e-mail address for you yet."
+        }
+      />
       <Card>
         <Form method="post" className="space-y-4">
-          <Toggle name="remindersByEmail" label="Appointment e-mails" hint="Confirmation when you book, a reminder before the visit, and a notice if it is cancelled." defaultChecked={loaderData.remindersByEmail} />
-          <Toggle name="recallsByEmail" label="Recall e-mails" hint="A message when your next routine eye exam is due." defaultChecked={loaderData.recallsByEmail} />
+          <Toggle
+            name="remindersByEmail"
+            label="Appointment e-mails"
+            hint="Confirmation when you book, a reminder before the visit, and a notice if it is cancelled."
+            defaultChecked={loaderData.remindersByEmail}
+          />
+          <Toggle
+            name="recallsByEmail"
+            label="Recall e-mails"
+            hint="A message when your next routine eye exam is due."
+            defaultChecked={loaderData.recallsByEmail}
+          />
           <Button type="submit" pending={navigation.state === "submitting"}>
             Save my choices
           </Button>

@@ -10,8 +10,16 @@ import { db } from "~/utils/db.server";
 import { verifyUnsubscribe, type UnsubscribeList } from "~/utils/mail.server";
 
 const WHAT: Record<UnsubscribeList, { title: string; words: string; rest: string }> = {
-  reminders: { title: "appointment e-mails", words: "appointment reminders and other e-mails about your appointments", rest: "recall e-mails when your next eye examination is due" },
-  recalls: { title: "recall e-mails", words: "e-mails telling you when your next eye examination is due", rest: "e-mails about appointments you book" },
+  reminders: {
+    title: "appointment e-mails",
+    words: "appointment reminders and other e-mails about your appointments",
+    rest: "recall e-mails when your next eye examination is due",
+  },
+  recalls: {
+    title: "recall e-mails",
+    words: "e-mails telling you when your next eye examination is due",
+    rest: "e-mails about appointments you book",
+  },
 };
 
 /**
@@ -23,20 +31,45 @@ const WHAT: Record<UnsubscribeList, { title: string; words: string; rest: string
 export async function loader({ params }: Route.LoaderArgs) {
   const t = verifyUnsubscribe(params.token);
   if (!t) throw data({ error: "This unsubscribe link is not valid." }, { status: 404 });
-  const [p] = await db.select({ reminders: patients.remindersByEmail, recalls: patients.recallsByEmail }).from(patients).where(eq(patients.id, t.patientId));
+  const [p] = await db
+    .select({ reminders: patients.remindersByEmail, recalls: patients.recallsByEmail })
+    .from(patients)
+    .where(eq(patients.id, t.patientId));
   return { list: t.list, alreadyOff: p ? !p[t.list] : true };
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
   const t = verifyUnsubscribe(params.token);
-  if (!t) return data({ ok: false as const, error: "This unsubscribe link is not valid. Call the practice and we will stop the e-mails." }, { status: 404 });
+  if (!t)
+    return data(
+      {
+        ok: false as const,
+        error: "This unsubscribe link is not valid. Call the practice and we will stop the e-mails.",
+      },
+      { status: 404 },
+    );
   await db.transaction(async (tx) => {
     const [p] = await tx
       .update(patients)
-      .set(t.list === "reminders" ? { remindersByEmail: false, updatedAt: new Date() } : { recallsByEmail: false, updatedAt: new Date() })
+      .set(
+        t.list === "reminders"
+          ? { remindersByEmail: false, updatedAt: new Date() }
+          : { recallsByEmail: false, updatedAt: new Date() },
+      )
       .where(eq(patients.id, t.patientId))
       .returning({ id: patients.id });
-    if (p) await audit({ action: "patient.email_opt_out", entityType: "patient", entityId: p.id, patientId: p.id, detail: { list: t.list, via: "unsubscribe link" }, request }, tx);
+    if (p)
+      await audit(
+        {
+          action: "patient.email_opt_out",
+          entityType: "patient",
+          entityId: p.id,
+          patientId: p.id,
+          detail: { list: t.list, via: "unsubscribe link" },
+          request,
+        },
+        tx,
+      );
   });
   return { ok: true as const, list: t.list };
 }
@@ -58,7 +91,9 @@ export default function Unsubscribe({ loaderData, actionData }: Route.ComponentP
           <Notice tone="success" title="Unsubscribed">
             We have stopped {what.words}.
           </Notice>
-          <p className="text-sm text-muted">You will still get {what.rest}, unless you stop those too. To start again, tell the practice.</p>
+          <p className="text-sm text-muted">
+            You will still get {what.rest}, unless you stop those too. To start again, tell the practice.
+          </p>
         </div>
       ) : (
         <Form method="post" className="mt-6 space-y-4">
@@ -73,4 +108,7 @@ export default function Unsubscribe({ loaderData, actionData }: Route.ComponentP
   );
 }
 
-export const meta: Route.MetaFunction = () => [{ title: "E-mail preferences · Dioptra" }, { name: "robots", content: "noindex" }];
+export const meta: Route.MetaFunction = () => [
+  { title: "E-mail preferences · Dioptra" },
+  { name: "robots", content: "noindex" },
+];

@@ -1,4 +1,11 @@
-import { createColumnHelper, flexRender, getCoreRowModel, getSortedRowModel, useReactTable, type SortingState } from "@tanstack/react-table";
+import {
+  createColumnHelper,
+  flexRender,
+  getCoreRowModel,
+  getSortedRowModel,
+  useReactTable,
+  type SortingState,
+} from "@tanstack/react-table";
 import { useMemo, useState } from "react";
 import { Form, Link, useFetcher, useSearchParams } from "react-router";
 import type { Route } from "./+types/index";
@@ -17,7 +24,10 @@ const FILTERS: DisplayStatus[] = ["draft", "queued", "sent", "acknowledged", "se
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   const rows = await trackingRows();
-  const counts = Object.fromEntries(FILTERS.map((f) => [f, rows.filter((r) => r.status === f).length])) as Record<DisplayStatus, number>;
+  const counts = Object.fromEntries(FILTERS.map((f) => [f, rows.filter((r) => r.status === f).length])) as Record<
+    DisplayStatus,
+    number
+  >;
   return { rows, counts, canCompose: user.role !== "receptionist" };
 }
 
@@ -30,7 +40,15 @@ function ChaseButton({ row }: { row: Row }) {
   if (!row.canChase) return null;
   return (
     <fetcher.Form method="post" action={`/referrals/${row.id}`}>
-      <Button type="submit" name="intent" value="chase" variant="secondary" className="px-3 py-1" pending={fetcher.state !== "idle"} disabled={done}>
+      <Button
+        type="submit"
+        name="intent"
+        value="chase"
+        variant="secondary"
+        className="px-3 py-1"
+        pending={fetcher.state !== "idle"}
+        disabled={done}
+      >
         {done ? "Reminder sent" : "Chase"}
         <span className="sr-only"> referral {row.reference}</span>
       </Button>
@@ -42,13 +60,19 @@ export default function Referrals({ loaderData }: Route.ComponentProps) {
   const [params] = useSearchParams();
   const filter = params.get("status") as DisplayStatus | null;
   const [sorting, setSorting] = useState<SortingState>([]);
-  const rows = useMemo(() => (filter && FILTERS.includes(filter) ? loaderData.rows.filter((r) => r.status === filter) : loaderData.rows), [loaderData.rows, filter]);
+  const rows = useMemo(
+    () => (filter && FILTERS.includes(filter) ? loaderData.rows.filter((r) => r.status === filter) : loaderData.rows),
+    [loaderData.rows, filter],
+  );
   const columns = useMemo(
     () => [
       col.accessor("reference", {
         header: "Referral",
         cell: (c) => (
-          <Link to={`/referrals/${c.row.original.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
+          <Link
+            to={`/referrals/${c.row.original.id}`}
+            className="font-semibold text-accent-700 underline underline-offset-4"
+          >
             {c.getValue()}
           </Link>
         ),
@@ -61,19 +85,34 @@ export default function Referrals({ loaderData }: Route.ComponentProps) {
         cell: (c) => (
           <span className="flex flex-col items-start gap-1">
             <StatusBadge tone={STATUS_TONE[c.getValue()]}>{STATUS_LABEL[c.getValue()]}</StatusBadge>
-            {c.row.original.delivery === "failed" ? <span className="text-xs font-semibold text-red-800">E-mail failed: {c.row.original.deliveryError}</span> : null}
-            {c.row.original.delivery === "queued" && c.row.original.deliveryError ? <span className="text-xs text-muted">Retrying: {c.row.original.deliveryError}</span> : null}
+            {c.row.original.delivery === "failed" ? (
+              <span className="text-xs font-semibold text-red-800">E-mail failed: {c.row.original.deliveryError}</span>
+            ) : null}
+            {c.row.original.delivery === "queued" && c.row.original.deliveryError ? (
+              <span className="text-xs text-muted">Retrying: {c.row.original.deliveryError}</span>
+            ) : null}
           </span>
         ),
       }),
       col.accessor("sentOn", { header: "Sent", cell: (c) => c.getValue() ?? "—" }),
       col.accessor("dueOn", { header: "To be seen by", cell: (c) => c.getValue() ?? "—" }),
       col.accessor("appointmentOn", { header: "Appointment", cell: (c) => c.getValue() ?? "—" }),
-      col.display({ id: "actions", header: () => <span className="sr-only">Actions</span>, cell: (c) => <ChaseButton row={c.row.original} /> }),
+      col.display({
+        id: "actions",
+        header: () => <span className="sr-only">Actions</span>,
+        cell: (c) => <ChaseButton row={c.row.original} />,
+      }),
     ],
     [],
   );
-  const table = useReactTable({ data: rows, columns, state: { sorting }, onSortingChange: setSorting, getCoreRowModel: getCoreRowModel(), getSortedRowModel: getSortedRowModel() });
+  const table = useReactTable({
+    data: rows,
+    columns,
+    state: { sorting },
+    onSortingChange: setSorting,
+    getCoreRowModel: getCoreRowModel(),
+    getSortedRowModel: getSortedRowModel(),
+  });
   const overdue = loaderData.counts.overdue;
   return (
     <>
@@ -91,7 +130,8 @@ export default function Referrals({ loaderData }: Route.ComponentProps) {
       {overdue ? (
         <div className="mb-6">
           <Notice tone="warning" title={`${overdue} referral${overdue === 1 ? " is" : "s are"} overdue`}>
-            The patient has not been seen within the time frame of the urgency. Chase the recipient with a reminder (at most every three days), or call them.{" "}
+            The patient has not been seen within the time frame of the urgency. Chase the recipient with a reminder (at
+            most every three days), or call them.{" "}
             <Link to="?status=overdue" className="font-semibold underline underline-offset-4">
               Show the overdue ones
             </Link>
@@ -104,7 +144,13 @@ export default function Referrals({ loaderData }: Route.ComponentProps) {
             <label htmlFor="status-filter" className="mb-1 block text-sm font-semibold">
               Show
             </label>
-            <Select id="status-filter" name="status" defaultValue={filter ?? ""} className="w-64" onChange={(e) => e.currentTarget.form?.requestSubmit()}>
+            <Select
+              id="status-filter"
+              name="status"
+              defaultValue={filter ?? ""}
+              className="w-64"
+              onChange={(e) => e.currentTarget.form?.requestSubmit()}
+            >
               <option value="">All referrals ({loaderData.rows.length})</option>
               {FILTERS.map((f) => (
                 <option key={f} value={f}>
@@ -131,9 +177,18 @@ export default function Referrals({ loaderData }: Route.ComponentProps) {
                     {hg.headers.map((h) => {
                       const sorted = h.column.getIsSorted();
                       return (
-                        <th key={h.id} scope="col" className="py-2 pr-4 font-semibold" aria-sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : undefined}>
+                        <th
+                          key={h.id}
+                          scope="col"
+                          className="py-2 pr-4 font-semibold"
+                          aria-sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : undefined}
+                        >
                           {h.column.getCanSort() && h.column.id !== "actions" ? (
-                            <button type="button" onClick={h.column.getToggleSortingHandler()} className="font-semibold hover:text-ink">
+                            <button
+                              type="button"
+                              onClick={h.column.getToggleSortingHandler()}
+                              className="font-semibold hover:text-ink"
+                            >
                               {flexRender(h.column.columnDef.header, h.getContext())}
                               <span aria-hidden="true">{sorted === "asc" ? " ▲" : sorted === "desc" ? " ▼" : ""}</span>
                             </button>

@@ -8,22 +8,30 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Textarea } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
-import { findingKey, promptValue, URGENCIES, URGENCY_LABEL, urgencyOverrideProblem, type TimeFrames, type Urgency } from "~/lib/referrals";
+import {
+  findingKey,
+  promptValue,
+  URGENCIES,
+  URGENCY_LABEL,
+  urgencyOverrideProblem,
+  type TimeFrames,
+  type Urgency,
+} from "~/lib/referrals";
 
 export const letterSchema = z
   .object({
-  intent: z.enum(["create", "save", "send"]),
-  recipientId: z.uuid({ error: "Choose a recipient from the list." }).optional(),
-  urgency: z.enum(URGENCIES, { error: "Choose the urgency." }),
-  /** The proposal shown on the page, for the check in the browser; the server checks against its own record. */
-  proposedUrgency: z.enum(URGENCIES).optional(),
-  urgencyOverrideReason: z.string().trim().max(600, "Keep the reason under 600 characters.").default(""),
-  reason: z.string().trim().max(600, "Keep the reason under 600 characters.").default(""),
-  body: z.string().trim().max(8000, "The letter text is too long (8,000 characters at most).").default(""),
-  relevantHistory: z.string().trim().max(8000, "The history is too long (8,000 characters at most).").default(""),
-  additionalFindings: z.string().trim().max(4000, "Other findings: 4,000 characters at most.").default(""),
-  selectedFindings: z.array(z.string().max(80)).max(40).default([]),
-  attachmentIds: z.array(z.uuid()).max(20, "At most 20 enclosures.").default([]),
+    intent: z.enum(["create", "save", "send"]),
+    recipientId: z.uuid({ error: "Choose a recipient from the list." }).optional(),
+    urgency: z.enum(URGENCIES, { error: "Choose the urgency." }),
+    /** The proposal shown on the page, for the check in the browser; the server checks against its own record. */
+    proposedUrgency: z.enum(URGENCIES).optional(),
+    urgencyOverrideReason: z.string().trim().max(600, "Keep the reason under 600 characters.").default(""),
+    reason: z.string().trim().max(600, "Keep the reason under 600 characters.").default(""),
+    body: z.string().trim().max(8000, "The letter text is too long (8,000 characters at most).").default(""),
+    relevantHistory: z.string().trim().max(8000, "The history is too long (8,000 characters at most).").default(""),
+    additionalFindings: z.string().trim().max(4000, "Other findings: 4,000 characters at most.").default(""),
+    selectedFindings: z.array(z.string().max(80)).max(40).default([]),
+    attachmentIds: z.array(z.uuid()).max(20, "At most 20 enclosures.").default([]),
   })
   .superRefine((v, ctx) => {
     const problem = urgencyOverrideProblem(v.urgency, v.proposedUrgency ?? null, v.urgencyOverrideReason);
@@ -31,10 +39,24 @@ export const letterSchema = z
   });
 export type LetterValues = z.infer<typeof letterSchema>;
 
-export type Prompt = { code: string; eye: string; message: string; value: number | string; rule: string; source: string };
+export type Prompt = {
+  code: string;
+  eye: string;
+  message: string;
+  value: number | string;
+  rule: string;
+  source: string;
+};
 export type Recipient = { id: string; name: string; clinic: string; email: string | null; preferredDelivery: string };
 export type Triage = { urgency: Urgency | null; reasons: { urgency: Urgency; text: string; source: string }[] };
-export type Upload = { id: string; originalName: string; kind: string; description: string; contentType: string; createdAt: string };
+export type Upload = {
+  id: string;
+  originalName: string;
+  kind: string;
+  description: string;
+  contentType: string;
+  createdAt: string;
+};
 
 const EYE = { right: "Right eye", left: "Left eye", both: "Both eyes" } as Record<string, string>;
 
@@ -82,7 +104,11 @@ export function LetterForm({
       ) : null}
       <Card title="Recipient and urgency">
         <div className="grid gap-4 sm:grid-cols-2">
-          <SelectField label="Send to" errors={fields.recipientId.errors} selectProps={getSelectProps(fields.recipientId)}>
+          <SelectField
+            label="Send to"
+            errors={fields.recipientId.errors}
+            selectProps={getSelectProps(fields.recipientId)}
+          >
             <option value="">Choose a recipient…</option>
             {recipients.map((r) => (
               <option key={r.id} value={r.id}>
@@ -105,7 +131,8 @@ export function LetterForm({
           {proposed ? (
             <>
               <p className="font-semibold">
-                Triage proposes: {URGENCY_LABEL[proposed]} (within {timeFrames[proposed]} day{timeFrames[proposed] === 1 ? "" : "s"})
+                Triage proposes: {URGENCY_LABEL[proposed]} (within {timeFrames[proposed]} day
+                {timeFrames[proposed] === 1 ? "" : "s"})
               </p>
               <ul className="mt-2 list-disc space-y-1 pl-5">
                 {triage.reasons.map((r, i) => (
@@ -115,10 +142,16 @@ export function LetterForm({
                   </li>
                 ))}
               </ul>
-              <p className="mt-2 text-xs text-muted">A proposal from the exam findings for your judgement; local referral protocols govern. Choosing a lower urgency needs your reason, which is kept with the letter.</p>
+              <p className="mt-2 text-xs text-muted">
+                A proposal from the exam findings for your judgement; local referral protocols govern. Choosing a lower
+                urgency needs your reason, which is kept with the letter.
+              </p>
             </>
           ) : (
-            <p>Triage proposes no referral from the recorded findings. Refer on your own judgement; choose the urgency yourself.</p>
+            <p>
+              Triage proposes no referral from the recorded findings. Refer on your own judgement; choose the urgency
+              yourself.
+            </p>
           )}
         </div>
         <div className="mt-4" hidden={!proposed}>
@@ -129,23 +162,33 @@ export function LetterForm({
             {...getTextareaProps(fields.urgencyOverrideReason)}
             rows={2}
             aria-invalid={fields.urgencyOverrideReason.errors?.length ? true : undefined}
-            aria-describedby={fields.urgencyOverrideReason.errors?.length ? `${fields.urgencyOverrideReason.id}-error` : undefined}
+            aria-describedby={
+              fields.urgencyOverrideReason.errors?.length ? `${fields.urgencyOverrideReason.id}-error` : undefined
+            }
           />
           <ErrorList id={`${fields.urgencyOverrideReason.id}-error`} errors={fields.urgencyOverrideReason.errors} />
         </div>
         {chosen && chosen.preferredDelivery !== "email" ? (
           <p className="mt-3 text-sm text-muted">
-            {chosen.name} prefers letters by {chosen.preferredDelivery}. Dioptra e-mails the letter; print the PDF as well if needed.
+            {chosen.name} prefers letters by {chosen.preferredDelivery}. Dioptra e-mails the letter; print the PDF as
+            well if needed.
           </p>
         ) : null}
-        {recipients.length === 0 ? <p className="mt-3 text-sm text-muted">The directory is empty: the practice owner adds recipients in Settings → Referral recipients.</p> : null}
+        {recipients.length === 0 ? (
+          <p className="mt-3 text-sm text-muted">
+            The directory is empty: the practice owner adds recipients in Settings → Referral recipients.
+          </p>
+        ) : null}
       </Card>
 
       <Card title="Findings from the exam">
         <p className="mb-3 text-sm text-muted">
-          Flagged from the exam as prompts for your judgement, not decisions. Keep those that lead you to refer; the letter shows each with its value, in plain words. Check the measurements before referring.
+          Flagged from the exam as prompts for your judgement, not decisions. Keep those that lead you to refer; the
+          letter shows each with its value, in plain words. Check the measurements before referring.
         </p>
-        {prompts.length === 0 ? <p className="mb-3 text-sm">No finding of this exam was flagged. Describe what leads you to refer below.</p> : null}
+        {prompts.length === 0 ? (
+          <p className="mb-3 text-sm">No finding of this exam was flagged. Describe what leads you to refer below.</p>
+        ) : null}
         <fieldset>
           <legend className="sr-only">Findings to include</legend>
           <ul className="space-y-3">
@@ -154,7 +197,13 @@ export function LetterForm({
               return (
                 <li key={key} className="rounded-md border border-line p-3">
                   <label className="flex items-start gap-3">
-                    <input type="checkbox" name={fields.selectedFindings.name} value={key} defaultChecked={selected.has(key)} className="mt-1 size-4" />
+                    <input
+                      type="checkbox"
+                      name={fields.selectedFindings.name}
+                      value={key}
+                      defaultChecked={selected.has(key)}
+                      className="mt-1 size-4"
+                    />
                     <span>
                       <span className="block font-semibold">{p.message}</span>
                       <span className="block text-sm">
@@ -175,7 +224,14 @@ export function LetterForm({
           <label htmlFor={fields.additionalFindings.id} className="mb-1 block text-sm font-semibold">
             Other findings (optional)
           </label>
-          <Textarea {...getTextareaProps(fields.additionalFindings)} rows={3} aria-invalid={fields.additionalFindings.errors?.length ? true : undefined} aria-describedby={fields.additionalFindings.errors?.length ? `${fields.additionalFindings.id}-error` : undefined} />
+          <Textarea
+            {...getTextareaProps(fields.additionalFindings)}
+            rows={3}
+            aria-invalid={fields.additionalFindings.errors?.length ? true : undefined}
+            aria-describedby={
+              fields.additionalFindings.errors?.length ? `${fields.additionalFindings.id}-error` : undefined
+            }
+          />
           <ErrorList id={`${fields.additionalFindings.id}-error`} errors={fields.additionalFindings.errors} />
         </div>
       </Card>
@@ -186,7 +242,12 @@ export function LetterForm({
             <label htmlFor={fields.reason.id} className="mb-1 block text-sm font-semibold">
               Reason for referral
             </label>
-            <Textarea {...getTextareaProps(fields.reason)} rows={2} aria-invalid={fields.reason.errors?.length ? true : undefined} aria-describedby={fields.reason.errors?.length ? `${fields.reason.id}-error` : undefined} />
+            <Textarea
+              {...getTextareaProps(fields.reason)}
+              rows={2}
+              aria-invalid={fields.reason.errors?.length ? true : undefined}
+              aria-describedby={fields.reason.errors?.length ? `${fields.reason.id}-error` : undefined}
+            />
             <ErrorList id={`${fields.reason.id}-error`} errors={fields.reason.errors} />
           </div>
           <div>
@@ -208,15 +269,25 @@ export function LetterForm({
 
       <Card title="Enclosures">
         {uploads.length === 0 ? (
-          <p className="text-sm text-muted">This patient has no uploads. Field printouts and photographs uploaded to the chart can be enclosed here.</p>
+          <p className="text-sm text-muted">
+            This patient has no uploads. Field printouts and photographs uploaded to the chart can be enclosed here.
+          </p>
         ) : (
           <fieldset>
-            <legend className="mb-2 text-sm text-muted">PDFs and JPEG/PNG images are appended to the letter; other files are listed.</legend>
+            <legend className="mb-2 text-sm text-muted">
+              PDFs and JPEG/PNG images are appended to the letter; other files are listed.
+            </legend>
             <ul className="space-y-2">
               {uploads.map((u) => (
                 <li key={u.id}>
                   <label className="flex items-start gap-3">
-                    <input type="checkbox" name={fields.attachmentIds.name} value={u.id} defaultChecked={attached.has(u.id)} className="mt-1 size-4" />
+                    <input
+                      type="checkbox"
+                      name={fields.attachmentIds.name}
+                      value={u.id}
+                      defaultChecked={attached.has(u.id)}
+                      className="mt-1 size-4"
+                    />
                     <span>
                       <span className="font-semibold">{u.originalName}</span>
                       <span className="block text-sm text-muted">

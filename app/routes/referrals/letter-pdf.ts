@@ -8,7 +8,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, CLINICAL_ROLES);
   const r = await loadReferral(params.referralId);
   const pdf = await renderLetter(r);
-  await audit({ action: "referral.letter_viewed", actorUserId: user.id, entityType: "referral", entityId: r.referral.id, patientId: r.patient.id, request });
+  await audit({
+    action: "referral.letter_viewed",
+    actorUserId: user.id,
+    entityType: "referral",
+    entityId: r.referral.id,
+    patientId: r.patient.id,
+    request,
+  });
   const download = new URL(request.url).searchParams.get("download") === "1";
   return new Response(Buffer.from(pdf), {
     headers: {

@@ -3,7 +3,18 @@ import { and, asc, desc, eq } from "drizzle-orm";
 import { data, Link } from "react-router";
 import type { Route } from "./+types/new";
 import { draftValuesOf, LetterForm, letterSchema } from "./letter-form";
-import { candidateExams, createDraft, formatDate, isUuid, practice, prefill, ReferralError, referableExam, snapshotOf, triageProposal } from "~/models/referrals/referrals.server";
+import {
+  candidateExams,
+  createDraft,
+  formatDate,
+  isUuid,
+  practice,
+  prefill,
+  ReferralError,
+  referableExam,
+  snapshotOf,
+  triageProposal,
+} from "~/models/referrals/referrals.server";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
@@ -24,29 +35,77 @@ export async function loader({ request }: Route.LoaderArgs) {
     const candidates = await candidateExams();
     return {
       kind: "choose" as const,
-      candidates: candidates.map((c) => ({ id: c.id, patientId: c.patientId, patient: `${c.firstName} ${c.lastName}`, dateOfBirth: c.dateOfBirth, examinedOn: formatDate(c.examinedAt, p.timeZone), prompts: c.prompts })),
+      candidates: candidates.map((c) => ({
+        id: c.id,
+        patientId: c.patientId,
+        patient: `${c.firstName} ${c.lastName}`,
+        dateOfBirth: c.dateOfBirth,
+        examinedOn: formatDate(c.examinedAt, p.timeZone),
+        prompts: c.prompts,
+      })),
     };
   }
   if (!isUuid(examId)) throw data({ error: "Not found." }, { status: 404 });
   const exam = await referableExam(examId);
   const [patient] = await db
-    .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth, medications: patients.medications, allergies: patients.allergies })
+    .select({
+      id: patients.id,
+      firstName: patients.firstName,
+      lastName: patients.lastName,
+      dateOfBirth: patients.dateOfBirth,
+      medications: patients.medications,
+      allergies: patients.allergies,
+    })
     .from(patients)
     .where(eq(patients.id, exam.patientId));
-  await audit({ action: "referral.compose_opened", actorUserId: user.id, entityType: "exam", entityId: exam.id, patientId: exam.patientId, request });
+  await audit({
+    action: "referral.compose_opened",
+    actorUserId: user.id,
+    entityType: "exam",
+    entityId: exam.id,
+    patientId: exam.patientId,
+    request,
+  });
   const examUrl = `/patients/${exam.patientId}/exams/${exam.id}`;
-  const patientInfo = { id: patient!.id, name: `${patient!.firstName} ${patient!.lastName}`, dateOfBirth: patient!.dateOfBirth, examinedOn: formatDate(exam.examinedAt, p.timeZone), examUrl };
+  const patientInfo = {
+    id: patient!.id,
+    name: `${patient!.firstName} ${patient!.lastName}`,
+    dateOfBirth: patient!.dateOfBirth,
+    examinedOn: formatDate(exam.examinedAt, p.timeZone),
+    examUrl,
+  };
   if (exam.status !== "signed") return { kind: "unsigned" as const, patient: patientInfo };
   const snapshot = await snapshotOf(exam);
   const filled = prefill(snapshot, patient!);
   const [recipients, uploads, existing] = await Promise.all([
-    db.select({ id: referralRecipients.id, name: referralRecipients.name, clinic: referralRecipients.clinic, email: referralRecipients.email, preferredDelivery: referralRecipients.preferredDelivery }).from(referralRecipients).where(eq(referralRecipients.active, true)).orderBy(asc(referralRecipients.name)),
     db
-      .select({ id: documents.id, originalName: documents.originalName, kind: documents.kind, description: documents.description, contentType: documents.contentType, createdAt: documents.createdAt })
+      .select({
+        id: referralRecipients.id,
+        name: referralRecipients.name,
+        clinic: referralRecipients.clinic,
+        email: referralRecipients.email,
+        preferredDelivery: referralRecipients.preferredDelivery,
+      })
+      .from(referralRecipients)
+      .where(eq(referralRecipients.active, true))
+      .orderBy(asc(referralRecipients.name)),
+    db
+      .select({
+        id: documents.id,
+        originalName: documents.originalName,
+        kind: documents.kind,
+        description: documents.description,
+        contentType: documents.contentType,
+        createdAt: documents.createdAt,
+      })
       .from(documents)
       .where(eq(documents.patientId, exam.patientId))
       .orderBy(desc(documents.createdAt)),
-    db.select({ id: referrals.id, status: referrals.status }).from(referrals).where(and(eq(referrals.examId, exam.id))).orderBy(desc(referrals.createdAt)),
+    db
+      .select({ id: referrals.id, status: referrals.status })
+      .from(referrals)
+      .where(and(eq(referrals.examId, exam.id)))
+      .orderBy(desc(referrals.createdAt)),
   ]);
   // Field printouts of this exam are enclosed by default.
   const attachmentIds = uploads.filter((u) => u.kind === "field_printout").map((u) => u.id);
@@ -59,7 +118,15 @@ export async function loader({ request }: Route.LoaderArgs) {
     uploads: uploads.map((u) => ({ ...u, createdAt: u.createdAt.toISOString() })),
     timeFrames: timeFramesOf(p),
     existing,
-    defaults: { urgency: filled.urgency, urgencyOverrideReason: "", reason: filled.reason, body: filled.body, relevantHistory: filled.history, selectedFindings: filled.selectedFindings, attachmentIds },
+    defaults: {
+      urgency: filled.urgency,
+      urgencyOverrideReason: "",
+      reason: filled.reason,
+      body: filled.body,
+      relevantHistory: filled.history,
+      selectedFindings: filled.selectedFindings,
+      attachmentIds,
+    },
   };
 }
 
@@ -70,7 +137,11 @@ export async function action({ request }: Route.ActionArgs) {
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
   try {
     const id = await createDraft(user, examId ?? "", draftValuesOf(submission.value), request);
-    return redirectWithToast(`/referrals/${id}?preview=1#preview`, { kind: "success", title: "Draft saved", description: "Check the letter in the preview, then send it." });
+    return redirectWithToast(`/referrals/${id}?preview=1#preview`, {
+      kind: "success",
+      title: "Draft saved",
+      description: "Check the letter in the preview, then send it.",
+    });
   } catch (error) {
     if (error instanceof ReferralError) {
       const { "": form, ...fieldErrors } = error.errors;
@@ -84,10 +155,14 @@ export default function NewReferral({ loaderData, actionData }: Route.ComponentP
   if (loaderData.kind === "choose") {
     return (
       <>
-        <PageHeader title="New referral" description="Referrals start from a signed exam. These signed exams have findings that were flagged and no referral yet." />
+        <PageHeader
+          title="New referral"
+          description="Referrals start from a signed exam. These signed exams have findings that were flagged and no referral yet."
+        />
         {loaderData.candidates.length === 0 ? (
           <Notice tone="info" title="No exams waiting">
-            No signed exam with flagged findings is waiting for a referral. To refer from any other exam, open it from the patient's chart and choose “Refer”.
+            No signed exam with flagged findings is waiting for a referral. To refer from any other exam, open it from
+            the patient's chart and choose “Refer”.
           </Notice>
         ) : (
           <ul className="space-y-3">
@@ -121,9 +196,13 @@ export default function NewReferral({ loaderData, actionData }: Route.ComponentP
   if (loaderData.kind === "unsigned") {
     return (
       <>
-        <PageHeader title={`Referral for ${loaderData.patient.name}`} description={`Exam of ${loaderData.patient.examinedOn}`} />
+        <PageHeader
+          title={`Referral for ${loaderData.patient.name}`}
+          description={`Exam of ${loaderData.patient.examinedOn}`}
+        />
         <Notice tone="warning" title="Sign the exam first">
-          This exam is not signed. A referral carries only signed findings, so the letter cannot be drafted until the exam is signed.{" "}
+          This exam is not signed. A referral carries only signed findings, so the letter cannot be drafted until the
+          exam is signed.{" "}
           <Link to={loaderData.patient.examUrl} className="font-semibold underline underline-offset-4">
             Open the exam to sign it
           </Link>
@@ -139,7 +218,10 @@ export default function NewReferral({ loaderData, actionData }: Route.ComponentP
         description={
           <>
             Born {loaderData.patient.dateOfBirth} · from the signed exam of {loaderData.patient.examinedOn} ·{" "}
-            <Link to={loaderData.patient.examUrl} className="font-semibold text-accent-700 underline underline-offset-4">
+            <Link
+              to={loaderData.patient.examUrl}
+              className="font-semibold text-accent-700 underline underline-offset-4"
+            >
               open the exam
             </Link>
           </>
@@ -156,7 +238,16 @@ export default function NewReferral({ loaderData, actionData }: Route.ComponentP
           </Notice>
         </div>
       ) : null}
-      <LetterForm mode="create" triage={loaderData.triage} defaults={loaderData.defaults} prompts={loaderData.prompts} recipients={loaderData.recipients} uploads={loaderData.uploads} timeFrames={loaderData.timeFrames} lastResult={actionData} />
+      <LetterForm
+        mode="create"
+        triage={loaderData.triage}
+        defaults={loaderData.defaults}
+        prompts={loaderData.prompts}
+        recipients={loaderData.recipients}
+        uploads={loaderData.uploads}
+        timeFrames={loaderData.timeFrames}
+        lastResult={actionData}
+      />
     </>
   );
 }

@@ -23,8 +23,27 @@ import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
-import { documents, referralEvents, referralLinks, referralMessages, referralRecipients, referralReplies, users } from "~/db/schema";
-import { canChase, displayStatus, dueBy, findingKey, localDate, promptValue, STATUS_LABEL, STATUS_TONE, timeFramesOf, URGENCY_LABEL } from "~/lib/referrals";
+import {
+  documents,
+  referralEvents,
+  referralLinks,
+  referralMessages,
+  referralRecipients,
+  referralReplies,
+  users,
+} from "~/db/schema";
+import {
+  canChase,
+  displayStatus,
+  dueBy,
+  findingKey,
+  localDate,
+  promptValue,
+  STATUS_LABEL,
+  STATUS_TONE,
+  timeFramesOf,
+  URGENCY_LABEL,
+} from "~/lib/referrals";
 import { audit } from "~/utils/audit.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
@@ -40,7 +59,11 @@ const EVENT_LABEL: Record<string, string> = {
   chased: "Reminder sent to the recipient",
   withdrawn: "Referral withdrawn",
 };
-const MESSAGE_LABEL = { letter: "Referral letter", chase: "Reminder", reply_notice: "Reply notice to the optometrist" } as const;
+const MESSAGE_LABEL = {
+  letter: "Referral letter",
+  chase: "Reminder",
+  reply_notice: "Reply notice to the optometrist",
+} as const;
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
@@ -49,23 +72,46 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const clinical = user.role !== "receptionist";
   const now = new Date();
   const [messages, events, replies, links] = await Promise.all([
-    db.select().from(referralMessages).where(eq(referralMessages.referralId, r.referral.id)).orderBy(desc(referralMessages.createdAt)),
     db
-      .select({ kind: referralEvents.kind, at: referralEvents.at, actorName: referralEvents.actorName, userName: users.name, detail: referralEvents.detail })
+      .select()
+      .from(referralMessages)
+      .where(eq(referralMessages.referralId, r.referral.id))
+      .orderBy(desc(referralMessages.createdAt)),
+    db
+      .select({
+        kind: referralEvents.kind,
+        at: referralEvents.at,
+        actorName: referralEvents.actorName,
+        userName: users.name,
+        detail: referralEvents.detail,
+      })
       .from(referralEvents)
       .leftJoin(users, eq(users.id, referralEvents.actorUserId))
       .where(eq(referralEvents.referralId, r.referral.id))
       .orderBy(asc(referralEvents.at), asc(referralEvents.id)),
     clinical
       ? db
-          .select({ id: referralReplies.id, authorName: referralReplies.authorName, body: referralReplies.body, fileName: referralReplies.fileName, createdAt: referralReplies.createdAt, readAt: referralReplies.readAt })
+          .select({
+            id: referralReplies.id,
+            authorName: referralReplies.authorName,
+            body: referralReplies.body,
+            fileName: referralReplies.fileName,
+            createdAt: referralReplies.createdAt,
+            readAt: referralReplies.readAt,
+          })
           .from(referralReplies)
           .where(eq(referralReplies.referralId, r.referral.id))
           .orderBy(asc(referralReplies.createdAt))
       : Promise.resolve([]),
-    db.select().from(referralLinks).where(and(eq(referralLinks.referralId, r.referral.id), isNull(referralLinks.revokedAt))).orderBy(desc(referralLinks.createdAt)).limit(1),
+    db
+      .select()
+      .from(referralLinks)
+      .where(and(eq(referralLinks.referralId, r.referral.id), isNull(referralLinks.revokedAt)))
+      .orderBy(desc(referralLinks.createdAt))
+      .limit(1),
   ]);
-  const when = (d: Date) => formatDate(d, p.timeZone, { day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit" });
+  const when = (d: Date) =>
+    formatDate(d, p.timeZone, { day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit" });
   const status = displayStatus(r.referral, now, p.timeZone);
   const due = dueBy(r.referral);
   const summary = {
@@ -76,7 +122,11 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     urgency: URGENCY_LABEL[r.referral.urgency],
     proposedUrgency: r.referral.proposedUrgency ? URGENCY_LABEL[r.referral.proposedUrgency] : null,
     urgencyOverrideReason: clinical ? r.referral.urgencyOverrideReason : null,
-    patient: { id: r.patient.id, name: `${r.patient.firstName} ${r.patient.lastName}`, dateOfBirth: r.patient.dateOfBirth },
+    patient: {
+      id: r.patient.id,
+      name: `${r.patient.firstName} ${r.patient.lastName}`,
+      dateOfBirth: r.patient.dateOfBirth,
+    },
     recipient: r.recipient ? { name: r.recipient.name, clinic: r.recipient.clinic, email: r.recipient.email } : null,
     author: r.author.name,
     sentAt: r.referral.sentAt ? when(r.referral.sentAt) : null,
@@ -85,16 +135,45 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     acknowledgedBy: r.referral.acknowledgedBy,
     appointmentOn: r.referral.appointmentOn,
     canChase: canChase(r.referral, now, p.timeZone),
-    link: links[0] ? { expiresOn: formatDate(links[0].expiresAt, p.timeZone), lastOpened: links[0].lastOpenedAt ? when(links[0].lastOpenedAt) : null } : null,
-    messages: messages.map((m) => ({ id: m.id, kind: MESSAGE_LABEL[m.kind], status: m.status, to: m.recipient, attempts: m.attempts, error: m.lastError, at: when(m.sentAt ?? m.createdAt) })),
-    events: events.map((e) => ({ label: EVENT_LABEL[e.kind] ?? e.kind, at: when(e.at), by: e.userName ?? e.actorName ?? "", date: clinical && typeof e.detail?.date === "string" ? e.detail.date : null })),
+    link: links[0]
+      ? {
+          expiresOn: formatDate(links[0].expiresAt, p.timeZone),
+          lastOpened: links[0].lastOpenedAt ? when(links[0].lastOpenedAt) : null,
+        }
+      : null,
+    messages: messages.map((m) => ({
+      id: m.id,
+      kind: MESSAGE_LABEL[m.kind],
+      status: m.status,
+      to: m.recipient,
+      attempts: m.attempts,
+      error: m.lastError,
+      at: when(m.sentAt ?? m.createdAt),
+    })),
+    events: events.map((e) => ({
+      label: EVENT_LABEL[e.kind] ?? e.kind,
+      at: when(e.at),
+      by: e.userName ?? e.actorName ?? "",
+      date: clinical && typeof e.detail?.date === "string" ? e.detail.date : null,
+    })),
   };
   if (!clinical) return { clinical: false as const, summary };
 
-  await audit({ action: "referral.read", actorUserId: user.id, entityType: "referral", entityId: r.referral.id, patientId: r.patient.id, request });
+  await audit({
+    action: "referral.read",
+    actorUserId: user.id,
+    entityType: "referral",
+    entityId: r.referral.id,
+    patientId: r.patient.id,
+    request,
+  });
   // Replies count as read once a clinician has opened the referral.
   const unread = new Set(replies.filter((x) => !x.readAt).map((x) => x.id));
-  if (unread.size) await db.update(referralReplies).set({ readAt: now, readById: user.id }).where(and(eq(referralReplies.referralId, r.referral.id), isNull(referralReplies.readAt)));
+  if (unread.size)
+    await db
+      .update(referralReplies)
+      .set({ readAt: now, readById: user.id })
+      .where(and(eq(referralReplies.referralId, r.referral.id), isNull(referralReplies.readAt)));
   const selected = new Set(r.referral.selectedFindings);
   const base = {
     clinical: true as const,
@@ -110,16 +189,35 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       draft: null,
       letter: {
         reason: r.referral.reason,
-        findings: r.referral.snapshot.prompts.filter((x) => selected.has(findingKey(x))).map((x) => ({ message: x.message, value: promptValue(x), rule: x.rule })),
+        findings: r.referral.snapshot.prompts
+          .filter((x) => selected.has(findingKey(x)))
+          .map((x) => ({ message: x.message, value: promptValue(x), rule: x.rule })),
         additionalFindings: r.referral.additionalFindings,
         attachments: r.attachments.map((a) => a.originalName),
       },
     };
   }
   const [recipients, uploads] = await Promise.all([
-    db.select({ id: referralRecipients.id, name: referralRecipients.name, clinic: referralRecipients.clinic, email: referralRecipients.email, preferredDelivery: referralRecipients.preferredDelivery }).from(referralRecipients).where(eq(referralRecipients.active, true)).orderBy(asc(referralRecipients.name)),
     db
-      .select({ id: documents.id, originalName: documents.originalName, kind: documents.kind, description: documents.description, contentType: documents.contentType, createdAt: documents.createdAt })
+      .select({
+        id: referralRecipients.id,
+        name: referralRecipients.name,
+        clinic: referralRecipients.clinic,
+        email: referralRecipients.email,
+        preferredDelivery: referralRecipients.preferredDelivery,
+      })
+      .from(referralRecipients)
+      .where(eq(referralRecipients.active, true))
+      .orderBy(asc(referralRecipients.name)),
+    db
+      .select({
+        id: documents.id,
+        originalName: documents.originalName,
+        kind: documents.kind,
+        description: documents.description,
+        contentType: documents.contentType,
+        createdAt: documents.createdAt,
+      })
       .from(documents)
       .where(eq(documents.patientId, r.patient.id))
       .orderBy(desc(documents.createdAt)),
@@ -158,7 +256,10 @@ export async function action({ request, params }: Route.ActionArgs) {
   const formData = await request.formData();
   const intent = String(formData.get("intent") ?? "");
   const here = `/referrals/${referral.id}`;
-  const fail = (error: unknown, reply: (opts: { formErrors?: string[]; fieldErrors?: Record<string, string[]> }) => unknown) => {
+  const fail = (
+    error: unknown,
+    reply: (opts: { formErrors?: string[]; fieldErrors?: Record<string, string[]> }) => unknown,
+  ) => {
     if (error instanceof ReferralError) {
       const { "": form, ...fieldErrors } = error.errors;
       return data(reply({ formErrors: form, fieldErrors }), { status: error.status });
@@ -166,24 +267,39 @@ export async function action({ request, params }: Route.ActionArgs) {
     throw error;
   };
   // The front desk may chase an overdue referral (no clinical content); everything else is clinical.
-  if (user.role === "receptionist" && intent !== "chase") throw data({ error: "Your role does not give access to this page." }, { status: 403 });
+  if (user.role === "receptionist" && intent !== "chase")
+    throw data({ error: "Your role does not give access to this page." }, { status: 403 });
 
   if (intent === "save" || intent === "send") {
     const submission = parseWithZod(formData, { schema: letterSchema });
     if (submission.status !== "success") return data(submission.reply(), { status: 400 });
     try {
       await updateDraft(user, referral.id, draftValuesOf(submission.value), request);
-      if (intent === "save") return redirectWithToast(`${here}?preview=1#preview`, { kind: "success", title: "Draft saved" });
+      if (intent === "save")
+        return redirectWithToast(`${here}?preview=1#preview`, { kind: "success", title: "Draft saved" });
       await sendReferral(user, referral.id, request);
     } catch (error) {
       return fail(error, (o) => submission.reply(o));
     }
-    const [m] = await db.select({ status: referralMessages.status, error: referralMessages.lastError }).from(referralMessages).where(eq(referralMessages.referralId, referral.id)).orderBy(desc(referralMessages.createdAt)).limit(1);
+    const [m] = await db
+      .select({ status: referralMessages.status, error: referralMessages.lastError })
+      .from(referralMessages)
+      .where(eq(referralMessages.referralId, referral.id))
+      .orderBy(desc(referralMessages.createdAt))
+      .limit(1);
     return redirectWithToast(
       here,
       m?.status === "sent"
-        ? { kind: "success", title: "Referral sent", description: "The letter and the recipient's link have been e-mailed." }
-        : { kind: "warning", title: "Referral queued", description: `The e-mail could not be sent yet (${m?.error ?? "relay not reached"}); it stays queued and is retried automatically.` },
+        ? {
+            kind: "success",
+            title: "Referral sent",
+            description: "The letter and the recipient's link have been e-mailed.",
+          }
+        : {
+            kind: "warning",
+            title: "Referral queued",
+            description: `The e-mail could not be sent yet (${m?.error ?? "relay not reached"}); it stays queued and is retried automatically.`,
+          },
     );
   }
   if (intent === "retry") {
@@ -197,7 +313,8 @@ export async function action({ request, params }: Route.ActionArgs) {
     return redirectWithToast(here, { kind: "info", title: "E-mail queued again" });
   }
   const submission = parseWithZod(formData, { schema: simpleSchema });
-  if (submission.status !== "success") return data(submission.reply({ formErrors: ["Unknown request."] }), { status: 400 });
+  if (submission.status !== "success")
+    return data(submission.reply({ formErrors: ["Unknown request."] }), { status: 400 });
   try {
     if (submission.value.intent === "discard") {
       await discardDraft(user, referral.id, request);
@@ -205,7 +322,11 @@ export async function action({ request, params }: Route.ActionArgs) {
     }
     if (submission.value.intent === "withdraw") {
       await withdrawReferral(user, referral.id, request);
-      return redirectWithToast(here, { kind: "success", title: "Referral withdrawn", description: "The recipient's link no longer works." });
+      return redirectWithToast(here, {
+        kind: "success",
+        title: "Referral withdrawn",
+        description: "The recipient's link no longer works.",
+      });
     }
     await chaseReferral(user, referral.id, request);
     return redirectWithToast(here, { kind: "success", title: "Reminder sent to the recipient" });
@@ -228,10 +349,19 @@ function StatusPanel({ s, clinical }: { s: Summary; clinical: boolean }) {
         <dt className="text-muted">Urgency</dt>
         <dd>
           {s.urgency}
-          {s.proposedUrgency && s.proposedUrgency !== s.urgency ? <span className="block text-muted">Triage proposed {s.proposedUrgency.toLowerCase()}{s.urgencyOverrideReason ? `; reason for the change: ${s.urgencyOverrideReason}` : ""}</span> : null}
+          {s.proposedUrgency && s.proposedUrgency !== s.urgency ? (
+            <span className="block text-muted">
+              Triage proposed {s.proposedUrgency.toLowerCase()}
+              {s.urgencyOverrideReason ? `; reason for the change: ${s.urgencyOverrideReason}` : ""}
+            </span>
+          ) : null}
         </dd>
         <dt className="text-muted">Recipient</dt>
-        <dd>{s.recipient ? `${s.recipient.name}${s.recipient.clinic ? `, ${s.recipient.clinic}` : ""}${s.recipient.email ? ` <${s.recipient.email}>` : ""}` : "Not chosen"}</dd>
+        <dd>
+          {s.recipient
+            ? `${s.recipient.name}${s.recipient.clinic ? `, ${s.recipient.clinic}` : ""}${s.recipient.email ? ` <${s.recipient.email}>` : ""}`
+            : "Not chosen"}
+        </dd>
         <dt className="text-muted">Written by</dt>
         <dd>{s.author}</dd>
         <dt className="text-muted">Sent</dt>
@@ -239,7 +369,9 @@ function StatusPanel({ s, clinical }: { s: Summary; clinical: boolean }) {
         <dt className="text-muted">To be seen by</dt>
         <dd>{s.dueOn ?? "—"}</dd>
         <dt className="text-muted">Acknowledged</dt>
-        <dd>{s.acknowledgedAt ? `${s.acknowledgedAt}${s.acknowledgedBy ? ` by ${s.acknowledgedBy}` : ""}` : "Not yet"}</dd>
+        <dd>
+          {s.acknowledgedAt ? `${s.acknowledgedAt}${s.acknowledgedBy ? ` by ${s.acknowledgedBy}` : ""}` : "Not yet"}
+        </dd>
         <dt className="text-muted">Appointment</dt>
         <dd>{s.appointmentOn ?? "Not given"}</dd>
         {s.link ? (
@@ -261,7 +393,12 @@ function StatusPanel({ s, clinical }: { s: Summary; clinical: boolean }) {
           </Form>
         ) : null}
         {clinical && s.stored !== "draft" && s.stored !== "withdrawn" && s.stored !== "replied" ? (
-          <Form method="post" onSubmit={(e) => (!confirm("Withdraw this referral? The recipient's link stops working.") ? e.preventDefault() : undefined)}>
+          <Form
+            method="post"
+            onSubmit={(e) =>
+              !confirm("Withdraw this referral? The recipient's link stops working.") ? e.preventDefault() : undefined
+            }
+          >
             <Button type="submit" name="intent" value="withdraw" variant="danger">
               Withdraw referral
             </Button>
@@ -289,7 +426,13 @@ function Delivery({ s }: { s: Summary }) {
               {m.error && m.status !== "sent" ? <p className="text-red-800">Last error: {m.error}</p> : null}
             </div>
             <div className="flex items-center gap-2">
-              {m.status === "sent" ? <StatusBadge tone="success">Sent</StatusBadge> : m.status === "queued" ? <StatusBadge tone="warning">Queued, retrying</StatusBadge> : <StatusBadge tone="error">Failed</StatusBadge>}
+              {m.status === "sent" ? (
+                <StatusBadge tone="success">Sent</StatusBadge>
+              ) : m.status === "queued" ? (
+                <StatusBadge tone="warning">Queued, retrying</StatusBadge>
+              ) : (
+                <StatusBadge tone="error">Failed</StatusBadge>
+              )}
               {m.status === "failed" ? (
                 <Form method="post">
                   <input type="hidden" name="messageId" value={m.id} />
@@ -328,7 +471,10 @@ export default function ReferralPage({ loaderData, actionData }: Route.Component
   if (!loaderData.clinical) {
     return (
       <>
-        <PageHeader title={`Referral ${s.reference}`} description={`${s.patient.name} · born ${s.patient.dateOfBirth}`} />
+        <PageHeader
+          title={`Referral ${s.reference}`}
+          description={`${s.patient.name} · born ${s.patient.dateOfBirth}`}
+        />
         <div className="mb-6">
           <Notice tone="info" title="Status only">
             The letter and its findings are clinical notes, shown to optometrists only.
@@ -358,7 +504,10 @@ export default function ReferralPage({ loaderData, actionData }: Route.Component
         title={`Referral ${s.reference}`}
         description={
           <>
-            <Link to={`/patients/${s.patient.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
+            <Link
+              to={`/patients/${s.patient.id}`}
+              className="font-semibold text-accent-700 underline underline-offset-4"
+            >
               {s.patient.name}
             </Link>{" "}
             · born {s.patient.dateOfBirth} ·{" "}
@@ -424,8 +573,12 @@ export default function ReferralPage({ loaderData, actionData }: Route.Component
                   </li>
                 ))}
               </ul>
-              {loaderData.letter.additionalFindings ? <p className="mb-3 whitespace-pre-wrap">{loaderData.letter.additionalFindings}</p> : null}
-              {loaderData.letter.attachments.length ? <p className="text-sm text-muted">Enclosures: {loaderData.letter.attachments.join(", ")}</p> : null}
+              {loaderData.letter.additionalFindings ? (
+                <p className="mb-3 whitespace-pre-wrap">{loaderData.letter.additionalFindings}</p>
+              ) : null}
+              {loaderData.letter.attachments.length ? (
+                <p className="text-sm text-muted">Enclosures: {loaderData.letter.attachments.join(", ")}</p>
+              ) : null}
             </Card>
           ) : null}
           {loaderData.replies.length ? (
@@ -439,7 +592,10 @@ export default function ReferralPage({ loaderData, actionData }: Route.Component
                     </p>
                     {x.body ? <p className="mt-2 whitespace-pre-wrap">{x.body}</p> : null}
                     {x.fileName ? (
-                      <a href={`/referrals/${s.id}/replies/${x.id}/file`} className="mt-2 inline-block font-semibold text-accent-700 underline underline-offset-4">
+                      <a
+                        href={`/referrals/${s.id}/replies/${x.id}/file`}
+                        className="mt-2 inline-block font-semibold text-accent-700 underline underline-offset-4"
+                      >
                         Consult letter: {x.fileName}
                       </a>
                     ) : null}
@@ -449,11 +605,20 @@ export default function ReferralPage({ loaderData, actionData }: Route.Component
             </Card>
           ) : null}
           {loaderData.preview ? (
-            <section id="preview" aria-label="Letter preview" className="rounded-lg border border-line bg-white p-2 shadow-sm">
+            <section
+              id="preview"
+              aria-label="Letter preview"
+              className="rounded-lg border border-line bg-white p-2 shadow-sm"
+            >
               <iframe title="Referral letter preview (PDF)" src={pdfUrl} className="h-[56rem] w-full rounded" />
               <p className="p-2 text-sm text-muted">
                 If the preview does not show,{" "}
-                <a href={pdfUrl} target="_blank" rel="noreferrer" className="font-semibold text-accent-700 underline underline-offset-4">
+                <a
+                  href={pdfUrl}
+                  target="_blank"
+                  rel="noreferrer"
+                  className="font-semibold text-accent-700 underline underline-offset-4"
+                >
                   open the PDF
                 </a>
                 .
@@ -471,7 +636,9 @@ export default function ReferralPage({ loaderData, actionData }: Route.Component
   );
 }
 
-export const meta: Route.MetaFunction = ({ data }) => [{ title: `Referral ${data?.summary.reference ?? ""} · Dioptra` }];
+export const meta: Route.MetaFunction = ({ data }) => [
+  { title: `Referral ${data?.summary.reference ?? ""} · Dioptra` },
+];
 
 export function ErrorBoundary() {
   return <GeneralErrorBoundary />;

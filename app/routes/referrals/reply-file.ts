@@ -19,7 +19,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   if (!reply?.fileKey || !reply.fileType) throw data({ error: "Not found." }, { status: 404 });
   const file = await openStored(reply.fileKey);
   if (!file) throw data({ error: "The file is missing from storage." }, { status: 404 });
-  await audit({ action: "referral.reply_file_viewed", actorUserId: user.id, entityType: "referral_reply", entityId: reply.id, patientId: reply.patientId, request });
+  await audit({
+    action: "referral.reply_file_viewed",
+    actorUserId: user.id,
+    entityType: "referral_reply",
+    entityId: reply.id,
+    patientId: reply.patientId,
+    request,
+  });
   const safeName = (reply.fileName ?? "consult-letter").replace(/[^\w.\- ]+/g, "_");
   return new Response(file.body, {
     headers: {

@@ -9,12 +9,26 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const check = await verifyLink(params.token);
   if (!check.ok) {
     await linkRefusal(check, request, "letter");
-    return new Response("This link is not valid. Contact the practice that sent the referral.", { status: check.reason === "expired" ? 410 : 404, headers: { "content-type": "text/plain; charset=utf-8" } });
+    return new Response("This link is not valid. Contact the practice that sent the referral.", {
+      status: check.reason === "expired" ? 410 : 404,
+      headers: { "content-type": "text/plain; charset=utf-8" },
+    });
   }
   const r = await loadReferral(check.referralId);
-  if (r.referral.status === "withdrawn" || r.referral.status === "draft") return new Response("This referral is no longer available.", { status: 410, headers: { "content-type": "text/plain; charset=utf-8" } });
+  if (r.referral.status === "withdrawn" || r.referral.status === "draft")
+    return new Response("This referral is no longer available.", {
+      status: 410,
+      headers: { "content-type": "text/plain; charset=utf-8" },
+    });
   const pdf = await renderLetter(r);
-  await audit({ action: "referral.link_letter_downloaded", entityType: "referral", entityId: r.referral.id, patientId: r.patient.id, detail: { linkId: check.linkId }, request });
+  await audit({
+    action: "referral.link_letter_downloaded",
+    entityType: "referral",
+    entityId: r.referral.id,
+    patientId: r.patient.id,
+    detail: { linkId: check.linkId },
+    request,
+  });
   return new Response(Buffer.from(pdf), {
     headers: {
       "content-type": "application/pdf",

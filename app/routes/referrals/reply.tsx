@@ -4,7 +4,16 @@ import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/reply";
 import { linkAccess, linkRefusal } from "~/models/referrals/public.server";
-import { acknowledge, loadReferral, publicSummary, reply, ReferralError, REPLY_FILE_MAX_BYTES, setAppointment, sniffType } from "~/models/referrals/referrals.server";
+import {
+  acknowledge,
+  loadReferral,
+  publicSummary,
+  reply,
+  ReferralError,
+  REPLY_FILE_MAX_BYTES,
+  setAppointment,
+  sniffType,
+} from "~/models/referrals/referrals.server";
 import { verifyLink } from "~/models/referrals/links.server";
 import { ErrorList, Field } from "~/components/forms";
 import { Button } from "~/components/ui/button";
@@ -12,11 +21,18 @@ import { Card } from "~/components/ui/card";
 import { Textarea } from "~/components/ui/input";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 
-const name = z.string({ error: "Give your name." }).trim().min(2, "Give your name.").max(120, "At most 120 characters.");
+const name = z
+  .string({ error: "Give your name." })
+  .trim()
+  .min(2, "Give your name.")
+  .max(120, "At most 120 characters.");
 const isoDate = z
   .string({ error: "Give the appointment date." })
   .regex(/^\d{4}-\d{2}-\d{2}$/, "Give the date as YYYY-MM-DD.")
-  .refine((d) => !Number.isNaN(Date.parse(`${d}T00:00:00Z`)) && new Date(`${d}T00:00:00Z`).toISOString().startsWith(d), "That date does not exist.")
+  .refine(
+    (d) => !Number.isNaN(Date.parse(`${d}T00:00:00Z`)) && new Date(`${d}T00:00:00Z`).toISOString().startsWith(d),
+    "That date does not exist.",
+  )
   .refine((d) => {
     const t = Date.parse(`${d}T00:00:00Z`);
     return t > Date.now() - 365 * 86_400_000 && t < Date.now() + 730 * 86_400_000;
@@ -24,7 +40,11 @@ const isoDate = z
 
 const ackSchema = z.object({ intent: z.literal("acknowledge"), name });
 const apptSchema = z.object({ intent: z.literal("appointment"), name, date: isoDate });
-const replySchema = z.object({ intent: z.literal("reply"), name, body: z.string().trim().max(4000, "Keep the reply under 4,000 characters.").default("") });
+const replySchema = z.object({
+  intent: z.literal("reply"),
+  name,
+  body: z.string().trim().max(4000, "Keep the reply under 4,000 characters.").default(""),
+});
 
 /** Every visit to the link is audited, accepted or not; a refused link shows nothing of the referral. */
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -32,25 +52,51 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   if (!check.ok) {
     await linkRefusal(check, request, "page");
     const expired = check.reason === "expired" || check.reason === "revoked";
-    return data({ state: "refused" as const, expired }, { status: expired ? 410 : 404, headers: { "referrer-policy": "no-referrer", "cache-control": "no-store" } });
+    return data(
+      { state: "refused" as const, expired },
+      { status: expired ? 410 : 404, headers: { "referrer-policy": "no-referrer", "cache-control": "no-store" } },
+    );
   }
   const { referral, patient } = await loadReferral(check.referralId);
   if (referral.status === "withdrawn" || referral.status === "draft" || referral.status === "queued") {
-    await linkRefusal({ ok: false, reason: "revoked", linkId: check.linkId, referralId: check.referralId }, request, "page (referral not open)");
-    return data({ state: "refused" as const, expired: true }, { status: 410, headers: { "referrer-policy": "no-referrer", "cache-control": "no-store" } });
+    await linkRefusal(
+      { ok: false, reason: "revoked", linkId: check.linkId, referralId: check.referralId },
+      request,
+      "page (referral not open)",
+    );
+    return data(
+      { state: "refused" as const, expired: true },
+      { status: 410, headers: { "referrer-policy": "no-referrer", "cache-control": "no-store" } },
+    );
   }
   await linkAccess(check, patient.id, request, "page");
-  return data({ state: "ok" as const, summary: await publicSummary(check.referralId) }, { headers: { "referrer-policy": "no-referrer", "cache-control": "no-store" } });
+  return data(
+    { state: "ok" as const, summary: await publicSummary(check.referralId) },
+    { headers: { "referrer-policy": "no-referrer", "cache-control": "no-store" } },
+  );
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
   const check = await verifyLink(params.token);
   if (!check.ok) {
     await linkRefusal(check, request, "action");
-    throw data({ error: "This link is not valid any more." }, { status: check.reason === "expired" || check.reason === "revoked" ? 410 : 404 });
+    throw data(
+      { error: "This link is not valid any more." },
+      { status: check.reason === "expired" || check.reason === "revoked" ? 410 : 404 },
+    );
   }
   const length = Number(request.headers.get("content-length") ?? 0);
-  if (length > REPLY_FILE_MAX_BYTES + 64 * 1024) return data({ intent: "reply", result: { status: "error", error: { file: ["The file is larger than 10 MB. Send a smaller PDF or image."] } } as SubmissionResult<string[]> }, { status: 413 });
+  if (length > REPLY_FILE_MAX_BYTES + 64 * 1024)
+    return data(
+      {
+        intent: "reply",
+        result: {
+          status: "error",
+          error: { file: ["The file is larger than 10 MB. Send a smaller PDF or image."] },
+        } as SubmissionResult<string[]>,
+      },
+      { status: 413 },
+    );
   const formData = await request.formData();
   const intent = String(formData.get("intent") ?? "");
   try {
@@ -58,7 +104,11 @@ export async function action({ request, params }: Route.ActionArgs) {
       const s = parseWithZod(formData, { schema: ackSchema });
       if (s.status !== "success") return data({ intent, result: s.reply() }, { status: 400 });
       await acknowledge(check.referralId, check.linkId, s.value.name, request);
-      return data({ intent, result: s.reply({ resetForm: true }), done: "Thank you: receipt acknowledged. The practice can see it now." });
+      return data({
+        intent,
+        result: s.reply({ resetForm: true }),
+        done: "Thank you: receipt acknowledged. The practice can see it now.",
+      });
     }
     if (intent === "appointment") {
       const s = parseWithZod(formData, { schema: apptSchema });
@@ -72,21 +122,50 @@ export async function action({ request, params }: Route.ActionArgs) {
       const raw = formData.get("file");
       let file: { name: string; bytes: Uint8Array; type: NonNullable<ReturnType<typeof sniffType>> } | null = null;
       if (raw && typeof raw === "object" && raw.size > 0) {
-        if (raw.size > REPLY_FILE_MAX_BYTES) return data({ intent, result: s.reply({ fieldErrors: { file: ["The file is larger than 10 MB."] } }) }, { status: 400 });
+        if (raw.size > REPLY_FILE_MAX_BYTES)
+          return data(
+            { intent, result: s.reply({ fieldErrors: { file: ["The file is larger than 10 MB."] } }) },
+            { status: 400 },
+          );
         const bytes = new Uint8Array(await raw.arrayBuffer());
         const type = sniffType(bytes);
-        if (!type) return data({ intent, result: s.reply({ fieldErrors: { file: ["Upload a PDF, JPEG or PNG file."] } }) }, { status: 400 });
+        if (!type)
+          return data(
+            { intent, result: s.reply({ fieldErrors: { file: ["Upload a PDF, JPEG or PNG file."] } }) },
+            { status: 400 },
+          );
         file = { name: raw.name.slice(0, 200) || "consult-letter", bytes, type };
       }
-      if (!s.value.body && !file) return data({ intent, result: s.reply({ fieldErrors: { body: ["Write a short reply or attach your consult letter."] } }) }, { status: 400 });
+      if (!s.value.body && !file)
+        return data(
+          {
+            intent,
+            result: s.reply({ fieldErrors: { body: ["Write a short reply or attach your consult letter."] } }),
+          },
+          { status: 400 },
+        );
       await reply(check.referralId, check.linkId, { name: s.value.name, body: s.value.body, file }, request);
-      return data({ intent, result: s.reply({ resetForm: true }), done: "Thank you: your reply has been sent to the practice and added to the patient's record." });
+      return data({
+        intent,
+        result: s.reply({ resetForm: true }),
+        done: "Thank you: your reply has been sent to the practice and added to the patient's record.",
+      });
     }
   } catch (error) {
-    if (error instanceof ReferralError) return data({ intent, result: { status: "error", error: { "": Object.values(error.errors).flat() } } as SubmissionResult<string[]> }, { status: error.status });
+    if (error instanceof ReferralError)
+      return data(
+        {
+          intent,
+          result: { status: "error", error: { "": Object.values(error.errors).flat() } } as SubmissionResult<string[]>,
+        },
+        { status: error.status },
+      );
     throw error;
   }
-  return data({ intent, result: { status: "error", error: { "": ["Unknown request."] } } as SubmissionResult<string[]> }, { status: 400 });
+  return data(
+    { intent, result: { status: "error", error: { "": ["Unknown request."] } } as SubmissionResult<string[]> },
+    { status: 400 },
+  );
 }
 
 type ActionData = { intent: string; result: SubmissionResult<string[]>; done?: string } | undefined;
@@ -125,9 +204,24 @@ function useLast(id: string, a: ActionData) {
 export default function ReplyPage({ loaderData, actionData, params }: Route.ComponentProps) {
   const navigation = useNavigation();
   const a = actionData as ActionData;
-  const [ackForm, ack] = useForm({ id: "acknowledge", lastResult: useLast("acknowledge", a), onValidate: ({ formData }) => parseWithZod(formData, { schema: ackSchema }), shouldValidate: "onBlur" });
-  const [apptForm, appt] = useForm({ id: "appointment", lastResult: useLast("appointment", a), onValidate: ({ formData }) => parseWithZod(formData, { schema: apptSchema }), shouldValidate: "onBlur" });
-  const [replyForm, rep] = useForm({ id: "reply", lastResult: useLast("reply", a), onValidate: ({ formData }) => parseWithZod(formData, { schema: replySchema }), shouldValidate: "onBlur" });
+  const [ackForm, ack] = useForm({
+    id: "acknowledge",
+    lastResult: useLast("acknowledge", a),
+    onValidate: ({ formData }) => parseWithZod(formData, { schema: ackSchema }),
+    shouldValidate: "onBlur",
+  });
+  const [apptForm, appt] = useForm({
+    id: "appointment",
+    lastResult: useLast("appointment", a),
+    onValidate: ({ formData }) => parseWithZod(formData, { schema: apptSchema }),
+    shouldValidate: "onBlur",
+  });
+  const [replyForm, rep] = useForm({
+    id: "reply",
+    lastResult: useLast("reply", a),
+    onValidate: ({ formData }) => parseWithZod(formData, { schema: replySchema }),
+    shouldValidate: "onBlur",
+  });
   if (loaderData.state !== "ok") {
     return (
       <Shell>
@@ -142,7 +236,8 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
   }
   const s = loaderData.summary;
   const busy = navigation.state === "submitting" ? String(navigation.formData?.get("intent") ?? "") : "";
-  const replyErrors = (a?.intent === "reply" ? (a.result.error as Record<string, string[]> | undefined) : undefined) ?? {};
+  const replyErrors =
+    (a?.intent === "reply" ? (a.result.error as Record<string, string[]> | undefined) : undefined) ?? {};
   return (
     <Shell practice={s.practice.name}>
       <h1 className="text-2xl sm:text-3xl">Referral {s.reference}</h1>
@@ -184,13 +279,24 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
             </dd>
             <dt className="text-muted">Status</dt>
             <dd className="flex flex-wrap gap-2">
-              {s.acknowledgedAt ? <StatusBadge tone="success">Acknowledged {s.acknowledgedAt}{s.acknowledgedBy ? ` by ${s.acknowledgedBy}` : ""}</StatusBadge> : <StatusBadge tone="warning">Not yet acknowledged</StatusBadge>}
+              {s.acknowledgedAt ? (
+                <StatusBadge tone="success">
+                  Acknowledged {s.acknowledgedAt}
+                  {s.acknowledgedBy ? ` by ${s.acknowledgedBy}` : ""}
+                </StatusBadge>
+              ) : (
+                <StatusBadge tone="warning">Not yet acknowledged</StatusBadge>
+              )}
               {s.appointmentOn ? <StatusBadge tone="success">Appointment {s.appointmentOn}</StatusBadge> : null}
               {s.replies.length ? <StatusBadge tone="success">Reply sent</StatusBadge> : null}
             </dd>
           </dl>
           <p className="mt-4">
-            <a href={`/r/${params.token}/letter.pdf`} className="font-semibold text-accent-700 underline underline-offset-4" rel="noreferrer">
+            <a
+              href={`/r/${params.token}/letter.pdf`}
+              className="font-semibold text-accent-700 underline underline-offset-4"
+              rel="noreferrer"
+            >
               Open the full letter (PDF)
             </a>
           </p>
@@ -200,7 +306,11 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
           <Done a={a} intent="acknowledge" />
           <Form method="post" {...getFormProps(ackForm)} className="grid gap-4 sm:grid-cols-[1fr_auto] sm:items-end">
             <input type="hidden" name="intent" value="acknowledge" />
-            <Field label="Your name" errors={ack.name.errors} inputProps={{ ...getInputProps(ack.name, { type: "text" }), autoComplete: "name" }} />
+            <Field
+              label="Your name"
+              errors={ack.name.errors}
+              inputProps={{ ...getInputProps(ack.name, { type: "text" }), autoComplete: "name" }}
+            />
             <Button type="submit" pending={busy === "acknowledge"}>
               Acknowledge receipt
             </Button>
@@ -209,10 +319,22 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
 
         <Card title="Appointment">
           <Done a={a} intent="appointment" />
-          <Form method="post" {...getFormProps(apptForm)} className="grid gap-4 sm:grid-cols-[1fr_1fr_auto] sm:items-end">
+          <Form
+            method="post"
+            {...getFormProps(apptForm)}
+            className="grid gap-4 sm:grid-cols-[1fr_1fr_auto] sm:items-end"
+          >
             <input type="hidden" name="intent" value="appointment" />
-            <Field label="Your name" errors={appt.name.errors} inputProps={{ ...getInputProps(appt.name, { type: "text" }), autoComplete: "name" }} />
-            <Field label="Appointment date" errors={appt.date.errors} inputProps={getInputProps(appt.date, { type: "date" })} />
+            <Field
+              label="Your name"
+              errors={appt.name.errors}
+              inputProps={{ ...getInputProps(appt.name, { type: "text" }), autoComplete: "name" }}
+            />
+            <Field
+              label="Appointment date"
+              errors={appt.date.errors}
+              inputProps={getInputProps(appt.date, { type: "date" })}
+            />
             <Button type="submit" variant="secondary" pending={busy === "appointment"}>
               Save the date
             </Button>
@@ -223,19 +345,36 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
           <Done a={a} intent="reply" />
           <Form method="post" encType="multipart/form-data" {...getFormProps(replyForm)} className="grid gap-4">
             <input type="hidden" name="intent" value="reply" />
-            <Field label="Your name" errors={rep.name.errors} inputProps={{ ...getInputProps(rep.name, { type: "text" }), autoComplete: "name" }} />
+            <Field
+              label="Your name"
+              errors={rep.name.errors}
+              inputProps={{ ...getInputProps(rep.name, { type: "text" }), autoComplete: "name" }}
+            />
             <div>
               <label htmlFor={rep.body.id} className="mb-1 block text-sm font-semibold">
                 Short reply
               </label>
-              <Textarea {...getTextareaProps(rep.body)} rows={5} aria-invalid={rep.body.errors?.length ? true : undefined} aria-describedby={rep.body.errors?.length ? `${rep.body.id}-error` : undefined} />
+              <Textarea
+                {...getTextareaProps(rep.body)}
+                rows={5}
+                aria-invalid={rep.body.errors?.length ? true : undefined}
+                aria-describedby={rep.body.errors?.length ? `${rep.body.id}-error` : undefined}
+              />
               <ErrorList id={`${rep.body.id}-error`} errors={rep.body.errors} />
             </div>
             <div>
               <label htmlFor="reply-file" className="mb-1 block text-sm font-semibold">
                 Consult letter (optional: PDF, JPEG or PNG, up to 10 MB)
               </label>
-              <input id="reply-file" name="file" type="file" accept="application/pdf,image/jpeg,image/png" className="block text-sm" aria-invalid={replyErrors.file?.length ? true : undefined} aria-describedby={replyErrors.file?.length ? "reply-file-error" : undefined} />
+              <input
+                id="reply-file"
+                name="file"
+                type="file"
+                accept="application/pdf,image/jpeg,image/png"
+                className="block text-sm"
+                aria-invalid={replyErrors.file?.length ? true : undefined}
+                aria-describedby={replyErrors.file?.length ? "reply-file-error" : undefined}
+              />
               <ErrorList id="reply-file-error" errors={replyErrors.file} />
             </div>
             <div>
@@ -262,7 +401,8 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
           ) : null}
         </Card>
         <p className="text-sm text-muted">
-          Confidential patient information for the named recipient only. Every visit to this page is recorded. Questions: {s.practice.name}
+          Confidential patient information for the named recipient only. Every visit to this page is recorded.
+          Questions: {s.practice.name}
           {s.practice.phone ? `, ${s.practice.phone}` : ""}
           {s.practice.email ? `, ${s.practice.email}` : ""}.
         </p>
@@ -280,4 +420,8 @@ export const headers: Route.HeadersFunction = ({ loaderHeaders, actionHeaders })
   return out;
 };
 
-export const meta: Route.MetaFunction = () => [{ title: "Referral · Dioptra" }, { name: "robots", content: "noindex, nofollow" }, { name: "referrer", content: "no-referrer" }];
+export const meta: Route.MetaFunction = () => [
+  { title: "Referral · Dioptra" },
+  { name: "robots", content: "noindex, nofollow" },
+  { name: "referrer", content: "no-referrer" },
+];

@@ -50,10 +50,16 @@ export async function action({ request }: Route.ActionArgs) {
     const appt = await bookAppointment(user, submission.value, request);
     const day = localParts(appt.startsAt, timeZone).date;
     const to = safeReturn(formData.get("returnTo")) ?? `/schedule?date=${day}`;
-    return redirectWithToast(to, { kind: "success", title: "Appointment booked", description: `${formatLocal(appt.startsAt, timeZone)}. The confirmation e-mail is on its way.` });
+    return redirectWithToast(to, {
+      kind: "success",
+      title: "Appointment booked",
+      description: `${formatLocal(appt.startsAt, timeZone)}. The confirmation e-mail is on its way.`,
+    });
   } catch (error) {
     if (error instanceof BookingError) {
-      return data(submission.reply({ formErrors: [error.message], fieldErrors: error.fieldErrors }), { status: error.status });
+      return data(submission.reply({ formErrors: [error.message], fieldErrors: error.fieldErrors }), {
+        status: error.status,
+      });
     }
     throw error;
   }
@@ -62,9 +68,17 @@ export async function action({ request }: Route.ActionArgs) {
 export default function BookPage({ loaderData }: Route.ComponentProps) {
   return (
     <>
-      <PageHeader title="Book an appointment" description="Find the patient, choose the type, the provider and the time." />
+      <PageHeader
+        title="Book an appointment"
+        description="Find the patient, choose the type, the provider and the time."
+      />
       <Card>
-        <BookingForm providers={loaderData.providers} types={loaderData.types} defaults={loaderData.defaults} places={loaderData.places} />
+        <BookingForm
+          providers={loaderData.providers}
+          types={loaderData.types}
+          defaults={loaderData.defaults}
+          places={loaderData.places}
+        />
       </Card>
     </>
   );

@@ -6,8 +6,17 @@ import { Input, Select, Textarea } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
 
 export type PatientOption = { id: string; name: string; dateOfBirth: string; email: string | null };
-export type BookingDefaults = { start?: string; providerId?: string; appointmentTypeId?: string; siteId?: string; patient?: PatientOption | null };
-export type SiteChoice = { sites: { id: string; name: string }[]; rooms: { id: string; siteId: string; name: string }[] };
+export type BookingDefaults = {
+  start?: string;
+  providerId?: string;
+  appointmentTypeId?: string;
+  siteId?: string;
+  patient?: PatientOption | null;
+};
+export type SiteChoice = {
+  sites: { id: string; name: string }[];
+  rooms: { id: string; siteId: string; name: string }[];
+};
 type Reply = { status?: string; error?: Record<string, string[] | null> | null } | undefined;
 
 function errorsOf(reply: Reply, field: string) {
@@ -16,12 +25,16 @@ function errorsOf(reply: Reply, field: string) {
 
 /** "29 Mar 1979" from "1979-03-29" (dates of birth have no time zone). */
 export function formatDob(d: string) {
-  return new Intl.DateTimeFormat("en-GB", { day: "numeric", month: "short", year: "numeric", timeZone: "UTC" }).format(new Date(`${d}T00:00:00Z`));
+  return new Intl.DateTimeFormat("en-GB", { day: "numeric", month: "short", year: "numeric", timeZone: "UTC" }).format(
+    new Date(`${d}T00:00:00Z`),
+  );
 }
 
 function PatientPicker({ initial, errors }: { initial: PatientOption | null; errors?: string[] }) {
   // The same search as the patients list (GET /api/patients?q=).
-  const search = useFetcher<{ results: { id: string; firstName: string; lastName: string; dateOfBirth: string; email: string | null }[] }>();
+  const search = useFetcher<{
+    results: { id: string; firstName: string; lastName: string; dateOfBirth: string; email: string | null }[];
+  }>();
   const register = useFetcher<{ patient?: PatientOption; error?: string; fieldErrors?: Record<string, string[]> }>();
   const [q, setQ] = useState("");
   const [chosen, setChosen] = useState<PatientOption | null>(initial);
@@ -45,7 +58,15 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
     }
   }, [register.data]);
 
-  const found: PatientOption[] = q.trim().length >= 2 ? (search.data?.results ?? []).map((r) => ({ id: r.id, name: `${r.firstName} ${r.lastName}`, dateOfBirth: r.dateOfBirth, email: r.email })) : [];
+  const found: PatientOption[] =
+    q.trim().length >= 2
+      ? (search.data?.results ?? []).map((r) => ({
+          id: r.id,
+          name: `${r.firstName} ${r.lastName}`,
+          dateOfBirth: r.dateOfBirth,
+          email: r.email,
+        }))
+      : [];
   const options = [...extra, ...found.filter((f) => !extra.some((e) => e.id === f.id))];
   const regErrors = register.data?.fieldErrors ?? {};
 
@@ -56,20 +77,42 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
         <label htmlFor={`${id}-q`} className="mb-1 block text-sm text-muted">
           Find by name, date of birth, phone or e-mail
         </label>
-        <Input id={`${id}-q`} type="search" value={q} onChange={(e) => setQ(e.target.value)} autoComplete="off" placeholder="e.g. Achterberg or 17/04/1979" />
+        <Input
+          id={`${id}-q`}
+          type="search"
+          value={q}
+          onChange={(e) => setQ(e.target.value)}
+          autoComplete="off"
+          placeholder="e.g. Achterberg or 17/04/1979"
+        />
       </div>
       <div aria-live="polite" className="text-sm text-muted">
-        {search.state === "loading" ? "Searching…" : q.trim().length >= 2 && found.length === 0 && search.data ? "No patient matches; register them below." : null}
+        {search.state === "loading"
+          ? "Searching…"
+          : q.trim().length >= 2 && found.length === 0 && search.data
+            ? "No patient matches; register them below."
+            : null}
       </div>
       {options.length ? (
         <ul className="max-h-56 space-y-1 overflow-y-auto rounded-md border border-line p-2">
           {options.map((p) => (
             <li key={p.id}>
               <label className="flex cursor-pointer items-center gap-3 rounded px-2 py-1.5 hover:bg-canvas">
-                <input type="radio" name="patientId" value={p.id} checked={chosen?.id === p.id} onChange={() => setChosen(p)} className="size-4 accent-accent-700" />
+                <input
+                  type="radio"
+                  name="patientId"
+                  value={p.id}
+                  checked={chosen?.id === p.id}
+                  onChange={() => setChosen(p)}
+                  className="size-4 accent-accent-700"
+                />
                 <span>
                   <span className="font-semibold">{p.name}</span>
-                  <span className="text-sm text-muted"> · born {formatDob(p.dateOfBirth)}{p.email ? ` · ${p.email}` : ""}</span>
+                  <span className="text-sm text-muted">
+                    {" "}
+                    · born {formatDob(p.dateOfBirth)}
+                    {p.email ? ` · ${p.email}` : ""}
+                  </span>
                 </span>
               </label>
             </li>
@@ -110,7 +153,13 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
           variant="secondary"
           className="mt-3"
           pending={register.state !== "idle"}
-          onClick={() => register.submit(newPatient, { method: "post", action: "/api/schedule-patients", encType: "application/json" })}
+          onClick={() =>
+            register.submit(newPatient, {
+              method: "post",
+              action: "/api/schedule-patients",
+              encType: "application/json",
+            })
+          }
         >
           Register and choose
         </Button>
@@ -147,13 +196,22 @@ export function BookingForm({
           {formErrors.join(" ")}
         </Notice>
       ) : null}
-      <PatientPicker key={defaults.patient?.id ?? "none"} initial={defaults.patient ?? null} errors={errorsOf(reply, "patientId")} />
+      <PatientPicker
+        key={defaults.patient?.id ?? "none"}
+        initial={defaults.patient ?? null}
+        errors={errorsOf(reply, "patientId")}
+      />
       <div className="grid gap-4 sm:grid-cols-2">
         <div>
           <label htmlFor={`${id}-type`} className="mb-1 block text-sm font-semibold">
             Appointment type
           </label>
-          <Select id={`${id}-type`} name="appointmentTypeId" defaultValue={defaults.appointmentTypeId ?? types[0]?.id} aria-invalid={errorsOf(reply, "appointmentTypeId") ? true : undefined}>
+          <Select
+            id={`${id}-type`}
+            name="appointmentTypeId"
+            defaultValue={defaults.appointmentTypeId ?? types[0]?.id}
+            aria-invalid={errorsOf(reply, "appointmentTypeId") ? true : undefined}
+          >
             {types.map((t) => (
               <option key={t.id} value={t.id}>
                 {t.name} ({t.durationMinutes} min)
@@ -166,7 +224,12 @@ export function BookingForm({
           <label htmlFor={`${id}-provider`} className="mb-1 block text-sm font-semibold">
             With
           </label>
-          <Select id={`${id}-provider`} name="providerId" defaultValue={defaults.providerId ?? ""} aria-invalid={errorsOf(reply, "providerId") ? true : undefined}>
+          <Select
+            id={`${id}-provider`}
+            name="providerId"
+            defaultValue={defaults.providerId ?? ""}
+            aria-invalid={errorsOf(reply, "providerId") ? true : undefined}
+          >
             <option value="">Choose…</option>
             {providers.map((p) => (
               <option key={p.id} value={p.id}>
@@ -181,7 +244,12 @@ export function BookingForm({
             <label htmlFor={`${id}-site`} className="mb-1 block text-sm font-semibold">
               Site
             </label>
-            <Select id={`${id}-site`} name="siteId" defaultValue={defaults.siteId ?? ""} aria-invalid={errorsOf(reply, "siteId") ? true : undefined}>
+            <Select
+              id={`${id}-site`}
+              name="siteId"
+              defaultValue={defaults.siteId ?? ""}
+              aria-invalid={errorsOf(reply, "siteId") ? true : undefined}
+            >
               <option value="">Where the provider works that day</option>
               {places.sites.map((s) => (
                 <option key={s.id} value={s.id}>
@@ -197,7 +265,12 @@ export function BookingForm({
             <label htmlFor={`${id}-room`} className="mb-1 block text-sm font-semibold">
               Room
             </label>
-            <Select id={`${id}-room`} name="roomId" defaultValue="" aria-invalid={errorsOf(reply, "roomId") ? true : undefined}>
+            <Select
+              id={`${id}-room`}
+              name="roomId"
+              defaultValue=""
+              aria-invalid={errorsOf(reply, "roomId") ? true : undefined}
+            >
               <option value="">The provider&apos;s room that day</option>
               {places.sites.map((s) => {
                 const here = places.rooms.filter((r) => r.siteId === s.id);
@@ -219,7 +292,15 @@ export function BookingForm({
           <label htmlFor={`${id}-start`} className="mb-1 block text-sm font-semibold">
             Starts
           </label>
-          <Input id={`${id}-start`} type="datetime-local" name="start" step={300} defaultValue={defaults.start} aria-invalid={errorsOf(reply, "start") ? true : undefined} aria-describedby={`${id}-start-hint`} />
+          <Input
+            id={`${id}-start`}
+            type="datetime-local"
+            name="start"
+            step={300}
+            defaultValue={defaults.start}
+            aria-invalid={errorsOf(reply, "start") ? true : undefined}
+            aria-describedby={`${id}-start-hint`}
+          />
           <p id={`${id}-start-hint`} className="mt-1 text-sm text-muted">
             Practice time. The end follows from the type&apos;s length.
           </p>

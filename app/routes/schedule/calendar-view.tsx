@@ -41,7 +41,13 @@ function wallTime(str: string) {
 }
 
 function EventBody({ arg }: { arg: EventContentArg }) {
-  const p = arg.event.extendedProps as { statusLabel: string; status: string; patientName: string; typeName: string; providerName: string };
+  const p = arg.event.extendedProps as {
+    statusLabel: string;
+    status: string;
+    patientName: string;
+    typeName: string;
+    providerName: string;
+  };
   return (
     <div className="overflow-hidden px-1 text-xs leading-tight">
       <div className="font-semibold">
@@ -67,7 +73,14 @@ async function patch(event: EventApi) {
 
 export default function CalendarView(props: CalendarProps) {
   const ref = useRef<FullCalendar>(null);
-  const source = useMemo(() => ({ url: "/api/appointments", extraParams: { provider: props.provider, site: props.site }, failure: () => props.onMessage("error", "The appointments could not be loaded. Check the connection and reload.") }), [props.provider, props.site]);
+  const source = useMemo(
+    () => ({
+      url: "/api/appointments",
+      extraParams: { provider: props.provider, site: props.site },
+      failure: () => props.onMessage("error", "The appointments could not be loaded. Check the connection and reload."),
+    }),
+    [props.provider, props.site],
+  );
   const change = async (info: { event: EventApi; revert: () => void }, verb: string) => {
     const { ok, body } = await patch(info.event);
     if (!ok) {
@@ -75,7 +88,10 @@ export default function CalendarView(props: CalendarProps) {
       props.onMessage("error", `Not ${verb}: ${body.error ?? "the server refused the change."}`);
     } else {
       const p = info.event.extendedProps as { patientName: string };
-      props.onMessage("success", `${p.patientName} ${verb} to ${new Intl.DateTimeFormat("en-GB", { timeZone: props.timeZone, weekday: "short", day: "numeric", month: "short", hour: "2-digit", minute: "2-digit", hourCycle: "h23" }).format(new Date(body.appointment?.start ?? info.event.startStr))}.`);
+      props.onMessage(
+        "success",
+        `${p.patientName} ${verb} to ${new Intl.DateTimeFormat("en-GB", { timeZone: props.timeZone, weekday: "short", day: "numeric", month: "short", hour: "2-digit", minute: "2-digit", hourCycle: "h23" }).format(new Date(body.appointment?.start ?? info.event.startStr))}.`,
+      );
       ref.current?.getApi().refetchEvents();
     }
   };
@@ -122,8 +138,16 @@ export default function CalendarView(props: CalendarProps) {
       eventResize={(info) => change(info, "resized")}
       datesSet={(arg) => props.onViewChange?.(arg.view.type, arg.startStr.slice(0, 10))}
       eventDidMount={(info) => {
-        const p = info.event.extendedProps as { statusLabel: string; patientName: string; typeName: string; providerName: string };
-        info.el.setAttribute("aria-label", `${p.patientName}, ${p.typeName} with ${p.providerName}, ${info.timeText}, ${p.statusLabel}`);
+        const p = info.event.extendedProps as {
+          statusLabel: string;
+          patientName: string;
+          typeName: string;
+          providerName: string;
+        };
+        info.el.setAttribute(
+          "aria-label",
+          `${p.patientName}, ${p.typeName} with ${p.providerName}, ${info.timeText}, ${p.statusLabel}`,
+        );
         info.el.setAttribute("data-appointment-id", info.event.id);
       }}
     />

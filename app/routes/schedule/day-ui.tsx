@@ -14,7 +14,21 @@ export function StatusCommands({ id, status, role, name }: { id: string; status:
         <input type="hidden" name="intent" value="status" />
         <input type="hidden" name="appointmentId" value={id} />
         {next.map((s) => (
-          <Button key={s} type="submit" name="status" value={s} variant={s === "cancelled" || s === "no_show" ? "danger" : s === "arrived" || s === "in_exam" ? "primary" : "secondary"} className="px-3 py-1" disabled={busy}>
+          <Button
+            key={s}
+            type="submit"
+            name="status"
+            value={s}
+            variant={
+              s === "cancelled" || s === "no_show"
+                ? "danger"
+                : s === "arrived" || s === "in_exam"
+                  ? "primary"
+                  : "secondary"
+            }
+            className="px-3 py-1"
+            disabled={busy}
+          >
             {STATUS_COMMAND[s]}
             <span className="sr-only"> for {name}</span>
           </Button>
@@ -39,4 +53,3 @@ export function usePolling(seconds: number) {
     return () => clearInterval(t);
   }, [revalidator, seconds]);
 }
-

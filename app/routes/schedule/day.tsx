@@ -15,7 +15,10 @@ import { addDays } from "~/lib/scheduling/time";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { setCookie, ...day } = await loadDayList(request);
-  return data({ ...day, moveRequests: await openMoveRequests(day.timeZone) }, setCookie ? { headers: { "set-cookie": setCookie } } : undefined);
+  return data(
+    { ...day, moveRequests: await openMoveRequests(day.timeZone) },
+    setCookie ? { headers: { "set-cookie": setCookie } } : undefined,
+  );
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -25,14 +28,20 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function DayList({ loaderData }: Route.ComponentProps) {
-  const { appointments, date, today, provider, providers, site, sites, timeZone, user, checkedAt, moveRequests } = loaderData;
+  const { appointments, date, today, provider, providers, site, sites, timeZone, user, checkedAt, moveRequests } =
+    loaderData;
   usePolling(5);
-  const dayTitle = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(new Date(`${date}T12:00:00Z`));
+  const dayTitle = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(
+    new Date(`${date}T12:00:00Z`),
+  );
   const live = appointments.filter((a) => a.status !== "cancelled");
   const cancelled = appointments.filter((a) => a.status === "cancelled");
   return (
     <>
-      <PageHeader title="Day list" description={`${dayTitle}${date === today ? " (today)" : ""} · times in ${timeZone}`} />
+      <PageHeader
+        title="Day list"
+        description={`${dayTitle}${date === today ? " (today)" : ""} · times in ${timeZone}`}
+      />
       <ScheduleNav />
       <MoveRequests requests={moveRequests} />
       <Form method="get" className="mb-4 flex flex-wrap items-end gap-3">
@@ -103,7 +112,10 @@ export default function DayList({ loaderData }: Route.ComponentProps) {
               {live.map((a) => (
                 <tr key={a.id} data-appointment-id={a.id}>
                   <td className="px-4 py-3 font-semibold whitespace-nowrap">
-                    <Link to={`/schedule/appointments/${a.id}`} className="text-accent-700 underline underline-offset-4">
+                    <Link
+                      to={`/schedule/appointments/${a.id}`}
+                      className="text-accent-700 underline underline-offset-4"
+                    >
                       {a.time}
                     </Link>
                   </td>

@@ -28,25 +28,53 @@ export async function loader({ request }: Route.LoaderArgs) {
   const siteName = sites.find((s) => s.id === site)?.name ?? null;
   const asked = url.searchParams.get("provider");
   // An optometrist starts on their own column; the front desk on the whole practice.
-  const provider = asked === "all" || providers.some((p) => p.id === asked) ? asked! : providers.some((p) => p.id === user.id) && user.role === "optometrist" ? user.id : "all";
-  const view = (VIEWS as readonly string[]).includes(url.searchParams.get("view") ?? "") ? (url.searchParams.get("view") as (typeof VIEWS)[number]) : "timeGridWeek";
-  const date = /^\d{4}-\d{2}-\d{2}$/.test(url.searchParams.get("date") ?? "") ? url.searchParams.get("date")! : localParts(new Date(), timeZone).date;
+  const provider =
+    asked === "all" || providers.some((p) => p.id === asked)
+      ? asked!
+      : providers.some((p) => p.id === user.id) && user.role === "optometrist"
+        ? user.id
+        : "all";
+  const view = (VIEWS as readonly string[]).includes(url.searchParams.get("view") ?? "")
+    ? (url.searchParams.get("view") as (typeof VIEWS)[number])
+    : "timeGridWeek";
+  const date = /^\d{4}-\d{2}-\d{2}$/.test(url.searchParams.get("date") ?? "")
+    ? url.searchParams.get("date")!
+    : localParts(new Date(), timeZone).date;
   // Business hours shown shaded in the calendar: the chosen provider's (or everyone's) working spans less breaks.
   const spans = hours
     .filter((h) => (provider === "all" || h.providerId === provider) && (site === "all" || h.siteId === site))
     .flatMap((h) => {
-      const own = breaks.filter((b) => b.providerId === h.providerId && b.weekday === h.weekday).sort((a, b) => a.startMinute - b.startMinute);
+      const own = breaks
+        .filter((b) => b.providerId === h.providerId && b.weekday === h.weekday)
+        .sort((a, b) => a.startMinute - b.startMinute);
       const out: { daysOfWeek: number[]; startTime: string; endTime: string }[] = [];
       let from = h.startMinute;
       for (const b of own) {
-        if (b.startMinute > from) out.push({ daysOfWeek: [h.weekday % 7], startTime: minutesToHhmm(from), endTime: minutesToHhmm(b.startMinute) });
+        if (b.startMinute > from)
+          out.push({
+            daysOfWeek: [h.weekday % 7],
+            startTime: minutesToHhmm(from),
+            endTime: minutesToHhmm(b.startMinute),
+          });
         from = Math.max(from, b.endMinute);
       }
-      if (from < h.endMinute) out.push({ daysOfWeek: [h.weekday % 7], startTime: minutesToHhmm(from), endTime: minutesToHhmm(h.endMinute) });
+      if (from < h.endMinute)
+        out.push({ daysOfWeek: [h.weekday % 7], startTime: minutesToHhmm(from), endTime: minutesToHhmm(h.endMinute) });
       return out;
     });
   return data(
-    { timeZone, siteName, providers: providers.map(({ id, name }) => ({ id, name })), types, provider, view, date, businessHours: spans, site, places: { sites: sites.map(({ id, name }) => ({ id, name })), rooms } },
+    {
+      timeZone,
+      siteName,
+      providers: providers.map(({ id, name }) => ({ id, name })),
+      types,
+      provider,
+      view,
+      date,
+      businessHours: spans,
+      site,
+      places: { sites: sites.map(({ id, name }) => ({ id, name })), rooms },
+    },
     setCookie ? { headers: { "set-cookie": setCookie } } : undefined,
   );
 }
@@ -86,7 +114,13 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
           <label htmlFor="provider" className="mb-1 block text-sm font-semibold">
             Whose diary
           </label>
-          <Select id="provider" name="provider" defaultValue={provider} className="w-64" onChange={(e) => e.currentTarget.form?.requestSubmit()}>
+          <Select
+            id="provider"
+            name="provider"
+            defaultValue={provider}
+            className="w-64"
+            onChange={(e) => e.currentTarget.form?.requestSubmit()}
+          >
             <option value="all">Whole practice</option>
             {providers.map((p) => (
               <option key={p.id} value={p.id}>
@@ -100,7 +134,13 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
             <label htmlFor="site" className="mb-1 block text-sm font-semibold">
               Site
             </label>
-            <Select id="site" name="site" defaultValue={site} className="w-56" onChange={(e) => e.currentTarget.form?.requestSubmit()}>
+            <Select
+              id="site"
+              name="site"
+              defaultValue={site}
+              className="w-56"
+              onChange={(e) => e.currentTarget.form?.requestSubmit()}
+            >
               <option value="all">Every site</option>
               {places.sites.map((s) => (
                 <option key={s.id} value={s.id}>
@@ -156,7 +196,12 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
           <p className="p-6 text-muted">Loading the calendar…</p>
         )}
       </div>
-      <dialog ref={dialog} aria-labelledby="book-title" className="m-auto w-[min(44rem,calc(100vw-2rem))] rounded-lg border border-line p-0 shadow-xl backdrop:bg-ink/40" onClose={() => setBooking(null)}>
+      <dialog
+        ref={dialog}
+        aria-labelledby="book-title"
+        className="m-auto w-[min(44rem,calc(100vw-2rem))] rounded-lg border border-line p-0 shadow-xl backdrop:bg-ink/40"
+        onClose={() => setBooking(null)}
+      >
         <div className="p-6">
           <h2 id="book-title" className="mb-4 text-xl">
             Book an appointment
@@ -167,7 +212,11 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
               providers={providers}
               types={types}
               places={places}
-              defaults={{ start: booking.start, providerId: provider === "all" ? undefined : provider, siteId: site === "all" ? undefined : site }}
+              defaults={{
+                start: booking.start,
+                providerId: provider === "all" ? undefined : provider,
+                siteId: site === "all" ? undefined : site,
+              }}
               returnTo={`/schedule?provider=${provider}&view=${view}&date=${booking.start.slice(0, 10)}`}
               onCancel={() => setBooking(null)}
             />

@@ -24,7 +24,22 @@ export async function loader({ request }: Route.LoaderArgs) {
   const status = new URL(request.url).searchParams.get("status");
   const filter = (STATUSES as readonly string[]).includes(status ?? "") ? (status as MsgStatus) : null;
   const appt = await db
-    .select({ id: appointmentMessages.id, kind: appointmentMessages.kind, status: appointmentMessages.status, recipient: appointmentMessages.recipient, email: patients.email, dueAt: appointmentMessages.dueAt, sentAt: appointmentMessages.sentAt, attempts: appointmentMessages.attempts, error: appointmentMessages.lastError, reason: appointmentMessages.skippedReason, first: patients.firstName, last: patients.lastName, appointmentId: appointments.id, start: appointments.startsAt })
+    .select({
+      id: appointmentMessages.id,
+      kind: appointmentMessages.kind,
+      status: appointmentMessages.status,
+      recipient: appointmentMessages.recipient,
+      email: patients.email,
+      dueAt: appointmentMessages.dueAt,
+      sentAt: appointmentMessages.sentAt,
+      attempts: appointmentMessages.attempts,
+      error: appointmentMessages.lastError,
+      reason: appointmentMessages.skippedReason,
+      first: patients.firstName,
+      last: patients.lastName,
+      appointmentId: appointments.id,
+      start: appointments.startsAt,
+    })
     .from(appointmentMessages)
     .innerJoin(appointments, eq(appointments.id, appointmentMessages.appointmentId))
     .innerJoin(patients, eq(patients.id, appointments.patientId))
@@ -32,7 +47,19 @@ export async function loader({ request }: Route.LoaderArgs) {
     .orderBy(desc(appointmentMessages.createdAt))
     .limit(200);
   const recalls = await db
-    .select({ id: recallMessages.id, status: recallMessages.status, recipient: recallMessages.recipient, email: patients.email, dueDate: recallMessages.dueDate, sentAt: recallMessages.sentAt, createdAt: recallMessages.createdAt, error: recallMessages.lastError, reason: recallMessages.skippedReason, first: patients.firstName, last: patients.lastName })
+    .select({
+      id: recallMessages.id,
+      status: recallMessages.status,
+      recipient: recallMessages.recipient,
+      email: patients.email,
+      dueDate: recallMessages.dueDate,
+      sentAt: recallMessages.sentAt,
+      createdAt: recallMessages.createdAt,
+      error: recallMessages.lastError,
+      reason: recallMessages.skippedReason,
+      first: patients.firstName,
+      last: patients.lastName,
+    })
     .from(recallMessages)
     .innerJoin(patients, eq(patients.id, recallMessages.patientId))
     .where(filter ? eq(recallMessages.status, filter) : undefined)
@@ -52,20 +79,41 @@ export async function loader({ request }: Route.LoaderArgs) {
       attempts: m.attempts,
       note: m.reason ?? m.error ?? "",
     })),
-    recalls: recalls.map((r) => ({ id: r.id, status: r.status, to: r.recipient ?? r.email ?? "no address", patient: `${r.first} ${r.last}`, dueDate: r.dueDate, when: formatLocal(r.sentAt ?? r.createdAt, timeZone), note: r.reason ?? r.error ?? "" })),
+    recalls: recalls.map((r) => ({
+      id: r.id,
+      status: r.status,
+      to: r.recipient ?? r.email ?? "no address",
+      patient: `${r.first} ${r.last}`,
+      dueDate: r.dueDate,
+      when: formatLocal(r.sentAt ?? r.createdAt, timeZone),
+      note: r.reason ?? r.error ?? "",
+    })),
   };
 }
 
 const LABEL: Record<MsgStatus, string> = { queued: "Waiting", sent: "Sent", skipped: "Not sent", failed: "Failed" };
-const TONE: Record<MsgStatus, "info" | "success" | "warning" | "error"> = { queued: "info", sent: "success", skipped: "warning", failed: "error" };
-const KIND = { confirmation: "Confirmation", reminder: "Reminder", update: "Calendar update (moved)", cancellation: "Cancellation" } as const;
+const TONE: Record<MsgStatus, "info" | "success" | "warning" | "error"> = {
+  queued: "info",
+  sent: "success",
+  skipped: "warning",
+  failed: "error",
+};
+const KIND = {
+  confirmation: "Confirmation",
+  reminder: "Reminder",
+  update: "Calendar update (moved)",
+  cancellation: "Cancellation",
+} as const;
 
 export default function Messages({ loaderData }: Route.ComponentProps) {
   const { appointmentMessages: appt, recalls, filter } = loaderData;
   usePolling(10);
   return (
     <>
-      <PageHeader title="E-mail log" description="Confirmations, reminders, calendar updates after moves, cancellation notices and recalls: what went out, what waits, and why any was not sent." />
+      <PageHeader
+        title="E-mail log"
+        description="Confirmations, reminders, calendar updates after moves, cancellation notices and recalls: what went out, what waits, and why any was not sent."
+      />
       <ScheduleNav />
       <Form method="get" className="mb-4 flex items-end gap-3">
         <div>
@@ -107,7 +155,10 @@ export default function Messages({ loaderData }: Route.ComponentProps) {
                     <span className="block text-muted">{m.to}</span>
                   </td>
                   <td className="py-2 pr-4">
-                    <a href={`/schedule/appointments/${m.appointmentId}`} className="text-accent-700 underline underline-offset-4">
+                    <a
+                      href={`/schedule/appointments/${m.appointmentId}`}
+                      className="text-accent-700 underline underline-offset-4"
+                    >
                       {m.appointment}
                     </a>
                   </td>

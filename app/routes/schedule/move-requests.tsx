@@ -2,7 +2,14 @@ import { Form, Link } from "react-router";
 import { Button } from "~/components/ui/button";
 import { Icon } from "~/components/ui/icon";
 
-export type MoveRequest = { id: string; message: string; appointmentId: string; patientName: string; visitAt: string; askedAt: string };
+export type MoveRequest = {
+  id: string;
+  message: string;
+  appointmentId: string;
+  patientName: string;
+  visitAt: string;
+  askedAt: string;
+};
 
 /** Patients' requests from the portal to move a visit; the desk moves it on the calendar, then marks it dealt with. */
 export function MoveRequests({ requests }: { requests: MoveRequest[] }) {
@@ -17,7 +24,10 @@ export function MoveRequests({ requests }: { requests: MoveRequest[] }) {
           <li key={r.id} className="flex flex-wrap items-center justify-between gap-3 py-2 text-sm">
             <span>
               <strong>{r.patientName}</strong> · visit{" "}
-              <Link to={`/schedule/appointments/${r.appointmentId}`} className="font-semibold text-accent-700 underline underline-offset-4">
+              <Link
+                to={`/schedule/appointments/${r.appointmentId}`}
+                className="font-semibold text-accent-700 underline underline-offset-4"
+              >
                 {r.visitAt}
               </Link>{" "}
               · asked {r.askedAt}: “{r.message}”

@@ -31,21 +31,44 @@ export async function loader({ request }: Route.LoaderArgs) {
   const list = await recallList(filters);
   const { rows, dueBy } = list;
   const multiSite = (await activeSites()).length > 1;
-  return { rows, multiSite, today: list.today, dueBy, filters, settings: { child: list.settings.recallMonthsChild, adult: list.settings.recallMonthsAdult, under: list.settings.childUnderYears } };
+  return {
+    rows,
+    multiSite,
+    today: list.today,
+    dueBy,
+    filters,
+    settings: {
+      child: list.settings.recallMonthsChild,
+      adult: list.settings.recallMonthsAdult,
+      under: list.settings.childUnderYears,
+    },
+  };
 }
 
-const sendSchema = z.object({ intent: z.literal("send"), patientId: z.array(z.uuid()).min(1, "Choose at least one patient.").max(2000) });
+const sendSchema = z.object({
+  intent: z.literal("send"),
+  patientId: z.array(z.uuid()).min(1, "Choose at least one patient.").max(2000),
+});
 
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   const form = await request.formData();
   const parsed = sendSchema.safeParse({ intent: form.get("intent"), patientId: form.getAll("patientId") });
-  if (!parsed.success) return data({ error: parsed.error.issues[0]?.message ?? "Choose patients.", batch: null }, { status: 400 });
+  if (!parsed.success)
+    return data({ error: parsed.error.issues[0]?.message ?? "Choose patients.", batch: null }, { status: 400 });
   const batch = await startRecallBatch(user, parsed.data.patientId, request);
   return { error: null, batch };
 }
 
-type Progress = { total: number; sent: number; skipped: number; failed: number; queued: number; done: number; finished: boolean };
+type Progress = {
+  total: number;
+  sent: number;
+  skipped: number;
+  failed: number;
+  queued: number;
+  done: number;
+  finished: boolean;
+};
 
 function BatchProgress({ batchId, total, onFinished }: { batchId: string; total: number; onFinished: () => void }) {
   const poll = useFetcher<Progress>();
@@ -64,9 +87,15 @@ function BatchProgress({ batchId, total, onFinished }: { batchId: string; total:
       <label htmlFor="recall-progress" className="block text-sm font-semibold">
         Sending recall e-mails: {p.done} of {p.total} done
       </label>
-      <progress id="recall-progress" max={Math.max(p.total, 1)} value={p.done} className="h-3 w-full accent-accent-700" />
+      <progress
+        id="recall-progress"
+        max={Math.max(p.total, 1)}
+        value={p.done}
+        className="h-3 w-full accent-accent-700"
+      />
       <p className="text-sm" aria-live="polite">
-        {p.sent} sent · {p.skipped} not sent (opted out, no address or already booked) · {p.failed} failed{p.finished ? " · finished" : ""}
+        {p.sent} sent · {p.skipped} not sent (opted out, no address or already booked) · {p.failed} failed
+        {p.finished ? " · finished" : ""}
       </p>
     </div>
   );
@@ -106,10 +135,24 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
           </Select>
         </div>
         <label className="flex items-center gap-2 pb-2 text-sm">
-          <input type="checkbox" name="booked" value="1" defaultChecked={filters.includeBooked} className="size-4 accent-accent-700" /> Include patients already booked
+          <input
+            type="checkbox"
+            name="booked"
+            value="1"
+            defaultChecked={filters.includeBooked}
+            className="size-4 accent-accent-700"
+          />{" "}
+          Include patients already booked
         </label>
         <label className="flex items-center gap-2 pb-2 text-sm">
-          <input type="checkbox" name="recalled" value="1" defaultChecked={filters.includeRecalled} className="size-4 accent-accent-700" /> Include patients already recalled
+          <input
+            type="checkbox"
+            name="recalled"
+            value="1"
+            defaultChecked={filters.includeRecalled}
+            className="size-4 accent-accent-700"
+          />{" "}
+          Include patients already recalled
         </label>
         <Button type="submit" variant="secondary">
           Filter
@@ -117,8 +160,17 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
       </Form>
       {batch ? (
         <div className="mb-4 rounded-lg border border-line bg-white p-4">
-          <BatchProgress key={batch.batchId} batchId={batch.batchId} total={batch.total} onFinished={() => revalidator.revalidate()} />
-          {batch.alreadyRecalled ? <p className="mt-2 text-sm text-muted">{batch.alreadyRecalled} already had a recall for this due date and were left out.</p> : null}
+          <BatchProgress
+            key={batch.batchId}
+            batchId={batch.batchId}
+            total={batch.total}
+            onFinished={() => revalidator.revalidate()}
+          />
+          {batch.alreadyRecalled ? (
+            <p className="mt-2 text-sm text-muted">
+              {batch.alreadyRecalled} already had a recall for this due date and were left out.
+            </p>
+          ) : null}
         </div>
       ) : null}
       {send.data?.error ? (
@@ -151,7 +203,9 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
                           type="checkbox"
                           className="size-4 accent-accent-700"
                           checked={allChecked}
-                          onChange={(e) => setSelected(e.target.checked ? new Set(emailable.map((r) => r.patientId)) : new Set())}
+                          onChange={(e) =>
+                            setSelected(e.target.checked ? new Set(emailable.map((r) => r.patientId)) : new Set())
+                          }
                         />
                         <span className="sr-only">Choose all who can be e-mailed</span>
                       </label>
@@ -195,21 +249,43 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
                         <td className="py-2 pr-4">
                           {formatDob(r.lastVisit)}
                           <span className="block text-muted">{r.lastVisitType}</span>
-                          {loaderData.multiSite ? <span className="block text-muted">Recall to {r.siteName}</span> : null}
+                          {loaderData.multiSite ? (
+                            <span className="block text-muted">Recall to {r.siteName}</span>
+                          ) : null}
                         </td>
                         <td className="py-2 pr-4">
                           <span className="font-semibold">{formatDob(r.dueDate)}</span>
-                          {r.dueDate < today ? <span className="ml-2"><StatusBadge tone="warning">Overdue</StatusBadge></span> : null}
+                          {r.dueDate < today ? (
+                            <span className="ml-2">
+                              <StatusBadge tone="warning">Overdue</StatusBadge>
+                            </span>
+                          ) : null}
                           <span className="block text-muted">
                             {r.months} months ({r.rule})
                           </span>
                         </td>
                         <td className="py-2">
                           {!canEmail ? (
-                            <StatusBadge tone="warning">{r.email ? "Opted out of recall e-mails" : "No e-mail address"}</StatusBadge>
+                            <StatusBadge tone="warning">
+                              {r.email ? "Opted out of recall e-mails" : "No e-mail address"}
+                            </StatusBadge>
                           ) : r.lastRecall ? (
-                            <StatusBadge tone={r.lastRecall.status === "sent" ? "success" : r.lastRecall.status === "failed" ? "error" : "info"}>
-                              {r.lastRecall.status === "sent" ? "Recall sent" : r.lastRecall.status === "failed" ? "Recall failed" : r.lastRecall.status === "skipped" ? "Recall not sent" : "Recall waiting"}
+                            <StatusBadge
+                              tone={
+                                r.lastRecall.status === "sent"
+                                  ? "success"
+                                  : r.lastRecall.status === "failed"
+                                    ? "error"
+                                    : "info"
+                              }
+                            >
+                              {r.lastRecall.status === "sent"
+                                ? "Recall sent"
+                                : r.lastRecall.status === "failed"
+                                  ? "Recall failed"
+                                  : r.lastRecall.status === "skipped"
+                                    ? "Recall not sent"
+                                    : "Recall waiting"}
                             </StatusBadge>
                           ) : r.nextBooked ? (
                             <span className="text-muted">Booked {r.nextBooked}</span>

@@ -23,9 +23,15 @@ const typeSchema = z.object({
   intent: z.literal("save"),
   id: z.uuid().optional(),
   name: z.string({ error: "Give the type a name." }).trim().min(2, "Give the type a name.").max(80),
-  durationMinutes: decimalField("Give the length in minutes.", z.number().int("Whole minutes.").min(5, "At least 5 minutes.").max(480, "At most 480 minutes (8 hours).")),
+  durationMinutes: decimalField(
+    "Give the length in minutes.",
+    z.number().int("Whole minutes.").min(5, "At least 5 minutes.").max(480, "At most 480 minutes (8 hours)."),
+  ),
   defaultFeeItemId: z.union([z.literal(""), z.uuid()]).default(""),
-  recallMonths: decimalField("Give a number of months, or leave it empty.", z.number().int("Whole months.").min(1, "At least 1 month.").max(120, "At most 120 months.")).optional(),
+  recallMonths: decimalField(
+    "Give a number of months, or leave it empty.",
+    z.number().int("Whole months.").min(1, "At least 1 month.").max(120, "At most 120 months."),
+  ).optional(),
   performerRoles: z.array(z.enum(ROLES), { error: "Choose who may perform it." }).min(1, "Choose who may perform it."),
   routineExam: z.literal("on").optional(),
   onlineBooking: z.literal("on").optional(),
@@ -34,16 +40,37 @@ const typeSchema = z.object({
 
 const reminderSchema = z.object({
   intent: z.literal("reminder"),
-  reminderHoursBefore: decimalField("Give a number of hours.", z.number().int("Whole hours.").min(1, "At least 1 hour.").max(168, "At most 168 hours (a week).")),
+  reminderHoursBefore: decimalField(
+    "Give a number of hours.",
+    z.number().int("Whole hours.").min(1, "At least 1 hour.").max(168, "At most 168 hours (a week)."),
+  ),
 });
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);
   const types = await db.select().from(appointmentTypes).orderBy(asc(appointmentTypes.name));
-  const fees = await db.select({ id: feeItems.id, code: feeItems.code, description: feeItems.description, priceMinor: feeItems.priceMinor }).from(feeItems).where(eq(feeItems.active, true)).orderBy(asc(feeItems.code));
-  const [settings] = await db.select({ reminderHoursBefore: practiceSettings.reminderHoursBefore, currency: practiceSettings.currency }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const fees = await db
+    .select({
+      id: feeItems.id,
+      code: feeItems.code,
+      description: feeItems.description,
+      priceMinor: feeItems.priceMinor,
+    })
+    .from(feeItems)
+    .where(eq(feeItems.active, true))
+    .orderBy(asc(feeItems.code));
+  const [settings] = await db
+    .select({ reminderHoursBefore: practiceSettings.reminderHoursBefore, currency: practiceSettings.currency })
+    .from(practiceSettings)
+    .where(eq(practiceSettings.id, 1));
   const edit = new URL(request.url).searchParams.get("edit");
-  return { types, fees, editing: types.find((t) => t.id === edit) ?? null, reminderHoursBefore: settings?.reminderHoursBefore ?? 24, currency: settings?.currency ?? "GBP" };
+  return {
+    types,
+    fees,
+    editing: types.find((t) => t.id === edit) ?? null,
+    reminderHoursBefore: settings?.reminderHoursBefore ?? 24,
+    currency: settings?.currency ?? "GBP",
+  };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -53,10 +80,24 @@ export async function action({ request }: Route.ActionArgs) {
     const submission = parseWithZod(formData, { schema: reminderSchema });
     if (submission.status !== "success") return data(submission.reply(), { status: 400 });
     await db.transaction(async (tx) => {
-      await tx.update(practiceSettings).set({ reminderHoursBefore: submission.value.reminderHoursBefore, updatedAt: new Date() }).where(eq(practiceSettings.id, 1));
-      await audit({ action: "practice.reminder_time_changed", actorUserId: user.id, detail: { hours: submission.value.reminderHoursBefore }, request }, tx);
+      await tx
+        .update(practiceSettings)
+        .set({ reminderHoursBefore: submission.value.reminderHoursBefore, updatedAt: new Date() })
+        .where(eq(practiceSettings.id, 1));
+      await audit(
+        {
+          action: "practice.reminder_time_changed",
+          actorUserId: user.id,
+          detail: { hours: submission.value.reminderHoursBefore },
+          request,
+        },
+        tx,
+      );
     });
-    return redirectWithToast("/settings/appointment-types", { kind: "success", title: `Reminders go out ${submission.value.reminderHoursBefore} hours before` });
+    return redirectWithToast("/settings/appointment-types", {
+      kind: "success",
+      title: `Reminders go out ${submission.value.reminderHoursBefore} hours before`,
+    });
   }
   const submission = parseWithZod(formData, { schema: typeSchema });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
@@ -73,15 +114,30 @@ export async function action({ request }: Route.ActionArgs) {
   };
   const saved = await db.transaction(async (tx) => {
     if (v.id) {
-      const [row] = await tx.update(appointmentTypes).set(values).where(eq(appointmentTypes.id, v.id)).returning({ id: appointmentTypes.id });
+      const [row] = await tx
+        .update(appointmentTypes)
+        .set(values)
+        .where(eq(appointmentTypes.id, v.id))
+        .returning({ id: appointmentTypes.id });
       if (!row) return null;
     } else {
       await tx.insert(appointmentTypes).values(values);
     }
-    await audit({ action: v.id ? "appointment_type.changed" : "appointment_type.created", actorUserId: user.id, entityType: "appointment_type", entityId: v.id, detail: values, request }, tx);
+    await audit(
+      {
+        action: v.id ? "appointment_type.changed" : "appointment_type.created",
+        actorUserId: user.id,
+        entityType: "appointment_type",
+        entityId: v.id,
+        detail: values,
+        request,
+      },
+      tx,
+    );
     return true;
   });
-  if (!saved) return data(submission.reply({ formErrors: ["That appointment type no longer exists."] }), { status: 404 });
+  if (!saved)
+    return data(submission.reply({ formErrors: ["That appointment type no longer exists."] }), { status: 404 });
   return redirectWithToast("/settings/appointment-types", { kind: "success", title: `${v.name} saved` });
 }
 
@@ -92,24 +148,40 @@ function money(minor: number, currency: string) {
 export default function AppointmentTypes({ loaderData, actionData }: Route.ComponentProps) {
   const { types, fees, editing, reminderHoursBefore, currency } = loaderData;
   const navigation = useNavigation();
-  const isReminder = (actionData as { initialValue?: { intent?: string } } | undefined)?.initialValue?.intent === "reminder";
+  const isReminder =
+    (actionData as { initialValue?: { intent?: string } } | undefined)?.initialValue?.intent === "reminder";
   const [form, fields] = useForm({
     id: `type-${editing?.id ?? "new"}`,
     lastResult: navigation.state === "idle" && !isReminder ? (actionData as never) : null,
     defaultValue: editing
-      ? { ...editing, durationMinutes: String(editing.durationMinutes), recallMonths: editing.recallMonths ? String(editing.recallMonths) : "", defaultFeeItemId: editing.defaultFeeItemId ?? "", routineExam: editing.routineExam ? "on" : undefined, onlineBooking: editing.onlineBooking ? "on" : undefined, active: editing.active ? "on" : undefined }
+      ? {
+          ...editing,
+          durationMinutes: String(editing.durationMinutes),
+          recallMonths: editing.recallMonths ? String(editing.recallMonths) : "",
+          defaultFeeItemId: editing.defaultFeeItemId ?? "",
+          routineExam: editing.routineExam ? "on" : undefined,
+          onlineBooking: editing.onlineBooking ? "on" : undefined,
+          active: editing.active ? "on" : undefined,
+        }
       : { durationMinutes: "30", performerRoles: ["owner", "optometrist"], routineExam: "on", active: "on" },
     onValidate: ({ formData }) => parseWithZod(formData, { schema: typeSchema }),
     shouldValidate: "onBlur",
   });
-  const [rForm, rFields] = useForm({ id: "reminder", lastResult: navigation.state === "idle" && isReminder ? (actionData as never) : null, defaultValue: { reminderHoursBefore: String(reminderHoursBefore) } });
+  const [rForm, rFields] = useForm({
+    id: "reminder",
+    lastResult: navigation.state === "idle" && isReminder ? (actionData as never) : null,
+    defaultValue: { reminderHoursBefore: String(reminderHoursBefore) },
+  });
   const feeName = (id: string | null) => {
     const f = fees.find((x) => x.id === id);
     return f ? `${f.code} · ${f.description} (${money(f.priceMinor, currency)})` : "None";
   };
   return (
     <>
-      <PageHeader title="Appointment types" description="The kinds of visit the practice books: length, default fee line, who may perform them and the recall interval." />
+      <PageHeader
+        title="Appointment types"
+        description="The kinds of visit the practice books: length, default fee line, who may perform them and the recall interval."
+      />
       <Card title="Types" className="mb-6">
         <div className="overflow-x-auto">
           <table className="w-full text-left text-sm">
@@ -133,10 +205,22 @@ export default function AppointmentTypes({ loaderData, actionData }: Route.Compo
                   <td className="py-2 pr-4">{t.durationMinutes} min</td>
                   <td className="py-2 pr-4">{feeName(t.defaultFeeItemId)}</td>
                   <td className="py-2 pr-4">{t.performerRoles.map((r) => ROLE_LABEL[r]).join(", ")}</td>
-                  <td className="py-2 pr-4">{!t.routineExam ? "Not a routine exam" : t.recallMonths ? `${t.recallMonths} months` : "Practice default by age"}</td>
                   <td className="py-2 pr-4">
-                    {t.active ? <StatusBadge tone="success">Offered</StatusBadge> : <StatusBadge tone="warning">Withdrawn</StatusBadge>}
-                    {t.active && t.onlineBooking ? <span className="mt-1 block text-xs text-muted">also bookable online</span> : null}
+                    {!t.routineExam
+                      ? "Not a routine exam"
+                      : t.recallMonths
+                        ? `${t.recallMonths} months`
+                        : "Practice default by age"}
+                  </td>
+                  <td className="py-2 pr-4">
+                    {t.active ? (
+                      <StatusBadge tone="success">Offered</StatusBadge>
+                    ) : (
+                      <StatusBadge tone="warning">Withdrawn</StatusBadge>
+                    )}
+                    {t.active && t.onlineBooking ? (
+                      <span className="mt-1 block text-xs text-muted">also bookable online</span>
+                    ) : null}
                   </td>
                   <td className="py-2">
                     <Link to={`?edit=${t.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
@@ -161,8 +245,16 @@ export default function AppointmentTypes({ loaderData, actionData }: Route.Compo
             </div>
           ) : null}
           <Field label="Name" errors={fields.name.errors} inputProps={getInputProps(fields.name, { type: "text" })} />
-          <Field label="Length (minutes)" errors={fields.durationMinutes.errors} inputProps={getInputProps(fields.durationMinutes, { type: "number" })} />
-          <SelectField label="Default fee line" errors={fields.defaultFeeItemId.errors} selectProps={getSelectProps(fields.defaultFeeItemId)}>
+          <Field
+            label="Length (minutes)"
+            errors={fields.durationMinutes.errors}
+            inputProps={getInputProps(fields.durationMinutes, { type: "number" })}
+          />
+          <SelectField
+            label="Default fee line"
+            errors={fields.defaultFeeItemId.errors}
+            selectProps={getSelectProps(fields.defaultFeeItemId)}
+          >
             <option value="">None</option>
             {fees.map((f) => (
               <option key={f.id} value={f.id}>
@@ -170,13 +262,24 @@ export default function AppointmentTypes({ loaderData, actionData }: Route.Compo
               </option>
             ))}
           </SelectField>
-          <Field label="Recall after (months)" hint="Leave empty for the practice default by age." errors={fields.recallMonths.errors} inputProps={getInputProps(fields.recallMonths, { type: "number" })} />
+          <Field
+            label="Recall after (months)"
+            hint="Leave empty for the practice default by age."
+            errors={fields.recallMonths.errors}
+            inputProps={getInputProps(fields.recallMonths, { type: "number" })}
+          />
           <fieldset className="sm:col-span-2">
             <legend className="mb-1 text-sm font-semibold">Who may perform it</legend>
             <div className="flex flex-wrap gap-4">
               {ROLES.map((r) => (
                 <label key={r} className="flex items-center gap-2 text-sm">
-                  <input type="checkbox" name="performerRoles" value={r} defaultChecked={(editing?.performerRoles ?? ["owner", "optometrist"]).includes(r)} className="size-4 accent-accent-700" />
+                  <input
+                    type="checkbox"
+                    name="performerRoles"
+                    value={r}
+                    defaultChecked={(editing?.performerRoles ?? ["owner", "optometrist"]).includes(r)}
+                    className="size-4 accent-accent-700"
+                  />
                   {ROLE_LABEL[r]}
                 </label>
               ))}
@@ -184,15 +287,30 @@ export default function AppointmentTypes({ loaderData, actionData }: Route.Compo
             <ErrorList errors={fields.performerRoles.errors} />
           </fieldset>
           <label className="flex items-center gap-2 text-sm">
-            <input type="checkbox" name="routineExam" defaultChecked={editing ? editing.routineExam : true} className="size-4 accent-accent-700" />
+            <input
+              type="checkbox"
+              name="routineExam"
+              defaultChecked={editing ? editing.routineExam : true}
+              className="size-4 accent-accent-700"
+            />
             A routine exam (restarts the patient&apos;s recall clock)
           </label>
           <label className="flex items-center gap-2 text-sm">
-            <input type="checkbox" name="active" defaultChecked={editing ? editing.active : true} className="size-4 accent-accent-700" />
+            <input
+              type="checkbox"
+              name="active"
+              defaultChecked={editing ? editing.active : true}
+              className="size-4 accent-accent-700"
+            />
             Offered for booking
           </label>
           <label className="flex items-center gap-2 text-sm">
-            <input type="checkbox" name="onlineBooking" defaultChecked={editing ? editing.onlineBooking : false} className="size-4 accent-accent-700" />
+            <input
+              type="checkbox"
+              name="onlineBooking"
+              defaultChecked={editing ? editing.onlineBooking : false}
+              className="size-4 accent-accent-700"
+            />
             Patients may book it themselves online, in free slots
           </label>
           <div className="flex gap-3 sm:col-span-2">
@@ -200,7 +318,10 @@ export default function AppointmentTypes({ loaderData, actionData }: Route.Compo
               {editing ? "Save changes" : "Add type"}
             </Button>
             {editing ? (
-              <Link to="/settings/appointment-types" className="self-center font-semibold text-accent-700 underline underline-offset-4">
+              <Link
+                to="/settings/appointment-types"
+                className="self-center font-semibold text-accent-700 underline underline-offset-4"
+              >
                 Cancel editing
               </Link>
             ) : null}
@@ -211,7 +332,11 @@ export default function AppointmentTypes({ loaderData, actionData }: Route.Compo
         <Form method="post" {...getFormProps(rForm)} className="flex flex-wrap items-end gap-4">
           <input type="hidden" name="intent" value="reminder" />
           <div className="w-64">
-            <Field label="Send the reminder this many hours before" errors={rFields.reminderHoursBefore.errors} inputProps={getInputProps(rFields.reminderHoursBefore, { type: "number" })} />
+            <Field
+              label="Send the reminder this many hours before"
+              errors={rFields.reminderHoursBefore.errors}
+              inputProps={getInputProps(rFields.reminderHoursBefore, { type: "number" })}
+            />
           </div>
           <Button type="submit" variant="secondary">
             Save reminder time

@@ -26,7 +26,11 @@ const feeSchema = z.object({
     .min(1, "Give a code.")
     .max(20, "At most 20 characters.")
     .regex(/^[A-Za-z0-9][A-Za-z0-9._-]*$/, "Letters, digits, dot, dash or underscore; no spaces."),
-  description: z.string({ error: "Describe the service or item." }).trim().min(2, "Describe the service or item.").max(120),
+  description: z
+    .string({ error: "Describe the service or item." })
+    .trim()
+    .min(2, "Describe the service or item.")
+    .max(120),
   price: z.string({ error: "Give a price." }).trim().min(1, "Give a price."),
   kind: z.enum(["service", "item"], { error: "Choose service or item." }),
   taxCategory: z.enum(["standard", "exempt"], { error: "Choose how it is taxed." }),
@@ -34,14 +38,23 @@ const feeSchema = z.object({
 const toggleSchema = z.object({ intent: z.enum(["withdraw", "restore"]), id: z.uuid() });
 const taxSchema = z.object({
   intent: z.literal("tax"),
-  taxRate: decimalField("Give a rate in per cent, e.g. 20 or 0.", z.number().min(0, "At least 0 %.").max(100, "At most 100 %.")),
+  taxRate: decimalField(
+    "Give a rate in per cent, e.g. 20 or 0.",
+    z.number().min(0, "At least 0 %.").max(100, "At most 100 %."),
+  ),
 });
 const schema = z.discriminatedUnion("intent", [feeSchema, toggleSchema, taxSchema]);
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);
-  const [settings] = await db.select({ currency: practiceSettings.currency, taxRateBp: practiceSettings.taxRateBp }).from(practiceSettings).where(eq(practiceSettings.id, 1));
-  const fees = await db.select().from(feeItems).orderBy(sql`${feeItems.active} desc`, asc(feeItems.code));
+  const [settings] = await db
+    .select({ currency: practiceSettings.currency, taxRateBp: practiceSettings.taxRateBp })
+    .from(practiceSettings)
+    .where(eq(practiceSettings.id, 1));
+  const fees = await db
+    .select()
+    .from(feeItems)
+    .orderBy(sql`${feeItems.active} desc`, asc(feeItems.code));
   const editId = new URL(request.url).searchParams.get("edit");
   const editing = fees.find((f) => f.id === editId) ?? null;
   return { currency: settings?.currency ?? "GBP", taxRateBp: settings?.taxRateBp ?? 0, fees, editing };
@@ -49,12 +62,21 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, ["owner"]);
-  const [settings] = await db.select({ currency: practiceSettings.currency }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const [settings] = await db
+    .select({ currency: practiceSettings.currency })
+    .from(practiceSettings)
+    .where(eq(practiceSettings.id, 1));
   const currency = settings?.currency ?? "GBP";
   const submission = parseWithZod(await request.formData(), {
     schema: schema.superRefine((v, ctx) => {
-      if (v.intent === "save" && parseMoney(v.price, currency) === null) ctx.addIssue({ code: "custom", path: ["price"], message: `Give the price in ${currency}, e.g. 65 or 65.00 (no more than two decimals).` });
-      if (v.intent === "tax" && Math.round(v.taxRate * 100) !== v.taxRate * 100) ctx.addIssue({ code: "custom", path: ["taxRate"], message: "At most two decimals, e.g. 17.5." });
+      if (v.intent === "save" && parseMoney(v.price, currency) === null)
+        ctx.addIssue({
+          code: "custom",
+          path: ["price"],
+          message: `Give the price in ${currency}, e.g. 65 or 65.00 (no more than two decimals).`,
+        });
+      if (v.intent === "tax" && Math.round(v.taxRate * 100) !== v.taxRate * 100)
+        ctx.addIssue({ code: "custom", path: ["taxRate"], message: "At most two decimals, e.g. 17.5." });
     }),
   });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
@@ -68,24 +90,63 @@ export async function action({ request }: Route.ActionArgs) {
     return redirectWithToast("/settings/fees", { kind: "success", title: `Tax rate set to ${formatRate(taxRateBp)}` });
   }
   if (v.intent === "save") {
-    const values = { code: v.code.toUpperCase(), description: v.description, priceMinor: parseMoney(v.price, currency)!, kind: v.kind, taxCategory: v.taxCategory };
-    const clash = await db.select({ id: feeItems.id }).from(feeItems).where(sql`lower(${feeItems.code}) = lower(${values.code})`);
-    if (clash.some((c) => c.id !== v.id)) return data(submission.reply({ fieldErrors: { code: [`The code ${values.code} is already in the fee schedule.`] } }), { status: 400 });
+    const values = {
+      code: v.code.toUpperCase(),
+      description: v.description,
+      priceMinor: parseMoney(v.price, currency)!,
+      kind: v.kind,
+      taxCategory: v.taxCategory,
+    };
+    const clash = await db
+      .select({ id: feeItems.id })
+      .from(feeItems)
+      .where(sql`lower(${feeItems.code}) = lower(${values.code})`);
+    if (clash.some((c) => c.id !== v.id))
+      return data(
+        submission.reply({ fieldErrors: { code: [`The code ${values.code} is already in the fee schedule.`] } }),
+        { status: 400 },
+      );
     await db.transaction(async (tx) => {
       if (v.id) {
         const done = await tx.update(feeItems).set(values).where(eq(feeItems.id, v.id)).returning({ id: feeItems.id });
         if (!done.length) throw data({ error: "There is no such fee." }, { status: 404 });
       } else await tx.insert(feeItems).values(values);
-      await audit({ action: v.id ? "billing.fee_changed" : "billing.fee_added", actorUserId: user.id, entityType: "fee_item", entityId: v.id, detail: values, request }, tx);
+      await audit(
+        {
+          action: v.id ? "billing.fee_changed" : "billing.fee_added",
+          actorUserId: user.id,
+          entityType: "fee_item",
+          entityId: v.id,
+          detail: values,
+          request,
+        },
+        tx,
+      );
     });
     return redirectWithToast("/settings/fees", { kind: "success", title: `${values.code} saved` });
   }
   await db.transaction(async (tx) => {
-    const done = await tx.update(feeItems).set({ active: v.intent === "restore" }).where(eq(feeItems.id, v.id)).returning({ code: feeItems.code });
+    const done = await tx
+      .update(feeItems)
+      .set({ active: v.intent === "restore" })
+      .where(eq(feeItems.id, v.id))
+      .returning({ code: feeItems.code });
     if (!done.length) throw data({ error: "There is no such fee." }, { status: 404 });
-    await audit({ action: `billing.fee_${v.intent === "restore" ? "restored" : "withdrawn"}`, actorUserId: user.id, entityType: "fee_item", entityId: v.id, request }, tx);
+    await audit(
+      {
+        action: `billing.fee_${v.intent === "restore" ? "restored" : "withdrawn"}`,
+        actorUserId: user.id,
+        entityType: "fee_item",
+        entityId: v.id,
+        request,
+      },
+      tx,
+    );
   });
-  return redirectWithToast("/settings/fees", { kind: "success", title: v.intent === "restore" ? "Fee restored" : "Fee withdrawn: it can no longer be added to invoices" });
+  return redirectWithToast("/settings/fees", {
+    kind: "success",
+    title: v.intent === "restore" ? "Fee restored" : "Fee withdrawn: it can no longer be added to invoices",
+  });
 }
 
 export default function FeeSchedule({ loaderData, actionData }: Route.ComponentProps) {
@@ -97,7 +158,13 @@ export default function FeeSchedule({ loaderData, actionData }: Route.ComponentP
     id: editing ? `fee-${editing.id}` : "fee-new",
     lastResult: last && (last as { initialValue?: { intent?: string } }).initialValue?.intent === "save" ? last : null,
     defaultValue: editing
-      ? { code: editing.code, description: editing.description, price: minorToDecimal(editing.priceMinor, currency), kind: editing.kind, taxCategory: editing.taxCategory }
+      ? {
+          code: editing.code,
+          description: editing.description,
+          price: minorToDecimal(editing.priceMinor, currency),
+          kind: editing.kind,
+          taxCategory: editing.taxCategory,
+        }
       : { kind: "service", taxCategory: "exempt" },
     // Validated on the server only: the price needs the practice's currency.
   });
@@ -108,7 +175,10 @@ export default function FeeSchedule({ loaderData, actionData }: Route.ComponentP
   });
   return (
     <>
-      <PageHeader title="Fee schedule" description={`Codes, descriptions and prices used on invoices. Prices are before tax, in ${currency}.`} />
+      <PageHeader
+        title="Fee schedule"
+        description={`Codes, descriptions and prices used on invoices. Prices are before tax, in ${currency}.`}
+      />
       <Card title="Fees" className="mb-6">
         {fees.length === 0 ? <p className="text-muted">No fees yet. Add the first one below.</p> : null}
         <div className="overflow-x-auto">
@@ -134,15 +204,30 @@ export default function FeeSchedule({ loaderData, actionData }: Route.ComponentP
                   <td className="py-3 pr-4">{f.kind === "service" ? "Service" : "Item"}</td>
                   <td className="py-3 pr-4">{f.taxCategory === "standard" ? "Standard rate" : "Exempt"}</td>
                   <td className="py-3 pr-4 text-right tabular-nums">{formatMoney(f.priceMinor, currency)}</td>
-                  <td className="py-3 pr-4">{f.active ? <StatusBadge tone="success">In use</StatusBadge> : <StatusBadge tone="warning">Withdrawn</StatusBadge>}</td>
+                  <td className="py-3 pr-4">
+                    {f.active ? (
+                      <StatusBadge tone="success">In use</StatusBadge>
+                    ) : (
+                      <StatusBadge tone="warning">Withdrawn</StatusBadge>
+                    )}
+                  </td>
                   <td className="py-3">
                     <div className="flex gap-2">
-                      <Link to={`?edit=${f.id}`} className="rounded-md border border-line px-3 py-1 text-sm font-semibold hover:bg-canvas">
+                      <Link
+                        to={`?edit=${f.id}`}
+                        className="rounded-md border border-line px-3 py-1 text-sm font-semibold hover:bg-canvas"
+                      >
                         Edit<span className="sr-only"> {f.code}</span>
                       </Link>
                       <Form method="post">
                         <input type="hidden" name="id" value={f.id} />
-                        <Button type="submit" name="intent" value={f.active ? "withdraw" : "restore"} variant="secondary" className="px-3 py-1">
+                        <Button
+                          type="submit"
+                          name="intent"
+                          value={f.active ? "withdraw" : "restore"}
+                          variant="secondary"
+                          className="px-3 py-1"
+                        >
                           {f.active ? "Withdraw" : "Restore"}
                           <span className="sr-only"> {f.code}</span>
                         </Button>
@@ -167,16 +252,33 @@ export default function FeeSchedule({ loaderData, actionData }: Route.ComponentP
             ) : null}
             <input type="hidden" name="intent" value="save" />
             {editing ? <input type="hidden" name="id" value={editing.id} /> : null}
-            <Field label="Code" hint="Your own code or a procedure code." errors={fields.code.errors} inputProps={getInputProps(fields.code, { type: "text" })} />
-            <Field label={`Price (${currency}, before tax)`} errors={fields.price.errors} inputProps={{ ...getInputProps(fields.price, { type: "text" }), inputMode: "decimal" }} />
+            <Field
+              label="Code"
+              hint="Your own code or a procedure code."
+              errors={fields.code.errors}
+              inputProps={getInputProps(fields.code, { type: "text" })}
+            />
+            <Field
+              label={`Price (${currency}, before tax)`}
+              errors={fields.price.errors}
+              inputProps={{ ...getInputProps(fields.price, { type: "text" }), inputMode: "decimal" }}
+            />
             <div className="sm:col-span-2">
-              <Field label="Description" errors={fields.description.errors} inputProps={getInputProps(fields.description, { type: "text" })} />
+              <Field
+                label="Description"
+                errors={fields.description.errors}
+                inputProps={getInputProps(fields.description, { type: "text" })}
+              />
             </div>
             <SelectField label="Kind" errors={fields.kind.errors} selectProps={getSelectProps(fields.kind)}>
               <option value="service">Service (exam, fitting, consultation)</option>
               <option value="item">Item (frames, lenses, solutions)</option>
             </SelectField>
-            <SelectField label="Tax" errors={fields.taxCategory.errors} selectProps={getSelectProps(fields.taxCategory)}>
+            <SelectField
+              label="Tax"
+              errors={fields.taxCategory.errors}
+              selectProps={getSelectProps(fields.taxCategory)}
+            >
               <option value="exempt">Exempt (no tax)</option>
               <option value="standard">Standard rate</option>
             </SelectField>
@@ -185,7 +287,10 @@ export default function FeeSchedule({ loaderData, actionData }: Route.ComponentP
                 {editing ? "Save changes" : "Add fee"}
               </Button>
               {editing ? (
-                <Link to="/settings/fees" className="self-center font-semibold text-accent-700 underline underline-offset-4">
+                <Link
+                  to="/settings/fees"
+                  className="self-center font-semibold text-accent-700 underline underline-offset-4"
+                >
                   Cancel
                 </Link>
               ) : null}

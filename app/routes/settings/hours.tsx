@@ -8,7 +8,14 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
-import { providerBreaks, rooms as roomsTable, siteOpeningHours, sites as sitesTable, users, workingHours } from "~/db/schema";
+import {
+  providerBreaks,
+  rooms as roomsTable,
+  siteOpeningHours,
+  sites as sitesTable,
+  users,
+  workingHours,
+} from "~/db/schema";
 import { WEEKDAY_NAMES } from "~/lib/scheduling/hours";
 import { hhmmToMinutes, minutesToHhmm } from "~/lib/scheduling/time";
 import { audit } from "~/utils/audit.server";
@@ -45,7 +52,13 @@ export async function loader({ request }: Route.LoaderArgs) {
       roomId: h?.roomId ?? "",
     };
   });
-  return { providers: providers.map(({ id, name }) => ({ id, name })), provider: { id: provider.id, name: provider.name }, days, timeZone, places };
+  return {
+    providers: providers.map(({ id, name }) => ({ id, name })),
+    provider: { id: provider.id, name: provider.name },
+    days,
+    timeZone,
+    places,
+  };
 }
 
 type DayErrors = Record<string, string[]>;
@@ -55,10 +68,14 @@ export async function action({ request }: Route.ActionArgs) {
   const form = await request.formData();
   const providerId = z.uuid().safeParse(form.get("providerId"));
   if (!providerId.success) return data({ errors: { "": ["Choose a provider."] } as DayErrors }, { status: 400 });
-  const [provider] = await db.select({ id: users.id, name: users.name }).from(users).where(and(eq(users.id, providerId.data), eq(users.active, true)));
+  const [provider] = await db
+    .select({ id: users.id, name: users.name })
+    .from(users)
+    .where(and(eq(users.id, providerId.data), eq(users.active, true)));
   if (!provider) return data({ errors: { "": ["No such provider."] } as DayErrors }, { status: 404 });
   const errors: DayErrors = {};
-  const hours: { weekday: number; startMinute: number; endMinute: number; siteId: string; roomId: string | null }[] = [];
+  const hours: { weekday: number; startMinute: number; endMinute: number; siteId: string; roomId: string | null }[] =
+    [];
   const breaks: { weekday: number; startMinute: number; endMinute: number; label: string; siteId: string }[] = [];
   const allSites = await db.select().from(sitesTable).where(eq(sitesTable.active, true));
   const allRooms = await db.select().from(roomsTable).where(eq(roomsTable.active, true));
@@ -101,14 +118,17 @@ export async function action({ request }: Route.ActionArgs) {
       continue;
     }
     if (open && (s < open.startMinute || e > open.endMinute)) {
-      errors[`hours-${weekday}`] = [`${site.name} is open ${minutesToHhmm(open.startMinute)}–${minutesToHhmm(open.endMinute)} on ${WEEKDAY_NAMES[weekday - 1]}s; working hours must fit inside.`];
+      errors[`hours-${weekday}`] = [
+        `${site.name} is open ${minutesToHhmm(open.startMinute)}–${minutesToHhmm(open.endMinute)} on ${WEEKDAY_NAMES[weekday - 1]}s; working hours must fit inside.`,
+      ];
       continue;
     }
     hours.push({ weekday, startMinute: s, endMinute: e, siteId: site.id, roomId });
     if (bs || be) {
       const b1 = hhmmToMinutes(bs);
       const b2 = hhmmToMinutes(be);
-      if (b1 === null || b2 === null || b2 <= b1) errors[`break-${weekday}`] = ["Give the break's start and end as HH:MM, end after start."];
+      if (b1 === null || b2 === null || b2 <= b1)
+        errors[`break-${weekday}`] = ["Give the break's start and end as HH:MM, end after start."];
       else if (b1 < s || b2 > e) errors[`break-${weekday}`] = ["The break must lie inside the working hours."];
       else breaks.push({ weekday, startMinute: b1, endMinute: b2, label, siteId: site.id });
     }
@@ -119,9 +139,23 @@ export async function action({ request }: Route.ActionArgs) {
     await tx.delete(providerBreaks).where(eq(providerBreaks.providerId, provider.id));
     if (hours.length) await tx.insert(workingHours).values(hours.map((h) => ({ ...h, providerId: provider.id })));
     if (breaks.length) await tx.insert(providerBreaks).values(breaks.map((b) => ({ ...b, providerId: provider.id })));
-    await audit({ action: "schedule.hours_changed", actorUserId: user.id, entityType: "user", entityId: provider.id, detail: { hours, breaks }, request }, tx);
+    await audit(
+      {
+        action: "schedule.hours_changed",
+        actorUserId: user.id,
+        entityType: "user",
+        entityId: provider.id,
+        detail: { hours, breaks },
+        request,
+      },
+      tx,
+    );
   });
-  return redirectWithToast(`/settings/hours?provider=${provider.id}`, { kind: "success", title: `Working hours of ${provider.name} saved`, description: "Existing appointments are kept; new bookings follow the new hours." });
+  return redirectWithToast(`/settings/hours?provider=${provider.id}`, {
+    kind: "success",
+    title: `Working hours of ${provider.name} saved`,
+    description: "Existing appointments are kept; new bookings follow the new hours.",
+  });
 }
 
 export default function Hours({ loaderData, actionData }: Route.ComponentProps) {
@@ -132,7 +166,10 @@ export default function Hours({ loaderData, actionData }: Route.ComponentProps) 
   if (!provider) return <Notice tone="info" title="No optometrist or owner accounts to set hours for." />;
   return (
     <>
-      <PageHeader title="Working hours" description={`When each provider can be booked, in the practice's time (${timeZone}). Leave a day empty for a day off.`} />
+      <PageHeader
+        title="Working hours"
+        description={`When each provider can be booked, in the practice's time (${timeZone}). Leave a day empty for a day off.`}
+      />
       <Form method="get" className="mb-4 flex items-end gap-3">
         <div>
           <label htmlFor="hours-provider" className="mb-1 block text-sm font-semibold">
@@ -150,8 +187,14 @@ export default function Hours({ loaderData, actionData }: Route.ComponentProps) 
           Show
         </Button>
       </Form>
-      {errors[""]?.length ? <Notice tone="error" title="Not saved">{errors[""].join(" ")}</Notice> : null}
-      {Object.keys(errors).length && !errors[""] ? <Notice tone="error" title="Not saved: check the days marked below." /> : null}
+      {errors[""]?.length ? (
+        <Notice tone="error" title="Not saved">
+          {errors[""].join(" ")}
+        </Notice>
+      ) : null}
+      {Object.keys(errors).length && !errors[""] ? (
+        <Notice tone="error" title="Not saved: check the days marked below." />
+      ) : null}
       <Form method="post" key={provider.id}>
         <input type="hidden" name="providerId" value={provider.id} />
         <Card title={`Week of ${provider.name}`}>
@@ -182,7 +225,12 @@ export default function Hours({ loaderData, actionData }: Route.ComponentProps) 
                         <label className="sr-only" htmlFor={`site-${d.weekday}`}>
                           {d.name} site
                         </label>
-                        <Select id={`site-${d.weekday}`} name={`site-${d.weekday}`} defaultValue={d.siteId} className="w-44">
+                        <Select
+                          id={`site-${d.weekday}`}
+                          name={`site-${d.weekday}`}
+                          defaultValue={d.siteId}
+                          className="w-44"
+                        >
                           {places.sites.map((x) => (
                             <option key={x.id} value={x.id}>
                               {x.name}
@@ -196,7 +244,12 @@ export default function Hours({ loaderData, actionData }: Route.ComponentProps) 
                         <label className="sr-only" htmlFor={`room-${d.weekday}`}>
                           {d.name} room
                         </label>
-                        <Select id={`room-${d.weekday}`} name={`room-${d.weekday}`} defaultValue={d.roomId} className="w-44">
+                        <Select
+                          id={`room-${d.weekday}`}
+                          name={`room-${d.weekday}`}
+                          defaultValue={d.roomId}
+                          className="w-44"
+                        >
                           <option value="">No fixed room</option>
                           {places.sites.map((x) => (
                             <optgroup key={x.id} label={x.name}>
@@ -218,9 +271,25 @@ export default function Hours({ loaderData, actionData }: Route.ComponentProps) 
                       return (
                         <td key={k} className="py-2 pr-4">
                           <label className="sr-only" htmlFor={`${k}-${d.weekday}`}>
-                            {d.name} {k === "start" ? "starts" : k === "end" ? "ends" : k === "breakStart" ? "break from" : "break to"}
+                            {d.name}{" "}
+                            {k === "start"
+                              ? "starts"
+                              : k === "end"
+                                ? "ends"
+                                : k === "breakStart"
+                                  ? "break from"
+                                  : "break to"}
                           </label>
-                          <Input id={`${k}-${d.weekday}`} name={`${k}-${d.weekday}`} type="time" step={300} defaultValue={d[k]} className="w-32" aria-invalid={bad || undefined} aria-describedby={bad ? `${group}-${d.weekday}-err` : undefined} />
+                          <Input
+                            id={`${k}-${d.weekday}`}
+                            name={`${k}-${d.weekday}`}
+                            type="time"
+                            step={300}
+                            defaultValue={d[k]}
+                            className="w-32"
+                            aria-invalid={bad || undefined}
+                            aria-describedby={bad ? `${group}-${d.weekday}-err` : undefined}
+                          />
                         </td>
                       );
                     })}
@@ -228,7 +297,13 @@ export default function Hours({ loaderData, actionData }: Route.ComponentProps) 
                       <label className="sr-only" htmlFor={`breakLabel-${d.weekday}`}>
                         {d.name} break name
                       </label>
-                      <Input id={`breakLabel-${d.weekday}`} name={`breakLabel-${d.weekday}`} type="text" defaultValue={d.breakLabel} className="w-32" />
+                      <Input
+                        id={`breakLabel-${d.weekday}`}
+                        name={`breakLabel-${d.weekday}`}
+                        type="text"
+                        defaultValue={d.breakLabel}
+                        className="w-32"
+                      />
                     </td>
                   </tr>
                 ))}

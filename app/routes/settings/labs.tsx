@@ -24,43 +24,92 @@ export const labSchema = z.object({
   accountRef: z.string().trim().max(40).default(""),
 });
 const activeSchema = z.object({ intent: z.enum(["withdraw", "restore"]), id: z.uuid() });
-export const overdueSchema = z.object({ intent: z.literal("overdue"), labOverdueDays: decimalField("Give a number of days.", z.number().int("Whole days only.").min(1, "At least 1 day.").max(90, "At most 90 days.")) });
+export const overdueSchema = z.object({
+  intent: z.literal("overdue"),
+  labOverdueDays: decimalField(
+    "Give a number of days.",
+    z.number().int("Whole days only.").min(1, "At least 1 day.").max(90, "At most 90 days."),
+  ),
+});
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);
   const rows = await db.select().from(labs).orderBy(desc(labs.active), asc(labs.name));
-  const [p] = await db.select({ labOverdueDays: practiceSettings.labOverdueDays }).from(practiceSettings).where(eq(practiceSettings.id, 1));
-  return { labs: rows.map((l) => ({ id: l.id, name: l.name, email: l.email, phone: l.phone, accountRef: l.accountRef, active: l.active })), labOverdueDays: p?.labOverdueDays ?? 10 };
+  const [p] = await db
+    .select({ labOverdueDays: practiceSettings.labOverdueDays })
+    .from(practiceSettings)
+    .where(eq(practiceSettings.id, 1));
+  return {
+    labs: rows.map((l) => ({
+      id: l.id,
+      name: l.name,
+      email: l.email,
+      phone: l.phone,
+      accountRef: l.accountRef,
+      active: l.active,
+    })),
+    labOverdueDays: p?.labOverdueDays ?? 10,
+  };
 }
 
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, ["owner"]);
   const formData = await request.formData();
   const intent = String(formData.get("intent"));
-  const submission = parseWithZod(formData, { schema: intent === "add" ? labSchema : intent === "overdue" ? overdueSchema : activeSchema });
+  const submission = parseWithZod(formData, {
+    schema: intent === "add" ? labSchema : intent === "overdue" ? overdueSchema : activeSchema,
+  });
   if (submission.status !== "success") return data({ intent, result: submission.reply() }, { status: 400 });
   const v = submission.value;
   if (v.intent === "add") {
     await db.transaction(async (tx) => {
-      const [l] = await tx.insert(labs).values({ name: v.name, email: v.email, phone: v.phone, accountRef: v.accountRef }).returning({ id: labs.id });
-      await audit({ action: "lab.added", actorUserId: user.id, entityType: "lab", entityId: l!.id, detail: v, request }, tx);
+      const [l] = await tx
+        .insert(labs)
+        .values({ name: v.name, email: v.email, phone: v.phone, accountRef: v.accountRef })
+        .returning({ id: labs.id });
+      await audit(
+        { action: "lab.added", actorUserId: user.id, entityType: "lab", entityId: l!.id, detail: v, request },
+        tx,
+      );
     });
     return redirectWithToast("/settings/labs", { kind: "success", title: `${v.name} added` });
   }
   if (v.intent === "overdue") {
     await db.transaction(async (tx) => {
-      await tx.update(practiceSettings).set({ labOverdueDays: v.labOverdueDays, updatedAt: new Date() }).where(eq(practiceSettings.id, 1));
-      await audit({ action: "practice.lab_overdue_days_changed", actorUserId: user.id, detail: { labOverdueDays: v.labOverdueDays }, request }, tx);
+      await tx
+        .update(practiceSettings)
+        .set({ labOverdueDays: v.labOverdueDays, updatedAt: new Date() })
+        .where(eq(practiceSettings.id, 1));
+      await audit(
+        {
+          action: "practice.lab_overdue_days_changed",
+          actorUserId: user.id,
+          detail: { labOverdueDays: v.labOverdueDays },
+          request,
+        },
+        tx,
+      );
     });
-    return redirectWithToast("/settings/labs", { kind: "success", title: `Orders at the lab over ${v.labOverdueDays} days are reported overdue` });
+    return redirectWithToast("/settings/labs", {
+      kind: "success",
+      title: `Orders at the lab over ${v.labOverdueDays} days are reported overdue`,
+    });
   }
   const row = await db.transaction(async (tx) => {
-    const [r] = await tx.update(labs).set({ active: v.intent === "restore" }).where(eq(labs.id, v.id)).returning({ name: labs.name });
-    if (r) await audit({ action: `lab.${v.intent}`, actorUserId: user.id, entityType: "lab", entityId: v.id, request }, tx);
+    const [r] = await tx
+      .update(labs)
+      .set({ active: v.intent === "restore" })
+      .where(eq(labs.id, v.id))
+      .returning({ name: labs.name });
+    if (r)
+      await audit({ action: `lab.${v.intent}`, actorUserId: user.id, entityType: "lab", entityId: v.id, request }, tx);
     return r;
   });
   if (!row) throw data({ error: "Not found." }, { status: 404 });
-  return redirectWithToast("/settings/labs", { kind: "success", title: v.intent === "withdraw" ? `${row.name} hidden from new orders` : `${row.name} offered again` });
+  return redirectWithToast("/settings/labs", {
+    kind: "success",
+    title: v.intent === "withdraw" ? `${row.name} hidden from new orders` : `${row.name} offered again`,
+  });
 }
 
 export default function LabsSettings({ loaderData, actionData }: Route.ComponentProps) {
@@ -69,7 +118,10 @@ export default function LabsSettings({ loaderData, actionData }: Route.Component
   const err = (intent: string, name: string) => (actionData?.intent === intent ? errors[name] : undefined);
   return (
     <>
-      <PageHeader title="Labs" description="Where spectacle and contact-lens orders are sent. The order form goes to the lab's e-mail address." />
+      <PageHeader
+        title="Labs"
+        description="Where spectacle and contact-lens orders are sent. The order form goes to the lab's e-mail address."
+      />
       <Card title="Add a lab">
         <Form method="post" className="grid gap-4 sm:grid-cols-2" noValidate>
           <input type="hidden" name="intent" value="add" />
@@ -83,12 +135,21 @@ export default function LabsSettings({ loaderData, actionData }: Route.Component
               <label htmlFor={`lab-${name}`} className="mb-1 block text-sm font-semibold">
                 {label}
               </label>
-              <Input id={`lab-${name}`} name={name} type={type} aria-invalid={err("add", name!) ? true : undefined} aria-describedby={err("add", name!) ? `lab-${name}-error` : undefined} />
+              <Input
+                id={`lab-${name}`}
+                name={name}
+                type={type}
+                aria-invalid={err("add", name!) ? true : undefined}
+                aria-describedby={err("add", name!) ? `lab-${name}-error` : undefined}
+              />
               <ErrorList id={`lab-${name}-error`} errors={err("add", name!)} />
             </div>
           ))}
           <div className="sm:col-span-2">
-            <Button type="submit" pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "add"}>
+            <Button
+              type="submit"
+              pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "add"}
+            >
               Add lab
             </Button>
           </div>
@@ -114,7 +175,11 @@ export default function LabsSettings({ loaderData, actionData }: Route.Component
                 <Form method="post">
                   <input type="hidden" name="intent" value={l.active ? "withdraw" : "restore"} />
                   <input type="hidden" name="id" value={l.id} />
-                  <Button type="submit" variant="ghost" aria-label={`${l.active ? "Stop offering" : "Offer again"}: ${l.name}`}>
+                  <Button
+                    type="submit"
+                    variant="ghost"
+                    aria-label={`${l.active ? "Stop offering" : "Offer again"}: ${l.name}`}
+                  >
                     {l.active ? "Stop offering" : "Offer again"}
                   </Button>
                 </Form>
@@ -130,10 +195,20 @@ export default function LabsSettings({ loaderData, actionData }: Route.Component
             <label htmlFor="labOverdueDays" className="mb-1 block text-sm font-semibold">
               Report an order overdue after (days at the lab)
             </label>
-            <Input id="labOverdueDays" name="labOverdueDays" type="number" defaultValue={loaderData.labOverdueDays} className="w-28" aria-invalid={err("overdue", "labOverdueDays") ? true : undefined} aria-describedby={err("overdue", "labOverdueDays") ? "labOverdueDays-error" : undefined} />
+            <Input
+              id="labOverdueDays"
+              name="labOverdueDays"
+              type="number"
+              defaultValue={loaderData.labOverdueDays}
+              className="w-28"
+              aria-invalid={err("overdue", "labOverdueDays") ? true : undefined}
+              aria-describedby={err("overdue", "labOverdueDays") ? "labOverdueDays-error" : undefined}
+            />
             <ErrorList id="labOverdueDays-error" errors={err("overdue", "labOverdueDays")} />
           </div>
-          <Button type="submit" variant="secondary">Save</Button>
+          <Button type="submit" variant="secondary">
+            Save
+          </Button>
         </Form>
       </Card>
     </>

@@ -42,12 +42,29 @@ export const practiceSchema = z.object({
     .toUpperCase()
     .regex(/^[A-Z]{3}$/, "Use a three-letter ISO 4217 code such as GBP, EUR or USD."),
   jurisdiction: z.enum(["uk", "us"], { error: "Choose where the practice works." }),
-  acuityNotation: z.enum(ACUITY_NOTATIONS, { error: "Choose how the practice writes acuity: metric Snellen, feet, decimal or logMAR." }),
-  spectacleRxValidityMonths: decimalField("Give a number of months.", z.number().int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months.")),
-  contactLensRxValidityMonths: decimalField("Give a number of months.", z.number().int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months.")),
-  portalCancelCutoffHours: decimalField("Give a number of hours.", z.number().int("Whole hours only.").min(0, "Zero or more hours.").max(336, "At most 336 hours (two weeks).")),
-  portalBookingDays: decimalField("Give a number of days.", z.number().int("Whole days only.").min(1, "At least 1 day.").max(365, "At most 365 days (a year).")),
-  staffBookingDays: decimalField("Give a number of days.", z.number().int("Whole days only.").min(1, "At least 1 day.").max(3660, "At most 3660 days (ten years).")),
+  acuityNotation: z.enum(ACUITY_NOTATIONS, {
+    error: "Choose how the practice writes acuity: metric Snellen, feet, decimal or logMAR.",
+  }),
+  spectacleRxValidityMonths: decimalField(
+    "Give a number of months.",
+    z.number().int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months."),
+  ),
+  contactLensRxValidityMonths: decimalField(
+    "Give a number of months.",
+    z.number().int("Whole months only.").min(1, "At least 1 month.").max(120, "At most 120 months."),
+  ),
+  portalCancelCutoffHours: decimalField(
+    "Give a number of hours.",
+    z.number().int("Whole hours only.").min(0, "Zero or more hours.").max(336, "At most 336 hours (two weeks)."),
+  ),
+  portalBookingDays: decimalField(
+    "Give a number of days.",
+    z.number().int("Whole days only.").min(1, "At least 1 day.").max(365, "At most 365 days (a year)."),
+  ),
+  staffBookingDays: decimalField(
+    "Give a number of days.",
+    z.number().int("Whole days only.").min(1, "At least 1 day.").max(3660, "At most 3660 days (ten years)."),
+  ),
 });
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -72,7 +89,10 @@ export async function action({ request }: Route.ActionArgs) {
   const submission = parseWithZod(await request.formData(), { schema: practiceSchema });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
   await db.transaction(async (tx) => {
-    await tx.update(practiceSettings).set({ ...submission.value, updatedAt: new Date() }).where(eq(practiceSettings.id, 1));
+    await tx
+      .update(practiceSettings)
+      .set({ ...submission.value, updatedAt: new Date() })
+      .where(eq(practiceSettings.id, 1));
     await audit({ action: "practice.settings_changed", actorUserId: user.id, detail: submission.value, request }, tx);
   });
   return redirectWithToast("/settings", { kind: "success", title: "Practice details saved" });
@@ -91,24 +111,70 @@ export default function PracticeSettings({ loaderData, actionData }: Route.Compo
     <>
       <PageHeader title="Practice details" description="Shown on prescriptions, letters and invoices." />
       <Form method="post" {...getFormProps(form)} className="space-y-6">
-        {form.errors?.length ? <Notice tone="error" title="Not saved">{form.errors.join(" ")}</Notice> : null}
+        {form.errors?.length ? (
+          <Notice tone="error" title="Not saved">
+            {form.errors.join(" ")}
+          </Notice>
+        ) : null}
         <Card title="Letterhead">
           <div className="grid gap-4 sm:grid-cols-2">
-            <Field label="Practice name" errors={fields.name.errors} inputProps={getInputProps(fields.name, { type: "text" })} />
-            <Field label="Phone" errors={fields.phone.errors} inputProps={getInputProps(fields.phone, { type: "tel" })} />
-            <Field label="Address" errors={fields.addressLine1.errors} inputProps={getInputProps(fields.addressLine1, { type: "text" })} />
-            <Field label="Address (second line)" errors={fields.addressLine2.errors} inputProps={getInputProps(fields.addressLine2, { type: "text" })} />
-            <Field label="Town or city" errors={fields.city.errors} inputProps={getInputProps(fields.city, { type: "text" })} />
-            <Field label="Postcode" errors={fields.postcode.errors} inputProps={getInputProps(fields.postcode, { type: "text" })} />
-            <Field label="Practice e-mail" errors={fields.email.errors} inputProps={getInputProps(fields.email, { type: "email" })} />
+            <Field
+              label="Practice name"
+              errors={fields.name.errors}
+              inputProps={getInputProps(fields.name, { type: "text" })}
+            />
+            <Field
+              label="Phone"
+              errors={fields.phone.errors}
+              inputProps={getInputProps(fields.phone, { type: "tel" })}
+            />
+            <Field
+              label="Address"
+              errors={fields.addressLine1.errors}
+              inputProps={getInputProps(fields.addressLine1, { type: "text" })}
+            />
+            <Field
+              label="Address (second line)"
+              errors={fields.addressLine2.errors}
+              inputProps={getInputProps(fields.addressLine2, { type: "text" })}
+            />
+            <Field
+              label="Town or city"
+              errors={fields.city.errors}
+              inputProps={getInputProps(fields.city, { type: "text" })}
+            />
+            <Field
+              label="Postcode"
+              errors={fields.postcode.errors}
+              inputProps={getInputProps(fields.postcode, { type: "text" })}
+            />
+            <Field
+              label="Practice e-mail"
+              errors={fields.email.errors}
+              inputProps={getInputProps(fields.email, { type: "email" })}
+            />
           </div>
         </Card>
         <Card title="Policies">
           <div className="grid gap-4 sm:grid-cols-2">
-            <Field label="Time zone" hint="IANA name, e.g. Europe/London." errors={fields.timeZone.errors} inputProps={getInputProps(fields.timeZone, { type: "text" })} />
-            <Field label="Currency" hint="ISO 4217 code." errors={fields.currency.errors} inputProps={getInputProps(fields.currency, { type: "text" })} />
+            <Field
+              label="Time zone"
+              hint="IANA name, e.g. Europe/London."
+              errors={fields.timeZone.errors}
+              inputProps={getInputProps(fields.timeZone, { type: "text" })}
+            />
+            <Field
+              label="Currency"
+              hint="ISO 4217 code."
+              errors={fields.currency.errors}
+              inputProps={getInputProps(fields.currency, { type: "text" })}
+            />
             <div>
-              <SelectField label="Jurisdiction" errors={fields.jurisdiction.errors} selectProps={getSelectProps(fields.jurisdiction)}>
+              <SelectField
+                label="Jurisdiction"
+                errors={fields.jurisdiction.errors}
+                selectProps={getSelectProps(fields.jurisdiction)}
+              >
                 {Object.entries(JURISDICTIONS).map(([code, j]) => (
                   <option key={code} value={code}>
                     {j.label}
@@ -124,7 +190,11 @@ export default function PracticeSettings({ loaderData, actionData }: Route.Compo
               </p>
             </div>
             <div>
-              <SelectField label="Acuity notation" errors={fields.acuityNotation.errors} selectProps={getSelectProps(fields.acuityNotation)}>
+              <SelectField
+                label="Acuity notation"
+                errors={fields.acuityNotation.errors}
+                selectProps={getSelectProps(fields.acuityNotation)}
+              >
                 {ACUITY_NOTATIONS.map((n) => (
                   <option key={n} value={n}>
                     {ACUITY_NOTATION_LABEL[n]}
@@ -132,7 +202,9 @@ export default function PracticeSettings({ loaderData, actionData }: Route.Compo
                 ))}
               </SelectField>
               <p className="mt-1 text-sm text-muted">
-                How a bare number typed as acuity in an exam is read (the exam can state another notation per entry). Entries that cannot be read unambiguously in it are refused, and each entry echoes what it read before saving.
+                How a bare number typed as acuity in an exam is read (the exam can state another notation per entry).
+                Entries that cannot be read unambiguously in it are refused, and each entry echoes what it read before
+                saving.
               </p>
             </div>
             <Field

@@ -18,7 +18,11 @@ import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { decimalField } from "~/utils/number-field";
 
-const DELIVERY = { email: "E-mail (sent from Dioptra)", post: "Post (print the PDF)", fax: "Fax (print the PDF)" } as const;
+const DELIVERY = {
+  email: "E-mail (sent from Dioptra)",
+  post: "Post (print the PDF)",
+  fax: "Fax (print the PDF)",
+} as const;
 
 const optionalText = (max: number) => z.string().trim().max(max, `At most ${max} characters.`).default("");
 
@@ -26,7 +30,11 @@ export const recipientSchema = z
   .object({
     intent: z.literal("save"),
     id: z.uuid().optional(),
-    name: z.string({ error: "Give the ophthalmologist's or clinic's name." }).trim().min(2, "Give the ophthalmologist's or clinic's name.").max(120),
+    name: z
+      .string({ error: "Give the ophthalmologist's or clinic's name." })
+      .trim()
+      .min(2, "Give the ophthalmologist's or clinic's name.")
+      .max(120),
     clinic: optionalText(160),
     specialty: optionalText(120),
     email: z.union([z.literal(""), z.email({ error: "Enter a valid e-mail address." })]).default(""),
@@ -38,10 +46,16 @@ export const recipientSchema = z
     preferredDelivery: z.enum(["email", "post", "fax"], { error: "Choose how they prefer to receive letters." }),
     notes: optionalText(1000),
   })
-  .refine((v) => v.preferredDelivery !== "email" || v.email !== "", { path: ["email"], message: "An e-mail address is needed when they receive letters by e-mail." });
+  .refine((v) => v.preferredDelivery !== "email" || v.email !== "", {
+    path: ["email"],
+    message: "An e-mail address is needed when they receive letters by e-mail.",
+  });
 
 const days = (label: string) =>
-  decimalField(`${label}: give a number of days.`, z.number().int("Whole days only.").min(0, "At least 0 days (same day).").max(730, "At most 730 days."));
+  decimalField(
+    `${label}: give a number of days.`,
+    z.number().int("Whole days only.").min(0, "At least 0 days (same day).").max(730, "At most 730 days."),
+  );
 
 export const timeFrameSchema = z.object({
   intent: z.literal("timeframes"),
@@ -56,14 +70,40 @@ const schema = z.union([recipientSchema, timeFrameSchema, activeSchema]);
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);
-  const rows = await db.select().from(referralRecipients).orderBy(desc(referralRecipients.active), asc(referralRecipients.name));
+  const rows = await db
+    .select()
+    .from(referralRecipients)
+    .orderBy(desc(referralRecipients.active), asc(referralRecipients.name));
   const [p] = await db.select().from(practiceSettings).where(eq(practiceSettings.id, 1));
   const editId = new URL(request.url).searchParams.get("edit");
   const editing = rows.find((r) => r.id === editId) ?? null;
   return {
-    recipients: rows.map((r) => ({ id: r.id, name: r.name, clinic: r.clinic, specialty: r.specialty, email: r.email, phone: r.phone, city: r.city, preferredDelivery: r.preferredDelivery, active: r.active })),
+    recipients: rows.map((r) => ({
+      id: r.id,
+      name: r.name,
+      clinic: r.clinic,
+      specialty: r.specialty,
+      email: r.email,
+      phone: r.phone,
+      city: r.city,
+      preferredDelivery: r.preferredDelivery,
+      active: r.active,
+    })),
     editing: editing
-      ? { id: editing.id, name: editing.name, clinic: editing.clinic, specialty: editing.specialty, email: editing.email ?? "", phone: editing.phone, addressLine1: editing.addressLine1, addressLine2: editing.addressLine2, city: editing.city, postcode: editing.postcode, preferredDelivery: editing.preferredDelivery, notes: editing.notes }
+      ? {
+          id: editing.id,
+          name: editing.name,
+          clinic: editing.clinic,
+          specialty: editing.specialty,
+          email: editing.email ?? "",
+          phone: editing.phone,
+          addressLine1: editing.addressLine1,
+          addressLine2: editing.addressLine2,
+          city: editing.city,
+          postcode: editing.postcode,
+          preferredDelivery: editing.preferredDelivery,
+          notes: editing.notes,
+        }
       : null,
     timeFrames: {
       referralDaysSameDay: String(p?.referralDaysSameDay ?? DEFAULT_TIME_FRAMES.same_day),
@@ -78,14 +118,22 @@ export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, ["owner"]);
   const formData = await request.formData();
   const intent = formData.get("intent");
-  const submission = parseWithZod(formData, { schema: intent === "save" ? recipientSchema : intent === "timeframes" ? timeFrameSchema : schema });
+  const submission = parseWithZod(formData, {
+    schema: intent === "save" ? recipientSchema : intent === "timeframes" ? timeFrameSchema : schema,
+  });
   if (submission.status !== "success") return data({ intent, result: submission.reply() }, { status: 400 });
   const v = submission.value;
   if (v.intent === "timeframes") {
     const { intent: _i, ...values } = v;
     await db.transaction(async (tx) => {
-      await tx.update(practiceSettings).set({ ...values, updatedAt: new Date() }).where(eq(practiceSettings.id, 1));
-      await audit({ action: "practice.referral_time_frames_changed", actorUserId: user.id, detail: values, request }, tx);
+      await tx
+        .update(practiceSettings)
+        .set({ ...values, updatedAt: new Date() })
+        .where(eq(practiceSettings.id, 1));
+      await audit(
+        { action: "practice.referral_time_frames_changed", actorUserId: user.id, detail: values, request },
+        tx,
+      );
     });
     return redirectWithToast("/settings/recipients", { kind: "success", title: "Referral time frames saved" });
   }
@@ -94,29 +142,81 @@ export async function action({ request }: Route.ActionArgs) {
     const row = { ...values, email: values.email || null, updatedAt: new Date() };
     const saved = await db.transaction(async (tx) => {
       if (id) {
-        const [updated] = await tx.update(referralRecipients).set(row).where(eq(referralRecipients.id, id)).returning({ id: referralRecipients.id });
+        const [updated] = await tx
+          .update(referralRecipients)
+          .set(row)
+          .where(eq(referralRecipients.id, id))
+          .returning({ id: referralRecipients.id });
         if (!updated) return null;
-        await audit({ action: "referral_recipient.updated", actorUserId: user.id, entityType: "referral_recipient", entityId: id, request }, tx);
+        await audit(
+          {
+            action: "referral_recipient.updated",
+            actorUserId: user.id,
+            entityType: "referral_recipient",
+            entityId: id,
+            request,
+          },
+          tx,
+        );
         return updated.id;
       }
       const [created] = await tx.insert(referralRecipients).values(row).returning({ id: referralRecipients.id });
-      await audit({ action: "referral_recipient.created", actorUserId: user.id, entityType: "referral_recipient", entityId: created!.id, request }, tx);
+      await audit(
+        {
+          action: "referral_recipient.created",
+          actorUserId: user.id,
+          entityType: "referral_recipient",
+          entityId: created!.id,
+          request,
+        },
+        tx,
+      );
       return created!.id;
     });
-    if (!saved) return data({ intent, result: submission.reply({ formErrors: ["That recipient no longer exists."] }) }, { status: 404 });
-    return redirectWithToast("/settings/recipients", { kind: "success", title: id ? `${values.name} updated` : `${values.name} added to the directory` });
+    if (!saved)
+      return data(
+        { intent, result: submission.reply({ formErrors: ["That recipient no longer exists."] }) },
+        { status: 404 },
+      );
+    return redirectWithToast("/settings/recipients", {
+      kind: "success",
+      title: id ? `${values.name} updated` : `${values.name} added to the directory`,
+    });
   }
   const active = v.intent === "reactivate";
   const [row] = await db.transaction(async (tx) => {
-    const res = await tx.update(referralRecipients).set({ active, updatedAt: new Date() }).where(eq(referralRecipients.id, v.id)).returning({ name: referralRecipients.name });
-    if (res.length) await audit({ action: active ? "referral_recipient.reactivated" : "referral_recipient.deactivated", actorUserId: user.id, entityType: "referral_recipient", entityId: v.id, request }, tx);
+    const res = await tx
+      .update(referralRecipients)
+      .set({ active, updatedAt: new Date() })
+      .where(eq(referralRecipients.id, v.id))
+      .returning({ name: referralRecipients.name });
+    if (res.length)
+      await audit(
+        {
+          action: active ? "referral_recipient.reactivated" : "referral_recipient.deactivated",
+          actorUserId: user.id,
+          entityType: "referral_recipient",
+          entityId: v.id,
+          request,
+        },
+        tx,
+      );
     return res;
   });
   if (!row) throw data({ error: "Not found." }, { status: 404 });
-  return redirectWithToast("/settings/recipients", { kind: "success", title: active ? `${row.name} can receive referrals again` : `${row.name} hidden from new referrals` });
+  return redirectWithToast("/settings/recipients", {
+    kind: "success",
+    title: active ? `${row.name} can receive referrals again` : `${row.name} hidden from new referrals`,
+  });
 }
 
-function RecipientForm({ editing, lastResult }: { editing: Route.ComponentProps["loaderData"]["editing"]; lastResult: unknown }) {
+function RecipientForm({
+  editing,
+  lastResult,
+}: {
+  editing: Route.ComponentProps["loaderData"]["editing"];
+  lastResult: unknown;
+}) {
   const navigation = useNavigation();
   const [form, fields] = useForm({
     id: editing ? `recipient-${editing.id}` : "recipient-new",
@@ -126,7 +226,19 @@ function RecipientForm({ editing, lastResult }: { editing: Route.ComponentProps[
     shouldValidate: "onBlur",
   });
   return (
-    <Card title={editing ? `Edit ${editing.name}` : "Add a recipient"} actions={editing ? <Link to="/settings/recipients" className="text-sm font-semibold text-accent-700 underline underline-offset-4">Cancel editing</Link> : null}>
+    <Card
+      title={editing ? `Edit ${editing.name}` : "Add a recipient"}
+      actions={
+        editing ? (
+          <Link
+            to="/settings/recipients"
+            className="text-sm font-semibold text-accent-700 underline underline-offset-4"
+          >
+            Cancel editing
+          </Link>
+        ) : null
+      }
+    >
       <Form method="post" {...getFormProps(form)} className="grid gap-4 sm:grid-cols-2">
         <input type="hidden" name="intent" value="save" />
         {editing ? <input type="hidden" name="id" value={editing.id} /> : null}
@@ -137,22 +249,60 @@ function RecipientForm({ editing, lastResult }: { editing: Route.ComponentProps[
             </Notice>
           </div>
         ) : null}
-        <Field label="Name" hint="The ophthalmologist, or the clinic's referral desk." errors={fields.name.errors} inputProps={getInputProps(fields.name, { type: "text" })} />
-        <Field label="Clinic or hospital" errors={fields.clinic.errors} inputProps={getInputProps(fields.clinic, { type: "text" })} />
-        <Field label="Specialty" hint="For example glaucoma, medical retina, neuro-ophthalmology." errors={fields.specialty.errors} inputProps={getInputProps(fields.specialty, { type: "text" })} />
-        <SelectField label="Prefers to receive letters by" errors={fields.preferredDelivery.errors} selectProps={getSelectProps(fields.preferredDelivery)}>
+        <Field
+          label="Name"
+          hint="The ophthalmologist, or the clinic's referral desk."
+          errors={fields.name.errors}
+          inputProps={getInputProps(fields.name, { type: "text" })}
+        />
+        <Field
+          label="Clinic or hospital"
+          errors={fields.clinic.errors}
+          inputProps={getInputProps(fields.clinic, { type: "text" })}
+        />
+        <Field
+          label="Specialty"
+          hint="For example glaucoma, medical retina, neuro-ophthalmology."
+          errors={fields.specialty.errors}
+          inputProps={getInputProps(fields.specialty, { type: "text" })}
+        />
+        <SelectField
+          label="Prefers to receive letters by"
+          errors={fields.preferredDelivery.errors}
+          selectProps={getSelectProps(fields.preferredDelivery)}
+        >
           {Object.entries(DELIVERY).map(([k, label]) => (
             <option key={k} value={k}>
               {label}
             </option>
           ))}
         </SelectField>
-        <Field label="E-mail" errors={fields.email.errors} inputProps={getInputProps(fields.email, { type: "email" })} />
+        <Field
+          label="E-mail"
+          errors={fields.email.errors}
+          inputProps={getInputProps(fields.email, { type: "email" })}
+        />
         <Field label="Phone" errors={fields.phone.errors} inputProps={getInputProps(fields.phone, { type: "tel" })} />
-        <Field label="Address" errors={fields.addressLine1.errors} inputProps={getInputProps(fields.addressLine1, { type: "text" })} />
-        <Field label="Address (second line)" errors={fields.addressLine2.errors} inputProps={getInputProps(fields.addressLine2, { type: "text" })} />
-        <Field label="Town or city" errors={fields.city.errors} inputProps={getInputProps(fields.city, { type: "text" })} />
-        <Field label="Postcode" errors={fields.postcode.errors} inputProps={getInputProps(fields.postcode, { type: "text" })} />
+        <Field
+          label="Address"
+          errors={fields.addressLine1.errors}
+          inputProps={getInputProps(fields.addressLine1, { type: "text" })}
+        />
+        <Field
+          label="Address (second line)"
+          errors={fields.addressLine2.errors}
+          inputProps={getInputProps(fields.addressLine2, { type: "text" })}
+        />
+        <Field
+          label="Town or city"
+          errors={fields.city.errors}
+          inputProps={getInputProps(fields.city, { type: "text" })}
+        />
+        <Field
+          label="Postcode"
+          errors={fields.postcode.errors}
+          inputProps={getInputProps(fields.postcode, { type: "text" })}
+        />
         <div className="sm:col-span-2">
           <label htmlFor={fields.notes.id} className="mb-1 block text-sm font-semibold">
             Notes for the team
@@ -161,7 +311,10 @@ function RecipientForm({ editing, lastResult }: { editing: Route.ComponentProps[
           <ErrorList errors={fields.notes.errors} />
         </div>
         <div className="sm:col-span-2">
-          <Button type="submit" pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "save"}>
+          <Button
+            type="submit"
+            pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "save"}
+          >
             {editing ? "Save recipient" : "Add recipient"}
           </Button>
         </div>
@@ -170,7 +323,13 @@ function RecipientForm({ editing, lastResult }: { editing: Route.ComponentProps[
   );
 }
 
-function TimeFrames({ values, lastResult }: { values: Route.ComponentProps["loaderData"]["timeFrames"]; lastResult: unknown }) {
+function TimeFrames({
+  values,
+  lastResult,
+}: {
+  values: Route.ComponentProps["loaderData"]["timeFrames"];
+  lastResult: unknown;
+}) {
   const navigation = useNavigation();
   const [form, fields] = useForm({
     id: "timeframes",
@@ -188,15 +347,25 @@ function TimeFrames({ values, lastResult }: { values: Route.ComponentProps["load
   return (
     <Card title="Referral time frames">
       <p className="mb-4 text-sm text-muted">
-        Days within which a referred patient should be seen, counted from sending. Past it, the referral shows as overdue and can be chased. The defaults are common practice; local referral pathways govern.
+        Days within which a referred patient should be seen, counted from sending. Past it, the referral shows as
+        overdue and can be chased. The defaults are common practice; local referral pathways govern.
       </p>
       <Form method="post" {...getFormProps(form)} className="grid gap-4 sm:grid-cols-4">
         <input type="hidden" name="intent" value="timeframes" />
         {rows.map(([name, label]) => (
-          <Field key={name} label={`${label} (days)`} errors={fields[name].errors} inputProps={getInputProps(fields[name], { type: "number" })} />
+          <Field
+            key={name}
+            label={`${label} (days)`}
+            errors={fields[name].errors}
+            inputProps={getInputProps(fields[name], { type: "number" })}
+          />
         ))}
         <div className="sm:col-span-4">
-          <Button type="submit" variant="secondary" pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "timeframes"}>
+          <Button
+            type="submit"
+            variant="secondary"
+            pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "timeframes"}
+          >
             Save time frames
           </Button>
         </div>
@@ -209,7 +378,10 @@ export default function Recipients({ loaderData, actionData }: Route.ComponentPr
   const ad = actionData as { intent?: string; result?: unknown } | undefined;
   return (
     <>
-      <PageHeader title="Referral recipients" description="The ophthalmologists and clinics your optometrists refer to. Letters go to the e-mail address given here." />
+      <PageHeader
+        title="Referral recipients"
+        description="The ophthalmologists and clinics your optometrists refer to. Letters go to the e-mail address given here."
+      />
       <Card title="Directory" className="mb-6">
         {loaderData.recipients.length === 0 ? (
           <p className="text-muted">No recipients yet. Add the first one below.</p>
@@ -241,7 +413,13 @@ export default function Recipients({ loaderData, actionData }: Route.ComponentPr
                       {r.phone ? <span className="block text-muted">{r.phone}</span> : null}
                     </td>
                     <td className="py-3 pr-4">{DELIVERY[r.preferredDelivery].split(" (")[0]}</td>
-                    <td className="py-3 pr-4">{r.active ? <StatusBadge tone="success">In use</StatusBadge> : <StatusBadge tone="info">Hidden</StatusBadge>}</td>
+                    <td className="py-3 pr-4">
+                      {r.active ? (
+                        <StatusBadge tone="success">In use</StatusBadge>
+                      ) : (
+                        <StatusBadge tone="info">Hidden</StatusBadge>
+                      )}
+                    </td>
                     <td className="py-3">
                       <div className="flex flex-wrap gap-2">
                         <Link to={`?edit=${r.id}`} className={buttonClass("secondary", "px-3 py-1")}>
@@ -249,7 +427,13 @@ export default function Recipients({ loaderData, actionData }: Route.ComponentPr
                         </Link>
                         <Form method="post">
                           <input type="hidden" name="id" value={r.id} />
-                          <Button type="submit" name="intent" value={r.active ? "deactivate" : "reactivate"} variant={r.active ? "ghost" : "secondary"} className="px-3 py-1">
+                          <Button
+                            type="submit"
+                            name="intent"
+                            value={r.active ? "deactivate" : "reactivate"}
+                            variant={r.active ? "ghost" : "secondary"}
+                            className="px-3 py-1"
+                          >
                             {r.active ? "Hide" : "Use again"}
                             <span className="sr-only"> {r.name}</span>
                           </Button>
@@ -264,7 +448,11 @@ export default function Recipients({ loaderData, actionData }: Route.ComponentPr
         )}
       </Card>
       <div className="space-y-6">
-        <RecipientForm key={loaderData.editing?.id ?? "new"} editing={loaderData.editing} lastResult={ad?.intent === "save" ? ad.result : null} />
+        <RecipientForm
+          key={loaderData.editing?.id ?? "new"}
+          editing={loaderData.editing}
+          lastResult={ad?.intent === "save" ? ad.result : null}
+        />
         <TimeFrames values={loaderData.timeFrames} lastResult={ad?.intent === "timeframes" ? ad.result : null} />
       </div>
     </>

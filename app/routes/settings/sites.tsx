@@ -45,15 +45,39 @@ export async function loader({ request }: Route.LoaderArgs) {
   const asked = new URL(request.url).searchParams.get("site");
   const current = asked === "new" ? null : (list.find((s) => s.id === asked) ?? list.find((s) => s.isDefault) ?? null);
   const hours = current ? await db.select().from(siteOpeningHours).where(eq(siteOpeningHours.siteId, current.id)) : [];
-  const siteRooms = current ? await db.select().from(rooms).where(eq(rooms.siteId, current.id)).orderBy(asc(rooms.name)) : [];
+  const siteRooms = current
+    ? await db.select().from(rooms).where(eq(rooms.siteId, current.id)).orderBy(asc(rooms.name))
+    : [];
   return {
-    sites: list.map((s) => ({ id: s.id, name: s.name, isDefault: s.isDefault, active: s.active, address: siteAddress(s) })),
+    sites: list.map((s) => ({
+      id: s.id,
+      name: s.name,
+      isDefault: s.isDefault,
+      active: s.active,
+      address: siteAddress(s),
+    })),
     current: current
-      ? { id: current.id, name: current.name, addressLine1: current.addressLine1, addressLine2: current.addressLine2, city: current.city, postcode: current.postcode, phone: current.phone, timeZone: current.timeZone, isDefault: current.isDefault, active: current.active }
+      ? {
+          id: current.id,
+          name: current.name,
+          addressLine1: current.addressLine1,
+          addressLine2: current.addressLine2,
+          city: current.city,
+          postcode: current.postcode,
+          phone: current.phone,
+          timeZone: current.timeZone,
+          isDefault: current.isDefault,
+          active: current.active,
+        }
       : null,
     days: WEEKDAY_NAMES.map((name, i) => {
       const h = hours.find((x) => x.weekday === i + 1);
-      return { weekday: i + 1, name, open: h ? minutesToHhmm(h.startMinute) : "", close: h ? minutesToHhmm(h.endMinute) : "" };
+      return {
+        weekday: i + 1,
+        name,
+        open: h ? minutesToHhmm(h.startMinute) : "",
+        close: h ? minutesToHhmm(h.endMinute) : "",
+      };
     }),
     rooms: siteRooms.map((r) => ({ id: r.id, name: r.name, active: r.active })),
   };
@@ -65,8 +89,13 @@ export async function action({ request }: Route.ActionArgs) {
   const get = (k: string) => String(form.get(k) ?? "").trim();
   const siteId = get("siteId");
   const errors: Errors = {};
-  const parsed = detailsSchema.safeParse(Object.fromEntries(["name", "addressLine1", "addressLine2", "city", "postcode", "phone", "timeZone"].map((k) => [k, get(k)])));
-  if (!parsed.success) for (const issue of parsed.error.issues) (errors[String(issue.path[0])] ??= []).push(issue.message);
+  const parsed = detailsSchema.safeParse(
+    Object.fromEntries(
+      ["name", "addressLine1", "addressLine2", "city", "postcode", "phone", "timeZone"].map((k) => [k, get(k)]),
+    ),
+  );
+  if (!parsed.success)
+    for (const issue of parsed.error.issues) (errors[String(issue.path[0])] ??= []).push(issue.message);
   const isDefault = form.get("isDefault") === "on";
   const active = form.get("active") === "on";
   if (isDefault && !active) errors.active = ["The default site must be open."];
@@ -77,18 +106,26 @@ export async function action({ request }: Route.ActionArgs) {
     if (!open && !close) continue;
     const s = hhmmToMinutes(open);
     const e = hhmmToMinutes(close);
-    if (s === null || e === null) errors[`hours-${weekday}`] = ["Give both times as HH:MM, or leave both empty when closed."];
+    if (s === null || e === null)
+      errors[`hours-${weekday}`] = ["Give both times as HH:MM, or leave both empty when closed."];
     else if (e <= s) errors[`hours-${weekday}`] = ["Closing must be after opening."];
     else hours.push({ weekday, startMinute: s, endMinute: e });
   }
 
-  if (siteId && !z.uuid().safeParse(siteId).success) return data({ errors: { "": ["No such site."] } as Errors }, { status: 404 });
+  if (siteId && !z.uuid().safeParse(siteId).success)
+    return data({ errors: { "": ["No such site."] } as Errors }, { status: 404 });
   const existing = siteId ? await db.select().from(sites).where(eq(sites.id, siteId)) : [];
   if (siteId && !existing.length) return data({ errors: { "": ["No such site."] } as Errors }, { status: 404 });
   const before = existing[0];
   const oldRooms = before ? await db.select().from(rooms).where(eq(rooms.siteId, before.id)) : [];
-  const roomChanges = oldRooms.map((r) => ({ id: r.id, name: get(`room-${r.id}`), active: form.get(`roomActive-${r.id}`) === "on" }));
-  for (const r of roomChanges) if (r.name.length < 1 || r.name.length > 60) errors[`room-${r.id}`] = ["Give the room a name (at most 60 characters)."];
+  const roomChanges = oldRooms.map((r) => ({
+    id: r.id,
+    name: get(`room-${r.id}`),
+    active: form.get(`roomActive-${r.id}`) === "on",
+  }));
+  for (const r of roomChanges)
+    if (r.name.length < 1 || r.name.length > 60)
+      errors[`room-${r.id}`] = ["Give the room a name (at most 60 characters)."];
   const newRoom = get("newRoom");
   if (newRoom.length > 60) errors.newRoom = ["At most 60 characters."];
   const names = [...roomChanges.map((r) => r.name.toLowerCase()), ...(newRoom ? [newRoom.toLowerCase()] : [])];
@@ -96,31 +133,62 @@ export async function action({ request }: Route.ActionArgs) {
 
   if (before) {
     // Providers' working days point at the site and its rooms: closing them first would strand those days.
-    const working = await db.select({ name: users.name, weekday: workingHours.weekday, roomId: workingHours.roomId }).from(workingHours).innerJoin(users, eq(users.id, workingHours.providerId)).where(eq(workingHours.siteId, before.id));
-    if (!active && working.length) errors.active = [`${working[0]!.name} works here on ${WEEKDAY_NAMES[working[0]!.weekday - 1]}s; move their working hours to another site first (Settings → Working hours).`];
-    if (before.isDefault && !isDefault) errors.isDefault = ["Make another site the default instead; the practice always has one."];
+    const working = await db
+      .select({ name: users.name, weekday: workingHours.weekday, roomId: workingHours.roomId })
+      .from(workingHours)
+      .innerJoin(users, eq(users.id, workingHours.providerId))
+      .where(eq(workingHours.siteId, before.id));
+    if (!active && working.length)
+      errors.active = [
+        `${working[0]!.name} works here on ${WEEKDAY_NAMES[working[0]!.weekday - 1]}s; move their working hours to another site first (Settings → Working hours).`,
+      ];
+    if (before.isDefault && !isDefault)
+      errors.isDefault = ["Make another site the default instead; the practice always has one."];
     for (const w of working) {
       const day = hours.find((h) => h.weekday === w.weekday);
-      if (hours.length && !day) errors[`hours-${w.weekday}`] = [`${w.name} works here on ${WEEKDAY_NAMES[w.weekday - 1]}s; change their working hours before closing that day.`];
+      if (hours.length && !day)
+        errors[`hours-${w.weekday}`] = [
+          `${w.name} works here on ${WEEKDAY_NAMES[w.weekday - 1]}s; change their working hours before closing that day.`,
+        ];
       const closing = roomChanges.find((r) => r.id === w.roomId && !r.active);
       if (closing) errors[`room-${closing.id}`] = [`${w.name} uses this room on ${WEEKDAY_NAMES[w.weekday - 1]}s.`];
     }
   }
   if (get("name")) {
-    const [clash] = await db.select({ id: sites.id }).from(sites).where(and(sql`lower(${sites.name}) = lower(${get("name")})`, before ? ne(sites.id, before.id) : undefined));
+    const [clash] = await db
+      .select({ id: sites.id })
+      .from(sites)
+      .where(and(sql`lower(${sites.name}) = lower(${get("name")})`, before ? ne(sites.id, before.id) : undefined));
     if (clash) errors.name = ["Another site already has this name."];
   }
   if (Object.keys(errors).length || !parsed.success) return data({ errors }, { status: 400 });
 
   const id = await db.transaction(async (tx) => {
-    if (isDefault) await tx.update(sites).set({ isDefault: false }).where(and(eq(sites.isDefault, true), before ? ne(sites.id, before.id) : undefined));
+    if (isDefault)
+      await tx
+        .update(sites)
+        .set({ isDefault: false })
+        .where(and(eq(sites.isDefault, true), before ? ne(sites.id, before.id) : undefined));
     const values = { ...parsed.data, isDefault, active, updatedAt: new Date() };
-    const [row] = before ? await tx.update(sites).set(values).where(eq(sites.id, before.id)).returning() : await tx.insert(sites).values(values).returning();
+    const [row] = before
+      ? await tx.update(sites).set(values).where(eq(sites.id, before.id)).returning()
+      : await tx.insert(sites).values(values).returning();
     await tx.delete(siteOpeningHours).where(eq(siteOpeningHours.siteId, row!.id));
     if (hours.length) await tx.insert(siteOpeningHours).values(hours.map((h) => ({ ...h, siteId: row!.id })));
-    for (const r of roomChanges) await tx.update(rooms).set({ name: r.name, active: r.active }).where(eq(rooms.id, r.id));
+    for (const r of roomChanges)
+      await tx.update(rooms).set({ name: r.name, active: r.active }).where(eq(rooms.id, r.id));
     if (newRoom) await tx.insert(rooms).values({ siteId: row!.id, name: newRoom });
-    await audit({ action: before ? "site.changed" : "site.added", actorUserId: user.id, entityType: "site", entityId: row!.id, detail: { ...values, hours, rooms: roomChanges, newRoom }, request }, tx);
+    await audit(
+      {
+        action: before ? "site.changed" : "site.added",
+        actorUserId: user.id,
+        entityType: "site",
+        entityId: row!.id,
+        detail: { ...values, hours, rooms: roomChanges, newRoom },
+        request,
+      },
+      tx,
+    );
     return row!.id;
   });
   return redirectWithToast(`/settings/sites?site=${id}`, { kind: "success", title: `Site ${parsed.data.name} saved` });
@@ -129,9 +197,26 @@ export async function action({ request }: Route.ActionArgs) {
 export default function Sites({ loaderData, actionData }: Route.ComponentProps) {
   const { sites: list, current, days, rooms: siteRooms } = loaderData;
   const navigation = useNavigation();
-  const errors: Errors = navigation.state === "idle" ? ((actionData as { errors?: Errors } | undefined)?.errors ?? {}) : {};
-  const v = current ?? { id: "", name: "", addressLine1: "", addressLine2: "", city: "", postcode: "", phone: "", timeZone: "Europe/London", isDefault: false, active: true };
-  const input = (name: keyof typeof v, type = "text") => ({ id: `site-${name}`, name, type, defaultValue: String(v[name] ?? "") });
+  const errors: Errors =
+    navigation.state === "idle" ? ((actionData as { errors?: Errors } | undefined)?.errors ?? {}) : {};
+  const v = current ?? {
+    id: "",
+    name: "",
+    addressLine1: "",
+    addressLine2: "",
+    city: "",
+    postcode: "",
+    phone: "",
+    timeZone: "Europe/London",
+    isDefault: false,
+    active: true,
+  };
+  const input = (name: keyof typeof v, type = "text") => ({
+    id: `site-${name}`,
+    name,
+    type,
+    defaultValue: String(v[name] ?? ""),
+  });
   return (
     <>
       <PageHeader
@@ -145,17 +230,31 @@ export default function Sites({ loaderData, actionData }: Route.ComponentProps) 
       />
       <ul className="mb-6 grid gap-3 sm:grid-cols-2" aria-label="The practice's sites">
         {list.map((s) => (
-          <li key={s.id} className={`rounded-lg border bg-white p-4 shadow-sm ${current?.id === s.id ? "border-accent-700" : "border-line"}`}>
-            <Link to={`?site=${s.id}`} className="font-semibold text-accent-700 underline underline-offset-4" aria-current={current?.id === s.id ? "page" : undefined}>
+          <li
+            key={s.id}
+            className={`rounded-lg border bg-white p-4 shadow-sm ${current?.id === s.id ? "border-accent-700" : "border-line"}`}
+          >
+            <Link
+              to={`?site=${s.id}`}
+              className="font-semibold text-accent-700 underline underline-offset-4"
+              aria-current={current?.id === s.id ? "page" : undefined}
+            >
               {s.name}
             </Link>{" "}
-            {s.isDefault ? <StatusBadge tone="info">Default</StatusBadge> : null} {!s.active ? <StatusBadge tone="warning">Closed</StatusBadge> : null}
+            {s.isDefault ? <StatusBadge tone="info">Default</StatusBadge> : null}{" "}
+            {!s.active ? <StatusBadge tone="warning">Closed</StatusBadge> : null}
             <p className="text-sm text-muted">{s.address || "No address yet"}</p>
           </li>
         ))}
       </ul>
-      {errors[""]?.length ? <Notice tone="error" title="Not saved">{errors[""].join(" ")}</Notice> : null}
-      {Object.keys(errors).length && !errors[""] ? <Notice tone="error" title="Not saved: check the fields marked below." /> : null}
+      {errors[""]?.length ? (
+        <Notice tone="error" title="Not saved">
+          {errors[""].join(" ")}
+        </Notice>
+      ) : null}
+      {Object.keys(errors).length && !errors[""] ? (
+        <Notice tone="error" title="Not saved: check the fields marked below." />
+      ) : null}
       <Form method="post" key={current?.id ?? "new"} className="space-y-6">
         <input type="hidden" name="siteId" value={current?.id ?? ""} />
         <Card title={current ? `Site: ${current.name}` : "New site"}>
@@ -166,23 +265,42 @@ export default function Sites({ loaderData, actionData }: Route.ComponentProps) 
             <Field label="Address (second line)" errors={errors.addressLine2} inputProps={input("addressLine2")} />
             <Field label="Town or city" errors={errors.city} inputProps={input("city")} />
             <Field label="Postcode" errors={errors.postcode} inputProps={input("postcode")} />
-            <Field label="Time zone" hint="IANA name, e.g. Europe/London." errors={errors.timeZone} inputProps={input("timeZone")} />
+            <Field
+              label="Time zone"
+              hint="IANA name, e.g. Europe/London."
+              errors={errors.timeZone}
+              inputProps={input("timeZone")}
+            />
           </div>
           <div className="mt-4 space-y-2">
             <label className="flex items-center gap-2">
-              <input type="checkbox" name="isDefault" defaultChecked={v.isDefault} className="size-4 accent-accent-700" aria-describedby={errors.isDefault ? "site-isDefault-error" : undefined} />
+              <input
+                type="checkbox"
+                name="isDefault"
+                defaultChecked={v.isDefault}
+                className="size-4 accent-accent-700"
+                aria-describedby={errors.isDefault ? "site-isDefault-error" : undefined}
+              />
               Default site (bookings, hours and invoices without a site go here)
             </label>
             <ErrorList id="site-isDefault-error" errors={errors.isDefault} />
             <label className="flex items-center gap-2">
-              <input type="checkbox" name="active" defaultChecked={v.active} className="size-4 accent-accent-700" aria-describedby={errors.active ? "site-active-error" : undefined} />
+              <input
+                type="checkbox"
+                name="active"
+                defaultChecked={v.active}
+                className="size-4 accent-accent-700"
+                aria-describedby={errors.active ? "site-active-error" : undefined}
+              />
               Open (can be booked)
             </label>
             <ErrorList id="site-active-error" errors={errors.active} />
           </div>
         </Card>
         <Card title="Opening hours">
-          <p className="mb-3 text-sm text-muted">Leave a day empty when the site is closed. Providers&apos; working hours at this site must fit inside.</p>
+          <p className="mb-3 text-sm text-muted">
+            Leave a day empty when the site is closed. Providers&apos; working hours at this site must fit inside.
+          </p>
           <table className="text-left text-sm">
             <thead className="border-b border-line text-muted">
               <tr>
@@ -205,7 +323,16 @@ export default function Sites({ loaderData, actionData }: Route.ComponentProps) 
                         <label className="sr-only" htmlFor={`${k}-${d.weekday}`}>
                           {d.name} {k === "open" ? "opens" : "closes"}
                         </label>
-                        <Input id={`${k}-${d.weekday}`} name={`${k}-${d.weekday}`} type="time" step={300} defaultValue={d[k]} className="w-32" aria-invalid={bad || undefined} aria-describedby={bad ? `hours-${d.weekday}-err` : undefined} />
+                        <Input
+                          id={`${k}-${d.weekday}`}
+                          name={`${k}-${d.weekday}`}
+                          type="time"
+                          step={300}
+                          defaultValue={d[k]}
+                          className="w-32"
+                          aria-invalid={bad || undefined}
+                          aria-describedby={bad ? `hours-${d.weekday}-err` : undefined}
+                        />
                       </td>
                     ))}
                   </tr>
@@ -223,20 +350,39 @@ export default function Sites({ loaderData, actionData }: Route.ComponentProps) 
                     <label htmlFor={`room-${r.id}`} className="sr-only">
                       Room name
                     </label>
-                    <Input id={`room-${r.id}`} name={`room-${r.id}`} defaultValue={r.name} className="w-56" aria-invalid={errors[`room-${r.id}`] ? true : undefined} aria-describedby={errors[`room-${r.id}`] ? `room-${r.id}-err` : undefined} />
+                    <Input
+                      id={`room-${r.id}`}
+                      name={`room-${r.id}`}
+                      defaultValue={r.name}
+                      className="w-56"
+                      aria-invalid={errors[`room-${r.id}`] ? true : undefined}
+                      aria-describedby={errors[`room-${r.id}`] ? `room-${r.id}-err` : undefined}
+                    />
                     <ErrorList id={`room-${r.id}-err`} errors={errors[`room-${r.id}`]} />
                   </div>
                   <label className="flex items-center gap-2 pt-2 text-sm">
-                    <input type="checkbox" name={`roomActive-${r.id}`} defaultChecked={r.active} className="size-4 accent-accent-700" />
+                    <input
+                      type="checkbox"
+                      name={`roomActive-${r.id}`}
+                      defaultChecked={r.active}
+                      className="size-4 accent-accent-700"
+                    />
                     In use
                   </label>
                 </li>
               ))}
             </ul>
           ) : (
-            <p className="mb-3 text-sm text-muted">No rooms yet. Rooms are optional; with rooms, no room is booked twice at once.</p>
+            <p className="mb-3 text-sm text-muted">
+              No rooms yet. Rooms are optional; with rooms, no room is booked twice at once.
+            </p>
           )}
-          <Field label="Add a room" hint="For example Room 3 or Contact lens room." errors={errors.newRoom} inputProps={{ id: "site-newRoom", name: "newRoom", type: "text" }} />
+          <Field
+            label="Add a room"
+            hint="For example Room 3 or Contact lens room."
+            errors={errors.newRoom}
+            inputProps={{ id: "site-newRoom", name: "newRoom", type: "text" }}
+          />
         </Card>
         <Button type="submit" pending={navigation.state === "submitting"}>
           {current ? "Save site" : "Add site"}

@@ -54,7 +54,21 @@ function num(text: string, label: string): number {
 const d = (v: number, digits = 2) => `${v >= 0 ? "+" : "−"}${Math.abs(v).toFixed(digits)}`;
 const fmtPv = (pv: PowerVector) => `M ${d(pv.M)} D · J0 ${d(pv.J0)} D · J45 ${d(pv.J45)} D`;
 
-function TextField({ label, value, onChange, error, hint, placeholder }: { label: string; value: string; onChange: (v: string) => void; error?: string; hint?: string; placeholder?: string }) {
+function TextField({
+  label,
+  value,
+  onChange,
+  error,
+  hint,
+  placeholder,
+}: {
+  label: string;
+  value: string;
+  onChange: (v: string) => void;
+  error?: string;
+  hint?: string;
+  placeholder?: string;
+}) {
   const id = useId();
   const describedBy = [hint ? `${id}-hint` : null, error ? `${id}-error` : null].filter(Boolean).join(" ") || undefined;
   return (
@@ -62,7 +76,17 @@ function TextField({ label, value, onChange, error, hint, placeholder }: { label
       <label htmlFor={id} className="mb-1 block text-sm font-semibold">
         {label}
       </label>
-      <Input id={id} value={value} onChange={(e) => onChange(e.target.value)} placeholder={placeholder} autoComplete="off" spellCheck={false} aria-invalid={error ? true : undefined} aria-describedby={describedBy} className="font-mono" />
+      <Input
+        id={id}
+        value={value}
+        onChange={(e) => onChange(e.target.value)}
+        placeholder={placeholder}
+        autoComplete="off"
+        spellCheck={false}
+        aria-invalid={error ? true : undefined}
+        aria-describedby={describedBy}
+        className="font-mono"
+      />
       {hint ? (
         <p id={`${id}-hint`} className="mt-1 text-xs text-muted">
           {hint}
@@ -93,7 +117,10 @@ function errorOf(r: Result<unknown>) {
 
 /** Both refractions in the J0/J45 plane (astigmatism), with M (the spherical part) listed beside. */
 function VectorPlot({ a, b }: { a: PowerVector; b: PowerVector }) {
-  const extent = Math.max(1, Math.ceil(Math.max(Math.abs(a.J0), Math.abs(a.J45), Math.abs(b.J0), Math.abs(b.J45)) * 2) / 2);
+  const extent = Math.max(
+    1,
+    Math.ceil(Math.max(Math.abs(a.J0), Math.abs(a.J45), Math.abs(b.J0), Math.abs(b.J45)) * 2) / 2,
+  );
   const size = 200;
   const scale = (v: number) => size / 2 + (v / extent) * (size / 2 - 16);
   const pt = (pv: PowerVector) => ({ x: scale(pv.J0), y: scale(-pv.J45) });
@@ -101,16 +128,29 @@ function VectorPlot({ a, b }: { a: PowerVector; b: PowerVector }) {
   const pb = pt(b);
   return (
     <figure className="flex flex-wrap items-center gap-6">
-      <svg viewBox={`0 0 ${size} ${size}`} className="size-52 rounded border border-line bg-white" role="img" aria-label={`J0/J45 plot: A at J0 ${a.J0.toFixed(2)}, J45 ${a.J45.toFixed(2)}; B at J0 ${b.J0.toFixed(2)}, J45 ${b.J45.toFixed(2)}`}>
+      <svg
+        viewBox={`0 0 ${size} ${size}`}
+        className="size-52 rounded border border-line bg-white"
+        role="img"
+        aria-label={`J0/J45 plot: A at J0 ${a.J0.toFixed(2)}, J45 ${a.J45.toFixed(2)}; B at J0 ${b.J0.toFixed(2)}, J45 ${b.J45.toFixed(2)}`}
+      >
         <line x1={size / 2} y1={8} x2={size / 2} y2={size - 8} stroke="#9aa7b3" />
         <line x1={8} y1={size / 2} x2={size - 8} y2={size / 2} stroke="#9aa7b3" />
-        <text x={size - 10} y={size / 2 - 6} fontSize="10" textAnchor="end" fill="#4a5866">J0 +{extent}</text>
-        <text x={size / 2 + 6} y={16} fontSize="10" fill="#4a5866">J45 +{extent}</text>
+        <text x={size - 10} y={size / 2 - 6} fontSize="10" textAnchor="end" fill="#4a5866">
+          J0 +{extent}
+        </text>
+        <text x={size / 2 + 6} y={16} fontSize="10" fill="#4a5866">
+          J45 +{extent}
+        </text>
         <line x1={pa.x} y1={pa.y} x2={pb.x} y2={pb.y} stroke="#4a5866" strokeDasharray="3 3" />
         <circle cx={pa.x} cy={pa.y} r={6} fill="#0d5c62" />
-        <text x={pa.x + 8} y={pa.y - 8} fontSize="12" fontWeight="700" fill="#0d5c62">A</text>
+        <text x={pa.x + 8} y={pa.y - 8} fontSize="12" fontWeight="700" fill="#0d5c62">
+          A
+        </text>
         <rect x={pb.x - 6} y={pb.y - 6} width={12} height={12} fill="#b45309" />
-        <text x={pb.x + 8} y={pb.y + 14} fontSize="12" fontWeight="700" fill="#b45309">B</text>
+        <text x={pb.x + 8} y={pb.y + 14} fontSize="12" fontWeight="700" fill="#b45309">
+          B
+        </text>
       </svg>
       <figcaption className="text-sm">
         <p className="font-semibold">Spherical part (M)</p>
@@ -120,7 +160,9 @@ function VectorPlot({ a, b }: { a: PowerVector; b: PowerVector }) {
         <p>
           <span aria-hidden="true">■ </span>B: {d(b.M)} D
         </p>
-        <p className="mt-2 max-w-xs text-muted">A is a circle, B a square; the dashed line is the astigmatic part of the difference.</p>
+        <p className="mt-2 max-w-xs text-muted">
+          A is a circle, B a square; the dashed line is the astigmatic part of the difference.
+        </p>
       </figcaption>
     </figure>
   );
@@ -146,8 +188,22 @@ function DispensingTable({ report }: { report: DispensingReport }) {
               <td className="py-1.5 pr-3 font-semibold capitalize">{c.element}</td>
               <td className="py-1.5 pr-3 font-mono">{c.element === "axis" ? `${c.ordered}°` : d(c.ordered)}</td>
               <td className="py-1.5 pr-3 font-mono">{c.element === "axis" ? `${c.measured}°` : d(c.measured)}</td>
-              <td className="py-1.5 pr-3 font-mono">{c.tolerance === null ? "—" : c.element === "axis" ? `±${c.tolerance}°` : `±${c.tolerance.toFixed(2)} D`}</td>
-              <td className="py-1.5">{!c.applicable ? <StatusBadge tone="info">Not applicable</StatusBadge> : c.pass ? <StatusBadge tone="success">Within tolerance</StatusBadge> : <StatusBadge tone="error">Out of tolerance</StatusBadge>}</td>
+              <td className="py-1.5 pr-3 font-mono">
+                {c.tolerance === null
+                  ? "—"
+                  : c.element === "axis"
+                    ? `±${c.tolerance}°`
+                    : `±${c.tolerance.toFixed(2)} D`}
+              </td>
+              <td className="py-1.5">
+                {!c.applicable ? (
+                  <StatusBadge tone="info">Not applicable</StatusBadge>
+                ) : c.pass ? (
+                  <StatusBadge tone="success">Within tolerance</StatusBadge>
+                ) : (
+                  <StatusBadge tone="error">Out of tolerance</StatusBadge>
+                )}
+              </td>
             </tr>
           ))}
         </tbody>
@@ -176,39 +232,72 @@ export default function RxTools() {
   const fromRes = useMemo(() => attempt([fromMm], () => num(fromMm, "From distance")), [fromMm]);
   const toRes = useMemo(() => attempt([toMm], () => num(toMm, "To distance")), [toMm]);
   const vertex = useMemo(
-    () => (a.ok && fromRes.ok && toRes.ok ? attempt([rxA], () => vertexConvert(a.value, fromRes.value, toRes.value)) : ({ ok: null } as Result<SphCyl>)),
+    () =>
+      a.ok && fromRes.ok && toRes.ok
+        ? attempt([rxA], () => vertexConvert(a.value, fromRes.value, toRes.value))
+        : ({ ok: null } as Result<SphCyl>),
     [a, fromRes, toRes, rxA],
   );
   const decInRes = useMemo(() => attempt([decIn], () => num(decIn, "Inward decentration")), [decIn]);
   const decUpRes = useMemo(() => attempt([decUp], () => num(decUp, "Upward decentration")), [decUp]);
   const prism = useMemo(
-    () => (a.ok && decInRes.ok && decUpRes.ok ? attempt([rxA], () => decentrationPrism(a.value, eye, { inMm: decInRes.value, upMm: decUpRes.value })) : { ok: null as null }),
+    () =>
+      a.ok && decInRes.ok && decUpRes.ok
+        ? attempt([rxA], () => decentrationPrism(a.value, eye, { inMm: decInRes.value, upMm: decUpRes.value }))
+        : { ok: null as null },
     [a, eye, decInRes, decUpRes, rxA],
   );
   const acuityRes = useMemo(() => attempt([acuity], () => toLogMAR(acuity)), [acuity]);
   const orderedRes = useMemo(() => attempt([ordered], () => parseRx(ordered)), [ordered]);
   const measuredRes = useMemo(() => attempt([measured], () => parseRx(measured)), [measured]);
-  const orderedAddRes = useMemo(() => (orderedAdd.trim() ? attempt([orderedAdd], () => num(orderedAdd, "Ordered add")) : ({ ok: true, value: undefined } as Result<number | undefined>)), [orderedAdd]);
-  const measuredAddRes = useMemo(() => (measuredAdd.trim() ? attempt([measuredAdd], () => num(measuredAdd, "Measured add")) : ({ ok: true, value: undefined } as Result<number | undefined>)), [measuredAdd]);
+  const orderedAddRes = useMemo(
+    () =>
+      orderedAdd.trim()
+        ? attempt([orderedAdd], () => num(orderedAdd, "Ordered add"))
+        : ({ ok: true, value: undefined } as Result<number | undefined>),
+    [orderedAdd],
+  );
+  const measuredAddRes = useMemo(
+    () =>
+      measuredAdd.trim()
+        ? attempt([measuredAdd], () => num(measuredAdd, "Measured add"))
+        : ({ ok: true, value: undefined } as Result<number | undefined>),
+    [measuredAdd],
+  );
   const report = useMemo(() => {
-    if (!(orderedRes.ok && measuredRes.ok && orderedAddRes.ok && measuredAddRes.ok)) return { ok: null } as Result<DispensingReport>;
+    if (!(orderedRes.ok && measuredRes.ok && orderedAddRes.ok && measuredAddRes.ok))
+      return { ok: null } as Result<DispensingReport>;
     return attempt([ordered, measured], () =>
-      checkDispensingReport({ ...orderedRes.value, add: orderedAddRes.value }, { ...measuredRes.value, add: measuredAddRes.value }, { lensType }),
+      checkDispensingReport(
+        { ...orderedRes.value, add: orderedAddRes.value },
+        { ...measuredRes.value, add: measuredAddRes.value },
+        { lensType },
+      ),
     );
   }, [orderedRes, measuredRes, orderedAddRes, measuredAddRes, lensType, ordered, measured]);
 
   return (
     <>
-      <PageHeader title="Rx calculator" description="Type prescriptions in the usual notation, e.g. −2.25 −0.75 × 175, +1.00 DS, pl. Results update as you type." />
+      <PageHeader
+        title="Rx calculator"
+        description="Type prescriptions in the usual notation, e.g. −2.25 −0.75 × 175, +1.00 DS, pl. Results update as you type."
+      />
       <div className="mb-6">
         <Notice tone="warning" title="Check before ordering or prescribing">
-          These are calculations to support a licensed practitioner. Each result names its rule; check every value before lenses are ordered or a prescription is issued. Local law and licensed practice govern prescriptions.
+          These are calculations to support a licensed practitioner. Each result names its rule; check every value
+          before lenses are ordered or a prescription is issued. Local law and licensed practice govern prescriptions.
         </Notice>
       </div>
 
       <div className="grid gap-6 lg:grid-cols-2">
         <Card title="Prescription A">
-          <TextField label="Prescription A" value={rxA} onChange={setRxA} error={errorOf(a)} hint="Sphere, cylinder × axis. Minus or plus cylinder." />
+          <TextField
+            label="Prescription A"
+            value={rxA}
+            onChange={setRxA}
+            error={errorOf(a)}
+            hint="Sphere, cylinder × axis. Minus or plus cylinder."
+          />
           {a.ok ? (
             <dl className="mt-4">
               <Out label="Minus-cylinder form">{formatRx(a.value, { form: "minus" })}</Out>
@@ -218,29 +307,55 @@ export default function RxTools() {
               <Out label="Blur strength">{blurStrength(toPowerVector(a.value)).toFixed(2)} D</Out>
             </dl>
           ) : null}
-          <p className="mt-3 text-xs text-muted">Power vectors: Thibos, Wheeler &amp; Horner, Optom Vis Sci 1997;74:367–375. SE = sphere + cylinder / 2.</p>
+          <p className="mt-3 text-xs text-muted">
+            Power vectors: Thibos, Wheeler &amp; Horner, Optom Vis Sci 1997;74:367–375. SE = sphere + cylinder / 2.
+          </p>
         </Card>
 
         <Card title="Vertex distance">
           <div className="grid grid-cols-2 gap-4">
-            <TextField label="From (mm)" value={fromMm} onChange={setFromMm} error={errorOf(fromRes)} hint="Spectacle plane, e.g. 12" />
-            <TextField label="To (mm)" value={toMm} onChange={setToMm} error={errorOf(toRes)} hint="0 = corneal plane" />
+            <TextField
+              label="From (mm)"
+              value={fromMm}
+              onChange={setFromMm}
+              error={errorOf(fromRes)}
+              hint="Spectacle plane, e.g. 12"
+            />
+            <TextField
+              label="To (mm)"
+              value={toMm}
+              onChange={setToMm}
+              error={errorOf(toRes)}
+              hint="0 = corneal plane"
+            />
           </div>
           {vertex.ok === false ? <p className="mt-2 text-sm font-semibold text-red-800">✕ {vertex.error}</p> : null}
           {vertex.ok ? (
             <dl className="mt-4">
               <Out label="Exact, meridian by meridian">
-                {vertex.value.cylinder === 0 ? `${d(vertex.value.sphere, 3)} DS` : `${d(vertex.value.sphere, 3)} ${d(vertex.value.cylinder, 3)} × ${String(vertex.value.axis).padStart(3, "0")}`}
+                {vertex.value.cylinder === 0
+                  ? `${d(vertex.value.sphere, 3)} DS`
+                  : `${d(vertex.value.sphere, 3)} ${d(vertex.value.cylinder, 3)} × ${String(vertex.value.axis).padStart(3, "0")}`}
               </Out>
-              <Out label="Rounded to 0.25 D (ordering step)">{formatRx(roundRx(vertex.value, 0.25), { form: "minus" })}</Out>
+              <Out label="Rounded to 0.25 D (ordering step)">
+                {formatRx(roundRx(vertex.value, 0.25), { form: "minus" })}
+              </Out>
             </dl>
           ) : null}
-          <p className="mt-3 text-xs text-muted">F′ = F / (1 − dF), d = shift towards the eye in metres, for each principal meridian.</p>
+          <p className="mt-3 text-xs text-muted">
+            F′ = F / (1 − dF), d = shift towards the eye in metres, for each principal meridian.
+          </p>
         </Card>
 
         <Card title="Compare A with B" className="lg:col-span-2">
           <div className="grid gap-4 sm:grid-cols-2">
-            <TextField label="Prescription B" value={rxB} onChange={setRxB} error={errorOf(b)} hint="e.g. last year's final, or autorefraction" />
+            <TextField
+              label="Prescription B"
+              value={rxB}
+              onChange={setRxB}
+              error={errorOf(b)}
+              hint="e.g. last year's final, or autorefraction"
+            />
           </div>
           {a.ok && b.ok ? (
             (() => {
@@ -252,10 +367,16 @@ export default function RxTools() {
                     <dl>
                       <Out label="Difference B − A">{fmtPv(cmp.delta)}</Out>
                       <Out label="Dioptric distance">{cmp.magnitude.toFixed(2)} D</Out>
-                      <Out label="Sum A + B (over-refraction)">{formatRx(combine(a.value, b.value), { form: "minus" })}</Out>
+                      <Out label="Sum A + B (over-refraction)">
+                        {formatRx(combine(a.value, b.value), { form: "minus" })}
+                      </Out>
                     </dl>
                     <div className="pt-3">
-                      {meaningful ? <StatusBadge tone="warning">Meaningful change</StatusBadge> : <StatusBadge tone="success">Within repeatability</StatusBadge>}
+                      {meaningful ? (
+                        <StatusBadge tone="warning">Meaningful change</StatusBadge>
+                      ) : (
+                        <StatusBadge tone="success">Within repeatability</StatusBadge>
+                      )}
                       <p className="mt-2 text-xs text-muted">{MEANINGFUL_CHANGE_RULE}</p>
                     </div>
                   </div>
@@ -269,7 +390,9 @@ export default function RxTools() {
         </Card>
 
         <Card title="Prism from decentration">
-          <p className="mb-3 text-sm text-muted">Uses prescription A. Prentice's rule: prism (Δ) = decentration (cm) × power in that meridian (D).</p>
+          <p className="mb-3 text-sm text-muted">
+            Uses prescription A. Prentice's rule: prism (Δ) = decentration (cm) × power in that meridian (D).
+          </p>
           <div className="grid grid-cols-3 gap-4">
             <div>
               <label htmlFor="prism-eye" className="mb-1 block text-sm font-semibold">
@@ -280,21 +403,45 @@ export default function RxTools() {
                 <option value="left">Left</option>
               </Select>
             </div>
-            <TextField label="In (mm)" value={decIn} onChange={setDecIn} error={errorOf(decInRes)} hint="negative = out" />
-            <TextField label="Up (mm)" value={decUp} onChange={setDecUp} error={errorOf(decUpRes)} hint="negative = down" />
+            <TextField
+              label="In (mm)"
+              value={decIn}
+              onChange={setDecIn}
+              error={errorOf(decInRes)}
+              hint="negative = out"
+            />
+            <TextField
+              label="Up (mm)"
+              value={decUp}
+              onChange={setDecUp}
+              error={errorOf(decUpRes)}
+              hint="negative = down"
+            />
           </div>
           {prism.ok === false ? <p className="mt-2 text-sm font-semibold text-red-800">✕ {prism.error}</p> : null}
           {prism.ok ? (
             <dl className="mt-4">
-              <Out label="Horizontal">{prism.value.horizontal.prism.toFixed(2)} Δ {prism.value.horizontal.base ? `base ${prism.value.horizontal.base}` : ""}</Out>
-              <Out label="Vertical">{prism.value.vertical.prism.toFixed(2)} Δ {prism.value.vertical.base ? `base ${prism.value.vertical.base}` : ""}</Out>
+              <Out label="Horizontal">
+                {prism.value.horizontal.prism.toFixed(2)} Δ{" "}
+                {prism.value.horizontal.base ? `base ${prism.value.horizontal.base}` : ""}
+              </Out>
+              <Out label="Vertical">
+                {prism.value.vertical.prism.toFixed(2)} Δ{" "}
+                {prism.value.vertical.base ? `base ${prism.value.vertical.base}` : ""}
+              </Out>
               <Out label="Resultant">{prism.value.resultant.toFixed(2)} Δ</Out>
             </dl>
           ) : null}
         </Card>
 
         <Card title="Visual acuity notation">
-          <TextField label="Acuity" value={acuity} onChange={setAcuity} error={errorOf(acuityRes)} hint="20/40, 6/12, 20/25-2, 0.5 (decimal), 0.30 logMAR, CF, HM" />
+          <TextField
+            label="Acuity"
+            value={acuity}
+            onChange={setAcuity}
+            error={errorOf(acuityRes)}
+            hint="20/40, 6/12, 20/25-2, 0.5 (decimal), 0.30 logMAR, CF, HM"
+          />
           {acuityRes.ok ? (
             <dl className="mt-4">
               <Out label="logMAR">{acuityRes.value.toFixed(2)}</Out>
@@ -303,20 +450,41 @@ export default function RxTools() {
               <Out label="Decimal">{fromLogMAR(acuityRes.value, "decimal")}</Out>
             </dl>
           ) : null}
-          <p className="mt-3 text-xs text-muted">logMAR = log10(MAR); 0.02 logMAR per letter on a 5-letter line (Bailey &amp; Lovie 1976).</p>
+          <p className="mt-3 text-xs text-muted">
+            logMAR = log10(MAR); 0.02 logMAR per letter on a 5-letter line (Bailey &amp; Lovie 1976).
+          </p>
         </Card>
 
         <Card title="Dispensing check" className="lg:col-span-2">
-          <p className="mb-3 text-sm text-muted">Measured spectacles against the ordered prescription, with the tolerances of ANSI Z80.1-2015.</p>
+          <p className="mb-3 text-sm text-muted">
+            Measured spectacles against the ordered prescription, with the tolerances of ANSI Z80.1-2015.
+          </p>
           <div className="grid gap-4 md:grid-cols-5">
             <div className="md:col-span-2">
               <TextField label="Ordered" value={ordered} onChange={setOrdered} error={errorOf(orderedRes)} />
             </div>
-            <TextField label="Ordered add" value={orderedAdd} onChange={setOrderedAdd} error={errorOf(orderedAddRes)} placeholder="none" />
+            <TextField
+              label="Ordered add"
+              value={orderedAdd}
+              onChange={setOrderedAdd}
+              error={errorOf(orderedAddRes)}
+              placeholder="none"
+            />
             <div className="md:col-span-2">
-              <TextField label="Measured (lensmeter)" value={measured} onChange={setMeasured} error={errorOf(measuredRes)} />
+              <TextField
+                label="Measured (lensmeter)"
+                value={measured}
+                onChange={setMeasured}
+                error={errorOf(measuredRes)}
+              />
             </div>
-            <TextField label="Measured add" value={measuredAdd} onChange={setMeasuredAdd} error={errorOf(measuredAddRes)} placeholder="none" />
+            <TextField
+              label="Measured add"
+              value={measuredAdd}
+              onChange={setMeasuredAdd}
+              error={errorOf(measuredAddRes)}
+              placeholder="none"
+            />
             <div>
               <label htmlFor="lens-type" className="mb-1 block text-sm font-semibold">
                 Lens type
@@ -331,9 +499,18 @@ export default function RxTools() {
           {report.ok === false ? <p className="mt-2 text-sm font-semibold text-red-800">✕ {report.error}</p> : null}
           {report.ok ? (
             <div className="mt-4 space-y-3">
-              <p aria-live="polite">{report.value.pass ? <StatusBadge tone="success">Passes — every element within tolerance</StatusBadge> : <StatusBadge tone="error">Fails — see the elements out of tolerance</StatusBadge>}</p>
+              <p aria-live="polite">
+                {report.value.pass ? (
+                  <StatusBadge tone="success">Passes — every element within tolerance</StatusBadge>
+                ) : (
+                  <StatusBadge tone="error">Fails — see the elements out of tolerance</StatusBadge>
+                )}
+              </p>
               <DispensingTable report={report.value} />
-              <p className="text-xs text-muted">Tolerances of ANSI Z80.1-2015, Prescription Ophthalmics — Recommendations for Prescription Spectacle Lenses. Verify on the lensmeter before dispensing.</p>
+              <p className="text-xs text-muted">
+                Tolerances of ANSI Z80.1-2015, Prescription Ophthalmics — Recommendations for Prescription Spectacle
+                Lenses. Verify on the lensmeter before dispensing.
+              </p>
             </div>
           ) : null}
         </Card>

@@ -29,7 +29,10 @@ export async function action({ request }: Route.ActionArgs) {
   const shape = eventShape.safeParse(event);
   if (!shape.success) {
     const missing = shape.error.issues.map((i) => i.path.join(".") || "(the event)").join(", ");
-    return Response.json({ error: `Webhook refused: the event is missing or has malformed fields: ${missing}.` }, { status: 400 });
+    return Response.json(
+      { error: `Webhook refused: the event is missing or has malformed fields: ${missing}.` },
+      { status: 400 },
+    );
   }
   const result = await processStripeEvent(event);
   if (result.receiptPaymentId) await emailReceiptQuietly(result.receiptPaymentId);
