@@ -832,22 +832,20 @@ export async function seedCaseload(tx: Tx) {
         else {
           const exact = vertexConvert(s, 12, 0);
           const rounded = roundRx(exact, 0.25);
-          await tx
-            .insert(prescriptionEyes)
-            .values({
-              prescriptionId: rx!.id,
-              eye,
-              ...rounded,
-              vertexMm: 0,
-              exactSphere: exact.sphere,
-              exactCylinder: exact.cylinder,
-              exactAxis: exact.axis,
-              spectacleSphere: s.sphere,
-              spectacleCylinder: s.cylinder,
-              spectacleAxis: s.axis,
-              baseCurveMm: 8.6,
-              diameterMm: 14.2,
-            });
+          await tx.insert(prescriptionEyes).values({
+            prescriptionId: rx!.id,
+            eye,
+            ...rounded,
+            vertexMm: 0,
+            exactSphere: exact.sphere,
+            exactCylinder: exact.cylinder,
+            exactAxis: exact.axis,
+            spectacleSphere: s.sphere,
+            spectacleCylinder: s.cylinder,
+            spectacleAxis: s.axis,
+            baseCurveMm: 8.6,
+            diameterMm: 14.2,
+          });
         }
       }
     }

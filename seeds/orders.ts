@@ -185,16 +185,14 @@ export async function seedOrders(tx: Tx) {
         createdAt: firstAt,
       })
       .returning();
-    await tx
-      .insert(orderEvents)
-      .values({
-        orderId: o!.id,
-        kind: "spectacles",
-        fromState: null,
-        toState: "draft",
-        actorUserId: desk?.id ?? null,
-        at: firstAt,
-      });
+    await tx.insert(orderEvents).values({
+      orderId: o!.id,
+      kind: "spectacles",
+      fromState: null,
+      toState: "draft",
+      actorUserId: desk?.id ?? null,
+      at: firstAt,
+    });
     if (path.at(-1)?.to !== "cancelled")
       await tx
         .update(frames)
@@ -205,17 +203,15 @@ export async function seedOrders(tx: Tx) {
       const at = new Date(Date.now() - step.daysAgo * day);
       await tx.update(opticalOrders).set({ state: step.to }).where(eq(opticalOrders.id, o!.id));
       await tx.update(opticalOrders).set({ stateChangedAt: at }).where(eq(opticalOrders.id, o!.id));
-      await tx
-        .insert(orderEvents)
-        .values({
-          orderId: o!.id,
-          kind: "spectacles",
-          fromState: from,
-          toState: step.to,
-          actorUserId: desk?.id ?? null,
-          reason: step.reason ?? "",
-          at,
-        });
+      await tx.insert(orderEvents).values({
+        orderId: o!.id,
+        kind: "spectacles",
+        fromState: from,
+        toState: step.to,
+        actorUserId: desk?.id ?? null,
+        reason: step.reason ?? "",
+        at,
+      });
       if (step.to === "checked") {
         const eyes = await tx.select().from(prescriptionEyes).where(eq(prescriptionEyes.prescriptionId, rx.id));
         const r = eyes.find((e) => e.eye === "right")!;
@@ -226,17 +222,15 @@ export async function seedOrders(tx: Tx) {
           { ordered: lens(l), measured: lens(l) },
           { standard: "BS EN ISO 21987:2017" },
         );
-        await tx
-          .insert(orderChecks)
-          .values({
-            orderId: o!.id,
-            standard: report.standard,
-            readings: { note: "demo: readings equal to the order" },
-            report,
-            pass: report.pass,
-            checkedById: desk?.id ?? null,
-            at,
-          });
+        await tx.insert(orderChecks).values({
+          orderId: o!.id,
+          standard: report.standard,
+          readings: { note: "demo: readings equal to the order" },
+          report,
+          pass: report.pass,
+          checkedById: desk?.id ?? null,
+          at,
+        });
       }
       from = step.to;
     }

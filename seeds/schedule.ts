@@ -170,31 +170,27 @@ export async function seedSchedule(tx: Tx) {
       p.role === "optometrist" && weekday === 4 && second
         ? { siteId: second.id, roomId: room(second.id, "Consulting room") }
         : { siteId: main.id, roomId: room(main.id, p.role === "owner" ? "Room 1" : "Room 2") };
-    await tx
-      .insert(workingHours)
-      .values(
-        days.map((weekday) => ({
+    await tx.insert(workingHours).values(
+      days.map((weekday) => ({
+        providerId: p.id,
+        weekday,
+        startMinute: 9 * 60,
+        endMinute: weekday === 6 ? 13 * 60 : 17 * 60 + 30,
+        ...where(weekday),
+      })),
+    );
+    await tx.insert(providerBreaks).values(
+      days
+        .filter((d) => d <= 5)
+        .map((weekday) => ({
           providerId: p.id,
           weekday,
-          startMinute: 9 * 60,
-          endMinute: weekday === 6 ? 13 * 60 : 17 * 60 + 30,
-          ...where(weekday),
+          startMinute: 13 * 60,
+          endMinute: 14 * 60,
+          label: "Lunch",
+          siteId: where(weekday).siteId,
         })),
-      );
-    await tx
-      .insert(providerBreaks)
-      .values(
-        days
-          .filter((d) => d <= 5)
-          .map((weekday) => ({
-            providerId: p.id,
-            weekday,
-            startMinute: 13 * 60,
-            endMinute: 14 * 60,
-            label: "Lunch",
-            siteId: where(weekday).siteId,
-          })),
-      );
+    );
   }
 
   // More fictional patients.

@@ -16,7 +16,7 @@ type Hit = {
  * Find a patient as you type: a debounced fetcher to /api/patients, results as an ARIA combobox
  * (arrow keys move, Enter opens the chart, Escape closes).
  */
-export function PatientSearch({ autoFocus = false }: { autoFocus?: boolean }) {
+export function PatientSearch() {
   const fetcher = useFetcher<{ q: string; results: Hit[] }>();
   const navigate = useNavigate();
   const [value, setValue] = useState("");
@@ -93,7 +93,6 @@ export function PatientSearch({ autoFocus = false }: { autoFocus?: boolean }) {
         aria-describedby={`${id}-hint`}
         autoComplete="off"
         spellCheck={false}
-        autoFocus={autoFocus}
         value={value}
         onChange={(e) => onChange(e.target.value)}
         onKeyDown={onKeyDown}

@@ -1,4 +1,4 @@
-import { useEffect, useState } from "react";
+import { useState } from "react";
 import { Notice } from "./ui/notice";
 
 type Toast = { kind: "success" | "info" | "warning" | "error"; title: string; description?: string };
@@ -6,7 +6,12 @@ type Toast = { kind: "success" | "info" | "warning" | "error"; title: string; de
 /** Shows the flash message of the last action; it stays until dismissed or the next navigation. */
 export function ToastViewport({ toast }: { toast: Toast | null }) {
   const [visible, setVisible] = useState<Toast | null>(toast);
-  useEffect(() => setVisible(toast), [toast]);
+  // A new flash message replaces the shown one (state adjusted while rendering, as React advises).
+  const [shownFor, setShownFor] = useState(toast);
+  if (toast !== shownFor) {
+    setShownFor(toast);
+    setVisible(toast);
+  }
   if (!visible) return null;
   return (
     <div className="fixed right-4 bottom-4 z-40 w-[min(26rem,calc(100vw-2rem))] shadow-lg" data-testid="toast">

@@ -40,6 +40,11 @@ export default tseslint.config(
   {
     files: ["**/*.tsx"],
     ...jsxA11y.flatConfigs.recommended,
+    rules: {
+      ...jsxA11y.flatConfigs.recommended.rules,
+      // Our labels wrap their control with the text a level or two down (title and hint spans).
+      "jsx-a11y/label-has-associated-control": ["error", { depth: 4 }],
+    },
   },
   {
     // Layering: route modules call into app/models (domain), app/utils (infrastructure) and

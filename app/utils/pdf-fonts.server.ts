@@ -114,11 +114,14 @@ function subsetTag(used: Set<string>) {
 
 /** Removes control characters (keeping line breaks) and composes accents onto their letters. */
 export function cleanText(text: string) {
-  return text
-    .normalize("NFC")
-    .replace(/\r\n?/g, "\n")
-    .replace(/\t/g, "  ")
-    .replace(/[\u0000-\u0009\u000b-\u001f\u007f-\u009f\u200b-\u200f\u2028-\u202e\u2060-\u2064\ufeff]/g, "");
+  return (
+    text
+      .normalize("NFC")
+      .replace(/\r\n?/g, "\n")
+      .replace(/\t/g, "  ")
+      // eslint-disable-next-line no-control-regex -- removing control characters is the point
+      .replace(/[\u0000-\u0009\u000b-\u001f\u007f-\u009f\u200b-\u200f\u2028-\u202e\u2060-\u2064\ufeff]/g, "")
+  );
 }
 
 export type Run = { font: PDFFont; text: string };

@@ -80,11 +80,9 @@ describe("optical orders in the browser", () => {
       "select quantity from frames where model = 'Tern 52' and colour = 'Matte black'",
     );
 
-    await desk
-      .getByLabel("Frame from stock")
-      .selectOption({
-        label: `Harbourline Eyewear Tern 52, Matte black, 52-18-140 — £89.00 — ${before!.quantity} in stock`,
-      });
+    await desk.getByLabel("Frame from stock").selectOption({
+      label: `Harbourline Eyewear Tern 52, Matte black, 52-18-140 — £89.00 — ${before!.quantity} in stock`,
+    });
     await screenshot(desk, "orders-new-spectacles");
     // Leave the field first: its error message goes on blur, and the page must not move under the click.
     await desk.getByLabel("Frame from stock").blur();

@@ -142,14 +142,12 @@ describe("recall list", () => {
     const later = await examAgo(there.id, 29, 6);
     await db.update(appointments).set({ siteId: hill!.id }).where(eq(appointments.id, later.id));
     // An exam recorded without an appointment has no site: the default site.
-    await db
-      .insert(exams)
-      .values({
-        patientId: nowhere.id,
-        optometristId: ids.optometrist.id,
-        examinedAt: wallTimeToInstant(addMonths(today, -30), 11 * 60, "Europe/London")!,
-        status: "in_progress",
-      });
+    await db.insert(exams).values({
+      patientId: nowhere.id,
+      optometristId: ids.optometrist.id,
+      examinedAt: wallTimeToInstant(addMonths(today, -30), 11 * 60, "Europe/London")!,
+      status: "in_progress",
+    });
 
     const { rows } = await recallList({ dueBy: today });
     expect(rows.find((r) => r.patientId === there.id)).toMatchObject({

@@ -108,16 +108,14 @@ async function fixtureExam(opts: { signed?: boolean } = {}) {
     })
     .returning();
   const examId = exam!.id;
-  await db
-    .insert(examHistory)
-    .values({
-      examId,
-      reason: "Routine check; morning headaches",
-      symptoms: "Headaches on waking",
-      generalHistory: "Hypertension",
-      medications: "Amlodipine 5 mg",
-      familyHistory: "Mother: glaucoma",
-    });
+  await db.insert(examHistory).values({
+    examId,
+    reason: "Routine check; morning headaches",
+    symptoms: "Headaches on waking",
+    generalHistory: "Hypertension",
+    medications: "Amlodipine 5 mg",
+    familyHistory: "Mother: glaucoma",
+  });
   await db.insert(examAcuity).values([
     { examId, eye: "right", distance: "distance", correction: "best", notation: "6/9", logMar: 0.18 },
     { examId, eye: "left", distance: "distance", correction: "best", notation: "6/6", logMar: 0 },
@@ -569,15 +567,13 @@ async function redFlagExam() {
     { examId, eye: "right", verticalCd: 0.35, margins: "distinct" },
     { examId, eye: "left", verticalCd: 0.3, margins: "distinct" },
   ]);
-  await db
-    .insert(examDilations)
-    .values({
-      examId,
-      drug: "tropicamide",
-      strengthPercent: 1,
-      eye: "both",
-      instilledAt: new Date(Date.now() - 2.5 * 3600_000),
-    });
+  await db.insert(examDilations).values({
+    examId,
+    drug: "tropicamide",
+    strengthPercent: 1,
+    eye: "both",
+    instilledAt: new Date(Date.now() - 2.5 * 3600_000),
+  });
   await db.insert(examCornealThickness).values([
     { examId, eye: "right", micrometres: 538 },
     { examId, eye: "left", micrometres: 541 },

@@ -112,15 +112,13 @@ describe("booking through POST /api/appointments", () => {
     const p = await newPatient();
     expect((await book(p.id, "2027-02-04T14:00:00Z")).status).toBe(201);
     await expect(
-      db
-        .insert(appointments)
-        .values({
-          patientId: p.id,
-          providerId: ids.optometrist.id,
-          appointmentTypeId: ids.examType.id,
-          startsAt: new Date("2027-02-04T14:10:00Z"),
-          endsAt: new Date("2027-02-04T14:20:00Z"),
-        }),
+      db.insert(appointments).values({
+        patientId: p.id,
+        providerId: ids.optometrist.id,
+        appointmentTypeId: ids.examType.id,
+        startsAt: new Date("2027-02-04T14:10:00Z"),
+        endsAt: new Date("2027-02-04T14:20:00Z"),
+      }),
     ).rejects.toMatchObject({ cause: { code: "23P01", constraint: "appointments_no_provider_overlap" } });
   });
 

@@ -133,17 +133,15 @@ describe("booking at a site", () => {
       ).status,
     ).toBe(201);
     await expect(
-      db
-        .insert(appointments)
-        .values({
-          patientId: p2.id,
-          providerId: ids.receptionist.id,
-          appointmentTypeId: ids.collectionType.id,
-          siteId: main.id,
-          roomId: room2.id,
-          startsAt: new Date(`${MON}T11:20:00Z`),
-          endsAt: new Date(`${MON}T11:30:00Z`),
-        }),
+      db.insert(appointments).values({
+        patientId: p2.id,
+        providerId: ids.receptionist.id,
+        appointmentTypeId: ids.collectionType.id,
+        siteId: main.id,
+        roomId: room2.id,
+        startsAt: new Date(`${MON}T11:20:00Z`),
+        endsAt: new Date(`${MON}T11:30:00Z`),
+      }),
     ).rejects.toMatchObject({ cause: { constraint: "appointments_no_room_overlap" } });
   });
 
@@ -151,29 +149,25 @@ describe("booking at a site", () => {
     const p = await newPatient();
     expect((await book({ patientId: p.id, start: `${MON}T14:00:00Z` })).status).toBe(201); // at Larkspur Lane
     await expect(
-      db
-        .insert(appointments)
-        .values({
-          patientId: p.id,
-          providerId: ids.optometrist.id,
-          appointmentTypeId: ids.examType.id,
-          siteId: hill.id,
-          startsAt: new Date(`${MON}T14:10:00Z`),
-          endsAt: new Date(`${MON}T14:40:00Z`),
-        }),
+      db.insert(appointments).values({
+        patientId: p.id,
+        providerId: ids.optometrist.id,
+        appointmentTypeId: ids.examType.id,
+        siteId: hill.id,
+        startsAt: new Date(`${MON}T14:10:00Z`),
+        endsAt: new Date(`${MON}T14:40:00Z`),
+      }),
     ).rejects.toMatchObject({ cause: { constraint: "appointments_no_provider_overlap" } });
     await expect(
-      db
-        .insert(appointments)
-        .values({
-          patientId: p.id,
-          providerId: ids.owner.id,
-          appointmentTypeId: ids.examType.id,
-          siteId: main.id,
-          roomId: (await room(hill.id, "Consulting room")).id,
-          startsAt: new Date(`${MON}T16:00:00Z`),
-          endsAt: new Date(`${MON}T16:30:00Z`),
-        }),
+      db.insert(appointments).values({
+        patientId: p.id,
+        providerId: ids.owner.id,
+        appointmentTypeId: ids.examType.id,
+        siteId: main.id,
+        roomId: (await room(hill.id, "Consulting room")).id,
+        startsAt: new Date(`${MON}T16:00:00Z`),
+        endsAt: new Date(`${MON}T16:30:00Z`),
+      }),
     ).rejects.toMatchObject({ cause: { constraint: "appointments_room_at_site_fk" } });
   });
 });

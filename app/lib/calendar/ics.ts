@@ -34,6 +34,7 @@ export function escapeText(value: string) {
 
 /** A parameter value (CN=…): quoted, as a name may hold ":" ";" ","; DQUOTE itself is not allowed in it (RFC 5545 §3.2). */
 function paramValue(value: string) {
+  // eslint-disable-next-line no-control-regex -- removing control characters is the point
   return `"${value.replace(/["\r\n]/g, "").replace(/[\u0000-\u001f\u007f]/g, "")}"`;
 }
 

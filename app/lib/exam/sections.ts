@@ -151,9 +151,6 @@ export type Parsed<T> = { ok: true; value: T } | { ok: false; errors: FieldError
 
 const messageOf = (e: unknown) => (e instanceof RxError ? e.message : e instanceof Error ? e.message : String(e));
 
-/** Plain decimal notation only: no hex (0x10), exponent (1e1), Infinity, commas or spaces. */
-const PLAIN_NUMBER = /^[+-]?(\d+(\.\d*)?|\.\d+)$/;
-
 /** Optional number within [min, max], in steps of `step` when given. */
 export function parseNumber(
   text: string | undefined,

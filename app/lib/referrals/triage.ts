@@ -90,8 +90,6 @@ const COLLEGE_ANNEX4 =
   "College of Optometrists, Guidance for Professional Practice, Annex 4 Urgency of referrals table";
 const NICE_NG81_114 =
   "NICE guideline NG81 (Glaucoma: diagnosis and management), recommendation 1.1.4: confirm an IOP of 24 mmHg or more on another occasion before deciding to refer";
-const NICE_NG81_112 =
-  "NICE guideline NG81, recommendation 1.1.2: do not base a decision to refer solely on IOP measured by non-contact tonometry";
 const NICE_NG81_111 =
   "NICE guideline NG81, recommendation 1.1.1: optic nerve assessment is among the tests before referral for chronic open angle glaucoma and related conditions";
 const NICE_NG82 =

@@ -115,32 +115,28 @@ async function insertLines(tx: Tx, invoiceId: string, lines: NewLine[]) {
       const fee = fees.find((f) => f.id === l.feeItemId);
       if (!fee || !fee.active)
         throw new BillingError("That fee is not in the fee schedule (or has been withdrawn).", 400, "feeItemId");
-      await tx
-        .insert(invoiceLines)
-        .values({
-          invoiceId,
-          feeItemId: fee.id,
-          position,
-          code: fee.code,
-          description: fee.description,
-          kind: fee.kind,
-          taxCategory: fee.taxCategory,
-          quantity: l.quantity,
-          unitPriceMinor: fee.priceMinor,
-        });
+      await tx.insert(invoiceLines).values({
+        invoiceId,
+        feeItemId: fee.id,
+        position,
+        code: fee.code,
+        description: fee.description,
+        kind: fee.kind,
+        taxCategory: fee.taxCategory,
+        quantity: l.quantity,
+        unitPriceMinor: fee.priceMinor,
+      });
     } else {
-      await tx
-        .insert(invoiceLines)
-        .values({
-          invoiceId,
-          position,
-          code: "MISC",
-          description: l.custom.description,
-          kind: l.custom.kind,
-          taxCategory: l.custom.taxCategory,
-          quantity: l.quantity,
-          unitPriceMinor: l.custom.unitPriceMinor,
-        });
+      await tx.insert(invoiceLines).values({
+        invoiceId,
+        position,
+        code: "MISC",
+        description: l.custom.description,
+        kind: l.custom.kind,
+        taxCategory: l.custom.taxCategory,
+        quantity: l.quantity,
+        unitPriceMinor: l.custom.unitPriceMinor,
+      });
     }
   }
 }

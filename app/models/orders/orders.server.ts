@@ -527,16 +527,14 @@ async function move(user: SessionUser, orderId: string, expected: OrderState, to
           409,
         );
       }
-      await tx
-        .insert(orderEvents)
-        .values({
-          orderId,
-          kind: o.kind,
-          fromState: expected,
-          toState: to,
-          actorUserId: user.id,
-          reason: opts.reason ?? "",
-        });
+      await tx.insert(orderEvents).values({
+        orderId,
+        kind: o.kind,
+        fromState: expected,
+        toState: to,
+        actorUserId: user.id,
+        reason: opts.reason ?? "",
+      });
       if (opts.also) await opts.also(tx, o);
       await audit(
         {

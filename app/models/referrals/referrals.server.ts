@@ -1500,14 +1500,12 @@ export async function reply(
           updatedAt: now,
         })
         .where(eq(referrals.id, referralId));
-      await tx
-        .insert(referralEvents)
-        .values({
-          referralId,
-          kind: "replied",
-          actorName: input.name,
-          detail: { linkId, replyId: row!.id, file: input.file?.name ?? null },
-        });
+      await tx.insert(referralEvents).values({
+        referralId,
+        kind: "replied",
+        actorName: input.name,
+        detail: { linkId, replyId: row!.id, file: input.file?.name ?? null },
+      });
       await audit(
         {
           action: "referral.link_replied",

@@ -203,7 +203,7 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
   const examDate = exam
     ? new Date(exam.examinedAt).toLocaleDateString("en-GB", { day: "numeric", month: "long", year: "numeric" })
     : "";
-  const FeeRows = ({ list }: { list: typeof fees }) => (
+  const feeRows = (list: typeof fees) => (
     <table className="w-full text-left text-sm">
       <thead className="border-b border-line text-muted">
         <tr>
@@ -311,14 +311,10 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
           )}
         </Card>
         <Card title="Services performed">
-          {services.length ? (
-            <FeeRows list={services} />
-          ) : (
-            <p className="text-muted">No services in the fee schedule yet.</p>
-          )}
+          {services.length ? feeRows(services) : <p className="text-muted">No services in the fee schedule yet.</p>}
         </Card>
         <Card title="Dispensed items">
-          {items.length ? <FeeRows list={items} /> : <p className="text-muted">No items in the fee schedule yet.</p>}
+          {items.length ? feeRows(items) : <p className="text-muted">No items in the fee schedule yet.</p>}
         </Card>
         <Card title="Extra line (optional)">
           <div className="grid gap-4 sm:grid-cols-[2fr_1fr_1fr_1fr]">

@@ -68,9 +68,10 @@ export function SectionForm({
   const state: SectionState =
     fetcher.state !== "idle" ? "saving" : dirty ? "unsaved" : reply && !reply.ok ? "failed" : "saved";
 
+  const trackState = dirtyTracker.set;
   useEffect(() => {
-    dirtyTracker.set(section, state);
-  }, [state, section, dirtyTracker.set]);
+    trackState(section, state);
+  }, [state, section, trackState]);
   useEffect(
     () => () => {
       if (timer.current) clearTimeout(timer.current);
@@ -258,7 +259,12 @@ export function ExamInput({
   const error = clientError ?? (touched ? undefined : serverErrors?.[0]);
   const errorId = error ? `${id}-error` : undefined;
   const echoId = !error && echoText ? `${id}-echo` : undefined;
-  useEffect(() => setTouched(false), [serverErrors]);
+  // New server errors are shown again even after the field was touched.
+  const [errorsSeen, setErrorsSeen] = useState(serverErrors);
+  if (serverErrors !== errorsSeen) {
+    setErrorsSeen(serverErrors);
+    setTouched(false);
+  }
   useEffect(() => {
     if (revalidateKey === undefined || !inputRef.current) return;
     const v = inputRef.current.value;

@@ -5,7 +5,7 @@ import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
-import { Notice, StatusBadge } from "~/components/ui/notice";
+import { StatusBadge } from "~/components/ui/notice";
 import { patients } from "~/db/schema";
 import { formatRx } from "~/lib/optics";
 import { examFor, latestPrompts, startExam } from "~/models/exams/exam.server";

@@ -93,7 +93,7 @@ export default function Patients({ loaderData }: Route.ComponentProps) {
         }
       />
       <div className="mb-6 max-w-xl">
-        <PatientSearch autoFocus />
+        <PatientSearch />
       </div>
       <Form method="get" className="mb-4 flex flex-wrap items-end gap-4" aria-label="Filter the table">
         <input type="hidden" name="sort" value={query.sort} />

@@ -1,4 +1,4 @@
-import { useEffect, useState } from "react";
+import { useState } from "react";
 import {
   CartesianGrid,
   Legend,
@@ -13,6 +13,7 @@ import {
   ZAxis,
 } from "recharts";
 import { Card } from "~/components/ui/card";
+import { useHydrated } from "~/components/use-hydrated";
 import { StatusBadge } from "~/components/ui/notice";
 import { formatDate } from "~/models/patients/patient-schema";
 
@@ -42,8 +43,7 @@ const COLOURS = { right: "#0d5c62", left: "#b45309" } as const;
 export function RefractionHistory({ points, progression }: { points: Point[]; progression: Progression }) {
   const [eye, setEye] = useState<"both" | "right" | "left">("both");
   const [kind, setKind] = useState<"final" | "all">("final");
-  const [mounted, setMounted] = useState(false);
-  useEffect(() => setMounted(true), []);
+  const mounted = useHydrated();
   const shown = points.filter((p) => (kind === "all" || p.kind === "final") && (eye === "both" || p.eye === eye));
   // The astigmatism plane is drawn square and centred on zero (no astigmatism), at least ±0.50 D,
   // in 0.25 D steps, so a cluster of equal values does not blow up into a meaningless scale.

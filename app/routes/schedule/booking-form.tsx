@@ -49,14 +49,17 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
     // eslint-disable-next-line react-hooks/exhaustive-deps
   }, [q]);
 
-  useEffect(() => {
+  // A patient just registered here is chosen and the quick form emptied.
+  const [registeredSeen, setRegisteredSeen] = useState(register.data);
+  if (register.data !== registeredSeen) {
+    setRegisteredSeen(register.data);
     const p = register.data?.patient;
     if (p) {
       setExtra((list) => [p, ...list.filter((x) => x.id !== p.id)]);
       setChosen(p);
       setNewPatient({ firstName: "", lastName: "", dateOfBirth: "", email: "", phone: "" });
     }
-  }, [register.data]);
+  }
 
   const found: PatientOption[] =
     q.trim().length >= 2

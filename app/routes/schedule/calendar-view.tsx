@@ -73,13 +73,14 @@ async function patch(event: EventApi) {
 
 export default function CalendarView(props: CalendarProps) {
   const ref = useRef<FullCalendar>(null);
+  const { provider, site, onMessage } = props;
   const source = useMemo(
     () => ({
       url: "/api/appointments",
-      extraParams: { provider: props.provider, site: props.site },
-      failure: () => props.onMessage("error", "The appointments could not be loaded. Check the connection and reload."),
+      extraParams: { provider, site },
+      failure: () => onMessage("error", "The appointments could not be loaded. Check the connection and reload."),
     }),
-    [props.provider, props.site],
+    [provider, site, onMessage],
   );
   const change = async (info: { event: EventApi; revert: () => void }, verb: string) => {
     const { ok, body } = await patch(info.event);

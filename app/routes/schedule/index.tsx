@@ -1,9 +1,10 @@
-import { lazy, Suspense, useEffect, useRef, useState } from "react";
+import { lazy, Suspense, useCallback, useEffect, useRef, useState } from "react";
 import { data, Form, Link, useLocation, useNavigate, useSearchParams } from "react-router";
 import type { Route } from "./+types/index";
 import { BookingForm } from "./booking-form";
 import { scheduleReferenceData } from "~/models/schedule/schedule-data.server";
 import { ScheduleNav } from "./schedule-nav";
+import { useHydrated } from "~/components/use-hydrated";
 import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
 import { Select } from "~/components/ui/input";
@@ -81,20 +82,24 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export default function Schedule({ loaderData }: Route.ComponentProps) {
   const { timeZone, siteName, providers, types, provider, view, date, businessHours, site, places } = loaderData;
-  const [hydrated, setHydrated] = useState(false);
+  const hydrated = useHydrated();
   const [message, setMessage] = useState<{ tone: "success" | "error"; text: string } | null>(null);
+  const showMessage = useCallback((tone: "success" | "error", text: string) => setMessage({ tone, text }), []);
   const [booking, setBooking] = useState<{ start: string } | null>(null);
   const dialog = useRef<HTMLDialogElement>(null);
   const navigate = useNavigate();
   const location = useLocation();
   const [params] = useSearchParams();
-  useEffect(() => setHydrated(true), []);
   useEffect(() => {
     if (booking) dialog.current?.showModal();
     else dialog.current?.close();
   }, [booking]);
   // A booking redirects back here: close the dialog.
-  useEffect(() => setBooking(null), [location.key]);
+  const [locationSeen, setLocationSeen] = useState(location.key);
+  if (location.key !== locationSeen) {
+    setLocationSeen(location.key);
+    setBooking(null);
+  }
 
   const calendarKey = `${provider}|${site}|${params.get("date") ?? ""}|${location.key}`;
   return (
@@ -189,7 +194,7 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
               businessHours={businessHours}
               onSelectSlot={(start) => setBooking({ start })}
               onOpen={(id) => navigate(`/schedule/appointments/${id}`)}
-              onMessage={(tone, text) => setMessage({ tone, text })}
+              onMessage={showMessage}
             />
           </Suspense>
         ) : (

@@ -107,7 +107,12 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
   const revalidator = useRevalidator();
   const [selected, setSelected] = useState<Set<string>>(new Set());
   const emailable = rows.filter((r) => r.email && r.recallsByEmail);
-  useEffect(() => setSelected(new Set()), [rows]);
+  // A new list (filter changed, batch sent) starts with nothing selected.
+  const [rowsSeen, setRowsSeen] = useState(rows);
+  if (rows !== rowsSeen) {
+    setRowsSeen(rows);
+    setSelected(new Set());
+  }
   const allChecked = emailable.length > 0 && emailable.every((r) => selected.has(r.patientId));
   const batch = send.data?.batch;
   return (
