@@ -12,15 +12,13 @@ import { db } from "~/utils/db.server";
 import { loadEnv } from "~/utils/env.server";
 import { S3Storage, storage, StorageKeyError, StorageUnavailableError, useStorage } from "~/utils/storage.server";
 import { UNIT } from "#tests/support/ports";
+import { newPatient } from "#tests/support/factories";
 import { BASE, cookieFor, dataOf, makeRequest, run, statusOf, userByEmail } from "#tests/support/helpers";
 
 const uniq = () => Math.random().toString(36).slice(2, 8);
 const defaultStorage = storage;
 
-async function patient() {
-  const [p] = await db.insert(patients).values({ firstName: "Storage", lastName: `Case${uniq()}`, dateOfBirth: "1971-03-03" }).returning();
-  return p!;
-}
+const patient = () => newPatient({ firstName: "Storage", dateOfBirth: "1971-03-03", email: null });
 
 function uploadRequest(cookie: string, patientId: string, file: { bytes: Uint8Array; name: string; type: string }) {
   const form = new FormData();

@@ -39,6 +39,24 @@ export async function freshDatabase(name: string) {
   return url;
 }
 
+/**
+ * Drops and re-creates `name` as a copy of `template` (a fresh, seeded database with its job
+ * queues, no open connections): much faster than migrating and seeding again.
+ */
+export async function cloneDatabase(template: string, name: string) {
+  const admin = new URL(databaseUrl());
+  admin.pathname = "/postgres";
+  const client = new pg.Client({ connectionString: admin.toString() });
+  await client.connect();
+  try {
+    await client.query(`DROP DATABASE IF EXISTS "${name}" WITH (FORCE)`);
+    await client.query(`CREATE DATABASE "${name}" TEMPLATE "${template}" STRATEGY FILE_COPY`);
+  } finally {
+    await client.end();
+  }
+  return testDatabaseUrl(name);
+}
+
 export function waitForPort(port: number, timeoutMs = 30_000): Promise<void> {
   const deadline = Date.now() + timeoutMs;
   return new Promise((resolve, reject) => {
