@@ -38,8 +38,10 @@ export default async function setup(project: TestProject) {
     const ports = e2eStackPorts(n);
     const databaseUrl = urls[n]!;
     const baseUrl = `http://127.0.0.1:${ports.app}`;
-    const [mail, stripe, s3] = await Promise.all([startMailStandIn(ports.smtp, ports.mailApi), startStripeStandIn(ports.stripe, `${baseUrl}/api/webhooks/stripe`), startS3StandIn(ports.s3)]);
-    children.push(mail, stripe, s3);
+    const started = await Promise.allSettled([startMailStandIn(ports.smtp, ports.mailApi), startStripeStandIn(ports.stripe, `${baseUrl}/api/webhooks/stripe`), startS3StandIn(ports.s3)]);
+    for (const r of started) if (r.status === "fulfilled") children.push(r.value);
+    const failed = started.find((r) => r.status === "rejected");
+    if (failed) throw failed.reason;
     const app = startProcess(`app${n || ""}`, join(ROOT, "node_modules/.bin/react-router-serve"), [`${BUILD_DIR}/server/index.js`], {
       NODE_ENV: "production",
       HOST: "127.0.0.1",

@@ -39,13 +39,17 @@ describe("practice settings", () => {
   });
 
   it("saves valid settings, upper-casing the currency code", async () => {
-    // Other test files read these settings at the same time: only values they do not depend on change here.
+    // This worker's own copy of the database: no other file runs on it meanwhile; the row is put back after.
     const cookie = await cookieFor("owner");
     const [before] = await db.select().from(practiceSettings).where(eq(practiceSettings.id, 1));
     const current = Object.fromEntries(Object.keys(practiceSchemaShape).map((k) => [k, String(before![k as keyof typeof before] ?? "")]));
-    const res = await run(practiceAction, makeRequest("/settings", { cookie, form: { ...current, currency: "gbp" } }));
-    expect(statusOf(res)).toBe(302);
-    const [row] = await db.select().from(practiceSettings).where(eq(practiceSettings.id, 1));
-    expect(row).toMatchObject({ currency: "GBP", jurisdiction: before!.jurisdiction, name: before!.name, addressLine1: before!.addressLine1, portalCancelCutoffHours: before!.portalCancelCutoffHours });
+    try {
+      const res = await run(practiceAction, makeRequest("/settings", { cookie, form: { ...current, name: "Larkspur Lane Eye Care (renamed)", currency: "gbp" } }));
+      expect(statusOf(res)).toBe(302);
+      const [row] = await db.select().from(practiceSettings).where(eq(practiceSettings.id, 1));
+      expect(row).toMatchObject({ currency: "GBP", name: "Larkspur Lane Eye Care (renamed)", jurisdiction: before!.jurisdiction, addressLine1: before!.addressLine1, portalCancelCutoffHours: before!.portalCancelCutoffHours });
+    } finally {
+      await db.update(practiceSettings).set(before!).where(eq(practiceSettings.id, 1));
+    }
   });
 });

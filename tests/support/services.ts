@@ -57,6 +57,9 @@ export async function cloneDatabase(template: string, name: string) {
   return testDatabaseUrl(name);
 }
 
+/** Stand-ins start through tsx; on a busy 2-core machine that can take well over 30 s. */
+const STANDIN_START_MS = 120_000;
+
 export function waitForPort(port: number, timeoutMs = 30_000): Promise<void> {
   const deadline = Date.now() + timeoutMs;
   return new Promise((resolve, reject) => {
@@ -104,7 +107,7 @@ export async function startStripeStandIn(port: number, webhookUrl: string) {
     STRIPE_SECRET_KEY: "sk_test_dioptra_local_standin",
     STRIPE_WEBHOOK_SECRET: "whsec_dioptra_local_standin",
   });
-  await waitForPort(port);
+  await waitForPort(port, STANDIN_START_MS);
   return child;
 }
 
@@ -114,7 +117,7 @@ export async function startS3StandIn(port: number) {
   rmSync(dir, { recursive: true, force: true });
   mkdirSync(dir, { recursive: true });
   const child = startProcess("s3", join(ROOT, "node_modules/.bin/tsx"), ["app/standins/s3-server.ts"], { S3_STANDIN_PORT: String(port), S3_STANDIN_DIR: dir });
-  await waitForPort(port);
+  await waitForPort(port, STANDIN_START_MS);
   return child;
 }
 
@@ -133,8 +136,8 @@ export async function startMailStandIn(smtpPort: number, apiPort: number) {
     MAILBOX_API_PORT: String(apiPort),
     MAILBOX_DIR: dir,
   });
-  await waitForPort(smtpPort);
-  await waitForPort(apiPort);
+  await waitForPort(smtpPort, STANDIN_START_MS);
+  await waitForPort(apiPort, STANDIN_START_MS);
   return child;
 }
 
