@@ -45,6 +45,8 @@ export default defineConfig({
           environment: "node",
           globalSetup: ["tests/e2e/global-setup.ts"],
           setupFiles: ["tests/e2e/setup.ts"],
+          // A page or the job worker answering a little late is not a failure: polls wait up to 10 s.
+          expect: { poll: { timeout: 10_000 } },
           maxWorkers: e2eWorkers,
           sequence: { groupOrder: 1 },
           testTimeout: 60_000,
