@@ -41,7 +41,11 @@ export function useBrowser() {
   let browser: Browser;
   const contexts: BrowserContext[] = [];
   beforeAll(async () => {
-    browser = await chromium.launch({ executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium", headless: true, args: CHROMIUM_ARGS });
+    browser = await chromium.launch({
+      executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium",
+      headless: true,
+      args: CHROMIUM_ARGS,
+    });
   });
   afterAll(async () => {
     await Promise.all(contexts.map((c) => c.close().catch(() => undefined)));
@@ -49,7 +53,11 @@ export function useBrowser() {
   });
   return {
     async newPage(options: { viewport?: { width: number; height: number } } = {}): Promise<Page> {
-      const context = await browser.newContext({ baseURL: baseUrl(), viewport: options.viewport ?? { width: 1280, height: 900 }, acceptDownloads: true });
+      const context = await browser.newContext({
+        baseURL: baseUrl(),
+        viewport: options.viewport ?? { width: 1280, height: 900 },
+        acceptDownloads: true,
+      });
       contexts.push(context);
       const page = await context.newPage();
       page.setDefaultTimeout(15_000);
@@ -67,7 +75,9 @@ export function useBrowser() {
 export async function signIn(page: Page, email: string, password = DEMO_PASSWORD) {
   if (password !== DEMO_PASSWORD) return signInWithForm(page, email, password);
   const value = await sessionCookieValue(email);
-  await page.context().addCookies([{ name: "dioptra_session", value, url: baseUrl(), httpOnly: true, sameSite: "Lax" }]);
+  await page
+    .context()
+    .addCookies([{ name: "dioptra_session", value, url: baseUrl(), httpOnly: true, sameSite: "Lax" }]);
   await page.goto("/");
 }
 
@@ -82,16 +92,27 @@ export async function signInWithForm(page: Page, email: string, password = DEMO_
 let pool: pg.Pool | undefined;
 /** A connection pool to this test file's database (its idle connections never keep the file's process alive). */
 export function testDb(): pg.Pool {
-  pool ??= new pg.Pool({ connectionString: inject("e2eDatabaseUrl"), max: 2, allowExitOnIdle: true, idleTimeoutMillis: 5_000 });
+  pool ??= new pg.Pool({
+    connectionString: inject("e2eDatabaseUrl"),
+    max: 2,
+    allowExitOnIdle: true,
+    idleTimeoutMillis: 5_000,
+  });
   return pool;
 }
 
 /** A new session of the active user `email`, as the `dioptra_session` cookie's signed value. */
 export async function sessionCookieValue(email: string): Promise<string> {
-  const { rows } = await testDb().query<{ id: string }>("select id from users where lower(email) = lower($1) and active", [email]);
+  const { rows } = await testDb().query<{ id: string }>(
+    "select id from users where lower(email) = lower($1) and active",
+    [email],
+  );
   if (!rows[0]) throw new Error(`no active user ${email}`);
   const id = randomBytes(32).toString("base64url");
-  await testDb().query("insert into sessions (id, user_id, expires_at, user_agent, ip) values ($1, $2, now() + interval '12 hours', 'browser test', '127.0.0.1')", [id, rows[0].id]);
+  await testDb().query(
+    "insert into sessions (id, user_id, expires_at, user_agent, ip) values ($1, $2, now() + interval '12 hours', 'browser test', '127.0.0.1')",
+    [id, rows[0].id],
+  );
   // Signed as app/utils/session.server.ts signs it, with the stack's secret.
   const cookie = createCookie("dioptra_session", { path: "/", secrets: [inject("sessionSecret")] });
   const header = await cookie.serialize(id);
@@ -102,20 +123,44 @@ export async function sessionCookieValue(email: string): Promise<string> {
 export async function expectAccessible(page: Page) {
   await page.evaluate(axeSource);
   const result = (await page.evaluate(async () => {
-    const axe = (window as unknown as { axe: { run: (ctx: Document, opts: unknown) => Promise<{ violations: { id: string; impact: string; help: string; nodes: { target: string[] }[] }[] }> } }).axe;
+    const axe = (
+      window as unknown as {
+        axe: {
+          run: (
+            ctx: Document,
+            opts: unknown,
+          ) => Promise<{ violations: { id: string; impact: string; help: string; nodes: { target: string[] }[] }[] }>;
+        };
+      }
+    ).axe;
     return axe.run(document, { resultTypes: ["violations"] });
   })) as { violations: { id: string; impact: string; help: string; nodes: { target: string[] }[] }[] };
   const serious = result.violations.filter((v) => v.impact === "serious" || v.impact === "critical");
-  expect(serious.map((v) => `${v.impact}: ${v.id} (${v.help}) at ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`)).toEqual([]);
+  expect(
+    serious.map((v) => `${v.impact}: ${v.id} (${v.help}) at ${v.nodes.map((n) => n.target.join(" ")).join(", ")}`),
+  ).toEqual([]);
 }
 
 /** Messages in the mail stand-in addressed to `to`, newest first (full bodies). */
 export async function mailTo(to: string) {
   const port = inject("mailApiPort");
-  const list = (await (await fetch(`http://127.0.0.1:${port}/messages?to=${encodeURIComponent(to)}`)).json()) as { id: string }[];
-  return Promise.all(list.map(async (m) => (await (await fetch(`http://127.0.0.1:${port}/messages/${m.id}`)).json()) as { id: string; subject: string; text: string; attachments: { index: number; filename: string }[] }));
+  const list = (await (await fetch(`http://127.0.0.1:${port}/messages?to=${encodeURIComponent(to)}`)).json()) as {
+    id: string;
+  }[];
+  return Promise.all(
+    list.map(
+      async (m) =>
+        (await (await fetch(`http://127.0.0.1:${port}/messages/${m.id}`)).json()) as {
+          id: string;
+          subject: string;
+          text: string;
+          attachments: { index: number; filename: string }[];
+        },
+    ),
+  );
 }
 
 export async function screenshot(page: Page, name: string) {
-  if (process.env.E2E_SCREENSHOTS) await page.screenshot({ path: join(process.env.E2E_SCREENSHOTS, `${name}.png`), fullPage: true });
+  if (process.env.E2E_SCREENSHOTS)
+    await page.screenshot({ path: join(process.env.E2E_SCREENSHOTS, `${name}.png`), fullPage: true });
 }

@@ -10,7 +10,9 @@ describe("sign-in and roles in the browser", () => {
     const page = await browser.newPage();
     await signInWithForm(page, DEMO.owner);
     await page.waitForURL((url) => url.pathname === "/");
-    await expect.poll(() => page.getByRole("heading", { level: 1 }).textContent()).toMatch(/Today at Larkspur Lane Eye Care/);
+    await expect
+      .poll(() => page.getByRole("heading", { level: 1 }).textContent())
+      .toMatch(/Today at Larkspur Lane Eye Care/);
     const cookies = await page.context().cookies();
     expect(cookies.find((c) => c.name === "dioptra_session")).toMatchObject({ httpOnly: true, sameSite: "Lax" });
   });
@@ -90,7 +92,10 @@ describe("sign-in and roles in the browser", () => {
     const nia = await browser.newPage();
     await nia.goto("/dev/mailbox");
     await expectAccessible(nia);
-    await nia.getByRole("link", { name: /You have been invited to Dioptra/ }).first().click();
+    await nia
+      .getByRole("link", { name: /You have been invited to Dioptra/ })
+      .first()
+      .click();
     await nia.getByRole("link", { name: /reset-password\?token=/ }).click();
     await expect.poll(() => nia.getByRole("heading", { level: 1 }).textContent()).toBe("Set your password");
     await nia.getByLabel("New password").fill("first-password-1");
@@ -107,9 +112,14 @@ describe("sign-in and roles in the browser", () => {
     await anon.getByLabel("E-mail").fill(email);
     await anon.getByRole("button", { name: "Send reset link" }).click();
     await expect.poll(() => anon.getByRole("status").first().textContent()).toContain("a reset link is on its way");
-    await expect.poll(async () => (await mailTo(email)).some((m) => m.subject === "Reset your Dioptra password")).toBe(true);
+    await expect
+      .poll(async () => (await mailTo(email)).some((m) => m.subject === "Reset your Dioptra password"))
+      .toBe(true);
     await anon.goto("/dev/mailbox");
-    await anon.getByRole("link", { name: /Reset your Dioptra password/ }).first().click();
+    await anon
+      .getByRole("link", { name: /Reset your Dioptra password/ })
+      .first()
+      .click();
     await anon.getByRole("link", { name: /reset-password\?token=/ }).click();
     const resetUrl = anon.url();
     await anon.getByLabel("New password").fill("second-password-2");
@@ -137,7 +147,11 @@ describe("sign-in and roles in the browser", () => {
 
 describe("over plain HTTP", () => {
   async function login(email: string, password = "demo-password") {
-    return fetch(`${baseUrl()}/login`, { method: "POST", body: new URLSearchParams({ email, password }), redirect: "manual" });
+    return fetch(`${baseUrl()}/login`, {
+      method: "POST",
+      body: new URLSearchParams({ email, password }),
+      redirect: "manual",
+    });
   }
   const cookieOf = (res: Response) => res.headers.get("set-cookie")!.split(";")[0]!;
 
@@ -165,12 +179,19 @@ describe("over plain HTTP", () => {
   });
 
   it("answers an empty sign-in with 400, a wrong one with 401", async () => {
-    expect((await fetch(`${baseUrl()}/login`, { method: "POST", body: new URLSearchParams({}), redirect: "manual" })).status).toBe(400);
+    expect(
+      (await fetch(`${baseUrl()}/login`, { method: "POST", body: new URLSearchParams({}), redirect: "manual" })).status,
+    ).toBe(400);
     expect((await login(DEMO.owner, "nope-nope")).status).toBe(401);
   });
 
   it("refuses a cross-site POST whose Origin is another site", async () => {
-    const res = await fetch(`${baseUrl()}/login`, { method: "POST", headers: { origin: "http://evil.example" }, body: new URLSearchParams({ email: DEMO.owner, password: "demo-password" }), redirect: "manual" });
+    const res = await fetch(`${baseUrl()}/login`, {
+      method: "POST",
+      headers: { origin: "http://evil.example" },
+      body: new URLSearchParams({ email: DEMO.owner, password: "demo-password" }),
+      redirect: "manual",
+    });
     expect(res.status).toBeGreaterThanOrEqual(400);
     expect(res.status).toBeLessThan(500);
     expect(res.headers.get("set-cookie")).toBeNull();
@@ -183,7 +204,10 @@ describe("over plain HTTP", () => {
   });
 
   it("redirects a forged session cookie to sign-in", async () => {
-    const res = await fetch(`${baseUrl()}/`, { headers: { cookie: "dioptra_session=eyJmb3JnZWQiOnRydWV9.bad" }, redirect: "manual" });
+    const res = await fetch(`${baseUrl()}/`, {
+      headers: { cookie: "dioptra_session=eyJmb3JnZWQiOnRydWV9.bad" },
+      redirect: "manual",
+    });
     expect(res.status).toBe(302);
     expect(res.headers.get("location")).toMatch(/^\/login/);
   });

@@ -30,8 +30,15 @@ async function lease() {
 const { stack, client } = await lease();
 
 // `inject` reads the worker's provided context; this file's stack replaces the first stack's values.
-const state = (globalThis as unknown as { __vitest_worker__: { providedContext: Record<string, unknown> } }).__vitest_worker__;
-Object.assign(state.providedContext, { baseUrl: stack.baseUrl, mailApiPort: stack.mailApiPort, e2eDatabaseUrl: stack.e2eDatabaseUrl, stripePort: stack.stripePort, sessionSecret: stack.sessionSecret });
+const state = (globalThis as unknown as { __vitest_worker__: { providedContext: Record<string, unknown> } })
+  .__vitest_worker__;
+Object.assign(state.providedContext, {
+  baseUrl: stack.baseUrl,
+  mailApiPort: stack.mailApiPort,
+  e2eDatabaseUrl: stack.e2eDatabaseUrl,
+  stripePort: stack.stripePort,
+  sessionSecret: stack.sessionSecret,
+});
 
 afterAll(async () => {
   await client.end().catch(() => undefined);

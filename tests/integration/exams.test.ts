@@ -1,7 +1,17 @@
 import { and, eq } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
 import { action as examAction, loader as examLoader } from "~/routes/exams/exam";
-import { auditLog, examAcuity, examAddenda, examCountersignatures, examDiagnoses, examIop, examRefractions, exams, patients } from "~/db/schema";
+import {
+  auditLog,
+  examAcuity,
+  examAddenda,
+  examCountersignatures,
+  examDiagnoses,
+  examIop,
+  examRefractions,
+  exams,
+  patients,
+} from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { newExam, newPatient } from "#tests/support/factories";
 import { cookieFor, dataOf, makeRequest, run, statusOf, userByEmail } from "#tests/support/helpers";
@@ -26,12 +36,18 @@ async function setup(opts: { previousFinal?: boolean } = {}) {
 }
 
 const post = async (role: string, params: { patientId: string; examId: string }, form: Record<string, string>) =>
-  run(examAction, makeRequest(`/patients/${params.patientId}/exams/${params.examId}`, { cookie: await cookieFor(role), form }), params);
+  run(
+    examAction,
+    makeRequest(`/patients/${params.patientId}/exams/${params.examId}`, { cookie: await cookieFor(role), form }),
+    params,
+  );
 
 describe("exam access", () => {
   it("gives the front desk 403 on read and on every write, and writes nothing", async () => {
     const { params, exam } = await setup();
-    expect(statusOf(await run(examLoader, makeRequest("/x", { cookie: await cookieFor("receptionist") }), params))).toBe(403);
+    expect(
+      statusOf(await run(examLoader, makeRequest("/x", { cookie: await cookieFor("receptionist") }), params)),
+    ).toBe(403);
     for (const form of <Record<string, string>[]>[
       { intent: "save", section: "refraction:final", right_rx: "-1.00 DS" },
       { intent: "save", section: "iop", right_mmHg: "30", right_method: "goldmann", right_time: "10:00" },
@@ -48,32 +64,80 @@ describe("exam access", () => {
   it("gives a patient 403 and answers 404 for an exam under another patient's id or a guessed id", async () => {
     const a = await setup();
     const b = await setup();
-    expect(statusOf(await run(examLoader, makeRequest("/x", { cookie: await cookieFor("patient") }), a.params))).toBe(403);
+    expect(statusOf(await run(examLoader, makeRequest("/x", { cookie: await cookieFor("patient") }), a.params))).toBe(
+      403,
+    );
     const owner = await cookieFor("owner");
-    expect(statusOf(await run(examLoader, makeRequest("/x", { cookie: owner }), { patientId: b.patient.id, examId: a.exam.id }))).toBe(404);
-    expect(statusOf(await run(examLoader, makeRequest("/x", { cookie: owner }), { patientId: a.patient.id, examId: "00000000-0000-4000-8000-000000000000" }))).toBe(404);
-    expect(statusOf(await run(examAction, makeRequest("/x", { cookie: owner, form: { intent: "save", section: "history", reason: "x" } }), { patientId: b.patient.id, examId: a.exam.id }))).toBe(404);
+    expect(
+      statusOf(
+        await run(examLoader, makeRequest("/x", { cookie: owner }), { patientId: b.patient.id, examId: a.exam.id }),
+      ),
+    ).toBe(404);
+    expect(
+      statusOf(
+        await run(examLoader, makeRequest("/x", { cookie: owner }), {
+          patientId: a.patient.id,
+          examId: "00000000-0000-4000-8000-000000000000",
+        }),
+      ),
+    ).toBe(404);
+    expect(
+      statusOf(
+        await run(
+          examAction,
+          makeRequest("/x", { cookie: owner, form: { intent: "save", section: "history", reason: "x" } }),
+          { patientId: b.patient.id, examId: a.exam.id },
+        ),
+      ),
+    ).toBe(404);
   });
 });
 
 describe("saving sections", () => {
   it("parses a refraction with the engine, keeps the typed text, and audits the write", async () => {
     const { params, exam } = await setup();
-    const res = await post("optometrist", params, { intent: "save", section: "refraction:subjective", right_rx: "-2.25 -0.75 x 175", right_add: "1.50", right_va: "6/6", left_rx: "pl", left_prism: "1", left_base: "in", left_vertex: "12" });
+    const res = await post("optometrist", params, {
+      intent: "save",
+      section: "refraction:subjective",
+      right_rx: "-2.25 -0.75 x 175",
+      right_add: "1.50",
+      right_va: "6/6",
+      left_rx: "pl",
+      left_prism: "1",
+      left_base: "in",
+      left_vertex: "12",
+    });
     expect(statusOf(res)).toBe(200);
     const rows = await db.select().from(examRefractions).where(eq(examRefractions.examId, exam.id));
     const right = rows.find((r) => r.eye === "right")!;
     const left = rows.find((r) => r.eye === "left")!;
-    expect(right).toMatchObject({ rawText: "-2.25 -0.75 x 175", sphere: -2.25, cylinder: -0.75, axis: 175, addPower: 1.5, vaNotation: "6/6", vaLogMar: 0 });
+    expect(right).toMatchObject({
+      rawText: "-2.25 -0.75 x 175",
+      sphere: -2.25,
+      cylinder: -0.75,
+      axis: 175,
+      addPower: 1.5,
+      vaNotation: "6/6",
+      vaLogMar: 0,
+    });
     expect(left).toMatchObject({ sphere: 0, cylinder: 0, axis: 180, prismDioptres: 1, prismBase: "in", vertexMm: 12 });
-    const audits = await db.select().from(auditLog).where(and(eq(auditLog.action, "exam.section_saved"), eq(auditLog.entityId, exam.id)));
+    const audits = await db
+      .select()
+      .from(auditLog)
+      .where(and(eq(auditLog.action, "exam.section_saved"), eq(auditLog.entityId, exam.id)));
     expect(audits[0]?.detail).toEqual({ section: "refraction:subjective" });
   });
 
   it("refuses an invalid field with 400 naming the field, and keeps what was saved before", async () => {
     const { params, exam } = await setup();
     await post("optometrist", params, { intent: "save", section: "refraction:final", right_rx: "-1.00 DS" });
-    const res = await post("optometrist", params, { intent: "save", section: "refraction:final", right_rx: "-1.25 -0.50 x 195", left_rx: "-1.00", left_va: "6/banana" });
+    const res = await post("optometrist", params, {
+      intent: "save",
+      section: "refraction:final",
+      right_rx: "-1.25 -0.50 x 195",
+      left_rx: "-1.00",
+      left_va: "6/banana",
+    });
     expect(statusOf(res)).toBe(400);
     const reply = dataOf<{ ok: boolean; errors: Record<string, string[]> }>(res);
     expect(reply.ok).toBe(false);
@@ -86,28 +150,82 @@ describe("saving sections", () => {
 
   it("validates acuity, IOP, colour vision and blind spot, and rejects unknown sections", async () => {
     const { params, exam } = await setup();
-    expect(statusOf(await post("optometrist", params, { intent: "save", section: "acuity", va_right_distance_unaided: "20/40-2", va_left_near_best: "N-what" }))).toBe(400);
+    expect(
+      statusOf(
+        await post("optometrist", params, {
+          intent: "save",
+          section: "acuity",
+          va_right_distance_unaided: "20/40-2",
+          va_left_near_best: "N-what",
+        }),
+      ),
+    ).toBe(400);
     expect(await db.select().from(examAcuity).where(eq(examAcuity.examId, exam.id))).toHaveLength(0);
-    expect(statusOf(await post("optometrist", params, { intent: "save", section: "acuity", va_right_distance_unaided: "20/40-2", va_both_distance_best: "6/5" }))).toBe(200);
+    expect(
+      statusOf(
+        await post("optometrist", params, {
+          intent: "save",
+          section: "acuity",
+          va_right_distance_unaided: "20/40-2",
+          va_both_distance_best: "6/5",
+        }),
+      ),
+    ).toBe(200);
     const va = await db.select().from(examAcuity).where(eq(examAcuity.examId, exam.id));
     // 20/40 is logMAR 0.301, two letters missed add 0.02 each (Bailey & Lovie 1976 letter scoring); kept to 0.01.
     expect(va.find((r) => r.eye === "right")!.logMar).toBeCloseTo(0.34, 2);
-    const iop = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "iop", right_mmHg: "19" }));
+    const iop = dataOf<{ errors: Record<string, string[]> }>(
+      await post("optometrist", params, { intent: "save", section: "iop", right_mmHg: "19" }),
+    );
     expect(Object.keys(iop.errors).sort()).toEqual(["right_method", "right_time"]);
-    const cv = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "colour", right_test: "plates_38", right_result: "normal", right_correct: "16", right_shown: "15" }));
+    const cv = dataOf<{ errors: Record<string, string[]> }>(
+      await post("optometrist", params, {
+        intent: "save",
+        section: "colour",
+        right_test: "plates_38",
+        right_result: "normal",
+        right_correct: "16",
+        right_shown: "15",
+      }),
+    );
     expect(cv.errors.right_correct![0]).toMatch(/cannot exceed/);
-    const vf = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "fields", right_fmethod: "automated", right_bsX: "15" }));
+    const vf = dataOf<{ errors: Record<string, string[]> }>(
+      await post("optometrist", params, {
+        intent: "save",
+        section: "fields",
+        right_fmethod: "automated",
+        right_bsX: "15",
+      }),
+    );
     expect(Object.keys(vf.errors).sort()).toEqual(["right_bsH", "right_bsW", "right_bsY"]);
     expect(statusOf(await post("optometrist", params, { intent: "save", section: "drop table" }))).toBe(400);
   });
 
   it("shows last visit's final refraction and the engine's referral prompts beside the findings", async () => {
     const { params } = await setup({ previousFinal: true });
-    await post("optometrist", params, { intent: "save", section: "iop", right_mmHg: "27", right_method: "goldmann", right_time: "09:40", left_mmHg: "18", left_method: "goldmann", left_time: "09:41" });
-    await post("optometrist", params, { intent: "save", section: "fields", right_fmethod: "automated", right_bsX: "15", right_bsY: "-1.5", right_bsW: "10", right_bsH: "12" });
-    const d = dataOf<{ previous: { rows: Record<string, { sphere: number }> }; prompts: { code: string; eye: string; rule: string; source: string }[] }>(
-      await run(examLoader, makeRequest("/x", { cookie: await cookieFor("optometrist") }), params),
-    );
+    await post("optometrist", params, {
+      intent: "save",
+      section: "iop",
+      right_mmHg: "27",
+      right_method: "goldmann",
+      right_time: "09:40",
+      left_mmHg: "18",
+      left_method: "goldmann",
+      left_time: "09:41",
+    });
+    await post("optometrist", params, {
+      intent: "save",
+      section: "fields",
+      right_fmethod: "automated",
+      right_bsX: "15",
+      right_bsY: "-1.5",
+      right_bsW: "10",
+      right_bsH: "12",
+    });
+    const d = dataOf<{
+      previous: { rows: Record<string, { sphere: number }> };
+      prompts: { code: string; eye: string; rule: string; source: string }[];
+    }>(await run(examLoader, makeRequest("/x", { cookie: await cookieFor("optometrist") }), params));
     expect(d.previous.rows.right!.sphere).toBe(-2);
     const codes = d.prompts.map((p) => `${p.code}:${p.eye}`).sort();
     expect(codes).toEqual(["BLIND_SPOT_ENLARGED:right", "IOP_ABOVE_NORMAL:right", "IOP_ASYMMETRY:both"]);
@@ -118,7 +236,9 @@ describe("saving sections", () => {
 describe("signing and addenda", () => {
   it("locks a signed exam, takes addenda with author and time, and audits each step", async () => {
     const { params, exam } = await setup();
-    expect(statusOf(await post("optometrist", params, { intent: "addendum", section: "Final", body: "Too early" }))).toBe(409);
+    expect(
+      statusOf(await post("optometrist", params, { intent: "addendum", section: "Final", body: "Too early" })),
+    ).toBe(409);
     const signed = (await post("optometrist", params, { intent: "sign" })) as Response;
     expect(signed.status).toBe(302);
     const [row] = await db.select().from(exams).where(eq(exams.id, exam.id));
@@ -128,7 +248,15 @@ describe("signing and addenda", () => {
     const late = await post("owner", params, { intent: "save", section: "history", reason: "changed after signing" });
     expect(statusOf(late)).toBe(409);
     expect(statusOf(await post("owner", params, { intent: "addendum", section: "", body: "" }))).toBe(400);
-    expect(statusOf(await post("owner", params, { intent: "addendum", section: "Case history", body: "Patient also reports glare at night." }))).toBe(302);
+    expect(
+      statusOf(
+        await post("owner", params, {
+          intent: "addendum",
+          section: "Case history",
+          body: "Patient also reports glare at night.",
+        }),
+      ),
+    ).toBe(302);
     const owner = await userByEmail("owner@dioptra-demo.test");
     const [ad] = await db.select().from(examAddenda).where(eq(examAddenda.examId, exam.id));
     expect(ad).toMatchObject({ authorId: owner.id, section: "Case history" });
@@ -139,22 +267,36 @@ describe("signing and addenda", () => {
 
   it("lets exactly one of two simultaneous signatures win", async () => {
     const { params, exam } = await setup();
-    const results = await Promise.all([post("optometrist", params, { intent: "sign" }), post("optometrist", params, { intent: "sign" })]);
+    const results = await Promise.all([
+      post("optometrist", params, { intent: "sign" }),
+      post("optometrist", params, { intent: "sign" }),
+    ]);
     expect(results.map(statusOf).sort()).toEqual([302, 409]);
-    expect((await db.select().from(auditLog).where(and(eq(auditLog.action, "exam.signed"), eq(auditLog.entityId, exam.id))))).toHaveLength(1);
+    expect(
+      await db
+        .select()
+        .from(auditLog)
+        .where(and(eq(auditLog.action, "exam.signed"), eq(auditLog.entityId, exam.id))),
+    ).toHaveLength(1);
   });
 
   it("audits every exam read", async () => {
     const { params, exam } = await setup();
     await run(examLoader, makeRequest("/x", { cookie: await cookieFor("owner") }), params);
-    expect(await db.select().from(auditLog).where(and(eq(auditLog.action, "exam.read"), eq(auditLog.entityId, exam.id)))).toHaveLength(1);
+    expect(
+      await db
+        .select()
+        .from(auditLog)
+        .where(and(eq(auditLog.action, "exam.read"), eq(auditLog.entityId, exam.id))),
+    ).toHaveLength(1);
   });
 });
 
 describe("clinical findings and triage", () => {
   it("saves red flags, pupils, anterior chamber, disc, fundus and dilation, and keeps triage's proposal with the exam on every save", async () => {
     const { params, exam } = await setup();
-    const ok = async (form: Record<string, string>) => expect(statusOf(await post("optometrist", params, { intent: "save", ...form }))).toBe(200);
+    const ok = async (form: Record<string, string>) =>
+      expect(statusOf(await post("optometrist", params, { intent: "save", ...form }))).toBe(200);
     await ok({ section: "redflags", rf_flashes: "left", rf_newFloaters: "left", rf_notes: "since yesterday evening" });
     let [row] = await db.select().from(exams).where(eq(exams.id, exam.id));
     // Flashes with new floaters: urgent per the College's guidance (engine's rule; see app/lib/referrals).
@@ -168,31 +310,92 @@ describe("clinical findings and triage", () => {
     expect(["urgent", "soon", "same_day"]).toContain(before);
     await ok({ section: "pupils", right_pup_equal: "on", left_pup_equal: "on" });
     await ok({ section: "ac", right_ac_vh: "3", right_ac_cells: "none", left_ac_vh: "3", left_ac_cells: "none" });
-    await ok({ section: "disc", right_disc_cd: "0.35", right_disc_margins: "distinct", left_disc_cd: "0.4", left_disc_margins: "distinct" });
-    const local = new Date(Date.now() - 10 * 60e3).toLocaleString("sv-SE", { timeZone: "Europe/London" }).slice(0, 16).replace(" ", "T");
+    await ok({
+      section: "disc",
+      right_disc_cd: "0.35",
+      right_disc_margins: "distinct",
+      left_disc_cd: "0.4",
+      left_disc_margins: "distinct",
+    });
+    const local = new Date(Date.now() - 10 * 60e3)
+      .toLocaleString("sv-SE", { timeZone: "Europe/London" })
+      .slice(0, 16)
+      .replace(" ", "T");
     await ok({ section: "dilation", dil1_drug: "tropicamide", dil1_strength: "1", dil1_eye: "both", dil1_at: local });
-    const d = dataOf<{ values: Record<string, string>; triage: { urgency: string } }>(await run(examLoader, makeRequest("/x", { cookie: await cookieFor("optometrist") }), params));
-    expect(d.values).toMatchObject({ rf_flashes: "left", left_fu_retinalBreak: "on", right_disc_cd: "0.35", right_ac_vh: "3", dil1_drug: "tropicamide", dil1_at: local });
+    const d = dataOf<{ values: Record<string, string>; triage: { urgency: string } }>(
+      await run(examLoader, makeRequest("/x", { cookie: await cookieFor("optometrist") }), params),
+    );
+    expect(d.values).toMatchObject({
+      rf_flashes: "left",
+      left_fu_retinalBreak: "on",
+      right_disc_cd: "0.35",
+      right_ac_vh: "3",
+      dil1_drug: "tropicamide",
+      dil1_at: local,
+    });
     expect(d.triage.urgency).toBe("same_day");
   });
 
   it("refuses impossible values field by field and leaves the section as it was", async () => {
     const { params, exam } = await setup();
-    await post("optometrist", params, { intent: "save", section: "iop", right_mmHg: "18", right_method: "goldmann", right_time: "09:00" });
+    await post("optometrist", params, {
+      intent: "save",
+      section: "iop",
+      right_mmHg: "18",
+      right_method: "goldmann",
+      right_time: "09:00",
+    });
     const bad = dataOf<{ errors: Record<string, string[]> }>(
-      await post("optometrist", params, { intent: "save", section: "iop", right_mmHg: "0", right_method: "goldmann", right_time: "09:00", left_mmHg: "90", left_method: "goldmann", left_time: "09:00", right_mmHg_2: "0x10", left_mmHg_2: "1e1" }),
+      await post("optometrist", params, {
+        intent: "save",
+        section: "iop",
+        right_mmHg: "0",
+        right_method: "goldmann",
+        right_time: "09:00",
+        left_mmHg: "90",
+        left_method: "goldmann",
+        left_time: "09:00",
+        right_mmHg_2: "0x10",
+        left_mmHg_2: "1e1",
+      }),
     );
     expect(Object.keys(bad.errors).sort()).toEqual(["left_mmHg", "left_mmHg_2", "right_mmHg", "right_mmHg_2"]);
     expect(bad.errors.left_mmHg![0]).toMatch(/90 is outside 1 to 80/);
     expect(bad.errors.right_mmHg_2![0]).toMatch(/not a number/);
     expect((await db.select().from(examIop).where(eq(examIop.examId, exam.id))).map((r) => r.mmHg)).toEqual([18]);
-    const cd = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "disc", right_disc_cd: "1.4", left_disc_cd: "0.3" }));
+    const cd = dataOf<{ errors: Record<string, string[]> }>(
+      await post("optometrist", params, { intent: "save", section: "disc", right_disc_cd: "1.4", left_disc_cd: "0.3" }),
+    );
     expect(Object.keys(cd.errors)).toEqual(["right_disc_cd"]);
-    const va = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "acuity", va_notation: "logmar", va_right_distance_best: "3.5", va_left_distance_best: "0.1" }));
+    const va = dataOf<{ errors: Record<string, string[]> }>(
+      await post("optometrist", params, {
+        intent: "save",
+        section: "acuity",
+        va_notation: "logmar",
+        va_right_distance_best: "3.5",
+        va_left_distance_best: "0.1",
+      }),
+    );
     expect(Object.keys(va.errors)).toEqual(["va_right_distance_best"]);
-    const rx = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "refraction:final", right_rx: "-1.00 -0.50 x 0", left_rx: "-1.00 -0.50 x 181" }));
+    const rx = dataOf<{ errors: Record<string, string[]> }>(
+      await post("optometrist", params, {
+        intent: "save",
+        section: "refraction:final",
+        right_rx: "-1.00 -0.50 x 0",
+        left_rx: "-1.00 -0.50 x 181",
+      }),
+    );
     expect(Object.keys(rx.errors).sort()).toEqual(["left_rx", "right_rx"]);
-    const future = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "dilation", dil1_drug: "tropicamide", dil1_strength: "1", dil1_eye: "both", dil1_at: "2099-01-01T10:00" }));
+    const future = dataOf<{ errors: Record<string, string[]> }>(
+      await post("optometrist", params, {
+        intent: "save",
+        section: "dilation",
+        dil1_drug: "tropicamide",
+        dil1_strength: "1",
+        dil1_eye: "both",
+        dil1_at: "2099-01-01T10:00",
+      }),
+    );
     expect(future.errors.dil1_at![0]).toMatch(/future/);
     const [row] = await db.select().from(exams).where(eq(exams.id, exam.id));
     expect(row!.triage).toMatchObject({ urgency: null });
@@ -200,9 +403,22 @@ describe("clinical findings and triage", () => {
 
   it("reads a bare acuity in the notation the entry states, and refuses it when the notation is Snellen", async () => {
     const { params, exam } = await setup();
-    const refused = dataOf<{ errors: Record<string, string[]> }>(await post("optometrist", params, { intent: "save", section: "acuity", va_right_distance_best: "1.0" }));
+    const refused = dataOf<{ errors: Record<string, string[]> }>(
+      await post("optometrist", params, { intent: "save", section: "acuity", va_right_distance_best: "1.0" }),
+    );
     expect(refused.errors.va_right_distance_best![0]).toMatch(/unambiguously/);
-    expect(statusOf(await post("optometrist", params, { intent: "save", section: "acuity", va_notation: "logmar", va_right_distance_best: "1.0", va_left_distance_pinhole: "PH 6/9", va_left_near_best: "N8" }))).toBe(200);
+    expect(
+      statusOf(
+        await post("optometrist", params, {
+          intent: "save",
+          section: "acuity",
+          va_notation: "logmar",
+          va_right_distance_best: "1.0",
+          va_left_distance_pinhole: "PH 6/9",
+          va_left_near_best: "N8",
+        }),
+      ),
+    ).toBe(200);
     const rows = await db.select().from(examAcuity).where(eq(examAcuity.examId, exam.id));
     // logMAR 1.0 is 6/60 (definition of the logMAR scale)
     expect(rows.find((r) => r.eye === "right")).toMatchObject({ notation: "logMAR 1.00", logMar: 1, scale: "logmar" });
@@ -212,7 +428,16 @@ describe("clinical findings and triage", () => {
 
   it("records a diagnosis for one eye", async () => {
     const { params, exam } = await setup();
-    expect(statusOf(await post("optometrist", params, { intent: "save", section: "assessment", "dx_H40.0": "right", "dx_Z01.0": "both" }))).toBe(200);
+    expect(
+      statusOf(
+        await post("optometrist", params, {
+          intent: "save",
+          section: "assessment",
+          "dx_H40.0": "right",
+          "dx_Z01.0": "both",
+        }),
+      ),
+    ).toBe(200);
     const rows = await db.select().from(examDiagnoses).where(eq(examDiagnoses.examId, exam.id));
     expect(rows.map((r) => `${r.code}:${r.eye}`).sort()).toEqual(["H40.0:right", "Z01.0:both"]);
   });
@@ -227,12 +452,18 @@ describe("who signs", () => {
     expect(statusOf(await post("owner", params, { intent: "countersign" }))).toBe(409);
     expect(statusOf(await post("optometrist", params, { intent: "sign" }))).toBe(302);
     expect(statusOf(await post("optometrist", params, { intent: "countersign" }))).toBe(403);
-    expect(statusOf(await post("owner", params, { intent: "countersign", note: "Reviewed the disc photographs." }))).toBe(302);
+    expect(
+      statusOf(await post("owner", params, { intent: "countersign", note: "Reviewed the disc photographs." })),
+    ).toBe(302);
     expect(statusOf(await post("owner", params, { intent: "countersign" }))).toBe(409);
     const owner = await userByEmail("owner@dioptra-demo.test");
     const rows = await db.select().from(examCountersignatures).where(eq(examCountersignatures.examId, exam.id));
     expect(rows).toMatchObject([{ clinicianId: owner.id, note: "Reviewed the disc photographs." }]);
-    const d = dataOf<{ exam: { signedBy: string }; countersignatures: { clinician: string; note: string }[]; canCountersign: boolean }>(await run(examLoader, makeRequest("/x", { cookie: await cookieFor("owner") }), params));
+    const d = dataOf<{
+      exam: { signedBy: string };
+      countersignatures: { clinician: string; note: string }[];
+      canCountersign: boolean;
+    }>(await run(examLoader, makeRequest("/x", { cookie: await cookieFor("owner") }), params));
     expect(d.exam.signedBy).toBeTruthy();
     expect(d.countersignatures).toHaveLength(1);
     expect(d.canCountersign).toBe(false);

@@ -22,7 +22,12 @@ afterAll(async () => {
   await stopJobs();
 });
 
-const jobsWith = async (marker: string) => (await db.execute<{ id: string }>(sql`select id from pgboss.job where name = ${probe.name} and data->>'marker' = ${marker}`)).rows;
+const jobsWith = async (marker: string) =>
+  (
+    await db.execute<{ id: string }>(
+      sql`select id from pgboss.job where name = ${probe.name} and data->>'marker' = ${marker}`,
+    )
+  ).rows;
 
 describe("a job queued inside a transaction", () => {
   it("is rolled back with the transaction, together with the write that caused it", async () => {
@@ -31,11 +36,16 @@ describe("a job queued inside a transaction", () => {
     let patientId = "";
     await expect(
       db.transaction(async (tx) => {
-        const [p] = await tx.insert(patients).values({ firstName: "Rollback", lastName: `Case-${marker}`, dateOfBirth: "1980-01-01" }).returning();
+        const [p] = await tx
+          .insert(patients)
+          .values({ firstName: "Rollback", lastName: `Case-${marker}`, dateOfBirth: "1980-01-01" })
+          .returning();
         patientId = p!.id;
         jobId = await probe.enqueue({ marker }, { tx });
         // Inside the transaction the job is there …
-        expect((await tx.execute<{ id: string }>(sql`select id from pgboss.job where id = ${jobId}`)).rows).toHaveLength(1);
+        expect(
+          (await tx.execute<{ id: string }>(sql`select id from pgboss.job where id = ${jobId}`)).rows,
+        ).toHaveLength(1);
         throw new Error("refused after queueing");
       }),
     ).rejects.toThrow("refused after queueing");

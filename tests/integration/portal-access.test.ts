@@ -12,7 +12,8 @@ import { getSessionUser } from "~/utils/session.server";
 import { newPatient as makePatient } from "#tests/support/factories";
 import { cookieFor, linkIn, mailTo, makeRequest, run, statusOf, uniqueEmail } from "#tests/support/helpers";
 
-const newPatient = (email: string | null = uniqueEmail("pt")) => makePatient({ firstName: "Oona", dateOfBirth: "1988-02-03", email });
+const newPatient = (email: string | null = uniqueEmail("pt")) =>
+  makePatient({ firstName: "Oona", dateOfBirth: "1988-02-03", email });
 
 async function jsonOf(res: unknown) {
   return (await (res as Response).json()) as Record<string, unknown>;
@@ -21,27 +22,60 @@ async function jsonOf(res: unknown) {
 describe("portal invitation", () => {
   it("creates a patient account linked to the record and e-mails a set-password link", async () => {
     const patient = await newPatient();
-    const res = await run(inviteAction, makeRequest("/api/portal-invite", { cookie: await cookieFor("receptionist"), json: { patientId: patient.id } }));
+    const res = await run(
+      inviteAction,
+      makeRequest("/api/portal-invite", { cookie: await cookieFor("receptionist"), json: { patientId: patient.id } }),
+    );
     expect(statusOf(res)).toBe(200);
     const [account] = await db.select().from(users).where(eq(users.patientId, patient.id));
     expect(account).toMatchObject({ role: "patient", email: patient.email, passwordHash: null });
     const [mail] = await mailTo(patient.email!);
     const token = linkIn(mail!.text, "/reset-password?token=").searchParams.get("token")!;
-    expect(await run(resetLoader, makeRequest(`/reset-password?token=${token}`))).toMatchObject({ valid: true, purpose: "invite" });
-    expect(statusOf(await run(resetAction, makeRequest("/reset-password", { form: { token, password: "patient-pass-1", confirm: "patient-pass-1" } })))).toBe(302);
+    expect(await run(resetLoader, makeRequest(`/reset-password?token=${token}`))).toMatchObject({
+      valid: true,
+      purpose: "invite",
+    });
+    expect(
+      statusOf(
+        await run(
+          resetAction,
+          makeRequest("/reset-password", { form: { token, password: "patient-pass-1", confirm: "patient-pass-1" } }),
+        ),
+      ),
+    ).toBe(302);
     // A second invitation is refused: the account is active now.
-    const again = await run(inviteAction, makeRequest("/api/portal-invite", { cookie: await cookieFor("receptionist"), json: { patientId: patient.id } }));
+    const again = await run(
+      inviteAction,
+      makeRequest("/api/portal-invite", { cookie: await cookieFor("receptionist"), json: { patientId: patient.id } }),
+    );
     expect(statusOf(again)).toBe(409);
     expect((await jsonOf(again)).error).toMatch(/already has an active online account/);
   });
 
   it("asks for an e-mail address first, and refuses bad ids and patients", async () => {
     const noEmail = await newPatient(null);
-    const res = await run(inviteAction, makeRequest("/api/portal-invite", { cookie: await cookieFor("owner"), json: { patientId: noEmail.id } }));
+    const res = await run(
+      inviteAction,
+      makeRequest("/api/portal-invite", { cookie: await cookieFor("owner"), json: { patientId: noEmail.id } }),
+    );
     expect(statusOf(res)).toBe(409);
     expect((await jsonOf(res)).error).toMatch(/e-mail address first/);
-    expect(statusOf(await run(inviteAction, makeRequest("/api/portal-invite", { cookie: await cookieFor("owner"), json: { patientId: "nope" } })))).toBe(400);
-    expect(statusOf(await run(inviteAction, makeRequest("/api/portal-invite", { cookie: await cookieFor("patient"), json: { patientId: noEmail.id } })))).toBe(403);
+    expect(
+      statusOf(
+        await run(
+          inviteAction,
+          makeRequest("/api/portal-invite", { cookie: await cookieFor("owner"), json: { patientId: "nope" } }),
+        ),
+      ),
+    ).toBe(400);
+    expect(
+      statusOf(
+        await run(
+          inviteAction,
+          makeRequest("/api/portal-invite", { cookie: await cookieFor("patient"), json: { patientId: noEmail.id } }),
+        ),
+      ),
+    ).toBe(403);
     expect(await db.select().from(users).where(eq(users.patientId, noEmail.id))).toHaveLength(0);
   });
 });
@@ -66,7 +100,9 @@ describe("e-mailed sign-in link", () => {
     expect(res.headers.get("location")).toBe("/portal");
     const user = await getSessionUser(makeRequest("/", { cookie: res.headers.get("set-cookie")!.split(";")[0] }));
     expect(user?.role).toBe("patient");
-    expect(statusOf(await run(verifyAction, makeRequest("/sign-in-link/verify", { form: { token: token! } })))).toBe(400);
+    expect(statusOf(await run(verifyAction, makeRequest("/sign-in-link/verify", { form: { token: token! } })))).toBe(
+      400,
+    );
   });
 
   it("sends nothing to staff accounts or unknown addresses", async () => {
@@ -79,18 +115,38 @@ describe("reminder choices", () => {
   it("lets the patient switch e-mails off, records it, and is the patient's own only", async () => {
     const cookie = await cookieFor("patient");
     const me = await getSessionUser(makeRequest("/", { cookie }));
-    const res = await run(remindersAction, makeRequest("/portal/reminders", { cookie, form: { recallsByEmail: "on" } }));
+    const res = await run(
+      remindersAction,
+      makeRequest("/portal/reminders", { cookie, form: { recallsByEmail: "on" } }),
+    );
     expect(statusOf(res)).toBe(302);
-    const [row] = await db.select({ r: patients.remindersByEmail, c: patients.recallsByEmail }).from(patients).where(eq(patients.id, me!.patientId!));
+    const [row] = await db
+      .select({ r: patients.remindersByEmail, c: patients.recallsByEmail })
+      .from(patients)
+      .where(eq(patients.id, me!.patientId!));
     expect(row).toEqual({ r: false, c: true });
     const [logged] = await db.select().from(auditLog).where(eq(auditLog.action, "portal.reminder_choice"));
     expect(logged?.patientId).toBe(me!.patientId);
-    expect(await run(remindersLoader, makeRequest("/portal/reminders", { cookie }))).toMatchObject({ remindersByEmail: false, recallsByEmail: true });
-    await run(remindersAction, makeRequest("/portal/reminders", { cookie, form: { remindersByEmail: "on", recallsByEmail: "on" } }));
+    expect(await run(remindersLoader, makeRequest("/portal/reminders", { cookie }))).toMatchObject({
+      remindersByEmail: false,
+      recallsByEmail: true,
+    });
+    await run(
+      remindersAction,
+      makeRequest("/portal/reminders", { cookie, form: { remindersByEmail: "on", recallsByEmail: "on" } }),
+    );
   });
 
   it("is closed to staff", async () => {
-    expect(statusOf(await run(remindersLoader, makeRequest("/portal/reminders", { cookie: await cookieFor("receptionist") })))).toBe(403);
-    expect(statusOf(await run(remindersAction, makeRequest("/portal/reminders", { cookie: await cookieFor("owner"), form: {} })))).toBe(403);
+    expect(
+      statusOf(
+        await run(remindersLoader, makeRequest("/portal/reminders", { cookie: await cookieFor("receptionist") })),
+      ),
+    ).toBe(403);
+    expect(
+      statusOf(
+        await run(remindersAction, makeRequest("/portal/reminders", { cookie: await cookieFor("owner"), form: {} })),
+      ),
+    ).toBe(403);
   });
 });

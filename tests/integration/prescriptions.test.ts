@@ -19,14 +19,39 @@ async function signedExam(sign = true) {
     patient: { firstName: "Rx", lastName: `Holder${uniq()}`, dateOfBirth: "1970-01-02" },
     signed: sign,
     refractions: [
-      { kind: "final", eye: "right", rawText: "-6.00 DS", sphere: -6, cylinder: 0, axis: 180, addPower: null, vertexMm: 12 },
-      { kind: "final", eye: "left", rawText: "-4.00 -1.00 x 180", sphere: -4, cylinder: -1, axis: 180, prismDioptres: 1, prismBase: "up" },
+      {
+        kind: "final",
+        eye: "right",
+        rawText: "-6.00 DS",
+        sphere: -6,
+        cylinder: 0,
+        axis: 180,
+        addPower: null,
+        vertexMm: 12,
+      },
+      {
+        kind: "final",
+        eye: "left",
+        rawText: "-4.00 -1.00 x 180",
+        sphere: -4,
+        cylinder: -1,
+        axis: 180,
+        prismDioptres: 1,
+        prismBase: "up",
+      },
     ],
   });
 }
 
 const issue = async (role: string, params: { patientId: string; examId: string }, form: Record<string, string>) =>
-  run(examAction, makeRequest(`/patients/${params.patientId}/exams/${params.examId}`, { cookie: await cookieFor(role), form: { intent: "issue-rx", ...form } }), params);
+  run(
+    examAction,
+    makeRequest(`/patients/${params.patientId}/exams/${params.examId}`, {
+      cookie: await cookieFor(role),
+      form: { intent: "issue-rx", ...form },
+    }),
+    params,
+  );
 
 function pdfText(bytes: ArrayBuffer) {
   const dir = mkdtempSync(join(tmpdir(), "rx-pdf-"));
@@ -65,13 +90,30 @@ describe("issuing prescriptions", () => {
 
   it("issues a spectacle prescription with the practice's validity and a PDF the front desk can print", async () => {
     const { params, patient } = await signedExam();
-    expect(statusOf(await issue("optometrist", params, { kind: "spectacle", notes: "Anti-reflection coating" }))).toBe(302);
+    expect(statusOf(await issue("optometrist", params, { kind: "spectacle", notes: "Anti-reflection coating" }))).toBe(
+      302,
+    );
     const [rx] = await db.select().from(prescriptions).where(eq(prescriptions.patientId, patient.id));
-    expect(rx).toMatchObject({ kind: "spectacle", prescriberName: "Tobias Wren", prescriberLicence: "01-31982", expiresOn: addMonths(rx!.issuedAt, 24) });
+    expect(rx).toMatchObject({
+      kind: "spectacle",
+      prescriberName: "Tobias Wren",
+      prescriberLicence: "01-31982",
+      expiresOn: addMonths(rx!.issuedAt, 24),
+    });
     const eyes = await db.select().from(prescriptionEyes).where(eq(prescriptionEyes.prescriptionId, rx!.id));
-    expect(eyes.find((e) => e.eye === "left")).toMatchObject({ sphere: -4, cylinder: -1, axis: 180, prismDioptres: 1, prismBase: "up", vertexMm: 12 });
+    expect(eyes.find((e) => e.eye === "left")).toMatchObject({
+      sphere: -4,
+      cylinder: -1,
+      axis: 180,
+      prismDioptres: 1,
+      prismBase: "up",
+      vertexMm: 12,
+    });
 
-    const res = (await run(pdfLoader, makeRequest("/x", { cookie: await cookieFor("receptionist") }), { patientId: patient.id, prescriptionId: rx!.id })) as Response;
+    const res = (await run(pdfLoader, makeRequest("/x", { cookie: await cookieFor("receptionist") }), {
+      patientId: patient.id,
+      prescriptionId: rx!.id,
+    })) as Response;
     expect(res.status).toBe(200);
     expect(res.headers.get("content-type")).toBe("application/pdf");
     const text = pdfText(await res.arrayBuffer());
@@ -87,13 +129,30 @@ describe("issuing prescriptions", () => {
 
   it("issues a contact-lens prescription showing the rounded and the exact corneal-plane powers", async () => {
     const { params, patient } = await signedExam();
-    expect(statusOf(await issue("owner", params, { kind: "contact_lens", lensName: "Monthly silicone hydrogel", baseCurveMm: "8.6", diameterMm: "14.2" }))).toBe(302);
+    expect(
+      statusOf(
+        await issue("owner", params, {
+          kind: "contact_lens",
+          lensName: "Monthly silicone hydrogel",
+          baseCurveMm: "8.6",
+          diameterMm: "14.2",
+        }),
+      ),
+    ).toBe(302);
     const [rx] = await db.select().from(prescriptions).where(eq(prescriptions.patientId, patient.id));
     expect(rx!.expiresOn).toBe(addMonths(rx!.issuedAt, 12));
     const eyes = await db.select().from(prescriptionEyes).where(eq(prescriptionEyes.prescriptionId, rx!.id));
-    expect(eyes.find((e) => e.eye === "right")).toMatchObject({ sphere: -5.5, spectacleSphere: -6, baseCurveMm: 8.6, diameterMm: 14.2 });
+    expect(eyes.find((e) => e.eye === "right")).toMatchObject({
+      sphere: -5.5,
+      spectacleSphere: -6,
+      baseCurveMm: 8.6,
+      diameterMm: 14.2,
+    });
     expect(eyes.find((e) => e.eye === "right")!.exactSphere).toBeCloseTo(-5.597, 3);
-    const res = (await run(pdfLoader, makeRequest("/x", { cookie: await cookieFor("owner") }), { patientId: patient.id, prescriptionId: rx!.id })) as Response;
+    const res = (await run(pdfLoader, makeRequest("/x", { cookie: await cookieFor("owner") }), {
+      patientId: patient.id,
+      prescriptionId: rx!.id,
+    })) as Response;
     const text = pdfText(await res.arrayBuffer());
     expect(text).toContain("Contact-lens prescription");
     expect(text).toContain("\u22125.50");
@@ -106,8 +165,14 @@ describe("issuing prescriptions", () => {
     await issue("optometrist", params, { kind: "spectacle" });
     const [rx] = await db.select().from(prescriptions).where(eq(prescriptions.patientId, patient.id));
     const cookie = await cookieFor("patient");
-    expect(statusOf(await run(pdfLoader, makeRequest("/x", { cookie }), { patientId: patient.id, prescriptionId: rx!.id }))).toBe(404);
+    expect(
+      statusOf(await run(pdfLoader, makeRequest("/x", { cookie }), { patientId: patient.id, prescriptionId: rx!.id })),
+    ).toBe(404);
     const me = await userByEmail("patient@dioptra-demo.test");
-    expect(statusOf(await run(pdfLoader, makeRequest("/x", { cookie }), { patientId: me.patientId!, prescriptionId: rx!.id }))).toBe(404);
+    expect(
+      statusOf(
+        await run(pdfLoader, makeRequest("/x", { cookie }), { patientId: me.patientId!, prescriptionId: rx!.id }),
+      ),
+    ).toBe(404);
   });
 });

@@ -34,7 +34,13 @@ import { loader as pdfLoader } from "~/routes/referrals/letter-pdf";
 import { signLink, verifyLink } from "~/routes/referrals/links.server";
 import { action as newAction, loader as newLoader } from "~/routes/referrals/new";
 import { action as referralAction, loader as referralLoader } from "~/routes/referrals/referral";
-import { deliverReferralMessage, referralsForChart, smtpSender, trackingRows, useReferralMailSender } from "~/routes/referrals/referrals.server";
+import {
+  deliverReferralMessage,
+  referralsForChart,
+  smtpSender,
+  trackingRows,
+  useReferralMailSender,
+} from "~/routes/referrals/referrals.server";
 import { action as replyAction, loader as replyLoader } from "~/routes/referrals/reply";
 import { loader as replyLetterLoader } from "~/routes/referrals/reply-letter";
 import { action as recipientsAction } from "~/routes/settings/recipients";
@@ -42,7 +48,17 @@ import { db } from "~/utils/db.server";
 import { stopJobs } from "~/utils/jobs.server";
 import { storage } from "~/utils/storage.server";
 import { newRecipient } from "#tests/support/factories";
-import { BASE, cookieFor, dataOf, linkIn, mailTo, makeRequest, run, statusOf, userByEmail } from "#tests/support/helpers";
+import {
+  BASE,
+  cookieFor,
+  dataOf,
+  linkIn,
+  mailTo,
+  makeRequest,
+  run,
+  statusOf,
+  userByEmail,
+} from "#tests/support/helpers";
 
 const OPTOM = "optometrist@dioptra-demo.test";
 
@@ -60,23 +76,72 @@ async function fixtureExam(opts: { signed?: boolean } = {}) {
   const optom = await userByEmail(OPTOM);
   const [patient] = await db
     .insert(patients)
-    .values({ firstName: "Oriel", lastName: `Fenwick-Test${Math.floor(Math.random() * 1e6)}`, dateOfBirth: "1961-06-02", sex: "female", addressLine1: "9 Quarry Row", city: "Brackenford", postcode: "BF9 2ZZ", phone: "07700 900461", allergies: "Penicillin (rash)", gpName: "Dr Imogen Castellane", gpPractice: "Brackenford Health Centre", gpPhone: "01632 960 112" })
+    .values({
+      firstName: "Oriel",
+      lastName: `Fenwick-Test${Math.floor(Math.random() * 1e6)}`,
+      dateOfBirth: "1961-06-02",
+      sex: "female",
+      addressLine1: "9 Quarry Row",
+      city: "Brackenford",
+      postcode: "BF9 2ZZ",
+      phone: "07700 900461",
+      allergies: "Penicillin (rash)",
+      gpName: "Dr Imogen Castellane",
+      gpPractice: "Brackenford Health Centre",
+      gpPhone: "01632 960 112",
+    })
     .returning();
   const signed = opts.signed ?? true;
   const at = new Date(Date.now() - 2 * 3600_000);
   const [exam] = await db
     .insert(exams)
-    .values({ patientId: patient!.id, optometristId: optom.id, examinedAt: at, status: signed ? "signed" : "in_progress", signedAt: signed ? new Date() : null, signedById: signed ? optom.id : null })
+    .values({
+      patientId: patient!.id,
+      optometristId: optom.id,
+      examinedAt: at,
+      status: signed ? "signed" : "in_progress",
+      signedAt: signed ? new Date() : null,
+      signedById: signed ? optom.id : null,
+    })
     .returning();
   const examId = exam!.id;
-  await db.insert(examHistory).values({ examId, reason: "Routine check; morning headaches", symptoms: "Headaches on waking", generalHistory: "Hypertension", medications: "Amlodipine 5 mg", familyHistory: "Mother: glaucoma" });
+  await db.insert(examHistory).values({
+    examId,
+    reason: "Routine check; morning headaches",
+    symptoms: "Headaches on waking",
+    generalHistory: "Hypertension",
+    medications: "Amlodipine 5 mg",
+    familyHistory: "Mother: glaucoma",
+  });
   await db.insert(examAcuity).values([
     { examId, eye: "right", distance: "distance", correction: "best", notation: "6/9", logMar: 0.18 },
     { examId, eye: "left", distance: "distance", correction: "best", notation: "6/6", logMar: 0 },
   ]);
   await db.insert(examRefractions).values([
-    { examId, kind: "final", eye: "right", rawText: "-2.25 -0.75 x 175", sphere: -2.25, cylinder: -0.75, axis: 175, vaNotation: "6/9", vaLogMar: 0.18, addPower: 2 },
-    { examId, kind: "final", eye: "left", rawText: "-2.00 DS", sphere: -2, cylinder: 0, axis: 180, vaNotation: "6/6", vaLogMar: 0, addPower: 2 },
+    {
+      examId,
+      kind: "final",
+      eye: "right",
+      rawText: "-2.25 -0.75 x 175",
+      sphere: -2.25,
+      cylinder: -0.75,
+      axis: 175,
+      vaNotation: "6/9",
+      vaLogMar: 0.18,
+      addPower: 2,
+    },
+    {
+      examId,
+      kind: "final",
+      eye: "left",
+      rawText: "-2.00 DS",
+      sphere: -2,
+      cylinder: 0,
+      axis: 180,
+      vaNotation: "6/6",
+      vaLogMar: 0,
+      addPower: 2,
+    },
   ]);
   await db.insert(examIop).values([
     { examId, eye: "right", mmHg: 27.5, method: "goldmann", measuredTime: "09:40" },
@@ -87,8 +152,30 @@ async function fixtureExam(opts: { signed?: boolean } = {}) {
     { examId, eye: "left", test: "plates_38", platesCorrect: 24, platesShown: 25, result: "normal" },
   ]);
   await db.insert(examVisualFields).values([
-    { examId, eye: "right", method: "automated", blindSpotXDeg: 15, blindSpotYDeg: -1.5, blindSpotWidthDeg: 9.5, blindSpotHeightDeg: 11, defectPresent: false, defects: "", reliability: "good" },
-    { examId, eye: "left", method: "automated", blindSpotXDeg: 15, blindSpotYDeg: -1.5, blindSpotWidthDeg: 5.5, blindSpotHeightDeg: 7.5, defectPresent: false, defects: "", reliability: "good" },
+    {
+      examId,
+      eye: "right",
+      method: "automated",
+      blindSpotXDeg: 15,
+      blindSpotYDeg: -1.5,
+      blindSpotWidthDeg: 9.5,
+      blindSpotHeightDeg: 11,
+      defectPresent: false,
+      defects: "",
+      reliability: "good",
+    },
+    {
+      examId,
+      eye: "left",
+      method: "automated",
+      blindSpotXDeg: 15,
+      blindSpotYDeg: -1.5,
+      blindSpotWidthDeg: 5.5,
+      blindSpotHeightDeg: 7.5,
+      defectPresent: false,
+      defects: "",
+      reliability: "good",
+    },
   ]);
   return { patient: patient!, exam: exam! };
 }
@@ -98,7 +185,11 @@ const recipient = newRecipient;
 /** Drafts a referral through the compose action, keeping every exam finding. */
 async function draft(examId: string, recipientId: string | null, extra: [string, string][] = []) {
   const cookie = await cookieFor("optometrist");
-  const page = dataOf<{ kind: string; prompts: { code: string; eye: string }[]; defaults: { reason: string; body: string; relevantHistory: string } }>(await run(newLoader, makeRequest(`/referrals/new?exam=${examId}`, { cookie })));
+  const page = dataOf<{
+    kind: string;
+    prompts: { code: string; eye: string }[];
+    defaults: { reason: string; body: string; relevantHistory: string };
+  }>(await run(newLoader, makeRequest(`/referrals/new?exam=${examId}`, { cookie })));
   expect(page.kind).toBe("compose");
   const fields: [string, string][] = [
     ["intent", "create"],
@@ -141,7 +232,11 @@ describe("the letter", () => {
     examId = exam.id;
     const rec = await recipient();
     ({ id: referralId } = await draft(exam.id, rec.id));
-    const res = (await run(pdfLoader, makeRequest(`/referrals/${referralId}/letter.pdf`, { cookie: await cookieFor("optometrist") }), { referralId })) as Response;
+    const res = (await run(
+      pdfLoader,
+      makeRequest(`/referrals/${referralId}/letter.pdf`, { cookie: await cookieFor("optometrist") }),
+      { referralId },
+    )) as Response;
     expect(res.headers.get("content-type")).toBe("application/pdf");
     const bytes = await res.arrayBuffer();
     text = pdfText(bytes);
@@ -151,12 +246,22 @@ describe("the letter", () => {
   it("carries exactly the exam's measured IOP, blind spots, acuity and refraction", async () => {
     // Every IOP reading of the exam, and no other, in the IOP table ("Right   1   27.5 mmHg   Goldmann applanation   09:40").
     const iopRows = await db.select().from(examIop).where(eq(examIop.examId, examId));
-    const printed = [...text.matchAll(/^\s*(Right|Left)\s+\d\s+(\d+(?:\.\d+)?) mmHg\s+(.+?)\s{2,}(\d\d:\d\d)\s*$/gm)].map((m) => `${m[1]} ${m[2]} ${m[3]} ${m[4]}`);
-    expect(printed.sort()).toEqual(iopRows.map((r) => `${r.eye === "right" ? "Right" : "Left"} ${r.mmHg} Goldmann applanation ${r.measuredTime.slice(0, 5)}`).sort());
+    const printed = [
+      ...text.matchAll(/^\s*(Right|Left)\s+\d\s+(\d+(?:\.\d+)?) mmHg\s+(.+?)\s{2,}(\d\d:\d\d)\s*$/gm),
+    ].map((m) => `${m[1]} ${m[2]} ${m[3]} ${m[4]}`);
+    expect(printed.sort()).toEqual(
+      iopRows
+        .map(
+          (r) => `${r.eye === "right" ? "Right" : "Left"} ${r.mmHg} Goldmann applanation ${r.measuredTime.slice(0, 5)}`,
+        )
+        .sort(),
+    );
     // Blind spots: centre and size per eye, as measured.
     const fields = await db.select().from(examVisualFields).where(eq(examVisualFields.examId, examId));
     for (const f of fields) {
-      expect(raw).toContain(`${f.eye === "right" ? "Right" : "Left"} Automated threshold ${f.blindSpotXDeg}°, ${f.blindSpotYDeg}° ${f.blindSpotWidthDeg}° × ${f.blindSpotHeightDeg}° None recorded Good`);
+      expect(raw).toContain(
+        `${f.eye === "right" ? "Right" : "Left"} Automated threshold ${f.blindSpotXDeg}°, ${f.blindSpotYDeg}° ${f.blindSpotWidthDeg}° × ${f.blindSpotHeightDeg}° None recorded Good`,
+      );
     }
     // Acuity as recorded with its logMAR, and the final refraction in standard notation.
     expect(text).toMatch(/Right\s+Distance\s+Best corrected\s+6\/9\s+0\.18/);
@@ -170,15 +275,28 @@ describe("the letter", () => {
   it("lists the flagged findings with their values in plain words, without rule codes or citations", () => {
     // Each row: the finding, the eye, the measured value (mean of the applanation readings; NICE NG81 1.1.4 threshold 24 mmHg).
     expect(raw).toContain("Right IOP 27.5 mmHg by applanation (one reading): 24 mmHg or more Right 27.5 mmHg");
-    expect(raw).toMatch(/Right blind spot enlarged: width 9\.5° .* Right 9\.5° × 11° centred 15° temporal, 1\.5° below/);
+    expect(raw).toMatch(
+      /Right blind spot enlarged: width 9\.5° .* Right 9\.5° × 11° centred 15° temporal, 1\.5° below/,
+    );
     expect(raw).toContain("Mean IOP differs by 9.5 mmHg between the eyes (R 27.5, L 18, applanation) Both 9.5 mmHg");
-    for (const code of ["Source:", "NICE", "College of Optometrists", "NG81", "C205", "IOP_ABOVE_NORMAL", "Rule that flagged"]) expect(raw).not.toContain(code);
+    for (const code of [
+      "Source:",
+      "NICE",
+      "College of Optometrists",
+      "NG81",
+      "C205",
+      "IOP_ABOVE_NORMAL",
+      "Rule that flagged",
+    ])
+      expect(raw).not.toContain(code);
   });
 
   it("states the urgency with triage's reasons in words, and the patient's telephone, GP, medications and allergies", () => {
     // Triage: applanation IOP of 24 mmHg or more is a routine referral (NICE NG81 1.1.4); the draft chose urgent (higher, no reason needed).
     expect(raw).toContain("Urgency: Urgent (to be seen within 7 days).");
-    expect(raw).toContain("The exam findings call for routine because of: • Right eye: IOP 27.5 mmHg by applanation (one reading), 24 mmHg or more (routine)");
+    expect(raw).toContain(
+      "The exam findings call for routine because of: • Right eye: IOP 27.5 mmHg by applanation (one reading), 24 mmHg or more (routine)",
+    );
     expect(raw).toContain("Telephone: 07700 900461");
     expect(raw).toContain("GP: Dr Imogen Castellane, Brackenford Health Centre, Tel 01632 960 112");
     expect(raw).toContain("Medications: Amlodipine 5 mg");
@@ -200,9 +318,23 @@ describe("the letter", () => {
 
   it("runs to more pages when the text is long, numbering each", async () => {
     const long = Array.from({ length: 120 }, (_, i) => `Line ${i + 1} of a long clinical history.`).join("\n");
-    const res = await run(referralAction, post(`/referrals/${referralId}`, await cookieFor("optometrist"), [["intent", "save"], ["urgency", "urgent"], ["reason", "Raised IOP"], ["relevantHistory", long], ["selectedFindings", "IOP_ABOVE_NORMAL:right"]]), { referralId });
+    const res = await run(
+      referralAction,
+      post(`/referrals/${referralId}`, await cookieFor("optometrist"), [
+        ["intent", "save"],
+        ["urgency", "urgent"],
+        ["reason", "Raised IOP"],
+        ["relevantHistory", long],
+        ["selectedFindings", "IOP_ABOVE_NORMAL:right"],
+      ]),
+      { referralId },
+    );
     expect(statusOf(res)).toBe(302);
-    const pdf = (await run(pdfLoader, makeRequest(`/referrals/${referralId}/letter.pdf`, { cookie: await cookieFor("optometrist") }), { referralId })) as Response;
+    const pdf = (await run(
+      pdfLoader,
+      makeRequest(`/referrals/${referralId}/letter.pdf`, { cookie: await cookieFor("optometrist") }),
+      { referralId },
+    )) as Response;
     const t = pdfText(await pdf.arrayBuffer());
     const pages = Number(t.match(/Page 1 of (\d+)/)![1]);
     expect(pages).toBeGreaterThan(1);
@@ -222,10 +354,24 @@ describe("enclosures", () => {
     const key = await storage.put(await printout.save(), { prefix: "documents", extension: "pdf" });
     const [doc] = await db
       .insert(documents)
-      .values({ patientId: patient.id, examId: exam.id, kind: "field_printout", description: "Threshold 24-2, right eye", originalName: "fields-right.pdf", contentType: "application/pdf", sizeBytes: 1000, storageKey: key, uploadedById: optom.id })
+      .values({
+        patientId: patient.id,
+        examId: exam.id,
+        kind: "field_printout",
+        description: "Threshold 24-2, right eye",
+        originalName: "fields-right.pdf",
+        contentType: "application/pdf",
+        sizeBytes: 1000,
+        storageKey: key,
+        uploadedById: optom.id,
+      })
       .returning();
     const { id } = await draft(exam.id, null, [["attachmentIds", doc!.id]]);
-    const res = (await run(pdfLoader, makeRequest(`/referrals/${id}/letter.pdf`, { cookie: await cookieFor("optometrist") }), { referralId: id })) as Response;
+    const res = (await run(
+      pdfLoader,
+      makeRequest(`/referrals/${id}/letter.pdf`, { cookie: await cookieFor("optometrist") }),
+      { referralId: id },
+    )) as Response;
     const bytes = await res.arrayBuffer();
     const letter = await PDFDocument.load(bytes);
     const t = pdfText(bytes);
@@ -239,12 +385,30 @@ describe("enclosures", () => {
     const other = await fixtureExam();
     const [foreign] = await db
       .insert(documents)
-      .values({ patientId: other.patient.id, kind: "other", originalName: "x.pdf", contentType: "application/pdf", sizeBytes: 10, storageKey: key, uploadedById: optom.id })
+      .values({
+        patientId: other.patient.id,
+        kind: "other",
+        originalName: "x.pdf",
+        contentType: "application/pdf",
+        sizeBytes: 10,
+        storageKey: key,
+        uploadedById: optom.id,
+      })
       .returning();
     const cookie = await cookieFor("optometrist");
-    const bad = await run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "save"], ["urgency", "routine"], ["attachmentIds", foreign!.id]]), { referralId: id });
+    const bad = await run(
+      referralAction,
+      post(`/referrals/${id}`, cookie, [
+        ["intent", "save"],
+        ["urgency", "routine"],
+        ["attachmentIds", foreign!.id],
+      ]),
+      { referralId: id },
+    );
     expect(statusOf(bad)).toBe(400);
-    expect(dataOf<{ error: Record<string, string[]> }>(bad).error.attachmentIds?.[0]).toMatch(/not one of this patient's uploads/);
+    expect(dataOf<{ error: Record<string, string[]> }>(bad).error.attachmentIds?.[0]).toMatch(
+      /not one of this patient's uploads/,
+    );
   });
 });
 
@@ -253,16 +417,35 @@ describe("concurrency", () => {
     const { exam } = await fixtureExam();
     const rec = await recipient();
     const { id, cookie } = await draft(exam.id, rec.id);
-    const send = () => run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "send"], ["urgency", "urgent"], ["reason", "Raised IOP"], ["recipientId", rec.id], ["selectedFindings", "IOP_ABOVE_NORMAL:right"]]), { referralId: id });
+    const send = () =>
+      run(
+        referralAction,
+        post(`/referrals/${id}`, cookie, [
+          ["intent", "send"],
+          ["urgency", "urgent"],
+          ["reason", "Raised IOP"],
+          ["recipientId", rec.id],
+          ["selectedFindings", "IOP_ABOVE_NORMAL:right"],
+        ]),
+        { referralId: id },
+      );
     const results = (await Promise.all([send(), send(), send()])).map(statusOf).sort();
     expect(results).toEqual([302, 409, 409]);
     expect(await db.select().from(referralMessages).where(eq(referralMessages.referralId, id))).toHaveLength(1);
     expect(await db.select().from(referralLinks).where(eq(referralLinks.referralId, id))).toHaveLength(1);
     expect(await mailTo(rec.email!)).toHaveLength(1);
     // The database holds the line too: one letter per referral, one live link.
-    const refusal = async (write: Promise<unknown>) => write.then(() => "written", (e: { cause?: { constraint?: string } }) => e.cause?.constraint);
-    expect(await refusal(db.insert(referralMessages).values({ referralId: id, kind: "letter", recipient: rec.email! }))).toBe("referral_messages_one_letter_uq");
-    expect(await refusal(db.insert(referralLinks).values({ referralId: id, expiresAt: new Date(Date.now() + 86400_000) }))).toBe("referral_links_one_live_uq");
+    const refusal = async (write: Promise<unknown>) =>
+      write.then(
+        () => "written",
+        (e: { cause?: { constraint?: string } }) => e.cause?.constraint,
+      );
+    expect(
+      await refusal(db.insert(referralMessages).values({ referralId: id, kind: "letter", recipient: rec.email! })),
+    ).toBe("referral_messages_one_letter_uq");
+    expect(
+      await refusal(db.insert(referralLinks).values({ referralId: id, expiresAt: new Date(Date.now() + 86400_000) })),
+    ).toBe("referral_links_one_live_uq");
   });
 });
 
@@ -271,7 +454,9 @@ describe("roles", () => {
     const { exam } = await fixtureExam();
     const { id } = await draft(exam.id, (await recipient()).id);
     const cookie = await cookieFor("receptionist");
-    const page = dataOf<Record<string, unknown>>(await run(referralLoader, makeRequest(`/referrals/${id}`, { cookie }), { referralId: id }));
+    const page = dataOf<Record<string, unknown>>(
+      await run(referralLoader, makeRequest(`/referrals/${id}`, { cookie }), { referralId: id }),
+    );
     expect(page.clinical).toBe(false);
     const json = JSON.stringify(page);
     expect(json).not.toContain("IOP");
@@ -279,20 +464,43 @@ describe("roles", () => {
     expect(json).not.toContain("glaucoma");
     expect(page.summary).toMatchObject({ status: "draft" });
     // The letter, the compose page and every clinical action are refused.
-    expect(statusOf(await run(pdfLoader, makeRequest(`/referrals/${id}/letter.pdf`, { cookie }), { referralId: id }))).toBe(403);
+    expect(
+      statusOf(await run(pdfLoader, makeRequest(`/referrals/${id}/letter.pdf`, { cookie }), { referralId: id })),
+    ).toBe(403);
     expect(statusOf(await run(newLoader, makeRequest(`/referrals/new?exam=${exam.id}`, { cookie })))).toBe(403);
-    expect(statusOf(await run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "send"], ["urgency", "routine"]]), { referralId: id }))).toBe(403);
+    expect(
+      statusOf(
+        await run(
+          referralAction,
+          post(`/referrals/${id}`, cookie, [
+            ["intent", "send"],
+            ["urgency", "routine"],
+          ]),
+          { referralId: id },
+        ),
+      ),
+    ).toBe(403);
     const [after] = await db.select({ status: referrals.status }).from(referrals).where(eq(referrals.id, id));
     expect(after!.status).toBe("draft");
     // The tracking list is open to the front desk.
-    const list = dataOf<{ rows: { id: string; status: string }[] }>(await run(listLoader, makeRequest("/referrals", { cookie })));
+    const list = dataOf<{ rows: { id: string; status: string }[] }>(
+      await run(listLoader, makeRequest("/referrals", { cookie })),
+    );
     expect(list.rows.find((r) => r.id === id)?.status).toBe("draft");
     expect(JSON.stringify(list.rows.find((r) => r.id === id))).not.toContain("IOP");
   });
 
   it("refuses patients, and the recipients directory to anyone but the owner", async () => {
-    expect(statusOf(await run(listLoader, makeRequest("/referrals", { cookie: await cookieFor("patient") })))).toBe(403);
-    const res = await run(recipientsAction, makeRequest("/settings/recipients", { cookie: await cookieFor("optometrist"), form: { intent: "save", name: "Sneaky", preferredDelivery: "post" } }));
+    expect(statusOf(await run(listLoader, makeRequest("/referrals", { cookie: await cookieFor("patient") })))).toBe(
+      403,
+    );
+    const res = await run(
+      recipientsAction,
+      makeRequest("/settings/recipients", {
+        cookie: await cookieFor("optometrist"),
+        form: { intent: "save", name: "Sneaky", preferredDelivery: "post" },
+      }),
+    );
     expect(statusOf(res)).toBe(403);
   });
 
@@ -300,8 +508,13 @@ describe("roles", () => {
     const { exam, patient } = await fixtureExam();
     const { id } = await draft(exam.id, null);
     const optom = await userByEmail(OPTOM);
-    await run(referralLoader, makeRequest(`/referrals/${id}`, { cookie: await cookieFor("optometrist") }), { referralId: id });
-    const rows = await db.select().from(auditLog).where(and(eq(auditLog.action, "referral.read"), eq(auditLog.entityId, id)));
+    await run(referralLoader, makeRequest(`/referrals/${id}`, { cookie: await cookieFor("optometrist") }), {
+      referralId: id,
+    });
+    const rows = await db
+      .select()
+      .from(auditLog)
+      .where(and(eq(auditLog.action, "referral.read"), eq(auditLog.entityId, id)));
     expect(rows[0]).toMatchObject({ actorUserId: optom.id, patientId: patient.id });
   });
 });
@@ -313,7 +526,13 @@ async function redFlagExam() {
   await db.update(patients).set({ allergies: "", phone: "07700 900462" }).where(eq(patients.id, patient.id));
   await db.insert(examRedFlags).values({ examId, flashes: "right", newFloaters: "right", notes: "Began two days ago" });
   await db.insert(examFundus).values([
-    { examId, eye: "right", retinalBreak: true, vitreousDetachment: true, peripheryNotes: "Horseshoe tear at 11 o'clock" },
+    {
+      examId,
+      eye: "right",
+      retinalBreak: true,
+      vitreousDetachment: true,
+      peripheryNotes: "Horseshoe tear at 11 o'clock",
+    },
     { examId, eye: "left", maculaNotes: "Healthy" },
   ]);
   await db.insert(examPupils).values([
@@ -328,7 +547,13 @@ async function redFlagExam() {
     { examId, eye: "right", verticalCd: 0.35, margins: "distinct" },
     { examId, eye: "left", verticalCd: 0.3, margins: "distinct" },
   ]);
-  await db.insert(examDilations).values({ examId, drug: "tropicamide", strengthPercent: 1, eye: "both", instilledAt: new Date(Date.now() - 2.5 * 3600_000) });
+  await db.insert(examDilations).values({
+    examId,
+    drug: "tropicamide",
+    strengthPercent: 1,
+    eye: "both",
+    instilledAt: new Date(Date.now() - 2.5 * 3600_000),
+  });
   await db.insert(examCornealThickness).values([
     { examId, eye: "right", micrometres: 538 },
     { examId, eye: "left", micrometres: 541 },
@@ -341,35 +566,63 @@ describe("triage in the referral", () => {
     // College of Optometrists GPP C205: symptomatic retinal breaks are an emergency (within 24 hours).
     const { exam } = await redFlagExam();
     const cookie = await cookieFor("optometrist");
-    const page = dataOf<{ kind: string; triage: { urgency: string; reasons: { text: string; source: string }[] }; defaults: { urgency: string; reason: string } }>(await run(newLoader, makeRequest(`/referrals/new?exam=${exam.id}`, { cookie })));
+    const page = dataOf<{
+      kind: string;
+      triage: { urgency: string; reasons: { text: string; source: string }[] };
+      defaults: { urgency: string; reason: string };
+    }>(await run(newLoader, makeRequest(`/referrals/new?exam=${exam.id}`, { cookie })));
     expect(page.triage.urgency).toBe("same_day");
     expect(page.defaults.urgency).toBe("same_day");
-    expect(page.triage.reasons[0]!.text).toBe("Right eye: retinal break with flashes, floaters or a shadow in the vision");
+    expect(page.triage.reasons[0]!.text).toBe(
+      "Right eye: retinal break with flashes, floaters or a shadow in the vision",
+    );
     expect(page.triage.reasons[0]!.source).toMatch(/C205/);
     expect(page.defaults.reason).toContain("Right eye: retinal break with flashes");
 
     const rec = await recipient();
-    const base: [string, string][] = [["intent", "create"], ["recipientId", rec.id], ["reason", page.defaults.reason], ["additionalFindings", "Horseshoe tear right eye"]];
+    const base: [string, string][] = [
+      ["intent", "create"],
+      ["recipientId", rec.id],
+      ["reason", page.defaults.reason],
+      ["additionalFindings", "Horseshoe tear right eye"],
+    ];
     let res = await run(newAction, post(`/referrals/new?exam=${exam.id}`, cookie, [...base, ["urgency", "urgent"]]));
     expect(statusOf(res)).toBe(400);
-    expect(dataOf<{ error: Record<string, string[]> }>(res).error.urgencyOverrideReason?.[0]).toMatch(/Triage proposed same day .* give your reason for choosing urgent/);
+    expect(dataOf<{ error: Record<string, string[]> }>(res).error.urgencyOverrideReason?.[0]).toMatch(
+      /Triage proposed same day .* give your reason for choosing urgent/,
+    );
     expect(await db.select().from(referrals).where(eq(referrals.examId, exam.id))).toHaveLength(0);
 
-    res = await run(newAction, post(`/referrals/new?exam=${exam.id}`, cookie, [...base, ["urgency", "urgent"], ["urgencyOverrideReason", "Seen at the eye unit this morning; laser booked for tomorrow"]]));
+    res = await run(
+      newAction,
+      post(`/referrals/new?exam=${exam.id}`, cookie, [
+        ...base,
+        ["urgency", "urgent"],
+        ["urgencyOverrideReason", "Seen at the eye unit this morning; laser booked for tomorrow"],
+      ]),
+    );
     expect(statusOf(res)).toBe(302);
     const [row] = await db.select().from(referrals).where(eq(referrals.examId, exam.id));
     expect(row!.proposedUrgency).toBe("same_day");
     expect(row!.urgency).toBe("urgent");
     expect(row!.urgencyOverrideReason).toBe("Seen at the eye unit this morning; laser booked for tomorrow");
 
-    const pdf = (await run(pdfLoader, makeRequest(`/referrals/${row!.id}/letter.pdf`, { cookie }), { referralId: row!.id })) as Response;
+    const pdf = (await run(pdfLoader, makeRequest(`/referrals/${row!.id}/letter.pdf`, { cookie }), {
+      referralId: row!.id,
+    })) as Response;
     const raw = pdfText(await pdf.arrayBuffer(), "raw");
-    expect(raw).toContain("The exam findings call for same day because of: • Right eye: retinal break with flashes, floaters or a shadow in the vision (same day)");
-    expect(raw).toContain("The optometrist chose urgent rather than same day: Seen at the eye unit this morning; laser booked for tomorrow");
+    expect(raw).toContain(
+      "The exam findings call for same day because of: • Right eye: retinal break with flashes, floaters or a shadow in the vision (same day)",
+    );
+    expect(raw).toContain(
+      "The optometrist chose urgent rather than same day: Seen at the eye unit this morning; laser booked for tomorrow",
+    );
     // Pupils, anterior chamber, disc and fundus, dilation, symptoms; allergies empty and not recorded as none.
     expect(raw).toContain("Pupils Eye Equal and reactive RAPD Anisocoria Size Notes Right Yes None — 3.5 mm");
     expect(raw).toContain("Anterior chamber Eye Van Herick grade Cells Hyphaema Hypopyon Notes Right 3 none None None");
-    expect(raw).toContain("Optic disc Eye Vertical C/D Margins Swelling Haemorrhage Pallor Notes Right 0.35 distinct None None None");
+    expect(raw).toContain(
+      "Optic disc Eye Vertical C/D Margins Swelling Haemorrhage Pallor Notes Right 0.35 distinct None None None",
+    );
     expect(raw).toContain("Right posterior vitreous detachment, retinal break — Horseshoe tear at 11 o'clock");
     expect(raw).toContain("Tropicamide 1% Both");
     expect(raw).toContain("Central corneal thickness Eye Thickness Right 538 µm Left 541 µm");
@@ -379,21 +632,43 @@ describe("triage in the referral", () => {
     for (const code of ["C205", "NICE", "College of Optometrists", "Source:"]) expect(raw).not.toContain(code);
   });
 
-  it("keeps the override reason only while the urgency is lower, and writes \"None known\" when so recorded", async () => {
+  it('keeps the override reason only while the urgency is lower, and writes "None known" when so recorded', async () => {
     const { patient, exam } = await redFlagExam();
     // Recorded as "no known allergies" with the text left empty.
     await db.update(patients).set({ allergies: "", noKnownAllergies: true }).where(eq(patients.id, patient.id));
     const cookie = await cookieFor("optometrist");
     const rec = await recipient();
-    const res = await run(newAction, post(`/referrals/new?exam=${exam.id}`, cookie, [["intent", "create"], ["recipientId", rec.id], ["urgency", "same_day"], ["reason", "Retinal tear"], ["additionalFindings", "Tear"], ["urgencyOverrideReason", "left over from an earlier choice"]]));
+    const res = await run(
+      newAction,
+      post(`/referrals/new?exam=${exam.id}`, cookie, [
+        ["intent", "create"],
+        ["recipientId", rec.id],
+        ["urgency", "same_day"],
+        ["reason", "Retinal tear"],
+        ["additionalFindings", "Tear"],
+        ["urgencyOverrideReason", "left over from an earlier choice"],
+      ]),
+    );
     expect(statusOf(res)).toBe(302);
     const [row] = await db.select().from(referrals).where(eq(referrals.examId, exam.id));
     expect(row!.urgencyOverrideReason).toBeNull();
     // Saving the draft at a lower urgency needs the reason too.
-    const bad = await run(referralAction, post(`/referrals/${row!.id}`, cookie, [["intent", "save"], ["recipientId", rec.id], ["urgency", "soon"], ["reason", "Retinal tear"], ["additionalFindings", "Tear"]]), { referralId: row!.id });
+    const bad = await run(
+      referralAction,
+      post(`/referrals/${row!.id}`, cookie, [
+        ["intent", "save"],
+        ["recipientId", rec.id],
+        ["urgency", "soon"],
+        ["reason", "Retinal tear"],
+        ["additionalFindings", "Tear"],
+      ]),
+      { referralId: row!.id },
+    );
     expect(statusOf(bad)).toBe(400);
     expect((await db.select().from(referrals).where(eq(referrals.id, row!.id)))[0]!.urgency).toBe("same_day");
-    const pdf = (await run(pdfLoader, makeRequest(`/referrals/${row!.id}/letter.pdf`, { cookie }), { referralId: row!.id })) as Response;
+    const pdf = (await run(pdfLoader, makeRequest(`/referrals/${row!.id}/letter.pdf`, { cookie }), {
+      referralId: row!.id,
+    })) as Response;
     expect(pdfText(await pdf.arrayBuffer(), "raw")).toContain("Allergies: None known");
   });
 });
@@ -402,7 +677,10 @@ describe("candidates", () => {
   it("lists a signed exam with flagged findings until it has a referral", async () => {
     const { exam } = await fixtureExam();
     const cookie = await cookieFor("optometrist");
-    const list = async () => dataOf<{ candidates: { id: string; prompts: string[] }[] }>(await run(newLoader, makeRequest("/referrals/new", { cookie }))).candidates;
+    const list = async () =>
+      dataOf<{ candidates: { id: string; prompts: string[] }[] }>(
+        await run(newLoader, makeRequest("/referrals/new", { cookie })),
+      ).candidates;
     const found = (await list()).find((c) => c.id === exam.id);
     expect(found?.prompts).toContain("Right IOP 27.5 mmHg by applanation (one reading): 24 mmHg or more");
     expect(found?.prompts).toContain("Routine: Right eye: IOP 27.5 mmHg by applanation (one reading), 24 mmHg or more");
@@ -415,8 +693,17 @@ describe("bad input", () => {
   it("will not draft from an unsigned exam; the compose page says to sign it", async () => {
     const { exam } = await fixtureExam({ signed: false });
     const cookie = await cookieFor("optometrist");
-    expect(dataOf<{ kind: string }>(await run(newLoader, makeRequest(`/referrals/new?exam=${exam.id}`, { cookie }))).kind).toBe("unsigned");
-    const res = await run(newAction, post(`/referrals/new?exam=${exam.id}`, cookie, [["intent", "create"], ["urgency", "routine"], ["reason", "x"]]));
+    expect(
+      dataOf<{ kind: string }>(await run(newLoader, makeRequest(`/referrals/new?exam=${exam.id}`, { cookie }))).kind,
+    ).toBe("unsigned");
+    const res = await run(
+      newAction,
+      post(`/referrals/new?exam=${exam.id}`, cookie, [
+        ["intent", "create"],
+        ["urgency", "routine"],
+        ["reason", "x"],
+      ]),
+    );
     expect(statusOf(res)).toBe(409);
     expect(JSON.stringify(dataOf(res))).toContain("not signed");
     expect(await db.select().from(referrals).where(eq(referrals.examId, exam.id))).toHaveLength(0);
@@ -426,18 +713,56 @@ describe("bad input", () => {
     const { exam } = await fixtureExam();
     const cookie = await cookieFor("optometrist");
     const { id } = await draft(exam.id, null);
-    let res = await run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "send"], ["urgency", "urgent"], ["reason", "Raised IOP"], ["selectedFindings", "IOP_ABOVE_NORMAL:right"]]), { referralId: id });
+    let res = await run(
+      referralAction,
+      post(`/referrals/${id}`, cookie, [
+        ["intent", "send"],
+        ["urgency", "urgent"],
+        ["reason", "Raised IOP"],
+        ["selectedFindings", "IOP_ABOVE_NORMAL:right"],
+      ]),
+      { referralId: id },
+    );
     expect(statusOf(res)).toBe(400);
     expect(dataOf<{ error: Record<string, string[]> }>(res).error.recipientId?.[0]).toMatch(/recipient with an e-mail/);
     const postal = await recipient(null);
-    res = await run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "send"], ["urgency", "urgent"], ["reason", "Raised IOP"], ["recipientId", postal.id], ["selectedFindings", "IOP_ABOVE_NORMAL:right"]]), { referralId: id });
+    res = await run(
+      referralAction,
+      post(`/referrals/${id}`, cookie, [
+        ["intent", "send"],
+        ["urgency", "urgent"],
+        ["reason", "Raised IOP"],
+        ["recipientId", postal.id],
+        ["selectedFindings", "IOP_ABOVE_NORMAL:right"],
+      ]),
+      { referralId: id },
+    );
     expect(dataOf<{ error: Record<string, string[]> }>(res).error.recipientId?.[0]).toMatch(/e-mail/);
     const rec = await recipient();
-    res = await run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "send"], ["urgency", "urgent"], ["reason", "Raised IOP"], ["recipientId", rec.id]]), { referralId: id });
+    res = await run(
+      referralAction,
+      post(`/referrals/${id}`, cookie, [
+        ["intent", "send"],
+        ["urgency", "urgent"],
+        ["reason", "Raised IOP"],
+        ["recipientId", rec.id],
+      ]),
+      { referralId: id },
+    );
     expect(statusOf(res)).toBe(400);
-    expect(dataOf<{ error: Record<string, string[]> }>(res).error.additionalFindings?.[0]).toMatch(/at least one finding/);
+    expect(dataOf<{ error: Record<string, string[]> }>(res).error.additionalFindings?.[0]).toMatch(
+      /at least one finding/,
+    );
     // A finding that is not the exam's is refused too.
-    res = await run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "save"], ["urgency", "urgent"], ["selectedFindings", "MADE_UP:left"]]), { referralId: id });
+    res = await run(
+      referralAction,
+      post(`/referrals/${id}`, cookie, [
+        ["intent", "save"],
+        ["urgency", "urgent"],
+        ["selectedFindings", "MADE_UP:left"],
+      ]),
+      { referralId: id },
+    );
     expect(statusOf(res)).toBe(400);
     const [row] = await db.select().from(referrals).where(eq(referrals.id, id));
     expect(row!.status).toBe("draft");
@@ -445,7 +770,13 @@ describe("bad input", () => {
   });
 
   it("answers field errors for a bad recipient entry", async () => {
-    const res = await run(recipientsAction, makeRequest("/settings/recipients", { cookie: await cookieFor("owner"), form: { intent: "save", name: "", email: "not-an-email", preferredDelivery: "email" } }));
+    const res = await run(
+      recipientsAction,
+      makeRequest("/settings/recipients", {
+        cookie: await cookieFor("owner"),
+        form: { intent: "save", name: "", email: "not-an-email", preferredDelivery: "email" },
+      }),
+    );
     expect(statusOf(res)).toBe(400);
     const err = dataOf<{ result: { error: Record<string, string[]> } }>(res).result.error;
     expect(err.name?.[0]).toMatch(/name/);
@@ -460,7 +791,17 @@ describe("sending and the recipient's link", () => {
     const { id, cookie } = await draft(exam.id, rec.id);
     useReferralMailSender(smtpSender(1)); // nothing listens on port 1
     try {
-      const res = await run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "send"], ["urgency", "urgent"], ["reason", "Raised IOP right"], ["recipientId", rec.id], ["selectedFindings", "IOP_ABOVE_NORMAL:right"]]), { referralId: id });
+      const res = await run(
+        referralAction,
+        post(`/referrals/${id}`, cookie, [
+          ["intent", "send"],
+          ["urgency", "urgent"],
+          ["reason", "Raised IOP right"],
+          ["recipientId", rec.id],
+          ["selectedFindings", "IOP_ABOVE_NORMAL:right"],
+        ]),
+        { referralId: id },
+      );
       expect(statusOf(res)).toBe(302);
     } finally {
       useReferralMailSender(null);
@@ -481,7 +822,9 @@ describe("sending and the recipient's link", () => {
     expect(mails).toHaveLength(1);
     expect(mails[0]!.subject).toMatch(/^Referral R-[0-9A-F]{8} \(Urgent\)/);
     expect(mails[0]!.subject).not.toContain("Fenwick");
-    expect(mails[0]!.attachments.map((a) => a.filename)).toEqual([expect.stringMatching(/^referral-R-[0-9A-F]{8}\.pdf$/)]);
+    expect(mails[0]!.attachments.map((a) => a.filename)).toEqual([
+      expect.stringMatching(/^referral-R-[0-9A-F]{8}\.pdf$/),
+    ]);
     expect(linkIn(mails[0]!.text, "/r/").pathname).toMatch(/^\/r\/[\w-]+\.[\w-]+$/);
   });
 
@@ -491,17 +834,36 @@ describe("sending and the recipient's link", () => {
     const { id, cookie } = await draft(exam.id, rec.id);
     useReferralMailSender(smtpSender(1));
     try {
-      await run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "send"], ["urgency", "soon"], ["reason", "Raised IOP"], ["recipientId", rec.id], ["selectedFindings", "IOP_ABOVE_NORMAL:right"]]), { referralId: id });
+      await run(
+        referralAction,
+        post(`/referrals/${id}`, cookie, [
+          ["intent", "send"],
+          ["urgency", "soon"],
+          ["reason", "Raised IOP"],
+          ["recipientId", rec.id],
+          ["selectedFindings", "IOP_ABOVE_NORMAL:right"],
+        ]),
+        { referralId: id },
+      );
       const [msg] = await db.select().from(referralMessages).where(eq(referralMessages.referralId, id));
       await expect(deliverReferralMessage(msg!.id, { retryCount: 8, retryLimit: 8 })).rejects.toThrow();
       const [failed] = await db.select().from(referralMessages).where(eq(referralMessages.id, msg!.id));
       expect(failed).toMatchObject({ status: "failed", attempts: 2 });
-      const page = dataOf<{ summary: { messages: { status: string; error: string }[]; status: string } }>(await run(referralLoader, makeRequest(`/referrals/${id}`, { cookie }), { referralId: id }));
+      const page = dataOf<{ summary: { messages: { status: string; error: string }[]; status: string } }>(
+        await run(referralLoader, makeRequest(`/referrals/${id}`, { cookie }), { referralId: id }),
+      );
       expect(page.summary.status).toBe("queued");
       expect(page.summary.messages[0]).toMatchObject({ status: "failed" });
       expect(page.summary.messages[0]!.error).toMatch(/ECONNREFUSED|connect/i);
       useReferralMailSender(null);
-      const res = await run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "retry"], ["messageId", msg!.id]]), { referralId: id });
+      const res = await run(
+        referralAction,
+        post(`/referrals/${id}`, cookie, [
+          ["intent", "retry"],
+          ["messageId", msg!.id],
+        ]),
+        { referralId: id },
+      );
       expect(statusOf(res)).toBe(302);
       const [again] = await db.select().from(referralMessages).where(eq(referralMessages.id, msg!.id));
       expect(again!.status).toBe("sent");
@@ -514,7 +876,17 @@ describe("sending and the recipient's link", () => {
     const { exam } = await fixtureExam();
     const rec = await recipient();
     const a = await draft(exam.id, rec.id);
-    await run(referralAction, post(`/referrals/${a.id}`, a.cookie, [["intent", "send"], ["urgency", "routine"], ["reason", "Raised IOP"], ["recipientId", rec.id], ["selectedFindings", "IOP_ABOVE_NORMAL:right"]]), { referralId: a.id });
+    await run(
+      referralAction,
+      post(`/referrals/${a.id}`, a.cookie, [
+        ["intent", "send"],
+        ["urgency", "routine"],
+        ["reason", "Raised IOP"],
+        ["recipientId", rec.id],
+        ["selectedFindings", "IOP_ABOVE_NORMAL:right"],
+      ]),
+      { referralId: a.id },
+    );
     const [link] = await db.select().from(referralLinks).where(eq(referralLinks.referralId, a.id));
     const token = signLink(link!);
     expect(await verifyLink(token)).toMatchObject({ ok: true, referralId: a.id, linkId: link!.id });
@@ -522,28 +894,60 @@ describe("sending and the recipient's link", () => {
     const [payload, sig] = token.split(".") as [string, string];
     const other = (await fixtureExam()).exam;
     const b = await draft(other.id, rec.id);
-    const forgedPayload = Buffer.from(JSON.stringify({ ...JSON.parse(Buffer.from(payload, "base64url").toString()), r: b.id })).toString("base64url");
+    const forgedPayload = Buffer.from(
+      JSON.stringify({ ...JSON.parse(Buffer.from(payload, "base64url").toString()), r: b.id }),
+    ).toString("base64url");
     expect(await verifyLink(`${forgedPayload}.${sig}`)).toMatchObject({ ok: false, reason: "bad signature" });
-    expect(await verifyLink(`${payload}.${sig.slice(0, -2)}${sig.endsWith("AA") ? "BB" : "AA"}`)).toMatchObject({ ok: false, reason: "bad signature" });
+    expect(await verifyLink(`${payload}.${sig.slice(0, -2)}${sig.endsWith("AA") ? "BB" : "AA"}`)).toMatchObject({
+      ok: false,
+      reason: "bad signature",
+    });
     expect(await verifyLink("garbage")).toMatchObject({ ok: false, reason: "malformed" });
     // A correctly signed token naming this link but another referral is refused: a link works only for its referral.
-    expect(await verifyLink(signLink({ id: link!.id, referralId: b.id, expiresAt: link!.expiresAt }))).toMatchObject({ ok: false, reason: "unknown" });
+    expect(await verifyLink(signLink({ id: link!.id, referralId: b.id, expiresAt: link!.expiresAt }))).toMatchObject({
+      ok: false,
+      reason: "unknown",
+    });
     // Expiry: past the signed expiry it is refused.
-    expect(await verifyLink(token, new Date(link!.expiresAt.getTime() + 1000))).toMatchObject({ ok: false, reason: "expired" });
-    expect(await verifyLink(signLink({ ...link!, expiresAt: new Date(Date.now() - 1000) }))).toMatchObject({ ok: false, reason: "expired" });
+    expect(await verifyLink(token, new Date(link!.expiresAt.getTime() + 1000))).toMatchObject({
+      ok: false,
+      reason: "expired",
+    });
+    expect(await verifyLink(signLink({ ...link!, expiresAt: new Date(Date.now() - 1000) }))).toMatchObject({
+      ok: false,
+      reason: "expired",
+    });
 
     // The page for a tampered link reveals nothing and is audited.
     const bad = await run(replyLoader, makeRequest(`/r/${forgedPayload}.${sig}`), { token: `${forgedPayload}.${sig}` });
     expect(statusOf(bad)).toBe(404);
     expect(JSON.stringify(dataOf(bad))).not.toMatch(/Fenwick|IOP|Raised/);
-    const [refused] = await db.select().from(auditLog).where(eq(auditLog.action, "referral.link_refused")).orderBy(desc(auditLog.at)).limit(1);
+    const [refused] = await db
+      .select()
+      .from(auditLog)
+      .where(eq(auditLog.action, "referral.link_refused"))
+      .orderBy(desc(auditLog.at))
+      .limit(1);
     expect(refused!.detail).toMatchObject({ reason: "bad signature" });
-    expect(statusOf(await run(replyLetterLoader, makeRequest(`/r/${forgedPayload}.${sig}/letter.pdf`), { token: `${forgedPayload}.${sig}` }))).toBe(404);
+    expect(
+      statusOf(
+        await run(replyLetterLoader, makeRequest(`/r/${forgedPayload}.${sig}/letter.pdf`), {
+          token: `${forgedPayload}.${sig}`,
+        }),
+      ),
+    ).toBe(404);
 
     // The good link works and is audited; after withdrawal it is refused as expired.
-    const ok = dataOf<{ state: string; summary: { reason: string } }>(await run(replyLoader, makeRequest(`/r/${token}`), { token }));
+    const ok = dataOf<{ state: string; summary: { reason: string } }>(
+      await run(replyLoader, makeRequest(`/r/${token}`), { token }),
+    );
     expect(ok.state).toBe("ok");
-    expect(await db.select().from(auditLog).where(and(eq(auditLog.action, "referral.link_opened"), eq(auditLog.entityId, a.id)))).toHaveLength(1);
+    expect(
+      await db
+        .select()
+        .from(auditLog)
+        .where(and(eq(auditLog.action, "referral.link_opened"), eq(auditLog.entityId, a.id))),
+    ).toHaveLength(1);
     await run(referralAction, post(`/referrals/${a.id}`, a.cookie, [["intent", "withdraw"]]), { referralId: a.id });
     const gone = await run(replyLoader, makeRequest(`/r/${token}`), { token });
     expect(statusOf(gone)).toBe(410);
@@ -554,7 +958,17 @@ describe("sending and the recipient's link", () => {
     const { exam, patient } = await fixtureExam();
     const rec = await recipient();
     const { id, cookie } = await draft(exam.id, rec.id);
-    await run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "send"], ["urgency", "urgent"], ["reason", "Raised IOP"], ["recipientId", rec.id], ["selectedFindings", "IOP_ABOVE_NORMAL:right"]]), { referralId: id });
+    await run(
+      referralAction,
+      post(`/referrals/${id}`, cookie, [
+        ["intent", "send"],
+        ["urgency", "urgent"],
+        ["reason", "Raised IOP"],
+        ["recipientId", rec.id],
+        ["selectedFindings", "IOP_ABOVE_NORMAL:right"],
+      ]),
+      { referralId: id },
+    );
     const [mail] = await mailTo(rec.email!);
     const token = linkIn(mail!.text, "/r/").pathname.slice(3);
     const form = (fields: Record<string, string | Blob>) => {
@@ -563,35 +977,84 @@ describe("sending and the recipient's link", () => {
       return new Request(`${BASE}/r/${token}`, { method: "POST", body: fd });
     };
     expect(statusOf(await run(replyAction, form({ intent: "acknowledge", name: "" }), { token }))).toBe(400);
-    expect(statusOf(await run(replyAction, form({ intent: "acknowledge", name: "Dr Test Surgeon" }), { token }))).toBe(200);
-    expect(statusOf(await run(replyAction, form({ intent: "appointment", name: "Dr Test Surgeon", date: "2026-02-30" }), { token }))).toBe(400);
+    expect(statusOf(await run(replyAction, form({ intent: "acknowledge", name: "Dr Test Surgeon" }), { token }))).toBe(
+      200,
+    );
+    expect(
+      statusOf(
+        await run(replyAction, form({ intent: "appointment", name: "Dr Test Surgeon", date: "2026-02-30" }), { token }),
+      ),
+    ).toBe(400);
     const soon = new Date(Date.now() + 5 * 86400_000).toISOString().slice(0, 10);
-    expect(statusOf(await run(replyAction, form({ intent: "appointment", name: "Dr Test Surgeon", date: soon }), { token }))).toBe(200);
+    expect(
+      statusOf(await run(replyAction, form({ intent: "appointment", name: "Dr Test Surgeon", date: soon }), { token })),
+    ).toBe(200);
     let [row] = await db.select().from(referrals).where(eq(referrals.id, id));
     expect(row).toMatchObject({ status: "acknowledged", acknowledgedBy: "Dr Test Surgeon", appointmentOn: soon });
     // A reply needs text or a file; a file must really be a PDF or image.
-    expect(statusOf(await run(replyAction, form({ intent: "reply", name: "Dr Test Surgeon", body: "" }), { token }))).toBe(400);
-    const fake = await run(replyAction, form({ intent: "reply", name: "Dr Test Surgeon", body: "", file: new File([new TextEncoder().encode("<html>not a pdf</html>")], "letter.pdf", { type: "application/pdf" }) }), { token });
+    expect(
+      statusOf(await run(replyAction, form({ intent: "reply", name: "Dr Test Surgeon", body: "" }), { token })),
+    ).toBe(400);
+    const fake = await run(
+      replyAction,
+      form({
+        intent: "reply",
+        name: "Dr Test Surgeon",
+        body: "",
+        file: new File([new TextEncoder().encode("<html>not a pdf</html>")], "letter.pdf", { type: "application/pdf" }),
+      }),
+      { token },
+    );
     expect(statusOf(fake)).toBe(400);
-    const pdf = new File([new TextEncoder().encode("%PDF-1.4\n%test consult letter\n")], "consult.pdf", { type: "application/pdf" });
-    expect(statusOf(await run(replyAction, form({ intent: "reply", name: "Dr Test Surgeon", body: "Seen; started on drops. Review in 6 weeks.", file: pdf }), { token }))).toBe(200);
+    const pdf = new File([new TextEncoder().encode("%PDF-1.4\n%test consult letter\n")], "consult.pdf", {
+      type: "application/pdf",
+    });
+    expect(
+      statusOf(
+        await run(
+          replyAction,
+          form({
+            intent: "reply",
+            name: "Dr Test Surgeon",
+            body: "Seen; started on drops. Review in 6 weeks.",
+            file: pdf,
+          }),
+          { token },
+        ),
+      ),
+    ).toBe(200);
     [row] = await db.select().from(referrals).where(eq(referrals.id, id));
     expect(row!.status).toBe("replied");
     const [saved] = await db.select().from(referralReplies).where(eq(referralReplies.referralId, id));
-    expect(saved).toMatchObject({ patientId: patient.id, authorName: "Dr Test Surgeon", fileName: "consult.pdf", fileType: "application/pdf" });
+    expect(saved).toMatchObject({
+      patientId: patient.id,
+      authorName: "Dr Test Surgeon",
+      fileName: "consult.pdf",
+      fileType: "application/pdf",
+    });
     const chart = await referralsForChart(patient.id, { clinical: true });
     expect(chart[0]!.replies[0]!.body).toBe("Seen; started on drops. Review in 6 weeks.");
     expect((await referralsForChart(patient.id, { clinical: false }))[0]!.replies[0]!.body).toBeNull();
     const notices = await mailTo(OPTOM);
     expect(notices.some((m) => m.subject.includes("Reply received") && m.text.includes(`/referrals/${id}`))).toBe(true);
     // Opening the referral marks the reply read, once.
-    const first = dataOf<{ replies: { isNew: boolean }[] }>(await run(referralLoader, makeRequest(`/referrals/${id}`, { cookie }), { referralId: id }));
+    const first = dataOf<{ replies: { isNew: boolean }[] }>(
+      await run(referralLoader, makeRequest(`/referrals/${id}`, { cookie }), { referralId: id }),
+    );
     expect(first.replies.map((x) => x.isNew)).toEqual([true]);
-    const again = dataOf<{ replies: { isNew: boolean }[] }>(await run(referralLoader, makeRequest(`/referrals/${id}`, { cookie }), { referralId: id }));
+    const again = dataOf<{ replies: { isNew: boolean }[] }>(
+      await run(referralLoader, makeRequest(`/referrals/${id}`, { cookie }), { referralId: id }),
+    );
     expect(again.replies.map((x) => x.isNew)).toEqual([false]);
-    expect((await db.select().from(referralReplies).where(eq(referralReplies.referralId, id)))[0]!.readById).toBe((await userByEmail(OPTOM)).id);
-    const actions = (await db.select({ action: auditLog.action }).from(auditLog).where(eq(auditLog.entityId, id))).map((r) => r.action);
-    expect(actions).toEqual(expect.arrayContaining(["referral.link_acknowledged", "referral.link_appointment_set", "referral.link_replied"]));
+    expect((await db.select().from(referralReplies).where(eq(referralReplies.referralId, id)))[0]!.readById).toBe(
+      (await userByEmail(OPTOM)).id,
+    );
+    const actions = (await db.select({ action: auditLog.action }).from(auditLog).where(eq(auditLog.entityId, id))).map(
+      (r) => r.action,
+    );
+    expect(actions).toEqual(
+      expect.arrayContaining(["referral.link_acknowledged", "referral.link_appointment_set", "referral.link_replied"]),
+    );
   });
 });
 
@@ -600,19 +1063,36 @@ describe("tracking", () => {
     const { exam } = await fixtureExam();
     const rec = await recipient();
     const { id, cookie } = await draft(exam.id, rec.id);
-    await run(referralAction, post(`/referrals/${id}`, cookie, [["intent", "send"], ["urgency", "urgent"], ["reason", "Raised IOP"], ["recipientId", rec.id], ["selectedFindings", "IOP_ABOVE_NORMAL:right"]]), { referralId: id });
+    await run(
+      referralAction,
+      post(`/referrals/${id}`, cookie, [
+        ["intent", "send"],
+        ["urgency", "urgent"],
+        ["reason", "Raised IOP"],
+        ["recipientId", rec.id],
+        ["selectedFindings", "IOP_ABOVE_NORMAL:right"],
+      ]),
+      { referralId: id },
+    );
     const [p] = await db.select().from(practiceSettings);
     expect(p!.referralDaysUrgent).toBe(7);
     expect((await trackingRows()).find((r) => r.id === id)?.status).toBe("sent");
-    await db.update(referrals).set({ sentAt: new Date(Date.now() - 8 * 86400_000) }).where(eq(referrals.id, id));
+    await db
+      .update(referrals)
+      .set({ sentAt: new Date(Date.now() - 8 * 86400_000) })
+      .where(eq(referrals.id, id));
     const row = (await trackingRows()).find((r) => r.id === id)!;
     expect(row).toMatchObject({ status: "overdue", canChase: true });
     const desk = await cookieFor("receptionist");
-    expect(statusOf(await run(referralAction, post(`/referrals/${id}`, desk, [["intent", "chase"]]), { referralId: id }))).toBe(302);
+    expect(
+      statusOf(await run(referralAction, post(`/referrals/${id}`, desk, [["intent", "chase"]]), { referralId: id })),
+    ).toBe(302);
     const chasers = (await mailTo(rec.email!)).filter((m) => m.subject.startsWith("Reminder: referral"));
     expect(chasers).toHaveLength(1);
     expect(linkIn(chasers[0]!.text, "/r/")).toBeTruthy();
     // Not again within three days.
-    expect(statusOf(await run(referralAction, post(`/referrals/${id}`, desk, [["intent", "chase"]]), { referralId: id }))).toBe(409);
+    expect(
+      statusOf(await run(referralAction, post(`/referrals/${id}`, desk, [["intent", "chase"]]), { referralId: id })),
+    ).toBe(409);
   });
 });

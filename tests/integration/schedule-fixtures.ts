@@ -10,18 +10,45 @@ export async function demoIds() {
   const owner = await userByEmail(DEMO_EMAIL.owner);
   const receptionist = await userByEmail(DEMO_EMAIL.receptionist);
   const [exam] = await db.select().from(appointmentTypes).where(eq(appointmentTypes.name, "Comprehensive eye exam"));
-  const [collection] = await db.select().from(appointmentTypes).where(eq(appointmentTypes.name, "Spectacle collection"));
+  const [collection] = await db
+    .select()
+    .from(appointmentTypes)
+    .where(eq(appointmentTypes.name, "Spectacle collection"));
   return { optometrist, owner, receptionist, examType: exam!, collectionType: collection! };
 }
 
-export async function newPatient(opts: { dateOfBirth?: string; remindersByEmail?: boolean; recallsByEmail?: boolean; email?: string | null; firstName?: string; lastName?: string } = {}) {
+export async function newPatient(
+  opts: {
+    dateOfBirth?: string;
+    remindersByEmail?: boolean;
+    recallsByEmail?: boolean;
+    email?: string | null;
+    firstName?: string;
+    lastName?: string;
+  } = {},
+) {
   const email = opts.email === undefined ? uniqueEmail("patient") : opts.email;
-  return makePatient({ ...(opts.firstName ? { firstName: opts.firstName } : {}), ...(opts.lastName ? { lastName: opts.lastName } : {}), dateOfBirth: opts.dateOfBirth ?? "1980-01-01", email, remindersByEmail: opts.remindersByEmail ?? true, recallsByEmail: opts.recallsByEmail ?? true });
+  return makePatient({
+    ...(opts.firstName ? { firstName: opts.firstName } : {}),
+    ...(opts.lastName ? { lastName: opts.lastName } : {}),
+    dateOfBirth: opts.dateOfBirth ?? "1980-01-01",
+    email,
+    remindersByEmail: opts.remindersByEmail ?? true,
+    recallsByEmail: opts.recallsByEmail ?? true,
+  });
 }
 
-export async function postBooking(body: unknown, role: "receptionist" | "optometrist" | "owner" | "patient" = "receptionist", cookie?: string) {
+export async function postBooking(
+  body: unknown,
+  role: "receptionist" | "optometrist" | "owner" | "patient" = "receptionist",
+  cookie?: string,
+) {
   const { action } = await import("~/routes/api/appointments");
-  const request = makeRequest("/api/appointments", { method: "POST", cookie: cookie ?? (await cookieFor(role)), json: body });
+  const request = makeRequest("/api/appointments", {
+    method: "POST",
+    cookie: cookie ?? (await cookieFor(role)),
+    json: body,
+  });
   try {
     return (await action({ request, params: {}, context: {} } as never)) as Response;
   } catch (thrown) {
@@ -36,12 +63,21 @@ export async function postBooking(body: unknown, role: "receptionist" | "optomet
 export async function pastVisit(patientId: string, providerId: string, typeId: string, startsAt: Date, minutes = 30) {
   const [a] = await db
     .insert(appointments)
-    .values({ patientId, providerId, appointmentTypeId: typeId, startsAt, endsAt: new Date(startsAt.getTime() + minutes * 60_000), status: "completed" })
+    .values({
+      patientId,
+      providerId,
+      appointmentTypeId: typeId,
+      startsAt,
+      endsAt: new Date(startsAt.getTime() + minutes * 60_000),
+      status: "completed",
+    })
     .returning();
   return a!;
 }
 
 export async function jobsFor(name: string, dataKey: string, value: string) {
-  const result = await db.execute<{ id: string; state: string; start_after: Date; retry_delay: number }>(sql`select id, state, start_after, retry_delay from pgboss.job where name = ${name} and data->>${dataKey} = ${value}`);
+  const result = await db.execute<{ id: string; state: string; start_after: Date; retry_delay: number }>(
+    sql`select id, state, start_after, retry_delay from pgboss.job where name = ${name} and data->>${dataKey} = ${value}`,
+  );
   return result.rows;
 }

@@ -55,7 +55,10 @@ describe("object storage", () => {
 
   it("refuses a key from another practice's path, in the store and in the download route", async () => {
     const other = new S3Storage(standInConfig(UNIT.s3, "other-practice"));
-    const foreignKey = await other.put(new TextEncoder().encode("%PDF-1.4 theirs"), { prefix: "documents", extension: "pdf" });
+    const foreignKey = await other.put(new TextEncoder().encode("%PDF-1.4 theirs"), {
+      prefix: "documents",
+      extension: "pdf",
+    });
     expect(foreignKey.startsWith("other-practice/")).toBe(true);
     await expect(storage.get(foreignKey)).rejects.toBeInstanceOf(StorageKeyError);
     await expect(storage.delete(foreignKey)).rejects.toThrow(/another practice/);
@@ -65,9 +68,21 @@ describe("object storage", () => {
     const owner = await userByEmail("owner@dioptra-demo.test");
     const [doc] = await db
       .insert(documents)
-      .values({ patientId: p.id, kind: "other", originalName: "theirs.pdf", contentType: "application/pdf", sizeBytes: 15, storageKey: foreignKey, uploadedById: owner.id })
+      .values({
+        patientId: p.id,
+        kind: "other",
+        originalName: "theirs.pdf",
+        contentType: "application/pdf",
+        sizeBytes: 15,
+        storageKey: foreignKey,
+        uploadedById: owner.id,
+      })
       .returning();
-    const res = await run(fileLoader, makeRequest("/x", { cookie: await cookieFor("owner") }), { patientId: p.id, documentId: doc!.id, variant: "file" });
+    const res = await run(fileLoader, makeRequest("/x", { cookie: await cookieFor("owner") }), {
+      patientId: p.id,
+      documentId: doc!.id,
+      variant: "file",
+    });
     expect(statusOf(res)).toBe(403);
     expect(dataOf<{ error: string }>(res).error).toMatch(/another practice/);
     expect(await other.get(foreignKey)).not.toBeNull();
@@ -77,7 +92,13 @@ describe("object storage", () => {
     const dir = mkdtempSync(join(tmpdir(), "dioptra-s3-"));
     let server: S3rver | null = null;
     const startStore = async () => {
-      server = new S3rver({ port: UNIT.s3Spare, address: "127.0.0.1", directory: dir, silent: true, configureBuckets: [{ name: "dioptra-files", configs: [] }] });
+      server = new S3rver({
+        port: UNIT.s3Spare,
+        address: "127.0.0.1",
+        directory: dir,
+        silent: true,
+        configureBuckets: [{ name: "dioptra-files", configs: [] }],
+      });
       await server.run();
     };
     const stopStore = async () => {
@@ -93,9 +114,16 @@ describe("object storage", () => {
       useStorage(new S3Storage(standInConfig(UNIT.s3Spare)));
       const p = await patient();
       const cookie = await cookieFor("optometrist");
-      const bytes = await sharp({ create: { width: 400, height: 300, channels: 3, background: { r: 20, g: 90, b: 160 } } }).png().toBuffer();
+      const bytes = await sharp({
+        create: { width: 400, height: 300, channels: 3, background: { r: 20, g: 90, b: 160 } },
+      })
+        .png()
+        .toBuffer();
 
-      const down = (await run(uploadAction, uploadRequest(cookie, p.id, { bytes, name: "fundus.png", type: "image/png" }))) as Response;
+      const down = (await run(
+        uploadAction,
+        uploadRequest(cookie, p.id, { bytes, name: "fundus.png", type: "image/png" }),
+      )) as Response;
       expect(down.status).toBe(503);
       const body = (await down.json()) as { ok: boolean; message: string; field: string };
       expect(body).toMatchObject({ ok: false, field: "file" });
@@ -103,16 +131,27 @@ describe("object storage", () => {
       expect(await db.select().from(documents).where(eq(documents.patientId, p.id))).toHaveLength(0);
 
       await startStore();
-      const retry = (await run(uploadAction, uploadRequest(cookie, p.id, { bytes, name: "fundus.png", type: "image/png" }))) as Response;
+      const retry = (await run(
+        uploadAction,
+        uploadRequest(cookie, p.id, { bytes, name: "fundus.png", type: "image/png" }),
+      )) as Response;
       expect(retry.status).toBe(201);
       const rows = await db.select().from(documents).where(eq(documents.patientId, p.id));
       expect(rows).toHaveLength(1);
-      const file = (await run(fileLoader, makeRequest("/x", { cookie }), { patientId: p.id, documentId: rows[0]!.id, variant: "file" })) as Response;
+      const file = (await run(fileLoader, makeRequest("/x", { cookie }), {
+        patientId: p.id,
+        documentId: rows[0]!.id,
+        variant: "file",
+      })) as Response;
       expect(Buffer.from(await file.arrayBuffer()).equals(bytes)).toBe(true);
 
       // Reading while the store is down: 503 with a message, not a crash or a "missing file".
       await stopStore();
-      const unreadable = await run(fileLoader, makeRequest("/x", { cookie }), { patientId: p.id, documentId: rows[0]!.id, variant: "file" });
+      const unreadable = await run(fileLoader, makeRequest("/x", { cookie }), {
+        patientId: p.id,
+        documentId: rows[0]!.id,
+        variant: "file",
+      });
       expect(statusOf(unreadable)).toBe(503);
       await expect(storage.get(rows[0]!.storageKey)).rejects.toBeInstanceOf(StorageUnavailableError);
     });
@@ -121,13 +160,38 @@ describe("object storage", () => {
   it("checks the object-storage settings: production must name its store; keys come in pairs", () => {
     const base = { DATABASE_URL: "postgres://u:p@127.0.0.1:5432/d", SESSION_SECRET: "a-long-enough-secret-value" };
     expect(() => loadEnv({ ...base, NODE_ENV: "production" })).toThrow(/S3_REGION.*S3_BUCKET|S3_BUCKET/);
-    const prod = loadEnv({ ...base, NODE_ENV: "production", S3_BUCKET: "clinic-files", S3_REGION: "eu-west-2", DIOPTRA_PRACTICE_ID: "north-clinic" });
-    expect(prod).toMatchObject({ S3_BUCKET: "clinic-files", S3_REGION: "eu-west-2", S3_FORCE_PATH_STYLE: false, DIOPTRA_PRACTICE_ID: "north-clinic" });
+    const prod = loadEnv({
+      ...base,
+      NODE_ENV: "production",
+      S3_BUCKET: "clinic-files",
+      S3_REGION: "eu-west-2",
+      DIOPTRA_PRACTICE_ID: "north-clinic",
+    });
+    expect(prod).toMatchObject({
+      S3_BUCKET: "clinic-files",
+      S3_REGION: "eu-west-2",
+      S3_FORCE_PATH_STYLE: false,
+      DIOPTRA_PRACTICE_ID: "north-clinic",
+    });
     expect(prod.S3_ENDPOINT).toBeUndefined(); // AWS: the SDK's endpoint for the region
-    expect(() => loadEnv({ ...base, NODE_ENV: "production", S3_BUCKET: "clinic-files", S3_REGION: "eu-west-2", S3_ACCESS_KEY_ID: "AKIAEXAMPLE" })).toThrow(/S3_SECRET_ACCESS_KEY: set both/);
-    expect(() => loadEnv({ ...base, NODE_ENV: "production", S3_BUCKET: "Bad_Bucket", S3_REGION: "eu-west-2" })).toThrow(/S3_BUCKET/);
+    expect(() =>
+      loadEnv({
+        ...base,
+        NODE_ENV: "production",
+        S3_BUCKET: "clinic-files",
+        S3_REGION: "eu-west-2",
+        S3_ACCESS_KEY_ID: "AKIAEXAMPLE",
+      }),
+    ).toThrow(/S3_SECRET_ACCESS_KEY: set both/);
+    expect(() => loadEnv({ ...base, NODE_ENV: "production", S3_BUCKET: "Bad_Bucket", S3_REGION: "eu-west-2" })).toThrow(
+      /S3_BUCKET/,
+    );
     expect(() => loadEnv({ ...base, DIOPTRA_PRACTICE_ID: "../escape" })).toThrow(/DIOPTRA_PRACTICE_ID/);
     // Development: the local stand-in and its default keys.
-    expect(loadEnv({ ...base })).toMatchObject({ S3_ENDPOINT: "http://127.0.0.1:4569", S3_BUCKET: "dioptra-files", S3_FORCE_PATH_STYLE: true });
+    expect(loadEnv({ ...base })).toMatchObject({
+      S3_ENDPOINT: "http://127.0.0.1:4569",
+      S3_BUCKET: "dioptra-files",
+      S3_FORCE_PATH_STYLE: true,
+    });
   });
 });

@@ -1,6 +1,14 @@
 import type { TestProject } from "vitest/node";
 import { UNIT } from "./ports";
-import { cloneDatabase, freshDatabase, prepareJobQueues, startMailStandIn, startS3StandIn, startStripeStandIn, stopProcess } from "./services";
+import {
+  cloneDatabase,
+  freshDatabase,
+  prepareJobQueues,
+  startMailStandIn,
+  startS3StandIn,
+  startStripeStandIn,
+  stopProcess,
+} from "./services";
 
 /**
  * Integration tests: a fresh database for the run, copied once per test worker so files running
@@ -13,14 +21,20 @@ export default async function setup(project: TestProject) {
   const workers = Math.max(1, Number(process.env.DIOPTRA_TEST_WORKERS ?? 3));
   const urls: string[] = [];
   for (let n = 1; n <= workers; n++) urls.push(await cloneDatabase(UNIT.db, `${UNIT.db}_p${n}`));
-  const started = await Promise.allSettled([startMailStandIn(UNIT.smtp, UNIT.mailApi), startStripeStandIn(UNIT.stripe, ""), startS3StandIn(UNIT.s3)]);
+  const started = await Promise.allSettled([
+    startMailStandIn(UNIT.smtp, UNIT.mailApi),
+    startStripeStandIn(UNIT.stripe, ""),
+    startS3StandIn(UNIT.s3),
+  ]);
   const failed = started.find((r) => r.status === "rejected");
   if (failed) {
     // Leave no stand-in behind when the set-up gives up.
     for (const r of started) if (r.status === "fulfilled") await stopProcess(r.value);
     throw failed.reason;
   }
-  const [mail, stripe, s3] = started.map((r) => (r as PromiseFulfilledResult<Awaited<ReturnType<typeof startMailStandIn>>>).value);
+  const [mail, stripe, s3] = started.map(
+    (r) => (r as PromiseFulfilledResult<Awaited<ReturnType<typeof startMailStandIn>>>).value,
+  );
   project.provide("databaseUrl", url);
   project.provide("databaseUrls", urls);
   return async () => {

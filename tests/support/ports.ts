@@ -5,9 +5,24 @@
 const slot = Number(process.env.DIOPTRA_TEST_SLOT ?? 0);
 const suffix = slot ? `_${slot}` : "";
 
-export const UNIT = { db: `dioptra_test${suffix}`, smtp: 2625 + slot * 10, mailApi: 2626 + slot * 10, stripe: 2627 + slot * 10, s3: 2628 + slot * 10, s3Spare: 2629 + slot * 10 } as const;
+export const UNIT = {
+  db: `dioptra_test${suffix}`,
+  smtp: 2625 + slot * 10,
+  mailApi: 2626 + slot * 10,
+  stripe: 2627 + slot * 10,
+  s3: 2628 + slot * 10,
+  s3Spare: 2629 + slot * 10,
+} as const;
 // The worker's health port is smtp + 3 (2728).
-export const E2E = { db: `dioptra_e2e${suffix}`, smtp: 2725 + slot * 10, mailApi: 2726 + slot * 10, app: 3100 + slot * 10, stripe: 2727 + slot * 10, s3: 2729 + slot * 10, worker: 2728 + slot * 10 } as const;
+export const E2E = {
+  db: `dioptra_e2e${suffix}`,
+  smtp: 2725 + slot * 10,
+  mailApi: 2726 + slot * 10,
+  app: 3100 + slot * 10,
+  stripe: 2727 + slot * 10,
+  s3: 2729 + slot * 10,
+  worker: 2728 + slot * 10,
+} as const;
 
 /**
  * Browser test files run in parallel, each Vitest worker against its own stack (database, app
@@ -17,7 +32,15 @@ export const E2E = { db: `dioptra_e2e${suffix}`, smtp: 2725 + slot * 10, mailApi
 export function e2eStackPorts(n: number) {
   if (n === 0) return E2E;
   const base = 4100 + slot * 100 + n * 10;
-  return { db: `${E2E.db}_w${n}`, app: base, smtp: base + 1, mailApi: base + 2, stripe: base + 3, s3: base + 4, worker: base + 5 } as const;
+  return {
+    db: `${E2E.db}_w${n}`,
+    app: base,
+    smtp: base + 1,
+    mailApi: base + 2,
+    stripe: base + 3,
+    s3: base + 4,
+    worker: base + 5,
+  } as const;
 }
 /** The scale-out test's own stack: two app servers and nginx in front, two workers and the stand-ins. */
 export const SCALE = {

@@ -116,14 +116,23 @@ export async function startS3StandIn(port: number) {
   const dir = join(ROOT, ".data", `test-s3-${port}`);
   rmSync(dir, { recursive: true, force: true });
   mkdirSync(dir, { recursive: true });
-  const child = startProcess("s3", join(ROOT, "node_modules/.bin/tsx"), ["app/standins/s3-server.ts"], { S3_STANDIN_PORT: String(port), S3_STANDIN_DIR: dir });
+  const child = startProcess("s3", join(ROOT, "node_modules/.bin/tsx"), ["app/standins/s3-server.ts"], {
+    S3_STANDIN_PORT: String(port),
+    S3_STANDIN_DIR: dir,
+  });
   await waitForPort(port, STANDIN_START_MS);
   return child;
 }
 
 /** Environment that points the app (or a test process) at the object-storage stand-in on `port`. */
 export function s3Env(port: number): Record<string, string> {
-  return { S3_ENDPOINT: `http://127.0.0.1:${port}`, S3_REGION: "us-east-1", S3_ACCESS_KEY_ID: "S3RVER", S3_SECRET_ACCESS_KEY: "S3RVER", S3_FORCE_PATH_STYLE: "1" };
+  return {
+    S3_ENDPOINT: `http://127.0.0.1:${port}`,
+    S3_REGION: "us-east-1",
+    S3_ACCESS_KEY_ID: "S3RVER",
+    S3_SECRET_ACCESS_KEY: "S3RVER",
+    S3_FORCE_PATH_STYLE: "1",
+  };
 }
 
 /** The mail stand-in on its own ports with an empty mailbox folder. */

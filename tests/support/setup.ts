@@ -5,7 +5,8 @@ import { UNIT } from "./ports";
 // db.server.ts see the test database and the test mail stand-in.
 // Each worker has its own copy of the database (files on one worker run one after another).
 const copies = inject("databaseUrls");
-process.env.DATABASE_URL = copies[(Number(process.env.VITEST_POOL_ID ?? 1) - 1) % copies.length] ?? inject("databaseUrl");
+process.env.DATABASE_URL =
+  copies[(Number(process.env.VITEST_POOL_ID ?? 1) - 1) % copies.length] ?? inject("databaseUrl");
 process.env.SMTP_PORT = String(UNIT.smtp);
 process.env.MAILBOX_API_URL = `http://127.0.0.1:${UNIT.mailApi}`;
 process.env.APP_URL = "http://127.0.0.1:3000";

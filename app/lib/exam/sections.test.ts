@@ -78,8 +78,23 @@ describe("parseRefractionEye", () => {
 
 describe("parseRedFlags", () => {
   it("keeps the eye of each symptom and the general ones", () => {
-    const r = parseRedFlags({ rf_flashes: "right", rf_newFloaters: "both", rf_newDiplopia: "on", rf_notes: " since Tuesday " });
-    expect(r).toEqual({ ok: true, value: expect.objectContaining({ flashes: "right", newFloaters: "both", curtain: null, newDiplopia: true, gcaSymptoms: false, notes: "since Tuesday" }) });
+    const r = parseRedFlags({
+      rf_flashes: "right",
+      rf_newFloaters: "both",
+      rf_newDiplopia: "on",
+      rf_notes: " since Tuesday ",
+    });
+    expect(r).toEqual({
+      ok: true,
+      value: expect.objectContaining({
+        flashes: "right",
+        newFloaters: "both",
+        curtain: null,
+        newDiplopia: true,
+        gcaSymptoms: false,
+        notes: "since Tuesday",
+      }),
+    });
   });
   it("refuses an eye that is not on the list", () => {
     const r = parseRedFlags({ rf_flashes: "middle" });
@@ -92,7 +107,10 @@ describe("parsePupils", () => {
   it("records per eye and refuses a defect in both eyes or contradictions", () => {
     expect(parsePupils({ right_pup_equal: "on", left_pup_rapd: "on", left_pup_size: "4.5" })).toEqual({
       ok: true,
-      value: { right: { equalReactive: true, rapd: false, larger: false, sizeMm: null, notes: "" }, left: { equalReactive: false, rapd: true, larger: false, sizeMm: 4.5, notes: "" } },
+      value: {
+        right: { equalReactive: true, rapd: false, larger: false, sizeMm: null, notes: "" },
+        left: { equalReactive: false, rapd: true, larger: false, sizeMm: 4.5, notes: "" },
+      },
     });
     const both = parsePupils({ right_pup_rapd: "on", left_pup_rapd: "on" });
     expect(both.ok).toBe(false);
@@ -108,7 +126,10 @@ describe("parseAnteriorChamber", () => {
   it("takes van Herick 0–4 as a whole number and cells from the list", () => {
     expect(parseAnteriorChamber({ right_ac_vh: "2", right_ac_cells: "1+", left_ac_hypopyon: "on" })).toEqual({
       ok: true,
-      value: { right: { vanHerick: 2, cells: "1+", hyphaema: false, hypopyon: false, notes: "" }, left: { vanHerick: null, cells: null, hyphaema: false, hypopyon: true, notes: "" } },
+      value: {
+        right: { vanHerick: 2, cells: "1+", hyphaema: false, hypopyon: false, notes: "" },
+        left: { vanHerick: null, cells: null, hyphaema: false, hypopyon: true, notes: "" },
+      },
     });
     for (const vh of ["5", "2.5", "0x2"]) expect(parseAnteriorChamber({ right_ac_vh: vh }).ok, vh).toBe(false);
     expect(parseAnteriorChamber({ right_ac_cells: "lots" }).ok).toBe(false);
@@ -117,7 +138,19 @@ describe("parseAnteriorChamber", () => {
 
 describe("parseIop", () => {
   it("takes several readings per eye, later ones inheriting method and time", () => {
-    const r = parseIop({ right_mmHg: "25", right_method: "goldmann", right_time: "10:05", right_mmHg_2: "26", left_mmHg: "17", left_method: "non_contact", left_time: "10:00", left_mmHg_2: "18", left_method_2: "goldmann", left_time_2: "10:10", right_cct: "540" });
+    const r = parseIop({
+      right_mmHg: "25",
+      right_method: "goldmann",
+      right_time: "10:05",
+      right_mmHg_2: "26",
+      left_mmHg: "17",
+      left_method: "non_contact",
+      left_time: "10:00",
+      left_mmHg_2: "18",
+      left_method_2: "goldmann",
+      left_time_2: "10:10",
+      right_cct: "540",
+    });
     expect(r).toEqual({
       ok: true,
       value: {
@@ -174,19 +207,55 @@ describe("parseDiscs", () => {
 describe("parseFundus", () => {
   it("keeps ticked findings per eye and leaves out an eye with nothing", () => {
     const r = parseFundus({ left_fu_retinalBreak: "on", left_fu_periphery: "horseshoe tear at 2 o'clock" });
-    expect(r.ok && r.value).toEqual({ left: expect.objectContaining({ retinalBreak: true, retinalDetachment: false, peripheryNotes: "horseshoe tear at 2 o'clock" }) });
+    expect(r.ok && r.value).toEqual({
+      left: expect.objectContaining({
+        retinalBreak: true,
+        retinalDetachment: false,
+        peripheryNotes: "horseshoe tear at 2 o'clock",
+      }),
+    });
   });
 });
 
 describe("parseDilations", () => {
-  const ctx = { now: new Date("2026-06-10T11:00:00Z"), examinedAt: new Date("2026-06-10T09:30:00Z"), timeZone: "Europe/London" };
+  const ctx = {
+    now: new Date("2026-06-10T11:00:00Z"),
+    examinedAt: new Date("2026-06-10T09:30:00Z"),
+    timeZone: "Europe/London",
+  };
   it("reads drug, strength, eye and the practice's wall time", () => {
-    const r = parseDilations({ dil1_drug: "tropicamide", dil1_strength: "1", dil1_eye: "both", dil1_at: "2026-06-10T10:40" }, ctx);
+    const r = parseDilations(
+      { dil1_drug: "tropicamide", dil1_strength: "1", dil1_eye: "both", dil1_at: "2026-06-10T10:40" },
+      ctx,
+    );
     // 10:40 in London in June is 09:40 UTC (British Summer Time, UTC+1)
-    expect(r).toEqual({ ok: true, value: [{ drug: "tropicamide", otherDrug: "", strengthPercent: 1, eye: "both", instilledAt: new Date("2026-06-10T09:40:00Z"), batch: "" }] });
+    expect(r).toEqual({
+      ok: true,
+      value: [
+        {
+          drug: "tropicamide",
+          otherDrug: "",
+          strengthPercent: 1,
+          eye: "both",
+          instilledAt: new Date("2026-06-10T09:40:00Z"),
+          batch: "",
+        },
+      ],
+    });
   });
   it("refuses a time in the future, a missing strength and an unnamed other drug", () => {
-    const r = parseDilations({ dil1_drug: "tropicamide", dil1_strength: "1", dil1_eye: "right", dil1_at: "2026-06-11T10:00", dil2_drug: "other", dil2_eye: "left", dil2_at: "2026-06-10T10:00" }, ctx);
+    const r = parseDilations(
+      {
+        dil1_drug: "tropicamide",
+        dil1_strength: "1",
+        dil1_eye: "right",
+        dil1_at: "2026-06-11T10:00",
+        dil2_drug: "other",
+        dil2_eye: "left",
+        dil2_at: "2026-06-10T10:00",
+      },
+      ctx,
+    );
     expect(r.ok).toBe(false);
     if (!r.ok) {
       expect(r.errors.dil1_at![0]).toMatch(/in the future/);
@@ -207,7 +276,22 @@ describe("parseDiagnoses", () => {
     const codes = DIAGNOSES.map((d) => d.code);
     expect(new Set(codes).size).toBe(codes.length);
     // WHO ICD-10: Z01.0 examination of eyes and vision; H40 glaucoma; H25 senile cataract; H35.3 macular degeneration; H33 retinal detachment (from memory)
-    for (const c of ["Z01.0", "H40.0", "H40.1", "H25.9", "H35.3", "H36.0", "H43.8", "H33.0", "H01.0", "H04.1", "H18.6", "Z96.1", "H53.0"]) expect(codes).toContain(c);
+    for (const c of [
+      "Z01.0",
+      "H40.0",
+      "H40.1",
+      "H25.9",
+      "H35.3",
+      "H36.0",
+      "H43.8",
+      "H33.0",
+      "H01.0",
+      "H04.1",
+      "H18.6",
+      "Z96.1",
+      "H53.0",
+    ])
+      expect(codes).toContain(c);
   });
 });
 
@@ -222,7 +306,8 @@ describe("edge values of the section parsers", () => {
     expect(parseNumber("   ", "Add", 0.25, 4)).toEqual({ value: null });
     expect(parseNumber(undefined, "Add", 0.25, 4)).toEqual({ value: null });
     for (const t of ["1.", "-0"]) expect(parseNumber(t, "x", -1, 1).error, t).toBeUndefined();
-    for (const t of ["--1", "1..2", "1.2.3", "٣", "１２"]) expect(parseNumber(t, "x", -100, 100).error, t).toMatch(/is not a number/);
+    for (const t of ["--1", "1..2", "1.2.3", "٣", "１２"])
+      expect(parseNumber(t, "x", -100, 100).error, t).toMatch(/is not a number/);
   });
 
   it("parseRxText reads sphere, cylinder and axis and names the field in its refusal", () => {
@@ -236,9 +321,29 @@ describe("edge values of the section parsers", () => {
   });
 
   it("parseRefractionEye keeps a full row, leaves a blank row out and refuses prism without base or base without prism", () => {
-    const full = parseRefractionEye({ left_rx: "+1.50 -0.50 x 90", left_add: "2.00", left_prism: "1.5", left_base: "in", left_vertex: "12", left_va: "6/6" }, "left", "Final", "metric");
+    const full = parseRefractionEye(
+      {
+        left_rx: "+1.50 -0.50 x 90",
+        left_add: "2.00",
+        left_prism: "1.5",
+        left_base: "in",
+        left_vertex: "12",
+        left_va: "6/6",
+      },
+      "left",
+      "Final",
+      "metric",
+    );
     expect(full.ok).toBe(true);
-    if (full.ok) expect(full.value).toMatchObject({ rawText: "+1.50 -0.50 x 90", addPower: 2, prismDioptres: 1.5, prismBase: "in", vertexMm: 12, va: { logMar: 0 } });
+    if (full.ok)
+      expect(full.value).toMatchObject({
+        rawText: "+1.50 -0.50 x 90",
+        addPower: 2,
+        prismDioptres: 1.5,
+        prismBase: "in",
+        vertexMm: 12,
+        va: { logMar: 0 },
+      });
     expect(parseRefractionEye({}, "left", "Final")).toEqual({ ok: true, value: null });
     const noBase = parseRefractionEye({ right_rx: "-1.00 DS", right_prism: "2" }, "right", "Final");
     expect(noBase.ok).toBe(false);
@@ -246,7 +351,11 @@ describe("edge values of the section parsers", () => {
     const noPrism = parseRefractionEye({ right_rx: "-1.00 DS", right_base: "up" }, "right", "Final");
     if (!noPrism.ok) expect(noPrism.errors.right_prism![0]).toMatch(/give the prism/);
     else expect.unreachable("a base without a prism was accepted");
-    const badBase = parseRefractionEye({ right_rx: "-1.00 DS", right_prism: "1", right_base: "sideways" }, "right", "Final");
+    const badBase = parseRefractionEye(
+      { right_rx: "-1.00 DS", right_prism: "1", right_base: "sideways" },
+      "right",
+      "Final",
+    );
     if (!badBase.ok) expect(badBase.errors.right_base![0]).toMatch(/up, down, in or out/);
     else expect.unreachable("an unknown base was accepted");
     // An add only (no sphere typed) is refused with a request for the sphere.
@@ -254,8 +363,19 @@ describe("edge values of the section parsers", () => {
     if (!addOnly.ok) expect(addOnly.errors.right_rx![0]).toMatch(/type the sphere/);
     else expect.unreachable("an add without a prescription was accepted");
     // Impossible or ill-formed numbers in the other fields.
-    for (const [field, value] of [["right_add", "4.25"], ["right_add", "1.10"], ["right_add", "0x2"], ["right_prism", "1e1"], ["right_vertex", "26"], ["right_vertex", "12.2"]] as const) {
-      const r = parseRefractionEye({ right_rx: "-1.00 DS", [field]: value, ...(field === "right_prism" ? { right_base: "up" } : {}) }, "right", "Final");
+    for (const [field, value] of [
+      ["right_add", "4.25"],
+      ["right_add", "1.10"],
+      ["right_add", "0x2"],
+      ["right_prism", "1e1"],
+      ["right_vertex", "26"],
+      ["right_vertex", "12.2"],
+    ] as const) {
+      const r = parseRefractionEye(
+        { right_rx: "-1.00 DS", [field]: value, ...(field === "right_prism" ? { right_base: "up" } : {}) },
+        "right",
+        "Final",
+      );
       expect(r.ok, `${field}=${value}`).toBe(false);
       if (!r.ok) expect(r.errors[field], `${field}=${value}`).toHaveLength(1);
     }
@@ -271,7 +391,11 @@ describe("edge values of the section parsers", () => {
   });
 
   it("parseDilations refuses malformed and non-existent times and drops put in more than a day before the exam", () => {
-    const ctx = { now: new Date("2026-03-29T12:00:00Z"), examinedAt: new Date("2026-03-29T11:00:00Z"), timeZone: "Europe/London" };
+    const ctx = {
+      now: new Date("2026-03-29T12:00:00Z"),
+      examinedAt: new Date("2026-03-29T11:00:00Z"),
+      timeZone: "Europe/London",
+    };
     const row = (at: string) => ({ dil1_drug: "tropicamide", dil1_strength: "1", dil1_eye: "both", dil1_at: at });
     expect(parseDilations(row("2026-03-29T11:30"), ctx).ok).toBe(true);
     const errorOf = (at: string) => {
