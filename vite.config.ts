@@ -12,6 +12,11 @@ const alias = {
 // the same file serves both so the alias is declared once.
 const isVitest = Boolean(process.env.VITEST);
 
+// Test files at once: unit and integration files (each worker on its own copy of the test
+// database), then browser files (each on its own stack; see tests/e2e/global-setup.ts).
+const unitWorkers = Number(process.env.DIOPTRA_TEST_WORKERS ?? 3);
+const e2eWorkers = Number(process.env.DIOPTRA_E2E_STACKS ?? 2);
+
 export default defineConfig({
   plugins: isVitest ? [] : [tailwindcss(), reactRouter()],
   resolve: { alias },
@@ -24,6 +29,8 @@ export default defineConfig({
           name: "unit",
           include: ["app/**/*.test.ts", "app/**/*.test.tsx", "tests/integration/**/*.test.ts"],
           environment: "node",
+          maxWorkers: unitWorkers,
+          sequence: { groupOrder: 0 },
           globalSetup: ["tests/support/global-setup.ts"],
           setupFiles: ["tests/support/setup.ts"],
           testTimeout: 20_000,
@@ -37,7 +44,11 @@ export default defineConfig({
           include: ["tests/e2e/**/*.e2e.ts"],
           environment: "node",
           globalSetup: ["tests/e2e/global-setup.ts"],
-          fileParallelism: false,
+          setupFiles: ["tests/e2e/setup.ts"],
+          // A page or the job worker answering a little late is not a failure: polls wait up to 10 s.
+          expect: { poll: { timeout: 10_000 } },
+          maxWorkers: e2eWorkers,
+          sequence: { groupOrder: 1 },
           testTimeout: 60_000,
           hookTimeout: 600_000,
         },

@@ -2,9 +2,12 @@
  * Browser fixtures: Debian's Chromium driven by playwright-core (never a downloaded browser),
  * sign-in as a demo role, the mailbox of the mail stand-in, and an axe-core check.
  */
+import { randomBytes } from "node:crypto";
 import { createRequire } from "node:module";
 import { join } from "node:path";
+import pg from "pg";
 import { chromium, type Browser, type BrowserContext, type Page } from "playwright-core";
+import { createCookie } from "react-router";
 import { afterAll, beforeAll, expect, inject } from "vitest";
 
 const require = createRequire(import.meta.url);
@@ -63,11 +66,57 @@ export function useBrowser() {
   };
 }
 
+/**
+ * Signs `page`'s browser context in as `email` and opens that user's home page. With the demo
+ * password it creates the session directly: a `sessions` row in the stack's database and the
+ * signed cookie the app would have set (the sign-in form itself is tested by foundation.e2e.ts).
+ * Any other password goes through the form, so tests of wrong passwords still see the form's answer.
+ */
 export async function signIn(page: Page, email: string, password = DEMO_PASSWORD) {
+  if (password !== DEMO_PASSWORD) return signInWithForm(page, email, password);
+  const value = await sessionCookieValue(email);
+  await page
+    .context()
+    .addCookies([{ name: "dioptra_session", value, url: baseUrl(), httpOnly: true, sameSite: "Lax" }]);
+  await page.goto("/");
+}
+
+/** Signs in by filling in and sending the login form, as a person would. */
+export async function signInWithForm(page: Page, email: string, password = DEMO_PASSWORD) {
   await page.goto("/login");
   await page.getByLabel("E-mail").fill(email);
   await page.getByLabel("Password").fill(password);
   await page.getByRole("button", { name: "Sign in" }).click();
+}
+
+let pool: pg.Pool | undefined;
+/** A connection pool to this test file's database (its idle connections never keep the file's process alive). */
+export function testDb(): pg.Pool {
+  pool ??= new pg.Pool({
+    connectionString: inject("e2eDatabaseUrl"),
+    max: 2,
+    allowExitOnIdle: true,
+    idleTimeoutMillis: 5_000,
+  });
+  return pool;
+}
+
+/** A new session of the active user `email`, as the `dioptra_session` cookie's signed value. */
+export async function sessionCookieValue(email: string): Promise<string> {
+  const { rows } = await testDb().query<{ id: string }>(
+    "select id from users where lower(email) = lower($1) and active",
+    [email],
+  );
+  if (!rows[0]) throw new Error(`no active user ${email}`);
+  const id = randomBytes(32).toString("base64url");
+  await testDb().query(
+    "insert into sessions (id, user_id, expires_at, user_agent, ip) values ($1, $2, now() + interval '12 hours', 'browser test', '127.0.0.1')",
+    [id, rows[0].id],
+  );
+  // Signed as app/utils/session.server.ts signs it, with the stack's secret.
+  const cookie = createCookie("dioptra_session", { path: "/", secrets: [inject("sessionSecret")] });
+  const header = await cookie.serialize(id);
+  return header.slice("dioptra_session=".length, header.indexOf(";"));
 }
 
 /** Runs axe-core in the page; fails on serious or critical violations, naming them. */

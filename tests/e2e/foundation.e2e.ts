@@ -1,9 +1,22 @@
 import { describe, expect, it } from "vitest";
-import { baseUrl, DEMO, expectAccessible, mailTo, screenshot, signIn, useBrowser } from "./fixtures";
+import { baseUrl, DEMO, expectAccessible, mailTo, screenshot, signIn, signInWithForm, useBrowser } from "./fixtures";
 
 const browser = useBrowser();
 
 describe("sign-in and roles in the browser", () => {
+  // The one test that signs in through the form with the right password; every other browser
+  // test starts from a session created in the database (fixtures.ts `signIn`).
+  it("signs in through the login form and lands on the home page", async () => {
+    const page = await browser.newPage();
+    await signInWithForm(page, DEMO.owner);
+    await page.waitForURL((url) => url.pathname === "/");
+    await expect
+      .poll(() => page.getByRole("heading", { level: 1 }).textContent())
+      .toMatch(/Today at Larkspur Lane Eye Care/);
+    const cookies = await page.context().cookies();
+    expect(cookies.find((c) => c.name === "dioptra_session")).toMatchObject({ httpOnly: true, sameSite: "Lax" });
+  });
+
   it.each([
     ["owner", DEMO.owner, "/", /Today at Larkspur Lane Eye Care/],
     ["optometrist", DEMO.optometrist, "/", /Today at Larkspur Lane Eye Care/],

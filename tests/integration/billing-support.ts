@@ -1,39 +1,17 @@
 /** Shared set-up for the billing tests: patients, a finished exam, fees and issued invoices. */
 import { randomBytes } from "node:crypto";
 import { eq } from "drizzle-orm";
-import { appointments, appointmentTypes, exams, feeItems, patients, practiceSettings } from "~/db/schema";
+import { appointments, appointmentTypes, exams, practiceSettings } from "~/db/schema";
 import { createInvoice, issueInvoice } from "~/models/billing/invoices.server";
 import { db } from "~/utils/db.server";
+import { newFee, newPatient as makePatient } from "#tests/support/factories";
 import { userByEmail } from "#tests/support/helpers";
 
 export const STANDIN = () => `http://127.0.0.1:${process.env.STRIPE_API_PORT}`;
 
-export async function newPatient(email: string | null = `pt-${randomBytes(4).toString("hex")}@example.test`) {
-  const [p] = await db
-    .insert(patients)
-    .values({
-      firstName: "Wilhelmina",
-      lastName: `Testcase-${randomBytes(3).toString("hex")}`,
-      dateOfBirth: "1984-02-29",
-      email,
-    })
-    .returning();
-  return p!;
-}
-
-export async function fee(
-  code: string,
-  priceMinor: number,
-  taxCategory: "standard" | "exempt" = "exempt",
-  kind: "service" | "item" = "service",
-) {
-  const unique = `${code}-${randomBytes(3).toString("hex")}`.toUpperCase();
-  const [f] = await db
-    .insert(feeItems)
-    .values({ code: unique, description: `${code} for tests`, priceMinor, taxCategory, kind })
-    .returning();
-  return f!;
-}
+export const newPatient = (email?: string | null) =>
+  makePatient({ firstName: "Wilhelmina", dateOfBirth: "1984-02-29", ...(email === undefined ? {} : { email }) });
+export const fee = newFee;
 
 export async function setTaxRate(bp: number) {
   await db.update(practiceSettings).set({ taxRateBp: bp }).where(eq(practiceSettings.id, 1));

@@ -2,23 +2,10 @@
 import { eq } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
 import { action as examAction } from "~/routes/exams/exam";
-import { examIop, exams, patients } from "~/db/schema";
+import { examIop } from "~/db/schema";
 import { db } from "~/utils/db.server";
-import { cookieFor, dataOf, makeRequest, run, statusOf, userByEmail } from "#tests/support/helpers";
-
-async function newExam() {
-  const optom = await userByEmail("optometrist@dioptra-demo.test");
-  const [p] = await db
-    .insert(patients)
-    .values({
-      firstName: "Decimal",
-      lastName: `Case${Math.random().toString(36).slice(2, 8)}`,
-      dateOfBirth: "1979-05-06",
-    })
-    .returning();
-  const [exam] = await db.insert(exams).values({ patientId: p!.id, optometristId: optom.id }).returning();
-  return { exam: exam!, params: { patientId: p!.id, examId: exam!.id } };
-}
+import { newExam } from "#tests/support/factories";
+import { cookieFor, dataOf, makeRequest, run, statusOf } from "#tests/support/helpers";
 
 const save = async (params: { patientId: string; examId: string }, form: Record<string, string>) =>
   run(

@@ -10,46 +10,28 @@ import {
   examIop,
   examRefractions,
   exams,
-  patients,
 } from "~/db/schema";
 import { db } from "~/utils/db.server";
+import { newExam, newPatient } from "#tests/support/factories";
 import { cookieFor, dataOf, makeRequest, run, statusOf, userByEmail } from "#tests/support/helpers";
 
 const uniq = () => Math.random().toString(36).slice(2, 8);
 
 async function setup(opts: { previousFinal?: boolean } = {}) {
-  const optom = await userByEmail("optometrist@dioptra-demo.test");
-  const [p] = await db
-    .insert(patients)
-    .values({ firstName: "Exam", lastName: `Case${uniq()}`, dateOfBirth: "1988-03-04" })
-    .returning();
+  const p = await newPatient({ firstName: "Exam", lastName: `Case${uniq()}`, dateOfBirth: "1988-03-04", email: null });
   if (opts.previousFinal) {
-    const [old] = await db
-      .insert(exams)
-      .values({
-        patientId: p!.id,
-        optometristId: optom.id,
-        examinedAt: new Date(Date.now() - 365 * 864e5),
-        status: "signed",
-        signedAt: new Date(Date.now() - 365 * 864e5),
-        signedById: optom.id,
-      })
-      .returning();
-    await db.insert(examRefractions).values([
-      {
-        examId: old!.id,
-        kind: "final",
-        eye: "right",
-        rawText: "-2.00 -0.50 x 180",
-        sphere: -2,
-        cylinder: -0.5,
-        axis: 180,
-      },
-      { examId: old!.id, kind: "final", eye: "left", rawText: "-1.75 DS", sphere: -1.75, cylinder: 0, axis: 180 },
-    ]);
+    await newExam({
+      patientId: p.id,
+      signed: true,
+      examinedAt: new Date(Date.now() - 365 * 864e5),
+      refractions: [
+        { kind: "final", eye: "right", rawText: "-2.00 -0.50 x 180", sphere: -2, cylinder: -0.5, axis: 180 },
+        { kind: "final", eye: "left", rawText: "-1.75 DS", sphere: -1.75, cylinder: 0, axis: 180 },
+      ],
+    });
   }
-  const [exam] = await db.insert(exams).values({ patientId: p!.id, optometristId: optom.id }).returning();
-  return { patient: p!, exam: exam!, params: { patientId: p!.id, examId: exam!.id } };
+  const { exam, params } = await newExam({ patientId: p.id });
+  return { patient: p, exam, params };
 }
 
 const post = async (role: string, params: { patientId: string; examId: string }, form: Record<string, string>) =>

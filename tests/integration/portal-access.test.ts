@@ -9,20 +9,11 @@ import { action as remindersAction, loader as remindersLoader } from "~/routes/p
 import { auditLog, patients, users } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { getSessionUser } from "~/utils/session.server";
+import { newPatient as makePatient } from "#tests/support/factories";
 import { cookieFor, linkIn, mailTo, makeRequest, run, statusOf, uniqueEmail } from "#tests/support/helpers";
 
-async function newPatient(email: string | null = uniqueEmail("pt")) {
-  const [p] = await db
-    .insert(patients)
-    .values({
-      firstName: "Oona",
-      lastName: `Brisk-${Math.random().toString(36).slice(2, 7)}`,
-      dateOfBirth: "1988-02-03",
-      email,
-    })
-    .returning();
-  return p!;
-}
+const newPatient = (email: string | null = uniqueEmail("pt")) =>
+  makePatient({ firstName: "Oona", dateOfBirth: "1988-02-03", email });
 
 async function jsonOf(res: unknown) {
   return (await (res as Response).json()) as Record<string, unknown>;

@@ -7,51 +7,40 @@ import { describe, expect, it } from "vitest";
 import { action as examAction } from "~/routes/exams/exam";
 import { loader as pdfLoader } from "~/routes/patients/prescription-pdf";
 import { addMonths, contactLensPower } from "~/models/prescriptions/prescriptions.server";
-import { examRefractions, exams, patients, prescriptionEyes, prescriptions } from "~/db/schema";
+import { prescriptionEyes, prescriptions } from "~/db/schema";
 import { db } from "~/utils/db.server";
+import { newExam } from "#tests/support/factories";
 import { cookieFor, makeRequest, run, statusOf, userByEmail } from "#tests/support/helpers";
 
 const uniq = () => Math.random().toString(36).slice(2, 8);
 
 async function signedExam(sign = true) {
-  const optom = await userByEmail("optometrist@dioptra-demo.test");
-  const [p] = await db
-    .insert(patients)
-    .values({ firstName: "Rx", lastName: `Holder${uniq()}`, dateOfBirth: "1970-01-02" })
-    .returning();
-  const [exam] = await db
-    .insert(exams)
-    .values({
-      patientId: p!.id,
-      optometristId: optom.id,
-      ...(sign ? { status: "signed" as const, signedAt: new Date(), signedById: optom.id } : {}),
-    })
-    .returning();
-  await db.insert(examRefractions).values([
-    {
-      examId: exam!.id,
-      kind: "final",
-      eye: "right",
-      rawText: "-6.00 DS",
-      sphere: -6,
-      cylinder: 0,
-      axis: 180,
-      addPower: null,
-      vertexMm: 12,
-    },
-    {
-      examId: exam!.id,
-      kind: "final",
-      eye: "left",
-      rawText: "-4.00 -1.00 x 180",
-      sphere: -4,
-      cylinder: -1,
-      axis: 180,
-      prismDioptres: 1,
-      prismBase: "up",
-    },
-  ]);
-  return { patient: p!, exam: exam!, params: { patientId: p!.id, examId: exam!.id } };
+  return newExam({
+    patient: { firstName: "Rx", lastName: `Holder${uniq()}`, dateOfBirth: "1970-01-02" },
+    signed: sign,
+    refractions: [
+      {
+        kind: "final",
+        eye: "right",
+        rawText: "-6.00 DS",
+        sphere: -6,
+        cylinder: 0,
+        axis: 180,
+        addPower: null,
+        vertexMm: 12,
+      },
+      {
+        kind: "final",
+        eye: "left",
+        rawText: "-4.00 -1.00 x 180",
+        sphere: -4,
+        cylinder: -1,
+        axis: 180,
+        prismDioptres: 1,
+        prismBase: "up",
+      },
+    ],
+  });
 }
 
 const issue = async (role: string, params: { patientId: string; examId: string }, form: Record<string, string>) =>

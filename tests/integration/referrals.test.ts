@@ -26,7 +26,6 @@ import {
   practiceSettings,
   referralLinks,
   referralMessages,
-  referralRecipients,
   referralReplies,
   referrals,
 } from "~/db/schema";
@@ -50,6 +49,7 @@ import { action as recipientsAction } from "~/routes/settings/recipients";
 import { db } from "~/utils/db.server";
 import { stopJobs } from "~/utils/jobs.server";
 import { storage } from "~/utils/storage.server";
+import { newRecipient } from "#tests/support/factories";
 import {
   BASE,
   cookieFor,
@@ -59,7 +59,6 @@ import {
   makeRequest,
   run,
   statusOf,
-  uniqueEmail,
   userByEmail,
 } from "#tests/support/helpers";
 
@@ -183,22 +182,7 @@ async function fixtureExam(opts: { signed?: boolean } = {}) {
   return { patient: patient!, exam: exam! };
 }
 
-async function recipient(email: string | null = uniqueEmail("eye-surgeon")) {
-  const [r] = await db
-    .insert(referralRecipients)
-    .values({
-      name: "Dr Test Surgeon",
-      clinic: "Test Eye Unit",
-      specialty: "Glaucoma",
-      email,
-      preferredDelivery: email ? "email" : "post",
-      addressLine1: "1 Test Road",
-      city: "Testham",
-      postcode: "TT1 1TT",
-    })
-    .returning();
-  return r!;
-}
+const recipient = newRecipient;
 
 /** Drafts a referral through the compose action, keeping every exam finding. */
 async function draft(examId: string, recipientId: string | null, extra: [string, string][] = []) {

@@ -1,7 +1,8 @@
 /** Fixtures shared by the schedule, reminder and recall integration tests. */
 import { eq, sql } from "drizzle-orm";
-import { appointments, appointmentTypes, patients } from "~/db/schema";
+import { appointments, appointmentTypes } from "~/db/schema";
 import { db } from "~/utils/db.server";
+import { newPatient as makePatient } from "#tests/support/factories";
 import { cookieFor, DEMO_EMAIL, makeRequest, uniqueEmail, userByEmail } from "#tests/support/helpers";
 
 export async function demoIds() {
@@ -27,18 +28,14 @@ export async function newPatient(
   } = {},
 ) {
   const email = opts.email === undefined ? uniqueEmail("patient") : opts.email;
-  const [p] = await db
-    .insert(patients)
-    .values({
-      firstName: opts.firstName ?? "Test",
-      lastName: opts.lastName ?? `Patient ${Math.random().toString(36).slice(2, 7)}`,
-      dateOfBirth: opts.dateOfBirth ?? "1980-01-01",
-      email,
-      remindersByEmail: opts.remindersByEmail ?? true,
-      recallsByEmail: opts.recallsByEmail ?? true,
-    })
-    .returning();
-  return p!;
+  return makePatient({
+    ...(opts.firstName ? { firstName: opts.firstName } : {}),
+    ...(opts.lastName ? { lastName: opts.lastName } : {}),
+    dateOfBirth: opts.dateOfBirth ?? "1980-01-01",
+    email,
+    remindersByEmail: opts.remindersByEmail ?? true,
+    recallsByEmail: opts.recallsByEmail ?? true,
+  });
 }
 
 export async function postBooking(

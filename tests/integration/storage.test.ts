@@ -5,25 +5,20 @@ import { eq } from "drizzle-orm";
 import S3rver from "s3rver";
 import sharp from "sharp";
 import { afterAll, afterEach, describe, expect, it } from "vitest";
-import { documents, patients } from "~/db/schema";
+import { documents } from "~/db/schema";
 import { action as uploadAction } from "~/routes/api/uploads";
 import { loader as fileLoader } from "~/routes/patients/document-file";
 import { db } from "~/utils/db.server";
 import { loadEnv } from "~/utils/env.server";
 import { S3Storage, storage, StorageKeyError, StorageUnavailableError, useStorage } from "~/utils/storage.server";
 import { UNIT } from "#tests/support/ports";
+import { newPatient } from "#tests/support/factories";
 import { BASE, cookieFor, dataOf, makeRequest, run, statusOf, userByEmail } from "#tests/support/helpers";
 
 const uniq = () => Math.random().toString(36).slice(2, 8);
 const defaultStorage = storage;
 
-async function patient() {
-  const [p] = await db
-    .insert(patients)
-    .values({ firstName: "Storage", lastName: `Case${uniq()}`, dateOfBirth: "1971-03-03" })
-    .returning();
-  return p!;
-}
+const patient = () => newPatient({ firstName: "Storage", dateOfBirth: "1971-03-03", email: null });
 
 function uploadRequest(cookie: string, patientId: string, file: { bytes: Uint8Array; name: string; type: string }) {
   const form = new FormData();

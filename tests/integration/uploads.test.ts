@@ -4,23 +4,17 @@ import { describe, expect, it } from "vitest";
 import { action as uploadAction } from "~/routes/api/uploads";
 import { loader as fileLoader } from "~/routes/patients/document-file";
 import { sniffType } from "~/models/patients/documents.server";
-import { auditLog, documents, exams, patients } from "~/db/schema";
+import { auditLog, documents, exams } from "~/db/schema";
 import { db } from "~/utils/db.server";
+import { newPatient } from "#tests/support/factories";
 import { BASE, cookieFor, makeRequest, run, statusOf, userByEmail } from "#tests/support/helpers";
 
-const uniq = () => Math.random().toString(36).slice(2, 8);
 const png = () =>
   sharp({ create: { width: 640, height: 480, channels: 3, background: { r: 180, g: 60, b: 40 } } })
     .png()
     .toBuffer();
 
-async function patient() {
-  const [p] = await db
-    .insert(patients)
-    .values({ firstName: "Upload", lastName: `Case${uniq()}`, dateOfBirth: "1960-06-06" })
-    .returning();
-  return p!;
-}
+const patient = () => newPatient({ firstName: "Upload", dateOfBirth: "1960-06-06", email: null });
 
 function uploadRequest(
   cookie: string,

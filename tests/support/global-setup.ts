@@ -1,6 +1,7 @@
 import type { TestProject } from "vitest/node";
 import { UNIT } from "./ports";
 import {
+  cloneDatabase,
   freshDatabase,
   prepareJobQueues,
   startMailStandIn,
@@ -9,14 +10,33 @@ import {
   stopProcess,
 } from "./services";
 
-/** Integration tests: a fresh database for the run and the mail, Stripe and object-storage stand-ins on test ports. */
+/**
+ * Integration tests: a fresh database for the run, copied once per test worker so files running
+ * at the same time never write the same rows (the practice's settings, counters), and the mail,
+ * Stripe and object-storage stand-ins on test ports.
+ */
 export default async function setup(project: TestProject) {
   const url = await freshDatabase(UNIT.db);
   await prepareJobQueues(url);
-  const mail = await startMailStandIn(UNIT.smtp, UNIT.mailApi);
-  const stripe = await startStripeStandIn(UNIT.stripe, "");
-  const s3 = await startS3StandIn(UNIT.s3);
+  const workers = Math.max(1, Number(process.env.DIOPTRA_TEST_WORKERS ?? 3));
+  const urls: string[] = [];
+  for (let n = 1; n <= workers; n++) urls.push(await cloneDatabase(UNIT.db, `${UNIT.db}_p${n}`));
+  const started = await Promise.allSettled([
+    startMailStandIn(UNIT.smtp, UNIT.mailApi),
+    startStripeStandIn(UNIT.stripe, ""),
+    startS3StandIn(UNIT.s3),
+  ]);
+  const failed = started.find((r) => r.status === "rejected");
+  if (failed) {
+    // Leave no stand-in behind when the set-up gives up.
+    for (const r of started) if (r.status === "fulfilled") await stopProcess(r.value);
+    throw failed.reason;
+  }
+  const [mail, stripe, s3] = started.map(
+    (r) => (r as PromiseFulfilledResult<Awaited<ReturnType<typeof startMailStandIn>>>).value,
+  );
   project.provide("databaseUrl", url);
+  project.provide("databaseUrls", urls);
   return async () => {
     await stopProcess(mail);
     await stopProcess(stripe);
@@ -27,5 +47,7 @@ export default async function setup(project: TestProject) {
 declare module "vitest" {
   export interface ProvidedContext {
     databaseUrl: string;
+    /** One copy of the test database per test worker (VITEST_POOL_ID 1, 2, …). */
+    databaseUrls: string[];
   }
 }

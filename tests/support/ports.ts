@@ -21,7 +21,27 @@ export const E2E = {
   app: 3100 + slot * 10,
   stripe: 2727 + slot * 10,
   s3: 2729 + slot * 10,
+  worker: 2728 + slot * 10,
 } as const;
+
+/**
+ * Browser test files run in parallel, each Vitest worker against its own stack (database, app
+ * server, job worker and stand-ins). Stack 0 keeps the ports above; stack n (1-9) takes
+ * 4100 + slot * 100 + n * 10 and the five ports after it.
+ */
+export function e2eStackPorts(n: number) {
+  if (n === 0) return E2E;
+  const base = 4100 + slot * 100 + n * 10;
+  return {
+    db: `${E2E.db}_w${n}`,
+    app: base,
+    smtp: base + 1,
+    mailApi: base + 2,
+    stripe: base + 3,
+    s3: base + 4,
+    worker: base + 5,
+  } as const;
+}
 /** The scale-out test's own stack: two app servers and nginx in front, two workers and the stand-ins. */
 export const SCALE = {
   db: `dioptra_scale${suffix}`,

@@ -3,7 +3,10 @@ import { UNIT } from "./ports";
 
 // Runs in every test worker before any app module is imported, so env.server.ts and
 // db.server.ts see the test database and the test mail stand-in.
-process.env.DATABASE_URL = inject("databaseUrl");
+// Each worker has its own copy of the database (files on one worker run one after another).
+const copies = inject("databaseUrls");
+process.env.DATABASE_URL =
+  copies[(Number(process.env.VITEST_POOL_ID ?? 1) - 1) % copies.length] ?? inject("databaseUrl");
 process.env.SMTP_PORT = String(UNIT.smtp);
 process.env.MAILBOX_API_URL = `http://127.0.0.1:${UNIT.mailApi}`;
 process.env.APP_URL = "http://127.0.0.1:3000";

@@ -13,6 +13,7 @@ import {
   parsePupils,
   parseRedFlags,
   parseRefractionEye,
+  parseRxText,
 } from "./sections";
 
 describe("parseNumber", () => {
@@ -291,5 +292,124 @@ describe("parseDiagnoses", () => {
       "H53.0",
     ])
       expect(codes).toContain(c);
+  });
+});
+
+describe("edge values of the section parsers", () => {
+  it("parseNumber takes both ends of the range and exact steps, and refuses just outside", () => {
+    expect(parseNumber("1", "IOP", 1, 80).value).toBe(1);
+    expect(parseNumber("80", "IOP", 1, 80).value).toBe(80);
+    expect(parseNumber("80.01", "IOP", 1, 80).error).toMatch(/outside 1 to 80/);
+    expect(parseNumber("0.99", "IOP", 1, 80).error).toMatch(/outside 1 to 80/);
+    expect(parseNumber("4.00", "Add", 0.25, 4, { step: 0.25 }).value).toBe(4);
+    expect(parseNumber("+0.75", "Add", 0.25, 4, { step: 0.25 }).value).toBe(0.75);
+    expect(parseNumber("   ", "Add", 0.25, 4)).toEqual({ value: null });
+    expect(parseNumber(undefined, "Add", 0.25, 4)).toEqual({ value: null });
+    for (const t of ["1.", "-0"]) expect(parseNumber(t, "x", -1, 1).error, t).toBeUndefined();
+    for (const t of ["--1", "1..2", "1.2.3", "٣", "１２"])
+      expect(parseNumber(t, "x", -100, 100).error, t).toMatch(/is not a number/);
+  });
+
+  it("parseRxText reads sphere, cylinder and axis and names the field in its refusal", () => {
+    expect(parseRxText("-2.25 -0.75 x 175", "R").value).toMatchObject({ sphere: -2.25, cylinder: -0.75, axis: 175 });
+    expect(parseRxText("", "R")).toEqual({ value: null });
+    for (const t of ["0x10 DS", "1e1 DS", "-2.25 -0.75 x 0x1F", "banana"]) {
+      const r = parseRxText(t, "Right final");
+      expect(r.value, t).toBeNull();
+      expect(r.error, t).toMatch(/^Right final: /);
+    }
+  });
+
+  it("parseRefractionEye keeps a full row, leaves a blank row out and refuses prism without base or base without prism", () => {
+    const full = parseRefractionEye(
+      {
+        left_rx: "+1.50 -0.50 x 90",
+        left_add: "2.00",
+        left_prism: "1.5",
+        left_base: "in",
+        left_vertex: "12",
+        left_va: "6/6",
+      },
+      "left",
+      "Final",
+      "metric",
+    );
+    expect(full.ok).toBe(true);
+    if (full.ok)
+      expect(full.value).toMatchObject({
+        rawText: "+1.50 -0.50 x 90",
+        addPower: 2,
+        prismDioptres: 1.5,
+        prismBase: "in",
+        vertexMm: 12,
+        va: { logMar: 0 },
+      });
+    expect(parseRefractionEye({}, "left", "Final")).toEqual({ ok: true, value: null });
+    const noBase = parseRefractionEye({ right_rx: "-1.00 DS", right_prism: "2" }, "right", "Final");
+    expect(noBase.ok).toBe(false);
+    if (!noBase.ok) expect(noBase.errors.right_base![0]).toMatch(/base direction/);
+    const noPrism = parseRefractionEye({ right_rx: "-1.00 DS", right_base: "up" }, "right", "Final");
+    if (!noPrism.ok) expect(noPrism.errors.right_prism![0]).toMatch(/give the prism/);
+    else expect.unreachable("a base without a prism was accepted");
+    const badBase = parseRefractionEye(
+      { right_rx: "-1.00 DS", right_prism: "1", right_base: "sideways" },
+      "right",
+      "Final",
+    );
+    if (!badBase.ok) expect(badBase.errors.right_base![0]).toMatch(/up, down, in or out/);
+    else expect.unreachable("an unknown base was accepted");
+    // An add only (no sphere typed) is refused with a request for the sphere.
+    const addOnly = parseRefractionEye({ right_add: "2.00" }, "right", "Final");
+    if (!addOnly.ok) expect(addOnly.errors.right_rx![0]).toMatch(/type the sphere/);
+    else expect.unreachable("an add without a prescription was accepted");
+    // Impossible or ill-formed numbers in the other fields.
+    for (const [field, value] of [
+      ["right_add", "4.25"],
+      ["right_add", "1.10"],
+      ["right_add", "0x2"],
+      ["right_prism", "1e1"],
+      ["right_vertex", "26"],
+      ["right_vertex", "12.2"],
+    ] as const) {
+      const r = parseRefractionEye(
+        { right_rx: "-1.00 DS", [field]: value, ...(field === "right_prism" ? { right_base: "up" } : {}) },
+        "right",
+        "Final",
+      );
+      expect(r.ok, `${field}=${value}`).toBe(false);
+      if (!r.ok) expect(r.errors[field], `${field}=${value}`).toHaveLength(1);
+    }
+  });
+
+  it("parseDiagnoses refuses a code that is not on the list and an eye that is not right, left or both", () => {
+    const code = DIAGNOSES[0]!.code;
+    const unknown = parseDiagnoses({ dx_NOT_A_CODE: "right" });
+    expect(unknown.ok).toBe(false);
+    if (!unknown.ok) expect(unknown.errors.dx_NOT_A_CODE![0]).toMatch(/not on the list/);
+    expect(parseDiagnoses({ [`dx_${code}`]: "middle" }).ok).toBe(false);
+    expect(parseDiagnoses({ [`dx_${code}`]: "  " })).toEqual({ ok: true, value: [] });
+  });
+
+  it("parseDilations refuses malformed and non-existent times and drops put in more than a day before the exam", () => {
+    const ctx = {
+      now: new Date("2026-03-29T12:00:00Z"),
+      examinedAt: new Date("2026-03-29T11:00:00Z"),
+      timeZone: "Europe/London",
+    };
+    const row = (at: string) => ({ dil1_drug: "tropicamide", dil1_strength: "1", dil1_eye: "both", dil1_at: at });
+    expect(parseDilations(row("2026-03-29T11:30"), ctx).ok).toBe(true);
+    const errorOf = (at: string) => {
+      const r = parseDilations(row(at), ctx);
+      return r.ok ? null : r.errors.dil1_at![0];
+    };
+    expect(errorOf("2026-03-29 11:30")).toMatch(/24-hour time/);
+    expect(errorOf("2026-03-29T24:00")).toMatch(/24-hour time/);
+    // 01:30 on the last Sunday of March does not exist in London: clocks go from 01:00 GMT to 02:00 BST (common practice).
+    expect(errorOf("2026-03-29T01:30")).toMatch(/does not exist/);
+    expect(errorOf("2026-03-27T09:00")).toMatch(/more than a day before/);
+    const strength = parseDilations({ ...row("2026-03-29T11:30"), dil1_strength: "0x1" }, ctx);
+    if (!strength.ok) expect(strength.errors.dil1_strength![0]).toMatch(/is not a number/);
+    else expect.unreachable("a hex strength was accepted");
+    expect(parseDilations({ ...row("2026-03-29T11:30"), dil1_strength: "12" }, ctx).ok).toBe(false);
   });
 });
