@@ -49,7 +49,8 @@ export default defineConfig({
           expect: { poll: { timeout: 10_000 } },
           maxWorkers: e2eWorkers,
           sequence: { groupOrder: 1 },
-          testTimeout: 60_000,
+          // Two browsers, two app servers and their workers share two cores: long flows need room.
+          testTimeout: 120_000,
           hookTimeout: 600_000,
         },
       },
