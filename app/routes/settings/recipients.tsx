@@ -1,12 +1,14 @@
 import { getFormProps, getInputProps, getSelectProps, getTextareaProps, useForm } from "@conform-to/react";
+import { createColumnHelper } from "@tanstack/react-table";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { asc, desc, eq } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/recipients";
 import { ErrorList, Field, SelectField } from "~/components/forms";
-import { PageHeader } from "~/components/page-header";
-import { Button, buttonClass } from "~/components/ui/button";
+import { DataTable } from "~/components/data-table";
+import { EditLink, RowIntentButton, SettingsPage } from "~/components/settings-page";
+import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Textarea } from "~/components/ui/input";
 import { Notice, StatusBadge } from "~/components/ui/notice";
@@ -374,88 +376,78 @@ function TimeFrames({
   );
 }
 
+type Recipient = Awaited<ReturnType<typeof loader>>["recipients"][number];
+const col = createColumnHelper<Recipient>();
+const recipientColumns = [
+  col.accessor("name", { header: "Name", meta: { className: "font-semibold" } }),
+  col.accessor("clinic", {
+    header: "Clinic and specialty",
+    cell: ({ row: { original: r } }) => (
+      <>
+        {r.clinic || "—"}
+        {r.specialty ? <span className="block text-muted">{r.specialty}</span> : null}
+      </>
+    ),
+  }),
+  col.accessor("email", {
+    header: "Contact",
+    cell: ({ row: { original: r } }) => (
+      <>
+        {r.email ?? "No e-mail"}
+        {r.phone ? <span className="block text-muted">{r.phone}</span> : null}
+      </>
+    ),
+  }),
+  col.accessor("preferredDelivery", { header: "Receives by", cell: (c) => DELIVERY[c.getValue()].split(" (")[0] }),
+  col.accessor("active", {
+    header: "Status",
+    cell: (c) =>
+      c.getValue() ? <StatusBadge tone="success">In use</StatusBadge> : <StatusBadge tone="info">Hidden</StatusBadge>,
+  }),
+  col.display({
+    id: "actions",
+    header: () => <span className="sr-only">Actions</span>,
+    cell: ({ row: { original: r } }) => (
+      <div className="flex flex-wrap gap-2">
+        <EditLink id={r.id} what={r.name} />
+        <RowIntentButton
+          id={r.id}
+          intent={r.active ? "deactivate" : "reactivate"}
+          label={r.active ? "Hide" : "Use again"}
+          what={r.name}
+          variant={r.active ? "ghost" : "secondary"}
+        />
+      </div>
+    ),
+  }),
+];
+
 export default function Recipients({ loaderData, actionData }: Route.ComponentProps) {
   const ad = actionData as { intent?: string; result?: unknown } | undefined;
   return (
-    <>
-      <PageHeader
-        title="Referral recipients"
-        description="The ophthalmologists and clinics your optometrists refer to. Letters go to the e-mail address given here."
+    <SettingsPage
+      title="Referral recipients"
+      description="The ophthalmologists and clinics your optometrists refer to. Letters go to the e-mail address given here."
+      list={{
+        title: "Directory",
+        content: (
+          <DataTable
+            data={loaderData.recipients}
+            columns={recipientColumns}
+            getRowId={(r) => r.id}
+            caption="Referral recipients"
+            empty="No recipients yet. Add the first one below."
+          />
+        ),
+      }}
+    >
+      <RecipientForm
+        key={loaderData.editing?.id ?? "new"}
+        editing={loaderData.editing}
+        lastResult={ad?.intent === "save" ? ad.result : null}
       />
-      <Card title="Directory" className="mb-6">
-        {loaderData.recipients.length === 0 ? (
-          <p className="text-muted">No recipients yet. Add the first one below.</p>
-        ) : (
-          <div className="overflow-x-auto">
-            <table className="w-full text-left text-sm">
-              <thead className="border-b border-line text-muted">
-                <tr>
-                  <th className="py-2 pr-4 font-semibold">Name</th>
-                  <th className="py-2 pr-4 font-semibold">Clinic and specialty</th>
-                  <th className="py-2 pr-4 font-semibold">Contact</th>
-                  <th className="py-2 pr-4 font-semibold">Receives by</th>
-                  <th className="py-2 pr-4 font-semibold">Status</th>
-                  <th className="py-2 font-semibold">
-                    <span className="sr-only">Actions</span>
-                  </th>
-                </tr>
-              </thead>
-              <tbody className="divide-y divide-line">
-                {loaderData.recipients.map((r) => (
-                  <tr key={r.id}>
-                    <td className="py-3 pr-4 font-semibold">{r.name}</td>
-                    <td className="py-3 pr-4">
-                      {r.clinic || "—"}
-                      {r.specialty ? <span className="block text-muted">{r.specialty}</span> : null}
-                    </td>
-                    <td className="py-3 pr-4">
-                      {r.email ?? "No e-mail"}
-                      {r.phone ? <span className="block text-muted">{r.phone}</span> : null}
-                    </td>
-                    <td className="py-3 pr-4">{DELIVERY[r.preferredDelivery].split(" (")[0]}</td>
-                    <td className="py-3 pr-4">
-                      {r.active ? (
-                        <StatusBadge tone="success">In use</StatusBadge>
-                      ) : (
-                        <StatusBadge tone="info">Hidden</StatusBadge>
-                      )}
-                    </td>
-                    <td className="py-3">
-                      <div className="flex flex-wrap gap-2">
-                        <Link to={`?edit=${r.id}`} className={buttonClass("secondary", "px-3 py-1")}>
-                          Edit<span className="sr-only"> {r.name}</span>
-                        </Link>
-                        <Form method="post">
-                          <input type="hidden" name="id" value={r.id} />
-                          <Button
-                            type="submit"
-                            name="intent"
-                            value={r.active ? "deactivate" : "reactivate"}
-                            variant={r.active ? "ghost" : "secondary"}
-                            className="px-3 py-1"
-                          >
-                            {r.active ? "Hide" : "Use again"}
-                            <span className="sr-only"> {r.name}</span>
-                          </Button>
-                        </Form>
-                      </div>
-                    </td>
-                  </tr>
-                ))}
-              </tbody>
-            </table>
-          </div>
-        )}
-      </Card>
-      <div className="space-y-6">
-        <RecipientForm
-          key={loaderData.editing?.id ?? "new"}
-          editing={loaderData.editing}
-          lastResult={ad?.intent === "save" ? ad.result : null}
-        />
-        <TimeFrames values={loaderData.timeFrames} lastResult={ad?.intent === "timeframes" ? ad.result : null} />
-      </div>
-    </>
+      <TimeFrames values={loaderData.timeFrames} lastResult={ad?.intent === "timeframes" ? ad.result : null} />
+    </SettingsPage>
   );
 }
 
