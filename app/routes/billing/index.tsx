@@ -10,7 +10,7 @@ import { buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { invoices, invoiceStatusEnum, patients, practiceSettings } from "~/db/schema";
-import { formatMoney } from "~/lib/money";
+import { formatDate, formatMoney } from "~/lib/format";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { BILLING_ROLES, invoiceLabel } from "~/models/billing/invoices.server";
@@ -63,7 +63,6 @@ export async function loader({ request }: Route.LoaderArgs) {
     db.select({ timeZone: practiceSettings.timeZone }).from(practiceSettings).where(eq(practiceSettings.id, 1)),
   ]);
   const tz = settings?.timeZone ?? "Europe/London";
-  const fmt = new Intl.DateTimeFormat("en-GB", { timeZone: tz, day: "numeric", month: "short", year: "numeric" });
   return {
     filter: f,
     total,
@@ -72,7 +71,7 @@ export async function loader({ request }: Route.LoaderArgs) {
       label: invoiceLabel(r.number),
       status: r.status,
       patient: r.patient,
-      date: fmt.format(r.issuedAt ?? r.createdAt),
+      date: formatDate(r.issuedAt ?? r.createdAt, { timeZone: tz }),
       total: formatMoney(r.totalMinor, r.currency),
       due: formatMoney(r.totalMinor - r.paidMinor, r.currency),
     })),

@@ -1,3 +1,4 @@
+import { formatMoney } from "~/lib/format";
 import { createColumnHelper } from "@tanstack/react-table";
 import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
@@ -143,10 +144,6 @@ export async function action({ request }: Route.ActionArgs) {
   return redirectWithToast("/settings/appointment-types", { kind: "success", title: `${v.name} saved` });
 }
 
-function money(minor: number, currency: string) {
-  return new Intl.NumberFormat("en-GB", { style: "currency", currency }).format(minor / 100);
-}
-
 type Type = Awaited<ReturnType<typeof loader>>["types"][number];
 const col = createColumnHelper<Type>();
 
@@ -179,7 +176,7 @@ export default function AppointmentTypes({ loaderData, actionData }: Route.Compo
   });
   const feeName = (id: string | null) => {
     const f = fees.find((x) => x.id === id);
-    return f ? `${f.code} · ${f.description} (${money(f.priceMinor, currency)})` : "None";
+    return f ? `${f.code} · ${f.description} (${formatMoney(f.priceMinor, currency)})` : "None";
   };
   const columns = [
     col.accessor("name", { header: "Name", meta: { className: "font-semibold" } }),
@@ -261,7 +258,7 @@ export default function AppointmentTypes({ loaderData, actionData }: Route.Compo
             <option value="">None</option>
             {fees.map((f) => (
               <option key={f.id} value={f.id}>
-                {f.code} · {f.description} ({money(f.priceMinor, currency)})
+                {f.code} · {f.description} ({formatMoney(f.priceMinor, currency)})
               </option>
             ))}
           </SelectField>

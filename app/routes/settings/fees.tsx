@@ -12,12 +12,14 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { feeItems, practiceSettings } from "~/db/schema";
-import { formatMoney, formatRate, minorToDecimal, parseMoney } from "~/lib/money";
+import { formatMoney } from "~/lib/format";
+import { formatRate, minorToDecimal, parseMoney } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { decimalField } from "~/utils/number-field";
+import { notFound } from "~/utils/failure.server";
 
 const feeSchema = z.object({
   intent: z.literal("save"),
@@ -111,7 +113,7 @@ export async function action({ request }: Route.ActionArgs) {
     await db.transaction(async (tx) => {
       if (v.id) {
         const done = await tx.update(feeItems).set(values).where(eq(feeItems.id, v.id)).returning({ id: feeItems.id });
-        if (!done.length) throw data({ error: "There is no such fee." }, { status: 404 });
+        if (!done.length) notFound("There is no such fee.");
       } else await tx.insert(feeItems).values(values);
       await audit(
         {
@@ -133,7 +135,7 @@ export async function action({ request }: Route.ActionArgs) {
       .set({ active: v.intent === "restore" })
       .where(eq(feeItems.id, v.id))
       .returning({ code: feeItems.code });
-    if (!done.length) throw data({ error: "There is no such fee." }, { status: 404 });
+    if (!done.length) notFound("There is no such fee.");
     await audit(
       {
         action: `billing.fee_${v.intent === "restore" ? "restored" : "withdrawn"}`,
