@@ -1,6 +1,6 @@
 import { useEffect, useId, useRef, useState } from "react";
 import { useFetcher, useNavigate } from "react-router";
-import { formatDate } from "~/models/patients/patient-schema";
+import { formatDate } from "~/lib/format";
 import { Icon } from "./ui/icon";
 
 type Hit = {

@@ -9,12 +9,13 @@ import { data } from "react-router";
 
 export type FailureStatus = 400 | 403 | 404 | 409 | 413 | 415 | 422 | 429 | 502 | 503;
 export type FieldErrors = Record<string, string[]>;
+export type DomainErrorOptions = { status?: FailureStatus; field?: string; fieldErrors?: FieldErrors };
 
 export class DomainError extends Error {
   readonly status: FailureStatus;
   readonly fieldErrors: FieldErrors;
 
-  constructor(message: string, options: { status?: FailureStatus; field?: string; fieldErrors?: FieldErrors } = {}) {
+  constructor(message: string, options: DomainErrorOptions = {}) {
     super(message);
     this.name = new.target.name;
     this.status = options.status ?? 400;

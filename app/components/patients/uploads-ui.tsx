@@ -3,7 +3,7 @@ import { useRevalidator } from "react-router";
 import { Button } from "~/components/ui/button";
 import { Icon } from "~/components/ui/icon";
 import { Notice } from "~/components/ui/notice";
-import { formatDate } from "~/models/patients/patient-schema";
+import { formatDate } from "~/lib/format";
 
 type Doc = {
   id: string;

@@ -103,17 +103,6 @@ export function computeTotals(lines: LineInput[], discount: Discount, taxRateBp:
   return { lines: out, subtotalMinor, discountMinor, taxMinor, totalMinor: subtotalMinor - discountMinor + taxMinor };
 }
 
-/** "£12.50" in the practice's currency. */
-export function formatMoney(minor: number, currency: string, locale = "en-GB"): string {
-  const digits = minorUnitDigits(currency);
-  return new Intl.NumberFormat(locale, {
-    style: "currency",
-    currency,
-    minimumFractionDigits: digits,
-    maximumFractionDigits: digits,
-  }).format(minor / 10 ** digits);
-}
-
 /** Plain decimal for CSV and form fields: 1250 → "12.50". */
 export function minorToDecimal(minor: number, currency: string): string {
   const digits = minorUnitDigits(currency);

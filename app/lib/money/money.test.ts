@@ -1,6 +1,7 @@
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { allocate, computeTotals, formatMoney, minorToDecimal, mulDivRound, parseMoney } from "./index";
+import { formatMoney } from "~/lib/format";
+import { allocate, computeTotals, minorToDecimal, mulDivRound, parseMoney } from "./index";
 
 describe("rounding", () => {
   it("rounds halves away from zero, in integers", () => {

@@ -15,7 +15,7 @@
 import { createHmac, timingSafeEqual } from "node:crypto";
 import { and, eq, sql } from "drizzle-orm";
 import { invoices, patients, payments, stripeEvents } from "~/db/schema";
-import { formatMoney } from "~/lib/money";
+import { formatMoney } from "~/lib/format";
 import { audit } from "~/utils/audit.server";
 import { db, type Tx } from "~/utils/db.server";
 import { env } from "~/utils/env.server";
@@ -87,11 +87,11 @@ export async function startCheckout(invoiceId: string, returnPath: string): Prom
         .innerJoin(patients, eq(patients.id, invoices.patientId))
         .where(eq(invoices.id, invoiceId))
         .for("update", { of: invoices });
-      if (!inv) throw new BillingError("There is no such invoice.", 404);
+      if (!inv) throw new BillingError("There is no such invoice.", { status: 404 });
       const i = inv.invoice;
-      if (i.status === "paid") throw new BillingError("This invoice is already paid. Thank you.", 409);
+      if (i.status === "paid") throw new BillingError("This invoice is already paid. Thank you.", { status: 409 });
       if (i.status !== "open" && i.status !== "partially_paid")
-        throw new BillingError("This invoice cannot be paid online. Please contact the practice.", 409);
+        throw new BillingError("This invoice cannot be paid online. Please contact the practice.", { status: 409 });
       const due = i.totalMinor - i.paidMinor;
       const [pending] = await tx
         .select()
@@ -138,7 +138,7 @@ export async function startCheckout(invoiceId: string, returnPath: string): Prom
         },
         { idempotencyKey: `checkout-${p!.id}` },
       );
-      if (!session.url) throw new BillingError("Stripe did not return a checkout page.", 502);
+      if (!session.url) throw new BillingError("Stripe did not return a checkout page.", { status: 502 });
       await tx
         .update(payments)
         .set({
@@ -164,12 +164,12 @@ export async function startCheckout(invoiceId: string, returnPath: string): Prom
     if (isStripeUnreachable(error))
       throw new BillingError(
         "Card payments are not available right now: the payment service could not be reached. Nothing has been charged. Please try again in a few minutes, or pay at the practice.",
-        503,
+        { status: 503 },
       );
     if (error instanceof Stripe.errors.StripeError) {
       throw new BillingError(
         `The payment service refused to start the payment (${error.message}). Nothing has been charged.`,
-        502,
+        { status: 502 },
       );
     }
     throw error;

@@ -5,7 +5,8 @@
  */
 import { eq } from "drizzle-orm";
 import { invoices, payments, sites } from "~/db/schema";
-import { formatMoney, formatRate } from "~/lib/money";
+import { formatDate, formatMoney } from "~/lib/format";
+import { formatRate } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 import { sendMail } from "~/utils/mail.server";
@@ -15,16 +16,6 @@ import { payLinkUrl, signPayLink, PAY_LINK_TTL_MS } from "./checkout.server";
 import { BillingError, invoiceDetail, invoiceLabel, practiceBilling } from "./invoices.server";
 
 export const METHOD_LABEL = { cash: "Cash", card_desk: "Card at the desk", card_online: "Card online" } as const;
-
-export function formatDate(d: Date, timeZone: string, withTime = false) {
-  return new Intl.DateTimeFormat("en-GB", {
-    timeZone,
-    day: "numeric",
-    month: "long",
-    year: "numeric",
-    ...(withTime ? { hour: "2-digit", minute: "2-digit" } : {}),
-  }).format(d);
-}
 
 type Detail = NonNullable<Awaited<ReturnType<typeof invoiceDetail>>>;
 
@@ -51,7 +42,8 @@ export async function billingPdf(d: Detail, kind: "invoice" | "receipt", payment
   const cur = d.invoice.currency;
   const label = invoiceLabel(d.invoice.number);
   const payment = kind === "receipt" ? d.payments.find((x) => x.id === paymentId) : undefined;
-  if (kind === "receipt" && !payment) throw new BillingError("There is no such payment on this invoice.", 404);
+  if (kind === "receipt" && !payment)
+    throw new BillingError("There is no such payment on this invoice.", { status: 404 });
   // The letterhead is the issuing site's: its name, address and phone.
   const site = await invoiceSiteOf(d);
   const letterhead = {
@@ -77,7 +69,7 @@ export async function billingPdf(d: Detail, kind: "invoice" | "receipt", payment
   pdf.keyValues([
     ["Billed to", [patientName, patientAddress].filter(Boolean).join("\n")],
     ["Invoice number", label],
-    ["Issued", d.invoice.issuedAt ? formatDate(d.invoice.issuedAt, tz) : "not yet issued"],
+    ["Issued", d.invoice.issuedAt ? formatDate(d.invoice.issuedAt, { timeZone: tz, style: "long" }) : "not yet issued"],
     ["Status", STATUS_WORD[d.invoice.status]],
   ]);
 
@@ -121,7 +113,7 @@ export async function billingPdf(d: Detail, kind: "invoice" | "receipt", payment
     const rows: [string, string][] = [
       ["Amount", formatMoney(p.amountMinor, cur)],
       ["Method", METHOD_LABEL[p.method]],
-      ["Received", p.receivedAt ? formatDate(p.receivedAt, tz, true) : "—"],
+      ["Received", p.receivedAt ? formatDate(p.receivedAt, { timeZone: tz, style: "long", time: true }) : "—"],
       ["For invoice", `${label} (total ${formatMoney(d.invoice.totalMinor, cur)})`],
       ["Still due on the invoice", formatMoney(d.invoice.totalMinor - d.invoice.paidMinor, cur)],
     ];
@@ -148,11 +140,11 @@ export const STATUS_WORD = {
 /** E-mails the invoice PDF and a signed, expiring pay-by-link to the patient. */
 export async function emailInvoice(invoiceId: string, actorUserId: string, request?: Request) {
   const d = await invoiceDetail(invoiceId);
-  if (!d) throw new BillingError("There is no such invoice.", 404);
+  if (!d) throw new BillingError("There is no such invoice.", { status: 404 });
   if (d.invoice.status !== "open" && d.invoice.status !== "partially_paid")
-    throw new BillingError("Only an issued invoice with money due can be e-mailed for payment.", 409);
+    throw new BillingError("Only an issued invoice with money due can be e-mailed for payment.", { status: 409 });
   if (!d.patient.email)
-    throw new BillingError("This patient has no e-mail address. Add one to their record first.", 400);
+    throw new BillingError("This patient has no e-mail address. Add one to their record first.", { status: 400 });
   const practice = await practiceBilling();
   const token = signPayLink(invoiceId);
   const link = payLinkUrl(token);
@@ -196,9 +188,9 @@ export async function emailReceipt(paymentId: string, actorUserId: string | null
     .select({ invoiceId: payments.invoiceId, status: payments.status })
     .from(payments)
     .where(eq(payments.id, paymentId));
-  if (!p || p.status !== "succeeded") throw new BillingError("Only a received payment has a receipt.", 409);
+  if (!p || p.status !== "succeeded") throw new BillingError("Only a received payment has a receipt.", { status: 409 });
   const d = await invoiceDetail(p.invoiceId);
-  if (!d) throw new BillingError("There is no such invoice.", 404);
+  if (!d) throw new BillingError("There is no such invoice.", { status: 404 });
   if (!d.patient.email) return null;
   const pay = d.payments.find((x) => x.id === paymentId)!;
   const practice = await practiceBilling();

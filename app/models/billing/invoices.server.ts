@@ -5,7 +5,6 @@
  * the server by app/lib/money.
  */
 import { and, asc, eq, inArray, sql } from "drizzle-orm";
-import { data } from "react-router";
 import {
   exams,
   feeItems,
@@ -19,21 +18,20 @@ import {
   type PaymentMethod,
 } from "~/db/schema";
 import { appointments, appointmentTypes } from "~/db/schema";
-import { computeTotals, formatMoney, type Discount } from "~/lib/money";
+import { formatMoney } from "~/lib/format";
+import { computeTotals, type Discount } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
 import { db, type Tx } from "~/utils/db.server";
 import { isStripeUnreachable, stripe } from "~/utils/payments.server";
+import { DomainError, type DomainErrorOptions, notFound } from "~/utils/failure.server";
 
 export const BILLING_ROLES = ["owner", "receptionist"] as const;
 
 /** A refusal with a message meant for the person; `field` names the form field it belongs to. */
-export class BillingError extends Error {
-  constructor(
-    message: string,
-    readonly status: 400 | 404 | 409 | 502 | 503 = 409,
-    readonly field?: string,
-  ) {
-    super(message);
+/** A refused billing rule; 409 unless said otherwise. */
+export class BillingError extends DomainError {
+  constructor(message: string, options: DomainErrorOptions = {}) {
+    super(message, { status: 409, ...options });
   }
 }
 
@@ -57,7 +55,7 @@ export function discountOf(inv: { discountKind: "none" | "percent" | "amount"; d
 
 async function lockInvoice(tx: Tx, invoiceId: string) {
   const [inv] = await tx.select().from(invoices).where(eq(invoices.id, invoiceId)).for("update");
-  if (!inv) throw new BillingError("There is no such invoice.", 404);
+  if (!inv) throw new BillingError("There is no such invoice.", { status: 404 });
   return inv;
 }
 
@@ -114,7 +112,10 @@ async function insertLines(tx: Tx, invoiceId: string, lines: NewLine[]) {
     if ("feeItemId" in l) {
       const fee = fees.find((f) => f.id === l.feeItemId);
       if (!fee || !fee.active)
-        throw new BillingError("That fee is not in the fee schedule (or has been withdrawn).", 400, "feeItemId");
+        throw new BillingError("That fee is not in the fee schedule (or has been withdrawn).", {
+          status: 400,
+          field: "feeItemId",
+        });
       await tx.insert(invoiceLines).values({
         invoiceId,
         feeItemId: fee.id,
@@ -176,11 +177,11 @@ export async function createInvoice(input: {
 }) {
   return db.transaction(async (tx) => {
     const [patient] = await tx.select({ id: patients.id }).from(patients).where(eq(patients.id, input.patientId));
-    if (!patient) throw new BillingError("Choose a patient.", 400, "patientId");
+    if (!patient) throw new BillingError("Choose a patient.", { status: 400, field: "patientId" });
     if (input.examId) {
       const [exam] = await tx.select({ patientId: exams.patientId }).from(exams).where(eq(exams.id, input.examId));
       if (!exam || exam.patientId !== input.patientId)
-        throw new BillingError("That exam does not belong to this patient.", 400, "examId");
+        throw new BillingError("That exam does not belong to this patient.", { status: 400, field: "examId" });
       // One live invoice per exam: lock the exam row so two clicks cannot raise two.
       await tx.select({ id: exams.id }).from(exams).where(eq(exams.id, input.examId)).for("update");
       const [dup] = await tx
@@ -188,9 +189,9 @@ export async function createInvoice(input: {
         .from(invoices)
         .where(and(eq(invoices.examId, input.examId), sql`${invoices.status} <> 'void'`))
         .limit(1);
-      if (dup) throw new BillingError("This exam already has an invoice.", 409);
+      if (dup) throw new BillingError("This exam already has an invoice.", { status: 409 });
     }
-    if (!input.lines.length) throw new BillingError("Add at least one line.", 400, "lines");
+    if (!input.lines.length) throw new BillingError("Add at least one line.", { status: 400, field: "lines" });
     const settings = await practiceBilling(tx);
     const [inv] = await tx
       .insert(invoices)
@@ -232,7 +233,7 @@ async function editDraft(
   return db.transaction(async (tx) => {
     const inv = await lockInvoice(tx, invoiceId);
     if (inv.status !== "draft")
-      throw new BillingError("Only a draft can be changed. Void this invoice and raise a new one.", 409);
+      throw new BillingError("Only a draft can be changed. Void this invoice and raise a new one.", { status: 409 });
     await fn(tx);
     const totals = await recompute(tx, invoiceId);
     await audit(
@@ -264,7 +265,7 @@ export const removeLine = (invoiceId: string, lineId: string, actorUserId: strin
         .delete(invoiceLines)
         .where(and(eq(invoiceLines.id, lineId), eq(invoiceLines.invoiceId, invoiceId)))
         .returning({ id: invoiceLines.id });
-      if (!gone.length) throw new BillingError("That line is not on this invoice.", 404);
+      if (!gone.length) throw new BillingError("That line is not on this invoice.", { status: 404 });
     },
     request,
   );
@@ -290,7 +291,7 @@ export async function deleteDraft(invoiceId: string, actorUserId: string, reques
   await db.transaction(async (tx) => {
     const inv = await lockInvoice(tx, invoiceId);
     if (inv.status !== "draft")
-      throw new BillingError("Only a draft can be discarded; an issued invoice is voided instead.", 409);
+      throw new BillingError("Only a draft can be discarded; an issued invoice is voided instead.", { status: 409 });
     await tx.delete(invoices).where(eq(invoices.id, invoiceId));
     await audit(
       {
@@ -315,13 +316,13 @@ export async function issueInvoice(invoiceId: string, actorUserId: string, reque
   return db.transaction(async (tx) => {
     const inv = await lockInvoice(tx, invoiceId);
     if (inv.status !== "draft")
-      throw new BillingError(`This invoice is already issued as ${invoiceLabel(inv.number)}.`, 409);
+      throw new BillingError(`This invoice is already issued as ${invoiceLabel(inv.number)}.`, { status: 409 });
     const totals = await recompute(tx, invoiceId);
-    if (!totals.lines.length) throw new BillingError("Add at least one line before issuing.", 400);
+    if (!totals.lines.length) throw new BillingError("Add at least one line before issuing.", { status: 400 });
     if (totals.totalMinor <= 0)
       throw new BillingError(
         "The total is nothing; a zero invoice is not issued. Remove the discount or discard the draft.",
-        400,
+        { status: 400 },
       );
     const [counter] = await tx
       .insert(invoiceCounters)
@@ -355,20 +356,19 @@ export async function issueInvoice(invoiceId: string, actorUserId: string, reque
 export async function voidInvoice(invoiceId: string, reason: string, actorUserId: string, request?: Request) {
   await db.transaction(async (tx) => {
     const inv = await lockInvoice(tx, invoiceId);
-    if (inv.status === "draft") throw new BillingError("A draft is discarded, not voided.", 409);
-    if (inv.status === "void") throw new BillingError("This invoice is already void.", 409);
+    if (inv.status === "draft") throw new BillingError("A draft is discarded, not voided.", { status: 409 });
+    if (inv.status === "void") throw new BillingError("This invoice is already void.", { status: 409 });
     if (inv.paidMinor > 0)
-      throw new BillingError("This invoice has payments on it. Refund them first, then void it.", 409);
+      throw new BillingError("This invoice has payments on it. Refund them first, then void it.", { status: 409 });
     const [pending] = await tx
       .select({ id: payments.id })
       .from(payments)
       .where(and(eq(payments.invoiceId, invoiceId), eq(payments.status, "pending")))
       .limit(1);
     if (pending)
-      throw new BillingError(
-        "An online payment for this invoice is in progress. Wait for it to finish or expire.",
-        409,
-      );
+      throw new BillingError("An online payment for this invoice is in progress. Wait for it to finish or expire.", {
+        status: 409,
+      });
     await tx
       .update(invoices)
       .set({ status: "void", voidedAt: new Date(), voidReason: reason, updatedAt: new Date() })
@@ -425,12 +425,15 @@ export async function recordDeskPayment(input: {
           : inv.status === "draft"
             ? "Issue the invoice before taking payment."
             : "This invoice is void.",
-        409,
+        { status: 409 },
       );
     }
     const due = inv.totalMinor - inv.paidMinor;
     if (input.amountMinor > due)
-      throw new BillingError(`That is more than the amount due (${formatMoney(due, inv.currency)}).`, 400, "amount");
+      throw new BillingError(`That is more than the amount due (${formatMoney(due, inv.currency)}).`, {
+        status: 400,
+        field: "amount",
+      });
     const [pending] = await tx
       .select({ id: payments.id })
       .from(payments)
@@ -487,7 +490,9 @@ export async function closePendingCheckout(tx: Tx, paymentId: string, problem: s
           .checkout.sessions.retrieve(p.stripeCheckoutSessionId)
           .catch(() => null);
         if (session && session.status === "complete")
-          throw new BillingError("An online payment for this invoice has just gone through; refresh to see it.", 409);
+          throw new BillingError("An online payment for this invoice has just gone through; refresh to see it.", {
+            status: 409,
+          });
       }
     }
   }
@@ -507,19 +512,19 @@ export async function refundPayment(input: {
 }) {
   return db.transaction(async (tx) => {
     const [p] = await tx.select().from(payments).where(eq(payments.id, input.paymentId)).for("update");
-    if (!p) throw new BillingError("There is no such payment.", 404);
-    if (p.status !== "succeeded") throw new BillingError("Only a received payment can be refunded.", 409);
+    if (!p) throw new BillingError("There is no such payment.", { status: 404 });
+    if (p.status !== "succeeded") throw new BillingError("Only a received payment can be refunded.", { status: 409 });
     const inv = await lockInvoice(tx, p.invoiceId);
     const left = p.amountMinor - p.refundedMinor;
     if (input.amountMinor > left)
-      throw new BillingError(
-        `At most ${formatMoney(left, p.currency)} of this payment can still be refunded.`,
-        400,
-        "amount",
-      );
+      throw new BillingError(`At most ${formatMoney(left, p.currency)} of this payment can still be refunded.`, {
+        status: 400,
+        field: "amount",
+      });
     let stripeRefundId: string | null = null;
     if (p.method === "card_online") {
-      if (!p.stripePaymentIntentId) throw new BillingError("This online payment has no Stripe payment to refund.", 409);
+      if (!p.stripePaymentIntentId)
+        throw new BillingError("This online payment has no Stripe payment to refund.", { status: 409 });
       try {
         const r = await stripe().refunds.create(
           {
@@ -532,11 +537,10 @@ export async function refundPayment(input: {
         stripeRefundId = r.id;
       } catch (error) {
         if (isStripeUnreachable(error))
-          throw new BillingError(
-            "Stripe could not be reached, so nothing was refunded. Try again in a few minutes.",
-            503,
-          );
-        throw new BillingError(`Stripe refused the refund: ${(error as Error).message}`, 502);
+          throw new BillingError("Stripe could not be reached, so nothing was refunded. Try again in a few minutes.", {
+            status: 503,
+          });
+        throw new BillingError(`Stripe refused the refund: ${(error as Error).message}`, { status: 502 });
       }
     }
     const [r] = await tx
@@ -615,7 +619,7 @@ export async function invoiceDetail(invoiceId: string) {
 }
 
 export function throwNotFound(): never {
-  throw data({ error: "There is no such invoice." }, { status: 404 });
+  notFound("There is no such invoice.");
 }
 
 /** An invoice for an exam belongs to the site of the exam's visit; any other to the default site. */

@@ -1,6 +1,7 @@
 import { data } from "react-router";
 import { verifyPayLink } from "~/models/billing/checkout.server";
 import { invoiceDetail } from "~/models/billing/invoices.server";
+import { notFound } from "~/utils/failure.server";
 
 /** The one invoice a pay-link token reveals; 404 for a forged token, 410 for an expired one. */
 export async function invoiceForToken(token: string) {
@@ -17,6 +18,6 @@ export async function invoiceForToken(token: string) {
     );
   }
   const d = await invoiceDetail(check.invoiceId);
-  if (!d || d.invoice.status === "draft") throw data({ error: "This payment link does not work." }, { status: 404 });
+  if (!d || d.invoice.status === "draft") notFound("This payment link does not work.");
   return { detail: d, expiresAt: check.expiresAt };
 }

@@ -21,7 +21,7 @@ import {
 import { checkBlindSpot } from "~/lib/optics";
 import { triage, type Eye, type EyeFindings, type TriageInput, type TriageResult } from "~/lib/referrals";
 import { localParts } from "~/lib/scheduling/time";
-import { ageOn } from "~/models/patients/patient-schema";
+import { ageInYears as ageOn } from "~/lib/format";
 import { db, type Tx } from "~/utils/db.server";
 
 type Conn = Tx | typeof db;

@@ -1,5 +1,5 @@
 import { z } from "zod";
-import { COATINGS, LENS_MATERIALS } from "~/lib/orders/states";
+import { COATINGS, LENS_MATERIALS, ORDER_STATES } from "~/lib/orders/states";
 
 const optionalMm = (label: string) =>
   z.preprocess(
@@ -88,3 +88,40 @@ export const checkSchema = z.object({
   right: eyeReading,
   left: eyeReading,
 });
+
+/** A move of an order from the state it was seen in (`expected`) to the next. */
+export const moveSchema = z.discriminatedUnion("intent", [
+  z.object({ intent: z.literal("send"), expected: z.enum(["draft", "remake"]) }),
+  z.object({ intent: z.literal("received"), expected: z.literal("sent_to_lab") }),
+  z.object({
+    intent: z.literal("ready"),
+    expected: z.enum(["checked", "received"]),
+    overrideReason: z.string().trim().max(500).default(""),
+  }),
+  z.object({
+    intent: z.literal("remake"),
+    expected: z.enum(ORDER_STATES),
+    reason: z
+      .string({ error: "Say why the order is being remade." })
+      .trim()
+      .min(3, "Say why the order is being remade.")
+      .max(500),
+  }),
+  z.object({
+    intent: z.literal("cancel"),
+    expected: z.enum(ORDER_STATES),
+    reason: z
+      .string({ error: "Say why the order is cancelled." })
+      .trim()
+      .min(3, "Say why the order is cancelled.")
+      .max(500),
+  }),
+  z.object({
+    intent: z.literal("collect"),
+    expected: z.literal("ready_to_collect"),
+    method: z.enum(["cash", "card_desk"]).default("card_desk"),
+    amount: z.string().trim().default(""),
+    reference: z.string().trim().max(80).default(""),
+  }),
+  z.object({ intent: z.literal("raise-invoice") }),
+]);

@@ -21,7 +21,7 @@ import {
   users,
 } from "~/db/schema";
 import type { OrderState } from "~/db/schema";
-import { formatMoney } from "~/lib/money";
+import { formatMoney } from "~/lib/format";
 import { checkLensType, orderLabel, STATE_LABEL, type SpectacleLensType } from "~/lib/orders/states";
 import {
   checkMountedPair,
@@ -45,19 +45,17 @@ import { audit } from "~/utils/audit.server";
 import { db, type Tx } from "~/utils/db.server";
 import type { SessionUser } from "~/utils/session.server";
 import { queueOrderMessage, tryOrderMessageNow } from "./order-mail.server";
+import { DomainError, type DomainErrorOptions } from "~/utils/failure.server";
 
 export const ORDER_ROLES = ["owner", "optometrist", "receptionist"] as const;
 /** Who may release spectacles that failed the check (an optician's decision). */
 export const OVERRIDE_ROLES = ["owner", "optometrist"] as const;
 
 /** A refusal meant for the person; `field` names the form field it belongs to. */
-export class OrderError extends Error {
-  constructor(
-    message: string,
-    readonly status: 400 | 403 | 404 | 409 = 409,
-    readonly field?: string,
-  ) {
-    super(message);
+/** A refused order rule; 409 unless said otherwise. */
+export class OrderError extends DomainError {
+  constructor(message: string, options: DomainErrorOptions = {}) {
+    super(message, { status: 409, ...options });
   }
 }
 
@@ -264,26 +262,24 @@ async function checkCommon(
 ) {
   const rx = await prescriptionWithEyes(tx, input.prescriptionId);
   if (!rx || rx.patientId !== input.patientId)
-    throw new OrderError("Choose one of this patient's prescriptions.", 400, "prescriptionId");
+    throw new OrderError("Choose one of this patient's prescriptions.", { status: 400, field: "prescriptionId" });
   if (rx.kind !== kind)
     throw new OrderError(
       kind === "spectacle"
         ? "A spectacle order needs a spectacle prescription."
         : "A contact-lens order needs a contact-lens prescription.",
-      400,
-      "prescriptionId",
+      { status: 400, field: "prescriptionId" },
     );
   if (rx.expiresOn < new Date().toISOString().slice(0, 10))
     throw new OrderError(
       `This prescription expired on ${rx.expiresOn}; the patient needs a new exam before an order is made from it.`,
-      400,
-      "prescriptionId",
+      { status: 400, field: "prescriptionId" },
     );
   const [lab] = await tx.select().from(labs).where(eq(labs.id, input.labId));
-  if (!lab || !lab.active) throw new OrderError("Choose a lab from the list.", 400, "labId");
+  if (!lab || !lab.active) throw new OrderError("Choose a lab from the list.", { status: 400, field: "labId" });
   const [fee] = await tx.select().from(feeItems).where(eq(feeItems.id, input.lensFeeItemId));
   if (!fee || !fee.active || fee.kind !== "item")
-    throw new OrderError("Choose the lens price from the fee schedule.", 400, "lensFeeItemId");
+    throw new OrderError("Choose the lens price from the fee schedule.", { status: 400, field: "lensFeeItemId" });
   return { rx, lab, fee };
 }
 
@@ -353,11 +349,10 @@ export async function createSpectacleOrder(user: SessionUser, input: SpectacleOr
       input.lensType !== "single_vision" &&
       (isUndefinedOrNull(input.heightRightMm) || isUndefinedOrNull(input.heightLeftMm))
     ) {
-      throw new OrderError(
-        "Give both fitting heights: bifocal, varifocal and occupational lenses are made to them.",
-        400,
-        "heightRightMm",
-      );
+      throw new OrderError("Give both fitting heights: bifocal, varifocal and occupational lenses are made to them.", {
+        status: 400,
+        field: "heightRightMm",
+      });
     }
     // Conditional decrement: the row lock it takes serialises two orders for the last frame.
     const [frame] = await tx
@@ -374,8 +369,7 @@ export async function createSpectacleOrder(user: SessionUser, input: SpectacleOr
         exists?.active
           ? "That frame is out of stock. Choose another, or add stock in Settings → Frames."
           : "Choose a frame from the practice's stock.",
-        409,
-        "frameId",
+        { status: 409, field: "frameId" },
       );
     }
     const frameLabel = `${frame.supplier} ${frame.model}, ${frame.colour}, ${frame.size}`;
@@ -433,7 +427,8 @@ export async function createSpectacleOrder(user: SessionUser, input: SpectacleOr
 export async function createContactLensOrder(user: SessionUser, input: ContactLensOrderInput, request?: Request) {
   const created = await db.transaction(async (tx) => {
     const { fee } = await checkCommon(tx, input, "contact_lens");
-    if (input.boxesRight + input.boxesLeft <= 0) throw new OrderError("Order at least one box.", 400, "boxesRight");
+    if (input.boxesRight + input.boxesLeft <= 0)
+      throw new OrderError("Order at least one box.", { status: 400, field: "boxesRight" });
     const o = await insertOrder(tx, user, {
       kind: "contact_lenses",
       patientId: input.patientId,
@@ -479,11 +474,12 @@ export async function createContactLensOrder(user: SessionUser, input: ContactLe
 /** Raises the invoice of an order that has none (e.g. when raising it at order time was refused). */
 export async function raiseOrderInvoice(user: SessionUser, orderId: string, request?: Request) {
   const d = await orderDetail(orderId);
-  if (!d) throw new OrderError("There is no such order.", 404);
-  if (d.order.invoiceId) throw new OrderError("This order already has an invoice.", 409);
-  if (!d.lensFee) throw new OrderError("The lens price is no longer in the fee schedule; add it back first.", 409);
+  if (!d) throw new OrderError("There is no such order.", { status: 404 });
+  if (d.order.invoiceId) throw new OrderError("This order already has an invoice.", { status: 409 });
+  if (!d.lensFee)
+    throw new OrderError("The lens price is no longer in the fee schedule; add it back first.", { status: 409 });
   const id = await raiseInvoice(user, orderId, d.order.patientId, orderInvoiceLines(d.order, d.lensFee), request);
-  if (!id) throw new OrderError("The invoice could not be raised; check the fee schedule.", 409);
+  if (!id) throw new OrderError("The invoice could not be raised; check the fee schedule.", { status: 409 });
   return id;
 }
 
@@ -512,7 +508,7 @@ async function move(user: SessionUser, orderId: string, expected: OrderState, to
           .select({ state: opticalOrders.state })
           .from(opticalOrders)
           .where(eq(opticalOrders.id, orderId));
-        if (!now) throw new OrderError("There is no such order.", 404);
+        if (!now) throw new OrderError("There is no such order.", { status: 404 });
         const [last] = await tx
           .select({ at: orderEvents.at, actor: users.name })
           .from(orderEvents)
@@ -524,7 +520,7 @@ async function move(user: SessionUser, orderId: string, expected: OrderState, to
         const at = last ? ` at ${last.at.toISOString().slice(11, 16)} UTC` : "";
         throw new OrderError(
           `This order was already marked "${STATE_LABEL[now.state]}"${by}${at}, so it was not marked "${STATE_LABEL[to]}". The page now shows where it stands.`,
-          409,
+          { status: 409 },
         );
       }
       await tx.insert(orderEvents).values({
@@ -555,7 +551,9 @@ async function move(user: SessionUser, orderId: string, expected: OrderState, to
     const code = e.code ?? e.cause?.code;
     const constraint = e.constraint ?? e.cause?.constraint;
     if (code === "23514" && constraint === "optical_orders_state_transition") {
-      throw new OrderError(`An order cannot go from "${STATE_LABEL[expected]}" to "${STATE_LABEL[to]}".`, 409);
+      throw new OrderError(`An order cannot go from "${STATE_LABEL[expected]}" to "${STATE_LABEL[to]}".`, {
+        status: 409,
+      });
     }
     throw error;
   }
@@ -563,13 +561,14 @@ async function move(user: SessionUser, orderId: string, expected: OrderState, to
 
 export async function sendToLab(user: SessionUser, orderId: string, expected: OrderState, request?: Request) {
   if (expected !== "draft" && expected !== "remake")
-    throw new OrderError("Only a draft or a remake is sent to the lab.", 409);
+    throw new OrderError("Only a draft or a remake is sent to the lab.", { status: 409 });
   let messageId = "";
   await move(user, orderId, expected, "sent_to_lab", {
     request,
     also: async (tx, o) => {
       const [lab] = await tx.select().from(labs).where(eq(labs.id, o.labId));
-      if (!lab?.email) throw new OrderError("The lab has no e-mail address; add one in Settings → Labs.", 409);
+      if (!lab?.email)
+        throw new OrderError("The lab has no e-mail address; add one in Settings → Labs.", { status: 409 });
       messageId = await queueOrderMessage(tx, orderId, "lab_order", lab.email);
     },
   });
@@ -622,7 +621,7 @@ export function runCheck(
   const eyes = {} as Record<"right" | "left", PairEye>;
   for (const side of ["right", "left"] as const) {
     const ordered = detail.rx[side];
-    if (!ordered) throw new OrderError(`The prescription has no ${side} eye.`, 409);
+    if (!ordered) throw new OrderError(`The prescription has no ${side} eye.`, { status: 409 });
     const r = readings[side];
     let measured: LensRx;
     try {
@@ -631,8 +630,7 @@ export function runCheck(
       if (error instanceof RxError)
         throw new OrderError(
           `${side === "right" ? "Right" : "Left"} reading: ${error.message}. Type it as sphere, cylinder and axis, e.g. -2.25 -0.75 x 175.`,
-          400,
-          `${side}.rx`,
+          { status: 400, field: `${side}.rx` },
         );
       throw error;
     }
@@ -641,8 +639,7 @@ export function runCheck(
       if (!r.add.trim() || !Number.isFinite(add) || add <= 0 || add > 4.5)
         throw new OrderError(
           `${side === "right" ? "Right" : "Left"} add: an add of ${ordered.addPower.toFixed(2)} was ordered; type the add read on the lensmeter, e.g. +2.00.`,
-          400,
-          `${side}.add`,
+          { status: 400, field: `${side}.add` },
         );
       measured = { ...measured, add };
     }
@@ -668,7 +665,7 @@ export function runCheck(
       lensType: checkLensType(detail.order.lensType ?? "single_vision"),
     });
   } catch (error) {
-    if (error instanceof RxError) throw new OrderError(`${error.message}.`, 400);
+    if (error instanceof RxError) throw new OrderError(`${error.message}.`, { status: 400 });
     throw error;
   }
 }
@@ -681,8 +678,9 @@ export async function recordCheck(
   request?: Request,
 ) {
   const d = await orderDetail(orderId);
-  if (!d) throw new OrderError("There is no such order.", 404);
-  if (d.order.kind !== "spectacles") throw new OrderError("Contact lenses are not checked on the lensmeter.", 409);
+  if (!d) throw new OrderError("There is no such order.", { status: 404 });
+  if (d.order.kind !== "spectacles")
+    throw new OrderError("Contact lenses are not checked on the lensmeter.", { status: 409 });
   const settings = await practiceOrderSettings();
   const report = runCheck(d, readings, settings.rules.dispensingStandard);
   await move(user, orderId, "received", "checked", {
@@ -717,19 +715,18 @@ export async function markReady(
           .where(eq(orderChecks.orderId, orderId))
           .orderBy(desc(orderChecks.at))
           .limit(1);
-        if (!last) throw new OrderError("Check the spectacles on the lensmeter first.", 409);
+        if (!last) throw new OrderError("Check the spectacles on the lensmeter first.", { status: 409 });
         if (!last.pass) {
           if (!(OVERRIDE_ROLES as readonly string[]).includes(user.role))
             throw new OrderError(
               "These spectacles failed the check. Only an optician or optometrist can release them, with a reason; otherwise send them for a remake.",
-              403,
+              { status: 403 },
             );
           if (overrideReason.trim().length < 5)
-            throw new OrderError(
-              "Give the reason for releasing spectacles that failed the check.",
-              400,
-              "overrideReason",
-            );
+            throw new OrderError("Give the reason for releasing spectacles that failed the check.", {
+              status: 400,
+              field: "overrideReason",
+            });
           await tx
             .update(opticalOrders)
             .set({ overrideReason: overrideReason.trim() })
@@ -750,7 +747,10 @@ export async function markRemake(
   request?: Request,
 ) {
   if (reason.trim().length < 3)
-    throw new OrderError("Say why the order is being remade (for example: axis out of tolerance).", 400, "reason");
+    throw new OrderError("Say why the order is being remade (for example: axis out of tolerance).", {
+      status: 400,
+      field: "reason",
+    });
   await move(user, orderId, expected, "remake", { request, reason: reason.trim() });
 }
 
@@ -762,7 +762,8 @@ export async function cancelOrder(
   reason: string,
   request?: Request,
 ) {
-  if (reason.trim().length < 3) throw new OrderError("Say why the order is cancelled.", 400, "reason");
+  if (reason.trim().length < 3)
+    throw new OrderError("Say why the order is cancelled.", { status: 400, field: "reason" });
   const o = await move(user, orderId, expected, "cancelled", {
     request,
     reason: reason.trim(),
@@ -793,11 +794,11 @@ export async function collectOrder(
   request?: Request,
 ) {
   const [o] = await db.select().from(opticalOrders).where(eq(opticalOrders.id, orderId));
-  if (!o) throw new OrderError("There is no such order.", 404);
+  if (!o) throw new OrderError("There is no such order.", { status: 404 });
   if (o.state !== "ready_to_collect")
-    throw new OrderError(`This order is "${STATE_LABEL[o.state]}", not ready to collect.`, 409);
+    throw new OrderError(`This order is "${STATE_LABEL[o.state]}", not ready to collect.`, { status: 409 });
   if (payment && payment.amountMinor > 0) {
-    if (!o.invoiceId) throw new OrderError("This order has no invoice to pay.", 409);
+    if (!o.invoiceId) throw new OrderError("This order has no invoice to pay.", { status: 409 });
     try {
       await recordDeskPayment({
         invoiceId: o.invoiceId,
@@ -808,7 +809,7 @@ export async function collectOrder(
         request,
       });
     } catch (error) {
-      if (error instanceof BillingError) throw new OrderError(error.message, 400, "amount");
+      if (error instanceof BillingError) throw new OrderError(error.message, { status: 400, field: "amount" });
       throw error;
     }
   }

@@ -2,7 +2,7 @@ import { asc, desc, eq } from "drizzle-orm";
 import { appointments, appointmentTypes, examAssessment, examRefractions, exams, invoices, users } from "~/db/schema";
 import { myopiaProgressionReport, toPowerVector, type MyopiaProgressionReport } from "~/lib/optics";
 import { db } from "~/utils/db.server";
-import { ageOn } from "./patient-schema";
+import { ageInYears as ageOn } from "~/lib/format";
 import { DEFAULT_RECALL_MONTHS } from "./patients.server";
 
 export async function appointmentsOf(patientId: string) {

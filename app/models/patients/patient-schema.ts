@@ -87,22 +87,5 @@ export const listQuerySchema = z.object({
 });
 export type ListQuery = z.infer<typeof listQuerySchema>;
 
-/** Age in whole years on `on` (ISO date). */
-export function ageOn(dateOfBirth: string, on = new Date().toISOString().slice(0, 10)) {
-  const [y, m, d] = dateOfBirth.split("-").map(Number) as [number, number, number];
-  const [ty, tm, td] = on.split("-").map(Number) as [number, number, number];
-  return ty - y - (tm < m || (tm === m && td < d) ? 1 : 0);
-}
-
-/** 2011-03-09 → 9 Mar 2011 (dates of birth carry no time zone). */
-export function formatDate(iso: string) {
-  return new Date(`${iso.slice(0, 10)}T12:00:00Z`).toLocaleDateString("en-GB", {
-    day: "numeric",
-    month: "short",
-    year: "numeric",
-    timeZone: "UTC",
-  });
-}
-
 export const isUuid = (s: string | undefined | null): s is string =>
   !!s && /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i.test(s);

@@ -27,18 +27,16 @@ import { practiceSchedule } from "./schedule-settings.server";
 
 export { practiceSchedule };
 import type { SessionUser } from "~/utils/session.server";
+import { DomainError, type DomainErrorOptions } from "~/utils/failure.server";
 
 export type FieldErrors = Record<string, string[]>;
 
 /** A refused booking or change: the status to answer with, a message, and errors by field. */
-export class BookingError extends Error {
-  constructor(
-    readonly status: 400 | 403 | 404 | 409 | 422,
-    message: string,
-    readonly fieldErrors: FieldErrors = {},
-    readonly clash?: ClashInfo,
-  ) {
-    super(message);
+export class BookingError extends DomainError {
+  readonly clash?: ClashInfo;
+  constructor(message: string, options: DomainErrorOptions & { clash?: ClashInfo } = {}) {
+    super(message, options);
+    this.clash = options.clash;
   }
 }
 
@@ -126,7 +124,11 @@ async function clashError(
   const what = clash
     ? `${clash.providerName} already has ${clash.patientName} (${clash.typeName}) from ${formatLocal(new Date(clash.start), timeZone)} to ${formatLocal(new Date(clash.end), timeZone, { withDate: false })}.`
     : "The provider already has an appointment at that time.";
-  return new BookingError(409, `Not booked: ${what} Choose another time or provider.`, { start: [what] }, clash);
+  return new BookingError(`Not booked: ${what} Choose another time or provider.`, {
+    status: 409,
+    fieldErrors: { start: [what] },
+    clash: clash,
+  });
 }
 
 async function roomClashError(
@@ -156,7 +158,10 @@ async function roomClashError(
     )
     .limit(1);
   const what = `${room?.name ?? "The room"} at ${room?.site ?? "the site"} is in use${other ? ` by ${other.providerName} from ${formatLocal(other.start, timeZone)} to ${formatLocal(other.end, timeZone, { withDate: false })}` : " at that time"}.`;
-  return new BookingError(409, `Not booked: ${what} Choose another room or time.`, { roomId: [what] });
+  return new BookingError(`Not booked: ${what} Choose another room or time.`, {
+    status: 409,
+    fieldErrors: { roomId: [what] },
+  });
 }
 
 type SlotInput = {
@@ -192,26 +197,34 @@ async function validateSlot(
       `${provider.name} may not perform ${type.name} (the owner sets who may, under appointment types).`,
     ];
   if (Object.keys(errors).length)
-    throw new BookingError(
-      errors.appointmentTypeId || errors.providerId?.[0] === "No such provider." ? 404 : 422,
-      Object.values(errors).flat().join(" "),
-      errors,
-    );
+    throw new BookingError(Object.values(errors).flat().join(" "), {
+      status: errors.appointmentTypeId || errors.providerId?.[0] === "No such provider." ? 404 : 422,
+      fieldErrors: errors,
+    });
   const end = input.end ?? new Date(input.start.getTime() + type!.durationMinutes * 60_000);
   if (end <= input.start)
-    throw new BookingError(422, "The end must be after the start.", { end: ["The end must be after the start."] });
+    throw new BookingError("The end must be after the start.", {
+      status: 422,
+      fieldErrors: { end: ["The end must be after the start."] },
+    });
   if (end.getTime() - input.start.getTime() > 8 * 60 * 60_000)
-    throw new BookingError(422, "An appointment can last at most 8 hours.", {
-      end: ["An appointment can last at most 8 hours."],
+    throw new BookingError("An appointment can last at most 8 hours.", {
+      status: 422,
+      fieldErrors: {
+        end: ["An appointment can last at most 8 hours."],
+      },
     });
   if (!opts.allowPast && input.start.getTime() < Date.now() - 60_000) {
-    throw new BookingError(422, "That time is in the past; choose a time from now on.", {
-      start: ["That time is in the past; choose a time from now on."],
+    throw new BookingError("That time is in the past; choose a time from now on.", {
+      status: 422,
+      fieldErrors: {
+        start: ["That time is in the past; choose a time from now on."],
+      },
     });
   }
   if (opts.horizonDays !== undefined && input.start.getTime() > Date.now() + opts.horizonDays * 86_400_000) {
     const msg = `Bookings can be made at most ${opts.horizonDays} days ahead (until ${localParts(new Date(Date.now() + opts.horizonDays * 86_400_000), timeZone).date}).`;
-    throw new BookingError(422, msg, { start: [msg] });
+    throw new BookingError(msg, { status: 422, fieldErrors: { start: [msg] } });
   }
   let site: { id: string; name: string; timeZone: string; active: boolean } | undefined;
   if (input.siteId) {
@@ -220,12 +233,15 @@ async function validateSlot(
       .from(sites)
       .where(eq(sites.id, input.siteId));
     if (!site || !site.active)
-      throw new BookingError(404, "No such site.", { siteId: ["No such site (or it is closed)."] });
+      throw new BookingError("No such site.", {
+        status: 404,
+        fieldErrors: { siteId: ["No such site (or it is closed)."] },
+      });
   }
   const hours = await tx.select().from(workingHours).where(eq(workingHours.providerId, input.providerId));
   if (!hours.length) {
     const msg = `${provider!.name} has no working hours set yet; the practice owner sets them under Settings → Working hours.`;
-    throw new BookingError(422, msg, { start: [msg] });
+    throw new BookingError(msg, { status: 422, fieldErrors: { start: [msg] } });
   }
   // Working hours are wall-clock minutes at their site: without a site asked for, the booking is
   // read in the zone of the site where the provider works that day (the practice's zone finds the day).
@@ -239,14 +255,14 @@ async function validateSlot(
   }
   const breaks = await tx.select().from(providerBreaks).where(eq(providerBreaks.providerId, input.providerId));
   const check = checkWorkingHours(input.start, end, zone, hours, breaks);
-  if (!check.ok) throw new BookingError(422, check.reason, { start: [check.reason] });
+  if (!check.ok) throw new BookingError(check.reason, { status: 422, fieldErrors: { start: [check.reason] } });
   // The day's working hours say where the provider is; a booking at another site is refused.
   const weekday = localParts(input.start, zone).weekday;
   const day = hours.find((h) => h.weekday === weekday)!;
   if (site && day.siteId !== site.id) {
     const [there] = await tx.select({ name: sites.name }).from(sites).where(eq(sites.id, day.siteId));
     const msg = `${provider!.name} works at ${there?.name ?? "another site"} on ${WEEKDAY_NAMES[weekday - 1]}s, not at ${site.name}. Choose another day, provider or site.`;
-    throw new BookingError(422, msg, { siteId: [msg] });
+    throw new BookingError(msg, { status: 422, fieldErrors: { siteId: [msg] } });
   }
   const siteId = day.siteId;
   let roomId: string | null = input.roomId === undefined ? day.roomId : input.roomId;
@@ -260,7 +276,7 @@ async function validateSlot(
       const msg = room
         ? `${room.name} is not a room at ${siteName?.name ?? "this site"}; choose one of its rooms.`
         : `No such room at ${siteName?.name ?? "this site"}.`;
-      throw new BookingError(422, msg, { roomId: [msg] });
+      throw new BookingError(msg, { status: 422, fieldErrors: { roomId: [msg] } });
     }
     roomId = room.id;
   }
@@ -294,7 +310,8 @@ export async function bookAppointment(actor: SessionUser, input: BookingInput, r
   try {
     return await db.transaction(async (tx) => {
       const [patient] = await tx.select({ id: patients.id }).from(patients).where(eq(patients.id, input.patientId));
-      if (!patient) throw new BookingError(404, "No such patient.", { patientId: ["No such patient."] });
+      if (!patient)
+        throw new BookingError("No such patient.", { status: 404, fieldErrors: { patientId: ["No such patient."] } });
       const slot = await validateSlot(tx, input, settings.timeZone, {
         horizonDays: bookingHorizonDays(actor, settings),
       });
@@ -346,14 +363,17 @@ export async function bookAppointment(actor: SessionUser, input: BookingInput, r
     if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_room_overlap")
       throw await roomClashError(roomId!, input.start, end, settings.timeZone);
     if (code === PG_CHECK_VIOLATION)
-      throw new BookingError(422, "The end must be after the start.", { end: ["The end must be after the start."] });
+      throw new BookingError("The end must be after the start.", {
+        status: 422,
+        fieldErrors: { end: ["The end must be after the start."] },
+      });
     throw error;
   }
 }
 
 async function loadForUpdate(tx: Tx, id: string) {
   const [row] = await tx.select().from(appointments).where(eq(appointments.id, id)).for("update");
-  if (!row) throw new BookingError(404, "No such appointment.");
+  if (!row) throw new BookingError("No such appointment.", { status: 404 });
   return row;
 }
 
@@ -372,7 +392,9 @@ export async function moveAppointment(
     return await db.transaction(async (tx) => {
       const current = await loadForUpdate(tx, id);
       if (!isMovable(current.status))
-        throw new BookingError(409, `A ${STATUS_LABEL[current.status].toLowerCase()} appointment cannot be moved.`);
+        throw new BookingError(`A ${STATUS_LABEL[current.status].toLowerCase()} appointment cannot be moved.`, {
+          status: 409,
+        });
       providerId ??= current.providerId;
       const duration = current.endsAt.getTime() - current.startsAt.getTime();
       end ??= new Date(change.start.getTime() + duration);
@@ -436,7 +458,10 @@ export async function moveAppointment(
     if (code === PG_EXCLUSION_VIOLATION && constraint === "appointments_no_room_overlap")
       throw await roomClashError(roomId!, change.start, end!, settings.timeZone, id);
     if (code === PG_CHECK_VIOLATION)
-      throw new BookingError(422, "The end must be after the start.", { end: ["The end must be after the start."] });
+      throw new BookingError("The end must be after the start.", {
+        status: 422,
+        fieldErrors: { end: ["The end must be after the start."] },
+      });
     throw error;
   }
 }
@@ -458,12 +483,12 @@ export async function changeStatus(
       if (current.status === to) return { appointment: current };
       if (!canChangeStatus(current.status, to)) {
         throw new BookingError(
-          409,
           `An appointment that is ${STATUS_LABEL[current.status].toLowerCase()} cannot be marked ${STATUS_LABEL[to].toLowerCase()}.`,
+          { status: 409 },
         );
       }
       if (to === "in_exam" && actor.role !== "owner" && actor.role !== "optometrist")
-        throw new BookingError(403, "Only an optometrist or the owner starts an exam.");
+        throw new BookingError("Only an optometrist or the owner starts an exam.", { status: 403 });
       const now = new Date();
       const [row] = await tx
         .update(appointments)

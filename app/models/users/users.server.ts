@@ -1,13 +1,18 @@
 import { and, count, eq, ne, sql } from "drizzle-orm";
-import { data } from "react-router";
 import { sessions, users, type Role } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 import { absoluteUrl, sendMail } from "~/utils/mail.server";
 import type { SessionUser } from "~/utils/session.server";
 import { issueUserToken } from "~/utils/tokens.server";
+import { DomainError, type DomainErrorOptions, notFound } from "~/utils/failure.server";
 
-export class UserAdminError extends Error {}
+/** A refused change to an account; answered 409. */
+export class UserAdminError extends DomainError {
+  constructor(message: string, options: DomainErrorOptions = {}) {
+    super(message, { status: 409, ...options });
+  }
+}
 
 /** Creates an account without a password and e-mails a single-use link to set one. */
 export async function inviteUser(
@@ -64,7 +69,7 @@ async function loadTarget(userId: string) {
     .from(users)
     .where(eq(users.id, userId))
     .limit(1);
-  if (!target) throw data({ error: "No such account." }, { status: 404 });
+  if (!target) notFound("No such account.");
   return target;
 }
 

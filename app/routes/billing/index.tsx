@@ -1,15 +1,16 @@
-import { createColumnHelper, flexRender, getCoreRowModel, useReactTable } from "@tanstack/react-table";
+import { createColumnHelper } from "@tanstack/react-table";
 import { and, count, desc, eq, ilike, or, sql, type SQL } from "drizzle-orm";
-import { Form, Link, useSearchParams } from "react-router";
+import { Form, Link } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/index";
+import { DataTable } from "~/components/data-table";
 import { BillingNav, InvoiceStatusBadge } from "~/components/billing/invoice-status";
 import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { invoices, invoiceStatusEnum, patients, practiceSettings } from "~/db/schema";
-import { formatMoney } from "~/lib/money";
+import { formatDate, formatMoney } from "~/lib/format";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { BILLING_ROLES, invoiceLabel } from "~/models/billing/invoices.server";
@@ -62,17 +63,15 @@ export async function loader({ request }: Route.LoaderArgs) {
     db.select({ timeZone: practiceSettings.timeZone }).from(practiceSettings).where(eq(practiceSettings.id, 1)),
   ]);
   const tz = settings?.timeZone ?? "Europe/London";
-  const fmt = new Intl.DateTimeFormat("en-GB", { timeZone: tz, day: "numeric", month: "short", year: "numeric" });
   return {
     filter: f,
     total,
-    pageCount: Math.max(1, Math.ceil(total / PAGE_SIZE)),
     rows: rows.map((r) => ({
       id: r.id,
       label: invoiceLabel(r.number),
       status: r.status,
       patient: r.patient,
-      date: fmt.format(r.issuedAt ?? r.createdAt),
+      date: formatDate(r.issuedAt ?? r.createdAt, { timeZone: tz }),
       total: formatMoney(r.totalMinor, r.currency),
       due: formatMoney(r.totalMinor - r.paidMinor, r.currency),
     })),
@@ -96,8 +95,8 @@ const columns = [
   col.accessor("patient", { header: "Patient" }),
   col.accessor("date", { header: "Date" }),
   col.accessor("status", { header: "Status", cell: (c) => <InvoiceStatusBadge status={c.getValue()} /> }),
-  col.accessor("total", { header: "Total", meta: { right: true } }),
-  col.accessor("due", { header: "Due", meta: { right: true } }),
+  col.accessor("total", { header: "Total", meta: { align: "right" } }),
+  col.accessor("due", { header: "Due", meta: { align: "right" } }),
 ];
 
 const STATUS_FILTERS = [
@@ -111,20 +110,7 @@ const STATUS_FILTERS = [
 ] as const;
 
 export default function Invoices({ loaderData }: Route.ComponentProps) {
-  const { rows, filter, pageCount, total } = loaderData;
-  const [params] = useSearchParams();
-  const table = useReactTable({
-    data: rows,
-    columns,
-    getCoreRowModel: getCoreRowModel(),
-    manualPagination: true,
-    pageCount,
-  });
-  const pageLink = (page: number) => {
-    const p = new URLSearchParams(params);
-    p.set("page", String(page));
-    return `?${p.toString()}`;
-  };
+  const { rows, filter, total } = loaderData;
   return (
     <>
       <PageHeader
@@ -161,58 +147,14 @@ export default function Invoices({ loaderData }: Route.ComponentProps) {
             Show
           </button>
         </Form>
-        <div className="overflow-x-auto">
-          <table className="w-full text-left text-sm">
-            <caption className="sr-only">Invoices, newest first</caption>
-            <thead className="border-b border-line text-muted">
-              {table.getHeaderGroups().map((hg) => (
-                <tr key={hg.id}>
-                  {hg.headers.map((h) => (
-                    <th
-                      key={h.id}
-                      scope="col"
-                      className={`py-2 pr-4 font-semibold ${(h.column.columnDef.meta as { right?: boolean } | undefined)?.right ? "text-right" : ""}`}
-                    >
-                      {flexRender(h.column.columnDef.header, h.getContext())}
-                    </th>
-                  ))}
-                </tr>
-              ))}
-            </thead>
-            <tbody className="divide-y divide-line">
-              {table.getRowModel().rows.map((r) => (
-                <tr key={r.id}>
-                  {r.getVisibleCells().map((c) => (
-                    <td
-                      key={c.id}
-                      className={`py-3 pr-4 ${(c.column.columnDef.meta as { right?: boolean } | undefined)?.right ? "text-right tabular-nums" : ""}`}
-                    >
-                      {flexRender(c.column.columnDef.cell, c.getContext())}
-                    </td>
-                  ))}
-                </tr>
-              ))}
-            </tbody>
-          </table>
-          {rows.length === 0 ? <p className="py-6 text-center text-muted">No invoices match.</p> : null}
-        </div>
-        <nav aria-label="Pages" className="mt-4 flex items-center justify-between text-sm">
-          <span className="text-muted">
-            {total} invoice{total === 1 ? "" : "s"} · page {filter.page} of {pageCount}
-          </span>
-          <span className="flex gap-2">
-            {filter.page > 1 ? (
-              <Link to={pageLink(filter.page - 1)} className={buttonClass("secondary", "px-3 py-1")}>
-                Previous page
-              </Link>
-            ) : null}
-            {filter.page < pageCount ? (
-              <Link to={pageLink(filter.page + 1)} className={buttonClass("secondary", "px-3 py-1")}>
-                Next page
-              </Link>
-            ) : null}
-          </span>
-        </nav>
+        <DataTable
+          data={rows}
+          columns={columns}
+          getRowId={(r) => r.id}
+          caption="Invoices, newest first"
+          empty="No invoices match."
+          paging={{ page: filter.page, pageSize: PAGE_SIZE, total, noun: ["invoice", "invoices"] }}
+        />
       </Card>
     </>
   );

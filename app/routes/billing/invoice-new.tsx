@@ -11,7 +11,8 @@ import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
 import { feeItems, patients, practiceSettings } from "~/db/schema";
-import { formatMoney, parseMoney } from "~/lib/money";
+import { formatDate, formatMoney } from "~/lib/format";
+import { parseMoney } from "~/lib/money";
 import { parseDecimal } from "~/lib/numbers/decimal";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
@@ -24,6 +25,7 @@ import {
   examForInvoice,
   type NewLine,
 } from "~/models/billing/invoices.server";
+import { notFound } from "~/utils/failure.server";
 
 const baseSchema = z.object({
   patientId: z.uuid({ error: "Choose a patient." }),
@@ -59,9 +61,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   let exam: Awaited<ReturnType<typeof examForInvoice>> = null;
   let patient: { id: string; name: string } | null = null;
   if (examId) {
-    if (!z.uuid().safeParse(examId).success) throw data({ error: "There is no such exam." }, { status: 404 });
+    if (!z.uuid().safeParse(examId).success) notFound("There is no such exam.");
     exam = await examForInvoice(examId);
-    if (!exam) throw data({ error: "There is no such exam." }, { status: 404 });
+    if (!exam) notFound("There is no such exam.");
     const [p] = await db
       .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName })
       .from(patients)
@@ -200,9 +202,7 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
   const navigation = useNavigation();
   const services = fees.filter((f) => f.kind === "service");
   const items = fees.filter((f) => f.kind === "item");
-  const examDate = exam
-    ? new Date(exam.examinedAt).toLocaleDateString("en-GB", { day: "numeric", month: "long", year: "numeric" })
-    : "";
+  const examDate = exam ? formatDate(exam.examinedAt, { style: "long" }) : "";
   const feeRows = (list: typeof fees) => (
     <table className="w-full text-left text-sm">
       <thead className="border-b border-line text-muted">

@@ -4,13 +4,7 @@ import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/invoice";
 import { BillingNav, InvoiceStatusBadge, PaymentStatusBadge } from "~/components/billing/invoice-status";
-import {
-  emailInvoice,
-  emailReceipt,
-  emailReceiptQuietly,
-  formatDate,
-  METHOD_LABEL,
-} from "~/models/billing/documents.server";
+import { emailInvoice, emailReceipt, emailReceiptQuietly, METHOD_LABEL } from "~/models/billing/documents.server";
 import {
   addLines,
   BILLING_ROLES,
@@ -34,13 +28,15 @@ import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
 import { feeItems } from "~/db/schema";
-import { formatMoney, formatRate, minorToDecimal, parseMoney } from "~/lib/money";
+import { formatDate, formatMoney } from "~/lib/format";
+import { formatRate, minorToDecimal, parseMoney } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { decimalField } from "~/utils/number-field";
 import { parseDecimal } from "~/lib/numbers/decimal";
+import { notFound } from "~/utils/failure.server";
 
 const money = z.string({ error: "Give an amount." }).trim().min(1, "Give an amount.");
 const schema = z.discriminatedUnion("intent", [
@@ -82,10 +78,9 @@ const schema = z.discriminatedUnion("intent", [
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, BILLING_ROLES);
-  if (!z.uuid().safeParse(params.invoiceId).success)
-    throw data({ error: "There is no such invoice." }, { status: 404 });
+  if (!z.uuid().safeParse(params.invoiceId).success) notFound("There is no such invoice.");
   const d = await invoiceDetail(params.invoiceId);
-  if (!d) throw data({ error: "There is no such invoice." }, { status: 404 });
+  if (!d) notFound("There is no such invoice.");
   const practice = await practiceBilling();
   const fees =
     d.invoice.status === "draft"
@@ -116,8 +111,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       label: invoiceLabel(d.invoice.number),
       status: d.invoice.status,
       currency: cur,
-      issuedAt: d.invoice.issuedAt ? formatDate(d.invoice.issuedAt, tz) : null,
-      createdAt: formatDate(d.invoice.createdAt, tz),
+      issuedAt: d.invoice.issuedAt ? formatDate(d.invoice.issuedAt, { timeZone: tz, style: "long" }) : null,
+      createdAt: formatDate(d.invoice.createdAt, { timeZone: tz, style: "long" }),
       taxRate: formatRate(d.invoice.taxRateBp),
       discountKind: d.invoice.discountKind,
       discountValue:
@@ -135,7 +130,9 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       due: formatMoney(d.invoice.totalMinor - d.invoice.paidMinor, cur),
       dueDecimal: minorToDecimal(d.invoice.totalMinor - d.invoice.paidMinor, cur),
       voidReason: d.invoice.voidReason,
-      payLinkSentAt: d.invoice.payLinkSentAt ? formatDate(d.invoice.payLinkSentAt, tz, true) : null,
+      payLinkSentAt: d.invoice.payLinkSentAt
+        ? formatDate(d.invoice.payLinkSentAt, { timeZone: tz, style: "long", time: true })
+        : null,
       examId: d.invoice.examId,
     },
     patient: { id: d.patient.id, name: `${d.patient.firstName} ${d.patient.lastName}`, email: d.patient.email },
@@ -156,7 +153,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       refundable: p.status === "succeeded" ? p.amountMinor - p.refundedMinor : 0,
       refundableText: formatMoney(p.amountMinor - p.refundedMinor, cur),
       refunded: p.refundedMinor ? formatMoney(p.refundedMinor, cur) : null,
-      when: formatDate(p.receivedAt ?? p.createdAt, tz, true),
+      when: formatDate(p.receivedAt ?? p.createdAt, { timeZone: tz, style: "long", time: true }),
       reference: p.reference,
       problem: p.problem,
       receiptSent: Boolean(p.receiptSentAt),
@@ -166,7 +163,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       paymentId: r.paymentId,
       amount: formatMoney(r.amountMinor, cur),
       reason: r.reason,
-      when: formatDate(r.createdAt, tz, true),
+      when: formatDate(r.createdAt, { timeZone: tz, style: "long", time: true }),
     })),
     fees: fees.map((f) => ({ id: f.id, label: `${f.code} — ${f.description} (${formatMoney(f.priceMinor, cur)})` })),
   };
@@ -175,7 +172,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export async function action({ request, params }: Route.ActionArgs) {
   const user = await requireRole(request, BILLING_ROLES);
   const invoiceId = params.invoiceId;
-  if (!z.uuid().safeParse(invoiceId).success) throw data({ error: "There is no such invoice." }, { status: 404 });
+  if (!z.uuid().safeParse(invoiceId).success) notFound("There is no such invoice.");
   const submission = parseWithZod(await request.formData(), { schema });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
   const v = submission.value;
@@ -270,7 +267,7 @@ export async function action({ request, params }: Route.ActionArgs) {
     }
   } catch (error) {
     if (error instanceof BillingError) {
-      if (error.status === 404) throw data({ error: error.message }, { status: 404 });
+      if (error.status === 404) notFound(error.message);
       return data(
         submission.reply({
           fieldErrors: error.field ? { [error.field]: [error.message] } : {},

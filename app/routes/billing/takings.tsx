@@ -9,7 +9,7 @@ import { buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input } from "~/components/ui/input";
 import { Notice, StatusBadge } from "~/components/ui/notice";
-import { formatMoney } from "~/lib/money";
+import { formatMoney } from "~/lib/format";
 import { requireRole } from "~/utils/auth.server";
 import { activeSites, siteChoice } from "~/models/schedule/sites.server";
 import { Select } from "~/components/ui/input";

@@ -39,7 +39,7 @@ import {
   type ReferralPrompt,
   type SphCyl,
 } from "~/lib/optics";
-import { ageOn, formatDate } from "~/models/patients/patient-schema";
+import { ageInYears as ageOn, formatDate } from "~/lib/format";
 import { issuePrescription, prescriptionsOf } from "~/models/prescriptions/prescriptions.server";
 import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";

@@ -1,5 +1,7 @@
+import { createColumnHelper } from "@tanstack/react-table";
 import { Form, Link } from "react-router";
 import type { Route } from "./+types/index";
+import { DataTable } from "~/components/data-table";
 import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
@@ -33,6 +35,48 @@ export async function loader({ request }: Route.LoaderArgs) {
     })),
   };
 }
+
+type Row = Awaited<ReturnType<typeof loader>>["orders"][number];
+const col = createColumnHelper<Row>();
+const stateTone = (s: OrderStateName) =>
+  s === "cancelled" || s === "remake" ? "warning" : s === "ready_to_collect" || s === "collected" ? "success" : "info";
+const columns = (overdueDays: number) => [
+  col.accessor("label", {
+    header: "Order",
+    cell: (c) => (
+      <Link to={`/orders/${c.row.original.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
+        {c.getValue()}
+      </Link>
+    ),
+  }),
+  col.accessor("patientName", { header: "Patient" }),
+  col.accessor("kind", {
+    header: "What",
+    cell: (c) =>
+      c.getValue() === "spectacles"
+        ? `Spectacles${c.row.original.frameLabel ? ` — ${c.row.original.frameLabel}` : ""}`
+        : "Contact lenses",
+  }),
+  col.accessor("labName", { header: "Lab" }),
+  col.accessor("state", {
+    header: "State",
+    cell: (c) => <StatusBadge tone={stateTone(c.getValue())}>{STATE_LABEL[c.getValue()]}</StatusBadge>,
+  }),
+  col.accessor("days", {
+    header: "For",
+    cell: (c) => (
+      <>
+        {c.getValue()} {c.getValue() === 1 ? "day" : "days"}
+        {c.row.original.state === "sent_to_lab" && c.getValue() > overdueDays ? (
+          <>
+            {" "}
+            <StatusBadge tone="error">Overdue at the lab</StatusBadge>
+          </>
+        ) : null}
+      </>
+    ),
+  }),
+];
 
 export default function Orders({ loaderData }: Route.ComponentProps) {
   return (
@@ -73,70 +117,13 @@ export default function Orders({ loaderData }: Route.ComponentProps) {
         </Button>
       </Form>
       <Card>
-        {loaderData.orders.length === 0 ? (
-          <p className="text-muted">No orders to show.</p>
-        ) : (
-          <div className="overflow-x-auto">
-            <table className="w-full text-left text-sm">
-              <thead>
-                <tr className="border-b border-line">
-                  <th className="py-2 pr-3">Order</th>
-                  <th className="py-2 pr-3">Patient</th>
-                  <th className="py-2 pr-3">What</th>
-                  <th className="py-2 pr-3">Lab</th>
-                  <th className="py-2 pr-3">State</th>
-                  <th className="py-2">For</th>
-                </tr>
-              </thead>
-              <tbody>
-                {loaderData.orders.map((o) => {
-                  const overdue = o.state === "sent_to_lab" && o.days > loaderData.overdueDays;
-                  return (
-                    <tr key={o.id} className="border-b border-line">
-                      <td className="py-2 pr-3">
-                        <Link
-                          to={`/orders/${o.id}`}
-                          className="font-semibold text-accent-700 underline underline-offset-4"
-                        >
-                          {o.label}
-                        </Link>
-                      </td>
-                      <td className="py-2 pr-3">{o.patientName}</td>
-                      <td className="py-2 pr-3">
-                        {o.kind === "spectacles"
-                          ? `Spectacles${o.frameLabel ? ` — ${o.frameLabel}` : ""}`
-                          : "Contact lenses"}
-                      </td>
-                      <td className="py-2 pr-3">{o.labName}</td>
-                      <td className="py-2 pr-3">
-                        <StatusBadge
-                          tone={
-                            o.state === "cancelled" || o.state === "remake"
-                              ? "warning"
-                              : o.state === "ready_to_collect" || o.state === "collected"
-                                ? "success"
-                                : "info"
-                          }
-                        >
-                          {STATE_LABEL[o.state]}
-                        </StatusBadge>
-                      </td>
-                      <td className="py-2">
-                        {o.days} {o.days === 1 ? "day" : "days"}
-                        {overdue ? (
-                          <>
-                            {" "}
-                            <StatusBadge tone="error">Overdue at the lab</StatusBadge>
-                          </>
-                        ) : null}
-                      </td>
-                    </tr>
-                  );
-                })}
-              </tbody>
-            </table>
-          </div>
-        )}
+        <DataTable
+          data={loaderData.orders}
+          columns={columns(loaderData.overdueDays)}
+          getRowId={(o) => o.id}
+          caption="Orders"
+          empty="No orders to show."
+        />
       </Card>
     </>
   );

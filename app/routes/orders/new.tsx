@@ -1,18 +1,13 @@
-import { getFormProps, getInputProps, getSelectProps, getTextareaProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { eq } from "drizzle-orm";
-import { data, Form, Link, useNavigation } from "react-router";
+import { data, Form, Link } from "react-router";
 import type { Route } from "./+types/new";
-import { ErrorList, Field, SelectField } from "~/components/forms";
 import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
-import { Input, Textarea } from "~/components/ui/input";
-import { Notice } from "~/components/ui/notice";
+import { Input } from "~/components/ui/input";
 import { patients } from "~/db/schema";
-import { formatMoney } from "~/lib/money";
 import { formatRx } from "~/lib/optics";
-import { COATINGS, LENS_MATERIALS, LENS_TYPE_LABEL } from "~/lib/orders/states";
 import {
   activeFrames,
   activeLabs,
@@ -24,12 +19,15 @@ import {
   OrderError,
   practiceOrderSettings,
 } from "~/models/orders/orders.server";
-import { formatDate, isUuid } from "~/models/patients/patient-schema";
+import { formatDate } from "~/lib/format";
+import { isUuid } from "~/models/patients/patient-schema";
 import { searchPatients } from "~/models/patients/patients.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { contactLensOrderSchema, spectacleOrderSchema } from "~/models/orders/order-schema";
+import { notFound } from "~/utils/failure.server";
+import { RxSummary, SpectacleForm, ContactLensForm, type FormData_ } from "./order-forms";
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ORDER_ROLES);
@@ -47,7 +45,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     })
     .from(patients)
     .where(eq(patients.id, patientId));
-  if (!patient) throw data({ error: "There is no such patient." }, { status: 404 });
+  if (!patient) notFound("There is no such patient.");
   const rxs = await orderablePrescriptions(patientId);
   const rx = rxs.find((r) => r.id === prescriptionId) ?? null;
   const settings = await practiceOrderSettings();
@@ -111,250 +109,6 @@ export async function action({ request }: Route.ActionArgs) {
     }
     throw error;
   }
-}
-
-type FormData_ = Exclude<Route.ComponentProps["loaderData"], { step: "patient" }>;
-
-function RxSummary({ rx }: { rx: NonNullable<FormData_["rx"]> }) {
-  return (
-    <dl className="grid gap-1 text-sm sm:grid-cols-2">
-      {rx.eyes.map((e) => (
-        <div key={e.eye}>
-          <dt className="inline font-semibold">{e.eye === "right" ? "Right" : "Left"}: </dt>
-          <dd className="inline">
-            {formatRx(e)}
-            {e.addPower ? ` Add +${e.addPower.toFixed(2)}` : ""}
-            {e.prismDioptres ? ` · ${e.prismDioptres.toFixed(2)} Δ base ${e.prismBase}` : ""}
-          </dd>
-        </div>
-      ))}
-    </dl>
-  );
-}
-
-/** The form's own errors and any error of a field that has no place of its own on the page (e.g. the prescription). */
-function UnplacedErrors({
-  all,
-  placed,
-  formErrors,
-}: {
-  all: Record<string, string[]>;
-  placed: string[];
-  formErrors?: string[];
-}) {
-  const shown = new Set(placed.filter((p) => !["kind", "prescriptionId", "coatings"].includes(p)));
-  const rest = Object.entries(all)
-    .filter(([k]) => k !== "" && !shown.has(k))
-    .flatMap(([k, v]) => v.map((m) => `${k}: ${m}`));
-  const messages = [...(formErrors ?? []), ...rest];
-  return messages.length ? (
-    <Notice tone="error" title="Not saved">
-      {messages.join(" ")}
-    </Notice>
-  ) : null;
-}
-
-function SpectacleForm({ d, lastResult }: { d: FormData_; lastResult: unknown }) {
-  const navigation = useNavigation();
-  const [form, fields] = useForm({
-    id: "spectacle-order",
-    lastResult: navigation.state === "idle" ? (lastResult as never) : null,
-    defaultValue: {
-      kind: "spectacles",
-      prescriptionId: d.rx!.id,
-      lensType: d.rx!.eyes.some((e) => e.addPower) ? "varifocal" : "single_vision",
-      lensMaterial: LENS_MATERIALS[0],
-      coatings: ["Hard coat", "Anti-reflection"],
-    },
-    onValidate: ({ formData }) => parseWithZod(formData, { schema: spectacleOrderSchema }),
-    shouldValidate: "onBlur",
-  });
-  const coatings = new Set((fields.coatings.initialValue as string[] | undefined) ?? []);
-  return (
-    <Form method="post" {...getFormProps(form)} className="space-y-6">
-      <input type="hidden" name="kind" value="spectacles" />
-      <input type="hidden" name="prescriptionId" value={d.rx!.id} />
-      <UnplacedErrors all={form.allErrors} placed={Object.keys(fields)} formErrors={form.errors} />
-      <Card title="Frame and lab">
-        <div className="grid gap-4 sm:grid-cols-2">
-          <SelectField
-            label="Frame from stock"
-            errors={fields.frameId.errors}
-            selectProps={getSelectProps(fields.frameId)}
-          >
-            <option value="">Choose a frame…</option>
-            {d.frames.map((f) => (
-              <option key={f.id} value={f.id}>
-                {f.label} — {formatMoney(f.priceMinor, d.currency)} —{" "}
-                {f.quantity > 0 ? `${f.quantity} in stock` : "out of stock"}
-              </option>
-            ))}
-          </SelectField>
-          <SelectField label="Lab" errors={fields.labId.errors} selectProps={getSelectProps(fields.labId)}>
-            <option value="">Choose a lab…</option>
-            {d.labs.map((l) => (
-              <option key={l.id} value={l.id}>
-                {l.name}
-              </option>
-            ))}
-          </SelectField>
-        </div>
-      </Card>
-      <Card title="Lenses">
-        <div className="grid gap-4 sm:grid-cols-2">
-          <SelectField label="Lens type" errors={fields.lensType.errors} selectProps={getSelectProps(fields.lensType)}>
-            {Object.entries(LENS_TYPE_LABEL).map(([k, label]) => (
-              <option key={k} value={k}>
-                {label}
-              </option>
-            ))}
-          </SelectField>
-          <SelectField
-            label="Material and index"
-            errors={fields.lensMaterial.errors}
-            selectProps={getSelectProps(fields.lensMaterial)}
-          >
-            {LENS_MATERIALS.map((m) => (
-              <option key={m} value={m}>
-                {m}
-              </option>
-            ))}
-          </SelectField>
-          <fieldset>
-            <legend className="mb-1 text-sm font-semibold">Coatings</legend>
-            <div className="flex flex-wrap gap-x-4 gap-y-1">
-              {COATINGS.map((c) => (
-                <label key={c} className="flex items-center gap-2 text-sm">
-                  <input
-                    type="checkbox"
-                    name="coatings"
-                    value={c}
-                    defaultChecked={coatings.has(c)}
-                    className="size-4"
-                  />
-                  {c}
-                </label>
-              ))}
-            </div>
-          </fieldset>
-          <Field
-            label="Tint"
-            hint="Leave empty for none, e.g. grey 15 %."
-            errors={fields.tint.errors}
-            inputProps={getInputProps(fields.tint, { type: "text" })}
-          />
-          <SelectField
-            label="Lens price (fee schedule)"
-            errors={fields.lensFeeItemId.errors}
-            selectProps={getSelectProps(fields.lensFeeItemId)}
-          >
-            <option value="">Choose…</option>
-            {d.fees.map((f) => (
-              <option key={f.id} value={f.id}>
-                {f.label} — {formatMoney(f.priceMinor, d.currency)}
-              </option>
-            ))}
-          </SelectField>
-        </div>
-      </Card>
-      <Card title="Centration">
-        <div className="grid gap-4 sm:grid-cols-4">
-          <Field
-            label="Right monocular PD (mm)"
-            errors={fields.pdRightMm.errors}
-            inputProps={{ ...getInputProps(fields.pdRightMm, { type: "text" }), inputMode: "decimal" }}
-          />
-          <Field
-            label="Left monocular PD (mm)"
-            errors={fields.pdLeftMm.errors}
-            inputProps={{ ...getInputProps(fields.pdLeftMm, { type: "text" }), inputMode: "decimal" }}
-          />
-          <Field
-            label="Right fitting height (mm)"
-            hint="Needed for bifocal, varifocal and occupational lenses."
-            errors={fields.heightRightMm.errors}
-            inputProps={{ ...getInputProps(fields.heightRightMm, { type: "text" }), inputMode: "decimal" }}
-          />
-          <Field
-            label="Left fitting height (mm)"
-            errors={fields.heightLeftMm.errors}
-            inputProps={{ ...getInputProps(fields.heightLeftMm, { type: "text" }), inputMode: "decimal" }}
-          />
-        </div>
-        <div className="mt-4">
-          <label htmlFor={fields.notes.id} className="mb-1 block text-sm font-semibold">
-            Notes for the lab
-          </label>
-          <Textarea {...getTextareaProps(fields.notes)} rows={2} />
-          <ErrorList errors={fields.notes.errors} />
-        </div>
-      </Card>
-      <Button type="submit" pending={navigation.state === "submitting"}>
-        Save order
-      </Button>
-    </Form>
-  );
-}
-
-function ContactLensForm({ d, lastResult }: { d: FormData_; lastResult: unknown }) {
-  const navigation = useNavigation();
-  const [form, fields] = useForm({
-    id: "cl-order",
-    lastResult: navigation.state === "idle" ? (lastResult as never) : null,
-    defaultValue: { kind: "contact_lenses", prescriptionId: d.rx!.id, boxesRight: "1", boxesLeft: "1" },
-    onValidate: ({ formData }) => parseWithZod(formData, { schema: contactLensOrderSchema }),
-    shouldValidate: "onBlur",
-  });
-  return (
-    <Form method="post" {...getFormProps(form)} className="space-y-6">
-      <input type="hidden" name="kind" value="contact_lenses" />
-      <input type="hidden" name="prescriptionId" value={d.rx!.id} />
-      <UnplacedErrors all={form.allErrors} placed={Object.keys(fields)} formErrors={form.errors} />
-      <Card title={`Lens: ${d.rx!.lensName || "as prescribed"}`}>
-        <div className="grid gap-4 sm:grid-cols-2">
-          <SelectField label="Supplier" errors={fields.labId.errors} selectProps={getSelectProps(fields.labId)}>
-            <option value="">Choose…</option>
-            {d.labs.map((l) => (
-              <option key={l.id} value={l.id}>
-                {l.name}
-              </option>
-            ))}
-          </SelectField>
-          <SelectField
-            label="Price per box (fee schedule)"
-            errors={fields.lensFeeItemId.errors}
-            selectProps={getSelectProps(fields.lensFeeItemId)}
-          >
-            <option value="">Choose…</option>
-            {d.fees.map((f) => (
-              <option key={f.id} value={f.id}>
-                {f.label} — {formatMoney(f.priceMinor, d.currency)}
-              </option>
-            ))}
-          </SelectField>
-          <Field
-            label="Boxes, right eye"
-            errors={fields.boxesRight.errors}
-            inputProps={getInputProps(fields.boxesRight, { type: "number" })}
-          />
-          <Field
-            label="Boxes, left eye"
-            errors={fields.boxesLeft.errors}
-            inputProps={getInputProps(fields.boxesLeft, { type: "number" })}
-          />
-        </div>
-        <div className="mt-4">
-          <label htmlFor={fields.notes.id} className="mb-1 block text-sm font-semibold">
-            Notes for the supplier
-          </label>
-          <Textarea {...getTextareaProps(fields.notes)} rows={2} />
-        </div>
-      </Card>
-      <Button type="submit" pending={navigation.state === "submitting"}>
-        Save order
-      </Button>
-    </Form>
-  );
 }
 
 export default function NewOrder({ loaderData, actionData }: Route.ComponentProps) {

@@ -1,12 +1,14 @@
+import { createColumnHelper } from "@tanstack/react-table";
 import { Form, Link } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/reports";
+import { DataTable } from "~/components/data-table";
 import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
-import { ORDER_STATES, orderLabel, STATE_LABEL } from "~/lib/orders/states";
+import { ORDER_STATES, orderLabel, STATE_LABEL, type OrderStateName } from "~/lib/orders/states";
 import { practiceOrderSettings } from "~/models/orders/orders.server";
 import { examsToOrders, ordersByState, overdueAtLab, remakes } from "~/models/orders/reports.server";
 import { requireRole } from "~/utils/auth.server";
@@ -40,8 +42,41 @@ export async function loader({ request }: Route.LoaderArgs) {
   return { period, error, overdueDays: settings.labOverdueDays, byState, overdue, remade, conversion };
 }
 
+type Data = Awaited<ReturnType<typeof loader>>;
+type StateRow = { state: OrderStateName; n?: number; oldest_days?: number | null; overdue?: number };
+const byState = createColumnHelper<StateRow>();
+const stateColumns = [
+  byState.accessor("state", { header: "State", cell: (c) => STATE_LABEL[c.getValue()] }),
+  byState.accessor("n", { header: "Orders", meta: { align: "right" }, cell: (c) => c.getValue() ?? 0 }),
+  byState.accessor("oldest_days", {
+    header: "Longest in this state",
+    meta: { align: "right" },
+    cell: (c) => (c.getValue() != null ? `${c.getValue()} days` : "—"),
+  }),
+  byState.accessor("overdue", {
+    header: "Overdue",
+    meta: { align: "right" },
+    cell: (c) => (c.row.original.state === "sent_to_lab" ? (c.getValue() ?? 0) : ""),
+  }),
+];
+const remake = createColumnHelper<Data["remade"][number]>();
+const remakeColumns = [
+  remake.accessor("number", {
+    header: "Order",
+    cell: (c) => (
+      <Link to={`/orders/${c.row.original.id}`} className="font-semibold text-accent-700 underline">
+        {orderLabel(c.getValue())}
+      </Link>
+    ),
+  }),
+  remake.accessor("at", { header: "When", cell: (c) => c.getValue().slice(0, 10) }),
+  remake.accessor("lab", { header: "Lab" }),
+  remake.accessor("reason", { header: "Reason" }),
+  remake.accessor("actor", { header: "By", cell: (c) => c.getValue() ?? "—" }),
+];
+
 export default function OrderReports({ loaderData: d }: Route.ComponentProps) {
-  const counts = new Map(d.byState.map((r) => [r.state, r]));
+  const counts = new Map(d.byState.map((r) => [r.state, { n: r.n, oldest_days: r.oldest_days, overdue: r.overdue }]));
   return (
     <>
       <PageHeader
@@ -82,29 +117,13 @@ export default function OrderReports({ loaderData: d }: Route.ComponentProps) {
       ) : null}
       <div className="grid gap-6 lg:grid-cols-2">
         <Card title="Orders by state">
-          <table className="w-full text-left text-sm">
-            <thead>
-              <tr className="border-b border-line">
-                <th className="py-1 pr-3">State</th>
-                <th className="py-1 pr-3 text-right">Orders</th>
-                <th className="py-1 pr-3 text-right">Longest in this state</th>
-                <th className="py-1 text-right">Overdue</th>
-              </tr>
-            </thead>
-            <tbody>
-              {ORDER_STATES.map((s) => {
-                const r = counts.get(s);
-                return (
-                  <tr key={s} className="border-b border-line">
-                    <td className="py-1 pr-3">{STATE_LABEL[s]}</td>
-                    <td className="py-1 pr-3 text-right">{r?.n ?? 0}</td>
-                    <td className="py-1 pr-3 text-right">{r?.oldest_days != null ? `${r.oldest_days} days` : "—"}</td>
-                    <td className="py-1 text-right">{s === "sent_to_lab" ? (r?.overdue ?? 0) : ""}</td>
-                  </tr>
-                );
-              })}
-            </tbody>
-          </table>
+          <DataTable
+            data={ORDER_STATES.map((state) => ({ state, ...counts.get(state) }))}
+            columns={stateColumns}
+            getRowId={(r) => r.state}
+            caption="Orders by state"
+            empty="No orders."
+          />
           {d.overdue.length ? (
             <ul className="mt-4 space-y-1 text-sm">
               {d.overdue.map((o) => (
@@ -130,36 +149,13 @@ export default function OrderReports({ loaderData: d }: Route.ComponentProps) {
           </p>
         </Card>
         <Card title={`Remakes (${d.remade.length})`} className="lg:col-span-2">
-          {d.remade.length ? (
-            <table className="w-full text-left text-sm">
-              <thead>
-                <tr className="border-b border-line">
-                  <th className="py-1 pr-3">Order</th>
-                  <th className="py-1 pr-3">When</th>
-                  <th className="py-1 pr-3">Lab</th>
-                  <th className="py-1 pr-3">Reason</th>
-                  <th className="py-1">By</th>
-                </tr>
-              </thead>
-              <tbody>
-                {d.remade.map((r) => (
-                  <tr key={`${r.id}-${r.at}`} className="border-b border-line">
-                    <td className="py-1 pr-3">
-                      <Link to={`/orders/${r.id}`} className="font-semibold text-accent-700 underline">
-                        {orderLabel(r.number)}
-                      </Link>
-                    </td>
-                    <td className="py-1 pr-3">{r.at.slice(0, 10)}</td>
-                    <td className="py-1 pr-3">{r.lab}</td>
-                    <td className="py-1 pr-3">{r.reason}</td>
-                    <td className="py-1">{r.actor ?? "—"}</td>
-                  </tr>
-                ))}
-              </tbody>
-            </table>
-          ) : (
-            <p className="text-sm text-muted">No remakes in this period.</p>
-          )}
+          <DataTable
+            data={d.remade}
+            columns={remakeColumns}
+            getRowId={(r) => `${r.id}-${r.at}`}
+            caption="Remakes"
+            empty="No remakes in this period."
+          />
         </Card>
       </div>
     </>

@@ -22,7 +22,8 @@ import {
   refractionHistory,
 } from "~/models/patients/chart.server";
 import { documentsOf } from "~/models/patients/documents.server";
-import { ageOn, formatDate, isUuid } from "~/models/patients/patient-schema";
+import { ageInYears, formatDate, formatMoney } from "~/lib/format";
+import { isUuid } from "~/models/patients/patient-schema";
 import { prescriptionsOf } from "~/models/prescriptions/prescriptions.server";
 import { PortalInviteButton } from "~/components/portal-invite-button";
 import { ChartReferrals } from "~/components/referrals/chart-referrals";
@@ -73,7 +74,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     firstName: p.firstName,
     lastName: p.lastName,
     dateOfBirth: p.dateOfBirth,
-    age: ageOn(p.dateOfBirth),
+    age: ageInYears(p.dateOfBirth),
     sex: p.sex,
     email: p.email,
     phone: p.phone,
@@ -120,8 +121,6 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 type LD = Route.ComponentProps["loaderData"];
-const money = (minor: number, currency: string) =>
-  new Intl.NumberFormat("en-GB", { style: "currency", currency }).format(minor / 100);
 
 export default function Chart({ loaderData: d }: Route.ComponentProps) {
   const p = d.patient;
@@ -300,7 +299,7 @@ function Timeline({ d }: { d: LD }) {
     ...d.invoices.map((i) => ({
       at: i.at,
       kind: "Invoice",
-      label: `${i.number ? `No. ${i.number}` : "Draft"} · ${money(i.totalMinor, i.currency)}`,
+      label: `${i.number ? `No. ${i.number}` : "Draft"} · ${formatMoney(i.totalMinor, i.currency)}`,
       status: i.status.replace("_", " "),
       href: `/billing/invoices/${i.id}`,
     })),

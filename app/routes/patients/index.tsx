@@ -12,7 +12,8 @@ import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
 import { Icon } from "~/components/ui/icon";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { ageOn, formatDate, listQuerySchema, type ListQuery, type PatientSort } from "~/models/patients/patient-schema";
+import { ageInYears, formatDate } from "~/lib/format";
+import { listQuerySchema, type ListQuery, type PatientSort } from "~/models/patients/patient-schema";
 import { listPatients } from "~/models/patients/patients.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -46,7 +47,7 @@ const columns = [
   col.accessor("dateOfBirth", {
     id: "dob",
     header: "Date of birth",
-    cell: (c) => `${formatDate(c.getValue())} (${ageOn(c.getValue())})`,
+    cell: (c) => `${formatDate(c.getValue())} (${ageInYears(c.getValue())})`,
   }),
   col.accessor("phone", { header: "Phone", enableSorting: false, cell: (c) => c.getValue() ?? "—" }),
   col.accessor("email", { header: "E-mail", enableSorting: false, cell: (c) => c.getValue() ?? "—" }),

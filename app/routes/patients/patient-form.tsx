@@ -14,7 +14,8 @@ import { Card } from "~/components/ui/card";
 import { Textarea } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
 import type { z } from "zod";
-import { formatDate, patientSchema } from "~/models/patients/patient-schema";
+import { formatDate } from "~/lib/format";
+import { patientSchema } from "~/models/patients/patient-schema";
 
 export type Duplicate = {
   id: string;

@@ -8,7 +8,8 @@ import { audit } from "~/utils/audit.server";
 import { assertPatientAccess, requireUser } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { loadLetterhead, PdfWriter } from "~/utils/pdf.server";
-import { formatDate, isUuid } from "~/models/patients/patient-schema";
+import { formatDate } from "~/lib/format";
+import { isUuid } from "~/models/patients/patient-schema";
 import { prescriptionsOf, RX_CAUTIONS } from "~/models/prescriptions/prescriptions.server";
 
 /** Printed powers use the true minus sign (U+2212) and the multiplication sign before an axis. */

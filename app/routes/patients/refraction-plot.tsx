@@ -15,7 +15,7 @@ import {
 import { Card } from "~/components/ui/card";
 import { useHydrated } from "~/components/use-hydrated";
 import { StatusBadge } from "~/components/ui/notice";
-import { formatDate } from "~/models/patients/patient-schema";
+import { formatDate } from "~/lib/format";
 
 type Point = {
   examId: string;

@@ -8,9 +8,8 @@ import { Card } from "~/components/ui/card";
 import { Notice } from "~/components/ui/notice";
 import { InvoiceStatusBadge } from "~/components/billing/invoice-status";
 import { latestOnlineAttempt, startCheckout } from "~/models/billing/checkout.server";
-import { formatDate } from "~/models/billing/documents.server";
 import { BillingError, invoiceLabel, practiceBilling } from "~/models/billing/invoices.server";
-import { formatMoney } from "~/lib/money";
+import { formatDate, formatMoney } from "~/lib/format";
 import { audit } from "~/utils/audit.server";
 
 /**
@@ -36,7 +35,9 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     invoice: {
       label: invoiceLabel(d.invoice.number),
       status: d.invoice.status,
-      issuedAt: d.invoice.issuedAt ? formatDate(d.invoice.issuedAt, practice.timeZone) : "",
+      issuedAt: d.invoice.issuedAt
+        ? formatDate(d.invoice.issuedAt, { timeZone: practice.timeZone, style: "long" })
+        : "",
       total: formatMoney(d.invoice.totalMinor, cur),
       paid: formatMoney(d.invoice.paidMinor, cur),
       dueMinor: d.invoice.totalMinor - d.invoice.paidMinor,
@@ -52,7 +53,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     })),
     checkout: url.searchParams.get("checkout"),
     attempt: attempt ? { status: attempt.status, problem: attempt.problem } : null,
-    linkExpires: formatDate(expiresAt, practice.timeZone),
+    linkExpires: formatDate(expiresAt, { timeZone: practice.timeZone, style: "long" }),
     pdfHref: `/pay/${params.token}/invoice.pdf`,
   };
 }

@@ -7,7 +7,7 @@ import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
-import { formatMoney } from "~/lib/money";
+import { formatMoney } from "~/lib/format";
 import { signPayLink } from "~/models/billing/checkout.server";
 import { audit } from "~/utils/audit.server";
 

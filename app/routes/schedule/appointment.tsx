@@ -32,10 +32,11 @@ import { db } from "~/utils/db.server";
 import { sendReminderNow } from "~/models/schedule/reminders.server";
 import { BookingError, moveAppointment, practiceSchedule } from "~/models/schedule/schedule.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { notFound } from "~/utils/failure.server";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
-  if (!z.uuid().safeParse(params.appointmentId).success) throw data({ error: "No such appointment." }, { status: 404 });
+  if (!z.uuid().safeParse(params.appointmentId).success) notFound("No such appointment.");
   const { timeZone } = await practiceSchedule();
   const [a] = await db
     .select({
@@ -56,7 +57,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     .innerJoin(patients, eq(patients.id, appointments.patientId))
     .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
     .where(eq(appointments.id, params.appointmentId));
-  if (!a) throw data({ error: "No such appointment." }, { status: 404 });
+  if (!a) notFound("No such appointment.");
   const history = await db
     .select({
       from: appointmentStatusChanges.fromStatus,

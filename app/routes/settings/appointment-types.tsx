@@ -1,3 +1,5 @@
+import { formatMoney } from "~/lib/format";
+import { createColumnHelper } from "@tanstack/react-table";
 import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { asc, eq } from "drizzle-orm";
@@ -5,7 +7,8 @@ import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/appointment-types";
 import { ErrorList, Field, SelectField } from "~/components/forms";
-import { PageHeader } from "~/components/page-header";
+import { DataTable } from "~/components/data-table";
+import { EditLink, SettingsPage } from "~/components/settings-page";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
@@ -141,9 +144,8 @@ export async function action({ request }: Route.ActionArgs) {
   return redirectWithToast("/settings/appointment-types", { kind: "success", title: `${v.name} saved` });
 }
 
-function money(minor: number, currency: string) {
-  return new Intl.NumberFormat("en-GB", { style: "currency", currency }).format(minor / 100);
-}
+type Type = Awaited<ReturnType<typeof loader>>["types"][number];
+const col = createColumnHelper<Type>();
 
 export default function AppointmentTypes({ loaderData, actionData }: Route.ComponentProps) {
   const { types, fees, editing, reminderHoursBefore, currency } = loaderData;
@@ -174,66 +176,64 @@ export default function AppointmentTypes({ loaderData, actionData }: Route.Compo
   });
   const feeName = (id: string | null) => {
     const f = fees.find((x) => x.id === id);
-    return f ? `${f.code} · ${f.description} (${money(f.priceMinor, currency)})` : "None";
+    return f ? `${f.code} · ${f.description} (${formatMoney(f.priceMinor, currency)})` : "None";
   };
+  const columns = [
+    col.accessor("name", { header: "Name", meta: { className: "font-semibold" } }),
+    col.accessor("durationMinutes", { header: "Length", cell: (c) => `${c.getValue()} min` }),
+    col.accessor("defaultFeeItemId", { header: "Default fee line", cell: (c) => feeName(c.getValue()) }),
+    col.accessor("performerRoles", {
+      header: "Performed by",
+      cell: (c) =>
+        c
+          .getValue()
+          .map((r) => ROLE_LABEL[r])
+          .join(", "),
+    }),
+    col.accessor("recallMonths", {
+      header: "Recall",
+      cell: ({ row: { original: t } }) =>
+        !t.routineExam ? "Not a routine exam" : t.recallMonths ? `${t.recallMonths} months` : "Practice default by age",
+    }),
+    col.accessor("active", {
+      header: "Offered",
+      cell: ({ row: { original: t } }) => (
+        <>
+          {t.active ? (
+            <StatusBadge tone="success">Offered</StatusBadge>
+          ) : (
+            <StatusBadge tone="warning">Withdrawn</StatusBadge>
+          )}
+          {t.active && t.onlineBooking ? (
+            <span className="mt-1 block text-xs text-muted">also bookable online</span>
+          ) : null}
+        </>
+      ),
+    }),
+    col.display({
+      id: "edit",
+      header: () => <span className="sr-only">Edit</span>,
+      cell: ({ row: { original: t } }) => <EditLink id={t.id} what={t.name} />,
+    }),
+  ];
   return (
-    <>
-      <PageHeader
-        title="Appointment types"
-        description="The kinds of visit the practice books: length, default fee line, who may perform them and the recall interval."
-      />
-      <Card title="Types" className="mb-6">
-        <div className="overflow-x-auto">
-          <table className="w-full text-left text-sm">
-            <thead className="border-b border-line text-muted">
-              <tr>
-                <th className="py-2 pr-4 font-semibold">Name</th>
-                <th className="py-2 pr-4 font-semibold">Length</th>
-                <th className="py-2 pr-4 font-semibold">Default fee line</th>
-                <th className="py-2 pr-4 font-semibold">Performed by</th>
-                <th className="py-2 pr-4 font-semibold">Recall</th>
-                <th className="py-2 pr-4 font-semibold">Offered</th>
-                <th className="py-2 font-semibold">
-                  <span className="sr-only">Edit</span>
-                </th>
-              </tr>
-            </thead>
-            <tbody className="divide-y divide-line">
-              {types.map((t) => (
-                <tr key={t.id}>
-                  <td className="py-2 pr-4 font-semibold">{t.name}</td>
-                  <td className="py-2 pr-4">{t.durationMinutes} min</td>
-                  <td className="py-2 pr-4">{feeName(t.defaultFeeItemId)}</td>
-                  <td className="py-2 pr-4">{t.performerRoles.map((r) => ROLE_LABEL[r]).join(", ")}</td>
-                  <td className="py-2 pr-4">
-                    {!t.routineExam
-                      ? "Not a routine exam"
-                      : t.recallMonths
-                        ? `${t.recallMonths} months`
-                        : "Practice default by age"}
-                  </td>
-                  <td className="py-2 pr-4">
-                    {t.active ? (
-                      <StatusBadge tone="success">Offered</StatusBadge>
-                    ) : (
-                      <StatusBadge tone="warning">Withdrawn</StatusBadge>
-                    )}
-                    {t.active && t.onlineBooking ? (
-                      <span className="mt-1 block text-xs text-muted">also bookable online</span>
-                    ) : null}
-                  </td>
-                  <td className="py-2">
-                    <Link to={`?edit=${t.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
-                      Edit<span className="sr-only"> {t.name}</span>
-                    </Link>
-                  </td>
-                </tr>
-              ))}
-            </tbody>
-          </table>
-        </div>
-      </Card>
-      <Card title={editing ? `Edit ${editing.name}` : "Add a type"} className="mb-6">
+    <SettingsPage
+      title="Appointment types"
+      description="The kinds of visit the practice books: length, default fee line, who may perform them and the recall interval."
+      list={{
+        title: "Types",
+        content: (
+          <DataTable
+            data={types}
+            columns={columns}
+            getRowId={(t) => t.id}
+            caption="Appointment types"
+            empty="No types yet."
+          />
+        ),
+      }}
+    >
+      <Card title={editing ? `Edit ${editing.name}` : "Add a type"}>
         <Form method="post" {...getFormProps(form)} className="grid gap-4 sm:grid-cols-2" key={editing?.id ?? "new"}>
           <input type="hidden" name="intent" value="save" />
           {editing ? <input type="hidden" name="id" value={editing.id} /> : null}
@@ -258,7 +258,7 @@ export default function AppointmentTypes({ loaderData, actionData }: Route.Compo
             <option value="">None</option>
             {fees.map((f) => (
               <option key={f.id} value={f.id}>
-                {f.code} · {f.description} ({money(f.priceMinor, currency)})
+                {f.code} · {f.description} ({formatMoney(f.priceMinor, currency)})
               </option>
             ))}
           </SelectField>
@@ -343,7 +343,7 @@ export default function AppointmentTypes({ loaderData, actionData }: Route.Compo
           </Button>
         </Form>
       </Card>
-    </>
+    </SettingsPage>
   );
 }
 

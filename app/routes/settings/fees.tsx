@@ -1,21 +1,25 @@
 import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
+import { createColumnHelper } from "@tanstack/react-table";
 import { asc, eq, sql } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/fees";
 import { Field, SelectField } from "~/components/forms";
-import { PageHeader } from "~/components/page-header";
+import { DataTable } from "~/components/data-table";
+import { EditLink, RowIntentButton, SettingsPage } from "~/components/settings-page";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { feeItems, practiceSettings } from "~/db/schema";
-import { formatMoney, formatRate, minorToDecimal, parseMoney } from "~/lib/money";
+import { formatMoney } from "~/lib/format";
+import { formatRate, minorToDecimal, parseMoney } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { decimalField } from "~/utils/number-field";
+import { notFound } from "~/utils/failure.server";
 
 const feeSchema = z.object({
   intent: z.literal("save"),
@@ -109,7 +113,7 @@ export async function action({ request }: Route.ActionArgs) {
     await db.transaction(async (tx) => {
       if (v.id) {
         const done = await tx.update(feeItems).set(values).where(eq(feeItems.id, v.id)).returning({ id: feeItems.id });
-        if (!done.length) throw data({ error: "There is no such fee." }, { status: 404 });
+        if (!done.length) notFound("There is no such fee.");
       } else await tx.insert(feeItems).values(values);
       await audit(
         {
@@ -131,7 +135,7 @@ export async function action({ request }: Route.ActionArgs) {
       .set({ active: v.intent === "restore" })
       .where(eq(feeItems.id, v.id))
       .returning({ code: feeItems.code });
-    if (!done.length) throw data({ error: "There is no such fee." }, { status: 404 });
+    if (!done.length) notFound("There is no such fee.");
     await audit(
       {
         action: `billing.fee_${v.intent === "restore" ? "restored" : "withdrawn"}`,
@@ -148,6 +152,47 @@ export async function action({ request }: Route.ActionArgs) {
     title: v.intent === "restore" ? "Fee restored" : "Fee withdrawn: it can no longer be added to invoices",
   });
 }
+
+type Fee = Awaited<ReturnType<typeof loader>>["fees"][number];
+const col = createColumnHelper<Fee>();
+const feeColumns = (currency: string) => [
+  col.accessor("code", { header: "Code", meta: { className: "font-mono font-semibold" } }),
+  col.accessor("description", { header: "Description" }),
+  col.accessor("kind", { header: "Kind", cell: (c) => (c.getValue() === "service" ? "Service" : "Item") }),
+  col.accessor("taxCategory", {
+    header: "Tax",
+    cell: (c) => (c.getValue() === "standard" ? "Standard rate" : "Exempt"),
+  }),
+  col.accessor("priceMinor", {
+    header: "Price",
+    meta: { align: "right" },
+    cell: (c) => formatMoney(c.getValue(), currency),
+  }),
+  col.accessor("active", {
+    header: "Status",
+    cell: (c) =>
+      c.getValue() ? (
+        <StatusBadge tone="success">In use</StatusBadge>
+      ) : (
+        <StatusBadge tone="warning">Withdrawn</StatusBadge>
+      ),
+  }),
+  col.display({
+    id: "actions",
+    header: () => <span className="sr-only">Actions</span>,
+    cell: ({ row: { original: f } }) => (
+      <div className="flex gap-2">
+        <EditLink id={f.id} what={f.code} />
+        <RowIntentButton
+          id={f.id}
+          intent={f.active ? "withdraw" : "restore"}
+          label={f.active ? "Withdraw" : "Restore"}
+          what={f.code}
+        />
+      </div>
+    ),
+  }),
+];
 
 export default function FeeSchedule({ loaderData, actionData }: Route.ComponentProps) {
   const { fees, currency, editing, taxRateBp } = loaderData;
@@ -174,72 +219,22 @@ export default function FeeSchedule({ loaderData, actionData }: Route.ComponentP
     defaultValue: { taxRate: String(taxRateBp / 100) },
   });
   return (
-    <>
-      <PageHeader
-        title="Fee schedule"
-        description={`Codes, descriptions and prices used on invoices. Prices are before tax, in ${currency}.`}
-      />
-      <Card title="Fees" className="mb-6">
-        {fees.length === 0 ? <p className="text-muted">No fees yet. Add the first one below.</p> : null}
-        <div className="overflow-x-auto">
-          <table className="w-full text-left text-sm">
-            <thead className="border-b border-line text-muted">
-              <tr>
-                <th className="py-2 pr-4 font-semibold">Code</th>
-                <th className="py-2 pr-4 font-semibold">Description</th>
-                <th className="py-2 pr-4 font-semibold">Kind</th>
-                <th className="py-2 pr-4 font-semibold">Tax</th>
-                <th className="py-2 pr-4 text-right font-semibold">Price</th>
-                <th className="py-2 pr-4 font-semibold">Status</th>
-                <th className="py-2 font-semibold">
-                  <span className="sr-only">Actions</span>
-                </th>
-              </tr>
-            </thead>
-            <tbody className="divide-y divide-line">
-              {fees.map((f) => (
-                <tr key={f.id}>
-                  <td className="py-3 pr-4 font-mono font-semibold">{f.code}</td>
-                  <td className="py-3 pr-4">{f.description}</td>
-                  <td className="py-3 pr-4">{f.kind === "service" ? "Service" : "Item"}</td>
-                  <td className="py-3 pr-4">{f.taxCategory === "standard" ? "Standard rate" : "Exempt"}</td>
-                  <td className="py-3 pr-4 text-right tabular-nums">{formatMoney(f.priceMinor, currency)}</td>
-                  <td className="py-3 pr-4">
-                    {f.active ? (
-                      <StatusBadge tone="success">In use</StatusBadge>
-                    ) : (
-                      <StatusBadge tone="warning">Withdrawn</StatusBadge>
-                    )}
-                  </td>
-                  <td className="py-3">
-                    <div className="flex gap-2">
-                      <Link
-                        to={`?edit=${f.id}`}
-                        className="rounded-md border border-line px-3 py-1 text-sm font-semibold hover:bg-canvas"
-                      >
-                        Edit<span className="sr-only"> {f.code}</span>
-                      </Link>
-                      <Form method="post">
-                        <input type="hidden" name="id" value={f.id} />
-                        <Button
-                          type="submit"
-                          name="intent"
-                          value={f.active ? "withdraw" : "restore"}
-                          variant="secondary"
-                          className="px-3 py-1"
-                        >
-                          {f.active ? "Withdraw" : "Restore"}
-                          <span className="sr-only"> {f.code}</span>
-                        </Button>
-                      </Form>
-                    </div>
-                  </td>
-                </tr>
-              ))}
-            </tbody>
-          </table>
-        </div>
-      </Card>
+    <SettingsPage
+      title="Fee schedule"
+      description={`Codes, descriptions and prices used on invoices. Prices are before tax, in ${currency}.`}
+      list={{
+        title: "Fees",
+        content: (
+          <DataTable
+            data={fees}
+            columns={feeColumns(currency)}
+            getRowId={(f) => f.id}
+            caption="Fees"
+            empty="No fees yet. Add the first one below."
+          />
+        ),
+      }}
+    >
       <div className="grid gap-6 lg:grid-cols-[2fr_1fr]">
         <Card title={editing ? `Edit ${editing.code}` : "Add a fee"}>
           <Form method="post" {...getFormProps(form)} className="grid gap-4 sm:grid-cols-2" key={editing?.id ?? "new"}>
@@ -312,7 +307,7 @@ export default function FeeSchedule({ loaderData, actionData }: Route.ComponentP
           </Form>
         </Card>
       </div>
-    </>
+    </SettingsPage>
   );
 }
 

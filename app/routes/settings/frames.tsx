@@ -1,19 +1,22 @@
 import { parseWithZod } from "@conform-to/zod/v4";
 import { asc, desc, eq } from "drizzle-orm";
-import { data, Form, useNavigation } from "react-router";
+import { createColumnHelper } from "@tanstack/react-table";
+import { data, Form } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/frames";
 import { ErrorList } from "~/components/forms";
-import { PageHeader } from "~/components/page-header";
+import { DataTable } from "~/components/data-table";
+import { ActiveToggle, AddItemForm, SettingsPage } from "~/components/settings-page";
 import { Button } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
 import { Input } from "~/components/ui/input";
-import { Notice, StatusBadge } from "~/components/ui/notice";
+import { StatusBadge } from "~/components/ui/notice";
 import { frames, practiceSettings } from "~/db/schema";
-import { formatMoney, parseMoney } from "~/lib/money";
+import { formatMoney } from "~/lib/format";
+import { parseMoney } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
+import { notFound } from "~/utils/failure.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { decimalField } from "~/utils/number-field";
 
@@ -116,7 +119,7 @@ export async function action({ request }: Route.ActionArgs) {
       );
     return rows[0];
   });
-  if (!changed) throw data({ error: "Not found." }, { status: 404 });
+  if (!changed) notFound("Not found.");
   return redirectWithToast("/settings/frames", {
     kind: "success",
     title:
@@ -128,129 +131,116 @@ export async function action({ request }: Route.ActionArgs) {
   });
 }
 
+type Frame = Awaited<ReturnType<typeof loader>>["frames"][number];
+const col = createColumnHelper<Frame>();
+
 export default function FramesSettings({ loaderData, actionData }: Route.ComponentProps) {
-  const navigation = useNavigation();
-  const addErrors = actionData?.intent === "add" ? (actionData.result.error ?? {}) : {};
-  const fieldError = (name: string) => (addErrors as Record<string, string[] | null>)[name] ?? undefined;
-  return (
-    <>
-      <PageHeader
-        title="Frames"
-        description="The practice's frame stock. An order takes one frame out of stock; cancelling it puts the frame back."
-      />
-      <Card title="Add a frame">
-        <Form method="post" className="grid gap-4 sm:grid-cols-3" noValidate>
-          <input type="hidden" name="intent" value="add" />
-          {[
-            ["supplier", "Supplier", "text"],
-            ["model", "Model", "text"],
-            ["colour", "Colour", "text"],
-            ["size", "Size (eye-bridge-side)", "text"],
-            ["price", `Price (${loaderData.currency})`, "text"],
-            ["quantity", "Quantity in stock", "number"],
-          ].map(([name, label, type]) => (
-            <div key={name}>
-              <label htmlFor={`frame-${name}`} className="mb-1 block text-sm font-semibold">
-                {label}
-              </label>
+  const addErrors = (actionData?.intent === "add" ? (actionData.result.error ?? {}) : {}) as Record<
+    string,
+    string[] | null
+  >;
+  const stockError = (id: string) =>
+    actionData?.intent === "stock" && actionData.id === id
+      ? (actionData.result.error as Record<string, string[]> | undefined)?.quantity
+      : undefined;
+  const columns = [
+    col.accessor("model", {
+      header: "Frame",
+      cell: ({ row: { original: f } }) => (
+        <>
+          <span className="font-semibold">
+            {f.supplier} {f.model}
+          </span>
+          <br />
+          {f.colour}
+        </>
+      ),
+    }),
+    col.accessor("size", { header: "Size" }),
+    col.accessor("priceMinor", {
+      header: "Price",
+      meta: { align: "right" },
+      cell: (c) => formatMoney(c.getValue(), loaderData.currency),
+    }),
+    col.accessor("quantity", {
+      header: "In stock",
+      cell: ({ row: { original: f } }) => (
+        <>
+          <Form method="post" className="flex items-start gap-2">
+            <input type="hidden" name="intent" value="stock" />
+            <input type="hidden" name="id" value={f.id} />
+            <div>
               <Input
-                id={`frame-${name}`}
-                name={name}
-                type={type}
-                inputMode={name === "price" ? "decimal" : undefined}
-                aria-invalid={fieldError(name!) ? true : undefined}
-                aria-describedby={fieldError(name!) ? `frame-${name}-error` : undefined}
+                aria-label={`Quantity of ${f.supplier} ${f.model} ${f.colour}`}
+                name="quantity"
+                type="number"
+                defaultValue={f.quantity}
+                className="w-20"
               />
-              <ErrorList id={`frame-${name}-error`} errors={fieldError(name!)} />
+              <ErrorList errors={stockError(f.id)} />
             </div>
-          ))}
-          <div className="sm:col-span-3">
-            <Button
-              type="submit"
-              pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "add"}
-            >
-              Add frame
+            <Button type="submit" variant="secondary">
+              Set
             </Button>
-          </div>
-        </Form>
-      </Card>
-      <Card title="Stock" className="mt-6">
-        {loaderData.frames.length === 0 ? (
-          <p className="text-muted">No frames yet.</p>
-        ) : (
-          <div className="overflow-x-auto">
-            <table className="w-full text-left text-sm">
-              <thead>
-                <tr className="border-b border-line">
-                  <th className="py-2 pr-3">Frame</th>
-                  <th className="py-2 pr-3">Size</th>
-                  <th className="py-2 pr-3 text-right">Price</th>
-                  <th className="py-2 pr-3">In stock</th>
-                  <th className="py-2">Offered</th>
-                </tr>
-              </thead>
-              <tbody>
-                {loaderData.frames.map((f) => {
-                  const err =
-                    actionData?.intent === "stock" && actionData.id === f.id
-                      ? (actionData.result.error as Record<string, string[]> | undefined)?.quantity
-                      : undefined;
-                  return (
-                    <tr key={f.id} className="border-b border-line align-top">
-                      <td className="py-2 pr-3">
-                        <span className="font-semibold">
-                          {f.supplier} {f.model}
-                        </span>
-                        <br />
-                        {f.colour}
-                      </td>
-                      <td className="py-2 pr-3">{f.size}</td>
-                      <td className="py-2 pr-3 text-right">{formatMoney(f.priceMinor, loaderData.currency)}</td>
-                      <td className="py-2 pr-3">
-                        <Form method="post" className="flex items-start gap-2">
-                          <input type="hidden" name="intent" value="stock" />
-                          <input type="hidden" name="id" value={f.id} />
-                          <div>
-                            <Input
-                              aria-label={`Quantity of ${f.supplier} ${f.model} ${f.colour}`}
-                              name="quantity"
-                              type="number"
-                              defaultValue={f.quantity}
-                              className="w-20"
-                            />
-                            <ErrorList errors={err} />
-                          </div>
-                          <Button type="submit" variant="secondary">
-                            Set
-                          </Button>
-                        </Form>
-                        {f.quantity === 0 ? <StatusBadge tone="warning">Out of stock</StatusBadge> : null}
-                      </td>
-                      <td className="py-2">
-                        <Form method="post">
-                          <input type="hidden" name="intent" value={f.active ? "withdraw" : "restore"} />
-                          <input type="hidden" name="id" value={f.id} />
-                          <Button
-                            type="submit"
-                            variant="ghost"
-                            aria-label={`${f.active ? "Withdraw" : "Offer again"}: ${f.supplier} ${f.model} ${f.colour}`}
-                          >
-                            {f.active ? "Withdraw" : "Offer again"}
-                          </Button>
-                        </Form>
-                      </td>
-                    </tr>
-                  );
-                })}
-              </tbody>
-            </table>
-          </div>
-        )}
-      </Card>
-      {actionData && actionData.intent !== "add" && actionData.intent !== "stock" ? (
-        <Notice tone="error" title="Not saved" />
-      ) : null}
-    </>
+          </Form>
+          {f.quantity === 0 ? <StatusBadge tone="warning">Out of stock</StatusBadge> : null}
+        </>
+      ),
+    }),
+    col.accessor("active", {
+      header: "Offered",
+      cell: ({ row: { original: f } }) => (
+        <ActiveToggle
+          id={f.id}
+          active={f.active}
+          what={`${f.supplier} ${f.model} ${f.colour}`}
+          withdrawLabel="Withdraw"
+          restoreLabel="Offer again"
+        />
+      ),
+    }),
+  ];
+  return (
+    <SettingsPage
+      title="Frames"
+      description="The practice's frame stock. An order takes one frame out of stock; cancelling it puts the frame back."
+      notice={
+        actionData && actionData.intent !== "add" && actionData.intent !== "stock"
+          ? { tone: "error", title: "Not saved" }
+          : null
+      }
+      form={{
+        title: "Add a frame",
+        content: (
+          <AddItemForm
+            idPrefix="frame"
+            columns={3}
+            errors={(name) => addErrors[name] ?? undefined}
+            submitLabel="Add frame"
+            fields={[
+              { name: "supplier", label: "Supplier" },
+              { name: "model", label: "Model" },
+              { name: "colour", label: "Colour" },
+              { name: "size", label: "Size (eye-bridge-side)" },
+              { name: "price", label: `Price (${loaderData.currency})`, inputMode: "decimal" },
+              { name: "quantity", label: "Quantity in stock", type: "number" },
+            ]}
+          />
+        ),
+      }}
+      list={{
+        title: "Stock",
+        content: (
+          <DataTable
+            data={loaderData.frames}
+            columns={columns}
+            getRowId={(f) => f.id}
+            caption="Frames in stock"
+            empty="No frames yet."
+          />
+        ),
+      }}
+    />
   );
 }
 

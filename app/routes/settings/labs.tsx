@@ -1,18 +1,20 @@
 import { parseWithZod } from "@conform-to/zod/v4";
 import { asc, desc, eq } from "drizzle-orm";
-import { data, Form, useNavigation } from "react-router";
+import { createColumnHelper } from "@tanstack/react-table";
+import { data, Form } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/labs";
 import { ErrorList } from "~/components/forms";
-import { PageHeader } from "~/components/page-header";
+import { DataTable } from "~/components/data-table";
+import { ActiveToggle, AddItemForm, SettingsPage, SettingsSection } from "~/components/settings-page";
 import { Button } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
 import { Input } from "~/components/ui/input";
 import { StatusBadge } from "~/components/ui/notice";
 import { labs, practiceSettings } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
+import { notFound } from "~/utils/failure.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { decimalField } from "~/utils/number-field";
 
@@ -105,90 +107,85 @@ export async function action({ request }: Route.ActionArgs) {
       await audit({ action: `lab.${v.intent}`, actorUserId: user.id, entityType: "lab", entityId: v.id, request }, tx);
     return r;
   });
-  if (!row) throw data({ error: "Not found." }, { status: 404 });
+  if (!row) notFound("Not found.");
   return redirectWithToast("/settings/labs", {
     kind: "success",
     title: v.intent === "withdraw" ? `${row.name} hidden from new orders` : `${row.name} offered again`,
   });
 }
 
+type Lab = Awaited<ReturnType<typeof loader>>["labs"][number];
+const col = createColumnHelper<Lab>();
+const columns = [
+  col.accessor("name", {
+    header: "Lab",
+    cell: ({ row: { original: l } }) => (
+      <span className="font-semibold">
+        {l.name} {l.active ? null : <StatusBadge tone="warning">Not offered</StatusBadge>}
+      </span>
+    ),
+  }),
+  col.accessor("email", {
+    header: "Contact",
+    cell: ({ row: { original: l } }) => (
+      <>
+        {l.email}
+        {l.phone ? ` · ${l.phone}` : ""}
+        {l.accountRef ? ` · account ${l.accountRef}` : ""}
+      </>
+    ),
+  }),
+  col.accessor("active", {
+    header: "Offered",
+    cell: ({ row: { original: l } }) => (
+      <ActiveToggle
+        id={l.id}
+        active={l.active}
+        what={l.name}
+        withdrawLabel="Stop offering"
+        restoreLabel="Offer again"
+      />
+    ),
+  }),
+];
+
 export default function LabsSettings({ loaderData, actionData }: Route.ComponentProps) {
-  const navigation = useNavigation();
   const errors = (actionData?.result.error ?? {}) as Record<string, string[] | undefined>;
   const err = (intent: string, name: string) => (actionData?.intent === intent ? errors[name] : undefined);
   return (
-    <>
-      <PageHeader
-        title="Labs"
-        description="Where spectacle and contact-lens orders are sent. The order form goes to the lab's e-mail address."
-      />
-      <Card title="Add a lab">
-        <Form method="post" className="grid gap-4 sm:grid-cols-2" noValidate>
-          <input type="hidden" name="intent" value="add" />
-          {[
-            ["name", "Name", "text"],
-            ["email", "Order e-mail", "email"],
-            ["phone", "Phone", "tel"],
-            ["accountRef", "Practice's account number with the lab", "text"],
-          ].map(([name, label, type]) => (
-            <div key={name}>
-              <label htmlFor={`lab-${name}`} className="mb-1 block text-sm font-semibold">
-                {label}
-              </label>
-              <Input
-                id={`lab-${name}`}
-                name={name}
-                type={type}
-                aria-invalid={err("add", name!) ? true : undefined}
-                aria-describedby={err("add", name!) ? `lab-${name}-error` : undefined}
-              />
-              <ErrorList id={`lab-${name}-error`} errors={err("add", name!)} />
-            </div>
-          ))}
-          <div className="sm:col-span-2">
-            <Button
-              type="submit"
-              pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "add"}
-            >
-              Add lab
-            </Button>
-          </div>
-        </Form>
-      </Card>
-      <Card title="Labs" className="mt-6">
-        {loaderData.labs.length === 0 ? (
-          <p className="text-muted">No labs yet.</p>
-        ) : (
-          <ul className="divide-y divide-line">
-            {loaderData.labs.map((l) => (
-              <li key={l.id} className="flex flex-wrap items-center justify-between gap-3 py-3">
-                <div>
-                  <p className="font-semibold">
-                    {l.name} {l.active ? null : <StatusBadge tone="warning">Not offered</StatusBadge>}
-                  </p>
-                  <p className="text-sm text-muted">
-                    {l.email}
-                    {l.phone ? ` · ${l.phone}` : ""}
-                    {l.accountRef ? ` · account ${l.accountRef}` : ""}
-                  </p>
-                </div>
-                <Form method="post">
-                  <input type="hidden" name="intent" value={l.active ? "withdraw" : "restore"} />
-                  <input type="hidden" name="id" value={l.id} />
-                  <Button
-                    type="submit"
-                    variant="ghost"
-                    aria-label={`${l.active ? "Stop offering" : "Offer again"}: ${l.name}`}
-                  >
-                    {l.active ? "Stop offering" : "Offer again"}
-                  </Button>
-                </Form>
-              </li>
-            ))}
-          </ul>
-        )}
-      </Card>
-      <Card title="Overdue at the lab" className="mt-6">
+    <SettingsPage
+      title="Labs"
+      description="Where spectacle and contact-lens orders are sent. The order form goes to the lab's e-mail address."
+      form={{
+        title: "Add a lab",
+        content: (
+          <AddItemForm
+            idPrefix="lab"
+            errors={(name) => err("add", name)}
+            submitLabel="Add lab"
+            fields={[
+              { name: "name", label: "Name" },
+              { name: "email", label: "Order e-mail", type: "email" },
+              { name: "phone", label: "Phone", type: "tel" },
+              { name: "accountRef", label: "Practice's account number with the lab" },
+            ]}
+          />
+        ),
+      }}
+      list={{
+        title: "Labs",
+        content: (
+          <DataTable
+            data={loaderData.labs}
+            columns={columns}
+            getRowId={(l) => l.id}
+            caption="Labs"
+            empty="No labs yet."
+          />
+        ),
+      }}
+    >
+      <SettingsSection title="Overdue at the lab">
         <Form method="post" className="flex flex-wrap items-end gap-3" noValidate>
           <input type="hidden" name="intent" value="overdue" />
           <div>
@@ -210,8 +207,8 @@ export default function LabsSettings({ loaderData, actionData }: Route.Component
             Save
           </Button>
         </Form>
-      </Card>
-    </>
+      </SettingsSection>
+    </SettingsPage>
   );
 }
 

@@ -1,72 +1,20 @@
-import { getFormProps, getInputProps, getSelectProps, getTextareaProps, useForm } from "@conform-to/react";
+import { createColumnHelper } from "@tanstack/react-table";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { asc, desc, eq } from "drizzle-orm";
-import { data, Form, Link, useNavigation } from "react-router";
-import { z } from "zod";
+import { data } from "react-router";
 import type { Route } from "./+types/recipients";
-import { ErrorList, Field, SelectField } from "~/components/forms";
-import { PageHeader } from "~/components/page-header";
-import { Button, buttonClass } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
-import { Textarea } from "~/components/ui/input";
-import { Notice, StatusBadge } from "~/components/ui/notice";
+import { DataTable } from "~/components/data-table";
+import { EditLink, RowIntentButton, SettingsPage } from "~/components/settings-page";
+import { StatusBadge } from "~/components/ui/notice";
 import { practiceSettings, referralRecipients } from "~/db/schema";
-import { DEFAULT_TIME_FRAMES, URGENCY_LABEL } from "~/lib/referrals";
+import { DEFAULT_TIME_FRAMES } from "~/lib/referrals";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import { decimalField } from "~/utils/number-field";
-
-const DELIVERY = {
-  email: "E-mail (sent from Dioptra)",
-  post: "Post (print the PDF)",
-  fax: "Fax (print the PDF)",
-} as const;
-
-const optionalText = (max: number) => z.string().trim().max(max, `At most ${max} characters.`).default("");
-
-export const recipientSchema = z
-  .object({
-    intent: z.literal("save"),
-    id: z.uuid().optional(),
-    name: z
-      .string({ error: "Give the ophthalmologist's or clinic's name." })
-      .trim()
-      .min(2, "Give the ophthalmologist's or clinic's name.")
-      .max(120),
-    clinic: optionalText(160),
-    specialty: optionalText(120),
-    email: z.union([z.literal(""), z.email({ error: "Enter a valid e-mail address." })]).default(""),
-    phone: optionalText(40),
-    addressLine1: optionalText(200),
-    addressLine2: optionalText(200),
-    city: optionalText(100),
-    postcode: optionalText(20),
-    preferredDelivery: z.enum(["email", "post", "fax"], { error: "Choose how they prefer to receive letters." }),
-    notes: optionalText(1000),
-  })
-  .refine((v) => v.preferredDelivery !== "email" || v.email !== "", {
-    path: ["email"],
-    message: "An e-mail address is needed when they receive letters by e-mail.",
-  });
-
-const days = (label: string) =>
-  decimalField(
-    `${label}: give a number of days.`,
-    z.number().int("Whole days only.").min(0, "At least 0 days (same day).").max(730, "At most 730 days."),
-  );
-
-export const timeFrameSchema = z.object({
-  intent: z.literal("timeframes"),
-  referralDaysSameDay: days("Same day"),
-  referralDaysUrgent: days("Urgent"),
-  referralDaysSoon: days("Soon"),
-  referralDaysRoutine: days("Routine"),
-});
-
-const activeSchema = z.object({ intent: z.enum(["deactivate", "reactivate"]), id: z.uuid() });
-const schema = z.union([recipientSchema, timeFrameSchema, activeSchema]);
+import { notFound } from "~/utils/failure.server";
+import { RecipientForm, TimeFrames } from "./recipient-forms";
+import { DELIVERY, recipientSchema, timeFrameSchema, schema } from "./recipient-schema";
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);
@@ -203,259 +151,85 @@ export async function action({ request }: Route.ActionArgs) {
       );
     return res;
   });
-  if (!row) throw data({ error: "Not found." }, { status: 404 });
+  if (!row) notFound("Not found.");
   return redirectWithToast("/settings/recipients", {
     kind: "success",
     title: active ? `${row.name} can receive referrals again` : `${row.name} hidden from new referrals`,
   });
 }
 
-function RecipientForm({
-  editing,
-  lastResult,
-}: {
-  editing: Route.ComponentProps["loaderData"]["editing"];
-  lastResult: unknown;
-}) {
-  const navigation = useNavigation();
-  const [form, fields] = useForm({
-    id: editing ? `recipient-${editing.id}` : "recipient-new",
-    lastResult: navigation.state === "idle" ? (lastResult as never) : null,
-    defaultValue: editing ?? { preferredDelivery: "email" },
-    onValidate: ({ formData }) => parseWithZod(formData, { schema: recipientSchema }),
-    shouldValidate: "onBlur",
-  });
-  return (
-    <Card
-      title={editing ? `Edit ${editing.name}` : "Add a recipient"}
-      actions={
-        editing ? (
-          <Link
-            to="/settings/recipients"
-            className="text-sm font-semibold text-accent-700 underline underline-offset-4"
-          >
-            Cancel editing
-          </Link>
-        ) : null
-      }
-    >
-      <Form method="post" {...getFormProps(form)} className="grid gap-4 sm:grid-cols-2">
-        <input type="hidden" name="intent" value="save" />
-        {editing ? <input type="hidden" name="id" value={editing.id} /> : null}
-        {form.errors?.length ? (
-          <div className="sm:col-span-2">
-            <Notice tone="error" title="Not saved">
-              {form.errors.join(" ")}
-            </Notice>
-          </div>
-        ) : null}
-        <Field
-          label="Name"
-          hint="The ophthalmologist, or the clinic's referral desk."
-          errors={fields.name.errors}
-          inputProps={getInputProps(fields.name, { type: "text" })}
+type Recipient = Awaited<ReturnType<typeof loader>>["recipients"][number];
+const col = createColumnHelper<Recipient>();
+const recipientColumns = [
+  col.accessor("name", { header: "Name", meta: { className: "font-semibold" } }),
+  col.accessor("clinic", {
+    header: "Clinic and specialty",
+    cell: ({ row: { original: r } }) => (
+      <>
+        {r.clinic || "—"}
+        {r.specialty ? <span className="block text-muted">{r.specialty}</span> : null}
+      </>
+    ),
+  }),
+  col.accessor("email", {
+    header: "Contact",
+    cell: ({ row: { original: r } }) => (
+      <>
+        {r.email ?? "No e-mail"}
+        {r.phone ? <span className="block text-muted">{r.phone}</span> : null}
+      </>
+    ),
+  }),
+  col.accessor("preferredDelivery", { header: "Receives by", cell: (c) => DELIVERY[c.getValue()].split(" (")[0] }),
+  col.accessor("active", {
+    header: "Status",
+    cell: (c) =>
+      c.getValue() ? <StatusBadge tone="success">In use</StatusBadge> : <StatusBadge tone="info">Hidden</StatusBadge>,
+  }),
+  col.display({
+    id: "actions",
+    header: () => <span className="sr-only">Actions</span>,
+    cell: ({ row: { original: r } }) => (
+      <div className="flex flex-wrap gap-2">
+        <EditLink id={r.id} what={r.name} />
+        <RowIntentButton
+          id={r.id}
+          intent={r.active ? "deactivate" : "reactivate"}
+          label={r.active ? "Hide" : "Use again"}
+          what={r.name}
+          variant={r.active ? "ghost" : "secondary"}
         />
-        <Field
-          label="Clinic or hospital"
-          errors={fields.clinic.errors}
-          inputProps={getInputProps(fields.clinic, { type: "text" })}
-        />
-        <Field
-          label="Specialty"
-          hint="For example glaucoma, medical retina, neuro-ophthalmology."
-          errors={fields.specialty.errors}
-          inputProps={getInputProps(fields.specialty, { type: "text" })}
-        />
-        <SelectField
-          label="Prefers to receive letters by"
-          errors={fields.preferredDelivery.errors}
-          selectProps={getSelectProps(fields.preferredDelivery)}
-        >
-          {Object.entries(DELIVERY).map(([k, label]) => (
-            <option key={k} value={k}>
-              {label}
-            </option>
-          ))}
-        </SelectField>
-        <Field
-          label="E-mail"
-          errors={fields.email.errors}
-          inputProps={getInputProps(fields.email, { type: "email" })}
-        />
-        <Field label="Phone" errors={fields.phone.errors} inputProps={getInputProps(fields.phone, { type: "tel" })} />
-        <Field
-          label="Address"
-          errors={fields.addressLine1.errors}
-          inputProps={getInputProps(fields.addressLine1, { type: "text" })}
-        />
-        <Field
-          label="Address (second line)"
-          errors={fields.addressLine2.errors}
-          inputProps={getInputProps(fields.addressLine2, { type: "text" })}
-        />
-        <Field
-          label="Town or city"
-          errors={fields.city.errors}
-          inputProps={getInputProps(fields.city, { type: "text" })}
-        />
-        <Field
-          label="Postcode"
-          errors={fields.postcode.errors}
-          inputProps={getInputProps(fields.postcode, { type: "text" })}
-        />
-        <div className="sm:col-span-2">
-          <label htmlFor={fields.notes.id} className="mb-1 block text-sm font-semibold">
-            Notes for the team
-          </label>
-          <Textarea {...getTextareaProps(fields.notes)} rows={2} />
-          <ErrorList errors={fields.notes.errors} />
-        </div>
-        <div className="sm:col-span-2">
-          <Button
-            type="submit"
-            pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "save"}
-          >
-            {editing ? "Save recipient" : "Add recipient"}
-          </Button>
-        </div>
-      </Form>
-    </Card>
-  );
-}
-
-function TimeFrames({
-  values,
-  lastResult,
-}: {
-  values: Route.ComponentProps["loaderData"]["timeFrames"];
-  lastResult: unknown;
-}) {
-  const navigation = useNavigation();
-  const [form, fields] = useForm({
-    id: "timeframes",
-    lastResult: navigation.state === "idle" ? (lastResult as never) : null,
-    defaultValue: values,
-    onValidate: ({ formData }) => parseWithZod(formData, { schema: timeFrameSchema }),
-    shouldValidate: "onBlur",
-  });
-  const rows = [
-    ["referralDaysSameDay", URGENCY_LABEL.same_day],
-    ["referralDaysUrgent", URGENCY_LABEL.urgent],
-    ["referralDaysSoon", URGENCY_LABEL.soon],
-    ["referralDaysRoutine", URGENCY_LABEL.routine],
-  ] as const;
-  return (
-    <Card title="Referral time frames">
-      <p className="mb-4 text-sm text-muted">
-        Days within which a referred patient should be seen, counted from sending. Past it, the referral shows as
-        overdue and can be chased. The defaults are common practice; local referral pathways govern.
-      </p>
-      <Form method="post" {...getFormProps(form)} className="grid gap-4 sm:grid-cols-4">
-        <input type="hidden" name="intent" value="timeframes" />
-        {rows.map(([name, label]) => (
-          <Field
-            key={name}
-            label={`${label} (days)`}
-            errors={fields[name].errors}
-            inputProps={getInputProps(fields[name], { type: "number" })}
-          />
-        ))}
-        <div className="sm:col-span-4">
-          <Button
-            type="submit"
-            variant="secondary"
-            pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "timeframes"}
-          >
-            Save time frames
-          </Button>
-        </div>
-      </Form>
-    </Card>
-  );
-}
+      </div>
+    ),
+  }),
+];
 
 export default function Recipients({ loaderData, actionData }: Route.ComponentProps) {
   const ad = actionData as { intent?: string; result?: unknown } | undefined;
   return (
-    <>
-      <PageHeader
-        title="Referral recipients"
-        description="The ophthalmologists and clinics your optometrists refer to. Letters go to the e-mail address given here."
+    <SettingsPage
+      title="Referral recipients"
+      description="The ophthalmologists and clinics your optometrists refer to. Letters go to the e-mail address given here."
+      list={{
+        title: "Directory",
+        content: (
+          <DataTable
+            data={loaderData.recipients}
+            columns={recipientColumns}
+            getRowId={(r) => r.id}
+            caption="Referral recipients"
+            empty="No recipients yet. Add the first one below."
+          />
+        ),
+      }}
+    >
+      <RecipientForm
+        key={loaderData.editing?.id ?? "new"}
+        editing={loaderData.editing}
+        lastResult={ad?.intent === "save" ? ad.result : null}
       />
-      <Card title="Directory" className="mb-6">
-        {loaderData.recipients.length === 0 ? (
-          <p className="text-muted">No recipients yet. Add the first one below.</p>
-        ) : (
-          <div className="overflow-x-auto">
-            <table className="w-full text-left text-sm">
-              <thead className="border-b border-line text-muted">
-                <tr>
-                  <th className="py-2 pr-4 font-semibold">Name</th>
-                  <th className="py-2 pr-4 font-semibold">Clinic and specialty</th>
-                  <th className="py-2 pr-4 font-semibold">Contact</th>
-                  <th className="py-2 pr-4 font-semibold">Receives by</th>
-                  <th className="py-2 pr-4 font-semibold">Status</th>
-                  <th className="py-2 font-semibold">
-                    <span className="sr-only">Actions</span>
-                  </th>
-                </tr>
-              </thead>
-              <tbody className="divide-y divide-line">
-                {loaderData.recipients.map((r) => (
-                  <tr key={r.id}>
-                    <td className="py-3 pr-4 font-semibold">{r.name}</td>
-                    <td className="py-3 pr-4">
-                      {r.clinic || "—"}
-                      {r.specialty ? <span className="block text-muted">{r.specialty}</span> : null}
-                    </td>
-                    <td className="py-3 pr-4">
-                      {r.email ?? "No e-mail"}
-                      {r.phone ? <span className="block text-muted">{r.phone}</span> : null}
-                    </td>
-                    <td className="py-3 pr-4">{DELIVERY[r.preferredDelivery].split(" (")[0]}</td>
-                    <td className="py-3 pr-4">
-                      {r.active ? (
-                        <StatusBadge tone="success">In use</StatusBadge>
-                      ) : (
-                        <StatusBadge tone="info">Hidden</StatusBadge>
-                      )}
-                    </td>
-                    <td className="py-3">
-                      <div className="flex flex-wrap gap-2">
-                        <Link to={`?edit=${r.id}`} className={buttonClass("secondary", "px-3 py-1")}>
-                          Edit<span className="sr-only"> {r.name}</span>
-                        </Link>
-                        <Form method="post">
-                          <input type="hidden" name="id" value={r.id} />
-                          <Button
-                            type="submit"
-                            name="intent"
-                            value={r.active ? "deactivate" : "reactivate"}
-                            variant={r.active ? "ghost" : "secondary"}
-                            className="px-3 py-1"
-                          >
-                            {r.active ? "Hide" : "Use again"}
-                            <span className="sr-only"> {r.name}</span>
-                          </Button>
-                        </Form>
-                      </div>
-                    </td>
-                  </tr>
-                ))}
-              </tbody>
-            </table>
-          </div>
-        )}
-      </Card>
-      <div className="space-y-6">
-        <RecipientForm
-          key={loaderData.editing?.id ?? "new"}
-          editing={loaderData.editing}
-          lastResult={ad?.intent === "save" ? ad.result : null}
-        />
-        <TimeFrames values={loaderData.timeFrames} lastResult={ad?.intent === "timeframes" ? ad.result : null} />
-      </div>
-    </>
+      <TimeFrames values={loaderData.timeFrames} lastResult={ad?.intent === "timeframes" ? ad.result : null} />
+    </SettingsPage>
   );
 }
 

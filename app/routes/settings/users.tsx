@@ -1,3 +1,4 @@
+import { createColumnHelper } from "@tanstack/react-table";
 import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { asc } from "drizzle-orm";
@@ -6,11 +7,11 @@ import { z } from "zod";
 import type { Route } from "./+types/users";
 import { changeRole, inviteUser, setActive, UserAdminError } from "~/models/users/users.server";
 import { Field, SelectField } from "~/components/forms";
-import { PageHeader } from "~/components/page-header";
+import { DataTable } from "~/components/data-table";
+import { RowIntentButton, SettingsPage } from "~/components/settings-page";
 import { Button } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
 import { Select } from "~/components/ui/input";
-import { Notice, StatusBadge } from "~/components/ui/notice";
+import { StatusBadge } from "~/components/ui/notice";
 import { users } from "~/db/schema";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
@@ -102,6 +103,42 @@ function RoleForm({ user }: { user: { id: string; role: string; name: string } }
   );
 }
 
+type User = Awaited<ReturnType<typeof loader>>["users"][number];
+const col = createColumnHelper<User>();
+const userColumns = [
+  col.accessor("name", { header: "Name", meta: { className: "font-semibold" } }),
+  col.accessor("email", { header: "E-mail" }),
+  col.accessor("active", {
+    header: "Status",
+    cell: ({ row: { original: u } }) =>
+      !u.active ? (
+        <StatusBadge tone="error">Deactivated</StatusBadge>
+      ) : u.pending ? (
+        <StatusBadge tone="warning">Invited</StatusBadge>
+      ) : (
+        <StatusBadge tone="success">Active</StatusBadge>
+      ),
+  }),
+  col.accessor("role", {
+    header: "Role",
+    cell: ({ row: { original: u } }) => (u.role === "patient" ? ROLE_LABEL.patient : <RoleForm user={u} />),
+  }),
+  col.display({
+    id: "actions",
+    header: () => <span className="sr-only">Actions</span>,
+    cell: ({ row: { original: u } }) => (
+      <RowIntentButton
+        id={u.id}
+        idName="userId"
+        intent={u.active ? "deactivate" : "reactivate"}
+        label={u.active ? "Deactivate" : "Reactivate"}
+        what={u.name}
+        variant={u.active ? "danger" : "secondary"}
+      />
+    ),
+  }),
+];
+
 export default function UsersSettings({ loaderData, actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
   const [form, fields] = useForm({
@@ -111,97 +148,54 @@ export default function UsersSettings({ loaderData, actionData }: Route.Componen
     shouldValidate: "onBlur",
   });
   return (
-    <>
-      <PageHeader
-        title="Team and accounts"
-        description="Invite colleagues, change roles and close accounts. Every change is recorded in the audit log."
-      />
-      {form.errors?.length ? (
-        <div className="mb-4">
-          <Notice tone="error" title="Not done">
-            {form.errors.join(" ")}
-          </Notice>
-        </div>
-      ) : null}
-      <Card title="Accounts" className="mb-6">
-        <div className="overflow-x-auto">
-          <table className="w-full text-left text-sm">
-            <thead className="border-b border-line text-muted">
-              <tr>
-                <th className="py-2 pr-4 font-semibold">Name</th>
-                <th className="py-2 pr-4 font-semibold">E-mail</th>
-                <th className="py-2 pr-4 font-semibold">Status</th>
-                <th className="py-2 pr-4 font-semibold">Role</th>
-                <th className="py-2 font-semibold">
-                  <span className="sr-only">Actions</span>
-                </th>
-              </tr>
-            </thead>
-            <tbody className="divide-y divide-line">
-              {loaderData.users.map((u) => (
-                <tr key={u.id}>
-                  <td className="py-3 pr-4 font-semibold">{u.name}</td>
-                  <td className="py-3 pr-4">{u.email}</td>
-                  <td className="py-3 pr-4">
-                    {!u.active ? (
-                      <StatusBadge tone="error">Deactivated</StatusBadge>
-                    ) : u.pending ? (
-                      <StatusBadge tone="warning">Invited</StatusBadge>
-                    ) : (
-                      <StatusBadge tone="success">Active</StatusBadge>
-                    )}
-                  </td>
-                  <td className="py-3 pr-4">{u.role === "patient" ? ROLE_LABEL.patient : <RoleForm user={u} />}</td>
-                  <td className="py-3">
-                    <Form method="post">
-                      <input type="hidden" name="userId" value={u.id} />
-                      <Button
-                        type="submit"
-                        name="intent"
-                        value={u.active ? "deactivate" : "reactivate"}
-                        variant={u.active ? "danger" : "secondary"}
-                        className="px-3 py-1"
-                      >
-                        {u.active ? "Deactivate" : "Reactivate"}
-                        <span className="sr-only"> {u.name}</span>
-                      </Button>
-                    </Form>
-                  </td>
-                </tr>
-              ))}
-            </tbody>
-          </table>
-        </div>
-      </Card>
-      <Card title="Invite a colleague">
-        <Form method="post" {...getFormProps(form)} className="grid gap-4 sm:grid-cols-2">
-          <input type="hidden" name="intent" value="invite" />
-          <Field label="Name" errors={fields.name.errors} inputProps={getInputProps(fields.name, { type: "text" })} />
-          <Field
-            label="E-mail"
-            errors={fields.email.errors}
-            inputProps={getInputProps(fields.email, { type: "email" })}
+    <SettingsPage
+      title="Team and accounts"
+      description="Invite colleagues, change roles and close accounts. Every change is recorded in the audit log."
+      notice={form.errors?.length ? { tone: "error", title: "Not done", body: form.errors.join(" ") } : null}
+      list={{
+        title: "Accounts",
+        content: (
+          <DataTable
+            data={loaderData.users}
+            columns={userColumns}
+            getRowId={(u) => u.id}
+            caption="Accounts"
+            empty="No accounts."
           />
-          <SelectField label="Role" errors={fields.role.errors} selectProps={getSelectProps(fields.role)}>
-            <option value="">Choose…</option>
-            <option value="optometrist">{ROLE_LABEL.optometrist}</option>
-            <option value="receptionist">{ROLE_LABEL.receptionist}</option>
-            <option value="owner">{ROLE_LABEL.owner}</option>
-          </SelectField>
-          <Field
-            label="Licence or registration number"
-            hint="For optometrists: printed on prescriptions."
-            errors={fields.licenceNumber.errors}
-            inputProps={getInputProps(fields.licenceNumber, { type: "text" })}
-          />
-          <div className="sm:col-span-2">
-            <Button type="submit" pending={navigation.state === "submitting"}>
-              Send invitation
-            </Button>
-          </div>
-        </Form>
-      </Card>
-    </>
+        ),
+      }}
+      form={{
+        title: "Invite a colleague",
+        content: (
+          <Form method="post" {...getFormProps(form)} className="grid gap-4 sm:grid-cols-2">
+            <input type="hidden" name="intent" value="invite" />
+            <Field label="Name" errors={fields.name.errors} inputProps={getInputProps(fields.name, { type: "text" })} />
+            <Field
+              label="E-mail"
+              errors={fields.email.errors}
+              inputProps={getInputProps(fields.email, { type: "email" })}
+            />
+            <SelectField label="Role" errors={fields.role.errors} selectProps={getSelectProps(fields.role)}>
+              <option value="">Choose…</option>
+              <option value="optometrist">{ROLE_LABEL.optometrist}</option>
+              <option value="receptionist">{ROLE_LABEL.receptionist}</option>
+              <option value="owner">{ROLE_LABEL.owner}</option>
+            </SelectField>
+            <Field
+              label="Licence or registration number"
+              hint="For optometrists: printed on prescriptions."
+              errors={fields.licenceNumber.errors}
+              inputProps={getInputProps(fields.licenceNumber, { type: "text" })}
+            />
+            <div className="sm:col-span-2">
+              <Button type="submit" pending={navigation.state === "submitting"}>
+                Send invitation
+              </Button>
+            </div>
+          </Form>
+        ),
+      }}
+    />
   );
 }
 
