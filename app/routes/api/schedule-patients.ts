@@ -1,6 +1,7 @@
 import { z } from "zod";
 import type { Route } from "./+types/schedule-patients";
 import { patients } from "~/db/schema";
+import { DUPLICATE_MESSAGE, duplicatesBlockingRegistration } from "~/routes/patients/patients.server";
 import { errorJson, readBody, zodFieldErrors } from "~/routes/schedule/schedule-api.server";
 import { audit } from "~/utils/audit.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
@@ -12,6 +13,8 @@ export const newPatientSchema = z.object({
   dateOfBirth: z.iso.date({ error: "Give the date of birth (YYYY-MM-DD)." }).refine((d) => d <= new Date().toISOString().slice(0, 10) && d >= "1900-01-01", "The date of birth must be in the past."),
   email: z.union([z.literal(""), z.email({ error: "Enter a valid e-mail address." })]).optional(),
   phone: z.string().trim().max(40).optional(),
+  /** "yes" once the user has seen the duplicate warning and registers a different person anyway. */
+  confirmDuplicate: z.union([z.literal("yes"), z.literal(""), z.boolean()]).optional(),
 });
 
 /**
@@ -23,12 +26,15 @@ export async function action({ request }: Route.ActionArgs) {
   const parsed = newPatientSchema.safeParse(await readBody(request));
   if (!parsed.success) return errorJson(400, "Check the patient's details.", zodFieldErrors(parsed.error));
   const v = parsed.data;
+  // The same check and words as the registration page.
+  const duplicates = await duplicatesBlockingRegistration(v, v.confirmDuplicate);
+  if (duplicates.length) return errorJson(409, DUPLICATE_MESSAGE, {}, { duplicates });
   const patient = await db.transaction(async (tx) => {
     const [row] = await tx
       .insert(patients)
       .values({ firstName: v.firstName, lastName: v.lastName, dateOfBirth: v.dateOfBirth, email: v.email || null, phone: v.phone || null })
       .returning({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth, email: patients.email });
-    await audit({ action: "patient.registered", actorUserId: user.id, entityType: "patient", entityId: row!.id, patientId: row!.id, detail: { from: "booking" }, request }, tx);
+    await audit({ action: "patient.registered", actorUserId: user.id, entityType: "patient", entityId: row!.id, patientId: row!.id, detail: { from: "booking", duplicateConfirmed: v.confirmDuplicate === "yes" || v.confirmDuplicate === true }, request }, tx);
     return row!;
   });
   return Response.json({ patient: { ...patient, name: `${patient.firstName} ${patient.lastName}` } }, { status: 201 });

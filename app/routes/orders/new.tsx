@@ -5,6 +5,7 @@ import { data, Form, Link, useNavigation } from "react-router";
 import type { Route } from "./+types/new";
 import { ErrorList, Field, SelectField } from "~/components/forms";
 import { PageHeader } from "~/components/page-header";
+import { matchCount } from "~/components/patient-search";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Textarea } from "~/components/ui/input";
@@ -15,11 +16,14 @@ import { formatRx } from "~/lib/optics";
 import { COATINGS, LENS_MATERIALS, LENS_TYPE_LABEL } from "~/lib/orders/states";
 import { activeFrames, activeLabs, createContactLensOrder, createSpectacleOrder, itemFees, ORDER_ROLES, orderablePrescriptions, OrderError, practiceOrderSettings } from "~/models/orders/orders.server";
 import { formatDate, isUuid } from "~/routes/patients/patient-schema";
-import { searchPatients } from "~/routes/patients/patients.server";
+import { searchPatientsPage } from "~/routes/patients/patients.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { contactLensOrderSchema, spectacleOrderSchema } from "./order-schema";
+
+/** Patients listed per page when finding one for an order. */
+const PATIENT_PAGE = 20;
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ORDER_ROLES);
@@ -27,7 +31,12 @@ export async function loader({ request }: Route.LoaderArgs) {
   const q = url.searchParams.get("q")?.trim() ?? "";
   const patientId = url.searchParams.get("patientId") ?? "";
   const prescriptionId = url.searchParams.get("prescriptionId") ?? "";
-  if (!isUuid(patientId)) return { step: "patient" as const, q, hits: q ? await searchPatients(q, 10) : [] };
+  if (!isUuid(patientId)) {
+    const pageText = url.searchParams.get("page") ?? "1";
+    const page = /^\d{1,3}$/.test(pageText) && Number(pageText) >= 1 ? Number(pageText) : 1;
+    const found = q ? await searchPatientsPage(q, { limit: PATIENT_PAGE, offset: (page - 1) * PATIENT_PAGE }) : { results: [], total: 0, totalIsExact: true };
+    return { step: "patient" as const, q, page, hits: found.results, total: found.total, totalIsExact: found.totalIsExact };
+  }
   const [patient] = await db.select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth }).from(patients).where(eq(patients.id, patientId));
   if (!patient) throw data({ error: "There is no such patient." }, { status: 404 });
   const rxs = await orderablePrescriptions(patientId);
@@ -262,7 +271,12 @@ export default function NewOrder({ loaderData, actionData }: Route.ComponentProp
           </Form>
           {d.q ? (
             d.hits.length ? (
-              <ul className="mt-4 divide-y divide-line">
+              <>
+              <p className="mt-4 text-sm text-muted" data-testid="order-patient-count">
+                {matchCount(d.total, d.totalIsExact)}
+                {d.total > d.hits.length ? ` · showing ${(d.page - 1) * PATIENT_PAGE + 1}–${(d.page - 1) * PATIENT_PAGE + d.hits.length}` : ""}
+              </p>
+              <ul className="mt-2 divide-y divide-line">
                 {d.hits.map((h) => (
                   <li key={h.id} className="py-2">
                     <Link to={`/orders/new?patientId=${h.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
@@ -272,6 +286,19 @@ export default function NewOrder({ loaderData, actionData }: Route.ComponentProp
                   </li>
                 ))}
               </ul>
+              <nav aria-label="More matching patients" className="mt-3 flex gap-4 text-sm">
+                {d.page > 1 ? (
+                  <Link to={`/orders/new?q=${encodeURIComponent(d.q)}&page=${d.page - 1}`} className="font-semibold text-accent-700 underline underline-offset-4">
+                    Previous {PATIENT_PAGE}
+                  </Link>
+                ) : null}
+                {d.page * PATIENT_PAGE < d.total ? (
+                  <Link to={`/orders/new?q=${encodeURIComponent(d.q)}&page=${d.page + 1}`} className="font-semibold text-accent-700 underline underline-offset-4">
+                    Next {PATIENT_PAGE}
+                  </Link>
+                ) : null}
+              </nav>
+              </>
             ) : (
               <p className="mt-4 text-muted">No patient matches “{d.q}”.</p>
             )

@@ -4,6 +4,8 @@ import { ErrorList } from "~/components/forms";
 import { Button } from "~/components/ui/button";
 import { Input, Select, Textarea } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
+import { matchCount } from "~/components/patient-search";
+import { DuplicateWarning, type Duplicate } from "~/routes/patients/patient-form";
 
 export type PatientOption = { id: string; name: string; dateOfBirth: string; email: string | null };
 export type BookingDefaults = { start?: string; providerId?: string; appointmentTypeId?: string; siteId?: string; patient?: PatientOption | null };
@@ -20,13 +22,17 @@ export function formatDob(d: string) {
 }
 
 function PatientPicker({ initial, errors }: { initial: PatientOption | null; errors?: string[] }) {
-  // The same search as the patients list (GET /api/patients?q=).
-  const search = useFetcher<{ results: { id: string; firstName: string; lastName: string; dateOfBirth: string; email: string | null }[] }>();
-  const register = useFetcher<{ patient?: PatientOption; error?: string; fieldErrors?: Record<string, string[]> }>();
+  // The same search as the patients list (GET /api/patients?q=): a page at a time, with the count.
+  type Found = { q: string; offset: number; total: number; totalIsExact: boolean; results: { id: string; firstName: string; lastName: string; dateOfBirth: string; email: string | null }[] };
+  const search = useFetcher<Found>();
+  const register = useFetcher<{ patient?: PatientOption; error?: string; fieldErrors?: Record<string, string[]>; duplicates?: Duplicate[] }>();
   const [q, setQ] = useState("");
   const [chosen, setChosen] = useState<PatientOption | null>(initial);
   const [extra, setExtra] = useState<PatientOption[]>(initial ? [initial] : []);
   const [newPatient, setNewPatient] = useState({ firstName: "", lastName: "", dateOfBirth: "", email: "", phone: "" });
+  const [confirmDuplicate, setConfirmDuplicate] = useState(false);
+  const [found, setFound] = useState<Found | null>(null);
+  const [dismissed, setDismissed] = useState<unknown>(null);
   const id = useId();
 
   useEffect(() => {
@@ -37,18 +43,35 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
   }, [q]);
 
   useEffect(() => {
+    const d = search.data;
+    if (!d || !Array.isArray(d.results)) return;
+    setFound((prev) => (d.offset > 0 && prev && prev.q === d.q ? { ...d, results: [...prev.results, ...d.results.filter((r) => !prev.results.some((p) => p.id === r.id))] } : d));
+  }, [search.data]);
+
+  useEffect(() => {
     const p = register.data?.patient;
     if (p) {
       setExtra((list) => [p, ...list.filter((x) => x.id !== p.id)]);
       setChosen(p);
       setNewPatient({ firstName: "", lastName: "", dateOfBirth: "", email: "", phone: "" });
+      setConfirmDuplicate(false);
     }
   }, [register.data]);
 
-  const found: PatientOption[] = q.trim().length >= 2 ? (search.data?.results ?? []).map((r) => ({ id: r.id, name: `${r.firstName} ${r.lastName}`, dateOfBirth: r.dateOfBirth, email: r.email })) : [];
-  const options = [...extra, ...found.filter((f) => !extra.some((e) => e.id === f.id))];
-  const regErrors = register.data?.fieldErrors ?? {};
+  function takeExisting(d: Duplicate) {
+    const p = { id: d.id, name: `${d.firstName} ${d.lastName}`, dateOfBirth: d.dateOfBirth, email: d.email };
+    setExtra((list) => [p, ...list.filter((x) => x.id !== p.id)]);
+    setChosen(p);
+    setNewPatient({ firstName: "", lastName: "", dateOfBirth: "", email: "", phone: "" });
+    setConfirmDuplicate(false);
+    setDismissed(register.data);
+  }
 
+  const current = q.trim().length >= 2 && found && found.q === q.trim().slice(0, 100) ? found : null;
+  const foundOptions: PatientOption[] = (current?.results ?? []).map((r) => ({ id: r.id, name: `${r.firstName} ${r.lastName}`, dateOfBirth: r.dateOfBirth, email: r.email }));
+  const options = [...extra, ...foundOptions.filter((f) => !extra.some((e) => e.id === f.id))];
+  const regErrors = register.data?.fieldErrors ?? {};
+  const duplicates = register.data && register.data !== dismissed ? (register.data.duplicates ?? []) : [];
   return (
     <fieldset className="space-y-3" aria-describedby={errors?.length ? `${id}-err` : undefined}>
       <legend className="mb-1 text-sm font-semibold">Patient</legend>
@@ -58,8 +81,8 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
         </label>
         <Input id={`${id}-q`} type="search" value={q} onChange={(e) => setQ(e.target.value)} autoComplete="off" placeholder="e.g. Achterberg or 17/04/1979" />
       </div>
-      <div aria-live="polite" className="text-sm text-muted">
-        {search.state === "loading" ? "Searching…" : q.trim().length >= 2 && found.length === 0 && search.data ? "No patient matches; register them below." : null}
+      <div aria-live="polite" className="text-sm text-muted" data-testid="booking-patient-count">
+        {search.state === "loading" ? "Searching…" : current ? (current.total === 0 ? "No patient matches; register them below." : `${matchCount(current.total, current.totalIsExact)}${current.results.length < current.total ? ` · ${current.results.length} shown` : ""}.`) : null}
       </div>
       {options.length ? (
         <ul className="max-h-56 space-y-1 overflow-y-auto rounded-md border border-line p-2">
@@ -76,9 +99,32 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
           ))}
         </ul>
       ) : null}
+      {current && current.results.length < current.total ? (
+        <Button type="button" variant="secondary" pending={search.state !== "idle"} onClick={() => search.load(`/api/patients?q=${encodeURIComponent(current.q)}&offset=${current.results.length}`)}>
+          Show more patients
+        </Button>
+      ) : null}
       <ErrorList id={`${id}-err`} errors={errors} />
       <details className="rounded-md border border-line p-3">
         <summary className="cursor-pointer text-sm font-semibold text-accent-700">Register a new patient</summary>
+        {duplicates.length ? (
+          <div className="mt-3">
+            <DuplicateWarning
+              duplicates={duplicates}
+              onChoose={takeExisting}
+              confirm={
+                <label className="mt-3 flex items-center gap-2 font-semibold">
+                  <input type="checkbox" checked={confirmDuplicate} onChange={(e) => setConfirmDuplicate(e.target.checked)} className="size-4" />
+                  This is a different person: register anyway
+                </label>
+              }
+            />
+          </div>
+        ) : register.data?.error && register.data !== dismissed ? (
+          <p className="mt-3 text-sm font-semibold text-red-800" role="alert">
+            {register.data.error}
+          </p>
+        ) : null}
         <div className="mt-3 grid gap-3 sm:grid-cols-2">
           {(
             [
@@ -110,7 +156,7 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
           variant="secondary"
           className="mt-3"
           pending={register.state !== "idle"}
-          onClick={() => register.submit(newPatient, { method: "post", action: "/api/schedule-patients", encType: "application/json" })}
+          onClick={() => register.submit({ ...newPatient, confirmDuplicate: confirmDuplicate ? "yes" : "" }, { method: "post", action: "/api/schedule-patients", encType: "application/json" })}
         >
           Register and choose
         </Button>
