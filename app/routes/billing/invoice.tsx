@@ -6,7 +6,7 @@ import type { Route } from "./+types/invoice";
 import { BillingNav, InvoiceStatusBadge, PaymentStatusBadge } from "./components";
 import { emailInvoice, emailReceipt, emailReceiptQuietly, formatDate, METHOD_LABEL } from "./documents.server";
 import { addLines, BILLING_ROLES, BillingError, deleteDraft, invoiceDetail, invoiceLabel, issueInvoice, practiceBilling, recordDeskPayment, refundPayment, removeLine, setDiscount, voidInvoice } from "./invoices.server";
-import { ErrorList } from "~/components/forms";
+import { ErrorList, useResetAfterSuccess } from "~/components/forms";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
@@ -30,7 +30,7 @@ const schema = z.discriminatedUnion("intent", [
   z.object({ intent: z.literal("issue") }),
   z.object({ intent: z.literal("discard") }),
   z.object({ intent: z.literal("void"), reason: z.string({ error: "Say why it is voided." }).trim().min(3, "Say why it is voided.").max(200) }),
-  z.object({ intent: z.literal("pay-desk"), method: z.enum(["cash", "card_desk"], { error: "Choose cash or card." }), amount: money, reference: z.string().trim().max(80).default("") }),
+  z.object({ intent: z.literal("pay-desk"), method: z.enum(["cash", "card_desk"], { error: "Choose cash or card." }), amount: money, reference: z.string().trim().max(80).default(""), confirmRepeat: z.literal("yes").optional() }),
   z.object({ intent: z.literal("email") }),
   z.object({ intent: z.literal("receipt"), paymentId: z.uuid() }),
   z.object({ intent: z.literal("refund"), paymentId: z.uuid(), amount: money, reason: z.string({ error: "Give a reason." }).trim().min(2, "Give a reason.").max(200) }),
@@ -134,7 +134,7 @@ export async function action({ request, params }: Route.ActionArgs) {
       case "pay-desk": {
         const minor = parseMoney(v.amount, currency);
         if (minor === null || minor <= 0) return fail("amount", `Give an amount in ${currency}, e.g. 65.00.`);
-        const { paymentId } = await recordDeskPayment({ invoiceId, method: v.method, amountMinor: minor, reference: v.reference, actorUserId: user.id, request });
+        const { paymentId } = await recordDeskPayment({ invoiceId, method: v.method, amountMinor: minor, reference: v.reference, confirmRepeat: v.confirmRepeat === "yes", actorUserId: user.id, request });
         const receipt = await emailReceiptQuietly(paymentId, user.id);
         return redirectWithToast(here, { title: `${formatMoney(minor, currency)} recorded`, description: receipt ? `Receipt e-mailed to ${receipt.to}.` : "No receipt e-mailed (no address on file, or mail is down)." });
       }
@@ -168,6 +168,7 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
   const { invoice, patient, lines, payments, refunds, fees } = loaderData;
   const navigation = useNavigation();
   const busy = (intent: string) => navigation.state === "submitting" && navigation.formData?.get("intent") === intent;
+  const payForm = useResetAfterSuccess("pay-desk");
   const reply = actionData as Reply;
   const lastIntent = reply?.initialValue?.intent;
   const err = (intent: string, field: string) => (lastIntent === intent ? (reply?.error?.[field] ?? undefined) : undefined);
@@ -441,8 +442,16 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
           {payable ? (
             <>
               <Card title="Take a payment at the desk">
-                <Form method="post" className="space-y-3">
+                <Form method="post" className="space-y-3" ref={payForm}>
                   <input type="hidden" name="intent" value="pay-desk" />
+                  {err("pay-desk", "confirmRepeat") ? (
+                    <Notice tone="warning" title="This looks like the same payment again">
+                      <p id="repeat-warning">{err("pay-desk", "confirmRepeat")!.join(" ")}</p>
+                      <label className="mt-2 flex items-center gap-2 font-semibold">
+                        <input type="checkbox" name="confirmRepeat" value="yes" className="size-4" aria-describedby="repeat-warning" /> This is a second payment: record it too
+                      </label>
+                    </Notice>
+                  ) : null}
                   <fieldset>
                     <legend className="mb-1 text-sm font-semibold">Method</legend>
                     <div className="flex gap-4">

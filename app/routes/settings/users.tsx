@@ -5,7 +5,7 @@ import { data, Form, useFetcher, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/users";
 import { changeRole, inviteUser, setActive, UserAdminError } from "./users.server";
-import { Field, SelectField } from "~/components/forms";
+import { Field, SelectField, useResetAfterSuccess } from "~/components/forms";
 import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
@@ -89,6 +89,7 @@ function RoleForm({ user }: { user: { id: string; role: string; name: string } }
 
 export default function UsersSettings({ loaderData, actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
+  const inviteRef = useResetAfterSuccess("invite");
   const [form, fields] = useForm({
     id: "invite",
     lastResult: navigation.state === "idle" ? actionData : null,
@@ -144,7 +145,7 @@ export default function UsersSettings({ loaderData, actionData }: Route.Componen
         </div>
       </Card>
       <Card title="Invite a colleague">
-        <Form method="post" {...getFormProps(form)} className="grid gap-4 sm:grid-cols-2">
+        <Form method="post" {...getFormProps(form)} ref={inviteRef} className="grid gap-4 sm:grid-cols-2">
           <input type="hidden" name="intent" value="invite" />
           <Field label="Name" errors={fields.name.errors} inputProps={getInputProps(fields.name, { type: "text" })} />
           <Field label="E-mail" errors={fields.email.errors} inputProps={getInputProps(fields.email, { type: "email" })} />
