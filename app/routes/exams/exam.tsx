@@ -33,6 +33,7 @@ import { type AcuityNotation, compareRx, formatRx, isMeaningfulChange, MEANINGFU
 import { ageOn, formatDate } from "~/routes/patients/patient-schema";
 import { issuePrescription, prescriptionsOf } from "~/routes/patients/prescriptions.server";
 import { audit } from "~/utils/audit.server";
+import { BILLING_ROLES } from "~/routes/billing/invoices.server";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
@@ -92,6 +93,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     triage,
     countersignatures: countersignatures.map((c) => ({ clinician: c.clinician, note: c.note, signedAt: c.signedAt.toISOString() })),
     isExaminer: user.id === exam.optometristId,
+    /** Billing is the owner's and the front desk's; of the clinical roles only the owner bills. */
+    canBill: (BILLING_ROLES as readonly string[]).includes(user.role),
     canCountersign: exam.status === "signed" && user.id !== exam.optometristId && !countersignatures.some((c) => c.clinicianId === user.id),
     hasFinal: sections.refractions.some((r) => r.kind === "final"),
     addenda: sections.addenda.map((a) => ({ ...a, createdAt: a.createdAt.toISOString() })),
@@ -294,7 +297,16 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
             · born {formatDate(patient.dateOfBirth)} (age {patient.age}) · examined {new Date(exam.examinedAt).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })} by {exam.optometrist}
           </>
         }
-        actions={readOnly ? <StatusBadge tone="success">Signed by {exam.signedBy} on {new Date(exam.signedAt!).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}</StatusBadge> : <StatusBadge tone="warning">In progress</StatusBadge>}
+        actions={
+          <>
+            {readOnly ? <StatusBadge tone="success">Signed by {exam.signedBy} on {new Date(exam.signedAt!).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}</StatusBadge> : <StatusBadge tone="warning">In progress</StatusBadge>}
+            {readOnly && loaderData.canBill ? (
+              <Link to={`/billing/invoices/new?exam=${exam.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
+                Raise invoice
+              </Link>
+            ) : null}
+          </>
+        }
       />
       <nav aria-label="Exam sections" className="mb-6 rounded-lg border border-line bg-white px-4 py-3 text-sm">
         <ul className="flex flex-wrap gap-x-4 gap-y-1">

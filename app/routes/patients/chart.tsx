@@ -13,7 +13,7 @@ import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import { appointmentsOf, childProgression, examsOf, invoicesOf, recallDue, refractionHistory } from "./chart.server";
+import { appointmentsOf, balanceOf, childProgression, examsOf, invoicesOf, recallDue, refractionHistory } from "./chart.server";
 import { documentsOf } from "./documents.server";
 import { ageOn, formatDate, isUuid } from "./patient-schema";
 import { prescriptionsOf } from "./prescriptions.server";
@@ -40,7 +40,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   audited.catch(() => undefined);
   const clinicalData = clinical ? Promise.all([examsOf(p.id), documentsOf(p.id), refractionHistory(p.id), latestPrompts(p.id), referralsForChart(p.id, { clinical: true })]) : null;
   clinicalData?.catch(() => undefined); // awaited below; this keeps an early failure elsewhere from leaving it unobserved
-  const [appointments, invoices, prescriptions] = await Promise.all([appointmentsOf(p.id), invoicesOf(p.id), prescriptionsOf(p.id)]);
+  const [appointments, invoices, prescriptions, balance] = await Promise.all([appointmentsOf(p.id), invoicesOf(p.id), prescriptionsOf(p.id), balanceOf(p.id)]);
+  const canBill = user.role === "owner" || user.role === "receptionist";
   const demographics = {
     id: p.id,
     firstName: p.firstName,
@@ -56,7 +57,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const rx = prescriptions.map((r) => ({ ...r, current: r.expiresOn >= today }));
   if (!clinical) {
     await audited;
-    return { clinical: false as const, patient: demographics, appointments, invoices, prescriptions: rx };
+    return { clinical: false as const, patient: demographics, appointments, invoices, prescriptions: rx, balance, canBill };
   }
   const [exams, documents, history, prompts, referrals] = await clinicalData!;
   await audited;
@@ -66,6 +67,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     appointments,
     invoices,
     prescriptions: rx,
+    balance,
+    canBill,
     exams,
     documents,
     history,
@@ -111,6 +114,11 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
             <Link to={`/patients/${p.id}/edit`} className={buttonClass("secondary")}>
               Edit details
             </Link>
+            {d.canBill ? (
+              <Link to={`/billing/invoices/new?patient=${p.id}`} className={buttonClass("secondary")}>
+                Raise invoice
+              </Link>
+            ) : null}
             {d.clinical ? (
               <Form method="post">
                 <input type="hidden" name="intent" value="start-exam" />
@@ -122,6 +130,20 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
           </>
         }
       />
+      <p className="mb-4 text-sm" data-testid="patient-balance">
+        <span className="font-semibold">Balance: </span>
+        {d.balance.length
+          ? d.balance.map((b) => `${money(b.owedMinor, b.currency)} owed on ${b.invoices} ${b.invoices === 1 ? "invoice" : "invoices"}`).join("; ")
+          : "nothing owed"}
+        {d.balance.length && d.canBill ? (
+          <>
+            {" · "}
+            <Link to={`/billing/balances?q=${encodeURIComponent(p.lastName)}`} className="font-semibold text-accent-700 underline underline-offset-4">
+              Outstanding balances
+            </Link>
+          </>
+        ) : null}
+      </p>
       <div className="grid gap-6 lg:grid-cols-3">
         {d.clinical ? <ClinicalSummary d={d} /> : null}
         <Card title="Current prescriptions" className={d.clinical ? "" : "lg:col-span-2"}>
