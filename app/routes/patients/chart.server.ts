@@ -1,5 +1,6 @@
 import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import { appointments, appointmentTypes, examAssessment, examRefractions, exams, invoices, users } from "~/db/schema";
+import { invoiceLabel } from "~/routes/billing/invoices.server";
 import { myopiaProgressionReport, toPowerVector, type MyopiaProgressionReport } from "~/lib/optics";
 import { db } from "~/utils/db.server";
 import { ageOn } from "./patient-schema";
@@ -24,7 +25,7 @@ export async function invoicesOf(patientId: string) {
     .where(eq(invoices.patientId, patientId))
     .orderBy(desc(invoices.createdAt))
     .limit(30);
-  return rows.map((r) => ({ ...r, at: (r.issuedAt ?? r.createdAt).toISOString(), issuedAt: undefined, createdAt: undefined }));
+  return rows.map((r) => ({ ...r, label: invoiceLabel(r.number), at: (r.issuedAt ?? r.createdAt).toISOString(), issuedAt: undefined, createdAt: undefined }));
 }
 
 /** What the patient owes: the unpaid part of every issued invoice that is open or part paid, per currency. */

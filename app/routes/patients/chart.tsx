@@ -257,7 +257,7 @@ type Item = { at: string; kind: string; label: string; href?: string; status?: s
 function Timeline({ d }: { d: LD }) {
   const items: Item[] = [
     ...d.appointments.map((a) => ({ at: a.startsAt, kind: "Appointment", label: `${a.type} with ${a.provider}`, status: a.status.replace("_", " ") })),
-    ...d.invoices.map((i) => ({ at: i.at, kind: "Invoice", label: `${i.number ? `No. ${i.number}` : "Draft"} · ${money(i.totalMinor, i.currency)}`, status: i.status.replace("_", " "), href: `/billing/invoices/${i.id}` })),
+    ...d.invoices.map((i) => ({ at: i.at, kind: "Invoice", label: `${i.label} · ${money(i.totalMinor, i.currency)}`, status: i.status.replace("_", " "), href: `/billing/invoices/${i.id}` })),
     ...d.prescriptions.map((r) => ({ at: r.issuedAt, kind: "Prescription", label: `${r.kind === "spectacle" ? "Spectacles" : "Contact lenses"} by ${r.prescriberName}`, status: r.current ? "current" : "expired", href: `/patients/${d.patient.id}/prescriptions/${r.id}/pdf` })),
     ...(d.clinical
       ? [

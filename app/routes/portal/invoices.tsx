@@ -9,6 +9,7 @@ import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { formatMoney } from "~/lib/money";
 import { signPayLink } from "~/routes/billing/checkout.server";
+import { invoiceLabel } from "~/routes/billing/invoices.server";
 import { audit } from "~/utils/audit.server";
 
 const STATUS = { open: "Awaiting payment", partially_paid: "Part paid", paid: "Paid", void: "Cancelled", draft: "Draft" } as const;
@@ -18,7 +19,8 @@ export async function loader({ request }: Route.LoaderArgs) {
   const { user, patientId } = await requirePortalPatient(request);
   const [list, settings] = await Promise.all([invoicesOf(patientId), portalSettings()]);
   await audit({ action: "portal.invoices_read", actorUserId: user.id, patientId, entityType: "patient", entityId: patientId, request });
-  return { invoices: list, timeZone: settings.timeZone };
+  // The practice's own numbers ("INV-000002"), as on the invoice PDF and the front desk's screens.
+  return { invoices: list.map((inv) => ({ ...inv, label: invoiceLabel(inv.number) })), timeZone: settings.timeZone };
 }
 
 /** "Pay now" takes the patient into the same signed pay-by-link flow the practice e-mails. */
@@ -44,7 +46,7 @@ export default function PortalInvoices({ loaderData, actionData }: Route.Compone
           const due = inv.totalMinor - inv.paidMinor;
           return (
             <li key={inv.id}>
-              <Card title={`Invoice ${inv.number ?? ""}`} actions={<StatusBadge tone={inv.status === "paid" ? "success" : inv.status === "void" ? "error" : "warning"}>{STATUS[inv.status]}</StatusBadge>}>
+              <Card title={`Invoice ${inv.label}`} actions={<StatusBadge tone={inv.status === "paid" ? "success" : inv.status === "void" ? "error" : "warning"}>{STATUS[inv.status]}</StatusBadge>}>
                 <dl className="grid grid-cols-[8rem_1fr] gap-y-1 text-sm">
                   <dt className="text-muted">Issued</dt>
                   <dd>{date(inv.issuedAt)}</dd>
