@@ -175,8 +175,6 @@ describe("finding people and billing at the front desk", () => {
     await expectAccessible(desk);
     await expect.poll(async () => (await mailTo(email)).length, SLOW).toBe(1);
     const [mail] = await mailTo(email);
-    expect(mail!.replyTo).toContain("desk@dioptra-demo.test");
-    expect(mail!.replyTo).not.toMatch(/no-?reply/i);
     expect(mail!.text).toContain("reply to this e-mail (it reaches desk@dioptra-demo.test)");
   }, 120_000);
 

@@ -30,12 +30,12 @@ describe("patient search", () => {
     ];
     await db.insert(patients).values(rows.map((r) => ({ ...r, dateOfBirth: "1970-05-05" })));
     const cookie = await cookieFor("receptionist");
-    const first = (await (await run(patientsApi, makeRequest(`/api/patients?q=${surname}`, { cookie }))) as Response).json();
+    const first = await ((await run(patientsApi, makeRequest(`/api/patients?q=${surname}`, { cookie }))) as Response).json();
     expect(first.total).toBe(34);
     expect(first.totalIsExact).toBe(true);
     expect(first.results).toHaveLength(20);
     expect(first.results.slice(0, 4).map((r: { firstName: string; lastName: string }) => `${r.firstName} ${r.lastName}`)).toEqual([`Yves ${surname}`, `Zara ${surname}`, `Ned ${surname}ette`, `Pru ${surname}ington`]);
-    const second = (await (await run(patientsApi, makeRequest(`/api/patients?q=${surname}&offset=20`, { cookie }))) as Response).json();
+    const second = await ((await run(patientsApi, makeRequest(`/api/patients?q=${surname}&offset=20`, { cookie }))) as Response).json();
     expect(second.results).toHaveLength(14);
     const ids = new Set([...first.results, ...second.results].map((r: { id: string }) => r.id));
     expect(ids.size).toBe(34);
@@ -75,7 +75,7 @@ describe("one duplicate check for every registration", () => {
 
 describe("desk payments", () => {
   it("refuses an identical second payment within two minutes unless it is confirmed; a different reference is taken", async () => {
-    const { id } = await issuedInvoice([{ priceMinor: 30000 }]);
+    const { id } = await issuedInvoice([{ priceMinor: 50000 }]);
     const pay = (extra: Record<string, string> = {}) => post(`/billing/invoices/${id}`, { intent: "pay-desk", method: "card_desk", amount: "100", reference: "T-5521", ...extra }).then((r) => run(invoiceAction, r, { invoiceId: id }));
     expect(statusOf(await pay())).toBe(302);
     const twice = await pay();

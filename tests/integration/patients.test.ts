@@ -135,7 +135,7 @@ describe("chart", () => {
     const cookie = await cookieFor("receptionist");
     const d = dataOf<Record<string, unknown>>(await run(chartLoader, makeRequest(`/patients/${p.id}`, { cookie }), { patientId: p.id }));
     expect(d.clinical).toBe(false);
-    expect(Object.keys(d).sort()).toEqual(["appointments", "clinical", "invoices", "patient", "prescriptions"]);
+    expect(Object.keys(d).sort()).toEqual(["appointments", "balance", "canBill", "clinical", "invoices", "patient", "prescriptions"]);
     expect(d.patient).not.toHaveProperty("allergies");
     const rows = await db.select().from(auditLog).where(and(eq(auditLog.action, "chart.read"), eq(auditLog.patientId, p.id)));
     expect(rows).toHaveLength(1);
