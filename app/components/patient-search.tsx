@@ -149,14 +149,13 @@ export function PatientSearch({
           <button
             type="button"
             className="min-h-6 text-sm font-semibold text-accent-700 underline underline-offset-4"
-            aria-label={`Choose another patient instead of ${chosen.firstName} ${chosen.lastName}`}
             onClick={() => {
               setChosen(null);
               onChoose?.(null);
               setTimeout(() => inputRef.current?.focus(), 0);
             }}
           >
-            Change
+            Change<span className="sr-only"> the patient ({chosen.firstName} {chosen.lastName} now)</span>
           </button>
         </p>
       </div>
