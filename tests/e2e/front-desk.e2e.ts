@@ -117,7 +117,7 @@ describe("finding people and billing at the front desk", () => {
     await desk.getByLabel("This is a second payment: record it too").check();
     await desk.getByRole("button", { name: "Record payment" }).click();
     await expect.poll(() => desk.getByTestId("toast").textContent(), SLOW).toContain("£5.00 recorded");
-    expect((await q("select count(*)::int as n from payments p join invoices i on i.id = p.invoice_id where i.patient_id = $1", [patient!.id]))[0]!.n).toBe(2);
+    await expect.poll(async () => (await q("select count(*)::int as n from payments p join invoices i on i.id = p.invoice_id where i.patient_id = $1", [patient!.id]))[0]!.n, SLOW).toBe(2);
 
     await desk.goto(`/patients/${patient!.id}`);
     await ready(desk);

@@ -1,4 +1,4 @@
-import { useEffect, useId, useState } from "react";
+import { useEffect, useId, useMemo, useState } from "react";
 import { useFetcher } from "react-router";
 import { ErrorList } from "~/components/forms";
 import { Button } from "~/components/ui/button";
@@ -21,11 +21,24 @@ export function formatDob(d: string) {
   return new Intl.DateTimeFormat("en-GB", { day: "numeric", month: "short", year: "numeric", timeZone: "UTC" }).format(new Date(`${d}T00:00:00Z`));
 }
 
+function readReply<T extends object>(raw: T | string | undefined): T | undefined {
+  if (typeof raw !== "string") return raw;
+  try {
+    const parsed: unknown = JSON.parse(raw);
+    return parsed && typeof parsed === "object" ? (parsed as T) : undefined;
+  } catch {
+    return undefined;
+  }
+}
+
 function PatientPicker({ initial, errors }: { initial: PatientOption | null; errors?: string[] }) {
   // The same search as the patients list (GET /api/patients?q=): a page at a time, with the count.
   type Found = { q: string; offset: number; total: number; totalIsExact: boolean; results: { id: string; firstName: string; lastName: string; dateOfBirth: string; email: string | null }[] };
   const search = useFetcher<Found>();
-  const register = useFetcher<{ patient?: PatientOption; error?: string; fieldErrors?: Record<string, string[]>; duplicates?: Duplicate[] }>();
+  type Registered = { patient?: PatientOption; error?: string; detail?: string; fieldErrors?: Record<string, string[]>; duplicates?: Duplicate[] };
+  const registerFetcher = useFetcher<Registered | string>();
+  // Refusals come back as problem details (application/problem+json), which the fetcher hands over as text.
+  const register = { state: registerFetcher.state, submit: registerFetcher.submit, data: useMemo(() => readReply(registerFetcher.data), [registerFetcher.data]) };
   const [q, setQ] = useState("");
   const [chosen, setChosen] = useState<PatientOption | null>(initial);
   const [extra, setExtra] = useState<PatientOption[]>(initial ? [initial] : []);
@@ -120,9 +133,9 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
               }
             />
           </div>
-        ) : register.data?.error && register.data !== dismissed ? (
+        ) : (register.data?.error || register.data?.detail) && register.data !== dismissed ? (
           <p className="mt-3 text-sm font-semibold text-red-800" role="alert">
-            {register.data.error}
+            {register.data.error ?? register.data.detail}
           </p>
         ) : null}
         <div className="mt-3 grid gap-3 sm:grid-cols-2">
