@@ -44,7 +44,11 @@ export default [
 
   layout("routes/layout.tsx", [
     index("routes/home.tsx"),
-    ...prefix("referrals", [index("routes/referrals/index.tsx"), route("new", "routes/referrals/new.tsx"), route(":referralId", "routes/referrals/referral.tsx")]),
+    ...prefix("referrals", [
+      index("routes/referrals/index.tsx"),
+      route("new", "routes/referrals/new.tsx"),
+      route(":referralId", "routes/referrals/referral.tsx"),
+    ]),
     ...prefix("billing", [
       index("routes/billing/index.tsx"),
       route("invoices/new", "routes/billing/invoice-new.tsx"),
@@ -67,7 +71,12 @@ export default [
       route("messages", "routes/schedule/messages.tsx"),
       route("recalls", "routes/schedule/recalls.tsx"),
     ]),
-    ...prefix("orders", [index("routes/orders/index.tsx"), route("new", "routes/orders/new.tsx"), route("reports", "routes/orders/reports.tsx"), route(":orderId", "routes/orders/order.tsx")]),
+    ...prefix("orders", [
+      index("routes/orders/index.tsx"),
+      route("new", "routes/orders/new.tsx"),
+      route("reports", "routes/orders/reports.tsx"),
+      route(":orderId", "routes/orders/order.tsx"),
+    ]),
     route("account", "routes/auth/account.tsx"),
     route("tools/rx", "routes/tools/rx.tsx"),
     ...prefix("settings", [

@@ -37,7 +37,11 @@ export function Field({
       <label htmlFor={inputProps.id} className="mb-1 block text-sm font-semibold">
         {label}
       </label>
-      <Input {...inputProps} aria-invalid={errorId ? true : undefined} aria-describedby={[hintId, errorId].filter(Boolean).join(" ") || undefined} />
+      <Input
+        {...inputProps}
+        aria-invalid={errorId ? true : undefined}
+        aria-describedby={[hintId, errorId].filter(Boolean).join(" ") || undefined}
+      />
       {hint ? (
         <p id={hintId} className="mt-1 text-sm text-muted">
           {hint}

@@ -3,7 +3,14 @@ import { useFetcher, useNavigate } from "react-router";
 import { formatDate } from "~/routes/patients/patient-schema";
 import { Icon } from "./ui/icon";
 
-export type PatientSearchHit = { id: string; firstName: string; lastName: string; dateOfBirth: string; phone: string | null; email: string | null };
+export type PatientSearchHit = {
+  id: string;
+  firstName: string;
+  lastName: string;
+  dateOfBirth: string;
+  phone: string | null;
+  email: string | null;
+};
 type Page = { q: string; offset: number; results: PatientSearchHit[]; total: number; totalIsExact: boolean };
 
 /** "12 patients match", "more than 1,000 patients match". */
@@ -57,10 +64,19 @@ export function PatientSearch({
   useEffect(() => {
     const d = fetcher.data;
     if (!d || !Array.isArray(d.results)) return;
-    setPages((prev) => (d.offset > 0 && prev && prev.q === d.q ? { ...d, results: [...prev.results, ...d.results.filter((r) => !prev.results.some((p) => p.id === r.id))] } : d));
+    setPages((prev) =>
+      d.offset > 0 && prev && prev.q === d.q
+        ? { ...d, results: [...prev.results, ...d.results.filter((r) => !prev.results.some((p) => p.id === r.id))] }
+        : d,
+    );
   }, [fetcher.data]);
 
-  useEffect(() => () => { if (timer.current) clearTimeout(timer.current); }, []);
+  useEffect(
+    () => () => {
+      if (timer.current) clearTimeout(timer.current);
+    },
+    [],
+  );
 
   useEffect(() => {
     if (active < 0) return;
@@ -129,7 +145,14 @@ export function PatientSearch({
   const searching = fetcher.state !== "idle";
   const showList = open && value.trim().length > 0 && results.length > 0;
   const countText = current ? matchCount(current.total, current.totalIsExact) : "";
-  const status = !open || !value.trim() ? "" : searching ? "Searching…" : results.length ? `${countText}; ${results.length} shown.` : "No patient matches.";
+  const status =
+    !open || !value.trim()
+      ? ""
+      : searching
+        ? "Searching…"
+        : results.length
+          ? `${countText}; ${results.length} shown.`
+          : "No patient matches.";
   const hint = picker
     ? "Any part of the name, phone or e-mail, or a date of birth such as 17/04/1979. Arrow keys choose, Enter picks the patient."
     : "Any part of the name, phone or e-mail, or a date of birth such as 17/04/1979. Arrow keys choose, Enter opens the chart.";
@@ -139,7 +162,10 @@ export function PatientSearch({
       <div>
         <input type="hidden" name={name} value={chosen.id} />
         <p className="mb-1 text-sm font-semibold">{label}</p>
-        <p className="flex flex-wrap items-center gap-3 rounded-md border border-line bg-canvas px-3 py-2" data-testid="chosen-patient">
+        <p
+          className="flex flex-wrap items-center gap-3 rounded-md border border-line bg-canvas px-3 py-2"
+          data-testid="chosen-patient"
+        >
           <span>
             <span className="font-semibold">
               {chosen.lastName}, {chosen.firstName}
@@ -155,7 +181,11 @@ export function PatientSearch({
               setTimeout(() => inputRef.current?.focus(), 0);
             }}
           >
-            Change<span className="sr-only"> the patient ({chosen.firstName} {chosen.lastName} now)</span>
+            Change
+            <span className="sr-only">
+              {" "}
+              the patient ({chosen.firstName} {chosen.lastName} now)
+            </span>
           </button>
         </p>
       </div>
@@ -178,7 +208,13 @@ export function PatientSearch({
         aria-expanded={showList}
         aria-controls={listId}
         aria-autocomplete="list"
-        aria-activedescendant={showList && active >= 0 ? (hasMore && active === results.length ? `${id}-more` : `${id}-opt-${active}`) : undefined}
+        aria-activedescendant={
+          showList && active >= 0
+            ? hasMore && active === results.length
+              ? `${id}-more`
+              : `${id}-opt-${active}`
+            : undefined
+        }
         aria-describedby={[`${id}-hint`, describedBy].filter(Boolean).join(" ")}
         aria-invalid={invalid ? true : undefined}
         autoComplete="off"
@@ -236,7 +272,9 @@ export function PatientSearch({
               onMouseEnter={() => setActive(results.length)}
               className={`cursor-pointer px-3 py-2 font-semibold text-accent-700 underline underline-offset-4 ${active === results.length ? "bg-accent-50" : ""}`}
             >
-              {searching ? "Loading more…" : `Show more (${current!.total - results.length}${current!.totalIsExact ? "" : "+"} not shown yet)`}
+              {searching
+                ? "Loading more…"
+                : `Show more (${current!.total - results.length}${current!.totalIsExact ? "" : "+"} not shown yet)`}
             </li>
           ) : null}
         </ul>

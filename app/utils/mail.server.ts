@@ -58,12 +58,16 @@ function quoted(name: string) {
   return `"${name.replace(/[\r\n]/g, " ").replace(/(["\\])/g, "\\$1")}"`;
 }
 
-const escapeHtml = (s: string) => s.replace(/[&<>"']/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[c]!);
+const escapeHtml = (s: string) =>
+  s.replace(/[&<>"']/g, (c) => ({ "&": "&amp;", "<": "&lt;", ">": "&gt;", '"': "&quot;", "'": "&#39;" })[c]!);
 
 /** The HTML part: the same words as the text part, paragraphs kept, links clickable. */
 export function htmlFromText(text: string, opts: { practiceName: string; unsubscribeUrl?: string; lang?: string }) {
   const linkify = (line: string) =>
-    escapeHtml(line).replace(/https?:\/\/[^\s<>"']+[^\s<>"'.,;:!?)]/g, (url) => `<a href="${url}" style="color:#0d5c61">${url}</a>`);
+    escapeHtml(line).replace(
+      /https?:\/\/[^\s<>"']+[^\s<>"'.,;:!?)]/g,
+      (url) => `<a href="${url}" style="color:#0d5c61">${url}</a>`,
+    );
   const paragraphs = text
     .replace(/\r\n?/g, "\n")
     .trim()
@@ -109,7 +113,9 @@ export function signUnsubscribe(patientId: string, list: UnsubscribeList) {
 
 /** Checks an unsubscribe token (constant time, every current secret); null when it is not one of ours. */
 export function verifyUnsubscribe(token: string): { patientId: string; list: UnsubscribeList } | null {
-  const m = /^([0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12})\.(reminders|recalls)\.([\w-]{43})$/.exec(token);
+  const m = /^([0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12})\.(reminders|recalls)\.([\w-]{43})$/.exec(
+    token,
+  );
   if (!m) return null;
   const [, patientId, list, sig] = m as unknown as [string, string, UnsubscribeList, string];
   const given = Buffer.from(sig, "utf8");
@@ -120,7 +126,8 @@ export function verifyUnsubscribe(token: string): { patientId: string; list: Uns
   return ok ? { patientId, list } : null;
 }
 
-export const unsubscribeUrl = (patientId: string, list: UnsubscribeList) => absoluteUrl(`/unsubscribe/${signUnsubscribe(patientId, list)}`);
+export const unsubscribeUrl = (patientId: string, list: UnsubscribeList) =>
+  absoluteUrl(`/unsubscribe/${signUnsubscribe(patientId, list)}`);
 
 // ---------------------------------------------------------------- sending
 
@@ -136,11 +143,18 @@ export async function practiceReplyAddress() {
 }
 
 async function practiceSender() {
-  const [p] = await db.select({ name: practiceSettings.name, email: practiceSettings.email }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const [p] = await db
+    .select({ name: practiceSettings.name, email: practiceSettings.email })
+    .from(practiceSettings)
+    .where(eq(practiceSettings.id, 1));
   return { name: p?.name || "Dioptra", email: p?.email || "" };
 }
 
-type Prepared = Omit<Mail, "automatic" | "unsubscribe"> & { from: string; html: string; headers: Record<string, string> };
+type Prepared = Omit<Mail, "automatic" | "unsubscribe"> & {
+  from: string;
+  html: string;
+  headers: Record<string, string>;
+};
 
 /**
  * The message as it goes out: sender name and Reply-To of the practice, the HTML part, and the
@@ -160,8 +174,15 @@ export async function prepareMail(mail: Mail): Promise<Prepared> {
   return {
     ...rest,
     from: rest.from ?? `${quoted(practice.name)} <${fromAddress()}>`,
-    ...(rest.replyTo || (practice.email && !isNoReplyAddress(practice.email)) ? { replyTo: rest.replyTo ?? `${quoted(practice.name)} <${practice.email}>` } : {}),
-    html: rest.html ?? htmlFromText(rest.text, { practiceName: practice.name, unsubscribeUrl: optOut && !rest.text.includes(optOut) ? optOut : undefined }),
+    ...(rest.replyTo || (practice.email && !isNoReplyAddress(practice.email))
+      ? { replyTo: rest.replyTo ?? `${quoted(practice.name)} <${practice.email}>` }
+      : {}),
+    html:
+      rest.html ??
+      htmlFromText(rest.text, {
+        practiceName: practice.name,
+        unsubscribeUrl: optOut && !rest.text.includes(optOut) ? optOut : undefined,
+      }),
     headers,
   };
 }

@@ -53,7 +53,12 @@ export type RecallFilters = {
 async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
   const settings = await practiceSchedule();
   const today = localParts(new Date(), settings.timeZone).date;
-  const idFilter = patientIds?.length ? sql`and p.id in (${sql.join(patientIds.map((id) => sql`${id}::uuid`), sql`, `)})` : sql``;
+  const idFilter = patientIds?.length
+    ? sql`and p.id in (${sql.join(
+        patientIds.map((id) => sql`${id}::uuid`),
+        sql`, `,
+      )})`
+    : sql``;
   const result = await db.execute<{
     patient_id: string;
     first_name: string;
@@ -108,7 +113,10 @@ async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
      where true ${idFilter}`);
   return result.rows.map((r) => {
     const examDate = localParts(new Date(r.last_visit), settings.timeZone).date;
-    const due = recallDueDate({ planRecallMonths: r.plan_months, typeRecallMonths: r.recall_months, dateOfBirth: r.date_of_birth, examDate }, settings);
+    const due = recallDueDate(
+      { planRecallMonths: r.plan_months, typeRecallMonths: r.recall_months, dateOfBirth: r.date_of_birth, examDate },
+      settings,
+    );
     const recalledForThisDue = r.recall_due === due.dueDate;
     return {
       patientId: r.patient_id,
@@ -125,7 +133,15 @@ async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
       siteId: r.site_id,
       siteName: r.site_name,
       nextBooked: r.next_booked ? formatLocal(new Date(r.next_booked), settings.timeZone) : null,
-      lastRecall: recalledForThisDue && r.recall_status ? { status: r.recall_status, at: new Date(r.recall_at!).toISOString(), batchId: r.recall_batch, skippedReason: r.recall_skipped } : null,
+      lastRecall:
+        recalledForThisDue && r.recall_status
+          ? {
+              status: r.recall_status,
+              at: new Date(r.recall_at!).toISOString(),
+              batchId: r.recall_batch,
+              skippedReason: r.recall_skipped,
+            }
+          : null,
     };
   });
 }
@@ -158,14 +174,32 @@ export async function startRecallBatch(actor: SessionUser, patientIds: string[],
     const inserted = due.length
       ? await tx
           .insert(recallMessages)
-          .values(due.map((r) => ({ batchId: batch!.id, patientId: r.patientId, dueDate: r.dueDate, siteId: r.siteId })))
+          .values(
+            due.map((r) => ({ batchId: batch!.id, patientId: r.patientId, dueDate: r.dueDate, siteId: r.siteId })),
+          )
           .onConflictDoNothing()
           .returning({ id: recallMessages.id })
       : [];
     await tx.update(recallBatches).set({ total: inserted.length }).where(eq(recallBatches.id, batch!.id));
-    for (const m of inserted) await recallMail.enqueue({ recallId: m.id }, { tx, singletonKey: m.id, ...mailRetryOptions() });
-    await audit({ action: "recall.batch_started", actorUserId: actor.id, entityType: "recall_batch", entityId: batch!.id, detail: { requested: patientIds.length, queued: inserted.length }, request }, tx);
-    return { batchId: batch!.id, total: inserted.length, alreadyRecalled: due.length - inserted.length, notDue: patientIds.length - due.length };
+    for (const m of inserted)
+      await recallMail.enqueue({ recallId: m.id }, { tx, singletonKey: m.id, ...mailRetryOptions() });
+    await audit(
+      {
+        action: "recall.batch_started",
+        actorUserId: actor.id,
+        entityType: "recall_batch",
+        entityId: batch!.id,
+        detail: { requested: patientIds.length, queued: inserted.length },
+        request,
+      },
+      tx,
+    );
+    return {
+      batchId: batch!.id,
+      total: inserted.length,
+      alreadyRecalled: due.length - inserted.length,
+      notDue: patientIds.length - due.length,
+    };
   });
 }
 
@@ -173,10 +207,23 @@ export async function startRecallBatch(actor: SessionUser, patientIds: string[],
 export async function batchProgress(batchId: string) {
   const [batch] = await db.select().from(recallBatches).where(eq(recallBatches.id, batchId));
   if (!batch) return null;
-  const rows = await db.select({ status: recallMessages.status, n: count() }).from(recallMessages).where(eq(recallMessages.batchId, batchId)).groupBy(recallMessages.status);
+  const rows = await db
+    .select({ status: recallMessages.status, n: count() })
+    .from(recallMessages)
+    .where(eq(recallMessages.batchId, batchId))
+    .groupBy(recallMessages.status);
   const by = Object.fromEntries(rows.map((r) => [r.status, r.n])) as Record<string, number>;
   const done = (by.sent ?? 0) + (by.skipped ?? 0) + (by.failed ?? 0);
-  return { batchId, total: batch.total, sent: by.sent ?? 0, skipped: by.skipped ?? 0, failed: by.failed ?? 0, queued: by.queued ?? 0, done, finished: done >= batch.total };
+  return {
+    batchId,
+    total: batch.total,
+    sent: by.sent ?? 0,
+    skipped: by.skipped ?? 0,
+    failed: by.failed ?? 0,
+    queued: by.queued ?? 0,
+    done,
+    finished: done >= batch.total,
+  };
 }
 
 type Sender = (mail: Mail) => Promise<unknown>;
@@ -190,38 +237,70 @@ export function useRecallMailSender(next: Sender | null) {
  * (its own address as Reply-To, never a no-reply sender); the portal is always offered.
  */
 export function howToBook(phone: string | null | undefined, replyTo: string | null) {
-  const ways = [phone ? `call us on ${phone}` : null, replyTo ? `reply to this e-mail (it reaches ${replyTo})` : null, `book online in your patient portal: ${absoluteUrl("/portal/book")}`].filter(Boolean) as string[];
+  const ways = [
+    phone ? `call us on ${phone}` : null,
+    replyTo ? `reply to this e-mail (it reaches ${replyTo})` : null,
+    `book online in your patient portal: ${absoluteUrl("/portal/book")}`,
+  ].filter(Boolean) as string[];
   return `To book, ${ways.length > 1 ? `${ways.slice(0, -1).join(", ")} or ${ways.at(-1)}` : ways[0]}.`;
 }
 
 /** The job: send one recall e-mail at most once. */
-export async function deliverRecall(recallId: string, job: { retryCount: number; retryLimit: number } = { retryCount: 0, retryLimit: 0 }) {
+export async function deliverRecall(
+  recallId: string,
+  job: { retryCount: number; retryLimit: number } = { retryCount: 0, retryLimit: 0 },
+) {
   const settings = await practiceSchedule();
   try {
     return await db.transaction(async (tx) => {
       const [row] = await tx
-        .select({ recall: recallMessages, firstName: patients.firstName, lastName: patients.lastName, email: patients.email, recallsByEmail: patients.recallsByEmail, site: sites })
+        .select({
+          recall: recallMessages,
+          firstName: patients.firstName,
+          lastName: patients.lastName,
+          email: patients.email,
+          recallsByEmail: patients.recallsByEmail,
+          site: sites,
+        })
         .from(recallMessages)
         .innerJoin(patients, eq(patients.id, recallMessages.patientId))
         .innerJoin(sites, eq(sites.id, recallMessages.siteId))
         .where(eq(recallMessages.id, recallId))
         .for("update", { of: recallMessages });
       if (!row || row.recall.status === "sent" || row.recall.status === "skipped") return "already done" as const;
-      const skip = !row.recallsByEmail ? "patient opted out of recall e-mails" : !row.email ? "no e-mail address on record" : null;
+      const skip = !row.recallsByEmail
+        ? "patient opted out of recall e-mails"
+        : !row.email
+          ? "no e-mail address on record"
+          : null;
       if (skip) {
-        await tx.update(recallMessages).set({ status: "skipped", skippedReason: skip }).where(eq(recallMessages.id, recallId));
+        await tx
+          .update(recallMessages)
+          .set({ status: "skipped", skippedReason: skip })
+          .where(eq(recallMessages.id, recallId));
         return "skipped" as const;
       }
       const [booked] = await tx
         .select({ id: appointments.id })
         .from(appointments)
-        .where(and(eq(appointments.patientId, row.recall.patientId), gt(appointments.startsAt, new Date()), inArray(appointments.status, ["booked", "confirmed"])))
+        .where(
+          and(
+            eq(appointments.patientId, row.recall.patientId),
+            gt(appointments.startsAt, new Date()),
+            inArray(appointments.status, ["booked", "confirmed"]),
+          ),
+        )
         .limit(1);
       if (booked) {
-        await tx.update(recallMessages).set({ status: "skipped", skippedReason: "already booked" }).where(eq(recallMessages.id, recallId));
+        await tx
+          .update(recallMessages)
+          .set({ status: "skipped", skippedReason: "already booked" })
+          .where(eq(recallMessages.id, recallId));
         return "skipped" as const;
       }
-      const due = new Intl.DateTimeFormat("en-GB", { dateStyle: "long", timeZone: "UTC" }).format(new Date(`${row.recall.dueDate}T00:00:00Z`));
+      const due = new Intl.DateTimeFormat("en-GB", { dateStyle: "long", timeZone: "UTC" }).format(
+        new Date(`${row.recall.dueDate}T00:00:00Z`),
+      );
       const site = row.site;
       const phoneNumber = site.phone || settings.phone;
       const replyTo = await practiceReplyAddress();
@@ -236,19 +315,36 @@ export async function deliverRecall(recallId: string, job: { retryCount: number;
           unsubscribe: { patientId: row.recall.patientId, list: "recalls" },
         }),
       );
-      await tx.update(recallMessages).set({ status: "sent", sentAt: new Date(), recipient: row.email, attempts: row.recall.attempts + 1, lastError: null }).where(eq(recallMessages.id, recallId));
+      await tx
+        .update(recallMessages)
+        .set({
+          status: "sent",
+          sentAt: new Date(),
+          recipient: row.email,
+          attempts: row.recall.attempts + 1,
+          lastError: null,
+        })
+        .where(eq(recallMessages.id, recallId));
       return "sent" as const;
     });
   } catch (error) {
     const last = job.retryCount >= job.retryLimit;
     await db
       .update(recallMessages)
-      .set({ attempts: job.retryCount + 1, lastError: (error as Error).message.slice(0, 500), status: last ? "failed" : "queued" })
+      .set({
+        attempts: job.retryCount + 1,
+        lastError: (error as Error).message.slice(0, 500),
+        status: last ? "failed" : "queued",
+      })
       .where(and(eq(recallMessages.id, recallId), eq(recallMessages.status, "queued")));
     throw error;
   }
 }
 
-export const recallMail = defineJob<{ recallId: string }>(RECALL_MAIL_QUEUE, async (data, job) => {
-  await deliverRecall(data.recallId, job);
-}, { retryLimit: 10, retryDelay: 30, retryBackoff: true, expireInSeconds: 120 });
+export const recallMail = defineJob<{ recallId: string }>(
+  RECALL_MAIL_QUEUE,
+  async (data, job) => {
+    await deliverRecall(data.recallId, job);
+  },
+  { retryLimit: 10, retryDelay: 30, retryBackoff: true, expireInSeconds: 120 },
+);

@@ -15,20 +15,24 @@ let examId: string;
 beforeAll(async () => {
   client = new pg.Client({ connectionString: inject("e2eDatabaseUrl") });
   await client.connect();
-  const q = async <T extends pg.QueryResultRow>(text: string, values: unknown[] = []) => (await client.query<T>(text, values)).rows;
+  const q = async <T extends pg.QueryResultRow>(text: string, values: unknown[] = []) =>
+    (await client.query<T>(text, values)).rows;
   const [fee] = await q<{ id: string }>("select id from fee_items where code = 'EXAM-A'");
   const [optom] = await q<{ id: string }>("select id from users where email = $1", [DEMO.optometrist]);
   const [patient] = await q<{ id: string }>("select patient_id as id from users where email = $1", [DEMO.patient]);
-  const [type] = await q<{ id: string }>("insert into appointment_types (name, duration_minutes, default_fee_item_id) values ('Routine eye exam (billing test)', 30, $1) returning id", [fee!.id]);
+  const [type] = await q<{ id: string }>(
+    "insert into appointment_types (name, duration_minutes, default_fee_item_id) values ('Routine eye exam (billing test)', 30, $1) returning id",
+    [fee!.id],
+  );
   const start = new Date(Date.UTC(2026, 10, 3, 9, 0));
-  const [appt] = await q<{ id: string }>("insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status) values ($1, $2, $3, $4, $5, 'completed') returning id", [
-    patient!.id,
-    optom!.id,
-    type!.id,
-    start,
-    new Date(start.getTime() + 30 * 60_000),
-  ]);
-  const [exam] = await q<{ id: string }>("insert into exams (patient_id, optometrist_id, appointment_id, status, signed_at, signed_by_id, examined_at) values ($1, $2, $3, 'signed', now(), $2, $4) returning id", [patient!.id, optom!.id, appt!.id, start]);
+  const [appt] = await q<{ id: string }>(
+    "insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status) values ($1, $2, $3, $4, $5, 'completed') returning id",
+    [patient!.id, optom!.id, type!.id, start, new Date(start.getTime() + 30 * 60_000)],
+  );
+  const [exam] = await q<{ id: string }>(
+    "insert into exams (patient_id, optometrist_id, appointment_id, status, signed_at, signed_by_id, examined_at) values ($1, $2, $3, 'signed', now(), $2, $4) returning id",
+    [patient!.id, optom!.id, appt!.id, start],
+  );
   examId = exam!.id;
 });
 afterAll(async () => {
@@ -61,14 +65,19 @@ describe("billing in the browser", () => {
     await expect.poll(() => desk.getByTestId("toast").textContent(), SLOW).toMatch(/Issued as INV-\d{6}/);
     const label = (await desk.getByRole("heading", { level: 1 }).textContent())!.match(/INV-\d{6}/)![0];
     await desk.getByRole("button", { name: "E-mail invoice with payment link" }).click();
-    await expect.poll(() => desk.getByTestId("toast").textContent(), SLOW).toContain(`Invoice e-mailed to ${DEMO.patient}`);
+    await expect
+      .poll(() => desk.getByTestId("toast").textContent(), SLOW)
+      .toContain(`Invoice e-mailed to ${DEMO.patient}`);
     await expectAccessible(desk);
     await screenshot(desk, "billing-invoice-open");
 
     // The patient, not signed in, opens the link from the e-mail in the mailbox page.
     const patient = await browser.newPage();
     await patient.goto("/dev/mailbox");
-    await patient.getByRole("link", { name: new RegExp(`Invoice ${label} from Larkspur Lane Eye Care`) }).first().click();
+    await patient
+      .getByRole("link", { name: new RegExp(`Invoice ${label} from Larkspur Lane Eye Care`) })
+      .first()
+      .click();
     await patient.getByRole("link", { name: /\/pay\// }).click();
     await patient.waitForURL("**/pay/**");
     await ready(patient);
@@ -85,17 +94,29 @@ describe("billing in the browser", () => {
     await screenshot(patient, "standin-checkout");
     await patient.getByRole("button", { name: /^Pay £86.58/ }).click();
     await patient.waitForURL((u) => u.pathname.startsWith("/pay/") && u.searchParams.get("checkout") === "done");
-    await expect.poll(() => patient.getByRole("status").filter({ hasText: "Paid — thank you" }).count(), { timeout: 15_000 }).toBe(1);
+    await expect
+      .poll(() => patient.getByRole("status").filter({ hasText: "Paid — thank you" }).count(), { timeout: 15_000 })
+      .toBe(1);
     expect(await patient.getByTestId("amount-due").textContent()).toBe("£0.00");
     await expectAccessible(patient);
     await screenshot(patient, "pay-link-paid");
 
     // The receipt is in the mailbox page.
-    await expect.poll(async () => (await mailTo(DEMO.patient)).some((m) => m.subject.startsWith("Receipt for your payment")), SLOW).toBe(true);
+    await expect
+      .poll(
+        async () => (await mailTo(DEMO.patient)).some((m) => m.subject.startsWith("Receipt for your payment")),
+        SLOW,
+      )
+      .toBe(true);
     await patient.goto("/dev/mailbox");
-    await patient.getByRole("link", { name: /Receipt for your payment to Larkspur Lane Eye Care/ }).first().click();
+    await patient
+      .getByRole("link", { name: /Receipt for your payment to Larkspur Lane Eye Care/ })
+      .first()
+      .click();
     await expect.poll(() => patient.getByRole("link", { name: /^receipt-INV-\d{6}\.pdf$/ }).count()).toBe(1);
-    expect(await patient.locator("pre").textContent()).toContain(`We have received £86.58 (card online) for invoice ${label}`);
+    expect(await patient.locator("pre").textContent()).toContain(
+      `We have received £86.58 (card online) for invoice ${label}`,
+    );
 
     // The takings page shows it under card online, and it reconciles.
     await desk.goto("/billing/takings");
@@ -119,7 +140,10 @@ describe("billing in the browser", () => {
     await ready(desk);
     // The patient field searches the whole register as you type.
     await desk.getByRole("combobox", { name: "Patient" }).fill("Achterberg Rosalind");
-    await desk.getByRole("option", { name: new RegExp(`^${"Achterberg, Rosalind"}`) }).first().click();
+    await desk
+      .getByRole("option", { name: new RegExp(`^${"Achterberg, Rosalind"}`) })
+      .first()
+      .click();
     await expect.poll(() => desk.getByTestId("chosen-patient").textContent()).toContain("Achterberg, Rosalind");
     await desk.getByLabel("Quantity of Contact lens aftercare check").fill("1");
     await desk.getByRole("button", { name: "Create draft invoice" }).click();
@@ -167,7 +191,9 @@ describe("billing in the browser", () => {
     await patient.waitForURL((u) => u.pathname.startsWith("/pay/") && u.searchParams.get("checkout") === "done");
     await expect.poll(() => patient.getByRole("status").filter({ hasText: "Confirming your payment" }).count()).toBe(1);
     expect(await patient.getByRole("heading", { level: 1 }).textContent()).toContain("Open");
-    await expect.poll(() => patient.getByRole("status").filter({ hasText: "Paid — thank you" }).count(), { timeout: 15_000 }).toBe(1);
+    await expect
+      .poll(() => patient.getByRole("status").filter({ hasText: "Paid — thank you" }).count(), { timeout: 15_000 })
+      .toBe(1);
   });
 
   it("lets the owner keep the fee schedule, with errors next to the field", async () => {
@@ -200,7 +226,10 @@ describe("billing in the browser", () => {
       expect(await tablet.evaluate(() => document.documentElement.scrollWidth <= window.innerWidth)).toBe(true);
     }
     await tablet.goto("/billing");
-    await tablet.getByRole("link", { name: /^INV-\d{6}$/ }).first().click();
+    await tablet
+      .getByRole("link", { name: /^INV-\d{6}$/ })
+      .first()
+      .click();
     await tablet.waitForURL("**/billing/invoices/**");
     await ready(tablet);
     expect(await tablet.evaluate(() => document.documentElement.scrollWidth <= window.innerWidth)).toBe(true);
@@ -212,23 +241,51 @@ describe("the webhook endpoint over HTTP", () => {
   const standIn = () => `http://127.0.0.1:${inject("stripePort")}`;
 
   it("refuses an unsigned or forged event with 400", async () => {
-    const body = JSON.stringify({ id: "evt_forged", type: "checkout.session.completed", created: Math.floor(Date.now() / 1000), data: { object: {} } });
-    const unsigned = await fetch(`${baseUrl()}/api/webhooks/stripe`, { method: "POST", headers: { "content-type": "application/json" }, body });
+    const body = JSON.stringify({
+      id: "evt_forged",
+      type: "checkout.session.completed",
+      created: Math.floor(Date.now() / 1000),
+      data: { object: {} },
+    });
+    const unsigned = await fetch(`${baseUrl()}/api/webhooks/stripe`, {
+      method: "POST",
+      headers: { "content-type": "application/json" },
+      body,
+    });
     expect(unsigned.status).toBe(400);
-    const forged = await fetch(`${baseUrl()}/api/webhooks/stripe`, { method: "POST", headers: { "content-type": "application/json", "stripe-signature": `t=${Math.floor(Date.now() / 1000)},v1=${"0".repeat(64)}` }, body });
+    const forged = await fetch(`${baseUrl()}/api/webhooks/stripe`, {
+      method: "POST",
+      headers: {
+        "content-type": "application/json",
+        "stripe-signature": `t=${Math.floor(Date.now() / 1000)},v1=${"0".repeat(64)}`,
+      },
+      body,
+    });
     expect(forged.status).toBe(400);
     expect(((await forged.json()) as { error: string }).error).toMatch(/Webhook refused/);
     expect((await client.query("select 1 from stripe_events where id = 'evt_forged'")).rowCount).toBe(0);
   });
 
   it("answers the stand-in's replay of a delivered payment event as a duplicate, changing nothing", async () => {
-    const events = (await (await fetch(`${standIn()}/_standin/events`)).json()) as { id: string; type: string; deliveries: { status: number }[] }[];
-    const completed = events.find((e) => e.type === "checkout.session.completed" && e.deliveries.some((d) => d.status === 200));
+    const events = (await (await fetch(`${standIn()}/_standin/events`)).json()) as {
+      id: string;
+      type: string;
+      deliveries: { status: number }[];
+    }[];
+    const completed = events.find(
+      (e) => e.type === "checkout.session.completed" && e.deliveries.some((d) => d.status === 200),
+    );
     expect(completed).toBeTruthy();
-    const before = await client.query("select sum(paid_minor)::int as paid, (select count(*)::int from payments where status = 'succeeded') as n from invoices");
-    const replay = (await (await fetch(`${standIn()}/_standin/events/${completed!.id}/deliver`, { method: "POST" })).json()) as { deliveries: { status: number }[] };
+    const before = await client.query(
+      "select sum(paid_minor)::int as paid, (select count(*)::int from payments where status = 'succeeded') as n from invoices",
+    );
+    const replay = (await (
+      await fetch(`${standIn()}/_standin/events/${completed!.id}/deliver`, { method: "POST" })
+    ).json()) as { deliveries: { status: number }[] };
     expect(replay.deliveries.at(-1)!.status).toBe(200);
-    const after = await client.query("select sum(paid_minor)::int as paid, (select count(*)::int from payments where status = 'succeeded') as n from invoices");
+    const after = await client.query(
+      "select sum(paid_minor)::int as paid, (select count(*)::int from payments where status = 'succeeded') as n from invoices",
+    );
     expect(after.rows[0]).toEqual(before.rows[0]);
     const [row] = (await client.query("select outcome from stripe_events where id = $1", [completed!.id])).rows;
     expect(row.outcome).toBe("payment succeeded");

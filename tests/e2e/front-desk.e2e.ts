@@ -7,7 +7,8 @@ const browser = useBrowser();
 const ready = (page: Page) => page.waitForLoadState("networkidle");
 const SLOW = { timeout: 20_000 };
 let client: pg.Client;
-const q = async <T extends pg.QueryResultRow>(text: string, values: unknown[] = []) => (await client.query<T>(text, values)).rows;
+const q = async <T extends pg.QueryResultRow>(text: string, values: unknown[] = []) =>
+  (await client.query<T>(text, values)).rows;
 const tag = Math.random().toString(36).slice(2, 7);
 const SURNAME = `Harrowgate${tag}`;
 
@@ -16,9 +17,18 @@ beforeAll(async () => {
   await client.connect();
   // 600 patients sorting before everyone else, so a fixed list of the first 500 would miss the rest;
   // 24 whose first name contains the searched word, and one whose surname is it exactly.
-  await q(`insert into patients (first_name, last_name, date_of_birth) select 'Filler', 'Aaaa' || lpad(g::text, 4, '0') || $1, date '1960-01-01' from generate_series(1, 600) g`, [tag]);
-  await q(`insert into patients (first_name, last_name, date_of_birth) select $1 || 'a', 'Abbot' || lpad(g::text, 2, '0') || $2, date '1971-01-01' from generate_series(1, 24) g`, [SURNAME, tag]);
-  await q(`insert into patients (first_name, last_name, date_of_birth, email) values ('Zebedee', $1, date '1990-09-09', $2)`, [SURNAME, `zebedee.${tag}@dioptra-demo.test`]);
+  await q(
+    `insert into patients (first_name, last_name, date_of_birth) select 'Filler', 'Aaaa' || lpad(g::text, 4, '0') || $1, date '1960-01-01' from generate_series(1, 600) g`,
+    [tag],
+  );
+  await q(
+    `insert into patients (first_name, last_name, date_of_birth) select $1 || 'a', 'Abbot' || lpad(g::text, 2, '0') || $2, date '1971-01-01' from generate_series(1, 24) g`,
+    [SURNAME, tag],
+  );
+  await q(
+    `insert into patients (first_name, last_name, date_of_birth, email) values ('Zebedee', $1, date '1990-09-09', $2)`,
+    [SURNAME, `zebedee.${tag}@dioptra-demo.test`],
+  );
 });
 afterAll(async () => {
   await client?.end();
@@ -33,7 +43,9 @@ describe("finding people and billing at the front desk", () => {
     await ready(desk);
     const box = desk.getByRole("combobox", { name: "Find a patient" });
     await box.fill(SURNAME.toLowerCase());
-    await expect.poll(() => desk.getByTestId("patient-search-count").first().textContent(), SLOW).toBe("25 patients match · 20 shown");
+    await expect
+      .poll(() => desk.getByTestId("patient-search-count").first().textContent(), SLOW)
+      .toBe("25 patients match · 20 shown");
     const matches = desk.getByRole("listbox", { name: "Matching patients" }).getByRole("option");
     expect(await matches.first().textContent()).toContain(`${SURNAME}, Zebedee`);
     await expectAccessible(desk);
@@ -45,7 +57,9 @@ describe("finding people and billing at the front desk", () => {
     await desk.goto("/billing/invoices/new");
     await ready(desk);
     await desk.getByRole("combobox", { name: "Patient" }).fill(`Zebedee ${SURNAME}`);
-    await expect.poll(() => desk.getByRole("listbox", { name: "Matching patients" }).getByRole("option").count(), SLOW).toBe(1);
+    await expect
+      .poll(() => desk.getByRole("listbox", { name: "Matching patients" }).getByRole("option").count(), SLOW)
+      .toBe(1);
     await desk.getByRole("combobox", { name: "Patient" }).press("Enter");
     await expect.poll(() => desk.getByTestId("chosen-patient").textContent()).toContain(`${SURNAME}, Zebedee`);
     await expectAccessible(desk);
@@ -79,7 +93,10 @@ describe("finding people and billing at the front desk", () => {
     const [optom] = await q<{ id: string }>("select id from users where email = $1", [DEMO.optometrist]);
     const [type] = await q<{ id: string }>("select id from appointment_types where name = 'Contact lens check'");
     const start = new Date(Date.UTC(2026, 5, 2, 8, 0) + Math.floor(Math.random() * 5000) * 3_600_000);
-    const [appt] = await q<{ id: string }>("insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status) values ($1, $2, $3, $4, $5, 'completed') returning id", [patient!.id, optom!.id, type!.id, start, new Date(start.getTime() + 20 * 60_000)]);
+    const [appt] = await q<{ id: string }>(
+      "insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status) values ($1, $2, $3, $4, $5, 'completed') returning id",
+      [patient!.id, optom!.id, type!.id, start, new Date(start.getTime() + 20 * 60_000)],
+    );
     const desk = await browser.newPage();
     await signIn(desk, DEMO.receptionist);
     await desk.waitForURL((u) => u.pathname === "/");
@@ -117,7 +134,18 @@ describe("finding people and billing at the front desk", () => {
     await desk.getByLabel("This is a second payment: record it too").check();
     await desk.getByRole("button", { name: "Record payment" }).click();
     await expect.poll(() => desk.getByTestId("toast").textContent(), SLOW).toContain("£5.00 recorded");
-    await expect.poll(async () => (await q("select count(*)::int as n from payments p join invoices i on i.id = p.invoice_id where i.patient_id = $1", [patient!.id]))[0]!.n, SLOW).toBe(2);
+    await expect
+      .poll(
+        async () =>
+          (
+            await q(
+              "select count(*)::int as n from payments p join invoices i on i.id = p.invoice_id where i.patient_id = $1",
+              [patient!.id],
+            )
+          )[0]!.n,
+        SLOW,
+      )
+      .toBe(2);
 
     await desk.goto(`/patients/${patient!.id}`);
     await ready(desk);
@@ -127,7 +155,9 @@ describe("finding people and billing at the front desk", () => {
     await desk.getByRole("link", { name: "Outstanding balances" }).click();
     await desk.waitForURL((u) => u.pathname === "/billing/balances");
     await ready(desk);
-    expect(await desk.getByRole("row", { name: new RegExp(`${SURNAME}, Zebedee`) }).textContent()).toContain(`£${owed}`);
+    expect(await desk.getByRole("row", { name: new RegExp(`${SURNAME}, Zebedee`) }).textContent()).toContain(
+      `£${owed}`,
+    );
     await expectAccessible(desk);
     expect(invoiceUrl).toContain("/billing/invoices/");
   }, 150_000);
@@ -153,10 +183,16 @@ describe("finding people and billing at the front desk", () => {
     const now = new Date();
     const lastVisit = new Date(Date.UTC(now.getUTCFullYear() - 2, now.getUTCMonth(), 15, 9, 0));
     const email = `recall.${tag}@dioptra-demo.test`;
-    const [p] = await q<{ id: string }>("insert into patients (first_name, last_name, date_of_birth, email) values ('Rowena', $1, date '1970-02-02', $2) returning id", [`Recallby${tag}`, email]);
+    const [p] = await q<{ id: string }>(
+      "insert into patients (first_name, last_name, date_of_birth, email) values ('Rowena', $1, date '1970-02-02', $2) returning id",
+      [`Recallby${tag}`, email],
+    );
     const [optom] = await q<{ id: string }>("select id from users where email = $1", [DEMO.optometrist]);
     const [type] = await q<{ id: string }>("select id from appointment_types where name = 'Comprehensive eye exam'");
-    await q("insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status) values ($1, $2, $3, $4, $5, 'completed')", [p!.id, optom!.id, type!.id, lastVisit, new Date(lastVisit.getTime() + 30 * 60_000)]);
+    await q(
+      "insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status) values ($1, $2, $3, $4, $5, 'completed')",
+      [p!.id, optom!.id, type!.id, lastVisit, new Date(lastVisit.getTime() + 30 * 60_000)],
+    );
     const desk = await browser.newPage({ viewport: { width: 1200, height: 700 } });
     await signIn(desk, DEMO.receptionist);
     await desk.waitForURL((u) => u.pathname === "/");
@@ -171,9 +207,13 @@ describe("finding people and billing at the front desk", () => {
     await desk.getByLabel(`Choose Rowena Recallby${tag}`).check();
     await expectAccessible(desk);
     await desk.getByRole("button", { name: "Send recall e-mails (1)" }).click();
-    await expect.poll(() => desk.getByTestId("recall-progress").textContent(), SLOW).toMatch(/1 of 1 done.*1 sent.*finished/);
+    await expect
+      .poll(() => desk.getByTestId("recall-progress").textContent(), SLOW)
+      .toMatch(/1 of 1 done.*1 sent.*finished/);
     await desk.waitForURL((u) => u.searchParams.has("batch"));
-    await expect.poll(() => desk.getByRole("row", { name: new RegExp(`Rowena Recallby${tag}`) }).textContent(), SLOW).toContain("Recall sent");
+    await expect
+      .poll(() => desk.getByRole("row", { name: new RegExp(`Rowena Recallby${tag}`) }).textContent(), SLOW)
+      .toContain("Recall sent");
     await expectAccessible(desk);
     await expect.poll(async () => (await mailTo(email)).length, SLOW).toBe(1);
     const [mail] = await mailTo(email);
@@ -189,14 +229,22 @@ describe("finding people and billing at the front desk", () => {
     while (day.getUTCDay() !== 3) day.setUTCDate(day.getUTCDate() + 1);
     await phone.goto(`/portal/book?date=${day.toISOString().slice(0, 10)}`);
     await ready(phone);
-    const before = (await q("select count(*)::int as n from appointments where patient_id = $1", [patientRow!.id]))[0]!.n;
-    await phone.locator('form[method="post"]:has(input[name="step"][value="review"]) button[type="submit"]').first().click();
+    const before = (await q("select count(*)::int as n from appointments where patient_id = $1", [patientRow!.id]))[0]!
+      .n;
+    await phone
+      .locator('form[method="post"]:has(input[name="step"][value="review"]) button[type="submit"]')
+      .first()
+      .click();
     await expect.poll(() => phone.getByRole("heading", { name: "Check and confirm your visit" }).count(), SLOW).toBe(1);
-    expect((await q("select count(*)::int as n from appointments where patient_id = $1", [patientRow!.id]))[0]!.n).toBe(before);
+    expect((await q("select count(*)::int as n from appointments where patient_id = $1", [patientRow!.id]))[0]!.n).toBe(
+      before,
+    );
     await expectAccessible(phone);
     await phone.getByRole("button", { name: "Book this visit" }).click();
     await expect.poll(() => phone.getByTestId("toast").textContent(), SLOW).toContain("Your visit is booked");
-    expect((await q("select count(*)::int as n from appointments where patient_id = $1", [patientRow!.id]))[0]!.n).toBe(before + 1);
+    expect((await q("select count(*)::int as n from appointments where patient_id = $1", [patientRow!.id]))[0]!.n).toBe(
+      before + 1,
+    );
 
     // An issued invoice of this patient, raised at the desk.
     const desk = await browser.newPage();
@@ -215,7 +263,10 @@ describe("finding people and billing at the front desk", () => {
     await ready(phone);
     expect(await phone.getByRole("heading", { name: `Invoice ${label}` }).count()).toBe(1);
     await expectAccessible(phone);
-    await phone.locator("li", { has: phone.getByRole("heading", { name: `Invoice ${label}` }) }).getByRole("button", { name: /Pay/ }).click();
+    await phone
+      .locator("li", { has: phone.getByRole("heading", { name: `Invoice ${label}` }) })
+      .getByRole("button", { name: /Pay/ })
+      .click();
     await phone.waitForURL((u) => u.pathname.startsWith("/pay/"));
     await ready(phone);
     await phone.getByRole("link", { name: "Back to the patient portal" }).click();

@@ -12,24 +12,30 @@ const PHONE = { width: 390, height: 844 };
 const ready = (page: Page) => page.waitForLoadState("networkidle");
 let client: pg.Client;
 let patient: { id: string; email: string; first_name: string; last_name: string; date_of_birth: string };
-const q = async <T extends pg.QueryResultRow>(text: string, values: unknown[] = []) => (await client.query<T>(text, values)).rows;
+const q = async <T extends pg.QueryResultRow>(text: string, values: unknown[] = []) =>
+  (await client.query<T>(text, values)).rows;
 
 /** A seeded patient with a current spectacle prescription and an e-mail address but no online account yet, with a visit next month. */
 beforeAll(async () => {
   client = new pg.Client({ connectionString: inject("e2eDatabaseUrl") });
   await client.connect();
-  patient = (await q(
-    `select p.id, p.email, p.first_name, p.last_name, p.date_of_birth::text from patients p
+  patient = (
+    await q(
+      `select p.id, p.email, p.first_name, p.last_name, p.date_of_birth::text from patients p
       where p.email is not null
         and exists (select 1 from prescriptions r where r.patient_id = p.id and r.kind = 'spectacle' and r.expires_on >= current_date)
         and not exists (select 1 from users u where u.patient_id = p.id or lower(u.email) = lower(p.email))
       order by p.last_name limit 1`,
-  ))[0] as typeof patient;
+    )
+  )[0] as typeof patient;
   const [optom] = await q<{ id: string }>("select id from users where email = $1", [DEMO.optometrist]);
   const [type] = await q<{ id: string }>("select id from appointment_types where name = 'Comprehensive eye exam'");
   const start = new Date(Date.now() + 35 * 86_400_000);
   start.setUTCHours(9, 0, 0, 0);
-  await q("insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status) values ($1, $2, $3, $4, $5, 'confirmed')", [patient.id, optom!.id, type!.id, start, new Date(start.getTime() + 30 * 60_000)]);
+  await q(
+    "insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status) values ($1, $2, $3, $4, $5, 'confirmed')",
+    [patient.id, optom!.id, type!.id, start, new Date(start.getTime() + 30 * 60_000)],
+  );
 });
 afterAll(async () => {
   await client?.end();
@@ -46,8 +52,13 @@ describe("the patient portal on a phone", () => {
     await ready(desk);
     // The patient field searches the whole register as you type.
     await desk.getByRole("combobox", { name: "Patient" }).fill(`${patient.last_name} ${patient.first_name}`);
-    await desk.getByRole("option", { name: new RegExp(`^${`${patient.last_name}, ${patient.first_name}`}`) }).first().click();
-    await expect.poll(() => desk.getByTestId("chosen-patient").textContent()).toContain(`${patient.last_name}, ${patient.first_name}`);
+    await desk
+      .getByRole("option", { name: new RegExp(`^${`${patient.last_name}, ${patient.first_name}`}`) })
+      .first()
+      .click();
+    await expect
+      .poll(() => desk.getByTestId("chosen-patient").textContent())
+      .toContain(`${patient.last_name}, ${patient.first_name}`);
     await desk.getByLabel("Quantity of Contact lens aftercare check").fill("1");
     await desk.getByRole("button", { name: "Create draft invoice" }).click();
     await expect.poll(() => desk.getByTestId("toast").textContent()).toContain("Draft invoice created");
@@ -62,7 +73,10 @@ describe("the patient portal on a phone", () => {
     // On the phone: the invitation from the mailbox page, then a password.
     const phone = await browser.newPage({ viewport: PHONE });
     await phone.goto("/dev/mailbox");
-    await phone.getByRole("link", { name: /Your online page at Larkspur Lane Eye Care/ }).first().click();
+    await phone
+      .getByRole("link", { name: /Your online page at Larkspur Lane Eye Care/ })
+      .first()
+      .click();
     await phone.getByRole("link", { name: /reset-password\?token=/ }).click();
     await expect.poll(() => phone.getByRole("heading", { level: 1 }).textContent()).toBe("Set your password");
     await ready(phone);
@@ -72,7 +86,9 @@ describe("the patient portal on a phone", () => {
     await phone.waitForURL("**/login");
     await signIn(phone, patient.email, "my-portal-pass-1");
     await phone.waitForURL("**/portal");
-    await expect.poll(() => phone.getByRole("heading", { level: 1 }).textContent()).toBe(`Hello, ${patient.first_name}`);
+    await expect
+      .poll(() => phone.getByRole("heading", { level: 1 }).textContent())
+      .toBe(`Hello, ${patient.first_name}`);
     await expect.poll(() => phone.getByText("Comprehensive eye exam with").count()).toBeGreaterThan(0);
     await expectAccessible(phone);
     await screenshot(phone, "portal-home-phone");
@@ -83,7 +99,9 @@ describe("the patient portal on a phone", () => {
     await phone.getByRole("button", { name: "Send request" }).click();
     await expect.poll(() => phone.getByTestId("toast").textContent()).toContain("Request sent to the front desk");
     await desk.goto("/schedule/day");
-    await expect.poll(() => desk.getByRole("region", { name: /Patients asking to move a visit/ }).textContent()).toContain("Any Thursday afternoon");
+    await expect
+      .poll(() => desk.getByRole("region", { name: /Patients asking to move a visit/ }).textContent())
+      .toContain("Any Thursday afternoon");
     await expectAccessible(desk);
 
     // Pay the open invoice on the stand-in's checkout page.
@@ -92,7 +110,10 @@ describe("the patient portal on a phone", () => {
     await ready(phone);
     await expectAccessible(phone);
     await screenshot(phone, "portal-invoices-phone");
-    await phone.getByRole("button", { name: /^Pay £.* now$/ }).first().click();
+    await phone
+      .getByRole("button", { name: /^Pay £.* now$/ })
+      .first()
+      .click();
     await phone.waitForURL("**/pay/**");
     await ready(phone);
     await phone.getByRole("button", { name: /^Pay £.* by card$/ }).click();
@@ -100,7 +121,9 @@ describe("the patient portal on a phone", () => {
     await phone.getByLabel("Card number").fill("4242 4242 4242 4242");
     await phone.getByRole("button", { name: /^Pay £/ }).click();
     await phone.waitForURL((u) => u.pathname.startsWith("/pay/") && u.searchParams.get("checkout") === "done");
-    await expect.poll(() => phone.getByRole("status").filter({ hasText: "Paid — thank you" }).count(), { timeout: 15_000 }).toBe(1);
+    await expect
+      .poll(() => phone.getByRole("status").filter({ hasText: "Paid — thank you" }).count(), { timeout: 15_000 })
+      .toBe(1);
     await phone.goto("/portal/invoices");
     await expect.poll(() => phone.getByText("Paid", { exact: true }).count()).toBeGreaterThan(0);
     await expect.poll(() => phone.getByRole("link", { name: "Receipt (PDF)" }).count()).toBeGreaterThan(0);
@@ -110,7 +133,10 @@ describe("the patient portal on a phone", () => {
     await ready(phone);
     await expectAccessible(phone);
     await screenshot(phone, "portal-prescriptions-phone");
-    const href = await phone.getByRole("link", { name: "Download the prescription (PDF)" }).first().getAttribute("href");
+    const href = await phone
+      .getByRole("link", { name: "Download the prescription (PDF)" })
+      .first()
+      .getAttribute("href");
     const pdf = await phone.request.get(href!);
     expect(pdf.headers()["content-type"]).toBe("application/pdf");
     const dir = mkdtempSync(join(tmpdir(), "dioptra-rx-"));
@@ -135,11 +161,27 @@ describe("the patient portal on a phone", () => {
     const day = new Date(Date.now() + 42 * 86_400_000);
     while (day.getUTCDay() === 0 || day.getUTCDay() === 6) day.setUTCDate(day.getUTCDate() + 1);
     const start = new Date(Date.UTC(day.getUTCFullYear(), day.getUTCMonth(), day.getUTCDate(), 15, 0));
-    const booked = await desk.request.post("/api/appointments", { data: { patientId: patient.id, providerId: optom[0]!.id, appointmentTypeId: type!.id, start: start.toISOString() } });
+    const booked = await desk.request.post("/api/appointments", {
+      data: {
+        patientId: patient.id,
+        providerId: optom[0]!.id,
+        appointmentTypeId: type!.id,
+        start: start.toISOString(),
+      },
+    });
     expect(booked.status()).toBe(201);
     const appointmentId = ((await booked.json()) as { appointment: { id: string } }).appointment.id;
     await expect
-      .poll(async () => (await q<{ status: string }>("select status from appointment_messages where appointment_id = $1 and kind = 'confirmation'", [appointmentId])).map((r) => r.status), { timeout: 20_000 })
+      .poll(
+        async () =>
+          (
+            await q<{ status: string }>(
+              "select status from appointment_messages where appointment_id = $1 and kind = 'confirmation'",
+              [appointmentId],
+            )
+          ).map((r) => r.status),
+        { timeout: 20_000 },
+      )
       .toEqual(["skipped"]);
     const sent = await mailTo(patient.email);
     expect(sent.filter((m) => /confirm/i.test(m.subject))).toHaveLength(0);
@@ -156,7 +198,9 @@ describe("the patient portal on a phone", () => {
     await phone.getByLabel("E-mail").fill(DEMO.patient);
     await phone.getByRole("button", { name: "Send sign-in link" }).click();
     await expect.poll(() => phone.getByRole("status").first().textContent()).toContain("a sign-in link is on its way");
-    await expect.poll(async () => (await mailTo(DEMO.patient)).some((m) => m.subject === "Your sign-in link")).toBe(true);
+    await expect
+      .poll(async () => (await mailTo(DEMO.patient)).some((m) => m.subject === "Your sign-in link"))
+      .toBe(true);
     const mail = (await mailTo(DEMO.patient)).find((m) => m.subject === "Your sign-in link")!;
     await phone.goto(mail.text.match(/https?:\/\/\S+\/sign-in-link\/verify\?token=\S+/)![0]);
     await ready(phone);

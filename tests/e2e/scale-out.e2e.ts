@@ -14,7 +14,18 @@ import { chromium, type Browser, type Page, type Response as PwResponse } from "
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { addDays, localParts, startOfWeek } from "~/lib/scheduling/time";
 import { BUILD_DIR, SCALE } from "../support/ports";
-import { freshDatabase, prepareJobQueues, ROOT, s3Env, startMailStandIn, startProcess, startS3StandIn, startStripeStandIn, stopProcess, waitForPort } from "../support/services";
+import {
+  freshDatabase,
+  prepareJobQueues,
+  ROOT,
+  s3Env,
+  startMailStandIn,
+  startProcess,
+  startS3StandIn,
+  startStripeStandIn,
+  stopProcess,
+  waitForPort,
+} from "../support/services";
 import { CHROMIUM_ARGS, DEMO, DEMO_PASSWORD } from "./fixtures";
 
 const NGINX = "/usr/sbin/nginx";
@@ -48,7 +59,12 @@ function appEnv(i: number): Record<string, string> {
 }
 
 async function startApp(i: number) {
-  apps[i] = startProcess(`app${i + 1}`, join(ROOT, "node_modules/.bin/react-router-serve"), [`${BUILD_DIR}/server/index.js`], appEnv(i));
+  apps[i] = startProcess(
+    `app${i + 1}`,
+    join(ROOT, "node_modules/.bin/react-router-serve"),
+    [`${BUILD_DIR}/server/index.js`],
+    appEnv(i),
+  );
   await waitForPort(SCALE.apps[i]!, 150_000);
 }
 
@@ -121,20 +137,40 @@ http {
 }
 `;
   writeFileSync(join(prefix, "nginx.conf"), conf);
-  nginx = spawn(NGINX, ["-p", prefix, "-c", join(prefix, "nginx.conf"), "-e", join(prefix, "logs", "error.log")], { stdio: ["ignore", "pipe", "pipe"] });
+  nginx = spawn(NGINX, ["-p", prefix, "-c", join(prefix, "nginx.conf"), "-e", join(prefix, "logs", "error.log")], {
+    stdio: ["ignore", "pipe", "pipe"],
+  });
   nginx.stderr?.on("data", (d: Buffer) => process.stderr.write(`[nginx] ${d}`));
   await waitForPort(SCALE.balancer, 15_000);
 }
 
 /** Upstream ports that answered requests, from nginx's log of `$upstream_addr`. */
 function upstreamsUsed() {
-  const lines = existsSync(join(prefix, "logs", "upstreams.log")) ? readFileSync(join(prefix, "logs", "upstreams.log"), "utf8").trim().split("\n") : [];
-  return { lines, ports: new Set(lines.flatMap((l) => [...l.matchAll(/127\.0\.0\.1:(\d+)/g)].map((m) => Number(m[1])))) };
+  const lines = existsSync(join(prefix, "logs", "upstreams.log"))
+    ? readFileSync(join(prefix, "logs", "upstreams.log"), "utf8")
+        .trim()
+        .split("\n")
+    : [];
+  return {
+    lines,
+    ports: new Set(lines.flatMap((l) => [...l.matchAll(/127\.0\.0\.1:(\d+)/g)].map((m) => Number(m[1])))),
+  };
 }
 
 async function mailTo(to: string) {
-  const list = (await (await fetch(`http://127.0.0.1:${SCALE.mailApi}/messages?to=${encodeURIComponent(to)}`)).json()) as { id: string }[];
-  return Promise.all(list.map(async (m) => (await (await fetch(`http://127.0.0.1:${SCALE.mailApi}/messages/${m.id}`)).json()) as { id: string; subject: string; text: string }));
+  const list = (await (
+    await fetch(`http://127.0.0.1:${SCALE.mailApi}/messages?to=${encodeURIComponent(to)}`)
+  ).json()) as { id: string }[];
+  return Promise.all(
+    list.map(
+      async (m) =>
+        (await (await fetch(`http://127.0.0.1:${SCALE.mailApi}/messages/${m.id}`)).json()) as {
+          id: string;
+          subject: string;
+          text: string;
+        },
+    ),
+  );
 }
 
 async function page() {
@@ -159,7 +195,8 @@ async function signIn(p: Page, email: string) {
 }
 
 beforeAll(async () => {
-  if (!existsSync(NGINX)) throw new Error("nginx is not installed: npm test installs Debian's nginx-light (app/ops/test.sh).");
+  if (!existsSync(NGINX))
+    throw new Error("nginx is not installed: npm test installs Debian's nginx-light (app/ops/test.sh).");
   databaseUrl = await freshDatabase(SCALE.db);
   await prepareJobQueues(databaseUrl);
   db = new pg.Client({ connectionString: databaseUrl });
@@ -170,7 +207,11 @@ beforeAll(async () => {
   await Promise.all([startApp(0), startApp(1)]);
   await Promise.all([startWorker(0), startWorker(1)]);
   await startNginx();
-  browser = await chromium.launch({ executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium", headless: true, args: CHROMIUM_ARGS });
+  browser = await chromium.launch({
+    executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium",
+    headless: true,
+    args: CHROMIUM_ARGS,
+  });
 }, 600_000);
 
 afterAll(async () => {
@@ -188,7 +229,9 @@ afterAll(async () => {
 describe("two app servers and two workers behind nginx", () => {
   it("sign in, book, upload, invoice and pay, remind: with a server and a worker stopped and restarted mid-flow", async () => {
     const seen: { url: string; status: number }[] = [];
-    const [patient] = (await db.query<{ id: string }>("select patient_id as id from users where email = $1", [DEMO.patient])).rows;
+    const [patient] = (
+      await db.query<{ id: string }>("select patient_id as id from users where email = $1", [DEMO.patient])
+    ).rows;
     const [optom] = (await db.query<{ id: string }>("select id from users where email = $1", [DEMO.optometrist])).rows;
 
     // 1. Sign in through the balancer.
@@ -203,10 +246,20 @@ describe("two app servers and two workers behind nginx", () => {
     await desk.waitForLoadState("networkidle");
     await desk.getByRole("button", { name: "Book appointment" }).click();
     await desk.waitForURL((u) => u.pathname === "/schedule", SLOW);
-    const [appt] = (await db.query<{ id: string }>("select id from appointments where patient_id = $1 and starts_at::date = $2::date and status = 'booked'", [patient!.id, monday])).rows;
+    const [appt] = (
+      await db.query<{ id: string }>(
+        "select id from appointments where patient_id = $1 and starts_at::date = $2::date and status = 'booked'",
+        [patient!.id, monday],
+      )
+    ).rows;
     expect(appt).toBeTruthy();
     // The confirmation goes out from worker 2 alone.
-    await expect.poll(async () => (await mailTo(DEMO.patient)).filter((m) => m.subject.startsWith("Appointment booked")).length, SLOW).toBe(1);
+    await expect
+      .poll(
+        async () => (await mailTo(DEMO.patient)).filter((m) => m.subject.startsWith("Appointment booked")).length,
+        SLOW,
+      )
+      .toBe(1);
 
     // 3. Server 1 and worker 1 come back; server 2 stops. The desk's session works on server 1.
     await Promise.all([startApp(0), startWorker(0)]);
@@ -219,14 +272,23 @@ describe("two app servers and two workers behind nginx", () => {
     watch(clinic, seen);
     await signIn(clinic, DEMO.optometrist);
     const pdf = Buffer.from(`%PDF-1.4\n% scale-out upload ${Date.now()}\n%%EOF\n`);
-    const upload = await clinic.request.post("/api/uploads", { multipart: { patientId: patient!.id, kind: "outside_record", description: "Letter from the hospital", file: { name: "letter.pdf", mimeType: "application/pdf", buffer: pdf } } });
+    const upload = await clinic.request.post("/api/uploads", {
+      multipart: {
+        patientId: patient!.id,
+        kind: "outside_record",
+        description: "Letter from the hospital",
+        file: { name: "letter.pdf", mimeType: "application/pdf", buffer: pdf },
+      },
+    });
     expect(upload.status()).toBe(201);
     const { id: docId } = (await upload.json()) as { id: string };
     await startApp(1);
     // Readable from either server, and through the balancer, with the same session.
     const cookie = (await clinic.context().cookies()).map((c) => `${c.name}=${c.value}`).join("; ");
     for (const port of SCALE.apps) {
-      const res = await fetch(`http://127.0.0.1:${port}/patients/${patient!.id}/documents/${docId}/file`, { headers: { cookie } });
+      const res = await fetch(`http://127.0.0.1:${port}/patients/${patient!.id}/documents/${docId}/file`, {
+        headers: { cookie },
+      });
       expect(res.status).toBe(200);
       expect(Buffer.from(await res.arrayBuffer()).equals(pdf)).toBe(true);
     }
@@ -241,7 +303,10 @@ describe("two app servers and two workers behind nginx", () => {
     await desk.waitForLoadState("networkidle");
     // The patient field searches the whole register as you type.
     await desk.getByRole("combobox", { name: "Patient" }).fill("Achterberg Rosalind");
-    await desk.getByRole("option", { name: new RegExp(`^${"Achterberg, Rosalind"}`) }).first().click();
+    await desk
+      .getByRole("option", { name: new RegExp(`^${"Achterberg, Rosalind"}`) })
+      .first()
+      .click();
     await expect.poll(() => desk.getByTestId("chosen-patient").textContent()).toContain("Achterberg, Rosalind");
     await desk.getByLabel("Quantity of Contact lens aftercare check").fill("1");
     await desk.getByRole("button", { name: "Create draft invoice" }).click();
@@ -255,7 +320,9 @@ describe("two app servers and two workers behind nginx", () => {
 
     // 6. The patient pays on the stand-in's checkout page; server 1 stops before the card is sent,
     //    so the signed webhook lands on server 2 through the balancer.
-    await expect.poll(async () => (await mailTo(DEMO.patient)).some((m) => m.subject.startsWith("Invoice ")), SLOW).toBe(true);
+    await expect
+      .poll(async () => (await mailTo(DEMO.patient)).some((m) => m.subject.startsWith("Invoice ")), SLOW)
+      .toBe(true);
     const invoiceMail = (await mailTo(DEMO.patient)).find((m) => m.subject.startsWith("Invoice "))!;
     const payLink = invoiceMail.text.match(/https?:\/\/\S+\/pay\/\S+/)![0];
     expect(payLink.startsWith(balancer)).toBe(true);
@@ -269,29 +336,53 @@ describe("two app servers and two workers behind nginx", () => {
     await stop(apps, 0);
     await payer.getByRole("button", { name: /^Pay £30.00/ }).click();
     await payer.waitForURL((u) => u.pathname.startsWith("/pay/") && u.searchParams.get("checkout") === "done", SLOW);
-    await expect.poll(async () => (await db.query("select status from invoices where id = $1", [invoiceId])).rows[0]?.status, SLOW).toBe("paid");
+    await expect
+      .poll(
+        async () => (await db.query("select status from invoices where id = $1", [invoiceId])).rows[0]?.status,
+        SLOW,
+      )
+      .toBe("paid");
     await startApp(0);
 
     // The same payment event delivered again (as Stripe may) through the balancer changes nothing.
-    const events = (await (await fetch(`http://127.0.0.1:${SCALE.stripe}/_standin/events`)).json()) as { id: string; type: string }[];
+    const events = (await (await fetch(`http://127.0.0.1:${SCALE.stripe}/_standin/events`)).json()) as {
+      id: string;
+      type: string;
+    }[];
     const completed = events.find((e) => e.type === "checkout.session.completed")!;
     await fetch(`http://127.0.0.1:${SCALE.stripe}/_standin/events/${completed.id}/deliver`, { method: "POST" });
-    const payments = (await db.query("select status, amount_minor from payments where invoice_id = $1", [invoiceId])).rows;
+    const payments = (await db.query("select status, amount_minor from payments where invoice_id = $1", [invoiceId]))
+      .rows;
     expect(payments).toEqual([{ status: "succeeded", amount_minor: 3000 }]);
-    await expect.poll(async () => (await mailTo(DEMO.patient)).filter((m) => /^Receipt/.test(m.subject)).length, SLOW).toBe(1);
+    await expect
+      .poll(async () => (await mailTo(DEMO.patient)).filter((m) => /^Receipt/.test(m.subject)).length, SLOW)
+      .toBe(1);
 
     // 7. The reminder: its due time is brought to now (the clock jump stands in for waiting a day);
     //    both workers are running and exactly one of them sends it, once.
-    await db.query("update appointment_messages set due_at = now() where appointment_id = $1 and kind = 'reminder'", [appt!.id]);
-    await db.query("update pgboss.job set start_after = now() where data->>'messageId' = (select id::text from appointment_messages where appointment_id = $1 and kind = 'reminder')", [appt!.id]);
-    await expect.poll(async () => (await mailTo(DEMO.patient)).filter((m) => m.subject.startsWith("Reminder:")).length, { timeout: 30_000 }).toBe(1);
+    await db.query("update appointment_messages set due_at = now() where appointment_id = $1 and kind = 'reminder'", [
+      appt!.id,
+    ]);
+    await db.query(
+      "update pgboss.job set start_after = now() where data->>'messageId' = (select id::text from appointment_messages where appointment_id = $1 and kind = 'reminder')",
+      [appt!.id],
+    );
+    await expect
+      .poll(async () => (await mailTo(DEMO.patient)).filter((m) => m.subject.startsWith("Reminder:")).length, {
+        timeout: 30_000,
+      })
+      .toBe(1);
     // Give both workers time to (wrongly) send again, then count every message once more.
     await new Promise((r) => setTimeout(r, 3000));
     const all = await mailTo(DEMO.patient);
     expect(all.filter((m) => m.subject.startsWith("Reminder:"))).toHaveLength(1);
     expect(all.filter((m) => m.subject.startsWith("Appointment booked"))).toHaveLength(1);
     expect(all.filter((m) => m.subject.startsWith("Invoice "))).toHaveLength(1);
-    const sent = (await db.query("select kind, status from appointment_messages where appointment_id = $1 order by kind", [appt!.id])).rows;
+    const sent = (
+      await db.query("select kind, status from appointment_messages where appointment_id = $1 order by kind", [
+        appt!.id,
+      ])
+    ).rows;
     expect(sent).toEqual([
       { kind: "confirmation", status: "sent" },
       { kind: "reminder", status: "sent" },

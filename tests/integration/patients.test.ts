@@ -14,19 +14,38 @@ const uniq = () => Math.random().toString(36).slice(2, 8);
 async function makePatient(over: Partial<typeof patients.$inferInsert> = {}) {
   const [p] = await db
     .insert(patients)
-    .values({ firstName: `Test${uniq()}`, lastName: `Quillfeather${uniq()}`, dateOfBirth: "1990-05-06", phone: "01632 960 777", email: `q-${uniq()}@example.test`, allergies: "Penicillin", medications: "None", ...over })
+    .values({
+      firstName: `Test${uniq()}`,
+      lastName: `Quillfeather${uniq()}`,
+      dateOfBirth: "1990-05-06",
+      phone: "01632 960 777",
+      email: `q-${uniq()}@example.test`,
+      allergies: "Penicillin",
+      medications: "None",
+      ...over,
+    })
     .returning();
   return p!;
 }
 
-const register = (cookie: string, form: Record<string, string>) => run(newAction, makeRequest("/patients/new", { cookie, form }));
+const register = (cookie: string, form: Record<string, string>) =>
+  run(newAction, makeRequest("/patients/new", { cookie, form }));
 
 describe("patient search API", () => {
   it("finds a patient by any part of the name, by date of birth in two notations, by phone digits and by e-mail", async () => {
-    const p = await makePatient({ firstName: "Marisol", lastName: `Vantongeren${uniq()}`, dateOfBirth: "1984-11-23", phone: "07700 900 555", email: `marisol.${uniq()}@example.test` });
+    const p = await makePatient({
+      firstName: "Marisol",
+      lastName: `Vantongeren${uniq()}`,
+      dateOfBirth: "1984-11-23",
+      phone: "07700 900 555",
+      email: `marisol.${uniq()}@example.test`,
+    });
     const cookie = await cookieFor("receptionist");
     const find = async (q: string) => {
-      const res = (await run(searchLoader, makeRequest(`/api/patients?q=${encodeURIComponent(q)}`, { cookie }))) as Response;
+      const res = (await run(
+        searchLoader,
+        makeRequest(`/api/patients?q=${encodeURIComponent(q)}`, { cookie }),
+      )) as Response;
       expect(res.status).toBe(200);
       return ((await res.json()) as { results: { id: string }[] }).results.map((r) => r.id);
     };
@@ -41,30 +60,46 @@ describe("patient search API", () => {
 
   it("treats LIKE wildcards in the query as plain text", async () => {
     const cookie = await cookieFor("optometrist");
-    const res = (await run(searchLoader, makeRequest(`/api/patients?q=${encodeURIComponent("%")}`, { cookie }))) as Response;
+    const res = (await run(
+      searchLoader,
+      makeRequest(`/api/patients?q=${encodeURIComponent("%")}`, { cookie }),
+    )) as Response;
     expect(((await res.json()) as { results: unknown[] }).results).toEqual([]);
   });
 
   it("answers 401 without a session and 403 to a patient", async () => {
     expect(statusOf(await run(searchLoader, makeRequest("/api/patients?q=ach")))).toBe(401);
-    expect(statusOf(await run(searchLoader, makeRequest("/api/patients?q=ach", { cookie: await cookieFor("patient") })))).toBe(403);
+    expect(
+      statusOf(await run(searchLoader, makeRequest("/api/patients?q=ach", { cookie: await cookieFor("patient") }))),
+    ).toBe(403);
   });
 });
 
 describe("patients table", () => {
   it("pages and sorts on the server from the URL", async () => {
     const cookie = await cookieFor("receptionist");
-    const page1 = dataOf<{ rows: { lastName: string; dateOfBirth: string }[]; total: number; totalIsExact: boolean; query: { page: number } }>(await run(listLoader, makeRequest("/patients?sort=dob&dir=desc&size=10", { cookie })));
+    const page1 = dataOf<{
+      rows: { lastName: string; dateOfBirth: string }[];
+      total: number;
+      totalIsExact: boolean;
+      query: { page: number };
+    }>(await run(listLoader, makeRequest("/patients?sort=dob&dir=desc&size=10", { cookie })));
     expect(page1.rows.length).toBeLessThanOrEqual(10);
     const dobs = page1.rows.map((r) => r.dateOfBirth);
     expect([...dobs].sort().reverse()).toEqual(dobs);
-    const page2 = dataOf<{ rows: { id: string }[] }>(await run(listLoader, makeRequest("/patients?sort=dob&dir=desc&size=10&page=2", { cookie })));
+    const page2 = dataOf<{ rows: { id: string }[] }>(
+      await run(listLoader, makeRequest("/patients?sort=dob&dir=desc&size=10&page=2", { cookie })),
+    );
     expect(page2.rows.length).toBeGreaterThan(0);
     // Counted up to ten pages ahead only: 415+ patients at 10 a page reads "more than 110" on page 1.
     expect(page1).toMatchObject({ total: 110, totalIsExact: false });
-    const few = dataOf<{ total: number; totalIsExact: boolean }>(await run(listLoader, makeRequest("/patients?q=Strand-Achebe", { cookie })));
+    const few = dataOf<{ total: number; totalIsExact: boolean }>(
+      await run(listLoader, makeRequest("/patients?q=Strand-Achebe", { cookie })),
+    );
     expect(few).toMatchObject({ total: 1, totalIsExact: true });
-    const bogus = dataOf<{ query: { sort: string; page: number; size: number } }>(await run(listLoader, makeRequest("/patients?sort=drop&page=-4&size=7", { cookie })));
+    const bogus = dataOf<{ query: { sort: string; page: number; size: number } }>(
+      await run(listLoader, makeRequest("/patients?sort=drop&page=-4&size=7", { cookie })),
+    );
     expect(bogus.query).toMatchObject({ sort: "name", page: 1, size: 25 });
   });
 
@@ -76,7 +111,13 @@ describe("patients table", () => {
 describe("register and edit", () => {
   it("returns field errors for bad input and writes nothing", async () => {
     const cookie = await cookieFor("receptionist");
-    const res = await register(cookie, { firstName: "", lastName: "X", dateOfBirth: "2999-01-01", email: "not-an-email", phone: "call me" });
+    const res = await register(cookie, {
+      firstName: "",
+      lastName: "X",
+      dateOfBirth: "2999-01-01",
+      email: "not-an-email",
+      phone: "call me",
+    });
     expect(statusOf(res)).toBe(400);
     const reply = dataOf<{ error: Record<string, string[]> }>(res);
     expect(Object.keys(reply.error).sort()).toEqual(["dateOfBirth", "email", "firstName", "phone"]);
@@ -86,16 +127,29 @@ describe("register and edit", () => {
   it("lets the front desk register demographics but not clinical fields, with an audit row", async () => {
     const cookie = await cookieFor("receptionist");
     const last = `Brightwater${uniq()}`;
-    const res = (await register(cookie, { firstName: "Oona", lastName: last, dateOfBirth: "2001-02-03", allergies: "should be ignored", remindersByEmail: "on" })) as Response;
+    const res = (await register(cookie, {
+      firstName: "Oona",
+      lastName: last,
+      dateOfBirth: "2001-02-03",
+      allergies: "should be ignored",
+      remindersByEmail: "on",
+    })) as Response;
     expect(res.status).toBe(302);
     const [row] = await db.select().from(patients).where(eq(patients.lastName, last));
     expect(row).toMatchObject({ firstName: "Oona", allergies: "", remindersByEmail: true });
-    const [a] = await db.select().from(auditLog).where(and(eq(auditLog.action, "patient.created"), eq(auditLog.patientId, row!.id)));
+    const [a] = await db
+      .select()
+      .from(auditLog)
+      .where(and(eq(auditLog.action, "patient.created"), eq(auditLog.patientId, row!.id)));
     expect(a?.actorUserId).toBe((await userByEmail("reception@dioptra-demo.test")).id);
   });
 
   it("warns about a duplicate name and date of birth, and registers only when confirmed", async () => {
-    const existing = await makePatient({ firstName: "Gwendolyn", lastName: `Ashgrove${uniq()}`, dateOfBirth: "1975-07-08" });
+    const existing = await makePatient({
+      firstName: "Gwendolyn",
+      lastName: `Ashgrove${uniq()}`,
+      dateOfBirth: "1975-07-08",
+    });
     const cookie = await cookieFor("optometrist");
     const form = { firstName: "gwendolyn", lastName: existing.lastName.toUpperCase(), dateOfBirth: "1975-07-08" };
     const res = await register(cookie, form);
@@ -103,7 +157,11 @@ describe("register and edit", () => {
     const reply = dataOf<{ duplicates: { id: string }[]; error: Record<string, string[]> }>(res);
     expect(reply.duplicates.map((d) => d.id)).toEqual([existing.id]);
     expect(JSON.stringify(reply.error)).toMatch(/already registered/);
-    expect((await db.select().from(patients).where(eq(patients.dateOfBirth, "1975-07-08"))).filter((p) => p.lastName.toLowerCase() === existing.lastName.toLowerCase())).toHaveLength(1);
+    expect(
+      (await db.select().from(patients).where(eq(patients.dateOfBirth, "1975-07-08"))).filter(
+        (p) => p.lastName.toLowerCase() === existing.lastName.toLowerCase(),
+      ),
+    ).toHaveLength(1);
     const ok = (await register(cookie, { ...form, confirmDuplicate: "yes" })) as Response;
     expect(ok.status).toBe(302);
   });
@@ -111,21 +169,65 @@ describe("register and edit", () => {
   it("keeps clinical fields from the front desk on edit, and 404s an unknown id", async () => {
     const p = await makePatient();
     const cookie = await cookieFor("receptionist");
-    const view = dataOf<{ patient: Record<string, unknown>; clinical: boolean }>(await run(editLoader, makeRequest(`/patients/${p.id}/edit`, { cookie }), { patientId: p.id }));
+    const view = dataOf<{ patient: Record<string, unknown>; clinical: boolean }>(
+      await run(editLoader, makeRequest(`/patients/${p.id}/edit`, { cookie }), { patientId: p.id }),
+    );
     expect(view.clinical).toBe(false);
     expect(view.patient).not.toHaveProperty("allergies");
-    const res = (await run(editAction, makeRequest(`/patients/${p.id}/edit`, { cookie, form: { firstName: p.firstName, lastName: p.lastName, dateOfBirth: p.dateOfBirth, phone: "07700 900 111", allergies: "" } }), { patientId: p.id })) as Response;
+    const res = (await run(
+      editAction,
+      makeRequest(`/patients/${p.id}/edit`, {
+        cookie,
+        form: {
+          firstName: p.firstName,
+          lastName: p.lastName,
+          dateOfBirth: p.dateOfBirth,
+          phone: "07700 900 111",
+          allergies: "",
+        },
+      }),
+      { patientId: p.id },
+    )) as Response;
     expect(res.status).toBe(302);
     const [after] = await db.select().from(patients).where(eq(patients.id, p.id));
     expect(after).toMatchObject({ phone: "07700 900 111", allergies: "Penicillin" });
-    const bad = await run(editAction, makeRequest(`/patients/${p.id}/edit`, { cookie, form: { firstName: "", lastName: p.lastName, dateOfBirth: "1990-02-30" } }), { patientId: p.id });
+    const bad = await run(
+      editAction,
+      makeRequest(`/patients/${p.id}/edit`, {
+        cookie,
+        form: { firstName: "", lastName: p.lastName, dateOfBirth: "1990-02-30" },
+      }),
+      { patientId: p.id },
+    );
     expect(statusOf(bad)).toBe(400);
-    expect(Object.keys(dataOf<{ error: Record<string, string[]> }>(bad).error).sort()).toEqual(["dateOfBirth", "firstName"]);
-    expect(statusOf(await run(editAction, makeRequest(`/patients/${p.id}/edit`, { cookie: await cookieFor("patient"), form: { firstName: "X", lastName: "Y", dateOfBirth: "1990-01-01" } }), { patientId: p.id }))).toBe(403);
+    expect(Object.keys(dataOf<{ error: Record<string, string[]> }>(bad).error).sort()).toEqual([
+      "dateOfBirth",
+      "firstName",
+    ]);
+    expect(
+      statusOf(
+        await run(
+          editAction,
+          makeRequest(`/patients/${p.id}/edit`, {
+            cookie: await cookieFor("patient"),
+            form: { firstName: "X", lastName: "Y", dateOfBirth: "1990-01-01" },
+          }),
+          { patientId: p.id },
+        ),
+      ),
+    ).toBe(403);
     const [unchanged] = await db.select().from(patients).where(eq(patients.id, p.id));
     expect(unchanged!.firstName).toBe(p.firstName);
-    expect(statusOf(await run(editLoader, makeRequest(`/patients/x/edit`, { cookie }), { patientId: "not-a-uuid" }))).toBe(404);
-    expect(statusOf(await run(editLoader, makeRequest(`/patients/x/edit`, { cookie }), { patientId: "00000000-0000-4000-8000-000000000000" }))).toBe(404);
+    expect(
+      statusOf(await run(editLoader, makeRequest(`/patients/x/edit`, { cookie }), { patientId: "not-a-uuid" })),
+    ).toBe(404);
+    expect(
+      statusOf(
+        await run(editLoader, makeRequest(`/patients/x/edit`, { cookie }), {
+          patientId: "00000000-0000-4000-8000-000000000000",
+        }),
+      ),
+    ).toBe(404);
   });
 });
 
@@ -133,18 +235,33 @@ describe("chart", () => {
   it("shows the front desk demographics, appointments, invoices and prescriptions only, and audits the read", async () => {
     const p = await makePatient();
     const cookie = await cookieFor("receptionist");
-    const d = dataOf<Record<string, unknown>>(await run(chartLoader, makeRequest(`/patients/${p.id}`, { cookie }), { patientId: p.id }));
+    const d = dataOf<Record<string, unknown>>(
+      await run(chartLoader, makeRequest(`/patients/${p.id}`, { cookie }), { patientId: p.id }),
+    );
     expect(d.clinical).toBe(false);
-    expect(Object.keys(d).sort()).toEqual(["appointments", "balance", "canBill", "clinical", "invoices", "patient", "prescriptions"]);
+    expect(Object.keys(d).sort()).toEqual([
+      "appointments",
+      "balance",
+      "canBill",
+      "clinical",
+      "invoices",
+      "patient",
+      "prescriptions",
+    ]);
     expect(d.patient).not.toHaveProperty("allergies");
-    const rows = await db.select().from(auditLog).where(and(eq(auditLog.action, "chart.read"), eq(auditLog.patientId, p.id)));
+    const rows = await db
+      .select()
+      .from(auditLog)
+      .where(and(eq(auditLog.action, "chart.read"), eq(auditLog.patientId, p.id)));
     expect(rows).toHaveLength(1);
   });
 
   it("shows a clinician the summary with allergies, exams and alerts", async () => {
     const p = await makePatient();
     const d = dataOf<{ clinical: boolean; patient: { allergies: string }; exams: unknown[]; recall: { due: boolean } }>(
-      await run(chartLoader, makeRequest(`/patients/${p.id}`, { cookie: await cookieFor("optometrist") }), { patientId: p.id }),
+      await run(chartLoader, makeRequest(`/patients/${p.id}`, { cookie: await cookieFor("optometrist") }), {
+        patientId: p.id,
+      }),
     );
     expect(d.clinical).toBe(true);
     expect(d.patient.allergies).toBe("Penicillin");
@@ -155,22 +272,50 @@ describe("chart", () => {
     const me = await userByEmail("patient@dioptra-demo.test");
     const other = await makePatient();
     const cookie = await cookieFor("patient");
-    expect(statusOf(await run(chartLoader, makeRequest(`/patients/${other.id}`, { cookie }), { patientId: other.id }))).toBe(403);
-    expect(statusOf(await run(chartLoader, makeRequest(`/patients/${me.patientId}`, { cookie }), { patientId: me.patientId! }))).toBe(403);
-    expect(statusOf(await run(chartLoader, makeRequest(`/patients/1`, { cookie: await cookieFor("owner") }), { patientId: "00000000-0000-4000-8000-000000000000" }))).toBe(404);
+    expect(
+      statusOf(await run(chartLoader, makeRequest(`/patients/${other.id}`, { cookie }), { patientId: other.id })),
+    ).toBe(403);
+    expect(
+      statusOf(
+        await run(chartLoader, makeRequest(`/patients/${me.patientId}`, { cookie }), { patientId: me.patientId! }),
+      ),
+    ).toBe(403);
+    expect(
+      statusOf(
+        await run(chartLoader, makeRequest(`/patients/1`, { cookie: await cookieFor("owner") }), {
+          patientId: "00000000-0000-4000-8000-000000000000",
+        }),
+      ),
+    ).toBe(404);
   });
 
   it("answers an unknown chart action with 400", async () => {
     const p = await makePatient();
-    expect(statusOf(await run(chartAction, makeRequest(`/patients/${p.id}`, { cookie: await cookieFor("owner"), form: { intent: "delete-everything" } }), { patientId: p.id }))).toBe(400);
+    expect(
+      statusOf(
+        await run(
+          chartAction,
+          makeRequest(`/patients/${p.id}`, { cookie: await cookieFor("owner"), form: { intent: "delete-everything" } }),
+          { patientId: p.id },
+        ),
+      ),
+    ).toBe(400);
   });
 
   it("lets only clinical roles start an exam", async () => {
     const p = await makePatient();
-    const denied = await run(chartAction, makeRequest(`/patients/${p.id}`, { cookie: await cookieFor("receptionist"), form: { intent: "start-exam" } }), { patientId: p.id });
+    const denied = await run(
+      chartAction,
+      makeRequest(`/patients/${p.id}`, { cookie: await cookieFor("receptionist"), form: { intent: "start-exam" } }),
+      { patientId: p.id },
+    );
     expect(statusOf(denied)).toBe(403);
     expect(await db.select().from(exams).where(eq(exams.patientId, p.id))).toHaveLength(0);
-    const ok = (await run(chartAction, makeRequest(`/patients/${p.id}`, { cookie: await cookieFor("optometrist"), form: { intent: "start-exam" } }), { patientId: p.id })) as Response;
+    const ok = (await run(
+      chartAction,
+      makeRequest(`/patients/${p.id}`, { cookie: await cookieFor("optometrist"), form: { intent: "start-exam" } }),
+      { patientId: p.id },
+    )) as Response;
     expect(ok.status).toBe(302);
     const [exam] = await db.select().from(exams).where(eq(exams.patientId, p.id));
     expect(ok.headers.get("location")).toBe(`/patients/${p.id}/exams/${exam!.id}`);
@@ -182,12 +327,25 @@ describe("chart", () => {
     const cookie = await cookieFor("optometrist");
     const chartOf = async (lastName: string) => {
       const [p] = await db.select().from(patients).where(eq(patients.lastName, lastName));
-      return dataOf<{ prompts: { code: string; eye: string }[]; progression: Record<string, { recent: { ratePerYear: number; atOrBeyondThreshold: boolean; label: string }; overall: { ratePerYear: number } | null }> | null; history: { M: number; kind: string }[] }>(
-        await run(chartLoader, makeRequest(`/patients/${p!.id}`, { cookie }), { patientId: p!.id }),
-      );
+      return dataOf<{
+        prompts: { code: string; eye: string }[];
+        progression: Record<
+          string,
+          {
+            recent: { ratePerYear: number; atOrBeyondThreshold: boolean; label: string };
+            overall: { ratePerYear: number } | null;
+          }
+        > | null;
+        history: { M: number; kind: string }[];
+      }>(await run(chartLoader, makeRequest(`/patients/${p!.id}`, { cookie }), { patientId: p!.id }));
     };
     const referral = await chartOf("Strand-Achebe");
-    expect(referral.prompts.map((p) => `${p.code}:${p.eye}`).sort()).toEqual(["BLIND_SPOT_ENLARGED:right", "FIELD_DEFECT:right", "IOP_REPEAT:both", "IOP_REPEAT:right"]);
+    expect(referral.prompts.map((p) => `${p.code}:${p.eye}`).sort()).toEqual([
+      "BLIND_SPOT_ENLARGED:right",
+      "FIELD_DEFECT:right",
+      "IOP_REPEAT:both",
+      "IOP_REPEAT:right",
+    ]);
     const child = await chartOf("Okafor-Lindqvist");
     // Seeded at -0.75 D a year: spherical equivalent of -0.75 -0.25 x 180 falls by 0.75 D per yearly exam.
     expect(child.progression!.right!.recent.ratePerYear).toBeCloseTo(-0.75, 1);
@@ -199,4 +357,3 @@ describe("chart", () => {
     expect(adult.progression).toBeNull();
   });
 });
-

@@ -14,7 +14,8 @@ export async function loader({ request }: Route.LoaderArgs) {
   const params = new URL(request.url).searchParams;
   const q = (params.get("q") ?? "").slice(0, 100);
   const offsetText = params.get("offset") ?? "0";
-  if (!/^\d{1,4}$/.test(offsetText)) return Response.json({ error: "The offset must be a whole number from 0 to 9999." }, { status: 400 });
+  if (!/^\d{1,4}$/.test(offsetText))
+    return Response.json({ error: "The offset must be a whole number from 0 to 9999." }, { status: 400 });
   const offset = Number(offsetText);
   const page = await searchPatientsPage(q, { limit: SEARCH_PAGE_SIZE, offset });
   return Response.json({ q, offset, ...page });

@@ -10,7 +10,12 @@ import { db } from "~/utils/db.server";
 export const newPatientSchema = z.object({
   firstName: z.string({ error: "Give the first name." }).trim().min(1, "Give the first name.").max(80),
   lastName: z.string({ error: "Give the last name." }).trim().min(1, "Give the last name.").max(80),
-  dateOfBirth: z.iso.date({ error: "Give the date of birth (YYYY-MM-DD)." }).refine((d) => d <= new Date().toISOString().slice(0, 10) && d >= "1900-01-01", "The date of birth must be in the past."),
+  dateOfBirth: z.iso
+    .date({ error: "Give the date of birth (YYYY-MM-DD)." })
+    .refine(
+      (d) => d <= new Date().toISOString().slice(0, 10) && d >= "1900-01-01",
+      "The date of birth must be in the past.",
+    ),
   email: z.union([z.literal(""), z.email({ error: "Enter a valid e-mail address." })]).optional(),
   phone: z.string().trim().max(40).optional(),
   /** "yes" once the user has seen the duplicate warning and registers a different person anyway. */
@@ -32,9 +37,32 @@ export async function action({ request }: Route.ActionArgs) {
   const patient = await db.transaction(async (tx) => {
     const [row] = await tx
       .insert(patients)
-      .values({ firstName: v.firstName, lastName: v.lastName, dateOfBirth: v.dateOfBirth, email: v.email || null, phone: v.phone || null })
-      .returning({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth, email: patients.email });
-    await audit({ action: "patient.registered", actorUserId: user.id, entityType: "patient", entityId: row!.id, patientId: row!.id, detail: { from: "booking", duplicateConfirmed: v.confirmDuplicate === "yes" || v.confirmDuplicate === true }, request }, tx);
+      .values({
+        firstName: v.firstName,
+        lastName: v.lastName,
+        dateOfBirth: v.dateOfBirth,
+        email: v.email || null,
+        phone: v.phone || null,
+      })
+      .returning({
+        id: patients.id,
+        firstName: patients.firstName,
+        lastName: patients.lastName,
+        dateOfBirth: patients.dateOfBirth,
+        email: patients.email,
+      });
+    await audit(
+      {
+        action: "patient.registered",
+        actorUserId: user.id,
+        entityType: "patient",
+        entityId: row!.id,
+        patientId: row!.id,
+        detail: { from: "booking", duplicateConfirmed: v.confirmDuplicate === "yes" || v.confirmDuplicate === true },
+        request,
+      },
+      tx,
+    );
     return row!;
   });
   return Response.json({ patient: { ...patient, name: `${patient.firstName} ${patient.lastName}` } }, { status: 201 });

@@ -28,7 +28,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   const oldest = sql<Date>`min(coalesce(${invoices.issuedAt}, ${invoices.createdAt}))`;
   const cond = and(
     inArray(invoices.status, ["open", "partially_paid"]),
-    f.q ? ilike(sql`${patients.firstName} || ' ' || ${patients.lastName}`, `%${f.q.replace(/[%_\\]/g, "\\$&")}%`) : undefined,
+    f.q
+      ? ilike(sql`${patients.firstName} || ' ' || ${patients.lastName}`, `%${f.q.replace(/[%_\\]/g, "\\$&")}%`)
+      : undefined,
   );
   const grouped = db
     .select({
@@ -45,13 +47,34 @@ export async function loader({ request }: Route.LoaderArgs) {
     .where(cond)
     .groupBy(invoices.patientId, patients.firstName, patients.lastName, invoices.currency)
     .as("owed");
-  const order = f.sort === "oldest" ? sql`${grouped.oldest} asc, ${grouped.patientId}` : sql`${grouped.owedMinor} desc, ${grouped.patientId}`;
+  const order =
+    f.sort === "oldest"
+      ? sql`${grouped.oldest} asc, ${grouped.patientId}`
+      : sql`${grouped.owedMinor} desc, ${grouped.patientId}`;
   const [rows, [totals], [settings]] = await Promise.all([
-    db.select().from(grouped).orderBy(order).limit(PAGE_SIZE).offset((f.page - 1) * PAGE_SIZE),
-    db.select({ patients: sql<number>`count(*)::int`, owedMinor: sql<number>`coalesce(sum(${grouped.owedMinor}), 0)::int` }).from(grouped),
-    db.select({ timeZone: practiceSettings.timeZone, currency: practiceSettings.currency }).from(practiceSettings).where(eq(practiceSettings.id, 1)),
+    db
+      .select()
+      .from(grouped)
+      .orderBy(order)
+      .limit(PAGE_SIZE)
+      .offset((f.page - 1) * PAGE_SIZE),
+    db
+      .select({
+        patients: sql<number>`count(*)::int`,
+        owedMinor: sql<number>`coalesce(sum(${grouped.owedMinor}), 0)::int`,
+      })
+      .from(grouped),
+    db
+      .select({ timeZone: practiceSettings.timeZone, currency: practiceSettings.currency })
+      .from(practiceSettings)
+      .where(eq(practiceSettings.id, 1)),
   ]);
-  const fmt = new Intl.DateTimeFormat("en-GB", { timeZone: settings?.timeZone ?? "Europe/London", day: "numeric", month: "short", year: "numeric" });
+  const fmt = new Intl.DateTimeFormat("en-GB", {
+    timeZone: settings?.timeZone ?? "Europe/London",
+    day: "numeric",
+    month: "short",
+    year: "numeric",
+  });
   const total = totals?.patients ?? 0;
   return {
     filter: f,
@@ -102,7 +125,9 @@ export default function Balances({ loaderData }: Route.ComponentProps) {
           </button>
         </Form>
         <p className="mb-3 text-sm" data-testid="balances-summary">
-          {total === 0 ? "Nobody owes anything." : `${total} ${total === 1 ? "patient owes" : "patients owe"} ${totalOwed} in all.`}
+          {total === 0
+            ? "Nobody owes anything."
+            : `${total} ${total === 1 ? "patient owes" : "patients owe"} ${totalOwed} in all.`}
         </p>
         {rows.length ? (
           <div className="overflow-x-auto">
@@ -110,10 +135,18 @@ export default function Balances({ loaderData }: Route.ComponentProps) {
               <caption className="sr-only">Outstanding balances</caption>
               <thead className="border-b border-line text-muted">
                 <tr>
-                  <th scope="col" className="py-2 pr-4 font-semibold">Patient</th>
-                  <th scope="col" className="py-2 pr-4 text-right font-semibold">Owed</th>
-                  <th scope="col" className="py-2 pr-4 text-right font-semibold">Invoices</th>
-                  <th scope="col" className="py-2 pr-4 font-semibold">Oldest unpaid since</th>
+                  <th scope="col" className="py-2 pr-4 font-semibold">
+                    Patient
+                  </th>
+                  <th scope="col" className="py-2 pr-4 text-right font-semibold">
+                    Owed
+                  </th>
+                  <th scope="col" className="py-2 pr-4 text-right font-semibold">
+                    Invoices
+                  </th>
+                  <th scope="col" className="py-2 pr-4 font-semibold">
+                    Oldest unpaid since
+                  </th>
                   <th scope="col" className="py-2 font-semibold">
                     <span className="sr-only">Actions</span>
                   </th>
@@ -123,7 +156,10 @@ export default function Balances({ loaderData }: Route.ComponentProps) {
                 {rows.map((r) => (
                   <tr key={r.patientId}>
                     <td className="py-3 pr-4">
-                      <Link to={`/patients/${r.patientId}`} className="font-semibold text-accent-700 underline underline-offset-4">
+                      <Link
+                        to={`/patients/${r.patientId}`}
+                        className="font-semibold text-accent-700 underline underline-offset-4"
+                      >
                         {r.name}
                       </Link>
                     </td>
@@ -131,7 +167,10 @@ export default function Balances({ loaderData }: Route.ComponentProps) {
                     <td className="py-3 pr-4 text-right tabular-nums">{r.invoices}</td>
                     <td className="py-3 pr-4">{r.oldest}</td>
                     <td className="py-3">
-                      <Link to={`/billing?status=due&q=${encodeURIComponent(r.name.split(", ").reverse().join(" "))}`} className="font-semibold text-accent-700 underline underline-offset-4">
+                      <Link
+                        to={`/billing?status=due&q=${encodeURIComponent(r.name.split(", ").reverse().join(" "))}`}
+                        className="font-semibold text-accent-700 underline underline-offset-4"
+                      >
                         Invoices<span className="sr-only"> of {r.name}</span>
                       </Link>
                     </td>

@@ -35,9 +35,19 @@ export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, BILLING_ROLES);
   const url = new URL(request.url);
   const examId = url.searchParams.get("exam");
-  const [settings] = await db.select({ currency: practiceSettings.currency }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const [settings] = await db
+    .select({ currency: practiceSettings.currency })
+    .from(practiceSettings)
+    .where(eq(practiceSettings.id, 1));
   const fees = await db
-    .select({ id: feeItems.id, code: feeItems.code, description: feeItems.description, priceMinor: feeItems.priceMinor, kind: feeItems.kind, taxCategory: feeItems.taxCategory })
+    .select({
+      id: feeItems.id,
+      code: feeItems.code,
+      description: feeItems.description,
+      priceMinor: feeItems.priceMinor,
+      kind: feeItems.kind,
+      taxCategory: feeItems.taxCategory,
+    })
     .from(feeItems)
     .where(eq(feeItems.active, true))
     .orderBy(asc(feeItems.kind), asc(feeItems.code));
@@ -47,9 +57,19 @@ export async function loader({ request }: Route.LoaderArgs) {
     if (!z.uuid().safeParse(examId).success) throw data({ error: "There is no such exam." }, { status: 404 });
     exam = await examForInvoice(examId);
     if (!exam) throw data({ error: "There is no such exam." }, { status: 404 });
-    const [p] = await db.select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName }).from(patients).where(eq(patients.id, exam.patientId));
+    const [p] = await db
+      .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName })
+      .from(patients)
+      .where(eq(patients.id, exam.patientId));
     patient = p ? { id: p.id, name: `${p.firstName} ${p.lastName}` } : null;
-    await audit({ action: "billing.exam_opened_for_invoice", actorUserId: user.id, entityType: "exam", entityId: exam.id, patientId: exam.patientId, request });
+    await audit({
+      action: "billing.exam_opened_for_invoice",
+      actorUserId: user.id,
+      entityType: "exam",
+      entityId: exam.id,
+      patientId: exam.patientId,
+      request,
+    });
   }
   // From an appointment: its exam's invoice if it has one, else the patient with the type's fee.
   const appointmentId = url.searchParams.get("appointment");
@@ -58,9 +78,16 @@ export async function loader({ request }: Route.LoaderArgs) {
   let preselected: PatientSearchHit | null = null;
   let preselectedId = url.searchParams.get("patient") ?? "";
   if (!exam && appointmentId) {
-    if (!z.uuid().safeParse(appointmentId).success) throw data({ error: "There is no such appointment." }, { status: 404 });
+    if (!z.uuid().safeParse(appointmentId).success)
+      throw data({ error: "There is no such appointment." }, { status: 404 });
     const [appt] = await db
-      .select({ id: appointments.id, patientId: appointments.patientId, startsAt: appointments.startsAt, typeName: appointmentTypes.name, feeItemId: appointmentTypes.defaultFeeItemId })
+      .select({
+        id: appointments.id,
+        patientId: appointments.patientId,
+        startsAt: appointments.startsAt,
+        typeName: appointmentTypes.name,
+        feeItemId: appointmentTypes.defaultFeeItemId,
+      })
       .from(appointments)
       .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
       .where(eq(appointments.id, appointmentId));
@@ -73,7 +100,14 @@ export async function loader({ request }: Route.LoaderArgs) {
   }
   if (!exam && z.uuid().safeParse(preselectedId).success) {
     const [p] = await db
-      .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth, phone: patients.phone, email: patients.email })
+      .select({
+        id: patients.id,
+        firstName: patients.firstName,
+        lastName: patients.lastName,
+        dateOfBirth: patients.dateOfBirth,
+        phone: patients.phone,
+        email: patients.email,
+      })
       .from(patients)
       .where(eq(patients.id, preselectedId));
     preselected = p ?? null;
@@ -81,7 +115,16 @@ export async function loader({ request }: Route.LoaderArgs) {
   return {
     currency: settings?.currency ?? "GBP",
     fees,
-    exam: exam ? { id: exam.id, completed: exam.completed, examinedAt: exam.examinedAt.toISOString(), appointmentType: exam.appointmentType, defaultFeeItemId: exam.defaultFeeItemId, existingInvoice: exam.existingInvoice } : null,
+    exam: exam
+      ? {
+          id: exam.id,
+          completed: exam.completed,
+          examinedAt: exam.examinedAt.toISOString(),
+          appointmentType: exam.appointmentType,
+          defaultFeeItemId: exam.defaultFeeItemId,
+          existingInvoice: exam.existingInvoice,
+        }
+      : null,
     patient,
     appointment,
     suggestedFeeItemId,
@@ -99,7 +142,10 @@ export async function action({ request }: Route.ActionArgs) {
     return data({ errors }, { status: 400 });
   }
   const v = parsed.data;
-  const [settings] = await db.select({ currency: practiceSettings.currency }).from(practiceSettings).where(eq(practiceSettings.id, 1));
+  const [settings] = await db
+    .select({ currency: practiceSettings.currency })
+    .from(practiceSettings)
+    .where(eq(practiceSettings.id, 1));
   const currency = settings?.currency ?? "GBP";
   const lines: NewLine[] = [];
   for (const [key, raw] of form.entries()) {
@@ -119,21 +165,56 @@ export async function action({ request }: Route.ActionArgs) {
     const qty = v.customQty ? (parseDecimal(v.customQty) ?? NaN) : 1;
     if (!v.customDescription) (errors.customDescription ??= []).push("Describe the extra line.");
     if (price === null) (errors.customPrice ??= []).push(`Give the price in ${currency}, e.g. 12.50.`);
-    if (!Number.isInteger(qty) || qty < 1 || qty > 1000) (errors.customQty ??= []).push("A whole number from 1 to 1000.");
-    if (v.customDescription && price !== null && Number.isInteger(qty) && qty >= 1) lines.push({ custom: { description: v.customDescription, unitPriceMinor: price, taxCategory: v.customTax, kind: v.customTax === "standard" ? "item" : "service" }, quantity: qty });
+    if (!Number.isInteger(qty) || qty < 1 || qty > 1000)
+      (errors.customQty ??= []).push("A whole number from 1 to 1000.");
+    if (v.customDescription && price !== null && Number.isInteger(qty) && qty >= 1)
+      lines.push({
+        custom: {
+          description: v.customDescription,
+          unitPriceMinor: price,
+          taxCategory: v.customTax,
+          kind: v.customTax === "standard" ? "item" : "service",
+        },
+        quantity: qty,
+      });
   }
-  if (!lines.length && !Object.keys(errors).length) errors.lines = ["Pick at least one fee (a quantity of 1 or more), or add an extra line."];
+  if (!lines.length && !Object.keys(errors).length)
+    errors.lines = ["Pick at least one fee (a quantity of 1 or more), or add an extra line."];
   if (Object.keys(errors).length) return data({ errors }, { status: 400 });
   if (v.examId) {
     const exam = await examForInvoice(v.examId);
     if (!exam) return data({ errors: { form: ["There is no such exam."] } }, { status: 400 });
-    if (!exam.completed) return data({ errors: { form: ["This exam is not finished yet: it must be signed (or its appointment completed) before it is invoiced."] } }, { status: 400 });
+    if (!exam.completed)
+      return data(
+        {
+          errors: {
+            form: [
+              "This exam is not finished yet: it must be signed (or its appointment completed) before it is invoiced.",
+            ],
+          },
+        },
+        { status: 400 },
+      );
   }
   try {
-    const id = await createInvoice({ patientId: v.patientId, examId: v.examId || null, lines, actorUserId: user.id, request });
-    return redirectWithToast(`/billing/invoices/${id}`, { kind: "success", title: "Draft invoice created", description: "Check the lines, then issue it." });
+    const id = await createInvoice({
+      patientId: v.patientId,
+      examId: v.examId || null,
+      lines,
+      actorUserId: user.id,
+      request,
+    });
+    return redirectWithToast(`/billing/invoices/${id}`, {
+      kind: "success",
+      title: "Draft invoice created",
+      description: "Check the lines, then issue it.",
+    });
   } catch (error) {
-    if (error instanceof BillingError) return data({ errors: { [error.field ?? "form"]: [error.message] } }, { status: error.status === 409 ? 409 : 400 });
+    if (error instanceof BillingError)
+      return data(
+        { errors: { [error.field ?? "form"]: [error.message] } },
+        { status: error.status === 409 ? 409 : 400 },
+      );
     throw error;
   }
 }
@@ -144,7 +225,9 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
   const navigation = useNavigation();
   const services = fees.filter((f) => f.kind === "service");
   const items = fees.filter((f) => f.kind === "item");
-  const examDate = exam ? new Date(exam.examinedAt).toLocaleDateString("en-GB", { day: "numeric", month: "long", year: "numeric" }) : "";
+  const examDate = exam
+    ? new Date(exam.examinedAt).toLocaleDateString("en-GB", { day: "numeric", month: "long", year: "numeric" })
+    : "";
   const FeeRows = ({ list }: { list: typeof fees }) => (
     <table className="w-full text-left text-sm">
       <thead className="border-b border-line text-muted">
@@ -162,14 +245,27 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
             <td className="py-2 pr-4">
               {f.description}
               {f.taxCategory === "standard" ? <span className="ml-2 text-xs text-muted">(taxed)</span> : null}
-              {suggestedFeeItemId === f.id ? <span className="ml-2 text-xs font-semibold text-accent-800">{exam ? "· this exam's visit fee" : "· this appointment's fee"}</span> : null}
+              {suggestedFeeItemId === f.id ? (
+                <span className="ml-2 text-xs font-semibold text-accent-800">
+                  {exam ? "· this exam's visit fee" : "· this appointment's fee"}
+                </span>
+              ) : null}
             </td>
             <td className="py-2 pr-4 text-right tabular-nums">{formatMoney(f.priceMinor, currency)}</td>
             <td className="py-2">
               <label htmlFor={`qty_${f.id}`} className="sr-only">
                 Quantity of {f.description}
               </label>
-              <Input id={`qty_${f.id}`} name={`qty_${f.id}`} type="number" min={0} max={1000} defaultValue={suggestedFeeItemId === f.id ? 1 : 0} className="w-24 py-1" aria-invalid={errors[`qty_${f.id}`] ? true : undefined} />
+              <Input
+                id={`qty_${f.id}`}
+                name={`qty_${f.id}`}
+                type="number"
+                min={0}
+                max={1000}
+                defaultValue={suggestedFeeItemId === f.id ? 1 : 0}
+                className="w-24 py-1"
+                aria-invalid={errors[`qty_${f.id}`] ? true : undefined}
+              />
               <ErrorList errors={errors[`qty_${f.id}`]} />
             </td>
           </tr>
@@ -203,7 +299,11 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
         ) : null}
         {exam?.existingInvoice ? (
           <Notice tone="info" title="Already invoiced">
-            This exam already has an invoice: <Link to={`/billing/invoices/${exam.existingInvoice.id}`} className="font-semibold underline">open it</Link>.
+            This exam already has an invoice:{" "}
+            <Link to={`/billing/invoices/${exam.existingInvoice.id}`} className="font-semibold underline">
+              open it
+            </Link>
+            .
           </Notice>
         ) : null}
         <Card title="Patient">
@@ -218,34 +318,64 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
             </>
           ) : (
             <div className="max-w-lg">
-              <PatientSearch label="Patient" name="patientId" initial={preselected} invalid={Boolean(errors.patientId)} describedBy={errors.patientId ? "patientId-error" : undefined} />
+              <PatientSearch
+                label="Patient"
+                name="patientId"
+                initial={preselected}
+                invalid={Boolean(errors.patientId)}
+                describedBy={errors.patientId ? "patientId-error" : undefined}
+              />
               <ErrorList id="patientId-error" errors={errors.patientId} />
             </div>
           )}
         </Card>
-        <Card title="Services performed">{services.length ? <FeeRows list={services} /> : <p className="text-muted">No services in the fee schedule yet.</p>}</Card>
-        <Card title="Dispensed items">{items.length ? <FeeRows list={items} /> : <p className="text-muted">No items in the fee schedule yet.</p>}</Card>
+        <Card title="Services performed">
+          {services.length ? (
+            <FeeRows list={services} />
+          ) : (
+            <p className="text-muted">No services in the fee schedule yet.</p>
+          )}
+        </Card>
+        <Card title="Dispensed items">
+          {items.length ? <FeeRows list={items} /> : <p className="text-muted">No items in the fee schedule yet.</p>}
+        </Card>
         <Card title="Extra line (optional)">
           <div className="grid gap-4 sm:grid-cols-[2fr_1fr_1fr_1fr]">
             <div>
               <label htmlFor="customDescription" className="mb-1 block text-sm font-semibold">
                 Description
               </label>
-              <Input id="customDescription" name="customDescription" aria-invalid={errors.customDescription ? true : undefined} />
+              <Input
+                id="customDescription"
+                name="customDescription"
+                aria-invalid={errors.customDescription ? true : undefined}
+              />
               <ErrorList errors={errors.customDescription} />
             </div>
             <div>
               <label htmlFor="customPrice" className="mb-1 block text-sm font-semibold">
                 Unit price ({currency})
               </label>
-              <Input id="customPrice" name="customPrice" inputMode="decimal" aria-invalid={errors.customPrice ? true : undefined} />
+              <Input
+                id="customPrice"
+                name="customPrice"
+                inputMode="decimal"
+                aria-invalid={errors.customPrice ? true : undefined}
+              />
               <ErrorList errors={errors.customPrice} />
             </div>
             <div>
               <label htmlFor="customQty" className="mb-1 block text-sm font-semibold">
                 Quantity
               </label>
-              <Input id="customQty" name="customQty" type="number" min={1} defaultValue={1} aria-invalid={errors.customQty ? true : undefined} />
+              <Input
+                id="customQty"
+                name="customQty"
+                type="number"
+                min={1}
+                defaultValue={1}
+                aria-invalid={errors.customQty ? true : undefined}
+              />
               <ErrorList errors={errors.customQty} />
             </div>
             <div>
@@ -259,7 +389,11 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
             </div>
           </div>
         </Card>
-        <Button type="submit" pending={navigation.state === "submitting"} disabled={Boolean(exam && (!exam.completed || exam.existingInvoice))}>
+        <Button
+          type="submit"
+          pending={navigation.state === "submitting"}
+          disabled={Boolean(exam && (!exam.completed || exam.existingInvoice))}
+        >
           Create draft invoice
         </Button>
       </Form>

@@ -5,7 +5,21 @@ import { z } from "zod";
 import type { Route } from "./+types/invoice";
 import { BillingNav, InvoiceStatusBadge, PaymentStatusBadge } from "./components";
 import { emailInvoice, emailReceipt, emailReceiptQuietly, formatDate, METHOD_LABEL } from "./documents.server";
-import { addLines, BILLING_ROLES, BillingError, deleteDraft, invoiceDetail, invoiceLabel, issueInvoice, practiceBilling, recordDeskPayment, refundPayment, removeLine, setDiscount, voidInvoice } from "./invoices.server";
+import {
+  addLines,
+  BILLING_ROLES,
+  BillingError,
+  deleteDraft,
+  invoiceDetail,
+  invoiceLabel,
+  issueInvoice,
+  practiceBilling,
+  recordDeskPayment,
+  refundPayment,
+  removeLine,
+  setDiscount,
+  voidInvoice,
+} from "./invoices.server";
 import { ErrorList, useResetAfterSuccess } from "~/components/forms";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
@@ -24,26 +38,71 @@ import { parseDecimal } from "~/lib/numbers/decimal";
 
 const money = z.string({ error: "Give an amount." }).trim().min(1, "Give an amount.");
 const schema = z.discriminatedUnion("intent", [
-  z.object({ intent: z.literal("add-line"), feeItemId: z.uuid({ error: "Choose a fee." }), quantity: decimalField("A whole number from 1 to 1000.", z.number().int("A whole number from 1 to 1000.").min(1, "At least 1.").max(1000, "At most 1000.")) }),
+  z.object({
+    intent: z.literal("add-line"),
+    feeItemId: z.uuid({ error: "Choose a fee." }),
+    quantity: decimalField(
+      "A whole number from 1 to 1000.",
+      z.number().int("A whole number from 1 to 1000.").min(1, "At least 1.").max(1000, "At most 1000."),
+    ),
+  }),
   z.object({ intent: z.literal("remove-line"), lineId: z.uuid() }),
-  z.object({ intent: z.literal("discount"), discountKind: z.enum(["none", "percent", "amount"]), discountValue: z.string().trim().max(20).default("") }),
+  z.object({
+    intent: z.literal("discount"),
+    discountKind: z.enum(["none", "percent", "amount"]),
+    discountValue: z.string().trim().max(20).default(""),
+  }),
   z.object({ intent: z.literal("issue") }),
   z.object({ intent: z.literal("discard") }),
-  z.object({ intent: z.literal("void"), reason: z.string({ error: "Say why it is voided." }).trim().min(3, "Say why it is voided.").max(200) }),
-  z.object({ intent: z.literal("pay-desk"), method: z.enum(["cash", "card_desk"], { error: "Choose cash or card." }), amount: money, reference: z.string().trim().max(80).default(""), confirmRepeat: z.literal("yes").optional() }),
+  z.object({
+    intent: z.literal("void"),
+    reason: z.string({ error: "Say why it is voided." }).trim().min(3, "Say why it is voided.").max(200),
+  }),
+  z.object({
+    intent: z.literal("pay-desk"),
+    method: z.enum(["cash", "card_desk"], { error: "Choose cash or card." }),
+    amount: money,
+    reference: z.string().trim().max(80).default(""),
+    confirmRepeat: z.literal("yes").optional(),
+  }),
   z.object({ intent: z.literal("email") }),
   z.object({ intent: z.literal("receipt"), paymentId: z.uuid() }),
-  z.object({ intent: z.literal("refund"), paymentId: z.uuid(), amount: money, reason: z.string({ error: "Give a reason." }).trim().min(2, "Give a reason.").max(200) }),
+  z.object({
+    intent: z.literal("refund"),
+    paymentId: z.uuid(),
+    amount: money,
+    reason: z.string({ error: "Give a reason." }).trim().min(2, "Give a reason.").max(200),
+  }),
 ]);
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, BILLING_ROLES);
-  if (!z.uuid().safeParse(params.invoiceId).success) throw data({ error: "There is no such invoice." }, { status: 404 });
+  if (!z.uuid().safeParse(params.invoiceId).success)
+    throw data({ error: "There is no such invoice." }, { status: 404 });
   const d = await invoiceDetail(params.invoiceId);
   if (!d) throw data({ error: "There is no such invoice." }, { status: 404 });
   const practice = await practiceBilling();
-  const fees = d.invoice.status === "draft" ? await db.select({ id: feeItems.id, code: feeItems.code, description: feeItems.description, priceMinor: feeItems.priceMinor }).from(feeItems).where(eq(feeItems.active, true)).orderBy(asc(feeItems.code)) : [];
-  await audit({ action: "billing.invoice_viewed", actorUserId: user.id, entityType: "invoice", entityId: d.invoice.id, patientId: d.patient.id, request });
+  const fees =
+    d.invoice.status === "draft"
+      ? await db
+          .select({
+            id: feeItems.id,
+            code: feeItems.code,
+            description: feeItems.description,
+            priceMinor: feeItems.priceMinor,
+          })
+          .from(feeItems)
+          .where(eq(feeItems.active, true))
+          .orderBy(asc(feeItems.code))
+      : [];
+  await audit({
+    action: "billing.invoice_viewed",
+    actorUserId: user.id,
+    entityType: "invoice",
+    entityId: d.invoice.id,
+    patientId: d.patient.id,
+    request,
+  });
   const tz = practice.timeZone;
   const cur = d.invoice.currency;
   return {
@@ -56,7 +115,12 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       createdAt: formatDate(d.invoice.createdAt, tz),
       taxRate: formatRate(d.invoice.taxRateBp),
       discountKind: d.invoice.discountKind,
-      discountValue: d.invoice.discountKind === "percent" ? String(d.invoice.discountValue / 100) : d.invoice.discountKind === "amount" ? minorToDecimal(d.invoice.discountValue, cur) : "",
+      discountValue:
+        d.invoice.discountKind === "percent"
+          ? String(d.invoice.discountValue / 100)
+          : d.invoice.discountKind === "amount"
+            ? minorToDecimal(d.invoice.discountValue, cur)
+            : "",
       subtotal: formatMoney(d.invoice.subtotalMinor, cur),
       discount: d.invoice.discountMinor ? formatMoney(-d.invoice.discountMinor, cur) : null,
       tax: formatMoney(d.invoice.taxMinor, cur),
@@ -70,7 +134,15 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       examId: d.invoice.examId,
     },
     patient: { id: d.patient.id, name: `${d.patient.firstName} ${d.patient.lastName}`, email: d.patient.email },
-    lines: d.lines.map((l) => ({ id: l.id, code: l.code, description: l.description, quantity: l.quantity, unit: formatMoney(l.unitPriceMinor, cur), gross: formatMoney(l.grossMinor, cur), tax: l.taxCategory === "standard" ? formatMoney(l.taxMinor, cur) : "exempt" })),
+    lines: d.lines.map((l) => ({
+      id: l.id,
+      code: l.code,
+      description: l.description,
+      quantity: l.quantity,
+      unit: formatMoney(l.unitPriceMinor, cur),
+      gross: formatMoney(l.grossMinor, cur),
+      tax: l.taxCategory === "standard" ? formatMoney(l.taxMinor, cur) : "exempt",
+    })),
     payments: d.payments.map((p) => ({
       id: p.id,
       method: METHOD_LABEL[p.method],
@@ -84,7 +156,13 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       problem: p.problem,
       receiptSent: Boolean(p.receiptSentAt),
     })),
-    refunds: d.refunds.map((r) => ({ id: r.id, paymentId: r.paymentId, amount: formatMoney(r.amountMinor, cur), reason: r.reason, when: formatDate(r.createdAt, tz, true) })),
+    refunds: d.refunds.map((r) => ({
+      id: r.id,
+      paymentId: r.paymentId,
+      amount: formatMoney(r.amountMinor, cur),
+      reason: r.reason,
+      when: formatDate(r.createdAt, tz, true),
+    })),
     fees: fees.map((f) => ({ id: f.id, label: `${f.code} — ${f.description} (${formatMoney(f.priceMinor, cur)})` })),
   };
 }
@@ -99,7 +177,8 @@ export async function action({ request, params }: Route.ActionArgs) {
   const here = `/billing/invoices/${invoiceId}`;
   const practice = await practiceBilling();
   const currency = practice.currency;
-  const fail = (field: string, message: string, status = 400) => data(submission.reply({ fieldErrors: { [field]: [message] } }), { status });
+  const fail = (field: string, message: string, status = 400) =>
+    data(submission.reply({ fieldErrors: { [field]: [message] } }), { status });
   try {
     switch (v.intent) {
       case "add-line":
@@ -112,7 +191,8 @@ export async function action({ request, params }: Route.ActionArgs) {
         if (v.discountKind === "none") await setDiscount(invoiceId, { kind: "none" }, user.id, request);
         else if (v.discountKind === "percent") {
           const pct = parseDecimal(v.discountValue);
-          if (pct === null || !/^\d{1,3}(\.\d{1,2})?$/.test(v.discountValue) || pct > 100) return fail("discountValue", "Give a percentage from 0 to 100, e.g. 10 or 12.5.");
+          if (pct === null || !/^\d{1,3}(\.\d{1,2})?$/.test(v.discountValue) || pct > 100)
+            return fail("discountValue", "Give a percentage from 0 to 100, e.g. 10 or 12.5.");
           await setDiscount(invoiceId, { kind: "percent", basisPoints: Math.round(pct * 100) }, user.id, request);
         } else {
           const minor = parseMoney(v.discountValue, currency);
@@ -130,33 +210,70 @@ export async function action({ request, params }: Route.ActionArgs) {
         return redirectWithToast("/billing", { title: "Draft discarded" });
       case "void":
         await voidInvoice(invoiceId, v.reason, user.id, request);
-        return redirectWithToast(here, { kind: "info", title: "Invoice voided", description: "Its number stays used, so the sequence has no gap." });
+        return redirectWithToast(here, {
+          kind: "info",
+          title: "Invoice voided",
+          description: "Its number stays used, so the sequence has no gap.",
+        });
       case "pay-desk": {
         const minor = parseMoney(v.amount, currency);
         if (minor === null || minor <= 0) return fail("amount", `Give an amount in ${currency}, e.g. 65.00.`);
-        const { paymentId } = await recordDeskPayment({ invoiceId, method: v.method, amountMinor: minor, reference: v.reference, confirmRepeat: v.confirmRepeat === "yes", actorUserId: user.id, request });
+        const { paymentId } = await recordDeskPayment({
+          invoiceId,
+          method: v.method,
+          amountMinor: minor,
+          reference: v.reference,
+          confirmRepeat: v.confirmRepeat === "yes",
+          actorUserId: user.id,
+          request,
+        });
         const receipt = await emailReceiptQuietly(paymentId, user.id);
-        return redirectWithToast(here, { title: `${formatMoney(minor, currency)} recorded`, description: receipt ? `Receipt e-mailed to ${receipt.to}.` : "No receipt e-mailed (no address on file, or mail is down)." });
+        return redirectWithToast(here, {
+          title: `${formatMoney(minor, currency)} recorded`,
+          description: receipt
+            ? `Receipt e-mailed to ${receipt.to}.`
+            : "No receipt e-mailed (no address on file, or mail is down).",
+        });
       }
       case "email": {
         const { to } = await emailInvoice(invoiceId, user.id, request);
-        return redirectWithToast(here, { title: `Invoice e-mailed to ${to}`, description: "With a payment link that works for 14 days." });
+        return redirectWithToast(here, {
+          title: `Invoice e-mailed to ${to}`,
+          description: "With a payment link that works for 14 days.",
+        });
       }
       case "receipt": {
         const sent = await emailReceipt(v.paymentId, user.id);
-        return redirectWithToast(here, sent ? { title: `Receipt e-mailed to ${sent.to}` } : { kind: "warning", title: "No e-mail address on file for this patient" });
+        return redirectWithToast(
+          here,
+          sent
+            ? { title: `Receipt e-mailed to ${sent.to}` }
+            : { kind: "warning", title: "No e-mail address on file for this patient" },
+        );
       }
       case "refund": {
         const minor = parseMoney(v.amount, currency);
         if (minor === null || minor <= 0) return fail("amount", `Give an amount in ${currency}, e.g. 10.00.`);
-        await refundPayment({ paymentId: v.paymentId, amountMinor: minor, reason: v.reason, actorUserId: user.id, request });
+        await refundPayment({
+          paymentId: v.paymentId,
+          amountMinor: minor,
+          reason: v.reason,
+          actorUserId: user.id,
+          request,
+        });
         return redirectWithToast(here, { title: `${formatMoney(minor, currency)} refunded` });
       }
     }
   } catch (error) {
     if (error instanceof BillingError) {
       if (error.status === 404) throw data({ error: error.message }, { status: 404 });
-      return data(submission.reply({ fieldErrors: error.field ? { [error.field]: [error.message] } : {}, formErrors: error.field ? [] : [error.message] }), { status: error.status });
+      return data(
+        submission.reply({
+          fieldErrors: error.field ? { [error.field]: [error.message] } : {},
+          formErrors: error.field ? [] : [error.message],
+        }),
+        { status: error.status },
+      );
     }
     throw error;
   }
@@ -171,7 +288,8 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
   const payForm = useResetAfterSuccess("pay-desk");
   const reply = actionData as Reply;
   const lastIntent = reply?.initialValue?.intent;
-  const err = (intent: string, field: string) => (lastIntent === intent ? (reply?.error?.[field] ?? undefined) : undefined);
+  const err = (intent: string, field: string) =>
+    lastIntent === intent ? (reply?.error?.[field] ?? undefined) : undefined;
   const formError = reply?.error?.[""];
   const isDraft = invoice.status === "draft";
   const payable = invoice.status === "open" || invoice.status === "partially_paid";
@@ -214,7 +332,8 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
       {payments.some((p) => p.status === "flagged") ? (
         <div className="mb-6">
           <Notice tone="error" title="A payment was flagged and not accepted">
-            Stripe reported a payment that does not match this invoice. It was not counted; check it in Stripe and refund or reconcile it by hand.
+            Stripe reported a payment that does not match this invoice. It was not counted; check it in Stripe and
+            refund or reconcile it by hand.
           </Notice>
         </div>
       ) : null}
@@ -329,13 +448,22 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
                           {p.when}
                           {p.reference ? ` · ref. ${p.reference}` : ""}
                           {p.refunded ? ` · ${p.refunded} refunded` : ""}
-                          {p.status === "succeeded" ? (p.receiptSent ? " · receipt e-mailed" : " · no receipt sent") : ""}
+                          {p.status === "succeeded"
+                            ? p.receiptSent
+                              ? " · receipt e-mailed"
+                              : " · no receipt sent"
+                            : ""}
                         </p>
-                        {p.problem && p.status !== "succeeded" ? <p className="mt-1 text-sm text-red-900">{p.problem}</p> : null}
+                        {p.problem && p.status !== "succeeded" ? (
+                          <p className="mt-1 text-sm text-red-900">{p.problem}</p>
+                        ) : null}
                       </div>
                       {p.status === "succeeded" ? (
                         <div className="flex gap-2">
-                          <a href={`/billing/payments/${p.id}/receipt.pdf`} className={buttonClass("secondary", "px-3 py-1")}>
+                          <a
+                            href={`/billing/payments/${p.id}/receipt.pdf`}
+                            className={buttonClass("secondary", "px-3 py-1")}
+                          >
                             Receipt PDF
                           </a>
                           <Form method="post">
@@ -350,7 +478,9 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
                     </div>
                     {p.refundable > 0 ? (
                       <details className="mt-2">
-                        <summary className="cursor-pointer text-sm font-semibold text-accent-700">Refund (up to {p.refundableText})</summary>
+                        <summary className="cursor-pointer text-sm font-semibold text-accent-700">
+                          Refund (up to {p.refundableText})
+                        </summary>
                         <Form method="post" className="mt-2 flex flex-wrap items-end gap-3">
                           <input type="hidden" name="intent" value="refund" />
                           <input type="hidden" name="paymentId" value={p.id} />
@@ -370,7 +500,11 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
                             Refund
                           </Button>
                         </Form>
-                        {reply?.initialValue?.paymentId === p.id ? <ErrorList errors={[...(err("refund", "amount") ?? []), ...(err("refund", "reason") ?? [])]} /> : null}
+                        {reply?.initialValue?.paymentId === p.id ? (
+                          <ErrorList
+                            errors={[...(err("refund", "amount") ?? []), ...(err("refund", "reason") ?? [])]}
+                          />
+                        ) : null}
                       </details>
                     ) : null}
                   </li>
@@ -412,7 +546,13 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
                     <label htmlFor="discountValue" className="mb-1 block text-sm font-semibold">
                       Percentage or amount
                     </label>
-                    <Input id="discountValue" name="discountValue" inputMode="decimal" defaultValue={invoice.discountValue} aria-invalid={err("discount", "discountValue") ? true : undefined} />
+                    <Input
+                      id="discountValue"
+                      name="discountValue"
+                      inputMode="decimal"
+                      defaultValue={invoice.discountValue}
+                      aria-invalid={err("discount", "discountValue") ? true : undefined}
+                    />
                     <ErrorList errors={err("discount", "discountValue")} />
                   </div>
                   <Button type="submit" variant="secondary" pending={busy("discount")}>
@@ -421,7 +561,9 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
                 </Form>
               </Card>
               <Card title="Issue">
-                <p className="mb-3 text-sm text-muted">Issuing gives the invoice its number and fixes its lines and tax rate.</p>
+                <p className="mb-3 text-sm text-muted">
+                  Issuing gives the invoice its number and fixes its lines and tax rate.
+                </p>
                 <div className="flex flex-wrap gap-2">
                   <Form method="post">
                     <input type="hidden" name="intent" value="issue" />
@@ -448,7 +590,14 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
                     <Notice tone="warning" title="This looks like the same payment again">
                       <p id="repeat-warning">{err("pay-desk", "confirmRepeat")!.join(" ")}</p>
                       <label className="mt-2 flex items-center gap-2 font-semibold">
-                        <input type="checkbox" name="confirmRepeat" value="yes" className="size-4" aria-describedby="repeat-warning" /> This is a second payment: record it too
+                        <input
+                          type="checkbox"
+                          name="confirmRepeat"
+                          value="yes"
+                          className="size-4"
+                          aria-describedby="repeat-warning"
+                        />{" "}
+                        This is a second payment: record it too
                       </label>
                     </Notice>
                   ) : null}
@@ -468,7 +617,14 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
                     <label htmlFor="amount" className="mb-1 block text-sm font-semibold">
                       Amount ({invoice.currency})
                     </label>
-                    <Input id="amount" name="amount" inputMode="decimal" defaultValue={invoice.dueDecimal} aria-invalid={err("pay-desk", "amount") ? true : undefined} aria-describedby={err("pay-desk", "amount") ? "amount-error" : undefined} />
+                    <Input
+                      id="amount"
+                      name="amount"
+                      inputMode="decimal"
+                      defaultValue={invoice.dueDecimal}
+                      aria-invalid={err("pay-desk", "amount") ? true : undefined}
+                      aria-describedby={err("pay-desk", "amount") ? "amount-error" : undefined}
+                    />
                     <ErrorList id="amount-error" errors={err("pay-desk", "amount")} />
                   </div>
                   <div>
@@ -484,7 +640,9 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
               </Card>
               <Card title="Pay online">
                 <p className="mb-3 text-sm text-muted">
-                  {patient.email ? `E-mails the invoice to ${patient.email} with a payment link that works for 14 days.` : "This patient has no e-mail address on file."}
+                  {patient.email
+                    ? `E-mails the invoice to ${patient.email} with a payment link that works for 14 days.`
+                    : "This patient has no e-mail address on file."}
                   {invoice.payLinkSentAt ? ` Last sent ${invoice.payLinkSentAt}.` : ""}
                 </p>
                 <Form method="post">
@@ -496,7 +654,10 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
               </Card>
             </>
           ) : null}
-          {!isDraft && invoice.status !== "void" && invoice.dueMinor > 0 && payments.every((p) => p.status !== "succeeded") ? (
+          {!isDraft &&
+          invoice.status !== "void" &&
+          invoice.dueMinor > 0 &&
+          payments.every((p) => p.status !== "succeeded") ? (
             <Card title="Void">
               <Form method="post" className="space-y-3">
                 <input type="hidden" name="intent" value="void" />

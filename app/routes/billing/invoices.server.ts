@@ -6,7 +6,18 @@
  */
 import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import { data } from "react-router";
-import { exams, feeItems, invoiceCounters, invoiceLines, invoices, patients, payments, practiceSettings, refunds, type PaymentMethod } from "~/db/schema";
+import {
+  exams,
+  feeItems,
+  invoiceCounters,
+  invoiceLines,
+  invoices,
+  patients,
+  payments,
+  practiceSettings,
+  refunds,
+  type PaymentMethod,
+} from "~/db/schema";
 import { appointments, appointmentTypes } from "~/db/schema";
 import { computeTotals, formatMoney, type Discount } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
@@ -54,7 +65,11 @@ async function lockInvoice(tx: Tx, invoiceId: string) {
 async function recompute(tx: Tx, invoiceId: string) {
   const inv = await lockInvoice(tx, invoiceId);
   const taxRateBp = inv.status === "draft" ? (await practiceBilling(tx)).taxRateBp : inv.taxRateBp;
-  const lines = await tx.select().from(invoiceLines).where(eq(invoiceLines.invoiceId, invoiceId)).orderBy(asc(invoiceLines.position));
+  const lines = await tx
+    .select()
+    .from(invoiceLines)
+    .where(eq(invoiceLines.invoiceId, invoiceId))
+    .orderBy(asc(invoiceLines.position));
   const totals = computeTotals(lines, discountOf(inv), taxRateBp);
   for (const [i, line] of lines.entries()) {
     const t = totals.lines[i]!;
@@ -62,12 +77,29 @@ async function recompute(tx: Tx, invoiceId: string) {
   }
   await tx
     .update(invoices)
-    .set({ taxRateBp, subtotalMinor: totals.subtotalMinor, discountMinor: totals.discountMinor, taxMinor: totals.taxMinor, totalMinor: totals.totalMinor, updatedAt: new Date() })
+    .set({
+      taxRateBp,
+      subtotalMinor: totals.subtotalMinor,
+      discountMinor: totals.discountMinor,
+      taxMinor: totals.taxMinor,
+      totalMinor: totals.totalMinor,
+      updatedAt: new Date(),
+    })
     .where(eq(invoices.id, invoiceId));
   return totals;
 }
 
-export type NewLine = { feeItemId: string; quantity: number } | { custom: { description: string; unitPriceMinor: number; taxCategory: "standard" | "exempt"; kind: "service" | "item" }; quantity: number };
+export type NewLine =
+  | { feeItemId: string; quantity: number }
+  | {
+      custom: {
+        description: string;
+        unitPriceMinor: number;
+        taxCategory: "standard" | "exempt";
+        kind: "service" | "item";
+      };
+      quantity: number;
+    };
 
 async function insertLines(tx: Tx, invoiceId: string, lines: NewLine[]) {
   const [{ next } = { next: 0 }] = await tx
@@ -81,10 +113,30 @@ async function insertLines(tx: Tx, invoiceId: string, lines: NewLine[]) {
     position += 1;
     if ("feeItemId" in l) {
       const fee = fees.find((f) => f.id === l.feeItemId);
-      if (!fee || !fee.active) throw new BillingError("That fee is not in the fee schedule (or has been withdrawn).", 400, "feeItemId");
-      await tx.insert(invoiceLines).values({ invoiceId, feeItemId: fee.id, position, code: fee.code, description: fee.description, kind: fee.kind, taxCategory: fee.taxCategory, quantity: l.quantity, unitPriceMinor: fee.priceMinor });
+      if (!fee || !fee.active)
+        throw new BillingError("That fee is not in the fee schedule (or has been withdrawn).", 400, "feeItemId");
+      await tx.insert(invoiceLines).values({
+        invoiceId,
+        feeItemId: fee.id,
+        position,
+        code: fee.code,
+        description: fee.description,
+        kind: fee.kind,
+        taxCategory: fee.taxCategory,
+        quantity: l.quantity,
+        unitPriceMinor: fee.priceMinor,
+      });
     } else {
-      await tx.insert(invoiceLines).values({ invoiceId, position, code: "MISC", description: l.custom.description, kind: l.custom.kind, taxCategory: l.custom.taxCategory, quantity: l.quantity, unitPriceMinor: l.custom.unitPriceMinor });
+      await tx.insert(invoiceLines).values({
+        invoiceId,
+        position,
+        code: "MISC",
+        description: l.custom.description,
+        kind: l.custom.kind,
+        taxCategory: l.custom.taxCategory,
+        quantity: l.quantity,
+        unitPriceMinor: l.custom.unitPriceMinor,
+      });
     }
   }
 }
@@ -115,63 +167,142 @@ export async function examForInvoice(examId: string) {
   return { ...row, completed, existingInvoice: existing ?? null };
 }
 
-export async function createInvoice(input: { patientId: string; examId?: string | null; lines: NewLine[]; actorUserId: string; request?: Request }) {
+export async function createInvoice(input: {
+  patientId: string;
+  examId?: string | null;
+  lines: NewLine[];
+  actorUserId: string;
+  request?: Request;
+}) {
   return db.transaction(async (tx) => {
     const [patient] = await tx.select({ id: patients.id }).from(patients).where(eq(patients.id, input.patientId));
     if (!patient) throw new BillingError("Choose a patient.", 400, "patientId");
     if (input.examId) {
       const [exam] = await tx.select({ patientId: exams.patientId }).from(exams).where(eq(exams.id, input.examId));
-      if (!exam || exam.patientId !== input.patientId) throw new BillingError("That exam does not belong to this patient.", 400, "examId");
+      if (!exam || exam.patientId !== input.patientId)
+        throw new BillingError("That exam does not belong to this patient.", 400, "examId");
       // One live invoice per exam: lock the exam row so two clicks cannot raise two.
       await tx.select({ id: exams.id }).from(exams).where(eq(exams.id, input.examId)).for("update");
-      const [dup] = await tx.select({ id: invoices.id }).from(invoices).where(and(eq(invoices.examId, input.examId), sql`${invoices.status} <> 'void'`)).limit(1);
+      const [dup] = await tx
+        .select({ id: invoices.id })
+        .from(invoices)
+        .where(and(eq(invoices.examId, input.examId), sql`${invoices.status} <> 'void'`))
+        .limit(1);
       if (dup) throw new BillingError("This exam already has an invoice.", 409);
     }
     if (!input.lines.length) throw new BillingError("Add at least one line.", 400, "lines");
     const settings = await practiceBilling(tx);
     const [inv] = await tx
       .insert(invoices)
-      .values({ patientId: input.patientId, examId: input.examId ?? null, siteId: await invoiceSite(tx, input.examId ?? null), currency: settings.currency, taxRateBp: settings.taxRateBp, createdById: input.actorUserId })
+      .values({
+        patientId: input.patientId,
+        examId: input.examId ?? null,
+        siteId: await invoiceSite(tx, input.examId ?? null),
+        currency: settings.currency,
+        taxRateBp: settings.taxRateBp,
+        createdById: input.actorUserId,
+      })
       .returning({ id: invoices.id });
     await insertLines(tx, inv!.id, input.lines);
     await recompute(tx, inv!.id);
-    await audit({ action: "billing.invoice_created", actorUserId: input.actorUserId, entityType: "invoice", entityId: inv!.id, patientId: input.patientId, detail: { examId: input.examId ?? null }, request: input.request }, tx);
+    await audit(
+      {
+        action: "billing.invoice_created",
+        actorUserId: input.actorUserId,
+        entityType: "invoice",
+        entityId: inv!.id,
+        patientId: input.patientId,
+        detail: { examId: input.examId ?? null },
+        request: input.request,
+      },
+      tx,
+    );
     return inv!.id;
   });
 }
 
-async function editDraft(invoiceId: string, actorUserId: string, action: string, detail: Record<string, unknown>, fn: (tx: Tx) => Promise<void>, request?: Request) {
+async function editDraft(
+  invoiceId: string,
+  actorUserId: string,
+  action: string,
+  detail: Record<string, unknown>,
+  fn: (tx: Tx) => Promise<void>,
+  request?: Request,
+) {
   return db.transaction(async (tx) => {
     const inv = await lockInvoice(tx, invoiceId);
-    if (inv.status !== "draft") throw new BillingError("Only a draft can be changed. Void this invoice and raise a new one.", 409);
+    if (inv.status !== "draft")
+      throw new BillingError("Only a draft can be changed. Void this invoice and raise a new one.", 409);
     await fn(tx);
     const totals = await recompute(tx, invoiceId);
-    await audit({ action, actorUserId, entityType: "invoice", entityId: invoiceId, patientId: inv.patientId, detail, request }, tx);
+    await audit(
+      { action, actorUserId, entityType: "invoice", entityId: invoiceId, patientId: inv.patientId, detail, request },
+      tx,
+    );
     return totals;
   });
 }
 
 export const addLines = (invoiceId: string, lines: NewLine[], actorUserId: string, request?: Request) =>
-  editDraft(invoiceId, actorUserId, "billing.lines_added", { lines }, (tx) => insertLines(tx, invoiceId, lines), request);
+  editDraft(
+    invoiceId,
+    actorUserId,
+    "billing.lines_added",
+    { lines },
+    (tx) => insertLines(tx, invoiceId, lines),
+    request,
+  );
 
 export const removeLine = (invoiceId: string, lineId: string, actorUserId: string, request?: Request) =>
-  editDraft(invoiceId, actorUserId, "billing.line_removed", { lineId }, async (tx) => {
-    const gone = await tx.delete(invoiceLines).where(and(eq(invoiceLines.id, lineId), eq(invoiceLines.invoiceId, invoiceId))).returning({ id: invoiceLines.id });
-    if (!gone.length) throw new BillingError("That line is not on this invoice.", 404);
-  }, request);
+  editDraft(
+    invoiceId,
+    actorUserId,
+    "billing.line_removed",
+    { lineId },
+    async (tx) => {
+      const gone = await tx
+        .delete(invoiceLines)
+        .where(and(eq(invoiceLines.id, lineId), eq(invoiceLines.invoiceId, invoiceId)))
+        .returning({ id: invoiceLines.id });
+      if (!gone.length) throw new BillingError("That line is not on this invoice.", 404);
+    },
+    request,
+  );
 
 export const setDiscount = (invoiceId: string, discount: Discount, actorUserId: string, request?: Request) =>
-  editDraft(invoiceId, actorUserId, "billing.discount_set", { discount }, async (tx) => {
-    const value = discount.kind === "percent" ? discount.basisPoints : discount.kind === "amount" ? discount.minor : 0;
-    await tx.update(invoices).set({ discountKind: discount.kind, discountValue: value }).where(eq(invoices.id, invoiceId));
-  }, request);
+  editDraft(
+    invoiceId,
+    actorUserId,
+    "billing.discount_set",
+    { discount },
+    async (tx) => {
+      const value =
+        discount.kind === "percent" ? discount.basisPoints : discount.kind === "amount" ? discount.minor : 0;
+      await tx
+        .update(invoices)
+        .set({ discountKind: discount.kind, discountValue: value })
+        .where(eq(invoices.id, invoiceId));
+    },
+    request,
+  );
 
 export async function deleteDraft(invoiceId: string, actorUserId: string, request?: Request) {
   await db.transaction(async (tx) => {
     const inv = await lockInvoice(tx, invoiceId);
-    if (inv.status !== "draft") throw new BillingError("Only a draft can be discarded; an issued invoice is voided instead.", 409);
+    if (inv.status !== "draft")
+      throw new BillingError("Only a draft can be discarded; an issued invoice is voided instead.", 409);
     await tx.delete(invoices).where(eq(invoices.id, invoiceId));
-    await audit({ action: "billing.draft_discarded", actorUserId, entityType: "invoice", entityId: invoiceId, patientId: inv.patientId, request }, tx);
+    await audit(
+      {
+        action: "billing.draft_discarded",
+        actorUserId,
+        entityType: "invoice",
+        entityId: invoiceId,
+        patientId: inv.patientId,
+        request,
+      },
+      tx,
+    );
   });
 }
 
@@ -183,18 +314,40 @@ export async function deleteDraft(invoiceId: string, actorUserId: string, reques
 export async function issueInvoice(invoiceId: string, actorUserId: string, request?: Request) {
   return db.transaction(async (tx) => {
     const inv = await lockInvoice(tx, invoiceId);
-    if (inv.status !== "draft") throw new BillingError(`This invoice is already issued as ${invoiceLabel(inv.number)}.`, 409);
+    if (inv.status !== "draft")
+      throw new BillingError(`This invoice is already issued as ${invoiceLabel(inv.number)}.`, 409);
     const totals = await recompute(tx, invoiceId);
     if (!totals.lines.length) throw new BillingError("Add at least one line before issuing.", 400);
-    if (totals.totalMinor <= 0) throw new BillingError("The total is nothing; a zero invoice is not issued. Remove the discount or discard the draft.", 400);
+    if (totals.totalMinor <= 0)
+      throw new BillingError(
+        "The total is nothing; a zero invoice is not issued. Remove the discount or discard the draft.",
+        400,
+      );
     const [counter] = await tx
       .insert(invoiceCounters)
       .values({ series: "invoice", lastNumber: 1 })
-      .onConflictDoUpdate({ target: invoiceCounters.series, set: { lastNumber: sql`${invoiceCounters.lastNumber} + 1` } })
+      .onConflictDoUpdate({
+        target: invoiceCounters.series,
+        set: { lastNumber: sql`${invoiceCounters.lastNumber} + 1` },
+      })
       .returning({ number: invoiceCounters.lastNumber });
     const number = counter!.number;
-    await tx.update(invoices).set({ status: "open", number, issuedAt: new Date(), updatedAt: new Date() }).where(eq(invoices.id, invoiceId));
-    await audit({ action: "billing.invoice_issued", actorUserId, entityType: "invoice", entityId: invoiceId, patientId: inv.patientId, detail: { number, totalMinor: totals.totalMinor }, request }, tx);
+    await tx
+      .update(invoices)
+      .set({ status: "open", number, issuedAt: new Date(), updatedAt: new Date() })
+      .where(eq(invoices.id, invoiceId));
+    await audit(
+      {
+        action: "billing.invoice_issued",
+        actorUserId,
+        entityType: "invoice",
+        entityId: invoiceId,
+        patientId: inv.patientId,
+        detail: { number, totalMinor: totals.totalMinor },
+        request,
+      },
+      tx,
+    );
     return { number };
   });
 }
@@ -204,11 +357,34 @@ export async function voidInvoice(invoiceId: string, reason: string, actorUserId
     const inv = await lockInvoice(tx, invoiceId);
     if (inv.status === "draft") throw new BillingError("A draft is discarded, not voided.", 409);
     if (inv.status === "void") throw new BillingError("This invoice is already void.", 409);
-    if (inv.paidMinor > 0) throw new BillingError("This invoice has payments on it. Refund them first, then void it.", 409);
-    const [pending] = await tx.select({ id: payments.id }).from(payments).where(and(eq(payments.invoiceId, invoiceId), eq(payments.status, "pending"))).limit(1);
-    if (pending) throw new BillingError("An online payment for this invoice is in progress. Wait for it to finish or expire.", 409);
-    await tx.update(invoices).set({ status: "void", voidedAt: new Date(), voidReason: reason, updatedAt: new Date() }).where(eq(invoices.id, invoiceId));
-    await audit({ action: "billing.invoice_voided", actorUserId, entityType: "invoice", entityId: invoiceId, patientId: inv.patientId, detail: { reason }, request }, tx);
+    if (inv.paidMinor > 0)
+      throw new BillingError("This invoice has payments on it. Refund them first, then void it.", 409);
+    const [pending] = await tx
+      .select({ id: payments.id })
+      .from(payments)
+      .where(and(eq(payments.invoiceId, invoiceId), eq(payments.status, "pending")))
+      .limit(1);
+    if (pending)
+      throw new BillingError(
+        "An online payment for this invoice is in progress. Wait for it to finish or expire.",
+        409,
+      );
+    await tx
+      .update(invoices)
+      .set({ status: "void", voidedAt: new Date(), voidReason: reason, updatedAt: new Date() })
+      .where(eq(invoices.id, invoiceId));
+    await audit(
+      {
+        action: "billing.invoice_voided",
+        actorUserId,
+        entityType: "invoice",
+        entityId: invoiceId,
+        patientId: inv.patientId,
+        detail: { reason },
+        request,
+      },
+      tx,
+    );
   });
 }
 
@@ -218,9 +394,16 @@ export function statusFor(totalMinor: number, paidMinor: number): "open" | "part
 }
 
 /** Adds a succeeded amount to a locked invoice; the caller has checked it fits. */
-export async function applyPaid(tx: Tx, inv: { id: string; totalMinor: number; paidMinor: number }, deltaMinor: number) {
+export async function applyPaid(
+  tx: Tx,
+  inv: { id: string; totalMinor: number; paidMinor: number },
+  deltaMinor: number,
+) {
   const paidMinor = inv.paidMinor + deltaMinor;
-  await tx.update(invoices).set({ paidMinor, status: statusFor(inv.totalMinor, paidMinor), updatedAt: new Date() }).where(eq(invoices.id, inv.id));
+  await tx
+    .update(invoices)
+    .set({ paidMinor, status: statusFor(inv.totalMinor, paidMinor), updatedAt: new Date() })
+    .where(eq(invoices.id, inv.id));
   return paidMinor;
 }
 
@@ -228,11 +411,26 @@ export async function applyPaid(tx: Tx, inv: { id: string; totalMinor: number; p
 /** An identical desk payment (invoice, amount, method, reference) within this window is refused unless confirmed. */
 export const REPEAT_PAYMENT_WINDOW_MS = 2 * 60_000;
 
-export async function recordDeskPayment(input: { invoiceId: string; method: Exclude<PaymentMethod, "card_online">; amountMinor: number; reference: string; confirmRepeat?: boolean; actorUserId: string; request?: Request }) {
+export async function recordDeskPayment(input: {
+  invoiceId: string;
+  method: Exclude<PaymentMethod, "card_online">;
+  amountMinor: number;
+  reference: string;
+  confirmRepeat?: boolean;
+  actorUserId: string;
+  request?: Request;
+}) {
   return db.transaction(async (tx) => {
     const inv = await lockInvoice(tx, input.invoiceId);
     if (inv.status !== "open" && inv.status !== "partially_paid") {
-      throw new BillingError(inv.status === "paid" ? "This invoice is already paid." : inv.status === "draft" ? "Issue the invoice before taking payment." : "This invoice is void.", 409);
+      throw new BillingError(
+        inv.status === "paid"
+          ? "This invoice is already paid."
+          : inv.status === "draft"
+            ? "Issue the invoice before taking payment."
+            : "This invoice is void.",
+        409,
+      );
     }
     if (!input.confirmRepeat) {
       // Checked under the invoice's row lock, so two quick clicks cannot both pass.
@@ -261,8 +459,13 @@ export async function recordDeskPayment(input: { invoiceId: string; method: Excl
       }
     }
     const due = inv.totalMinor - inv.paidMinor;
-    if (input.amountMinor > due) throw new BillingError(`That is more than the amount due (${formatMoney(due, inv.currency)}).`, 400, "amount");
-    const [pending] = await tx.select({ id: payments.id }).from(payments).where(and(eq(payments.invoiceId, inv.id), eq(payments.status, "pending"))).limit(1);
+    if (input.amountMinor > due)
+      throw new BillingError(`That is more than the amount due (${formatMoney(due, inv.currency)}).`, 400, "amount");
+    const [pending] = await tx
+      .select({ id: payments.id })
+      .from(payments)
+      .where(and(eq(payments.invoiceId, inv.id), eq(payments.status, "pending")))
+      .limit(1);
     if (pending) {
       // The patient was sent to an online checkout; now they pay at the desk instead. Close that
       // checkout (its amount is no longer what is due) so it cannot be paid too; a payment that
@@ -271,10 +474,30 @@ export async function recordDeskPayment(input: { invoiceId: string; method: Excl
     }
     const [p] = await tx
       .insert(payments)
-      .values({ invoiceId: inv.id, method: input.method, status: "succeeded", amountMinor: input.amountMinor, currency: inv.currency, reference: input.reference, receivedAt: new Date(), recordedById: input.actorUserId })
+      .values({
+        invoiceId: inv.id,
+        method: input.method,
+        status: "succeeded",
+        amountMinor: input.amountMinor,
+        currency: inv.currency,
+        reference: input.reference,
+        receivedAt: new Date(),
+        recordedById: input.actorUserId,
+      })
       .returning({ id: payments.id });
     const paidMinor = await applyPaid(tx, inv, input.amountMinor);
-    await audit({ action: "billing.payment_recorded", actorUserId: input.actorUserId, entityType: "payment", entityId: p!.id, patientId: inv.patientId, detail: { invoiceId: inv.id, method: input.method, amountMinor: input.amountMinor }, request: input.request }, tx);
+    await audit(
+      {
+        action: "billing.payment_recorded",
+        actorUserId: input.actorUserId,
+        entityType: "payment",
+        entityId: p!.id,
+        patientId: inv.patientId,
+        detail: { invoiceId: inv.id, method: input.method, amountMinor: input.amountMinor },
+        request: input.request,
+      },
+      tx,
+    );
     return { paymentId: p!.id, paidMinor };
   });
 }
@@ -290,8 +513,11 @@ export async function closePendingCheckout(tx: Tx, paymentId: string, problem: s
       if (!isStripeUnreachable(error)) {
         // Stripe refuses to expire a session that is no longer open: it may just have been paid.
         // Leave the payment pending; its webhook decides.
-        const session = await stripe().checkout.sessions.retrieve(p.stripeCheckoutSessionId).catch(() => null);
-        if (session && session.status === "complete") throw new BillingError("An online payment for this invoice has just gone through; refresh to see it.", 409);
+        const session = await stripe()
+          .checkout.sessions.retrieve(p.stripeCheckoutSessionId)
+          .catch(() => null);
+        if (session && session.status === "complete")
+          throw new BillingError("An online payment for this invoice has just gone through; refresh to see it.", 409);
       }
     }
   }
@@ -302,32 +528,74 @@ export async function closePendingCheckout(tx: Tx, paymentId: string, problem: s
  * Refunds part or all of a succeeded payment. Card-online payments are refunded through Stripe
  * first (with an idempotency key, while the payment row is locked), then recorded.
  */
-export async function refundPayment(input: { paymentId: string; amountMinor: number; reason: string; actorUserId: string; request?: Request }) {
+export async function refundPayment(input: {
+  paymentId: string;
+  amountMinor: number;
+  reason: string;
+  actorUserId: string;
+  request?: Request;
+}) {
   return db.transaction(async (tx) => {
     const [p] = await tx.select().from(payments).where(eq(payments.id, input.paymentId)).for("update");
     if (!p) throw new BillingError("There is no such payment.", 404);
     if (p.status !== "succeeded") throw new BillingError("Only a received payment can be refunded.", 409);
     const inv = await lockInvoice(tx, p.invoiceId);
     const left = p.amountMinor - p.refundedMinor;
-    if (input.amountMinor > left) throw new BillingError(`At most ${formatMoney(left, p.currency)} of this payment can still be refunded.`, 400, "amount");
+    if (input.amountMinor > left)
+      throw new BillingError(
+        `At most ${formatMoney(left, p.currency)} of this payment can still be refunded.`,
+        400,
+        "amount",
+      );
     let stripeRefundId: string | null = null;
     if (p.method === "card_online") {
       if (!p.stripePaymentIntentId) throw new BillingError("This online payment has no Stripe payment to refund.", 409);
       try {
         const r = await stripe().refunds.create(
-          { payment_intent: p.stripePaymentIntentId, amount: input.amountMinor, metadata: { payment_id: p.id, invoice_id: inv.id } },
+          {
+            payment_intent: p.stripePaymentIntentId,
+            amount: input.amountMinor,
+            metadata: { payment_id: p.id, invoice_id: inv.id },
+          },
           { idempotencyKey: `refund-${p.id}-${p.refundedMinor}-${input.amountMinor}` },
         );
         stripeRefundId = r.id;
       } catch (error) {
-        if (isStripeUnreachable(error)) throw new BillingError("Stripe could not be reached, so nothing was refunded. Try again in a few minutes.", 503);
+        if (isStripeUnreachable(error))
+          throw new BillingError(
+            "Stripe could not be reached, so nothing was refunded. Try again in a few minutes.",
+            503,
+          );
         throw new BillingError(`Stripe refused the refund: ${(error as Error).message}`, 502);
       }
     }
-    const [r] = await tx.insert(refunds).values({ paymentId: p.id, amountMinor: input.amountMinor, reason: input.reason, stripeRefundId, createdById: input.actorUserId }).returning({ id: refunds.id });
-    await tx.update(payments).set({ refundedMinor: p.refundedMinor + input.amountMinor, updatedAt: new Date() }).where(eq(payments.id, p.id));
+    const [r] = await tx
+      .insert(refunds)
+      .values({
+        paymentId: p.id,
+        amountMinor: input.amountMinor,
+        reason: input.reason,
+        stripeRefundId,
+        createdById: input.actorUserId,
+      })
+      .returning({ id: refunds.id });
+    await tx
+      .update(payments)
+      .set({ refundedMinor: p.refundedMinor + input.amountMinor, updatedAt: new Date() })
+      .where(eq(payments.id, p.id));
     await applyPaid(tx, inv, -input.amountMinor);
-    await audit({ action: "billing.refund_made", actorUserId: input.actorUserId, entityType: "refund", entityId: r!.id, patientId: inv.patientId, detail: { paymentId: p.id, amountMinor: input.amountMinor, reason: input.reason }, request: input.request }, tx);
+    await audit(
+      {
+        action: "billing.refund_made",
+        actorUserId: input.actorUserId,
+        entityType: "refund",
+        entityId: r!.id,
+        patientId: inv.patientId,
+        detail: { paymentId: p.id, amountMinor: input.amountMinor, reason: input.reason },
+        request: input.request,
+      },
+      tx,
+    );
     return { refundId: r!.id };
   });
 }
@@ -337,15 +605,42 @@ export async function invoiceDetail(invoiceId: string) {
   const [inv] = await db
     .select({
       invoice: invoices,
-      patient: { id: patients.id, firstName: patients.firstName, lastName: patients.lastName, email: patients.email, addressLine1: patients.addressLine1, city: patients.city, postcode: patients.postcode },
+      patient: {
+        id: patients.id,
+        firstName: patients.firstName,
+        lastName: patients.lastName,
+        email: patients.email,
+        addressLine1: patients.addressLine1,
+        city: patients.city,
+        postcode: patients.postcode,
+      },
     })
     .from(invoices)
     .innerJoin(patients, eq(patients.id, invoices.patientId))
     .where(eq(invoices.id, invoiceId));
   if (!inv) return null;
-  const lines = await db.select().from(invoiceLines).where(eq(invoiceLines.invoiceId, invoiceId)).orderBy(asc(invoiceLines.position));
-  const pays = await db.select().from(payments).where(eq(payments.invoiceId, invoiceId)).orderBy(asc(payments.createdAt));
-  const refundRows = pays.length ? await db.select().from(refunds).where(inArray(refunds.paymentId, pays.map((p) => p.id))).orderBy(asc(refunds.createdAt)) : [];
+  const lines = await db
+    .select()
+    .from(invoiceLines)
+    .where(eq(invoiceLines.invoiceId, invoiceId))
+    .orderBy(asc(invoiceLines.position));
+  const pays = await db
+    .select()
+    .from(payments)
+    .where(eq(payments.invoiceId, invoiceId))
+    .orderBy(asc(payments.createdAt));
+  const refundRows = pays.length
+    ? await db
+        .select()
+        .from(refunds)
+        .where(
+          inArray(
+            refunds.paymentId,
+            pays.map((p) => p.id),
+          ),
+        )
+        .orderBy(asc(refunds.createdAt))
+    : [];
   return { ...inv, lines, payments: pays, refunds: refundRows };
 }
 
@@ -356,6 +651,10 @@ export function throwNotFound(): never {
 /** An invoice for an exam belongs to the site of the exam's visit; any other to the default site. */
 async function invoiceSite(tx: Tx, examId: string | null): Promise<string | undefined> {
   if (!examId) return undefined;
-  const [row] = await tx.select({ siteId: appointments.siteId }).from(exams).innerJoin(appointments, eq(appointments.id, exams.appointmentId)).where(eq(exams.id, examId));
+  const [row] = await tx
+    .select({ siteId: appointments.siteId })
+    .from(exams)
+    .innerJoin(appointments, eq(appointments.id, exams.appointmentId))
+    .where(eq(exams.id, examId));
   return row?.siteId;
 }

@@ -8,7 +8,13 @@ import { DEFAULT_RECALL_MONTHS } from "./patients.server";
 
 export async function appointmentsOf(patientId: string) {
   const rows = await db
-    .select({ id: appointments.id, startsAt: appointments.startsAt, status: appointments.status, type: appointmentTypes.name, provider: users.name })
+    .select({
+      id: appointments.id,
+      startsAt: appointments.startsAt,
+      status: appointments.status,
+      type: appointmentTypes.name,
+      provider: users.name,
+    })
     .from(appointments)
     .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
     .innerJoin(users, eq(users.id, appointments.providerId))
@@ -20,18 +26,37 @@ export async function appointmentsOf(patientId: string) {
 
 export async function invoicesOf(patientId: string) {
   const rows = await db
-    .select({ id: invoices.id, number: invoices.number, status: invoices.status, totalMinor: invoices.totalMinor, paidMinor: invoices.paidMinor, currency: invoices.currency, issuedAt: invoices.issuedAt, createdAt: invoices.createdAt })
+    .select({
+      id: invoices.id,
+      number: invoices.number,
+      status: invoices.status,
+      totalMinor: invoices.totalMinor,
+      paidMinor: invoices.paidMinor,
+      currency: invoices.currency,
+      issuedAt: invoices.issuedAt,
+      createdAt: invoices.createdAt,
+    })
     .from(invoices)
     .where(eq(invoices.patientId, patientId))
     .orderBy(desc(invoices.createdAt))
     .limit(30);
-  return rows.map((r) => ({ ...r, label: invoiceLabel(r.number), at: (r.issuedAt ?? r.createdAt).toISOString(), issuedAt: undefined, createdAt: undefined }));
+  return rows.map((r) => ({
+    ...r,
+    label: invoiceLabel(r.number),
+    at: (r.issuedAt ?? r.createdAt).toISOString(),
+    issuedAt: undefined,
+    createdAt: undefined,
+  }));
 }
 
 /** What the patient owes: the unpaid part of every issued invoice that is open or part paid, per currency. */
 export async function balanceOf(patientId: string) {
   const rows = await db
-    .select({ currency: invoices.currency, owedMinor: sql<number>`sum(${invoices.totalMinor} - ${invoices.paidMinor})::int`, invoices: sql<number>`count(*)::int` })
+    .select({
+      currency: invoices.currency,
+      owedMinor: sql<number>`sum(${invoices.totalMinor} - ${invoices.paidMinor})::int`,
+      invoices: sql<number>`count(*)::int`,
+    })
     .from(invoices)
     .where(and(eq(invoices.patientId, patientId), inArray(invoices.status, ["open", "partially_paid"])))
     .groupBy(invoices.currency);
@@ -40,7 +65,13 @@ export async function balanceOf(patientId: string) {
 
 export async function examsOf(patientId: string) {
   const rows = await db
-    .select({ id: exams.id, examinedAt: exams.examinedAt, status: exams.status, optometrist: users.name, recallMonths: examAssessment.recallMonths })
+    .select({
+      id: exams.id,
+      examinedAt: exams.examinedAt,
+      status: exams.status,
+      optometrist: users.name,
+      recallMonths: examAssessment.recallMonths,
+    })
     .from(exams)
     .innerJoin(users, eq(users.id, exams.optometristId))
     .leftJoin(examAssessment, eq(examAssessment.examId, exams.id))
@@ -50,12 +81,31 @@ export async function examsOf(patientId: string) {
   return rows.map((r) => ({ ...r, examinedAt: r.examinedAt.toISOString() }));
 }
 
-export type RefractionPoint = { examId: string; date: string; kind: string; eye: "right" | "left"; sphere: number; cylinder: number; axis: number; M: number; J0: number; J45: number };
+export type RefractionPoint = {
+  examId: string;
+  date: string;
+  kind: string;
+  eye: "right" | "left";
+  sphere: number;
+  cylinder: number;
+  axis: number;
+  M: number;
+  J0: number;
+  J45: number;
+};
 
 /** Every refraction row of the patient with its power vector (Thibos et al. 1997), oldest first. */
 export async function refractionHistory(patientId: string): Promise<RefractionPoint[]> {
   const rows = await db
-    .select({ examId: examRefractions.examId, at: exams.examinedAt, kind: examRefractions.kind, eye: examRefractions.eye, sphere: examRefractions.sphere, cylinder: examRefractions.cylinder, axis: examRefractions.axis })
+    .select({
+      examId: examRefractions.examId,
+      at: exams.examinedAt,
+      kind: examRefractions.kind,
+      eye: examRefractions.eye,
+      sphere: examRefractions.sphere,
+      cylinder: examRefractions.cylinder,
+      axis: examRefractions.axis,
+    })
     .from(examRefractions)
     .innerJoin(exams, eq(exams.id, examRefractions.examId))
     .where(eq(exams.patientId, patientId))
@@ -98,4 +148,3 @@ export function recallDue(examList: { examinedAt: string; recallMonths: number |
   dueAt.setUTCMonth(dueAt.getUTCMonth() + months);
   return { due: dueAt <= now, months, since: last.examinedAt, dueAt: dueAt.toISOString() };
 }
-

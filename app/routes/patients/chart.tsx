@@ -13,7 +13,15 @@ import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import { appointmentsOf, balanceOf, childProgression, examsOf, invoicesOf, recallDue, refractionHistory } from "./chart.server";
+import {
+  appointmentsOf,
+  balanceOf,
+  childProgression,
+  examsOf,
+  invoicesOf,
+  recallDue,
+  refractionHistory,
+} from "./chart.server";
 import { documentsOf } from "./documents.server";
 import { ageOn, formatDate, isUuid } from "./patient-schema";
 import { prescriptionsOf } from "./prescriptions.server";
@@ -36,11 +44,32 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const clinical = (CLINICAL_ROLES as readonly string[]).includes(user.role);
   // The read is recorded while the chart is gathered (the insert's commit overlaps the reads);
   // the page is answered only once the audit row is written.
-  const audited = audit({ action: "chart.read", actorUserId: user.id, entityType: "patient", entityId: p.id, patientId: p.id, detail: { view: clinical ? "clinical" : "front desk" }, request });
+  const audited = audit({
+    action: "chart.read",
+    actorUserId: user.id,
+    entityType: "patient",
+    entityId: p.id,
+    patientId: p.id,
+    detail: { view: clinical ? "clinical" : "front desk" },
+    request,
+  });
   audited.catch(() => undefined);
-  const clinicalData = clinical ? Promise.all([examsOf(p.id), documentsOf(p.id), refractionHistory(p.id), latestPrompts(p.id), referralsForChart(p.id, { clinical: true })]) : null;
+  const clinicalData = clinical
+    ? Promise.all([
+        examsOf(p.id),
+        documentsOf(p.id),
+        refractionHistory(p.id),
+        latestPrompts(p.id),
+        referralsForChart(p.id, { clinical: true }),
+      ])
+    : null;
   clinicalData?.catch(() => undefined); // awaited below; this keeps an early failure elsewhere from leaving it unobserved
-  const [appointments, invoices, prescriptions, balance] = await Promise.all([appointmentsOf(p.id), invoicesOf(p.id), prescriptionsOf(p.id), balanceOf(p.id)]);
+  const [appointments, invoices, prescriptions, balance] = await Promise.all([
+    appointmentsOf(p.id),
+    invoicesOf(p.id),
+    prescriptionsOf(p.id),
+    balanceOf(p.id),
+  ]);
   const canBill = user.role === "owner" || user.role === "receptionist";
   const demographics = {
     id: p.id,
@@ -57,7 +86,15 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const rx = prescriptions.map((r) => ({ ...r, current: r.expiresOn >= today }));
   if (!clinical) {
     await audited;
-    return { clinical: false as const, patient: demographics, appointments, invoices, prescriptions: rx, balance, canBill };
+    return {
+      clinical: false as const,
+      patient: demographics,
+      appointments,
+      invoices,
+      prescriptions: rx,
+      balance,
+      canBill,
+    };
   }
   const [exams, documents, history, prompts, referrals] = await clinicalData!;
   await audited;
@@ -90,7 +127,8 @@ export async function action({ request, params }: Route.ActionArgs) {
 }
 
 type LD = Route.ComponentProps["loaderData"];
-const money = (minor: number, currency: string) => new Intl.NumberFormat("en-GB", { style: "currency", currency }).format(minor / 100);
+const money = (minor: number, currency: string) =>
+  new Intl.NumberFormat("en-GB", { style: "currency", currency }).format(minor / 100);
 
 export default function Chart({ loaderData: d }: Route.ComponentProps) {
   const p = d.patient;
@@ -133,12 +171,20 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
       <p className="mb-4 text-sm" data-testid="patient-balance">
         <span className="font-semibold">Balance: </span>
         {d.balance.length
-          ? d.balance.map((b) => `${money(b.owedMinor, b.currency)} owed on ${b.invoices} ${b.invoices === 1 ? "invoice" : "invoices"}`).join("; ")
+          ? d.balance
+              .map(
+                (b) =>
+                  `${money(b.owedMinor, b.currency)} owed on ${b.invoices} ${b.invoices === 1 ? "invoice" : "invoices"}`,
+              )
+              .join("; ")
           : "nothing owed"}
         {d.balance.length && d.canBill ? (
           <>
             {" · "}
-            <Link to={`/billing/balances?q=${encodeURIComponent(p.lastName)}`} className="font-semibold text-accent-700 underline underline-offset-4">
+            <Link
+              to={`/billing/balances?q=${encodeURIComponent(p.lastName)}`}
+              className="font-semibold text-accent-700 underline underline-offset-4"
+            >
               Outstanding balances
             </Link>
           </>
@@ -152,7 +198,8 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
               {currentRx.map((r) => (
                 <li key={r.id} className="rounded-md border border-line p-3 text-sm">
                   <p className="font-semibold">
-                    {r.kind === "spectacle" ? "Spectacles" : `Contact lenses${r.lensName ? ` · ${r.lensName}` : ""}`} · expires {formatDate(r.expiresOn)}
+                    {r.kind === "spectacle" ? "Spectacles" : `Contact lenses${r.lensName ? ` · ${r.lensName}` : ""}`} ·
+                    expires {formatDate(r.expiresOn)}
                   </p>
                   {r.eyes.map((e) => (
                     <p key={e.eye} className="font-mono">
@@ -160,7 +207,10 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
                       {e.addPower ? ` add +${e.addPower.toFixed(2)}` : ""}
                     </p>
                   ))}
-                  <a href={`/patients/${p.id}/prescriptions/${r.id}/pdf`} className="mt-1 inline-block font-semibold text-accent-800 underline">
+                  <a
+                    href={`/patients/${p.id}/prescriptions/${r.id}/pdf`}
+                    className="mt-1 inline-block font-semibold text-accent-800 underline"
+                  >
                     Print (PDF)
                   </a>
                 </li>
@@ -208,7 +258,8 @@ function ClinicalSummary({ d }: { d: Extract<LD, { clinical: true }> }) {
           <dd className="font-semibold">
             {last ? (
               <Link to={`/patients/${d.patient.id}/exams/${last.id}`} className="underline">
-                {formatDate(last.examinedAt)} · {last.optometrist} · {last.status === "signed" ? "signed" : "in progress"}
+                {formatDate(last.examinedAt)} · {last.optometrist} ·{" "}
+                {last.status === "signed" ? "signed" : "in progress"}
               </Link>
             ) : (
               "Never examined"
@@ -227,14 +278,18 @@ function ClinicalSummary({ d }: { d: Extract<LD, { clinical: true }> }) {
           <dt className="text-muted">Alerts</dt>
           <dd className="mt-1 space-y-2">
             {d.recall.due ? (
-              <StatusBadge tone="warning">Recall due{d.recall.since ? ` (last exam over ${d.recall.months} months ago)` : " (never examined)"}</StatusBadge>
+              <StatusBadge tone="warning">
+                Recall due{d.recall.since ? ` (last exam over ${d.recall.months} months ago)` : " (never examined)"}
+              </StatusBadge>
             ) : null}
             {d.referrals
               .filter((r) => ["draft", "queued", "sent", "overdue"].includes(r.status))
               .map((r) => (
                 <div key={r.id}>
                   <StatusBadge tone={r.status === "overdue" ? "error" : "warning"}>
-                    Referral {r.status === "draft" ? "drafted, not sent" : r.status === "overdue" ? "overdue" : "pending"}: {r.reference}
+                    Referral{" "}
+                    {r.status === "draft" ? "drafted, not sent" : r.status === "overdue" ? "overdue" : "pending"}:{" "}
+                    {r.reference}
                   </StatusBadge>
                 </div>
               ))}
@@ -243,8 +298,14 @@ function ClinicalSummary({ d }: { d: Extract<LD, { clinical: true }> }) {
                 <StatusBadge tone="warning">Referral prompt: {pr.message}</StatusBadge>
               </div>
             ))}
-            {!d.recall.due && !d.prompts.length && !d.referrals.some((r) => ["draft", "queued", "sent", "overdue"].includes(r.status)) ? <StatusBadge tone="success">No alerts</StatusBadge> : null}
-            {d.prompts.length ? <p className="text-xs text-muted">Prompts from the last exam's findings; check them before referring.</p> : null}
+            {!d.recall.due &&
+            !d.prompts.length &&
+            !d.referrals.some((r) => ["draft", "queued", "sent", "overdue"].includes(r.status)) ? (
+              <StatusBadge tone="success">No alerts</StatusBadge>
+            ) : null}
+            {d.prompts.length ? (
+              <p className="text-xs text-muted">Prompts from the last exam's findings; check them before referring.</p>
+            ) : null}
           </dd>
         </div>
       </dl>
@@ -256,14 +317,48 @@ type Item = { at: string; kind: string; label: string; href?: string; status?: s
 
 function Timeline({ d }: { d: LD }) {
   const items: Item[] = [
-    ...d.appointments.map((a) => ({ at: a.startsAt, kind: "Appointment", label: `${a.type} with ${a.provider}`, status: a.status.replace("_", " ") })),
-    ...d.invoices.map((i) => ({ at: i.at, kind: "Invoice", label: `${i.label} · ${money(i.totalMinor, i.currency)}`, status: i.status.replace("_", " "), href: `/billing/invoices/${i.id}` })),
-    ...d.prescriptions.map((r) => ({ at: r.issuedAt, kind: "Prescription", label: `${r.kind === "spectacle" ? "Spectacles" : "Contact lenses"} by ${r.prescriberName}`, status: r.current ? "current" : "expired", href: `/patients/${d.patient.id}/prescriptions/${r.id}/pdf` })),
+    ...d.appointments.map((a) => ({
+      at: a.startsAt,
+      kind: "Appointment",
+      label: `${a.type} with ${a.provider}`,
+      status: a.status.replace("_", " "),
+    })),
+    ...d.invoices.map((i) => ({
+      at: i.at,
+      kind: "Invoice",
+      label: `${i.label} · ${money(i.totalMinor, i.currency)}`,
+      status: i.status.replace("_", " "),
+      href: `/billing/invoices/${i.id}`,
+    })),
+    ...d.prescriptions.map((r) => ({
+      at: r.issuedAt,
+      kind: "Prescription",
+      label: `${r.kind === "spectacle" ? "Spectacles" : "Contact lenses"} by ${r.prescriberName}`,
+      status: r.current ? "current" : "expired",
+      href: `/patients/${d.patient.id}/prescriptions/${r.id}/pdf`,
+    })),
     ...(d.clinical
       ? [
-          ...d.exams.map((e) => ({ at: e.examinedAt, kind: "Exam", label: `Exam by ${e.optometrist}`, status: e.status === "signed" ? "signed" : "in progress", href: `/patients/${d.patient.id}/exams/${e.id}` })),
-          ...d.documents.map((doc) => ({ at: doc.createdAt, kind: "Document", label: doc.originalName, href: `/patients/${d.patient.id}/documents/${doc.id}/file` })),
-          ...d.referrals.map((r) => ({ at: r.sentAt ?? r.createdAt, kind: "Referral", label: `${r.reference}${r.recipient ? ` to ${r.recipient}` : ""}`, status: r.status, href: `/referrals/${r.id}` })),
+          ...d.exams.map((e) => ({
+            at: e.examinedAt,
+            kind: "Exam",
+            label: `Exam by ${e.optometrist}`,
+            status: e.status === "signed" ? "signed" : "in progress",
+            href: `/patients/${d.patient.id}/exams/${e.id}`,
+          })),
+          ...d.documents.map((doc) => ({
+            at: doc.createdAt,
+            kind: "Document",
+            label: doc.originalName,
+            href: `/patients/${d.patient.id}/documents/${doc.id}/file`,
+          })),
+          ...d.referrals.map((r) => ({
+            at: r.sentAt ?? r.createdAt,
+            kind: "Referral",
+            label: `${r.reference}${r.recipient ? ` to ${r.recipient}` : ""}`,
+            status: r.status,
+            href: `/referrals/${r.id}`,
+          })),
         ]
       : []),
   ].sort((a, b) => b.at.localeCompare(a.at));
@@ -293,7 +388,9 @@ function Timeline({ d }: { d: LD }) {
   );
 }
 
-export const meta: Route.MetaFunction = ({ data: d }) => [{ title: d ? `${d.patient.lastName}, ${d.patient.firstName} · Dioptra` : "Chart · Dioptra" }];
+export const meta: Route.MetaFunction = ({ data: d }) => [
+  { title: d ? `${d.patient.lastName}, ${d.patient.firstName} · Dioptra` : "Chart · Dioptra" },
+];
 
 export function ErrorBoundary() {
   return <GeneralErrorBoundary />;

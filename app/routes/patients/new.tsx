@@ -23,26 +23,49 @@ export async function action({ request }: Route.ActionArgs) {
   const { confirmDuplicate, allergies, medications, ...demographics } = submission.value;
   const clinical = (CLINICAL_ROLES as readonly string[]).includes(user.role);
   const duplicates = await duplicatesBlockingRegistration(demographics, confirmDuplicate);
-  if (duplicates.length) return data({ ...submission.reply({ formErrors: [DUPLICATE_MESSAGE] }), duplicates }, { status: 409 });
+  if (duplicates.length)
+    return data({ ...submission.reply({ formErrors: [DUPLICATE_MESSAGE] }), duplicates }, { status: 409 });
   const id = await db.transaction(async (tx) => {
     const [row] = await tx
       .insert(patients)
-      .values({ ...demographics, email: demographics.email || null, phone: demographics.phone || null, ...(clinical ? { allergies, medications } : {}) })
+      .values({
+        ...demographics,
+        email: demographics.email || null,
+        phone: demographics.phone || null,
+        ...(clinical ? { allergies, medications } : {}),
+      })
       .returning({ id: patients.id });
     await audit(
-      { action: "patient.created", actorUserId: user.id, entityType: "patient", entityId: row!.id, patientId: row!.id, detail: { duplicateConfirmed: confirmDuplicate === "yes" }, request },
+      {
+        action: "patient.created",
+        actorUserId: user.id,
+        entityType: "patient",
+        entityId: row!.id,
+        patientId: row!.id,
+        detail: { duplicateConfirmed: confirmDuplicate === "yes" },
+        request,
+      },
       tx,
     );
     return row!.id;
   });
-  return redirectWithToast(`/patients/${id}`, { kind: "success", title: `${demographics.firstName} ${demographics.lastName} registered` });
+  return redirectWithToast(`/patients/${id}`, {
+    kind: "success",
+    title: `${demographics.firstName} ${demographics.lastName} registered`,
+  });
 }
 
 export default function NewPatient({ loaderData, actionData }: Route.ComponentProps) {
   return (
     <>
       <PageHeader title="Register a patient" description="Name and date of birth are required; the rest can follow." />
-      <PatientForm id="new-patient" lastResult={actionData as PatientActionData} clinical={loaderData.clinical} submitLabel="Register patient" defaultValue={{ remindersByEmail: "on" }} />
+      <PatientForm
+        id="new-patient"
+        lastResult={actionData as PatientActionData}
+        clinical={loaderData.clinical}
+        submitLabel="Register patient"
+        defaultValue={{ remindersByEmail: "on" }}
+      />
     </>
   );
 }

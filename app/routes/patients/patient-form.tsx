@@ -1,4 +1,11 @@
-import { getFormProps, getInputProps, getSelectProps, getTextareaProps, useForm, type SubmissionResult } from "@conform-to/react";
+import {
+  getFormProps,
+  getInputProps,
+  getSelectProps,
+  getTextareaProps,
+  useForm,
+  type SubmissionResult,
+} from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { Form, Link, useNavigation } from "react-router";
 import { ErrorList, Field, SelectField } from "~/components/forms";
@@ -9,7 +16,14 @@ import { Notice } from "~/components/ui/notice";
 import type { z } from "zod";
 import { formatDate, patientSchema } from "./patient-schema";
 
-export type Duplicate = { id: string; firstName: string; lastName: string; dateOfBirth: string; phone: string | null; email: string | null };
+export type Duplicate = {
+  id: string;
+  firstName: string;
+  lastName: string;
+  dateOfBirth: string;
+  phone: string | null;
+  email: string | null;
+};
 export type PatientActionData = (SubmissionResult<string[]> & { duplicates?: Duplicate[] }) | undefined;
 
 /**
@@ -17,11 +31,20 @@ export type PatientActionData = (SubmissionResult<string[]> & { duplicates?: Dup
  * registered: the likely matches (with `onChoose`, a button to take one instead) and the
  * confirmation the caller supplies.
  */
-export function DuplicateWarning({ duplicates, confirm, onChoose }: { duplicates: Duplicate[]; confirm: React.ReactNode; onChoose?: (d: Duplicate) => void }) {
+export function DuplicateWarning({
+  duplicates,
+  confirm,
+  onChoose,
+}: {
+  duplicates: Duplicate[];
+  confirm: React.ReactNode;
+  onChoose?: (d: Duplicate) => void;
+}) {
   return (
     <Notice tone="warning" title="This may be a patient who is already registered">
       <p>
-        {duplicates.length === 1 ? "A patient" : `${duplicates.length} patients`} with the same name and date of birth {duplicates.length === 1 ? "is" : "are"} already registered:
+        {duplicates.length === 1 ? "A patient" : `${duplicates.length} patients`} with the same name and date of birth{" "}
+        {duplicates.length === 1 ? "is" : "are"} already registered:
       </p>
       <ul className="mt-2 list-disc pl-5">
         {duplicates.map((d) => (
@@ -33,7 +56,11 @@ export function DuplicateWarning({ duplicates, confirm, onChoose }: { duplicates
             {d.phone ? ` · ${d.phone}` : ""}
             {d.email ? ` · ${d.email}` : ""}
             {onChoose ? (
-              <button type="button" className="ml-3 min-h-6 font-semibold text-accent-700 underline underline-offset-4" onClick={() => onChoose(d)}>
+              <button
+                type="button"
+                className="ml-3 min-h-6 font-semibold text-accent-700 underline underline-offset-4"
+                onClick={() => onChoose(d)}
+              >
                 Choose {d.firstName} {d.lastName}
               </button>
             ) : null}
@@ -88,9 +115,21 @@ export function PatientForm({
       ) : null}
       <Card title="Identity">
         <div className="grid gap-4 sm:grid-cols-2">
-          <Field label="First name" errors={fields.firstName.errors} inputProps={{ ...getInputProps(fields.firstName, { type: "text" }), autoComplete: "off" }} />
-          <Field label="Last name" errors={fields.lastName.errors} inputProps={{ ...getInputProps(fields.lastName, { type: "text" }), autoComplete: "off" }} />
-          <Field label="Date of birth" errors={fields.dateOfBirth.errors} inputProps={getInputProps(fields.dateOfBirth, { type: "date" })} />
+          <Field
+            label="First name"
+            errors={fields.firstName.errors}
+            inputProps={{ ...getInputProps(fields.firstName, { type: "text" }), autoComplete: "off" }}
+          />
+          <Field
+            label="Last name"
+            errors={fields.lastName.errors}
+            inputProps={{ ...getInputProps(fields.lastName, { type: "text" }), autoComplete: "off" }}
+          />
+          <Field
+            label="Date of birth"
+            errors={fields.dateOfBirth.errors}
+            inputProps={getInputProps(fields.dateOfBirth, { type: "date" })}
+          />
           <SelectField label="Sex" errors={fields.sex.errors} selectProps={getSelectProps(fields.sex)}>
             <option value="unknown">Not recorded</option>
             <option value="female">Female</option>
@@ -101,11 +140,27 @@ export function PatientForm({
       </Card>
       <Card title="Contact">
         <div className="grid gap-4 sm:grid-cols-2">
-          <Field label="E-mail" errors={fields.email.errors} inputProps={getInputProps(fields.email, { type: "email" })} />
+          <Field
+            label="E-mail"
+            errors={fields.email.errors}
+            inputProps={getInputProps(fields.email, { type: "email" })}
+          />
           <Field label="Phone" errors={fields.phone.errors} inputProps={getInputProps(fields.phone, { type: "tel" })} />
-          <Field label="Address" errors={fields.addressLine1.errors} inputProps={getInputProps(fields.addressLine1, { type: "text" })} />
-          <Field label="Town or city" errors={fields.city.errors} inputProps={getInputProps(fields.city, { type: "text" })} />
-          <Field label="Postcode" errors={fields.postcode.errors} inputProps={getInputProps(fields.postcode, { type: "text" })} />
+          <Field
+            label="Address"
+            errors={fields.addressLine1.errors}
+            inputProps={getInputProps(fields.addressLine1, { type: "text" })}
+          />
+          <Field
+            label="Town or city"
+            errors={fields.city.errors}
+            inputProps={getInputProps(fields.city, { type: "text" })}
+          />
+          <Field
+            label="Postcode"
+            errors={fields.postcode.errors}
+            inputProps={getInputProps(fields.postcode, { type: "text" })}
+          />
           <label className="flex items-center gap-2 self-end pb-2 text-sm font-semibold">
             <input {...getInputProps(fields.remindersByEmail, { type: "checkbox" })} className="size-4" />
             Send reminders by e-mail

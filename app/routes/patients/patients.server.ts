@@ -45,7 +45,14 @@ export function searchCondition(q: string): SQL | undefined {
   return and(...words.map((w) => sql`${patients.searchText} like ${`%${escapeLike(w)}%`}`));
 }
 
-export type PatientHit = { id: string; firstName: string; lastName: string; dateOfBirth: string; phone: string | null; email: string | null };
+export type PatientHit = {
+  id: string;
+  firstName: string;
+  lastName: string;
+  dateOfBirth: string;
+  phone: string | null;
+  email: string | null;
+};
 
 /** The typed words of a name search (not a date, not a phone number), lower-cased. */
 function nameWords(q: string) {
@@ -66,7 +73,10 @@ export const SEARCH_COUNT_CAP = 1000;
  * begin with one, then every other match, each group by name. With the number of matches (up to
  * SEARCH_COUNT_CAP), so a short list says how many more there are.
  */
-export async function searchPatientsPage(q: string, { limit = 8, offset = 0 }: { limit?: number; offset?: number } = {}): Promise<{ results: PatientHit[]; total: number; totalIsExact: boolean }> {
+export async function searchPatientsPage(
+  q: string,
+  { limit = 8, offset = 0 }: { limit?: number; offset?: number } = {},
+): Promise<{ results: PatientHit[]; total: number; totalIsExact: boolean }> {
   const where = searchCondition(q);
   if (!where) return { results: [], total: 0, totalIsExact: true };
   const words = nameWords(q);
@@ -79,16 +89,36 @@ export async function searchPatientsPage(q: string, { limit = 8, offset = 0 }: {
     : null;
   const [results, [counted]] = await Promise.all([
     db
-      .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth, phone: patients.phone, email: patients.email })
+      .select({
+        id: patients.id,
+        firstName: patients.firstName,
+        lastName: patients.lastName,
+        dateOfBirth: patients.dateOfBirth,
+        phone: patients.phone,
+        email: patients.email,
+      })
       .from(patients)
       .where(where)
       // Ordered by expressions no index provides: otherwise the planner may walk the whole name
       // index filtering on search_text (measured 130 ms at 100,000 patients) instead of taking
       // the trigram index's matches and sorting them (a few ms).
-      .orderBy(...(rank ? [rank] : []), surname, sql`lower(${patients.firstName})`, asc(patients.dateOfBirth), asc(patients.id))
+      .orderBy(
+        ...(rank ? [rank] : []),
+        surname,
+        sql`lower(${patients.firstName})`,
+        asc(patients.dateOfBirth),
+        asc(patients.id),
+      )
       .limit(limit)
       .offset(offset),
-    db.select({ n: count() }).from(db.select({ one: sql`1` }).from(patients).where(where).limit(SEARCH_COUNT_CAP + 1).as("capped")),
+    db.select({ n: count() }).from(
+      db
+        .select({ one: sql`1` })
+        .from(patients)
+        .where(where)
+        .limit(SEARCH_COUNT_CAP + 1)
+        .as("capped"),
+    ),
   ]);
   const n = counted?.n ?? 0;
   return { results, total: Math.min(n, SEARCH_COUNT_CAP), totalIsExact: n <= SEARCH_COUNT_CAP };
@@ -111,11 +141,21 @@ export async function listPatients(query: ListQuery) {
     query.sort === "dob"
       ? [d(patients.dateOfBirth), d(patients.id)]
       : query.sort === "lastExam"
-        ? [query.dir === "desc" ? sql`${patients.lastExamAt} desc nulls last` : sql`${patients.lastExamAt} asc nulls first`, d(patients.id)]
+        ? [
+            query.dir === "desc"
+              ? sql`${patients.lastExamAt} desc nulls last`
+              : sql`${patients.lastExamAt} asc nulls first`,
+            d(patients.id),
+          ]
         : query.sort === "created"
           ? [d(patients.createdAt), d(patients.id)]
           : query.q
-            ? [d(sql`lower(${patients.lastName})`), d(sql`lower(${patients.firstName})`), d(patients.dateOfBirth), d(patients.id)] // see searchPatients
+            ? [
+                d(sql`lower(${patients.lastName})`),
+                d(sql`lower(${patients.firstName})`),
+                d(patients.dateOfBirth),
+                d(patients.id),
+              ] // see searchPatients
             : [d(patients.lastName), d(patients.firstName), d(patients.dateOfBirth), d(patients.id)];
   const cap = (query.page + 10) * query.size + 1;
   const [rows, [total]] = await Promise.all([
@@ -136,28 +176,49 @@ export async function listPatients(query: ListQuery) {
       .offset((query.page - 1) * query.size),
     // Counted only up to ten pages past this one: an exact count of a large table costs more than
     // the page itself, and "more than 2,750" is all a pager needs.
-    db.select({ n: count() }).from(db.select({ one: sql`1` }).from(patients).where(where).limit(cap).as("capped")),
+    db.select({ n: count() }).from(
+      db
+        .select({ one: sql`1` })
+        .from(patients)
+        .where(where)
+        .limit(cap)
+        .as("capped"),
+    ),
   ]);
   const n = total?.n ?? 0;
   return { rows, total: Math.min(n, cap - 1), totalIsExact: n < cap };
 }
 
 /** What both registration paths (the full page and the booking form) say when they find a likely duplicate. */
-export const DUPLICATE_MESSAGE = "A patient with this name and date of birth is already registered. Choose that patient, or confirm that this is a different person.";
+export const DUPLICATE_MESSAGE =
+  "A patient with this name and date of birth is already registered. Choose that patient, or confirm that this is a different person.";
 
 /**
  * The one duplicate check of every registration: unless the user has confirmed a different
  * person ("yes"), the patients with the same name and date of birth, else none.
  */
-export async function duplicatesBlockingRegistration(input: { firstName: string; lastName: string; dateOfBirth: string }, confirmDuplicate: unknown) {
+export async function duplicatesBlockingRegistration(
+  input: { firstName: string; lastName: string; dateOfBirth: string },
+  confirmDuplicate: unknown,
+) {
   if (confirmDuplicate === "yes" || confirmDuplicate === true) return [];
   return findDuplicates(input);
 }
 
 /** Patients with the same name (case-insensitive) and date of birth: likely the same person. */
-export async function findDuplicates(input: { firstName: string; lastName: string; dateOfBirth: string }, excludeId?: string) {
+export async function findDuplicates(
+  input: { firstName: string; lastName: string; dateOfBirth: string },
+  excludeId?: string,
+) {
   return db
-    .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, dateOfBirth: patients.dateOfBirth, phone: patients.phone, email: patients.email })
+    .select({
+      id: patients.id,
+      firstName: patients.firstName,
+      lastName: patients.lastName,
+      dateOfBirth: patients.dateOfBirth,
+      phone: patients.phone,
+      email: patients.email,
+    })
     .from(patients)
     .where(
       and(

@@ -26,7 +26,13 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   // The patient came from the portal (signed in as this invoice's patient): offer the way back.
   const viewer = await getSessionUser(request);
   const fromPortal = viewer?.role === "patient" && viewer.patientId === d.patient.id;
-  await audit({ action: "billing.pay_link_opened", entityType: "invoice", entityId: d.invoice.id, patientId: d.patient.id, request });
+  await audit({
+    action: "billing.pay_link_opened",
+    entityType: "invoice",
+    entityId: d.invoice.id,
+    patientId: d.patient.id,
+    request,
+  });
   const cur = d.invoice.currency;
   return {
     practice: { name: practice.name, phone: practice.phone, email: practice.email },
@@ -42,7 +48,12 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       tax: d.invoice.taxMinor ? formatMoney(d.invoice.taxMinor, cur) : null,
       discount: d.invoice.discountMinor ? formatMoney(-d.invoice.discountMinor, cur) : null,
     },
-    lines: d.lines.map((l) => ({ id: l.id, description: l.description, quantity: l.quantity, amount: formatMoney(l.grossMinor, cur) })),
+    lines: d.lines.map((l) => ({
+      id: l.id,
+      description: l.description,
+      quantity: l.quantity,
+      amount: formatMoney(l.grossMinor, cur),
+    })),
     checkout: url.searchParams.get("checkout"),
     attempt: attempt ? { status: attempt.status, problem: attempt.problem } : null,
     linkExpires: formatDate(expiresAt, practice.timeZone),
@@ -93,7 +104,9 @@ export default function PayPage({ loaderData: d, actionData }: Route.ComponentPr
         ) : null}
         {paid ? (
           <Notice tone="success" title="Paid — thank you">
-            {d.checkout === "done" ? "Your payment has been received. A receipt is on its way by e-mail." : "This invoice has been paid in full."}
+            {d.checkout === "done"
+              ? "Your payment has been received. A receipt is on its way by e-mail."
+              : "This invoice has been paid in full."}
             {d.fromPortal ? (
               <>
                 {" "}
@@ -120,7 +133,8 @@ export default function PayPage({ loaderData: d, actionData }: Route.ComponentPr
         ) : null}
         {d.attempt?.status === "flagged" && !paid ? (
           <Notice tone="warning" title="Your payment is being checked">
-            The payment service reported an amount that does not match this invoice, so it has not been counted yet. The practice will check it and contact you; please do not pay again meanwhile.
+            The payment service reported an amount that does not match this invoice, so it has not been counted yet. The
+            practice will check it and contact you; please do not pay again meanwhile.
           </Notice>
         ) : null}
         {d.invoice.status === "void" ? (
@@ -178,7 +192,9 @@ export default function PayPage({ loaderData: d, actionData }: Route.ComponentPr
           <Button type="submit" pending={navigation.state !== "idle"} className="px-6 py-3 text-base">
             Pay {d.invoice.due} by card
           </Button>
-          <p className="mt-2 text-sm text-muted">You will be taken to our card payment provider's secure page, then brought back here.</p>
+          <p className="mt-2 text-sm text-muted">
+            You will be taken to our card payment provider's secure page, then brought back here.
+          </p>
         </Form>
       ) : null}
       {d.fromPortal ? (
@@ -192,13 +208,16 @@ export default function PayPage({ loaderData: d, actionData }: Route.ComponentPr
         <a href={d.pdfHref} className="font-semibold text-accent-700 underline underline-offset-4">
           Download the invoice (PDF)
         </a>{" "}
-        · This link works until {d.linkExpires}. Questions: {[d.practice.phone, d.practice.email].filter(Boolean).join(" · ")}
+        · This link works until {d.linkExpires}. Questions:{" "}
+        {[d.practice.phone, d.practice.email].filter(Boolean).join(" · ")}
       </p>
     </main>
   );
 }
 
-export const meta: Route.MetaFunction = ({ data }) => [{ title: `Invoice ${data?.invoice.label ?? ""} · ${data?.practice.name ?? "Dioptra"}` }];
+export const meta: Route.MetaFunction = ({ data }) => [
+  { title: `Invoice ${data?.invoice.label ?? ""} · ${data?.practice.name ?? "Dioptra"}` },
+];
 
 export function ErrorBoundary() {
   return <GeneralErrorBoundary />;

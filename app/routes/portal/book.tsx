@@ -25,7 +25,6 @@ const bookSchema = z.object({
   step: z.enum(["review", "confirm"]).default("review"),
 });
 
-
 export async function loader({ request }: Route.LoaderArgs) {
   await requirePortalPatient(request);
   const url = new URL(request.url);
@@ -44,7 +43,18 @@ export async function loader({ request }: Route.LoaderArgs) {
   // Times are the chosen site's wall clock (each site keeps its own zone).
   const zone = sites.length > 1 && site ? site.timeZone : settings.timeZone;
   const slots = typeId ? await freeSlots(typeId, date, zone, new Date(), sites.length > 1 ? site?.id : undefined) : [];
-  return { sites: sites.map(({ id, name }) => ({ id, name })), siteId: sites.length > 1 ? (site?.id ?? "") : "", types: types.map(({ id, name, durationMinutes }) => ({ id, name, durationMinutes })), typeId, date, today, lastDate, slots, timeZone: zone, practice: settings.name };
+  return {
+    sites: sites.map(({ id, name }) => ({ id, name })),
+    siteId: sites.length > 1 ? (site?.id ?? "") : "",
+    types: types.map(({ id, name, durationMinutes }) => ({ id, name, durationMinutes })),
+    typeId,
+    date,
+    today,
+    lastDate,
+    slots,
+    timeZone: zone,
+    practice: settings.name,
+  };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -54,12 +64,34 @@ export async function action({ request }: Route.ActionArgs) {
   const v = submission.value;
   // Only kinds of visit the practice opens to online booking.
   if (!(await onlineTypes()).some((t) => t.id === v.appointmentTypeId)) {
-    return data(submission.reply({ formErrors: ["That kind of visit cannot be booked online. Please phone the practice."] }), { status: 422 });
+    return data(
+      submission.reply({ formErrors: ["That kind of visit cannot be booked online. Please phone the practice."] }),
+      { status: 422 },
+    );
   }
   // Choosing a time only asks for a check of the details; nothing is booked until it is confirmed.
-  if (v.step === "review") return { review: { appointmentTypeId: v.appointmentTypeId, providerId: v.providerId, start: v.start, siteId: v.siteId ?? "" } };
+  if (v.step === "review")
+    return {
+      review: {
+        appointmentTypeId: v.appointmentTypeId,
+        providerId: v.providerId,
+        start: v.start,
+        siteId: v.siteId ?? "",
+      },
+    };
   try {
-    await bookAppointment(user, { patientId, providerId: v.providerId, appointmentTypeId: v.appointmentTypeId, siteId: v.siteId, start: new Date(v.start), notes: "Booked online by the patient." }, request);
+    await bookAppointment(
+      user,
+      {
+        patientId,
+        providerId: v.providerId,
+        appointmentTypeId: v.appointmentTypeId,
+        siteId: v.siteId,
+        start: new Date(v.start),
+        notes: "Booked online by the patient.",
+      },
+      request,
+    );
   } catch (error) {
     if (error instanceof BookingError) {
       const taken = error.status === 409 ? "Someone has just taken that time. Please choose another." : error.message;
@@ -67,7 +99,11 @@ export async function action({ request }: Route.ActionArgs) {
     }
     throw error;
   }
-  return redirectWithToast("/portal", { kind: "success", title: "Your visit is booked", description: "A confirmation is on its way by e-mail." });
+  return redirectWithToast("/portal", {
+    kind: "success",
+    title: "Your visit is booked",
+    description: "A confirmation is on its way by e-mail.",
+  });
 }
 
 export default function BookOnline({ loaderData, actionData }: Route.ComponentProps) {
@@ -75,8 +111,15 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
   const navigation = useNavigation();
   const [params] = useSearchParams();
   const time = new Intl.DateTimeFormat("en-GB", { timeStyle: "short", timeZone });
-  const dayLabel = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(new Date(`${date}T12:00:00Z`));
-  const reply = actionData as { error?: Record<string, string[] | null> | null; review?: { appointmentTypeId: string; providerId: string; start: string; siteId: string } } | undefined;
+  const dayLabel = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(
+    new Date(`${date}T12:00:00Z`),
+  );
+  const reply = actionData as
+    | {
+        error?: Record<string, string[] | null> | null;
+        review?: { appointmentTypeId: string; providerId: string; start: string; siteId: string };
+      }
+    | undefined;
   const formError = reply?.error?.[""];
   const review = navigation.state === "idle" ? reply?.review : undefined;
   const chosen = review ? slots.find((s) => s.providerId === review.providerId && s.start === review.start) : undefined;
@@ -88,7 +131,10 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
   }, [review]);
   return (
     <div className="mx-auto max-w-2xl space-y-6">
-      <PageHeader title="Book an eye exam" description={`Free times at ${practice}. Times are the practice's local time.`} />
+      <PageHeader
+        title="Book an eye exam"
+        description={`Free times at ${practice}. Times are the practice's local time.`}
+      />
       {types.length === 0 ? (
         <Notice tone="info" title="Online booking is not open">
           Please phone the practice to book.
@@ -127,7 +173,14 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
                 <label htmlFor="date" className="mb-1 block text-sm font-semibold">
                   Day
                 </label>
-                <Input id="date" name="date" type="date" min={today} max={lastDate} defaultValue={params.get("date") ?? date} />
+                <Input
+                  id="date"
+                  name="date"
+                  type="date"
+                  min={today}
+                  max={lastDate}
+                  defaultValue={params.get("date") ?? date}
+                />
               </div>
               <Button type="submit" variant="secondary">
                 Show free times
@@ -135,7 +188,11 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
             </Form>
           </Card>
           {review && chosen ? (
-            <section aria-labelledby="confirm-heading" className="rounded-lg border-2 border-accent-700 bg-white p-5 shadow-sm" data-testid="booking-review">
+            <section
+              aria-labelledby="confirm-heading"
+              className="rounded-lg border-2 border-accent-700 bg-white p-5 shadow-sm"
+              data-testid="booking-review"
+            >
               <h2 id="confirm-heading" ref={confirmRef} tabIndex={-1} className="text-lg font-semibold">
                 Check and confirm your visit
               </h2>
@@ -151,7 +208,9 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
                 <dt className="font-semibold">Where</dt>
                 <dd>{chosenSite ? `${practice}, ${chosenSite.name}` : practice}</dd>
               </dl>
-              <p className="mt-3 text-sm text-muted">Nothing is booked until you press “Book this visit”. You will get a confirmation by e-mail.</p>
+              <p className="mt-3 text-sm text-muted">
+                Nothing is booked until you press “Book this visit”. You will get a confirmation by e-mail.
+              </p>
               <div className="mt-4 flex flex-wrap items-center gap-4">
                 <Form method="post">
                   <input type="hidden" name="step" value="confirm" />
@@ -163,7 +222,10 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
                     Book this visit
                   </Button>
                 </Form>
-                <Link to={`?${params.toString()}`} className="font-semibold text-accent-700 underline underline-offset-4">
+                <Link
+                  to={`?${params.toString()}`}
+                  className="font-semibold text-accent-700 underline underline-offset-4"
+                >
                   Choose another time
                 </Link>
               </div>
@@ -187,7 +249,12 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
                       <input type="hidden" name="providerId" value={s.providerId} />
                       <input type="hidden" name="start" value={s.start} />
                       {siteId ? <input type="hidden" name="siteId" value={siteId} /> : null}
-                      <button type="submit" disabled={navigation.state !== "idle"} aria-pressed={chosen?.start === s.start && chosen?.providerId === s.providerId} className={buttonClass("secondary", "w-full flex-col !items-start !gap-0 text-left")}>
+                      <button
+                        type="submit"
+                        disabled={navigation.state !== "idle"}
+                        aria-pressed={chosen?.start === s.start && chosen?.providerId === s.providerId}
+                        className={buttonClass("secondary", "w-full flex-col !items-start !gap-0 text-left")}
+                      >
                         <span className="text-base">{time.format(new Date(s.start))}</span>
                         <span className="text-xs font-normal text-muted">with {s.providerName}</span>
                       </button>

@@ -12,13 +12,26 @@ import { signPayLink } from "~/routes/billing/checkout.server";
 import { invoiceLabel } from "~/routes/billing/invoices.server";
 import { audit } from "~/utils/audit.server";
 
-const STATUS = { open: "Awaiting payment", partially_paid: "Part paid", paid: "Paid", void: "Cancelled", draft: "Draft" } as const;
+const STATUS = {
+  open: "Awaiting payment",
+  partially_paid: "Part paid",
+  paid: "Paid",
+  void: "Cancelled",
+  draft: "Draft",
+} as const;
 const METHOD = { cash: "Cash", card_desk: "Card at the desk", card_online: "Card online" } as const;
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { user, patientId } = await requirePortalPatient(request);
   const [list, settings] = await Promise.all([invoicesOf(patientId), portalSettings()]);
-  await audit({ action: "portal.invoices_read", actorUserId: user.id, patientId, entityType: "patient", entityId: patientId, request });
+  await audit({
+    action: "portal.invoices_read",
+    actorUserId: user.id,
+    patientId,
+    entityType: "patient",
+    entityId: patientId,
+    request,
+  });
   // The practice's own numbers ("INV-000002"), as on the invoice PDF and the front desk's screens.
   return { invoices: list.map((inv) => ({ ...inv, label: invoiceLabel(inv.number) })), timeZone: settings.timeZone };
 }
@@ -29,24 +42,39 @@ export async function action({ request }: Route.ActionArgs) {
   const parsed = z.object({ invoiceId: z.uuid() }).safeParse(Object.fromEntries(await request.formData()));
   if (!parsed.success) return { error: "Choose an invoice to pay." };
   const inv = await ownInvoice(patientId, parsed.data.invoiceId);
-  if (inv.status !== "open" && inv.status !== "partially_paid") return { error: "That invoice has nothing left to pay." };
+  if (inv.status !== "open" && inv.status !== "partially_paid")
+    return { error: "That invoice has nothing left to pay." };
   return redirect(`/pay/${signPayLink(inv.id)}`);
 }
 
 export default function PortalInvoices({ loaderData, actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
-  const date = (iso: string | null) => (iso ? new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeZone: loaderData.timeZone }).format(new Date(iso)) : "—");
+  const date = (iso: string | null) =>
+    iso
+      ? new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeZone: loaderData.timeZone }).format(new Date(iso))
+      : "—";
   return (
     <div className="mx-auto max-w-2xl space-y-6">
       <PageHeader title="Invoices and payments" />
-      {actionData?.error ? <Notice tone="error" title="Not done">{actionData.error}</Notice> : null}
+      {actionData?.error ? (
+        <Notice tone="error" title="Not done">
+          {actionData.error}
+        </Notice>
+      ) : null}
       {loaderData.invoices.length === 0 ? <p className="text-muted">You have no invoices.</p> : null}
       <ul className="space-y-4">
         {loaderData.invoices.map((inv) => {
           const due = inv.totalMinor - inv.paidMinor;
           return (
             <li key={inv.id}>
-              <Card title={`Invoice ${inv.label}`} actions={<StatusBadge tone={inv.status === "paid" ? "success" : inv.status === "void" ? "error" : "warning"}>{STATUS[inv.status]}</StatusBadge>}>
+              <Card
+                title={`Invoice ${inv.label}`}
+                actions={
+                  <StatusBadge tone={inv.status === "paid" ? "success" : inv.status === "void" ? "error" : "warning"}>
+                    {STATUS[inv.status]}
+                  </StatusBadge>
+                }
+              >
                 <dl className="grid grid-cols-[8rem_1fr] gap-y-1 text-sm">
                   <dt className="text-muted">Issued</dt>
                   <dd>{date(inv.issuedAt)}</dd>
@@ -68,7 +96,10 @@ export default function PortalInvoices({ loaderData, actionData }: Route.Compone
                       </Button>
                     </Form>
                   ) : null}
-                  <a href={`/portal/invoices/${inv.id}/invoice.pdf`} className="self-center font-semibold text-accent-700 underline underline-offset-4">
+                  <a
+                    href={`/portal/invoices/${inv.id}/invoice.pdf`}
+                    className="self-center font-semibold text-accent-700 underline underline-offset-4"
+                  >
                     Invoice (PDF)
                   </a>
                 </div>
@@ -81,7 +112,10 @@ export default function PortalInvoices({ loaderData, actionData }: Route.Compone
                           <span>
                             {date(p.receivedAt)} · {METHOD[p.method]} · {formatMoney(p.amountMinor, inv.currency)}
                           </span>
-                          <a href={`/portal/payments/${p.id}/receipt.pdf`} className="font-semibold text-accent-700 underline underline-offset-4">
+                          <a
+                            href={`/portal/payments/${p.id}/receipt.pdf`}
+                            className="font-semibold text-accent-700 underline underline-offset-4"
+                          >
                             Receipt (PDF)
                           </a>
                         </li>

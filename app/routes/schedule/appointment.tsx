@@ -16,7 +16,15 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
-import { appointmentMessages, appointments, appointmentStatusChanges, appointmentTypes, exams, patients, users } from "~/db/schema";
+import {
+  appointmentMessages,
+  appointments,
+  appointmentStatusChanges,
+  appointmentTypes,
+  exams,
+  patients,
+  users,
+} from "~/db/schema";
 import { isMovable, STATUS_LABEL } from "~/lib/scheduling/status";
 import { formatLocal, localParts, toZonedIso } from "~/lib/scheduling/time";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
@@ -50,13 +58,27 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     .where(eq(appointments.id, params.appointmentId));
   if (!a) throw data({ error: "No such appointment." }, { status: 404 });
   const history = await db
-    .select({ from: appointmentStatusChanges.fromStatus, to: appointmentStatusChanges.toStatus, at: appointmentStatusChanges.changedAt, by: users.name })
+    .select({
+      from: appointmentStatusChanges.fromStatus,
+      to: appointmentStatusChanges.toStatus,
+      at: appointmentStatusChanges.changedAt,
+      by: users.name,
+    })
     .from(appointmentStatusChanges)
     .leftJoin(users, eq(users.id, appointmentStatusChanges.changedById))
     .where(eq(appointmentStatusChanges.appointmentId, a.id))
     .orderBy(asc(appointmentStatusChanges.changedAt), asc(appointmentStatusChanges.id));
-  const messages = await db.select().from(appointmentMessages).where(eq(appointmentMessages.appointmentId, a.id)).orderBy(asc(appointmentMessages.createdAt));
-  const [exam] = await db.select({ id: exams.id }).from(exams).where(eq(exams.appointmentId, a.id)).orderBy(desc(exams.createdAt)).limit(1);
+  const messages = await db
+    .select()
+    .from(appointmentMessages)
+    .where(eq(appointmentMessages.appointmentId, a.id))
+    .orderBy(asc(appointmentMessages.createdAt));
+  const [exam] = await db
+    .select({ id: exams.id })
+    .from(exams)
+    .where(eq(exams.appointmentId, a.id))
+    .orderBy(desc(exams.createdAt))
+    .limit(1);
   const { providers } = await scheduleReferenceData();
   const local = localParts(a.start, timeZone);
   return {
@@ -79,25 +101,38 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       examUrl: exam ? `/patients/${a.patientId}/exams/${exam.id}` : null,
     },
     history: history.map((h) => ({ ...h, at: formatLocal(h.at, timeZone) })),
-    messages: messages.map((m) => ({ kind: m.kind, status: m.status, dueAt: formatLocal(m.dueAt, timeZone), sentAt: m.sentAt ? formatLocal(m.sentAt, timeZone) : null, reason: m.skippedReason, error: m.lastError })),
+    messages: messages.map((m) => ({
+      kind: m.kind,
+      status: m.status,
+      dueAt: formatLocal(m.dueAt, timeZone),
+      sentAt: m.sentAt ? formatLocal(m.sentAt, timeZone) : null,
+      reason: m.skippedReason,
+      error: m.lastError,
+    })),
     providers: providers.map(({ id, name }) => ({ id, name })),
   };
 }
 
 function moveSchema(timeZone: string) {
-  return z.object({
-    intent: z.literal("move"),
-    date: z.iso.date({ error: "Give the day." }),
-    time: z.string({ error: "Give the time." }).regex(/^\d{2}:\d{2}$/, "Give the time as HH:MM."),
-    providerId: z.uuid({ error: "Choose a provider." }),
-  }).transform((v, ctx) => {
-    const start = isoTime(timeZone, "start").safeParse(`${v.date}T${v.time}`);
-    if (!start.success) {
-      ctx.addIssue({ code: "custom", path: ["time"], message: `That time does not exist in ${timeZone} on that day (the clocks change).` });
-      return z.NEVER;
-    }
-    return { ...v, start: start.data };
-  });
+  return z
+    .object({
+      intent: z.literal("move"),
+      date: z.iso.date({ error: "Give the day." }),
+      time: z.string({ error: "Give the time." }).regex(/^\d{2}:\d{2}$/, "Give the time as HH:MM."),
+      providerId: z.uuid({ error: "Choose a provider." }),
+    })
+    .transform((v, ctx) => {
+      const start = isoTime(timeZone, "start").safeParse(`${v.date}T${v.time}`);
+      if (!start.success) {
+        ctx.addIssue({
+          code: "custom",
+          path: ["time"],
+          message: `That time does not exist in ${timeZone} on that day (the clocks change).`,
+        });
+        return z.NEVER;
+      }
+      return { ...v, start: start.data };
+    });
 }
 
 export async function action({ request, params }: Route.ActionArgs) {
@@ -107,21 +142,46 @@ export async function action({ request, params }: Route.ActionArgs) {
   if (formData.get("intent") === "remind") {
     const result = await sendReminderNow(user.id, params.appointmentId, request);
     if (!result.ok) return data({ remindError: result.error }, { status: 409 });
-    return redirectWithToast(`/schedule/appointments/${params.appointmentId}`, { kind: "success", title: "Reminder on its way", description: "It appears in the e-mail log once sent." });
+    return redirectWithToast(`/schedule/appointments/${params.appointmentId}`, {
+      kind: "success",
+      title: "Reminder on its way",
+      description: "It appears in the e-mail log once sent.",
+    });
   }
   const { timeZone } = await practiceSchedule();
   const submission = parseWithZod(formData, { schema: moveSchema(timeZone) });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
   try {
-    await moveAppointment(user, params.appointmentId, { start: submission.value.start, providerId: submission.value.providerId }, request);
+    await moveAppointment(
+      user,
+      params.appointmentId,
+      { start: submission.value.start, providerId: submission.value.providerId },
+      request,
+    );
   } catch (error) {
-    if (error instanceof BookingError) return data(submission.reply({ formErrors: [error.message], fieldErrors: error.fieldErrors.start ? { time: error.fieldErrors.start } : {} }), { status: error.status });
+    if (error instanceof BookingError)
+      return data(
+        submission.reply({
+          formErrors: [error.message],
+          fieldErrors: error.fieldErrors.start ? { time: error.fieldErrors.start } : {},
+        }),
+        { status: error.status },
+      );
     throw error;
   }
-  return redirectWithToast(`/schedule/appointments/${params.appointmentId}`, { kind: "success", title: "Appointment moved", description: `Now ${formatLocal(submission.value.start, timeZone)}.` });
+  return redirectWithToast(`/schedule/appointments/${params.appointmentId}`, {
+    kind: "success",
+    title: "Appointment moved",
+    description: `Now ${formatLocal(submission.value.start, timeZone)}.`,
+  });
 }
 
-const KIND_LABEL = { confirmation: "Confirmation", reminder: "Reminder", update: "Calendar update (moved)", cancellation: "Cancellation notice" } as const;
+const KIND_LABEL = {
+  confirmation: "Confirmation",
+  reminder: "Reminder",
+  update: "Calendar update (moved)",
+  cancellation: "Cancellation notice",
+} as const;
 const MSG_LABEL = { queued: "Waiting to send", sent: "Sent", skipped: "Not sent", failed: "Failed" } as const;
 
 export default function AppointmentPage({ loaderData, actionData }: Route.ComponentProps) {
@@ -129,7 +189,11 @@ export default function AppointmentPage({ loaderData, actionData }: Route.Compon
   const navigation = useNavigation();
   usePolling(10);
   const remindError = (actionData as { remindError?: string } | undefined)?.remindError;
-  const [form, fields] = useForm({ id: "move", lastResult: navigation.state === "idle" && !remindError ? (actionData as never) : null, defaultValue: { date: a.date, time: a.time, providerId: a.providerId } });
+  const [form, fields] = useForm({
+    id: "move",
+    lastResult: navigation.state === "idle" && !remindError ? (actionData as never) : null,
+    defaultValue: { date: a.date, time: a.time, providerId: a.providerId },
+  });
   return (
     <>
       <PageHeader
@@ -137,7 +201,10 @@ export default function AppointmentPage({ loaderData, actionData }: Route.Compon
         description={`${a.when} with ${a.providerName} (practice time, ${timeZone})`}
         actions={
           <>
-            <Link to={`/schedule?date=${a.date}`} className="font-semibold text-accent-700 underline underline-offset-4">
+            <Link
+              to={`/schedule?date=${a.date}`}
+              className="font-semibold text-accent-700 underline underline-offset-4"
+            >
               Back to the calendar
             </Link>
           </>
@@ -158,14 +225,20 @@ export default function AppointmentPage({ loaderData, actionData }: Route.Compon
           ) : null}
           {(role === "owner" || role === "receptionist") && a.status !== "cancelled" && a.status !== "no_show" ? (
             <p className="mt-4">
-              <Link to={`/billing/invoices/new?appointment=${a.id}`} className="font-semibold text-accent-700 underline underline-offset-4">
+              <Link
+                to={`/billing/invoices/new?appointment=${a.id}`}
+                className="font-semibold text-accent-700 underline underline-offset-4"
+              >
                 Raise invoice
               </Link>{" "}
               <span className="text-sm text-muted">with this appointment type&apos;s fee filled in</span>
             </p>
           ) : null}
           <p className="mt-4">
-            <Link to={`/patients/${a.patientId}`} className="font-semibold text-accent-700 underline underline-offset-4">
+            <Link
+              to={`/patients/${a.patientId}`}
+              className="font-semibold text-accent-700 underline underline-offset-4"
+            >
               Patient&apos;s chart
             </Link>
           </p>
@@ -194,14 +267,27 @@ export default function AppointmentPage({ loaderData, actionData }: Route.Compon
                   <label htmlFor={fields.date.id} className="mb-1 block text-sm font-semibold">
                     Day
                   </label>
-                  <Input id={fields.date.id} name={fields.date.name} type="date" defaultValue={a.date} aria-invalid={fields.date.errors ? true : undefined} />
+                  <Input
+                    id={fields.date.id}
+                    name={fields.date.name}
+                    type="date"
+                    defaultValue={a.date}
+                    aria-invalid={fields.date.errors ? true : undefined}
+                  />
                   <ErrorList errors={fields.date.errors} />
                 </div>
                 <div>
                   <label htmlFor={fields.time.id} className="mb-1 block text-sm font-semibold">
                     Time
                   </label>
-                  <Input id={fields.time.id} name={fields.time.name} type="time" step={300} defaultValue={a.time} aria-invalid={fields.time.errors ? true : undefined} />
+                  <Input
+                    id={fields.time.id}
+                    name={fields.time.name}
+                    type="time"
+                    step={300}
+                    defaultValue={a.time}
+                    aria-invalid={fields.time.errors ? true : undefined}
+                  />
                   <ErrorList errors={fields.time.errors} />
                 </div>
                 <div>
@@ -231,7 +317,11 @@ export default function AppointmentPage({ loaderData, actionData }: Route.Compon
           {a.movable ? (
             <Form method="post" className="mb-4">
               <input type="hidden" name="intent" value="remind" />
-              <Button type="submit" variant="secondary" pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "remind"}>
+              <Button
+                type="submit"
+                variant="secondary"
+                pending={navigation.state === "submitting" && navigation.formData?.get("intent") === "remind"}
+              >
                 Send the reminder now
               </Button>
               {remindError ? (

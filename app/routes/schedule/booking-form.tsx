@@ -8,8 +8,17 @@ import { matchCount } from "~/components/patient-search";
 import { DuplicateWarning, type Duplicate } from "~/routes/patients/patient-form";
 
 export type PatientOption = { id: string; name: string; dateOfBirth: string; email: string | null };
-export type BookingDefaults = { start?: string; providerId?: string; appointmentTypeId?: string; siteId?: string; patient?: PatientOption | null };
-export type SiteChoice = { sites: { id: string; name: string }[]; rooms: { id: string; siteId: string; name: string }[] };
+export type BookingDefaults = {
+  start?: string;
+  providerId?: string;
+  appointmentTypeId?: string;
+  siteId?: string;
+  patient?: PatientOption | null;
+};
+export type SiteChoice = {
+  sites: { id: string; name: string }[];
+  rooms: { id: string; siteId: string; name: string }[];
+};
 type Reply = { status?: string; error?: Record<string, string[] | null> | null } | undefined;
 
 function errorsOf(reply: Reply, field: string) {
@@ -18,7 +27,9 @@ function errorsOf(reply: Reply, field: string) {
 
 /** "29 Mar 1979" from "1979-03-29" (dates of birth have no time zone). */
 export function formatDob(d: string) {
-  return new Intl.DateTimeFormat("en-GB", { day: "numeric", month: "short", year: "numeric", timeZone: "UTC" }).format(new Date(`${d}T00:00:00Z`));
+  return new Intl.DateTimeFormat("en-GB", { day: "numeric", month: "short", year: "numeric", timeZone: "UTC" }).format(
+    new Date(`${d}T00:00:00Z`),
+  );
 }
 
 function readReply<T extends object>(raw: T | string | undefined): T | undefined {
@@ -33,12 +44,28 @@ function readReply<T extends object>(raw: T | string | undefined): T | undefined
 
 function PatientPicker({ initial, errors }: { initial: PatientOption | null; errors?: string[] }) {
   // The same search as the patients list (GET /api/patients?q=): a page at a time, with the count.
-  type Found = { q: string; offset: number; total: number; totalIsExact: boolean; results: { id: string; firstName: string; lastName: string; dateOfBirth: string; email: string | null }[] };
+  type Found = {
+    q: string;
+    offset: number;
+    total: number;
+    totalIsExact: boolean;
+    results: { id: string; firstName: string; lastName: string; dateOfBirth: string; email: string | null }[];
+  };
   const search = useFetcher<Found>();
-  type Registered = { patient?: PatientOption; error?: string; detail?: string; fieldErrors?: Record<string, string[]>; duplicates?: Duplicate[] };
+  type Registered = {
+    patient?: PatientOption;
+    error?: string;
+    detail?: string;
+    fieldErrors?: Record<string, string[]>;
+    duplicates?: Duplicate[];
+  };
   const registerFetcher = useFetcher<Registered | string>();
   // Refusals come back as problem details (application/problem+json), which the fetcher hands over as text.
-  const register = { state: registerFetcher.state, submit: registerFetcher.submit, data: useMemo(() => readReply(registerFetcher.data), [registerFetcher.data]) };
+  const register = {
+    state: registerFetcher.state,
+    submit: registerFetcher.submit,
+    data: useMemo(() => readReply(registerFetcher.data), [registerFetcher.data]),
+  };
   const [q, setQ] = useState("");
   const [chosen, setChosen] = useState<PatientOption | null>(initial);
   const [extra, setExtra] = useState<PatientOption[]>(initial ? [initial] : []);
@@ -58,7 +85,11 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
   useEffect(() => {
     const d = search.data;
     if (!d || !Array.isArray(d.results)) return;
-    setFound((prev) => (d.offset > 0 && prev && prev.q === d.q ? { ...d, results: [...prev.results, ...d.results.filter((r) => !prev.results.some((p) => p.id === r.id))] } : d));
+    setFound((prev) =>
+      d.offset > 0 && prev && prev.q === d.q
+        ? { ...d, results: [...prev.results, ...d.results.filter((r) => !prev.results.some((p) => p.id === r.id))] }
+        : d,
+    );
   }, [search.data]);
 
   useEffect(() => {
@@ -81,7 +112,12 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
   }
 
   const current = q.trim().length >= 2 && found && found.q === q.trim().slice(0, 100) ? found : null;
-  const foundOptions: PatientOption[] = (current?.results ?? []).map((r) => ({ id: r.id, name: `${r.firstName} ${r.lastName}`, dateOfBirth: r.dateOfBirth, email: r.email }));
+  const foundOptions: PatientOption[] = (current?.results ?? []).map((r) => ({
+    id: r.id,
+    name: `${r.firstName} ${r.lastName}`,
+    dateOfBirth: r.dateOfBirth,
+    email: r.email,
+  }));
   const options = [...extra, ...foundOptions.filter((f) => !extra.some((e) => e.id === f.id))];
   const regErrors = register.data?.fieldErrors ?? {};
   const duplicates = register.data && register.data !== dismissed ? (register.data.duplicates ?? []) : [];
@@ -92,20 +128,44 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
         <label htmlFor={`${id}-q`} className="mb-1 block text-sm text-muted">
           Find by name, date of birth, phone or e-mail
         </label>
-        <Input id={`${id}-q`} type="search" value={q} onChange={(e) => setQ(e.target.value)} autoComplete="off" placeholder="e.g. Achterberg or 17/04/1979" />
+        <Input
+          id={`${id}-q`}
+          type="search"
+          value={q}
+          onChange={(e) => setQ(e.target.value)}
+          autoComplete="off"
+          placeholder="e.g. Achterberg or 17/04/1979"
+        />
       </div>
       <div aria-live="polite" className="text-sm text-muted" data-testid="booking-patient-count">
-        {search.state === "loading" ? "Searching…" : current ? (current.total === 0 ? "No patient matches; register them below." : `${matchCount(current.total, current.totalIsExact)}${current.results.length < current.total ? ` · ${current.results.length} shown` : ""}.`) : null}
+        {search.state === "loading"
+          ? "Searching…"
+          : current
+            ? current.total === 0
+              ? "No patient matches; register them below."
+              : `${matchCount(current.total, current.totalIsExact)}${current.results.length < current.total ? ` · ${current.results.length} shown` : ""}.`
+            : null}
       </div>
       {options.length ? (
         <ul className="max-h-56 space-y-1 overflow-y-auto rounded-md border border-line p-2">
           {options.map((p) => (
             <li key={p.id}>
               <label className="flex cursor-pointer items-center gap-3 rounded px-2 py-1.5 hover:bg-canvas">
-                <input type="radio" name="patientId" value={p.id} checked={chosen?.id === p.id} onChange={() => setChosen(p)} className="size-4 accent-accent-700" />
+                <input
+                  type="radio"
+                  name="patientId"
+                  value={p.id}
+                  checked={chosen?.id === p.id}
+                  onChange={() => setChosen(p)}
+                  className="size-4 accent-accent-700"
+                />
                 <span>
                   <span className="font-semibold">{p.name}</span>
-                  <span className="text-sm text-muted"> · born {formatDob(p.dateOfBirth)}{p.email ? ` · ${p.email}` : ""}</span>
+                  <span className="text-sm text-muted">
+                    {" "}
+                    · born {formatDob(p.dateOfBirth)}
+                    {p.email ? ` · ${p.email}` : ""}
+                  </span>
                 </span>
               </label>
             </li>
@@ -113,7 +173,14 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
         </ul>
       ) : null}
       {current && current.results.length < current.total ? (
-        <Button type="button" variant="secondary" pending={search.state !== "idle"} onClick={() => search.load(`/api/patients?q=${encodeURIComponent(current.q)}&offset=${current.results.length}`)}>
+        <Button
+          type="button"
+          variant="secondary"
+          pending={search.state !== "idle"}
+          onClick={() =>
+            search.load(`/api/patients?q=${encodeURIComponent(current.q)}&offset=${current.results.length}`)
+          }
+        >
           Show more patients
         </Button>
       ) : null}
@@ -127,7 +194,12 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
               onChoose={takeExisting}
               confirm={
                 <label className="mt-3 flex items-center gap-2 font-semibold">
-                  <input type="checkbox" checked={confirmDuplicate} onChange={(e) => setConfirmDuplicate(e.target.checked)} className="size-4" />
+                  <input
+                    type="checkbox"
+                    checked={confirmDuplicate}
+                    onChange={(e) => setConfirmDuplicate(e.target.checked)}
+                    className="size-4"
+                  />
                   This is a different person: register anyway
                 </label>
               }
@@ -169,7 +241,12 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
           variant="secondary"
           className="mt-3"
           pending={register.state !== "idle"}
-          onClick={() => register.submit({ ...newPatient, confirmDuplicate: confirmDuplicate ? "yes" : "" }, { method: "post", action: "/api/schedule-patients", encType: "application/json" })}
+          onClick={() =>
+            register.submit(
+              { ...newPatient, confirmDuplicate: confirmDuplicate ? "yes" : "" },
+              { method: "post", action: "/api/schedule-patients", encType: "application/json" },
+            )
+          }
         >
           Register and choose
         </Button>
@@ -206,13 +283,22 @@ export function BookingForm({
           {formErrors.join(" ")}
         </Notice>
       ) : null}
-      <PatientPicker key={defaults.patient?.id ?? "none"} initial={defaults.patient ?? null} errors={errorsOf(reply, "patientId")} />
+      <PatientPicker
+        key={defaults.patient?.id ?? "none"}
+        initial={defaults.patient ?? null}
+        errors={errorsOf(reply, "patientId")}
+      />
       <div className="grid gap-4 sm:grid-cols-2">
         <div>
           <label htmlFor={`${id}-type`} className="mb-1 block text-sm font-semibold">
             Appointment type
           </label>
-          <Select id={`${id}-type`} name="appointmentTypeId" defaultValue={defaults.appointmentTypeId ?? types[0]?.id} aria-invalid={errorsOf(reply, "appointmentTypeId") ? true : undefined}>
+          <Select
+            id={`${id}-type`}
+            name="appointmentTypeId"
+            defaultValue={defaults.appointmentTypeId ?? types[0]?.id}
+            aria-invalid={errorsOf(reply, "appointmentTypeId") ? true : undefined}
+          >
             {types.map((t) => (
               <option key={t.id} value={t.id}>
                 {t.name} ({t.durationMinutes} min)
@@ -225,7 +311,12 @@ export function BookingForm({
           <label htmlFor={`${id}-provider`} className="mb-1 block text-sm font-semibold">
             With
           </label>
-          <Select id={`${id}-provider`} name="providerId" defaultValue={defaults.providerId ?? ""} aria-invalid={errorsOf(reply, "providerId") ? true : undefined}>
+          <Select
+            id={`${id}-provider`}
+            name="providerId"
+            defaultValue={defaults.providerId ?? ""}
+            aria-invalid={errorsOf(reply, "providerId") ? true : undefined}
+          >
             <option value="">Choose…</option>
             {providers.map((p) => (
               <option key={p.id} value={p.id}>
@@ -240,7 +331,12 @@ export function BookingForm({
             <label htmlFor={`${id}-site`} className="mb-1 block text-sm font-semibold">
               Site
             </label>
-            <Select id={`${id}-site`} name="siteId" defaultValue={defaults.siteId ?? ""} aria-invalid={errorsOf(reply, "siteId") ? true : undefined}>
+            <Select
+              id={`${id}-site`}
+              name="siteId"
+              defaultValue={defaults.siteId ?? ""}
+              aria-invalid={errorsOf(reply, "siteId") ? true : undefined}
+            >
               <option value="">Where the provider works that day</option>
               {places.sites.map((s) => (
                 <option key={s.id} value={s.id}>
@@ -256,7 +352,12 @@ export function BookingForm({
             <label htmlFor={`${id}-room`} className="mb-1 block text-sm font-semibold">
               Room
             </label>
-            <Select id={`${id}-room`} name="roomId" defaultValue="" aria-invalid={errorsOf(reply, "roomId") ? true : undefined}>
+            <Select
+              id={`${id}-room`}
+              name="roomId"
+              defaultValue=""
+              aria-invalid={errorsOf(reply, "roomId") ? true : undefined}
+            >
               <option value="">The provider&apos;s room that day</option>
               {places.sites.map((s) => {
                 const here = places.rooms.filter((r) => r.siteId === s.id);
@@ -278,7 +379,15 @@ export function BookingForm({
           <label htmlFor={`${id}-start`} className="mb-1 block text-sm font-semibold">
             Starts
           </label>
-          <Input id={`${id}-start`} type="datetime-local" name="start" step={300} defaultValue={defaults.start} aria-invalid={errorsOf(reply, "start") ? true : undefined} aria-describedby={`${id}-start-hint`} />
+          <Input
+            id={`${id}-start`}
+            type="datetime-local"
+            name="start"
+            step={300}
+            defaultValue={defaults.start}
+            aria-invalid={errorsOf(reply, "start") ? true : undefined}
+            aria-describedby={`${id}-start-hint`}
+          />
           <p id={`${id}-start-hint`} className="mt-1 text-sm text-muted">
             Practice time. The end follows from the type&apos;s length.
           </p>

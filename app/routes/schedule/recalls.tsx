@@ -33,12 +33,34 @@ export async function loader({ request }: Route.LoaderArgs) {
     keepBatch: batchParam && z.uuid().safeParse(batchParam).success ? batchParam : undefined,
   };
   if (filters.dueFrom && filters.dueFrom > filters.dueBy) {
-    return { rows: [], multiSite: false, today, dueBy: filters.dueBy, filters, thisMonth: monthOf(today), settings: { child: 0, adult: 0, under: 0 }, filterError: "The first day comes after the last day: swap them, or clear the first day." };
+    return {
+      rows: [],
+      multiSite: false,
+      today,
+      dueBy: filters.dueBy,
+      filters,
+      thisMonth: monthOf(today),
+      settings: { child: 0, adult: 0, under: 0 },
+      filterError: "The first day comes after the last day: swap them, or clear the first day.",
+    };
   }
   const list = await recallList(filters);
   const { rows, dueBy } = list;
   const multiSite = (await activeSites()).length > 1;
-  return { rows, multiSite, today: list.today, dueBy, filters, thisMonth: monthOf(list.today), settings: { child: list.settings.recallMonthsChild, adult: list.settings.recallMonthsAdult, under: list.settings.childUnderYears }, filterError: null };
+  return {
+    rows,
+    multiSite,
+    today: list.today,
+    dueBy,
+    filters,
+    thisMonth: monthOf(list.today),
+    settings: {
+      child: list.settings.recallMonthsChild,
+      adult: list.settings.recallMonthsAdult,
+      under: list.settings.childUnderYears,
+    },
+    filterError: null,
+  };
 }
 
 /** The first and last day of the month of a YYYY-MM-DD day. */
@@ -49,18 +71,30 @@ function monthOf(day: string) {
   return { from: `${y}-${mm}-01`, to: `${y}-${mm}-${String(last).padStart(2, "0")}` };
 }
 
-const sendSchema = z.object({ intent: z.literal("send"), patientId: z.array(z.uuid()).min(1, "Choose at least one patient.").max(2000) });
+const sendSchema = z.object({
+  intent: z.literal("send"),
+  patientId: z.array(z.uuid()).min(1, "Choose at least one patient.").max(2000),
+});
 
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   const form = await request.formData();
   const parsed = sendSchema.safeParse({ intent: form.get("intent"), patientId: form.getAll("patientId") });
-  if (!parsed.success) return data({ error: parsed.error.issues[0]?.message ?? "Choose patients.", batch: null }, { status: 400 });
+  if (!parsed.success)
+    return data({ error: parsed.error.issues[0]?.message ?? "Choose patients.", batch: null }, { status: 400 });
   const batch = await startRecallBatch(user, parsed.data.patientId, request);
   return { error: null, batch };
 }
 
-type Progress = { total: number; sent: number; skipped: number; failed: number; queued: number; done: number; finished: boolean };
+type Progress = {
+  total: number;
+  sent: number;
+  skipped: number;
+  failed: number;
+  queued: number;
+  done: number;
+  finished: boolean;
+};
 
 function BatchProgress({ batchId, total, onFinished }: { batchId: string; total: number; onFinished: () => void }) {
   const poll = useFetcher<Progress>();
@@ -79,9 +113,15 @@ function BatchProgress({ batchId, total, onFinished }: { batchId: string; total:
       <label htmlFor="recall-progress" className="block text-sm font-semibold">
         Sending recall e-mails: {p.done} of {p.total} done
       </label>
-      <progress id="recall-progress" max={Math.max(p.total, 1)} value={p.done} className="h-3 w-full accent-accent-700" />
+      <progress
+        id="recall-progress"
+        max={Math.max(p.total, 1)}
+        value={p.done}
+        className="h-3 w-full accent-accent-700"
+      />
       <p className="text-sm" aria-live="polite">
-        {p.sent} sent · {p.skipped} not sent (opted out, no address or already booked) · {p.failed} failed{p.finished ? " · finished" : ""}
+        {p.sent} sent · {p.skipped} not sent (opted out, no address or already booked) · {p.failed} failed
+        {p.finished ? " · finished" : ""}
       </p>
     </div>
   );
@@ -110,12 +150,24 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
         description={`Patients due for their routine exam. Interval: the optometrist's plan on the last exam, else the visit type's, else ${settings.child} months under ${settings.under} and ${settings.adult} months from ${settings.under} (practice settings; common practice).`}
       />
       <ScheduleNav />
-      <Form method="get" className="mb-4 flex flex-wrap items-end gap-3" aria-describedby={filterError ? "recall-filter-error" : undefined}>
+      <Form
+        method="get"
+        className="mb-4 flex flex-wrap items-end gap-3"
+        aria-describedby={filterError ? "recall-filter-error" : undefined}
+      >
         <div>
           <label htmlFor="dueFrom" className="mb-1 block text-sm font-semibold">
             Due from (optional)
           </label>
-          <Input id="dueFrom" type="date" name="dueFrom" defaultValue={filters.dueFrom ?? ""} className="w-44" aria-describedby="dueFrom-hint" aria-invalid={filterError ? true : undefined} />
+          <Input
+            id="dueFrom"
+            type="date"
+            name="dueFrom"
+            defaultValue={filters.dueFrom ?? ""}
+            className="w-44"
+            aria-describedby="dueFrom-hint"
+            aria-invalid={filterError ? true : undefined}
+          />
           <span id="dueFrom-hint" className="sr-only">
             Leave empty to include everyone already overdue.
           </span>
@@ -137,15 +189,32 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
           </Select>
         </div>
         <label className="flex items-center gap-2 pb-2 text-sm">
-          <input type="checkbox" name="booked" value="1" defaultChecked={filters.includeBooked} className="size-4 accent-accent-700" /> Include patients already booked
+          <input
+            type="checkbox"
+            name="booked"
+            value="1"
+            defaultChecked={filters.includeBooked}
+            className="size-4 accent-accent-700"
+          />{" "}
+          Include patients already booked
         </label>
         <label className="flex items-center gap-2 pb-2 text-sm">
-          <input type="checkbox" name="recalled" value="1" defaultChecked={filters.includeRecalled} className="size-4 accent-accent-700" /> Include patients already recalled
+          <input
+            type="checkbox"
+            name="recalled"
+            value="1"
+            defaultChecked={filters.includeRecalled}
+            className="size-4 accent-accent-700"
+          />{" "}
+          Include patients already recalled
         </label>
         <Button type="submit" variant="secondary">
           Filter
         </Button>
-        <Link to={`?dueFrom=${thisMonth.from}&dueBy=${thisMonth.to}`} className="pb-2 text-sm font-semibold text-accent-700 underline underline-offset-4">
+        <Link
+          to={`?dueFrom=${thisMonth.from}&dueBy=${thisMonth.to}`}
+          className="pb-2 text-sm font-semibold text-accent-700 underline underline-offset-4"
+        >
           Due this month
         </Link>
       </Form>
@@ -158,8 +227,17 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
       ) : null}
       {batch ? (
         <div className="mb-4 rounded-lg border border-line bg-white p-4">
-          <BatchProgress key={batch.batchId} batchId={batch.batchId} total={batch.total} onFinished={() => showBatch(batch.batchId)} />
-          {batch.alreadyRecalled ? <p className="mt-2 text-sm text-muted">{batch.alreadyRecalled} already had a recall for this due date and were left out.</p> : null}
+          <BatchProgress
+            key={batch.batchId}
+            batchId={batch.batchId}
+            total={batch.total}
+            onFinished={() => showBatch(batch.batchId)}
+          />
+          {batch.alreadyRecalled ? (
+            <p className="mt-2 text-sm text-muted">
+              {batch.alreadyRecalled} already had a recall for this due date and were left out.
+            </p>
+          ) : null}
         </div>
       ) : null}
       {send.data?.error ? (
@@ -171,7 +249,9 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
       ) : null}
       <send.Form method="post">
         <input type="hidden" name="intent" value="send" />
-        <Card title={`${rows.length} patient${rows.length === 1 ? "" : "s"} due ${filters.dueFrom ? `from ${formatDob(filters.dueFrom)} ` : ""}by ${formatDob(dueBy)}`}>
+        <Card
+          title={`${rows.length} patient${rows.length === 1 ? "" : "s"} due ${filters.dueFrom ? `from ${formatDob(filters.dueFrom)} ` : ""}by ${formatDob(dueBy)}`}
+        >
           {rows.length === 0 ? (
             <p className="text-muted">Nobody is due in this range.</p>
           ) : (
@@ -185,7 +265,9 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
                           type="checkbox"
                           className="size-4 accent-accent-700"
                           checked={allChecked}
-                          onChange={(e) => setSelected(e.target.checked ? new Set(emailable.map((r) => r.patientId)) : new Set())}
+                          onChange={(e) =>
+                            setSelected(e.target.checked ? new Set(emailable.map((r) => r.patientId)) : new Set())
+                          }
                         />
                         <span className="sr-only">Choose all who can be e-mailed</span>
                       </label>
@@ -229,26 +311,54 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
                         <td className="py-2 pr-4">
                           {formatDob(r.lastVisit)}
                           <span className="block text-muted">{r.lastVisitType}</span>
-                          {loaderData.multiSite ? <span className="block text-muted">Recall to {r.siteName}</span> : null}
+                          {loaderData.multiSite ? (
+                            <span className="block text-muted">Recall to {r.siteName}</span>
+                          ) : null}
                         </td>
                         <td className="py-2 pr-4">
                           <span className="font-semibold">{formatDob(r.dueDate)}</span>
-                          {r.dueDate < today ? <span className="ml-2"><StatusBadge tone="warning">Overdue</StatusBadge></span> : null}
+                          {r.dueDate < today ? (
+                            <span className="ml-2">
+                              <StatusBadge tone="warning">Overdue</StatusBadge>
+                            </span>
+                          ) : null}
                           <span className="block text-muted">
                             {r.months} months ({r.rule})
                           </span>
                         </td>
                         <td className="py-2">
                           {!canEmail ? (
-                            <StatusBadge tone="warning">{r.email ? "Opted out of recall e-mails" : "No e-mail address"}</StatusBadge>
+                            <StatusBadge tone="warning">
+                              {r.email ? "Opted out of recall e-mails" : "No e-mail address"}
+                            </StatusBadge>
                           ) : r.lastRecall ? (
                             <>
-                              <StatusBadge tone={r.lastRecall.status === "sent" ? "success" : r.lastRecall.status === "failed" ? "error" : "info"}>
-                                {r.lastRecall.status === "sent" ? "Recall sent" : r.lastRecall.status === "failed" ? "Recall failed" : r.lastRecall.status === "skipped" ? "Recall not sent" : "Recall waiting"}
+                              <StatusBadge
+                                tone={
+                                  r.lastRecall.status === "sent"
+                                    ? "success"
+                                    : r.lastRecall.status === "failed"
+                                      ? "error"
+                                      : "info"
+                                }
+                              >
+                                {r.lastRecall.status === "sent"
+                                  ? "Recall sent"
+                                  : r.lastRecall.status === "failed"
+                                    ? "Recall failed"
+                                    : r.lastRecall.status === "skipped"
+                                      ? "Recall not sent"
+                                      : "Recall waiting"}
                               </StatusBadge>
                               <span className="block text-muted">
-                                {r.lastRecall.status === "skipped" && r.lastRecall.skippedReason ? `${r.lastRecall.skippedReason} · ` : ""}
-                                {new Date(r.lastRecall.at).toLocaleDateString("en-GB", { day: "numeric", month: "short", year: "numeric" })}
+                                {r.lastRecall.status === "skipped" && r.lastRecall.skippedReason
+                                  ? `${r.lastRecall.skippedReason} · `
+                                  : ""}
+                                {new Date(r.lastRecall.at).toLocaleDateString("en-GB", {
+                                  day: "numeric",
+                                  month: "short",
+                                  year: "numeric",
+                                })}
                               </span>
                             </>
                           ) : r.nextBooked ? (
@@ -266,11 +376,16 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
           )}
         </Card>
         {/* Stays at the bottom of the window while a long list scrolls under it. */}
-        <div className="sticky bottom-0 z-10 -mx-1 mt-2 flex flex-wrap items-center gap-3 rounded-t-lg border border-line bg-white px-4 py-3 shadow-lg" data-testid="recall-send-bar">
+        <div
+          className="sticky bottom-0 z-10 -mx-1 mt-2 flex flex-wrap items-center gap-3 rounded-t-lg border border-line bg-white px-4 py-3 shadow-lg"
+          data-testid="recall-send-bar"
+        >
           <Button type="submit" pending={send.state !== "idle"} disabled={selected.size === 0}>
             Send recall e-mails ({selected.size})
           </Button>
-          <span className="text-sm text-muted">{selected.size === 0 ? "Tick the patients to recall." : `${selected.size} chosen.`}</span>
+          <span className="text-sm text-muted">
+            {selected.size === 0 ? "Tick the patients to recall." : `${selected.size} chosen.`}
+          </span>
         </div>
       </send.Form>
     </>

@@ -22,7 +22,11 @@ const staffRole = z.enum(["owner", "optometrist", "receptionist"], { error: "Cho
 const inviteSchema = z.object({
   intent: z.literal("invite"),
   name: z.string({ error: "Give the person's name." }).trim().min(2, "Give the person's name.").max(120),
-  email: z.string({ error: "Enter an e-mail address." }).trim().toLowerCase().pipe(z.email({ error: "Enter a valid e-mail address." })),
+  email: z
+    .string({ error: "Enter an e-mail address." })
+    .trim()
+    .toLowerCase()
+    .pipe(z.email({ error: "Enter a valid e-mail address." })),
   role: staffRole,
   licenceNumber: z.string().trim().max(40).optional(),
 });
@@ -33,7 +37,14 @@ const schema = z.discriminatedUnion("intent", [inviteSchema, roleSchema, activeS
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);
   const rows = await db
-    .select({ id: users.id, name: users.name, email: users.email, role: users.role, active: users.active, invited: users.passwordHash })
+    .select({
+      id: users.id,
+      name: users.name,
+      email: users.email,
+      role: users.role,
+      active: users.active,
+      invited: users.passwordHash,
+    })
     .from(users)
     .orderBy(asc(users.role), asc(users.name));
   return { users: rows.map(({ invited, ...u }) => ({ ...u, pending: invited === null })) };
@@ -54,9 +65,13 @@ export async function action({ request }: Route.ActionArgs) {
       return redirectWithToast("/settings/users", { kind: "success", title: `Role changed to ${ROLE_LABEL[v.role]}` });
     }
     await setActive(actor, v.userId, v.intent === "reactivate", request);
-    return redirectWithToast("/settings/users", { kind: "success", title: v.intent === "reactivate" ? "Account reactivated" : "Account deactivated; its sessions have ended" });
+    return redirectWithToast("/settings/users", {
+      kind: "success",
+      title: v.intent === "reactivate" ? "Account reactivated" : "Account deactivated; its sessions have ended",
+    });
   } catch (error) {
-    if (error instanceof UserAdminError) return data(submission.reply({ formErrors: [error.message] }), { status: 409 });
+    if (error instanceof UserAdminError)
+      return data(submission.reply({ formErrors: [error.message] }), { status: 409 });
     throw error;
   }
 }
@@ -98,7 +113,10 @@ export default function UsersSettings({ loaderData, actionData }: Route.Componen
   });
   return (
     <>
-      <PageHeader title="Team and accounts" description="Invite colleagues, change roles and close accounts. Every change is recorded in the audit log." />
+      <PageHeader
+        title="Team and accounts"
+        description="Invite colleagues, change roles and close accounts. Every change is recorded in the audit log."
+      />
       {form.errors?.length ? (
         <div className="mb-4">
           <Notice tone="error" title="Not done">
@@ -126,13 +144,25 @@ export default function UsersSettings({ loaderData, actionData }: Route.Componen
                   <td className="py-3 pr-4 font-semibold">{u.name}</td>
                   <td className="py-3 pr-4">{u.email}</td>
                   <td className="py-3 pr-4">
-                    {!u.active ? <StatusBadge tone="error">Deactivated</StatusBadge> : u.pending ? <StatusBadge tone="warning">Invited</StatusBadge> : <StatusBadge tone="success">Active</StatusBadge>}
+                    {!u.active ? (
+                      <StatusBadge tone="error">Deactivated</StatusBadge>
+                    ) : u.pending ? (
+                      <StatusBadge tone="warning">Invited</StatusBadge>
+                    ) : (
+                      <StatusBadge tone="success">Active</StatusBadge>
+                    )}
                   </td>
                   <td className="py-3 pr-4">{u.role === "patient" ? ROLE_LABEL.patient : <RoleForm user={u} />}</td>
                   <td className="py-3">
                     <Form method="post">
                       <input type="hidden" name="userId" value={u.id} />
-                      <Button type="submit" name="intent" value={u.active ? "deactivate" : "reactivate"} variant={u.active ? "danger" : "secondary"} className="px-3 py-1">
+                      <Button
+                        type="submit"
+                        name="intent"
+                        value={u.active ? "deactivate" : "reactivate"}
+                        variant={u.active ? "danger" : "secondary"}
+                        className="px-3 py-1"
+                      >
                         {u.active ? "Deactivate" : "Reactivate"}
                         <span className="sr-only"> {u.name}</span>
                       </Button>
@@ -148,14 +178,23 @@ export default function UsersSettings({ loaderData, actionData }: Route.Componen
         <Form method="post" {...getFormProps(form)} ref={inviteRef} className="grid gap-4 sm:grid-cols-2">
           <input type="hidden" name="intent" value="invite" />
           <Field label="Name" errors={fields.name.errors} inputProps={getInputProps(fields.name, { type: "text" })} />
-          <Field label="E-mail" errors={fields.email.errors} inputProps={getInputProps(fields.email, { type: "email" })} />
+          <Field
+            label="E-mail"
+            errors={fields.email.errors}
+            inputProps={getInputProps(fields.email, { type: "email" })}
+          />
           <SelectField label="Role" errors={fields.role.errors} selectProps={getSelectProps(fields.role)}>
             <option value="">Choose…</option>
             <option value="optometrist">{ROLE_LABEL.optometrist}</option>
             <option value="receptionist">{ROLE_LABEL.receptionist}</option>
             <option value="owner">{ROLE_LABEL.owner}</option>
           </SelectField>
-          <Field label="Licence or registration number" hint="For optometrists: printed on prescriptions." errors={fields.licenceNumber.errors} inputProps={getInputProps(fields.licenceNumber, { type: "text" })} />
+          <Field
+            label="Licence or registration number"
+            hint="For optometrists: printed on prescriptions."
+            errors={fields.licenceNumber.errors}
+            inputProps={getInputProps(fields.licenceNumber, { type: "text" })}
+          />
           <div className="sm:col-span-2">
             <Button type="submit" pending={navigation.state === "submitting"}>
               Send invitation
