@@ -54,6 +54,7 @@ export default [
       route("invoices/new", "routes/billing/invoice-new.tsx"),
       route("invoices/:invoiceId", "routes/billing/invoice.tsx"),
       route("takings", "routes/billing/takings.tsx"),
+      route("balances", "routes/billing/balances.tsx"),
     ]),
     ...prefix("patients", [
       index("routes/patients/index.tsx"),

@@ -1,4 +1,5 @@
-import type { InputHTMLAttributes, ReactNode, SelectHTMLAttributes } from "react";
+import { useEffect, useRef, type InputHTMLAttributes, type ReactNode, type SelectHTMLAttributes } from "react";
+import { useActionData, useNavigation } from "react-router";
 import { Input, Select } from "./ui/input";
 
 export type FieldErrors = string[] | undefined;
@@ -74,4 +75,25 @@ export function SelectField({
       <ErrorList id={errorId} errors={errors} />
     </div>
   );
+}
+
+/**
+ * A ref for a form that empties itself once its submission (the `intent` it posts) succeeded, so
+ * what was typed cannot be sent twice by mistake. Success is an action that redirected (no action
+ * data); a refused submission keeps what was typed.
+ */
+export function useResetAfterSuccess(intent: string) {
+  const ref = useRef<HTMLFormElement>(null);
+  const navigation = useNavigation();
+  const actionData = useActionData();
+  const submitted = useRef(false);
+  useEffect(() => {
+    if (navigation.state === "submitting") {
+      submitted.current = navigation.formData?.get("intent") === intent;
+    } else if (navigation.state === "idle" && submitted.current) {
+      submitted.current = false;
+      if (actionData === undefined) ref.current?.reset();
+    }
+  }, [navigation.state, navigation.formData, actionData, intent]);
+  return ref;
 }

@@ -131,6 +131,17 @@ export const unsubscribeUrl = (patientId: string, list: UnsubscribeList) =>
 
 // ---------------------------------------------------------------- sending
 
+/** An address nobody reads ("no-reply@…", "donotreply@…"): never offered for replies. */
+export function isNoReplyAddress(address: string) {
+  return /^(no-?reply|do-?not-?reply|noreply|mailer-daemon)([+.-][^@]*)?@/i.test(address.trim());
+}
+
+/** Where a patient's reply reaches the practice (its own address), or null when there is none. */
+export async function practiceReplyAddress() {
+  const { email } = await practiceSender();
+  return email && !isNoReplyAddress(email) ? email : null;
+}
+
 async function practiceSender() {
   const [p] = await db
     .select({ name: practiceSettings.name, email: practiceSettings.email })
@@ -163,7 +174,7 @@ export async function prepareMail(mail: Mail): Promise<Prepared> {
   return {
     ...rest,
     from: rest.from ?? `${quoted(practice.name)} <${fromAddress()}>`,
-    ...(rest.replyTo || practice.email
+    ...(rest.replyTo || (practice.email && !isNoReplyAddress(practice.email))
       ? { replyTo: rest.replyTo ?? `${quoted(practice.name)} <${practice.email}>` }
       : {}),
     html:

@@ -50,9 +50,15 @@ describe("the patient portal on a phone", () => {
     await desk.waitForURL((u) => u.pathname === "/");
     await desk.goto("/billing/invoices/new");
     await ready(desk);
+    // The patient field searches the whole register as you type.
+    await desk.getByRole("combobox", { name: "Patient" }).fill(`${patient.last_name} ${patient.first_name}`);
     await desk
-      .getByLabel("Patient")
-      .selectOption({ label: `${patient.last_name}, ${patient.first_name} (born ${patient.date_of_birth})` });
+      .getByRole("option", { name: new RegExp(`^${`${patient.last_name}, ${patient.first_name}`}`) })
+      .first()
+      .click();
+    await expect
+      .poll(() => desk.getByTestId("chosen-patient").textContent())
+      .toContain(`${patient.last_name}, ${patient.first_name}`);
     await desk.getByLabel("Quantity of Contact lens aftercare check").fill("1");
     await desk.getByRole("button", { name: "Create draft invoice" }).click();
     await expect.poll(() => desk.getByTestId("toast").textContent()).toContain("Draft invoice created");

@@ -7,21 +7,26 @@ import { loader as listLoader } from "~/routes/patients/index";
 import { action as newAction } from "~/routes/patients/new";
 import { auditLog, exams, patients } from "~/db/schema";
 import { db } from "~/utils/db.server";
-import { newPatient } from "#tests/support/factories";
 import { cookieFor, dataOf, makeRequest, run, statusOf, userByEmail } from "#tests/support/helpers";
 
 const uniq = () => Math.random().toString(36).slice(2, 8);
 
-const makePatient = (over: Parameters<typeof newPatient>[0] = {}) =>
-  newPatient({
-    firstName: `Test${uniq()}`,
-    lastName: `Quillfeather${uniq()}`,
-    dateOfBirth: "1990-05-06",
-    phone: "01632 960 777",
-    allergies: "Penicillin",
-    medications: "None",
-    ...over,
-  });
+async function makePatient(over: Partial<typeof patients.$inferInsert> = {}) {
+  const [p] = await db
+    .insert(patients)
+    .values({
+      firstName: `Test${uniq()}`,
+      lastName: `Quillfeather${uniq()}`,
+      dateOfBirth: "1990-05-06",
+      phone: "01632 960 777",
+      email: `q-${uniq()}@example.test`,
+      allergies: "Penicillin",
+      medications: "None",
+      ...over,
+    })
+    .returning();
+  return p!;
+}
 
 const register = (cookie: string, form: Record<string, string>) =>
   run(newAction, makeRequest("/patients/new", { cookie, form }));
@@ -234,7 +239,15 @@ describe("chart", () => {
       await run(chartLoader, makeRequest(`/patients/${p.id}`, { cookie }), { patientId: p.id }),
     );
     expect(d.clinical).toBe(false);
-    expect(Object.keys(d).sort()).toEqual(["appointments", "clinical", "invoices", "patient", "prescriptions"]);
+    expect(Object.keys(d).sort()).toEqual([
+      "appointments",
+      "balance",
+      "canBill",
+      "clinical",
+      "invoices",
+      "patient",
+      "prescriptions",
+    ]);
     expect(d.patient).not.toHaveProperty("allergies");
     const rows = await db
       .select()

@@ -287,7 +287,23 @@ describe("online booking", () => {
     );
     expect(page.slots.length).toBeGreaterThan(0);
     const slot = page.slots.at(-1)!;
-    const form = { appointmentTypeId: online!.id, providerId: slot.providerId, start: slot.start };
+    // Choosing a time only shows it for a check: nothing is booked until the patient confirms.
+    const review = await run(
+      bookAction,
+      makeRequest("/portal/book", {
+        cookie,
+        form: { appointmentTypeId: online!.id, providerId: slot.providerId, start: slot.start },
+      }),
+    );
+    expect(statusOf(review)).toBe(200);
+    expect(dataOf<{ review: { start: string } }>(review).review.start).toBe(slot.start);
+    expect(
+      await db
+        .select()
+        .from(appointments)
+        .where(and(eq(appointments.patientId, await demoPatientId()), eq(appointments.startsAt, new Date(slot.start)))),
+    ).toHaveLength(0);
+    const form = { appointmentTypeId: online!.id, providerId: slot.providerId, start: slot.start, step: "confirm" };
     expect(statusOf(await run(bookAction, makeRequest("/portal/book", { cookie, form })))).toBe(302);
     const me = await demoPatientId();
     const [booked] = await db
@@ -318,6 +334,7 @@ describe("online booking", () => {
           appointmentTypeId: closed!.id,
           providerId: optom.id,
           start: new Date(Date.now() + 9 * 86_400_000).toISOString(),
+          step: "confirm",
         },
       }),
     );

@@ -30,6 +30,7 @@ const BILLING_TABS = [
   { to: "/billing", label: "Invoices", end: true },
   { to: "/billing/invoices/new", label: "New invoice", end: true },
   { to: "/billing/takings", label: "Takings" },
+  { to: "/billing/balances", label: "Outstanding balances" },
 ];
 
 export function BillingNav() {

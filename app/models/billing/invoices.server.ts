@@ -4,7 +4,7 @@
  * so two people working on one invoice at once are serialised, and totals are always recomputed on
  * the server by app/lib/money.
  */
-import { and, asc, eq, inArray, sql } from "drizzle-orm";
+import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import {
   exams,
   feeItems,
@@ -408,11 +408,15 @@ export async function applyPaid(
 }
 
 /** Cash or card at the desk: succeeded as soon as it is recorded. At most the amount due. */
+/** An identical desk payment (invoice, amount, method, reference) within this window is refused unless confirmed. */
+export const REPEAT_PAYMENT_WINDOW_MS = 2 * 60_000;
+
 export async function recordDeskPayment(input: {
   invoiceId: string;
   method: Exclude<PaymentMethod, "card_online">;
   amountMinor: number;
   reference: string;
+  confirmRepeat?: boolean;
   actorUserId: string;
   request?: Request;
 }) {
@@ -427,6 +431,31 @@ export async function recordDeskPayment(input: {
             : "This invoice is void.",
         { status: 409 },
       );
+    }
+    if (!input.confirmRepeat) {
+      // Checked under the invoice's row lock, so two quick clicks cannot both pass.
+      const [same] = await tx
+        .select({ createdAt: payments.createdAt })
+        .from(payments)
+        .where(
+          and(
+            eq(payments.invoiceId, inv.id),
+            eq(payments.method, input.method),
+            eq(payments.amountMinor, input.amountMinor),
+            eq(payments.reference, input.reference.trim()),
+            eq(payments.status, "succeeded"),
+            sql`${payments.createdAt} > now() - make_interval(secs => ${REPEAT_PAYMENT_WINDOW_MS / 1000})`,
+          ),
+        )
+        .orderBy(desc(payments.createdAt))
+        .limit(1);
+      if (same) {
+        const ago = Math.max(1, Math.round((Date.now() - same.createdAt.getTime()) / 1000));
+        throw new BillingError(
+          `The same payment (${formatMoney(input.amountMinor, inv.currency)} by ${input.method === "cash" ? "cash" : "card"}${input.reference.trim() ? `, reference ${input.reference.trim()}` : ""}) was recorded ${ago} seconds ago. If the patient really paid twice, tick the box below and record it again; otherwise leave it.`,
+          { status: 409, field: "confirmRepeat" },
+        );
+      }
     }
     const due = inv.totalMinor - inv.paidMinor;
     if (input.amountMinor > due)

@@ -1,5 +1,6 @@
-import { asc, desc, eq } from "drizzle-orm";
+import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import { appointments, appointmentTypes, examAssessment, examRefractions, exams, invoices, users } from "~/db/schema";
+import { invoiceLabel } from "~/models/billing/invoices.server";
 import { myopiaProgressionReport, toPowerVector, type MyopiaProgressionReport } from "~/lib/optics";
 import { db } from "~/utils/db.server";
 import { ageInYears as ageOn } from "~/lib/format";
@@ -41,10 +42,25 @@ export async function invoicesOf(patientId: string) {
     .limit(30);
   return rows.map((r) => ({
     ...r,
+    label: invoiceLabel(r.number),
     at: (r.issuedAt ?? r.createdAt).toISOString(),
     issuedAt: undefined,
     createdAt: undefined,
   }));
+}
+
+/** What the patient owes: the unpaid part of every issued invoice that is open or part paid, per currency. */
+export async function balanceOf(patientId: string) {
+  const rows = await db
+    .select({
+      currency: invoices.currency,
+      owedMinor: sql<number>`sum(${invoices.totalMinor} - ${invoices.paidMinor})::int`,
+      invoices: sql<number>`count(*)::int`,
+    })
+    .from(invoices)
+    .where(and(eq(invoices.patientId, patientId), inArray(invoices.status, ["open", "partially_paid"])))
+    .groupBy(invoices.currency);
+  return rows;
 }
 
 export async function examsOf(patientId: string) {

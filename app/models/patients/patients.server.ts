@@ -54,10 +54,40 @@ export type PatientHit = {
   email: string | null;
 };
 
-export async function searchPatients(q: string, limit = 8): Promise<PatientHit[]> {
+/** The typed words of a name search (not a date, not a phone number), lower-cased. */
+function nameWords(q: string) {
+  if (parseDobQuery(q.trim())) return [];
+  return q
+    .trim()
+    .toLowerCase()
+    .split(/\s+/)
+    .filter((w) => w && !/^[+\d()\-.]+$/.test(w))
+    .slice(0, 5);
+}
+
+/** Matches are counted up to this many; beyond it the count reads "more than 1,000". */
+export const SEARCH_COUNT_CAP = 1000;
+
+/**
+ * One page of a patient search, best first: surnames equal to a typed word, then surnames that
+ * begin with one, then every other match, each group by name. With the number of matches (up to
+ * SEARCH_COUNT_CAP), so a short list says how many more there are.
+ */
+export async function searchPatientsPage(
+  q: string,
+  { limit = 8, offset = 0 }: { limit?: number; offset?: number } = {},
+): Promise<{ results: PatientHit[]; total: number; totalIsExact: boolean }> {
   const where = searchCondition(q);
-  if (!where) return [];
-  return (
+  if (!where) return { results: [], total: 0, totalIsExact: true };
+  const words = nameWords(q);
+  const surname = sql`lower(${patients.lastName})`;
+  const rank = words.length
+    ? sql`case when ${surname} in ${words} then 0 when ${sql.join(
+        words.map((w) => sql`${surname} like ${`${escapeLike(w)}%`}`),
+        sql` or `,
+      )} then 1 else 2 end`
+    : null;
+  const [results, [counted]] = await Promise.all([
     db
       .select({
         id: patients.id,
@@ -69,17 +99,33 @@ export async function searchPatients(q: string, limit = 8): Promise<PatientHit[]
       })
       .from(patients)
       .where(where)
-      // Ordered by lower(name), which no index provides: otherwise the planner may walk the whole
-      // name index filtering on search_text (measured 130 ms at 100,000 patients) instead of
-      // taking the trigram index's matches and sorting them (a few ms).
+      // Ordered by expressions no index provides: otherwise the planner may walk the whole name
+      // index filtering on search_text (measured 130 ms at 100,000 patients) instead of taking
+      // the trigram index's matches and sorting them (a few ms).
       .orderBy(
-        sql`lower(${patients.lastName})`,
+        ...(rank ? [rank] : []),
+        surname,
         sql`lower(${patients.firstName})`,
         asc(patients.dateOfBirth),
         asc(patients.id),
       )
       .limit(limit)
-  );
+      .offset(offset),
+    db.select({ n: count() }).from(
+      db
+        .select({ one: sql`1` })
+        .from(patients)
+        .where(where)
+        .limit(SEARCH_COUNT_CAP + 1)
+        .as("capped"),
+    ),
+  ]);
+  const n = counted?.n ?? 0;
+  return { results, total: Math.min(n, SEARCH_COUNT_CAP), totalIsExact: n <= SEARCH_COUNT_CAP };
+}
+
+export async function searchPatients(q: string, limit = 8): Promise<PatientHit[]> {
+  return (await searchPatientsPage(q, { limit })).results;
 }
 
 function filterCondition(filter: ListQuery["filter"]): SQL | undefined {
@@ -141,6 +187,22 @@ export async function listPatients(query: ListQuery) {
   ]);
   const n = total?.n ?? 0;
   return { rows, total: Math.min(n, cap - 1), totalIsExact: n < cap };
+}
+
+/** What both registration paths (the full page and the booking form) say when they find a likely duplicate. */
+export const DUPLICATE_MESSAGE =
+  "A patient with this name and date of birth is already registered. Choose that patient, or confirm that this is a different person.";
+
+/**
+ * The one duplicate check of every registration: unless the user has confirmed a different
+ * person ("yes"), the patients with the same name and date of birth, else none.
+ */
+export async function duplicatesBlockingRegistration(
+  input: { firstName: string; lastName: string; dateOfBirth: string },
+  confirmDuplicate: unknown,
+) {
+  if (confirmDuplicate === "yes" || confirmDuplicate === true) return [];
+  return findDuplicates(input);
 }
 
 /** Patients with the same name (case-insensitive) and date of birth: likely the same person. */

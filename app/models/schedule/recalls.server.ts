@@ -10,7 +10,14 @@ import { formatLocal, localParts } from "~/lib/scheduling/time";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 import { defineJob } from "~/utils/jobs.server";
-import { prepareMail, sendMail, unsubscribeUrl, type Mail } from "~/utils/mail.server";
+import {
+  absoluteUrl,
+  practiceReplyAddress,
+  prepareMail,
+  sendMail,
+  unsubscribeUrl,
+  type Mail,
+} from "~/utils/mail.server";
 import { mailRetryOptions } from "./reminders.server";
 import { practiceSchedule } from "./schedule-settings.server";
 import { siteAddress } from "./sites.server";
@@ -35,14 +42,18 @@ export type RecallRow = {
   siteId: string;
   siteName: string;
   nextBooked: string | null;
-  lastRecall: { status: string; at: string } | null;
+  lastRecall: { status: string; at: string; batchId: string | null; skippedReason: string | null } | null;
 };
 
 export type RecallFilters = {
+  /** Due on or after this day (none: every overdue patient too). */
+  dueFrom?: string;
   dueBy?: string;
   group?: "all" | "child" | "adult";
   includeBooked?: boolean;
   includeRecalled?: boolean;
+  /** Patients recalled in this batch stay listed (with their recall's state) whatever the other filters say. */
+  keepBatch?: string;
 };
 
 /** Every patient seen for a routine exam, with the due date of their next one. */
@@ -68,6 +79,8 @@ async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
     plan_months: number | null;
     next_booked: Date | null;
     recall_status: string | null;
+    recall_batch: string | null;
+    recall_skipped: string | null;
     recall_at: Date | null;
     recall_due: string | null;
     site_id: string;
@@ -77,7 +90,7 @@ async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
            lv.starts_at as last_visit, lv.type_name, lv.recall_months, lv.plan_months,
            (select min(a2.starts_at) from appointments a2
              where a2.patient_id = p.id and a2.starts_at > now() and a2.status in ('booked', 'confirmed')) as next_booked,
-           rm.status::text as recall_status, coalesce(rm.sent_at, rm.created_at) as recall_at, rm.due_date::text as recall_due,
+           rm.status::text as recall_status, rm.batch_id as recall_batch, rm.skipped_reason as recall_skipped, coalesce(rm.sent_at, rm.created_at) as recall_at, rm.due_date::text as recall_due,
            s.id as site_id, s.name as site_name
       from patients p
       join lateral (
@@ -96,7 +109,7 @@ async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
            where e.patient_id = p.id and e.appointment_id is null
         ) v order by v.starts_at desc limit 1) lv on true
       left join lateral (
-        select r.status, r.sent_at, r.created_at, r.due_date from recall_messages r
+        select r.status, r.sent_at, r.created_at, r.due_date, r.batch_id, r.skipped_reason from recall_messages r
          where r.patient_id = p.id order by r.created_at desc limit 1) rm on true
       -- The site of the patient's last visit (one that took place), else the default site.
       left join lateral (
@@ -129,7 +142,12 @@ async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
       nextBooked: r.next_booked ? formatLocal(new Date(r.next_booked), settings.timeZone) : null,
       lastRecall:
         recalledForThisDue && r.recall_status
-          ? { status: r.recall_status, at: new Date(r.recall_at!).toISOString() }
+          ? {
+              status: r.recall_status,
+              at: new Date(r.recall_at!).toISOString(),
+              batchId: r.recall_batch,
+              skippedReason: r.recall_skipped,
+            }
           : null,
     };
   });
@@ -141,7 +159,9 @@ export async function recallList(filters: RecallFilters = {}) {
   const today = localParts(new Date(), settings.timeZone).date;
   const dueBy = filters.dueBy ?? today;
   const rows = (await allRecalls()).filter((r) => {
+    if (filters.keepBatch && r.lastRecall?.batchId === filters.keepBatch) return true;
     if (r.dueDate > dueBy) return false;
+    if (filters.dueFrom && r.dueDate < filters.dueFrom) return false;
     if (!filters.includeBooked && r.nextBooked) return false;
     if (!filters.includeRecalled && r.lastRecall) return false;
     const child = r.age < settings.childUnderYears;
@@ -219,6 +239,19 @@ export function useRecallMailSender(next: Sender | null) {
   sender = next ?? sendMail;
 }
 
+/**
+ * How the patient can book, in words: a reply is invited only when replies reach the practice
+ * (its own address as Reply-To, never a no-reply sender); the portal is always offered.
+ */
+export function howToBook(phone: string | null | undefined, replyTo: string | null) {
+  const ways = [
+    phone ? `call us on ${phone}` : null,
+    replyTo ? `reply to this e-mail (it reaches ${replyTo})` : null,
+    `book online in your patient portal: ${absoluteUrl("/portal/book")}`,
+  ].filter(Boolean) as string[];
+  return `To book, ${ways.length > 1 ? `${ways.slice(0, -1).join(", ")} or ${ways.at(-1)}` : ways[0]}.`;
+}
+
 /** The job: send one recall e-mail at most once. */
 export async function deliverRecall(
   recallId: string,
@@ -277,7 +310,7 @@ export async function deliverRecall(
       );
       const site = row.site;
       const phoneNumber = site.phone || settings.phone;
-      const phone = phoneNumber ? ` on ${phoneNumber}` : "";
+      const replyTo = await practiceReplyAddress();
       const address = siteAddress(site);
       const where = `${settings.name}, ${site.name}${address ? `, ${address}` : ""}`;
       const optOut = unsubscribeUrl(row.recall.patientId, "recalls");
@@ -285,7 +318,7 @@ export async function deliverRecall(
         await prepareMail({
           to: row.email!,
           subject: `Your eye examination is due (${due})`,
-          text: `Dear ${row.firstName} ${row.lastName},\n\nOur records show that your routine eye examination is due on ${due}. Regular exams check your sight and the health of your eyes, even when you notice no change.\n\nWe look forward to seeing you at ${where}. To book, call us${phone} or reply to this e-mail.\n\n${settings.name} · ${site.name}${address ? `\n${address}` : ""}${phoneNumber ? `\n${phoneNumber}` : ""}\n\nIf you would rather not receive these e-mails, you can stop them here: ${optOut}\n`,
+          text: `Dear ${row.firstName} ${row.lastName},\n\nOur records show that your routine eye examination is due on ${due}. Regular exams check your sight and the health of your eyes, even when you notice no change.\n\nWe look forward to seeing you at ${where}. ${howToBook(phoneNumber, replyTo)}\n\n${settings.name} · ${site.name}${address ? `\n${address}` : ""}${phoneNumber ? `\n${phoneNumber}` : ""}\n\nIf you would rather not receive these e-mails, you can stop them here: ${optOut}\n`,
           unsubscribe: { patientId: row.recall.patientId, list: "recalls" },
         }),
       );

@@ -1,11 +1,22 @@
 import type { Route } from "./+types/patients";
-import { searchPatients } from "~/models/patients/patients.server";
+import { searchPatientsPage } from "~/models/patients/patients.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 
-/** GET /api/patients?q= — typeahead search by any part of the name, date of birth, phone or e-mail. */
+/** Results per request; the list asks for the next ones with ?offset=. */
+export const SEARCH_PAGE_SIZE = 20;
+
+/**
+ * GET /api/patients?q=&offset= — typeahead search by any part of the name, date of birth, phone
+ * or e-mail: one page of matches, exact surnames first, and how many match in all.
+ */
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, STAFF_ROLES);
-  const q = (new URL(request.url).searchParams.get("q") ?? "").slice(0, 100);
-  const results = await searchPatients(q, 8);
-  return Response.json({ q, results });
+  const params = new URL(request.url).searchParams;
+  const q = (params.get("q") ?? "").slice(0, 100);
+  const offsetText = params.get("offset") ?? "0";
+  if (!/^\d{1,4}$/.test(offsetText))
+    return Response.json({ error: "The offset must be a whole number from 0 to 9999." }, { status: 400 });
+  const offset = Number(offsetText);
+  const page = await searchPatientsPage(q, { limit: SEARCH_PAGE_SIZE, offset });
+  return Response.json({ q, offset, ...page });
 }

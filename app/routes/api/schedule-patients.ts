@@ -1,6 +1,7 @@
 import { z } from "zod";
 import type { Route } from "./+types/schedule-patients";
 import { patients } from "~/db/schema";
+import { DUPLICATE_MESSAGE, duplicatesBlockingRegistration } from "~/models/patients/patients.server";
 import { errorJson, readBody, zodFieldErrors } from "~/models/schedule/schedule-api.server";
 import { audit } from "~/utils/audit.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
@@ -17,6 +18,8 @@ export const newPatientSchema = z.object({
     ),
   email: z.union([z.literal(""), z.email({ error: "Enter a valid e-mail address." })]).optional(),
   phone: z.string().trim().max(40).optional(),
+  /** "yes" once the user has seen the duplicate warning and registers a different person anyway. */
+  confirmDuplicate: z.union([z.literal("yes"), z.literal(""), z.boolean()]).optional(),
 });
 
 /**
@@ -28,6 +31,9 @@ export async function action({ request }: Route.ActionArgs) {
   const parsed = newPatientSchema.safeParse(await readBody(request));
   if (!parsed.success) return errorJson(400, "Check the patient's details.", zodFieldErrors(parsed.error));
   const v = parsed.data;
+  // The same check and words as the registration page.
+  const duplicates = await duplicatesBlockingRegistration(v, v.confirmDuplicate);
+  if (duplicates.length) return errorJson(409, DUPLICATE_MESSAGE, {}, { duplicates });
   const patient = await db.transaction(async (tx) => {
     const [row] = await tx
       .insert(patients)
@@ -52,7 +58,7 @@ export async function action({ request }: Route.ActionArgs) {
         entityType: "patient",
         entityId: row!.id,
         patientId: row!.id,
-        detail: { from: "booking" },
+        detail: { from: "booking", duplicateConfirmed: v.confirmDuplicate === "yes" || v.confirmDuplicate === true },
         request,
       },
       tx,

@@ -1,16 +1,17 @@
 import { asc, eq } from "drizzle-orm";
-import { data, Form, Link, useNavigation } from "react-router";
+import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/invoice-new";
 import { BillingNav } from "~/components/billing/invoice-status";
 import { ErrorList } from "~/components/forms";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
+import { PatientSearch, type PatientSearchHit } from "~/components/patient-search";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
-import { feeItems, patients, practiceSettings } from "~/db/schema";
+import { appointments, appointmentTypes, exams, feeItems, patients, practiceSettings } from "~/db/schema";
 import { formatDate, formatMoney } from "~/lib/format";
 import { parseMoney } from "~/lib/money";
 import { parseDecimal } from "~/lib/numbers/decimal";
@@ -78,18 +79,47 @@ export async function loader({ request }: Route.LoaderArgs) {
       request,
     });
   }
-  const patientList = exam
-    ? []
-    : await db
-        .select({
-          id: patients.id,
-          firstName: patients.firstName,
-          lastName: patients.lastName,
-          dateOfBirth: patients.dateOfBirth,
-        })
-        .from(patients)
-        .orderBy(asc(patients.lastName), asc(patients.firstName))
-        .limit(500);
+  // From an appointment: its exam's invoice if it has one, else the patient with the type's fee.
+  const appointmentId = url.searchParams.get("appointment");
+  let appointment: { id: string; typeName: string; startsAt: string } | null = null;
+  let suggestedFeeItemId: string | null = exam?.defaultFeeItemId ?? null;
+  let preselected: PatientSearchHit | null = null;
+  let preselectedId = url.searchParams.get("patient") ?? "";
+  if (!exam && appointmentId) {
+    if (!z.uuid().safeParse(appointmentId).success)
+      throw data({ error: "There is no such appointment." }, { status: 404 });
+    const [appt] = await db
+      .select({
+        id: appointments.id,
+        patientId: appointments.patientId,
+        startsAt: appointments.startsAt,
+        typeName: appointmentTypes.name,
+        feeItemId: appointmentTypes.defaultFeeItemId,
+      })
+      .from(appointments)
+      .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
+      .where(eq(appointments.id, appointmentId));
+    if (!appt) throw data({ error: "There is no such appointment." }, { status: 404 });
+    const [linked] = await db.select({ id: exams.id }).from(exams).where(eq(exams.appointmentId, appt.id)).limit(1);
+    if (linked) throw redirect(`/billing/invoices/new?exam=${linked.id}`);
+    appointment = { id: appt.id, typeName: appt.typeName, startsAt: appt.startsAt.toISOString() };
+    suggestedFeeItemId = appt.feeItemId;
+    preselectedId = appt.patientId;
+  }
+  if (!exam && z.uuid().safeParse(preselectedId).success) {
+    const [p] = await db
+      .select({
+        id: patients.id,
+        firstName: patients.firstName,
+        lastName: patients.lastName,
+        dateOfBirth: patients.dateOfBirth,
+        phone: patients.phone,
+        email: patients.email,
+      })
+      .from(patients)
+      .where(eq(patients.id, preselectedId));
+    preselected = p ?? null;
+  }
   return {
     currency: settings?.currency ?? "GBP",
     fees,
@@ -104,8 +134,9 @@ export async function loader({ request }: Route.LoaderArgs) {
         }
       : null,
     patient,
-    patients: patientList.map((p) => ({ id: p.id, label: `${p.lastName}, ${p.firstName} (born ${p.dateOfBirth})` })),
-    preselectedPatient: url.searchParams.get("patient") ?? "",
+    appointment,
+    suggestedFeeItemId,
+    preselected,
   };
 }
 
@@ -197,7 +228,7 @@ export async function action({ request }: Route.ActionArgs) {
 }
 
 export default function NewInvoice({ loaderData, actionData }: Route.ComponentProps) {
-  const { fees, currency, exam, patient, patients: patientList, preselectedPatient } = loaderData;
+  const { fees, currency, exam, patient, appointment, suggestedFeeItemId, preselected } = loaderData;
   const errors: Errors = (actionData as { errors?: Errors } | undefined)?.errors ?? {};
   const navigation = useNavigation();
   const services = fees.filter((f) => f.kind === "service");
@@ -220,8 +251,10 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
             <td className="py-2 pr-4">
               {f.description}
               {f.taxCategory === "standard" ? <span className="ml-2 text-xs text-muted">(taxed)</span> : null}
-              {exam?.defaultFeeItemId === f.id ? (
-                <span className="ml-2 text-xs font-semibold text-accent-800">· this exam's visit fee</span>
+              {suggestedFeeItemId === f.id ? (
+                <span className="ml-2 text-xs font-semibold text-accent-800">
+                  {exam ? "· this exam's visit fee" : "· this appointment's fee"}
+                </span>
               ) : null}
             </td>
             <td className="py-2 pr-4 text-right tabular-nums">{formatMoney(f.priceMinor, currency)}</td>
@@ -235,7 +268,7 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
                 type="number"
                 min={0}
                 max={1000}
-                defaultValue={exam?.defaultFeeItemId === f.id ? 1 : 0}
+                defaultValue={suggestedFeeItemId === f.id ? 1 : 0}
                 className="w-24 py-1"
                 aria-invalid={errors[`qty_${f.id}`] ? true : undefined}
               />
@@ -253,7 +286,9 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
         description={
           exam
             ? `From the exam of ${patient?.name ?? "the patient"} on ${examDate}.`
-            : "Raise an invoice by hand, or open one from a finished exam."
+            : appointment
+              ? `From the ${appointment.typeName} appointment of ${new Date(appointment.startsAt).toLocaleDateString("en-GB", { day: "numeric", month: "long", year: "numeric" })}: its fee is filled in below.`
+              : "Raise an invoice by hand, or open one from a finished exam."
         }
       />
       <BillingNav />
@@ -289,23 +324,13 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
             </>
           ) : (
             <div className="max-w-lg">
-              <label htmlFor="patientId" className="mb-1 block text-sm font-semibold">
-                Patient
-              </label>
-              <Select
-                id="patientId"
+              <PatientSearch
+                label="Patient"
                 name="patientId"
-                defaultValue={preselectedPatient}
-                aria-invalid={errors.patientId ? true : undefined}
-                aria-describedby={errors.patientId ? "patientId-error" : undefined}
-              >
-                <option value="">Choose…</option>
-                {patientList.map((p) => (
-                  <option key={p.id} value={p.id}>
-                    {p.label}
-                  </option>
-                ))}
-              </Select>
+                initial={preselected}
+                invalid={Boolean(errors.patientId)}
+                describedBy={errors.patientId ? "patientId-error" : undefined}
+              />
               <ErrorList id="patientId-error" errors={errors.patientId} />
             </div>
           )}

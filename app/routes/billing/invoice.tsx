@@ -20,7 +20,7 @@ import {
   setDiscount,
   voidInvoice,
 } from "~/models/billing/invoices.server";
-import { ErrorList } from "~/components/forms";
+import { ErrorList, useResetAfterSuccess } from "~/components/forms";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
@@ -65,6 +65,7 @@ const schema = z.discriminatedUnion("intent", [
     method: z.enum(["cash", "card_desk"], { error: "Choose cash or card." }),
     amount: money,
     reference: z.string().trim().max(80).default(""),
+    confirmRepeat: z.literal("yes").optional(),
   }),
   z.object({ intent: z.literal("email") }),
   z.object({ intent: z.literal("receipt"), paymentId: z.uuid() }),
@@ -225,6 +226,7 @@ export async function action({ request, params }: Route.ActionArgs) {
           method: v.method,
           amountMinor: minor,
           reference: v.reference,
+          confirmRepeat: v.confirmRepeat === "yes",
           actorUserId: user.id,
           request,
         });
@@ -286,6 +288,7 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
   const { invoice, patient, lines, payments, refunds, fees } = loaderData;
   const navigation = useNavigation();
   const busy = (intent: string) => navigation.state === "submitting" && navigation.formData?.get("intent") === intent;
+  const payForm = useResetAfterSuccess("pay-desk");
   const reply = actionData as Reply;
   const lastIntent = reply?.initialValue?.intent;
   const err = (intent: string, field: string) =>
@@ -584,8 +587,23 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
           {payable ? (
             <>
               <Card title="Take a payment at the desk">
-                <Form method="post" className="space-y-3">
+                <Form method="post" className="space-y-3" ref={payForm}>
                   <input type="hidden" name="intent" value="pay-desk" />
+                  {err("pay-desk", "confirmRepeat") ? (
+                    <Notice tone="warning" title="This looks like the same payment again">
+                      <p id="repeat-warning">{err("pay-desk", "confirmRepeat")!.join(" ")}</p>
+                      <label className="mt-2 flex items-center gap-2 font-semibold">
+                        <input
+                          type="checkbox"
+                          name="confirmRepeat"
+                          value="yes"
+                          className="size-4"
+                          aria-describedby="repeat-warning"
+                        />{" "}
+                        This is a second payment: record it too
+                      </label>
+                    </Notice>
+                  ) : null}
                   <fieldset>
                     <legend className="mb-1 text-sm font-semibold">Method</legend>
                     <div className="flex gap-4">

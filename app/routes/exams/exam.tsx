@@ -42,6 +42,7 @@ import {
 import { ageInYears as ageOn, formatDate } from "~/lib/format";
 import { issuePrescription, prescriptionsOf } from "~/models/prescriptions/prescriptions.server";
 import { audit } from "~/utils/audit.server";
+import { BILLING_ROLES } from "~/models/billing/invoices.server";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
@@ -155,6 +156,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       signedAt: c.signedAt.toISOString(),
     })),
     isExaminer: user.id === exam.optometristId,
+    /** Billing is the owner's and the front desk's; of the clinical roles only the owner bills. */
+    canBill: (BILLING_ROLES as readonly string[]).includes(user.role),
     canCountersign:
       exam.status === "signed" &&
       user.id !== exam.optometristId &&
@@ -501,14 +504,24 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
           </>
         }
         actions={
-          readOnly ? (
-            <StatusBadge tone="success">
-              Signed by {exam.signedBy} on{" "}
-              {new Date(exam.signedAt!).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}
-            </StatusBadge>
-          ) : (
-            <StatusBadge tone="warning">In progress</StatusBadge>
-          )
+          <>
+            {readOnly ? (
+              <StatusBadge tone="success">
+                Signed by {exam.signedBy} on{" "}
+                {new Date(exam.signedAt!).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}
+              </StatusBadge>
+            ) : (
+              <StatusBadge tone="warning">In progress</StatusBadge>
+            )}
+            {readOnly && loaderData.canBill ? (
+              <Link
+                to={`/billing/invoices/new?exam=${exam.id}`}
+                className="font-semibold text-accent-700 underline underline-offset-4"
+              >
+                Raise invoice
+              </Link>
+            ) : null}
+          </>
         }
       />
       <nav aria-label="Exam sections" className="mb-6 rounded-lg border border-line bg-white px-4 py-3 text-sm">

@@ -3,6 +3,7 @@ import { eq } from "drizzle-orm";
 import { data, Form, Link } from "react-router";
 import type { Route } from "./+types/new";
 import { PageHeader } from "~/components/page-header";
+import { matchCount } from "~/components/patient-search";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input } from "~/components/ui/input";
@@ -21,7 +22,7 @@ import {
 } from "~/models/orders/orders.server";
 import { formatDate } from "~/lib/format";
 import { isUuid } from "~/models/patients/patient-schema";
-import { searchPatients } from "~/models/patients/patients.server";
+import { searchPatientsPage } from "~/models/patients/patients.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
@@ -29,13 +30,30 @@ import { contactLensOrderSchema, spectacleOrderSchema } from "~/models/orders/or
 import { notFound } from "~/utils/failure.server";
 import { RxSummary, SpectacleForm, ContactLensForm, type FormData_ } from "./order-forms";
 
+/** Patients listed per page when finding one for an order. */
+const PATIENT_PAGE = 20;
+
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ORDER_ROLES);
   const url = new URL(request.url);
   const q = url.searchParams.get("q")?.trim() ?? "";
   const patientId = url.searchParams.get("patientId") ?? "";
   const prescriptionId = url.searchParams.get("prescriptionId") ?? "";
-  if (!isUuid(patientId)) return { step: "patient" as const, q, hits: q ? await searchPatients(q, 10) : [] };
+  if (!isUuid(patientId)) {
+    const pageText = url.searchParams.get("page") ?? "1";
+    const page = /^\d{1,3}$/.test(pageText) && Number(pageText) >= 1 ? Number(pageText) : 1;
+    const found = q
+      ? await searchPatientsPage(q, { limit: PATIENT_PAGE, offset: (page - 1) * PATIENT_PAGE })
+      : { results: [], total: 0, totalIsExact: true };
+    return {
+      step: "patient" as const,
+      q,
+      page,
+      hits: found.results,
+      total: found.total,
+      totalIsExact: found.totalIsExact,
+    };
+  }
   const [patient] = await db
     .select({
       id: patients.id,
@@ -129,19 +147,45 @@ export default function NewOrder({ loaderData, actionData }: Route.ComponentProp
           </Form>
           {d.q ? (
             d.hits.length ? (
-              <ul className="mt-4 divide-y divide-line">
-                {d.hits.map((h) => (
-                  <li key={h.id} className="py-2">
+              <>
+                <p className="mt-4 text-sm text-muted" data-testid="order-patient-count">
+                  {matchCount(d.total, d.totalIsExact)}
+                  {d.total > d.hits.length
+                    ? ` · showing ${(d.page - 1) * PATIENT_PAGE + 1}–${(d.page - 1) * PATIENT_PAGE + d.hits.length}`
+                    : ""}
+                </p>
+                <ul className="mt-2 divide-y divide-line">
+                  {d.hits.map((h) => (
+                    <li key={h.id} className="py-2">
+                      <Link
+                        to={`/orders/new?patientId=${h.id}`}
+                        className="font-semibold text-accent-700 underline underline-offset-4"
+                      >
+                        {h.firstName} {h.lastName}
+                      </Link>{" "}
+                      <span className="text-sm text-muted">born {formatDate(h.dateOfBirth)}</span>
+                    </li>
+                  ))}
+                </ul>
+                <nav aria-label="More matching patients" className="mt-3 flex gap-4 text-sm">
+                  {d.page > 1 ? (
                     <Link
-                      to={`/orders/new?patientId=${h.id}`}
+                      to={`/orders/new?q=${encodeURIComponent(d.q)}&page=${d.page - 1}`}
                       className="font-semibold text-accent-700 underline underline-offset-4"
                     >
-                      {h.firstName} {h.lastName}
-                    </Link>{" "}
-                    <span className="text-sm text-muted">born {formatDate(h.dateOfBirth)}</span>
-                  </li>
-                ))}
-              </ul>
+                      Previous {PATIENT_PAGE}
+                    </Link>
+                  ) : null}
+                  {d.page * PATIENT_PAGE < d.total ? (
+                    <Link
+                      to={`/orders/new?q=${encodeURIComponent(d.q)}&page=${d.page + 1}`}
+                      className="font-semibold text-accent-700 underline underline-offset-4"
+                    >
+                      Next {PATIENT_PAGE}
+                    </Link>
+                  ) : null}
+                </nav>
+              </>
             ) : (
               <p className="mt-4 text-muted">No patient matches “{d.q}”.</p>
             )

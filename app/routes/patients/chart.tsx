@@ -15,6 +15,7 @@ import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import {
   appointmentsOf,
+  balanceOf,
   childProgression,
   examsOf,
   invoicesOf,
@@ -64,11 +65,13 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       ])
     : null;
   clinicalData?.catch(() => undefined); // awaited below; this keeps an early failure elsewhere from leaving it unobserved
-  const [appointments, invoices, prescriptions] = await Promise.all([
+  const [appointments, invoices, prescriptions, balance] = await Promise.all([
     appointmentsOf(p.id),
     invoicesOf(p.id),
     prescriptionsOf(p.id),
+    balanceOf(p.id),
   ]);
+  const canBill = user.role === "owner" || user.role === "receptionist";
   const demographics = {
     id: p.id,
     firstName: p.firstName,
@@ -85,7 +88,15 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const rx = prescriptions.map((r) => ({ ...r, current: r.expiresOn >= today }));
   if (!clinical) {
     await audited;
-    return { clinical: false as const, patient: demographics, appointments, invoices, prescriptions: rx };
+    return {
+      clinical: false as const,
+      patient: demographics,
+      appointments,
+      invoices,
+      prescriptions: rx,
+      balance,
+      canBill,
+    };
   }
   const [exams, documents, history, prompts, referrals] = await clinicalData!;
   await audited;
@@ -100,6 +111,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     appointments,
     invoices,
     prescriptions: rx,
+    balance,
+    canBill,
     exams,
     documents,
     history,
@@ -144,6 +157,11 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
             <Link to={`/patients/${p.id}/edit`} className={buttonClass("secondary")}>
               Edit details
             </Link>
+            {d.canBill ? (
+              <Link to={`/billing/invoices/new?patient=${p.id}`} className={buttonClass("secondary")}>
+                Raise invoice
+              </Link>
+            ) : null}
             {d.clinical ? (
               <Form method="post">
                 <input type="hidden" name="intent" value="start-exam" />
@@ -155,6 +173,28 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
           </>
         }
       />
+      <p className="mb-4 text-sm" data-testid="patient-balance">
+        <span className="font-semibold">Balance: </span>
+        {d.balance.length
+          ? d.balance
+              .map(
+                (b) =>
+                  `${formatMoney(b.owedMinor, b.currency)} owed on ${b.invoices} ${b.invoices === 1 ? "invoice" : "invoices"}`,
+              )
+              .join("; ")
+          : "nothing owed"}
+        {d.balance.length && d.canBill ? (
+          <>
+            {" · "}
+            <Link
+              to={`/billing/balances?q=${encodeURIComponent(p.lastName)}`}
+              className="font-semibold text-accent-700 underline underline-offset-4"
+            >
+              Outstanding balances
+            </Link>
+          </>
+        ) : null}
+      </p>
       <div className="grid gap-6 lg:grid-cols-3">
         {d.clinical ? <ClinicalSummary d={d} /> : null}
         <Card title="Current prescriptions" className={d.clinical ? "" : "lg:col-span-2"}>
@@ -299,7 +339,7 @@ function Timeline({ d }: { d: LD }) {
     ...d.invoices.map((i) => ({
       at: i.at,
       kind: "Invoice",
-      label: `${i.number ? `No. ${i.number}` : "Draft"} · ${formatMoney(i.totalMinor, i.currency)}`,
+      label: `${i.label} · ${formatMoney(i.totalMinor, i.currency)}`,
       status: i.status.replace("_", " "),
       href: `/billing/invoices/${i.id}`,
     })),

@@ -9,7 +9,7 @@ import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { PatientForm, type PatientActionData } from "./patient-form";
 import { patientSchema } from "~/models/patients/patient-schema";
-import { findDuplicates } from "~/models/patients/patients.server";
+import { DUPLICATE_MESSAGE, duplicatesBlockingRegistration } from "~/models/patients/patients.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
@@ -22,18 +22,9 @@ export async function action({ request }: Route.ActionArgs) {
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
   const { confirmDuplicate, allergies, medications, noKnownAllergies, ...demographics } = submission.value;
   const clinical = (CLINICAL_ROLES as readonly string[]).includes(user.role);
-  if (confirmDuplicate !== "yes") {
-    const duplicates = await findDuplicates(demographics);
-    if (duplicates.length) {
-      return data(
-        {
-          ...submission.reply({ formErrors: ["A patient with this name and date of birth is already registered."] }),
-          duplicates,
-        },
-        { status: 409 },
-      );
-    }
-  }
+  const duplicates = await duplicatesBlockingRegistration(demographics, confirmDuplicate);
+  if (duplicates.length)
+    return data({ ...submission.reply({ formErrors: [DUPLICATE_MESSAGE] }), duplicates }, { status: 409 });
   const id = await db.transaction(async (tx) => {
     const [row] = await tx
       .insert(patients)

@@ -27,6 +27,52 @@ export type Duplicate = {
 };
 export type PatientActionData = (SubmissionResult<string[]> & { duplicates?: Duplicate[] }) | undefined;
 
+/**
+ * The warning of every registration path when the same name and date of birth is already
+ * registered: the likely matches (with `onChoose`, a button to take one instead) and the
+ * confirmation the caller supplies.
+ */
+export function DuplicateWarning({
+  duplicates,
+  confirm,
+  onChoose,
+}: {
+  duplicates: Duplicate[];
+  confirm: React.ReactNode;
+  onChoose?: (d: Duplicate) => void;
+}) {
+  return (
+    <Notice tone="warning" title="This may be a patient who is already registered">
+      <p>
+        {duplicates.length === 1 ? "A patient" : `${duplicates.length} patients`} with the same name and date of birth{" "}
+        {duplicates.length === 1 ? "is" : "are"} already registered:
+      </p>
+      <ul className="mt-2 list-disc pl-5">
+        {duplicates.map((d) => (
+          <li key={d.id}>
+            <Link to={`/patients/${d.id}`} className="font-semibold underline">
+              {d.lastName}, {d.firstName}
+            </Link>{" "}
+            born {formatDate(d.dateOfBirth)}
+            {d.phone ? ` · ${d.phone}` : ""}
+            {d.email ? ` · ${d.email}` : ""}
+            {onChoose ? (
+              <button
+                type="button"
+                className="ml-3 min-h-6 font-semibold text-accent-700 underline underline-offset-4"
+                onClick={() => onChoose(d)}
+              >
+                Choose {d.firstName} {d.lastName}
+              </button>
+            ) : null}
+          </li>
+        ))}
+      </ul>
+      {confirm}
+    </Notice>
+  );
+}
+
 /** Registration and demographics; clinical fields only for clinical roles. */
 export function PatientForm({
   id,
@@ -54,28 +100,15 @@ export function PatientForm({
   return (
     <Form method="post" {...getFormProps(form)} className="space-y-6">
       {duplicates.length ? (
-        <Notice tone="warning" title="This may be a patient who is already registered">
-          <p>
-            {duplicates.length === 1 ? "A patient" : `${duplicates.length} patients`} with the same name and date of
-            birth {duplicates.length === 1 ? "is" : "are"} already registered:
-          </p>
-          <ul className="mt-2 list-disc pl-5">
-            {duplicates.map((d) => (
-              <li key={d.id}>
-                <Link to={`/patients/${d.id}`} className="font-semibold underline">
-                  {d.lastName}, {d.firstName}
-                </Link>{" "}
-                born {formatDate(d.dateOfBirth)}
-                {d.phone ? ` · ${d.phone}` : ""}
-                {d.email ? ` · ${d.email}` : ""}
-              </li>
-            ))}
-          </ul>
-          <label className="mt-3 flex items-center gap-2 font-semibold">
-            <input type="checkbox" name="confirmDuplicate" value="yes" className="size-4" />
-            This is a different person: save anyway
-          </label>
-        </Notice>
+        <DuplicateWarning
+          duplicates={duplicates}
+          confirm={
+            <label className="mt-3 flex items-center gap-2 font-semibold">
+              <input type="checkbox" name="confirmDuplicate" value="yes" className="size-4" />
+              This is a different person: save anyway
+            </label>
+          }
+        />
       ) : form.errors?.length ? (
         <Notice tone="error" title="Not saved">
           {form.errors.join(" ")}

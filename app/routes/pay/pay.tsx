@@ -11,6 +11,7 @@ import { latestOnlineAttempt, startCheckout } from "~/models/billing/checkout.se
 import { BillingError, invoiceLabel, practiceBilling } from "~/models/billing/invoices.server";
 import { formatDate, formatMoney } from "~/lib/format";
 import { audit } from "~/utils/audit.server";
+import { getSessionUser } from "~/utils/session.server";
 
 /**
  * The patient's pay-by-link page: no sign-in; the signed, expiring token in the address is the
@@ -21,6 +22,9 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const practice = await practiceBilling();
   const url = new URL(request.url);
   const attempt = await latestOnlineAttempt(d.invoice.id);
+  // The patient came from the portal (signed in as this invoice's patient): offer the way back.
+  const viewer = await getSessionUser(request);
+  const fromPortal = viewer?.role === "patient" && viewer.patientId === d.patient.id;
   await audit({
     action: "billing.pay_link_opened",
     entityType: "invoice",
@@ -55,6 +59,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     attempt: attempt ? { status: attempt.status, problem: attempt.problem } : null,
     linkExpires: formatDate(expiresAt, { timeZone: practice.timeZone, style: "long" }),
     pdfHref: `/pay/${params.token}/invoice.pdf`,
+    fromPortal,
   };
 }
 
@@ -103,6 +108,14 @@ export default function PayPage({ loaderData: d, actionData }: Route.ComponentPr
             {d.checkout === "done"
               ? "Your payment has been received. A receipt is on its way by e-mail."
               : "This invoice has been paid in full."}
+            {d.fromPortal ? (
+              <>
+                {" "}
+                <a href="/portal/invoices" className="font-semibold underline underline-offset-4">
+                  Back to your invoices in the portal
+                </a>
+              </>
+            ) : null}
           </Notice>
         ) : null}
         {confirming ? (
@@ -184,6 +197,13 @@ export default function PayPage({ loaderData: d, actionData }: Route.ComponentPr
             You will be taken to our card payment provider's secure page, then brought back here.
           </p>
         </Form>
+      ) : null}
+      {d.fromPortal ? (
+        <p className="mt-8 text-sm">
+          <a href="/portal" className="font-semibold text-accent-700 underline underline-offset-4">
+            Back to the patient portal
+          </a>
+        </p>
       ) : null}
       <p className="mt-8 text-sm text-muted">
         <a href={d.pdfHref} className="font-semibold text-accent-700 underline underline-offset-4">

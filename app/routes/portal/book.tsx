@@ -1,4 +1,5 @@
 import { parseWithZod } from "@conform-to/zod/v4";
+import { useEffect, useRef } from "react";
 import { data, Form, Link, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/book";
@@ -20,6 +21,8 @@ const bookSchema = z.object({
   providerId: z.uuid({ error: "Choose a time." }),
   start: z.iso.datetime({ offset: true, error: "Choose a time." }),
   siteId: z.uuid({ error: "Choose where." }).optional(),
+  /** "review" shows the chosen time for a check; only "confirm" books it. */
+  step: z.enum(["review", "confirm"]).default("review"),
 });
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -66,6 +69,16 @@ export async function action({ request }: Route.ActionArgs) {
       { status: 422 },
     );
   }
+  // Choosing a time only asks for a check of the details; nothing is booked until it is confirmed.
+  if (v.step === "review")
+    return {
+      review: {
+        appointmentTypeId: v.appointmentTypeId,
+        providerId: v.providerId,
+        start: v.start,
+        siteId: v.siteId ?? "",
+      },
+    };
   try {
     await bookAppointment(
       user,
@@ -101,7 +114,21 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
   const dayLabel = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(
     new Date(`${date}T12:00:00Z`),
   );
-  const formError = actionData?.error?.[""];
+  const reply = actionData as
+    | {
+        error?: Record<string, string[] | null> | null;
+        review?: { appointmentTypeId: string; providerId: string; start: string; siteId: string };
+      }
+    | undefined;
+  const formError = reply?.error?.[""];
+  const review = navigation.state === "idle" ? reply?.review : undefined;
+  const chosen = review ? slots.find((s) => s.providerId === review.providerId && s.start === review.start) : undefined;
+  const chosenType = review ? types.find((t) => t.id === review.appointmentTypeId) : undefined;
+  const chosenSite = review ? sites.find((x) => x.id === review.siteId) : undefined;
+  const confirmRef = useRef<HTMLHeadingElement>(null);
+  useEffect(() => {
+    if (review) confirmRef.current?.focus();
+  }, [review]);
   return (
     <div className="mx-auto max-w-2xl space-y-6">
       <PageHeader
@@ -160,6 +187,50 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
               </Button>
             </Form>
           </Card>
+          {review && chosen ? (
+            <section
+              aria-labelledby="confirm-heading"
+              className="rounded-lg border-2 border-accent-700 bg-white p-5 shadow-sm"
+              data-testid="booking-review"
+            >
+              <h2 id="confirm-heading" ref={confirmRef} tabIndex={-1} className="text-lg font-semibold">
+                Check and confirm your visit
+              </h2>
+              <dl className="mt-3 grid grid-cols-[8rem_1fr] gap-x-4 gap-y-1 text-sm">
+                <dt className="font-semibold">Visit</dt>
+                <dd>{chosenType ? `${chosenType.name} (${chosenType.durationMinutes} min)` : "Eye exam"}</dd>
+                <dt className="font-semibold">When</dt>
+                <dd>
+                  {dayLabel}, {time.format(new Date(chosen.start))}
+                </dd>
+                <dt className="font-semibold">With</dt>
+                <dd>{chosen.providerName}</dd>
+                <dt className="font-semibold">Where</dt>
+                <dd>{chosenSite ? `${practice}, ${chosenSite.name}` : practice}</dd>
+              </dl>
+              <p className="mt-3 text-sm text-muted">
+                Nothing is booked until you press “Book this visit”. You will get a confirmation by e-mail.
+              </p>
+              <div className="mt-4 flex flex-wrap items-center gap-4">
+                <Form method="post">
+                  <input type="hidden" name="step" value="confirm" />
+                  <input type="hidden" name="appointmentTypeId" value={review.appointmentTypeId} />
+                  <input type="hidden" name="providerId" value={review.providerId} />
+                  <input type="hidden" name="start" value={review.start} />
+                  {review.siteId ? <input type="hidden" name="siteId" value={review.siteId} /> : null}
+                  <Button type="submit" pending={navigation.state !== "idle"}>
+                    Book this visit
+                  </Button>
+                </Form>
+                <Link
+                  to={`?${params.toString()}`}
+                  className="font-semibold text-accent-700 underline underline-offset-4"
+                >
+                  Choose another time
+                </Link>
+              </div>
+            </section>
+          ) : null}
           <Card title={`Free times on ${dayLabel}`}>
             {formError?.length ? (
               <div className="mb-4">
@@ -173,6 +244,7 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
                 {slots.map((s) => (
                   <li key={`${s.providerId}-${s.start}`}>
                     <Form method="post">
+                      <input type="hidden" name="step" value="review" />
                       <input type="hidden" name="appointmentTypeId" value={typeId} />
                       <input type="hidden" name="providerId" value={s.providerId} />
                       <input type="hidden" name="start" value={s.start} />
@@ -180,6 +252,7 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
                       <button
                         type="submit"
                         disabled={navigation.state !== "idle"}
+                        aria-pressed={chosen?.start === s.start && chosen?.providerId === s.providerId}
                         className={buttonClass("secondary", "w-full flex-col !items-start !gap-0 text-left")}
                       >
                         <span className="text-base">{time.format(new Date(s.start))}</span>

@@ -9,6 +9,7 @@ import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { formatMoney } from "~/lib/format";
 import { signPayLink } from "~/models/billing/checkout.server";
+import { invoiceLabel } from "~/models/billing/invoices.server";
 import { audit } from "~/utils/audit.server";
 
 const STATUS = {
@@ -31,7 +32,8 @@ export async function loader({ request }: Route.LoaderArgs) {
     entityId: patientId,
     request,
   });
-  return { invoices: list, timeZone: settings.timeZone };
+  // The practice's own numbers ("INV-000002"), as on the invoice PDF and the front desk's screens.
+  return { invoices: list.map((inv) => ({ ...inv, label: invoiceLabel(inv.number) })), timeZone: settings.timeZone };
 }
 
 /** "Pay now" takes the patient into the same signed pay-by-link flow the practice e-mails. */
@@ -66,7 +68,7 @@ export default function PortalInvoices({ loaderData, actionData }: Route.Compone
           return (
             <li key={inv.id}>
               <Card
-                title={`Invoice ${inv.number ?? ""}`}
+                title={`Invoice ${inv.label}`}
                 actions={
                   <StatusBadge tone={inv.status === "paid" ? "success" : inv.status === "void" ? "error" : "warning"}>
                     {STATUS[inv.status]}

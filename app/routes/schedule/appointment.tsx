@@ -224,6 +224,17 @@ export default function AppointmentPage({ loaderData, actionData }: Route.Compon
               </Link>
             </p>
           ) : null}
+          {(role === "owner" || role === "receptionist") && a.status !== "cancelled" && a.status !== "no_show" ? (
+            <p className="mt-4">
+              <Link
+                to={`/billing/invoices/new?appointment=${a.id}`}
+                className="font-semibold text-accent-700 underline underline-offset-4"
+              >
+                Raise invoice
+              </Link>{" "}
+              <span className="text-sm text-muted">with this appointment type&apos;s fee filled in</span>
+            </p>
+          ) : null}
           <p className="mt-4">
             <Link
               to={`/patients/${a.patientId}`}

@@ -1,9 +1,11 @@
-import { useEffect, useId, useState } from "react";
+import { useEffect, useId, useMemo, useState } from "react";
 import { useFetcher } from "react-router";
 import { ErrorList } from "~/components/forms";
 import { Button } from "~/components/ui/button";
 import { Input, Select, Textarea } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
+import { matchCount } from "~/components/patient-search";
+import { DuplicateWarning, type Duplicate } from "~/routes/patients/patient-form";
 
 export type PatientOption = { id: string; name: string; dateOfBirth: string; email: string | null };
 export type BookingDefaults = {
@@ -30,16 +32,47 @@ export function formatDob(d: string) {
   );
 }
 
+function readReply<T extends object>(raw: T | string | undefined): T | undefined {
+  if (typeof raw !== "string") return raw;
+  try {
+    const parsed: unknown = JSON.parse(raw);
+    return parsed && typeof parsed === "object" ? (parsed as T) : undefined;
+  } catch {
+    return undefined;
+  }
+}
+
 function PatientPicker({ initial, errors }: { initial: PatientOption | null; errors?: string[] }) {
-  // The same search as the patients list (GET /api/patients?q=).
-  const search = useFetcher<{
+  // The same search as the patients list (GET /api/patients?q=): a page at a time, with the count.
+  type Found = {
+    q: string;
+    offset: number;
+    total: number;
+    totalIsExact: boolean;
     results: { id: string; firstName: string; lastName: string; dateOfBirth: string; email: string | null }[];
-  }>();
-  const register = useFetcher<{ patient?: PatientOption; error?: string; fieldErrors?: Record<string, string[]> }>();
+  };
+  const search = useFetcher<Found>();
+  type Registered = {
+    patient?: PatientOption;
+    error?: string;
+    detail?: string;
+    fieldErrors?: Record<string, string[]>;
+    duplicates?: Duplicate[];
+  };
+  const registerFetcher = useFetcher<Registered | string>();
+  // Refusals come back as problem details (application/problem+json), which the fetcher hands over as text.
+  const register = {
+    state: registerFetcher.state,
+    submit: registerFetcher.submit,
+    data: useMemo(() => readReply(registerFetcher.data), [registerFetcher.data]),
+  };
   const [q, setQ] = useState("");
   const [chosen, setChosen] = useState<PatientOption | null>(initial);
   const [extra, setExtra] = useState<PatientOption[]>(initial ? [initial] : []);
   const [newPatient, setNewPatient] = useState({ firstName: "", lastName: "", dateOfBirth: "", email: "", phone: "" });
+  const [confirmDuplicate, setConfirmDuplicate] = useState(false);
+  const [found, setFound] = useState<Found | null>(null);
+  const [dismissed, setDismissed] = useState<unknown>(null);
   const id = useId();
 
   useEffect(() => {
@@ -48,6 +81,19 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
     return () => clearTimeout(t);
     // eslint-disable-next-line react-hooks/exhaustive-deps
   }, [q]);
+
+  // Each answer starts a new list (offset 0) or extends the one shown (the next results).
+  const [searchSeen, setSearchSeen] = useState(search.data);
+  if (search.data !== searchSeen) {
+    setSearchSeen(search.data);
+    const d = search.data;
+    if (d && Array.isArray(d.results))
+      setFound((prev) =>
+        d.offset > 0 && prev && prev.q === d.q
+          ? { ...d, results: [...prev.results, ...d.results.filter((r) => !prev.results.some((p) => p.id === r.id))] }
+          : d,
+      );
+  }
 
   // A patient just registered here is chosen and the quick form emptied.
   const [registeredSeen, setRegisteredSeen] = useState(register.data);
@@ -58,21 +104,29 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
       setExtra((list) => [p, ...list.filter((x) => x.id !== p.id)]);
       setChosen(p);
       setNewPatient({ firstName: "", lastName: "", dateOfBirth: "", email: "", phone: "" });
+      setConfirmDuplicate(false);
     }
   }
 
-  const found: PatientOption[] =
-    q.trim().length >= 2
-      ? (search.data?.results ?? []).map((r) => ({
-          id: r.id,
-          name: `${r.firstName} ${r.lastName}`,
-          dateOfBirth: r.dateOfBirth,
-          email: r.email,
-        }))
-      : [];
-  const options = [...extra, ...found.filter((f) => !extra.some((e) => e.id === f.id))];
-  const regErrors = register.data?.fieldErrors ?? {};
+  function takeExisting(d: Duplicate) {
+    const p = { id: d.id, name: `${d.firstName} ${d.lastName}`, dateOfBirth: d.dateOfBirth, email: d.email };
+    setExtra((list) => [p, ...list.filter((x) => x.id !== p.id)]);
+    setChosen(p);
+    setNewPatient({ firstName: "", lastName: "", dateOfBirth: "", email: "", phone: "" });
+    setConfirmDuplicate(false);
+    setDismissed(register.data);
+  }
 
+  const current = q.trim().length >= 2 && found && found.q === q.trim().slice(0, 100) ? found : null;
+  const foundOptions: PatientOption[] = (current?.results ?? []).map((r) => ({
+    id: r.id,
+    name: `${r.firstName} ${r.lastName}`,
+    dateOfBirth: r.dateOfBirth,
+    email: r.email,
+  }));
+  const options = [...extra, ...foundOptions.filter((f) => !extra.some((e) => e.id === f.id))];
+  const regErrors = register.data?.fieldErrors ?? {};
+  const duplicates = register.data && register.data !== dismissed ? (register.data.duplicates ?? []) : [];
   return (
     <fieldset className="space-y-3" aria-describedby={errors?.length ? `${id}-err` : undefined}>
       <legend className="mb-1 text-sm font-semibold">Patient</legend>
@@ -89,11 +143,13 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
           placeholder="e.g. Achterberg or 17/04/1979"
         />
       </div>
-      <div aria-live="polite" className="text-sm text-muted">
+      <div aria-live="polite" className="text-sm text-muted" data-testid="booking-patient-count">
         {search.state === "loading"
           ? "Searching…"
-          : q.trim().length >= 2 && found.length === 0 && search.data
-            ? "No patient matches; register them below."
+          : current
+            ? current.total === 0
+              ? "No patient matches; register them below."
+              : `${matchCount(current.total, current.totalIsExact)}${current.results.length < current.total ? ` · ${current.results.length} shown` : ""}.`
             : null}
       </div>
       {options.length ? (
@@ -122,9 +178,44 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
           ))}
         </ul>
       ) : null}
+      {current && current.results.length < current.total ? (
+        <Button
+          type="button"
+          variant="secondary"
+          pending={search.state !== "idle"}
+          onClick={() =>
+            search.load(`/api/patients?q=${encodeURIComponent(current.q)}&offset=${current.results.length}`)
+          }
+        >
+          Show more patients
+        </Button>
+      ) : null}
       <ErrorList id={`${id}-err`} errors={errors} />
       <details className="rounded-md border border-line p-3">
         <summary className="cursor-pointer text-sm font-semibold text-accent-700">Register a new patient</summary>
+        {duplicates.length ? (
+          <div className="mt-3">
+            <DuplicateWarning
+              duplicates={duplicates}
+              onChoose={takeExisting}
+              confirm={
+                <label className="mt-3 flex items-center gap-2 font-semibold">
+                  <input
+                    type="checkbox"
+                    checked={confirmDuplicate}
+                    onChange={(e) => setConfirmDuplicate(e.target.checked)}
+                    className="size-4"
+                  />
+                  This is a different person: register anyway
+                </label>
+              }
+            />
+          </div>
+        ) : (register.data?.error || register.data?.detail) && register.data !== dismissed ? (
+          <p className="mt-3 text-sm font-semibold text-red-800" role="alert">
+            {register.data.error ?? register.data.detail}
+          </p>
+        ) : null}
         <div className="mt-3 grid gap-3 sm:grid-cols-2">
           {(
             [
@@ -157,11 +248,10 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
           className="mt-3"
           pending={register.state !== "idle"}
           onClick={() =>
-            register.submit(newPatient, {
-              method: "post",
-              action: "/api/schedule-patients",
-              encType: "application/json",
-            })
+            register.submit(
+              { ...newPatient, confirmDuplicate: confirmDuplicate ? "yes" : "" },
+              { method: "post", action: "/api/schedule-patients", encType: "application/json" },
+            )
           }
         >
           Register and choose

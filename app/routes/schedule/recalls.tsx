@@ -1,5 +1,5 @@
 import { useEffect, useState } from "react";
-import { data, Form, useFetcher, useRevalidator } from "react-router";
+import { data, Form, Link, useFetcher, useSearchParams } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/recalls";
 import { formatDob } from "./booking-form";
@@ -19,6 +19,8 @@ export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, STAFF_ROLES);
   const url = new URL(request.url);
   const dueByParam = url.searchParams.get("dueBy");
+  const dueFromParam = url.searchParams.get("dueFrom");
+  const batchParam = url.searchParams.get("batch");
   const group = url.searchParams.get("group");
   const { timeZone } = await practiceSchedule();
   const today = localParts(new Date(), timeZone).date;
@@ -27,7 +29,21 @@ export async function loader({ request }: Route.LoaderArgs) {
     group: (group === "child" || group === "adult" ? group : "all") as "all" | "child" | "adult",
     includeBooked: url.searchParams.get("booked") === "1",
     includeRecalled: url.searchParams.get("recalled") === "1",
+    dueFrom: dueFromParam && /^\d{4}-\d{2}-\d{2}$/.test(dueFromParam) ? dueFromParam : undefined,
+    keepBatch: batchParam && z.uuid().safeParse(batchParam).success ? batchParam : undefined,
   };
+  if (filters.dueFrom && filters.dueFrom > filters.dueBy) {
+    return {
+      rows: [],
+      multiSite: false,
+      today,
+      dueBy: filters.dueBy,
+      filters,
+      thisMonth: monthOf(today),
+      settings: { child: 0, adult: 0, under: 0 },
+      filterError: "The first day comes after the last day: swap them, or clear the first day.",
+    };
+  }
   const list = await recallList(filters);
   const { rows, dueBy } = list;
   const multiSite = (await activeSites()).length > 1;
@@ -37,12 +53,22 @@ export async function loader({ request }: Route.LoaderArgs) {
     today: list.today,
     dueBy,
     filters,
+    thisMonth: monthOf(list.today),
     settings: {
       child: list.settings.recallMonthsChild,
       adult: list.settings.recallMonthsAdult,
       under: list.settings.childUnderYears,
     },
+    filterError: null,
   };
+}
+
+/** The first and last day of the month of a YYYY-MM-DD day. */
+function monthOf(day: string) {
+  const [y, m] = day.split("-").map(Number) as [number, number];
+  const last = new Date(Date.UTC(y, m, 0)).getUTCDate();
+  const mm = String(m).padStart(2, "0");
+  return { from: `${y}-${mm}-01`, to: `${y}-${mm}-${String(last).padStart(2, "0")}` };
 }
 
 const sendSchema = z.object({
@@ -102,9 +128,16 @@ function BatchProgress({ batchId, total, onFinished }: { batchId: string; total:
 }
 
 export default function Recalls({ loaderData }: Route.ComponentProps) {
-  const { rows, dueBy, filters, settings, today } = loaderData;
+  const { rows, dueBy, filters, settings, today, thisMonth, filterError } = loaderData;
   const send = useFetcher<typeof action>();
-  const revalidator = useRevalidator();
+  const [params, setParams] = useSearchParams();
+  // When a batch has finished the list is reloaded with the batch kept in it, so the rows just
+  // recalled stay on screen with their state instead of vanishing from "not yet recalled".
+  const showBatch = (batchId: string) => {
+    const next = new URLSearchParams(params);
+    next.set("batch", batchId);
+    setParams(next, { preventScrollReset: true, replace: true });
+  };
   const [selected, setSelected] = useState<Set<string>>(new Set());
   const emailable = rows.filter((r) => r.email && r.recallsByEmail);
   // A new list (filter changed, batch sent) starts with nothing selected.
@@ -122,7 +155,28 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
         description={`Patients due for their routine exam. Interval: the optometrist's plan on the last exam, else the visit type's, else ${settings.child} months under ${settings.under} and ${settings.adult} months from ${settings.under} (practice settings; common practice).`}
       />
       <ScheduleNav />
-      <Form method="get" className="mb-4 flex flex-wrap items-end gap-3">
+      <Form
+        method="get"
+        className="mb-4 flex flex-wrap items-end gap-3"
+        aria-describedby={filterError ? "recall-filter-error" : undefined}
+      >
+        <div>
+          <label htmlFor="dueFrom" className="mb-1 block text-sm font-semibold">
+            Due from (optional)
+          </label>
+          <Input
+            id="dueFrom"
+            type="date"
+            name="dueFrom"
+            defaultValue={filters.dueFrom ?? ""}
+            className="w-44"
+            aria-describedby="dueFrom-hint"
+            aria-invalid={filterError ? true : undefined}
+          />
+          <span id="dueFrom-hint" className="sr-only">
+            Leave empty to include everyone already overdue.
+          </span>
+        </div>
         <div>
           <label htmlFor="dueBy" className="mb-1 block text-sm font-semibold">
             Due on or before
@@ -162,14 +216,27 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
         <Button type="submit" variant="secondary">
           Filter
         </Button>
+        <Link
+          to={`?dueFrom=${thisMonth.from}&dueBy=${thisMonth.to}`}
+          className="pb-2 text-sm font-semibold text-accent-700 underline underline-offset-4"
+        >
+          Due this month
+        </Link>
       </Form>
+      {filterError ? (
+        <div className="mb-4" id="recall-filter-error">
+          <Notice tone="error" title="Check the dates">
+            {filterError}
+          </Notice>
+        </div>
+      ) : null}
       {batch ? (
         <div className="mb-4 rounded-lg border border-line bg-white p-4">
           <BatchProgress
             key={batch.batchId}
             batchId={batch.batchId}
             total={batch.total}
-            onFinished={() => revalidator.revalidate()}
+            onFinished={() => showBatch(batch.batchId)}
           />
           {batch.alreadyRecalled ? (
             <p className="mt-2 text-sm text-muted">
@@ -188,12 +255,7 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
       <send.Form method="post">
         <input type="hidden" name="intent" value="send" />
         <Card
-          title={`${rows.length} patient${rows.length === 1 ? "" : "s"} due by ${dueBy}`}
-          actions={
-            <Button type="submit" pending={send.state !== "idle"} disabled={selected.size === 0}>
-              Send recall e-mails ({selected.size})
-            </Button>
-          }
+          title={`${rows.length} patient${rows.length === 1 ? "" : "s"} due ${filters.dueFrom ? `from ${formatDob(filters.dueFrom)} ` : ""}by ${formatDob(dueBy)}`}
         >
           {rows.length === 0 ? (
             <p className="text-muted">Nobody is due in this range.</p>
@@ -275,23 +337,35 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
                               {r.email ? "Opted out of recall e-mails" : "No e-mail address"}
                             </StatusBadge>
                           ) : r.lastRecall ? (
-                            <StatusBadge
-                              tone={
-                                r.lastRecall.status === "sent"
-                                  ? "success"
+                            <>
+                              <StatusBadge
+                                tone={
+                                  r.lastRecall.status === "sent"
+                                    ? "success"
+                                    : r.lastRecall.status === "failed"
+                                      ? "error"
+                                      : "info"
+                                }
+                              >
+                                {r.lastRecall.status === "sent"
+                                  ? "Recall sent"
                                   : r.lastRecall.status === "failed"
-                                    ? "error"
-                                    : "info"
-                              }
-                            >
-                              {r.lastRecall.status === "sent"
-                                ? "Recall sent"
-                                : r.lastRecall.status === "failed"
-                                  ? "Recall failed"
-                                  : r.lastRecall.status === "skipped"
-                                    ? "Recall not sent"
-                                    : "Recall waiting"}
-                            </StatusBadge>
+                                    ? "Recall failed"
+                                    : r.lastRecall.status === "skipped"
+                                      ? "Recall not sent"
+                                      : "Recall waiting"}
+                              </StatusBadge>
+                              <span className="block text-muted">
+                                {r.lastRecall.status === "skipped" && r.lastRecall.skippedReason
+                                  ? `${r.lastRecall.skippedReason} · `
+                                  : ""}
+                                {new Date(r.lastRecall.at).toLocaleDateString("en-GB", {
+                                  day: "numeric",
+                                  month: "short",
+                                  year: "numeric",
+                                })}
+                              </span>
+                            </>
                           ) : r.nextBooked ? (
                             <span className="text-muted">Booked {r.nextBooked}</span>
                           ) : (
@@ -306,6 +380,18 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
             </div>
           )}
         </Card>
+        {/* Stays at the bottom of the window while a long list scrolls under it. */}
+        <div
+          className="sticky bottom-0 z-10 -mx-1 mt-2 flex flex-wrap items-center gap-3 rounded-t-lg border border-line bg-white px-4 py-3 shadow-lg"
+          data-testid="recall-send-bar"
+        >
+          <Button type="submit" pending={send.state !== "idle"} disabled={selected.size === 0}>
+            Send recall e-mails ({selected.size})
+          </Button>
+          <span className="text-sm text-muted">
+            {selected.size === 0 ? "Tick the patients to recall." : `${selected.size} chosen.`}
+          </span>
+        </div>
       </send.Form>
     </>
   );

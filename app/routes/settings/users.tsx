@@ -6,7 +6,7 @@ import { data, Form, useFetcher, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/users";
 import { changeRole, inviteUser, setActive, UserAdminError } from "~/models/users/users.server";
-import { Field, SelectField } from "~/components/forms";
+import { Field, SelectField, useResetAfterSuccess } from "~/components/forms";
 import { DataTable } from "~/components/data-table";
 import { RowIntentButton, SettingsPage } from "~/components/settings-page";
 import { Button } from "~/components/ui/button";
@@ -141,6 +141,7 @@ const userColumns = [
 
 export default function UsersSettings({ loaderData, actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
+  const inviteRef = useResetAfterSuccess("invite");
   const [form, fields] = useForm({
     id: "invite",
     lastResult: navigation.state === "idle" ? actionData : null,
@@ -167,7 +168,7 @@ export default function UsersSettings({ loaderData, actionData }: Route.Componen
       form={{
         title: "Invite a colleague",
         content: (
-          <Form method="post" {...getFormProps(form)} className="grid gap-4 sm:grid-cols-2">
+          <Form method="post" {...getFormProps(form)} ref={inviteRef} className="grid gap-4 sm:grid-cols-2">
             <input type="hidden" name="intent" value="invite" />
             <Field label="Name" errors={fields.name.errors} inputProps={getInputProps(fields.name, { type: "text" })} />
             <Field

@@ -1,0 +1,205 @@
+import { and, eq, ilike, inArray, sql } from "drizzle-orm";
+import { Form, Link, useSearchParams } from "react-router";
+import { z } from "zod";
+import type { Route } from "./+types/balances";
+import { BillingNav } from "~/components/billing/invoice-status";
+import { PageHeader } from "~/components/page-header";
+import { buttonClass } from "~/components/ui/button";
+import { Card } from "~/components/ui/card";
+import { Input, Select } from "~/components/ui/input";
+import { invoices, patients, practiceSettings } from "~/db/schema";
+import { formatMoney } from "~/lib/format";
+import { requireRole } from "~/utils/auth.server";
+import { db } from "~/utils/db.server";
+import { BILLING_ROLES } from "~/models/billing/invoices.server";
+
+const PAGE_SIZE = 25;
+const filterSchema = z.object({
+  q: z.string().trim().max(80).catch(""),
+  sort: z.enum(["owed", "oldest"]).catch("owed"),
+  page: z.coerce.number().int().min(1).max(100_000).catch(1),
+});
+
+/** Patients who owe money: the unpaid part of their open and part-paid invoices, a page at a time. */
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireRole(request, BILLING_ROLES);
+  const f = filterSchema.parse(Object.fromEntries(new URL(request.url).searchParams));
+  const owedMinor = sql<number>`sum(${invoices.totalMinor} - ${invoices.paidMinor})::int`;
+  const oldest = sql<Date>`min(coalesce(${invoices.issuedAt}, ${invoices.createdAt}))`;
+  const cond = and(
+    inArray(invoices.status, ["open", "partially_paid"]),
+    f.q
+      ? ilike(sql`${patients.firstName} || ' ' || ${patients.lastName}`, `%${f.q.replace(/[%_\\]/g, "\\$&")}%`)
+      : undefined,
+  );
+  const grouped = db
+    .select({
+      patientId: invoices.patientId,
+      firstName: patients.firstName,
+      lastName: patients.lastName,
+      currency: invoices.currency,
+      owedMinor: owedMinor.as("owed_minor"),
+      invoiceCount: sql<number>`count(*)::int`.as("invoice_count"),
+      oldest: oldest.as("oldest"),
+    })
+    .from(invoices)
+    .innerJoin(patients, eq(patients.id, invoices.patientId))
+    .where(cond)
+    .groupBy(invoices.patientId, patients.firstName, patients.lastName, invoices.currency)
+    .as("owed");
+  const order =
+    f.sort === "oldest"
+      ? sql`${grouped.oldest} asc, ${grouped.patientId}`
+      : sql`${grouped.owedMinor} desc, ${grouped.patientId}`;
+  const [rows, [totals], [settings]] = await Promise.all([
+    db
+      .select()
+      .from(grouped)
+      .orderBy(order)
+      .limit(PAGE_SIZE)
+      .offset((f.page - 1) * PAGE_SIZE),
+    db
+      .select({
+        patients: sql<number>`count(*)::int`,
+        owedMinor: sql<number>`coalesce(sum(${grouped.owedMinor}), 0)::int`,
+      })
+      .from(grouped),
+    db
+      .select({ timeZone: practiceSettings.timeZone, currency: practiceSettings.currency })
+      .from(practiceSettings)
+      .where(eq(practiceSettings.id, 1)),
+  ]);
+  const fmt = new Intl.DateTimeFormat("en-GB", {
+    timeZone: settings?.timeZone ?? "Europe/London",
+    day: "numeric",
+    month: "short",
+    year: "numeric",
+  });
+  const total = totals?.patients ?? 0;
+  return {
+    filter: f,
+    total,
+    totalOwed: formatMoney(totals?.owedMinor ?? 0, settings?.currency ?? "GBP"),
+    pageCount: Math.max(1, Math.ceil(total / PAGE_SIZE)),
+    rows: rows.map((r) => ({
+      patientId: r.patientId,
+      name: `${r.lastName}, ${r.firstName}`,
+      owed: formatMoney(r.owedMinor, r.currency),
+      invoices: r.invoiceCount,
+      oldest: fmt.format(new Date(r.oldest)),
+    })),
+  };
+}
+
+export default function Balances({ loaderData }: Route.ComponentProps) {
+  const { rows, filter, pageCount, total, totalOwed } = loaderData;
+  const [params] = useSearchParams();
+  const pageLink = (page: number) => {
+    const p = new URLSearchParams(params);
+    p.set("page", String(page));
+    return `?${p.toString()}`;
+  };
+  return (
+    <>
+      <PageHeader title="Outstanding balances" description="Patients with issued invoices not yet paid in full." />
+      <BillingNav />
+      <Card>
+        <Form method="get" className="mb-4 flex flex-wrap items-end gap-3" role="search" aria-label="Filter balances">
+          <div className="min-w-56 flex-1">
+            <label htmlFor="q" className="mb-1 block text-sm font-semibold">
+              Patient
+            </label>
+            <Input id="q" name="q" type="search" defaultValue={filter.q} />
+          </div>
+          <div>
+            <label htmlFor="sort" className="mb-1 block text-sm font-semibold">
+              Order
+            </label>
+            <Select id="sort" name="sort" defaultValue={filter.sort} className="w-56">
+              <option value="owed">Largest balance first</option>
+              <option value="oldest">Oldest unpaid invoice first</option>
+            </Select>
+          </div>
+          <button type="submit" className={buttonClass("secondary")}>
+            Show
+          </button>
+        </Form>
+        <p className="mb-3 text-sm" data-testid="balances-summary">
+          {total === 0
+            ? "Nobody owes anything."
+            : `${total} ${total === 1 ? "patient owes" : "patients owe"} ${totalOwed} in all.`}
+        </p>
+        {rows.length ? (
+          <div className="overflow-x-auto">
+            <table className="w-full text-left text-sm">
+              <caption className="sr-only">Outstanding balances</caption>
+              <thead className="border-b border-line text-muted">
+                <tr>
+                  <th scope="col" className="py-2 pr-4 font-semibold">
+                    Patient
+                  </th>
+                  <th scope="col" className="py-2 pr-4 text-right font-semibold">
+                    Owed
+                  </th>
+                  <th scope="col" className="py-2 pr-4 text-right font-semibold">
+                    Invoices
+                  </th>
+                  <th scope="col" className="py-2 pr-4 font-semibold">
+                    Oldest unpaid since
+                  </th>
+                  <th scope="col" className="py-2 font-semibold">
+                    <span className="sr-only">Actions</span>
+                  </th>
+                </tr>
+              </thead>
+              <tbody className="divide-y divide-line">
+                {rows.map((r) => (
+                  <tr key={r.patientId}>
+                    <td className="py-3 pr-4">
+                      <Link
+                        to={`/patients/${r.patientId}`}
+                        className="font-semibold text-accent-700 underline underline-offset-4"
+                      >
+                        {r.name}
+                      </Link>
+                    </td>
+                    <td className="py-3 pr-4 text-right tabular-nums">{r.owed}</td>
+                    <td className="py-3 pr-4 text-right tabular-nums">{r.invoices}</td>
+                    <td className="py-3 pr-4">{r.oldest}</td>
+                    <td className="py-3">
+                      <Link
+                        to={`/billing?status=due&q=${encodeURIComponent(r.name.split(", ").reverse().join(" "))}`}
+                        className="font-semibold text-accent-700 underline underline-offset-4"
+                      >
+                        Invoices<span className="sr-only"> of {r.name}</span>
+                      </Link>
+                    </td>
+                  </tr>
+                ))}
+              </tbody>
+            </table>
+          </div>
+        ) : null}
+        <nav aria-label="Pages" className="mt-4 flex items-center justify-between text-sm">
+          <span className="text-muted">
+            Page {filter.page} of {pageCount}
+          </span>
+          <span className="flex gap-2">
+            {filter.page > 1 ? (
+              <Link to={pageLink(filter.page - 1)} className={buttonClass("secondary", "px-3 py-1")}>
+                Previous page
+              </Link>
+            ) : null}
+            {filter.page < pageCount ? (
+              <Link to={pageLink(filter.page + 1)} className={buttonClass("secondary", "px-3 py-1")}>
+                Next page
+              </Link>
+            ) : null}
+          </span>
+        </nav>
+      </Card>
+    </>
+  );
+}
+
+export const meta: Route.MetaFunction = () => [{ title: "Outstanding balances · Dioptra" }];
