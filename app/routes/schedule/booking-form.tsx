@@ -1,4 +1,4 @@
-import { useEffect, useId, useMemo, useState } from "react";
+import { useEffect, useId, useState } from "react";
 import { useFetcher } from "react-router";
 import { ErrorList } from "~/components/forms";
 import { Button } from "~/components/ui/button";
@@ -32,16 +32,6 @@ export function formatDob(d: string) {
   );
 }
 
-function readReply<T extends object>(raw: T | string | undefined): T | undefined {
-  if (typeof raw !== "string") return raw;
-  try {
-    const parsed: unknown = JSON.parse(raw);
-    return parsed && typeof parsed === "object" ? (parsed as T) : undefined;
-  } catch {
-    return undefined;
-  }
-}
-
 function PatientPicker({ initial, errors }: { initial: PatientOption | null; errors?: string[] }) {
   // The same search as the patients list (GET /api/patients?q=): a page at a time, with the count.
   type Found = {
@@ -59,12 +49,33 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
     fieldErrors?: Record<string, string[]>;
     duplicates?: Duplicate[];
   };
-  const registerFetcher = useFetcher<Registered | string>();
-  // Refusals come back as problem details (application/problem+json), which the fetcher hands over as text.
+  // Registration posts JSON to the API with fetch: a refusal (400, 409 with the likely matches)
+  // comes back as problem details, read here as the JSON it is.
+  const [registerState, setRegisterState] = useState<"idle" | "submitting">("idle");
+  const [registered, setRegistered] = useState<Registered | undefined>(undefined);
   const register = {
-    state: registerFetcher.state,
-    submit: registerFetcher.submit,
-    data: useMemo(() => readReply(registerFetcher.data), [registerFetcher.data]),
+    state: registerState,
+    data: registered,
+    async submit(body: Record<string, string>) {
+      setRegisterState("submitting");
+      try {
+        const res = await fetch("/api/schedule-patients", {
+          method: "POST",
+          headers: { "content-type": "application/json", accept: "application/json" },
+          body: JSON.stringify(body),
+        });
+        const reply = (await res.json().catch(() => null)) as Registered | null;
+        setRegistered(
+          reply && typeof reply === "object"
+            ? { ...reply, error: reply.error ?? reply.detail }
+            : { error: "The patient could not be registered. Try again." },
+        );
+      } catch {
+        setRegistered({ error: "The patient could not be registered: check the connection and try again." });
+      } finally {
+        setRegisterState("idle");
+      }
+    },
   };
   const [q, setQ] = useState("");
   const [chosen, setChosen] = useState<PatientOption | null>(initial);
@@ -247,12 +258,7 @@ function PatientPicker({ initial, errors }: { initial: PatientOption | null; err
           variant="secondary"
           className="mt-3"
           pending={register.state !== "idle"}
-          onClick={() =>
-            register.submit(
-              { ...newPatient, confirmDuplicate: confirmDuplicate ? "yes" : "" },
-              { method: "post", action: "/api/schedule-patients", encType: "application/json" },
-            )
-          }
+          onClick={() => void register.submit({ ...newPatient, confirmDuplicate: confirmDuplicate ? "yes" : "" })}
         >
           Register and choose
         </Button>
