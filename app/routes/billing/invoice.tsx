@@ -1,9 +1,9 @@
 import { parseWithZod } from "@conform-to/zod/v4";
 import { asc, eq } from "drizzle-orm";
-import { data, Form, Link, useNavigation } from "react-router";
+import { data, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/invoice";
-import { BillingNav, InvoiceStatusBadge, PaymentStatusBadge } from "~/components/billing/invoice-status";
+import { BillingNav, InvoiceStatusBadge } from "~/components/billing/invoice-status";
 import { emailInvoice, emailReceipt, emailReceiptQuietly, METHOD_LABEL } from "~/models/billing/documents.server";
 import {
   addLines,
@@ -20,12 +20,12 @@ import {
   setDiscount,
   voidInvoice,
 } from "~/models/billing/invoices.server";
-import { ErrorList, useResetAfterSuccess } from "~/components/forms";
+import { useResetAfterSuccess } from "~/components/forms";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
-import { Button, buttonClass } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
-import { Input, Select } from "~/components/ui/input";
+import { InvoiceActions } from "./invoice-actions";
+import { InvoiceLinesCard, InvoicePaymentsCard } from "./invoice-parts";
+import { buttonClass } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
 import { feeItems } from "~/db/schema";
 import { formatDate, formatMoney } from "~/lib/format";
@@ -285,7 +285,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 type Reply = { initialValue?: Record<string, unknown>; error?: Record<string, string[] | null> } | undefined;
 
 export default function InvoicePage({ loaderData, actionData }: Route.ComponentProps) {
-  const { invoice, patient, lines, payments, refunds, fees } = loaderData;
+  const { invoice, patient, payments } = loaderData;
   const navigation = useNavigation();
   const busy = (intent: string) => navigation.state === "submitting" && navigation.formData?.get("intent") === intent;
   const payForm = useResetAfterSuccess("pay-desk");
@@ -342,341 +342,21 @@ export default function InvoicePage({ loaderData, actionData }: Route.ComponentP
       ) : null}
       <div className="grid gap-6 lg:grid-cols-[2fr_1fr]">
         <div className="space-y-6">
-          <Card title="Lines">
-            <div className="overflow-x-auto">
-              <table className="w-full text-left text-sm">
-                <thead className="border-b border-line text-muted">
-                  <tr>
-                    <th className="py-2 pr-3 font-semibold">Code</th>
-                    <th className="py-2 pr-3 font-semibold">Description</th>
-                    <th className="py-2 pr-3 text-right font-semibold">Qty</th>
-                    <th className="py-2 pr-3 text-right font-semibold">Unit price</th>
-                    <th className="py-2 pr-3 text-right font-semibold">Tax</th>
-                    <th className="py-2 pr-3 text-right font-semibold">Amount</th>
-                    {isDraft ? (
-                      <th className="py-2 font-semibold">
-                        <span className="sr-only">Remove</span>
-                      </th>
-                    ) : null}
-                  </tr>
-                </thead>
-                <tbody className="divide-y divide-line">
-                  {lines.map((l) => (
-                    <tr key={l.id}>
-                      <td className="py-2 pr-3 font-mono">{l.code}</td>
-                      <td className="py-2 pr-3">{l.description}</td>
-                      <td className="py-2 pr-3 text-right tabular-nums">{l.quantity}</td>
-                      <td className="py-2 pr-3 text-right tabular-nums">{l.unit}</td>
-                      <td className="py-2 pr-3 text-right tabular-nums">{l.tax}</td>
-                      <td className="py-2 pr-3 text-right tabular-nums">{l.gross}</td>
-                      {isDraft ? (
-                        <td className="py-2">
-                          <Form method="post">
-                            <input type="hidden" name="intent" value="remove-line" />
-                            <input type="hidden" name="lineId" value={l.id} />
-                            <Button type="submit" variant="ghost" className="px-2 py-1 text-red-800">
-                              Remove<span className="sr-only"> {l.description}</span>
-                            </Button>
-                          </Form>
-                        </td>
-                      ) : null}
-                    </tr>
-                  ))}
-                </tbody>
-              </table>
-            </div>
-            <dl className="mt-4 ml-auto grid max-w-xs grid-cols-2 gap-y-1 text-sm" aria-label="Totals">
-              <dt className="text-muted">Subtotal</dt>
-              <dd className="text-right tabular-nums">{invoice.subtotal}</dd>
-              {invoice.discount ? (
-                <>
-                  <dt className="text-muted">Discount</dt>
-                  <dd className="text-right tabular-nums">{invoice.discount}</dd>
-                </>
-              ) : null}
-              <dt className="text-muted">Tax ({invoice.taxRate})</dt>
-              <dd className="text-right tabular-nums">{invoice.tax}</dd>
-              <dt className="font-semibold">Total</dt>
-              <dd className="text-right font-semibold tabular-nums">{invoice.total}</dd>
-              <dt className="text-muted">Paid</dt>
-              <dd className="text-right tabular-nums">{invoice.paid}</dd>
-              <dt className="font-semibold">Amount due</dt>
-              <dd className="text-right font-semibold tabular-nums" data-testid="amount-due">
-                {invoice.due}
-              </dd>
-            </dl>
-            {isDraft ? (
-              <Form method="post" className="mt-6 flex flex-wrap items-end gap-3 border-t border-line pt-4">
-                <input type="hidden" name="intent" value="add-line" />
-                <div className="min-w-64 flex-1">
-                  <label htmlFor="feeItemId" className="mb-1 block text-sm font-semibold">
-                    Add from the fee schedule
-                  </label>
-                  <Select id="feeItemId" name="feeItemId" defaultValue="">
-                    <option value="">Choose…</option>
-                    {fees.map((f) => (
-                      <option key={f.id} value={f.id}>
-                        {f.label}
-                      </option>
-                    ))}
-                  </Select>
-                  <ErrorList errors={err("add-line", "feeItemId")} />
-                </div>
-                <div>
-                  <label htmlFor="quantity" className="mb-1 block text-sm font-semibold">
-                    Quantity
-                  </label>
-                  <Input id="quantity" name="quantity" type="number" min={1} defaultValue={1} className="w-24" />
-                  <ErrorList errors={err("add-line", "quantity")} />
-                </div>
-                <Button type="submit" variant="secondary" pending={busy("add-line")}>
-                  Add line
-                </Button>
-              </Form>
-            ) : null}
-          </Card>
+          <InvoiceLinesCard d={loaderData} isDraft={isDraft} err={err} busy={busy} />
 
           {!isDraft ? (
-            <Card title="Payments">
-              {payments.length === 0 ? <p className="text-muted">No payments yet.</p> : null}
-              <ul className="divide-y divide-line">
-                {payments.map((p) => (
-                  <li key={p.id} className="py-3">
-                    <div className="flex flex-wrap items-center justify-between gap-3">
-                      <div>
-                        <p className="font-semibold">
-                          {p.amount} · {p.method} <PaymentStatusBadge status={p.status} />
-                        </p>
-                        <p className="text-sm text-muted">
-                          {p.when}
-                          {p.reference ? ` · ref. ${p.reference}` : ""}
-                          {p.refunded ? ` · ${p.refunded} refunded` : ""}
-                          {p.status === "succeeded"
-                            ? p.receiptSent
-                              ? " · receipt e-mailed"
-                              : " · no receipt sent"
-                            : ""}
-                        </p>
-                        {p.problem && p.status !== "succeeded" ? (
-                          <p className="mt-1 text-sm text-red-900">{p.problem}</p>
-                        ) : null}
-                      </div>
-                      {p.status === "succeeded" ? (
-                        <div className="flex gap-2">
-                          <a
-                            href={`/billing/payments/${p.id}/receipt.pdf`}
-                            className={buttonClass("secondary", "px-3 py-1")}
-                          >
-                            Receipt PDF
-                          </a>
-                          <Form method="post">
-                            <input type="hidden" name="intent" value="receipt" />
-                            <input type="hidden" name="paymentId" value={p.id} />
-                            <Button type="submit" variant="secondary" className="px-3 py-1" pending={busy("receipt")}>
-                              E-mail receipt
-                            </Button>
-                          </Form>
-                        </div>
-                      ) : null}
-                    </div>
-                    {p.refundable > 0 ? (
-                      <details className="mt-2">
-                        <summary className="cursor-pointer text-sm font-semibold text-accent-700">
-                          Refund (up to {p.refundableText})
-                        </summary>
-                        <Form method="post" className="mt-2 flex flex-wrap items-end gap-3">
-                          <input type="hidden" name="intent" value="refund" />
-                          <input type="hidden" name="paymentId" value={p.id} />
-                          <div>
-                            <label htmlFor={`refund-amount-${p.id}`} className="mb-1 block text-sm font-semibold">
-                              Amount to refund ({invoice.currency})
-                            </label>
-                            <Input id={`refund-amount-${p.id}`} name="amount" inputMode="decimal" className="w-36" />
-                          </div>
-                          <div className="min-w-48 flex-1">
-                            <label htmlFor={`refund-reason-${p.id}`} className="mb-1 block text-sm font-semibold">
-                              Reason
-                            </label>
-                            <Input id={`refund-reason-${p.id}`} name="reason" />
-                          </div>
-                          <Button type="submit" variant="danger" pending={busy("refund")}>
-                            Refund
-                          </Button>
-                        </Form>
-                        {reply?.initialValue?.paymentId === p.id ? (
-                          <ErrorList
-                            errors={[...(err("refund", "amount") ?? []), ...(err("refund", "reason") ?? [])]}
-                          />
-                        ) : null}
-                      </details>
-                    ) : null}
-                  </li>
-                ))}
-              </ul>
-              {refunds.length ? (
-                <>
-                  <h3 className="mt-4 font-semibold">Refunds</h3>
-                  <ul className="mt-1 text-sm">
-                    {refunds.map((r) => (
-                      <li key={r.id}>
-                        {r.when}: {r.amount} — {r.reason}
-                      </li>
-                    ))}
-                  </ul>
-                </>
-              ) : null}
-            </Card>
+            <InvoicePaymentsCard
+              d={loaderData}
+              isDraft={isDraft}
+              err={err}
+              busy={busy}
+              refundFor={reply?.initialValue?.paymentId}
+            />
           ) : null}
         </div>
 
         <div className="space-y-6">
-          {isDraft ? (
-            <>
-              <Card title="Discount">
-                <Form method="post" className="space-y-3">
-                  <input type="hidden" name="intent" value="discount" />
-                  <div>
-                    <label htmlFor="discountKind" className="mb-1 block text-sm font-semibold">
-                      Kind
-                    </label>
-                    <Select id="discountKind" name="discountKind" defaultValue={invoice.discountKind}>
-                      <option value="none">No discount</option>
-                      <option value="percent">Percentage of the subtotal</option>
-                      <option value="amount">Fixed amount</option>
-                    </Select>
-                  </div>
-                  <div>
-                    <label htmlFor="discountValue" className="mb-1 block text-sm font-semibold">
-                      Percentage or amount
-                    </label>
-                    <Input
-                      id="discountValue"
-                      name="discountValue"
-                      inputMode="decimal"
-                      defaultValue={invoice.discountValue}
-                      aria-invalid={err("discount", "discountValue") ? true : undefined}
-                    />
-                    <ErrorList errors={err("discount", "discountValue")} />
-                  </div>
-                  <Button type="submit" variant="secondary" pending={busy("discount")}>
-                    Apply discount
-                  </Button>
-                </Form>
-              </Card>
-              <Card title="Issue">
-                <p className="mb-3 text-sm text-muted">
-                  Issuing gives the invoice its number and fixes its lines and tax rate.
-                </p>
-                <div className="flex flex-wrap gap-2">
-                  <Form method="post">
-                    <input type="hidden" name="intent" value="issue" />
-                    <Button type="submit" pending={busy("issue")}>
-                      Issue invoice
-                    </Button>
-                  </Form>
-                  <Form method="post">
-                    <input type="hidden" name="intent" value="discard" />
-                    <Button type="submit" variant="danger" pending={busy("discard")}>
-                      Discard draft
-                    </Button>
-                  </Form>
-                </div>
-              </Card>
-            </>
-          ) : null}
-          {payable ? (
-            <>
-              <Card title="Take a payment at the desk">
-                <Form method="post" className="space-y-3" ref={payForm}>
-                  <input type="hidden" name="intent" value="pay-desk" />
-                  {err("pay-desk", "confirmRepeat") ? (
-                    <Notice tone="warning" title="This looks like the same payment again">
-                      <p id="repeat-warning">{err("pay-desk", "confirmRepeat")!.join(" ")}</p>
-                      <label className="mt-2 flex items-center gap-2 font-semibold">
-                        <input
-                          type="checkbox"
-                          name="confirmRepeat"
-                          value="yes"
-                          className="size-4"
-                          aria-describedby="repeat-warning"
-                        />{" "}
-                        This is a second payment: record it too
-                      </label>
-                    </Notice>
-                  ) : null}
-                  <fieldset>
-                    <legend className="mb-1 text-sm font-semibold">Method</legend>
-                    <div className="flex gap-4">
-                      <label className="flex items-center gap-2">
-                        <input type="radio" name="method" value="card_desk" defaultChecked /> Card
-                      </label>
-                      <label className="flex items-center gap-2">
-                        <input type="radio" name="method" value="cash" /> Cash
-                      </label>
-                    </div>
-                    <ErrorList errors={err("pay-desk", "method")} />
-                  </fieldset>
-                  <div>
-                    <label htmlFor="amount" className="mb-1 block text-sm font-semibold">
-                      Amount ({invoice.currency})
-                    </label>
-                    <Input
-                      id="amount"
-                      name="amount"
-                      inputMode="decimal"
-                      defaultValue={invoice.dueDecimal}
-                      aria-invalid={err("pay-desk", "amount") ? true : undefined}
-                      aria-describedby={err("pay-desk", "amount") ? "amount-error" : undefined}
-                    />
-                    <ErrorList id="amount-error" errors={err("pay-desk", "amount")} />
-                  </div>
-                  <div>
-                    <label htmlFor="reference" className="mb-1 block text-sm font-semibold">
-                      Terminal or receipt reference (optional)
-                    </label>
-                    <Input id="reference" name="reference" />
-                  </div>
-                  <Button type="submit" pending={busy("pay-desk")}>
-                    Record payment
-                  </Button>
-                </Form>
-              </Card>
-              <Card title="Pay online">
-                <p className="mb-3 text-sm text-muted">
-                  {patient.email
-                    ? `E-mails the invoice to ${patient.email} with a payment link that works for 14 days.`
-                    : "This patient has no e-mail address on file."}
-                  {invoice.payLinkSentAt ? ` Last sent ${invoice.payLinkSentAt}.` : ""}
-                </p>
-                <Form method="post">
-                  <input type="hidden" name="intent" value="email" />
-                  <Button type="submit" variant="secondary" disabled={!patient.email} pending={busy("email")}>
-                    E-mail invoice with payment link
-                  </Button>
-                </Form>
-              </Card>
-            </>
-          ) : null}
-          {!isDraft &&
-          invoice.status !== "void" &&
-          invoice.dueMinor > 0 &&
-          payments.every((p) => p.status !== "succeeded") ? (
-            <Card title="Void">
-              <Form method="post" className="space-y-3">
-                <input type="hidden" name="intent" value="void" />
-                <div>
-                  <label htmlFor="reason" className="mb-1 block text-sm font-semibold">
-                    Reason
-                  </label>
-                  <Input id="reason" name="reason" aria-invalid={err("void", "reason") ? true : undefined} />
-                  <ErrorList errors={err("void", "reason")} />
-                </div>
-                <Button type="submit" variant="danger" pending={busy("void")}>
-                  Void invoice
-                </Button>
-              </Form>
-            </Card>
-          ) : null}
+          <InvoiceActions d={loaderData} isDraft={isDraft} payable={payable} err={err} busy={busy} payForm={payForm} />
           <p className="text-sm">
             <Link to="/billing" className="font-semibold text-accent-700 underline underline-offset-4">
               Back to invoices
