@@ -35,7 +35,6 @@ import {
   parseIop,
   parseNumber,
   parseRefractionEye,
-  REFRACTION_KINDS,
   REFRACTION_LABEL,
   RELIABILITY,
   SEGMENT_STRUCTURES,
@@ -58,6 +57,7 @@ import { audit } from "~/utils/audit.server";
 import type { SessionUser } from "~/utils/session.server";
 import { db, type Tx } from "~/utils/db.server";
 import { isUuid } from "~/models/patients/patient-schema";
+import type { ExamSectionId } from "~/lib/exam/section-list";
 
 type Form = Record<string, string | undefined>;
 
@@ -615,24 +615,7 @@ async function saveAssessment(tx: Tx, examId: string, form: Form) {
   if (diagnoses.length) await tx.insert(examDiagnoses).values(diagnoses);
 }
 
-export const SECTIONS = [
-  "redflags",
-  "history",
-  "acuity",
-  ...REFRACTION_KINDS.map((k) => `refraction:${k}` as const),
-  "binocular",
-  "pupils",
-  "ac",
-  "iop",
-  "colour",
-  "fields",
-  "segments",
-  "disc",
-  "fundus",
-  "dilation",
-  "assessment",
-] as const;
-export type Section = (typeof SECTIONS)[number];
+export type Section = ExamSectionId;
 
 /** Saves one section of an in-progress exam in one transaction; a signed exam answers 409. */
 export async function saveSection(
