@@ -261,8 +261,7 @@ export async function action({ request, params }: Route.ActionArgs) {
     reply: (opts: { formErrors?: string[]; fieldErrors?: Record<string, string[]> }) => unknown,
   ) => {
     if (error instanceof ReferralError) {
-      const { "": form, ...fieldErrors } = error.errors;
-      return data(reply({ formErrors: form, fieldErrors }), { status: error.status });
+      return data(reply(error.formReply), { status: error.status });
     }
     throw error;
   };

@@ -156,7 +156,7 @@ export async function action({ request, params }: Route.ActionArgs) {
       return data(
         {
           intent,
-          result: { status: "error", error: { "": Object.values(error.errors).flat() } } as SubmissionResult<string[]>,
+          result: { status: "error", error: { "": [error.message] } } as SubmissionResult<string[]>,
         },
         { status: error.status },
       );
