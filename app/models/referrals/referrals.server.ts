@@ -20,3 +20,4 @@ export {
 } from "./delivery.server";
 export { acknowledge, publicSummary, reply, REPLY_FILE_MAX_BYTES, setAppointment, sniffType } from "./recipient.server";
 export { referralsForChart, trackingRows } from "./tracking.server";
+export { referralPageData } from "./page.server";
