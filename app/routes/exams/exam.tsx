@@ -97,7 +97,9 @@ export async function action({ request, params }: Route.ActionArgs) {
       return { ok: true, section, savedAt } satisfies SaveReply;
     } catch (e) {
       if (e instanceof SectionError)
-        return data({ ok: false, section, message: e.message, errors: e.errors } satisfies SaveReply, { status: 400 });
+        return data({ ok: false, section, message: e.message, errors: e.fieldErrors } satisfies SaveReply, {
+          status: 400,
+        });
       throw e;
     }
   }
