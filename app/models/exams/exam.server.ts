@@ -35,7 +35,6 @@ import {
   parseIop,
   parseNumber,
   parseRefractionEye,
-  REFRACTION_KINDS,
   REFRACTION_LABEL,
   RELIABILITY,
   SEGMENT_STRUCTURES,
@@ -58,27 +57,33 @@ import { audit } from "~/utils/audit.server";
 import type { SessionUser } from "~/utils/session.server";
 import { db, type Tx } from "~/utils/db.server";
 import { isUuid } from "~/models/patients/patient-schema";
+import { DomainError, notFound } from "~/utils/failure.server";
+import type { ExamSectionId } from "~/lib/exam/section-list";
 
 type Form = Record<string, string | undefined>;
 
-export class SectionError extends Error {
-  constructor(
-    readonly errors: FieldErrors,
-    message = "Some fields need attention; nothing in this section was saved.",
-  ) {
-    super(message);
+const SECTION_NOT_SAVED = "Some fields need attention; nothing in this section was saved.";
+
+/** A section's values refused field by field; nothing of the section is written. */
+export class SectionError extends DomainError {
+  constructor(message: string = SECTION_NOT_SAVED, options: ConstructorParameters<typeof DomainError>[1] = {}) {
+    super(message, options);
+  }
+
+  static inFields(fieldErrors: FieldErrors) {
+    return new SectionError(SECTION_NOT_SAVED, { fieldErrors });
   }
 }
 
 /** The exam row if it belongs to the patient (anything else: 404, so ids cannot be probed). */
 export async function examFor(patientId: string | undefined, examId: string | undefined, tx: Tx | typeof db = db) {
-  if (!isUuid(patientId) || !isUuid(examId)) throw data({ error: "Not found." }, { status: 404 });
+  if (!isUuid(patientId) || !isUuid(examId)) notFound();
   const [exam] = await tx
     .select()
     .from(exams)
     .where(and(eq(exams.id, examId!), eq(exams.patientId, patientId!)))
     .limit(1);
-  if (!exam) throw data({ error: "Not found." }, { status: 404 });
+  if (!exam) notFound();
   return exam;
 }
 
@@ -423,7 +428,7 @@ async function saveAcuity(tx: Tx, examId: string, form: Form, practiceNotation: 
             logMar: r.value.logMar,
           });
       }
-  if (Object.keys(errors).length) throw new SectionError(errors);
+  if (Object.keys(errors).length) throw SectionError.inFields(errors);
   await tx.delete(examAcuity).where(eq(examAcuity.examId, examId));
   if (rows.length) await tx.insert(examAcuity).values(rows);
 }
@@ -451,7 +456,7 @@ async function saveRefraction(tx: Tx, examId: string, kind: RefractionKind, form
         vaLogMar: r.value.va?.logMar ?? null,
       });
   }
-  if (Object.keys(errors).length) throw new SectionError(errors);
+  if (Object.keys(errors).length) throw SectionError.inFields(errors);
   await tx.delete(examRefractions).where(and(eq(examRefractions.examId, examId), eq(examRefractions.kind, kind)));
   if (rows.length) await tx.insert(examRefractions).values(rows);
 }
@@ -462,7 +467,7 @@ async function saveBinocular(tx: Tx, examId: string, form: Form) {
   if (npc.error) errors.bv_npcCm = [npc.error];
   const stereo = parseNumber(form.bv_stereoArcSec, "Stereo acuity (seconds of arc)", 1, 10000, { integer: true });
   if (stereo.error) errors.bv_stereoArcSec = [stereo.error];
-  if (Object.keys(errors).length) throw new SectionError(errors);
+  if (Object.keys(errors).length) throw SectionError.inFields(errors);
   const values = {
     coverTestDistance: text(form, "bv_coverTestDistance", 500),
     coverTestNear: text(form, "bv_coverTestNear", 500),
@@ -479,7 +484,7 @@ async function saveBinocular(tx: Tx, examId: string, form: Form) {
 
 async function saveIop(tx: Tx, examId: string, form: Form) {
   const parsed = parseIop(form);
-  if (!parsed.ok) throw new SectionError(parsed.errors);
+  if (!parsed.ok) throw SectionError.inFields(parsed.errors);
   const { readings, cct } = parsed.value;
   const rows = EYES.flatMap((eye) =>
     (readings[eye] ?? []).map((r, i) => ({
@@ -521,7 +526,7 @@ async function saveColour(tx: Tx, examId: string, form: Form) {
     if (test && result)
       rows.push({ examId, eye, test, result, platesCorrect: correct.value, platesShown: shown.value, notes });
   }
-  if (Object.keys(errors).length) throw new SectionError(errors);
+  if (Object.keys(errors).length) throw SectionError.inFields(errors);
   await tx.delete(examColourVision).where(eq(examColourVision.examId, examId));
   if (rows.length) await tx.insert(examColourVision).values(rows);
 }
@@ -573,7 +578,7 @@ async function saveFields(tx: Tx, examId: string, form: Form) {
         defects,
       });
   }
-  if (Object.keys(errors).length) throw new SectionError(errors);
+  if (Object.keys(errors).length) throw SectionError.inFields(errors);
   await tx.delete(examVisualFields).where(eq(examVisualFields.examId, examId));
   if (rows.length) await tx.insert(examVisualFields).values(rows);
 }
@@ -601,7 +606,7 @@ async function saveAssessment(tx: Tx, examId: string, form: Form) {
   const dx = parseDiagnoses(form);
   if (!dx.ok) Object.assign(errors, dx.errors);
   const diagnoses = dx.ok ? dx.value.map((d) => ({ examId, ...d })) : [];
-  if (Object.keys(errors).length) throw new SectionError(errors);
+  if (Object.keys(errors).length) throw SectionError.inFields(errors);
   const values = {
     assessment: text(form, "assessment", 8000),
     plan: text(form, "plan", 8000),
@@ -615,24 +620,7 @@ async function saveAssessment(tx: Tx, examId: string, form: Form) {
   if (diagnoses.length) await tx.insert(examDiagnoses).values(diagnoses);
 }
 
-export const SECTIONS = [
-  "redflags",
-  "history",
-  "acuity",
-  ...REFRACTION_KINDS.map((k) => `refraction:${k}` as const),
-  "binocular",
-  "pupils",
-  "ac",
-  "iop",
-  "colour",
-  "fields",
-  "segments",
-  "disc",
-  "fundus",
-  "dilation",
-  "assessment",
-] as const;
-export type Section = (typeof SECTIONS)[number];
+export type Section = ExamSectionId;
 
 /** Saves one section of an in-progress exam in one transaction; a signed exam answers 409. */
 export async function saveSection(
@@ -675,7 +663,7 @@ export async function saveSection(
           timeZone: settings.timeZone,
         });
       } catch (e) {
-        if (e instanceof FindingsError) throw new SectionError(e.errors);
+        if (e instanceof FindingsError) throw SectionError.inFields(e.fieldErrors);
         throw e;
       }
     } else if (section === "binocular") await saveBinocular(tx, examId, form);

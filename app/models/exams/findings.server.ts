@@ -28,17 +28,18 @@ import {
   type RedFlagKey,
 } from "~/lib/exam/sections";
 import { db, type Tx } from "~/utils/db.server";
+import { DomainError } from "~/utils/failure.server";
 
 type Form = Record<string, string | undefined>;
 type Conn = Tx | typeof db;
 
-export class FindingsError extends Error {
-  constructor(readonly errors: FieldErrors) {
-    super("Some fields need attention; nothing in this section was saved.");
+export class FindingsError extends DomainError {
+  static inFields(fieldErrors: FieldErrors) {
+    return new FindingsError("Some fields need attention; nothing in this section was saved.", { fieldErrors });
   }
 }
 function valueOf<T>(p: Parsed<T>): T {
-  if (!p.ok) throw new FindingsError(p.errors);
+  if (!p.ok) throw FindingsError.inFields(p.errors);
   return p.value;
 }
 

@@ -22,6 +22,7 @@ import {
   type RedFlagKey,
 } from "~/lib/exam/sections";
 import { ExamCheckbox, ExamInput, ExamSelect, ExamTextarea, SectionForm } from "./exam-form";
+import { sectionTitle } from "~/lib/exam/section-list";
 
 type V = { values: Record<string, string>; readOnly: boolean };
 const on = (values: Record<string, string>, k: string) => values[k] === "on";
@@ -43,7 +44,7 @@ export function RedFlagsSection({ values, readOnly }: V) {
   return (
     <SectionForm
       section="redflags"
-      title="Red-flag symptoms"
+      title={sectionTitle("redflags")}
       readOnly={readOnly}
       description="Ask about each at every visit. Choose the eye affected; leave “Not reported” when the patient denies it. Referral triage reads these."
     >
@@ -96,7 +97,7 @@ export function PupilsSection({ values, readOnly }: V) {
   return (
     <SectionForm
       section="pupils"
-      title="Pupils"
+      title={sectionTitle("pupils")}
       readOnly={readOnly}
       description="A relative afferent pupillary defect (swinging-flashlight test) is recorded in the eye that has it."
     >
@@ -147,7 +148,7 @@ export function AnteriorChamberSection({ values, readOnly }: V) {
   return (
     <SectionForm
       section="ac"
-      title="Anterior chamber"
+      title={sectionTitle("ac")}
       readOnly={readOnly}
       description="Van Herick grade 0 (closed) to 4 (peripheral depth at least the corneal thickness); cells graded as seen with the slit lamp."
     >
@@ -199,7 +200,7 @@ export function DiscSection({ values, readOnly }: V) {
   return (
     <SectionForm
       section="disc"
-      title="Optic disc"
+      title={sectionTitle("disc")}
       readOnly={readOnly}
       description="Vertical cup/disc ratio as a number from 0 to 1 (for example 0.45)."
     >
@@ -257,7 +258,7 @@ export function FundusSection({ values, readOnly }: V) {
   return (
     <SectionForm
       section="fundus"
-      title="Vitreous, macula and periphery"
+      title={sectionTitle("fundus")}
       readOnly={readOnly}
       description="Tick what was seen. Note whether the view was through a dilated pupil under Dilation."
     >
@@ -299,7 +300,7 @@ export function DilationSection({ values, readOnly, nowLocal }: V & { nowLocal: 
   return (
     <SectionForm
       section="dilation"
-      title="Dilation"
+      title={sectionTitle("dilation")}
       readOnly={readOnly}
       description="Each drop instilled: drug, strength, eye and the date and time (practice time). Check for angle-closure risk before dilating."
     >

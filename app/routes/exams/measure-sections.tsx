@@ -21,6 +21,7 @@ import {
 } from "~/lib/exam/sections";
 import { ACUITY_NOTATION_LABEL, ACUITY_NOTATIONS, type AcuityNotation, type ReferralPrompt } from "~/lib/optics";
 import { ExamInput, ExamSelect, ExamTextarea, SectionForm } from "./exam-form";
+import { sectionTitle } from "~/lib/exam/section-list";
 
 type V = { values: Record<string, string>; readOnly: boolean };
 
@@ -63,7 +64,7 @@ export function AcuitySection({
   return (
     <SectionForm
       section="acuity"
-      title="Visual acuity"
+      title={sectionTitle("acuity")}
       readOnly={readOnly}
       prompts={prompts}
       description={
@@ -144,7 +145,7 @@ export function IopSection({ values, readOnly, prompts }: V & { prompts: Referra
   return (
     <SectionForm
       section="iop"
-      title="Intraocular pressure"
+      title={sectionTitle("iop")}
       readOnly={readOnly}
       prompts={prompts}
       description="Up to four readings per eye. A later reading without a method or time takes the one before it. The mean of the readings is what prompts and triage use."
@@ -219,7 +220,7 @@ const DX_EYES = { right: "Right eye", left: "Left eye", both: "Both eyes" } as c
 export function AssessmentSection({ values, readOnly }: V) {
   const groups = [...new Set(DIAGNOSES.map((d) => d.group))];
   return (
-    <SectionForm section="assessment" title="Assessment, plan and diagnoses" readOnly={readOnly}>
+    <SectionForm section="assessment" title={sectionTitle("assessment")} readOnly={readOnly}>
       <div className="grid gap-4 sm:grid-cols-2">
         <ExamTextarea
           id="as-assessment"

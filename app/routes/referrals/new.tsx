@@ -144,8 +144,7 @@ export async function action({ request }: Route.ActionArgs) {
     });
   } catch (error) {
     if (error instanceof ReferralError) {
-      const { "": form, ...fieldErrors } = error.errors;
-      return data(submission.reply({ formErrors: form, fieldErrors }), { status: error.status });
+      return data(submission.reply(error.formReply), { status: error.status });
     }
     throw error;
   }

@@ -1,20 +1,18 @@
 import { parseWithZod } from "@conform-to/zod/v4";
-import { and, asc, desc, eq, isNull } from "drizzle-orm";
-import { data, Form, Link, useNavigation } from "react-router";
+import { desc, eq } from "drizzle-orm";
+import { data, Form, Link } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/referral";
 import { draftValuesOf, LetterForm, letterSchema } from "./letter-form";
+import { Delivery, StatusPanel, Timeline } from "./referral-panels";
 import {
   chaseReferral,
   discardDraft,
-  formatDate,
   loadReferral,
-  practice,
   ReferralError,
-  referenceOf,
+  referralPageData,
   retryMessage,
   sendReferral,
-  triageProposal,
   updateDraft,
   withdrawReferral,
 } from "~/models/referrals/referrals.server";
@@ -23,227 +21,15 @@ import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
-import {
-  documents,
-  referralEvents,
-  referralLinks,
-  referralMessages,
-  referralRecipients,
-  referralReplies,
-  users,
-} from "~/db/schema";
-import {
-  canChase,
-  displayStatus,
-  dueBy,
-  findingKey,
-  localDate,
-  promptValue,
-  STATUS_LABEL,
-  STATUS_TONE,
-  timeFramesOf,
-  URGENCY_LABEL,
-} from "~/lib/referrals";
-import { audit } from "~/utils/audit.server";
+import { referralMessages } from "~/db/schema";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 
-const EVENT_LABEL: Record<string, string> = {
-  drafted: "Draft started",
-  queued: "Queued for sending",
-  sent: "Letter e-mailed",
-  acknowledged: "Receipt acknowledged",
-  appointment_set: "Appointment date given",
-  replied: "Reply received",
-  chased: "Reminder sent to the recipient",
-  withdrawn: "Referral withdrawn",
-};
-const MESSAGE_LABEL = {
-  letter: "Referral letter",
-  chase: "Reminder",
-  reply_notice: "Reply notice to the optometrist",
-} as const;
-
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
-  const r = await loadReferral(params.referralId);
-  const p = await practice();
-  const clinical = user.role !== "receptionist";
-  const now = new Date();
-  const [messages, events, replies, links] = await Promise.all([
-    db
-      .select()
-      .from(referralMessages)
-      .where(eq(referralMessages.referralId, r.referral.id))
-      .orderBy(desc(referralMessages.createdAt)),
-    db
-      .select({
-        kind: referralEvents.kind,
-        at: referralEvents.at,
-        actorName: referralEvents.actorName,
-        userName: users.name,
-        detail: referralEvents.detail,
-      })
-      .from(referralEvents)
-      .leftJoin(users, eq(users.id, referralEvents.actorUserId))
-      .where(eq(referralEvents.referralId, r.referral.id))
-      .orderBy(asc(referralEvents.at), asc(referralEvents.id)),
-    clinical
-      ? db
-          .select({
-            id: referralReplies.id,
-            authorName: referralReplies.authorName,
-            body: referralReplies.body,
-            fileName: referralReplies.fileName,
-            createdAt: referralReplies.createdAt,
-            readAt: referralReplies.readAt,
-          })
-          .from(referralReplies)
-          .where(eq(referralReplies.referralId, r.referral.id))
-          .orderBy(asc(referralReplies.createdAt))
-      : Promise.resolve([]),
-    db
-      .select()
-      .from(referralLinks)
-      .where(and(eq(referralLinks.referralId, r.referral.id), isNull(referralLinks.revokedAt)))
-      .orderBy(desc(referralLinks.createdAt))
-      .limit(1),
-  ]);
-  const when = (d: Date) =>
-    formatDate(d, p.timeZone, { day: "numeric", month: "short", year: "numeric", hour: "2-digit", minute: "2-digit" });
-  const status = displayStatus(r.referral, now, p.timeZone);
-  const due = dueBy(r.referral);
-  const summary = {
-    id: r.referral.id,
-    reference: referenceOf(r.referral.id),
-    stored: r.referral.status,
-    status,
-    urgency: URGENCY_LABEL[r.referral.urgency],
-    proposedUrgency: r.referral.proposedUrgency ? URGENCY_LABEL[r.referral.proposedUrgency] : null,
-    urgencyOverrideReason: clinical ? r.referral.urgencyOverrideReason : null,
-    patient: {
-      id: r.patient.id,
-      name: `${r.patient.firstName} ${r.patient.lastName}`,
-      dateOfBirth: r.patient.dateOfBirth,
-    },
-    recipient: r.recipient ? { name: r.recipient.name, clinic: r.recipient.clinic, email: r.recipient.email } : null,
-    author: r.author.name,
-    sentAt: r.referral.sentAt ? when(r.referral.sentAt) : null,
-    dueOn: due ? localDate(due, p.timeZone) : null,
-    acknowledgedAt: r.referral.acknowledgedAt ? when(r.referral.acknowledgedAt) : null,
-    acknowledgedBy: r.referral.acknowledgedBy,
-    appointmentOn: r.referral.appointmentOn,
-    canChase: canChase(r.referral, now, p.timeZone),
-    link: links[0]
-      ? {
-          expiresOn: formatDate(links[0].expiresAt, p.timeZone),
-          lastOpened: links[0].lastOpenedAt ? when(links[0].lastOpenedAt) : null,
-        }
-      : null,
-    messages: messages.map((m) => ({
-      id: m.id,
-      kind: MESSAGE_LABEL[m.kind],
-      status: m.status,
-      to: m.recipient,
-      attempts: m.attempts,
-      error: m.lastError,
-      at: when(m.sentAt ?? m.createdAt),
-    })),
-    events: events.map((e) => ({
-      label: EVENT_LABEL[e.kind] ?? e.kind,
-      at: when(e.at),
-      by: e.userName ?? e.actorName ?? "",
-      date: clinical && typeof e.detail?.date === "string" ? e.detail.date : null,
-    })),
-  };
-  if (!clinical) return { clinical: false as const, summary };
-
-  await audit({
-    action: "referral.read",
-    actorUserId: user.id,
-    entityType: "referral",
-    entityId: r.referral.id,
-    patientId: r.patient.id,
-    request,
-  });
-  // Replies count as read once a clinician has opened the referral.
-  const unread = new Set(replies.filter((x) => !x.readAt).map((x) => x.id));
-  if (unread.size)
-    await db
-      .update(referralReplies)
-      .set({ readAt: now, readById: user.id })
-      .where(and(eq(referralReplies.referralId, r.referral.id), isNull(referralReplies.readAt)));
-  const selected = new Set(r.referral.selectedFindings);
-  const base = {
-    clinical: true as const,
-    summary,
-    examUrl: `/patients/${r.patient.id}/exams/${r.referral.examId}`,
-    examSigned: r.examStatus === "signed",
-    replies: replies.map(({ readAt: _r, ...x }) => ({ ...x, createdAt: when(x.createdAt), isNew: unread.has(x.id) })),
-    preview: new URL(request.url).searchParams.get("preview") === "1",
-  };
-  if (r.referral.status !== "draft") {
-    return {
-      ...base,
-      draft: null,
-      letter: {
-        reason: r.referral.reason,
-        findings: r.referral.snapshot.prompts
-          .filter((x) => selected.has(findingKey(x)))
-          .map((x) => ({ message: x.message, value: promptValue(x), rule: x.rule })),
-        additionalFindings: r.referral.additionalFindings,
-        attachments: r.attachments.map((a) => a.originalName),
-      },
-    };
-  }
-  const [recipients, uploads] = await Promise.all([
-    db
-      .select({
-        id: referralRecipients.id,
-        name: referralRecipients.name,
-        clinic: referralRecipients.clinic,
-        email: referralRecipients.email,
-        preferredDelivery: referralRecipients.preferredDelivery,
-      })
-      .from(referralRecipients)
-      .where(eq(referralRecipients.active, true))
-      .orderBy(asc(referralRecipients.name)),
-    db
-      .select({
-        id: documents.id,
-        originalName: documents.originalName,
-        kind: documents.kind,
-        description: documents.description,
-        contentType: documents.contentType,
-        createdAt: documents.createdAt,
-      })
-      .from(documents)
-      .where(eq(documents.patientId, r.patient.id))
-      .orderBy(desc(documents.createdAt)),
-  ]);
-  return {
-    ...base,
-    letter: null,
-    draft: {
-      prompts: r.referral.snapshot.prompts,
-      triage: triageProposal(r.referral.snapshot, r.referral.proposedUrgency),
-      recipients,
-      uploads: uploads.map((u) => ({ ...u, createdAt: u.createdAt.toISOString() })),
-      timeFrames: timeFramesOf(p),
-      defaults: {
-        recipientId: r.referral.recipientId ?? "",
-        urgency: r.referral.urgency,
-        urgencyOverrideReason: r.referral.urgencyOverrideReason ?? "",
-        reason: r.referral.reason,
-        body: r.referral.body,
-        relevantHistory: r.referral.relevantHistory,
-        additionalFindings: r.referral.additionalFindings,
-        selectedFindings: r.referral.selectedFindings,
-        attachmentIds: r.attachments.map((a) => a.id),
-      },
-    },
-  };
+  const preview = new URL(request.url).searchParams.get("preview") === "1";
+  return referralPageData(user, params.referralId, preview, request);
 }
 
 const simpleSchema = z.object({ intent: z.enum(["discard", "withdraw", "chase"]) });
@@ -261,8 +47,7 @@ export async function action({ request, params }: Route.ActionArgs) {
     reply: (opts: { formErrors?: string[]; fieldErrors?: Record<string, string[]> }) => unknown,
   ) => {
     if (error instanceof ReferralError) {
-      const { "": form, ...fieldErrors } = error.errors;
-      return data(reply({ formErrors: form, fieldErrors }), { status: error.status });
+      return data(reply(error.formReply), { status: error.status });
     }
     throw error;
   };
@@ -333,136 +118,6 @@ export async function action({ request, params }: Route.ActionArgs) {
   } catch (error) {
     return fail(error, (o) => submission.reply(o));
   }
-}
-
-type Summary = Route.ComponentProps["loaderData"]["summary"];
-
-function StatusPanel({ s, clinical }: { s: Summary; clinical: boolean }) {
-  const navigation = useNavigation();
-  return (
-    <Card title="Status">
-      <dl className="grid gap-x-6 gap-y-2 text-sm sm:grid-cols-[10rem_1fr]">
-        <dt className="text-muted">Status</dt>
-        <dd>
-          <StatusBadge tone={STATUS_TONE[s.status]}>{STATUS_LABEL[s.status]}</StatusBadge>
-        </dd>
-        <dt className="text-muted">Urgency</dt>
-        <dd>
-          {s.urgency}
-          {s.proposedUrgency && s.proposedUrgency !== s.urgency ? (
-            <span className="block text-muted">
-              Triage proposed {s.proposedUrgency.toLowerCase()}
-              {s.urgencyOverrideReason ? `; reason for the change: ${s.urgencyOverrideReason}` : ""}
-            </span>
-          ) : null}
-        </dd>
-        <dt className="text-muted">Recipient</dt>
-        <dd>
-          {s.recipient
-            ? `${s.recipient.name}${s.recipient.clinic ? `, ${s.recipient.clinic}` : ""}${s.recipient.email ? ` <${s.recipient.email}>` : ""}`
-            : "Not chosen"}
-        </dd>
-        <dt className="text-muted">Written by</dt>
-        <dd>{s.author}</dd>
-        <dt className="text-muted">Sent</dt>
-        <dd>{s.sentAt ?? "Not yet"}</dd>
-        <dt className="text-muted">To be seen by</dt>
-        <dd>{s.dueOn ?? "—"}</dd>
-        <dt className="text-muted">Acknowledged</dt>
-        <dd>
-          {s.acknowledgedAt ? `${s.acknowledgedAt}${s.acknowledgedBy ? ` by ${s.acknowledgedBy}` : ""}` : "Not yet"}
-        </dd>
-        <dt className="text-muted">Appointment</dt>
-        <dd>{s.appointmentOn ?? "Not given"}</dd>
-        {s.link ? (
-          <>
-            <dt className="text-muted">Recipient's link</dt>
-            <dd>
-              Works until {s.link.expiresOn}
-              {s.link.lastOpened ? ` · last opened ${s.link.lastOpened}` : " · not opened yet"}
-            </dd>
-          </>
-        ) : null}
-      </dl>
-      <div className="mt-4 flex flex-wrap gap-2">
-        {s.canChase ? (
-          <Form method="post">
-            <Button type="submit" name="intent" value="chase" pending={navigation.formData?.get("intent") === "chase"}>
-              Send a reminder to the recipient
-            </Button>
-          </Form>
-        ) : null}
-        {clinical && s.stored !== "draft" && s.stored !== "withdrawn" && s.stored !== "replied" ? (
-          <Form
-            method="post"
-            onSubmit={(e) =>
-              !confirm("Withdraw this referral? The recipient's link stops working.") ? e.preventDefault() : undefined
-            }
-          >
-            <Button type="submit" name="intent" value="withdraw" variant="danger">
-              Withdraw referral
-            </Button>
-          </Form>
-        ) : null}
-      </div>
-    </Card>
-  );
-}
-
-function Delivery({ s }: { s: Summary }) {
-  if (!s.messages.length) return null;
-  return (
-    <Card title="E-mails">
-      <ul className="divide-y divide-line text-sm">
-        {s.messages.map((m) => (
-          <li key={m.id} className="flex flex-wrap items-start justify-between gap-3 py-3">
-            <div>
-              <p className="font-semibold">
-                {m.kind} to {m.to}
-              </p>
-              <p className="text-muted">
-                {m.at} · {m.attempts} attempt{m.attempts === 1 ? "" : "s"}
-              </p>
-              {m.error && m.status !== "sent" ? <p className="text-red-800">Last error: {m.error}</p> : null}
-            </div>
-            <div className="flex items-center gap-2">
-              {m.status === "sent" ? (
-                <StatusBadge tone="success">Sent</StatusBadge>
-              ) : m.status === "queued" ? (
-                <StatusBadge tone="warning">Queued, retrying</StatusBadge>
-              ) : (
-                <StatusBadge tone="error">Failed</StatusBadge>
-              )}
-              {m.status === "failed" ? (
-                <Form method="post">
-                  <input type="hidden" name="messageId" value={m.id} />
-                  <Button type="submit" name="intent" value="retry" variant="secondary" className="px-3 py-1">
-                    Try again
-                  </Button>
-                </Form>
-              ) : null}
-            </div>
-          </li>
-        ))}
-      </ul>
-    </Card>
-  );
-}
-
-function Timeline({ s }: { s: Summary }) {
-  return (
-    <Card title="History">
-      <ol className="space-y-2 text-sm">
-        {s.events.map((e, i) => (
-          <li key={i}>
-            <span className="font-semibold">{e.label}</span>
-            {e.date ? ` (${e.date})` : ""} · {e.at}
-            {e.by ? ` · ${e.by}` : ""}
-          </li>
-        ))}
-      </ol>
-    </Card>
-  );
 }
 
 export default function ReferralPage({ loaderData, actionData }: Route.ComponentProps) {

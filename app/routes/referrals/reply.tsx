@@ -3,6 +3,7 @@ import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/reply";
+import { Done, Shell, useLast, type ActionData } from "./reply-parts";
 import { linkAccess, linkRefusal } from "~/models/referrals/public.server";
 import {
   acknowledge,
@@ -156,7 +157,7 @@ export async function action({ request, params }: Route.ActionArgs) {
       return data(
         {
           intent,
-          result: { status: "error", error: { "": Object.values(error.errors).flat() } } as SubmissionResult<string[]>,
+          result: { status: "error", error: { "": [error.message] } } as SubmissionResult<string[]>,
         },
         { status: error.status },
       );
@@ -166,39 +167,6 @@ export async function action({ request, params }: Route.ActionArgs) {
     { intent, result: { status: "error", error: { "": ["Unknown request."] } } as SubmissionResult<string[]> },
     { status: 400 },
   );
-}
-
-type ActionData = { intent: string; result: SubmissionResult<string[]>; done?: string } | undefined;
-
-function Shell({ practice, children }: { practice?: string; children: React.ReactNode }) {
-  return (
-    <div className="min-h-screen">
-      <header className="border-b border-line bg-white">
-        <div className="mx-auto flex max-w-4xl items-center gap-2 px-4 py-3 text-lg font-bold text-accent-800 sm:px-6">
-          <img src="/favicon.svg" alt="" className="size-7" /> {practice ?? "Referral"}
-        </div>
-      </header>
-      <main id="main" className="mx-auto max-w-4xl px-4 py-8 sm:px-6">
-        {children}
-      </main>
-    </div>
-  );
-}
-
-function Done({ a, intent }: { a: ActionData; intent: string }) {
-  if (a?.intent !== intent || !a.done) return null;
-  return (
-    <div className="mb-4">
-      <Notice tone="success" title="Done">
-        {a.done}
-      </Notice>
-    </div>
-  );
-}
-
-function useLast(id: string, a: ActionData) {
-  const navigation = useNavigation();
-  return navigation.state === "idle" && a?.intent === id ? a.result : null;
 }
 
 export default function ReplyPage({ loaderData, actionData, params }: Route.ComponentProps) {

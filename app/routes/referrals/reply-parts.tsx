@@ -1,0 +1,37 @@
+/** The recipient's reply page: its frame, the confirmation after an action and the last submission's result. */
+import { type SubmissionResult } from "@conform-to/react";
+import { useNavigation } from "react-router";
+import { Notice } from "~/components/ui/notice";
+
+export type ActionData = { intent: string; result: SubmissionResult<string[]>; done?: string } | undefined;
+
+export function Shell({ practice, children }: { practice?: string; children: React.ReactNode }) {
+  return (
+    <div className="min-h-screen">
+      <header className="border-b border-line bg-white">
+        <div className="mx-auto flex max-w-4xl items-center gap-2 px-4 py-3 text-lg font-bold text-accent-800 sm:px-6">
+          <img src="/favicon.svg" alt="" className="size-7" /> {practice ?? "Referral"}
+        </div>
+      </header>
+      <main id="main" className="mx-auto max-w-4xl px-4 py-8 sm:px-6">
+        {children}
+      </main>
+    </div>
+  );
+}
+
+export function Done({ a, intent }: { a: ActionData; intent: string }) {
+  if (a?.intent !== intent || !a.done) return null;
+  return (
+    <div className="mb-4">
+      <Notice tone="success" title="Done">
+        {a.done}
+      </Notice>
+    </div>
+  );
+}
+
+export function useLast(id: string, a: ActionData) {
+  const navigation = useNavigation();
+  return navigation.state === "idle" && a?.intent === id ? a.result : null;
+}
