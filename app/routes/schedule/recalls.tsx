@@ -156,6 +156,8 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
       />
       <ScheduleNav />
       <Form
+        // A link that changes the filters (such as "Due this month") shows them in the fields too.
+        key={`${filters.dueFrom ?? ""}|${dueBy}|${filters.group}`}
         method="get"
         className="mb-4 flex flex-wrap items-end gap-3"
         aria-describedby={filterError ? "recall-filter-error" : undefined}
