@@ -202,7 +202,7 @@ describe("finding people and billing at the front desk", () => {
     await desk.waitForURL((u) => u.searchParams.has("dueFrom"));
     await ready(desk);
     const month = `${now.getUTCFullYear()}-${String(now.getUTCMonth() + 1).padStart(2, "0")}`;
-    expect(await desk.getByLabel("Due from (optional)").inputValue()).toBe(`${month}-01`);
+    await expect.poll(() => desk.getByLabel("Due from (optional)").inputValue()).toBe(`${month}-01`);
     expect(await desk.getByTestId("recall-send-bar").evaluate((el) => getComputedStyle(el).position)).toBe("sticky");
     await desk.getByLabel(`Choose Rowena Recallby${tag}`).check();
     await expectAccessible(desk);

@@ -12,7 +12,7 @@ import { Notice } from "~/components/ui/notice";
 import { addDays, localParts } from "~/lib/scheduling";
 import { isCalendarDate } from "~/lib/dates/calendar-date";
 import { readForm } from "~/utils/form.server";
-import { BookingError, bookAppointment } from "~/models/schedule/schedule.server";
+import { BookingError, bookAppointment, bookingHorizonDays, practiceSchedule } from "~/models/schedule/schedule.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { activeSites } from "~/models/schedule/sites.server";
 
@@ -70,7 +70,17 @@ export async function action({ request }: Route.ActionArgs) {
     );
   }
   // Choosing a time only asks for a check of the details; nothing is booked until it is confirmed.
-  if (v.step === "review")
+  if (v.step === "review") {
+    // A time past the portal's horizon is refused at once, not only when confirmed.
+    const settings = await practiceSchedule();
+    const days = bookingHorizonDays(user, settings);
+    if (new Date(v.start).getTime() > Date.now() + days * 86_400_000) {
+      const until = localParts(new Date(Date.now() + days * 86_400_000), settings.timeZone).date;
+      return data(
+        submission.reply({ formErrors: [`Bookings can be made at most ${days} days ahead (until ${until}).`] }),
+        { status: 422 },
+      );
+    }
     return {
       review: {
         appointmentTypeId: v.appointmentTypeId,
@@ -79,6 +89,7 @@ export async function action({ request }: Route.ActionArgs) {
         siteId: v.siteId ?? "",
       },
     };
+  }
   try {
     await bookAppointment(
       user,
