@@ -2,6 +2,7 @@ import { asc, eq } from "drizzle-orm";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/invoice-new";
+import { appointmentForInvoice, patientForInvoice } from "~/models/billing/invoice-start.server";
 import { BillingNav } from "~/components/billing/invoice-status";
 import { ErrorList } from "~/components/forms";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
@@ -11,7 +12,7 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
-import { appointments, appointmentTypes, exams, feeItems, patients, practiceSettings } from "~/db/schema";
+import { feeItems, patients, practiceSettings } from "~/db/schema";
 import { formatDate, formatMoney } from "~/lib/format";
 import { parseMoney } from "~/lib/money";
 import { parseDecimal } from "~/lib/numbers/decimal";
@@ -88,37 +89,15 @@ export async function loader({ request }: Route.LoaderArgs) {
   if (!exam && appointmentId) {
     if (!z.uuid().safeParse(appointmentId).success)
       throw data({ error: "There is no such appointment." }, { status: 404 });
-    const [appt] = await db
-      .select({
-        id: appointments.id,
-        patientId: appointments.patientId,
-        startsAt: appointments.startsAt,
-        typeName: appointmentTypes.name,
-        feeItemId: appointmentTypes.defaultFeeItemId,
-      })
-      .from(appointments)
-      .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
-      .where(eq(appointments.id, appointmentId));
+    const appt = await appointmentForInvoice(appointmentId);
     if (!appt) throw data({ error: "There is no such appointment." }, { status: 404 });
-    const [linked] = await db.select({ id: exams.id }).from(exams).where(eq(exams.appointmentId, appt.id)).limit(1);
-    if (linked) throw redirect(`/billing/invoices/new?exam=${linked.id}`);
+    if (appt.examId) throw redirect(`/billing/invoices/new?exam=${appt.examId}`);
     appointment = { id: appt.id, typeName: appt.typeName, startsAt: appt.startsAt.toISOString() };
     suggestedFeeItemId = appt.feeItemId;
     preselectedId = appt.patientId;
   }
   if (!exam && z.uuid().safeParse(preselectedId).success) {
-    const [p] = await db
-      .select({
-        id: patients.id,
-        firstName: patients.firstName,
-        lastName: patients.lastName,
-        dateOfBirth: patients.dateOfBirth,
-        phone: patients.phone,
-        email: patients.email,
-      })
-      .from(patients)
-      .where(eq(patients.id, preselectedId));
-    preselected = p ?? null;
+    preselected = await patientForInvoice(preselectedId);
   }
   return {
     currency: settings?.currency ?? "GBP",
