@@ -11,6 +11,8 @@ const alias = {
 // Vitest runs without the React Router plugin (it would try to build the app);
 // the same file serves both so the alias is declared once.
 const isVitest = Boolean(process.env.VITEST);
+// Longest browser files first (loaded only under Vitest: the app's build has no use for it).
+const sequencer = isVitest ? (await import("./tests/support/sequencer")).default : undefined;
 
 // Test files at once: unit and integration files (each worker on its own copy of the test
 // database), then browser files (each on its own stack; see tests/e2e/global-setup.ts).
@@ -22,6 +24,7 @@ export default defineConfig({
   resolve: { alias },
   server: { host: "127.0.0.1", port: 3000 },
   test: {
+    sequence: { sequencer },
     projects: [
       {
         resolve: { alias },

@@ -2,11 +2,10 @@ import type { ChildProcess } from "node:child_process";
 import { existsSync } from "node:fs";
 import { join } from "node:path";
 import type { TestProject } from "vitest/node";
-import { BUILD_DIR, e2eStackPorts } from "../support/ports";
+import { BUILD_DIR, e2eStackPorts, TEMPLATE_DB } from "../support/ports";
 import {
   cloneDatabase,
-  freshDatabase,
-  prepareJobQueues,
+  templateDatabase,
   ROOT,
   s3Env,
   startMailStandIn,
@@ -47,11 +46,9 @@ export default async function setup(project: TestProject) {
   if (!existsSync(join(ROOT, BUILD_DIR, "server/index.js")))
     throw new Error("No build found: run `npm test` (it builds first) or `npm run build`.");
   const count = e2eStackCount();
-  const first = e2eStackPorts(0);
-  const template = await freshDatabase(first.db);
-  await prepareJobQueues(template);
-  const urls = [template];
-  for (let n = 1; n < count; n++) urls.push(await cloneDatabase(first.db, e2eStackPorts(n).db));
+  await templateDatabase();
+  const urls: string[] = [];
+  for (let n = 0; n < count; n++) urls.push(await cloneDatabase(TEMPLATE_DB, e2eStackPorts(n).db));
 
   const children: ChildProcess[] = [];
   const startStack = async (n: number): Promise<E2EStack> => {

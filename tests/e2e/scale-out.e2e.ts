@@ -13,10 +13,9 @@ import pg from "pg";
 import { chromium, type Browser, type Page, type Response as PwResponse } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { addDays, localParts, startOfWeek } from "~/lib/scheduling/time";
-import { BUILD_DIR, SCALE } from "../support/ports";
+import { BUILD_DIR, SCALE, TEMPLATE_DB } from "../support/ports";
 import {
-  freshDatabase,
-  prepareJobQueues,
+  cloneDatabase,
   ROOT,
   s3Env,
   startMailStandIn,
@@ -197,8 +196,8 @@ async function signIn(p: Page, email: string) {
 beforeAll(async () => {
   if (!existsSync(NGINX))
     throw new Error("nginx is not installed: npm test installs Debian's nginx-light (app/ops/test.sh).");
-  databaseUrl = await freshDatabase(SCALE.db);
-  await prepareJobQueues(databaseUrl);
+  // A copy of the run's seeded template (tests/support/services.ts), with its job queues.
+  databaseUrl = await cloneDatabase(TEMPLATE_DB, SCALE.db);
   db = new pg.Client({ connectionString: databaseUrl });
   await db.connect();
   services.push(await startMailStandIn(SCALE.smtp, SCALE.mailApi));

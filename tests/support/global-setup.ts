@@ -1,9 +1,8 @@
 import type { TestProject } from "vitest/node";
-import { UNIT } from "./ports";
+import { TEMPLATE_DB, UNIT } from "./ports";
 import {
   cloneDatabase,
-  freshDatabase,
-  prepareJobQueues,
+  templateDatabase,
   startMailStandIn,
   startS3StandIn,
   startStripeStandIn,
@@ -16,11 +15,11 @@ import {
  * Stripe and object-storage stand-ins on test ports.
  */
 export default async function setup(project: TestProject) {
-  const url = await freshDatabase(UNIT.db);
-  await prepareJobQueues(url);
+  await templateDatabase();
+  const url = await cloneDatabase(TEMPLATE_DB, UNIT.db);
   const workers = Math.max(1, Number(process.env.DIOPTRA_TEST_WORKERS ?? 3));
   const urls: string[] = [];
-  for (let n = 1; n <= workers; n++) urls.push(await cloneDatabase(UNIT.db, `${UNIT.db}_p${n}`));
+  for (let n = 1; n <= workers; n++) urls.push(await cloneDatabase(TEMPLATE_DB, `${UNIT.db}_p${n}`));
   const started = await Promise.allSettled([
     startMailStandIn(UNIT.smtp, UNIT.mailApi),
     startStripeStandIn(UNIT.stripe, ""),

@@ -5,6 +5,9 @@
 const slot = Number(process.env.DIOPTRA_TEST_SLOT ?? 0);
 const suffix = slot ? `_${slot}` : "";
 
+/** The run's freshly migrated and seeded database; every test database is a copy of it (no one connects to it). */
+export const TEMPLATE_DB = `dioptra_template${suffix}`;
+
 export const UNIT = {
   db: `dioptra_test${suffix}`,
   smtp: 2625 + slot * 10,

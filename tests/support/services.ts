@@ -11,6 +11,7 @@ import pg from "pg";
 import { runMigrations } from "../../app/ops/migrate";
 import { databaseUrl } from "../../app/utils/db-url";
 import { seed } from "../../seeds/seed";
+import { TEMPLATE_DB } from "./ports";
 
 export const ROOT = new URL("../..", import.meta.url).pathname.replace(/\/$/, "");
 
@@ -21,6 +22,13 @@ export function testDatabaseUrl(name: string) {
   return url.toString();
 }
 
+/**
+ * Test databases do not wait for the disk on each commit: a crash could lose the last moments of
+ * a test run, never corrupt it, and the many small commits of a browser flow stop queueing on
+ * fsync. (The setting is per database, so the practice's own database is untouched.)
+ */
+const NO_COMMIT_WAIT = (name: string) => `ALTER DATABASE "${name}" SET synchronous_commit = off`;
+
 /** Drops and re-creates `name`, applies the migrations and seeds the demo practice. */
 export async function freshDatabase(name: string) {
   const admin = new URL(databaseUrl());
@@ -30,6 +38,7 @@ export async function freshDatabase(name: string) {
   try {
     await client.query(`DROP DATABASE IF EXISTS "${name}" WITH (FORCE)`);
     await client.query(`CREATE DATABASE "${name}"`);
+    await client.query(NO_COMMIT_WAIT(name));
   } finally {
     await client.end();
   }
@@ -37,6 +46,21 @@ export async function freshDatabase(name: string) {
   await runMigrations(url);
   await seed(url);
   return url;
+}
+
+/**
+ * The run's one freshly migrated and seeded database, with its job queues: made once per run by
+ * whichever global set-up asks first (both projects' set-ups run in Vitest's main process), then
+ * only copied, so the demo is seeded once rather than once per project.
+ */
+export function templateDatabase(): Promise<string> {
+  const shared = globalThis as { dioptraTemplate?: Promise<string> };
+  shared.dioptraTemplate ??= (async () => {
+    const url = await freshDatabase(TEMPLATE_DB);
+    await prepareJobQueues(url);
+    return url;
+  })();
+  return shared.dioptraTemplate;
 }
 
 /**
@@ -51,6 +75,7 @@ export async function cloneDatabase(template: string, name: string) {
   try {
     await client.query(`DROP DATABASE IF EXISTS "${name}" WITH (FORCE)`);
     await client.query(`CREATE DATABASE "${name}" TEMPLATE "${template}" STRATEGY FILE_COPY`);
+    await client.query(NO_COMMIT_WAIT(name));
   } finally {
     await client.end();
   }
