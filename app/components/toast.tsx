@@ -3,7 +3,11 @@ import { Notice } from "./ui/notice";
 
 type Toast = { kind: "success" | "info" | "warning" | "error"; title: string; description?: string };
 
-/** Shows the flash message of the last action; it stays until dismissed or the next navigation. */
+/**
+ * Shows the flash message of the last action at the top of the page, in the page's own flow: it
+ * pushes the page down rather than lying over it, so it never hides what it reports on (a flash
+ * follows a redirect, which scrolls to the top). It stays until dismissed or the next navigation.
+ */
 export function ToastViewport({ toast }: { toast: Toast | null }) {
   const [visible, setVisible] = useState<Toast | null>(toast);
   // A new flash message replaces the shown one (state adjusted while rendering, as React advises).
@@ -14,7 +18,7 @@ export function ToastViewport({ toast }: { toast: Toast | null }) {
   }
   if (!visible) return null;
   return (
-    <div className="fixed right-4 bottom-4 z-40 w-[min(26rem,calc(100vw-2rem))] shadow-lg" data-testid="toast">
+    <div className="mx-auto max-w-6xl px-4 pt-3" data-testid="toast">
       <div className="relative">
         <Notice tone={visible.kind} title={visible.title}>
           {visible.description}

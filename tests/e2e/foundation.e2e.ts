@@ -86,6 +86,9 @@ describe("sign-in and roles in the browser", () => {
     await invite.getByLabel("Role").selectOption("optometrist");
     await invite.getByRole("button", { name: "Send invitation" }).click();
     await expect.poll(() => owner.getByTestId("toast").textContent()).toContain(`Invitation sent to ${email}`);
+    // The message sits in the page's flow above what it reports on, never over it.
+    const [toastBox, formBox] = await Promise.all([owner.getByTestId("toast").boundingBox(), invite.boundingBox()]);
+    expect(toastBox!.y + toastBox!.height).toBeLessThanOrEqual(formBox!.y);
     await screenshot(owner, "settings-users");
 
     // The invitee opens the link from the demo mailbox page.

@@ -177,15 +177,17 @@ export function screenColourVision(input: ColourVisionInput): ColourVisionResult
     input.criterion ??
     (typeof test === "string" && Object.hasOwn(PLATE_CRITERIA, test) ? PLATE_CRITERIA[test] : undefined);
   for (const [name, value] of [
-    ["platesCorrect", platesCorrect],
-    ["platesShown", platesShown],
+    ["plates read correctly", platesCorrect],
+    ["plates shown", platesShown],
   ] as const) {
     if (!Number.isInteger(value) || value < 0) {
-      throw new RxError(`${name} must be a whole number of plates (got ${String(value)}) in screenColourVision`);
+      throw new RxError(`Give the ${name} as a whole number of plates, 0 or more (you gave ${String(value)}).`);
     }
   }
   if (platesCorrect > platesShown) {
-    throw new RxError(`platesCorrect (${platesCorrect}) cannot exceed platesShown (${platesShown})`);
+    throw new RxError(
+      `More plates read correctly (${platesCorrect}) than were shown (${platesShown}): check both counts.`,
+    );
   }
   if (!criterion) {
     return {
@@ -206,8 +208,8 @@ export function screenColourVision(input: ColourVisionInput): ColourVisionResult
   }
   if (platesShown > platesAssessed) {
     throw new RxError(
-      `platesShown (${platesShown}) exceeds the ${platesAssessed} plates the ${String(test)} criterion assesses; ` +
-        "count only those plates",
+      `${platesShown} plates shown, but this test's pass rule counts only ${platesAssessed} plates: ` +
+        `give the number of counted plates shown (${platesAssessed} at most).`,
     );
   }
   const plates = countedPlates(test) ?? `1–${platesAssessed}`;

@@ -24,12 +24,12 @@ export function parseIsoInZone(value: string, timeZone: string): Date | null {
 }
 
 export const isoTime = (timeZone: string, label: string) =>
-  z.string({ error: `Give the ${label} as an ISO 8601 time, e.g. 2027-03-29T09:00:00+01:00.` }).transform((v, ctx) => {
+  z.string({ error: `Give the ${label} date and time, for example 2027-03-29T09:00.` }).transform((v, ctx) => {
     const d = parseIsoInZone(v, timeZone);
     if (!d) {
       ctx.addIssue({
         code: "custom",
-        message: `The ${label} is not an ISO 8601 time (e.g. 2027-03-29T09:00:00+01:00), or that wall time does not exist in ${timeZone}.`,
+        message: `The ${label} is not a date and time we can read (write it like 2027-03-29T09:00), or that time does not exist in ${timeZone} because the clocks change.`,
       });
       return z.NEVER;
     }

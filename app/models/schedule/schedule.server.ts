@@ -124,7 +124,7 @@ async function clashError(
   const what = clash
     ? `${clash.providerName} already has ${clash.patientName} (${clash.typeName}) from ${formatLocal(new Date(clash.start), timeZone)} to ${formatLocal(new Date(clash.end), timeZone, { withDate: false })}.`
     : "The provider already has an appointment at that time.";
-  return new BookingError(`Not booked: ${what} Choose another time or provider.`, {
+  return new BookingError(`${what} Choose another time or provider.`, {
     status: 409,
     fieldErrors: { start: [what] },
     clash: clash,
@@ -158,7 +158,7 @@ async function roomClashError(
     )
     .limit(1);
   const what = `${room?.name ?? "The room"} at ${room?.site ?? "the site"} is in use${other ? ` by ${other.providerName} from ${formatLocal(other.start, timeZone)} to ${formatLocal(other.end, timeZone, { withDate: false })}` : " at that time"}.`;
-  return new BookingError(`Not booked: ${what} Choose another room or time.`, {
+  return new BookingError(`${what} Choose another room or time.`, {
     status: 409,
     fieldErrors: { roomId: [what] },
   });
