@@ -7,6 +7,7 @@ import { Link } from "react-router";
 import { Card } from "~/components/ui/card";
 import { StatusBadge } from "~/components/ui/notice";
 import { STATUS_LABEL, STATUS_TONE, URGENCY_LABEL, type DisplayStatus, type Urgency } from "~/lib/referrals";
+import { formatDate } from "~/lib/format";
 
 export type ChartReferral = {
   id: string;
@@ -38,7 +39,7 @@ export function ChartReferrals({ referrals }: { referrals: ChartReferral[] }) {
                 <span className="text-sm text-muted">
                   {URGENCY_LABEL[r.urgency]}
                   {r.recipient ? ` · to ${r.recipient}` : ""}
-                  {r.sentAt ? ` · sent ${r.sentAt.slice(0, 10)}` : ""}
+                  {r.sentAt ? ` · sent ${formatDate(r.sentAt)}` : ""}
                   {r.appointmentOn ? ` · appointment ${r.appointmentOn}` : ""}
                 </span>
               </div>
@@ -46,7 +47,7 @@ export function ChartReferrals({ referrals }: { referrals: ChartReferral[] }) {
               {r.replies.map((x) => (
                 <div key={x.id} className="mt-2 border-l-2 border-accent-600 pl-3 text-sm">
                   <p className="text-muted">
-                    Reply from {x.authorName} · {x.createdAt.slice(0, 10)}
+                    Reply from {x.authorName} · {formatDate(x.createdAt)}
                   </p>
                   {x.body ? <p className="whitespace-pre-wrap">{x.body}</p> : null}
                   {x.fileName ? <p>Consult letter: {x.fileName}</p> : null}

@@ -17,6 +17,7 @@ import {
   type TimeFrames,
   type Urgency,
 } from "~/lib/referrals";
+import { formatDate } from "~/lib/format";
 
 export const letterSchema = z
   .object({
@@ -292,7 +293,7 @@ export function LetterForm({
                       <span className="font-semibold">{u.originalName}</span>
                       <span className="block text-sm text-muted">
                         {u.kind.replace(/_/g, " ")}
-                        {u.description ? ` · ${u.description}` : ""} · {u.createdAt.slice(0, 10)}
+                        {u.description ? ` · ${u.description}` : ""} · {formatDate(u.createdAt)}
                       </span>
                     </span>
                   </label>

@@ -6,7 +6,6 @@ import { draftValuesOf, LetterForm, letterSchema } from "./letter-form";
 import {
   candidateExams,
   createDraft,
-  formatDate,
   isUuid,
   practice,
   prefill,
@@ -26,6 +25,7 @@ import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { formatDate } from "~/lib/format";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, CLINICAL_ROLES);
@@ -40,7 +40,7 @@ export async function loader({ request }: Route.LoaderArgs) {
         patientId: c.patientId,
         patient: `${c.firstName} ${c.lastName}`,
         dateOfBirth: c.dateOfBirth,
-        examinedOn: formatDate(c.examinedAt, p.timeZone),
+        examinedOn: formatDate(c.examinedAt, { timeZone: p.timeZone, style: "long" }),
         prompts: c.prompts,
       })),
     };
@@ -71,7 +71,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     id: patient!.id,
     name: `${patient!.firstName} ${patient!.lastName}`,
     dateOfBirth: patient!.dateOfBirth,
-    examinedOn: formatDate(exam.examinedAt, p.timeZone),
+    examinedOn: formatDate(exam.examinedAt, { timeZone: p.timeZone, style: "long" }),
     examUrl,
   };
   if (exam.status !== "signed") return { kind: "unsigned" as const, patient: patientInfo };
@@ -172,7 +172,7 @@ export default function NewReferral({ loaderData, actionData }: Route.ComponentP
                     <div>
                       <p className="text-lg font-semibold">{c.patient}</p>
                       <p className="text-sm text-muted">
-                        Born {c.dateOfBirth} · examined {c.examinedOn}
+                        Born {formatDate(c.dateOfBirth)} · examined {c.examinedOn}
                       </p>
                       <ul className="mt-2 list-disc pl-5 text-sm">
                         {c.prompts.map((m) => (
@@ -216,7 +216,8 @@ export default function NewReferral({ loaderData, actionData }: Route.ComponentP
         title={`Referral for ${loaderData.patient.name}`}
         description={
           <>
-            Born {loaderData.patient.dateOfBirth} · from the signed exam of {loaderData.patient.examinedOn} ·{" "}
+            Born {formatDate(loaderData.patient.dateOfBirth)} · from the signed exam of {loaderData.patient.examinedOn}{" "}
+            ·{" "}
             <Link
               to={loaderData.patient.examUrl}
               className="font-semibold text-accent-700 underline underline-offset-4"

@@ -5,6 +5,7 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { StatusBadge } from "~/components/ui/notice";
 import { STATUS_LABEL, STATUS_TONE } from "~/lib/referrals";
+import { formatDate } from "~/lib/format";
 
 export type Summary = Route.ComponentProps["loaderData"]["summary"];
 
@@ -127,7 +128,7 @@ export function Timeline({ s }: { s: Summary }) {
         {s.events.map((e, i) => (
           <li key={i}>
             <span className="font-semibold">{e.label}</span>
-            {e.date ? ` (${e.date})` : ""} · {e.at}
+            {e.date ? ` (${formatDate(e.date)})` : ""} · {e.at}
             {e.by ? ` · ${e.by}` : ""}
           </li>
         ))}

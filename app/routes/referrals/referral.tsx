@@ -25,6 +25,7 @@ import { referralMessages } from "~/db/schema";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { formatDate } from "~/lib/format";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
@@ -128,7 +129,7 @@ export default function ReferralPage({ loaderData, actionData }: Route.Component
       <>
         <PageHeader
           title={`Referral ${s.reference}`}
-          description={`${s.patient.name} · born ${s.patient.dateOfBirth}`}
+          description={`${s.patient.name} · born ${formatDate(s.patient.dateOfBirth)}`}
         />
         <div className="mb-6">
           <Notice tone="info" title="Status only">
@@ -165,7 +166,7 @@ export default function ReferralPage({ loaderData, actionData }: Route.Component
             >
               {s.patient.name}
             </Link>{" "}
-            · born {s.patient.dateOfBirth} ·{" "}
+            · born {formatDate(s.patient.dateOfBirth)} ·{" "}
             <Link to={loaderData.examUrl} className="font-semibold text-accent-700 underline underline-offset-4">
               the exam
             </Link>

@@ -21,6 +21,7 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Textarea } from "~/components/ui/input";
 import { Notice, StatusBadge } from "~/components/ui/notice";
+import { formatDate } from "~/lib/format";
 
 const name = z
   .string({ error: "Give your name." })
@@ -115,7 +116,11 @@ export async function action({ request, params }: Route.ActionArgs) {
       const s = parseWithZod(formData, { schema: apptSchema });
       if (s.status !== "success") return data({ intent, result: s.reply() }, { status: 400 });
       await setAppointment(check.referralId, check.linkId, s.value.name, s.value.date, request);
-      return data({ intent, result: s.reply({ resetForm: true }), done: `Appointment date ${s.value.date} recorded.` });
+      return data({
+        intent,
+        result: s.reply({ resetForm: true }),
+        done: `Appointment date ${formatDate(s.value.date, { style: "long" })} recorded.`,
+      });
     }
     if (intent === "reply") {
       const s = parseWithZod(formData, { schema: replySchema });
@@ -226,7 +231,7 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
           <dl className="grid gap-x-6 gap-y-2 text-sm sm:grid-cols-[10rem_1fr]">
             <dt className="text-muted">Patient</dt>
             <dd className="font-semibold">
-              {s.patient.name}, born {s.patient.dateOfBirth}
+              {s.patient.name}, born {formatDate(s.patient.dateOfBirth)}
             </dd>
             <dt className="text-muted">Urgency</dt>
             <dd>
