@@ -25,7 +25,7 @@ export function CalendarLegend({
           <li key={t.id} className="flex items-center gap-1.5">
             <span
               aria-hidden="true"
-              className="inline-block size-3.5 rounded-sm border-l-4"
+              className="inline-block h-4 w-6 rounded-sm border border-l-4"
               style={{ background: colours[t.id]?.fill, borderColor: colours[t.id]?.edge }}
             />
             {t.name}

@@ -69,7 +69,7 @@ function EventBody({ arg }: { arg: EventContentArg }) {
     );
   const minutes = ((arg.event.end?.getTime() ?? 0) - (arg.event.start?.getTime() ?? 0)) / 60_000;
   return (
-    <div className="appt-body flex h-full flex-col overflow-hidden px-1 text-xs leading-tight">
+    <div className="appt-body flex h-full flex-col overflow-hidden px-1 text-xs leading-3.5">
       <div className="appt-name truncate font-bold">{p.patientName}</div>
       {minutes < 30 ? (
         <div className="truncate">

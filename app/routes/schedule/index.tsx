@@ -176,11 +176,7 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
             Show
           </button>
         </noscript>
-        <Link
-          to={query(side ? "timeGridWeek" : "clinicians", date)}
-          className={buttonClass("secondary", "ml-auto")}
-          aria-current={side ? "page" : undefined}
-        >
+        <Link to={query(side ? "timeGridWeek" : "clinicians", date)} className={buttonClass("secondary", "ml-auto")}>
           {side ? "Back to the week" : "Day by clinician"}
         </Link>
       </Form>
