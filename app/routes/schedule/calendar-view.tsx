@@ -165,6 +165,7 @@ export default function CalendarView(props: CalendarProps) {
       eventTimeFormat={{ hour: "2-digit", minute: "2-digit", hourCycle: "h23" }}
       allDaySlot={false}
       nowIndicator
+      slotEventOverlap={false}
       height="auto"
       expandRows
       businessHours={props.businessHours.length ? props.businessHours : false}
