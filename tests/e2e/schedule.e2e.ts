@@ -112,6 +112,11 @@ describe("the schedule in the browser", () => {
     await desk.goto(`/schedule/day?date=${wednesday}&provider=all`);
     await expectAccessible(desk);
     await desk.getByRole("button", { name: "Mark arrived for Rosalind Achterberg" }).click();
+    // The visit is not today's: the arrival is confirmed first.
+    await desk
+      .getByRole("dialog", { name: "Not today's appointment" })
+      .getByRole("button", { name: /^Yes, mark arrived/ })
+      .click();
     await expect.poll(() => desk.locator(`tr[data-appointment-id="${appt!.id}"]`).textContent()).toContain("Arrived");
     await screenshot(desk, "schedule-day-list");
 

@@ -5,7 +5,14 @@ import { loader as eventsLoader } from "~/routes/api/appointments";
 import { action as dayAction } from "~/routes/schedule/day";
 import { action as registerAction } from "~/routes/api/schedule-patients";
 import { loader as searchLoader } from "~/routes/api/patients";
-import { appointmentMessages, appointments, appointmentStatusChanges, auditLog, exams } from "~/db/schema";
+import {
+  appointmentMessages,
+  appointmentMoves,
+  appointments,
+  appointmentStatusChanges,
+  auditLog,
+  exams,
+} from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { cookieFor, makeRequest, run, statusOf, uniqueEmail } from "#tests/support/helpers";
 import { demoIds, jobsFor, newPatient, postBooking } from "./schedule-fixtures";
@@ -249,6 +256,18 @@ describe("moving and resizing (PATCH /api/appointments/:id)", () => {
     const [row] = await db.select().from(appointments).where(eq(appointments.id, a.appointment.id));
     expect(row!.startsAt.toISOString()).toBe("2027-02-10T11:00:00.000Z");
     expect(row!.revision).toBe(1);
+    // The move is in the appointment's history: from where, to where, by whom; the refused one is not.
+    const moves = await db.select().from(appointmentMoves).where(eq(appointmentMoves.appointmentId, a.appointment.id));
+    expect(
+      moves.map((m) => [
+        m.fromStartsAt.toISOString(),
+        m.toStartsAt.toISOString(),
+        m.toEndsAt.toISOString(),
+        m.movedById,
+      ]),
+    ).toEqual([
+      ["2027-02-08T10:00:00.000Z", "2027-02-10T11:00:00.000Z", "2027-02-10T11:30:00.000Z", ids.receptionist.id],
+    ]);
     const longer = await patch(a.appointment.id, { start: "2027-02-10T11:00:00Z", end: "2027-02-10T12:00:00Z" });
     expect(longer.status).toBe(200);
     expect(((await longer.json()) as { appointment: { end: string } }).appointment.end).toBe(
@@ -286,12 +305,26 @@ describe("day flow", () => {
     const a = ((await (await book(p.id, "2027-02-11T10:00:00Z")).json()) as { appointment: { id: string } })
       .appointment;
     expect((await patch(a.id, { status: "confirmed" })).status).toBe(200);
-    expect((await patch(a.id, { status: "arrived" })).status).toBe(200);
+    // The visit is not today: an arrival needs the confirmation flag, and the refusal says why.
+    const early = await patch(a.id, { status: "arrived" });
+    expect(early.status).toBe(409);
+    expect(((await early.json()) as { error: string }).error).toMatch(
+      /not today .*Confirm that you mean to mark it arrived/,
+    );
+    expect((await patch(a.id, { status: "arrived", confirmOtherDay: true })).status).toBe(200);
     // The front desk does not start exams.
-    const refused = await patch(a.id, { status: "in_exam" });
+    const refused = await patch(a.id, { status: "in_exam", confirmOtherDay: true });
     expect(refused.status).toBe(403);
     // The optometrist starts it from the day list: an exam row linked to the appointment, then its page.
-    const form = { intent: "status", appointmentId: a.id, status: "in_exam" };
+    const unconfirmed = (await run(
+      dayAction,
+      makeRequest("/schedule/day", {
+        cookie: await cookieFor("optometrist"),
+        form: { intent: "status", appointmentId: a.id, status: "in_exam" },
+      }),
+    )) as unknown;
+    expect(statusOf(unconfirmed)).toBe(409);
+    const form = { intent: "status", appointmentId: a.id, status: "in_exam", confirmOtherDay: "1" };
     const res = (await run(
       dayAction,
       makeRequest("/schedule/day", { cookie: await cookieFor("optometrist"), form }),
@@ -300,7 +333,7 @@ describe("day flow", () => {
     const [exam] = await db.select().from(exams).where(eq(exams.appointmentId, a.id));
     expect(exam).toMatchObject({ patientId: p.id, optometristId: ids.optometrist.id, status: "in_progress" });
     expect(res.headers.get("location")).toBe(`/patients/${p.id}/exams/${exam!.id}`);
-    expect((await patch(a.id, { status: "completed" }, "optometrist")).status).toBe(200);
+    expect((await patch(a.id, { status: "completed", confirmOtherDay: true }, "optometrist")).status).toBe(200);
     // A finished visit is not reopened or moved.
     expect((await patch(a.id, { status: "booked" })).status).toBe(409);
     expect((await patch(a.id, { start: "2027-02-12T10:00:00Z" })).status).toBe(409);
@@ -334,7 +367,7 @@ describe("day flow", () => {
     // Reinstating the cancelled one is not allowed (finished), and a no-show reinstated onto a taken slot is a 409.
     const b = ((await (await book(p.id, "2027-02-12T11:00:00Z")).json()) as { appointment: { id: string } })
       .appointment;
-    expect((await patch(b.id, { status: "no_show" })).status).toBe(200);
+    expect((await patch(b.id, { status: "no_show", confirmOtherDay: true })).status).toBe(200);
     expect((await book(other.id, "2027-02-12T11:00:00Z")).status).toBe(201);
     expect((await patch(b.id, { status: "booked" })).status).toBe(409);
   });

@@ -1,10 +1,13 @@
 import { Link } from "react-router";
+import { StatusCommands } from "./status-commands";
 import { AppointmentStatus } from "./status-ui";
 import { Card } from "~/components/ui/card";
 import type { Status } from "~/lib/scheduling/status";
 
 type Today = {
   own: boolean;
+  date: string;
+  role: string;
   appointments: {
     id: string;
     time: string;
@@ -33,14 +36,37 @@ export function TodayCard({ today }: { today: Today }) {
       ) : (
         <ul className="divide-y divide-line">
           {shown.map((a) => (
-            <li key={a.id} className="flex flex-wrap items-center gap-x-4 gap-y-1 py-2 text-sm">
+            <li
+              key={a.id}
+              data-appointment-id={a.id}
+              className="flex flex-wrap items-center gap-x-4 gap-y-1 py-2 text-sm"
+            >
               <span className="w-12 font-semibold">{a.time}</span>
-              <span className="font-semibold">{a.patientName}</span>
+              <Link
+                to={`/schedule/appointments/${a.id}`}
+                className="font-semibold text-accent-700 underline underline-offset-4"
+              >
+                {a.patientName}
+                <span className="sr-only">: open the appointment</span>
+              </Link>
               <span className="text-muted">
                 {a.typeName}
                 {today.own ? "" : ` · ${a.providerName}`}
               </span>
               <AppointmentStatus status={a.status} />
+              {a.status === "booked" || a.status === "confirmed" ? (
+                <span className="ml-auto">
+                  <StatusCommands
+                    id={a.id}
+                    status={a.status}
+                    role={today.role}
+                    name={a.patientName}
+                    date={today.date}
+                    today={today.date}
+                    only={["arrived"]}
+                  />
+                </span>
+              ) : null}
             </li>
           ))}
         </ul>

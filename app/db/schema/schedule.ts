@@ -127,6 +127,26 @@ export const appointmentStatusChanges = pgTable(
   (t) => [index("appointment_status_changes_appt_idx").on(t.appointmentId, t.changedAt)],
 );
 
+/** Every move or resize of an appointment: where it was, where it went, who moved it and when. Append-only. */
+export const appointmentMoves = pgTable(
+  "appointment_moves",
+  {
+    id: bigint({ mode: "number" }).primaryKey().generatedAlwaysAsIdentity(),
+    appointmentId: uuid()
+      .notNull()
+      .references(() => appointments.id, { onDelete: "cascade" }),
+    fromStartsAt: timestamp({ withTimezone: true }).notNull(),
+    fromEndsAt: timestamp({ withTimezone: true }).notNull(),
+    fromProviderId: uuid().references(() => users.id, { onDelete: "set null" }),
+    toStartsAt: timestamp({ withTimezone: true }).notNull(),
+    toEndsAt: timestamp({ withTimezone: true }).notNull(),
+    toProviderId: uuid().references(() => users.id, { onDelete: "set null" }),
+    movedById: uuid().references(() => users.id, { onDelete: "set null" }),
+    movedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [index("appointment_moves_appt_idx").on(t.appointmentId, t.movedAt)],
+);
+
 /**
  * A provider's working hours: one span per weekday (ISO weekday 1 = Monday … 7 = Sunday),
  * in minutes after local midnight in the site's time zone, at one site (and optionally one

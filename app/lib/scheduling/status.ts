@@ -34,6 +34,22 @@ export const NEXT_STATUSES: Record<Status, readonly Status[]> = {
   no_show: ["booked"],
 };
 
+/** Statuses that only happen on the day of the visit; setting one on another day needs confirming. */
+export const DAY_OF_VISIT_STATUSES: readonly Status[] = ["arrived", "in_exam", "completed", "no_show"];
+
+/** A change back along the day flow: undoing the last step rather than taking a new one. */
+export function isUndo(from: Status, to: Status): boolean {
+  return UNDO_COMMAND[from]?.to === to;
+}
+
+/** The undo of each step, worded as an undo (not as the status it returns to). */
+export const UNDO_COMMAND: Partial<Record<Status, { to: Status; label: string }>> = {
+  confirmed: { to: "booked", label: "Undo confirmation" },
+  arrived: { to: "confirmed", label: "Undo arrival" },
+  in_exam: { to: "arrived", label: "Undo exam start" },
+  no_show: { to: "booked", label: "Undo did not attend" },
+};
+
 export function canChangeStatus(from: Status, to: Status): boolean {
   return NEXT_STATUSES[from].includes(to);
 }

@@ -56,19 +56,27 @@ const statusSchema = z.object({
   intent: z.literal("status"),
   appointmentId: z.uuid(),
   status: z.enum(APPOINTMENT_STATUSES),
+  confirmOtherDay: z.literal("1").optional(),
 });
 
 /** Shared by the day list and the appointment page: change a status, open the exam when it starts. */
 export async function statusAction(request: Request) {
   const user = await requireRole(request, STAFF_ROLES);
   const parsed = statusSchema.safeParse(Object.fromEntries(await request.formData()));
-  if (!parsed.success) return data({ ok: false, error: "Choose an appointment and a status." }, { status: 400 });
+  if (!parsed.success)
+    return data({ ok: false, error: "Choose an appointment and a status.", needsConfirm: false }, { status: 400 });
   try {
-    const { appointment, examId } = await changeStatus(user, parsed.data.appointmentId, parsed.data.status, request);
+    const { appointment, examId } = await changeStatus(user, parsed.data.appointmentId, parsed.data.status, request, {
+      confirmOtherDay: parsed.data.confirmOtherDay === "1",
+    });
     if (examId) throw redirect(`/patients/${appointment.patientId}/exams/${examId}`);
-    return { ok: true, error: null };
+    return { ok: true, error: null, needsConfirm: false };
   } catch (error) {
-    if (error instanceof BookingError) return data({ ok: false, error: error.message }, { status: error.status });
+    if (error instanceof BookingError)
+      return data(
+        { ok: false, error: error.message, needsConfirm: Boolean(error.fieldErrors.confirmOtherDay) },
+        { status: error.status },
+      );
     throw error;
   }
 }

@@ -114,6 +114,7 @@ export function eventJson(e: CalendarEvent, timeZone: string) {
       patientId: e.patientId,
       patientName: e.patientName,
       typeName: e.typeName,
+      typeId: e.typeId,
       localDate: localParts(e.start, timeZone).date,
     },
   };

@@ -6,6 +6,7 @@
 import { and, asc, eq, gt, inArray, lt, ne, sql } from "drizzle-orm";
 import {
   appointmentMessages,
+  appointmentMoves,
   appointments,
   appointmentStatusChanges,
   appointmentTypes,
@@ -18,7 +19,14 @@ import {
   workingHours,
 } from "~/db/schema";
 import { checkWorkingHours, WEEKDAY_NAMES } from "~/lib/scheduling/hours";
-import { canChangeStatus, isMovable, LIVE_STATUSES, STATUS_LABEL, type Status } from "~/lib/scheduling/status";
+import {
+  canChangeStatus,
+  DAY_OF_VISIT_STATUSES,
+  isMovable,
+  LIVE_STATUSES,
+  STATUS_LABEL,
+  type Status,
+} from "~/lib/scheduling/status";
 import { formatLocal, localParts, zonedIsoFormatter } from "~/lib/scheduling/time";
 import { audit } from "~/utils/audit.server";
 import { db, pool, type Tx } from "~/utils/db.server";
@@ -427,6 +435,16 @@ export async function moveAppointment(
         })
         .where(eq(appointments.id, id))
         .returning();
+      await tx.insert(appointmentMoves).values({
+        appointmentId: id,
+        fromStartsAt: current.startsAt,
+        fromEndsAt: current.endsAt,
+        fromProviderId: current.providerId,
+        toStartsAt: change.start,
+        toEndsAt: end,
+        toProviderId: providerId,
+        movedById: actor.id,
+      });
       await rescheduleReminder(tx, row!, settings);
       // Every move: a calendar update with the same UID and the new, higher SEQUENCE.
       await queueAppointmentMessage(tx, row!, "update", settings);
@@ -475,6 +493,7 @@ export async function changeStatus(
   id: string,
   to: Status,
   request?: Request,
+  opts: { confirmOtherDay?: boolean } = {},
 ): Promise<{ appointment: typeof appointments.$inferSelect; examId?: string }> {
   const settings = await practiceSchedule();
   try {
@@ -486,6 +505,18 @@ export async function changeStatus(
           `An appointment that is ${STATUS_LABEL[current.status].toLowerCase()} cannot be marked ${STATUS_LABEL[to].toLowerCase()}.`,
           { status: 409 },
         );
+      }
+      // Arrival, the exam, completion and non-attendance happen on the day: on any other day they need a yes.
+      if (DAY_OF_VISIT_STATUSES.includes(to) && !opts.confirmOtherDay) {
+        const [site] = await tx.select({ timeZone: sites.timeZone }).from(sites).where(eq(sites.id, current.siteId));
+        const zone = site?.timeZone ?? settings.timeZone;
+        const day = localParts(current.startsAt, zone).date;
+        const today = localParts(new Date(), zone).date;
+        if (day !== today)
+          throw new BookingError(
+            `This appointment is on ${formatLocal(current.startsAt, zone)}, not today (${today}). Confirm that you mean to mark it ${STATUS_LABEL[to].toLowerCase()}.`,
+            { status: 409, fieldErrors: { confirmOtherDay: ["Confirm the change for another day."] } },
+          );
       }
       if (to === "in_exam" && actor.role !== "owner" && actor.role !== "optometrist")
         throw new BookingError("Only an optometrist or the owner starts an exam.", { status: 403 });
@@ -581,6 +612,7 @@ export type CalendarEvent = {
   patientId: string;
   patientName: string;
   typeName: string;
+  typeId: string;
   siteId: string;
   siteName: string;
   roomName: string | null;
@@ -604,6 +636,7 @@ export async function appointmentsBetween(
       first: patients.firstName,
       last: patients.lastName,
       typeName: appointmentTypes.name,
+      typeId: appointments.appointmentTypeId,
       siteId: appointments.siteId,
       siteName: sites.name,
       roomName: rooms.name,
@@ -654,7 +687,8 @@ export async function calendarEventsJson(
   if (opts.siteId) values.push(opts.siteId);
   const result = await pool.query<string[]>({
     text: `select a.id, (extract(epoch from a.starts_at) * 1000)::bigint::text, (extract(epoch from a.ends_at) * 1000)::bigint::text,
-                  a.status::text, a.provider_id, u.name, a.patient_id, p.first_name || ' ' || p.last_name, t.name
+                  a.status::text, a.provider_id, u.name, a.patient_id, p.first_name || ' ' || p.last_name, t.name,
+                  a.appointment_type_id
              from appointments a
              join patients p on p.id = a.patient_id
              join users u on u.id = a.provider_id
@@ -667,26 +701,29 @@ export async function calendarEventsJson(
     rowMode: "array",
   });
   const iso = zonedIsoFormatter(timeZone);
-  const events = result.rows.map(([id, s, e, status, providerId, providerName, patientId, patientName, typeName]) => {
-    const startIso = iso(Number(s));
-    return {
-      id,
-      title: `${patientName} · ${typeName}`,
-      start: startIso,
-      end: iso(Number(e)),
-      editable: status === "booked" || status === "confirmed",
-      classNames: [`appt-${status}`],
-      extendedProps: {
-        status,
-        statusLabel: STATUS_LABEL[status as Status],
-        providerId,
-        providerName,
-        patientId,
-        patientName,
-        typeName,
-        localDate: startIso.slice(0, 10),
-      },
-    };
-  });
+  const events = result.rows.map(
+    ([id, s, e, status, providerId, providerName, patientId, patientName, typeName, typeId]) => {
+      const startIso = iso(Number(s));
+      return {
+        id,
+        title: `${patientName} · ${typeName}`,
+        start: startIso,
+        end: iso(Number(e)),
+        editable: status === "booked" || status === "confirmed",
+        classNames: [`appt-${status}`],
+        extendedProps: {
+          status,
+          statusLabel: STATUS_LABEL[status as Status],
+          providerId,
+          providerName,
+          patientId,
+          patientName,
+          typeName,
+          typeId,
+          localDate: startIso.slice(0, 10),
+        },
+      };
+    },
+  );
   return JSON.stringify(events);
 }

@@ -11,6 +11,8 @@ export async function todaySummary(user: SessionUser) {
   const rows = await appointmentsBetween(start, end, { providerId: own ? user.id : undefined });
   return {
     own,
+    date,
+    role: user.role,
     appointments: rows.map((r) => ({
       id: r.id,
       time: formatLocal(r.start, timeZone, { withDate: false }),

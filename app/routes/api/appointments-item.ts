@@ -44,7 +44,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 
 /**
  * PATCH /api/appointments/:appointmentId — move or resize (`{ start, end?, providerId? }`) or
- * change status (`{ status }`). Every change is re-validated; a refusal answers 4xx with the reason.
+ * change status (`{ status, confirmOtherDay? }`; arrival, exam, completion and non-attendance on
+ * another day than today are refused with 409 unless `confirmOtherDay` is true). Every change is re-validated; a refusal answers 4xx with the reason.
  */
 export async function action({ request, params }: Route.ActionArgs) {
   if (request.method !== "PATCH" && request.method !== "POST") return errorJson(405, "Use PATCH.");
@@ -62,6 +63,7 @@ export async function action({ request, params }: Route.ActionArgs) {
     z
       .object({
         status: z.enum(APPOINTMENT_STATUSES, { error: `status must be one of ${APPOINTMENT_STATUSES.join(", ")}.` }),
+        confirmOtherDay: z.boolean({ error: "confirmOtherDay must be true or false." }).optional(),
       })
       .strict(),
     z
@@ -75,11 +77,17 @@ export async function action({ request, params }: Route.ActionArgs) {
   ]);
   const parsed = schema.safeParse(body);
   if (!parsed.success)
-    return errorJson(400, "Send either { status } or { start, end?, providerId? }.", zodFieldErrors(parsed.error));
+    return errorJson(
+      400,
+      "Send either { status, confirmOtherDay? } or { start, end?, providerId? }.",
+      zodFieldErrors(parsed.error),
+    );
   try {
     let examId: string | undefined;
     if ("status" in parsed.data)
-      ({ examId } = await changeStatus(user, params.appointmentId, parsed.data.status, request));
+      ({ examId } = await changeStatus(user, params.appointmentId, parsed.data.status, request, {
+        confirmOtherDay: parsed.data.confirmOtherDay,
+      }));
     else await moveAppointment(user, params.appointmentId, parsed.data, request);
     const event = await load(params.appointmentId, timeZone);
     return Response.json({

@@ -8,6 +8,7 @@ import { StatusCommands, usePolling } from "./day-ui";
 import { statusAction } from "~/models/schedule/day.server";
 import { isoTime } from "~/models/schedule/schedule-api.server";
 import { scheduleReferenceData } from "~/models/schedule/schedule-data.server";
+import { appointmentHistory } from "~/models/schedule/history.server";
 import { AppointmentStatus } from "~/components/schedule/status-ui";
 import { ErrorList } from "~/components/forms";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
@@ -16,15 +17,7 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
-import {
-  appointmentMessages,
-  appointments,
-  appointmentStatusChanges,
-  appointmentTypes,
-  exams,
-  patients,
-  users,
-} from "~/db/schema";
+import { appointmentMessages, appointments, appointmentTypes, exams, patients, users } from "~/db/schema";
 import { isMovable, STATUS_LABEL } from "~/lib/scheduling/status";
 import { formatLocal, localParts, toZonedIso } from "~/lib/scheduling/time";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
@@ -58,17 +51,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
     .where(eq(appointments.id, params.appointmentId));
   if (!a) notFound("No such appointment.");
-  const history = await db
-    .select({
-      from: appointmentStatusChanges.fromStatus,
-      to: appointmentStatusChanges.toStatus,
-      at: appointmentStatusChanges.changedAt,
-      by: users.name,
-    })
-    .from(appointmentStatusChanges)
-    .leftJoin(users, eq(users.id, appointmentStatusChanges.changedById))
-    .where(eq(appointmentStatusChanges.appointmentId, a.id))
-    .orderBy(asc(appointmentStatusChanges.changedAt), asc(appointmentStatusChanges.id));
+  const history = await appointmentHistory(a.id, timeZone);
   const messages = await db
     .select()
     .from(appointmentMessages)
@@ -85,6 +68,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return {
     role: user.role,
     timeZone,
+    today: localParts(new Date(), timeZone).date,
     appointment: {
       id: a.id,
       status: a.status,
@@ -101,7 +85,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       movable: isMovable(a.status),
       examUrl: exam ? `/patients/${a.patientId}/exams/${exam.id}` : null,
     },
-    history: history.map((h) => ({ ...h, at: formatLocal(h.at, timeZone) })),
+    history,
     messages: messages.map((m) => ({
       kind: m.kind,
       status: m.status,
@@ -186,7 +170,7 @@ const KIND_LABEL = {
 const MSG_LABEL = { queued: "Waiting to send", sent: "Sent", skipped: "Not sent", failed: "Failed" } as const;
 
 export default function AppointmentPage({ loaderData, actionData }: Route.ComponentProps) {
-  const { appointment: a, history, messages, providers, role, timeZone } = loaderData;
+  const { appointment: a, history, messages, providers, role, timeZone, today } = loaderData;
   const navigation = useNavigation();
   usePolling(10);
   const remindError = (actionData as { remindError?: string } | undefined)?.remindError;
@@ -216,7 +200,15 @@ export default function AppointmentPage({ loaderData, actionData }: Route.Compon
           <p className="mb-3 flex items-center gap-2">
             <AppointmentStatus status={a.status} />
           </p>
-          <StatusCommands id={a.id} status={a.status} role={role} name={a.patientName} />
+          <StatusCommands
+            id={a.id}
+            status={a.status}
+            role={role}
+            name={a.patientName}
+            date={a.date}
+            today={today}
+            action={`/schedule/appointments/${a.id}`}
+          />
           {a.examUrl ? (
             <p className="mt-4">
               <Link to={a.examUrl} className="font-semibold text-accent-700 underline underline-offset-4">
@@ -248,8 +240,7 @@ export default function AppointmentPage({ loaderData, actionData }: Route.Compon
           <ol className="space-y-1 text-sm">
             {history.map((h, i) => (
               <li key={i}>
-                {h.at}: {h.from ? `${STATUS_LABEL[h.from]} → ` : ""}
-                {STATUS_LABEL[h.to]} by {h.by ?? "a former account"}
+                {h.at}: {h.what} by {h.by}
               </li>
             ))}
           </ol>

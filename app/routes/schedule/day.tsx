@@ -129,7 +129,14 @@ export default function DayList({ loaderData }: Route.ComponentProps) {
                     <AppointmentStatus status={a.status} />
                   </td>
                   <td className="px-4 py-3">
-                    <StatusCommands id={a.id} status={a.status} role={user.role} name={a.patientName} />
+                    <StatusCommands
+                      id={a.id}
+                      status={a.status}
+                      role={user.role}
+                      name={a.patientName}
+                      date={date}
+                      today={today}
+                    />
                   </td>
                 </tr>
               ))}

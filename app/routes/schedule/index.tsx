@@ -2,20 +2,23 @@ import { lazy, Suspense, useCallback, useEffect, useRef, useState } from "react"
 import { data, Form, Link, useLocation, useNavigate, useSearchParams } from "react-router";
 import type { Route } from "./+types/index";
 import { BookingForm } from "./booking-form";
+import { CalendarLegend, CalendarNotice, FreeTimes, type Message } from "./calendar-parts";
+import type { CalendarMessage } from "./calendar-view";
 import { scheduleReferenceData } from "~/models/schedule/schedule-data.server";
+import { businessSpans, freeTimes } from "~/models/schedule/calendar-page.server";
 import { ScheduleNav } from "./schedule-nav";
 import { useHydrated } from "~/components/use-hydrated";
 import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
 import { Select } from "~/components/ui/input";
-import { Notice } from "~/components/ui/notice";
-import { minutesToHhmm, localParts } from "~/lib/scheduling/time";
+import { addDays, localParts } from "~/lib/scheduling/time";
+import { typeColours } from "~/lib/scheduling/type-colours";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { practiceSchedule } from "~/models/schedule/schedule.server";
 import { siteChoice, zoneOfChoice } from "~/models/schedule/sites.server";
 
 const CalendarView = lazy(() => import("./calendar-view"));
-const VIEWS = ["timeGridDay", "timeGridWeek", "dayGridMonth"] as const;
+const VIEWS = ["timeGridDay", "timeGridWeek", "dayGridMonth", "clinicians"] as const;
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
@@ -41,28 +44,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const date = /^\d{4}-\d{2}-\d{2}$/.test(url.searchParams.get("date") ?? "")
     ? url.searchParams.get("date")!
     : localParts(new Date(), timeZone).date;
-  // Business hours shown shaded in the calendar: the chosen provider's (or everyone's) working spans less breaks.
-  const spans = hours
-    .filter((h) => (provider === "all" || h.providerId === provider) && (site === "all" || h.siteId === site))
-    .flatMap((h) => {
-      const own = breaks
-        .filter((b) => b.providerId === h.providerId && b.weekday === h.weekday)
-        .sort((a, b) => a.startMinute - b.startMinute);
-      const out: { daysOfWeek: number[]; startTime: string; endTime: string }[] = [];
-      let from = h.startMinute;
-      for (const b of own) {
-        if (b.startMinute > from)
-          out.push({
-            daysOfWeek: [h.weekday % 7],
-            startTime: minutesToHhmm(from),
-            endTime: minutesToHhmm(b.startMinute),
-          });
-        from = Math.max(from, b.endMinute);
-      }
-      if (from < h.endMinute)
-        out.push({ daysOfWeek: [h.weekday % 7], startTime: minutesToHhmm(from), endTime: minutesToHhmm(h.endMinute) });
-      return out;
-    });
+  const shown = providers.filter((p) => provider === "all" || p.id === provider);
   return data(
     {
       timeZone,
@@ -72,7 +54,10 @@ export async function loader({ request }: Route.LoaderArgs) {
       provider,
       view,
       date,
-      businessHours: spans,
+      // Business hours shown shaded in the calendar: the chosen provider's (or everyone's) working spans less breaks.
+      businessHours: businessSpans(hours, breaks, provider, site),
+      columns: shown.map((p) => ({ id: p.id, name: p.name, businessHours: businessSpans(hours, breaks, p.id, site) })),
+      free: await freeTimes(date, timeZone, shown, hours, breaks, site),
       site,
       places: { sites: sites.map(({ id, name }) => ({ id, name })), rooms },
     },
@@ -82,10 +67,11 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export default function Schedule({ loaderData }: Route.ComponentProps) {
   const { timeZone, siteName, providers, types, provider, view, date, businessHours, site, places } = loaderData;
+  const { columns, free } = loaderData;
   const hydrated = useHydrated();
-  const [message, setMessage] = useState<{ tone: "success" | "error"; text: string } | null>(null);
-  const showMessage = useCallback((tone: "success" | "error", text: string) => setMessage({ tone, text }), []);
-  const [booking, setBooking] = useState<{ start: string } | null>(null);
+  const [message, setMessage] = useState<Message>(null);
+  const showMessage = useCallback<CalendarMessage>((tone, text, undo) => setMessage({ tone, text, undo }), []);
+  const [booking, setBooking] = useState<{ start: string; providerId?: string } | null>(null);
   const dialog = useRef<HTMLDialogElement>(null);
   const navigate = useNavigate();
   const location = useLocation();
@@ -100,17 +86,45 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
     setLocationSeen(location.key);
     setBooking(null);
   }
-
+  const colours = typeColours(types.map((t) => t.id));
+  const query = (v: string, d: string) => `?provider=${provider}&site=${site}&view=${v}&date=${d}`;
   const calendarKey = `${provider}|${site}|${params.get("date") ?? ""}|${location.key}`;
+  const side = view === "clinicians";
+  const calendar = (extra: { provider: string; businessHours: typeof businessHours; column?: boolean }) => (
+    <Suspense fallback={<p className="p-6 text-muted">Loading the calendar…</p>}>
+      <CalendarView
+        key={`${calendarKey}|${extra.provider}`}
+        timeZone={timeZone}
+        site={site}
+        initialDate={date}
+        initialView={side ? "timeGridDay" : view}
+        colours={colours}
+        onSelectSlot={(start) =>
+          setBooking({ start, providerId: extra.provider === "all" ? undefined : extra.provider })
+        }
+        onOpen={(id) => navigate(`/schedule/appointments/${id}`)}
+        onMessage={showMessage}
+        {...extra}
+      />
+    </Suspense>
+  );
+  const dayTitle = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(
+    new Date(`${date}T12:00:00Z`),
+  );
   return (
     <>
       <PageHeader
         title="Schedule"
-        description={`Times are ${siteName ? `${siteName}'s` : "the practice's"} (${timeZone}). Select an empty time to book; drag to move; drag the lower edge to lengthen.`}
+        description={`Times are ${siteName ? `${siteName}'s` : "the practice's"} (${timeZone}). Select an empty time to book, or use the free times below the calendar; drag to move; drag the lower edge to lengthen.`}
         actions={
-          <Link to="/schedule/book" className={buttonClass("primary")}>
-            Book without the calendar
-          </Link>
+          <>
+            <a href="#free-title" className={buttonClass("primary")}>
+              Book a time
+            </a>
+            <Link to="/schedule/book" className={buttonClass("secondary")}>
+              Book without the calendar
+            </Link>
+          </>
         }
       />
       <ScheduleNav />
@@ -162,10 +176,12 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
             Show
           </button>
         </noscript>
+        <Link to={query(side ? "timeGridWeek" : "clinicians", date)} className={buttonClass("secondary", "ml-auto")}>
+          {side ? "Back to the week" : "Day by clinician"}
+        </Link>
       </Form>
-      <div role="status" aria-live="polite" className="mb-3 min-h-6">
-        {message ? <Notice tone={message.tone} title={message.text} /> : null}
-      </div>
+      <CalendarLegend types={types} colours={colours} />
+      <CalendarNotice message={message} onClose={() => setMessage(null)} />
       <div
         className="schedule-calendar rounded-lg border border-line bg-white p-3 shadow-sm"
         style={
@@ -182,25 +198,41 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
           } as React.CSSProperties
         }
       >
-        {hydrated ? (
-          <Suspense fallback={<p className="p-6 text-muted">Loading the calendar…</p>}>
-            <CalendarView
-              key={calendarKey}
-              timeZone={timeZone}
-              provider={provider}
-              site={site}
-              initialDate={date}
-              initialView={view}
-              businessHours={businessHours}
-              onSelectSlot={(start) => setBooking({ start })}
-              onOpen={(id) => navigate(`/schedule/appointments/${id}`)}
-              onMessage={showMessage}
-            />
-          </Suspense>
-        ) : (
+        {side ? (
+          <div className="mb-3 flex flex-wrap items-center gap-2">
+            <Link className={buttonClass("secondary", "px-3 py-1")} to={query("clinicians", addDays(date, -1))}>
+              ‹ Previous day
+            </Link>
+            <Link className={buttonClass("secondary", "px-3 py-1")} to={query("clinicians", addDays(date, 1))}>
+              Next day ›
+            </Link>
+            <h2 className="ml-2 text-lg font-semibold">{dayTitle}</h2>
+          </div>
+        ) : null}
+        {!hydrated ? (
           <p className="p-6 text-muted">Loading the calendar…</p>
+        ) : side ? (
+          <div
+            className="grid gap-3 overflow-x-auto"
+            style={{ gridTemplateColumns: `repeat(${columns.length}, minmax(16rem, 1fr))` }}
+          >
+            {columns.map((c) => (
+              <section key={c.id} aria-label={`${c.name}'s day`} data-clinician={c.name}>
+                <h3 className="mb-1 truncate border-b-2 border-accent-700 pb-1 text-center font-semibold">{c.name}</h3>
+                {calendar({ provider: c.id, businessHours: c.businessHours, column: true })}
+              </section>
+            ))}
+          </div>
+        ) : (
+          calendar({ provider, businessHours })
         )}
       </div>
+      <FreeTimes
+        date={date}
+        free={free}
+        dayLink={(d, offset) => query(view, addDays(d, offset))}
+        onBook={(start, providerId) => setBooking({ start, providerId })}
+      />
       <dialog
         ref={dialog}
         aria-labelledby="book-title"
@@ -219,7 +251,7 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
               places={places}
               defaults={{
                 start: booking.start,
-                providerId: provider === "all" ? undefined : provider,
+                providerId: booking.providerId ?? (provider === "all" ? undefined : provider),
                 siteId: site === "all" ? undefined : site,
               }}
               returnTo={`/schedule?provider=${provider}&view=${view}&date=${booking.start.slice(0, 10)}`}
