@@ -132,4 +132,3 @@ export async function latestPrompts(patientId: string): Promise<ReferralPrompt[]
     { colour: of(colour, before), acuity: of(acuity, before) },
   );
 }
-

@@ -12,6 +12,7 @@ import {
   examIop,
   examRefractions,
   exams,
+  examSectionStates,
   examSegments,
   examVisualFields,
 } from "~/db/schema";
@@ -24,6 +25,7 @@ import {
   COLOUR_TESTS,
   EYES,
   FIELD_METHODS,
+  localDateTime,
   parseAcuity,
   parseDiagnoses,
   parseIop,
@@ -41,7 +43,7 @@ import { FINDINGS_SECTIONS, FindingsError, saveFindings, type FindingsSection } 
 import { audit } from "~/utils/audit.server";
 import type { SessionUser } from "~/utils/session.server";
 import { db, type Tx } from "~/utils/db.server";
-import type { ExamSectionId } from "~/lib/exam/section-list";
+import type { ExamSectionId, StoredSectionState } from "~/lib/exam/section-list";
 import { examSettings, SectionError, storedTriage } from "./exam-records.server";
 
 type Form = Record<string, string | undefined>;
@@ -159,8 +161,9 @@ async function saveBinocular(tx: Tx, examId: string, form: Form) {
     .onConflictDoUpdate({ target: examBinocular.examId, set: { ...values, updatedAt: new Date() } });
 }
 
-async function saveIop(tx: Tx, examId: string, form: Form) {
-  const parsed = parseIop(form);
+async function saveIop(tx: Tx, examId: string, form: Form, timeZone: string) {
+  // A reading typed without its time of day was taken now (the field shows the time once saved).
+  const parsed = parseIop(form, { defaultTime: localDateTime(new Date(), timeZone).slice(11, 16) });
   if (!parsed.ok) throw SectionError.inFields(parsed.errors);
   const { readings, cct } = parsed.value;
   const rows = EYES.flatMap((eye) =>
@@ -310,6 +313,67 @@ export async function saveSection(
 ) {
   const form: Form = {};
   for (const [k, v] of all.entries()) if (typeof v === "string" && form[k] === undefined) form[k] = v;
+  try {
+    return await writeSection(user, patientId, examId, section, form, all, request);
+  } catch (e) {
+    if (e instanceof SectionError) await keepRefused(examId, section, all, e);
+    throw e;
+  }
+}
+
+/**
+ * A refused save keeps what was typed and why beside the section (the section's own rows are
+ * untouched), so a reload shows the section as not saved, with the typed values and the errors.
+ */
+async function keepRefused(examId: string, section: Section, all: FormData, e: SectionError) {
+  const typed = [...all.entries()].flatMap(([k, v]) =>
+    typeof v === "string" && k !== "intent" && k !== "section" ? [[k, v.slice(0, 8000)] as [string, string]] : [],
+  );
+  const refused = {
+    failedAt: new Date(),
+    failureMessage: e.message,
+    refusedValues: typed,
+    refusedErrors: e.fieldErrors ?? {},
+  };
+  await db
+    .insert(examSectionStates)
+    .values({ examId, section, ...refused })
+    .onConflictDoUpdate({ target: [examSectionStates.examId, examSectionStates.section], set: refused });
+}
+
+/** Each section's last save and last refusal (with the refused values), by section id. */
+export async function sectionStatesOf(examId: string, conn: Tx | typeof db = db) {
+  const rows = await conn.select().from(examSectionStates).where(eq(examSectionStates.examId, examId));
+  return Object.fromEntries(
+    rows.map((r) => {
+      const failed = r.failedAt && (!r.savedAt || r.failedAt > r.savedAt);
+      return [
+        r.section,
+        {
+          savedAt: r.savedAt?.toISOString() ?? null,
+          refused: failed
+            ? {
+                at: r.failedAt!.toISOString(),
+                message: r.failureMessage ?? "",
+                values: r.refusedValues ?? [],
+                errors: r.refusedErrors ?? {},
+              }
+            : null,
+        },
+      ];
+    }),
+  ) as Record<string, StoredSectionState>;
+}
+
+async function writeSection(
+  user: SessionUser,
+  patientId: string,
+  examId: string,
+  section: Section,
+  form: Form,
+  all: FormData,
+  request: Request,
+) {
   return db.transaction(async (tx) => {
     const [locked] = await tx
       .select({ status: exams.status, examinedAt: exams.examinedAt })
@@ -344,7 +408,7 @@ export async function saveSection(
         throw e;
       }
     } else if (section === "binocular") await saveBinocular(tx, examId, form);
-    else if (section === "iop") await saveIop(tx, examId, form);
+    else if (section === "iop") await saveIop(tx, examId, form, settings.timeZone);
     else if (section === "colour") await saveColour(tx, examId, form);
     else if (section === "fields") await saveFields(tx, examId, form);
     else if (section === "segments") await saveSegments(tx, examId, form, all);
@@ -353,6 +417,11 @@ export async function saveSection(
     const triage = await storedTriage(examId, tx);
     const savedAt = new Date();
     await tx.update(exams).set({ updatedAt: savedAt, triage }).where(eq(exams.id, examId));
+    const saved = { savedAt, failedAt: null, failureMessage: null, refusedValues: null, refusedErrors: null };
+    await tx
+      .insert(examSectionStates)
+      .values({ examId, section, ...saved })
+      .onConflictDoUpdate({ target: [examSectionStates.examId, examSectionStates.section], set: saved });
     await audit(
       {
         action: "exam.section_saved",
