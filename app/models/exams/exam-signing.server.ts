@@ -79,7 +79,7 @@ export async function signExam(
       tx,
     );
     const appointmentCompleted = locked.appointmentId
-      ? await completeExamAppointment(tx, user, locked.appointmentId, request)
+      ? await completeExamAppointment(tx, user, locked.appointmentId, request, now)
       : false;
     return { ok: true, appointmentCompleted } as const;
   });

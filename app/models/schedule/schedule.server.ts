@@ -701,10 +701,10 @@ export async function completeExamAppointment(
   actor: SessionUser,
   appointmentId: string,
   request?: Request,
+  now = new Date(),
 ): Promise<boolean> {
   const [current] = await tx.select().from(appointments).where(eq(appointments.id, appointmentId)).for("update");
   if (!current || !canChangeStatus(current.status, "completed")) return false;
-  const now = new Date();
   await tx
     .update(appointments)
     .set({ status: "completed", statusChangedAt: now, statusChangedById: actor.id, updatedAt: now })
