@@ -132,7 +132,12 @@ export function SectionForm({
 
   // After a reload: put back what was typed here and not saved, or what the server refused.
   useEffect(() => {
-    if (readOnly || !formRef.current) return;
+    if (readOnly) {
+      // A signed exam takes no more typing: nothing kept for it in this tab is of use.
+      clearDraft(page.examId, section);
+      return;
+    }
+    if (!formRef.current) return;
     const local = readDraft(page.examId, section);
     const newest = [stored?.savedAt, stored?.refused?.at].filter(Boolean).sort().at(-1);
     const put = (values: [string, string][]) => {
