@@ -95,6 +95,9 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     await page.setViewportSize({ width: 1280, height: 1000 });
 
     await page.getByRole("button", { name: "Sign exam" }).click();
+    // No final refraction on a referral visit: signing asks first.
+    await poll(() => page.getByTestId("sign-warnings").textContent()).toContain("no final refraction");
+    await page.getByRole("button", { name: "Sign anyway" }).click();
     await poll(() => page.getByText(/^Signed by Tobias Wren/).count()).toBe(1);
     await poll(() => page.getByTestId("signatures").textContent()).toContain(
       "Signed by the examining clinician: Tobias Wren",
@@ -189,6 +192,7 @@ describe("clinical safety: red flags and triage from the exam to the letter", ()
     await expectAccessible(owner);
 
     await page.getByRole("button", { name: "Sign exam" }).click();
+    await page.getByRole("button", { name: "Sign anyway" }).click();
     await poll(() => page.getByText(/^Signed by Tobias Wren/).count()).toBe(1);
     expect(await page.getByRole("button", { name: "Countersign exam" }).count()).toBe(0);
 

@@ -2,6 +2,9 @@ import { and, eq } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
 import { action as examAction, loader as examLoader } from "~/routes/exams/exam";
 import {
+  appointments,
+  appointmentStatusChanges,
+  appointmentTypes,
   auditLog,
   examAcuity,
   examAddenda,
@@ -10,6 +13,8 @@ import {
   examIop,
   examRefractions,
   exams,
+  examSectionStates,
+  prescriptions,
 } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { newExam, newPatient } from "#tests/support/factories";
@@ -176,7 +181,8 @@ describe("saving sections", () => {
     const iop = dataOf<{ errors: Record<string, string[]> }>(
       await post("optometrist", params, { intent: "save", section: "iop", right_mmHg: "19" }),
     );
-    expect(Object.keys(iop.errors).sort()).toEqual(["right_method", "right_time"]);
+    // The method is still needed; a missing time of day is the time of the save.
+    expect(Object.keys(iop.errors).sort()).toEqual(["right_method"]);
     const cv = dataOf<{ errors: Record<string, string[]> }>(
       await post("optometrist", params, {
         intent: "save",
@@ -238,7 +244,7 @@ describe("signing and addenda", () => {
     expect(
       statusOf(await post("optometrist", params, { intent: "addendum", section: "Final", body: "Too early" })),
     ).toBe(409);
-    const signed = (await post("optometrist", params, { intent: "sign" })) as Response;
+    const signed = (await post("optometrist", params, { intent: "sign", confirmed: "yes" })) as Response;
     expect(signed.status).toBe(302);
     const [row] = await db.select().from(exams).where(eq(exams.id, exam.id));
     const optom = await userByEmail("optometrist@dioptra-demo.test");
@@ -267,8 +273,8 @@ describe("signing and addenda", () => {
   it("lets exactly one of two simultaneous signatures win", async () => {
     const { params, exam } = await setup();
     const results = await Promise.all([
-      post("optometrist", params, { intent: "sign" }),
-      post("optometrist", params, { intent: "sign" }),
+      post("optometrist", params, { intent: "sign", confirmed: "yes" }),
+      post("optometrist", params, { intent: "sign", confirmed: "yes" }),
     ]);
     expect(results.map(statusOf).sort()).toEqual([302, 409]);
     expect(
@@ -487,7 +493,7 @@ describe("who signs", () => {
     expect(statusOf(refused)).toBe(403);
     expect((await db.select().from(exams).where(eq(exams.id, exam.id)))[0]!.status).toBe("in_progress");
     expect(statusOf(await post("owner", params, { intent: "countersign" }))).toBe(409);
-    expect(statusOf(await post("optometrist", params, { intent: "sign" }))).toBe(302);
+    expect(statusOf(await post("optometrist", params, { intent: "sign", confirmed: "yes" }))).toBe(302);
     expect(statusOf(await post("optometrist", params, { intent: "countersign" }))).toBe(403);
     expect(
       statusOf(await post("owner", params, { intent: "countersign", note: "Reviewed the disc photographs." })),
@@ -504,5 +510,136 @@ describe("who signs", () => {
     expect(d.exam.signedBy).toBeTruthy();
     expect(d.countersignatures).toHaveLength(1);
     expect(d.canCountersign).toBe(false);
+  });
+});
+
+describe("signing with warnings, the visit, and a final refraction by addendum", () => {
+  it("asks the examiner to confirm before signing without a final refraction, then signs", async () => {
+    const { params, exam } = await setup();
+    const asked = await post("optometrist", params, { intent: "sign" });
+    expect(statusOf(asked)).toBe(409);
+    const body = dataOf<{ confirm: string[] }>(asked);
+    expect(body.confirm.join(" ")).toMatch(/no final refraction: no prescription can be issued/);
+    expect((await db.select().from(exams).where(eq(exams.id, exam.id)))[0]!.status).toBe("in_progress");
+    expect(statusOf(await post("optometrist", params, { intent: "sign", confirmed: "yes" }))).toBe(302);
+    const [audit] = await db
+      .select()
+      .from(auditLog)
+      .where(and(eq(auditLog.action, "exam.signed"), eq(auditLog.entityId, exam.id)));
+    expect(JSON.stringify(audit!.detail)).toMatch(/no final refraction/);
+  });
+
+  it("keeps a refused save's values and errors beside the section, names it by title when signing, clears it on save", async () => {
+    const { params, exam } = await setup();
+    await post("optometrist", params, {
+      intent: "save",
+      section: "refraction:final",
+      right_rx: "-1.00 DS",
+    });
+    const refused = await post("optometrist", params, { intent: "save", section: "iop", left_mmHg: "31" });
+    expect(statusOf(refused)).toBe(400);
+    // The time of day is no longer demanded (it defaults to the save's time); the method still is.
+    expect(Object.keys(dataOf<{ errors: Record<string, string[]> }>(refused).errors)).toEqual(["left_method"]);
+    const [state] = await db.select().from(examSectionStates).where(eq(examSectionStates.examId, exam.id));
+    expect(state).toBeDefined();
+    const d = dataOf<{ sectionStates: Record<string, { savedAt: string | null; refused: { values: string[][] } }> }>(
+      await run(examLoader, makeRequest("/x", { cookie: await cookieFor("optometrist") }), params),
+    );
+    expect(d.sectionStates.iop!.refused!.values).toContainEqual(["left_mmHg", "31"]);
+    expect(d.sectionStates["refraction:final"]!.savedAt).toMatch(/^\d{4}-/);
+    const asked = await post("optometrist", params, { intent: "sign" });
+    expect(statusOf(asked)).toBe(409);
+    const warnings = dataOf<{ confirm: string[] }>(asked).confirm.join(" ");
+    expect(warnings).toContain("Intraocular pressure");
+    expect(warnings).not.toMatch(/\biop\b/);
+
+    const ok = await post("optometrist", params, {
+      intent: "save",
+      section: "iop",
+      left_mmHg: "31",
+      left_method: "goldmann",
+    });
+    expect(statusOf(ok)).toBe(200);
+    const rows = await db.select().from(examIop).where(eq(examIop.examId, exam.id));
+    expect(rows).toHaveLength(1);
+    expect(rows[0]!.measuredTime).toMatch(/^\d\d:\d\d/);
+    const after = dataOf<{ sectionStates: Record<string, { refused: unknown }> }>(
+      await run(examLoader, makeRequest("/x", { cookie: await cookieFor("optometrist") }), params),
+    );
+    expect(after.sectionStates.iop!.refused).toBeNull();
+    expect(statusOf(await post("optometrist", params, { intent: "sign" }))).toBe(302);
+  });
+
+  it("completes the appointment the exam was started from, with its history row, in the signing transaction", async () => {
+    const { params, exam, patient } = await setup();
+    const optom = await userByEmail("optometrist@dioptra-demo.test");
+    const [type] = await db.select({ id: appointmentTypes.id }).from(appointmentTypes).limit(1);
+    const start = new Date(Date.UTC(2020, 0, 6, 5, Math.floor(Math.random() * 50)));
+    const [appt] = await db
+      .insert(appointments)
+      .values({
+        patientId: patient.id,
+        providerId: optom.id,
+        appointmentTypeId: type!.id,
+        startsAt: start,
+        endsAt: new Date(start.getTime() + 10 * 60_000),
+        status: "in_exam",
+      })
+      .returning();
+    await db.update(exams).set({ appointmentId: appt!.id }).where(eq(exams.id, exam.id));
+    await post("optometrist", params, { intent: "save", section: "refraction:final", right_rx: "+1.00 DS" });
+    expect(statusOf(await post("optometrist", params, { intent: "sign" }))).toBe(302);
+    const [after] = await db.select().from(appointments).where(eq(appointments.id, appt!.id));
+    expect(after!.status).toBe("completed");
+    expect(after!.statusChangedById).toBe(optom.id);
+    const history = await db
+      .select()
+      .from(appointmentStatusChanges)
+      .where(eq(appointmentStatusChanges.appointmentId, appt!.id));
+    expect(history.map((h) => `${h.fromStatus}>${h.toStatus}`)).toEqual(["in_exam>completed"]);
+    const [signedRow] = await db.select().from(exams).where(eq(exams.id, exam.id));
+    expect(history[0]!.changedAt.getTime()).toBe(signedRow!.signedAt!.getTime());
+  });
+
+  it("takes a final refraction by addendum on an exam signed without one, issues a prescription from it, refuses a second", async () => {
+    const { params, exam } = await setup();
+    expect(statusOf(await post("optometrist", params, { intent: "sign", confirmed: "yes" }))).toBe(302);
+    expect(statusOf(await post("optometrist", params, { intent: "issue-rx", kind: "spectacle" }))).toBe(409);
+    const bad = await post("optometrist", params, {
+      intent: "addendum",
+      section: "Final",
+      body: "Final refraction given after signing.",
+      right_rx: "+1.00 -0.50 x 195",
+    });
+    expect(statusOf(bad)).toBe(400);
+    expect(Object.keys(dataOf<{ errors: Record<string, string[]> }>(bad).errors)).toEqual(["right_rx"]);
+    expect(await db.select().from(examAddenda).where(eq(examAddenda.examId, exam.id))).toHaveLength(0);
+    const ok = await post("optometrist", params, {
+      intent: "addendum",
+      section: "Final",
+      body: "Final refraction given after signing.",
+      right_rx: "+1.00 -0.50 x 175",
+      right_add: "+2.00",
+      left_rx: "+1.25 DS",
+      left_add: "+2.00",
+    });
+    expect(statusOf(ok)).toBe(302);
+    const [ad] = await db.select().from(examAddenda).where(eq(examAddenda.examId, exam.id));
+    const finals = await db.select().from(examRefractions).where(eq(examRefractions.examId, exam.id));
+    expect(finals.map((f) => `${f.kind}:${f.eye}:${f.sphere}:${f.addPower}`).sort()).toEqual([
+      "final:left:1.25:2",
+      "final:right:1:2",
+    ]);
+    expect(finals.every((f) => f.addendumId === ad!.id)).toBe(true);
+    expect(statusOf(await post("optometrist", params, { intent: "issue-rx", kind: "spectacle" }))).toBe(302);
+    expect(await db.select().from(prescriptions).where(eq(prescriptions.examId, exam.id))).toHaveLength(1);
+    const again = await post("owner", params, {
+      intent: "addendum",
+      section: "Final",
+      body: "Another final.",
+      right_rx: "+0.50 DS",
+    });
+    expect(statusOf(again)).toBe(409);
+    expect(await db.select().from(examAddenda).where(eq(examAddenda.examId, exam.id))).toHaveLength(1);
   });
 });

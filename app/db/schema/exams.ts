@@ -1,5 +1,6 @@
 import { sql } from "drizzle-orm";
 import {
+  type AnyPgColumn,
   boolean,
   check,
   doublePrecision,
@@ -141,6 +142,8 @@ export const examRefractions = pgTable(
     vertexMm: doublePrecision(),
     vaNotation: text(),
     vaLogMar: doublePrecision(),
+    /** A final refraction supplied after signing comes with the addendum that records who gave it and when. */
+    addendumId: uuid().references((): AnyPgColumn => examAddenda.id, { onDelete: "restrict" }),
   },
   (t) => [
     uniqueIndex("exam_refractions_uq").on(t.examId, t.kind, t.eye),
@@ -459,4 +462,25 @@ export const examAddenda = pgTable(
     index("exam_addenda_exam_idx").on(t.examId, t.createdAt),
     check("exam_addenda_body", sql`length(${t.body}) > 0`),
   ],
+);
+
+/**
+ * Where each section of an exam stands, so the page shows it after a reload: when it was last
+ * saved, and when a save was last refused, with what was typed and why (the refused values are
+ * kept here, never in the section's own tables, until a save of the section succeeds).
+ */
+export const examSectionStates = pgTable(
+  "exam_section_states",
+  {
+    examId: examRef(),
+    /** The section's id in the exam's section list. */
+    section: text().notNull(),
+    savedAt: timestamp({ withTimezone: true }),
+    failedAt: timestamp({ withTimezone: true }),
+    failureMessage: text(),
+    /** The refused form, as [field, value] pairs in the order they were sent. */
+    refusedValues: jsonb().$type<[string, string][]>(),
+    refusedErrors: jsonb().$type<Record<string, string[]>>(),
+  },
+  (t) => [primaryKey({ columns: [t.examId, t.section] })],
 );

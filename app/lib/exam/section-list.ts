@@ -101,3 +101,18 @@ export function sectionHasValues(section: string, values: Record<string, string>
       return section.startsWith("refraction:") && any((k) => k.startsWith(`${section.slice("refraction:".length)}.`));
   }
 }
+
+/** Where a section stands as the server knows it: its last save, and its last refusal if newer. */
+export type StoredSectionState = {
+  savedAt: string | null;
+  refused: { at: string; message: string; values: [string, string][]; errors: Record<string, string[]> } | null;
+};
+
+/** The title of a section id, or the id itself if it is not a section (never shown for a listed one). */
+export function titleOf(id: string): string {
+  return isExamSectionId(id) ? sectionTitle(id) : id === "triage" ? "Triage" : id;
+}
+
+/** The warning before signing an exam without a final refraction (the server and the page say the same). */
+export const NO_FINAL_WARNING =
+  "There is no final refraction: no prescription can be issued from this exam until one is given (after signing, by addendum).";

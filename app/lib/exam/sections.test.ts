@@ -182,6 +182,18 @@ describe("parseIop", () => {
     expect(cct.ok).toBe(false);
   });
 
+  it("takes the time of the save for a reading typed without one, never refusing it for that", () => {
+    const r = parseIop({ right_mmHg: "18", right_method: "goldmann" }, { defaultTime: "14:32" });
+    expect(r).toEqual({
+      ok: true,
+      value: { readings: { right: [{ mmHg: 18, method: "goldmann", time: "14:32" }] }, cct: {} },
+    });
+    // The method is still needed: which tonometer was used decides how the pressure is read (NICE NG81 1.1.2).
+    const noMethod = parseIop({ right_mmHg: "18" }, { defaultTime: "14:32" });
+    expect(noMethod.ok).toBe(false);
+    if (!noMethod.ok) expect(Object.keys(noMethod.errors)).toEqual(["right_method"]);
+  });
+
   it("averages the readings", () => {
     expect(meanIop([{ mmHg: 25 }, { mmHg: 26 }, { mmHg: 26 }])).toBe(25.7);
     expect(meanIop([])).toBeNull();

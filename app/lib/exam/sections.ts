@@ -460,6 +460,8 @@ const TIME = /^([01]\d|2[0-3]):[0-5]\d$/;
  */
 export function parseIop(
   form: Form,
+  /** The time of day (HH:MM) a reading without one was taken: the time of the save. */
+  options: { defaultTime?: string } = {},
 ): Parsed<{ readings: Partial<Record<EyeKey, IopReading[]>>; cct: Partial<Record<EyeKey, number>> }> {
   const errors: FieldErrors = {};
   const readings: Partial<Record<EyeKey, IopReading[]>> = {};
@@ -485,6 +487,7 @@ export function parseIop(
       if (p.value === null) continue;
       if (m) method = m;
       if (t && TIME.test(t)) time = t;
+      else if (!t && !time && options.defaultTime && TIME.test(options.defaultTime)) time = options.defaultTime;
       if (!method && !errors[iopField(eye, "method", n)])
         errors[iopField(eye, "method", n)] = [`${which}: choose the method.`];
       if (!time && !errors[iopField(eye, "time", n)])

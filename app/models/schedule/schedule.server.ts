@@ -727,3 +727,43 @@ export async function calendarEventsJson(
   );
   return JSON.stringify(events);
 }
+
+/**
+ * Completes the appointment an exam was started from, inside the caller's transaction (signing
+ * the exam), with its status-history row and audit entry. An appointment that is not in the
+ * exam or waiting (already completed, cancelled, missed) is left as it is; returns whether it moved.
+ */
+export async function completeExamAppointment(
+  tx: Tx,
+  actor: SessionUser,
+  appointmentId: string,
+  request?: Request,
+  now = new Date(),
+): Promise<boolean> {
+  const [current] = await tx.select().from(appointments).where(eq(appointments.id, appointmentId)).for("update");
+  if (!current || !canChangeStatus(current.status, "completed")) return false;
+  await tx
+    .update(appointments)
+    .set({ status: "completed", statusChangedAt: now, statusChangedById: actor.id, updatedAt: now })
+    .where(eq(appointments.id, appointmentId));
+  await tx.insert(appointmentStatusChanges).values({
+    appointmentId,
+    fromStatus: current.status,
+    toStatus: "completed",
+    changedById: actor.id,
+    changedAt: now,
+  });
+  await audit(
+    {
+      action: "appointment.status_changed",
+      actorUserId: actor.id,
+      entityType: "appointment",
+      entityId: appointmentId,
+      patientId: current.patientId,
+      detail: { from: current.status, to: "completed", reason: "exam signed" },
+      request,
+    },
+    tx,
+  );
+  return true;
+}

@@ -21,6 +21,7 @@ export function ExamInput({
   echo,
   revalidateKey,
   max,
+  required = false,
 }: {
   id: string;
   name: string;
@@ -38,6 +39,8 @@ export function ExamInput({
   /** Re-run validate and echo on the current text when this changes (e.g. the notation was changed). */
   revalidateKey?: string;
   max?: string;
+  /** Shown as "(required)" beside the label and told to assistive technology; the server decides. */
+  required?: boolean;
 }) {
   const serverErrors = useContext(ErrorsContext)[name];
   const [clientError, setClientError] = useState<string | undefined>(() =>
@@ -67,10 +70,9 @@ export function ExamInput({
   }, [revalidateKey]);
   return (
     <div className={className}>
-      <label htmlFor={id} className={hideLabel ? "sr-only" : "mb-1 block text-sm font-semibold"}>
-        {label}
-      </label>
+      <FieldLabel id={id} label={label} hideLabel={hideLabel} required={required} />
       <input
+        aria-required={required || undefined}
         ref={inputRef}
         id={id}
         name={name}
@@ -130,7 +132,7 @@ export function ExamCheckbox({
   const errorId = serverErrors?.length ? `${id}-error` : undefined;
   return (
     <div>
-      <label htmlFor={id} className="flex items-start gap-2 text-sm">
+      <label htmlFor={id} className="flex min-h-11 items-center gap-2 py-1 text-sm">
         <input
           id={id}
           type="checkbox"
@@ -138,7 +140,7 @@ export function ExamCheckbox({
           defaultChecked={defaultChecked}
           aria-invalid={errorId ? true : undefined}
           aria-describedby={errorId}
-          className="mt-0.5 size-5 shrink-0"
+          className="size-5 shrink-0"
         />
         <span>{label}</span>
       </label>
@@ -161,6 +163,7 @@ export function ExamSelect({
   hideLabel = false,
   emptyLabel = "—",
   onValue,
+  required = false,
 }: {
   id: string;
   name: string;
@@ -170,15 +173,15 @@ export function ExamSelect({
   hideLabel?: boolean;
   emptyLabel?: string;
   onValue?: (value: string) => void;
+  required?: boolean;
 }) {
   const serverErrors = useContext(ErrorsContext)[name];
   const errorId = serverErrors?.length ? `${id}-error` : undefined;
   return (
     <div>
-      <label htmlFor={id} className={hideLabel ? "sr-only" : "mb-1 block text-sm font-semibold"}>
-        {label}
-      </label>
+      <FieldLabel id={id} label={label} hideLabel={hideLabel} required={required} />
       <select
+        aria-required={required || undefined}
         id={id}
         name={name}
         defaultValue={defaultValue ?? ""}
@@ -230,5 +233,43 @@ export function ExamTextarea({
         className="block w-full rounded-md border border-line bg-white px-3 py-2 text-sm disabled:bg-canvas"
       />
     </div>
+  );
+}
+
+/** A field's label; a required field's mark sits beside it, so the field's name stays its label. */
+function FieldLabel({
+  id,
+  label,
+  hideLabel,
+  required,
+}: {
+  id: string;
+  label: string;
+  hideLabel: boolean;
+  required: boolean;
+}) {
+  const text = (
+    <label htmlFor={id} className={hideLabel ? "sr-only" : "block text-sm font-semibold"}>
+      {label}
+    </label>
+  );
+  if (hideLabel) return text;
+  return (
+    <div className="mb-1 flex flex-wrap items-baseline">
+      {text}
+      {required ? <RequiredMark /> : null}
+    </div>
+  );
+}
+
+/**
+ * The visible mark of a required field: a word, not a colour or a lone asterisk. Assistive
+ * technology hears it from the field's aria-required, so the mark stays out of the field's name.
+ */
+export function RequiredMark() {
+  return (
+    <span aria-hidden="true" className="ml-1 text-xs font-semibold text-red-800">
+      (required)
+    </span>
   );
 }

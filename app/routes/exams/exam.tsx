@@ -6,30 +6,22 @@ import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
-import { REFRACTION_KINDS } from "~/lib/exam/sections";
 import { formatDate } from "~/lib/format";
 import { issuePrescription } from "~/models/prescriptions/prescriptions.server";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import {
-  AnteriorChamberSection,
-  DilationSection,
-  DiscSection,
-  FundusSection,
-  PupilsSection,
-  RedFlagsSection,
-} from "./findings-sections";
-import { AcuitySection, AssessmentSection, IopSection } from "./measure-sections";
 import { TriagePanel } from "./triage-panel";
 import { Signatures } from "./signatures";
-import { DirtyContext, sectionAnchor, useDirtyTracker, type SaveReply } from "./exam-form";
+import { DirtyContext, ExamPageContext, useDirtyTracker, type SaveReply } from "./exam-form";
 import { examFor, saveSection, SectionError } from "~/models/exams/exam.server";
 import { DocumentList, UploadForm } from "~/components/patients/uploads-ui";
 import { parseDecimal } from "~/lib/numbers/decimal";
-import { addAddendum, countersignExam, examPageData, signExam } from "~/models/exams/exam-page.server";
-import { EXAM_SECTION_IDS, EXAM_SECTIONS, isExamSectionId, sectionHasValues } from "~/lib/exam/section-list";
-import { BinocularSection, HistorySection, PreviousFinal, RefractionSection } from "./history-refraction";
-import { ColourSection, FieldsSection, SegmentsSection } from "./screening-sections";
+import { examPageData } from "~/models/exams/exam-page.server";
+import { addAddendum, countersignExam, signExam } from "~/models/exams/exam-signing.server";
+import { DomainError } from "~/utils/failure.server";
+import { EXAM_SECTION_IDS, isExamSectionId, sectionHasValues } from "~/lib/exam/section-list";
+import { ExamSections } from "./exam-sections";
+import { SectionMenu } from "./section-menu";
 import { Addenda, Prescriptions, SignCard } from "./exam-records";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
@@ -115,12 +107,14 @@ export async function action({ request, params }: Route.ActionArgs) {
         },
         { status: 403 },
       );
-    const signed = await signExam(user, exam, request);
-    if (!signed) return data({ intent, ok: false, message: "This exam is already signed." }, { status: 409 });
+    const signed = await signExam(user, exam, request, form.get("confirmed") === "yes");
+    if (!signed.ok && signed.reason === "confirm")
+      return data({ intent, ok: false, confirm: signed.warnings, message: "Check before signing" }, { status: 409 });
+    if (!signed.ok) return data({ intent, ok: false, message: "This exam is already signed." }, { status: 409 });
     return redirectWithToast(`/patients/${exam.patientId}/exams/${exam.id}`, {
       kind: "success",
       title: "Exam signed",
-      description: "It is now read-only; corrections are added as addenda.",
+      description: `It is now read-only; corrections are added as addenda.${signed.appointmentCompleted ? " The appointment is marked completed." : ""}`,
     });
   }
 
@@ -160,7 +154,20 @@ export async function action({ request, params }: Route.ActionArgs) {
         { intent, ok: false, message: "Addenda are for signed exams; edit the section directly." },
         { status: 409 },
       );
-    await addAddendum(user, exam, parsed.data, request);
+    const finalRefraction = Object.fromEntries(
+      [...form.entries()].flatMap(([k, v]) =>
+        typeof v === "string" && /^(right|left)_(rx|add|va)$/.test(k) ? [[k, v]] : [],
+      ),
+    );
+    try {
+      await addAddendum(user, exam, { ...parsed.data, finalRefraction }, request);
+    } catch (e) {
+      if (!(e instanceof DomainError)) throw e;
+      return data(
+        { intent, ok: false, message: `The addendum was not added: ${e.message}`, errors: e.fieldErrors },
+        { status: e.status },
+      );
+    }
     return redirectWithToast(`/patients/${exam.patientId}/exams/${exam.id}#addenda`, {
       kind: "success",
       title: "Addendum added",
@@ -217,10 +224,9 @@ export async function clientAction({ request, serverAction }: Route.ClientAction
 }
 
 export default function ExamPage({ loaderData }: Route.ComponentProps) {
-  const { patient, exam, values, previous, prompts } = loaderData;
+  const { patient, exam, values, prompts } = loaderData;
   const readOnly = exam.status === "signed";
   const tracker = useDirtyTracker();
-  const promptsOf = (codes: string[]) => prompts.filter((p) => codes.some((c) => p.code.startsWith(c)));
   // Advice to repeat a measurement is not a referral prompt and is not counted as one.
   const referralPrompts = prompts.filter((p) => p.action !== "repeat measurement");
   const repeatAdvice = prompts.filter((p) => p.action === "repeat measurement");
@@ -230,167 +236,127 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
   const shown = (section: string) => !readOnly || showEmpty || recorded(section);
   return (
     <DirtyContext.Provider value={tracker}>
-      <PageHeader
-        title={
-          <>
-            Exam · {patient.lastName}, {patient.firstName}
-          </>
-        }
-        description={
-          <>
-            <Link to={`/patients/${patient.id}`} className="underline">
-              Chart
-            </Link>{" "}
-            · born {formatDate(patient.dateOfBirth)} (age {patient.age}) · examined{" "}
-            {new Date(exam.examinedAt).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })} by{" "}
-            {exam.optometrist}
-          </>
-        }
-        actions={
-          <>
-            {readOnly ? (
-              <StatusBadge tone="success">
-                Signed by {exam.signedBy} on{" "}
-                {new Date(exam.signedAt!).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}
-              </StatusBadge>
-            ) : (
-              <StatusBadge tone="warning">In progress</StatusBadge>
-            )}
-            {readOnly && loaderData.canBill ? (
-              <Link
-                to={`/billing/invoices/new?exam=${exam.id}`}
-                className="font-semibold text-accent-700 underline underline-offset-4"
-              >
-                Raise invoice
-              </Link>
-            ) : null}
-          </>
-        }
-      />
-      <nav aria-label="Exam sections" className="mb-6 rounded-lg border border-line bg-white px-4 py-3 text-sm">
-        <ul className="flex flex-wrap gap-x-4 gap-y-1">
-          {[{ id: "triage", nav: "Triage" }, ...EXAM_SECTIONS]
-            .filter(({ id }) => id === "triage" || shown(id))
-            .map(({ id: k, nav: label }) => (
-              <li key={k}>
-                <a
-                  href={k === "triage" ? "#triage-title" : `#${sectionAnchor(k)}`}
-                  className="font-semibold text-accent-800 underline-offset-4 hover:underline"
+      <ExamPageContext.Provider value={{ examId: exam.id, stored: loaderData.sectionStates, recorded }}>
+        <PageHeader
+          title={
+            <>
+              Exam · {patient.lastName}, {patient.firstName}
+            </>
+          }
+          description={
+            <>
+              <Link to={`/patients/${patient.id}`} className="underline">
+                Chart
+              </Link>{" "}
+              · born {formatDate(patient.dateOfBirth)} (age {patient.age}) · examined{" "}
+              {new Date(exam.examinedAt).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })} by{" "}
+              {exam.optometrist}
+            </>
+          }
+          actions={
+            <>
+              {readOnly ? (
+                <StatusBadge tone="success">
+                  Signed by {exam.signedBy} on{" "}
+                  {new Date(exam.signedAt!).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}
+                </StatusBadge>
+              ) : (
+                <StatusBadge tone="warning">In progress</StatusBadge>
+              )}
+              {readOnly && loaderData.canBill ? (
+                <Link
+                  to={`/billing/invoices/new?exam=${exam.id}`}
+                  className="font-semibold text-accent-700 underline underline-offset-4"
                 >
-                  {label}
-                </a>
-                {tracker.states[k] && tracker.states[k] !== "saved" ? (
-                  <span className="ml-1 text-xs text-amber-900">
-                    ({tracker.states[k] === "failed" ? "not saved" : tracker.states[k]})
-                  </span>
-                ) : null}
-              </li>
-            ))}
-        </ul>
-      </nav>
-      <div className="space-y-6">
-        <Notice tone="info" title="Entry">
-          Type refractions in the usual notation (<code>-2.25 -0.75 x 175</code>, <code>pl</code>, <code>+1.00 DS</code>
-          ) and acuity as 6/6 or 20/25-2 (bare numbers in the notation the acuity section states). Each section saves on
-          its own a moment after you stop typing; its badge says whether it is saved. Allergies:{" "}
-          {patient.allergies || "none recorded"}. Medications: {patient.medications || "none recorded"}.
-        </Notice>
-        {readOnly ? (
-          <label className="flex items-center gap-2 text-sm font-semibold">
-            <input
-              type="checkbox"
-              checked={showEmpty}
-              onChange={(e) => setShowEmpty(e.target.checked)}
-              className="size-4"
+                  Raise invoice
+                </Link>
+              ) : null}
+            </>
+          }
+        />
+        <SectionMenu shown={shown} states={tracker.states} readOnly={readOnly} recorded={recorded} />
+        <div className="space-y-6">
+          <Notice tone="info" title="Entry">
+            Type refractions in the usual notation (<code>-2.25 -0.75 x 175</code>, <code>pl</code>,{" "}
+            <code>+1.00 DS</code>) and acuity as 6/6 or 20/25-2 (bare numbers in the notation the acuity section
+            states). Each section saves on its own a moment after you stop typing; its badge says whether it is saved.
+            Allergies: {patient.allergies || "none recorded"}. Medications: {patient.medications || "none recorded"}.
+          </Notice>
+          {readOnly ? (
+            <label className="flex min-h-11 items-center gap-2 text-sm font-semibold">
+              <input
+                type="checkbox"
+                checked={showEmpty}
+                onChange={(e) => setShowEmpty(e.target.checked)}
+                className="size-5"
+              />
+              Show sections with nothing recorded ({EXAM_SECTION_IDS.filter((k) => !recorded(k)).length} hidden)
+            </label>
+          ) : null}
+          <TriagePanel triage={loaderData.triage} />
+          <ExamSections data={loaderData} readOnly={readOnly} shown={shown} />
+          <Card title="Attachments">
+            <DocumentList patientId={patient.id} documents={loaderData.documents} />
+            <div className="mt-4">
+              <UploadForm patientId={patient.id} examId={exam.id} />
+            </div>
+          </Card>
+          {repeatAdvice.length ? (
+            <Notice
+              tone="info"
+              title={`${repeatAdvice.length} ${repeatAdvice.length === 1 ? "measurement" : "measurements"} to repeat before deciding`}
+            >
+              <span data-testid="repeat-advice-summary">{repeatAdvice.map((p) => p.message).join("; ")}.</span> Advice
+              to measure again, not referral prompts.
+            </Notice>
+          ) : null}
+          {referralPrompts.length ? (
+            <Notice
+              tone="warning"
+              title={`${referralPrompts.length} referral ${referralPrompts.length === 1 ? "prompt" : "prompts"} on this exam`}
+            >
+              {readOnly ? (
+                <Link to={`/referrals/new?exam=${exam.id}`} className="font-semibold underline">
+                  Draft a referral letter pre-filled with these measurements
+                </Link>
+              ) : (
+                "Sign the exam to draft a referral letter from it."
+              )}{" "}
+              Prompts are for your judgement, not referral decisions.
+            </Notice>
+          ) : null}
+          {readOnly ? (
+            <Signatures
+              signedBy={exam.signedBy}
+              signedAt={exam.signedAt}
+              countersignatures={loaderData.countersignatures}
+              canCountersign={loaderData.canCountersign}
             />
-            Show sections with nothing recorded ({EXAM_SECTION_IDS.filter((k) => !recorded(k)).length} hidden)
-          </label>
-        ) : null}
-        <TriagePanel triage={loaderData.triage} />
-        {shown("redflags") ? <RedFlagsSection values={values} readOnly={readOnly} /> : null}
-        {shown("history") ? <HistorySection values={values} readOnly={readOnly} /> : null}
-        {shown("acuity") ? (
-          <AcuitySection
-            values={values}
-            readOnly={readOnly}
-            prompts={promptsOf(["ACUITY"])}
-            practiceNotation={loaderData.acuityNotation}
-          />
-        ) : null}
-        <PreviousFinal previous={previous} />
-        {REFRACTION_KINDS.filter((kind) => shown(`refraction:${kind}`)).map((kind) => (
-          <RefractionSection
-            key={kind}
-            kind={kind}
-            values={values}
-            readOnly={readOnly}
-            previous={kind === "final" || kind === "subjective" ? previous : null}
-            notation={loaderData.acuityNotation}
-          />
-        ))}
-        {shown("binocular") ? <BinocularSection values={values} readOnly={readOnly} /> : null}
-        {shown("pupils") ? <PupilsSection values={values} readOnly={readOnly} /> : null}
-        {shown("ac") ? <AnteriorChamberSection values={values} readOnly={readOnly} /> : null}
-        {shown("iop") ? <IopSection values={values} readOnly={readOnly} prompts={promptsOf(["IOP"])} /> : null}
-        {shown("colour") ? <ColourSection values={values} readOnly={readOnly} prompts={promptsOf(["COLOUR"])} /> : null}
-        {shown("fields") ? (
-          <FieldsSection values={values} readOnly={readOnly} prompts={promptsOf(["BLIND_SPOT", "FIELD"])} />
-        ) : null}
-        {shown("segments") ? <SegmentsSection values={values} readOnly={readOnly} /> : null}
-        {shown("disc") ? <DiscSection values={values} readOnly={readOnly} /> : null}
-        {shown("fundus") ? <FundusSection values={values} readOnly={readOnly} /> : null}
-        {shown("dilation") ? (
-          <DilationSection values={values} readOnly={readOnly} nowLocal={loaderData.nowLocal} />
-        ) : null}
-        {shown("assessment") ? <AssessmentSection values={values} readOnly={readOnly} /> : null}
-        <Card title="Attachments">
-          <DocumentList patientId={patient.id} documents={loaderData.documents} />
-          <div className="mt-4">
-            <UploadForm patientId={patient.id} examId={exam.id} />
-          </div>
-        </Card>
-        {repeatAdvice.length ? (
-          <Notice
-            tone="info"
-            title={`${repeatAdvice.length} ${repeatAdvice.length === 1 ? "measurement" : "measurements"} to repeat before deciding`}
-          >
-            <span data-testid="repeat-advice-summary">{repeatAdvice.map((p) => p.message).join("; ")}.</span> Advice to
-            measure again, not referral prompts.
-          </Notice>
-        ) : null}
-        {referralPrompts.length ? (
-          <Notice
-            tone="warning"
-            title={`${referralPrompts.length} referral ${referralPrompts.length === 1 ? "prompt" : "prompts"} on this exam`}
-          >
-            {readOnly ? (
-              <Link to={`/referrals/new?exam=${exam.id}`} className="font-semibold underline">
-                Draft a referral letter pre-filled with these measurements
-              </Link>
-            ) : (
-              "Sign the exam to draft a referral letter from it."
-            )}{" "}
-            Prompts are for your judgement, not referral decisions.
-          </Notice>
-        ) : null}
-        {readOnly ? (
-          <Signatures
-            signedBy={exam.signedBy}
-            signedAt={exam.signedAt}
-            countersignatures={loaderData.countersignatures}
-            canCountersign={loaderData.canCountersign}
-          />
-        ) : null}
-        {readOnly ? (
-          <Addenda addenda={loaderData.addenda} />
-        ) : (
-          <SignCard states={tracker.states} canSign={loaderData.canSign} examiner={exam.optometrist} />
-        )}
-        {readOnly ? <Prescriptions data={loaderData} /> : null}
-      </div>
+          ) : null}
+          {readOnly ? (
+            <Addenda addenda={loaderData.addenda} hasFinal={loaderData.hasFinal} subjective={subjectiveOf(values)} />
+          ) : (
+            <SignCard
+              states={tracker.states}
+              canSign={loaderData.canSign}
+              examiner={exam.optometrist}
+              hasFinal={loaderData.hasFinal}
+            />
+          )}
+          {readOnly ? <Prescriptions data={loaderData} /> : null}
+        </div>
+      </ExamPageContext.Provider>
     </DirtyContext.Provider>
   );
 }
+
+/** The subjective refraction's saved fields as the addendum's final-refraction fields name them. */
+const subjectiveOf = (values: Record<string, string>) =>
+  Object.fromEntries(
+    Object.entries(values).flatMap(([k, v]) =>
+      k.startsWith("subjective.") ? [[k.slice("subjective.".length), v]] : [],
+    ),
+  );
 
 export const meta: Route.MetaFunction = ({ data: d }) => [
   { title: d ? `Exam · ${d.patient.lastName}, ${d.patient.firstName} · Dioptra` : "Exam · Dioptra" },

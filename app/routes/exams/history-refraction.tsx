@@ -24,6 +24,7 @@ import {
 import { formatDate } from "~/lib/format";
 import { ExamInput, ExamSelect, ExamTextarea, SectionForm } from "./exam-form";
 import { sectionTitle } from "~/lib/exam/section-list";
+import { CopySubjective } from "./copy-subjective";
 
 type LoaderData = Route.ComponentProps["loaderData"];
 
@@ -106,7 +107,14 @@ export function RefractionSection({
   readOnly,
   previous,
   notation,
-}: V & { kind: RefractionKind; previous: Previous | null; notation: AcuityNotation }) {
+  addendumNote = null,
+}: V & {
+  kind: RefractionKind;
+  previous: Previous | null;
+  notation: AcuityNotation;
+  /** Who supplied this refraction by addendum after signing, and when. */
+  addendumNote?: { author: string; createdAt: string } | null;
+}) {
   const label = sectionTitle(`refraction:${kind}`);
   const short = label.split(" (")[0]!.toLowerCase();
   const v = (eye: EyeKey, p: string) => values[`${kind}.${eye}_${p}`];
@@ -135,6 +143,13 @@ export function RefractionSection({
         ) : undefined
       }
     >
+      {kind === "final" && !readOnly ? <CopySubjective /> : null}
+      {addendumNote ? (
+        <p className="mb-3 text-sm" data-testid="final-from-addendum">
+          Given after signing, by addendum of {addendumNote.author} on{" "}
+          {new Date(addendumNote.createdAt).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}.
+        </p>
+      ) : null}
       <div className="overflow-x-auto">
         <table className="min-w-full text-sm">
           <caption className="sr-only">{label}, right and left eye</caption>

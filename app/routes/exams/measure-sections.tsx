@@ -136,7 +136,18 @@ export function AcuitySection({
   );
 }
 
-export function IopSection({ values, readOnly, prompts }: V & { prompts: ReferralPrompt[] }) {
+/** The time of day now in the practice's time zone, as a time field wants it (HH:MM). */
+const timeNow = (timeZone: string) =>
+  new Intl.DateTimeFormat("en-GB", { timeZone, hour: "2-digit", minute: "2-digit", hourCycle: "h23" }).format(
+    new Date(),
+  );
+
+export function IopSection({
+  values,
+  readOnly,
+  prompts,
+  timeZone,
+}: V & { prompts: ReferralPrompt[]; timeZone: string }) {
   const readings = Array.from({ length: IOP_READINGS }, (_, i) => i + 1);
   const saved = (eye: EyeKey) =>
     readings.flatMap((n) =>
@@ -148,7 +159,7 @@ export function IopSection({ values, readOnly, prompts }: V & { prompts: Referra
       title={sectionTitle("iop")}
       readOnly={readOnly}
       prompts={prompts}
-      description="Up to four readings per eye. A later reading without a method or time takes the one before it. The mean of the readings is what prompts and triage use."
+      description="Up to four readings per eye. The first reading of an eye needs its method and time of day; the time is filled in with the time now when you type a pressure, and you can change it. A later reading without a method or time takes the one before it. The mean of the readings is what prompts and triage use."
     >
       <div className="grid gap-4 md:grid-cols-2">
         {EYES.map((eye) => {
@@ -171,6 +182,11 @@ export function IopSection({ values, readOnly, prompts }: V & { prompts: Referra
                       inputMode="decimal"
                       defaultValue={values[iopField(eye, "mmHg", n)]}
                       validate={(t) => parseNumber(t, `${E} IOP`, 1, 80).error}
+                      onValue={(t) => {
+                        if (n !== 1 || !t.trim()) return;
+                        const time = document.getElementById(`iop-${eye}-time`) as HTMLInputElement | null;
+                        if (time && !time.value) time.value = timeNow(timeZone);
+                      }}
                     />
                     <ExamSelect
                       id={`iop-${eye}-method${n > 1 ? `-${n}` : ""}`}
@@ -178,6 +194,7 @@ export function IopSection({ values, readOnly, prompts }: V & { prompts: Referra
                       label={n === 1 ? `${E} IOP method` : `${E} IOP method, reading ${n}`}
                       defaultValue={values[iopField(eye, "method", n)]}
                       options={IOP_METHODS}
+                      required={n === 1}
                     />
                     <ExamInput
                       id={`iop-${eye}-time${n > 1 ? `-${n}` : ""}`}
@@ -185,6 +202,7 @@ export function IopSection({ values, readOnly, prompts }: V & { prompts: Referra
                       label={n === 1 ? `${E} IOP time of day` : `${E} IOP time, reading ${n}`}
                       type="time"
                       defaultValue={values[iopField(eye, "time", n)]}
+                      required={n === 1}
                     />
                   </div>
                 ))}

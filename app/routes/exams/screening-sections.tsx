@@ -165,12 +165,12 @@ export function FieldsSection({ values, readOnly, prompts }: V & { prompts: Refe
               defaultValue={values[`${eye}_bsH`]}
               validate={deg(E, "blind-spot height", 0.1, 40)}
             />
-            <label className="flex items-center gap-2 text-sm font-semibold">
+            <label className="flex min-h-11 items-center gap-2 text-sm font-semibold">
               <input
                 type="checkbox"
                 name={`${eye}_defect`}
                 defaultChecked={values[`${eye}_defect`] === "on"}
-                className="size-4"
+                className="size-5 shrink-0"
               />
               {E}: field defect present
             </label>
@@ -207,13 +207,13 @@ export function SegmentsSection({ values, readOnly }: V) {
                 </legend>
                 <div className="grid grid-cols-2 gap-2">
                   {Object.entries(SEGMENT_STRUCTURES[segment]).map(([k, label]) => (
-                    <label key={k} className="flex items-center gap-2 text-sm">
+                    <label key={k} className="flex min-h-11 items-center gap-2 text-sm">
                       <input
                         type="checkbox"
                         name={`${eye}_${segment}_normal`}
                         value={k}
                         defaultChecked={ticked.includes(k)}
-                        className="size-4"
+                        className="size-5 shrink-0"
                       />
                       {label} normal
                     </label>
