@@ -184,7 +184,9 @@ describe("the JSON API's errors", () => {
       headers: { cookie },
     });
     expect(impossible.status).toBe(400);
-    expect((await problemOf(impossible)).fieldErrors?.end?.[0]).toMatch(/not a date and time we can read|does not exist/);
+    expect((await problemOf(impossible)).fieldErrors?.end?.[0]).toMatch(
+      /not a date and time we can read|does not exist/,
+    );
     const broken = await fetch(`${baseUrl()}/api/appointments`, {
       method: "POST",
       headers: { cookie, "content-type": "application/json" },
