@@ -3,12 +3,12 @@
  * one check every booking path runs before it writes or offers a time: is the site open then,
  * and is neither the practice closed nor the clinician away that day.
  */
-import { and, asc, eq, gte, inArray, lte, notInArray, or, isNull, sql } from "drizzle-orm";
+import { and, asc, desc, eq, gte, inArray, isNull, lte, notInArray, or, sql } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
 import { appointments, closures, siteOpeningHours, sites, users } from "~/db/schema";
-import { checkOpeningHours, type DaySpan } from "~/lib/scheduling/hours";
+import { checkOpeningHours, type DaySpan, WEEKDAY_NAMES } from "~/lib/scheduling/hours";
 import { closureOn, closureRefusal, type ClosureKind } from "~/lib/scheduling/closures";
-import { localParts, startOfLocalDay, addDays } from "~/lib/scheduling/time";
+import { addDays, localParts, minutesToHhmm, startOfLocalDay } from "~/lib/scheduling/time";
 import { audit } from "~/utils/audit.server";
 import { db, type Tx } from "~/utils/db.server";
 import { DomainError } from "~/utils/failure.server";
@@ -18,7 +18,14 @@ type Reader = Tx | typeof db;
 
 /** What a booking check needs to know about closures and opening hours over some days. */
 export type OpeningContext = {
-  closures: { kind: ClosureKind; siteId: string | null; providerId: string | null; startsOn: string; endsOn: string; reason: string }[];
+  closures: {
+    kind: ClosureKind;
+    siteId: string | null;
+    providerId: string | null;
+    startsOn: string;
+    endsOn: string;
+    reason: string;
+  }[];
   opening: Map<string, DaySpan[]>;
   siteNames: Map<string, string>;
 };
@@ -161,7 +168,14 @@ export async function addClosure(actor: SessionUser, input: ClosureInput, timeZo
       .values({ ...value, createdById: actor.id })
       .returning();
     await audit(
-      { action: "closure.added", actorUserId: actor.id, entityType: "closure", entityId: row!.id, detail: value, request },
+      {
+        action: "closure.added",
+        actorUserId: actor.id,
+        entityType: "closure",
+        entityId: row!.id,
+        detail: value,
+        request,
+      },
       tx,
     );
     return { closure: row!, affected: await appointmentsInside(tx, value, timeZone) };
@@ -185,5 +199,29 @@ export async function removeClosure(actor: SessionUser, id: string, request?: Re
       tx,
     );
     return row;
+  });
+}
+
+/** Each open site's opening hours by weekday ("" when closed that day), the default site first. */
+export async function openingHoursBySite() {
+  const [list, hours] = await Promise.all([
+    db
+      .select({ id: sites.id, name: sites.name, isDefault: sites.isDefault })
+      .from(sites)
+      .where(eq(sites.active, true))
+      .orderBy(desc(sites.isDefault), asc(sites.name)),
+    db.select().from(siteOpeningHours),
+  ]);
+  return list.map((s) => {
+    const own = hours.filter((h) => h.siteId === s.id);
+    return {
+      id: s.id,
+      name: s.name,
+      set: own.length > 0,
+      days: WEEKDAY_NAMES.map((name, i) => {
+        const h = own.find((x) => x.weekday === i + 1);
+        return { name, hours: h ? `${minutesToHhmm(h.startMinute)}–${minutesToHhmm(h.endMinute)}` : "" };
+      }),
+    };
   });
 }

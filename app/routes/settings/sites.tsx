@@ -134,7 +134,13 @@ export async function action({ request }: Route.ActionArgs) {
   if (before) {
     // Providers' working days point at the site and its rooms: closing them first would strand those days.
     const working = await db
-      .select({ name: users.name, weekday: workingHours.weekday, roomId: workingHours.roomId })
+      .select({
+        name: users.name,
+        weekday: workingHours.weekday,
+        roomId: workingHours.roomId,
+        startMinute: workingHours.startMinute,
+        endMinute: workingHours.endMinute,
+      })
       .from(workingHours)
       .innerJoin(users, eq(users.id, workingHours.providerId))
       .where(eq(workingHours.siteId, before.id));
@@ -149,6 +155,10 @@ export async function action({ request }: Route.ActionArgs) {
       if (hours.length && !day)
         errors[`hours-${w.weekday}`] = [
           `${w.name} works here on ${WEEKDAY_NAMES[w.weekday - 1]}s; change their working hours before closing that day.`,
+        ];
+      else if (day && (w.startMinute < day.startMinute || w.endMinute > day.endMinute))
+        errors[`hours-${w.weekday}`] = [
+          `${w.name} works here ${minutesToHhmm(w.startMinute)}–${minutesToHhmm(w.endMinute)} on ${WEEKDAY_NAMES[w.weekday - 1]}s; the opening hours must cover that, or change their working hours first.`,
         ];
       const closing = roomChanges.find((r) => r.id === w.roomId && !r.active);
       if (closing) errors[`room-${closing.id}`] = [`${w.name} uses this room on ${WEEKDAY_NAMES[w.weekday - 1]}s.`];
