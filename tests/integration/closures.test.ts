@@ -22,10 +22,12 @@ const added: string[] = [];
 beforeAll(async () => {
   ids = await demoIds();
   main = (await db.select().from(sites).where(eq(sites.isDefault, true)))[0]!;
-  [online] = await db
-    .insert(appointmentTypes)
-    .values({ name: `Online check ${Date.now()}`, durationMinutes: 30, onlineBooking: true })
-    .returning();
+  online = (
+    await db
+      .insert(appointmentTypes)
+      .values({ name: `Online check ${Date.now()}`, durationMinutes: 30, onlineBooking: true })
+      .returning()
+  )[0]!;
 });
 
 afterAll(async () => {
@@ -51,7 +53,7 @@ async function addClosure(form: Record<string, string>, role: "owner" | "recepti
     if (row) added.push(row.id);
     return { status, row };
   }
-  return { status, errors: dataOf<{ result: { error?: Record<string, string[]> } }>(result).result.error ?? {} };
+  return { status, errors: dataOf<{ result?: { error?: Record<string, string[]> } }>(result).result?.error ?? {} };
 }
 
 describe("Settings → Opening and closures", () => {
@@ -67,10 +69,12 @@ describe("Settings → Opening and closures", () => {
   });
 
   it("refuses bad input field by field and saves nothing", async () => {
-    const bad = await addClosure({ kind: "practice", startsOn: WED, endsOn: MON, reason: "" });
-    expect(bad.status).toBe(400);
-    expect(bad.errors!.endsOn![0]).toMatch(/on or after the first day/);
-    expect(bad.errors!.reason![0]).toMatch(/Say why/);
+    const backwards = await addClosure({ kind: "practice", startsOn: WED, endsOn: MON, reason: "Backwards" });
+    expect(backwards.status).toBe(400);
+    expect(backwards.errors!.endsOn![0]).toMatch(/on or after the first day/);
+    const noReason = await addClosure({ kind: "practice", startsOn: MON, reason: " " });
+    expect(noReason.status).toBe(400);
+    expect(noReason.errors!.reason![0]).toMatch(/Say why/);
     const leave = await addClosure({ kind: "leave", startsOn: MON, reason: "Annual leave" });
     expect(leave.status).toBe(400);
     expect(leave.errors!.providerId![0]).toMatch(/Choose the clinician/);
@@ -89,7 +93,7 @@ describe("Settings → Opening and closures", () => {
       await db
         .select()
         .from(closures)
-        .where(inArray(closures.reason, ["Annual leave", "Typo", "Rebuild"])),
+        .where(inArray(closures.reason, ["Backwards", "Annual leave", "Typo", "Rebuild"])),
     ).toEqual([]);
   });
 

@@ -8,6 +8,7 @@ import { Field, SelectField } from "~/components/forms";
 import { RowIntentButton, SettingsPage, SettingsSection } from "~/components/settings-page";
 import { Button } from "~/components/ui/button";
 import { StatusBadge } from "~/components/ui/notice";
+import { isCalendarDate } from "~/lib/dates/calendar-date";
 import { CLOSURE_KIND_LABEL, closureDates } from "~/lib/scheduling/closures";
 import { localParts } from "~/lib/scheduling/time";
 import { requireRole } from "~/utils/auth.server";
@@ -17,10 +18,7 @@ import { addClosure, listClosures, openingHoursBySite, removeClosure } from "~/m
 import { bookableProviders, practiceSchedule } from "~/models/schedule/schedule.server";
 
 const day = (what: string) =>
-  z
-    .string({ error: `Give the ${what} as a date.` })
-    .regex(/^\d{4}-\d{2}-\d{2}$/, `Give the ${what} as a date.`)
-    .refine((d) => !Number.isNaN(Date.parse(`${d}T00:00:00Z`)), `Give the ${what} as a real date.`);
+  z.string({ error: `Give the ${what} as a date.` }).refine(isCalendarDate, `Give the ${what} as a real date.`);
 
 export const closureSchema = z
   .object({
