@@ -195,3 +195,43 @@ export function RowIntentButton({
     </Form>
   );
 }
+
+/** A table cell with one time-of-day input (5-minute steps), labelled for screen readers and tied to its row's errors. */
+export function TimeCell({
+  name,
+  label,
+  defaultValue,
+  errorId,
+}: {
+  /** Also the input's id. */
+  name: string;
+  label: string;
+  defaultValue: string;
+  /** The id of the row's error list when the row has errors. */
+  errorId?: string;
+}) {
+  return (
+    <td className="py-2 pr-4">
+      <label className="sr-only" htmlFor={name}>
+        {label}
+      </label>
+      <Input
+        id={name}
+        name={name}
+        type="time"
+        step={300}
+        defaultValue={defaultValue}
+        className="w-32"
+        aria-invalid={errorId ? true : undefined}
+        aria-describedby={errorId}
+      />
+    </td>
+  );
+}
+
+/** The page-level notice for a form refused as a whole (`""`) or field by field. */
+export function refusalNotice(errors: Record<string, string[] | undefined>, what = "fields"): SettingsNotice | null {
+  if (errors[""]?.length) return { tone: "error", title: "Not saved", body: errors[""].join(" ") };
+  if (Object.keys(errors).length) return { tone: "error", title: `Not saved: check the ${what} marked below.` };
+  return null;
+}
