@@ -19,10 +19,13 @@ export function SettingsPage({
   notice,
   form,
   list,
+  actions,
   children,
 }: {
   title: string;
   description: ReactNode;
+  /** Links or buttons beside the heading (e.g. "Add a site"). */
+  actions?: ReactNode;
   /** Shown under the heading, e.g. why the last change was not saved. */
   notice?: SettingsNotice | null;
   /** The add/edit form area: its heading and the form. */
@@ -34,7 +37,7 @@ export function SettingsPage({
 }) {
   return (
     <>
-      <PageHeader title={title} description={description} />
+      <PageHeader title={title} description={description} actions={actions} />
       <div className="space-y-6">
         {notice ? (
           <Notice tone={notice.tone} title={notice.title}>

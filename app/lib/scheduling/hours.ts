@@ -82,7 +82,10 @@ function checkSpan(
   const open = wallTimeToInstant(s.date, day.startMinute, timeZone);
   const close = wallTimeToInstant(s.date, day.endMinute, timeZone);
   if ((open && start < open) || (close && end > close) || s.minute < day.startMinute || endMinute > day.endMinute) {
-    return { ok: false, reason: words.outside(dayName, `${minutesToHhmm(day.startMinute)}–${minutesToHhmm(day.endMinute)}`) };
+    return {
+      ok: false,
+      reason: words.outside(dayName, `${minutesToHhmm(day.startMinute)}–${minutesToHhmm(day.endMinute)}`),
+    };
   }
   for (const b of breaks) {
     if (b.weekday !== s.weekday) continue;
