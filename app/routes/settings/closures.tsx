@@ -134,6 +134,31 @@ const columns = [
   }),
 ];
 
+/** A choice among sites or clinicians, with a first option for none. */
+function ChoiceField(f: {
+  name: string;
+  label: string;
+  none: string;
+  options: { id: string; name: string }[];
+  errors: Record<string, string[] | undefined>;
+  defaults: Record<string, string | undefined>;
+}) {
+  return (
+    <SelectField
+      label={f.label}
+      errors={f.errors[f.name]}
+      selectProps={{ id: `closure-${f.name}`, name: f.name, defaultValue: f.defaults[f.name] ?? "" }}
+    >
+      <option value="">{f.none}</option>
+      {f.options.map((o) => (
+        <option key={o.id} value={o.id}>
+          {o.name}
+        </option>
+      ))}
+    </SelectField>
+  );
+}
+
 export default function ClosuresSettings({ loaderData, actionData }: Route.ComponentProps) {
   const { closures, sites, providers, today } = loaderData;
   const navigation = useNavigation();
@@ -204,31 +229,23 @@ export default function ClosuresSettings({ loaderData, actionData }: Route.Compo
               }}
             />
             {sites.length > 1 ? (
-              <SelectField
+              <ChoiceField
+                errors={errors}
+                defaults={defaults}
+                name="siteId"
                 label="Site (not for leave)"
-                errors={errors.siteId}
-                selectProps={{ id: "closure-siteId", name: "siteId", defaultValue: defaults.siteId ?? "" }}
-              >
-                <option value="">Every site</option>
-                {sites.map((s) => (
-                  <option key={s.id} value={s.id}>
-                    {s.name}
-                  </option>
-                ))}
-              </SelectField>
+                none="Every site"
+                options={sites}
+              />
             ) : null}
-            <SelectField
+            <ChoiceField
+              errors={errors}
+              defaults={defaults}
+              name="providerId"
               label="Clinician (for leave only)"
-              errors={errors.providerId}
-              selectProps={{ id: "closure-providerId", name: "providerId", defaultValue: defaults.providerId ?? "" }}
-            >
-              <option value="">Not leave</option>
-              {providers.map((p) => (
-                <option key={p.id} value={p.id}>
-                  {p.name}
-                </option>
-              ))}
-            </SelectField>
+              none="Not leave"
+              options={providers}
+            />
             <div className="sm:col-span-2">
               <Button type="submit" pending={navigation.state === "submitting"}>
                 Add closure

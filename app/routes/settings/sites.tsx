@@ -259,28 +259,26 @@ export default function Sites({ loaderData, actionData }: Route.ComponentProps) 
             />
           </div>
           <div className="mt-4 space-y-2">
-            <label className="flex items-center gap-2">
-              <input
-                type="checkbox"
-                name="isDefault"
-                defaultChecked={v.isDefault}
-                className="size-4 accent-accent-700"
-                aria-describedby={errors.isDefault ? "site-isDefault-error" : undefined}
-              />
-              Default site (bookings, hours and invoices without a site go here)
-            </label>
-            <ErrorList id="site-isDefault-error" errors={errors.isDefault} />
-            <label className="flex items-center gap-2">
-              <input
-                type="checkbox"
-                name="active"
-                defaultChecked={v.active}
-                className="size-4 accent-accent-700"
-                aria-describedby={errors.active ? "site-active-error" : undefined}
-              />
-              Open (can be booked)
-            </label>
-            <ErrorList id="site-active-error" errors={errors.active} />
+            {(
+              [
+                ["isDefault", "Default site (bookings, hours and invoices without a site go here)"],
+                ["active", "Open (can be booked)"],
+              ] as const
+            ).map(([name, label]) => (
+              <div key={name}>
+                <label className="flex items-center gap-2">
+                  <input
+                    type="checkbox"
+                    name={name}
+                    defaultChecked={v[name]}
+                    className="size-4 accent-accent-700"
+                    aria-describedby={errors[name] ? `site-${name}-error` : undefined}
+                  />
+                  {label}
+                </label>
+                <ErrorList id={`site-${name}-error`} errors={errors[name]} />
+              </div>
+            ))}
           </div>
         </SettingsSection>
         <SettingsSection title="Opening hours">
