@@ -7,7 +7,7 @@ import { and, asc, desc, eq, gte, inArray, isNull, lte, notInArray, or, sql } fr
 import { alias } from "drizzle-orm/pg-core";
 import { appointments, closures, siteOpeningHours, sites, users } from "~/db/schema";
 import { checkOpeningHours, type DaySpan, WEEKDAY_NAMES } from "~/lib/scheduling/hours";
-import { closureOn, closureRefusal, type ClosureKind } from "~/lib/scheduling/closures";
+import { closureOn, closureRefusal, type ClosureSpan } from "~/lib/scheduling/closures";
 import { addDays, localParts, minutesToHhmm, startOfLocalDay } from "~/lib/scheduling/time";
 import { audit } from "~/utils/audit.server";
 import { db, type Tx } from "~/utils/db.server";
@@ -18,14 +18,7 @@ type Reader = Tx | typeof db;
 
 /** What a booking check needs to know about closures and opening hours over some days. */
 export type OpeningContext = {
-  closures: {
-    kind: ClosureKind;
-    siteId: string | null;
-    providerId: string | null;
-    startsOn: string;
-    endsOn: string;
-    reason: string;
-  }[];
+  closures: ClosureSpan[];
   opening: Map<string, DaySpan[]>;
   siteNames: Map<string, string>;
 };
@@ -65,14 +58,7 @@ export function closedReason(
   return open.ok ? null : open.reason;
 }
 
-export type ClosureInput = {
-  kind: ClosureKind;
-  siteId: string | null;
-  providerId: string | null;
-  startsOn: string;
-  endsOn: string;
-  reason: string;
-};
+export type ClosureInput = ClosureSpan;
 
 const MAX_DAYS = 366;
 

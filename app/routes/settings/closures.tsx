@@ -205,29 +205,20 @@ export default function ClosuresSettings({ loaderData, actionData }: Route.Compo
               errors={errors.reason}
               inputProps={{ id: "closure-reason", name: "reason", type: "text", defaultValue: defaults.reason }}
             />
-            <Field
-              label="First day"
-              errors={errors.startsOn}
-              inputProps={{
-                id: "closure-startsOn",
-                name: "startsOn",
-                type: "date",
-                min: today,
-                defaultValue: defaults.startsOn,
-              }}
-            />
-            <Field
-              label="Last day"
-              hint="Leave empty for a single day."
-              errors={errors.endsOn}
-              inputProps={{
-                id: "closure-endsOn",
-                name: "endsOn",
-                type: "date",
-                min: today,
-                defaultValue: defaults.endsOn,
-              }}
-            />
+            {(
+              [
+                ["startsOn", "First day", undefined],
+                ["endsOn", "Last day", "Leave empty for a single day."],
+              ] as const
+            ).map(([name, label, hint]) => (
+              <Field
+                key={name}
+                label={label}
+                hint={hint}
+                errors={errors[name]}
+                inputProps={{ id: `closure-${name}`, name, type: "date", min: today, defaultValue: defaults[name] }}
+              />
+            ))}
             {sites.length > 1 ? (
               <ChoiceField
                 errors={errors}
