@@ -87,6 +87,7 @@ export default [
         route("appointment-types", "routes/settings/appointment-types.tsx"),
         route("hours", "routes/settings/hours.tsx"),
         route("sites", "routes/settings/sites.tsx"),
+        route("closures", "routes/settings/closures.tsx"),
         route("fees", "routes/settings/fees.tsx"),
         route("frames", "routes/settings/frames.tsx"),
         route("labs", "routes/settings/labs.tsx"),

@@ -3,6 +3,7 @@
  * fictional patients, past visits (so the recall list has people due) and this week's bookings.
  * Idempotent: each part is added only when it is missing.
  */
+import { isBankHoliday } from "./closures";
 import { and, eq, inArray, sql } from "drizzle-orm";
 import type { NodePgDatabase } from "drizzle-orm/node-postgres";
 import * as schema from "../app/db/schema";
@@ -283,7 +284,8 @@ export async function seedSchedule(tx: Tx) {
   ];
   for (const [i, typeName, minute, status] of upcoming) {
     day = addDays(day, 1);
-    while ([6, 7].includes(((new Date(`${day}T12:00:00Z`).getUTCDay() + 6) % 7) + 1)) day = addDays(day, 1);
+    while ([6, 7].includes(((new Date(`${day}T12:00:00Z`).getUTCDay() + 6) % 7) + 1) || isBankHoliday(day))
+      day = addDays(day, 1);
     const patientId = i === "demo" ? demoPatient?.id : ids[i];
     if (patientId) plans.push({ patientId, providerId: optometrist.id, typeName, date: day, minute, status });
   }

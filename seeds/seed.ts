@@ -6,6 +6,7 @@ import * as schema from "../app/db/schema";
 import { databaseUrl } from "../app/utils/db-url";
 import { seedBilling } from "./billing";
 import { seedCaseload } from "./caseload";
+import { seedClosures } from "./closures";
 import { DEMO_PASSWORD, DEMO_PATIENT, DEMO_PRACTICE, DEMO_USERS } from "./demo-practice";
 import { seedOrders } from "./orders";
 import { seedPortal } from "./portal";
@@ -26,6 +27,7 @@ export async function seed(url = databaseUrl()) {
         .values({ id: 1, ...DEMO_PRACTICE })
         .onConflictDoNothing();
       await seedSites(tx);
+      await seedClosures(tx);
       await seedBilling(tx);
 
       let [patient] = await tx

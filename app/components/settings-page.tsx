@@ -19,10 +19,13 @@ export function SettingsPage({
   notice,
   form,
   list,
+  actions,
   children,
 }: {
   title: string;
   description: ReactNode;
+  /** Links or buttons beside the heading (e.g. "Add a site"). */
+  actions?: ReactNode;
   /** Shown under the heading, e.g. why the last change was not saved. */
   notice?: SettingsNotice | null;
   /** The add/edit form area: its heading and the form. */
@@ -34,7 +37,7 @@ export function SettingsPage({
 }) {
   return (
     <>
-      <PageHeader title={title} description={description} />
+      <PageHeader title={title} description={description} actions={actions} />
       <div className="space-y-6">
         {notice ? (
           <Notice tone={notice.tone} title={notice.title}>
@@ -194,4 +197,44 @@ export function RowIntentButton({
       </Button>
     </Form>
   );
+}
+
+/** A table cell with one time-of-day input (5-minute steps), labelled for screen readers and tied to its row's errors. */
+export function TimeCell({
+  name,
+  label,
+  defaultValue,
+  errorId,
+}: {
+  /** Also the input's id. */
+  name: string;
+  label: string;
+  defaultValue: string;
+  /** The id of the row's error list when the row has errors. */
+  errorId?: string;
+}) {
+  return (
+    <td className="py-2 pr-4">
+      <label className="sr-only" htmlFor={name}>
+        {label}
+      </label>
+      <Input
+        id={name}
+        name={name}
+        type="time"
+        step={300}
+        defaultValue={defaultValue}
+        className="w-32"
+        aria-invalid={errorId ? true : undefined}
+        aria-describedby={errorId}
+      />
+    </td>
+  );
+}
+
+/** The page-level notice for a form refused as a whole (`""`) or field by field. */
+export function refusalNotice(errors: Record<string, string[] | undefined>, what = "fields"): SettingsNotice | null {
+  if (errors[""]?.length) return { tone: "error", title: "Not saved", body: errors[""].join(" ") };
+  if (Object.keys(errors).length) return { tone: "error", title: `Not saved: check the ${what} marked below.` };
+  return null;
 }

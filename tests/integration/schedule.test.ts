@@ -177,19 +177,20 @@ describe("booking through POST /api/appointments", () => {
 describe("events for the calendar (GET /api/appointments)", () => {
   it("returns a week's events with the practice zone's offsets on both sides of the spring change (2027-03-28)", async () => {
     const p = await newPatient();
-    // Friday before the change: 09:00 GMT is 09:00Z; Monday after: 09:00 BST is 08:00Z.
-    expect((await book(p.id, "2027-03-26T09:00:00Z")).status).toBe(201);
-    expect((await book(p.id, "2027-03-29T09:00:00+01:00")).status).toBe(201);
+    // Thursday before the change: 09:00 GMT is 09:00Z; Tuesday after: 09:00 BST is 08:00Z (Good Friday and
+    // Easter Monday 2027 are bank holidays, when the practice is closed).
+    expect((await book(p.id, "2027-03-25T09:00:00Z")).status).toBe(201);
+    expect((await book(p.id, "2027-03-30T09:00:00+01:00")).status).toBe(201);
     // As FullCalendar asks in a named zone: wall times without an offset.
-    const url = `/api/appointments?start=2027-03-22T00:00:00&end=2027-03-30T00:00:00&provider=${ids.optometrist.id}&timeZone=Europe%2FLondon`;
+    const url = `/api/appointments?start=2027-03-22T00:00:00&end=2027-03-31T00:00:00&provider=${ids.optometrist.id}&timeZone=Europe%2FLondon`;
     const res = (await run(eventsLoader, makeRequest(url, { cookie: await cookieFor("receptionist") }))) as Response;
     expect(res.status).toBe(200);
     const events = (
       (await res.json()) as { start: string; end: string; extendedProps: { patientId: string; localDate: string } }[]
     ).filter((e) => e.extendedProps.patientId === p.id);
     expect(events.map((e) => [e.start, e.end])).toEqual([
-      ["2027-03-26T09:00:00+00:00", "2027-03-26T09:30:00+00:00"],
-      ["2027-03-29T09:00:00+01:00", "2027-03-29T09:30:00+01:00"],
+      ["2027-03-25T09:00:00+00:00", "2027-03-25T09:30:00+00:00"],
+      ["2027-03-30T09:00:00+01:00", "2027-03-30T09:30:00+01:00"],
     ]);
   });
 
@@ -214,13 +215,13 @@ describe("events for the calendar (GET /api/appointments)", () => {
 
   it("lists each event in the same shape as the booking answer gives it", async () => {
     const p = await newPatient();
-    const booked = (await (await book(p.id, "2027-05-03T09:30:00+01:00")).json()) as {
+    const booked = (await (await book(p.id, "2027-05-04T09:30:00+01:00")).json()) as {
       appointment: Record<string, unknown>;
     };
     const res = (await run(
       eventsLoader,
       makeRequest(
-        `/api/appointments?start=2027-05-03T00:00:00%2B01:00&end=2027-05-04T00:00:00%2B01:00&provider=${ids.optometrist.id}`,
+        `/api/appointments?start=2027-05-04T00:00:00%2B01:00&end=2027-05-05T00:00:00%2B01:00&provider=${ids.optometrist.id}`,
         { cookie: await cookieFor("receptionist") },
       ),
     )) as Response;

@@ -211,6 +211,39 @@ export const providerBreaks = pgTable(
   ],
 );
 
+/** What a closure is: a public (bank) holiday, a practice closure, or one clinician's leave. */
+export const closureKindEnum = pgEnum("closure_kind", ["bank_holiday", "practice", "leave"]);
+export type ClosureKind = (typeof closureKindEnum.enumValues)[number];
+
+/**
+ * Whole days on which nobody (or, for leave, one clinician) can be booked: from `startsOn` to
+ * `endsOn` inclusive, local dates at the site. No site: every site. Leave names its clinician and
+ * applies wherever they work; the other kinds name none.
+ */
+export const closures = pgTable(
+  "closures",
+  {
+    id: uuid().primaryKey().defaultRandom(),
+    kind: closureKindEnum().notNull(),
+    siteId: uuid().references(() => sites.id, { onDelete: "cascade" }),
+    providerId: uuid().references(() => users.id, { onDelete: "cascade" }),
+    startsOn: date({ mode: "string" }).notNull(),
+    endsOn: date({ mode: "string" }).notNull(),
+    reason: text().notNull(),
+    createdById: uuid().references(() => users.id, { onDelete: "set null" }),
+    createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [
+    index("closures_dates_idx").on(t.startsOn, t.endsOn),
+    uniqueIndex("closures_bank_holiday_uq")
+      .on(t.startsOn)
+      .where(sql`${t.kind} = 'bank_holiday' and ${t.siteId} is null`),
+    check("closures_range", sql`${t.endsOn} >= ${t.startsOn}`),
+    check("closures_leave_names_provider", sql`(${t.kind} = 'leave') = (${t.providerId} is not null)`),
+    check("closures_reason", sql`length(${t.reason}) between 1 and 120`),
+  ],
+);
+
 export const messageStatusEnum = pgEnum("message_status", ["queued", "sent", "skipped", "failed"]);
 export const appointmentMessageKindEnum = pgEnum("appointment_message_kind", [
   "confirmation",

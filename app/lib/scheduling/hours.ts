@@ -19,6 +19,55 @@ export function checkWorkingHours(
   hours: readonly DaySpan[],
   breaks: readonly BreakSpan[] = [],
 ): HoursCheck {
+  return checkSpan(start, end, timeZone, hours, breaks, {
+    closedDay: (day) => `The provider does not work on ${day}s.`,
+    outside: (day, span) => `Outside the provider's working hours on ${day} (${span}).`,
+  });
+}
+
+/**
+ * Whether [start, end) lies inside the site's opening hours that day. A site with no opening
+ * hours at all has not had them set yet and does not limit bookings; once any day is set, a day
+ * without hours is a closed day.
+ */
+export function checkOpeningHours(
+  start: Date,
+  end: Date,
+  timeZone: string,
+  opening: readonly DaySpan[],
+  siteName: string,
+): HoursCheck {
+  if (!opening.length) return { ok: true };
+  return checkSpan(start, end, timeZone, opening, [], {
+    closedDay: (day) => `${siteName} is closed on ${day}s. Choose another day.`,
+    outside: (day, span) => `${siteName} is open ${span} on ${day}s; choose a time inside the opening hours.`,
+  });
+}
+
+/** Whether a provider's working span fits inside the site's opening span that weekday (the same rule as above, for settings). */
+export function fitsOpeningHours(span: DaySpan, opening: readonly DaySpan[], siteName: string): HoursCheck {
+  if (!opening.length) return { ok: true };
+  const dayName = WEEKDAY_NAMES[span.weekday - 1] ?? "";
+  const open = opening.find((o) => o.weekday === span.weekday);
+  if (!open) return { ok: false, reason: `${siteName} is closed on ${dayName}s (see Settings → Sites and rooms).` };
+  if (span.startMinute < open.startMinute || span.endMinute > open.endMinute)
+    return {
+      ok: false,
+      reason: `${siteName} is open ${minutesToHhmm(open.startMinute)}–${minutesToHhmm(open.endMinute)} on ${dayName}s; working hours must fit inside.`,
+    };
+  return { ok: true };
+}
+
+type SpanWords = { closedDay: (dayName: string) => string; outside: (dayName: string, span: string) => string };
+
+function checkSpan(
+  start: Date,
+  end: Date,
+  timeZone: string,
+  hours: readonly DaySpan[],
+  breaks: readonly BreakSpan[],
+  words: SpanWords,
+): HoursCheck {
   const s = localParts(start, timeZone);
   const e = localParts(end, timeZone);
   // An appointment ending at local midnight belongs to the day it started.
@@ -27,15 +76,15 @@ export function checkWorkingHours(
   if (e.date !== s.date && !endsAtMidnight)
     return { ok: false, reason: "An appointment must start and end on the same day." };
   const day = hours.find((h) => h.weekday === s.weekday);
-  const dayName = WEEKDAY_NAMES[s.weekday - 1];
-  if (!day) return { ok: false, reason: `The provider does not work on ${dayName}s.` };
+  const dayName = WEEKDAY_NAMES[s.weekday - 1] ?? "";
+  if (!day) return { ok: false, reason: words.closedDay(dayName) };
   // Compare instants, not minute numbers, so a span on a day the clocks change is measured truly.
   const open = wallTimeToInstant(s.date, day.startMinute, timeZone);
   const close = wallTimeToInstant(s.date, day.endMinute, timeZone);
   if ((open && start < open) || (close && end > close) || s.minute < day.startMinute || endMinute > day.endMinute) {
     return {
       ok: false,
-      reason: `Outside the provider's working hours on ${dayName} (${minutesToHhmm(day.startMinute)}–${minutesToHhmm(day.endMinute)}).`,
+      reason: words.outside(dayName, `${minutesToHhmm(day.startMinute)}–${minutesToHhmm(day.endMinute)}`),
     };
   }
   for (const b of breaks) {

@@ -1,3 +1,4 @@
+export * from "./closures";
 export * from "./hours";
 export * from "./recall";
 export * from "./status";

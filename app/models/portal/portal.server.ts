@@ -12,7 +12,8 @@ import {
   users,
   workingHours,
 } from "~/db/schema";
-import { addDays, slotsForDay, startOfLocalDay } from "~/lib/scheduling";
+import { addDays, slotsForDay, startOfLocalDay, weekdayOf } from "~/lib/scheduling";
+import { closedReason, openingContext } from "~/models/schedule/closures.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 
@@ -212,13 +213,19 @@ export async function freeSlots(
       ),
     );
   const earliest = now.getTime() + 60 * 60_000;
+  // Closed days, leave and the sites' opening hours: a slot offered here must pass the booking's own check.
+  const opening = await openingContext(date, date);
+  const weekday = weekdayOf(date);
   const slots: FreeSlot[] = [];
   for (const p of providers) {
     const own = <T extends { providerId: string }>(rows: T[]) => rows.filter((r) => r.providerId === p.id);
+    const site = own(hours).find((h) => h.weekday === weekday)?.siteId;
+    if (!site) continue;
     const starts = slotsForDay(date, timeZone, own(hours), own(breaks), type.durationMinutes);
     for (const s of starts) {
       const e = s.getTime() + type.durationMinutes * 60_000;
       if (s.getTime() < earliest) continue;
+      if (closedReason(opening, { start: s, end: new Date(e), timeZone, siteId: site, provider: p })) continue;
       if (own(taken).some((t) => t.start.getTime() < e && t.end.getTime() > s.getTime())) continue;
       slots.push({ start: s.toISOString(), providerId: p.id, providerName: p.name });
     }

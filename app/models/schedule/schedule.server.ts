@@ -30,6 +30,7 @@ import {
 import { formatLocal, localParts, zonedIsoFormatter } from "~/lib/scheduling/time";
 import { audit } from "~/utils/audit.server";
 import { db, pool, type Tx } from "~/utils/db.server";
+import { closedReason, openingContext } from "./closures.server";
 import { queueAppointmentMessage, rescheduleReminder } from "./reminders.server";
 import { practiceSchedule } from "./schedule-settings.server";
 
@@ -273,6 +274,16 @@ async function validateSlot(
     throw new BookingError(msg, { status: 422, fieldErrors: { siteId: [msg] } });
   }
   const siteId = day.siteId;
+  // The site must be open then, and neither the practice closed nor the provider on leave that day.
+  const date = localParts(input.start, zone).date;
+  const closed = closedReason(await openingContext(date, date, tx), {
+    start: input.start,
+    end,
+    timeZone: zone,
+    siteId,
+    provider: provider!,
+  });
+  if (closed) throw new BookingError(closed, { status: 422, fieldErrors: { start: [closed] } });
   let roomId: string | null = input.roomId === undefined ? day.roomId : input.roomId;
   if (input.roomId) {
     const [room] = await tx

@@ -4,7 +4,9 @@
  */
 import { and, asc, eq } from "drizzle-orm";
 import { createCookie } from "react-router";
-import { rooms, siteOpeningHours, sites } from "~/db/schema";
+import { rooms, siteOpeningHours, sites, users, workingHours } from "~/db/schema";
+import { WEEKDAY_NAMES } from "~/lib/scheduling/hours";
+import { minutesToHhmm } from "~/lib/scheduling/time";
 import { db } from "~/utils/db.server";
 import { env } from "~/utils/env.server";
 
@@ -89,4 +91,48 @@ export async function siteChoice(
   if (asked !== null && valid(asked)) return { site: asked, setCookie: await siteCookie.serialize(asked) };
   const remembered = await siteCookie.parse(request.headers.get("cookie"));
   return { site: valid(remembered) ? remembered : "all", setCookie: null };
+}
+
+type DaySpanRow = { weekday: number; startMinute: number; endMinute: number };
+
+/**
+ * What a change to a site would strand: providers' working days there that a closed site, a day
+ * without opening hours, opening hours that no longer cover them, or a room taken out of use
+ * would leave outside. Answers field errors keyed as the sites form names its fields.
+ */
+export async function siteChangeConflicts(
+  siteId: string,
+  change: { active: boolean; hours: DaySpanRow[]; closingRoomIds: string[] },
+) {
+  const errors: Record<string, string[]> = {};
+  const working = await db
+    .select({
+      name: users.name,
+      weekday: workingHours.weekday,
+      roomId: workingHours.roomId,
+      startMinute: workingHours.startMinute,
+      endMinute: workingHours.endMinute,
+    })
+    .from(workingHours)
+    .innerJoin(users, eq(users.id, workingHours.providerId))
+    .where(eq(workingHours.siteId, siteId));
+  if (!change.active && working.length)
+    errors.active = [
+      `${working[0]!.name} works here on ${WEEKDAY_NAMES[working[0]!.weekday - 1]}s; move their working hours to another site first (Settings → Working hours).`,
+    ];
+  for (const w of working) {
+    const dayName = WEEKDAY_NAMES[w.weekday - 1];
+    const day = change.hours.find((h) => h.weekday === w.weekday);
+    if (change.hours.length && !day)
+      errors[`hours-${w.weekday}`] = [
+        `${w.name} works here on ${dayName}s; change their working hours before closing that day.`,
+      ];
+    else if (day && (w.startMinute < day.startMinute || w.endMinute > day.endMinute))
+      errors[`hours-${w.weekday}`] = [
+        `${w.name} works here ${minutesToHhmm(w.startMinute)}–${minutesToHhmm(w.endMinute)} on ${dayName}s; the opening hours must cover that, or change their working hours first.`,
+      ];
+    if (w.roomId && change.closingRoomIds.includes(w.roomId))
+      errors[`room-${w.roomId}`] = [`${w.name} uses this room on ${dayName}s.`];
+  }
+  return errors;
 }

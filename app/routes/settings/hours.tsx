@@ -3,9 +3,8 @@ import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/hours";
 import { ErrorList } from "~/components/forms";
-import { PageHeader } from "~/components/page-header";
+import { refusalNotice, SettingsPage, SettingsSection, TimeCell } from "~/components/settings-page";
 import { Button } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
 import {
@@ -16,7 +15,7 @@ import {
   users,
   workingHours,
 } from "~/db/schema";
-import { WEEKDAY_NAMES } from "~/lib/scheduling/hours";
+import { fitsOpeningHours, WEEKDAY_NAMES } from "~/lib/scheduling/hours";
 import { hhmmToMinutes, minutesToHhmm } from "~/lib/scheduling/time";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
@@ -111,16 +110,13 @@ export async function action({ request }: Route.ActionArgs) {
       errors[`hours-${weekday}`] = [`That room is not at ${site.name}; choose one of its rooms or none.`];
       continue;
     }
-    const siteHours = opening.filter((o) => o.siteId === site.id);
-    const open = siteHours.find((o) => o.weekday === weekday);
-    if (siteHours.length && !open) {
-      errors[`hours-${weekday}`] = [`${site.name} is closed on ${WEEKDAY_NAMES[weekday - 1]}s (see Settings → Sites).`];
-      continue;
-    }
-    if (open && (s < open.startMinute || e > open.endMinute)) {
-      errors[`hours-${weekday}`] = [
-        `${site.name} is open ${minutesToHhmm(open.startMinute)}–${minutesToHhmm(open.endMinute)} on ${WEEKDAY_NAMES[weekday - 1]}s; working hours must fit inside.`,
-      ];
+    const fits = fitsOpeningHours(
+      { weekday, startMinute: s, endMinute: e },
+      opening.filter((o) => o.siteId === site.id),
+      site.name,
+    );
+    if (!fits.ok) {
+      errors[`hours-${weekday}`] = [fits.reason];
       continue;
     }
     hours.push({ weekday, startMinute: s, endMinute: e, siteId: site.id, roomId });
@@ -164,13 +160,14 @@ export default function Hours({ loaderData, actionData }: Route.ComponentProps) 
   const navigation = useNavigation();
   const errors = navigation.state === "idle" ? ((actionData as { errors?: DayErrors } | undefined)?.errors ?? {}) : {};
   if (!provider) return <Notice tone="info" title="No optometrist or owner accounts to set hours for." />;
+  const LABEL = { start: "starts", end: "ends", breakStart: "break from", breakEnd: "break to" } as const;
   return (
-    <>
-      <PageHeader
-        title="Working hours"
-        description={`When each provider can be booked, in the practice's time (${timeZone}). Leave a day empty for a day off.`}
-      />
-      <Form method="get" className="mb-4 flex items-end gap-3">
+    <SettingsPage
+      title="Working hours"
+      description={`When each provider can be booked, in the practice's time (${timeZone}). Leave a day empty for a day off. Hours must fit inside the site's opening hours; closures and leave are under Opening and closures.`}
+      notice={refusalNotice(errors, "days")}
+    >
+      <Form method="get" className="flex items-end gap-3">
         <div>
           <label htmlFor="hours-provider" className="mb-1 block text-sm font-semibold">
             Provider
@@ -187,17 +184,9 @@ export default function Hours({ loaderData, actionData }: Route.ComponentProps) 
           Show
         </Button>
       </Form>
-      {errors[""]?.length ? (
-        <Notice tone="error" title="Not saved">
-          {errors[""].join(" ")}
-        </Notice>
-      ) : null}
-      {Object.keys(errors).length && !errors[""] ? (
-        <Notice tone="error" title="Not saved: check the days marked below." />
-      ) : null}
       <Form method="post" key={provider.id}>
         <input type="hidden" name="providerId" value={provider.id} />
-        <Card title={`Week of ${provider.name}`}>
+        <SettingsSection title={`Week of ${provider.name}`}>
           <div className="overflow-x-auto">
             <table className="w-full text-left text-sm">
               <thead className="border-b border-line text-muted">
@@ -267,30 +256,14 @@ export default function Hours({ loaderData, actionData }: Route.ComponentProps) 
                     ) : null}
                     {(["start", "end", "breakStart", "breakEnd"] as const).map((k) => {
                       const group = k === "start" || k === "end" ? "hours" : "break";
-                      const bad = Boolean(errors[`${group}-${d.weekday}`]);
                       return (
-                        <td key={k} className="py-2 pr-4">
-                          <label className="sr-only" htmlFor={`${k}-${d.weekday}`}>
-                            {d.name}{" "}
-                            {k === "start"
-                              ? "starts"
-                              : k === "end"
-                                ? "ends"
-                                : k === "breakStart"
-                                  ? "break from"
-                                  : "break to"}
-                          </label>
-                          <Input
-                            id={`${k}-${d.weekday}`}
-                            name={`${k}-${d.weekday}`}
-                            type="time"
-                            step={300}
-                            defaultValue={d[k]}
-                            className="w-32"
-                            aria-invalid={bad || undefined}
-                            aria-describedby={bad ? `${group}-${d.weekday}-err` : undefined}
-                          />
-                        </td>
+                        <TimeCell
+                          key={k}
+                          name={`${k}-${d.weekday}`}
+                          label={`${d.name} ${LABEL[k]}`}
+                          defaultValue={d[k]}
+                          errorId={errors[`${group}-${d.weekday}`] ? `${group}-${d.weekday}-err` : undefined}
+                        />
                       );
                     })}
                     <td className="py-2">
@@ -313,9 +286,9 @@ export default function Hours({ loaderData, actionData }: Route.ComponentProps) 
           <Button type="submit" className="mt-4" pending={navigation.state === "submitting"}>
             Save working hours
           </Button>
-        </Card>
+        </SettingsSection>
       </Form>
-    </>
+    </SettingsPage>
   );
 }
 

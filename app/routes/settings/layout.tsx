@@ -14,6 +14,7 @@ const tabs = [
   { to: "/settings/users", label: "Team and accounts", end: false },
   { to: "/settings/appointment-types", label: "Appointment types", end: false },
   { to: "/settings/sites", label: "Sites and rooms", end: false },
+  { to: "/settings/closures", label: "Opening and closures", end: false },
   { to: "/settings/hours", label: "Working hours", end: false },
   { to: "/settings/fees", label: "Fee schedule", end: false },
   { to: "/settings/recipients", label: "Referral recipients", end: false },

@@ -5,10 +5,8 @@ import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/practice";
 import { Field, SelectField } from "~/components/forms";
-import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
-import { Notice } from "~/components/ui/notice";
+import { SettingsPage, SettingsSection } from "~/components/settings-page";
 import { practiceSettings } from "~/db/schema";
 import { ACUITY_NOTATION_LABEL, ACUITY_NOTATIONS } from "~/lib/optics/acuity";
 import { JURISDICTIONS } from "~/lib/optics/jurisdiction";
@@ -98,6 +96,57 @@ export async function action({ request }: Route.ActionArgs) {
   return redirectWithToast("/settings", { kind: "success", title: "Practice details saved" });
 }
 
+type FieldName = keyof z.infer<typeof practiceSchema>;
+
+/** The letterhead's text fields, in the order they are shown. */
+const LETTERHEAD: { name: FieldName; label: string; type: "text" | "tel" | "email" }[] = [
+  { name: "name", label: "Practice name", type: "text" },
+  { name: "phone", label: "Phone", type: "tel" },
+  { name: "addressLine1", label: "Address", type: "text" },
+  { name: "addressLine2", label: "Address (second line)", type: "text" },
+  { name: "city", label: "Town or city", type: "text" },
+  { name: "postcode", label: "Postcode", type: "text" },
+  { name: "email", label: "Practice e-mail", type: "email" },
+];
+
+const LOCAL_LAW = "Local law and licensed practice govern this period.";
+
+/** The policies given as whole numbers: one labelled number field each. */
+const NUMBER_POLICIES: { name: FieldName; label: string; hint: string }[] = [
+  { name: "spectacleRxValidityMonths", label: "Spectacle prescription valid for (months)", hint: LOCAL_LAW },
+  { name: "contactLensRxValidityMonths", label: "Contact-lens prescription valid for (months)", hint: LOCAL_LAW },
+  {
+    name: "portalCancelCutoffHours",
+    label: "Patients may cancel online until (hours before the visit)",
+    hint: "After this, the patient portal asks them to phone.",
+  },
+  {
+    name: "portalBookingDays",
+    label: "Patients may book online up to (days ahead)",
+    hint: "From 1 to 365 days. The portal offers times within this many days.",
+  },
+  {
+    name: "staffBookingDays",
+    label: "The practice team may book up to (days ahead)",
+    hint: "From 1 to 3660 days; two years covers the longest usual recall.",
+  },
+];
+
+/** One of the form's fields: its label, hint and errors wired to the conform field of that name. */
+function PracticeField({
+  meta,
+  label,
+  hint,
+  type,
+}: {
+  meta: Parameters<typeof getInputProps>[0];
+  label: string;
+  hint?: string;
+  type: "text" | "tel" | "email" | "number";
+}) {
+  return <Field label={label} hint={hint} errors={meta.errors} inputProps={getInputProps(meta, { type })} />;
+}
+
 export default function PracticeSettings({ loaderData, actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
   const [form, fields] = useForm({
@@ -108,67 +157,23 @@ export default function PracticeSettings({ loaderData, actionData }: Route.Compo
     shouldValidate: "onBlur",
   });
   return (
-    <>
-      <PageHeader title="Practice details" description="Shown on prescriptions, letters and invoices." />
+    <SettingsPage
+      title="Practice details"
+      description="Shown on prescriptions, letters and invoices."
+      notice={form.errors?.length ? { tone: "error", title: "Not saved", body: form.errors.join(" ") } : null}
+    >
       <Form method="post" {...getFormProps(form)} className="space-y-6">
-        {form.errors?.length ? (
-          <Notice tone="error" title="Not saved">
-            {form.errors.join(" ")}
-          </Notice>
-        ) : null}
-        <Card title="Letterhead">
+        <SettingsSection title="Letterhead">
           <div className="grid gap-4 sm:grid-cols-2">
-            <Field
-              label="Practice name"
-              errors={fields.name.errors}
-              inputProps={getInputProps(fields.name, { type: "text" })}
-            />
-            <Field
-              label="Phone"
-              errors={fields.phone.errors}
-              inputProps={getInputProps(fields.phone, { type: "tel" })}
-            />
-            <Field
-              label="Address"
-              errors={fields.addressLine1.errors}
-              inputProps={getInputProps(fields.addressLine1, { type: "text" })}
-            />
-            <Field
-              label="Address (second line)"
-              errors={fields.addressLine2.errors}
-              inputProps={getInputProps(fields.addressLine2, { type: "text" })}
-            />
-            <Field
-              label="Town or city"
-              errors={fields.city.errors}
-              inputProps={getInputProps(fields.city, { type: "text" })}
-            />
-            <Field
-              label="Postcode"
-              errors={fields.postcode.errors}
-              inputProps={getInputProps(fields.postcode, { type: "text" })}
-            />
-            <Field
-              label="Practice e-mail"
-              errors={fields.email.errors}
-              inputProps={getInputProps(fields.email, { type: "email" })}
-            />
+            {LETTERHEAD.map((f) => (
+              <PracticeField key={f.name} meta={fields[f.name]} label={f.label} type={f.type} />
+            ))}
           </div>
-        </Card>
-        <Card title="Policies">
+        </SettingsSection>
+        <SettingsSection title="Policies">
           <div className="grid gap-4 sm:grid-cols-2">
-            <Field
-              label="Time zone"
-              hint="IANA name, e.g. Europe/London."
-              errors={fields.timeZone.errors}
-              inputProps={getInputProps(fields.timeZone, { type: "text" })}
-            />
-            <Field
-              label="Currency"
-              hint="ISO 4217 code."
-              errors={fields.currency.errors}
-              inputProps={getInputProps(fields.currency, { type: "text" })}
-            />
+            <PracticeField meta={fields.timeZone} label="Time zone" hint="IANA name, e.g. Europe/London." type="text" />
+            <PracticeField meta={fields.currency} label="Currency" hint="ISO 4217 code." type="text" />
             <div>
               <SelectField
                 label="Jurisdiction"
@@ -207,43 +212,16 @@ export default function PracticeSettings({ loaderData, actionData }: Route.Compo
                 saving.
               </p>
             </div>
-            <Field
-              label="Spectacle prescription valid for (months)"
-              hint="Local law and licensed practice govern this period."
-              errors={fields.spectacleRxValidityMonths.errors}
-              inputProps={getInputProps(fields.spectacleRxValidityMonths, { type: "number" })}
-            />
-            <Field
-              label="Contact-lens prescription valid for (months)"
-              hint="Local law and licensed practice govern this period."
-              errors={fields.contactLensRxValidityMonths.errors}
-              inputProps={getInputProps(fields.contactLensRxValidityMonths, { type: "number" })}
-            />
-            <Field
-              label="Patients may cancel online until (hours before the visit)"
-              hint="After this, the patient portal asks them to phone."
-              errors={fields.portalCancelCutoffHours.errors}
-              inputProps={getInputProps(fields.portalCancelCutoffHours, { type: "number" })}
-            />
-            <Field
-              label="Patients may book online up to (days ahead)"
-              hint="From 1 to 365 days. The portal offers times within this many days."
-              errors={fields.portalBookingDays.errors}
-              inputProps={getInputProps(fields.portalBookingDays, { type: "number" })}
-            />
-            <Field
-              label="The practice team may book up to (days ahead)"
-              hint="From 1 to 3660 days; two years covers the longest usual recall."
-              errors={fields.staffBookingDays.errors}
-              inputProps={getInputProps(fields.staffBookingDays, { type: "number" })}
-            />
+            {NUMBER_POLICIES.map((f) => (
+              <PracticeField key={f.name} meta={fields[f.name]} label={f.label} hint={f.hint} type="number" />
+            ))}
           </div>
-        </Card>
+        </SettingsSection>
         <Button type="submit" pending={navigation.state === "submitting"}>
           Save practice details
         </Button>
       </Form>
-    </>
+    </SettingsPage>
   );
 }
 

@@ -3,18 +3,17 @@ import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/sites";
 import { ErrorList, Field } from "~/components/forms";
-import { PageHeader } from "~/components/page-header";
+import { refusalNotice, SettingsPage, SettingsSection, TimeCell } from "~/components/settings-page";
 import { Button, buttonClass } from "~/components/ui/button";
-import { Card } from "~/components/ui/card";
 import { Input } from "~/components/ui/input";
-import { Notice, StatusBadge } from "~/components/ui/notice";
-import { rooms, siteOpeningHours, sites, users, workingHours } from "~/db/schema";
+import { StatusBadge } from "~/components/ui/notice";
+import { rooms, siteOpeningHours, sites } from "~/db/schema";
 import { WEEKDAY_NAMES } from "~/lib/scheduling/hours";
 import { hhmmToMinutes, minutesToHhmm } from "~/lib/scheduling/time";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
-import { siteAddress } from "~/models/schedule/sites.server";
+import { siteAddress, siteChangeConflicts } from "~/models/schedule/sites.server";
 import { redirectWithToast } from "~/utils/toast.server";
 
 type Errors = Record<string, string[]>;
@@ -132,27 +131,17 @@ export async function action({ request }: Route.ActionArgs) {
   if (new Set(names).size !== names.length) errors.newRoom = ["Two rooms of one site cannot share a name."];
 
   if (before) {
-    // Providers' working days point at the site and its rooms: closing them first would strand those days.
-    const working = await db
-      .select({ name: users.name, weekday: workingHours.weekday, roomId: workingHours.roomId })
-      .from(workingHours)
-      .innerJoin(users, eq(users.id, workingHours.providerId))
-      .where(eq(workingHours.siteId, before.id));
-    if (!active && working.length)
-      errors.active = [
-        `${working[0]!.name} works here on ${WEEKDAY_NAMES[working[0]!.weekday - 1]}s; move their working hours to another site first (Settings → Working hours).`,
-      ];
+    // Providers' working days point at the site and its rooms: changing them first would strand those days.
+    Object.assign(
+      errors,
+      await siteChangeConflicts(before.id, {
+        active,
+        hours,
+        closingRoomIds: roomChanges.filter((r) => !r.active).map((r) => r.id),
+      }),
+    );
     if (before.isDefault && !isDefault)
       errors.isDefault = ["Make another site the default instead; the practice always has one."];
-    for (const w of working) {
-      const day = hours.find((h) => h.weekday === w.weekday);
-      if (hours.length && !day)
-        errors[`hours-${w.weekday}`] = [
-          `${w.name} works here on ${WEEKDAY_NAMES[w.weekday - 1]}s; change their working hours before closing that day.`,
-        ];
-      const closing = roomChanges.find((r) => r.id === w.roomId && !r.active);
-      if (closing) errors[`room-${closing.id}`] = [`${w.name} uses this room on ${WEEKDAY_NAMES[w.weekday - 1]}s.`];
-    }
   }
   if (get("name")) {
     const [clash] = await db
@@ -218,46 +207,43 @@ export default function Sites({ loaderData, actionData }: Route.ComponentProps) 
     defaultValue: String(v[name] ?? ""),
   });
   return (
-    <>
-      <PageHeader
-        title="Sites"
-        description="Where the practice sees patients: each site's address, opening hours and rooms. Bookings, working hours and invoices belong to a site; the default site takes anything not given one."
-        actions={
-          <Link to="?site=new" className={buttonClass("secondary")}>
-            Add a site
-          </Link>
-        }
-      />
-      <ul className="mb-6 grid gap-3 sm:grid-cols-2" aria-label="The practice's sites">
-        {list.map((s) => (
-          <li
-            key={s.id}
-            className={`rounded-lg border bg-white p-4 shadow-sm ${current?.id === s.id ? "border-accent-700" : "border-line"}`}
-          >
-            <Link
-              to={`?site=${s.id}`}
-              className="font-semibold text-accent-700 underline underline-offset-4"
-              aria-current={current?.id === s.id ? "page" : undefined}
-            >
-              {s.name}
-            </Link>{" "}
-            {s.isDefault ? <StatusBadge tone="info">Default</StatusBadge> : null}{" "}
-            {!s.active ? <StatusBadge tone="warning">Closed</StatusBadge> : null}
-            <p className="text-sm text-muted">{s.address || "No address yet"}</p>
-          </li>
-        ))}
-      </ul>
-      {errors[""]?.length ? (
-        <Notice tone="error" title="Not saved">
-          {errors[""].join(" ")}
-        </Notice>
-      ) : null}
-      {Object.keys(errors).length && !errors[""] ? (
-        <Notice tone="error" title="Not saved: check the fields marked below." />
-      ) : null}
+    <SettingsPage
+      title="Sites"
+      description="Where the practice sees patients: each site's address, opening hours and rooms. Bookings, working hours and invoices belong to a site; the default site takes anything not given one."
+      actions={
+        <Link to="?site=new" className={buttonClass("secondary")}>
+          Add a site
+        </Link>
+      }
+      notice={refusalNotice(errors)}
+      list={{
+        title: "The practice's sites",
+        content: (
+          <ul className="grid gap-3 sm:grid-cols-2" aria-label="The practice's sites">
+            {list.map((s) => (
+              <li
+                key={s.id}
+                className={`rounded-lg border p-4 ${current?.id === s.id ? "border-accent-700" : "border-line"}`}
+              >
+                <Link
+                  to={`?site=${s.id}`}
+                  className="font-semibold text-accent-700 underline underline-offset-4"
+                  aria-current={current?.id === s.id ? "page" : undefined}
+                >
+                  {s.name}
+                </Link>{" "}
+                {s.isDefault ? <StatusBadge tone="info">Default</StatusBadge> : null}{" "}
+                {!s.active ? <StatusBadge tone="warning">Closed</StatusBadge> : null}
+                <p className="text-sm text-muted">{s.address || "No address yet"}</p>
+              </li>
+            ))}
+          </ul>
+        ),
+      }}
+    >
       <Form method="post" key={current?.id ?? "new"} className="space-y-6">
         <input type="hidden" name="siteId" value={current?.id ?? ""} />
-        <Card title={current ? `Site: ${current.name}` : "New site"}>
+        <SettingsSection title={current ? `Site: ${current.name}` : "New site"}>
           <div className="grid gap-4 sm:grid-cols-2">
             <Field label="Name" errors={errors.name} inputProps={input("name")} />
             <Field label="Phone" errors={errors.phone} inputProps={input("phone", "tel")} />
@@ -273,31 +259,29 @@ export default function Sites({ loaderData, actionData }: Route.ComponentProps) 
             />
           </div>
           <div className="mt-4 space-y-2">
-            <label className="flex items-center gap-2">
-              <input
-                type="checkbox"
-                name="isDefault"
-                defaultChecked={v.isDefault}
-                className="size-4 accent-accent-700"
-                aria-describedby={errors.isDefault ? "site-isDefault-error" : undefined}
-              />
-              Default site (bookings, hours and invoices without a site go here)
-            </label>
-            <ErrorList id="site-isDefault-error" errors={errors.isDefault} />
-            <label className="flex items-center gap-2">
-              <input
-                type="checkbox"
-                name="active"
-                defaultChecked={v.active}
-                className="size-4 accent-accent-700"
-                aria-describedby={errors.active ? "site-active-error" : undefined}
-              />
-              Open (can be booked)
-            </label>
-            <ErrorList id="site-active-error" errors={errors.active} />
+            {(
+              [
+                ["isDefault", "Default site (bookings, hours and invoices without a site go here)"],
+                ["active", "Open (can be booked)"],
+              ] as const
+            ).map(([name, label]) => (
+              <div key={name}>
+                <label className="flex items-center gap-2">
+                  <input
+                    type="checkbox"
+                    name={name}
+                    defaultChecked={v[name]}
+                    className="size-4 accent-accent-700"
+                    aria-describedby={errors[name] ? `site-${name}-error` : undefined}
+                  />
+                  {label}
+                </label>
+                <ErrorList id={`site-${name}-error`} errors={errors[name]} />
+              </div>
+            ))}
           </div>
-        </Card>
-        <Card title="Opening hours">
+        </SettingsSection>
+        <SettingsSection title="Opening hours">
           <p className="mb-3 text-sm text-muted">
             Leave a day empty when the site is closed. Providers&apos; working hours at this site must fit inside.
           </p>
@@ -319,29 +303,21 @@ export default function Sites({ loaderData, actionData }: Route.ComponentProps) 
                       <ErrorList id={`hours-${d.weekday}-err`} errors={errors[`hours-${d.weekday}`]} />
                     </th>
                     {(["open", "close"] as const).map((k) => (
-                      <td key={k} className="py-2 pr-4">
-                        <label className="sr-only" htmlFor={`${k}-${d.weekday}`}>
-                          {d.name} {k === "open" ? "opens" : "closes"}
-                        </label>
-                        <Input
-                          id={`${k}-${d.weekday}`}
-                          name={`${k}-${d.weekday}`}
-                          type="time"
-                          step={300}
-                          defaultValue={d[k]}
-                          className="w-32"
-                          aria-invalid={bad || undefined}
-                          aria-describedby={bad ? `hours-${d.weekday}-err` : undefined}
-                        />
-                      </td>
+                      <TimeCell
+                        key={k}
+                        name={`${k}-${d.weekday}`}
+                        label={`${d.name} ${k === "open" ? "opens" : "closes"}`}
+                        defaultValue={d[k]}
+                        errorId={bad ? `hours-${d.weekday}-err` : undefined}
+                      />
                     ))}
                   </tr>
                 );
               })}
             </tbody>
           </table>
-        </Card>
-        <Card title="Rooms">
+        </SettingsSection>
+        <SettingsSection title="Rooms">
           {siteRooms.length ? (
             <ul className="mb-4 space-y-3">
               {siteRooms.map((r) => (
@@ -383,12 +359,12 @@ export default function Sites({ loaderData, actionData }: Route.ComponentProps) 
             errors={errors.newRoom}
             inputProps={{ id: "site-newRoom", name: "newRoom", type: "text" }}
           />
-        </Card>
+        </SettingsSection>
         <Button type="submit" pending={navigation.state === "submitting"}>
           {current ? "Save site" : "Add site"}
         </Button>
       </Form>
-    </>
+    </SettingsPage>
   );
 }
 
