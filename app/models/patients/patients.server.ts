@@ -1,7 +1,8 @@
 import { and, asc, count, desc, eq, isNull, lt, ne, sql, type SQL } from "drizzle-orm";
 import { patients } from "~/db/schema";
 import { db } from "~/utils/db.server";
-import type { ListQuery } from "./patient-schema";
+import { notFound } from "~/utils/failure.server";
+import { isUuid, type ListQuery } from "./patient-schema";
 
 /** Months without an exam after which a patient counts as due (common practice: a two-yearly routine exam for adults). */
 export const DEFAULT_RECALL_MONTHS = 24;
@@ -229,4 +230,12 @@ export async function findDuplicates(
       ),
     )
     .limit(5);
+}
+
+/** The whole patient row for an id from the URL; a malformed or unknown id is 404. */
+export async function patientOr404(id: string | undefined) {
+  if (!isUuid(id)) notFound();
+  const [p] = await db.select().from(patients).where(eq(patients.id, id!)).limit(1);
+  if (!p) notFound();
+  return p;
 }

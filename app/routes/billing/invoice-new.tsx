@@ -87,10 +87,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   let preselected: PatientSearchHit | null = null;
   let preselectedId = url.searchParams.get("patient") ?? "";
   if (!exam && appointmentId) {
-    if (!z.uuid().safeParse(appointmentId).success)
-      throw data({ error: "There is no such appointment." }, { status: 404 });
+    if (!z.uuid().safeParse(appointmentId).success) notFound("There is no such appointment.");
     const appt = await appointmentForInvoice(appointmentId);
-    if (!appt) throw data({ error: "There is no such appointment." }, { status: 404 });
+    if (!appt) notFound("There is no such appointment.");
     if (appt.examId) throw redirect(`/billing/invoices/new?exam=${appt.examId}`);
     appointment = { id: appt.id, typeName: appt.typeName, startsAt: appt.startsAt.toISOString() };
     suggestedFeeItemId = appt.feeItemId;
