@@ -55,6 +55,16 @@ export type PatientHit = {
   email: string | null;
 };
 
+/** The columns a patient is shown by in searches, pickers and lists (a `PatientHit`). */
+export const patientHitColumns = {
+  id: patients.id,
+  firstName: patients.firstName,
+  lastName: patients.lastName,
+  dateOfBirth: patients.dateOfBirth,
+  phone: patients.phone,
+  email: patients.email,
+};
+
 /** The typed words of a name search (not a date, not a phone number), lower-cased. */
 function nameWords(q: string) {
   if (parseDobQuery(q.trim())) return [];
@@ -90,14 +100,7 @@ export async function searchPatientsPage(
     : null;
   const [results, [counted]] = await Promise.all([
     db
-      .select({
-        id: patients.id,
-        firstName: patients.firstName,
-        lastName: patients.lastName,
-        dateOfBirth: patients.dateOfBirth,
-        phone: patients.phone,
-        email: patients.email,
-      })
+      .select(patientHitColumns)
       .from(patients)
       .where(where)
       // Ordered by expressions no index provides: otherwise the planner may walk the whole name
@@ -161,15 +164,7 @@ export async function listPatients(query: ListQuery) {
   const cap = (query.page + 10) * query.size + 1;
   const [rows, [total]] = await Promise.all([
     db
-      .select({
-        id: patients.id,
-        firstName: patients.firstName,
-        lastName: patients.lastName,
-        dateOfBirth: patients.dateOfBirth,
-        phone: patients.phone,
-        email: patients.email,
-        lastExamAt: patients.lastExamAt,
-      })
+      .select({ ...patientHitColumns, lastExamAt: patients.lastExamAt })
       .from(patients)
       .where(where)
       .orderBy(...order)
@@ -212,14 +207,7 @@ export async function findDuplicates(
   excludeId?: string,
 ) {
   return db
-    .select({
-      id: patients.id,
-      firstName: patients.firstName,
-      lastName: patients.lastName,
-      dateOfBirth: patients.dateOfBirth,
-      phone: patients.phone,
-      email: patients.email,
-    })
+    .select(patientHitColumns)
     .from(patients)
     .where(
       and(
