@@ -6,14 +6,7 @@
  * order is said in words (the arrows are decoration). A column marked `rowHeader` names its row
  * (`<th scope="row">`); columns with a `footer` add a totals row in `<tfoot>`.
  */
-import {
-  flexRender,
-  getCoreRowModel,
-  useReactTable,
-  type ColumnDef,
-  type RowData,
-  type SortingState,
-} from "@tanstack/react-table";
+import { getCoreRowModel, useReactTable, type ColumnDef, type RowData, type SortingState } from "@tanstack/react-table";
 import type { ReactNode } from "react";
 import { Link, useSearchParams } from "react-router";
 import { buttonClass } from "~/components/ui/button";
@@ -67,6 +60,15 @@ export type DataTableProps<T> = {
   /** For browser tests: the table element's `data-testid`. */
   testId?: string;
 };
+
+/**
+ * A header, cell or footer of a column: a function is called, not mounted as a component, so
+ * columns built during render (closing over the page's state) keep their inputs' typed values
+ * and focus from one render to the next. A cell that needs hooks returns a component's element.
+ */
+function renderPart<P extends object>(part: ReactNode | ((props: P) => ReactNode) | undefined, props: P): ReactNode {
+  return typeof part === "function" ? part(props) : part;
+}
 
 const words = (dir: SortDirection) => (dir === "asc" ? "ascending" : "descending");
 
@@ -127,7 +129,7 @@ export function DataTable<T>({
                   const meta = h.column.columnDef.meta;
                   const current = sort?.sort === h.column.id;
                   const nextDir: SortDirection = current && sort?.dir === "asc" ? "desc" : "asc";
-                  const label = flexRender(h.column.columnDef.header, h.getContext());
+                  const label = renderPart(h.column.columnDef.header, h.getContext());
                   return (
                     <th
                       key={h.id}
@@ -167,7 +169,7 @@ export function DataTable<T>({
                       scope={meta?.rowHeader ? "row" : undefined}
                       className={`py-3 pr-4 ${meta?.rowHeader ? "font-semibold" : ""} ${meta?.align === "right" ? "text-right tabular-nums" : ""} ${meta?.className ?? ""}`}
                     >
-                      {flexRender(cell.column.columnDef.cell, cell.getContext())}
+                      {renderPart(cell.column.columnDef.cell, cell.getContext())}
                     </Cell>
                   );
                 })}
@@ -195,7 +197,7 @@ export function DataTable<T>({
                         scope={meta?.rowHeader ? "row" : undefined}
                         className={`py-3 pr-4 ${meta?.align === "right" ? "text-right tabular-nums" : ""}`}
                       >
-                        {h.isPlaceholder ? null : flexRender(h.column.columnDef.footer, h.getContext())}
+                        {h.isPlaceholder ? null : renderPart(h.column.columnDef.footer, h.getContext())}
                       </Cell>
                     );
                   })}
