@@ -11,6 +11,7 @@ import * as schema from "../app/db/schema";
 import { roundRx, vertexConvert, type SphCyl } from "../app/lib/optics";
 import { DIAGNOSES } from "../app/lib/exam/sections";
 import { DEMO_PATIENT } from "./demo-practice";
+import { FIRST_NAMES } from "./names";
 import { DEMO_GPS, TRIAGE_CASES, VA_TEXT, type TriageFindings } from "./triage-cases";
 
 type Tx = Parameters<Parameters<NodePgDatabase<typeof schema>["transaction"]>[0]>[0];
@@ -49,48 +50,7 @@ export function prng(seed: number) {
   };
 }
 
-const FIRST = [
-  "Ada",
-  "Bram",
-  "Celestine",
-  "Dorian",
-  "Edda",
-  "Fenwick",
-  "Greer",
-  "Hollis",
-  "Ilse",
-  "Jory",
-  "Kestrel",
-  "Linnea",
-  "Marek",
-  "Nell",
-  "Oswin",
-  "Petra",
-  "Quill",
-  "Rowena",
-  "Sander",
-  "Tova",
-  "Ulric",
-  "Vesna",
-  "Wynn",
-  "Xanthe",
-  "Yorick",
-  "Zelda",
-  "Anouk",
-  "Bastian",
-  "Coralie",
-  "Dashiell",
-  "Elowen",
-  "Florian",
-  "Gisela",
-  "Horatio",
-  "Imke",
-  "Jasper",
-  "Katya",
-  "Leopold",
-  "Mireille",
-  "Niamh",
-];
+const FIRST = FIRST_NAMES;
 const LAST = [
   "Abernethy",
   "Blackthorn",

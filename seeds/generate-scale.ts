@@ -13,6 +13,7 @@
 import pg from "pg";
 import { runMigrations } from "../app/ops/migrate";
 import { databaseUrl } from "../app/utils/db-url";
+import { FIRST_NAMES } from "./names";
 import { seed } from "./seed";
 
 const DB = process.env.SCALE_DB ?? "dioptra_bench_chart";
@@ -44,48 +45,7 @@ async function main() {
     const r = await c.query(sql, params);
     console.log(`[scale] ${label}: ${r.rowCount ?? ""} rows in ${((Date.now() - t) / 1000).toFixed(1)} s`);
   };
-  const firsts = [
-    "Ada",
-    "Bram",
-    "Celestine",
-    "Dorian",
-    "Edda",
-    "Fenwick",
-    "Greer",
-    "Hollis",
-    "Ilse",
-    "Jory",
-    "Kestrel",
-    "Linnea",
-    "Marek",
-    "Nell",
-    "Oswin",
-    "Petra",
-    "Quill",
-    "Rowena",
-    "Sander",
-    "Tova",
-    "Ulric",
-    "Vesna",
-    "Wynn",
-    "Xanthe",
-    "Yorick",
-    "Zelda",
-    "Anouk",
-    "Bastian",
-    "Coralie",
-    "Dashiell",
-    "Elowen",
-    "Florian",
-    "Gisela",
-    "Horatio",
-    "Imke",
-    "Jasper",
-    "Katya",
-    "Leopold",
-    "Mireille",
-    "Niamh",
-  ];
+  const firsts = FIRST_NAMES;
   const lastStems = [
     "Aber",
     "Black",

@@ -3,16 +3,10 @@
  * the table only reads the current page and order from the loader and links to the next ones
  * through the URL's search parameters, so every state can be bookmarked and works without script.
  * Headers are `<th scope="col">`; a sortable header is a link and carries `aria-sort`, and the
- * order is said in words (the arrows are decoration).
+ * order is said in words (the arrows are decoration). A column marked `rowHeader` names its row
+ * (`<th scope="row">`); columns with a `footer` add a totals row in `<tfoot>`.
  */
-import {
-  flexRender,
-  getCoreRowModel,
-  useReactTable,
-  type ColumnDef,
-  type RowData,
-  type SortingState,
-} from "@tanstack/react-table";
+import { getCoreRowModel, useReactTable, type ColumnDef, type RowData, type SortingState } from "@tanstack/react-table";
 import type { ReactNode } from "react";
 import { Link, useSearchParams } from "react-router";
 import { buttonClass } from "~/components/ui/button";
@@ -25,13 +19,15 @@ declare module "@tanstack/react-table" {
     align?: "right";
     /** Extra classes for the column's cells. */
     className?: string;
+    /** The column names its row: its cells are `<th scope="row">`. */
+    rowHeader?: boolean;
   }
 }
 
 export type SortDirection = "asc" | "desc";
 
-/** The server's current order, as read from `?sort=…&dir=…`. */
-export type TableSort = { sort: string; dir: SortDirection };
+/** The server's current order, as read from `?sort=…&dir=…`; `sort: null` is the list's own order (still sortable). */
+export type TableSort = { sort: string | null; dir: SortDirection };
 
 /** The server's current page, as read from `?page=…`; `page` counts from 1. */
 export type TablePaging = {
@@ -61,7 +57,18 @@ export type DataTableProps<T> = {
   /** Extra classes for a row (e.g. to dim withdrawn items; never the only signal). */
   rowClassName?: (row: T) => string | undefined;
   className?: string;
+  /** For browser tests: the table element's `data-testid`. */
+  testId?: string;
 };
+
+/**
+ * A header, cell or footer of a column: a function is called, not mounted as a component, so
+ * columns built during render (closing over the page's state) keep their inputs' typed values
+ * and focus from one render to the next. A cell that needs hooks returns a component's element.
+ */
+function renderPart<P extends object>(part: ReactNode | ((props: P) => ReactNode) | undefined, props: P): ReactNode {
+  return typeof part === "function" ? part(props) : part;
+}
 
 const words = (dir: SortDirection) => (dir === "asc" ? "ascending" : "descending");
 
@@ -83,12 +90,13 @@ export function DataTable<T>({
   params: names = {},
   rowClassName,
   className = "",
+  testId,
 }: DataTableProps<T>) {
   const [params] = useSearchParams();
   const pageParam = names.page ?? "page";
   const sortParam = names.sort ?? "sort";
   const dirParam = names.dir ?? "dir";
-  const sorting: SortingState = sort ? [{ id: sort.sort, desc: sort.dir === "desc" }] : [];
+  const sorting: SortingState = sort?.sort ? [{ id: sort.sort, desc: sort.dir === "desc" }] : [];
   const table = useReactTable({
     data,
     columns,
@@ -105,12 +113,12 @@ export function DataTable<T>({
   });
 
   const captionText =
-    caption && sort ? `${caption}, sorted by ${headerText(columns, sort.sort)} ${words(sort.dir)}` : caption;
+    caption && sort?.sort ? `${caption}, sorted by ${headerText(columns, sort.sort)} ${words(sort.dir)}` : caption;
 
   return (
     <div className={className}>
       <div className="overflow-x-auto">
-        <table className="w-full text-left text-sm">
+        <table className="w-full text-left text-sm" data-testid={testId}>
           {captionText ? (
             <caption className={captionVisible ? "mb-2 text-left font-semibold" : "sr-only"}>{captionText}</caption>
           ) : null}
@@ -121,7 +129,7 @@ export function DataTable<T>({
                   const meta = h.column.columnDef.meta;
                   const current = sort?.sort === h.column.id;
                   const nextDir: SortDirection = current && sort?.dir === "asc" ? "desc" : "asc";
-                  const label = flexRender(h.column.columnDef.header, h.getContext());
+                  const label = renderPart(h.column.columnDef.header, h.getContext());
                   return (
                     <th
                       key={h.id}
@@ -154,13 +162,15 @@ export function DataTable<T>({
               <tr key={row.id} className={`align-top ${rowClassName?.(row.original) ?? ""}`}>
                 {row.getVisibleCells().map((cell) => {
                   const meta = cell.column.columnDef.meta;
+                  const Cell = meta?.rowHeader ? "th" : "td";
                   return (
-                    <td
+                    <Cell
                       key={cell.id}
-                      className={`py-3 pr-4 ${meta?.align === "right" ? "text-right tabular-nums" : ""} ${meta?.className ?? ""}`}
+                      scope={meta?.rowHeader ? "row" : undefined}
+                      className={`py-3 pr-4 ${meta?.rowHeader ? "font-semibold" : ""} ${meta?.align === "right" ? "text-right tabular-nums" : ""} ${meta?.className ?? ""}`}
                     >
-                      {flexRender(cell.column.columnDef.cell, cell.getContext())}
-                    </td>
+                      {renderPart(cell.column.columnDef.cell, cell.getContext())}
+                    </Cell>
                   );
                 })}
               </tr>
@@ -174,6 +184,27 @@ export function DataTable<T>({
               </tr>
             ) : null}
           </tbody>
+          {data.length && columns.some((c) => c.footer !== undefined) ? (
+            <tfoot className="border-t border-line font-semibold">
+              {table.getFooterGroups().map((fg) => (
+                <tr key={fg.id}>
+                  {fg.headers.map((h) => {
+                    const meta = h.column.columnDef.meta;
+                    const Cell = meta?.rowHeader ? "th" : "td";
+                    return (
+                      <Cell
+                        key={h.id}
+                        scope={meta?.rowHeader ? "row" : undefined}
+                        className={`py-3 pr-4 ${meta?.align === "right" ? "text-right tabular-nums" : ""}`}
+                      >
+                        {h.isPlaceholder ? null : renderPart(h.column.columnDef.footer, h.getContext())}
+                      </Cell>
+                    );
+                  })}
+                </tr>
+              ))}
+            </tfoot>
+          ) : null}
         </table>
       </div>
       {paging ? <Pager paging={paging} params={params} pageParam={pageParam} /> : null}

@@ -1,3 +1,4 @@
+import { getInputProps, getSelectProps, type FieldMetadata } from "@conform-to/react";
 import { useEffect, useRef, type InputHTMLAttributes, type ReactNode, type SelectHTMLAttributes } from "react";
 import { useActionData, useNavigation } from "react-router";
 import { Input, Select } from "./ui/input";
@@ -74,6 +75,44 @@ export function SelectField({
       </Select>
       <ErrorList id={errorId} errors={errors} />
     </div>
+  );
+}
+
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- any field of any conform form
+type AnyField = FieldMetadata<any, any, string[]>;
+
+/** A `Field` for a conform field: its input props and errors in one, for the common text-like inputs. */
+export function FormField({
+  field,
+  label,
+  hint,
+  type = "text",
+  inputMode,
+  autoComplete,
+}: {
+  field: AnyField;
+  label: ReactNode;
+  hint?: ReactNode;
+  type?: "text" | "email" | "tel" | "date" | "number" | "url" | "time";
+  inputMode?: InputHTMLAttributes<HTMLInputElement>["inputMode"];
+  autoComplete?: string;
+}) {
+  return (
+    <Field
+      label={label}
+      hint={hint}
+      errors={field.errors}
+      inputProps={{ ...getInputProps(field, { type }), inputMode, autoComplete }}
+    />
+  );
+}
+
+/** A `SelectField` for a conform field. */
+export function FormSelect({ field, label, children }: { field: AnyField; label: ReactNode; children: ReactNode }) {
+  return (
+    <SelectField label={label} errors={field.errors} selectProps={getSelectProps(field)}>
+      {children}
+    </SelectField>
   );
 }
 

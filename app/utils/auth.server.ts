@@ -7,19 +7,20 @@ import { signInAttempts, users, type Role } from "~/db/schema";
 import { signInSchema } from "./auth-schemas";
 import { audit } from "./audit.server";
 import { db } from "./db.server";
+import { DomainError, notFound, type DomainErrorOptions } from "./failure.server";
 import { clientIp, clientKey } from "./request.server";
 import { clearAccountBudgets, refundAttempt, takeAttempt, waitText } from "./throttle.server";
 import { compareInPool, HashingBusyError, hashInPool } from "./password-hashing.server";
 import { getSessionUser, type SessionUser } from "./session.server";
 
 /** Raised for a sign-in that must be refused; the message is shown to the user as is. */
-export class SignInError extends Error {
-  constructor(
-    message: string,
-    readonly status: 400 | 401 | 429 | 503 = 401,
-    readonly retryAfterSeconds?: number,
-  ) {
-    super(message);
+export class SignInError extends DomainError {
+  /** Seconds until another attempt may succeed (the Retry-After header), for throttled or busy refusals. */
+  readonly retryAfterSeconds?: number;
+
+  constructor(message: string, options: DomainErrorOptions & { retryAfterSeconds?: number } = {}) {
+    super(message, { status: 401, ...options });
+    this.retryAfterSeconds = options.retryAfterSeconds;
   }
 }
 
@@ -45,7 +46,10 @@ const signInQueue: (() => void)[] = [];
 async function withSignInSlot<T>(work: () => Promise<T>): Promise<T> {
   if (signingIn >= MAX_SIGNING_IN) {
     if (signInQueue.length >= MAX_SIGN_IN_QUEUE)
-      throw new SignInError("The server is busy signing people in. Try again in a few seconds.", 503, 5);
+      throw new SignInError("The server is busy signing people in. Try again in a few seconds.", {
+        status: 503,
+        retryAfterSeconds: 5,
+      });
     await new Promise<void>((resolve) => signInQueue.push(resolve));
   } else {
     signingIn++;
@@ -100,15 +104,13 @@ async function checkSignIn(email: string, password: string, request: Request): P
     await audit({ action: "auth.sign_in_throttled", detail: { email, budget: "address" }, request });
     throw new SignInError(
       `Too many failed sign-in attempts from your connection. Try again in ${waitText(byAddress.retryAfterSeconds)}.`,
-      429,
-      byAddress.retryAfterSeconds,
+      { status: 429, retryAfterSeconds: byAddress.retryAfterSeconds },
     );
   }
   const accountRefusal = (retryAfterSeconds: number) =>
     new SignInError(
       `Too many failed sign-in attempts for this account. Try again in ${waitText(retryAfterSeconds)}, or reset your password.`,
-      429,
-      retryAfterSeconds,
+      { status: 429, retryAfterSeconds },
     );
   const byPair = await takeAttempt("signin-pair", { account: email, address });
   if (!byPair.granted) {
@@ -135,7 +137,10 @@ async function checkSignIn(email: string, password: string, request: Request): P
     // Not the user's fault: give the attempts back.
     await refundAttempt("signin-address", { address });
     await refundAttempt("signin-pair", { account: email, address });
-    throw new SignInError("The server is busy signing people in. Try again in a few seconds.", 503, 5);
+    throw new SignInError("The server is busy signing people in. Try again in a few seconds.", {
+      status: 503,
+      retryAfterSeconds: 5,
+    });
   }
   if (!user || !ok || !user.passwordHash || !user.active) {
     await db.insert(signInAttempts).values({ email, ip, succeeded: false });
@@ -158,7 +163,7 @@ export const authenticator = new Authenticator<AuthUser>();
 authenticator.use(
   new FormStrategy(async ({ form, request }) => {
     const parsed = signInSchema.safeParse(Object.fromEntries(form));
-    if (!parsed.success) throw new SignInError(parsed.error.issues[0]?.message ?? "Check the form.", 400);
+    if (!parsed.success) throw new SignInError(parsed.error.issues[0]?.message ?? "Check the form.", { status: 400 });
     return verifySignIn(parsed.data.email, parsed.data.password, request);
   }),
   "form",
@@ -206,8 +211,6 @@ export async function requireRole<R extends Role>(
  * so ids cannot be probed.
  */
 export function assertPatientAccess(user: SessionUser, patientId: string) {
-  if (user.role === "patient" && user.patientId !== patientId) {
-    throw data({ error: "Not found." }, { status: 404 });
-  }
+  if (user.role === "patient" && user.patientId !== patientId) notFound();
 }
 export { signInSchema };

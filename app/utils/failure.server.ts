@@ -7,16 +7,16 @@
  */
 import { data } from "react-router";
 
-export type FailureStatus = 400 | 403 | 404 | 409 | 413 | 415 | 422 | 429 | 502 | 503;
+export type FailureStatus = 400 | 401 | 403 | 404 | 409 | 413 | 415 | 422 | 429 | 502 | 503;
 export type FieldErrors = Record<string, string[]>;
-export type DomainErrorOptions = { status?: FailureStatus; field?: string; fieldErrors?: FieldErrors };
+export type DomainErrorOptions = { status?: FailureStatus; field?: string; fieldErrors?: FieldErrors; cause?: unknown };
 
 export class DomainError extends Error {
   readonly status: FailureStatus;
   readonly fieldErrors: FieldErrors;
 
   constructor(message: string, options: DomainErrorOptions = {}) {
-    super(message);
+    super(message, options.cause === undefined ? undefined : { cause: options.cause });
     this.name = new.target.name;
     this.status = options.status ?? 400;
     this.fieldErrors = options.fieldErrors ?? (options.field ? { [options.field]: [message] } : {});

@@ -7,8 +7,14 @@
 import { createRequire } from "node:module";
 import { availableParallelism } from "node:os";
 import { Worker } from "node:worker_threads";
+import { DomainError, type DomainErrorOptions } from "./failure.server";
 
-export class HashingBusyError extends Error {}
+/** Too many passwords waiting to be hashed; answered 503 (try again in a moment). */
+export class HashingBusyError extends DomainError {
+  constructor(message: string, options: DomainErrorOptions = {}) {
+    super(message, { status: 503, ...options });
+  }
+}
 
 /** Threads in the pool: one per spare core, at least one, at most two (the server needs a core too). */
 const THREADS = Math.max(1, Math.min(2, availableParallelism() - 1));

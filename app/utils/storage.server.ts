@@ -9,6 +9,7 @@ import {
   S3ServiceException,
 } from "@aws-sdk/client-s3";
 import { env } from "./env.server";
+import { DomainError, type DomainErrorOptions } from "./failure.server";
 
 /**
  * Where kept files live (uploaded documents, their thumbnails, consult letters): an S3-compatible
@@ -29,19 +30,17 @@ export interface FileStorage {
   delete(key: string): Promise<void>;
 }
 
-/** The key is malformed or belongs to another practice. */
-export class StorageKeyError extends Error {
-  constructor(message: string) {
-    super(message);
-    this.name = "StorageKeyError";
+/** The key is malformed or belongs to another practice; answered 403. */
+export class StorageKeyError extends DomainError {
+  constructor(message: string, options: DomainErrorOptions = {}) {
+    super(message, { status: 403, ...options });
   }
 }
 
-/** The object store could not be reached or refused the request; nothing was stored. */
-export class StorageUnavailableError extends Error {
-  constructor(cause: unknown) {
-    super("File storage is not reachable at the moment.", { cause });
-    this.name = "StorageUnavailableError";
+/** The object store could not be reached or refused the request; nothing was stored. Answered 503. */
+export class StorageUnavailableError extends DomainError {
+  constructor(message = "File storage is not reachable at the moment.", options: DomainErrorOptions = {}) {
+    super(message, { status: 503, ...options });
   }
 }
 
@@ -106,7 +105,7 @@ export class S3Storage implements FileStorage {
         }),
       );
     } catch (e) {
-      throw new StorageUnavailableError(e);
+      throw new StorageUnavailableError(undefined, { cause: e });
     }
     return key;
   }
@@ -118,7 +117,7 @@ export class S3Storage implements FileStorage {
     } catch (e) {
       if (e instanceof NoSuchKey || (e instanceof S3ServiceException && e.$metadata.httpStatusCode === 404))
         return null;
-      throw new StorageUnavailableError(e);
+      throw new StorageUnavailableError(undefined, { cause: e });
     }
   }
 
@@ -139,7 +138,7 @@ export class S3Storage implements FileStorage {
     try {
       await this.client.send(new DeleteObjectCommand({ Bucket: this.config.bucket, Key: key }));
     } catch (e) {
-      throw new StorageUnavailableError(e);
+      throw new StorageUnavailableError(undefined, { cause: e });
     }
   }
 

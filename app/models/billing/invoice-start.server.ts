@@ -2,6 +2,7 @@
 import { eq } from "drizzle-orm";
 import { appointments, appointmentTypes, exams, patients } from "~/db/schema";
 import { db } from "~/utils/db.server";
+import { patientHitColumns } from "~/models/patients/patients.server";
 
 /** The appointment with its type's fee and the exam linked to it, if any; null when there is none. */
 export async function appointmentForInvoice(appointmentId: string) {
@@ -23,16 +24,6 @@ export async function appointmentForInvoice(appointmentId: string) {
 
 /** The patient an invoice is raised for, as the patient search shows one. */
 export async function patientForInvoice(patientId: string) {
-  const [p] = await db
-    .select({
-      id: patients.id,
-      firstName: patients.firstName,
-      lastName: patients.lastName,
-      dateOfBirth: patients.dateOfBirth,
-      phone: patients.phone,
-      email: patients.email,
-    })
-    .from(patients)
-    .where(eq(patients.id, patientId));
+  const [p] = await db.select(patientHitColumns).from(patients).where(eq(patients.id, patientId));
   return p ?? null;
 }

@@ -5,6 +5,7 @@ import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 import type { SessionUser } from "~/utils/session.server";
 import { storage, StorageUnavailableError } from "~/utils/storage.server";
+import { DomainError, type DomainErrorOptions } from "~/utils/failure.server";
 
 /** Largest upload accepted, bytes. */
 export const MAX_UPLOAD_BYTES = 15 * 1024 * 1024;
@@ -29,12 +30,10 @@ export function sniffType(bytes: Uint8Array): Sniffed | null {
   return null;
 }
 
-export class UploadError extends Error {
-  constructor(
-    message: string,
-    readonly status: 400 | 413 | 415 | 503 = 400,
-  ) {
-    super(message);
+/** A refused upload; the message names what is wrong with the file (field `file`). */
+export class UploadError extends DomainError {
+  constructor(message: string, options: DomainErrorOptions = {}) {
+    super(message, { field: "file", ...options });
   }
 }
 
@@ -49,14 +48,14 @@ export async function saveUpload(
   if (file.size > MAX_UPLOAD_BYTES)
     throw new UploadError(
       `The file is ${(file.size / 1024 / 1024).toFixed(1)} MB; the limit is ${MAX_UPLOAD_BYTES / 1024 / 1024} MB.`,
-      413,
+      { status: 413 },
     );
   const bytes = new Uint8Array(await file.arrayBuffer());
   const type = sniffType(bytes);
   if (!type)
     throw new UploadError(
       "Only JPEG, PNG or WebP images and PDF documents can be attached (checked from the file's content, not its name).",
-      415,
+      { status: 415 },
     );
   let thumbnail: Buffer | null = null;
   if (type.contentType !== "application/pdf") {
@@ -67,7 +66,7 @@ export async function saveUpload(
         .jpeg({ quality: 78 })
         .toBuffer();
     } catch {
-      throw new UploadError("The image could not be read; it may be damaged.", 415);
+      throw new UploadError("The image could not be read; it may be damaged.", { status: 415 });
     }
   }
   // The objects first, then the row: a row never points at a missing object. If the store is
@@ -84,7 +83,7 @@ export async function saveUpload(
     if (e instanceof StorageUnavailableError)
       throw new UploadError(
         "The file could not be stored just now: file storage is not reachable. Nothing was saved; please try the upload again in a few minutes.",
-        503,
+        { status: 503 },
       );
     throw e;
   }

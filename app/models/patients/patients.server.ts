@@ -1,7 +1,8 @@
 import { and, asc, count, desc, eq, isNull, lt, ne, sql, type SQL } from "drizzle-orm";
 import { patients } from "~/db/schema";
 import { db } from "~/utils/db.server";
-import type { ListQuery } from "./patient-schema";
+import { notFound } from "~/utils/failure.server";
+import { isUuid, type ListQuery } from "./patient-schema";
 
 /** Months without an exam after which a patient counts as due (common practice: a two-yearly routine exam for adults). */
 export const DEFAULT_RECALL_MONTHS = 24;
@@ -54,6 +55,16 @@ export type PatientHit = {
   email: string | null;
 };
 
+/** The columns a patient is shown by in searches, pickers and lists (a `PatientHit`). */
+export const patientHitColumns = {
+  id: patients.id,
+  firstName: patients.firstName,
+  lastName: patients.lastName,
+  dateOfBirth: patients.dateOfBirth,
+  phone: patients.phone,
+  email: patients.email,
+};
+
 /** The typed words of a name search (not a date, not a phone number), lower-cased. */
 function nameWords(q: string) {
   if (parseDobQuery(q.trim())) return [];
@@ -89,14 +100,7 @@ export async function searchPatientsPage(
     : null;
   const [results, [counted]] = await Promise.all([
     db
-      .select({
-        id: patients.id,
-        firstName: patients.firstName,
-        lastName: patients.lastName,
-        dateOfBirth: patients.dateOfBirth,
-        phone: patients.phone,
-        email: patients.email,
-      })
+      .select(patientHitColumns)
       .from(patients)
       .where(where)
       // Ordered by expressions no index provides: otherwise the planner may walk the whole name
@@ -160,15 +164,7 @@ export async function listPatients(query: ListQuery) {
   const cap = (query.page + 10) * query.size + 1;
   const [rows, [total]] = await Promise.all([
     db
-      .select({
-        id: patients.id,
-        firstName: patients.firstName,
-        lastName: patients.lastName,
-        dateOfBirth: patients.dateOfBirth,
-        phone: patients.phone,
-        email: patients.email,
-        lastExamAt: patients.lastExamAt,
-      })
+      .select({ ...patientHitColumns, lastExamAt: patients.lastExamAt })
       .from(patients)
       .where(where)
       .orderBy(...order)
@@ -211,14 +207,7 @@ export async function findDuplicates(
   excludeId?: string,
 ) {
   return db
-    .select({
-      id: patients.id,
-      firstName: patients.firstName,
-      lastName: patients.lastName,
-      dateOfBirth: patients.dateOfBirth,
-      phone: patients.phone,
-      email: patients.email,
-    })
+    .select(patientHitColumns)
     .from(patients)
     .where(
       and(
@@ -229,4 +218,12 @@ export async function findDuplicates(
       ),
     )
     .limit(5);
+}
+
+/** The whole patient row for an id from the URL; a malformed or unknown id is 404. */
+export async function patientOr404(id: string | undefined) {
+  if (!isUuid(id)) notFound();
+  const [p] = await db.select().from(patients).where(eq(patients.id, id!)).limit(1);
+  if (!p) notFound();
+  return p;
 }

@@ -1,13 +1,18 @@
 import { eq, sql } from "drizzle-orm";
-import { data } from "react-router";
 import { patients, practiceSettings, users } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 import { absoluteUrl, sendMail } from "~/utils/mail.server";
 import type { SessionUser } from "~/utils/session.server";
 import { issueUserToken } from "~/utils/tokens.server";
+import { DomainError, notFound, type DomainErrorOptions } from "~/utils/failure.server";
 
-export class PortalInviteError extends Error {}
+/** A refused invitation (no address, an account already active or the address taken); answered 409. */
+export class PortalInviteError extends DomainError {
+  constructor(message: string, options: DomainErrorOptions = {}) {
+    super(message, { status: 409, ...options });
+  }
+}
 
 /**
  * Invites a patient to their online page: creates (or reuses) the patient's account, linked to
@@ -18,7 +23,7 @@ export async function invitePatientToPortal(actor: SessionUser, patientId: strin
     .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName, email: patients.email })
     .from(patients)
     .where(eq(patients.id, patientId));
-  if (!patient) throw data({ error: "No such patient." }, { status: 404 });
+  if (!patient) notFound("No such patient.");
   const email = patient.email?.trim().toLowerCase();
   if (!email) throw new PortalInviteError("Add the patient's e-mail address first: the invitation goes there.");
 

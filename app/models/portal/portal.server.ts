@@ -1,5 +1,4 @@
 import { and, asc, desc, eq, gte, inArray, lt, ne, notInArray } from "drizzle-orm";
-import { data } from "react-router";
 import {
   appointmentChangeRequests,
   appointments,
@@ -16,15 +15,12 @@ import { addDays, slotsForDay, startOfLocalDay, weekdayOf } from "~/lib/scheduli
 import { closedReason, openingContext } from "~/models/schedule/closures.server";
 import { requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
+import { notFound } from "~/utils/failure.server";
 
 /** The signed-in patient and the one patient record they may reach. Anything else is 404. */
 export async function requirePortalPatient(request: Request) {
   const user = await requireRole(request, ["patient"]);
-  if (!user.patientId)
-    throw data(
-      { error: "This account is not linked to a patient record. Please contact the practice." },
-      { status: 404 },
-    );
+  if (!user.patientId) notFound("This account is not linked to a patient record. Please contact the practice.");
   return { user, patientId: user.patientId };
 }
 
@@ -60,7 +56,7 @@ export async function ownAppointment(patientId: string, appointmentId: string) {
     .select()
     .from(appointments)
     .where(and(eq(appointments.id, appointmentId), eq(appointments.patientId, patientId)));
-  if (!row) throw data({ error: "Not found." }, { status: 404 });
+  if (!row) notFound();
   return row;
 }
 
@@ -150,7 +146,7 @@ export async function ownInvoice(patientId: string, invoiceId: string) {
     .select({ id: invoices.id, status: invoices.status })
     .from(invoices)
     .where(and(eq(invoices.id, invoiceId), eq(invoices.patientId, patientId), ne(invoices.status, "draft")));
-  if (!row) throw data({ error: "Not found." }, { status: 404 });
+  if (!row) notFound();
   return row;
 }
 

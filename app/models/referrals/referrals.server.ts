@@ -19,5 +19,5 @@ export {
   withdrawReferral,
 } from "./delivery.server";
 export { acknowledge, publicSummary, reply, REPLY_FILE_MAX_BYTES, setAppointment, sniffType } from "./recipient.server";
-export { referralsForChart, trackingRows } from "./tracking.server";
+export { referralsForChart, trackingPage, trackingRows, TRACKING_SORTS } from "./tracking.server";
 export { referralPageData } from "./page.server";

@@ -1,7 +1,7 @@
 /** The referral lists: the tracking table and the chart. */
 import { asc, desc, eq, sql } from "drizzle-orm";
 import { patients, referralMessages, referralRecipients, referralReplies, referrals, users } from "~/db/schema";
-import { canChase, displayStatus, dueBy, localDate } from "~/lib/referrals";
+import { canChase, displayStatus, dueBy, localDate, type DisplayStatus } from "~/lib/referrals";
 import { db } from "~/utils/db.server";
 import { practice, referenceOf } from "./common.server";
 
@@ -58,6 +58,57 @@ export async function trackingRows(now = new Date()) {
       canChase: canChase(r, now, p.timeZone),
     };
   });
+}
+
+export type TrackingRow = Awaited<ReturnType<typeof trackingRows>>[number];
+
+/** Columns the tracking table sorts by, as they appear in the URL. */
+export const TRACKING_SORTS = [
+  "reference",
+  "patient",
+  "recipient",
+  "urgency",
+  "status",
+  "sentOn",
+  "dueOn",
+  "appointmentOn",
+] as const;
+export type TrackingSort = (typeof TRACKING_SORTS)[number];
+export type TrackingQuery = {
+  status: DisplayStatus | null;
+  sort: TrackingSort | null;
+  dir: "asc" | "desc";
+  page: number;
+  pageSize: number;
+};
+
+const URGENCY_ORDER = { same_day: 0, urgent: 1, soon: 2, routine: 3 } as Record<string, number>;
+
+/**
+ * One page of the tracking table: filtered by the status shown, sorted (newest first unless a
+ * column is chosen; empty values last either way) and cut to the page, with the count of each
+ * status for the filter's choices. The status shown depends on today and the time frame, so the
+ * filter and the order are applied to the computed rows here rather than in SQL.
+ */
+export async function trackingPage(q: TrackingQuery, now = new Date()) {
+  const all = await trackingRows(now);
+  const counts = {} as Record<DisplayStatus, number>;
+  for (const r of all) counts[r.status] = (counts[r.status] ?? 0) + 1;
+  const filtered = q.status ? all.filter((r) => r.status === q.status) : all;
+  if (q.sort) {
+    const key = q.sort;
+    const sign = q.dir === "desc" ? -1 : 1;
+    const value = (r: TrackingRow): string | number | null =>
+      key === "urgency" ? (URGENCY_ORDER[r.urgency] ?? 9) : key === "recipient" && r.recipient === "—" ? null : r[key];
+    filtered.sort((a, b) => {
+      const x = value(a);
+      const y = value(b);
+      if (x === null || y === null) return x === y ? 0 : x === null ? 1 : -1;
+      return sign * (typeof x === "number" && typeof y === "number" ? x - y : String(x).localeCompare(String(y)));
+    });
+  }
+  const start = (q.page - 1) * q.pageSize;
+  return { rows: filtered.slice(start, start + q.pageSize), total: filtered.length, all: all.length, counts };
 }
 
 /**

@@ -21,7 +21,7 @@ export async function action({ request }: Route.ActionArgs) {
     const { email } = await invitePatientToPortal(user, parsed.data.patientId, request);
     return Response.json({ ok: true, message: `Invitation sent to ${email}.` });
   } catch (error) {
-    if (error instanceof PortalInviteError) return Response.json({ error: error.message }, { status: 409 });
+    if (error instanceof PortalInviteError) return Response.json({ error: error.message }, { status: error.status });
     throw error;
   }
 }

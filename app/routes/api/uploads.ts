@@ -54,7 +54,7 @@ export async function action({ request }: Route.ActionArgs) {
     const id = await saveUpload(user, { patientId, examId, kind, description, file }, request);
     return Response.json({ ok: true, id }, { status: 201 });
   } catch (e) {
-    if (e instanceof UploadError) return fail(e.status, e.message, "file");
+    if (e instanceof UploadError) return fail(e.status, e.message, e.field);
     throw e;
   }
 }

@@ -1,8 +1,10 @@
 import { and, eq, ilike, inArray, sql } from "drizzle-orm";
-import { Form, Link, useSearchParams } from "react-router";
+import { createColumnHelper } from "@tanstack/react-table";
+import { Form, Link } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/balances";
 import { BillingNav } from "~/components/billing/invoice-status";
+import { DataTable } from "~/components/data-table";
 import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
@@ -80,7 +82,6 @@ export async function loader({ request }: Route.LoaderArgs) {
     filter: f,
     total,
     totalOwed: formatMoney(totals?.owedMinor ?? 0, settings?.currency ?? "GBP"),
-    pageCount: Math.max(1, Math.ceil(total / PAGE_SIZE)),
     rows: rows.map((r) => ({
       patientId: r.patientId,
       name: `${r.lastName}, ${r.firstName}`,
@@ -91,14 +92,39 @@ export async function loader({ request }: Route.LoaderArgs) {
   };
 }
 
+type Row = Route.ComponentProps["loaderData"]["rows"][number];
+const col = createColumnHelper<Row>();
+const columns = [
+  col.accessor("name", {
+    header: "Patient",
+    cell: (c) => (
+      <Link
+        to={`/patients/${c.row.original.patientId}`}
+        className="font-semibold text-accent-700 underline underline-offset-4"
+      >
+        {c.getValue()}
+      </Link>
+    ),
+  }),
+  col.accessor("owed", { header: "Owed", meta: { align: "right" } }),
+  col.accessor("invoices", { header: "Invoices", meta: { align: "right" } }),
+  col.accessor("oldest", { header: "Oldest unpaid since" }),
+  col.display({
+    id: "actions",
+    header: () => <span className="sr-only">Actions</span>,
+    cell: ({ row: { original: r } }) => (
+      <Link
+        to={`/billing?status=due&q=${encodeURIComponent(r.name.split(", ").reverse().join(" "))}`}
+        className="font-semibold text-accent-700 underline underline-offset-4"
+      >
+        Invoices<span className="sr-only"> of {r.name}</span>
+      </Link>
+    ),
+  }),
+];
+
 export default function Balances({ loaderData }: Route.ComponentProps) {
-  const { rows, filter, pageCount, total, totalOwed } = loaderData;
-  const [params] = useSearchParams();
-  const pageLink = (page: number) => {
-    const p = new URLSearchParams(params);
-    p.set("page", String(page));
-    return `?${p.toString()}`;
-  };
+  const { rows, filter, total, totalOwed } = loaderData;
   return (
     <>
       <PageHeader title="Outstanding balances" description="Patients with issued invoices not yet paid in full." />
@@ -129,74 +155,18 @@ export default function Balances({ loaderData }: Route.ComponentProps) {
             ? "Nobody owes anything."
             : `${total} ${total === 1 ? "patient owes" : "patients owe"} ${totalOwed} in all.`}
         </p>
-        {rows.length ? (
-          <div className="overflow-x-auto">
-            <table className="w-full text-left text-sm">
-              <caption className="sr-only">Outstanding balances</caption>
-              <thead className="border-b border-line text-muted">
-                <tr>
-                  <th scope="col" className="py-2 pr-4 font-semibold">
-                    Patient
-                  </th>
-                  <th scope="col" className="py-2 pr-4 text-right font-semibold">
-                    Owed
-                  </th>
-                  <th scope="col" className="py-2 pr-4 text-right font-semibold">
-                    Invoices
-                  </th>
-                  <th scope="col" className="py-2 pr-4 font-semibold">
-                    Oldest unpaid since
-                  </th>
-                  <th scope="col" className="py-2 font-semibold">
-                    <span className="sr-only">Actions</span>
-                  </th>
-                </tr>
-              </thead>
-              <tbody className="divide-y divide-line">
-                {rows.map((r) => (
-                  <tr key={r.patientId}>
-                    <td className="py-3 pr-4">
-                      <Link
-                        to={`/patients/${r.patientId}`}
-                        className="font-semibold text-accent-700 underline underline-offset-4"
-                      >
-                        {r.name}
-                      </Link>
-                    </td>
-                    <td className="py-3 pr-4 text-right tabular-nums">{r.owed}</td>
-                    <td className="py-3 pr-4 text-right tabular-nums">{r.invoices}</td>
-                    <td className="py-3 pr-4">{r.oldest}</td>
-                    <td className="py-3">
-                      <Link
-                        to={`/billing?status=due&q=${encodeURIComponent(r.name.split(", ").reverse().join(" "))}`}
-                        className="font-semibold text-accent-700 underline underline-offset-4"
-                      >
-                        Invoices<span className="sr-only"> of {r.name}</span>
-                      </Link>
-                    </td>
-                  </tr>
-                ))}
-              </tbody>
-            </table>
-          </div>
-        ) : null}
-        <nav aria-label="Pages" className="mt-4 flex items-center justify-between text-sm">
-          <span className="text-muted">
-            Page {filter.page} of {pageCount}
-          </span>
-          <span className="flex gap-2">
-            {filter.page > 1 ? (
-              <Link to={pageLink(filter.page - 1)} className={buttonClass("secondary", "px-3 py-1")}>
-                Previous page
-              </Link>
-            ) : null}
-            {filter.page < pageCount ? (
-              <Link to={pageLink(filter.page + 1)} className={buttonClass("secondary", "px-3 py-1")}>
-                Next page
-              </Link>
-            ) : null}
-          </span>
-        </nav>
+        <DataTable
+          data={rows}
+          columns={columns}
+          getRowId={(r) => r.patientId}
+          caption={
+            filter.sort === "oldest"
+              ? "Outstanding balances, oldest unpaid first"
+              : "Outstanding balances, largest first"
+          }
+          empty={filter.q ? "Nobody matching this name owes anything." : "Nobody owes anything."}
+          paging={{ page: filter.page, pageSize: PAGE_SIZE, total, noun: ["patient", "patients"] }}
+        />
       </Card>
     </>
   );

@@ -7,13 +7,14 @@ import { BillingNav } from "~/components/billing/invoice-status";
 import { ErrorList } from "~/components/forms";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
+import { FeeTable } from "./invoice-fee-table";
 import { PatientSearch, type PatientSearchHit } from "~/components/patient-search";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
 import { feeItems, patients, practiceSettings } from "~/db/schema";
-import { formatDate, formatMoney } from "~/lib/format";
+import { formatDate } from "~/lib/format";
 import { parseMoney } from "~/lib/money";
 import { parseDecimal } from "~/lib/numbers/decimal";
 import { audit } from "~/utils/audit.server";
@@ -87,10 +88,9 @@ export async function loader({ request }: Route.LoaderArgs) {
   let preselected: PatientSearchHit | null = null;
   let preselectedId = url.searchParams.get("patient") ?? "";
   if (!exam && appointmentId) {
-    if (!z.uuid().safeParse(appointmentId).success)
-      throw data({ error: "There is no such appointment." }, { status: 404 });
+    if (!z.uuid().safeParse(appointmentId).success) notFound("There is no such appointment.");
     const appt = await appointmentForInvoice(appointmentId);
-    if (!appt) throw data({ error: "There is no such appointment." }, { status: 404 });
+    if (!appt) notFound("There is no such appointment.");
     if (appt.examId) throw redirect(`/billing/invoices/new?exam=${appt.examId}`);
     appointment = { id: appt.id, typeName: appt.typeName, startsAt: appt.startsAt.toISOString() };
     suggestedFeeItemId = appt.feeItemId;
@@ -213,51 +213,11 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
   const services = fees.filter((f) => f.kind === "service");
   const items = fees.filter((f) => f.kind === "item");
   const examDate = exam ? formatDate(exam.examinedAt, { style: "long" }) : "";
-  const feeRows = (list: typeof fees) => (
-    <table className="w-full text-left text-sm">
-      <thead className="border-b border-line text-muted">
-        <tr>
-          <th className="py-2 pr-4 font-semibold">Code</th>
-          <th className="py-2 pr-4 font-semibold">Description</th>
-          <th className="py-2 pr-4 text-right font-semibold">Price</th>
-          <th className="w-28 py-2 font-semibold">Quantity</th>
-        </tr>
-      </thead>
-      <tbody className="divide-y divide-line">
-        {list.map((f) => (
-          <tr key={f.id}>
-            <td className="py-2 pr-4 font-mono">{f.code}</td>
-            <td className="py-2 pr-4">
-              {f.description}
-              {f.taxCategory === "standard" ? <span className="ml-2 text-xs text-muted">(taxed)</span> : null}
-              {suggestedFeeItemId === f.id ? (
-                <span className="ml-2 text-xs font-semibold text-accent-800">
-                  {exam ? "· this exam's visit fee" : "· this appointment's fee"}
-                </span>
-              ) : null}
-            </td>
-            <td className="py-2 pr-4 text-right tabular-nums">{formatMoney(f.priceMinor, currency)}</td>
-            <td className="py-2">
-              <label htmlFor={`qty_${f.id}`} className="sr-only">
-                Quantity of {f.description}
-              </label>
-              <Input
-                id={`qty_${f.id}`}
-                name={`qty_${f.id}`}
-                type="number"
-                min={0}
-                max={1000}
-                defaultValue={suggestedFeeItemId === f.id ? 1 : 0}
-                className="w-24 py-1"
-                aria-invalid={errors[`qty_${f.id}`] ? true : undefined}
-              />
-              <ErrorList errors={errors[`qty_${f.id}`]} />
-            </td>
-          </tr>
-        ))}
-      </tbody>
-    </table>
-  );
+  const suggested = {
+    id: suggestedFeeItemId,
+    note: exam ? "this exam's visit fee" : "this appointment's fee",
+  };
+
   return (
     <>
       <PageHeader
@@ -315,10 +275,24 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
           )}
         </Card>
         <Card title="Services performed">
-          {services.length ? feeRows(services) : <p className="text-muted">No services in the fee schedule yet.</p>}
+          <FeeTable
+            fees={services}
+            currency={currency}
+            caption="Services"
+            empty="No services in the fee schedule yet."
+            suggested={suggested}
+            errors={errors}
+          />
         </Card>
         <Card title="Dispensed items">
-          {items.length ? feeRows(items) : <p className="text-muted">No items in the fee schedule yet.</p>}
+          <FeeTable
+            fees={items}
+            currency={currency}
+            caption="Dispensed items"
+            empty="No items in the fee schedule yet."
+            suggested={suggested}
+            errors={errors}
+          />
         </Card>
         <Card title="Extra line (optional)">
           <div className="grid gap-4 sm:grid-cols-[2fr_1fr_1fr_1fr]">

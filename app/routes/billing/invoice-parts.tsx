@@ -1,7 +1,9 @@
 /** The invoice page's larger cards: its lines with totals, and its payments and refunds. */
+import { createColumnHelper } from "@tanstack/react-table";
 import { Form } from "react-router";
 import type { Route } from "./+types/invoice";
 import { PaymentStatusBadge } from "~/components/billing/invoice-status";
+import { DataTable } from "~/components/data-table";
 import { ErrorList } from "~/components/forms";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
@@ -16,52 +18,41 @@ type Parts = {
   busy: (intent: string) => boolean;
 };
 
+type Line = Parts["d"]["lines"][number];
+const col = createColumnHelper<Line>();
+const lineColumns = [
+  col.accessor("code", { header: "Code", meta: { className: "font-mono" } }),
+  col.accessor("description", { header: "Description" }),
+  col.accessor("quantity", { header: "Qty", meta: { align: "right" } }),
+  col.accessor("unit", { header: "Unit price", meta: { align: "right" } }),
+  col.accessor("tax", { header: "Tax", meta: { align: "right" } }),
+  col.accessor("gross", { header: "Amount", meta: { align: "right" } }),
+];
+const removeColumn = col.display({
+  id: "remove",
+  header: () => <span className="sr-only">Remove</span>,
+  cell: ({ row: { original: l } }) => (
+    <Form method="post">
+      <input type="hidden" name="intent" value="remove-line" />
+      <input type="hidden" name="lineId" value={l.id} />
+      <Button type="submit" variant="ghost" className="px-2 py-1 text-red-800">
+        Remove<span className="sr-only"> {l.description}</span>
+      </Button>
+    </Form>
+  ),
+});
+
 export function InvoiceLinesCard({ d, isDraft, err, busy }: Parts) {
   const { invoice, lines, fees } = d;
   return (
     <Card title="Lines">
-      <div className="overflow-x-auto">
-        <table className="w-full text-left text-sm">
-          <thead className="border-b border-line text-muted">
-            <tr>
-              <th className="py-2 pr-3 font-semibold">Code</th>
-              <th className="py-2 pr-3 font-semibold">Description</th>
-              <th className="py-2 pr-3 text-right font-semibold">Qty</th>
-              <th className="py-2 pr-3 text-right font-semibold">Unit price</th>
-              <th className="py-2 pr-3 text-right font-semibold">Tax</th>
-              <th className="py-2 pr-3 text-right font-semibold">Amount</th>
-              {isDraft ? (
-                <th className="py-2 font-semibold">
-                  <span className="sr-only">Remove</span>
-                </th>
-              ) : null}
-            </tr>
-          </thead>
-          <tbody className="divide-y divide-line">
-            {lines.map((l) => (
-              <tr key={l.id}>
-                <td className="py-2 pr-3 font-mono">{l.code}</td>
-                <td className="py-2 pr-3">{l.description}</td>
-                <td className="py-2 pr-3 text-right tabular-nums">{l.quantity}</td>
-                <td className="py-2 pr-3 text-right tabular-nums">{l.unit}</td>
-                <td className="py-2 pr-3 text-right tabular-nums">{l.tax}</td>
-                <td className="py-2 pr-3 text-right tabular-nums">{l.gross}</td>
-                {isDraft ? (
-                  <td className="py-2">
-                    <Form method="post">
-                      <input type="hidden" name="intent" value="remove-line" />
-                      <input type="hidden" name="lineId" value={l.id} />
-                      <Button type="submit" variant="ghost" className="px-2 py-1 text-red-800">
-                        Remove<span className="sr-only"> {l.description}</span>
-                      </Button>
-                    </Form>
-                  </td>
-                ) : null}
-              </tr>
-            ))}
-          </tbody>
-        </table>
-      </div>
+      <DataTable
+        data={lines}
+        columns={isDraft ? [...lineColumns, removeColumn] : lineColumns}
+        getRowId={(l) => l.id}
+        caption="Invoice lines"
+        empty="No lines yet: add one from the fee schedule."
+      />
       <dl className="mt-4 ml-auto grid max-w-xs grid-cols-2 gap-y-1 text-sm" aria-label="Totals">
         <dt className="text-muted">Subtotal</dt>
         <dd className="text-right tabular-nums">{invoice.subtotal}</dd>

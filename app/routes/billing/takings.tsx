@@ -1,6 +1,9 @@
+import { createColumnHelper } from "@tanstack/react-table";
 import { data, Form, Link } from "react-router";
+import { z } from "zod";
 import type { Route } from "./+types/takings";
 import { BillingNav } from "~/components/billing/invoice-status";
+import { DataTable } from "~/components/data-table";
 import { METHOD_LABEL } from "~/models/billing/documents.server";
 import { BILLING_ROLES, invoiceLabel, practiceBilling } from "~/models/billing/invoices.server";
 import { parsePeriod, takings, todayIn } from "~/models/billing/takings.server";
@@ -14,12 +17,21 @@ import { requireRole } from "~/utils/auth.server";
 import { activeSites, siteChoice } from "~/models/schedule/sites.server";
 import { Select } from "~/components/ui/input";
 
+const PAGE_SIZE = 50;
+
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, BILLING_ROLES);
   const practice = await practiceBilling();
   const url = new URL(request.url);
   const today = todayIn(practice.timeZone);
   const period = parsePeriod(url.searchParams, today);
+  const page = z.coerce
+    .number()
+    .int()
+    .min(1)
+    .max(100_000)
+    .catch(1)
+    .parse(url.searchParams.get("page") ?? undefined);
   const sites = await activeSites();
   const { site, setCookie } = await siteChoice(request, sites);
   const t = await takings(period, site === "all" ? undefined : site);
@@ -63,7 +75,9 @@ export async function loader({ request }: Route.LoaderArgs) {
         refunded: formatMoney(t.totals.refundedMinor, cur),
         net: formatMoney(t.totals.netMinor, cur),
       },
-      entries: t.entries.map((e) => ({
+      page,
+      entryCount: t.entries.length,
+      entries: t.entries.slice((page - 1) * PAGE_SIZE, page * PAGE_SIZE).map((e) => ({
         key: `${e.kind}-${e.id}`,
         when: time.format(e.at),
         kind: e.kind,
@@ -86,6 +100,49 @@ export async function loader({ request }: Route.LoaderArgs) {
     setCookie ? { headers: { "set-cookie": setCookie } } : undefined,
   );
 }
+
+type LoaderData = Route.ComponentProps["loaderData"];
+type MethodRow = LoaderData["byMethod"][number];
+type EntryRow = LoaderData["entries"][number];
+
+const methodCol = createColumnHelper<MethodRow>();
+const methodColumns = (totals: LoaderData["totals"]) => [
+  methodCol.accessor("label", { header: "Method", footer: "Total", meta: { rowHeader: true } }),
+  methodCol.accessor("count", { header: "Payments", footer: "", meta: { align: "right" } }),
+  methodCol.accessor("received", { header: "Received", footer: totals.received, meta: { align: "right" } }),
+  methodCol.accessor("refunded", { header: "Refunded", footer: totals.refunded, meta: { align: "right" } }),
+  methodCol.accessor("net", { header: "Net", footer: totals.net, meta: { align: "right" } }),
+];
+
+const entryCol = createColumnHelper<EntryRow>();
+const entryColumns = [
+  entryCol.accessor("when", { header: "When" }),
+  entryCol.accessor("invoice", {
+    header: "Invoice",
+    cell: (c) => (
+      <Link
+        to={`/billing/invoices/${c.row.original.invoiceId}`}
+        className="font-semibold text-accent-700 underline underline-offset-4"
+      >
+        {c.getValue()}
+      </Link>
+    ),
+  }),
+  entryCol.accessor("patient", { header: "Patient" }),
+  entryCol.accessor("method", { header: "Method" }),
+  entryCol.accessor("kind", {
+    header: "Kind",
+    cell: ({ row: { original: e } }) =>
+      e.status === "flagged" ? (
+        <StatusBadge tone="error">Flagged</StatusBadge>
+      ) : e.kind === "refund" ? (
+        <StatusBadge tone="warning">Refund</StatusBadge>
+      ) : (
+        <StatusBadge tone="success">Payment</StatusBadge>
+      ),
+  }),
+  entryCol.accessor("amount", { header: "Amount", meta: { align: "right" } }),
+];
 
 export default function Takings({ loaderData: d }: Route.ComponentProps) {
   return (
@@ -170,87 +227,24 @@ export default function Takings({ loaderData: d }: Route.ComponentProps) {
         ) : null}
       </div>
       <Card title="By method" className="mb-6">
-        <table className="w-full text-left text-sm" data-testid="takings-by-method">
-          <thead className="border-b border-line text-muted">
-            <tr>
-              <th className="py-2 pr-4 font-semibold">Method</th>
-              <th className="py-2 pr-4 text-right font-semibold">Payments</th>
-              <th className="py-2 pr-4 text-right font-semibold">Received</th>
-              <th className="py-2 pr-4 text-right font-semibold">Refunded</th>
-              <th className="py-2 text-right font-semibold">Net</th>
-            </tr>
-          </thead>
-          <tbody className="divide-y divide-line">
-            {d.byMethod.map((m) => (
-              <tr key={m.label}>
-                <th scope="row" className="py-2 pr-4 font-semibold">
-                  {m.label}
-                </th>
-                <td className="py-2 pr-4 text-right tabular-nums">{m.count}</td>
-                <td className="py-2 pr-4 text-right tabular-nums">{m.received}</td>
-                <td className="py-2 pr-4 text-right tabular-nums">{m.refunded}</td>
-                <td className="py-2 text-right tabular-nums">{m.net}</td>
-              </tr>
-            ))}
-            <tr className="font-semibold">
-              <th scope="row" className="py-2 pr-4">
-                Total
-              </th>
-              <td />
-              <td className="py-2 pr-4 text-right tabular-nums">{d.totals.received}</td>
-              <td className="py-2 pr-4 text-right tabular-nums">{d.totals.refunded}</td>
-              <td className="py-2 text-right tabular-nums" data-testid="takings-net">
-                {d.totals.net}
-              </td>
-            </tr>
-          </tbody>
-        </table>
+        <DataTable
+          data={d.byMethod}
+          columns={methodColumns(d.totals)}
+          getRowId={(m) => m.label}
+          caption="Takings by method"
+          empty="Nothing received or refunded in this period."
+          testId="takings-by-method"
+        />
       </Card>
       <Card title="Every payment and refund">
-        {d.entries.length === 0 ? <p className="text-muted">Nothing received or refunded in this period.</p> : null}
-        {d.entries.length ? (
-          <div className="overflow-x-auto">
-            <table className="w-full text-left text-sm">
-              <thead className="border-b border-line text-muted">
-                <tr>
-                  <th className="py-2 pr-4 font-semibold">When</th>
-                  <th className="py-2 pr-4 font-semibold">Invoice</th>
-                  <th className="py-2 pr-4 font-semibold">Patient</th>
-                  <th className="py-2 pr-4 font-semibold">Method</th>
-                  <th className="py-2 pr-4 font-semibold">Kind</th>
-                  <th className="py-2 text-right font-semibold">Amount</th>
-                </tr>
-              </thead>
-              <tbody className="divide-y divide-line">
-                {d.entries.map((e) => (
-                  <tr key={e.key}>
-                    <td className="py-2 pr-4">{e.when}</td>
-                    <td className="py-2 pr-4">
-                      <Link
-                        to={`/billing/invoices/${e.invoiceId}`}
-                        className="font-semibold text-accent-700 underline underline-offset-4"
-                      >
-                        {e.invoice}
-                      </Link>
-                    </td>
-                    <td className="py-2 pr-4">{e.patient}</td>
-                    <td className="py-2 pr-4">{e.method}</td>
-                    <td className="py-2 pr-4">
-                      {e.status === "flagged" ? (
-                        <StatusBadge tone="error">Flagged</StatusBadge>
-                      ) : e.kind === "refund" ? (
-                        <StatusBadge tone="warning">Refund</StatusBadge>
-                      ) : (
-                        <StatusBadge tone="success">Payment</StatusBadge>
-                      )}
-                    </td>
-                    <td className="py-2 text-right tabular-nums">{e.amount}</td>
-                  </tr>
-                ))}
-              </tbody>
-            </table>
-          </div>
-        ) : null}
+        <DataTable
+          data={d.entries}
+          columns={entryColumns}
+          getRowId={(e) => e.key}
+          caption="Every payment and refund, oldest first"
+          empty="Nothing received or refunded in this period."
+          paging={{ page: d.page, pageSize: PAGE_SIZE, total: d.entryCount, noun: ["entry", "entries"] }}
+        />
       </Card>
     </>
   );

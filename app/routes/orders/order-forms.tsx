@@ -1,9 +1,9 @@
 /** The spectacle and contact-lens forms of the new-order page, and the prescription they are made from. */
-import { getFormProps, getInputProps, getSelectProps, getTextareaProps, useForm } from "@conform-to/react";
+import { getFormProps, getTextareaProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { Form, useNavigation } from "react-router";
 import type { Route } from "./+types/new";
-import { ErrorList, Field, SelectField } from "~/components/forms";
+import { ErrorList, FormField, FormSelect } from "~/components/forms";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Textarea } from "~/components/ui/input";
@@ -77,11 +77,7 @@ export function SpectacleForm({ d, lastResult }: { d: FormData_; lastResult: unk
       <UnplacedErrors all={form.allErrors} placed={Object.keys(fields)} formErrors={form.errors} />
       <Card title="Frame and lab">
         <div className="grid gap-4 sm:grid-cols-2">
-          <SelectField
-            label="Frame from stock"
-            errors={fields.frameId.errors}
-            selectProps={getSelectProps(fields.frameId)}
-          >
+          <FormSelect label="Frame from stock" field={fields.frameId}>
             <option value="">Choose a frame…</option>
             {d.frames.map((f) => (
               <option key={f.id} value={f.id}>
@@ -89,37 +85,33 @@ export function SpectacleForm({ d, lastResult }: { d: FormData_; lastResult: unk
                 {f.quantity > 0 ? `${f.quantity} in stock` : "out of stock"}
               </option>
             ))}
-          </SelectField>
-          <SelectField label="Lab" errors={fields.labId.errors} selectProps={getSelectProps(fields.labId)}>
+          </FormSelect>
+          <FormSelect label="Lab" field={fields.labId}>
             <option value="">Choose a lab…</option>
             {d.labs.map((l) => (
               <option key={l.id} value={l.id}>
                 {l.name}
               </option>
             ))}
-          </SelectField>
+          </FormSelect>
         </div>
       </Card>
       <Card title="Lenses">
         <div className="grid gap-4 sm:grid-cols-2">
-          <SelectField label="Lens type" errors={fields.lensType.errors} selectProps={getSelectProps(fields.lensType)}>
+          <FormSelect label="Lens type" field={fields.lensType}>
             {Object.entries(LENS_TYPE_LABEL).map(([k, label]) => (
               <option key={k} value={k}>
                 {label}
               </option>
             ))}
-          </SelectField>
-          <SelectField
-            label="Material and index"
-            errors={fields.lensMaterial.errors}
-            selectProps={getSelectProps(fields.lensMaterial)}
-          >
+          </FormSelect>
+          <FormSelect label="Material and index" field={fields.lensMaterial}>
             {LENS_MATERIALS.map((m) => (
               <option key={m} value={m}>
                 {m}
               </option>
             ))}
-          </SelectField>
+          </FormSelect>
           <fieldset>
             <legend className="mb-1 text-sm font-semibold">Coatings</legend>
             <div className="flex flex-wrap gap-x-4 gap-y-1">
@@ -137,49 +129,28 @@ export function SpectacleForm({ d, lastResult }: { d: FormData_; lastResult: unk
               ))}
             </div>
           </fieldset>
-          <Field
-            label="Tint"
-            hint="Leave empty for none, e.g. grey 15 %."
-            errors={fields.tint.errors}
-            inputProps={getInputProps(fields.tint, { type: "text" })}
-          />
-          <SelectField
-            label="Lens price (fee schedule)"
-            errors={fields.lensFeeItemId.errors}
-            selectProps={getSelectProps(fields.lensFeeItemId)}
-          >
+          <FormField label="Tint" hint="Leave empty for none, e.g. grey 15 %." field={fields.tint} />
+          <FormSelect label="Lens price (fee schedule)" field={fields.lensFeeItemId}>
             <option value="">Choose…</option>
             {d.fees.map((f) => (
               <option key={f.id} value={f.id}>
                 {f.label} — {formatMoney(f.priceMinor, d.currency)}
               </option>
             ))}
-          </SelectField>
+          </FormSelect>
         </div>
       </Card>
       <Card title="Centration">
         <div className="grid gap-4 sm:grid-cols-4">
-          <Field
-            label="Right monocular PD (mm)"
-            errors={fields.pdRightMm.errors}
-            inputProps={{ ...getInputProps(fields.pdRightMm, { type: "text" }), inputMode: "decimal" }}
-          />
-          <Field
-            label="Left monocular PD (mm)"
-            errors={fields.pdLeftMm.errors}
-            inputProps={{ ...getInputProps(fields.pdLeftMm, { type: "text" }), inputMode: "decimal" }}
-          />
-          <Field
+          <FormField label="Right monocular PD (mm)" field={fields.pdRightMm} inputMode="decimal" />
+          <FormField label="Left monocular PD (mm)" field={fields.pdLeftMm} inputMode="decimal" />
+          <FormField
             label="Right fitting height (mm)"
             hint="Needed for bifocal, varifocal and occupational lenses."
-            errors={fields.heightRightMm.errors}
-            inputProps={{ ...getInputProps(fields.heightRightMm, { type: "text" }), inputMode: "decimal" }}
+            field={fields.heightRightMm}
+            inputMode="decimal"
           />
-          <Field
-            label="Left fitting height (mm)"
-            errors={fields.heightLeftMm.errors}
-            inputProps={{ ...getInputProps(fields.heightLeftMm, { type: "text" }), inputMode: "decimal" }}
-          />
+          <FormField label="Left fitting height (mm)" field={fields.heightLeftMm} inputMode="decimal" />
         </div>
         <div className="mt-4">
           <label htmlFor={fields.notes.id} className="mb-1 block text-sm font-semibold">
@@ -212,36 +183,24 @@ export function ContactLensForm({ d, lastResult }: { d: FormData_; lastResult: u
       <UnplacedErrors all={form.allErrors} placed={Object.keys(fields)} formErrors={form.errors} />
       <Card title={`Lens: ${d.rx!.lensName || "as prescribed"}`}>
         <div className="grid gap-4 sm:grid-cols-2">
-          <SelectField label="Supplier" errors={fields.labId.errors} selectProps={getSelectProps(fields.labId)}>
+          <FormSelect label="Supplier" field={fields.labId}>
             <option value="">Choose…</option>
             {d.labs.map((l) => (
               <option key={l.id} value={l.id}>
                 {l.name}
               </option>
             ))}
-          </SelectField>
-          <SelectField
-            label="Price per box (fee schedule)"
-            errors={fields.lensFeeItemId.errors}
-            selectProps={getSelectProps(fields.lensFeeItemId)}
-          >
+          </FormSelect>
+          <FormSelect label="Price per box (fee schedule)" field={fields.lensFeeItemId}>
             <option value="">Choose…</option>
             {d.fees.map((f) => (
               <option key={f.id} value={f.id}>
                 {f.label} — {formatMoney(f.priceMinor, d.currency)}
               </option>
             ))}
-          </SelectField>
-          <Field
-            label="Boxes, right eye"
-            errors={fields.boxesRight.errors}
-            inputProps={getInputProps(fields.boxesRight, { type: "number" })}
-          />
-          <Field
-            label="Boxes, left eye"
-            errors={fields.boxesLeft.errors}
-            inputProps={getInputProps(fields.boxesLeft, { type: "number" })}
-          />
+          </FormSelect>
+          <FormField label="Boxes, right eye" field={fields.boxesRight} type="number" />
+          <FormField label="Boxes, left eye" field={fields.boxesLeft} type="number" />
         </div>
         <div className="mt-4">
           <label htmlFor={fields.notes.id} className="mb-1 block text-sm font-semibold">

@@ -1,4 +1,6 @@
 /** Parts of the order page: what was ordered, its history, the lensmeter check report and reading fields. */
+import { createColumnHelper } from "@tanstack/react-table";
+import { DataTable } from "~/components/data-table";
 import { ErrorList } from "~/components/forms";
 import { Input, Select } from "~/components/ui/input";
 import { StatusBadge } from "~/components/ui/notice";
@@ -14,7 +16,7 @@ export const tone = (s: OrderStateName) =>
   s === "cancelled" || s === "remake" ? "warning" : s === "ready_to_collect" || s === "collected" ? "success" : "info";
 
 export function CheckReport({ report }: { report: PairReport }) {
-  const rows = [
+  const rows: CheckRow[] = [
     ...(["right", "left"] as const).flatMap((side) =>
       report[side].checks.map((c) => ({
         key: `${side}-${c.element}`,
@@ -39,43 +41,40 @@ export function CheckReport({ report }: { report: PairReport }) {
     })),
   ];
   return (
-    <div className="overflow-x-auto">
-      <table className="w-full text-left text-sm">
-        <caption className="sr-only">Dispensing check, element by element</caption>
-        <thead>
-          <tr className="border-b border-line">
-            <th className="py-1 pr-3">Element</th>
-            <th className="py-1 pr-3">Ordered</th>
-            <th className="py-1 pr-3">Measured</th>
-            <th className="py-1 pr-3">Off by</th>
-            <th className="py-1 pr-3">Allowed</th>
-            <th className="py-1 pr-3">Result</th>
-            <th className="py-1">Rule</th>
-          </tr>
-        </thead>
-        <tbody>
-          {rows.map((r) => (
-            <tr key={r.key} className="border-b border-line">
-              <td className="py-1 pr-3">{r.what}</td>
-              <td className="py-1 pr-3">{r.ordered}</td>
-              <td className="py-1 pr-3">{r.measured}</td>
-              <td className="py-1 pr-3">{r.off}</td>
-              <td className="py-1 pr-3">{r.tol}</td>
-              <td className="py-1 pr-3">
-                {r.pass ? (
-                  <StatusBadge tone="success">Within</StatusBadge>
-                ) : (
-                  <StatusBadge tone="error">Outside</StatusBadge>
-                )}
-              </td>
-              <td className="py-1 text-muted">{r.rule}</td>
-            </tr>
-          ))}
-        </tbody>
-      </table>
-    </div>
+    <DataTable
+      data={rows}
+      columns={checkColumns}
+      getRowId={(r) => r.key}
+      caption="Dispensing check, element by element"
+      empty="Nothing was checked."
+    />
   );
 }
+
+type CheckRow = {
+  key: string;
+  what: string;
+  ordered: string;
+  measured: string;
+  off: string;
+  tol: string;
+  pass: boolean;
+  rule: string;
+};
+const checkCol = createColumnHelper<CheckRow>();
+const checkColumns = [
+  checkCol.accessor("what", { header: "Element" }),
+  checkCol.accessor("ordered", { header: "Ordered" }),
+  checkCol.accessor("measured", { header: "Measured" }),
+  checkCol.accessor("off", { header: "Off by" }),
+  checkCol.accessor("tol", { header: "Allowed" }),
+  checkCol.accessor("pass", {
+    header: "Result",
+    cell: (c) =>
+      c.getValue() ? <StatusBadge tone="success">Within</StatusBadge> : <StatusBadge tone="error">Outside</StatusBadge>,
+  }),
+  checkCol.accessor("rule", { header: "Rule", meta: { className: "text-muted" } }),
+];
 
 export function EyeReadingFields({ side, errors }: { side: "right" | "left"; errors: Record<string, string[]> }) {
   const label = side === "right" ? "Right" : "Left";

@@ -1,4 +1,3 @@
-import { eq } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import type { Route } from "./+types/chart";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
@@ -6,12 +5,10 @@ import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { StatusBadge } from "~/components/ui/notice";
-import { patients } from "~/db/schema";
 import { formatRx } from "~/lib/optics";
 import { examFor, latestPrompts, startExam } from "~/models/exams/exam.server";
 import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import {
   appointmentsOf,
@@ -24,7 +21,6 @@ import {
 } from "~/models/patients/chart.server";
 import { documentsOf } from "~/models/patients/documents.server";
 import { ageInYears, formatDate, formatMoney } from "~/lib/format";
-import { isUuid } from "~/models/patients/patient-schema";
 import { prescriptionsOf } from "~/models/prescriptions/prescriptions.server";
 import { PortalInviteButton } from "~/components/portal-invite-button";
 import { ChartReferrals } from "~/components/referrals/chart-referrals";
@@ -32,13 +28,7 @@ import { gpLine, referralsForChart } from "~/models/referrals/referrals.server";
 import { RefractionHistory } from "./refraction-plot";
 import { DocumentList, UploadForm } from "~/components/patients/uploads-ui";
 import { Timeline } from "./chart-timeline";
-
-async function patientOr404(id: string | undefined) {
-  if (!isUuid(id)) throw data({ error: "Not found." }, { status: 404 });
-  const [p] = await db.select().from(patients).where(eq(patients.id, id));
-  if (!p) throw data({ error: "Not found." }, { status: 404 });
-  return p;
-}
+import { patientOr404 } from "~/models/patients/patients.server";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);

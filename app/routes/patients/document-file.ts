@@ -1,5 +1,4 @@
 import { and, eq } from "drizzle-orm";
-import { data } from "react-router";
 import type { Route } from "./+types/document-file";
 import { documents } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
@@ -7,24 +6,25 @@ import { assertPatientAccess, CLINICAL_ROLES, requireUser } from "~/utils/auth.s
 import { db } from "~/utils/db.server";
 import { openStored } from "~/utils/storage-response.server";
 import { isUuid } from "~/models/patients/patient-schema";
+import { notFound, invariantResponse } from "~/utils/failure.server";
 
 /** GET /patients/:patientId/documents/:documentId/(file|thumbnail) — clinical roles only. */
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireUser(request);
   assertPatientAccess(user, params.patientId);
   if (!(CLINICAL_ROLES as readonly string[]).includes(user.role))
-    throw data({ error: "Your role does not give access to clinical documents." }, { status: 403 });
+    invariantResponse(false, "Your role does not give access to clinical documents.", 403);
   if (!isUuid(params.patientId) || !isUuid(params.documentId) || !["file", "thumbnail"].includes(params.variant))
-    throw data({ error: "Not found." }, { status: 404 });
+    notFound();
   const [doc] = await db
     .select()
     .from(documents)
     .where(and(eq(documents.id, params.documentId), eq(documents.patientId, params.patientId)));
-  if (!doc) throw data({ error: "Not found." }, { status: 404 });
+  if (!doc) notFound();
   const thumb = params.variant === "thumbnail";
   const key = thumb ? doc.thumbnailKey : doc.storageKey;
   const file = key ? await openStored(key) : null;
-  if (!file) throw data({ error: "Not found." }, { status: 404 });
+  if (!file) notFound();
   if (!thumb)
     await audit({
       action: "document.read",

@@ -10,19 +10,12 @@ import { CLINICAL_ROLES, requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { PatientForm, type PatientActionData } from "./patient-form";
-import { isUuid, patientSchema } from "~/models/patients/patient-schema";
-import { findDuplicates } from "~/models/patients/patients.server";
-
-async function loadPatient(id: string | undefined) {
-  if (!isUuid(id)) throw data({ error: "Not found." }, { status: 404 });
-  const [p] = await db.select().from(patients).where(eq(patients.id, id!)).limit(1);
-  if (!p) throw data({ error: "Not found." }, { status: 404 });
-  return p;
-}
+import { patientSchema } from "~/models/patients/patient-schema";
+import { findDuplicates, patientOr404 } from "~/models/patients/patients.server";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
-  const p = await loadPatient(params.patientId);
+  const p = await patientOr404(params.patientId);
   const clinical = (CLINICAL_ROLES as readonly string[]).includes(user.role);
   if (clinical)
     await audit({
@@ -61,7 +54,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 
 export async function action({ request, params }: Route.ActionArgs) {
   const user = await requireRole(request, STAFF_ROLES);
-  const existing = await loadPatient(params.patientId);
+  const existing = await patientOr404(params.patientId);
   const submission = parseWithZod(await request.formData(), { schema: patientSchema });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
   const { confirmDuplicate, allergies, medications, noKnownAllergies, ...demographics } = submission.value;

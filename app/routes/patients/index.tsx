@@ -1,19 +1,13 @@
-import {
-  createColumnHelper,
-  flexRender,
-  getCoreRowModel,
-  useReactTable,
-  type SortingState,
-} from "@tanstack/react-table";
-import { Form, Link, useSearchParams } from "react-router";
+import { createColumnHelper } from "@tanstack/react-table";
+import { Form, Link } from "react-router";
 import type { Route } from "./+types/index";
 import { PatientSearch } from "~/components/patient-search";
 import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
-import { Icon } from "~/components/ui/icon";
+import { DataTable } from "~/components/data-table";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { ageInYears, formatDate } from "~/lib/format";
-import { listQuerySchema, type ListQuery, type PatientSort } from "~/models/patients/patient-schema";
+import { listQuerySchema } from "~/models/patients/patient-schema";
 import { listPatients } from "~/models/patients/patients.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
@@ -58,30 +52,8 @@ const columns = [
   }),
 ];
 
-function hrefWith(params: URLSearchParams, changes: Partial<Record<keyof ListQuery, string | number>>) {
-  const next = new URLSearchParams(params);
-  for (const [k, v] of Object.entries(changes)) next.set(k, String(v));
-  return `?${next.toString()}`;
-}
-
 export default function Patients({ loaderData }: Route.ComponentProps) {
   const { query, rows, total, totalIsExact } = loaderData;
-  const [params] = useSearchParams();
-  const sorting: SortingState = [{ id: query.sort, desc: query.dir === "desc" }];
-  const table = useReactTable({
-    data: rows,
-    columns,
-    getCoreRowModel: getCoreRowModel(),
-    manualSorting: true,
-    manualPagination: true,
-    manualFiltering: true,
-    rowCount: total,
-    state: { sorting, pagination: { pageIndex: query.page - 1, pageSize: query.size } },
-  });
-  const pages = Math.max(1, Math.ceil(total / query.size)) + (totalIsExact ? 0 : 1);
-  const first = total ? (query.page - 1) * query.size + 1 : 0;
-  const last = Math.min(total, query.page * query.size);
-
   return (
     <>
       <PageHeader
@@ -145,87 +117,16 @@ export default function Patients({ loaderData }: Route.ComponentProps) {
           Apply
         </button>
       </Form>
-      <div className="overflow-x-auto rounded-lg border border-line bg-white">
-        <table className="min-w-full text-left text-sm">
-          <caption className="sr-only">
-            Patients, sorted by {query.sort} {query.dir === "asc" ? "ascending" : "descending"}
-          </caption>
-          <thead className="border-b border-line bg-canvas">
-            {table.getHeaderGroups().map((hg) => (
-              <tr key={hg.id}>
-                {hg.headers.map((h) => {
-                  const sortable = h.column.getCanSort();
-                  const current = query.sort === h.column.id;
-                  const nextDir = current && query.dir === "asc" ? "desc" : "asc";
-                  return (
-                    <th
-                      key={h.id}
-                      scope="col"
-                      aria-sort={current ? (query.dir === "asc" ? "ascending" : "descending") : undefined}
-                      className="px-4 py-3 font-semibold"
-                    >
-                      {sortable ? (
-                        <Link
-                          to={hrefWith(params, { sort: h.column.id as PatientSort, dir: nextDir, page: 1 })}
-                          className="inline-flex items-center gap-1 hover:underline"
-                        >
-                          {flexRender(h.column.columnDef.header, h.getContext())}
-                          <span aria-hidden="true">{current ? (query.dir === "asc" ? "▲" : "▼") : "↕"}</span>
-                          <span className="sr-only">
-                            {current ? `, sorted ${query.dir === "asc" ? "ascending" : "descending"}; ` : ""}sort{" "}
-                            {nextDir === "asc" ? "ascending" : "descending"}
-                          </span>
-                        </Link>
-                      ) : (
-                        flexRender(h.column.columnDef.header, h.getContext())
-                      )}
-                    </th>
-                  );
-                })}
-              </tr>
-            ))}
-          </thead>
-          <tbody>
-            {table.getRowModel().rows.map((row) => (
-              <tr key={row.id} className="border-b border-line last:border-0 hover:bg-canvas/60">
-                {row.getVisibleCells().map((cell) => (
-                  <td key={cell.id} className="px-4 py-3">
-                    {flexRender(cell.column.columnDef.cell, cell.getContext())}
-                  </td>
-                ))}
-              </tr>
-            ))}
-            {!rows.length ? (
-              <tr>
-                <td colSpan={columns.length} className="px-4 py-8 text-center text-muted">
-                  <Icon name="info" className="mr-2 inline size-4" />
-                  No patients match these filters.
-                </td>
-              </tr>
-            ) : null}
-          </tbody>
-        </table>
-      </div>
-      <nav aria-label="Pages" className="mt-4 flex flex-wrap items-center justify-between gap-4 text-sm">
-        <p>
-          {first}–{last} of{" "}
-          {totalIsExact ? total.toLocaleString("en-GB") : `more than ${total.toLocaleString("en-GB")}`} · page{" "}
-          {query.page}
-          {totalIsExact ? ` of ${pages.toLocaleString("en-GB")}` : ""}
-        </p>
-        <div className="flex gap-2">
-          {query.page > 1 ? (
-            <Link to={hrefWith(params, { page: query.page - 1 })} className={buttonClass("secondary")} rel="prev">
-              Previous page
-            </Link>
-          ) : null}
-          {query.page < pages ? (
-            <Link to={hrefWith(params, { page: query.page + 1 })} className={buttonClass("secondary")} rel="next">
-              Next page
-            </Link>
-          ) : null}
-        </div>
-      </nav>
+      <DataTable
+        data={rows}
+        columns={columns}
+        getRowId={(r) => r.id}
+        caption="Patients"
+        empty="No patients match these filters."
+        sort={{ sort: query.sort, dir: query.dir }}
+        paging={{ page: query.page, pageSize: query.size, total, totalIsExact, noun: ["patient", "patients"] }}
+        className="rounded-lg border border-line bg-white px-4 py-2"
+      />
     </>
   );
 }

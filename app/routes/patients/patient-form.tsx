@@ -1,14 +1,7 @@
-import {
-  getFormProps,
-  getInputProps,
-  getSelectProps,
-  getTextareaProps,
-  useForm,
-  type SubmissionResult,
-} from "@conform-to/react";
+import { getFormProps, getInputProps, getTextareaProps, useForm, type SubmissionResult } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { Form, Link, useNavigation } from "react-router";
-import { ErrorList, Field, SelectField } from "~/components/forms";
+import { ErrorList, FormField, FormSelect } from "~/components/forms";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Textarea } from "~/components/ui/input";
@@ -116,52 +109,24 @@ export function PatientForm({
       ) : null}
       <Card title="Identity">
         <div className="grid gap-4 sm:grid-cols-2">
-          <Field
-            label="First name"
-            errors={fields.firstName.errors}
-            inputProps={{ ...getInputProps(fields.firstName, { type: "text" }), autoComplete: "off" }}
-          />
-          <Field
-            label="Last name"
-            errors={fields.lastName.errors}
-            inputProps={{ ...getInputProps(fields.lastName, { type: "text" }), autoComplete: "off" }}
-          />
-          <Field
-            label="Date of birth"
-            errors={fields.dateOfBirth.errors}
-            inputProps={getInputProps(fields.dateOfBirth, { type: "date" })}
-          />
-          <SelectField label="Sex" errors={fields.sex.errors} selectProps={getSelectProps(fields.sex)}>
+          <FormField label="First name" field={fields.firstName} autoComplete="off" />
+          <FormField label="Last name" field={fields.lastName} autoComplete="off" />
+          <FormField label="Date of birth" field={fields.dateOfBirth} type="date" />
+          <FormSelect label="Sex" field={fields.sex}>
             <option value="unknown">Not recorded</option>
             <option value="female">Female</option>
             <option value="male">Male</option>
             <option value="other">Other</option>
-          </SelectField>
+          </FormSelect>
         </div>
       </Card>
       <Card title="Contact">
         <div className="grid gap-4 sm:grid-cols-2">
-          <Field
-            label="E-mail"
-            errors={fields.email.errors}
-            inputProps={getInputProps(fields.email, { type: "email" })}
-          />
-          <Field label="Phone" errors={fields.phone.errors} inputProps={getInputProps(fields.phone, { type: "tel" })} />
-          <Field
-            label="Address"
-            errors={fields.addressLine1.errors}
-            inputProps={getInputProps(fields.addressLine1, { type: "text" })}
-          />
-          <Field
-            label="Town or city"
-            errors={fields.city.errors}
-            inputProps={getInputProps(fields.city, { type: "text" })}
-          />
-          <Field
-            label="Postcode"
-            errors={fields.postcode.errors}
-            inputProps={getInputProps(fields.postcode, { type: "text" })}
-          />
+          <FormField label="E-mail" field={fields.email} type="email" />
+          <FormField label="Phone" field={fields.phone} type="tel" />
+          <FormField label="Address" field={fields.addressLine1} />
+          <FormField label="Town or city" field={fields.city} />
+          <FormField label="Postcode" field={fields.postcode} />
           <label className="flex items-center gap-2 self-end pb-2 text-sm font-semibold">
             <input {...getInputProps(fields.remindersByEmail, { type: "checkbox" })} className="size-4" />
             Send reminders by e-mail
@@ -170,26 +135,10 @@ export function PatientForm({
       </Card>
       <Card title="General practitioner (GP)">
         <div className="grid gap-4 sm:grid-cols-2">
-          <Field
-            label="GP's name"
-            errors={fields.gpName.errors}
-            inputProps={{ ...getInputProps(fields.gpName, { type: "text" }), autoComplete: "off" }}
-          />
-          <Field
-            label="GP practice"
-            errors={fields.gpPractice.errors}
-            inputProps={{ ...getInputProps(fields.gpPractice, { type: "text" }), autoComplete: "off" }}
-          />
-          <Field
-            label="GP practice address"
-            errors={fields.gpAddress.errors}
-            inputProps={{ ...getInputProps(fields.gpAddress, { type: "text" }), autoComplete: "off" }}
-          />
-          <Field
-            label="GP practice contact number"
-            errors={fields.gpPhone.errors}
-            inputProps={{ ...getInputProps(fields.gpPhone, { type: "tel" }), autoComplete: "off" }}
-          />
+          <FormField label="GP's name" field={fields.gpName} autoComplete="off" />
+          <FormField label="GP practice" field={fields.gpPractice} autoComplete="off" />
+          <FormField label="GP practice address" field={fields.gpAddress} autoComplete="off" />
+          <FormField label="GP practice contact number" field={fields.gpPhone} type="tel" autoComplete="off" />
         </div>
       </Card>
       {clinical ? (

@@ -1,5 +1,4 @@
 import { and, eq } from "drizzle-orm";
-import { data } from "react-router";
 import type { Route } from "./+types/prescription-pdf";
 import { patients, practiceSettings, prescriptions } from "~/db/schema";
 import { jurisdictionOf } from "~/lib/optics/jurisdiction";
@@ -11,6 +10,7 @@ import { loadLetterhead, PdfWriter } from "~/utils/pdf.server";
 import { formatDate } from "~/lib/format";
 import { isUuid } from "~/models/patients/patient-schema";
 import { prescriptionsOf, RX_CAUTIONS } from "~/models/prescriptions/prescriptions.server";
+import { notFound } from "~/utils/failure.server";
 
 /** Printed powers use the true minus sign (U+2212) and the multiplication sign before an axis. */
 const typeset = (s: string) => s.replace(/(^|[\s(/])-(?=\d)/g, "$1\u2212").replace(/ x (?=\d)/g, " \u00d7 ");
@@ -28,12 +28,12 @@ const rxParts = (r: SphCyl): [string, string, string] => {
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireUser(request);
   assertPatientAccess(user, params.patientId);
-  if (!isUuid(params.patientId) || !isUuid(params.prescriptionId)) throw data({ error: "Not found." }, { status: 404 });
+  if (!isUuid(params.patientId) || !isUuid(params.prescriptionId)) notFound();
   const [exists] = await db
     .select({ id: prescriptions.id })
     .from(prescriptions)
     .where(and(eq(prescriptions.id, params.prescriptionId), eq(prescriptions.patientId, params.patientId)));
-  if (!exists) throw data({ error: "Not found." }, { status: 404 });
+  if (!exists) notFound();
   const rx = (await prescriptionsOf(params.patientId)).find((p) => p.id === exists.id)!;
   const [patient] = await db.select().from(patients).where(eq(patients.id, params.patientId));
   const [settings] = await db

@@ -1,3 +1,4 @@
+import { createColumnHelper } from "@tanstack/react-table";
 import { useState } from "react";
 import {
   CartesianGrid,
@@ -12,6 +13,7 @@ import {
   YAxis,
   ZAxis,
 } from "recharts";
+import { DataTable } from "~/components/data-table";
 import { Card } from "~/components/ui/card";
 import { useHydrated } from "~/components/use-hydrated";
 import { StatusBadge } from "~/components/ui/notice";
@@ -38,6 +40,18 @@ type Progression = Partial<
 > | null;
 
 const COLOURS = { right: "#0d5c62", left: "#b45309" } as const;
+
+const vectorCol = createColumnHelper<Point>();
+const vector = (key: "M" | "J0" | "J45") =>
+  vectorCol.accessor(key, { header: key, meta: { className: "font-mono" }, cell: (c) => c.getValue().toFixed(2) });
+const vectorColumns = [
+  vectorCol.accessor("date", { header: "Date", cell: (c) => formatDate(c.getValue()) }),
+  vectorCol.accessor("kind", { header: "Kind" }),
+  vectorCol.accessor("eye", { header: "Eye" }),
+  vector("M"),
+  vector("J0"),
+  vector("J45"),
+];
 
 /** Refractions over time in power-vector space (M against date; J0/J45 scatter), with a table of the same data. */
 export function RefractionHistory({ points, progression }: { points: Point[]; progression: Progression }) {
@@ -205,43 +219,13 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
       {shown.length ? (
         <details className="mt-4 text-sm">
           <summary className="cursor-pointer font-semibold">The same data as a table</summary>
-          <table className="mt-2 min-w-full">
-            <caption className="sr-only">Refractions and their power vectors</caption>
-            <thead>
-              <tr className="text-left">
-                <th scope="col" className="p-1">
-                  Date
-                </th>
-                <th scope="col" className="p-1">
-                  Kind
-                </th>
-                <th scope="col" className="p-1">
-                  Eye
-                </th>
-                <th scope="col" className="p-1">
-                  M
-                </th>
-                <th scope="col" className="p-1">
-                  J0
-                </th>
-                <th scope="col" className="p-1">
-                  J45
-                </th>
-              </tr>
-            </thead>
-            <tbody>
-              {shown.map((p, i) => (
-                <tr key={i} className="border-t border-line">
-                  <td className="p-1">{formatDate(p.date)}</td>
-                  <td className="p-1">{p.kind}</td>
-                  <td className="p-1">{p.eye}</td>
-                  <td className="p-1 font-mono">{p.M.toFixed(2)}</td>
-                  <td className="p-1 font-mono">{p.J0.toFixed(2)}</td>
-                  <td className="p-1 font-mono">{p.J45.toFixed(2)}</td>
-                </tr>
-              ))}
-            </tbody>
-          </table>
+          <DataTable
+            data={shown}
+            columns={vectorColumns}
+            caption="Refractions and their power vectors"
+            empty="No refractions to show."
+            className="mt-2"
+          />
           <p className="mt-1 text-xs text-muted">
             Power vectors M, J0, J45: Thibos, Wheeler &amp; Horner, Optom Vis Sci 1997;74:367–375.
           </p>

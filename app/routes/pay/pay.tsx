@@ -1,7 +1,9 @@
+import { createColumnHelper } from "@tanstack/react-table";
 import { useEffect } from "react";
 import { data, Form, redirect, useNavigation, useRevalidator } from "react-router";
 import type { Route } from "./+types/pay";
 import { invoiceForToken } from "~/models/billing/pay.server";
+import { DataTable } from "~/components/data-table";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
@@ -76,6 +78,14 @@ export async function action({ request, params }: Route.ActionArgs) {
   }
 }
 
+type Line = Route.ComponentProps["loaderData"]["lines"][number];
+const col = createColumnHelper<Line>();
+const lineColumns = [
+  col.accessor("description", { header: "Description" }),
+  col.accessor("quantity", { header: "Qty", meta: { align: "right" } }),
+  col.accessor("amount", { header: "Amount", meta: { align: "right" } }),
+];
+
 export default function PayPage({ loaderData: d, actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
   const revalidator = useRevalidator();
@@ -145,25 +155,13 @@ export default function PayPage({ loaderData: d, actionData }: Route.ComponentPr
         ) : null}
       </div>
       <Card className="mt-6">
-        <table className="w-full text-left text-sm">
-          <caption className="sr-only">Invoice lines</caption>
-          <thead className="border-b border-line text-muted">
-            <tr>
-              <th className="py-2 pr-4 font-semibold">Description</th>
-              <th className="py-2 pr-4 text-right font-semibold">Qty</th>
-              <th className="py-2 text-right font-semibold">Amount</th>
-            </tr>
-          </thead>
-          <tbody className="divide-y divide-line">
-            {d.lines.map((l) => (
-              <tr key={l.id}>
-                <td className="py-2 pr-4">{l.description}</td>
-                <td className="py-2 pr-4 text-right tabular-nums">{l.quantity}</td>
-                <td className="py-2 text-right tabular-nums">{l.amount}</td>
-              </tr>
-            ))}
-          </tbody>
-        </table>
+        <DataTable
+          data={d.lines}
+          columns={lineColumns}
+          getRowId={(l) => l.id}
+          caption="Invoice lines"
+          empty="This invoice has no lines."
+        />
         <dl className="mt-4 ml-auto grid max-w-xs grid-cols-2 gap-y-1 text-sm">
           {d.invoice.discount ? (
             <>

@@ -1,5 +1,4 @@
 import { and, eq } from "drizzle-orm";
-import { data } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/documents";
 import { requirePortalPatient } from "~/models/portal/portal.server";
@@ -8,8 +7,7 @@ import { billingPdf } from "~/models/billing/documents.server";
 import { invoiceDetail, invoiceLabel } from "~/models/billing/invoices.server";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
-
-const notFound = () => data({ error: "Not found." }, { status: 404 });
+import { notFound } from "~/utils/failure.server";
 
 /**
  * The patient's own invoice PDF (/portal/invoices/:id/invoice.pdf) or receipt PDF
@@ -19,7 +17,7 @@ const notFound = () => data({ error: "Not found." }, { status: 404 });
 export async function loader({ request, params }: Route.LoaderArgs) {
   const { user, patientId } = await requirePortalPatient(request);
   const id = params.id ?? "";
-  if (!z.uuid().safeParse(id).success) throw notFound();
+  if (!z.uuid().safeParse(id).success) notFound();
   let invoiceId: string;
   let paymentId: string | undefined;
   const kind = new URL(request.url).pathname.startsWith("/portal/payments/") ? "payments" : "invoices";
@@ -29,14 +27,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       .from(payments)
       .innerJoin(invoices, eq(invoices.id, payments.invoiceId))
       .where(and(eq(payments.id, id), eq(invoices.patientId, patientId), eq(payments.status, "succeeded")));
-    if (!p) throw notFound();
+    if (!p) notFound();
     invoiceId = p.invoiceId;
     paymentId = id;
   } else {
     invoiceId = id;
   }
   const d = await invoiceDetail(invoiceId);
-  if (!d || d.patient.id !== patientId || d.invoice.status === "draft") throw notFound();
+  if (!d || d.patient.id !== patientId || d.invoice.status === "draft") notFound();
   const pdf = await billingPdf(d, paymentId ? "receipt" : "invoice", paymentId);
   await audit({
     action: paymentId ? "portal.receipt_pdf" : "portal.invoice_pdf",

@@ -8,23 +8,18 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { patients } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
-import { requireRole } from "~/utils/auth.server";
+import { requirePortalPatient } from "~/models/portal/portal.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
+import { notFound } from "~/utils/failure.server";
 
 const schema = z.object({
   remindersByEmail: z.literal("on").optional(),
   recallsByEmail: z.literal("on").optional(),
 });
 
-async function requirePatient(request: Request) {
-  const user = await requireRole(request, ["patient"]);
-  if (!user.patientId) throw data({ error: "This account is not linked to a patient record." }, { status: 404 });
-  return { user, patientId: user.patientId };
-}
-
 export async function loader({ request }: Route.LoaderArgs) {
-  const { patientId } = await requirePatient(request);
+  const { patientId } = await requirePortalPatient(request);
   const [row] = await db
     .select({
       remindersByEmail: patients.remindersByEmail,
@@ -33,12 +28,12 @@ export async function loader({ request }: Route.LoaderArgs) {
     })
     .from(patients)
     .where(eq(patients.id, patientId));
-  if (!row) throw data({ error: "Not found." }, { status: 404 });
+  if (!row) notFound();
   return row;
 }
 
 export async function action({ request }: Route.ActionArgs) {
-  const { user, patientId } = await requirePatient(request);
+  const { user, patientId } = await requirePortalPatient(request);
   const submission = parseWithZod(await request.formData(), { schema });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
   const choice = {

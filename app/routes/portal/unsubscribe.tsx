@@ -8,6 +8,7 @@ import { patients } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 import { verifyUnsubscribe, type UnsubscribeList } from "~/utils/mail.server";
+import { notFound } from "~/utils/failure.server";
 
 const WHAT: Record<UnsubscribeList, { title: string; words: string; rest: string }> = {
   reminders: {
@@ -30,7 +31,7 @@ const WHAT: Record<UnsubscribeList, { title: string; words: string; rest: string
  */
 export async function loader({ params }: Route.LoaderArgs) {
   const t = verifyUnsubscribe(params.token);
-  if (!t) throw data({ error: "This unsubscribe link is not valid." }, { status: 404 });
+  if (!t) notFound("This unsubscribe link is not valid.");
   const [p] = await db
     .select({ reminders: patients.remindersByEmail, recalls: patients.recallsByEmail })
     .from(patients)

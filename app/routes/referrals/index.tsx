@@ -1,15 +1,9 @@
-import {
-  createColumnHelper,
-  flexRender,
-  getCoreRowModel,
-  getSortedRowModel,
-  useReactTable,
-  type SortingState,
-} from "@tanstack/react-table";
-import { useMemo, useState } from "react";
-import { Form, Link, useFetcher, useSearchParams } from "react-router";
+import { createColumnHelper } from "@tanstack/react-table";
+import { Form, Link, useFetcher } from "react-router";
+import { z } from "zod";
 import type { Route } from "./+types/index";
-import { trackingRows } from "~/models/referrals/referrals.server";
+import { trackingPage, TRACKING_SORTS } from "~/models/referrals/referrals.server";
+import { DataTable } from "~/components/data-table";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
@@ -20,15 +14,26 @@ import { STATUS_LABEL, STATUS_TONE, URGENCY_LABEL, type DisplayStatus } from "~/
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
 
 const FILTERS: DisplayStatus[] = ["draft", "queued", "sent", "acknowledged", "seen", "replied", "overdue", "withdrawn"];
+const PAGE_SIZE = 25;
+
+const querySchema = z.object({
+  status: z.enum(FILTERS).nullable().catch(null),
+  sort: z.enum(TRACKING_SORTS).nullable().catch(null),
+  dir: z.enum(["asc", "desc"]).catch("asc"),
+  page: z.coerce.number().int().min(1).max(100_000).catch(1),
+});
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
-  const rows = await trackingRows();
-  const counts = Object.fromEntries(FILTERS.map((f) => [f, rows.filter((r) => r.status === f).length])) as Record<
-    DisplayStatus,
-    number
-  >;
-  return { rows, counts, canCompose: user.role !== "receptionist" };
+  const params = new URL(request.url).searchParams;
+  const query = querySchema.parse({
+    status: params.get("status"),
+    sort: params.get("sort"),
+    dir: params.get("dir") ?? undefined,
+    page: params.get("page") ?? undefined,
+  });
+  const { rows, total, all, counts } = await trackingPage({ ...query, pageSize: PAGE_SIZE });
+  return { query, rows, total, all, counts, canCompose: user.role !== "receptionist" };
 }
 
 type Row = Route.ComponentProps["loaderData"]["rows"][number];
@@ -56,64 +61,49 @@ function ChaseButton({ row }: { row: Row }) {
   );
 }
 
+const columns = [
+  col.accessor("reference", {
+    header: "Referral",
+    cell: (c) => (
+      <Link
+        to={`/referrals/${c.row.original.id}`}
+        className="font-semibold text-accent-700 underline underline-offset-4"
+      >
+        {c.getValue()}
+      </Link>
+    ),
+  }),
+  col.accessor("patient", { header: "Patient" }),
+  col.accessor("recipient", { header: "Recipient" }),
+  col.accessor("urgency", { header: "Urgency", cell: (c) => URGENCY_LABEL[c.getValue()] }),
+  col.accessor("status", {
+    header: "Status",
+    cell: (c) => (
+      <span className="flex flex-col items-start gap-1">
+        <StatusBadge tone={STATUS_TONE[c.getValue()]}>{STATUS_LABEL[c.getValue()]}</StatusBadge>
+        {c.row.original.delivery === "failed" ? (
+          <span className="text-xs font-semibold text-red-800">E-mail failed: {c.row.original.deliveryError}</span>
+        ) : null}
+        {c.row.original.delivery === "queued" && c.row.original.deliveryError ? (
+          <span className="text-xs text-muted">Retrying: {c.row.original.deliveryError}</span>
+        ) : null}
+      </span>
+    ),
+  }),
+  col.accessor("sentOn", { header: "Sent", cell: (c) => c.getValue() ?? "—" }),
+  col.accessor("dueOn", { header: "To be seen by", cell: (c) => c.getValue() ?? "—" }),
+  col.accessor("appointmentOn", { header: "Appointment", cell: (c) => c.getValue() ?? "—" }),
+  col.display({
+    id: "actions",
+    header: () => <span className="sr-only">Actions</span>,
+    cell: (c) => <ChaseButton row={c.row.original} />,
+  }),
+];
+
 export default function Referrals({ loaderData }: Route.ComponentProps) {
-  const [params] = useSearchParams();
-  const filter = params.get("status") as DisplayStatus | null;
-  const [sorting, setSorting] = useState<SortingState>([]);
-  const rows = useMemo(
-    () => (filter && FILTERS.includes(filter) ? loaderData.rows.filter((r) => r.status === filter) : loaderData.rows),
-    [loaderData.rows, filter],
-  );
-  const columns = useMemo(
-    () => [
-      col.accessor("reference", {
-        header: "Referral",
-        cell: (c) => (
-          <Link
-            to={`/referrals/${c.row.original.id}`}
-            className="font-semibold text-accent-700 underline underline-offset-4"
-          >
-            {c.getValue()}
-          </Link>
-        ),
-      }),
-      col.accessor("patient", { header: "Patient" }),
-      col.accessor("recipient", { header: "Recipient" }),
-      col.accessor("urgency", { header: "Urgency", cell: (c) => URGENCY_LABEL[c.getValue()] }),
-      col.accessor("status", {
-        header: "Status",
-        cell: (c) => (
-          <span className="flex flex-col items-start gap-1">
-            <StatusBadge tone={STATUS_TONE[c.getValue()]}>{STATUS_LABEL[c.getValue()]}</StatusBadge>
-            {c.row.original.delivery === "failed" ? (
-              <span className="text-xs font-semibold text-red-800">E-mail failed: {c.row.original.deliveryError}</span>
-            ) : null}
-            {c.row.original.delivery === "queued" && c.row.original.deliveryError ? (
-              <span className="text-xs text-muted">Retrying: {c.row.original.deliveryError}</span>
-            ) : null}
-          </span>
-        ),
-      }),
-      col.accessor("sentOn", { header: "Sent", cell: (c) => c.getValue() ?? "—" }),
-      col.accessor("dueOn", { header: "To be seen by", cell: (c) => c.getValue() ?? "—" }),
-      col.accessor("appointmentOn", { header: "Appointment", cell: (c) => c.getValue() ?? "—" }),
-      col.display({
-        id: "actions",
-        header: () => <span className="sr-only">Actions</span>,
-        cell: (c) => <ChaseButton row={c.row.original} />,
-      }),
-    ],
-    [],
-  );
-  const table = useReactTable({
-    data: rows,
-    columns,
-    state: { sorting },
-    onSortingChange: setSorting,
-    getCoreRowModel: getCoreRowModel(),
-    getSortedRowModel: getSortedRowModel(),
-  });
-  const overdue = loaderData.counts.overdue;
+  const { query } = loaderData;
+  const filter = query.status;
+  const overdue = loaderData.counts.overdue ?? 0;
   return (
     <>
       <PageHeader
@@ -140,6 +130,12 @@ export default function Referrals({ loaderData }: Route.ComponentProps) {
       ) : null}
       <Card>
         <Form method="get" className="mb-4 flex flex-wrap items-end gap-3">
+          {query.sort ? (
+            <>
+              <input type="hidden" name="sort" value={query.sort} />
+              <input type="hidden" name="dir" value={query.dir} />
+            </>
+          ) : null}
           <div>
             <label htmlFor="status-filter" className="mb-1 block text-sm font-semibold">
               Show
@@ -151,10 +147,10 @@ export default function Referrals({ loaderData }: Route.ComponentProps) {
               className="w-64"
               onChange={(e) => e.currentTarget.form?.requestSubmit()}
             >
-              <option value="">All referrals ({loaderData.rows.length})</option>
+              <option value="">All referrals ({loaderData.all})</option>
               {FILTERS.map((f) => (
                 <option key={f} value={f}>
-                  {STATUS_LABEL[f]} ({loaderData.counts[f]})
+                  {STATUS_LABEL[f]} ({loaderData.counts[f] ?? 0})
                 </option>
               ))}
             </Select>
@@ -165,56 +161,15 @@ export default function Referrals({ loaderData }: Route.ComponentProps) {
             </Button>
           </noscript>
         </Form>
-        {rows.length === 0 ? (
-          <p className="py-6 text-muted">{filter ? "No referral has this status." : "No referrals yet."}</p>
-        ) : (
-          <div className="overflow-x-auto">
-            <table className="w-full text-left text-sm">
-              <caption className="sr-only">Referrals{filter ? `: ${STATUS_LABEL[filter]}` : ""}</caption>
-              <thead className="border-b border-line text-muted">
-                {table.getHeaderGroups().map((hg) => (
-                  <tr key={hg.id}>
-                    {hg.headers.map((h) => {
-                      const sorted = h.column.getIsSorted();
-                      return (
-                        <th
-                          key={h.id}
-                          scope="col"
-                          className="py-2 pr-4 font-semibold"
-                          aria-sort={sorted === "asc" ? "ascending" : sorted === "desc" ? "descending" : undefined}
-                        >
-                          {h.column.getCanSort() && h.column.id !== "actions" ? (
-                            <button
-                              type="button"
-                              onClick={h.column.getToggleSortingHandler()}
-                              className="font-semibold hover:text-ink"
-                            >
-                              {flexRender(h.column.columnDef.header, h.getContext())}
-                              <span aria-hidden="true">{sorted === "asc" ? " ▲" : sorted === "desc" ? " ▼" : ""}</span>
-                            </button>
-                          ) : (
-                            flexRender(h.column.columnDef.header, h.getContext())
-                          )}
-                        </th>
-                      );
-                    })}
-                  </tr>
-                ))}
-              </thead>
-              <tbody className="divide-y divide-line">
-                {table.getRowModel().rows.map((row) => (
-                  <tr key={row.id}>
-                    {row.getVisibleCells().map((cell) => (
-                      <td key={cell.id} className="py-3 pr-4 align-top">
-                        {flexRender(cell.column.columnDef.cell, cell.getContext())}
-                      </td>
-                    ))}
-                  </tr>
-                ))}
-              </tbody>
-            </table>
-          </div>
-        )}
+        <DataTable
+          data={loaderData.rows}
+          columns={columns}
+          getRowId={(r) => r.id}
+          caption={`Referrals${filter ? `: ${STATUS_LABEL[filter]}` : ""}`}
+          empty={filter ? "No referral has this status." : "No referrals yet."}
+          sort={{ sort: query.sort, dir: query.dir }}
+          paging={{ page: query.page, pageSize: PAGE_SIZE, total: loaderData.total, noun: ["referral", "referrals"] }}
+        />
       </Card>
     </>
   );

@@ -26,6 +26,7 @@ import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { formatDate } from "~/lib/format";
+import { notFound } from "~/utils/failure.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, CLINICAL_ROLES);
@@ -45,7 +46,7 @@ export async function loader({ request }: Route.LoaderArgs) {
       })),
     };
   }
-  if (!isUuid(examId)) throw data({ error: "Not found." }, { status: 404 });
+  if (!isUuid(examId)) notFound();
   const exam = await referableExam(examId);
   const [patient] = await db
     .select({

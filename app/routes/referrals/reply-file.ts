@@ -1,5 +1,4 @@
 import { and, eq } from "drizzle-orm";
-import { data } from "react-router";
 import type { Route } from "./+types/reply-file";
 import { isUuid } from "~/models/referrals/referrals.server";
 import { referralReplies } from "~/db/schema";
@@ -7,18 +6,19 @@ import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 import { db } from "~/utils/db.server";
 import { openStored } from "~/utils/storage-response.server";
+import { notFound } from "~/utils/failure.server";
 
 /** A consult letter uploaded by the recipient, for the practice's clinicians. */
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, CLINICAL_ROLES);
-  if (!isUuid(params.referralId) || !isUuid(params.replyId)) throw data({ error: "Not found." }, { status: 404 });
+  if (!isUuid(params.referralId) || !isUuid(params.replyId)) notFound();
   const [reply] = await db
     .select()
     .from(referralReplies)
     .where(and(eq(referralReplies.id, params.replyId), eq(referralReplies.referralId, params.referralId)));
-  if (!reply?.fileKey || !reply.fileType) throw data({ error: "Not found." }, { status: 404 });
+  if (!reply?.fileKey || !reply.fileType) notFound();
   const file = await openStored(reply.fileKey);
-  if (!file) throw data({ error: "The file is missing from storage." }, { status: 404 });
+  if (!file) notFound("The file is missing from storage.");
   await audit({
     action: "referral.reply_file_viewed",
     actorUserId: user.id,

@@ -1,8 +1,10 @@
-import { desc, eq } from "drizzle-orm";
+import { createColumnHelper } from "@tanstack/react-table";
+import { count, desc, eq } from "drizzle-orm";
 import { Form } from "react-router";
 import type { Route } from "./+types/messages";
 import { ScheduleNav } from "./schedule-nav";
 import { usePolling } from "./day-ui";
+import { DataTable } from "~/components/data-table";
 import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
@@ -15,14 +17,25 @@ import { db } from "~/utils/db.server";
 import { practiceSchedule } from "~/models/schedule/schedule.server";
 
 const STATUSES = ["queued", "sent", "skipped", "failed"] as const;
+const PAGE_SIZE = 25;
+const pageOf = (raw: string | null) => Math.min(100_000, Math.max(1, Math.trunc(Number(raw)) || 1));
 type MsgStatus = (typeof STATUSES)[number];
 
 /** What the practice has e-mailed patients (appointment messages and recalls), newest first. */
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, STAFF_ROLES);
   const { timeZone } = await practiceSchedule();
-  const status = new URL(request.url).searchParams.get("status");
+  const params = new URL(request.url).searchParams;
+  const status = params.get("status");
+  const apptPage = pageOf(params.get("apage"));
+  const recallPage = pageOf(params.get("rpage"));
   const filter = (STATUSES as readonly string[]).includes(status ?? "") ? (status as MsgStatus) : null;
+  const apptWhere = filter ? eq(appointmentMessages.status, filter) : undefined;
+  const recallWhere = filter ? eq(recallMessages.status, filter) : undefined;
+  const [[apptCount], [recallCount]] = await Promise.all([
+    db.select({ n: count() }).from(appointmentMessages).where(apptWhere),
+    db.select({ n: count() }).from(recallMessages).where(recallWhere),
+  ]);
   const appt = await db
     .select({
       id: appointmentMessages.id,
@@ -43,9 +56,10 @@ export async function loader({ request }: Route.LoaderArgs) {
     .from(appointmentMessages)
     .innerJoin(appointments, eq(appointments.id, appointmentMessages.appointmentId))
     .innerJoin(patients, eq(patients.id, appointments.patientId))
-    .where(filter ? eq(appointmentMessages.status, filter) : undefined)
-    .orderBy(desc(appointmentMessages.createdAt))
-    .limit(200);
+    .where(apptWhere)
+    .orderBy(desc(appointmentMessages.createdAt), desc(appointmentMessages.id))
+    .limit(PAGE_SIZE)
+    .offset((apptPage - 1) * PAGE_SIZE);
   const recalls = await db
     .select({
       id: recallMessages.id,
@@ -62,11 +76,14 @@ export async function loader({ request }: Route.LoaderArgs) {
     })
     .from(recallMessages)
     .innerJoin(patients, eq(patients.id, recallMessages.patientId))
-    .where(filter ? eq(recallMessages.status, filter) : undefined)
-    .orderBy(desc(recallMessages.createdAt))
-    .limit(200);
+    .where(recallWhere)
+    .orderBy(desc(recallMessages.createdAt), desc(recallMessages.id))
+    .limit(PAGE_SIZE)
+    .offset((recallPage - 1) * PAGE_SIZE);
   return {
     filter,
+    apptPaging: { page: apptPage, pageSize: PAGE_SIZE, total: apptCount?.n ?? 0 },
+    recallPaging: { page: recallPage, pageSize: PAGE_SIZE, total: recallCount?.n ?? 0 },
     appointmentMessages: appt.map((m) => ({
       id: m.id,
       kind: m.kind,
@@ -105,6 +122,58 @@ const KIND = {
   cancellation: "Cancellation",
 } as const;
 
+type LoaderData = Route.ComponentProps["loaderData"];
+const apptCol = createColumnHelper<LoaderData["appointmentMessages"][number]>();
+const apptColumns = [
+  apptCol.accessor("kind", { header: "E-mail", cell: (c) => KIND[c.getValue()], meta: { className: "font-semibold" } }),
+  apptCol.accessor("patient", {
+    header: "Patient",
+    cell: ({ row: { original: m } }) => (
+      <>
+        {m.patient}
+        <span className="block text-muted">{m.to}</span>
+      </>
+    ),
+  }),
+  apptCol.accessor("appointment", {
+    header: "Appointment",
+    cell: ({ row: { original: m } }) => (
+      <a href={`/schedule/appointments/${m.appointmentId}`} className="text-accent-700 underline underline-offset-4">
+        {m.appointment}
+      </a>
+    ),
+  }),
+  apptCol.accessor("status", {
+    header: "Status",
+    cell: (c) => <StatusBadge tone={TONE[c.getValue()]}>{LABEL[c.getValue()]}</StatusBadge>,
+  }),
+  apptCol.accessor("when", { header: "Sent or due" }),
+  apptCol.accessor("note", {
+    header: "Note",
+    cell: ({ row: { original: m } }) => `${m.note}${m.attempts > 1 ? ` (${m.attempts} attempts)` : ""}`,
+  }),
+];
+
+const recallCol = createColumnHelper<LoaderData["recalls"][number]>();
+const recallColumns = [
+  recallCol.accessor("patient", {
+    header: "Patient",
+    cell: ({ row: { original: r } }) => (
+      <>
+        {r.patient}
+        <span className="block text-muted">{r.to}</span>
+      </>
+    ),
+  }),
+  recallCol.accessor("dueDate", { header: "Due" }),
+  recallCol.accessor("status", {
+    header: "Status",
+    cell: (c) => <StatusBadge tone={TONE[c.getValue()]}>{LABEL[c.getValue()]}</StatusBadge>,
+  }),
+  recallCol.accessor("when", { header: "When" }),
+  recallCol.accessor("note", { header: "Note" }),
+];
+
 export default function Messages({ loaderData }: Route.ComponentProps) {
   const { appointmentMessages: appt, recalls, filter } = loaderData;
   usePolling(10);
@@ -134,80 +203,26 @@ export default function Messages({ loaderData }: Route.ComponentProps) {
         </Button>
       </Form>
       <Card title="Appointment e-mails" className="mb-6">
-        <div className="overflow-x-auto">
-          <table className="w-full text-left text-sm">
-            <thead className="border-b border-line text-muted">
-              <tr>
-                <th className="py-2 pr-4 font-semibold">E-mail</th>
-                <th className="py-2 pr-4 font-semibold">Patient</th>
-                <th className="py-2 pr-4 font-semibold">Appointment</th>
-                <th className="py-2 pr-4 font-semibold">Status</th>
-                <th className="py-2 pr-4 font-semibold">Sent or due</th>
-                <th className="py-2 font-semibold">Note</th>
-              </tr>
-            </thead>
-            <tbody className="divide-y divide-line">
-              {appt.map((m) => (
-                <tr key={m.id}>
-                  <td className="py-2 pr-4 font-semibold">{KIND[m.kind]}</td>
-                  <td className="py-2 pr-4">
-                    {m.patient}
-                    <span className="block text-muted">{m.to}</span>
-                  </td>
-                  <td className="py-2 pr-4">
-                    <a
-                      href={`/schedule/appointments/${m.appointmentId}`}
-                      className="text-accent-700 underline underline-offset-4"
-                    >
-                      {m.appointment}
-                    </a>
-                  </td>
-                  <td className="py-2 pr-4">
-                    <StatusBadge tone={TONE[m.status]}>{LABEL[m.status]}</StatusBadge>
-                  </td>
-                  <td className="py-2 pr-4">{m.when}</td>
-                  <td className="py-2">
-                    {m.note}
-                    {m.attempts > 1 ? ` (${m.attempts} attempts)` : ""}
-                  </td>
-                </tr>
-              ))}
-            </tbody>
-          </table>
-          {appt.length === 0 ? <p className="py-3 text-muted">Nothing yet.</p> : null}
-        </div>
+        <DataTable
+          data={appt}
+          columns={apptColumns}
+          getRowId={(m) => m.id}
+          caption="Appointment e-mails, newest first"
+          empty="Nothing yet."
+          paging={{ ...loaderData.apptPaging, noun: ["e-mail", "e-mails"] }}
+          params={{ page: "apage" }}
+        />
       </Card>
       <Card title="Recall e-mails">
-        <div className="overflow-x-auto">
-          <table className="w-full text-left text-sm">
-            <thead className="border-b border-line text-muted">
-              <tr>
-                <th className="py-2 pr-4 font-semibold">Patient</th>
-                <th className="py-2 pr-4 font-semibold">Due</th>
-                <th className="py-2 pr-4 font-semibold">Status</th>
-                <th className="py-2 pr-4 font-semibold">When</th>
-                <th className="py-2 font-semibold">Note</th>
-              </tr>
-            </thead>
-            <tbody className="divide-y divide-line">
-              {recalls.map((r) => (
-                <tr key={r.id}>
-                  <td className="py-2 pr-4">
-                    {r.patient}
-                    <span className="block text-muted">{r.to}</span>
-                  </td>
-                  <td className="py-2 pr-4">{r.dueDate}</td>
-                  <td className="py-2 pr-4">
-                    <StatusBadge tone={TONE[r.status]}>{LABEL[r.status]}</StatusBadge>
-                  </td>
-                  <td className="py-2 pr-4">{r.when}</td>
-                  <td className="py-2">{r.note}</td>
-                </tr>
-              ))}
-            </tbody>
-          </table>
-          {recalls.length === 0 ? <p className="py-3 text-muted">No recalls sent yet.</p> : null}
-        </div>
+        <DataTable
+          data={recalls}
+          columns={recallColumns}
+          getRowId={(r) => r.id}
+          caption="Recall e-mails, newest first"
+          empty="No recalls sent yet."
+          paging={{ ...loaderData.recallPaging, noun: ["e-mail", "e-mails"] }}
+          params={{ page: "rpage" }}
+        />
       </Card>
     </>
   );

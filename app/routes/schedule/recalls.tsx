@@ -3,12 +3,13 @@ import { data, Form, Link, useFetcher, useSearchParams } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/recalls";
 import { formatDob } from "./booking-form";
+import { RecallTable } from "./recall-table";
 import { ScheduleNav } from "./schedule-nav";
 import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
-import { Notice, StatusBadge } from "~/components/ui/notice";
+import { Notice } from "~/components/ui/notice";
 import { addDays, localParts } from "~/lib/scheduling/time";
 import { practiceSchedule } from "~/models/schedule/schedule-settings.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
@@ -139,14 +140,12 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
     setParams(next, { preventScrollReset: true, replace: true });
   };
   const [selected, setSelected] = useState<Set<string>>(new Set());
-  const emailable = rows.filter((r) => r.email && r.recallsByEmail);
   // A new list (filter changed, batch sent) starts with nothing selected.
   const [rowsSeen, setRowsSeen] = useState(rows);
   if (rows !== rowsSeen) {
     setRowsSeen(rows);
     setSelected(new Set());
   }
-  const allChecked = emailable.length > 0 && emailable.every((r) => selected.has(r.patientId));
   const batch = send.data?.batch;
   return (
     <>
@@ -259,128 +258,13 @@ export default function Recalls({ loaderData }: Route.ComponentProps) {
         <Card
           title={`${rows.length} patient${rows.length === 1 ? "" : "s"} due ${filters.dueFrom ? `from ${formatDob(filters.dueFrom)} ` : ""}by ${formatDob(dueBy)}`}
         >
-          {rows.length === 0 ? (
-            <p className="text-muted">Nobody is due in this range.</p>
-          ) : (
-            <div className="overflow-x-auto">
-              <table className="w-full text-left text-sm">
-                <thead className="border-b border-line text-muted">
-                  <tr>
-                    <th className="py-2 pr-3">
-                      <label className="flex items-center gap-2 font-semibold">
-                        <input
-                          type="checkbox"
-                          className="size-4 accent-accent-700"
-                          checked={allChecked}
-                          onChange={(e) =>
-                            setSelected(e.target.checked ? new Set(emailable.map((r) => r.patientId)) : new Set())
-                          }
-                        />
-                        <span className="sr-only">Choose all who can be e-mailed</span>
-                      </label>
-                    </th>
-                    <th className="py-2 pr-4 font-semibold">Patient</th>
-                    <th className="py-2 pr-4 font-semibold">Last routine exam</th>
-                    <th className="py-2 pr-4 font-semibold">Due</th>
-                    <th className="py-2 font-semibold">Recall</th>
-                  </tr>
-                </thead>
-                <tbody className="divide-y divide-line">
-                  {rows.map((r) => {
-                    const canEmail = Boolean(r.email && r.recallsByEmail);
-                    return (
-                      <tr key={r.patientId}>
-                        <td className="py-2 pr-3">
-                          <input
-                            type="checkbox"
-                            name="patientId"
-                            value={r.patientId}
-                            disabled={!canEmail}
-                            checked={selected.has(r.patientId)}
-                            onChange={(e) =>
-                              setSelected((s) => {
-                                const next = new Set(s);
-                                if (e.target.checked) next.add(r.patientId);
-                                else next.delete(r.patientId);
-                                return next;
-                              })
-                            }
-                            aria-label={`Choose ${r.name}`}
-                            className="size-4 accent-accent-700"
-                          />
-                        </td>
-                        <td className="py-2 pr-4">
-                          <span className="font-semibold">{r.name}</span>
-                          <span className="block text-muted">
-                            born {formatDob(r.dateOfBirth)} · age {r.age}
-                          </span>
-                        </td>
-                        <td className="py-2 pr-4">
-                          {formatDob(r.lastVisit)}
-                          <span className="block text-muted">{r.lastVisitType}</span>
-                          {loaderData.multiSite ? (
-                            <span className="block text-muted">Recall to {r.siteName}</span>
-                          ) : null}
-                        </td>
-                        <td className="py-2 pr-4">
-                          <span className="font-semibold">{formatDob(r.dueDate)}</span>
-                          {r.dueDate < today ? (
-                            <span className="ml-2">
-                              <StatusBadge tone="warning">Overdue</StatusBadge>
-                            </span>
-                          ) : null}
-                          <span className="block text-muted">
-                            {r.months} months ({r.rule})
-                          </span>
-                        </td>
-                        <td className="py-2">
-                          {!canEmail ? (
-                            <StatusBadge tone="warning">
-                              {r.email ? "Opted out of recall e-mails" : "No e-mail address"}
-                            </StatusBadge>
-                          ) : r.lastRecall ? (
-                            <>
-                              <StatusBadge
-                                tone={
-                                  r.lastRecall.status === "sent"
-                                    ? "success"
-                                    : r.lastRecall.status === "failed"
-                                      ? "error"
-                                      : "info"
-                                }
-                              >
-                                {r.lastRecall.status === "sent"
-                                  ? "Recall sent"
-                                  : r.lastRecall.status === "failed"
-                                    ? "Recall failed"
-                                    : r.lastRecall.status === "skipped"
-                                      ? "Recall not sent"
-                                      : "Recall waiting"}
-                              </StatusBadge>
-                              <span className="block text-muted">
-                                {r.lastRecall.status === "skipped" && r.lastRecall.skippedReason
-                                  ? `${r.lastRecall.skippedReason} · `
-                                  : ""}
-                                {new Date(r.lastRecall.at).toLocaleDateString("en-GB", {
-                                  day: "numeric",
-                                  month: "short",
-                                  year: "numeric",
-                                })}
-                              </span>
-                            </>
-                          ) : r.nextBooked ? (
-                            <span className="text-muted">Booked {r.nextBooked}</span>
-                          ) : (
-                            <span className="text-muted">Not yet recalled</span>
-                          )}
-                        </td>
-                      </tr>
-                    );
-                  })}
-                </tbody>
-              </table>
-            </div>
-          )}
+          <RecallTable
+            rows={rows}
+            selected={selected}
+            setSelected={setSelected}
+            multiSite={loaderData.multiSite}
+            today={today}
+          />
         </Card>
         {/* Stays at the bottom of the window while a long list scrolls under it. */}
         <div

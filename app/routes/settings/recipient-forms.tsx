@@ -1,9 +1,9 @@
 /** The recipient and time-frame forms of the referral-recipients settings page. */
-import { getFormProps, getInputProps, getSelectProps, getTextareaProps, useForm } from "@conform-to/react";
+import { getFormProps, getTextareaProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { Form, Link, useNavigation } from "react-router";
 import type { Route } from "./+types/recipients";
-import { ErrorList, Field, SelectField } from "~/components/forms";
+import { ErrorList, FormField, FormSelect } from "~/components/forms";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Textarea } from "~/components/ui/input";
@@ -50,60 +50,26 @@ export function RecipientForm({
             </Notice>
           </div>
         ) : null}
-        <Field
-          label="Name"
-          hint="The ophthalmologist, or the clinic's referral desk."
-          errors={fields.name.errors}
-          inputProps={getInputProps(fields.name, { type: "text" })}
-        />
-        <Field
-          label="Clinic or hospital"
-          errors={fields.clinic.errors}
-          inputProps={getInputProps(fields.clinic, { type: "text" })}
-        />
-        <Field
+        <FormField label="Name" hint="The ophthalmologist, or the clinic's referral desk." field={fields.name} />
+        <FormField label="Clinic or hospital" field={fields.clinic} />
+        <FormField
           label="Specialty"
           hint="For example glaucoma, medical retina, neuro-ophthalmology."
-          errors={fields.specialty.errors}
-          inputProps={getInputProps(fields.specialty, { type: "text" })}
+          field={fields.specialty}
         />
-        <SelectField
-          label="Prefers to receive letters by"
-          errors={fields.preferredDelivery.errors}
-          selectProps={getSelectProps(fields.preferredDelivery)}
-        >
+        <FormSelect label="Prefers to receive letters by" field={fields.preferredDelivery}>
           {Object.entries(DELIVERY).map(([k, label]) => (
             <option key={k} value={k}>
               {label}
             </option>
           ))}
-        </SelectField>
-        <Field
-          label="E-mail"
-          errors={fields.email.errors}
-          inputProps={getInputProps(fields.email, { type: "email" })}
-        />
-        <Field label="Phone" errors={fields.phone.errors} inputProps={getInputProps(fields.phone, { type: "tel" })} />
-        <Field
-          label="Address"
-          errors={fields.addressLine1.errors}
-          inputProps={getInputProps(fields.addressLine1, { type: "text" })}
-        />
-        <Field
-          label="Address (second line)"
-          errors={fields.addressLine2.errors}
-          inputProps={getInputProps(fields.addressLine2, { type: "text" })}
-        />
-        <Field
-          label="Town or city"
-          errors={fields.city.errors}
-          inputProps={getInputProps(fields.city, { type: "text" })}
-        />
-        <Field
-          label="Postcode"
-          errors={fields.postcode.errors}
-          inputProps={getInputProps(fields.postcode, { type: "text" })}
-        />
+        </FormSelect>
+        <FormField label="E-mail" field={fields.email} type="email" />
+        <FormField label="Phone" field={fields.phone} type="tel" />
+        <FormField label="Address" field={fields.addressLine1} />
+        <FormField label="Address (second line)" field={fields.addressLine2} />
+        <FormField label="Town or city" field={fields.city} />
+        <FormField label="Postcode" field={fields.postcode} />
         <div className="sm:col-span-2">
           <label htmlFor={fields.notes.id} className="mb-1 block text-sm font-semibold">
             Notes for the team
@@ -154,12 +120,7 @@ export function TimeFrames({
       <Form method="post" {...getFormProps(form)} className="grid gap-4 sm:grid-cols-4">
         <input type="hidden" name="intent" value="timeframes" />
         {rows.map(([name, label]) => (
-          <Field
-            key={name}
-            label={`${label} (days)`}
-            errors={fields[name].errors}
-            inputProps={getInputProps(fields[name], { type: "number" })}
-          />
+          <FormField key={name} label={`${label} (days)`} field={fields[name]} type="number" />
         ))}
         <div className="sm:col-span-4">
           <Button

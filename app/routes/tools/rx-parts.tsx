@@ -1,3 +1,5 @@
+import { createColumnHelper } from "@tanstack/react-table";
+import { DataTable } from "~/components/data-table";
 import { StatusBadge } from "~/components/ui/notice";
 import { type DispensingReport, type PowerVector } from "~/lib/optics";
 
@@ -56,46 +58,48 @@ export function VectorPlot({ a, b }: { a: PowerVector; b: PowerVector }) {
   );
 }
 
+type Check = DispensingReport["checks"][number];
+const checkCol = createColumnHelper<Check>();
+const checkColumns = [
+  checkCol.accessor("element", { header: "Element", meta: { className: "font-semibold capitalize" } }),
+  checkCol.accessor("ordered", {
+    header: "Ordered",
+    meta: { className: "font-mono" },
+    cell: ({ row: { original: c } }) => (c.element === "axis" ? `${c.ordered}°` : d(c.ordered)),
+  }),
+  checkCol.accessor("measured", {
+    header: "Measured",
+    meta: { className: "font-mono" },
+    cell: ({ row: { original: c } }) => (c.element === "axis" ? `${c.measured}°` : d(c.measured)),
+  }),
+  checkCol.accessor("tolerance", {
+    header: "Tolerance",
+    meta: { className: "font-mono" },
+    cell: ({ row: { original: c } }) =>
+      c.tolerance === null ? "—" : c.element === "axis" ? `±${c.tolerance}°` : `±${c.tolerance.toFixed(2)} D`,
+  }),
+  checkCol.display({
+    id: "result",
+    header: "Result",
+    cell: ({ row: { original: c } }) =>
+      !c.applicable ? (
+        <StatusBadge tone="info">Not applicable</StatusBadge>
+      ) : c.pass ? (
+        <StatusBadge tone="success">Within tolerance</StatusBadge>
+      ) : (
+        <StatusBadge tone="error">Out of tolerance</StatusBadge>
+      ),
+  }),
+];
+
 export function DispensingTable({ report }: { report: DispensingReport }) {
   return (
-    <div className="overflow-x-auto">
-      <table className="w-full text-left text-sm">
-        <caption className="sr-only">Dispensing check, element by element</caption>
-        <thead className="border-b border-line text-muted">
-          <tr>
-            <th className="py-1.5 pr-3 font-semibold">Element</th>
-            <th className="py-1.5 pr-3 font-semibold">Ordered</th>
-            <th className="py-1.5 pr-3 font-semibold">Measured</th>
-            <th className="py-1.5 pr-3 font-semibold">Tolerance</th>
-            <th className="py-1.5 font-semibold">Result</th>
-          </tr>
-        </thead>
-        <tbody className="divide-y divide-line">
-          {report.checks.map((c) => (
-            <tr key={c.element}>
-              <td className="py-1.5 pr-3 font-semibold capitalize">{c.element}</td>
-              <td className="py-1.5 pr-3 font-mono">{c.element === "axis" ? `${c.ordered}°` : d(c.ordered)}</td>
-              <td className="py-1.5 pr-3 font-mono">{c.element === "axis" ? `${c.measured}°` : d(c.measured)}</td>
-              <td className="py-1.5 pr-3 font-mono">
-                {c.tolerance === null
-                  ? "—"
-                  : c.element === "axis"
-                    ? `±${c.tolerance}°`
-                    : `±${c.tolerance.toFixed(2)} D`}
-              </td>
-              <td className="py-1.5">
-                {!c.applicable ? (
-                  <StatusBadge tone="info">Not applicable</StatusBadge>
-                ) : c.pass ? (
-                  <StatusBadge tone="success">Within tolerance</StatusBadge>
-                ) : (
-                  <StatusBadge tone="error">Out of tolerance</StatusBadge>
-                )}
-              </td>
-            </tr>
-          ))}
-        </tbody>
-      </table>
-    </div>
+    <DataTable
+      data={report.checks}
+      columns={checkColumns}
+      getRowId={(c) => c.element}
+      caption="Dispensing check, element by element"
+      empty="Nothing was checked."
+    />
   );
 }
