@@ -111,7 +111,11 @@ describe("the schedule in the browser", () => {
     // The front desk marks the patient arrived from the day list.
     await desk.goto(`/schedule/day?date=${wednesday}&provider=all`);
     await expectAccessible(desk);
-    await desk.getByRole("button", { name: "Mark arrived for Rosalind Achterberg" }).click();
+    // Within this appointment's row: another file's flow may book the same patient that day.
+    await desk
+      .locator(`tr[data-appointment-id="${appt!.id}"]`)
+      .getByRole("button", { name: "Mark arrived for Rosalind Achterberg" })
+      .click();
     // The visit is not today's: the arrival is confirmed first.
     await desk
       .getByRole("dialog", { name: "Not today's appointment" })
