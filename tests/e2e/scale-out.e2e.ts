@@ -65,6 +65,25 @@ async function startApp(i: number) {
     appEnv(i),
   );
   await waitForPort(SCALE.apps[i]!, 150_000);
+  if (nginx) await backInRotation(i);
+}
+
+/**
+ * nginx keeps a server it saw fail out of rotation for `fail_timeout` (3 s), even once it is back.
+ * A restarted server counts as restarted only when the balancer has sent it a request again;
+ * otherwise stopping the other server straight after would leave nginx with no live upstream.
+ */
+async function backInRotation(i: number) {
+  const port = SCALE.apps[i]!;
+  const deadline = Date.now() + 30_000;
+  for (;;) {
+    await fetch(`${balancer}/favicon.svg`).catch(() => null);
+    const last = upstreamsUsed().lines.at(-1) ?? "";
+    const answeredBy = [...last.matchAll(/127\.0\.0\.1:(\d+)/g)].at(-1)?.[1];
+    if (/ 200 /.test(last) && Number(answeredBy) === port) return;
+    if (Date.now() > deadline) throw new Error(`the balancer never sent a request to app ${i + 1} again`);
+    await new Promise((r) => setTimeout(r, 200));
+  }
 }
 
 async function startWorker(i: number) {

@@ -67,7 +67,7 @@ describe("the schedule in the browser", () => {
     await desk.mouse.move(eventBox.x + eventBox.width / 2 + 20, eventBox.y + 8, { steps: 4 });
     await desk.mouse.move(wedBox.x + wedBox.width / 2, eventBox.y + 8, { steps: 10 });
     await desk.mouse.up();
-    await expect.poll(() => desk.getByRole("status").first().textContent()).toMatch(/moved to/);
+    await expect.poll(() => desk.getByTestId("calendar-notice").textContent()).toMatch(/moved to/);
     await expect
       .poll(async () => {
         const [row] = await query<{ starts_at: Date }>(`select starts_at from appointments where id = $1`, [appt!.id]);
@@ -86,7 +86,7 @@ describe("the schedule in the browser", () => {
     await desk.mouse.move(movedBox.x + movedBox.width / 2, lunch.y + 4, { steps: 10 });
     await desk.mouse.up();
     await expect
-      .poll(() => desk.getByRole("status").first().textContent())
+      .poll(() => desk.getByTestId("calendar-notice").textContent())
       .toMatch(/Not moved: Overlaps the provider's lunch/);
     await expect.poll(async () => Math.round((await moved.boundingBox())!.y)).toBe(Math.round(movedBox.y));
     const [still] = await query<{ starts_at: Date }>(`select starts_at from appointments where id = $1`, [appt!.id]);

@@ -25,10 +25,11 @@ function rank(spec: TestSpecification) {
 export default class LongestFirstSequencer extends BaseSequencer {
   override async sort(files: TestSpecification[]) {
     const sorted = await super.sort(files);
-    // Array.prototype.sort is stable: within a rank (and across projects) Vitest's order stays.
-    return sorted.sort((a, b) => {
-      if (a.project.name !== b.project.name) return 0;
-      return rank(a) - rank(b);
-    });
+    // Vitest's order of projects stays; within a project the known longest files go first
+    // (Array.prototype.sort is stable, so Vitest's order stays within a rank).
+    const projects = [...new Set(sorted.map((s) => s.project.name))];
+    return sorted.sort(
+      (a, b) => projects.indexOf(a.project.name) - projects.indexOf(b.project.name) || rank(a) - rank(b),
+    );
   }
 }

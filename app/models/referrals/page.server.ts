@@ -3,11 +3,13 @@ import { and, asc, desc, eq, isNull } from "drizzle-orm";
 import { formatDate, loadReferral, practice, referenceOf, triageProposal } from "./referrals.server";
 import {
   documents,
+  patients,
   referralEvents,
   referralLinks,
   referralMessages,
   referralRecipients,
   referralReplies,
+  referrals,
   users,
 } from "~/db/schema";
 import {
@@ -176,31 +178,7 @@ export async function referralPageData(
       },
     };
   }
-  const [recipients, uploads] = await Promise.all([
-    db
-      .select({
-        id: referralRecipients.id,
-        name: referralRecipients.name,
-        clinic: referralRecipients.clinic,
-        email: referralRecipients.email,
-        preferredDelivery: referralRecipients.preferredDelivery,
-      })
-      .from(referralRecipients)
-      .where(eq(referralRecipients.active, true))
-      .orderBy(asc(referralRecipients.name)),
-    db
-      .select({
-        id: documents.id,
-        originalName: documents.originalName,
-        kind: documents.kind,
-        description: documents.description,
-        contentType: documents.contentType,
-        createdAt: documents.createdAt,
-      })
-      .from(documents)
-      .where(eq(documents.patientId, r.patient.id))
-      .orderBy(desc(documents.createdAt)),
-  ]);
+  const { recipients, uploads } = await letterChoices(r.patient.id);
   return {
     ...base,
     letter: null,
@@ -223,4 +201,60 @@ export async function referralPageData(
       },
     },
   };
+}
+
+/** What a letter about `patientId` can go to and enclose: the active recipients, and the patient's documents, newest first. */
+export async function letterChoices(patientId: string) {
+  const [recipients, uploads] = await Promise.all([
+    db
+      .select({
+        id: referralRecipients.id,
+        name: referralRecipients.name,
+        clinic: referralRecipients.clinic,
+        email: referralRecipients.email,
+        preferredDelivery: referralRecipients.preferredDelivery,
+      })
+      .from(referralRecipients)
+      .where(eq(referralRecipients.active, true))
+      .orderBy(asc(referralRecipients.name)),
+    db
+      .select({
+        id: documents.id,
+        originalName: documents.originalName,
+        kind: documents.kind,
+        description: documents.description,
+        contentType: documents.contentType,
+        createdAt: documents.createdAt,
+      })
+      .from(documents)
+      .where(eq(documents.patientId, patientId))
+      .orderBy(desc(documents.createdAt)),
+  ]);
+  return { recipients, uploads };
+}
+
+/** The patient a new letter is about: name, date of birth, medications and allergies. */
+export async function letterPatient(patientId: string) {
+  const [patient] = await db
+    .select({
+      id: patients.id,
+      firstName: patients.firstName,
+      lastName: patients.lastName,
+      dateOfBirth: patients.dateOfBirth,
+      medications: patients.medications,
+      allergies: patients.allergies,
+    })
+    .from(patients)
+    .where(eq(patients.id, patientId));
+  if (!patient) throw new Error(`exam's patient ${patientId} is missing`);
+  return patient;
+}
+
+/** The letters already started from `examId`, newest first. */
+export async function lettersOfExam(examId: string) {
+  return db
+    .select({ id: referrals.id, status: referrals.status })
+    .from(referrals)
+    .where(eq(referrals.examId, examId))
+    .orderBy(desc(referrals.createdAt));
 }

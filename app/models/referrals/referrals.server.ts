@@ -20,4 +20,4 @@ export {
 } from "./delivery.server";
 export { acknowledge, publicSummary, reply, REPLY_FILE_MAX_BYTES, setAppointment, sniffType } from "./recipient.server";
 export { referralsForChart, trackingPage, trackingRows, TRACKING_SORTS } from "./tracking.server";
-export { referralPageData } from "./page.server";
+export { letterChoices, letterPatient, lettersOfExam, referralPageData } from "./page.server";

@@ -1,5 +1,4 @@
 import { parseWithZod } from "@conform-to/zod/v4";
-import { and, asc, desc, eq } from "drizzle-orm";
 import { data, Link } from "react-router";
 import type { Route } from "./+types/new";
 import { draftValuesOf, LetterForm, letterSchema } from "./letter-form";
@@ -7,6 +6,9 @@ import {
   candidateExams,
   createDraft,
   isUuid,
+  letterChoices,
+  letterPatient,
+  lettersOfExam,
   practice,
   prefill,
   ReferralError,
@@ -19,11 +21,9 @@ import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice } from "~/components/ui/notice";
-import { documents, patients, referralRecipients, referrals } from "~/db/schema";
 import { timeFramesOf } from "~/lib/referrals";
 import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { formatDate } from "~/lib/format";
 import { notFound } from "~/utils/failure.server";
@@ -48,17 +48,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   }
   if (!isUuid(examId)) notFound();
   const exam = await referableExam(examId);
-  const [patient] = await db
-    .select({
-      id: patients.id,
-      firstName: patients.firstName,
-      lastName: patients.lastName,
-      dateOfBirth: patients.dateOfBirth,
-      medications: patients.medications,
-      allergies: patients.allergies,
-    })
-    .from(patients)
-    .where(eq(patients.id, exam.patientId));
+  const patient = await letterPatient(exam.patientId);
   await audit({
     action: "referral.compose_opened",
     actorUserId: user.id,
@@ -69,44 +59,18 @@ export async function loader({ request }: Route.LoaderArgs) {
   });
   const examUrl = `/patients/${exam.patientId}/exams/${exam.id}`;
   const patientInfo = {
-    id: patient!.id,
-    name: `${patient!.firstName} ${patient!.lastName}`,
-    dateOfBirth: patient!.dateOfBirth,
+    id: patient.id,
+    name: `${patient.firstName} ${patient.lastName}`,
+    dateOfBirth: patient.dateOfBirth,
     examinedOn: formatDate(exam.examinedAt, { timeZone: p.timeZone, style: "long" }),
     examUrl,
   };
   if (exam.status !== "signed") return { kind: "unsigned" as const, patient: patientInfo };
   const snapshot = await snapshotOf(exam);
   const filled = prefill(snapshot, patient!);
-  const [recipients, uploads, existing] = await Promise.all([
-    db
-      .select({
-        id: referralRecipients.id,
-        name: referralRecipients.name,
-        clinic: referralRecipients.clinic,
-        email: referralRecipients.email,
-        preferredDelivery: referralRecipients.preferredDelivery,
-      })
-      .from(referralRecipients)
-      .where(eq(referralRecipients.active, true))
-      .orderBy(asc(referralRecipients.name)),
-    db
-      .select({
-        id: documents.id,
-        originalName: documents.originalName,
-        kind: documents.kind,
-        description: documents.description,
-        contentType: documents.contentType,
-        createdAt: documents.createdAt,
-      })
-      .from(documents)
-      .where(eq(documents.patientId, exam.patientId))
-      .orderBy(desc(documents.createdAt)),
-    db
-      .select({ id: referrals.id, status: referrals.status })
-      .from(referrals)
-      .where(and(eq(referrals.examId, exam.id)))
-      .orderBy(desc(referrals.createdAt)),
+  const [{ recipients, uploads }, existing] = await Promise.all([
+    letterChoices(exam.patientId),
+    lettersOfExam(exam.id),
   ]);
   // Field printouts of this exam are enclosed by default.
   const attachmentIds = uploads.filter((u) => u.kind === "field_printout").map((u) => u.id);
