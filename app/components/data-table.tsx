@@ -56,6 +56,10 @@ export type DataTableProps<T> = {
   params?: { page?: string; sort?: string; dir?: string };
   /** Extra classes for a row (e.g. to dim withdrawn items; never the only signal). */
   rowClassName?: (row: T) => string | undefined;
+  /** Extra attributes for a row's `<tr>` (e.g. `data-*` hooks that browser tests and scripts find rows by). */
+  rowAttributes?: (row: T) => Record<`data-${string}`, string>;
+  /** The column headers are read by screen readers but not shown (a list whose rows say what they are). */
+  headerHidden?: boolean;
   className?: string;
   /** For browser tests: the table element's `data-testid`. */
   testId?: string;
@@ -89,6 +93,8 @@ export function DataTable<T>({
   paging,
   params: names = {},
   rowClassName,
+  rowAttributes,
+  headerHidden = false,
   className = "",
   testId,
 }: DataTableProps<T>) {
@@ -122,7 +128,7 @@ export function DataTable<T>({
           {captionText ? (
             <caption className={captionVisible ? "mb-2 text-left font-semibold" : "sr-only"}>{captionText}</caption>
           ) : null}
-          <thead className="border-b border-line text-muted">
+          <thead className={headerHidden ? "sr-only" : "border-b border-line text-muted"}>
             {table.getHeaderGroups().map((hg) => (
               <tr key={hg.id}>
                 {hg.headers.map((h) => {
@@ -159,7 +165,11 @@ export function DataTable<T>({
           </thead>
           <tbody className="divide-y divide-line">
             {table.getRowModel().rows.map((row) => (
-              <tr key={row.id} className={`align-top ${rowClassName?.(row.original) ?? ""}`}>
+              <tr
+                key={row.id}
+                className={`align-top ${rowClassName?.(row.original) ?? ""}`}
+                {...rowAttributes?.(row.original)}
+              >
                 {row.getVisibleCells().map((cell) => {
                   const meta = cell.column.columnDef.meta;
                   const Cell = meta?.rowHeader ? "th" : "td";

@@ -199,8 +199,8 @@ export function RowIntentButton({
   );
 }
 
-/** A table cell with one time-of-day input (5-minute steps), labelled for screen readers and tied to its row's errors. */
-export function TimeCell({
+/** A time-of-day input (5-minute steps) for a table cell, labelled for screen readers and tied to its row's errors. */
+export function TimeInput({
   name,
   label,
   defaultValue,
@@ -214,7 +214,7 @@ export function TimeCell({
   errorId?: string;
 }) {
   return (
-    <td className="py-2 pr-4">
+    <>
       <label className="sr-only" htmlFor={name}>
         {label}
       </label>
@@ -228,7 +228,7 @@ export function TimeCell({
         aria-invalid={errorId ? true : undefined}
         aria-describedby={errorId}
       />
-    </td>
+    </>
   );
 }
 

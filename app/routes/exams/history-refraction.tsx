@@ -1,6 +1,8 @@
 /** The exam's case history, refractions (with the change from last visit's final) and binocular vision. */
+import { createColumnHelper } from "@tanstack/react-table";
 import { useState } from "react";
 import type { Route } from "./+types/exam";
+import { DataTable } from "~/components/data-table";
 import { Card } from "~/components/ui/card";
 import { StatusBadge } from "~/components/ui/notice";
 import {
@@ -101,6 +103,10 @@ function ChangeCell({ before, now, eye }: { before?: SphCyl; now: SphCyl | null;
   );
 }
 
+/** The refraction grid's rows: one per eye, with the eye's name as the refusals say it. */
+const EYE_ROWS = EYES.map((eye) => ({ eye, name: eye === "right" ? "Right" : "Left" }));
+const eyeCol = createColumnHelper<(typeof EYE_ROWS)[number]>();
+
 export function RefractionSection({
   kind,
   values,
@@ -122,7 +128,24 @@ export function RefractionSection({
     right: parseRxText(v("right", "rx"), "").value,
     left: parseRxText(v("left", "rx"), "").value,
   }));
-  const eyeName = (eye: EyeKey) => (eye === "right" ? "Right" : "Left");
+  /** A decimal field of each eye; the refusal names the eye and the field (`Right add`). */
+  const number = (p: string, header: string, said: string, [min, max, step]: [number, number, number], width: string) =>
+    eyeCol.display({
+      id: p,
+      header,
+      meta: { className: width },
+      cell: ({ row: { original: r } }) => (
+        <ExamInput
+          id={`${kind}-${r.eye}-${p}`}
+          name={`${r.eye}_${p}`}
+          label={`${r.name} ${short} ${said}`}
+          hideLabel
+          inputMode="decimal"
+          defaultValue={v(r.eye, p)}
+          validate={(t) => parseNumber(t, `${r.name} ${p}`, min, max, { step }).error}
+        />
+      ),
+    });
   return (
     <SectionForm
       section={`refraction:${kind}`}
@@ -150,123 +173,81 @@ export function RefractionSection({
           {new Date(addendumNote.createdAt).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}.
         </p>
       ) : null}
-      <div className="overflow-x-auto">
-        <table className="min-w-full text-sm">
-          <caption className="sr-only">{label}, right and left eye</caption>
-          <thead>
-            <tr className="text-left">
-              <th scope="col" className="p-2">
-                Eye
-              </th>
-              <th scope="col" className="p-2">
-                Sphere / cylinder × axis
-              </th>
-              <th scope="col" className="p-2">
-                Add
-              </th>
-              <th scope="col" className="p-2">
-                Prism (Δ)
-              </th>
-              <th scope="col" className="p-2">
-                Base
-              </th>
-              <th scope="col" className="p-2">
-                Vertex (mm)
-              </th>
-              <th scope="col" className="p-2">
-                VA
-              </th>
-              {previous ? (
-                <th scope="col" className="p-2">
-                  Change from last final
-                </th>
-              ) : null}
-            </tr>
-          </thead>
-          <tbody>
-            {EYES.map((eye) => {
-              const E = eyeName(eye);
-              return (
-                <tr key={eye} className="border-t border-line align-top">
-                  <th scope="row" className="p-2 text-left">
-                    {EYE_LABEL[eye]}
-                  </th>
-                  <td className="min-w-56 p-1">
-                    <ExamInput
-                      id={`${kind}-${eye}-rx`}
-                      name={`${eye}_rx`}
-                      label={`${E} ${short} sphere, cylinder and axis`}
-                      hideLabel
-                      defaultValue={v(eye, "rx")}
-                      validate={(t) => parseRxText(t, `${E} ${short}`).error}
-                      onValue={(t) => setCurrent((c) => ({ ...c, [eye]: parseRxText(t, "").value }))}
-                    />
-                  </td>
-                  <td className="w-24 p-1">
-                    <ExamInput
-                      id={`${kind}-${eye}-add`}
-                      name={`${eye}_add`}
-                      label={`${E} ${short} add`}
-                      hideLabel
-                      inputMode="decimal"
-                      defaultValue={v(eye, "add")}
-                      validate={(t) => parseNumber(t, `${E} add`, 0.25, 4, { step: 0.25 }).error}
-                    />
-                  </td>
-                  <td className="w-20 p-1">
-                    <ExamInput
-                      id={`${kind}-${eye}-prism`}
-                      name={`${eye}_prism`}
-                      label={`${E} ${short} prism in prism dioptres`}
-                      hideLabel
-                      inputMode="decimal"
-                      defaultValue={v(eye, "prism")}
-                      validate={(t) => parseNumber(t, `${E} prism`, 0.25, 20, { step: 0.25 }).error}
-                    />
-                  </td>
-                  <td className="w-24 p-1">
-                    <ExamSelect
-                      id={`${kind}-${eye}-base`}
-                      name={`${eye}_base`}
-                      label={`${E} ${short} prism base`}
-                      hideLabel
-                      defaultValue={v(eye, "base")}
-                      options={Object.fromEntries(PRISM_BASES.map((b) => [b, b]))}
-                    />
-                  </td>
-                  <td className="w-20 p-1">
-                    <ExamInput
-                      id={`${kind}-${eye}-vertex`}
-                      name={`${eye}_vertex`}
-                      label={`${E} ${short} vertex distance in mm`}
-                      hideLabel
-                      inputMode="decimal"
-                      defaultValue={v(eye, "vertex")}
-                      validate={(t) => parseNumber(t, `${E} vertex`, 0, 25, { step: 0.5 }).error}
-                    />
-                  </td>
-                  <td className="w-28 p-1">
-                    <ExamInput
-                      id={`${kind}-${eye}-va`}
-                      name={`${eye}_va`}
-                      label={`${E} ${short} VA`}
-                      hideLabel
-                      defaultValue={v(eye, "va")}
-                      validate={(t) => parseAcuity(t, `${E} VA`, { notation, distance: "distance" }).error}
-                      echo={(t) => parseAcuity(t, `${E} VA`, { notation, distance: "distance" }).value?.echo}
-                    />
-                  </td>
-                  {previous ? (
-                    <td className="min-w-64 p-2">
-                      <ChangeCell before={previous.rows[eye]} now={current[eye]} eye={eye} />
-                    </td>
-                  ) : null}
-                </tr>
-              );
-            })}
-          </tbody>
-        </table>
-      </div>
+      <DataTable
+        data={EYE_ROWS}
+        getRowId={(r) => r.eye}
+        caption={`${label}, right and left eye`}
+        empty="No eyes to show."
+        columns={[
+          eyeCol.accessor("eye", {
+            header: "Eye",
+            meta: { rowHeader: true },
+            cell: ({ row: { original: r } }) => EYE_LABEL[r.eye],
+          }),
+          eyeCol.display({
+            id: "rx",
+            header: "Sphere / cylinder × axis",
+            meta: { className: "min-w-56" },
+            cell: ({ row: { original: r } }) => (
+              <ExamInput
+                id={`${kind}-${r.eye}-rx`}
+                name={`${r.eye}_rx`}
+                label={`${r.name} ${short} sphere, cylinder and axis`}
+                hideLabel
+                defaultValue={v(r.eye, "rx")}
+                validate={(t) => parseRxText(t, `${r.name} ${short}`).error}
+                onValue={(t) => setCurrent((c) => ({ ...c, [r.eye]: parseRxText(t, "").value }))}
+              />
+            ),
+          }),
+          number("add", "Add", "add", [0.25, 4, 0.25], "w-24"),
+          number("prism", "Prism (Δ)", "prism in prism dioptres", [0.25, 20, 0.25], "w-20"),
+          eyeCol.display({
+            id: "base",
+            header: "Base",
+            meta: { className: "w-24" },
+            cell: ({ row: { original: r } }) => (
+              <ExamSelect
+                id={`${kind}-${r.eye}-base`}
+                name={`${r.eye}_base`}
+                label={`${r.name} ${short} prism base`}
+                hideLabel
+                defaultValue={v(r.eye, "base")}
+                options={Object.fromEntries(PRISM_BASES.map((b) => [b, b]))}
+              />
+            ),
+          }),
+          number("vertex", "Vertex (mm)", "vertex distance in mm", [0, 25, 0.5], "w-20"),
+          eyeCol.display({
+            id: "va",
+            header: "VA",
+            meta: { className: "w-28" },
+            cell: ({ row: { original: r } }) => (
+              <ExamInput
+                id={`${kind}-${r.eye}-va`}
+                name={`${r.eye}_va`}
+                label={`${r.name} ${short} VA`}
+                hideLabel
+                defaultValue={v(r.eye, "va")}
+                validate={(t) => parseAcuity(t, `${r.name} VA`, { notation, distance: "distance" }).error}
+                echo={(t) => parseAcuity(t, `${r.name} VA`, { notation, distance: "distance" }).value?.echo}
+              />
+            ),
+          }),
+          ...(previous
+            ? [
+                eyeCol.display({
+                  id: "change",
+                  header: "Change from last final",
+                  meta: { className: "min-w-64" },
+                  cell: ({ row: { original: r } }) => (
+                    <ChangeCell before={previous.rows[r.eye]} now={current[r.eye]} eye={r.eye} />
+                  ),
+                }),
+              ]
+            : []),
+        ]}
+      />
     </SectionForm>
   );
 }

@@ -1,5 +1,7 @@
 /** Acuity (with its notation and what each value reads as), IOP (several readings, mean) and the assessment with per-eye diagnoses. */
+import { createColumnHelper } from "@tanstack/react-table";
 import { useMemo, useState } from "react";
+import { DataTable } from "~/components/data-table";
 import {
   ACUITY_CORRECTION_LABEL,
   ACUITY_CORRECTIONS,
@@ -26,6 +28,10 @@ import { sectionTitle } from "~/lib/exam/section-list";
 type V = { values: Record<string, string>; readOnly: boolean };
 
 const SIDE = { right: "Right", left: "Left", both: "Both eyes" } as const;
+
+/** The acuity grid's rows: right, left and both eyes. */
+const ACUITY_ROWS = ACUITY_EYES.map((eye) => ({ eye }));
+const acuityCol = createColumnHelper<(typeof ACUITY_ROWS)[number]>();
 
 export function AcuitySection({
   values,
@@ -88,50 +94,42 @@ export function AcuitySection({
           }
         />
       </div>
-      <div className="overflow-x-auto">
-        <table className="min-w-full text-sm">
-          <caption className="sr-only">Visual acuity by eye, distance and correction</caption>
-          <thead>
-            <tr>
-              <th scope="col" className="p-2 text-left">
-                Eye
-              </th>
-              {columns.map(([d, c]) => (
-                <th key={`${d}-${c}`} scope="col" className="p-2 text-left font-semibold">
-                  {d === "distance" ? "Distance" : "Near"}, {ACUITY_CORRECTION_LABEL[c].toLowerCase()}
-                </th>
-              ))}
-            </tr>
-          </thead>
-          <tbody>
-            {ACUITY_EYES.map((eye) => (
-              <tr key={eye} className="border-t border-line">
-                <th scope="row" className="p-2 text-left">
-                  {EYE_LABEL[eye]}
-                </th>
-                {columns.map(([d, c]) => {
-                  const k = acuityField(eye, d, c);
-                  const r = readers[k]!;
-                  return (
-                    <td key={`${d}-${c}`} className="min-w-28 p-1 align-top">
-                      <ExamInput
-                        id={`va-${eye}-${d}-${c}`}
-                        name={k}
-                        label={r.label}
-                        hideLabel
-                        defaultValue={values[k]}
-                        validate={r.validate}
-                        echo={r.echo}
-                        revalidateKey={notation}
-                      />
-                    </td>
-                  );
-                })}
-              </tr>
-            ))}
-          </tbody>
-        </table>
-      </div>
+      <DataTable
+        data={ACUITY_ROWS}
+        getRowId={(r) => r.eye}
+        caption="Visual acuity by eye, distance and correction"
+        empty="No eyes to show."
+        columns={[
+          acuityCol.accessor("eye", {
+            header: "Eye",
+            meta: { rowHeader: true },
+            cell: ({ row: { original: r } }) => EYE_LABEL[r.eye],
+          }),
+          ...columns.map(([d, c]) =>
+            acuityCol.display({
+              id: `${d}-${c}`,
+              header: `${d === "distance" ? "Distance" : "Near"}, ${ACUITY_CORRECTION_LABEL[c].toLowerCase()}`,
+              meta: { className: "min-w-28" },
+              cell: ({ row: { original: r } }) => {
+                const k = acuityField(r.eye, d, c);
+                const reader = readers[k]!;
+                return (
+                  <ExamInput
+                    id={`va-${r.eye}-${d}-${c}`}
+                    name={k}
+                    label={reader.label}
+                    hideLabel
+                    defaultValue={values[k]}
+                    validate={reader.validate}
+                    echo={reader.echo}
+                    revalidateKey={notation}
+                  />
+                );
+              },
+            }),
+          ),
+        ]}
+      />
     </SectionForm>
   );
 }

@@ -1,3 +1,4 @@
+import { createColumnHelper } from "@tanstack/react-table";
 import { data, Form, Link } from "react-router";
 import type { Route } from "./+types/day";
 import { AppointmentStatus } from "~/components/schedule/status-ui";
@@ -6,6 +7,7 @@ import { StatusCommands, usePolling } from "./day-ui";
 import { loadDayList, statusAction } from "~/models/schedule/day.server";
 import { MoveRequests } from "./move-requests";
 import { openMoveRequests, settleMoveRequest } from "~/models/schedule/move-requests.server";
+import { DataTable } from "~/components/data-table";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
@@ -25,6 +27,46 @@ export async function action({ request }: Route.ActionArgs) {
   const form = await request.clone().formData();
   if (form.get("intent") === "settle-move-request") return settleMoveRequest(request, form);
   return statusAction(request);
+}
+
+type Row = Route.ComponentProps["loaderData"]["appointments"][number];
+const col = createColumnHelper<Row>();
+
+/** The day list's columns; the commands depend on who is looking and which day it is. */
+function dayColumns(role: Route.ComponentProps["loaderData"]["user"]["role"], date: string, today: string) {
+  return [
+    col.accessor("time", {
+      header: "Time",
+      meta: { className: "font-semibold whitespace-nowrap" },
+      cell: ({ row: { original: a } }) => (
+        <Link to={`/schedule/appointments/${a.id}`} className="text-accent-700 underline underline-offset-4">
+          {a.time}
+        </Link>
+      ),
+    }),
+    col.accessor("patientName", { header: "Patient" }),
+    col.accessor("typeName", {
+      header: "Visit",
+      cell: ({ row: { original: a } }) => (
+        <>
+          {a.typeName}
+          <span className="block text-muted">{a.providerName}</span>
+          {a.place ? <span className="block text-muted">{a.place}</span> : null}
+        </>
+      ),
+    }),
+    col.accessor("status", {
+      header: "Status",
+      cell: ({ row: { original: a } }) => <AppointmentStatus status={a.status} />,
+    }),
+    col.display({
+      id: "commands",
+      header: () => <span className="sr-only">Commands</span>,
+      cell: ({ row: { original: a } }) => (
+        <StatusCommands id={a.id} status={a.status} role={role} name={a.patientName} date={date} today={today} />
+      ),
+    }),
+  ];
 }
 
 export default function DayList({ loaderData }: Route.ComponentProps) {
@@ -95,54 +137,15 @@ export default function DayList({ loaderData }: Route.ComponentProps) {
       {live.length === 0 ? (
         <Notice tone="info" title="No appointments on this day." />
       ) : (
-        <div className="overflow-x-auto rounded-lg border border-line bg-white shadow-sm">
-          <table className="w-full text-left text-sm" aria-label="Appointments of the day">
-            <thead className="border-b border-line text-muted">
-              <tr>
-                <th className="px-4 py-2 font-semibold">Time</th>
-                <th className="px-4 py-2 font-semibold">Patient</th>
-                <th className="px-4 py-2 font-semibold">Visit</th>
-                <th className="px-4 py-2 font-semibold">Status</th>
-                <th className="px-4 py-2 font-semibold">
-                  <span className="sr-only">Commands</span>
-                </th>
-              </tr>
-            </thead>
-            <tbody className="divide-y divide-line">
-              {live.map((a) => (
-                <tr key={a.id} data-appointment-id={a.id}>
-                  <td className="px-4 py-3 font-semibold whitespace-nowrap">
-                    <Link
-                      to={`/schedule/appointments/${a.id}`}
-                      className="text-accent-700 underline underline-offset-4"
-                    >
-                      {a.time}
-                    </Link>
-                  </td>
-                  <td className="px-4 py-3">{a.patientName}</td>
-                  <td className="px-4 py-3">
-                    {a.typeName}
-                    <span className="block text-muted">{a.providerName}</span>
-                    {a.place ? <span className="block text-muted">{a.place}</span> : null}
-                  </td>
-                  <td className="px-4 py-3">
-                    <AppointmentStatus status={a.status} />
-                  </td>
-                  <td className="px-4 py-3">
-                    <StatusCommands
-                      id={a.id}
-                      status={a.status}
-                      role={user.role}
-                      name={a.patientName}
-                      date={date}
-                      today={today}
-                    />
-                  </td>
-                </tr>
-              ))}
-            </tbody>
-          </table>
-        </div>
+        <DataTable
+          data={live}
+          columns={dayColumns(user.role, date, today)}
+          getRowId={(a) => a.id}
+          rowAttributes={(a) => ({ "data-appointment-id": a.id })}
+          caption="Appointments of the day"
+          empty="No appointments on this day."
+          className="rounded-lg border border-line bg-white px-4 shadow-sm"
+        />
       )}
       {cancelled.length ? (
         <details className="mt-6">

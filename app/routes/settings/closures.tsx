@@ -134,6 +134,16 @@ const columns = [
   }),
 ];
 
+type WeekDay = Route.ComponentProps["loaderData"]["sites"][number]["days"][number];
+const weekCol = createColumnHelper<WeekDay>();
+/** A site's week at a glance; a day without hours is closed, or not set when the site has no hours at all. */
+const siteWeekColumns = (unset: string) => [
+  weekCol.accessor("name", { header: "Day", meta: { rowHeader: true } }),
+  weekCol.accessor("hours", { header: "Hours", cell: ({ row: { original: d } }) => d.hours || unset }),
+];
+const weekColumns = siteWeekColumns("Closed");
+const unsetWeekColumns = siteWeekColumns("Not set");
+
 /** A choice among sites or clinicians, with a first option for none. */
 function ChoiceField(f: {
   name: string;
@@ -259,19 +269,16 @@ export default function ClosuresSettings({ loaderData, actionData }: Route.Compo
         </p>
         <div className="grid gap-4 sm:grid-cols-2">
           {sites.map((s) => (
-            <table key={s.id} className="text-left text-sm">
-              <caption className="mb-1 text-left font-semibold">{s.name}</caption>
-              <tbody className="divide-y divide-line">
-                {s.days.map((d) => (
-                  <tr key={d.name}>
-                    <th scope="row" className="py-1 pr-4 font-normal">
-                      {d.name}
-                    </th>
-                    <td className="py-1">{d.hours || (s.set ? "Closed" : "Not set")}</td>
-                  </tr>
-                ))}
-              </tbody>
-            </table>
+            <DataTable
+              key={s.id}
+              data={s.days}
+              columns={s.set ? weekColumns : unsetWeekColumns}
+              getRowId={(d) => d.name}
+              caption={s.name}
+              captionVisible
+              headerHidden
+              empty="No days to show."
+            />
           ))}
         </div>
       </SettingsSection>

@@ -1,9 +1,11 @@
 import { and, eq } from "drizzle-orm";
+import { createColumnHelper } from "@tanstack/react-table";
 import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/hours";
 import { ErrorList } from "~/components/forms";
-import { refusalNotice, SettingsPage, SettingsSection, TimeCell } from "~/components/settings-page";
+import { DataTable } from "~/components/data-table";
+import { refusalNotice, SettingsPage, SettingsSection, TimeInput } from "~/components/settings-page";
 import { Button } from "~/components/ui/button";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
@@ -154,13 +156,117 @@ export async function action({ request }: Route.ActionArgs) {
   });
 }
 
+type Day = Route.ComponentProps["loaderData"]["days"][number];
+type Places = Route.ComponentProps["loaderData"]["places"];
+const col = createColumnHelper<Day>();
+const TIMES = [
+  ["start", "Starts", "starts", "hours"],
+  ["end", "Ends", "ends", "hours"],
+  ["breakStart", "Break from", "break from", "break"],
+  ["breakEnd", "Break to", "break to", "break"],
+] as const;
+
+/** One row per weekday; the site and room columns only when the practice has more than one site, or rooms. */
+function hoursColumns(places: Places, errors: DayErrors) {
+  return [
+    col.accessor("name", {
+      header: "Day",
+      meta: { rowHeader: true },
+      cell: ({ row: { original: d } }) => (
+        <>
+          {d.name}
+          <ErrorList id={`hours-${d.weekday}-err`} errors={errors[`hours-${d.weekday}`]} />
+          <ErrorList id={`break-${d.weekday}-err`} errors={errors[`break-${d.weekday}`]} />
+        </>
+      ),
+    }),
+    ...(places.sites.length > 1
+      ? [
+          col.accessor("siteId", {
+            header: "Site",
+            cell: ({ row: { original: d } }) => (
+              <>
+                <label className="sr-only" htmlFor={`site-${d.weekday}`}>
+                  {d.name} site
+                </label>
+                <Select id={`site-${d.weekday}`} name={`site-${d.weekday}`} defaultValue={d.siteId} className="w-44">
+                  {places.sites.map((x) => (
+                    <option key={x.id} value={x.id}>
+                      {x.name}
+                    </option>
+                  ))}
+                </Select>
+              </>
+            ),
+          }),
+        ]
+      : []),
+    ...(places.rooms.length
+      ? [
+          col.accessor("roomId", {
+            header: "Room",
+            cell: ({ row: { original: d } }) => (
+              <>
+                <label className="sr-only" htmlFor={`room-${d.weekday}`}>
+                  {d.name} room
+                </label>
+                <Select id={`room-${d.weekday}`} name={`room-${d.weekday}`} defaultValue={d.roomId} className="w-44">
+                  <option value="">No fixed room</option>
+                  {places.sites.map((x) => (
+                    <optgroup key={x.id} label={x.name}>
+                      {places.rooms
+                        .filter((r) => r.siteId === x.id)
+                        .map((r) => (
+                          <option key={r.id} value={r.id}>
+                            {r.name}
+                          </option>
+                        ))}
+                    </optgroup>
+                  ))}
+                </Select>
+              </>
+            ),
+          }),
+        ]
+      : []),
+    ...TIMES.map(([k, header, said, group]) =>
+      col.accessor(k, {
+        header,
+        cell: ({ row: { original: d } }) => (
+          <TimeInput
+            name={`${k}-${d.weekday}`}
+            label={`${d.name} ${said}`}
+            defaultValue={d[k]}
+            errorId={errors[`${group}-${d.weekday}`] ? `${group}-${d.weekday}-err` : undefined}
+          />
+        ),
+      }),
+    ),
+    col.accessor("breakLabel", {
+      header: "Break name",
+      cell: ({ row: { original: d } }) => (
+        <>
+          <label className="sr-only" htmlFor={`breakLabel-${d.weekday}`}>
+            {d.name} break name
+          </label>
+          <Input
+            id={`breakLabel-${d.weekday}`}
+            name={`breakLabel-${d.weekday}`}
+            type="text"
+            defaultValue={d.breakLabel}
+            className="w-32"
+          />
+        </>
+      ),
+    }),
+  ];
+}
+
 export default function Hours({ loaderData, actionData }: Route.ComponentProps) {
   const { providers, provider, days, timeZone, places } = loaderData;
-  const multiSite = places.sites.length > 1;
   const navigation = useNavigation();
   const errors = navigation.state === "idle" ? ((actionData as { errors?: DayErrors } | undefined)?.errors ?? {}) : {};
   if (!provider) return <Notice tone="info" title="No optometrist or owner accounts to set hours for." />;
-  const LABEL = { start: "starts", end: "ends", breakStart: "break from", breakEnd: "break to" } as const;
   return (
     <SettingsPage
       title="Working hours"
@@ -187,102 +293,13 @@ export default function Hours({ loaderData, actionData }: Route.ComponentProps) 
       <Form method="post" key={provider.id}>
         <input type="hidden" name="providerId" value={provider.id} />
         <SettingsSection title={`Week of ${provider.name}`}>
-          <div className="overflow-x-auto">
-            <table className="w-full text-left text-sm">
-              <thead className="border-b border-line text-muted">
-                <tr>
-                  <th className="py-2 pr-4 font-semibold">Day</th>
-                  {multiSite ? <th className="py-2 pr-4 font-semibold">Site</th> : null}
-                  {places.rooms.length ? <th className="py-2 pr-4 font-semibold">Room</th> : null}
-                  <th className="py-2 pr-4 font-semibold">Starts</th>
-                  <th className="py-2 pr-4 font-semibold">Ends</th>
-                  <th className="py-2 pr-4 font-semibold">Break from</th>
-                  <th className="py-2 pr-4 font-semibold">Break to</th>
-                  <th className="py-2 font-semibold">Break name</th>
-                </tr>
-              </thead>
-              <tbody className="divide-y divide-line">
-                {days.map((d) => (
-                  <tr key={d.weekday}>
-                    <th scope="row" className="py-2 pr-4 font-semibold">
-                      {d.name}
-                      <ErrorList id={`hours-${d.weekday}-err`} errors={errors[`hours-${d.weekday}`]} />
-                      <ErrorList id={`break-${d.weekday}-err`} errors={errors[`break-${d.weekday}`]} />
-                    </th>
-                    {multiSite ? (
-                      <td className="py-2 pr-4">
-                        <label className="sr-only" htmlFor={`site-${d.weekday}`}>
-                          {d.name} site
-                        </label>
-                        <Select
-                          id={`site-${d.weekday}`}
-                          name={`site-${d.weekday}`}
-                          defaultValue={d.siteId}
-                          className="w-44"
-                        >
-                          {places.sites.map((x) => (
-                            <option key={x.id} value={x.id}>
-                              {x.name}
-                            </option>
-                          ))}
-                        </Select>
-                      </td>
-                    ) : null}
-                    {places.rooms.length ? (
-                      <td className="py-2 pr-4">
-                        <label className="sr-only" htmlFor={`room-${d.weekday}`}>
-                          {d.name} room
-                        </label>
-                        <Select
-                          id={`room-${d.weekday}`}
-                          name={`room-${d.weekday}`}
-                          defaultValue={d.roomId}
-                          className="w-44"
-                        >
-                          <option value="">No fixed room</option>
-                          {places.sites.map((x) => (
-                            <optgroup key={x.id} label={x.name}>
-                              {places.rooms
-                                .filter((r) => r.siteId === x.id)
-                                .map((r) => (
-                                  <option key={r.id} value={r.id}>
-                                    {r.name}
-                                  </option>
-                                ))}
-                            </optgroup>
-                          ))}
-                        </Select>
-                      </td>
-                    ) : null}
-                    {(["start", "end", "breakStart", "breakEnd"] as const).map((k) => {
-                      const group = k === "start" || k === "end" ? "hours" : "break";
-                      return (
-                        <TimeCell
-                          key={k}
-                          name={`${k}-${d.weekday}`}
-                          label={`${d.name} ${LABEL[k]}`}
-                          defaultValue={d[k]}
-                          errorId={errors[`${group}-${d.weekday}`] ? `${group}-${d.weekday}-err` : undefined}
-                        />
-                      );
-                    })}
-                    <td className="py-2">
-                      <label className="sr-only" htmlFor={`breakLabel-${d.weekday}`}>
-                        {d.name} break name
-                      </label>
-                      <Input
-                        id={`breakLabel-${d.weekday}`}
-                        name={`breakLabel-${d.weekday}`}
-                        type="text"
-                        defaultValue={d.breakLabel}
-                        className="w-32"
-                      />
-                    </td>
-                  </tr>
-                ))}
-              </tbody>
-            </table>
-          </div>
+          <DataTable
+            data={days}
+            columns={hoursColumns(places, errors)}
+            getRowId={(d) => String(d.weekday)}
+            caption={`Working week of ${provider.name}`}
+            empty="No days to show."
+          />
           <Button type="submit" className="mt-4" pending={navigation.state === "submitting"}>
             Save working hours
           </Button>

@@ -1,9 +1,11 @@
 import { and, asc, eq, ne, sql } from "drizzle-orm";
+import { createColumnHelper } from "@tanstack/react-table";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/sites";
 import { ErrorList, Field } from "~/components/forms";
-import { refusalNotice, SettingsPage, SettingsSection, TimeCell } from "~/components/settings-page";
+import { DataTable } from "~/components/data-table";
+import { refusalNotice, SettingsPage, SettingsSection, TimeInput } from "~/components/settings-page";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Input } from "~/components/ui/input";
 import { StatusBadge } from "~/components/ui/notice";
@@ -183,6 +185,36 @@ export async function action({ request }: Route.ActionArgs) {
   return redirectWithToast(`/settings/sites?site=${id}`, { kind: "success", title: `Site ${parsed.data.name} saved` });
 }
 
+type Day = Route.ComponentProps["loaderData"]["days"][number];
+const col = createColumnHelper<Day>();
+
+/** A row per weekday: its name (with the day's errors), then when the site opens and closes. */
+const openingColumns = (errors: Errors) => [
+  col.accessor("name", {
+    header: "Day",
+    meta: { rowHeader: true },
+    cell: ({ row: { original: d } }) => (
+      <>
+        {d.name}
+        <ErrorList id={`hours-${d.weekday}-err`} errors={errors[`hours-${d.weekday}`]} />
+      </>
+    ),
+  }),
+  ...(["open", "close"] as const).map((k) =>
+    col.accessor(k, {
+      header: k === "open" ? "Opens" : "Closes",
+      cell: ({ row: { original: d } }) => (
+        <TimeInput
+          name={`${k}-${d.weekday}`}
+          label={`${d.name} ${k === "open" ? "opens" : "closes"}`}
+          defaultValue={d[k]}
+          errorId={errors[`hours-${d.weekday}`] ? `hours-${d.weekday}-err` : undefined}
+        />
+      ),
+    }),
+  ),
+];
+
 export default function Sites({ loaderData, actionData }: Route.ComponentProps) {
   const { sites: list, current, days, rooms: siteRooms } = loaderData;
   const navigation = useNavigation();
@@ -285,37 +317,14 @@ export default function Sites({ loaderData, actionData }: Route.ComponentProps) 
           <p className="mb-3 text-sm text-muted">
             Leave a day empty when the site is closed. Providers&apos; working hours at this site must fit inside.
           </p>
-          <table className="text-left text-sm">
-            <thead className="border-b border-line text-muted">
-              <tr>
-                <th className="py-2 pr-4 font-semibold">Day</th>
-                <th className="py-2 pr-4 font-semibold">Opens</th>
-                <th className="py-2 font-semibold">Closes</th>
-              </tr>
-            </thead>
-            <tbody className="divide-y divide-line">
-              {days.map((d) => {
-                const bad = Boolean(errors[`hours-${d.weekday}`]);
-                return (
-                  <tr key={d.weekday}>
-                    <th scope="row" className="py-2 pr-4 font-semibold">
-                      {d.name}
-                      <ErrorList id={`hours-${d.weekday}-err`} errors={errors[`hours-${d.weekday}`]} />
-                    </th>
-                    {(["open", "close"] as const).map((k) => (
-                      <TimeCell
-                        key={k}
-                        name={`${k}-${d.weekday}`}
-                        label={`${d.name} ${k === "open" ? "opens" : "closes"}`}
-                        defaultValue={d[k]}
-                        errorId={bad ? `hours-${d.weekday}-err` : undefined}
-                      />
-                    ))}
-                  </tr>
-                );
-              })}
-            </tbody>
-          </table>
+          <DataTable
+            data={days}
+            columns={openingColumns(errors)}
+            getRowId={(d) => String(d.weekday)}
+            caption="Opening hours by day"
+            empty="No days to show."
+            className="w-fit"
+          />
         </SettingsSection>
         <SettingsSection title="Rooms">
           {siteRooms.length ? (
