@@ -2,7 +2,6 @@ import { formatMoney } from "~/lib/format";
 import { createColumnHelper } from "@tanstack/react-table";
 import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { asc, eq } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/appointment-types";
@@ -12,10 +11,12 @@ import { EditLink, SettingsPage } from "~/components/settings-page";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
-import { appointmentTypes, feeItems, practiceSettings } from "~/db/schema";
-import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
+import {
+  appointmentTypesPage,
+  saveAppointmentType,
+  setReminderHours,
+} from "~/models/settings/appointment-types.server";
 import { ROLE_LABEL } from "~/utils/nav";
 import { redirectWithToast } from "~/utils/toast.server";
 import { decimalField } from "~/utils/number-field";
@@ -51,52 +52,17 @@ const reminderSchema = z.object({
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);
-  const types = await db.select().from(appointmentTypes).orderBy(asc(appointmentTypes.name));
-  const fees = await db
-    .select({
-      id: feeItems.id,
-      code: feeItems.code,
-      description: feeItems.description,
-      priceMinor: feeItems.priceMinor,
-    })
-    .from(feeItems)
-    .where(eq(feeItems.active, true))
-    .orderBy(asc(feeItems.code));
-  const [settings] = await db
-    .select({ reminderHoursBefore: practiceSettings.reminderHoursBefore, currency: practiceSettings.currency })
-    .from(practiceSettings)
-    .where(eq(practiceSettings.id, 1));
-  const edit = new URL(request.url).searchParams.get("edit");
-  return {
-    types,
-    fees,
-    editing: types.find((t) => t.id === edit) ?? null,
-    reminderHoursBefore: settings?.reminderHoursBefore ?? 24,
-    currency: settings?.currency ?? "GBP",
-  };
+  return appointmentTypesPage(new URL(request.url).searchParams.get("edit"));
 }
 
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, ["owner"]);
+  const actor = { userId: user.id, request };
   const formData = await request.formData();
   if (formData.get("intent") === "reminder") {
     const submission = parseWithZod(formData, { schema: reminderSchema });
     if (submission.status !== "success") return data(submission.reply(), { status: 400 });
-    await db.transaction(async (tx) => {
-      await tx
-        .update(practiceSettings)
-        .set({ reminderHoursBefore: submission.value.reminderHoursBefore, updatedAt: new Date() })
-        .where(eq(practiceSettings.id, 1));
-      await audit(
-        {
-          action: "practice.reminder_time_changed",
-          actorUserId: user.id,
-          detail: { hours: submission.value.reminderHoursBefore },
-          request,
-        },
-        tx,
-      );
-    });
+    await setReminderHours(submission.value.reminderHoursBefore, actor);
     return redirectWithToast("/settings/appointment-types", {
       kind: "success",
       title: `Reminders go out ${submission.value.reminderHoursBefore} hours before`,
@@ -105,40 +71,20 @@ export async function action({ request }: Route.ActionArgs) {
   const submission = parseWithZod(formData, { schema: typeSchema });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
   const v = submission.value;
-  const values = {
-    name: v.name,
-    durationMinutes: v.durationMinutes,
-    defaultFeeItemId: v.defaultFeeItemId || null,
-    recallMonths: v.recallMonths ?? null,
-    performerRoles: v.performerRoles,
-    routineExam: v.routineExam === "on",
-    onlineBooking: v.onlineBooking === "on",
-    active: v.active === "on",
-  };
-  const saved = await db.transaction(async (tx) => {
-    if (v.id) {
-      const [row] = await tx
-        .update(appointmentTypes)
-        .set(values)
-        .where(eq(appointmentTypes.id, v.id))
-        .returning({ id: appointmentTypes.id });
-      if (!row) return null;
-    } else {
-      await tx.insert(appointmentTypes).values(values);
-    }
-    await audit(
-      {
-        action: v.id ? "appointment_type.changed" : "appointment_type.created",
-        actorUserId: user.id,
-        entityType: "appointment_type",
-        entityId: v.id,
-        detail: values,
-        request,
-      },
-      tx,
-    );
-    return true;
-  });
+  const saved = await saveAppointmentType(
+    v.id,
+    {
+      name: v.name,
+      durationMinutes: v.durationMinutes,
+      defaultFeeItemId: v.defaultFeeItemId || null,
+      recallMonths: v.recallMonths ?? null,
+      performerRoles: v.performerRoles,
+      routineExam: v.routineExam === "on",
+      onlineBooking: v.onlineBooking === "on",
+      active: v.active === "on",
+    },
+    actor,
+  );
   if (!saved)
     return data(submission.reply({ formErrors: ["That appointment type no longer exists."] }), { status: 404 });
   return redirectWithToast("/settings/appointment-types", { kind: "success", title: `${v.name} saved` });

@@ -1,7 +1,6 @@
 import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { createColumnHelper } from "@tanstack/react-table";
-import { asc, eq, sql } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/fees";
@@ -11,15 +10,13 @@ import { EditLink, RowIntentButton, SettingsPage } from "~/components/settings-p
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
-import { feeItems, practiceSettings } from "~/db/schema";
 import { formatMoney } from "~/lib/format";
 import { formatRate, minorToDecimal, parseMoney } from "~/lib/money";
-import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
+import { feeCodeTaken, feeSchedulePage, saveFee, setFeeInUse, setTaxRate } from "~/models/settings/fees.server";
+import { practiceCurrency } from "~/models/settings/audited.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { decimalField } from "~/utils/number-field";
-import { notFound } from "~/utils/failure.server";
 
 const feeSchema = z.object({
   intent: z.literal("save"),
@@ -51,26 +48,13 @@ const schema = z.discriminatedUnion("intent", [feeSchema, toggleSchema, taxSchem
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);
-  const [settings] = await db
-    .select({ currency: practiceSettings.currency, taxRateBp: practiceSettings.taxRateBp })
-    .from(practiceSettings)
-    .where(eq(practiceSettings.id, 1));
-  const fees = await db
-    .select()
-    .from(feeItems)
-    .orderBy(sql`${feeItems.active} desc`, asc(feeItems.code));
-  const editId = new URL(request.url).searchParams.get("edit");
-  const editing = fees.find((f) => f.id === editId) ?? null;
-  return { currency: settings?.currency ?? "GBP", taxRateBp: settings?.taxRateBp ?? 0, fees, editing };
+  return feeSchedulePage(new URL(request.url).searchParams.get("edit"));
 }
 
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, ["owner"]);
-  const [settings] = await db
-    .select({ currency: practiceSettings.currency })
-    .from(practiceSettings)
-    .where(eq(practiceSettings.id, 1));
-  const currency = settings?.currency ?? "GBP";
+  const actor = { userId: user.id, request };
+  const currency = await practiceCurrency();
   const submission = parseWithZod(await request.formData(), {
     schema: schema.superRefine((v, ctx) => {
       if (v.intent === "save" && parseMoney(v.price, currency) === null)
@@ -87,10 +71,7 @@ export async function action({ request }: Route.ActionArgs) {
   const v = submission.value;
   if (v.intent === "tax") {
     const taxRateBp = Math.round(v.taxRate * 100);
-    await db.transaction(async (tx) => {
-      await tx.update(practiceSettings).set({ taxRateBp, updatedAt: new Date() }).where(eq(practiceSettings.id, 1));
-      await audit({ action: "billing.tax_rate_changed", actorUserId: user.id, detail: { taxRateBp }, request }, tx);
-    });
+    await setTaxRate(taxRateBp, actor);
     return redirectWithToast("/settings/fees", { kind: "success", title: `Tax rate set to ${formatRate(taxRateBp)}` });
   }
   if (v.intent === "save") {
@@ -101,52 +82,15 @@ export async function action({ request }: Route.ActionArgs) {
       kind: v.kind,
       taxCategory: v.taxCategory,
     };
-    const clash = await db
-      .select({ id: feeItems.id })
-      .from(feeItems)
-      .where(sql`lower(${feeItems.code}) = lower(${values.code})`);
-    if (clash.some((c) => c.id !== v.id))
+    if (await feeCodeTaken(values.code, v.id))
       return data(
         submission.reply({ fieldErrors: { code: [`The code ${values.code} is already in the fee schedule.`] } }),
         { status: 400 },
       );
-    await db.transaction(async (tx) => {
-      if (v.id) {
-        const done = await tx.update(feeItems).set(values).where(eq(feeItems.id, v.id)).returning({ id: feeItems.id });
-        if (!done.length) notFound("There is no such fee.");
-      } else await tx.insert(feeItems).values(values);
-      await audit(
-        {
-          action: v.id ? "billing.fee_changed" : "billing.fee_added",
-          actorUserId: user.id,
-          entityType: "fee_item",
-          entityId: v.id,
-          detail: values,
-          request,
-        },
-        tx,
-      );
-    });
+    await saveFee(v.id, values, actor);
     return redirectWithToast("/settings/fees", { kind: "success", title: `${values.code} saved` });
   }
-  await db.transaction(async (tx) => {
-    const done = await tx
-      .update(feeItems)
-      .set({ active: v.intent === "restore" })
-      .where(eq(feeItems.id, v.id))
-      .returning({ code: feeItems.code });
-    if (!done.length) notFound("There is no such fee.");
-    await audit(
-      {
-        action: `billing.fee_${v.intent === "restore" ? "restored" : "withdrawn"}`,
-        actorUserId: user.id,
-        entityType: "fee_item",
-        entityId: v.id,
-        request,
-      },
-      tx,
-    );
-  });
+  await setFeeInUse(v.id, v.intent === "restore", actor);
   return redirectWithToast("/settings/fees", {
     kind: "success",
     title: v.intent === "restore" ? "Fee restored" : "Fee withdrawn: it can no longer be added to invoices",

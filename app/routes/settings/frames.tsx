@@ -1,5 +1,4 @@
 import { parseWithZod } from "@conform-to/zod/v4";
-import { asc, desc, eq } from "drizzle-orm";
 import { createColumnHelper } from "@tanstack/react-table";
 import { data, Form } from "react-router";
 import { z } from "zod";
@@ -10,13 +9,11 @@ import { ActiveToggle, AddItemForm, SettingsPage } from "~/components/settings-p
 import { Button } from "~/components/ui/button";
 import { Input } from "~/components/ui/input";
 import { StatusBadge } from "~/components/ui/notice";
-import { frames, practiceSettings } from "~/db/schema";
 import { formatMoney } from "~/lib/format";
 import { parseMoney } from "~/lib/money";
-import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
-import { notFound } from "~/utils/failure.server";
+import { addFrame, changeFrame, framesPage } from "~/models/settings/frames.server";
+import { practiceCurrency } from "~/models/settings/audited.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { decimalField } from "~/utils/number-field";
 
@@ -48,16 +45,12 @@ const activeSchema = z.object({ intent: z.enum(["withdraw", "restore"]), id: z.u
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);
-  const rows = await db.select().from(frames).orderBy(desc(frames.active), asc(frames.supplier), asc(frames.model));
-  const [p] = await db
-    .select({ currency: practiceSettings.currency })
-    .from(practiceSettings)
-    .where(eq(practiceSettings.id, 1));
-  return { frames: rows.map((f) => ({ ...f, createdAt: undefined })), currency: p?.currency ?? "GBP" };
+  return framesPage();
 }
 
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, ["owner"]);
+  const actor = { userId: user.id, request };
   const formData = await request.formData();
   const intent = String(formData.get("intent"));
   const schema = intent === "add" ? frameSchema : intent === "stock" ? stockSchema : activeSchema;
@@ -66,60 +59,26 @@ export async function action({ request }: Route.ActionArgs) {
     return data({ intent, id: formData.get("id"), result: submission.reply() }, { status: 400 });
   const v = submission.value;
   if (v.intent === "add") {
-    const [p] = await db
-      .select({ currency: practiceSettings.currency })
-      .from(practiceSettings)
-      .where(eq(practiceSettings.id, 1));
-    const priceMinor = parseMoney(v.price, p?.currency ?? "GBP");
+    const priceMinor = parseMoney(v.price, await practiceCurrency());
     if (priceMinor === null || priceMinor < 0)
       return data(
         { intent, id: null, result: submission.reply({ fieldErrors: { price: ["Give a price such as 89.00."] } }) },
         { status: 400 },
       );
-    await db.transaction(async (tx) => {
-      const [f] = await tx
-        .insert(frames)
-        .values({
-          supplier: v.supplier,
-          model: v.model,
-          colour: v.colour,
-          size: v.size.replace(/[□ ]/g, "-"),
-          priceMinor,
-          quantity: v.quantity,
-        })
-        .returning({ id: frames.id });
-      await audit(
-        {
-          action: "frame.added",
-          actorUserId: user.id,
-          entityType: "frame",
-          entityId: f!.id,
-          detail: { ...v, priceMinor },
-          request,
-        },
-        tx,
-      );
-    });
+    await addFrame(
+      {
+        supplier: v.supplier,
+        model: v.model,
+        colour: v.colour,
+        size: v.size.replace(/[□ ]/g, "-"),
+        priceMinor,
+        quantity: v.quantity,
+      },
+      actor,
+    );
     return redirectWithToast("/settings/frames", { kind: "success", title: `${v.supplier} ${v.model} added to stock` });
   }
-  const changed = await db.transaction(async (tx) => {
-    const set = v.intent === "stock" ? { quantity: v.quantity } : { active: v.intent === "restore" };
-    const rows = await tx.update(frames).set(set).where(eq(frames.id, v.id)).returning({ model: frames.model });
-    if (rows.length)
-      await audit(
-        {
-          action: `frame.${v.intent}`,
-          actorUserId: user.id,
-          entityType: "frame",
-          entityId: v.id,
-          detail: set,
-          request,
-        },
-        tx,
-      );
-    return rows[0];
-  });
-  if (!changed) notFound("Not found.");
+  const changed = await changeFrame(v.id, v, actor);
   return redirectWithToast("/settings/frames", {
     kind: "success",
     title:

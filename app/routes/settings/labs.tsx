@@ -1,5 +1,4 @@
 import { parseWithZod } from "@conform-to/zod/v4";
-import { asc, desc, eq } from "drizzle-orm";
 import { createColumnHelper } from "@tanstack/react-table";
 import { data, Form } from "react-router";
 import { z } from "zod";
@@ -10,11 +9,8 @@ import { ActiveToggle, AddItemForm, SettingsPage, SettingsSection } from "~/comp
 import { Button } from "~/components/ui/button";
 import { Input } from "~/components/ui/input";
 import { StatusBadge } from "~/components/ui/notice";
-import { labs, practiceSettings } from "~/db/schema";
-import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
-import { notFound } from "~/utils/failure.server";
+import { addLab, labsPage, setLabInUse, setLabOverdueDays } from "~/models/settings/labs.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { decimalField } from "~/utils/number-field";
 
@@ -36,26 +32,12 @@ export const overdueSchema = z.object({
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);
-  const rows = await db.select().from(labs).orderBy(desc(labs.active), asc(labs.name));
-  const [p] = await db
-    .select({ labOverdueDays: practiceSettings.labOverdueDays })
-    .from(practiceSettings)
-    .where(eq(practiceSettings.id, 1));
-  return {
-    labs: rows.map((l) => ({
-      id: l.id,
-      name: l.name,
-      email: l.email,
-      phone: l.phone,
-      accountRef: l.accountRef,
-      active: l.active,
-    })),
-    labOverdueDays: p?.labOverdueDays ?? 10,
-  };
+  return labsPage();
 }
 
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, ["owner"]);
+  const actor = { userId: user.id, request };
   const formData = await request.formData();
   const intent = String(formData.get("intent"));
   const submission = parseWithZod(formData, {
@@ -64,50 +46,17 @@ export async function action({ request }: Route.ActionArgs) {
   if (submission.status !== "success") return data({ intent, result: submission.reply() }, { status: 400 });
   const v = submission.value;
   if (v.intent === "add") {
-    await db.transaction(async (tx) => {
-      const [l] = await tx
-        .insert(labs)
-        .values({ name: v.name, email: v.email, phone: v.phone, accountRef: v.accountRef })
-        .returning({ id: labs.id });
-      await audit(
-        { action: "lab.added", actorUserId: user.id, entityType: "lab", entityId: l!.id, detail: v, request },
-        tx,
-      );
-    });
+    await addLab({ name: v.name, email: v.email, phone: v.phone, accountRef: v.accountRef }, actor);
     return redirectWithToast("/settings/labs", { kind: "success", title: `${v.name} added` });
   }
   if (v.intent === "overdue") {
-    await db.transaction(async (tx) => {
-      await tx
-        .update(practiceSettings)
-        .set({ labOverdueDays: v.labOverdueDays, updatedAt: new Date() })
-        .where(eq(practiceSettings.id, 1));
-      await audit(
-        {
-          action: "practice.lab_overdue_days_changed",
-          actorUserId: user.id,
-          detail: { labOverdueDays: v.labOverdueDays },
-          request,
-        },
-        tx,
-      );
-    });
+    await setLabOverdueDays(v.labOverdueDays, actor);
     return redirectWithToast("/settings/labs", {
       kind: "success",
       title: `Orders at the lab over ${v.labOverdueDays} days are reported overdue`,
     });
   }
-  const row = await db.transaction(async (tx) => {
-    const [r] = await tx
-      .update(labs)
-      .set({ active: v.intent === "restore" })
-      .where(eq(labs.id, v.id))
-      .returning({ name: labs.name });
-    if (r)
-      await audit({ action: `lab.${v.intent}`, actorUserId: user.id, entityType: "lab", entityId: v.id, request }, tx);
-    return r;
-  });
-  if (!row) notFound("Not found.");
+  const row = await setLabInUse(v.id, v.intent, actor);
   return redirectWithToast("/settings/labs", {
     kind: "success",
     title: v.intent === "withdraw" ? `${row.name} hidden from new orders` : `${row.name} offered again`,
