@@ -109,7 +109,17 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
     await expectAccessible(page);
     await screenshot(page, "referral-preview");
 
-    await page.getByRole("button", { name: "Send letter" }).click();
+    // The letter reads in at most two pages (before its enclosures), and carries the exam's assessment and plan.
+    const pages = Number(
+      /Pages:\s+(\d+)/.exec(execFileSync("pdfinfo", [join(dir, "letter.pdf")], { encoding: "utf8" }))![1],
+    );
+    expect(pages).toBeLessThanOrEqual(2);
+    expect(text).toContain("Assessment and plan");
+    // Sending sits under the preview: the letter is read before it goes.
+    const send = page.getByRole("button", { name: "Send letter" });
+    const previewBox = (await page.getByTitle("Referral letter preview (PDF)").boundingBox())!;
+    expect((await send.boundingBox())!.y).toBeGreaterThan(previewBox.y + previewBox.height);
+    await send.click();
     await poll(() => page.getByText("Referral sent").count()).toBeGreaterThan(0);
     await poll(() => page.getByText("Sent", { exact: true }).count()).toBeGreaterThan(0);
     await expectAccessible(page);
@@ -117,10 +127,10 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
 
     // The e-mail with the PDF is in the mailbox page.
     const [mail] = await mailTo("l.ferreira-holt@brackenford-eye.test");
-    expect(mail!.subject).toMatch(/^Referral R-[0-9A-F]{8} \(/);
+    expect(mail!.subject).toMatch(/^Referral REF-\d{5} \(/);
     await page.goto(`/dev/mailbox?id=${mail!.id}`);
     await poll(() => page.getByRole("heading", { level: 2 }).first().textContent()).toBe(mail!.subject);
-    await poll(() => page.getByRole("link", { name: /^referral-R-[0-9A-F]{8}\.pdf$/ }).count()).toBe(1);
+    await poll(() => page.getByRole("link", { name: /^referral-REF-\d{5}\.pdf$/ }).count()).toBe(1);
     const href = await page.getByRole("link", { name: /\/r\/[\w-]+\.[\w-]+/ }).getAttribute("href");
     expect(href).toBeTruthy();
     await screenshot(page, "referral-mailbox");
@@ -128,7 +138,7 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
     // The ophthalmologist opens the link (no account), acknowledges and replies.
     const surgeon = await browser.newPage({ viewport: { width: 1024, height: 1000 } });
     await surgeon.goto(href!);
-    await poll(() => surgeon.getByRole("heading", { level: 1 }).textContent()).toMatch(/^Referral R-/);
+    await poll(() => surgeon.getByRole("heading", { level: 1 }).textContent()).toMatch(/^Referral REF-\d{5}$/);
     await poll(() => surgeon.getByText(`${candidate.name}, born`).count()).toBe(1);
     await expectAccessible(surgeon);
     await screenshot(surgeon, "referral-recipient");
@@ -136,8 +146,10 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
     await ack.getByLabel("Your name").fill("Mr Lucan Ferreira-Holt");
     await ack.getByRole("button", { name: "Acknowledge receipt" }).click();
     await poll(() => surgeon.getByText("receipt acknowledged").count()).toBe(1);
+    // Acknowledged once: the form is gone, and the name given there carries into the reply (typed once).
+    await poll(() => surgeon.getByRole("button", { name: "Acknowledge receipt" }).count()).toBe(0);
     const replyForm = surgeon.locator("form").filter({ has: surgeon.getByRole("button", { name: "Send reply" }) });
-    await replyForm.getByLabel("Your name").fill("Mr Lucan Ferreira-Holt");
+    await poll(() => replyForm.getByText("Responding as Mr Lucan Ferreira-Holt").count()).toBe(1);
     await replyForm
       .getByLabel("Short reply")
       .fill("Seen in the glaucoma clinic: pressures confirmed, fields booked. Will write in full.");

@@ -10,6 +10,7 @@ import {
   documents,
   examAcuity,
   examAnteriorChamber,
+  examAssessment,
   examDilations,
   examDiscs,
   examFundus,
@@ -24,6 +25,7 @@ import {
   examVisualFields,
   patients,
   practiceSettings,
+  referralEvents,
   referralLinks,
   referralMessages,
   referralReplies,
@@ -179,6 +181,11 @@ async function fixtureExam(opts: { signed?: boolean } = {}) {
       reliability: "good",
     },
   ]);
+  await db.insert(examAssessment).values({
+    examId,
+    assessment: "Raised IOP right with an enlarged blind spot; suspected glaucoma.",
+    plan: "Refer for glaucoma assessment; repeat IOP in 4 weeks if not seen.",
+  });
   return { patient: patient!, exam: exam! };
 }
 
@@ -243,6 +250,12 @@ describe("the letter", () => {
     const bytes = await res.arrayBuffer();
     text = pdfText(bytes);
     raw = pdfText(bytes, "raw");
+  });
+
+  it("carries the exam's assessment and plan under their own heading", () => {
+    expect(raw).toContain("Assessment and plan");
+    expect(raw).toContain("Assessment: Raised IOP right with an enlarged blind spot; suspected glaucoma.");
+    expect(raw).toContain("Plan: Refer for glaucoma assessment; repeat IOP in 4 weeks if not seen.");
   });
 
   it("carries exactly the exam's measured IOP, blind spots, acuity and refraction", async () => {
@@ -938,11 +951,9 @@ describe("sending and the recipient's link", () => {
     expect(sent!.timeFrameDays).toBe(7);
     const mails = await mailTo(rec.email!);
     expect(mails).toHaveLength(1);
-    expect(mails[0]!.subject).toMatch(/^Referral R-[0-9A-F]{8} \(Urgent\)/);
+    expect(mails[0]!.subject).toMatch(/^Referral REF-\d{5} \(Urgent\)/);
     expect(mails[0]!.subject).not.toContain("Fenwick");
-    expect(mails[0]!.attachments.map((a) => a.filename)).toEqual([
-      expect.stringMatching(/^referral-R-[0-9A-F]{8}\.pdf$/),
-    ]);
+    expect(mails[0]!.attachments.map((a) => a.filename)).toEqual([expect.stringMatching(/^referral-REF-\d{5}\.pdf$/)]);
     expect(linkIn(mails[0]!.text, "/r/").pathname).toMatch(/^\/r\/[\w-]+\.[\w-]+$/);
   });
 
@@ -1098,6 +1109,17 @@ describe("sending and the recipient's link", () => {
     expect(statusOf(await run(replyAction, form({ intent: "acknowledge", name: "Dr Test Surgeon" }), { token }))).toBe(
       200,
     );
+    // A second acknowledgement is refused, saying when and by whom; only one is recorded.
+    const second = await run(replyAction, form({ intent: "acknowledge", name: "Dr Someone Else" }), { token });
+    expect(statusOf(second)).toBe(409);
+    expect(dataOf<{ result: { error: Record<string, string[]> } }>(second).result.error[""]![0]).toMatch(
+      /^Receipt was already acknowledged on .+ by Dr Test Surgeon\.$/,
+    );
+    const acks = await db
+      .select()
+      .from(referralEvents)
+      .where(and(eq(referralEvents.referralId, id), eq(referralEvents.kind, "acknowledged")));
+    expect(acks).toHaveLength(1);
     expect(
       statusOf(
         await run(replyAction, form({ intent: "appointment", name: "Dr Test Surgeon", date: "2026-02-30" }), { token }),

@@ -168,6 +168,8 @@ export type ReferralSnapshot = {
     reliability: string | null;
   }[];
   diagnoses: { code: string; label: string; eye: string }[];
+  /** The exam's assessment and plan (absent in snapshots taken before letters carried them). */
+  assessment?: { assessment: string; plan: string } | null;
   prompts: { code: string; eye: string; message: string; value: number | string; rule: string; source: string }[];
 };
 
@@ -176,6 +178,8 @@ export const referrals = pgTable(
   "referrals",
   {
     id: uuid().primaryKey().defaultRandom(),
+    /** The practice's running number of the referral, shown as its reference (REF-00042). */
+    number: integer().notNull().generatedAlwaysAsIdentity(),
     patientId: uuid()
       .notNull()
       .references(() => patients.id, { onDelete: "restrict" }),

@@ -8,8 +8,8 @@ import { DomainError, type FailureStatus, type FieldErrors } from "~/utils/failu
 export const UUID_RE = /^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$/i;
 export const isUuid = (v: string | null | undefined): v is string => !!v && UUID_RE.test(v);
 
-/** A short reference for letters and e-mails (never the patient's name in a subject line). */
-export const referenceOf = (id: string) => `R-${id.slice(0, 8).toUpperCase()}`;
+/** The referral's reference for letters and e-mails, from its running number (never the patient's name in a subject line). */
+export const referenceOf = (number: number) => `REF-${String(number).padStart(5, "0")}`;
 
 /**
  * A referral rule that refuses. A message for the whole form has no field; `inFields` builds one

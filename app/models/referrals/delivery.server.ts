@@ -236,7 +236,7 @@ async function composeMail(tx: Tx, m: typeof referralMessages.$inferSelect): Pro
   const [r] = await tx.select().from(referrals).where(eq(referrals.id, m.referralId));
   const loaded = await loadReferral(r!.id);
   const p = await practice();
-  const ref = referenceOf(r!.id);
+  const ref = referenceOf(r!.number);
   const [link] = m.linkId ? await tx.select().from(referralLinks).where(eq(referralLinks.id, m.linkId)) : [];
   const url = link ? linkUrl(signLink(link)) : null;
   const expires = link ? formatDate(link.expiresAt, p.timeZone) : "";

@@ -28,6 +28,8 @@ export type LetterInput = {
   body: string;
   findings: { finding: string; eye: string; value: string }[];
   additionalFindings: string;
+  /** The optometrist's assessment and plan from the exam. */
+  assessmentPlan?: { assessment: string; plan: string } | null;
   measurements: { title: string; columns: string[]; widths: number[]; rows: string[][] }[];
   history: string;
   exam: { examinedOn: string; signedOn: string | null };
@@ -41,7 +43,7 @@ export const CAUTION =
   "The findings and the urgency were proposed from the exam record to support the optometrist's judgement; they are not a diagnosis. Check the measurements before acting on them. Local law and licensed practice govern referrals.";
 
 const A4 = { width: 595.28, height: 841.89 };
-const MARGIN = { left: 56, right: 56, top: 56, bottom: 72 };
+const MARGIN = { left: 56, right: 56, top: 50, bottom: 64 };
 const INK = rgb(0.1, 0.12, 0.16);
 const MUTED = rgb(0.36, 0.39, 0.45);
 const ACCENT = rgb(0.06, 0.36, 0.42);
@@ -100,10 +102,10 @@ class Writer {
     text: string,
     opts: { size?: number; bold?: boolean; color?: ReturnType<typeof rgb>; indent?: number; gap?: number } = {},
   ) {
-    const size = opts.size ?? 10.5;
+    const size = opts.size ?? 10;
     const face: Face = opts.bold ? "bold" : "regular";
     const indent = opts.indent ?? 0;
-    const leading = size * 1.38;
+    const leading = size * 1.3;
     for (const line of this.wrap(text, face, size, this.width - indent)) {
       this.ensure(leading);
       this.draw(this.page, line, { x: MARGIN.left + indent, y: this.y - size, size, face, color: opts.color ?? INK });
@@ -114,8 +116,8 @@ class Writer {
 
   heading(text: string) {
     this.ensure(40);
-    this.y -= 8;
-    this.text(text, { size: 12.5, bold: true, color: ACCENT, gap: 2 });
+    this.y -= 5;
+    this.text(text, { size: 11.5, bold: true, color: ACCENT, gap: 1 });
   }
 
   rule() {
@@ -130,9 +132,9 @@ class Writer {
 
   /** A table whose rows wrap inside their cells and never split across pages; the header repeats. */
   table(columns: string[], widths: number[], rows: string[][]) {
-    const size = 9.5;
-    const leading = size * 1.35;
-    const pad = 4;
+    const size = 8.5;
+    const leading = size * 1.25;
+    const pad = 2.5;
     const total = widths.reduce((a, b) => a + b, 0);
     const cols = widths.map((w) => (w / total) * this.width);
     const drawRow = (cells: string[], header: boolean) => {
@@ -182,7 +184,7 @@ class Writer {
       }
       paint(row, false);
     }
-    this.y -= 8;
+    this.y -= 5;
   }
 }
 
@@ -270,12 +272,19 @@ export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
   if (input.additionalFindings.trim()) w.text(input.additionalFindings);
   w.text(CAUTION, { size: 8.5, color: MUTED, gap: 6 });
 
+  const ap = input.assessmentPlan;
+  if (ap && (ap.assessment.trim() || ap.plan.trim())) {
+    w.heading("Assessment and plan");
+    if (ap.assessment.trim()) w.text(`Assessment: ${ap.assessment.trim()}`, { gap: 3 });
+    if (ap.plan.trim()) w.text(`Plan: ${ap.plan.trim()}`);
+  }
+
   if (input.measurements.length) {
     w.heading("Measurements at this exam");
     for (const m of input.measurements) {
       // Keep a table's title with its header and first rows.
-      w.ensure(90);
-      w.text(m.title, { size: 10.5, bold: true, gap: 2 });
+      w.ensure(70);
+      w.text(m.title, { size: 9.5, bold: true, gap: 1 });
       w.table(m.columns, m.widths, m.rows);
     }
   }
@@ -302,9 +311,9 @@ export async function buildLetterPdf(input: LetterInput): Promise<Uint8Array> {
   }
 
   // Signature block.
-  w.ensure(110);
-  w.y -= 16;
-  w.text("Yours sincerely,", { gap: 26 });
+  w.ensure(84);
+  w.y -= 8;
+  w.text("Yours sincerely,", { gap: 22 });
   w.page.drawLine({ start: { x: 56, y: w.y + 8 }, end: { x: 256, y: w.y + 8 }, thickness: 0.6, color: MUTED });
   w.text(input.optometrist.name, { bold: true, gap: 0 });
   w.text(

@@ -244,7 +244,7 @@ export async function letterInput(
       email: p.email,
     },
     dated: formatDate(r.referral.sentAt ?? r.referral.queuedAt ?? new Date(), tz),
-    reference: referenceOf(r.referral.id),
+    reference: referenceOf(r.referral.number),
     recipient: rec
       ? {
           name: rec.name,
@@ -286,6 +286,7 @@ export async function letterInput(
       .filter((x) => selected.has(findingKey(x)))
       .map((x) => ({ finding: x.message, eye: EYE_WORD[x.eye as "both"] ?? x.eye, value: promptValue(x) })),
     additionalFindings: r.referral.additionalFindings,
+    assessmentPlan: s.assessment ?? null,
     measurements,
     history: r.referral.relevantHistory,
     exam: {

@@ -97,7 +97,7 @@ export async function referralPageData(
   const due = dueBy(r.referral);
   const summary = {
     id: r.referral.id,
-    reference: referenceOf(r.referral.id),
+    reference: referenceOf(r.referral.number),
     stored: r.referral.status,
     status,
     urgency: URGENCY_LABEL[r.referral.urgency],

@@ -1,5 +1,5 @@
 /** The recipient's side through the signed link: the summary, acknowledging, the appointment and the reply. */
-import { asc, eq } from "drizzle-orm";
+import { and, asc, desc, eq, isNotNull, sql } from "drizzle-orm";
 import { referralEvents, referralReplies, referrals, users } from "~/db/schema";
 import { describeTimeFrame, findingKey, promptValue, timeFramesOf, URGENCY_LABEL } from "~/lib/referrals";
 import { audit } from "~/utils/audit.server";
@@ -9,10 +9,27 @@ import { ReferralError, formatDate, practice, referenceOf } from "./common.serve
 import { queueMessage, tryNow } from "./delivery.server";
 import { loadReferral } from "./drafts.server";
 
-/** What the recipient's page shows: a summary, no more of the chart than the letter carries. */
-export async function publicSummary(referralId: string) {
+/**
+ * What the recipient's page shows: a summary, no more of the chart than the letter carries, and
+ * the name last given through this link (so the recipient types it once).
+ */
+export async function publicSummary(referralId: string, linkId?: string) {
   const r = await loadReferral(referralId);
   const p = await practice();
+  const [last] = linkId
+    ? await db
+        .select({ name: referralEvents.actorName })
+        .from(referralEvents)
+        .where(
+          and(
+            eq(referralEvents.referralId, referralId),
+            isNotNull(referralEvents.actorName),
+            sql`${referralEvents.detail}->>'linkId' = ${linkId}`,
+          ),
+        )
+        .orderBy(desc(referralEvents.at))
+        .limit(1)
+    : [];
   const selected = new Set(r.referral.selectedFindings);
   const replies = await db
     .select({
@@ -26,7 +43,7 @@ export async function publicSummary(referralId: string) {
     .where(eq(referralReplies.referralId, referralId))
     .orderBy(asc(referralReplies.createdAt));
   return {
-    reference: referenceOf(r.referral.id),
+    reference: referenceOf(r.referral.number),
     practice: { name: p.name, phone: p.phone, email: p.email },
     optometrist: { name: r.author.name, licence: r.author.licenceNumber ?? "" },
     recipient: r.recipient ? { name: r.recipient.name, clinic: r.recipient.clinic } : null,
@@ -45,6 +62,7 @@ export async function publicSummary(referralId: string) {
     status: r.referral.status,
     acknowledgedAt: r.referral.acknowledgedAt ? formatDate(r.referral.acknowledgedAt, p.timeZone) : null,
     acknowledgedBy: r.referral.acknowledgedBy,
+    responder: last?.name ?? "",
     appointmentOn: r.referral.appointmentOn,
     replies: replies.map((x) => ({
       ...x,
@@ -70,16 +88,22 @@ export async function acknowledge(referralId: string, linkId: string, name: stri
   await db.transaction(async (tx) => {
     const r = await lockLive(tx, referralId);
     const now = new Date();
-    if (!r.acknowledgedAt)
-      await tx
-        .update(referrals)
-        .set({
-          acknowledgedAt: now,
-          acknowledgedBy: name,
-          status: r.status === "sent" ? "acknowledged" : r.status,
-          updatedAt: now,
-        })
-        .where(eq(referrals.id, referralId));
+    if (r.acknowledgedAt) {
+      const p = await practice();
+      throw new ReferralError(
+        `Receipt was already acknowledged on ${formatDate(r.acknowledgedAt, p.timeZone)}${r.acknowledgedBy ? ` by ${r.acknowledgedBy}` : ""}.`,
+        { status: 409 },
+      );
+    }
+    await tx
+      .update(referrals)
+      .set({
+        acknowledgedAt: now,
+        acknowledgedBy: name,
+        status: r.status === "sent" ? "acknowledged" : r.status,
+        updatedAt: now,
+      })
+      .where(eq(referrals.id, referralId));
     await tx.insert(referralEvents).values({ referralId, kind: "acknowledged", actorName: name, detail: { linkId } });
     await audit(
       {

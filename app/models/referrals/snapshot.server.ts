@@ -285,6 +285,7 @@ export async function snapshotOf(exam: typeof exams.$inferSelect): Promise<Lette
         reliability: r.reliability ? (RELIABILITY[r.reliability] ?? r.reliability) : null,
       })),
     diagnoses: s.diagnoses.map((d) => ({ code: d.code, label: d.label, eye: d.eye })),
+    assessment: s.assessment ? { assessment: s.assessment.assessment, plan: s.assessment.plan } : null,
     prompts: prompts.map((p) => ({
       code: p.code,
       eye: p.eye,

@@ -11,6 +11,7 @@ export async function trackingRows(now = new Date()) {
   const rows = await db
     .select({
       id: referrals.id,
+      number: referrals.number,
       status: referrals.status,
       urgency: referrals.urgency,
       sentAt: referrals.sentAt,
@@ -43,7 +44,7 @@ export async function trackingRows(now = new Date()) {
     const due = dueBy(r);
     return {
       id: r.id,
-      reference: referenceOf(r.id),
+      reference: referenceOf(r.number),
       patient: `${r.lastName}, ${r.firstName}`,
       patientId: r.patientId,
       recipient: r.recipientName ? `${r.recipientName}${r.recipientClinic ? `, ${r.recipientClinic}` : ""}` : "—",
@@ -139,7 +140,7 @@ export async function referralsForChart(patientId: string, opts: { clinical: boo
     : [];
   return rows.map(({ referral: r, recipientName, recipientClinic }) => ({
     id: r.id,
-    reference: referenceOf(r.id),
+    reference: referenceOf(r.number),
     status: displayStatus(r, now, p.timeZone),
     urgency: r.urgency,
     recipient: recipientName ? `${recipientName}${recipientClinic ? `, ${recipientClinic}` : ""}` : null,

@@ -323,12 +323,10 @@ export function LetterForm({
           </Button>
         ) : (
           <>
-            <Button type="submit" name="intent" value="send" pending={busy === "send"}>
-              Send letter
-            </Button>
-            <Button type="submit" name="intent" value="save" variant="secondary" pending={busy === "save"}>
+            <Button type="submit" name="intent" value="save" pending={busy === "save"}>
               Save draft and preview
             </Button>
+            <p className="self-center text-sm text-muted">The letter is sent from below its preview.</p>
           </>
         )}
       </div>

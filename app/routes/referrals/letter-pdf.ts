@@ -20,7 +20,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return new Response(Buffer.from(pdf), {
     headers: {
       "content-type": "application/pdf",
-      "content-disposition": `${download ? "attachment" : "inline"}; filename="referral-${referenceOf(r.referral.id)}.pdf"`,
+      "content-disposition": `${download ? "attachment" : "inline"}; filename="referral-${referenceOf(r.referral.number)}.pdf"`,
       "cache-control": "private, no-store",
       "x-content-type-options": "nosniff",
     },

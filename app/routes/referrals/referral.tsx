@@ -1,6 +1,6 @@
 import { parseWithZod } from "@conform-to/zod/v4";
 import { desc, eq } from "drizzle-orm";
-import { data, Form, Link } from "react-router";
+import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/referral";
 import { draftValuesOf, LetterForm, letterSchema } from "./letter-form";
@@ -281,6 +281,7 @@ export default function ReferralPage({ loaderData, actionData }: Route.Component
               </p>
             </section>
           ) : null}
+          {loaderData.draft ? <SendBelowPreview previewing={loaderData.preview} /> : null}
         </div>
         <div className="space-y-6">
           <StatusPanel s={s} clinical />
@@ -289,6 +290,34 @@ export default function ReferralPage({ loaderData, actionData }: Route.Component
         </div>
       </div>
     </>
+  );
+}
+
+/** Sending sits under the letter's preview, so the letter is read before it goes; the button submits the letter form above. */
+function SendBelowPreview({ previewing }: { previewing: boolean }) {
+  const navigation = useNavigation();
+  const busy = navigation.state === "submitting" && navigation.formData?.get("intent") === "send";
+  return (
+    <Card title="Send the letter">
+      {previewing ? (
+        <>
+          <p className="mb-3 text-sm">
+            Sending saves any change made above, e-mails the letter to the recipient with a link for their reply, and
+            records it in the patient's chart.
+          </p>
+          <Button type="submit" form="letter" name="intent" value="send" pending={busy}>
+            Send letter
+          </Button>
+        </>
+      ) : (
+        <p className="text-sm">
+          <Link to="?preview=1#preview" className="font-semibold text-accent-700 underline underline-offset-4">
+            Preview the letter
+          </Link>{" "}
+          to send it: the send button is under the preview.
+        </p>
+      )}
+    </Card>
   );
 }
 

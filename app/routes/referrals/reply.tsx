@@ -3,7 +3,7 @@ import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/reply";
-import { Done, Shell, useLast, type ActionData } from "./reply-parts";
+import { Done, NameField, Shell, useLast, type ActionData } from "./reply-parts";
 import { linkAccess, linkRefusal } from "~/models/referrals/public.server";
 import {
   acknowledge,
@@ -73,7 +73,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   }
   await linkAccess(check, patient.id, request, "page");
   return data(
-    { state: "ok" as const, summary: await publicSummary(check.referralId) },
+    { state: "ok" as const, summary: await publicSummary(check.referralId, check.linkId) },
     { headers: { "referrer-policy": "no-referrer", "cache-control": "no-store" } },
   );
 }
@@ -177,20 +177,24 @@ export async function action({ request, params }: Route.ActionArgs) {
 export default function ReplyPage({ loaderData, actionData, params }: Route.ComponentProps) {
   const navigation = useNavigation();
   const a = actionData as ActionData;
+  const responder = loaderData.state === "ok" ? loaderData.summary.responder : "";
   const [ackForm, ack] = useForm({
     id: "acknowledge",
+    defaultValue: { name: responder },
     lastResult: useLast("acknowledge", a),
     onValidate: ({ formData }) => parseWithZod(formData, { schema: ackSchema }),
     shouldValidate: "onBlur",
   });
   const [apptForm, appt] = useForm({
     id: "appointment",
+    defaultValue: { name: responder },
     lastResult: useLast("appointment", a),
     onValidate: ({ formData }) => parseWithZod(formData, { schema: apptSchema }),
     shouldValidate: "onBlur",
   });
   const [replyForm, rep] = useForm({
     id: "reply",
+    defaultValue: { name: responder },
     lastResult: useLast("reply", a),
     onValidate: ({ formData }) => parseWithZod(formData, { schema: replySchema }),
     shouldValidate: "onBlur",
@@ -277,17 +281,20 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
 
         <Card title="Acknowledge receipt">
           <Done a={a} intent="acknowledge" />
-          <Form method="post" {...getFormProps(ackForm)} className="grid gap-4 sm:grid-cols-[1fr_auto] sm:items-end">
-            <input type="hidden" name="intent" value="acknowledge" />
-            <Field
-              label="Your name"
-              errors={ack.name.errors}
-              inputProps={{ ...getInputProps(ack.name, { type: "text" }), autoComplete: "name" }}
-            />
-            <Button type="submit" pending={busy === "acknowledge"}>
-              Acknowledge receipt
-            </Button>
-          </Form>
+          {s.acknowledgedAt ? (
+            <p className="text-sm">
+              Receipt acknowledged on {s.acknowledgedAt}
+              {s.acknowledgedBy ? ` by ${s.acknowledgedBy}` : ""}.
+            </p>
+          ) : (
+            <Form method="post" {...getFormProps(ackForm)} className="grid gap-4 sm:grid-cols-[1fr_auto] sm:items-end">
+              <input type="hidden" name="intent" value="acknowledge" />
+              <NameField field={ack.name} responder={responder} />
+              <Button type="submit" pending={busy === "acknowledge"}>
+                Acknowledge receipt
+              </Button>
+            </Form>
+          )}
         </Card>
 
         <Card title="Appointment">
@@ -298,11 +305,7 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
             className="grid gap-4 sm:grid-cols-[1fr_1fr_auto] sm:items-end"
           >
             <input type="hidden" name="intent" value="appointment" />
-            <Field
-              label="Your name"
-              errors={appt.name.errors}
-              inputProps={{ ...getInputProps(appt.name, { type: "text" }), autoComplete: "name" }}
-            />
+            <NameField field={appt.name} responder={responder} />
             <Field
               label="Appointment date"
               errors={appt.date.errors}
@@ -318,11 +321,7 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
           <Done a={a} intent="reply" />
           <Form method="post" encType="multipart/form-data" {...getFormProps(replyForm)} className="grid gap-4">
             <input type="hidden" name="intent" value="reply" />
-            <Field
-              label="Your name"
-              errors={rep.name.errors}
-              inputProps={{ ...getInputProps(rep.name, { type: "text" }), autoComplete: "name" }}
-            />
+            <NameField field={rep.name} responder={responder} />
             <div>
               <label htmlFor={rep.body.id} className="mb-1 block text-sm font-semibold">
                 Short reply
