@@ -35,14 +35,15 @@ ALTER TABLE "prescription_eyes" ADD COLUMN "prism_horizontal" double precision;-
 ALTER TABLE "prescription_eyes" ADD COLUMN "prism_horizontal_base" "prism_base";--> statement-breakpoint
 ALTER TABLE "prescription_eyes" ADD COLUMN "prism_vertical" double precision;--> statement-breakpoint
 ALTER TABLE "prescription_eyes" ADD COLUMN "prism_vertical_base" "prism_base";--> statement-breakpoint
+ALTER TABLE "prescription_eyes" ADD COLUMN "contact_lens_id" uuid;--> statement-breakpoint
+ALTER TABLE "prescription_eyes" ADD COLUMN "lens_manufacturer" text;--> statement-breakpoint
+ALTER TABLE "prescription_eyes" ADD COLUMN "lens_name" text;--> statement-breakpoint
+ALTER TABLE "prescription_eyes" ADD COLUMN "lens_material" text;--> statement-breakpoint
+ALTER TABLE "prescription_eyes" ADD COLUMN "lens_replacement" "lens_replacement";--> statement-breakpoint
 ALTER TABLE "prescription_eyes" ADD COLUMN "pd_distance_mm" double precision;--> statement-breakpoint
 ALTER TABLE "prescription_eyes" ADD COLUMN "pd_near_mm" double precision;--> statement-breakpoint
-ALTER TABLE "prescriptions" ADD COLUMN "contact_lens_id" uuid;--> statement-breakpoint
-ALTER TABLE "prescriptions" ADD COLUMN "lens_manufacturer" text;--> statement-breakpoint
-ALTER TABLE "prescriptions" ADD COLUMN "lens_material" text;--> statement-breakpoint
-ALTER TABLE "prescriptions" ADD COLUMN "lens_replacement" "lens_replacement";--> statement-breakpoint
 ALTER TABLE "prescriptions" ADD COLUMN "lens_use" text;--> statement-breakpoint
 ALTER TABLE "prescriptions" ADD COLUMN "statement" "prescription_statement" DEFAULT 'none' NOT NULL;--> statement-breakpoint
 ALTER TABLE "prescriptions" ADD COLUMN "referred" boolean DEFAULT false NOT NULL;--> statement-breakpoint
 ALTER TABLE "exam_contact_lens" ADD CONSTRAINT "exam_contact_lens_exam_id_exams_id_fk" FOREIGN KEY ("exam_id") REFERENCES "public"."exams"("id") ON DELETE cascade ON UPDATE no action;--> statement-breakpoint
-ALTER TABLE "prescriptions" ADD CONSTRAINT "prescriptions_contact_lens_id_contact_lenses_id_fk" FOREIGN KEY ("contact_lens_id") REFERENCES "public"."contact_lenses"("id") ON DELETE restrict ON UPDATE no action;
+ALTER TABLE "prescription_eyes" ADD CONSTRAINT "prescription_eyes_contact_lens_id_contact_lenses_id_fk" FOREIGN KEY ("contact_lens_id") REFERENCES "public"."contact_lenses"("id") ON DELETE restrict ON UPDATE no action;

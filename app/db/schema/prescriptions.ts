@@ -48,11 +48,6 @@ export const prescriptions = pgTable(
     notes: text().notNull().default(""),
     /** Contact lenses: the lens the powers are for. */
     lensName: text(),
-    /** Contact lenses: the catalogue lens fitted, and its maker, material and replacement as at issue. */
-    contactLensId: uuid().references(() => contactLenses.id, { onDelete: "restrict" }),
-    lensManufacturer: text(),
-    lensMaterial: text(),
-    lensReplacement: lensReplacementEnum(),
     /** Spectacles: what the lenses are for (distance, near, varifocal…). */
     lensUse: text(),
     statement: prescriptionStatementEnum().notNull().default("none"),
@@ -97,6 +92,12 @@ export const prescriptionEyes = pgTable(
     prismHorizontalBase: prismBaseEnum(),
     prismVertical: doublePrecision(),
     prismVerticalBase: prismBaseEnum(),
+    /** Contact lenses: the catalogue lens fitted, and its maker, name, material and replacement as at issue. */
+    contactLensId: uuid().references(() => contactLenses.id, { onDelete: "restrict" }),
+    lensManufacturer: text(),
+    lensName: text(),
+    lensMaterial: text(),
+    lensReplacement: lensReplacementEnum(),
     /** Monocular pupillary distances, mm. */
     pdDistanceMm: doublePrecision(),
     pdNearMm: doublePrecision(),

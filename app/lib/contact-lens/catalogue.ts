@@ -92,7 +92,9 @@ export function checkLensPower(lens: CatalogueLens, power: SphCyl, where: string
   const step = lens.axisStep ?? 1;
   if (!onStep(rx.axis, step)) {
     const near = neighbours(rx.axis, step, 0, 180, 0).map((a) => (a === 0 ? 180 : a));
-    errors.push(`${where}: axis ${rx.axis} is not made; ${name} comes in ${step}° steps (nearest ${near.join(" or ")}).`);
+    errors.push(
+      `${where}: axis ${rx.axis} is not made; ${name} comes in ${step}° steps (nearest ${near.join(" or ")}).`,
+    );
   }
   return errors;
 }
@@ -123,14 +125,25 @@ export function vertexGuide(spectacle: SphCyl, vertexMm: number): { exact: SphCy
 type Errors = Record<string, string[]>;
 
 /** A list of numbers typed with commas or spaces ("8.4, 8.7"), each within [min, max]. */
-export function parseNumberList(text: string, label: string, min: number, max: number): { values: number[]; error?: string } {
+export function parseNumberList(
+  text: string,
+  label: string,
+  min: number,
+  max: number,
+): { values: number[]; error?: string } {
+  if (/(^|[^\d.])\d+,\d+([^\d.]|$)/.test(text))
+    return {
+      values: [],
+      error: `${label}: "${text.trim()}" — use a decimal point, not a comma, and separate values with a comma and a space.`,
+    };
   const parts = text
     .replace(/\u2212/g, "-")
     .split(/[,;\s]+/)
     .filter(Boolean);
   const values: number[] = [];
   for (const p of parts) {
-    if (!/^[+-]?\d+(\.\d+)?$/.test(p)) return { values: [], error: `${label}: "${p}" is not a number; separate values with commas.` };
+    if (!/^[+-]?\d+(\.\d+)?$/.test(p))
+      return { values: [], error: `${label}: "${p}" is not a number; separate values with commas.` };
     const n = Number(p);
     if (n < min || n > max) return { values: [], error: `${label}: ${p} is outside ${min} to ${max}.` };
     if (!values.includes(n)) values.push(n);
@@ -139,7 +152,9 @@ export function parseNumberList(text: string, label: string, min: number, max: n
 }
 
 /** The owner's form for a catalogue lens, checked field by field. */
-export function parseCatalogueLens(form: Record<string, string | undefined>): { ok: true; value: Omit<CatalogueLens, "id"> } | { ok: false; errors: Errors } {
+export function parseCatalogueLens(
+  form: Record<string, string | undefined>,
+): { ok: true; value: Omit<CatalogueLens, "id"> } | { ok: false; errors: Errors } {
   const errors: Errors = {};
   const t = (k: string) => (form[k] ?? "").trim();
   const need = (k: string, label: string) => {
@@ -172,17 +187,18 @@ export function parseCatalogueLens(form: Record<string, string | undefined>): { 
       return NaN;
     }
     const n = Number(s);
-    if (n < min || n > max) errors[k] = [`${label[0]!.toUpperCase()}${label.slice(1)}: ${s} is outside ${min} to ${max}.`];
+    if (n < min || n > max)
+      errors[k] = [`${label[0]!.toUpperCase()}${label.slice(1)}: ${s} is outside ${min} to ${max}.`];
     return n;
   };
   const sphereMin = num("sphereMin", "lowest sphere (D)", -30, 30);
   const sphereMax = num("sphereMax", "highest sphere (D)", -30, 30);
   const sphereStep = num("sphereStep", "sphere step (D)", 0.25, 1);
-  if (!errors.sphereStep && !onStep(sphereStep, 0.25)) errors.sphereStep = ["Sphere step: use 0.25, 0.50, 0.75 or 1.00."];
+  if (!errors.sphereStep && !onStep(sphereStep, 0.25))
+    errors.sphereStep = ["Sphere step: use 0.25, 0.50, 0.75 or 1.00."];
   if (!errors.sphereMin && !errors.sphereMax && sphereMin >= sphereMax)
     errors.sphereMax = ["The highest sphere must be above the lowest."];
-  for (const c of cylinders)
-    if (!onStep(c, 0.25)) errors.cylinders = [`Toric cylinders: ${c} is not in 0.25 D steps.`];
+  for (const c of cylinders) if (!onStep(c, 0.25)) errors.cylinders = [`Toric cylinders: ${c} is not in 0.25 D steps.`];
   let axisStep: number | null = null;
   if (cylinders.length) {
     const a = num("axisStep", "axis step (°)", 1, 90);

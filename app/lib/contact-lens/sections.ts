@@ -82,7 +82,15 @@ export const CL_EYE_PARTS = [
   ...(Object.keys(GRADES) as GradeKey[]).map((g) => `gr_${g}` as const),
 ] as const;
 export type ClEyePart = (typeof CL_EYE_PARTS)[number];
-export const CL_COMMON_PARTS = ["topography", "wearHours", "wearDays", "wornToday", "care", "careNotes", "advice"] as const;
+export const CL_COMMON_PARTS = [
+  "topography",
+  "wearHours",
+  "wearDays",
+  "wornToday",
+  "care",
+  "careNotes",
+  "advice",
+] as const;
 export type ClCommonPart = (typeof CL_COMMON_PARTS)[number];
 
 /** Field names as the section's form posts them. */
@@ -189,7 +197,10 @@ export function parseClSection(
     const ksteep = parseNumber(f("ksteep"), `${E} steep K (mm)`, 5, 11, { step: 0.01 });
     if (ksteep.error) err("ksteep", ksteep.error);
     if (kflat.value !== null && ksteep.value !== null && ksteep.value > kflat.value)
-      err("ksteep", `${E}: the steep K radius (${ksteep.value} mm) cannot be longer than the flat K (${kflat.value} mm).`);
+      err(
+        "ksteep",
+        `${E}: the steep K radius (${ksteep.value} mm) cannot be longer than the flat K (${kflat.value} mm).`,
+      );
     if (kflat.value !== null && kaxis.value === null && !kaxis.error) err("kaxis", `${E}: give the flat K axis.`);
     const va = parseAcuity(f("va"), `${E} VA with the lens`, { notation, distance: "distance" });
     if (va.error) err("va", va.error);
