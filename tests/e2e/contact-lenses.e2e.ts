@@ -111,7 +111,11 @@ describe("contact lenses", () => {
 
     // Off the lens's 10° axis step: refused by the server with the reason, nothing issued.
     await power.fill("-3.75 -1.25 x 175");
-    await page.getByRole("button", { name: "Issue prescription" }).click();
+    // A loaded machine can take longer than a locator's own wait to answer: wait for the answer first.
+    await Promise.all([
+      page.waitForResponse((r) => r.request().method() === "POST", { timeout: 120_000 }),
+      page.getByRole("button", { name: "Issue prescription" }).click(),
+    ]);
     await poll(() => page.getByTestId("rx-errors").textContent()).toContain(
       "Right power: axis 175 is not made; Northmere Lens Co. Aquilo Daily Toric comes in 10° steps (nearest 170 or 180).",
     );
