@@ -90,6 +90,7 @@ export default [
         route("closures", "routes/settings/closures.tsx"),
         route("fees", "routes/settings/fees.tsx"),
         route("frames", "routes/settings/frames.tsx"),
+        route("contact-lenses", "routes/settings/contact-lenses.tsx"),
         route("labs", "routes/settings/labs.tsx"),
       ]),
     ]),

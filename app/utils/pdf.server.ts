@@ -145,6 +145,21 @@ export class PdfWriter {
     this.y -= 4;
   }
 
+  /** A line to sign on, with the signer's name (and what they are) printed under it. */
+  signatureLine(label: string, under: string[]) {
+    this.ensure(40 + 14 * under.length);
+    this.y -= 28;
+    this.draw(label, MARGIN, this.y + 2, 10, "bold", MUTED);
+    const x = MARGIN + this.width(label, 10, "bold") + 8;
+    this.page.drawLine({ start: { x, y: this.y }, end: { x: x + 220, y: this.y }, thickness: 0.6, color: MUTED });
+    this.y -= 6;
+    for (const line of under) {
+      this.draw(line, x, this.y - 10, 10);
+      this.y -= 14;
+    }
+    this.y -= 6;
+  }
+
   /** Label and value pairs; both wrap in their own column, and a pair is never split across pages. */
   keyValues(rows: [string, string][], keyWidth = 130) {
     for (const [k, v] of rows) {

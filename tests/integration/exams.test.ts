@@ -604,7 +604,9 @@ describe("signing with warnings, the visit, and a final refraction by addendum",
   it("takes a final refraction by addendum on an exam signed without one, issues a prescription from it, refuses a second", async () => {
     const { params, exam } = await setup();
     expect(statusOf(await post("optometrist", params, { intent: "sign", confirmed: "yes" }))).toBe(302);
-    expect(statusOf(await post("optometrist", params, { intent: "issue-rx", kind: "spectacle" }))).toBe(409);
+    expect(
+      statusOf(await post("optometrist", params, { intent: "issue-rx", kind: "spectacle", lensUse: "distance" })),
+    ).toBe(409);
     const bad = await post("optometrist", params, {
       intent: "addendum",
       section: "Final",
@@ -631,7 +633,9 @@ describe("signing with warnings, the visit, and a final refraction by addendum",
       "final:right:1:2",
     ]);
     expect(finals.every((f) => f.addendumId === ad!.id)).toBe(true);
-    expect(statusOf(await post("optometrist", params, { intent: "issue-rx", kind: "spectacle" }))).toBe(302);
+    expect(
+      statusOf(await post("optometrist", params, { intent: "issue-rx", kind: "spectacle", lensUse: "distance" })),
+    ).toBe(302);
     expect(await db.select().from(prescriptions).where(eq(prescriptions.examId, exam.id))).toHaveLength(1);
     const again = await post("owner", params, {
       intent: "addendum",

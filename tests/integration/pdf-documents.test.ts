@@ -176,7 +176,7 @@ describe("every letter is kept", () => {
       examAction,
       makeRequest(`/patients/${p.id}/exams/${exam!.id}`, {
         cookie: await cookieFor("optometrist"),
-        form: { intent: "issue-rx", kind: "spectacle", notes: `Notes: ${SAMPLE}` },
+        form: { intent: "issue-rx", kind: "spectacle", lensUse: "varifocal", notes: `Notes: ${SAMPLE}` },
       }),
       params,
     );

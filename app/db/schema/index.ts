@@ -1,6 +1,7 @@
 export * from "./audit";
 export * from "./auth";
 export * from "./billing";
+export * from "./contact-lenses";
 export * from "./documents";
 export * from "./exams";
 export * from "./orders";

@@ -1,5 +1,6 @@
 import { sql } from "drizzle-orm";
 import {
+  boolean,
   check,
   date,
   doublePrecision,
@@ -13,10 +14,13 @@ import {
   uuid,
 } from "drizzle-orm/pg-core";
 import { users } from "./auth";
+import { contactLenses, lensReplacementEnum } from "./contact-lenses";
 import { eyeEnum, exams, prismBaseEnum } from "./exams";
 import { patients } from "./patients";
 
 export const prescriptionKindEnum = pgEnum("prescription_kind", ["spectacle", "contact_lens"]);
+/** What the prescription says beside the powers: nothing, no prescription needed, or no clinical change. */
+export const prescriptionStatementEnum = pgEnum("prescription_statement", ["none", "not_needed", "no_change"]);
 
 /**
  * A prescription issued (and so signed) by its prescriber from a signed exam's final refraction.
@@ -44,6 +48,11 @@ export const prescriptions = pgTable(
     notes: text().notNull().default(""),
     /** Contact lenses: the lens the powers are for. */
     lensName: text(),
+    /** Spectacles: what the lenses are for (distance, near, varifocal…). */
+    lensUse: text(),
+    statement: prescriptionStatementEnum().notNull().default("none"),
+    /** Whether the patient was referred at this exam (printed on the prescription). */
+    referred: boolean().notNull().default(false),
   },
   (t) => [index("prescriptions_patient_idx").on(t.patientId, t.issuedAt), index("prescriptions_exam_idx").on(t.examId)],
 );
@@ -77,6 +86,21 @@ export const prescriptionEyes = pgTable(
     spectacleAxis: integer(),
     baseCurveMm: doublePrecision(),
     diameterMm: doublePrecision(),
+    /** Spectacles: intermediate add; prism as horizontal and vertical components with their bases. */
+    intermediateAdd: doublePrecision(),
+    prismHorizontal: doublePrecision(),
+    prismHorizontalBase: prismBaseEnum(),
+    prismVertical: doublePrecision(),
+    prismVerticalBase: prismBaseEnum(),
+    /** Contact lenses: the catalogue lens fitted, and its maker, name, material and replacement as at issue. */
+    contactLensId: uuid().references(() => contactLenses.id, { onDelete: "restrict" }),
+    lensManufacturer: text(),
+    lensName: text(),
+    lensMaterial: text(),
+    lensReplacement: lensReplacementEnum(),
+    /** Monocular pupillary distances, mm. */
+    pdDistanceMm: doublePrecision(),
+    pdNearMm: doublePrecision(),
   },
   (t) => [
     uniqueIndex("prescription_eyes_uq").on(t.prescriptionId, t.eye),

@@ -12,6 +12,8 @@ export type ExamSectionId =
   | "acuity"
   | RefractionSectionId
   | "binocular"
+  | "cl_fitting"
+  | "cl_aftercare"
   | "pupils"
   | "ac"
   | "iop"
@@ -35,6 +37,8 @@ export const EXAM_SECTIONS: readonly ExamSection[] = [
     nav: REFRACTION_LABEL[k].split(" (")[0]!,
   })),
   { id: "binocular", title: "Binocular vision", nav: "Binocular" },
+  { id: "cl_fitting", title: "Contact-lens fitting", nav: "CL fitting" },
+  { id: "cl_aftercare", title: "Contact-lens aftercare", nav: "CL aftercare" },
   { id: "pupils", title: "Pupils", nav: "Pupils" },
   { id: "ac", title: "Anterior chamber", nav: "Anterior chamber" },
   { id: "iop", title: "Intraocular pressure", nav: "IOP" },
@@ -85,6 +89,9 @@ export function sectionHasValues(section: string, values: Record<string, string>
       return any((k) => k.startsWith("va_"));
     case "binocular":
       return any((k) => k.startsWith("bv_"));
+    case "cl_fitting":
+    case "cl_aftercare":
+      return any((k) => k.startsWith(`${section}.`));
     case "iop":
       return any((k) => /_mmHg(_\d)?$/.test(k) || k.endsWith("_cct"));
     case "colour":

@@ -300,11 +300,21 @@ export function rxText(rx: SphCyl) {
 export const acuityField = (eye: string, distance: string, correction: string) => `va_${eye}_${distance}_${correction}`;
 
 /** Printed on every prescription and beside the issue form. */
-export const RX_CAUTIONS = [
+/** Cautions printed on every prescription. */
+const COMMON_RX_CAUTIONS = [
   "Check every value against the signed exam before ordering lenses.",
-  "Contact-lens powers are converted from the spectacle plane to the cornea (effective power, F/(1 - dF)) and rounded to 0.25 D steps; both values are shown. Check them before ordering.",
   "Validity is the practice's setting; local law and licensed practice govern prescriptions.",
 ] as const;
+/** Cautions that concern contact lenses: printed only on contact-lens prescriptions (common practice wording). */
+export const CONTACT_LENS_RX_CAUTIONS = [
+  "The powers are those of the lens fitted, in the steps it is made in; a spectacle prescription cannot be used to order contact lenses, and this one cannot be used for any other lens.",
+  "Wear and replace the lenses only as advised; do not sleep, swim or shower in them unless advised, and never rinse or store them in tap water.",
+  "Remove the lenses and seek advice the same day if an eye becomes red or painful, or vision blurs.",
+  "Keep up aftercare visits: the prescription expires on the date shown.",
+] as const;
+/** The cautions printed on a prescription of this kind. */
+export const rxCautions = (kind: "spectacle" | "contact_lens"): readonly string[] =>
+  kind === "contact_lens" ? [...COMMON_RX_CAUTIONS, ...CONTACT_LENS_RX_CAUTIONS] : COMMON_RX_CAUTIONS;
 
 // ------------------------------------------------------------------ clinical findings
 

@@ -6,6 +6,7 @@ import type { SphCyl } from "~/lib/optics";
 import { ageInYears as ageOn } from "~/lib/format";
 import { BILLING_ROLES } from "~/models/billing/invoices.server";
 import { prescriptionsOf } from "~/models/prescriptions/prescriptions.server";
+import { catalogueLenses } from "~/models/prescriptions/contact-lenses.server";
 import { documentsOf } from "~/models/patients/documents.server";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
@@ -49,6 +50,7 @@ export async function examPageData(user: SessionUser, exam: Exam, request: Reque
     triage,
     states,
     fromAddendum,
+    lenses,
   ] = await Promise.all([
     previousFinal(exam.patientId, exam.examinedAt),
     promptsFor(exam.patientId, exam, sections),
@@ -80,6 +82,7 @@ export async function examPageData(user: SessionUser, exam: Exam, request: Reque
       .innerJoin(users, eq(users.id, examAddenda.authorId))
       .where(and(eq(examRefractions.examId, exam.id), isNotNull(examRefractions.addendumId)))
       .limit(1),
+    catalogueLenses(),
   ]);
   await audit({
     action: "exam.read",
@@ -137,6 +140,8 @@ export async function examPageData(user: SessionUser, exam: Exam, request: Reque
     prompts,
     prescriptions,
     documents,
+    lenses,
+    fitted: sections.contactLens.find((c) => c.section === "cl_fitting")?.data ?? null,
     canSign: exam.status === "in_progress" && user.id === exam.optometristId,
   };
 }

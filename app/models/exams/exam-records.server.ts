@@ -26,6 +26,7 @@ import type { AcuityNotation } from "~/lib/optics";
 import { TriageInputError } from "~/lib/referrals";
 import { findingsFormValues, loadFindings } from "~/models/exams/findings.server";
 import { examTriage } from "~/models/exams/triage.server";
+import { contactLensFormValues, loadContactLens } from "~/models/exams/contact-lens.server";
 import { audit } from "~/utils/audit.server";
 import type { SessionUser } from "~/utils/session.server";
 import { db, type Tx } from "~/utils/db.server";
@@ -109,6 +110,7 @@ export async function loadExam(examId: string) {
     diagnoses,
     addenda,
     findings,
+    contactLens,
   ] = await Promise.all([
     db.select().from(examHistory).where(eq(examHistory.examId, examId)),
     db.select().from(examAcuity).where(eq(examAcuity.examId, examId)),
@@ -134,6 +136,7 @@ export async function loadExam(examId: string) {
       .where(eq(examAddenda.examId, examId))
       .orderBy(asc(examAddenda.createdAt)),
     loadFindings(examId),
+    loadContactLens(examId),
   ]);
   return {
     history: history[0] ?? null,
@@ -149,13 +152,17 @@ export async function loadExam(examId: string) {
     diagnoses,
     addenda,
     findings,
+    contactLens,
   };
 }
 export type ExamSections = Awaited<ReturnType<typeof loadExam>>;
 
 /** Section values as the form fields of the exam page expect them (text as typed). */
 export function formValues(s: ExamSections, timeZone: string): Record<string, string> {
-  const v: Record<string, string> = findingsFormValues(s.findings, timeZone);
+  const v: Record<string, string> = {
+    ...findingsFormValues(s.findings, timeZone),
+    ...contactLensFormValues(s.contactLens),
+  };
   const put = (k: string, x: unknown) => {
     if (x !== null && x !== undefined && x !== "") v[k] = String(x);
   };

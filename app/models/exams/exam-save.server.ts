@@ -45,6 +45,8 @@ import type { SessionUser } from "~/utils/session.server";
 import { db, type Tx } from "~/utils/db.server";
 import type { ExamSectionId, StoredSectionState } from "~/lib/exam/section-list";
 import { examSettings, SectionError, storedTriage } from "./exam-records.server";
+import { isClSection } from "~/lib/contact-lens/sections";
+import { saveContactLensSection } from "./contact-lens.server";
 
 type Form = Record<string, string | undefined>;
 
@@ -413,6 +415,7 @@ async function writeSection(
     else if (section === "fields") await saveFields(tx, examId, form);
     else if (section === "segments") await saveSegments(tx, examId, form, all);
     else if (section === "assessment") await saveAssessment(tx, examId, form);
+    else if (isClSection(section)) await saveContactLensSection(tx, examId, section, form, settings.acuityNotation);
     // Triage runs on every save, on what is now saved, and is kept with the exam.
     const triage = await storedTriage(examId, tx);
     const savedAt = new Date();

@@ -5,9 +5,6 @@ import type { Route } from "./+types/exam";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice } from "~/components/ui/notice";
-import { RX_CAUTIONS } from "~/lib/exam/sections";
-import { formatRx } from "~/lib/optics";
-import { formatDate } from "~/lib/format";
 import { EXAM_SECTIONS, NO_FINAL_WARNING, sectionTitle, titleOf } from "~/lib/exam/section-list";
 import { ExamInput, STATE_WORDS, type SectionState } from "./exam-form";
 import { RequiredMark } from "./exam-inputs";
@@ -248,97 +245,6 @@ export function Addenda({
             Add addendum
           </Button>
         </Form>
-      </Card>
-    </section>
-  );
-}
-
-export function Prescriptions({ data: d }: { data: LoaderData }) {
-  const [kind, setKind] = useState<"spectacle" | "contact_lens">("spectacle");
-  const actionData = useActionData<{ intent?: string; message?: string; errors?: Record<string, string[]> }>();
-  const errors = actionData?.intent === "issue-rx" ? (actionData.errors ?? {}) : {};
-  return (
-    <section id="prescriptions">
-      <Card title="Prescriptions from this exam">
-        {d.prescriptions.length ? (
-          <ul className="mb-4 space-y-2">
-            {d.prescriptions.map((p) => (
-              <li
-                key={p.id}
-                className="flex flex-wrap items-center justify-between gap-2 rounded-md border border-line p-3"
-              >
-                <span>
-                  <span className="font-semibold">{p.kind === "spectacle" ? "Spectacle" : "Contact lens"}</span> ·
-                  issued {formatDate(p.issuedAt)} · expires {formatDate(p.expiresOn)} ·{" "}
-                  {p.eyes.map((e) => `${e.eye === "right" ? "R" : "L"} ${formatRx(e)}`).join("; ")}
-                </span>
-                <a
-                  href={`/patients/${d.patient.id}/prescriptions/${p.id}/pdf`}
-                  className="font-semibold text-accent-800 underline"
-                  download
-                >
-                  Download PDF
-                </a>
-              </li>
-            ))}
-          </ul>
-        ) : null}
-        {!d.hasFinal ? (
-          <Notice tone="info" title="No final refraction">
-            Record a final refraction to issue a prescription from this exam.
-          </Notice>
-        ) : (
-          <Form method="post" className="space-y-3">
-            <input type="hidden" name="intent" value="issue-rx" />
-            {actionData?.intent === "issue-rx" && actionData.message ? (
-              <Notice tone="error" title={actionData.message} />
-            ) : null}
-            <fieldset>
-              <legend className="mb-1 text-sm font-semibold">Kind</legend>
-              <div className="flex gap-4">
-                <label className="flex items-center gap-2">
-                  <input
-                    type="radio"
-                    name="kind"
-                    value="spectacle"
-                    checked={kind === "spectacle"}
-                    onChange={() => setKind("spectacle")}
-                  />{" "}
-                  Spectacles
-                </label>
-                <label className="flex items-center gap-2">
-                  <input
-                    type="radio"
-                    name="kind"
-                    value="contact_lens"
-                    checked={kind === "contact_lens"}
-                    onChange={() => setKind("contact_lens")}
-                  />{" "}
-                  Contact lenses
-                </label>
-              </div>
-            </fieldset>
-            {kind === "contact_lens" ? (
-              <div className="grid gap-3 sm:grid-cols-3">
-                <ExamInput id="rx-lens" name="lensName" label="Lens (brand and type)" />
-                <ExamInput id="rx-bc" name="baseCurveMm" label="Base curve (mm)" inputMode="decimal" />
-                <ExamInput id="rx-dia" name="diameterMm" label="Diameter (mm)" inputMode="decimal" />
-              </div>
-            ) : null}
-            {Object.values(errors).flat().length ? (
-              <Notice tone="error" title="Check the fields">
-                {Object.values(errors).flat().join(" ")}
-              </Notice>
-            ) : null}
-            <ExamInput id="rx-notes" name="notes" label="Notes for the dispenser (optional)" />
-            <ul className="list-disc pl-5 text-sm text-muted">
-              {RX_CAUTIONS.map((c) => (
-                <li key={c}>{c}</li>
-              ))}
-            </ul>
-            <Button type="submit">Issue prescription</Button>
-          </Form>
-        )}
       </Card>
     </section>
   );

@@ -11,6 +11,7 @@ import {
 } from "./findings-sections";
 import { BinocularSection, HistorySection, PreviousFinal, RefractionSection } from "./history-refraction";
 import { AcuitySection, AssessmentSection, IopSection } from "./measure-sections";
+import { ContactLensSection } from "./contact-lens-sections";
 import { ColourSection, FieldsSection, SegmentsSection } from "./screening-sections";
 
 type LoaderData = Route.ComponentProps["loaderData"];
@@ -51,6 +52,18 @@ export function ExamSections({
         />
       ))}
       {shown("binocular") ? <BinocularSection values={values} readOnly={readOnly} /> : null}
+      {(["cl_fitting", "cl_aftercare"] as const)
+        .filter((s) => shown(s))
+        .map((s) => (
+          <ContactLensSection
+            key={s}
+            section={s}
+            values={values}
+            readOnly={readOnly}
+            lenses={d.lenses}
+            notation={d.acuityNotation}
+          />
+        ))}
       {shown("pupils") ? <PupilsSection values={values} readOnly={readOnly} /> : null}
       {shown("ac") ? <AnteriorChamberSection values={values} readOnly={readOnly} /> : null}
       {shown("iop") ? (

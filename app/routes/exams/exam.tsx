@@ -7,7 +7,8 @@ import { PageHeader } from "~/components/page-header";
 import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { formatDate } from "~/lib/format";
-import { issuePrescription } from "~/models/prescriptions/prescriptions.server";
+import { issuePrescription, PrescriptionError } from "~/models/prescriptions/prescriptions.server";
+import { issueInputFrom } from "~/models/prescriptions/issue-form";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { TriagePanel } from "./triage-panel";
@@ -15,14 +16,14 @@ import { Signatures } from "./signatures";
 import { DirtyContext, ExamPageContext, useDirtyTracker, type SaveReply } from "./exam-form";
 import { examFor, saveSection, SectionError } from "~/models/exams/exam.server";
 import { DocumentList, UploadForm } from "~/components/patients/uploads-ui";
-import { parseDecimal } from "~/lib/numbers/decimal";
 import { examPageData } from "~/models/exams/exam-page.server";
 import { addAddendum, countersignExam, signExam } from "~/models/exams/exam-signing.server";
 import { DomainError } from "~/utils/failure.server";
 import { EXAM_SECTION_IDS, isExamSectionId, sectionHasValues } from "~/lib/exam/section-list";
 import { ExamSections } from "./exam-sections";
 import { SectionMenu } from "./section-menu";
-import { Addenda, Prescriptions, SignCard } from "./exam-records";
+import { Addenda, SignCard } from "./exam-records";
+import { Prescriptions } from "./prescription-form";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, CLINICAL_ROLES);
@@ -30,42 +31,10 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   return examPageData(user, exam, request);
 }
 
-/** A typed measurement in plain decimal notation (no hexadecimal, exponents or Infinity). */
-const decimalText = (label: string) =>
-  z
-    .string()
-    .trim()
-    .transform((v, ctx) => {
-      const n = parseDecimal(v);
-      if (n === null) {
-        ctx.addIssue({ code: "custom", message: `${label}: write a decimal number, like 8.6.` });
-        return z.NEVER;
-      }
-      return n;
-    });
-
 const addendumSchema = z.object({
   section: z.string().trim().min(1, "Say which part of the exam this corrects.").max(80),
   body: z.string().trim().min(3, "Write the correction (at least a few words).").max(4000),
 });
-const issueSchema = z.object({
-  kind: z.enum(["spectacle", "contact_lens"], { error: "Choose spectacle or contact lens." }),
-  notes: z.string().trim().max(1000).default(""),
-  lensName: z.string().trim().max(120).default(""),
-  baseCurveMm: z
-    .union([
-      z.literal(""),
-      decimalText("Base curve").pipe(z.number().min(6, "Base curve 6–10 mm.").max(10, "Base curve 6–10 mm.")),
-    ])
-    .default(""),
-  diameterMm: z
-    .union([
-      z.literal(""),
-      decimalText("Diameter").pipe(z.number().min(8, "Diameter 8–16 mm.").max(16, "Diameter 8–16 mm.")),
-    ])
-    .default(""),
-});
-
 const fieldErrors = (e: z.ZodError) => {
   const out: Record<string, string[]> = {};
   for (const i of e.issues) (out[String(i.path[0] ?? "form")] ??= []).push(i.message);
@@ -175,28 +144,26 @@ export async function action({ request, params }: Route.ActionArgs) {
   }
 
   if (intent === "issue-rx") {
-    const parsed = issueSchema.safeParse(Object.fromEntries(form));
-    if (!parsed.success)
+    const parsed = issueInputFrom(form);
+    if (!parsed.ok)
       return data(
-        { intent, ok: false, message: "The prescription was not issued.", errors: fieldErrors(parsed.error) },
+        {
+          intent,
+          ok: false,
+          message: "The prescription was not issued; check the fields named.",
+          errors: parsed.errors,
+        },
         { status: 400 },
       );
-    const v = parsed.data;
-    await issuePrescription(
-      user,
-      exam,
-      {
-        kind: v.kind,
-        notes: v.notes,
-        lensName: v.lensName,
-        baseCurveMm: v.baseCurveMm === "" ? null : v.baseCurveMm,
-        diameterMm: v.diameterMm === "" ? null : v.diameterMm,
-      },
-      request,
-    );
+    try {
+      await issuePrescription(user, exam, parsed.input, request);
+    } catch (e) {
+      if (!(e instanceof PrescriptionError)) throw e;
+      return data({ intent, ok: false, message: e.message, errors: e.fieldErrors }, { status: e.status });
+    }
     return redirectWithToast(`/patients/${exam.patientId}/exams/${exam.id}#prescriptions`, {
       kind: "success",
-      title: v.kind === "spectacle" ? "Spectacle prescription issued" : "Contact-lens prescription issued",
+      title: parsed.input.kind === "spectacle" ? "Spectacle prescription issued" : "Contact-lens prescription issued",
     });
   }
 

@@ -19,6 +19,7 @@ const tabs = [
   { to: "/settings/fees", label: "Fee schedule", end: false },
   { to: "/settings/recipients", label: "Referral recipients", end: false },
   { to: "/settings/frames", label: "Frames", end: false },
+  { to: "/settings/contact-lenses", label: "Contact lenses", end: false },
   { to: "/settings/labs", label: "Labs", end: false },
 ];
 
