@@ -51,7 +51,7 @@ export function prng(seed: number) {
 }
 
 const FIRST = FIRST_NAMES;
-const LAST = [
+export const GENERAL_LAST_NAMES = [
   "Abernethy",
   "Blackthorn",
   "Carraway",
@@ -93,6 +93,7 @@ const LAST = [
   "Ormerod",
   "Pilkington",
 ];
+const LAST = GENERAL_LAST_NAMES;
 
 const q = (x: number, step = 0.25) => Math.round(x / step) * step || 0;
 const isoDate = (d: Date) => d.toISOString().slice(0, 10);

@@ -7,6 +7,7 @@ import { databaseUrl } from "../app/utils/db-url";
 import { seedBilling } from "./billing";
 import { seedCaseload } from "./caseload";
 import { seedClosures } from "./closures";
+import { buildDiary } from "./diary";
 import { DEMO_PASSWORD, DEMO_PATIENT, DEMO_PRACTICE, DEMO_USERS } from "./demo-practice";
 import { seedOrders } from "./orders";
 import { seedPortal } from "./portal";
@@ -58,6 +59,8 @@ export async function seed(url = databaseUrl()) {
       await seedReferrals(tx);
       await seedPortal(tx);
       await seedOrders(tx);
+      // The diary follows the calendar: rebuilt around today on every seeding.
+      await buildDiary(tx);
     });
   } finally {
     await pool.end();
