@@ -5,7 +5,7 @@ import pg from "pg";
 import * as schema from "../app/db/schema";
 import { databaseUrl } from "../app/utils/db-url";
 import { seedBilling } from "./billing";
-import { seedCaseload } from "./caseload";
+import { linkCaseloadVisits, seedCaseload } from "./caseload";
 import { seedClosures } from "./closures";
 import { buildDiary } from "./diary";
 import { DEMO_PASSWORD, DEMO_PATIENT, DEMO_PRACTICE, DEMO_USERS } from "./demo-practice";
@@ -56,6 +56,7 @@ export async function seed(url = databaseUrl()) {
       }
       await seedCaseload(tx);
       await seedSchedule(tx);
+      await linkCaseloadVisits(tx);
       await seedReferrals(tx);
       await seedPortal(tx);
       await seedOrders(tx);
