@@ -173,15 +173,7 @@ function unaidedLogMar(rx: SphCyl, age: number, best: number) {
 }
 
 type Condition =
-  | "none"
-  | "child"
-  | "myopic_child"
-  | "amblyopia"
-  | "cataract"
-  | "amd"
-  | "glaucoma_suspect"
-  | "glaucoma"
-  | "diabetic";
+  "none" | "child" | "myopic_child" | "amblyopia" | "cataract" | "amd" | "glaucoma_suspect" | "glaucoma" | "diabetic";
 
 const MEDICATIONS: Partial<Record<Condition, string>> = {
   glaucoma: "Latanoprost 0.005% eye drops, one drop both eyes at night",
@@ -258,10 +250,20 @@ function generalCase(rand: () => number, i: number): Case {
     const c = condition === "amblyopia" ? -1 : cyl;
     const add = age >= 42 ? q(Math.min(2.75, 0.75 + (age - 42) * 0.09)) : undefined;
     const bestFor = (eye: "right" | "left") => {
-      const normal = age < 50 ? (rand() < 0.4 ? -0.08 : 0) : age < 70 ? (rand() < 0.6 ? 0 : 0.1) : 0.1 + 0.1 * Math.floor(rand() * 2);
+      const normal =
+        age < 50
+          ? rand() < 0.4
+            ? -0.08
+            : 0
+          : age < 70
+            ? rand() < 0.6
+              ? 0
+              : 0.1
+            : 0.1 + 0.1 * Math.floor(rand() * 2);
       if (condition === "cataract") return acuityLine(Math.min(0.6, 0.1 + 0.1 * k + (eye === "left" ? 0.1 : 0)))[1];
       if (condition === "amd") return acuityLine(eye === "right" ? 0.2 : 0.1)[1];
-      if (condition === "amblyopia" && eye === "left") return acuityLine(age < 16 ? Math.max(0.18, 0.4 - 0.1 * k) : 0.3)[1];
+      if (condition === "amblyopia" && eye === "left")
+        return acuityLine(age < 16 ? Math.max(0.18, 0.4 - 0.1 * k) : 0.3)[1];
       return acuityLine(normal)[1];
     };
     const bestVa = { right: bestFor("right"), left: bestFor("left") };
@@ -271,7 +273,8 @@ function generalCase(rand: () => number, i: number): Case {
     const iopR = read();
     const iopL = Math.max(8, iopR + Math.floor(rand() * 3) - 1);
     const readings = (v: number) => (iopMethod === "goldmann" ? [v] : [v, v + (rand() < 0.5 ? 1 : -1)]);
-    const cd = condition === "glaucoma" ? 0.65 : condition === "glaucoma_suspect" ? 0.55 : 0.25 + 0.05 * Math.floor(rand() * 5);
+    const cd =
+      condition === "glaucoma" ? 0.65 : condition === "glaucoma_suspect" ? 0.55 : 0.25 + 0.05 * Math.floor(rand() * 5);
     const dx: { code: string; eye: "right" | "left" | "both" }[] = [];
     let assessment = "Stable; spectacles as prescribed.";
     let plan = "Routine recall.";
@@ -289,7 +292,10 @@ function generalCase(rand: () => number, i: number): Case {
         break;
       case "amd":
         dx.push({ code: "H35.3", eye: "both" });
-        fundus.right = { drusen: true, maculaNotes: "Soft drusen and pigment changes at the macula; no haemorrhage or fluid seen" };
+        fundus.right = {
+          drusen: true,
+          maculaNotes: "Soft drusen and pigment changes at the macula; no haemorrhage or fluid seen",
+        };
         fundus.left = { drusen: true, maculaNotes: "Scattered small drusen at the macula" };
         assessment = "Dry (early) age-related macular changes, stable.";
         plan = "Amsler grid at home; return at once with new distortion or a sudden drop in vision. Review 12 months.";
@@ -307,7 +313,10 @@ function generalCase(rand: () => number, i: number): Case {
       case "diabetic": {
         // Grades as in the English diabetic eye screening programme (R0 none, R1 background; M0 no maculopathy).
         const grade = k === dates.length - 1 && rand() < 0.45 ? "R1 M0" : "R0 M0";
-        fundus.right = { peripheryNotes: grade === "R0 M0" ? "No diabetic retinopathy (R0 M0)" : "A few microaneurysms and dot haemorrhages (R1 M0)" };
+        fundus.right = {
+          peripheryNotes:
+            grade === "R0 M0" ? "No diabetic retinopathy (R0 M0)" : "A few microaneurysms and dot haemorrhages (R1 M0)",
+        };
         fundus.left = { peripheryNotes: "No diabetic retinopathy (R0 M0)" };
         if (grade !== "R0 M0") dx.push({ code: "H36.0", eye: "right" });
         assessment = `Type 2 diabetes; retinopathy grade right ${grade}, left R0 M0.`;
@@ -316,7 +325,9 @@ function generalCase(rand: () => number, i: number): Case {
       }
       case "amblyopia":
         dx.push({ code: "H53.0", eye: "left" }, { code: "H52.3", eye: "both" });
-        assessment = child ? "Anisometropic amblyopia, left; acuity improving with full-time spectacles." : "Long-standing amblyopia, left; stable.";
+        assessment = child
+          ? "Anisometropic amblyopia, left; acuity improving with full-time spectacles."
+          : "Long-standing amblyopia, left; stable.";
         plan = child ? "Full-time spectacles; patching discussed with the family. Review 6 months." : "Routine recall.";
         break;
       case "myopic_child":
@@ -326,7 +337,10 @@ function generalCase(rand: () => number, i: number): Case {
             : stopsControl && k >= 3
               ? "Myopia control stopped at the family's wish; progression has picked up."
               : "Myopia progressing.";
-        plan = control && k === 0 ? "Discussed myopia control; myopia-control spectacle lenses chosen." : "Review in 12 months.";
+        plan =
+          control && k === 0
+            ? "Discussed myopia control; myopia-control spectacle lenses chosen."
+            : "Review in 12 months.";
         break;
     }
     const guardian = child ? `Attended with ${rand() < 0.6 ? "mother" : "father"}, who gave the history.` : "";
@@ -356,9 +370,16 @@ function generalCase(rand: () => number, i: number): Case {
       cycloplegic: child && (k === 0 || age < 7 || condition === "amblyopia"),
       findings: {
         bestVa,
-        iop: { right: { readings: readings(iopR), method: iopMethod }, left: { readings: readings(iopL), method: iopMethod } },
+        iop: {
+          right: { readings: readings(iopR), method: iopMethod },
+          left: { readings: readings(iopL), method: iopMethod },
+        },
         disc: {
-          right: { verticalCd: cd, margins: "distinct" as const, notes: condition === "glaucoma" ? "Inferior rim thinning" : "" },
+          right: {
+            verticalCd: cd,
+            margins: "distinct" as const,
+            notes: condition === "glaucoma" ? "Inferior rim thinning" : "",
+          },
           left: { verticalCd: Math.round((cd + (rand() < 0.3 ? 0.05 : 0)) * 100) / 100, margins: "distinct" as const },
         },
         pupils: { right: { equalReactive: true }, left: { equalReactive: true } },
@@ -574,7 +595,10 @@ function demoPatientExams(): Case["exams"] {
 }
 
 /** Appointment start times (minutes after midnight) of a caseload visit: 09:00–12:30 and 14:00–17:00, clear of lunch. */
-const VISIT_STARTS = [...Array.from({ length: 8 }, (_, i) => 540 + 30 * i), ...Array.from({ length: 7 }, (_, i) => 840 + 30 * i)];
+const VISIT_STARTS = [
+  ...Array.from({ length: 8 }, (_, i) => 540 + 30 * i),
+  ...Array.from({ length: 7 }, (_, i) => 840 + 30 * i),
+];
 
 /**
  * Moves each visit to a free start time on a working day (Monday to Friday, not a bank holiday),

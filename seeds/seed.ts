@@ -6,6 +6,7 @@ import * as schema from "../app/db/schema";
 import { databaseUrl } from "../app/utils/db-url";
 import { seedBilling } from "./billing";
 import { linkCaseloadVisits, seedCaseload } from "./caseload";
+import { seedCasework } from "./casework";
 import { seedClosures } from "./closures";
 import { buildDiary } from "./diary";
 import { DEMO_PASSWORD, DEMO_PATIENT, DEMO_PRACTICE, DEMO_USERS } from "./demo-practice";
@@ -60,6 +61,7 @@ export async function seed(url = databaseUrl()) {
       await seedReferrals(tx);
       await seedPortal(tx);
       await seedOrders(tx);
+      await seedCasework(tx);
       // The diary follows the calendar: rebuilt around today on every seeding.
       await buildDiary(tx);
     });

@@ -6,6 +6,7 @@
  */
 import { sql } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
+import { displayStatus } from "~/lib/referrals";
 import { localParts } from "~/lib/scheduling/time";
 import { db } from "~/utils/db.server";
 import { CASELOAD_DOMAIN } from "../../seeds/caseload";
@@ -84,7 +85,14 @@ describe("the seeded demo practice", () => {
     expect(iop!.mean).toBeLessThan(19);
     expect(iop!.methods).toBeGreaterThanOrEqual(3);
 
-    const [rx] = await rows<{ minS: number; maxS: number; minC: number; maxC: number; minAdd: number; maxAdd: number }>(sql`
+    const [rx] = await rows<{
+      minS: number;
+      maxS: number;
+      minC: number;
+      maxC: number;
+      minAdd: number;
+      maxAdd: number;
+    }>(sql`
       select min(sphere) as "minS", max(sphere) as "maxS", min(cylinder) as "minC", max(cylinder) as "maxC",
         min(add_power) as "minAdd", max(add_power) as "maxAdd"
       from exam_refractions r join exams e on e.id = r.exam_id join patients p on p.id = e.patient_id
@@ -158,5 +166,46 @@ describe("the seeded demo practice", () => {
         select (starts_at at time zone ${tz})::date, provider_id from appointments
         where notes = ${DIARY_NOTE} and starts_at > now() group by 1, 2 having count(*) >= 8) x`);
     expect(ahead!.days).toBeGreaterThanOrEqual(10);
+  });
+});
+
+describe("the seeded lists", () => {
+  it("shows invoices, referrals, recalls and reminders in every state", async () => {
+    const invoiceStates = await rows<{ status: string }>(sql`select distinct status::text from invoices`);
+    expect(invoiceStates.map((s) => s.status).sort()).toEqual(
+      expect.arrayContaining(["draft", "open", "partially_paid", "paid", "void"]),
+    );
+    const [kinds] = await rows<{ online: number; refunded: number; overdue: number }>(sql`
+      select
+        (select count(*)::int from payments where method = 'card_online' and status = 'succeeded') as online,
+        (select count(*)::int from refunds) as refunded,
+        (select count(*)::int from invoices where status in ('open', 'partially_paid') and issued_at < now() - interval '30 days') as overdue`);
+    expect(kinds!.online).toBeGreaterThan(0);
+    expect(kinds!.refunded).toBeGreaterThan(0);
+    expect(kinds!.overdue).toBeGreaterThan(0);
+    // The takings stay reconciled: each invoice's paid amount is its payments less refunds.
+    const unreconciled = await rows<{ id: string }>(sql`
+      select i.id from invoices i where i.paid_minor <> coalesce((select sum(p.amount_minor - p.refunded_minor)
+        from payments p where p.invoice_id = i.id and p.status = 'succeeded'), 0) and i.status <> 'void'`);
+    expect(unreconciled).toEqual([]);
+
+    const referrals = await rows<{
+      status: "draft" | "queued" | "sent" | "acknowledged" | "replied" | "withdrawn";
+      sentAt: string | null;
+      appointmentOn: string | null;
+      timeFrameDays: number | null;
+    }>(sql`select status, sent_at as "sentAt", appointment_on::text as "appointmentOn", time_frame_days as "timeFrameDays"
+      from referrals`);
+    const shown = new Set(
+      referrals.map((r) => displayStatus({ ...r, sentAt: r.sentAt ? new Date(r.sentAt) : null }, new Date(), ZONE)),
+    );
+    for (const state of ["draft", "sent", "acknowledged", "replied", "overdue", "withdrawn"] as const)
+      expect(shown.has(state), state).toBe(true);
+
+    const [messages] = await rows<{ recalls: number; reminders: number }>(sql`
+      select (select count(*)::int from recall_messages where status = 'sent') as recalls,
+        (select count(*)::int from appointment_messages where kind = 'reminder' and status = 'sent') as reminders`);
+    expect(messages!.recalls).toBeGreaterThan(0);
+    expect(messages!.reminders).toBeGreaterThan(0);
   });
 });
