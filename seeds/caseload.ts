@@ -10,7 +10,9 @@ import type { NodePgDatabase } from "drizzle-orm/node-postgres";
 import * as schema from "../app/db/schema";
 import { roundRx, vertexConvert, type SphCyl } from "../app/lib/optics";
 import { DIAGNOSES } from "../app/lib/exam/sections";
-import { DEMO_PATIENT } from "./demo-practice";
+import { addDays, localParts, wallTimeToInstant, weekdayOf } from "../app/lib/scheduling/time";
+import { isBankHoliday } from "./closures";
+import { DEMO_PATIENT, DEMO_PRACTICE } from "./demo-practice";
 import { FIRST_NAMES } from "./names";
 import { DEMO_GPS, TRIAGE_CASES, VA_TEXT, type TriageFindings } from "./triage-cases";
 
@@ -51,7 +53,7 @@ export function prng(seed: number) {
 }
 
 const FIRST = FIRST_NAMES;
-const LAST = [
+export const GENERAL_LAST_NAMES = [
   "Abernethy",
   "Blackthorn",
   "Carraway",
@@ -93,6 +95,7 @@ const LAST = [
   "Ormerod",
   "Pilkington",
 ];
+const LAST = GENERAL_LAST_NAMES;
 
 const q = (x: number, step = 0.25) => Math.round(x / step) * step || 0;
 const isoDate = (d: Date) => d.toISOString().slice(0, 10);
@@ -117,6 +120,10 @@ type Case = {
     diagnoses: string[];
     symptoms?: string;
     findings?: TriageFindings;
+    /** An ordinary caseload exam (its findings are complete: disc, pupils, pressures, acuity). */
+    general?: boolean;
+    /** A cycloplegic refraction was done (children); under 7 it replaces the subjective. */
+    cycloplegic?: boolean;
   }[];
   contactLens?: boolean;
   allergies?: string;
@@ -137,6 +144,42 @@ function examDates(rand: () => number, n: number) {
 
 const ageAt = (dob: string, at: Date) => (at.getTime() - Date.parse(dob)) / (365.25 * DAY);
 
+/** Distance acuity lines of a metric chart with their logMAR (log10 of denominator / 6). */
+const LINES: [string, number][] = [
+  ["6/4", -0.18],
+  ["6/5", -0.08],
+  ["6/6", 0],
+  ["6/7.5", 0.1],
+  ["6/9", 0.18],
+  ["6/12", 0.3],
+  ["6/18", 0.48],
+  ["6/24", 0.6],
+  ["6/36", 0.78],
+  ["6/60", 1],
+];
+/** The chart line nearest a logMAR value. */
+export function acuityLine(logMar: number): [string, number] {
+  return LINES.reduce((best, line) => (Math.abs(line[1] - logMar) < Math.abs(best[1] - logMar) ? line : best));
+}
+
+/**
+ * Unaided distance acuity from the refraction: blur grows with the myopic spherical equivalent and
+ * the cylinder; a hyperope sees clearly while young enough to accommodate (common practice, a rough rule).
+ */
+function unaidedLogMar(rx: SphCyl, age: number, best: number) {
+  const se = rx.sphere + rx.cylinder / 2;
+  const blur = se < 0 ? -se * 0.38 : age >= 40 ? se * 0.2 : Math.max(0, se - 2) * 0.15;
+  return acuityLine(Math.min(1, best + blur + Math.abs(rx.cylinder) * 0.12))[1];
+}
+
+type Condition =
+  "none" | "child" | "myopic_child" | "amblyopia" | "cataract" | "amd" | "glaucoma_suspect" | "glaucoma" | "diabetic";
+
+const MEDICATIONS: Partial<Record<Condition, string>> = {
+  glaucoma: "Latanoprost 0.005% eye drops, one drop both eyes at night",
+  diabetic: "Metformin 500 mg twice daily",
+};
+
 function generalCase(rand: () => number, i: number): Case {
   const first = FIRST[i % FIRST.length]!;
   // (7a + b) mod 40 is distinct for each of the ten b per a, so the 400 names are unique.
@@ -147,30 +190,217 @@ function generalCase(rand: () => number, i: number): Case {
   const baseM = q((rand() + rand() + rand() - 1.5) * 3);
   const cyl = -q(rand() * rand() * 2.5);
   const axis = 1 + Math.floor(rand() * 180);
-  const exams = examDates(rand, n).map((at) => {
+  const ageNow = ageAt(dob, ANCHOR);
+  const roll = rand();
+  const condition: Condition =
+    ageNow < 16
+      ? roll < 0.4
+        ? "myopic_child"
+        : roll < 0.5
+          ? "amblyopia"
+          : "child"
+      : ageNow >= 65 && roll < 0.3
+        ? "cataract"
+        : ageNow >= 60 && roll < 0.38
+          ? "amd"
+          : ageNow >= 45 && roll >= 0.38 && roll < 0.45
+            ? "glaucoma_suspect"
+            : ageNow >= 50 && roll >= 0.45 && roll < 0.51
+              ? "glaucoma"
+              : ageNow >= 30 && roll >= 0.51 && roll < 0.59
+                ? "diabetic"
+                : ageNow >= 16 && roll >= 0.59 && roll < 0.62
+                  ? "amblyopia"
+                  : "none";
+  // Myopic children: about -0.6 D a year untreated, about half that on myopia control, which some
+  // start at their second visit and a few stop later (common practice; rates are illustrative).
+  const control = condition === "myopic_child" && rand() < 0.5;
+  const stopsControl = control && rand() < 0.3;
+  const startM = condition === "myopic_child" ? -q(0.5 + rand() * 1.5) : baseM;
+  const iopBase = condition === "glaucoma_suspect" ? 21 : condition === "glaucoma" ? 14 : 11;
+  const iopSpread = condition === "glaucoma_suspect" ? 3 : condition === "glaucoma" ? 4 : 8;
+  const method = (() => {
+    const r = rand();
+    return r < 0.6 ? "non_contact" : r < 0.85 ? "goldmann" : "rebound";
+  })();
+  const dates = examDates(rand, n);
+  const firstAt = dates[0];
+  const exams = dates.map((at, k) => {
     const age = ageAt(dob, at);
     const drift = q((rand() - 0.5) * 0.5);
-    const s = q(baseM + drift);
-    const add = age >= 45 ? q(Math.min(2.5, 0.75 + (age - 45) * 0.08)) : undefined;
+    const years = firstAt ? (at.getTime() - firstAt.getTime()) / (365.25 * DAY) : 0;
+    let s = q(baseM + drift);
+    let leftS = q(s + (rand() - 0.5) * 0.5);
+    if (condition === "myopic_child") {
+      const rate = (y: number) => (control && k > 0 && !(stopsControl && k >= 3) ? 0.28 : 0.6) * y;
+      s = q(startM - rate(years));
+      leftS = q(s - 0.25);
+    } else if (condition === "child") {
+      // Young children are mostly low hyperopes, the hyperopia falling as they grow (common practice).
+      s = q(Math.max(0.25, 2.25 - 0.15 * age));
+      leftS = s;
+    } else if (condition === "amblyopia") {
+      s = 0.75;
+      leftS = 4.5;
+    } else if (condition === "cataract") {
+      // Nuclear cataract: a myopic shift as it advances (common practice).
+      s = q(baseM - 0.25 * k);
+      leftS = q(s + 0.25);
+    }
+    const c = condition === "amblyopia" ? -1 : cyl;
+    const add = age >= 42 ? q(Math.min(2.75, 0.75 + (age - 42) * 0.09)) : undefined;
+    const bestFor = (eye: "right" | "left") => {
+      const normal =
+        age < 50
+          ? rand() < 0.4
+            ? -0.08
+            : 0
+          : age < 70
+            ? rand() < 0.6
+              ? 0
+              : 0.1
+            : 0.1 + 0.1 * Math.floor(rand() * 2);
+      if (condition === "cataract") return acuityLine(Math.min(0.6, 0.1 + 0.1 * k + (eye === "left" ? 0.1 : 0)))[1];
+      if (condition === "amd") return acuityLine(eye === "right" ? 0.2 : 0.1)[1];
+      if (condition === "amblyopia" && eye === "left")
+        return acuityLine(age < 16 ? Math.max(0.18, 0.4 - 0.1 * k) : 0.3)[1];
+      return acuityLine(normal)[1];
+    };
+    const bestVa = { right: bestFor("right"), left: bestFor("left") };
+    const child = age < 16;
+    const iopMethod = child ? "rebound" : method;
+    const read = () => iopBase + Math.floor(rand() * iopSpread);
+    const iopR = read();
+    const iopL = Math.max(8, iopR + Math.floor(rand() * 3) - 1);
+    const readings = (v: number) => (iopMethod === "goldmann" ? [v] : [v, v + (rand() < 0.5 ? 1 : -1)]);
+    const cd =
+      condition === "glaucoma" ? 0.65 : condition === "glaucoma_suspect" ? 0.55 : 0.25 + 0.05 * Math.floor(rand() * 5);
+    const dx: { code: string; eye: "right" | "left" | "both" }[] = [];
+    let assessment = "Stable; spectacles as prescribed.";
+    let plan = "Routine recall.";
+    let symptoms = "";
+    const fundus: NonNullable<TriageFindings["fundus"]> = {};
+    switch (condition) {
+      case "cataract":
+        dx.push({ code: "H25.9", eye: "both" });
+        assessment = "Nuclear and cortical lens opacities reducing best-corrected acuity, left more than right.";
+        plan =
+          k >= 2
+            ? "Glare and reading difficulty affect daily life: discussed cataract surgery; referral offered."
+            : "Monitor; review in 12 months or sooner if vision worsens.";
+        symptoms = "Glare from headlights at night";
+        break;
+      case "amd":
+        dx.push({ code: "H35.3", eye: "both" });
+        fundus.right = {
+          drusen: true,
+          maculaNotes: "Soft drusen and pigment changes at the macula; no haemorrhage or fluid seen",
+        };
+        fundus.left = { drusen: true, maculaNotes: "Scattered small drusen at the macula" };
+        assessment = "Dry (early) age-related macular changes, stable.";
+        plan = "Amsler grid at home; return at once with new distortion or a sudden drop in vision. Review 12 months.";
+        break;
+      case "glaucoma_suspect":
+        dx.push({ code: "H40.0", eye: "both" });
+        assessment = "Borderline pressures with healthy-looking discs; fields full.";
+        plan = "Repeat IOP by applanation and fields in 6 months.";
+        break;
+      case "glaucoma":
+        dx.push({ code: "H40.1", eye: "both" });
+        assessment = "Primary open-angle glaucoma under hospital care; pressures controlled on drops.";
+        plan = "Continue drops as directed by the hospital eye service; routine recall.";
+        break;
+      case "diabetic": {
+        // Grades as in the English diabetic eye screening programme (R0 none, R1 background; M0 no maculopathy).
+        const grade = k === dates.length - 1 && rand() < 0.45 ? "R1 M0" : "R0 M0";
+        fundus.right = {
+          peripheryNotes:
+            grade === "R0 M0" ? "No diabetic retinopathy (R0 M0)" : "A few microaneurysms and dot haemorrhages (R1 M0)",
+        };
+        fundus.left = { peripheryNotes: "No diabetic retinopathy (R0 M0)" };
+        if (grade !== "R0 M0") dx.push({ code: "H36.0", eye: "right" });
+        assessment = `Type 2 diabetes; retinopathy grade right ${grade}, left R0 M0.`;
+        plan = "Continue annual diabetic eye screening; routine recall.";
+        break;
+      }
+      case "amblyopia":
+        dx.push({ code: "H53.0", eye: "left" }, { code: "H52.3", eye: "both" });
+        assessment = child
+          ? "Anisometropic amblyopia, left; acuity improving with full-time spectacles."
+          : "Long-standing amblyopia, left; stable.";
+        plan = child ? "Full-time spectacles; patching discussed with the family. Review 6 months." : "Routine recall.";
+        break;
+      case "myopic_child":
+        assessment =
+          control && !(stopsControl && k >= 3) && k > 0
+            ? "Myopia progressing more slowly on myopia-control spectacle lenses."
+            : stopsControl && k >= 3
+              ? "Myopia control stopped at the family's wish; progression has picked up."
+              : "Myopia progressing.";
+        plan =
+          control && k === 0
+            ? "Discussed myopia control; myopia-control spectacle lenses chosen."
+            : "Review in 12 months.";
+        break;
+    }
+    const guardian = child ? `Attended with ${rand() < 0.6 ? "mother" : "father"}, who gave the history.` : "";
     return {
       at,
-      right: { sphere: s, cylinder: cyl, axis: cyl ? axis : 180 },
+      right: { sphere: s, cylinder: c, axis: c ? axis : 180 },
       left: {
-        sphere: q(s + (rand() - 0.5) * 0.5),
-        cylinder: q(cyl * (0.8 + rand() * 0.4)) || 0,
-        axis: cyl ? 1 + ((axis + 178) % 180) : 180,
+        sphere: leftS,
+        cylinder: q(c * (0.8 + rand() * 0.4)) || 0,
+        axis: c ? 1 + ((axis + 178) % 180) : 180,
       },
-      add,
-      iop: [12 + Math.floor(rand() * 8), 12 + Math.floor(rand() * 8)] as [number, number],
-      reason: age >= 45 ? "Routine exam; near vision harder" : "Routine exam",
+      add: child ? undefined : add,
+      reason: child
+        ? k === 0
+          ? "School eye check suggested a test"
+          : "Children's review"
+        : age >= 42
+          ? "Routine exam; near vision harder"
+          : "Routine exam",
+      symptoms: [symptoms, guardian].filter(Boolean).join(" "),
       diagnoses: [
         s < -0.25 ? "H52.1" : s > 0.25 ? "H52.0" : "",
-        cyl <= -0.75 ? "H52.2" : "",
-        add ? "H52.4" : "",
+        c <= -0.75 ? "H52.2" : "",
+        add && !child ? "H52.4" : "",
       ].filter(Boolean),
+      general: true,
+      cycloplegic: child && (k === 0 || age < 7 || condition === "amblyopia"),
+      findings: {
+        bestVa,
+        iop: {
+          right: { readings: readings(iopR), method: iopMethod },
+          left: { readings: readings(iopL), method: iopMethod },
+        },
+        disc: {
+          right: {
+            verticalCd: cd,
+            margins: "distinct" as const,
+            notes: condition === "glaucoma" ? "Inferior rim thinning" : "",
+          },
+          left: { verticalCd: Math.round((cd + (rand() < 0.3 ? 0.05 : 0)) * 100) / 100, margins: "distinct" as const },
+        },
+        pupils: { right: { equalReactive: true }, left: { equalReactive: true } },
+        ...(Object.keys(fundus).length ? { fundus } : {}),
+        ...(condition === "glaucoma" || condition === "glaucoma_suspect" ? { cct: { right: 545, left: 550 } } : {}),
+        ...(child && (k === 0 || age < 7) ? { dilated: true } : {}),
+        diagnoses: dx,
+        assessment,
+        plan,
+      } satisfies TriageFindings,
     };
   });
-  return { first, last, dob, sex: rand() < 0.5 ? "female" : "male", exams, contactLens: n > 0 && rand() < 0.08 };
+  return {
+    first,
+    last,
+    dob,
+    sex: rand() < 0.5 ? "female" : "male",
+    exams,
+    contactLens: n > 0 && ageNow >= 14 && condition !== "cataract" && rand() < 0.1,
+    medications: MEDICATIONS[condition],
+  };
 }
 
 /** The named cases of the demo. */
@@ -195,6 +425,8 @@ function namedCases(): Case[] {
       iop: [14, 15] as [number, number],
       reason: i === 0 ? "School noticed difficulty reading the board" : "Myopia review",
       diagnoses: ["H52.1"],
+      // The first visit refracted under cyclopentolate, as for any child's first test.
+      cycloplegic: i === 0,
     })),
   });
   return [
@@ -362,6 +594,41 @@ function demoPatientExams(): Case["exams"] {
   ];
 }
 
+/** Appointment start times (minutes after midnight) of a caseload visit: 09:00–12:30 and 14:00–17:00, clear of lunch. */
+const VISIT_STARTS = [
+  ...Array.from({ length: 8 }, (_, i) => 540 + 30 * i),
+  ...Array.from({ length: 7 }, (_, i) => 840 + 30 * i),
+];
+
+/**
+ * Moves each visit to a free start time on a working day (Monday to Friday, not a bank holiday),
+ * the same day or the next working one; the exam is timed two minutes after the start.
+ */
+function diaryPlacer(timeZone: string) {
+  const used = new Set<string>();
+  return (at: Date) => {
+    let day = localParts(at, timeZone).date;
+    const k = Math.floor(at.getTime() / 3600e3) % VISIT_STARTS.length;
+    for (;;) {
+      while (weekdayOf(day) > 5 || isBankHoliday(day)) day = addDays(day, 1);
+      for (let t = 0; t < VISIT_STARTS.length; t++) {
+        const minute = VISIT_STARTS[(k + t) % VISIT_STARTS.length]!;
+        const start = wallTimeToInstant(day, minute, timeZone);
+        if (!start || used.has(`${day}|${minute}`)) continue;
+        used.add(`${day}|${minute}`);
+        return new Date(start.getTime() + 2 * 60e3);
+      }
+      day = addDays(day, 1);
+    }
+  };
+}
+
+/** The practice's clock time ("HH:MM") `minutes` after an instant. */
+function clockTime(at: Date, minutes: number) {
+  const m = localParts(new Date(at.getTime() + minutes * 60e3), DEMO_PRACTICE.timeZone).minute;
+  return `${String(Math.floor(m / 60)).padStart(2, "0")}:${String(m % 60).padStart(2, "0")}`;
+}
+
 function chunks<T>(list: T[], size: number) {
   const out: T[][] = [];
   for (let i = 0; i < list.length; i += size) out.push(list.slice(i, i + size));
@@ -397,7 +664,7 @@ async function writeExams(
           optometristId: examiner,
           examinedAt: e.at,
           status: "signed" as const,
-          signedAt: new Date(e.at.getTime() + 40 * 60e3),
+          signedAt: new Date(e.at.getTime() + 25 * 60e3),
           signedById: examiner,
           createdAt: e.at,
           updatedAt: e.at,
@@ -434,7 +701,11 @@ export async function seedCaseload(tx: Tx) {
     input: Case["exams"][number];
     last: boolean;
     contactLens: boolean;
+    dob: string;
   }[] = [];
+  // Every visit at a free appointment time of a working day, inside the practice's hours.
+  const place = diaryPlacer(DEMO_PRACTICE.timeZone);
+  for (const c of cases) for (const e of c.exams) e.at = place(e.at);
 
   if ((already?.n ?? 0) === 0) {
     const inserted: { id: string }[] = [];
@@ -473,6 +744,7 @@ export async function seedCaseload(tx: Tx) {
           input: w.input,
           last: k === written.length - 1,
           contactLens: !!c.contactLens,
+          dob: c.dob,
         }),
       );
     }
@@ -496,6 +768,7 @@ export async function seedCaseload(tx: Tx) {
       .where(eq(exams.patientId, demo.id));
     if ((has?.n ?? 0) === 0) {
       const list = demoPatientExams();
+      for (const e of list) e.at = place(e.at);
       const written = await writeExams(tx, demo.id, list, [optometrist.id], rand);
       written.forEach((w, k) =>
         allExams.push({
@@ -504,6 +777,7 @@ export async function seedCaseload(tx: Tx) {
           input: w.input,
           last: k === written.length - 1,
           contactLens: false,
+          dob: DEMO_PATIENT.dateOfBirth,
         }),
       );
       await tx
@@ -553,7 +827,17 @@ export async function seedCaseload(tx: Tx) {
         cylinder: auto.cylinder || 0,
         axis: auto.cylinder ? auto.axis : 180,
       });
-      for (const kind of ["subjective", "final"] as const)
+      const best = x.findings?.bestVa?.[eye] ?? 0;
+      const bestText = VA_TEXT[String(best)] ?? acuityLine(best)[0];
+      const age = ageAt(e.dob, x.at);
+      // Under 7 the refraction rests on cycloplegic retinoscopy alone; older children also answer a subjective.
+      if (x.cycloplegic) {
+        // Cyclopentolate relaxes accommodation, so more plus is found (common practice).
+        const cyclo = { ...rx, sphere: q(rx.sphere + (rx.sphere > 0 ? 0.75 : 0.25)) };
+        refractions.push({ examId: e.id, kind: "cycloplegic", eye, rawText: fmt(cyclo), ...cyclo, vertexMm: 12 });
+      }
+      const kinds = x.cycloplegic && age < 7 ? (["final"] as const) : (["subjective", "final"] as const);
+      for (const kind of kinds)
         refractions.push({
           examId: e.id,
           kind,
@@ -562,24 +846,25 @@ export async function seedCaseload(tx: Tx) {
           ...rx,
           addPower: x.add ?? null,
           vertexMm: 12,
-          vaNotation: "6/6",
-          vaLogMar: 0,
+          vaNotation: bestText,
+          vaLogMar: best,
         });
+      const unaided = x.general ? unaidedLogMar(rx, age, best) : rx.sphere < -1 ? 0.78 : 0.18;
       acuity.push({
         examId: e.id,
         eye,
         distance: "distance",
         correction: "unaided",
-        notation: rx.sphere < -1 ? "6/36" : "6/9",
-        logMar: rx.sphere < -1 ? 0.778 : 0.176,
+        notation: acuityLine(unaided)[0],
+        scale: "metric",
+        logMar: unaided,
       });
-      const best = x.findings?.bestVa?.[eye] ?? 0;
       acuity.push({
         examId: e.id,
         eye,
         distance: "distance",
         correction: "best",
-        notation: VA_TEXT[String(best)] ?? "6/6",
+        notation: bestText,
         scale: "metric",
         logMar: best,
       });
@@ -593,7 +878,7 @@ export async function seedCaseload(tx: Tx) {
             reading: k + 1,
             mmHg,
             method: readings.method,
-            measuredTime: `10:${String(15 + 3 * k).padStart(2, "0")}`,
+            measuredTime: clockTime(x.at, 6 + 2 * k),
           }),
         );
       else if (x.iop)
@@ -602,7 +887,7 @@ export async function seedCaseload(tx: Tx) {
           eye,
           mmHg: x.iop[eye === "right" ? 0 : 1],
           method: "non_contact",
-          measuredTime: "10:15",
+          measuredTime: clockTime(x.at, 6),
         });
       if (f?.cct?.[eye]) ccts.push({ examId: e.id, eye, micrometres: f.cct[eye]! });
       const p = f?.pupils?.[eye];
@@ -711,8 +996,8 @@ export async function seedCaseload(tx: Tx) {
     if (f?.dilated)
       dilations.push({
         examId: e.id,
-        drug: "tropicamide",
-        strengthPercent: 1,
+        drug: x.cycloplegic ? "cyclopentolate" : "tropicamide",
+        strengthPercent: x.cycloplegic && ageAt(e.dob, x.at) < 1 ? 0.5 : 1,
         eye: "both",
         instilledAt: new Date(x.at.getTime() + 10 * 60e3),
       });
@@ -726,7 +1011,7 @@ export async function seedCaseload(tx: Tx) {
             ? "See findings."
             : "Stable; spectacles as prescribed."),
       plan: f?.plan ?? (x.fieldDefect ? "Repeat IOP and fields; referral letter to be considered." : "Routine recall."),
-      recallMonths: x.fieldDefect ? 3 : 24,
+      recallMonths: x.fieldDefect ? 3 : /6 months/.test(f?.plan ?? "") ? 6 : ageAt(e.dob, x.at) < 16 ? 12 : 24,
     });
     for (const code of x.diagnoses)
       diagnoses.push({
@@ -810,4 +1095,47 @@ export async function seedCaseload(tx: Tx) {
       }
     }
   }
+}
+
+/**
+ * Gives each signed caseload exam that has none its appointment: a completed visit of the type
+ * its age and reason call for, starting two minutes before the exam, at the site where the
+ * examiner worked that weekday. Runs after the diary's types and hours exist. A visit that would
+ * overlap another of the same clinician is left out (the exclusion constraint decides).
+ */
+export async function linkCaseloadVisits(tx: Tx) {
+  await tx.execute(sql`
+    with src as (
+      select e.id as exam_id, e.patient_id, e.optometrist_id, e.examined_at - interval '2 minutes' as starts_at,
+        case
+          when age(e.examined_at, p.date_of_birth::timestamptz) < interval '16 years' then 'Child eye exam'
+          when h.reason like 'Contact-lens%' then 'Contact lens check'
+          else 'Comprehensive eye exam'
+        end as type_name,
+        wh.site_id, wh.room_id
+      from exams e
+      join patients p on p.id = e.patient_id
+      left join exam_history h on h.exam_id = e.id
+      left join working_hours wh on wh.provider_id = e.optometrist_id
+        and wh.weekday = extract(isodow from e.examined_at at time zone ${DEMO_PRACTICE.timeZone})
+      where e.appointment_id is null and e.status = 'signed' and e.created_at = e.examined_at
+        and (p.email like ${"%@" + CASELOAD_DOMAIN} or p.email = ${DEMO_PATIENT.email})
+    ), made as (
+      insert into appointments (patient_id, provider_id, appointment_type_id, site_id, room_id, starts_at, ends_at,
+        status, created_at, updated_at, status_changed_at)
+      select s.patient_id, s.optometrist_id, t.id, coalesce(s.site_id, default_site_id()), s.room_id, s.starts_at,
+        s.starts_at + make_interval(mins => t.duration_minutes), 'completed', s.starts_at - interval '21 days',
+        s.starts_at + make_interval(mins => t.duration_minutes), s.starts_at + make_interval(mins => t.duration_minutes)
+      from src s join appointment_types t on t.name = s.type_name
+      on conflict do nothing
+      returning id, patient_id, starts_at, ends_at, created_at
+    ), trail as (
+      insert into appointment_status_changes (appointment_id, to_status, changed_at)
+      select id, 'booked'::appointment_status, created_at from made
+      union all
+      select id, 'completed'::appointment_status, ends_at from made
+    )
+    update exams e set appointment_id = made.id
+    from src join made on made.patient_id = src.patient_id and made.starts_at = src.starts_at
+    where e.id = src.exam_id`);
 }

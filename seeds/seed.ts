@@ -5,9 +5,11 @@ import pg from "pg";
 import * as schema from "../app/db/schema";
 import { databaseUrl } from "../app/utils/db-url";
 import { seedBilling } from "./billing";
-import { seedCaseload } from "./caseload";
+import { linkCaseloadVisits, seedCaseload } from "./caseload";
+import { seedCasework } from "./casework";
 import { seedClosures } from "./closures";
 import { seedContactLenses } from "./contact-lenses";
+import { buildDiary } from "./diary";
 import { DEMO_PASSWORD, DEMO_PATIENT, DEMO_PRACTICE, DEMO_USERS } from "./demo-practice";
 import { seedOrders } from "./orders";
 import { seedPortal } from "./portal";
@@ -56,10 +58,14 @@ export async function seed(url = databaseUrl()) {
       }
       await seedCaseload(tx);
       await seedSchedule(tx);
+      await linkCaseloadVisits(tx);
       await seedReferrals(tx);
       await seedPortal(tx);
       await seedOrders(tx);
       await seedContactLenses(tx);
+      await seedCasework(tx);
+      // The diary follows the calendar: rebuilt around today on every seeding.
+      await buildDiary(tx);
     });
   } finally {
     await pool.end();

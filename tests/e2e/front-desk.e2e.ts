@@ -92,7 +92,8 @@ describe("finding people and billing at the front desk", () => {
     const [patient] = await q<{ id: string }>("select id from patients where last_name = $1", [SURNAME]);
     const [optom] = await q<{ id: string }>("select id from users where email = $1", [DEMO.optometrist]);
     const [type] = await q<{ id: string }>("select id from appointment_types where name = 'Contact lens check'");
-    const start = new Date(Date.UTC(2026, 5, 2, 8, 0) + Math.floor(Math.random() * 5000) * 3_600_000);
+    // A late evening on a random past day: outside the hours, so clear of the demo's visits.
+    const start = new Date(Date.UTC(2026, 5, 2, 21, 30) + Math.floor(Math.random() * 150) * 86_400_000);
     const [appt] = await q<{ id: string }>(
       "insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status) values ($1, $2, $3, $4, $5, 'completed') returning id",
       [patient!.id, optom!.id, type!.id, start, new Date(start.getTime() + 20 * 60_000)],

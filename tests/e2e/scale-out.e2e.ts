@@ -259,7 +259,8 @@ describe("two app servers and two workers behind nginx", () => {
 
     // 2. Mid-flow, app server 1 and worker 1 stop. The same session books through server 2.
     await Promise.all([stop(apps, 0), stop(workers, 0)]);
-    const monday = startOfWeek(addDays(localParts(new Date(), "Europe/London").date, 7));
+    // Past the demo diary's booked fortnight, so 10:00 is free.
+    const monday = startOfWeek(addDays(localParts(new Date(), "Europe/London").date, 21));
     await desk.goto(`/schedule/book?patientId=${patient!.id}&provider=${optom!.id}&start=${monday}T10:00`);
     await desk.waitForLoadState("networkidle");
     await desk.getByRole("button", { name: "Book appointment" }).click();

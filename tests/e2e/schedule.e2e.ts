@@ -17,8 +17,8 @@ async function query<T>(sql: string, params: unknown[] = []): Promise<T[]> {
 
 describe("the schedule in the browser", () => {
   it("receptionist books in week view, drags to another day, marks arrived; the optometrist's list moves; the reminder reaches the mailbox with its .ics", async () => {
-    // A week two weeks ahead, so the slots are free and in the future whatever today is.
-    const monday = startOfWeek(addDays(localParts(new Date(), "Europe/London").date, 14));
+    // A week three weeks ahead, past the demo diary's booked fortnight, so the slots are free whatever today is.
+    const monday = startOfWeek(addDays(localParts(new Date(), "Europe/London").date, 21));
     const tuesday = addDays(monday, 1);
     const wednesday = addDays(monday, 2);
     // The portal test switches this patient's e-mails off; this flow needs the default (on).
