@@ -13,7 +13,7 @@ export type Query = <T = Record<string, unknown>>(text: string, values?: unknown
 export async function homeScenario(q: Query) {
   const tag = randomBytes(3).toString("hex");
   const one = async <T = { id: string }>(text: string, values: unknown[] = []) => (await q<T>(text, values))[0]!;
-  const [{ time_zone: timeZone }] = await q<{ time_zone: string }>(`select time_zone from practice_settings limit 1`);
+  const { time_zone: timeZone } = await one<{ time_zone: string }>(`select time_zone from practice_settings limit 1`);
   const desk = await one<{ id: string }>(`select id from users where email = 'reception@dioptra-demo.test'`);
   const optom = await one(
     `insert into users (email, name, role, licence_number) values ($1, $2, 'optometrist', '01-99999') returning id`,
