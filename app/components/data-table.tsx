@@ -228,7 +228,16 @@ function headerText<T>(columns: ColumnDef<T, any>[], id: string): string {
   return typeof c?.header === "string" ? c.header.toLowerCase() : id;
 }
 
-function Pager({ paging, params, pageParam }: { paging: TablePaging; params: URLSearchParams; pageParam: string }) {
+/** Previous and next page links with "1–25 of 300" (the table's own pager, for lists that are not tables). */
+export function Pager({
+  paging,
+  params,
+  pageParam,
+}: {
+  paging: TablePaging;
+  params: URLSearchParams;
+  pageParam: string;
+}) {
   const { page, pageSize, total, totalIsExact = true, noun } = paging;
   const pages = Math.max(1, Math.ceil(total / pageSize)) + (totalIsExact ? 0 : 1);
   const first = total ? (page - 1) * pageSize + 1 : 0;

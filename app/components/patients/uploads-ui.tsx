@@ -1,5 +1,6 @@
 import { useRef, useState } from "react";
-import { useRevalidator } from "react-router";
+import { useRevalidator, useSearchParams } from "react-router";
+import { Pager, type TablePaging } from "~/components/data-table";
 import { Button } from "~/components/ui/button";
 import { Icon } from "~/components/ui/icon";
 import { Notice } from "~/components/ui/notice";
@@ -23,8 +24,27 @@ const KIND_LABEL: Record<string, string> = {
   other: "Other",
 };
 
-export function DocumentList({ patientId, documents }: { patientId: string; documents: Doc[] }) {
-  if (!documents.length) return <p className="text-muted">No files attached.</p>;
+/** A patient's or an exam's files; with `paging`, one page of them and links to the others (`?docs=`). */
+export function DocumentList({
+  patientId,
+  documents,
+  paging,
+}: {
+  patientId: string;
+  documents: Doc[];
+  paging?: TablePaging;
+}) {
+  const [params] = useSearchParams();
+  if (!documents.length && !(paging && paging.total > 0)) return <p className="text-muted">No files attached.</p>;
+  return (
+    <>
+      <DocumentTiles patientId={patientId} documents={documents} />
+      {paging ? <Pager paging={{ ...paging, noun: ["file", "files"] }} params={params} pageParam="docs" /> : null}
+    </>
+  );
+}
+
+function DocumentTiles({ patientId, documents }: { patientId: string; documents: Doc[] }) {
   return (
     <ul className="grid gap-3 sm:grid-cols-2 lg:grid-cols-3">
       {documents.map((d) => (

@@ -5,7 +5,7 @@
  * jobs). The database itself refuses a move not in order_transitions (trigger), so two people
  * marking the same order at once get one move and one clear refusal.
  */
-import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
+import { and, asc, count, desc, eq, inArray, sql, type SQL } from "drizzle-orm";
 import {
   feeItems,
   frames,
@@ -41,6 +41,7 @@ import {
   voidInvoice,
   type NewLine,
 } from "~/models/billing/invoices.server";
+import { searchCondition } from "~/models/patients/patients.server";
 import { audit } from "~/utils/audit.server";
 import { db, type Tx } from "~/utils/db.server";
 import type { SessionUser } from "~/utils/session.server";
@@ -196,7 +197,23 @@ export async function orderDetail(orderId: string) {
 }
 export type OrderDetail = NonNullable<Awaited<ReturnType<typeof orderDetail>>>;
 
-export async function listOrders(filter: { state?: OrderState | "open"; patientId?: string } = {}) {
+/** Columns the orders list sorts by, as they appear in the URL. */
+export const ORDER_SORTS = ["label", "patientName", "labName", "state", "days"] as const;
+export type OrderSort = (typeof ORDER_SORTS)[number];
+
+export type OrderListQuery = {
+  state?: OrderState | "open";
+  patientId?: string;
+  /** Words of the patient's name, phone or e-mail, or a date of birth (the patient search's rules). */
+  q?: string;
+  sort?: OrderSort | null;
+  dir?: "asc" | "desc";
+  page?: number;
+  pageSize?: number;
+};
+
+/** One page of orders (newest first unless a column is chosen), with the number that match. */
+export async function listOrders(filter: OrderListQuery = {}) {
   const where = and(
     filter.state === "open"
       ? sql`${opticalOrders.state} not in ('collected', 'cancelled')`
@@ -204,26 +221,52 @@ export async function listOrders(filter: { state?: OrderState | "open"; patientI
         ? eq(opticalOrders.state, filter.state)
         : undefined,
     filter.patientId ? eq(opticalOrders.patientId, filter.patientId) : undefined,
+    filter.q?.trim() ? (searchCondition(filter.q) ?? sql`false`) : undefined,
   );
-  return db
-    .select({
-      id: opticalOrders.id,
-      number: opticalOrders.number,
-      kind: opticalOrders.kind,
-      state: opticalOrders.state,
-      stateChangedAt: opticalOrders.stateChangedAt,
-      createdAt: opticalOrders.createdAt,
-      frameLabel: opticalOrders.frameLabel,
-      patientId: patients.id,
-      patientName: sql<string>`${patients.firstName} || ' ' || ${patients.lastName}`,
-      labName: labs.name,
-    })
-    .from(opticalOrders)
-    .innerJoin(patients, eq(patients.id, opticalOrders.patientId))
-    .innerJoin(labs, eq(labs.id, opticalOrders.labId))
-    .where(where)
-    .orderBy(desc(opticalOrders.createdAt))
-    .limit(300);
+  const pageSize = filter.pageSize ?? 25;
+  const page = filter.page ?? 1;
+  const dir = filter.dir === "desc" ? sql`desc` : sql`asc`;
+  const key: Record<OrderSort, SQL[]> = {
+    label: [sql`${opticalOrders.number}`],
+    patientName: [sql`lower(${patients.firstName})`, sql`lower(${patients.lastName})`],
+    labName: [sql`lower(${labs.name})`],
+    state: [sql`${opticalOrders.state}::text`],
+    // Days in the state: the longer, the earlier the change.
+    days: [sql`${opticalOrders.stateChangedAt}`],
+  };
+  const order = filter.sort
+    ? key[filter.sort].map((k) =>
+        filter.sort === "days" ? sql`${k} ${filter.dir === "desc" ? sql`asc` : sql`desc`}` : sql`${k} ${dir}`,
+      )
+    : [];
+  const [rows, [counted]] = await Promise.all([
+    db
+      .select({
+        id: opticalOrders.id,
+        number: opticalOrders.number,
+        kind: opticalOrders.kind,
+        state: opticalOrders.state,
+        stateChangedAt: opticalOrders.stateChangedAt,
+        createdAt: opticalOrders.createdAt,
+        frameLabel: opticalOrders.frameLabel,
+        patientId: patients.id,
+        patientName: sql<string>`${patients.firstName} || ' ' || ${patients.lastName}`,
+        labName: labs.name,
+      })
+      .from(opticalOrders)
+      .innerJoin(patients, eq(patients.id, opticalOrders.patientId))
+      .innerJoin(labs, eq(labs.id, opticalOrders.labId))
+      .where(where)
+      .orderBy(...order, desc(opticalOrders.createdAt), desc(opticalOrders.id))
+      .limit(pageSize)
+      .offset((page - 1) * pageSize),
+    db
+      .select({ n: count() })
+      .from(opticalOrders)
+      .innerJoin(patients, eq(patients.id, opticalOrders.patientId))
+      .where(where),
+  ]);
+  return { rows, total: counted?.n ?? 0 };
 }
 
 // ------------------------------------------------------------------------------------ building

@@ -1,4 +1,4 @@
-import { and, desc, eq } from "drizzle-orm";
+import { and, count, desc, eq } from "drizzle-orm";
 import sharp from "sharp";
 import { documents, users } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
@@ -126,25 +126,51 @@ export async function saveUpload(
   }
 }
 
+const documentColumns = {
+  id: documents.id,
+  examId: documents.examId,
+  kind: documents.kind,
+  description: documents.description,
+  originalName: documents.originalName,
+  contentType: documents.contentType,
+  sizeBytes: documents.sizeBytes,
+  hasThumbnail: documents.thumbnailKey,
+  createdAt: documents.createdAt,
+  uploadedBy: users.name,
+};
+const view = <T extends { hasThumbnail: string | null; createdAt: Date }>({ hasThumbnail, createdAt, ...r }: T) => ({
+  ...r,
+  hasThumbnail: !!hasThumbnail,
+  createdAt: createdAt.toISOString(),
+});
+
+/** The files of one exam (a handful), or every file of a patient; newest first. */
 export async function documentsOf(patientId: string, examId?: string) {
   const rows = await db
-    .select({
-      id: documents.id,
-      examId: documents.examId,
-      kind: documents.kind,
-      description: documents.description,
-      originalName: documents.originalName,
-      contentType: documents.contentType,
-      sizeBytes: documents.sizeBytes,
-      hasThumbnail: documents.thumbnailKey,
-      createdAt: documents.createdAt,
-      uploadedBy: users.name,
-    })
+    .select(documentColumns)
     .from(documents)
     .innerJoin(users, eq(users.id, documents.uploadedById))
     .where(and(eq(documents.patientId, patientId), examId ? eq(documents.examId, examId) : undefined))
-    .orderBy(desc(documents.createdAt))
-    .limit(200);
-  return rows.map((r) => ({ ...r, hasThumbnail: !!r.hasThumbnail, createdAt: r.createdAt.toISOString() }));
+    .orderBy(desc(documents.createdAt), desc(documents.id));
+  return rows.map(view);
+}
+
+/** Files shown per page of the chart's documents. */
+export const DOCUMENTS_PAGE_SIZE = 24;
+
+/** One page of a patient's files for the chart, newest first, with the number there are. */
+export async function documentsPage(patientId: string, page = 1) {
+  const [rows, [counted]] = await Promise.all([
+    db
+      .select(documentColumns)
+      .from(documents)
+      .innerJoin(users, eq(users.id, documents.uploadedById))
+      .where(eq(documents.patientId, patientId))
+      .orderBy(desc(documents.createdAt), desc(documents.id))
+      .limit(DOCUMENTS_PAGE_SIZE)
+      .offset((page - 1) * DOCUMENTS_PAGE_SIZE),
+    db.select({ n: count() }).from(documents).where(eq(documents.patientId, patientId)),
+  ]);
+  return { rows: rows.map(view), paging: { page, pageSize: DOCUMENTS_PAGE_SIZE, total: counted?.n ?? 0 } };
 }
 export type DocumentView = Awaited<ReturnType<typeof documentsOf>>[number];

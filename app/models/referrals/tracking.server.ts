@@ -1,14 +1,33 @@
 /** The referral lists: the tracking table and the chart. */
-import { asc, desc, eq, sql } from "drizzle-orm";
+import { and, asc, count, desc, eq, sql, type SQL } from "drizzle-orm";
 import { patients, referralMessages, referralRecipients, referralReplies, referrals, users } from "~/db/schema";
 import { canChase, displayStatus, dueBy, localDate, type DisplayStatus } from "~/lib/referrals";
 import { db } from "~/utils/db.server";
 import { practice, referenceOf } from "./common.server";
+import { searchCondition } from "~/models/patients/patients.server";
 
-/** Every referral for the tracking table, with the status shown and the delivery state. */
-export async function trackingRows(now = new Date()) {
+/** The status shown (`displayStatus` in app/lib/referrals), computed in SQL so the list filters, sorts and pages there. */
+function shownStatus(now: Date, timeZone: string) {
+  return sql<DisplayStatus>`(case
+    when ${referrals.status} in ('draft', 'queued', 'withdrawn', 'replied') then ${referrals.status}::text
+    when ${referrals.appointmentOn} is not null and ${referrals.appointmentOn} <= ${localDate(now, timeZone)}::date then 'seen'
+    when ${referrals.sentAt} is not null and ${referrals.timeFrameDays} is not null
+      and ${now} > ${referrals.sentAt} + make_interval(secs => ${referrals.timeFrameDays} * 86400) then 'overdue'
+    else ${referrals.status}::text end)`;
+}
+
+const dueAt = sql`(${referrals.sentAt} + make_interval(secs => ${referrals.timeFrameDays} * 86400))`;
+
+/**
+ * Referrals for the tracking table, with the status shown and the delivery state: every one
+ * (newest first) unless a condition, an order and a page are given.
+ */
+export async function trackingRows(
+  now = new Date(),
+  opts: { where?: SQL; orderBy?: SQL[]; limit?: number; offset?: number } = {},
+) {
   const p = await practice();
-  const rows = await db
+  const base = db
     .select({
       id: referrals.id,
       number: referrals.number,
@@ -37,8 +56,10 @@ export async function trackingRows(now = new Date()) {
     .innerJoin(patients, eq(patients.id, referrals.patientId))
     .innerJoin(users, eq(users.id, referrals.createdById))
     .leftJoin(referralRecipients, eq(referralRecipients.id, referrals.recipientId))
-    .orderBy(desc(referrals.createdAt))
-    .limit(500);
+    .where(opts.where)
+    .orderBy(...(opts.orderBy ?? []), desc(referrals.createdAt), asc(referrals.id))
+    .$dynamic();
+  const rows = await (opts.limit !== undefined ? base.limit(opts.limit).offset(opts.offset ?? 0) : base);
   return rows.map((r) => {
     const shown = displayStatus(r, now, p.timeZone);
     const due = dueBy(r);
@@ -77,39 +98,54 @@ export const TRACKING_SORTS = [
 export type TrackingSort = (typeof TRACKING_SORTS)[number];
 export type TrackingQuery = {
   status: DisplayStatus | null;
+  /** Words of the patient's name, phone or e-mail, or a date of birth (the patient search's rules). */
+  q?: string;
   sort: TrackingSort | null;
   dir: "asc" | "desc";
   page: number;
   pageSize: number;
 };
 
-const URGENCY_ORDER = { same_day: 0, urgent: 1, soon: 2, routine: 3 } as Record<string, number>;
-
 /**
- * One page of the tracking table: filtered by the status shown, sorted (newest first unless a
- * column is chosen; empty values last either way) and cut to the page, with the count of each
- * status for the filter's choices. The status shown depends on today and the time frame, so the
- * filter and the order are applied to the computed rows here rather than in SQL.
+ * One page of the tracking table, in the database: filtered by the status shown and the
+ * patient, sorted (newest first unless a column is chosen; empty values last either way) and
+ * cut to the page, with the count of each status for the filter's choices.
  */
 export async function trackingPage(q: TrackingQuery, now = new Date()) {
-  const all = await trackingRows(now);
+  const p = await practice();
+  const status = shownStatus(now, p.timeZone);
+  const patientWhere = q.q?.trim() ? (searchCondition(q.q) ?? sql`false`) : undefined;
+  const where = and(patientWhere, q.status ? sql`${status} = ${q.status}` : undefined);
+  const dir = q.dir === "desc" ? sql`desc nulls last` : sql`asc nulls last`;
+  const key: Record<TrackingSort, SQL[]> = {
+    reference: [sql`${referrals.id}::text`],
+    patient: [sql`lower(${patients.lastName})`, sql`lower(${patients.firstName})`],
+    recipient: [sql`${referralRecipients.name}`, sql`${referralRecipients.clinic}`],
+    urgency: [
+      sql`(case ${referrals.urgency} when 'same_day' then 0 when 'urgent' then 1 when 'soon' then 2 else 3 end)`,
+    ],
+    status: [status],
+    sentOn: [sql`${referrals.sentAt}`],
+    dueOn: [dueAt],
+    appointmentOn: [sql`${referrals.appointmentOn}`],
+  };
+  const orderBy = q.sort ? key[q.sort].map((k) => sql`${k} ${dir}`) : [];
+  const [rows, countRows] = await Promise.all([
+    trackingRows(now, { where, orderBy, limit: q.pageSize, offset: (q.page - 1) * q.pageSize }),
+    db
+      .select({ status, n: count() })
+      .from(referrals)
+      .innerJoin(patients, eq(patients.id, referrals.patientId))
+      .where(patientWhere)
+      .groupBy(sql`1`),
+  ]);
   const counts = {} as Record<DisplayStatus, number>;
-  for (const r of all) counts[r.status] = (counts[r.status] ?? 0) + 1;
-  const filtered = q.status ? all.filter((r) => r.status === q.status) : all;
-  if (q.sort) {
-    const key = q.sort;
-    const sign = q.dir === "desc" ? -1 : 1;
-    const value = (r: TrackingRow): string | number | null =>
-      key === "urgency" ? (URGENCY_ORDER[r.urgency] ?? 9) : key === "recipient" && r.recipient === "—" ? null : r[key];
-    filtered.sort((a, b) => {
-      const x = value(a);
-      const y = value(b);
-      if (x === null || y === null) return x === y ? 0 : x === null ? 1 : -1;
-      return sign * (typeof x === "number" && typeof y === "number" ? x - y : String(x).localeCompare(String(y)));
-    });
+  let all = 0;
+  for (const c of countRows) {
+    counts[c.status] = c.n;
+    all += c.n;
   }
-  const start = (q.page - 1) * q.pageSize;
-  return { rows: filtered.slice(start, start + q.pageSize), total: filtered.length, all: all.length, counts };
+  return { rows, total: q.status ? (counts[q.status] ?? 0) : all, all, counts };
 }
 
 /**

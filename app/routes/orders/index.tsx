@@ -1,31 +1,55 @@
 import { createColumnHelper } from "@tanstack/react-table";
 import { Form, Link } from "react-router";
+import { z } from "zod";
 import type { Route } from "./+types/index";
 import { DataTable } from "~/components/data-table";
 import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
-import { Select } from "~/components/ui/input";
+import { Input, Select } from "~/components/ui/input";
 import { Button } from "~/components/ui/button";
 import { StatusBadge } from "~/components/ui/notice";
 import { daysBetween, ORDER_STATES, orderLabel, STATE_LABEL, type OrderStateName } from "~/lib/orders/states";
-import { listOrders, ORDER_ROLES, practiceOrderSettings } from "~/models/orders/orders.server";
+import { listOrders, ORDER_ROLES, ORDER_SORTS, practiceOrderSettings } from "~/models/orders/orders.server";
 import { requireRole } from "~/utils/auth.server";
+
+const PAGE_SIZE = 25;
+
+const querySchema = z.object({
+  state: z.string().catch("open"),
+  q: z.string().trim().max(100).catch(""),
+  sort: z.enum(ORDER_SORTS).nullable().catch(null),
+  dir: z.enum(["asc", "desc"]).catch("asc"),
+  page: z.coerce.number().int().min(1).max(100_000).catch(1),
+});
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, ORDER_ROLES);
-  const raw = new URL(request.url).searchParams.get("state") ?? "open";
+  const params = new URL(request.url).searchParams;
+  const query = querySchema.parse({
+    state: params.get("state") ?? "open",
+    q: params.get("q") ?? "",
+    sort: params.get("sort"),
+    dir: params.get("dir") ?? undefined,
+    page: params.get("page") ?? undefined,
+  });
+  const raw = query.state;
   const state =
     raw === "all"
       ? undefined
       : raw === "open" || (ORDER_STATES as readonly string[]).includes(raw)
         ? (raw as OrderStateName | "open")
         : "open";
-  const [rows, settings] = await Promise.all([listOrders({ state }), practiceOrderSettings()]);
+  const [{ rows, total }, settings] = await Promise.all([
+    listOrders({ state, q: query.q, sort: query.sort, dir: query.dir, page: query.page, pageSize: PAGE_SIZE }),
+    practiceOrderSettings(),
+  ]);
   const now = new Date();
   return {
     isOwner: user.role === "owner",
     state: raw === "all" ? "all" : (state ?? "open"),
+    query,
+    total,
     overdueDays: settings.labOverdueDays,
     orders: rows.map((o) => ({
       ...o,
@@ -36,7 +60,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   };
 }
 
-type Row = Awaited<ReturnType<typeof loader>>["orders"][number];
+type Row = Route.ComponentProps["loaderData"]["orders"][number];
 const col = createColumnHelper<Row>();
 const stateTone = (s: OrderStateName) =>
   s === "cancelled" || s === "remake" ? "warning" : s === "ready_to_collect" || s === "collected" ? "success" : "info";
@@ -52,6 +76,7 @@ const columns = (overdueDays: number) => [
   col.accessor("patientName", { header: "Patient" }),
   col.accessor("kind", {
     header: "What",
+    enableSorting: false,
     cell: (c) =>
       c.getValue() === "spectacles"
         ? `Spectacles${c.row.original.frameLabel ? ` — ${c.row.original.frameLabel}` : ""}`
@@ -97,7 +122,13 @@ export default function Orders({ loaderData }: Route.ComponentProps) {
           </>
         }
       />
-      <Form method="get" className="mb-4 flex items-end gap-3">
+      <Form method="get" className="mb-4 flex flex-wrap items-end gap-3">
+        {loaderData.query.sort ? (
+          <>
+            <input type="hidden" name="sort" value={loaderData.query.sort} />
+            <input type="hidden" name="dir" value={loaderData.query.dir} />
+          </>
+        ) : null}
         <div>
           <label htmlFor="state" className="mb-1 block text-sm font-semibold">
             Show
@@ -112,6 +143,19 @@ export default function Orders({ loaderData }: Route.ComponentProps) {
             ))}
           </Select>
         </div>
+        <div>
+          <label htmlFor="order-patient" className="mb-1 block text-sm font-semibold">
+            Patient
+          </label>
+          <Input
+            id="order-patient"
+            name="q"
+            type="search"
+            defaultValue={loaderData.query.q}
+            placeholder="Name, date of birth, phone or e-mail"
+            className="w-72"
+          />
+        </div>
         <Button type="submit" variant="secondary">
           Show
         </Button>
@@ -122,7 +166,14 @@ export default function Orders({ loaderData }: Route.ComponentProps) {
           columns={columns(loaderData.overdueDays)}
           getRowId={(o) => o.id}
           caption="Orders"
-          empty="No orders to show."
+          empty={loaderData.query.q ? `No order of a patient matching “${loaderData.query.q}”.` : "No orders to show."}
+          sort={{ sort: loaderData.query.sort, dir: loaderData.query.dir }}
+          paging={{
+            page: loaderData.query.page,
+            pageSize: PAGE_SIZE,
+            total: loaderData.total,
+            noun: ["order", "orders"],
+          }}
         />
       </Card>
     </>

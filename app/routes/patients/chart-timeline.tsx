@@ -38,7 +38,7 @@ export function Timeline({ d }: { d: LD }) {
             status: e.status === "signed" ? "signed" : "in progress",
             href: `/patients/${d.patient.id}/exams/${e.id}`,
           })),
-          ...d.documents.map((doc) => ({
+          ...d.documents.rows.map((doc) => ({
             at: doc.createdAt,
             kind: "Document",
             label: doc.originalName,

@@ -19,7 +19,7 @@ import {
   recallDue,
   refractionHistory,
 } from "~/models/patients/chart.server";
-import { documentsOf } from "~/models/patients/documents.server";
+import { documentsPage } from "~/models/patients/documents.server";
 import { ageInYears, formatDate, formatMoney } from "~/lib/format";
 import { prescriptionsOf } from "~/models/prescriptions/prescriptions.server";
 import { PortalInviteButton } from "~/components/portal-invite-button";
@@ -29,6 +29,10 @@ import { RefractionHistory } from "./refraction-plot";
 import { DocumentList, UploadForm } from "~/components/patients/uploads-ui";
 import { Timeline } from "./chart-timeline";
 import { patientOr404 } from "~/models/patients/patients.server";
+
+/** The page of the chart's documents asked for (`?docs=`), from 1. */
+const docsPage = (request: Request) =>
+  Math.min(100_000, Math.max(1, Math.trunc(Number(new URL(request.url).searchParams.get("docs"))) || 1));
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
@@ -49,7 +53,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const clinicalData = clinical
     ? Promise.all([
         examsOf(p.id),
-        documentsOf(p.id),
+        documentsPage(p.id, docsPage(request)),
         refractionHistory(p.id),
         latestPrompts(p.id),
         referralsForChart(p.id, { clinical: true }),
@@ -232,7 +236,7 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
           <RefractionHistory points={d.history} progression={d.progression} />
           <ChartReferrals referrals={d.referrals} />
           <Card title="Documents">
-            <DocumentList patientId={p.id} documents={d.documents} />
+            <DocumentList patientId={p.id} documents={d.documents.rows} paging={d.documents.paging} />
             <div className="mt-4">
               <UploadForm patientId={p.id} />
             </div>

@@ -8,7 +8,7 @@ import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
-import { Select } from "~/components/ui/input";
+import { Input, Select } from "~/components/ui/input";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { STATUS_LABEL, STATUS_TONE, URGENCY_LABEL, type DisplayStatus } from "~/lib/referrals";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
@@ -18,6 +18,7 @@ const PAGE_SIZE = 25;
 
 const querySchema = z.object({
   status: z.enum(FILTERS).nullable().catch(null),
+  q: z.string().trim().max(100).catch(""),
   sort: z.enum(TRACKING_SORTS).nullable().catch(null),
   dir: z.enum(["asc", "desc"]).catch("asc"),
   page: z.coerce.number().int().min(1).max(100_000).catch(1),
@@ -28,6 +29,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const params = new URL(request.url).searchParams;
   const query = querySchema.parse({
     status: params.get("status"),
+    q: params.get("q") ?? "",
     sort: params.get("sort"),
     dir: params.get("dir") ?? undefined,
     page: params.get("page") ?? undefined,
@@ -155,18 +157,35 @@ export default function Referrals({ loaderData }: Route.ComponentProps) {
               ))}
             </Select>
           </div>
-          <noscript>
-            <Button type="submit" variant="secondary">
-              Filter
-            </Button>
-          </noscript>
+          <div>
+            <label htmlFor="patient-filter" className="mb-1 block text-sm font-semibold">
+              Patient
+            </label>
+            <Input
+              id="patient-filter"
+              name="q"
+              type="search"
+              defaultValue={query.q}
+              placeholder="Name, date of birth, phone or e-mail"
+              className="w-72"
+            />
+          </div>
+          <Button type="submit" variant="secondary">
+            Filter
+          </Button>
         </Form>
         <DataTable
           data={loaderData.rows}
           columns={columns}
           getRowId={(r) => r.id}
           caption={`Referrals${filter ? `: ${STATUS_LABEL[filter]}` : ""}`}
-          empty={filter ? "No referral has this status." : "No referrals yet."}
+          empty={
+            query.q
+              ? `No referral of a patient matching “${query.q}”${filter ? " has this status" : ""}.`
+              : filter
+                ? "No referral has this status."
+                : "No referrals yet."
+          }
           sort={{ sort: query.sort, dir: query.dir }}
           paging={{ page: query.page, pageSize: PAGE_SIZE, total: loaderData.total, noun: ["referral", "referrals"] }}
         />
