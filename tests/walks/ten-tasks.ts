@@ -1,0 +1,233 @@
+/**
+ * Ten everyday tasks, walked in Debian's Chromium against a running server, counting what a person
+ * does: every click, tap, check or choice in a list is one click; every typed character (and each
+ * Tab or Enter) is one keystroke. Fields typed into and scrolls needed to reach a target (the
+ * target was outside the viewport when it was acted on) are counted beside them. Signing in is not
+ * counted. Each task starts on its role's home page and moves by links and buttons only; the one
+ * exception is the referral recipient, who opens the link in the e-mail.
+ *
+ * Fixtures a task needs but does not make (an appointment today, a patient due for recall, an
+ * invoice for the portal's patient) are written to the database first; they are not counted.
+ *
+ *   BASE_URL=http://127.0.0.1:3000 npx tsx tests/walks/ten-tasks.ts
+ *
+ * DATABASE_URL (or DIOPTRA_PG_PORT) must point at the server's database.
+ */
+import pg from "pg";
+import { chromium, type Browser, type Locator, type Page } from "playwright-core";
+import { databaseUrl } from "../../app/utils/db-url";
+
+const BASE_URL = process.env.BASE_URL ?? "http://127.0.0.1:3000";
+const PASSWORD = "demo-password";
+const ZONE = "Europe/London";
+const USERS = {
+  owner: "owner@dioptra-demo.test",
+  optometrist: "optometrist@dioptra-demo.test",
+  desk: "reception@dioptra-demo.test",
+  patient: "patient@dioptra-demo.test",
+} as const;
+const PHONE = { width: 390, height: 844 };
+const TABLET = { width: 1024, height: 768 };
+const DESKTOP = { width: 1280, height: 900 };
+
+const db = new pg.Pool({ connectionString: databaseUrl(), max: 2 });
+const q = async <T extends pg.QueryResultRow>(text: string, values: unknown[] = []) =>
+  (await db.query<T>(text, values)).rows;
+
+/** What a person did in one task. */
+class Tally {
+  clicks = 0;
+  keys = 0;
+  fields = 0;
+  scrolls = 0;
+  notes: string[] = [];
+  constructor(readonly page: Page) {}
+
+  private async reach(target: Locator) {
+    await target.waitFor({ state: "visible" });
+    const box = await target.boundingBox();
+    const view = this.page.viewportSize();
+    if (box && view && (box.y < 0 || box.y + Math.min(box.height, 20) > view.height)) this.scrolls++;
+  }
+  async click(target: Locator) {
+    await this.reach(target);
+    this.clicks++;
+    await target.click();
+  }
+  async tap(target: Locator) {
+    await this.reach(target);
+    this.clicks++;
+    await target.tap();
+  }
+  async check(target: Locator) {
+    await this.reach(target);
+    this.clicks++;
+    await target.check();
+  }
+  async select(target: Locator, option: string | { label: string }) {
+    await this.reach(target);
+    this.clicks++;
+    await target.selectOption(option);
+  }
+  /** Types `text` into a field: one keystroke a character. */
+  async fill(target: Locator, text: string) {
+    await this.reach(target);
+    this.fields++;
+    this.keys += text.length;
+    await target.fill(text);
+  }
+  /** A date or time field: only the digits are typed (the separators come by themselves). */
+  async fillDigits(target: Locator, value: string) {
+    await this.reach(target);
+    this.fields++;
+    this.keys += value.replace(/\D/g, "").length;
+    await target.fill(value);
+  }
+  async press(target: Locator, key: string) {
+    this.keys++;
+    await target.press(key);
+  }
+  /** A drag is one pointer action. */
+  async drag(from: Locator, to: { x: number; y: number }) {
+    await this.reach(from);
+    this.clicks++;
+    const box = (await from.boundingBox())!;
+    await this.page.mouse.move(box.x + box.width / 2, box.y + 6);
+    await this.page.mouse.down();
+    await this.page.mouse.move(box.x + box.width / 2, box.y + 20, { steps: 4 });
+    await this.page.mouse.move(to.x, to.y, { steps: 10 });
+    await this.page.mouse.up();
+  }
+}
+
+let browser: Browser;
+/** A fresh browser context signed in as `email` (not counted), on that role's home page. */
+async function signedIn(email: string, viewport = DESKTOP, touch = false) {
+  const context = await browser.newContext({ baseURL: BASE_URL, viewport, hasTouch: touch, acceptDownloads: true });
+  const page = await context.newPage();
+  page.setDefaultTimeout(20_000);
+  await page.goto("/login");
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Password").fill(PASSWORD);
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await page.waitForURL((u) => !u.pathname.startsWith("/login"));
+  await settle(page);
+  return { page, t: new Tally(page) };
+}
+/** Waits for the page's requests to finish (hydration, fetchers); never counted. */
+const settle = (page: Page) => page.waitForLoadState("networkidle").catch(() => undefined);
+const until = async (what: () => Promise<boolean>, label: string, ms = 20_000) => {
+  const end = Date.now() + ms;
+  while (Date.now() < end) {
+    if (await what().catch(() => false)) return;
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  throw new Error(`timed out waiting for ${label}`);
+};
+const main = (page: Page) => page.locator("main");
+const nav = (page: Page, name: string) => page.getByRole("navigation", { name: "Main" }).getByRole("link", { name });
+
+const tag = Date.now().toString(36).slice(-5);
+const alpha = tag.replace(/\d/g, (d) => "abcdefghij"[Number(d)]!);
+const PATIENT = { first: "Walker", last: `Tenbury${alpha}` };
+const PATIENT_NAME = `${PATIENT.first} ${PATIENT.last}`;
+const state: { todayAppointmentId?: string; examUrl?: string } = {};
+
+/** An appointment today late in the evening (clear of the demo diary), written directly. */
+async function appointmentToday(patientLast: string, status: string) {
+  for (let attempt = 0; attempt < 40; attempt++) {
+    const minute = 18 * 60 + Math.floor(Math.random() * 60) * 5;
+    try {
+      const [row] = await q<{ id: string }>(
+        `insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status)
+         select p.id, u.id, t.id,
+                (date_trunc('day', now() at time zone $2) + make_interval(mins => $3)) at time zone $2,
+                (date_trunc('day', now() at time zone $2) + make_interval(mins => $3 + t.duration_minutes)) at time zone $2,
+                $4::appointment_status
+           from patients p, users u, appointment_types t
+          where p.last_name = $1 and u.email = $5 and t.name = 'Comprehensive eye exam'
+         returning id`,
+        [patientLast, ZONE, minute, status, USERS.optometrist],
+      );
+      await q("insert into appointment_status_changes (appointment_id, to_status) values ($1, $2)", [row!.id, status]);
+      return row!.id;
+    } catch (e) {
+      if ((e as { code?: string }).code !== "23P01") throw e;
+    }
+  }
+  throw new Error("no free time for today's appointment");
+}
+
+type Task = { name: string; run: () => Promise<Tally> };
+
+const tasks: Task[] = [
+  {
+    name: "1 Register a new patient and book them",
+    run: async () => {
+      const { page, t } = await signedIn(USERS.desk);
+      await t.click(nav(page, "Schedule"));
+      await page.waitForURL((u) => u.pathname === "/schedule");
+      await settle(page);
+      // The free times below the calendar; tomorrow's, with the optometrist.
+      await t.click(page.getByRole("link", { name: "Next day ›" }));
+      await settle(page);
+      await t.click(page.getByRole("list", { name: "Free times of Tobias Wren" }).getByRole("button").first());
+      const dialog = page.getByRole("dialog", { name: "Book an appointment" });
+      await t.click(dialog.getByText("Register a new patient"));
+      await t.fill(dialog.getByLabel("First name", { exact: true }), PATIENT.first);
+      await t.fill(dialog.getByLabel("Last name", { exact: true }), PATIENT.last);
+      await t.fillDigits(dialog.getByRole("textbox", { name: "Date of birth", exact: true }), "1984-03-21");
+      await t.fill(dialog.getByLabel("E-mail (optional)"), `walker.${alpha}@dioptra-demo.test`);
+      await t.click(dialog.getByRole("button", { name: "Register and choose" }));
+      await until(() => dialog.getByRole("radio", { name: new RegExp(PATIENT.last) }).isChecked(), "patient chosen");
+      await t.select(dialog.getByLabel("Appointment type"), { label: "Comprehensive eye exam (30 min)" });
+      await t.click(dialog.getByRole("button", { name: "Book appointment" }));
+      await page.getByTestId("toast").filter({ hasText: "Appointment booked" }).waitFor();
+      return t;
+    },
+  },
+  {
+    name: "2 Mark a booked patient arrived",
+    run: async () => {
+      state.todayAppointmentId = await appointmentToday(PATIENT.last, "booked");
+      const { page, t } = await signedIn(USERS.desk);
+      const item = page.locator(`li[data-appointment-id="${state.todayAppointmentId}"]`);
+      await t.click(item.getByRole("button", { name: `Mark arrived for ${PATIENT_NAME}` }));
+      await until(async () => (await item.textContent())!.includes("Arrived"), "arrived");
+      return t;
+    },
+  },
+];
+
+async function runAll() {
+  browser = await chromium.launch({
+    executablePath: process.env.CHROMIUM_PATH ?? "/usr/bin/chromium",
+    headless: true,
+    args: ["--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage"],
+  });
+  const only = process.env.TASKS?.split(",").map(Number);
+  const rows: { task: string; clicks: number; keys: number; fields: number; scrolls: number; note: string }[] = [];
+  try {
+    for (const [i, task] of tasks.entries()) {
+      if (only && !only.includes(i + 1)) continue;
+      try {
+        const t = await task.run();
+        rows.push({ task: task.name, clicks: t.clicks, keys: t.keys, fields: t.fields, scrolls: t.scrolls, note: t.notes.join("; ") });
+        await t.page.context().close();
+      } catch (e) {
+        rows.push({ task: task.name, clicks: NaN, keys: NaN, fields: NaN, scrolls: NaN, note: `FAILED: ${(e as Error).message.split("\n")[0]}` });
+      }
+      console.log(rows.at(-1));
+    }
+  } finally {
+    await browser.close();
+    await db.end();
+  }
+  console.log(`\nTen tasks against ${BASE_URL} (sign-in not counted)\n`);
+  console.log("| task | clicks | keystrokes | fields typed into | scrolls to reach | note |");
+  console.log("| --- | ---: | ---: | ---: | ---: | --- |");
+  for (const r of rows) console.log(`| ${r.task} | ${r.clicks} | ${r.keys} | ${r.fields} | ${r.scrolls} | ${r.note} |`);
+  if (rows.some((r) => Number.isNaN(r.clicks))) process.exitCode = 1;
+}
+
+await runAll();
