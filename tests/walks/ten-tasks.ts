@@ -87,15 +87,17 @@ class Tally {
     this.keys++;
     await target.press(key);
   }
-  /** A drag is one pointer action. */
-  async drag(from: Locator, to: { x: number; y: number }) {
+  /** A drag is one pointer action; `to` is asked for once `from` is in view. */
+  async drag(from: Locator, to: () => Promise<{ x: number; y: number }>) {
     await this.reach(from);
+    await from.evaluate((e) => e.scrollIntoView({ block: "center" }));
     this.clicks++;
     const box = (await from.boundingBox())!;
+    const target = await to();
     await this.page.mouse.move(box.x + box.width / 2, box.y + 6);
     await this.page.mouse.down();
     await this.page.mouse.move(box.x + box.width / 2, box.y + 20, { steps: 4 });
-    await this.page.mouse.move(to.x, to.y, { steps: 10 });
+    await this.page.mouse.move(target.x, target.y, { steps: 10 });
     await this.page.mouse.up();
   }
 }
@@ -128,7 +130,7 @@ const main = (page: Page) => page.locator("main");
 const nav = (page: Page, name: string) => page.getByRole("navigation", { name: "Main" }).getByRole("link", { name });
 
 const tag = Date.now().toString(36).slice(-5);
-const alpha = tag.replace(/\d/g, (d) => "abcdefghij"[Number(d)]!);
+const alpha = process.env.WALK_TAG ?? tag.replace(/\d/g, (d) => "abcdefghij"[Number(d)]!);
 const PATIENT = { first: "Walker", last: `Tenbury${alpha}` };
 const PATIENT_NAME = `${PATIENT.first} ${PATIENT.last}`;
 const state: { todayAppointmentId?: string; examUrl?: string } = {};
@@ -156,6 +158,29 @@ async function appointmentToday(patientLast: string, status: string) {
     }
   }
   throw new Error("no free time for today's appointment");
+}
+
+/** The first free half hour of Tobias Wren tomorrow from `fromMinute` (what the person sees on the calendar). */
+async function freeTomorrow(fromMinute = 14 * 60) {
+  const [row] = await q<{ day: string; minute: number }>(
+    `with d as (select (date_trunc('day', now() at time zone $1) + interval '1 day')::date as day)
+     select to_char(d.day, 'YYYY-MM-DD') as day, m as minute from d, generate_series($3::int, 17 * 60 - 30, 30) m
+      where not exists (select 1 from appointments a join users u on u.id = a.provider_id
+              where u.email = $2 and a.status not in ('cancelled', 'no_show')
+                and tstzrange(a.starts_at, a.ends_at) && tstzrange((d.day + make_interval(mins => m)) at time zone $1,
+                                                                   (d.day + make_interval(mins => m + 30)) at time zone $1))
+      order by m limit 1`,
+    [ZONE, USERS.optometrist, fromMinute],
+  );
+  return row!;
+}
+const hhmm = (m: number) => `${String(Math.floor(m / 60)).padStart(2, "0")}:${String(m % 60).padStart(2, "0")}`;
+/** The calendar's place for `day` at `minute` (week view), a few pixels below the slot's top. */
+async function slotPoint(page: Page, day: string, minute: number) {
+  const slot = page.locator(`td.fc-timegrid-slot-lane[data-time="${hhmm(minute)}:00"]`);
+  const col = (await page.locator(`td.fc-timegrid-col[data-date="${day}"]`).boundingBox())!;
+  const s = (await slot.boundingBox())!;
+  return { x: col.x + col.width / 2, y: s.y + 6 };
 }
 
 type Task = { name: string; run: () => Promise<Tally> };
@@ -194,6 +219,64 @@ const tasks: Task[] = [
       const item = page.locator(`li[data-appointment-id="${state.todayAppointmentId}"]`);
       await t.click(item.getByRole("button", { name: `Mark arrived for ${PATIENT_NAME}` }));
       await until(async () => (await item.textContent())!.includes("Arrived"), "arrived");
+      return t;
+    },
+  },
+  {
+    name: "3 Invoice a visit, part payment, pay link",
+    run: async () => {
+      const { page, t } = await signedIn(USERS.desk);
+      await t.click(page.getByRole("link", { name: new RegExp(`${PATIENT_NAME}\\s*: open the appointment`) }));
+      await page.waitForURL((u) => u.pathname.startsWith("/schedule/appointments/"));
+      await settle(page);
+      await t.click(page.getByRole("link", { name: "Raise invoice" }));
+      await page.waitForURL((u) => u.pathname === "/billing/invoices/new");
+      await settle(page);
+      await t.click(page.getByRole("button", { name: "Create draft invoice" }));
+      await page.getByTestId("toast").filter({ hasText: "Draft invoice created" }).waitFor();
+      await settle(page);
+      await t.click(page.getByRole("button", { name: "Issue invoice" }));
+      await page.getByTestId("toast").filter({ hasText: /Issued as INV-/ }).waitFor();
+      await settle(page);
+      await t.fill(page.getByLabel(/^Amount \(/), "20");
+      await t.click(page.getByRole("button", { name: "Record payment" }));
+      await page.getByTestId("toast").filter({ hasText: "£20.00 recorded" }).waitFor();
+      await settle(page);
+      await t.click(page.getByRole("button", { name: "E-mail invoice with payment link" }));
+      await page.getByTestId("toast").filter({ hasText: /sent|e-mailed/i }).waitFor();
+      return t;
+    },
+  },
+  {
+    name: "4 Move an appointment to another time",
+    run: async () => {
+      const [appt] = await q<{ id: string; minute: number }>(
+        `select a.id, extract(hour from a.starts_at at time zone $2)::int * 60 + extract(minute from a.starts_at at time zone $2)::int as minute
+           from appointments a join patients p on p.id = a.patient_id
+          where p.last_name = $1 and a.starts_at > now() + interval '6 hours' order by a.starts_at limit 1`,
+        [PATIENT.last, ZONE],
+      );
+      const to = await freeTomorrow(appt!.minute + 60);
+      const { page, t } = await signedIn(USERS.desk);
+      await t.click(nav(page, "Schedule"));
+      await page.waitForURL((u) => u.pathname === "/schedule");
+      await settle(page);
+      await page.locator("td.fc-timegrid-col[data-date]").first().waitFor();
+      if ((await page.locator(`td.fc-timegrid-col[data-date="${to.day}"]`).count()) === 0)
+        await t.click(page.getByRole("button", { name: "Next ›" }));
+      const event = page
+        .locator(`td.fc-timegrid-col[data-date="${to.day}"] .fc-timegrid-event`, { hasText: PATIENT_NAME })
+        .first();
+      await t.drag(event, () => slotPoint(page, to.day, to.minute));
+      if (process.env.WALK_DEBUG) await page.screenshot({ path: "/tmp/walk-drag.png" });
+      t.notes.push(`drag from ${hhmm(appt!.minute)} to ${hhmm(to.minute)} = 1 click`);
+      await until(async () => {
+        const [row] = await q<{ minute: number }>(
+          "select extract(hour from starts_at at time zone $2)::int * 60 + extract(minute from starts_at at time zone $2)::int as minute from appointments where id = $1",
+          [appt!.id, ZONE],
+        );
+        return row!.minute === to.minute;
+      }, "the move saved");
       return t;
     },
   },
