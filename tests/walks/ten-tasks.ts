@@ -183,6 +183,22 @@ async function slotPoint(page: Page, day: string, minute: number) {
   return { x: col.x + col.width / 2, y: s.y + 6 };
 }
 
+const RECIPIENT = "l.ferreira-holt@brackenford-eye.test";
+const SURGEON = "Mr Lucan Ferreira-Holt";
+const LETTER = "Thank you for seeing this patient. I would value your assessment of the findings below.";
+const REPLY = "Seen in clinic; findings confirmed. Full letter to follow.";
+const MAILBOX = process.env.MAILBOX_API_URL ?? `http://127.0.0.1:${process.env.MAILBOX_API_PORT ?? 2526}`;
+/** The recipient links (`/r/…`) in the e-mails to `to`, from the mail stand-in's API. */
+async function mailLinks(to: string): Promise<string[]> {
+  const list = (await (await fetch(`${MAILBOX}/messages?to=${encodeURIComponent(to)}`)).json()) as { id: string }[];
+  const links: string[] = [];
+  for (const m of list) {
+    const full = (await (await fetch(`${MAILBOX}/messages/${m.id}`)).json()) as { text: string };
+    for (const found of full.text.matchAll(/https?:\/\/\S+\/r\/[\w.-]+/g)) links.push(found[0]);
+  }
+  return links;
+}
+
 type Task = { name: string; run: () => Promise<Tally> };
 
 const tasks: Task[] = [
@@ -278,6 +294,139 @@ const tasks: Task[] = [
         return row!.minute === to.minute;
       }, "the move saved");
       return t;
+    },
+  },
+  {
+    name: "5 Send recalls to patients who are due",
+    run: async () => {
+      // One more patient due: an eye exam two years ago this month.
+      const [due] = await q<{ id: string }>(
+        `insert into patients (first_name, last_name, date_of_birth, email) values ('Rowan', $1, date '1970-02-02', $2) returning id`,
+        [`Recallby${alpha}`, `rowan.${alpha}@dioptra-demo.test`],
+      );
+      await q(
+        `insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status)
+         select $1, u.id, t.id, date_trunc('month', now()) - interval '2 years' + interval '9 days 10 hours',
+                date_trunc('month', now()) - interval '2 years' + interval '9 days 10 hours 30 minutes', 'completed'
+           from users u, appointment_types t where u.email = $2 and t.name = 'Comprehensive eye exam'`,
+        [due!.id, USERS.optometrist],
+      );
+      const { page, t } = await signedIn(USERS.desk);
+      await t.click(nav(page, "Schedule"));
+      await page.waitForURL((u) => u.pathname === "/schedule");
+      await settle(page);
+      await t.click(page.getByRole("link", { name: "Recalls" }));
+      await page.waitForURL((u) => u.pathname === "/schedule/recalls");
+      await settle(page);
+      await t.check(page.getByLabel("Choose all who can be e-mailed"));
+      const send = page.getByRole("button", { name: /^Send recall e-mails \(\d+\)/ });
+      t.notes.push((await send.textContent())!.trim());
+      await t.click(send);
+      await until(
+        async () => (await q("select 1 from recall_messages where patient_id = $1", [due!.id])).length === 1,
+        "the recall queued",
+      );
+      return t;
+    },
+  },
+  {
+    name: "6 Exam to spectacle prescription PDF",
+    run: async () => {
+      const { page, t } = await signedIn(USERS.optometrist);
+      await t.click(page.getByRole("link", { name: new RegExp(`${PATIENT_NAME}\\s*: open the appointment`) }));
+      await page.waitForURL((u) => u.pathname.startsWith("/schedule/appointments/"));
+      await settle(page);
+      await t.click(page.getByRole("button", { name: `Start exam for ${PATIENT_NAME}` }));
+      await page.waitForURL(/\/exams\/[0-9a-f-]{36}$/);
+      await settle(page);
+      await t.fill(page.getByLabel("Right distance best corrected VA", { exact: true }), "6/6");
+      await t.fill(page.getByLabel("Left distance best corrected VA", { exact: true }), "6/6");
+      await t.fill(page.getByLabel("Right subjective sphere, cylinder and axis", { exact: true }), "-1.25 -0.50 x 90");
+      await t.fill(page.getByLabel("Left subjective sphere, cylinder and axis", { exact: true }), "-1.00");
+      await t.click(page.getByRole("button", { name: /^Both eyes \(copy subjective to final\)/ }));
+      await until(
+        async () =>
+          (await page.getByLabel("Right final sphere, cylinder and axis", { exact: true }).inputValue()) !== "",
+        "final copied",
+      );
+      await t.fill(page.getByLabel("Right IOP (mmHg)"), "16");
+      await t.select(page.getByLabel("Right IOP method", { exact: true }), "goldmann");
+      await t.fill(page.getByLabel("Left IOP (mmHg)"), "17");
+      await t.select(page.getByLabel("Left IOP method", { exact: true }), "goldmann");
+      await page.getByLabel("Left IOP (mmHg)").blur();
+      await settle(page);
+      await page.waitForTimeout(1500);
+      await settle(page);
+      await t.click(page.getByRole("button", { name: "Sign exam" }));
+      await page.getByText(/^Signed by /).first().waitFor();
+      state.examUrl = page.url();
+      await settle(page);
+      await t.click(page.getByRole("button", { name: "Issue prescription" }));
+      const pdf = page.getByRole("link", { name: "Download PDF" }).first();
+      await pdf.waitFor();
+      const opened = page.context().waitForEvent("page").catch(() => null);
+      const download = page.waitForEvent("download").catch(() => null);
+      await t.click(pdf);
+      await Promise.race([opened, download, page.waitForURL(/\.pdf|\/pdf/)]);
+      return t;
+    },
+  },
+  {
+    name: "7 Referral letter sent; recipient acknowledges and replies",
+    run: async () => {
+      const { page, t } = await signedIn(USERS.optometrist);
+      await t.click(nav(page, "Referrals"));
+      await page.waitForURL((u) => u.pathname === "/referrals");
+      await settle(page);
+      await t.click(page.getByRole("link", { name: "New referral" }));
+      await page.waitForURL((u) => u.pathname === "/referrals/new");
+      await settle(page);
+      const start = page.getByRole("link", { name: /^Start referral for / }).first();
+      const who = (await start.textContent())!.replace(/^Start referral for /, "").trim();
+      t.notes.push(`for ${who}`);
+      await t.click(start);
+      await page.waitForURL((u) => u.searchParams.has("exam"));
+      await settle(page);
+      await t.select(page.getByLabel("Send to"), { label: "Mr Lucan Ferreira-Holt, Brackenford Eye Unit" });
+      await t.fill(page.getByLabel("Letter text"), LETTER);
+      await t.click(page.getByRole("button", { name: "Save draft and preview" }).first());
+      await page.waitForURL(/\/referrals\/[0-9a-f-]{36}/);
+      await settle(page);
+      const before = await mailLinks(RECIPIENT);
+      await t.click(page.getByRole("button", { name: "Send letter" }));
+      await page.getByText("Referral sent").first().waitFor();
+      let link: string | undefined;
+      await until(async () => {
+        link = (await mailLinks(RECIPIENT)).find((l) => !before.includes(l));
+        return Boolean(link);
+      }, "the letter's e-mail");
+      const optometrist = t;
+
+      // The ophthalmologist, from the link in the e-mail (no account, nothing to sign in to).
+      const context = await browser.newContext({ baseURL: BASE_URL, viewport: DESKTOP });
+      const surgeon = await context.newPage();
+      surgeon.setDefaultTimeout(20_000);
+      await surgeon.goto(link!);
+      await settle(surgeon);
+      const r = new Tally(surgeon);
+      const ack = surgeon.locator("form").filter({ has: surgeon.getByRole("button", { name: "Acknowledge receipt" }) });
+      await r.fill(ack.getByLabel("Your name"), SURGEON);
+      await r.click(ack.getByRole("button", { name: "Acknowledge receipt" }));
+      await surgeon.getByText("receipt acknowledged").first().waitFor();
+      await settle(surgeon);
+      const reply = surgeon.locator("form").filter({ has: surgeon.getByRole("button", { name: "Send reply" }) });
+      const name = reply.getByLabel("Your name");
+      if ((await name.inputValue()) === "") await r.fill(name, SURGEON);
+      await r.fill(reply.getByLabel("Short reply"), REPLY);
+      await r.click(reply.getByRole("button", { name: "Send reply" }));
+      await surgeon.getByText("your reply has been sent to the practice").first().waitFor();
+      optometrist.notes.push(`of which the recipient: ${r.clicks} clicks, ${r.keys} keystrokes`);
+      optometrist.clicks += r.clicks;
+      optometrist.keys += r.keys;
+      optometrist.fields += r.fields;
+      optometrist.scrolls += r.scrolls;
+      await context.close();
+      return optometrist;
     },
   },
 ];
