@@ -103,10 +103,12 @@ class Tally {
 }
 
 let browser: Browser;
+let lastPage: Page | undefined;
 /** A fresh browser context signed in as `email` (not counted), on that role's home page. */
 async function signedIn(email: string, viewport = DESKTOP, touch = false) {
   const context = await browser.newContext({ baseURL: BASE_URL, viewport, hasTouch: touch, acceptDownloads: true });
   const page = await context.newPage();
+  lastPage = page;
   page.setDefaultTimeout(20_000);
   await page.goto("/login");
   await page.getByLabel("E-mail").fill(email);
@@ -197,6 +199,42 @@ async function mailLinks(to: string): Promise<string[]> {
     for (const found of full.text.matchAll(/https?:\/\/\S+\/r\/[\w.-]+/g)) links.push(found[0]);
   }
   return links;
+}
+
+/** A weekday two to fourteen months ahead with no closure yet (a repeated walk picks another). */
+async function closableDay() {
+  for (;;) {
+    const [row] = await q<{ day: string; taken: boolean }>(
+      `select to_char(d, 'YYYY-MM-DD') as day, exists (select 1 from closures c where d between c.starts_on and c.ends_on) as taken
+         from (select (current_date + 60 + floor(random() * 360)::int) as d) x where extract(isodow from d) between 1 and 5`,
+    );
+    if (row && !row.taken) return row.day;
+  }
+}
+
+/** An issued invoice for the portal's patient, raised at the desk beforehand (not counted). */
+async function invoiceForPortalPatient(): Promise<string> {
+  const [p] = await q<{ id: string }>("select patient_id as id from users where email = $1", [USERS.patient]);
+  const { page } = await signedIn(USERS.desk);
+  await page.goto(`/billing/invoices/new?patient=${p!.id}`);
+  await settle(page);
+  const select = page.locator("select#patientId");
+  if (await select.count()) await select.selectOption(p!.id);
+  const qty = page.getByLabel("Quantity of Eye examination, adult");
+  await until(async () => {
+    await qty.fill("1");
+    await page.waitForTimeout(300);
+    return (await qty.inputValue()) === "1";
+  }, "the quantity typed");
+  await page.getByRole("button", { name: "Create draft invoice" }).click();
+  await page.getByTestId("toast").filter({ hasText: "Draft invoice created" }).waitFor();
+  await settle(page);
+  await page.getByRole("button", { name: "Issue invoice" }).click();
+  const toast = page.getByTestId("toast").filter({ hasText: /Issued as INV-/ });
+  await toast.waitFor();
+  const label = (await toast.textContent())!.match(/INV-\d+/)![0];
+  await page.context().close();
+  return label;
 }
 
 type Task = { name: string; run: () => Promise<Tally> };
@@ -429,6 +467,84 @@ const tasks: Task[] = [
       return optometrist;
     },
   },
+  {
+    name: "8 Owner: opening hours and a closure day",
+    run: async () => {
+      const { page, t } = await signedIn(USERS.owner);
+      await t.click(page.getByRole("link", { name: "Settings" }).first());
+      await page.waitForURL((u) => u.pathname.startsWith("/settings"));
+      await settle(page);
+      await t.click(page.getByRole("link", { name: "Opening and closures" }));
+      await page.waitForURL((u) => u.pathname === "/settings/closures");
+      await settle(page);
+      const day = await closableDay();
+      await t.fill(page.getByLabel("Reason"), "Staff training");
+      await t.fillDigits(page.getByLabel("First day"), day);
+      await t.click(page.getByRole("button", { name: "Add closure" }));
+      await page.getByRole("row", { name: /Staff training/ }).first().waitFor();
+      await settle(page);
+      await t.click(page.getByRole("link", { name: "Change opening hours" }));
+      await settle(page);
+      if ((await page.getByLabel("Friday closes", { exact: true }).count()) === 0)
+        await t.click(page.getByRole("link", { name: "Larkspur Lane" }).first());
+      const friday = page.getByLabel("Friday closes", { exact: true });
+      await friday.waitFor();
+      const closes = (await friday.inputValue()) === "18:30" ? "19:00" : "18:30";
+      await t.fillDigits(friday, closes);
+      await t.click(page.getByRole("button", { name: "Save site" }));
+      await until(
+        async () =>
+          (await q("select 1 from site_opening_hours h join sites s on s.id = h.site_id where s.name = 'Larkspur Lane' and h.weekday = 5 and h.end_minute = $1", [
+            Number(closes.slice(0, 2)) * 60 + Number(closes.slice(3)),
+          ])).length === 1,
+        "the hours saved",
+      );
+      t.notes.push(`Friday now closes ${closes}`);
+      return t;
+    },
+  },
+  {
+    name: "9 Phone: portal sign-in, book a visit, pay an invoice",
+    run: async () => {
+      const label = await invoiceForPortalPatient();
+      const { page, t } = await signedIn(USERS.patient, PHONE, true);
+      await t.tap(page.getByRole("link", { name: "Book an eye exam" }));
+      await page.waitForURL((u) => u.pathname === "/portal/book");
+      await settle(page);
+      await t.tap(main(page).locator('form[method="post"] button[type="submit"]').first());
+      await settle(page);
+      const confirm = page.getByRole("button", { name: "Book this visit" });
+      const booked = page.getByTestId("toast").filter({ hasText: "Your visit is booked" });
+      await until(async () => (await confirm.isVisible()) || (await booked.isVisible()), "a confirmation or the booking");
+      if (await confirm.isVisible()) await t.tap(confirm);
+      await booked.waitFor();
+      await settle(page);
+      const invoices = page.getByRole("link", { name: "Invoices and payments" });
+      if (!(await invoices.isVisible().catch(() => false))) await t.tap(page.getByRole("link", { name: "Back to my visits" }));
+      await t.tap(invoices);
+      await page.waitForURL((u) => u.pathname === "/portal/invoices");
+      await settle(page);
+      await t.tap(
+        page.locator("li", { has: page.getByRole("heading", { name: `Invoice ${label}` }) }).getByRole("button", { name: /Pay/ }),
+      );
+      await page.waitForURL((u) => u.pathname.startsWith("/pay/"));
+      await settle(page);
+      await t.tap(main(page).getByRole("button", { name: /^Pay/ }).first());
+      // The card form (the Stripe stand-in's checkout page; expiry and security code come filled in).
+      await page.getByLabel("Card number").waitFor();
+      await t.fill(page.getByLabel("Card number"), "4242424242424242");
+      await t.tap(page.getByRole("button", { name: /^Pay / }));
+      await page.waitForURL((u) => u.pathname.startsWith("/pay/"));
+      await until(
+        async () =>
+          (await q<{ status: string }>("select status::text from invoices where number = $1", [Number(label.slice(4))]))[0]
+            ?.status === "paid",
+        "the invoice paid",
+      );
+      t.notes.push("card number typed on the payment stand-in's page");
+      return t;
+    },
+  },
 ];
 
 async function runAll() {
@@ -447,6 +563,10 @@ async function runAll() {
         rows.push({ task: task.name, clicks: t.clicks, keys: t.keys, fields: t.fields, scrolls: t.scrolls, note: t.notes.join("; ") });
         await t.page.context().close();
       } catch (e) {
+        if (process.env.WALK_DEBUG && lastPage) {
+          console.log("failed at", lastPage.url(), (e as Error).message);
+          await lastPage.screenshot({ path: `/tmp/walk-fail-${i + 1}.png` }).catch(() => undefined);
+        }
         rows.push({ task: task.name, clicks: NaN, keys: NaN, fields: NaN, scrolls: NaN, note: `FAILED: ${(e as Error).message.split("\n")[0]}` });
       }
       console.log(rows.at(-1));
