@@ -11,8 +11,12 @@
  *
  *   BASE_URL=http://127.0.0.1:3000 npx tsx tests/walks/ten-tasks.ts
  *
- * DATABASE_URL (or DIOPTRA_PG_PORT) must point at the server's database.
+ * DATABASE_URL (or DIOPTRA_PG_PORT) must point at the server's database and MAILBOX_API_URL (or
+ * MAILBOX_API_PORT) at its mail stand-in. TASKS=1,2,3 runs only those tasks; tasks 2–6 use the patient
+ * that task 1 registers (WALK_TAG names an earlier run's patient).
  */
+import { tmpdir } from "node:os";
+import { join } from "node:path";
 import pg from "pg";
 import { chromium, type Browser, type Locator, type Page } from "playwright-core";
 import { databaseUrl } from "../../app/utils/db-url";
@@ -218,8 +222,6 @@ async function invoiceForPortalPatient(): Promise<string> {
   const { page } = await signedIn(USERS.desk);
   await page.goto(`/billing/invoices/new?patient=${p!.id}`);
   await settle(page);
-  const select = page.locator("select#patientId");
-  if (await select.count()) await select.selectOption(p!.id);
   const qty = page.getByLabel("Quantity of Eye examination, adult");
   await until(async () => {
     await qty.fill("1");
@@ -290,14 +292,20 @@ const tasks: Task[] = [
       await page.getByTestId("toast").filter({ hasText: "Draft invoice created" }).waitFor();
       await settle(page);
       await t.click(page.getByRole("button", { name: "Issue invoice" }));
-      await page.getByTestId("toast").filter({ hasText: /Issued as INV-/ }).waitFor();
+      await page
+        .getByTestId("toast")
+        .filter({ hasText: /Issued as INV-/ })
+        .waitFor();
       await settle(page);
       await t.fill(page.getByLabel(/^Amount \(/), "20");
       await t.click(page.getByRole("button", { name: "Record payment" }));
       await page.getByTestId("toast").filter({ hasText: "£20.00 recorded" }).waitFor();
       await settle(page);
       await t.click(page.getByRole("button", { name: "E-mail invoice with payment link" }));
-      await page.getByTestId("toast").filter({ hasText: /sent|e-mailed/i }).waitFor();
+      await page
+        .getByTestId("toast")
+        .filter({ hasText: /sent|e-mailed/i })
+        .waitFor();
       return t;
     },
   },
@@ -322,7 +330,6 @@ const tasks: Task[] = [
         .locator(`td.fc-timegrid-col[data-date="${to.day}"] .fc-timegrid-event`, { hasText: PATIENT_NAME })
         .first();
       await t.drag(event, () => slotPoint(page, to.day, to.minute));
-      if (process.env.WALK_DEBUG) await page.screenshot({ path: "/tmp/walk-drag.png" });
       t.notes.push(`drag from ${hhmm(appt!.minute)} to ${hhmm(to.minute)} = 1 click`);
       await until(async () => {
         const [row] = await q<{ minute: number }>(
@@ -342,13 +349,21 @@ const tasks: Task[] = [
         `insert into patients (first_name, last_name, date_of_birth, email) values ('Rowan', $1, date '1970-02-02', $2) returning id`,
         [`Recallby${alpha}`, `rowan.${alpha}@dioptra-demo.test`],
       );
-      await q(
-        `insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status)
-         select $1, u.id, t.id, date_trunc('month', now()) - interval '2 years' + interval '9 days 10 hours',
-                date_trunc('month', now()) - interval '2 years' + interval '9 days 10 hours 30 minutes', 'completed'
-           from users u, appointment_types t where u.email = $2 and t.name = 'Comprehensive eye exam'`,
-        [due!.id, USERS.optometrist],
-      );
+      // At a random time that month, clear of earlier walks' fixtures.
+      for (let attempt = 0; ; attempt++) {
+        try {
+          await q(
+            `insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status)
+             select $1, u.id, t.id, date_trunc('month', now()) - interval '2 years' + make_interval(mins => $3),
+                    date_trunc('month', now()) - interval '2 years' + make_interval(mins => $3 + 30), 'completed'
+               from users u, appointment_types t where u.email = $2 and t.name = 'Comprehensive eye exam'`,
+            [due!.id, USERS.optometrist, Math.floor(Math.random() * 25 * 24 * 12) * 5],
+          );
+          break;
+        } catch (e) {
+          if ((e as { code?: string }).code !== "23P01" || attempt > 40) throw e;
+        }
+      }
       const { page, t } = await signedIn(USERS.desk);
       await t.click(nav(page, "Schedule"));
       await page.waitForURL((u) => u.pathname === "/schedule");
@@ -396,13 +411,19 @@ const tasks: Task[] = [
       await page.waitForTimeout(1500);
       await settle(page);
       await t.click(page.getByRole("button", { name: "Sign exam" }));
-      await page.getByText(/^Signed by /).first().waitFor();
+      await page
+        .getByText(/^Signed by /)
+        .first()
+        .waitFor();
       state.examUrl = page.url();
       await settle(page);
       await t.click(page.getByRole("button", { name: "Issue prescription" }));
       const pdf = page.getByRole("link", { name: "Download PDF" }).first();
       await pdf.waitFor();
-      const opened = page.context().waitForEvent("page").catch(() => null);
+      const opened = page
+        .context()
+        .waitForEvent("page")
+        .catch(() => null);
       const download = page.waitForEvent("download").catch(() => null);
       await t.click(pdf);
       await Promise.race([opened, download, page.waitForURL(/\.pdf|\/pdf/)]);
@@ -481,7 +502,10 @@ const tasks: Task[] = [
       await t.fill(page.getByLabel("Reason"), "Staff training");
       await t.fillDigits(page.getByLabel("First day"), day);
       await t.click(page.getByRole("button", { name: "Add closure" }));
-      await page.getByRole("row", { name: /Staff training/ }).first().waitFor();
+      await page
+        .getByRole("row", { name: /Staff training/ })
+        .first()
+        .waitFor();
       await settle(page);
       await t.click(page.getByRole("link", { name: "Change opening hours" }));
       await settle(page);
@@ -494,9 +518,12 @@ const tasks: Task[] = [
       await t.click(page.getByRole("button", { name: "Save site" }));
       await until(
         async () =>
-          (await q("select 1 from site_opening_hours h join sites s on s.id = h.site_id where s.name = 'Larkspur Lane' and h.weekday = 5 and h.end_minute = $1", [
-            Number(closes.slice(0, 2)) * 60 + Number(closes.slice(3)),
-          ])).length === 1,
+          (
+            await q(
+              "select 1 from site_opening_hours h join sites s on s.id = h.site_id where s.name = 'Larkspur Lane' and h.weekday = 5 and h.end_minute = $1",
+              [Number(closes.slice(0, 2)) * 60 + Number(closes.slice(3))],
+            )
+          ).length === 1,
         "the hours saved",
       );
       t.notes.push(`Friday now closes ${closes}`);
@@ -515,17 +542,23 @@ const tasks: Task[] = [
       await settle(page);
       const confirm = page.getByRole("button", { name: "Book this visit" });
       const booked = page.getByTestId("toast").filter({ hasText: "Your visit is booked" });
-      await until(async () => (await confirm.isVisible()) || (await booked.isVisible()), "a confirmation or the booking");
+      await until(
+        async () => (await confirm.isVisible()) || (await booked.isVisible()),
+        "a confirmation or the booking",
+      );
       if (await confirm.isVisible()) await t.tap(confirm);
       await booked.waitFor();
       await settle(page);
       const invoices = page.getByRole("link", { name: "Invoices and payments" });
-      if (!(await invoices.isVisible().catch(() => false))) await t.tap(page.getByRole("link", { name: "Back to my visits" }));
+      if (!(await invoices.isVisible().catch(() => false)))
+        await t.tap(page.getByRole("link", { name: "Back to my visits" }));
       await t.tap(invoices);
       await page.waitForURL((u) => u.pathname === "/portal/invoices");
       await settle(page);
       await t.tap(
-        page.locator("li", { has: page.getByRole("heading", { name: `Invoice ${label}` }) }).getByRole("button", { name: /Pay/ }),
+        page
+          .locator("li", { has: page.getByRole("heading", { name: `Invoice ${label}` }) })
+          .getByRole("button", { name: /Pay/ }),
       );
       await page.waitForURL((u) => u.pathname.startsWith("/pay/"));
       await settle(page);
@@ -537,11 +570,51 @@ const tasks: Task[] = [
       await page.waitForURL((u) => u.pathname.startsWith("/pay/"));
       await until(
         async () =>
-          (await q<{ status: string }>("select status::text from invoices where number = $1", [Number(label.slice(4))]))[0]
-            ?.status === "paid",
+          (
+            await q<{ status: string }>("select status::text from invoices where number = $1", [Number(label.slice(4))])
+          )[0]?.status === "paid",
         "the invoice paid",
       );
       t.notes.push("card number typed on the payment stand-in's page");
+      return t;
+    },
+  },
+  {
+    name: "10 Tablet: move through the exam's sections, save one",
+    run: async () => {
+      const last = `Tablet${alpha}`;
+      await q("insert into patients (first_name, last_name, date_of_birth) values ('Teodora', $1, date '1975-06-06')", [
+        last,
+      ]);
+      await appointmentToday(last, "arrived");
+      const name = `Teodora ${last}`;
+      const { page, t } = await signedIn(USERS.optometrist, TABLET, true);
+      await t.tap(page.getByRole("link", { name: new RegExp(`${name}\\s*: open the appointment`) }));
+      await page.waitForURL((u) => u.pathname.startsWith("/schedule/appointments/"));
+      await settle(page);
+      await t.tap(page.getByRole("button", { name: `Start exam for ${name}` }));
+      await page.waitForURL(/\/exams\/[0-9a-f-]{36}$/);
+      await settle(page);
+      const menu = page.getByRole("navigation", { name: "Exam sections" });
+      for (const section of ["History", "Acuity", "Subjective", "Final", "IOP"]) {
+        await t.tap(menu.getByRole("link", { name: new RegExp(`^${section}\\b`) }));
+        await until(async () => (await page.evaluate(() => location.hash)) !== "", `${section} shown`);
+        await page.waitForTimeout(300);
+      }
+      await t.fill(page.getByLabel("Right IOP (mmHg)"), "15");
+      await t.select(page.getByLabel("Right IOP method", { exact: true }), "goldmann");
+      await page.getByLabel("Right IOP (mmHg)").blur();
+      await until(
+        async () =>
+          (
+            await q(
+              "select 1 from exam_iop i join exams e on e.id = i.exam_id join patients p on p.id = e.patient_id where p.last_name = $1",
+              [last],
+            )
+          ).length > 0,
+        "the IOP section saved",
+      );
+      t.notes.push("5 section jumps by the section menu, then the IOP section");
       return t;
     },
   },
@@ -560,14 +633,28 @@ async function runAll() {
       if (only && !only.includes(i + 1)) continue;
       try {
         const t = await task.run();
-        rows.push({ task: task.name, clicks: t.clicks, keys: t.keys, fields: t.fields, scrolls: t.scrolls, note: t.notes.join("; ") });
+        rows.push({
+          task: task.name,
+          clicks: t.clicks,
+          keys: t.keys,
+          fields: t.fields,
+          scrolls: t.scrolls,
+          note: t.notes.join("; "),
+        });
         await t.page.context().close();
       } catch (e) {
         if (process.env.WALK_DEBUG && lastPage) {
           console.log("failed at", lastPage.url(), (e as Error).message);
-          await lastPage.screenshot({ path: `/tmp/walk-fail-${i + 1}.png` }).catch(() => undefined);
+          await lastPage.screenshot({ path: join(tmpdir(), `walk-fail-${i + 1}.png`) }).catch(() => undefined);
         }
-        rows.push({ task: task.name, clicks: NaN, keys: NaN, fields: NaN, scrolls: NaN, note: `FAILED: ${(e as Error).message.split("\n")[0]}` });
+        rows.push({
+          task: task.name,
+          clicks: NaN,
+          keys: NaN,
+          fields: NaN,
+          scrolls: NaN,
+          note: `FAILED: ${(e as Error).message.split("\n")[0]}`,
+        });
       }
       console.log(rows.at(-1));
     }
