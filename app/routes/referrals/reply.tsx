@@ -1,4 +1,4 @@
-import { getFormProps, getInputProps, getTextareaProps, useForm, type SubmissionResult } from "@conform-to/react";
+import { type SubmissionResult } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
@@ -17,6 +17,7 @@ import {
 } from "~/models/referrals/referrals.server";
 import { verifyLink } from "~/models/referrals/links.server";
 import { ErrorList, Field } from "~/components/forms";
+import { replyErrors as errorsOf, serverInput } from "~/components/server-form";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Textarea } from "~/components/ui/input";
@@ -177,24 +178,12 @@ export async function action({ request, params }: Route.ActionArgs) {
 export default function ReplyPage({ loaderData, actionData, params }: Route.ComponentProps) {
   const navigation = useNavigation();
   const a = actionData as ActionData;
-  const [ackForm, ack] = useForm({
-    id: "acknowledge",
-    lastResult: useLast("acknowledge", a),
-    onValidate: ({ formData }) => parseWithZod(formData, { schema: ackSchema }),
-    shouldValidate: "onBlur",
-  });
-  const [apptForm, appt] = useForm({
-    id: "appointment",
-    lastResult: useLast("appointment", a),
-    onValidate: ({ formData }) => parseWithZod(formData, { schema: apptSchema }),
-    shouldValidate: "onBlur",
-  });
-  const [replyForm, rep] = useForm({
-    id: "reply",
-    lastResult: useLast("reply", a),
-    onValidate: ({ formData }) => parseWithZod(formData, { schema: replySchema }),
-    shouldValidate: "onBlur",
-  });
+  // Checked by the server only (the page ships no validation code): errors come back with the reply.
+  const ack = useLast("acknowledge", a);
+  const appt = useLast("appointment", a);
+  const rep = useLast("reply", a);
+  // A form that did its work is drawn afresh (empty), so what was typed cannot be sent twice.
+  const formKey = (intent: string) => (a?.intent === intent && a.done ? `done-${a.done}` : intent);
   if (loaderData.state !== "ok") {
     return (
       <Shell>
@@ -277,12 +266,18 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
 
         <Card title="Acknowledge receipt">
           <Done a={a} intent="acknowledge" />
-          <Form method="post" {...getFormProps(ackForm)} className="grid gap-4 sm:grid-cols-[1fr_auto] sm:items-end">
+          <Form
+            method="post"
+            id="acknowledge"
+            key={formKey("acknowledge")}
+            noValidate
+            className="grid gap-4 sm:grid-cols-[1fr_auto] sm:items-end"
+          >
             <input type="hidden" name="intent" value="acknowledge" />
             <Field
               label="Your name"
-              errors={ack.name.errors}
-              inputProps={{ ...getInputProps(ack.name, { type: "text" }), autoComplete: "name" }}
+              errors={errorsOf(ack, "name")}
+              inputProps={{ ...serverInput("acknowledge", ack, "name"), autoComplete: "name" }}
             />
             <Button type="submit" pending={busy === "acknowledge"}>
               Acknowledge receipt
@@ -294,19 +289,21 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
           <Done a={a} intent="appointment" />
           <Form
             method="post"
-            {...getFormProps(apptForm)}
+            id="appointment"
+            key={formKey("appointment")}
+            noValidate
             className="grid gap-4 sm:grid-cols-[1fr_1fr_auto] sm:items-end"
           >
             <input type="hidden" name="intent" value="appointment" />
             <Field
               label="Your name"
-              errors={appt.name.errors}
-              inputProps={{ ...getInputProps(appt.name, { type: "text" }), autoComplete: "name" }}
+              errors={errorsOf(appt, "name")}
+              inputProps={{ ...serverInput("appointment", appt, "name"), autoComplete: "name" }}
             />
             <Field
               label="Appointment date"
-              errors={appt.date.errors}
-              inputProps={getInputProps(appt.date, { type: "date" })}
+              errors={errorsOf(appt, "date")}
+              inputProps={serverInput("appointment", appt, "date", "date")}
             />
             <Button type="submit" variant="secondary" pending={busy === "appointment"}>
               Save the date
@@ -316,24 +313,33 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
 
         <Card title="Reply to the practice">
           <Done a={a} intent="reply" />
-          <Form method="post" encType="multipart/form-data" {...getFormProps(replyForm)} className="grid gap-4">
+          <Form
+            method="post"
+            encType="multipart/form-data"
+            id="reply"
+            key={formKey("reply")}
+            noValidate
+            className="grid gap-4"
+          >
             <input type="hidden" name="intent" value="reply" />
             <Field
               label="Your name"
-              errors={rep.name.errors}
-              inputProps={{ ...getInputProps(rep.name, { type: "text" }), autoComplete: "name" }}
+              errors={errorsOf(rep, "name")}
+              inputProps={{ ...serverInput("reply", rep, "name"), autoComplete: "name" }}
             />
             <div>
-              <label htmlFor={rep.body.id} className="mb-1 block text-sm font-semibold">
+              <label htmlFor="reply-body" className="mb-1 block text-sm font-semibold">
                 Short reply
               </label>
               <Textarea
-                {...getTextareaProps(rep.body)}
+                id="reply-body"
+                name="body"
+                defaultValue={serverInput("reply", rep, "body").defaultValue}
                 rows={5}
-                aria-invalid={rep.body.errors?.length ? true : undefined}
-                aria-describedby={rep.body.errors?.length ? `${rep.body.id}-error` : undefined}
+                aria-invalid={errorsOf(rep, "body") ? true : undefined}
+                aria-describedby={errorsOf(rep, "body") ? "reply-body-error" : undefined}
               />
-              <ErrorList id={`${rep.body.id}-error`} errors={rep.body.errors} />
+              <ErrorList id="reply-body-error" errors={errorsOf(rep, "body")} />
             </div>
             <div>
               <label htmlFor="reply-file" className="mb-1 block text-sm font-semibold">
