@@ -7,7 +7,7 @@ import { ageInYears as ageOn } from "~/lib/format";
 import { BILLING_ROLES } from "~/models/billing/invoices.server";
 import { prescriptionsOf } from "~/models/prescriptions/prescriptions.server";
 import { documentsOf } from "~/models/patients/documents.server";
-import { audit } from "~/utils/audit.server";
+import { auditCte } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 import type { SessionUser } from "~/utils/session.server";
 import {
@@ -25,7 +25,19 @@ type Exam = Awaited<ReturnType<typeof examFor>>;
 
 /** Everything the exam page shows; reading it is audited. */
 export async function examPageData(user: SessionUser, exam: Exam, request: Request) {
-  const [patient] = await db
+  // The read is recorded by the statement that reads the patient (one round trip, never lost);
+  // everything that does not need the exam's sections is read beside them, in parallel.
+  const patientRead = db
+    .with(
+      auditCte({
+        action: "exam.read",
+        actorUserId: user.id,
+        entityType: "exam",
+        entityId: exam.id,
+        patientId: exam.patientId,
+        request,
+      }),
+    )
     .select({
       id: patients.id,
       firstName: patients.firstName,
@@ -36,8 +48,10 @@ export async function examPageData(user: SessionUser, exam: Exam, request: Reque
     })
     .from(patients)
     .where(eq(patients.id, exam.patientId));
-  const sections = await loadExam(exam.id);
+  const sectionsRead = loadExam(exam.id);
   const [
+    [patient],
+    sections,
     prev,
     prompts,
     optometrist,
@@ -50,8 +64,10 @@ export async function examPageData(user: SessionUser, exam: Exam, request: Reque
     states,
     fromAddendum,
   ] = await Promise.all([
+    patientRead,
+    sectionsRead,
     previousFinal(exam.patientId, exam.examinedAt),
-    promptsFor(exam.patientId, exam, sections),
+    sectionsRead.then((sections) => promptsFor(exam.patientId, exam, sections)),
     db.select({ name: users.name }).from(users).where(eq(users.id, exam.optometristId)),
     exam.signedById
       ? db.select({ name: users.name }).from(users).where(eq(users.id, exam.signedById))
@@ -81,14 +97,6 @@ export async function examPageData(user: SessionUser, exam: Exam, request: Reque
       .where(and(eq(examRefractions.examId, exam.id), isNotNull(examRefractions.addendumId)))
       .limit(1),
   ]);
-  await audit({
-    action: "exam.read",
-    actorUserId: user.id,
-    entityType: "exam",
-    entityId: exam.id,
-    patientId: exam.patientId,
-    request,
-  });
   return {
     patient: { ...patient!, age: ageOn(patient!.dateOfBirth) },
     exam: {
