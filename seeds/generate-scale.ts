@@ -19,6 +19,9 @@ import { seed } from "./seed";
 const DB = process.env.SCALE_DB ?? "dioptra_bench_chart";
 const PATIENTS = Number(process.env.SCALE_PATIENTS ?? 100_000);
 const EXAMS_PER_PATIENT = Number(process.env.SCALE_EXAMS_PER_PATIENT ?? 10);
+/** Appointments: ten per patient by default (1,000,000), over ten optometrists' half-hour slots. */
+const APPOINTMENTS = Number(process.env.SCALE_APPOINTMENTS ?? PATIENTS * 10);
+const PROVIDERS = 10;
 if (!/^[a-z_][a-z0-9_]*$/.test(DB) || DB === "dioptra") throw new Error(`Refusing to generate into database "${DB}"`);
 
 export function benchDatabaseUrl() {
@@ -27,7 +30,7 @@ export function benchDatabaseUrl() {
   return u.toString();
 }
 
-async function main() {
+export async function generateScale() {
   const admin = new URL(databaseUrl());
   admin.pathname = "/postgres";
   const a = new pg.Client({ connectionString: admin.toString() });
@@ -153,16 +156,52 @@ async function main() {
      from prescriptions rx join exam_refractions r on r.exam_id = rx.exam_id and r.kind = 'final'
      join patients p on p.id = rx.patient_id and p.email like '%@scale.dioptra-demo.test'`,
   );
+  await step(
+    "optometrists for the appointments",
+    `insert into users (email, name, role, password_hash)
+     select 'scale-optom-' || g || '@scale.dioptra-demo.test', 'Scale Optometrist ' || g, 'optometrist', null
+     from generate_series(1, $1::int) g`,
+    [PROVIDERS],
+  );
+  // One appointment per optometrist per half hour, 09:00–17:00 every day from 2022-01-03 on, in
+  // batches so no single statement holds a million rows of work.
+  for (let from = 0; from < APPOINTMENTS; from += 250_000) {
+    const to = Math.min(APPOINTMENTS, from + 250_000) - 1;
+    await step(
+      `appointments ${from + 1}–${to + 1}`,
+      `with prov as (select array_agg(id order by email) ids from users where email like 'scale-optom-%'),
+            pat as (select array_agg(id order by id) ids from patients where email like '%@scale.dioptra-demo.test'),
+            typ as (select id from appointment_types order by name limit 1)
+       insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status)
+       select pat.ids[1 + (g % array_length(pat.ids, 1))], prov.ids[1 + (g % $3::int)], typ.id, s.t, s.t + interval '30 minutes',
+              (array['booked','confirmed','completed','completed','cancelled','no_show']::appointment_status[])[1 + (g % 6)]
+         from generate_series($1::int, $2::int) g, prov, pat, typ,
+              lateral (select (timestamp '2022-01-03 09:00' + ((g / $3::int) / 16) * interval '1 day'
+                                + ((g / $3::int) % 16) * interval '30 minutes') at time zone 'Europe/London' as t) s`,
+      [from, to, PROVIDERS],
+    );
+  }
+  // Half the exams are billed: one issued invoice each, most of them paid.
+  await step(
+    "invoices",
+    `insert into invoices (number, patient_id, exam_id, status, currency, subtotal_minor, total_minor, paid_minor, issued_at, created_at, updated_at)
+     select 100000 + row_number() over (order by e.examined_at, e.id), e.patient_id, e.id,
+            case when row_number() over (order by e.id) % 10 = 0 then 'open' else 'paid' end::invoice_status,
+            'GBP', 4500, 4500, case when row_number() over (order by e.id) % 10 = 0 then 0 else 4500 end,
+            e.examined_at + interval '1 hour', e.examined_at, e.examined_at
+     from exams e join patients p on p.id = e.patient_id and p.email like '%@scale.dioptra-demo.test'
+     where hashtext(e.id::text) % 2 = 0`,
+  );
   await step("analyze", "analyze");
   const counts = await c.query(
-    "select (select count(*) from patients) as patients, (select count(*) from exams) as exams, (select count(*) from exam_refractions) as refractions",
+    "select (select count(*) from patients) as patients, (select count(*) from exams) as exams, (select count(*) from exam_refractions) as refractions, (select count(*) from appointments) as appointments, (select count(*) from invoices) as invoices",
   );
   console.log("[scale] totals", counts.rows[0]);
   await c.end();
 }
 
 if (import.meta.url === `file://${process.argv[1]}`) {
-  main().catch((e) => {
+  generateScale().catch((e) => {
     console.error(e);
     process.exit(1);
   });

@@ -1,6 +1,6 @@
 import { z } from "zod";
 
-/** The sign-in form, shared by the browser (instant feedback) and the server (the check). */
+/** The sign-in form, checked by the server (the page ships no validation code). */
 export const signInSchema = z.object({
   email: z
     .string({ error: "Enter your e-mail address." })
@@ -13,3 +13,9 @@ export const signInSchema = z.object({
     .max(200, "That password is too long."),
   redirectTo: z.string().optional(),
 });
+
+/** A new password (reset and invitation pages). */
+export const passwordSchema = z
+  .string({ error: "Choose a password." })
+  .min(10, "Use at least 10 characters.")
+  .max(200, "Use at most 200 characters.");

@@ -14,6 +14,7 @@ import {
   exams,
 } from "~/db/schema";
 import { db } from "~/utils/db.server";
+import { expandCalendarFeed, type CalendarFeed } from "~/lib/scheduling/calendar-feed";
 import { cookieFor, makeRequest, run, statusOf, uniqueEmail } from "#tests/support/helpers";
 import { demoIds, jobsFor, newPatient, postBooking } from "./schedule-fixtures";
 
@@ -186,9 +187,9 @@ describe("events for the calendar (GET /api/appointments)", () => {
     const url = `/api/appointments?start=2027-03-22T00:00:00&end=2027-03-31T00:00:00&provider=${ids.optometrist.id}&timeZone=Europe%2FLondon`;
     const res = (await run(eventsLoader, makeRequest(url, { cookie: await cookieFor("receptionist") }))) as Response;
     expect(res.status).toBe(200);
-    const events = (
-      (await res.json()) as { start: string; end: string; extendedProps: { patientId: string; localDate: string } }[]
-    ).filter((e) => e.extendedProps.patientId === p.id);
+    const events = expandCalendarFeed((await res.json()) as CalendarFeed).filter(
+      (e) => e.extendedProps.patientId === p.id,
+    );
     expect(events.map((e) => [e.start, e.end])).toEqual([
       ["2027-03-25T09:00:00+00:00", "2027-03-25T09:30:00+00:00"],
       ["2027-03-30T09:00:00+01:00", "2027-03-30T09:30:00+01:00"],
@@ -208,7 +209,7 @@ describe("events for the calendar (GET /api/appointments)", () => {
         cookie: await cookieFor("optometrist"),
       }),
     )) as Response;
-    const events = ((await res.json()) as { start: string; extendedProps: { patientId: string } }[]).filter(
+    const events = expandCalendarFeed((await res.json()) as CalendarFeed).filter(
       (e) => e.extendedProps.patientId === p.id,
     );
     expect(events.map((e) => e.start)).toEqual(["2027-10-29T09:00:00+01:00", "2027-11-01T09:00:00+00:00"]);
@@ -226,8 +227,38 @@ describe("events for the calendar (GET /api/appointments)", () => {
         { cookie: await cookieFor("receptionist") },
       ),
     )) as Response;
-    const listed = ((await res.json()) as { id: string }[]).find((e) => e.id === booked.appointment.id);
+    const feed = (await res.json()) as CalendarFeed;
+    const listed = expandCalendarFeed(feed).find((e) => e.id === booked.appointment.id);
     expect(listed).toEqual(booked.appointment);
+    // Names are sent once per provider and type, not per event.
+    expect(Object.keys(feed.providers)).toEqual([ids.optometrist.id]);
+    expect(JSON.stringify(feed.events)).not.toContain(String(booked.appointment.title));
+  });
+
+  it("answers an unchanged week with 304 to its ETag, and a changed one with the new events", async () => {
+    const p = await newPatient();
+    const cookie = await cookieFor("receptionist");
+    const url = `/api/appointments?start=2027-05-10T00:00:00%2B01:00&end=2027-05-17T00:00:00%2B01:00&provider=${ids.optometrist.id}`;
+    const first = (await run(eventsLoader, makeRequest(url, { cookie }))) as Response;
+    expect(first.status).toBe(200);
+    const etag = first.headers.get("etag")!;
+    expect(etag).toMatch(/^"[\w-]+"$/);
+    expect(first.headers.get("cache-control")).toBe("private, no-cache");
+    const again = (await run(
+      eventsLoader,
+      makeRequest(url, { cookie, headers: { "if-none-match": etag } }),
+    )) as Response;
+    expect(again.status).toBe(304);
+    expect(await again.text()).toBe("");
+    expect((await book(p.id, "2027-05-11T10:00:00+01:00")).status).toBe(201);
+    const changed = (await run(
+      eventsLoader,
+      makeRequest(url, { cookie, headers: { "if-none-match": etag } }),
+    )) as Response;
+    expect(changed.status).toBe(200);
+    expect(changed.headers.get("etag")).not.toBe(etag);
+    const events = expandCalendarFeed((await changed.json()) as CalendarFeed);
+    expect(events.some((e) => e.extendedProps.patientId === p.id)).toBe(true);
   });
 
   it("rejects a bad range with 400", async () => {

@@ -5,6 +5,7 @@ import { loader as dayLoader } from "~/routes/schedule/day";
 import { loader as calendarLoader } from "~/routes/schedule/index";
 import { action as moveAction } from "~/routes/api/appointments-item";
 import { freeSlots } from "~/models/portal/portal.server";
+import { expandCalendarFeed, type CalendarFeed } from "~/lib/scheduling/calendar-feed";
 import { action as hoursAction } from "~/routes/settings/hours";
 import { action as sitesAction, loader as sitesLoader } from "~/routes/settings/sites";
 import { appointments, rooms, siteOpeningHours, sites, workingHours } from "~/db/schema";
@@ -196,7 +197,7 @@ describe("site filters", () => {
       eventsLoader,
       makeRequest(`/api/appointments?start=${MON}&end=2028-03-11&site=${hill.id}`, { cookie }),
     )) as Response;
-    const list = (await events.json()) as { start: string }[];
+    const list = expandCalendarFeed((await events.json()) as CalendarFeed);
     expect(list.length).toBeGreaterThan(0);
     expect(list.every((e) => e.start.startsWith(THU))).toBe(true);
     const bad = (await run(
@@ -274,7 +275,7 @@ describe("each site's own time zone", () => {
         }),
       )) as Response;
       expect(
-        ((await feed.json()) as { id: string; start: string }[]).find((e) => e.id === booked.appointment.id)?.start,
+        expandCalendarFeed((await feed.json()) as CalendarFeed).find((e) => e.id === booked.appointment.id)?.start,
       ).toBe("2028-03-05T09:00:00-05:00");
       const page = dataOf<{ timeZone: string; siteName: string }>(
         await run(calendarLoader, makeRequest(`/schedule?site=${harbour!.id}&date=2028-03-05`, { cookie })),

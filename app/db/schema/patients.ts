@@ -45,10 +45,21 @@ export const patients = pgTable(
     updatedAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
   },
   (t) => [
-    index("patients_name_dob_idx").on(t.lastName, t.firstName, t.dateOfBirth),
+    // One index per sort of the patients table, each matching its ORDER BY exactly (read
+    // backwards for the other direction), so a page is read in order and never sorted.
+    index("patients_name_dob_id_idx").on(t.lastName, t.firstName, t.dateOfBirth, t.id),
     index("patients_search_trgm_idx").using("gin", sql`${t.searchText} gin_trgm_ops`),
-    index("patients_dob_idx").on(t.dateOfBirth),
-    index("patients_last_exam_idx").on(t.lastExamAt, t.id),
+    index("patients_dob_id_idx").on(t.dateOfBirth, t.id),
+    // Latest exam first with never-examined patients last; backwards: never examined first, oldest next.
+    index("patients_last_exam_desc_idx").on(t.lastExamAt.desc().nullsLast(), t.id.desc()),
     index("patients_created_idx").on(t.createdAt, t.id),
+    // Search ranks surnames beginning with a typed word first, in name order: this index reads
+    // them in that order (byte order, so a typed prefix is a range of it).
+    index("patients_surname_prefix_idx").on(
+      sql`lower(${t.lastName}) collate "C"`,
+      sql`lower(${t.firstName}) collate "C"`,
+      t.dateOfBirth,
+      t.id,
+    ),
   ],
 );

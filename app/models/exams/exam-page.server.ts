@@ -8,7 +8,7 @@ import { BILLING_ROLES } from "~/models/billing/invoices.server";
 import { prescriptionsOf } from "~/models/prescriptions/prescriptions.server";
 import { catalogueLenses } from "~/models/prescriptions/contact-lenses.server";
 import { documentsOf } from "~/models/patients/documents.server";
-import { audit } from "~/utils/audit.server";
+import { auditCte } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 import type { SessionUser } from "~/utils/session.server";
 import {
@@ -26,7 +26,19 @@ type Exam = Awaited<ReturnType<typeof examFor>>;
 
 /** Everything the exam page shows; reading it is audited. */
 export async function examPageData(user: SessionUser, exam: Exam, request: Request) {
-  const [patient] = await db
+  // The read is recorded by the statement that reads the patient (one round trip, never lost);
+  // everything that does not need the exam's sections is read beside them, in parallel.
+  const patientRead = db
+    .with(
+      auditCte({
+        action: "exam.read",
+        actorUserId: user.id,
+        entityType: "exam",
+        entityId: exam.id,
+        patientId: exam.patientId,
+        request,
+      }),
+    )
     .select({
       id: patients.id,
       firstName: patients.firstName,
@@ -37,8 +49,10 @@ export async function examPageData(user: SessionUser, exam: Exam, request: Reque
     })
     .from(patients)
     .where(eq(patients.id, exam.patientId));
-  const sections = await loadExam(exam.id);
+  const sectionsRead = loadExam(exam.id);
   const [
+    [patient],
+    sections,
     prev,
     prompts,
     optometrist,
@@ -52,8 +66,10 @@ export async function examPageData(user: SessionUser, exam: Exam, request: Reque
     fromAddendum,
     lenses,
   ] = await Promise.all([
+    patientRead,
+    sectionsRead,
     previousFinal(exam.patientId, exam.examinedAt),
-    promptsFor(exam.patientId, exam, sections),
+    sectionsRead.then((sections) => promptsFor(exam.patientId, exam, sections)),
     db.select({ name: users.name }).from(users).where(eq(users.id, exam.optometristId)),
     exam.signedById
       ? db.select({ name: users.name }).from(users).where(eq(users.id, exam.signedById))
@@ -84,14 +100,6 @@ export async function examPageData(user: SessionUser, exam: Exam, request: Reque
       .limit(1),
     catalogueLenses(),
   ]);
-  await audit({
-    action: "exam.read",
-    actorUserId: user.id,
-    entityType: "exam",
-    entityId: exam.id,
-    patientId: exam.patientId,
-    request,
-  });
   return {
     patient: { ...patient!, age: ageOn(patient!.dateOfBirth) },
     exam: {

@@ -1,3 +1,4 @@
+import { createHash } from "node:crypto";
 import { data } from "react-router";
 import type { Route } from "./+types/appointments";
 import {
@@ -21,7 +22,8 @@ import { siteTimeZone } from "~/models/schedule/sites.server";
 import { z } from "zod";
 
 /**
- * GET /api/appointments?start=&end=&provider= — the calendar's events, times as ISO 8601 with
+ * GET /api/appointments?start=&end=&provider= — the calendar's events as a `CalendarFeed`
+ * (~/lib/scheduling/calendar-feed), with an ETag (an unchanged week answers 304), times as ISO 8601 with
  * the offset of the chosen site's zone (every site: the practice's). `start`/`end` with an offset
  * are instants; without one they are wall times in that zone (as the calendar sends them). `provider` is a user id or "all",
  * `site` a site id or "all".
@@ -51,7 +53,27 @@ export async function loader({ request }: Route.LoaderArgs) {
     siteId: site === "all" ? undefined : site,
     includeCancelled: includeCancelled === "1",
   });
-  return new Response(events, { headers: { "content-type": "application/json; charset=utf-8" } });
+  // An unchanged week answers 304 to the browser's If-None-Match: the body is not sent again.
+  const etag = `"${createHash("sha256").update(events).digest("base64url").slice(0, 27)}"`;
+  const headers = {
+    "content-type": "application/json; charset=utf-8",
+    etag,
+    // Kept by the browser but checked with the server on every use (appointments change all day).
+    "cache-control": "private, no-cache",
+    vary: "cookie",
+  };
+  if (ifNoneMatch(request, etag)) return new Response(null, { status: 304, headers });
+  return new Response(events, { headers });
+}
+
+/** Whether the request's If-None-Match names this ETag (RFC 9110 §13.1.2; weak comparison). */
+function ifNoneMatch(request: Request, etag: string) {
+  const header = request.headers.get("if-none-match");
+  if (!header) return false;
+  return header
+    .split(",")
+    .map((t) => t.trim().replace(/^W\//, ""))
+    .some((t) => t === "*" || t === etag);
 }
 
 /**

@@ -1,10 +1,10 @@
-import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/forgot-password";
 import { AuthCard } from "~/components/auth-card";
 import { Field } from "~/components/forms";
+import { replyErrors, serverInput } from "~/components/server-form";
 import { Button } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
 import { requestAccountMail } from "~/models/users/account-mail.server";
@@ -33,12 +33,9 @@ export async function action({ request }: Route.ActionArgs) {
 
 export default function ForgotPassword({ actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
-  const [form, fields] = useForm({
-    id: "forgot-password",
-    lastResult: actionData?.result,
-    onValidate: ({ formData }) => parseWithZod(formData, { schema }),
-    shouldValidate: "onBlur",
-  });
+  // Checked by the server only: the page ships no validation code.
+  const reply = actionData?.result;
+  const formErrors = replyErrors(reply, "");
   return (
     <AuthCard title="Reset your password">
       <p className="mt-1 text-sm text-muted">
@@ -51,16 +48,22 @@ export default function ForgotPassword({ actionData }: Route.ComponentProps) {
           </Notice>
         </div>
       ) : null}
-      <Form method="post" {...getFormProps(form)} className="mt-6 space-y-4">
-        {form.errors?.length ? (
-          <Notice tone="error" title="Not sent" id={form.errorId}>
-            {form.errors.join(" ")}
+      <Form
+        method="post"
+        id="forgot-password"
+        key={actionData?.sent ? "sent" : "open"}
+        noValidate
+        className="mt-6 space-y-4"
+      >
+        {formErrors ? (
+          <Notice tone="error" title="Not sent" id="forgot-password-form-error">
+            {formErrors.join(" ")}
           </Notice>
         ) : null}
         <Field
           label="E-mail"
-          errors={fields.email.errors}
-          inputProps={{ ...getInputProps(fields.email, { type: "email" }), autoComplete: "email" }}
+          errors={replyErrors(reply, "email")}
+          inputProps={{ ...serverInput("forgot-password", reply, "email", "email"), autoComplete: "email" }}
         />
         <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
           Send reset link

@@ -1,8 +1,8 @@
-import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/login";
 import { Field } from "~/components/forms";
+import { replyErrors, serverInput } from "~/components/server-form";
 import { Button } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
 import { signInSchema } from "~/utils/auth-schemas";
@@ -42,15 +42,8 @@ export default function Login({ actionData }: Route.ComponentProps) {
     typeof window === "undefined"
       ? undefined
       : (new URLSearchParams(window.location.search).get("redirectTo") ?? undefined);
-  const [form, fields] = useForm({
-    id: "sign-in",
-    lastResult: actionData,
-    onValidate: ({ formData }) => parseWithZod(formData, { schema: signInSchema }),
-    // Validate on submit: the e-mail field has focus on arrival, and an error appearing on blur
-    // would shift the links below it away from under a click that is under way.
-    shouldValidate: "onSubmit",
-    shouldRevalidate: "onInput",
-  });
+  // Checked by the server only (the page ships no validation code): the errors come back with the reply.
+  const formErrors = replyErrors(actionData, "");
   return (
     <main id="main" className="flex min-h-screen items-center justify-center px-4 py-12">
       <div className="w-full max-w-md">
@@ -60,26 +53,29 @@ export default function Login({ actionData }: Route.ComponentProps) {
         <div className="rounded-lg border border-line bg-white p-8 shadow-sm">
           <h1 className="text-2xl">Sign in</h1>
           <p className="mt-1 text-sm text-muted">For the practice team and patients with an account.</p>
-          <Form method="post" {...getFormProps(form)} className="mt-6 space-y-4">
-            {form.errors?.length ? (
-              <Notice tone="error" title="Could not sign you in" id={form.errorId}>
-                {form.errors.join(" ")}
+          <Form method="post" id="sign-in" noValidate className="mt-6 space-y-4">
+            {formErrors ? (
+              <Notice tone="error" title="Could not sign you in" id="sign-in-form-error">
+                {formErrors.join(" ")}
               </Notice>
             ) : null}
             <input type="hidden" name="redirectTo" value={redirectTo ?? ""} />
             <Field
               label="E-mail"
-              errors={fields.email.errors}
+              errors={replyErrors(actionData, "email")}
               inputProps={{
-                ...getInputProps(fields.email, { type: "email" }),
+                ...serverInput("sign-in", actionData, "email", "email"),
                 autoComplete: "username",
                 autoFocus: true,
               }}
             />
             <Field
               label="Password"
-              errors={fields.password.errors}
-              inputProps={{ ...getInputProps(fields.password, { type: "password" }), autoComplete: "current-password" }}
+              errors={replyErrors(actionData, "password")}
+              inputProps={{
+                ...serverInput("sign-in", actionData, "password", "password"),
+                autoComplete: "current-password",
+              }}
             />
             <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
               Sign in

@@ -1,11 +1,12 @@
-import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { eq } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
+import { passwordSchema } from "~/utils/auth-schemas";
 import type { Route } from "./+types/reset-password";
 import { AuthCard } from "~/components/auth-card";
 import { Field } from "~/components/forms";
+import { replyErrors, serverInput } from "~/components/server-form";
 import { Button } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
 import { sessions, users } from "~/db/schema";
@@ -16,11 +17,6 @@ import { readForm } from "~/utils/form.server";
 import { clearAccountBudgets } from "~/utils/throttle.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { consumeUserToken, peekUserToken } from "~/utils/tokens.server";
-
-export const passwordSchema = z
-  .string({ error: "Choose a password." })
-  .min(10, "Use at least 10 characters.")
-  .max(200, "Use at most 200 characters.");
 
 const schema = z
   .object({
@@ -79,34 +75,36 @@ export async function action({ request }: Route.ActionArgs) {
 
 export default function ResetPassword({ loaderData, actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
-  const [form, fields] = useForm({
-    id: "reset-password",
-    lastResult: actionData,
-    onValidate: ({ formData }) => parseWithZod(formData, { schema }),
-    shouldValidate: "onBlur",
-  });
+  // Checked by the server only: the page ships no validation code.
+  const formErrors = replyErrors(actionData, "");
   const title = loaderData.purpose === "invite" ? "Set your password" : "Choose a new password";
   return (
     <AuthCard title={loaderData.valid ? title : "This link no longer works"}>
       {loaderData.valid ? (
-        <Form method="post" {...getFormProps(form)} className="mt-6 space-y-4">
+        <Form method="post" id="reset-password" noValidate className="mt-6 space-y-4">
           <p className="text-sm text-muted">For {loaderData.email}</p>
-          {form.errors?.length ? (
-            <Notice tone="error" title="Password not saved" id={form.errorId}>
-              {form.errors.join(" ")}
+          {formErrors ? (
+            <Notice tone="error" title="Password not saved" id="reset-password-form-error">
+              {formErrors.join(" ")}
             </Notice>
           ) : null}
           <input type="hidden" name="token" value={loaderData.token} />
           <Field
             label="New password"
             hint="At least 10 characters."
-            errors={fields.password.errors}
-            inputProps={{ ...getInputProps(fields.password, { type: "password" }), autoComplete: "new-password" }}
+            errors={replyErrors(actionData, "password")}
+            inputProps={{
+              ...serverInput("reset-password", actionData, "password", "password"),
+              autoComplete: "new-password",
+            }}
           />
           <Field
             label="Type it again"
-            errors={fields.confirm.errors}
-            inputProps={{ ...getInputProps(fields.confirm, { type: "password" }), autoComplete: "new-password" }}
+            errors={replyErrors(actionData, "confirm")}
+            inputProps={{
+              ...serverInput("reset-password", actionData, "confirm", "password"),
+              autoComplete: "new-password",
+            }}
           />
           <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
             Save password

@@ -1,10 +1,10 @@
-import { getFormProps, getInputProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/sign-in-link";
 import { AuthCard } from "~/components/auth-card";
 import { Field } from "~/components/forms";
+import { replyErrors, serverInput } from "~/components/server-form";
 import { Button } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
 import { requestAccountMail } from "~/models/users/account-mail.server";
@@ -38,12 +38,9 @@ export async function action({ request }: Route.ActionArgs) {
 
 export default function SignInLink({ actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
-  const [form, fields] = useForm({
-    id: "sign-in-link",
-    lastResult: actionData?.result,
-    onValidate: ({ formData }) => parseWithZod(formData, { schema }),
-    shouldValidate: "onBlur",
-  });
+  // Checked by the server only: the page ships no validation code.
+  const reply = actionData?.result;
+  const formErrors = replyErrors(reply, "");
   return (
     <AuthCard title="E-mail me a sign-in link">
       <p className="mt-1 text-sm text-muted">
@@ -56,16 +53,22 @@ export default function SignInLink({ actionData }: Route.ComponentProps) {
           </Notice>
         </div>
       ) : null}
-      <Form method="post" {...getFormProps(form)} className="mt-6 space-y-4">
-        {form.errors?.length ? (
-          <Notice tone="error" title="Not sent" id={form.errorId}>
-            {form.errors.join(" ")}
+      <Form
+        method="post"
+        id="sign-in-link"
+        key={actionData?.sent ? "sent" : "open"}
+        noValidate
+        className="mt-6 space-y-4"
+      >
+        {formErrors ? (
+          <Notice tone="error" title="Not sent" id="sign-in-link-form-error">
+            {formErrors.join(" ")}
           </Notice>
         ) : null}
         <Field
           label="E-mail"
-          errors={fields.email.errors}
-          inputProps={{ ...getInputProps(fields.email, { type: "email" }), autoComplete: "email" }}
+          errors={replyErrors(reply, "email")}
+          inputProps={{ ...serverInput("sign-in-link", reply, "email", "email"), autoComplete: "email" }}
         />
         <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
           Send sign-in link

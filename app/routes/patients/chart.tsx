@@ -7,7 +7,6 @@ import { Card } from "~/components/ui/card";
 import { StatusBadge } from "~/components/ui/notice";
 import { formatRx } from "~/lib/optics";
 import { examFor, latestPrompts, startExam } from "~/models/exams/exam.server";
-import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole, STAFF_ROLES } from "~/utils/auth.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import {
@@ -28,7 +27,7 @@ import { gpLine, referralsForChart } from "~/models/referrals/referrals.server";
 import { RefractionHistory } from "./refraction-plot";
 import { DocumentList, UploadForm } from "~/components/patients/uploads-ui";
 import { Timeline } from "./chart-timeline";
-import { patientOr404 } from "~/models/patients/patients.server";
+import { patientOr404, patientReadAudited } from "~/models/patients/patients.server";
 
 /** The page of the chart's documents asked for (`?docs=`), from 1. */
 const docsPage = (request: Request) =>
@@ -36,20 +35,14 @@ const docsPage = (request: Request) =>
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
-  const p = await patientOr404(params.patientId);
   const clinical = (CLINICAL_ROLES as readonly string[]).includes(user.role);
-  // The read is recorded while the chart is gathered (the insert's commit overlaps the reads);
-  // the page is answered only once the audit row is written.
-  const audited = audit({
+  // The read is recorded in the same statement that reads the patient (one round trip, never lost).
+  const p = await patientReadAudited(params.patientId, {
     action: "chart.read",
     actorUserId: user.id,
-    entityType: "patient",
-    entityId: p.id,
-    patientId: p.id,
     detail: { view: clinical ? "clinical" : "front desk" },
     request,
   });
-  audited.catch(() => undefined);
   const clinicalData = clinical
     ? Promise.all([
         examsOf(p.id),
@@ -82,7 +75,6 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const today = new Date().toISOString().slice(0, 10);
   const rx = prescriptions.map((r) => ({ ...r, current: r.expiresOn >= today }));
   if (!clinical) {
-    await audited;
     return {
       clinical: false as const,
       patient: demographics,
@@ -94,7 +86,6 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     };
   }
   const [exams, documents, history, prompts, referrals] = await clinicalData!;
-  await audited;
   return {
     clinical: true as const,
     patient: {

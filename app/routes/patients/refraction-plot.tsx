@@ -1,25 +1,12 @@
 import { createColumnHelper } from "@tanstack/react-table";
-import { useState } from "react";
-import {
-  CartesianGrid,
-  Legend,
-  Line,
-  LineChart,
-  ResponsiveContainer,
-  Scatter,
-  ScatterChart,
-  Tooltip,
-  XAxis,
-  YAxis,
-  ZAxis,
-} from "recharts";
+import { lazy, Suspense, useState } from "react";
 import { DataTable } from "~/components/data-table";
 import { Card } from "~/components/ui/card";
 import { useHydrated } from "~/components/use-hydrated";
 import { StatusBadge } from "~/components/ui/notice";
 import { formatDate } from "~/lib/format";
 
-type Point = {
+export type Point = {
   examId: string;
   date: string;
   kind: string;
@@ -39,7 +26,9 @@ type Progression = Partial<
   >
 > | null;
 
-const COLOURS = { right: "#0d5c62", left: "#b45309" } as const;
+// The plots (recharts, the largest library of the chart) load after the page is interactive: they
+// are drawn only in the browser, and the table below carries the same data without them.
+const RefractionCharts = lazy(() => import("./refraction-charts"));
 
 const vectorCol = createColumnHelper<Point>();
 const vector = (key: "M" | "J0" | "J45") =>
@@ -67,7 +56,6 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
   );
   const jStep = jExtent > 2 ? 1 : jExtent > 1 ? 0.5 : 0.25;
   const jTicks = Array.from({ length: Math.round((2 * jExtent) / jStep) + 1 }, (_, i) => -jExtent + i * jStep);
-  const byEye = (e: "right" | "left") => shown.filter((p) => p.eye === e).map((p) => ({ ...p, t: Date.parse(p.date) }));
   const eyes = eye === "both" ? (["right", "left"] as const) : ([eye] as const);
   return (
     <Card title="Refraction history (power vectors)">
@@ -130,91 +118,9 @@ export function RefractionHistory({ points, progression }: { points: Point[]; pr
       {shown.length === 0 ? (
         <p className="text-muted">No refractions recorded yet.</p>
       ) : mounted ? (
-        <div className="grid gap-6 lg:grid-cols-2">
-          <figure>
-            <figcaption className="mb-1 text-sm font-semibold">
-              Spherical equivalent M (D) over time; right eye solid line, left eye dashed
-            </figcaption>
-            <ResponsiveContainer width="100%" height={260}>
-              <LineChart margin={{ top: 8, right: 16, bottom: 8, left: 0 }}>
-                <CartesianGrid strokeDasharray="3 3" />
-                <XAxis
-                  dataKey="t"
-                  type="number"
-                  domain={["dataMin", "dataMax"]}
-                  scale="time"
-                  tickFormatter={(t: number) => new Date(t).getUTCFullYear().toString()}
-                />
-                <YAxis
-                  dataKey="M"
-                  type="number"
-                  width={56}
-                  tickFormatter={(v: number) => v.toFixed(1)}
-                  label={{ value: "M (D)", angle: -90, position: "insideLeft" }}
-                />
-                <Tooltip
-                  labelFormatter={(t) => formatDate(new Date(Number(t)).toISOString())}
-                  formatter={(v) => [`${Number(v).toFixed(2)} D`, "M"]}
-                />
-                <Legend />
-                {eyes.map((e) => (
-                  <Line
-                    key={e}
-                    data={byEye(e)}
-                    dataKey="M"
-                    name={e === "right" ? "Right" : "Left"}
-                    stroke={COLOURS[e]}
-                    strokeDasharray={e === "left" ? "5 3" : undefined}
-                    dot={{ r: 3 }}
-                    isAnimationActive={false}
-                  />
-                ))}
-              </LineChart>
-            </ResponsiveContainer>
-          </figure>
-          <figure>
-            <figcaption className="mb-1 text-sm font-semibold">
-              Astigmatism J0 against J45 (D); right eye circles, left eye triangles
-            </figcaption>
-            <ResponsiveContainer width="100%" height={260}>
-              <ScatterChart margin={{ top: 8, right: 16, bottom: 8, left: 0 }}>
-                <CartesianGrid strokeDasharray="3 3" />
-                <XAxis
-                  dataKey="J0"
-                  type="number"
-                  name="J0"
-                  domain={[-jExtent, jExtent]}
-                  ticks={jTicks}
-                  tickFormatter={(v: number) => v.toFixed(2)}
-                  label={{ value: "J0 (D)", position: "insideBottom", offset: -4 }}
-                />
-                <YAxis
-                  dataKey="J45"
-                  type="number"
-                  name="J45"
-                  width={56}
-                  domain={[-jExtent, jExtent]}
-                  ticks={jTicks}
-                  tickFormatter={(v: number) => v.toFixed(2)}
-                  label={{ value: "J45 (D)", angle: -90, position: "insideLeft" }}
-                />
-                <ZAxis range={[40, 40]} />
-                <Tooltip />
-                <Legend />
-                {eyes.map((e) => (
-                  <Scatter
-                    key={e}
-                    data={byEye(e)}
-                    name={e === "right" ? "Right" : "Left"}
-                    fill={COLOURS[e]}
-                    shape={e === "left" ? "triangle" : "circle"}
-                    isAnimationActive={false}
-                  />
-                ))}
-              </ScatterChart>
-            </ResponsiveContainer>
-          </figure>
-        </div>
+        <Suspense fallback={<p className="text-sm text-muted">Drawing the plots…</p>}>
+          <RefractionCharts points={shown} eyes={eyes} jExtent={jExtent} jTicks={jTicks} />
+        </Suspense>
       ) : null}
       {shown.length ? (
         <details className="mt-4 text-sm">

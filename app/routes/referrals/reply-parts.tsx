@@ -1,5 +1,5 @@
 /** The recipient's reply page: its frame, the confirmation after an action and the last submission's result. */
-import { getInputProps, type FieldMetadata, type SubmissionResult } from "@conform-to/react";
+import { type SubmissionResult } from "@conform-to/react";
 import { Field } from "~/components/forms";
 import { useNavigation } from "react-router";
 import { Notice } from "~/components/ui/notice";
@@ -41,27 +41,31 @@ export function useLast(id: string, a: ActionData) {
  * The recipient's name: typed once, then carried into every later form through this link.
  * Once known it is shown as a line that opens to change it (the input is sent either way).
  */
-export function NameField({ field, responder }: { field: FieldMetadata<string>; responder: string }) {
-  // Keyed by the name so a form mounted before the name was known takes it up once it is.
-  const input = (
+export function NameField({
+  errors,
+  input,
+  responder,
+}: {
+  errors: string[] | undefined;
+  input: { id: string; name: string; type: string; defaultValue?: string };
+  responder: string;
+}) {
+  // Keyed by the name so a form drawn before the name was known takes it up once it is.
+  const field = (
     <Field
       key={responder}
       label="Your name"
-      errors={field.errors}
-      inputProps={{
-        ...getInputProps(field, { type: "text" }),
-        defaultValue: (field.initialValue as string | undefined) || responder,
-        autoComplete: "name",
-      }}
+      errors={errors}
+      inputProps={{ ...input, defaultValue: input.defaultValue || responder, autoComplete: "name" }}
     />
   );
-  if (!responder || field.errors?.length) return input;
+  if (!responder || errors?.length) return field;
   return (
     <details className="text-sm">
       <summary className="cursor-pointer py-1">
         Responding as <span className="font-semibold">{responder}</span> (change)
       </summary>
-      <div className="mt-2">{input}</div>
+      <div className="mt-2">{field}</div>
     </details>
   );
 }

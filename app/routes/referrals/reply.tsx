@@ -1,4 +1,4 @@
-import { getFormProps, getInputProps, getTextareaProps, useForm, type SubmissionResult } from "@conform-to/react";
+import { type SubmissionResult } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
@@ -17,6 +17,7 @@ import {
 } from "~/models/referrals/referrals.server";
 import { verifyLink } from "~/models/referrals/links.server";
 import { ErrorList, Field } from "~/components/forms";
+import { replyErrors as errorsOf, serverInput } from "~/components/server-form";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Textarea } from "~/components/ui/input";
@@ -178,27 +179,12 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
   const navigation = useNavigation();
   const a = actionData as ActionData;
   const responder = loaderData.state === "ok" ? loaderData.summary.responder : "";
-  const [ackForm, ack] = useForm({
-    id: "acknowledge",
-    defaultValue: { name: responder },
-    lastResult: useLast("acknowledge", a),
-    onValidate: ({ formData }) => parseWithZod(formData, { schema: ackSchema }),
-    shouldValidate: "onBlur",
-  });
-  const [apptForm, appt] = useForm({
-    id: "appointment",
-    defaultValue: { name: responder },
-    lastResult: useLast("appointment", a),
-    onValidate: ({ formData }) => parseWithZod(formData, { schema: apptSchema }),
-    shouldValidate: "onBlur",
-  });
-  const [replyForm, rep] = useForm({
-    id: "reply",
-    defaultValue: { name: responder },
-    lastResult: useLast("reply", a),
-    onValidate: ({ formData }) => parseWithZod(formData, { schema: replySchema }),
-    shouldValidate: "onBlur",
-  });
+  // Checked by the server only (the page ships no validation code): errors come back with the reply.
+  const ack = useLast("acknowledge", a);
+  const appt = useLast("appointment", a);
+  const rep = useLast("reply", a);
+  // A form that did its work is drawn afresh (empty), so what was typed cannot be sent twice.
+  const formKey = (intent: string) => (a?.intent === intent && a.done ? `done-${a.done}` : intent);
   if (loaderData.state !== "ok") {
     return (
       <Shell>
@@ -287,9 +273,19 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
               {s.acknowledgedBy ? ` by ${s.acknowledgedBy}` : ""}.
             </p>
           ) : (
-            <Form method="post" {...getFormProps(ackForm)} className="grid gap-4 sm:grid-cols-[1fr_auto] sm:items-end">
+            <Form
+              method="post"
+              id="acknowledge"
+              key={formKey("acknowledge")}
+              noValidate
+              className="grid gap-4 sm:grid-cols-[1fr_auto] sm:items-end"
+            >
               <input type="hidden" name="intent" value="acknowledge" />
-              <NameField field={ack.name} responder={responder} />
+              <NameField
+                errors={errorsOf(ack, "name")}
+                input={serverInput("acknowledge", ack, "name")}
+                responder={responder}
+              />
               <Button type="submit" pending={busy === "acknowledge"}>
                 Acknowledge receipt
               </Button>
@@ -301,15 +297,21 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
           <Done a={a} intent="appointment" />
           <Form
             method="post"
-            {...getFormProps(apptForm)}
+            id="appointment"
+            key={formKey("appointment")}
+            noValidate
             className="grid gap-4 sm:grid-cols-[1fr_1fr_auto] sm:items-end"
           >
             <input type="hidden" name="intent" value="appointment" />
-            <NameField field={appt.name} responder={responder} />
+            <NameField
+              errors={errorsOf(appt, "name")}
+              input={serverInput("appointment", appt, "name")}
+              responder={responder}
+            />
             <Field
               label="Appointment date"
-              errors={appt.date.errors}
-              inputProps={getInputProps(appt.date, { type: "date" })}
+              errors={errorsOf(appt, "date")}
+              inputProps={serverInput("appointment", appt, "date", "date")}
             />
             <Button type="submit" variant="secondary" pending={busy === "appointment"}>
               Save the date
@@ -319,20 +321,29 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
 
         <Card title="Reply to the practice">
           <Done a={a} intent="reply" />
-          <Form method="post" encType="multipart/form-data" {...getFormProps(replyForm)} className="grid gap-4">
+          <Form
+            method="post"
+            encType="multipart/form-data"
+            id="reply"
+            key={formKey("reply")}
+            noValidate
+            className="grid gap-4"
+          >
             <input type="hidden" name="intent" value="reply" />
-            <NameField field={rep.name} responder={responder} />
+            <NameField errors={errorsOf(rep, "name")} input={serverInput("reply", rep, "name")} responder={responder} />
             <div>
-              <label htmlFor={rep.body.id} className="mb-1 block text-sm font-semibold">
+              <label htmlFor="reply-body" className="mb-1 block text-sm font-semibold">
                 Short reply
               </label>
               <Textarea
-                {...getTextareaProps(rep.body)}
+                id="reply-body"
+                name="body"
+                defaultValue={serverInput("reply", rep, "body").defaultValue}
                 rows={5}
-                aria-invalid={rep.body.errors?.length ? true : undefined}
-                aria-describedby={rep.body.errors?.length ? `${rep.body.id}-error` : undefined}
+                aria-invalid={errorsOf(rep, "body") ? true : undefined}
+                aria-describedby={errorsOf(rep, "body") ? "reply-body-error" : undefined}
               />
-              <ErrorList id={`${rep.body.id}-error`} errors={rep.body.errors} />
+              <ErrorList id="reply-body-error" errors={errorsOf(rep, "body")} />
             </div>
             <div>
               <label htmlFor="reply-file" className="mb-1 block text-sm font-semibold">

@@ -11,6 +11,7 @@ import FullCalendar from "@fullcalendar/react";
 import timeGridPlugin from "@fullcalendar/timegrid";
 import { useMemo, useRef } from "react";
 import { STATUS_MARK } from "./calendar-marks";
+import { expandCalendarFeed, type CalendarEventProps, type CalendarFeed } from "~/lib/scheduling/calendar-feed";
 import type { TypeColour } from "~/lib/scheduling/type-colours";
 
 export type CalendarMessage = (tone: "success" | "error", text: string, undo?: () => Promise<void>) => void;
@@ -32,14 +33,7 @@ export type CalendarProps = {
   onViewChange?: (view: string, date: string) => void;
 };
 
-type Props = {
-  status: string;
-  statusLabel: string;
-  patientName: string;
-  typeName: string;
-  typeId: string;
-  providerName: string;
-};
+type Props = CalendarEventProps;
 
 const OTHER_TYPE: TypeColour = { fill: "#ececec", edge: "#4a4a4a", ink: "#1d1d1d" };
 
@@ -104,6 +98,8 @@ export default function CalendarView(props: CalendarProps) {
     () => ({
       url: "/api/appointments",
       extraParams: { provider, site },
+      // The server sends names once and short rows (a CalendarFeed); FullCalendar gets full events.
+      success: (feed: unknown) => expandCalendarFeed(feed as CalendarFeed),
       failure: () => onMessage("error", "The appointments could not be loaded. Check the connection and reload."),
     }),
     [provider, site, onMessage],

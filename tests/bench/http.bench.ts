@@ -1,0 +1,282 @@
+/**
+ * HTTP benchmark of the pages and API routes that matter, against the built server at scale:
+ * `npm run bench`. Fills (or reuses) the scale database of seeds/generate-scale.ts (100,000
+ * patients, 1,000,000 signed exams with final refractions, 1,000,000 appointments, invoices for
+ * half the exams), starts the production build on its own port against it, and requests
+ * `/healthz` and every route in one interleaved run (each round visits every route in a shuffled
+ * order), at concurrency 1 and then 10. Prints median and p95 per route, the p95 as a ratio to
+ * `/healthz`'s p95 in the same run, the machine's load average, and the server's resident memory
+ * during and after; exits 1 when a target is missed.
+ *
+ *   npm run bench                                   # builds first if there is no build
+ *   BENCH_ROUNDS=100 npm run bench                  # rounds per concurrency (default 60)
+ *   SCALE_PATIENTS=5000 SCALE_DB=dioptra_bench_small npm run bench   # a small database
+ *   BENCH_REFILL=1 npm run bench                    # drop and fill the database again
+ *
+ * Other work on the machine inflates the tail: read the figures beside the load average.
+ */
+import { spawn, spawnSync } from "node:child_process";
+import { existsSync, readFileSync } from "node:fs";
+import { cpus, loadavg } from "node:os";
+import path from "node:path";
+import pg from "pg";
+import { runMigrations } from "../../app/ops/migrate";
+import { benchDatabaseUrl, generateScale } from "../../seeds/generate-scale";
+
+const ROUNDS = Number(process.env.BENCH_ROUNDS ?? 60);
+const WARMUP = 5;
+const PORT = Number(process.env.BENCH_PORT ?? 3900 + Number(process.env.DIOPTRA_TEST_SLOT ?? 0));
+const BUILD = process.env.DIOPTRA_BUILD_DIR ?? "build";
+const PATIENTS = Number(process.env.SCALE_PATIENTS ?? 100_000);
+const SESSION_SECRET = "dioptra-bench-session-secret";
+const RSS_LIMIT_MIB = 400;
+
+/** Targets: the p95 as a ratio to /healthz's p95, at concurrency 1 (and an absolute bound for the week). */
+type Target = { ratio: number; ms?: number };
+const TARGETS: Record<string, Target> = {
+  search: { ratio: 2 },
+  table: { ratio: 2 },
+  chart: { ratio: 2.5 },
+  exam: { ratio: 2.5 },
+  week: { ratio: 2.5, ms: 30 },
+  day: { ratio: 2 },
+};
+
+async function prepareDatabase(url: string) {
+  const c = new pg.Client({ connectionString: url });
+  const counts = await c
+    .connect()
+    .then(() =>
+      c.query<{ patients: number; appointments: number }>(
+        "select (select count(*)::int from patients) as patients, (select count(*)::int from appointments) as appointments",
+      ),
+    )
+    .then((r) => r.rows[0]!)
+    .catch(() => null)
+    .finally(() => c.end().catch(() => undefined));
+  if (process.env.BENCH_REFILL !== "1" && counts && counts.patients >= PATIENTS && counts.appointments >= PATIENTS) {
+    console.log(
+      `reusing ${new URL(url).pathname.slice(1)}: ${counts.patients} patients, ${counts.appointments} appointments`,
+    );
+    await runMigrations(url); // a database filled before the latest migrations gets them
+    return;
+  }
+  console.log("filling the scale database (once; later runs reuse it)");
+  await generateScale();
+}
+
+function ensureBuild() {
+  if (existsSync(path.join(BUILD, "server/index.js"))) return;
+  console.log(`no build in ${BUILD}: building`);
+  const r = spawnSync("node_modules/.bin/react-router", ["build"], { stdio: "inherit" });
+  if (r.status !== 0) throw new Error("the build failed");
+}
+
+function rssMiB(pid: number) {
+  try {
+    const m = /VmRSS:\s+(\d+) kB/.exec(readFileSync(`/proc/${pid}/status`, "utf8"));
+    return m ? Number(m[1]) / 1024 : NaN;
+  } catch {
+    return NaN;
+  }
+}
+
+async function waitForServer(base: string) {
+  for (let i = 0; i < 600; i++) {
+    const ok = await fetch(`${base}/healthz`).then(
+      (r) => r.ok,
+      () => false,
+    );
+    if (ok) return;
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  throw new Error("the server did not start");
+}
+
+function percentile(sorted: number[], p: number) {
+  return sorted[Math.min(sorted.length - 1, Math.max(0, Math.ceil((p / 100) * sorted.length) - 1))]!;
+}
+
+type Route = { name: string; group: keyof typeof TARGETS | "health" | "other"; url: (i: number) => string };
+
+async function main() {
+  const url = benchDatabaseUrl();
+  await prepareDatabase(url);
+  ensureBuild();
+
+  // Sessions are made in this process with the server's secret.
+  process.env.DATABASE_URL = url;
+  process.env.SESSION_SECRET = SESSION_SECRET;
+  const { createUserSession } = await import("../../app/utils/session.server");
+  const db = new pg.Client({ connectionString: url });
+  await db.connect();
+  const one = async <T>(sql: string) => (await db.query(sql)).rows as T[];
+  const [owner] = await one<{ id: string }>("select id from users where email = 'owner@dioptra-demo.test'");
+  const cookie = (await createUserSession(new Request("http://127.0.0.1/login"), owner!.id, "/")).headers
+    .get("set-cookie")!
+    .split(";")[0]!;
+  const exams = await one<{ id: string; patient_id: string }>(
+    "select id, patient_id from exams tablesample system (1) limit 200",
+  );
+  const patients = [...new Set(exams.map((e) => e.patient_id))];
+  const [span] = await one<{ first: string; days: number }>(
+    "select min(starts_at)::date::text as first, (max(starts_at)::date - min(starts_at)::date) as days from appointments",
+  );
+  await db.end();
+  if (!exams.length || !span) throw new Error("the scale database has no exams or appointments");
+
+  const day = (i: number) => {
+    const d = new Date(`${span.first}T12:00:00Z`);
+    d.setUTCDate(d.getUTCDate() + ((i * 37) % Math.max(1, span.days - 8)));
+    return d.toISOString().slice(0, 10);
+  };
+  const monday = (i: number) => {
+    const d = new Date(`${day(i)}T12:00:00Z`);
+    d.setUTCDate(d.getUTCDate() - ((d.getUTCDay() + 6) % 7));
+    return d.toISOString().slice(0, 10);
+  };
+  const plus7 = (s: string) => new Date(Date.parse(`${s}T12:00:00Z`) + 7 * 86_400_000).toISOString().slice(0, 10);
+  const SHORT = ["bl", "ca", "gr", "me", "pe", "ru", "th", "wo"];
+  const LONG = ["thorn", "merri", "kestr", "oaken", "pendle", "ashway", "lowgill", "rushby"];
+  const routes: Route[] = [
+    { name: "/healthz", group: "health", url: () => "/healthz" },
+    { name: "search, 2-letter prefix", group: "search", url: (i) => `/api/patients?q=${SHORT[i % SHORT.length]}` },
+    { name: "search, 5–7-letter prefix", group: "search", url: (i) => `/api/patients?q=${LONG[i % LONG.length]}` },
+    ...(["name", "dob", "lastExam", "created"] as const).flatMap((sort) =>
+      (["asc", "desc"] as const).map<Route>((dir) => ({
+        name: `patients table, ${sort} ${dir}`,
+        group: "table",
+        url: (i) => `/patients?sort=${sort}&dir=${dir}&page=${1 + ((i * 13) % 200)}`,
+      })),
+    ),
+    { name: "chart", group: "chart", url: (i) => `/patients/${patients[i % patients.length]}` },
+    {
+      name: "exam page",
+      group: "exam",
+      url: (i) => `/patients/${exams[i % exams.length]!.patient_id}/exams/${exams[i % exams.length]!.id}`,
+    },
+    {
+      name: "calendar week (API)",
+      group: "week",
+      url: (i) => `/api/appointments?start=${monday(i)}T00:00:00&end=${plus7(monday(i))}T00:00:00&provider=all`,
+    },
+    { name: "day list", group: "day", url: (i) => `/schedule/day?date=${day(i)}` },
+    { name: "invoices list", group: "other", url: (i) => `/billing?page=${1 + (i % 50)}` },
+    { name: "referrals list", group: "other", url: () => "/referrals" },
+  ];
+
+  const base = `http://127.0.0.1:${PORT}`;
+  const server = spawn("node_modules/.bin/react-router-serve", [`${BUILD}/server/index.js`], {
+    env: {
+      ...process.env,
+      NODE_ENV: "production",
+      HOST: "127.0.0.1",
+      PORT: String(PORT),
+      APP_URL: base,
+      DATABASE_URL: url,
+      SESSION_SECRET,
+      DIOPTRA_DEMO: "1",
+    },
+    stdio: ["ignore", "ignore", "pipe"],
+  });
+  // The server's errors are shown; Node's listener-count notices from its gzip streams are not.
+  server.stderr!.on("data", (chunk: Buffer) => {
+    const text = chunk
+      .toString()
+      .split("\n")
+      .filter((l) => l.trim() && !/MaxListenersExceededWarning|NodeVersionSupportWarning|trace-warnings/.test(l))
+      .join("\n");
+    if (text) process.stderr.write(`${text}\n`);
+  });
+  const stop = () => server.kill("SIGTERM");
+  process.on("exit", stop);
+  await waitForServer(base);
+  const idleBefore = rssMiB(server.pid!);
+
+  let resets = 0;
+  const get = async (route: Route, i: number) => {
+    const t0 = performance.now();
+    const ask = () =>
+      fetch(base + route.url(i), { headers: { cookie, "accept-encoding": "gzip" }, redirect: "manual" });
+    // A kept-alive connection the server closed as it was reused: asked again once (a GET), and counted.
+    const res = await ask().catch((e: unknown) => {
+      resets++;
+      if (resets > 20) throw e;
+      return ask();
+    });
+    await res.arrayBuffer();
+    const ms = performance.now() - t0;
+    if (res.status !== 200) throw new Error(`${route.name}: ${route.url(i)} answered ${res.status}`);
+    return ms;
+  };
+
+  let peak = idleBefore;
+  const sampler = setInterval(() => (peak = Math.max(peak, rssMiB(server.pid!))), 100);
+  let failed = false;
+  for (const concurrency of [1, 10]) {
+    const times = new Map(routes.map((r) => [r.name, [] as number[]]));
+    const worker = async (w: number) => {
+      let seed = 7 + w;
+      const rand = () => (seed = (seed * 1103515245 + 12345) % 2 ** 31) / 2 ** 31;
+      for (let round = 0; round < ROUNDS + WARMUP; round++) {
+        const order = [...routes].sort(() => rand() - 0.5);
+        for (const r of order) {
+          const ms = await get(r, round * concurrency + w);
+          if (round >= WARMUP) times.get(r.name)!.push(ms);
+        }
+      }
+    };
+    await Promise.all(Array.from({ length: concurrency }, (_, w) => worker(w)));
+    const load = loadavg()
+      .map((l) => l.toFixed(2))
+      .join(" / ");
+    const health = [...times.get("/healthz")!].sort((a, b) => a - b);
+    const healthP95 = percentile(health, 95);
+    console.log(
+      `\nconcurrency ${concurrency}: ${ROUNDS} interleaved rounds of ${routes.length} routes; ` +
+        `${cpus().length} CPUs, load average ${load} (1 / 5 / 15 min)`,
+    );
+    console.log(
+      `${"route".padEnd(30)} ${"median ms".padStart(10)} ${"p95 ms".padStart(9)} ${"p95 ÷ /healthz".padStart(15)}  target`,
+    );
+    for (const r of routes) {
+      const sorted = [...times.get(r.name)!].sort((a, b) => a - b);
+      const p95 = percentile(sorted, 95);
+      const ratio = p95 / healthP95;
+      const target = r.group in TARGETS ? TARGETS[r.group as keyof typeof TARGETS] : undefined;
+      let verdict = "";
+      if (target && concurrency === 1) {
+        const met = ratio <= target.ratio && (target.ms === undefined || p95 < target.ms);
+        verdict = `≤ ${target.ratio}×${target.ms ? ` and < ${target.ms} ms` : ""}: ${met ? "met" : "NOT met"}`;
+        if (!met) failed = true;
+      }
+      console.log(
+        `${r.name.padEnd(30)} ${percentile(sorted, 50).toFixed(2).padStart(10)} ${p95.toFixed(2).padStart(9)} ${ratio
+          .toFixed(2)
+          .padStart(14)}×  ${verdict}`,
+      );
+    }
+  }
+  clearInterval(sampler);
+  if (resets)
+    console.log(`\n${resets} request(s) asked again after the connection was reset (timed from the first try)`);
+  await new Promise((r) => setTimeout(r, 5000));
+  const after = rssMiB(server.pid!);
+  const rssMet = peak < RSS_LIMIT_MIB;
+  if (!rssMet) failed = true;
+  console.log(
+    `\nserver RSS: ${idleBefore.toFixed(0)} MiB at start, peak ${peak.toFixed(0)} MiB during the run ` +
+      `(limit ${RSS_LIMIT_MIB} MiB: ${rssMet ? "met" : "NOT met"}), ${after.toFixed(0)} MiB 5 s after`,
+  );
+  stop();
+  if (failed) {
+    console.log("some targets were NOT met");
+    process.exit(1);
+  }
+  console.log("every target met");
+}
+
+main().catch((e) => {
+  console.error(e);
+  process.exit(1);
+});
