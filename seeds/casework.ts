@@ -200,7 +200,9 @@ async function seedReferralLetters(tx: Tx, now: Date) {
   const routineExams = rows<LetterExam>(
     await tx.execute(
       letterExams(sql`exists (select 1 from exam_diagnoses d where d.exam_id = e.id and d.code in ('H25.9', 'H40.0'))
-        and e.examined_at > ${new Date(now.getTime() - 100 * DAY)}`),
+        and e.examined_at > ${new Date(now.getTime() - 100 * DAY)}
+        -- The teaching case of raised IOP with an enlarged blind spot stays unreferred, for a referral to be written from it.
+        and not exists (select 1 from exam_visual_fields f where f.exam_id = e.id and f.blind_spot_width_deg > 7.5)`),
     ),
   ).sort((x, y) => Date.parse(y.examinedAt) - Date.parse(x.examinedAt));
   const recipients = rows<{ id: string; specialty: string }>(

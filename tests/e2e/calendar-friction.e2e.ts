@@ -194,13 +194,15 @@ describe("status changes ask before another day, undo is worded and placed apart
     const desk = await browser.newPage({ viewport: { width: 1400, height: 1000 } });
     await signIn(desk, DEMO.receptionist);
     await desk.waitForURL((u) => u.pathname === "/");
-    const item = desk.locator(`li[data-appointment-id="${ids.todayVisit}"]`);
+    // The home page lists who is still to arrive today; marking one arrived moves them to "Waiting".
+    const item = desk.getByTestId("home-arrivals").locator("li", { hasText: names.todayVisit });
     await item.waitFor();
     await expectAccessible(desk);
     await item.getByRole("button", { name: `Mark arrived for ${names.todayVisit}` }).click();
     await expect.poll(() => statusOf(ids.todayVisit)).toBe("arrived");
-    await expect.poll(() => item.textContent()).toContain("Arrived");
-    await item.getByRole("link", { name: new RegExp(names.todayVisit) }).click();
+    const waiting = desk.getByTestId("home-waiting").locator("li", { hasText: names.todayVisit });
+    await expect.poll(() => waiting.textContent()).toContain("Arrived");
+    await waiting.getByRole("link", { name: new RegExp(names.todayVisit) }).click();
     await desk.waitForURL((u) => u.pathname === `/schedule/appointments/${ids.todayVisit}`);
     await expectAccessible(desk);
   });

@@ -149,6 +149,7 @@ describe("the optometrist's day: patients, chart, exam, prescription, upload", (
     await page.getByRole("button", { name: "Add addendum" }).click();
     await expect.poll(() => page.getByText("Also reports eye strain after screen work.").count()).toBe(1);
 
+    await page.getByLabel("Lens use").selectOption("varifocal");
     await page.getByRole("button", { name: "Issue prescription" }).click();
     const link = page.getByRole("link", { name: "Download PDF" });
     await expect.poll(() => link.count()).toBe(1);

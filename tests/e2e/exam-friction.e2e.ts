@@ -212,6 +212,7 @@ describe("exam page: states after a reload, IOP, signing, addendum, the visit, t
     );
     expect(changes.at(-1)).toEqual({ from_status: "in_exam", to_status: "completed" });
 
+    await page.getByLabel("Lens use").selectOption("distance");
     await c.click(page.getByRole("button", { name: "Issue prescription" }));
     await poll(() => page.getByRole("link", { name: "Download PDF" }).count()).toBe(1);
     // Copy (1) + sign (1) + issue (1), plus the warning's two clicks this test made on purpose.
@@ -244,6 +245,7 @@ describe("exam page: states after a reload, IOP, signing, addendum, the visit, t
     await expectAccessible(page);
     await c.click(page.getByRole("button", { name: "Add addendum" }));
     await poll(() => page.getByTestId("final-from-addendum").textContent()).toContain("Tobias Wren");
+    await page.getByLabel("Lens use").selectOption("distance");
     await c.click(page.getByRole("button", { name: "Issue prescription" }));
     await poll(() => page.getByRole("link", { name: "Download PDF" }).count()).toBe(1);
     await poll(() => page.locator("#prescriptions").textContent()).toContain("+2.25");

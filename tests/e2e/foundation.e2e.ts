@@ -140,7 +140,7 @@ describe("sign-in and roles in the browser", () => {
     await anon.waitForURL((u) => u.pathname === "/");
 
     // Sign out from the user menu.
-    await anon.getByText("Nia Farrow").click();
+    await anon.getByText("Nia Farrow", { exact: true }).click();
     await anon.getByRole("button", { name: "Sign out" }).click();
     await anon.waitForURL("**/login");
     await anon.goto("/");

@@ -190,7 +190,7 @@ describe("every letter is kept", () => {
     const text = pdfPages(file).join("\n");
     expect(text).toContain("Œdipe Ševčík-Łoś");
     expect(text).toContain(SAMPLE);
-    expect(text).toContain("Prism (Δ)");
+    expect(text).toContain("Prism vert. (Δ)");
     expect(text).toContain("\u22122.25"); // U+2212 MINUS SIGN, not a hyphen
     expect(text).toMatch(/\u22120\.75\s+090/);
     expect(text).not.toContain("?");
