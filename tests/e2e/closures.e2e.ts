@@ -14,7 +14,7 @@ function closedDay() {
 
 describe("opening hours and closures in the browser", () => {
   it("the owner closes the practice for a day by keyboard; the desk's booking that day is refused and the portal offers no time", async () => {
-    const day = closedDay();
+    let day = closedDay();
     const patient = await browser.newPage({ viewport: { width: 1000, height: 1400 } });
     await signIn(patient, DEMO.patient);
     await patient.waitForURL((u) => u.pathname.startsWith("/portal"));
@@ -25,6 +25,11 @@ describe("opening hours and closures in the browser", () => {
       await patient.waitForURL((u) => u.searchParams.get("date") === day);
       return patient.locator('form[method="post"] input[name="start"]').count();
     };
+    // Other browser files book into the same weeks: take the first such Wednesday that still has free times.
+    for (let tries = 0; tries < 3 && (await freeTimes()) === 0; tries++) {
+      day = addDays(day, 7);
+      while (isBankHoliday(day)) day = addDays(day, 7);
+    }
     expect(await freeTimes()).toBeGreaterThan(0);
 
     // The owner adds the closure using only the keyboard.
