@@ -69,3 +69,28 @@ export function NameField({
     </details>
   );
 }
+
+/** What the recipient has already sent through this link. */
+export function SentReplies({
+  replies,
+}: {
+  replies: { id: string; authorName: string; createdAt: string; body: string; fileName: string | null }[];
+}) {
+  if (!replies.length) return null;
+  return (
+    <div className="mt-6">
+      <h3 className="font-semibold">Sent so far</h3>
+      <ul className="mt-2 space-y-2 text-sm">
+        {replies.map((x) => (
+          <li key={x.id} className="rounded-md border border-line p-3">
+            <span className="text-muted">
+              {x.authorName} · {x.createdAt}
+            </span>
+            {x.body ? <p className="mt-1 whitespace-pre-wrap">{x.body}</p> : null}
+            {x.fileName ? <p className="mt-1">Attached: {x.fileName}</p> : null}
+          </li>
+        ))}
+      </ul>
+    </div>
+  );
+}

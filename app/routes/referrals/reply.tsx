@@ -3,7 +3,7 @@ import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/reply";
-import { Done, NameField, Shell, useLast, type ActionData } from "./reply-parts";
+import { Done, NameField, SentReplies, Shell, useLast, type ActionData } from "./reply-parts";
 import { linkAccess, linkRefusal } from "~/models/referrals/public.server";
 import {
   acknowledge,
@@ -366,22 +366,7 @@ export default function ReplyPage({ loaderData, actionData, params }: Route.Comp
               </Button>
             </div>
           </Form>
-          {s.replies.length ? (
-            <div className="mt-6">
-              <h3 className="font-semibold">Sent so far</h3>
-              <ul className="mt-2 space-y-2 text-sm">
-                {s.replies.map((x) => (
-                  <li key={x.id} className="rounded-md border border-line p-3">
-                    <span className="text-muted">
-                      {x.authorName} · {x.createdAt}
-                    </span>
-                    {x.body ? <p className="mt-1 whitespace-pre-wrap">{x.body}</p> : null}
-                    {x.fileName ? <p className="mt-1">Attached: {x.fileName}</p> : null}
-                  </li>
-                ))}
-              </ul>
-            </div>
-          ) : null}
+          <SentReplies replies={s.replies} />
         </Card>
         <p className="text-sm text-muted">
           Confidential patient information for the named recipient only. Every visit to this page is recorded.
