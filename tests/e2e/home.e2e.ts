@@ -116,6 +116,8 @@ describe("home pages per role", () => {
       optom.getByTestId("home-replies").getByRole("link", { name: /read the reply/ }),
       `/referrals/${s.referral.id}`,
     );
+    // The referral page itself, with the reply (not an error page).
+    await optom.getByText("Seen in clinic; thank you.").waitFor();
     await expectAccessible(optom);
     // Read now: gone from the home page.
     await optom.goto("/");

@@ -10,6 +10,7 @@ import { loader as ordersLoader } from "~/routes/orders/index";
 import { loader as referralsLoader } from "~/routes/referrals/index";
 import { pool } from "~/utils/db.server";
 import { cookieFor, makeRequest, run, statusOf } from "#tests/support/helpers";
+import { EMPTY_REFERRAL_SNAPSHOT } from "#tests/support/snapshots";
 
 const tag = randomBytes(3).toString("hex");
 const SURNAME = `Zzyzx${tag}`;
@@ -50,9 +51,9 @@ beforeAll(async () => {
   );
   await q(
     `insert into referrals (patient_id, exam_id, recipient_id, created_by_id, status, snapshot, sent_at, time_frame_days)
-     select e.patient_id, e.id, $3, $2, 'sent', '{}'::jsonb, now(), 90 from exams e join patients p on p.id = e.patient_id
+     select e.patient_id, e.id, $3, $2, 'sent', $4::jsonb, now(), 90 from exams e join patients p on p.id = e.patient_id
      where p.last_name like '%' || $1`,
-    [tag, optom.id, recipient!.id],
+    [tag, optom.id, recipient!.id, EMPTY_REFERRAL_SNAPSHOT],
   );
   await q(
     `insert into prescriptions (patient_id, exam_id, kind, issued_by_id, expires_on, prescriber_name, prescriber_licence)

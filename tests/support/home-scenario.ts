@@ -7,6 +7,7 @@
  * Fictional people, `.test` addresses.
  */
 import { randomBytes } from "node:crypto";
+import { EMPTY_REFERRAL_SNAPSHOT } from "./snapshots";
 
 export type Query = <T = Record<string, unknown>>(text: string, values?: unknown[]) => Promise<T[]>;
 
@@ -65,8 +66,8 @@ export async function homeScenario(q: Query) {
   );
   const referral = await one(
     `insert into referrals (patient_id, exam_id, recipient_id, created_by_id, status, snapshot, sent_at, replied_at, time_frame_days)
-     values ($1, $2, $3, $4, 'replied', '{}'::jsonb, now() - interval '15 days', now() - interval '1 day', 90) returning id`,
-    [collector.id, signed.id, recipient.id, optom.id],
+     values ($1, $2, $3, $4, 'replied', $5::jsonb, now() - interval '15 days', now() - interval '1 day', 90) returning id`,
+    [collector.id, signed.id, recipient.id, optom.id, EMPTY_REFERRAL_SNAPSHOT],
   );
   await q(
     `insert into referral_replies (referral_id, patient_id, author_name, body) values ($1, $2, 'Dr Fictional Surgeon', 'Seen in clinic; thank you.')`,

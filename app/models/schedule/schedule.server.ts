@@ -329,6 +329,7 @@ export async function bookAppointment(actor: SessionUser, input: BookingInput, r
   let roomId: string | null = null;
   try {
     return await db.transaction(async (tx) => {
+      await lockProviderDiary(tx, input.providerId);
       const [patient] = await tx.select({ id: patients.id }).from(patients).where(eq(patients.id, input.patientId));
       if (!patient)
         throw new BookingError("No such patient.", { status: 404, fieldErrors: { patientId: ["No such patient."] } });
@@ -391,6 +392,16 @@ export async function bookAppointment(actor: SessionUser, input: BookingInput, r
   }
 }
 
+/**
+ * Queues the transaction behind any other booking or move for the same provider. The exclusion
+ * constraint alone keeps the diary sound, but two transactions inserting clashing rows at once can
+ * each wait on the other's uncommitted row and end in a deadlock (a 500, not a 409). With the lock
+ * the second one inserts only after the first has committed and gets the clean clash.
+ */
+async function lockProviderDiary(tx: Tx, providerId: string) {
+  await tx.execute(sql`select pg_advisory_xact_lock(hashtextextended(${`diary:${providerId}`}, 0))`);
+}
+
 async function loadForUpdate(tx: Tx, id: string) {
   const [row] = await tx.select().from(appointments).where(eq(appointments.id, id)).for("update");
   if (!row) throw new BookingError("No such appointment.", { status: 404 });
@@ -416,6 +427,7 @@ export async function moveAppointment(
           status: 409,
         });
       providerId ??= current.providerId;
+      await lockProviderDiary(tx, providerId);
       const duration = current.endsAt.getTime() - current.startsAt.getTime();
       end ??= new Date(change.start.getTime() + duration);
       // The site follows where the provider works on the new day unless one is asked for; the room
