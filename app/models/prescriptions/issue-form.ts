@@ -1,9 +1,8 @@
 /** Reading the prescription form of the exam page into what issuePrescription takes (pure, no database). */
 import { parseNumber } from "~/lib/exam/sections";
+import { isLensUse, isStatement } from "~/lib/prescriptions/wording";
 import type { IssueInput, LensUse, SpectacleInput } from "./prescriptions.server";
 
-const LENS_USE_KEYS = ["distance", "near", "intermediate", "bifocal", "varifocal", "occupational", "all_purposes"];
-const STATEMENT_KEYS = ["none", "not_needed", "no_change"];
 const SIDE = { right: "Right", left: "Left" } as const;
 
 export function issueInputFrom(
@@ -24,9 +23,9 @@ export function issueInputFrom(
   }
   if (kind !== "spectacle") return { ok: false, errors: { kind: ["Choose spectacle or contact lens."] } };
   const lensUse = t("lensUse");
-  if (!LENS_USE_KEYS.includes(lensUse)) errors.lensUse = ["Choose what the spectacles are for."];
+  if (!isLensUse(lensUse)) errors.lensUse = ["Choose what the spectacles are for."];
   const statement = t("statement") || "none";
-  if (!STATEMENT_KEYS.includes(statement)) errors.statement = ["Choose one of the listed statements."];
+  if (!isStatement(statement)) errors.statement = ["Choose one of the listed statements."];
   const eyes: SpectacleInput["eyes"] = {};
   for (const eye of ["right", "left"] as const) {
     const E = SIDE[eye];

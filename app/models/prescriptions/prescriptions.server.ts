@@ -1,4 +1,5 @@
 import { and, desc, eq, inArray } from "drizzle-orm";
+import type { LensUse, Statement } from "~/lib/prescriptions/wording";
 import { examRefractions, exams, practiceSettings, prescriptionEyes, prescriptions } from "~/db/schema";
 import { roundRx, toCylinderForm, vertexConvert, type SphCyl } from "~/lib/optics";
 import {
@@ -41,27 +42,13 @@ export function contactLensPower(spectacle: SphCyl, vertexMm: number) {
   return { exact, rounded: roundRx(exact, CONTACT_LENS_STEP_D) };
 }
 
-export const LENS_USES = {
-  distance: "Distance",
-  near: "Near (reading)",
-  intermediate: "Intermediate (computer)",
-  bifocal: "Bifocal",
-  varifocal: "Varifocal",
-  occupational: "Occupational (near and intermediate)",
-  all_purposes: "All purposes",
-} as const;
-export type LensUse = keyof typeof LENS_USES;
-export const STATEMENTS = {
-  none: "No statement",
-  not_needed: "No prescription is needed",
-  no_change: "No clinically significant change",
-} as const;
+export { LENS_USES, STATEMENTS, type LensUse } from "~/lib/prescriptions/wording";
 
 export type SpectacleInput = {
   kind: "spectacle";
   notes: string;
   lensUse: LensUse;
-  statement: keyof typeof STATEMENTS;
+  statement: Statement;
   referred: boolean;
   eyes: Partial<
     Record<"right" | "left", { intermediateAdd: number | null; pdDistanceMm: number | null; pdNearMm: number | null }>

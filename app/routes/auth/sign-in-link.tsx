@@ -1,85 +1,26 @@
-import { parseWithZod } from "@conform-to/zod/v4";
-import { data, Form, Link, useNavigation } from "react-router";
-import { z } from "zod";
 import type { Route } from "./+types/sign-in-link";
-import { AuthCard } from "~/components/auth-card";
-import { Field } from "~/components/forms";
-import { replyErrors, serverInput } from "~/components/server-form";
-import { Button } from "~/components/ui/button";
-import { Notice } from "~/components/ui/notice";
-import { requestAccountMail } from "~/models/users/account-mail.server";
-import { readForm } from "~/utils/form.server";
-
-const schema = z.object({
-  email: z
-    .string({ error: "Enter your e-mail address." })
-    .trim()
-    .toLowerCase()
-    .pipe(z.email({ error: "Enter a valid e-mail address, like name@example.com." })),
-});
+import { EmailLinkForm } from "~/components/email-link-form";
+import { accountMailFormAction } from "~/models/users/account-mail-form.server";
 
 /**
  * Patients may ask for a one-time sign-in link instead of typing a password. Staff accounts
- * always sign in with their password; the answer is the same either way, so accounts cannot be
- * discovered through this form.
+ * always sign in with their password; the answer is the same either way.
  */
 export async function action({ request }: Route.ActionArgs) {
-  const submission = parseWithZod(await readForm(request), { schema });
-  if (submission.status !== "success") return data({ result: submission.reply(), sent: false }, { status: 400 });
-  const queued = await requestAccountMail("sign_in", submission.value.email, request);
-  if (!queued.ok) {
-    return data(
-      { result: submission.reply({ formErrors: [queued.message] }), sent: false },
-      { status: queued.status, headers: { "retry-after": String(queued.retryAfterSeconds) } },
-    );
-  }
-  return { result: submission.reply({ resetForm: true }), sent: true };
+  return accountMailFormAction("sign_in", request);
 }
 
 export default function SignInLink({ actionData }: Route.ComponentProps) {
-  const navigation = useNavigation();
-  // Checked by the server only: the page ships no validation code.
-  const reply = actionData?.result;
-  const formErrors = replyErrors(reply, "");
   return (
-    <AuthCard title="E-mail me a sign-in link">
-      <p className="mt-1 text-sm text-muted">
-        For patients with an online account. The link works once, for 15 minutes.
-      </p>
-      {actionData?.sent ? (
-        <div className="mt-6">
-          <Notice tone="success" title="Check your e-mail">
-            If a patient account exists for that address, a sign-in link is on its way.
-          </Notice>
-        </div>
-      ) : null}
-      <Form
-        method="post"
-        id="sign-in-link"
-        key={actionData?.sent ? "sent" : "open"}
-        noValidate
-        className="mt-6 space-y-4"
-      >
-        {formErrors ? (
-          <Notice tone="error" title="Not sent" id="sign-in-link-form-error">
-            {formErrors.join(" ")}
-          </Notice>
-        ) : null}
-        <Field
-          label="E-mail"
-          errors={replyErrors(reply, "email")}
-          inputProps={{ ...serverInput("sign-in-link", reply, "email", "email"), autoComplete: "email" }}
-        />
-        <Button type="submit" className="w-full" pending={navigation.state === "submitting"}>
-          Send sign-in link
-        </Button>
-      </Form>
-      <p className="mt-6 text-sm">
-        <Link to="/login" className="font-semibold text-accent-700 underline underline-offset-4">
-          Sign in with a password instead
-        </Link>
-      </p>
-    </AuthCard>
+    <EmailLinkForm
+      id="sign-in-link"
+      title="E-mail me a sign-in link"
+      intro="For patients with an online account. The link works once, for 15 minutes."
+      sentText="If a patient account exists for that address, a sign-in link is on its way."
+      submitLabel="Send sign-in link"
+      back="Sign in with a password instead"
+      actionData={actionData}
+    />
   );
 }
 

@@ -18,24 +18,11 @@ import {
 import { parseNumber, parseRxText, rxCautions } from "~/lib/exam/sections";
 import { formatDate } from "~/lib/format";
 import { formatRx } from "~/lib/optics";
+import { LENS_USES, STATEMENTS } from "~/lib/prescriptions/wording";
 import { ErrorsContext, ExamCheckbox, ExamInput, ExamSelect } from "./exam-inputs";
 
 type LoaderData = Route.ComponentProps["loaderData"];
 const SIDE = { right: "Right", left: "Left" } as const;
-const LENS_USES = {
-  distance: "Distance",
-  near: "Near (reading)",
-  intermediate: "Intermediate (computer)",
-  bifocal: "Bifocal",
-  varifocal: "Varifocal",
-  occupational: "Occupational (near and intermediate)",
-  all_purposes: "All purposes",
-};
-const STATEMENTS = {
-  none: "No statement",
-  not_needed: "No prescription is needed",
-  no_change: "No clinically significant change",
-};
 
 export function Prescriptions({ data: d }: { data: LoaderData }) {
   const [kind, setKind] = useState<"spectacle" | "contact_lens">("spectacle");
