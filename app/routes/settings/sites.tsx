@@ -1,4 +1,3 @@
-import { and, asc, eq, ne, sql } from "drizzle-orm";
 import { createColumnHelper } from "@tanstack/react-table";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
@@ -9,13 +8,16 @@ import { refusalNotice, SettingsPage, SettingsSection, TimeInput } from "~/compo
 import { Button, buttonClass } from "~/components/ui/button";
 import { Input } from "~/components/ui/input";
 import { StatusBadge } from "~/components/ui/notice";
-import { rooms, siteOpeningHours, sites } from "~/db/schema";
-import { WEEKDAY_NAMES } from "~/lib/scheduling/hours";
-import { hhmmToMinutes, minutesToHhmm } from "~/lib/scheduling/time";
-import { audit } from "~/utils/audit.server";
+import { hhmmToMinutes } from "~/lib/scheduling/time";
 import { requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
-import { siteAddress, siteChangeConflicts } from "~/models/schedule/sites.server";
+import {
+  saveSite,
+  siteChangeRefusals,
+  sitesPage,
+  siteToChange,
+  type RoomChange,
+  type SiteHours,
+} from "~/models/settings/sites.server";
 import { redirectWithToast } from "~/utils/toast.server";
 
 type Errors = Record<string, string[]>;
@@ -42,46 +44,7 @@ const detailsSchema = z.object({
 /** Settings → Sites: the practice's locations, their opening hours and rooms (owner only). */
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);
-  const list = await db.select().from(sites).orderBy(asc(sites.name));
-  const asked = new URL(request.url).searchParams.get("site");
-  const current = asked === "new" ? null : (list.find((s) => s.id === asked) ?? list.find((s) => s.isDefault) ?? null);
-  const hours = current ? await db.select().from(siteOpeningHours).where(eq(siteOpeningHours.siteId, current.id)) : [];
-  const siteRooms = current
-    ? await db.select().from(rooms).where(eq(rooms.siteId, current.id)).orderBy(asc(rooms.name))
-    : [];
-  return {
-    sites: list.map((s) => ({
-      id: s.id,
-      name: s.name,
-      isDefault: s.isDefault,
-      active: s.active,
-      address: siteAddress(s),
-    })),
-    current: current
-      ? {
-          id: current.id,
-          name: current.name,
-          addressLine1: current.addressLine1,
-          addressLine2: current.addressLine2,
-          city: current.city,
-          postcode: current.postcode,
-          phone: current.phone,
-          timeZone: current.timeZone,
-          isDefault: current.isDefault,
-          active: current.active,
-        }
-      : null,
-    days: WEEKDAY_NAMES.map((name, i) => {
-      const h = hours.find((x) => x.weekday === i + 1);
-      return {
-        weekday: i + 1,
-        name,
-        open: h ? minutesToHhmm(h.startMinute) : "",
-        close: h ? minutesToHhmm(h.endMinute) : "",
-      };
-    }),
-    rooms: siteRooms.map((r) => ({ id: r.id, name: r.name, active: r.active })),
-  };
+  return sitesPage(new URL(request.url).searchParams.get("site"));
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -101,7 +64,7 @@ export async function action({ request }: Route.ActionArgs) {
   const active = form.get("active") === "on";
   if (isDefault && !active) errors.active = ["The default site must be open."];
 
-  const hours: { weekday: number; startMinute: number; endMinute: number }[] = [];
+  const hours: SiteHours[] = [];
   for (let weekday = 1; weekday <= 7; weekday++) {
     const [open, close] = [get(`open-${weekday}`), get(`close-${weekday}`)];
     if (!open && !close) continue;
@@ -115,11 +78,10 @@ export async function action({ request }: Route.ActionArgs) {
 
   if (siteId && !z.uuid().safeParse(siteId).success)
     return data({ errors: { "": ["No such site."] } as Errors }, { status: 404 });
-  const existing = siteId ? await db.select().from(sites).where(eq(sites.id, siteId)) : [];
-  if (siteId && !existing.length) return data({ errors: { "": ["No such site."] } as Errors }, { status: 404 });
-  const before = existing[0];
-  const oldRooms = before ? await db.select().from(rooms).where(eq(rooms.siteId, before.id)) : [];
-  const roomChanges = oldRooms.map((r) => ({
+  const existing = siteId ? await siteToChange(siteId) : null;
+  if (siteId && !existing) return data({ errors: { "": ["No such site."] } as Errors }, { status: 404 });
+  const before = existing?.site ?? null;
+  const roomChanges: RoomChange[] = (existing?.rooms ?? []).map((r) => ({
     id: r.id,
     name: get(`room-${r.id}`),
     active: form.get(`roomActive-${r.id}`) === "on",
@@ -132,56 +94,14 @@ export async function action({ request }: Route.ActionArgs) {
   const names = [...roomChanges.map((r) => r.name.toLowerCase()), ...(newRoom ? [newRoom.toLowerCase()] : [])];
   if (new Set(names).size !== names.length) errors.newRoom = ["Two rooms of one site cannot share a name."];
 
-  if (before) {
-    // Providers' working days point at the site and its rooms: changing them first would strand those days.
-    Object.assign(
-      errors,
-      await siteChangeConflicts(before.id, {
-        active,
-        hours,
-        closingRoomIds: roomChanges.filter((r) => !r.active).map((r) => r.id),
-      }),
-    );
-    if (before.isDefault && !isDefault)
-      errors.isDefault = ["Make another site the default instead; the practice always has one."];
-  }
-  if (get("name")) {
-    const [clash] = await db
-      .select({ id: sites.id })
-      .from(sites)
-      .where(and(sql`lower(${sites.name}) = lower(${get("name")})`, before ? ne(sites.id, before.id) : undefined));
-    if (clash) errors.name = ["Another site already has this name."];
-  }
+  Object.assign(errors, await siteChangeRefusals(before, { name: get("name"), active, isDefault, hours, roomChanges }));
   if (Object.keys(errors).length || !parsed.success) return data({ errors }, { status: 400 });
 
-  const id = await db.transaction(async (tx) => {
-    if (isDefault)
-      await tx
-        .update(sites)
-        .set({ isDefault: false })
-        .where(and(eq(sites.isDefault, true), before ? ne(sites.id, before.id) : undefined));
-    const values = { ...parsed.data, isDefault, active, updatedAt: new Date() };
-    const [row] = before
-      ? await tx.update(sites).set(values).where(eq(sites.id, before.id)).returning()
-      : await tx.insert(sites).values(values).returning();
-    await tx.delete(siteOpeningHours).where(eq(siteOpeningHours.siteId, row!.id));
-    if (hours.length) await tx.insert(siteOpeningHours).values(hours.map((h) => ({ ...h, siteId: row!.id })));
-    for (const r of roomChanges)
-      await tx.update(rooms).set({ name: r.name, active: r.active }).where(eq(rooms.id, r.id));
-    if (newRoom) await tx.insert(rooms).values({ siteId: row!.id, name: newRoom });
-    await audit(
-      {
-        action: before ? "site.changed" : "site.added",
-        actorUserId: user.id,
-        entityType: "site",
-        entityId: row!.id,
-        detail: { ...values, hours, rooms: roomChanges, newRoom },
-        request,
-      },
-      tx,
-    );
-    return row!.id;
-  });
+  const id = await saveSite(
+    before,
+    { details: parsed.data, isDefault, active, hours, roomChanges, newRoom },
+    { userId: user.id, request },
+  );
   return redirectWithToast(`/settings/sites?site=${id}`, { kind: "success", title: `Site ${parsed.data.name} saved` });
 }
 
