@@ -1,4 +1,3 @@
-import { and, eq } from "drizzle-orm";
 import { createColumnHelper } from "@tanstack/react-table";
 import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
@@ -9,57 +8,20 @@ import { refusalNotice, SettingsPage, SettingsSection, TimeInput } from "~/compo
 import { Button } from "~/components/ui/button";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
-import {
-  providerBreaks,
-  rooms as roomsTable,
-  siteOpeningHours,
-  sites as sitesTable,
-  users,
-  workingHours,
-} from "~/db/schema";
-import { fitsOpeningHours, WEEKDAY_NAMES } from "~/lib/scheduling/hours";
-import { hhmmToMinutes, minutesToHhmm } from "~/lib/scheduling/time";
-import { audit } from "~/utils/audit.server";
+import { WEEKDAY_NAMES } from "~/lib/scheduling/hours";
 import { requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
-import { bookableProviders, practiceSchedule } from "~/models/schedule/schedule.server";
-import { activeRooms, activeSites } from "~/models/schedule/sites.server";
+import {
+  activeProvider,
+  checkWorkingWeek,
+  saveWorkingWeek,
+  workingHoursPage,
+  type DayEntry,
+} from "~/models/settings/hours.server";
 import { redirectWithToast } from "~/utils/toast.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);
-  const providers = await bookableProviders();
-  const asked = new URL(request.url).searchParams.get("provider");
-  const provider = providers.find((p) => p.id === asked) ?? providers[0] ?? null;
-  const { timeZone } = await practiceSchedule();
-  const [sites, rooms] = await Promise.all([activeSites(), activeRooms()]);
-  const places = { sites: sites.map(({ id, name }) => ({ id, name })), rooms };
-  if (!provider) return { providers: [], provider: null, days: [], timeZone, places };
-  const hours = await db.select().from(workingHours).where(eq(workingHours.providerId, provider.id));
-  const breaks = await db.select().from(providerBreaks).where(eq(providerBreaks.providerId, provider.id));
-  const days = WEEKDAY_NAMES.map((name, i) => {
-    const weekday = i + 1;
-    const h = hours.find((x) => x.weekday === weekday);
-    const b = breaks.find((x) => x.weekday === weekday);
-    return {
-      weekday,
-      name,
-      start: h ? minutesToHhmm(h.startMinute) : "",
-      end: h ? minutesToHhmm(h.endMinute) : "",
-      breakStart: b ? minutesToHhmm(b.startMinute) : "",
-      breakEnd: b ? minutesToHhmm(b.endMinute) : "",
-      breakLabel: b?.label ?? "Lunch",
-      siteId: h?.siteId ?? sites[0]?.id ?? "",
-      roomId: h?.roomId ?? "",
-    };
-  });
-  return {
-    providers: providers.map(({ id, name }) => ({ id, name })),
-    provider: { id: provider.id, name: provider.name },
-    days,
-    timeZone,
-    places,
-  };
+  return workingHoursPage(new URL(request.url).searchParams.get("provider"));
 }
 
 type DayErrors = Record<string, string[]>;
@@ -69,86 +31,25 @@ export async function action({ request }: Route.ActionArgs) {
   const form = await request.formData();
   const providerId = z.uuid().safeParse(form.get("providerId"));
   if (!providerId.success) return data({ errors: { "": ["Choose a provider."] } as DayErrors }, { status: 400 });
-  const [provider] = await db
-    .select({ id: users.id, name: users.name })
-    .from(users)
-    .where(and(eq(users.id, providerId.data), eq(users.active, true)));
+  const provider = await activeProvider(providerId.data);
   if (!provider) return data({ errors: { "": ["No such provider."] } as DayErrors }, { status: 404 });
-  const errors: DayErrors = {};
-  const hours: { weekday: number; startMinute: number; endMinute: number; siteId: string; roomId: string | null }[] =
-    [];
-  const breaks: { weekday: number; startMinute: number; endMinute: number; label: string; siteId: string }[] = [];
-  const allSites = await db.select().from(sitesTable).where(eq(sitesTable.active, true));
-  const allRooms = await db.select().from(roomsTable).where(eq(roomsTable.active, true));
-  const opening = await db.select().from(siteOpeningHours);
-  const defaultSiteId = allSites.find((x) => x.isDefault)?.id ?? allSites[0]?.id ?? "";
-  for (let weekday = 1; weekday <= 7; weekday++) {
+  const entries: DayEntry[] = WEEKDAY_NAMES.map((_, i) => {
+    const weekday = i + 1;
     const get = (k: string) => String(form.get(`${k}-${weekday}`) ?? "").trim();
-    const [start, end, bs, be] = [get("start"), get("end"), get("breakStart"), get("breakEnd")];
-    const label = get("breakLabel").slice(0, 40) || "Break";
-    if (!start && !end) {
-      if (bs || be) errors[`break-${weekday}`] = ["A break needs working hours on that day."];
-      continue;
-    }
-    const s = hhmmToMinutes(start);
-    const e = hhmmToMinutes(end);
-    if (s === null || e === null) {
-      errors[`hours-${weekday}`] = ["Give both times as HH:MM, or leave both empty for a day off."];
-      continue;
-    }
-    if (e <= s) {
-      errors[`hours-${weekday}`] = ["The day must end after it starts."];
-      continue;
-    }
-    // Where the provider works that day: an open site, and a room of that site (or none).
-    const siteId = get("site") || defaultSiteId;
-    const site = allSites.find((x) => x.id === siteId);
-    if (!site) {
-      errors[`hours-${weekday}`] = ["Choose one of the practice's open sites."];
-      continue;
-    }
-    const roomId = get("room") || null;
-    if (roomId && !allRooms.some((r) => r.id === roomId && r.siteId === site.id)) {
-      errors[`hours-${weekday}`] = [`That room is not at ${site.name}; choose one of its rooms or none.`];
-      continue;
-    }
-    const fits = fitsOpeningHours(
-      { weekday, startMinute: s, endMinute: e },
-      opening.filter((o) => o.siteId === site.id),
-      site.name,
-    );
-    if (!fits.ok) {
-      errors[`hours-${weekday}`] = [fits.reason];
-      continue;
-    }
-    hours.push({ weekday, startMinute: s, endMinute: e, siteId: site.id, roomId });
-    if (bs || be) {
-      const b1 = hhmmToMinutes(bs);
-      const b2 = hhmmToMinutes(be);
-      if (b1 === null || b2 === null || b2 <= b1)
-        errors[`break-${weekday}`] = ["Give the break's start and end as HH:MM, end after start."];
-      else if (b1 < s || b2 > e) errors[`break-${weekday}`] = ["The break must lie inside the working hours."];
-      else breaks.push({ weekday, startMinute: b1, endMinute: b2, label, siteId: site.id });
-    }
-  }
-  if (Object.keys(errors).length) return data({ errors }, { status: 400 });
-  await db.transaction(async (tx) => {
-    await tx.delete(workingHours).where(eq(workingHours.providerId, provider.id));
-    await tx.delete(providerBreaks).where(eq(providerBreaks.providerId, provider.id));
-    if (hours.length) await tx.insert(workingHours).values(hours.map((h) => ({ ...h, providerId: provider.id })));
-    if (breaks.length) await tx.insert(providerBreaks).values(breaks.map((b) => ({ ...b, providerId: provider.id })));
-    await audit(
-      {
-        action: "schedule.hours_changed",
-        actorUserId: user.id,
-        entityType: "user",
-        entityId: provider.id,
-        detail: { hours, breaks },
-        request,
-      },
-      tx,
-    );
+    return {
+      weekday,
+      start: get("start"),
+      end: get("end"),
+      breakStart: get("breakStart"),
+      breakEnd: get("breakEnd"),
+      breakLabel: get("breakLabel"),
+      siteId: get("site"),
+      roomId: get("room"),
+    };
   });
+  const { errors, hours, breaks } = await checkWorkingWeek(entries);
+  if (Object.keys(errors).length) return data({ errors }, { status: 400 });
+  await saveWorkingWeek(provider.id, hours, breaks, { userId: user.id, request });
   return redirectWithToast(`/settings/hours?provider=${provider.id}`, {
     kind: "success",
     title: `Working hours of ${provider.name} saved`,
