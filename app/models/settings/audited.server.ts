@@ -40,7 +40,7 @@ export async function saveAudited(
     id?: string;
     entityType: string;
     actions: { created: string; changed: string };
-    detail: Record<string, unknown>;
+    detail?: Record<string, unknown>;
   },
   actor: Actor,
   write: (tx: Tx) => Promise<{ id: string } | undefined>,
