@@ -1,18 +1,15 @@
 import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { eq } from "drizzle-orm";
 import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/practice";
 import { Field, SelectField } from "~/components/forms";
 import { Button } from "~/components/ui/button";
 import { SettingsPage, SettingsSection } from "~/components/settings-page";
-import { practiceSettings } from "~/db/schema";
 import { ACUITY_NOTATION_LABEL, ACUITY_NOTATIONS } from "~/lib/optics/acuity";
 import { JURISDICTIONS } from "~/lib/optics/jurisdiction";
-import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
+import { practiceDetailsPage, savePracticeDetails } from "~/models/settings/practice.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { decimalField } from "~/utils/number-field";
 
@@ -67,32 +64,16 @@ export const practiceSchema = z.object({
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);
-  const [settings] = await db.select().from(practiceSettings).where(eq(practiceSettings.id, 1));
-  if (!settings) throw data({ error: "Practice settings are missing; run the seed." }, { status: 500 });
-  const { updatedAt: _u, id: _id, ...values } = settings;
-  return {
-    values: {
-      ...values,
-      spectacleRxValidityMonths: String(values.spectacleRxValidityMonths),
-      contactLensRxValidityMonths: String(values.contactLensRxValidityMonths),
-      portalCancelCutoffHours: String(values.portalCancelCutoffHours),
-      portalBookingDays: String(values.portalBookingDays),
-      staffBookingDays: String(values.staffBookingDays),
-    },
-  };
+  const page = await practiceDetailsPage();
+  if (!page) throw data({ error: "Practice settings are missing; run the seed." }, { status: 500 });
+  return page;
 }
 
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, ["owner"]);
   const submission = parseWithZod(await request.formData(), { schema: practiceSchema });
   if (submission.status !== "success") return data(submission.reply(), { status: 400 });
-  await db.transaction(async (tx) => {
-    await tx
-      .update(practiceSettings)
-      .set({ ...submission.value, updatedAt: new Date() })
-      .where(eq(practiceSettings.id, 1));
-    await audit({ action: "practice.settings_changed", actorUserId: user.id, detail: submission.value, request }, tx);
-  });
+  await savePracticeDetails(submission.value, { userId: user.id, request });
   return redirectWithToast("/settings", { kind: "success", title: "Practice details saved" });
 }
 
