@@ -1,4 +1,4 @@
-import { and, count, eq, ne, sql } from "drizzle-orm";
+import { and, asc, count, eq, ne, sql } from "drizzle-orm";
 import { sessions, users, type Role } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
@@ -12,6 +12,22 @@ export class UserAdminError extends DomainError {
   constructor(message: string, options: DomainErrorOptions = {}) {
     super(message, { status: 409, ...options });
   }
+}
+
+/** Every account, by role and name; `pending` while an invited person has not set a password. */
+export async function staffAccounts() {
+  const rows = await db
+    .select({
+      id: users.id,
+      name: users.name,
+      email: users.email,
+      role: users.role,
+      active: users.active,
+      invited: users.passwordHash,
+    })
+    .from(users)
+    .orderBy(asc(users.role), asc(users.name));
+  return rows.map(({ invited, ...u }) => ({ ...u, pending: invited === null }));
 }
 
 /** Creates an account without a password and e-mails a single-use link to set one. */

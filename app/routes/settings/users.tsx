@@ -1,20 +1,17 @@
 import { createColumnHelper } from "@tanstack/react-table";
 import { getFormProps, getInputProps, getSelectProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { asc } from "drizzle-orm";
 import { data, Form, useFetcher, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/users";
-import { changeRole, inviteUser, setActive, UserAdminError } from "~/models/users/users.server";
+import { changeRole, inviteUser, setActive, staffAccounts, UserAdminError } from "~/models/users/users.server";
 import { Field, SelectField, useResetAfterSuccess } from "~/components/forms";
 import { DataTable } from "~/components/data-table";
 import { RowIntentButton, SettingsPage } from "~/components/settings-page";
 import { Button } from "~/components/ui/button";
 import { Select } from "~/components/ui/input";
 import { StatusBadge } from "~/components/ui/notice";
-import { users } from "~/db/schema";
 import { requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 import { ROLE_LABEL } from "~/utils/nav";
 import { redirectWithToast } from "~/utils/toast.server";
 
@@ -37,18 +34,7 @@ const schema = z.discriminatedUnion("intent", [inviteSchema, roleSchema, activeS
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, ["owner"]);
-  const rows = await db
-    .select({
-      id: users.id,
-      name: users.name,
-      email: users.email,
-      role: users.role,
-      active: users.active,
-      invited: users.passwordHash,
-    })
-    .from(users)
-    .orderBy(asc(users.role), asc(users.name));
-  return { users: rows.map(({ invited, ...u }) => ({ ...u, pending: invited === null })) };
+  return { users: await staffAccounts() };
 }
 
 export async function action({ request }: Route.ActionArgs) {
