@@ -1,5 +1,4 @@
 import { parseWithZod } from "@conform-to/zod/v4";
-import { eq } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import { passwordSchema } from "~/utils/auth-schemas";
@@ -9,14 +8,10 @@ import { Field } from "~/components/forms";
 import { replyErrors, serverInput } from "~/components/server-form";
 import { Button } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
-import { sessions, users } from "~/db/schema";
-import { audit } from "~/utils/audit.server";
-import { hashPassword } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
+import { setPasswordWithToken } from "~/models/users/password-reset.server";
 import { readForm } from "~/utils/form.server";
-import { clearAccountBudgets } from "~/utils/throttle.server";
 import { redirectWithToast } from "~/utils/toast.server";
-import { consumeUserToken, peekUserToken } from "~/utils/tokens.server";
+import { peekUserToken } from "~/utils/tokens.server";
 
 const schema = z
   .object({
@@ -37,25 +32,7 @@ export async function action({ request }: Route.ActionArgs) {
   if (submission.status !== "success") {
     return data(submission.reply({ hideFields: ["password", "confirm"] }), { status: 400 });
   }
-  const passwordHash = await hashPassword(submission.value.password);
-  const done = await db.transaction(async (tx) => {
-    const token = await consumeUserToken(submission.value.token, tx);
-    if (!token) return null;
-    await tx.update(users).set({ passwordHash, updatedAt: new Date() }).where(eq(users.id, token.userId));
-    // A new password ends every existing session of the account.
-    await tx.delete(sessions).where(eq(sessions.userId, token.userId));
-    await audit(
-      {
-        action: token.purpose === "invite" ? "auth.invite_accepted" : "auth.password_reset",
-        actorUserId: token.userId,
-        request,
-      },
-      tx,
-    );
-    const [user] = await tx.select({ email: users.email }).from(users).where(eq(users.id, token.userId));
-    return { ...token, email: user!.email };
-  });
-  if (!done) {
+  if (!(await setPasswordWithToken(submission.value.token, submission.value.password, request))) {
     return data(
       submission.reply({
         formErrors: ["This link has expired or has already been used. Ask for a new one."],
@@ -64,8 +41,6 @@ export async function action({ request }: Route.ActionArgs) {
       { status: 400 },
     );
   }
-  // The owner of the account proved it with the e-mailed link: failed sign-ins before no longer count.
-  await clearAccountBudgets(done.email);
   return redirectWithToast("/login", {
     kind: "success",
     title: "Password saved",
