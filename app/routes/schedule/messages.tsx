@@ -1,5 +1,4 @@
 import { createColumnHelper } from "@tanstack/react-table";
-import { count, desc, eq } from "drizzle-orm";
 import { Form } from "react-router";
 import type { Route } from "./+types/messages";
 import { ScheduleNav } from "./schedule-nav";
@@ -10,11 +9,9 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Select } from "~/components/ui/input";
 import { StatusBadge } from "~/components/ui/notice";
-import { appointmentMessages, appointments, patients, recallMessages } from "~/db/schema";
-import { formatLocal } from "~/lib/scheduling/time";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 import { practiceSchedule } from "~/models/schedule/schedule.server";
+import { sentMessagesPage } from "~/models/schedule/messages.server";
 
 const STATUSES = ["queued", "sent", "skipped", "failed"] as const;
 const PAGE_SIZE = 25;
@@ -30,82 +27,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const apptPage = pageOf(params.get("apage"));
   const recallPage = pageOf(params.get("rpage"));
   const filter = (STATUSES as readonly string[]).includes(status ?? "") ? (status as MsgStatus) : null;
-  const apptWhere = filter ? eq(appointmentMessages.status, filter) : undefined;
-  const recallWhere = filter ? eq(recallMessages.status, filter) : undefined;
-  const [[apptCount], [recallCount]] = await Promise.all([
-    db.select({ n: count() }).from(appointmentMessages).where(apptWhere),
-    db.select({ n: count() }).from(recallMessages).where(recallWhere),
-  ]);
-  const appt = await db
-    .select({
-      id: appointmentMessages.id,
-      kind: appointmentMessages.kind,
-      status: appointmentMessages.status,
-      recipient: appointmentMessages.recipient,
-      email: patients.email,
-      dueAt: appointmentMessages.dueAt,
-      sentAt: appointmentMessages.sentAt,
-      attempts: appointmentMessages.attempts,
-      error: appointmentMessages.lastError,
-      reason: appointmentMessages.skippedReason,
-      first: patients.firstName,
-      last: patients.lastName,
-      appointmentId: appointments.id,
-      start: appointments.startsAt,
-    })
-    .from(appointmentMessages)
-    .innerJoin(appointments, eq(appointments.id, appointmentMessages.appointmentId))
-    .innerJoin(patients, eq(patients.id, appointments.patientId))
-    .where(apptWhere)
-    .orderBy(desc(appointmentMessages.createdAt), desc(appointmentMessages.id))
-    .limit(PAGE_SIZE)
-    .offset((apptPage - 1) * PAGE_SIZE);
-  const recalls = await db
-    .select({
-      id: recallMessages.id,
-      status: recallMessages.status,
-      recipient: recallMessages.recipient,
-      email: patients.email,
-      dueDate: recallMessages.dueDate,
-      sentAt: recallMessages.sentAt,
-      createdAt: recallMessages.createdAt,
-      error: recallMessages.lastError,
-      reason: recallMessages.skippedReason,
-      first: patients.firstName,
-      last: patients.lastName,
-    })
-    .from(recallMessages)
-    .innerJoin(patients, eq(patients.id, recallMessages.patientId))
-    .where(recallWhere)
-    .orderBy(desc(recallMessages.createdAt), desc(recallMessages.id))
-    .limit(PAGE_SIZE)
-    .offset((recallPage - 1) * PAGE_SIZE);
-  return {
-    filter,
-    apptPaging: { page: apptPage, pageSize: PAGE_SIZE, total: apptCount?.n ?? 0 },
-    recallPaging: { page: recallPage, pageSize: PAGE_SIZE, total: recallCount?.n ?? 0 },
-    appointmentMessages: appt.map((m) => ({
-      id: m.id,
-      kind: m.kind,
-      status: m.status,
-      to: m.recipient ?? m.email ?? "no address",
-      patient: `${m.first} ${m.last}`,
-      appointment: formatLocal(m.start, timeZone),
-      appointmentId: m.appointmentId,
-      when: m.sentAt ? formatLocal(m.sentAt, timeZone) : formatLocal(m.dueAt, timeZone),
-      attempts: m.attempts,
-      note: m.reason ?? m.error ?? "",
-    })),
-    recalls: recalls.map((r) => ({
-      id: r.id,
-      status: r.status,
-      to: r.recipient ?? r.email ?? "no address",
-      patient: `${r.first} ${r.last}`,
-      dueDate: r.dueDate,
-      when: formatLocal(r.sentAt ?? r.createdAt, timeZone),
-      note: r.reason ?? r.error ?? "",
-    })),
-  };
+  return sentMessagesPage({ filter, apptPage, recallPage, pageSize: PAGE_SIZE, timeZone });
 }
 
 const LABEL: Record<MsgStatus, string> = { queued: "Waiting", sent: "Sent", skipped: "Not sent", failed: "Failed" };
