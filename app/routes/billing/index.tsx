@@ -1,5 +1,4 @@
 import { createColumnHelper } from "@tanstack/react-table";
-import { and, count, desc, eq, ilike, or, sql, type SQL } from "drizzle-orm";
 import { Form, Link } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/index";
@@ -9,11 +8,10 @@ import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
-import { invoices, invoiceStatusEnum, patients, practiceSettings } from "~/db/schema";
-import { formatDate, formatMoney } from "~/lib/format";
+import { invoiceStatusEnum } from "~/db/schema";
 import { requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
-import { BILLING_ROLES, invoiceLabel } from "~/models/billing/invoices.server";
+import { BILLING_ROLES } from "~/models/billing/invoices.server";
+import { invoiceListPage } from "~/models/billing/invoice-list.server";
 
 const PAGE_SIZE = 25;
 const filterSchema = z.object({
@@ -26,56 +24,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, BILLING_ROLES);
   const url = new URL(request.url);
   const f = filterSchema.parse(Object.fromEntries(url.searchParams));
-  const where: SQL[] = [];
-  if (f.status === "due") where.push(sql`${invoices.status} in ('open', 'partially_paid')`);
-  else if (f.status !== "all") where.push(eq(invoices.status, f.status));
-  if (f.q) {
-    const n = /^(?:inv-?)?0*(\d{1,9})$/i.exec(f.q);
-    const term = `%${f.q.replace(/[%_\\]/g, "\\$&")}%`;
-    where.push(
-      or(
-        ilike(sql`${patients.firstName} || ' ' || ${patients.lastName}`, term),
-        ...(n ? [eq(invoices.number, Number(n[1]))] : []),
-      )!,
-    );
-  }
-  const cond = where.length ? and(...where) : undefined;
-  const [rows, [{ total } = { total: 0 }], [settings]] = await Promise.all([
-    db
-      .select({
-        id: invoices.id,
-        number: invoices.number,
-        status: invoices.status,
-        totalMinor: invoices.totalMinor,
-        paidMinor: invoices.paidMinor,
-        currency: invoices.currency,
-        issuedAt: invoices.issuedAt,
-        createdAt: invoices.createdAt,
-        patient: sql<string>`${patients.firstName} || ' ' || ${patients.lastName}`,
-      })
-      .from(invoices)
-      .innerJoin(patients, eq(patients.id, invoices.patientId))
-      .where(cond)
-      .orderBy(desc(invoices.createdAt), desc(invoices.id))
-      .limit(PAGE_SIZE)
-      .offset((f.page - 1) * PAGE_SIZE),
-    db.select({ total: count() }).from(invoices).innerJoin(patients, eq(patients.id, invoices.patientId)).where(cond),
-    db.select({ timeZone: practiceSettings.timeZone }).from(practiceSettings).where(eq(practiceSettings.id, 1)),
-  ]);
-  const tz = settings?.timeZone ?? "Europe/London";
-  return {
-    filter: f,
-    total,
-    rows: rows.map((r) => ({
-      id: r.id,
-      label: invoiceLabel(r.number),
-      status: r.status,
-      patient: r.patient,
-      date: formatDate(r.issuedAt ?? r.createdAt, { timeZone: tz }),
-      total: formatMoney(r.totalMinor, r.currency),
-      due: formatMoney(r.totalMinor - r.paidMinor, r.currency),
-    })),
-  };
+  return { filter: f, ...(await invoiceListPage(f, PAGE_SIZE)) };
 }
 
 type Row = Awaited<ReturnType<typeof loader>>["rows"][number];
