@@ -1,7 +1,8 @@
 /**
  * Fills a separate database (default `dioptra_bench_chart`, never the demo database) with a large
  * fictional practice for the benchmark: 100,000 patients and 1,000,000 signed exams with final
- * refractions, generated inside PostgreSQL with INSERT … SELECT generate_series.
+ * refractions, 1,000,000 appointments, and invoices, referrals, documents and optical orders in
+ * proportion, generated inside PostgreSQL with INSERT … SELECT generate_series.
  *
  *   tsx seeds/generate-scale.ts                       # 100,000 patients, 10 exams each
  *   SCALE_PATIENTS=5000 tsx seeds/generate-scale.ts   # smaller
@@ -16,21 +17,31 @@ import { databaseUrl } from "../app/utils/db-url";
 import { FIRST_NAMES } from "./names";
 import { seed } from "./seed";
 
-const DB = process.env.SCALE_DB ?? "dioptra_bench_chart";
-const PATIENTS = Number(process.env.SCALE_PATIENTS ?? 100_000);
-const EXAMS_PER_PATIENT = Number(process.env.SCALE_EXAMS_PER_PATIENT ?? 10);
-/** Appointments: ten per patient by default (1,000,000), over ten optometrists' half-hour slots. */
-const APPOINTMENTS = Number(process.env.SCALE_APPOINTMENTS ?? PATIENTS * 10);
-const PROVIDERS = 10;
-if (!/^[a-z_][a-z0-9_]*$/.test(DB) || DB === "dioptra") throw new Error(`Refusing to generate into database "${DB}"`);
+export type ScaleOptions = { db: string; patients: number; examsPerPatient: number; appointments: number };
 
-export function benchDatabaseUrl() {
+/** The options from the environment: SCALE_DB, SCALE_PATIENTS, SCALE_EXAMS_PER_PATIENT, SCALE_APPOINTMENTS. */
+export function scaleOptions(overrides: Partial<ScaleOptions> = {}): ScaleOptions {
+  const patients = overrides.patients ?? Number(process.env.SCALE_PATIENTS ?? 100_000);
+  const db = overrides.db ?? process.env.SCALE_DB ?? "dioptra_bench_chart";
+  if (!/^[a-z_][a-z0-9_]*$/.test(db) || db === "dioptra") throw new Error(`Refusing to generate into database "${db}"`);
+  return {
+    db,
+    patients,
+    examsPerPatient: overrides.examsPerPatient ?? Number(process.env.SCALE_EXAMS_PER_PATIENT ?? 10),
+    /** Appointments: ten per patient by default (1,000,000), over ten optometrists' half-hour slots. */
+    appointments: overrides.appointments ?? Number(process.env.SCALE_APPOINTMENTS ?? patients * 10),
+  };
+}
+const PROVIDERS = 10;
+
+export function benchDatabaseUrl(db = scaleOptions().db) {
   const u = new URL(databaseUrl());
-  u.pathname = `/${DB}`;
+  u.pathname = `/${db}`;
   return u.toString();
 }
 
-export async function generateScale() {
+export async function generateScale(options: ScaleOptions = scaleOptions()) {
+  const { db: DB, patients: PATIENTS, examsPerPatient: EXAMS_PER_PATIENT, appointments: APPOINTMENTS } = options;
   const admin = new URL(databaseUrl());
   admin.pathname = "/postgres";
   const a = new pg.Client({ connectionString: admin.toString() });
@@ -38,7 +49,7 @@ export async function generateScale() {
   await a.query(`DROP DATABASE IF EXISTS "${DB}" WITH (FORCE)`);
   await a.query(`CREATE DATABASE "${DB}"`);
   await a.end();
-  const url = benchDatabaseUrl();
+  const url = benchDatabaseUrl(DB);
   await runMigrations(url);
   await seed(url);
   const c = new pg.Client({ connectionString: url });
@@ -192,9 +203,58 @@ export async function generateScale() {
      from exams e join patients p on p.id = e.patient_id and p.email like '%@scale.dioptra-demo.test'
      where hashtext(e.id::text) % 2 = 0`,
   );
+  // One exam in fifty led to a referral letter (most sent, some replied), with the recipient the demo keeps.
+  await step(
+    "referrals",
+    `insert into referrals (patient_id, exam_id, recipient_id, created_by_id, status, urgency, reason, snapshot, sent_at, replied_at, time_frame_days, created_at, updated_at)
+     select e.patient_id, e.id, r.id, e.optometrist_id,
+            case when abs(hashtext(e.id::text)) % 4 = 0 then 'replied' else 'sent' end::referral_status, 'routine',
+            'Scale referral',
+            jsonb_build_object('examinedAt', e.examined_at, 'signedAt', e.signed_at, 'examiner', 'Scale Optometrist',
+              'history', null, 'acuity', '[]'::jsonb, 'refraction', '[]'::jsonb, 'iop', '[]'::jsonb, 'colour', '[]'::jsonb,
+              'fields', '[]'::jsonb, 'diagnoses', '[]'::jsonb, 'prompts', '[]'::jsonb),
+            e.signed_at + interval '1 hour',
+            case when abs(hashtext(e.id::text)) % 4 = 0 then e.signed_at + interval '30 days' end, 90, e.signed_at, e.signed_at
+     from exams e join patients p on p.id = e.patient_id and p.email like '%@scale.dioptra-demo.test'
+     cross join (select id from referral_recipients order by name limit 1) r
+     where abs(hashtext(e.id::text)) % 50 = 7`,
+  );
+  // One exam in twenty has a field printout on file (the record only: the benchmark lists, it does not download).
+  await step(
+    "documents",
+    `insert into documents (patient_id, exam_id, kind, description, original_name, content_type, size_bytes, storage_key, uploaded_by_id, created_at)
+     select e.patient_id, e.id, 'field_printout', 'Central 24-2 printout', 'fields.pdf', 'application/pdf', 120000,
+            'scale/' || e.id, u.id, e.examined_at + interval '20 minutes'
+     from exams e join patients p on p.id = e.patient_id and p.email like '%@scale.dioptra-demo.test'
+     cross join (select id from users where role = 'owner' order by email limit 1) u
+     where abs(hashtext(e.id::text)) % 20 = 3`,
+  );
+  // A spectacle order for one prescription in three, walked through its states by the same moves
+  // the app makes (the database refuses any other), so every state is present.
+  await step(
+    "optical orders",
+    `insert into optical_orders (kind, patient_id, prescription_id, lab_id, frame_id, frame_label, frame_price_minor, lens_type, lens_material, pd_right_mm, pd_left_mm, created_by_id, created_at, state_changed_at)
+     select 'spectacles', rx.patient_id, rx.id, l.id, f.id, f.supplier || ' ' || f.model, f.price_minor, 'single_vision', '1.6',
+            31.5, 31.5, rx.issued_by_id, rx.issued_at + interval '10 minutes', rx.issued_at + interval '10 minutes'
+     from prescriptions rx join patients p on p.id = rx.patient_id and p.email like '%@scale.dioptra-demo.test'
+     cross join (select id from labs order by name limit 1) l
+     cross join (select id, supplier, model, price_minor from frames order by model limit 1) f
+     where abs(hashtext(rx.id::text)) % 3 = 0`,
+  );
+  for (const [from, to, share] of [
+    ["draft", "sent_to_lab", 95],
+    ["sent_to_lab", "received", 90],
+    ["received", "checked", 95],
+    ["checked", "ready_to_collect", 95],
+    ["ready_to_collect", "collected", 90],
+  ] as const)
+    await step(
+      `orders ${from} → ${to}`,
+      `update optical_orders set state = '${to}' where state = '${from}' and abs(hashtext(id::text || '${to}')) % 100 < ${share}`,
+    );
   await step("analyze", "analyze");
   const counts = await c.query(
-    "select (select count(*) from patients) as patients, (select count(*) from exams) as exams, (select count(*) from exam_refractions) as refractions, (select count(*) from appointments) as appointments, (select count(*) from invoices) as invoices",
+    "select (select count(*) from patients) as patients, (select count(*) from exams) as exams, (select count(*) from exam_refractions) as refractions, (select count(*) from appointments) as appointments, (select count(*) from invoices) as invoices, (select count(*) from referrals) as referrals, (select count(*) from documents) as documents, (select count(*) from optical_orders) as orders",
   );
   console.log("[scale] totals", counts.rows[0]);
   await c.end();

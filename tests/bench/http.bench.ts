@@ -6,28 +6,35 @@
  * `/healthz` and every route in one interleaved run (each round visits every route in a shuffled
  * order), at concurrency 1 and then 10. Prints median and p95 per route, the p95 as a ratio to
  * `/healthz`'s p95 in the same run, the machine's load average, and the server's resident memory
- * during and after; exits 1 when a target is missed.
+ * during and after. The same run is made first on a small database generated the same way (2,500
+ * patients, the demo practice's size) and each ratio at scale is compared with it: the cost of a
+ * page must stay flat as the practice grows. Exits 1 when a target is missed.
  *
  *   npm run bench                                   # builds first if there is no build
  *   BENCH_ROUNDS=100 npm run bench                  # rounds per concurrency (default 60)
- *   SCALE_PATIENTS=5000 SCALE_DB=dioptra_bench_small npm run bench   # a small database
+ *   SCALE_PATIENTS=5000 SCALE_DB=dioptra_bench_try npm run bench   # a smaller "scale" database
+ *   BENCH_COMPARE=0 npm run bench                   # skip the small database's run and the flatness check
  *   BENCH_REFILL=1 npm run bench                    # drop and fill the database again
  *
  * Other work on the machine inflates the tail: read the figures beside the load average.
  */
 import { spawn, spawnSync } from "node:child_process";
+import { randomBytes } from "node:crypto";
 import { existsSync, readFileSync } from "node:fs";
 import { cpus, loadavg } from "node:os";
 import path from "node:path";
 import pg from "pg";
 import { runMigrations } from "../../app/ops/migrate";
-import { benchDatabaseUrl, generateScale } from "../../seeds/generate-scale";
+import { benchDatabaseUrl, generateScale, scaleOptions, type ScaleOptions } from "../../seeds/generate-scale";
 
 const ROUNDS = Number(process.env.BENCH_ROUNDS ?? 60);
 const WARMUP = 5;
 const PORT = Number(process.env.BENCH_PORT ?? 3900 + Number(process.env.DIOPTRA_TEST_SLOT ?? 0));
 const BUILD = process.env.DIOPTRA_BUILD_DIR ?? "build";
-const PATIENTS = Number(process.env.SCALE_PATIENTS ?? 100_000);
+/** The small database the flatness is judged against: generated the same way, at the demo practice's size. */
+const SMALL_PATIENTS = Number(process.env.BENCH_SMALL_PATIENTS ?? 2_500);
+/** Each ratio at scale may be at most this many times the same ratio on the small database. */
+const FLATNESS = 1.3;
 const SESSION_SECRET = "dioptra-bench-session-secret";
 const RSS_LIMIT_MIB = 400;
 
@@ -42,7 +49,8 @@ const TARGETS: Record<string, Target> = {
   day: { ratio: 2 },
 };
 
-async function prepareDatabase(url: string) {
+async function prepareDatabase(options: ScaleOptions) {
+  const url = benchDatabaseUrl(options.db);
   const c = new pg.Client({ connectionString: url });
   const counts = await c
     .connect()
@@ -54,15 +62,20 @@ async function prepareDatabase(url: string) {
     .then((r) => r.rows[0]!)
     .catch(() => null)
     .finally(() => c.end().catch(() => undefined));
-  if (process.env.BENCH_REFILL !== "1" && counts && counts.patients >= PATIENTS && counts.appointments >= PATIENTS) {
+  if (
+    process.env.BENCH_REFILL !== "1" &&
+    counts &&
+    counts.patients >= options.patients &&
+    counts.appointments >= options.patients
+  ) {
     console.log(
       `reusing ${new URL(url).pathname.slice(1)}: ${counts.patients} patients, ${counts.appointments} appointments`,
     );
     await runMigrations(url); // a database filled before the latest migrations gets them
     return;
   }
-  console.log("filling the scale database (once; later runs reuse it)");
-  await generateScale();
+  console.log(`filling ${options.db} with ${options.patients} patients (once; later runs reuse it)`);
+  await generateScale(options);
 }
 
 function ensureBuild() {
@@ -99,22 +112,26 @@ function percentile(sorted: number[], p: number) {
 
 type Route = { name: string; group: keyof typeof TARGETS | "health" | "other"; url: (i: number) => string };
 
-async function main() {
-  const url = benchDatabaseUrl();
-  await prepareDatabase(url);
-  ensureBuild();
+type Measured = { failed: boolean; ratios: Map<string, number>; groups: Map<string, string> };
 
-  // Sessions are made in this process with the server's secret.
-  process.env.DATABASE_URL = url;
+/** One interleaved run against the built server on `options.db`; the concurrency-1 ratios are returned. */
+async function measure(options: ScaleOptions): Promise<Measured> {
+  const url = benchDatabaseUrl(options.db);
+  console.log(`\n=== ${options.db}: ${options.patients.toLocaleString("en-GB")} patients ===`);
+  // The owner's session is written into this database; the cookie is signed with the server's secret.
   process.env.SESSION_SECRET = SESSION_SECRET;
-  const { createUserSession } = await import("../../app/utils/session.server");
+  process.env.DATABASE_URL ??= url; // read by the app's environment check on import; no query is made through it
+  const { sessionCookie } = await import("../../app/utils/session.server");
   const db = new pg.Client({ connectionString: url });
   await db.connect();
-  const one = async <T>(sql: string) => (await db.query(sql)).rows as T[];
+  const one = async <T>(sql: string, params: unknown[] = []) => (await db.query(sql, params)).rows as T[];
   const [owner] = await one<{ id: string }>("select id from users where email = 'owner@dioptra-demo.test'");
-  const cookie = (await createUserSession(new Request("http://127.0.0.1/login"), owner!.id, "/")).headers
-    .get("set-cookie")!
-    .split(";")[0]!;
+  const sessionId = randomBytes(32).toString("base64url");
+  await one("insert into sessions (id, user_id, expires_at) values ($1, $2, now() + interval '12 hours')", [
+    sessionId,
+    owner!.id,
+  ]);
+  const cookie = (await sessionCookie.serialize(sessionId)).split(";")[0]!;
   const exams = await one<{ id: string; patient_id: string }>(
     "select id, patient_id from exams tablesample system (1) limit 200",
   );
@@ -163,6 +180,7 @@ async function main() {
     { name: "day list", group: "day", url: (i) => `/schedule/day?date=${day(i)}` },
     { name: "invoices list", group: "other", url: (i) => `/billing?page=${1 + (i % 50)}` },
     { name: "referrals list", group: "other", url: () => "/referrals" },
+    { name: "orders list", group: "other", url: () => "/orders" },
   ];
 
   const base = `http://127.0.0.1:${PORT}`;
@@ -213,6 +231,7 @@ async function main() {
   let peak = idleBefore;
   const sampler = setInterval(() => (peak = Math.max(peak, rssMiB(server.pid!))), 100);
   let failed = false;
+  const ratios = new Map<string, number>();
   for (const concurrency of [1, 10]) {
     const times = new Map(routes.map((r) => [r.name, [] as number[]]));
     const worker = async (w: number) => {
@@ -243,6 +262,7 @@ async function main() {
       const sorted = [...times.get(r.name)!].sort((a, b) => a - b);
       const p95 = percentile(sorted, 95);
       const ratio = p95 / healthP95;
+      if (concurrency === 1) ratios.set(r.name, ratio);
       const target = r.group in TARGETS ? TARGETS[r.group as keyof typeof TARGETS] : undefined;
       let verdict = "";
       if (target && concurrency === 1) {
@@ -269,11 +289,42 @@ async function main() {
       `(limit ${RSS_LIMIT_MIB} MiB: ${rssMet ? "met" : "NOT met"}), ${after.toFixed(0)} MiB 5 s after`,
   );
   stop();
+  process.off("exit", stop);
+  await new Promise((r) => server.once("exit", r));
+  return { failed, ratios, groups: new Map(routes.map((r) => [r.name, r.group])) };
+}
+
+async function main() {
+  ensureBuild();
+  const large = scaleOptions();
+  const small = scaleOptions({ db: `${large.db}_small`, patients: SMALL_PATIENTS });
+  const compare = process.env.BENCH_COMPARE !== "0" && large.patients > small.patients;
+  let failed = false;
+  const runs: Measured[] = [];
+  for (const options of compare ? [small, large] : [large]) {
+    await prepareDatabase(options);
+    const run = await measure(options);
+    failed ||= run.failed;
+    runs.push(run);
+  }
+  if (compare) {
+    // The cost stays flat: each targeted ratio at scale within FLATNESS× the same ratio on the small database.
+    const [s, l] = runs as [Measured, Measured];
+    console.log(`\nflatness at concurrency 1: p95 ratio at ${large.patients} patients ÷ the same at ${small.patients}`);
+    for (const [name, ratio] of l.ratios) {
+      const group = l.groups.get(name)!;
+      if (!(group in TARGETS)) continue;
+      const growth = ratio / s.ratios.get(name)!;
+      const met = growth <= FLATNESS;
+      if (!met) failed = true;
+      console.log(`${name.padEnd(30)} ${growth.toFixed(2).padStart(6)}×  ≤ ${FLATNESS}×: ${met ? "met" : "NOT met"}`);
+    }
+  }
   if (failed) {
-    console.log("some targets were NOT met");
+    console.log("\nsome targets were NOT met");
     process.exit(1);
   }
-  console.log("every target met");
+  console.log("\nevery target met");
 }
 
 main().catch((e) => {
