@@ -118,7 +118,8 @@ export async function action({ request, params }: Route.ActionArgs) {
           : {
               kind: "warning",
               title: `Failed the check (${report.standard})`,
-              description: "See the report. Send for a remake, or an optician may release it with a reason.",
+              description:
+                "See the report. Send for a remake, or an optometrist or the owner may release it with a reason.",
             },
       );
     }
