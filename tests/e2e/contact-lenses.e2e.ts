@@ -65,8 +65,78 @@ describe("contact lenses", () => {
       [`Meridian Toric ${tag}`],
     );
     expect(row).toEqual({ cylinders: [-1.25, -0.75], axis_step: 5 });
+
+    // Withdrawn from new fittings, then offered again: the row says so in words, not only colour.
+    const lensRow = page.getByRole("row").filter({ hasText: `Testbury Optics Meridian Toric ${tag}` });
+    await lensRow.getByRole("button", { name: /^Withdraw/ }).click();
+    await poll(() => page.getByTestId("toast").textContent()).toContain("withdrawn from new fittings");
+    await poll(() => lensRow.getByText("Withdrawn", { exact: true }).count()).toBe(1);
+    expect(
+      await q("select 1 from contact_lenses where name = $1 and not active", [`Meridian Toric ${tag}`]),
+    ).toHaveLength(1);
+    await expectAccessible(page);
+    await lensRow.getByRole("button", { name: /^Offer again/ }).focus();
+    await page.keyboard.press("Enter");
+    await poll(() => lensRow.getByText("Withdrawn", { exact: true }).count()).toBe(0);
+    expect(await q("select 1 from contact_lenses where name = $1 and active", [`Meridian Toric ${tag}`])).toHaveLength(
+      1,
+    );
+    await expectAccessible(page);
     await page.close();
   }, 180_000);
+
+  it("saves the aftercare section and shows its values after a reload", async () => {
+    const [patient] = await q<{ id: string }>(
+      "insert into patients (first_name, last_name, date_of_birth) values ('Perpetua', $1, date '1979-11-21') returning id",
+      [`Lindqvist${tag}`],
+    );
+    const [exam] = await q<{ id: string }>(
+      "insert into exams (patient_id, optometrist_id) select $1, id from users where email = $2 returning id",
+      [patient!.id, DEMO.optometrist],
+    );
+    const page = await browser.newPage();
+    await signIn(page, DEMO.optometrist);
+    await page.goto(`/patients/${patient!.id}/exams/${exam!.id}`);
+    await page.waitForLoadState("networkidle");
+    const aftercare = page.locator("#section-cl-aftercare");
+    const typed: [string, string][] = [
+      ["Right manufacturer", "Testbury Optics"],
+      ["Right lens name", "Clearday Sphere"],
+      ["Right base curve (mm)", "8.6"],
+      ["Right diameter (mm)", "14.2"],
+      ["Right lens power", "-2.50"],
+      ["Right conjunctival (bulbar) redness", "1.5"],
+      ["Usual wearing time (hours a day)", "10"],
+      ["Days a week worn", "6"],
+    ];
+    for (const [label, value] of typed) await aftercare.getByLabel(label, { exact: true }).fill(value);
+    await aftercare.getByLabel("Care system").selectOption({ label: "Multipurpose solution" });
+    await aftercare.getByLabel("Advice given").fill("Rub and rinse the lenses; replace the case monthly.");
+    await aftercare.getByLabel("Advice given").press("Tab");
+    await saved(page, "cl_aftercare");
+    await expectAccessible(page);
+    const [row] = await q<{ n: number }>(
+      "select count(*)::int as n from exam_contact_lens where exam_id = $1 and section = 'cl_aftercare'",
+      [exam!.id],
+    );
+    expect(row!.n).toBe(1);
+
+    await page.reload();
+    await page.waitForLoadState("networkidle");
+    for (const [label, value] of typed) {
+      const shown = await aftercare.getByLabel(label, { exact: true }).inputValue();
+      // Numbers may come back in the section's own format (8.60 for 8.6); text comes back as typed.
+      if (Number.isFinite(Number(value))) expect(Number(shown), label).toBe(Number(value));
+      else expect(shown, label).toBe(value);
+    }
+    expect(await aftercare.getByLabel("Care system").inputValue()).toBe("multipurpose");
+    expect(await aftercare.getByLabel("Advice given").inputValue()).toBe(
+      "Rub and rinse the lenses; replace the case monthly.",
+    );
+    await saved(page, "cl_aftercare");
+    await expectAccessible(page);
+    await page.close();
+  }, 120_000);
 
   it("fits a toric lens and issues its prescription only in the lens's steps", async () => {
     const [patient] = await q<{ id: string }>(

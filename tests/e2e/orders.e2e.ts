@@ -31,6 +31,52 @@ afterAll(async () => {
   await client?.end();
 });
 
+/**
+ * A spectacle order received from the lab, made in the database (the building and sending are the
+ * first test's), and lensmeter readings for it: the right sphere 0.50 D over the order, the left as ordered.
+ */
+async function receivedOrder() {
+  const [rx] = await q<{ id: string; patient_id: string }>(
+    `select rx.id, rx.patient_id from prescriptions rx join patients p on p.id = rx.patient_id
+      where rx.kind = 'spectacle' and rx.expires_on > current_date and p.email is distinct from $1
+        and not exists (select 1 from prescription_eyes e where e.prescription_id = rx.id
+                         and (e.add_power is not null or e.prism_dioptres is not null or e.cylinder = 0))
+        and (select count(*) from prescription_eyes e where e.prescription_id = rx.id) = 2
+      order by rx.issued_at limit 1`,
+    [DEMO.patient],
+  );
+  const eyes = await q<{ eye: string; sphere: number; cylinder: number; axis: number }>(
+    "select eye, sphere, cylinder, axis from prescription_eyes where prescription_id = $1",
+    [rx!.id],
+  );
+  const [frame] = await q<{ id: string; label: string; price_minor: number }>(
+    "select id, supplier || ' ' || model || ', ' || colour || ', ' || size as label, price_minor from frames where active limit 1",
+  );
+  const [lab] = await q<{ id: string }>("select id from labs where name = 'Brackenford Lens Lab'");
+  const [desk] = await q<{ id: string }>("select id from users where email = $1", [DEMO.receptionist]);
+  const [order] = await q<{ id: string }>(
+    `insert into optical_orders (kind, patient_id, prescription_id, lab_id, frame_id, frame_label, frame_price_minor,
+       lens_type, lens_material, coatings, pd_right_mm, pd_left_mm, created_by_id)
+     values ('spectacles', $1, $2, $3, $4, $5, $6, 'single_vision', 'Mid index 1.60', '{}', 32, 31.5, $7) returning id`,
+    [rx!.patient_id, rx!.id, lab!.id, frame!.id, frame!.label, frame!.price_minor, desk!.id],
+  );
+  let from: string | null = null;
+  for (const to of ["draft", "sent_to_lab", "received"]) {
+    if (from) await q("update optical_orders set state = $2 where id = $1", [order!.id, to]);
+    await q(
+      "insert into order_events (order_id, kind, from_state, to_state, actor_user_id) values ($1, 'spectacles', $2, $3, $4)",
+      [order!.id, from, to, desk!.id],
+    );
+    from = to;
+  }
+  const sign = (n: number) => (n >= 0 ? `+${n.toFixed(2)}` : n.toFixed(2));
+  const reading = (e: (typeof eyes)[number], over: number) =>
+    `${sign(e.sphere + over)} ${sign(e.cylinder)} x ${e.axis}`;
+  const r = eyes.find((e) => e.eye === "right")!;
+  const l = eyes.find((e) => e.eye === "left")!;
+  return { orderId: order!.id, right: reading(r, 0.5), left: reading(l, 0) };
+}
+
 describe("optical orders in the browser", () => {
   it("builds a spectacle order from a prescription, sends it to the lab, fails the check on a wrong axis, remakes, passes, tells the patient, takes payment and collects; the portal shows it", async () => {
     const desk = await browser.newPage();
@@ -143,6 +189,7 @@ describe("optical orders in the browser", () => {
     await screenshot(desk, "orders-check-failed");
     // The front desk cannot release it; a remake goes back to the lab.
     expect(await desk.getByText("These spectacles failed the check").count()).toBe(1);
+    expect(await desk.getByRole("button", { name: "Release and mark ready to collect" }).count()).toBe(0);
     await desk.getByLabel("Reason for the remake").fill("Right axis 15 degrees out");
     await desk.getByRole("button", { name: "Send for a remake" }).click();
     await expect.poll(() => desk.getByTestId("toast").textContent(), SLOW).toContain("Marked for a remake");
@@ -225,6 +272,91 @@ describe("optical orders in the browser", () => {
     await expectAccessible(phone);
     await screenshot(phone, "portal-orders");
   }, 240_000);
+
+  it("an optometrist releases spectacles that failed the check only with a reason, by keyboard, and the history says who and why", async () => {
+    const { orderId, right, left } = await receivedOrder();
+    const optom = await browser.newPage();
+    await signIn(optom, DEMO.optometrist);
+    await optom.goto(`/orders/${orderId}`);
+    await ready(optom);
+    // Right sphere 0.50 D over the order: outside BS EN ISO 21987's ±0.12 to ±0.37 D on a principal
+    // meridian (from memory, published summaries of its table, as in the optics engine's source).
+    await optom.getByLabel("Right lensmeter reading").fill(right);
+    await optom.getByLabel("Left lensmeter reading").fill(left);
+    await optom.getByRole("button", { name: "Run the check" }).click();
+    await expect.poll(() => optom.getByTestId("toast").textContent(), SLOW).toContain("Failed the check");
+    await ready(optom);
+    // A failed check is never marked ready by the plain button; the release is its own, labelled control.
+    expect(await optom.getByRole("button", { name: "Mark ready to collect", exact: true }).count()).toBe(0);
+    const release = optom.getByRole("region", { name: "Release despite the failed check" });
+    expect(await release.getByText("You take responsibility for this release").count()).toBe(1);
+    await expectAccessible(optom);
+
+    // Without a reason: refused in the field, nothing moved.
+    await release.getByRole("button", { name: "Release and mark ready to collect" }).click();
+    const reason = optom.getByRole("textbox", { name: /Reason for releasing/ });
+    await expect.poll(() => reason.getAttribute("aria-invalid"), SLOW).toBe("true");
+    // The message sits under the field and is read out with it (aria-describedby).
+    expect(await optom.locator("#release-reason-error").textContent()).toContain(
+      "Give the reason for releasing spectacles that failed the check",
+    );
+    expect(await reason.getAttribute("aria-describedby")).toContain("release-reason-error");
+    const [still] = await q<{ state: string }>("select state from optical_orders where id = $1", [orderId]);
+    expect(still!.state).toBe("checked");
+    await expectAccessible(optom);
+
+    // By keyboard: type the reason, Tab to the button, Enter.
+    await reason.focus();
+    await optom.keyboard.type("Right sphere 0.50 D over; matches the habitual pair, agreed with the patient");
+    await optom.keyboard.press("Tab");
+    await expect
+      .poll(() => optom.evaluate(() => document.activeElement?.textContent?.trim()))
+      .toBe("Release and mark ready to collect");
+    await optom.keyboard.press("Enter");
+    await expect
+      .poll(() => optom.getByTestId("toast").textContent(), SLOW)
+      .toContain("Released despite the failed check");
+    await ready(optom);
+    const history = optom
+      .locator("section")
+      .filter({ has: optom.getByRole("heading", { name: "History", exact: true }) });
+    await expect
+      .poll(() => history.textContent())
+      .toMatch(/Ready to collect — Tobias Wren, .*Released despite a failed check: Right sphere 0\.50 D over/);
+    await expectAccessible(optom);
+    const [audited] = await q<{ detail: { reason: string } }>(
+      "select detail from audit_log where action = 'order.check_released' and entity_id = $1",
+      [orderId],
+    );
+    expect(audited!.detail.reason).toMatch(/^Right sphere 0\.50 D over/);
+  });
+
+  it("the chart's New optical order link opens the order form with that prescription chosen", async () => {
+    const [rx] = await q<{ id: string; patient_id: string }>(
+      `select rx.id, rx.patient_id from prescriptions rx join patients p on p.id = rx.patient_id
+        where rx.kind = 'spectacle' and rx.expires_on > current_date and p.email is distinct from $1
+        order by rx.issued_at desc limit 1`,
+      [DEMO.patient],
+    );
+    const desk = await browser.newPage();
+    await signIn(desk, DEMO.receptionist);
+    await desk.goto(`/patients/${rx!.patient_id}`);
+    await ready(desk);
+    await expectAccessible(desk);
+    const link = desk.getByRole("link", { name: /^New optical order from the spectacle prescription of / }).first();
+    await link.focus();
+    await desk.keyboard.press("Enter");
+    await desk.waitForURL((u) => u.pathname === "/orders/new" && u.searchParams.has("prescriptionId"));
+    const url = new URL(desk.url());
+    expect(url.searchParams.get("patientId")).toBe(rx!.patient_id);
+    await ready(desk);
+    expect(await desk.locator('input[name="prescriptionId"]').inputValue()).toBe(
+      url.searchParams.get("prescriptionId"),
+    );
+    expect(await desk.getByRole("heading", { name: "From the prescription" }).count()).toBe(1);
+    expect(await desk.getByLabel("Frame from stock").count()).toBe(1);
+    await expectAccessible(desk);
+  });
 
   it("the owner keeps frames and labs and reads the order reports", async () => {
     const owner = await browser.newPage();

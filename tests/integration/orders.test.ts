@@ -2,9 +2,10 @@ import { execFileSync } from "node:child_process";
 import { mkdtempSync, writeFileSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
-import { eq, sql } from "drizzle-orm";
+import { and, eq, sql } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
 import {
+  auditLog,
   exams,
   feeItems,
   frames,
@@ -26,12 +27,24 @@ import {
   markRemake,
   OrderError,
   recordCheck,
+  releaseFailedCheck,
   sendToLab,
   type EyeReading,
 } from "~/models/orders/orders.server";
+import { RELEASE_REASON_MESSAGE } from "~/models/orders/order-schema";
+import { action as orderAction, loader as orderLoader } from "~/routes/orders/order";
 import { db } from "~/utils/db.server";
 import { getSessionUser } from "~/utils/session.server";
-import { cookieFor, mailTo, makeRequest, uniqueEmail, userByEmail } from "#tests/support/helpers";
+import {
+  cookieFor,
+  dataOf,
+  mailTo,
+  makeRequest,
+  run,
+  statusOf,
+  uniqueEmail,
+  userByEmail,
+} from "#tests/support/helpers";
 import { UNIT } from "#tests/support/ports";
 
 const uniq = () => Math.random().toString(36).slice(2, 8);
@@ -217,8 +230,11 @@ describe("spectacle orders", () => {
     });
     expect(failed.pass).toBe(false);
     expect(failed.right.checks.find((c) => c.element === "axis")).toMatchObject({ difference: 10, pass: false });
-    await expect(markReady(desk, id, "checked", "")).rejects.toThrow(/failed the check/);
-    await expect(markReady(optom, id, "checked", "")).rejects.toThrow(/reason/);
+    await expect(markReady(desk, id, "checked")).rejects.toThrow(/failed the check/);
+    await expect(markReady(optom, id, "checked")).rejects.toThrow(/failed the check/);
+    await expect(releaseFailedCheck(desk, id, "Looks fine")).rejects.toMatchObject({ status: 403 });
+    await expect(releaseFailedCheck(optom, id, "  ")).rejects.toMatchObject({ status: 400, field: "reason" });
+    expect(await stateOf(id)).toBe("checked");
     await markRemake(desk, id, "checked", "Right axis 10 degrees out");
     await sendToLab(desk, id, "remake");
     expect((await mailTo(f.labEmail))[0]!.subject).toMatch(/^Remake: /);
@@ -228,7 +244,8 @@ describe("spectacle orders", () => {
       left: reading("-2.50 -0.50 x 80"),
     });
     expect(passed.pass).toBe(true);
-    await markReady(desk, id, "checked", "");
+    await expect(releaseFailedCheck(optom, id, "Nothing to release here")).rejects.toThrow(/passed the check/);
+    await markReady(desk, id, "checked");
     const ready = await mailTo(f.email);
     expect(ready[0]!.subject).toMatch(/ready to collect/);
     const [inv] = await db.select().from(invoices).where(eq(invoices.id, invoiceId!));
@@ -249,10 +266,9 @@ describe("spectacle orders", () => {
     await sendToLab(desk, id, "draft");
     await markReceived(desk, id);
     await recordCheck(desk, id, { right: reading("-2.25 -1.00 x 90"), left: reading("-2.50 -0.50 x 80") });
-    await markReady(
+    await releaseFailedCheck(
       await as("optometrist"),
       id,
-      "checked",
       "Sphere 0.25 D over; patient's habitual lenses identical, agreed with patient",
     );
     const [o] = await db.select().from(opticalOrders).where(eq(opticalOrders.id, id));
@@ -263,5 +279,98 @@ describe("spectacle orders", () => {
       skippedReason: "patient has turned e-mails off",
     });
     expect(await mailTo(f.email)).toHaveLength(0);
+  });
+});
+
+describe("releasing spectacles that failed the check, at the order page", () => {
+  /** An order whose lensmeter check failed: right sphere 0.25 D over the ordered −2.00 D. */
+  async function failedOrder() {
+    const f = await fixture();
+    const desk = await as("receptionist");
+    const { id } = await createSpectacleOrder(desk, f.input);
+    await sendToLab(desk, id, "draft");
+    await markReceived(desk, id);
+    // Ordered −2.00 −1.00 × 90: ±0.12 D on each principal meridian up to 3.00 D under BS EN ISO 21987
+    // (from memory, published summaries of its table, as in app/lib/optics/dispensing.ts).
+    const report = await recordCheck(desk, id, {
+      right: reading("-2.25 -1.00 x 90"),
+      left: reading("-2.50 -0.50 x 80"),
+    });
+    expect(report.pass).toBe(false);
+    return { ...f, id };
+  }
+  const post = async (role: string, id: string, form: Record<string, string>) =>
+    run(orderAction, makeRequest(`/orders/${id}`, { cookie: await cookieFor(role), form }), { orderId: id });
+
+  it("refuses a receptionist with 403, whatever the reason says, and moves nothing", async () => {
+    const f = await failedOrder();
+    const result = await post("receptionist", f.id, {
+      intent: "release",
+      expected: "checked",
+      reason: "Patient is happy with them",
+    });
+    expect(statusOf(result)).toBe(403);
+    expect(dataOf<{ message: string }>(result).message).toMatch(/Only an optometrist or the practice owner/);
+    expect(await stateOf(f.id)).toBe("checked");
+    const page = dataOf<{ canOverride: boolean }>(
+      await run(orderLoader, makeRequest(`/orders/${f.id}`, { cookie: await cookieFor("receptionist") }), {
+        orderId: f.id,
+      }),
+    );
+    expect(page.canOverride).toBe(false);
+  });
+
+  it("refuses an empty reason with 400 and the field's message, then records the release with who, when and why", async () => {
+    const f = await failedOrder();
+    const empty = await post("optometrist", f.id, { intent: "release", expected: "checked", reason: "   " });
+    expect(statusOf(empty)).toBe(400);
+    expect(dataOf<{ fieldErrors: Record<string, string[]> }>(empty).fieldErrors.reason).toEqual([
+      RELEASE_REASON_MESSAGE,
+    ]);
+    expect(await stateOf(f.id)).toBe("checked");
+    // Marking it ready without releasing is refused too.
+    const plain = await post("optometrist", f.id, { intent: "ready", expected: "checked" });
+    expect(statusOf(plain)).toBe(409);
+    expect(dataOf<{ message: string }>(plain).message).toMatch(/failed the check/);
+
+    const before = Date.now();
+    const done = await post("optometrist", f.id, {
+      intent: "release",
+      expected: "checked",
+      reason: "Right sphere 0.25 D over; matches the habitual pair, agreed with the patient",
+    });
+    expect(statusOf(done)).toBe(302);
+    expect(await stateOf(f.id)).toBe("ready_to_collect");
+    const optom = await userByEmail("optometrist@dioptra-demo.test");
+    const [o] = await db.select().from(opticalOrders).where(eq(opticalOrders.id, f.id));
+    expect(o!.overrideReason).toBe("Right sphere 0.25 D over; matches the habitual pair, agreed with the patient");
+    const events = await db.execute<{ to_state: string; actor_user_id: string; reason: string; at: Date }>(
+      sql`select to_state, actor_user_id, reason, at from order_events where order_id = ${f.id} order by at desc limit 1`,
+    );
+    const last = events.rows[0]!;
+    expect(last).toMatchObject({
+      to_state: "ready_to_collect",
+      actor_user_id: optom.id,
+      reason:
+        "Released despite a failed check: Right sphere 0.25 D over; matches the habitual pair, agreed with the patient",
+    });
+    expect(new Date(last.at).getTime()).toBeGreaterThanOrEqual(before - 1000);
+    const [audited] = await db
+      .select()
+      .from(auditLog)
+      .where(and(eq(auditLog.action, "order.check_released"), eq(auditLog.entityId, f.id)));
+    expect(audited).toMatchObject({ actorUserId: optom.id, patientId: f.patient.id });
+    expect(audited!.detail).toMatchObject({
+      standard: "BS EN ISO 21987:2017",
+      reason: "Right sphere 0.25 D over; matches the habitual pair, agreed with the patient",
+    });
+    // The order page's history names who released it and why.
+    const page = dataOf<{ events: { toState: string; actor: string | null; reason: string }[] }>(
+      await run(orderLoader, makeRequest(`/orders/${f.id}`, { cookie: await cookieFor("optometrist") }), {
+        orderId: f.id,
+      }),
+    );
+    expect(page.events.at(-1)).toMatchObject({ toState: "ready_to_collect", actor: optom.name });
+    expect(page.events.at(-1)!.reason).toMatch(/^Released despite a failed check: /);
   });
 });

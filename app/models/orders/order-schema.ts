@@ -89,14 +89,24 @@ export const checkSchema = z.object({
   left: eyeReading,
 });
 
+/** Releasing spectacles that failed the dispensing check needs a reason of at least this many characters. */
+export const RELEASE_REASON_MIN = 5;
+export const RELEASE_REASON_MESSAGE =
+  "Give the reason for releasing spectacles that failed the check (for example: agreed with the patient after a trial of wear).";
+
 /** A move of an order from the state it was seen in (`expected`) to the next. */
 export const moveSchema = z.discriminatedUnion("intent", [
   z.object({ intent: z.literal("send"), expected: z.enum(["draft", "remake"]) }),
   z.object({ intent: z.literal("received"), expected: z.literal("sent_to_lab") }),
+  z.object({ intent: z.literal("ready"), expected: z.enum(["checked", "received"]) }),
   z.object({
-    intent: z.literal("ready"),
-    expected: z.enum(["checked", "received"]),
-    overrideReason: z.string().trim().max(500).default(""),
+    intent: z.literal("release"),
+    expected: z.literal("checked"),
+    reason: z
+      .string({ error: RELEASE_REASON_MESSAGE })
+      .trim()
+      .min(RELEASE_REASON_MIN, RELEASE_REASON_MESSAGE)
+      .max(500, "At most 500 characters."),
   }),
   z.object({
     intent: z.literal("remake"),

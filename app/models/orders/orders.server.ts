@@ -46,11 +46,14 @@ import { audit } from "~/utils/audit.server";
 import { db, type Tx } from "~/utils/db.server";
 import type { SessionUser } from "~/utils/session.server";
 import { queueOrderMessage, tryOrderMessageNow } from "./order-mail.server";
+import { RELEASE_REASON_MESSAGE, RELEASE_REASON_MIN } from "./order-schema";
 import { DomainError, type DomainErrorOptions } from "~/utils/failure.server";
 
 export const ORDER_ROLES = ["owner", "optometrist", "receptionist"] as const;
-/** Who may release spectacles that failed the check (an optician's decision). */
+/** Who may release spectacles that failed the check (a registered practitioner's decision). */
 export const OVERRIDE_ROLES = ["owner", "optometrist"] as const;
+export const RELEASE_ROLE_MESSAGE =
+  "Only an optometrist or the practice owner can release spectacles that failed the check; send them for a remake or ask one of them.";
 
 /** A refusal meant for the person; `field` names the form field it belongs to. */
 /** A refused order rule; 409 unless said otherwise. */
@@ -739,42 +742,71 @@ export async function recordCheck(
 }
 
 /** Checked (or received, for contact lenses) → ready to collect; e-mails the patient if they accept e-mails. */
-export async function markReady(
+export async function markReady(user: SessionUser, orderId: string, expected: OrderState, request?: Request) {
+  await toReady(user, orderId, expected, null, request);
+}
+
+/**
+ * Releases spectacles whose last check failed: checked → ready to collect, with the reason kept on
+ * the order, in its history and in the audit log. Only an optometrist or the owner may (the
+ * practitioner who releases takes responsibility for it under local rules); the reason is required.
+ */
+export async function releaseFailedCheck(user: SessionUser, orderId: string, reason: string, request?: Request) {
+  if (!(OVERRIDE_ROLES as readonly string[]).includes(user.role))
+    throw new OrderError(RELEASE_ROLE_MESSAGE, { status: 403 });
+  const why = reason.trim();
+  if (why.length < RELEASE_REASON_MIN) throw new OrderError(RELEASE_REASON_MESSAGE, { status: 400, field: "reason" });
+  await toReady(user, orderId, "checked", why, request);
+}
+
+async function toReady(
   user: SessionUser,
   orderId: string,
   expected: OrderState,
-  overrideReason: string,
+  releaseReason: string | null,
   request?: Request,
 ) {
   let messageId = "";
   await move(user, orderId, expected, "ready_to_collect", {
     request,
-    reason: overrideReason,
+    reason: releaseReason ? `Released despite a failed check: ${releaseReason}` : "",
     also: async (tx, o) => {
       if (o.kind === "spectacles") {
         const [last] = await tx
-          .select({ pass: orderChecks.pass })
+          .select({ id: orderChecks.id, pass: orderChecks.pass, standard: orderChecks.standard })
           .from(orderChecks)
           .where(eq(orderChecks.orderId, orderId))
           .orderBy(desc(orderChecks.at))
           .limit(1);
         if (!last) throw new OrderError("Check the spectacles on the lensmeter first.", { status: 409 });
-        if (!last.pass) {
-          if (!(OVERRIDE_ROLES as readonly string[]).includes(user.role))
-            throw new OrderError(
-              "These spectacles failed the check. Only an optician or optometrist can release them, with a reason; otherwise send them for a remake.",
-              { status: 403 },
-            );
-          if (overrideReason.trim().length < 5)
-            throw new OrderError("Give the reason for releasing spectacles that failed the check.", {
-              status: 400,
-              field: "overrideReason",
-            });
-          await tx
-            .update(opticalOrders)
-            .set({ overrideReason: overrideReason.trim() })
-            .where(eq(opticalOrders.id, orderId));
+        if (!last.pass && releaseReason === null)
+          throw new OrderError(
+            "These spectacles failed the check. Send them for a remake, or an optometrist or the owner may release them with a reason.",
+            { status: 409 },
+          );
+        if (last.pass && releaseReason !== null)
+          throw new OrderError("These spectacles passed the check; mark them ready to collect instead.", {
+            status: 409,
+          });
+        if (releaseReason !== null) {
+          await tx.update(opticalOrders).set({ overrideReason: releaseReason }).where(eq(opticalOrders.id, orderId));
+          await audit(
+            {
+              action: "order.check_released",
+              actorUserId: user.id,
+              entityType: "optical_order",
+              entityId: orderId,
+              patientId: o.patientId,
+              detail: { checkId: last.id, standard: last.standard, reason: releaseReason },
+              request,
+            },
+            tx,
+          );
         }
+      } else if (releaseReason !== null) {
+        throw new OrderError("Contact lenses are not checked on the lensmeter, so there is nothing to release.", {
+          status: 409,
+        });
       }
       messageId = await queueOrderMessage(tx, orderId, "patient_ready", null);
     },

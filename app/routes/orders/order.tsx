@@ -3,11 +3,9 @@ import { eq } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import type { Route } from "./+types/order";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
-import { ErrorList } from "~/components/forms";
 import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
-import { Input, Select, Textarea } from "~/components/ui/input";
 import { Notice, StatusBadge } from "~/components/ui/notice";
 import { invoices } from "~/db/schema";
 import { formatMoney } from "~/lib/format";
@@ -26,6 +24,8 @@ import {
   practiceOrderSettings,
   raiseOrderInvoice,
   recordCheck,
+  releaseFailedCheck,
+  RELEASE_ROLE_MESSAGE,
   sendToLab,
 } from "~/models/orders/orders.server";
 import { invoiceLabel } from "~/models/billing/invoices.server";
@@ -37,6 +37,7 @@ import { notFound } from "~/utils/failure.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { checkSchema, moveSchema } from "~/models/orders/order-schema";
 import { CheckReport, EyeReadingFields, OrderHistory, OrderInvoice, OrderSummary, tone } from "./order-parts";
+import { NextSteps } from "./order-steps";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, ORDER_ROLES);
@@ -117,10 +118,14 @@ export async function action({ request, params }: Route.ActionArgs) {
           : {
               kind: "warning",
               title: `Failed the check (${report.standard})`,
-              description: "See the report. Send for a remake, or an optician may release it with a reason.",
+              description:
+                "See the report. Send for a remake, or an optometrist or the owner may release it with a reason.",
             },
       );
     }
+    // Releasing a failed check is refused by role before anything else is read.
+    if (intent === "release" && !(OVERRIDE_ROLES as readonly string[]).includes(user.role))
+      return fail(403, { message: RELEASE_ROLE_MESSAGE });
     const submission = parseWithZod(formData, { schema: moveSchema });
     if (submission.status !== "success")
       return fail(400, { fieldErrors: (submission.reply().error ?? {}) as Record<string, string[]> });
@@ -137,11 +142,18 @@ export async function action({ request, params }: Route.ActionArgs) {
         await markReceived(user, id, request);
         return redirectWithToast(`/orders/${id}`, { kind: "success", title: "Marked received from the lab" });
       case "ready":
-        await markReady(user, id, v.expected, v.overrideReason, request);
+        await markReady(user, id, v.expected, request);
         return redirectWithToast(`/orders/${id}`, {
           kind: "success",
           title: "Ready to collect",
           description: "The patient is told by e-mail if they accept e-mails.",
+        });
+      case "release":
+        await releaseFailedCheck(user, id, v.reason, request);
+        return redirectWithToast(`/orders/${id}`, {
+          kind: "warning",
+          title: "Released despite the failed check: ready to collect",
+          description: "Your reason is in the order's history. The patient is told by e-mail if they accept e-mails.",
         });
       case "remake":
         await markRemake(user, id, v.expected, v.reason, request);
@@ -199,38 +211,6 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
   const pending = (intent: string) =>
     navigation.state === "submitting" && navigation.formData?.get("intent") === intent;
   const lastCheck = d.checks[0];
-  const balance = d.invoice ? d.invoice.totalMinor - d.invoice.paidMinor : 0;
-  const move = (
-    intent: string,
-    text: string,
-    extra?: React.ReactNode,
-    variant: "primary" | "secondary" | "danger" = "primary",
-  ) => (
-    <Form method="post" className="space-y-2">
-      <input type="hidden" name="intent" value={intent} />
-      <input type="hidden" name="expected" value={state} />
-      {extra}
-      <Button type="submit" variant={variant} pending={pending(intent)}>
-        {text}
-      </Button>
-    </Form>
-  );
-  const reasonField = (intent: string, label: string) => (
-    <div>
-      <label htmlFor={`${intent}-reason`} className="mb-1 block text-sm font-semibold">
-        {label}
-      </label>
-      <Textarea
-        id={`${intent}-reason`}
-        name="reason"
-        rows={2}
-        aria-invalid={errorsFor(intent).reason ? true : undefined}
-        aria-describedby={errorsFor(intent).reason ? `${intent}-reason-error` : undefined}
-      />
-      <ErrorList id={`${intent}-reason-error`} errors={errorsFor(intent).reason} />
-    </div>
-  );
-  const open = state !== "collected" && state !== "cancelled";
   return (
     <>
       <PageHeader
@@ -301,89 +281,7 @@ export default function OrderPage({ loaderData: d, actionData }: Route.Component
           <OrderHistory d={d} />
         </div>
         <div className="space-y-6">
-          <Card title="Next step">
-            <div className="space-y-4">
-              {state === "draft" || state === "remake"
-                ? move("send", state === "remake" ? "Send the remake to the lab" : "Send to the lab")
-                : null}
-              {state === "sent_to_lab" ? move("received", "Mark received from the lab") : null}
-              {state === "checked" || (state === "received" && d.order.kind === "contact_lenses")
-                ? move(
-                    "ready",
-                    "Mark ready to collect",
-                    lastCheck && !lastCheck.pass && d.canOverride ? (
-                      <div>
-                        <label htmlFor="overrideReason" className="mb-1 block text-sm font-semibold">
-                          Reason for releasing despite the failed check
-                        </label>
-                        <Textarea
-                          id="overrideReason"
-                          name="overrideReason"
-                          rows={2}
-                          aria-invalid={errorsFor("ready").overrideReason ? true : undefined}
-                          aria-describedby={errorsFor("ready").overrideReason ? "overrideReason-error" : undefined}
-                        />
-                        <ErrorList id="overrideReason-error" errors={errorsFor("ready").overrideReason} />
-                      </div>
-                    ) : lastCheck && !lastCheck.pass ? (
-                      <p className="text-sm">
-                        These spectacles failed the check: send them for a remake, or ask an optician or optometrist to
-                        release them with a reason.
-                      </p>
-                    ) : null,
-                  )
-                : null}
-              {state === "ready_to_collect"
-                ? move(
-                    "collect",
-                    "Mark collected",
-                    d.invoice ? (
-                      <div className="space-y-2">
-                        <p className="text-sm">
-                          Balance on {d.invoice.label}:{" "}
-                          <span className="font-semibold">{formatMoney(balance, d.currency)}</span>
-                        </p>
-                        {balance > 0 ? (
-                          <>
-                            <div>
-                              <label htmlFor="collect-amount" className="mb-1 block text-sm font-semibold">
-                                Take now ({d.currency})
-                              </label>
-                              <Input
-                                id="collect-amount"
-                                name="amount"
-                                type="text"
-                                inputMode="decimal"
-                                defaultValue={(balance / 100).toFixed(2)}
-                                aria-invalid={errorsFor("collect").amount ? true : undefined}
-                                aria-describedby={errorsFor("collect").amount ? "collect-amount-error" : undefined}
-                              />
-                              <ErrorList id="collect-amount-error" errors={errorsFor("collect").amount} />
-                            </div>
-                            <div>
-                              <label htmlFor="collect-method" className="mb-1 block text-sm font-semibold">
-                                Paid by
-                              </label>
-                              <Select id="collect-method" name="method" defaultValue="card_desk">
-                                <option value="card_desk">Card at the desk</option>
-                                <option value="cash">Cash</option>
-                              </Select>
-                            </div>
-                          </>
-                        ) : null}
-                      </div>
-                    ) : null,
-                  )
-                : null}
-              {["received", "checked", "ready_to_collect"].includes(state)
-                ? move("remake", "Send for a remake", reasonField("remake", "Reason for the remake"), "secondary")
-                : null}
-              {open && state !== "ready_to_collect"
-                ? move("cancel", "Cancel the order", reasonField("cancel", "Reason for cancelling"), "danger")
-                : null}
-              {!open ? <p className="text-sm text-muted">Nothing more to do.</p> : null}
-            </div>
-          </Card>
+          <NextSteps d={d} errorsFor={errorsFor} />
           <OrderInvoice d={d} pending={pending("raise-invoice")} />
         </div>
       </div>

@@ -21,6 +21,7 @@ import {
 import { documentsPage } from "~/models/patients/documents.server";
 import { ageInYears, formatDate, formatMoney } from "~/lib/format";
 import { prescriptionsOf } from "~/models/prescriptions/prescriptions.server";
+import { ORDER_ROLES } from "~/models/orders/orders.server";
 import { PortalInviteButton } from "~/components/portal-invite-button";
 import { ChartReferrals } from "~/components/referrals/chart-referrals";
 import { gpLine, referralsForChart } from "~/models/referrals/referrals.server";
@@ -60,6 +61,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     balanceOf(p.id),
   ]);
   const canBill = user.role === "owner" || user.role === "receptionist";
+  const canOrder = (ORDER_ROLES as readonly string[]).includes(user.role);
   const demographics = {
     id: p.id,
     firstName: p.firstName,
@@ -83,6 +85,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       prescriptions: rx,
       balance,
       canBill,
+      canOrder,
     };
   }
   const [exams, documents, history, prompts, referrals] = await clinicalData!;
@@ -99,6 +102,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     prescriptions: rx,
     balance,
     canBill,
+    canOrder,
     exams,
     documents,
     history,
@@ -198,12 +202,23 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
                       {e.addPower ? ` add +${e.addPower.toFixed(2)}` : ""}
                     </p>
                   ))}
-                  <a
-                    href={`/patients/${p.id}/prescriptions/${r.id}/pdf`}
-                    className="mt-1 inline-block font-semibold text-accent-800 underline"
-                  >
-                    Print (PDF)
-                  </a>
+                  <p className="mt-1 flex flex-wrap gap-x-4">
+                    <a
+                      href={`/patients/${p.id}/prescriptions/${r.id}/pdf`}
+                      className="font-semibold text-accent-800 underline"
+                    >
+                      Print (PDF)
+                    </a>
+                    {d.canOrder ? (
+                      <Link
+                        to={`/orders/new?patientId=${p.id}&prescriptionId=${r.id}`}
+                        className="font-semibold text-accent-800 underline"
+                        aria-label={`New optical order from the ${r.kind === "spectacle" ? "spectacle" : "contact-lens"} prescription of ${formatDate(r.issuedAt.slice(0, 10))}`}
+                      >
+                        New optical order
+                      </Link>
+                    ) : null}
+                  </p>
                 </li>
               ))}
             </ul>
