@@ -1,5 +1,4 @@
 import { parseWithZod } from "@conform-to/zod/v4";
-import { useEffect, useRef } from "react";
 import { data, Form, Link, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/book";
@@ -24,6 +23,9 @@ const bookSchema = z.object({
   /** "review" shows the chosen time for a check; only "confirm" books it. */
   step: z.enum(["review", "confirm"]).default("review"),
 });
+
+/** Sent as plain HTML, without scripts: choosing a day is a GET form, a time and its check are posts. */
+export const handle = { hydrate: false };
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requirePortalPatient(request);
@@ -136,10 +138,6 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
   const chosen = review ? slots.find((s) => s.providerId === review.providerId && s.start === review.start) : undefined;
   const chosenType = review ? types.find((t) => t.id === review.appointmentTypeId) : undefined;
   const chosenSite = review ? sites.find((x) => x.id === review.siteId) : undefined;
-  const confirmRef = useRef<HTMLHeadingElement>(null);
-  useEffect(() => {
-    if (review) confirmRef.current?.focus();
-  }, [review]);
   return (
     <div className="mx-auto max-w-2xl space-y-6">
       <PageHeader
@@ -204,7 +202,7 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
               className="rounded-lg border-2 border-accent-700 bg-white p-5 shadow-sm"
               data-testid="booking-review"
             >
-              <h2 id="confirm-heading" ref={confirmRef} tabIndex={-1} className="text-lg font-semibold">
+              <h2 id="confirm-heading" tabIndex={-1} autoFocus className="text-lg font-semibold">
                 Check and confirm your visit
               </h2>
               <dl className="mt-3 grid grid-cols-[8rem_1fr] gap-x-4 gap-y-1 text-sm">
