@@ -188,7 +188,7 @@ function VisitCard({
           className="mt-3 rounded-md border-2 border-red-300 p-3"
           data-testid="cancel-review"
         >
-          <h3 id={`cancel-${visit.id}-heading`} tabIndex={-1} autoFocus className="font-semibold">
+          <h3 id={`cancel-${visit.id}-heading`} className="font-semibold">
             Cancel this visit?
           </h3>
           <p className="mt-1 text-sm">
