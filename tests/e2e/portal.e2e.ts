@@ -132,7 +132,7 @@ describe("the patient portal on a phone", () => {
     await phone.getByRole("button", { name: "Book this visit" }).click();
     await expect.poll(() => phone.getByTestId("toast").textContent()).toContain("Your visit is booked");
     expect(await countVisits()).toBe(2);
-    const [booked] = await q<{ id: string }>(
+    const [justBooked] = await q<{ id: string }>(
       "select id from appointments where patient_id = $1 and starts_at > now() + interval '45 days' and status <> 'cancelled'",
       [patient.id],
     );
@@ -164,9 +164,9 @@ describe("the patient portal on a phone", () => {
     await expectAccessible(desk);
 
     // Cancel the visit just booked: the page asks first, and nothing changes until the patient confirms.
-    const bookedVisit = phone.locator(`#visit-${booked!.id}`);
+    const bookedVisit = phone.locator(`#visit-${justBooked!.id}`);
     await bookedVisit.getByRole("link", { name: "Cancel visit" }).click();
-    await phone.waitForURL((u) => u.searchParams.get("cancel") === booked!.id);
+    await phone.waitForURL((u) => u.searchParams.get("cancel") === justBooked!.id);
     await expect.poll(() => bookedVisit.getByRole("heading", { name: "Cancel this visit?" }).count()).toBe(1);
     expect(await countVisits()).toBe(2);
     await expectAccessible(phone);

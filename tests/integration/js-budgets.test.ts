@@ -13,7 +13,7 @@ import { existsSync, readdirSync, readFileSync } from "node:fs";
 import path from "node:path";
 import { gzipSync } from "node:zlib";
 import { and, ne } from "drizzle-orm";
-import { describe, expect, it } from "vitest";
+import { beforeAll, describe, expect, it } from "vitest";
 import { invoices } from "~/db/schema";
 import { signPayLink } from "~/models/billing/checkout.server";
 import { db } from "~/utils/db.server";
@@ -105,6 +105,11 @@ export function firstLoadSizes(clientDir: string, unhydrated: Set<string>) {
 
 /** The module scripts and preloads React Router writes into a hydrated page's HTML. */
 const SCRIPT_TAGS = /<script[^>]*type="module"|<link[^>]*rel="modulepreload"/g;
+
+// The server build is one large module: load it once, before the tests (within the hook's time limit).
+beforeAll(async () => {
+  if (existsSync(clientDir)) await serverBuild();
+});
 
 describe("first-load JavaScript per page (gzipped) stays within its budget", () => {
   it("the client build exists (npm test builds it before the tests)", () => {
