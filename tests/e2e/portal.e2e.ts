@@ -127,11 +127,11 @@ describe("the patient portal on a phone", () => {
           [patient.id],
         )
       )[0]!.n;
-    expect(await countVisits()).toBe(1);
+    const visitsBefore = await countVisits();
     await expectAccessible(phone);
     await phone.getByRole("button", { name: "Book this visit" }).click();
     await expect.poll(() => phone.getByTestId("toast").textContent()).toContain("Your visit is booked");
-    expect(await countVisits()).toBe(2);
+    expect(await countVisits()).toBe(visitsBefore + 1);
     const [justBooked] = await q<{ id: string }>(
       "select id from appointments where patient_id = $1 and starts_at > now() + interval '45 days' and status <> 'cancelled'",
       [patient.id],
@@ -140,7 +140,7 @@ describe("the patient portal on a phone", () => {
     // Ask to move the first visit, by keyboard: the disclosure opens with Enter; a blank request is
     // refused on the same page with the reason by the field; the request shows on the front desk's day list.
     const [firstBooked] = await q<{ id: string }>(
-      "select id from appointments where patient_id = $1 and status <> 'cancelled' order by starts_at limit 1",
+      "select id from appointments where patient_id = $1 and starts_at > now() and status in ('booked', 'confirmed') order by starts_at limit 1",
       [patient.id],
     );
     const firstVisit = phone.locator(`#visit-${firstBooked!.id}`);
@@ -168,11 +168,11 @@ describe("the patient portal on a phone", () => {
     await bookedVisit.getByRole("link", { name: "Cancel visit" }).click();
     await phone.waitForURL((u) => u.searchParams.get("cancel") === justBooked!.id);
     await expect.poll(() => bookedVisit.getByRole("heading", { name: "Cancel this visit?" }).count()).toBe(1);
-    expect(await countVisits()).toBe(2);
+    expect(await countVisits()).toBe(visitsBefore + 1);
     await expectAccessible(phone);
     await bookedVisit.getByRole("button", { name: "Yes, cancel it" }).click();
     await expect.poll(() => phone.getByTestId("toast").textContent()).toContain("Your visit is cancelled");
-    expect(await countVisits()).toBe(1);
+    expect(await countVisits()).toBe(visitsBefore);
 
     // Pay the open invoice on the stand-in's checkout page.
     await phone.getByRole("link", { name: "Invoices and payments" }).click();
