@@ -6,7 +6,8 @@ type Toast = { kind: "success" | "info" | "warning" | "error"; title: string; de
 /**
  * Shows the flash message of the last action at the top of the page, in the page's own flow: it
  * pushes the page down rather than lying over it, so it never hides what it reports on (a flash
- * follows a redirect, which scrolls to the top). It stays until dismissed or the next navigation.
+ * follows a redirect, which scrolls to the top). It stays until dismissed or the next navigation;
+ * a page sent without scripts (`dismissible` false) shows it without the dismiss button.
  */
 export function ToastViewport({ toast, dismissible = true }: { toast: Toast | null; dismissible?: boolean }) {
   const [visible, setVisible] = useState<Toast | null>(toast);
