@@ -93,8 +93,17 @@ describe("the patient portal on a phone", () => {
     await expectAccessible(phone);
     await screenshot(phone, "portal-home-phone");
 
-    // The sign-in page is hydrated, so it reached the portal in React; a fresh load of the portal is
-    // plain HTML: no script in the page and no JavaScript fetched from the app while the patient uses it.
+    // The sign-in page is hydrated, so it reached the portal in React, where asking to move a visit works too.
+    const scriptsInPage = () => phone.evaluate(() => document.scripts.length);
+    expect(await scriptsInPage()).toBeGreaterThan(0);
+    await phone.locator("summary", { hasText: "Ask to move it" }).first().click();
+    await phone.getByLabel("When would suit you instead?").first().fill("Mornings before ten");
+    await phone.getByRole("button", { name: "Send request" }).first().click();
+    await expect.poll(() => phone.getByTestId("toast").textContent()).toContain("Request sent to the front desk");
+    await expect.poll(() => phone.getByText("You asked to move this visit: “Mornings before ten”").count()).toBe(1);
+
+    // A fresh load of the portal is plain HTML: no script in the page, and no JavaScript fetched from
+    // the app while the patient uses it.
     const scriptsLoaded: string[] = [];
     const appOrigin = new URL(baseUrl()).origin;
     phone.on("request", (r) => {
@@ -102,7 +111,6 @@ describe("the patient portal on a phone", () => {
       if (url.origin === appOrigin && (r.resourceType() === "script" || /\.m?js$/.test(url.pathname)))
         scriptsLoaded.push(url.pathname);
     });
-    const scriptsInPage = () => phone.evaluate(() => document.scripts.length);
     await phone.goto("/portal");
     await ready(phone);
     expect(await scriptsInPage()).toBe(0);
