@@ -1,4 +1,4 @@
-import { data, Links, Meta, Outlet, Scripts, ScrollRestoration, useRouteLoaderData } from "react-router";
+import { data, Links, Meta, Outlet, Scripts, ScrollRestoration, useMatches, useRouteLoaderData } from "react-router";
 import type { Route } from "./+types/root";
 import "./app.css";
 import { GeneralErrorBoundary } from "./components/error-boundary";
@@ -55,9 +55,22 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export const links: Route.LinksFunction = () => [{ rel: "icon", href: "/favicon.svg", type: "image/svg+xml" }];
 
+/**
+ * A route that works as plain HTML (its forms post, its links load the next page) says so with
+ * `export const handle = { hydrate: false }`: a page with such a route among its matches is sent
+ * without React Router's scripts, so the browser loads no JavaScript for it. In a browser that is
+ * already running the app (it came from a hydrated page), the same route renders in React as usual.
+ */
+function useHydrates() {
+  const matches = useMatches();
+  if (typeof document !== "undefined") return true;
+  return !matches.some((m) => (m.handle as { hydrate?: boolean } | undefined)?.hydrate === false);
+}
+
 export function Layout({ children }: { children: React.ReactNode }) {
   const root = useRouteLoaderData<typeof loader>("root");
   const nonce = useNonce();
+  const hydrates = useHydrates();
   return (
     <html lang="en-GB">
       <head>
@@ -73,10 +86,14 @@ export function Layout({ children }: { children: React.ReactNode }) {
         >
           Skip to content
         </a>
-        <ToastViewport toast={root?.toast ?? null} />
+        <ToastViewport toast={root?.toast ?? null} dismissible={hydrates} />
         {children}
-        <ScrollRestoration nonce={nonce} />
-        <Scripts nonce={nonce} />
+        {hydrates ? (
+          <>
+            <ScrollRestoration nonce={nonce} />
+            <Scripts nonce={nonce} />
+          </>
+        ) : null}
       </body>
     </html>
   );

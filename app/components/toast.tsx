@@ -6,9 +6,10 @@ type Toast = { kind: "success" | "info" | "warning" | "error"; title: string; de
 /**
  * Shows the flash message of the last action at the top of the page, in the page's own flow: it
  * pushes the page down rather than lying over it, so it never hides what it reports on (a flash
- * follows a redirect, which scrolls to the top). It stays until dismissed or the next navigation.
+ * follows a redirect, which scrolls to the top). It stays until dismissed or the next navigation;
+ * a page sent without scripts (`dismissible` false) shows it without the dismiss button.
  */
-export function ToastViewport({ toast }: { toast: Toast | null }) {
+export function ToastViewport({ toast, dismissible = true }: { toast: Toast | null; dismissible?: boolean }) {
   const [visible, setVisible] = useState<Toast | null>(toast);
   // A new flash message replaces the shown one (state adjusted while rendering, as React advises).
   const [shownFor, setShownFor] = useState(toast);
@@ -23,14 +24,16 @@ export function ToastViewport({ toast }: { toast: Toast | null }) {
         <Notice tone={visible.kind} title={visible.title}>
           {visible.description}
         </Notice>
-        <button
-          type="button"
-          onClick={() => setVisible(null)}
-          className="absolute top-2 right-2 rounded px-2 text-sm font-semibold"
-          aria-label="Dismiss message"
-        >
-          ✕
-        </button>
+        {dismissible ? (
+          <button
+            type="button"
+            onClick={() => setVisible(null)}
+            className="absolute top-2 right-2 rounded px-2 text-sm font-semibold"
+            aria-label="Dismiss message"
+          >
+            ✕
+          </button>
+        ) : null}
       </div>
     </div>
   );

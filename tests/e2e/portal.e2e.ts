@@ -5,7 +5,7 @@ import { join } from "node:path";
 import pg from "pg";
 import type { Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, inject, it } from "vitest";
-import { DEMO, expectAccessible, mailTo, screenshot, signIn, useBrowser } from "./fixtures";
+import { baseUrl, DEMO, expectAccessible, mailTo, screenshot, signIn, useBrowser } from "./fixtures";
 
 const browser = useBrowser();
 const PHONE = { width: 390, height: 844 };
@@ -93,16 +93,95 @@ describe("the patient portal on a phone", () => {
     await expectAccessible(phone);
     await screenshot(phone, "portal-home-phone");
 
-    // Ask to move the visit; the request shows on the front desk's day list.
-    await phone.getByRole("button", { name: "Ask to move it" }).first().click();
-    await phone.getByLabel("When would suit you instead?").fill("Any Thursday afternoon");
-    await phone.getByRole("button", { name: "Send request" }).click();
+    // The sign-in page is hydrated, so it reached the portal in React, where asking to move a visit works too.
+    const scriptsInPage = () => phone.evaluate(() => document.scripts.length);
+    expect(await scriptsInPage()).toBeGreaterThan(0);
+    await phone.locator("summary", { hasText: "Ask to move it" }).first().click();
+    await phone.getByLabel("When would suit you instead?").first().fill("Mornings before ten");
+    await phone.getByRole("button", { name: "Send request" }).first().click();
     await expect.poll(() => phone.getByTestId("toast").textContent()).toContain("Request sent to the front desk");
+    await expect.poll(() => phone.getByText("You asked to move this visit: “Mornings before ten”").count()).toBe(1);
+
+    // A fresh load of the portal is plain HTML: no script in the page, and no JavaScript fetched from
+    // the app while the patient uses it.
+    const scriptsLoaded: string[] = [];
+    const appOrigin = new URL(baseUrl()).origin;
+    phone.on("request", (r) => {
+      const url = new URL(r.url());
+      if (url.origin === appOrigin && (r.resourceType() === "script" || /\.m?js$/.test(url.pathname)))
+        scriptsLoaded.push(url.pathname);
+    });
+    await phone.goto("/portal");
+    await ready(phone);
+    expect(await scriptsInPage()).toBe(0);
+    expect(await phone.getByRole("heading", { level: 1 }).textContent()).toBe(`Hello, ${patient.first_name}`);
+
+    // Book a visit: a time asks for a check first, and only "Book this visit" books it.
+    await phone.getByRole("link", { name: "Book an eye exam" }).click();
+    await phone.waitForURL("**/portal/book");
+    const bookDay = new Date(Date.now() + 50 * 86_400_000);
+    while (bookDay.getUTCDay() !== 2) bookDay.setUTCDate(bookDay.getUTCDate() + 1);
+    await phone.getByLabel("Day").fill(bookDay.toISOString().slice(0, 10));
+    await phone.getByRole("button", { name: "Show free times" }).click();
+    await phone.waitForURL((u) => u.searchParams.get("date") === bookDay.toISOString().slice(0, 10));
+    expect(await scriptsInPage()).toBe(0);
+    const countVisits = async () =>
+      (
+        await q<{ n: number }>(
+          "select count(*)::int as n from appointments where patient_id = $1 and status <> 'cancelled'",
+          [patient.id],
+        )
+      )[0]!.n;
+    const visitsBefore = await countVisits();
+    await phone.getByRole("listitem").getByRole("button", { name: /with / }).first().click();
+    await expect.poll(() => phone.getByRole("heading", { name: "Check and confirm your visit" }).count()).toBe(1);
+    expect(await scriptsInPage()).toBe(0);
+    expect(await countVisits()).toBe(visitsBefore);
+    await expectAccessible(phone);
+    await phone.getByRole("button", { name: "Book this visit" }).click();
+    await expect.poll(() => phone.getByTestId("toast").textContent()).toContain("Your visit is booked");
+    expect(await countVisits()).toBe(visitsBefore + 1);
+    const [justBooked] = await q<{ id: string }>(
+      "select id from appointments where patient_id = $1 and starts_at > now() + interval '45 days' and status <> 'cancelled'",
+      [patient.id],
+    );
+
+    // Ask to move the first visit, by keyboard: the disclosure opens with Enter; a blank request is
+    // refused on the same page with the reason by the field; the request shows on the front desk's day list.
+    const [firstBooked] = await q<{ id: string }>(
+      "select id from appointments where patient_id = $1 and starts_at > now() and status in ('booked', 'confirmed') order by starts_at limit 1",
+      [patient.id],
+    );
+    const firstVisit = phone.locator(`#visit-${firstBooked!.id}`);
+    await firstVisit.locator("summary", { hasText: "Ask to move it" }).focus();
+    await phone.keyboard.press("Enter");
+    await firstVisit.getByLabel("When would suit you instead?").fill("   ");
+    await firstVisit.getByRole("button", { name: "Send request" }).click();
+    await expect.poll(() => firstVisit.getByText("Say when would suit you instead.").count()).toBe(1);
+    const refusedVisit = firstVisit;
+    expect(await refusedVisit.getByLabel("When would suit you instead?").getAttribute("aria-invalid")).toBe("true");
+    await expectAccessible(phone);
+    await refusedVisit.getByLabel("When would suit you instead?").fill("Any Thursday afternoon");
+    await refusedVisit.getByLabel("When would suit you instead?").press("Tab");
+    await phone.keyboard.press("Enter");
+    await expect.poll(() => phone.getByTestId("toast").textContent()).toContain("Request sent to the front desk");
+    expect(await scriptsInPage()).toBe(0);
     await desk.goto("/schedule/day");
     await expect
       .poll(() => desk.getByRole("region", { name: /Patients asking to move a visit/ }).textContent())
       .toContain("Any Thursday afternoon");
     await expectAccessible(desk);
+
+    // Cancel the visit just booked: the page asks first, and nothing changes until the patient confirms.
+    const bookedVisit = phone.locator(`#visit-${justBooked!.id}`);
+    await bookedVisit.getByRole("link", { name: "Cancel visit" }).click();
+    await phone.waitForURL((u) => u.searchParams.get("cancel") === justBooked!.id);
+    await expect.poll(() => bookedVisit.getByRole("heading", { name: "Cancel this visit?" }).count()).toBe(1);
+    expect(await countVisits()).toBe(visitsBefore + 1);
+    await expectAccessible(phone);
+    await bookedVisit.getByRole("button", { name: "Yes, cancel it" }).click();
+    await expect.poll(() => phone.getByTestId("toast").textContent()).toContain("Your visit is cancelled");
+    expect(await countVisits()).toBe(visitsBefore);
 
     // Pay the open invoice on the stand-in's checkout page.
     await phone.getByRole("link", { name: "Invoices and payments" }).click();
@@ -116,14 +195,18 @@ describe("the patient portal on a phone", () => {
       .click();
     await phone.waitForURL("**/pay/**");
     await ready(phone);
+    expect(await scriptsInPage()).toBe(0);
+    await expectAccessible(phone);
     await phone.getByRole("button", { name: /^Pay £.* by card$/ }).click();
     await phone.waitForURL((u) => u.port === String(inject("stripePort")) && u.pathname.startsWith("/checkout/"));
     await phone.getByLabel("Card number").fill("4242 4242 4242 4242");
     await phone.getByRole("button", { name: /^Pay £/ }).click();
     await phone.waitForURL((u) => u.pathname.startsWith("/pay/") && u.searchParams.get("checkout") === "done");
+    // Until the payment service's webhook arrives, the page reloads itself (no script).
     await expect
       .poll(() => phone.getByRole("status").filter({ hasText: "Paid — thank you" }).count(), { timeout: 15_000 })
       .toBe(1);
+    expect(await scriptsInPage()).toBe(0);
     await phone.goto("/portal/invoices");
     await expect.poll(() => phone.getByText("Paid", { exact: true }).count()).toBeGreaterThan(0);
     await expect.poll(() => phone.getByRole("link", { name: "Receipt (PDF)" }).count()).toBeGreaterThan(0);
@@ -154,6 +237,8 @@ describe("the patient portal on a phone", () => {
     await expect.poll(() => phone.getByTestId("toast").textContent()).toContain("Your reminder choices are saved");
     expect(await phone.getByLabel("Appointment e-mails").isChecked()).toBe(false);
     await screenshot(phone, "portal-reminders-phone");
+    expect(await scriptsInPage()).toBe(0);
+    expect(scriptsLoaded).toEqual([]);
 
     // A later booking's confirmation and reminder jobs send this patient nothing.
     const optom = await q<{ id: string }>("select id from users where email = $1", [DEMO.optometrist]);
@@ -185,7 +270,7 @@ describe("the patient portal on a phone", () => {
       .toEqual(["skipped"]);
     const sent = await mailTo(patient.email);
     expect(sent.filter((m) => /confirm/i.test(m.subject))).toHaveLength(0);
-  });
+  }, 180_000);
 
   it("lets a patient ask for a sign-in link instead of a password", async () => {
     const phone = await browser.newPage({ viewport: PHONE });

@@ -148,6 +148,11 @@ describe("the portal reaches only the signed-in patient's own rows", () => {
       dataOf(await run(rxListLoader, makeRequest("/portal/prescriptions", { cookie }))),
     ]);
     expect(lists).not.toContain(theirVisit.id);
+    expect(
+      dataOf<{ cancelling: string | null }>(
+        await run(homeLoader, makeRequest(`/portal?cancel=${theirVisit.id}`, { cookie })),
+      ).cancelling,
+    ).toBeNull();
     expect(lists).not.toContain(theirInvoice.id);
     expect(lists).not.toContain(other.lastName);
   });
@@ -167,6 +172,12 @@ describe("the patient's own visits", () => {
     const cookie = await cookieFor("patient");
     const me = await demoPatientId();
     const later = await visit(me, 24 * 40);
+    // The check before cancelling is asked for the patient's own cancellable visit only.
+    const asking = (id: string) =>
+      run(homeLoader, makeRequest(`/portal?cancel=${id}`, { cookie })).then(
+        (r) => dataOf<{ cancelling: string | null }>(r).cancelling,
+      );
+    expect(await asking(later.id)).toBe(later.id);
     expect(
       statusOf(
         await run(homeAction, makeRequest("/portal", { cookie, form: { intent: "cancel", appointmentId: later.id } })),
@@ -181,6 +192,7 @@ describe("the patient's own visits", () => {
       homeAction,
       makeRequest("/portal", { cookie, form: { intent: "cancel", appointmentId: soon.id } }),
     );
+    expect(await asking(soon.id)).toBeNull();
     expect(statusOf(refused)).toBe(409);
     expect(JSON.stringify(dataOf(refused))).toMatch(/until 24 hours before/);
     expect(

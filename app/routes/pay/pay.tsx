@@ -1,6 +1,5 @@
 import { createColumnHelper } from "@tanstack/react-table";
-import { useEffect } from "react";
-import { data, Form, redirect, useNavigation, useRevalidator } from "react-router";
+import { data, Form, redirect, useNavigation } from "react-router";
 import type { Route } from "./+types/pay";
 import { invoiceForToken } from "~/models/billing/pay.server";
 import { DataTable } from "~/components/data-table";
@@ -14,6 +13,15 @@ import { BillingError, invoiceLabel, practiceBilling } from "~/models/billing/in
 import { formatDate, formatMoney } from "~/lib/format";
 import { audit } from "~/utils/audit.server";
 import { getSessionUser } from "~/utils/session.server";
+
+/**
+ * Sent as plain HTML, without scripts: the Pay button is a form post, and while the payment is
+ * being confirmed the page reloads itself (a refresh meta tag).
+ */
+export const handle = { hydrate: false };
+
+/** Seconds between reloads while a payment made at the checkout waits for the provider's webhook. */
+const CONFIRM_REFRESH_SECONDS = 2;
 
 /**
  * The patient's pay-by-link page: no sign-in; the signed, expiring token in the address is the
@@ -35,6 +43,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     request,
   });
   const cur = d.invoice.currency;
+  const checkout = url.searchParams.get("checkout");
   return {
     practice: { name: practice.name, phone: practice.phone, email: practice.email },
     firstName: d.patient.firstName,
@@ -57,7 +66,9 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       quantity: l.quantity,
       amount: formatMoney(l.grossMinor, cur),
     })),
-    checkout: url.searchParams.get("checkout"),
+    checkout,
+    // Back from the checkout before the payment service's webhook has arrived.
+    confirming: checkout === "done" && d.invoice.status !== "paid" && attempt?.status === "pending",
     attempt: attempt ? { status: attempt.status, problem: attempt.problem } : null,
     linkExpires: formatDate(expiresAt, { timeZone: practice.timeZone, style: "long" }),
     pdfHref: `/pay/${params.token}/invoice.pdf`,
@@ -88,15 +99,8 @@ const lineColumns = [
 
 export default function PayPage({ loaderData: d, actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
-  const revalidator = useRevalidator();
   const paid = d.invoice.status === "paid";
-  const confirming = d.checkout === "done" && !paid && d.attempt?.status === "pending";
-  useEffect(() => {
-    // Back from the checkout before Stripe's webhook has arrived: look again every 2 seconds.
-    if (!confirming) return;
-    const t = setInterval(() => revalidator.state === "idle" && void revalidator.revalidate(), 2000);
-    return () => clearInterval(t);
-  }, [confirming, revalidator]);
+  const confirming = d.confirming;
   const declined = d.checkout === "cancelled" && d.attempt?.status === "pending" && d.attempt.problem;
   return (
     <main id="main" className="mx-auto max-w-2xl px-4 py-10 sm:px-6">
@@ -216,6 +220,8 @@ export default function PayPage({ loaderData: d, actionData }: Route.ComponentPr
 
 export const meta: Route.MetaFunction = ({ data }) => [
   { title: `Invoice ${data?.invoice.label ?? ""} · ${data?.practice.name ?? "Dioptra"}` },
+  // Look again every few seconds until the payment is confirmed.
+  ...(data?.confirming ? [{ httpEquiv: "refresh", content: String(CONFIRM_REFRESH_SECONDS) }] : []),
 ];
 
 export function ErrorBoundary() {

@@ -1,5 +1,4 @@
 import { parseWithZod } from "@conform-to/zod/v4";
-import { useEffect, useRef } from "react";
 import { data, Form, Link, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/book";
@@ -24,6 +23,9 @@ const bookSchema = z.object({
   /** "review" shows the chosen time for a check; only "confirm" books it. */
   step: z.enum(["review", "confirm"]).default("review"),
 });
+
+/** Sent as plain HTML, without scripts: choosing a day is a GET form, a time and its check are posts. */
+export const handle = { hydrate: false };
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requirePortalPatient(request);
@@ -136,10 +138,7 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
   const chosen = review ? slots.find((s) => s.providerId === review.providerId && s.start === review.start) : undefined;
   const chosenType = review ? types.find((t) => t.id === review.appointmentTypeId) : undefined;
   const chosenSite = review ? sites.find((x) => x.id === review.siteId) : undefined;
-  const confirmRef = useRef<HTMLHeadingElement>(null);
-  useEffect(() => {
-    if (review) confirmRef.current?.focus();
-  }, [review]);
+  const postTo = `/portal/book${params.size ? `?${params.toString()}` : ""}#choice`;
   return (
     <div className="mx-auto max-w-2xl space-y-6">
       <PageHeader
@@ -198,90 +197,93 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
               </Button>
             </Form>
           </Card>
-          {review && chosen ? (
-            <section
-              aria-labelledby="confirm-heading"
-              className="rounded-lg border-2 border-accent-700 bg-white p-5 shadow-sm"
-              data-testid="booking-review"
-            >
-              <h2 id="confirm-heading" ref={confirmRef} tabIndex={-1} className="text-lg font-semibold">
-                Check and confirm your visit
-              </h2>
-              <dl className="mt-3 grid grid-cols-[8rem_1fr] gap-x-4 gap-y-1 text-sm">
-                <dt className="font-semibold">Visit</dt>
-                <dd>{chosenType ? `${chosenType.name} (${chosenType.durationMinutes} min)` : "Eye exam"}</dd>
-                <dt className="font-semibold">When</dt>
-                <dd>
-                  {dayLabel}, {time.format(new Date(chosen.start))}
-                </dd>
-                <dt className="font-semibold">With</dt>
-                <dd>{chosen.providerName}</dd>
-                <dt className="font-semibold">Where</dt>
-                <dd>{chosenSite ? `${practice}, ${chosenSite.name}` : practice}</dd>
-              </dl>
-              <p className="mt-3 text-sm text-muted">
-                Nothing is booked until you press “Book this visit”. You will get a confirmation by e-mail.
-              </p>
-              <div className="mt-4 flex flex-wrap items-center gap-4">
-                <Form method="post">
-                  <input type="hidden" name="step" value="confirm" />
-                  <input type="hidden" name="appointmentTypeId" value={review.appointmentTypeId} />
-                  <input type="hidden" name="providerId" value={review.providerId} />
-                  <input type="hidden" name="start" value={review.start} />
-                  {review.siteId ? <input type="hidden" name="siteId" value={review.siteId} /> : null}
-                  <Button type="submit" pending={navigation.state !== "idle"}>
-                    Book this visit
-                  </Button>
-                </Form>
-                <Link
-                  to={`?${params.toString()}`}
-                  className="font-semibold text-accent-700 underline underline-offset-4"
-                >
-                  Choose another time
-                </Link>
-              </div>
-            </section>
-          ) : null}
-          <Card title={`Free times on ${dayLabel}`}>
-            {formError?.length ? (
-              <div className="mb-4">
-                <Notice tone="error" title="Not booked">
-                  {formError.join(" ")}
-                </Notice>
-              </div>
+          {/* The forms post to `#choice`, so the answer (the check, or why not) opens scrolled to it. */}
+          <div id="choice" className="space-y-6">
+            {review && chosen ? (
+              <section
+                aria-labelledby="confirm-heading"
+                className="rounded-lg border-2 border-accent-700 bg-white p-5 shadow-sm"
+                data-testid="booking-review"
+              >
+                <h2 id="confirm-heading" className="text-lg font-semibold">
+                  Check and confirm your visit
+                </h2>
+                <dl className="mt-3 grid grid-cols-[8rem_1fr] gap-x-4 gap-y-1 text-sm">
+                  <dt className="font-semibold">Visit</dt>
+                  <dd>{chosenType ? `${chosenType.name} (${chosenType.durationMinutes} min)` : "Eye exam"}</dd>
+                  <dt className="font-semibold">When</dt>
+                  <dd>
+                    {dayLabel}, {time.format(new Date(chosen.start))}
+                  </dd>
+                  <dt className="font-semibold">With</dt>
+                  <dd>{chosen.providerName}</dd>
+                  <dt className="font-semibold">Where</dt>
+                  <dd>{chosenSite ? `${practice}, ${chosenSite.name}` : practice}</dd>
+                </dl>
+                <p className="mt-3 text-sm text-muted">
+                  Nothing is booked until you press “Book this visit”. You will get a confirmation by e-mail.
+                </p>
+                <div className="mt-4 flex flex-wrap items-center gap-4">
+                  <Form method="post" action={postTo}>
+                    <input type="hidden" name="step" value="confirm" />
+                    <input type="hidden" name="appointmentTypeId" value={review.appointmentTypeId} />
+                    <input type="hidden" name="providerId" value={review.providerId} />
+                    <input type="hidden" name="start" value={review.start} />
+                    {review.siteId ? <input type="hidden" name="siteId" value={review.siteId} /> : null}
+                    <Button type="submit" pending={navigation.state !== "idle"}>
+                      Book this visit
+                    </Button>
+                  </Form>
+                  <Link
+                    to={`?${params.toString()}`}
+                    className="font-semibold text-accent-700 underline underline-offset-4"
+                  >
+                    Choose another time
+                  </Link>
+                </div>
+              </section>
             ) : null}
-            {slots.length ? (
-              <ul className="grid grid-cols-2 gap-2 sm:grid-cols-3">
-                {slots.map((s) => (
-                  <li key={`${s.providerId}-${s.start}`}>
-                    <Form method="post">
-                      <input type="hidden" name="step" value="review" />
-                      <input type="hidden" name="appointmentTypeId" value={typeId} />
-                      <input type="hidden" name="providerId" value={s.providerId} />
-                      <input type="hidden" name="start" value={s.start} />
-                      {siteId ? <input type="hidden" name="siteId" value={siteId} /> : null}
-                      <button
-                        type="submit"
-                        disabled={navigation.state !== "idle"}
-                        aria-pressed={chosen?.start === s.start && chosen?.providerId === s.providerId}
-                        className={buttonClass("secondary", "w-full flex-col !items-start !gap-0 text-left")}
-                      >
-                        <span className="text-base">{time.format(new Date(s.start))}</span>
-                        <span className="text-xs font-normal text-muted">with {s.providerName}</span>
-                      </button>
-                    </Form>
-                  </li>
-                ))}
-              </ul>
-            ) : (
-              <p className="text-muted">No free times that day. Try another day.</p>
-            )}
-            <p className="mt-4 text-sm">
-              <Link to="/portal" className="font-semibold text-accent-700 underline underline-offset-4">
-                Back to my visits
-              </Link>
-            </p>
-          </Card>
+            <Card title={`Free times on ${dayLabel}`}>
+              {formError?.length ? (
+                <div className="mb-4">
+                  <Notice tone="error" title="Not booked">
+                    {formError.join(" ")}
+                  </Notice>
+                </div>
+              ) : null}
+              {slots.length ? (
+                <ul className="grid grid-cols-2 gap-2 sm:grid-cols-3">
+                  {slots.map((s) => (
+                    <li key={`${s.providerId}-${s.start}`}>
+                      <Form method="post" action={postTo}>
+                        <input type="hidden" name="step" value="review" />
+                        <input type="hidden" name="appointmentTypeId" value={typeId} />
+                        <input type="hidden" name="providerId" value={s.providerId} />
+                        <input type="hidden" name="start" value={s.start} />
+                        {siteId ? <input type="hidden" name="siteId" value={siteId} /> : null}
+                        <button
+                          type="submit"
+                          disabled={navigation.state !== "idle"}
+                          aria-pressed={chosen?.start === s.start && chosen?.providerId === s.providerId}
+                          className={buttonClass("secondary", "w-full flex-col !items-start !gap-0 text-left")}
+                        >
+                          <span className="text-base">{time.format(new Date(s.start))}</span>
+                          <span className="text-xs font-normal text-muted">with {s.providerName}</span>
+                        </button>
+                      </Form>
+                    </li>
+                  ))}
+                </ul>
+              ) : (
+                <p className="text-muted">No free times that day. Try another day.</p>
+              )}
+              <p className="mt-4 text-sm">
+                <Link to="/portal" className="font-semibold text-accent-700 underline underline-offset-4">
+                  Back to my visits
+                </Link>
+              </p>
+            </Card>
+          </div>
         </>
       )}
     </div>

@@ -1,7 +1,6 @@
 import { parseWithZod } from "@conform-to/zod/v4";
 import { and, eq } from "drizzle-orm";
-import { useState } from "react";
-import { data, Link, useFetcher } from "react-router";
+import { data, Form, Link, useActionData, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/home";
 import {
@@ -38,8 +37,13 @@ const schema = z.discriminatedUnion("intent", [
   }),
 ]);
 
+/** Sent as plain HTML, without scripts: every step below is a link or a form the server answers. */
+export const handle = { hydrate: false };
+
 export async function loader({ request }: Route.LoaderArgs) {
   const { user, patientId } = await requirePortalPatient(request);
+  // `?cancel=<visit>` is the check before a cancellation: the page asks, the patient confirms.
+  const cancelling = new URL(request.url).searchParams.get("cancel");
   const [settings, visits, name] = await Promise.all([portalSettings(), visitsOf(patientId), patientName(patientId)]);
   await audit({
     action: "portal.visits_read",
@@ -51,12 +55,14 @@ export async function loader({ request }: Route.LoaderArgs) {
   });
   const now = Date.now();
   const withRights = visits.map((v) => ({ ...v, canCancel: cancellable(v, settings.cancelCutoffHours, now) }));
+  const upcoming = withRights
+    .filter((v) => new Date(v.end).getTime() >= now && v.status !== "cancelled" && v.status !== "no_show")
+    .reverse();
   return {
     firstName: name?.firstName ?? user.name,
     practice: settings,
-    upcoming: withRights
-      .filter((v) => new Date(v.end).getTime() >= now && v.status !== "cancelled" && v.status !== "no_show")
-      .reverse(),
+    upcoming,
+    cancelling: upcoming.some((v) => v.id === cancelling && v.canCancel) ? cancelling : null,
     past: withRights
       .filter((v) => new Date(v.end).getTime() < now || v.status === "cancelled" || v.status === "no_show")
       .slice(0, 12),
@@ -131,21 +137,32 @@ export async function action({ request }: Route.ActionArgs) {
 
 const tone = (s: Status) => (s === "cancelled" || s === "no_show" ? "error" : s === "completed" ? "success" : "info");
 
+type Reply = { error?: Record<string, string[] | null> | null; initialValue?: Record<string, unknown> | null };
+
 function VisitCard({
   visit,
   timeZone,
+  cancelling,
 }: {
   visit: Awaited<ReturnType<typeof loader>>["upcoming"][number];
   timeZone: string;
+  cancelling: boolean;
 }) {
-  const fetcher = useFetcher<typeof action>();
-  const [moving, setMoving] = useState(false);
+  const reply = useActionData<typeof action>() as Reply | undefined;
+  const navigation = useNavigation();
   const when = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeStyle: "short", timeZone }).format(
     new Date(visit.start),
   );
-  const errors = fetcher.data?.error;
+  // The action's reply belongs to the visit whose form was sent.
+  const mine = reply?.initialValue?.appointmentId === visit.id;
+  const errors = mine ? reply?.error : undefined;
+  const sentMessage = mine && typeof reply?.initialValue?.message === "string" ? reply.initialValue.message : "";
+  const pending = (intent: string) =>
+    navigation.state !== "idle" &&
+    navigation.formData?.get("appointmentId") === visit.id &&
+    navigation.formData?.get("intent") === intent;
   return (
-    <li className="rounded-lg border border-line bg-white p-4">
+    <li id={`visit-${visit.id}`} className="rounded-lg border border-line bg-white p-4">
       <p className="font-semibold">{when}</p>
       <p className="text-sm text-muted">
         {visit.typeName} with {visit.providerName}
@@ -165,58 +182,68 @@ function VisitCard({
           </Notice>
         </div>
       ) : null}
-      <div className="mt-3 flex flex-wrap gap-2">
-        {visit.canCancel ? (
-          <fetcher.Form method="post" onSubmit={(e) => !window.confirm("Cancel this visit?") && e.preventDefault()}>
-            <input type="hidden" name="appointmentId" value={visit.id} />
-            <Button
-              type="submit"
-              name="intent"
-              value="cancel"
-              variant="danger"
-              pending={fetcher.state !== "idle" && fetcher.formData?.get("intent") === "cancel"}
-            >
-              Cancel visit
-            </Button>
-          </fetcher.Form>
+      {cancelling ? (
+        <section
+          aria-labelledby={`cancel-${visit.id}-heading`}
+          className="mt-3 rounded-md border-2 border-red-300 p-3"
+          data-testid="cancel-review"
+        >
+          <h3 id={`cancel-${visit.id}-heading`} className="font-semibold">
+            Cancel this visit?
+          </h3>
+          <p className="mt-1 text-sm">
+            {when}, {visit.typeName} with {visit.providerName}. Nothing changes until you press “Yes, cancel it”.
+          </p>
+          <div className="mt-3 flex flex-wrap items-center gap-4">
+            <Form method="post" action="/portal?index">
+              <input type="hidden" name="appointmentId" value={visit.id} />
+              <Button type="submit" name="intent" value="cancel" variant="danger" pending={pending("cancel")}>
+                Yes, cancel it
+              </Button>
+            </Form>
+            <Link to="/portal" className="font-semibold text-accent-700 underline underline-offset-4">
+              No, keep the visit
+            </Link>
+          </div>
+        </section>
+      ) : null}
+      <div className="mt-3 flex flex-wrap items-start gap-2">
+        {visit.canCancel && !cancelling ? (
+          <Link to={`/portal?cancel=${visit.id}#visit-${visit.id}`} className={buttonClass("danger")}>
+            Cancel visit
+          </Link>
         ) : null}
         {visit.status === "booked" || visit.status === "confirmed" ? (
-          <Button type="button" variant="secondary" onClick={() => setMoving((m) => !m)} aria-expanded={moving}>
-            Ask to move it
-          </Button>
+          <details className="group w-full" open={Boolean(errors?.message?.length) || undefined}>
+            <summary className={buttonClass("secondary", "cursor-pointer list-none")}>Ask to move it</summary>
+            <Form method="post" action="/portal?index" className="mt-3 space-y-2">
+              <input type="hidden" name="appointmentId" value={visit.id} />
+              <label htmlFor={`move-${visit.id}`} className="block text-sm font-semibold">
+                When would suit you instead?
+              </label>
+              <Textarea
+                id={`move-${visit.id}`}
+                name="message"
+                rows={2}
+                required
+                defaultValue={sentMessage}
+                aria-invalid={errors?.message ? true : undefined}
+                aria-describedby={errors?.message ? `move-${visit.id}-error` : undefined}
+              />
+              <ErrorList id={`move-${visit.id}-error`} errors={errors?.message ?? undefined} />
+              <Button type="submit" name="intent" value="move" pending={pending("move")}>
+                Send request
+              </Button>
+            </Form>
+          </details>
         ) : null}
       </div>
-      {moving ? (
-        <fetcher.Form method="post" className="mt-3 space-y-2">
-          <input type="hidden" name="appointmentId" value={visit.id} />
-          <label htmlFor={`move-${visit.id}`} className="block text-sm font-semibold">
-            When would suit you instead?
-          </label>
-          <Textarea
-            id={`move-${visit.id}`}
-            name="message"
-            rows={2}
-            required
-            aria-invalid={errors?.message ? true : undefined}
-            aria-describedby={errors?.message ? `move-${visit.id}-error` : undefined}
-          />
-          <ErrorList id={`move-${visit.id}-error`} errors={errors?.message ?? undefined} />
-          <Button
-            type="submit"
-            name="intent"
-            value="move"
-            pending={fetcher.state !== "idle" && fetcher.formData?.get("intent") === "move"}
-          >
-            Send request
-          </Button>
-        </fetcher.Form>
-      ) : null}
     </li>
   );
 }
 
 export default function PortalHome({ loaderData }: Route.ComponentProps) {
-  const { firstName, practice, upcoming, past } = loaderData;
+  const { firstName, practice, upcoming, past, cancelling } = loaderData;
   return (
     <div className="mx-auto max-w-2xl space-y-6">
       <PageHeader
@@ -232,7 +259,7 @@ export default function PortalHome({ loaderData }: Route.ComponentProps) {
         {upcoming.length ? (
           <ul className="space-y-3">
             {upcoming.map((v) => (
-              <VisitCard key={v.id} visit={v} timeZone={practice.timeZone} />
+              <VisitCard key={v.id} visit={v} timeZone={practice.timeZone} cancelling={cancelling === v.id} />
             ))}
           </ul>
         ) : (

@@ -21,6 +21,9 @@ const STATUS = {
 } as const;
 const METHOD = { cash: "Cash", card_desk: "Card at the desk", card_online: "Card online" } as const;
 
+/** Sent as plain HTML, without scripts: "Pay now" is a post that leads to the pay page. */
+export const handle = { hydrate: false };
+
 export async function loader({ request }: Route.LoaderArgs) {
   const { user, patientId } = await requirePortalPatient(request);
   const [list, settings] = await Promise.all([invoicesOf(patientId), portalSettings()]);

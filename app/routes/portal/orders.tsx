@@ -9,6 +9,9 @@ import { orderLabel, PATIENT_STATE_LABEL } from "~/lib/orders/states";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 
+/** Sent as plain HTML, without scripts: the page only shows the patient's orders. */
+export const handle = { hydrate: false };
+
 /** The patient's own spectacle and contact-lens orders and where each stands. */
 export async function loader({ request }: Route.LoaderArgs) {
   const { user, patientId } = await requirePortalPatient(request);

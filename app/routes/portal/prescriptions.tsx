@@ -7,6 +7,9 @@ import { formatRx } from "~/lib/optics";
 import { prescriptionsOf } from "~/models/prescriptions/prescriptions.server";
 import { audit } from "~/utils/audit.server";
 
+/** Sent as plain HTML, without scripts: the prescriptions are links to their PDFs. */
+export const handle = { hydrate: false };
+
 /** The patient's prescriptions: nothing else clinical. Every prescription is signed when issued. */
 export async function loader({ request }: Route.LoaderArgs) {
   const { user, patientId } = await requirePortalPatient(request);

@@ -18,6 +18,9 @@ const schema = z.object({
   recallsByEmail: z.literal("on").optional(),
 });
 
+/** Sent as plain HTML, without scripts: the choices are one form. */
+export const handle = { hydrate: false };
+
 export async function loader({ request }: Route.LoaderArgs) {
   const { patientId } = await requirePortalPatient(request);
   const [row] = await db
