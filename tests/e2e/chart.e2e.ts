@@ -84,7 +84,9 @@ describe("the optometrist's day: patients, chart, exam, prescription, upload", (
     await expect
       .poll(() => page.getByTestId("chart-guardian-header").textContent())
       .toContain(`Mother: Rosamund ${last}`);
-    expect(await page.getByTestId("chart-guardian").textContent()).toContain(`rosamund.${last.toLowerCase()}@example.test`);
+    expect(await page.getByTestId("chart-guardian").textContent()).toContain(
+      `rosamund.${last.toLowerCase()}@example.test`,
+    );
     await expectAccessible(page);
   });
 

@@ -91,7 +91,11 @@ export const patientSchema = z
     if (child) {
       const need = `Required for a patient under ${GUARDIAN_UNDER_AGE}`;
       if (!v.guardianName)
-        ctx.addIssue({ code: "custom", path: ["guardianName"], message: `${need}: give the parent's or guardian's name.` });
+        ctx.addIssue({
+          code: "custom",
+          path: ["guardianName"],
+          message: `${need}: give the parent's or guardian's name.`,
+        });
       if (!v.guardianRelationship)
         ctx.addIssue({
           code: "custom",
@@ -104,8 +108,7 @@ export const patientSchema = z
           path: ["guardianPhone"],
           message: `${need}: give the guardian's phone or e-mail, so they can be reached.`,
         });
-    }
-    else if ((v.guardianPhone || v.guardianEmail || v.guardianRelationship) && !v.guardianName)
+    } else if ((v.guardianPhone || v.guardianEmail || v.guardianRelationship) && !v.guardianName)
       ctx.addIssue({ code: "custom", path: ["guardianName"], message: "Give the guardian's name with their details." });
     if (v.noKnownAllergies && v.allergies)
       ctx.addIssue({

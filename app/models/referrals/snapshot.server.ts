@@ -141,10 +141,7 @@ export function gpLine(p: { gpName: string; gpPractice: string; gpAddress: strin
 }
 
 /** The signed exam's measured values, as the letter will carry them. */
-export async function snapshotOf(
-  exam: typeof exams.$inferSelect,
-  conn: Tx | typeof db = db,
-): Promise<LetterSnapshot> {
+export async function snapshotOf(exam: typeof exams.$inferSelect, conn: Tx | typeof db = db): Promise<LetterSnapshot> {
   const s = await loadExam(exam.id, conn);
   const prompts = await promptsFor(exam.patientId, exam, s, conn);
   const [examiner] = await conn.select({ name: users.name }).from(users).where(eq(users.id, exam.optometristId));

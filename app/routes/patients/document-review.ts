@@ -16,7 +16,8 @@ export async function action({ request, params }: Route.ActionArgs) {
   const form = await request.formData();
   const back = String(form.get("back") ?? "");
   // Only a page of this patient's record: never a redirect elsewhere.
-  const to = back.startsWith(`/patients/${params.patientId}`) && !back.startsWith("//") ? back : `/patients/${params.patientId}`;
+  const to =
+    back.startsWith(`/patients/${params.patientId}`) && !back.startsWith("//") ? back : `/patients/${params.patientId}`;
   const result = await markDocumentReviewed(user, params.patientId, params.documentId, request);
   if (!result.found) notFound();
   return redirectWithToast(
