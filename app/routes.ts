@@ -21,6 +21,7 @@ export default [
   route("api/patients", "routes/api/patients.ts"),
   route("api/uploads", "routes/api/uploads.ts"),
   route("patients/:patientId/prescriptions/:prescriptionId/pdf", "routes/patients/prescription-pdf.ts"),
+  route("patients/:patientId/documents/:documentId/review", "routes/patients/document-review.ts"),
   route("patients/:patientId/documents/:documentId/:variant", "routes/patients/document-file.ts"),
 
   route("api/appointments", "routes/api/appointments.ts"),

@@ -8,10 +8,11 @@
 import { and, eq, inArray, like, sql } from "drizzle-orm";
 import type { NodePgDatabase } from "drizzle-orm/node-postgres";
 import * as schema from "../app/db/schema";
-import { roundRx, vertexConvert, type SphCyl } from "../app/lib/optics";
+import { type SphCyl } from "../app/lib/optics";
 import { DIAGNOSES } from "../app/lib/exam/sections";
 import { addDays, localParts, wallTimeToInstant, weekdayOf } from "../app/lib/scheduling/time";
 import { isBankHoliday } from "./closures";
+import { fitDemoLens } from "./contact-lenses";
 import { DEMO_PATIENT, DEMO_PRACTICE } from "./demo-practice";
 import { FIRST_NAMES } from "./names";
 import { DEMO_GPS, TRIAGE_CASES, VA_TEXT, type TriageFindings } from "./triage-cases";
@@ -1045,15 +1046,25 @@ export async function seedCaseload(tx: Tx) {
   if (dilations.length) await tx.insert(examDilations).values(dilations);
   if (ccts.length) await tx.insert(examCornealThickness).values(ccts);
 
-  // Prescriptions from each patient's latest exam (most patients), contact lenses for the wearers.
+  // Prescriptions from each patient's latest exam (most patients), contact lenses for the wearers,
+  // spread over the catalogue's lenses in powers each lens is made in.
+  const catalogue = await tx.select().from(schema.contactLenses);
+  let wearer = 0;
   for (const e of allExams.filter((x) => x.last)) {
     if (!e.contactLens && rand() < 0.15) continue;
     const issuedAt = new Date(e.input.at.getTime() + 50 * 60e3);
-    const kinds: ("spectacle" | "contact_lens")[] = e.contactLens ? ["spectacle", "contact_lens"] : ["spectacle"];
+    const presbyope = (e.input.add ?? 0) > 0;
+    const family = wearer++;
+    const fits = e.contactLens
+      ? (["right", "left"] as const).map((eye) => fitDemoLens(catalogue, e.input[eye], presbyope, family, family))
+      : [];
+    const kinds: ("spectacle" | "contact_lens")[] =
+      fits.length && fits.every(Boolean) ? ["spectacle", "contact_lens"] : ["spectacle"];
     for (const kind of kinds) {
       const months = kind === "spectacle" ? 24 : 12;
       const expires = new Date(issuedAt);
       expires.setUTCMonth(expires.getUTCMonth() + months);
+      const lensNames = [...new Set(fits.map((f) => `${f!.lens.manufacturer} ${f!.lens.name}`))];
       const [rx] = await tx
         .insert(prescriptions)
         .values({
@@ -1065,31 +1076,36 @@ export async function seedCaseload(tx: Tx) {
           expiresOn: isoDate(expires),
           prescriberName: optometrist.name,
           prescriberLicence: optometrist.licence ?? "",
-          lensName: kind === "contact_lens" ? "Monthly silicone hydrogel, toric where needed" : null,
+          lensName: kind === "contact_lens" ? lensNames.join(" / ") : null,
         })
         .returning({ id: prescriptions.id });
-      for (const eye of ["right", "left"] as const) {
+      for (const [i, eye] of (["right", "left"] as const).entries()) {
         const s = e.input[eye];
         if (kind === "spectacle")
           await tx
             .insert(prescriptionEyes)
             .values({ prescriptionId: rx!.id, eye, ...s, addPower: e.input.add ?? null, vertexMm: 12 });
         else {
-          const exact = vertexConvert(s, 12, 0);
-          const rounded = roundRx(exact, 0.25);
+          const fit = fits[i]!;
           await tx.insert(prescriptionEyes).values({
             prescriptionId: rx!.id,
             eye,
-            ...rounded,
+            ...fit.power,
+            addPower: presbyope ? (e.input.add ?? null) : null,
             vertexMm: 0,
-            exactSphere: exact.sphere,
-            exactCylinder: exact.cylinder,
-            exactAxis: exact.axis,
+            exactSphere: fit.exact.sphere,
+            exactCylinder: fit.exact.cylinder,
+            exactAxis: fit.exact.axis,
             spectacleSphere: s.sphere,
             spectacleCylinder: s.cylinder,
             spectacleAxis: s.axis,
-            baseCurveMm: 8.6,
-            diameterMm: 14.2,
+            baseCurveMm: fit.baseCurveMm,
+            diameterMm: fit.diameterMm,
+            contactLensId: fit.lens.id,
+            lensManufacturer: fit.lens.manufacturer,
+            lensName: fit.lens.name,
+            lensMaterial: fit.lens.material,
+            lensReplacement: fit.lens.replacement,
           });
         }
       }
@@ -1138,4 +1154,38 @@ export async function linkCaseloadVisits(tx: Tx) {
     update exams e set appointment_id = made.id
     from src join made on made.patient_id = src.patient_id and made.starts_at = src.starts_at
     where e.id = src.exam_id`);
+}
+
+const GUARDIAN_ROLES = ["Mother", "Father", "Grandmother", "Legal guardian"] as const;
+
+/**
+ * Gives each caseload child under 16 a parent or guardian (invented name, the family's surname,
+ * a drama-range phone number and a `.test` address). Only children who have none yet.
+ */
+export async function seedGuardians(tx: Tx) {
+  const children = await tx
+    .select({ id: patients.id, lastName: patients.lastName, phone: patients.phone })
+    .from(patients)
+    .where(
+      and(
+        like(patients.email, `%@${CASELOAD_DOMAIN}`),
+        eq(patients.guardianName, ""),
+        sql`${patients.dateOfBirth} > (current_date - interval '16 years')::date`,
+      ),
+    )
+    .orderBy(patients.lastName, patients.firstName);
+  for (const [i, c] of children.entries()) {
+    const first = FIRST_NAMES[(i * 7 + 3) % FIRST_NAMES.length]!;
+    const role = GUARDIAN_ROLES[i % GUARDIAN_ROLES.length]!;
+    const surname = role === "Legal guardian" ? FIRST_NAMES[(i * 11 + 5) % FIRST_NAMES.length]! + "son" : c.lastName;
+    await tx
+      .update(patients)
+      .set({
+        guardianName: `${first} ${surname}`,
+        guardianRelationship: role,
+        guardianPhone: c.phone ?? `07700 900${String(100 + i).slice(-3)}`,
+        guardianEmail: `${first}.${surname}`.toLowerCase().replace(/[^a-z.]/g, "") + `@${CASELOAD_DOMAIN}`,
+      })
+      .where(eq(patients.id, c.id));
+  }
 }

@@ -5,10 +5,11 @@
  * sent. Fictional throughout; amounts follow the demo fee schedule. Idempotent: added once, when
  * the practice has no invoices and no referrals yet.
  */
-import { sql } from "drizzle-orm";
+import { eq, sql } from "drizzle-orm";
 import type { NodePgDatabase } from "drizzle-orm/node-postgres";
 import * as schema from "../app/db/schema";
-import type { ReferralSnapshot } from "../app/db/schema";
+import { snapshotOf } from "../app/models/referrals/snapshot.server";
+import type { Tx as AppTx } from "../app/utils/db.server";
 import { CASELOAD_DOMAIN } from "./caseload";
 import { TRIAGE_CASES } from "./triage-cases";
 
@@ -234,7 +235,6 @@ async function seedReferralLetters(tx: Tx, now: Date) {
     reason: string;
     recipientId: string;
     history: string;
-    diagnoses: { code: string; eye: string }[];
   };
   const letters: Letter[] = [];
   let overdue = false;
@@ -253,7 +253,6 @@ async function seedReferralLetters(tx: Tx, now: Date) {
       reason: t.rule,
       recipientId: recipientFor(t.rule).id,
       history: t.symptoms,
-      diagnoses: t.findings.diagnoses ?? [],
     });
   }
   for (const [i, e] of routineExams.slice(0, 4).entries())
@@ -266,7 +265,6 @@ async function seedReferralLetters(tx: Tx, now: Date) {
         : "Cataract affecting daily life: assessment for surgery",
       recipientId: /pressure/i.test(e.assessment) ? recipient(/glaucoma/i).id : recipient(/general/i).id,
       history: e.symptoms,
-      diagnoses: [],
     });
 
   for (const l of letters) {
@@ -288,26 +286,10 @@ async function seedReferralLetters(tx: Tx, now: Date) {
         ? new Date(Math.min(sentAt!.getTime() + Math.max(1, FRAMES[l.urgency]!) * DAY, now.getTime() - DAY))
         : null;
     const withdrawnAt = l.state === "withdrawn" ? new Date(examinedAt.getTime() + 2 * 3600e3) : null;
-    const snapshot: ReferralSnapshot = {
-      examinedAt: examinedAt.toISOString(),
-      signedAt: new Date(l.e.signedAt).toISOString(),
-      examiner: l.e.examiner,
-      history: {
-        reason: l.e.reason,
-        symptoms: l.e.symptoms,
-        ocularHistory: "",
-        generalHistory: "",
-        medications: l.e.medications,
-        familyHistory: "",
-      },
-      acuity: [],
-      refraction: [],
-      iop: [],
-      colour: [],
-      fields: [],
-      diagnoses: l.diagnoses.map((d) => ({ code: d.code, label: d.code, eye: d.eye })),
-      prompts: [],
-    };
+    // The letter carries the exam as the app's own builder snapshots it: acuity, refraction,
+    // pressures, findings and the prompts that raised the referral.
+    const [exam] = await tx.select().from(schema.exams).where(eq(schema.exams.id, l.e.examId));
+    const snapshot = await snapshotOf(exam!, tx as unknown as AppTx);
     const status = l.state === "overdue" ? "sent" : l.state;
     const [row] = rows<{ id: string }>(
       await tx.execute(sql`

@@ -5,7 +5,7 @@ import pg from "pg";
 import * as schema from "../app/db/schema";
 import { databaseUrl } from "../app/utils/db-url";
 import { seedBilling } from "./billing";
-import { linkCaseloadVisits, seedCaseload } from "./caseload";
+import { linkCaseloadVisits, seedCaseload, seedGuardians } from "./caseload";
 import { seedCasework } from "./casework";
 import { seedClosures } from "./closures";
 import { seedContactLenses } from "./contact-lenses";
@@ -56,13 +56,15 @@ export async function seed(url = databaseUrl()) {
         if (existing) continue;
         await tx.insert(users).values({ ...u, passwordHash, patientId: u.role === "patient" ? patient!.id : null });
       }
+      // The catalogue first: the caseload's contact-lens wearers are fitted from it.
+      await seedContactLenses(tx);
       await seedCaseload(tx);
+      await seedGuardians(tx);
       await seedSchedule(tx);
       await linkCaseloadVisits(tx);
       await seedReferrals(tx);
       await seedPortal(tx);
       await seedOrders(tx);
-      await seedContactLenses(tx);
       await seedCasework(tx);
       // The diary follows the calendar: rebuilt around today on every seeding.
       await buildDiary(tx);

@@ -22,7 +22,7 @@ describe("the optometrist's day: patients, chart, exam, prescription, upload", (
     await page.getByLabel("First name").fill("Ottoline");
     await page.getByLabel("Last name").fill(last);
     await page.getByLabel("Date of birth").fill("1983-02-14");
-    await page.getByLabel("Phone").fill("07700 900 284");
+    await page.getByLabel("Phone", { exact: true }).fill("07700 900 284");
     await expectAccessible(page);
     await page.getByRole("button", { name: "Register patient" }).click();
     await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
@@ -32,11 +32,11 @@ describe("the optometrist's day: patients, chart, exam, prescription, upload", (
 
     await page.getByRole("link", { name: "Edit details" }).click();
     await page.waitForURL(/\/edit$/);
-    await page.getByLabel("Phone").fill("call me maybe");
+    await page.getByLabel("Phone", { exact: true }).fill("call me maybe");
     await page.getByRole("button", { name: "Save details" }).click();
     await expect.poll(() => page.getByText("Use digits, spaces and + ( ) - only.").count()).toBe(1);
     await expectAccessible(page);
-    await page.getByLabel("Phone").fill("07700 900 285");
+    await page.getByLabel("Phone", { exact: true }).fill("07700 900 285");
     await page.getByRole("button", { name: "Save details" }).click();
     await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
     await expect.poll(() => page.getByText("07700 900 285").count()).toBeGreaterThan(0);
@@ -57,6 +57,37 @@ describe("the optometrist's day: patients, chart, exam, prescription, upload", (
     await search.press("Enter");
     await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
     await expect.poll(() => page.getByRole("heading", { level: 1 }).textContent()).toBe(`${last}, Ottoline`);
+  });
+
+  it("asks for a child's parent or guardian, and shows them on the chart", async () => {
+    const page = await browser.newPage();
+    await signIn(page, DEMO.receptionist);
+    await page.waitForURL("**/");
+    await page.goto("/patients/new");
+    const last = `Wickerby${Date.now().toString(36)}`;
+    const child = new Date(Date.now() - 9 * 365.25 * 864e5).toISOString().slice(0, 10);
+    await page.getByLabel("First name").fill("Tamsin");
+    await page.getByLabel("Last name").fill(last);
+    await page.getByLabel("Date of birth").fill(child);
+    expect(await page.getByText("Required for a patient under 16").count()).toBe(1);
+    await page.getByRole("button", { name: "Register patient" }).click();
+    const nameField = page.getByLabel("Guardian's name");
+    await expect.poll(() => nameField.getAttribute("aria-invalid")).toBe("true");
+    expect(await page.getByText(/give the parent's or guardian's name/).count()).toBe(1);
+    expect(await page.getByText(/give the guardian's phone or e-mail/).count()).toBe(1);
+    await expectAccessible(page);
+    await nameField.fill("Rosamund " + last);
+    await page.getByLabel("Relationship to the patient").fill("Mother");
+    await page.getByLabel("Guardian's e-mail").fill(`rosamund.${last.toLowerCase()}@example.test`);
+    await page.getByRole("button", { name: "Register patient" }).click();
+    await page.waitForURL(/\/patients\/[0-9a-f-]{36}$/);
+    await expect
+      .poll(() => page.getByTestId("chart-guardian-header").textContent())
+      .toContain(`Mother: Rosamund ${last}`);
+    expect(await page.getByTestId("chart-guardian").textContent()).toContain(
+      `rosamund.${last.toLowerCase()}@example.test`,
+    );
+    await expectAccessible(page);
   });
 
   it("runs an exam: typo with inline error, change from last year, sign, prescription PDF, upload", async () => {

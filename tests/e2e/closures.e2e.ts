@@ -59,8 +59,9 @@ describe("opening hours and closures in the browser", () => {
     await signIn(desk, DEMO.receptionist);
     await desk.waitForURL((u) => u.pathname === "/");
     await desk.goto("/schedule/book");
-    await desk.getByLabel(/Find by name/).fill("Achterberg");
-    await desk.getByRole("radio", { name: /Rosalind Achterberg/ }).check();
+    await desk.getByRole("combobox", { name: "Patient" }).fill("Achterberg");
+    await desk.getByRole("option", { name: /Achterberg, Rosalind/ }).click();
+    await desk.getByTestId("chosen-patient").waitFor();
     await desk.getByLabel("Appointment type").selectOption({ label: "Comprehensive eye exam (30 min)" });
     await desk.getByLabel("With").selectOption({ label: "Tobias Wren" });
     await desk.getByLabel("Starts").fill(`${day}T10:00`);

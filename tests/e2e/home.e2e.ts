@@ -123,6 +123,19 @@ describe("home pages per role", () => {
     await optom.goto("/");
     await ready(optom);
     expect(await optom.getByTestId("home-replies").textContent()).toContain("No unread replies");
+    // A result: opened where it is shown, marked reviewed there, then gone from the home page.
+    await follow(
+      optom,
+      optom.getByTestId("home-results").getByRole("link", { name: /open the exam to review it/ }),
+      `/patients/${s.patients.waiting.id}/exams/${s.exam.id}`,
+    );
+    const tile = optom.locator(`#document-${s.document.id}`);
+    await tile.getByRole("button", { name: /Mark reviewed/ }).click();
+    await tile.getByTestId("document-reviewed").waitFor(SLOW);
+    await expectAccessible(optom);
+    await optom.goto("/");
+    await ready(optom);
+    expect(await optom.getByTestId("home-results").textContent()).toContain("No results are waiting");
   }, 120_000);
 
   it("the owner's home shows takings, visits kept, recall response, referral turnaround and exams to orders, each linked", async () => {
@@ -161,16 +174,18 @@ describe("lists and pickers over the whole register", () => {
     await desk.waitForURL((u) => u.pathname === "/");
     await desk.goto("/schedule/book");
     await ready(desk);
-    const box = desk.getByLabel("Find by name, date of birth, phone or e-mail");
+    // The patients page's own type-ahead: type, arrow down, Enter chooses.
+    const box = desk.getByRole("combobox", { name: "Patient" });
     await box.focus();
     await desk.keyboard.type(LATE.toLowerCase());
     await expect
-      .poll(() => desk.getByTestId("booking-patient-count").textContent(), SLOW)
+      .poll(() => desk.getByTestId("patient-search-count").textContent(), SLOW)
       .toContain("1 patient matches");
-    const radio = desk.getByRole("radio", { name: new RegExp(`Yvette ${LATE}`) });
-    await radio.focus();
-    await desk.keyboard.press("Space");
-    expect(await radio.isChecked()).toBe(true);
+    await expectAccessible(desk);
+    await desk.keyboard.press("ArrowDown");
+    await desk.keyboard.press("Enter");
+    expect(await desk.getByTestId("chosen-patient").textContent()).toContain(`${LATE}, Yvette`);
+    expect(await desk.locator('input[type="hidden"][name="patientId"]').inputValue()).toMatch(/^[0-9a-f-]{36}$/);
     await expectAccessible(desk);
   }, 120_000);
 

@@ -41,8 +41,9 @@ describe("the schedule in the browser", () => {
     const dialog = desk.getByRole("dialog", { name: "Book an appointment" });
     await dialog.waitFor();
     expect(await dialog.getByLabel("Starts").inputValue()).toBe(`${tuesday}T10:00`);
-    await dialog.getByLabel(/Find by name/).fill("Achterberg");
-    await dialog.getByRole("radio", { name: /Rosalind Achterberg/ }).check();
+    await dialog.getByRole("combobox", { name: "Patient" }).fill("Achterberg");
+    await dialog.getByRole("option", { name: /Achterberg, Rosalind/ }).click();
+    await dialog.getByTestId("chosen-patient").waitFor();
     await dialog.getByLabel("Appointment type").selectOption({ label: "Comprehensive eye exam (30 min)" });
     await dialog.getByLabel("With").selectOption({ label: "Tobias Wren" });
     await expectAccessible(desk);

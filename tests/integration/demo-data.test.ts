@@ -6,9 +6,13 @@
  */
 import { sql } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
+import { checkLensPower, type CatalogueLens } from "~/lib/contact-lens/catalogue";
 import { displayStatus } from "~/lib/referrals";
 import { localParts } from "~/lib/scheduling/time";
+import { loader as letterPdfLoader } from "~/routes/referrals/letter-pdf";
+import { loader as referralLoader } from "~/routes/referrals/referral";
 import { db } from "~/utils/db.server";
+import { cookieFor, makeRequest, run, statusOf } from "#tests/support/helpers";
 import { CASELOAD_DOMAIN } from "../../seeds/caseload";
 import { DIARY_NOTE } from "../../seeds/diary";
 
@@ -207,5 +211,75 @@ describe("the seeded lists", () => {
         (select count(*)::int from appointment_messages where kind = 'reminder' and status = 'sent') as reminders`);
     expect(messages!.recalls).toBeGreaterThan(0);
     expect(messages!.reminders).toBeGreaterThan(0);
+  });
+
+  it("gives each sent referral a snapshot of its exam, and its page and letter open", async () => {
+    const sent = await rows<{ id: string; acuity: number; refraction: number; iop: number; prompts: number }>(sql`
+      select id, jsonb_array_length(snapshot->'acuity')::int as acuity,
+        jsonb_array_length(snapshot->'refraction')::int as refraction,
+        jsonb_array_length(snapshot->'iop')::int as iop, jsonb_array_length(snapshot->'prompts')::int as prompts
+      from referrals where status <> 'draft' and created_by_id in (select id from users where email like '%@dioptra-demo.test')
+      order by created_at`);
+    expect(sent.length).toBeGreaterThan(4);
+    for (const r of sent) {
+      expect(r.acuity, r.id).toBeGreaterThan(0);
+      expect(r.refraction, r.id).toBeGreaterThan(0);
+    }
+    // The triage cases' letters carry the prompts that raised them.
+    expect(sent.some((r) => r.prompts > 0)).toBe(true);
+
+    const cookie = await cookieFor("optometrist");
+    const id = sent[0]!.id;
+    const page = await run(referralLoader as never, makeRequest(`/referrals/${id}`, { cookie }), { referralId: id });
+    expect(statusOf(page)).toBe(200);
+    const pdf = await run(letterPdfLoader as never, makeRequest(`/referrals/${id}/letter.pdf`, { cookie }), {
+      referralId: id,
+    });
+    expect(statusOf(pdf)).toBe(200);
+    expect((pdf as Response).headers.get("content-type")).toContain("application/pdf");
+  });
+
+  it("fits contact-lens wearers with different catalogue lenses, in powers each lens is made in", async () => {
+    const eyes = await rows<{
+      rx: string;
+      eye: string;
+      sphere: number;
+      cylinder: number;
+      axis: number;
+      baseCurveMm: number;
+      diameterMm: number;
+      lens: CatalogueLens | null;
+    }>(sql`
+      select rx.id as rx, pe.eye, pe.sphere, pe.cylinder, pe.axis, pe.base_curve_mm as "baseCurveMm",
+        pe.diameter_mm as "diameterMm",
+        (select jsonb_build_object('id', l.id, 'manufacturer', l.manufacturer, 'name', l.name, 'material', l.material,
+          'replacement', l.replacement, 'baseCurvesMm', l.base_curves_mm, 'diametersMm', l.diameters_mm,
+          'sphereMin', l.sphere_min, 'sphereMax', l.sphere_max, 'sphereStep', l.sphere_step, 'cylinders', l.cylinders,
+          'axisStep', l.axis_step) from contact_lenses l where l.id = pe.contact_lens_id) as lens
+      from prescriptions rx join prescription_eyes pe on pe.prescription_id = rx.id
+      join patients p on p.id = rx.patient_id
+      where p.email like ${CASELOAD} and rx.kind = 'contact_lens'`);
+    expect(eyes.length).toBeGreaterThan(10);
+    const lensIds = new Set(eyes.map((e) => e.lens?.id));
+    expect(lensIds.has(undefined)).toBe(false);
+    expect(lensIds.size).toBeGreaterThan(2);
+    const wearersByLens = new Set(eyes.map((e) => e.lens!.replacement));
+    expect(wearersByLens.size).toBeGreaterThan(1);
+    for (const e of eyes) {
+      const lens = e.lens!;
+      expect(checkLensPower(lens, e, `${e.rx} ${e.eye}`)).toEqual([]);
+      expect(lens.baseCurvesMm).toContain(e.baseCurveMm);
+      expect(lens.diametersMm).toContain(e.diameterMm);
+    }
+  });
+
+  it("records a parent or guardian for the caseload's children", async () => {
+    const [children] = await rows<{ n: number; with: number; badEmail: number }>(sql`
+      select count(*)::int as n, count(*) filter (where guardian_name <> '' and guardian_relationship <> '')::int as with,
+        count(*) filter (where guardian_email <> '' and guardian_email not like '%.test')::int as "badEmail"
+      from patients where email like ${CASELOAD} and date_of_birth > (current_date - interval '15 years')::date`);
+    expect(children!.n).toBeGreaterThan(5);
+    expect(children!.with).toBe(children!.n);
+    expect(children!.badEmail).toBe(0);
   });
 });

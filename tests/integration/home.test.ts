@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { loader as homeLoader } from "~/routes/home";
+import { action as reviewAction } from "~/routes/patients/document-review";
 import { pool } from "~/utils/db.server";
 import { cookieFor, makeRequest, run, statusOf } from "#tests/support/helpers";
 import { homeScenario, type HomeScenario, type Query } from "#tests/support/home-scenario";
@@ -68,7 +69,7 @@ describe("home pages per role", () => {
     expect(h.results.total).toBe(1);
     expect(h.results.rows[0]).toMatchObject({
       id: s.document.id,
-      href: `/patients/${s.patients.waiting.id}/exams/${s.exam.id}`,
+      href: `/patients/${s.patients.waiting.id}/exams/${s.exam.id}#document-${s.document.id}`,
       uploadedBy: expect.any(String),
     });
     expect(Object.keys(h)).not.toContain("takings");
@@ -79,6 +80,55 @@ describe("home pages per role", () => {
     const after = await home(s.optometrist.email);
     if (after.role !== "optometrist") throw new Error("expected an optometrist's page");
     expect(after.replies.total).toBe(0);
+  });
+
+  it("a result marked reviewed by a clinician leaves the home list; the front desk cannot mark it", async () => {
+    const s = await built();
+    const path = `/patients/${s.patients.waiting.id}/documents/${s.document.id}/review`;
+    const params = { patientId: s.patients.waiting.id, documentId: s.document.id };
+    const back = `/patients/${s.patients.waiting.id}/exams/${s.exam.id}`;
+    const desk = await run(
+      reviewAction as never,
+      makeRequest(path, { cookie: await cookieFor("receptionist"), form: { back } }),
+      params,
+    );
+    expect(statusOf(desk)).toBe(403);
+    const [untouched] = await q<{ reviewed_at: Date | null }>(`select reviewed_at from documents where id = $1`, [
+      s.document.id,
+    ]);
+    expect(untouched!.reviewed_at).toBeNull();
+    // Another patient's id does not reach the document.
+    const foreign = await run(
+      reviewAction as never,
+      makeRequest(`/patients/${s.patients.coming.id}/documents/${s.document.id}/review`, {
+        cookie: await cookieFor(s.optometrist.email),
+        form: { back },
+      }),
+      { patientId: s.patients.coming.id, documentId: s.document.id },
+    );
+    expect(statusOf(foreign)).toBe(404);
+
+    const done = (await run(
+      reviewAction as never,
+      makeRequest(path, { cookie: await cookieFor(s.optometrist.email), form: { back: "https://elsewhere.test/" } }),
+      params,
+    )) as Response;
+    expect(done.status).toBe(302);
+    // Never sent off the patient's record.
+    expect(done.headers.get("location")).toBe(`/patients/${s.patients.waiting.id}`);
+    const [row] = await q<{ reviewed_by_id: string; reviewed_at: Date }>(
+      `select reviewed_by_id, reviewed_at from documents where id = $1`,
+      [s.document.id],
+    );
+    expect(row!.reviewed_by_id).toBe(s.optometrist.id);
+    const audited = await q(`select 1 from audit_log where action = 'document.reviewed' and entity_id = $1`, [
+      s.document.id,
+    ]);
+    expect(audited).toHaveLength(1);
+    const h = await home(s.optometrist.email);
+    if (h.role !== "optometrist") throw new Error("expected an optometrist's page");
+    expect(h.results.rows.map((r) => r.id)).not.toContain(s.document.id);
+    expect(h.results.total).toBe(0);
   });
 
   it("the owner's figures count what happened: visits kept and no-shows, exams that led to an order", async () => {

@@ -124,6 +124,44 @@ describe("register and edit", () => {
     expect(reply.error.dateOfBirth![0]).toMatch(/future/);
   });
 
+  it("requires a parent or guardian for a patient under 16, and saves them", async () => {
+    const cookie = await cookieFor("receptionist");
+    const last = `Pellingham${uniq()}`;
+    // Twelve years old today; the rule's age is GUARDIAN_UNDER_AGE (common practice, see the schema).
+    const dob = new Date(Date.now() - 12 * 365.25 * 864e5).toISOString().slice(0, 10);
+    const res = await register(cookie, { firstName: "Wren", lastName: last, dateOfBirth: dob, guardianEmail: "nope" });
+    expect(statusOf(res)).toBe(400);
+    const reply = dataOf<{ error: Record<string, string[]> }>(res);
+    expect(Object.keys(reply.error).sort()).toEqual(["guardianEmail", "guardianName", "guardianRelationship"]);
+    expect(reply.error.guardianName![0]).toMatch(/Required for a patient under 16/);
+    expect(reply.error.guardianEmail![0]).toMatch(/valid e-mail/);
+    const none = await register(cookie, { firstName: "Wren", lastName: last, dateOfBirth: dob });
+    expect(dataOf<{ error: Record<string, string[]> }>(none).error.guardianPhone![0]).toMatch(/phone or e-mail/);
+    expect(await db.select().from(patients).where(eq(patients.lastName, last))).toHaveLength(0);
+
+    const ok = (await register(cookie, {
+      firstName: "Wren",
+      lastName: last,
+      dateOfBirth: dob,
+      guardianName: "Isolde Pellingham",
+      guardianRelationship: "Mother",
+      guardianPhone: "07700 900 412",
+    })) as Response;
+    expect(ok.status).toBe(302);
+    const [row] = await db.select().from(patients).where(eq(patients.lastName, last));
+    expect(row).toMatchObject({ guardianName: "Isolde Pellingham", guardianRelationship: "Mother", guardianEmail: "" });
+
+    // An adult needs none, but details without a name are refused.
+    const adult = await register(cookie, {
+      firstName: "Wren",
+      lastName: `${last}x`,
+      dateOfBirth: "1980-01-01",
+      guardianPhone: "07700 900 413",
+    });
+    expect(statusOf(adult)).toBe(400);
+    expect(Object.keys(dataOf<{ error: Record<string, string[]> }>(adult).error)).toEqual(["guardianName"]);
+  });
+
   it("lets the front desk register demographics but not clinical fields, with an audit row", async () => {
     const cookie = await cookieFor("receptionist");
     const last = `Brightwater${uniq()}`;

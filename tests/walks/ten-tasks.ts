@@ -260,7 +260,10 @@ const tasks: Task[] = [
       await t.fillDigits(dialog.getByRole("textbox", { name: "Date of birth", exact: true }), "1984-03-21");
       await t.fill(dialog.getByLabel("E-mail (optional)"), `walker.${alpha}@dioptra-demo.test`);
       await t.click(dialog.getByRole("button", { name: "Register and choose" }));
-      await until(() => dialog.getByRole("radio", { name: new RegExp(PATIENT.last) }).isChecked(), "patient chosen");
+      await until(
+        async () => ((await dialog.getByTestId("chosen-patient").textContent()) ?? "").includes(PATIENT.last),
+        "patient chosen",
+      );
       await t.select(dialog.getByLabel("Appointment type"), { label: "Comprehensive eye exam (30 min)" });
       await t.click(dialog.getByRole("button", { name: "Book appointment" }));
       await page.getByTestId("toast").filter({ hasText: "Appointment booked" }).waitFor();

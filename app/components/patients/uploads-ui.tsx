@@ -1,5 +1,5 @@
 import { useRef, useState } from "react";
-import { useRevalidator, useSearchParams } from "react-router";
+import { Form, useNavigation, useRevalidator, useSearchParams } from "react-router";
 import { Pager, type TablePaging } from "~/components/data-table";
 import { Button } from "~/components/ui/button";
 import { Icon } from "~/components/ui/icon";
@@ -16,6 +16,8 @@ type Doc = {
   hasThumbnail: boolean;
   createdAt: string;
   uploadedBy: string;
+  reviewedAt: string | null;
+  reviewedBy: string | null;
 };
 const KIND_LABEL: Record<string, string> = {
   fundus_photo: "Fundus photograph",
@@ -24,31 +26,44 @@ const KIND_LABEL: Record<string, string> = {
   other: "Other",
 };
 
-/** A patient's or an exam's files; with `paging`, one page of them and links to the others (`?docs=`). */
+/**
+ * A patient's or an exam's files; with `paging`, one page of them and links to the others (`?docs=`).
+ * With `reviewFrom` (the page's own path, for clinical roles) each unreviewed file has "Mark reviewed".
+ */
 export function DocumentList({
   patientId,
   documents,
   paging,
+  reviewFrom,
 }: {
   patientId: string;
   documents: Doc[];
   paging?: TablePaging;
+  reviewFrom?: string;
 }) {
   const [params] = useSearchParams();
   if (!documents.length && !(paging && paging.total > 0)) return <p className="text-muted">No files attached.</p>;
   return (
     <>
-      <DocumentTiles patientId={patientId} documents={documents} />
+      <DocumentTiles patientId={patientId} documents={documents} reviewFrom={reviewFrom} />
       {paging ? <Pager paging={{ ...paging, noun: ["file", "files"] }} params={params} pageParam="docs" /> : null}
     </>
   );
 }
 
-function DocumentTiles({ patientId, documents }: { patientId: string; documents: Doc[] }) {
+function DocumentTiles({
+  patientId,
+  documents,
+  reviewFrom,
+}: {
+  patientId: string;
+  documents: Doc[];
+  reviewFrom?: string;
+}) {
   return (
     <ul className="grid gap-3 sm:grid-cols-2 lg:grid-cols-3">
       {documents.map((d) => (
-        <li key={d.id} className="flex gap-3 rounded-md border border-line p-3">
+        <li key={d.id} id={`document-${d.id}`} className="flex gap-3 rounded-md border border-line p-3">
           {d.hasThumbnail ? (
             <img
               src={`/patients/${patientId}/documents/${d.id}/thumbnail`}
@@ -77,10 +92,37 @@ function DocumentTiles({ patientId, documents }: { patientId: string; documents:
               {formatDate(d.createdAt)} · {d.uploadedBy}
             </p>
             {d.description ? <p>{d.description}</p> : null}
+            <ReviewState patientId={patientId} doc={d} reviewFrom={reviewFrom} />
           </div>
         </li>
       ))}
     </ul>
+  );
+}
+
+/** Who reviewed a file and when, or (for a clinician) the button that records it. */
+function ReviewState({ patientId, doc, reviewFrom }: { patientId: string; doc: Doc; reviewFrom?: string }) {
+  const navigation = useNavigation();
+  const action = `/patients/${patientId}/documents/${doc.id}/review`;
+  if (doc.reviewedAt)
+    return (
+      <p className="mt-1 flex items-center gap-1 text-muted" data-testid="document-reviewed">
+        <Icon name="check" /> Reviewed by {doc.reviewedBy ?? "a colleague"}, {formatDate(doc.reviewedAt)}
+      </p>
+    );
+  if (!reviewFrom) return <p className="mt-1 font-semibold">Not reviewed yet</p>;
+  return (
+    <Form method="post" action={action} className="mt-2" preventScrollReset>
+      <input type="hidden" name="back" value={reviewFrom} />
+      <p className="mb-1 font-semibold">Not reviewed yet</p>
+      <Button
+        type="submit"
+        variant="secondary"
+        pending={navigation.state === "submitting" && navigation.formAction === action}
+      >
+        Mark reviewed<span className="sr-only">: {doc.originalName}</span>
+      </Button>
+    </Form>
   );
 }
 

@@ -27,10 +27,18 @@ export const documents = pgTable(
       .notNull()
       .references(() => users.id, { onDelete: "restrict" }),
     createdAt: timestamp({ withTimezone: true }).notNull().defaultNow(),
+    /** A clinician read the result (a field printout, a scan report…): when and who. */
+    reviewedAt: timestamp({ withTimezone: true }),
+    reviewedById: uuid().references(() => users.id, { onDelete: "restrict" }),
   },
   (t) => [
     index("documents_patient_idx").on(t.patientId, t.createdAt),
     index("documents_exam_idx").on(t.examId),
+    // The home page's results to review: unreviewed documents, newest first.
+    index("documents_unreviewed_idx")
+      .on(t.createdAt)
+      .where(sql`${t.reviewedAt} is null`),
+    check("documents_reviewed", sql`(${t.reviewedAt} is null) = (${t.reviewedById} is null)`),
     check("documents_type", sql`${t.contentType} in ('image/jpeg', 'image/png', 'image/webp', 'application/pdf')`),
   ],
 );

@@ -26,6 +26,14 @@ export const patients = pgTable(
     gpPractice: text().notNull().default(""),
     gpAddress: text().notNull().default(""),
     gpPhone: text().notNull().default(""),
+    /**
+     * A child's parent or guardian, who answers for the patient and is contacted about them:
+     * name, relationship, phone and e-mail (empty when none is recorded).
+     */
+    guardianName: text().notNull().default(""),
+    guardianRelationship: text().notNull().default(""),
+    guardianPhone: text().notNull().default(""),
+    guardianEmail: text().notNull().default(""),
     remindersByEmail: boolean().notNull().default(true),
     /** Recall e-mails ("your yearly exam is due"), chosen apart from appointment reminders. */
     recallsByEmail: boolean().notNull().default(true),

@@ -4,7 +4,7 @@ import { examAcuity, examColourVision, examIop, exams, examVisualFields } from "
 import { EYES } from "~/lib/exam/sections";
 import { referralPrompts, type ReferralFindings, type ReferralPrompt } from "~/lib/optics";
 import { iopForTriage } from "~/models/exams/triage.server";
-import { db } from "~/utils/db.server";
+import { db, type Tx } from "~/utils/db.server";
 import type { ExamSections } from "./exam-records.server";
 
 type PromptSections = Pick<ExamSections, "iop" | "fields" | "colour" | "acuity">;
@@ -93,8 +93,9 @@ export async function promptsFor(
   patientId: string,
   exam: { id: string; examinedAt: Date },
   s: ExamSections,
+  conn: Tx | typeof db = db,
 ): Promise<ReferralPrompt[]> {
-  const [prevExam] = await db
+  const [prevExam] = await conn
     .select({ id: exams.id })
     .from(exams)
     .where(and(eq(exams.patientId, patientId), lt(exams.examinedAt, exam.examinedAt)))
@@ -102,8 +103,8 @@ export async function promptsFor(
     .limit(1);
   const [colour, acuity] = prevExam
     ? await Promise.all([
-        db.select().from(examColourVision).where(eq(examColourVision.examId, prevExam.id)),
-        db.select().from(examAcuity).where(eq(examAcuity.examId, prevExam.id)),
+        conn.select().from(examColourVision).where(eq(examColourVision.examId, prevExam.id)),
+        conn.select().from(examAcuity).where(eq(examAcuity.examId, prevExam.id)),
       ])
     : [[], []];
   return promptsFrom(s, { colour, acuity });

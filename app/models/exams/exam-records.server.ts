@@ -95,7 +95,7 @@ export async function examSettings(
   return { timeZone: s?.timeZone ?? "Europe/London", acuityNotation: s?.acuityNotation ?? "metric" };
 }
 
-export async function loadExam(examId: string) {
+export async function loadExam(examId: string, conn: Tx | typeof db = db) {
   const [
     history,
     acuity,
@@ -112,18 +112,18 @@ export async function loadExam(examId: string) {
     findings,
     contactLens,
   ] = await Promise.all([
-    db.select().from(examHistory).where(eq(examHistory.examId, examId)),
-    db.select().from(examAcuity).where(eq(examAcuity.examId, examId)),
-    db.select().from(examRefractions).where(eq(examRefractions.examId, examId)),
-    db.select().from(examBinocular).where(eq(examBinocular.examId, examId)),
-    db.select().from(examIop).where(eq(examIop.examId, examId)).orderBy(asc(examIop.eye), asc(examIop.reading)),
-    db.select().from(examCornealThickness).where(eq(examCornealThickness.examId, examId)),
-    db.select().from(examColourVision).where(eq(examColourVision.examId, examId)),
-    db.select().from(examVisualFields).where(eq(examVisualFields.examId, examId)),
-    db.select().from(examSegments).where(eq(examSegments.examId, examId)),
-    db.select().from(examAssessment).where(eq(examAssessment.examId, examId)),
-    db.select().from(examDiagnoses).where(eq(examDiagnoses.examId, examId)).orderBy(asc(examDiagnoses.code)),
-    db
+    conn.select().from(examHistory).where(eq(examHistory.examId, examId)),
+    conn.select().from(examAcuity).where(eq(examAcuity.examId, examId)),
+    conn.select().from(examRefractions).where(eq(examRefractions.examId, examId)),
+    conn.select().from(examBinocular).where(eq(examBinocular.examId, examId)),
+    conn.select().from(examIop).where(eq(examIop.examId, examId)).orderBy(asc(examIop.eye), asc(examIop.reading)),
+    conn.select().from(examCornealThickness).where(eq(examCornealThickness.examId, examId)),
+    conn.select().from(examColourVision).where(eq(examColourVision.examId, examId)),
+    conn.select().from(examVisualFields).where(eq(examVisualFields.examId, examId)),
+    conn.select().from(examSegments).where(eq(examSegments.examId, examId)),
+    conn.select().from(examAssessment).where(eq(examAssessment.examId, examId)),
+    conn.select().from(examDiagnoses).where(eq(examDiagnoses.examId, examId)).orderBy(asc(examDiagnoses.code)),
+    conn
       .select({
         id: examAddenda.id,
         section: examAddenda.section,
@@ -135,8 +135,8 @@ export async function loadExam(examId: string) {
       .innerJoin(users, eq(users.id, examAddenda.authorId))
       .where(eq(examAddenda.examId, examId))
       .orderBy(asc(examAddenda.createdAt)),
-    loadFindings(examId),
-    loadContactLens(examId),
+    loadFindings(examId, conn),
+    loadContactLens(examId, conn),
   ]);
   return {
     history: history[0] ?? null,

@@ -14,8 +14,6 @@ import type { SessionUser } from "~/utils/session.server";
 
 /** How many rows a home list shows before "and N more". */
 export const HOME_LIST_SIZE = 6;
-/** Results added to an optometrist's exams by colleagues within this many days are listed. */
-export const RESULTS_WINDOW_DAYS = 14;
 /** The owner's rates (recalls, referrals, exams to orders) look back this many days. */
 export const OWNER_WINDOW_DAYS = 90;
 
@@ -277,9 +275,9 @@ export async function optometristHome(user: Pick<SessionUser, "id">, now = new D
     ),
   ]);
 
-  const since = new Date(c.now.getTime() - RESULTS_WINDOW_DAYS * 86_400_000);
+  // Results colleagues attached to this optometrist's exams that nobody has marked reviewed yet.
   const resultsWhere = sql`e.optometrist_id = ${user.id}::uuid and d.uploaded_by_id <> ${user.id}::uuid
-    and d.created_at >= ${since}`;
+    and d.reviewed_at is null`;
   const [resultCount, resultRows] = await Promise.all([
     countOf(sql`select count(*) as n from documents d join exams e on e.id = d.exam_id where ${resultsWhere}`),
     rows<{
@@ -335,12 +333,11 @@ export async function optometristHome(user: Pick<SessionUser, "id">, now = new D
     },
     results: {
       total: resultCount,
-      days: RESULTS_WINDOW_DAYS,
       rows: resultRows.map((r) => ({
         id: r.id,
         what: r.description || KIND[r.kind] || r.original_name,
         kind: KIND[r.kind] ?? "Document",
-        href: `/patients/${r.patient_id}/exams/${r.exam_id}`,
+        href: `/patients/${r.patient_id}/exams/${r.exam_id}#document-${r.id}`,
         patientName: `${r.first_name} ${r.last_name}`,
         uploadedBy: r.uploaded_by,
         at: formatLocal(new Date(r.created_at), c.timeZone),

@@ -1,4 +1,5 @@
-import { and, count, desc, eq } from "drizzle-orm";
+import { alias } from "drizzle-orm/pg-core";
+import { and, count, desc, eq, isNull } from "drizzle-orm";
 import sharp from "sharp";
 import { documents, users } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
@@ -126,6 +127,7 @@ export async function saveUpload(
   }
 }
 
+const reviewers = alias(users, "reviewers");
 const documentColumns = {
   id: documents.id,
   examId: documents.examId,
@@ -137,11 +139,19 @@ const documentColumns = {
   hasThumbnail: documents.thumbnailKey,
   createdAt: documents.createdAt,
   uploadedBy: users.name,
+  reviewedAt: documents.reviewedAt,
+  reviewedBy: reviewers.name,
 };
-const view = <T extends { hasThumbnail: string | null; createdAt: Date }>({ hasThumbnail, createdAt, ...r }: T) => ({
+const view = <T extends { hasThumbnail: string | null; createdAt: Date; reviewedAt: Date | null }>({
+  hasThumbnail,
+  createdAt,
+  reviewedAt,
+  ...r
+}: T) => ({
   ...r,
   hasThumbnail: !!hasThumbnail,
   createdAt: createdAt.toISOString(),
+  reviewedAt: reviewedAt?.toISOString() ?? null,
 });
 
 /** The files of one exam (a handful), or every file of a patient; newest first. */
@@ -150,6 +160,7 @@ export async function documentsOf(patientId: string, examId?: string) {
     .select(documentColumns)
     .from(documents)
     .innerJoin(users, eq(users.id, documents.uploadedById))
+    .leftJoin(reviewers, eq(reviewers.id, documents.reviewedById))
     .where(and(eq(documents.patientId, patientId), examId ? eq(documents.examId, examId) : undefined))
     .orderBy(desc(documents.createdAt), desc(documents.id));
   return rows.map(view);
@@ -165,6 +176,7 @@ export async function documentsPage(patientId: string, page = 1) {
       .select(documentColumns)
       .from(documents)
       .innerJoin(users, eq(users.id, documents.uploadedById))
+      .leftJoin(reviewers, eq(reviewers.id, documents.reviewedById))
       .where(eq(documents.patientId, patientId))
       .orderBy(desc(documents.createdAt), desc(documents.id))
       .limit(DOCUMENTS_PAGE_SIZE)
@@ -174,3 +186,45 @@ export async function documentsPage(patientId: string, page = 1) {
   return { rows: rows.map(view), paging: { page, pageSize: DOCUMENTS_PAGE_SIZE, total: counted?.n ?? 0 } };
 }
 export type DocumentView = Awaited<ReturnType<typeof documentsOf>>[number];
+
+/**
+ * Records that a clinician read a result (a field printout, a scan report…): who and when, with
+ * an audit row, in one transaction. The first review stands; marking it again changes nothing.
+ * Returns false when the patient has no such document.
+ */
+export async function markDocumentReviewed(
+  user: SessionUser,
+  patientId: string,
+  documentId: string,
+  request: Request,
+): Promise<{ found: boolean; alreadyBy: string | null }> {
+  return db.transaction(async (tx) => {
+    const [doc] = await tx
+      .select({ id: documents.id, reviewedById: documents.reviewedById })
+      .from(documents)
+      .where(and(eq(documents.id, documentId), eq(documents.patientId, patientId)))
+      .for("update");
+    if (!doc) return { found: false, alreadyBy: null };
+    const [marked] = await tx
+      .update(documents)
+      .set({ reviewedAt: new Date(), reviewedById: user.id })
+      .where(and(eq(documents.id, documentId), isNull(documents.reviewedAt)))
+      .returning({ id: documents.id });
+    if (!marked) {
+      const [by] = await tx.select({ name: users.name }).from(users).where(eq(users.id, doc.reviewedById!));
+      return { found: true, alreadyBy: by?.name ?? "a colleague" };
+    }
+    await audit(
+      {
+        action: "document.reviewed",
+        actorUserId: user.id,
+        entityType: "document",
+        entityId: documentId,
+        patientId,
+        request,
+      },
+      tx,
+    );
+    return { found: true, alreadyBy: null };
+  });
+}

@@ -2,6 +2,27 @@ import { z } from "zod";
 
 const today = () => new Date().toISOString().slice(0, 10);
 
+/**
+ * A patient under this age has a parent or guardian recorded, who consents for them and is
+ * contacted about them (common practice: in the UK a child under 16 is seen with the consent of
+ * a parent or guardian unless judged able to consent; local law decides).
+ */
+export const GUARDIAN_UNDER_AGE = 16;
+
+/** Whether someone born on `dob` (YYYY-MM-DD) is under `years` on `on` (YYYY-MM-DD). */
+export function isUnder(dob: string, years: number, on: string = today()): boolean {
+  const [y, m, d] = dob.split("-").map(Number) as [number, number, number];
+  const birthday = `${String(y + years).padStart(4, "0")}-${String(m).padStart(2, "0")}-${String(d).padStart(2, "0")}`;
+  return on < birthday;
+}
+
+const phoneField = z
+  .string()
+  .trim()
+  .max(40, "At most 40 characters.")
+  .regex(/^[0-9+()\s.-]*$/, "Use digits, spaces and + ( ) - only.")
+  .default("");
+
 /** Registration and demographics form, shared by the browser and the server. */
 export const patientSchema = z
   .object({
@@ -35,6 +56,14 @@ export const patientSchema = z
       .max(40, "At most 40 characters.")
       .regex(/^[0-9+()\s.-]*$/, "Use digits, spaces and + ( ) - only.")
       .default(""),
+    /** A child's parent or guardian: required under GUARDIAN_UNDER_AGE (see the refinement below). */
+    guardianName: z.string().trim().max(120, "At most 120 characters.").default(""),
+    guardianRelationship: z.string().trim().max(60, "At most 60 characters.").default(""),
+    guardianPhone: phoneField,
+    guardianEmail: z
+      .union([z.literal(""), z.email({ error: "Enter a valid e-mail address for the guardian." }).max(200)])
+      .default("")
+      .transform((v) => v.toLowerCase()),
     addressLine1: z.string().trim().max(200).default(""),
     city: z.string().trim().max(100).default(""),
     postcode: z.string().trim().max(20).default(""),
@@ -58,6 +87,29 @@ export const patientSchema = z
     confirmDuplicate: z.string().optional(),
   })
   .superRefine((v, ctx) => {
+    const child = /^\d{4}-\d{2}-\d{2}$/.test(v.dateOfBirth) && isUnder(v.dateOfBirth, GUARDIAN_UNDER_AGE);
+    if (child) {
+      const need = `Required for a patient under ${GUARDIAN_UNDER_AGE}`;
+      if (!v.guardianName)
+        ctx.addIssue({
+          code: "custom",
+          path: ["guardianName"],
+          message: `${need}: give the parent's or guardian's name.`,
+        });
+      if (!v.guardianRelationship)
+        ctx.addIssue({
+          code: "custom",
+          path: ["guardianRelationship"],
+          message: `${need}: say how they are related (mother, father, legal guardian…).`,
+        });
+      if (!v.guardianPhone && !v.guardianEmail)
+        ctx.addIssue({
+          code: "custom",
+          path: ["guardianPhone"],
+          message: `${need}: give the guardian's phone or e-mail, so they can be reached.`,
+        });
+    } else if ((v.guardianPhone || v.guardianEmail || v.guardianRelationship) && !v.guardianName)
+      ctx.addIssue({ code: "custom", path: ["guardianName"], message: "Give the guardian's name with their details." });
     if (v.noKnownAllergies && v.allergies)
       ctx.addIssue({
         code: "custom",

@@ -26,7 +26,7 @@ import { formatRx } from "~/lib/optics";
 import { findingKey, type Urgency } from "~/lib/referrals";
 import { examTriage } from "~/models/exams/triage.server";
 import { loadExam, promptsFor } from "~/models/exams/exam.server";
-import { db } from "~/utils/db.server";
+import { db, type Tx } from "~/utils/db.server";
 import { formatDate } from "./common.server";
 
 /**
@@ -60,16 +60,16 @@ const DRUG_WORDS: Record<string, string> = {
 };
 
 /** The structured findings of an exam (red flags, pupils, anterior chamber, disc, fundus, dilation) for the snapshot. */
-async function findingsOf(examId: string) {
+async function findingsOf(examId: string, conn: Tx | typeof db) {
   const byEye = <T extends { eye: string }>(rows: T[]) =>
     [...rows].sort((a, b) => (a.eye === b.eye ? 0 : a.eye === "right" ? -1 : 1));
   const [flags, pupils, ac, discs, fundus, dilations] = await Promise.all([
-    db.select().from(examRedFlags).where(eq(examRedFlags.examId, examId)),
-    db.select().from(examPupils).where(eq(examPupils.examId, examId)),
-    db.select().from(examAnteriorChamber).where(eq(examAnteriorChamber.examId, examId)),
-    db.select().from(examDiscs).where(eq(examDiscs.examId, examId)),
-    db.select().from(examFundus).where(eq(examFundus.examId, examId)),
-    db.select().from(examDilations).where(eq(examDilations.examId, examId)).orderBy(asc(examDilations.instilledAt)),
+    conn.select().from(examRedFlags).where(eq(examRedFlags.examId, examId)),
+    conn.select().from(examPupils).where(eq(examPupils.examId, examId)),
+    conn.select().from(examAnteriorChamber).where(eq(examAnteriorChamber.examId, examId)),
+    conn.select().from(examDiscs).where(eq(examDiscs.examId, examId)),
+    conn.select().from(examFundus).where(eq(examFundus.examId, examId)),
+    conn.select().from(examDilations).where(eq(examDilations.examId, examId)).orderBy(asc(examDilations.instilledAt)),
   ]);
   const f = flags[0];
   return {
@@ -141,10 +141,10 @@ export function gpLine(p: { gpName: string; gpPractice: string; gpAddress: strin
 }
 
 /** The signed exam's measured values, as the letter will carry them. */
-export async function snapshotOf(exam: typeof exams.$inferSelect): Promise<LetterSnapshot> {
-  const s = await loadExam(exam.id);
-  const prompts = await promptsFor(exam.patientId, exam, s);
-  const [examiner] = await db.select({ name: users.name }).from(users).where(eq(users.id, exam.optometristId));
+export async function snapshotOf(exam: typeof exams.$inferSelect, conn: Tx | typeof db = db): Promise<LetterSnapshot> {
+  const s = await loadExam(exam.id, conn);
+  const prompts = await promptsFor(exam.patientId, exam, s, conn);
+  const [examiner] = await conn.select({ name: users.name }).from(users).where(eq(users.id, exam.optometristId));
   // The current refraction: the final one, else the subjective, else the habitual spectacles.
   const kinds: RefractionKind[] = ["final", "subjective", "cycloplegic", "retinoscopy", "autorefraction", "habitual"];
   const kind = kinds.find((k) => s.refractions.some((r) => r.kind === k));
@@ -163,10 +163,10 @@ export async function snapshotOf(exam: typeof exams.$inferSelect): Promise<Lette
     : [];
   const order = { right: 0, left: 1, both: 2 } as const;
   const [extras, triaged, [patientRow], [previous]] = await Promise.all([
-    findingsOf(exam.id),
-    examTriage(exam.id).catch(() => null),
-    db.select().from(patients).where(eq(patients.id, exam.patientId)),
-    db
+    findingsOf(exam.id, conn),
+    examTriage(exam.id, conn).catch(() => null),
+    conn.select().from(patients).where(eq(patients.id, exam.patientId)),
+    conn
       .select({ id: exams.id, examinedAt: exams.examinedAt })
       .from(exams)
       .where(
@@ -179,7 +179,7 @@ export async function snapshotOf(exam: typeof exams.$inferSelect): Promise<Lette
       .orderBy(desc(exams.examinedAt))
       .limit(1),
   ]);
-  const previousIop = previous ? await db.select().from(examIop).where(eq(examIop.examId, previous.id)) : [];
+  const previousIop = previous ? await conn.select().from(examIop).where(eq(examIop.examId, previous.id)) : [];
   return {
     ...extras,
     cornealThickness: [...s.cct]

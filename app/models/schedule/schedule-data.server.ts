@@ -33,5 +33,5 @@ export async function patientOption(id: string | null) {
     })
     .from(patients)
     .where(and(eq(patients.id, id)));
-  return p ? { id: p.id, name: `${p.firstName} ${p.lastName}`, dateOfBirth: p.dateOfBirth, email: p.email } : null;
+  return p ?? null;
 }

@@ -263,7 +263,11 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
           <TriagePanel triage={loaderData.triage} />
           <ExamSections data={loaderData} readOnly={readOnly} shown={shown} />
           <Card title="Attachments">
-            <DocumentList patientId={patient.id} documents={loaderData.documents} />
+            <DocumentList
+              patientId={patient.id}
+              documents={loaderData.documents}
+              reviewFrom={`/patients/${patient.id}/exams/${exam.id}`}
+            />
             <div className="mt-4">
               <UploadForm patientId={patient.id} examId={exam.id} />
             </div>

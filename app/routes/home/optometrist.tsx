@@ -101,17 +101,17 @@ export function OptometristView({ home }: { home: OptometristHome }) {
       </HomeList>
       <HomeList
         id="home-results"
-        title="Results added to your exams"
+        title="Results to review"
         total={results.total}
         rows={results.rows}
-        empty={`No results were added to your exams by colleagues in the last ${results.days} days.`}
+        empty="No results are waiting: everything colleagues attached to your exams has been reviewed."
         more={{ to: "/patients", label: "Patients" }}
       >
         {(d) => (
           <>
             <Link to={d.href} className={linkClass}>
               {d.what}
-              <span className="sr-only"> of {d.patientName}: open the exam</span>
+              <span className="sr-only"> of {d.patientName}: open the exam to review it</span>
             </Link>
             <span>{d.patientName}</span>
             <span className="text-muted">

@@ -25,6 +25,7 @@ import { ORDER_ROLES } from "~/models/orders/orders.server";
 import { PortalInviteButton } from "~/components/portal-invite-button";
 import { ChartReferrals } from "~/components/referrals/chart-referrals";
 import { gpLine, referralsForChart } from "~/models/referrals/referrals.server";
+import { GUARDIAN_UNDER_AGE, isUnder } from "~/models/patients/patient-schema";
 import { RefractionHistory } from "./refraction-plot";
 import { DocumentList, UploadForm } from "~/components/patients/uploads-ui";
 import { Timeline } from "./chart-timeline";
@@ -73,6 +74,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     phone: p.phone,
     address: [p.addressLine1, p.city, p.postcode].filter(Boolean).join(", "),
     gp: gpLine(p),
+    guardian: p.guardianName
+      ? {
+          name: p.guardianName,
+          relationship: p.guardianRelationship,
+          contact: [p.guardianPhone, p.guardianEmail].filter(Boolean).join(" · "),
+        }
+      : null,
+    guardianRequired: p.dateOfBirth ? isUnder(p.dateOfBirth, GUARDIAN_UNDER_AGE) : false,
   };
   const today = new Date().toISOString().slice(0, 10);
   const rx = prescriptions.map((r) => ({ ...r, current: r.expiresOn >= today }));
@@ -136,6 +145,14 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
         description={
           <>
             Age {p.age} · born {formatDate(p.dateOfBirth)} · {p.phone ?? "no phone"} · {p.email ?? "no e-mail"}
+            {p.guardian ? (
+              <span className="block" data-testid="chart-guardian-header">
+                {p.guardian.relationship || "Guardian"}: {p.guardian.name}
+                {p.guardian.contact ? ` · ${p.guardian.contact}` : ""}
+              </span>
+            ) : p.guardianRequired ? (
+              <span className="block font-semibold">No parent or guardian recorded: add one in Edit details.</span>
+            ) : null}
           </>
         }
         actions={
@@ -232,6 +249,12 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
             <dd>{p.address || "—"}</dd>
             <dt className="text-muted">GP</dt>
             <dd data-testid="chart-gp">{p.gp || "Not recorded"}</dd>
+            <dt className="text-muted">Parent or guardian</dt>
+            <dd data-testid="chart-guardian">
+              {p.guardian
+                ? `${p.guardian.name}${p.guardian.relationship ? ` (${p.guardian.relationship})` : ""}${p.guardian.contact ? ` · ${p.guardian.contact}` : ""}`
+                : "Not recorded"}
+            </dd>
             <dt className="text-muted">Sex</dt>
             <dd>{p.sex === "unknown" ? "Not recorded" : p.sex}</dd>
           </dl>
@@ -242,7 +265,12 @@ export default function Chart({ loaderData: d }: Route.ComponentProps) {
           <RefractionHistory points={d.history} progression={d.progression} />
           <ChartReferrals referrals={d.referrals} />
           <Card title="Documents">
-            <DocumentList patientId={p.id} documents={d.documents.rows} paging={d.documents.paging} />
+            <DocumentList
+              patientId={p.id}
+              documents={d.documents.rows}
+              paging={d.documents.paging}
+              reviewFrom={`/patients/${p.id}${d.documents.paging.page > 1 ? `?docs=${d.documents.paging.page}` : ""}`}
+            />
             <div className="mt-4">
               <UploadForm patientId={p.id} />
             </div>

@@ -8,7 +8,7 @@ import { Textarea } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
 import type { z } from "zod";
 import { formatDate } from "~/lib/format";
-import { patientSchema } from "~/models/patients/patient-schema";
+import { GUARDIAN_UNDER_AGE, patientSchema } from "~/models/patients/patient-schema";
 
 export type Duplicate = {
   id: string;
@@ -131,6 +131,23 @@ export function PatientForm({
             <input {...getInputProps(fields.remindersByEmail, { type: "checkbox" })} className="size-4" />
             Send reminders by e-mail
           </label>
+        </div>
+      </Card>
+      <Card title="Parent or guardian">
+        <p className="mb-3 text-sm text-muted">
+          Required for a patient under {GUARDIAN_UNDER_AGE}: their name, how they are related, and a phone number or
+          e-mail address. Optional for older patients.
+        </p>
+        <div className="grid gap-4 sm:grid-cols-2">
+          <FormField label="Guardian's name" field={fields.guardianName} autoComplete="off" />
+          <FormField
+            label="Relationship to the patient"
+            field={fields.guardianRelationship}
+            hint="For example mother, father, grandparent, legal guardian."
+            autoComplete="off"
+          />
+          <FormField label="Guardian's phone" field={fields.guardianPhone} type="tel" autoComplete="off" />
+          <FormField label="Guardian's e-mail" field={fields.guardianEmail} type="email" autoComplete="off" />
         </div>
       </Card>
       <Card title="General practitioner (GP)">

@@ -7,7 +7,13 @@ import { Notice } from "~/components/ui/notice";
 
 import { PatientPicker } from "./patient-picker";
 
-export type PatientOption = { id: string; name: string; dateOfBirth: string; email: string | null };
+export type PatientOption = {
+  id: string;
+  firstName: string;
+  lastName: string;
+  dateOfBirth: string;
+  email: string | null;
+};
 export type BookingDefaults = {
   start?: string;
   providerId?: string;
