@@ -96,6 +96,8 @@ export const invoices = pgTable(
   (t) => [
     uniqueIndex("invoices_number_uq").on(t.number),
     index("invoices_status_created_idx").on(t.status, t.createdAt),
+    /** The invoices list: newest first, a page at a time, without sorting every invoice. */
+    index("invoices_created_idx").on(t.createdAt, t.id),
     index("invoices_patient_idx").on(t.patientId),
     index("invoices_exam_idx").on(t.examId),
     index("invoices_site_idx").on(t.siteId),

@@ -27,6 +27,7 @@ export async function invoiceListPage(f: InvoiceListFilter, pageSize: number) {
     );
   }
   const cond = where.length ? and(...where) : undefined;
+  const cap = (f.page + 10) * pageSize + 1;
   const [rows, [{ total } = { total: 0 }], [settings]] = await Promise.all([
     db
       .select({
@@ -46,12 +47,23 @@ export async function invoiceListPage(f: InvoiceListFilter, pageSize: number) {
       .orderBy(desc(invoices.createdAt), desc(invoices.id))
       .limit(pageSize)
       .offset((f.page - 1) * pageSize),
-    db.select({ total: count() }).from(invoices).innerJoin(patients, eq(patients.id, invoices.patientId)).where(cond),
+    // Counted only up to ten pages past this one: an exact count of every invoice a practice ever
+    // issued costs more than the page itself, and "more than 1,250" is all a pager needs.
+    db.select({ total: count() }).from(
+      db
+        .select({ one: sql`1` })
+        .from(invoices)
+        .innerJoin(patients, eq(patients.id, invoices.patientId))
+        .where(cond)
+        .limit(cap)
+        .as("capped"),
+    ),
     db.select({ timeZone: practiceSettings.timeZone }).from(practiceSettings).where(eq(practiceSettings.id, 1)),
   ]);
   const tz = settings?.timeZone ?? "Europe/London";
   return {
-    total,
+    total: Math.min(total, cap - 1),
+    totalIsExact: total < cap,
     rows: rows.map((r) => ({
       id: r.id,
       label: invoiceLabel(r.number),

@@ -59,7 +59,7 @@ const STATUS_FILTERS = [
 ] as const;
 
 export default function Invoices({ loaderData }: Route.ComponentProps) {
-  const { rows, filter, total } = loaderData;
+  const { rows, filter, total, totalIsExact } = loaderData;
   return (
     <>
       <PageHeader
@@ -102,7 +102,7 @@ export default function Invoices({ loaderData }: Route.ComponentProps) {
           getRowId={(r) => r.id}
           caption="Invoices, newest first"
           empty="No invoices match."
-          paging={{ page: filter.page, pageSize: PAGE_SIZE, total, noun: ["invoice", "invoices"] }}
+          paging={{ page: filter.page, pageSize: PAGE_SIZE, total, totalIsExact, noun: ["invoice", "invoices"] }}
         />
       </Card>
     </>

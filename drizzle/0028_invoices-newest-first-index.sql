@@ -1,0 +1,1 @@
+CREATE INDEX "invoices_created_idx" ON "invoices" USING btree ("created_at","id");
