@@ -281,6 +281,7 @@ describe("chart", () => {
       "appointments",
       "balance",
       "canBill",
+      "canOrder",
       "clinical",
       "invoices",
       "patient",
