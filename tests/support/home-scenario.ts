@@ -36,14 +36,21 @@ export async function homeScenario(q: Query) {
   // Today in the practice's zone: one patient arrived for an early slot, one booked for the last slot.
   const today = (hour: number) =>
     `(date_trunc('day', now() at time zone $1) + interval '${hour} hours') at time zone $1`;
-  const appt = (patientId: string, hour: number, status: string) =>
+  const appt = (patientId: string, hour: number, status: string, at = today(hour)) =>
     one(
       `insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status)
-       values ($2, $3, $4, ${today(hour)}, ${today(hour)} + interval '20 minutes', $5) returning id`,
+       values ($2, $3, $4, ${at}, ${at} + interval '20 minutes', $5) returning id`,
       [timeZone, patientId, optom.id, type.id, status],
     );
   const arrived = await appt(waiting.id, 0, "arrived");
-  const booked = await appt(coming.id, 23, "booked");
+  // The next one to come: a couple of minutes from now (but still today), so it heads the short
+  // list of who is to come at any hour, ahead of the demo diary's day.
+  const booked = await appt(
+    coming.id,
+    23,
+    "booked",
+    `least(date_trunc('minute', now()) + interval '2 minutes', ${today(23)} + interval '39 minutes')`,
+  );
   const debtorVisit = await appt(debtor.id, 1, "booked");
   const laterVisit = await one(
     `insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at)
