@@ -1,18 +1,6 @@
 /** A referral's snapshot of the signed exam, triage's proposal in plain words, and the letter's pre-filled text. */
-import { and, asc, desc, eq, sql } from "drizzle-orm";
-import {
-  examAnteriorChamber,
-  examDilations,
-  examDiscs,
-  examFundus,
-  examIop,
-  examPupils,
-  examRedFlags,
-  exams,
-  patients,
-  users,
-  type ReferralSnapshot,
-} from "~/db/schema";
+import { and, desc, eq, sql } from "drizzle-orm";
+import { examIop, exams, patients, users, type ReferralSnapshot } from "~/db/schema";
 import {
   COLOUR_RESULTS,
   COLOUR_TESTS,
@@ -24,6 +12,7 @@ import {
 } from "~/lib/exam/sections";
 import { formatRx } from "~/lib/optics";
 import { findingKey, type Urgency } from "~/lib/referrals";
+import { loadFindings } from "~/models/exams/findings.server";
 import { examTriage } from "~/models/exams/triage.server";
 import { loadExam, promptsFor } from "~/models/exams/exam.server";
 import { db, type Tx } from "~/utils/db.server";
@@ -63,15 +52,7 @@ const DRUG_WORDS: Record<string, string> = {
 async function findingsOf(examId: string, conn: Tx | typeof db) {
   const byEye = <T extends { eye: string }>(rows: T[]) =>
     [...rows].sort((a, b) => (a.eye === b.eye ? 0 : a.eye === "right" ? -1 : 1));
-  const [flags, pupils, ac, discs, fundus, dilations] = await Promise.all([
-    conn.select().from(examRedFlags).where(eq(examRedFlags.examId, examId)),
-    conn.select().from(examPupils).where(eq(examPupils.examId, examId)),
-    conn.select().from(examAnteriorChamber).where(eq(examAnteriorChamber.examId, examId)),
-    conn.select().from(examDiscs).where(eq(examDiscs.examId, examId)),
-    conn.select().from(examFundus).where(eq(examFundus.examId, examId)),
-    conn.select().from(examDilations).where(eq(examDilations.examId, examId)).orderBy(asc(examDilations.instilledAt)),
-  ]);
-  const f = flags[0];
+  const { redFlags: f, pupils, anteriorChamber: ac, discs, fundus, dilations } = await loadFindings(examId, conn);
   return {
     redFlags: f
       ? {
