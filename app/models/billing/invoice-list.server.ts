@@ -2,7 +2,7 @@ import { and, count, desc, eq, ilike, or, sql, type SQL } from "drizzle-orm";
 import { invoices, patients, practiceSettings } from "~/db/schema";
 import { formatDate, formatMoney } from "~/lib/format";
 import { db } from "~/utils/db.server";
-import { invoiceLabel } from "./invoices.server";
+import { invoiceLabel, invoiceSummaryColumns } from "./invoices.server";
 
 /** Which invoices the list shows: a status ("due" is open or part paid), a patient's name or an invoice number, a page. */
 export type InvoiceListFilter = {
@@ -31,14 +31,7 @@ export async function invoiceListPage(f: InvoiceListFilter, pageSize: number) {
   const [rows, [{ total } = { total: 0 }], [settings]] = await Promise.all([
     db
       .select({
-        id: invoices.id,
-        number: invoices.number,
-        status: invoices.status,
-        totalMinor: invoices.totalMinor,
-        paidMinor: invoices.paidMinor,
-        currency: invoices.currency,
-        issuedAt: invoices.issuedAt,
-        createdAt: invoices.createdAt,
+        ...invoiceSummaryColumns,
         patient: sql<string>`${patients.firstName} || ' ' || ${patients.lastName}`,
       })
       .from(invoices)

@@ -43,6 +43,18 @@ export async function practiceBilling(conn: Conn = db) {
   return p;
 }
 
+/** The columns every list of invoices shows: number, state, amounts and dates. */
+export const invoiceSummaryColumns = {
+  id: invoices.id,
+  number: invoices.number,
+  status: invoices.status,
+  totalMinor: invoices.totalMinor,
+  paidMinor: invoices.paidMinor,
+  currency: invoices.currency,
+  issuedAt: invoices.issuedAt,
+  createdAt: invoices.createdAt,
+};
+
 export function invoiceLabel(number: number | null) {
   return number === null ? "Draft" : `INV-${String(number).padStart(6, "0")}`;
 }

@@ -1,6 +1,6 @@
 import { and, asc, desc, eq, inArray, sql } from "drizzle-orm";
 import { appointments, appointmentTypes, examAssessment, examRefractions, exams, invoices, users } from "~/db/schema";
-import { invoiceLabel } from "~/models/billing/invoices.server";
+import { invoiceLabel, invoiceSummaryColumns } from "~/models/billing/invoices.server";
 import { myopiaProgressionReport, toPowerVector, type MyopiaProgressionReport } from "~/lib/optics";
 import { db } from "~/utils/db.server";
 import { ageInYears as ageOn } from "~/lib/format";
@@ -26,16 +26,7 @@ export async function appointmentsOf(patientId: string) {
 
 export async function invoicesOf(patientId: string) {
   const rows = await db
-    .select({
-      id: invoices.id,
-      number: invoices.number,
-      status: invoices.status,
-      totalMinor: invoices.totalMinor,
-      paidMinor: invoices.paidMinor,
-      currency: invoices.currency,
-      issuedAt: invoices.issuedAt,
-      createdAt: invoices.createdAt,
-    })
+    .select(invoiceSummaryColumns)
     .from(invoices)
     .where(eq(invoices.patientId, patientId))
     .orderBy(desc(invoices.createdAt))

@@ -11,6 +11,7 @@ import {
   users,
   workingHours,
 } from "~/db/schema";
+import { invoiceSummaryColumns } from "~/models/billing/invoices.server";
 import { addDays, slotsForDay, startOfLocalDay, weekdayOf } from "~/lib/scheduling";
 import { closedReason, openingContext } from "~/models/schedule/closures.server";
 import { requireRole } from "~/utils/auth.server";
@@ -99,15 +100,7 @@ export function cancellable(visit: { start: string | Date; status: string }, cut
 
 export async function invoicesOf(patientId: string) {
   const list = await db
-    .select({
-      id: invoices.id,
-      number: invoices.number,
-      status: invoices.status,
-      totalMinor: invoices.totalMinor,
-      paidMinor: invoices.paidMinor,
-      currency: invoices.currency,
-      issuedAt: invoices.issuedAt,
-    })
+    .select(invoiceSummaryColumns)
     .from(invoices)
     .where(and(eq(invoices.patientId, patientId), ne(invoices.status, "draft")))
     .orderBy(desc(invoices.issuedAt));
