@@ -4,7 +4,8 @@ import type { OwnerHome, Share } from "~/models/home/home.server";
 
 const pct = (s: Share) => (s.percent === null ? "No data yet" : `${s.percent}%`);
 const plural = (n: number, one: string, many: string) => `${n.toLocaleString("en-GB")} ${n === 1 ? one : many}`;
-const dayWords = (d: number | null) => (d === null ? "not yet known" : `${d.toLocaleString("en-GB")} days`);
+const dayWords = (d: number | null) =>
+  d === null ? "not yet known" : `${d.toLocaleString("en-GB")} ${d === 1 ? "day" : "days"}`;
 
 /** The owner's figures, each with what it counts and the page behind it. */
 export function OwnerView({ home }: { home: OwnerHome }) {
@@ -42,7 +43,9 @@ export function OwnerView({ home }: { home: OwnerHome }) {
       <Figure
         id="home-referrals"
         title="Referral turnaround"
-        value={referrals.medianDaysToReply === null ? "No replies yet" : `${referrals.medianDaysToReply} days to reply`}
+        value={
+          referrals.medianDaysToReply === null ? "No replies yet" : `${dayWords(referrals.medianDaysToReply)} to reply`
+        }
         detail={`Median over ${plural(referrals.sent, "letter", "letters")} sent in the last ${windowDays} days: acknowledged in ${dayWords(referrals.medianDaysToAcknowledge)} (${referrals.acknowledged} acknowledged), replied in ${dayWords(referrals.medianDaysToReply)} (${referrals.replied} replied).`}
         link={{ to: "/referrals?status=overdue", label: "Overdue referrals" }}
       />
