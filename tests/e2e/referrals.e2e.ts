@@ -145,7 +145,7 @@ describe("a referral from the exam to the ophthalmologist's reply", () => {
     const ack = surgeon.locator("form").filter({ has: surgeon.getByRole("button", { name: "Acknowledge receipt" }) });
     await ack.getByLabel("Your name").fill("Mr Lucan Ferreira-Holt");
     await ack.getByRole("button", { name: "Acknowledge receipt" }).click();
-    await poll(() => surgeon.getByText("receipt acknowledged").count()).toBe(1);
+    await poll(() => surgeon.getByText("Thank you: receipt acknowledged", { exact: false }).count()).toBe(1);
     // Acknowledged once: the form is gone, and the name given there carries into the reply (typed once).
     await poll(() => surgeon.getByRole("button", { name: "Acknowledge receipt" }).count()).toBe(0);
     const replyForm = surgeon.locator("form").filter({ has: surgeon.getByRole("button", { name: "Send reply" }) });
