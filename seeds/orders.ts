@@ -1,9 +1,10 @@
 /**
- * The demo practice's optical side (fictional): frame stock, labs, lens prices, and one order in
- * every state, so each screen and report has something to show. Orders are walked through the
+ * The demo practice's optical side (fictional): frame stock, labs, lens prices, one order in every
+ * state, so each screen and report has something to show, and the collected pairs of about two in
+ * five recent spectacle prescriptions, so the owner's "exams that led to an order" is a real share. Orders are walked through the
  * allowed moves (the database refuses any other) with their history rows.
  */
-import { and, eq, inArray, sql } from "drizzle-orm";
+import { and, desc, eq, inArray, sql } from "drizzle-orm";
 import type { NodePgDatabase } from "drizzle-orm/node-postgres";
 import * as schema from "../app/db/schema";
 import { checkMountedPair } from "../app/lib/optics";
@@ -145,7 +146,8 @@ export async function seedOrders(tx: Tx) {
   const [lensFee] = await tx.select().from(feeItems).where(eq(feeItems.code, "LN-SV"));
   const [desk] = await tx.select().from(users).where(eq(users.role, "receptionist")).limit(1);
 
-  // Spectacle prescriptions of caseload patients other than the portal demo patient.
+  // Spectacle prescriptions of caseload patients other than the portal demo patient, newest first:
+  // the spectacles a practice sells follow the exams it has just done.
   const rxs = await tx
     .select({ id: prescriptions.id, patientId: prescriptions.patientId, issuedAt: prescriptions.issuedAt })
     .from(prescriptions)
@@ -157,14 +159,21 @@ export async function seedOrders(tx: Tx) {
         sql`${prescriptions.expiresOn} > now()`,
       ),
     )
-    .orderBy(prescriptions.issuedAt)
-    .limit(PATHS.length);
+    .orderBy(desc(prescriptions.issuedAt));
   const day = 86_400_000;
-  for (const [i, path] of PATHS.entries()) {
-    const rx = rxs[i];
-    if (!rx) break;
-    const frame = frameRows[i % 4]!;
-    const firstAt = new Date(Date.now() - ((path[0]?.daysAgo ?? 1) + 1) * day);
+  const now = Date.now();
+  const used = new Set<string>();
+
+  /** One order for `rx`, made at `madeAt`, walked through `steps` (each at its own time) with its history. */
+  const place = async (
+    rx: (typeof rxs)[number],
+    n: number,
+    madeAt: Date,
+    steps: { to: schema.OrderState; reason?: string; at: Date }[],
+    takeFromStock: boolean,
+  ) => {
+    used.add(rx.id);
+    const frame = frameRows[n % 4]!;
     const [o] = await tx
       .insert(opticalOrders)
       .values({
@@ -176,13 +185,13 @@ export async function seedOrders(tx: Tx) {
         frameLabel: `${frame.supplier} ${frame.model}, ${frame.colour}, ${frame.size}`,
         framePriceMinor: frame.priceMinor,
         lensType: "single_vision",
-        lensMaterial: "Mid index 1.60",
+        lensMaterial: n % 3 === 0 ? "Standard index 1.50" : "Mid index 1.60",
         coatings: ["Hard coat", "Anti-reflection"],
         pdRightMm: 31.5,
         pdLeftMm: 31,
         lensFeeItemId: lensFee?.id ?? null,
         createdById: desk?.id ?? null,
-        createdAt: firstAt,
+        createdAt: madeAt,
       })
       .returning();
     await tx.insert(orderEvents).values({
@@ -191,18 +200,17 @@ export async function seedOrders(tx: Tx) {
       fromState: null,
       toState: "draft",
       actorUserId: desk?.id ?? null,
-      at: firstAt,
+      at: madeAt,
     });
-    if (path.at(-1)?.to !== "cancelled")
+    if (takeFromStock && steps.at(-1)?.to !== "cancelled")
       await tx
         .update(frames)
         .set({ quantity: sql`${frames.quantity} - 1` })
         .where(eq(frames.id, frame.id));
     let from: schema.OrderState = "draft";
-    for (const step of path) {
-      const at = new Date(Date.now() - step.daysAgo * day);
+    for (const step of steps) {
       await tx.update(opticalOrders).set({ state: step.to }).where(eq(opticalOrders.id, o!.id));
-      await tx.update(opticalOrders).set({ stateChangedAt: at }).where(eq(opticalOrders.id, o!.id));
+      await tx.update(opticalOrders).set({ stateChangedAt: step.at }).where(eq(opticalOrders.id, o!.id));
       await tx.insert(orderEvents).values({
         orderId: o!.id,
         kind: "spectacles",
@@ -210,7 +218,7 @@ export async function seedOrders(tx: Tx) {
         toState: step.to,
         actorUserId: desk?.id ?? null,
         reason: step.reason ?? "",
-        at,
+        at: step.at,
       });
       if (step.to === "checked") {
         const eyes = await tx.select().from(prescriptionEyes).where(eq(prescriptionEyes.prescriptionId, rx.id));
@@ -229,10 +237,42 @@ export async function seedOrders(tx: Tx) {
           report,
           pass: report.pass,
           checkedById: desk?.id ?? null,
-          at,
+          at: step.at,
         });
       }
       from = step.to;
     }
+  };
+
+  // One order in every state, each on the newest prescription issued before the order was made.
+  for (const [i, path] of PATHS.entries()) {
+    const madeAt = new Date(now - ((path[0]?.daysAgo ?? 1) + 1) * day);
+    const rx = rxs.find((r) => !used.has(r.id) && r.issuedAt.getTime() < madeAt.getTime() - 2 * 3_600_000);
+    if (!rx) break;
+    const steps = path.map((s) => ({ to: s.to, reason: s.reason, at: new Date(now - s.daysAgo * day) }));
+    await place(rx, i, madeAt, steps, true);
+  }
+
+  // The everyday trade: about two in five patients given new spectacles in the last three months
+  // ordered them here the same day; the pairs went to the lab, passed the check and were collected.
+  const settled = rxs.filter(
+    (r) => !used.has(r.id) && r.issuedAt.getTime() > now - 90 * day && r.issuedAt.getTime() < now - 21 * day,
+  );
+  for (const [i, rx] of settled.entries()) {
+    if (i % 5 >= 2) continue;
+    const at = (days: number) => new Date(rx.issuedAt.getTime() + 30 * 60_000 + days * day);
+    await place(
+      rx,
+      i,
+      at(0),
+      [
+        { to: "sent_to_lab", at: at(1) },
+        { to: "received", at: at(7) },
+        { to: "checked", reason: "Passed", at: at(7.1) },
+        { to: "ready_to_collect", at: at(7.2) },
+        { to: "collected", at: at(9 + (i % 9)) },
+      ],
+      false,
+    );
   }
 }

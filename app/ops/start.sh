@@ -18,6 +18,10 @@ if [[ -z "${S3_BUCKET:-}" ]]; then
   export S3_ENDPOINT="http://127.0.0.1:$S3_STANDIN_PORT"
   start_bg s3 "$S3_STANDIN_PORT" env S3_STANDIN_DIR="$ROOT/.data/s3" "$BIN/tsx" app/standins/s3-server.ts
 fi
+# The demo's attached results (field printouts, fundus photographs) go into the object store, so
+# they are added once it is up; a second run adds nothing.
+"$BIN/tsx" seeds/documents.ts
+
 # The local Stripe stand-in, unless real Stripe keys are configured (STRIPE_SECRET_KEY set).
 if [[ -z "${STRIPE_SECRET_KEY:-}" ]]; then
   export STRIPE_API_HOST=127.0.0.1 STRIPE_API_PORT="${STRIPE_API_PORT:-12111}" STRIPE_API_PROTOCOL=http

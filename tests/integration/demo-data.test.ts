@@ -5,6 +5,7 @@
  * Reads only the seeded caseload (its own e-mail domain), not rows other test files add.
  */
 import { sql } from "drizzle-orm";
+import { PDFDocument } from "pdf-lib";
 import { describe, expect, it } from "vitest";
 import { checkLensPower, type CatalogueLens } from "~/lib/contact-lens/catalogue";
 import { displayStatus } from "~/lib/referrals";
@@ -12,9 +13,12 @@ import { localParts } from "~/lib/scheduling/time";
 import { loader as letterPdfLoader } from "~/routes/referrals/letter-pdf";
 import { loader as referralLoader } from "~/routes/referrals/referral";
 import { db } from "~/utils/db.server";
-import { cookieFor, makeRequest, run, statusOf } from "#tests/support/helpers";
+import { storage } from "~/utils/storage.server";
+import { sniffType } from "~/models/patients/documents.server";
+import { cookieFor, DEMO_EMAIL, makeRequest, run, statusOf } from "#tests/support/helpers";
 import { CASELOAD_DOMAIN } from "../../seeds/caseload";
 import { DIARY_NOTE } from "../../seeds/diary";
+import { DEMO_FILE_PREFIX, seedDocuments } from "../../seeds/documents";
 
 const CASELOAD = `%@${CASELOAD_DOMAIN}`;
 const ZONE = "Europe/London";
@@ -213,6 +217,33 @@ describe("the seeded lists", () => {
     expect(messages!.reminders).toBeGreaterThan(0);
   });
 
+  it("shows orders in every state, made after their prescription, and a share of recent exams that led to one", async () => {
+    const states = await rows<{ state: string }>(sql`select distinct state::text from optical_orders`);
+    expect(states.map((s) => s.state).sort()).toEqual(
+      expect.arrayContaining([
+        "draft",
+        "sent_to_lab",
+        "received",
+        "checked",
+        "ready_to_collect",
+        "collected",
+        "remake",
+        "cancelled",
+      ]),
+    );
+    const early = await rows<{ id: string }>(sql`
+      select o.id from optical_orders o join prescriptions rx on rx.id = o.prescription_id
+      where o.created_at < rx.issued_at`);
+    expect(early).toEqual([]);
+    // The owner's home counts exams signed in its window whose prescription was ordered here.
+    const [share] = await rows<{ exams: number; ordered: number }>(sql`
+      select count(*)::int as exams, count(*) filter (where exists (select 1 from optical_orders o
+        join prescriptions rx on rx.id = o.prescription_id where rx.exam_id = e.id and o.state <> 'cancelled'))::int as ordered
+      from exams e where e.status = 'signed' and e.signed_at >= now() - interval '90 days'`);
+    expect(share!.ordered / share!.exams).toBeGreaterThan(0.05);
+    expect(share!.ordered / share!.exams).toBeLessThan(0.6);
+  });
+
   it("gives each sent referral a snapshot of its exam, and its page and letter open", async () => {
     const sent = await rows<{ id: string; acuity: number; refraction: number; iop: number; prompts: number }>(sql`
       select id, jsonb_array_length(snapshot->'acuity')::int as acuity,
@@ -281,5 +312,68 @@ describe("the seeded lists", () => {
     expect(children!.n).toBeGreaterThan(5);
     expect(children!.with).toBe(children!.n);
     expect(children!.badEmail).toBe(0);
+  });
+});
+
+describe("the seeded results", () => {
+  it("puts field printouts and fundus photographs on recent exams, some still to be read by the optometrist", async () => {
+    class Rollback extends Error {}
+    const out = await db
+      .transaction(async (tx) => {
+        const added = await seedDocuments(tx, storage);
+        const again = await seedDocuments(tx, storage);
+        const docs = (
+          await tx.execute<{
+            kind: string;
+            content_type: string;
+            storage_key: string;
+            thumbnail_key: string | null;
+            reviewed: boolean;
+            mine: boolean;
+            by_desk: boolean;
+            after_exam: boolean;
+            past: boolean;
+          }>(sql`
+            select d.kind, d.content_type, d.storage_key, d.thumbnail_key, d.reviewed_at is not null as reviewed,
+              u.email = ${DEMO_EMAIL.optometrist} as mine, up.role = 'receptionist' as by_desk,
+              d.created_at > e.signed_at as after_exam, d.created_at <= clock_timestamp() and coalesce(d.reviewed_at, d.created_at) <= clock_timestamp() as past
+            from documents d join exams e on e.id = d.exam_id join users u on u.id = e.optometrist_id
+              join users up on up.id = d.uploaded_by_id
+            where d.original_name like ${DEMO_FILE_PREFIX + "%"}`)
+        ).rows;
+        throw new Rollback(JSON.stringify({ added, again, docs }));
+      })
+      .catch((e: unknown) => {
+        if (e instanceof Rollback) return JSON.parse(e.message) as { added: number; again: number; docs: Doc[] };
+        throw e;
+      });
+    type Doc = {
+      kind: string;
+      content_type: string;
+      storage_key: string;
+      thumbnail_key: string | null;
+      reviewed: boolean;
+      mine: boolean;
+      by_desk: boolean;
+      after_exam: boolean;
+      past: boolean;
+    };
+    expect(out.added).toBeGreaterThanOrEqual(9);
+    expect(out.again).toBe(0); // idempotent
+    expect(out.docs).toHaveLength(out.added);
+    const toRead = out.docs.filter((d) => d.mine && !d.reviewed);
+    expect(toRead.length).toBeGreaterThanOrEqual(3);
+    expect(out.docs.some((d) => d.mine && d.reviewed)).toBe(true);
+    expect(new Set(out.docs.map((d) => d.kind))).toEqual(new Set(["field_printout", "fundus_photo"]));
+    for (const d of out.docs) {
+      expect(d.by_desk && d.after_exam && d.past).toBe(true);
+      // The stored bytes are what the row says they are (checked the way an upload is checked).
+      const bytes = (await storage.get(d.storage_key))!;
+      expect(sniffType(bytes)?.contentType).toBe(d.content_type);
+      if (d.kind === "fundus_photo") expect(d.thumbnail_key).not.toBeNull();
+    }
+    const field = out.docs.find((d) => d.kind === "field_printout")!;
+    const pdf = await PDFDocument.load((await storage.get(field.storage_key))!);
+    expect(pdf.getPageCount()).toBe(1);
   });
 });

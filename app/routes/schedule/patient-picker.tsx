@@ -4,7 +4,7 @@ import { Button } from "~/components/ui/button";
 import { Input } from "~/components/ui/input";
 
 import { PatientSearch, type PatientSearchHit } from "~/components/patient-search";
-import { DuplicateWarning, type Duplicate } from "~/routes/patients/patient-form";
+import { DuplicateWarning, type Duplicate } from "~/components/patients/duplicate-warning";
 import type { PatientOption } from "./booking-form";
 
 const hitOf = (p: PatientOption): PatientSearchHit => ({ phone: null, ...p });
