@@ -105,6 +105,23 @@ describe("starting a card payment", () => {
     expect(session).toMatchObject({ amount_total: 7500, currency: "gbp", status: "open" });
   });
 
+  it("reloads itself while the provider confirms a payment, and stops after three minutes with a clear word", async () => {
+    const { id } = await issuedInvoice([{ priceMinor: 3000 }]);
+    const token = signPayLink(id);
+    await run(payAction, makeRequest(`/pay/${token}`, { form: { intent: "pay" } }), { token });
+    const page = async () =>
+      dataOf<{ confirming: boolean; unconfirmed: boolean }>(
+        await run(payLoader, makeRequest(`/pay/${token}?checkout=done`), { token }),
+      );
+    expect(await page()).toMatchObject({ confirming: true, unconfirmed: false });
+    // The webhook never came: the attempt is still pending four minutes later.
+    await db
+      .update(payments)
+      .set({ updatedAt: new Date(Date.now() - 4 * 60_000) })
+      .where(eq(payments.invoiceId, id));
+    expect(await page()).toMatchObject({ confirming: false, unconfirmed: true });
+  });
+
   it("after a desk payment, closes the open checkout and asks the new amount next time", async () => {
     const { id } = await issuedInvoice([{ priceMinor: 6000 }]);
     const token = signPayLink(id);

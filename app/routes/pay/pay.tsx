@@ -22,6 +22,8 @@ export const handle = { hydrate: false };
 
 /** Seconds between reloads while a payment made at the checkout waits for the provider's webhook. */
 const CONFIRM_REFRESH_SECONDS = 2;
+/** After this long without the provider's word the page stops reloading and says what to do. */
+const CONFIRM_LIMIT_MS = 3 * 60_000;
 
 /**
  * The patient's pay-by-link page: no sign-in; the signed, expiring token in the address is the
@@ -68,7 +70,17 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     })),
     checkout,
     // Back from the checkout before the payment service's webhook has arrived.
-    confirming: checkout === "done" && d.invoice.status !== "paid" && attempt?.status === "pending",
+    confirming:
+      checkout === "done" &&
+      d.invoice.status !== "paid" &&
+      attempt?.status === "pending" &&
+      Date.now() - attempt.updatedAt.getTime() < CONFIRM_LIMIT_MS,
+    // Still unconfirmed after the limit: no more reloads; the patient is told not to pay twice.
+    unconfirmed:
+      checkout === "done" &&
+      d.invoice.status !== "paid" &&
+      attempt?.status === "pending" &&
+      Date.now() - attempt.updatedAt.getTime() >= CONFIRM_LIMIT_MS,
     attempt: attempt ? { status: attempt.status, problem: attempt.problem } : null,
     linkExpires: formatDate(expiresAt, { timeZone: practice.timeZone, style: "long" }),
     pdfHref: `/pay/${params.token}/invoice.pdf`,
@@ -137,6 +149,13 @@ export default function PayPage({ loaderData: d, actionData }: Route.ComponentPr
             The payment service is confirming your payment. This page updates by itself in a few seconds.
           </Notice>
         ) : null}
+        {d.unconfirmed ? (
+          <Notice tone="warning" title="Your payment is not confirmed yet">
+            The payment service has not confirmed your payment after several minutes. Please do not pay again: if your
+            card was charged, the invoice will show as paid once it is confirmed. Open this link again later, or call{" "}
+            {d.practice.name} on {d.practice.phone}.
+          </Notice>
+        ) : null}
         {declined ? (
           <Notice tone="error" title="Your card was not charged">
             {d.attempt!.problem} The invoice is still open; you can try again with another card, or pay at the practice.
@@ -189,7 +208,7 @@ export default function PayPage({ loaderData: d, actionData }: Route.ComponentPr
           </dd>
         </dl>
       </Card>
-      {(d.invoice.status === "open" || d.invoice.status === "partially_paid") && !confirming ? (
+      {(d.invoice.status === "open" || d.invoice.status === "partially_paid") && !confirming && !d.unconfirmed ? (
         <Form method="post" className="mt-6">
           <input type="hidden" name="intent" value="pay" />
           <Button type="submit" pending={navigation.state !== "idle"} className="px-6 py-3 text-base">
