@@ -63,7 +63,7 @@ function DocumentTiles({
   return (
     <ul className="grid gap-3 sm:grid-cols-2 lg:grid-cols-3">
       {documents.map((d) => (
-        <li key={d.id} id={`document-${d.id}`} className="flex gap-3 rounded-md border border-line p-3">
+        <li key={d.id} id={`document-${d.id}`} className="flex scroll-mt-24 gap-3 rounded-md border border-line p-3">
           {d.hasThumbnail ? (
             <img
               src={`/patients/${patientId}/documents/${d.id}/thumbnail`}
