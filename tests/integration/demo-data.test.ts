@@ -8,6 +8,7 @@ import { sql } from "drizzle-orm";
 import { PDFDocument } from "pdf-lib";
 import { describe, expect, it } from "vitest";
 import { checkLensPower, type CatalogueLens } from "~/lib/contact-lens/catalogue";
+import { ORDER_STATES } from "~/lib/orders/states";
 import { displayStatus } from "~/lib/referrals";
 import { localParts } from "~/lib/scheduling/time";
 import { loader as letterPdfLoader } from "~/routes/referrals/letter-pdf";
@@ -219,18 +220,7 @@ describe("the seeded lists", () => {
 
   it("shows orders in every state, made after their prescription, and a share of recent exams that led to one", async () => {
     const states = await rows<{ state: string }>(sql`select distinct state::text from optical_orders`);
-    expect(states.map((s) => s.state).sort()).toEqual(
-      expect.arrayContaining([
-        "draft",
-        "sent_to_lab",
-        "received",
-        "checked",
-        "ready_to_collect",
-        "collected",
-        "remake",
-        "cancelled",
-      ]),
-    );
+    expect(states.map((s) => s.state).sort()).toEqual([...ORDER_STATES].sort());
     const early = await rows<{ id: string }>(sql`
       select o.id from optical_orders o join prescriptions rx on rx.id = o.prescription_id
       where o.created_at < rx.issued_at`);
@@ -315,6 +305,18 @@ describe("the seeded lists", () => {
   });
 });
 
+type Doc = {
+  kind: string;
+  content_type: string;
+  storage_key: string;
+  thumbnail_key: string | null;
+  reviewed: boolean;
+  mine: boolean;
+  by_desk: boolean;
+  after_exam: boolean;
+  past: boolean;
+};
+
 describe("the seeded results", () => {
   it("puts field printouts and fundus photographs on recent exams, some still to be read by the optometrist", async () => {
     class Rollback extends Error {}
@@ -323,17 +325,7 @@ describe("the seeded results", () => {
         const added = await seedDocuments(tx, storage);
         const again = await seedDocuments(tx, storage);
         const docs = (
-          await tx.execute<{
-            kind: string;
-            content_type: string;
-            storage_key: string;
-            thumbnail_key: string | null;
-            reviewed: boolean;
-            mine: boolean;
-            by_desk: boolean;
-            after_exam: boolean;
-            past: boolean;
-          }>(sql`
+          await tx.execute<Doc>(sql`
             select d.kind, d.content_type, d.storage_key, d.thumbnail_key, d.reviewed_at is not null as reviewed,
               u.email = ${DEMO_EMAIL.optometrist} as mine, up.role = 'receptionist' as by_desk,
               d.created_at > e.signed_at as after_exam, d.created_at <= clock_timestamp() and coalesce(d.reviewed_at, d.created_at) <= clock_timestamp() as past
@@ -347,17 +339,6 @@ describe("the seeded results", () => {
         if (e instanceof Rollback) return JSON.parse(e.message) as { added: number; again: number; docs: Doc[] };
         throw e;
       });
-    type Doc = {
-      kind: string;
-      content_type: string;
-      storage_key: string;
-      thumbnail_key: string | null;
-      reviewed: boolean;
-      mine: boolean;
-      by_desk: boolean;
-      after_exam: boolean;
-      past: boolean;
-    };
     expect(out.added).toBeGreaterThanOrEqual(9);
     expect(out.again).toBe(0); // idempotent
     expect(out.docs).toHaveLength(out.added);

@@ -1,15 +1,10 @@
 import { Link } from "react-router";
+import type { PatientSearchHit } from "~/components/patient-search";
 import { Notice } from "~/components/ui/notice";
 import { formatDate } from "~/lib/format";
 
-export type Duplicate = {
-  id: string;
-  firstName: string;
-  lastName: string;
-  dateOfBirth: string;
-  phone: string | null;
-  email: string | null;
-};
+/** A registered patient with the same name and date of birth. */
+export type Duplicate = PatientSearchHit;
 
 /**
  * The warning of every registration path when the same name and date of birth is already
