@@ -1,8 +1,8 @@
 /**
  * The demo practice's optical side (fictional): frame stock, labs, lens prices, one order in every
  * state, so each screen and report has something to show, and the collected pairs of about two in
- * five recent spectacle prescriptions, so the owner's "exams that led to an order" is a real share. Orders are walked through the
- * allowed moves (the database refuses any other) with their history rows.
+ * five recent spectacle prescriptions, so the owner's "exams that led to an order" is a real share.
+ * Orders are walked through the allowed moves (the database refuses any other) with their history.
  */
 import { and, desc, eq, inArray, sql } from "drizzle-orm";
 import type { NodePgDatabase } from "drizzle-orm/node-postgres";

@@ -46,6 +46,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   });
   const cur = d.invoice.currency;
   const checkout = url.searchParams.get("checkout");
+  const waiting = checkout === "done" && d.invoice.status !== "paid" && attempt?.status === "pending";
+  const stale = attempt !== null && Date.now() - attempt.updatedAt.getTime() >= CONFIRM_LIMIT_MS;
   return {
     practice: { name: practice.name, phone: practice.phone, email: practice.email },
     firstName: d.patient.firstName,
@@ -69,18 +71,10 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       amount: formatMoney(l.grossMinor, cur),
     })),
     checkout,
-    // Back from the checkout before the payment service's webhook has arrived.
-    confirming:
-      checkout === "done" &&
-      d.invoice.status !== "paid" &&
-      attempt?.status === "pending" &&
-      Date.now() - attempt.updatedAt.getTime() < CONFIRM_LIMIT_MS,
-    // Still unconfirmed after the limit: no more reloads; the patient is told not to pay twice.
-    unconfirmed:
-      checkout === "done" &&
-      d.invoice.status !== "paid" &&
-      attempt?.status === "pending" &&
-      Date.now() - attempt.updatedAt.getTime() >= CONFIRM_LIMIT_MS,
+    // Back from the checkout before the payment service's webhook has arrived: the page reloads
+    // itself for a while, then stops and tells the patient not to pay twice.
+    confirming: waiting && !stale,
+    unconfirmed: waiting && stale,
     attempt: attempt ? { status: attempt.status, problem: attempt.problem } : null,
     linkExpires: formatDate(expiresAt, { timeZone: practice.timeZone, style: "long" }),
     pdfHref: `/pay/${params.token}/invoice.pdf`,
