@@ -13,6 +13,7 @@ import pg from "pg";
 import { PDFDocument, rgb, StandardFonts } from "pdf-lib";
 import sharp from "sharp";
 import * as schema from "../app/db/schema";
+import { thumbnailOf } from "../app/models/patients/thumbnail.server";
 import { databaseUrl } from "../app/utils/db-url";
 import type { FileStorage } from "../app/utils/storage.server";
 import { CASELOAD_DOMAIN } from "./caseload";
@@ -165,7 +166,7 @@ export async function seedDocuments(tx: Tx, store: FileStorage, now = new Date()
     const storageKey = await store.put(bytes, { prefix: "documents", extension, contentType });
     const thumbnailKey = isField
       ? null
-      : await store.put(await sharp(bytes).resize(320, 320, { fit: "inside" }).jpeg({ quality: 78 }).toBuffer(), {
+      : await store.put(await thumbnailOf(bytes), {
           prefix: "thumbnails",
           extension: "jpg",
           contentType: "image/jpeg",
