@@ -1,12 +1,14 @@
 import { alias } from "drizzle-orm/pg-core";
 import { and, count, desc, eq, isNull } from "drizzle-orm";
-import sharp from "sharp";
-import { documents, users } from "~/db/schema";
+import { documents, exams, patients, users } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 import type { SessionUser } from "~/utils/session.server";
 import { storage, StorageUnavailableError } from "~/utils/storage.server";
-import { DomainError, type DomainErrorOptions } from "~/utils/failure.server";
+import { isUuid } from "./patient-schema";
+import { thumbnailOf } from "./thumbnail.server";
+import { DomainError, notFound, type DomainErrorOptions } from "~/utils/failure.server";
+import { openStored } from "~/utils/storage-response.server";
 
 /** Largest upload accepted, bytes. */
 export const MAX_UPLOAD_BYTES = 15 * 1024 * 1024;
@@ -61,11 +63,7 @@ export async function saveUpload(
   let thumbnail: Buffer | null = null;
   if (type.contentType !== "application/pdf") {
     try {
-      thumbnail = await sharp(bytes)
-        .rotate()
-        .resize(320, 320, { fit: "inside", withoutEnlargement: true })
-        .jpeg({ quality: 78 })
-        .toBuffer();
+      thumbnail = await thumbnailOf(bytes);
     } catch {
       throw new UploadError("The image could not be read; it may be damaged.", { status: 415 });
     }
@@ -125,6 +123,52 @@ export async function saveUpload(
     if (thumbnailKey) await storage.delete(thumbnailKey).catch(() => undefined);
     throw e;
   }
+}
+
+/**
+ * One of a patient's documents, opened from object storage for download: the file itself or its
+ * thumbnail. Reading the file (not the thumbnail) is audited. 404 when the patient has no such
+ * document or the object is missing.
+ */
+export async function openPatientDocument(
+  user: SessionUser,
+  patientId: string,
+  documentId: string,
+  variant: "file" | "thumbnail",
+  request: Request,
+) {
+  const [doc] = await db
+    .select()
+    .from(documents)
+    .where(and(eq(documents.id, documentId), eq(documents.patientId, patientId)));
+  if (!doc) notFound();
+  const key = variant === "thumbnail" ? doc.thumbnailKey : doc.storageKey;
+  const file = key ? await openStored(key) : null;
+  if (!file) notFound();
+  if (variant === "file")
+    await audit({
+      action: "document.read",
+      actorUserId: user.id,
+      entityType: "document",
+      entityId: doc.id,
+      patientId: doc.patientId,
+      request,
+    });
+  return { doc, file };
+}
+
+/** A patient's upload target: the patient and, when given, one of the patient's exams; null when either is unknown. */
+export async function uploadTarget(patientId: string, examId: string) {
+  if (!isUuid(patientId)) return null;
+  const [patient] = await db.select({ id: patients.id }).from(patients).where(eq(patients.id, patientId));
+  if (!patient) return null;
+  if (!examId) return { patientId, examId: null };
+  if (!isUuid(examId)) return null;
+  const [exam] = await db
+    .select({ id: exams.id })
+    .from(exams)
+    .where(and(eq(exams.id, examId), eq(exams.patientId, patientId)));
+  return exam ? { patientId, examId: exam.id } : null;
 }
 
 const reviewers = alias(users, "reviewers");

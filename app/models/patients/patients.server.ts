@@ -1,8 +1,9 @@
 import { and, asc, count, desc, eq, isNull, lt, ne, not, or, sql, type SQL } from "drizzle-orm";
-import { auditCte, type AuditEntry } from "~/utils/audit.server";
+import { audit, auditCte, type AuditEntry } from "~/utils/audit.server";
 import { patients } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { notFound } from "~/utils/failure.server";
+import type { SessionUser } from "~/utils/session.server";
 import { isUuid, type ListQuery } from "./patient-schema";
 
 /** Months without an exam after which a patient counts as due (common practice: a two-yearly routine exam for adults). */
@@ -269,4 +270,85 @@ export async function patientReadAudited(
   const [p] = await db.with(audited).select().from(patients).where(eq(patients.id, id!)).limit(1);
   if (!p) notFound();
   return p;
+}
+
+/** A patient's details as a registration or an edit writes them (an empty e-mail or phone is stored as none). */
+export type PatientDetails = Omit<
+  typeof patients.$inferInsert,
+  "id" | "allergies" | "medications" | "noKnownAllergies" | "createdAt" | "updatedAt"
+>;
+/** The clinical fields of the patient form, written only by clinical roles. */
+export type PatientClinicalFields = Pick<
+  typeof patients.$inferInsert,
+  "allergies" | "medications" | "noKnownAllergies"
+>;
+
+const detailsRow = (details: PatientDetails, clinical: PatientClinicalFields | null) => ({
+  ...details,
+  email: details.email || null,
+  phone: details.phone || null,
+  ...(clinical ? clinical : {}),
+});
+
+/**
+ * Registers a patient and writes the audit row (`audited` says from where) in one transaction;
+ * the clinical fields only when given. Returns the new patient's id, name, date of birth and e-mail.
+ */
+export async function registerPatient(
+  user: Pick<SessionUser, "id">,
+  details: PatientDetails,
+  clinical: PatientClinicalFields | null,
+  audited: { action: string; detail: Record<string, unknown> },
+  request: Request,
+) {
+  return db.transaction(async (tx) => {
+    const [row] = await tx.insert(patients).values(detailsRow(details, clinical)).returning({
+      id: patients.id,
+      firstName: patients.firstName,
+      lastName: patients.lastName,
+      dateOfBirth: patients.dateOfBirth,
+      email: patients.email,
+    });
+    await audit(
+      {
+        action: audited.action,
+        actorUserId: user.id,
+        entityType: "patient",
+        entityId: row!.id,
+        patientId: row!.id,
+        detail: audited.detail,
+        request,
+      },
+      tx,
+    );
+    return row!;
+  });
+}
+
+/** Saves a patient's details (the clinical fields only when given) and audits it, in one transaction. */
+export async function updatePatient(
+  user: Pick<SessionUser, "id">,
+  patientId: string,
+  details: PatientDetails,
+  clinical: PatientClinicalFields | null,
+  request: Request,
+) {
+  await db.transaction(async (tx) => {
+    await tx
+      .update(patients)
+      .set({ ...detailsRow(details, clinical), updatedAt: new Date() })
+      .where(eq(patients.id, patientId));
+    await audit(
+      {
+        action: "patient.updated",
+        actorUserId: user.id,
+        entityType: "patient",
+        entityId: patientId,
+        patientId,
+        detail: { clinicalFields: clinical !== null },
+        request,
+      },
+      tx,
+    );
+  });
 }

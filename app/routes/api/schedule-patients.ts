@@ -1,11 +1,8 @@
 import { z } from "zod";
 import type { Route } from "./+types/schedule-patients";
-import { patients } from "~/db/schema";
-import { DUPLICATE_MESSAGE, duplicatesBlockingRegistration } from "~/models/patients/patients.server";
+import { DUPLICATE_MESSAGE, duplicatesBlockingRegistration, registerPatient } from "~/models/patients/patients.server";
 import { errorJson, readBody, zodFieldErrors } from "~/models/schedule/schedule-api.server";
-import { audit } from "~/utils/audit.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 
 export const newPatientSchema = z.object({
   firstName: z.string({ error: "Give the first name." }).trim().min(1, "Give the first name.").max(80),
@@ -34,36 +31,15 @@ export async function action({ request }: Route.ActionArgs) {
   // The same check and words as the registration page.
   const duplicates = await duplicatesBlockingRegistration(v, v.confirmDuplicate);
   if (duplicates.length) return errorJson(409, DUPLICATE_MESSAGE, {}, { duplicates });
-  const patient = await db.transaction(async (tx) => {
-    const [row] = await tx
-      .insert(patients)
-      .values({
-        firstName: v.firstName,
-        lastName: v.lastName,
-        dateOfBirth: v.dateOfBirth,
-        email: v.email || null,
-        phone: v.phone || null,
-      })
-      .returning({
-        id: patients.id,
-        firstName: patients.firstName,
-        lastName: patients.lastName,
-        dateOfBirth: patients.dateOfBirth,
-        email: patients.email,
-      });
-    await audit(
-      {
-        action: "patient.registered",
-        actorUserId: user.id,
-        entityType: "patient",
-        entityId: row!.id,
-        patientId: row!.id,
-        detail: { from: "booking", duplicateConfirmed: v.confirmDuplicate === "yes" || v.confirmDuplicate === true },
-        request,
-      },
-      tx,
-    );
-    return row!;
-  });
+  const patient = await registerPatient(
+    user,
+    { firstName: v.firstName, lastName: v.lastName, dateOfBirth: v.dateOfBirth, email: v.email, phone: v.phone },
+    null,
+    {
+      action: "patient.registered",
+      detail: { from: "booking", duplicateConfirmed: v.confirmDuplicate === "yes" || v.confirmDuplicate === true },
+    },
+    request,
+  );
   return Response.json({ patient: { ...patient, name: `${patient.firstName} ${patient.lastName}` } }, { status: 201 });
 }

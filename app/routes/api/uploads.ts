@@ -1,16 +1,13 @@
-import { and, eq } from "drizzle-orm";
 import type { Route } from "./+types/uploads";
-import { exams, patients } from "~/db/schema";
 import {
   DOCUMENT_KINDS,
   MAX_UPLOAD_BYTES,
   saveUpload,
   UploadError,
   type DocumentKind,
+  uploadTarget,
 } from "~/models/patients/documents.server";
-import { isUuid } from "~/models/patients/patient-schema";
 import { CLINICAL_ROLES, requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 
 const fail = (status: number, message: string, field?: string) =>
   Response.json({ ok: false, message, field }, { status });
@@ -35,19 +32,9 @@ export async function action({ request }: Route.ActionArgs) {
     .trim()
     .slice(0, 500);
   const file = form.get("file");
-  if (!isUuid(patientId)) return fail(404, "Not found.");
-  const [patient] = await db.select({ id: patients.id }).from(patients).where(eq(patients.id, patientId));
-  if (!patient) return fail(404, "Not found.");
-  let examId: string | null = null;
-  if (examIdRaw) {
-    if (!isUuid(examIdRaw)) return fail(404, "Not found.");
-    const [exam] = await db
-      .select({ id: exams.id })
-      .from(exams)
-      .where(and(eq(exams.id, examIdRaw), eq(exams.patientId, patientId)));
-    if (!exam) return fail(404, "Not found.");
-    examId = exam.id;
-  }
+  const target = await uploadTarget(patientId, examIdRaw);
+  if (!target) return fail(404, "Not found.");
+  const { examId } = target;
   if (!Object.hasOwn(DOCUMENT_KINDS, kind)) return fail(400, "Choose what kind of document this is.", "kind");
   if (!(file instanceof File)) return fail(400, "Choose a file to attach.", "file");
   try {

@@ -1,17 +1,14 @@
 import { parseWithZod } from "@conform-to/zod/v4";
-import { eq } from "drizzle-orm";
 import { data, Link } from "react-router";
 import type { Route } from "./+types/edit";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
 import { PageHeader } from "~/components/page-header";
-import { patients } from "~/db/schema";
 import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { PatientForm, type PatientActionData } from "./patient-form";
 import { patientSchema } from "~/models/patients/patient-schema";
-import { findDuplicates, patientOr404 } from "~/models/patients/patients.server";
+import { findDuplicates, patientOr404, updatePatient } from "~/models/patients/patients.server";
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
@@ -77,30 +74,13 @@ export async function action({ request, params }: Route.ActionArgs) {
       );
     }
   }
-  await db.transaction(async (tx) => {
-    await tx
-      .update(patients)
-      .set({
-        ...demographics,
-        email: demographics.email || null,
-        phone: demographics.phone || null,
-        ...(clinical ? { allergies, medications, noKnownAllergies } : {}),
-        updatedAt: new Date(),
-      })
-      .where(eq(patients.id, existing.id));
-    await audit(
-      {
-        action: "patient.updated",
-        actorUserId: user.id,
-        entityType: "patient",
-        entityId: existing.id,
-        patientId: existing.id,
-        detail: { clinicalFields: clinical },
-        request,
-      },
-      tx,
-    );
-  });
+  await updatePatient(
+    user,
+    existing.id,
+    demographics,
+    clinical ? { allergies, medications, noKnownAllergies } : null,
+    request,
+  );
   return redirectWithToast(`/patients/${existing.id}`, { kind: "success", title: "Patient details saved" });
 }
 

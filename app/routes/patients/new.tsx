@@ -2,14 +2,11 @@ import { parseWithZod } from "@conform-to/zod/v4";
 import { data } from "react-router";
 import type { Route } from "./+types/new";
 import { PageHeader } from "~/components/page-header";
-import { patients } from "~/db/schema";
-import { audit } from "~/utils/audit.server";
 import { CLINICAL_ROLES, requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { PatientForm, type PatientActionData } from "./patient-form";
 import { patientSchema } from "~/models/patients/patient-schema";
-import { DUPLICATE_MESSAGE, duplicatesBlockingRegistration } from "~/models/patients/patients.server";
+import { DUPLICATE_MESSAGE, duplicatesBlockingRegistration, registerPatient } from "~/models/patients/patients.server";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
@@ -25,30 +22,13 @@ export async function action({ request }: Route.ActionArgs) {
   const duplicates = await duplicatesBlockingRegistration(demographics, confirmDuplicate);
   if (duplicates.length)
     return data({ ...submission.reply({ formErrors: [DUPLICATE_MESSAGE] }), duplicates }, { status: 409 });
-  const id = await db.transaction(async (tx) => {
-    const [row] = await tx
-      .insert(patients)
-      .values({
-        ...demographics,
-        email: demographics.email || null,
-        phone: demographics.phone || null,
-        ...(clinical ? { allergies, medications, noKnownAllergies } : {}),
-      })
-      .returning({ id: patients.id });
-    await audit(
-      {
-        action: "patient.created",
-        actorUserId: user.id,
-        entityType: "patient",
-        entityId: row!.id,
-        patientId: row!.id,
-        detail: { duplicateConfirmed: confirmDuplicate === "yes" },
-        request,
-      },
-      tx,
-    );
-    return row!.id;
-  });
+  const { id } = await registerPatient(
+    user,
+    demographics,
+    clinical ? { allergies, medications, noKnownAllergies } : null,
+    { action: "patient.created", detail: { duplicateConfirmed: confirmDuplicate === "yes" } },
+    request,
+  );
   return redirectWithToast(`/patients/${id}`, {
     kind: "success",
     title: `${demographics.firstName} ${demographics.lastName} registered`,
