@@ -127,6 +127,17 @@ export async function sendReferral(user: SessionUser, referralId: string, reques
   return messageId;
 }
 
+/** The referral's newest e-mail: whether it went and, if not, why (for the toast after sending). */
+export async function latestMessage(referralId: string) {
+  const [m] = await db
+    .select({ status: referralMessages.status, error: referralMessages.lastError })
+    .from(referralMessages)
+    .where(eq(referralMessages.referralId, referralId))
+    .orderBy(desc(referralMessages.createdAt))
+    .limit(1);
+  return m;
+}
+
 /** A failed message (retries used up) goes back on the queue. */
 export async function retryMessage(user: SessionUser, referralId: string, messageId: string, request: Request) {
   const id = await db.transaction(async (tx) => {

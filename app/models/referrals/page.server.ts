@@ -24,7 +24,9 @@ import {
 } from "~/lib/referrals";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
+import { notFound } from "~/utils/failure.server";
 import type { SessionUser } from "~/utils/session.server";
+import { openStored } from "~/utils/storage-response.server";
 
 const EVENT_LABEL: Record<string, string> = {
   drafted: "Draft started",
@@ -257,4 +259,28 @@ export async function lettersOfExam(examId: string) {
     .from(referrals)
     .where(eq(referrals.examId, examId))
     .orderBy(desc(referrals.createdAt));
+}
+
+/**
+ * A consult letter the recipient uploaded, opened from object storage for the practice's
+ * clinicians, with an audit row of the viewing. 404 when the referral has no such reply with a
+ * file, or the file is missing from storage.
+ */
+export async function openReplyFile(user: SessionUser, referralId: string, replyId: string, request: Request) {
+  const [reply] = await db
+    .select()
+    .from(referralReplies)
+    .where(and(eq(referralReplies.id, replyId), eq(referralReplies.referralId, referralId)));
+  if (!reply?.fileKey || !reply.fileType) notFound();
+  const file = await openStored(reply.fileKey);
+  if (!file) notFound("The file is missing from storage.");
+  await audit({
+    action: "referral.reply_file_viewed",
+    actorUserId: user.id,
+    entityType: "referral_reply",
+    entityId: reply.id,
+    patientId: reply.patientId,
+    request,
+  });
+  return { reply: { ...reply, fileType: reply.fileType }, file };
 }

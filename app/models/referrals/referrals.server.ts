@@ -12,6 +12,7 @@ export { renderLetter } from "./letter.server";
 export {
   chaseReferral,
   deliverReferralMessage,
+  latestMessage,
   retryMessage,
   sendReferral,
   smtpSender,
@@ -20,4 +21,4 @@ export {
 } from "./delivery.server";
 export { acknowledge, publicSummary, reply, REPLY_FILE_MAX_BYTES, setAppointment, sniffType } from "./recipient.server";
 export { referralsForChart, trackingPage, trackingRows, TRACKING_SORTS } from "./tracking.server";
-export { letterChoices, letterPatient, lettersOfExam, referralPageData } from "./page.server";
+export { letterChoices, letterPatient, lettersOfExam, openReplyFile, referralPageData } from "./page.server";

@@ -1,5 +1,4 @@
 import { parseWithZod } from "@conform-to/zod/v4";
-import { desc, eq } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/referral";
@@ -8,6 +7,7 @@ import { Delivery, StatusPanel, Timeline } from "./referral-panels";
 import {
   chaseReferral,
   discardDraft,
+  latestMessage,
   loadReferral,
   ReferralError,
   referralPageData,
@@ -21,9 +21,7 @@ import { PageHeader } from "~/components/page-header";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
-import { referralMessages } from "~/db/schema";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { formatDate } from "~/lib/format";
 
@@ -67,12 +65,7 @@ export async function action({ request, params }: Route.ActionArgs) {
     } catch (error) {
       return fail(error, (o) => submission.reply(o));
     }
-    const [m] = await db
-      .select({ status: referralMessages.status, error: referralMessages.lastError })
-      .from(referralMessages)
-      .where(eq(referralMessages.referralId, referral.id))
-      .orderBy(desc(referralMessages.createdAt))
-      .limit(1);
+    const m = await latestMessage(referral.id);
     return redirectWithToast(
       here,
       m?.status === "sent"
