@@ -1,21 +1,15 @@
-import { desc, eq } from "drizzle-orm";
 import { Form } from "react-router";
 import type { Route } from "./+types/account";
 import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
-import { sessions } from "~/db/schema";
+import { accountSessions } from "~/models/users/account.server";
 import { requireUser } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 import { ROLE_LABEL } from "~/utils/nav";
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireUser(request);
-  const rows = await db
-    .select({ id: sessions.id, createdAt: sessions.createdAt, userAgent: sessions.userAgent })
-    .from(sessions)
-    .where(eq(sessions.userId, user.id))
-    .orderBy(desc(sessions.createdAt));
+  const rows = await accountSessions(user.id);
   return {
     user: { name: user.name, email: user.email, role: user.role },
     sessions: rows.map((s) => ({

@@ -3,10 +3,9 @@ import type { Route } from "./+types/sign-in-link-verify";
 import { AuthCard } from "~/components/auth-card";
 import { Button } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
-import { audit } from "~/utils/audit.server";
-import { db } from "~/utils/db.server";
+import { redeemSignInLink } from "~/models/users/account.server";
 import { createUserSession } from "~/utils/session.server";
-import { consumeUserToken, peekUserToken } from "~/utils/tokens.server";
+import { peekUserToken } from "~/utils/tokens.server";
 
 // Opening the link only shows a button: mail scanners that fetch links must not use it up.
 export async function loader({ request }: Route.LoaderArgs) {
@@ -18,15 +17,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 export async function action({ request }: Route.ActionArgs) {
   const form = await request.formData();
   const raw = String(form.get("token") ?? "");
-  const used = await db.transaction(async (tx) => {
-    const token = await consumeUserToken(raw, tx, ["sign_in"]);
-    if (token)
-      await audit(
-        { action: "auth.sign_in", actorUserId: token.userId, detail: { method: "e-mailed link" }, request },
-        tx,
-      );
-    return token;
-  });
+  const used = await redeemSignInLink(raw, request);
   if (!used)
     return data(
       { error: "This sign-in link has expired or has already been used. Ask for a new one." },
