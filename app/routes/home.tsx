@@ -4,20 +4,15 @@ import { FrontDeskView } from "./home/front-desk";
 import { OptometristView } from "./home/optometrist";
 import { OwnerView } from "./home/owner";
 import { PageHeader } from "~/components/page-header";
-import { practiceSettings } from "~/db/schema";
-import { frontDeskHome, optometristHome, ownerHome } from "~/models/home/home.server";
+import { frontDeskHome, homePractice, optometristHome, ownerHome } from "~/models/home/home.server";
 import { homeFor, requireUser } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 import { ROLE_LABEL } from "~/utils/nav";
 
 /** Each role's home: the front desk's day, an optometrist's own list and reviews, the owner's figures. */
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireUser(request);
   if (user.role === "patient") throw redirect(homeFor(user.role));
-  const [practice] = await db
-    .select({ name: practiceSettings.name, timeZone: practiceSettings.timeZone, currency: practiceSettings.currency })
-    .from(practiceSettings)
-    .limit(1);
+  const practice = await homePractice();
   const home =
     user.role === "owner"
       ? await ownerHome()
@@ -26,7 +21,7 @@ export async function loader({ request }: Route.LoaderArgs) {
         : await frontDeskHome();
   return {
     user: { name: user.name, role: user.role },
-    practice: practice ?? { name: "Your practice", timeZone: "Europe/London", currency: "GBP" },
+    practice,
     home,
   };
 }

@@ -4,6 +4,7 @@
  * Lists are cut to a few rows, always with the full count and a link to the whole list.
  */
 import { sql, type SQL } from "drizzle-orm";
+import { practiceSettings } from "~/db/schema";
 import { orderLabel } from "~/lib/orders/states";
 import { formatLocal, localDayRange, localParts } from "~/lib/scheduling/time";
 import { invoiceLabel } from "~/models/billing/invoices.server";
@@ -16,6 +17,15 @@ import type { SessionUser } from "~/utils/session.server";
 export const HOME_LIST_SIZE = 6;
 /** The owner's rates (recalls, referrals, exams to orders) look back this many days. */
 export const OWNER_WINDOW_DAYS = 90;
+
+/** The practice's name, time zone and currency for the home page's heading and figures. */
+export async function homePractice() {
+  const [practice] = await db
+    .select({ name: practiceSettings.name, timeZone: practiceSettings.timeZone, currency: practiceSettings.currency })
+    .from(practiceSettings)
+    .limit(1);
+  return practice ?? { name: "Your practice", timeZone: "Europe/London", currency: "GBP" };
+}
 
 type Clock = { now: Date; timeZone: string; today: string; start: Date; end: Date };
 
