@@ -17,6 +17,7 @@ import {
   patients,
   prescriptionEyes,
   prescriptions,
+  users,
 } from "~/db/schema";
 import {
   cancelOrder,
@@ -32,7 +33,9 @@ import {
   type EyeReading,
 } from "~/models/orders/orders.server";
 import { RELEASE_REASON_MESSAGE } from "~/models/orders/order-schema";
+import { loader as newOrderLoader } from "~/routes/orders/new";
 import { action as orderAction, loader as orderLoader } from "~/routes/orders/order";
+import { loader as portalOrdersLoader } from "~/routes/portal/orders";
 import { db } from "~/utils/db.server";
 import { getSessionUser } from "~/utils/session.server";
 import {
@@ -372,5 +375,72 @@ describe("releasing spectacles that failed the check, at the order page", () => 
     );
     expect(page.events.at(-1)).toMatchObject({ toState: "ready_to_collect", actor: optom.name });
     expect(page.events.at(-1)!.reason).toMatch(/^Released despite a failed check: /);
+  });
+});
+
+describe("where an order is started and where the patient follows it", () => {
+  it("the new-order page names the chosen patient and offers their prescriptions; an unknown patient is 404", async () => {
+    const f = await fixture();
+    const cookie = await cookieFor("receptionist");
+    const page = dataOf<{
+      step: string;
+      patient: { id: string; firstName: string; lastName: string; dateOfBirth: string };
+      prescriptions: { id: string }[];
+    }>(await run(newOrderLoader, makeRequest(`/orders/new?patientId=${f.patient.id}`, { cookie })));
+    expect(page.step).toBe("prescription");
+    expect(page.patient).toEqual({
+      id: f.patient.id,
+      firstName: "Order",
+      lastName: f.patient.lastName,
+      dateOfBirth: "1975-03-04",
+    });
+    expect(page.prescriptions.map((r) => r.id)).toEqual([f.rx.id]);
+    const form = dataOf<{ step: string; rx: { id: string } | null }>(
+      await run(
+        newOrderLoader,
+        makeRequest(`/orders/new?patientId=${f.patient.id}&prescriptionId=${f.rx.id}`, { cookie }),
+      ),
+    );
+    expect(form.step).toBe("form");
+    expect(form.rx?.id).toBe(f.rx.id);
+    const nobody = "00000000-0000-4000-8000-000000000000";
+    expect(statusOf(await run(newOrderLoader, makeRequest(`/orders/new?patientId=${nobody}`, { cookie })))).toBe(404);
+  });
+
+  it("the order page shows the invoice raised with the order", async () => {
+    const f = await fixture();
+    const { id, invoiceId } = await createSpectacleOrder(await as("receptionist"), f.input);
+    const page = dataOf<{ invoice: { id: string; status: string; totalMinor: number } | null }>(
+      await run(orderLoader, makeRequest(`/orders/${id}`, { cookie: await cookieFor("receptionist") }), {
+        orderId: id,
+      }),
+    );
+    const [inv] = await db.select().from(invoices).where(eq(invoices.id, invoiceId!));
+    expect(page.invoice).toMatchObject({ id: invoiceId, status: "open", totalMinor: inv!.totalMinor });
+  });
+
+  it("the portal lists the signed-in patient's own orders, newest first, and records the reading", async () => {
+    const mine = await fixture();
+    const theirs = await fixture();
+    const desk = await as("receptionist");
+    const first = await createSpectacleOrder(desk, mine.input);
+    const second = await createSpectacleOrder(desk, { ...mine.input, lensMaterial: "Standard index 1.50" });
+    await createSpectacleOrder(desk, theirs.input);
+    const [account] = await db
+      .insert(users)
+      .values({ email: mine.email, name: "Order Holder", role: "patient", patientId: mine.patient.id })
+      .returning();
+    const page = dataOf<{ orders: { id: string; kind: string; state: string; frameLabel: string | null }[] }>(
+      await run(portalOrdersLoader, makeRequest("/portal/orders", { cookie: await cookieFor(mine.email) })),
+    );
+    expect(page.orders.map((o) => o.id)).toEqual([second.id, first.id]);
+    expect(page.orders[0]).toMatchObject({ kind: "spectacles", state: "draft" });
+    expect(page.orders[0]!.frameLabel).toContain(mine.frame.model);
+    const read = await db
+      .select()
+      .from(auditLog)
+      .where(and(eq(auditLog.action, "portal.orders_read"), eq(auditLog.actorUserId, account!.id)));
+    expect(read).toHaveLength(1);
+    expect(read[0]!.patientId).toBe(mine.patient.id);
   });
 });

@@ -2,6 +2,7 @@ import { and, eq } from "drizzle-orm";
 import { beforeAll, describe, expect, it } from "vitest";
 import { action as itemAction, loader as itemLoader } from "~/routes/api/appointments-item";
 import { loader as eventsLoader } from "~/routes/api/appointments";
+import { loader as appointmentPageLoader } from "~/routes/schedule/appointment";
 import { action as dayAction } from "~/routes/schedule/day";
 import { action as registerAction } from "~/routes/api/schedule-patients";
 import { loader as searchLoader } from "~/routes/api/patients";
@@ -15,7 +16,7 @@ import {
 } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { expandCalendarFeed, type CalendarFeed } from "~/lib/scheduling/calendar-feed";
-import { cookieFor, makeRequest, run, statusOf, uniqueEmail } from "#tests/support/helpers";
+import { cookieFor, dataOf, makeRequest, run, statusOf, uniqueEmail } from "#tests/support/helpers";
 import { demoIds, jobsFor, newPatient, postBooking } from "./schedule-fixtures";
 
 let ids: Awaited<ReturnType<typeof demoIds>>;
@@ -434,5 +435,62 @@ describe("patient lookup and inline registration for the booking dialog", () => 
     expect(ok.status).toBe(201);
     const created = ((await ok.json()) as { patient: { id: string } }).patient;
     expect((await book(created.id, "2027-02-15T10:00:00Z")).status).toBe(201);
+  });
+});
+
+describe("the appointment page", () => {
+  it("names the patient, type and clinician, lists the visit's e-mails and links its exam once there is one", async () => {
+    const p = await newPatient();
+    const res = await book(p.id, "2027-06-14T09:00:00Z");
+    expect(res.status).toBe(201);
+    const { appointment } = (await res.json()) as { appointment: { id: string } };
+    const cookie = await cookieFor("receptionist");
+    const open = async () =>
+      dataOf<{
+        timeZone: string;
+        appointment: {
+          id: string;
+          patientName: string;
+          typeName: string;
+          providerName: string;
+          date: string;
+          time: string;
+          examUrl: string | null;
+        };
+        messages: { kind: string; status: string }[];
+      }>(
+        await run(appointmentPageLoader, makeRequest(`/schedule/appointments/${appointment.id}`, { cookie }), {
+          appointmentId: appointment.id,
+        }),
+      );
+    const page = await open();
+    expect(page.appointment).toMatchObject({
+      id: appointment.id,
+      patientName: `${p.firstName} ${p.lastName}`,
+      typeName: ids.examType.name,
+      providerName: ids.optometrist.name,
+      date: "2027-06-14",
+      time: "10:00", // 09:00 UTC is 10:00 in London in June (British Summer Time)
+      examUrl: null,
+    });
+    expect(page.timeZone).toBe("Europe/London");
+    expect(page.messages.map((m) => m.kind).sort()).toEqual(["confirmation", "reminder"]);
+    const [exam] = await db
+      .insert(exams)
+      .values({ patientId: p.id, optometristId: ids.optometrist.id, appointmentId: appointment.id })
+      .returning();
+    expect((await open()).appointment.examUrl).toBe(`/patients/${p.id}/exams/${exam!.id}`);
+  });
+
+  it("answers 404 for an unknown or malformed id", async () => {
+    const cookie = await cookieFor("receptionist");
+    for (const id of ["00000000-0000-4000-8000-000000000000", "not-an-id"])
+      expect(
+        statusOf(
+          await run(appointmentPageLoader, makeRequest(`/schedule/appointments/${id}`, { cookie }), {
+            appointmentId: id,
+          }),
+        ),
+      ).toBe(404);
   });
 });

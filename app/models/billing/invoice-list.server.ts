@@ -1,4 +1,4 @@
-import { and, count, desc, eq, ilike, or, sql, type SQL } from "drizzle-orm";
+import { and, count, desc, eq, ilike, inArray, or, sql, type SQL } from "drizzle-orm";
 import { invoices, patients, practiceSettings } from "~/db/schema";
 import { formatDate, formatMoney } from "~/lib/format";
 import { db } from "~/utils/db.server";
@@ -65,6 +65,79 @@ export async function invoiceListPage(f: InvoiceListFilter, pageSize: number) {
       date: formatDate(r.issuedAt ?? r.createdAt, { timeZone: tz }),
       total: formatMoney(r.totalMinor, r.currency),
       due: formatMoney(r.totalMinor - r.paidMinor, r.currency),
+    })),
+  };
+}
+
+/** Which balances the list shows: a patient's name, the order (most owed or oldest debt first), a page. */
+export type BalanceFilter = { q: string; sort: "owed" | "oldest"; page: number };
+
+/**
+ * Patients who owe money, a page at a time: the unpaid part of their open and part-paid invoices
+ * (per currency), how many such invoices and the oldest; with the number of such patients and the
+ * sum owed. Dates in the practice's time zone.
+ */
+export async function balancesPage(f: BalanceFilter, pageSize: number) {
+  const owedMinor = sql<number>`sum(${invoices.totalMinor} - ${invoices.paidMinor})::int`;
+  const oldest = sql<Date>`min(coalesce(${invoices.issuedAt}, ${invoices.createdAt}))`;
+  const cond = and(
+    inArray(invoices.status, ["open", "partially_paid"]),
+    f.q
+      ? ilike(sql`${patients.firstName} || ' ' || ${patients.lastName}`, `%${f.q.replace(/[%_\\]/g, "\\$&")}%`)
+      : undefined,
+  );
+  const grouped = db
+    .select({
+      patientId: invoices.patientId,
+      firstName: patients.firstName,
+      lastName: patients.lastName,
+      currency: invoices.currency,
+      owedMinor: owedMinor.as("owed_minor"),
+      invoiceCount: sql<number>`count(*)::int`.as("invoice_count"),
+      oldest: oldest.as("oldest"),
+    })
+    .from(invoices)
+    .innerJoin(patients, eq(patients.id, invoices.patientId))
+    .where(cond)
+    .groupBy(invoices.patientId, patients.firstName, patients.lastName, invoices.currency)
+    .as("owed");
+  const order =
+    f.sort === "oldest"
+      ? sql`${grouped.oldest} asc, ${grouped.patientId}`
+      : sql`${grouped.owedMinor} desc, ${grouped.patientId}`;
+  const [rows, [totals], [settings]] = await Promise.all([
+    db
+      .select()
+      .from(grouped)
+      .orderBy(order)
+      .limit(pageSize)
+      .offset((f.page - 1) * pageSize),
+    db
+      .select({
+        patients: sql<number>`count(*)::int`,
+        owedMinor: sql<number>`coalesce(sum(${grouped.owedMinor}), 0)::int`,
+      })
+      .from(grouped),
+    db
+      .select({ timeZone: practiceSettings.timeZone, currency: practiceSettings.currency })
+      .from(practiceSettings)
+      .where(eq(practiceSettings.id, 1)),
+  ]);
+  const fmt = new Intl.DateTimeFormat("en-GB", {
+    timeZone: settings?.timeZone ?? "Europe/London",
+    day: "numeric",
+    month: "short",
+    year: "numeric",
+  });
+  return {
+    total: totals?.patients ?? 0,
+    totalOwed: formatMoney(totals?.owedMinor ?? 0, settings?.currency ?? "GBP"),
+    rows: rows.map((r) => ({
+      patientId: r.patientId,
+      name: `${r.lastName}, ${r.firstName}`,
+      owed: formatMoney(r.owedMinor, r.currency),
+      invoices: r.invoiceCount,
+      oldest: fmt.format(new Date(r.oldest)),
     })),
   };
 }

@@ -1,6 +1,6 @@
 /** Where a new invoice starts from: an appointment (its patient and its type's fee) or a patient. */
-import { eq } from "drizzle-orm";
-import { appointments, appointmentTypes, exams, patients } from "~/db/schema";
+import { asc, eq } from "drizzle-orm";
+import { appointments, appointmentTypes, exams, feeItems, patients, practiceSettings } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { patientHitColumns } from "~/models/patients/patients.server";
 
@@ -26,4 +26,38 @@ export async function appointmentForInvoice(appointmentId: string) {
 export async function patientForInvoice(patientId: string) {
   const [p] = await db.select(patientHitColumns).from(patients).where(eq(patients.id, patientId));
   return p ?? null;
+}
+
+/** The practice's currency for a new invoice (pounds sterling until the practice has settings). */
+export async function newInvoiceCurrency() {
+  const [settings] = await db
+    .select({ currency: practiceSettings.currency })
+    .from(practiceSettings)
+    .where(eq(practiceSettings.id, 1));
+  return settings?.currency ?? "GBP";
+}
+
+/** The active fees a new invoice can be built from, services before items, each by code. */
+export async function feesForNewInvoice() {
+  return db
+    .select({
+      id: feeItems.id,
+      code: feeItems.code,
+      description: feeItems.description,
+      priceMinor: feeItems.priceMinor,
+      kind: feeItems.kind,
+      taxCategory: feeItems.taxCategory,
+    })
+    .from(feeItems)
+    .where(eq(feeItems.active, true))
+    .orderBy(asc(feeItems.kind), asc(feeItems.code));
+}
+
+/** The examined patient's id and full name, for the heading of an invoice raised from an exam; null when there is none. */
+export async function examPatientForInvoice(patientId: string) {
+  const [p] = await db
+    .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName })
+    .from(patients)
+    .where(eq(patients.id, patientId));
+  return p ? { id: p.id, name: `${p.firstName} ${p.lastName}` } : null;
 }

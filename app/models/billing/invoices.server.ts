@@ -659,6 +659,29 @@ export async function invoiceDetail(invoiceId: string) {
   return { ...inv, lines, payments: pays, refunds: refundRows };
 }
 
+/** The active fees a draft invoice can take another line from, by code. */
+export async function feesForDraft() {
+  return db
+    .select({
+      id: feeItems.id,
+      code: feeItems.code,
+      description: feeItems.description,
+      priceMinor: feeItems.priceMinor,
+    })
+    .from(feeItems)
+    .where(eq(feeItems.active, true))
+    .orderBy(asc(feeItems.code));
+}
+
+/** A payment's invoice and status (a receipt exists only for a succeeded payment); undefined when there is none. */
+export async function paymentForReceipt(paymentId: string) {
+  const [p] = await db
+    .select({ invoiceId: payments.invoiceId, status: payments.status })
+    .from(payments)
+    .where(eq(payments.id, paymentId));
+  return p;
+}
+
 export function throwNotFound(): never {
   notFound("There is no such invoice.");
 }

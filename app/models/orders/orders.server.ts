@@ -9,6 +9,7 @@ import { and, asc, count, desc, eq, inArray, sql, type SQL } from "drizzle-orm";
 import {
   feeItems,
   frames,
+  invoices,
   labs,
   opticalOrders,
   orderChecks,
@@ -132,6 +133,27 @@ export async function itemFees() {
     .from(feeItems)
     .where(and(eq(feeItems.active, true), eq(feeItems.kind, "item")))
     .orderBy(asc(feeItems.code));
+}
+
+/** The patient an order is being built for (name and date of birth), or undefined if there is none. */
+export async function orderPatient(patientId: string) {
+  const [patient] = await db
+    .select({
+      id: patients.id,
+      firstName: patients.firstName,
+      lastName: patients.lastName,
+      dateOfBirth: patients.dateOfBirth,
+    })
+    .from(patients)
+    .where(eq(patients.id, patientId));
+  return patient;
+}
+
+/** The invoice raised for an order, or undefined when it has none (yet). */
+export async function orderInvoice(invoiceId: string | null) {
+  if (!invoiceId) return undefined;
+  const [inv] = await db.select().from(invoices).where(eq(invoices.id, invoiceId));
+  return inv;
 }
 
 export async function orderDetail(orderId: string) {

@@ -4,6 +4,7 @@ import {
   appointments,
   appointmentTypes,
   invoices,
+  opticalOrders,
   patients,
   payments,
   practiceSettings,
@@ -228,4 +229,21 @@ export async function patientName(patientId: string) {
     .from(patients)
     .where(eq(patients.id, patientId));
   return p ?? null;
+}
+
+/** The patient's own spectacle and contact-lens orders, newest first. */
+export async function ordersOf(patientId: string) {
+  return db
+    .select({
+      id: opticalOrders.id,
+      number: opticalOrders.number,
+      kind: opticalOrders.kind,
+      state: opticalOrders.state,
+      frameLabel: opticalOrders.frameLabel,
+      createdAt: opticalOrders.createdAt,
+      stateChangedAt: opticalOrders.stateChangedAt,
+    })
+    .from(opticalOrders)
+    .where(eq(opticalOrders.patientId, patientId))
+    .orderBy(desc(opticalOrders.createdAt));
 }

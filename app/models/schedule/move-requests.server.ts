@@ -38,6 +38,43 @@ export async function openMoveRequests(timeZone: string) {
 
 const settleSchema = z.object({ intent: z.literal("settle-move-request"), requestId: z.uuid() });
 
+/**
+ * A patient's request (from the portal) to move one of their visits: updates the message of the
+ * visit's open request, or opens one, with its audit row in the same transaction.
+ */
+export async function requestMove(input: {
+  actorUserId: string;
+  patientId: string;
+  appointmentId: string;
+  message: string;
+  request?: Request;
+}) {
+  const { actorUserId, patientId, appointmentId, message, request } = input;
+  const [open] = await db
+    .select({ id: appointmentChangeRequests.id })
+    .from(appointmentChangeRequests)
+    .where(
+      and(eq(appointmentChangeRequests.appointmentId, appointmentId), eq(appointmentChangeRequests.status, "open")),
+    );
+  await db.transaction(async (tx) => {
+    if (open)
+      await tx.update(appointmentChangeRequests).set({ message }).where(eq(appointmentChangeRequests.id, open.id));
+    else await tx.insert(appointmentChangeRequests).values({ appointmentId, patientId, message });
+    await audit(
+      {
+        action: "portal.move_requested",
+        actorUserId,
+        patientId,
+        entityType: "appointment",
+        entityId: appointmentId,
+        detail: { message },
+        request,
+      },
+      tx,
+    );
+  });
+}
+
 /** Marks a patient's move request as dealt with, stamping who and when. */
 export async function settleMoveRequest(request: Request, form: FormData) {
   const user = await requireRole(request, STAFF_ROLES);

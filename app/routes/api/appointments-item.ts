@@ -1,43 +1,16 @@
-import { eq } from "drizzle-orm";
 import { z } from "zod";
 import type { Route } from "./+types/appointments-item";
-import { appointments, sites } from "~/db/schema";
 import { APPOINTMENT_STATUSES } from "~/lib/scheduling/status";
-import {
-  bookingErrorJson,
-  errorJson,
-  eventJson,
-  isoTime,
-  readBody,
-  zodFieldErrors,
-} from "~/models/schedule/schedule-api.server";
+import { bookingErrorJson, errorJson, isoTime, readBody, zodFieldErrors } from "~/models/schedule/schedule-api.server";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
-import {
-  appointmentsBetween,
-  BookingError,
-  changeStatus,
-  moveAppointment,
-  practiceSchedule,
-} from "~/models/schedule/schedule.server";
-
-async function load(id: string, timeZone: string) {
-  if (!z.uuid().safeParse(id).success) return null;
-  const [a] = await db
-    .select({ start: appointments.startsAt, end: appointments.endsAt, providerId: appointments.providerId })
-    .from(appointments)
-    .where(eq(appointments.id, id));
-  if (!a) return null;
-  const events = await appointmentsBetween(a.start, a.end, { providerId: a.providerId, includeCancelled: true });
-  const e = events.find((x) => x.id === id);
-  return e ? eventJson(e, timeZone) : null;
-}
+import { appointmentEvent, appointmentSiteTimeZone } from "~/models/schedule/appointment-view.server";
+import { BookingError, changeStatus, moveAppointment, practiceSchedule } from "~/models/schedule/schedule.server";
 
 /** GET /api/appointments/:appointmentId — one appointment. */
 export async function loader({ request, params }: Route.LoaderArgs) {
   await requireRole(request, STAFF_ROLES);
   const { timeZone } = await practiceSchedule();
-  const event = await load(params.appointmentId, timeZone);
+  const event = await appointmentEvent(params.appointmentId, timeZone);
   if (!event) return errorJson(404, "No such appointment.");
   return Response.json({ appointment: event });
 }
@@ -52,12 +25,7 @@ export async function action({ request, params }: Route.ActionArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   if (!z.uuid().safeParse(params.appointmentId).success) return errorJson(404, "No such appointment.");
   // Wall times without an offset are read at the appointment's site (its own zone).
-  const [here] = await db
-    .select({ timeZone: sites.timeZone })
-    .from(appointments)
-    .innerJoin(sites, eq(sites.id, appointments.siteId))
-    .where(eq(appointments.id, params.appointmentId));
-  const timeZone = here?.timeZone ?? (await practiceSchedule()).timeZone;
+  const timeZone = (await appointmentSiteTimeZone(params.appointmentId)) ?? (await practiceSchedule()).timeZone;
   const body = await readBody(request);
   const schema = z.union([
     z
@@ -89,7 +57,7 @@ export async function action({ request, params }: Route.ActionArgs) {
         confirmOtherDay: parsed.data.confirmOtherDay,
       }));
     else await moveAppointment(user, params.appointmentId, parsed.data, request);
-    const event = await load(params.appointmentId, timeZone);
+    const event = await appointmentEvent(params.appointmentId, timeZone);
     return Response.json({
       appointment: event,
       examUrl: examId && event ? `/patients/${event.extendedProps.patientId}/exams/${examId}` : undefined,

@@ -1,4 +1,3 @@
-import { and, eq, ilike, inArray, sql } from "drizzle-orm";
 import { createColumnHelper } from "@tanstack/react-table";
 import { Form, Link } from "react-router";
 import { z } from "zod";
@@ -9,10 +8,8 @@ import { PageHeader } from "~/components/page-header";
 import { buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
-import { invoices, patients, practiceSettings } from "~/db/schema";
-import { formatMoney } from "~/lib/format";
 import { requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
+import { balancesPage } from "~/models/billing/invoice-list.server";
 import { BILLING_ROLES } from "~/models/billing/invoices.server";
 
 const PAGE_SIZE = 25;
@@ -26,70 +23,8 @@ const filterSchema = z.object({
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, BILLING_ROLES);
   const f = filterSchema.parse(Object.fromEntries(new URL(request.url).searchParams));
-  const owedMinor = sql<number>`sum(${invoices.totalMinor} - ${invoices.paidMinor})::int`;
-  const oldest = sql<Date>`min(coalesce(${invoices.issuedAt}, ${invoices.createdAt}))`;
-  const cond = and(
-    inArray(invoices.status, ["open", "partially_paid"]),
-    f.q
-      ? ilike(sql`${patients.firstName} || ' ' || ${patients.lastName}`, `%${f.q.replace(/[%_\\]/g, "\\$&")}%`)
-      : undefined,
-  );
-  const grouped = db
-    .select({
-      patientId: invoices.patientId,
-      firstName: patients.firstName,
-      lastName: patients.lastName,
-      currency: invoices.currency,
-      owedMinor: owedMinor.as("owed_minor"),
-      invoiceCount: sql<number>`count(*)::int`.as("invoice_count"),
-      oldest: oldest.as("oldest"),
-    })
-    .from(invoices)
-    .innerJoin(patients, eq(patients.id, invoices.patientId))
-    .where(cond)
-    .groupBy(invoices.patientId, patients.firstName, patients.lastName, invoices.currency)
-    .as("owed");
-  const order =
-    f.sort === "oldest"
-      ? sql`${grouped.oldest} asc, ${grouped.patientId}`
-      : sql`${grouped.owedMinor} desc, ${grouped.patientId}`;
-  const [rows, [totals], [settings]] = await Promise.all([
-    db
-      .select()
-      .from(grouped)
-      .orderBy(order)
-      .limit(PAGE_SIZE)
-      .offset((f.page - 1) * PAGE_SIZE),
-    db
-      .select({
-        patients: sql<number>`count(*)::int`,
-        owedMinor: sql<number>`coalesce(sum(${grouped.owedMinor}), 0)::int`,
-      })
-      .from(grouped),
-    db
-      .select({ timeZone: practiceSettings.timeZone, currency: practiceSettings.currency })
-      .from(practiceSettings)
-      .where(eq(practiceSettings.id, 1)),
-  ]);
-  const fmt = new Intl.DateTimeFormat("en-GB", {
-    timeZone: settings?.timeZone ?? "Europe/London",
-    day: "numeric",
-    month: "short",
-    year: "numeric",
-  });
-  const total = totals?.patients ?? 0;
-  return {
-    filter: f,
-    total,
-    totalOwed: formatMoney(totals?.owedMinor ?? 0, settings?.currency ?? "GBP"),
-    rows: rows.map((r) => ({
-      patientId: r.patientId,
-      name: `${r.lastName}, ${r.firstName}`,
-      owed: formatMoney(r.owedMinor, r.currency),
-      invoices: r.invoiceCount,
-      oldest: fmt.format(new Date(r.oldest)),
-    })),
-  };
+  const { total, totalOwed, rows } = await balancesPage(f, PAGE_SIZE);
+  return { filter: f, total, totalOwed, rows };
 }
 
 type Row = Route.ComponentProps["loaderData"]["rows"][number];

@@ -1,8 +1,13 @@
-import { asc, eq } from "drizzle-orm";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/invoice-new";
-import { appointmentForInvoice, patientForInvoice } from "~/models/billing/invoice-start.server";
+import {
+  appointmentForInvoice,
+  examPatientForInvoice,
+  feesForNewInvoice,
+  newInvoiceCurrency,
+  patientForInvoice,
+} from "~/models/billing/invoice-start.server";
 import { BillingNav } from "~/components/billing/invoice-status";
 import { ErrorList } from "~/components/forms";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
@@ -13,13 +18,11 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
-import { feeItems, patients, practiceSettings } from "~/db/schema";
 import { formatDate } from "~/lib/format";
 import { parseMoney } from "~/lib/money";
 import { parseDecimal } from "~/lib/numbers/decimal";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import {
   BILLING_ROLES,
@@ -45,33 +48,15 @@ export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, BILLING_ROLES);
   const url = new URL(request.url);
   const examId = url.searchParams.get("exam");
-  const [settings] = await db
-    .select({ currency: practiceSettings.currency })
-    .from(practiceSettings)
-    .where(eq(practiceSettings.id, 1));
-  const fees = await db
-    .select({
-      id: feeItems.id,
-      code: feeItems.code,
-      description: feeItems.description,
-      priceMinor: feeItems.priceMinor,
-      kind: feeItems.kind,
-      taxCategory: feeItems.taxCategory,
-    })
-    .from(feeItems)
-    .where(eq(feeItems.active, true))
-    .orderBy(asc(feeItems.kind), asc(feeItems.code));
+  const currency = await newInvoiceCurrency();
+  const fees = await feesForNewInvoice();
   let exam: Awaited<ReturnType<typeof examForInvoice>> = null;
   let patient: { id: string; name: string } | null = null;
   if (examId) {
     if (!z.uuid().safeParse(examId).success) notFound("There is no such exam.");
     exam = await examForInvoice(examId);
     if (!exam) notFound("There is no such exam.");
-    const [p] = await db
-      .select({ id: patients.id, firstName: patients.firstName, lastName: patients.lastName })
-      .from(patients)
-      .where(eq(patients.id, exam.patientId));
-    patient = p ? { id: p.id, name: `${p.firstName} ${p.lastName}` } : null;
+    patient = await examPatientForInvoice(exam.patientId);
     await audit({
       action: "billing.exam_opened_for_invoice",
       actorUserId: user.id,
@@ -100,7 +85,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     preselected = await patientForInvoice(preselectedId);
   }
   return {
-    currency: settings?.currency ?? "GBP",
+    currency,
     fees,
     exam: exam
       ? {
@@ -129,11 +114,7 @@ export async function action({ request }: Route.ActionArgs) {
     return data({ errors }, { status: 400 });
   }
   const v = parsed.data;
-  const [settings] = await db
-    .select({ currency: practiceSettings.currency })
-    .from(practiceSettings)
-    .where(eq(practiceSettings.id, 1));
-  const currency = settings?.currency ?? "GBP";
+  const currency = await newInvoiceCurrency();
   const lines: NewLine[] = [];
   for (const [key, raw] of form.entries()) {
     if (!key.startsWith("qty_")) continue;

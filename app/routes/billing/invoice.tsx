@@ -1,5 +1,4 @@
 import { parseWithZod } from "@conform-to/zod/v4";
-import { asc, eq } from "drizzle-orm";
 import { data, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/invoice";
@@ -10,6 +9,7 @@ import {
   BILLING_ROLES,
   BillingError,
   deleteDraft,
+  feesForDraft,
   invoiceDetail,
   invoiceLabel,
   issueInvoice,
@@ -27,12 +27,10 @@ import { InvoiceActions } from "./invoice-actions";
 import { InvoiceLinesCard, InvoicePaymentsCard } from "./invoice-parts";
 import { buttonClass } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
-import { feeItems } from "~/db/schema";
 import { formatDate, formatMoney } from "~/lib/format";
 import { formatRate, minorToDecimal, parseMoney } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
 import { requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { decimalField } from "~/utils/number-field";
 import { parseDecimal } from "~/lib/numbers/decimal";
@@ -83,19 +81,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const d = await invoiceDetail(params.invoiceId);
   if (!d) notFound("There is no such invoice.");
   const practice = await practiceBilling();
-  const fees =
-    d.invoice.status === "draft"
-      ? await db
-          .select({
-            id: feeItems.id,
-            code: feeItems.code,
-            description: feeItems.description,
-            priceMinor: feeItems.priceMinor,
-          })
-          .from(feeItems)
-          .where(eq(feeItems.active, true))
-          .orderBy(asc(feeItems.code))
-      : [];
+  const fees = d.invoice.status === "draft" ? await feesForDraft() : [];
   await audit({
     action: "billing.invoice_viewed",
     actorUserId: user.id,

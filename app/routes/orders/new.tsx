@@ -1,5 +1,4 @@
 import { parseWithZod } from "@conform-to/zod/v4";
-import { eq } from "drizzle-orm";
 import { data, Form, Link } from "react-router";
 import type { Route } from "./+types/new";
 import { PageHeader } from "~/components/page-header";
@@ -7,7 +6,6 @@ import { matchCount } from "~/components/patient-search";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input } from "~/components/ui/input";
-import { patients } from "~/db/schema";
 import { formatRx } from "~/lib/optics";
 import {
   activeFrames,
@@ -18,13 +16,13 @@ import {
   ORDER_ROLES,
   orderablePrescriptions,
   OrderError,
+  orderPatient,
   practiceOrderSettings,
 } from "~/models/orders/orders.server";
 import { formatDate } from "~/lib/format";
 import { isUuid } from "~/models/patients/patient-schema";
 import { searchPatientsPage } from "~/models/patients/patients.server";
 import { requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { contactLensOrderSchema, spectacleOrderSchema } from "~/models/orders/order-schema";
 import { notFound } from "~/utils/failure.server";
@@ -54,15 +52,7 @@ export async function loader({ request }: Route.LoaderArgs) {
       totalIsExact: found.totalIsExact,
     };
   }
-  const [patient] = await db
-    .select({
-      id: patients.id,
-      firstName: patients.firstName,
-      lastName: patients.lastName,
-      dateOfBirth: patients.dateOfBirth,
-    })
-    .from(patients)
-    .where(eq(patients.id, patientId));
+  const patient = await orderPatient(patientId);
   if (!patient) notFound("There is no such patient.");
   const rxs = await orderablePrescriptions(patientId);
   const rx = rxs.find((r) => r.id === prescriptionId) ?? null;

@@ -1,5 +1,4 @@
 import { parseWithZod } from "@conform-to/zod/v4";
-import { eq } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import type { Route } from "./+types/order";
 import { GeneralErrorBoundary } from "~/components/error-boundary";
@@ -7,7 +6,6 @@ import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice, StatusBadge } from "~/components/ui/notice";
-import { invoices } from "~/db/schema";
 import { formatMoney } from "~/lib/format";
 import { parseMoney } from "~/lib/money";
 import { STATE_LABEL, type OrderStateName } from "~/lib/orders/states";
@@ -20,6 +18,7 @@ import {
   ORDER_ROLES,
   orderDetail,
   OrderError,
+  orderInvoice,
   OVERRIDE_ROLES,
   practiceOrderSettings,
   raiseOrderInvoice,
@@ -32,7 +31,6 @@ import { invoiceLabel } from "~/models/billing/invoices.server";
 import { formatDate } from "~/lib/format";
 import { isUuid } from "~/models/patients/patient-schema";
 import { requireRole } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 import { notFound } from "~/utils/failure.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { checkSchema, moveSchema } from "~/models/orders/order-schema";
@@ -45,7 +43,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const d = await orderDetail(params.orderId);
   if (!d) notFound("There is no such order.");
   const settings = await practiceOrderSettings();
-  const [inv] = d.order.invoiceId ? await db.select().from(invoices).where(eq(invoices.id, d.order.invoiceId)) : [];
+  const inv = await orderInvoice(d.order.invoiceId);
   return {
     role: user.role,
     canOverride: (OVERRIDE_ROLES as readonly string[]).includes(user.role),

@@ -1,5 +1,4 @@
 import { parseWithZod } from "@conform-to/zod/v4";
-import { and, eq } from "drizzle-orm";
 import { data, Form, Link, useActionData, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/home";
@@ -17,10 +16,9 @@ import { Button, buttonClass } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Textarea } from "~/components/ui/input";
 import { Notice, StatusBadge } from "~/components/ui/notice";
-import { appointmentChangeRequests } from "~/db/schema";
 import { STATUS_LABEL, type Status } from "~/lib/scheduling";
 import { audit } from "~/utils/audit.server";
-import { db } from "~/utils/db.server";
+import { requestMove } from "~/models/schedule/move-requests.server";
 import { BookingError, changeStatus } from "~/models/schedule/schedule.server";
 import { redirectWithToast } from "~/utils/toast.server";
 
@@ -104,30 +102,7 @@ export async function action({ request }: Route.ActionArgs) {
     return data(submission.reply({ formErrors: ["Only a booked visit that has not started can be moved."] }), {
       status: 409,
     });
-  const [open] = await db
-    .select({ id: appointmentChangeRequests.id })
-    .from(appointmentChangeRequests)
-    .where(and(eq(appointmentChangeRequests.appointmentId, visit.id), eq(appointmentChangeRequests.status, "open")));
-  await db.transaction(async (tx) => {
-    if (open)
-      await tx
-        .update(appointmentChangeRequests)
-        .set({ message: v.message })
-        .where(eq(appointmentChangeRequests.id, open.id));
-    else await tx.insert(appointmentChangeRequests).values({ appointmentId: visit.id, patientId, message: v.message });
-    await audit(
-      {
-        action: "portal.move_requested",
-        actorUserId: user.id,
-        patientId,
-        entityType: "appointment",
-        entityId: visit.id,
-        detail: { message: v.message },
-        request,
-      },
-      tx,
-    );
-  });
+  await requestMove({ actorUserId: user.id, patientId, appointmentId: visit.id, message: v.message, request });
   return redirectWithToast("/portal", {
     kind: "success",
     title: "Request sent to the front desk",

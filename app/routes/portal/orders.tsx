@@ -1,13 +1,10 @@
-import { desc, eq } from "drizzle-orm";
 import type { Route } from "./+types/orders";
-import { requirePortalPatient } from "~/models/portal/portal.server";
+import { ordersOf, requirePortalPatient } from "~/models/portal/portal.server";
 import { PageHeader } from "~/components/page-header";
 import { Card } from "~/components/ui/card";
 import { StatusBadge } from "~/components/ui/notice";
-import { opticalOrders } from "~/db/schema";
 import { orderLabel, PATIENT_STATE_LABEL } from "~/lib/orders/states";
 import { audit } from "~/utils/audit.server";
-import { db } from "~/utils/db.server";
 
 /** Sent as plain HTML, without scripts: the page only shows the patient's orders. */
 export const handle = { hydrate: false };
@@ -15,19 +12,7 @@ export const handle = { hydrate: false };
 /** The patient's own spectacle and contact-lens orders and where each stands. */
 export async function loader({ request }: Route.LoaderArgs) {
   const { user, patientId } = await requirePortalPatient(request);
-  const rows = await db
-    .select({
-      id: opticalOrders.id,
-      number: opticalOrders.number,
-      kind: opticalOrders.kind,
-      state: opticalOrders.state,
-      frameLabel: opticalOrders.frameLabel,
-      createdAt: opticalOrders.createdAt,
-      stateChangedAt: opticalOrders.stateChangedAt,
-    })
-    .from(opticalOrders)
-    .where(eq(opticalOrders.patientId, patientId))
-    .orderBy(desc(opticalOrders.createdAt));
+  const rows = await ordersOf(patientId);
   await audit({
     action: "portal.orders_read",
     actorUserId: user.id,

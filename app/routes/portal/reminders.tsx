@@ -1,15 +1,12 @@
 import { parseWithZod } from "@conform-to/zod/v4";
-import { eq } from "drizzle-orm";
 import { data, Form, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/reminders";
 import { PageHeader } from "~/components/page-header";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
-import { patients } from "~/db/schema";
-import { audit } from "~/utils/audit.server";
+import { emailChoicesOf, saveEmailChoices } from "~/models/portal/email-choices.server";
 import { requirePortalPatient } from "~/models/portal/portal.server";
-import { db } from "~/utils/db.server";
 import { redirectWithToast } from "~/utils/toast.server";
 import { notFound } from "~/utils/failure.server";
 
@@ -23,14 +20,7 @@ export const handle = { hydrate: false };
 
 export async function loader({ request }: Route.LoaderArgs) {
   const { patientId } = await requirePortalPatient(request);
-  const [row] = await db
-    .select({
-      remindersByEmail: patients.remindersByEmail,
-      recallsByEmail: patients.recallsByEmail,
-      email: patients.email,
-    })
-    .from(patients)
-    .where(eq(patients.id, patientId));
+  const row = await emailChoicesOf(patientId);
   if (!row) notFound();
   return row;
 }
@@ -43,24 +33,7 @@ export async function action({ request }: Route.ActionArgs) {
     remindersByEmail: submission.value.remindersByEmail === "on",
     recallsByEmail: submission.value.recallsByEmail === "on",
   };
-  await db.transaction(async (tx) => {
-    await tx
-      .update(patients)
-      .set({ ...choice, updatedAt: new Date() })
-      .where(eq(patients.id, patientId));
-    await audit(
-      {
-        action: "portal.reminder_choice",
-        actorUserId: user.id,
-        patientId,
-        entityType: "patient",
-        entityId: patientId,
-        detail: choice,
-        request,
-      },
-      tx,
-    );
-  });
+  await saveEmailChoices({ actorUserId: user.id, patientId, choice, request });
   return redirectWithToast("/portal/reminders", { kind: "success", title: "Your reminder choices are saved" });
 }
 

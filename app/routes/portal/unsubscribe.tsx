@@ -1,12 +1,9 @@
-import { eq } from "drizzle-orm";
 import { data, Form, useNavigation } from "react-router";
 import type { Route } from "./+types/unsubscribe";
 import { AuthCard } from "~/components/auth-card";
 import { Button } from "~/components/ui/button";
 import { Notice } from "~/components/ui/notice";
-import { patients } from "~/db/schema";
-import { audit } from "~/utils/audit.server";
-import { db } from "~/utils/db.server";
+import { unsubscribeByLink, unsubscribeState } from "~/models/portal/email-choices.server";
 import { verifyUnsubscribe, type UnsubscribeList } from "~/utils/mail.server";
 import { notFound } from "~/utils/failure.server";
 
@@ -32,10 +29,7 @@ const WHAT: Record<UnsubscribeList, { title: string; words: string; rest: string
 export async function loader({ params }: Route.LoaderArgs) {
   const t = verifyUnsubscribe(params.token);
   if (!t) notFound("This unsubscribe link is not valid.");
-  const [p] = await db
-    .select({ reminders: patients.remindersByEmail, recalls: patients.recallsByEmail })
-    .from(patients)
-    .where(eq(patients.id, t.patientId));
+  const p = await unsubscribeState(t.patientId);
   return { list: t.list, alreadyOff: p ? !p[t.list] : true };
 }
 
@@ -49,29 +43,7 @@ export async function action({ request, params }: Route.ActionArgs) {
       },
       { status: 404 },
     );
-  await db.transaction(async (tx) => {
-    const [p] = await tx
-      .update(patients)
-      .set(
-        t.list === "reminders"
-          ? { remindersByEmail: false, updatedAt: new Date() }
-          : { recallsByEmail: false, updatedAt: new Date() },
-      )
-      .where(eq(patients.id, t.patientId))
-      .returning({ id: patients.id });
-    if (p)
-      await audit(
-        {
-          action: "patient.email_opt_out",
-          entityType: "patient",
-          entityId: p.id,
-          patientId: p.id,
-          detail: { list: t.list, via: "unsubscribe link" },
-          request,
-        },
-        tx,
-      );
-  });
+  await unsubscribeByLink(t.patientId, t.list, request);
   return { ok: true as const, list: t.list };
 }
 

@@ -1,6 +1,5 @@
 import { getFormProps, useForm } from "@conform-to/react";
 import { parseWithZod } from "@conform-to/zod/v4";
-import { asc, desc, eq } from "drizzle-orm";
 import { data, Form, Link, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/appointment";
@@ -8,6 +7,7 @@ import { StatusCommands, usePolling } from "./day-ui";
 import { statusAction } from "~/models/schedule/day.server";
 import { isoTime } from "~/models/schedule/schedule-api.server";
 import { scheduleReferenceData } from "~/models/schedule/schedule-data.server";
+import { appointmentForPage, appointmentMessagesOf, latestExamIdOf } from "~/models/schedule/appointment-view.server";
 import { appointmentHistory } from "~/models/schedule/history.server";
 import { AppointmentStatus } from "~/components/schedule/status-ui";
 import { ErrorList } from "~/components/forms";
@@ -17,11 +17,9 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Input, Select } from "~/components/ui/input";
 import { Notice } from "~/components/ui/notice";
-import { appointmentMessages, appointments, appointmentTypes, exams, patients, users } from "~/db/schema";
 import { isMovable, STATUS_LABEL } from "~/lib/scheduling/status";
 import { formatLocal, localParts, toZonedIso } from "~/lib/scheduling/time";
 import { requireRole, STAFF_ROLES } from "~/utils/auth.server";
-import { db } from "~/utils/db.server";
 import { sendReminderNow } from "~/models/schedule/reminders.server";
 import { BookingError, moveAppointment, practiceSchedule } from "~/models/schedule/schedule.server";
 import { redirectWithToast } from "~/utils/toast.server";
@@ -31,38 +29,11 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   if (!z.uuid().safeParse(params.appointmentId).success) notFound("No such appointment.");
   const { timeZone } = await practiceSchedule();
-  const [a] = await db
-    .select({
-      id: appointments.id,
-      start: appointments.startsAt,
-      end: appointments.endsAt,
-      status: appointments.status,
-      notes: appointments.notes,
-      providerId: appointments.providerId,
-      providerName: users.name,
-      patientId: appointments.patientId,
-      first: patients.firstName,
-      last: patients.lastName,
-      typeName: appointmentTypes.name,
-    })
-    .from(appointments)
-    .innerJoin(users, eq(users.id, appointments.providerId))
-    .innerJoin(patients, eq(patients.id, appointments.patientId))
-    .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
-    .where(eq(appointments.id, params.appointmentId));
+  const a = await appointmentForPage(params.appointmentId);
   if (!a) notFound("No such appointment.");
   const history = await appointmentHistory(a.id, timeZone);
-  const messages = await db
-    .select()
-    .from(appointmentMessages)
-    .where(eq(appointmentMessages.appointmentId, a.id))
-    .orderBy(asc(appointmentMessages.createdAt));
-  const [exam] = await db
-    .select({ id: exams.id })
-    .from(exams)
-    .where(eq(exams.appointmentId, a.id))
-    .orderBy(desc(exams.createdAt))
-    .limit(1);
+  const messages = await appointmentMessagesOf(a.id);
+  const examId = await latestExamIdOf(a.id);
   const { providers } = await scheduleReferenceData();
   const local = localParts(a.start, timeZone);
   return {
@@ -83,7 +54,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       patientName: `${a.first} ${a.last}`,
       typeName: a.typeName,
       movable: isMovable(a.status),
-      examUrl: exam ? `/patients/${a.patientId}/exams/${exam.id}` : null,
+      examUrl: examId ? `/patients/${a.patientId}/exams/${examId}` : null,
     },
     history,
     messages: messages.map((m) => ({
