@@ -76,6 +76,11 @@ export default tseslint.config(
               group: ["~/routes/**/*.server", "../*/*.server"],
               message: "Server logic shared between areas belongs in app/models.",
             },
+            {
+              // Routes guard, parse, call a model and render: queries and transactions live in app/models.
+              group: ["~/utils/db.server", "drizzle-orm", "drizzle-orm/*"],
+              message: "Query the database from app/models; a route calls the model.",
+            },
           ],
         },
       ],
