@@ -1,3 +1,4 @@
+import { dateTimeFormat } from "~/lib/format/intl";
 import { redirect } from "react-router";
 import type { Route } from "./+types/home";
 import { FrontDeskView } from "./home/front-desk";
@@ -28,7 +29,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export default function Home({ loaderData }: Route.ComponentProps) {
   const { user, practice, home } = loaderData;
-  const today = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: practice.timeZone }).format(new Date());
+  const today = dateTimeFormat("en-GB", { dateStyle: "full", timeZone: practice.timeZone }).format(new Date());
   return (
     <>
       <PageHeader

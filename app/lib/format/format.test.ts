@@ -89,3 +89,20 @@ describe("formatMoney", () => {
     );
   });
 });
+
+describe("shared Intl formatters", () => {
+  it("builds one formatter per locale and options, and formats exactly as a new one would", async () => {
+    const { dateTimeFormat, numberFormat } = await import("./intl");
+    const london = { timeZone: "Europe/London", hour: "2-digit", minute: "2-digit", hourCycle: "h23" } as const;
+    expect(dateTimeFormat("en-GB", london)).toBe(dateTimeFormat("en-GB", { ...london }));
+    expect(dateTimeFormat("en-GB", london)).not.toBe(dateTimeFormat("en-GB", { ...london, timeZone: "UTC" }));
+    // 1 July 2027 12:00 UTC is 13:00 in London (BST, UTC+1: the UK's Summer Time Order, from memory).
+    const july = new Date("2027-07-01T12:00:00Z");
+    expect(dateTimeFormat("en-GB", london).format(july)).toBe("13:00");
+    expect(dateTimeFormat("en-GB", { ...london, timeZone: "UTC" }).format(july)).toBe("12:00");
+    expect(dateTimeFormat("en-GB", london).format(july)).toBe(new Intl.DateTimeFormat("en-GB", london).format(july));
+    const gbp = { style: "currency", currency: "GBP" } as const;
+    expect(numberFormat("en-GB", gbp)).toBe(numberFormat("en-GB", gbp));
+    expect(numberFormat("en-GB", gbp).format(12.5)).toBe("£12.50");
+  });
+});

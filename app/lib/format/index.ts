@@ -2,6 +2,7 @@
  * How the app writes dates, ages and money for people: one formatter each, pure, the same on the
  * server and in the browser (so a page never hydrates with other text than it was rendered with).
  */
+import { dateTimeFormat, numberFormat } from "./intl";
 import { minorUnitDigits } from "~/lib/money";
 
 const LOCALE = "en-GB";
@@ -38,7 +39,7 @@ export function formatDate(
       ? new Date(value)
       : value;
   if (Number.isNaN(at.getTime())) throw new RangeError(`Not a date: ${String(value)}`);
-  return new Intl.DateTimeFormat(LOCALE, {
+  return dateTimeFormat(LOCALE, {
     ...DATE_PARTS[style],
     ...(time && !calendar ? { hour: "2-digit", minute: "2-digit", hourCycle: "h23" } : {}),
     timeZone: calendar ? "UTC" : timeZone,
@@ -53,7 +54,7 @@ function parts(iso: string): [number, number, number] {
 
 /** Today's calendar date in `timeZone` (UTC by default), as YYYY-MM-DD. */
 export function calendarDateIn(at: Date, timeZone = "UTC"): string {
-  return new Intl.DateTimeFormat("en-CA", { timeZone, year: "numeric", month: "2-digit", day: "2-digit" }).format(at);
+  return dateTimeFormat("en-CA", { timeZone, year: "numeric", month: "2-digit", day: "2-digit" }).format(at);
 }
 
 /**
@@ -82,7 +83,7 @@ export function formatAge(dateOfBirth: string, on: string = calendarDateIn(new D
  */
 export function formatMoney(minor: number, currency: string): string {
   const digits = minorUnitDigits(currency);
-  return new Intl.NumberFormat(LOCALE, {
+  return numberFormat(LOCALE, {
     style: "currency",
     currency,
     minimumFractionDigits: digits,

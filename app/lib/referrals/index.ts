@@ -3,6 +3,7 @@
  * be chased. Plain TypeScript, no framework imports; shared by the server and the pages.
  */
 
+import { dateTimeFormat } from "~/lib/format/intl";
 import { isBelowProposal } from "./triage";
 
 export {
@@ -110,7 +111,7 @@ export function dueBy(r: Pick<ReferralState, "sentAt" | "timeFrameDays">): Date 
 
 /** Today's date (YYYY-MM-DD) in a time zone. */
 export function localDate(at: Date, timeZone: string): string {
-  const parts = new Intl.DateTimeFormat("en-CA", {
+  const parts = dateTimeFormat("en-CA", {
     timeZone,
     year: "numeric",
     month: "2-digit",

@@ -3,6 +3,7 @@
  * Instants are `Date`s (UTC underneath); local days are "YYYY-MM-DD" strings; times of day are
  * minutes after local midnight. No framework imports: shared by server and browser.
  */
+import { dateTimeFormat } from "~/lib/format/intl";
 import { TZDate } from "@date-fns/tz";
 
 export type LocalParts = { date: string; weekday: number; minute: number };
@@ -91,14 +92,14 @@ export function toZonedIso(at: Date, timeZone: string): string {
 
 /** "Mon 29 Mar 2027, 09:00" in the practice's zone. */
 export function formatLocal(at: Date, timeZone: string, opts: { withDate?: boolean } = {}): string {
-  const time = new Intl.DateTimeFormat("en-GB", {
+  const time = dateTimeFormat("en-GB", {
     timeZone,
     hour: "2-digit",
     minute: "2-digit",
     hourCycle: "h23",
   }).format(at);
   if (opts.withDate === false) return time;
-  const parts = new Intl.DateTimeFormat("en-GB", {
+  const parts = dateTimeFormat("en-GB", {
     timeZone,
     weekday: "short",
     day: "numeric",
@@ -123,7 +124,7 @@ export function isValidTimeZone(tz: string): boolean {
  * UTC (offsets only change on quarter hours), so a week of events costs a few hundred look-ups.
  */
 export function zonedIsoFormatter(timeZone: string): (ms: number) => string {
-  const fmt = new Intl.DateTimeFormat("en-GB", {
+  const fmt = dateTimeFormat("en-GB", {
     timeZone,
     year: "numeric",
     month: "2-digit",

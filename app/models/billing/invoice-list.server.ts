@@ -1,3 +1,4 @@
+import { dateTimeFormat } from "~/lib/format/intl";
 import { and, count, desc, eq, ilike, inArray, or, sql, type SQL } from "drizzle-orm";
 import { invoices, patients, practiceSettings } from "~/db/schema";
 import { formatDate, formatMoney } from "~/lib/format";
@@ -123,7 +124,7 @@ export async function balancesPage(f: BalanceFilter, pageSize: number) {
       .from(practiceSettings)
       .where(eq(practiceSettings.id, 1)),
   ]);
-  const fmt = new Intl.DateTimeFormat("en-GB", {
+  const fmt = dateTimeFormat("en-GB", {
     timeZone: settings?.timeZone ?? "Europe/London",
     day: "numeric",
     month: "short",

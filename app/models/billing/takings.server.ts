@@ -3,6 +3,7 @@
  * method, and a reconciliation against the invoices: each invoice's paid amount must equal its
  * received payments less their refunds.
  */
+import { dateTimeFormat } from "~/lib/format/intl";
 import { sql } from "drizzle-orm";
 import { isCalendarDate, isCalendarMonth } from "~/lib/dates/calendar-date";
 import { db } from "~/utils/db.server";
@@ -19,7 +20,7 @@ export function parsePeriod(params: URLSearchParams, today: string): Period {
 }
 
 export function todayIn(timeZone: string, now = new Date()) {
-  return new Intl.DateTimeFormat("en-CA", { timeZone, year: "numeric", month: "2-digit", day: "2-digit" }).format(now);
+  return dateTimeFormat("en-CA", { timeZone, year: "numeric", month: "2-digit", day: "2-digit" }).format(now);
 }
 
 function range(p: Period) {

@@ -1,4 +1,5 @@
 /** Shared by the referral modules: ids, the reference, the error type, the practice row and dates in letters. */
+import { dateTimeFormat } from "~/lib/format/intl";
 import { eq } from "drizzle-orm";
 import { data } from "react-router";
 import { practiceSettings } from "~/db/schema";
@@ -41,7 +42,7 @@ export function formatDate(
   opts: Intl.DateTimeFormatOptions = { day: "numeric", month: "long", year: "numeric" },
 ) {
   const d = typeof at === "string" ? new Date(`${at}T12:00:00Z`) : at;
-  return new Intl.DateTimeFormat("en-GB", { timeZone: typeof at === "string" ? "UTC" : timeZone, ...opts }).format(d);
+  return dateTimeFormat("en-GB", { timeZone: typeof at === "string" ? "UTC" : timeZone, ...opts }).format(d);
 }
 
 // ------------------------------------------------------------------------------- the exam

@@ -3,6 +3,7 @@
  * Due dates come from app/lib/scheduling/recall.ts (the exam's planned interval, the visit
  * type's, else the practice's default by age). One recall_messages row per patient and due date: never two for the same date.
  */
+import { dateTimeFormat } from "~/lib/format/intl";
 import { and, count, eq, gt, inArray, sql } from "drizzle-orm";
 import { appointments, patients, recallBatches, recallMessages, sites } from "~/db/schema";
 import { recallDueDate, ageOn, type RecallRule } from "~/lib/scheduling/recall";
@@ -305,7 +306,7 @@ export async function deliverRecall(
           .where(eq(recallMessages.id, recallId));
         return "skipped" as const;
       }
-      const due = new Intl.DateTimeFormat("en-GB", { dateStyle: "long", timeZone: "UTC" }).format(
+      const due = dateTimeFormat("en-GB", { dateStyle: "long", timeZone: "UTC" }).format(
         new Date(`${row.recall.dueDate}T00:00:00Z`),
       );
       const site = row.site;

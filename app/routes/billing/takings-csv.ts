@@ -1,3 +1,4 @@
+import { dateTimeFormat } from "~/lib/format/intl";
 import type { Route } from "./+types/takings-csv";
 import { BILLING_ROLES, invoiceLabel, practiceBilling } from "~/models/billing/invoices.server";
 import { parsePeriod, takings, todayIn } from "~/models/billing/takings.server";
@@ -16,13 +17,13 @@ export async function loader({ request }: Route.LoaderArgs) {
   const practice = await practiceBilling();
   const period = parsePeriod(new URL(request.url).searchParams, todayIn(practice.timeZone));
   const t = await takings(period);
-  const date = new Intl.DateTimeFormat("en-CA", {
+  const date = dateTimeFormat("en-CA", {
     timeZone: t.timeZone,
     year: "numeric",
     month: "2-digit",
     day: "2-digit",
   });
-  const time = new Intl.DateTimeFormat("en-GB", {
+  const time = dateTimeFormat("en-GB", {
     timeZone: t.timeZone,
     hour: "2-digit",
     minute: "2-digit",

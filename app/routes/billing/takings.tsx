@@ -1,3 +1,4 @@
+import { dateTimeFormat } from "~/lib/format/intl";
 import { createColumnHelper } from "@tanstack/react-table";
 import { data, Form, Link } from "react-router";
 import { z } from "zod";
@@ -36,7 +37,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const { site, setCookie } = await siteChoice(request, sites);
   const t = await takings(period, site === "all" ? undefined : site);
   const cur = t.currency;
-  const time = new Intl.DateTimeFormat("en-GB", {
+  const time = dateTimeFormat("en-GB", {
     timeZone: t.timeZone,
     day: "numeric",
     month: "short",
@@ -45,14 +46,14 @@ export async function loader({ request }: Route.LoaderArgs) {
   });
   const title =
     period.kind === "day"
-      ? new Intl.DateTimeFormat("en-GB", {
+      ? dateTimeFormat("en-GB", {
           timeZone: "UTC",
           weekday: "long",
           day: "numeric",
           month: "long",
           year: "numeric",
         }).format(new Date(`${period.day}T12:00:00Z`))
-      : new Intl.DateTimeFormat("en-GB", { timeZone: "UTC", month: "long", year: "numeric" }).format(
+      : dateTimeFormat("en-GB", { timeZone: "UTC", month: "long", year: "numeric" }).format(
           new Date(`${period.month}-15T12:00:00Z`),
         );
   return data(

@@ -1,3 +1,4 @@
+import { dateTimeFormat } from "~/lib/format/intl";
 import { createContext, useCallback, useContext, useEffect, useRef, useState, type ReactNode } from "react";
 import { useFetcher } from "react-router";
 import { Card } from "~/components/ui/card";
@@ -46,7 +47,9 @@ export const ExamPageContext = createContext<{
   examId: string;
   stored: Record<string, StoredSectionState>;
   recorded: (section: string) => boolean;
-}>({ examId: "", stored: {}, recorded: () => false });
+  /** The practice's time zone: times are written on its wall clock, wherever the page is rendered. */
+  timeZone: string;
+}>({ examId: "", stored: {}, recorded: () => false, timeZone: "UTC" });
 
 export function useDirtyTracker() {
   const [states, setStates] = useState<Record<string, SectionState>>({});
@@ -62,7 +65,8 @@ const AUTOSAVE_MS = 900;
 /** The page anchor of a section ("refraction:final" → "section-refraction-final"). */
 export const sectionAnchor = (section: string) => `section-${section.replace(/[^a-z0-9]+/gi, "-")}`;
 
-const clock = (iso: string) => new Date(iso).toLocaleTimeString("en-GB", { hour: "2-digit", minute: "2-digit" });
+const clock = (iso: string, timeZone: string) =>
+  dateTimeFormat("en-GB", { timeZone, hour: "2-digit", minute: "2-digit", hourCycle: "h23" }).format(new Date(iso));
 
 /**
  * One exam section: a fetcher form posting `intent=save` and `section`, saved automatically a
@@ -197,7 +201,7 @@ export function SectionForm({
   const statusText =
     state === "saved"
       ? savedAt
-        ? `Saved ${clock(savedAt)}`
+        ? `Saved ${clock(savedAt, page.timeZone)}`
         : "Saved (time not recorded)"
       : state === "unsaved" && fromTab
         ? "Unsaved changes (kept in this tab)"

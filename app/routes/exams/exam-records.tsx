@@ -1,12 +1,13 @@
 /** What follows the clinical sections: signing, addenda and the prescriptions issued from the exam. */
-import { useEffect, useRef, useState } from "react";
+import { useContext, useEffect, useRef, useState } from "react";
 import { Form, useActionData, useNavigation } from "react-router";
 import type { Route } from "./+types/exam";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice } from "~/components/ui/notice";
 import { EXAM_SECTIONS, NO_FINAL_WARNING, sectionTitle, titleOf } from "~/lib/exam/section-list";
-import { ExamInput, STATE_WORDS, type SectionState } from "./exam-form";
+import { formatDate } from "~/lib/format";
+import { ExamInput, ExamPageContext, STATE_WORDS, type SectionState } from "./exam-form";
 import { RequiredMark } from "./exam-inputs";
 import { applyValues } from "./section-drafts";
 
@@ -119,6 +120,7 @@ export function Addenda({
   subjective: Record<string, string>;
 }) {
   const actionData = useActionData<{ intent?: string; message?: string; errors?: Record<string, string[]> }>();
+  const { timeZone } = useContext(ExamPageContext);
   const mine = actionData?.intent === "addendum" ? actionData : undefined;
   const errors = mine?.errors ?? {};
   const formRef = useRef<HTMLFormElement>(null);
@@ -140,8 +142,7 @@ export function Addenda({
             {addenda.map((a) => (
               <li key={a.id} className="rounded-md border border-line p-3">
                 <p className="text-sm text-muted">
-                  {a.section} · {a.author} ·{" "}
-                  {new Date(a.createdAt).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}
+                  {a.section} · {a.author} · {formatDate(a.createdAt, { timeZone, time: true })}
                 </p>
                 <p className="mt-1 whitespace-pre-wrap">{a.body}</p>
               </li>

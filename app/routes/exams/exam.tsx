@@ -203,7 +203,9 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
   const shown = (section: string) => !readOnly || showEmpty || recorded(section);
   return (
     <DirtyContext.Provider value={tracker}>
-      <ExamPageContext.Provider value={{ examId: exam.id, stored: loaderData.sectionStates, recorded }}>
+      <ExamPageContext.Provider
+        value={{ examId: exam.id, stored: loaderData.sectionStates, recorded, timeZone: loaderData.timeZone }}
+      >
         <PageHeader
           title={
             <>
@@ -216,8 +218,7 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
                 Chart
               </Link>{" "}
               · born {formatDate(patient.dateOfBirth)} (age {patient.age}) · examined{" "}
-              {new Date(exam.examinedAt).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })} by{" "}
-              {exam.optometrist}
+              {formatDate(exam.examinedAt, { timeZone: loaderData.timeZone, time: true })} by {exam.optometrist}
             </>
           }
           actions={
@@ -225,7 +226,7 @@ export default function ExamPage({ loaderData }: Route.ComponentProps) {
               {readOnly ? (
                 <StatusBadge tone="success">
                   Signed by {exam.signedBy} on{" "}
-                  {new Date(exam.signedAt!).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}
+                  {formatDate(exam.signedAt!, { timeZone: loaderData.timeZone, time: true })}
                 </StatusBadge>
               ) : (
                 <StatusBadge tone="warning">In progress</StatusBadge>

@@ -1,6 +1,6 @@
 /** The exam's case history, refractions (with the change from last visit's final) and binocular vision. */
 import { createColumnHelper } from "@tanstack/react-table";
-import { useState } from "react";
+import { useContext, useState } from "react";
 import type { Route } from "./+types/exam";
 import { DataTable } from "~/components/data-table";
 import { Card } from "~/components/ui/card";
@@ -24,7 +24,7 @@ import {
   type SphCyl,
 } from "~/lib/optics";
 import { formatDate } from "~/lib/format";
-import { ExamInput, ExamSelect, ExamTextarea, SectionForm } from "./exam-form";
+import { ExamInput, ExamPageContext, ExamSelect, ExamTextarea, SectionForm } from "./exam-form";
 import { sectionTitle } from "~/lib/exam/section-list";
 import { CopySubjective } from "./copy-subjective";
 
@@ -121,6 +121,7 @@ export function RefractionSection({
   /** Who supplied this refraction by addendum after signing, and when. */
   addendumNote?: { author: string; createdAt: string } | null;
 }) {
+  const { timeZone } = useContext(ExamPageContext);
   const label = sectionTitle(`refraction:${kind}`);
   const short = label.split(" (")[0]!.toLowerCase();
   const v = (eye: EyeKey, p: string) => values[`${kind}.${eye}_${p}`];
@@ -170,7 +171,7 @@ export function RefractionSection({
       {addendumNote ? (
         <p className="mb-3 text-sm" data-testid="final-from-addendum">
           Given after signing, by addendum of {addendumNote.author} on{" "}
-          {new Date(addendumNote.createdAt).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}.
+          {formatDate(addendumNote.createdAt, { timeZone, time: true })}.
         </p>
       ) : null}
       <DataTable

@@ -1,4 +1,5 @@
 /** Acuity (with its notation and what each value reads as), IOP (several readings, mean) and the assessment with per-eye diagnoses. */
+import { dateTimeFormat } from "~/lib/format/intl";
 import { createColumnHelper } from "@tanstack/react-table";
 import { useMemo, useState } from "react";
 import { DataTable } from "~/components/data-table";
@@ -136,9 +137,7 @@ export function AcuitySection({
 
 /** The time of day now in the practice's time zone, as a time field wants it (HH:MM). */
 const timeNow = (timeZone: string) =>
-  new Intl.DateTimeFormat("en-GB", { timeZone, hour: "2-digit", minute: "2-digit", hourCycle: "h23" }).format(
-    new Date(),
-  );
+  dateTimeFormat("en-GB", { timeZone, hour: "2-digit", minute: "2-digit", hourCycle: "h23" }).format(new Date());
 
 export function IopSection({
   values,

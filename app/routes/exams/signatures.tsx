@@ -1,11 +1,13 @@
 /** Who signed the exam, countersignatures by other clinicians, and the form to add one. */
+import { useContext } from "react";
 import { Form, useActionData, useNavigation } from "react-router";
 import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Notice } from "~/components/ui/notice";
+import { formatDate } from "~/lib/format";
+import { ExamPageContext } from "./exam-form";
 
 export type Countersignature = { clinician: string; note: string; signedAt: string };
-const when = (iso: string) => new Date(iso).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" });
 
 export function Signatures({
   signedBy,
@@ -20,6 +22,8 @@ export function Signatures({
 }) {
   const actionData = useActionData<{ intent?: string; message?: string; errors?: Record<string, string[]> }>();
   const navigation = useNavigation();
+  const { timeZone } = useContext(ExamPageContext);
+  const when = (iso: string) => formatDate(iso, { timeZone, time: true });
   const mine = actionData?.intent === "countersign" ? actionData : undefined;
   return (
     <section id="signatures" aria-labelledby="signatures-title">

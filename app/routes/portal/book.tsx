@@ -1,3 +1,4 @@
+import { dateTimeFormat } from "~/lib/format/intl";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, useNavigation, useSearchParams } from "react-router";
 import { z } from "zod";
@@ -123,8 +124,8 @@ export default function BookOnline({ loaderData, actionData }: Route.ComponentPr
   const { types, typeId, date, today, lastDate, slots, timeZone, practice, sites, siteId } = loaderData;
   const navigation = useNavigation();
   const [params] = useSearchParams();
-  const time = new Intl.DateTimeFormat("en-GB", { timeStyle: "short", timeZone });
-  const dayLabel = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(
+  const time = dateTimeFormat("en-GB", { timeStyle: "short", timeZone });
+  const dayLabel = dateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(
     new Date(`${date}T12:00:00Z`),
   );
   const reply = actionData as

@@ -1,3 +1,4 @@
+import { dateTimeFormat } from "~/lib/format/intl";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Form, Link, useActionData, useNavigation } from "react-router";
 import { z } from "zod";
@@ -125,7 +126,7 @@ function VisitCard({
 }) {
   const reply = useActionData<typeof action>() as Reply | undefined;
   const navigation = useNavigation();
-  const when = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeStyle: "short", timeZone }).format(
+  const when = dateTimeFormat("en-GB", { dateStyle: "full", timeStyle: "short", timeZone }).format(
     new Date(visit.start),
   );
   // The action's reply belongs to the visit whose form was sent.
@@ -252,7 +253,7 @@ export default function PortalHome({ loaderData }: Route.ComponentProps) {
             {past.map((v) => (
               <li key={v.id} className="flex flex-wrap items-center justify-between gap-2 py-2 text-sm">
                 <span>
-                  {new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeZone: practice.timeZone }).format(
+                  {dateTimeFormat("en-GB", { dateStyle: "medium", timeZone: practice.timeZone }).format(
                     new Date(v.start),
                   )}{" "}
                   · {v.typeName}

@@ -1,3 +1,4 @@
+import { dateTimeFormat } from "~/lib/format/intl";
 import { redirect } from "react-router";
 import { Form, useNavigation } from "react-router";
 import { z } from "zod";
@@ -53,9 +54,7 @@ export async function action({ request }: Route.ActionArgs) {
 export default function PortalInvoices({ loaderData, actionData }: Route.ComponentProps) {
   const navigation = useNavigation();
   const date = (iso: string | null) =>
-    iso
-      ? new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeZone: loaderData.timeZone }).format(new Date(iso))
-      : "—";
+    iso ? dateTimeFormat("en-GB", { dateStyle: "medium", timeZone: loaderData.timeZone }).format(new Date(iso)) : "—";
   return (
     <div className="mx-auto max-w-2xl space-y-6">
       <PageHeader title="Invoices and payments" />

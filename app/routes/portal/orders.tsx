@@ -1,3 +1,4 @@
+import { dateTimeFormat } from "~/lib/format/intl";
 import type { Route } from "./+types/orders";
 import { ordersOf, requirePortalPatient } from "~/models/portal/portal.server";
 import { PageHeader } from "~/components/page-header";
@@ -32,7 +33,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export default function PortalOrders({ loaderData }: Route.ComponentProps) {
-  const date = (iso: string) => new Intl.DateTimeFormat("en-GB", { dateStyle: "medium" }).format(new Date(iso));
+  const date = (iso: string) => dateTimeFormat("en-GB", { dateStyle: "medium" }).format(new Date(iso));
   return (
     <div className="mx-auto max-w-2xl space-y-6">
       <PageHeader

@@ -1,3 +1,4 @@
+import { dateTimeFormat } from "~/lib/format/intl";
 import type { Route } from "./+types/prescriptions";
 import { portalSettings, requirePortalPatient } from "~/models/portal/portal.server";
 import { PageHeader } from "~/components/page-header";
@@ -44,7 +45,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 export default function PortalPrescriptions({ loaderData }: Route.ComponentProps) {
   const { prescriptions, patientId, timeZone } = loaderData;
   const date = (iso: string) =>
-    new Intl.DateTimeFormat("en-GB", { dateStyle: "medium", timeZone }).format(
+    dateTimeFormat("en-GB", { dateStyle: "medium", timeZone }).format(
       new Date(iso.length === 10 ? `${iso}T12:00:00Z` : iso),
     );
   const current = prescriptions.filter((p) => p.current);

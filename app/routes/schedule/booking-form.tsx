@@ -1,3 +1,4 @@
+import { dateTimeFormat } from "~/lib/format/intl";
 import { useId } from "react";
 import { useFetcher } from "react-router";
 import { ErrorList } from "~/components/forms";
@@ -33,7 +34,7 @@ function errorsOf(reply: Reply, field: string) {
 
 /** "29 Mar 1979" from "1979-03-29" (dates of birth have no time zone). */
 export function formatDob(d: string) {
-  return new Intl.DateTimeFormat("en-GB", { day: "numeric", month: "short", year: "numeric", timeZone: "UTC" }).format(
+  return dateTimeFormat("en-GB", { day: "numeric", month: "short", year: "numeric", timeZone: "UTC" }).format(
     new Date(`${d}T00:00:00Z`),
   );
 }

@@ -1,3 +1,4 @@
+import { dateTimeFormat } from "~/lib/format/intl";
 import { Link } from "react-router";
 import { STATUS_MARK } from "./calendar-marks";
 import { Button, buttonClass } from "~/components/ui/button";
@@ -92,9 +93,7 @@ export function FreeTimes({
   dayLink: (date: string, offset: number) => string;
   onBook: (start: string, providerId: string) => void;
 }) {
-  const day = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(
-    new Date(`${date}T12:00:00Z`),
-  );
+  const day = dateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(new Date(`${date}T12:00:00Z`));
   const hhmm = (s: string) => s.slice(11, 16);
   return (
     <section aria-labelledby="free-title" className="mt-6 rounded-lg border border-line bg-white p-4 shadow-sm">

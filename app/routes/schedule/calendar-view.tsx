@@ -3,6 +3,7 @@
  * hydration). Runs in the practice's named time zone through the Luxon 3 plugin, so a receptionist
  * whose computer is set elsewhere still sees the practice's wall-clock times.
  */
+import { dateTimeFormat } from "~/lib/format/intl";
 import type { EventApi, EventContentArg, EventInput } from "@fullcalendar/core";
 import dayGridPlugin from "@fullcalendar/daygrid";
 import interactionPlugin from "@fullcalendar/interaction";
@@ -105,7 +106,7 @@ export default function CalendarView(props: CalendarProps) {
     [provider, site, onMessage],
   );
   const when = (iso: string) =>
-    new Intl.DateTimeFormat("en-GB", {
+    dateTimeFormat("en-GB", {
       timeZone,
       weekday: "short",
       day: "numeric",

@@ -1,3 +1,4 @@
+import { dateTimeFormat } from "~/lib/format/intl";
 import { createColumnHelper } from "@tanstack/react-table";
 import { data, Form, Link } from "react-router";
 import type { Route } from "./+types/day";
@@ -73,7 +74,7 @@ export default function DayList({ loaderData }: Route.ComponentProps) {
   const { appointments, date, today, provider, providers, site, sites, timeZone, user, checkedAt, moveRequests } =
     loaderData;
   usePolling(5);
-  const dayTitle = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(
+  const dayTitle = dateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(
     new Date(`${date}T12:00:00Z`),
   );
   const live = appointments.filter((a) => a.status !== "cancelled");

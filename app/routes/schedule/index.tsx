@@ -1,3 +1,4 @@
+import { dateTimeFormat } from "~/lib/format/intl";
 import { lazy, Suspense, useCallback, useEffect, useRef, useState } from "react";
 import { data, Form, Link, useLocation, useNavigate, useSearchParams } from "react-router";
 import type { Route } from "./+types/index";
@@ -108,7 +109,7 @@ export default function Schedule({ loaderData }: Route.ComponentProps) {
       />
     </Suspense>
   );
-  const dayTitle = new Intl.DateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(
+  const dayTitle = dateTimeFormat("en-GB", { dateStyle: "full", timeZone: "UTC" }).format(
     new Date(`${date}T12:00:00Z`),
   );
   return (
