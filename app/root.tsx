@@ -16,6 +16,7 @@ import {
   withSecurityHeaders,
 } from "./utils/http.server";
 import { crossSiteRefusal } from "./utils/origin.server";
+import { inRequestScope } from "./utils/request-scope.server";
 import { readToast } from "./utils/toast.server";
 
 export const middleware: Route.MiddlewareFunction[] = [
@@ -37,7 +38,7 @@ export const middleware: Route.MiddlewareFunction[] = [
         const bodyProblem = apiRouteRefusal(request) ?? (await bodyRefusal(request));
         if (bodyProblem instanceof Response) response = bodyProblem;
         else if (bodyProblem) response = refuse(bodyProblem.status, bodyProblem.detail);
-        else response = await next();
+        else response = await inRequestScope(() => next());
       }
       if (api) response = await asProblem(response);
     }

@@ -1,3 +1,4 @@
+import { requestMemo } from "./request-scope.server";
 import { randomBytes } from "node:crypto";
 import { and, eq, gt } from "drizzle-orm";
 import { createCookie, redirect } from "react-router";
@@ -34,8 +35,17 @@ export async function readSessionId(request: Request): Promise<string | null> {
   return typeof value === "string" && value.length > 20 ? value : null;
 }
 
-/** The signed-in, active user of this request, or null (expired, revoked, deactivated, forged). */
-export async function getSessionUser(request: Request): Promise<SessionUser | null> {
+/**
+ * The signed-in, active user of this request, or null (expired, revoked, deactivated, forged).
+ * A page's loaders each ask; the session is read once per request and method (an action's later
+ * loaders, which run as GET after the POST, read it afresh).
+ */
+export function getSessionUser(request: Request): Promise<SessionUser | null> {
+  const key = `session-user ${request.method} ${request.headers.get("Cookie") ?? ""}`;
+  return requestMemo(key, () => readSessionUser(request));
+}
+
+async function readSessionUser(request: Request): Promise<SessionUser | null> {
   const sessionId = await readSessionId(request);
   if (!sessionId) return null;
   const [row] = await db

@@ -377,6 +377,16 @@ describe("clinical findings and triage", () => {
       dil1_at: local,
     });
     expect(d.triage.urgency).toBe("same_day");
+
+    // An exam saved before triage was kept with it is triaged on reading, from the sections the
+    // page has read: the same proposal as the one kept on saving.
+    const [kept] = await db.select({ triage: exams.triage }).from(exams).where(eq(exams.id, exam.id));
+    await db.update(exams).set({ triage: null }).where(eq(exams.id, exam.id));
+    const read = dataOf<{ triage: unknown }>(
+      await run(examLoader, makeRequest("/x", { cookie: await cookieFor("optometrist") }), params),
+    );
+    expect(read.triage).toEqual(kept!.triage);
+    expect(read.triage).toMatchObject({ urgency: "same_day" });
   });
 
   it("refuses impossible values field by field and leaves the section as it was", async () => {

@@ -1,7 +1,8 @@
 /** What the exam page shows (signing, countersigning and addenda are in exam-signing.server.ts). */
-import { and, asc, eq, isNotNull } from "drizzle-orm";
-import { examAddenda, examCountersignatures, examRefractions, patients, users } from "~/db/schema";
+import { asc, eq, inArray } from "drizzle-orm";
+import { examCountersignatures, patients, users } from "~/db/schema";
 import { localDateTime, type EyeKey } from "~/lib/exam/sections";
+import { triage as triageOf, TriageInputError } from "~/lib/referrals";
 import type { SphCyl } from "~/lib/optics";
 import { ageInYears as ageOn } from "~/lib/format";
 import { BILLING_ROLES } from "~/models/billing/invoices.server";
@@ -17,10 +18,12 @@ import {
   formValues,
   loadExam,
   previousFinal,
-  promptsFor,
+  previousExamFindings,
+  promptsFrom,
   sectionStatesOf,
-  storedTriage,
+  type ExamSections,
 } from "./exam.server";
+import { bestVaOf, triageInputOf } from "./triage.server";
 
 type Exam = Awaited<ReturnType<typeof examFor>>;
 
@@ -54,26 +57,23 @@ export async function examPageData(user: SessionUser, exam: Exam, request: Reque
     [patient],
     sections,
     prev,
-    prompts,
-    optometrist,
-    signer,
+    earlier,
+    names,
     prescriptions,
     documents,
     settings,
     countersignatures,
-    triage,
     states,
-    fromAddendum,
     lenses,
   ] = await Promise.all([
     patientRead,
     sectionsRead,
     previousFinal(exam.patientId, exam.examinedAt),
-    sectionsRead.then((sections) => promptsFor(exam.patientId, exam, sections)),
-    db.select({ name: users.name }).from(users).where(eq(users.id, exam.optometristId)),
-    exam.signedById
-      ? db.select({ name: users.name }).from(users).where(eq(users.id, exam.signedById))
-      : Promise.resolve([]),
+    previousExamFindings(exam.patientId, exam.examinedAt),
+    db
+      .select({ id: users.id, name: users.name })
+      .from(users)
+      .where(inArray(users.id, [exam.optometristId, ...(exam.signedById ? [exam.signedById] : [])])),
     prescriptionsOf(exam.patientId, exam.id),
     documentsOf(exam.patientId, exam.id),
     examSettings(),
@@ -88,18 +88,16 @@ export async function examPageData(user: SessionUser, exam: Exam, request: Reque
       .innerJoin(users, eq(users.id, examCountersignatures.clinicianId))
       .where(eq(examCountersignatures.examId, exam.id))
       .orderBy(asc(examCountersignatures.signedAt)),
-    // Exams saved before triage was kept with them are triaged on reading.
-    exam.triage ? Promise.resolve(exam.triage) : storedTriage(exam.id),
     sectionStatesOf(exam.id),
-    db
-      .selectDistinct({ author: users.name, createdAt: examAddenda.createdAt })
-      .from(examRefractions)
-      .innerJoin(examAddenda, eq(examAddenda.id, examRefractions.addendumId))
-      .innerJoin(users, eq(users.id, examAddenda.authorId))
-      .where(and(eq(examRefractions.examId, exam.id), isNotNull(examRefractions.addendumId)))
-      .limit(1),
     catalogueLenses(),
   ]);
+  const prompts = promptsFrom(sections, earlier);
+  const nameOf = (id: string | null) => names.find((u) => u.id === id)?.name ?? null;
+  // A final refraction given by addendum after signing names that addendum's author and time.
+  const addendumIds = new Set(sections.refractions.flatMap((r) => (r.addendumId ? [r.addendumId] : [])));
+  const fromAddendum = sections.addenda.filter((a) => addendumIds.has(a.id));
+  // Exams saved before triage was kept with them are triaged on reading, from what was just read.
+  const triage = exam.triage ?? triageOnReading(exam, patient!.dateOfBirth, settings.timeZone, sections, earlier);
   return {
     patient: { ...patient!, age: ageOn(patient!.dateOfBirth) },
     exam: {
@@ -108,8 +106,8 @@ export async function examPageData(user: SessionUser, exam: Exam, request: Reque
       examinedAt: exam.examinedAt.toISOString(),
       updatedAt: exam.updatedAt.toISOString(),
       signedAt: exam.signedAt?.toISOString() ?? null,
-      optometrist: optometrist[0]?.name ?? "",
-      signedBy: signer[0]?.name ?? null,
+      optometrist: nameOf(exam.optometristId) ?? "",
+      signedBy: nameOf(exam.signedById),
     },
     values: formValues(sections, settings.timeZone),
     diagnoses: sections.diagnoses.map((d) => `${d.code}|${d.eye}`),
@@ -152,4 +150,35 @@ export async function examPageData(user: SessionUser, exam: Exam, request: Reque
     fitted: sections.contactLens.find((c) => c.section === "cl_fitting")?.data ?? null,
     canSign: exam.status === "in_progress" && user.id === exam.optometristId,
   };
+}
+
+/** The triage proposal from sections already read; a finding the engine refuses leaves it unset. */
+function triageOnReading(
+  exam: Exam,
+  dateOfBirth: string,
+  timeZone: string,
+  s: ExamSections,
+  earlier: Awaited<ReturnType<typeof previousExamFindings>>,
+) {
+  try {
+    return triageOf(
+      triageInputOf({
+        examinedAt: exam.examinedAt,
+        dateOfBirth,
+        timeZone,
+        iop: s.iop,
+        redFlags: s.findings.redFlags,
+        pupils: s.findings.pupils,
+        anteriorChamber: s.findings.anteriorChamber,
+        discs: s.findings.discs,
+        fundus: s.findings.fundus,
+        fields: s.fields,
+        va: bestVaOf(s.acuity, s.refractions),
+        previousVa: bestVaOf(earlier.acuity, earlier.refractions),
+      }),
+    );
+  } catch (e) {
+    if (e instanceof TriageInputError) return null;
+    throw e;
+  }
 }

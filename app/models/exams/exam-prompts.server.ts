@@ -1,6 +1,6 @@
 /** Referral prompts of the optics engine from an exam's saved findings and the previous visit's. */
 import { and, desc, eq, inArray, lt } from "drizzle-orm";
-import { examAcuity, examColourVision, examIop, exams, examVisualFields } from "~/db/schema";
+import { examAcuity, examColourVision, examIop, examRefractions, exams, examVisualFields } from "~/db/schema";
 import { EYES } from "~/lib/exam/sections";
 import { referralPrompts, type ReferralFindings, type ReferralPrompt } from "~/lib/optics";
 import { iopForTriage } from "~/models/exams/triage.server";
@@ -89,25 +89,36 @@ export function promptsFrom(s: PromptSections, prev: PreviousForPrompts): Referr
 }
 
 /** Prompts for the exam page: this exam's saved findings against the previous exam's. */
+/**
+ * The findings of the patient's exam before this one that the prompts and triage compare with:
+ * its colour vision, acuity and final refraction (empty when there is none).
+ */
+export async function previousExamFindings(patientId: string, examinedAt: Date, conn: Tx | typeof db = db) {
+  const [prevExam] = await conn
+    .select({ id: exams.id })
+    .from(exams)
+    .where(and(eq(exams.patientId, patientId), lt(exams.examinedAt, examinedAt)))
+    .orderBy(desc(exams.examinedAt))
+    .limit(1);
+  if (!prevExam) return { colour: [], acuity: [], refractions: [] };
+  const [colour, acuity, refractions] = await Promise.all([
+    conn.select().from(examColourVision).where(eq(examColourVision.examId, prevExam.id)),
+    conn.select().from(examAcuity).where(eq(examAcuity.examId, prevExam.id)),
+    conn
+      .select()
+      .from(examRefractions)
+      .where(and(eq(examRefractions.examId, prevExam.id), eq(examRefractions.kind, "final"))),
+  ]);
+  return { colour, acuity, refractions };
+}
+
 export async function promptsFor(
   patientId: string,
   exam: { id: string; examinedAt: Date },
   s: ExamSections,
   conn: Tx | typeof db = db,
 ): Promise<ReferralPrompt[]> {
-  const [prevExam] = await conn
-    .select({ id: exams.id })
-    .from(exams)
-    .where(and(eq(exams.patientId, patientId), lt(exams.examinedAt, exam.examinedAt)))
-    .orderBy(desc(exams.examinedAt))
-    .limit(1);
-  const [colour, acuity] = prevExam
-    ? await Promise.all([
-        conn.select().from(examColourVision).where(eq(examColourVision.examId, prevExam.id)),
-        conn.select().from(examAcuity).where(eq(examAcuity.examId, prevExam.id)),
-      ])
-    : [[], []];
-  return promptsFrom(s, { colour, acuity });
+  return promptsFrom(s, await previousExamFindings(patientId, exam.examinedAt, conn));
 }
 
 /** Prompts for the chart: the latest exam's findings against the one before, in two round trips. */

@@ -49,7 +49,27 @@ export function iopForTriage(
   return null;
 }
 
-/** Best-corrected distance acuity of one eye: the acuity row, else the final refraction's VA. */
+type AcuityRow = typeof examAcuity.$inferSelect;
+type RefractionRow = typeof examRefractions.$inferSelect;
+
+/**
+ * Best-corrected distance acuity of each eye: the best-corrected distance acuity row, else the
+ * final refraction's VA.
+ */
+export function bestVaOf(
+  acuity: readonly AcuityRow[],
+  refractions: readonly RefractionRow[],
+): Partial<Record<EyeKey, number>> {
+  const out: Partial<Record<EyeKey, number>> = {};
+  for (const eye of ["right", "left"] as const) {
+    const a = acuity.find((r) => r.eye === eye && r.distance === "distance" && r.correction === "best");
+    const f = refractions.find((r) => r.eye === eye && r.kind === "final" && r.vaLogMar !== null);
+    if (a) out[eye] = a.logMar;
+    else if (f) out[eye] = f.vaLogMar!;
+  }
+  return out;
+}
+
 async function bestVa(conn: Conn, examId: string): Promise<Partial<Record<EyeKey, number>>> {
   const [acuity, finals] = await Promise.all([
     conn
@@ -63,15 +83,24 @@ async function bestVa(conn: Conn, examId: string): Promise<Partial<Record<EyeKey
       .from(examRefractions)
       .where(and(eq(examRefractions.examId, examId), eq(examRefractions.kind, "final"))),
   ]);
-  const out: Partial<Record<EyeKey, number>> = {};
-  for (const eye of ["right", "left"] as const) {
-    const a = acuity.find((r) => r.eye === eye);
-    const f = finals.find((r) => r.eye === eye && r.vaLogMar !== null);
-    if (a) out[eye] = a.logMar;
-    else if (f) out[eye] = f.vaLogMar!;
-  }
-  return out;
+  return bestVaOf(acuity, finals);
 }
+
+/** The saved findings triage reads, as rows of their tables. */
+export type TriageRows = {
+  examinedAt: Date;
+  dateOfBirth: string;
+  timeZone: string;
+  iop: readonly (typeof examIop.$inferSelect)[];
+  redFlags: typeof examRedFlags.$inferSelect | null;
+  pupils: readonly (typeof examPupils.$inferSelect)[];
+  anteriorChamber: readonly (typeof examAnteriorChamber.$inferSelect)[];
+  discs: readonly (typeof examDiscs.$inferSelect)[];
+  fundus: readonly (typeof examFundus.$inferSelect)[];
+  fields: readonly (typeof examVisualFields.$inferSelect)[];
+  va: Partial<Record<EyeKey, number>>;
+  previousVa: Partial<Record<EyeKey, number>>;
+};
 
 export async function examTriageInput(examId: string, conn: Conn = db): Promise<TriageInput> {
   const [exam] = await conn
@@ -84,7 +113,6 @@ export async function examTriageInput(examId: string, conn: Conn = db): Promise<
     .select({ timeZone: practiceSettings.timeZone })
     .from(practiceSettings)
     .where(eq(practiceSettings.id, 1));
-  const examDay = localParts(exam.examinedAt, settings?.timeZone ?? "Europe/London").date;
   const [iop, flags, pupils, ac, discs, fundus, fields, va, previous] = await Promise.all([
     conn.select().from(examIop).where(eq(examIop.examId, examId)),
     conn.select().from(examRedFlags).where(eq(examRedFlags.examId, examId)),
@@ -102,7 +130,29 @@ export async function examTriageInput(examId: string, conn: Conn = db): Promise<
       .limit(1),
   ]);
   const prevVa = previous[0] ? await bestVa(conn, previous[0].id) : {};
-  const rf = flags[0];
+  return triageInputOf({
+    examinedAt: exam.examinedAt,
+    dateOfBirth: exam.dateOfBirth,
+    timeZone: settings?.timeZone ?? "Europe/London",
+    iop,
+    redFlags: flags[0] ?? null,
+    pupils,
+    anteriorChamber: ac,
+    discs,
+    fundus,
+    fields,
+    va,
+    previousVa: prevVa,
+  });
+}
+
+/** The engine's input from the saved findings (no database: the exam page passes what it read). */
+export function triageInputOf(rows: TriageRows): TriageInput {
+  const { iop, pupils, discs, fundus, fields, va } = rows;
+  const ac = rows.anteriorChamber;
+  const prevVa = rows.previousVa;
+  const examDay = localParts(rows.examinedAt, rows.timeZone).date;
+  const rf = rows.redFlags;
   const eyes: TriageInput["eyes"] = {};
   for (const eye of ["right", "left"] as const) {
     const f: EyeFindings = {};
@@ -161,7 +211,7 @@ export async function examTriageInput(examId: string, conn: Conn = db): Promise<
     }
     if (Object.keys(f).length) eyes[SHORT[eye]] = f;
   }
-  const input: TriageInput = { ageYears: ageOn(exam.dateOfBirth, examDay), eyes };
+  const input: TriageInput = { ageYears: ageOn(rows.dateOfBirth, examDay), eyes };
   if (rf?.newDiplopia) input.newDiplopia = true;
   if (rf?.gcaSymptoms) input.gcaSymptoms = true;
   if (rf?.headache || rf?.gcaSymptoms) input.headache = true;
