@@ -44,9 +44,10 @@ export function StatusCommands({ id, status, role, name, date, today, action = "
   const canUndo = undo && allowed.includes(undo.to);
   const busy = fetcher.state !== "idle";
   const otherDay = date !== today;
+  // The dialog is drawn only while it asks (a day list has a row per visit); closing it the
+  // dialog's own way hands focus back to the button that opened it.
   useEffect(() => {
     if (asking) dialog.current?.showModal();
-    else dialog.current?.close();
   }, [asking]);
 
   // A day-of-visit step on another day is held back for a yes (without script the server refuses it with the reason).
@@ -106,38 +107,38 @@ export function StatusCommands({ id, status, role, name, date, today, action = "
           ✕ {fetcher.data.error}
         </p>
       ) : null}
-      <dialog
-        ref={dialog}
-        aria-labelledby={`confirm-${id}`}
-        className="m-auto w-[min(30rem,calc(100vw-2rem))] rounded-lg border border-line p-6 shadow-xl backdrop:bg-ink/40"
-        onClose={() => setAsking(null)}
-      >
-        <h2 id={`confirm-${id}`} className="mb-2 text-lg font-semibold">
-          Not today&apos;s appointment
-        </h2>
-        <p className="mb-4 text-sm">
-          {name}&apos;s appointment is on {when}, not today. Mark it {asking ? STATUS_LABEL[asking].toLowerCase() : ""}{" "}
-          anyway?
-        </p>
-        <div className="flex flex-wrap justify-end gap-2">
-          <Button type="button" variant="secondary" onClick={() => setAsking(null)}>
-            Keep it as it is
-          </Button>
-          <Button
-            type="button"
-            onClick={() => {
-              if (asking)
+      {asking ? (
+        <dialog
+          ref={dialog}
+          aria-labelledby={`confirm-${id}`}
+          className="m-auto w-[min(30rem,calc(100vw-2rem))] rounded-lg border border-line p-6 shadow-xl backdrop:bg-ink/40"
+          onClose={() => setAsking(null)}
+        >
+          <h2 id={`confirm-${id}`} className="mb-2 text-lg font-semibold">
+            Not today&apos;s appointment
+          </h2>
+          <p className="mb-4 text-sm">
+            {name}&apos;s appointment is on {when}, not today. Mark it {STATUS_LABEL[asking].toLowerCase()} anyway?
+          </p>
+          <div className="flex flex-wrap justify-end gap-2">
+            <Button type="button" variant="secondary" onClick={() => dialog.current?.close()}>
+              Keep it as it is
+            </Button>
+            <Button
+              type="button"
+              onClick={() => {
                 void fetcher.submit(
                   { intent: "status", appointmentId: id, status: asking, confirmOtherDay: "1" },
                   { method: "post", action },
                 );
-              setAsking(null);
-            }}
-          >
-            Yes, mark {asking ? STATUS_LABEL[asking].toLowerCase() : ""} on {when}
-          </Button>
-        </div>
-      </dialog>
+                dialog.current?.close();
+              }}
+            >
+              Yes, mark {STATUS_LABEL[asking].toLowerCase()} on {when}
+            </Button>
+          </div>
+        </dialog>
+      ) : null}
     </fetcher.Form>
   );
 }

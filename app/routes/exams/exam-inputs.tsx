@@ -100,7 +100,7 @@ export function ExamInput({
           if (validate) setClientError(validate(e.target.value));
           if (echo) setEchoText(e.target.value ? echo(e.target.value) : undefined);
         }}
-        className="block w-full rounded-md border border-line bg-white px-2 py-1.5 font-mono text-sm text-ink focus:border-accent-600 disabled:bg-canvas aria-[invalid=true]:border-red-700 aria-[invalid=true]:bg-red-50"
+        className="exam-field exam-field-mono"
       />
       {error ? (
         <p id={errorId} className="mt-1 flex items-start gap-1 text-xs font-semibold text-red-800" data-inline-error>
@@ -188,7 +188,7 @@ export function ExamSelect({
         onChange={onValue ? (e) => onValue(e.target.value) : undefined}
         aria-invalid={errorId ? true : undefined}
         aria-describedby={errorId}
-        className="block w-full rounded-md border border-line bg-white px-2 py-1.5 text-sm disabled:bg-canvas aria-[invalid=true]:border-red-700"
+        className="exam-field"
       >
         <option value="">{emptyLabel}</option>
         {Object.entries(options).map(([k, v]) => (
