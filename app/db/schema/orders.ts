@@ -133,6 +133,11 @@ export const opticalOrders = pgTable(
   (t) => [
     index("optical_orders_state_idx").on(t.state, t.stateChangedAt),
     index("optical_orders_patient_idx").on(t.patientId, t.createdAt),
+    // The orders list, newest first: every order, and the open ones (its default view).
+    index("optical_orders_created_idx").on(t.createdAt, t.id),
+    index("optical_orders_open_created_idx")
+      .on(t.createdAt, t.id)
+      .where(sql`${t.state} not in ('collected', 'cancelled')`),
     check(
       "optical_orders_spectacles_complete",
       sql`${t.kind} <> 'spectacles' or (${t.frameId} is not null and ${t.lensType} is not null and ${t.lensMaterial} is not null and ${t.pdRightMm} between 20 and 45 and ${t.pdLeftMm} between 20 and 45)`,

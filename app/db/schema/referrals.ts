@@ -219,6 +219,8 @@ export const referrals = pgTable(
   (t) => [
     index("referrals_status_idx").on(t.status, t.createdAt),
     index("referrals_patient_idx").on(t.patientId, t.createdAt),
+    // The tracking list, newest first (ties by id ascending).
+    index("referrals_created_idx").on(t.createdAt.desc().nullsFirst(), t.id),
     index("referrals_exam_idx").on(t.examId),
     check("referrals_sent_has_recipient", sql`${t.status} = 'draft' or ${t.recipientId} is not null`),
     check("referrals_sent_at", sql`${t.status} not in ('sent', 'acknowledged', 'replied') or ${t.sentAt} is not null`),

@@ -285,11 +285,14 @@ export async function listOrders(filter: OrderListQuery = {}) {
       .orderBy(...order, desc(opticalOrders.createdAt), desc(opticalOrders.id))
       .limit(pageSize)
       .offset((page - 1) * pageSize),
-    db
-      .select({ n: count() })
-      .from(opticalOrders)
-      .innerJoin(patients, eq(patients.id, opticalOrders.patientId))
-      .where(where),
+    // Every order has its patient (a foreign key): the count joins patients only to search them.
+    filter.q?.trim()
+      ? db
+          .select({ n: count() })
+          .from(opticalOrders)
+          .innerJoin(patients, eq(patients.id, opticalOrders.patientId))
+          .where(where)
+      : db.select({ n: count() }).from(opticalOrders).where(where),
   ]);
   return { rows, total: counted?.n ?? 0 };
 }

@@ -132,12 +132,18 @@ export async function trackingPage(q: TrackingQuery, now = new Date()) {
   const orderBy = q.sort ? key[q.sort].map((k) => sql`${k} ${dir}`) : [];
   const [rows, countRows] = await Promise.all([
     trackingRows(now, { where, orderBy, limit: q.pageSize, offset: (q.page - 1) * q.pageSize }),
-    db
-      .select({ status, n: count() })
-      .from(referrals)
-      .innerJoin(patients, eq(patients.id, referrals.patientId))
-      .where(patientWhere)
-      .groupBy(sql`1`),
+    // Every referral has its patient (a foreign key): the counts join patients only to search them.
+    patientWhere
+      ? db
+          .select({ status, n: count() })
+          .from(referrals)
+          .innerJoin(patients, eq(patients.id, referrals.patientId))
+          .where(patientWhere)
+          .groupBy(sql`1`)
+      : db
+          .select({ status, n: count() })
+          .from(referrals)
+          .groupBy(sql`1`),
   ]);
   const counts = {} as Record<DisplayStatus, number>;
   let all = 0;

@@ -1,0 +1,3 @@
+CREATE INDEX "optical_orders_created_idx" ON "optical_orders" USING btree ("created_at","id");--> statement-breakpoint
+CREATE INDEX "optical_orders_open_created_idx" ON "optical_orders" USING btree ("created_at","id") WHERE "optical_orders"."state" not in ('collected', 'cancelled');--> statement-breakpoint
+CREATE INDEX "referrals_created_idx" ON "referrals" USING btree ("created_at" DESC NULLS FIRST,"id");
