@@ -188,6 +188,8 @@ async function measure(options: ScaleOptions): Promise<Measured> {
     env: {
       ...process.env,
       NODE_ENV: "production",
+      // As npm start runs it (app/ops/start.sh): the heap capped at 256 MiB.
+      NODE_OPTIONS: "--max-old-space-size=256",
       HOST: "127.0.0.1",
       PORT: String(PORT),
       APP_URL: base,
