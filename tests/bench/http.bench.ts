@@ -24,6 +24,7 @@ import { existsSync, readFileSync } from "node:fs";
 import { cpus, loadavg } from "node:os";
 import path from "node:path";
 import pg from "pg";
+import { createCookie } from "react-router";
 import { runMigrations } from "../../app/ops/migrate";
 import { benchDatabaseUrl, generateScale, scaleOptions, type ScaleOptions } from "../../seeds/generate-scale";
 
@@ -119,9 +120,9 @@ async function measure(options: ScaleOptions): Promise<Measured> {
   const url = benchDatabaseUrl(options.db);
   console.log(`\n=== ${options.db}: ${options.patients.toLocaleString("en-GB")} patients ===`);
   // The owner's session is written into this database; the cookie is signed with the server's secret.
-  process.env.SESSION_SECRET = SESSION_SECRET;
-  process.env.DATABASE_URL ??= url; // read by the app's environment check on import; no query is made through it
-  const { sessionCookie } = await import("../../app/utils/session.server");
+  // The app's session cookie (app/utils/session.server.ts), signed here with the server's secret:
+  // the app's own module reads its secret once, when first imported, which may be before this.
+  const sessionCookie = createCookie("dioptra_session", { path: "/", secrets: [SESSION_SECRET] });
   const db = new pg.Client({ connectionString: url });
   await db.connect();
   const one = async <T>(sql: string, params: unknown[] = []) => (await db.query(sql, params)).rows as T[];
