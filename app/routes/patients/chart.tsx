@@ -25,7 +25,8 @@ import { ORDER_ROLES } from "~/models/orders/orders.server";
 import { PortalInviteButton } from "~/components/portal-invite-button";
 import { ChartReferrals } from "~/components/referrals/chart-referrals";
 import { gpLine, referralsForChart } from "~/models/referrals/referrals.server";
-import { GUARDIAN_UNDER_AGE, isUnder } from "~/models/patients/patient-schema";
+import { GUARDIAN_UNDER_AGE, isUnder, isUuid } from "~/models/patients/patient-schema";
+import { notFound } from "~/utils/failure.server";
 import { RefractionHistory } from "./refraction-plot";
 import { DocumentList, UploadForm } from "~/components/patients/uploads-ui";
 import { Timeline } from "./chart-timeline";
@@ -38,8 +39,11 @@ const docsPage = (request: Request) =>
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, STAFF_ROLES);
   const clinical = (CLINICAL_ROLES as readonly string[]).includes(user.role);
-  // The read is recorded in the same statement that reads the patient (one round trip, never lost).
-  const p = await patientReadAudited(params.patientId, {
+  const id = params.patientId;
+  if (!isUuid(id)) notFound();
+  // The read is recorded in the same statement that reads the patient (one round trip, never
+  // lost); the rest of the chart is read beside it, and shown only if the patient exists.
+  const patientRead = patientReadAudited(id, {
     action: "chart.read",
     actorUserId: user.id,
     detail: { view: clinical ? "clinical" : "front desk" },
@@ -47,19 +51,20 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   });
   const clinicalData = clinical
     ? Promise.all([
-        examsOf(p.id),
-        documentsPage(p.id, docsPage(request)),
-        refractionHistory(p.id),
-        latestPrompts(p.id),
-        referralsForChart(p.id, { clinical: true }),
+        examsOf(id),
+        documentsPage(id, docsPage(request)),
+        refractionHistory(id),
+        latestPrompts(id),
+        referralsForChart(id, { clinical: true }),
       ])
     : null;
   clinicalData?.catch(() => undefined); // awaited below; this keeps an early failure elsewhere from leaving it unobserved
-  const [appointments, invoices, prescriptions, balance] = await Promise.all([
-    appointmentsOf(p.id),
-    invoicesOf(p.id),
-    prescriptionsOf(p.id),
-    balanceOf(p.id),
+  const [p, appointments, invoices, prescriptions, balance] = await Promise.all([
+    patientRead,
+    appointmentsOf(id),
+    invoicesOf(id),
+    prescriptionsOf(id),
+    balanceOf(id),
   ]);
   const canBill = user.role === "owner" || user.role === "receptionist";
   const canOrder = (ORDER_ROLES as readonly string[]).includes(user.role);
