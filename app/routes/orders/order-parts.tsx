@@ -220,7 +220,7 @@ export function OrderHistory({ d }: { d: OrderData }) {
         {d.events.map((e) => (
           <li key={e.id}>
             <span className="font-semibold">{STATE_LABEL[e.toState as OrderStateName]}</span> — {e.actor ?? "system"},{" "}
-            {new Date(e.at).toLocaleString("en-GB", { dateStyle: "medium", timeStyle: "short" })}
+            {formatDate(e.at, { timeZone: d.timeZone, time: true })}
             {e.reason ? <span className="text-muted"> · {e.reason}</span> : null}
           </li>
         ))}

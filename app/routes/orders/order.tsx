@@ -49,6 +49,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
     canOverride: (OVERRIDE_ROLES as readonly string[]).includes(user.role),
     standard: settings.rules.dispensingStandard,
     currency: settings.currency,
+    timeZone: settings.timeZone,
     label: d.label,
     order: {
       ...d.order,
