@@ -1,6 +1,6 @@
 /** Where a new invoice starts from: an appointment (its patient and its type's fee) or a patient. */
-import { asc, eq } from "drizzle-orm";
-import { appointments, appointmentTypes, exams, feeItems, patients, practiceSettings } from "~/db/schema";
+import { eq } from "drizzle-orm";
+import { appointments, appointmentTypes, exams, patients, practiceSettings } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { patientHitColumns } from "~/models/patients/patients.server";
 
@@ -35,22 +35,6 @@ export async function newInvoiceCurrency() {
     .from(practiceSettings)
     .where(eq(practiceSettings.id, 1));
   return settings?.currency ?? "GBP";
-}
-
-/** The active fees a new invoice can be built from, services before items, each by code. */
-export async function feesForNewInvoice() {
-  return db
-    .select({
-      id: feeItems.id,
-      code: feeItems.code,
-      description: feeItems.description,
-      priceMinor: feeItems.priceMinor,
-      kind: feeItems.kind,
-      taxCategory: feeItems.taxCategory,
-    })
-    .from(feeItems)
-    .where(eq(feeItems.active, true))
-    .orderBy(asc(feeItems.kind), asc(feeItems.code));
 }
 
 /** The examined patient's id and full name, for the heading of an invoice raised from an exam; null when there is none. */

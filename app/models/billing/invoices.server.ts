@@ -659,20 +659,6 @@ export async function invoiceDetail(invoiceId: string) {
   return { ...inv, lines, payments: pays, refunds: refundRows };
 }
 
-/** The active fees a draft invoice can take another line from, by code. */
-export async function feesForDraft() {
-  return db
-    .select({
-      id: feeItems.id,
-      code: feeItems.code,
-      description: feeItems.description,
-      priceMinor: feeItems.priceMinor,
-    })
-    .from(feeItems)
-    .where(eq(feeItems.active, true))
-    .orderBy(asc(feeItems.code));
-}
-
 /** A payment's invoice and status (a receipt exists only for a succeeded payment); undefined when there is none. */
 export async function paymentForReceipt(paymentId: string) {
   const [p] = await db

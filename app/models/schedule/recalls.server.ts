@@ -3,6 +3,7 @@
  * Due dates come from app/lib/scheduling/recall.ts (the exam's planned interval, the visit
  * type's, else the practice's default by age). One recall_messages row per patient and due date: never two for the same date.
  */
+import { formatDate } from "~/lib/format";
 import { dateTimeFormat } from "~/lib/format/intl";
 import { and, count, eq, gt, inArray, sql } from "drizzle-orm";
 import { appointments, patients, recallBatches, recallMessages, sites } from "~/db/schema";
@@ -43,7 +44,14 @@ export type RecallRow = {
   siteId: string;
   siteName: string;
   nextBooked: string | null;
-  lastRecall: { status: string; at: string; batchId: string | null; skippedReason: string | null } | null;
+  lastRecall: {
+    status: string;
+    at: string;
+    /** The day it was sent (or skipped or failed), in the practice's zone: "9 Mar 2027". */
+    on: string;
+    batchId: string | null;
+    skippedReason: string | null;
+  } | null;
 };
 
 export type RecallFilters = {
@@ -146,6 +154,7 @@ async function allRecalls(patientIds?: string[]): Promise<RecallRow[]> {
           ? {
               status: r.recall_status,
               at: new Date(r.recall_at!).toISOString(),
+              on: formatDate(new Date(r.recall_at!), { timeZone: settings.timeZone }),
               batchId: r.recall_batch,
               skippedReason: r.recall_skipped,
             }

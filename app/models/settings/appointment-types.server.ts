@@ -1,7 +1,8 @@
 import { asc, eq } from "drizzle-orm";
-import { appointmentTypes, feeItems, practiceSettings } from "~/db/schema";
+import { appointmentTypes, practiceSettings } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { changePracticeSettings, saveAudited, type Actor } from "./audited.server";
+import { activeFees } from "./fees.server";
 
 export type AppointmentTypeValues = Omit<typeof appointmentTypes.$inferInsert, "id">;
 
@@ -9,16 +10,7 @@ export type AppointmentTypeValues = Omit<typeof appointmentTypes.$inferInsert, "
 export async function appointmentTypesPage(editId: string | null) {
   const [types, fees, [settings]] = await Promise.all([
     db.select().from(appointmentTypes).orderBy(asc(appointmentTypes.name)),
-    db
-      .select({
-        id: feeItems.id,
-        code: feeItems.code,
-        description: feeItems.description,
-        priceMinor: feeItems.priceMinor,
-      })
-      .from(feeItems)
-      .where(eq(feeItems.active, true))
-      .orderBy(asc(feeItems.code)),
+    activeFees(),
     db
       .select({ reminderHoursBefore: practiceSettings.reminderHoursBefore, currency: practiceSettings.currency })
       .from(practiceSettings)

@@ -9,6 +9,25 @@ export type FeeValues = Pick<
   "code" | "description" | "priceMinor" | "kind" | "taxCategory"
 >;
 
+/**
+ * The fees in use, for pickers (an invoice's lines, an appointment type's default fee): by code,
+ * or services before items and then by code with `servicesFirst`.
+ */
+export async function activeFees({ servicesFirst = false }: { servicesFirst?: boolean } = {}) {
+  return db
+    .select({
+      id: feeItems.id,
+      code: feeItems.code,
+      description: feeItems.description,
+      priceMinor: feeItems.priceMinor,
+      kind: feeItems.kind,
+      taxCategory: feeItems.taxCategory,
+    })
+    .from(feeItems)
+    .where(eq(feeItems.active, true))
+    .orderBy(...(servicesFirst ? [asc(feeItems.kind)] : []), asc(feeItems.code));
+}
+
 /** The fee schedule, in-use fees first, with the practice's currency and tax rate. */
 export async function feeSchedulePage(editId: string | null) {
   const [[settings], fees] = await Promise.all([

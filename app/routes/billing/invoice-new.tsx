@@ -1,10 +1,10 @@
+import { activeFees } from "~/models/settings/fees.server";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { z } from "zod";
 import type { Route } from "./+types/invoice-new";
 import {
   appointmentForInvoice,
   examPatientForInvoice,
-  feesForNewInvoice,
   newInvoiceCurrency,
   patientForInvoice,
 } from "~/models/billing/invoice-start.server";
@@ -49,7 +49,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const url = new URL(request.url);
   const examId = url.searchParams.get("exam");
   const currency = await newInvoiceCurrency();
-  const fees = await feesForNewInvoice();
+  const fees = await activeFees({ servicesFirst: true });
   let exam: Awaited<ReturnType<typeof examForInvoice>> = null;
   let patient: { id: string; name: string } | null = null;
   if (examId) {

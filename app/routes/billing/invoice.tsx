@@ -1,3 +1,4 @@
+import { activeFees } from "~/models/settings/fees.server";
 import { parseWithZod } from "@conform-to/zod/v4";
 import { data, Link, useNavigation } from "react-router";
 import { z } from "zod";
@@ -9,7 +10,6 @@ import {
   BILLING_ROLES,
   BillingError,
   deleteDraft,
-  feesForDraft,
   invoiceDetail,
   invoiceLabel,
   issueInvoice,
@@ -81,7 +81,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const d = await invoiceDetail(params.invoiceId);
   if (!d) notFound("There is no such invoice.");
   const practice = await practiceBilling();
-  const fees = d.invoice.status === "draft" ? await feesForDraft() : [];
+  const fees = d.invoice.status === "draft" ? await activeFees() : [];
   await audit({
     action: "billing.invoice_viewed",
     actorUserId: user.id,

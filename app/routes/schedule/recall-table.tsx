@@ -36,7 +36,7 @@ function RecallState({ r }: { r: Row }) {
         </StatusBadge>
         <span className="block text-muted">
           {status === "skipped" && r.lastRecall.skippedReason ? `${r.lastRecall.skippedReason} · ` : ""}
-          {new Date(r.lastRecall.at).toLocaleDateString("en-GB", { day: "numeric", month: "short", year: "numeric" })}
+          {r.lastRecall.on}
         </span>
       </>
     );
