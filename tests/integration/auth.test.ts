@@ -1,10 +1,12 @@
-import { and, desc, eq } from "drizzle-orm";
+import { and, desc, eq, sql } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
 import { action as loginAction } from "~/routes/auth/login";
 import { action as forgotAction } from "~/routes/auth/forgot-password";
 import { action as resetAction, loader as resetLoader } from "~/routes/auth/reset-password";
 import { action as usersAction, loader as usersLoader } from "~/routes/settings/users";
 import { loader as layoutLoader } from "~/routes/layout";
+import { loader as accountLoader } from "~/routes/auth/account";
+import { formatDate } from "~/lib/format";
 import { auditLog, sessions, userTokens, users } from "~/db/schema";
 import { deliverAccountMail } from "~/models/users/account-mail.server";
 import { hashPassword } from "~/utils/auth.server";
@@ -307,5 +309,23 @@ describe("audit", () => {
       .where(and(eq(auditLog.actorUserId, u.id), eq(auditLog.action, "auth.sign_in")))
       .orderBy(desc(auditLog.at));
     expect(rows.length).toBe(1);
+  });
+});
+
+describe("account page", () => {
+  it("lists the account's sessions with when each began on the practice's wall clock", async () => {
+    const cookie = await cookieFor("optometrist");
+    const d = dataOf<{ sessions: { key: string; current: boolean; since: string }[] }>(
+      await run(accountLoader, makeRequest("/account", { cookie })),
+    );
+    const current = d.sessions.find((s) => s.current);
+    expect(current).toBeTruthy();
+    const [row] = await db
+      .select({ createdAt: sessions.createdAt })
+      .from(sessions)
+      .where(sql`${sessions.id} like ${`${current!.key}%`}`);
+    // The demo practice is in London: the time is written in Europe/London, not the server's zone.
+    expect(current!.since).toBe(formatDate(row!.createdAt, { timeZone: "Europe/London", time: true }));
+    expect(current!.since).toMatch(/^\d{1,2} [A-Z][a-z]{2} \d{4}, \d{2}:\d{2}$/);
   });
 });

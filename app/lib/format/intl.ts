@@ -5,25 +5,21 @@
  * Formatters are immutable, so sharing them is safe; the keys are bounded by the code's own
  * option literals and the practice's few time zones.
  */
-const dateFormats = new Map<string, Intl.DateTimeFormat>();
-const numberFormats = new Map<string, Intl.NumberFormat>();
+const formats = new Map<string, Intl.DateTimeFormat | Intl.NumberFormat>();
 
-export function dateTimeFormat(locale: string, options: Intl.DateTimeFormatOptions = {}): Intl.DateTimeFormat {
-  const key = `${locale}|${JSON.stringify(options)}`;
-  let format = dateFormats.get(key);
+function cached<F extends Intl.DateTimeFormat | Intl.NumberFormat>(kind: string, make: () => F, key: string): F {
+  let format = formats.get(`${kind}|${key}`) as F | undefined;
   if (!format) {
-    format = new Intl.DateTimeFormat(locale, options);
-    dateFormats.set(key, format);
+    format = make();
+    formats.set(`${kind}|${key}`, format);
   }
   return format;
 }
 
+export function dateTimeFormat(locale: string, options: Intl.DateTimeFormatOptions = {}): Intl.DateTimeFormat {
+  return cached("date", () => new Intl.DateTimeFormat(locale, options), `${locale}|${JSON.stringify(options)}`);
+}
+
 export function numberFormat(locale: string, options: Intl.NumberFormatOptions = {}): Intl.NumberFormat {
-  const key = `${locale}|${JSON.stringify(options)}`;
-  let format = numberFormats.get(key);
-  if (!format) {
-    format = new Intl.NumberFormat(locale, options);
-    numberFormats.set(key, format);
-  }
-  return format;
+  return cached("number", () => new Intl.NumberFormat(locale, options), `${locale}|${JSON.stringify(options)}`);
 }

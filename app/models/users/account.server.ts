@@ -1,16 +1,23 @@
 import { desc, eq } from "drizzle-orm";
-import { sessions } from "~/db/schema";
+import { practiceSettings, sessions } from "~/db/schema";
+import { formatDate } from "~/lib/format";
 import { audit } from "~/utils/audit.server";
 import { db } from "~/utils/db.server";
 import { consumeUserToken } from "~/utils/tokens.server";
 
 /** The browsers an account is signed in on, newest first. */
 export async function accountSessions(userId: string) {
-  return db
-    .select({ id: sessions.id, createdAt: sessions.createdAt, userAgent: sessions.userAgent })
-    .from(sessions)
-    .where(eq(sessions.userId, userId))
-    .orderBy(desc(sessions.createdAt));
+  const [rows, [settings]] = await Promise.all([
+    db
+      .select({ id: sessions.id, createdAt: sessions.createdAt, userAgent: sessions.userAgent })
+      .from(sessions)
+      .where(eq(sessions.userId, userId))
+      .orderBy(desc(sessions.createdAt)),
+    db.select({ timeZone: practiceSettings.timeZone }).from(practiceSettings).where(eq(practiceSettings.id, 1)),
+  ]);
+  // When each began, on the practice's wall clock ("3 Dec 2026, 09:41").
+  const timeZone = settings?.timeZone ?? "Europe/London";
+  return rows.map((r) => ({ ...r, since: formatDate(r.createdAt, { timeZone, time: true }) }));
 }
 
 /**

@@ -15,7 +15,7 @@ export async function loader({ request }: Route.LoaderArgs) {
     sessions: rows.map((s) => ({
       key: s.id.slice(0, 8),
       current: s.id === user.sessionId,
-      createdAt: s.createdAt.toISOString(),
+      since: s.since,
       userAgent: s.userAgent ?? "unknown browser",
     })),
   };
@@ -42,8 +42,7 @@ export default function Account({ loaderData }: Route.ComponentProps) {
             <li key={s.key} className="flex flex-wrap justify-between gap-2 py-3 text-sm">
               <span className="max-w-xl truncate">{s.userAgent}</span>
               <span className="text-muted">
-                since {new Date(s.createdAt).toLocaleString("en-GB")}{" "}
-                {s.current ? <strong className="text-ink">· this browser</strong> : null}
+                since {s.since} {s.current ? <strong className="text-ink">· this browser</strong> : null}
               </span>
             </li>
           ))}
