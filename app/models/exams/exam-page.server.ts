@@ -2,7 +2,6 @@
 import { asc, eq, inArray } from "drizzle-orm";
 import { examCountersignatures, patients, users } from "~/db/schema";
 import { localDateTime, type EyeKey } from "~/lib/exam/sections";
-import { triage as triageOf, TriageInputError } from "~/lib/referrals";
 import type { SphCyl } from "~/lib/optics";
 import { ageInYears as ageOn } from "~/lib/format";
 import { BILLING_ROLES } from "~/models/billing/invoices.server";
@@ -23,7 +22,7 @@ import {
   sectionStatesOf,
   type ExamSections,
 } from "./exam.server";
-import { bestVaOf, triageInputOf } from "./triage.server";
+import { bestVaOf, proposalOf, triageInputOf } from "./triage.server";
 
 type Exam = Awaited<ReturnType<typeof examFor>>;
 
@@ -160,25 +159,20 @@ function triageOnReading(
   s: ExamSections,
   earlier: Awaited<ReturnType<typeof previousExamFindings>>,
 ) {
-  try {
-    return triageOf(
-      triageInputOf({
-        examinedAt: exam.examinedAt,
-        dateOfBirth,
-        timeZone,
-        iop: s.iop,
-        redFlags: s.findings.redFlags,
-        pupils: s.findings.pupils,
-        anteriorChamber: s.findings.anteriorChamber,
-        discs: s.findings.discs,
-        fundus: s.findings.fundus,
-        fields: s.fields,
-        va: bestVaOf(s.acuity, s.refractions),
-        previousVa: bestVaOf(earlier.acuity, earlier.refractions),
-      }),
-    );
-  } catch (e) {
-    if (e instanceof TriageInputError) return null;
-    throw e;
-  }
+  return proposalOf(
+    triageInputOf({
+      examinedAt: exam.examinedAt,
+      dateOfBirth,
+      timeZone,
+      iop: s.iop,
+      redFlags: s.findings.redFlags,
+      pupils: s.findings.pupils,
+      anteriorChamber: s.findings.anteriorChamber,
+      discs: s.findings.discs,
+      fundus: s.findings.fundus,
+      fields: s.fields,
+      va: bestVaOf(s.acuity, s.refractions),
+      previousVa: bestVaOf(earlier.acuity, earlier.refractions),
+    }),
+  );
 }

@@ -23,9 +23,8 @@ import {
 } from "~/db/schema";
 import { acuityField, cctField, diagnosisField, iopField, type FieldErrors } from "~/lib/exam/sections";
 import type { AcuityNotation } from "~/lib/optics";
-import { TriageInputError } from "~/lib/referrals";
 import { findingsFormValues, loadFindings } from "~/models/exams/findings.server";
-import { examTriage } from "~/models/exams/triage.server";
+import { examTriageInput, proposalOf } from "~/models/exams/triage.server";
 import { contactLensFormValues, loadContactLens } from "~/models/exams/contact-lens.server";
 import { audit } from "~/utils/audit.server";
 import type { SessionUser } from "~/utils/session.server";
@@ -220,12 +219,7 @@ export function formValues(s: ExamSections, timeZone: string): Record<string, st
 
 /** The triage proposal to keep with the exam; a finding the engine refuses leaves it unset. */
 export async function storedTriage(examId: string, conn: Tx | typeof db = db) {
-  try {
-    return (await examTriage(examId, conn)).result;
-  } catch (e) {
-    if (e instanceof TriageInputError) return null;
-    throw e;
-  }
+  return proposalOf(await examTriageInput(examId, conn));
 }
 
 export async function startExam(user: SessionUser, patientId: string, request: Request) {

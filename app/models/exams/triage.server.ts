@@ -19,7 +19,14 @@ import {
   practiceSettings,
 } from "~/db/schema";
 import { checkBlindSpot } from "~/lib/optics";
-import { triage, type Eye, type EyeFindings, type TriageInput, type TriageResult } from "~/lib/referrals";
+import {
+  triage,
+  TriageInputError,
+  type Eye,
+  type EyeFindings,
+  type TriageInput,
+  type TriageResult,
+} from "~/lib/referrals";
 import { localParts } from "~/lib/scheduling/time";
 import { ageInYears as ageOn } from "~/lib/format";
 import { db, type Tx } from "~/utils/db.server";
@@ -225,4 +232,14 @@ export async function examTriage(
 ): Promise<{ input: TriageInput; result: TriageResult }> {
   const input = await examTriageInput(examId, conn);
   return { input, result: triage(input) };
+}
+
+/** The proposal to keep with an exam; null when a saved finding is one the engine refuses. */
+export function proposalOf(input: TriageInput): TriageResult | null {
+  try {
+    return triage(input);
+  } catch (e) {
+    if (e instanceof TriageInputError) return null;
+    throw e;
+  }
 }
