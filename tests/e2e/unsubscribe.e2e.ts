@@ -31,13 +31,21 @@ async function patientWithVisit(tag: string) {
   );
   const [optom] = await q<{ id: string }>("select id from users where email = $1", [DEMO.optometrist]);
   const [type] = await q<{ id: string }>("select id from appointment_types where name = 'Comprehensive eye exam'");
-  const start = new Date(Date.now() + (40 + Math.floor(Math.random() * 20)) * 86_400_000);
-  start.setUTCHours(8, Math.floor(Math.random() * 4) * 15, 0, 0);
-  const [a] = await q<{ id: string }>(
-    "insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status) values ($1, $2, $3, $4, $5, 'booked') returning id",
-    [p!.id, optom!.id, type!.id, start, new Date(start.getTime() + 30 * 60_000)],
-  );
-  return { patientId: p!.id, email, appointmentId: a!.id };
+  // The demo's clinician has visits booked weeks ahead: try early-morning slots until one is free
+  // (the database refuses an overlap), so the test never depends on the seed's random diary.
+  for (let attempt = 0; ; attempt++) {
+    const start = new Date(Date.now() + (40 + Math.floor(Math.random() * 120)) * 86_400_000);
+    start.setUTCHours(6, Math.floor(Math.random() * 8) * 15, 0, 0);
+    try {
+      const [a] = await q<{ id: string }>(
+        "insert into appointments (patient_id, provider_id, appointment_type_id, starts_at, ends_at, status) values ($1, $2, $3, $4, $5, 'booked') returning id",
+        [p!.id, optom!.id, type!.id, start, new Date(start.getTime() + 30 * 60_000)],
+      );
+      return { patientId: p!.id, email, appointmentId: a!.id };
+    } catch (error) {
+      if ((error as { code?: string }).code !== "23P01" || attempt >= 20) throw error;
+    }
+  }
 }
 
 beforeAll(async () => {
