@@ -1,8 +1,5 @@
 import { randomBytes } from "node:crypto";
-import { PassThrough } from "node:stream";
-import { createReadableStreamFromReadable } from "@react-router/node";
-import { isbot } from "isbot";
-import type { RenderToPipeableStreamOptions } from "react-dom/server";
+import { Writable } from "node:stream";
 import { renderToPipeableStream } from "react-dom/server";
 import type { EntryContext, RouterContextProvider } from "react-router";
 import { ServerRouter } from "react-router";
@@ -30,10 +27,24 @@ export default function handleRequest(
 
   return new Promise<Response>((resolve, reject) => {
     let shellRendered = false;
-    const userAgent = request.headers.get("user-agent");
-    const readyOption: keyof RenderToPipeableStreamOptions =
-      (userAgent && isbot(userAgent)) || routerContext.isSpaMode ? "onAllReady" : "onShellReady";
     let timeoutId: ReturnType<typeof setTimeout> | undefined = setTimeout(() => abort(), streamTimeout + 1000);
+    // The whole document is rendered before the first byte is sent: no page streams deferred data,
+    // and one body written once costs the server far less than React's many small chunks carried
+    // through a web stream, the compressor and the socket one by one.
+    const chunks: Buffer[] = [];
+    const sink = new Writable({
+      write(chunk: Buffer, _encoding, callback) {
+        chunks.push(chunk);
+        callback();
+      },
+      final(callback) {
+        clearTimeout(timeoutId);
+        timeoutId = undefined;
+        responseHeaders.set("Content-Type", "text/html; charset=utf-8");
+        resolve(new Response(Buffer.concat(chunks), { headers: responseHeaders, status: responseStatusCode }));
+        callback();
+      },
+    });
 
     const { pipe, abort } = renderToPipeableStream(
       <NonceProvider value={nonce}>
@@ -41,19 +52,9 @@ export default function handleRequest(
       </NonceProvider>,
       {
         nonce,
-        [readyOption]() {
+        onAllReady() {
           shellRendered = true;
-          const body = new PassThrough({
-            final(callback) {
-              clearTimeout(timeoutId);
-              timeoutId = undefined;
-              callback();
-            },
-          });
-          const stream = createReadableStreamFromReadable(body);
-          responseHeaders.set("Content-Type", "text/html; charset=utf-8");
-          pipe(body);
-          resolve(new Response(stream, { headers: responseHeaders, status: responseStatusCode }));
+          pipe(sink);
         },
         onShellError(error: unknown) {
           reject(error);

@@ -31,6 +31,17 @@ export const CHROMIUM_ARGS = [
   "--disable-sync",
   "--disable-quic",
   "--no-first-run",
+  // Less work per page on a machine without a GPU: compositing in the browser process, no
+  // services a test never uses. About a tenth off a long browser file on two cores.
+  "--in-process-gpu",
+  "--disable-gpu-compositing",
+  "--disable-features=Translate,OptimizationHints,MediaRouter,PaintHolding",
+  "--disable-renderer-backgrounding",
+  "--disable-ipc-flooding-protection",
+  "--disable-hang-monitor",
+  "--disable-breakpad",
+  "--mute-audio",
+  "--disable-smooth-scrolling",
 ];
 
 /**

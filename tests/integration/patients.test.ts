@@ -58,6 +58,23 @@ describe("patient search API", () => {
     expect(await find("zzzz-no-such-patient")).toEqual([]);
   });
 
+  it("matches one or two letters only where a word begins, so 'zq' finds Zqorin and not Ozqab", async () => {
+    // common practice: a typeahead's first letters are the start of the name being looked for.
+    const starts = await makePatient({ firstName: "Ines", lastName: `Zqorin${uniq()}`, dateOfBirth: "1971-02-03" });
+    const inside = await makePatient({ firstName: "Ines", lastName: `Ozqab${uniq()}`, dateOfBirth: "1971-02-03" });
+    const second = await makePatient({ firstName: "Zqa", lastName: `Lund${uniq()}`, dateOfBirth: "1971-02-03" });
+    const cookie = await cookieFor("receptionist");
+    const res = (await run(searchLoader, makeRequest("/api/patients?q=zq", { cookie }))) as Response;
+    expect(res.status).toBe(200);
+    const ids = ((await res.json()) as { results: { id: string }[] }).results.map((r) => r.id);
+    expect(ids).toContain(starts.id);
+    expect(ids).toContain(second.id); // a first name begins with it too
+    expect(ids).not.toContain(inside.id);
+    // Three letters or more still match anywhere.
+    const three = (await run(searchLoader, makeRequest("/api/patients?q=zqa", { cookie }))) as Response;
+    expect(((await three.json()) as { results: { id: string }[] }).results.map((r) => r.id)).toContain(inside.id);
+  });
+
   it("treats LIKE wildcards in the query as plain text", async () => {
     const cookie = await cookieFor("optometrist");
     const res = (await run(

@@ -31,7 +31,8 @@ const escapeLike = (s: string) => s.replace(/[\\%_]/g, (c) => `\\${c}`);
 
 /**
  * The WHERE clause of a patient search: a date of birth, or every word found somewhere in the
- * name, e-mail or phone digits (answered by the trigram index on search_text).
+ * name, e-mail or phone digits, a word of one or two characters only where a word begins
+ * (answered by the trigram index on search_text).
  */
 export function searchCondition(q: string): SQL | undefined {
   const text = q.trim();
@@ -45,7 +46,19 @@ export function searchCondition(q: string): SQL | undefined {
     .filter(Boolean)
     .slice(0, 5);
   if (!words.length) return undefined;
-  return and(...words.map((w) => sql`${patients.searchText} like ${`%${escapeLike(w)}%`}`));
+  return and(
+    ...words.map((w) =>
+      // One or two characters match where a word begins ("bl" finds Blake, not Noble): a person
+      // typing two letters means the start of a name, and the trigram index can serve that
+      // (pg_trgm keeps each word's leading "  b" and " bl") but not a two-letter fragment anywhere.
+      w.length <= 2
+        ? or(
+            sql`${patients.searchText} like ${`${escapeLike(w)}%`}`,
+            sql`${patients.searchText} like ${`% ${escapeLike(w)}%`}`,
+          )!
+        : sql`${patients.searchText} like ${`%${escapeLike(w)}%`}`,
+    ),
+  );
 }
 
 export type PatientHit = {
