@@ -4,7 +4,7 @@ import { examAcuity, examColourVision, examIop, examRefractions, exams, examVisu
 import { EYES } from "~/lib/exam/sections";
 import { referralPrompts, type ReferralFindings, type ReferralPrompt } from "~/lib/optics";
 import { iopForTriage } from "~/models/exams/triage.server";
-import { db, type Tx } from "~/utils/db.server";
+import { allOf, db, type Tx } from "~/utils/db.server";
 import type { ExamSections } from "./exam-records.server";
 
 type PromptSections = Pick<ExamSections, "iop" | "fields" | "colour" | "acuity">;
@@ -101,7 +101,7 @@ export async function previousExamFindings(patientId: string, examinedAt: Date, 
     .orderBy(desc(exams.examinedAt))
     .limit(1);
   if (!prevExam) return { colour: [], acuity: [], refractions: [] };
-  const [colour, acuity, refractions] = await Promise.all([
+  const [colour, acuity, refractions] = await allOf(conn, [
     conn.select().from(examColourVision).where(eq(examColourVision.examId, prevExam.id)),
     conn.select().from(examAcuity).where(eq(examAcuity.examId, prevExam.id)),
     conn

@@ -28,7 +28,7 @@ import { examTriageInput, proposalOf } from "~/models/exams/triage.server";
 import { contactLensFormValues, loadContactLens } from "~/models/exams/contact-lens.server";
 import { audit } from "~/utils/audit.server";
 import type { SessionUser } from "~/utils/session.server";
-import { db, type Tx } from "~/utils/db.server";
+import { allOf, db, type Tx } from "~/utils/db.server";
 import { isUuid } from "~/models/patients/patient-schema";
 import { DomainError, notFound } from "~/utils/failure.server";
 
@@ -110,7 +110,7 @@ export async function loadExam(examId: string, conn: Tx | typeof db = db) {
     addenda,
     findings,
     contactLens,
-  ] = await Promise.all([
+  ] = await allOf(conn, [
     conn.select().from(examHistory).where(eq(examHistory.examId, examId)),
     conn.select().from(examAcuity).where(eq(examAcuity.examId, examId)),
     conn.select().from(examRefractions).where(eq(examRefractions.examId, examId)),
@@ -134,8 +134,8 @@ export async function loadExam(examId: string, conn: Tx | typeof db = db) {
       .innerJoin(users, eq(users.id, examAddenda.authorId))
       .where(eq(examAddenda.examId, examId))
       .orderBy(asc(examAddenda.createdAt)),
-    loadFindings(examId, conn),
-    loadContactLens(examId, conn),
+    () => loadFindings(examId, conn),
+    () => loadContactLens(examId, conn),
   ]);
   return {
     history: history[0] ?? null,

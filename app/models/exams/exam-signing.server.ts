@@ -9,7 +9,7 @@ import { NO_FINAL_WARNING, titleOf } from "~/lib/exam/section-list";
 import { EYES, parseRefractionEye, type FieldErrors } from "~/lib/exam/sections";
 import { completeExamAppointment } from "~/models/schedule/schedule.server";
 import { audit } from "~/utils/audit.server";
-import { db, type Tx } from "~/utils/db.server";
+import { allOf, db, type Tx } from "~/utils/db.server";
 import { DomainError } from "~/utils/failure.server";
 import type { SessionUser } from "~/utils/session.server";
 import { examSettings, SectionError, type examFor } from "./exam-records.server";
@@ -19,12 +19,12 @@ type Exam = Awaited<ReturnType<typeof examFor>>;
 
 /** What the examiner confirms before signing: no final refraction, or sections whose last save was refused. */
 export async function signWarnings(examId: string, conn: Tx | typeof db = db): Promise<string[]> {
-  const [finals, states] = await Promise.all([
+  const [finals, states] = await allOf(conn, [
     conn
       .select({ eye: examRefractions.eye })
       .from(examRefractions)
       .where(and(eq(examRefractions.examId, examId), eq(examRefractions.kind, "final"))),
-    sectionStatesOf(examId, conn),
+    () => sectionStatesOf(examId, conn),
   ]);
   const warnings = finals.length ? [] : [NO_FINAL_WARNING];
   const refused = Object.entries(states)

@@ -27,7 +27,7 @@ import {
   type Parsed,
   type RedFlagKey,
 } from "~/lib/exam/sections";
-import { db, type Tx } from "~/utils/db.server";
+import { allOf, db, type Tx } from "~/utils/db.server";
 import { DomainError } from "~/utils/failure.server";
 
 type Form = Record<string, string | undefined>;
@@ -87,7 +87,7 @@ export async function saveFindings(
 }
 
 export async function loadFindings(examId: string, conn: Conn = db) {
-  const [redFlags, pupils, anteriorChamber, discs, fundus, dilations] = await Promise.all([
+  const [redFlags, pupils, anteriorChamber, discs, fundus, dilations] = await allOf(conn, [
     conn.select().from(examRedFlags).where(eq(examRedFlags.examId, examId)),
     conn.select().from(examPupils).where(eq(examPupils.examId, examId)),
     conn.select().from(examAnteriorChamber).where(eq(examAnteriorChamber.examId, examId)),

@@ -29,7 +29,7 @@ import {
 } from "~/lib/referrals";
 import { localParts } from "~/lib/scheduling/time";
 import { ageInYears as ageOn } from "~/lib/format";
-import { db, type Tx } from "~/utils/db.server";
+import { allOf, db, type Tx } from "~/utils/db.server";
 
 type Conn = Tx | typeof db;
 type EyeKey = "right" | "left";
@@ -78,7 +78,7 @@ export function bestVaOf(
 }
 
 async function bestVa(conn: Conn, examId: string): Promise<Partial<Record<EyeKey, number>>> {
-  const [acuity, finals] = await Promise.all([
+  const [acuity, finals] = await allOf(conn, [
     conn
       .select()
       .from(examAcuity)
@@ -120,7 +120,7 @@ export async function examTriageInput(examId: string, conn: Conn = db): Promise<
     .select({ timeZone: practiceSettings.timeZone })
     .from(practiceSettings)
     .where(eq(practiceSettings.id, 1));
-  const [iop, flags, pupils, ac, discs, fundus, fields, va, previous] = await Promise.all([
+  const [iop, flags, pupils, ac, discs, fundus, fields, va, previous] = await allOf(conn, [
     conn.select().from(examIop).where(eq(examIop.examId, examId)),
     conn.select().from(examRedFlags).where(eq(examRedFlags.examId, examId)),
     conn.select().from(examPupils).where(eq(examPupils.examId, examId)),
@@ -128,7 +128,7 @@ export async function examTriageInput(examId: string, conn: Conn = db): Promise<
     conn.select().from(examDiscs).where(eq(examDiscs.examId, examId)),
     conn.select().from(examFundus).where(eq(examFundus.examId, examId)),
     conn.select().from(examVisualFields).where(eq(examVisualFields.examId, examId)),
-    bestVa(conn, examId),
+    () => bestVa(conn, examId),
     conn
       .select({ id: exams.id })
       .from(exams)

@@ -15,7 +15,7 @@ import { findingKey, type Urgency } from "~/lib/referrals";
 import { loadFindings } from "~/models/exams/findings.server";
 import { examTriage } from "~/models/exams/triage.server";
 import { loadExam, promptsFor } from "~/models/exams/exam.server";
-import { db, type Tx } from "~/utils/db.server";
+import { allOf, db, type Tx } from "~/utils/db.server";
 import { formatDate } from "./common.server";
 
 /**
@@ -143,9 +143,9 @@ export async function snapshotOf(exam: typeof exams.$inferSelect, conn: Tx | typ
         }))
     : [];
   const order = { right: 0, left: 1, both: 2 } as const;
-  const [extras, triaged, [patientRow], [previous]] = await Promise.all([
-    findingsOf(exam.id, conn),
-    examTriage(exam.id, conn).catch(() => null),
+  const [extras, triaged, [patientRow], [previous]] = await allOf(conn, [
+    () => findingsOf(exam.id, conn),
+    () => examTriage(exam.id, conn).catch(() => null),
     conn.select().from(patients).where(eq(patients.id, exam.patientId)),
     conn
       .select({ id: exams.id, examinedAt: exams.examinedAt })
