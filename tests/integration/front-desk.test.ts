@@ -1,5 +1,5 @@
 import { randomBytes } from "node:crypto";
-import { and, eq } from "drizzle-orm";
+import { and, eq, sql } from "drizzle-orm";
 import { describe, expect, it } from "vitest";
 import { loader as patientsApi } from "~/routes/api/patients";
 import { action as quickRegister } from "~/routes/api/schedule-patients";
@@ -148,10 +148,20 @@ describe("raising an invoice from an appointment and the balances list", () => {
       })
       .returning();
     const cookie = await cookieFor("receptionist");
-    const page = dataOf<{ suggestedFeeItemId: string; preselected: { id: string } }>(
-      await run(newInvoiceLoader, makeRequest(`/billing/invoices/new?appointment=${appt!.id}`, { cookie })),
-    );
+    const page = dataOf<{
+      suggestedFeeItemId: string;
+      preselected: { id: string };
+      appointment: { timeZone: string };
+    }>(await run(newInvoiceLoader, makeRequest(`/billing/invoices/new?appointment=${appt!.id}`, { cookie })));
     expect(page.suggestedFeeItemId).toBe(visitFee.id);
+    // The page writes the visit's date by its site's clock (the demo practice is in the UK).
+    const [{ zone } = { zone: "" }] = (
+      await db.execute<{ zone: string }>(
+        sql`select coalesce((select time_zone from sites where id = ${appt!.siteId}), (select time_zone from practice_settings where id = 1)) as zone`,
+      )
+    ).rows;
+    expect(page.appointment.timeZone).toBe(zone);
+    expect(zone).toBe("Europe/London");
     expect(page.preselected.id).toBe(patient.id);
     expect(
       statusOf(

@@ -1,6 +1,6 @@
 /** Where a new invoice starts from: an appointment (its patient and its type's fee) or a patient. */
-import { eq } from "drizzle-orm";
-import { appointments, appointmentTypes, exams, patients, practiceSettings } from "~/db/schema";
+import { eq, sql } from "drizzle-orm";
+import { appointments, appointmentTypes, exams, patients, practiceSettings, sites } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { patientHitColumns } from "~/models/patients/patients.server";
 
@@ -13,9 +13,12 @@ export async function appointmentForInvoice(appointmentId: string) {
       startsAt: appointments.startsAt,
       typeName: appointmentTypes.name,
       feeItemId: appointmentTypes.defaultFeeItemId,
+      // The appointment's date is written as its site's clock reads it.
+      timeZone: sql<string>`coalesce(${sites.timeZone}, (select ${practiceSettings.timeZone} from ${practiceSettings} where ${practiceSettings.id} = 1))`,
     })
     .from(appointments)
     .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
+    .leftJoin(sites, eq(sites.id, appointments.siteId))
     .where(eq(appointments.id, appointmentId));
   if (!appt) return null;
   const [linked] = await db.select({ id: exams.id }).from(exams).where(eq(exams.appointmentId, appt.id)).limit(1);

@@ -17,7 +17,7 @@ import {
   refunds,
   type PaymentMethod,
 } from "~/db/schema";
-import { appointments, appointmentTypes } from "~/db/schema";
+import { appointments, appointmentTypes, sites } from "~/db/schema";
 import { formatMoney } from "~/lib/format";
 import { computeTotals, type Discount } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
@@ -165,10 +165,13 @@ export async function examForInvoice(examId: string) {
       appointmentStatus: appointments.status,
       appointmentType: appointmentTypes.name,
       defaultFeeItemId: appointmentTypes.defaultFeeItemId,
+      // The exam's date as the clock of its visit's site reads it (the practice's, without a visit).
+      timeZone: sql<string>`coalesce(${sites.timeZone}, (select ${practiceSettings.timeZone} from ${practiceSettings} where ${practiceSettings.id} = 1))`,
     })
     .from(exams)
     .leftJoin(appointments, eq(appointments.id, exams.appointmentId))
     .leftJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))
+    .leftJoin(sites, eq(sites.id, appointments.siteId))
     .where(eq(exams.id, examId));
   if (!row) return null;
   const completed = row.status === "signed" || row.appointmentStatus === "completed";

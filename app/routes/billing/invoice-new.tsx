@@ -68,7 +68,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   }
   // From an appointment: its exam's invoice if it has one, else the patient with the type's fee.
   const appointmentId = url.searchParams.get("appointment");
-  let appointment: { id: string; typeName: string; startsAt: string } | null = null;
+  let appointment: { id: string; typeName: string; startsAt: string; timeZone: string } | null = null;
   let suggestedFeeItemId: string | null = exam?.defaultFeeItemId ?? null;
   let preselected: PatientSearchHit | null = null;
   let preselectedId = url.searchParams.get("patient") ?? "";
@@ -77,7 +77,12 @@ export async function loader({ request }: Route.LoaderArgs) {
     const appt = await appointmentForInvoice(appointmentId);
     if (!appt) notFound("There is no such appointment.");
     if (appt.examId) throw redirect(`/billing/invoices/new?exam=${appt.examId}`);
-    appointment = { id: appt.id, typeName: appt.typeName, startsAt: appt.startsAt.toISOString() };
+    appointment = {
+      id: appt.id,
+      typeName: appt.typeName,
+      startsAt: appt.startsAt.toISOString(),
+      timeZone: appt.timeZone,
+    };
     suggestedFeeItemId = appt.feeItemId;
     preselectedId = appt.patientId;
   }
@@ -92,6 +97,7 @@ export async function loader({ request }: Route.LoaderArgs) {
           id: exam.id,
           completed: exam.completed,
           examinedAt: exam.examinedAt.toISOString(),
+          timeZone: exam.timeZone,
           appointmentType: exam.appointmentType,
           defaultFeeItemId: exam.defaultFeeItemId,
           existingInvoice: exam.existingInvoice,
@@ -193,7 +199,7 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
   const navigation = useNavigation();
   const services = fees.filter((f) => f.kind === "service");
   const items = fees.filter((f) => f.kind === "item");
-  const examDate = exam ? formatDate(exam.examinedAt, { style: "long" }) : "";
+  const examDate = exam ? formatDate(exam.examinedAt, { style: "long", timeZone: exam.timeZone }) : "";
   const suggested = {
     id: suggestedFeeItemId,
     note: exam ? "this exam's visit fee" : "this appointment's fee",
@@ -207,7 +213,7 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
           exam
             ? `From the exam of ${patient?.name ?? "the patient"} on ${examDate}.`
             : appointment
-              ? `From the ${appointment.typeName} appointment of ${new Date(appointment.startsAt).toLocaleDateString("en-GB", { day: "numeric", month: "long", year: "numeric" })}: its fee is filled in below.`
+              ? `From the ${appointment.typeName} appointment of ${formatDate(appointment.startsAt, { style: "long", timeZone: appointment.timeZone })}: its fee is filled in below.`
               : "Raise an invoice by hand, or open one from a finished exam."
         }
       />
