@@ -154,8 +154,8 @@ export function PatientSearch({
           ? `${countText}; ${results.length} shown.`
           : "No patient matches.";
   const hint = picker
-    ? "Any part of the name, phone or e-mail (one or two letters: the start of a name), or a date of birth such as 17/04/1979. Arrow keys choose, Enter picks the patient."
-    : "Any part of the name, phone or e-mail (one or two letters: the start of a name), or a date of birth such as 17/04/1979. Arrow keys choose, Enter opens the chart.";
+    ? "Any part of the name, phone or e-mail, or a date of birth such as 17/04/1979. Arrow keys choose, Enter picks the patient."
+    : "Any part of the name, phone or e-mail, or a date of birth such as 17/04/1979. Arrow keys choose, Enter opens the chart.";
 
   if (picker && chosen) {
     return (

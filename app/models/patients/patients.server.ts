@@ -31,8 +31,7 @@ const escapeLike = (s: string) => s.replace(/[\\%_]/g, (c) => `\\${c}`);
 
 /**
  * The WHERE clause of a patient search: a date of birth, or every word found somewhere in the
- * name, e-mail or phone digits, a word of one or two characters only where a word begins
- * (answered by the trigram index on search_text).
+ * name, e-mail or phone digits (answered by the trigram index on search_text).
  */
 export function searchCondition(q: string): SQL | undefined {
   const text = q.trim();
@@ -46,19 +45,7 @@ export function searchCondition(q: string): SQL | undefined {
     .filter(Boolean)
     .slice(0, 5);
   if (!words.length) return undefined;
-  return and(
-    ...words.map((w) =>
-      // One or two characters match where a word begins ("bl" finds Blake, not Noble): a person
-      // typing two letters means the start of a name, and the trigram index can serve that
-      // (pg_trgm keeps each word's leading "  b" and " bl") but not a two-letter fragment anywhere.
-      w.length <= 2
-        ? or(
-            sql`${patients.searchText} like ${`${escapeLike(w)}%`}`,
-            sql`${patients.searchText} like ${`% ${escapeLike(w)}%`}`,
-          )!
-        : sql`${patients.searchText} like ${`%${escapeLike(w)}%`}`,
-    ),
-  );
+  return and(...words.map((w) => sql`${patients.searchText} like ${`%${escapeLike(w)}%`}`));
 }
 
 export type PatientHit = {
@@ -91,13 +78,20 @@ function nameWords(q: string) {
     .slice(0, 5);
 }
 
-/** Matches are counted up to this many; beyond it the count reads "more than 1,000". */
+/** Matches are counted at most up to this many; beyond it the count reads "more than 1,000". */
 export const SEARCH_COUNT_CAP = 1000;
+
+/**
+ * How far a search counts from `offset`: five pages ahead (at most SEARCH_COUNT_CAP). A short or
+ * common fragment matches thousands, and counting them all would cost more than the page; the list
+ * says "100+ not shown yet" and counts further as the reader asks for more.
+ */
+export const countCapFor = (offset: number, limit: number) => Math.min(SEARCH_COUNT_CAP, offset + limit * 5);
 
 /**
  * One page of a patient search, best first: surnames equal to a typed word, then surnames that
  * begin with one, then every other match, each group by name. With the number of matches (up to
- * SEARCH_COUNT_CAP), so a short list says how many more there are.
+ * `countCapFor`), so a short list says how many more there are.
  */
 export async function searchPatientsPage(
   q: string,
@@ -114,12 +108,13 @@ export async function searchPatientsPage(
     asc(patients.dateOfBirth),
     asc(patients.id),
   ];
+  const cap = countCapFor(offset, limit);
   const countMatches = db.select({ n: count() }).from(
     db
       .select({ one: sql`1` })
       .from(patients)
       .where(where)
-      .limit(SEARCH_COUNT_CAP + 1)
+      .limit(cap + 1)
       .as("capped"),
   );
   if (!words.length) {
@@ -134,7 +129,7 @@ export async function searchPatientsPage(
       countMatches,
     ]);
     const n = counted?.n ?? 0;
-    return { results, total: Math.min(n, SEARCH_COUNT_CAP), totalIsExact: n <= SEARCH_COUNT_CAP };
+    return { results, total: Math.min(n, cap), totalIsExact: n <= cap };
   }
   // Surnames beginning with a typed word come first, read in order from the index (with one word
   // an equal surname sorts before every longer one, so name order is also "equal, then begins
@@ -164,7 +159,7 @@ export async function searchPatientsPage(
     results = [...results, ...rest];
   }
   const n = counted?.n ?? 0;
-  return { results, total: Math.min(n, SEARCH_COUNT_CAP), totalIsExact: n <= SEARCH_COUNT_CAP };
+  return { results, total: Math.min(n, cap), totalIsExact: n <= cap };
 }
 
 export async function searchPatients(q: string, limit = 8): Promise<PatientHit[]> {
