@@ -243,15 +243,29 @@ export function Pager({
   const first = total ? (page - 1) * pageSize + 1 : 0;
   const last = Math.min(total, page * pageSize);
   const count = totalIsExact ? total.toLocaleString("en-GB") : `more than ${total.toLocaleString("en-GB")}`;
+  const nouns = noun ? ` ${total === 1 && totalIsExact ? noun[0] : noun[1]}` : "";
+  // A page number past the end (an old link, a shrunk filter) says so and leads to the last page.
+  const pastEnd = totalIsExact && page > pages;
   return (
     <nav aria-label="Pages" className="mt-4 flex flex-wrap items-center justify-between gap-4 text-sm">
-      <p className="text-muted">
-        {first}–{last} of {count}
-        {noun ? ` ${total === 1 && totalIsExact ? noun[0] : noun[1]}` : ""} · page {page}
-        {totalIsExact ? ` of ${pages.toLocaleString("en-GB")}` : ""}
-      </p>
+      {pastEnd ? (
+        <p className="text-muted">
+          Page {page} is past the end: {count}
+          {nouns} fill {pages.toLocaleString("en-GB")} {pages === 1 ? "page" : "pages"}.
+        </p>
+      ) : (
+        <p className="text-muted">
+          {first}–{last} of {count}
+          {nouns} · page {page}
+          {totalIsExact ? ` of ${pages.toLocaleString("en-GB")}` : ""}
+        </p>
+      )}
       <div className="flex gap-2">
-        {page > 1 ? (
+        {pastEnd ? (
+          <Link to={hrefWith(params, { [pageParam]: pages })} className={buttonClass("secondary")}>
+            Last page ({pages.toLocaleString("en-GB")})
+          </Link>
+        ) : page > 1 ? (
           <Link to={hrefWith(params, { [pageParam]: page - 1 })} className={buttonClass("secondary")} rel="prev">
             Previous page
           </Link>

@@ -162,6 +162,27 @@ describe("raising an invoice from an appointment and the balances list", () => {
     ).rows;
     expect(page.appointment.timeZone).toBe(zone);
     expect(zone).toBe("Europe/London");
+    // A kind of visit with no fee suggests none (the page then asks the desk to choose).
+    const [unpriced] = await db
+      .insert(appointmentTypes)
+      .values({ name: `Collection ${randomBytes(3).toString("hex")}`, durationMinutes: 10 })
+      .returning();
+    const later = new Date(start.getTime() + 60 * 60_000);
+    const [collection] = await db
+      .insert(appointments)
+      .values({
+        patientId: patient.id,
+        providerId: optom.id,
+        appointmentTypeId: unpriced!.id,
+        startsAt: later,
+        endsAt: new Date(later.getTime() + 10 * 60_000),
+        status: "completed",
+      })
+      .returning();
+    const noFee = dataOf<{ suggestedFeeItemId: string | null }>(
+      await run(newInvoiceLoader, makeRequest(`/billing/invoices/new?appointment=${collection!.id}`, { cookie })),
+    );
+    expect(noFee.suggestedFeeItemId).toBeNull();
     expect(page.preselected.id).toBe(patient.id);
     expect(
       statusOf(

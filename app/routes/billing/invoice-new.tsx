@@ -213,7 +213,11 @@ export default function NewInvoice({ loaderData, actionData }: Route.ComponentPr
           exam
             ? `From the exam of ${patient?.name ?? "the patient"} on ${examDate}.`
             : appointment
-              ? `From the ${appointment.typeName} appointment of ${formatDate(appointment.startsAt, { style: "long", timeZone: appointment.timeZone })}: its fee is filled in below.`
+              ? `From the ${appointment.typeName} appointment of ${formatDate(appointment.startsAt, { style: "long", timeZone: appointment.timeZone })}: ${
+                  suggestedFeeItemId
+                    ? "its fee is filled in below."
+                    : "this kind of appointment has no fee set, so choose what to charge below."
+                }`
               : "Raise an invoice by hand, or open one from a finished exam."
         }
       />
