@@ -1,8 +1,9 @@
 /** Where a new invoice starts from: an appointment (its patient and its type's fee) or a patient. */
-import { eq, sql } from "drizzle-orm";
+import { eq } from "drizzle-orm";
 import { appointments, appointmentTypes, exams, patients, practiceSettings, sites } from "~/db/schema";
 import { db } from "~/utils/db.server";
 import { patientHitColumns } from "~/models/patients/patients.server";
+import { siteOrPracticeZone } from "~/models/schedule/sites.server";
 
 /** The appointment with its type's fee and the exam linked to it, if any; null when there is none. */
 export async function appointmentForInvoice(appointmentId: string) {
@@ -13,8 +14,7 @@ export async function appointmentForInvoice(appointmentId: string) {
       startsAt: appointments.startsAt,
       typeName: appointmentTypes.name,
       feeItemId: appointmentTypes.defaultFeeItemId,
-      // The appointment's date is written as its site's clock reads it.
-      timeZone: sql<string>`coalesce(${sites.timeZone}, (select ${practiceSettings.timeZone} from ${practiceSettings} where ${practiceSettings.id} = 1))`,
+      timeZone: siteOrPracticeZone,
     })
     .from(appointments)
     .innerJoin(appointmentTypes, eq(appointmentTypes.id, appointments.appointmentTypeId))

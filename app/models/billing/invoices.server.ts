@@ -19,6 +19,7 @@ import {
 } from "~/db/schema";
 import { appointments, appointmentTypes, sites } from "~/db/schema";
 import { formatMoney } from "~/lib/format";
+import { siteOrPracticeZone } from "~/models/schedule/sites.server";
 import { computeTotals, type Discount } from "~/lib/money";
 import { audit } from "~/utils/audit.server";
 import { db, type Tx } from "~/utils/db.server";
@@ -165,8 +166,8 @@ export async function examForInvoice(examId: string) {
       appointmentStatus: appointments.status,
       appointmentType: appointmentTypes.name,
       defaultFeeItemId: appointmentTypes.defaultFeeItemId,
-      // The exam's date as the clock of its visit's site reads it (the practice's, without a visit).
-      timeZone: sql<string>`coalesce(${sites.timeZone}, (select ${practiceSettings.timeZone} from ${practiceSettings} where ${practiceSettings.id} = 1))`,
+      // The clock of the visit's site (the practice's, for an exam without a visit).
+      timeZone: siteOrPracticeZone,
     })
     .from(exams)
     .leftJoin(appointments, eq(appointments.id, exams.appointmentId))

@@ -86,7 +86,7 @@ export const SEARCH_COUNT_CAP = 1000;
  * common fragment matches thousands, and counting them all would cost more than the page; the list
  * says "100+ not shown yet" and counts further as the reader asks for more.
  */
-export const countCapFor = (offset: number, limit: number) => Math.min(SEARCH_COUNT_CAP, offset + limit * 5);
+const countCapFor = (offset: number, limit: number) => Math.min(SEARCH_COUNT_CAP, offset + limit * 5);
 
 /**
  * One page of a patient search, best first: surnames equal to a typed word, then surnames that

@@ -12,9 +12,8 @@ import {
 } from "~/lib/exam/sections";
 import { formatRx } from "~/lib/optics";
 import { findingKey, type Urgency } from "~/lib/referrals";
-import { loadFindings } from "~/models/exams/findings.server";
-import { examTriage } from "~/models/exams/triage.server";
-import { loadExam, promptsFor } from "~/models/exams/exam.server";
+import type { Findings } from "~/models/exams/findings.server";
+import { loadExam, promptsFor, storedTriage } from "~/models/exams/exam.server";
 import { allOf, db, type Tx } from "~/utils/db.server";
 import { formatDate } from "./common.server";
 
@@ -49,10 +48,9 @@ const DRUG_WORDS: Record<string, string> = {
 };
 
 /** The structured findings of an exam (red flags, pupils, anterior chamber, disc, fundus, dilation) for the snapshot. */
-async function findingsOf(examId: string, conn: Tx | typeof db) {
+function findingsOf({ redFlags: f, pupils, anteriorChamber: ac, discs, fundus, dilations }: Findings) {
   const byEye = <T extends { eye: string }>(rows: T[]) =>
     [...rows].sort((a, b) => (a.eye === b.eye ? 0 : a.eye === "right" ? -1 : 1));
-  const { redFlags: f, pupils, anteriorChamber: ac, discs, fundus, dilations } = await loadFindings(examId, conn);
   return {
     redFlags: f
       ? {
@@ -143,9 +141,10 @@ export async function snapshotOf(exam: typeof exams.$inferSelect, conn: Tx | typ
         }))
     : [];
   const order = { right: 0, left: 1, both: 2 } as const;
-  const [extras, triaged, [patientRow], [previous]] = await allOf(conn, [
-    () => findingsOf(exam.id, conn),
-    () => examTriage(exam.id, conn).catch(() => null),
+  // The findings come with the exam already read; a finding the triage engine refuses leaves no proposal.
+  const extras = findingsOf(s.findings);
+  const [triaged, [patientRow], [previous]] = await allOf(conn, [
+    () => storedTriage(exam.id, conn),
     conn.select().from(patients).where(eq(patients.id, exam.patientId)),
     conn
       .select({ id: exams.id, examinedAt: exams.examinedAt })
@@ -168,8 +167,8 @@ export async function snapshotOf(exam: typeof exams.$inferSelect, conn: Tx | typ
       .map((c) => ({ eye: c.eye, micrometres: c.micrometres })),
     triage: triaged
       ? {
-          urgency: triaged.result.urgency,
-          reasons: triaged.result.reasons.map((r) => ({
+          urgency: triaged.urgency,
+          reasons: triaged.reasons.map((r) => ({
             urgency: r.urgency,
             eye: r.eye,
             rule: r.rule,

@@ -2,9 +2,9 @@
  * The practice's sites and rooms, and the site a user last chose for the calendar and the day
  * list (kept in a cookie, so no app server holds it).
  */
-import { and, asc, eq } from "drizzle-orm";
+import { and, asc, eq, sql } from "drizzle-orm";
 import { createCookie } from "react-router";
-import { rooms, siteOpeningHours, sites, users, workingHours } from "~/db/schema";
+import { practiceSettings, rooms, siteOpeningHours, sites, users, workingHours } from "~/db/schema";
 import { WEEKDAY_NAMES } from "~/lib/scheduling/hours";
 import { minutesToHhmm } from "~/lib/scheduling/time";
 import { db } from "~/utils/db.server";
@@ -62,6 +62,12 @@ export async function siteTimeZone(id: unknown): Promise<string | null> {
   const [row] = await db.select({ timeZone: sites.timeZone }).from(sites).where(eq(sites.id, id));
   return row?.timeZone ?? null;
 }
+
+/**
+ * In a query that left-joins `sites`: that site's time zone, else the practice's (a row with no
+ * site). A visit's date is written as its site's clock reads it.
+ */
+export const siteOrPracticeZone = sql<string>`coalesce(${sites.timeZone}, (select ${practiceSettings.timeZone} from ${practiceSettings} where ${practiceSettings.id} = 1))`;
 
 /** One line of a site's address, for e-mails and documents. */
 export function siteAddress(s: { addressLine1: string; addressLine2: string; city: string; postcode: string }) {
